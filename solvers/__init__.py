@@ -1,0 +1,37 @@
+"""zerotrace numerics core: parse an equation, run root-finding methods, scan a range.
+
+Never imports Qt. Every front end (CLI, window, report, tests) calls these functions.
+"""
+
+from solvers.equation import Equation, EquationError, parse_equation
+from solvers.methods import (
+    METHODS,
+    bisection,
+    brent,
+    false_position,
+    illinois,
+    newton,
+    secant,
+)
+from solvers.result import REASONS, Run, Step, observed_order
+from solvers.scan import Root, Scan, scan
+
+__all__ = [
+    "METHODS",
+    "REASONS",
+    "Equation",
+    "EquationError",
+    "Root",
+    "Run",
+    "Scan",
+    "Step",
+    "bisection",
+    "brent",
+    "false_position",
+    "illinois",
+    "newton",
+    "observed_order",
+    "parse_equation",
+    "scan",
+    "secant",
+]

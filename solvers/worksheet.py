@@ -1,0 +1,405 @@
+"""The saved document: one equation, its parameters, method settings and notes.
+
+The file format is JSON of our own, versioned by the top-level ``format`` and
+``version`` keys::
+
+    {
+      "format": "zerotrace-worksheet",
+      "version": 1,
+      "title": "...", "notes": "...",
+      "equation": "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))",
+      "unknown": "f",                      # or null: inferred
+      "parameters": [{"name": "Re", "value": 1.2e5, "note": "..."}],
+      "settings": {"methods": ["newton", "secant", "false_position"],
+                   "x0": 0.02, "x1": 0.03, "bracket": [0.005, 0.1],
+                   "xtol": 1e-12, "rtol": 8.9e-16, "ftol": 0.0,
+                   "max_iter": 100, "damping": 1.0},
+      "scan": {"from": 0.005, "to": 0.1},   # or null
+      "calc": {"number": "", "revision": "", "prepared_by": "", "checked_by": ""},
+      "selection": {"root": 0.0213, "reason": "..."}   # or null
+    }
+
+Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
+whose message names the field (``settings.xtol: must be a positive number``).
+Saving is atomic: the text goes to a temporary file in the same folder, is flushed
+and fsynced, then renamed over the target, so a crash or a full disk mid-save
+leaves the previous file intact.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import tempfile
+from collections.abc import Mapping
+from dataclasses import asdict, dataclass, field, replace
+from pathlib import Path
+from typing import Any
+
+FORMAT = "zerotrace-worksheet"
+VERSION = 1
+MAX_FILE_BYTES = 2_000_000  # a worksheet is a few kB; refuse anything absurd before parsing
+MAX_TEXT = 10_000  # characters in the equation
+MAX_NOTE = 100_000  # characters in free text fields
+MAX_PARAMETERS = 500
+
+METHOD_NAMES = ("newton", "secant", "false_position", "illinois", "bisection", "brent")
+DEFAULT_METHODS = ("newton", "secant", "false_position")
+
+
+class WorksheetError(ValueError):
+    """A worksheet file or mapping that cannot be used; the message names the field."""
+
+    def __init__(self, message: str, field_name: str | None = None):
+        super().__init__(message)
+        self.field = field_name
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A named input of the equation: value in the user's units, note free text."""
+
+    name: str
+    value: float
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Settings:
+    """Start values and stopping rules shared by the methods.
+
+    Defaults: xtol 1e-12 and rtol 4 machine epsilons (the step test
+    |dx| <= xtol + rtol*|x| then asks for full double precision on roots of order
+    one and stays meaningful for roots near zero); ftol 0 (residual test off,
+    because the scale of f is the user's); 100 iterations (a converging method
+    needs far fewer; the cap only ends hopeless runs); damping 1 (plain Newton).
+    """
+
+    methods: tuple[str, ...] = DEFAULT_METHODS
+    x0: float | None = None
+    x1: float | None = None
+    bracket: tuple[float, float] | None = None
+    xtol: float = 1e-12
+    rtol: float = 4 * 2.220446049250313e-16
+    ftol: float = 0.0
+    max_iter: int = 100
+    damping: float = 1.0
+
+
+@dataclass(frozen=True)
+class CalcInfo:
+    """Title-block fields of a calculation package."""
+
+    number: str = ""
+    revision: str = ""
+    prepared_by: str = ""
+    checked_by: str = ""
+
+
+@dataclass(frozen=True)
+class Selection:
+    """The root the engineer chose as the design value, and why."""
+
+    root: float
+    reason: str = ""
+
+
+@dataclass(frozen=True)
+class Worksheet:
+    equation: str
+    unknown: str | None = None
+    parameters: tuple[Parameter, ...] = ()
+    settings: Settings = field(default_factory=Settings)
+    scan: tuple[float, float] | None = None
+    title: str = ""
+    notes: str = ""
+    calc: CalcInfo = field(default_factory=CalcInfo)
+    selection: Selection | None = None
+
+    def parameter_values(self) -> dict[str, float]:
+        return {p.name: p.value for p in self.parameters}
+
+    def with_changes(self, **changes: Any) -> Worksheet:
+        return replace(self, **changes)
+
+
+# ----------------------------------------------------------------- to / from JSON
+
+
+def to_dict(ws: Worksheet) -> dict[str, Any]:
+    s = ws.settings
+    return {
+        "format": FORMAT,
+        "version": VERSION,
+        "title": ws.title,
+        "notes": ws.notes,
+        "equation": ws.equation,
+        "unknown": ws.unknown,
+        "parameters": [asdict(p) for p in ws.parameters],
+        "settings": {
+            "methods": list(s.methods),
+            "x0": s.x0,
+            "x1": s.x1,
+            "bracket": list(s.bracket) if s.bracket is not None else None,
+            "xtol": s.xtol,
+            "rtol": s.rtol,
+            "ftol": s.ftol,
+            "max_iter": s.max_iter,
+            "damping": s.damping,
+        },
+        "scan": {"from": ws.scan[0], "to": ws.scan[1]} if ws.scan is not None else None,
+        "calc": asdict(ws.calc),
+        "selection": asdict(ws.selection) if ws.selection is not None else None,
+    }
+
+
+def dumps(ws: Worksheet) -> str:
+    # allow_nan=False: a NaN or inf would make the file unreadable by strict JSON readers.
+    return json.dumps(to_dict(ws), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def _fail(where: str, what: str) -> WorksheetError:
+    return WorksheetError(f"{where}: {what}", where)
+
+
+def _number(value: Any, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise _fail(where, f"must be a number, got {type(value).__name__}")
+    if isinstance(value, int) and abs(value) > 10**308:
+        raise _fail(where, "number too large")
+    x = float(value)
+    if not math.isfinite(x):
+        raise _fail(where, "must be a finite number")
+    if positive and not x > 0:
+        raise _fail(where, "must be a positive number")
+    if nonneg and x < 0:
+        raise _fail(where, "must not be negative")
+    return x
+
+
+def _optional_number(value: Any, where: str) -> float | None:
+    return None if value is None else _number(value, where)
+
+
+def _text(value: Any, where: str, limit: int = MAX_NOTE) -> str:
+    if value is None:
+        return ""
+    if not isinstance(value, str):
+        raise _fail(where, f"must be text, got {type(value).__name__}")
+    if len(value) > limit:
+        raise _fail(where, f"too long ({len(value)} characters, limit {limit})")
+    return value
+
+
+def _mapping(value: Any, where: str) -> Mapping[str, Any]:
+    if not isinstance(value, Mapping):
+        raise _fail(where, f"must be an object, got {type(value).__name__}")
+    return value
+
+
+def _pair(value: Any, where: str) -> tuple[float, float]:
+    if not isinstance(value, (list, tuple)) or len(value) != 2:
+        raise _fail(where, "must be a list of two numbers [a, b]")
+    a = _number(value[0], f"{where}[0]")
+    b = _number(value[1], f"{where}[1]")
+    if a == b:
+        raise _fail(where, "the two ends must differ")
+    return (a, b)
+
+
+def _is_name(text: str) -> bool:
+    return text.isidentifier() and text.isascii() and not text.startswith("_")
+
+
+def from_dict(data: Any) -> Worksheet:
+    """Validate a decoded JSON object and build a :class:`Worksheet`."""
+    data = _mapping(data, "worksheet")
+    fmt = data.get("format")
+    if fmt != FORMAT:
+        raise _fail("format", f"not a zerotrace worksheet (expected {FORMAT!r}, got {fmt!r})")
+    version = data.get("version")
+    if isinstance(version, bool) or not isinstance(version, int):
+        raise _fail("version", "must be a whole number")
+    if version > VERSION:
+        raise _fail(
+            "version",
+            f"file is version {version}, written by a newer zerotrace; this one reads up to "
+            f"{VERSION}",
+        )
+    if version < 1:
+        raise _fail("version", f"unknown version {version}")
+
+    if "equation" not in data:
+        raise _fail("equation", "missing")
+    equation = _text(data["equation"], "equation", MAX_TEXT)
+    if not equation.strip():
+        raise _fail("equation", "is empty")
+    unknown = data.get("unknown")
+    if unknown is not None:
+        unknown = _text(unknown, "unknown", 100)
+        if not _is_name(unknown):
+            raise _fail("unknown", f"{unknown!r} is not a valid name")
+
+    raw_params = data.get("parameters", [])
+    if not isinstance(raw_params, list):
+        raise _fail("parameters", "must be a list")
+    if len(raw_params) > MAX_PARAMETERS:
+        raise _fail("parameters", f"too many ({len(raw_params)}, limit {MAX_PARAMETERS})")
+    params: list[Parameter] = []
+    seen: set[str] = set()
+    for i, raw in enumerate(raw_params):
+        where = f"parameters[{i}]"
+        raw = _mapping(raw, where)
+        name = _text(raw.get("name"), f"{where}.name", 100)
+        if not _is_name(name):
+            raise _fail(f"{where}.name", f"{name!r} is not a valid name")
+        if name in seen:
+            raise _fail(f"{where}.name", f"{name!r} appears twice")
+        seen.add(name)
+        if "value" not in raw:
+            raise _fail(f"{where}.value", "missing")
+        value = _number(raw["value"], f"{where}.value")
+        params.append(Parameter(name, value, _text(raw.get("note"), f"{where}.note")))
+
+    raw_settings = _mapping(data.get("settings") or {}, "settings")
+    defaults = Settings()
+    methods_raw = raw_settings.get("methods", list(defaults.methods))
+    if not isinstance(methods_raw, list) or not methods_raw:
+        raise _fail("settings.methods", "must be a non-empty list of method names")
+    methods: list[str] = []
+    for i, m in enumerate(methods_raw):
+        if not isinstance(m, str) or m.replace("-", "_") not in METHOD_NAMES:
+            raise _fail(
+                f"settings.methods[{i}]",
+                f"unknown method {m!r}; choose from {', '.join(METHOD_NAMES)}",
+            )
+        methods.append(m.replace("-", "_"))
+    bracket_raw = raw_settings.get("bracket")
+    max_iter = raw_settings.get("max_iter", defaults.max_iter)
+    if isinstance(max_iter, bool) or not isinstance(max_iter, int) or not 1 <= max_iter <= 100_000:
+        raise _fail("settings.max_iter", "must be a whole number from 1 to 100000")
+    damping = _number(raw_settings.get("damping", defaults.damping), "settings.damping")
+    if not 0 < damping <= 1:
+        raise _fail("settings.damping", "must lie in (0, 1]")
+    settings = Settings(
+        methods=tuple(methods),
+        x0=_optional_number(raw_settings.get("x0"), "settings.x0"),
+        x1=_optional_number(raw_settings.get("x1"), "settings.x1"),
+        bracket=_pair(bracket_raw, "settings.bracket") if bracket_raw is not None else None,
+        xtol=_number(raw_settings.get("xtol", defaults.xtol), "settings.xtol", nonneg=True),
+        rtol=_number(raw_settings.get("rtol", defaults.rtol), "settings.rtol", nonneg=True),
+        ftol=_number(raw_settings.get("ftol", defaults.ftol), "settings.ftol", nonneg=True),
+        max_iter=max_iter,
+        damping=damping,
+    )
+    if settings.xtol == 0 and settings.rtol == 0 and settings.ftol == 0:
+        raise _fail("settings", "xtol, rtol and ftol are all zero: no run could ever stop early")
+
+    scan_raw = data.get("scan")
+    scan = None
+    if scan_raw is not None:
+        scan_map = _mapping(scan_raw, "scan")
+        if "from" not in scan_map or "to" not in scan_map:
+            raise _fail("scan", "needs both 'from' and 'to'")
+        a = _number(scan_map["from"], "scan.from")
+        b = _number(scan_map["to"], "scan.to")
+        if not a < b:
+            raise _fail("scan", "'from' must be less than 'to'")
+        scan = (a, b)
+
+    calc_raw = _mapping(data.get("calc") or {}, "calc")
+    calc = CalcInfo(
+        number=_text(calc_raw.get("number"), "calc.number", 200),
+        revision=_text(calc_raw.get("revision"), "calc.revision", 200),
+        prepared_by=_text(calc_raw.get("prepared_by"), "calc.prepared_by", 200),
+        checked_by=_text(calc_raw.get("checked_by"), "calc.checked_by", 200),
+    )
+
+    sel_raw = data.get("selection")
+    selection = None
+    if sel_raw is not None:
+        sel_map = _mapping(sel_raw, "selection")
+        selection = Selection(
+            root=_number(sel_map.get("root"), "selection.root"),
+            reason=_text(sel_map.get("reason"), "selection.reason"),
+        )
+
+    return Worksheet(
+        equation=equation,
+        unknown=unknown,
+        parameters=tuple(params),
+        settings=settings,
+        scan=scan,
+        title=_text(data.get("title"), "title", 500),
+        notes=_text(data.get("notes"), "notes"),
+        calc=calc,
+        selection=selection,
+    )
+
+
+def loads(text: str) -> Worksheet:
+    if len(text) > MAX_FILE_BYTES:
+        raise WorksheetError(f"file too large ({len(text)} characters) for a worksheet")
+    try:
+        data = json.loads(text, parse_constant=_refuse_constant)
+    except WorksheetError:
+        raise
+    except json.JSONDecodeError as exc:
+        raise WorksheetError(
+            f"not valid JSON (line {exc.lineno}, column {exc.colno}): {exc.msg}"
+        ) from None
+    except RecursionError:
+        raise WorksheetError("not a worksheet: JSON nested too deeply") from None
+    return from_dict(data)
+
+
+def _refuse_constant(name: str) -> Any:
+    raise WorksheetError(f"not valid JSON: {name} is not allowed in a worksheet")
+
+
+def load(path: str | os.PathLike[str]) -> Worksheet:
+    """Read and validate a worksheet file; every failure is a :class:`WorksheetError`."""
+    p = Path(path)
+    try:
+        size = p.stat().st_size
+        if size > MAX_FILE_BYTES:
+            raise WorksheetError(f"{p.name}: file too large ({size} bytes) for a worksheet")
+        raw = p.read_bytes()
+    except WorksheetError:
+        raise
+    except FileNotFoundError:
+        raise WorksheetError(f"{p}: no such file") from None
+    except IsADirectoryError:
+        raise WorksheetError(f"{p}: is a folder, not a worksheet file") from None
+    except OSError as exc:
+        raise WorksheetError(f"{p}: cannot read ({exc.strerror or exc})") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise WorksheetError(f"{p.name}: not UTF-8 text (byte {exc.start})") from None
+    return loads(text)
+
+
+def save(ws: Worksheet, path: str | os.PathLike[str]) -> None:
+    """Write atomically: temp file in the same folder, fsync, then rename over ``path``.
+
+    Raises ``OSError`` (for example a read-only folder or a full disk); the previous
+    file at ``path``, if any, is untouched in that case and the temp file removed.
+    """
+    target = Path(path)
+    text = dumps(ws)
+    folder = target.parent if str(target.parent) else Path(".")
+    fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as handle:
+            handle.write(text)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp_name, target)
+    except BaseException:
+        try:
+            os.unlink(tmp_name)
+        except OSError:
+            pass
+        raise
