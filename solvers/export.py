@@ -1,0 +1,291 @@
+"""CSV and JSON of runs and roots, for calculation packages and for machines.
+
+CSV shape (DESIGN.md): ``#`` metadata lines first (equation, unknown, parameters,
+method settings, tool version, time), then one header row, then one row per
+iterate. Floats are written with ``repr`` so they read back to the identical double
+(Python's ``float()``, ``csv`` + ``float``, ``numpy.genfromtxt(..., comments="#")``);
+an absent value (no derivative, no bracket) is an empty cell. The files are UTF-8
+with ``\\n`` line ends, which spreadsheets and numpy read alike.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import os
+import tempfile
+from collections.abc import Iterable, Mapping
+from datetime import datetime, timezone
+from pathlib import Path
+from typing import IO, Any
+
+from solvers.result import Run
+
+RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
+ROOT_COLUMNS = ("kind", "x", "residual", "multiplicity", "confirmed", "located_by")
+
+
+def tool_version() -> str:
+    try:
+        from importlib.metadata import version
+
+        return version("zerotrace")
+    except Exception:  # not installed (running from a checkout): say so rather than guess
+        return "unknown (not installed)"
+
+
+def number(value: float | int | None) -> str:
+    """A cell: '' for None, repr for floats (round-trip exact), str for ints."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return str(value)
+    if isinstance(value, int):
+        return str(value)
+    return repr(float(value))
+
+
+def metadata(
+    *,
+    equation: str,
+    unknown: str,
+    parameters: Mapping[str, float],
+    settings: Mapping[str, Any] | None = None,
+    extra: Mapping[str, str] | None = None,
+    when: datetime | None = None,
+) -> dict[str, str]:
+    """The ``#`` header lines of an export, as an ordered mapping."""
+    meta = {
+        "tool": f"zerotrace {tool_version()}",
+        "time": (when or datetime.now(timezone.utc)).isoformat(timespec="seconds"),
+        "equation": equation,
+        "unknown": unknown,
+        "parameters": "; ".join(f"{k}={number(v)}" for k, v in parameters.items()) or "(none)",
+    }
+    if settings:
+        meta["settings"] = "; ".join(f"{k}={_setting(v)}" for k, v in settings.items())
+    if extra:
+        meta.update(extra)
+    meta["caution"] = (
+        "numerical solution of the equation as entered; check equation, inputs and units; "
+        "review by a qualified engineer required"
+    )
+    return meta
+
+
+def _setting(value: Any) -> str:
+    if isinstance(value, float):
+        return number(value)
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_setting(v) for v in value) + "]"
+    return str(value)
+
+
+def _one_line(text: str) -> str:
+    # A newline inside a metadata value would start a line without '#'.
+    return " ".join(str(text).split())
+
+
+def _write_metadata(handle: IO[str], meta: Mapping[str, str]) -> None:
+    for key, value in meta.items():
+        handle.write(f"# {key}: {_one_line(value)}\n")
+
+
+def run_rows(runs: Iterable[Run]) -> list[list[str]]:
+    rows = []
+    for run in runs:
+        for s in run.steps:
+            rows.append(
+                [run.method, str(s.k), number(s.x), number(s.fx), number(s.dfx),
+                 number(s.dx), number(s.lo), number(s.hi)]
+            )
+    return rows
+
+
+def root_rows(scan: Any) -> list[list[str]]:
+    rows = []
+    for r in scan.roots:
+        rows.append(
+            ["root", number(r.x), number(r.residual), str(r.multiplicity),
+             getattr(r, "confirmed", ""), " + ".join(getattr(r, "located_by", ()))]
+        )
+    for x in scan.poles:
+        rows.append(["pole", number(x), "", "", "", ""])
+    for x in getattr(scan, "discontinuities", []):
+        rows.append(["discontinuity", number(x), "", "", "", ""])
+    return rows
+
+
+def _write_table(handle: IO[str], meta: Mapping[str, str], header, rows) -> None:
+    _write_metadata(handle, meta)
+    writer = csv.writer(handle, lineterminator="\n")
+    writer.writerow(header)
+    writer.writerows(rows)
+
+
+def write_text_atomic(path: str | os.PathLike[str], text: str, *, overwrite: bool = True) -> Path:
+    """Write text to ``path`` via a temp file and rename; refuse to replace unless ``overwrite``.
+
+    Raises FileExistsError when the file exists and overwrite is False, OSError when
+    the folder is not writable; in both cases nothing at ``path`` changes.
+    """
+    target = Path(path)
+    if target.exists() and not overwrite:
+        raise FileExistsError(f"{target}: already exists (use --force to replace it)")
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
+            handle.write(text)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise
+    return target
+
+
+def _emit(target: str | os.PathLike[str] | IO[str], text: str, overwrite: bool) -> None:
+    if hasattr(target, "write"):
+        target.write(text)  # type: ignore[union-attr]
+    else:
+        write_text_atomic(target, text, overwrite=overwrite)  # type: ignore[arg-type]
+
+
+def runs_csv(
+    runs: Iterable[Run],
+    target: str | os.PathLike[str] | IO[str],
+    *,
+    meta: Mapping[str, str],
+    overwrite: bool = True,
+) -> None:
+    """Iteration log of every run: one row per iterate (columns RUN_COLUMNS)."""
+    runs = list(runs)
+    buffer = io.StringIO()
+    summary = {
+        f"run {r.method}": (
+            f"root={number(r.root)}; converged={r.converged}; reason={r.reason}; "
+            f"iterations={r.iterations}; evaluations={r.evaluations}"
+        )
+        for r in runs
+    }
+    _write_table(buffer, {**meta, **summary}, RUN_COLUMNS, run_rows(runs))
+    _emit(target, buffer.getvalue(), overwrite)
+
+
+def roots_csv(
+    scan: Any,
+    target: str | os.PathLike[str] | IO[str],
+    *,
+    meta: Mapping[str, str],
+    overwrite: bool = True,
+) -> None:
+    """Roots, poles and discontinuities of a scan: one row each (columns ROOT_COLUMNS)."""
+    buffer = io.StringIO()
+    extra = {"range": f"[{number(scan.a)}, {number(scan.b)}]"} if hasattr(scan, "a") else {}
+    gaps = getattr(scan, "gaps", [])
+    if gaps:
+        extra["undefined"] = "; ".join(f"[{number(a)}, {number(b)}]" for a, b in gaps)
+    warnings = getattr(scan, "warnings", [])
+    if warnings:
+        extra["warnings"] = " | ".join(warnings)
+    _write_table(buffer, {**meta, **extra}, ROOT_COLUMNS, root_rows(scan))
+    _emit(target, buffer.getvalue(), overwrite)
+
+
+def _json_float(value: float | None) -> float | str | None:
+    """JSON has no NaN/inf: write them as the strings 'nan', 'inf', '-inf'."""
+    if value is None:
+        return None
+    value = float(value)
+    if math.isfinite(value):
+        return value
+    return "nan" if math.isnan(value) else ("inf" if value > 0 else "-inf")
+
+
+def run_json(run: Run) -> dict[str, Any]:
+    data = run.as_dict()
+    data["root"] = _json_float(run.root)
+    order = data.get("order")
+    data["order"] = _json_float(order) if order is not None else None
+    data["steps"] = [
+        {key: (_json_float(v) if key != "k" else v) for key, v in step.items()}
+        for step in data["steps"]
+    ]
+    data["settings"] = {
+        k: (_json_float(v) if isinstance(v, float) else v) for k, v in data["settings"].items()
+    }
+    return data
+
+
+def scan_json(scan: Any) -> dict[str, Any]:
+    return {
+        "from": _json_float(getattr(scan, "a", None)),
+        "to": _json_float(getattr(scan, "b", None)),
+        "roots": [
+            {
+                "x": _json_float(r.x),
+                "residual": _json_float(r.residual),
+                "multiplicity": r.multiplicity,
+                "confirmed": getattr(r, "confirmed", ""),
+                "located_by": list(getattr(r, "located_by", ())),
+            }
+            for r in scan.roots
+        ],
+        "poles": [_json_float(x) for x in scan.poles],
+        "discontinuities": [_json_float(x) for x in getattr(scan, "discontinuities", [])],
+        "gaps": [[_json_float(a), _json_float(b)] for a, b in getattr(scan, "gaps", [])],
+        "warnings": list(getattr(scan, "warnings", [])),
+        "samples": getattr(scan, "samples", None),
+    }
+
+
+def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict[str, str]:
+    """Metadata lines for a :class:`solvers.pipeline.Solution` (duck-typed: no import cycle)."""
+    ws = solution.worksheet
+    s = ws.settings
+    sv = solution.start
+    settings: dict[str, Any] = {
+        "methods": list(s.methods),
+        "x0": sv.x0,
+        "x1": sv.x1,
+        "bracket": list(sv.bracket) if sv.bracket is not None else "none",
+        "xtol": s.xtol,
+        "rtol": s.rtol,
+        "ftol": s.ftol,
+        "max_iter": s.max_iter,
+        "damping": s.damping,
+    }
+    more = dict(extra or {})
+    if sv.notes:
+        more["start values"] = "; ".join(sv.notes)
+    return metadata(
+        equation=ws.equation,
+        unknown=solution.equation.unknown,
+        parameters=solution.equation.parameters,
+        settings=settings,
+        extra=more,
+    )
+
+
+def solution_json(solution: Any) -> dict[str, Any]:
+    """The ``zerotrace solve --json`` document (DESIGN.md keys, plus extras)."""
+    return {
+        "equation": solution.worksheet.equation,
+        "unknown": solution.equation.unknown,
+        "parameters": dict(solution.equation.parameters),
+        "start": {
+            "x0": _json_float(solution.start.x0),
+            "x1": _json_float(solution.start.x1),
+            "bracket": [_json_float(v) for v in solution.start.bracket]
+            if solution.start.bracket is not None
+            else None,
+            "notes": list(solution.start.notes),
+        },
+        "agreement_digits": solution.agreement_digits,
+        "runs": [run_json(r) for r in solution.runs],
+    }
