@@ -1,0 +1,446 @@
+"""The ``zerotrace`` command: ``solve``, ``scan``, ``report`` headless; alone, it opens the window.
+
+Every sub-command is a thin shell over :mod:`solvers.pipeline`: it builds a
+:class:`~solvers.worksheet.Worksheet` from the flags (or a file), calls the core and
+prints. Exit status: 0 for results (a run that did not converge is a result), 2 for
+bad input, with one line on stderr and never a traceback.
+
+Heavy modules (Qt, matplotlib, reportlab) are imported only by the sub-command that
+needs them, so ``zerotrace solve`` starts about as fast as sympy and numpy import.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+from collections.abc import Callable, Sequence
+from dataclasses import replace
+from typing import Any, NoReturn
+
+CAUTION = (
+    "Caution: a numerical solution of the equation as entered. Check the equation, inputs and "
+    "units; results need review by a qualified engineer; local codes and licensed practice govern."
+)
+
+EXIT_OK = 0
+EXIT_BAD_INPUT = 2
+
+
+class InputError(Exception):
+    """Bad command-line input: printed as one line, exit 2."""
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports errors as one line and exit 2 (its own default is 2 plus usage)."""
+
+    def error(self, message: str) -> NoReturn:
+        raise InputError(f"{self.prog}: {message}")
+
+
+def _method_name(text: str) -> str:
+    from solvers.worksheet import METHOD_NAMES
+
+    name = text.strip().lower().replace("-", "_")
+    if name not in METHOD_NAMES:
+        choices = ", ".join(m.replace("_", "-") for m in METHOD_NAMES)
+        raise argparse.ArgumentTypeError(f"unknown method {text!r} (choose from {choices})")
+    return name
+
+
+def _finite(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+    if not math.isfinite(value):
+        raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
+    return value
+
+
+def _nonneg(text: str) -> float:
+    value = _finite(text)
+    if value < 0:
+        raise argparse.ArgumentTypeError(f"{text!r} must not be negative")
+    return value
+
+
+def _count(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 1 <= value <= 100_000:
+        raise argparse.ArgumentTypeError(f"{text!r} must be from 1 to 100000")
+    return value
+
+
+def _param(text: str) -> tuple[str, float]:
+    name, sep, value = text.partition("=")
+    name = name.strip()
+    if not sep or not name:
+        raise argparse.ArgumentTypeError(f"{text!r} is not NAME=VALUE")
+    if not (name.isidentifier() and name.isascii()) or name.startswith("_"):
+        raise argparse.ArgumentTypeError(f"{name!r} is not a valid parameter name")
+    try:
+        number = float(value)
+    except ValueError:
+        shown = value.strip()
+        raise argparse.ArgumentTypeError(f"value of {name} ({shown!r}) is not a number") from None
+    if not math.isfinite(number):
+        raise argparse.ArgumentTypeError(f"value of {name} must be finite")
+    return name, number
+
+
+def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool) -> None:
+    p.add_argument(
+        "equation",
+        nargs=None if equation_required else "?",
+        metavar="EQUATION",
+        help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers",
+    )
+    p.add_argument("--unknown", metavar="X", help="the name to solve for (inferred if omitted)")
+    p.add_argument(
+        "--param",
+        action="append",
+        type=_param,
+        default=[],
+        metavar="NAME=VALUE",
+        help="a parameter value; repeat for each",
+    )
+    p.add_argument("--json", action="store_true", help="print JSON for machines")
+
+
+def _build_parser() -> _Parser:
+    parser = _Parser(
+        prog="zerotrace",
+        description="Find, verify and document the real roots of a nonlinear design equation. "
+        "With no command, opens the window.",
+        epilog=CAUTION,
+    )
+    parser.add_argument("--version", action="store_true", help="print the version and exit")
+    sub = parser.add_subparsers(dest="command", parser_class=_Parser, metavar="COMMAND")
+
+    solve = sub.add_parser("solve", help="run root-finding methods side by side")
+    _add_equation_options(solve, equation_required=False)
+    solve.add_argument("--worksheet", metavar="FILE", help="run a saved worksheet (flags override)")
+    solve.add_argument(
+        "--method",
+        action="append",
+        type=_method_name,
+        default=[],
+        metavar="M",
+        help="newton, secant, false-position, illinois, bisection, brent; repeat for several "
+        "(default: newton, secant, false-position)",
+    )
+    solve.add_argument("--x0", type=_finite, metavar="V", help="initial guess")
+    solve.add_argument("--x1", type=_finite, metavar="V", help="second point for the secant")
+    solve.add_argument("--bracket", nargs=2, type=_finite, metavar=("A", "B"), help="bracket ends")
+    solve.add_argument("--xtol", type=_nonneg, metavar="V", help="absolute step tolerance")
+    solve.add_argument("--rtol", type=_nonneg, metavar="V", help="relative step tolerance")
+    solve.add_argument("--ftol", type=_nonneg, metavar="V", help="absolute residual tolerance")
+    solve.add_argument("--max-iter", type=_count, metavar="N", help="iteration cap")
+    solve.add_argument("--damping", type=_finite, metavar="L", help="Newton damping, 0 < L <= 1")
+    solve.add_argument("--steps", action="store_true", help="print every iterate of every method")
+    solve.add_argument("--csv", metavar="PATH", help="write the iteration log as CSV")
+    solve.add_argument("--force", action="store_true", help="replace an existing output file")
+
+    scan = sub.add_parser("scan", help="find every real root in a range")
+    _add_equation_options(scan, equation_required=False)
+    scan.add_argument("--worksheet", metavar="FILE", help="scan a saved worksheet's range")
+    scan.add_argument("--from", dest="start", type=_finite, metavar="A", help="range start")
+    scan.add_argument("--to", dest="stop", type=_finite, metavar="B", help="range end")
+    scan.add_argument("--csv", metavar="PATH", help="write the roots table as CSV")
+    scan.add_argument("--force", action="store_true", help="replace an existing output file")
+
+    report = sub.add_parser("report", help="write the PDF calculation sheet of a worksheet")
+    report.add_argument("worksheet", metavar="WORKSHEET")
+    report.add_argument("--pdf", required=True, metavar="OUT.pdf", help="the sheet to write")
+    report.add_argument("--csv-dir", metavar="DIR", help="also write the CSV files behind it")
+    report.add_argument("--force", action="store_true", help="replace existing output files")
+    return parser
+
+
+# ----------------------------------------------------------------- worksheet from flags
+
+
+def _load_worksheet(path: str):
+    from solvers.worksheet import load
+
+    return load(path)
+
+
+def _worksheet_from_args(args: argparse.Namespace):
+    from solvers.worksheet import Parameter, Settings, Worksheet
+
+    if args.worksheet:
+        ws = _load_worksheet(args.worksheet)
+        if args.equation:
+            ws = replace(ws, equation=args.equation, unknown=None)
+    elif args.equation:
+        ws = Worksheet(equation=args.equation)
+    else:
+        raise InputError(f"zerotrace {args.command}: give an EQUATION or --worksheet FILE")
+    if not ws.equation.strip():
+        raise InputError(f"zerotrace {args.command}: the equation is empty")
+    if args.unknown:
+        ws = replace(ws, unknown=args.unknown)
+    if args.param:
+        values = ws.parameter_values()
+        notes = {p.name: p.note for p in ws.parameters}
+        values.update(dict(args.param))
+        params = tuple(Parameter(n, v, notes.get(n, "")) for n, v in values.items())
+        ws = replace(ws, parameters=params)
+    s = ws.settings if args.worksheet else Settings()
+    changes: dict[str, Any] = {}
+    for flag in ("x0", "x1", "xtol", "rtol", "ftol", "max_iter", "damping"):
+        value = getattr(args, flag, None)
+        if value is not None:
+            changes[flag] = value
+    if getattr(args, "bracket", None):
+        a, b = args.bracket
+        if a == b:
+            raise InputError("zerotrace solve: --bracket ends must differ")
+        changes["bracket"] = (a, b)
+    if getattr(args, "method", None):
+        changes["methods"] = tuple(dict.fromkeys(args.method))
+    if "damping" in changes and not 0 < changes["damping"] <= 1:
+        raise InputError("zerotrace solve: --damping must lie in (0, 1]")
+    s = replace(s, **changes)
+    if s.xtol == 0 and s.rtol == 0 and s.ftol == 0:
+        raise InputError("zerotrace solve: --xtol, --rtol and --ftol cannot all be zero")
+    return replace(ws, settings=s)
+
+
+# ----------------------------------------------------------------- text output
+
+
+def _g(value: float | None, digits: int = 17) -> str:
+    if value is None:
+        return "-"
+    if isinstance(value, float) and not math.isfinite(value):
+        return str(value)
+    return f"{value:.{digits}g}"
+
+
+def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
+    widths = [max([len(h), *(len(r[i]) for r in rows)]) for i, h in enumerate(header)]
+    line = "  ".join(h.ljust(w) for h, w in zip(header, widths, strict=True)).rstrip()
+    rule = "  ".join("-" * w for w in widths)
+    body = ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip() for r in rows]
+    return "\n".join([line, rule, *body])
+
+
+def _print_solution(solution, *, steps: bool) -> None:
+    from solvers.result import REASON_TEXT
+
+    eq = solution.equation
+    print(f"equation: {solution.worksheet.equation}")
+    params = ", ".join(f"{k} = {v!r}" for k, v in eq.parameters.items())
+    print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
+    for note in (*getattr(eq, "notes", ()), *solution.start.notes):
+        print(f"note:     {note}")
+    print()
+    rows = []
+    for r in solution.runs:
+        rows.append(
+            [
+                r.method.replace("_", " "),
+                _g(r.root),
+                "yes" if r.converged else "NO",
+                r.reason,
+                str(r.iterations),
+                str(r.evaluations),
+                _g(r.order, 3) if r.order is not None else "-",
+            ]
+        )
+    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order"]
+    print(_table(header, rows))
+    failed = [r for r in solution.runs if not r.converged]
+    for r in failed:
+        why = r.message or REASON_TEXT.get(r.reason, r.reason)
+        print(f"  {r.method.replace('_', ' ')} did not converge: {why}")
+    if solution.agreement_digits is not None:
+        print(f"\nconverged methods agree to {solution.agreement_digits} significant figures")
+    if steps:
+        for r in solution.runs:
+            print(f"\n{r.method.replace('_', ' ')}: every iterate")
+            body = [
+                [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
+                for s in r.steps
+            ]
+            print(_table(["k", "x", "f(x)", "f'(x)", "dx", "lo", "hi"], body))
+    print(f"\n{CAUTION}")
+
+
+def _print_scan(scan, unknown: str) -> None:
+    print(f"scan of [{_g(scan.a)}, {_g(scan.b)}] for {unknown}: {len(scan.roots)} root(s), "
+          f"{getattr(scan, 'samples', '?')} samples")
+    if scan.roots:
+        rows = [
+            [
+                str(i + 1),
+                _g(r.x),
+                _g(r.residual, 3),
+                str(r.multiplicity),
+                getattr(r, "confirmed", ""),
+                " + ".join(getattr(r, "located_by", ())),
+            ]
+            for i, r in enumerate(scan.roots)
+        ]
+        print(_table(["#", "x", "residual", "multiplicity", "confirmed by", "located by"], rows))
+    for x in scan.poles:
+        print(f"pole (not a root) near {unknown} = {_g(x)}")
+    for x in getattr(scan, "discontinuities", []):
+        print(f"jump (not a root) at {unknown} = {_g(x)}")
+    for a, b in getattr(scan, "gaps", []):
+        print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]")
+    for w in getattr(scan, "warnings", []):
+        print(f"warning: {w}")
+    print(f"\n{CAUTION}")
+
+
+def _json_out(data: dict) -> None:
+    print(json.dumps(data, indent=2, allow_nan=False))
+
+
+# ----------------------------------------------------------------- commands
+
+
+def _output_path(path: str, force: bool) -> str:
+    from pathlib import Path
+
+    p = Path(path)
+    if p.is_dir():
+        raise InputError(f"{path}: is a folder; give a file name")
+    if p.exists() and not force:
+        raise InputError(f"{path}: already exists (use --force to replace it)")
+    if not p.parent.exists():
+        raise InputError(f"{path}: folder {str(p.parent)!r} does not exist")
+    return path
+
+
+def cmd_solve(args: argparse.Namespace) -> int:
+    from solvers import export, pipeline
+
+    ws = _worksheet_from_args(args)
+    csv_path = _output_path(args.csv, args.force) if args.csv else None
+    solution = pipeline.solve(ws)
+    if csv_path:
+        try:
+            export.runs_csv(solution.runs, csv_path, meta=export.solution_meta(solution))
+        except OSError as exc:
+            raise InputError(f"{csv_path}: cannot write ({exc.strerror or exc})") from None
+    if args.json:
+        _json_out(export.solution_json(solution))
+    else:
+        _print_solution(solution, steps=args.steps)
+        if csv_path:
+            print(f"iteration log written to {csv_path}")
+    return EXIT_OK
+
+
+def cmd_scan(args: argparse.Namespace) -> int:
+    from solvers import export, pipeline
+
+    ws = _worksheet_from_args(args)
+    start = args.start if args.start is not None else (ws.scan[0] if ws.scan else None)
+    stop = args.stop if args.stop is not None else (ws.scan[1] if ws.scan else None)
+    if start is None or stop is None:
+        raise InputError("zerotrace scan: give the range with --from A --to B")
+    if not start < stop:
+        raise InputError("zerotrace scan: --from must be less than --to")
+    ws = replace(ws, scan=(start, stop))
+    csv_path = _output_path(args.csv, args.force) if args.csv else None
+    equation = pipeline.equation_of(ws)
+    result = pipeline.scan_worksheet(ws, equation)
+    if csv_path:
+        meta = export.metadata(
+            equation=ws.equation, unknown=equation.unknown, parameters=equation.parameters
+        )
+        try:
+            export.roots_csv(result, csv_path, meta=meta)
+        except OSError as exc:
+            raise InputError(f"{csv_path}: cannot write ({exc.strerror or exc})") from None
+    if args.json:
+        data = export.scan_json(result)
+        _json_out({"equation": ws.equation, "unknown": equation.unknown, **data})
+    else:
+        _print_scan(result, equation.unknown)
+        if csv_path:
+            print(f"roots written to {csv_path}")
+    return EXIT_OK
+
+
+def cmd_report(args: argparse.Namespace) -> int:
+    from solvers import report
+
+    ws = _load_worksheet(args.worksheet)
+    _output_path(args.pdf, args.force)
+    if args.csv_dir is not None:
+        from pathlib import Path
+
+        if not Path(args.csv_dir).is_dir():
+            raise InputError(f"{args.csv_dir}: no such folder for the CSV files")
+    result = report.write_report(
+        ws, args.pdf, csv_dir=args.csv_dir, worksheet_path=args.worksheet, overwrite=args.force
+    )
+    print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
+    for path in result.csv_paths:
+        print(f"csv written to {path}")
+    print(CAUTION)
+    return EXIT_OK
+
+
+def cmd_window(argv: Sequence[str]) -> int:
+    from app.window import main as window_main
+
+    return window_main(list(argv))
+
+
+COMMANDS: dict[str, Callable[[argparse.Namespace], int]] = {
+    "solve": cmd_solve,
+    "scan": cmd_scan,
+    "report": cmd_report,
+}
+
+
+def _bad_input_types() -> tuple[type[BaseException], ...]:
+    """Exceptions that mean 'bad input' (imported lazily to keep start-up light)."""
+    types: list[type[BaseException]] = [InputError, ValueError, FileExistsError]
+    return tuple(types)
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    argv = list(sys.argv[1:] if argv is None else argv)
+    if not argv:
+        return cmd_window(argv)
+    parser = _build_parser()
+    try:
+        args = parser.parse_args(argv)
+        if args.version:
+            from solvers.export import tool_version
+
+            print(f"zerotrace {tool_version()}")
+            return EXIT_OK
+        if args.command is None:
+            raise InputError("zerotrace: give a command: solve, scan or report (see --help)")
+        return COMMANDS[args.command](args)
+    except _bad_input_types() as exc:
+        # EquationError and WorksheetError are ValueErrors carrying a one-line message.
+        message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        position = getattr(exc, "position", None)
+        where = f" (column {position + 1})" if isinstance(position, int) else ""
+        print(f"error: {message}{where}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except OSError as exc:
+        print(f"error: {exc.filename or ''} {exc.strerror or exc}".strip(), file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
