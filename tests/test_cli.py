@@ -1,0 +1,172 @@
+"""The `zerotrace` command as a user and a script see it: tables, JSON, CSV, exit codes."""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+import subprocess
+import sys
+from pathlib import Path
+
+import mpmath
+import numpy as np
+import pytest
+
+from app.cli import main
+
+SAMPLES = Path(__file__).resolve().parent.parent / "samples"
+
+
+def run(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_default_trio_runs_side_by_side(capsys) -> None:
+    code, out, err = run(capsys, "solve", "x^3 - 2x - 5", "--x0", "2", "--bracket", "2", "3")
+    assert code == 0, err
+    for label in ("newton", "secant", "false position"):
+        assert label in out
+    assert "Caution" in out
+    # The classic cubic x^3 - 2x - 5 has its real root at 2.0945514815423265... (mpmath reference)
+    mpmath.mp.dps = 50
+    expected = float(mpmath.findroot(lambda x: x**3 - 2 * x - 5, 2))
+    assert repr(expected) in out or f"{expected:.17g}" in out
+
+
+def test_json_follows_the_contract(capsys) -> None:
+    code, out, _ = run(
+        capsys, "solve", "x^2 = c", "--param", "c=2", "--x0", "1", "--bracket", "0", "2",
+        "--method", "newton", "--method", "brent", "--json",
+    )
+    assert code == 0
+    data = json.loads(out)
+    assert data["equation"] == "x^2 = c"
+    assert data["unknown"] == "x"
+    assert [r["method"] for r in data["runs"]] == ["newton", "brent"]
+    for r in data["runs"]:
+        keys = {"method", "root", "converged", "reason", "iterations", "evaluations", "steps"}
+        assert keys <= set(r)
+        assert r["converged"] is True
+        assert r["root"] == pytest.approx(math.sqrt(2), rel=4e-16)  # math.sqrt reference
+        assert {"k", "x", "fx", "dfx", "dx"} <= set(r["steps"][0])
+
+
+def test_a_failed_run_is_a_result_with_valid_json(capsys) -> None:
+    # x^2 + 1 has no real root: every method must fail with a reason, the output still JSON.
+    code, out, _ = run(
+        capsys, "solve", "x^2 + 1", "--x0", "0.5", "--bracket", "-1", "1", "--method", "newton",
+        "--method", "bisection", "--max-iter", "20", "--json",
+    )
+    assert code == 0
+    data = json.loads(out)
+    reasons = {r["method"]: r["reason"] for r in data["runs"]}
+    assert all(not r["converged"] for r in data["runs"])
+    assert reasons["bisection"] == "no_sign_change"
+    assert reasons["newton"] in {"max_iterations", "zero_derivative", "not_finite"}
+
+
+def test_csv_log_reads_back_to_the_same_floats(capsys, tmp_path: Path) -> None:
+    path = tmp_path / "log with space é.csv"
+    code, out, _ = run(capsys, "solve", "cos(x) = x", "--x0", "1", "--bracket", "0", "1",
+                       "--csv", str(path), "--json")
+    assert code == 0
+    data = json.loads(out)
+    lines = path.read_text("utf-8").splitlines()
+    meta = [ln for ln in lines if ln.startswith("#")]
+    assert any(ln.startswith("# equation: cos(x) = x") for ln in meta)
+    assert any(ln.startswith("# tool: zerotrace") for ln in meta)
+    rows = list(csv.DictReader(ln for ln in lines if not ln.startswith("#")))
+    expected = [(r["method"], s["k"], s["x"], s["fx"]) for r in data["runs"] for s in r["steps"]]
+    got = [(r["method"], int(r["k"]), float(r["x"]), float(r["fx"])) for r in rows]
+    assert got == expected  # bit-for-bit: repr floats round-trip
+    table = np.genfromtxt(
+        path, delimiter=",", comments="#", names=True, dtype=None, encoding="utf-8"
+    )
+    assert np.array_equal(table["x"], [g[2] for g in got])
+
+
+def test_existing_csv_needs_force(capsys, tmp_path: Path) -> None:
+    path = tmp_path / "log.csv"
+    path.write_text("keep me")
+    code, _, err = run(capsys, "solve", "x - 1", "--x0", "0", "--csv", str(path))
+    assert code == 2 and "already exists" in err
+    assert path.read_text() == "keep me"
+    code, _, _ = run(capsys, "solve", "x - 1", "--x0", "0", "--csv", str(path), "--force")
+    assert code == 0 and path.read_text().startswith("#")
+
+
+def test_scan_json_lists_roots_and_poles(capsys) -> None:
+    code, out, err = run(capsys, "scan", "tan(x)", "--from", "0.5", "--to", "7", "--json")
+    assert code == 0, err
+    data = json.loads(out)
+    roots = [r["x"] for r in data["roots"]]
+    np.testing.assert_allclose(roots, [math.pi, 2 * math.pi], rtol=1e-14)  # zeros of tan: n*pi
+    np.testing.assert_allclose(sorted(data["poles"]), [math.pi / 2, 1.5 * math.pi], rtol=1e-6)
+    assert all(r["multiplicity"] == 1 for r in data["roots"])
+
+
+def test_scan_table_and_csv(capsys, tmp_path: Path) -> None:
+    path = tmp_path / "roots.csv"
+    code, out, err = run(capsys, "scan", "(x-2)^2*(x+1)", "--from", "-3", "--to", "3",
+                         "--csv", str(path))
+    assert code == 0, err
+    assert "multiplicity" in out
+    lines = path.read_text().splitlines()
+    rows = list(csv.DictReader(ln for ln in lines if not ln.startswith("#")))
+    assert [(r["kind"], float(r["x"]), int(r["multiplicity"])) for r in rows] == [
+        ("root", -1.0, 1),
+        ("root", pytest.approx(2.0, abs=1e-7), 2),
+    ]
+
+
+def test_worksheet_runs_with_flag_overrides(capsys) -> None:
+    sample = SAMPLES / "cooling-water-friction.json"
+    code, out, _ = run(capsys, "solve", "--worksheet", str(sample), "--method", "brent", "--json")
+    assert code == 0
+    data = json.loads(out)
+    assert [r["method"] for r in data["runs"]] == ["brent"]
+    assert data["parameters"]["Re"] == 1.2e5
+
+
+BAD = [
+    (["solve"], "EQUATION"),
+    (["solve", "x^2 - 2", "--x0", "abc"], "not a number"),
+    (["solve", "x^2 - 2", "--x0", "nan"], "finite"),
+    (["solve", "x^2 - 2", "--method", "magic"], "unknown method"),
+    (["solve", "x^2 - 2", "--param", "c"], "NAME=VALUE"),
+    (["solve", "x^2 - 2", "--param", "c=two"], "not a number"),
+    (["solve", "x^2 - 2", "--max-iter", "0"], "from 1"),
+    (["solve", "x^2 - 2", "--damping", "2"], "damping"),
+    (["solve", "x^2 - 2", "--bracket", "1"], "expected 2"),
+    (["solve", "x^2 - 2", "--bogus"], "unrecognized"),
+    (["solve", "x^2 - y"], "x"),  # two unknowns: the message lists the candidates
+    (["solve", "x^^2"], "column"),
+    (["solve", "__import__('os')"], ""),
+    (["solve", "--worksheet", "/no/such/file.json"], "no such file"),
+    (["scan", "x - 1"], "--from"),
+    (["scan", "x - 1", "--from", "2", "--to", "1"], "less than"),
+    (["report", "/no/such.json", "--pdf", "out.pdf"], "no such file"),
+    (["frobnicate"], "invalid choice"),
+]
+
+
+@pytest.mark.parametrize(("argv", "says"), BAD, ids=[" ".join(a) for a, _ in BAD])
+def test_bad_input_exits_2_with_one_line(capsys, argv: list[str], says: str) -> None:
+    code, out, err = run(capsys, *argv)
+    assert code == 2
+    assert out == ""
+    assert len(err.strip().splitlines()) == 1
+    assert "Traceback" not in err
+    assert says in err
+
+
+def test_console_script_exit_code_and_no_traceback() -> None:
+    proc = subprocess.run(
+        [sys.executable, "-m", "app.cli", "solve", "x^2 - 2", "--x0", "(1"],
+        capture_output=True, text=True, timeout=120,
+    )
+    assert proc.returncode == 2
+    assert "Traceback" not in proc.stderr and len(proc.stderr.strip().splitlines()) == 1

@@ -1,0 +1,151 @@
+"""Every bundled sample, solved and scanned end to end, checked against outside references.
+
+Each reference is computed independently of zerotrace (plain math + scipy/numpy), so a fault in
+parsing, differentiation, the methods or the scan shows up as a disagreement.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+import scipy.constants
+from scipy.optimize import brentq
+
+from solvers import pipeline, worksheet
+
+SAMPLES = Path(__file__).resolve().parent.parent / "samples"
+
+
+def load(name: str) -> worksheet.Worksheet:
+    return worksheet.load(SAMPLES / f"{name}.json")
+
+
+def params(ws: worksheet.Worksheet) -> dict[str, float]:
+    return ws.parameter_values()
+
+
+def ulps_apart(a: float, b: float) -> float:
+    return abs(a - b) / math.ulp(max(abs(a), abs(b)))
+
+
+@pytest.mark.parametrize("path", sorted(SAMPLES.glob("*.json")), ids=lambda p: p.stem)
+def test_every_sample_solves_with_newton_and_secant(path: Path) -> None:
+    solution = pipeline.solve(worksheet.load(path))
+    by_method = {r.method: r for r in solution.runs}
+    assert by_method["newton"].converged, by_method["newton"].message
+    assert by_method["secant"].converged, by_method["secant"].message
+    # Newton and secant land on the same root to (nearly) full precision.
+    assert solution.agreement_digits is not None and solution.agreement_digits >= 12
+
+
+@pytest.mark.parametrize("path", sorted(SAMPLES.glob("*.json")), ids=lambda p: p.stem)
+def test_every_sample_scan_contains_the_solved_root(path: Path) -> None:
+    ws = worksheet.load(path)
+    solution = pipeline.solve(ws)
+    result = pipeline.scan_worksheet(ws, solution.equation)
+    newton = next(r for r in solution.runs if r.method == "newton")
+    assert any(abs(r.x - newton.root) <= 1e-9 * max(1.0, abs(r.x)) for r in result.roots)
+
+
+def test_colebrook_friction_factor_matches_an_independent_solve() -> None:
+    ws = load("cooling-water-friction")
+    p = params(ws)
+
+    def colebrook(f: float) -> float:  # the Colebrook–White equation written out in plain math
+        rough = p["eps"] / (3.7 * p["D"])
+        return 1 / math.sqrt(f) + 2 * math.log10(rough + 2.51 / (p["Re"] * math.sqrt(f)))
+
+    eps = np.finfo(float).eps
+    expected = brentq(colebrook, 0.005, 0.1, xtol=1e-15, rtol=4 * eps)  # scipy.optimize
+    newton = pipeline.solve(ws).runs[0]
+    assert newton.method == "newton"
+    assert ulps_apart(newton.root, expected) <= 8
+    # Swamee & Jain (1976), J. Hydraulics Div. ASCE 102(5): explicit fit, within about 1 %
+    # of Colebrook for 5e3 < Re < 1e8, 1e-6 < eps/D < 1e-2 (stated accuracy from memory).
+    swamee_jain = 0.25 / math.log10(p["eps"] / (3.7 * p["D"]) + 5.74 / p["Re"] ** 0.9) ** 2
+    assert newton.root == pytest.approx(swamee_jain, rel=0.015)
+
+
+def test_van_der_waals_volumes_match_numpy_roots_of_the_cubic() -> None:
+    ws = load("gas-molar-volume-vdw")
+    p = params(ws)
+    assert p["R"] == pytest.approx(scipy.constants.R, rel=1e-9)  # CODATA value via scipy.constants
+    P, T, a, b, R = p["P"], p["T"], p["a"], p["b"], p["R"]
+    # (P + a/V^2)(V - b) = RT  <=>  P V^3 - (P b + R T) V^2 + a V - a b = 0 (numpy.roots reference)
+    cubic = np.roots([P, -(P * b + R * T), a, -a * b])
+    expected = sorted(r.real for r in cubic if abs(r.imag) < 1e-12 * abs(r) and r.real > b)
+    found = [r.x for r in pipeline.scan_worksheet(ws).roots]
+    assert len(found) == 3
+    np.testing.assert_allclose(found, expected, rtol=1e-10)
+
+
+def test_sign_arm_frequencies_match_the_cantilever_eigenvalues() -> None:
+    ws = load("sign-arm-natural-frequencies")
+    p = params(ws)
+    # Cantilever (clamped-free) roots of cos(bL)cosh(bL) = -1: 1.87510407, 4.69409113, 7.85475744
+    # (Blevins, Formulas for Natural Frequency and Mode Shape, Table 8-1; from memory).
+    beta_l = [1.87510407, 4.69409113, 7.85475744]
+    scale = math.sqrt(p["E"] * p["I"] / (p["rho"] * p["A"])) / p["L"] ** 2
+    expected = [bl**2 * scale for bl in beta_l]
+    found = [r.x for r in pipeline.scan_worksheet(ws).roots]
+    assert len(found) == 3
+    np.testing.assert_allclose(found, expected, rtol=2e-8)
+
+
+def test_project_irr_matches_numpy_roots_of_the_cash_flow_polynomial() -> None:
+    ws = load("project-irr")
+    p = params(ws)
+    flows = [-p["C0"]] + [p[f"C{t}"] for t in range(1, 8)]
+    # NPV(r) = sum C_t v^t with v = 1/(1+r): a polynomial in v, solved by numpy.roots.
+    v = np.roots(flows[::-1])
+    expected = sorted(1 / r.real - 1 for r in v if abs(r.imag) < 1e-12 and r.real > 0)
+    expected = [r for r in expected if -0.5 <= r <= 1.0]
+    found = [r.x for r in pipeline.scan_worksheet(ws).roots]
+    np.testing.assert_allclose(found, expected, rtol=1e-10)
+    newton = pipeline.solve(ws).runs[0]
+    assert newton.root == pytest.approx(expected[0], rel=1e-13)
+
+
+def test_wall_eigenvalues_and_poles_of_tan() -> None:
+    ws = load("wall-conduction-eigenvalues")
+    p = params(ws)
+    bi = p["h"] * p["L"] / p["k"]
+    # One eigenvalue in each (n pi, n pi + pi/2): the classical structure of x tan x = Bi
+    # (Incropera, Fundamentals of Heat and Mass Transfer, App. B.3; common practice). scipy brentq.
+    expected = [
+        brentq(lambda x: x * math.tan(x) - bi, n * math.pi + 1e-12, (n + 0.5) * math.pi - 1e-12)
+        for n in range(4)
+    ]
+    result = pipeline.scan_worksheet(ws)
+    found = [r.x for r in result.roots if r.x > 1e-9]  # x = 0 is no root unless Bi = 0
+    np.testing.assert_allclose(found, expected, rtol=1e-12)
+    poles = [math.pi / 2 + n * math.pi for n in range(4)]
+    np.testing.assert_allclose(sorted(result.poles), poles, rtol=1e-6)
+
+
+def test_channel_normal_depth_matches_an_independent_solve() -> None:
+    ws = load("drainage-channel-normal-depth")
+    p = params(ws)
+
+    def manning(y: float) -> float:  # Manning's equation, SI, trapezoidal section (common practice)
+        area = (p["b"] + p["z"] * y) * y
+        perimeter = p["b"] + 2 * y * math.sqrt(1 + p["z"] ** 2)
+        return area ** (5 / 3) / perimeter ** (2 / 3) * math.sqrt(p["S"]) / p["n"] - p["Q"]
+
+    expected = brentq(manning, 0.05, 4.0, xtol=1e-15)  # scipy.optimize
+    solution = pipeline.solve(ws)
+    for run in solution.converged_runs:
+        assert run.root == pytest.approx(expected, rel=1e-12), run.method
+
+
+def test_pump_operating_point_matches_an_independent_solve() -> None:
+    ws = load("pump-system-operating-point")
+    p = params(ws)
+    expected = brentq(
+        lambda q: 42 - 8.5 * q - 310 * q**2 - (p["Hs"] + p["ks"] * q**1.85), 0.0, 0.3, xtol=1e-15
+    )  # scipy.optimize
+    roots = [r.x for r in pipeline.scan_worksheet(ws).roots]
+    assert roots == [pytest.approx(expected, rel=1e-12)]
