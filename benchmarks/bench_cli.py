@@ -25,7 +25,8 @@ def best_of(argv: list[str]) -> float:
 def main() -> None:
     floor = best_of([sys.executable, "-c", "import sympy, numpy"])
     solve = best_of(
-        [sys.executable, "-m", "app.cli", "solve", "x^3 - 2x - 5", "--x0", "2", "--bracket", "2", "3"]
+        [sys.executable, "-m", "app.cli", "solve", "x^3 - 2x - 5", "--x0", "2",
+         "--bracket", "2", "3"]
     )
     print(f"{'measure':44s} {'seconds':>9s}")
     print(f"{'import floor: python -c import sympy, numpy':44s} {floor:9.3f}")
