@@ -1,10 +1,933 @@
-"""STUB: being written (root-finding methods)."""
+"""Root-finding methods over plain callables, each returning one :class:`~solvers.result.Run`.
+
+Every method takes ``f(x) -> float`` (numpy floats and 0-d arrays are accepted and
+converted with ``float``), records every iterate as a :class:`~solvers.result.Step`
+and counts every call of f (and of f' for Newton) in ``Run.evaluations``.
+
+Tolerances (keywords, the same for every method)
+------------------------------------------------
+``xtol``
+    absolute step tolerance, in the units of x.
+``rtol``
+    relative step tolerance: the step test is ``|dx| <= xtol + rtol*|x|``.
+``ftol``
+    absolute residual tolerance, in the units of f: ``|f(x)| <= ftol`` stops.
+``max_iter``
+    the most iterates a method may produce (starting points not counted).
+
+What "step" means:
+
+* Newton and secant: ``dx = x_k - x_{k-1}``, the step just taken.
+* Bisection and Brent: the width of the bracket held, ``hi - lo``, tested against
+  ``xtol + rtol*|x|`` with x the bracket end of smaller ``|f|`` (the root returned).
+* False position and Illinois: the bracket width as above, **or** the step between
+  two successive interpolated iterates ``|x_k - x_{k-1}|`` (both produced by the
+  method, never a starting end). Plain false position usually keeps one end fixed, so
+  its bracket does not shrink to zero; the step test is what stops it. Its
+  convergence is linear with some ratio c, and the true error is then about
+  ``c/(1-c)`` times the last step: larger than the step when c > 1/2. The observed
+  order (``Run.order`` ~ 1) shows this to the user.
+
+Stop order after each new iterate: non-finite f -> ``not_finite``; ``f == 0`` ->
+``exact_zero``; ``|f| <= ftol`` -> ``f_tolerance``; step test -> ``x_tolerance``;
+``max_iter`` iterates produced -> ``max_iterations``.
+
+Defaults, chosen for engineering work
+-------------------------------------
+``DEFAULT_XTOL = 1e-12`` and ``DEFAULT_RTOL = 4*eps`` ask for the root to full double
+precision (the relative term dominates for |x| > ~1e3, the absolute term for roots
+near zero), which costs only an iterate or two more than any engineering accuracy
+and leaves no doubt about convergence. ``DEFAULT_FTOL = 0.0`` switches the residual
+test off, because the scale of f is the user's (a residual of 1e-6 is tiny in pascals
+and huge in megapascals). ``DEFAULT_MAX_ITER = 100`` is far more than a converging
+method needs (bisection from a bracket 1e15 times the tolerance needs 50) and small
+enough that a failing run stops at once.
+
+Failure behaviour
+-----------------
+No method raises because of f. An exception from f (ValueError, ZeroDivisionError,
+OverflowError, ...), a NaN or infinite value, a complex value or an infinite x stops
+the run with reason ``not_finite``; a zero derivative (Newton) or zero secant slope,
+or a step that overflows because the derivative is vanishingly small, gives
+``zero_derivative``; bracket ends of the same sign give ``no_sign_change``. Such a
+run has ``converged`` False and its ``root`` is, for inspection only, the last
+iterate with finite x and f(x) (for ``no_sign_change``: the end with smaller |f|).
+numpy floating-point warnings are suppressed inside every method.
+Invalid *settings* (negative tolerances, damping outside (0, 1], a non-integer
+``max_iter``) are the caller's error and raise ``ValueError``.
+"""
+
 from __future__ import annotations
 
-def newton(f, x0, *, fprime=None, damping=1.0, **kw): raise NotImplementedError
-def secant(f, x0, x1, **kw): raise NotImplementedError
-def false_position(f, a, b, **kw): raise NotImplementedError
-def illinois(f, a, b, **kw): raise NotImplementedError
-def bisection(f, a, b, **kw): raise NotImplementedError
-def brent(f, a, b, **kw): raise NotImplementedError
-METHODS = {}
+import functools
+import math
+import operator
+import sys
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from solvers.result import (
+    CONVERGED_REASONS,
+    EXACT_ZERO,
+    F_TOLERANCE,
+    MAX_ITERATIONS,
+    NO_SIGN_CHANGE,
+    NOT_FINITE,
+    REASON_TEXT,
+    X_TOLERANCE,
+    ZERO_DERIVATIVE,
+    Run,
+    Step,
+)
+
+__all__ = [
+    "DEFAULT_FTOL",
+    "DEFAULT_MAX_ITER",
+    "DEFAULT_RTOL",
+    "DEFAULT_XTOL",
+    "METHODS",
+    "MethodSpec",
+    "bisection",
+    "brent",
+    "false_position",
+    "illinois",
+    "newton",
+    "run_method",
+    "secant",
+]
+
+EPS = sys.float_info.epsilon
+DEFAULT_XTOL = 1e-12
+DEFAULT_RTOL = 4 * EPS
+DEFAULT_FTOL = 0.0
+DEFAULT_MAX_ITER = 100
+
+# Central-difference step h = eps**(1/3) * max(1, |x|): it balances the O(h^2)
+# truncation error against the O(eps/h) rounding error, and the max(1, |x|) scale
+# is the one scipy's approx_derivative uses for its 3-point rule.
+DERIVATIVE_STEP = EPS ** (1.0 / 3.0)
+
+Function = Callable[[float], Any]
+
+LABELS: dict[str, str] = {
+    "newton": "Newton-Raphson",
+    "secant": "Secant",
+    "false_position": "False position",
+    "illinois": "Illinois",
+    "bisection": "Bisection",
+    "brent": "Brent",
+}
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+class _Evaluator:
+    """Calls f, counts the calls and turns every misbehaviour into NaN with a note.
+
+    ``fault`` holds a one-line account of the last call's failure (an exception or a
+    complex value), or None when the call returned a real number.
+    """
+
+    __slots__ = ("f", "calls", "fault", "name")
+
+    def __init__(self, f: Function, name: str = "f") -> None:
+        self.f = f
+        self.calls = 0
+        self.fault: str | None = None
+        self.name = name
+
+    def __call__(self, x: float) -> float:
+        self.calls += 1
+        self.fault = None
+        try:
+            y = self.f(x)
+        except Exception as exc:  # f is the user's: any failure is a result, not a crash
+            self.fault = f"{self.name} raised {type(exc).__name__} at x = {x!r}"
+            return math.nan
+        if type(y) is float:
+            return y
+        return self._convert(y, x)
+
+    def _convert(self, y: Any, x: float) -> float:
+        if isinstance(y, (float, int, np.floating, np.integer)):
+            return float(y)
+        try:
+            arr = np.asarray(y)
+            if arr.size != 1:
+                self.fault = f"{self.name} returned {arr.size} values at x = {x!r}, not one"
+                return math.nan
+            value = arr.reshape(()).item()
+        except Exception:
+            value = y
+        if isinstance(value, complex):
+            if value.imag != 0.0:
+                self.fault = f"{self.name} is complex ({value!r}) at x = {x!r}"
+                return math.nan
+            return float(value.real)
+        if isinstance(value, (float, int)):
+            return float(value)
+        self.fault = f"{self.name} returned {type(y).__name__}, not a number, at x = {x!r}"
+        return math.nan
+
+
+def _check_settings(xtol: float, rtol: float, ftol: float, max_iter: int) -> dict[str, Any]:
+    """Validate the stopping rules; a bad setting is the caller's error (ValueError)."""
+    values = {"xtol": xtol, "rtol": rtol, "ftol": ftol}
+    checked: dict[str, Any] = {}
+    for name, value in values.items():
+        try:
+            number = float(value)
+        except (TypeError, ValueError):
+            raise ValueError(f"{name} must be a number, got {value!r}") from None
+        if not (number >= 0.0) or math.isinf(number):
+            raise ValueError(f"{name} must be finite and >= 0, got {value!r}")
+        checked[name] = number
+    if isinstance(max_iter, bool):
+        raise ValueError(f"max_iter must be a whole number >= 0, got {max_iter!r}")
+    try:
+        cap = operator.index(max_iter)
+    except TypeError:
+        if isinstance(max_iter, float) and max_iter.is_integer():
+            cap = int(max_iter)
+        else:
+            raise ValueError(f"max_iter must be a whole number >= 0, got {max_iter!r}") from None
+    if cap < 0:
+        raise ValueError(f"max_iter must be a whole number >= 0, got {max_iter!r}")
+    checked["max_iter"] = cap
+    return checked
+
+
+def _quiet(method: Callable[..., Run]) -> Callable[..., Run]:
+    """Run a method with numpy's floating-point warnings switched off (they become results)."""
+
+    @functools.wraps(method)
+    def wrapper(*args: Any, **kwargs: Any) -> Run:
+        with np.errstate(all="ignore"):
+            return method(*args, **kwargs)
+
+    return wrapper
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.15g}" if math.isfinite(x) else repr(x)
+
+
+def _finish(
+    method: str,
+    reason: str,
+    root: float,
+    steps: list[Step],
+    iterations: int,
+    evaluations: int,
+    settings: dict[str, Any],
+    detail: str = "",
+    derivative: str | None = None,
+    note: str = "",
+) -> Run:
+    converged = reason in CONVERGED_REASONS
+    label = LABELS[method]
+    counts = f"{iterations} iterations, {evaluations} evaluations"
+    if converged:
+        message = f"{label} converged to x = {_fmt(root)} ({counts}): {REASON_TEXT[reason]}"
+    else:
+        account = detail or REASON_TEXT[reason]
+        message = f"{label} did not converge ({counts}): {account}; last x = {_fmt(root)}"
+    if note:
+        message += f"; {note}"
+    return Run(
+        method=method,
+        root=float(root),
+        converged=converged,
+        reason=reason,
+        iterations=iterations,
+        evaluations=evaluations,
+        steps=steps,
+        settings=settings,
+        derivative=derivative,
+        message=message,
+    )
+
+
+def _last_finite(steps: list[Step]) -> float:
+    """The last iterate with finite x and f(x): the root reported by a failed run."""
+    for step in reversed(steps):
+        if math.isfinite(step.x) and math.isfinite(step.fx):
+            return step.x
+    return math.nan
+
+
+def _not_finite_detail(ev: _Evaluator, x: float, fx: float) -> str:
+    return ev.fault or f"f(x) = {fx!r} at x = {x!r}"
+
+
+def _same_sign(u: float, v: float) -> bool:
+    return (u > 0.0) == (v > 0.0)
+
+
+# --------------------------------------------------------------------------- open methods
+
+
+def _central_difference(ev: _Evaluator, x: float, fx: float) -> float:
+    """f'(x) by a central difference; one-sided where one neighbour is outside f's domain.
+
+    Step h = eps**(1/3)*max(1, |x|); if neither neighbour is finite, h shrinks by 1e-3
+    up to twice more. Returns NaN when no usable difference exists. Every call of f
+    counts in ``ev.calls``.
+    """
+    h = DERIVATIVE_STEP * max(abs(x), 1.0)
+    for _ in range(3):
+        xp = x + h
+        xm = x - h
+        fp = ev(xp)
+        fm = ev(xm)
+        fp_ok = math.isfinite(fp)
+        fm_ok = math.isfinite(fm)
+        if fp_ok and fm_ok:
+            return (fp - fm) / (xp - xm)
+        if fp_ok:
+            return (fp - fx) / (xp - x)
+        if fm_ok:
+            return (fx - fm) / (x - xm)
+        h *= 1e-3
+    return math.nan
+
+
+@_quiet
+def newton(
+    f: Function,
+    x0: float,
+    *,
+    fprime: Function | None = None,
+    damping: float = 1.0,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+    derivative_source: str | None = None,
+) -> Run:
+    """Newton-Raphson from x0: ``x_{k+1} = x_k - damping * f(x_k)/f'(x_k)``.
+
+    ``fprime=None`` uses a central-difference derivative (step eps**(1/3)*max(1,|x|),
+    two extra f calls per iterate, counted in ``evaluations``) and records
+    ``run.derivative = "numerical"``; a supplied ``fprime`` is recorded as
+    ``derivative_source`` ("symbolic" or "supplied", default "supplied").
+    ``damping`` (0 < damping <= 1) shortens every step; below 1 the convergence is
+    linear. Stops on the step just taken, ``|dx| <= xtol + rtol*|x|``; f is always
+    evaluated at the returned root, so its residual is on record. A zero derivative,
+    or one so small that the step overflows, stops with ``zero_derivative``. The
+    final Step has ``dfx`` None: no derivative was needed there.
+    """
+    tol = _check_settings(xtol, rtol, ftol, max_iter)
+    try:
+        damping = float(damping)
+    except (TypeError, ValueError):
+        raise ValueError(f"damping must be a number in (0, 1], got {damping!r}") from None
+    if not (0.0 < damping <= 1.0):
+        raise ValueError(f"damping must be in (0, 1], got {damping!r}")
+    if fprime is None:
+        if derivative_source not in (None, "numerical"):
+            raise ValueError(f"derivative_source {derivative_source!r} given without fprime")
+        source = "numerical"
+    else:
+        source = derivative_source or "supplied"
+        if source not in ("symbolic", "supplied", "numerical"):
+            raise ValueError(
+                f"derivative_source must be 'symbolic', 'supplied' or 'numerical', "
+                f"got {derivative_source!r}"
+            )
+    settings = dict(tol, damping=damping, x0=x0, derivative=source)
+    if fprime is None:
+        settings["derivative_step"] = "central difference, h = eps**(1/3)*max(1, |x|)"
+
+    ev = _Evaluator(f)
+    dev = _Evaluator(fprime, "f'") if fprime is not None else None
+    xtol_, rtol_, ftol_, cap = tol["xtol"], tol["rtol"], tol["ftol"], tol["max_iter"]
+    steps: list[Step] = []
+
+    def done(reason: str, root: float, k: int, detail: str = "") -> Run:
+        evaluations = ev.calls + (dev.calls if dev is not None else 0)
+        return _finish("newton", reason, root, steps, k, evaluations, settings, detail, source)
+
+    x = float(x0)
+    if not math.isfinite(x):
+        return done(NOT_FINITE, math.nan, 0, f"starting point x0 = {x!r} is not finite")
+    fx = ev(x)
+    k = 0
+    dx: float | None = None
+    while True:
+        if not math.isfinite(fx):
+            steps.append(Step(k, x, fx, None, dx))
+            return done(NOT_FINITE, _last_finite(steps), k, _not_finite_detail(ev, x, fx))
+        if fx == 0.0:
+            steps.append(Step(k, x, fx, None, dx))
+            return done(EXACT_ZERO, x, k)
+        if abs(fx) <= ftol_:
+            steps.append(Step(k, x, fx, None, dx))
+            return done(F_TOLERANCE, x, k)
+        if dx is not None and abs(dx) <= xtol_ + rtol_ * abs(x):
+            steps.append(Step(k, x, fx, None, dx))
+            return done(X_TOLERANCE, x, k)
+        if k >= cap:
+            steps.append(Step(k, x, fx, None, dx))
+            return done(MAX_ITERATIONS, x, k)
+        dfx = _central_difference(ev, x, fx) if dev is None else dev(x)
+        steps.append(Step(k, x, fx, dfx, dx))
+        if not math.isfinite(dfx):
+            fault = (dev.fault if dev is not None else None) or (
+                f"f'(x) = {dfx!r} at x = {x!r}"
+            )
+            return done(NOT_FINITE, x, k, fault)
+        if dfx == 0.0:
+            return done(ZERO_DERIVATIVE, x, k, f"f'(x) = 0 at x = {x!r}")
+        step = -damping * fx / dfx
+        x_new = x + step
+        if not math.isfinite(x_new):
+            if not math.isfinite(step):
+                return done(
+                    ZERO_DERIVATIVE, x, k,
+                    f"f'(x) = {dfx!r} is vanishingly small at x = {x!r}: the step overflows",
+                )
+            return done(NOT_FINITE, x, k, f"the next iterate overflows from x = {x!r}")
+        dx = x_new - x
+        x = x_new
+        fx = ev(x)
+        k += 1
+
+
+@_quiet
+def secant(
+    f: Function,
+    x0: float,
+    x1: float,
+    *,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+) -> Run:
+    """Secant method from x0, x1: Newton's step with the slope through the last two iterates.
+
+    Both starting points are recorded as steps (k = 0, 1, ``dx`` None). Stops on
+    the step just taken, ``|dx| <= xtol + rtol*|x|``. Equal f at the last two points
+    (zero slope, including x0 == x1) or a step that overflows gives
+    ``zero_derivative``. Converges with order ~1.62 on a simple root, without a bracket
+    (it may leave the region of interest).
+    """
+    tol = _check_settings(xtol, rtol, ftol, max_iter)
+    settings = dict(tol, x0=x0, x1=x1)
+    xtol_, rtol_, ftol_, cap = tol["xtol"], tol["rtol"], tol["ftol"], tol["max_iter"]
+    ev = _Evaluator(f)
+    steps: list[Step] = []
+
+    def done(reason: str, root: float, k: int, detail: str = "") -> Run:
+        return _finish("secant", reason, root, steps, k, ev.calls, settings, detail)
+
+    xa, xb = float(x0), float(x1)
+    for x in (xa, xb):
+        if not math.isfinite(x):
+            return done(NOT_FINITE, math.nan, 0, f"starting point {x!r} is not finite")
+    # Starting points: a zero or small residual at either ends the run there.
+    fa = ev(xa)
+    steps.append(Step(0, xa, fa))
+    if not math.isfinite(fa):
+        return done(NOT_FINITE, math.nan, 0, _not_finite_detail(ev, xa, fa))
+    if fa == 0.0:
+        return done(EXACT_ZERO, xa, 0)
+    if abs(fa) <= ftol_:
+        return done(F_TOLERANCE, xa, 0)
+    fb = ev(xb)
+    steps.append(Step(1, xb, fb))
+    if not math.isfinite(fb):
+        return done(NOT_FINITE, xa, 0, _not_finite_detail(ev, xb, fb))
+    if fb == 0.0:
+        return done(EXACT_ZERO, xb, 0)
+    if abs(fb) <= ftol_:
+        return done(F_TOLERANCE, xb, 0)
+
+    iterations = 0
+    while True:
+        if iterations >= cap:
+            return done(MAX_ITERATIONS, xb, iterations)
+        if fb == fa:
+            return done(
+                ZERO_DERIVATIVE, xb, iterations,
+                f"secant slope is zero: f({xa!r}) == f({xb!r})",
+            )
+        step = -fb * (xb - xa) / (fb - fa)
+        x = xb + step
+        if not math.isfinite(x):
+            reason = ZERO_DERIVATIVE if not math.isfinite(step) else NOT_FINITE
+            return done(reason, xb, iterations, f"the secant step from x = {xb!r} overflows")
+        fx = ev(x)
+        iterations += 1
+        dx = x - xb
+        steps.append(Step(iterations + 1, x, fx, None, dx))
+        if not math.isfinite(fx):
+            return done(NOT_FINITE, _last_finite(steps), iterations, _not_finite_detail(ev, x, fx))
+        if fx == 0.0:
+            return done(EXACT_ZERO, x, iterations)
+        if abs(fx) <= ftol_:
+            return done(F_TOLERANCE, x, iterations)
+        if abs(dx) <= xtol_ + rtol_ * abs(x):
+            return done(X_TOLERANCE, x, iterations)
+        xa, fa, xb, fb = xb, fb, x, fx
+
+
+# --------------------------------------------------------------------------- bracketing
+
+
+@dataclass
+class _Bracket:
+    """Mutable bracket state shared by the bracketing methods' start-up code."""
+
+    a: float
+    fa: float
+    b: float
+    fb: float
+
+
+def _start_bracket(
+    method: str,
+    ev: _Evaluator,
+    a: float,
+    b: float,
+    settings: dict[str, Any],
+    steps: list[Step],
+) -> Run | _Bracket:
+    """Evaluate both ends; return a finished Run if the ends already settle it.
+
+    Both ends are recorded (k = 0, 1, ``dx`` None) with ``lo``/``hi`` the bracket as
+    given when it holds a sign change (or an exact zero), else None.
+    """
+
+    def done(reason: str, root: float, detail: str = "") -> Run:
+        return _finish(method, reason, root, steps, 0, ev.calls, settings, detail)
+
+    a, b = float(a), float(b)
+    for x in (a, b):
+        if not math.isfinite(x):
+            return done(NOT_FINITE, math.nan, f"bracket end {x!r} is not finite")
+    fa = ev(a)
+    fault_a = ev.fault
+    fb = ev(b)
+    lo, hi = min(a, b), max(a, b)
+    finite = math.isfinite(fa) and math.isfinite(fb)
+    holds = finite and (fa == 0.0 or fb == 0.0 or not _same_sign(fa, fb))
+    steps.append(Step(0, a, fa, None, None, lo if holds else None, hi if holds else None))
+    steps.append(Step(1, b, fb, None, None, lo if holds else None, hi if holds else None))
+    if not math.isfinite(fa):
+        return done(NOT_FINITE, _last_finite(steps), fault_a or f"f(a) = {fa!r} at a = {a!r}")
+    if not math.isfinite(fb):
+        return done(NOT_FINITE, _last_finite(steps), _not_finite_detail(ev, b, fb))
+    if fa == 0.0:
+        return done(EXACT_ZERO, a)
+    if fb == 0.0:
+        return done(EXACT_ZERO, b)
+    better = a if abs(fa) <= abs(fb) else b
+    if min(abs(fa), abs(fb)) <= settings["ftol"]:
+        return done(F_TOLERANCE, better)
+    if _same_sign(fa, fb):
+        return done(
+            NO_SIGN_CHANGE, better,
+            f"f({a!r}) = {fa!r} and f({b!r}) = {fb!r} have the same sign: no bracket",
+        )
+    return _Bracket(a, fa, b, fb)
+
+
+def _bracket_settings(xtol, rtol, ftol, max_iter, a, b) -> dict[str, Any]:
+    return dict(_check_settings(xtol, rtol, ftol, max_iter), bracket=(a, b))
+
+
+@_quiet
+def bisection(
+    f: Function,
+    a: float,
+    b: float,
+    *,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+) -> Run:
+    """Bisection on the bracket [a, b] (f(a), f(b) of opposite signs).
+
+    Each iterate is the bracket's midpoint; the bracket halves every iterate (order 1,
+    ratio 1/2). Stops when the bracket width ``hi - lo <= xtol + rtol*|x|`` with x the
+    end of smaller |f| (returned as the root), or when the ends are adjacent doubles
+    and cannot be split (also ``x_tolerance``, said in the message).
+    """
+    settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
+    ev = _Evaluator(f)
+    steps: list[Step] = []
+    start = _start_bracket("bisection", ev, a, b, settings, steps)
+    if isinstance(start, Run):
+        return start
+    xtol_, rtol_, ftol_, cap = (settings[n] for n in ("xtol", "rtol", "ftol", "max_iter"))
+    lo, flo, hi, fhi = start.a, start.fa, start.b, start.fb
+    if lo > hi:
+        lo, flo, hi, fhi = hi, fhi, lo, flo
+    last = start.b
+    iterations = 0
+
+    def done(reason: str, root: float, detail: str = "") -> Run:
+        return _finish("bisection", reason, root, steps, iterations, ev.calls, settings, detail)
+
+    while True:
+        best = lo if abs(flo) <= abs(fhi) else hi
+        if hi - lo <= xtol_ + rtol_ * abs(best):
+            return done(X_TOLERANCE, best)
+        if iterations >= cap:
+            return done(MAX_ITERATIONS, best)
+        mid = 0.5 * lo + 0.5 * hi
+        if not lo < mid < hi:
+            return done(
+                X_TOLERANCE, best,
+                f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists",
+            )
+        fmid = ev(mid)
+        iterations += 1
+        if not math.isfinite(fmid):
+            steps.append(Step(iterations + 1, mid, fmid, None, mid - last, lo, hi))
+            return done(NOT_FINITE, best, _not_finite_detail(ev, mid, fmid))
+        if fmid == 0.0 or _same_sign(fmid, flo):
+            lo, flo = mid, fmid
+        else:
+            hi, fhi = mid, fmid
+        steps.append(Step(iterations + 1, mid, fmid, None, mid - last, lo, hi))
+        last = mid
+        if fmid == 0.0:
+            return done(EXACT_ZERO, mid)
+        if abs(fmid) <= ftol_:
+            return done(F_TOLERANCE, mid)
+
+
+def _regula_falsi(
+    method: str,
+    illinois_rule: bool,
+    f: Function,
+    a: float,
+    b: float,
+    xtol: float,
+    rtol: float,
+    ftol: float,
+    max_iter: int,
+) -> Run:
+    """False position, plain or with the Illinois rule (shared body; see the two wrappers)."""
+    settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
+    ev = _Evaluator(f)
+    steps: list[Step] = []
+    start = _start_bracket(method, ev, a, b, settings, steps)
+    if isinstance(start, Run):
+        return start
+    xtol_, rtol_, ftol_, cap = (settings[n] for n in ("xtol", "rtol", "ftol", "max_iter"))
+    # (xb, fb) is the newest point, (xa, fa) the retained end of opposite sign.
+    # ga is the value used for interpolation at xa: fa, or fa halved by the Illinois rule.
+    xa, fa, xb, fb = start.a, start.fa, start.b, start.fb
+    ga = fa
+    previous: float | None = None  # previous interpolated iterate
+    previous_step: float | None = None  # |previous - the one before|
+    previous_ratio: float | None = None  # previous_step / the step before it
+    iterations = 0
+    midpoints = 0
+
+    def done(reason: str, root: float, detail: str = "") -> Run:
+        note = (
+            f"{midpoints} midpoint step(s) where rounding put the chord's zero on a bracket end"
+            if midpoints
+            else ""
+        )
+        return _finish(
+            method, reason, root, steps, iterations, ev.calls, settings, detail, note=note
+        )
+
+    while True:
+        lo, hi = (xa, xb) if xa < xb else (xb, xa)
+        best = xa if abs(fa) < abs(fb) else xb
+        if iterations >= cap:
+            return done(MAX_ITERATIONS, best)
+        denominator = fb - ga  # never zero: fb and ga have opposite signs
+        if math.isinf(denominator):
+            fraction = 1.0 / (1.0 - ga / fb)
+        else:
+            fraction = fb / denominator
+        x = xb - fraction * (xb - xa)
+        fallback = not lo < x < hi
+        if fallback:
+            # Rounding put the chord's zero on (or past) an end, e.g. beside a pole where
+            # |f| is huge: take the midpoint instead so the method cannot stall there.
+            x = 0.5 * lo + 0.5 * hi
+            if not lo < x < hi:
+                return done(
+                    X_TOLERANCE, best,
+                    f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists",
+                )
+            midpoints += 1
+        fx = ev(x)
+        iterations += 1
+        if not math.isfinite(fx):
+            steps.append(Step(iterations + 1, x, fx, None, x - xb, lo, hi))
+            return done(NOT_FINITE, best, _not_finite_detail(ev, x, fx))
+        if fx != 0.0 and _same_sign(fx, fb):
+            # xa retained once more: Illinois halves its value to pull the next iterate over.
+            if illinois_rule:
+                ga *= 0.5
+        else:
+            xa, fa, ga = xb, fb, fb
+        dx = x - xb
+        xb, fb = x, fx
+        lo, hi = (xa, xb) if xa < xb else (xb, xa)
+        steps.append(Step(iterations + 1, x, fx, None, dx, lo, hi))
+        if fx == 0.0:
+            return done(EXACT_ZERO, x)
+        if abs(fx) <= ftol_:
+            return done(F_TOLERANCE, x)
+        best = xa if abs(fa) < abs(fb) else xb
+        if hi - lo <= xtol_ + rtol_ * abs(best):
+            return done(X_TOLERANCE, best)
+        if illinois_rule or fallback:
+            # Illinois: both ends move, so the bracket width alone decides. After a
+            # midpoint step the chord-step history says nothing: start it again.
+            if fallback:
+                previous = previous_step = previous_ratio = None
+            continue
+        if previous is not None:
+            step = abs(x - previous)
+            if previous_step is not None:
+                ratio = step / previous_step
+                # Linear convergence with ratio c leaves an error of about c/(1-c) times
+                # the last step. Take the worse of the last two ratios, so one short step
+                # after a long one (a flat stretch of f) is not taken for convergence,
+                # and never accept less than the step itself.
+                c = ratio if previous_ratio is None else max(ratio, previous_ratio)
+                if previous_ratio is not None and c < 1.0:
+                    error = step * max(1.0, c / (1.0 - c))
+                    if error <= xtol_ + rtol_ * abs(x):
+                        return done(X_TOLERANCE, best)
+                previous_ratio = ratio
+            previous_step = step
+        previous = x
+
+
+@_quiet
+def false_position(
+    f: Function,
+    a: float,
+    b: float,
+    *,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+) -> Run:
+    """Plain false position (regula falsi) on the bracket [a, b].
+
+    Each iterate is where the chord through the bracket ends crosses zero; the end of
+    the same sign is replaced. On a convex or concave f one end never moves, so the
+    convergence is linear (order 1) and can be slow; users should see this.
+    Stops when the bracket width ``<= xtol + rtol*|x|`` or when the step between two
+    successive interpolated iterates ``|x_k - x_{k-1}| <= xtol + rtol*|x_k|``
+    (see the module notes: the true error can exceed that step). Returns the bracket
+    end of smaller |f|.
+    """
+    return _regula_falsi("false_position", False, f, a, b, xtol, rtol, ftol, max_iter)
+
+
+@_quiet
+def illinois(
+    f: Function,
+    a: float,
+    b: float,
+    *,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+) -> Run:
+    """Illinois-modified false position on the bracket [a, b] (Dowell & Jarratt, 1971).
+
+    As false position, but whenever the same end is retained again its f value is
+    halved for the next interpolation, so both ends move and the order is ~1.44.
+    Same stopping rules as :func:`false_position`.
+    """
+    return _regula_falsi("illinois", True, f, a, b, xtol, rtol, ftol, max_iter)
+
+
+@_quiet
+def brent(
+    f: Function,
+    a: float,
+    b: float,
+    *,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+) -> Run:
+    """Brent's method on the bracket [a, b] (R. P. Brent, *Algorithms for Minimization
+    without Derivatives*, 1973, ch. 4, procedure ``zero``).
+
+    Keeps a bracket [b, c] with |f(b)| <= |f(c)|, and takes an inverse quadratic (or
+    secant) step from b when it is short enough, else bisects, so it never needs more
+    than about twice bisection's evaluations and is superlinear on smooth f. The
+    arithmetic follows the form used in scipy's ``brentq`` (divided differences for
+    the interpolation), which is the reference it is benchmarked against.
+    Stops when the bracket width ``|c - b| <= xtol + rtol*|b|``; the smallest step
+    taken is ``(xtol + rtol*|b|)/2``. Returns b, the bracket end of smaller |f|.
+    """
+    settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
+    ev = _Evaluator(f)
+    steps: list[Step] = []
+    start = _start_bracket("brent", ev, a, b, settings, steps)
+    if isinstance(start, Run):
+        return start
+    xtol_, rtol_, ftol_, cap = (settings[n] for n in ("xtol", "rtol", "ftol", "max_iter"))
+
+    # b: the best point so far; a: the previous b; c: the contrapoint (sign opposite to b).
+    # d: the step just taken, e: the one before it (Brent's names).
+    xa, fa = start.a, start.fa
+    xb, fb = start.b, start.fb
+    xc, fc = xa, fa
+    d = e = xb - xa
+    last = xb
+    iterations = 0
+
+    def done(reason: str, root: float, detail: str = "") -> Run:
+        return _finish("brent", reason, root, steps, iterations, ev.calls, settings, detail)
+
+    while True:
+        if abs(fc) < abs(fb):
+            # Make b the better end; a follows the old b so the next step interpolates.
+            xa, fa = xb, fb
+            xb, fb = xc, fc
+            xc, fc = xa, fa
+        half_tol = 0.5 * (xtol_ + rtol_ * abs(xb))
+        m = 0.5 * (xc - xb)
+        if abs(m) <= half_tol:
+            return done(X_TOLERANCE, xb)
+        if iterations >= cap:
+            return done(MAX_ITERATIONS, xb)
+
+        if abs(e) > half_tol and abs(fb) < abs(fa):
+            if xa == xc:
+                # Two distinct points only: secant step.
+                s = -fb * (xb - xa) / (fb - fa)
+            else:
+                # Inverse quadratic interpolation through a, b, c.
+                slope_a = (fa - fb) / (xa - xb)
+                slope_c = (fc - fb) / (xc - xb)
+                s = -fb * (fc * slope_c - fa * slope_a) / (slope_c * slope_a * (fc - fa))
+            # Accept only a step well inside the bracket and shrinking fast enough.
+            if 2.0 * abs(s) < min(abs(e), 3.0 * abs(m) - half_tol):
+                e, d = d, s
+            else:
+                e = d = m
+        else:
+            e = d = m
+
+        xa, fa = xb, fb
+        if abs(d) > half_tol:
+            xb += d
+        else:
+            xb += half_tol if m > 0 else -half_tol
+        fb = ev(xb)
+        iterations += 1
+        if math.isfinite(fb) and fb != 0.0 and not _same_sign(fb, fa):
+            # The root now lies between the new b and the old b: a becomes the contrapoint.
+            xc, fc = xa, fa
+            e = d = xb - xa
+        lo, hi = (xb, xc) if xb < xc else (xc, xb)
+        steps.append(Step(iterations + 1, xb, fb, None, xb - last, lo, hi))
+        last = xb
+        if not math.isfinite(fb):
+            return done(NOT_FINITE, xa, _not_finite_detail(ev, xb, fb))
+        if fb == 0.0:
+            return done(EXACT_ZERO, xb)
+        if abs(fb) <= ftol_:
+            return done(F_TOLERANCE, xb)
+
+
+# --------------------------------------------------------------------------- dispatch
+
+
+@dataclass(frozen=True)
+class MethodSpec:
+    """One entry of :data:`METHODS`.
+
+    ``kind`` says which start values the method needs: "open" (x0), "two_point"
+    (x0 and x1) or "bracket" (a and b).
+    """
+
+    name: str
+    label: str
+    function: Callable[..., Run]
+    kind: str
+
+
+METHODS: dict[str, MethodSpec] = {
+    "newton": MethodSpec("newton", LABELS["newton"], newton, "open"),
+    "secant": MethodSpec("secant", LABELS["secant"], secant, "two_point"),
+    "false_position": MethodSpec(
+        "false_position", LABELS["false_position"], false_position, "bracket"
+    ),
+    "illinois": MethodSpec("illinois", LABELS["illinois"], illinois, "bracket"),
+    "bisection": MethodSpec("bisection", LABELS["bisection"], bisection, "bracket"),
+    "brent": MethodSpec("brent", LABELS["brent"], brent, "bracket"),
+}
+
+
+def _need(value: Any, what: str, name: str) -> Any:
+    if value is None:
+        raise ValueError(f"method {name!r} needs {what}")
+    return value
+
+
+def _call_open(spec, f, fprime, x0, x1, bracket, newton_options, tol) -> Run:
+    return spec.function(
+        f, _need(x0, "a starting value x0", spec.name), fprime=fprime, **newton_options, **tol
+    )
+
+
+def _call_two_point(spec, f, fprime, x0, x1, bracket, newton_options, tol) -> Run:
+    return spec.function(
+        f,
+        _need(x0, "a starting value x0", spec.name),
+        _need(x1, "a second starting value x1", spec.name),
+        **tol,
+    )
+
+
+def _call_bracket(spec, f, fprime, x0, x1, bracket, newton_options, tol) -> Run:
+    lo, hi = _need(bracket, "a bracket (a, b)", spec.name)
+    return spec.function(f, lo, hi, **tol)
+
+
+_CALLERS = {"open": _call_open, "two_point": _call_two_point, "bracket": _call_bracket}
+
+
+def run_method(
+    name: str,
+    f: Function,
+    *,
+    fprime: Function | None = None,
+    x0: float | None = None,
+    x1: float | None = None,
+    bracket: tuple[float, float] | None = None,
+    damping: float = 1.0,
+    derivative_source: str | None = None,
+    **tol: Any,
+) -> Run:
+    """Run method ``name`` (a key of :data:`METHODS`) with the start values its kind needs.
+
+    ``fprime``, ``damping`` and ``derivative_source`` reach Newton only; ``tol`` holds
+    xtol, rtol, ftol, max_iter. Raises ValueError for an unknown method or a missing
+    start value (a caller's error); f misbehaving is recorded in the Run as usual.
+    """
+    spec = METHODS.get(name)
+    if spec is None:
+        raise ValueError(f"unknown method {name!r}; choose from {', '.join(METHODS)}")
+    newton_options = {"damping": damping, "derivative_source": derivative_source}
+    return _CALLERS[spec.kind](spec, f, fprime, x0, x1, bracket, newton_options, tol)
