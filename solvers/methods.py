@@ -20,13 +20,21 @@ What "step" means:
 * Newton and secant: ``dx = x_k - x_{k-1}``, the step just taken.
 * Bisection and Brent: the width of the bracket held, ``hi - lo``, tested against
   ``xtol + rtol*|x|`` with x the bracket end of smaller ``|f|`` (the root returned).
-* False position and Illinois: the bracket width as above, **or** the step between
-  two successive interpolated iterates ``|x_k - x_{k-1}|`` (both produced by the
-  method, never a starting end). Plain false position usually keeps one end fixed, so
-  its bracket does not shrink to zero; the step test is what stops it. Its
-  convergence is linear with some ratio c, and the true error is then about
-  ``c/(1-c)`` times the last step: larger than the step when c > 1/2. The observed
-  order (``Run.order`` ~ 1) shows this to the user.
+* Illinois: the bracket width as above (the Illinois rule moves both ends, so the
+  bracket shrinks to the root).
+* False position (plain regula falsi) usually keeps one end fixed, so its bracket does
+  not shrink to zero; it also stops on the steps between successive interpolated
+  iterates (never a starting end). It converges linearly with some ratio c, leaving
+  an error of about ``c/(1-c)`` times the last step, so the test is
+  ``|x_k - x_{k-1}| * max(1, c/(1-c)) <= xtol + rtol*|x_k|`` with
+  ``c = max(c_k, c_{k-1})``, ``c_k = |x_k - x_{k-1}| / |x_{k-1} - x_{k-2}|``, and only
+  while c < 1. Taking the worse of two ratios stops one short step on a flat
+  stretch of f from passing for convergence. The observed order (``Run.order`` ~ 1)
+  shows the linear convergence to the user.
+* False position and Illinois: when rounding puts the chord's zero on (or outside) a
+  bracket end, which happens beside a pole or a steep exponential where one end's
+  |f| is enormous, the iterate is the bracket midpoint instead (said in the
+  message), so the method cannot stall; the chord-step history then starts again.
 
 Stop order after each new iterate: non-finite f -> ``not_finite``; ``f == 0`` ->
 ``exact_zero``; ``|f| <= ftol`` -> ``f_tolerance``; step test -> ``x_tolerance``;
@@ -728,10 +736,9 @@ def false_position(
     Each iterate is where the chord through the bracket ends crosses zero; the end of
     the same sign is replaced. On a convex or concave f one end never moves, so the
     convergence is linear (order 1) and can be slow; users should see this.
-    Stops when the bracket width ``<= xtol + rtol*|x|`` or when the step between two
-    successive interpolated iterates ``|x_k - x_{k-1}| <= xtol + rtol*|x_k|``
-    (see the module notes: the true error can exceed that step). Returns the bracket
-    end of smaller |f|.
+    Stops when the bracket width ``<= xtol + rtol*|x|``, or when the linear-convergence
+    error estimate from the last chord steps is (module notes give the exact rule).
+    Returns the bracket end of smaller |f|.
     """
     return _regula_falsi("false_position", False, f, a, b, xtol, rtol, ftol, max_iter)
 
@@ -751,7 +758,8 @@ def illinois(
 
     As false position, but whenever the same end is retained again its f value is
     halved for the next interpolation, so both ends move and the order is ~1.44.
-    Same stopping rules as :func:`false_position`.
+    Stops when the bracket width ``hi - lo <= xtol + rtol*|x|`` with x the end of
+    smaller |f| (returned as the root).
     """
     return _regula_falsi("illinois", True, f, a, b, xtol, rtol, ftol, max_iter)
 

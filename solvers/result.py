@@ -135,34 +135,41 @@ class Run:
         }
 
 
-def observed_order(run: Run) -> float | None:
-    """Estimate the order of convergence p from the last iterates.
+MIN_OBSERVED_ORDER = 0.8
 
-    Uses the errors e_k = |x_k - root| of the last few iterates and
-    p ~ log(e_{k+1}/e_k) / log(e_k/e_{k-1}) (the usual computational estimate),
-    taken where the errors are still well above rounding level. Returns ``None``
-    when the run has too few usable iterates (fewer than three distinct errors
-    above 1e3 ulps of the root), since an order computed from rounding noise would
-    mislead. Roughly 2 means quadratic (Newton on a simple root), ~1.6 the
-    secant's superlinear rate, ~1 linear (false position, bisection, multiple roots).
+
+def observed_order(run: Run) -> float | None:
+    """Estimate the order of convergence p from the steps of the last iterates.
+
+    Uses the step lengths s_k = |x_k - x_{k-1}| (``Step.dx``; starting points have
+    none) and p ~ log(s_{k+1}/s_k) / log(s_k/s_{k-1}) over the last three. For a
+    converging sequence the steps shrink as the errors do (superlinear: s_{k+1} ~ e_k;
+    linear with ratio c: s_{k+1} = c*s_k exactly as e_{k+1} = c*e_k), so no root is
+    needed. Errors measured against the final iterate instead would be biased
+    upwards for slow linear convergence (ratio 0.9 reads as p ~ 1.6).
+    Trailing steps at rounding level (at most 1e3 ulps of the root) are dropped,
+    since an order computed from rounding noise would mislead. Returns ``None``
+    when fewer than three usable steps remain, when they do not shrink strictly
+    (a run that is not converging has no order), or when the estimate is below
+    ``MIN_OBSERVED_ORDER`` (0.8): no converging method has an order below 1, so such
+    a value only reflects an irregular step pattern (Illinois's halved-end steps,
+    Brent switching between bisection and interpolation) and would mislead.
+    Roughly 2 means quadratic (Newton on a simple root), ~1.6 the secant's
+    superlinear rate, ~1 linear (false position, bisection, damped Newton, Newton
+    on a multiple root).
     """
     if not run.steps or not math.isfinite(run.root):
         return None
-    root = run.root
-    floor = 1e3 * math.ulp(root) if root != 0 else 1e-300
-    xs = [s.x for s in run.steps if s.dx is not None or s.k == 0]
-    errors = [abs(x - root) for x in xs if math.isfinite(x)]
-    usable = [e for e in errors if e > floor]
-    if len(usable) < 3:
+    floor = 1e3 * math.ulp(run.root)
+    sizes = [abs(s.dx) for s in run.steps if s.dx is not None and math.isfinite(s.dx)]
+    while sizes and sizes[-1] <= floor:
+        sizes.pop()
+    if len(sizes) < 3:
         return None
-    e0, e1, e2 = usable[-3:]
-    try:
-        denominator = math.log(e1 / e0)
-        if denominator == 0 or not math.isfinite(denominator):
-            return None
-        p = math.log(e2 / e1) / denominator
-    except (ValueError, ZeroDivisionError):
+    s0, s1, s2 = sizes[-3:]
+    if not s0 > s1 > s2 > floor:
         return None
-    if not math.isfinite(p) or p <= 0:
+    p = math.log(s2 / s1) / math.log(s1 / s0)
+    if not math.isfinite(p) or p < MIN_OBSERVED_ORDER:
         return None
     return p
