@@ -1,19 +1,932 @@
-"""STUB: being written (range scan)."""
+"""Every root of f on [a, b]: locate, classify, refine, cross-check.
+
+How a scan works
+----------------
+1. **Sample** f (vectorised) at ``samples`` equally spaced points, in chunks of
+   ``CHUNK`` points so memory stays bounded for any sample count. Between chunks
+   ``progress(fraction)`` is called and ``cancel()`` polled. Each chunk yields only
+   *candidates*: sign changes between neighbouring samples, samples where f is
+   exactly 0, local minima of |f| that may touch zero, and edges between defined
+   and undefined (NaN) samples. Windows where f oscillates faster than the sampling
+   resolves are resampled 8x finer (twice at most) before candidates are taken.
+2. **Classify** each sign change by bisecting all brackets at once (vectorised):
+   |f| at both bracket ends falling to 1e-3 of its start means a root; |f| growing
+   1000-fold (or steadily, like a logarithm) means a **pole**; |f| staying put
+   down to adjacent floats means a **discontinuity** (a jump). Poles and jumps are
+   never reported as roots.
+3. **Refine** each root with the project's Brent (:func:`solvers.methods.brent`,
+   rtol = 4 eps, xtol = 1e-3 eps max(|a|, |b|)) from its narrowed bracket, then one
+   Newton step with ``fprime`` when given and it lowers |f|.
+4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
+   that a parabola through the three samples says dips at least 10 % toward zero is
+   searched by a vectorised golden-section minimisation of |f|. If the search finds
+   the opposite sign, two close roots were hidden between samples: both brackets go
+   to step 2 (close roots are resolved, not merged). Otherwise the minimum is a
+   root when |f| there is at rounding-noise level (no more than 16x the scatter of
+   f over a few ulps around it) or below 1e-14 of |f| at the neighbouring samples;
+   with ``fprime`` the touch point is then refined by Brent on f'.
+5. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
+   log d for d halving from the sample spacing (or 0.3 of the distance to the
+   next feature) down to the noise level, rounded to the integer of the right
+   parity (odd for a sign change, even for a touch).
+6. **Domains**: runs of undefined samples are **gaps**; their edges are located
+   by bisection. A domain edge where f tends to 0 (sqrt(x) at 0, sqrt(1 - x^2) at
+   +/-1) is reported as a root at the last defined point, confirmed
+   "domain edge"; one where |f| grows without bound (ln x at 0) is a pole.
+7. **Cross-check** (``cross_check=True``): the Chebyshev proxy rootfinder of
+   :mod:`solvers.chebyshev` runs independently on the smooth parts. Roots both
+   found list ``located_by=("sampling", "chebyshev")``; a proxy root the sampling
+   missed is confirmed locally and added (``located_by=("chebyshev",)``) or, when it
+   cannot be confirmed, reported in ``warnings``, as is a sampled root on a smooth
+   piece the proxy did not see.
+
+f must take and return numpy arrays. It may return NaN/inf where it is undefined;
+if it raises, the points are treated as undefined (evaluated one by one so the
+defined ones survive). Floating-point warnings are suppressed during the scan.
+"""
+
 from __future__ import annotations
+
+import math
+import warnings as _warnings
+from collections.abc import Callable
 from dataclasses import dataclass, field
+
+import numpy as np
+
+from solvers.chebyshev import ChebyshevRoots, chebyshev_roots
+from solvers.methods import brent
+from solvers.result import Run
+
+__all__ = [
+    "CHUNK",
+    "DEFAULT_SAMPLES",
+    "Root",
+    "Scan",
+    "ScanCancelled",
+    "scan",
+]
+
+DEFAULT_SAMPLES = 2001  # base samples when ``samples`` is None (adaptive refinement on top)
+CHUNK = 65536  # samples evaluated per f call in the sampling pass (bounds memory)
+EPS = float(np.finfo(float).eps)
+_WINDOW = 32  # samples per window in the oscillation check
+_MAX_EXTREMA = 8  # more extrema of f per window than this: resample the window finer
+_RESAMPLE = 8  # refinement factor for an under-resolved window
+_MAX_LEVEL = 2  # at most 64x the base density
+
+
+class ScanCancelled(Exception):
+    """Raised by :func:`scan` when ``cancel()`` returned True."""
 
 
 @dataclass(frozen=True)
 class Root:
+    """One root of f. ``residual`` is f(x). ``confirmed`` says how it was confirmed,
+    ``located_by`` which locator(s) found it ("sampling", "chebyshev"). ``bracket`` is the
+    sign-change bracket Brent refined (None for touches and edges); ``run`` is that Brent
+    run (or Brent on f' for a touch), None when no Brent run produced the root."""
+
     x: float
     residual: float
     multiplicity: int = 1
+    confirmed: str = ""
+    located_by: tuple[str, ...] = ("sampling",)
+    bracket: tuple[float, float] | None = None
+    run: Run | None = None
 
 
 @dataclass(frozen=True)
 class Scan:
-    roots: list = field(default_factory=list)
-    poles: list = field(default_factory=list)
+    """Everything found on [a, b]. Lists are sorted by x.
+
+    ``gaps``: (start, end) intervals where f is undefined (NaN), ends located to
+    about one ulp. ``samples``: f evaluations in the sampling pass (base grid plus
+    refined windows). ``cross_checked``: pieces where the Chebyshev proxy ran (f
+    smooth there); ``chebyshev_roots``: the real zeros it located.
+    """
+
+    a: float
+    b: float
+    roots: list[Root] = field(default_factory=list)
+    poles: list[float] = field(default_factory=list)
+    discontinuities: list[float] = field(default_factory=list)
+    gaps: list[tuple[float, float]] = field(default_factory=list)
+    warnings: list[str] = field(default_factory=list)
+    samples: int = 0
+    cross_checked: list[tuple[float, float]] = field(default_factory=list)
+    chebyshev_roots: list[float] = field(default_factory=list)
 
 
-def scan(f, a, b, *, fprime=None, **kw): raise NotImplementedError
+# ----------------------------------------------------------------------------- evaluation
+
+
+def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
+    arr = np.asarray(y)
+    if np.iscomplexobj(arr):
+        arr = np.where(arr.imag == 0, arr.real, np.nan)
+    try:
+        arr = np.asarray(arr, dtype=float)
+    except (TypeError, ValueError):
+        return np.full(shape, np.nan)
+    if arr.shape != shape:
+        try:
+            arr = np.broadcast_to(arr, shape).copy()
+        except ValueError:
+            return np.full(shape, np.nan)
+    return arr
+
+
+class _Guarded:
+    """f made total: arrays in, float arrays out, NaN where f raised or is complex."""
+
+    def __init__(self, f: Callable, cancel: Callable[[], bool] | None):
+        self.f = f
+        self.cancel = cancel
+        self.calls = 0
+
+    def check(self) -> None:
+        if self.cancel is not None and self.cancel():
+            raise ScanCancelled("scan cancelled")
+
+    def __call__(self, x: np.ndarray) -> np.ndarray:
+        x = np.asarray(x, dtype=float)
+        self.calls += 1
+        try:
+            return _as_real(self.f(x), x.shape)
+        except Exception:  # f raised: evaluate pointwise so the defined points survive
+            out = np.full(x.shape, np.nan)
+            flat = out.reshape(-1)
+            for i, xi in enumerate(x.reshape(-1)):
+                flat[i] = self.scalar(float(xi))
+            return out
+
+    def scalar(self, x: float) -> float:
+        """f at one point as a float (NaN when undefined, complex or raising)."""
+        for arg in (x, None):
+            try:
+                y = self.f(x) if arg is not None else self.f(np.array([x]))
+            except Exception:
+                continue
+            try:
+                if np.iscomplexobj(y):
+                    z = complex(np.asarray(y).reshape(-1)[0])
+                    return z.real if z.imag == 0 else math.nan
+                return float(np.asarray(y, dtype=float).reshape(-1)[0])
+            except (TypeError, ValueError, IndexError):
+                return math.nan
+        return math.nan
+
+
+# ----------------------------------------------------------------------------- sampling
+
+
+@dataclass
+class _Candidates:
+    brackets: list[tuple[float, float, float, float]] = field(default_factory=list)
+    zeros: list[tuple[float, int]] = field(default_factory=list)  # (x, +1 odd / 0 even / -1 ?)
+    minima: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
+    edges: list[tuple[float, float, int]] = field(default_factory=list)  # (undef x, def x, side)
+    inf_points: list[float] = field(default_factory=list)
+    flat: list[tuple[float, float]] = field(default_factory=list)
+    first_defined: bool = True
+    last_defined: bool = True
+    unresolved: list[tuple[float, float]] = field(default_factory=list)
+    samples: int = 0
+
+
+def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) -> None:
+    """Append candidates whose anchor index i lies in [lo, hi) of the arrays x, y.
+
+    Sign changes and edges are anchored at the left sample of the pair (i, i+1);
+    zeros and minima at the centre sample i (which needs i-1 and i+1 to exist).
+    """
+    n = len(x)
+    fin = np.isfinite(y)
+    dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
+    # pairs (i, i+1)
+    i = np.arange(lo, min(hi, n - 1))
+    if len(i):
+        yl, yr = y[i], y[i + 1]
+        both = fin[i] & fin[i + 1]
+        sc = both & (yl * yr < 0)
+        for k in i[sc]:
+            out.brackets.append((float(x[k]), float(x[k + 1]), float(y[k]), float(y[k + 1])))
+        edge = dfn[i] != dfn[i + 1]
+        for k in i[edge]:
+            if dfn[k]:
+                out.edges.append((float(x[k + 1]), float(x[k]), -1))  # defined on the left
+            else:
+                out.edges.append((float(x[k]), float(x[k + 1]), +1))  # defined on the right
+    # centres i with neighbours
+    c = np.arange(max(lo, 1), min(hi, n - 1))
+    if len(c):
+        yc, yl, yr = y[c], y[c - 1], y[c + 1]
+        isinf = np.isinf(yc) & fin[c - 1] & fin[c + 1]
+        for k in c[isinf]:
+            out.inf_points.append(float(x[k]))
+        z = (yc == 0) & fin[c - 1] & fin[c + 1]
+        for k in c[z]:
+            if y[k - 1] == 0 or y[k + 1] == 0:
+                out.flat.append((float(x[k - 1]), float(x[k + 1])))
+            else:
+                out.zeros.append((float(x[k]), 1 if y[k - 1] * y[k + 1] < 0 else 0))
+        ac, al, ar = np.abs(yc), np.abs(yl), np.abs(yr)
+        ok = fin[c] & fin[c - 1] & fin[c + 1] & (yc != 0)
+        same = ok & (yc * yl > 0) & (yc * yr > 0)
+        mins = same & (ac <= al) & (ac <= ar) & ((ac < al) | (ac < ar))
+        if np.any(mins):
+            k = c[mins]
+            # parabola through the three samples: keep if it dips at least 10% toward zero
+            h1, h2 = x[k] - x[k - 1], x[k + 1] - x[k]
+            s = np.sign(y[k])
+            d1 = (s * y[k] - s * y[k - 1]) / h1
+            d2 = (s * y[k + 1] - s * y[k]) / h2
+            curv = (d2 - d1) / (0.5 * (h1 + h2))
+            slope = 0.5 * (d1 + d2)
+            with np.errstate(all="ignore"):
+                vertex = s * y[k] - np.where(curv > 0, slope**2 / (2 * curv), np.inf)
+            keep = vertex <= 0.9 * s * y[k]
+            for j in np.nonzero(keep)[0]:
+                kk = k[j]
+                out.minima.append(
+                    (float(x[kk - 1]), float(x[kk]), float(x[kk + 1]),
+                     float(y[kk - 1]), float(y[kk]), float(y[kk + 1]))
+                )
+    # endpoint zeros / near-zero ends are handled by the caller via ``_ends``.
+
+
+def _underresolved(y: np.ndarray) -> np.ndarray:
+    """Indices of windows (of _WINDOW samples) where f has too many extrema."""
+    n = len(y)
+    if n < 3 * _WINDOW:
+        return np.zeros(0, dtype=int)
+    d = np.diff(y)
+    with np.errstate(invalid="ignore"):
+        turn = (d[1:] * d[:-1]) < 0
+    nwin = (len(turn)) // _WINDOW
+    counts = turn[: nwin * _WINDOW].reshape(nwin, _WINDOW).sum(axis=1)
+    return np.nonzero(counts > _MAX_EXTREMA)[0]
+
+
+def _sample_grid(
+    g: _Guarded,
+    a: float,
+    b: float,
+    n: int,
+    out: _Candidates,
+    level: int,
+    progress: Callable[[float], None] | None,
+    frac: tuple[float, float],
+) -> None:
+    """Sample n equally spaced points on [a, b] in chunks and collect candidates."""
+    h = (b - a) / (n - 1)
+    start = 0
+    while start < n:
+        g.check()
+        stop = min(n, start + CHUNK)
+        lo_idx, hi_idx = max(start - 1, 0), min(stop + 1, n)
+        idx = np.arange(lo_idx, hi_idx)
+        x = a + idx * h
+        if hi_idx == n:
+            x[-1] = b
+        y = g(x)
+        out.samples += stop - start
+        if start == 0:
+            out.first_defined = not bool(np.isnan(y[0]))
+        if stop == n:
+            out.last_defined = not bool(np.isnan(y[-1]))
+        offset = start - lo_idx
+        windows = _underresolved(y) if level < _MAX_LEVEL else np.zeros(0, dtype=int)
+        if len(windows):
+            # resample under-resolved windows finer; detect outside them on this grid
+            spans = []
+            for w in windows:
+                w0, w1 = w * _WINDOW, (w + 1) * _WINDOW + 1
+                if spans and spans[-1][1] >= w0:
+                    spans[-1] = (spans[-1][0], w1)
+                else:
+                    spans.append((w0, w1))
+            cursor = offset
+            for w0, w1 in spans:
+                w0c, w1c = max(w0, offset), min(w1, offset + stop - start + 1, len(x) - 1)
+                if w0c >= w1c:
+                    continue
+                if cursor < w0c:
+                    _detect(x, y, cursor, w0c, out)
+                sub_n = (w1c - w0c) * _RESAMPLE + 1
+                _sample_grid(g, float(x[w0c]), float(x[w1c]), sub_n, out, level + 1, None, frac)
+                cursor = w1c
+            if cursor < offset + (stop - start):
+                _detect(x, y, cursor, offset + (stop - start), out)
+        else:
+            _detect(x, y, offset, offset + (stop - start), out)
+            if level == _MAX_LEVEL and _underresolved_any(y):
+                out.unresolved.append((float(x[0]), float(x[-1])))
+        if progress is not None:
+            progress(frac[0] + (frac[1] - frac[0]) * stop / n)
+        start = stop
+
+
+def _underresolved_any(y: np.ndarray) -> bool:
+    return len(_underresolved(y)) > 0
+
+
+# ----------------------------------------------------------------------------- classification
+
+_ROOT, _POLE, _JUMP, _UNDEF = 1, 2, 3, 4
+
+
+def _classify(g: _Guarded, br: np.ndarray, xtol: float):
+    """Bisect all sign-change brackets at once and say root / pole / jump / undefined.
+
+    br has rows (lo, hi, f(lo), f(hi)). Returns (kind, lo, hi, flo, fhi) arrays; for roots
+    the bracket is narrowed only until the decision (Brent does the rest), for poles and
+    jumps down to adjacent floats.
+    """
+    lo, hi, flo, fhi = (br[:, j].astype(float).copy() for j in range(4))
+    k = len(lo)
+    g0 = np.maximum(np.abs(flo), np.abs(fhi))
+    kind = np.zeros(k, dtype=int)
+    history = [np.minimum(np.abs(flo), np.abs(fhi))]
+    for _ in range(1100):
+        act = np.nonzero(kind == 0)[0]
+        if len(act) == 0:
+            break
+        g.check()
+        mid = 0.5 * (lo[act] + hi[act])
+        fm = g(mid)
+        if np.any(np.isnan(fm)):  # an isolated undefined point (0 * inf at a pole): step aside
+            bad = np.isnan(fm)
+            mid[bad] = lo[act][bad] + 0.381966 * (hi[act][bad] - lo[act][bad])
+            fm[bad] = g(mid[bad])
+        narrow = (mid <= lo[act]) | (mid >= hi[act]) | (hi[act] - lo[act] <= xtol)
+        inf = np.isinf(fm)
+        nan = np.isnan(fm)
+        kind[act[inf]] = _POLE
+        lo[act[inf]] = hi[act[inf]] = mid[inf]
+        # still undefined after stepping aside: at float resolution that is the singular
+        # point itself (decided below like a narrow bracket), otherwise a hole in the domain
+        tight = (hi[act] - lo[act]) <= 1e-9 * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol
+        kind[act[nan & ~tight]] = _UNDEF
+        narrow = narrow | (nan & tight)
+        zero = fm == 0
+        kind[act[zero]] = _ROOT
+        lo[act[zero]] = hi[act[zero]] = mid[zero]
+        flo[act[zero]] = fhi[act[zero]] = 0.0
+        go = ~(inf | nan | zero)
+        narrow_nan = act[nan & tight]
+        ia = act[go]
+        left = np.sign(fm[go]) == np.sign(flo[ia])
+        lo[ia[left]], flo[ia[left]] = mid[go][left], fm[go][left]
+        hi[ia[~left]], fhi[ia[~left]] = mid[go][~left], fm[go][~left]
+        big = np.maximum(np.abs(flo[ia]), np.abs(fhi[ia]))
+        kind[ia[big <= 1e-3 * g0[ia]]] = _ROOT
+        cur = np.minimum(np.abs(flo), np.abs(fhi))
+        history.append(cur.copy())
+        done = np.concatenate([ia[narrow[go] & (kind[ia] == 0)], narrow_nan])
+        if len(done):
+            past = history[max(0, len(history) - 21)][done]
+            grows = cur[done] >= 1.2 * past
+            steady = np.ones(len(done), dtype=bool)
+            for h0, h1 in zip(history[-21:-1], history[-20:], strict=False):
+                steady &= h1[done] >= h0[done]
+            huge = cur[done] >= 1e3 * g0[done]
+            kind[done] = np.where((grows & steady) | huge, _POLE, _JUMP)
+            # a continuous function at float resolution: both ends at noise level
+            tiny = np.maximum(np.abs(flo[done]), np.abs(fhi[done])) <= 1e-3 * g0[done]
+            kind[done[tiny]] = _ROOT
+    kind[kind == 0] = _JUMP
+    return kind, lo, hi, flo, fhi
+
+
+def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float):
+    """Vectorised golden-section minimisation of sign*f on each [lo, hi].
+
+    Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
+    opposite sign (then xbest is that point: two roots straddle it).
+    """
+    r = (math.sqrt(5) - 1) / 2
+    lo, hi = lo.copy(), hi.copy()
+    c = hi - r * (hi - lo)
+    d = lo + r * (hi - lo)
+    fc, fd = sign * g(c), sign * g(d)
+    xbest = np.where(fc <= fd, c, d)
+    fbest = np.minimum(fc, fd)
+    crossed = fbest < 0
+    active = ~crossed & np.isfinite(fbest)
+    for _ in range(120):
+        act = np.nonzero(active)[0]
+        if len(act) == 0:
+            break
+        g.check()
+        left = fc[act] <= fd[act]  # minimum in [lo, d]
+        il, ir = act[left], act[~left]
+        hi[il], d[il], fd[il] = d[il], c[il], fc[il]
+        c[il] = hi[il] - r * (hi[il] - lo[il])
+        lo[ir], c[ir], fc[ir] = c[ir], d[ir], fd[ir]
+        d[ir] = lo[ir] + r * (hi[ir] - lo[ir])
+        newx = np.empty(len(act))
+        newx[left] = c[il]
+        newx[~left] = d[ir]
+        fn = sign[act] * g(newx)
+        fc[il] = fn[left]
+        fd[ir] = fn[~left]
+        better = fn < fbest[act]
+        xbest[act[better]] = newx[better]
+        fbest[act[better]] = fn[better]
+        crossed[act] |= fn < 0
+        width = hi[act] - lo[act]
+        stop = (
+            crossed[act]
+            | ~np.isfinite(fn)
+            | (width <= 4 * EPS * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
+        )
+        active[act[stop]] = False
+    return xbest, sign * fbest, crossed
+
+
+def _near_values(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
+    """f at x and at a few ulps either side, shape (len(x), 7)."""
+    step = 2 * EPS * np.maximum(np.abs(x), scale)
+    offsets = np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
+    pts = x[:, None] + step[:, None] * offsets[None, :]
+    return g(pts.reshape(-1)).reshape(pts.shape)
+
+
+def _noise(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
+    """Spread of f over a few ulps around each x: how far rounding moves f there.
+
+    At a genuine zero f is noise and its values a few ulps apart differ by about
+    their own size; at a positive minimum they all agree to many digits.
+    """
+    vals = _near_values(g, x, scale)
+    with np.errstate(all="ignore"):
+        return np.nanmax(vals, axis=1) - np.nanmin(vals, axis=1)
+
+
+def _floor(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
+    """Largest |f| within a few ulps of each root: the level where f is rounding noise."""
+    vals = _near_values(g, x, scale)
+    with np.errstate(all="ignore"):
+        return np.nanmax(np.abs(vals), axis=1)
+
+
+def _multiplicity(
+    g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
+) -> np.ndarray:
+    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``."""
+    if len(x) == 0:
+        return np.zeros(0, dtype=int)
+    j = np.arange(28)
+    d = reach[:, None] * 2.0 ** (-j[None, :])
+    pts = np.concatenate([x[:, None] + d, x[:, None] - d], axis=1)
+    vals = np.abs(g(pts.reshape(-1)).reshape(pts.shape))
+    fp, fm = vals[:, : len(j)], vals[:, len(j):]
+    floor = _floor(g, x, scale)
+    with np.errstate(all="ignore"):
+        valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
+        logf = 0.5 * (np.log(fp) + np.log(fm))
+        slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(2.0)
+    pair = valid[:, :-1] & valid[:, 1:]
+    out = np.zeros(len(x), dtype=int)
+    for i in range(len(x)):
+        s = slopes[i][pair[i]]
+        est = float(np.median(s[-4:])) if len(s) else (1.0 if odd[i] else 2.0)
+        m = max(1, int(round(est)))
+        if (m % 2 == 1) != bool(odd[i]):
+            m = m + 1 if est >= m or m == 1 else m - 1
+            m = max(1 if odd[i] else 2, m)
+        out[i] = min(m, 12)
+    return out
+
+
+# ----------------------------------------------------------------------------- the scan
+
+
+@dataclass
+class _Found:
+    x: float
+    odd: bool
+    how: str
+    bracket: tuple[float, float] | None = None
+    run: Run | None = None
+    located_by: tuple[str, ...] = ("sampling",)
+
+
+def _check_range(a: float, b: float) -> tuple[float, float]:
+    try:
+        a, b = float(a), float(b)
+    except (TypeError, ValueError) as exc:
+        raise ValueError(f"scan range must be two numbers, got a={a!r}, b={b!r}") from exc
+    if not (math.isfinite(a) and math.isfinite(b)):
+        raise ValueError(f"scan range must be finite, got [{a}, {b}]")
+    if not a < b:
+        raise ValueError(f"scan range needs a < b, got [{a}, {b}]")
+    return a, b
+
+
+def scan(
+    f: Callable[[np.ndarray], np.ndarray],
+    a: float,
+    b: float,
+    *,
+    fprime: Callable[[np.ndarray], np.ndarray] | None = None,
+    samples: int | None = None,
+    progress: Callable[[float], None] | None = None,
+    cancel: Callable[[], bool] | None = None,
+    cross_check: bool = True,
+) -> Scan:
+    """Find every real root of f on [a, b]; report poles, jumps and undefined gaps.
+
+    f (and fprime, if given) are vectorised callables: numpy array in, array out, NaN/inf
+    where undefined; exceptions from f count as undefined. ``samples`` is the number of
+    equally spaced base samples (default ``DEFAULT_SAMPLES`` = 2001, at least 3); windows
+    where f oscillates faster than that are resampled up to 64x finer automatically.
+    Roots are refined by Brent to rtol = 4 eps (about full double precision for a simple
+    root; a root of multiplicity m is only determined to about eps^(1/m) relative
+    unless f is evaluated without cancellation). ``progress(fraction)`` is called from
+    the calling thread between chunks and at the end (1.0); ``cancel()`` is polled
+    between chunks and refinement steps, and a True answer raises :class:`ScanCancelled`.
+
+    Raises ValueError (one line) for a bad range or sample count; never raises because
+    f misbehaves. See the module docstring for the classification rules.
+    """
+    a, b = _check_range(a, b)
+    if samples is None:
+        n = DEFAULT_SAMPLES
+    else:
+        try:
+            n = int(samples)
+        except (TypeError, ValueError) as exc:
+            raise ValueError(f"samples must be an integer >= 3, got {samples!r}") from exc
+        if n < 3 or n != samples:
+            raise ValueError(f"samples must be an integer >= 3, got {samples!r}")
+    with np.errstate(all="ignore"), _warnings.catch_warnings():
+        _warnings.simplefilter("ignore")
+        return _scan(f, a, b, fprime, n, progress, cancel, cross_check)
+
+
+def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
+    g = _Guarded(f, cancel)
+    gp = _Guarded(fprime, cancel) if fprime is not None else None
+    scale = max(abs(a), abs(b))
+    xtol = 1e-3 * EPS * scale
+    h = (b - a) / (n - 1)
+    notes: list[str] = []
+    cand = _Candidates()
+    g.check()
+    _sample_grid(g, a, b, n, cand, 0, progress, (0.0, 0.8))
+
+    found: list[_Found] = []
+    poles: list[float] = list(cand.inf_points)
+    jumps: list[float] = []
+    for u, v in cand.flat:
+        notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
+                     "not counted as isolated roots")
+    for x0, odd in cand.zeros:
+        found.append(_Found(x0, bool(odd), "f exactly zero at a sample"))
+
+    # touches and hidden close pairs from local minima of |f|
+    brackets = list(cand.brackets)
+    if cand.minima:
+        m = np.array(cand.minima)
+        sign = np.sign(m[:, 4])
+        xb, fb, crossed = _golden(g, m[:, 0], m[:, 2], sign, xtol)
+        for i in np.nonzero(crossed)[0]:
+            brackets.append((m[i, 0], xb[i], m[i, 3], fb[i]))
+            brackets.append((xb[i], m[i, 2], fb[i], m[i, 5]))
+        rest = np.nonzero(~crossed & np.isfinite(fb))[0]
+        if len(rest):
+            noise = _noise(g, xb[rest], EPS * scale)
+            neigh = np.minimum(np.abs(m[rest, 3]), np.abs(m[rest, 5]))
+            ok = (fb[rest] == 0) | (np.abs(fb[rest]) <= np.maximum(16 * noise, 1e-14 * neigh))
+            for j, i in enumerate(rest):
+                if not ok[j]:
+                    continue
+                found.append(_touch(g, gp, m[i, 0], m[i, 2], float(xb[i]), xtol))
+    # ends of the range: |f| at noise level at a or b is a root there
+    found.extend(_range_ends(g, a, b, h, xtol, scale))
+
+    g.check()
+    if progress is not None:
+        progress(0.85)
+    if brackets:
+        br = np.array(brackets, dtype=float)
+        kind, lo, hi, flo, fhi = _classify(g, br, xtol)
+        for i in range(len(br)):
+            g.check()
+            if kind[i] == _ROOT:
+                found.append(_refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol))
+            elif kind[i] == _POLE:
+                poles.append(float(0.5 * (lo[i] + hi[i])))
+            elif kind[i] == _JUMP:
+                jumps.append(float(0.5 * (lo[i] + hi[i])))
+            else:
+                notes.append(f"f undefined somewhere inside [{br[i, 0]:.6g}, {br[i, 1]:.6g}] "
+                             "between two samples of opposite sign")
+    gaps, edge_roots, edge_poles = _domains(g, cand, a, b, h, xtol, scale)
+    found.extend(edge_roots)
+    poles.extend(edge_poles)
+    for u, v in cand.unresolved:
+        notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
+                     "roots there may be missed: raise samples")
+
+    roots = _finish(g, found, poles, jumps, gaps, h, scale)
+
+    cheb: ChebyshevRoots | None = None
+    if cross_check:
+        g.check()
+        if progress is not None:
+            progress(0.9)
+        cheb = chebyshev_roots(g, a, b, cancel=cancel, on_cancel=g.check)
+        roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale)
+    if progress is not None:
+        progress(1.0)
+    return Scan(
+        a=a,
+        b=b,
+        roots=roots,
+        poles=sorted(_dedupe_points(poles, scale)),
+        discontinuities=sorted(_dedupe_points(jumps, scale)),
+        gaps=gaps,
+        warnings=notes,
+        samples=cand.samples,
+        cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
+        chebyshev_roots=list(cheb.roots) if cheb else [],
+    )
+
+
+def _dedupe_points(xs: list[float], scale: float) -> list[float]:
+    out: list[float] = []
+    for x in sorted(xs):
+        if out and abs(x - out[-1]) <= 1e3 * EPS * max(abs(x), scale * 1e-3):
+            continue
+        out.append(x)
+    return out
+
+
+def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
+    """Brent from the narrowed bracket, then a Newton step with f' if it helps."""
+    bracket = (float(row[0]), float(row[1]))
+    if lo == hi:
+        return _Found(float(lo), True, "sign change; f exactly zero at a bisection point",
+                      bracket=bracket)
+    run = brent(g.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
+    x = float(run.root)
+    how = "sign change, Brent" + ("" if run.converged else f" (stopped: {run.reason})")
+    if not (lo <= x <= hi) or not math.isfinite(x):
+        x = float(lo if abs(flo) <= abs(fhi) else hi)
+        how = "sign change, bisection (Brent left the bracket)"
+    if gp is not None:
+        fx, dfx = g.scalar(x), gp.scalar(x)
+        if math.isfinite(dfx) and dfx != 0 and math.isfinite(fx) and fx != 0:
+            xn = x - fx / dfx
+            if lo <= xn <= hi and abs(g.scalar(xn)) < abs(fx):
+                x, how = xn, how + ", Newton polish with f'"
+    return _Found(x, True, how, bracket=bracket, run=run)
+
+
+def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
+    """A confirmed touch at xm; with f' refine the extremum by Brent on f'."""
+    how = "touch: |f| minimum (golden section) at noise level"
+    if gp is not None:
+        dl, dr = gp.scalar(lo), gp.scalar(hi)
+        if math.isfinite(dl) and math.isfinite(dr) and dl * dr < 0:
+            run = brent(gp.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
+                        max_iter=200)
+            xr = float(run.root)
+            if lo <= xr <= hi and abs(g.scalar(xr)) <= abs(g.scalar(xm)):
+                return _Found(xr, False, "touch: f' sign change, Brent on f'; |f| at noise level",
+                              run=run)
+    return _Found(xm, False, how)
+
+
+def _range_ends(g, a, b, h, xtol, scale) -> list[_Found]:
+    """Roots sitting at (or within a sample of) the range ends without a sign change."""
+    out = []
+    for end, inner, side in ((a, a + h, +1), (b, b - h, -1)):
+        fe, fi = g.scalar(end), g.scalar(inner)
+        if not (math.isfinite(fe) and math.isfinite(fi)):
+            continue
+        if fe == 0:
+            out.append(_Found(end, True, "f exactly zero at the range end"))
+            continue
+        if fe * fi <= 0 or abs(fe) >= abs(fi):
+            continue
+        lo, hi = (end, inner) if side > 0 else (inner, end)
+        xb, fb, crossed = _golden(g, np.array([lo]), np.array([hi]), np.array([np.sign(fe)]),
+                                  xtol)
+        if crossed[0]:
+            continue  # a sign change inside: the sampling pass missed it only at a range end
+        noise = _noise(g, np.array([end]), EPS * scale)[0]
+        if abs(fe) <= max(16 * noise, 1e-14 * abs(fi)):
+            out.append(_Found(end, True, "range end: |f| at noise level"))
+        elif fb[0] == 0 or abs(fb[0]) <= max(16 * _noise(g, xb, EPS * scale)[0], 1e-14 * abs(fi)):
+            out.append(_Found(float(xb[0]), False, "touch: |f| minimum (golden section) at noise "
+                              "level"))
+    return out
+
+
+def _domains(g, cand, a, b, h, xtol, scale):
+    """Locate gap edges by bisection; classify each defined-side edge (root, pole, plain)."""
+    if not cand.edges:
+        if not cand.first_defined:
+            return [(a, b)], [], []
+        return [], [], []
+    e = np.array([(u, d) for u, d, _ in cand.edges], dtype=float)
+    side = np.array([s for _, _, s in cand.edges])
+    und, dfd = e[:, 0].copy(), e[:, 1].copy()
+    for _ in range(200):
+        g.check()
+        act = np.abs(dfd - und) > np.maximum(2 * EPS * np.maximum(np.abs(und), np.abs(dfd)), xtol)
+        if not np.any(act):
+            break
+        mid = 0.5 * (und[act] + dfd[act])
+        fin = ~np.isnan(g(mid))
+        ia = np.nonzero(act)[0]
+        dfd[ia[fin]] = mid[fin]
+        und[ia[~fin]] = mid[~fin]
+    # a tidy value next to the edge (e.g. exactly 0 for sqrt(x)) when f is defined there
+    tidy = np.round(dfd / max(scale, 1e-300), 12) * max(scale, 1e-300)
+    ftidy = g(tidy)
+    fd = g(dfd)
+    use = ~np.isnan(ftidy) & (np.abs(ftidy) <= np.abs(fd)) & (np.abs(tidy - dfd) <= 1e-9 * scale)
+    dfd = np.where(use, tidy, dfd)
+    fd = np.where(use, ftidy, fd)
+    # probes moving into the defined side: |f| trend toward the edge
+    j = np.arange(30)
+    probes = dfd[:, None] + side[:, None] * h * 2.0 ** (-j[None, :])
+    fp = np.abs(g(probes.reshape(-1)).reshape(probes.shape))
+    roots, poles = [], []
+    for i in range(len(dfd)):
+        seq = fp[i][np.isfinite(fp[i])]
+        if np.isinf(fd[i]):
+            poles.append(float(dfd[i]))
+            continue
+        if fd[i] == 0:
+            roots.append(_Found(float(dfd[i]), True, "domain edge: f = 0 at the last defined point",
+                                located_by=("sampling",)))
+            continue
+        if len(seq) < 4:
+            continue
+        falling = np.all(np.diff(seq[-10:]) <= 0)
+        rising = np.all(np.diff(seq[-10:]) >= 0)
+        if falling and abs(fd[i]) <= 1e-3 * seq[0]:
+            roots.append(_Found(float(dfd[i]), True,
+                                "domain edge: f -> 0 at the last defined point"))
+        elif rising and abs(fd[i]) >= 2 * seq[0]:
+            poles.append(float(dfd[i]))
+    # assemble gaps from edges in order
+    order = np.argsort(0.5 * (und + dfd))
+    gaps: list[tuple[float, float]] = []
+    open_at = a if not cand.first_defined else None
+    for i in order:
+        if side[i] < 0:  # defined on the left: a gap starts
+            open_at = float(dfd[i])
+        else:
+            start = open_at if open_at is not None else a
+            gaps.append((start, float(dfd[i])))
+            open_at = None
+    if open_at is not None:
+        gaps.append((open_at, b))
+    return gaps, roots, poles
+
+
+def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale) -> list[Root]:
+    """Deduplicate, estimate multiplicities, evaluate residuals, sort."""
+    found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
+    merged: list[_Found] = []
+    for r in found:
+        if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * scale):
+            prev = merged[-1]
+            if prev.bracket is None and r.bracket is not None:
+                merged[-1] = r
+            continue
+        merged.append(r)
+    if not merged:
+        return []
+    x = np.array([r.x for r in merged])
+    features = np.sort(np.array(
+        list(x) + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
+    reach = np.full(len(x), h)
+    for i, xi in enumerate(x):
+        others = features[features != xi]
+        if len(others):
+            reach[i] = min(h, 0.3 * float(np.min(np.abs(others - xi))))
+    reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale))
+    odd = np.array([r.odd for r in merged])
+    mult = _multiplicity(g, x, reach, odd, EPS * scale)
+    res = g(x)
+    edge = np.array([r.how.startswith("domain edge") for r in merged])
+    return [
+        Root(
+            x=float(x[i]),
+            residual=float(res[i]),
+            multiplicity=1 if edge[i] else int(mult[i]),
+            confirmed=merged[i].how,
+            located_by=merged[i].located_by,
+            bracket=merged[i].bracket,
+            run=merged[i].run,
+        )
+        for i in range(len(merged))
+    ]
+
+
+def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, gaps, notes,
+                 h, xtol, scale) -> list[Root]:
+    """Match sampled roots with proxy roots on the smooth pieces; confirm or warn."""
+    pieces = cheb.pieces
+    if not pieces:
+        return roots
+
+    def piece_of(x: float):
+        for p in pieces:
+            if p.a <= x <= p.b:
+                return p
+        return None
+
+    near = np.array(cheb.near_real, dtype=complex)
+    out: list[Root] = []
+    xs = np.array([r.x for r in roots])
+    used = np.zeros(len(near), dtype=bool)
+    for i, r in enumerate(roots):
+        p = piece_of(r.x)
+        if p is None:
+            out.append(r)
+            continue
+        width = p.b - p.a
+        radius = max(4 * (1e-12) ** (1.0 / r.multiplicity) * width, 1e-9 * width)
+        if len(xs) > 1:
+            gap_to = np.abs(np.delete(xs, i) - r.x)
+            radius = min(radius, 0.45 * float(np.min(gap_to)))
+        hit = np.abs(near - r.x) <= radius if len(near) else np.zeros(0, dtype=bool)
+        used |= hit
+        if np.any(hit):
+            out.append(Root(r.x, r.residual, r.multiplicity, r.confirmed,
+                            tuple(dict.fromkeys(r.located_by + ("chebyshev",))), r.bracket, r.run))
+        else:
+            out.append(r)
+            notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by the "
+                         f"Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
+    # proxy roots nobody matched
+    features = list(poles) + list(jumps) + [e for gap in gaps for e in gap]
+    extra: list[float] = []
+    for z, u in zip(near, used, strict=False):
+        if u or abs(z.imag) > 1e-10 * max(1.0, scale):
+            continue
+        x = float(z.real)
+        if any(abs(x - q) <= h for q in features):
+            continue
+        if extra and abs(x - extra[-1]) <= 1e-9 * max(scale, 1.0):
+            continue
+        extra.append(x)
+    added: list[_Found] = []
+    for x in extra:
+        g.check()
+        conf = _confirm_near(g, gp, x, h, xtol, scale)
+        if conf is None:
+            notes.append(f"cross-check: the Chebyshev proxy has a zero near x = {x:.12g} "
+                         f"(|f| = {abs(g.scalar(x)):.3g}) that the scan could not confirm")
+        elif all(abs(conf.x - r.x) > 1e3 * EPS * max(abs(r.x), 1e-3 * scale) for r in out):
+            added.append(conf)
+    if added:
+        new = _finish(g, added, poles, jumps, gaps, h, scale)
+        out = sorted(out + new, key=lambda r: r.x)
+        notes.append(f"cross-check: {len(new)} root(s) located only by the Chebyshev proxy and "
+                     "then confirmed: " + ", ".join(f"{r.x:.12g}" for r in new))
+    return out
+
+
+def _confirm_near(g, gp, x, h, xtol, scale) -> _Found | None:
+    """Look for a sign change or a touch within a small window around a proxy root."""
+    w = max(min(h, 1e-6 * max(abs(x), 1.0)), 1e3 * EPS * max(abs(x), 1e-3 * scale))
+    for width in (w, 100 * w):
+        pts = np.linspace(x - width, x + width, 65)
+        y = g(pts)
+        cand = _Candidates()
+        _detect(pts, y, 0, len(pts), cand)
+        if cand.zeros:
+            xz, odd = cand.zeros[0]
+            return _Found(xz, bool(odd), "f exactly zero (near a Chebyshev proxy root)",
+                          located_by=("chebyshev",))
+        if cand.brackets:
+            br = np.array(cand.brackets[:1], dtype=float)
+            kind, lo, hi, flo, fhi = _classify(g, br, xtol)
+            if kind[0] == _ROOT:
+                r = _refine(g, gp, br[0], lo[0], hi[0], flo[0], fhi[0], xtol)
+                r.located_by = ("chebyshev",)
+                return r
+        if cand.minima:
+            mm = np.array(cand.minima)
+            i = int(np.argmin(np.abs(mm[:, 4])))
+            xb, fb, crossed = _golden(g, mm[i:i + 1, 0], mm[i:i + 1, 2], np.sign(mm[i:i + 1, 4]),
+                                      xtol)
+            if not crossed[0]:
+                noise = _noise(g, xb, EPS * scale)[0]
+                neigh = min(abs(mm[i, 3]), abs(mm[i, 5]))
+                if fb[0] == 0 or abs(fb[0]) <= max(16 * noise, 1e-14 * neigh):
+                    r = _touch(g, gp, mm[i, 0], mm[i, 2], float(xb[0]), xtol)
+                    r.located_by = ("chebyshev",)
+                    return r
+    return None
