@@ -893,7 +893,7 @@ def _figures_section(c: _Context) -> list[Flowable]:
         lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run),
         lambda ax: figures.draw_convergence(ax, list(sol.runs)),
     )
-    for caption, draw in zip(captions, draws):
+    for caption, draw in zip(captions, draws, strict=True):
         try:
             image: Flowable = _figure(draw, TEXT_WIDTH, 74 * mm)
         except Exception as exc:  # a figure must never cost the checker the numbers
