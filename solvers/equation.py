@@ -1,25 +1,1153 @@
-"""STUB: being written (equation parsing). Interface per ../shared/DESIGN.md."""
+"""Equation text -> checked sympy expression -> fast real-valued callables f and f'.
+
+The user's text is untrusted. It is never handed to ``eval``, ``sympify`` or
+``parse_expr``: a whitelist tokenizer splits it (ASCII numbers, ASCII names, the
+operators ``+ - * / ^ **``, parentheses, commas and one ``=``), and a small
+recursive-descent parser builds sympy objects directly from the tokens. Code that
+``lambdify`` generates contains no user string: the unknown is renamed to an
+internal symbol and parameters are numbers by then.
+
+Syntax (what an engineer types)
+-------------------------------
+* ``lhs = rhs``, or a bare expression meaning ``expr = 0``. Several lines are allowed
+  (line breaks are spaces).
+* ``^`` and ``**`` are powers, right-associative, binding tighter than a leading
+  minus: ``-x^2`` is ``-(x^2)``, ``2^3^2`` is ``2^9``.
+* Implicit multiplication only where a number is written directly against a name or
+  ``(``: ``2x``, ``3(x+1)``, ``30deg``, ``2.5e-3x`` (``1e5`` is a number; ``2e-x`` is
+  ``2*e - x``). ``2x^2`` is ``2*(x^2)``. Nothing riskier: ``2 x``, ``x y``,
+  ``(a)(b)``, ``k(x)`` are errors, and so are the ambiguous ``1/2x`` and ``x^2y``
+  (write ``1/(2*x)`` or ``x/2``; ``x^(2*y)`` or ``x^2*y``).
+* Functions: sqrt exp ln log10 log2 sin cos tan asin acos atan atan2(y, x) sinh cosh
+  tanh asinh acosh atanh abs min max (two or more arguments). Angles are radians.
+  Constants: ``pi`` and ``deg`` (= pi/180, so ``sin(30deg)`` is 0.5).
+* Bare ``log`` is refused with a message saying to write ``ln`` (natural) or
+  ``log10`` (base 10): engineers' handbooks use both meanings (a Colebrook equation
+  with the wrong one gives a wrong friction factor with no warning), so zerotrace
+  never guesses.
+* Every other name is an ordinary name: single letters engineers use (e, g, R, k, E,
+  I, S, N, Q, C, O) are plain parameters, never Euler's number or the imaginary
+  unit (write ``exp(1)`` for e). Names are ASCII letters, digits and ``_``, start
+  with a letter, contain no ``__``, are not Python keywords and are at most
+  ``MAX_NAME`` characters.
+
+Limits and refusals
+-------------------
+Every refusal is an :class:`EquationError` (a ``ValueError``) with a one-line message;
+``.position`` is the 0-based offset into the text where it applies (messages count
+columns from 1, as editors do). The text is at most ``MAX_LENGTH`` characters and
+nests at most ``MAX_DEPTH`` levels (parentheses, signs, exponents). Constant parts
+are evaluated in double precision as they are read: a constant that overflows,
+divides by zero or has no real value (``10^400``, ``1/0``, ``sqrt(-1)``,
+``9^9^9^9``) is refused where it stands, and exact integer powers are kept exact
+only for exponents up to ``MAX_EXACT_EXPONENT`` (then they are floats), so no giant
+integer is ever built.
+
+Evaluation
+----------
+``f`` and ``fprime`` are compiled once. Arrays in give float64 arrays of the same
+shape out; a Python/numpy scalar in gives a Python ``float`` out. Real arithmetic:
+a domain error gives NaN (``sqrt(-1)``, ``x^0.5`` for x < 0, ``acos(2)``), poles give
+inf (``ln(0)`` is -inf); evaluation never raises on such values and never warns.
+Scalars take a ``math``-module path (much faster than numpy on one float); any
+exception there falls back to the numpy path, which gives the nan/inf.
+"""
+
 from __future__ import annotations
-from dataclasses import dataclass
-from typing import Any, Callable
+
+import keyword
+import math
+import re
+import unicodedata
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from numbers import Real
+from typing import Any
+
+import numpy as np
+import sympy as sp
+from sympy.codegen.cfunctions import log2 as _sp_log2
+from sympy.codegen.cfunctions import log10 as _sp_log10
+from sympy.printing.lambdarepr import LambdaPrinter
+from sympy.printing.latex import LatexPrinter
+from sympy.printing.numpy import NumPyPrinter
+
+__all__ = [
+    "MAX_DEPTH",
+    "MAX_LENGTH",
+    "MAX_NAME",
+    "Equation",
+    "EquationError",
+    "free_names",
+    "parse_equation",
+]
+
+MAX_LENGTH = 2000  # characters; a long design equation is a few hundred
+MAX_DEPTH = 100  # nesting levels: parentheses, signs and exponents together
+MAX_NAME = 40  # characters in one name
+MAX_EXACT_EXPONENT = 1000  # larger integer powers of constants are done in floating point
+MAX_DERIVATIVE_NODES = 20_000  # larger symbolic derivatives are not compiled (numerical f')
+_EXACT_INT_DIGITS = 15  # integer literals up to this many digits stay exact sympy Integers
+_BIG_INT = 2**53  # larger exact integers become floats before compiling
 
 
 class EquationError(ValueError):
+    """Equation text that cannot be used. ``position``: 0-based offset into the text, or None."""
+
     def __init__(self, message: str, position: int | None = None):
         super().__init__(message)
         self.position = position
 
 
+# ---------------------------------------------------------------------------------------------
+# Tokens
+# ---------------------------------------------------------------------------------------------
+
+_TOKEN_RE = re.compile(
+    r"(?P<ws>[ \t\r\n]+)"
+    r"|(?P<num>(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)"
+    r"|(?P<name>[A-Za-z_][A-Za-z0-9_]*)"
+    r"|(?P<op>\*\*|[-+*/^(),=])",
+    re.ASCII,
+)
+
+
 @dataclass(frozen=True)
+class _Token:
+    kind: str  # "num", "name", "op", "end"
+    text: str
+    pos: int
+    end: int
+
+
+# Common non-ASCII characters pasted from documents, and what to type instead.
+_UNICODE_HINTS = {
+    "\u2212": "-",  # minus sign
+    "\u2013": "-",  # en dash
+    "\u2014": "-",  # em dash
+    "\u00d7": "*",  # multiplication sign
+    "\u00b7": "*",  # middle dot
+    "\u22c5": "*",  # dot operator
+    "\u2219": "*",  # bullet operator
+    "\u00f7": "/",
+    "\u2044": "/",  # fraction slash
+    "\u00b2": "^2",
+    "\u00b3": "^3",
+    "\u00b9": "^1",
+    "\u00bd": "(1/2)",
+    "\u03c0": "pi",
+    "\u221a": "sqrt(...)",
+    "\u00b0": "deg",
+    "\u00a0": "a plain space",
+    "\u2009": "a plain space",
+    "\u202f": "a plain space",
+    "\u2018": "nothing (no strings)",
+    "\u2019": "nothing (no strings)",
+    "\u201c": "nothing (no strings)",
+    "\u201d": "nothing (no strings)",
+    "\u2264": "an equation with '=' (no inequalities)",
+    "\u2265": "an equation with '=' (no inequalities)",
+    "\u03bb": "lam",  # 'lambda' is a Python keyword, so the spelled-out name is refused too
+}
+
+_CHAR_HINTS = {
+    "'": "strings are not allowed",
+    '"': "strings are not allowed",
+    ".": "a '.' belongs only in a decimal number such as 0.5; no attribute access",
+    ";": "one equation only",
+    "!": "factorials are not supported",
+    "[": "use ( ) for grouping",
+    "]": "use ( ) for grouping",
+    "{": "use ( ) for grouping",
+    "}": "use ( ) for grouping",
+    "%": "write /100 for a percentage",
+    "<": "an equation needs '=', not a comparison",
+    ">": "an equation needs '=', not a comparison",
+    "#": "comments are not supported",
+}
+
+_ASCII_LOOKALIKES = {
+    # Cyrillic and Greek letters that look like Latin ones.
+    "\u0430": "a", "\u0435": "e", "\u043e": "o", "\u0440": "p", "\u0441": "c", "\u0443": "y",
+    "\u0445": "x", "\u0410": "A", "\u0412": "B", "\u0415": "E", "\u041a": "K", "\u041c": "M",
+    "\u041d": "H", "\u041e": "O", "\u0420": "P", "\u0421": "C", "\u0422": "T", "\u0425": "X",
+    "\u0391": "A", "\u0392": "B", "\u0395": "E", "\u0396": "Z", "\u0397": "H", "\u0399": "I",
+    "\u039a": "K", "\u039c": "M", "\u039d": "N", "\u039f": "O", "\u03a1": "P", "\u03a4": "T",
+    "\u03a5": "Y", "\u03a7": "X", "\u03bf": "o",
+}  # fmt: skip
+
+
+def _where(text: str, pos: int) -> str:
+    """'column N' (1-based) or 'line L, column N' for multi-line text."""
+    line = text.count("\n", 0, pos)
+    column = pos - (text.rfind("\n", 0, pos) + 1)
+    if line:
+        return f"line {line + 1}, column {column + 1}"
+    return f"column {column + 1}"
+
+
+def _fail(text: str, message: str, pos: int | None) -> EquationError:
+    if pos is None:
+        return EquationError(message, None)
+    return EquationError(f"{message} at {_where(text, pos)}", pos)
+
+
+def _non_ascii_message(ch: str) -> str:
+    name = unicodedata.name(ch, f"U+{ord(ch):04X}")
+    hint = _UNICODE_HINTS.get(ch) or _ASCII_LOOKALIKES.get(ch)
+    if hint is None and 0xFF01 <= ord(ch) <= 0xFF5E:  # fullwidth forms of ASCII
+        hint = chr(ord(ch) - 0xFEE0)
+    if hint is None and name.startswith("GREEK "):
+        hint = name.split()[-1].lower()  # "GREEK SMALL LETTER ALPHA" -> alpha
+    text = f"non-ASCII character {ch!r} ({name})"
+    if hint:
+        quoted = hint if " " in hint or "(" in hint else f"'{hint}'"
+        text += f"; type {quoted} instead"
+    return text
+
+
+def _tokenize(text: str) -> list[_Token]:
+    """Whitelist tokenizer; anything outside the whitelist is refused with its position."""
+    tokens: list[_Token] = []
+    pos, n = 0, len(text)
+    match = _TOKEN_RE.match
+    while pos < n:
+        m = match(text, pos)
+        if m is None:
+            ch = text[pos]
+            if ord(ch) > 127:
+                raise _fail(text, _non_ascii_message(ch), pos)
+            if ch.isprintable():
+                hint = _CHAR_HINTS.get(ch)
+                message = f"character {ch!r} is not allowed" + (f" ({hint})" if hint else "")
+            else:
+                message = f"control character U+{ord(ch):04X} is not allowed"
+            raise _fail(text, message, pos)
+        kind = m.lastgroup
+        if kind != "ws":
+            tokens.append(_Token(kind, m.group(), pos, m.end()))  # type: ignore[arg-type]
+        pos = m.end()
+    tokens.append(_Token("end", "", n, n))
+    return tokens
+
+
+# ---------------------------------------------------------------------------------------------
+# Real-valued double-precision arithmetic for constant parts (raises ArithmeticError/ValueError)
+# ---------------------------------------------------------------------------------------------
+
+
+def _real_pow(base: float, exponent: float) -> float:
+    return math.pow(base, exponent)  # ValueError for a negative base and a fractional exponent
+
+
+def _real_min(*args: float) -> float:
+    return math.nan if any(a != a for a in args) else min(args)
+
+
+def _real_max(*args: float) -> float:
+    return math.nan if any(a != a for a in args) else max(args)
+
+
+def _real_sign(v: float) -> float:
+    return v if v != v else float((v > 0) - (v < 0))
+
+
+def _real_heaviside(v: float) -> float:
+    # sympy's Heaviside(0) is 1/2; numpy's heaviside(x, 0.5) agrees.
+    return v if v != v else (1.0 if v > 0 else 0.0 if v < 0 else 0.5)
+
+
+@dataclass(frozen=True)
+class _Function:
+    """One function the parser knows: arity, sympy builder, double-precision evaluator."""
+
+    min_args: int
+    max_args: int | None
+    build: Callable[..., Any]
+    value: Callable[..., float]
+
+
+def _atan2_value(y: float, x: float) -> float:
+    if y == 0 and x == 0:
+        raise ValueError("atan2(0, 0)")  # no defined angle; sympy gives nan
+    return math.atan2(y, x)
+
+
+FUNCTIONS: dict[str, _Function] = {
+    "sqrt": _Function(1, 1, sp.sqrt, math.sqrt),
+    "exp": _Function(1, 1, sp.exp, math.exp),
+    "ln": _Function(1, 1, sp.log, math.log),
+    "log10": _Function(1, 1, _sp_log10, math.log10),
+    "log2": _Function(1, 1, _sp_log2, math.log2),
+    "sin": _Function(1, 1, sp.sin, math.sin),
+    "cos": _Function(1, 1, sp.cos, math.cos),
+    "tan": _Function(1, 1, sp.tan, math.tan),
+    "asin": _Function(1, 1, sp.asin, math.asin),
+    "acos": _Function(1, 1, sp.acos, math.acos),
+    "atan": _Function(1, 1, sp.atan, math.atan),
+    "atan2": _Function(2, 2, sp.atan2, _atan2_value),
+    "sinh": _Function(1, 1, sp.sinh, math.sinh),
+    "cosh": _Function(1, 1, sp.cosh, math.cosh),
+    "tanh": _Function(1, 1, sp.tanh, math.tanh),
+    "asinh": _Function(1, 1, sp.asinh, math.asinh),
+    "acosh": _Function(1, 1, sp.acosh, math.acosh),
+    "atanh": _Function(1, 1, sp.atanh, math.atanh),
+    "abs": _Function(1, 1, sp.Abs, abs),
+    "min": _Function(2, None, sp.Min, _real_min),
+    "max": _Function(2, None, sp.Max, _real_max),
+}
+
+DEG = sp.Symbol("deg", positive=True)  # typeset as "deg"; replaced by pi/180 for numbers
+CONSTANT_NAMES = ("pi", "deg")
+_AMBIGUOUS = {
+    "log": "bare 'log' is ambiguous: write ln(...) for the natural log or log10(...) for base 10",
+}
+_RESERVED = frozenset(FUNCTIONS) | frozenset(CONSTANT_NAMES) | frozenset(_AMBIGUOUS)
+_TRIG = ("sin", "cos", "tan")
+
+
+def _check_name(text: str, token: _Token) -> None:
+    name = token.text
+    if name.startswith("_") or "__" in name:
+        raise _fail(text, f"name {name!r} is not allowed (names start with a letter and "
+                    "contain no '__')", token.pos)
+    if keyword.iskeyword(name):
+        raise _fail(text, f"{name!r} is a reserved word; choose another name", token.pos)
+    if len(name) > MAX_NAME:
+        raise _fail(text, f"name longer than {MAX_NAME} characters", token.pos)
+
+
+# ---------------------------------------------------------------------------------------------
+# Parser
+# ---------------------------------------------------------------------------------------------
+
+_PLAIN, _EXPONENT, _DIVISOR = 0, 1, 2  # where a factor stands (implicit products refused in 1, 2)
+
+
+@dataclass(frozen=True)  # no slots: display mode tags divisor nodes
+class _Node:
+    expr: Any  # sympy expression
+    value: float | None  # double-precision value when the node is constant, else None
+
+
+def _is_bad(expr: Any) -> bool:
+    return bool(expr.has(sp.I, sp.zoo, sp.nan, sp.oo, -sp.oo))
+
+
+class _Parser:
+    """Recursive descent over the tokens, building sympy objects as it goes.
+
+    ``bindings`` maps a name to a constant ``_Node`` (parameters with values, pi, deg)
+    or to a sympy Symbol. In ``numeric`` mode every constant part becomes one Float
+    (or a small exact Integer), so no later sympy step evaluates anything big.
+    """
+
+    def __init__(self, text: str, tokens: list[_Token], bindings: Mapping[str, Any],
+                 numeric: bool):
+        self.text = text
+        self.tokens = tokens
+        self.i = 0
+        self.depth = 0
+        self.bindings = bindings
+        self.numeric = numeric
+        self.display = False  # set for the typeset form: sympy builds without evaluating
+        self.names: list[str] = []
+        self.first_pos: dict[str, int] = {}
+        self.used: set[str] = set()  # functions and constants used, for notes
+
+    # -- helpers ------------------------------------------------------------------------------
+    def fail(self, message: str, pos: int | None) -> EquationError:
+        return _fail(self.text, message, pos)
+
+    @property
+    def tok(self) -> _Token:
+        return self.tokens[self.i]
+
+    def advance(self) -> _Token:
+        t = self.tokens[self.i]
+        self.i += 1
+        return t
+
+    def enter(self, pos: int) -> None:
+        self.depth += 1
+        if self.depth > MAX_DEPTH:
+            raise self.fail(f"nesting deeper than {MAX_DEPTH} levels", pos)
+
+    def snippet(self, start: int, end: int) -> str:
+        s = " ".join(self.text[start:end].split())
+        return s if len(s) <= 40 else s[:37] + "..."
+
+    def constant(self, expr: Any, value: float, start: int, end: int) -> _Node:
+        """A constant part: refuse it unless its double value is finite and real.
+
+        ``expr`` None means: the double value itself (as in numeric mode)."""
+        if value != value:
+            raise self.fail(f"'{self.snippet(start, end)}' has no real value", start)
+        if math.isinf(value):
+            raise self.fail(f"'{self.snippet(start, end)}' overflows double precision", start)
+        if expr is None or self.numeric or (not self.display and _is_bad(expr)):
+            expr = _number(value)
+        return _Node(expr, value)
+
+    def evaluate(self, fn: Callable[..., float], *args: float) -> float:
+        try:
+            with np.errstate(all="ignore"):
+                return float(fn(*args))
+        except OverflowError:
+            return math.inf
+        except (ValueError, ZeroDivisionError, TypeError):
+            return math.nan
+
+    # -- grammar ------------------------------------------------------------------------------
+    def equation(self) -> tuple[_Node, _Node | None]:
+        if self.tok.kind == "end":
+            raise EquationError("the equation is empty", None)
+        if self.tok.text == "=":
+            raise self.fail("nothing before '='", self.tok.pos)
+        lhs = self.sum()
+        rhs = None
+        if self.tok.text == "=":
+            eq = self.advance()
+            if self.tok.kind == "end":
+                raise self.fail("nothing after '='", eq.pos)
+            rhs = self.sum()
+        t = self.tok
+        if t.kind != "end":
+            if t.text == "=":
+                raise self.fail("a second '=' (an equation has one)", t.pos)
+            if t.text == ")":
+                raise self.fail("')' without a matching '('", t.pos)
+            if t.text == ",":
+                raise self.fail("',' outside a function call", t.pos)
+            raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
+        return lhs, rhs
+
+    def sum(self) -> _Node:
+        start = self.tok.pos
+        terms = [self.product()]
+        while self.tok.text in ("+", "-"):
+            op = self.advance()
+            if self.tok.kind == "end":
+                raise self.fail(f"nothing after '{op.text}'", op.pos)
+            term = self.product()
+            if op.text == "-":
+                term = _Node(-term.expr, None if term.value is None else -term.value)
+            terms.append(term)
+        if len(terms) == 1:
+            return terms[0]
+        expr = sp.Add(*[t.expr for t in terms])
+        if all(t.value is not None for t in terms):
+            return self.constant(expr, math.fsum(t.value for t in terms), start,
+                                 self.tok.pos)
+        return self.settle(expr)
+
+    def product(self) -> _Node:
+        start = self.tok.pos
+        factors = [self.signed(_PLAIN)]
+        while True:
+            t = self.tok
+            if t.text in ("*", "/"):
+                self.advance()
+                if self.tok.kind == "end":
+                    raise self.fail(f"nothing after '{t.text}'", t.pos)
+                if t.text == "*":
+                    factors.append(self.signed(_PLAIN))
+                    continue
+                d_start = self.tok.pos
+                d = self.signed(_DIVISOR)
+                if d.value == 0 or d.expr == 0:
+                    raise self.fail("division by zero", d_start)
+                inv = sp.Pow(d.expr, -1)
+                node = _Node(inv, None if d.value is None else 1.0 / d.value)
+                if self.display:
+                    object.__setattr__(node, "divisor", d.expr)  # typeset a/b as a fraction
+                factors.append(node)
+            elif t.kind in ("num", "name") or t.text == "(":
+                prev = self.tokens[self.i - 1].text
+                raise self.fail(f"missing operator between {prev!r} and {t.text!r}", t.pos)
+            else:
+                break
+        if len(factors) == 1:
+            return factors[0]
+        if self.display:
+            expr = self.fraction(factors)
+        else:
+            expr = sp.Mul(*[f.expr for f in factors])
+        if all(f.value is not None for f in factors):
+            value = 1.0
+            for f in factors:
+                value *= f.value  # type: ignore[operator]
+            return self.constant(expr, value, start, self.tok.pos)
+        return self.settle(expr)
+
+    @staticmethod
+    def fraction(factors: list[_Node]) -> Any:
+        """Unevaluated numerator/denominator, so a/b/c is typeset as one fraction."""
+        top, negative = [], False
+        for f in factors:
+            if hasattr(f, "divisor"):
+                continue
+            e = f.expr
+            if e.is_Mul and len(e.args) == 2 and e.args[0] == -1:  # a typed leading minus
+                negative, e = not negative, e.args[1]
+            top.append(e)
+        bottom = [f.divisor for f in factors if hasattr(f, "divisor")]  # type: ignore[attr-defined]
+        numerator = top[0] if len(top) == 1 else sp.Mul(*top)
+        if bottom:
+            denominator = bottom[0] if len(bottom) == 1 else sp.Mul(*bottom)
+            inverse = sp.Pow(denominator, -1)
+            numerator = inverse if numerator == 1 else sp.Mul(numerator, inverse)
+        return sp.Mul(-1, numerator) if negative else numerator
+
+    def signed(self, where: int) -> _Node:
+        t = self.tok
+        if t.text in ("+", "-"):
+            self.advance()
+            self.enter(t.pos)
+            if self.tok.kind == "end":
+                raise self.fail(f"nothing after '{t.text}'", t.pos)
+            inner = self.signed(where)
+            self.depth -= 1
+            if t.text == "+":
+                return inner
+            return _Node(-inner.expr, None if inner.value is None else -inner.value)
+        return self.power(where)
+
+    def power(self, where: int) -> _Node:
+        start = self.tok.pos
+        base = self.primary(where)
+        t = self.tok
+        if t.text not in ("^", "**"):
+            return base
+        self.advance()
+        self.enter(t.pos)
+        if self.tok.kind == "end":
+            raise self.fail(f"nothing after '{t.text}'", t.pos)
+        exponent = self.signed(_EXPONENT)
+        self.depth -= 1
+        end = self.tokens[self.i - 1].end
+        return self.make_power(base, exponent, start, end)
+
+    def make_power(self, base: _Node, exponent: _Node, start: int, end: int) -> _Node:
+        b, e = base.expr, exponent.expr
+        if base.value is not None and exponent.value is not None:
+            if base.value == 0 and exponent.value < 0:
+                raise self.fail(f"'{self.snippet(start, end)}' divides by zero", start)
+            value = self.evaluate(_real_pow, base.value, exponent.value)
+            if self.numeric:
+                return self.constant(None, value, start, end)
+            if self.display:
+                return self.constant(sp.Pow(b, e), value, start, end)
+            exact = b.is_Rational and e.is_Rational and (
+                (e.is_Integer and abs(e) <= MAX_EXACT_EXPONENT)
+                or (not e.is_Integer and e.q <= 12 and abs(e.p) <= MAX_EXACT_EXPONENT))
+            small = not (e.is_Integer and abs(e) > MAX_EXACT_EXPONENT)
+            if (exact or (small and not (b.is_Rational and e.is_Rational))) and \
+                    math.isfinite(value) and (value == 0 or abs(value) > 1e-300):
+                return self.constant(sp.Pow(b, e), value, start, end)
+            return self.constant(None, value, start, end)
+        if exponent.value is not None and base.value is None:
+            if e.is_Integer and abs(e) > _BIG_INT:
+                e = sp.Float(exponent.value)
+        if base.value == 0 or b == 0:
+            # 0^x: sympy's rules for a symbolic exponent would hide the domain; keep it plain.
+            return self.settle(sp.Pow(b, e, evaluate=False))
+        return self.settle(sp.Pow(b, e))
+
+    def settle(self, expr: Any) -> _Node:
+        """A non-constant node, unless sympy cancelled it to a number (x - x)."""
+        if expr.is_Number:
+            try:
+                value = float(expr)
+            except TypeError:  # zoo, nan
+                value = math.nan
+            if math.isfinite(value):
+                return _Node(_number(value) if self.numeric else expr, value)
+            raise self.fail("part of the equation has no finite real value", None)
+        return _Node(expr, None)
+
+    def primary(self, where: int) -> _Node:
+        t = self.advance()
+        if t.kind == "num":
+            node = self.number(t)
+            nxt = self.tok
+            if nxt.pos == t.end and (nxt.kind == "name" or nxt.text == "("):
+                if where == _EXPONENT:
+                    raise self.fail(
+                        f"ambiguous '{t.text}{nxt.text}' in an exponent: write "
+                        f"^({t.text}*{nxt.text}...) or put the factor after the power with '*'",
+                        t.pos)
+                if where == _DIVISOR:
+                    raise self.fail(
+                        f"ambiguous '/{t.text}{nxt.text}': write /({t.text}*{nxt.text}...) "
+                        f"or '/{t.text}*{nxt.text}'", t.pos)
+                rest = self.power(_PLAIN)  # 2x^2 is 2*(x^2)
+                expr = sp.Mul(node.expr, rest.expr)
+                if rest.value is not None:
+                    return self.constant(expr, node.value * rest.value,  # type: ignore[operator]
+                                         t.pos, self.tokens[self.i - 1].end)
+                return self.settle(expr)
+            return node
+        if t.kind == "name":
+            return self.name(t)
+        if t.text == "(":
+            self.enter(t.pos)
+            if self.tok.text == ")":
+                raise self.fail("empty parentheses", t.pos)
+            inner = self.sum()
+            self.close(t)
+            self.depth -= 1
+            return inner
+        if t.kind == "end":  # pragma: no cover - callers check for the end first
+            raise self.fail("the equation ends too early", t.pos)
+        if t.text == ")":
+            raise self.fail("')' without a matching '('", t.pos)
+        if t.text == "=":
+            prev = self.tokens[self.i - 2]
+            raise self.fail(f"nothing between {prev.text!r} and '='", t.pos)
+        if t.text == ",":
+            raise self.fail("',' outside a function call or a missing argument", t.pos)
+        prev = self.tokens[self.i - 2].text if self.i >= 2 else ""
+        if t.text in ("*", "**", "/", "^"):
+            if prev in ("*", "**", "/", "^", "+", "-"):
+                raise self.fail(f"{t.text!r} cannot follow {prev!r}", t.pos)
+            raise self.fail(f"{t.text!r} needs something before it", t.pos)
+        raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
+
+    def close(self, opener: _Token) -> None:
+        t = self.tok
+        if t.text == ")":
+            self.advance()
+            return
+        if t.kind == "end":
+            raise self.fail("'(' is never closed", opener.pos)
+        if t.text == "=":
+            raise self.fail("'=' inside parentheses", t.pos)
+        if t.text == ",":
+            raise self.fail("',' outside a function call", t.pos)
+        raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
+
+    def number(self, t: _Token) -> _Node:
+        value = float(t.text)
+        if math.isinf(value):
+            raise self.fail(f"number {t.text} is beyond double precision", t.pos)
+        if value == 0 and any(c in "123456789" for c in t.text.lower().split("e")[0]):
+            raise self.fail(f"number {t.text} underflows to zero in double precision", t.pos)
+        if t.text.isdigit() and len(t.text.lstrip("0")) <= _EXACT_INT_DIGITS:
+            return _Node(sp.Integer(int(t.text)), value)
+        return _Node(sp.Float(value), value)
+
+    def name(self, t: _Token) -> _Node:
+        name = t.text
+        _check_name(self.text, t)
+        is_call = self.tok.text == "("
+        if name in _AMBIGUOUS:
+            raise self.fail(_AMBIGUOUS[name], t.pos)
+        if name in FUNCTIONS:
+            if not is_call:
+                raise self.fail(f"'{name}' is a function: write {name}(...)", t.pos)
+            return self.call(t)
+        if is_call:
+            if name in CONSTANT_NAMES:
+                raise self.fail(f"'{name}' is a constant, not a function: write {name}*(...)",
+                                t.pos)
+            raise self.fail(f"unknown function '{name}' (write {name}*(...) for a product)",
+                            t.pos)
+        if name in CONSTANT_NAMES:
+            self.used.add(name)
+            return self.bindings[name]
+        if name not in self.first_pos:
+            self.first_pos[name] = t.pos
+            self.names.append(name)
+        bound = self.bindings.get(name)
+        if bound is None:
+            bound = _Node(sp.Symbol(name, real=True), None)
+        return bound
+
+    def call(self, t: _Token) -> _Node:
+        fn = FUNCTIONS[t.text]
+        opener = self.advance()  # '('
+        self.enter(opener.pos)
+        args: list[_Node] = []
+        if self.tok.text != ")":
+            while True:
+                if self.tok.text in (",", ")") or self.tok.kind == "end":
+                    if self.tok.kind == "end":
+                        raise self.fail("'(' is never closed", opener.pos)
+                    raise self.fail(f"missing argument of {t.text}()", self.tok.pos)
+                args.append(self.sum())
+                if self.tok.text != ",":
+                    break
+                self.advance()
+        self.close(opener)
+        self.depth -= 1
+        n = len(args)
+        if n < fn.min_args or (fn.max_args is not None and n > fn.max_args):
+            want = (f"{fn.min_args}" if fn.max_args == fn.min_args
+                    else f"at least {fn.min_args}")
+            raise self.fail(f"{t.text}() takes {want} argument{'s' if want != '1' else ''}, "
+                            f"got {n}", t.pos)
+        self.used.add(t.text)
+        end = self.tokens[self.i - 1].end
+        if all(a.value is not None for a in args):
+            value = self.evaluate(fn.value, *[a.value for a in args])
+            if self.numeric:
+                return self.constant(None, value, t.pos, end)
+            if t.text in ("min", "max") and not self.display:
+                # Pick by double value: no symbolic comparisons of constants.
+                pick = (min if t.text == "min" else max)(args, key=lambda a: a.value)
+                return self.constant(pick.expr, value, t.pos, end)
+            return self.constant(fn.build(*[a.expr for a in args]), value, t.pos, end)
+        exprs = [a.expr for a in args]
+        if t.text in ("min", "max") and not self.display:
+            # Fold the constant arguments to one (chosen by double value) before sympy sees them.
+            consts = [a for a in args if a.value is not None]
+            if len(consts) > 1:
+                pick = (min if t.text == "min" else max)(consts, key=lambda a: a.value)
+                exprs = [a.expr for a in args if a.value is None] + [pick.expr]
+        return self.settle(fn.build(*exprs))
+
+
+def _number(value: float) -> Any:
+    """A sympy number for a double: an exact Integer when small and integral, else a Float."""
+    if value == int(value) and abs(value) <= _BIG_INT:
+        return sp.Integer(int(value))
+    return sp.Float(value)
+
+
+# ---------------------------------------------------------------------------------------------
+# Printing: code for the numpy and math paths, and mathtext-safe LaTeX
+# ---------------------------------------------------------------------------------------------
+
+
+def _float_code(value: float) -> str:
+    if math.isfinite(value):
+        return repr(value)  # round-trip exact (sympy's default prints 15 digits)
+    return "(1e999)" if value > 0 else "(-1e999)"
+
+
+class _VectorPrinter(NumPyPrinter):
+    def _print_Float(self, expr: Any) -> str:
+        return _float_code(float(expr))
+
+
+class _ScalarPrinter(LambdaPrinter):
+    """Python-float code whose every domain error raises (then the numpy path answers)."""
+
+    def _print_Float(self, expr: Any) -> str:
+        return _float_code(float(expr))
+
+    def _print_Pow(self, expr: Any, rational: bool = False) -> str:
+        base, exp = expr.args
+        b = self.parenthesize(base, 100)
+        if exp.is_Integer:
+            return f"{b}**{self._print(exp)}"  # real for every real base
+        if exp == sp.S.Half:
+            return f"sqrt({self._print(base)})"
+        # Python's ** gives a complex number for a negative base; math.pow raises instead.
+        return f"real_pow({self._print(base)}, {self._print(exp)})"
+
+    def _print_Min(self, expr: Any) -> str:
+        return "real_min(" + ", ".join(self._print(a) for a in expr.args) + ")"
+
+    def _print_Max(self, expr: Any) -> str:
+        return "real_max(" + ", ".join(self._print(a) for a in expr.args) + ")"
+
+    def _print_sign(self, expr: Any) -> str:
+        return f"real_sign({self._print(expr.args[0])})"
+
+    def _print_Heaviside(self, expr: Any) -> str:
+        return f"real_heaviside({self._print(expr.args[0])})"
+
+
+_SCALAR_NAMESPACE = {
+    "real_pow": _real_pow,
+    "real_min": _real_min,
+    "real_max": _real_max,
+    "real_sign": _real_sign,
+    "real_heaviside": _real_heaviside,
+    "math": math,  # some sympy printers write math.log10 and the like
+}
+
+
+class _MathtextLatexPrinter(LatexPrinter):
+    """sympy LaTeX restricted to what matplotlib's mathtext renders."""
+
+    def _named(self, name: str, expr: Any, exp: Any) -> str:
+        args = ", ".join(self._print(a) for a in expr.args)
+        tex = name + r"\left(" + args + r"\right)"
+        return tex if exp is None else r"\left(" + tex + r"\right)^{" + str(exp) + "}"
+
+    def _print_log10(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\log_{10}", expr, exp)
+
+    def _print_log2(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\log_{2}", expr, exp)
+
+    def _print_Heaviside(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\mathrm{H}", expr, exp)
+
+    def _print_sign(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\mathrm{sgn}", expr, exp)
+
+    def _print_atan2(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\mathrm{atan2}", expr, exp)
+
+    def _print_Symbol(self, expr: Any, style: str = "plain") -> str:
+        if expr == DEG:
+            return r"\mathrm{deg}"
+        return super()._print_Symbol(expr, style)
+
+
+_LATEX = _MathtextLatexPrinter({"ln_notation": True})
+_LATEX_AS_TYPED = _MathtextLatexPrinter({"ln_notation": True, "order": "none"})
+
+
+def _latex(expr: Any, as_typed: bool = False) -> str:
+    tex = (_LATEX_AS_TYPED if as_typed else _LATEX).doprint(expr)
+    # mathtext has no \operatorname in older matplotlib; \mathrm looks the same.
+    return tex.replace(r"\operatorname{", r"\mathrm{")
+
+
+def mathtext(latex: str, fallback: str) -> str:
+    """``$latex$`` when matplotlib's mathtext can render it, else ``fallback`` as plain text.
+
+    Imports matplotlib lazily (the parser itself never needs it). Use for Figure text.
+    """
+    from matplotlib.mathtext import MathTextParser
+
+    candidate = f"${latex}$"
+    try:
+        MathTextParser("agg").parse(candidate, dpi=72)
+    except Exception:  # noqa: BLE001 - any mathtext failure means: show plain text
+        return fallback.replace("$", r"\$")
+    return candidate
+
+
+# ---------------------------------------------------------------------------------------------
+# Compiling
+# ---------------------------------------------------------------------------------------------
+
+_Z = sp.Symbol("_z", real=True)  # the unknown inside generated code (never a user string)
+
+
+def _prepare(expr: Any, unknown: Any) -> Any:
+    """Rename the unknown and turn exact numbers too big for doubles into Floats."""
+    expr = expr.xreplace({unknown: _Z})
+    big = {a: sp.Float(float(a)) for a in expr.atoms(sp.Rational)
+           if abs(a.p) > _BIG_INT or a.q > _BIG_INT}
+    return expr.xreplace(big) if big else expr
+
+
+def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
+    """f(x) for float or array x; floats in give a float out; never raises on domain errors."""
+    code = _prepare(expr, unknown)
+    vector = sp.lambdify(_Z, code, modules="numpy", printer=_VectorPrinter)
+    try:
+        scalar = sp.lambdify(_Z, code, modules=[_SCALAR_NAMESPACE, "math"],
+                             printer=_ScalarPrinter)
+    except Exception:  # noqa: BLE001 - a construct the math printer lacks: numpy path only
+        scalar = None
+
+    def on_array(x: Any) -> Any:
+        arr = np.asarray(x, dtype=np.float64)
+        with np.errstate(all="ignore"):
+            out = vector(arr)
+        out = np.asarray(out, dtype=np.float64)
+        if out.shape != arr.shape:  # an expression that does not depend on x
+            out = np.broadcast_to(out, arr.shape).copy()
+        return out
+
+    def on_float(x: float) -> float:
+        if scalar is not None:
+            try:
+                r = scalar(x)
+                if r.__class__ is float:
+                    return r
+                if isinstance(r, (int, float)) and not isinstance(r, bool):
+                    return float(r)
+            except (ArithmeticError, ValueError, TypeError):
+                pass
+        return float(on_array(x))
+
+    def evaluate(x: Any) -> Any:
+        if x.__class__ is float:
+            return on_float(x)
+        if isinstance(x, (Real, np.number)) and not isinstance(x, np.ndarray):
+            return on_float(float(x))
+        return on_array(x)
+
+    return evaluate
+
+
+def _node_count(expr: Any, limit: int) -> int:
+    n = 0
+    for _ in sp.preorder_traversal(expr):
+        n += 1
+        if n > limit:
+            break
+    return n
+
+
+# ---------------------------------------------------------------------------------------------
+# The public record
+# ---------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True, eq=False)
 class Equation:
+    """A checked equation ``lhs = rhs`` read as ``f(unknown) = lhs - rhs = 0``.
+
+    ``expr`` and ``derivative`` have parameter values (and deg = pi/180) substituted;
+    ``symbolic_expr`` and ``symbolic_derivative`` keep parameters as symbols (they are
+    what ``latex`` and ``derivative_latex`` show). ``f`` and ``fprime`` are compiled
+    once: vectorised, real-valued, never raising on domain errors (nan/inf instead).
+    ``fprime`` is None when no usable symbolic derivative exists (``notes`` says why);
+    Newton then uses a numerical derivative.
+    """
+
     text: str
     unknown: str
-    parameters: dict
+    parameters: dict[str, float]
+    names: tuple[str, ...]
     expr: Any
     derivative: Any
-    f: Callable
-    fprime: Callable | None
+    f: Callable[[Any], Any] = field(repr=False)
+    fprime: Callable[[Any], Any] | None = field(repr=False)
+    latex: str = ""
+    derivative_latex: str = ""
+    notes: tuple[str, ...] = ()
+    symbolic_expr: Any = None
+    symbolic_derivative: Any = None
+    _mp: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    def residual_mp(self, x: Any, dps: int = 50) -> Any:
+        """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).
+
+        Uses the exact constants of the text (pi, 1/3, deg) and the parameters' double
+        values; x may be a float, a string or an mpf. NaN when the value is not real or
+        not defined. Meant for checking a root: f should be finite near x.
+        """
+        import mpmath
+
+        fn = self._mp.get("f")
+        if fn is None:
+            params = [sp.Symbol(n, real=True) for n in self.parameters]
+            fn = sp.lambdify([_Z, DEG, *params],
+                             _prepare(self.symbolic_expr, sp.Symbol(self.unknown, real=True)),
+                             modules="mpmath")
+            self._mp["f"] = fn
+        with mpmath.workdps(dps):
+            args = [mpmath.mpf(x), mpmath.pi / 180,
+                    *[mpmath.mpf(v) for v in self.parameters.values()]]
+            try:
+                r = fn(*args)
+            except (ArithmeticError, ValueError):
+                return mpmath.mpf("nan")
+            if isinstance(r, mpmath.mpc):
+                return mpmath.mpf(r.real) if r.imag == 0 else mpmath.mpf("nan")
+            return +mpmath.mpf(r)
+
+    def mathtext(self) -> str:
+        """The typeset equation for a matplotlib Text: ``$...$``, or the plain text if
+        mathtext cannot render it."""
+        return mathtext(self.latex, self.text)
 
 
-def parse_equation(text: str, unknown: str | None = None, parameters=None) -> Equation:
-    raise NotImplementedError
+def _validate_parameters(parameters: Mapping[str, Any] | None) -> dict[str, float]:
+    if parameters is None:
+        return {}
+    if not isinstance(parameters, Mapping):
+        raise EquationError("parameters must be a mapping of name to number")
+    values: dict[str, float] = {}
+    for name, value in parameters.items():
+        if not isinstance(name, str):
+            raise EquationError(f"parameter name {name!r} is not a string")
+        if isinstance(value, bool) or not isinstance(value, (Real, np.number)) or \
+                isinstance(value, complex | np.complexfloating):
+            raise EquationError(f"parameter {name!r} must be a real number, "
+                                f"got {type(value).__name__}")
+        v = float(value)
+        if not math.isfinite(v):
+            raise EquationError(f"parameter {name!r} must be finite, got {v!r}")
+        values[name] = v
+    return values
+
+
+def _read(text: Any, bindings: Mapping[str, Any], numeric: bool,
+          display: bool = False) -> tuple[_Parser, _Node, _Node | None]:
+    if not isinstance(text, str):
+        raise EquationError(f"equation text must be a string, got {type(text).__name__}")
+    if len(text) > MAX_LENGTH:
+        raise EquationError(f"equation longer than {MAX_LENGTH} characters ({len(text)})",
+                            MAX_LENGTH)
+    if not text.strip():
+        raise EquationError("the equation is empty", None)
+    parser = _Parser(text, _tokenize(text), bindings, numeric)
+    parser.display = display
+    try:
+        if display:
+            with sp.evaluate(False):
+                lhs, rhs = parser.equation()
+        else:
+            lhs, rhs = parser.equation()
+    except RecursionError:
+        raise EquationError("the equation is nested too deeply", None) from None
+    return parser, lhs, rhs
+
+
+def _constant_bindings(numeric: bool) -> dict[str, Any]:
+    deg_value = math.pi / 180
+    if numeric:
+        return {"pi": _Node(sp.Float(math.pi), math.pi), "deg": _Node(sp.Float(deg_value),
+                                                                      deg_value)}
+    return {"pi": _Node(sp.pi, math.pi), "deg": _Node(DEG, deg_value)}
+
+
+def free_names(text: str) -> tuple[str, ...]:
+    """The names an equation uses, in order of first appearance (for a parameter table).
+
+    Functions and the constants pi and deg are not names. Raises :class:`EquationError`
+    on text that does not parse.
+    """
+    parser, _, _ = _read(text, _constant_bindings(False), numeric=False)
+    return tuple(parser.names)
+
+
+def parse_equation(text: str, unknown: str | None = None,
+                   parameters: Mapping[str, float] | None = None) -> Equation:
+    """Read, check and compile an equation; see the module docstring for the syntax.
+
+    ``parameters`` maps names to numbers (entries the text does not use are ignored);
+    ``unknown`` is the name to solve for, inferred when exactly one name in the text
+    has no value. Raises :class:`EquationError` (one line, with ``.position`` where it
+    applies) for anything it cannot use; never evaluates user text as code.
+    """
+    values = _validate_parameters(parameters)
+    parser, lhs, rhs = _read(text, _constant_bindings(False), numeric=False)
+    names = parser.names
+    notes: list[str] = []
+
+    if not names:
+        raise EquationError("the equation has no unknown (it contains no names)", None)
+    if unknown is None:
+        open_names = [n for n in names if n not in values]
+        if len(open_names) == 1:
+            unknown = open_names[0]
+        elif not open_names:
+            raise EquationError("no unknown: every name has a value ("
+                                + ", ".join(names) + "); say which one to solve for", None)
+        else:
+            hint = ""
+            if "e" in open_names:
+                hint = " ('e' is an ordinary name; write exp(...) for the exponential)"
+            raise _fail(text, "cannot tell the unknown: " + ", ".join(
+                f"'{n}'" for n in open_names) + " have no value; name the unknown or give "
+                "values for the others" + hint, None)
+    else:
+        if not isinstance(unknown, str):
+            raise EquationError(f"the unknown must be a name, got {type(unknown).__name__}")
+        if unknown not in names:
+            raise EquationError(f"the unknown '{unknown}' does not appear in the equation "
+                                "(names: " + ", ".join(names) + ")", None)
+        if unknown in values:
+            notes.append(f"'{unknown}' is the unknown: its parameter value is not used")
+        missing = [n for n in names if n != unknown and n not in values]
+        if missing:
+            raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
+                        + f" (the unknown is '{unknown}')", parser.first_pos[missing[0]])
+
+    used = {n: values[n] for n in names if n != unknown}
+    x = sp.Symbol(unknown, real=True)
+
+    # The same text again with parameter values bound: every constant part is checked and
+    # folded in double precision, so sympy never evaluates anything big later.
+    bindings = _constant_bindings(True)
+    bindings.update({n: _Node(_number(v), v) for n, v in used.items()})
+    try:
+        _, nlhs, nrhs = _read(text, bindings, numeric=True)
+    except EquationError as err:
+        if not used:
+            raise
+        raise EquationError(f"{err} (with the given parameter values)", err.position) from None
+
+    symbolic = lhs.expr if rhs is None else lhs.expr - rhs.expr
+    numeric = nlhs.expr if nrhs is None else nlhs.expr - nrhs.expr
+    if not isinstance(numeric, sp.Basic) or _is_bad(numeric):
+        raise EquationError("part of the equation has no finite real value"
+                            + (" with the given parameter values" if used else ""), None)
+
+    latex = _typeset(text, lhs, rhs)
+
+    f = _compile(numeric, x)
+    fprime, derivative, symbolic_derivative, derivative_latex = None, None, None, ""
+    try:
+        derivative = sp.diff(numeric, x)
+        symbolic_derivative = sp.diff(symbolic, x)
+        reason = _unusable(derivative)
+        if reason is None:
+            fprime = _compile(derivative, x)
+            derivative_latex = _latex(symbolic_derivative)
+        else:
+            notes.append(f"no symbolic derivative ({reason}): Newton uses a numerical one")
+            derivative = None
+    except RecursionError:
+        notes.append("no symbolic derivative (expression too deep): Newton uses a numerical one")
+        derivative, symbolic_derivative = None, None
+
+    notes.extend(_notes(parser, names, unknown, numeric, x, text))
+    return Equation(
+        text=text,
+        unknown=unknown,
+        parameters=used,
+        names=(unknown, *[n for n in names if n != unknown]),
+        expr=numeric,
+        derivative=derivative,
+        f=f,
+        fprime=fprime,
+        latex=latex,
+        derivative_latex=derivative_latex,
+        notes=tuple(notes),
+        symbolic_expr=symbolic,
+        symbolic_derivative=symbolic_derivative,
+    )
+
+
+def _typeset(text: str, lhs: _Node, rhs: _Node | None) -> str:
+    """LaTeX of the equation in the order it was typed (parameters by name); if that
+    cannot be built, sympy's own ordering of the checked expression."""
+    try:
+        _, shown_lhs, shown_rhs = _read(text, _constant_bindings(False), numeric=False,
+                                        display=True)
+        sides = [shown_lhs] if shown_rhs is None else [shown_lhs, shown_rhs]
+        tex = [_latex(side.expr, as_typed=True) for side in sides]
+    except Exception:  # noqa: BLE001 - cosmetic path: fall back to the checked expression
+        sides = [lhs] if rhs is None else [lhs, rhs]
+        tex = [_latex(side.expr) for side in sides]
+    return " = ".join(tex) + (" = 0" if len(tex) == 1 else "")
+
+
+def _unusable(derivative: Any) -> str | None:
+    if _node_count(derivative, MAX_DERIVATIVE_NODES) > MAX_DERIVATIVE_NODES:
+        return f"more than {MAX_DERIVATIVE_NODES} terms"
+    if derivative.has(sp.Derivative, sp.Subs):
+        return "sympy left it unevaluated"
+    if _is_bad(derivative):
+        return "it is not real or not finite"
+    return None
+
+
+def _notes(parser: _Parser, names: list[str], unknown: str, numeric: Any, x: Any,
+           text: str) -> list[str]:
+    notes = []
+    if "deg" in parser.used:
+        notes.append("deg = pi/180: angles in degrees become radians")
+    if parser.used.intersection(_TRIG) and "deg" not in parser.used:
+        notes.append("sin, cos and tan take radians (multiply by deg for degrees)")
+    if parser.used.intersection({"abs", "min", "max"}):
+        notes.append("abs/min/max have a kink: the derivative there uses sign/step values")
+    if x not in numeric.free_symbols:
+        notes.append(f"the equation does not depend on '{unknown}' once simplified")
+    if any(n in ("e", "E") for n in names) and re.search(r"[0-9.][eE][+-]?[0-9]", text):
+        notes.append("numbers such as 2e3 are read as 2000, not as 2*e*3")
+    return notes
