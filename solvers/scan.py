@@ -19,7 +19,9 @@ How a scan works
    Newton step with ``fprime`` when given and it lowers |f|.
 4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
    that a parabola through the three samples says dips at least 10 % toward zero is
-   searched by a vectorised golden-section minimisation of |f|. If the search finds
+   searched by a vectorised golden-section minimisation of |f| (also when the dip
+   is small but the parabola's lowest value is within its curvature scale, c h^2, of
+   zero). If the search finds
    the opposite sign, two close roots were hidden between samples: both brackets go
    to step 2 (close roots are resolved, not merged). Otherwise the minimum is a
    root when |f| there is at rounding-noise level (no more than 16x the scatter of
@@ -246,7 +248,9 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
             slope = 0.5 * (d1 + d2)
             with np.errstate(all="ignore"):
                 vertex = s * y[k] - np.where(curv > 0, slope**2 / (2 * curv), np.inf)
-            keep = vertex <= 0.9 * s * y[k]
+            # ... or comes within its own curvature scale of zero (a near-double pair whose
+            # sample sits almost on the dip looks like a touch that narrowly misses)
+            keep = (vertex <= 0.9 * s * y[k]) | (vertex <= curv * h1 * h2)
             for j in np.nonzero(keep)[0]:
                 kk = k[j]
                 out.minima.append(
@@ -839,6 +843,7 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     pieces = cheb.pieces
     if not pieces:
         return roots
+    roots = sorted(roots, key=lambda r: r.x)
 
     def piece_of(x: float):
         for p in pieces:
@@ -847,28 +852,46 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         return None
 
     near = np.array(cheb.near_real, dtype=complex)
-    out: list[Root] = []
-    xs = np.array([r.x for r in roots])
     used = np.zeros(len(near), dtype=bool)
+    out: list[Root] = []
+    # sampled roots closer than the proxy can separate form one cluster (a near-double
+    # pair): the proxy is asked for zeros near the cluster, not for each root exactly
+    clusters: list[list[int]] = []
     for i, r in enumerate(roots):
         p = piece_of(r.x)
+        if clusters and p is not None and r.x - roots[clusters[-1][-1]].x <= 1e-5 * (p.b - p.a):
+            clusters[-1].append(i)
+        else:
+            clusters.append([i])
+    for k, members in enumerate(clusters):
+        first, last = roots[members[0]], roots[members[-1]]
+        p = piece_of(first.x)
         if p is None:
-            out.append(r)
+            out.extend(roots[i] for i in members)
             continue
         width = p.b - p.a
-        radius = max(4 * (1e-12) ** (1.0 / r.multiplicity) * width, 1e-9 * width)
-        if len(xs) > 1:
-            gap_to = np.abs(np.delete(xs, i) - r.x)
-            radius = min(radius, 0.45 * float(np.min(gap_to)))
-        hit = np.abs(near - r.x) <= radius if len(near) else np.zeros(0, dtype=bool)
-        used |= hit
-        if np.any(hit):
-            out.append(Root(r.x, r.residual, r.multiplicity, r.confirmed,
-                            tuple(dict.fromkeys(r.located_by + ("chebyshev",))), r.bracket, r.run))
+        total = sum(roots[i].multiplicity for i in members)
+        radius = max(4 * (1e-12) ** (1.0 / total) * width, 1e-9 * width)
+        if k > 0:
+            radius = min(radius, 0.45 * (first.x - roots[clusters[k - 1][-1]].x))
+        if k + 1 < len(clusters):
+            radius = min(radius, 0.45 * (roots[clusters[k + 1][0]].x - last.x))
+        if len(near):
+            xr = np.clip(near.real, first.x, last.x)
+            hit = np.abs(near - xr) <= radius
         else:
-            out.append(r)
-            notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by the "
-                         f"Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
+            hit = np.zeros(0, dtype=bool)
+        used |= hit
+        for i in members:
+            r = roots[i]
+            if np.any(hit):
+                out.append(Root(r.x, r.residual, r.multiplicity, r.confirmed,
+                                tuple(dict.fromkeys(r.located_by + ("chebyshev",))),
+                                r.bracket, r.run))
+            else:
+                out.append(r)
+                notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by "
+                             f"the Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
     # proxy roots nobody matched
     features = list(poles) + list(jumps) + [e for gap in gaps for e in gap]
     extra: list[float] = []
@@ -884,12 +907,14 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     added: list[_Found] = []
     for x in extra:
         g.check()
-        conf = _confirm_near(g, gp, x, h, xtol, scale)
-        if conf is None:
+        confirmed = _confirm_near(g, gp, x, h, xtol, scale)
+        if not confirmed:
             notes.append(f"cross-check: the Chebyshev proxy has a zero near x = {x:.12g} "
                          f"(|f| = {abs(g.scalar(x)):.3g}) that the scan could not confirm")
-        elif all(abs(conf.x - r.x) > 1e3 * EPS * max(abs(r.x), 1e-3 * scale) for r in out):
-            added.append(conf)
+        for conf in confirmed:
+            known = [r.x for r in out] + [r.x for r in added]
+            if all(abs(conf.x - k) > 1e3 * EPS * max(abs(k), 1e-3 * scale) for k in known):
+                added.append(conf)
     if added:
         new = _finish(g, added, poles, jumps, gaps, h, scale)
         out = sorted(out + new, key=lambda r: r.x)
@@ -898,35 +923,38 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     return out
 
 
-def _confirm_near(g, gp, x, h, xtol, scale) -> _Found | None:
-    """Look for a sign change or a touch within a small window around a proxy root."""
+def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
+    """Look for sign changes or a touch within a small window around a proxy root."""
     w = max(min(h, 1e-6 * max(abs(x), 1.0)), 1e3 * EPS * max(abs(x), 1e-3 * scale))
     for width in (w, 100 * w):
         pts = np.linspace(x - width, x + width, 65)
         y = g(pts)
         cand = _Candidates()
         _detect(pts, y, 0, len(pts), cand)
-        if cand.zeros:
-            xz, odd = cand.zeros[0]
-            return _Found(xz, bool(odd), "f exactly zero (near a Chebyshev proxy root)",
-                          located_by=("chebyshev",))
-        if cand.brackets:
-            br = np.array(cand.brackets[:1], dtype=float)
-            kind, lo, hi, flo, fhi = _classify(g, br, xtol)
-            if kind[0] == _ROOT:
-                r = _refine(g, gp, br[0], lo[0], hi[0], flo[0], fhi[0], xtol)
-                r.located_by = ("chebyshev",)
-                return r
+        found = [_Found(xz, bool(odd), "f exactly zero (near a Chebyshev proxy root)",
+                        located_by=("chebyshev",)) for xz, odd in cand.zeros]
+        brackets = list(cand.brackets)
         if cand.minima:
             mm = np.array(cand.minima)
-            i = int(np.argmin(np.abs(mm[:, 4])))
-            xb, fb, crossed = _golden(g, mm[i:i + 1, 0], mm[i:i + 1, 2], np.sign(mm[i:i + 1, 4]),
-                                      xtol)
-            if not crossed[0]:
-                noise = _noise(g, xb, EPS * scale)[0]
+            xb, fb, crossed = _golden(g, mm[:, 0], mm[:, 2], np.sign(mm[:, 4]), xtol)
+            for i in range(len(mm)):
+                if crossed[i]:
+                    brackets += [(mm[i, 0], xb[i], mm[i, 3], fb[i]),
+                                 (xb[i], mm[i, 2], fb[i], mm[i, 5])]
+                    continue
+                noise = _noise(g, xb[i:i + 1], EPS * scale)[0]
                 neigh = min(abs(mm[i, 3]), abs(mm[i, 5]))
-                if fb[0] == 0 or abs(fb[0]) <= max(16 * noise, 1e-14 * neigh):
-                    r = _touch(g, gp, mm[i, 0], mm[i, 2], float(xb[0]), xtol)
+                if fb[i] == 0 or abs(fb[i]) <= max(16 * noise, 1e-14 * neigh):
+                    r = _touch(g, gp, mm[i, 0], mm[i, 2], float(xb[i]), xtol)
                     r.located_by = ("chebyshev",)
-                    return r
-    return None
+                    found.append(r)
+        if brackets:
+            br = np.array(brackets, dtype=float)
+            kind, lo, hi, flo, fhi = _classify(g, br, xtol)
+            for i in np.nonzero(kind == _ROOT)[0]:
+                r = _refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol)
+                r.located_by = ("chebyshev",)
+                found.append(r)
+        if found:
+            return found
+    return []
