@@ -113,10 +113,14 @@ DEFAULT_RTOL = 4 * EPS
 DEFAULT_FTOL = 0.0
 DEFAULT_MAX_ITER = 100
 
-# Central-difference step h = eps**(1/3) * max(1, |x|): it balances the O(h^2)
-# truncation error against the O(eps/h) rounding error, and the max(1, |x|) scale
-# is the one scipy's approx_derivative uses for its 3-point rule.
+# Central-difference step h = eps**(1/3) * max(|x|, s): eps**(1/3) balances the
+# O(h^2) truncation error against the O(eps/h) rounding error (the factor scipy's
+# approx_derivative uses for its 3-point rule). The step is relative to x because
+# the truncation error of power laws, logarithms and square roots scales with x (an
+# SI molar volume of 1e-4 m3/mol needs h ~ 1e-9, not 6e-6), floored at s = |x0|/1000
+# (s = 1 when x0 = 0) so that iterates approaching a root at zero keep a usable step.
 DERIVATIVE_STEP = EPS ** (1.0 / 3.0)
+DERIVATIVE_FLOOR = 1e-3
 
 Function = Callable[[float], Any]
 
@@ -279,15 +283,18 @@ def _same_sign(u: float, v: float) -> bool:
 # --------------------------------------------------------------------------- open methods
 
 
-def _central_difference(ev: _Evaluator, x: float, fx: float) -> float:
-    """f'(x) by a central difference; one-sided where one neighbour is outside f's domain.
+def _central_difference(ev: _Evaluator, x: float, fx: float, scale: float) -> float:
+    """f'(x) by a central difference, shrinking the step near the edge of f's domain.
 
-    Step h = eps**(1/3)*max(1, |x|); if neither neighbour is finite, h shrinks by 1e-3
-    up to twice more. Returns NaN when no usable difference exists. Every call of f
-    counts in ``ev.calls``.
+    Step h = eps**(1/3)*max(|x|, scale). If f is not finite on one side (x near the edge
+    of its domain, e.g. sqrt near 0), h shrinks by 1e-3 up to three times to find a
+    central difference that fits; failing that, the one-sided difference with the
+    smallest h that worked is used. Returns NaN when no usable difference exists.
+    Every call of f counts in ``ev.calls``.
     """
-    h = DERIVATIVE_STEP * max(abs(x), 1.0)
-    for _ in range(3):
+    h = DERIVATIVE_STEP * max(abs(x), scale)
+    one_sided = math.nan
+    for _ in range(4):
         xp = x + h
         xm = x - h
         fp = ev(xp)
@@ -297,11 +304,11 @@ def _central_difference(ev: _Evaluator, x: float, fx: float) -> float:
         if fp_ok and fm_ok:
             return (fp - fm) / (xp - xm)
         if fp_ok:
-            return (fp - fx) / (xp - x)
-        if fm_ok:
-            return (fx - fm) / (x - xm)
+            one_sided = (fp - fx) / (xp - x)
+        elif fm_ok:
+            one_sided = (fx - fm) / (x - xm)
         h *= 1e-3
-    return math.nan
+    return one_sided
 
 
 @_quiet
@@ -319,10 +326,12 @@ def newton(
 ) -> Run:
     """Newton-Raphson from x0: ``x_{k+1} = x_k - damping * f(x_k)/f'(x_k)``.
 
-    ``fprime=None`` uses a central-difference derivative (step eps**(1/3)*max(1,|x|),
-    two extra f calls per iterate, counted in ``evaluations``) and records
-    ``run.derivative = "numerical"``; a supplied ``fprime`` is recorded as
-    ``derivative_source`` ("symbolic" or "supplied", default "supplied").
+    ``fprime=None`` uses a central-difference derivative and records
+    ``run.derivative = "numerical"``: step h = eps**(1/3)*max(|x|, s) with
+    s = |x0|/1000 (1 when x0 = 0), two extra f calls per iterate (more near the edge
+    of f's domain, where h shrinks), all counted in ``evaluations``. A supplied
+    ``fprime`` is recorded as ``derivative_source`` ("symbolic" or "supplied",
+    default "supplied").
     ``damping`` (0 < damping <= 1) shortens every step; below 1 the convergence is
     linear. Stops on the step just taken, ``|dx| <= xtol + rtol*|x|``; f is always
     evaluated at the returned root, so its residual is on record. A zero derivative,
@@ -349,7 +358,7 @@ def newton(
             )
     settings = dict(tol, damping=damping, x0=x0, derivative=source)
     if fprime is None:
-        settings["derivative_step"] = "central difference, h = eps**(1/3)*max(1, |x|)"
+        settings["derivative_step"] = "central difference, h = eps**(1/3)*max(|x|, s)"
 
     ev = _Evaluator(f)
     dev = _Evaluator(fprime, "f'") if fprime is not None else None
@@ -363,6 +372,7 @@ def newton(
     x = float(x0)
     if not math.isfinite(x):
         return done(NOT_FINITE, math.nan, 0, f"starting point x0 = {x!r} is not finite")
+    scale = DERIVATIVE_FLOOR * abs(x) if x != 0.0 else 1.0  # floor of the difference step
     fx = ev(x)
     k = 0
     dx: float | None = None
@@ -382,7 +392,7 @@ def newton(
         if k >= cap:
             steps.append(Step(k, x, fx, None, dx))
             return done(MAX_ITERATIONS, x, k)
-        dfx = _central_difference(ev, x, fx) if dev is None else dev(x)
+        dfx = _central_difference(ev, x, fx, scale) if dev is None else dev(x)
         steps.append(Step(k, x, fx, dfx, dx))
         if not math.isfinite(dfx):
             fault = (dev.fault if dev is not None else None) or (
