@@ -56,6 +56,7 @@ import hashlib
 import io
 import math
 import os
+import struct
 import tempfile
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -195,11 +196,11 @@ def _styles() -> dict[str, ParagraphStyle]:
         ),
         "h1": ParagraphStyle(
             "h1", parent=base, fontName="ZT-Sans-Bold", fontSize=11, leading=14,
-            spaceBefore=10, spaceAfter=4, keepWithNext=1,
+            spaceBefore=10, spaceAfter=4,
         ),
         "h2": ParagraphStyle(
             "h2", parent=base, fontName="ZT-Sans-Bold", fontSize=9.4, leading=12,
-            spaceBefore=6, spaceAfter=3, keepWithNext=1,
+            spaceBefore=6, spaceAfter=3,
         ),
         "caption": ParagraphStyle(
             "caption", parent=base, fontName="ZT-Sans-Oblique", fontSize=7.8, leading=10,
@@ -360,16 +361,19 @@ def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
     if not latex or len(latex) > 3000:
         return None
     from matplotlib.font_manager import FontProperties
-    from matplotlib.mathtext import MathTextParser, math_to_image
+    from matplotlib.mathtext import math_to_image
 
     text = latex if latex.startswith("$") else f"${latex}$"
     prop = FontProperties(size=size)
+    buffer = io.BytesIO()
     try:
-        width, height, _depth, _, _ = MathTextParser("path").parse(text, dpi=72, prop=prop)
-        buffer = io.BytesIO()
         math_to_image(text, buffer, prop=prop, dpi=FIGURE_DPI, format="png")
     except Exception:  # mathtext knows a subset of LaTeX; fall back to the text as typed
         return None
+    # Print size from the PNG's own header (IHDR width, height in pixels at FIGURE_DPI),
+    # which spares a second mathtext parse.
+    pixels_w, pixels_h = struct.unpack(">II", buffer.getvalue()[16:24])
+    width, height = pixels_w * 72 / FIGURE_DPI, pixels_h * 72 / FIGURE_DPI
     scale = min(1.0, max_width / width) if width > 0 else 1.0
     if scale < 0.45:  # would print below ~5 pt: unreadable, the typed text is clearer
         return None
@@ -507,6 +511,11 @@ def _iteration_table(run: Run, st: dict) -> list[Flowable]:
     return [table]
 
 
+def _heading(text: str, st: dict, level: str = "h1") -> list[Flowable]:
+    """A heading that never ends a page: it moves over unless ~30 mm of its section fit."""
+    return [CondPageBreak((32 if level == "h1" else 24) * mm), Paragraph(escape(text), st[level])]
+
+
 def _boxed(paragraph: Paragraph, edge, fill) -> Table:
     box = Table([[paragraph]], colWidths=[TEXT_WIDTH])
     box.setStyle(
@@ -598,7 +607,7 @@ def _title_block(c: _Context) -> list[Flowable]:
                CAUTION_FILL)
     )
     if ws.notes.strip():
-        out += [Paragraph("Purpose and notes", st["h2"]), Paragraph(_text(ws.notes), st["body"])]
+        out += [*_heading("Purpose and notes", st, "h2"), Paragraph(_text(ws.notes), st["body"])]
     return out
 
 
@@ -630,9 +639,9 @@ def _equation_section(c: _Context) -> list[Flowable]:
     notes = tuple(getattr(eq, "notes", ()) or ())
     if notes:
         rows.append(("Reading of the text", Paragraph(_text("; ".join(notes)), st["cell"])))
-    out: list[Flowable] = [Paragraph("1  Equation", st["h1"]), _key_value_table(rows, st)]
+    out: list[Flowable] = [*_heading("1  Equation", st, "h1"), _key_value_table(rows, st)]
 
-    out.append(Paragraph("2  Parameters", st["h1"]))
+    out += _heading("2  Parameters", st, "h1")
     params = c.ws.parameters
     if not params:
         out.append(Paragraph("The equation has no named parameters.", st["body"]))
@@ -687,7 +696,7 @@ def _settings_section(c: _Context) -> list[Flowable]:
     ]
     if sv.notes:
         rows.append(("Start value notes", Paragraph(_text("; ".join(sv.notes)), st["cell"])))
-    return [Paragraph("3  Method settings", st["h1"]), _key_value_table(rows, st)]
+    return [*_heading("3  Method settings", st, "h1"), _key_value_table(rows, st)]
 
 
 def _method_kinds(methods: Sequence[str]) -> set[str]:
@@ -726,7 +735,7 @@ def _results_section(c: _Context) -> list[Flowable]:
             style += [("TEXTCOLOR", (2, i), (3, i), FAIL_INK),
                       ("FONTNAME", (2, i), (2, i), "ZT-Sans-Bold")]
     out: list[Flowable] = [
-        Paragraph("4  Results", st["h1"]),
+        *_heading("4  Results", st, "h1"),
         Table(data, colWidths=widths, repeatRows=1, hAlign="LEFT", style=TableStyle(style)),
         Spacer(1, 4),
     ]
@@ -744,7 +753,7 @@ def _results_section(c: _Context) -> list[Flowable]:
     )
     out += [Spacer(1, 4), Paragraph(reasons, st["small"])]
 
-    out.append(Paragraph("Verification of each root", st["h2"]))
+    out += _heading("Verification of each root", st, "h2")
     vhead = [Paragraph(t, st["label"]) for t in (
         "Method", "f(root), double precision, as the method computed it",
         f"f(root) evaluated at {RESIDUAL_DIGITS} digits (mpmath)", "last step |Δx| / |x|")]
@@ -782,7 +791,7 @@ def _results_section(c: _Context) -> list[Flowable]:
 
 def _scan_section(c: _Context) -> list[Flowable]:
     st, sc, ws = c.st, c.scan, c.ws
-    out: list[Flowable] = [Paragraph("5  Roots in the scan range", st["h1"])]
+    out: list[Flowable] = [*_heading("5  Roots in the scan range", st, "h1")]
     if sc is None:
         out.append(_boxed(Paragraph(
             "<b>No scan range was set in the worksheet</b>, so no search for other roots was "
@@ -828,7 +837,7 @@ def _scan_section(c: _Context) -> list[Flowable]:
             rows.append(("Scan warnings", Paragraph(_text("; ".join(warnings)), st["cell"])))
         out += [Spacer(1, 4), _key_value_table(rows, st)]
 
-    out.append(Paragraph("Design value", st["h2"]))
+    out += _heading("Design value", st, "h2")
     sel = ws.selection
     if sel is None:
         out.append(Paragraph(
@@ -878,15 +887,16 @@ def _figures_section(c: _Context) -> list[Flowable]:
     from solvers import figures
 
     st, sol = c.st, c.solution
-    out: list[Flowable] = [CondPageBreak(95 * mm), Paragraph("6  Figures", st["h1"])]
+    out: list[Flowable] = [CondPageBreak(95 * mm), *_heading("6  Figures", st, "h1")]
     run = _path_run(sol, c.ws)
     a, b = _plot_range(c, run)
     f = sol.equation.f
     where = "the scan range" if c.scan is not None else "the bracket or the iterates' span"
     path = f" and the path of {_label(run.method)}" if run is not None else ""
     captions = (
-        f"Figure 1. f({sol.equation.unknown}) over {where} [{_num(a)}, {_num(b)}], with the roots, "
-        f"poles and jumps the scan found{path}.",
+        f"Figure 1. The function whose root is sought (left side minus right side) against "
+        f"{sol.equation.unknown}, over {where} [{_num(a)}, {_num(b)}], with the roots, poles and "
+        f"jumps the scan found{path}.",
         "Figure 2. Convergence: |f(x_k)| against iterate k for every method (log scale).",
     )
     draws = (
@@ -907,7 +917,7 @@ def _iterations_section(c: _Context) -> list[Flowable]:
     st = c.st
     out: list[Flowable] = [
         CondPageBreak(60 * mm),
-        Paragraph("7  Iteration tables", st["h1"]),
+        *_heading("7  Iteration tables", st, "h1"),
         Paragraph(
             "Every point each method evaluated, at full double precision (the same digits as "
             "the runs CSV). k = 0 (and k = 1 for the two-point and bracketing methods) are the "
