@@ -352,6 +352,19 @@ def test_overflow_is_not_finite():
 def test_complex_result_is_not_finite():
     run = newton(lambda x: cmath.sqrt(x) - 2.0, -1.0)
     assert run.reason == "not_finite" and "complex" in run.message
+    # Python's fractional power of a negative float is complex: (-8.0)**(1/3)
+    run = bisection(lambda x: x ** (1.0 / 3.0) - 1.0, -8.0, 8.0)
+    assert run.reason == "not_finite" and "complex" in run.message
+    # numpy gives nan instead, quietly
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        run = brent(lambda x: np.power(x, 1.0 / 3.0) - 1.0, -8.0, 8.0)
+    assert caught == [] and run.reason == "not_finite"
+
+
+def test_f_returning_several_values_is_not_finite():
+    run = newton(lambda x: np.array([x, x]), 1.0)
+    assert run.reason == "not_finite" and "2 values" in run.message
 
 
 def test_non_finite_start_values_are_results():
