@@ -700,7 +700,8 @@ def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
             run = brent(gp.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
                         max_iter=200)
             xr = float(run.root)
-            if lo <= xr <= hi and abs(g.scalar(xr)) <= abs(g.scalar(xm)):
+            level = max(abs(g.scalar(xm)), 16 * float(_noise(g, np.array([xr]), EPS)[0]))
+            if run.converged and lo <= xr <= hi and abs(g.scalar(xr)) <= level:
                 return _Found(xr, False, "touch: f' sign change, Brent on f'; |f| at noise level",
                               run=run)
     return _Found(xm, False, how)

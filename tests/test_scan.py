@@ -1,0 +1,385 @@
+"""solvers.scan: every root on a range, and everything that only looks like one.
+
+Each outside value names its source in a comment beside the check.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import tracemalloc
+
+import mpmath
+import numpy as np
+import pytest
+import scipy.constants
+import scipy.special
+
+from solvers.scan import CHUNK, DEFAULT_SAMPLES, Root, Scan, ScanCancelled, scan
+
+
+def xs(result: Scan) -> list[float]:
+    return [r.x for r in result.roots]
+
+
+def assert_roots(result: Scan, expected, *, rel=1e-12, abs_=1e-14):
+    assert len(result.roots) == len(expected), (xs(result), list(expected))
+    for got, want in zip(result.roots, expected, strict=True):
+        assert got.x == pytest.approx(want, rel=rel, abs=abs_)
+
+
+# ----------------------------------------------------------------- handbook eigenvalue tables
+
+
+def test_cantilever_beam_frequency_equation():
+    # cos(x) cosh(x) + 1 = 0, clamped-free beam: lambda_i = 1.87510407, 4.69409113,
+    # 7.85475744, 10.99554073 (Blevins, Formulas for Natural Frequency and Mode Shape,
+    # Table 8-1, clamped-free; values from memory) and mpmath.findroot to full precision.
+    result = scan(lambda x: np.cos(x) * np.cosh(x) + 1.0, 0.0, 12.0)
+    handbook = [1.87510407, 4.69409113, 7.85475744, 10.99554073]
+    assert_roots(result, handbook, rel=1e-8)
+    for r in result.roots:
+        ref = float(mpmath.findroot(lambda t: mpmath.cos(t) * mpmath.cosh(t) + 1, r.x))
+        assert r.x == pytest.approx(ref, rel=4e-15)  # mpmath.findroot reference
+        assert r.multiplicity == 1
+        assert r.located_by == ("sampling", "chebyshev")
+        assert r.confirmed.startswith("sign change, Brent")
+        assert r.run is not None and r.run.method == "brent" and r.run.converged
+    assert result.poles == [] and result.discontinuities == [] and result.warnings == []
+
+
+@pytest.mark.parametrize(
+    ("biot", "table"),
+    [
+        # xi_n tan(xi_n) = Bi, first four roots (Incropera et al., Fundamentals of Heat and
+        # Mass Transfer, Appendix B.3; values from memory, 4 decimals)
+        (0.1, [0.3111, 3.1731, 6.2991, 9.4354]),
+        (1.0, [0.8603, 3.4256, 6.4373, 9.5293]),
+        (10.0, [1.4289, 4.3058, 7.2281, 10.2003]),
+    ],
+)
+def test_plane_wall_conduction_eigenvalues(biot, table):
+    # in the tan form the equation has poles at pi/2 + n pi: they must not be roots
+    result = scan(lambda x: x * np.tan(x) - biot, 0.0, 10.5)
+    assert_roots(result, table, rel=0, abs_=6e-5)
+    for r in result.roots:
+        ref = float(mpmath.findroot(lambda t: t * mpmath.sin(t) - biot * mpmath.cos(t), r.x))
+        assert r.x == pytest.approx(ref, rel=4e-15)  # mpmath.findroot reference
+    poles = [math.pi / 2 + n * math.pi for n in range(3)]  # tan's poles (common practice)
+    assert result.poles == pytest.approx(poles, rel=1e-14)
+
+
+# ----------------------------------------------------------------- reference libraries
+
+
+def test_polynomial_against_numpy_roots():
+    coefficients = [1.0, -2.5, -7.75, 13.375, 9.0, -4.5]
+    real = sorted(z.real for z in np.roots(coefficients) if abs(z.imag) < 1e-12)  # numpy.roots
+    result = scan(lambda x: np.polyval(coefficients, x), -4.0, 5.0)
+    assert_roots(result, real, rel=1e-12)
+    assert all(r.multiplicity == 1 for r in result.roots)
+
+
+def test_random_polynomials_against_numpy_roots():
+    rng = np.random.default_rng(7)
+    for _ in range(20):
+        coefficients = rng.normal(size=int(rng.integers(3, 9)))
+        zs = np.roots(coefficients)  # numpy.roots reference
+        real = sorted(z.real for z in zs if abs(z.imag) < 1e-9 and abs(z.real) < 3)
+        if any(abs(z.real) > 2.9 and abs(z.real) < 3.1 for z in zs):
+            continue  # a root at the range end would make the count ambiguous
+        result = scan(lambda x, c=coefficients: np.polyval(c, x), -3.0, 3.0)
+        assert_roots(result, real, rel=1e-9, abs_=1e-10)
+
+
+def test_van_der_waals_compressibility_three_real_roots():
+    # van der Waals CO2: a = 0.3640 Pa m^6/mol^2, b = 4.267e-5 m^3/mol (CRC Handbook of
+    # Chemistry and Physics, van der Waals constants table; from memory). R from scipy.
+    R = scipy.constants.R
+    a_vdw, b_vdw = 0.3640, 4.267e-5
+    T, P = 280.0, 5.5e6  # below the critical point: liquid, unstable and vapour roots
+    A, B = a_vdw * P / (R * T) ** 2, b_vdw * P / (R * T)
+    cubic = [1.0, -(1.0 + B), A, -A * B]  # Z^3 - (1 + B) Z^2 + A Z - A B = 0
+    reference = sorted(z.real for z in np.roots(cubic))  # numpy.roots reference
+    assert all(abs(z.imag) < 1e-12 for z in np.roots(cubic))
+    result = scan(lambda z: np.polyval(cubic, z), 0.0, 1.5)
+    assert_roots(result, reference, rel=1e-12)
+    assert result.roots[0].x > B  # the liquid root lies above the co-volume (common practice)
+
+
+@pytest.mark.parametrize("order", [0, 1, 2])
+def test_bessel_zeros(order):
+    zeros = scipy.special.jn_zeros(order, 12)  # scipy.special.jn_zeros reference
+    result = scan(lambda x: scipy.special.jv(order, x), 0.5, 38.0)
+    expected = [z for z in zeros if 0.5 < z < 38.0]
+    assert_roots(result, expected, rel=1e-13)
+
+
+# ----------------------------------------------------------------- elementary cases
+
+
+def test_zeros_of_sin_one_over_x():
+    # sin(1/x) = 0 at x = 1/(n pi) (common practice): n = 1..6 lie in [0.05, 1]
+    result = scan(lambda x: np.sin(1.0 / x), 0.05, 1.0)
+    assert_roots(result, sorted(1 / (n * math.pi) for n in range(1, 7)), rel=1e-13)
+
+
+def test_sin_one_over_x_closer_to_the_accumulation_point():
+    # 1/(n pi) for n = 1..63 in [0.005, 1]: spacing shrinks to 5e-5, below the default
+    # sample spacing of 5e-4, so the oscillation check has to refine (common practice)
+    result = scan(lambda x: np.sin(1.0 / x), 0.005, 1.0)
+    expected = sorted(1 / (n * math.pi) for n in range(1, 64))
+    assert_roots(result, expected, rel=1e-12)
+
+
+def test_double_root_touch():
+    result = scan(lambda x: (x - 2.00031) ** 2, 0.0, 4.0)
+    assert len(result.roots) == 1
+    root = result.roots[0]
+    assert root.x == pytest.approx(2.00031, rel=1e-12)
+    assert root.multiplicity == 2
+    assert root.confirmed.startswith("touch")
+
+
+def test_double_root_with_derivative_uses_brent_on_fprime():
+    result = scan(lambda x: (x - 2.00031) ** 2 * np.exp(x), 0.0, 4.0,
+                  fprime=lambda x: (x - 2.00031) * (x - 2.00031 + 2.0) * np.exp(x))
+    (root,) = result.roots
+    assert root.x == pytest.approx(2.00031, rel=1e-14)
+    assert root.multiplicity == 2
+    assert "f'" in root.confirmed and root.run is not None
+
+
+def test_expanded_double_root_with_rounding_noise():
+    # x^2 - 4.2 x + 4.41 = (x - 2.1)^2 evaluated with cancellation: still one touch
+    result = scan(lambda x: (x - 4.2) * x + 4.41, 0.0, 4.0)
+    assert len(result.roots) == 1
+    assert result.roots[0].x == pytest.approx(2.1, rel=1e-7)
+    assert result.roots[0].multiplicity == 2
+
+
+def test_near_miss_is_not_a_root():
+    # (x - 2)^2 + 1e-12 > 0 everywhere (common practice): no root, though |f| dips to 1e-12
+    assert scan(lambda x: (x - 2.00031) ** 2 + 1e-12, 0.0, 4.0).roots == []
+    assert scan(lambda x: (x - 2.00031) ** 2 + 1e-3, 0.0, 4.0).roots == []
+
+
+def test_triple_root():
+    result = scan(lambda x: (x - 1.0) ** 3, 0.0, 3.0)
+    (root,) = result.roots
+    assert root.x == pytest.approx(1.0, abs=1e-12)
+    assert root.multiplicity == 3
+
+
+def test_fourth_order_touch():
+    result = scan(lambda x: (x - 1.3) ** 4 * np.exp(x), 0.0, 3.0)
+    (root,) = result.roots
+    assert root.x == pytest.approx(1.3, abs=1e-3)  # eps**(1/4) conditioning (common practice)
+    assert root.multiplicity == 4
+
+
+def test_near_double_roots_are_resolved_not_merged():
+    result = scan(lambda x: (x - 1.0) * (x - 1.0 - 1e-6), 0.0, 3.0)
+    assert_roots(result, [1.0, 1.0 + 1e-6], rel=1e-12)
+    assert [r.multiplicity for r in result.roots] == [1, 1]
+
+
+def test_near_double_roots_straddling_no_sample():
+    # 1e-8 apart, both between two samples: found from the local minimum of |f|
+    r0 = 1.2345678
+    result = scan(lambda x: (x - r0) * (x - r0 - 1e-8) * np.exp(x), 0.0, 3.0)
+    assert_roots(result, [r0, r0 + 1e-8], rel=1e-13)
+
+
+def test_poles_of_tan_are_not_roots():
+    result = scan(np.tan, 0.0, 10.0)
+    assert_roots(result, [0.0, math.pi, 2 * math.pi, 3 * math.pi], rel=1e-15, abs_=1e-300)
+    # poles of tan at pi/2 + n pi (common practice)
+    assert result.poles == pytest.approx([math.pi / 2 + n * math.pi for n in range(3)],
+                                         rel=1e-15)
+
+
+@pytest.mark.parametrize("c", [0.3, 0.31234567])
+def test_simple_pole_is_a_pole(c):
+    result = scan(lambda x: 1.0 / (x - c), 0.0, 1.0)
+    assert result.roots == []
+    assert result.poles == pytest.approx([c], rel=1e-15)
+
+
+def test_pole_next_to_a_root():
+    result = scan(lambda x: (x - 0.5) / (x - 0.25), 0.0, 1.0)
+    assert_roots(result, [0.5])
+    assert result.poles == pytest.approx([0.25], rel=1e-15)
+
+
+def test_logarithmic_singularity_with_sign_change_is_a_pole():
+    result = scan(lambda x: np.sign(x - 0.7) * np.log(np.abs(x - 0.7)), 0.0, 1.0)
+    assert result.roots == []
+    assert result.poles == pytest.approx([0.7], rel=1e-14)
+
+
+def test_jump_is_a_discontinuity_not_a_root():
+    result = scan(lambda x: np.where(x < 0.43, -1.0, 1.0) * (2 + x), 0.0, 1.0)
+    assert result.roots == []
+    assert result.discontinuities == pytest.approx([0.43], rel=1e-15)
+
+
+def test_jump_and_root_together():
+    result = scan(lambda x: np.where(x < 0.5, x - 0.2, -1.0 - x), 0.0, 1.0)
+    assert_roots(result, [0.2])
+    assert result.discontinuities == pytest.approx([0.5], rel=1e-15)
+    assert result.poles == []
+
+
+def test_steep_but_continuous_is_a_root():
+    result = scan(lambda x: np.tanh(1e7 * (x - 0.4)), 0.0, 1.0)
+    assert_roots(result, [0.4])
+    assert result.discontinuities == []
+
+
+# ----------------------------------------------------------------- domains
+
+
+def test_domain_gap_sqrt_one_minus_x_squared():
+    result = scan(lambda x: np.sqrt(1.0 - x**2), -2.0, 2.0)
+    # roots at the domain edges x = +/-1, where sqrt(1 - x^2) = 0 (common practice)
+    assert_roots(result, [-1.0, 1.0])
+    assert all(r.confirmed.startswith("domain edge") for r in result.roots)
+    assert result.gaps == [(-2.0, -1.0), (1.0, 2.0)]
+    assert result.poles == []
+
+
+def test_natural_log_on_a_range_reaching_below_zero():
+    result = scan(np.log, -1.0, 3.0)
+    assert_roots(result, [1.0])  # ln(1) = 0 (common practice)
+    assert len(result.gaps) == 1
+    start, end = result.gaps[0]
+    assert start == -1.0 and end == pytest.approx(0.0, abs=1e-15)
+    assert result.poles == pytest.approx([0.0], abs=1e-15)  # ln x -> -inf at 0+
+
+
+def test_root_at_a_domain_edge_sqrt_x():
+    # sqrt(x) = 0 at x = 0, the edge of its domain: reported at the edge
+    result = scan(np.sqrt, -1.0, 1.0)
+    assert_roots(result, [0.0], abs_=1e-15)
+    assert result.gaps == [(-1.0, 0.0)]
+
+
+def test_arcsin_domain_plain_edges():
+    result = scan(np.arcsin, -2.0, 2.0)
+    assert_roots(result, [0.0], abs_=1e-15)  # arcsin(0) = 0 (common practice)
+    assert result.gaps == [(-2.0, -1.0), (1.0, 2.0)]
+    assert result.poles == []  # arcsin stays finite (+/- pi/2) at its edges
+
+
+def test_f_that_raises_is_undefined_there_not_an_error():
+    def f(x):
+        return np.array([math.sqrt(v) - 0.5 for v in np.atleast_1d(x)])
+
+    result = scan(f, -1.0, 1.0)
+    assert_roots(result, [0.25])
+    assert result.gaps == [(-1.0, 0.0)]
+
+
+def test_complex_results_count_as_undefined():
+    result = scan(lambda x: np.emath.sqrt(x) - 0.5, -1.0, 1.0)
+    assert_roots(result, [0.25])
+    assert result.gaps[0][0] == -1.0 and result.gaps[0][1] == pytest.approx(0.0, abs=1e-15)
+
+
+def test_undefined_everywhere():
+    result = scan(lambda x: np.full_like(x, np.nan), 0.0, 1.0)
+    assert result.roots == [] and result.gaps == [(0.0, 1.0)]
+
+
+# ----------------------------------------------------------------- contract of the result
+
+
+def test_result_record():
+    result = scan(lambda x: (x - 1) * (x - 2) * (x + 0.5), -1.0, 3.0)
+    assert isinstance(result, Scan) and all(isinstance(r, Root) for r in result.roots)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        result.a = 5.0  # type: ignore[misc]
+    assert xs(result) == sorted(xs(result))
+    for r in result.roots:
+        assert r.residual == (r.x - 1) * (r.x - 2) * (r.x + 0.5)  # residual is f(root)
+    assert result.a == -1.0 and result.b == 3.0
+    assert result.samples >= DEFAULT_SAMPLES
+
+
+def test_cross_check_off_reports_sampling_only():
+    result = scan(np.sin, 1.0, 10.0, cross_check=False)
+    assert_roots(result, [math.pi, 2 * math.pi, 3 * math.pi])
+    assert all(r.located_by == ("sampling",) for r in result.roots)
+    assert result.cross_checked == [] and result.chebyshev_roots == []
+
+
+def test_cross_check_covers_smooth_parts_only():
+    result = scan(np.tan, 0.0, 10.0)
+    assert result.cross_checked, "the proxy should run away from the poles"
+    for u, v in result.cross_checked:
+        assert not any(u <= p <= v for p in result.poles)
+
+
+@pytest.mark.parametrize(
+    ("a", "b", "samples"),
+    [(1.0, 0.0, None), (0.0, math.inf, None), (0.0, 1.0, 2), (0.0, 1.0, 2.5), ("x", 1.0, None)],
+)
+def test_bad_range_or_samples_is_a_one_line_value_error(a, b, samples):
+    with pytest.raises(ValueError) as info:
+        scan(np.sin, a, b, samples=samples)
+    assert "\n" not in str(info.value)
+
+
+# ----------------------------------------------------------------- progress, cancel, memory
+
+
+def test_progress_is_reported_between_chunks_and_ends_at_one():
+    seen: list[float] = []
+    scan(np.sin, 0.0, 100.0, samples=5 * CHUNK, progress=seen.append)
+    assert len(seen) >= 5
+    assert seen == sorted(seen)
+    assert seen[-1] == 1.0 and all(0.0 <= s <= 1.0 for s in seen)
+
+
+def test_cancel_during_sampling_raises():
+    polls = []
+
+    def cancel():
+        polls.append(1)
+        return len(polls) > 2
+
+    with pytest.raises(ScanCancelled):
+        scan(np.sin, 0.0, 100.0, samples=10 * CHUNK, cancel=cancel)
+    assert len(polls) == 3  # stopped at the first True
+
+
+def test_cancel_during_refinement_raises():
+    state = {"sampled": False}
+
+    def progress(fraction):
+        state["sampled"] = fraction >= 0.8
+
+    def cancel():
+        return state["sampled"]
+
+    with pytest.raises(ScanCancelled):
+        scan(np.sin, 0.0, 100.0, progress=progress, cancel=cancel)
+
+
+def test_never_cancelled_scan_completes():
+    result = scan(np.sin, 0.5, 10.0, cancel=lambda: False)
+    assert len(result.roots) == 3
+
+
+def test_ten_million_samples_in_bounded_memory():
+    # functional bound only (generous): chunks keep memory far below full 10^7 arrays
+    tracemalloc.start()
+    try:
+        result = scan(np.sin, 0.0, 100.0, samples=10**7, cross_check=False)
+        peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    assert result.samples == 10**7
+    assert len(result.roots) == 32  # n pi for n = 0..31 in [0, 100] (common practice)
+    assert peak < 200e6
