@@ -86,7 +86,7 @@ MAX_LENGTH = 2000  # characters; a long design equation is a few hundred
 MAX_DEPTH = 100  # nesting levels: parentheses, signs and exponents together
 MAX_NAME = 40  # characters in one name
 MAX_EXACT_EXPONENT = 1000  # larger integer powers of constants are done in floating point
-MAX_DERIVATIVE_NODES = 20_000  # larger symbolic derivatives are not compiled (numerical f')
+MAX_DERIVATIVE_NODES = 5_000  # larger symbolic derivatives are not compiled (numerical f')
 _EXACT_INT_DIGITS = 15  # integer literals up to this many digits stay exact sympy Integers
 _BIG_INT = 2**53  # larger exact integers become floats before compiling
 
@@ -730,6 +730,13 @@ class _VectorPrinter(NumPyPrinter):
     def _print_Float(self, expr: Any) -> str:
         return _float_code(float(expr))
 
+    # sympy's own numpy printing of these goes through Piecewise and simplify: slow, unbounded.
+    def _print_Heaviside(self, expr: Any) -> str:
+        return f"{self._module_format('numpy.heaviside')}({self._print(expr.args[0])}, 0.5)"
+
+    def _print_sign(self, expr: Any) -> str:
+        return f"{self._module_format('numpy.sign')}({self._print(expr.args[0])})"
+
 
 class _ScalarPrinter(LambdaPrinter):
     """Python-float code whose every domain error raises (then the numpy path answers)."""
@@ -843,11 +850,16 @@ def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
     """f(x) for float or array x; floats in give a float out; never raises on domain errors."""
     code = _prepare(expr, unknown)
     vector = sp.lambdify(_Z, code, modules="numpy", printer=_VectorPrinter)
-    try:
-        scalar = sp.lambdify(_Z, code, modules=[_SCALAR_NAMESPACE, "math"],
-                             printer=_ScalarPrinter)
-    except Exception:  # noqa: BLE001 - a construct the math printer lacks: numpy path only
-        scalar = None
+    scalar: Any = None  # the math-module path, compiled at the first scalar call
+
+    def compile_scalar() -> Any:
+        nonlocal scalar
+        try:
+            scalar = sp.lambdify(_Z, code, modules=[_SCALAR_NAMESPACE, "math"],
+                                 printer=_ScalarPrinter)
+        except Exception:  # noqa: BLE001 - a construct the math printer lacks: numpy only
+            scalar = False
+        return scalar
 
     def on_array(x: Any) -> Any:
         arr = np.asarray(x, dtype=np.float64)
@@ -859,9 +871,10 @@ def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
         return out
 
     def on_float(x: float) -> float:
-        if scalar is not None:
+        fn = scalar if scalar is not None else compile_scalar()
+        if fn:
             try:
-                r = scalar(x)
+                r = fn(x)
                 if r.__class__ is float:
                     return r
                 if isinstance(r, (int, float)) and not isinstance(r, bool):
@@ -878,6 +891,35 @@ def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
         return on_array(x)
 
     return evaluate
+
+
+def _derivative_size(expr: Any, x: Any) -> int:
+    """A cheap estimate of the node count of d expr/dx, to skip sympy's diff where it would
+    be slow and the result too large to compile (a product of n factors gives ~n^2)."""
+    memo: dict[Any, tuple[int, int]] = {}
+
+    def walk(e: Any) -> tuple[int, int]:  # (size of e, estimated size of de/dx)
+        hit = memo.get(e)
+        if hit is not None:
+            return hit
+        if not e.args:
+            out = (1, 1)
+        elif x not in e.free_symbols:
+            out = (_node_count(e, MAX_DERIVATIVE_NODES), 1)
+        else:
+            parts = [walk(a) for a in e.args]
+            size = 1 + sum(p[0] for p in parts)
+            if e.is_Add:
+                d = 1 + sum(p[1] for p in parts)
+            elif e.is_Mul:
+                d = 1 + sum(p[1] for p in parts) + (len(parts) - 1) * (size - 1)
+            else:  # powers and functions: f'(u) * du, with f'(u) a few copies of u
+                d = 6 + 2 * (size - 1) + sum(p[1] for p in parts)
+            out = (size, d)
+        memo[e] = out
+        return out
+
+    return walk(expr)[1]
 
 
 def _node_count(expr: Any, limit: int) -> int:
@@ -915,11 +957,28 @@ class Equation:
     f: Callable[[Any], Any] = field(repr=False)
     fprime: Callable[[Any], Any] | None = field(repr=False)
     latex: str = ""
-    derivative_latex: str = ""
     notes: tuple[str, ...] = ()
     symbolic_expr: Any = None
-    symbolic_derivative: Any = None
-    _mp: dict[str, Any] = field(default_factory=dict, repr=False)
+    _cache: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    @property
+    def symbolic_derivative(self) -> Any:
+        """d symbolic_expr / d unknown with parameters as symbols (None if unusable)."""
+        if "dsym" not in self._cache:
+            value = None
+            if self.derivative is not None:
+                try:
+                    value = sp.diff(self.symbolic_expr, sp.Symbol(self.unknown, real=True))
+                except RecursionError:
+                    value = None
+            self._cache["dsym"] = value
+        return self._cache["dsym"]
+
+    @property
+    def derivative_latex(self) -> str:
+        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none."""
+        d = self.symbolic_derivative
+        return "" if d is None else _latex(d)
 
     def residual_mp(self, x: Any, dps: int = 50) -> Any:
         """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).
@@ -930,13 +989,13 @@ class Equation:
         """
         import mpmath
 
-        fn = self._mp.get("f")
+        fn = self._cache.get("mp")
         if fn is None:
             params = [sp.Symbol(n, real=True) for n in self.parameters]
             fn = sp.lambdify([_Z, DEG, *params],
                              _prepare(self.symbolic_expr, sp.Symbol(self.unknown, real=True)),
                              modules="mpmath")
-            self._mp["f"] = fn
+            self._cache["mp"] = fn
         with mpmath.workdps(dps):
             args = [mpmath.mpf(x), mpmath.pi / 180,
                     *[mpmath.mpf(v) for v in self.parameters.values()]]
@@ -1080,20 +1139,22 @@ def parse_equation(text: str, unknown: str | None = None,
     latex = _typeset(text, lhs, rhs)
 
     f = _compile(numeric, x)
-    fprime, derivative, symbolic_derivative, derivative_latex = None, None, None, ""
+    fprime, derivative = None, None
     try:
-        derivative = sp.diff(numeric, x)
-        symbolic_derivative = sp.diff(symbolic, x)
-        reason = _unusable(derivative)
+        if _derivative_size(numeric, x) > 2 * MAX_DERIVATIVE_NODES:
+            derivative = None
+            reason: str | None = f"more than {MAX_DERIVATIVE_NODES} terms"
+        else:
+            derivative = sp.diff(numeric, x)
+            reason = _unusable(derivative)
         if reason is None:
             fprime = _compile(derivative, x)
-            derivative_latex = _latex(symbolic_derivative)
         else:
             notes.append(f"no symbolic derivative ({reason}): Newton uses a numerical one")
             derivative = None
     except RecursionError:
         notes.append("no symbolic derivative (expression too deep): Newton uses a numerical one")
-        derivative, symbolic_derivative = None, None
+        derivative = None
 
     notes.extend(_notes(parser, names, unknown, numeric, x, text))
     return Equation(
@@ -1106,10 +1167,8 @@ def parse_equation(text: str, unknown: str | None = None,
         f=f,
         fprime=fprime,
         latex=latex,
-        derivative_latex=derivative_latex,
         notes=tuple(notes),
         symbolic_expr=symbolic,
-        symbolic_derivative=symbolic_derivative,
     )
 
 
