@@ -1,0 +1,242 @@
+"""The plot region: f over the range (with the chosen method's path) and the convergence view.
+
+Both views are matplotlib figures embedded with FigureCanvasQTAgg and the standard
+navigation toolbar; the drawing itself is :mod:`solvers.figures`, shared with the
+calculation sheet. On the function view, with the toolbar's pan/zoom off:
+
+* Shift+click sets x0 (Newton–Raphson start),
+* Shift+right-click sets x1 (the secant's second point),
+* Shift+drag sets the bracket [a, b] (false position).
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Sequence
+from typing import Any
+
+os.environ.setdefault("QT_API", "pyside6")
+
+from matplotlib.backends.backend_qtagg import (  # noqa: E402 (QT_API first)
+    FigureCanvasQTAgg,
+    NavigationToolbar2QT,
+)
+from matplotlib.figure import Figure  # noqa: E402
+from PySide6.QtCore import Signal  # noqa: E402
+from PySide6.QtWidgets import (  # noqa: E402
+    QComboBox,
+    QHBoxLayout,
+    QLabel,
+    QTabWidget,
+    QVBoxLayout,
+    QWidget,
+)
+
+from solvers import figures  # noqa: E402
+from solvers.result import Run  # noqa: E402
+
+HINT = ("Shift+click: x0   Shift+right-click: x1   Shift+drag: bracket [a, b]   "
+        "(pan/zoom with the toolbar)")
+# A drag shorter than this fraction of the axis width is a click, not a bracket.
+_DRAG_FRACTION = 0.01
+
+
+class _FigureView(QWidget):
+    """A canvas with its navigation toolbar."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.figure = Figure(figsize=(6, 3.2), dpi=100, layout="constrained")
+        self.canvas = FigureCanvasQTAgg(self.figure)
+        self.canvas.setMinimumSize(320, 200)
+        self.toolbar = NavigationToolbar2QT(self.canvas, self)
+        self.toolbar.setIconSize(self.toolbar.iconSize() * 0.8)
+        self.bar = QHBoxLayout()
+        self.bar.addWidget(self.toolbar, 1)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(0)
+        layout.addLayout(self.bar)
+        layout.addWidget(self.canvas, 1)
+        self.draws = 0
+        self.canvas.mpl_connect("draw_event", self._count)
+
+    def _count(self, _event: Any) -> None:
+        self.draws += 1
+
+
+class PlotPanel(QTabWidget):
+    """Tabs "Function" and "Convergence"; emits picks made with the mouse."""
+
+    x0_picked = Signal(float)
+    x1_picked = Signal(float)
+    bracket_picked = Signal(float, float)
+    path_method_changed = Signal(str)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.function_view = _FigureView()
+        self.path_box = QComboBox()
+        self.path_box.setObjectName("pathBox")
+        self.path_box.setToolTip("Whose iterates are drawn over f")
+        path_label = QLabel("Pat&h of")
+        path_label.setBuddy(self.path_box)
+        self.function_view.bar.addWidget(path_label)
+        self.function_view.bar.addWidget(self.path_box)
+        self.hint = QLabel(HINT)
+        self.hint.setStyleSheet("color: #555555;")
+        self.function_view.layout().addWidget(self.hint)
+
+        self.convergence_view = _FigureView()
+        self.quantity_box = QComboBox()
+        self.quantity_box.setObjectName("quantityBox")
+        for key, (label, _pick) in figures.CONVERGENCE_QUANTITIES.items():
+            self.quantity_box.addItem(f"{label} against k", key)
+        quantity_label = QLabel("Sho&w")
+        quantity_label.setBuddy(self.quantity_box)
+        self.convergence_view.bar.addWidget(quantity_label)
+        self.convergence_view.bar.addWidget(self.quantity_box)
+
+        self.addTab(self.function_view, "Function")
+        self.addTab(self.convergence_view, "Convergence")
+        self.path_box.activated.connect(self._on_path)
+        self.quantity_box.activated.connect(lambda _i: self._draw_convergence())
+
+        self._f: Any = None
+        self._range: tuple[float, float] | None = None
+        self._scan: Any = None
+        self._runs: tuple[Run, ...] = ()
+        self._curve: figures.Curve | None = None
+        self._unknown = "x"
+        self._press: tuple[float, int] | None = None
+        self._span: Any = None
+        canvas = self.function_view.canvas
+        canvas.mpl_connect("button_press_event", self._on_press)
+        canvas.mpl_connect("motion_notify_event", self._on_motion)
+        canvas.mpl_connect("button_release_event", self._on_release)
+        self.show_message("Type an equation, then press Solve (Ctrl+Return) or Scan range.")
+        self._draw_convergence()
+
+    # -- content
+    @property
+    def ax(self) -> Any:
+        axes = self.function_view.figure.axes
+        return axes[0] if axes else None
+
+    def path_method(self) -> str | None:
+        return self.path_box.currentData() or None
+
+    def show_message(self, text: str) -> None:
+        fig = self.function_view.figure
+        fig.clear()
+        ax = fig.add_subplot()
+        ax.set_axis_off()
+        ax.text(0.5, 0.5, text, ha="center", va="center", color="#555555", wrap=True)
+        self._f = None
+        self.function_view.canvas.draw_idle()
+
+    def show_function(self, f: Any, a: float, b: float, *, unknown: str = "x", scan: Any = None,
+                      runs: Sequence[Run] = (), curve: figures.Curve | None = None) -> None:
+        """Draw f on [a, b] with the scan's marks and the selected method's path."""
+        self._f, self._range, self._scan, self._unknown = f, (a, b), scan, unknown
+        self._curve = curve
+        self._runs = tuple(runs)
+        self._fill_paths()
+        self._draw_function()
+        self._draw_convergence()
+
+    def set_runs(self, runs: Sequence[Run]) -> None:
+        self._runs = tuple(runs)
+        self._fill_paths()
+        self._draw_function()
+        self._draw_convergence()
+
+    def select_path(self, method: str) -> None:
+        index = self.path_box.findData(method)
+        if index >= 0 and index != self.path_box.currentIndex():
+            self.path_box.setCurrentIndex(index)
+            self._on_path(index)
+
+    def _fill_paths(self) -> None:
+        current = self.path_box.currentData()
+        self.path_box.blockSignals(True)
+        self.path_box.clear()
+        self.path_box.addItem("none", "")
+        for run in self._runs:
+            self.path_box.addItem(figures.method_label(run.method), run.method)
+        index = self.path_box.findData(current) if current else -1
+        if index < 0 and self._runs:
+            index = 1
+        self.path_box.setCurrentIndex(max(index, 0))
+        self.path_box.blockSignals(False)
+
+    def _on_path(self, _index: int) -> None:
+        self._draw_function()
+        self.path_method_changed.emit(self.path_box.currentData() or "")
+
+    def _draw_function(self) -> None:
+        if self._f is None or self._range is None:
+            return
+        fig = self.function_view.figure
+        fig.clear()
+        ax = fig.add_subplot()
+        method = self.path_method()
+        run = next((r for r in self._runs if r.method == method), None)
+        a, b = self._range
+        try:
+            figures.draw_function(ax, self._f, a, b, scan=self._scan, run=run,
+                                  unknown=self._unknown, precomputed=self._curve)
+        except ValueError as exc:
+            ax.clear()
+            ax.set_axis_off()
+            ax.text(0.5, 0.5, f"cannot draw: {exc}", ha="center", va="center")
+        self._span = None
+        self.function_view.canvas.draw_idle()
+
+    def _draw_convergence(self) -> None:
+        fig = self.convergence_view.figure
+        fig.clear()
+        ax = fig.add_subplot()
+        figures.draw_convergence(ax, self._runs, quantity=self.quantity_box.currentData())
+        self.convergence_view.canvas.draw_idle()
+
+    # -- mouse picks
+    def _active(self, event: Any) -> bool:
+        if self._f is None or event.inaxes is None or event.xdata is None:
+            return False
+        if self.function_view.toolbar.mode:  # pan or zoom owns the mouse
+            return False
+        return "shift" in (event.key or "")
+
+    def _on_press(self, event: Any) -> None:
+        if self._active(event):
+            self._press = (float(event.xdata), int(event.button))
+
+    def _on_motion(self, event: Any) -> None:
+        if self._press is None or event.inaxes is None or event.xdata is None:
+            return
+        x0 = self._press[0]
+        ax = event.inaxes
+        if self._span is not None:
+            self._span.remove()
+        self._span = ax.axvspan(min(x0, event.xdata), max(x0, event.xdata),
+                                color=figures.method_color("false_position"), alpha=0.15)
+        self.function_view.canvas.draw_idle()
+
+    def _on_release(self, event: Any) -> None:
+        if self._press is None:
+            return
+        start, button = self._press
+        self._press = None
+        if self._span is not None:
+            self._span.remove()
+            self._span = None
+            self.function_view.canvas.draw_idle()
+        end = float(event.xdata) if event.xdata is not None else start
+        lo, hi = self.ax.get_xlim() if self.ax is not None else (start, end)
+        if abs(end - start) > _DRAG_FRACTION * abs(hi - lo):
+            self.bracket_picked.emit(min(start, end), max(start, end))
+        elif button == 3:
+            self.x1_picked.emit(start)
+        else:
+            self.x0_picked.emit(start)

@@ -1,0 +1,130 @@
+"""Help and About texts, the calculation-details dialog, and the safety caution."""
+
+from __future__ import annotations
+
+from PySide6.QtWidgets import (
+    QDialog,
+    QDialogButtonBox,
+    QFormLayout,
+    QLineEdit,
+    QPlainTextEdit,
+    QTextBrowser,
+    QVBoxLayout,
+    QWidget,
+)
+
+from solvers.worksheet import CalcInfo, Worksheet
+
+CAUTION = ("Check the equation, inputs and units. Results need review by a qualified "
+           "engineer; local codes and licensed practice govern.")
+
+SOURCES = """
+<ul>
+<li><b>scipy.optimize</b> (newton, brentq and friends): roots and iteration behaviour of the
+methods are compared against it;</li>
+<li><b>mpmath</b>: high-precision reference roots (findroot at 50 digits);</li>
+<li><b>numpy</b> (polynomial roots) and <b>scipy.special</b> (Bessel-function zeros);</li>
+<li><b>scipy.constants</b>: physical constants used in the engineering checks;</li>
+<li>the <b>Alefeld–Potra–Shi</b> test set of nonlinear equations (ACM TOMS 21, 1995);</li>
+<li>published <b>handbook tables</b> (friction factors, normal depths and similar), each
+check naming its source, or marked "from memory" / "common practice".</li>
+</ul>
+"""
+
+HELP_HTML = f"""
+<h2>Using zerotrace</h2>
+<p><b>1. Type the equation</b> in the strip at the top: <code>lhs = rhs</code>, or an
+expression meaning <code>expression = 0</code>; <code>^</code> or <code>**</code> for
+powers. The typeset form and the derivative appear under it as you type; an error is
+described in the status line and the offending character is underlined.
+<b>Solve for</b> picks the unknown (automatic: the one name without a value).</p>
+<p><b>2. Give the parameters</b> in the table on the left (double-click or F2 on a value).
+Every other name the equation uses appears there; a tinted cell needs a valid number.</p>
+<p><b>3. Start values and stopping rules.</b> Blank start values are chosen for you
+(and said so). On the function plot, with pan/zoom off:
+<b>Shift+click</b> sets x0, <b>Shift+right-click</b> sets x1,
+<b>Shift+drag</b> sets the bracket [a, b].</p>
+<p><b>4. Solve</b> (Ctrl+Return) runs Newton–Raphson, secant and false position side by side:
+each lane shows the root, iterates, evaluations, stop reason and observed order, over the
+table of every iterate. A method that failed is marked <b>✗ FAILED</b> with the reason.
+The Convergence tab shows |f(x_k)| or |Δx_k| against k on a log axis.</p>
+<p><b>5. Scan range</b> (Ctrl+Shift+Return) finds every root, pole and jump between
+<i>scan from</i> and <i>scan to</i>, in the background (Esc or Cancel stops it).
+Double-click a root (or select it and press Enter) to polish it with every method; the
+start values are set from it.</p>
+<p><b>Files.</b> Worksheets are saved as JSON files of our own (.json). Export the iteration
+log and the
+roots as CSV (numbers written exactly) and the calculation sheet as PDF from the File menu.
+Ctrl+C on any table copies the selection as tab-separated text; the context menu copies the
+whole table. Unsaved work is kept in a recovery file and offered at the next start.</p>
+<p><b>Keys.</b> Ctrl+N new, Ctrl+O open, Ctrl+S save, Ctrl+Return solve,
+Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+1 / Ctrl+2 function / convergence view,
+Ctrl+= / Ctrl+- more / fewer significant figures, F1 this help.</p>
+<p style="color:#8A2B00"><b>Caution.</b> {CAUTION}</p>
+"""
+
+ABOUT_HTML = f"""
+<h2>zerotrace</h2>
+<p>Finds, checks and documents every real root of a nonlinear design equation, with the
+method, tolerances and every iterate shown for the checker.</p>
+<p style="color:#8A2B00"><b>Caution.</b> {CAUTION} A root is a property of the equation as
+typed: a wrong equation, input or unit gives a wrong answer with full confidence.</p>
+<p><b>What the test suite checks against</b>:</p>{SOURCES}
+<p>Sample worksheets are set in invented scenarios; their numbers are made up for
+demonstration.</p>
+"""
+
+
+class TextDialog(QDialog):
+    """A scrollable rich-text page with a Close button (help and about)."""
+
+    def __init__(self, title: str, html: str, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWindowTitle(title)
+        self.browser = QTextBrowser()
+        self.browser.setOpenExternalLinks(False)
+        self.browser.setHtml(html)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)
+        buttons.rejected.connect(self.reject)
+        layout = QVBoxLayout(self)
+        layout.addWidget(self.browser)
+        layout.addWidget(buttons)
+        self.resize(620, 560)
+
+
+class CalcDialog(QDialog):
+    """Title, notes and title-block fields of the worksheet (used by the calculation sheet)."""
+
+    def __init__(self, ws: Worksheet, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWindowTitle("Calculation details")
+        self.title = QLineEdit(ws.title)
+        self.number = QLineEdit(ws.calc.number)
+        self.revision = QLineEdit(ws.calc.revision)
+        self.prepared = QLineEdit(ws.calc.prepared_by)
+        self.checked = QLineEdit(ws.calc.checked_by)
+        self.notes = QPlainTextEdit(ws.notes)
+        self.notes.setTabChangesFocus(True)
+        form = QFormLayout()
+        form.addRow("&Title", self.title)
+        form.addRow("Calculation &number", self.number)
+        form.addRow("&Revision", self.revision)
+        form.addRow("&Prepared by", self.prepared)
+        form.addRow("C&hecked by", self.checked)
+        form.addRow("N&otes", self.notes)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
+                                   | QDialogButtonBox.StandardButton.Cancel)
+        buttons.accepted.connect(self.accept)
+        buttons.rejected.connect(self.reject)
+        layout = QVBoxLayout(self)
+        layout.addLayout(form)
+        layout.addWidget(buttons)
+        self.resize(520, 380)
+
+    def apply(self, ws: Worksheet) -> Worksheet:
+        return ws.with_changes(
+            title=self.title.text(),
+            notes=self.notes.toPlainText(),
+            calc=CalcInfo(self.number.text(), self.revision.text(), self.prepared.text(),
+                          self.checked.text()),
+        )

@@ -1,0 +1,377 @@
+"""The equation strip: the editor, its typeset form and derivative, the unknown, one status line.
+
+The strip only displays: :func:`analyse` (run off the UI thread by the window) turns
+the text into an :class:`Analysis` with the names, the unknown, the parsed
+:class:`solvers.equation.Equation` or the error and its column; :meth:`EquationStrip.show_analysis`
+puts that on screen. The typeset form is matplotlib mathtext rendered to a pixmap.
+"""
+
+from __future__ import annotations
+
+import io
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from PySide6.QtCore import Qt, QTimer, Signal
+from PySide6.QtGui import QColor, QFont, QPixmap, QTextCharFormat, QTextCursor, QTextFormat
+from PySide6.QtWidgets import (
+    QComboBox,
+    QFrame,
+    QHBoxLayout,
+    QLabel,
+    QPlainTextEdit,
+    QScrollArea,
+    QSizePolicy,
+    QTextEdit,
+    QVBoxLayout,
+    QWidget,
+)
+
+from app.window.models import number_font
+
+DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
+AUTO = "(automatic)"
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """What the text means: names used, the unknown, the parsed equation or why not."""
+
+    text: str
+    names: tuple[str, ...] = ()
+    unknown: str | None = None
+    candidates: tuple[str, ...] = ()
+    ambiguous: bool = False
+    missing: tuple[str, ...] = ()
+    equation: Any = None
+    error: str = ""
+    position: int | None = None
+    notes: tuple[str, ...] = field(default_factory=tuple)
+    latex: str = ""  # typeset forms; present also when only parameter values are missing
+    derivative_latex: str = ""
+
+    @property
+    def ok(self) -> bool:
+        return self.equation is not None and not self.error
+
+
+def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str, Any],
+                   previous: str | None) -> tuple[str | None, bool]:
+    """The unknown to solve for, and whether the choice was ambiguous.
+
+    The user's explicit choice wins; otherwise the one name with no value; otherwise
+    the previous unknown if still used; otherwise the first name without a value (or the
+    first name), flagged as ambiguous so the strip asks the user to choose.
+    """
+    if not names:
+        return None, False
+    if chosen and chosen in names:
+        return chosen, False
+    without = [n for n in names if values.get(n) is None]
+    if len(without) == 1:
+        return without[0], False
+    if previous in names and (not without or previous in without):
+        return previous, len(without) > 1
+    pick = without[0] if without else names[0]
+    return pick, True
+
+
+def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
+            previous: str | None = None) -> Analysis:
+    """Parse ``text`` for the strip (called in a worker thread; never raises for bad text)."""
+    from solvers.equation import EquationError, free_names, parse_equation
+
+    if not text.strip():
+        return Analysis(text, error="type an equation, for example  x^3 - 2*x - 5 = 0")
+    try:
+        names = tuple(free_names(text))
+    except EquationError as exc:
+        return Analysis(text, error=str(exc), position=exc.position)
+    unknown, ambiguous = choose_unknown(names, chosen, values, previous)
+    if unknown is None:
+        return Analysis(text, names=names, error="the equation has no unknown (no free name)")
+    given = {n: values[n] for n in names if n != unknown and values.get(n) is not None}
+    missing = tuple(n for n in names if n != unknown and values.get(n) is None)
+    base = {"text": text, "names": names, "unknown": unknown, "candidates": names,
+            "ambiguous": ambiguous, "missing": missing}
+    try:
+        equation = parse_equation(text, unknown=unknown, parameters=given)
+    except EquationError as exc:
+        latex = derivative = ""
+        if missing:
+            # The typeset form does not depend on the values: show it while the user is
+            # still filling in the table (placeholder values are used for nothing else).
+            latex, derivative = _typeset_only(text, unknown, given, missing)
+        return Analysis(**base, error=str(exc), position=exc.position, latex=latex,
+                        derivative_latex=derivative)
+    except Exception as exc:  # the parser's own bug must not take the window down
+        return Analysis(**base, error=f"could not read the equation ({type(exc).__name__})")
+    notes = tuple(getattr(equation, "notes", ()) or ())
+    return Analysis(**base, equation=equation, notes=notes,
+                    latex=getattr(equation, "latex", ""),
+                    derivative_latex=_derivative_latex(equation))
+
+
+def _derivative_latex(equation: Any) -> str:
+    if getattr(equation, "fprime", None) is None:
+        return ""
+    try:
+        return getattr(equation, "derivative_latex", "") or ""
+    except Exception:  # a derivative too large to typeset: leave it out of the preview
+        return ""
+
+
+def _typeset_only(text: str, unknown: str, given: Mapping[str, float],
+                  missing: Sequence[str]) -> tuple[str, str]:
+    from solvers.equation import parse_equation
+
+    trial = dict(given)
+    for value in (1.0, 0.5):
+        trial.update({n: value for n in missing})
+        try:
+            eq = parse_equation(text, unknown=unknown, parameters=trial)
+        except Exception:
+            continue
+        return getattr(eq, "latex", ""), _derivative_latex(eq)
+    return "", ""
+
+
+def render_math(latex: str, *, dpi: float = 110, color: str = "#111111") -> QPixmap | None:
+    """Typeset ``latex`` (mathtext subset) into a pixmap; None when mathtext cannot."""
+    if not latex:
+        return None
+    from matplotlib import mathtext
+    from matplotlib.font_manager import FontProperties
+
+    buffer = io.BytesIO()
+    try:
+        mathtext.math_to_image(f"${latex}$", buffer, prop=FontProperties(size=13), dpi=dpi,
+                               format="png", color=color)
+    except Exception:  # sympy LaTeX that mathtext does not know: show the text instead
+        return None
+    pixmap = QPixmap()
+    pixmap.loadFromData(buffer.getvalue(), "PNG")
+    return pixmap
+
+
+class _MathLabel(QScrollArea):
+    """A typeset formula that scrolls sideways when it is wider than the strip."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.label = QLabel()
+        self.label.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
+        self.label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.setWidget(self.label)
+        self.setWidgetResizable(True)
+        self.setFrameShape(QFrame.Shape.NoFrame)
+        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+        self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.setFixedHeight(52)
+        self.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+
+    def show_latex(self, latex: str, fallback: str) -> None:
+        ratio = self.devicePixelRatioF() or 1.0
+        pixmap = render_math(latex, dpi=100 * ratio)
+        if pixmap is None:
+            self.label.setPixmap(QPixmap())
+            self.label.setText(fallback)
+        else:
+            pixmap.setDevicePixelRatio(ratio)
+            self.label.setText("")
+            self.label.setPixmap(pixmap)
+        self.label.setToolTip(fallback)
+
+    def clear(self) -> None:
+        self.label.setPixmap(QPixmap())
+        self.label.setText("")
+
+
+class EquationStrip(QWidget):
+    """Editor, typeset equation and derivative, unknown chooser and status line.
+
+    Signals: ``text_settled(str)`` after the user stops typing for DEBOUNCE_MS,
+    ``unknown_chosen(str)`` ('' for automatic) when the user picks the unknown.
+    """
+
+    text_settled = Signal(str)
+    unknown_chosen = Signal(str)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.editor = QPlainTextEdit()
+        self.editor.setObjectName("equationEditor")
+        self.editor.setFont(number_font())
+        self.editor.setPlaceholderText("f(x) = g(x), or an expression meaning expression = 0")
+        self.editor.setTabChangesFocus(True)
+        self.editor.setToolTip("The equation. ^ or ** for powers; several lines are joined.")
+        self.editor.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
+        metrics = self.editor.fontMetrics()
+        self.editor.setFixedHeight(int(metrics.lineSpacing() * 2) + 12)
+
+        self.unknown_box = QComboBox()
+        self.unknown_box.setObjectName("unknownBox")
+        self.unknown_box.setToolTip("The name to solve for. Automatic: the one name with no value.")
+        self.unknown_box.setMinimumContentsLength(6)
+        unknown_label = QLabel("&Unknown")
+        unknown_label.setBuddy(self.unknown_box)
+        self.unknown_box.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
+
+        self.equation_view = _MathLabel()
+        self.derivative_view = _MathLabel()
+        eq_caption = QLabel("Reads as")
+        d_caption = QLabel("Derivative")
+        for caption in (eq_caption, d_caption):
+            caption.setStyleSheet("color: #555555;")
+            caption.setFixedWidth(64)
+
+        self.status = QLabel()
+        self.status.setObjectName("equationStatus")
+        self.status.setWordWrap(True)
+        self.status.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+
+        top = QHBoxLayout()
+        top.addWidget(self.editor, 1)
+        side = QVBoxLayout()
+        side.addWidget(unknown_label)
+        side.addWidget(self.unknown_box)
+        side.addStretch(1)
+        top.addLayout(side)
+        # Equation and derivative side by side: the strip stays short on a 800-pixel screen.
+        eq_row = QHBoxLayout()
+        eq_row.addWidget(eq_caption)
+        eq_row.addWidget(self.equation_view, 1)
+        eq_row.addSpacing(8)
+        eq_row.addWidget(d_caption)
+        eq_row.addWidget(self.derivative_view, 1)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(6, 4, 6, 2)
+        layout.setSpacing(2)
+        layout.addLayout(top)
+        layout.addLayout(eq_row)
+        layout.addWidget(self.status)
+
+        self._timer = QTimer(self)
+        self._timer.setSingleShot(True)
+        self._timer.setInterval(DEBOUNCE_MS)
+        self._timer.timeout.connect(lambda: self.text_settled.emit(self.text()))
+        self.editor.textChanged.connect(self._timer.start)
+        self.unknown_box.activated.connect(self._on_unknown_activated)
+        self._filling = False
+        self.analysis: Analysis | None = None
+
+    # -- reading and writing the text
+    def text(self) -> str:
+        return self.editor.toPlainText()
+
+    def set_text(self, text: str) -> None:
+        """Replace the text (loading a worksheet); the debounce timer then fires as usual."""
+        self.editor.setPlainText(text)
+
+    def chosen_unknown(self) -> str | None:
+        data = self.unknown_box.currentData()
+        return data or None
+
+    def set_chosen_unknown(self, name: str | None) -> None:
+        self._filling = True
+        try:
+            self.unknown_box.clear()
+            self.unknown_box.addItem(AUTO, "")
+            if name:
+                self.unknown_box.addItem(name, name)
+                self.unknown_box.setCurrentIndex(1)
+        finally:
+            self._filling = False
+
+    def _on_unknown_activated(self, _index: int) -> None:
+        if not self._filling:
+            self.unknown_chosen.emit(self.unknown_box.currentData() or "")
+
+    # -- showing an analysis
+    def show_analysis(self, analysis: Analysis) -> None:
+        self.analysis = analysis
+        self._fill_unknowns(analysis)
+        self._highlight(analysis.position if analysis.error else None)
+        self._show_typeset(analysis)
+        if analysis.ok:
+            message = f"Ready: solving for {analysis.unknown}."
+            if analysis.ambiguous:
+                message += " Several names could be the unknown: choose one under Solve for."
+            if analysis.notes:
+                message += "  " + "  ".join(analysis.notes)
+            self._set_status(message, ok=not analysis.ambiguous)
+        else:
+            where = ""
+            if analysis.position is not None:
+                where = f"column {analysis.position + 1}: "
+            self._set_status(where + analysis.error, ok=False)
+
+    def _show_typeset(self, analysis: Analysis) -> None:
+        if not analysis.latex:
+            # Never leave an old typeset form up: it would not match the text.
+            self.equation_view.clear()
+            self.derivative_view.clear()
+            return
+        self.equation_view.show_latex(analysis.latex, analysis.text)
+        u = analysis.unknown or "x"
+        if analysis.derivative_latex:
+            self.derivative_view.show_latex(
+                rf"\frac{{df}}{{d{u}}} = {analysis.derivative_latex}",
+                "derivative of f = lhs - rhs")
+        elif analysis.equation is not None:
+            self.derivative_view.show_latex(
+                "", "no symbolic derivative: Newton–Raphson will use a numerical one")
+        else:
+            self.derivative_view.clear()
+
+    def _set_status(self, text: str, *, ok: bool) -> None:
+        self.status.setText(("✓ " if ok else "✗ ") + text)
+        self.status.setStyleSheet("color: #1F5F3F;" if ok else "color: #8A2B00; font-weight: bold;")
+
+    def _fill_unknowns(self, analysis: Analysis) -> None:
+        self._filling = True
+        try:
+            chosen = self.chosen_unknown()
+            self.unknown_box.clear()
+            self.unknown_box.addItem(
+                AUTO if not analysis.unknown or chosen else f"{AUTO}: {analysis.unknown}", "")
+            for name in analysis.candidates:
+                self.unknown_box.addItem(name, name)
+            if chosen and chosen in analysis.candidates:
+                self.unknown_box.setCurrentIndex(self.unknown_box.findData(chosen))
+            else:
+                self.unknown_box.setCurrentIndex(0)
+        finally:
+            self._filling = False
+
+    def _highlight(self, position: int | None) -> None:
+        """Mark the offending character (or the end of the text) with a wavy vermillion line."""
+        if position is None:
+            self.editor.setExtraSelections([])
+            return
+        text = self.text()
+        position = max(0, min(position, max(len(text) - 1, 0)))
+        selection = QTextEdit.ExtraSelection()
+        fmt = QTextCharFormat()
+        fmt.setBackground(QColor("#F6C9B0"))
+        fmt.setUnderlineColor(QColor("#D55E00"))
+        fmt.setUnderlineStyle(QTextCharFormat.UnderlineStyle.WaveUnderline)
+        fmt.setProperty(QTextFormat.Property.FullWidthSelection, False)
+        selection.format = fmt
+        cursor = QTextCursor(self.editor.document())
+        cursor.setPosition(position)
+        cursor.movePosition(QTextCursor.MoveOperation.NextCharacter,
+                            QTextCursor.MoveMode.KeepAnchor)
+        selection.cursor = cursor
+        self.editor.setExtraSelections([selection])
+
+    def highlighted_position(self) -> int | None:
+        selections = self.editor.extraSelections()
+        return selections[0].cursor.selectionStart() if selections else None
+
+
+def bold(font: QFont) -> QFont:
+    font = QFont(font)
+    font.setBold(True)
+    return font

@@ -1,0 +1,311 @@
+"""The inputs column: parameters table, start values, stopping rules and the two actions.
+
+Every number is typed as text and checked as the user types; a bad entry is tinted,
+explained in its tooltip and listed by :meth:`InputsPanel.problems`, and the last
+good value stays in use, so nothing typed is ever silently replaced.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QFrame,
+    QGridLayout,
+    QGroupBox,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QLineEdit,
+    QPushButton,
+    QScrollArea,
+    QSizePolicy,
+    QVBoxLayout,
+    QWidget,
+)
+
+from app.window.models import ParametersModel, number_font, parse_number
+from app.window.views import CopyTableView
+from solvers.worksheet import Settings
+
+BAD_STYLE = "QLineEdit { background: #FBE3D6; color: #8A2B00; }"
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    """One typed setting: its key, label, tooltip, and the check its value must pass."""
+
+    key: str
+    label: str
+    tip: str
+    optional: bool = False  # blank means "chosen automatically"
+    check: Callable[[float], str] | None = None  # returns '' or what is wrong
+    integer: bool = False
+
+
+def _nonneg(v: float) -> str:
+    return "" if v >= 0 else "must not be negative"
+
+
+def _damping(v: float) -> str:
+    return "" if 0 < v <= 1 else "must lie in (0, 1]"
+
+
+def _iterations(v: float) -> str:
+    return "" if 1 <= v <= 100_000 else "must be a whole number from 1 to 100000"
+
+
+START_FIELDS = (
+    FieldSpec("x0", "x&0", "Newton–Raphson start (blank: midpoint of the bracket). "
+              "Shift+click on the plot sets it.", optional=True),
+    FieldSpec("x1", "x&1", "second point of the secant (blank: x0 nudged by 1e-4). "
+              "Shift+right-click on the plot sets it.", optional=True),
+    FieldSpec("a", "bracket &a", "left end of the bracket for false position "
+              "(blank: the scan range). Shift+drag on the plot sets a and b.", optional=True),
+    FieldSpec("b", "bracket &b", "right end of the bracket", optional=True),
+    FieldSpec("from", "scan fro&m", "left end of the range scanned for every root "
+              "and drawn in the plot", optional=True),
+    FieldSpec("to", "scan &to", "right end of the scanned range", optional=True),
+)
+RULE_FIELDS = (
+    FieldSpec("xtol", "&xtol", "stop when |Δx| ≤ xtol + rtol·|x| (absolute part, "
+              "units of the unknown)", check=_nonneg),
+    FieldSpec("rtol", "&rtol", "relative part of the step test (4 machine epsilons "
+              "by default)", check=_nonneg),
+    FieldSpec("ftol", "fto&l", "stop when |f(x)| ≤ ftol (0: off, since the scale of "
+              "f is yours)", check=_nonneg),
+    FieldSpec("max_iter", "max &iter.", "stop after this many iterates", check=_iterations,
+              integer=True),
+    FieldSpec("damping", "&damping", "Newton–Raphson step multiplier λ in (0, 1]; "
+              "1 is the plain method", check=_damping),
+)
+
+
+class NumberField(QLineEdit):
+    """A line edit for one number with inline validation (tint + tooltip when wrong)."""
+
+    def __init__(self, spec: FieldSpec, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.spec = spec
+        self.setObjectName(f"field_{spec.key}")
+        self.setFont(number_font())
+        self.setPlaceholderText("automatic" if spec.optional else "")
+        self._tip = spec.tip
+        self.setToolTip(spec.tip)
+        self.textChanged.connect(self._check)
+        self.last_good: float | None = None
+
+    def problem(self) -> str:
+        text = self.text().strip()
+        if not text:
+            return "" if self.spec.optional else "needs a value"
+        value = parse_number(text)
+        if value is None:
+            return f"{text!r} is not a finite number"
+        if self.spec.integer and value != int(value):
+            return "must be a whole number"
+        return self.spec.check(value) if self.spec.check else ""
+
+    def value(self) -> float | None:
+        """The typed value if valid; otherwise the last good one (the problem is reported)."""
+        if self.problem():
+            return self.last_good
+        text = self.text().strip()
+        return parse_number(text) if text else None
+
+    def set_value(self, value: float | int | None) -> None:
+        if value is None:
+            self.setText("")
+        elif self.spec.integer:
+            self.setText(str(int(value)))
+        else:
+            self.setText(repr(float(value)))
+        self.setCursorPosition(0)  # show the leading digits when the field is narrow
+
+    def _check(self) -> None:
+        problem = self.problem()
+        if problem:
+            self.setStyleSheet(BAD_STYLE)
+            self.setToolTip(f"{self.spec.key}: {problem}\n{self._tip}")
+        else:
+            self.setStyleSheet("")
+            self.setToolTip(self._tip)
+            text = self.text().strip()
+            self.last_good = parse_number(text) if text else None
+
+
+class InputsPanel(QWidget):
+    """Parameters, start values, stopping rules, Solve and Scan range."""
+
+    changed = Signal()
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.parameters = ParametersModel(self)
+        self.parameters_view = CopyTableView()
+        self.parameters_view.setObjectName("parametersView")
+        self.parameters_view.setModel(self.parameters)
+        self.parameters_view.setSelectionBehavior(CopyTableView.SelectionBehavior.SelectItems)
+        header = self.parameters_view.horizontalHeader()
+        header.setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
+        header.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
+        header.resizeSection(1, 110)
+        self.parameters_view.setMinimumHeight(80)
+        self.parameters_view.setMaximumHeight(200)
+        self.parameters_view.setToolTip("Values of the names the equation uses (F2 to edit). "
+                                        "Tinted cells need a valid number.")
+        self.parameters_label = QLabel("&Parameters")
+        self.parameters_label.setBuddy(self.parameters_view)
+
+        self.fields: dict[str, NumberField] = {}
+        start_box = QGroupBox("Start values and range")
+        start_grid = QGridLayout(start_box)
+        self._pairs(start_grid, START_FIELDS)
+        rules_box = QGroupBox("Stopping rules")
+        rules_grid = QGridLayout(rules_box)
+        self._pairs(rules_grid, RULE_FIELDS)
+        for grid in (start_grid, rules_grid):
+            grid.setContentsMargins(6, 4, 6, 4)
+            grid.setVerticalSpacing(3)
+            grid.setHorizontalSpacing(4)
+            grid.setColumnStretch(1, 1)
+            grid.setColumnStretch(3, 1)
+
+        self.solve_button = QPushButton("&Solve")
+        self.solve_button.setObjectName("solveButton")
+        self.solve_button.setToolTip("Run Newton–Raphson, secant and false position (Ctrl+Return)")
+        self.solve_button.setDefault(True)
+        self.scan_button = QPushButton("Sca&n range")
+        self.scan_button.setObjectName("scanButton")
+        self.scan_button.setToolTip("Find every root, pole and jump between 'scan from' and "
+                                    "'scan to' (Ctrl+Shift+Return)")
+        buttons = QHBoxLayout()
+        buttons.addWidget(self.solve_button)
+        buttons.addWidget(self.scan_button)
+        self.problem_label = QLabel()
+        self.problem_label.setObjectName("inputsProblems")
+        self.problem_label.setWordWrap(True)
+        self.problem_label.setStyleSheet("color: #8A2B00;")
+        self.problem_label.setSizePolicy(QSizePolicy.Policy.Preferred,
+                                         QSizePolicy.Policy.Minimum)
+
+        # The fields scroll on a small screen; the two actions below them never do.
+        fields = QWidget()
+        fields_layout = QVBoxLayout(fields)
+        fields_layout.setContentsMargins(0, 0, 0, 0)
+        fields_layout.setSpacing(4)
+        fields_layout.addWidget(self.parameters_label)
+        fields_layout.addWidget(self.parameters_view, 1)
+        fields_layout.addWidget(start_box)
+        fields_layout.addWidget(rules_box)
+        scroll = QScrollArea()
+        scroll.setWidget(fields)
+        scroll.setWidgetResizable(True)
+        scroll.setFrameShape(QFrame.Shape.NoFrame)
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(4, 2, 4, 2)
+        layout.setSpacing(4)
+        layout.addWidget(scroll, 1)
+        layout.addLayout(buttons)
+        layout.addWidget(self.problem_label)
+
+        self.parameters.edited.connect(self._on_changed)
+        for field in self.fields.values():
+            field.textChanged.connect(self._on_changed)
+        self._loading = False
+        self.show_settings(Settings(), None)
+
+    def _pairs(self, grid: QGridLayout, specs: tuple[FieldSpec, ...]) -> None:
+        """Two label/field pairs per row, so the column fits a 1280x800 screen."""
+        for i, spec in enumerate(specs):
+            field = NumberField(spec)
+            field.setMinimumWidth(60)
+            label = QLabel(spec.label)
+            label.setBuddy(field)
+            label.setToolTip(spec.tip)
+            row, col = divmod(i, 2)
+            grid.addWidget(label, row, 2 * col)
+            grid.addWidget(field, row, 2 * col + 1)
+            self.fields[spec.key] = field
+
+    def _on_changed(self) -> None:
+        self.problem_label.setText("\n".join(self.problems()[:4]))
+        if not self._loading:
+            self.changed.emit()
+
+    # -- worksheet <-> fields
+    def show_settings(self, settings: Settings, scan: tuple[float, float] | None) -> None:
+        self._loading = True
+        try:
+            values: dict[str, Any] = {
+                "x0": settings.x0,
+                "x1": settings.x1,
+                "a": settings.bracket[0] if settings.bracket else None,
+                "b": settings.bracket[1] if settings.bracket else None,
+                "from": scan[0] if scan else None,
+                "to": scan[1] if scan else None,
+                "xtol": settings.xtol,
+                "rtol": settings.rtol,
+                "ftol": settings.ftol,
+                "max_iter": settings.max_iter,
+                "damping": settings.damping,
+            }
+            for key, value in values.items():
+                self.fields[key].set_value(value)
+        finally:
+            self._loading = False
+        self._on_changed()
+
+    def set_field(self, key: str, value: float | None) -> None:
+        """Set one field as if typed (clicks on the plot use this)."""
+        self.fields[key].set_value(value)
+
+    def settings(self, base: Settings) -> tuple[Settings, tuple[float, float] | None]:
+        """The settings and scan range as typed (last good value where a field is wrong)."""
+        v = {key: field.value() for key, field in self.fields.items()}
+        bracket = None
+        if v["a"] is not None and v["b"] is not None and v["a"] != v["b"]:
+            bracket = (min(v["a"], v["b"]), max(v["a"], v["b"]))
+        scan = None
+        if v["from"] is not None and v["to"] is not None and v["from"] < v["to"]:
+            scan = (v["from"], v["to"])
+        defaults = Settings()
+        settings = Settings(
+            methods=base.methods,
+            x0=v["x0"],
+            x1=v["x1"],
+            bracket=bracket,
+            xtol=_or(v["xtol"], defaults.xtol),
+            rtol=_or(v["rtol"], defaults.rtol),
+            ftol=_or(v["ftol"], defaults.ftol),
+            max_iter=int(_or(v["max_iter"], defaults.max_iter)),
+            damping=_or(v["damping"], defaults.damping),
+        )
+        return settings, scan
+
+    def problems(self) -> list[str]:
+        """Every input that is wrong, one line each naming the field."""
+        found = [f"{key}: {field.problem()}" for key, field in self.fields.items()
+                 if field.problem()]
+        v = {key: self.fields[key].value() for key in ("a", "b", "from", "to")}
+        if (v["a"] is None) != (v["b"] is None):
+            found.append("bracket: give both ends a and b, or neither")
+        elif v["a"] is not None and v["a"] == v["b"]:
+            found.append("bracket: the two ends must differ")
+        if (v["from"] is None) != (v["to"] is None):
+            found.append("scan range: give both 'from' and 'to', or neither")
+        elif v["from"] is not None and not v["from"] < v["to"]:
+            found.append("scan range: 'from' must be less than 'to'")
+        tolerances = [self.fields[k].value() for k in ("xtol", "rtol", "ftol")]
+        if all(t == 0 for t in tolerances):
+            found.append("tolerances: xtol, rtol and ftol are all zero; no run could stop early")
+        return self.parameters.problems() + found
+
+
+def _or(value: float | None, default: float) -> float:
+    return default if value is None or (isinstance(value, float) and math.isnan(value)) else value

@@ -1,0 +1,210 @@
+"""Method lanes: one per method, side by side, each a summary line over its iteration table."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QFrame,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QSpinBox,
+    QVBoxLayout,
+    QWidget,
+)
+
+from app.window.models import DEFAULT_DIGITS, RunModel, format_number, number_font
+from app.window.views import CopyTableView
+from solvers.figures import method_color, method_label
+from solvers.result import REASON_TEXT, Run
+
+FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
+OK_STYLE = "color: #1F5F3F; font-weight: bold;"
+
+
+def summary_text(run: Run, digits: int) -> str:
+    """Root, iterates, evaluations, stop reason and observed order, on one line."""
+    order = run.order
+    order_text = f"{order:.2f}" if order is not None else "n/a"
+    return (f"root {format_number(run.root, digits)}   stop: {run.reason}\n"
+            f"{run.iterations} iterates · {run.evaluations} evaluations · order ≈ {order_text}")
+
+
+def verdict_text(run: Run) -> str:
+    if run.converged:
+        extra = f"  (f′ {run.derivative})" if run.derivative else ""
+        return "✓ converged" + extra
+    why = run.message or REASON_TEXT.get(run.reason, run.reason)
+    return f"✗ FAILED: {REASON_TEXT.get(run.reason, run.reason)}" + (
+        f" — {run.message}" if run.message and run.message != why else "")
+
+
+class MethodLane(QFrame):
+    """One method's result: coloured title, verdict, summary, and its iterates."""
+
+    activated = Signal(str)  # method name, when the user works in this lane
+
+    def __init__(self, method: str, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.method = method
+        self.setObjectName(f"lane_{method}")
+        self.setFrameShape(QFrame.Shape.StyledPanel)
+        color = method_color(method)
+        self.title = QLabel(method_label(method))
+        self.title.setStyleSheet(f"font-weight: bold; border-left: 6px solid {color};"
+                                 " padding-left: 5px;")
+        self.verdict = QLabel("not run yet")
+        self.verdict.setObjectName(f"verdict_{method}")
+        self.verdict.setWordWrap(True)
+        self.summary = QLabel("")
+        self.summary.setObjectName(f"summary_{method}")
+        self.summary.setFont(number_font())
+        self.summary.setWordWrap(True)
+        self.summary.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.model = RunModel(self)
+        self.table = CopyTableView()
+        self.table.setObjectName(f"table_{method}")
+        self.table.setModel(self.model)
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
+                              "the selection as tab-separated text)")
+        self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
+        head = QHBoxLayout()
+        head.addWidget(self.title)
+        head.addWidget(self.verdict, 1)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(4, 3, 4, 3)
+        layout.setSpacing(2)
+        layout.addLayout(head)
+        layout.addWidget(self.summary)
+        layout.addWidget(self.table, 1)
+        self._digits = DEFAULT_DIGITS
+
+    @property
+    def run(self) -> Run | None:
+        return self.model.run
+
+    def set_run(self, run: Run | None) -> None:
+        self.model.set_run(run)
+        for c in range(self.model.columnCount()):
+            self.table.setColumnHidden(c, c in self.model.empty_columns())
+        self.table.resizeColumnsToContents()
+        self._refresh()
+
+    def set_digits(self, digits: int) -> None:
+        self._digits = digits
+        self.model.set_digits(digits)
+        self.table.resizeColumnsToContents()
+        self._refresh()
+
+    def set_stale(self, stale: bool) -> None:
+        self.table.setEnabled(not stale)
+        if stale and self.run is not None:
+            self.verdict.setText("inputs changed since this run: press Solve")
+            self.verdict.setStyleSheet("color: #555555; font-style: italic;")
+        else:
+            self._refresh()
+
+    def _refresh(self) -> None:
+        run = self.run
+        if run is None:
+            self.verdict.setText("not run yet")
+            self.verdict.setStyleSheet("color: #555555;")
+            self.summary.setText("")
+            self.summary.setToolTip("")
+            return
+        self.verdict.setText(verdict_text(run))
+        self.verdict.setStyleSheet(OK_STYLE if run.converged else FAILED_STYLE)
+        self.verdict.setToolTip(REASON_TEXT.get(run.reason, run.reason))
+        self.summary.setText(summary_text(run, self._digits))
+        self.summary.setToolTip(f"root = {run.root!r}\n{run.message}".strip())
+
+
+class LanesPanel(QWidget):
+    """The lanes side by side, the agreement note and the significant-figures control."""
+
+    method_activated = Signal(str)
+    digits_changed = Signal(int)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.lanes: dict[str, MethodLane] = {}
+        self.agreement = QLabel("Press Solve (Ctrl+Return) to run the methods side by side.")
+        self.agreement.setObjectName("agreementNote")
+        self.agreement.setWordWrap(True)
+        self.digits = QSpinBox()
+        self.digits.setObjectName("digitsBox")
+        self.digits.setRange(3, 17)
+        self.digits.setValue(DEFAULT_DIGITS)
+        self.digits.setToolTip("Significant figures shown in the tables (copies are always "
+                               "full precision)")
+        digits_label = QLabel("Si&gnificant figures")
+        digits_label.setBuddy(self.digits)
+        head = QHBoxLayout()
+        head.addWidget(self.agreement, 1)
+        head.addWidget(digits_label)
+        head.addWidget(self.digits)
+        self._row = QHBoxLayout()
+        self._row.setSpacing(6)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(4, 2, 4, 2)
+        layout.setSpacing(3)
+        layout.addLayout(head)
+        layout.addLayout(self._row, 1)
+        self.digits.valueChanged.connect(self._on_digits)
+        self.set_methods(("newton", "secant", "false_position"))
+
+    def set_methods(self, methods: Sequence[str]) -> None:
+        if list(methods) == list(self.lanes):
+            return
+        for lane in self.lanes.values():
+            self._row.removeWidget(lane)
+            lane.deleteLater()
+        self.lanes = {}
+        for name in methods:
+            lane = MethodLane(name)
+            lane.set_digits(self.digits.value())
+            lane.activated.connect(self.method_activated)
+            self._row.addWidget(lane, 1)
+            self.lanes[name] = lane
+
+    def show_solution(self, solution: Any) -> None:
+        self.set_methods([r.method for r in solution.runs])
+        for run in solution.runs:
+            self.lanes[run.method].set_run(run)
+        self.agreement.setText(agreement_text(solution))
+        self.agreement.setStyleSheet("")
+
+    def set_stale(self, stale: bool) -> None:
+        for lane in self.lanes.values():
+            lane.set_stale(stale)
+
+    def _on_digits(self, value: int) -> None:
+        for lane in self.lanes.values():
+            lane.set_digits(value)
+        self.digits_changed.emit(value)
+
+
+def agreement_text(solution: Any) -> str:
+    runs = solution.runs
+    converged = [r for r in runs if r.converged]
+    failed = [method_label(r.method) for r in runs if not r.converged]
+    digits = solution.agreement_digits
+    if digits is not None:
+        text = (f"The {len(converged)} converged methods agree to {digits} significant "
+                f"figure{'s' if digits != 1 else ''}.")
+    elif len(converged) == 1:
+        text = "Only one method converged: no cross-check; try other start values."
+    elif not converged:
+        text = "No method converged: check the equation, start values and bracket."
+    else:
+        text = ""
+    if failed:
+        text += f"  Failed: {', '.join(failed)} (see the lane for why)."
+    notes = getattr(getattr(solution, "start", None), "notes", ())
+    if notes:
+        text += "  Start values: " + "; ".join(notes) + "."
+    return text.strip()

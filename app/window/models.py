@@ -1,0 +1,312 @@
+"""Qt table models over the core's records: iterates of a Run, roots of a Scan, parameters.
+
+Views never hold numbers of their own: each table is a QAbstractTableModel that reads
+the frozen records from solvers/ and formats them for display. The raw float is
+available under ``Qt.UserRole`` (for tests, copying at full precision and sorting);
+the tooltip shows ``repr`` so no digit is ever hidden from a checker.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
+from PySide6.QtGui import QBrush, QColor, QFont, QFontDatabase
+
+from solvers.result import Run, Step
+
+Index = QModelIndex | QPersistentModelIndex
+INVALID_BACKGROUND = QColor("#FBE3D6")  # pale vermillion: reads as "attention" without red/green
+INVALID_FOREGROUND = QColor("#8A2B00")
+DEFAULT_DIGITS = 10
+
+
+def number_font() -> QFont:
+    font = QFontDatabase.systemFont(QFontDatabase.SystemFont.FixedFont)
+    font.setStyleHint(QFont.StyleHint.Monospace)
+    return font
+
+
+def format_number(value: float | int | None, digits: int = DEFAULT_DIGITS) -> str:
+    """A float with ``digits`` significant figures; '' for None, words for NaN/inf."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return str(value)
+    if isinstance(value, int):
+        return str(value)
+    if math.isnan(value):
+        return "undefined"
+    if math.isinf(value):
+        return "+inf" if value > 0 else "-inf"
+    return f"{value:.{digits}g}"
+
+
+@dataclass(frozen=True)
+class Column:
+    title: str
+    value: Callable[[Any], Any]
+    tip: str = ""
+
+
+class _RecordModel(QAbstractTableModel):
+    """A read-only table of frozen records with a column table (no if-chains per column)."""
+
+    columns: Sequence[Column] = ()
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._rows: list[Any] = []
+        self._digits = DEFAULT_DIGITS
+        self._font = number_font()
+
+    def set_digits(self, digits: int) -> None:
+        self._digits = int(digits)
+        if self._rows:
+            self.dataChanged.emit(self.index(0, 0), self.index(len(self._rows) - 1,
+                                                               len(self.columns) - 1))
+
+    def set_rows(self, rows: Sequence[Any]) -> None:
+        self.beginResetModel()
+        self._rows = list(rows)
+        self.endResetModel()
+
+    def rows(self) -> list[Any]:
+        return list(self._rows)
+
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008 (Qt signature)
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(self.columns)
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if orientation == Qt.Orientation.Horizontal and 0 <= section < len(self.columns):
+            if role == Qt.ItemDataRole.DisplayRole:
+                return self.columns[section].title
+            if role == Qt.ItemDataRole.ToolTipRole:
+                return self.columns[section].tip or None
+        return None
+
+    def raw(self, row: int, column: int) -> Any:
+        return self.columns[column].value(self._rows[row])
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid():
+            return None
+        value = self.raw(index.row(), index.column())
+        if role == Qt.ItemDataRole.DisplayRole:
+            if isinstance(value, float) or value is None:
+                return format_number(value, self._digits)
+            return str(value)
+        if role == Qt.ItemDataRole.UserRole:
+            return value
+        if role == Qt.ItemDataRole.ToolTipRole and isinstance(value, float):
+            return repr(value)
+        if role == Qt.ItemDataRole.FontRole and isinstance(value, (int, float)):
+            return self._font
+        if role == Qt.ItemDataRole.TextAlignmentRole and isinstance(value, (int, float)):
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None
+
+
+class RunModel(_RecordModel):
+    """The iterates of one :class:`Run`: k, x, f(x), f'(x), Δx, and the bracket ends."""
+
+    columns = (
+        Column("k", lambda s: s.k, "iterate number (0 = starting point)"),
+        Column("x", lambda s: s.x, "iterate x_k"),
+        Column("f(x)", lambda s: s.fx, "residual f(x_k)"),
+        Column("f′(x)", lambda s: s.dfx, "derivative used at x_k (Newton–Raphson)"),
+        Column("Δx", lambda s: s.dx, "step x_k − x_(k−1)"),
+        Column("lo", lambda s: s.lo, "bracket end held after this iterate"),
+        Column("hi", lambda s: s.hi, "bracket end held after this iterate"),
+    )
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self.run: Run | None = None
+
+    def set_run(self, run: Run | None) -> None:
+        self.run = run
+        self.set_rows(run.steps if run is not None else [])
+
+    def step(self, row: int) -> Step:
+        return self._rows[row]
+
+    def empty_columns(self) -> list[int]:
+        """Columns with no value in any row (e.g. f′ for the secant): the view hides them."""
+        return [c for c, col in enumerate(self.columns)
+                if self._rows and all(col.value(s) is None for s in self._rows)]
+
+
+class RootsModel(_RecordModel):
+    """The roots of a :class:`solvers.scan.Scan`, sorted by x as the scan returns them."""
+
+    columns = (
+        Column("x", lambda r: r.x, "root"),
+        Column("residual", lambda r: r.residual, "f at the root"),
+        Column("mult.", lambda r: r.multiplicity, "multiplicity (2 = double root)"),
+        Column("confirmed", lambda r: getattr(r, "confirmed", ""),
+               "how the scan confirmed the root"),
+        Column("located by", lambda r: " + ".join(getattr(r, "located_by", ()) or ()),
+               "what located the root"),
+    )
+
+    def root(self, row: int) -> Any:
+        return self._rows[row]
+
+
+# ----------------------------------------------------------------- parameters
+
+
+def parse_number(text: str) -> float | None:
+    """A finite float from the user's text, or None (NaN and inf are refused)."""
+    try:
+        value = float(text.strip().replace("−", "-"))
+    except (ValueError, AttributeError):
+        return None
+    return value if math.isfinite(value) else None
+
+
+@dataclass
+class ParameterRow:
+    name: str
+    text: str = ""
+    note: str = ""
+
+    @property
+    def value(self) -> float | None:
+        return parse_number(self.text)
+
+    @property
+    def problem(self) -> str:
+        if not self.text.strip():
+            return f"{self.name}: needs a value"
+        if self.value is None:
+            return f"{self.name}: {self.text.strip()!r} is not a finite number"
+        return ""
+
+
+class ParametersModel(QAbstractTableModel):
+    """Name, value, note of every parameter the equation uses.
+
+    Rows follow the equation (``set_names``); values and notes typed for a name are
+    remembered while the equation is edited, so deleting and retyping a name, or
+    fixing a typo elsewhere, never loses a value.
+    """
+
+    edited = Signal()
+    COLUMNS = ("name", "value", "note")
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._rows: list[ParameterRow] = []
+        self._memory: dict[str, ParameterRow] = {}
+        self._font = number_font()
+
+    # -- content
+    def set_names(self, names: Sequence[str]) -> None:
+        names = list(dict.fromkeys(names))
+        if names == [r.name for r in self._rows]:
+            return
+        self.beginResetModel()
+        self._rows = [self._memory.setdefault(n, ParameterRow(n)) for n in names]
+        self.endResetModel()
+
+    def load(self, parameters: Sequence[Any]) -> None:
+        """Replace everything with a worksheet's parameters (name, value, note)."""
+        self.beginResetModel()
+        self._memory = {p.name: ParameterRow(p.name, repr(float(p.value)), p.note)
+                        for p in parameters}
+        self._rows = list(self._memory.values())
+        self.endResetModel()
+
+    def remember(self, name: str) -> ParameterRow | None:
+        return self._memory.get(name)
+
+    def names(self) -> list[str]:
+        return [r.name for r in self._rows]
+
+    def remembered_values(self) -> dict[str, float | None]:
+        """Every name ever given a row, with its value (None when blank or wrong)."""
+        return {name: row.value for name, row in self._memory.items()}
+
+    def rows(self) -> list[ParameterRow]:
+        return list(self._rows)
+
+    def values(self) -> dict[str, float]:
+        return {r.name: r.value for r in self._rows if r.value is not None}
+
+    def problems(self) -> list[str]:
+        return [r.problem for r in self._rows if r.problem]
+
+    def set_value(self, name: str, text: str) -> None:
+        for i, r in enumerate(self._rows):
+            if r.name == name:
+                self.setData(self.index(i, 1), text)
+                return
+        self._memory.setdefault(name, ParameterRow(name)).text = text
+
+    # -- Qt
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else 3
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
+            return self.COLUMNS[section]
+        return None
+
+    def flags(self, index: Index) -> Qt.ItemFlag:
+        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
+        if index.column() in (1, 2):
+            base |= Qt.ItemFlag.ItemIsEditable
+        return base
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid():
+            return None
+        row = self._rows[index.row()]
+        col = index.column()
+        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
+            return (row.name, row.text, row.note)[col]
+        bad = col == 1 and bool(row.problem)
+        if role == Qt.ItemDataRole.BackgroundRole and bad:
+            return QBrush(INVALID_BACKGROUND)
+        if role == Qt.ItemDataRole.ForegroundRole and bad:
+            return QBrush(INVALID_FOREGROUND)
+        if role == Qt.ItemDataRole.ToolTipRole:
+            if bad:
+                return row.problem
+            if col == 1 and row.value is not None:
+                return repr(row.value)
+        if role == Qt.ItemDataRole.FontRole and col in (0, 1):
+            return self._font
+        if role == Qt.ItemDataRole.UserRole and col == 1:
+            return row.value
+        return None
+
+    def setData(self, index: Index, value: Any, role: int = Qt.ItemDataRole.EditRole) -> bool:
+        if not index.isValid() or role != Qt.ItemDataRole.EditRole or index.column() == 0:
+            return False
+        row = self._rows[index.row()]
+        text = "" if value is None else str(value)
+        if index.column() == 1:
+            if text == row.text:
+                return False
+            row.text = text
+        else:
+            if text == row.note:
+                return False
+            row.note = text
+        self.dataChanged.emit(index, index)
+        self.edited.emit()
+        return True

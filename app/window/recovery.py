@@ -1,0 +1,113 @@
+"""Autosave of unsaved work to a recovery folder, offered again at the next start.
+
+The recovery folder is ``$ZEROTRACE_RECOVERY_DIR`` when set (tests point it at a
+temporary folder), else ``<AppDataLocation>/recovery``. Each window writes
+``unsaved-<session>.json`` (a normal worksheet, saved atomically, so a crash mid-write
+leaves the previous copy) and ``unsaved-<session>.meta.json`` (where the worksheet came
+from and when). A clean close removes both; files left behind by a session that ended
+without closing cleanly are offered at the next start.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import time
+import uuid
+from dataclasses import dataclass
+from pathlib import Path
+
+from solvers import worksheet
+from solvers.worksheet import Worksheet, WorksheetError
+
+ENV_VAR = "ZEROTRACE_RECOVERY_DIR"
+PREFIX = "unsaved-"
+
+
+def recovery_dir() -> Path:
+    override = os.environ.get(ENV_VAR)
+    if override:
+        return Path(override)
+    from PySide6.QtCore import QStandardPaths
+
+    base = QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation)
+    return Path(base or Path.home() / ".zerotrace") / "recovery"
+
+
+@dataclass(frozen=True)
+class Recovered:
+    """A worksheet left behind by an earlier session."""
+
+    path: Path
+    worksheet: Worksheet
+    origin: str | None  # the file it was opened from, if any
+    saved_at: float
+
+    def discard(self) -> None:
+        for p in (self.path, _meta_path(self.path)):
+            try:
+                p.unlink()
+            except OSError:
+                pass
+
+
+def _meta_path(path: Path) -> Path:
+    return path.with_name(path.name[: -len(".json")] + ".meta.json")
+
+
+class RecoveryStore:
+    """This window's recovery file, and the ones earlier sessions left behind."""
+
+    def __init__(self, folder: Path | None = None) -> None:
+        self.folder = folder if folder is not None else recovery_dir()
+        self.session = f"{os.getpid()}-{uuid.uuid4().hex[:8]}"
+        self.path = self.folder / f"{PREFIX}{self.session}.json"
+        self.last_error = ""
+
+    def write(self, ws: Worksheet, origin: str | None) -> bool:
+        """Save the recovery copy; False (with ``last_error``) if the folder is unusable."""
+        try:
+            self.folder.mkdir(parents=True, exist_ok=True)
+            worksheet.save(ws, self.path)
+            meta = {"origin": origin, "saved_at": time.time(), "session": self.session}
+            _meta_path(self.path).write_text(json.dumps(meta), encoding="utf-8")
+        except (OSError, ValueError) as exc:
+            self.last_error = f"autosave failed: {exc}"
+            return False
+        self.last_error = ""
+        return True
+
+    def clear(self) -> None:
+        for p in (self.path, _meta_path(self.path)):
+            try:
+                p.unlink()
+            except OSError:
+                pass
+
+    def exists(self) -> bool:
+        return self.path.exists()
+
+    def left_behind(self) -> list[Recovered]:
+        """Recovery files of other sessions, newest first (unreadable ones are skipped)."""
+        found: list[Recovered] = []
+        try:
+            candidates = sorted(self.folder.glob(f"{PREFIX}*.json"))
+        except OSError:
+            return []
+        for path in candidates:
+            if path.name.endswith(".meta.json") or path == self.path:
+                continue
+            try:
+                ws = worksheet.load(path)
+            except WorksheetError:
+                continue
+            origin, saved_at = None, path.stat().st_mtime
+            try:
+                meta = json.loads(_meta_path(path).read_text(encoding="utf-8"))
+                origin = meta.get("origin") if isinstance(meta.get("origin"), str) else None
+                saved_at = float(meta.get("saved_at", saved_at))
+            except (OSError, ValueError, TypeError, AttributeError):
+                pass
+            found.append(Recovered(path, ws, origin, saved_at))
+        found.sort(key=lambda r: r.saved_at, reverse=True)
+        return found

@@ -1,0 +1,80 @@
+"""Table views that copy as tab-separated text (Ctrl+C and a context menu) for spreadsheets."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QModelIndex, Qt
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
+from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QMenu, QTableView, QWidget
+
+
+def table_text(view: QTableView, *, selection_only: bool = True) -> str:
+    """The selected cells (or the whole table) as TSV with a header row.
+
+    Numbers are copied at full precision (``repr``) from the model's UserRole, so a
+    spreadsheet receives exactly the doubles the methods produced.
+    """
+    model = view.model()
+    if model is None:
+        return ""
+    indexes = view.selectionModel().selectedIndexes() if selection_only else []
+    if indexes:
+        rows = sorted({i.row() for i in indexes})
+        cols = sorted({i.column() for i in indexes})
+    else:
+        rows = list(range(model.rowCount()))
+        cols = [c for c in range(model.columnCount()) if not view.isColumnHidden(c)]
+    header = [str(model.headerData(c, Qt.Orientation.Horizontal) or "") for c in cols]
+    lines = ["\t".join(header)]
+    for r in rows:
+        cells = []
+        for c in cols:
+            index = model.index(r, c, QModelIndex())
+            raw = model.data(index, Qt.ItemDataRole.UserRole)
+            if isinstance(raw, float):
+                cells.append(repr(raw))
+            elif isinstance(raw, int) and not isinstance(raw, bool):
+                cells.append(str(raw))
+            else:
+                cells.append(str(model.data(index, Qt.ItemDataRole.DisplayRole) or ""))
+        lines.append("\t".join(cells))
+    return "\n".join(lines) + "\n"
+
+
+class CopyTableView(QTableView):
+    """A QTableView with Ctrl+C / context menu "Copy" and "Copy whole table" as TSV."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectItems)
+        self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
+        self.setAlternatingRowColors(True)
+        self.setWordWrap(False)
+        self.verticalHeader().setVisible(False)
+        self.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
+        self.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        self.horizontalHeader().setStretchLastSection(True)
+        self.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
+        self.customContextMenuRequested.connect(self._menu)
+        self.copy_action = QAction("&Copy", self)
+        self.copy_action.setShortcut(QKeySequence.StandardKey.Copy)
+        self.copy_action.setShortcutContext(Qt.ShortcutContext.WidgetShortcut)
+        self.copy_action.triggered.connect(self.copy_selection)
+        self.addAction(self.copy_action)
+        self.copy_all_action = QAction("Copy &whole table", self)
+        self.copy_all_action.triggered.connect(self.copy_all)
+
+    def copy_selection(self) -> str:
+        text = table_text(self, selection_only=True)
+        QGuiApplication.clipboard().setText(text)
+        return text
+
+    def copy_all(self) -> str:
+        text = table_text(self, selection_only=False)
+        QGuiApplication.clipboard().setText(text)
+        return text
+
+    def _menu(self, pos) -> None:  # noqa: ANN001 (QPoint)
+        menu = QMenu(self)
+        menu.addAction(self.copy_action)
+        menu.addAction(self.copy_all_action)
+        menu.exec(self.viewport().mapToGlobal(pos))

@@ -1,0 +1,357 @@
+"""Plots of an equation and its runs, drawn with matplotlib's object API (no pyplot, no Qt).
+
+The window draws into an embedded canvas and the calculation sheet into an Agg
+figure; both call these functions, so the picture on screen and the one filed in a
+report are the same.
+
+* :func:`curve` samples f for plotting: the line is broken at poles and jumps (so no
+  vertical streak is drawn across a pole) and the y-limits ignore the huge values
+  near a pole, so the roots stay visible.
+* :func:`draw_function` draws f with the roots, poles, jumps and undefined stretches
+  of a scan marked, and optionally one run's path (tangents for Newton, secant lines,
+  the shrinking bracket of a bracketing method).
+* :func:`draw_convergence` draws |f(x_k)| (or |dx_k|) against k on a log axis for
+  several runs, so quadratic and linear convergence can be told apart at a glance.
+
+Evaluation of f never raises out of here: exceptions, NaN, inf and complex values are
+treated as "undefined at this x" and leave a gap in the line.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from solvers.result import Run
+
+# Okabe & Ito (2008) colour-blind-safe palette, one colour per method. The function
+# itself is drawn in near-black so it never competes with a method's path.
+OKABE_ITO = {
+    "orange": "#E69F00",
+    "sky_blue": "#56B4E9",
+    "bluish_green": "#009E73",
+    "yellow": "#F0E442",
+    "blue": "#0072B2",
+    "vermillion": "#D55E00",
+    "reddish_purple": "#CC79A7",
+    "black": "#000000",
+}
+METHOD_COLORS: dict[str, str] = {
+    "newton": OKABE_ITO["blue"],
+    "secant": OKABE_ITO["vermillion"],
+    "false_position": OKABE_ITO["bluish_green"],
+    "illinois": OKABE_ITO["reddish_purple"],
+    "bisection": OKABE_ITO["orange"],
+    "brent": OKABE_ITO["sky_blue"],
+}
+METHOD_LABELS: dict[str, str] = {
+    "newton": "Newton–Raphson",
+    "secant": "secant",
+    "false_position": "false position",
+    "illinois": "Illinois",
+    "bisection": "bisection",
+    "brent": "Brent",
+}
+FUNCTION_COLOR = "#222222"
+POLE_COLOR = "#6B6B6B"
+ROOT_MARKER = {"marker": "o", "markersize": 7, "markerfacecolor": "white",
+               "markeredgecolor": "#000000", "markeredgewidth": 1.5, "linestyle": "none"}
+
+# A jump between neighbouring samples larger than this many y-spans is drawn as a gap:
+# a continuous function sampled at 2000 points never moves that far in one step
+# within the visible window.
+_JUMP_SPANS = 2.0
+# Fraction of the finite samples kept when choosing y-limits near a pole.
+_KEEP = (2.0, 98.0)
+
+
+def method_color(name: str) -> str:
+    return METHOD_COLORS.get(name, OKABE_ITO["black"])
+
+
+def method_label(name: str) -> str:
+    return METHOD_LABELS.get(name, name.replace("_", " "))
+
+
+@dataclass(frozen=True)
+class Curve:
+    """Samples of f for plotting: ``y`` holds NaN where the line must break."""
+
+    x: np.ndarray
+    y: np.ndarray
+    ylim: tuple[float, float]
+
+
+def evaluate(f: Callable[[Any], Any], x: np.ndarray) -> np.ndarray:
+    """f at every x as a float array; anything undefined (raise, NaN, inf, complex) is NaN."""
+    with np.errstate(all="ignore"):
+        try:
+            y = np.asarray(f(x))
+            if y.shape != x.shape:
+                y = np.broadcast_to(y, x.shape)
+        except Exception:  # f misbehaving on an array: fall back to one point at a time
+            y = np.array([_point(f, float(v)) for v in x])
+        if np.iscomplexobj(y):
+            y = np.where(np.abs(np.imag(y)) > 0, np.nan, np.real(y))
+        try:
+            y = y.astype(float)
+        except (TypeError, ValueError):
+            y = np.array([_point(f, float(v)) for v in x])
+    y = np.array(y, dtype=float)
+    y[~np.isfinite(y)] = np.nan
+    return y
+
+
+def _point(f: Callable[[Any], Any], x: float) -> float:
+    try:
+        with np.errstate(all="ignore"):
+            v = complex(f(x))
+    except Exception:
+        return math.nan
+    return v.real if v.imag == 0 else math.nan
+
+
+def robust_ylim(y: np.ndarray) -> tuple[float, float]:
+    """y-limits that show the body of the curve and y = 0, ignoring spikes at poles."""
+    finite = y[np.isfinite(y)]
+    if finite.size == 0:
+        return (-1.0, 1.0)
+    lo, hi = float(finite.min()), float(finite.max())
+    plo, phi = (float(v) for v in np.percentile(finite, _KEEP))
+    body = max(phi - plo, 1e-300)
+    # Only cut the tails when they are spikes (a pole), not a smooth steep curve.
+    if hi - phi > 5 * body:
+        hi = phi + 0.5 * body
+    if plo - lo > 5 * body:
+        lo = plo - 0.5 * body
+    span = hi - lo
+    # Show the axis y = 0 unless the curve stays far away from it (then zooming to
+    # the axis would flatten the curve into a line).
+    if lo > 0 and lo <= 3 * span:
+        lo = 0.0
+    elif hi < 0 and -hi <= 3 * span:
+        hi = 0.0
+    span = hi - lo
+    if span <= 0 or not math.isfinite(span):
+        pad = max(abs(hi), 1.0) * 0.1
+        return (lo - pad, hi + pad)
+    pad = 0.06 * span
+    return (lo - pad, hi + pad)
+
+
+def curve(
+    f: Callable[[Any], Any],
+    a: float,
+    b: float,
+    n: int = 2000,
+    *,
+    breaks: Iterable[float] = (),
+) -> Curve:
+    """Sample f at n points on [a, b] for plotting.
+
+    The line is broken (NaN inserted) where f is undefined, where neighbouring samples
+    jump by more than two y-spans with a change of sign or size (a pole or a jump),
+    and at every x in ``breaks`` (poles and discontinuities a scan reported).
+    """
+    if not (math.isfinite(a) and math.isfinite(b)) or a == b:
+        raise ValueError(f"plot range [{a!r}, {b!r}] must be two different finite numbers")
+    a, b = min(a, b), max(a, b)
+    x = np.linspace(a, b, max(int(n), 2))
+    y = evaluate(f, x)
+    ylim = robust_ylim(y)
+    span = ylim[1] - ylim[0]
+    cut = np.zeros(x.size - 1, dtype=bool)
+    dy = np.abs(np.diff(y))
+    with np.errstate(invalid="ignore"):
+        cut |= dy > _JUMP_SPANS * span
+    for xb in breaks:
+        if a < xb < b:
+            i = int(np.searchsorted(x, xb)) - 1
+            if 0 <= i < cut.size:
+                cut[i] = True
+    where = np.nonzero(cut)[0] + 1
+    if where.size:
+        mid = 0.5 * (x[where - 1] + x[where])
+        x = np.insert(x, where, mid)
+        y = np.insert(y, where, np.nan)
+    return Curve(x=x, y=y, ylim=ylim)
+
+
+# ----------------------------------------------------------------- the function plot
+
+
+def draw_function(
+    ax: Any,
+    f: Callable[[Any], Any],
+    a: float,
+    b: float,
+    *,
+    scan: Any = None,
+    run: Run | None = None,
+    n: int = 2000,
+    unknown: str = "x",
+    precomputed: Curve | None = None,
+) -> Curve:
+    """Draw f on [a, b] into ``ax``, with a scan's findings and one run's path.
+
+    Roots are open circles on y = 0, poles dashed grey verticals, jumps dotted
+    verticals with a cross, undefined stretches hatched. The run's path is drawn in
+    its method's colour; the axes limits stay on [a, b] and the curve's robust
+    y-limits so a wild iterate does not squash the picture. Returns the curve drawn.
+    """
+    poles = list(getattr(scan, "poles", []) or []) if scan is not None else []
+    jumps = list(getattr(scan, "discontinuities", []) or []) if scan is not None else []
+    c = precomputed if precomputed is not None else curve(f, a, b, n, breaks=poles + jumps)
+    ax.axhline(0.0, color="#9A9A9A", linewidth=0.8, zorder=1)
+    ax.plot(c.x, c.y, color=FUNCTION_COLOR, linewidth=1.4, zorder=2, label=f"f({unknown})")
+    if scan is not None:
+        _draw_scan(ax, scan, poles, jumps)
+    if run is not None and run.steps:
+        draw_path(ax, f, run)
+    ax.set_xlim(min(a, b), max(a, b))
+    ax.set_ylim(*c.ylim)
+    ax.set_xlabel(unknown)
+    ax.set_ylabel(f"f({unknown})")
+    ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)
+    handles, _labels = ax.get_legend_handles_labels()
+    if len(handles) > 1:
+        ax.legend(loc="best", fontsize="small", framealpha=0.85)
+    return c
+
+
+def _draw_scan(ax: Any, scan: Any, poles: Sequence[float], jumps: Sequence[float]) -> None:
+    for i, (ga, gb) in enumerate(getattr(scan, "gaps", []) or []):
+        ax.axvspan(ga, gb, facecolor="none", edgecolor="#B0B0B0", hatch="//", linewidth=0,
+                   zorder=0, label="f undefined" if i == 0 else None)
+    for i, xp in enumerate(poles):
+        ax.axvline(xp, color=POLE_COLOR, linestyle=(0, (6, 3)), linewidth=1.1, zorder=1,
+                   label="pole" if i == 0 else None)
+    for i, xj in enumerate(jumps):
+        ax.axvline(xj, color=POLE_COLOR, linestyle=":", linewidth=1.3, zorder=1)
+        ax.plot([xj], [0.0], marker="X", color=POLE_COLOR, markersize=7, linestyle="none",
+                zorder=3, label="jump" if i == 0 else None)
+    roots = list(getattr(scan, "roots", []) or [])
+    if roots:
+        ax.plot([r.x for r in roots], [0.0] * len(roots), zorder=4,
+                label=f"root{'s' if len(roots) > 1 else ''} ({len(roots)})", **ROOT_MARKER)
+
+
+def draw_path(ax: Any, f: Callable[[Any], Any], run: Run, *, limit: int = 40) -> None:
+    """Overlay a run's iterates on a function plot, the way its method moves."""
+    drawer = _PATH_DRAWERS.get(run.method, _draw_iterates)
+    drawer(ax, f, run, limit)
+
+
+def _finite_steps(run: Run, limit: int) -> list:
+    return [s for s in run.steps[:limit] if math.isfinite(s.x) and math.isfinite(s.fx)]
+
+
+def _draw_iterates(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> None:
+    color = method_color(run.method)
+    steps = _finite_steps(run, limit)
+    ax.plot([s.x for s in steps], [s.fx for s in steps], marker="o", markersize=4,
+            linestyle="none", color=color, zorder=5, label=f"{method_label(run.method)} iterates")
+    # Number the first few iterates so the table rows and the picture can be matched.
+    for s in steps[:8]:
+        ax.annotate(str(s.k), (s.x, s.fx), textcoords="offset points", xytext=(4, 4),
+                    fontsize="x-small", color=color, zorder=6)
+
+
+def _draw_tangents(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> None:
+    """Newton: from (x_k, f_k) along the tangent down to (x_{k+1}, 0), then up to the curve."""
+    color = method_color(run.method)
+    steps = _finite_steps(run, limit)
+    for s, nxt in zip(steps, steps[1:], strict=False):
+        ax.plot([s.x, nxt.x], [s.fx, 0.0], color=color, linewidth=1.0, zorder=4)
+        ax.plot([nxt.x, nxt.x], [0.0, nxt.fx], color=color, linewidth=0.8, linestyle=":",
+                zorder=4)
+    _draw_iterates(ax, f, run, limit)
+
+
+def _draw_secants(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> None:
+    """Secant: the line through the last two iterates, extended to where it meets y = 0."""
+    color = method_color(run.method)
+    steps = _finite_steps(run, limit)
+    for p, q, nxt in zip(steps, steps[1:], steps[2:], strict=False):
+        ax.plot([p.x, q.x, nxt.x], [p.fx, q.fx, 0.0], color=color, linewidth=1.0, zorder=4)
+        ax.plot([nxt.x, nxt.x], [0.0, nxt.fx], color=color, linewidth=0.8, linestyle=":",
+                zorder=4)
+    _draw_iterates(ax, f, run, limit)
+
+
+def _draw_bracket(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> None:
+    """Bracketing methods: each bracket [lo, hi] as a bar stacked along the bottom edge."""
+    color = method_color(run.method)
+    transform = ax.get_xaxis_transform()  # x in data units, y in axes fraction
+    bars = [s for s in run.steps[:limit] if s.lo is not None and s.hi is not None]
+    shown = bars[:14]
+    for i, s in enumerate(shown):
+        y = 0.03 + 0.022 * i
+        ax.plot([s.lo, s.hi], [y, y], transform=transform, color=color, linewidth=2.2,
+                solid_capstyle="butt", alpha=0.9, zorder=5,
+                label="bracket after each iterate" if i == 0 else None)
+    _draw_iterates(ax, f, run, limit)
+
+
+_PATH_DRAWERS: dict[str, Callable[[Any, Callable[[Any], Any], Run, int], None]] = {
+    "newton": _draw_tangents,
+    "secant": _draw_secants,
+    "false_position": _draw_bracket,
+    "illinois": _draw_bracket,
+    "bisection": _draw_bracket,
+    "brent": _draw_bracket,
+}
+
+
+# ----------------------------------------------------------------- convergence plot
+
+CONVERGENCE_QUANTITIES: dict[str, tuple[str, Callable[[Any], float | None]]] = {
+    "residual": ("|f(x_k)|", lambda s: s.fx),
+    "step": ("|Δx_k|", lambda s: s.dx),
+}
+
+
+def convergence_series(run: Run, quantity: str = "residual") -> tuple[list[int], list[float]]:
+    """(k, |value|) pairs of a run that can go on a log axis (zeros and NaN left out)."""
+    _label, pick = CONVERGENCE_QUANTITIES[quantity]
+    ks, vs = [], []
+    for s in run.steps:
+        v = pick(s)
+        if v is None or not math.isfinite(v) or v == 0:
+            continue
+        ks.append(s.k)
+        vs.append(abs(v))
+    return ks, vs
+
+
+def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual") -> None:
+    """|f(x_k)| (quantity="residual") or |Δx_k| ("step") against k, log y-axis, every run.
+
+    A run that did not converge is drawn dashed; an iterate where the value is exactly
+    zero cannot sit on a log axis and is left out (the table still shows it).
+    """
+    label, _pick = CONVERGENCE_QUANTITIES[quantity]
+    any_points = False
+    markers = {"newton": "o", "secant": "s", "false_position": "^", "illinois": "v",
+               "bisection": "D", "brent": "P"}
+    for run in runs:
+        ks, vs = convergence_series(run, quantity)
+        if not ks:
+            continue
+        any_points = True
+        ax.plot(ks, vs, color=method_color(run.method), marker=markers.get(run.method, "o"),
+                markersize=4, linewidth=1.4, linestyle="-" if run.converged else "--",
+                label=method_label(run.method) + ("" if run.converged else " (did not converge)"))
+    if any_points:
+        ax.set_yscale("log")
+        ax.legend(loc="best", fontsize="small", framealpha=0.85)
+    else:
+        ax.text(0.5, 0.5, "no iterates to show yet", transform=ax.transAxes,
+                ha="center", va="center", color="#666666")
+    ax.set_xlabel("iterate k")
+    ax.set_ylabel(label)
+    ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6)
