@@ -244,7 +244,8 @@ def _finish(
     label = LABELS[method]
     counts = f"{iterations} iterations, {evaluations} evaluations"
     if converged:
-        message = f"{label} converged to x = {_fmt(root)} ({counts}): {REASON_TEXT[reason]}"
+        account = detail or REASON_TEXT[reason]
+        message = f"{label} converged to x = {_fmt(root)} ({counts}): {account}"
     else:
         account = detail or REASON_TEXT[reason]
         message = f"{label} did not converge ({counts}): {account}; last x = {_fmt(root)}"
@@ -274,6 +275,10 @@ def _last_finite(steps: list[Step]) -> float:
 
 def _not_finite_detail(ev: _Evaluator, x: float, fx: float) -> str:
     return ev.fault or f"f(x) = {fx!r} at x = {x!r}"
+
+
+def _step_detail(what: str, size: float, xtol: float, rtol: float, x: float) -> str:
+    return f"{what} {size:.3g} <= xtol + rtol*|x| = {xtol + rtol * abs(x):.3g}"
 
 
 def _same_sign(u: float, v: float) -> bool:
@@ -388,7 +393,7 @@ def newton(
             return done(F_TOLERANCE, x, k)
         if dx is not None and abs(dx) <= xtol_ + rtol_ * abs(x):
             steps.append(Step(k, x, fx, None, dx))
-            return done(X_TOLERANCE, x, k)
+            return done(X_TOLERANCE, x, k, _step_detail("step |dx|", abs(dx), xtol_, rtol_, x))
         if k >= cap:
             steps.append(Step(k, x, fx, None, dx))
             return done(MAX_ITERATIONS, x, k)
@@ -491,7 +496,8 @@ def secant(
         if abs(fx) <= ftol_:
             return done(F_TOLERANCE, x, iterations)
         if abs(dx) <= xtol_ + rtol_ * abs(x):
-            return done(X_TOLERANCE, x, iterations)
+            detail = _step_detail("step |dx|", abs(dx), xtol_, rtol_, x)
+            return done(X_TOLERANCE, x, iterations, detail)
         xa, fa, xb, fb = xb, fb, x, fx
 
 
@@ -597,7 +603,8 @@ def bisection(
     while True:
         best = lo if abs(flo) <= abs(fhi) else hi
         if hi - lo <= xtol_ + rtol_ * abs(best):
-            return done(X_TOLERANCE, best)
+            detail = _step_detail("bracket width", hi - lo, xtol_, rtol_, best)
+            return done(X_TOLERANCE, best, detail)
         if iterations >= cap:
             return done(MAX_ITERATIONS, best)
         mid = 0.5 * lo + 0.5 * hi
@@ -705,7 +712,8 @@ def _regula_falsi(
             return done(F_TOLERANCE, x)
         best = xa if abs(fa) < abs(fb) else xb
         if hi - lo <= xtol_ + rtol_ * abs(best):
-            return done(X_TOLERANCE, best)
+            detail = _step_detail("bracket width", hi - lo, xtol_, rtol_, best)
+            return done(X_TOLERANCE, best, detail)
         if illinois_rule or fallback:
             # Illinois: both ends move, so the bracket width alone decides. After a
             # midpoint step the chord-step history says nothing: start it again.
@@ -724,7 +732,8 @@ def _regula_falsi(
                 if previous_ratio is not None and c < 1.0:
                     error = step * max(1.0, c / (1.0 - c))
                     if error <= xtol_ + rtol_ * abs(x):
-                        return done(X_TOLERANCE, best)
+                        what = f"error estimated from steps (ratio {c:.3g})"
+                        return done(X_TOLERANCE, best, _step_detail(what, error, xtol_, rtol_, x))
                 previous_ratio = ratio
             previous_step = step
         previous = x
@@ -825,7 +834,8 @@ def brent(
         half_tol = 0.5 * (xtol_ + rtol_ * abs(xb))
         m = 0.5 * (xc - xb)
         if abs(m) <= half_tol:
-            return done(X_TOLERANCE, xb)
+            width = abs(xc - xb)
+            return done(X_TOLERANCE, xb, _step_detail("bracket width", width, xtol_, rtol_, xb))
         if iterations >= cap:
             return done(MAX_ITERATIONS, xb)
 
