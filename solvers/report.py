@@ -554,7 +554,11 @@ def _calc_number(ws: Worksheet) -> str:
 
 
 def _title(ws: Worksheet, equation: Any) -> str:
-    return ws.title.strip() or f"Root of {ws.equation.strip()[:80]} for {equation.unknown}"
+    if ws.title.strip():
+        return ws.title.strip()
+    text = " ".join(ws.equation.split())
+    text = text if len(text) <= 80 else text[:79] + "…"
+    return f"Root of {text} for {equation.unknown}"
 
 
 def _title_block(c: _Context) -> list[Flowable]:
@@ -581,7 +585,8 @@ def _title_block(c: _Context) -> list[Flowable]:
          "", "", "", ""],
     ]
     widths = [25 * mm, 43 * mm, 23 * mm, 41 * mm, 12 * mm, 26 * mm]
-    table = Table(data, colWidths=widths, rowHeights=[None, None, 24, 24, None, None, None])
+    # Signature rows keep at least 24 pt of writing room and grow with long names.
+    table = Table(data, colWidths=widths, minRowHeights=[0, 0, 24, 24, 0, 0, 0])
     table.setStyle(
         TableStyle(
             [
@@ -741,7 +746,9 @@ def _results_section(c: _Context) -> list[Flowable]:
     ]
     for r in runs:
         if not r.converged:
-            detail = f" {r.message}" if r.message else ""
+            detail = f" {r.message.strip()}" if r.message.strip() else ""
+            if detail and detail[-1] not in ".!?":
+                detail += "."
             out += [Spacer(1, 3), _boxed(Paragraph(
                 f"<b>{escape(_label(r.method))} did not converge.</b> Stop reason "
                 f"<font name='ZT-Mono'>{escape(r.reason)}</font>: "
@@ -935,15 +942,25 @@ def _iterations_section(c: _Context) -> list[Flowable]:
 # --------------------------------------------------------------- page furniture
 
 
+def _fit(text: str, font: str, size: float, room: float) -> str:
+    """``text`` cut with an ellipsis so it is at most ``room`` points wide."""
+    if pdfmetrics.stringWidth(text, font, size) <= room:
+        return text
+    while text and pdfmetrics.stringWidth(text + "…", font, size) > room:
+        text = text[:-1]
+    return text + "…"
+
+
 def _furniture(c: _Context) -> Callable[[rl_canvas.Canvas, int], None]:
-    title = _title(c.ws, c.solution.equation)
-    if len(title) > 90:
-        title = title[:89] + "…"
+    width, height = PAGE_SIZE
     calc = f"Calc {_calc_number(c.ws)}"
     if c.ws.calc.revision:
         calc += f"  ·  Rev {c.ws.calc.revision}"
+    # The calc number is never cut: a long one gets a smaller face, up to 60% of the line.
+    calc_size = min(8.0, 8.0 * 0.6 * TEXT_WIDTH / pdfmetrics.stringWidth(calc, "ZT-Sans-Bold", 8))
+    calc_width = pdfmetrics.stringWidth(calc, "ZT-Sans-Bold", calc_size)
+    title = _fit(_title(c.ws, c.solution.equation), "ZT-Sans", 8, TEXT_WIDTH - calc_width - 8 * mm)
     left_foot = f"{TOOL_NAME} {c.version}  ·  worksheet SHA-256 {c.sha256[:16]}…"
-    width, height = PAGE_SIZE
 
     def draw(canv: rl_canvas.Canvas, total: int) -> None:
         canv.saveState()
@@ -951,7 +968,7 @@ def _furniture(c: _Context) -> Callable[[rl_canvas.Canvas, int], None]:
         canv.setLineWidth(0.5)
         top = height - 14 * mm
         canv.setFillColor(INK)
-        canv.setFont("ZT-Sans-Bold", 8)
+        canv.setFont("ZT-Sans-Bold", calc_size)
         canv.drawString(MARGIN_X, top, calc)
         canv.setFont("ZT-Sans", 8)
         canv.drawRightString(width - MARGIN_X, top, title)
