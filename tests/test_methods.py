@@ -21,6 +21,8 @@ import pytest
 import scipy.constants
 import scipy.optimize
 import scipy.special
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from solvers.methods import (
     DEFAULT_FTOL,
@@ -541,3 +543,80 @@ def test_defaults_are_documented_values():
     assert (DEFAULT_XTOL, DEFAULT_RTOL, DEFAULT_FTOL, DEFAULT_MAX_ITER) == (
         1e-12, 4 * np.finfo(float).eps, 0.0, 100
     )
+
+
+# ---------------------------------------------------------------- hostile f, every method
+
+
+def _raises(exc):
+    def f(x):
+        raise exc("hostile f")
+
+    return f
+
+
+HOSTILE = {
+    "ValueError": _raises(ValueError),
+    "ZeroDivisionError": _raises(ZeroDivisionError),
+    "OverflowError": _raises(OverflowError),
+    "nan": lambda x: math.nan,
+    "inf": lambda x: math.inf,
+    "numpy_nan": lambda x: np.float64(0.0) / np.float64(0.0),
+    "complex": lambda x: complex(x, 1.0),
+    "none": lambda x: None,
+    "text": lambda x: "1.5",
+    "array": lambda x: np.array([x, 2 * x]),
+}
+
+
+@pytest.mark.parametrize("name", list(METHODS))
+@pytest.mark.parametrize("hostile", list(HOSTILE))
+def test_every_method_records_a_misbehaving_f_as_not_finite(name, hostile):
+    f = Counted(HOSTILE[hostile])
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        run = run_method(name, f, fprime=f if name == "newton" else None, x0=1.0, x1=2.0,
+                         bracket=(1.0, 2.0))
+    assert caught == []
+    assert (run.reason, run.converged) == ("not_finite", False)
+    assert run.evaluations == f.calls
+    check_run_record(run)
+
+
+@pytest.mark.parametrize("name", [n for n, s in METHODS.items() if s.kind == "bracket"])
+def test_bracketing_methods_stop_at_a_nan_inside_the_bracket(name):
+    # sqrt-like domain hole inside [-1, 3]: f is nan on (0.9, 1.1), sign change across it
+    f = Counted(lambda x: math.nan if 0.9 < x < 1.1 else x - 1.0)
+    run = run_method(name, f, bracket=(-1.0, 3.0))
+    assert run.reason == "not_finite" and not run.converged
+    assert run.evaluations == f.calls
+    assert math.isfinite(run.root) and math.isfinite(run.residual)
+
+
+# ---------------------------------------------------------------- property: any bracket
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    root=st.floats(-100.0, 100.0),
+    p=st.floats(0.1, 10.0),
+    left=st.floats(1e-3, 100.0),
+    right=st.floats(1e-3, 100.0),
+)
+def test_bracketing_methods_find_the_root_of_any_monotone_cubic(root, p, left, right):
+    # f(x) = x^3 + p x - q is increasing, so [root - left, root + right] holds its only root.
+    q = root**3 + p * root
+    f = Counted(lambda x: x**3 + p * x - q)
+    # the computed q carries rounding; the root of the computed cubic moves by about
+    # eps*|q| / f'(root) (first-order perturbation, common practice)
+    slack = 2 * (DEFAULT_XTOL + DEFAULT_RTOL * abs(root)) + 64 * np.finfo(float).eps * (
+        abs(root) ** 3 + p * abs(root)
+    ) / (3 * root**2 + p)
+    for method in (brent, illinois, bisection):
+        f.calls = 0
+        run = method(f, root - left, root + right)
+        assert run.converged, run.message
+        assert abs(run.root - root) <= slack
+        assert run.evaluations == f.calls
+        check_run_record(run)
+        check_bracket_record(run, f.f)
