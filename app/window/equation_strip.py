@@ -32,6 +32,7 @@ from app.window.models import number_font
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"
+CONVENTIONAL_UNKNOWNS = ("x", "y", "z", "t")
 
 
 @dataclass(frozen=True)
@@ -62,7 +63,7 @@ def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str
 
     The user's explicit choice wins; otherwise the one name with no value; otherwise
     the previous unknown if still used; otherwise the first name without a value (or the
-    first name), flagged as ambiguous so the strip asks the user to choose.
+    first name; x, y, z, t preferred), flagged as ambiguous so the strip asks the user to choose.
     """
     if not names:
         return None, False
@@ -73,7 +74,9 @@ def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str
         return without[0], False
     if previous in names and (not without or previous in without):
         return previous, len(without) > 1
-    pick = without[0] if without else names[0]
+    pool = without or list(names)
+    # The names engineers use for "the unknown" first, then order of appearance.
+    pick = next((n for n in CONVENTIONAL_UNKNOWNS if n in pool), pool[0])
     return pick, True
 
 

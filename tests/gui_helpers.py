@@ -1,0 +1,119 @@
+"""Shared fixtures for the window tests: a window with private settings and recovery
+folder, and every modal dialog replaced by a scripted answer so no test can hang."""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import pytest
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+
+from PySide6.QtCore import QSettings  # noqa: E402
+from PySide6.QtWidgets import QFileDialog, QMessageBox  # noqa: E402
+
+SAMPLES = Path(__file__).resolve().parents[1] / "samples"
+
+
+@dataclass
+class Dialogs:
+    """Scripted answers for QMessageBox and QFileDialog; every call is recorded."""
+
+    question: Any = QMessageBox.StandardButton.Discard
+    open_name: str = ""
+    save_name: str = ""
+    calls: list[tuple[str, str]] = field(default_factory=list)
+
+    def titles(self, kind: str) -> list[str]:
+        return [text for k, text in self.calls if k == kind]
+
+
+@pytest.fixture
+def dialogs(monkeypatch: pytest.MonkeyPatch) -> Dialogs:
+    script = Dialogs()
+
+    def question(_parent: Any, title: str, text: str, *args: Any, **kwargs: Any) -> Any:
+        script.calls.append(("question", f"{title}: {text}"))
+        answer = script.question
+        return answer.pop(0) if isinstance(answer, list) else answer
+
+    def warning(_parent: Any, title: str, text: str, *args: Any, **kwargs: Any) -> Any:
+        script.calls.append(("warning", f"{title}: {text}"))
+        return QMessageBox.StandardButton.Ok
+
+    def refuse(*args: Any, **kwargs: Any) -> Any:
+        raise AssertionError(f"unexpected modal dialog: {args[1:3]}")
+
+    def get_open(*args: Any, **kwargs: Any) -> tuple[str, str]:
+        script.calls.append(("open", script.open_name))
+        return script.open_name, ""
+
+    def get_save(*args: Any, **kwargs: Any) -> tuple[str, str]:
+        script.calls.append(("save", script.save_name))
+        return script.save_name, ""
+
+    monkeypatch.setattr(QMessageBox, "question", question)
+    monkeypatch.setattr(QMessageBox, "warning", warning)
+    monkeypatch.setattr(QMessageBox, "critical", warning)
+    monkeypatch.setattr(QMessageBox, "information", refuse)
+    monkeypatch.setattr(QFileDialog, "getOpenFileName", get_open)
+    monkeypatch.setattr(QFileDialog, "getSaveFileName", get_save)
+    return script
+
+
+@pytest.fixture
+def isolated(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
+    """Private recovery folder and settings files for one test."""
+    monkeypatch.setenv("ZEROTRACE_RECOVERY_DIR", str(tmp_path / "recovery"))
+    QSettings.setPath(QSettings.Format.NativeFormat, QSettings.Scope.UserScope,
+                      str(tmp_path / "settings"))
+    QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope,
+                      str(tmp_path / "settings"))
+    return tmp_path
+
+
+@pytest.fixture
+def window(qtbot: Any, isolated: Path, dialogs: Dialogs) -> Any:
+    from app.window import MainWindow
+    from app.window.recovery import RecoveryStore
+
+    settings = QSettings(str(isolated / "settings.ini"), QSettings.Format.IniFormat)
+    w = MainWindow(settings=settings, recovery=RecoveryStore(isolated / "recovery"))
+    qtbot.addWidget(w)
+    w.show()
+    qtbot.waitExposed(w)
+    yield w
+    w.runner.stop()
+
+
+def settle(qtbot: Any, w: Any, timeout: int = 10_000) -> None:
+    """Wait until the live analysis matches the text in the editor."""
+    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.text == w.strip.text(),
+                    timeout=timeout)
+
+
+def idle(qtbot: Any, w: Any, timeout: int = 20_000) -> None:
+    """Wait until no background job is running."""
+    qtbot.waitUntil(lambda: not any(w.runner.is_busy(lane) for lane in
+                                    ("preview", "solve", "scan", "report")), timeout=timeout)
+
+
+def type_equation(qtbot: Any, w: Any, text: str) -> None:
+    """Replace the equation the way a user does: select all, type."""
+    editor = w.strip.editor
+    editor.setFocus()
+    editor.selectAll()
+    editor.textCursor().removeSelectedText()
+    qtbot.keyClicks(editor, text)
+    settle(qtbot, w)
+
+
+def solve_and_wait(qtbot: Any, w: Any) -> Any:
+    before = w.solution
+    assert w.solve(), w.last_error
+    qtbot.waitUntil(lambda: w.solution is not None and w.solution is not before
+                    and not w.runner.is_busy("solve"), timeout=20_000)
+    return w.solution
