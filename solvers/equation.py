@@ -737,6 +737,19 @@ class _VectorPrinter(NumPyPrinter):
     def _print_sign(self, expr: Any) -> str:
         return f"{self._module_format('numpy.sign')}({self._print(expr.args[0])})"
 
+    def _nested(self, ufunc: str, args: Any) -> str:
+        name = self._module_format(ufunc)  # nan-propagating, like real_min/real_max
+        code = self._print(args[0])
+        for arg in args[1:]:
+            code = f"{name}({code}, {self._print(arg)})"
+        return code
+
+    def _print_Min(self, expr: Any) -> str:
+        return self._nested("numpy.minimum", expr.args)
+
+    def _print_Max(self, expr: Any) -> str:
+        return self._nested("numpy.maximum", expr.args)
+
 
 class _ScalarPrinter(LambdaPrinter):
     """Python-float code whose every domain error raises (then the numpy path answers)."""
