@@ -798,8 +798,8 @@ def brent(
     without Derivatives*, 1973, ch. 4, procedure ``zero``).
 
     Keeps a bracket [b, c] with |f(b)| <= |f(c)|, and takes an inverse quadratic (or
-    secant) step from b when it is short enough, else bisects, so it never needs more
-    than about twice bisection's evaluations and is superlinear on smooth f. The
+    secant) step from b when it is short enough, else bisects: superlinear on smooth f,
+    and never worse than about the square of bisection's count (Brent's bound). The
     arithmetic follows the form used in scipy's ``brentq`` (divided differences for
     the interpolation), which is the reference it is benchmarked against.
     Stops when the bracket width ``|c - b| <= xtol + rtol*|b|``; the smallest step
