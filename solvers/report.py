@@ -232,10 +232,6 @@ def _label(method: str) -> str:
     return label if label else method.replace("_", " ")
 
 
-def _reason_line(run: Run) -> str:
-    return f"{run.reason}: {REASON_TEXT.get(run.reason, 'no description')}"
-
-
 def _relative_last_step(run: Run) -> str:
     for step in reversed(run.steps):
         if step.dx is not None:
@@ -375,7 +371,7 @@ def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
     pixels_w, pixels_h = struct.unpack(">II", buffer.getvalue()[16:24])
     width, height = pixels_w * 72 / FIGURE_DPI, pixels_h * 72 / FIGURE_DPI
     scale = min(1.0, max_width / width) if width > 0 else 1.0
-    if scale < 0.45:  # would print below ~5 pt: unreadable, the typed text is clearer
+    if scale < 0.55:  # would print below ~6.5 pt: hard to read, the plain text is clearer
         return None
     return _png_image(buffer.getvalue(), width * scale, height * scale)
 
@@ -637,6 +633,8 @@ def _equation_section(c: _Context) -> list[Flowable]:
         d_latex = getattr(eq, "derivative_latex", "")
         lead = "" if newton_runs else "Newton–Raphson not run; symbolic derivative for reference: "
         image = _math(f"\\frac{{df}}{{d{eq.unknown}}} = {d_latex}", math_width) if d_latex else None
+        if image is None:
+            lead += "(too long to typeset legibly) "
         text = Paragraph(
             _text(lead + f"with the parameter values: {eq.derivative}"), st["cellmono"]
         )
@@ -755,10 +753,18 @@ def _results_section(c: _Context) -> list[Flowable]:
                 f"{escape(REASON_TEXT.get(r.reason, ''))}.{_text(detail)} Its last iterate "
                 f"<font name='ZT-Mono'>{escape(_num(r.root))}</font> is not a root.",
                 st["body"]), FAIL_INK, FAIL_FILL)]
-    reasons = "<br/>".join(
-        f"<b>{escape(_label(r.method))}</b>: {escape(_reason_line(r))}" for r in runs
-    )
-    out += [Spacer(1, 4), Paragraph(reasons, st["small"])]
+    out.append(Spacer(1, 4))
+    for r in runs:
+        label = _label(r.method)
+        account = r.message.strip()
+        if account.startswith(label):  # the method's own account opens with its name
+            account = account[len(label):].strip()
+        out.append(Paragraph(
+            f"<b>{escape(label)}</b> <font name='ZT-Mono'>{escape(r.reason)}</font>: "
+            f"{escape(REASON_TEXT.get(r.reason, ''))}."
+            + (f" <i>Record:</i> {_text(account)}" if account else ""),
+            ParagraphStyle("reason", parent=st["small"], spaceAfter=1.5, leftIndent=8,
+                           firstLineIndent=-8)))
 
     out += _heading("Verification of each root", st, "h2")
     vhead = [Paragraph(t, st["label"]) for t in (
