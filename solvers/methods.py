@@ -165,23 +165,24 @@ class _Evaluator:
         return self._convert(y, x)
 
     def _convert(self, y: Any, x: float) -> float:
-        if isinstance(y, (float, int, np.floating, np.integer)):
-            return float(y)
         try:
+            if isinstance(y, (float, int, np.floating, np.integer)):
+                return float(y)  # an int too large for a double raises OverflowError
             arr = np.asarray(y)
             if arr.size != 1:
                 self.fault = f"{self.name} returned {arr.size} values at x = {x!r}, not one"
                 return math.nan
             value = arr.reshape(()).item()
-        except Exception:
-            value = y
-        if isinstance(value, complex):
-            if value.imag != 0.0:
-                self.fault = f"{self.name} is complex ({value!r}) at x = {x!r}"
-                return math.nan
-            return float(value.real)
-        if isinstance(value, (float, int)):
-            return float(value)
+            if isinstance(value, complex):
+                if value.imag != 0.0:
+                    self.fault = f"{self.name} is complex ({value!r}) at x = {x!r}"
+                    return math.nan
+                return float(value.real)
+            if isinstance(value, (float, int)):
+                return float(value)
+        except Exception as exc:
+            self.fault = f"{self.name} gave an unusable value ({type(exc).__name__}) at x = {x!r}"
+            return math.nan
         self.fault = f"{self.name} returned {type(y).__name__}, not a number, at x = {x!r}"
         return math.nan
 
@@ -243,11 +244,10 @@ def _finish(
     converged = reason in CONVERGED_REASONS
     label = LABELS[method]
     counts = f"{iterations} iterations, {evaluations} evaluations"
+    account = detail or REASON_TEXT[reason]
     if converged:
-        account = detail or REASON_TEXT[reason]
         message = f"{label} converged to x = {_fmt(root)} ({counts}): {account}"
     else:
-        account = detail or REASON_TEXT[reason]
         message = f"{label} did not converge ({counts}): {account}; last x = {_fmt(root)}"
     if note:
         message += f"; {note}"
@@ -292,14 +292,15 @@ def _central_difference(ev: _Evaluator, x: float, fx: float, scale: float) -> fl
     """f'(x) by a central difference, shrinking the step near the edge of f's domain.
 
     Step h = eps**(1/3)*max(|x|, scale). If f is not finite on one side (x near the edge
-    of its domain, e.g. sqrt near 0), h shrinks by 1e-3 up to three times to find a
-    central difference that fits; failing that, the one-sided difference with the
-    smallest h that worked is used. Returns NaN when no usable difference exists.
-    Every call of f counts in ``ev.calls``.
+    of its domain, e.g. sqrt near 0), a central difference with h/1000 is tried (its
+    rounding error, ~1e-8 relative, is still small); failing that, the one-sided
+    difference at the first h that had a finite side (smaller steps would be swamped
+    by rounding). Returns NaN when no usable difference exists. Every call of f
+    counts in ``ev.calls``.
     """
     h = DERIVATIVE_STEP * max(abs(x), scale)
     one_sided = math.nan
-    for _ in range(4):
+    for _ in range(2):
         xp = x + h
         xm = x - h
         fp = ev(xp)
@@ -308,10 +309,11 @@ def _central_difference(ev: _Evaluator, x: float, fx: float, scale: float) -> fl
         fm_ok = math.isfinite(fm)
         if fp_ok and fm_ok:
             return (fp - fm) / (xp - xm)
-        if fp_ok:
-            one_sided = (fp - fx) / (xp - x)
-        elif fm_ok:
-            one_sided = (fx - fm) / (x - xm)
+        if math.isnan(one_sided):
+            if fp_ok:
+                one_sided = (fp - fx) / (xp - x)
+            elif fm_ok:
+                one_sided = (fx - fm) / (x - xm)
         h *= 1e-3
     return one_sided
 

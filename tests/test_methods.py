@@ -483,6 +483,22 @@ def test_numerical_derivative_one_sided_at_domain_edge():
         assert step.dfx == pytest.approx(0.5 / math.sqrt(step.x), rel=1e-6)
 
 
+def test_numerical_derivative_at_the_edge_of_the_domain_falls_back_to_one_side():
+    # f = sqrt(x) - 0.5 from x0 = 0: f(0 - h) is nan for every h, so the first
+    # derivative is the forward difference sqrt(h)/h with h = eps**(1/3) (scale 1).
+    f = Counted(lambda x: math.sqrt(x) - 0.5 if x >= 0.0 else math.nan)
+    run = newton(f, 0.0)
+    assert run.evaluations == f.calls
+    h = np.finfo(float).eps ** (1.0 / 3.0)
+    assert run.steps[0].dfx == pytest.approx(1.0 / math.sqrt(h), rel=1e-9)
+    assert run.converged and run.root == pytest.approx(0.25, rel=1e-12)
+
+
+def test_huge_integer_from_f_is_not_finite():
+    run = newton(lambda x: 10**400, 1.0)
+    assert run.reason == "not_finite" and "OverflowError" in run.message
+
+
 def test_accepts_numpy_scalars_and_returns_plain_floats():
     run = brent(lambda x: np.float64(x) ** 2 - 2.0, np.float64(1.0), 2)
     assert type(run.root) is float and run.converged
