@@ -24,7 +24,7 @@ import numpy as np
 from numpy.polynomial import chebyshev as C
 
 # Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead).
-DEGREES: tuple[int, ...] = (16, 32, 64)
+DEGREES: tuple[int, ...] = (8, 16, 32)
 # Trailing coefficients below this fraction of the largest count as decayed.
 DECAY_TOL = 1e-13
 # A root of the proxy counts as real when |imag| <= this (in the piece's [-1, 1] units).
@@ -104,9 +104,9 @@ def chebyshev_roots(
     f takes and returns numpy arrays and must not raise (wrap it first); non-finite
     values mark a piece as unusable. [a, b] is first cut into ``pieces`` equal parts
     (so one proxy never spans a huge dynamic range), each halved up to ``max_depth``
-    times when the coefficients of degree 64 do not decay to 1e-13 of the largest.
+    times when the coefficients of degree 32 do not decay to 1e-13 of the largest.
     ``cancel`` is polled per piece; when it returns True, ``on_cancel`` is called
-    (it is expected to raise). Cost: a few f calls of at most 65 points per piece
+    (it is expected to raise). Cost: a few f calls of at most 33 points per piece
     and one colleague-matrix eigenvalue problem (degree <= 64) per accepted piece.
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)

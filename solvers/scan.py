@@ -10,7 +10,7 @@ How a scan works
    and undefined (NaN) samples. Windows where f oscillates faster than the sampling
    resolves are resampled 8x finer (twice at most) before candidates are taken.
 2. **Classify** each sign change by bisecting all brackets at once (vectorised):
-   |f| at both bracket ends falling to 1e-3 of its start means a root; |f| growing
+   |f| at both bracket ends falling to 1e-6 of its start means a root; |f| growing
    1000-fold (or steadily, like a logarithm) means a **pole**; |f| staying put
    down to adjacent floats means a **discontinuity** (a jump). Poles and jumps are
    never reported as roots.
@@ -28,7 +28,7 @@ How a scan works
    f over a few ulps around it) or below 1e-14 of |f| at the neighbouring samples;
    with ``fprime`` the touch point is then refined by Brent on f'.
 5. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
-   log d for d halving from the sample spacing (or 0.3 of the distance to the
+   log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance to the
    next feature) down to the noise level, rounded to the integer of the right
    parity (odd for a sign change, even for a touch).
 6. **Domains**: runs of undefined samples are **gaps**; their edges are located
@@ -49,6 +49,8 @@ defined ones survive). Floating-point warnings are suppressed during the scan.
 
 from __future__ import annotations
 
+import collections
+import itertools
 import math
 import warnings as _warnings
 from collections.abc import Callable
@@ -202,62 +204,69 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
 
     Sign changes and edges are anchored at the left sample of the pair (i, i+1);
     zeros and minima at the centre sample i (which needs i-1 and i+1 to exist).
+    Written as a few full passes over the chunk that select a handful of indices,
+    then exact tests on those few (most samples are nothing).
     """
     n = len(x)
-    fin = np.isfinite(y)
-    dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
-    # pairs (i, i+1)
-    i = np.arange(lo, min(hi, n - 1))
-    if len(i):
-        yl, yr = y[i], y[i + 1]
-        both = fin[i] & fin[i + 1]
-        sc = both & (yl * yr < 0)
-        for k in i[sc]:
-            out.brackets.append((float(x[k]), float(x[k + 1]), float(y[k]), float(y[k + 1])))
-        edge = dfn[i] != dfn[i + 1]
-        for k in i[edge]:
-            if dfn[k]:
-                out.edges.append((float(x[k + 1]), float(x[k]), -1))  # defined on the left
-            else:
-                out.edges.append((float(x[k]), float(x[k + 1]), +1))  # defined on the right
-    # centres i with neighbours
-    c = np.arange(max(lo, 1), min(hi, n - 1))
-    if len(c):
-        yc, yl, yr = y[c], y[c - 1], y[c + 1]
-        isinf = np.isinf(yc) & fin[c - 1] & fin[c + 1]
-        for k in c[isinf]:
-            out.inf_points.append(float(x[k]))
-        z = (yc == 0) & fin[c - 1] & fin[c + 1]
-        for k in c[z]:
+    allfin = bool(np.isfinite(y).all())
+    last_pair = min(hi, n - 1)
+    # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
+    neg = np.signbit(y)
+    for k in np.flatnonzero(neg[:-1] != neg[1:]):
+        if lo <= k < last_pair:
+            yl, yr = y[k], y[k + 1]
+            if yl * yr < 0 and math.isfinite(yl) and math.isfinite(yr):
+                out.brackets.append((float(x[k]), float(x[k + 1]), float(yl), float(yr)))
+    if not allfin:
+        dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
+        for k in np.flatnonzero(dfn[:-1] != dfn[1:]):
+            if lo <= k < last_pair:
+                if dfn[k]:
+                    out.edges.append((float(x[k + 1]), float(x[k]), -1))  # defined on the left
+                else:
+                    out.edges.append((float(x[k]), float(x[k + 1]), +1))  # defined on the right
+        for k in np.flatnonzero(np.isinf(y)):
+            if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
+                out.inf_points.append(float(x[k]))
+    zero_idx = np.flatnonzero(y == 0)
+    for k in zero_idx:
+        if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
             if y[k - 1] == 0 or y[k + 1] == 0:
                 out.flat.append((float(x[k - 1]), float(x[k + 1])))
             else:
                 out.zeros.append((float(x[k]), 1 if y[k - 1] * y[k + 1] < 0 else 0))
-        ac, al, ar = np.abs(yc), np.abs(yl), np.abs(yr)
-        ok = fin[c] & fin[c - 1] & fin[c + 1] & (yc != 0)
-        same = ok & (yc * yl > 0) & (yc * yr > 0)
-        mins = same & (ac <= al) & (ac <= ar) & ((ac < al) | (ac < ar))
-        if np.any(mins):
-            k = c[mins]
-            # parabola through the three samples: keep if it dips at least 10% toward zero
-            h1, h2 = x[k] - x[k - 1], x[k + 1] - x[k]
-            s = np.sign(y[k])
-            d1 = (s * y[k] - s * y[k - 1]) / h1
-            d2 = (s * y[k + 1] - s * y[k]) / h2
-            curv = (d2 - d1) / (0.5 * (h1 + h2))
-            slope = 0.5 * (d1 + d2)
-            with np.errstate(all="ignore"):
-                vertex = s * y[k] - np.where(curv > 0, slope**2 / (2 * curv), np.inf)
-            # ... or comes within its own curvature scale of zero (a near-double pair whose
-            # sample sits almost on the dip looks like a touch that narrowly misses)
-            keep = (vertex <= 0.9 * s * y[k]) | (vertex <= curv * h1 * h2)
-            for j in np.nonzero(keep)[0]:
-                kk = k[j]
-                out.minima.append(
-                    (float(x[kk - 1]), float(x[kk]), float(x[kk + 1]),
-                     float(y[kk - 1]), float(y[kk]), float(y[kk + 1]))
-                )
-    # endpoint zeros / near-zero ends are handled by the caller via ``_ends``.
+    # local minima of |f| away from sign changes: |f| stops falling and starts rising
+    if n < 3:
+        return
+    da = np.diff(np.abs(y))
+    k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
+    k = k[(k >= max(lo, 1)) & (k < last_pair)]
+    if k.size == 0:
+        return
+    yc, yl, yr = y[k], y[k - 1], y[k + 1]
+    ac, al, ar = np.abs(yc), np.abs(yl), np.abs(yr)
+    ok = np.isfinite(yc) & np.isfinite(yl) & np.isfinite(yr) & (yc != 0)
+    ok &= (yc * yl > 0) & (yc * yr > 0) & ((ac < al) | (ac < ar))
+    k = k[ok]
+    if k.size == 0:
+        return
+    # parabola through the three samples: keep if it dips at least 10% toward zero ...
+    h1, h2 = x[k] - x[k - 1], x[k + 1] - x[k]
+    sgn = np.sign(y[k])
+    d1 = (sgn * y[k] - sgn * y[k - 1]) / h1
+    d2 = (sgn * y[k + 1] - sgn * y[k]) / h2
+    curv = (d2 - d1) / (0.5 * (h1 + h2))
+    slope = 0.5 * (d1 + d2)
+    with np.errstate(all="ignore"):
+        vertex = sgn * y[k] - np.where(curv > 0, slope**2 / (2 * curv), np.inf)
+    # ... or comes within its own curvature scale of zero (a near-double pair whose
+    # sample sits almost on the dip looks like a touch that narrowly misses)
+    keep = (vertex <= 0.9 * sgn * y[k]) | (vertex <= curv * h1 * h2)
+    for kk in k[keep]:
+        out.minima.append(
+            (float(x[kk - 1]), float(x[kk]), float(x[kk + 1]),
+             float(y[kk - 1]), float(y[kk]), float(y[kk + 1]))
+        )
 
 
 def _underresolved(y: np.ndarray) -> np.ndarray:
@@ -265,9 +274,8 @@ def _underresolved(y: np.ndarray) -> np.ndarray:
     n = len(y)
     if n < 3 * _WINDOW:
         return np.zeros(0, dtype=int)
-    d = np.diff(y)
-    with np.errstate(invalid="ignore"):
-        turn = (d[1:] * d[:-1]) < 0
+    d = np.signbit(np.diff(y))
+    turn = d[1:] != d[:-1]
     nwin = (len(turn)) // _WINDOW
     counts = turn[: nwin * _WINDOW].reshape(nwin, _WINDOW).sum(axis=1)
     return np.nonzero(counts > _MAX_EXTREMA)[0]
@@ -349,57 +357,58 @@ def _classify(g: _Guarded, br: np.ndarray, xtol: float):
     jumps down to adjacent floats.
     """
     lo, hi, flo, fhi = (br[:, j].astype(float).copy() for j in range(4))
-    k = len(lo)
     g0 = np.maximum(np.abs(flo), np.abs(fhi))
-    kind = np.zeros(k, dtype=int)
-    history = [np.minimum(np.abs(flo), np.abs(fhi))]
-    for _ in range(1100):
-        act = np.nonzero(kind == 0)[0]
-        if len(act) == 0:
+    kind = np.zeros(len(lo), dtype=int)
+    history = collections.deque([np.minimum(np.abs(flo), np.abs(fhi))], maxlen=21)
+    for it in range(1100):
+        act = np.flatnonzero(kind == 0)
+        if act.size == 0:
             break
-        g.check()
-        mid = 0.5 * (lo[act] + hi[act])
+        if it % 4 == 0:
+            g.check()
+        left_end, right_end = lo[act], hi[act]
+        mid = 0.5 * (left_end + right_end)
         fm = g(mid)
-        if np.any(np.isnan(fm)):  # an isolated undefined point (0 * inf at a pole): step aside
+        narrow = (mid <= left_end) | (mid >= right_end) | (right_end - left_end <= xtol)
+        special = ~np.isfinite(fm) | (fm == 0)
+        stuck = np.zeros(act.size, dtype=bool)
+        if special.any():
             bad = np.isnan(fm)
-            mid[bad] = lo[act][bad] + 0.381966 * (hi[act][bad] - lo[act][bad])
-            fm[bad] = g(mid[bad])
-        narrow = (mid <= lo[act]) | (mid >= hi[act]) | (hi[act] - lo[act] <= xtol)
-        inf = np.isinf(fm)
-        nan = np.isnan(fm)
-        kind[act[inf]] = _POLE
-        lo[act[inf]] = hi[act[inf]] = mid[inf]
-        # still undefined after stepping aside: at float resolution that is the singular
-        # point itself (decided below like a narrow bracket), otherwise a hole in the domain
-        tight = (hi[act] - lo[act]) <= 1e-9 * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol
-        kind[act[nan & ~tight]] = _UNDEF
-        narrow = narrow | (nan & tight)
-        zero = fm == 0
-        kind[act[zero]] = _ROOT
-        lo[act[zero]] = hi[act[zero]] = mid[zero]
-        flo[act[zero]] = fhi[act[zero]] = 0.0
-        go = ~(inf | nan | zero)
-        narrow_nan = act[nan & tight]
-        ia = act[go]
-        left = np.sign(fm[go]) == np.sign(flo[ia])
-        lo[ia[left]], flo[ia[left]] = mid[go][left], fm[go][left]
-        hi[ia[~left]], fhi[ia[~left]] = mid[go][~left], fm[go][~left]
-        big = np.maximum(np.abs(flo[ia]), np.abs(fhi[ia]))
-        kind[ia[big <= 1e-3 * g0[ia]]] = _ROOT
+            if bad.any():  # an isolated undefined point (0 * inf at a pole): step aside
+                mid[bad] = left_end[bad] + 0.381966 * (right_end[bad] - left_end[bad])
+                fm[bad] = g(mid[bad])
+            inf, nan, zero = np.isinf(fm), np.isnan(fm), fm == 0
+            kind[act[inf]] = _POLE
+            lo[act[inf]] = hi[act[inf]] = mid[inf]
+            # still undefined after stepping aside: at float resolution that is the singular
+            # point itself (decided below like a narrow bracket), else a hole in the domain
+            width = right_end - left_end
+            tight = width <= 1e-9 * np.maximum(np.abs(left_end), np.abs(right_end)) + xtol
+            kind[act[nan & ~tight]] = _UNDEF
+            stuck = nan & tight
+            kind[act[zero]] = _ROOT
+            lo[act[zero]] = hi[act[zero]] = mid[zero]
+            flo[act[zero]] = fhi[act[zero]] = 0.0
+            special = inf | nan | zero
+        regular = ~special
+        left = regular & ((fm > 0) == (flo[act] > 0))
+        right = regular & ~left
+        lo[act[left]], flo[act[left]] = mid[left], fm[left]
+        hi[act[right]], fhi[act[right]] = mid[right], fm[right]
+        big = np.maximum(np.abs(flo[act]), np.abs(fhi[act]))
+        root = regular & (big <= 1e-6 * g0[act])
+        kind[act[root]] = _ROOT
         cur = np.minimum(np.abs(flo), np.abs(fhi))
-        history.append(cur.copy())
-        done = np.concatenate([ia[narrow[go] & (kind[ia] == 0)], narrow_nan])
-        if len(done):
-            past = history[max(0, len(history) - 21)][done]
+        history.append(cur)
+        done = act[(regular & narrow & ~root) | stuck]
+        if done.size:
+            past = history[0][done]
             grows = cur[done] >= 1.2 * past
-            steady = np.ones(len(done), dtype=bool)
-            for h0, h1 in zip(history[-21:-1], history[-20:], strict=False):
+            steady = np.ones(done.size, dtype=bool)
+            for h0, h1 in itertools.pairwise(history):
                 steady &= h1[done] >= h0[done]
             huge = cur[done] >= 1e3 * g0[done]
             kind[done] = np.where((grows & steady) | huge, _POLE, _JUMP)
-            # a continuous function at float resolution: both ends at noise level
-            tiny = np.maximum(np.abs(flo[done]), np.abs(fhi[done])) <= 1e-3 * g0[done]
-            kind[done[tiny]] = _ROOT
     kind[kind == 0] = _JUMP
     return kind, lo, hi, flo, fhi
 
@@ -479,11 +488,15 @@ def _floor(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
 def _multiplicity(
     g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
 ) -> np.ndarray:
-    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``."""
+    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``.
+
+    |f(r +/- d)| at d = reach * 4^-j (j = 0..13); the local slope of log|f| against
+    log d, taken from the four smallest d still 1000x above the rounding floor.
+    """
     if len(x) == 0:
         return np.zeros(0, dtype=int)
-    j = np.arange(28)
-    d = reach[:, None] * 2.0 ** (-j[None, :])
+    j = np.arange(14)
+    d = reach[:, None] * 4.0 ** (-j[None, :])
     pts = np.concatenate([x[:, None] + d, x[:, None] - d], axis=1)
     vals = np.abs(g(pts.reshape(-1)).reshape(pts.shape))
     fp, fm = vals[:, : len(j)], vals[:, len(j):]
@@ -491,18 +504,20 @@ def _multiplicity(
     with np.errstate(all="ignore"):
         valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
         logf = 0.5 * (np.log(fp) + np.log(fm))
-        slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(2.0)
+        slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
-    out = np.zeros(len(x), dtype=int)
-    for i in range(len(x)):
-        s = slopes[i][pair[i]]
-        est = float(np.median(s[-4:])) if len(s) else (1.0 if odd[i] else 2.0)
-        m = max(1, int(round(est)))
-        if (m % 2 == 1) != bool(odd[i]):
-            m = m + 1 if est >= m or m == 1 else m - 1
-            m = max(1 if odd[i] else 2, m)
-        out[i] = min(m, 12)
-    return out
+    # the last four usable slopes of each row (smallest distances above the floor)
+    rank = np.cumsum(pair[:, ::-1], axis=1)[:, ::-1]
+    last4 = pair & (rank <= 4)
+    with np.errstate(all="ignore"), _warnings.catch_warnings():
+        _warnings.simplefilter("ignore")
+        est = np.nanmedian(np.where(last4, slopes, np.nan), axis=1)
+    est = np.where(np.isfinite(est), est, np.where(odd, 1.0, 2.0))
+    m = np.maximum(1, np.rint(est)).astype(int)
+    wrong = (m % 2 == 1) != odd
+    m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
+    m = np.maximum(m, np.where(odd, 1, 2))
+    return np.minimum(m, 12)
 
 
 # ----------------------------------------------------------------------------- the scan
@@ -676,7 +691,13 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
     if lo == hi:
         return _Found(float(lo), True, "sign change; f exactly zero at a bisection point",
                       bracket=bracket)
-    run = brent(g.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
+    known = {float(lo): float(flo), float(hi): float(fhi)}
+
+    def f_known(x: float) -> float:  # the bracket ends were evaluated while classifying
+        value = known.pop(x, None)
+        return g.scalar(x) if value is None else value
+
+    run = brent(f_known, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
     x = float(run.root)
     how = "sign change, Brent" + ("" if run.converged else f" (stopped: {run.reason})")
     if not (lo <= x <= hi) or not math.isfinite(x):
@@ -853,6 +874,7 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         return None
 
     near = np.array(cheb.near_real, dtype=complex)
+    near = near[np.argsort(near.real)] if len(near) else near
     used = np.zeros(len(near), dtype=bool)
     out: list[Root] = []
     # sampled roots closer than the proxy can separate form one cluster (a near-double
@@ -877,12 +899,11 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
             radius = min(radius, 0.45 * (first.x - roots[clusters[k - 1][-1]].x))
         if k + 1 < len(clusters):
             radius = min(radius, 0.45 * (roots[clusters[k + 1][0]].x - last.x))
-        if len(near):
-            xr = np.clip(near.real, first.x, last.x)
-            hit = np.abs(near - xr) <= radius
-        else:
-            hit = np.zeros(0, dtype=bool)
-        used |= hit
+        i0 = int(np.searchsorted(near.real, first.x - radius, side="left")) if len(near) else 0
+        i1 = int(np.searchsorted(near.real, last.x + radius, side="right")) if len(near) else 0
+        window = near[i0:i1]
+        hit = np.abs(window - np.clip(window.real, first.x, last.x)) <= radius
+        used[i0:i1] |= hit
         for i in members:
             r = roots[i]
             if np.any(hit):
