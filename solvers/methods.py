@@ -214,6 +214,14 @@ def _check_settings(xtol: float, rtol: float, ftol: float, max_iter: int) -> dic
     return checked
 
 
+def _start_value(value: Any, name: str) -> float:
+    """A start value as a float; NaN and infinities pass (the run records them)."""
+    try:
+        return float(value)
+    except (TypeError, ValueError, OverflowError):
+        raise ValueError(f"{name} must be a number, got {value!r}") from None
+
+
 def _quiet(method: Callable[..., Run]) -> Callable[..., Run]:
     """Run a method with numpy's floating-point warnings switched off (they become results)."""
 
@@ -338,7 +346,7 @@ def newton(
     s = |x0|/1000 (1 when x0 = 0), two extra f calls per iterate (more near the edge
     of f's domain, where h shrinks), all counted in ``evaluations``. A supplied
     ``fprime`` is recorded as ``derivative_source`` ("symbolic" or "supplied",
-    default "supplied").
+    default "supplied"); without ``fprime`` the record says "numerical" regardless.
     ``damping`` (0 < damping <= 1) shortens every step; below 1 the convergence is
     linear. Stops on the step just taken, ``|dx| <= xtol + rtol*|x|``; f is always
     evaluated at the returned root, so its residual is on record. A zero derivative,
@@ -353,9 +361,7 @@ def newton(
     if not (0.0 < damping <= 1.0):
         raise ValueError(f"damping must be in (0, 1], got {damping!r}")
     if fprime is None:
-        if derivative_source not in (None, "numerical"):
-            raise ValueError(f"derivative_source {derivative_source!r} given without fprime")
-        source = "numerical"
+        source = "numerical"  # whatever a caller hoped for, this is what is used
     else:
         source = derivative_source or "supplied"
         if source not in ("symbolic", "supplied", "numerical"):
@@ -363,7 +369,8 @@ def newton(
                 f"derivative_source must be 'symbolic', 'supplied' or 'numerical', "
                 f"got {derivative_source!r}"
             )
-    settings = dict(tol, damping=damping, x0=x0, derivative=source)
+    x = _start_value(x0, "x0")
+    settings = dict(tol, damping=damping, x0=x, derivative=source)
     if fprime is None:
         settings["derivative_step"] = "central difference, h = eps**(1/3)*max(|x|, s)"
 
@@ -376,7 +383,6 @@ def newton(
         evaluations = ev.calls + (dev.calls if dev is not None else 0)
         return _finish("newton", reason, root, steps, k, evaluations, settings, detail, source)
 
-    x = float(x0)
     if not math.isfinite(x):
         return done(NOT_FINITE, math.nan, 0, f"starting point x0 = {x!r} is not finite")
     scale = DERIVATIVE_FLOOR * abs(x) if x != 0.0 else 1.0  # floor of the difference step
@@ -443,7 +449,8 @@ def secant(
     (it may leave the region of interest).
     """
     tol = _check_settings(xtol, rtol, ftol, max_iter)
-    settings = dict(tol, x0=x0, x1=x1)
+    xa, xb = _start_value(x0, "x0"), _start_value(x1, "x1")
+    settings = dict(tol, x0=xa, x1=xb)
     xtol_, rtol_, ftol_, cap = tol["xtol"], tol["rtol"], tol["ftol"], tol["max_iter"]
     ev = _Evaluator(f)
     steps: list[Step] = []
@@ -451,7 +458,6 @@ def secant(
     def done(reason: str, root: float, k: int, detail: str = "") -> Run:
         return _finish("secant", reason, root, steps, k, ev.calls, settings, detail)
 
-    xa, xb = float(x0), float(x1)
     for x in (xa, xb):
         if not math.isfinite(x):
             return done(NOT_FINITE, math.nan, 0, f"starting point {x!r} is not finite")
@@ -517,14 +523,9 @@ class _Bracket:
 
 
 def _start_bracket(
-    method: str,
-    ev: _Evaluator,
-    a: float,
-    b: float,
-    settings: dict[str, Any],
-    steps: list[Step],
+    method: str, ev: _Evaluator, settings: dict[str, Any], steps: list[Step]
 ) -> Run | _Bracket:
-    """Evaluate both ends; return a finished Run if the ends already settle it.
+    """Evaluate both ends of ``settings["bracket"]``; return a finished Run if they settle it.
 
     Both ends are recorded (k = 0, 1, ``dx`` None) with ``lo``/``hi`` the bracket as
     given when it holds a sign change (or an exact zero), else None.
@@ -533,7 +534,7 @@ def _start_bracket(
     def done(reason: str, root: float, detail: str = "") -> Run:
         return _finish(method, reason, root, steps, 0, ev.calls, settings, detail)
 
-    a, b = float(a), float(b)
+    a, b = settings["bracket"]
     for x in (a, b):
         if not math.isfinite(x):
             return done(NOT_FINITE, math.nan, f"bracket end {x!r} is not finite")
@@ -565,7 +566,8 @@ def _start_bracket(
 
 
 def _bracket_settings(xtol, rtol, ftol, max_iter, a, b) -> dict[str, Any]:
-    return dict(_check_settings(xtol, rtol, ftol, max_iter), bracket=(a, b))
+    bracket = (_start_value(a, "bracket end a"), _start_value(b, "bracket end b"))
+    return dict(_check_settings(xtol, rtol, ftol, max_iter), bracket=bracket)
 
 
 @_quiet
@@ -589,7 +591,7 @@ def bisection(
     settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
     ev = _Evaluator(f)
     steps: list[Step] = []
-    start = _start_bracket("bisection", ev, a, b, settings, steps)
+    start = _start_bracket("bisection", ev, settings, steps)
     if isinstance(start, Run):
         return start
     xtol_, rtol_, ftol_, cap = (settings[n] for n in ("xtol", "rtol", "ftol", "max_iter"))
@@ -647,7 +649,7 @@ def _regula_falsi(
     settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
     ev = _Evaluator(f)
     steps: list[Step] = []
-    start = _start_bracket(method, ev, a, b, settings, steps)
+    start = _start_bracket(method, ev, settings, steps)
     if isinstance(start, Run):
         return start
     xtol_, rtol_, ftol_, cap = (settings[n] for n in ("xtol", "rtol", "ftol", "max_iter"))
@@ -810,7 +812,7 @@ def brent(
     settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
     ev = _Evaluator(f)
     steps: list[Step] = []
-    start = _start_bracket("brent", ev, a, b, settings, steps)
+    start = _start_bracket("brent", ev, settings, steps)
     if isinstance(start, Run):
         return start
     xtol_, rtol_, ftol_, cap = (settings[n] for n in ("xtol", "rtol", "ftol", "max_iter"))

@@ -430,6 +430,18 @@ def test_invalid_settings_raise_value_error():
     for damping in (0.0, 1.5, -0.5):
         with pytest.raises(ValueError, match="damping"):
             newton(f, 1.0, damping=damping)
+    with pytest.raises(ValueError, match="x0 must be a number"):
+        newton(f, "one")
+    with pytest.raises(ValueError, match="bracket end b"):
+        brent(f, 0.0, None)
+
+
+def test_settings_record_the_values_used_as_plain_floats():
+    run = brent(math.sin, np.float32(3), 4, xtol=1e-9)
+    assert run.settings["bracket"] == (3.0, 4.0)
+    assert type(run.settings["bracket"][0]) is float and run.settings["xtol"] == 1e-9
+    run = newton(math.sin, 3, derivative_source="symbolic")  # no fprime: numerical
+    assert run.derivative == "numerical" and run.settings["x0"] == 3.0
 
 
 # ---------------------------------------------------------------- records and counting
