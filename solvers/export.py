@@ -3,7 +3,9 @@
 CSV shape (DESIGN.md): ``#`` metadata lines first (equation, unknown, parameters,
 method settings, tool version, time), then one header row, then one row per
 iterate. Floats are written with ``repr`` so they read back to the identical double
-(Python's ``float()``, ``csv`` + ``float``, ``numpy.genfromtxt(..., comments="#")``);
+(Python's ``float()``, ``csv`` + ``float``, or ``numpy.genfromtxt(path, delimiter=",",
+names=True, skip_header=<number of # lines>)`` — genfromtxt would otherwise read the first
+``#`` line as the header);
 an absent value (no derivative, no bracket) is an empty cell. The files are UTF-8
 with ``\\n`` line ends, which spreadsheets and numpy read alike.
 """
