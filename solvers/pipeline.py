@@ -97,29 +97,37 @@ def _search_bracket(
     return None
 
 
-def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues:
-    """Resolve blank start values.
+def _kinds(methods: tuple[str, ...]) -> set[str]:
+    return {METHODS[m].kind for m in methods if m in METHODS}
 
-    Bracket: the worksheet's bracket, else its scan range, else an interval grown
-    around x0 until f changes sign. x0: the worksheet's, else the bracket's midpoint,
-    else 1. x1: the worksheet's, else x0 nudged by 1e-4 relative (as scipy's secant
-    does), so the first secant slope is a good derivative estimate.
+
+def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues:
+    """Resolve blank start values for the worksheet's methods.
+
+    Bracket (only when a bracketing method is chosen): the worksheet's bracket, else its
+    scan range, else an interval grown around x0 until f changes sign. x0: the
+    worksheet's, else the bracket's midpoint, else 1. x1 (secant only): the worksheet's,
+    else x0 nudged by 1e-4 relative (as scipy's secant does), so the first secant slope
+    is a good derivative estimate. ``notes`` says which values were not typed.
     """
     s = ws.settings
+    kinds = _kinds(s.methods)
     notes: list[str] = []
     bracket = s.bracket
-    if bracket is None and ws.scan is not None:
+    if bracket is None and ws.scan is not None and "bracket" in kinds:
         bracket = ws.scan
         notes.append("bracket taken from the scan range")
     x0 = s.x0
     if x0 is None:
-        if bracket is not None:
-            x0 = 0.5 * (bracket[0] + bracket[1])
-            notes.append("x0 taken as the midpoint of the bracket")
+        if bracket is not None or ws.scan is not None:
+            lo, hi = bracket if bracket is not None else ws.scan
+            x0 = 0.5 * (lo + hi)
+            source = "bracket" if bracket is not None else "scan range"
+            notes.append(f"x0 taken as the midpoint of the {source}")
         else:
             x0 = 1.0
             notes.append("x0 not given: 1.0 used")
-    if bracket is None and equation is not None:
+    if bracket is None and equation is not None and "bracket" in kinds:
         bracket = _search_bracket(equation.f, x0)
         if bracket is not None:
             notes.append(f"bracket found by growing an interval around x0 = {x0!r}")
@@ -128,7 +136,8 @@ def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues
     x1 = s.x1
     if x1 is None:
         x1 = x0 * (1 + 1e-4) + (1e-4 if x0 >= 0 else -1e-4)
-        notes.append("x1 taken as x0 nudged by 1e-4 (relative)")
+        if "two_point" in kinds:
+            notes.append("x1 taken as x0 nudged by 1e-4 (relative)")
     if bracket is not None:
         bracket = (min(bracket), max(bracket))
     return StartValues(x0=float(x0), x1=float(x1), bracket=bracket, notes=tuple(notes))
