@@ -488,7 +488,10 @@ def secant(
                 ZERO_DERIVATIVE, xb, iterations,
                 f"secant slope is zero: f({xa!r}) == f({xb!r})",
             )
-        step = -fb * (xb - xa) / (fb - fa)
+        difference = fb - fa
+        # fb/(fb - fa) without overflow when f values of opposite signs are huge
+        fraction = 1.0 / (1.0 - fa / fb) if math.isinf(difference) else fb / difference
+        step = -fraction * (xb - xa)
         x = xb + step
         if not math.isfinite(x):
             reason = ZERO_DERIVATIVE if not math.isfinite(step) else NOT_FINITE

@@ -506,6 +506,12 @@ def test_numerical_derivative_at_the_edge_of_the_domain_falls_back_to_one_side()
     assert run.converged and run.root == pytest.approx(0.25, rel=1e-12)
 
 
+def test_huge_f_values_of_opposite_sign_do_not_overflow_the_interpolation():
+    f = lambda x: 1e308 * (x - 1.5)  # noqa: E731  f(1) - f(2) overflows to -inf
+    for run in (secant(f, 1.0, 2.0), false_position(f, 1.0, 2.0), illinois(f, 1.0, 2.0)):
+        assert run.converged and run.root == 1.5, run.message
+
+
 def test_huge_integer_from_f_is_not_finite():
     run = newton(lambda x: 10**400, 1.0)
     assert run.reason == "not_finite" and "OverflowError" in run.message
