@@ -25,7 +25,7 @@ Qt into ``solvers/`` (not allowed) and has no table flow; matplotlib's PDF backe
 draws figures well but has no text flow or pagination at all.
 
 Page size: A4 portrait (ISO 216), the paper of most engineering offices outside
-North America; the 170 mm x 255 mm text block also fits a US Letter sheet printed
+North America; the 170 mm x 253 mm text block also fits a US Letter sheet printed
 with "fit to page".
 
 Figures: drawn by :mod:`solvers.figures` on a matplotlib ``Figure`` (Agg, no
@@ -48,6 +48,9 @@ Failure behaviour
   unchanged (also a ``ValueError`` with one line), as :func:`pipeline.solve` does.
 * A figure or a typeset formula that cannot be drawn is replaced on the sheet by a
   sentence saying so; the numbers are never dropped.
+* A run with more than ``MAX_TABLE_ROWS`` iterates (only possible with a huge
+  iteration cap) shows its first and last ``MAX_TABLE_ROWS // 2`` on the sheet, says
+  how many rows it left out, and the runs CSV holds them all.
 """
 
 from __future__ import annotations
@@ -103,6 +106,7 @@ RESIDUAL_DIGITS = 50  # working precision of the independent residual (decimal d
 # A run that hit a huge iteration cap would make a book; beyond this many iterates the
 # sheet shows the first and last half and points to the runs CSV for the rest.
 MAX_TABLE_ROWS = 1000
+SHORT_TABLE_ROWS = 40  # iteration tables up to this long are never split across pages
 
 CAUTION = (
     "This sheet records a numerical solution of the equation exactly as it was entered "
@@ -471,7 +475,7 @@ def _iteration_table(run: Run, st: dict) -> list[Flowable]:
     for step in steps:
         if step is None:
             gap_row = len(body)
-            body.append([f"… {omitted} iterates not shown here; all are in the runs CSV"]
+            body.append([f"… {omitted} iterates left out here; the runs CSV holds every one"]
                         + [""] * len(columns))
             continue
         body.append([str(step.k)] + [_num(getattr(step, key)) for key, _ in columns])
@@ -504,7 +508,9 @@ def _iteration_table(run: Run, st: dict) -> list[Flowable]:
         style += [("SPAN", (0, r), (-1, r)), ("ALIGN", (0, r), (-1, r), "CENTER"),
                   ("FONTNAME", (0, r), (-1, r), "ZT-Sans-Oblique")]
     table = Table(data, colWidths=widths, repeatRows=2, hAlign="LEFT", style=TableStyle(style))
-    return [table]
+    # A short table is kept whole (moved to the next page rather than split in two);
+    # a long one flows, its banner and header repeated on every page.
+    return [KeepTogether([table])] if len(body) <= SHORT_TABLE_ROWS else [table]
 
 
 def _heading(text: str, st: dict, level: str = "h1") -> list[Flowable]:
@@ -632,7 +638,9 @@ def _equation_section(c: _Context) -> list[Flowable]:
     else:
         d_latex = getattr(eq, "derivative_latex", "")
         lead = "" if newton_runs else "Newton–Raphson not run; symbolic derivative for reference: "
-        image = _math(f"\\frac{{df}}{{d{eq.unknown}}} = {d_latex}", math_width) if d_latex else None
+        fname = "F" if eq.unknown == "f" else "f"  # never "df/df" when the unknown is f
+        image = (_math(f"\\frac{{d{fname}}}{{d{eq.unknown}}} = {d_latex}", math_width)
+                 if d_latex else None)
         if image is None:
             lead += "(too long to typeset legibly) "
         text = Paragraph(
@@ -662,7 +670,8 @@ def _equation_section(c: _Context) -> list[Flowable]:
 
 
 def _settings_section(c: _Context) -> list[Flowable]:
-    st, s, sv = c.st, c.ws.settings, c.solution.start
+    # The settings the runs actually used (a polished solution carries its own).
+    st, s, sv = c.st, c.solution.worksheet.settings, c.solution.start
 
     def value(v: Any, entered: Any) -> Paragraph:
         text = escape(_num(v) if not isinstance(v, tuple) else f"[{_num(v[0])}, {_num(v[1])}]")
@@ -1106,14 +1115,14 @@ def write_report(
         solution,
         extra={"calc number": _calc_number(ws), "worksheet": file_name, "worksheet sha256": sha},
     )
-    try:
+    try:  # the PDF goes last: when it is there, its CSV files are complete too
         for target in csv_targets:
             if target.name.endswith("-runs.csv"):
                 export.runs_csv(solution.runs, target, meta=meta, overwrite=overwrite)
             else:
                 export.roots_csv(scan, target, meta=meta, overwrite=overwrite)
         _write_bytes_atomic(pdf, data)
-    except (OSError, FileExistsError) as exc:
+    except OSError as exc:
         raise ReportError(f"cannot write the report: {exc}") from None
     report(1.0)
     return ReportResult(pdf_path=pdf, csv_paths=tuple(csv_targets), pages=pages, sha256=sha)

@@ -456,3 +456,22 @@ def test_parameters_table_handles_many_parameters(tmp_path):
     text = flat("\n".join(pages_text(result.pdf_path)))
     for p in params:
         assert f"{p.name} {r(p.value)} {p.note}" in text
+
+
+def test_a_huge_run_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path, monkeypatch):
+    from solvers import report
+
+    monkeypatch.setattr(report, "MAX_TABLE_ROWS", 40)  # small cap, so the test stays quick
+    ws = no_root_worksheet().with_changes(settings=Settings(methods=("newton",), x0=0.5,
+                                                            max_iter=150))
+    result = write_report(ws, tmp_path / "cut.pdf", csv_dir=tmp_path)
+    newton = pipeline.solve(ws).runs[0]
+    left_out = len(newton.steps) - 40
+    text = flat("\n".join(pages_text(result.pdf_path)))
+    assert f"… {left_out} iterates left out here; the runs CSV holds every one" in text
+    for step in newton.steps[:20] + newton.steps[-20:]:
+        assert r(step.x) in text
+    for step in newton.steps[20:-20]:
+        assert r(step.x) not in text
+    _, rows = data_rows(result.csv_paths[0])
+    assert [float(row[2]) for row in rows] == [s.x for s in newton.steps]
