@@ -839,7 +839,7 @@ def brent(
             xb, fb = xc, fc
             xc, fc = xa, fa
         half_tol = 0.5 * (xtol_ + rtol_ * abs(xb))
-        m = 0.5 * (xc - xb)
+        m = 0.5 * xc - 0.5 * xb  # = (xc - xb)/2 exactly, without overflow on wide brackets
         if abs(m) <= half_tol:
             width = abs(xc - xb)
             return done(X_TOLERANCE, xb, _step_detail("bracket width", width, xtol_, rtol_, xb))

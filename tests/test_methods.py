@@ -512,6 +512,13 @@ def test_huge_f_values_of_opposite_sign_do_not_overflow_the_interpolation():
         assert run.converged and run.root == 1.5, run.message
 
 
+def test_bracket_spanning_most_of_the_double_range():
+    f = lambda x: x - 1e300  # noqa: E731  hi - lo overflows to inf
+    for method in (brent, bisection, illinois):
+        run = method(f, -1e308, 1.7e308)
+        assert run.converged and run.root == pytest.approx(1e300, rel=1e-15), run.message
+
+
 def test_huge_integer_from_f_is_not_finite():
     run = newton(lambda x: 10**400, 1.0)
     assert run.reason == "not_finite" and "OverflowError" in run.message
