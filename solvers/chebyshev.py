@@ -69,24 +69,61 @@ def _nodes(degree: int) -> tuple[np.ndarray, np.ndarray]:
     return np.cos(theta), matrix
 
 
-def _proxy(f: Callable[[np.ndarray], np.ndarray], a: float, b: float):
-    """(coefficients, degree) when f is resolved on [a, b]; "undefined" when f is NaN/inf
-    at every node, "nonfinite" when only at some, None when the coefficients do not decay."""
-    half, mid = 0.5 * (b - a), 0.5 * (b + a)
+def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray):
+    """Try every degree on every span [a, b] (rows of ``spans``) with one f call per degree.
+
+    Returns (status, coefficients) lists: status "ok" (coefficients decayed), "undefined"
+    (f NaN/inf at every node, or identically zero), "nonfinite" (at some nodes), or
+    "unresolved" (no decay by the largest degree).
+    """
+    count = len(spans)
+    status = ["unresolved"] * count
+    coefficients: list[np.ndarray | None] = [None] * count
+    pending = np.arange(count)
+    half = 0.5 * (spans[:, 1] - spans[:, 0])
+    mid = 0.5 * (spans[:, 1] + spans[:, 0])
     for degree in DEGREES:
+        if pending.size == 0:
+            break
         t, matrix = _nodes(degree)
-        y = np.asarray(f(mid + half * t), dtype=float)
+        pts = mid[pending, None] + half[pending, None] * t[None, :]
+        y = np.asarray(f(pts.reshape(-1)), dtype=float).reshape(pts.shape)
         finite = np.isfinite(y)
-        if not np.all(finite):
-            return "undefined" if not np.any(finite) else "nonfinite"
-        c = matrix @ y
-        scale = float(np.max(np.abs(c)))
-        if scale == 0.0:
-            return "undefined"  # f vanishes identically here: no isolated zeros to report
-        if float(np.max(np.abs(c[-3:]))) <= DECAY_TOL * scale:
-            keep = np.nonzero(np.abs(c) > 0.1 * DECAY_TOL * scale)[0]
-            return c[: keep[-1] + 1], degree
-    return None
+        c = np.where(finite, y, 0.0) @ matrix.T
+        scale = np.max(np.abs(c), axis=1)
+        tail = np.max(np.abs(c[:, -3:]), axis=1)
+        still = []
+        for row, i in enumerate(pending):
+            if not finite[row].all():
+                status[i] = "undefined" if not finite[row].any() else "nonfinite"
+            elif scale[row] == 0.0:
+                status[i] = "undefined"  # f vanishes identically: no isolated zeros to report
+            elif tail[row] <= DECAY_TOL * scale[row]:
+                keep = np.flatnonzero(np.abs(c[row]) > 0.1 * DECAY_TOL * scale[row])
+                status[i], coefficients[i] = "ok", c[row, : keep[-1] + 1]
+            else:
+                still.append(i)
+        pending = np.array(still, dtype=int)
+    return status, coefficients
+
+
+def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
+    """Zeros of Chebyshev series in [-1, 1] units, as ``chebroots`` computes them, but with
+    the colleague-matrix eigenvalue problems of equal size solved in one batch."""
+    out: list[np.ndarray] = [np.zeros(0, dtype=complex)] * len(coefficients)
+    groups: dict[int, list[int]] = {}
+    for i, c in enumerate(coefficients):
+        if len(c) == 2:
+            out[i] = np.array([-c[0] / c[1]], dtype=complex)
+        elif len(c) > 2:
+            groups.setdefault(len(c), []).append(i)
+    for members in groups.values():
+        # same rotation as numpy's chebroots, for accuracy with small leading coefficients
+        stack = np.stack([C.chebcompanion(coefficients[i])[::-1, ::-1] for i in members])
+        values = np.linalg.eigvals(stack)
+        for i, v in zip(members, values, strict=True):
+            out[i] = np.asarray(v, dtype=complex)
+    return out
 
 
 def chebyshev_roots(
@@ -105,46 +142,49 @@ def chebyshev_roots(
     values mark a piece as unusable. [a, b] is first cut into ``pieces`` equal parts
     (so one proxy never spans a huge dynamic range), each halved up to ``max_depth``
     times when the coefficients of degree 32 do not decay to 1e-13 of the largest.
-    ``cancel`` is polled per piece; when it returns True, ``on_cancel`` is called
-    (it is expected to raise). Cost: a few f calls of at most 33 points per piece
-    and one colleague-matrix eigenvalue problem (degree <= 64) per accepted piece.
+    All pieces of one subdivision level are evaluated together (one f call per degree
+    and level). ``cancel`` is polled per level; when it returns True, ``on_cancel`` is
+    called (it is expected to raise).
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)
-    stack = [(float(edges[i]), float(edges[i + 1]), 0) for i in range(len(edges) - 2, -1, -1)]
-    accepted: list[ChebyshevPiece] = []
+    level = np.column_stack([edges[:-1], edges[1:]])
+    accepted: list[tuple[float, float, np.ndarray]] = []
     skipped: list[tuple[float, float]] = []
-    real: list[float] = []
-    near: list[complex] = []
-    while stack:
+    for depth in range(max_depth + 1):
+        if level.size == 0:
+            break
         if cancel is not None and on_cancel is not None and cancel():
             on_cancel()
-        u, v, depth = stack.pop()
-        result = _proxy(f, u, v)
-        if isinstance(result, tuple):
-            c, degree = result
-            accepted.append(ChebyshevPiece(u, v, degree))
-            if len(c) < 2:
-                continue
-            t = C.chebroots(c)
-            inside = np.abs(t.real) <= 1.0 + 1e-9
-            close = inside & (np.abs(t.imag) <= IMAG_TOL)
-            half, mid = 0.5 * (v - u), 0.5 * (v + u)
-            for z in t[close]:
-                near.append(complex(mid + half * z.real, half * z.imag))
-            for z in t[close & (np.abs(t.imag) <= 1e-10)]:
-                real.append(float(np.clip(mid + half * z.real, u, v)))
-        elif depth < max_depth and result != "undefined":
-            w = 0.5 * (u + v)
-            stack.append((w, v, depth + 1))
-            stack.append((u, w, depth + 1))
-        else:
-            if skipped and skipped[-1][1] == u:
-                skipped[-1] = (skipped[-1][0], v)
+        status, coefficients = _resolve(f, level)
+        split = []
+        for (u, v), st, c in zip(level, status, coefficients, strict=True):
+            if st == "ok":
+                accepted.append((float(u), float(v), c))
+            elif st == "undefined" or depth == max_depth:
+                skipped.append((float(u), float(v)))
             else:
-                skipped.append((u, v))
+                w = 0.5 * (u + v)
+                split += [(u, w), (w, v)]
+        level = np.array(split, dtype=float).reshape(-1, 2)
+    accepted.sort(key=lambda item: item[0])
+    real: list[float] = []
+    near: list[complex] = []
+    for (u, v, _), t in zip(accepted, _zeros([c for _, _, c in accepted]), strict=True):
+        inside = np.abs(t.real) <= 1.0 + 1e-9
+        close = inside & (np.abs(t.imag) <= IMAG_TOL)
+        half, mid = 0.5 * (v - u), 0.5 * (v + u)
+        near.extend(complex(mid + half * z.real, half * z.imag) for z in t[close])
+        real.extend(min(max(float(mid + half * z.real), u), v)
+                    for z in t[close & (np.abs(t.imag) <= 1e-10)])
+    merged: list[tuple[float, float]] = []
+    for u, v in sorted(skipped):
+        if merged and merged[-1][1] == u:
+            merged[-1] = (merged[-1][0], v)
+        else:
+            merged.append((u, v))
     return ChebyshevRoots(
         roots=tuple(sorted(real)),
         near_real=tuple(near),
-        pieces=tuple(accepted),
-        skipped=tuple(skipped),
+        pieces=tuple(ChebyshevPiece(u, v, len(c) - 1) for u, v, c in accepted),
+        skipped=tuple(merged),
     )

@@ -31,6 +31,10 @@ How a scan works
    log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance to the
    next feature) down to the noise level, rounded to the integer of the right
    parity (odd for a sign change, even for a touch).
+   A sharp local maximum of |f| without a sign change (at least 10 % above its lower
+   neighbour) is searched by golden section for the largest |f|; when that is at
+   least twice the sampled peak (or infinite) it is a pole without a sign change
+   (1/(x - c)^2, ln|x - c|).
 6. **Domains**: runs of undefined samples are **gaps**; their edges are located
    by bisection. A domain edge where f tends to 0 (sqrt(x) at 0, sqrt(1 - x^2) at
    +/-1) is reported as a root at the last defined point, confirmed
@@ -49,6 +53,7 @@ defined ones survive). Floating-point warnings are suppressed during the scan.
 
 from __future__ import annotations
 
+import bisect
 import collections
 import itertools
 import math
@@ -190,6 +195,7 @@ class _Candidates:
     brackets: list[tuple[float, float, float, float]] = field(default_factory=list)
     zeros: list[tuple[float, int]] = field(default_factory=list)  # (x, +1 odd / 0 even / -1 ?)
     minima: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
+    peaks: list[tuple[float, float, float]] = field(default_factory=list)  # (lo, x, hi), |f|
     edges: list[tuple[float, float, int]] = field(default_factory=list)  # (undef x, def x, side)
     inf_points: list[float] = field(default_factory=list)
     flat: list[tuple[float, float]] = field(default_factory=list)
@@ -239,6 +245,16 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
     if n < 3:
         return
     da = np.diff(np.abs(y))
+    # sharp local maxima of |f| (a pole without a sign change, 1/(x-c)^2, ln|x-c|): at least
+    # 10 % above the lower neighbour, where a resolved smooth peak is within a fraction of 1 %
+    p = np.flatnonzero((da[:-1] >= 0) & (da[1:] <= 0)) + 1
+    p = p[(p >= max(lo, 1)) & (p < last_pair)]
+    if p.size:
+        ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
+        sharp = np.isfinite(ap) & np.isfinite(al) & np.isfinite(ar)
+        sharp &= (ap >= 1.1 * np.minimum(al, ar)) & (y[p] * y[p - 1] > 0) & (y[p] * y[p + 1] > 0)
+        for kk in p[sharp]:
+            out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
     k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
     k = k[(k >= max(lo, 1)) & (k < last_pair)]
     if k.size == 0:
@@ -413,20 +429,27 @@ def _classify(g: _Guarded, br: np.ndarray, xtol: float):
     return kind, lo, hi, flo, fhi
 
 
-def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float):
+def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
+            *, peak: bool = False):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
-    opposite sign (then xbest is that point: two roots straddle it).
+    opposite sign (then xbest is that point: two roots straddle it). With ``peak`` it
+    maximises |f| instead (fbest is then -|f|, and nothing is ever "crossed"); a search
+    that meets inf or NaN stops there.
     """
+
+    def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
+        return -np.abs(g(v)) if peak else s * g(v)
+
     r = (math.sqrt(5) - 1) / 2
     lo, hi = lo.copy(), hi.copy()
     c = hi - r * (hi - lo)
     d = lo + r * (hi - lo)
-    fc, fd = sign * g(c), sign * g(d)
+    fc, fd = objective(c, sign), objective(d, sign)
     xbest = np.where(fc <= fd, c, d)
     fbest = np.minimum(fc, fd)
-    crossed = fbest < 0
+    crossed = (fbest < 0) if not peak else np.zeros(len(lo), dtype=bool)
     active = ~crossed & np.isfinite(fbest)
     for _ in range(120):
         act = np.nonzero(active)[0]
@@ -442,17 +465,19 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
         newx = np.empty(len(act))
         newx[left] = c[il]
         newx[~left] = d[ir]
-        fn = sign[act] * g(newx)
+        fn = objective(newx, sign[act])
         fc[il] = fn[left]
         fd[ir] = fn[~left]
         better = fn < fbest[act]
         xbest[act[better]] = newx[better]
         fbest[act[better]] = fn[better]
-        crossed[act] |= fn < 0
+        if not peak:
+            crossed[act] |= fn < 0
         width = hi[act] - lo[act]
         stop = (
             crossed[act]
             | ~np.isfinite(fn)
+            | ~np.isfinite(fbest[act])
             | (width <= 4 * EPS * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
         )
         active[act[stop]] = False
@@ -509,10 +534,15 @@ def _multiplicity(
     # the last four usable slopes of each row (smallest distances above the floor)
     rank = np.cumsum(pair[:, ::-1], axis=1)[:, ::-1]
     last4 = pair & (rank <= 4)
-    with np.errstate(all="ignore"), _warnings.catch_warnings():
-        _warnings.simplefilter("ignore")
-        est = np.nanmedian(np.where(last4, slopes, np.nan), axis=1)
-    est = np.where(np.isfinite(est), est, np.where(odd, 1.0, 2.0))
+    ordered = np.sort(np.where(last4, slopes, np.inf), axis=1)
+    count = last4.sum(axis=1)
+    lo_i = np.maximum(count - 1, 0)[:, None] // 2
+    hi_i = count[:, None] // 2
+    with np.errstate(all="ignore"):
+        est = 0.5 * (np.take_along_axis(ordered, lo_i, axis=1)
+                     + np.take_along_axis(ordered, np.minimum(hi_i, ordered.shape[1] - 1),
+                                          axis=1))[:, 0]
+    est = np.where((count > 0) & np.isfinite(est), est, np.where(odd, 1.0, 2.0))
     m = np.maximum(1, np.rint(est)).astype(int)
     wrong = (m % 2 == 1) != odd
     m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
@@ -624,6 +654,14 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
                 if not ok[j]:
                     continue
                 found.append(_touch(g, gp, m[i, 0], m[i, 2], float(xb[i]), xtol))
+    # sharp peaks of |f| without a sign change: poles when |f| keeps growing toward a point
+    if cand.peaks:
+        pk = np.array(cand.peaks)
+        fk = np.abs(g(pk[:, 1]))
+        xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True)
+        top = np.abs(fb)
+        for i in np.nonzero(~np.isfinite(fb) | (top >= 2.0 * fk))[0]:
+            poles.append(float(xb[i]))
     # ends of the range: |f| at noise level at a or b is a root there
     found.extend(_range_ends(g, a, b, h, xtol, scale))
 
@@ -867,10 +905,14 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         return roots
     roots = sorted(roots, key=lambda r: r.x)
 
+    starts = [p.a for p in pieces]
+
     def piece_of(x: float):
-        for p in pieces:
-            if p.a <= x <= p.b:
-                return p
+        i = bisect.bisect_right(starts, x) - 1
+        if i >= 0 and pieces[i].a <= x <= pieces[i].b:
+            return pieces[i]
+        if i >= 1 and pieces[i - 1].b >= x:
+            return pieces[i - 1]
         return None
 
     near = np.array(cheb.near_real, dtype=complex)

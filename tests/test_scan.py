@@ -218,6 +218,22 @@ def test_logarithmic_singularity_with_sign_change_is_a_pole():
     assert result.poles == pytest.approx([0.7], rel=1e-14)
 
 
+@pytest.mark.parametrize(
+    ("f", "a", "b", "roots", "pole"),
+    [
+        # 1/(x - c)^2 = 5 at x = c +/- 1/sqrt(5) (common practice); pole at c, no sign change
+        (lambda x: 1.0 / (x - 0.3123) ** 2 - 5.0, 0.0, 1.0, [0.3123 + 1 / math.sqrt(5)], 0.3123),
+        # ln|x - 0.5| = 0 at x = 1.5 (and -0.5, outside); -inf at 0.5 without a sign change
+        (lambda x: np.log(np.abs(x - 0.5)), 0.0, 2.0, [1.5], 0.5),
+        (lambda x: np.log(np.abs(x - 0.7123)), 0.0, 1.0, [], 0.7123),
+    ],
+)
+def test_poles_without_sign_change(f, a, b, roots, pole):
+    result = scan(f, a, b)
+    assert_roots(result, roots)
+    assert result.poles == pytest.approx([pole], rel=1e-12)
+
+
 def test_jump_is_a_discontinuity_not_a_root():
     result = scan(lambda x: np.where(x < 0.43, -1.0, 1.0) * (2 + x), 0.0, 1.0)
     assert result.roots == []

@@ -7,8 +7,8 @@ vanishes exactly where a factor does, and a strictly positive factor adds none):
 * ``waves``    : sin(w (x - r)) * (c0 + sum a_k cos(k x + phi_k)), c0 > sum |a_k|, w up to 60,
                  zeros at r + n pi / w; optionally times a second such wave;
 * ``near``     : (x - r)(x - r - delta), delta in [1e-8, 1e-4], times a product;
-* ``poles``    : a product divided by (x - p_j) (odd-order poles: sign changes that
-                 are not roots);
+* ``poles``    : a product divided by (x - p_1) and, in some cases, (x - p_2)^2 (an
+                 odd-order pole changes sign, an even-order one does not; neither is a root);
 * ``jump``     : a product times a step that flips sign at x = s (a jump, not a root);
 * ``nearmiss`` : a product times ((x - q)^2 + e), e in [1e-10, 1e-5]: |f| dips close to
                  zero at q without a root there (a false touch must not be reported).
@@ -119,8 +119,8 @@ def _make_case(rng: np.random.Generator, k: int) -> dict:
             out = out * ((x - q) ** 2 + gap_size)
         for r, m in roots:
             out = out * (x - r) ** m
-        for p in poles:
-            out = out / (x - p)
+        for j, p in enumerate(poles):  # odd- and even-order poles alternate
+            out = out / (x - p) if j % 2 == 0 else out / (x - p) ** 2
         for s in jumps:
             out = out * np.where(x < s, -1.0, 1.0) * (1.5 + 0.5 * np.tanh(x - s))
         return out
