@@ -300,7 +300,7 @@ def _check_target(path: Path, overwrite: bool) -> Path:
     if not folder.is_dir():
         raise ReportError(f"{path}: {folder} is not a folder")
     if path.exists() and not overwrite:
-        raise ReportError(f"{path}: already exists (allow overwriting to replace it)")
+        raise ReportError(f"{path}: already exists (use --force to replace it)")
     try:  # the only reliable writability test is to write (os.access lies for root)
         fd, probe = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".probe", dir=folder)
         os.close(fd)
