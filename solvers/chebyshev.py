@@ -133,6 +133,7 @@ def chebyshev_roots(
     *,
     pieces: int = 8,
     max_depth: int = 10,
+    max_pieces: int = 1024,
     cancel: Callable[[], bool] | None = None,
     on_cancel: Callable[[], None] | None = None,
 ) -> ChebyshevRoots:
@@ -143,8 +144,10 @@ def chebyshev_roots(
     (so one proxy never spans a huge dynamic range), each halved up to ``max_depth``
     times when the coefficients of degree 32 do not decay to 1e-13 of the largest.
     All pieces of one subdivision level are evaluated together (one f call per degree
-    and level). ``cancel`` is polled per level; when it returns True, ``on_cancel`` is
-    called (it is expected to raise).
+    and level); a level with more than ``max_pieces`` pieces is not attempted (f is
+    noisy or rough almost everywhere) and its pieces are reported as skipped.
+    ``cancel`` is polled per level; when it returns True, ``on_cancel`` is called (it is
+    expected to raise).
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)
     level = np.column_stack([edges[:-1], edges[1:]])
@@ -155,6 +158,9 @@ def chebyshev_roots(
             break
         if cancel is not None and on_cancel is not None and cancel():
             on_cancel()
+        if len(level) > max_pieces:
+            skipped.extend((float(u), float(v)) for u, v in level)
+            break
         status, coefficients = _resolve(f, level)
         split = []
         for (u, v), st, c in zip(level, status, coefficients, strict=True):

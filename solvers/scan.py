@@ -221,7 +221,8 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
     for k in np.flatnonzero(neg[:-1] != neg[1:]):
         if lo <= k < last_pair:
             yl, yr = y[k], y[k + 1]
-            if yl * yr < 0 and math.isfinite(yl) and math.isfinite(yr):
+            # signs compared, not multiplied: a product of two tiny values underflows to 0
+            if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
                 out.brackets.append((float(x[k]), float(x[k + 1]), float(yl), float(yr)))
     if not allfin:
         dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
@@ -240,7 +241,7 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
             if y[k - 1] == 0 or y[k + 1] == 0:
                 out.flat.append((float(x[k - 1]), float(x[k + 1])))
             else:
-                out.zeros.append((float(x[k]), 1 if y[k - 1] * y[k + 1] < 0 else 0))
+                out.zeros.append((float(x[k]), 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0))
     # local minima of |f| away from sign changes: |f| stops falling and starts rising
     if n < 3:
         return
@@ -252,7 +253,9 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
     if p.size:
         ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
         sharp = np.isfinite(ap) & np.isfinite(al) & np.isfinite(ar)
-        sharp &= (ap >= 1.1 * np.minimum(al, ar)) & (y[p] * y[p - 1] > 0) & (y[p] * y[p + 1] > 0)
+        sp = np.sign(y[p])
+        sharp &= (ap > 0) & (ap >= 1.1 * np.minimum(al, ar))
+        sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
         for kk in p[sharp]:
             out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
     k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
@@ -262,7 +265,8 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
     yc, yl, yr = y[k], y[k - 1], y[k + 1]
     ac, al, ar = np.abs(yc), np.abs(yl), np.abs(yr)
     ok = np.isfinite(yc) & np.isfinite(yl) & np.isfinite(yr) & (yc != 0)
-    ok &= (yc * yl > 0) & (yc * yr > 0) & ((ac < al) | (ac < ar))
+    sc = np.sign(yc)
+    ok &= (sc == np.sign(yl)) & (sc == np.sign(yr)) & ((ac < al) | (ac < ar))
     k = k[ok]
     if k.size == 0:
         return
@@ -611,6 +615,8 @@ def scan(
             raise ValueError(f"samples must be an integer >= 3, got {samples!r}") from exc
         if n < 3 or n != samples:
             raise ValueError(f"samples must be an integer >= 3, got {samples!r}")
+    # no more samples than there are floats in [a, b] (a range a few ulps wide)
+    n = max(3, min(n, int((b - a) / math.ulp(max(abs(a), abs(b)))) + 1))
     with np.errstate(all="ignore"), _warnings.catch_warnings():
         _warnings.simplefilter("ignore")
         return _scan(f, a, b, fprime, n, progress, cancel, cross_check)
@@ -630,7 +636,13 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
     found: list[_Found] = []
     poles: list[float] = list(cand.inf_points)
     jumps: list[float] = []
-    for u, v in cand.flat:
+    runs: list[list[float]] = []
+    for u, v in sorted(cand.flat):
+        if runs and u <= runs[-1][1]:
+            runs[-1][1] = max(runs[-1][1], v)
+        else:
+            runs.append([u, v])
+    for u, v in runs:
         notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
                      "not counted as isolated roots")
     for x0, odd in cand.zeros:
@@ -696,7 +708,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
         g.check()
         if progress is not None:
             progress(0.9)
-        cheb = chebyshev_roots(g, a, b, cancel=cancel, on_cancel=g.check)
+        cheb = chebyshev_roots(g, a, b, max_pieces=max(256, n // 8), cancel=cancel,
+                               on_cancel=g.check)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale)
     if progress is not None:
         progress(1.0)
@@ -755,7 +768,7 @@ def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
     how = "touch: |f| minimum (golden section) at noise level"
     if gp is not None:
         dl, dr = gp.scalar(lo), gp.scalar(hi)
-        if math.isfinite(dl) and math.isfinite(dr) and dl * dr < 0:
+        if math.isfinite(dl) and math.isfinite(dr) and dl != 0 and dr != 0 and (dl < 0) != (dr < 0):
             run = brent(gp.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
                         max_iter=200)
             xr = float(run.root)
@@ -774,9 +787,10 @@ def _range_ends(g, a, b, h, xtol, scale) -> list[_Found]:
         if not (math.isfinite(fe) and math.isfinite(fi)):
             continue
         if fe == 0:
-            out.append(_Found(end, True, "f exactly zero at the range end"))
+            if fi != 0:  # (f zero on a whole stretch is reported as such, not as a root)
+                out.append(_Found(end, True, "f exactly zero at the range end"))
             continue
-        if fe * fi <= 0 or abs(fe) >= abs(fi):
+        if fi == 0 or (fe < 0) != (fi < 0) or abs(fe) >= abs(fi):
             continue
         lo, hi = (end, inner) if side > 0 else (inner, end)
         xb, fb, crossed = _golden(g, np.array([lo]), np.array([hi]), np.array([np.sign(fe)]),

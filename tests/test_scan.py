@@ -8,6 +8,7 @@ from __future__ import annotations
 import dataclasses
 import math
 import tracemalloc
+import warnings
 
 import mpmath
 import numpy as np
@@ -306,6 +307,43 @@ def test_complex_results_count_as_undefined():
 def test_undefined_everywhere():
     result = scan(lambda x: np.full_like(x, np.nan), 0.0, 1.0)
     assert result.roots == [] and result.gaps == [(0.0, 1.0)]
+
+
+# ----------------------------------------------------------------- evaluation faults
+
+
+def test_faults_are_results_and_no_numpy_warning_leaks():
+    cases = [
+        (lambda x: np.exp(1000 * x) - 2.0, -1.0, 1.0, [math.log(2) / 1000]),  # overflow
+        (lambda x: 1e-300 * (x - 0.3), 0.0, 1.0, [0.3]),  # products of neighbours underflow
+        (lambda x: 1e308 * (x - 0.3), 0.0, 1.0, [0.3]),
+        (lambda x: x / x - 1.0 + (x - 0.25), -1.0, 1.0, [0.25]),  # 0/0 at x = 0
+        (lambda x: np.power(x, 0.5) - 0.5, -1.0, 1.0, [0.25]),  # NaN for negative x
+    ]
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # any warning reaching the caller fails the test
+        for f, a, b, expected in cases:
+            result = scan(f, a, b)
+            assert_roots(result, expected, rel=1e-12)
+            assert all(r.multiplicity == 1 for r in result.roots)
+
+
+@pytest.mark.parametrize("bad", [None, "text", [1.0, 2.0]])
+def test_f_returning_garbage_is_undefined(bad):
+    result = scan(lambda x: bad, 0.0, 1.0)
+    assert result.roots == [] and result.gaps == [(0.0, 1.0)]
+
+
+def test_f_identically_zero_is_reported_not_counted():
+    result = scan(lambda x: 0.0 * x, 0.0, 1.0)
+    assert result.roots == [] and result.poles == []
+    assert len(result.warnings) == 1 and "exactly zero" in result.warnings[0]
+
+
+def test_range_a_few_ulps_wide():
+    result = scan(lambda x: x - 1.0, 1.0 - 1e-15, 1.0 + 1e-15)
+    assert xs(result) == [1.0]
+    assert result.samples <= 10  # no more samples than floats in the range
 
 
 # ----------------------------------------------------------------- contract of the result
