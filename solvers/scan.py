@@ -44,7 +44,10 @@ How a scan works
    found list ``located_by=("sampling", "chebyshev")``; a proxy root the sampling
    missed is confirmed locally and added (``located_by=("chebyshev",)``) or, when it
    cannot be confirmed, reported in ``warnings``, as is a sampled root on a smooth
-   piece the proxy did not see.
+   piece the proxy did not see. Roots closer than 1e-4 of a piece's width are matched
+   as one cluster (the proxy cannot separate them reliably): the cluster counts as
+   located when the proxy has zeros within eps^(1/m) of it, m the cluster's total
+   multiplicity.
 
 f must take and return numpy arrays. It may return NaN/inf where it is undefined;
 if it raises, the points are treated as undefined (evaluated one by one so the
@@ -517,13 +520,14 @@ def _floor(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
 def _multiplicity(
     g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
 ) -> np.ndarray:
-    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``.
+    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``; and the
+    spread of the local slopes (large when other roots hide within the probed distance).
 
     |f(r +/- d)| at d = reach * 4^-j (j = 0..13); the local slope of log|f| against
     log d, taken from the four smallest d still 1000x above the rounding floor.
     """
     if len(x) == 0:
-        return np.zeros(0, dtype=int)
+        return np.zeros(0, dtype=int), np.zeros(0)
     j = np.arange(14)
     d = reach[:, None] * 4.0 ** (-j[None, :])
     pts = np.concatenate([x[:, None] + d, x[:, None] - d], axis=1)
@@ -551,7 +555,10 @@ def _multiplicity(
     wrong = (m % 2 == 1) != odd
     m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
     m = np.maximum(m, np.where(odd, 1, 2))
-    return np.minimum(m, 12)
+    with np.errstate(all="ignore"):
+        spread = (np.max(np.where(pair, slopes, -np.inf), axis=1)
+                  - np.min(np.where(pair, slopes, np.inf), axis=1))
+    return np.minimum(m, 12), np.where(pair.sum(axis=1) >= 2, spread, 0.0)
 
 
 # ----------------------------------------------------------------------------- the scan
@@ -701,7 +708,11 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
         notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
                      "roots there may be missed: raise samples")
 
-    roots = _finish(g, found, poles, jumps, gaps, h, scale)
+    flagged: list[int] = []
+    roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged)
+    hidden = _hidden_roots(g, gp, [roots[i] for i in flagged], xtol)
+    if hidden:
+        roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale)
 
     cheb: ChebyshevRoots | None = None
     if cross_check:
@@ -871,8 +882,48 @@ def _domains(g, cand, a, b, h, xtol, scale):
     return gaps, roots, poles
 
 
-def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale) -> list[Root]:
-    """Deduplicate, estimate multiplicities, evaluate residuals, sort."""
+def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
+    """More roots inside the sample bracket of a root whose local shape is not one power.
+
+    An odd cluster (three roots within a sample spacing) shows one sign change; Brent
+    finds one of them. Each side of it is searched (golden section) for a value of the
+    opposite sign, which brackets the others.
+    """
+    brackets, probes = [], []
+    for r in suspects:
+        if r.bracket is None:
+            continue
+        lo0, hi0 = r.bracket
+        d = 64 * EPS * max(abs(r.x), EPS)
+        for u, v in ((lo0, r.x - d), (r.x + d, hi0)):
+            if not u < v:
+                continue
+            fu, fv = g.scalar(u), g.scalar(v)
+            if not (math.isfinite(fu) and math.isfinite(fv)) or fu == 0 or fv == 0:
+                continue
+            if (fu < 0) != (fv < 0):
+                brackets.append((u, v, fu, fv))
+            else:
+                probes.append((u, v, fu, fv))
+    if probes:
+        pr = np.array(probes)
+        xb, fb, crossed = _golden(g, pr[:, 0], pr[:, 1], np.sign(pr[:, 2]), xtol)
+        for i in np.flatnonzero(crossed):
+            brackets += [(pr[i, 0], xb[i], pr[i, 2], fb[i]), (xb[i], pr[i, 1], fb[i], pr[i, 3])]
+    if not brackets:
+        return []
+    br = np.array(brackets, dtype=float)
+    kind, lo, hi, flo, fhi = _classify(g, br, xtol)
+    return [_refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol)
+            for i in np.flatnonzero(kind == _ROOT)]
+
+
+def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) -> list[Root]:
+    """Deduplicate, estimate multiplicities, evaluate residuals, sort.
+
+    ``flags``, when a list, receives the indices of roots whose local slopes are not
+    consistent with one c (x - r)^m (more roots may hide within a sample spacing).
+    """
     found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
     merged: list[_Found] = []
     for r in found:
@@ -887,14 +938,17 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale) -> list[Root]:
     x = np.array([r.x for r in merged])
     features = np.sort(np.array(
         list(x) + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
-    reach = np.full(len(x), h)
-    for i, xi in enumerate(x):
-        others = features[features != xi]
-        if len(others):
-            reach[i] = min(h, 0.3 * float(np.min(np.abs(others - xi))))
+    # distance to the nearest other feature (root, pole, jump, gap end) on either side
+    left = np.searchsorted(features, x, side="left") - 1
+    right = np.searchsorted(features, x, side="right")
+    padded = np.concatenate([[-np.inf], features, [np.inf]])
+    nearest = np.minimum(x - padded[left + 1], padded[right + 1] - x)
+    reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale))
     odd = np.array([r.odd for r in merged])
-    mult = _multiplicity(g, x, reach, odd, EPS * scale)
+    mult, spread = _multiplicity(g, x, reach, odd, EPS * scale)
+    if flags is not None:
+        flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
     res = g(x)
     edge = np.array([r.how.startswith("domain edge") for r in merged])
     return [
@@ -938,7 +992,7 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     clusters: list[list[int]] = []
     for i, r in enumerate(roots):
         p = piece_of(r.x)
-        if clusters and p is not None and r.x - roots[clusters[-1][-1]].x <= 1e-5 * (p.b - p.a):
+        if clusters and p is not None and r.x - roots[clusters[-1][-1]].x <= 1e-4 * (p.b - p.a):
             clusters[-1].append(i)
         else:
             clusters.append([i])

@@ -185,6 +185,12 @@ def test_near_double_roots_are_resolved_not_merged():
     assert [r.multiplicity for r in result.roots] == [1, 1]
 
 
+def test_three_roots_inside_one_sample_spacing():
+    # one sign change between samples, three roots: the two hidden ones are searched for
+    result = scan(lambda x: (x - 1.0) * (x - 1.0 - 1e-6) * (x - 1.0 - 2e-6), 0.0, 3.0)
+    assert_roots(result, [1.0, 1.0 + 1e-6, 1.0 + 2e-6], rel=1e-12)
+
+
 def test_near_double_roots_straddling_no_sample():
     # 1e-8 apart, both between two samples: found from the local minimum of |f|
     r0 = 1.2345678

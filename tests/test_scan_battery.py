@@ -9,6 +9,7 @@ vanishes exactly where a factor does, and a strictly positive factor adds none):
 * ``near``     : (x - r)(x - r - delta), delta in [1e-8, 1e-4], times a product;
 * ``poles``    : a product divided by (x - p_1) and, in some cases, (x - p_2)^2 (an
                  odd-order pole changes sign, an even-order one does not; neither is a root);
+* ``cluster``  : three simple roots spaced 1e-6..3e-5 apart, inside one sample spacing;
 * ``jump``     : a product times a step that flips sign at x = s (a jump, not a root);
 * ``nearmiss`` : a product times ((x - q)^2 + e), e in [1e-10, 1e-5]: |f| dips close to
                  zero at q without a root there (a false touch must not be reported).
@@ -40,7 +41,7 @@ def _separated(points: list[float], gap: float) -> bool:
 
 
 def _make_case(rng: np.random.Generator, k: int) -> dict:
-    kind = ("product", "waves", "near", "poles", "jump", "nearmiss")[k % 6]
+    kind = ("product", "waves", "near", "poles", "jump", "nearmiss", "cluster")[k % 7]
     a = float(rng.uniform(-6.0, 0.0))
     b = a + float(rng.uniform(2.0, 8.0))
     width = b - a
@@ -61,7 +62,7 @@ def _make_case(rng: np.random.Generator, k: int) -> dict:
         return np.exp(c1 * np.sin(c2 * x))
 
     if kind == "waves":
-        w = float(rng.uniform(1.0, 6.0)) if (k // 6) % 2 else float(rng.uniform(10.0, 60.0))
+        w = float(rng.uniform(1.0, 6.0)) if (k // 7) % 2 else float(rng.uniform(10.0, 60.0))
         r = float(rng.uniform(a, b))
         amps = rng.uniform(-0.3, 0.3, 4)
         phases = rng.uniform(0, 2 * math.pi, 4)
@@ -102,6 +103,10 @@ def _make_case(rng: np.random.Generator, k: int) -> dict:
         r0 = draw(1, rs, 0.02 * width)[0]
         delta = float(10 ** rng.uniform(-8, -4))
         roots += [(r0, 1), (r0 + delta, 1)]
+    if kind == "cluster":  # three simple roots within one sample spacing: one sign change
+        r0 = draw(1, rs, 0.02 * width)[0]
+        delta = float(10 ** rng.uniform(-6, -4.5))
+        roots += [(r0, 1), (r0 + delta, 1), (r0 + 2.3 * delta, 1)]
     if kind == "jump":
         jumps = draw(1, rs, 0.02 * width)
     misses_at: tuple[float, ...] = ()
