@@ -183,9 +183,10 @@ class JobRunner(QObject):
         self._pending.clear()
         for running in list(self._running.values()):
             running.cancel.set()
-        for running in list(self._running.values()):
+        for lane, running in list(self._running.items()):
             running.thread.quit()
-            running.thread.wait(timeout_ms)
+            if running.thread.wait(timeout_ms):
+                del self._running[lane]
 
     # -- internals
     def _start(self, lane: str, request: _Request) -> None:
