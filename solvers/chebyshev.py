@@ -24,7 +24,7 @@ import numpy as np
 from numpy.polynomial import chebyshev as C
 
 # Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead).
-DEGREES: tuple[int, ...] = (8, 16, 32)
+DEGREES: tuple[int, ...] = (8, 16, 32, 64)
 # Trailing coefficients below this fraction of the largest count as decayed.
 DECAY_TOL = 1e-13
 # A root of the proxy counts as real when |imag| <= this (in the piece's [-1, 1] units).
@@ -49,13 +49,16 @@ class ChebyshevRoots:
     part, kept as complex numbers (a double root shows up as a close pair, possibly
     complex); the scan uses them to count clusters.
     ``pieces``: the subintervals where the proxy was accepted (f smooth there).
-    ``skipped``: subintervals given up (non-finite values or no coefficient decay).
+    ``skipped``: subintervals given up because f is not smooth there (no coefficient
+    decay at the depth limit, or NaN/inf at some nodes); ``undefined``: subintervals
+    where f is NaN/inf at every node (or identically zero).
     """
 
     roots: tuple[float, ...]
     near_real: tuple[complex, ...]
     pieces: tuple[ChebyshevPiece, ...]
     skipped: tuple[tuple[float, float], ...]
+    undefined: tuple[tuple[float, float], ...] = ()
 
 
 @functools.cache
@@ -142,7 +145,7 @@ def chebyshev_roots(
     f takes and returns numpy arrays and must not raise (wrap it first); non-finite
     values mark a piece as unusable. [a, b] is first cut into ``pieces`` equal parts
     (so one proxy never spans a huge dynamic range), each halved up to ``max_depth``
-    times when the coefficients of degree 32 do not decay to 1e-13 of the largest.
+    times when the coefficients of degree 64 do not decay to 1e-13 of the largest.
     All pieces of one subdivision level are evaluated together (one f call per degree
     and level); a level with more than ``max_pieces`` pieces is not attempted (f is
     noisy or rough almost everywhere) and its pieces are reported as skipped.
@@ -153,6 +156,7 @@ def chebyshev_roots(
     level = np.column_stack([edges[:-1], edges[1:]])
     accepted: list[tuple[float, float, np.ndarray]] = []
     skipped: list[tuple[float, float]] = []
+    undefined: list[tuple[float, float]] = []
     for depth in range(max_depth + 1):
         if level.size == 0:
             break
@@ -166,7 +170,9 @@ def chebyshev_roots(
         for (u, v), st, c in zip(level, status, coefficients, strict=True):
             if st == "ok":
                 accepted.append((float(u), float(v), c))
-            elif st == "undefined" or depth == max_depth:
+            elif st == "undefined":
+                undefined.append((float(u), float(v)))
+            elif depth == max_depth:
                 skipped.append((float(u), float(v)))
             else:
                 w = 0.5 * (u + v)
@@ -182,15 +188,20 @@ def chebyshev_roots(
         near.extend(complex(mid + half * z.real, half * z.imag) for z in t[close])
         real.extend(min(max(float(mid + half * z.real), u), v)
                     for z in t[close & (np.abs(t.imag) <= 1e-10)])
-    merged: list[tuple[float, float]] = []
-    for u, v in sorted(skipped):
-        if merged and merged[-1][1] == u:
-            merged[-1] = (merged[-1][0], v)
-        else:
-            merged.append((u, v))
     return ChebyshevRoots(
         roots=tuple(sorted(real)),
         near_real=tuple(near),
         pieces=tuple(ChebyshevPiece(u, v, len(c) - 1) for u, v, c in accepted),
-        skipped=tuple(merged),
+        skipped=_merge(skipped),
+        undefined=_merge(undefined),
     )
+
+
+def _merge(spans: list[tuple[float, float]]) -> tuple[tuple[float, float], ...]:
+    merged: list[tuple[float, float]] = []
+    for u, v in sorted(spans):
+        if merged and merged[-1][1] >= u:
+            merged[-1] = (merged[-1][0], max(v, merged[-1][1]))
+        else:
+            merged.append((u, v))
+    return tuple(merged)

@@ -629,7 +629,7 @@ def scan(
         return _scan(f, a, b, fprime, n, progress, cancel, cross_check)
 
 
-def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
+def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     g = _Guarded(f, cancel)
     gp = _Guarded(fprime, cancel) if fprime is not None else None
     scale = max(abs(a), abs(b))
@@ -722,6 +722,22 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
         cheb = chebyshev_roots(g, a, b, max_pieces=max(256, n // 8), cancel=cancel,
                                on_cancel=g.check)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale)
+        explained = sorted(list(poles) + list(jumps) + [e for gap in gaps for e in gap]
+                           + [e for run in runs for e in run])
+        rough = []
+        for u, v in cheb.skipped:
+            i = bisect.bisect_left(explained, u)
+            if i < len(explained) and explained[i] <= v:
+                continue  # a pole, jump or domain edge inside: not smooth, as expected
+            rough.append((u, v))
+        if rough and depth == 0:
+            roots = _resample(f, fprime, rough, n, a, b, cancel, roots, poles, jumps, notes,
+                              scale)
+        elif rough:
+            notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
+                         f"{len(rough)} interval(s) in [{rough[0][0]:.6g}, {rough[-1][1]:.6g}] "
+                         "that no pole, jump or gap explains (rough f, or oscillation faster "
+                         "than the sampling): roots there rest on sampling alone")
     if progress is not None:
         progress(1.0)
     return Scan(
@@ -736,6 +752,52 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check) -> Scan:
         cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
         chebyshev_roots=list(cheb.roots) if cheb else [],
     )
+
+
+_RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check could not resolve
+
+
+def _resample(f, fprime, rough, n, a, b, cancel, roots, poles, jumps, notes, scale):
+    """Re-scan, 64x denser, the parts where the proxy found f not smooth for no known reason.
+
+    Sampling can alias an oscillation faster than its spacing into a smooth-looking
+    curve; the Chebyshev proxy, refined down to short pieces, does not. Where it gave
+    up, the sampling is repeated at 64x the density (within a budget of
+    ``_RESAMPLE_BUDGET`` samples) and its roots, poles and jumps are merged in.
+    """
+    density = 64 * (n - 1) / (b - a)
+    budget = max(_RESAMPLE_BUDGET, 4 * n)
+    merged = list(roots)
+    done: list[tuple[float, float]] = []
+    for u, v in rough:
+        count = int(density * (v - u)) + 1
+        if count > budget:
+            break
+        budget -= count
+        sub = _scan(f, u, v, fprime, max(count, 3), None, cancel, True, depth=1)
+        merged += sub.roots
+        poles += sub.poles
+        jumps += sub.discontinuities
+        notes.extend(sub.warnings)
+        done.append((u, v))
+    left = rough[len(done):]
+    if done:
+        notes.append(f"cross-check: f not smooth enough for the Chebyshev proxy on {len(done)} "
+                     f"interval(s) in [{done[0][0]:.6g}, {done[-1][1]:.6g}]; re-scanned there "
+                     "with 64x the samples")
+    if left:
+        notes.append(f"cross-check: f not smooth enough for the Chebyshev proxy on {len(left)} "
+                     f"interval(s) in [{left[0][0]:.6g}, {left[-1][1]:.6g}], beyond the re-scan "
+                     "budget: roots there rest on sampling alone; raise samples")
+    merged.sort(key=lambda r: r.x)
+    out: list[Root] = []
+    for r in merged:
+        if out and abs(r.x - out[-1].x) <= 1e3 * EPS * max(abs(r.x), 1e-3 * scale):
+            if "chebyshev" in r.located_by and "chebyshev" not in out[-1].located_by:
+                out[-1] = r
+            continue
+        out.append(r)
+    return out
 
 
 def _dedupe_points(xs: list[float], scale: float) -> list[float]:

@@ -133,6 +133,17 @@ def test_sin_one_over_x_closer_to_the_accumulation_point():
     assert_roots(result, expected, rel=1e-12)
 
 
+def test_oscillation_aliased_by_the_sampling_is_caught_by_the_cross_check():
+    # sin(1e4 x) on [0, 1]: zeros at n pi / 1e4, n = 0..3183 (common practice). The default
+    # grid (5e-4 spacing, 0.8 samples per period) aliases it; the Chebyshev proxy does not,
+    # and the parts it cannot resolve are re-scanned 64x denser.
+    result = scan(lambda x: np.sin(1e4 * x), 0.0, 1.0)
+    expected = np.arange(0, 3184) * math.pi / 1e4
+    assert len(result.roots) == len(expected)
+    assert np.allclose(xs(result), expected, rtol=1e-12, atol=1e-15)
+    assert any("re-scanned" in w for w in result.warnings)
+
+
 def test_double_root_touch():
     result = scan(lambda x: (x - 2.00031) ** 2, 0.0, 4.0)
     assert len(result.roots) == 1
