@@ -12,22 +12,16 @@ import time
 from pathlib import Path
 
 import pytest
-from gui_helpers import (  # noqa: F401 (fixtures)
-    SAMPLES,
-    dialogs,
-    idle,
-    isolated,
-    settle,
-    solve_and_wait,
-    type_equation,
-    window,
-)
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QMessageBox
 
 from app.window.recovery import RecoveryStore
 from solvers import pipeline, worksheet
 
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import SAMPLES, settle, solve_and_wait, type_equation  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 Button = QMessageBox.StandardButton
 
 

@@ -9,23 +9,16 @@ from __future__ import annotations
 import math
 
 import pytest
-from gui_helpers import (  # noqa: F401 (fixtures)
-    SAMPLES,
-    dialogs,
-    idle,
-    isolated,
-    settle,
-    solve_and_wait,
-    type_equation,
-    window,
-)
 from PySide6.QtCore import Qt
 
-pytest.importorskip("pytestqt")
+from app.window.models import RunModel, format_number
+from solvers import pipeline
+from solvers.result import REASON_TEXT
 
-from app.window.models import RunModel, format_number  # noqa: E402
-from solvers import pipeline  # noqa: E402
-from solvers.result import REASON_TEXT  # noqa: E402
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import idle, settle, solve_and_wait, type_equation  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 
 
 def test_window_constructs_without_arguments_and_fits_1280_by_800(qtbot, isolated):
