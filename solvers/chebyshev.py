@@ -23,8 +23,11 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.polynomial import chebyshev as C
 
-# Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead).
-DEGREES: tuple[int, ...] = (8, 16, 32, 64)
+# Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead:
+# the eigenvalue cost grows as degree^3). LAST_DEGREE is tried only where subdividing
+# further is not allowed (depth limit or piece budget).
+DEGREES: tuple[int, ...] = (8, 16, 32)
+LAST_DEGREE = 64
 # Trailing coefficients below this fraction of the largest count as decayed.
 DECAY_TOL = 1e-13
 # A root of the proxy counts as real when |imag| <= this (in the piece's [-1, 1] units).
@@ -72,7 +75,8 @@ def _nodes(degree: int) -> tuple[np.ndarray, np.ndarray]:
     return np.cos(theta), matrix
 
 
-def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray):
+def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
+             degrees: tuple[int, ...] = DEGREES):
     """Try every degree on every span [a, b] (rows of ``spans``) with one f call per degree.
 
     Returns (status, coefficients) lists: status "ok" (coefficients decayed), "undefined"
@@ -85,7 +89,7 @@ def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray):
     pending = np.arange(count)
     half = 0.5 * (spans[:, 1] - spans[:, 0])
     mid = 0.5 * (spans[:, 1] + spans[:, 0])
-    for degree in DEGREES:
+    for degree in degrees:
         if pending.size == 0:
             break
         t, matrix = _nodes(degree)
@@ -145,7 +149,8 @@ def chebyshev_roots(
     f takes and returns numpy arrays and must not raise (wrap it first); non-finite
     values mark a piece as unusable. [a, b] is first cut into ``pieces`` equal parts
     (so one proxy never spans a huge dynamic range), each halved up to ``max_depth``
-    times when the coefficients of degree 64 do not decay to 1e-13 of the largest.
+    times when the coefficients of degree 32 do not decay to 1e-13 of the largest
+    (degree 64 is tried where no further halving is allowed).
     All pieces of one subdivision level are evaluated together (one f call per degree
     and level); a level with more than ``max_pieces`` pieces is not attempted (f is
     noisy or rough almost everywhere) and its pieces are reported as skipped.
@@ -166,6 +171,11 @@ def chebyshev_roots(
             skipped.extend((float(u), float(v)) for u, v in level)
             break
         status, coefficients = _resolve(f, level)
+        rough = [i for i, st in enumerate(status) if st == "unresolved"]
+        if rough and (depth == max_depth or 2 * len(rough) > max_pieces):
+            last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,))
+            for i, st, c in zip(rough, last_status, last_coefficients, strict=True):
+                status[i], coefficients[i] = st, c
         split = []
         for (u, v), st, c in zip(level, status, coefficients, strict=True):
             if st == "ok":
