@@ -380,13 +380,16 @@ class _Parser:
     def constant(self, expr: Any, value: float, start: int, end: int) -> _Node:
         """A constant part: refuse it unless its double value is finite and real.
 
-        ``expr`` None means: the double value itself (as in numeric mode)."""
+        Outside the typeset form every constant part becomes one Float (``expr`` is then
+        not used): sympy would otherwise turn exact constants into giant exact numbers,
+        e.g. exp(x + 3000*ln(7)) into 7^3000*exp(x), or (3x)^60 into 3^60*x^60.
+        """
         if value != value:
             raise self.fail(f"'{self.snippet(start, end)}' has no real value", start)
         if math.isinf(value):
             raise self.fail(f"'{self.snippet(start, end)}' overflows double precision", start)
-        if expr is None or self.numeric or (not self.display and _is_bad(expr)):
-            expr = _number(value)
+        if expr is None or not self.display:
+            expr = sp.Float(value)
         return _Node(expr, value)
 
     def evaluate(self, fn: Callable[..., float], *args: float) -> float:
@@ -534,21 +537,15 @@ class _Parser:
             if base.value == 0 and exponent.value < 0:
                 raise self.fail(f"'{self.snippet(start, end)}' divides by zero", start)
             value = self.evaluate(_real_pow, base.value, exponent.value)
-            if self.numeric:
-                return self.constant(None, value, start, end)
-            if self.display:
-                return self.constant(sp.Pow(b, e), value, start, end)
-            exact = b.is_Rational and e.is_Rational and (
-                (e.is_Integer and abs(e) <= MAX_EXACT_EXPONENT)
-                or (not e.is_Integer and e.q <= 12 and abs(e.p) <= MAX_EXACT_EXPONENT))
-            small = not (e.is_Integer and abs(e) > MAX_EXACT_EXPONENT)
-            if (exact or (small and not (b.is_Rational and e.is_Rational))) and \
-                    math.isfinite(value) and (value == 0 or abs(value) > 1e-300):
-                return self.constant(sp.Pow(b, e), value, start, end)
+            if self.display and math.isfinite(value):
+                small = not (e.is_Integer and abs(e) > MAX_EXACT_EXPONENT)
+                return self.constant(sp.Pow(b, e) if small else None, value, start, end)
             return self.constant(None, value, start, end)
-        if exponent.value is not None and base.value is None:
-            if e.is_Integer and abs(e) > _BIG_INT:
-                e = sp.Float(exponent.value)
+        if exponent.value is not None and not self.display:
+            # A constant exponent is an exact Integer when integral (x^2 stays a polynomial
+            # and real for negative x), else a Float. Coefficients are Floats, so sympy
+            # distributing (3x)^n = 3^n x^n never builds a big exact number.
+            e = _number(exponent.value)
         if base.value == 0 or b == 0:
             # 0^x: sympy's rules for a symbolic exponent would hide the domain; keep it plain.
             return self.settle(sp.Pow(b, e, evaluate=False))
@@ -562,7 +559,7 @@ class _Parser:
             except TypeError:  # zoo, nan
                 value = math.nan
             if math.isfinite(value):
-                return _Node(_number(value) if self.numeric else expr, value)
+                return _Node(expr if self.display else sp.Float(value), value)
             raise self.fail("part of the equation has no finite real value", None)
         return _Node(expr, None)
 
@@ -633,7 +630,7 @@ class _Parser:
             raise self.fail(f"number {t.text} is beyond double precision", t.pos)
         if value == 0 and any(c in "123456789" for c in t.text.lower().split("e")[0]):
             raise self.fail(f"number {t.text} underflows to zero in double precision", t.pos)
-        if t.text.isdigit() and len(t.text.lstrip("0")) <= _EXACT_INT_DIGITS:
+        if self.display and t.text.isdigit() and len(t.text.lstrip("0")) <= _EXACT_INT_DIGITS:
             return _Node(sp.Integer(int(t.text)), value)
         return _Node(sp.Float(value), value)
 
@@ -691,8 +688,8 @@ class _Parser:
         end = self.tokens[self.i - 1].end
         if all(a.value is not None for a in args):
             value = self.evaluate(fn.value, *[a.value for a in args])
-            if self.numeric:
-                return self.constant(None, value, t.pos, end)
+            if not self.display or not math.isfinite(value):
+                return self.constant(None, value, t.pos, end)  # refused before sympy sees it
             if t.text in ("min", "max") and not self.display:
                 # Pick by double value: no symbolic comparisons of constants.
                 pick = (min if t.text == "min" else max)(args, key=lambda a: a.value)
@@ -720,7 +717,11 @@ def _number(value: float) -> Any:
 # ---------------------------------------------------------------------------------------------
 
 
-def _float_code(value: float) -> str:
+def _float_code(number: Any) -> str:
+    try:
+        value = float(number)
+    except OverflowError:
+        value = math.inf if number > 0 else -math.inf
     if math.isfinite(value):
         return repr(value)  # round-trip exact (sympy's default prints 15 digits)
     return "(1e999)" if value > 0 else "(-1e999)"
@@ -728,7 +729,7 @@ def _float_code(value: float) -> str:
 
 class _VectorPrinter(NumPyPrinter):
     def _print_Float(self, expr: Any) -> str:
-        return _float_code(float(expr))
+        return _float_code(expr)
 
     # sympy's own numpy printing of these goes through Piecewise and simplify: slow, unbounded.
     def _print_Heaviside(self, expr: Any) -> str:
@@ -755,7 +756,7 @@ class _ScalarPrinter(LambdaPrinter):
     """Python-float code whose every domain error raises (then the numpy path answers)."""
 
     def _print_Float(self, expr: Any) -> str:
-        return _float_code(float(expr))
+        return _float_code(expr)
 
     def _print_Pow(self, expr: Any, rational: bool = False) -> str:
         base, exp = expr.args
@@ -813,6 +814,23 @@ class _MathtextLatexPrinter(LatexPrinter):
     def _print_atan2(self, expr: Any, exp: Any = None) -> str:
         return self._named(r"\mathrm{atan2}", expr, exp)
 
+    def _print_Float(self, expr: Any) -> str:
+        # Constants are doubles here: print the shortest text that reads back as the same
+        # double (2.0 as 2, 0.1 as 0.1), not sympy's 15 digits.
+        try:
+            v = float(expr)
+        except OverflowError:
+            return super()._print_Float(expr)
+        if not math.isfinite(v):
+            return super()._print_Float(expr)
+        if v == int(v) and abs(v) < 1e15:
+            return str(int(v))
+        text = repr(v)
+        if "e" in text:
+            mantissa, exponent = text.split("e")
+            return mantissa + r" \cdot 10^{" + str(int(exponent)) + "}"
+        return text
+
     def _print_Symbol(self, expr: Any, style: str = "plain") -> str:
         if expr == DEG:
             return r"\mathrm{deg}"
@@ -824,7 +842,11 @@ _LATEX_AS_TYPED = _MathtextLatexPrinter({"ln_notation": True, "order": "none"})
 
 
 def _latex(expr: Any, as_typed: bool = False) -> str:
-    tex = (_LATEX_AS_TYPED if as_typed else _LATEX).doprint(expr)
+    printer = _LATEX_AS_TYPED if as_typed else _LATEX
+    try:
+        tex = printer.doprint(expr)
+    except ValueError:  # an integer too long for str(): show it as a float
+        tex = printer.doprint(_floatify_big(expr))
     # mathtext has no \operatorname in older matplotlib; \mathrm looks the same.
     return tex.replace(r"\operatorname{", r"\mathrm{")
 
@@ -851,12 +873,16 @@ def mathtext(latex: str, fallback: str) -> str:
 _Z = sp.Symbol("_z", real=True)  # the unknown inside generated code (never a user string)
 
 
-def _prepare(expr: Any, unknown: Any) -> Any:
-    """Rename the unknown and turn exact numbers too big for doubles into Floats."""
-    expr = expr.xreplace({unknown: _Z})
-    big = {a: sp.Float(float(a)) for a in expr.atoms(sp.Rational)
+def _floatify_big(expr: Any) -> Any:
+    """Exact numbers beyond 2^53 become Floats (sympy can build them: (3x)^60 = 3^60 x^60)."""
+    big = {a: sp.Float(a) for a in expr.atoms(sp.Rational)
            if abs(a.p) > _BIG_INT or a.q > _BIG_INT}
     return expr.xreplace(big) if big else expr
+
+
+def _prepare(expr: Any, unknown: Any) -> Any:
+    """Rename the unknown and turn exact numbers too big for doubles into Floats."""
+    return _floatify_big(expr.xreplace({unknown: _Z}))
 
 
 def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
@@ -969,10 +995,18 @@ class Equation:
     derivative: Any
     f: Callable[[Any], Any] = field(repr=False)
     fprime: Callable[[Any], Any] | None = field(repr=False)
-    latex: str = ""
     notes: tuple[str, ...] = ()
     symbolic_expr: Any = None
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    @property
+    def latex(self) -> str:
+        """The typeset equation (mathtext-safe LaTeX, no $): ``lhs = rhs`` or ``expr = 0``,
+        in the order typed, parameters by name, ``ln`` for the natural log."""
+        if "latex" not in self._cache:
+            lhs, rhs = self._cache["sides"]
+            self._cache["latex"] = _typeset(self.text, lhs, rhs)
+        return self._cache["latex"]
 
     @property
     def symbolic_derivative(self) -> Any:
@@ -996,9 +1030,10 @@ class Equation:
     def residual_mp(self, x: Any, dps: int = 50) -> Any:
         """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).
 
-        Uses the exact constants of the text (pi, 1/3, deg) and the parameters' double
-        values; x may be a float, a string or an mpf. NaN when the value is not real or
-        not defined. Meant for checking a root: f should be finite near x.
+        Uses the same double values of constants and parameters as ``f`` (so it checks
+        the equation that was solved); x may be a float, a string or an mpf. NaN when the
+        value is not real or not defined. Meant for checking a root: f should be finite
+        near x.
         """
         import mpmath
 
@@ -1068,12 +1103,12 @@ def _read(text: Any, bindings: Mapping[str, Any], numeric: bool,
     return parser, lhs, rhs
 
 
-def _constant_bindings(numeric: bool) -> dict[str, Any]:
+def _constant_bindings(display: bool = False) -> dict[str, Any]:
     deg_value = math.pi / 180
-    if numeric:
-        return {"pi": _Node(sp.Float(math.pi), math.pi), "deg": _Node(sp.Float(deg_value),
-                                                                      deg_value)}
-    return {"pi": _Node(sp.pi, math.pi), "deg": _Node(DEG, deg_value)}
+    if display:
+        return {"pi": _Node(sp.pi, math.pi), "deg": _Node(DEG, deg_value)}
+    return {"pi": _Node(sp.Float(math.pi), math.pi), "deg": _Node(sp.Float(deg_value),
+                                                                  deg_value)}
 
 
 def free_names(text: str) -> tuple[str, ...]:
@@ -1082,7 +1117,7 @@ def free_names(text: str) -> tuple[str, ...]:
     Functions and the constants pi and deg are not names. Raises :class:`EquationError`
     on text that does not parse.
     """
-    parser, _, _ = _read(text, _constant_bindings(False), numeric=False)
+    parser, _, _ = _read(text, _constant_bindings(), numeric=False)
     return tuple(parser.names)
 
 
@@ -1096,7 +1131,7 @@ def parse_equation(text: str, unknown: str | None = None,
     applies) for anything it cannot use; never evaluates user text as code.
     """
     values = _validate_parameters(parameters)
-    parser, lhs, rhs = _read(text, _constant_bindings(False), numeric=False)
+    parser, lhs, rhs = _read(text, _constant_bindings(), numeric=False)
     names = parser.names
     notes: list[str] = []
 
@@ -1134,8 +1169,8 @@ def parse_equation(text: str, unknown: str | None = None,
 
     # The same text again with parameter values bound: every constant part is checked and
     # folded in double precision, so sympy never evaluates anything big later.
-    bindings = _constant_bindings(True)
-    bindings.update({n: _Node(_number(v), v) for n, v in used.items()})
+    bindings = _constant_bindings()
+    bindings.update({n: _Node(sp.Float(v), v) for n, v in used.items()})
     try:
         _, nlhs, nrhs = _read(text, bindings, numeric=True)
     except EquationError as err:
@@ -1144,12 +1179,11 @@ def parse_equation(text: str, unknown: str | None = None,
         raise EquationError(f"{err} (with the given parameter values)", err.position) from None
 
     symbolic = lhs.expr if rhs is None else lhs.expr - rhs.expr
-    numeric = nlhs.expr if nrhs is None else nlhs.expr - nrhs.expr
+    numeric = _floatify_big(nlhs.expr if nrhs is None else nlhs.expr - nrhs.expr)
     if not isinstance(numeric, sp.Basic) or _is_bad(numeric):
         raise EquationError("part of the equation has no finite real value"
                             + (" with the given parameter values" if used else ""), None)
 
-    latex = _typeset(text, lhs, rhs)
 
     f = _compile(numeric, x)
     fprime, derivative = None, None
@@ -1179,9 +1213,9 @@ def parse_equation(text: str, unknown: str | None = None,
         derivative=derivative,
         f=f,
         fprime=fprime,
-        latex=latex,
         notes=tuple(notes),
         symbolic_expr=symbolic,
+        _cache={"sides": (lhs, rhs)},
     )
 
 
@@ -1189,7 +1223,7 @@ def _typeset(text: str, lhs: _Node, rhs: _Node | None) -> str:
     """LaTeX of the equation in the order it was typed (parameters by name); if that
     cannot be built, sympy's own ordering of the checked expression."""
     try:
-        _, shown_lhs, shown_rhs = _read(text, _constant_bindings(False), numeric=False,
+        _, shown_lhs, shown_rhs = _read(text, _constant_bindings(display=True), numeric=False,
                                         display=True)
         sides = [shown_lhs] if shown_rhs is None else [shown_lhs, shown_rhs]
         tex = [_latex(side.expr, as_typed=True) for side in sides]
