@@ -2,44 +2,49 @@
 
 How a scan works
 ----------------
-1. **Sample** f (vectorised) at ``samples`` equally spaced points, in chunks of
-   ``CHUNK`` points so memory stays bounded for any sample count. Between chunks
+1. **Sample** f (vectorised) at ``samples`` equally spaced points (default
+   ``DEFAULT_SAMPLES`` = 2001, never more than there are floats in [a, b]), in chunks
+   of ``CHUNK`` points so memory stays bounded for any sample count. Between chunks
    ``progress(fraction)`` is called and ``cancel()`` polled. Each chunk yields only
    *candidates*: sign changes between neighbouring samples, samples where f is
-   exactly 0, local minima of |f| that may touch zero, and edges between defined
-   and undefined (NaN) samples. Windows where f oscillates faster than the sampling
-   resolves are resampled 8x finer (twice at most) before candidates are taken.
+   exactly 0, local minima of |f| that may touch zero, sharp local maxima of |f|,
+   and edges between defined and undefined (NaN) samples. Windows of 32 samples
+   where f turns more than 8 times are resampled 8x finer (twice at most, so up to
+   64x) before candidates are taken.
 2. **Classify** each sign change by bisecting all brackets at once (vectorised):
    |f| at both bracket ends falling to 1e-6 of its start means a root; |f| growing
-   1000-fold (or steadily, like a logarithm) means a **pole**; |f| staying put
-   down to adjacent floats means a **discontinuity** (a jump). Poles and jumps are
-   never reported as roots.
+   1000-fold (or steadily, like a logarithm) down to adjacent floats means a
+   **pole**; |f| staying put means a **discontinuity** (a jump). Poles and jumps
+   are never reported as roots.
 3. **Refine** each root with the project's Brent (:func:`solvers.methods.brent`,
-   rtol = 4 eps, xtol = 1e-3 eps max(|a|, |b|)) from its narrowed bracket, then one
+   rtol = 4 eps, xtol = 1e-3 eps max(|a|, |b|)) from its narrowed bracket (the two
+   ends' f values, already known, are handed to it without re-evaluating f), then one
    Newton step with ``fprime`` when given and it lowers |f|.
 4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
-   that a parabola through the three samples says dips at least 10 % toward zero is
-   searched by a vectorised golden-section minimisation of |f| (also when the dip
-   is small but the parabola's lowest value is within its curvature scale, c h^2, of
-   zero). If the search finds
-   the opposite sign, two close roots were hidden between samples: both brackets go
-   to step 2 (close roots are resolved, not merged). Otherwise the minimum is a
-   root when |f| there is at rounding-noise level (no more than 16x the scatter of
-   f over a few ulps around it) or below 1e-14 of |f| at the neighbouring samples;
-   with ``fprime`` the touch point is then refined by Brent on f'.
-5. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
-   log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance to the
-   next feature) down to the noise level, rounded to the integer of the right
-   parity (odd for a sign change, even for a touch).
-   A sharp local maximum of |f| without a sign change (at least 10 % above its lower
-   neighbour) is searched by golden section for the largest |f|; when that is at
-   least twice the sampled peak (or infinite) it is a pole without a sign change
-   (1/(x - c)^2, ln|x - c|).
-6. **Domains**: runs of undefined samples are **gaps**; their edges are located
+   that a parabola through the three samples says dips at least 10 % toward zero,
+   or whose lowest value is within the parabola's curvature scale (c h^2) of zero,
+   is searched by a vectorised golden-section minimisation of |f|. If the search
+   finds the opposite sign, two close roots were hidden between samples: both
+   brackets go to step 2 (close roots are resolved, not merged). Otherwise the
+   minimum is a root when |f| there is at rounding-noise level (no more than 16x
+   the spread of f over a few ulps around it) or below 1e-14 of |f| at the
+   neighbouring samples; with ``fprime`` the touch point is then refined by Brent
+   on f'.
+5. **Poles without a sign change** (1/(x - c)^2, ln|x - c|): a sharp local maximum
+   of |f| (at least 10 % above its lower neighbour) is searched by golden section
+   for the largest |f|; at least twice the sampled peak (or infinite) is a pole.
+6. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
+   log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance
+   to the next feature) down to the noise level, rounded to the integer of the
+   right parity (odd for a sign change, even for a touch). When the slopes are not
+   those of one power (an odd cluster of roots inside one sample spacing shows as
+   one sign change), both sides of the refined root are searched for more roots.
+7. **Domains**: runs of undefined samples are **gaps**; their edges are located
    by bisection. A domain edge where f tends to 0 (sqrt(x) at 0, sqrt(1 - x^2) at
-   +/-1) is reported as a root at the last defined point, confirmed
-   "domain edge"; one where |f| grows without bound (ln x at 0) is a pole.
-7. **Cross-check** (``cross_check=True``): the Chebyshev proxy rootfinder of
+   +/-1) is reported as a root at the last defined point (multiplicity 1,
+   confirmed "domain edge"); one where |f| grows without bound (ln x at 0) is a
+   pole; otherwise (arcsin at +/-1) it is only a gap end.
+8. **Cross-check** (``cross_check=True``): the Chebyshev proxy rootfinder of
    :mod:`solvers.chebyshev` runs independently on the smooth parts. Roots both
    found list ``located_by=("sampling", "chebyshev")``; a proxy root the sampling
    missed is confirmed locally and added (``located_by=("chebyshev",)``) or, when it
@@ -47,7 +52,9 @@ How a scan works
    piece the proxy did not see. Roots closer than 1e-4 of a piece's width are matched
    as one cluster (the proxy cannot separate them reliably): the cluster counts as
    located when the proxy has zeros within eps^(1/m) of it, m the cluster's total
-   multiplicity.
+   multiplicity. Where the proxy finds f not smooth and no pole, jump or gap
+   explains it (typically an oscillation the sampling aliased), that part is
+   re-scanned with 64x the samples (up to 2e6 samples in all) and a warning says so.
 
 f must take and return numpy arrays. It may return NaN/inf where it is undefined;
 if it raises, the points are treated as undefined (evaluated one by one so the
