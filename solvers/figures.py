@@ -210,10 +210,13 @@ def draw_function(
     ax.plot(c.x, c.y, color=FUNCTION_COLOR, linewidth=1.4, zorder=2, label=f"f({unknown})")
     if scan is not None:
         _draw_scan(ax, scan, poles, jumps)
-    if run is not None and run.steps:
-        draw_path(ax, f, run)
+    # Limits first: the path drawers space their labels by the visible range.
     ax.set_xlim(min(a, b), max(a, b))
     ax.set_ylim(*c.ylim)
+    if run is not None and run.steps:
+        draw_path(ax, f, run)
+        ax.set_xlim(min(a, b), max(a, b))
+        ax.set_ylim(*c.ylim)
     ax.set_xlabel(unknown)
     ax.set_ylabel(f"f({unknown})")
     ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)
@@ -255,10 +258,16 @@ def _draw_iterates(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> No
     steps = _finite_steps(run, limit)
     ax.plot([s.x for s in steps], [s.fx for s in steps], marker="o", markersize=4,
             linestyle="none", color=color, zorder=5, label=f"{method_label(run.method)} iterates")
-    # Number the first few iterates so the table rows and the picture can be matched.
-    for s in steps[:8]:
-        ax.annotate(str(s.k), (s.x, s.fx), textcoords="offset points", xytext=(4, 4),
-                    fontsize="x-small", color=color, zorder=6)
+    # Number the first iterates so table rows and picture can be matched; skip a label
+    # that would sit on top of the previous one (iterates crowd near the root).
+    lo, hi = ax.get_xlim()
+    gap = 0.03 * abs(hi - lo)
+    placed: list[float] = []
+    for s in steps[:10]:
+        if all(abs(s.x - p) > gap for p in placed):
+            ax.annotate(str(s.k), (s.x, s.fx), textcoords="offset points", xytext=(4, 4),
+                        fontsize="x-small", color=color, zorder=6)
+            placed.append(s.x)
 
 
 def _draw_tangents(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> None:
@@ -288,14 +297,20 @@ def _draw_bracket(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> Non
     color = method_color(run.method)
     transform = ax.get_xaxis_transform()  # x in data units, y in axes fraction
     bars = [s for s in run.steps[:limit] if s.lo is not None and s.hi is not None]
-    shown = bars[:14]
+    # Drop repeats, keep at most BRACKET_BARS so the strip stays a thin band at the bottom.
+    distinct = [s for i, s in enumerate(bars) if i == 0 or (s.lo, s.hi) != (bars[i - 1].lo,
+                                                                          bars[i - 1].hi)]
+    shown = distinct[:BRACKET_BARS]
     for i, s in enumerate(shown):
-        y = 0.03 + 0.022 * i
-        ax.plot([s.lo, s.hi], [y, y], transform=transform, color=color, linewidth=2.2,
-                solid_capstyle="butt", alpha=0.9, zorder=5,
-                label="bracket after each iterate" if i == 0 else None)
+        y = 0.025 + 0.016 * i
+        ax.plot([s.lo, s.hi], [y, y], transform=transform, color=color,
+                linewidth=BRACKET_WIDTH, solid_capstyle="butt", alpha=1.0 - 0.5 * i / len(shown),
+                zorder=5, label="bracket, first iterates (bottom up)" if i == 0 else None)
     _draw_iterates(ax, f, run, limit)
 
+
+BRACKET_BARS = 8
+BRACKET_WIDTH = 2.2
 
 _PATH_DRAWERS: dict[str, Callable[[Any, Callable[[Any], Any], Run, int], None]] = {
     "newton": _draw_tangents,

@@ -93,9 +93,11 @@ def test_draw_function_shows_the_shrinking_bracket_of_false_position():
     fig = Figure()
     ax = fig.add_subplot()
     figures.draw_function(ax, eq.f, 1.5, 3.5, run=fp, unknown="x")
-    bars = [line for line in ax.get_lines() if line.get_linewidth() == 2.2]
-    with_bracket = [s for s in fp.steps if s.lo is not None][:14]
-    assert len(bars) == len(with_bracket) > 2
+    bars = [line for line in ax.get_lines() if line.get_linewidth() == figures.BRACKET_WIDTH]
+    with_bracket = [s for s in fp.steps if s.lo is not None]
+    assert len(bars) == min(len(with_bracket), figures.BRACKET_BARS) > 2
+    for line, s in zip(bars, with_bracket, strict=False):
+        assert list(line.get_xdata()) == [s.lo, s.hi]
     widths = [abs(line.get_xdata()[1] - line.get_xdata()[0]) for line in bars]
     assert widths[-1] < widths[0]
 

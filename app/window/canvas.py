@@ -79,6 +79,7 @@ class PlotPanel(QTabWidget):
         self.path_box = QComboBox()
         self.path_box.setObjectName("pathBox")
         self.path_box.setToolTip("Whose iterates are drawn over f")
+        self.path_box.setMinimumContentsLength(14)
         path_label = QLabel("Pat&h of")
         path_label.setBuddy(self.path_box)
         self.function_view.bar.addWidget(path_label)

@@ -306,7 +306,7 @@ class EquationStrip(QWidget):
             self._set_status(message, ok=not analysis.ambiguous)
         else:
             where = ""
-            if analysis.position is not None:
+            if analysis.position is not None and "column" not in analysis.error:
                 where = f"column {analysis.position + 1}: "
             self._set_status(where + analysis.error, ok=False)
 

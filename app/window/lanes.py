@@ -30,7 +30,12 @@ def summary_text(run: Run, digits: int) -> str:
     order = run.order
     order_text = f"{order:.2f}" if order is not None else "n/a"
     return (f"root {format_number(run.root, digits)}   stop: {run.reason}\n"
-            f"{run.iterations} iterates · {run.evaluations} evaluations · order ≈ {order_text}")
+            f"{_count(run.iterations, 'iterate')} · {_count(run.evaluations, 'evaluation')} · "
+            f"order ≈ {order_text}")
+
+
+def _count(n: int, word: str) -> str:
+    return f"{n} {word}{'' if n == 1 else 's'}"
 
 
 def verdict_text(run: Run) -> str:

@@ -1,0 +1,94 @@
+"""Grab the window at its main states as PNGs (for the README and for looking at the layout).
+
+Run under a real (virtual) display so fonts and the style are those a user sees::
+
+    xvfb-run -s "-screen 0 1280x800x24" .venv/bin/python -m app.gui_screenshots docs/screenshots
+
+Writes solve.png (a sample after Solve), scan.png (a scan with roots and poles),
+convergence.png (the convergence view) and error.png (an equation with a typo).
+Recovery files and settings go to a temporary folder, never the user's.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+
+def _spin(app, condition, timeout: float = 30.0) -> None:
+    end = time.monotonic() + timeout
+    while time.monotonic() < end:
+        app.processEvents()
+        if condition():
+            break
+        time.sleep(0.01)
+    for _ in range(20):  # let pending paints and draw_idle calls happen
+        app.processEvents()
+        time.sleep(0.01)
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = list(sys.argv[1:] if argv is None else argv)
+    out = Path(args[0] if args else "docs/screenshots")
+    out.mkdir(parents=True, exist_ok=True)
+    scratch = Path(tempfile.mkdtemp(prefix="zerotrace-shots-"))
+    os.environ["ZEROTRACE_RECOVERY_DIR"] = str(scratch / "recovery")
+
+    from PySide6.QtCore import QSettings
+    from PySide6.QtWidgets import QApplication
+
+    app = QApplication.instance() or QApplication(["zerotrace"])
+    from app.window import MainWindow
+
+    settings = QSettings(str(scratch / "settings.ini"), QSettings.Format.IniFormat)
+    w = MainWindow(settings=settings)
+    w.resize(1280, 800)
+    w.show()
+
+    def settled() -> bool:
+        return w.analysis is not None and w.analysis.text == w.strip.text()
+
+    def idle() -> bool:
+        return settled() and not any(w.runner.is_busy(x) for x in ("preview", "solve", "scan"))
+
+    w.load_sample("cooling-water-friction.json")
+    _spin(app, settled)
+    w.inputs.set_field("x0", 0.008)  # starts far enough away that the paths show
+    w.inputs.set_field("x1", 0.009)
+    w.start_scan()
+    _spin(app, lambda: w.scan_result is not None and idle())
+    w.solve()
+    _spin(app, lambda: w.solution is not None and idle())
+    w.grab().save(str(out / "solve.png"))
+    w.plot.setCurrentIndex(1)
+    _spin(app, idle)
+    w.grab().save(str(out / "convergence.png"))
+    w.plot.setCurrentIndex(0)
+
+    w.load_sample("wall-conduction-eigenvalues.json")
+    _spin(app, settled)
+    w.start_scan()
+    _spin(app, lambda: w.scan_result is not None and idle())
+    w.solve()
+    _spin(app, lambda: w.solution is not None and idle())
+    w.plot.select_path("newton")
+    _spin(app, idle)
+    w.grab().save(str(out / "scan.png"))
+
+    w.strip.set_text("x*tan(x) = h*L/k +")
+    _spin(app, lambda: settled() and bool(w.analysis.error))
+    w.grab().save(str(out / "error.png"))
+
+    w._saved_text = ""  # nothing to ask about: close without the unsaved-changes prompt
+    w.setWindowModified(False)
+    w.runner.stop()
+    w.recovery.clear()
+    print("\n".join(str(p) for p in sorted(out.glob("*.png"))))
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
