@@ -170,10 +170,12 @@ def chebyshev_roots(
         if len(level) > max_pieces:
             skipped.extend((float(u), float(v)) for u, v in level)
             break
-        status, coefficients = _resolve(f, level)
+        with np.errstate(all="ignore"):  # NaN/inf from f are results here, not warnings
+            status, coefficients = _resolve(f, level)
         rough = [i for i, st in enumerate(status) if st == "unresolved"]
         if rough and (depth == max_depth or 2 * len(rough) > max_pieces):
-            last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,))
+            with np.errstate(all="ignore"):
+                last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,))
             for i, st, c in zip(rough, last_status, last_coefficients, strict=True):
                 status[i], coefficients[i] = st, c
         split = []

@@ -726,7 +726,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         g.check()
         if progress is not None:
             progress(0.9)
-        cheb = chebyshev_roots(g, a, b, max_pieces=max(256, n // 8), cancel=cancel,
+        cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
                                on_cancel=g.check)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale)
         explained = sorted(list(poles) + list(jumps) + [e for gap in gaps for e in gap]

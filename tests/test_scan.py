@@ -16,6 +16,7 @@ import pytest
 import scipy.constants
 import scipy.special
 
+from solvers.chebyshev import chebyshev_roots
 from solvers.scan import CHUNK, DEFAULT_SAMPLES, Root, Scan, ScanCancelled, scan
 
 
@@ -361,6 +362,30 @@ def test_range_a_few_ulps_wide():
     result = scan(lambda x: x - 1.0, 1.0 - 1e-15, 1.0 + 1e-15)
     assert xs(result) == [1.0]
     assert result.samples <= 10  # no more samples than floats in the range
+
+
+# ----------------------------------------------------------------- the Chebyshev locator alone
+
+
+def test_chebyshev_proxy_locates_bessel_zeros_on_its_own():
+    zeros = scipy.special.jn_zeros(0, 12)  # scipy.special.jn_zeros reference
+    found = chebyshev_roots(lambda x: scipy.special.jv(0, x), 0.5, 38.0)
+    assert found.skipped == () and found.undefined == ()
+    assert np.allclose(found.roots, zeros[zeros < 38.0], rtol=1e-11)
+
+
+def test_chebyshev_proxy_skips_poles_and_gaps():
+    found = chebyshev_roots(np.tan, 0.0, 10.0)
+    # zeros of tan at n pi (common practice); pieces holding the poles are given up
+    assert np.allclose(found.roots, [0.0, math.pi, 2 * math.pi, 3 * math.pi], atol=1e-11)
+    for n in range(3):
+        pole = math.pi / 2 + n * math.pi
+        assert any(u <= pole <= v for u, v in found.skipped)
+        assert not any(p.a <= pole <= p.b for p in found.pieces)
+    gap = chebyshev_roots(lambda x: np.sqrt(1.0 - x**2) - 0.5, -2.0, 2.0)
+    assert any(u <= -1.5 and v >= -1.5 for u, v in gap.undefined)
+    # sqrt(1 - x^2) = 1/2 at x = +/- sqrt(3)/2 (common practice)
+    assert np.allclose(gap.roots, [-math.sqrt(3) / 2, math.sqrt(3) / 2], rtol=1e-10)
 
 
 # ----------------------------------------------------------------- contract of the result
