@@ -630,7 +630,7 @@ def scan(
         if n < 3 or n != samples:
             raise ValueError(f"samples must be an integer >= 3, got {samples!r}")
     # no more samples than there are floats in [a, b] (a range a few ulps wide)
-    n = max(3, min(n, int((b - a) / math.ulp(max(abs(a), abs(b)))) + 1))
+    n = max(3, min(n, int((b - a) / math.ulp(max(abs(a), abs(b)))) // 2 + 1))
     with np.errstate(all="ignore"), _warnings.catch_warnings():
         _warnings.simplefilter("ignore")
         return _scan(f, a, b, fprime, n, progress, cancel, cross_check)
@@ -722,6 +722,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale)
 
     cheb: ChebyshevRoots | None = None
+    extra_samples = 0
     if cross_check:
         g.check()
         if progress is not None:
@@ -738,8 +739,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
                 continue  # a pole, jump or domain edge inside: not smooth, as expected
             rough.append((u, v))
         if rough and depth == 0:
-            roots = _resample(f, fprime, rough, n, a, b, cancel, roots, poles, jumps, notes,
-                              scale)
+            roots, extra_samples = _resample(f, fprime, rough, n, a, b, progress, cancel, roots,
+                                             poles, jumps, notes, scale)
         elif rough:
             notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
                          f"{len(rough)} interval(s) in [{rough[0][0]:.6g}, {rough[-1][1]:.6g}] "
@@ -755,7 +756,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         discontinuities=sorted(_dedupe_points(jumps, scale)),
         gaps=gaps,
         warnings=notes,
-        samples=cand.samples,
+        samples=cand.samples + extra_samples,
         cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
         chebyshev_roots=list(cheb.roots) if cheb else [],
     )
@@ -764,30 +765,39 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
 _RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check could not resolve
 
 
-def _resample(f, fprime, rough, n, a, b, cancel, roots, poles, jumps, notes, scale):
+def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, notes, scale):
     """Re-scan, 64x denser, the parts where the proxy found f not smooth for no known reason.
 
     Sampling can alias an oscillation faster than its spacing into a smooth-looking
     curve; the Chebyshev proxy, refined down to short pieces, does not. Where it gave
     up, the sampling is repeated at 64x the density (within a budget of
     ``_RESAMPLE_BUDGET`` samples) and its roots, poles and jumps are merged in.
+    Returns (roots, samples spent); progress moves from 0.9 toward 1 per interval.
     """
     density = 64 * (n - 1) / (b - a)
     budget = max(_RESAMPLE_BUDGET, 4 * n)
     merged = list(roots)
     done: list[tuple[float, float]] = []
-    for u, v in rough:
+    spent = 0
+    for k, (u, v) in enumerate(rough):
         count = int(density * (v - u)) + 1
+        floats = int((v - u) / math.ulp(max(abs(u), abs(v)))) + 1
+        if floats < 2 * count / 64:  # the grid already sat on (nearly) every float there
+            continue
+        count = min(count, floats)
         if count > budget:
             break
         budget -= count
+        if progress is not None:
+            progress(0.9 + 0.09 * k / len(rough))
         sub = _scan(f, u, v, fprime, max(count, 3), None, cancel, True, depth=1)
+        spent += sub.samples
         merged += sub.roots
         poles += sub.poles
         jumps += sub.discontinuities
         notes.extend(sub.warnings)
         done.append((u, v))
-    left = rough[len(done):]
+    left = [span for span in rough if span not in done]
     if done:
         notes.append(f"cross-check: f not smooth enough for the Chebyshev proxy on {len(done)} "
                      f"interval(s) in [{done[0][0]:.6g}, {done[-1][1]:.6g}]; re-scanned there "
@@ -804,7 +814,7 @@ def _resample(f, fprime, rough, n, a, b, cancel, roots, poles, jumps, notes, sca
                 out[-1] = r
             continue
         out.append(r)
-    return out
+    return out, spent
 
 
 def _dedupe_points(xs: list[float], scale: float) -> list[float]:

@@ -361,7 +361,7 @@ def test_f_identically_zero_is_reported_not_counted():
 def test_range_a_few_ulps_wide():
     result = scan(lambda x: x - 1.0, 1.0 - 1e-15, 1.0 + 1e-15)
     assert xs(result) == [1.0]
-    assert result.samples <= 10  # no more samples than floats in the range
+    assert result.samples < 100  # not thousands of samples on a handful of floats
 
 
 # ----------------------------------------------------------------- the Chebyshev locator alone
