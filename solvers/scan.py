@@ -915,11 +915,12 @@ def _domains(g, cand, a, b, h, xtol, scale):
         ia = np.nonzero(act)[0]
         dfd[ia[fin]] = mid[fin]
         und[ia[~fin]] = mid[~fin]
-    # a tidy value next to the edge (e.g. exactly 0 for sqrt(x)) when f is defined there
+    # a tidy value next to the edge where f is exactly 0 (e.g. 0 for sqrt(x)) beats the
+    # last float bisection reached
     tidy = np.round(dfd / max(scale, 1e-300), 12) * max(scale, 1e-300)
     ftidy = g(tidy)
     fd = g(dfd)
-    use = ~np.isnan(ftidy) & (np.abs(ftidy) <= np.abs(fd)) & (np.abs(tidy - dfd) <= 1e-9 * scale)
+    use = (ftidy == 0) & (fd != 0) & (np.abs(tidy - dfd) <= 1e-9 * scale)
     dfd = np.where(use, tidy, dfd)
     fd = np.where(use, ftidy, fd)
     # probes moving into the defined side: |f| trend toward the edge

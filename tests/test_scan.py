@@ -109,6 +109,36 @@ def test_van_der_waals_compressibility_three_real_roots():
     assert result.roots[0].x > B  # the liquid root lies above the co-volume (common practice)
 
 
+def test_colebrook_friction_factor_on_a_range_reaching_below_zero():
+    # Colebrook-White: 1/sqrt(f) + 2 log10(eps/(3.7 D) + 2.51/(Re sqrt f)) = 0 (common
+    # practice); Re = 1e5, eps/D = 1e-4. f < 0 is undefined: a gap, not an error.
+    re, rough = 1e5, 1e-4
+
+    def colebrook(f):
+        return 1 / np.sqrt(f) + 2 * np.log10(rough / 3.7 + 2.51 / (re * np.sqrt(f)))
+
+    result = scan(colebrook, -0.01, 0.2)
+    mpmath.mp.dps = 30
+    ref = mpmath.findroot(
+        lambda f: 1 / mpmath.sqrt(f) + 2 * mpmath.log10(rough / 3.7 + 2.51 / (re * mpmath.sqrt(f))),
+        0.0185,
+    )  # mpmath.findroot reference at 30 digits
+    mpmath.mp.dps = 15
+    assert_roots(result, [float(ref)], rel=1e-14)
+    assert result.gaps[0][0] == -0.01 and result.gaps[0][1] == pytest.approx(0.0, abs=1e-15)
+
+
+def test_internal_rate_of_return_with_a_pole_at_minus_one():
+    # NPV(r) = sum C_t / (1 + r)^t (invented cash flows); with v = 1/(1 + r) it is the
+    # polynomial sum C_t v^t, whose real roots numpy.roots gives (reference)
+    flows = [-1000.0, 300.0, 300.0, 300.0, 300.0, -50.0]
+    v = [z.real for z in np.roots(flows[::-1]) if abs(z.imag) < 1e-12 and z.real != 0]
+    expected = sorted(r for r in (1 / z - 1 for z in v) if -1.5 < r < 1.0)
+    result = scan(lambda r: sum(c / (1 + r) ** t for t, c in enumerate(flows)), -1.5, 1.0)
+    assert_roots(result, expected, rel=1e-12)
+    assert result.poles == pytest.approx([-1.0], rel=1e-14)
+
+
 @pytest.mark.parametrize("order", [0, 1, 2])
 def test_bessel_zeros(order):
     zeros = scipy.special.jn_zeros(order, 12)  # scipy.special.jn_zeros reference
