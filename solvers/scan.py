@@ -203,7 +203,8 @@ class _Guarded:
 @dataclass
 class _Candidates:
     brackets: list[tuple[float, float, float, float]] = field(default_factory=list)
-    zeros: list[tuple[float, int]] = field(default_factory=list)  # (x, +1 odd / 0 even / -1 ?)
+    # samples where f == 0: (x, odd by the neighbours, x left, x right, f left, f right)
+    zeros: list[tuple[float, int, float, float, float, float]] = field(default_factory=list)
     minima: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
     peaks: list[tuple[float, float, float]] = field(default_factory=list)  # (lo, x, hi), |f|
     edges: list[tuple[float, float, int]] = field(default_factory=list)  # (undef x, def x, side)
@@ -251,7 +252,9 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
             if y[k - 1] == 0 or y[k + 1] == 0:
                 out.flat.append((float(x[k - 1]), float(x[k + 1])))
             else:
-                out.zeros.append((float(x[k]), 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0))
+                out.zeros.append((float(x[k]), 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0,
+                                  float(x[k - 1]), float(x[k + 1]), float(y[k - 1]),
+                                  float(y[k + 1])))
     # local minima of |f| away from sign changes: |f| stops falling and starts rising
     if n < 3:
         return
@@ -659,11 +662,11 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     for u, v in runs:
         notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
                      "not counted as isolated roots")
-    for x0, odd in cand.zeros:
-        found.append(_Found(x0, bool(odd), "f exactly zero at a sample"))
+    brackets = list(cand.brackets)
+    if cand.zeros:
+        found += _zero_samples(g, np.array(cand.zeros), h, brackets)
 
     # touches and hidden close pairs from local minima of |f|
-    brackets = list(cand.brackets)
     if cand.minima:
         m = np.array(cand.minima)
         sign = np.sign(m[:, 4])
@@ -815,6 +818,26 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
             continue
         out.append(r)
     return out, spent
+
+
+def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:
+    """Roots at samples where f == 0; parity from f just beside the zero, not from the
+    neighbouring samples (another root may sit between), and a sign change between a
+    neighbour and the point beside the zero is a further bracket."""
+    x0 = z[:, 0]
+    d = np.maximum(1e-6 * h, 64 * EPS * np.abs(x0))
+    fl, fr = g(x0 - d), g(x0 + d)
+    found = []
+    for i in range(len(z)):
+        usable = math.isfinite(fl[i]) and math.isfinite(fr[i]) and fl[i] != 0 and fr[i] != 0
+        odd = ((fl[i] < 0) != (fr[i] < 0)) if usable else bool(z[i, 1])
+        found.append(_Found(float(x0[i]), odd, "f exactly zero at a sample"))
+        for xa, fa, xb, fb in ((z[i, 2], z[i, 4], x0[i] - d[i], fl[i]),
+                               (x0[i] + d[i], fr[i], z[i, 3], z[i, 5])):
+            if (xa < xb and math.isfinite(fa) and math.isfinite(fb) and fa != 0 and fb != 0
+                    and (fa < 0) != (fb < 0)):
+                brackets.append((float(xa), float(xb), float(fa), float(fb)))
+    return found
 
 
 def _dedupe_points(xs: list[float], scale: float) -> list[float]:
@@ -985,17 +1008,30 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
                 brackets.append((u, v, fu, fv))
             else:
                 probes.append((u, v, fu, fv))
+    found: list[_Found] = []
     if probes:
         pr = np.array(probes)
         xb, fb, crossed = _golden(g, pr[:, 0], pr[:, 1], np.sign(pr[:, 2]), xtol)
         for i in np.flatnonzero(crossed):
             brackets += [(pr[i, 0], xb[i], pr[i, 2], fb[i]), (xb[i], pr[i, 1], fb[i], pr[i, 3])]
-    if not brackets:
-        return []
-    br = np.array(brackets, dtype=float)
-    kind, lo, hi, flo, fhi = _classify(g, br, xtol)
-    return [_refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol)
-            for i in np.flatnonzero(kind == _ROOT)]
+        # no crossing, but an interior minimum at noise level: a hidden touch
+        rest = np.flatnonzero(~crossed & np.isfinite(fb))
+        if rest.size:
+            # an interior minimum, not the search running down to the known root's side
+            margin = 1e3 * 64 * EPS * np.maximum(np.abs(xb[rest]), EPS)
+            inner = (xb[rest] - pr[rest, 0] > margin) & (pr[rest, 1] - xb[rest] > margin)
+            noise = _noise(g, xb[rest], EPS)
+            ends = np.minimum(np.abs(pr[rest, 2]), np.abs(pr[rest, 3]))
+            touch = inner & ((fb[rest] == 0)
+                             | (np.abs(fb[rest]) <= np.maximum(16 * noise, 1e-14 * ends)))
+            for i in rest[touch]:
+                found.append(_touch(g, gp, pr[i, 0], pr[i, 1], float(xb[i]), xtol))
+    if brackets:
+        br = np.array(brackets, dtype=float)
+        kind, lo, hi, flo, fhi = _classify(g, br, xtol)
+        found += [_refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol)
+                  for i in np.flatnonzero(kind == _ROOT)]
+    return found
 
 
 def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) -> list[Root]:
@@ -1144,7 +1180,7 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
         cand = _Candidates()
         _detect(pts, y, 0, len(pts), cand)
         found = [_Found(xz, bool(odd), "f exactly zero (near a Chebyshev proxy root)",
-                        located_by=("chebyshev",)) for xz, odd in cand.zeros]
+                        located_by=("chebyshev",)) for xz, odd, *_ in cand.zeros]
         brackets = list(cand.brackets)
         if cand.minima:
             mm = np.array(cand.minima)

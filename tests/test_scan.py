@@ -233,6 +233,13 @@ def test_three_roots_inside_one_sample_spacing():
     assert_roots(result, [1.0, 1.0 + 1e-6, 1.0 + 2e-6], rel=1e-12)
 
 
+def test_double_root_hidden_beside_a_triple_root():
+    # (x - 1)^3 (x - 1.0005)^2: one sign change in one sample spacing, two roots
+    result = scan(lambda x: (x - 1.0) ** 3 * (x - 1.0005) ** 2, 0.0, 3.0)
+    assert_roots(result, [1.0, 1.0005], rel=1e-7)
+    assert [r.multiplicity for r in result.roots] == [3, 2]
+
+
 def test_near_double_roots_straddling_no_sample():
     # 1e-8 apart, both between two samples: found from the local minimum of |f|
     r0 = 1.2345678
