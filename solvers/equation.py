@@ -1,4 +1,4 @@
-"""Equation text -> checked sympy expression -> fast real-valued callables f and f'.
+r"""Equation text -> checked sympy expression -> fast real-valued callables f and f'.
 
 The user's text is untrusted. It is never handed to ``eval``, ``sympify`` or
 ``parse_expr``: a whitelist tokenizer splits it (ASCII numbers, ASCII names, the
@@ -38,10 +38,20 @@ Every refusal is an :class:`EquationError` (a ``ValueError``) with a one-line me
 columns from 1, as editors do). The text is at most ``MAX_LENGTH`` characters and
 nests at most ``MAX_DEPTH`` levels (parentheses, signs, exponents). Constant parts
 are evaluated in double precision as they are read: a constant that overflows,
-divides by zero or has no real value (``10^400``, ``1/0``, ``sqrt(-1)``,
-``9^9^9^9``) is refused where it stands, and exact integer powers are kept exact
-only for exponents up to ``MAX_EXACT_EXPONENT`` (then they are floats), so no giant
-integer is ever built.
+divides by zero or has no real value (``10^400``, ``1/0``, ``sqrt(-1)``, ``ln(0)``,
+``9^9^9^9``) is refused where it stands, before sympy sees it. In ``expr`` (and
+``symbolic_expr``) every constant part is then one double and only constant
+exponents stay exact integers (so ``x^2`` stays real for negative x): sympy rewrites
+such as ``exp(n*ln(c*x)) -> c^n x^n`` therefore never build giant exact integers.
+The typeset form is built separately, unevaluated, in the order typed (exact
+``2^{10}``, ``\pi``, ``\mathrm{deg}``). A symbolic derivative estimated at more than
+``2*MAX_DERIVATIVE_NODES`` nodes is not computed (Newton then differentiates
+numerically; ``notes`` says so).
+
+Known effects of sympy's automatic simplification, left as they are: ``x - x`` is 0,
+``sqrt(x)^2`` is x and ``exp(ln(x))`` is x (so these are defined for x < 0 too), and
+``(3x)^n`` becomes ``3^n x^n`` (which can give nan instead of inf where both factors
+overflow/underflow).
 
 Evaluation
 ----------
@@ -79,6 +89,7 @@ __all__ = [
     "Equation",
     "EquationError",
     "free_names",
+    "mathtext",
     "parse_equation",
 ]
 
@@ -337,20 +348,21 @@ def _is_bad(expr: Any) -> bool:
 class _Parser:
     """Recursive descent over the tokens, building sympy objects as it goes.
 
-    ``bindings`` maps a name to a constant ``_Node`` (parameters with values, pi, deg)
-    or to a sympy Symbol. In ``numeric`` mode every constant part becomes one Float
-    (or a small exact Integer), so no later sympy step evaluates anything big.
+    ``bindings`` maps a name to a constant ``_Node`` (parameters with values, pi, deg);
+    other names become real sympy Symbols. Every constant part becomes one Float (and a
+    constant exponent a small exact Integer when integral), so no later sympy step
+    evaluates anything big; ``display`` mode instead keeps the typed structure, built
+    unevaluated, for the typeset form only.
     """
 
     def __init__(self, text: str, tokens: list[_Token], bindings: Mapping[str, Any],
-                 numeric: bool):
+                 display: bool = False):
         self.text = text
         self.tokens = tokens
         self.i = 0
         self.depth = 0
         self.bindings = bindings
-        self.numeric = numeric
-        self.display = False  # set for the typeset form: sympy builds without evaluating
+        self.display = display  # the typeset form: sympy builds without evaluating
         self.names: list[str] = []
         self.first_pos: dict[str, int] = {}
         self.used: set[str] = set()  # functions and constants used, for notes
@@ -1081,7 +1093,7 @@ def _validate_parameters(parameters: Mapping[str, Any] | None) -> dict[str, floa
     return values
 
 
-def _read(text: Any, bindings: Mapping[str, Any], numeric: bool,
+def _read(text: Any, bindings: Mapping[str, Any],
           display: bool = False) -> tuple[_Parser, _Node, _Node | None]:
     if not isinstance(text, str):
         raise EquationError(f"equation text must be a string, got {type(text).__name__}")
@@ -1090,8 +1102,7 @@ def _read(text: Any, bindings: Mapping[str, Any], numeric: bool,
                             MAX_LENGTH)
     if not text.strip():
         raise EquationError("the equation is empty", None)
-    parser = _Parser(text, _tokenize(text), bindings, numeric)
-    parser.display = display
+    parser = _Parser(text, _tokenize(text), bindings, display)
     try:
         if display:
             with sp.evaluate(False):
@@ -1117,7 +1128,7 @@ def free_names(text: str) -> tuple[str, ...]:
     Functions and the constants pi and deg are not names. Raises :class:`EquationError`
     on text that does not parse.
     """
-    parser, _, _ = _read(text, _constant_bindings(), numeric=False)
+    parser, _, _ = _read(text, _constant_bindings())
     return tuple(parser.names)
 
 
@@ -1131,7 +1142,7 @@ def parse_equation(text: str, unknown: str | None = None,
     applies) for anything it cannot use; never evaluates user text as code.
     """
     values = _validate_parameters(parameters)
-    parser, lhs, rhs = _read(text, _constant_bindings(), numeric=False)
+    parser, lhs, rhs = _read(text, _constant_bindings())
     names = parser.names
     notes: list[str] = []
 
@@ -1172,7 +1183,7 @@ def parse_equation(text: str, unknown: str | None = None,
     bindings = _constant_bindings()
     bindings.update({n: _Node(sp.Float(v), v) for n, v in used.items()})
     try:
-        _, nlhs, nrhs = _read(text, bindings, numeric=True)
+        _, nlhs, nrhs = _read(text, bindings)
     except EquationError as err:
         if not used:
             raise
@@ -1223,7 +1234,7 @@ def _typeset(text: str, lhs: _Node, rhs: _Node | None) -> str:
     """LaTeX of the equation in the order it was typed (parameters by name); if that
     cannot be built, sympy's own ordering of the checked expression."""
     try:
-        _, shown_lhs, shown_rhs = _read(text, _constant_bindings(display=True), numeric=False,
+        _, shown_lhs, shown_rhs = _read(text, _constant_bindings(display=True),
                                         display=True)
         sides = [shown_lhs] if shown_rhs is None else [shown_lhs, shown_rhs]
         tex = [_latex(side.expr, as_typed=True) for side in sides]
