@@ -102,14 +102,15 @@ def test_cancel_stops_the_scan_and_restores_the_controls(qtbot, window, monkeypa
     window.inputs.set_field("from", 0.0)
     window.inputs.set_field("to", 100.0)
     assert window.start_scan()
-    assert not window.inputs.scan_button.isEnabled() and window.cancel_button.isVisible()
+    assert not window.inputs.scan_button.isEnabled() and window.cancel_button.isEnabled()
     assert not window.start_scan(), "a second scan while one runs is refused"
     qtbot.waitUntil(lambda: window.progress_updates >= 1, timeout=20_000)
     qtbot.mouseClick(window.cancel_button, Qt.MouseButton.LeftButton)
     qtbot.waitUntil(lambda: not window.runner.is_busy("scan"), timeout=10_000)
     assert window.scan_result is None
     assert "cancelled" in window.roots_summary.text()
-    assert not window.progress.isVisible() and not window.cancel_button.isVisible()
+    assert window.progress.value() == 0 and not window.cancel_button.isEnabled()
+    assert window.progress.format() == "no scan running"
     assert window.inputs.scan_button.isEnabled()
     updates = window.progress_updates
     qtbot.wait(200)

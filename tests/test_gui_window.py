@@ -194,11 +194,15 @@ def test_convergence_view_plots_every_method(qtbot, window):
     window.inputs.set_field("a", 2.0)
     window.inputs.set_field("b", 3.0)
     solution = solve_and_wait(qtbot, window)
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_2, Qt.KeyboardModifier.ControlModifier)
+    assert window.plot.currentWidget() is window.plot.convergence_view
     ax = window.plot.convergence_view.figure.axes[0]
     assert ax.get_yscale() == "log"
     labels = [line.get_label() for line in ax.get_lines()]
     assert len(labels) == len(solution.runs)
-    # The function view shows Newton's path by default and the curve itself.
+    # The function view (Ctrl+1) shows the curve itself.
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_1, Qt.KeyboardModifier.ControlModifier)
+    assert window.plot.currentWidget() is window.plot.function_view
     fax = window.plot.function_view.figure.axes[0]
     assert any(line.get_label() == "f(x)" for line in fax.get_lines())
 

@@ -46,7 +46,9 @@ class _FigureView(QWidget):
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.figure = Figure(figsize=(6, 3.2), dpi=100, layout="constrained")
+        # Fixed margins in pixels instead of a layout engine: constrained layout measured
+        # more than half of each redraw, and Solve must redraw in well under 0.1 s.
+        self.figure = Figure(figsize=(6, 3.2), dpi=100)
         self.canvas = FigureCanvasQTAgg(self.figure)
         self.canvas.setMinimumSize(320, 200)
         self.toolbar = NavigationToolbar2QT(self.canvas, self)
@@ -59,10 +61,39 @@ class _FigureView(QWidget):
         layout.addLayout(self.bar)
         layout.addWidget(self.canvas, 1)
         self.draws = 0
+        self.dirty = False
         self.canvas.mpl_connect("draw_event", self._count)
+        self.canvas.mpl_connect("resize_event", lambda _e: self.fit_margins())
 
     def _count(self, _event: Any) -> None:
         self.draws += 1
+
+    def fit_margins(self) -> None:
+        """Margins for tick labels and axis titles, in pixels, whatever the canvas size."""
+        width, height = self.figure.get_size_inches() * self.figure.dpi
+        if width < 50 or height < 50:
+            return
+        self.figure.subplots_adjust(left=min(0.3, 74 / width), right=1 - min(0.2, 14 / width),
+                                    bottom=min(0.35, 46 / height), top=1 - min(0.2, 12 / height))
+
+    def new_axes(self) -> Any:
+        self.figure.clear()
+        self.fit_margins()
+        return self.figure.add_subplot()
+
+    def redraw(self) -> None:
+        """Draw now if on screen; otherwise when the view is next shown."""
+        if self.isVisible():
+            self.dirty = False
+            self.canvas.draw_idle()
+        else:
+            self.dirty = True
+
+    def showEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        super().showEvent(event)
+        if self.dirty:
+            self.dirty = False
+            self.canvas.draw_idle()
 
 
 class PlotPanel(QTabWidget):
@@ -100,6 +131,8 @@ class PlotPanel(QTabWidget):
 
         self.addTab(self.function_view, "Function")
         self.addTab(self.convergence_view, "Convergence")
+        self._convergence_stale = True
+        self.currentChanged.connect(self._on_tab)
         self.path_box.activated.connect(self._on_path)
         self.quantity_box.activated.connect(lambda _i: self._draw_convergence())
 
@@ -118,6 +151,10 @@ class PlotPanel(QTabWidget):
         self.show_message("Type an equation, then press Solve (Ctrl+Return) or Scan range.")
         self._draw_convergence()
 
+    def _on_tab(self, _index: int) -> None:
+        if self.currentWidget() is self.convergence_view and self._convergence_stale:
+            self._draw_convergence()
+
     # -- content
     @property
     def ax(self) -> Any:
@@ -128,13 +165,11 @@ class PlotPanel(QTabWidget):
         return self.path_box.currentData() or None
 
     def show_message(self, text: str) -> None:
-        fig = self.function_view.figure
-        fig.clear()
-        ax = fig.add_subplot()
+        ax = self.function_view.new_axes()
         ax.set_axis_off()
         ax.text(0.5, 0.5, text, ha="center", va="center", color="#555555", wrap=True)
         self._f = None
-        self.function_view.canvas.draw_idle()
+        self.function_view.redraw()
 
     def show_function(self, f: Any, a: float, b: float, *, unknown: str = "x", scan: Any = None,
                       runs: Sequence[Run] = (), curve: figures.Curve | None = None) -> None:
@@ -178,9 +213,7 @@ class PlotPanel(QTabWidget):
     def _draw_function(self) -> None:
         if self._f is None or self._range is None:
             return
-        fig = self.function_view.figure
-        fig.clear()
-        ax = fig.add_subplot()
+        ax = self.function_view.new_axes()
         method = self.path_method()
         run = next((r for r in self._runs if r.method == method), None)
         a, b = self._range
@@ -192,14 +225,17 @@ class PlotPanel(QTabWidget):
             ax.set_axis_off()
             ax.text(0.5, 0.5, f"cannot draw: {exc}", ha="center", va="center")
         self._span = None
-        self.function_view.canvas.draw_idle()
+        self.function_view.redraw()
 
     def _draw_convergence(self) -> None:
-        fig = self.convergence_view.figure
-        fig.clear()
-        ax = fig.add_subplot()
+        # Built only when its tab is on screen: Solve then pays for one figure, not two.
+        if self.currentWidget() is not self.convergence_view:
+            self._convergence_stale = True
+            return
+        self._convergence_stale = False
+        ax = self.convergence_view.new_axes()
         figures.draw_convergence(ax, self._runs, quantity=self.quantity_box.currentData())
-        self.convergence_view.canvas.draw_idle()
+        self.convergence_view.redraw()
 
     # -- mouse picks
     def _active(self, event: Any) -> bool:

@@ -23,12 +23,11 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QPushButton,
     QScrollArea,
-    QSizePolicy,
     QVBoxLayout,
     QWidget,
 )
 
-from app.window.models import ParametersModel, number_font, parse_number
+from app.window.models import ParametersModel, fix_lines, number_font, parse_number
 from app.window.views import CopyTableView
 from solvers.worksheet import Settings
 
@@ -190,8 +189,7 @@ class InputsPanel(QWidget):
         self.problem_label.setObjectName("inputsProblems")
         self.problem_label.setWordWrap(True)
         self.problem_label.setStyleSheet("color: #8A2B00;")
-        self.problem_label.setSizePolicy(QSizePolicy.Policy.Preferred,
-                                         QSizePolicy.Policy.Minimum)
+        fix_lines(self.problem_label, 2)
 
         # The fields scroll on a small screen; the two actions below them never do.
         fields = QWidget()
@@ -234,7 +232,7 @@ class InputsPanel(QWidget):
             self.fields[spec.key] = field
 
     def _on_changed(self) -> None:
-        self.problem_label.setText("\n".join(self.problems()[:4]))
+        self.problem_label.setText("\n".join(self.problems()[:2]))
         if not self._loading:
             self.changed.emit()
 

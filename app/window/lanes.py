@@ -16,7 +16,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.window.models import DEFAULT_DIGITS, RunModel, format_number, number_font
+from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView
 from solvers.figures import method_color, method_label
 from solvers.result import REASON_TEXT, Run
@@ -64,10 +64,12 @@ class MethodLane(QFrame):
         self.verdict = QLabel("not run yet")
         self.verdict.setObjectName(f"verdict_{method}")
         self.verdict.setWordWrap(True)
+        fix_lines(self.verdict, 2)
         self.summary = QLabel("")
         self.summary.setObjectName(f"summary_{method}")
         self.summary.setFont(number_font())
         self.summary.setWordWrap(True)
+        fix_lines(self.summary, 2)
         self.summary.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.model = RunModel(self)
         self.table = CopyTableView()
@@ -96,13 +98,22 @@ class MethodLane(QFrame):
         self.model.set_run(run)
         for c in range(self.model.columnCount()):
             self.table.setColumnHidden(c, c in self.model.empty_columns())
-        self.table.resizeColumnsToContents()
+        self._size_columns()
         self._refresh()
+
+    def _size_columns(self) -> None:
+        # Widths from the number format, not from every cell (resizeColumnsToContents
+        # reads each cell and was a third of the time from Solve to a full screen).
+        metrics = self.table.fontMetrics()
+        number = metrics.horizontalAdvance("-0." + "8" * self._digits + "e-300") + 12
+        self.table.setColumnWidth(0, metrics.horizontalAdvance("8888") + 12)
+        for c in range(1, self.model.columnCount()):
+            self.table.setColumnWidth(c, number)
 
     def set_digits(self, digits: int) -> None:
         self._digits = digits
         self.model.set_digits(digits)
-        self.table.resizeColumnsToContents()
+        self._size_columns()
         self._refresh()
 
     def set_stale(self, stale: bool) -> None:
@@ -140,6 +151,7 @@ class LanesPanel(QWidget):
         self.agreement = QLabel("Press Solve (Ctrl+Return) to run the methods side by side.")
         self.agreement.setObjectName("agreementNote")
         self.agreement.setWordWrap(True)
+        fix_lines(self.agreement, 2)
         self.digits = QSpinBox()
         self.digits.setObjectName("digitsBox")
         self.digits.setRange(3, 17)

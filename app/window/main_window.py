@@ -33,17 +33,20 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.window import qtguard
 from app.window.canvas import PlotPanel
 from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextDialog
 from app.window.equation_strip import Analysis, EquationStrip, analyse
 from app.window.inputs import InputsPanel
 from app.window.lanes import LanesPanel
-from app.window.models import RootsModel, format_number
+from app.window.models import RootsModel, fix_lines, format_number
 from app.window.recovery import Recovered, RecoveryStore
 from app.window.views import CopyTableView
 from app.window.workers import JobRunner
 from solvers import figures, worksheet
 from solvers.worksheet import Parameter, Settings, Worksheet, WorksheetError
+
+qtguard.install()  # before any timer or signal runs (see the module for why)
 
 APP_NAME = "zerotrace"
 FILE_FILTER = "zerotrace worksheets (*.json);;All files (*)"
@@ -53,6 +56,7 @@ MAX_RECENT = 8
 AUTOSAVE_MS = 20_000
 DEFAULT_SAMPLE = "cooling-water-friction.json"
 BLANK = Worksheet(equation="")
+IDLE_FORMAT = "no scan running"
 
 
 def samples_dir() -> Path:
@@ -144,16 +148,18 @@ class MainWindow(QMainWindow):
         self.roots_summary = QLabel("No scan yet: set 'scan from' and 'scan to', then Scan range.")
         self.roots_summary.setObjectName("rootsSummary")
         self.roots_summary.setWordWrap(True)
+        fix_lines(self.roots_summary, 4)
         self.progress = QProgressBar()
         self.progress.setObjectName("scanProgress")
         self.progress.setRange(0, 1000)
         self.progress.setTextVisible(True)
-        self.progress.setFormat("scanning %p%")
-        self.progress.setVisible(False)
+        # The progress row is always there (idle when no scan runs): showing and hiding it
+        # would re-lay out the window and redraw the plot in the middle of a scan.
+        self.progress.setFormat(IDLE_FORMAT)
         self.cancel_button = QPushButton("Cancel")
         self.cancel_button.setObjectName("cancelScanButton")
         self.cancel_button.setToolTip("Stop the scan (Esc); earlier results are kept")
-        self.cancel_button.setVisible(False)
+        self.cancel_button.setEnabled(False)
         self.polish_button = QPushButton("&Polish selected root")
         self.polish_button.setObjectName("polishButton")
         progress_row = QHBoxLayout()
@@ -411,7 +417,7 @@ class MainWindow(QMainWindow):
             finally:
                 self._loading = loading
         self.strip.show_analysis(analysis)
-        self.inputs.problem_label.setText("\n".join(self.inputs.problems()[:4]))
+        self.inputs.problem_label.setText("\n".join(self.inputs.problems()[:2]))
         self._refresh_title()
         self._update_actions()
 
@@ -477,8 +483,6 @@ class MainWindow(QMainWindow):
         key = self._scan_key_of(ws)
         self.progress.setValue(0)
         self.progress.setFormat("scanning %p%")
-        self.progress.setVisible(True)
-        self.cancel_button.setVisible(True)
         self.cancel_button.setEnabled(True)
         self.progress_updates = 0
         self.roots_summary.setText(f"Scanning [{_num(ws.scan[0])}, {_num(ws.scan[1])}]…")
@@ -494,8 +498,9 @@ class MainWindow(QMainWindow):
         self.progress.setValue(int(round(1000 * min(max(fraction, 0.0), 1.0))))
 
     def _end_scan_ui(self) -> None:
-        self.progress.setVisible(False)
-        self.cancel_button.setVisible(False)
+        self.progress.setValue(0)
+        self.progress.setFormat(IDLE_FORMAT)
+        self.cancel_button.setEnabled(False)
 
     def _on_scanned(self, result: tuple[Any, Any, Any], ws: Worksheet, key: str) -> None:
         scan, equation, curve = result

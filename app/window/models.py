@@ -24,6 +24,15 @@ INVALID_FOREGROUND = QColor("#8A2B00")
 DEFAULT_DIGITS = 10
 
 
+def fix_lines(label: Any, lines: int) -> None:
+    """Give a changing, word-wrapped label a fixed height of ``lines`` lines.
+
+    A label that grows with its text re-lays out the window, which resizes and redraws
+    the plot; during a scan that showed up as a long pause of the UI thread.
+    """
+    label.setFixedHeight(label.fontMetrics().lineSpacing() * lines + 4)
+
+
 def number_font() -> QFont:
     font = QFontDatabase.systemFont(QFontDatabase.SystemFont.FixedFont)
     font.setStyleHint(QFont.StyleHint.Monospace)
