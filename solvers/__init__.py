@@ -14,7 +14,7 @@ from solvers.methods import (
     secant,
 )
 from solvers.result import REASONS, Run, Step, observed_order
-from solvers.scan import Root, Scan, scan
+from solvers.scan import Root, Scan, ScanCancelled, scan
 
 __all__ = [
     "METHODS",
@@ -24,6 +24,7 @@ __all__ = [
     "Root",
     "Run",
     "Scan",
+    "ScanCancelled",
     "Step",
     "bisection",
     "brent",
