@@ -12,18 +12,12 @@ calculation sheet. On the function view, with the toolbar's pan/zoom off:
 from __future__ import annotations
 
 import os
-from collections.abc import Sequence
+import threading
+from collections.abc import Callable, Sequence
 from typing import Any
 
-os.environ.setdefault("QT_API", "pyside6")
-
-from matplotlib.backends.backend_qtagg import (  # noqa: E402 (QT_API first)
-    FigureCanvasQTAgg,
-    NavigationToolbar2QT,
-)
-from matplotlib.figure import Figure  # noqa: E402
-from PySide6.QtCore import Signal  # noqa: E402
-from PySide6.QtWidgets import (  # noqa: E402
+from PySide6.QtCore import Qt, QTimer, Signal
+from PySide6.QtWidgets import (
     QComboBox,
     QHBoxLayout,
     QLabel,
@@ -32,8 +26,8 @@ from PySide6.QtWidgets import (  # noqa: E402
     QWidget,
 )
 
-from solvers import figures  # noqa: E402
-from solvers.result import Run  # noqa: E402
+from solvers import figures
+from solvers.result import Run
 
 HINT = ("Shift+click: x0   Shift+right-click: x1   Shift+drag: bracket [a, b]   "
         "(pan/zoom with the toolbar)")
@@ -41,29 +35,77 @@ HINT = ("Shift+click: x0   Shift+right-click: x1   Shift+drag: bracket [a, b]   
 _DRAG_FRACTION = 0.01
 
 
-class _FigureView(QWidget):
-    """A canvas with its navigation toolbar."""
+def _import_backend() -> None:
+    os.environ.setdefault("QT_API", "pyside6")
+    import matplotlib.backends.backend_qtagg  # noqa: F401 (warms the import only)
+    import matplotlib.figure  # noqa: F401
 
-    def __init__(self, parent: QWidget | None = None) -> None:
+
+class _FigureView(QWidget):
+    """A canvas with its navigation toolbar, built on first use.
+
+    matplotlib's Qt backend is the largest import the window has beyond Qt and sympy;
+    building the canvas after the window is on screen lets the window appear first.
+    ``figure``, ``canvas`` and ``toolbar`` build it when first touched.
+    """
+
+    def __init__(self, parent: QWidget | None = None,
+                 on_build: Callable[[_FigureView], None] | None = None) -> None:
         super().__init__(parent)
-        # Fixed margins in pixels instead of a layout engine: constrained layout measured
-        # more than half of each redraw, and Solve must redraw in well under 0.1 s.
-        self.figure = Figure(figsize=(6, 3.2), dpi=100)
-        self.canvas = FigureCanvasQTAgg(self.figure)
-        self.canvas.setMinimumSize(320, 200)
-        self.toolbar = NavigationToolbar2QT(self.canvas, self)
-        self.toolbar.setIconSize(self.toolbar.iconSize() * 0.8)
+        self._on_build = on_build
+        self._built: tuple[Any, Any, Any] | None = None
         self.bar = QHBoxLayout()
-        self.bar.addWidget(self.toolbar, 1)
-        layout = QVBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.setSpacing(0)
-        layout.addLayout(self.bar)
-        layout.addWidget(self.canvas, 1)
+        self.bar.addStretch(1)
+        self._placeholder = QLabel("preparing the plot…")
+        self._placeholder.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self._placeholder.setMinimumSize(320, 200)
+        self._layout = QVBoxLayout(self)
+        self._layout.setContentsMargins(0, 0, 0, 0)
+        self._layout.setSpacing(0)
+        self._layout.addLayout(self.bar)
+        self._layout.addWidget(self._placeholder, 1)
         self.draws = 0
         self.dirty = False
-        self.canvas.mpl_connect("draw_event", self._count)
-        self.canvas.mpl_connect("resize_event", lambda _e: self.fit_margins())
+
+    def ensure(self) -> tuple[Any, Any, Any]:
+        if self._built is None:
+            os.environ.setdefault("QT_API", "pyside6")
+            from matplotlib.backends.backend_qtagg import (
+                FigureCanvasQTAgg,
+                NavigationToolbar2QT,
+            )
+            from matplotlib.figure import Figure
+
+            # Fixed margins in pixels instead of a layout engine: constrained layout took
+            # more than half of each redraw, and Solve must redraw well under 0.1 s.
+            figure = Figure(figsize=(6, 3.2), dpi=100)
+            canvas = FigureCanvasQTAgg(figure)
+            canvas.setMinimumSize(320, 200)
+            toolbar = NavigationToolbar2QT(canvas, self)
+            toolbar.setIconSize(toolbar.iconSize() * 0.8)
+            stretch = self.bar.itemAt(0)
+            self.bar.removeItem(stretch)
+            self.bar.insertWidget(0, toolbar, 1)
+            self._layout.replaceWidget(self._placeholder, canvas)
+            self._placeholder.deleteLater()
+            self._built = (figure, canvas, toolbar)
+            canvas.mpl_connect("draw_event", self._count)
+            canvas.mpl_connect("resize_event", lambda _e: self.fit_margins())
+            if self._on_build is not None:
+                self._on_build(self)
+        return self._built
+
+    @property
+    def figure(self) -> Any:
+        return self.ensure()[0]
+
+    @property
+    def canvas(self) -> Any:
+        return self.ensure()[1]
+
+    @property
+    def toolbar(self) -> Any:
+        return self.ensure()[2]
 
     def _count(self, _event: Any) -> None:
         self.draws += 1
@@ -91,7 +133,7 @@ class _FigureView(QWidget):
 
     def showEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
         super().showEvent(event)
-        if self.dirty:
+        if self.dirty and self._built is not None:
             self.dirty = False
             self.canvas.draw_idle()
 
@@ -106,7 +148,7 @@ class PlotPanel(QTabWidget):
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.function_view = _FigureView()
+        self.function_view = _FigureView(on_build=self._connect_mouse)
         self.path_box = QComboBox()
         self.path_box.setObjectName("pathBox")
         self.path_box.setToolTip("Whose iterates are drawn over f")
@@ -144,12 +186,31 @@ class PlotPanel(QTabWidget):
         self._unknown = "x"
         self._press: tuple[float, int] | None = None
         self._span: Any = None
-        canvas = self.function_view.canvas
+        self._message = "Type an equation, then press Solve (Ctrl+Return) or Scan range."
+        # Import matplotlib's Qt backend in the background while the window comes up, then
+        # build the canvases on the UI thread (widgets must be made there).
+        self._importer = threading.Thread(target=_import_backend, name="zerotrace-mpl",
+                                          daemon=True)
+        self._importer.start()
+        self._poll = QTimer(self)
+        self._poll.setInterval(20)
+        self._poll.timeout.connect(self._build_views)
+        self._poll.start()
+
+    def _build_views(self) -> None:
+        if self._importer.is_alive():
+            return
+        self._poll.stop()
+        if self.function_view._built is None:
+            self.function_view.ensure()
+            if self._f is None:
+                self.show_message(self._message)
+
+    def _connect_mouse(self, view: _FigureView) -> None:
+        canvas = view.canvas
         canvas.mpl_connect("button_press_event", self._on_press)
         canvas.mpl_connect("motion_notify_event", self._on_motion)
         canvas.mpl_connect("button_release_event", self._on_release)
-        self.show_message("Type an equation, then press Solve (Ctrl+Return) or Scan range.")
-        self._draw_convergence()
 
     def _on_tab(self, _index: int) -> None:
         if self.currentWidget() is self.convergence_view and self._convergence_stale:
@@ -165,6 +226,10 @@ class PlotPanel(QTabWidget):
         return self.path_box.currentData() or None
 
     def show_message(self, text: str) -> None:
+        self._message = text
+        self._f = None
+        if self.function_view._built is None:
+            return  # drawn by _build_views once the window is up
         ax = self.function_view.new_axes()
         ax.set_axis_off()
         ax.text(0.5, 0.5, text, ha="center", va="center", color="#555555", wrap=True)
