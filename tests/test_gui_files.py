@@ -300,3 +300,59 @@ def test_main_opens_the_window_with_a_sample(qtbot, isolated, dialogs, monkeypat
     assert seen and seen[-1].strip.text() == sample.equation
     assert seen[-1].analysis.ok and seen[-1].analysis.unknown == "f"
     assert not seen[-1].isVisible()
+
+
+def test_a_failed_save_says_so_and_keeps_everything(qtbot, window, dialogs, tmp_path):
+    type_equation(qtbot, window, "x^2 - 5")
+    dialogs.save_name = str(tmp_path / "no such folder" / "w.json")
+    assert not window.save()
+    assert "Cannot save worksheet" in dialogs.titles("warning")[-1]
+    assert window.strip.text() == "x^2 - 5" and window.is_modified() and window.path is None
+    # An export to a folder that does not exist is refused the same way.
+    window.inputs.set_field("x0", 2.0)
+    solve_and_wait(qtbot, window)
+    dialogs.save_name = str(tmp_path / "no such folder" / "runs.csv")
+    assert not window.export_runs_csv()
+    assert "Cannot export" in dialogs.titles("warning")[-1]
+
+
+def test_the_calculation_sheet_is_written_in_the_background(qtbot, window, dialogs, tmp_path):
+    pypdf = pytest.importorskip("pypdf")
+    assert window.load_sample("pump-system-operating-point.json")
+    settle(qtbot, window)
+    solution = solve_and_wait(qtbot, window)
+    target = tmp_path / "sheet with spaces.pdf"
+    dialogs.save_name = str(target)
+    assert window.export_report()
+    qtbot.waitUntil(lambda: not window.runner.is_busy("report"), timeout=60_000)
+    assert window.report_result is not None, window.last_error
+    assert target.read_bytes()[:5] == b"%PDF-"
+    text = "".join(page.extract_text() for page in pypdf.PdfReader(str(target)).pages)
+    newton = next(r for r in solution.runs if r.method == "newton")
+    # The sheet shows the root the window showed (same Solution object, passed through).
+    assert f"{newton.root:.6g}"[:6] in text.replace(" ", "")
+
+
+def test_samples_menu_opens_each_sample_as_an_untitled_copy(qtbot, window):
+    window._fill_samples()
+    actions = window.samples_menu.actions()
+    assert len(actions) == len(list(SAMPLES.glob("*.json"))) >= 1
+    action = next(a for a in actions if "irr" in a.text())
+    action.trigger()
+    settle(qtbot, window)
+    assert window.path is None, "a sample opens as a copy: Save must ask where"
+    assert window.strip.text() == worksheet.load(SAMPLES / "project-irr.json").equation
+
+
+def test_results_are_marked_stale_when_inputs_change(qtbot, window):
+    type_equation(qtbot, window, "x^2 - a")
+    window.inputs.parameters.set_value("a", "2")
+    window.inputs.set_field("x0", 1.0)
+    qtbot.waitUntil(lambda: window.analysis.ok, timeout=10_000)
+    solve_and_wait(qtbot, window)
+    lane = window.lanes.lanes["newton"]
+    assert "converged" in lane.verdict.text() and lane.table.isEnabled()
+    window.inputs.parameters.set_value("a", "3")
+    assert "inputs changed" in lane.verdict.text() and not lane.table.isEnabled()
+    window.inputs.parameters.set_value("a", "2")  # back to what was solved
+    assert "converged" in lane.verdict.text()

@@ -771,6 +771,7 @@ class MainWindow(QMainWindow):
         return True
 
     def export_report(self) -> bool:
+        """Write the PDF calculation sheet in the background (solvers.report)."""
         try:
             from solvers import report
         except ImportError:
@@ -779,20 +780,45 @@ class MainWindow(QMainWindow):
         if self.inputs.problems():
             self._report(f"Cannot write the sheet yet: {self.inputs.problems()[0]}")
             return False
+        if self.runner.is_busy("report"):
+            self._report("A calculation sheet is already being written")
+            return False
         path = self._ask_output("Export calculation sheet", f"{self._stem()}.pdf", PDF_FILTER)
         if path is None:
             return False
         ws = self.solve_worksheet()
-        origin = str(self.path) if self.path is not None else None
-        kwargs = _accepted(report.write_report, worksheet_path=origin, overwrite=True)
+        # The sheet hashes the worksheet file it names: only name it when the file on
+        # disk is exactly what is on screen.
+        origin = str(self.path) if self.path is not None and not self.is_modified() else None
+        current = self.solution if self._solve_key == self._key(ws) else None
+        scan = self.scan_result if self._scan_key == self._scan_key_of(ws) else None
+        candidates: dict[str, Any] = {"worksheet_path": origin, "overwrite": True}
+        if current is not None:
+            candidates["solution"] = current
+        if scan is not None:
+            candidates["scan"] = scan
+        kwargs = _accepted(report.write_report, **candidates)
+        takes_progress = "progress" in _accepted(report.write_report, progress=None)
         self.statusBar().showMessage("Writing the calculation sheet…")
-        self.runner.submit(
-            "report", lambda _p, _c: report.write_report(ws, path, **kwargs),
-            on_done=lambda result: self.statusBar().showMessage(
-                f"Calculation sheet written to {getattr(result, 'pdf_path', path)}", 10000),
-            on_error=lambda message: QMessageBox.warning(
-                self, "Cannot write the calculation sheet", message),
-            supersede=False)
+        self.report_result: Any = None
+
+        def work(progress: Any, _cancel: Any) -> Any:
+            extra = {"progress": progress} if takes_progress else {}
+            return report.write_report(ws, path, **kwargs, **extra)
+
+        def done(result: Any) -> None:
+            self.report_result = result
+            self.statusBar().showMessage(
+                f"Calculation sheet written to {getattr(result, 'pdf_path', path)}", 10000)
+
+        def failed(message: str) -> None:
+            self.last_error = message
+            QMessageBox.warning(self, "Cannot write the calculation sheet",
+                                f"{path.name} was not written:\n{message}")
+
+        self.runner.submit("report", work, on_done=done, on_error=failed, supersede=False,
+                           on_progress=lambda v: self.statusBar().showMessage(
+                               f"Writing the calculation sheet… {int(100 * v)}%"))
         return True
 
     # ------------------------------------------------------------------ help
