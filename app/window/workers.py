@@ -26,6 +26,10 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QThread, Signal, Slot
 
+# Jobs that outlived JobRunner.stop(): referenced here so their QThread is never destroyed
+# while it runs (which would abort the process).
+_STILL_RUNNING: list[Any] = []
+
 Work = Callable[[Callable[[float], None], Callable[[], bool]], Any]
 
 
@@ -177,16 +181,22 @@ class JobRunner(QObject):
             return True
         return running.thread.wait(timeout_ms)
 
-    def stop(self, timeout_ms: int = 5000) -> None:
-        """Cancel every job and wait for its thread (closing the window calls this)."""
+    def stop(self, timeout_ms: int = 30_000) -> None:
+        """Cancel every job and wait for its thread (closing the window calls this).
+
+        A scan stops at its next chunk; a solve or a report cannot be interrupted and is
+        waited for. A thread still running after ``timeout_ms`` is kept referenced for
+        the life of the process, since destroying a running QThread aborts it.
+        """
         self._closing = True
         self._pending.clear()
         for running in list(self._running.values()):
             running.cancel.set()
         for lane, running in list(self._running.items()):
             running.thread.quit()
-            if running.thread.wait(timeout_ms):
-                del self._running[lane]
+            if not running.thread.wait(timeout_ms):
+                _STILL_RUNNING.append(running)
+            del self._running[lane]
 
     # -- internals
     def _start(self, lane: str, request: _Request) -> None:
