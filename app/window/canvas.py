@@ -115,7 +115,7 @@ class _FigureView(QWidget):
         width, height = self.figure.get_size_inches() * self.figure.dpi
         if width < 50 or height < 50:
             return
-        self.figure.subplots_adjust(left=min(0.3, 74 / width), right=1 - min(0.2, 14 / width),
+        self.figure.subplots_adjust(left=min(0.3, 74 / width), right=1 - min(0.2, 26 / width),
                                     bottom=min(0.35, 46 / height), top=1 - min(0.2, 12 / height))
 
     def new_axes(self) -> Any:

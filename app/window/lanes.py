@@ -105,7 +105,7 @@ class MethodLane(QFrame):
         # Widths from the number format, not from every cell (resizeColumnsToContents
         # reads each cell and was a third of the time from Solve to a full screen).
         metrics = self.table.fontMetrics()
-        number = metrics.horizontalAdvance("-0." + "8" * self._digits + "e-300") + 12
+        number = metrics.horizontalAdvance("-8." + "8" * (self._digits - 1) + "e-100") + 10
         self.table.setColumnWidth(0, metrics.horizontalAdvance("8888") + 12)
         for c in range(1, self.model.columnCount()):
             self.table.setColumnWidth(c, number)
