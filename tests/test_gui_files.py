@@ -22,6 +22,8 @@ pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import SAMPLES, settle, solve_and_wait, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
+# matplotlib's Qt toolbar asks Qt about a deprecated attribute on every canvas: not ours.
+pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
 Button = QMessageBox.StandardButton
 
 
@@ -356,3 +358,25 @@ def test_results_are_marked_stale_when_inputs_change(qtbot, window):
     assert "inputs changed" in lane.verdict.text() and not lane.table.isEnabled()
     window.inputs.parameters.set_value("a", "2")  # back to what was solved
     assert "converged" in lane.verdict.text()
+
+
+def test_a_scanned_root_taken_as_design_value_is_saved_with_its_reason(qtbot, window,
+                                                                        dialogs, tmp_path):
+    type_equation(qtbot, window, "(x - 1)*(x - 2)*(x - 4)")
+    window.inputs.set_field("from", 0.0)
+    window.inputs.set_field("to", 5.0)
+    scan = _scan_and_wait(qtbot, window)
+    window.roots_view.selectRow(1)
+    qtbot.keyClick(window.roots_view, Qt.Key.Key_D, Qt.KeyboardModifier.ControlModifier)
+    selection = window.worksheet().selection
+    assert selection is not None and selection.root == scan.roots[1].x
+    assert selection.root == pytest.approx(2.0, abs=1e-12)  # the middle factor's zero
+    assert "root 2 of 3" in selection.reason
+    assert "Design value: 2" in window.design_label.text()
+    dialogs.save_name = str(tmp_path / "design.json")
+    assert window.save()
+    assert worksheet.load(tmp_path / "design.json").selection == selection
+    # A scan made stale by an edit cannot supply the design value.
+    window.inputs.set_field("to", 6.0)
+    assert not window.roots_view.isEnabled()
+    assert "Inputs changed since this scan" in window.roots_summary.text()

@@ -19,6 +19,8 @@ pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import idle, settle, solve_and_wait, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
+# matplotlib's Qt toolbar asks Qt about a deprecated attribute on every canvas: not ours.
+pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
 
 
 def test_window_constructs_without_arguments_and_fits_1280_by_800(qtbot, isolated):

@@ -13,7 +13,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from solvers.worksheet import CalcInfo, Worksheet
+from solvers.worksheet import CalcInfo, Selection, Worksheet
 
 CAUTION = ("Check the equation, inputs and units. Results need review by a qualified "
            "engineer; local codes and licensed practice govern.")
@@ -105,6 +105,11 @@ class CalcDialog(QDialog):
         self.checked = QLineEdit(ws.calc.checked_by)
         self.notes = QPlainTextEdit(ws.notes)
         self.notes.setTabChangesFocus(True)
+        self.selection = ws.selection
+        self.reason = QLineEdit(ws.selection.reason if ws.selection else "")
+        self.reason.setEnabled(ws.selection is not None)
+        self.reason.setPlaceholderText("take a root as the design value first (Ctrl+D)"
+                                       if ws.selection is None else "")
         form = QFormLayout()
         form.addRow("&Title", self.title)
         form.addRow("Calculation &number", self.number)
@@ -112,6 +117,7 @@ class CalcDialog(QDialog):
         form.addRow("&Prepared by", self.prepared)
         form.addRow("C&hecked by", self.checked)
         form.addRow("N&otes", self.notes)
+        form.addRow("Why this &design value", self.reason)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
                                    | QDialogButtonBox.StandardButton.Cancel)
         buttons.accepted.connect(self.accept)
@@ -122,7 +128,11 @@ class CalcDialog(QDialog):
         self.resize(520, 380)
 
     def apply(self, ws: Worksheet) -> Worksheet:
+        selection = ws.selection
+        if selection is not None:
+            selection = Selection(selection.root, self.reason.text())
         return ws.with_changes(
+            selection=selection,
             title=self.title.text(),
             notes=self.notes.toPlainText(),
             calc=CalcInfo(self.number.text(), self.revision.text(), self.prepared.text(),

@@ -39,12 +39,12 @@ from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextD
 from app.window.equation_strip import Analysis, EquationStrip, analyse
 from app.window.inputs import InputsPanel
 from app.window.lanes import LanesPanel
-from app.window.models import RootsModel, fix_lines, format_number
+from app.window.models import RootsModel, fix_lines, format_number, number_font
 from app.window.recovery import Recovered, RecoveryStore
 from app.window.views import CopyTableView
 from app.window.workers import JobRunner
 from solvers import figures, worksheet
-from solvers.worksheet import Parameter, Settings, Worksheet, WorksheetError
+from solvers.worksheet import Parameter, Selection, Settings, Worksheet, WorksheetError
 
 qtguard.install()  # before any timer or signal runs (see the module for why)
 
@@ -160,7 +160,7 @@ class MainWindow(QMainWindow):
         self.cancel_button.setObjectName("cancelScanButton")
         self.cancel_button.setToolTip("Stop the scan (Esc); earlier results are kept")
         self.cancel_button.setEnabled(False)
-        self.polish_button = QPushButton("&Polish selected root")
+        self.polish_button = QPushButton("&Polish")
         self.polish_button.setObjectName("polishButton")
         progress_row = QHBoxLayout()
         progress_row.addWidget(self.progress, 1)
@@ -171,7 +171,21 @@ class MainWindow(QMainWindow):
         roots_layout.addWidget(self.roots_summary)
         roots_layout.addLayout(progress_row)
         roots_layout.addWidget(self.roots_view, 1)
-        roots_layout.addWidget(self.polish_button)
+        self.design_button = QPushButton("Take as &design value")
+        self.design_button.setObjectName("designButton")
+        self.design_button.setToolTip("Record the selected root as the design value, with "
+                                      "how it was chosen (Ctrl+D); shown on the calculation "
+                                      "sheet")
+        self.design_label = QLabel("Design value: none chosen")
+        self.design_label.setObjectName("designLabel")
+        self.design_label.setFont(number_font())
+        self.design_label.setWordWrap(True)
+        fix_lines(self.design_label, 2)
+        buttons_row = QHBoxLayout()
+        buttons_row.addWidget(self.polish_button)
+        buttons_row.addWidget(self.design_button)
+        roots_layout.addLayout(buttons_row)
+        roots_layout.addWidget(self.design_label)
         roots_box.setMinimumWidth(250)
 
         self.middle = QSplitter(Qt.Orientation.Horizontal)
@@ -239,6 +253,9 @@ class MainWindow(QMainWindow):
                                         "Find every root, pole and jump in the scan range")
         self.cancel_action = self._action("&Cancel scan", self.cancel_scan, "Esc")
         self.polish_action = self._action("&Polish selected root", self.polish_selected)
+        self.design_action = self._action(
+            "Take as &design value", self.take_design_value, "Ctrl+D",
+            "Record the selected root (or the converged root) as the design value")
         self.function_view_action = self._action(
             "&Function plot", lambda: self.plot.setCurrentIndex(0), "Ctrl+1")
         self.convergence_view_action = self._action(
@@ -267,7 +284,7 @@ class MainWindow(QMainWindow):
         edit_menu.addAction(self.calc_action)
         run_menu = bar.addMenu("&Run")
         run_menu.addActions([self.solve_action, self.scan_action, self.cancel_action,
-                             self.polish_action])
+                             self.polish_action, self.design_action])
         view_menu = bar.addMenu("&View")
         view_menu.addActions([self.function_view_action, self.convergence_view_action])
         view_menu.addSeparator()
@@ -288,6 +305,7 @@ class MainWindow(QMainWindow):
         self.inputs.scan_button.clicked.connect(self.start_scan)
         self.cancel_button.clicked.connect(self.cancel_scan)
         self.polish_button.clicked.connect(self.polish_selected)
+        self.design_button.clicked.connect(self.take_design_value)
         self.roots_view.activated.connect(lambda index: self.polish_row(index.row()))
         self.plot.x0_picked.connect(lambda x: self._pick("x0", x))
         self.plot.x1_picked.connect(lambda x: self._pick("x1", x))
@@ -356,6 +374,9 @@ class MainWindow(QMainWindow):
                                        "No scan range: set 'scan from' and 'scan to'.")
             self.plot.set_runs(())
             self.plot.show_message("Press Solve (Ctrl+Return) or Scan range to draw f.")
+            self.roots_view.setEnabled(True)
+            self.polish_button.setEnabled(True)
+            self._show_design_value()
         finally:
             self._loading = False
         self._saved_text = "" if modified else worksheet.dumps(self.worksheet())
@@ -392,8 +413,17 @@ class MainWindow(QMainWindow):
         return self._key(ws.with_changes(settings=Settings()))
 
     def _mark_stale(self) -> None:
+        ws = self.solve_worksheet()
         if self.solution is not None:
-            self.lanes.set_stale(self._key(self.solve_worksheet()) != self._solve_key)
+            self.lanes.set_stale(self._key(ws) != self._solve_key)
+        if self.scan_result is not None:
+            stale = self._scan_key_of(ws) != self._scan_key
+            self.roots_view.setEnabled(not stale)
+            self.polish_button.setEnabled(not stale)
+            text = scan_summary(self.scan_result, self.scan_equation.unknown)
+            if stale:
+                text = "Inputs changed since this scan: press Scan range.\n" + text
+            self.roots_summary.setText(text)
 
     # ------------------------------------------------------------------ live analysis
     def request_analysis(self) -> None:
@@ -507,6 +537,8 @@ class MainWindow(QMainWindow):
         self._end_scan_ui()
         self.scan_result, self.scan_equation, self._scan_key = scan, equation, key
         self.roots_model.set_rows(scan.roots)
+        self.roots_view.setEnabled(True)
+        self.polish_button.setEnabled(True)
         self.roots_view.resizeColumnsToContents()
         self.roots_summary.setText(scan_summary(scan, equation.unknown))
         runs = self.solution.runs if self.solution is not None and \
@@ -568,6 +600,42 @@ class MainWindow(QMainWindow):
         self.runner.submit("solve", lambda _p, _c: _polish_job(ws, x, scan),
                            on_done=done, on_error=self._on_solve_error)
         return True
+
+    # ------------------------------------------------------------------ design value
+    def take_design_value(self) -> bool:
+        """Record the chosen root (roots list first, else the converged root) and why."""
+        rows = self.roots_view.selectionModel().selectedRows()
+        if rows and self.scan_result is not None and self.roots_view.isEnabled():
+            i = rows[0].row()
+            root = self.roots_model.root(i)
+            scan = self.scan_result
+            x = root.x
+            reason = (f"root {i + 1} of {len(scan.roots)} found by the scan of "
+                      f"[{_num(scan.a)}, {_num(scan.b)}] ({getattr(root, 'confirmed', '')})")
+        elif self.solution is not None and self.solution.converged_runs and \
+                self._solve_key == self._key(self.solve_worksheet()):
+            run = self.solution.converged_runs[0]
+            x = run.root
+            reason = (f"converged root of {figures.method_label(run.method)}; "
+                      f"methods agree to {self.solution.agreement_digits} significant figures")
+        else:
+            self._report("Nothing to take: select a root of the scan, or solve first")
+            return False
+        self._doc = self._doc.with_changes(selection=Selection(float(x), reason))
+        self._touched = True
+        self._show_design_value()
+        self._refresh_title()
+        self.statusBar().showMessage(f"Design value set to {_num(x)}", 8000)
+        return True
+
+    def _show_design_value(self) -> None:
+        sel = self._doc.selection
+        if sel is None:
+            self.design_label.setText("Design value: none chosen")
+            self.design_label.setToolTip("")
+        else:
+            self.design_label.setText(f"Design value: {format_number(sel.root, 12)}")
+            self.design_label.setToolTip(f"{sel.root!r}\n{sel.reason}")
 
     # ------------------------------------------------------------------ plot picks
     def _pick(self, key: str, x: float) -> None:
