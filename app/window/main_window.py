@@ -148,7 +148,7 @@ class MainWindow(QMainWindow):
         self.roots_summary = QLabel("No scan yet: set 'scan from' and 'scan to', then Scan range.")
         self.roots_summary.setObjectName("rootsSummary")
         self.roots_summary.setWordWrap(True)
-        fix_lines(self.roots_summary, 4)
+        fix_lines(self.roots_summary, 5)
         self.progress = QProgressBar()
         self.progress.setObjectName("scanProgress")
         self.progress.setRange(0, 1000)
@@ -422,7 +422,7 @@ class MainWindow(QMainWindow):
             self.polish_button.setEnabled(not stale)
             text = scan_summary(self.scan_result, self.scan_equation.unknown)
             if stale:
-                text = "Inputs changed since this scan: press Scan range.\n" + text
+                text = "⚠ Inputs changed since this scan: scan again.\n" + text
             self.roots_summary.setText(text)
 
     # ------------------------------------------------------------------ live analysis
@@ -1001,6 +1001,10 @@ def _num(x: float) -> str:
     return format_number(x, 8)
 
 
+def _short(x: float) -> str:
+    return format_number(x, 6)
+
+
 def scan_summary(scan: Any, unknown: str) -> str:
     roots = len(scan.roots)
     parts = [f"{roots} root{'s' if roots != 1 else ''} of f({unknown}) in "
@@ -1008,11 +1012,11 @@ def scan_summary(scan: Any, unknown: str) -> str:
     poles = list(scan.poles)
     if poles:
         parts.append(f"{len(poles)} pole{'s' if len(poles) != 1 else ''} at "
-                     + ", ".join(_num(p) for p in poles[:6]) + ("…" if len(poles) > 6 else ""))
+                     + ", ".join(_short(p) for p in poles[:4]) + ("…" if len(poles) > 4 else ""))
     jumps = list(getattr(scan, "discontinuities", []) or [])
     if jumps:
         parts.append(f"{len(jumps)} jump{'s' if len(jumps) != 1 else ''} at "
-                     + ", ".join(_num(p) for p in jumps[:6]))
+                     + ", ".join(_short(p) for p in jumps[:4]) + ("…" if len(jumps) > 4 else ""))
     gaps = list(getattr(scan, "gaps", []) or [])
     if gaps:
         parts.append(f"undefined on {len(gaps)} stretch{'es' if len(gaps) != 1 else ''}")
