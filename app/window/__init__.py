@@ -14,7 +14,6 @@ and runs the event loop. Modules:
 * ``workers``   QThread job runner (progress, cancel, newest-request-wins)
 * ``recovery``  autosave of unsaved work, offered at the next start
 * ``dialogs``   help, about (with the safety caution), calculation details
-* ``qtguard``   works around a PySide6 6.12 reference-count defect on CPython 3.11
 
 ``app/gui_screenshots.py`` grabs the window at its main states (docs/screenshots).
 """

@@ -33,7 +33,6 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.window import qtguard
 from app.window.canvas import PlotPanel
 from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextDialog
 from app.window.equation_strip import Analysis, EquationStrip, analyse
@@ -45,8 +44,6 @@ from app.window.views import CopyTableView
 from app.window.workers import JobRunner
 from solvers import figures, worksheet
 from solvers.worksheet import Parameter, Selection, Settings, Worksheet, WorksheetError
-
-qtguard.install()  # before any timer or signal runs (see the module for why)
 
 APP_NAME = "zerotrace"
 FILE_FILTER = "zerotrace worksheets (*.json);;All files (*)"
