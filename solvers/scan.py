@@ -65,6 +65,7 @@ from __future__ import annotations
 
 import bisect
 import collections
+import functools
 import itertools
 import math
 import warnings as _warnings
@@ -99,12 +100,43 @@ class ScanCancelled(Exception):
     """Raised by :func:`scan` when ``cancel()`` returned True."""
 
 
+class _OnDemandRun:
+    """``Root.run``: a :class:`Run`, or a zero-argument callable that makes one.
+
+    A data descriptor used as the dataclass field's default (see "descriptor-typed
+    fields" in the dataclasses documentation): the field is set as usual, but a
+    callable stored there is called on first read and its Run kept. The scan refines
+    all roots at once (vectorised); the per-root Brent record is only built for the
+    roots somebody looks at.
+    """
+
+    def __set_name__(self, owner: type, name: str) -> None:
+        self.slot = "_" + name
+
+    def __get__(self, obj: object, objtype: type | None = None) -> Run | None:
+        if obj is None:
+            return None  # the field's default
+        value = obj.__dict__.get(self.slot)
+        if callable(value):
+            value = value()
+            obj.__dict__[self.slot] = value
+        return value
+
+    def __set__(self, obj: object, value: object) -> None:
+        obj.__dict__[self.slot] = value
+
+    def raw(self, obj: object) -> object:
+        """The stored value without building the Run (to copy a Root cheaply)."""
+        return obj.__dict__.get(self.slot)
+
+
 @dataclass(frozen=True)
 class Root:
     """One root of f. ``residual`` is f(x). ``confirmed`` says how it was confirmed,
     ``located_by`` which locator(s) found it ("sampling", "chebyshev"). ``bracket`` is the
-    sign-change bracket Brent refined (None for touches and edges); ``run`` is that Brent
-    run (or Brent on f' for a touch), None when no Brent run produced the root."""
+    sign-change bracket between samples (None for touches and edges); ``run`` is the
+    project's Brent (:func:`solvers.methods.brent`) on that bracket, built when first
+    read (or Brent on f' for a touch), None when no Brent run belongs to the root."""
 
     x: float
     residual: float
@@ -112,7 +144,13 @@ class Root:
     confirmed: str = ""
     located_by: tuple[str, ...] = ("sampling",)
     bracket: tuple[float, float] | None = None
-    run: Run | None = None
+    run: Run | None = _OnDemandRun()  # type: ignore[assignment]
+
+
+def _relabel(r: Root, located_by: tuple[str, ...]) -> Root:
+    """r with another ``located_by``, its on-demand Brent run left unbuilt."""
+    return Root(r.x, r.residual, r.multiplicity, r.confirmed, located_by, r.bracket,
+                Root.__dict__["run"].raw(r))
 
 
 @dataclass(frozen=True)
@@ -446,6 +484,147 @@ def _classify(g: _Guarded, br: np.ndarray, xtol: float):
     return kind, lo, hi, flo, fhi
 
 
+_RTOL = 4 * EPS  # relative bracket-width tolerance of every refinement (Brent's stop rule)
+
+
+def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
+    """Anderson–Björck on every sign-change bracket at once: one f call per iteration.
+
+    br has rows (lo, hi, f(lo), f(hi)) with f(lo), f(hi) finite, nonzero, of opposite
+    sign. Each bracket is shrunk by false position with the Anderson–Björck weight on
+    the end held twice running (N. Anderson and Å. Björck, BIT 12 (1972) 503-508), a
+    bisection whenever three iterations failed to halve the bracket, and a least step of
+    half the tolerance (as in Brent's method) so both ends close in. It stops when
+    ``hi - lo <= xtol + 4 eps max(|lo|, |hi|)``, Brent's stop rule, or at an exact zero.
+
+    Returns (done, lo, hi, flo, fhi): ``done`` marks brackets that converged (lo == hi
+    at an exact zero); the others met NaN/inf inside or hit ``max_iter`` and are left
+    to :func:`_classify`.
+    """
+    count = len(br)
+    lo_out, hi_out = br[:, 0].astype(float).copy(), br[:, 1].astype(float).copy()
+    flo_out, fhi_out = br[:, 2].astype(float).copy(), br[:, 3].astype(float).copy()
+    done = np.zeros(count, dtype=bool)
+    # working copies of the brackets still shrinking (compressed as brackets finish)
+    idx = np.arange(count)
+    lo, hi, flo, fhi = lo_out.copy(), hi_out.copy(), flo_out.copy(), fhi_out.copy()
+    wlo, whi = flo.copy(), fhi.copy()  # false-position weights (scaled f at held ends)
+    last = np.zeros(count, dtype=np.int8)  # end replaced last: -1 lo, +1 hi, 0 none yet
+    w1 = np.full(count, np.inf)  # bracket widths one, two and three iterations back
+    w2 = np.full(count, np.inf)
+    w3 = np.full(count, np.inf)
+    for it in range(max_iter + 1):
+        width = hi - lo
+        tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
+        finished = width <= tol
+        if finished.any():
+            k = idx[finished]
+            done[k] = True
+            lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
+                                                            flo[finished], fhi[finished])
+            keep = ~finished
+            idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, width, tol = (
+                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, width, tol))
+        if idx.size == 0 or it == max_iter:
+            break
+        if it % 4 == 0:
+            g.check()
+        t = wlo / (wlo - whi)  # where the chord through the weighted ends meets zero
+        t = np.where((width > 0.5 * w3) | ~(t > 0) | ~(t < 1), 0.5, t)
+        half = 0.5 * tol
+        x = np.minimum(np.maximum(lo + t * width, lo + half), hi - half)
+        fx = g(x)
+        w3, w2, w1 = w2, w1, width
+        bad = ~np.isfinite(fx)
+        zero = fx == 0
+        if bad.any() or zero.any():
+            k = idx[zero]
+            done[k] = True
+            lo_out[k] = hi_out[k] = x[zero]
+            flo_out[k] = fhi_out[k] = 0.0
+            k = idx[bad]  # NaN/inf inside: a pole, a hole; _classify decides from the start
+            keep = ~(bad | zero)
+            idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, x, fx = (
+                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, x, fx))
+        on_lo = np.signbit(fx) == np.signbit(flo)  # x replaces lo; hi is held
+        on_hi = ~on_lo
+        # Anderson–Björck: the end held for the second time running is weighted by
+        # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
+        with np.errstate(all="ignore"):
+            m = np.where(on_lo, 1.0 - fx / flo, 1.0 - fx / fhi)
+        m = np.where(m > 0, m, 0.5)
+        whi = np.where(on_lo & (last == -1), whi * m, whi)
+        wlo = np.where(on_hi & (last == 1), wlo * m, wlo)
+        lo, flo, wlo = np.where(on_lo, x, lo), np.where(on_lo, fx, flo), np.where(on_lo, fx, wlo)
+        hi, fhi, whi = np.where(on_hi, x, hi), np.where(on_hi, fx, fhi), np.where(on_hi, fx, whi)
+        last = np.where(on_lo, -1, 1).astype(np.int8)
+    return done, lo_out, hi_out, flo_out, fhi_out
+
+
+def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: float):
+    """Roots, poles and jumps of sign-change brackets (rows lo, hi, f(lo), f(hi)).
+
+    All brackets are refined at once by :func:`_bracket_all`; a converged bracket whose
+    ends' |f| fell to 1e-6 of the sampled |f| is a root (the end of smaller |f|, then one
+    vectorised Newton step with f' where that lowers |f|). Every other bracket (|f| not
+    falling: a pole or a jump; NaN inside; no convergence) is decided by
+    :func:`_classify` from its original ends, as before. Returns (found, poles, jumps,
+    undefined) with ``undefined`` the rows whose inside is partly undefined.
+    """
+    done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
+    g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
+    root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
+    x = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
+    how = np.full(len(br), "sign change, Anderson-Bjorck bracketing", dtype=object)
+    how[root & (lo == hi)] = "sign change; f exactly zero at an iterate"
+    if gp is not None and root.any():
+        ir = np.flatnonzero(root & (lo != hi))
+        xr = x[ir]
+        fx, dfx = g(xr), gp(xr)
+        with np.errstate(all="ignore"):
+            xn = xr - fx / dfx
+        ok = np.isfinite(dfx) & (dfx != 0) & np.isfinite(fx) & (fx != 0)
+        ok &= (lo[ir] <= xn) & (xn <= hi[ir])
+        if ok.any():
+            better = np.zeros(len(ir), dtype=bool)
+            better[ok] = np.abs(g(xn[ok])) < np.abs(fx[ok])
+            x[ir[better]] = xn[better]
+            how[ir[better]] = how[ir[better]] + ", Newton polish with f'"
+    found = [
+        _Found(float(x[i]), True, str(how[i]), bracket=(float(br[i, 0]), float(br[i, 1])),
+               run=functools.partial(_brent_record, g, br[i], xtol))
+        for i in np.flatnonzero(root)
+    ]
+    poles: list[float] = []
+    jumps: list[float] = []
+    undefined: list[int] = []
+    rest = np.flatnonzero(~root)
+    if rest.size:
+        kind, clo, chi, cflo, cfhi = _classify(g, br[rest], xtol)
+        for j, i in enumerate(rest):
+            if kind[j] == _ROOT:  # (|f| fell, but the fast iteration met NaN on the way)
+                found.append(_refine(g, gp, br[i], clo[j], chi[j], cflo[j], cfhi[j], xtol))
+            elif kind[j] == _POLE:
+                poles.append(float(0.5 * (clo[j] + chi[j])))
+            elif kind[j] == _JUMP:
+                jumps.append(float(0.5 * (clo[j] + chi[j])))
+            else:
+                undefined.append(int(i))
+    return found, poles, jumps, undefined
+
+
+def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run:
+    """The project's Brent on one sample bracket (its ends' f values already known)."""
+    known = {float(row[0]): float(row[2]), float(row[1]): float(row[3])}
+
+    def f_known(x: float) -> float:
+        value = known.pop(x, None)
+        return g.scalar(x) if value is None else value
+
+    return brent(f_known, float(row[0]), float(row[1]), xtol=xtol, rtol=_RTOL, ftol=0.0,
+                 max_iter=200)
+
+
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
             *, peak: bool = False):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
@@ -580,7 +759,7 @@ class _Found:
     odd: bool
     how: str
     bracket: tuple[float, float] | None = None
-    run: Run | None = None
+    run: Run | Callable[[], Run] | None = None  # a callable: Root.run built on demand
     located_by: tuple[str, ...] = ("sampling",)
 
 
@@ -699,18 +878,13 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         progress(0.85)
     if brackets:
         br = np.array(brackets, dtype=float)
-        kind, lo, hi, flo, fhi = _classify(g, br, xtol)
-        for i in range(len(br)):
-            g.check()
-            if kind[i] == _ROOT:
-                found.append(_refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol))
-            elif kind[i] == _POLE:
-                poles.append(float(0.5 * (lo[i] + hi[i])))
-            elif kind[i] == _JUMP:
-                jumps.append(float(0.5 * (lo[i] + hi[i])))
-            else:
-                notes.append(f"f undefined somewhere inside [{br[i, 0]:.6g}, {br[i, 1]:.6g}] "
-                             "between two samples of opposite sign")
+        roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol)
+        found += roots_here
+        poles += poles_here
+        jumps += jumps_here
+        for i in undefined:
+            notes.append(f"f undefined somewhere inside [{br[i, 0]:.6g}, {br[i, 1]:.6g}] "
+                         "between two samples of opposite sign")
     gaps, edge_roots, edge_poles = _domains(g, cand, a, b, h, xtol, scale)
     found.extend(edge_roots)
     poles.extend(edge_poles)
@@ -1027,10 +1201,7 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
             for i in rest[touch]:
                 found.append(_touch(g, gp, pr[i, 0], pr[i, 1], float(xb[i]), xtol))
     if brackets:
-        br = np.array(brackets, dtype=float)
-        kind, lo, hi, flo, fhi = _classify(g, br, xtol)
-        found += [_refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol)
-                  for i in np.flatnonzero(kind == _ROOT)]
+        found += _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]
     return found
 
 
@@ -1133,9 +1304,7 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         for i in members:
             r = roots[i]
             if np.any(hit):
-                out.append(Root(r.x, r.residual, r.multiplicity, r.confirmed,
-                                tuple(dict.fromkeys(r.located_by + ("chebyshev",))),
-                                r.bracket, r.run))
+                out.append(_relabel(r, tuple(dict.fromkeys(r.located_by + ("chebyshev",)))))
             else:
                 out.append(r)
                 notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by "
@@ -1197,10 +1366,7 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
                     r.located_by = ("chebyshev",)
                     found.append(r)
         if brackets:
-            br = np.array(brackets, dtype=float)
-            kind, lo, hi, flo, fhi = _classify(g, br, xtol)
-            for i in np.nonzero(kind == _ROOT)[0]:
-                r = _refine(g, gp, br[i], lo[i], hi[i], flo[i], fhi[i], xtol)
+            for r in _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]:
                 r.located_by = ("chebyshev",)
                 found.append(r)
         if found:

@@ -45,8 +45,12 @@ def test_cantilever_beam_frequency_equation():
         assert r.x == pytest.approx(ref, rel=4e-15)  # mpmath.findroot reference
         assert r.multiplicity == 1
         assert r.located_by == ("sampling", "chebyshev")
-        assert r.confirmed.startswith("sign change, Brent")
+        assert r.confirmed.startswith("sign change, Anderson-Bjorck")
+        # the project's Brent on the same sample bracket, built on demand, agrees with the
+        # vectorised refinement to the shared stop rule (bracket width <= xtol + 4 eps |x|)
         assert r.run is not None and r.run.method == "brent" and r.run.converged
+        assert r.bracket is not None and r.bracket[0] <= r.run.root <= r.bracket[1]
+        assert abs(r.run.root - r.x) <= 2 * (1e-3 * 2.2e-16 * 12.0 + 4 * 2.2e-16 * abs(r.x))
     assert result.poles == [] and result.discontinuities == [] and result.warnings == []
 
 
