@@ -21,7 +21,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from numpy.polynomial import chebyshev as C
 
 # Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead:
 # the eigenvalue cost grows as degree^3). LAST_DEGREE is tried only where subdividing
@@ -84,7 +83,7 @@ def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
     "unresolved" (no decay by the largest degree).
     """
     count = len(spans)
-    status = ["unresolved"] * count
+    status = np.full(count, "unresolved", dtype=object)
     coefficients: list[np.ndarray | None] = [None] * count
     pending = np.arange(count)
     half = 0.5 * (spans[:, 1] - spans[:, 0])
@@ -99,19 +98,42 @@ def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
         c = np.where(finite, y, 0.0) @ matrix.T
         scale = np.max(np.abs(c), axis=1)
         tail = np.max(np.abs(c[:, -3:]), axis=1)
-        still = []
-        for row, i in enumerate(pending):
-            if not finite[row].all():
-                status[i] = "undefined" if not finite[row].any() else "nonfinite"
-            elif scale[row] == 0.0:
-                status[i] = "undefined"  # f vanishes identically: no isolated zeros to report
-            elif tail[row] <= DECAY_TOL * scale[row]:
-                keep = np.flatnonzero(np.abs(c[row]) > 0.1 * DECAY_TOL * scale[row])
-                status[i], coefficients[i] = "ok", c[row, : keep[-1] + 1]
-            else:
-                still.append(i)
-        pending = np.array(still, dtype=int)
-    return status, coefficients
+        whole = finite.all(axis=1)
+        status[pending[~whole]] = np.where(finite[~whole].any(axis=1), "nonfinite", "undefined")
+        status[pending[whole & (scale == 0.0)]] = "undefined"  # f vanishes identically
+        ok = whole & (scale > 0.0) & (tail <= DECAY_TOL * scale)
+        # trailing coefficients below a tenth of the decay tolerance are dropped
+        significant = np.abs(c) > 0.1 * DECAY_TOL * scale[:, None]
+        length = c.shape[1] - np.argmax(significant[:, ::-1], axis=1)
+        for row in np.flatnonzero(ok):
+            status[pending[row]] = "ok"
+            coefficients[pending[row]] = c[row, : length[row]]
+        pending = pending[whole & (scale > 0.0) & ~ok]
+    return list(status), coefficients
+
+
+@functools.cache
+def _colleague_base(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """The coefficient-free part of numpy's ``chebcompanion`` for degree n, and its
+    last-column scaling."""
+    mat = np.zeros((n, n))
+    scl = np.array([1.0] + [np.sqrt(0.5)] * (n - 1))
+    top = mat.reshape(-1)[1::n + 1]
+    bot = mat.reshape(-1)[n::n + 1]
+    top[0] = np.sqrt(0.5)
+    top[1:] = 0.5
+    bot[...] = top
+    return mat, 0.5 * scl / scl[-1]
+
+
+def _colleagues(cs: np.ndarray) -> np.ndarray:
+    """Colleague matrices of the Chebyshev series in the rows of cs (all of one length),
+    each exactly numpy's ``chebcompanion`` (built in one batch)."""
+    n = cs.shape[1] - 1
+    base, column = _colleague_base(n)
+    mats = np.broadcast_to(base, (len(cs), n, n)).copy()
+    mats[:, :, -1] -= (cs[:, :-1] / cs[:, -1:]) * column
+    return mats
 
 
 def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
@@ -126,7 +148,7 @@ def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
             groups.setdefault(len(c), []).append(i)
     for members in groups.values():
         # same rotation as numpy's chebroots, for accuracy with small leading coefficients
-        stack = np.stack([C.chebcompanion(coefficients[i])[::-1, ::-1] for i in members])
+        stack = _colleagues(np.stack([coefficients[i] for i in members]))[:, ::-1, ::-1]
         values = np.linalg.eigvals(stack)
         for i, v in zip(members, values, strict=True):
             out[i] = np.asarray(v, dtype=complex)

@@ -1259,56 +1259,13 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     if not pieces:
         return roots
     roots = sorted(roots, key=lambda r: r.x)
-
-    starts = [p.a for p in pieces]
-
-    def piece_of(x: float):
-        i = bisect.bisect_right(starts, x) - 1
-        if i >= 0 and pieces[i].a <= x <= pieces[i].b:
-            return pieces[i]
-        if i >= 1 and pieces[i - 1].b >= x:
-            return pieces[i - 1]
-        return None
-
-    near = np.array(cheb.near_real, dtype=complex)
-    near = near[np.argsort(near.real)] if len(near) else near
-    used = np.zeros(len(near), dtype=bool)
-    out: list[Root] = []
-    # sampled roots closer than the proxy can separate form one cluster (a near-double
-    # pair): the proxy is asked for zeros near the cluster, not for each root exactly
-    clusters: list[list[int]] = []
-    for i, r in enumerate(roots):
-        p = piece_of(r.x)
-        if clusters and p is not None and r.x - roots[clusters[-1][-1]].x <= 1e-4 * (p.b - p.a):
-            clusters[-1].append(i)
-        else:
-            clusters.append([i])
-    for k, members in enumerate(clusters):
-        first, last = roots[members[0]], roots[members[-1]]
-        p = piece_of(first.x)
-        if p is None:
-            out.extend(roots[i] for i in members)
-            continue
-        width = p.b - p.a
-        total = sum(roots[i].multiplicity for i in members)
-        radius = max(4 * (1e-12) ** (1.0 / total) * width, 1e-9 * width)
-        if k > 0:
-            radius = min(radius, 0.45 * (first.x - roots[clusters[k - 1][-1]].x))
-        if k + 1 < len(clusters):
-            radius = min(radius, 0.45 * (roots[clusters[k + 1][0]].x - last.x))
-        i0 = int(np.searchsorted(near.real, first.x - radius, side="left")) if len(near) else 0
-        i1 = int(np.searchsorted(near.real, last.x + radius, side="right")) if len(near) else 0
-        window = near[i0:i1]
-        hit = np.abs(window - np.clip(window.real, first.x, last.x)) <= radius
-        used[i0:i1] |= hit
-        for i in members:
-            r = roots[i]
-            if np.any(hit):
-                out.append(_relabel(r, tuple(dict.fromkeys(r.located_by + ("chebyshev",)))))
-            else:
-                out.append(r)
-                notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by "
-                             f"the Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
+    if not roots:
+        near = np.array(cheb.near_real, dtype=complex)
+        near = near[np.argsort(near.real)] if len(near) else near
+        used = np.zeros(len(near), dtype=bool)
+        out: list[Root] = []
+    else:
+        out, near, used = _match_proxy(cheb, roots, notes)
     # proxy roots nobody matched
     features = list(poles) + list(jumps) + [e for gap in gaps for e in gap]
     extra: list[float] = []
@@ -1338,6 +1295,67 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         notes.append(f"cross-check: {len(new)} root(s) located only by the Chebyshev proxy and "
                      "then confirmed: " + ", ".join(f"{r.x:.12g}" for r in new))
     return out
+
+
+def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[str]):
+    """Mark the sampled roots (sorted, at least one) the proxy also located.
+
+    Roots closer than 1e-4 of their piece's width form one cluster (a near-double pair
+    the proxy cannot separate); a cluster counts as located when a proxy zero lies within
+    ``radius`` of it, radius = max(4 (1e-12)^(1/m), 1e-9) piece widths for total
+    multiplicity m, and at most 0.45 of the gap to the next cluster (so no zero serves
+    two). Vectorised: the cluster windows are disjoint, so each proxy zero falls in at
+    most one. Returns (roots relabelled, proxy zeros sorted by real part, which matched).
+    """
+    starts = np.array([p.a for p in cheb.pieces])
+    ends = np.array([p.b for p in cheb.pieces])
+    x = np.array([r.x for r in roots])
+    mult = np.array([r.multiplicity for r in roots], dtype=float)
+    # the piece holding each root (as bisect_right on the starts, then its neighbour)
+    i = np.searchsorted(starts, x, side="right") - 1
+    ic = np.maximum(i, 0)
+    inside = (i >= 0) & (x <= ends[ic])
+    left = (i >= 1) & (ends[np.maximum(i - 1, 0)] >= x)
+    piece = np.where(inside, i, np.where(left, i - 1, -1))
+    pw = np.where(piece >= 0, (ends - starts)[np.maximum(piece, 0)], np.nan)
+    join = np.zeros(len(x), dtype=bool)
+    join[1:] = (piece[1:] >= 0) & (np.diff(x) <= 1e-4 * pw[1:])
+    cluster = np.cumsum(~join) - 1
+    heads = np.flatnonzero(~join)
+    tails = np.append(heads[1:] - 1, len(x) - 1)
+    first, last = x[heads], x[tails]
+    cpiece = piece[heads]
+    width = pw[heads]
+    total = np.add.reduceat(mult, heads)
+    radius = np.maximum(4 * (1e-12) ** (1.0 / total) * width, 1e-9 * width)
+    gap = first[1:] - last[:-1]
+    radius[1:] = np.minimum(radius[1:], 0.45 * gap)
+    radius[:-1] = np.minimum(radius[:-1], 0.45 * gap)
+    near = np.array(cheb.near_real, dtype=complex)
+    near = near[np.argsort(near.real)] if len(near) else near
+    used = np.zeros(len(near), dtype=bool)
+    located = np.zeros(len(heads), dtype=bool)
+    if len(near):
+        zr = near.real
+        k = np.searchsorted(first - radius, zr, side="right") - 1
+        kc = np.maximum(k, 0)
+        ok = (k >= 0) & (zr <= last[kc] + radius[kc]) & (cpiece[kc] >= 0)
+        hit = ok & (np.abs(near - np.clip(zr, first[kc], last[kc])) <= radius[kc])
+        used |= hit
+        located[kc[hit]] = True
+    out: list[Root] = []
+    for j, r in enumerate(roots):
+        k = cluster[j]
+        if cpiece[k] < 0:
+            out.append(r)
+        elif located[k]:
+            out.append(_relabel(r, tuple(dict.fromkeys(r.located_by + ("chebyshev",)))))
+        else:
+            p = cheb.pieces[cpiece[k]]
+            out.append(r)
+            notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by "
+                         f"the Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
+    return out, near, used
 
 
 def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
