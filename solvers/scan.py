@@ -509,10 +509,9 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     idx = np.arange(count)
     lo, hi, flo, fhi = lo_out.copy(), hi_out.copy(), flo_out.copy(), fhi_out.copy()
     wlo, whi = flo.copy(), fhi.copy()  # false-position weights (scaled f at held ends)
-    last = np.zeros(count, dtype=np.int8)  # end replaced last: -1 lo, +1 hi, 0 none yet
+    prev_lo = np.zeros(count, dtype=np.int8) - 1  # end replaced last: 1 lo, 0 hi, -1 none
     w1 = np.full(count, np.inf)  # bracket widths one, two and three iterations back
-    w2 = np.full(count, np.inf)
-    w3 = np.full(count, np.inf)
+    w2, w3 = w1.copy(), w1.copy()
     for it in range(max_iter + 1):
         width = hi - lo
         tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
@@ -523,41 +522,40 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
             lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
                                                             flo[finished], fhi[finished])
             keep = ~finished
-            idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, width, tol = (
-                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, width, tol))
+            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width, tol = (
+                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width,
+                                  tol))
         if idx.size == 0 or it == max_iter:
             break
         if it % 4 == 0:
             g.check()
-        t = wlo / (wlo - whi)  # where the chord through the weighted ends meets zero
-        t = np.where((width > 0.5 * w3) | ~(t > 0) | ~(t < 1), 0.5, t)
+        # where the chord through the weighted ends meets zero (t in [0, 1] as the weights
+        # have opposite signs; NaN from underflowed weights is caught by fmax below)
+        t = np.where(width > 0.5 * w3, 0.5, wlo / (wlo - whi))
         half = 0.5 * tol
-        x = np.minimum(np.maximum(lo + t * width, lo + half), hi - half)
+        x = np.fmin(np.fmax(lo + t * width, lo + half), hi - half)
         fx = g(x)
         w3, w2, w1 = w2, w1, width
-        bad = ~np.isfinite(fx)
-        zero = fx == 0
-        if bad.any() or zero.any():
+        regular = np.isfinite(fx) & (fx != 0)
+        if not regular.all():
+            zero = fx == 0
             k = idx[zero]
             done[k] = True
             lo_out[k] = hi_out[k] = x[zero]
             flo_out[k] = fhi_out[k] = 0.0
-            k = idx[bad]  # NaN/inf inside: a pole, a hole; _classify decides from the start
-            keep = ~(bad | zero)
-            idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, x, fx = (
-                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, last, w1, w2, w3, x, fx))
+            # NaN/inf inside: a pole or a hole, left (not done) for _classify to decide
+            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x, fx = (
+                v[regular] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x,
+                                     fx))
         on_lo = np.signbit(fx) == np.signbit(flo)  # x replaces lo; hi is held
-        on_hi = ~on_lo
         # Anderson–Björck: the end held for the second time running is weighted by
         # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
-        with np.errstate(all="ignore"):
-            m = np.where(on_lo, 1.0 - fx / flo, 1.0 - fx / fhi)
-        m = np.where(m > 0, m, 0.5)
-        whi = np.where(on_lo & (last == -1), whi * m, whi)
-        wlo = np.where(on_hi & (last == 1), wlo * m, wlo)
-        lo, flo, wlo = np.where(on_lo, x, lo), np.where(on_lo, fx, flo), np.where(on_lo, fx, wlo)
-        hi, fhi, whi = np.where(on_hi, x, hi), np.where(on_hi, fx, fhi), np.where(on_hi, fx, whi)
-        last = np.where(on_lo, -1, 1).astype(np.int8)
+        m = 1.0 - fx / np.where(on_lo, flo, fhi)
+        m = np.where(prev_lo == on_lo, np.where(m > 0, m, 0.5), 1.0)
+        wlo, whi = np.where(on_lo, fx, wlo * m), np.where(on_lo, whi * m, fx)
+        lo, hi = np.where(on_lo, x, lo), np.where(on_lo, hi, x)
+        flo, fhi = np.where(on_lo, fx, flo), np.where(on_lo, fhi, fx)
+        prev_lo = on_lo.view(np.int8)
     return done, lo_out, hi_out, flo_out, fhi_out
 
 
