@@ -697,34 +697,32 @@ def _noise(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
         return np.nanmax(vals, axis=1) - np.nanmin(vals, axis=1)
 
 
-def _floor(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
-    """Largest |f| within a few ulps of each root: the level where f is rounding noise."""
-    vals = _near_values(g, x, scale)
-    with np.errstate(all="ignore"):
-        return np.nanmax(np.abs(vals), axis=1)
-
-
 def _multiplicity(
     g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
-) -> np.ndarray:
-    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``; and the
-    spread of the local slopes (large when other roots hide within the probed distance).
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``; the
+    spread of the local slopes (large when other roots hide within the probed distance);
+    and f at each root (the residual).
 
     |f(r +/- d)| at d = reach * 4^-j (j = 0..13); the local slope of log|f| against
-    log d, taken from the four smallest d still 1000x above the rounding floor.
+    log d, taken from the four smallest d still 1000x above the rounding floor (the
+    largest |f| within a few ulps of r). All points go to f in one call.
     """
     if len(x) == 0:
-        return np.zeros(0, dtype=int), np.zeros(0)
+        return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
     j = np.arange(14)
     d = reach[:, None] * 4.0 ** (-j[None, :])
-    pts = np.concatenate([x[:, None] + d, x[:, None] - d], axis=1)
-    vals = np.abs(g(pts.reshape(-1)).reshape(pts.shape))
+    step = 2 * EPS * np.maximum(np.abs(x), scale)
+    ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
+    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps], axis=1)
+    vals = g(pts.reshape(-1)).reshape(pts.shape)
+    near = vals[:, 2 * len(j):]
+    vals = np.abs(vals[:, : 2 * len(j)])
     fp, fm = vals[:, : len(j)], vals[:, len(j):]
-    floor = _floor(g, x, scale)
-    with np.errstate(all="ignore"):
-        valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
-        logf = 0.5 * (np.log(fp) + np.log(fm))
-        slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
+    floor = np.nanmax(np.abs(near), axis=1)
+    valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
+    logf = 0.5 * (np.log(fp) + np.log(fm))
+    slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
     # the last four usable slopes of each row (smallest distances above the floor)
     rank = np.cumsum(pair[:, ::-1], axis=1)[:, ::-1]
@@ -745,7 +743,7 @@ def _multiplicity(
     with np.errstate(all="ignore"):
         spread = (np.max(np.where(pair, slopes, -np.inf), axis=1)
                   - np.min(np.where(pair, slopes, np.inf), axis=1))
-    return np.minimum(m, 12), np.where(pair.sum(axis=1) >= 2, spread, 0.0)
+    return np.minimum(m, 12), np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
 
 
 # ----------------------------------------------------------------------------- the scan
@@ -1231,10 +1229,9 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale))
     odd = np.array([r.odd for r in merged])
-    mult, spread = _multiplicity(g, x, reach, odd, EPS * scale)
+    mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale)
     if flags is not None:
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
-    res = g(x)
     edge = np.array([r.how.startswith("domain edge") for r in merged])
     return [
         Root(
