@@ -11,15 +11,19 @@ How a scan works
    and edges between defined and undefined (NaN) samples. Windows of 32 samples
    where f turns more than 8 times are resampled 8x finer (twice at most, so up to
    64x) before candidates are taken.
-2. **Classify** each sign change by bisecting all brackets at once (vectorised):
-   |f| at both bracket ends falling to 1e-6 of its start means a root; |f| growing
-   1000-fold (or steadily, like a logarithm) down to adjacent floats means a
+2. **Refine and classify** every sign-change bracket at once (vectorised: one f
+   call per iteration for all brackets): Anderson–Björck false position, safeguarded
+   by bisection and a least step of half the tolerance, until each bracket is no
+   wider than xtol + rtol |x| (rtol = 4 eps, xtol = 1e-3 eps max(|a|, |b|): Brent's
+   stop rule, full double precision for a simple root). A converged bracket whose
+   ends' |f| fell to 1e-6 of the sampled |f| is a root; the end of smaller |f| is
+   taken, then one Newton step with ``fprime`` when given and it lowers |f|.
+3. Every other bracket is **bisected** from its sample ends (all at once): |f|
+   growing 1000-fold (or steadily, like a logarithm) down to adjacent floats means a
    **pole**; |f| staying put means a **discontinuity** (a jump). Poles and jumps
-   are never reported as roots.
-3. **Refine** each root with the project's Brent (:func:`solvers.methods.brent`,
-   rtol = 4 eps, xtol = 1e-3 eps max(|a|, |b|)) from its narrowed bracket (the two
-   ends' f values, already known, are handed to it without re-evaluating f), then one
-   Newton step with ``fprime`` when given and it lowers |f|.
+   are never reported as roots. ``Root.run``, the project's Brent
+   (:func:`solvers.methods.brent`) on a root's sample bracket with the same
+   tolerances, is built when first read (few callers want every root's iterates).
 4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
    that a parabola through the three samples says dips at least 10 % toward zero,
    or whose lowest value is within the parabola's curvature scale (c h^2) of zero,
@@ -788,11 +792,12 @@ def scan(
     where undefined; exceptions from f count as undefined. ``samples`` is the number of
     equally spaced base samples (default ``DEFAULT_SAMPLES`` = 2001, at least 3); windows
     where f oscillates faster than that are resampled up to 64x finer automatically.
-    Roots are refined by Brent to rtol = 4 eps (about full double precision for a simple
-    root; a root of multiplicity m is only determined to about eps^(1/m) relative
-    unless f is evaluated without cancellation). ``progress(fraction)`` is called from
-    the calling thread between chunks and at the end (1.0); ``cancel()`` is polled
-    between chunks and refinement steps, and a True answer raises :class:`ScanCancelled`.
+    Roots are refined, all brackets at once, to Brent's stop rule with rtol = 4 eps
+    (about full double precision for a simple root; a root of multiplicity m is only
+    determined to about eps^(1/m) relative unless f is evaluated without cancellation).
+    ``progress(fraction)`` is called from the calling thread between chunks and at the
+    end (1.0); ``cancel()`` is polled between chunks and refinement steps, and a True
+    answer raises :class:`ScanCancelled`.
 
     Raises ValueError (one line) for a bad range or sample count; never raises because
     f misbehaves. See the module docstring for the classification rules.

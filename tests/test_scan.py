@@ -14,6 +14,7 @@ import mpmath
 import numpy as np
 import pytest
 import scipy.constants
+import scipy.optimize
 import scipy.special
 
 from solvers.chebyshev import chebyshev_roots
@@ -442,6 +443,53 @@ def test_result_record():
         assert r.residual == (r.x - 1) * (r.x - 2) * (r.x + 0.5)  # residual is f(root)
     assert result.a == -1.0 and result.b == 3.0
     assert result.samples >= DEFAULT_SAMPLES
+
+
+def test_root_record_fields_and_brent_run_built_on_first_read():
+    calls = {"f": 0}
+
+    def f(x):
+        calls["f"] += 1
+        return (x - 1.2345678) * (x - 2.1234567) * (x + 0.4567891)
+
+    result = scan(f, -1.0, 3.0, cross_check=False)
+    assert [fl.name for fl in dataclasses.fields(Root)] == [
+        "x", "residual", "multiplicity", "confirmed", "located_by", "bracket", "run"]
+    root = result.roots[0]
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        root.run = None  # type: ignore[misc]
+    before = calls["f"]
+    run = root.run  # Brent runs now, on first read (it evaluates f)
+    assert calls["f"] > before
+    assert run is not None and run.method == "brent" and run.converged
+    assert run.steps[0].x == root.bracket[0] and run.steps[1].x == root.bracket[1]
+    after = calls["f"]
+    assert root.run is run and calls["f"] == after  # built once, then kept
+    assert run.root == pytest.approx(-0.4567891, rel=4e-15)  # root of the product
+    assert Root(1.0, 0.0).run is None  # the field's default
+
+
+def test_all_brackets_refined_at_once_agree_with_scipy_brentq():
+    # 20-term sum of sinusoids (invented coefficients): every root from the vectorised
+    # refinement matches scipy.optimize.brentq on the same sign change to rtol 4 eps
+    rng = np.random.default_rng(7)
+    amp, om, ph = rng.uniform(0.2, 1.0, 20), rng.uniform(0.05, 2.0, 20), rng.uniform(0, 6, 20)
+
+    def f(x):
+        x = np.asarray(x, dtype=float)
+        return (amp * np.sin(np.multiply.outer(x, om) + ph)).sum(axis=-1)
+
+    result = scan(f, 0.0, 300.0, samples=20001, cross_check=False)
+    grid = np.linspace(0.0, 300.0, 200001)
+    y = f(grid)
+    k = np.flatnonzero(np.signbit(y[:-1]) != np.signbit(y[1:]))
+    eps = np.finfo(float).eps
+    ref = [scipy.optimize.brentq(f, grid[i], grid[i + 1], xtol=1e-3 * eps * 300.0,
+                                 rtol=4 * eps) for i in k]  # scipy.optimize reference
+    assert len(result.roots) == len(ref) > 50
+    for r, want in zip(result.roots, ref, strict=True):
+        assert r.multiplicity == 1
+        assert abs(r.x - want) <= 2 * (1e-3 * eps * 300.0 + 4 * eps * abs(want))
 
 
 def test_cross_check_off_reports_sampling_only():
