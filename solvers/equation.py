@@ -36,7 +36,8 @@ Limits and refusals
 Every refusal is an :class:`EquationError` (a ``ValueError``) with a one-line message;
 ``.position`` is the 0-based offset into the text where it applies (messages count
 columns from 1, as editors do). The text is at most ``MAX_LENGTH`` characters and
-nests at most ``MAX_DEPTH`` levels (parentheses, signs, exponents). Constant parts
+nests at most ``MAX_DEPTH`` levels (parentheses, signs, exponents; abs/min/max at most
+``MAX_KINK_DEPTH``, since sympy's sign checks on such chains grow steeply). Constant parts
 are evaluated in double precision as they are read: a constant that overflows,
 divides by zero or has no real value (``10^400``, ``1/0``, ``sqrt(-1)``, ``ln(0)``,
 ``9^9^9^9``) is refused where it stands, before sympy sees it. In ``expr`` (and
@@ -98,6 +99,8 @@ MAX_DEPTH = 100  # nesting levels: parentheses, signs and exponents together
 MAX_NAME = 40  # characters in one name
 MAX_EXACT_EXPONENT = 1000  # larger integer powers of constants are done in floating point
 MAX_DERIVATIVE_NODES = 5_000  # larger symbolic derivatives are not compiled (numerical f')
+MAX_KINK_NESTING = 8  # deeper abs/min/max nesting: no symbolic derivative (sympy is too slow)
+MAX_KINK_DEPTH = 20  # deeper abs/min/max nesting is refused (sympy's checks grow ~depth^4)
 _EXACT_INT_DIGITS = 15  # integer literals up to this many digits stay exact sympy Integers
 _BIG_INT = 2**53  # larger exact integers become floats before compiling
 
@@ -361,6 +364,7 @@ class _Parser:
         self.tokens = tokens
         self.i = 0
         self.depth = 0
+        self.kinks = 0  # abs/min/max calls open around the current token
         self.bindings = bindings
         self.display = display  # the typeset form: sympy builds without evaluating
         self.names: list[str] = []
@@ -677,6 +681,12 @@ class _Parser:
         fn = FUNCTIONS[t.text]
         opener = self.advance()  # '('
         self.enter(opener.pos)
+        kink = t.text in ("abs", "min", "max")
+        if kink:
+            self.kinks += 1
+            if self.kinks > MAX_KINK_DEPTH:
+                raise self.fail(f"abs/min/max nested deeper than {MAX_KINK_DEPTH} levels",
+                                t.pos)
         args: list[_Node] = []
         if self.tok.text != ")":
             while True:
@@ -690,6 +700,7 @@ class _Parser:
                 self.advance()
         self.close(opener)
         self.depth -= 1
+        self.kinks -= kink
         n = len(args)
         if n < fn.min_args or (fn.max_args is not None and n > fn.max_args):
             want = (f"{fn.min_args}" if fn.max_args == fn.min_args
@@ -771,10 +782,9 @@ class _ScalarPrinter(LambdaPrinter):
         return _float_code(expr)
 
     def _print_Pow(self, expr: Any, rational: bool = False) -> str:
-        base, exp = expr.args
-        b = self.parenthesize(base, 100)
+        base, exp = expr.args  # print each part once: nested powers must stay linear
         if exp.is_Integer:
-            return f"{b}**{self._print(exp)}"  # real for every real base
+            return f"{self.parenthesize(base, 100)}**{self._print(exp)}"  # real for real bases
         if exp == sp.S.Half:
             return f"sqrt({self._print(base)})"
         # Python's ** gives a complex number for a negative base; math.pow raises instead.
@@ -971,6 +981,24 @@ def _derivative_size(expr: Any, x: Any) -> int:
         return out
 
     return walk(expr)[1]
+
+
+_KINKS = (sp.Abs, sp.Min, sp.Max)
+
+
+def _kink_depth(expr: Any) -> int:
+    """How deeply abs/min/max nest: sympy's diff of such chains slows exponentially."""
+    memo: dict[Any, int] = {}
+
+    def walk(e: Any) -> int:
+        if not e.args:
+            return 0
+        hit = memo.get(e)
+        if hit is None:
+            hit = memo[e] = max(walk(a) for a in e.args) + isinstance(e, _KINKS)
+        return hit
+
+    return walk(expr)
 
 
 def _node_count(expr: Any, limit: int) -> int:
@@ -1202,6 +1230,9 @@ def parse_equation(text: str, unknown: str | None = None,
         if _derivative_size(numeric, x) > 2 * MAX_DERIVATIVE_NODES:
             derivative = None
             reason: str | None = f"more than {MAX_DERIVATIVE_NODES} terms"
+        elif _kink_depth(numeric) > MAX_KINK_NESTING:
+            derivative = None
+            reason = f"abs/min/max nested more than {MAX_KINK_NESTING} deep"
         else:
             derivative = sp.diff(numeric, x)
             reason = _unusable(derivative)
@@ -1230,18 +1261,161 @@ def parse_equation(text: str, unknown: str | None = None,
     )
 
 
+# The typeset form is built as a string straight from the tokens (after the checked parse
+# has accepted them), in the order typed: linear in the text, and nothing for sympy's
+# printer to simplify or to slow down on (its printing of unevaluated nested trees can be
+# exponential).
+_SUM, _NEG, _PROD, _FRAC, _POW, _ATOM = range(6)
+
+_TEX_FUNCTIONS = {
+    "ln": r"\ln", "log10": r"\log_{10}", "log2": r"\log_{2}", "sin": r"\sin", "cos": r"\cos",
+    "tan": r"\tan", "asin": r"\arcsin", "acos": r"\arccos", "atan": r"\arctan",
+    "sinh": r"\sinh", "cosh": r"\cosh", "tanh": r"\tanh", "asinh": r"\mathrm{asinh}",
+    "acosh": r"\mathrm{acosh}", "atanh": r"\mathrm{atanh}", "atan2": r"\mathrm{atan2}",
+    "min": r"\min", "max": r"\max",
+}
+
+
+@dataclass(frozen=True)
+class _Tex:
+    tex: str
+    prec: int
+    number: bool = False  # a bare number (a product writes \cdot before it)
+
+
+def _paren(node: _Tex, below: int) -> str:
+    return rf"\left({node.tex}\right)" if node.prec < below else node.tex
+
+
+class _Typesetter:
+    """Recursive descent over tokens the checked parse accepted, producing LaTeX."""
+
+    def __init__(self, tokens: list[_Token]):
+        self.tokens = tokens
+        self.i = 0
+        self.symbols: dict[str, str] = {}
+
+    @property
+    def tok(self) -> _Token:
+        return self.tokens[self.i]
+
+    def advance(self) -> _Token:
+        self.i += 1
+        return self.tokens[self.i - 1]
+
+    def equation(self) -> str:
+        lhs = self.sum().tex
+        if self.tok.text == "=":
+            self.advance()
+            return f"{lhs} = {self.sum().tex}"
+        return f"{lhs} = 0"
+
+    def sum(self) -> _Tex:
+        first = self.product()
+        parts = [first.tex]
+        while self.tok.text in ("+", "-"):
+            op = self.advance().text
+            parts.append(f"{op} {_paren(self.product(), _PROD)}")
+        return first if len(parts) == 1 else _Tex(" ".join(parts), _SUM)
+
+    def product(self) -> _Tex:
+        top, bottom = [self.signed()], []
+        while self.tok.text in ("*", "/"):
+            (top if self.advance().text == "*" else bottom).append(self.signed())
+        if len(top) == 1 and not bottom:
+            return top[0]
+        negative = top[0].prec == _NEG and bool(bottom)
+        if negative:  # -a/b is typeset as - a/b, the sign before the fraction
+            top[0] = _Tex(top[0].tex[2:], top[0].prec + 1)
+        numerator = self.juxtapose(top)
+        if not bottom:
+            return _Tex(numerator, _PROD)
+        tex = rf"\frac{{{numerator}}}{{{self.juxtapose(bottom)}}}"
+        return _Tex("- " + tex, _NEG) if negative else _Tex(tex, _FRAC)
+
+    @staticmethod
+    def juxtapose(factors: list[_Tex]) -> str:
+        tex = _paren(factors[0], _NEG) if len(factors) > 1 else factors[0].tex
+        for f in factors[1:]:
+            tex += (r" \cdot " if f.number or f.tex[:1].isdigit() else " ") + _paren(f, _FRAC)
+        return tex
+
+    def signed(self) -> _Tex:
+        if self.tok.text in ("+", "-"):
+            op = self.advance().text
+            inner = self.signed()
+            return inner if op == "+" else _Tex("- " + _paren(inner, _PROD), _NEG)
+        return self.power()
+
+    def power(self) -> _Tex:
+        base = self.primary()
+        if self.tok.text not in ("^", "**"):
+            return base
+        self.advance()
+        exponent = self.signed()
+        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW)
+
+    def primary(self) -> _Tex:
+        t = self.advance()
+        if t.kind == "num":
+            number = _Tex(_tex_number(t.text), _ATOM, number=True)
+            nxt = self.tok
+            if nxt.pos == t.end and (nxt.kind == "name" or nxt.text == "("):
+                rest = self.power()
+                joint = r" \cdot " if rest.tex[:1].isdigit() else " "
+                return _Tex(number.tex + joint + _paren(rest, _FRAC), _PROD)
+            return number
+        if t.text == "(":
+            inner = self.sum()
+            self.advance()  # ')'
+            return inner
+        if self.tok.text == "(":  # a function call
+            self.advance()
+            args = []
+            while self.tok.text != ")":
+                args.append(self.sum().tex)
+                if self.tok.text == ",":
+                    self.advance()
+            self.advance()  # ')'
+            return self.call(t.text, args)
+        if t.text == "pi":
+            return _Tex(r"\pi", _ATOM)
+        if t.text == "deg":
+            return _Tex(r"\mathrm{deg}", _ATOM)
+        tex = self.symbols.get(t.text)
+        if tex is None:
+            tex = self.symbols[t.text] = _LATEX.doprint(sp.Symbol(t.text))
+        return _Tex(tex, _ATOM)
+
+    @staticmethod
+    def call(name: str, args: list[str]) -> _Tex:
+        joined = ", ".join(args)
+        if name == "sqrt":
+            return _Tex(rf"\sqrt{{{joined}}}", _ATOM)
+        if name == "exp":
+            return _Tex(rf"e^{{{joined}}}", _POW)
+        if name == "abs":
+            return _Tex(rf"\left|{joined}\right|", _ATOM)
+        return _Tex(rf"{_TEX_FUNCTIONS[name]}\left({joined}\right)", _ATOM)
+
+
+def _tex_number(text: str) -> str:
+    mantissa, _, exponent = text.lower().partition("e")
+    if not exponent:
+        return text
+    power = rf"10^{{{int(exponent)}}}"
+    return power if mantissa in ("1", "1.", "1.0") else rf"{mantissa} \cdot {power}"
+
+
 def _typeset(text: str, lhs: _Node, rhs: _Node | None) -> str:
     """LaTeX of the equation in the order it was typed (parameters by name); if that
-    cannot be built, sympy's own ordering of the checked expression."""
+    cannot be built, sympy's printing of the checked expression."""
     try:
-        _, shown_lhs, shown_rhs = _read(text, _constant_bindings(display=True),
-                                        display=True)
-        sides = [shown_lhs] if shown_rhs is None else [shown_lhs, shown_rhs]
-        tex = [_latex(side.expr, as_typed=True) for side in sides]
+        return _Typesetter(_tokenize(text)).equation()
     except Exception:  # noqa: BLE001 - cosmetic path: fall back to the checked expression
         sides = [lhs] if rhs is None else [lhs, rhs]
         tex = [_latex(side.expr) for side in sides]
-    return " = ".join(tex) + (" = 0" if len(tex) == 1 else "")
+        return " = ".join(tex) + (" = 0" if len(tex) == 1 else "")
 
 
 def _unusable(derivative: Any) -> str | None:

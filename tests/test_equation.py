@@ -184,7 +184,7 @@ class TestFunctions:
         assert err.position == 15
 
     def test_ln_is_typeset_as_ln(self):
-        assert parse_equation("ln(x) = 1").latex == r"\ln{\left(x \right)} = 1"
+        assert parse_equation("ln(x) = 1").latex == r"\ln\left(x\right) = 1"
 
     @pytest.mark.parametrize(
         ("text", "message", "column"),

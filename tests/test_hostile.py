@@ -109,6 +109,8 @@ HOSTILE = [
     "x" + "^x" * 500,
     "x" + "+x" * 50_000,  # 100,001 characters
     "x" * 100_000,
+    "abs(x - " * 21 + "x" + ")" * 21,  # abs/min/max chains: sympy's checks grow steeply
+    "max(x, " * 30 + "x" + ")" * 30,
     # --- malformed
     "(x + 1",
     "x + 1)",
@@ -213,6 +215,29 @@ def test_valid_equations_with_huge_numbers_stay_in_floating_point(text):
         assert type(eq.f(x)) is float  # a value (possibly inf or nan), never an exception
     assert eq.latex
     str(eq.expr)  # no exact integer too long to print
+
+
+# Deep but valid: 49 to 99 levels of the patterns whose sympy handling grows fastest
+# (found by timing each pattern at increasing depth).
+DEEP = {
+    "power of sums": "(" * 49 + "x" + "+1)^2" * 49,
+    "square roots": "sqrt(" * 99 + "x" + "+1)" * 99,
+    "exponentials": "exp(-" * 49 + "x" + ")" * 49,
+    "power towers": "x^(" * 49 + "x" + ")" * 49,
+    "continued fraction": "1/(1+" * 99 + "x" + ")" * 99,
+    "mixed": "sin(1/(x+" * 49 + "x" + "))" * 49,
+    "atan2": "atan2(x, " * 99 + "x" + ")" * 99,
+    "abs at the limit": "abs(x - " * 20 + "x" + ")" * 20,
+}
+
+
+@pytest.mark.timeout(15)
+@pytest.mark.parametrize("text", DEEP.values(), ids=DEEP.keys())
+def test_deep_valid_equations_finish(text):
+    eq = parse_equation(text)
+    assert type(eq.f(0.3)) is float
+    assert eq.latex
+    eq.derivative_latex  # noqa: B018 - computing it must finish too
 
 
 @pytest.mark.timeout(10)
