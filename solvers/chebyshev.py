@@ -213,18 +213,20 @@ def chebyshev_roots(
                 split += [(u, w), (w, v)]
         level = np.array(split, dtype=float).reshape(-1, 2)
     accepted.sort(key=lambda item: item[0])
-    real: list[float] = []
-    near: list[complex] = []
-    for (u, v, _), t in zip(accepted, _zeros([c for _, _, c in accepted]), strict=True):
-        inside = np.abs(t.real) <= 1.0 + 1e-9
-        close = inside & (np.abs(t.imag) <= IMAG_TOL)
-        half, mid = 0.5 * (v - u), 0.5 * (v + u)
-        near.extend(complex(mid + half * z.real, half * z.imag) for z in t[close])
-        real.extend(min(max(float(mid + half * z.real), u), v)
-                    for z in t[close & (np.abs(t.imag) <= 1e-10)])
+    zeros = _zeros([c for _, _, c in accepted])
+    # all zeros of all pieces in one array, each with its piece's centre and half-width
+    t = np.concatenate(zeros) if zeros else np.zeros(0, dtype=complex)
+    counts = [len(z) for z in zeros]
+    u = np.repeat(np.array([a for a, _, _ in accepted], dtype=float), counts)
+    v = np.repeat(np.array([b for _, b, _ in accepted], dtype=float), counts)
+    half, mid = 0.5 * (v - u), 0.5 * (v + u)
+    close = (np.abs(t.real) <= 1.0 + 1e-9) & (np.abs(t.imag) <= IMAG_TOL)
+    near = np.empty(int(close.sum()), dtype=complex)
+    near.real, near.imag = (mid + half * t.real)[close], (half * t.imag)[close]
+    real = np.clip((mid + half * t.real), u, v)[close & (np.abs(t.imag) <= 1e-10)]
     return ChebyshevRoots(
-        roots=tuple(sorted(real)),
-        near_real=tuple(near),
+        roots=tuple(float(r) for r in np.sort(real)),
+        near_real=tuple(complex(z) for z in near),
         pieces=tuple(ChebyshevPiece(u, v, len(c) - 1) for u, v, c in accepted),
         skipped=_merge(skipped),
         undefined=_merge(undefined),
