@@ -986,6 +986,96 @@ def _derivative_size(expr: Any, x: Any) -> int:
 _KINKS = (sp.Abs, sp.Min, sp.Max)
 
 
+class _NoDerivative(Exception):
+    """A node the chain rule below does not know (sympy produced something unexpected)."""
+
+
+def _half_step(u: Any) -> Any:
+    return sp.Heaviside(u, sp.S.Half)  # 1/2 at a tie: the mean of the one-sided slopes
+
+
+# d f(u) / du for one-argument functions, in real arithmetic (calculus tables).
+_DERIVATIVES: dict[Any, Callable[[Any], Any]] = {
+    sp.exp: sp.exp,
+    sp.log: lambda u: 1 / u,
+    _sp_log10: lambda u: 1 / (u * sp.log(10)),
+    _sp_log2: lambda u: 1 / (u * sp.log(2)),
+    sp.sin: sp.cos,
+    sp.cos: lambda u: -sp.sin(u),
+    sp.tan: lambda u: 1 + sp.tan(u) ** 2,
+    sp.asin: lambda u: 1 / sp.sqrt(1 - u**2),
+    sp.acos: lambda u: -1 / sp.sqrt(1 - u**2),
+    sp.atan: lambda u: 1 / (1 + u**2),
+    sp.sinh: sp.cosh,
+    sp.cosh: sp.sinh,
+    sp.tanh: lambda u: 1 - sp.tanh(u) ** 2,
+    sp.asinh: lambda u: 1 / sp.sqrt(u**2 + 1),
+    sp.acosh: lambda u: 1 / (sp.sqrt(u - 1) * sp.sqrt(u + 1)),
+    sp.atanh: lambda u: 1 / (1 - u**2),
+    sp.Abs: sp.sign,
+}
+
+
+def _differentiate(expr: Any, x: Any) -> Any:
+    """d expr/dx by the chain rule over the node types the parser builds.
+
+    sympy's own diff treats abs/min/max of arguments it cannot prove real through
+    re/im/conjugate, which is slow (seconds for a few nested functions) and cannot be
+    compiled; every argument here is real by construction, so abs' = sign and
+    max(a, b)' = H(a - b) a' + H(b - a) b'. Raises _NoDerivative for anything else.
+    """
+    memo: dict[Any, Any] = {}
+
+    def d(e: Any) -> Any:
+        if x not in e.free_symbols:
+            return sp.S.Zero
+        hit = memo.get(e)
+        if hit is not None:
+            return hit
+        if e == x:
+            out = sp.S.One
+        elif e.is_Add:
+            out = sp.Add(*[d(a) for a in e.args])
+        elif e.is_Mul:
+            args = e.args
+            out = sp.Add(*[sp.Mul(*args[:i], d(a), *args[i + 1:])
+                           for i, a in enumerate(args) if x in a.free_symbols])
+        elif e.is_Pow:
+            b, n = e.args
+            if x not in n.free_symbols:
+                out = n * b ** (n - 1) * d(b)
+            else:
+                out = e * (d(n) * sp.log(b) + n * d(b) / b)
+        elif isinstance(e, sp.atan2):
+            y, w = e.args
+            out = (w * d(y) - y * d(w)) / (w**2 + y**2)
+        elif isinstance(e, (sp.Min, sp.Max)):
+            out = d(_pairwise(e))
+        elif isinstance(e, (sp.Heaviside, sp.sign)):
+            out = sp.S.Zero  # steps: zero slope on either side
+        elif len(e.args) == 1 and e.func in _DERIVATIVES:
+            u = e.args[0]
+            out = _DERIVATIVES[e.func](u) * d(u)
+        else:
+            raise _NoDerivative(type(e).__name__)
+        memo[e] = out
+        return out
+
+    return d(expr)
+
+
+def _pairwise(e: Any) -> Any:
+    """min/max of n arguments as nested two-argument steps: max(a, b) = a + (b - a) H(b - a)."""
+    args = list(e.args)
+    out = args[0]
+    for a in args[1:]:
+        if isinstance(e, sp.Max):
+            out = out + (a - out) * _half_step(a - out)
+        else:
+            out = out + (a - out) * _half_step(out - a)
+    return out
+
+
 def _kink_depth(expr: Any) -> int:
     """How deeply abs/min/max nest: sympy's diff of such chains slows exponentially."""
     memo: dict[Any, int] = {}
@@ -1055,8 +1145,9 @@ class Equation:
             value = None
             if self.derivative is not None:
                 try:
-                    value = sp.diff(self.symbolic_expr, sp.Symbol(self.unknown, real=True))
-                except RecursionError:
+                    value = _differentiate(self.symbolic_expr,
+                                           sp.Symbol(self.unknown, real=True))
+                except (RecursionError, _NoDerivative):
                     value = None
             self._cache["dsym"] = value
         return self._cache["dsym"]
@@ -1224,7 +1315,11 @@ def parse_equation(text: str, unknown: str | None = None,
                             + (" with the given parameter values" if used else ""), None)
 
 
-    f = _compile(numeric, x)
+    try:
+        f = _compile(numeric, x)
+    except Exception as err:  # noqa: BLE001 - say so in one line rather than a traceback
+        raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
+                            None) from None
     fprime, derivative = None, None
     try:
         if _derivative_size(numeric, x) > 2 * MAX_DERIVATIVE_NODES:
@@ -1234,15 +1329,21 @@ def parse_equation(text: str, unknown: str | None = None,
             derivative = None
             reason = f"abs/min/max nested more than {MAX_KINK_NESTING} deep"
         else:
-            derivative = sp.diff(numeric, x)
+            derivative = _differentiate(numeric, x)
             reason = _unusable(derivative)
         if reason is None:
-            fprime = _compile(derivative, x)
-        else:
+            try:
+                fprime = _compile(derivative, x)
+            except Exception as err:  # noqa: BLE001 - Newton can still differentiate numerically
+                reason = f"it cannot be compiled: {type(err).__name__}"
+        if reason is not None:
             notes.append(f"no symbolic derivative ({reason}): Newton uses a numerical one")
             derivative = None
     except RecursionError:
         notes.append("no symbolic derivative (expression too deep): Newton uses a numerical one")
+        derivative = None
+    except _NoDerivative as why:
+        notes.append(f"no symbolic derivative ({why} not handled): Newton uses a numerical one")
         derivative = None
 
     notes.extend(_notes(parser, names, unknown, numeric, x, text))
