@@ -560,6 +560,33 @@ class TestDerivative:
             # central difference with h = 1e-6: truncation ~h^2, rounding ~eps/h (common practice)
             assert eq.fprime(x) == pytest.approx(central_difference(eq.f, x), rel=1e-7, abs=1e-8)
 
+    @pytest.mark.parametrize(
+        "text",
+        [
+            "exp(sin(x)) * ln(x) / (1 + x^2)",
+            "asin(x/3) + acos(x/4) + atan(x) + atanh(x/5)",
+            "sinh(x)*cosh(x) - tanh(x)^3 + asinh(x) + acosh(x + 2)",
+            "log10(x) + log2(x) + sqrt(x)^3 + x^x + 2^x",
+            "atan2(x^2, 1 + x) + tan(x)",
+            "x^(1/3) + (x + 1)^-2.5",
+        ],
+    )
+    def test_chain_rule_matches_sympy_diff(self, text):
+        eq = parse_equation(text)
+        x = sp.Symbol("x", real=True)
+        reference = sp.lambdify(x, sp.diff(eq.expr, x), "mpmath")  # sympy's own diff, mpmath
+        for point in (0.4, 0.9, 1.7):
+            assert eq.fprime(point) == pytest.approx(float(reference(point)), rel=1e-13)
+
+    def test_kinks_differentiate_through_nested_functions(self):
+        # sympy's diff of abs(asin(...)) goes through re/im/conjugate; ours stays real
+        eq = parse_equation("abs(asin(x/2) - 0.3) + max(acosh(x + 1), x)")
+        assert eq.fprime is not None
+        for point in (0.1, 0.9):
+            assert eq.fprime(point) == pytest.approx(central_difference(eq.f, point), rel=1e-7)
+        # at a tie max(a, b)' is the mean of the one-sided slopes (H(0) = 1/2)
+        assert parse_equation("max(x, 2 - x)").fprime(1.0) == 0.0
+
     def test_derivative_is_sympys(self):
         eq = parse_equation("a*x^3 + sin(b*x)", parameters={"a": 2.0, "b": 3.0})
         x = sp.Symbol("x", real=True)

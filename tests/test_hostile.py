@@ -228,6 +228,11 @@ DEEP = {
     "mixed": "sin(1/(x+" * 49 + "x" + "))" * 49,
     "atan2": "atan2(x, " * 99 + "x" + ")" * 99,
     "abs at the limit": "abs(x - " * 20 + "x" + ")" * 20,
+    # a random composition that took sympy's own diff over 20 s (found by fuzzing)
+    "random composition": "tan(asin(ln((((x/(1+exp(exp(sinh((x^abs(asin((exp((--max(-atanh("
+                          "atanh(asin((exp(-(tanh(sin(cos(sin(min(ln(((x+1)-acosh((exp((max(-tan("
+                          "(2^((2^x^2)-(x+1)))), x)+x))/(x+1))))), 2x)))))-x))*1)))), 1)/2))*x)))))"
+                          "))))*1)*2))))",
 }
 
 
