@@ -136,12 +136,21 @@ def _colleagues(cs: np.ndarray) -> np.ndarray:
     return mats
 
 
+# Every z with |Re z| <= 1 + 1e-9 and |Im z| <= IMAG_TOL lies inside the Bernstein
+# ellipse of parameter rho = 1.002, where |T_k(z)| <= rho^k (Trefethen, Approximation
+# Theory and Approximation Practice, ch. 8). So |c_0| > rho^n sum_{k>=1} |c_k| means the
+# series has no zero there: the zeros the scan would use. (Checked for IMAG_TOL = 1e-6.)
+_NEAR_BOUND = 1.002
+
+
 def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
     """Zeros of Chebyshev series in [-1, 1] units, as ``chebroots`` computes them, but with
     the colleague-matrix eigenvalue problems of equal size solved in one batch."""
     out: list[np.ndarray] = [np.zeros(0, dtype=complex)] * len(coefficients)
     groups: dict[int, list[int]] = {}
     for i, c in enumerate(coefficients):
+        if len(c) > 2 and abs(c[0]) > _NEAR_BOUND ** (len(c) - 1) * np.sum(np.abs(c[1:])):
+            continue  # provably no zero near [-1, 1]: no eigenvalue problem needed
         if len(c) == 2:
             out[i] = np.array([-c[0] / c[1]], dtype=complex)
         elif len(c) > 2:

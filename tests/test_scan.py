@@ -416,6 +416,33 @@ def test_chebyshev_proxy_locates_bessel_zeros_on_its_own():
     assert np.allclose(found.roots, zeros[zeros < 38.0], rtol=1e-11)
 
 
+def test_chebyshev_proxy_skips_eigenproblems_only_where_no_zero_can_be_near():
+    # a piece is skipped when |c0| > 1.002^n sum|ck|; numpy.polynomial.chebyshev.chebroots
+    # (the reference) must then find no zero with |Re| <= 1 + 1e-9 and |Im| <= 1e-6
+    from numpy.polynomial import chebyshev as cheb
+
+    from solvers.chebyshev import _zeros
+
+    rng = np.random.default_rng(3)
+    skipped = 0
+    for _ in range(400):
+        n = int(rng.integers(3, 40))
+        c = rng.normal(size=n + 1) * 0.7 ** np.arange(n + 1)
+        c[0] = rng.choice([-1, 1]) * rng.uniform(0.5, 1.5) * np.sum(np.abs(c[1:]))
+        ours = _zeros([c])[0]
+        ref = cheb.chebroots(c)
+        near = ref[(np.abs(ref.real) <= 1 + 1e-9) & (np.abs(ref.imag) <= 1e-6)]
+        if len(ours) == 0:
+            skipped += 1
+            assert len(near) == 0
+        else:
+            assert np.allclose(np.sort_complex(ours), np.sort_complex(ref), atol=1e-8)
+    assert 50 < skipped < 400  # both branches exercised
+    # no zero at all: x^2 + 1 (common practice)
+    found = chebyshev_roots(lambda x: x**2 + 1.0, -3.0, 3.0)
+    assert found.roots == () and found.near_real == () and len(found.pieces) > 0
+
+
 def test_chebyshev_proxy_skips_poles_and_gaps():
     found = chebyshev_roots(np.tan, 0.0, 10.0)
     # zeros of tan at n pi (common practice); pieces holding the poles are given up
