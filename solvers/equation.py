@@ -97,11 +97,9 @@ __all__ = [
 MAX_LENGTH = 2000  # characters; a long design equation is a few hundred
 MAX_DEPTH = 100  # nesting levels: parentheses, signs and exponents together
 MAX_NAME = 40  # characters in one name
-MAX_EXACT_EXPONENT = 1000  # larger integer powers of constants are done in floating point
 MAX_DERIVATIVE_NODES = 5_000  # larger symbolic derivatives are not compiled (numerical f')
 MAX_KINK_NESTING = 8  # deeper abs/min/max nesting: no symbolic derivative (sympy is too slow)
 MAX_KINK_DEPTH = 20  # deeper abs/min/max nesting is refused (sympy's checks grow ~depth^4)
-_EXACT_INT_DIGITS = 15  # integer literals up to this many digits stay exact sympy Integers
 _BIG_INT = 2**53  # larger exact integers become floats before compiling
 
 
@@ -311,7 +309,6 @@ FUNCTIONS: dict[str, _Function] = {
     "max": _Function(2, None, sp.Max, _real_max),
 }
 
-DEG = sp.Symbol("deg", positive=True)  # typeset as "deg"; replaced by pi/180 for numbers
 CONSTANT_NAMES = ("pi", "deg")
 _AMBIGUOUS = {
     "log": "bare 'log' is ambiguous: write ln(...) for the natural log or log10(...) for base 10",
@@ -338,7 +335,7 @@ def _check_name(text: str, token: _Token) -> None:
 _PLAIN, _EXPONENT, _DIVISOR = 0, 1, 2  # where a factor stands (implicit products refused in 1, 2)
 
 
-@dataclass(frozen=True)  # no slots: display mode tags divisor nodes
+@dataclass(frozen=True)
 class _Node:
     expr: Any  # sympy expression
     value: float | None  # double-precision value when the node is constant, else None
@@ -354,19 +351,16 @@ class _Parser:
     ``bindings`` maps a name to a constant ``_Node`` (parameters with values, pi, deg);
     other names become real sympy Symbols. Every constant part becomes one Float (and a
     constant exponent a small exact Integer when integral), so no later sympy step
-    evaluates anything big; ``display`` mode instead keeps the typed structure, built
-    unevaluated, for the typeset form only.
+    evaluates anything big. (The typeset form is built separately, by _Typesetter.)
     """
 
-    def __init__(self, text: str, tokens: list[_Token], bindings: Mapping[str, Any],
-                 display: bool = False):
+    def __init__(self, text: str, tokens: list[_Token], bindings: Mapping[str, Any]):
         self.text = text
         self.tokens = tokens
         self.i = 0
         self.depth = 0
         self.kinks = 0  # abs/min/max calls open around the current token
         self.bindings = bindings
-        self.display = display  # the typeset form: sympy builds without evaluating
         self.names: list[str] = []
         self.first_pos: dict[str, int] = {}
         self.used: set[str] = set()  # functions and constants used, for notes
@@ -393,20 +387,17 @@ class _Parser:
         s = " ".join(self.text[start:end].split())
         return s if len(s) <= 40 else s[:37] + "..."
 
-    def constant(self, expr: Any, value: float, start: int, end: int) -> _Node:
-        """A constant part: refuse it unless its double value is finite and real.
+    def constant(self, value: float, start: int, end: int) -> _Node:
+        """A constant part: refused unless its double value is finite and real, else one Float.
 
-        Outside the typeset form every constant part becomes one Float (``expr`` is then
-        not used): sympy would otherwise turn exact constants into giant exact numbers,
-        e.g. exp(x + 3000*ln(7)) into 7^3000*exp(x), or (3x)^60 into 3^60*x^60.
+        sympy would otherwise turn exact constants into giant exact numbers, e.g.
+        exp(x + 3000*ln(7)) into 7^3000*exp(x), or (3x)^60 into 3^60*x^60.
         """
         if value != value:
             raise self.fail(f"'{self.snippet(start, end)}' has no real value", start)
         if math.isinf(value):
             raise self.fail(f"'{self.snippet(start, end)}' overflows double precision", start)
-        if expr is None or not self.display:
-            expr = sp.Float(value)
-        return _Node(expr, value)
+        return _Node(sp.Float(value), value)
 
     def evaluate(self, fn: Callable[..., float], *args: float) -> float:
         try:
@@ -456,8 +447,7 @@ class _Parser:
             return terms[0]
         expr = sp.Add(*[t.expr for t in terms])
         if all(t.value is not None for t in terms):
-            return self.constant(expr, math.fsum(t.value for t in terms), start,
-                                 self.tok.pos)
+            return self.constant(math.fsum(t.value for t in terms), start, self.tok.pos)
         return self.settle(expr)
 
     def product(self) -> _Node:
@@ -477,10 +467,7 @@ class _Parser:
                 if d.value == 0 or d.expr == 0:
                     raise self.fail("division by zero", d_start)
                 inv = sp.Pow(d.expr, -1)
-                node = _Node(inv, None if d.value is None else 1.0 / d.value)
-                if self.display:
-                    object.__setattr__(node, "divisor", d.expr)  # typeset a/b as a fraction
-                factors.append(node)
+                factors.append(_Node(inv, None if d.value is None else 1.0 / d.value))
             elif t.kind in ("num", "name") or t.text == "(":
                 prev = self.tokens[self.i - 1].text
                 raise self.fail(f"missing operator between {prev!r} and {t.text!r}", t.pos)
@@ -488,35 +475,13 @@ class _Parser:
                 break
         if len(factors) == 1:
             return factors[0]
-        if self.display:
-            expr = self.fraction(factors)
-        else:
-            expr = sp.Mul(*[f.expr for f in factors])
+        expr = sp.Mul(*[f.expr for f in factors])
         if all(f.value is not None for f in factors):
             value = 1.0
             for f in factors:
                 value *= f.value  # type: ignore[operator]
-            return self.constant(expr, value, start, self.tok.pos)
+            return self.constant(value, start, self.tok.pos)
         return self.settle(expr)
-
-    @staticmethod
-    def fraction(factors: list[_Node]) -> Any:
-        """Unevaluated numerator/denominator, so a/b/c is typeset as one fraction."""
-        top, negative = [], False
-        for f in factors:
-            if hasattr(f, "divisor"):
-                continue
-            e = f.expr
-            if e.is_Mul and len(e.args) == 2 and e.args[0] == -1:  # a typed leading minus
-                negative, e = not negative, e.args[1]
-            top.append(e)
-        bottom = [f.divisor for f in factors if hasattr(f, "divisor")]  # type: ignore[attr-defined]
-        numerator = top[0] if len(top) == 1 else sp.Mul(*top)
-        if bottom:
-            denominator = bottom[0] if len(bottom) == 1 else sp.Mul(*bottom)
-            inverse = sp.Pow(denominator, -1)
-            numerator = inverse if numerator == 1 else sp.Mul(numerator, inverse)
-        return sp.Mul(-1, numerator) if negative else numerator
 
     def signed(self, where: int) -> _Node:
         t = self.tok
@@ -553,11 +518,8 @@ class _Parser:
             if base.value == 0 and exponent.value < 0:
                 raise self.fail(f"'{self.snippet(start, end)}' divides by zero", start)
             value = self.evaluate(_real_pow, base.value, exponent.value)
-            if self.display and math.isfinite(value):
-                small = not (e.is_Integer and abs(e) > MAX_EXACT_EXPONENT)
-                return self.constant(sp.Pow(b, e) if small else None, value, start, end)
-            return self.constant(None, value, start, end)
-        if exponent.value is not None and not self.display:
+            return self.constant(value, start, end)
+        if exponent.value is not None:
             # A constant exponent is an exact Integer when integral (x^2 stays a polynomial
             # and real for negative x), else a Float. Coefficients are Floats, so sympy
             # distributing (3x)^n = 3^n x^n never builds a big exact number.
@@ -575,7 +537,7 @@ class _Parser:
             except TypeError:  # zoo, nan
                 value = math.nan
             if math.isfinite(value):
-                return _Node(expr if self.display else sp.Float(value), value)
+                return _Node(sp.Float(value), value)
             raise self.fail("part of the equation has no finite real value", None)
         return _Node(expr, None)
 
@@ -597,7 +559,7 @@ class _Parser:
                 rest = self.power(_PLAIN)  # 2x^2 is 2*(x^2)
                 expr = sp.Mul(node.expr, rest.expr)
                 if rest.value is not None:
-                    return self.constant(expr, node.value * rest.value,  # type: ignore[operator]
+                    return self.constant(node.value * rest.value,  # type: ignore[operator]
                                          t.pos, self.tokens[self.i - 1].end)
                 return self.settle(expr)
             return node
@@ -646,8 +608,6 @@ class _Parser:
             raise self.fail(f"number {t.text} is beyond double precision", t.pos)
         if value == 0 and any(c in "123456789" for c in t.text.lower().split("e")[0]):
             raise self.fail(f"number {t.text} underflows to zero in double precision", t.pos)
-        if self.display and t.text.isdigit() and len(t.text.lstrip("0")) <= _EXACT_INT_DIGITS:
-            return _Node(sp.Integer(int(t.text)), value)
         return _Node(sp.Float(value), value)
 
     def name(self, t: _Token) -> _Node:
@@ -711,15 +671,9 @@ class _Parser:
         end = self.tokens[self.i - 1].end
         if all(a.value is not None for a in args):
             value = self.evaluate(fn.value, *[a.value for a in args])
-            if not self.display or not math.isfinite(value):
-                return self.constant(None, value, t.pos, end)  # refused before sympy sees it
-            if t.text in ("min", "max") and not self.display:
-                # Pick by double value: no symbolic comparisons of constants.
-                pick = (min if t.text == "min" else max)(args, key=lambda a: a.value)
-                return self.constant(pick.expr, value, t.pos, end)
-            return self.constant(fn.build(*[a.expr for a in args]), value, t.pos, end)
+            return self.constant(value, t.pos, end)  # refused or folded before sympy sees it
         exprs = [a.expr for a in args]
-        if t.text in ("min", "max") and not self.display:
+        if t.text in ("min", "max"):
             # Fold the constant arguments to one (chosen by double value) before sympy sees them.
             consts = [a for a in args if a.value is not None]
             if len(consts) > 1:
@@ -853,18 +807,12 @@ class _MathtextLatexPrinter(LatexPrinter):
             return mantissa + r" \cdot 10^{" + str(int(exponent)) + "}"
         return text
 
-    def _print_Symbol(self, expr: Any, style: str = "plain") -> str:
-        if expr == DEG:
-            return r"\mathrm{deg}"
-        return super()._print_Symbol(expr, style)
-
 
 _LATEX = _MathtextLatexPrinter({"ln_notation": True})
-_LATEX_AS_TYPED = _MathtextLatexPrinter({"ln_notation": True, "order": "none"})
 
 
-def _latex(expr: Any, as_typed: bool = False) -> str:
-    printer = _LATEX_AS_TYPED if as_typed else _LATEX
+def _latex(expr: Any) -> str:
+    printer = _LATEX
     try:
         tex = printer.doprint(expr)
     except ValueError:  # an integer too long for str(): show it as a float
@@ -1169,17 +1117,13 @@ class Equation:
         import mpmath
 
         fn = self._cache.get("mp")
-        if fn is None:
-            params = [sp.Symbol(n, real=True) for n in self.parameters]
-            fn = sp.lambdify([_Z, DEG, *params],
-                             _prepare(self.symbolic_expr, sp.Symbol(self.unknown, real=True)),
+        if fn is None:  # compiled from expr: parameter values in, so no user name in the code
+            fn = sp.lambdify(_Z, _prepare(self.expr, sp.Symbol(self.unknown, real=True)),
                              modules="mpmath")
             self._cache["mp"] = fn
         with mpmath.workdps(dps):
-            args = [mpmath.mpf(x), mpmath.pi / 180,
-                    *[mpmath.mpf(v) for v in self.parameters.values()]]
             try:
-                r = fn(*args)
+                r = fn(mpmath.mpf(x))
             except (ArithmeticError, ValueError):
                 return mpmath.mpf("nan")
             if isinstance(r, mpmath.mpc):
@@ -1212,8 +1156,7 @@ def _validate_parameters(parameters: Mapping[str, Any] | None) -> dict[str, floa
     return values
 
 
-def _read(text: Any, bindings: Mapping[str, Any],
-          display: bool = False) -> tuple[_Parser, _Node, _Node | None]:
+def _read(text: Any, bindings: Mapping[str, Any]) -> tuple[_Parser, _Node, _Node | None]:
     if not isinstance(text, str):
         raise EquationError(f"equation text must be a string, got {type(text).__name__}")
     if len(text) > MAX_LENGTH:
@@ -1221,24 +1164,18 @@ def _read(text: Any, bindings: Mapping[str, Any],
                             MAX_LENGTH)
     if not text.strip():
         raise EquationError("the equation is empty", None)
-    parser = _Parser(text, _tokenize(text), bindings, display)
+    parser = _Parser(text, _tokenize(text), bindings)
     try:
-        if display:
-            with sp.evaluate(False):
-                lhs, rhs = parser.equation()
-        else:
-            lhs, rhs = parser.equation()
+        lhs, rhs = parser.equation()
     except RecursionError:
         raise EquationError("the equation is nested too deeply", None) from None
     return parser, lhs, rhs
 
 
-def _constant_bindings(display: bool = False) -> dict[str, Any]:
+def _constant_bindings() -> dict[str, Any]:
     deg_value = math.pi / 180
-    if display:
-        return {"pi": _Node(sp.pi, math.pi), "deg": _Node(DEG, deg_value)}
-    return {"pi": _Node(sp.Float(math.pi), math.pi), "deg": _Node(sp.Float(deg_value),
-                                                                  deg_value)}
+    return {"pi": _Node(sp.Float(math.pi), math.pi),
+            "deg": _Node(sp.Float(deg_value), deg_value)}
 
 
 def free_names(text: str) -> tuple[str, ...]:

@@ -682,13 +682,13 @@ class TestHighPrecisionResidual:
         assert abs(r - reference) < mpmath.mpf(10) ** -45
 
     def test_constants_and_parameters_are_the_doubles_f_uses(self):
-        eq = parse_equation("x - pi/3 - a*sin(30deg)", parameters={"a": 0.1})
+        # The residual checks the equation that was solved: pi and 0.1 as doubles.
+        eq = parse_equation("x - a", parameters={"a": 0.1})
+        assert eq.residual_mp(0.1) == 0
         with mpmath.workdps(50):
-            # the doubles of pi/3, sin(30 deg) and 0.1, combined in 50 digits (mpmath)
-            expected = (1 - mpmath.mpf(math.pi / 3)
-                        - mpmath.mpf(0.1) * mpmath.mpf(math.sin(math.pi / 6)))
-            got = eq.residual_mp(1.0, dps=50)
-            assert abs(got - expected) < mpmath.mpf(10) ** -48
+            # 0.3 - 0.1 in 50 digits is not the double 0.3 - 0.1 (mpmath as reference)
+            assert eq.residual_mp(0.3) == mpmath.mpf(0.3) - mpmath.mpf(0.1)
+        assert parse_equation("x - pi").residual_mp(math.pi) == 0
 
     def test_not_real_gives_nan(self):
         eq = parse_equation("sqrt(x)")
