@@ -44,10 +44,16 @@ divides by zero or has no real value (``10^400``, ``1/0``, ``sqrt(-1)``, ``ln(0)
 ``symbolic_expr``) every constant part is then one double and only constant
 exponents stay exact integers (so ``x^2`` stays real for negative x): sympy rewrites
 such as ``exp(n*ln(c*x)) -> c^n x^n`` therefore never build giant exact integers.
-The typeset form is built separately, unevaluated, in the order typed (exact
-``2^{10}``, ``\pi``, ``\mathrm{deg}``). A symbolic derivative estimated at more than
-``2*MAX_DERIVATIVE_NODES`` nodes is not computed (Newton then differentiates
-numerically; ``notes`` says so).
+The typeset form (``latex``) is built as a string straight from the tokens, in the
+order typed (``2^{10}``, ``\pi``, ``\mathrm{deg}``, ``\ln``), mathtext-safe and
+linear in the text.
+
+The derivative comes from a chain rule of our own over the node types the parser
+builds (abs' = sign, max(a, b)' = H(a - b) a' + H(b - a) b' with H(0) = 1/2): sympy's
+diff goes through re/im/conjugate for abs/min/max, which is slow and cannot be
+compiled. A derivative estimated at more than ``2*MAX_DERIVATIVE_NODES`` nodes, or
+under abs/min/max nested more than ``MAX_KINK_NESTING`` deep, is not built: ``fprime``
+is None and ``notes`` says Newton differentiates numerically.
 
 Known effects of sympy's automatic simplification, left as they are: ``x - x`` is 0,
 ``sqrt(x)^2`` is x and ``exp(ln(x))`` is x (so these are defined for x < 0 too), and
