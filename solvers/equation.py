@@ -814,11 +814,11 @@ class _MathtextLatexPrinter(LatexPrinter):
         return text
 
 
-_LATEX = _MathtextLatexPrinter({"ln_notation": True})
+_LATEX_SETTINGS = {"ln_notation": True}  # a printer per call: printers keep state while printing
 
 
 def _latex(expr: Any) -> str:
-    printer = _LATEX
+    printer = _MathtextLatexPrinter(_LATEX_SETTINGS)
     try:
         tex = printer.doprint(expr)
     except ValueError:  # an integer too long for str(): show it as a float
@@ -1428,7 +1428,7 @@ class _Typesetter:
             return _Tex(r"\mathrm{deg}", _ATOM)
         tex = self.symbols.get(t.text)
         if tex is None:
-            tex = self.symbols[t.text] = _LATEX.doprint(sp.Symbol(t.text))
+            tex = self.symbols[t.text] = _latex(sp.Symbol(t.text))
         return _Tex(tex, _ATOM)
 
     @staticmethod

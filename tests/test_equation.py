@@ -701,3 +701,20 @@ def test_equation_is_the_public_record():
     assert isinstance(eq, Equation)
     with pytest.raises(AttributeError):
         eq.unknown = "y"  # frozen
+
+
+def test_parsing_in_worker_threads_gives_the_same_results():
+    # The window parses in worker threads: results must not depend on concurrency.
+    from concurrent.futures import ThreadPoolExecutor
+
+    texts = ["x^2 - a", "sin(x) = b*x", "1/sqrt(x) + 2*log10(c + 2.51/(d*sqrt(x)))",
+             "abs(x - 1) + max(x, a)"] * 10
+    params = {"a": 2.0, "b": 0.3, "c": 1e-4, "d": 1e5}
+
+    def job(text):
+        eq = parse_equation(text, parameters=params)
+        return eq.latex, eq.derivative_latex, eq.f(0.7), eq.fprime(0.7)
+
+    serial = [job(t) for t in texts]
+    with ThreadPoolExecutor(4) as pool:
+        assert list(pool.map(job, texts)) == serial
