@@ -864,7 +864,10 @@ def _prepare(expr: Any, unknown: Any) -> Any:
 def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
     """f(x) for float or array x; floats in give a float out; never raises on domain errors."""
     code = _prepare(expr, unknown)
-    vector = sp.lambdify(_Z, code, modules="numpy", printer=_VectorPrinter)
+    # A dict namespace, not the string "numpy": the string makes lambdify probe every numpy
+    # attribute, which imports numpy.f2py and friends (~0.1 s of start-up); the printer adds
+    # the "from numpy import ..." lines the code needs.
+    vector = sp.lambdify(_Z, code, modules=[{"numpy": np}], printer=_VectorPrinter)
     scalar: Any = None  # the math-module path, compiled at the first scalar call
 
     def compile_scalar() -> Any:

@@ -40,7 +40,7 @@ from typing import Any
 FORMAT = "zerotrace-worksheet"
 VERSION = 1
 MAX_FILE_BYTES = 2_000_000  # a worksheet is a few kB; refuse anything absurd before parsing
-MAX_TEXT = 10_000  # characters in the equation
+MAX_TEXT = 2_000  # characters in the equation: the parser's own limit (equation.MAX_LENGTH)
 MAX_NOTE = 100_000  # characters in free text fields
 MAX_PARAMETERS = 500
 

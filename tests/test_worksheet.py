@@ -185,3 +185,13 @@ def test_saving_into_a_missing_folder_raises_oserror(tmp_path: Path) -> None:
 def test_saved_file_is_strict_json(tmp_path: Path) -> None:
     wsmod.save(_sheet(), tmp_path / "w.json")
     json.loads((tmp_path / "w.json").read_text("utf-8"), parse_constant=pytest.fail)
+
+
+def test_equation_length_limit_matches_the_parser() -> None:
+    from solvers.equation import MAX_LENGTH
+
+    assert wsmod.MAX_TEXT == MAX_LENGTH
+    data = _valid_dict()
+    data["equation"] = "x" + " + x" * MAX_LENGTH
+    with pytest.raises(WorksheetError, match="^equation: too long"):
+        wsmod.from_dict(data)
