@@ -1113,7 +1113,12 @@ class Equation:
     def derivative_latex(self) -> str:
         """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none."""
         d = self.symbolic_derivative
-        return "" if d is None else _latex(d)
+        if d is None:
+            return ""
+        # Constants folded while differentiating (1/3.7 -> 0.27027027027027) are shown to
+        # six significant figures: the typeset form is for reading; f' itself is exact.
+        short = {c: sp.Float(float(f"{float(c):.6g}")) for c in d.atoms(sp.Float)}
+        return _latex(d.xreplace(short) if short else d)
 
     def residual_mp(self, x: Any, dps: int = 50) -> Any:
         """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).

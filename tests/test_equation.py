@@ -718,3 +718,17 @@ def test_parsing_in_worker_threads_gives_the_same_results():
     serial = [job(t) for t in texts]
     with ThreadPoolExecutor(4) as pool:
         assert list(pool.map(job, texts)) == serial
+
+
+def test_typeset_derivative_shows_folded_constants_to_six_figures() -> None:
+    # 1/3.7 is folded to 0.27027027027027 while differentiating; the reader sees 0.27027.
+    eq = parse_equation(
+        "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))",
+        parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5},
+    )
+    assert "0.27027 " in eq.derivative_latex
+    assert "0.2702702" not in eq.derivative_latex
+    # The derivative used for numbers keeps full precision: check it against a central difference.
+    h = 1e-7
+    numeric = (eq.f(0.02 + h) - eq.f(0.02 - h)) / (2 * h)
+    assert eq.fprime(0.02) == pytest.approx(numeric, rel=1e-6)
