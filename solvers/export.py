@@ -16,12 +16,11 @@ import csv
 import io
 import math
 import os
-import tempfile
 from collections.abc import Iterable, Mapping
 from datetime import datetime, timezone
-from pathlib import Path
 from typing import IO, Any
 
+from solvers.files import write_atomic
 from solvers.result import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
@@ -126,36 +125,11 @@ def _write_table(handle: IO[str], meta: Mapping[str, str], header, rows) -> None
     writer.writerows(rows)
 
 
-def write_text_atomic(path: str | os.PathLike[str], text: str, *, overwrite: bool = True) -> Path:
-    """Write text to ``path`` via a temp file and rename; refuse to replace unless ``overwrite``.
-
-    Raises FileExistsError when the file exists and overwrite is False, OSError when
-    the folder is not writable; in both cases nothing at ``path`` changes.
-    """
-    target = Path(path)
-    if target.exists() and not overwrite:
-        raise FileExistsError(f"{target}: already exists (use --force to replace it)")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
-    return target
-
-
 def _emit(target: str | os.PathLike[str] | IO[str], text: str, overwrite: bool) -> None:
     if hasattr(target, "write"):
         target.write(text)  # type: ignore[union-attr]
     else:
-        write_text_atomic(target, text, overwrite=overwrite)  # type: ignore[arg-type]
+        write_atomic(target, text.encode("utf-8"), overwrite=overwrite)  # type: ignore[arg-type]
 
 
 def runs_csv(

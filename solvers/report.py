@@ -92,6 +92,7 @@ from reportlab.platypus import (
 )
 
 from solvers import export, pipeline
+from solvers.files import write_atomic
 from solvers.result import REASON_TEXT, Run
 from solvers.worksheet import Worksheet, dumps
 
@@ -320,22 +321,6 @@ def _prepare_csv_dir(csv_dir: Path) -> Path:
             f"{csv_dir}: cannot create the CSV folder ({exc.strerror or exc})"
         ) from None
     return csv_dir
-
-
-def _write_bytes_atomic(path: Path, data: bytes) -> None:
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
 
 
 # --------------------------------------------------------------------- images
@@ -1121,7 +1106,7 @@ def write_report(
                 export.runs_csv(solution.runs, target, meta=meta, overwrite=overwrite)
             else:
                 export.roots_csv(scan, target, meta=meta, overwrite=overwrite)
-        _write_bytes_atomic(pdf, data)
+        write_atomic(pdf, data)
     except OSError as exc:
         raise ReportError(f"cannot write the report: {exc}") from None
     report(1.0)

@@ -31,11 +31,12 @@ from __future__ import annotations
 import json
 import math
 import os
-import tempfile
 from collections.abc import Mapping
 from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
 from typing import Any
+
+from solvers.files import write_atomic
 
 FORMAT = "zerotrace-worksheet"
 VERSION = 1
@@ -382,24 +383,9 @@ def load(path: str | os.PathLike[str]) -> Worksheet:
 
 
 def save(ws: Worksheet, path: str | os.PathLike[str]) -> None:
-    """Write atomically: temp file in the same folder, fsync, then rename over ``path``.
+    """Write atomically (see :func:`solvers.files.write_atomic`).
 
     Raises ``OSError`` (for example a read-only folder or a full disk); the previous
     file at ``path``, if any, is untouched in that case and the temp file removed.
     """
-    target = Path(path)
-    text = dumps(ws)
-    folder = target.parent if str(target.parent) else Path(".")
-    fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp_name, target)
-    except BaseException:
-        try:
-            os.unlink(tmp_name)
-        except OSError:
-            pass
-        raise
+    write_atomic(path, dumps(ws).encode("utf-8"))
