@@ -171,3 +171,37 @@ def test_console_script_exit_code_and_no_traceback() -> None:
     )
     assert proc.returncode == 2
     assert "Traceback" not in proc.stderr and len(proc.stderr.strip().splitlines()) == 1
+
+
+def test_numpy_warnings_do_not_leak_and_domain_errors_are_results() -> None:
+    # sqrt of a negative and ln of zero inside every method and the scan: results, no warnings.
+    proc = subprocess.run(
+        [sys.executable, "-W", "default", "-m", "app.cli", "solve", "sqrt(x) + ln(x) - 1",
+         "--x0", "-1", "--bracket", "-1", "2", "--method", "newton", "--method", "secant",
+         "--method", "brent", "--json"],
+        capture_output=True, text=True, timeout=120,
+    )
+    assert proc.returncode == 0
+    assert proc.stderr == ""
+    runs = {r["method"]: r for r in json.loads(proc.stdout)["runs"]}
+    assert runs["newton"]["reason"] == "not_finite" and not runs["newton"]["converged"]
+    scan = subprocess.run(
+        [sys.executable, "-W", "default", "-m", "app.cli", "scan", "sqrt(x) + ln(x) - 1",
+         "--from", "-1", "--to", "3", "--json"],
+        capture_output=True, text=True, timeout=120,
+    )
+    assert scan.returncode == 0 and scan.stderr == ""
+    data = json.loads(scan.stdout)
+    # The one root of sqrt(x) + ln(x) = 1 is x = 1 exactly (sqrt(1) + ln(1) = 1; by inspection).
+    assert [r["x"] for r in data["roots"]] == [pytest.approx(1.0, abs=1e-15)]
+    assert data["gaps"] and data["gaps"][0][0] == -1.0  # undefined for x < 0, said so
+
+
+def test_unwritable_output_is_one_line_and_exit_2(capsys, tmp_path: Path) -> None:
+    code, _, err = run(capsys, "solve", "x - 1", "--x0", "0", "--csv", "/proc/zerotrace-log.csv")
+    assert code == 2 and "cannot write" in err and len(err.strip().splitlines()) == 1
+    missing = str(tmp_path / "no" / "l.csv")
+    code, _, err = run(capsys, "solve", "x - 1", "--x0", "0", "--csv", missing)
+    assert code == 2 and "does not exist" in err
+    code, _, err = run(capsys, "solve", "x - 1", "--x0", "0", "--csv", str(tmp_path))
+    assert code == 2 and "is a folder" in err
