@@ -205,3 +205,21 @@ def test_unwritable_output_is_one_line_and_exit_2(capsys, tmp_path: Path) -> Non
     assert code == 2 and "does not exist" in err
     code, _, err = run(capsys, "solve", "x - 1", "--x0", "0", "--csv", str(tmp_path))
     assert code == 2 and "is a folder" in err
+
+
+def test_a_hostile_worksheet_runs_nothing_and_exits_2(capsys, tmp_path: Path) -> None:
+    sentinel = tmp_path / "pwned"
+    sheet = json.loads((SAMPLES / "project-irr.json").read_text("utf-8"))
+    sheet["equation"] = f"__import__('os').system('touch {sentinel}')"
+    sheet["parameters"].append({"name": "__class__", "value": 1.0})
+    path = tmp_path / "from a colleague.json"
+    path.write_text(json.dumps(sheet), "utf-8")
+    code, out, err = run(capsys, "solve", "--worksheet", str(path))
+    assert code == 2 and "parameters[8].name" in err  # refused at load, naming the field
+    sheet["parameters"].pop()
+    path.write_text(json.dumps(sheet), "utf-8")
+    code, out, err = run(capsys, "solve", "--worksheet", str(path))
+    assert code == 2 and out == "" and len(err.strip().splitlines()) == 1
+    code, _, err = run(capsys, "report", str(path), "--pdf", str(tmp_path / "sheet.pdf"))
+    assert code == 2
+    assert not sentinel.exists() and not (tmp_path / "sheet.pdf").exists()
