@@ -406,10 +406,9 @@ COMMANDS: dict[str, Callable[[argparse.Namespace], int]] = {
 }
 
 
-def _bad_input_types() -> tuple[type[BaseException], ...]:
-    """Exceptions that mean 'bad input' (imported lazily to keep start-up light)."""
-    types: list[type[BaseException]] = [InputError, ValueError, FileExistsError]
-    return tuple(types)
+# Exceptions that mean 'bad input'. EquationError, WorksheetError and ReportError are
+# ValueErrors, so the core's modules need not be imported before a command runs.
+BAD_INPUT: tuple[type[BaseException], ...] = (InputError, ValueError, FileExistsError)
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -427,7 +426,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         if args.command is None:
             raise InputError("zerotrace: give a command: solve, scan or report (see --help)")
         return COMMANDS[args.command](args)
-    except _bad_input_types() as exc:
+    except BAD_INPUT as exc:
         # EquationError and WorksheetError are ValueErrors carrying a one-line message.
         message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         position = getattr(exc, "position", None)

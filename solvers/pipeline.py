@@ -23,7 +23,7 @@ from dataclasses import dataclass, replace
 
 from solvers.equation import Equation, parse_equation
 from solvers.methods import METHODS
-from solvers.result import Run
+from solvers.result import NO_SIGN_CHANGE, Run
 from solvers.scan import Scan, scan
 from solvers.worksheet import Settings, Worksheet
 
@@ -63,10 +63,6 @@ class Solution:
 def equation_of(ws: Worksheet) -> Equation:
     """Parse the worksheet's equation with its parameters (raises EquationError)."""
     return parse_equation(ws.equation, unknown=ws.unknown, parameters=ws.parameter_values())
-
-
-def _finite(value: float) -> bool:
-    return isinstance(value, float) and math.isfinite(value)
 
 
 def _evaluate(f: Callable[[float], float], x: float) -> float:
@@ -147,9 +143,7 @@ def _tolerances(s: Settings) -> dict[str, float | int]:
     return {"xtol": s.xtol, "rtol": s.rtol, "ftol": s.ftol, "max_iter": s.max_iter}
 
 
-def _no_bracket_run(name: str, sv: StartValues) -> Run:
-    from solvers.result import NO_SIGN_CHANGE
-
+def _no_bracket_run(name: str) -> Run:
     return Run(
         method=name,
         root=math.nan,
@@ -184,7 +178,7 @@ def run_methods(equation: Equation, sv: StartValues, settings: Settings) -> tupl
         if spec is None:
             raise ValueError(f"unknown method {name!r}; choose from {', '.join(METHODS)}")
         if spec.kind == "bracket" and sv.bracket is None:
-            runs.append(_no_bracket_run(name, sv))
+            runs.append(_no_bracket_run(name))
             continue
         kwargs = _ARGUMENTS[spec.kind](equation, sv, settings)
         runs.append(spec.function(equation.f, **kwargs, **tol))
