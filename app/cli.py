@@ -14,6 +14,7 @@ from __future__ import annotations
 import argparse
 import json
 import math
+import re
 import sys
 from collections.abc import Callable, Sequence
 from dataclasses import replace
@@ -36,6 +37,8 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports errors as one line and exit 2 (its own default is 2 plus usage)."""
 
     def error(self, message: str) -> NoReturn:
+        if message.startswith("unrecognized arguments: -"):
+            message += " (an equation that looks like an option goes after '--')"
         raise InputError(f"{self.prog}: {message}")
 
 
@@ -50,6 +53,7 @@ def _method_name(text: str) -> str:
 
 
 def _finite(text: str) -> float:
+    text = text.strip()  # a value that starts with '-' arrives marked (see _mark_values)
     try:
         value = float(text)
     except ValueError:
@@ -67,6 +71,7 @@ def _nonneg(text: str) -> float:
 
 
 def _count(text: str) -> int:
+    text = text.strip()
     try:
         value = int(text)
     except ValueError:
@@ -417,7 +422,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         return cmd_window(argv)
     parser = _build_parser()
     try:
-        args = parser.parse_args(argv)
+        marked_argv, marked = _mark_values(argv)
+        args = parser.parse_args(marked_argv)
+        _unmark(args, marked)
         if args.version:
             from solvers.export import tool_version
 
@@ -439,6 +446,43 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
+
+# argparse reads any token that starts with '-' as an option unless it is a plain negative
+# number (-3, -0.5): an equation such as -x^2+4 or a value such as -1e-8 would be refused.
+# Tokens that cannot be options are marked with a leading space before parsing (argparse
+# then takes them as values) and unmarked afterwards.
+_OPTION_LIKE = re.compile(r"-[A-Za-z]+|--[A-Za-z][A-Za-z0-9-]*(=.*)?", re.DOTALL)
+_MARK = " "
+
+
+def _is_number(token: str) -> bool:
+    try:
+        float(token)
+    except ValueError:
+        return False
+    return True
+
+
+def _mark_values(argv: list[str]) -> tuple[list[str], set[str]]:
+    """argv with value-like tokens marked, and the set of marked tokens."""
+    out: list[str] = []
+    changed: set[str] = set()
+    for i, token in enumerate(argv):
+        if token == "--":  # the user's own end of options: leave the rest as typed
+            return out + argv[i:], changed
+        if token.startswith("-") and len(token) > 1 and (
+            _is_number(token) or not _OPTION_LIKE.fullmatch(token)
+        ):
+            token = _MARK + token
+            changed.add(token)
+        out.append(token)
+    return out, changed
+
+
+def _unmark(args: argparse.Namespace, marked: set[str]) -> None:
+    for name, value in vars(args).items():
+        if isinstance(value, str) and value in marked:
+            setattr(args, name, value[len(_MARK):])
 
 
 if __name__ == "__main__":

@@ -17,7 +17,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
-from app.window.views import CopyTableView
+from app.window.views import CopyTableView, FittedNumberDelegate
 from solvers.figures import method_color, method_label
 from solvers.result import REASON_TEXT, Run
 
@@ -75,7 +75,18 @@ class MethodLane(QFrame):
         self.table = CopyTableView()
         self.table.setObjectName(f"table_{method}")
         self.table.setModel(self.model)
-        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        # The columns share the lane's width: a column half past the edge shows only the
+        # leading digits of a right-aligned number (5.465405906e-12 read as 5.4654). A
+        # number too long for its cell drops trailing digits instead, keeping its exponent.
+        self.delegate = FittedNumberDelegate(DEFAULT_DIGITS, self.table)
+        self.table.setItemDelegate(self.delegate)
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Fixed)
+        header.setStretchLastSection(False)  # all number columns stretch alike
+        header.setMinimumSectionSize(32)
+        self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
                               "the selection as tab-separated text)")
         self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
@@ -102,16 +113,15 @@ class MethodLane(QFrame):
         self._refresh()
 
     def _size_columns(self) -> None:
-        # Widths from the number format, not from every cell (resizeColumnsToContents
-        # reads each cell and was a third of the time from Solve to a full screen).
+        # Only the iterate number has a width of its own; the number columns stretch
+        # (no cell is read to size them: resizeColumnsToContents was a third of the time
+        # from Solve to a full screen).
         metrics = self.table.fontMetrics()
-        number = metrics.horizontalAdvance("-8." + "8" * (self._digits - 1) + "e-100") + 10
         self.table.setColumnWidth(0, metrics.horizontalAdvance("8888") + 12)
-        for c in range(1, self.model.columnCount()):
-            self.table.setColumnWidth(c, number)
 
     def set_digits(self, digits: int) -> None:
         self._digits = digits
+        self.delegate.digits = digits
         self.model.set_digits(digits)
         self._size_columns()
         self._refresh()

@@ -2,9 +2,53 @@
 
 from __future__ import annotations
 
+import math
+
 from PySide6.QtCore import QModelIndex, Qt
-from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
-from PySide6.QtWidgets import QAbstractItemView, QHeaderView, QMenu, QTableView, QWidget
+from PySide6.QtGui import QAction, QFontMetrics, QGuiApplication, QKeySequence
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QHeaderView,
+    QMenu,
+    QStyledItemDelegate,
+    QStyleOptionViewItem,
+    QTableView,
+    QWidget,
+)
+
+CELL_PADDING = 8  # pixels the style keeps free inside a cell
+
+
+def fitted_text(value: float, digits: int, metrics: QFontMetrics, width: int) -> str:
+    """``value`` with at most ``digits`` significant figures, fewer if needed to fit ``width``.
+
+    A number cut at the cell edge reads as a different number (5.465405906e-12 seen as
+    "5.4654"); dropping trailing digits, as a spreadsheet does, keeps the magnitude and
+    the exponent. The full value is in the tooltip and in every copy.
+    """
+    if not math.isfinite(value):
+        return "undefined" if math.isnan(value) else ("+inf" if value > 0 else "-inf")
+    text = f"{value:.{digits}g}"
+    for d in range(digits - 1, 0, -1):
+        if metrics.horizontalAdvance(text) <= width:
+            break
+        text = f"{value:.{d}g}"
+    return text
+
+
+class FittedNumberDelegate(QStyledItemDelegate):
+    """Shows float cells with as many of the model's digits as the column has room for."""
+
+    def __init__(self, digits: int, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.digits = digits
+
+    def initStyleOption(self, option: QStyleOptionViewItem, index: QModelIndex) -> None:  # noqa: N802
+        super().initStyleOption(option, index)
+        raw = index.data(Qt.ItemDataRole.UserRole)
+        if isinstance(raw, float):
+            option.text = fitted_text(raw, self.digits, QFontMetrics(option.font),
+                                      option.rect.width() - CELL_PADDING)
 
 
 def table_text(view: QTableView, *, selection_only: bool = True) -> str:

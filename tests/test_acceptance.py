@@ -1,0 +1,75 @@
+"""Acceptance checks: the headless side used as an engineer would, with invented numbers.
+
+Each test pins a defect found by trying the program on design-style equations (all
+numbers below are invented for the test). The outside reference is named beside
+each check.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pytest
+
+from app.cli import main
+
+
+def run(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+# ------------------------------------------------ equations and numbers that start with '-'
+
+
+def test_an_equation_starting_with_a_minus_sign_is_solved(capsys) -> None:
+    # Invented: a bare quadratic typed without spaces, as engineers often do.
+    code, out, err = run(capsys, "solve", "-x^2+4", "--x0", "1", "--method", "newton", "--json")
+    assert code == 0, err
+    root = json.loads(out)["runs"][0]["root"]
+    assert root == pytest.approx(math.sqrt(4.0), rel=4e-16)  # math.sqrt reference
+
+
+def test_cash_flows_starting_with_the_investment_scan_without_spaces(capsys) -> None:
+    # Invented project: -100 now, +230 after one year, -132 after two. In y = 1/(1+r) the
+    # NPV is -132 y^2 + 230 y - 100, whose roots numpy.roots gives; r = 1/y - 1.
+    code, out, err = run(
+        capsys, "scan", "-100+230/(1+r)-132/(1+r)^2", "--from", "0", "--to", "1", "--json"
+    )
+    assert code == 0, err
+    expected = sorted(1 / y - 1 for y in np.roots([-132.0, 230.0, -100.0]).real)  # numpy.roots
+    found = [r["x"] for r in json.loads(out)["roots"]]
+    assert found == pytest.approx(expected, rel=1e-14)
+
+
+def test_negative_values_in_scientific_notation_are_accepted(capsys) -> None:
+    # Invented: two roots a few nanometres either side of zero (a gap dimension in m).
+    code, out, err = run(
+        capsys, "scan", "(x-1e-9)*(x+2e-9)", "--from", "-1e-8", "--to", "1e-8", "--json"
+    )
+    assert code == 0, err
+    expected = sorted(np.roots([1.0, 1e-9, -2e-18]).real)  # numpy.roots reference
+    found = [r["x"] for r in json.loads(out)["roots"]]
+    assert found == pytest.approx(expected, rel=1e-12)
+
+
+def test_negative_bracket_and_start_in_scientific_notation(capsys) -> None:
+    # x^3 = -2: the real root is -cbrt(2) (numpy.cbrt reference).
+    code, out, err = run(
+        capsys, "solve", "x^3 + 2", "--x0", "-1.5e0", "--bracket", "-2e0", "-1e0",
+        "--method", "newton", "--method", "brent", "--json",
+    )
+    assert code == 0, err
+    for r in json.loads(out)["runs"]:
+        assert r["converged"]
+        assert r["root"] == pytest.approx(-float(np.cbrt(2.0)), rel=4e-16)  # numpy.cbrt
+
+
+def test_an_output_path_starting_with_a_minus_is_a_path(capsys, tmp_path, monkeypatch) -> None:
+    monkeypatch.chdir(tmp_path)
+    code, _, err = run(capsys, "solve", "x^2 - 2", "--x0", "1", "--csv", "-log.csv")
+    assert code == 0, err
+    assert (tmp_path / "-log.csv").exists()
