@@ -57,3 +57,17 @@ def test_no_lane_column_is_cut_off_at_the_window_edge(qtbot, window):
                 assert QFontMetrics(option.font).horizontalAdvance(option.text) <= \
                     option.rect.width(), (lane.method, option.text)
                 assert float(option.text) == pytest.approx(raw, rel=0.5), (option.text, raw)
+
+
+def test_a_run_that_did_not_converge_never_shows_a_root(qtbot, window):
+    """x^2 + 1 has no real root (common practice): no lane may label its last iterate a root."""
+    type_equation(qtbot, window, "x^2 + 1")
+    window.inputs.set_field("x0", 0.5)
+    window.inputs.set_field("a", -1.0)
+    window.inputs.set_field("b", 2.0)
+    solution = solve_and_wait(qtbot, window)
+    assert not any(r.converged for r in solution.runs)
+    for lane in window.lanes.lanes.values():
+        text = lane.summary.text()
+        assert not text.startswith("root"), text
+        assert "last x" in text, text

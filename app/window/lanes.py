@@ -26,10 +26,15 @@ OK_STYLE = "color: #1F5F3F; font-weight: bold;"
 
 
 def summary_text(run: Run, digits: int) -> str:
-    """Root, iterates, evaluations, stop reason and observed order, on one line."""
+    """Root, iterates, evaluations, stop reason and observed order, on two lines.
+
+    A run that did not converge has no root: its last iterate is shown as "last x" so it
+    can never be copied into a design as one.
+    """
     order = run.order
     order_text = f"{order:.2f}" if order is not None else "n/a"
-    return (f"root {format_number(run.root, digits)}   stop: {run.reason}\n"
+    what = "root" if run.converged else "last x"
+    return (f"{what} {format_number(run.root, digits)}   stop: {run.reason}\n"
             f"{_count(run.iterations, 'iterate')} · {_count(run.evaluations, 'evaluation')} · "
             f"order ≈ {order_text}")
 
