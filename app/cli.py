@@ -437,7 +437,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         # EquationError and WorksheetError are ValueErrors carrying a one-line message.
         message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
         position = getattr(exc, "position", None)
-        where = f" (column {position + 1})" if isinstance(position, int) else ""
+        # EquationError messages already say where ("at column N" or "line L, column N").
+        shown = isinstance(position, int) and "column" not in message
+        where = f" (column {position + 1})" if shown else ""
         print(f"error: {message}{where}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except OSError as exc:
@@ -446,6 +448,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
+
 
 # argparse reads any token that starts with '-' as an option unless it is a plain negative
 # number (-3, -0.5): an equation such as -x^2+4 or a value such as -1e-8 would be refused.

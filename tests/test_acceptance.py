@@ -73,3 +73,14 @@ def test_an_output_path_starting_with_a_minus_is_a_path(capsys, tmp_path, monkey
     code, _, err = run(capsys, "solve", "x^2 - 2", "--x0", "1", "--csv", "-log.csv")
     assert code == 0, err
     assert (tmp_path / "-log.csv").exists()
+
+
+# ------------------------------------------------ error lines
+
+
+def test_an_equation_error_names_its_column_once(capsys) -> None:
+    code, _, err = run(capsys, "solve", "x +* 2", "--x0", "1")
+    assert code == 2
+    line = err.strip()
+    assert "\n" not in line
+    assert line.count("column 4") == 1, line  # '*' is the 4th character (common practice)
