@@ -313,9 +313,11 @@ def _json_out(data: dict) -> None:
 # ----------------------------------------------------------------- commands
 
 
-def _output_path(path: str, force: bool) -> str:
+def _output_path(path: str, force: bool, flag: str) -> str:
     from pathlib import Path
 
+    if not path.strip():
+        raise InputError(f"{flag}: the path is empty; give a file name")
     p = Path(path)
     if p.is_dir():
         raise InputError(f"{path}: is a folder; give a file name")
@@ -330,7 +332,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
     from solvers import export, pipeline
 
     ws = _worksheet_from_args(args)
-    csv_path = _output_path(args.csv, args.force) if args.csv else None
+    csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
     solution = pipeline.solve(ws)
     if csv_path:
         try:
@@ -357,7 +359,7 @@ def cmd_scan(args: argparse.Namespace) -> int:
     if not start < stop:
         raise InputError("zerotrace scan: --from must be less than --to")
     ws = replace(ws, scan=(start, stop))
-    csv_path = _output_path(args.csv, args.force) if args.csv else None
+    csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
     equation = pipeline.equation_of(ws)
     result = pipeline.scan_worksheet(ws, equation)
     if csv_path:
@@ -382,10 +384,12 @@ def cmd_report(args: argparse.Namespace) -> int:
     from solvers import report
 
     ws = _load_worksheet(args.worksheet)
-    _output_path(args.pdf, args.force)
+    _output_path(args.pdf, args.force, "--pdf")
     if args.csv_dir is not None:
         from pathlib import Path
 
+        if not args.csv_dir.strip():
+            raise InputError("--csv-dir: the path is empty; give a folder")
         if not Path(args.csv_dir).is_dir():
             raise InputError(f"{args.csv_dir}: no such folder for the CSV files")
     result = report.write_report(

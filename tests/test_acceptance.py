@@ -84,3 +84,10 @@ def test_an_equation_error_names_its_column_once(capsys) -> None:
     line = err.strip()
     assert "\n" not in line
     assert line.count("column 4") == 1, line  # '*' is the 4th character (common practice)
+
+
+def test_an_empty_csv_path_is_refused_not_ignored(capsys) -> None:
+    code, out, err = run(capsys, "solve", "x^2 - 2", "--x0", "1", "--csv", "")
+    assert code == 2
+    assert out == ""
+    assert "--csv" in err and "empty" in err
