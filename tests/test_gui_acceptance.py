@@ -71,3 +71,16 @@ def test_a_run_that_did_not_converge_never_shows_a_root(qtbot, window):
         text = lane.summary.text()
         assert not text.startswith("root"), text
         assert "last x" in text, text
+
+
+def test_each_lane_carries_its_method_colour(qtbot, window):
+    """The lane's colour stripe is what ties it to its path and convergence line (the
+    Okabe–Ito palette in solvers.figures); it must actually be painted."""
+    from PySide6.QtGui import QColor
+
+    from solvers.figures import method_color
+
+    for method, lane in window.lanes.lanes.items():
+        image = lane.title.grab().toImage()
+        pixel = image.pixelColor(1, image.height() // 2)
+        assert pixel == QColor(method_color(method)), (method, pixel.name())

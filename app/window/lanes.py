@@ -64,8 +64,10 @@ class MethodLane(QFrame):
         self.setFrameShape(QFrame.Shape.StyledPanel)
         color = method_color(method)
         self.title = QLabel(method_label(method))
-        self.title.setStyleSheet(f"font-weight: bold; border-left: 6px solid {color};"
-                                 " padding-left: 5px;")
+        # Qt paints a one-sided border only when the rule names the widget and clears the
+        # others; without the selector the stripe silently never appeared.
+        self.title.setStyleSheet(f"QLabel {{ font-weight: bold; border: none; "
+                                 f"border-left: 6px solid {color}; padding-left: 5px; }}")
         self.verdict = QLabel("not run yet")
         self.verdict.setObjectName(f"verdict_{method}")
         self.verdict.setWordWrap(True)
