@@ -402,7 +402,23 @@ def cmd_report(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _no_display() -> bool:
+    """True on Linux when Qt would find no screen (it aborts the process then)."""
+    import os
+
+    if not sys.platform.startswith("linux") or os.environ.get("QT_QPA_PLATFORM"):
+        return False
+    return not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+
+
 def cmd_window(argv: Sequence[str]) -> int:
+    if _no_display():
+        print(
+            "error: zerotrace: no display for the window (DISPLAY and WAYLAND_DISPLAY are unset); "
+            "use 'zerotrace solve', 'scan' or 'report' headless",
+            file=sys.stderr,
+        )
+        return EXIT_BAD_INPUT
     from app.window import main as window_main
 
     return window_main(list(argv))
@@ -418,41 +434,6 @@ COMMANDS: dict[str, Callable[[argparse.Namespace], int]] = {
 # Exceptions that mean 'bad input'. EquationError, WorksheetError and ReportError are
 # ValueErrors, so the core's modules need not be imported before a command runs.
 BAD_INPUT: tuple[type[BaseException], ...] = (InputError, ValueError, FileExistsError)
-
-
-def main(argv: Sequence[str] | None = None) -> int:
-    argv = list(sys.argv[1:] if argv is None else argv)
-    if not argv:
-        return cmd_window(argv)
-    parser = _build_parser()
-    try:
-        marked_argv, marked = _mark_values(argv)
-        args = parser.parse_args(marked_argv)
-        _unmark(args, marked)
-        if args.version:
-            from solvers.export import tool_version
-
-            print(f"zerotrace {tool_version()}")
-            return EXIT_OK
-        if args.command is None:
-            raise InputError("zerotrace: give a command: solve, scan or report (see --help)")
-        return COMMANDS[args.command](args)
-    except BAD_INPUT as exc:
-        # EquationError and WorksheetError are ValueErrors carrying a one-line message.
-        message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
-        position = getattr(exc, "position", None)
-        # EquationError messages already say where ("at column N" or "line L, column N").
-        shown = isinstance(position, int) and "column" not in message
-        where = f" (column {position + 1})" if shown else ""
-        print(f"error: {message}{where}", file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except OSError as exc:
-        print(f"error: {exc.filename or ''} {exc.strerror or exc}".strip(), file=sys.stderr)
-        return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
-        print("interrupted", file=sys.stderr)
-        return 130
-
 
 # argparse reads any token that starts with '-' as an option unless it is a plain negative
 # number (-3, -0.5): an equation such as -x^2+4 or a value such as -1e-8 would be refused.
@@ -490,6 +471,40 @@ def _unmark(args: argparse.Namespace, marked: set[str]) -> None:
     for name, value in vars(args).items():
         if isinstance(value, str) and value in marked:
             setattr(args, name, value[len(_MARK):])
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    argv = list(sys.argv[1:] if argv is None else argv)
+    if not argv:
+        return cmd_window(argv)
+    parser = _build_parser()
+    try:
+        marked_argv, marked = _mark_values(argv)
+        args = parser.parse_args(marked_argv)
+        _unmark(args, marked)
+        if args.version:
+            from solvers.export import tool_version
+
+            print(f"zerotrace {tool_version()}")
+            return EXIT_OK
+        if args.command is None:
+            raise InputError("zerotrace: give a command: solve, scan or report (see --help)")
+        return COMMANDS[args.command](args)
+    except BAD_INPUT as exc:
+        # EquationError and WorksheetError are ValueErrors carrying a one-line message.
+        message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        position = getattr(exc, "position", None)
+        # EquationError messages already say where ("at column N" or "line L, column N").
+        shown = isinstance(position, int) and "column" not in message
+        where = f" (column {position + 1})" if shown else ""
+        print(f"error: {message}{where}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except OSError as exc:
+        print(f"error: {exc.filename or ''} {exc.strerror or exc}".strip(), file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
 
 
 if __name__ == "__main__":

@@ -91,3 +91,17 @@ def test_an_empty_csv_path_is_refused_not_ignored(capsys) -> None:
     assert code == 2
     assert out == ""
     assert "--csv" in err and "empty" in err
+
+
+def test_the_window_without_a_display_is_one_line_exit_2(capsys, monkeypatch) -> None:
+    # On Linux with no X or Wayland display and no Qt platform chosen, Qt aborts the
+    # process; the command must say so in one line instead.
+    monkeypatch.setattr("sys.platform", "linux")
+    for name in ("DISPLAY", "WAYLAND_DISPLAY", "QT_QPA_PLATFORM"):
+        monkeypatch.delenv(name, raising=False)
+    # Never start Qt here (it would abort this test process): the window must not be reached.
+    monkeypatch.setattr("app.window.main", lambda argv: pytest.fail("window started"))
+    code, _, err = run(capsys)
+    assert code == 2
+    assert len(err.strip().splitlines()) == 1
+    assert "display" in err
