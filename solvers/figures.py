@@ -74,7 +74,15 @@ def method_color(name: str) -> str:
 
 
 def method_label(name: str) -> str:
+    """The method's name as it reads inside a sentence ("… the secant and Newton–Raphson")."""
     return METHOD_LABELS.get(name, name.replace("_", " "))
+
+
+def method_title(name: str) -> str:
+    """The method's name as a title or legend entry: first letter capital, like the
+    calculation sheet's ("Newton–Raphson", "Secant", "False position")."""
+    label = method_label(name)
+    return label[:1].upper() + label[1:]
 
 
 @dataclass(frozen=True)
@@ -257,7 +265,7 @@ def _draw_iterates(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> No
     color = method_color(run.method)
     steps = _finite_steps(run, limit)
     ax.plot([s.x for s in steps], [s.fx for s in steps], marker="o", markersize=4,
-            linestyle="none", color=color, zorder=5, label=f"{method_label(run.method)} iterates")
+            linestyle="none", color=color, zorder=5, label=f"{method_title(run.method)} iterates")
     # Number the first iterates so table rows and picture can be matched; skip a label
     # that would sit on top of the previous one (iterates crowd near the root).
     lo, hi = ax.get_xlim()
@@ -360,7 +368,7 @@ def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual"
         any_points = True
         ax.plot(ks, vs, color=method_color(run.method), marker=markers.get(run.method, "o"),
                 markersize=4, linewidth=1.4, linestyle="-" if run.converged else "--",
-                label=method_label(run.method) + ("" if run.converged else " (did not converge)"))
+                label=method_title(run.method) + ("" if run.converged else " (did not converge)"))
     if any_points:
         ax.set_yscale("log")
         ax.legend(loc="best", fontsize="small", framealpha=0.85)

@@ -84,3 +84,19 @@ def test_each_lane_carries_its_method_colour(qtbot, window):
         image = lane.title.grab().toImage()
         pixel = image.pixelColor(1, image.height() // 2)
         assert pixel == QColor(method_color(method)), (method, pixel.name())
+
+
+def test_method_names_are_capitalised_alike_wherever_they_are_titles(qtbot, window):
+    """Lane titles, the path chooser and plot legends read "Newton–Raphson", "Secant",
+    "False position": one style for every title, not "Newton–Raphson" beside "secant"."""
+    type_equation(qtbot, window, "x^3 - 2*x - 5")
+    window.inputs.set_field("a", 2.0)
+    window.inputs.set_field("b", 3.0)
+    solve_and_wait(qtbot, window)
+    titles = [lane.title.text() for lane in window.lanes.lanes.values()]
+    assert titles == ["Newton–Raphson", "Secant", "False position"]
+    box = window.plot.path_box
+    assert [box.itemText(i) for i in range(1, box.count())] == titles
+    window.plot.setCurrentIndex(1)
+    legend = window.plot.convergence_view.figure.axes[0].get_legend()
+    assert [t.get_text() for t in legend.get_texts()] == titles

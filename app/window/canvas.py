@@ -264,7 +264,7 @@ class PlotPanel(QTabWidget):
         self.path_box.clear()
         self.path_box.addItem("none", "")
         for run in self._runs:
-            self.path_box.addItem(figures.method_label(run.method), run.method)
+            self.path_box.addItem(figures.method_title(run.method), run.method)
         index = self.path_box.findData(current) if current else -1
         if index < 0 and self._runs:
             index = 1

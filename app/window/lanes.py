@@ -18,7 +18,7 @@ from PySide6.QtWidgets import (
 
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
-from solvers.figures import method_color, method_label
+from solvers.figures import method_color, method_label, method_title
 from solvers.result import REASON_TEXT, Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
@@ -63,7 +63,7 @@ class MethodLane(QFrame):
         self.setObjectName(f"lane_{method}")
         self.setFrameShape(QFrame.Shape.StyledPanel)
         color = method_color(method)
-        self.title = QLabel(method_label(method))
+        self.title = QLabel(method_title(method))
         # Qt paints a one-sided border only when the rule names the widget and clears the
         # others; without the selector the stripe silently never appeared.
         self.title.setStyleSheet(f"QLabel {{ font-weight: bold; border: none; "
