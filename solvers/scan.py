@@ -1076,7 +1076,11 @@ def _range_ends(g, a, b, h, xtol, scale) -> list[_Found]:
             continue
         if fe == 0:
             if fi != 0:  # (f zero on a whole stretch is reported as such, not as a root)
-                out.append(_Found(end, True, "f exactly zero at the range end"))
+                # parity from the mirror point outside the range, where f is defined there:
+                # x^2 at 0 is a touch (even), sin x at 0 a crossing (odd)
+                fo = g.scalar(2 * end - inner)
+                odd = not (math.isfinite(fo) and fo != 0) or (fo < 0) != (fi < 0)
+                out.append(_Found(end, odd, "f exactly zero at the range end"))
             continue
         if fi == 0 or (fe < 0) != (fi < 0) or abs(fe) >= abs(fi):
             continue

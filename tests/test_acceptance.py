@@ -12,8 +12,10 @@ import math
 
 import numpy as np
 import pytest
+import sympy
 
 from app.cli import main
+from solvers import scan
 
 
 def run(capsys, *argv: str) -> tuple[int, str, str]:
@@ -105,3 +107,42 @@ def test_the_window_without_a_display_is_one_line_exit_2(capsys, monkeypatch) ->
     assert code == 2
     assert len(err.strip().splitlines()) == 1
     assert "display" in err
+
+
+# ------------------------------------------------ multiplicity of a root at a range end
+
+
+@pytest.mark.parametrize(
+    ("text", "a", "b", "root"),
+    [
+        ("x^2", 0.0, 2.0, 0.0),
+        ("x*sin(x)", 0.0, 2.0, 0.0),
+        ("(x-1)^2", 1.0, 3.0, 1.0),
+        ("x^2", -2.0, 0.0, 0.0),
+    ],
+)
+def test_a_double_root_at_the_range_end_is_double(text, a, b, root) -> None:
+    # Reference: the first derivative of f that sympy finds non-zero at the root.
+    x = sympy.Symbol("x")
+    expr = sympy.sympify(text.replace("^", "**"))
+    at = sympy.Rational(root)
+    expected = next(k for k in range(1, 8) if sympy.diff(expr, x, k).subs(x, at) != 0)
+    assert expected == 2
+    from solvers import parse_equation
+
+    eq = parse_equation(text)
+    found = scan(eq.f, a, b, fprime=eq.fprime)
+    at_end = [r for r in found.roots if r.x == root]
+    assert len(at_end) == 1
+    assert at_end[0].multiplicity == expected
+
+
+def test_simple_and_triple_roots_at_the_range_end_keep_their_multiplicity() -> None:
+    # sin x ~ x (m = 1) and tan x - tanh x ~ 2x^3/3 (m = 3) at 0: Taylor series, from memory.
+    from solvers import parse_equation
+
+    for text, expected in (("sin(x)", 1), ("tan(x)-tanh(x)", 3), ("x^3*(x-1)", 3)):
+        eq = parse_equation(text)
+        found = scan(eq.f, 0.0, 2.0, fprime=eq.fprime)
+        assert found.roots[0].x == 0.0
+        assert found.roots[0].multiplicity == expected, text
