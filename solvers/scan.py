@@ -772,6 +772,8 @@ def _check_range(a: float, b: float) -> tuple[float, float]:
         raise ValueError(f"scan range must be finite, got [{a}, {b}]")
     if not a < b:
         raise ValueError(f"scan range needs a < b, got [{a}, {b}]")
+    if not math.isfinite(b - a):
+        raise ValueError(f"scan range [{a}, {b}] is too wide: its width overflows a double")
     return a, b
 
 

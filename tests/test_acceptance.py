@@ -146,3 +146,16 @@ def test_simple_and_triple_roots_at_the_range_end_keep_their_multiplicity() -> N
         found = scan(eq.f, 0.0, 2.0, fprime=eq.fprime)
         assert found.roots[0].x == 0.0
         assert found.roots[0].multiplicity == expected, text
+
+
+# ------------------------------------------------ scan range limits
+
+
+def test_a_scan_range_wider_than_the_largest_double_is_one_line_exit_2(capsys) -> None:
+    # 1e308 - (-1e308) overflows a double (sys.float_info.max ~ 1.797e308, common practice).
+    code, _, err = run(capsys, "scan", "x^2 - 2", "--from", "-1e308", "--to", "1e308")
+    assert code == 2
+    assert len(err.strip().splitlines()) == 1
+    assert "wide" in err
+    with pytest.raises(ValueError, match="wide"):
+        scan(lambda x: x * x - 2.0, -1e308, 1e308)
