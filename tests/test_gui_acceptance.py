@@ -15,7 +15,7 @@ from PySide6.QtGui import QFontMetrics
 from PySide6.QtWidgets import QStyleOptionViewItem
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import solve_and_wait, type_equation  # noqa: E402
+from gui_helpers import settle, solve_and_wait, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
@@ -100,3 +100,32 @@ def test_method_names_are_capitalised_alike_wherever_they_are_titles(qtbot, wind
     window.plot.setCurrentIndex(1)
     legend = window.plot.convergence_view.figure.axes[0].get_legend()
     assert [t.get_text() for t in legend.get_texts()] == titles
+
+
+def test_a_number_too_long_for_its_field_is_shown_shortened_and_kept_exact(qtbot, window):
+    """The default rtol 4 eps = 8.881784197001252e-16 (numpy.finfo(float).eps * 4) was
+    shown as "8.881784197" with the exponent cut off: it read as 8.9. A field whose
+    number does not fit shows it with fewer digits and its exponent; editing shows, and
+    solving uses, the exact value."""
+    import numpy as np
+    from PySide6.QtWidgets import QApplication
+
+    assert window.load_sample("gas-molar-volume-vdw.json")
+    settle(qtbot, window)
+    window.inputs.set_field("x0", 9.188058343089123e-05)  # a root of the sample, say
+    for key, field in window.inputs.fields.items():
+        room = field.contentsRect().width() - 4
+        assert field.fontMetrics().horizontalAdvance(field.text()) <= room, (key, field.text())
+        if field.text():
+            shown = float(field.text())
+            assert shown == pytest.approx(field.value(), rel=1e-2), (key, field.text())
+    rtol = window.inputs.fields["rtol"]
+    assert rtol.value() == 4 * np.finfo(float).eps
+    assert window.worksheet().settings.rtol == 4 * np.finfo(float).eps
+    assert window.worksheet().settings.x0 == 9.188058343089123e-05
+    modified = window.is_modified()
+    window.activateWindow()
+    rtol.setFocus()
+    qtbot.waitUntil(lambda: QApplication.focusWidget() is rtol, timeout=5000)
+    assert rtol.text() == repr(float(4 * np.finfo(float).eps))  # the whole number to edit
+    assert window.is_modified() == modified  # showing the whole number is no edit

@@ -28,7 +28,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.window.models import ParametersModel, fix_lines, number_font, parse_number
-from app.window.views import CopyTableView
+from app.window.views import CopyTableView, fitted_text
 from solvers.worksheet import Settings
 
 BAD_STYLE = "QLineEdit { background: #FBE3D6; color: #8A2B00; }"
@@ -97,12 +97,20 @@ class NumberField(QLineEdit):
         self.setToolTip(spec.tip)
         self.textChanged.connect(self._check)
         self.last_good: float | None = None
+        # (text shown, exact value) while a number too long for the field is shown
+        # shortened; the exact value is what value() returns and what editing shows.
+        self._shortened: tuple[str, float] | None = None
+
+    def _number(self, text: str) -> float | None:
+        if self._shortened is not None and text == self._shortened[0]:
+            return self._shortened[1]
+        return parse_number(text)
 
     def problem(self) -> str:
         text = self.text().strip()
         if not text:
             return "" if self.spec.optional else "needs a value"
-        value = parse_number(text)
+        value = self._number(text)
         if value is None:
             return f"{text!r} is not a finite number"
         if self.spec.integer and value != int(value):
@@ -114,7 +122,7 @@ class NumberField(QLineEdit):
         if self.problem():
             return self.last_good
         text = self.text().strip()
-        return parse_number(text) if text else None
+        return self._number(text) if text else None
 
     def set_value(self, value: float | int | None) -> None:
         if value is None:
@@ -123,9 +131,58 @@ class NumberField(QLineEdit):
             self.setText(str(int(value)))
         else:
             self.setText(repr(float(value)))
-        self.setCursorPosition(0)  # show the leading digits when the field is narrow
+        self._fit()
+
+    def _swap(self, text: str) -> None:
+        """Change what is shown without it counting as an edit (same number)."""
+        blocked = self.blockSignals(True)
+        try:
+            self.setText(text)
+        finally:
+            self.blockSignals(blocked)
+        self.setCursorPosition(0)
+
+    def _fit(self) -> None:
+        """Shorten a number that does not fit, keeping its exponent (8.8818e-16, not
+        "8.881784197" cut at the edge); editing brings the exact value back."""
+        if self.hasFocus() or self._shortened is not None:
+            return
+        text = self.text().strip()
+        value = parse_number(text) if text and not self.problem() else None
+        room = self.contentsRect().width() - 6
+        if value is None or room <= 0 or self.fontMetrics().horizontalAdvance(text) <= room:
+            self.setCursorPosition(0)
+            return
+        shown = fitted_text(value, 17, self.fontMetrics(), room)
+        if shown != text:
+            self._shortened = (shown, value)
+            self._swap(shown)
+            self.setToolTip(f"{self.spec.key} = {value!r} (shown shortened; click to edit "
+                            f"the exact value)\n{self._tip}")
+
+    def _unfit(self) -> None:
+        if self._shortened is not None:
+            shown, value = self._shortened
+            self._shortened = None
+            if self.text() == shown:
+                self._swap(repr(value))
+
+    def focusInEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        self._unfit()
+        super().focusInEvent(event)
+
+    def focusOutEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        super().focusOutEvent(event)
+        self._fit()
+
+    def resizeEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        super().resizeEvent(event)
+        self._unfit()
+        self._fit()
 
     def _check(self) -> None:
+        if self._shortened is not None and self.text() != self._shortened[0]:
+            self._shortened = None  # typed over: the text is the number again
         problem = self.problem()
         if problem:
             self.setStyleSheet(BAD_STYLE)
@@ -134,7 +191,7 @@ class NumberField(QLineEdit):
             self.setStyleSheet("")
             self.setToolTip(self._tip)
             text = self.text().strip()
-            self.last_good = parse_number(text) if text else None
+            self.last_good = self._number(text) if text else None
 
 
 class InputsPanel(QWidget):
