@@ -874,7 +874,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         for i in np.nonzero(~np.isfinite(fb) | (top >= 2.0 * fk))[0]:
             poles.append(float(xb[i]))
     # ends of the range: |f| at noise level at a or b is a root there
-    found.extend(_range_ends(g, a, b, h, xtol, scale))
+    found.extend(_range_ends(g, a, b, h, xtol, scale, brackets))
 
     g.check()
     if progress is not None:
@@ -1069,8 +1069,13 @@ def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
     return _Found(xm, False, how)
 
 
-def _range_ends(g, a, b, h, xtol, scale) -> list[_Found]:
-    """Roots sitting at (or within a sample of) the range ends without a sign change."""
+def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
+    """Roots sitting at (or within a sample of) the range ends without a sign change.
+
+    A sign change hidden between an end and its neighbouring sample (two roots closer to
+    the end than the sample spacing) is split at the |f| minimum into two brackets,
+    appended to ``brackets`` for the common refinement.
+    """
     out = []
     for end, inner, side in ((a, a + h, +1), (b, b - h, -1)):
         fe, fi = g.scalar(end), g.scalar(inner)
@@ -1089,8 +1094,11 @@ def _range_ends(g, a, b, h, xtol, scale) -> list[_Found]:
         lo, hi = (end, inner) if side > 0 else (inner, end)
         xb, fb, crossed = _golden(g, np.array([lo]), np.array([hi]), np.array([np.sign(fe)]),
                                   xtol)
-        if crossed[0]:
-            continue  # a sign change inside: the sampling pass missed it only at a range end
+        if crossed[0]:  # a sign change inside, missed by the sampling: bracket both roots
+            fx = float(fb[0])
+            brackets.append((float(lo), float(xb[0]), *((fe, fx) if side > 0 else (fi, fx))))
+            brackets.append((float(xb[0]), float(hi), *((fx, fi) if side > 0 else (fx, fe))))
+            continue
         noise = _noise(g, np.array([end]), EPS * scale)[0]
         if abs(fe) <= max(16 * noise, 1e-14 * abs(fi)):
             out.append(_Found(end, True, "range end: |f| at noise level"))

@@ -159,3 +159,23 @@ def test_a_scan_range_wider_than_the_largest_double_is_one_line_exit_2(capsys) -
     assert "wide" in err
     with pytest.raises(ValueError, match="wide"):
         scan(lambda x: x * x - 2.0, -1e308, 1e308)
+
+
+# ------------------------------------------------ two roots inside the first sample spacing
+
+
+@pytest.mark.parametrize("cross_check", [True, False])
+def test_two_roots_between_the_range_start_and_the_first_sample_are_found(cross_check) -> None:
+    # Invented: |x - 0.2| = 0.05 on [0, 1000]; the default 2001 samples are 0.5 apart, so
+    # both roots (0.15 and 0.25, by hand) lie between the first two samples and f has the
+    # same sign at both. The kink keeps the Chebyshev cross-check from rescuing them.
+    found = scan(lambda x: np.abs(x - 0.2) - 0.05, 0.0, 1000.0, cross_check=cross_check)
+    assert [r.x for r in found.roots] == pytest.approx([0.15, 0.25], rel=1e-14)
+
+
+def test_two_roots_just_before_the_range_end_are_found() -> None:
+    # Mirror image at the far end: (x - 999.7)(x - 999.9); roots by construction (the
+    # product form is exactly zero at each factor's zero; common practice).
+    expected = [999.7, 999.9]
+    found = scan(lambda x: (x - 999.7) * (x - 999.9), 0.0, 1000.0, cross_check=False)
+    assert [r.x for r in found.roots] == pytest.approx(expected, rel=1e-14)
