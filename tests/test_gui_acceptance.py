@@ -15,7 +15,7 @@ from PySide6.QtGui import QFontMetrics
 from PySide6.QtWidgets import QStyleOptionViewItem
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import settle, solve_and_wait, type_equation  # noqa: E402
+from gui_helpers import idle, settle, solve_and_wait, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
@@ -129,3 +129,38 @@ def test_a_number_too_long_for_its_field_is_shown_shortened_and_kept_exact(qtbot
     qtbot.waitUntil(lambda: QApplication.focusWidget() is rtol, timeout=5000)
     assert rtol.text() == repr(float(4 * np.finfo(float).eps))  # the whole number to edit
     assert window.is_modified() == modified  # showing the whole number is no edit
+
+
+def _scan_and_wait(qtbot, w):
+    assert w.start_scan(), w.last_error
+    qtbot.waitUntil(lambda: w.scan_result is not None and not w.runner.is_busy("scan"),
+                    timeout=30_000)
+    idle(qtbot, w)
+
+
+def test_the_roots_list_shows_x_residual_and_multiplicity_whole(qtbot, window):
+    """Plane-wall sample x tan x = Bi on [0, 12]: one root on each branch of tan, four in
+    all (common practice). Their x, residual and multiplicity must all be inside the list,
+    not a multiplicity column cut at the edge with its '1' out of sight (17 figures asked)."""
+    assert window.load_sample("wall-conduction-eigenvalues.json")
+    settle(qtbot, window)
+    window.lanes.digits.setValue(17)
+    _scan_and_wait(qtbot, window)
+    view = window.roots_view
+    header = view.horizontalHeader()
+    assert window.roots_model.rowCount() == 4
+    right = header.sectionPosition(2) + header.sectionSize(2)
+    assert right <= view.viewport().width() + 1, (right, view.viewport().width())
+    assert header.offset() == 0
+    option = QStyleOptionViewItem()
+    option.initFrom(view)
+    for r in range(4):
+        for c in (0, 1):
+            index = window.roots_model.index(r, c)
+            raw = window.roots_model.data(index, Qt.ItemDataRole.UserRole)
+            option.rect = view.visualRect(index)
+            view.itemDelegate().initStyleOption(option, index)
+            assert QFontMetrics(option.font).horizontalAdvance(option.text) <= \
+                option.rect.width(), option.text
+            if raw:
+                assert float(option.text) == pytest.approx(raw, rel=0.5)

@@ -15,7 +15,7 @@ import time
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QSettings, Qt, QTimer
+from PySide6.QtCore import QEvent, QSettings, Qt, QTimer
 from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -38,9 +38,15 @@ from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextD
 from app.window.equation_strip import Analysis, EquationStrip, analyse
 from app.window.inputs import InputsPanel
 from app.window.lanes import LanesPanel
-from app.window.models import RootsModel, fix_lines, format_number, number_font
+from app.window.models import (
+    DEFAULT_DIGITS,
+    RootsModel,
+    fix_lines,
+    format_number,
+    number_font,
+)
 from app.window.recovery import Recovered, RecoveryStore
-from app.window.views import CopyTableView
+from app.window.views import CopyTableView, FittedNumberDelegate
 from app.window.workers import JobRunner
 from solvers import figures, worksheet
 from solvers.worksheet import Parameter, Selection, Settings, Worksheet, WorksheetError
@@ -142,6 +148,13 @@ class MainWindow(QMainWindow):
         self.roots_view.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         self.roots_view.setToolTip("Double-click a root (or Enter) to polish it with every "
                                    "method and take it as the start values")
+        # x, residual and multiplicity always fit the list (numbers drop trailing digits
+        # rather than run past its edge); how each root was confirmed follows, to scroll to.
+        self.roots_delegate = FittedNumberDelegate(DEFAULT_DIGITS, self.roots_view)
+        self.roots_view.setItemDelegate(self.roots_delegate)
+        self.roots_view.horizontalHeader().setStretchLastSection(False)
+        # The viewport, not the view: a vertical scroll bar appearing narrows only it.
+        self.roots_view.viewport().installEventFilter(self)
         self.roots_summary = QLabel("No scan yet: set 'scan from' and 'scan to', then Scan range.")
         self.roots_summary.setObjectName("rootsSummary")
         self.roots_summary.setWordWrap(True)
@@ -309,6 +322,7 @@ class MainWindow(QMainWindow):
         self.plot.bracket_picked.connect(self._pick_bracket)
         self.lanes.method_activated.connect(self.plot.select_path)
         self.lanes.digits_changed.connect(self.roots_model.set_digits)
+        self.lanes.digits_changed.connect(self._on_roots_digits)
         self.runner.busy_changed.connect(lambda _lane, _busy: self._update_actions())
         self._inputs_timer = QTimer(self)
         self._inputs_timer.setSingleShot(True)
@@ -536,7 +550,7 @@ class MainWindow(QMainWindow):
         self.roots_model.set_rows(scan.roots)
         self.roots_view.setEnabled(True)
         self.polish_button.setEnabled(True)
-        self.roots_view.resizeColumnsToContents()
+        self._size_roots_columns()
         self.roots_summary.setText(scan_summary(scan, equation.unknown))
         runs = self.solution.runs if self.solution is not None and \
             self._solve_key is not None else ()
@@ -565,6 +579,26 @@ class MainWindow(QMainWindow):
             self.runner.cancel("scan")
             self.progress.setFormat("cancelling…")
             self.cancel_button.setEnabled(False)
+
+    def _on_roots_digits(self, digits: int) -> None:
+        self.roots_delegate.digits = digits
+        self.roots_view.viewport().update()
+
+    def _size_roots_columns(self) -> None:
+        """x and residual share what the multiplicity leaves of the list's width; the
+        confirmation columns keep their text's width beyond it."""
+        view = self.roots_view
+        view.resizeColumnToContents(2)
+        for c in (3, 4):
+            view.resizeColumnToContents(c)
+        room = max(view.viewport().width() - view.columnWidth(2), 80)
+        view.setColumnWidth(0, room * 11 // 20)
+        view.setColumnWidth(1, room - room * 11 // 20)
+
+    def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
+        if watched is self.roots_view.viewport() and event.type() == QEvent.Type.Resize:
+            self._size_roots_columns()
+        return super().eventFilter(watched, event)
 
     # ------------------------------------------------------------------ polish
     def polish_selected(self) -> bool:
