@@ -14,8 +14,10 @@ How a scan works
 2. **Refine and classify** every sign-change bracket at once (vectorised: one f
    call per iteration for all brackets): Anderson–Björck false position, safeguarded
    by bisection and a least step of half the tolerance, until each bracket is no
-   wider than xtol + rtol |x| (rtol = 4 eps, xtol = 1e-3 eps max(|a|, |b|): Brent's
-   stop rule, full double precision for a simple root). A converged bracket whose
+   wider than xtol + rtol |x| (rtol = 4 eps, xtol = 1e-3 eps min(max(|a|, |b|), 1):
+   Brent's stop rule, full double precision for a simple root, in any range). A sign
+   change from a finite sample into one where f overflows to +-inf is narrowed by
+   bisection until a finite value of the far sign brackets the root. A converged bracket whose
    ends' |f| fell to 1e-6 of the sampled |f| is a root; the end of smaller |f| is
    taken, then one Newton step with ``fprime`` when given and it lowers |f|.
 3. Every other bracket is **bisected** from its sample ends (all at once): |f|
@@ -251,6 +253,8 @@ class _Candidates:
     peaks: list[tuple[float, float, float]] = field(default_factory=list)  # (lo, x, hi), |f|
     edges: list[tuple[float, float, int]] = field(default_factory=list)  # (undef x, def x, side)
     inf_points: list[float] = field(default_factory=list)
+    # sign changes between a finite sample and an infinite one: (x finite, x inf, f finite)
+    overflow: list[tuple[float, float, float]] = field(default_factory=list)
     flat: list[tuple[float, float]] = field(default_factory=list)
     first_defined: bool = True
     last_defined: bool = True
@@ -277,6 +281,12 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
             # signs compared, not multiplied: a product of two tiny values underflows to 0
             if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
                 out.brackets.append((float(x[k]), float(x[k + 1]), float(yl), float(yr)))
+            elif yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
+                # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
+                # between the last finite value and the overflow
+                fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
+                if not math.isnan(y[far]):
+                    out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
     if not allfin:
         dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
         for k in np.flatnonzero(dfn[:-1] != dfn[1:]):
@@ -825,7 +835,9 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     g = _Guarded(f, cancel)
     gp = _Guarded(fprime, cancel) if fprime is not None else None
     scale = max(abs(a), abs(b))
-    xtol = 1e-3 * EPS * scale
+    # absolute floor of the step test, for roots at (or near) zero: at most 1e-3 eps, so a
+    # wide range (up to 1e300) does not blur a root of order one into zero
+    xtol = 1e-3 * EPS * min(scale, 1.0)
     h = (b - a) / (n - 1)
     notes: list[str] = []
     cand = _Candidates()
@@ -844,7 +856,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     for u, v in runs:
         notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
                      "not counted as isolated roots")
-    brackets = list(cand.brackets)
+    brackets = list(cand.brackets) + _overflow_brackets(g, cand.overflow)
     if cand.zeros:
         found += _zero_samples(g, np.array(cand.zeros), h, brackets)
 
@@ -995,6 +1007,50 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
             continue
         out.append(r)
     return out, spent
+
+
+def _overflow_brackets(g: _Guarded, pairs: list[tuple[float, float, float]]) -> list:
+    """Brackets with finite ends inside sign changes whose one end overflows to +-inf.
+
+    Bisects (by value, then in the doubles' bit pattern once the midpoint stalls) until a
+    finite value of the infinite end's sign appears: that and the finite end bracket a
+    root. Where f is inf right up to the last finite point there is no root (a pole
+    sampled exactly, or an overflow boundary), and nothing is returned.
+    """
+    out = []
+    for xf, xi, yf in pairs:
+        lo, hi = xf, xi  # lo: finite with yf's sign; hi: infinite with the other sign
+        for _ in range(2200):  # enough to halve the 2^64 doubles between any two points
+            mid = 0.5 * (lo + hi)
+            if mid in (lo, hi) or abs(hi - lo) > 1e3 * abs(mid) + 1e-300:
+                # halve in the bit pattern: spans many binades geometrically
+                mid = _bit_midpoint(lo, hi)
+            if mid in (lo, hi):
+                break
+            fm = g.scalar(mid)
+            if math.isnan(fm):
+                break
+            if fm == 0 or (math.isfinite(fm) and (fm < 0) != (yf < 0)):
+                out.append((min(xf, mid), max(xf, mid), *((yf, fm) if xf < mid else (fm, yf))))
+                break
+            if math.isfinite(fm):
+                lo = mid
+            else:
+                hi = mid
+    return out
+
+
+def _bit_midpoint(u: float, v: float) -> float:
+    """The double halfway between u and v in order of representation (geometric spacing)."""
+    def key(t: float) -> int:
+        i = int(np.array(t, dtype=np.float64).view(np.int64))
+        return i if i >= 0 else -(i & 0x7FFFFFFFFFFFFFFF)
+
+    def unkey(i: int) -> float:
+        bits = i if i >= 0 else (-i) | (1 << 63)
+        return float(np.array(bits, dtype=np.uint64).view(np.float64))
+
+    return unkey((key(u) + key(v)) // 2)
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:
@@ -1227,9 +1283,10 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     consistent with one c (x - r)^m (more roots may hide within a sample spacing).
     """
     found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
+    zero = min(scale, 1.0)  # x floor near zero, as for the step test's xtol
     merged: list[_Found] = []
     for r in found:
-        if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * scale):
+        if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * zero):
             prev = merged[-1]
             if prev.bracket is None and r.bracket is not None:
                 merged[-1] = r
@@ -1246,7 +1303,7 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     padded = np.concatenate([[-np.inf], features, [np.inf]])
     nearest = np.minimum(x - padded[left + 1], padded[right + 1] - x)
     reach = np.minimum(h, 0.3 * nearest)
-    reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale))
+    reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * zero))
     odd = np.array([r.odd for r in merged])
     mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale)
     if flags is not None:

@@ -179,3 +179,41 @@ def test_two_roots_just_before_the_range_end_are_found() -> None:
     expected = [999.7, 999.9]
     found = scan(lambda x: (x - 999.7) * (x - 999.9), 0.0, 1000.0, cross_check=False)
     assert [r.x for r in found.roots] == pytest.approx(expected, rel=1e-14)
+
+
+# ------------------------------------------------ very wide ranges and overflow
+
+
+@pytest.mark.parametrize(
+    ("text", "a", "b"),
+    [
+        # x^2 overflows to inf beyond ~1.3e154, so every sample but x = 0 is inf here
+        ("x^2 - 2", 0.0, 1e160),
+        ("x^2 - 2", -1e200, 1e200),
+        # no overflow, but the samples are 1e97 apart: both roots must stay apart
+        ("x^2 - 2", -1e100, 1e100),
+        ("x - 1", -1e300, 1e300),
+        # exp overflows past ~709.78 (log of sys.float_info.max): the root sits just before
+        ("exp(x) - 1.7e308", 0.0, 1000.0),
+    ],
+)
+def test_roots_of_order_one_in_a_very_wide_range_are_exact(text, a, b) -> None:
+    from solvers import parse_equation
+
+    eq = parse_equation(text)
+    found = scan(eq.f, a, b, fprime=eq.fprime)
+    # References: math.sqrt and math.log (the roots of x^2 = 2 and exp(x) = 1.7e308).
+    expected = {
+        "x^2 - 2": [r for r in (-math.sqrt(2.0), math.sqrt(2.0)) if a <= r <= b],
+        "x - 1": [1.0],
+        "exp(x) - 1.7e308": [math.log(1.7e308)],
+    }[text]
+    assert [r.x for r in found.roots] == pytest.approx(expected, rel=1e-15)
+    assert found.poles == []
+
+
+def test_an_overflow_beside_a_pole_is_still_no_root() -> None:
+    # 1/(x-1) sampled exactly at its pole (f = inf there): a pole, never a root (common practice).
+    found = scan(lambda x: 1.0 / (x - 1.0), 0.0, 2.0, samples=2001)
+    assert found.roots == []
+    assert found.poles == pytest.approx([1.0])
