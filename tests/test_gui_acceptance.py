@@ -164,3 +164,24 @@ def test_the_roots_list_shows_x_residual_and_multiplicity_whole(qtbot, window):
                 option.rect.width(), option.text
             if raw:
                 assert float(option.text) == pytest.approx(raw, rel=0.5)
+
+
+def test_a_long_scan_summary_is_readable_from_its_first_line(qtbot, window):
+    """sin(1/x) on [1e-4, 1] oscillates without bound near 0 (common practice): the scan
+    adds warnings, and the summary ran past its five lines, cut at top and bottom. The
+    whole text must be reachable (it scrolls), starting with the count of roots."""
+    from PySide6.QtWidgets import QScrollArea
+
+    type_equation(qtbot, window, "sin(1/x)")
+    window.inputs.set_field("from", 1e-4)
+    window.inputs.set_field("to", 1.0)
+    settle(qtbot, window)
+    _scan_and_wait(qtbot, window)
+    label = window.roots_summary
+    assert "⚠" in label.text() and label.text().count("\n") >= 2
+    qtbot.wait(20)
+    assert label.height() >= label.heightForWidth(label.width()), "text cut off"
+    area = label.parentWidget().parentWidget()
+    assert isinstance(area, QScrollArea) and area.widget() is label
+    assert area.verticalScrollBar().value() == 0
+    assert label.alignment() & Qt.AlignmentFlag.AlignTop

@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
     QAbstractItemView,
     QApplication,
     QFileDialog,
+    QFrame,
     QGroupBox,
     QHBoxLayout,
     QLabel,
@@ -28,6 +29,7 @@ from PySide6.QtWidgets import (
     QMessageBox,
     QProgressBar,
     QPushButton,
+    QScrollArea,
     QSplitter,
     QVBoxLayout,
     QWidget,
@@ -158,7 +160,18 @@ class MainWindow(QMainWindow):
         self.roots_summary = QLabel("No scan yet: set 'scan from' and 'scan to', then Scan range.")
         self.roots_summary.setObjectName("rootsSummary")
         self.roots_summary.setWordWrap(True)
-        fix_lines(self.roots_summary, 5)
+        self.roots_summary.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        self.roots_summary.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        # Five lines on screen, the rest (scan warnings) scrolls: a fixed-height label cut
+        # a long summary at top and bottom, and a growing one would re-lay out the window.
+        summary_area = QScrollArea()
+        summary_area.setObjectName("rootsSummaryArea")
+        summary_area.setWidget(self.roots_summary)
+        summary_area.setWidgetResizable(True)
+        summary_area.setFrameShape(QFrame.Shape.NoFrame)
+        summary_area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        summary_area.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        fix_lines(summary_area, 5)
         self.progress = QProgressBar()
         self.progress.setObjectName("scanProgress")
         self.progress.setRange(0, 1000)
@@ -178,7 +191,7 @@ class MainWindow(QMainWindow):
         roots_box = QGroupBox("Roots in range")
         roots_layout = QVBoxLayout(roots_box)
         roots_layout.setContentsMargins(4, 4, 4, 4)
-        roots_layout.addWidget(self.roots_summary)
+        roots_layout.addWidget(summary_area)
         roots_layout.addLayout(progress_row)
         roots_layout.addWidget(self.roots_view, 1)
         self.design_button = QPushButton("Take as &design value")
