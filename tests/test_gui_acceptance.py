@@ -185,3 +185,28 @@ def test_a_long_scan_summary_is_readable_from_its_first_line(qtbot, window):
     assert isinstance(area, QScrollArea) and area.widget() is label
     assert area.verticalScrollBar().value() == 0
     assert label.alignment() & Qt.AlignmentFlag.AlignTop
+
+
+@pytest.mark.parametrize("sample", ["project-irr.json", "gas-molar-volume-vdw.json",
+                                    "sign-arm-natural-frequencies.json"])
+def test_axis_titles_and_the_axis_multiplier_are_inside_the_plot(qtbot, window, sample):
+    """The internal-rate-of-return sample draws f up to 1.2e7: matplotlib writes the
+    '1e7' multiplier above the axis, and it was cut off at the top, so f read as 1.2.
+    Tick labels like -1000 pushed the axis title f(V) off the left edge."""
+    assert window.load_sample(sample)
+    settle(qtbot, window)
+    solve_and_wait(qtbot, window)
+    view = window.plot.function_view
+    view.canvas.draw()
+    renderer = view.canvas.get_renderer()
+    ax = window.plot.ax
+    figure_box = view.figure.bbox
+    ylabel = ax.yaxis.label.get_window_extent(renderer)
+    assert ylabel.x0 >= 0, (sample, ylabel)
+    offset = ax.yaxis.get_offset_text()
+    if offset.get_text():
+        box = offset.get_window_extent(renderer)
+        assert box.y1 <= figure_box.y1, (sample, box, figure_box)
+    for label in ax.get_yticklabels():
+        if label.get_text():
+            assert label.get_window_extent(renderer).x0 >= 0, (sample, label.get_text())

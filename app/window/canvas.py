@@ -111,12 +111,24 @@ class _FigureView(QWidget):
         self.draws += 1
 
     def fit_margins(self) -> None:
-        """Margins for tick labels and axis titles, in pixels, whatever the canvas size."""
+        """Margins for tick labels and axis titles, in pixels, whatever the canvas size.
+
+        The left margin follows the widest y tick label and the top one makes room for
+        the axis multiplier ("1e7"), measured from the label strings without a draw: a
+        fixed margin cut the axis title off beside labels like -1000 and hid the
+        multiplier, so 1.2e7 read as 1.2.
+        """
         width, height = self.figure.get_size_inches() * self.figure.dpi
         if width < 50 or height < 50:
             return
-        self.figure.subplots_adjust(left=min(0.3, 74 / width), right=1 - min(0.2, 26 / width),
-                                    bottom=min(0.35, 46 / height), top=1 - min(0.2, 12 / height))
+        left, top = 74.0, 12.0
+        axes = self.figure.axes
+        if axes and axes[0].axison:
+            left, top = _label_room(axes[0], self.figure.dpi)
+        self.figure.subplots_adjust(left=min(0.4, left / width),
+                                    right=1 - min(0.2, 26 / width),
+                                    bottom=min(0.35, 46 / height),
+                                    top=1 - min(0.25, top / height))
 
     def new_axes(self) -> Any:
         self.figure.clear()
@@ -136,6 +148,33 @@ class _FigureView(QWidget):
         if self.dirty and self._built is not None:
             self.dirty = False
             self.canvas.draw_idle()
+
+
+def _label_room(ax: Any, dpi: float) -> tuple[float, float]:
+    """Pixels needed left of the axes (tick labels, ticks, axis title) and above them."""
+    from matplotlib.textpath import TextToPath
+
+    measure = TextToPath()
+    axis = ax.yaxis
+    formatter = axis.get_major_formatter()
+    lo, hi = sorted(ax.get_ylim())
+    locs = [v for v in axis.get_majorticklocs() if lo <= v <= hi]
+    labels = formatter.format_ticks(locs) if locs else []
+    ticks = ax.get_yticklabels()
+    prop = ticks[0].get_fontproperties() if ticks else axis.label.get_fontproperties()
+    widest = 0.0
+    for text in labels:
+        if text:
+            ismath = text.count("$") >= 2
+            w, _h, _d = measure.get_text_width_height_descent(text, prop, ismath=ismath)
+            widest = max(widest, w)
+    points_to_px = dpi / 72.0
+    size = axis.label.get_fontproperties().get_size_in_points()
+    # tick length and pad (3.5 pt each), label pad (4 pt), the title's height, a spare 6 px
+    left = (widest + 3.5 + 3.5 + 4.0 + 1.2 * size) * points_to_px + 6
+    offset = formatter.get_offset() if hasattr(formatter, "get_offset") else ""
+    top = 12.0 + (1.5 * size * points_to_px if offset else 0.0)
+    return max(left, 60.0), top
 
 
 class PlotPanel(QTabWidget):
@@ -289,6 +328,7 @@ class PlotPanel(QTabWidget):
             ax.clear()
             ax.set_axis_off()
             ax.text(0.5, 0.5, f"cannot draw: {exc}", ha="center", va="center")
+        self.function_view.fit_margins()
         self._span = None
         self.function_view.redraw()
 
@@ -300,6 +340,7 @@ class PlotPanel(QTabWidget):
         self._convergence_stale = False
         ax = self.convergence_view.new_axes()
         figures.draw_convergence(ax, self._runs, quantity=self.quantity_box.currentData())
+        self.convergence_view.fit_margins()
         self.convergence_view.redraw()
 
     # -- mouse picks
