@@ -136,6 +136,10 @@ class Run:
 
 
 MIN_OBSERVED_ORDER = 0.8
+# No method here converges faster than cubically (Newton at a root where f'' = 0), so a
+# larger estimate comes from an uneven step pattern (Illinois's halved-end steps read
+# 15 or 20), not from the method.
+MAX_OBSERVED_ORDER = 3.5
 
 
 def observed_order(run: Run) -> float | None:
@@ -151,9 +155,10 @@ def observed_order(run: Run) -> float | None:
     since an order computed from rounding noise would mislead. Returns ``None``
     when fewer than three usable steps remain, when they do not shrink strictly
     (a run that is not converging has no order), or when the estimate is below
-    ``MIN_OBSERVED_ORDER`` (0.8): no converging method has an order below 1, so such
-    a value only reflects an irregular step pattern (Illinois's halved-end steps,
-    Brent switching between bisection and interpolation) and would mislead.
+    ``MIN_OBSERVED_ORDER`` (0.8) or above ``MAX_OBSERVED_ORDER`` (3.5): no converging
+    method has an order below 1 or above 3, so such a value only reflects an irregular
+    step pattern (Illinois's halved-end steps, Brent switching between bisection and
+    interpolation) and would mislead.
     Roughly 2 means quadratic (Newton on a simple root), ~1.6 the secant's
     superlinear rate, ~1 linear (false position, bisection, damped Newton, Newton
     on a multiple root).
@@ -170,6 +175,6 @@ def observed_order(run: Run) -> float | None:
     if not s0 > s1 > s2 > floor:
         return None
     p = math.log(s2 / s1) / math.log(s1 / s0)
-    if not math.isfinite(p) or p < MIN_OBSERVED_ORDER:
+    if not math.isfinite(p) or not MIN_OBSERVED_ORDER <= p <= MAX_OBSERVED_ORDER:
         return None
     return p

@@ -217,3 +217,28 @@ def test_an_overflow_beside_a_pole_is_still_no_root() -> None:
     found = scan(lambda x: 1.0 / (x - 1.0), 0.0, 2.0, samples=2001)
     assert found.roots == []
     assert found.poles == pytest.approx([1.0])
+
+
+# ------------------------------------------------ observed order of convergence
+
+
+def test_illinois_never_claims_an_order_beyond_any_method_here() -> None:
+    from solvers import illinois
+
+    # Invented: a decay constant, exp(-x) = 1e-3, bracketed on [0, 1000]. Illinois converges
+    # with order 3^(1/3) ~ 1.44 (Dowell & Jarratt 1971, from memory); its uneven step pattern
+    # read 15 here, which no method in the table can reach.
+    run_ = illinois(lambda x: math.exp(-x) - 1e-3, 0.0, 1000.0)
+    assert run_.converged
+    assert run_.root == pytest.approx(math.log(1e3), rel=4e-16)  # math.log reference
+    assert run_.order is None or 0.8 <= run_.order <= 3.5
+
+
+def test_newton_still_shows_cubic_and_quadratic_orders() -> None:
+    from solvers import newton
+
+    # Newton is cubic at a root where f'' = 0 (sin at 0) and quadratic at a simple root of
+    # x^3 - 2x - 5 (textbook convergence theory, from memory).
+    assert newton(math.sin, 0.5, fprime=math.cos).order == pytest.approx(3.0, abs=0.2)
+    cubic = newton(lambda x: x**3 - 2 * x - 5, 2.0, fprime=lambda x: 3 * x * x - 2)
+    assert cubic.order == pytest.approx(2.0, abs=0.2)
