@@ -210,3 +210,24 @@ def test_axis_titles_and_the_axis_multiplier_are_inside_the_plot(qtbot, window, 
     for label in ax.get_yticklabels():
         if label.get_text():
             assert label.get_window_extent(renderer).x0 >= 0, (sample, label.get_text())
+
+
+def test_messages_and_help_name_the_unknown_chooser_by_its_label(qtbot, window):
+    """The status line said "choose one under Solve for" and the help spoke of "Solve for",
+    but the chooser beside the editor is labelled "Unknown"."""
+    from PySide6.QtWidgets import QLabel
+
+    from app.window.dialogs import HELP_HTML
+    from app.window.equation_strip import Analysis
+
+    buddies = [lab for lab in window.strip.findChildren(QLabel)
+               if lab.buddy() is window.strip.unknown_box]
+    label = buddies[0].text().replace("&", "")
+    window.strip.show_analysis(Analysis("x + y", names=("x", "y"), unknown="x",
+                                        candidates=("x", "y"), ambiguous=True,
+                                        equation=object()))
+    status = window.strip.status.text()
+    assert "Solve for" not in status and f"under {label}" in status, status
+    assert "Solve for" not in HELP_HTML and f"<b>{label}</b>" in HELP_HTML
+    # Every shortcut of the Run menu is listed in the help's key list.
+    assert "Ctrl+D" in HELP_HTML

@@ -37,7 +37,8 @@ HELP_HTML = f"""
 expression meaning <code>expression = 0</code>; <code>^</code> or <code>**</code> for
 powers. The typeset form and the derivative appear under it as you type; an error is
 described in the status line and the offending character is underlined.
-<b>Solve for</b> picks the unknown (automatic: the one name without a value).</p>
+<b>Unknown</b>, beside the editor, picks the name to solve for (automatic: the one
+name without a value).</p>
 <p><b>2. Give the parameters</b> in the table on the left (double-click or F2 on a value).
 Every other name the equation uses appears there; a tinted cell needs a valid number.</p>
 <p><b>3. Start values and stopping rules.</b> Blank start values are chosen for you
@@ -50,15 +51,17 @@ table of every iterate. A method that failed is marked <b>✗ FAILED</b> with th
 The Convergence tab shows |f(x_k)| or |Δx_k| against k on a log axis.</p>
 <p><b>5. Scan range</b> (Ctrl+Shift+Return) finds every root, pole and jump between
 <i>scan from</i> and <i>scan to</i>, in the background (Esc or Cancel stops it).
-Double-click a root (or select it and press Enter) to polish it with every method; the
-start values are set from it.</p>
+Double-click a root (or select it and press Enter, or Polish) to polish it with every
+method; the start values are set from it. <b>Take as design value</b> (Ctrl+D) records the
+selected root, and why, for the calculation sheet.</p>
 <p><b>Files.</b> Worksheets are saved as JSON files of our own (.json). Export the iteration
 log and the
 roots as CSV (numbers written exactly) and the calculation sheet as PDF from the File menu.
 Ctrl+C on any table copies the selection as tab-separated text; the context menu copies the
 whole table. Unsaved work is kept in a recovery file and offered at the next start.</p>
 <p><b>Keys.</b> Ctrl+N new, Ctrl+O open, Ctrl+S save, Ctrl+Return solve,
-Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+1 / Ctrl+2 function / convergence view,
+Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+D take as design value,
+Ctrl+1 / Ctrl+2 function / convergence view,
 Ctrl+= / Ctrl+- more / fewer significant figures, F1 this help.</p>
 <p style="color:#8A2B00"><b>Caution.</b> {CAUTION}</p>
 """

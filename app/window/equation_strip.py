@@ -300,7 +300,7 @@ class EquationStrip(QWidget):
         if analysis.ok:
             message = f"Ready: solving for {analysis.unknown}."
             if analysis.ambiguous:
-                message += " Several names could be the unknown: choose one under Solve for."
+                message += " Several names could be the unknown: choose one under Unknown."
             if analysis.notes:
                 message += "  " + "  ".join(analysis.notes)
             self._set_status(message, ok=not analysis.ambiguous)
