@@ -231,3 +231,15 @@ def test_messages_and_help_name_the_unknown_chooser_by_its_label(qtbot, window):
     assert "Solve for" not in HELP_HTML and f"<b>{label}</b>" in HELP_HTML
     # Every shortcut of the Run menu is listed in the help's key list.
     assert "Ctrl+D" in HELP_HTML
+
+
+def test_about_names_the_tables_the_tests_really_use(qtbot, window):
+    """The About page claimed handbook tables of "friction factors, normal depths": the
+    tests hold no such table (Colebrook is checked through scipy.special.wrightomega and
+    brentq, Manning through brentq). It must name the tables the test files cite."""
+    from app.window.dialogs import ABOUT_HTML
+
+    for cited in ("Blevins", "Table 8-1", "Incropera", "Table 5.1", "CRC Handbook",
+                  "wrightomega", "154"):
+        assert cited in ABOUT_HTML, cited
+    assert "normal depths" not in ABOUT_HTML

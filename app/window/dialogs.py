@@ -20,14 +20,19 @@ CAUTION = ("Check the equation, inputs and units. Results need review by a quali
 
 SOURCES = """
 <ul>
-<li><b>scipy.optimize</b> (newton, brentq and friends): roots and iteration behaviour of the
-methods are compared against it;</li>
+<li><b>scipy.optimize</b> (newton, brentq): roots and iteration behaviour of the methods
+are compared against it on the same functions;</li>
 <li><b>mpmath</b>: high-precision reference roots (findroot at 50 digits);</li>
-<li><b>numpy</b> (polynomial roots) and <b>scipy.special</b> (Bessel-function zeros);</li>
+<li><b>numpy</b> (polynomial roots) and <b>scipy.special</b> (Bessel-function zeros;
+wrightomega, the closed form of the Colebrook friction-factor equation);</li>
 <li><b>scipy.constants</b>: physical constants used in the engineering checks;</li>
-<li>the <b>Alefeld–Potra–Shi</b> test set of nonlinear equations (ACM TOMS 21, 1995);</li>
-<li>published <b>handbook tables</b> (friction factors, normal depths and similar), each
-check naming its source, or marked "from memory" / "common practice".</li>
+<li>the <b>Alefeld–Potra–Shi</b> test set of nonlinear equations, 154 cases (ACM TOMS 21,
+1995);</li>
+<li>published <b>handbook tables</b>: Blevins, <i>Formulas for Natural Frequency and Mode
+Shape</i>, Table 8-1 (cantilever frequency roots); Incropera &amp; DeWitt, <i>Fundamentals of
+Heat and Mass Transfer</i>, 6th ed., Table 5.1 (plane-wall eigenvalues); the CRC Handbook of
+Chemistry and Physics (van der Waals constants). Each check names its source, or is marked
+"from memory" / "common practice".</li>
 </ul>
 """
 
