@@ -249,6 +249,10 @@ def _finish(
     derivative: str | None = None,
     note: str = "",
 ) -> Run:
+    if reason == X_TOLERANCE and "bracket" in settings:
+        pole = _pole_detail(root, steps)
+        if pole:
+            reason, detail = NOT_FINITE, pole
     converged = reason in CONVERGED_REASONS
     label = LABELS[method]
     counts = f"{iterations} iterations, {evaluations} evaluations"
@@ -270,6 +274,26 @@ def _finish(
         settings=settings,
         derivative=derivative,
         message=message,
+    )
+
+
+def _pole_detail(root: float, steps: list[Step]) -> str:
+    """Why a bracket that closed on ``root`` holds a pole, not a root ('' if it holds a root).
+
+    A continuous f that changes sign has |f| at the closed bracket's better end at most
+    |f'| times the tolerance: far below |f| at the starting ends. If instead |f| there
+    exceeds both starting ends, f grew without bound as the bracket shrank, so the sign
+    change is a pole (tan at pi/2, 1/(x - c)); calling it a root would be wrong.
+    """
+    if len(steps) < 2:
+        return ""
+    ends = max(abs(steps[0].fx), abs(steps[1].fx))
+    at_root = next((abs(s.fx) for s in reversed(steps) if s.x == root), None)
+    if at_root is None or not at_root > ends:
+        return ""
+    return (
+        f"|f| grew from {ends:.3g} at the bracket ends to {at_root:.3g} as the bracket closed "
+        f"on x = {_fmt(root)}: a pole (f -> +-inf) there, not a root"
     )
 
 

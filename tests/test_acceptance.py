@@ -242,3 +242,51 @@ def test_newton_still_shows_cubic_and_quadratic_orders() -> None:
     assert newton(math.sin, 0.5, fprime=math.cos).order == pytest.approx(3.0, abs=0.2)
     cubic = newton(lambda x: x**3 - 2 * x - 5, 2.0, fprime=lambda x: 3 * x * x - 2)
     assert cubic.order == pytest.approx(2.0, abs=0.2)
+
+
+# ------------------------------------------------ a bracket around a pole is not a root
+
+
+@pytest.mark.parametrize("name", ["brent", "bisection", "illinois", "false_position"])
+def test_a_bracketing_method_closing_on_a_pole_does_not_converge(name) -> None:
+    import solvers
+
+    # Invented design check: 1/(x - 3) = 0.5 with a bracket [2, 4] the user chose badly.
+    # Its only root is x = 5 (by hand); f changes sign in [2, 4] through the pole at 3.
+    method = getattr(solvers, name)
+    run_ = method(lambda x: 1.0 / (x - 3.0) - 0.5, 2.0, 4.0)
+    assert not run_.converged, (run_.root, run_.reason)
+    assert run_.reason in ("not_finite", "max_iterations")
+
+
+def test_the_cli_never_calls_the_pole_of_tan_a_root_of_tan_x_equals_2(capsys) -> None:
+    # tan x = 2 from x0 = 1.4: the bracket grown around x0 spans the pole at pi/2
+    # (math.pi reference); the root nearest is atan(2) (math.atan reference).
+    code, out, err = run(
+        capsys, "solve", "tan(x) = 2", "--x0", "1.4", "--method", "brent", "--method",
+        "bisection", "--method", "illinois", "--json",
+    )
+    assert code == 0, err
+    for r in json.loads(out)["runs"]:
+        if r["converged"]:
+            assert math.tan(r["root"]) == pytest.approx(2.0, rel=1e-12)
+            assert r["root"] == pytest.approx(math.atan(2.0) + math.pi * round(
+                (r["root"] - math.atan(2.0)) / math.pi), rel=1e-14)
+        else:
+            assert abs(r["root"] - math.pi / 2) < 1e-6
+            assert "pole" in r["message"]
+
+
+def test_a_genuine_root_next_to_a_steep_wall_still_converges() -> None:
+    # x tan x = Bi with Bi = 100 (invented): the first root 1.555245... sits close to the
+    # pole at pi/2; scipy.optimize.brentq is the reference.
+    from scipy.optimize import brentq
+
+    from solvers import brent, illinois
+
+    f = lambda x: x * math.tan(x) - 100.0  # noqa: E731
+    expected = brentq(f, 1.0, 1.5707, xtol=1e-15, rtol=4.5e-16 * 2)
+    for method in (brent, illinois):
+        run_ = method(f, 1.0, 1.5707)
+        assert run_.converged
+        assert run_.root == pytest.approx(expected, rel=1e-14)
