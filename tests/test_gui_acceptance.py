@@ -243,3 +243,40 @@ def test_about_names_the_tables_the_tests_really_use(qtbot, window):
                   "wrightomega", "154"):
         assert cited in ABOUT_HTML, cited
     assert "normal depths" not in ABOUT_HTML
+
+
+def _tab_chain(window, start, steps: int = 40) -> list:
+    """The widgets Tab visits from ``start``, as the window's focus chain orders them."""
+    from PySide6.QtWidgets import QApplication
+
+    seen = []
+    widget = start
+    for _ in range(steps):
+        seen.append(widget)
+        widget = widget.nextInFocusChain()
+        while not (widget.focusPolicy() & Qt.FocusPolicy.TabFocus) or not widget.isVisible() \
+                or not widget.isEnabled():
+            widget = widget.nextInFocusChain()
+    assert QApplication.instance() is not None
+    return seen
+
+
+def test_tab_visits_only_controls_and_leaves_the_tables(qtbot, window):
+    """Tab stopped on the invisible frame around the inputs, and inside an iteration table
+    walked through every cell (100 iterates x 5 columns) before reaching anything else."""
+    from PySide6.QtWidgets import QApplication, QScrollArea
+
+    assert window.load_sample("wall-conduction-eigenvalues.json")
+    settle(qtbot, window)
+    solve_and_wait(qtbot, window)
+    chain = _tab_chain(window, window.strip.editor)
+    assert not [w for w in chain if isinstance(w, QScrollArea)], "a bare frame takes focus"
+    window.activateWindow()
+    table = window.lanes.lanes["false_position"].table  # 100 iterates (its stop reason)
+    table.setFocus()
+    qtbot.waitUntil(lambda: QApplication.focusWidget() is table, timeout=5000)
+    table.setCurrentIndex(table.model().index(0, 1))
+    qtbot.keyClick(table, Qt.Key.Key_Tab)
+    assert QApplication.focusWidget() is not table, "Tab must leave a read-only table"
+    roots = window.roots_view
+    assert not roots.tabKeyNavigation()

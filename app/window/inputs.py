@@ -206,6 +206,7 @@ class InputsPanel(QWidget):
         self.parameters_view.setObjectName("parametersView")
         self.parameters_view.setModel(self.parameters)
         self.parameters_view.setSelectionBehavior(CopyTableView.SelectionBehavior.SelectItems)
+        self.parameters_view.setTabKeyNavigation(True)  # Tab from value to note while typing
         header = self.parameters_view.horizontalHeader()
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
         header.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
@@ -262,6 +263,7 @@ class InputsPanel(QWidget):
         scroll.setWidgetResizable(True)
         scroll.setFrameShape(QFrame.Shape.NoFrame)
         scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        scroll.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # Tab goes to the fields, not the frame
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 2, 4, 2)
         layout.setSpacing(4)

@@ -92,6 +92,9 @@ class CopyTableView(QTableView):
         self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectItems)
         self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
         self.setAlternatingRowColors(True)
+        # Tab leaves the table (arrows move between cells): stepping through every cell of
+        # a 100-iterate table before reaching the next control is a keyboard trap.
+        self.setTabKeyNavigation(False)
         self.setWordWrap(False)
         self.verticalHeader().setVisible(False)
         self.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
