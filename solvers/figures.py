@@ -69,6 +69,12 @@ _JUMP_SPANS = 2.0
 _KEEP = (2.0, 98.0)
 
 
+def residual_name(unknown: str) -> str:
+    """The letter for the residual lhs - rhs: f, or F when the unknown itself is called f
+    (a friction factor), so nothing reads "f(f)"."""
+    return "F" if unknown == "f" else "f"
+
+
 def method_color(name: str) -> str:
     return METHOD_COLORS.get(name, OKABE_ITO["black"])
 
@@ -215,7 +221,8 @@ def draw_function(
     jumps = list(getattr(scan, "discontinuities", []) or []) if scan is not None else []
     c = precomputed if precomputed is not None else curve(f, a, b, n, breaks=poles + jumps)
     ax.axhline(0.0, color="#9A9A9A", linewidth=0.8, zorder=1)
-    ax.plot(c.x, c.y, color=FUNCTION_COLOR, linewidth=1.4, zorder=2, label=f"f({unknown})")
+    name = f"{residual_name(unknown)}({unknown})"
+    ax.plot(c.x, c.y, color=FUNCTION_COLOR, linewidth=1.4, zorder=2, label=name)
     if scan is not None:
         _draw_scan(ax, scan, poles, jumps)
     # Limits first: the path drawers space their labels by the visible range.
@@ -226,7 +233,7 @@ def draw_function(
         ax.set_xlim(min(a, b), max(a, b))
         ax.set_ylim(*c.ylim)
     ax.set_xlabel(unknown)
-    ax.set_ylabel(f"f({unknown})")
+    ax.set_ylabel(name)
     ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)
     handles, _labels = ax.get_legend_handles_labels()
     if len(handles) > 1:

@@ -280,3 +280,24 @@ def test_tab_visits_only_controls_and_leaves_the_tables(qtbot, window):
     assert QApplication.focusWidget() is not table, "Tab must leave a read-only table"
     roots = window.roots_view
     assert not roots.tabKeyNavigation()
+
+
+def test_when_the_unknown_is_called_f_the_residual_is_not_also_f(qtbot, window):
+    """The opening sample solves the Colebrook equation for the friction factor f: the plot
+    read "f(f)", the roots panel "1 root of f(f)" and the derivative "df/df". The residual
+    takes another letter (F) when the unknown is f."""
+    assert window.load_sample("cooling-water-friction.json")
+    settle(qtbot, window)
+    assert window.analysis.unknown == "f"
+    _scan_and_wait(qtbot, window)
+    solve_and_wait(qtbot, window)
+    assert "f(f)" not in window.roots_summary.text()
+    assert "F(f)" in window.roots_summary.text()
+    ax = window.plot.ax
+    assert ax.get_ylabel() == "F(f)"
+    assert "F(f)" in [line.get_label() for line in ax.get_lines()]
+    assert window.strip.derivative_view.label.toolTip().startswith("derivative of F =")
+    from app.window.equation_strip import derivative_heading
+
+    assert derivative_heading("f") == r"\frac{dF}{df}"
+    assert derivative_heading("x") == r"\frac{df}{dx}"

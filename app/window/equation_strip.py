@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.window.models import number_font
+from solvers.figures import residual_name
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"
@@ -320,8 +321,8 @@ class EquationStrip(QWidget):
         u = analysis.unknown or "x"
         if analysis.derivative_latex:
             self.derivative_view.show_latex(
-                rf"\frac{{df}}{{d{u}}} = {analysis.derivative_latex}",
-                "derivative of f = lhs - rhs")
+                f"{derivative_heading(u)} = {analysis.derivative_latex}",
+                f"derivative of {residual_name(u)} = lhs - rhs")
         elif analysis.equation is not None:
             self.derivative_view.show_latex(
                 "", "no symbolic derivative: Newton–Raphson will use a numerical one")
@@ -372,6 +373,11 @@ class EquationStrip(QWidget):
     def highlighted_position(self) -> int | None:
         selections = self.editor.extraSelections()
         return selections[0].cursor.selectionStart() if selections else None
+
+
+def derivative_heading(unknown: str) -> str:
+    """d(residual)/d(unknown) in mathtext: df/dx, or dF/df when the unknown is f."""
+    return rf"\frac{{d{residual_name(unknown)}}}{{d{unknown}}}"
 
 
 def bold(font: QFont) -> QFont:

@@ -1051,7 +1051,8 @@ def _short(x: float) -> str:
 
 def scan_summary(scan: Any, unknown: str) -> str:
     roots = len(scan.roots)
-    parts = [f"{roots} root{'s' if roots != 1 else ''} of f({unknown}) in "
+    parts = [f"{roots} root{'s' if roots != 1 else ''} of "
+             f"{figures.residual_name(unknown)}({unknown}) in "
              f"[{_num(scan.a)}, {_num(scan.b)}]"]
     poles = list(scan.poles)
     if poles:
