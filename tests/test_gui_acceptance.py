@@ -301,3 +301,16 @@ def test_when_the_unknown_is_called_f_the_residual_is_not_also_f(qtbot, window):
 
     assert derivative_heading("f") == r"\frac{dF}{df}"
     assert derivative_heading("x") == r"\frac{df}{dx}"
+
+
+def test_a_new_worksheet_does_not_keep_the_old_ones_status(qtbot, window):
+    """After Solve, File > New left "Solved: 3 of 3 methods converged." in the status bar
+    for the empty worksheet."""
+    type_equation(qtbot, window, "x^2 - 2")
+    window.inputs.set_field("x0", 1.0)
+    solve_and_wait(qtbot, window)
+    assert window.statusBar().currentMessage().startswith("Solved")
+    window.new_document()
+    assert not window.statusBar().currentMessage().startswith("Solved")
+    assert window.load_sample("project-irr.json")
+    assert window.statusBar().currentMessage() == "Opened project-irr.json"

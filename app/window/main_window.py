@@ -376,7 +376,8 @@ class MainWindow(QMainWindow):
         return current != self._saved_text or has_bad_text
 
     def load_worksheet(self, ws: Worksheet, path: Path | None, *, modified: bool = False) -> None:
-        """Show a worksheet; results of the previous one are cleared."""
+        """Show a worksheet; results of the previous one (and their messages) are cleared."""
+        self.statusBar().clearMessage()
         self._loading = True
         try:
             self._doc = ws
