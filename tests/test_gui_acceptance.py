@@ -314,3 +314,17 @@ def test_a_new_worksheet_does_not_keep_the_old_ones_status(qtbot, window):
     assert not window.statusBar().currentMessage().startswith("Solved")
     assert window.load_sample("project-irr.json")
     assert window.statusBar().currentMessage() == "Opened project-irr.json"
+
+
+def test_about_says_which_version_is_running(qtbot, window, monkeypatch):
+    """A checker filing a calculation needs the tool's version; About did not give it.
+    It must match the one the CSV files record (solvers.export.tool_version)."""
+    from app.window import dialogs
+    from solvers.export import tool_version
+
+    shown = []
+    monkeypatch.setattr(dialogs.TextDialog, "exec", lambda self: shown.append(self) or 0)
+    window.show_about()
+    text = shown[0].browser.toPlainText()
+    assert f"zerotrace {tool_version()}" in text
+    assert "qualified engineer" in text

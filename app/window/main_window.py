@@ -939,7 +939,10 @@ class MainWindow(QMainWindow):
         TextDialog("Using zerotrace", HELP_HTML, self).exec()
 
     def show_about(self) -> None:
-        TextDialog("About zerotrace", ABOUT_HTML, self).exec()
+        from solvers.export import tool_version
+
+        html = ABOUT_HTML.replace("<h2>zerotrace</h2>", f"<h2>zerotrace {tool_version()}</h2>", 1)
+        TextDialog("About zerotrace", html, self).exec()
 
     # ------------------------------------------------------------------ recovery
     def autosave_now(self) -> bool:
