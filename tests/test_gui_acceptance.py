@@ -328,3 +328,22 @@ def test_about_says_which_version_is_running(qtbot, window, monkeypatch):
     text = shown[0].browser.toPlainText()
     assert f"zerotrace {tool_version()}" in text
     assert "qualified engineer" in text
+
+
+def test_a_scan_never_overlays_the_iterates_of_another_equation(qtbot, window):
+    """Solve x^2 - 2, then type sin(1/x) and scan: the plot of sin(1/x) carried Newton's
+    iterates of x^2 - 2 (points at f values of the other equation) as its path."""
+    type_equation(qtbot, window, "x^2 - 2")
+    window.inputs.set_field("x0", 1.0)
+    solve_and_wait(qtbot, window)
+    assert window.plot.path_box.count() == 4  # none + the three methods
+    type_equation(qtbot, window, "x^3 - 2*x - 5")
+    window.inputs.set_field("from", 0.0)
+    window.inputs.set_field("to", 4.0)
+    settle(qtbot, window)
+    _scan_and_wait(qtbot, window)
+    # Wallis's cubic has one real root, 2.0945514815423265 (numpy.roots gives the same).
+    assert [r.x for r in window.scan_result.roots] == [pytest.approx(2.0945514815423265)]
+    assert window.plot.path_box.count() == 1, "stale iterates drawn over the new curve"
+    labels = [line.get_label() for line in window.plot.ax.get_lines()]
+    assert not any("iterates" in label for label in labels), labels

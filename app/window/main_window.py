@@ -566,8 +566,9 @@ class MainWindow(QMainWindow):
         self.polish_button.setEnabled(True)
         self._size_roots_columns()
         self.roots_summary.setText(scan_summary(scan, equation.unknown))
-        runs = self.solution.runs if self.solution is not None and \
-            self._solve_key is not None else ()
+        # Only a solution of this very worksheet may draw its path over the new curve.
+        current = self.solution is not None and self._solve_key == self._key(ws)
+        runs = self.solution.runs if current else ()
         self.plot.show_function(equation.f, scan.a, scan.b, unknown=equation.unknown, scan=scan,
                                 runs=runs, curve=curve)
         if self.roots_model.rowCount():
