@@ -347,3 +347,19 @@ def test_a_scan_never_overlays_the_iterates_of_another_equation(qtbot, window):
     assert window.plot.path_box.count() == 1, "stale iterates drawn over the new curve"
     labels = [line.get_label() for line in window.plot.ax.get_lines()]
     assert not any("iterates" in label for label in labels), labels
+
+
+def test_the_plot_says_when_it_shows_an_earlier_input(qtbot, window):
+    """After an edit the lanes said "inputs changed since this run" but the plot kept the
+    old curve with no word, even while the editor held a typo."""
+    from app.window.canvas import HINT
+
+    type_equation(qtbot, window, "x^2 - 2")
+    window.inputs.set_field("x0", 1.0)
+    solve_and_wait(qtbot, window)
+    assert window.plot.hint.text() == HINT
+    type_equation(qtbot, window, "x^2 - 2 +")
+    assert "earlier" in window.plot.hint.text()
+    type_equation(qtbot, window, "x^2 - 3")
+    solve_and_wait(qtbot, window)
+    assert window.plot.hint.text() == HINT

@@ -261,6 +261,16 @@ class PlotPanel(QTabWidget):
         axes = self.function_view.figure.axes
         return axes[0] if axes else None
 
+    def set_stale(self, stale: bool) -> None:
+        """Say under the plot that it shows an earlier input (no redraw: a label only)."""
+        if stale:
+            self.hint.setText("⚠ The plot shows an earlier input: press Solve or Scan range "
+                              "to redraw it.")
+            self.hint.setStyleSheet("color: #8A2B00;")
+        else:
+            self.hint.setText(HINT)
+            self.hint.setStyleSheet("color: #555555;")
+
     def path_method(self) -> str | None:
         return self.path_box.currentData() or None
 

@@ -119,6 +119,7 @@ class MainWindow(QMainWindow):
         self.scan_equation: Any = None
         self._scan_key: str | None = None
         self._solve_key: str | None = None
+        self._plot_key: tuple[str, str] | None = None  # what the plot was drawn from
         self.last_error = ""
         self.solve_started_at = 0.0
         self.solve_seconds = math.nan
@@ -394,6 +395,8 @@ class MainWindow(QMainWindow):
             self.solution = None
             self.scan_result = None
             self._scan_key = self._solve_key = None
+            self._plot_key = None
+            self.plot.set_stale(False)
             self.roots_model.set_rows([])
             self.roots_summary.setText("No scan yet." if ws.scan else
                                        "No scan range: set 'scan from' and 'scan to'.")
@@ -439,6 +442,10 @@ class MainWindow(QMainWindow):
 
     def _mark_stale(self) -> None:
         ws = self.solve_worksheet()
+        if self._plot_key is not None:
+            kind, key = self._plot_key
+            now = self._key(ws) if kind == "solve" else self._scan_key_of(ws)
+            self.plot.set_stale(now != key)
         if self.solution is not None:
             self.lanes.set_stale(self._key(ws) != self._solve_key)
         if self.scan_result is not None:
@@ -504,6 +511,7 @@ class MainWindow(QMainWindow):
         solution, (a, b), curve = result
         self.solution = solution
         self._solve_key = key
+        self._plot_key = ("solve", key)
         self.lanes.show_solution(solution)
         self.plot.show_function(solution.equation.f, a, b, unknown=solution.equation.unknown,
                                 scan=scan, runs=solution.runs, curve=curve)
@@ -561,6 +569,8 @@ class MainWindow(QMainWindow):
         scan, equation, curve = result
         self._end_scan_ui()
         self.scan_result, self.scan_equation, self._scan_key = scan, equation, key
+        self._plot_key = ("scan", key)
+        self.plot.set_stale(False)
         self.roots_model.set_rows(scan.roots)
         self.roots_view.setEnabled(True)
         self.polish_button.setEnabled(True)
