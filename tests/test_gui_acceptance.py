@@ -363,3 +363,22 @@ def test_the_plot_says_when_it_shows_an_earlier_input(qtbot, window):
     type_equation(qtbot, window, "x^2 - 3")
     solve_and_wait(qtbot, window)
     assert window.plot.hint.text() == HINT
+
+
+def test_a_failed_write_names_the_file_and_folder_not_a_temporary_name(qtbot, window,
+                                                                        dialogs, tmp_path):
+    """Exporting into a folder that does not exist said: No such file or directory:
+    '/…/.x.csv.fhc3288s.tmp', the name of a temporary file the user never chose."""
+    type_equation(qtbot, window, "x^2 - 2")
+    window.inputs.set_field("x0", 1.0)
+    solve_and_wait(qtbot, window)
+    target = tmp_path / "no such folder" / "log.csv"
+    dialogs.save_name = str(target)
+    assert not window.export_runs_csv()
+    message = dialogs.titles("warning")[-1]
+    assert ".tmp" not in message, message
+    assert str(target.parent) in message and "does not exist" in message, message
+    dialogs.save_name = str(tmp_path / "missing" / "sheet.json")
+    assert not window.save_as()
+    message = dialogs.titles("warning")[-1]
+    assert ".tmp" not in message and "does not exist" in message, message

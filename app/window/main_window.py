@@ -776,9 +776,10 @@ class MainWindow(QMainWindow):
         try:
             worksheet.save(ws, path)
         except (OSError, ValueError) as exc:
-            self.last_error = str(exc)
+            why = write_problem(path, exc)
+            self.last_error = why
             QMessageBox.warning(self, "Cannot save worksheet",
-                                f"{path} was not written:\n{exc}\n\nNothing on screen was lost; "
+                                f"{path} was not written:\n{why}\n\nNothing on screen was lost; "
                                 "try another folder.")
             return False
         self.path = path
@@ -870,7 +871,8 @@ class MainWindow(QMainWindow):
         try:
             export.runs_csv(self.solution.runs, path, meta=export.solution_meta(self.solution))
         except OSError as exc:
-            QMessageBox.warning(self, "Cannot export", f"{path} was not written:\n{exc}")
+            QMessageBox.warning(self, "Cannot export",
+                                f"{path} was not written:\n{write_problem(path, exc)}")
             return False
         self.statusBar().showMessage(f"Iteration log written to {path}", 8000)
         return True
@@ -889,7 +891,8 @@ class MainWindow(QMainWindow):
         try:
             export.roots_csv(self.scan_result, path, meta=meta)
         except OSError as exc:
-            QMessageBox.warning(self, "Cannot export", f"{path} was not written:\n{exc}")
+            QMessageBox.warning(self, "Cannot export",
+                                f"{path} was not written:\n{write_problem(path, exc)}")
             return False
         self.statusBar().showMessage(f"Roots written to {path}", 8000)
         return True
@@ -1043,6 +1046,22 @@ def _scan_job(ws: Worksheet, progress: Any, cancel: Any) -> tuple[Any, Any, Any]
     scan = pipeline.scan_worksheet(ws, equation, progress=progress, cancel=cancel)
     breaks = list(scan.poles) + list(getattr(scan, "discontinuities", []) or [])
     return scan, equation, figures.curve(equation.f, scan.a, scan.b, breaks=breaks)
+
+
+def write_problem(path: Path, exc: BaseException) -> str:
+    """Why ``path`` could not be written, in words about the file the user chose.
+
+    Files are written through a temporary file beside the target; its name in the
+    system's message ('.log.csv.d7zhy582.tmp') means nothing to the user.
+    """
+    folder = path.parent
+    if not folder.exists():
+        return f"the folder {folder} does not exist"
+    if not folder.is_dir():
+        return f"{folder} is a file, not a folder"
+    if isinstance(exc, OSError) and exc.strerror:
+        return f"{exc.strerror} (in the folder {folder})"
+    return str(exc)
 
 
 def _accepted(function: Any, **candidates: Any) -> dict[str, Any]:
