@@ -382,3 +382,38 @@ def test_a_failed_write_names_the_file_and_folder_not_a_temporary_name(qtbot, wi
     assert not window.save_as()
     message = dialogs.titles("warning")[-1]
     assert ".tmp" not in message and "does not exist" in message, message
+
+
+def _mnemonic(text: str) -> str | None:
+    i = text.replace("&&", "").find("&")
+    return text.replace("&&", "")[i + 1].lower() if i >= 0 else None
+
+
+def test_alt_keys_are_unique_in_the_window_and_in_each_menu(qtbot, window):
+    """Alt+P went to both the Parameters table and the Polish button, Alt+D to damping and
+    the design value, Alt+R to the Run menu and rtol, Alt+H to Help and the path chooser;
+    in the File menu r and s were doubled, in the Run menu c."""
+    from PySide6.QtWidgets import QAbstractButton, QLabel
+
+    window.plot.setCurrentIndex(0)
+    qtbot.wait(20)
+    keys: dict[str, list[str]] = {}
+    for action in window.menuBar().actions():
+        keys.setdefault(_mnemonic(action.text()), []).append(action.text())
+    for widget in window.findChildren(QLabel) + window.findChildren(QAbstractButton):
+        if not widget.isVisible():
+            continue
+        if isinstance(widget, QLabel) and widget.buddy() is None:
+            continue
+        key = _mnemonic(widget.text())
+        if key:
+            keys.setdefault(key, []).append(widget.text())
+    keys.pop(None, None)
+    assert {k: v for k, v in keys.items() if len(v) > 1} == {}
+    for menu in [a.menu() for a in window.menuBar().actions()]:
+        seen: dict[str, list[str]] = {}
+        for action in menu.actions():
+            key = _mnemonic(action.text())
+            if key:
+                seen.setdefault(key, []).append(action.text())
+        assert {k: v for k, v in seen.items() if len(v) > 1} == {}, menu.title()

@@ -192,7 +192,7 @@ class PlotPanel(QTabWidget):
         self.path_box.setObjectName("pathBox")
         self.path_box.setToolTip("Whose iterates are drawn over f")
         self.path_box.setMinimumContentsLength(14)
-        path_label = QLabel("Pat&h of")
+        path_label = QLabel("Sho&w path of")  # Alt+W, like Show on the other tab
         path_label.setBuddy(self.path_box)
         self.function_view.bar.addWidget(path_label)
         self.function_view.bar.addWidget(self.path_box)

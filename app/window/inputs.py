@@ -68,12 +68,12 @@ START_FIELDS = (
     FieldSpec("b", "bracket &b", "right end of the bracket", optional=True),
     FieldSpec("from", "scan fro&m", "left end of the range scanned for every root "
               "and drawn in the plot", optional=True),
-    FieldSpec("to", "scan &to", "right end of the scanned range", optional=True),
+    FieldSpec("to", "scan t&o", "right end of the scanned range", optional=True),
 )
 RULE_FIELDS = (
     FieldSpec("xtol", "&xtol", "stop when |Δx| ≤ xtol + rtol·|x| (absolute part, "
               "units of the unknown)", check=_nonneg),
-    FieldSpec("rtol", "&rtol", "relative part of the step test (4 machine epsilons "
+    FieldSpec("rtol", "r&tol", "relative part of the step test (4 machine epsilons "
               "by default)", check=_nonneg),
     FieldSpec("ftol", "fto&l", "stop when |f(x)| ≤ ftol (0: off, since the scale of "
               "f is yours)", check=_nonneg),

@@ -184,7 +184,7 @@ class MainWindow(QMainWindow):
         self.cancel_button.setObjectName("cancelScanButton")
         self.cancel_button.setToolTip("Stop the scan (Esc); earlier results are kept")
         self.cancel_button.setEnabled(False)
-        self.polish_button = QPushButton("&Polish")
+        self.polish_button = QPushButton("Polish")  # Enter on a root polishes it
         self.polish_button.setObjectName("polishButton")
         progress_row = QHBoxLayout()
         progress_row.addWidget(self.progress, 1)
@@ -195,7 +195,7 @@ class MainWindow(QMainWindow):
         roots_layout.addWidget(summary_area)
         roots_layout.addLayout(progress_row)
         roots_layout.addWidget(self.roots_view, 1)
-        self.design_button = QPushButton("Take as &design value")
+        self.design_button = QPushButton("Ta&ke as design value")
         self.design_button.setObjectName("designButton")
         self.design_button.setToolTip("Record the selected root as the design value, with "
                                       "how it was chosen (Ctrl+D); shown on the calculation "
@@ -265,14 +265,14 @@ class MainWindow(QMainWindow):
         self.export_runs_action = self._action(
             "Export &iteration log (CSV)…", self.export_runs_csv,
             tip="Every iterate of every method, numbers written exactly")
-        self.export_roots_action = self._action("Export &roots (CSV)…", self.export_roots_csv)
-        self.export_pdf_action = self._action("Export calculation &sheet (PDF)…",
+        self.export_roots_action = self._action("Export roo&ts (CSV)…", self.export_roots_csv)
+        self.export_pdf_action = self._action("Export calculation s&heet (PDF)…",
                                               self.export_report)
         self.quit_action = self._action("&Quit", self.close, k.Quit)
         self.calc_action = self._action("Calculation &details…", self.edit_calc_details)
         self.solve_action = self._action("&Solve", self.solve, ["Ctrl+Return", "Ctrl+Enter"],
                                          "Run every method side by side")
-        self.scan_action = self._action("S&can range", self.start_scan,
+        self.scan_action = self._action("Scan &range", self.start_scan,
                                         ["Ctrl+Shift+Return", "Ctrl+Shift+Enter"],
                                         "Find every root, pole and jump in the scan range")
         self.cancel_action = self._action("&Cancel scan", self.cancel_scan, "Esc")
@@ -287,7 +287,7 @@ class MainWindow(QMainWindow):
         self.more_digits_action = self._action(
             "&More significant figures", lambda: self._step_digits(1), ["Ctrl+=", "Ctrl++"])
         self.fewer_digits_action = self._action(
-            "&Fewer significant figures", lambda: self._step_digits(-1), "Ctrl+-")
+            "Fe&wer significant figures", lambda: self._step_digits(-1), "Ctrl+-")
         self.help_action = self._action("&Using zerotrace", self.show_help, k.HelpContents)
         self.about_action = self._action("&About zerotrace", self.show_about)
 
