@@ -891,6 +891,14 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     g.check()
     if progress is not None:
         progress(0.85)
+    if len(brackets) > MAX_ROOTS:
+        # memory and time grow with the roots kept (sin(1e4 x) on [0, 1000] has 3e6):
+        # refine the first MAX_ROOTS and say where the rest begin
+        brackets.sort()
+        cut = brackets[MAX_ROOTS][0]
+        brackets = brackets[:MAX_ROOTS]
+        notes.append(f"more than {MAX_ROOTS} sign changes in [{a:.6g}, {b:.6g}]: roots refined "
+                     f"only up to x = {cut:.6g}; scan a narrower range for the rest")
     if brackets:
         br = np.array(brackets, dtype=float)
         roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol)
@@ -955,6 +963,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
 
 
 _RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check could not resolve
+MAX_ROOTS = 100_000  # sign changes refined by one scan: beyond that, a narrower range is needed
 
 
 def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, notes, scale):
@@ -977,7 +986,7 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
         if floats < 2 * count / 64:  # the grid already sat on (nearly) every float there
             continue
         count = min(count, floats)
-        if count > budget:
+        if count > budget or len(merged) >= MAX_ROOTS:
             break
         budget -= count
         if progress is not None:

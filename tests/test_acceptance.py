@@ -290,3 +290,20 @@ def test_a_genuine_root_next_to_a_steep_wall_still_converges() -> None:
         run_ = method(f, 1.0, 1.5707)
         assert run_.converged
         assert run_.root == pytest.approx(expected, rel=1e-14)
+
+
+# ------------------------------------------------ a scan with more roots than it can hold
+
+
+def test_a_scan_with_too_many_roots_stops_refining_and_says_so(monkeypatch) -> None:
+    import importlib
+
+    scan_module = importlib.import_module("solvers.scan")
+    # sin(1e4 x) on [0, 1000] (3.2e6 roots) took > 2 min and 10 GB; the cap is what bounds
+    # it. A small cap keeps this test quick: sin(20 x) has 6367 roots k*pi/20 in [0, 1000].
+    monkeypatch.setattr(scan_module, "MAX_ROOTS", 2000)
+    found = scan(lambda x: np.sin(20.0 * x), 0.0, 1000.0)
+    assert any("narrower range" in w for w in found.warnings)
+    assert 2000 <= len(found.roots) < 6367
+    k = np.array([r.x for r in found.roots]) * 20.0 / np.pi
+    assert np.max(np.abs(k - np.rint(k))) < 1e-9  # every one a true zero (numpy.pi reference)
