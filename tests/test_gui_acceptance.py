@@ -417,3 +417,27 @@ def test_alt_keys_are_unique_in_the_window_and_in_each_menu(qtbot, window):
             if key:
                 seen.setdefault(key, []).append(action.text())
         assert {k: v for k, v in seen.items() if len(v) > 1} == {}, menu.title()
+
+
+def test_ctrl_return_while_typing_a_parameter_value_solves_with_that_value(qtbot, window):
+    """Typing a value in the parameters table and pressing Ctrl+Return said "Cannot solve
+    yet: a: needs a value": the value still sat in the cell editor. 4x - 2 = 0 has its root
+    at 0.5 (exact arithmetic)."""
+    from PySide6.QtWidgets import QApplication
+
+    type_equation(qtbot, window, "a*x - 2")
+    view = window.inputs.parameters_view
+    window.activateWindow()
+    view.setFocus()
+    index = view.model().index(0, 1)
+    view.setCurrentIndex(index)
+    view.edit(index)
+    qtbot.waitUntil(lambda: QApplication.focusWidget() is not view, timeout=5000)
+    editor = QApplication.focusWidget()
+    qtbot.keyClicks(editor, "4")
+    before = window.solution
+    qtbot.keyClick(editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.solution is not before and window.solution is not None,
+                    timeout=10_000)
+    assert window.solution.worksheet.parameter_values()["a"] == 4.0
+    assert window.solution.runs[0].root == pytest.approx(0.5, rel=1e-14)

@@ -14,6 +14,8 @@ from typing import Any
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
+    QAbstractItemDelegate,
+    QAbstractItemView,
     QFrame,
     QGridLayout,
     QGroupBox,
@@ -276,6 +278,17 @@ class InputsPanel(QWidget):
             field.textChanged.connect(self._on_changed)
         self._loading = False
         self.show_settings(Settings(), None)
+
+    def commit_edits(self) -> None:
+        """Take a value still being typed in a parameter cell (Ctrl+Return from the cell
+        editor solves with it, instead of "needs a value")."""
+        view = self.parameters_view
+        if view.state() != QAbstractItemView.State.EditingState:
+            return
+        editor = view.indexWidget(view.currentIndex())
+        if editor is not None:
+            view.commitData(editor)
+            view.closeEditor(editor, QAbstractItemDelegate.EndEditHint.NoHint)
 
     def _pairs(self, grid: QGridLayout, specs: tuple[FieldSpec, ...]) -> None:
         """Two label/field pairs per row, so the column fits a 1280x800 screen."""

@@ -489,6 +489,7 @@ class MainWindow(QMainWindow):
     # ------------------------------------------------------------------ solve
     def solve(self) -> bool:
         """Run the methods in the background; a second Solve while one runs replaces it."""
+        self.inputs.commit_edits()
         problems = self.inputs.problems()
         if problems:
             self._report(f"Cannot solve yet: {problems[0]}")
@@ -535,6 +536,7 @@ class MainWindow(QMainWindow):
         if self.runner.is_busy("scan"):
             self._report("A scan is already running (Esc cancels it)")
             return False
+        self.inputs.commit_edits()
         problems = self.inputs.problems()
         if problems:
             self._report(f"Cannot scan yet: {problems[0]}")
