@@ -441,3 +441,24 @@ def test_ctrl_return_while_typing_a_parameter_value_solves_with_that_value(qtbot
                     timeout=10_000)
     assert window.solution.worksheet.parameter_values()["a"] == 4.0
     assert window.solution.runs[0].root == pytest.approx(0.5, rel=1e-14)
+
+
+def test_a_start_value_picked_on_the_plot_carries_no_false_precision(qtbot, window):
+    """Shift+click at x = 2.5 on a plot of [0, 4] set x0 = 2.50137362637362... (17 figures
+    for a pick one pixel wide). The pick is rounded to the plot's resolution."""
+    from matplotlib.backend_bases import MouseEvent
+
+    type_equation(qtbot, window, "x^3 - 2*x - 5")
+    window.inputs.set_field("from", 0.0)
+    window.inputs.set_field("to", 4.0)
+    solve_and_wait(qtbot, window)
+    canvas = window.plot.function_view.canvas
+    canvas.draw()
+    ax = window.plot.ax
+    px, py = ax.transData.transform((2.50137362637, 0.0))
+    MouseEvent("button_press_event", canvas, px, py, button=1, key="shift")._process()
+    MouseEvent("button_release_event", canvas, px, py, button=1, key="shift")._process()
+    x0 = window.inputs.fields["x0"].value()
+    assert x0 == pytest.approx(2.5, abs=0.02)
+    assert len(repr(x0)) <= 6, x0  # e.g. 2.501: a thousandth of the 4-unit span
+    assert window.inputs.fields["x0"].text() == repr(x0)

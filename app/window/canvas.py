@@ -11,6 +11,7 @@ calculation sheet. On the function view, with the toolbar's pan/zoom off:
 
 from __future__ import annotations
 
+import math
 import os
 import threading
 from collections.abc import Callable, Sequence
@@ -387,9 +388,21 @@ class PlotPanel(QTabWidget):
             self.function_view.canvas.draw_idle()
         end = float(event.xdata) if event.xdata is not None else start
         lo, hi = self.ax.get_xlim() if self.ax is not None else (start, end)
-        if abs(end - start) > _DRAG_FRACTION * abs(hi - lo):
+        dragged = abs(end - start) > _DRAG_FRACTION * abs(hi - lo)
+        start, end = (_to_resolution(v, lo, hi) for v in (start, end))
+        if dragged:
             self.bracket_picked.emit(min(start, end), max(start, end))
         elif button == 3:
             self.x1_picked.emit(start)
         else:
             self.x0_picked.emit(start)
+
+
+def _to_resolution(x: float, lo: float, hi: float) -> float:
+    """``x`` rounded to a thousandth of the visible span: a mouse pick is good to about a
+    pixel, and 17 figures of it would be false precision in the worksheet."""
+    span = abs(hi - lo)
+    if not (math.isfinite(x) and math.isfinite(span)) or span == 0:
+        return x
+    decimals = -math.floor(math.log10(span / 1000))
+    return float(round(x, decimals))
