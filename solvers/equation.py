@@ -1159,6 +1159,11 @@ def _validate_parameters(parameters: Mapping[str, Any] | None) -> dict[str, floa
     for name, value in parameters.items():
         if not isinstance(name, str):
             raise EquationError(f"parameter name {name!r} is not a string")
+        if name in CONSTANT_NAMES:
+            # the text's 'pi' or 'deg' is always the constant: a value would be dropped unseen
+            meaning = "pi = 3.14159..." if name == "pi" else "deg = pi/180"
+            raise EquationError(f"parameter '{name}' has the name of the constant {meaning}; "
+                                "give the parameter another name")
         if isinstance(value, bool) or not isinstance(value, (Real, np.number)) or \
                 isinstance(value, complex | np.complexfloating):
             raise EquationError(f"parameter {name!r} must be a real number, "

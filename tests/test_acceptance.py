@@ -307,3 +307,20 @@ def test_a_scan_with_too_many_roots_stops_refining_and_says_so(monkeypatch) -> N
     assert 2000 <= len(found.roots) < 6367
     k = np.array([r.x for r in found.roots]) * 20.0 / np.pi
     assert np.max(np.abs(k - np.rint(k))) < 1e-9  # every one a true zero (numpy.pi reference)
+
+
+# ------------------------------------------------ a value given to a built-in constant
+
+
+@pytest.mark.parametrize("name", ["pi", "deg"])
+def test_a_parameter_named_like_a_constant_is_refused_not_ignored(capsys, name) -> None:
+    # Invented: a dimensionless group called 'pi' set to 3. The constant pi (math.pi) was
+    # used instead and the value 3 dropped without a word.
+    from solvers import EquationError, parse_equation
+
+    with pytest.raises(EquationError, match=name):
+        parse_equation(f"x - {name}", parameters={name: 3.0})
+    code, out, err = run(capsys, "solve", f"x - {name}", "--param", f"{name}=3", "--x0", "1")
+    assert code == 2
+    assert out == ""
+    assert name in err and "constant" in err
