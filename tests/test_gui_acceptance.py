@@ -271,6 +271,8 @@ def test_tab_visits_only_controls_and_leaves_the_tables(qtbot, window):
     solve_and_wait(qtbot, window)
     chain = _tab_chain(window, window.strip.editor)
     assert not [w for w in chain if isinstance(w, QScrollArea)], "a bare frame takes focus"
+    # The plot's tabs take focus once (the tab bar), not twice (tab widget and tab bar).
+    assert window.plot not in chain
     window.activateWindow()
     table = window.lanes.lanes["false_position"].table  # 100 iterates (its stop reason)
     table.setFocus()

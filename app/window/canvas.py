@@ -211,6 +211,7 @@ class PlotPanel(QTabWidget):
         self.convergence_view.bar.addWidget(quantity_label)
         self.convergence_view.bar.addWidget(self.quantity_box)
 
+        self.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # its tab bar is the one Tab stop
         self.addTab(self.function_view, "Function")
         self.addTab(self.convergence_view, "Convergence")
         self._convergence_stale = True
