@@ -27,6 +27,7 @@ CAUTION = (
 
 EXIT_OK = 0
 EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 1  # a defect of zerotrace, not of the input
 
 
 class InputError(Exception):
@@ -78,6 +79,16 @@ def _count(text: str) -> int:
         raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
     if not 1 <= value <= 100_000:
         raise argparse.ArgumentTypeError(f"{text!r} must be from 1 to 100000")
+    return value
+
+
+def _count_samples(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 3 <= value <= 100_000_000:
+        raise argparse.ArgumentTypeError(f"{text!r} must be from 3 to 100000000")
     return value
 
 
@@ -156,6 +167,10 @@ def _build_parser() -> _Parser:
     scan.add_argument("--worksheet", metavar="FILE", help="scan a saved worksheet's range")
     scan.add_argument("--from", dest="start", type=_finite, metavar="A", help="range start")
     scan.add_argument("--to", dest="stop", type=_finite, metavar="B", help="range end")
+    scan.add_argument(
+        "--samples", type=_count_samples, metavar="N",
+        help="sampling density (default 2001; the scan refines where f turns fast)",
+    )
     scan.add_argument("--csv", metavar="PATH", help="write the roots table as CSV")
     scan.add_argument("--force", action="store_true", help="replace an existing output file")
 
@@ -361,7 +376,7 @@ def cmd_scan(args: argparse.Namespace) -> int:
     ws = replace(ws, scan=(start, stop))
     csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
     equation = pipeline.equation_of(ws)
-    result = pipeline.scan_worksheet(ws, equation)
+    result = pipeline.scan_worksheet(ws, equation, samples=args.samples)
     if csv_path:
         meta = export.metadata(
             equation=ws.equation, unknown=equation.unknown, parameters=equation.parameters
@@ -505,6 +520,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
+    except Exception as exc:  # noqa: BLE001 - a defect of ours: one line, never a traceback
+        print(
+            f"internal error ({type(exc).__name__}: {str(exc).splitlines()[0] if str(exc) else ''})"
+            "; please report it with the command line",
+            file=sys.stderr,
+        )
+        return EXIT_INTERNAL
 
 
 if __name__ == "__main__":

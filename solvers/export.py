@@ -216,7 +216,7 @@ def scan_json(scan: Any) -> dict[str, Any]:
         "discontinuities": [_json_float(x) for x in getattr(scan, "discontinuities", [])],
         "gaps": [[_json_float(a), _json_float(b)] for a, b in getattr(scan, "gaps", [])],
         "warnings": list(getattr(scan, "warnings", [])),
-        "samples": getattr(scan, "samples", None),
+        "samples": int(scan.samples) if getattr(scan, "samples", None) is not None else None,
     }
 
 

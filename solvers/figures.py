@@ -26,6 +26,7 @@ from typing import Any
 
 import numpy as np
 
+from solvers.methods import LABELS
 from solvers.result import Run
 
 # Okabe & Ito (2008) colour-blind-safe palette, one colour per method. The function
@@ -48,13 +49,11 @@ METHOD_COLORS: dict[str, str] = {
     "bisection": OKABE_ITO["orange"],
     "brent": OKABE_ITO["sky_blue"],
 }
+# In-sentence names, from the methods' own titles (solvers.methods.LABELS): lower case
+# except the methods named after people.
+_PROPER = ("newton", "illinois", "brent")
 METHOD_LABELS: dict[str, str] = {
-    "newton": "Newton–Raphson",
-    "secant": "secant",
-    "false_position": "false position",
-    "illinois": "Illinois",
-    "bisection": "bisection",
-    "brent": "Brent",
+    name: title if name in _PROPER else title.lower() for name, title in LABELS.items()
 }
 FUNCTION_COLOR = "#222222"
 POLE_COLOR = "#6B6B6B"

@@ -125,7 +125,7 @@ DERIVATIVE_FLOOR = 1e-3
 Function = Callable[[float], Any]
 
 LABELS: dict[str, str] = {
-    "newton": "Newton-Raphson",
+    "newton": "Newton–Raphson",  # en dash, as in the window and the sheet
     "secant": "Secant",
     "false_position": "False position",
     "illinois": "Illinois",

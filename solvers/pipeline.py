@@ -218,13 +218,19 @@ def scan_worksheet(
     *,
     progress: Callable[[float], None] | None = None,
     cancel: Callable[[], bool] | None = None,
+    samples: int | None = None,
 ) -> Scan:
-    """Every root of the worksheet's equation in its scan range (ValueError if none set)."""
+    """Every root of the worksheet's equation in its scan range (ValueError if none set).
+
+    ``samples`` overrides the scan's default sampling density.
+    """
     if ws.scan is None:
         raise ValueError("scan: the worksheet has no scan range (set 'from' and 'to')")
     eq = equation if equation is not None else equation_of(ws)
     a, b = ws.scan
-    return scan(eq.f, a, b, fprime=eq.fprime, progress=progress, cancel=cancel)
+    return scan(
+        eq.f, a, b, fprime=eq.fprime, samples=samples, progress=progress, cancel=cancel
+    )
 
 
 def polish(ws: Worksheet, x: float, equation: Equation | None = None) -> Solution:

@@ -223,3 +223,35 @@ def test_a_hostile_worksheet_runs_nothing_and_exits_2(capsys, tmp_path: Path) ->
     code, _, err = run(capsys, "report", str(path), "--pdf", str(tmp_path / "sheet.pdf"))
     assert code == 2
     assert not sentinel.exists() and not (tmp_path / "sheet.pdf").exists()
+
+
+def test_scan_json_of_a_hard_case_is_valid_and_samples_can_be_raised(capsys) -> None:
+    # sin(1/x) has its zeros at 1/(n pi) (elementary); near 1e-4 they are closer than any
+    # default sampling, so the scan must warn, and stay valid JSON (sample counts are ints).
+    code, out, _ = run(capsys, "scan", "sin(1/x)", "--from", "1e-3", "--to", "1", "--json")
+    assert code == 0
+    coarse = json.loads(out)
+    assert isinstance(coarse["samples"], int)
+    code, out, _ = run(capsys, "scan", "sin(1/x)", "--from", "1e-3", "--to", "1",
+                       "--samples", "100001", "--json")
+    fine = json.loads(out)
+    expected = sorted(1 / (n * math.pi) for n in range(1, 319))  # 1/(n pi) in [1e-3, 1]
+    assert fine["samples"] > coarse["samples"]
+    np.testing.assert_allclose([r["x"] for r in fine["roots"]], expected, rtol=1e-12)
+    code, _, err = run(capsys, "scan", "x", "--from", "0", "--to", "1", "--samples", "2")
+    assert code == 2 and "from 3" in err
+
+
+def test_an_internal_defect_is_one_line_not_a_traceback(capsys, monkeypatch) -> None:
+    import app.cli
+
+    def broken(args):
+        raise TypeError("something we did not foresee")
+
+    monkeypatch.setitem(app.cli.COMMANDS, "solve", broken)
+    code, out, err = run(capsys, "solve", "x - 1")
+    assert code == 1 and out == ""
+    assert err.strip().splitlines() == [
+        "internal error (TypeError: something we did not foresee); please report it with the "
+        "command line"
+    ]
