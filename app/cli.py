@@ -71,25 +71,24 @@ def _nonneg(text: str) -> float:
     return value
 
 
-def _count(text: str) -> int:
-    text = text.strip()
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
-    if not 1 <= value <= 100_000:
-        raise argparse.ArgumentTypeError(f"{text!r} must be from 1 to 100000")
-    return value
+def _whole(low: int, high: int) -> Callable[[str], int]:
+    """An argparse type: a whole number from ``low`` to ``high``."""
+
+    def parse(text: str) -> int:
+        text = text.strip()
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+        if not low <= value <= high:
+            raise argparse.ArgumentTypeError(f"{text!r} must be from {low} to {high}")
+        return value
+
+    return parse
 
 
-def _count_samples(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
-    if not 3 <= value <= 100_000_000:
-        raise argparse.ArgumentTypeError(f"{text!r} must be from 3 to 100000000")
-    return value
+_count = _whole(1, 100_000)  # iteration cap
+_count_samples = _whole(3, 100_000_000)  # scan sampling density
 
 
 def _param(text: str) -> tuple[str, float]:
