@@ -379,7 +379,10 @@ def load(path: str | os.PathLike[str]) -> Worksheet:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise WorksheetError(f"{p.name}: not UTF-8 text (byte {exc.start})") from None
-    return loads(text)
+    try:
+        return loads(text)
+    except WorksheetError as exc:  # say which file: a user may open several from colleagues
+        raise WorksheetError(f"{p.name}: {exc}", exc.field) from None
 
 
 def save(ws: Worksheet, path: str | os.PathLike[str]) -> None:

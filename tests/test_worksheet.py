@@ -195,3 +195,14 @@ def test_equation_length_limit_matches_the_parser() -> None:
     data["equation"] = "x" + " + x" * MAX_LENGTH
     with pytest.raises(WorksheetError, match="^equation: too long"):
         wsmod.from_dict(data)
+
+
+def test_errors_from_a_file_name_the_file_and_the_field(tmp_path: Path) -> None:
+    data = _valid_dict()
+    data["settings"]["xtol"] = -1
+    path = tmp_path / "pump check.json"
+    path.write_text(json.dumps(data), "utf-8")
+    with pytest.raises(WorksheetError) as info:
+        wsmod.load(path)
+    assert str(info.value).startswith("pump check.json: settings.xtol:")
+    assert info.value.field == "settings.xtol"
