@@ -42,10 +42,12 @@ Stop order after each new iterate: non-finite f -> ``not_finite``; ``f == 0`` ->
 
 Defaults, chosen for engineering work
 -------------------------------------
-``DEFAULT_XTOL = 1e-12`` and ``DEFAULT_RTOL = 4*eps`` ask for the root to full double
-precision (the relative term dominates for |x| > ~1e3, the absolute term for roots
-near zero), which costs only an iterate or two more than any engineering accuracy
-and leaves no doubt about convergence. ``DEFAULT_FTOL = 0.0`` switches the residual
+``DEFAULT_XTOL = 1e-12`` and ``DEFAULT_RTOL = 4*eps``: the relative term dominates for
+|x| > ~1e3, the absolute term below. Newton and the secant, whose last step is far
+smaller than the tolerance, end at full double precision for any root; the bracketing
+methods stop when the bracket is within the tolerance, so a root of order one gets
+about 12 correct digits and a root near 0.02 (a friction factor) about 10 from them.
+Tighten xtol for small roots. ``DEFAULT_FTOL = 0.0`` switches the residual
 test off, because the scale of f is the user's (a residual of 1e-6 is tiny in pascals
 and huge in megapascals). ``DEFAULT_MAX_ITER = 100`` is far more than a converging
 method needs (bisection from a bracket 1e15 times the tolerance needs 50) and small

@@ -71,8 +71,8 @@ class Settings:
     """Start values and stopping rules shared by the methods.
 
     Defaults: xtol 1e-12 and rtol 4 machine epsilons (the step test
-    |dx| <= xtol + rtol*|x| then asks for full double precision on roots of order
-    one and stays meaningful for roots near zero); ftol 0 (residual test off,
+    |dx| <= xtol + rtol*|x|: full precision from Newton and the secant, about 1e-12
+    absolute from bracketing methods; see solvers.methods); ftol 0 (residual test off,
     because the scale of f is the user's); 100 iterations (a converging method
     needs far fewer; the cap only ends hopeless runs); damping 1 (plain Newton).
     """
