@@ -20,10 +20,13 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 from typing import Any, NoReturn
 
-CAUTION = (
-    "Caution: a numerical solution of the equation as entered. Check the equation, inputs and "
-    "units; results need review by a qualified engineer; local codes and licensed practice govern."
-)
+
+def caution() -> str:
+    """The one caution text (solvers.caution), read on first use: importing the solvers
+    package loads sympy, which ``--version`` and the window's checks need not wait for."""
+    from solvers.caution import CAUTION
+
+    return f"Caution: {CAUTION}"
 
 EXIT_OK = 0
 EXIT_BAD_INPUT = 2
@@ -36,6 +39,11 @@ class InputError(Exception):
 
 class _Parser(argparse.ArgumentParser):
     """argparse that reports errors as one line and exit 2 (its own default is 2 plus usage)."""
+
+    def format_help(self) -> str:
+        if self.epilog is None and " " not in self.prog:  # the top-level parser's epilog
+            self.epilog = caution()
+        return super().format_help()
 
     def error(self, message: str) -> NoReturn:
         if message.startswith("unrecognized arguments: -"):
@@ -132,7 +140,6 @@ def _build_parser() -> _Parser:
         prog="zerotrace",
         description="Find, verify and document the real roots of a nonlinear design equation. "
         "With no command, opens the window.",
-        epilog=CAUTION,
     )
     parser.add_argument("--version", action="store_true", help="print the version and exit")
     sub = parser.add_subparsers(dest="command", parser_class=_Parser, metavar="COMMAND")
@@ -290,7 +297,7 @@ def _print_solution(solution, *, steps: bool) -> None:
                 for s in r.steps
             ]
             print(_table(["k", "x", "f(x)", "f'(x)", "dx", "lo", "hi"], body))
-    print(f"\n{CAUTION}")
+    print(f"\n{caution()}")
 
 
 def _print_scan(scan, unknown: str) -> None:
@@ -317,7 +324,7 @@ def _print_scan(scan, unknown: str) -> None:
         print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]")
     for w in getattr(scan, "warnings", []):
         print(f"warning: {w}")
-    print(f"\n{CAUTION}")
+    print(f"\n{caution()}")
 
 
 def _json_out(data: dict) -> None:
@@ -386,7 +393,8 @@ def cmd_scan(args: argparse.Namespace) -> int:
             raise InputError(f"{csv_path}: cannot write ({exc.strerror or exc})") from None
     if args.json:
         data = export.scan_json(result)
-        _json_out({"equation": ws.equation, "unknown": equation.unknown, **data})
+        _json_out({"equation": ws.equation, "unknown": equation.unknown, **data,
+                   "caution": export.CAUTION})
     else:
         _print_scan(result, equation.unknown)
         if csv_path:
@@ -412,7 +420,7 @@ def cmd_report(args: argparse.Namespace) -> int:
     print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
     for path in result.csv_paths:
         print(f"csv written to {path}")
-    print(CAUTION)
+    print(caution())
     return EXIT_OK
 
 
@@ -425,6 +433,96 @@ def _no_display() -> bool:
     return not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
 
 
+# Shared libraries Qt's window needs from the system (PySide6's wheels bring Qt itself),
+# with the Debian/Ubuntu package of each: the union of what `ldd` reports for the xcb
+# platform plugin (plugins/platforms/libqxcb.so) and QtWidgets of PySide6 6.x.
+QT_SYSTEM_LIBRARIES: dict[str, str] = {
+    "libEGL.so.1": "libegl1",
+    "libGL.so.1": "libgl1",
+    "libGLX.so.0": "libglx0",
+    "libOpenGL.so.0": "libopengl0",
+    "libfontconfig.so.1": "libfontconfig1",
+    "libfreetype.so.6": "libfreetype6",
+    "libdbus-1.so.3": "libdbus-1-3",
+    "libglib-2.0.so.0": "libglib2.0-0",
+    "libgthread-2.0.so.0": "libglib2.0-0",
+    "libX11.so.6": "libx11-6",
+    "libX11-xcb.so.1": "libx11-xcb1",
+    "libxkbcommon.so.0": "libxkbcommon0",
+    "libxkbcommon-x11.so.0": "libxkbcommon-x11-0",
+    "libxcb.so.1": "libxcb1",
+    "libxcb-cursor.so.0": "libxcb-cursor0",
+    "libxcb-icccm.so.4": "libxcb-icccm4",
+    "libxcb-image.so.0": "libxcb-image0",
+    "libxcb-keysyms.so.1": "libxcb-keysyms1",
+    "libxcb-randr.so.0": "libxcb-randr0",
+    "libxcb-render.so.0": "libxcb-render0",
+    "libxcb-render-util.so.0": "libxcb-render-util0",
+    "libxcb-shape.so.0": "libxcb-shape0",
+    "libxcb-shm.so.0": "libxcb-shm0",
+    "libxcb-sync.so.1": "libxcb-sync1",
+    "libxcb-util.so.1": "libxcb-util1",
+    "libxcb-xfixes.so.0": "libxcb-xfixes0",
+    "libxcb-xkb.so.1": "libxcb-xkb1",
+}
+
+
+def _qt_binaries() -> list[str]:
+    """PySide6's QtWidgets module and the platform plugin Qt will load, found without
+    importing PySide6 (an import with a missing library would fail with Qt's own words)."""
+    import importlib.util
+    import os
+    from pathlib import Path
+
+    spec = importlib.util.find_spec("PySide6")
+    if spec is None or not spec.submodule_search_locations:
+        return []
+    root = Path(next(iter(spec.submodule_search_locations)))
+    platform = (os.environ.get("QT_QPA_PLATFORM") or "").split(":")[0].strip()
+    wayland = os.environ.get("WAYLAND_DISPLAY") and os.environ.get("XDG_SESSION_TYPE") == "wayland"
+    if not platform and not wayland:
+        platform = "xcb"  # Qt's choice on Linux outside a Wayland session
+    candidates = [*root.glob("QtWidgets*.so")]
+    if platform:
+        candidates.append(root / "Qt" / "plugins" / "platforms" / f"libq{platform}.so")
+    return [str(p) for p in candidates if p.is_file()]
+
+
+def missing_system_libraries(binaries: Sequence[str] | None = None) -> list[str]:
+    """Shared libraries that ``binaries`` (default: Qt's widgets and platform plugin) need
+    and the system lacks, as ``ldd`` reports them ("name => not found"), sorted.
+
+    Empty when nothing is missing, off Linux, or when ``ldd`` itself is unavailable
+    (then Qt reports for itself).
+    """
+    import shutil
+    import subprocess
+
+    if not sys.platform.startswith("linux"):
+        return []
+    binaries = _qt_binaries() if binaries is None else list(binaries)
+    ldd = shutil.which("ldd")
+    if not binaries or ldd is None:
+        return []
+    try:
+        out = subprocess.run([ldd, *binaries], capture_output=True, text=True, timeout=10,
+                             check=False).stdout
+    except (OSError, subprocess.SubprocessError):
+        return []
+    missing = {line.split("=>")[0].strip() for line in out.splitlines()
+               if "=>" in line and line.split("=>")[1].strip() == "not found"}
+    return sorted(missing)
+
+
+def missing_libraries_message(missing: Sequence[str]) -> str:
+    """One line naming the missing libraries and the Debian/Ubuntu packages that hold them."""
+    packages = sorted({QT_SYSTEM_LIBRARIES[m] for m in missing if m in QT_SYSTEM_LIBRARIES})
+    hint = f" (Debian/Ubuntu: apt-get install {' '.join(packages)})" if packages else ""
+    return (f"error: zerotrace: the window needs system libraries that are missing: "
+            f"{', '.join(missing)}{hint}; 'zerotrace solve', 'scan' and 'report' work "
+            f"without them")
+
+
 def cmd_window(argv: Sequence[str]) -> int:
     if _no_display():
         print(
@@ -432,6 +530,10 @@ def cmd_window(argv: Sequence[str]) -> int:
             "use 'zerotrace solve', 'scan' or 'report' headless",
             file=sys.stderr,
         )
+        return EXIT_BAD_INPUT
+    missing = missing_system_libraries()
+    if missing:  # Qt would abort the process naming only the first of them
+        print(missing_libraries_message(missing), file=sys.stderr)
         return EXIT_BAD_INPUT
     from app.window import main as window_main
 
@@ -503,7 +605,11 @@ def main(argv: Sequence[str] | None = None) -> int:
             return EXIT_OK
         if args.command is None:
             raise InputError("zerotrace: give a command: solve, scan or report (see --help)")
-        return COMMANDS[args.command](args)
+        code = COMMANDS[args.command](args)
+        sys.stdout.flush()  # a closed pipe shows here, not at interpreter exit
+        return code
+    except BrokenPipeError:
+        return _quiet_after_broken_pipe()
     except BAD_INPUT as exc:
         # EquationError and WorksheetError are ValueErrors carrying a one-line message.
         message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
@@ -526,6 +632,21 @@ def main(argv: Sequence[str] | None = None) -> int:
             file=sys.stderr,
         )
         return EXIT_INTERNAL
+
+
+def _quiet_after_broken_pipe() -> int:
+    """The reader of our output went away (``zerotrace scan ... | head``): that is its
+    choice, not an error. Point stdout at the null device so the interpreter's final
+    flush cannot complain, and exit 0 with no message."""
+    import os
+
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError):  # stdout has no file descriptor (captured): nothing to do
+        pass
+    return EXIT_OK
 
 
 if __name__ == "__main__":

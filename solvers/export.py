@@ -1,8 +1,13 @@
 """CSV and JSON of runs and roots, for calculation packages and for machines.
 
-CSV shape (DESIGN.md): ``#`` metadata lines first (equation, unknown, parameters,
-method settings, tool version, time), then one header row, then one row per
-iterate. Floats are written with ``repr`` so they read back to the identical double
+CSV shape: ``#`` metadata lines first (equation, unknown, parameters, method
+settings, tool version, time, the caution), then one header row, then one row per
+iterate. Each metadata line is one CSV cell: a line whose text holds a comma or a
+double quote (an equation with ``atan2(y, x)``, a warning) is written quoted,
+``"# equation: atan2(y, x) = 1"``, so a spreadsheet keeps it in one cell and Python's
+``csv`` module reads it back as one field starting with ``#``; zerotrace's own
+wording (settings, run summaries, the caution) has no comma, so those lines stay plain.
+Floats are written with ``repr`` so they read back to the identical double
 (Python's ``float()``, ``csv`` + ``float``, or ``numpy.genfromtxt(path, delimiter=",",
 names=True, skip_header=<number of # lines>)`` — genfromtxt would otherwise read the first
 ``#`` line as the header);
@@ -20,6 +25,7 @@ from collections.abc import Iterable, Mapping
 from datetime import datetime, timezone
 from typing import IO, Any
 
+from solvers.caution import CAUTION
 from solvers.files import write_atomic
 from solvers.result import Run
 
@@ -68,10 +74,7 @@ def metadata(
         meta["settings"] = "; ".join(f"{k}={_setting(v)}" for k, v in settings.items())
     if extra:
         meta.update(extra)
-    meta["caution"] = (
-        "numerical solution of the equation as entered; check equation, inputs and units; "
-        "review by a qualified engineer required"
-    )
+    meta["caution"] = CAUTION
     return meta
 
 
@@ -79,7 +82,8 @@ def _setting(value: Any) -> str:
     if isinstance(value, float):
         return number(value)
     if isinstance(value, (list, tuple)):
-        return "[" + ", ".join(_setting(v) for v in value) + "]"
+        # Space-separated, so the settings line needs no CSV quoting.
+        return "[" + " ".join(_setting(v) for v in value) + "]"
     return str(value)
 
 
@@ -89,8 +93,11 @@ def _one_line(text: str) -> str:
 
 
 def _write_metadata(handle: IO[str], meta: Mapping[str, str]) -> None:
+    # One cell per line: the csv writer quotes a line only when it holds a comma or a
+    # quote, so plain lines still start with '#'.
+    writer = csv.writer(handle, lineterminator="\n")
     for key, value in meta.items():
-        handle.write(f"# {key}: {_one_line(value)}\n")
+        writer.writerow([f"# {key}: {_one_line(value)}"])
 
 
 def run_rows(runs: Iterable[Run]) -> list[list[str]]:
@@ -249,7 +256,7 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
 
 
 def solution_json(solution: Any) -> dict[str, Any]:
-    """The ``zerotrace solve --json`` document (DESIGN.md keys, plus extras)."""
+    """The ``zerotrace solve --json`` document: the contract's keys, the caution and extras."""
     return {
         "equation": solution.worksheet.equation,
         "unknown": solution.equation.unknown,
@@ -264,4 +271,5 @@ def solution_json(solution: Any) -> dict[str, Any]:
         },
         "agreement_digits": solution.agreement_digits,
         "runs": [run_json(r) for r in solution.runs],
+        "caution": CAUTION,
     }

@@ -92,6 +92,7 @@ from reportlab.platypus import (
 )
 
 from solvers import export, pipeline
+from solvers.caution import CAUTION
 from solvers.files import write_atomic
 from solvers.result import REASON_TEXT, Run
 from solvers.worksheet import Worksheet, dumps
@@ -109,13 +110,6 @@ RESIDUAL_DIGITS = 50  # working precision of the independent residual (decimal d
 MAX_TABLE_ROWS = 1000
 SHORT_TABLE_ROWS = 40  # iteration tables up to this long are never split across pages
 
-CAUTION = (
-    "This sheet records a numerical solution of the equation exactly as it was entered "
-    "in the worksheet; it does not show that the equation is the right one for the design. "
-    "Check the equation, every input and its units before relying on the result. The "
-    "result must be reviewed by a qualified engineer, and local codes and licensed "
-    "engineering practice govern over anything on this sheet."
-)
 NUMERICAL_DERIVATIVE_NOTE = (
     "No symbolic derivative was available: Newton–Raphson used a numerical "
     "(finite-difference) derivative of f, and its f′ column shows those estimates."

@@ -13,10 +13,12 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from solvers.caution import CAUTION as CAUTION_FULL
+from solvers.caution import CAUTION_LINE
 from solvers.worksheet import CalcInfo, Selection, Worksheet
 
-CAUTION = ("Check the equation, inputs and units. Results need review by a qualified "
-           "engineer; local codes and licensed practice govern.")
+# The window's status bar shows the one-line form; help and about carry the full text.
+CAUTION = CAUTION_LINE
 
 SOURCES = """
 <ul>
@@ -68,18 +70,19 @@ whole table. Unsaved work is kept in a recovery file and offered at the next sta
 Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+D take as design value,
 Ctrl+1 / Ctrl+2 function / convergence view,
 Ctrl+= / Ctrl+- more / fewer significant figures, F1 this help.</p>
-<p style="color:#8A2B00"><b>Caution.</b> {CAUTION}</p>
+<p style="color:#8A2B00"><b>Caution.</b> {CAUTION_FULL}</p>
 """
 
 ABOUT_HTML = f"""
 <h2>zerotrace</h2>
 <p>Finds, checks and documents every real root of a nonlinear design equation, with the
 method, tolerances and every iterate shown for the checker.</p>
-<p style="color:#8A2B00"><b>Caution.</b> {CAUTION} A root is a property of the equation as
+<p style="color:#8A2B00"><b>Caution.</b> {CAUTION_FULL} A root is a property of the equation as
 typed: a wrong equation, input or unit gives a wrong answer with full confidence.</p>
 <p><b>What the test suite checks against</b>:</p>{SOURCES}
-<p>Sample worksheets are set in invented scenarios; their numbers are made up for
-demonstration.</p>
+<p>Sample worksheets are set in invented scenarios: their designs, loads and the van der
+Waals fluid are made up for demonstration; physical constants and material properties in
+them are handbook values, each labelled so in its note.</p>
 """
 
 
