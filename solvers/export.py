@@ -169,10 +169,10 @@ def roots_csv(
 ) -> None:
     """Roots, poles and discontinuities of a scan: one row each (columns ROOT_COLUMNS)."""
     buffer = io.StringIO()
-    extra = {"range": f"[{number(scan.a)}, {number(scan.b)}]"} if hasattr(scan, "a") else {}
+    extra = {"range": f"[{number(scan.a)} {number(scan.b)}]"} if hasattr(scan, "a") else {}
     gaps = getattr(scan, "gaps", [])
     if gaps:
-        extra["undefined"] = "; ".join(f"[{number(a)}, {number(b)}]" for a, b in gaps)
+        extra["undefined"] = "; ".join(f"[{number(a)} {number(b)}]" for a, b in gaps)
     warnings = getattr(scan, "warnings", [])
     if warnings:
         extra["warnings"] = " | ".join(warnings)

@@ -91,7 +91,7 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from solvers import export, pipeline
+from solvers import export, pipeline, printing
 from solvers.caution import CAUTION
 from solvers.files import write_atomic
 from solvers.result import REASON_TEXT, Run
@@ -185,6 +185,9 @@ def _styles() -> dict[str, ParagraphStyle]:
         "cellmono": ParagraphStyle(
             "cellmono", parent=base, fontName="ZT-Mono", fontSize=8, leading=10,
             wordWrap="CJK",  # break long equations and hashes anywhere, never overflow
+        ),
+        "formula": ParagraphStyle(  # breaks only at spaces: a number is never split
+            "formula", parent=base, fontSize=8, leading=10, splitLongWords=0,
         ),
         "label": ParagraphStyle(
             "label", parent=base, fontName="ZT-Sans-Bold", fontSize=7.6, leading=9.6,
@@ -335,28 +338,75 @@ def _figure(draw: Callable[[Any], None], width: float, height: float) -> Image:
     return _png_image(buffer.getvalue(), width, height)
 
 
-def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
-    """Typeset ``latex`` with matplotlib mathtext; None when mathtext cannot set it legibly."""
+def _math_png(latex: str, size: float = 12.0) -> tuple[bytes, float, float] | None:
+    """``latex`` typeset by matplotlib mathtext: (PNG, width, height in points), or None."""
     if not latex or len(latex) > 3000:
         return None
     from matplotlib.font_manager import FontProperties
     from matplotlib.mathtext import math_to_image
 
     text = latex if latex.startswith("$") else f"${latex}$"
-    prop = FontProperties(size=size)
     buffer = io.BytesIO()
     try:
-        math_to_image(text, buffer, prop=prop, dpi=FIGURE_DPI, format="png")
+        math_to_image(text, buffer, prop=FontProperties(size=size), dpi=FIGURE_DPI,
+                      format="png")
     except Exception:  # mathtext knows a subset of LaTeX; fall back to the text as typed
         return None
     # Print size from the PNG's own header (IHDR width, height in pixels at FIGURE_DPI),
     # which spares a second mathtext parse.
     pixels_w, pixels_h = struct.unpack(">II", buffer.getvalue()[16:24])
-    width, height = pixels_w * 72 / FIGURE_DPI, pixels_h * 72 / FIGURE_DPI
+    return buffer.getvalue(), pixels_w * 72 / FIGURE_DPI, pixels_h * 72 / FIGURE_DPI
+
+
+def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
+    """Typeset ``latex`` with matplotlib mathtext; None when mathtext cannot set it legibly."""
+    typeset = _math_png(latex, size)
+    if typeset is None:
+        return None
+    png, width, height = typeset
     scale = min(1.0, max_width / width) if width > 0 else 1.0
     if scale < 0.55:  # would print below ~6.5 pt: hard to read, the plain text is clearer
         return None
-    return _png_image(buffer.getvalue(), width * scale, height * scale)
+    return _png_image(png, width * scale, height * scale)
+
+
+# A typeset derivative too wide for one line is set over several, never shrunk below this
+# fraction of its 12 pt size (about 9 pt); more lines than MATH_LINES go to the text form.
+MATH_MIN_SCALE = 0.75
+MATH_LINES = 8
+
+
+def _math_lines(lead: str, terms: Sequence[str], max_width: float,
+                size: float = 12.0) -> list[Image] | None:
+    """``lead`` followed by the signed ``terms`` ("+ a", "- b"), set over as many lines as
+    the width needs, a term never split; None when a line cannot be set legibly."""
+    lines: list[tuple[bytes, float, float]] = []
+    current = lead
+    held: tuple[bytes, float, float] | None = None
+    for term in terms:
+        trial = f"{current} {term}"
+        typeset = _math_png(trial, size)
+        if typeset is None:
+            return None
+        if typeset[1] <= max_width or held is None:
+            current, held = trial, typeset
+            continue
+        lines.append(held)
+        current = r"\qquad " + term
+        held = _math_png(current, size)
+        if held is None:
+            return None
+    if held is not None:
+        lines.append(held)
+    if not lines or len(lines) > MATH_LINES:
+        return None
+    images = []
+    for png, width, height in lines:
+        scale = min(1.0, max_width / width) if width > 0 else 1.0
+        if scale < MATH_MIN_SCALE:
+            return None
+        images.append(_png_image(png, width * scale, height * scale))
+    return images
 
 
 # --------------------------------------------------------------------- tables
@@ -615,17 +665,21 @@ def _equation_section(c: _Context) -> list[Flowable]:
     if numerical:
         rows.append(("Derivative used by Newton", Paragraph(NUMERICAL_DERIVATIVE_NOTE, st["cell"])))
     else:
-        d_latex = getattr(eq, "derivative_latex", "")
         lead = "" if newton_runs else "Newton–Raphson not run; symbolic derivative for reference: "
         fname = "F" if eq.unknown == "f" else "f"  # never "df/df" when the unknown is f
-        image = (_math(f"\\frac{{d{fname}}}{{d{eq.unknown}}} = {d_latex}", math_width)
-                 if d_latex else None)
-        if image is None:
+        terms = printing.latex_terms(getattr(eq, "symbolic_derivative", None))
+        images = (_math_lines(f"\\frac{{d{fname}}}{{d{eq.unknown}}} =", terms, math_width)
+                  if terms else None)
+        if images is None:
             lead += "(too long to typeset legibly) "
+        # Our own syntax (ln, log10, ^), spaced between factors so a line breaks there and
+        # never inside a number.
+        formula = printing.breakable(printing.equation_text(eq.derivative))
         text = Paragraph(
-            _text(lead + f"with the parameter values: {eq.derivative}"), st["cellmono"]
+            _text(lead + "with the parameter values: ") + f"<font name='ZT-Mono'>"
+            f"{_text(formula)}</font>", st["formula"]
         )
-        rows.append(("Derivative used by Newton", [image, text] if image else text))
+        rows.append(("Derivative used by Newton", [*images, text] if images else text))
     notes = tuple(getattr(eq, "notes", ()) or ())
     if notes:
         rows.append(("Reading of the text", Paragraph(_text("; ".join(notes)), st["cell"])))
