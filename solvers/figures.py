@@ -92,11 +92,27 @@ def method_title(name: str) -> str:
 
 @dataclass(frozen=True)
 class Curve:
-    """Samples of f for plotting: ``y`` holds NaN where the line must break."""
+    """Samples of f for plotting: ``y`` holds NaN where the line must break.
+
+    ``ylim`` is the linear y range that shows the roots (see :func:`root_ylim`);
+    ``root_scale`` is the size of |f| near the roots (the linear band of a symmetric-log
+    axis) and ``full_ylim`` the whole curve with pole spikes clipped (the range of that
+    axis). ``envelope`` is True when f turns faster than one pixel column: the line then
+    runs through the minimum and maximum of each column and reads as a band.
+    """
 
     x: np.ndarray
     y: np.ndarray
     ylim: tuple[float, float]
+    root_scale: float | None = None
+    full_ylim: tuple[float, float] | None = None
+    envelope: bool = False
+
+    def limits(self, symlog: bool = False) -> tuple[float, float]:
+        """The y range to show: ``ylim``, or ``full_ylim`` on a symmetric-log axis."""
+        if symlog and self.full_ylim is not None:
+            return self.full_ylim
+        return self.ylim
 
 
 def evaluate(f: Callable[[Any], Any], x: np.ndarray) -> np.ndarray:
@@ -156,6 +172,111 @@ def robust_ylim(y: np.ndarray) -> tuple[float, float]:
     return (lo - pad, hi + pad)
 
 
+# How many samples of f each pixel column gets (jittered inside the column, so a
+# periodic f cannot lock onto the sampling and draw a false slow wave), and a cap on the
+# total so a plot never costs more than a fraction of a second of evaluations.
+OVERSAMPLE = 8
+MAX_SAMPLES = 65_536
+# Local extrema per column above which f is called faster than the plot resolves.
+_BAND_EXTREMA = 2.0
+# Each root's neighbourhood reaches at most this fraction of the range to either side.
+_NEIGHBOURHOOD = 0.15
+# A root's local |f| scale below this fraction of the median of all roots' scales (a
+# touch, or a root on a very flat stretch) does not set the y range alone.
+_FLOOR = 1.0 / 30.0
+
+
+def _columns(f: Callable[[Any], Any], a: float, b: float, n: int) -> tuple[np.ndarray,
+                                                                       np.ndarray, bool]:
+    """Samples of f reduced to the lowest and highest point of each of n pixel columns.
+
+    Each column is sampled at ``OVERSAMPLE`` points, jittered with a fixed seed (so the
+    picture is the same every time); a column where f is undefined at some points keeps
+    all its samples, so the gap stays where it is. Returns (x, y, band) with x increasing
+    and band True when f has more than ``_BAND_EXTREMA`` local extrema per column.
+    """
+    k = max(1, min(OVERSAMPLE, MAX_SAMPLES // n))
+    m = n * k
+    step = (b - a) / m
+    rng = np.random.default_rng(0)
+    x = a + (np.arange(m) + rng.uniform(0.05, 0.95, m)) * step
+    x[0], x[-1] = a, b
+    y = evaluate(f, x)
+    finite = np.isfinite(y)
+    band = False
+    if finite.sum() > 3:
+        d = np.diff(y)
+        turns = np.count_nonzero((d[:-1] * d[1:]) < 0)
+        band = k > 1 and turns > _BAND_EXTREMA * n
+    if k == 1:
+        return x, y, band
+    grid = y.reshape(n, k)
+    ok = finite.reshape(n, k)
+    base = np.arange(n) * k
+    lo = np.where(ok, grid, np.inf).argmin(axis=1) + base
+    hi = np.where(ok, grid, -np.inf).argmax(axis=1) + base
+    mixed = ok.any(axis=1) & ~ok.all(axis=1)
+    keep = [lo, hi, np.array([0, m - 1])]
+    if mixed.any():
+        keep.append((base[mixed][:, None] + np.arange(k)).ravel())
+    sel = np.unique(np.concatenate(keep))
+    return x[sel], y[sel], band
+
+
+def _crossings(x: np.ndarray, y: np.ndarray, cut: np.ndarray) -> list[float]:
+    """x where the samples change sign between neighbours not separated by a break, and
+    the jump is small beside the typical |f| (a sign change across a pole is no root)."""
+    with np.errstate(invalid="ignore"):
+        change = (np.sign(y[:-1]) * np.sign(y[1:]) < 0) & ~cut
+        typical = float(np.nanmedian(np.abs(y))) if np.isfinite(y).any() else 0.0
+        small = (np.abs(y[:-1]) + np.abs(y[1:])) <= 4.0 * typical
+    where = np.nonzero(change & small)[0]
+    return [float(0.5 * (x[i] + x[i + 1])) for i in where]
+
+
+def root_ylim(x: np.ndarray, y: np.ndarray, roots: Sequence[float],
+              cut: np.ndarray | None = None) -> tuple[tuple[float, float], float | None]:
+    """A linear y range that shows every root as a crossing, and |f|'s scale near them.
+
+    Each root's neighbourhood runs halfway to the next root (at most ``_NEIGHBOURHOOD``
+    of the range, and never across a break); its scale is the 90th percentile of |f|
+    there. The range is ± the smallest of these scales (but not below ``_FLOOR`` of
+    their median), cut to the curve's own pole-free extent (:func:`robust_ylim`), so a
+    root beside a pole or on a flank that grows like cosh is a visible crossing, not a
+    flat line on the axis; steeper stretches leave the frame. Without roots, the
+    curve's body with y = 0 if near. Returns (ylim, scale or None).
+    """
+    body = robust_ylim(y)
+    finite = np.isfinite(y)
+    roots = sorted(r for r in roots if math.isfinite(r) and x[0] <= r <= x[-1])
+    if not roots or finite.sum() < 3:
+        return body, None
+    span = float(x[-1] - x[0])
+    stops = x[1:][cut] if cut is not None and cut.size == x.size - 1 else np.array([])
+    scales = []
+    for i, r in enumerate(roots):
+        left = max(0.5 * (roots[i - 1] + r) if i else -math.inf, r - _NEIGHBOURHOOD * span)
+        right = min(0.5 * (r + roots[i + 1]) if i + 1 < len(roots) else math.inf,
+                    r + _NEIGHBOURHOOD * span)
+        before, after = stops[stops <= r], stops[stops > r]
+        if before.size:
+            left = max(left, float(before.max()))
+        if after.size:
+            right = min(right, float(after.min()))
+        near = np.abs(y[(x >= left) & (x <= right) & finite])
+        if near.size >= 3:
+            scales.append(float(np.percentile(near, 90)))
+    scales = [v for v in scales if v > 0 and math.isfinite(v)]
+    if not scales:
+        return body, None
+    scale = max(min(scales), _FLOOR * float(np.median(scales)))
+    lo, hi = max(body[0], -1.1 * scale), min(body[1], 1.1 * scale)
+    if not lo < 0 < hi:  # the body lies on one side: keep the axis in view all the same
+        lo, hi = min(lo, 0.0), max(hi, 0.0)
+    pad = 0.06 * (hi - lo) if hi > lo else 1.0
+    return (lo - pad, hi + pad), scale
+
+
 def curve(
     f: Callable[[Any], Any],
     a: float,
@@ -163,20 +284,26 @@ def curve(
     n: int = 2000,
     *,
     breaks: Iterable[float] = (),
+    roots: Iterable[float] = (),
 ) -> Curve:
-    """Sample f at n points on [a, b] for plotting.
+    """Sample f on [a, b] for a plot n pixel columns wide.
 
-    The line is broken (NaN inserted) where f is undefined, where neighbouring samples
-    jump by more than two y-spans with a change of sign or size (a pole or a jump),
-    and at every x in ``breaks`` (poles and discontinuities a scan reported).
+    Every column is sampled ``OVERSAMPLE`` times and reduced to its lowest and highest
+    point, so an f that oscillates faster than the pixels (``sin(100x)`` on [0, 1000])
+    is drawn as the band it fills, never as a false slow wave, and a narrow spike is not
+    missed. The line is broken (NaN inserted) where f is undefined, where neighbouring
+    samples jump by more than two y-spans (a pole or a jump), and at every x in
+    ``breaks`` (poles and discontinuities a scan reported). The y range shows the roots
+    (``roots`` a scan found, and every sign change of the samples): see :func:`root_ylim`.
+    Never raises for what f does; raises ValueError for a range that is not two
+    different finite numbers.
     """
     if not (math.isfinite(a) and math.isfinite(b)) or a == b:
         raise ValueError(f"plot range [{a!r}, {b!r}] must be two different finite numbers")
     a, b = min(a, b), max(a, b)
-    x = np.linspace(a, b, max(int(n), 2))
-    y = evaluate(f, x)
-    ylim = robust_ylim(y)
-    span = ylim[1] - ylim[0]
+    x, y, band = _columns(f, a, b, max(int(n), 2))
+    full = robust_ylim(y)
+    span = full[1] - full[0]
     cut = np.zeros(x.size - 1, dtype=bool)
     dy = np.abs(np.diff(y))
     with np.errstate(invalid="ignore"):
@@ -186,12 +313,14 @@ def curve(
             i = int(np.searchsorted(x, xb)) - 1
             if 0 <= i < cut.size:
                 cut[i] = True
+    found = [*roots, *_crossings(x, y, cut)] if not band else list(roots)
+    ylim, scale = root_ylim(x, y, found, cut)
     where = np.nonzero(cut)[0] + 1
     if where.size:
         mid = 0.5 * (x[where - 1] + x[where])
         x = np.insert(x, where, mid)
         y = np.insert(y, where, np.nan)
-    return Curve(x=x, y=y, ylim=ylim)
+    return Curve(x=x, y=y, ylim=ylim, root_scale=scale, full_ylim=full, envelope=band)
 
 
 # ----------------------------------------------------------------- the function plot
@@ -208,36 +337,106 @@ def draw_function(
     n: int = 2000,
     unknown: str = "x",
     precomputed: Curve | None = None,
+    symlog: bool = False,
 ) -> Curve:
     """Draw f on [a, b] into ``ax``, with a scan's findings and one run's path.
 
     Roots are open circles on y = 0, poles dashed grey verticals, jumps dotted
     verticals with a cross, undefined stretches hatched. The run's path is drawn in
-    its method's colour; the axes limits stay on [a, b] and the curve's robust
-    y-limits so a wild iterate does not squash the picture. Returns the curve drawn.
+    its method's colour; the axes limits stay on [a, b] and on the y range that shows
+    the roots (:attr:`Curve.ylim`), so neither a wild iterate nor a pole nor growth far
+    from the roots squashes the crossings onto the axis. ``symlog`` puts y on a
+    symmetric-log scale, linear within the |f| scale of the roots and logarithmic
+    beyond, showing the whole curve (pole spikes clipped). The axes are named after
+    the unknown (``V``, ``f(V)``). Returns the curve drawn.
     """
     poles = list(getattr(scan, "poles", []) or []) if scan is not None else []
     jumps = list(getattr(scan, "discontinuities", []) or []) if scan is not None else []
-    c = precomputed if precomputed is not None else curve(f, a, b, n, breaks=poles + jumps)
+    roots = [r.x for r in (getattr(scan, "roots", []) or [])] if scan is not None else []
+    c = precomputed if precomputed is not None else curve(f, a, b, n, breaks=poles + jumps,
+                                                          roots=roots)
     ax.axhline(0.0, color="#9A9A9A", linewidth=0.8, zorder=1)
     name = f"{residual_name(unknown)}({unknown})"
-    ax.plot(c.x, c.y, color=FUNCTION_COLOR, linewidth=1.4, zorder=2, label=name)
+    label = f"{name}, lowest and highest per pixel column" if c.envelope else name
+    ax.plot(c.x, c.y, color=FUNCTION_COLOR, linewidth=1.4 if not c.envelope else 0.8,
+            zorder=2, label=label)
     if scan is not None:
         _draw_scan(ax, scan, poles, jumps)
+    ylim = c.limits(symlog)
+    if symlog:
+        ax.set_yscale("symlog", linthresh=symlog_threshold(c))
     # Limits first: the path drawers space their labels by the visible range.
     ax.set_xlim(min(a, b), max(a, b))
-    ax.set_ylim(*c.ylim)
+    ax.set_ylim(*ylim)
     if run is not None and run.steps:
         draw_path(ax, f, run)
         ax.set_xlim(min(a, b), max(a, b))
-        ax.set_ylim(*c.ylim)
+        ax.set_ylim(*ylim)
     ax.set_xlabel(unknown)
     ax.set_ylabel(name)
+    fit_x_ticks(ax)
     ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)
     handles, _labels = ax.get_legend_handles_labels()
     if len(handles) > 1:
         ax.legend(loc="best", fontsize="small", framealpha=0.85)
     return c
+
+
+def symlog_threshold(c: Curve) -> float:
+    """The linear band of a symmetric-log y axis for ``c``: the power of ten nearest |f|'s
+    scale near the roots (or a tenth of the largest |y| shown when there are no roots)."""
+    if c.root_scale is not None and c.root_scale > 0:
+        scale = float(c.root_scale)
+    else:
+        lo, hi = c.limits(True)
+        scale = max(abs(lo), abs(hi), 1e-300) / 10.0
+    # A whole power of ten, so the decade ticks start at the edge of the linear band
+    # instead of crowding inside it.
+    return 10.0 ** round(math.log10(scale))
+
+
+# Tick labels: at most this many characters' width each side of a tick, and between
+# labels two characters' gap (the width of a character taken as 0.6 of the font size).
+_CHAR_WIDTH = 0.6
+
+
+def fit_x_ticks(ax: Any) -> None:
+    """x ticks whose labels never collide and never run past the figure's edge.
+
+    Labels are kept short (plain numbers from 1e-3 to 1e4, beyond that a common
+    power of ten beside the axis), and the number of ticks is the largest of 9, 7, 5,
+    4, 3 whose labels fit side by side in the axes' width at the tick font size.
+    """
+    from matplotlib import rcParams
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.ticker import MaxNLocator, ScalarFormatter
+
+    formatter = ScalarFormatter(useMathText=True)
+    formatter.set_powerlimits((-3, 4))
+    ax.xaxis.set_major_formatter(formatter)
+    lo, hi = sorted(ax.get_xlim())
+    fig = ax.figure
+    width_pt = ax.get_position().width * fig.get_figwidth() * 72.0
+    size = FontProperties(size=rcParams["xtick.labelsize"]).get_size_in_points()
+    locator = MaxNLocator(nbins=3)
+    for nbins in (9, 7, 5, 4, 3):
+        candidate = MaxNLocator(nbins=nbins, steps=[1, 2, 2.5, 5, 10])
+        ticks = [t for t in candidate.tick_values(lo, hi) if lo <= t <= hi]
+        if not ticks:
+            continue
+        formatter.set_locs(ticks)
+        widest = max(len(_plain(formatter(t))) for t in ticks)
+        if len(ticks) * (widest + 2) * _CHAR_WIDTH * size <= width_pt:
+            locator = candidate
+            break
+    ax.xaxis.set_major_locator(locator)
+
+
+def _plain(label: str) -> str:
+    """A tick label's visible characters (mathtext markup removed)."""
+    for token in ("$", "\\mathdefault", "{", "}", "\\times", "^"):
+        label = label.replace(token, "")
+    return label
 
 
 def _draw_scan(ax: Any, scan: Any, poles: Sequence[float], jumps: Sequence[float]) -> None:
@@ -357,13 +556,24 @@ def convergence_series(run: Run, quantity: str = "residual") -> tuple[list[int],
     return ks, vs
 
 
-def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual") -> None:
-    """|f(x_k)| (quantity="residual") or |Δx_k| ("step") against k, log y-axis, every run.
+def convergence_label(quantity: str = "residual", unknown: str = "x") -> str:
+    """The y-axis title of a convergence plot, in the unknown's name: |f(V_k)|, |ΔV_k|."""
+    label, _pick = CONVERGENCE_QUANTITIES[quantity]
+    if unknown == "x":
+        return label
+    return {"residual": f"|{residual_name(unknown)}({unknown}_k)|",
+            "step": f"|Δ{unknown}_k|"}.get(quantity, label)
+
+
+def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual",
+                     unknown: str = "x") -> None:
+    """|f(x_k)| (quantity="residual") or |Δx_k| ("step") against k, log y-axis, every run,
+    with the axis named after the unknown.
 
     A run that did not converge is drawn dashed; an iterate where the value is exactly
     zero cannot sit on a log axis and is left out (the table still shows it).
     """
-    label, _pick = CONVERGENCE_QUANTITIES[quantity]
+    label = convergence_label(quantity, unknown)
     any_points = False
     markers = {"newton": "o", "secant": "s", "false_position": "^", "illinois": "v",
                "bisection": "D", "brent": "P"}

@@ -945,18 +945,19 @@ def _figures_section(c: _Context) -> list[Flowable]:
     out: list[Flowable] = [CondPageBreak(95 * mm), *_heading("6  Figures", st, "h1")]
     run = _path_run(sol, c.ws)
     a, b = _plot_range(c, run)
-    f = sol.equation.f
+    f, unknown = sol.equation.f, sol.equation.unknown
     where = "the scan range" if c.scan is not None else "the bracket or the iterates' span"
     path = f" and the path of {_label(run.method)}" if run is not None else ""
     captions = (
         f"Figure 1. The function whose root is sought (left side minus right side) against "
         f"{sol.equation.unknown}, over {where} [{_num(a)}, {_num(b)}], with the roots, poles and "
         f"jumps the scan found{path}.",
-        "Figure 2. Convergence: |f(x_k)| against iterate k for every method (log scale).",
+        f"Figure 2. Convergence: {figures.convergence_label('residual', unknown)} against "
+        "iterate k for every method (log scale).",
     )
     draws = (
-        lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run),
-        lambda ax: figures.draw_convergence(ax, list(sol.runs)),
+        lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run, unknown=unknown),
+        lambda ax: figures.draw_convergence(ax, list(sol.runs), unknown=unknown),
     )
     for caption, draw in zip(captions, draws, strict=True):
         try:
