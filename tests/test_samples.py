@@ -7,6 +7,7 @@ parsing, differentiation, the methods or the scan shows up as a disagreement.
 from __future__ import annotations
 
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -70,6 +71,44 @@ def test_colebrook_friction_factor_matches_an_independent_solve() -> None:
     # of Colebrook for 5e3 < Re < 1e8, 1e-6 < eps/D < 1e-2 (stated accuracy from memory).
     swamee_jain = 0.25 / math.log10(p["eps"] / (3.7 * p["D"]) + 5.74 / p["Re"] ** 0.9) ** 2
     assert newton.root == pytest.approx(swamee_jain, rel=0.015)
+
+
+def test_cooling_water_reynolds_number_follows_from_the_stated_velocity_and_pipe() -> None:
+    ws = load("cooling-water-friction")
+    p = params(ws)
+    note = next(q.note for q in ws.parameters if q.name == "Re")
+    velocity = float(re.search(r"V = ([0-9.eE+-]+) m/s", note).group(1))
+    nu = float(re.search(r"nu = ([0-9.eE+-]+) m\^2/s", note).group(1))
+    assert f"D = {p['D']:g} m" in note  # the note's pipe is the parameter D
+    # Re = V D / nu, the definition of the Reynolds number of pipe flow (common practice).
+    assert p["Re"] == pytest.approx(velocity * p["D"] / nu, rel=1e-12)
+    # Kinematic viscosity of water at 20 °C: 1.004e-6 m^2/s (White, Fluid Mechanics,
+    # Table A.1; from memory). The sample's rounded 1.0e-6 is within 1 % of it.
+    assert nu == pytest.approx(1.004e-6, rel=0.01)
+    assert 4000 < p["Re"]  # turbulent, where Colebrook–White applies (common practice)
+
+
+# Van der Waals constants of real gases, a in Pa m^6/mol^2 and b in m^3/mol (CRC Handbook
+# of Chemistry and Physics, "Van der Waals constants for gases"; from memory).
+REAL_GASES = {
+    "Ar": (0.1355, 3.201e-5), "CH4": (0.2283, 4.278e-5), "CO2": (0.3640, 4.267e-5),
+    "Cl2": (0.6579, 5.622e-5), "C2H4": (0.4530, 5.714e-5), "C2H6": (0.5562, 6.380e-5),
+    "C3H8": (0.9385, 9.050e-5), "H2O": (0.5536, 3.049e-5), "H2S": (0.4490, 4.287e-5),
+    "HCl": (0.3716, 4.081e-5), "Kr": (0.2318, 3.978e-5), "N2": (0.1370, 3.870e-5),
+    "N2O": (0.3832, 4.415e-5), "NH3": (0.4225, 3.707e-5), "NO2": (0.5354, 4.424e-5),
+    "O2": (0.1382, 3.186e-5), "SO2": (0.6803, 5.636e-5), "Xe": (0.4250, 5.105e-5),
+}
+
+
+def test_van_der_waals_sample_fluid_is_invented_not_a_real_gas() -> None:
+    p = params(load("gas-molar-volume-vdw"))
+    for gas, (a, b) in REAL_GASES.items():
+        same_a = abs(p["a"] - a) <= 0.05 * a
+        same_b = abs(p["b"] - b) <= 0.05 * b
+        assert not (same_a and same_b), f"the sample's a, b are those of {gas}"
+    # Below the critical temperature T_c = 8a/(27 R b) (van der Waals; common practice), the
+    # isotherm can have three real volumes, which the sample is about.
+    assert p["T"] < 8 * p["a"] / (27 * p["R"] * p["b"])
 
 
 def test_van_der_waals_volumes_match_numpy_roots_of_the_cubic() -> None:

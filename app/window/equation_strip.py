@@ -87,7 +87,8 @@ def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
     from solvers.equation import EquationError, free_names, parse_equation
 
     if not text.strip():
-        return Analysis(text, error="type an equation, for example  x^3 - 2*x - 5 = 0")
+        return Analysis(text, error="type an equation, for example a pump on its system "
+                        "curve:  42 - 8.5*Q - 310*Q^2 = Hs + ks*Q^1.85")
     try:
         names = tuple(free_names(text))
     except EquationError as exc:
