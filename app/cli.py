@@ -440,6 +440,7 @@ QT_SYSTEM_LIBRARIES: dict[str, str] = {
     "libEGL.so.1": "libegl1",
     "libGL.so.1": "libgl1",
     "libGLX.so.0": "libglx0",
+    "libGLdispatch.so.0": "libglvnd0",
     "libOpenGL.so.0": "libopengl0",
     "libfontconfig.so.1": "libfontconfig1",
     "libfreetype.so.6": "libfreetype6",

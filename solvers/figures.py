@@ -177,6 +177,10 @@ def robust_ylim(y: np.ndarray) -> tuple[float, float]:
 # total so a plot never costs more than a fraction of a second of evaluations.
 OVERSAMPLE = 8
 MAX_SAMPLES = 65_536
+# Where f turns faster than the columns, each column is sampled this many times instead,
+# so its lowest and highest samples come close to f's envelope there.
+BAND_OVERSAMPLE = 64
+MAX_BAND_SAMPLES = 262_144
 # Local extrema per column above which f is called faster than the plot resolves.
 _BAND_EXTREMA = 2.0
 # Each root's neighbourhood reaches at most this fraction of the range to either side.
@@ -191,11 +195,22 @@ def _columns(f: Callable[[Any], Any], a: float, b: float, n: int) -> tuple[np.nd
     """Samples of f reduced to the lowest and highest point of each of n pixel columns.
 
     Each column is sampled at ``OVERSAMPLE`` points, jittered with a fixed seed (so the
-    picture is the same every time); a column where f is undefined at some points keeps
-    all its samples, so the gap stays where it is. Returns (x, y, band) with x increasing
-    and band True when f has more than ``_BAND_EXTREMA`` local extrema per column.
+    picture is the same every time); where f has more than ``_BAND_EXTREMA`` local
+    extrema per column (a band), at ``BAND_OVERSAMPLE`` points. A column where f is
+    undefined at some points keeps all its samples, so the gap stays where it is.
+    Returns (x, y, band) with x increasing.
     """
     k = max(1, min(OVERSAMPLE, MAX_SAMPLES // n))
+    x, y, band = _sample_columns(f, a, b, n, k)
+    if band:
+        k_band = max(k, min(BAND_OVERSAMPLE, MAX_BAND_SAMPLES // n))
+        if k_band > k:
+            x, y, _band = _sample_columns(f, a, b, n, k_band)
+    return x, y, band
+
+
+def _sample_columns(f: Callable[[Any], Any], a: float, b: float, n: int,
+                    k: int) -> tuple[np.ndarray, np.ndarray, bool]:
     m = n * k
     step = (b - a) / m
     rng = np.random.default_rng(0)
