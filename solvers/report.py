@@ -392,6 +392,8 @@ def _math_lines(lead: str, terms: Sequence[str], max_width: float,
             current, held = trial, typeset
             continue
         lines.append(held)
+        if len(lines) >= MATH_LINES:  # too long to set: the text form below carries it
+            return None
         current = r"\qquad " + term
         held = _math_png(current, size)
         if held is None:
