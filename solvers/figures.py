@@ -185,6 +185,8 @@ MAX_BAND_SAMPLES = 262_144
 _BAND_EXTREMA = 2.0
 # Each root's neighbourhood reaches at most this fraction of the range to either side.
 _NEIGHBOURHOOD = 0.15
+# At most this many roots are looked at for the y range (evenly spread over all of them).
+_MAX_SCALE_ROOTS = 200
 # A root's local |f| scale below this fraction of the median of all roots' scales (a
 # touch, or a root on a very flat stretch) does not set the y range alone.
 _FLOOR = 1.0 / 30.0
@@ -266,6 +268,10 @@ def root_ylim(x: np.ndarray, y: np.ndarray, roots: Sequence[float],
     roots = sorted(r for r in roots if math.isfinite(r) and x[0] <= r <= x[-1])
     if not roots or finite.sum() < 3:
         return body, None
+    if len(roots) > _MAX_SCALE_ROOTS:  # dense roots: an even subset sets the scale as well
+        pick = np.linspace(0, len(roots) - 1, _MAX_SCALE_ROOTS).round().astype(int)
+        every = roots
+        roots = [every[i] for i in pick]
     span = float(x[-1] - x[0])
     stops = x[1:][cut] if cut is not None and cut.size == x.size - 1 else np.array([])
     scales = []
@@ -278,7 +284,8 @@ def root_ylim(x: np.ndarray, y: np.ndarray, roots: Sequence[float],
             left = max(left, float(before.max()))
         if after.size:
             right = min(right, float(after.min()))
-        near = np.abs(y[(x >= left) & (x <= right) & finite])
+        window = y[np.searchsorted(x, left):np.searchsorted(x, right, side="right")]
+        near = np.abs(window[np.isfinite(window)])
         if near.size >= 3:
             scales.append(float(np.percentile(near, 90)))
     scales = [v for v in scales if v > 0 and math.isfinite(v)]
