@@ -1090,6 +1090,7 @@ def brent(
     d = e = xb - xa
     last = xb
     iterations = 0
+    bisected = False
 
     def done(reason: str, root: float, detail: str = "") -> Run:
         return _finish("brent", reason, root, steps, iterations, ev.calls, settings, detail)
@@ -1119,13 +1120,16 @@ def brent(
             s = _interpolation_step(xa, fa, xb, fb, xc, fc)
             # Accept only a step well inside the bracket and shrinking fast enough
             # (an undefined step, NaN, fails the test and bisects).
-            if 2.0 * abs(s) < min(abs(e), 3.0 * abs(m) - half_tol):
+            if 2.0 * abs(s) < min(abs(e), 3.0 * abs(m) - half_tol) and not (
+                abs(s) <= half_tol and bisected
+            ):
                 e, d = d, s
             else:
                 e = d = m
         else:
             e = d = m
 
+        bisected = d == m
         xa, fa = xb, fb
         if abs(d) > half_tol:
             xb += d
