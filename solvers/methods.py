@@ -23,14 +23,16 @@ What "step" means:
 * Illinois: the bracket width as above (the Illinois rule moves both ends, so the
   bracket shrinks to the root).
 * False position (plain regula falsi) usually keeps one end fixed, so its bracket does
-  not shrink to zero; it also stops on the steps between successive interpolated
-  iterates (never a starting end). It converges linearly with some ratio c, leaving
-  an error of about ``c/(1-c)`` times the last step, so the test is
+  not shrink to zero. It converges linearly with some ratio c, leaving an error of
+  about ``c/(1-c)`` times the last step, so it estimates the error from the steps
+  between successive interpolated iterates (never a starting end):
   ``|x_k - x_{k-1}| * max(1, c/(1-c)) <= xtol + rtol*|x_k|`` with
   ``c = max(c_k, c_{k-1})``, ``c_k = |x_k - x_{k-1}| / |x_{k-1} - x_{k-2}|``, and only
-  while c < 1. Taking the worse of two ratios stops one short step on a flat
-  stretch of f from passing for convergence. The observed order (``Run.order`` ~ 1)
-  shows the linear convergence to the user.
+  while c < 1. An estimate is no proof (a noisy f fools it), so when it is met the
+  next iterate is a check half a tolerance from x_k towards the other end: a sign
+  change there closes the bracket below tolerance (the stop is then the bracket
+  width, as for the other bracketing methods); none moves that end on and the chords
+  go on. The observed order (``Run.order`` ~ 1) shows the linear convergence.
 * False position and Illinois: when rounding puts the chord's zero on (or outside) a
   bracket end, which happens beside a pole or a steep exponential where one end's
   |f| is enormous, the iterate is the bracket midpoint instead (said in the
@@ -39,6 +41,22 @@ What "step" means:
 Stop order after each new iterate: non-finite f -> ``not_finite``; ``f == 0`` ->
 ``exact_zero``; ``|f| <= ftol`` -> ``f_tolerance``; step test -> ``x_tolerance``;
 ``max_iter`` iterates produced -> ``max_iterations``.
+
+A converged run ends at a root, never at a value that merely looks like one:
+
+* ``f(x) == 0.0`` is an exact zero only where f did not underflow. A sum of terms
+  below ~1e-308 is 0.0 too (exp(-x) - 2*exp(-2*x) at x = 800; its root is ln 2), and
+  then f is 0.0 beside x as well, over a stretch far wider than any tolerance. So
+  f is evaluated at x +- tol (one side for a bracketing method, whose ends often show
+  f to be far above underflow near x at no cost at all). An underflowed zero stops an
+  open method, and a bracketing one inside its bracket, with ``not_finite`` (said in
+  the message); a starting bracket end that underflowed is kept as an end of the sign
+  opposite to the other end's, since the sign change lies between them.
+* A bracket that closes on a sign change with |f| not falling towards 0 is a jump
+  (``x/abs(x) + x`` at 0), reported as ``discontinuity`` with converged False, or a
+  pole (|f| growing as it closes), reported as ``not_finite``. The check costs no call
+  when the points already evaluated show |f| falling at least as the square root of
+  the distance, else two at most (f 2**20 bracket widths out).
 
 Defaults, chosen for engineering work
 -------------------------------------
@@ -1023,8 +1041,10 @@ def false_position(
     Each iterate is where the chord through the bracket ends crosses zero; the end of
     the same sign is replaced. On a convex or concave f one end never moves, so the
     convergence is linear (order 1) and can be slow; users should see this.
-    Stops when the bracket width ``<= xtol + rtol*|x|``, or when the linear-convergence
-    error estimate from the last chord steps is (module notes give the exact rule).
+    Stops when the bracket width ``<= xtol + rtol*|x|``. When the linear-convergence
+    error estimate from the last chord steps is below tolerance, the next iterate is
+    the check half a tolerance towards the other end, whose sign change closes the
+    bracket (module notes give the exact rule): the estimate alone never stops it.
     Returns the bracket end of smaller |f|.
     """
     return _regula_falsi("false_position", False, f, a, b, xtol, rtol, ftol, max_iter)
@@ -1069,7 +1089,15 @@ def brent(
     secant) step from b when it is short enough, else bisects: superlinear on smooth f,
     and never worse than about the square of bisection's count (Brent's bound). The
     arithmetic follows the form used in scipy's ``brentq`` (divided differences for
-    the interpolation), which is the reference it is benchmarked against.
+    the interpolation), which is the reference it is benchmarked against; the f
+    values are scaled by a power of two first, so the steps do not depend on the
+    units of f (f*1e-110 and x**19 interpolate as f and x do), and an interpolation
+    that under- or overflows bisects instead. Two departures from the book, both
+    cheaper on the test sets: a step shorter than half the tolerance proposed right
+    after a bisection is replaced by another bisection (the interpolation then rests on
+    points far from b, such as a bracket end beside a pole, so its "root within half a
+    tolerance" is not to be trusted), and a value that underflowed is never
+    interpolated through.
     Stops when the bracket width ``|c - b| <= xtol + rtol*|b|``; the smallest step
     taken is ``(xtol + rtol*|b|)/2``. Returns b, the bracket end of smaller |f|.
     """
