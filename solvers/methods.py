@@ -351,33 +351,26 @@ def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = N
     2*exp(-2*x) is 0.0 at x = 800; its root is ln 2). From f alone the two differ in
     what f does beside x: at an isolated zero f is non-zero at x +- tol (a simple root
     changes sign there, a double root touches), while underflow leaves f exactly 0 over
-    a stretch far wider than any tolerance. So f is evaluated at x - tol and x + tol
-    (calls counted) and the zero counts as a root unless f is 0.0 there. A NaN
+    a stretch far wider than any tolerance. So f is evaluated at x + tol and x - tol
+    (calls counted) and the zero counts as a root unless f is 0.0 at either. A NaN
     neighbour (x at the edge of f's domain, sqrt at 0) is no evidence either way, but
-    one neighbour must be finite and non-zero.
+    one neighbour must be finite and non-zero. Both sides are needed: x can sit at the
+    very edge of a stretch of underflow (f*1e-314 has one 4e-11 wide around its root),
+    with one neighbour outside it.
 
-    A bracketing method passes ``toward``, its farther bracket end, and only that side
-    is tried (one call; the other only if it gives NaN), which keeps Brent's count of
-    calls level with scipy's ``brentq``. A method approaching the edge of a stretch of
-    underflow from inside comes from the far side of it, so the probe lands inside the
-    stretch; a zero within ``tol`` of the edge on the far side can still pass for a
-    root (a chance of about tol over the stretch's width).
+    ``toward`` (a bracketing method's farther bracket end) is the side tried first: a
+    method closing in on a stretch of underflow from inside it comes from that side, so
+    that call usually settles it alone.
     """
     step = max(tol, 2.0 * math.ulp(x), sys.float_info.min)
-    if toward is None or toward == x:
-        sides = [x - step, x + step]
-        values = [ev(v) for v in sides]
-        if any(v == 0.0 for v in values):
-            return False
-        return any(math.isfinite(v) for v in values)
-    direction = math.copysign(step, toward - x)
-    for side in (x + direction, x - direction):
+    first = step if toward is None or toward >= x else -step
+    finite = False
+    for side in (x + first, x - first):
         value = ev(side)
         if value == 0.0:
             return False
-        if math.isfinite(value):
-            return True
-    return False
+        finite = finite or math.isfinite(value)
+    return finite
 
 
 def _zero_verdict(ev: _Evaluator, x: float, xtol: float, rtol: float) -> tuple[str, str]:
@@ -766,7 +759,7 @@ def _iterate_zero(
     (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800), x
     lies in the same stretch of underflow: it takes that end's sign and is returned
     as ``+-_TINY`` (x is added to ``underflowed``), at no call. Otherwise f is
-    checked beside x (:func:`_zero_is_root`, one call towards the farther end) and a
+    checked beside x (:func:`_zero_is_root`, the farther end's side first) and a
     zero that is only underflow returns NaN: a stretch of zeros inside a bracket with
     real values at both ends hides on which side of x the sign change lies, so the
     method stops there (``not_finite``) instead of guessing.
