@@ -765,12 +765,12 @@ def _iterate_zero(
     method stops there (``not_finite``) instead of guessing.
 
     No call is spent either when the ends already show f to be far above underflow
-    near x: with x between ends of opposite sign, the slopes |f(end)|/|end - x| from
-    both ends within a factor 1024 of the bracket's secant slope (f close to a
-    straight line through x, with no drop of hundreds of orders of magnitude towards
-    x as exp(-1/x**2) has), and that slope times ``tol`` at least 1024 times the
-    smallest normal double (a stretch of underflow around a root there is far
-    narrower than ``tol``).
+    near x: with x between ends of opposite sign, the chord through the ends crossing
+    zero within 1/16 of the bracket from x, the slopes |f(end)|/|end - x| from both
+    ends within a factor 1024 of the chord's (f close to a straight line through x,
+    with no drop of hundreds of orders of magnitude towards x as exp(-1/x**2) has),
+    and that slope times ``tol`` at least 1024 times the smallest normal double (a
+    stretch of underflow around a root there is far narrower than ``tol``).
     """
     (x1, f1), (x2, f2) = ends
     for end, value in ((x1, f1), (x2, f2)):
@@ -793,6 +793,7 @@ def _interior_underflow(x: float, lo: float, hi: float) -> str:
 
 
 _SLOPE_SPREAD = 1024.0
+_CHORD_SHARE = 1.0 / 16.0
 
 
 def _straight_through(x: float, x1: float, f1: float, x2: float, f2: float, tol: float) -> bool:
@@ -803,7 +804,12 @@ def _straight_through(x: float, x1: float, f1: float, x2: float, f2: float, tol:
     slope_2 = abs(f2) / abs(x2 - x)
     secant = abs(f1) / abs(x2 - x1) + abs(f2) / abs(x2 - x1)
     least = min(slope_1, slope_2)
-    return least * _SLOPE_SPREAD >= secant and least * tol >= _SLOPE_SPREAD * sys.float_info.min
+    if not (least * _SLOPE_SPREAD >= secant and least * tol >= _SLOPE_SPREAD * sys.float_info.min):
+        return False
+    # The chord through the ends must itself vanish near x: x at most 1/16 of the
+    # bracket from where the chord crosses zero.
+    chord = f1 + (f2 - f1) * ((x - x1) / (x2 - x1))
+    return abs(chord) <= _CHORD_SHARE * max(abs(f1), abs(f2))
 
 
 def _bracket_settings(xtol, rtol, ftol, max_iter, a, b) -> dict[str, Any]:
