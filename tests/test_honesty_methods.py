@@ -15,8 +15,8 @@ import struct
 import mpmath
 import numpy as np
 import pytest
-from scipy.optimize import brentq
 from scipy.optimize import _tstutils as tstutils
+from scipy.optimize import brentq
 
 from solvers import parse_equation
 from solvers.methods import (
