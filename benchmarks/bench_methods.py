@@ -3,7 +3,10 @@
 1. Total f calls of ``solvers.methods.brent`` on the 154 Alefeld-Potra-Shi cases
    (``scipy.optimize._tstutils.get_tests("aps")``) against ``scipy.optimize.brentq``
    with the same xtol/rtol, counted by wrapping f (target <= 1.0x); ``toms748`` for
-   information.
+   information. The same count on the 45 Chandrupatla cases (``get_tests("chandrupatla")``,
+   multiple roots such as x**19 among them) with a cap of 1000 iterations, for
+   information: there brentq's count includes runs that stop on a value that merely
+   underflowed to 0 (x*exp(-1/x**2)), which zerotrace's Brent refuses as a root.
 2. Wall time per solve of ``solvers.methods.newton`` against ``scipy.optimize.newton``
    on the same plain Python callables (the Colebrook equation written with ``math``,
    with its analytic derivative), same tolerance; best of N repeats with
@@ -58,6 +61,20 @@ def aps_evaluations() -> tuple[int, int, int, int]:
     return len(cases), ours, theirs, toms
 
 
+def chandrupatla_evaluations() -> tuple[int, int, int]:
+    ours = theirs = 0
+    cases = get_tests("chandrupatla")
+    for case in cases:
+        a, b = case["bracket"]
+        f = Counted({"f": case["f"], "args": ()})
+        brent(f, a, b, xtol=DEFAULT_XTOL, rtol=DEFAULT_RTOL, max_iter=1000)
+        ours += f.calls
+        f.calls = 0
+        scipy.optimize.brentq(f, a, b, xtol=DEFAULT_XTOL, rtol=DEFAULT_RTOL, maxiter=1000)
+        theirs += f.calls
+    return len(cases), ours, theirs
+
+
 # Colebrook-White for a cooling-water line (invented: Re = 2.4e5, eps/D = 1.5e-4).
 REYNOLDS = 2.4e5
 ROUGHNESS = 1.5e-4
@@ -98,6 +115,10 @@ def main() -> None:
     print(f"  {'scipy.optimize.brentq (reference)':34s} {theirs:11d} {1.0:7.3f}")
     print(f"  {'zerotrace brent':34s} {ours:11d} {ours / theirs:7.3f}   (target <= 1.0)")
     print(f"  {'scipy.optimize.toms748 (info)':34s} {toms:11d} {toms / theirs:7.3f}")
+    n, ours, theirs = chandrupatla_evaluations()
+    print(f"Chandrupatla set ({n} cases), total f evaluations, cap 1000 iterations (info)")
+    print(f"  {'scipy.optimize.brentq (reference)':34s} {theirs:11d} {1.0:7.3f}")
+    print(f"  {'zerotrace brent':34s} {ours:11d} {ours / theirs:7.3f}")
 
     x0 = 0.02
     ours_run = newton(colebrook, x0, fprime=colebrook_prime)

@@ -258,12 +258,40 @@ def _real_pow(base: float, exponent: float) -> float:
     return math.pow(base, exponent)  # ValueError for a negative base and a fractional exponent
 
 
+# min and max of signed zeros follow IEEE 754-2019 (minimum/maximum): -0 < +0, so
+# max(-0.0, 0.0) is +0.0 and min(-0.0, 0.0) is -0.0 whatever the order of the
+# arguments, in both evaluation paths. Python's min/max keep the first of equal values
+# and numpy's the second, so f(x) and f([x]) differed where a signed zero reaches a
+# function that tells them apart (atan2(x, max(-x, x)) at x = 0 gave 1 and 1 + pi).
 def _real_min(*args: float) -> float:
-    return math.nan if any(a != a for a in args) else min(args)
+    if any(a != a for a in args):
+        return math.nan
+    low = min(args)
+    if low == 0.0 and any(math.copysign(1.0, a) < 0.0 for a in args if a == 0.0):
+        return -0.0
+    return low
 
 
 def _real_max(*args: float) -> float:
-    return math.nan if any(a != a for a in args) else max(args)
+    if any(a != a for a in args):
+        return math.nan
+    high = max(args)
+    if high == 0.0 and any(math.copysign(1.0, a) > 0.0 for a in args if a == 0.0):
+        return 0.0
+    return high
+
+
+def _ieee_minimum(a: Any, b: Any) -> Any:
+    """numpy.minimum with -0.0 below +0.0 (see _real_min)."""
+    low = np.minimum(a, b)
+    return np.where(low == 0.0, np.where(np.signbit(a) | np.signbit(b), -0.0, 0.0), low)
+
+
+def _ieee_maximum(a: Any, b: Any) -> Any:
+    """numpy.maximum with +0.0 above -0.0 (see _real_max)."""
+    high = np.maximum(a, b)
+    both_negative = np.signbit(a) & np.signbit(b)
+    return np.where(high == 0.0, np.where(both_negative, -0.0, 0.0), high)
 
 
 def _real_sign(v: float) -> float:
@@ -722,17 +750,17 @@ class _VectorPrinter(NumPyPrinter):
         return f"{self._module_format('numpy.sign')}({self._print(expr.args[0])})"
 
     def _nested(self, ufunc: str, args: Any) -> str:
-        name = self._module_format(ufunc)  # nan-propagating, like real_min/real_max
+        # nan-propagating and IEEE 754-2019 on signed zeros, like real_min/real_max
         code = self._print(args[0])
         for arg in args[1:]:
-            code = f"{name}({code}, {self._print(arg)})"
+            code = f"{ufunc}({code}, {self._print(arg)})"
         return code
 
     def _print_Min(self, expr: Any) -> str:
-        return self._nested("numpy.minimum", expr.args)
+        return self._nested("ieee_minimum", expr.args)
 
     def _print_Max(self, expr: Any) -> str:
-        return self._nested("numpy.maximum", expr.args)
+        return self._nested("ieee_maximum", expr.args)
 
 
 class _ScalarPrinter(LambdaPrinter):
@@ -762,6 +790,8 @@ class _ScalarPrinter(LambdaPrinter):
     def _print_Heaviside(self, expr: Any) -> str:
         return f"real_heaviside({self._print(expr.args[0])})"
 
+
+_VECTOR_NAMESPACE = {"numpy": np, "ieee_minimum": _ieee_minimum, "ieee_maximum": _ieee_maximum}
 
 _SCALAR_NAMESPACE = {
     "real_pow": _real_pow,
@@ -867,7 +897,7 @@ def _compile(expr: Any, unknown: Any) -> Callable[[Any], Any]:
     # A dict namespace, not the string "numpy": the string makes lambdify probe every numpy
     # attribute, which imports numpy.f2py and friends (~0.1 s of start-up); the printer adds
     # the "from numpy import ..." lines the code needs.
-    vector = sp.lambdify(_Z, code, modules=[{"numpy": np}], printer=_VectorPrinter)
+    vector = sp.lambdify(_Z, code, modules=[_VECTOR_NAMESPACE], printer=_VectorPrinter)
     scalar: Any = None  # the math-module path, compiled at the first scalar call
 
     def compile_scalar() -> Any:

@@ -23,14 +23,16 @@ What "step" means:
 * Illinois: the bracket width as above (the Illinois rule moves both ends, so the
   bracket shrinks to the root).
 * False position (plain regula falsi) usually keeps one end fixed, so its bracket does
-  not shrink to zero; it also stops on the steps between successive interpolated
-  iterates (never a starting end). It converges linearly with some ratio c, leaving
-  an error of about ``c/(1-c)`` times the last step, so the test is
+  not shrink to zero. It converges linearly with some ratio c, leaving an error of
+  about ``c/(1-c)`` times the last step, so it estimates the error from the steps
+  between successive interpolated iterates (never a starting end):
   ``|x_k - x_{k-1}| * max(1, c/(1-c)) <= xtol + rtol*|x_k|`` with
   ``c = max(c_k, c_{k-1})``, ``c_k = |x_k - x_{k-1}| / |x_{k-1} - x_{k-2}|``, and only
-  while c < 1. Taking the worse of two ratios stops one short step on a flat
-  stretch of f from passing for convergence. The observed order (``Run.order`` ~ 1)
-  shows the linear convergence to the user.
+  while c < 1. An estimate is no proof (a noisy f fools it), so when it is met the
+  next iterate is a check half a tolerance from x_k towards the other end: a sign
+  change there closes the bracket below tolerance (the stop is then the bracket
+  width, as for the other bracketing methods); none moves that end on and the chords
+  go on. The observed order (``Run.order`` ~ 1) shows the linear convergence.
 * False position and Illinois: when rounding puts the chord's zero on (or outside) a
   bracket end, which happens beside a pole or a steep exponential where one end's
   |f| is enormous, the iterate is the bracket midpoint instead (said in the
@@ -39,6 +41,22 @@ What "step" means:
 Stop order after each new iterate: non-finite f -> ``not_finite``; ``f == 0`` ->
 ``exact_zero``; ``|f| <= ftol`` -> ``f_tolerance``; step test -> ``x_tolerance``;
 ``max_iter`` iterates produced -> ``max_iterations``.
+
+A converged run ends at a root, never at a value that merely looks like one:
+
+* ``f(x) == 0.0`` is an exact zero only where f did not underflow. A sum of terms
+  below ~1e-308 is 0.0 too (exp(-x) - 2*exp(-2*x) at x = 800; its root is ln 2), and
+  then f is 0.0 beside x as well, over a stretch far wider than any tolerance. So
+  f is evaluated at x +- tol (one side for a bracketing method, whose ends often show
+  f to be far above underflow near x at no cost at all). An underflowed zero stops an
+  open method, and a bracketing one inside its bracket, with ``not_finite`` (said in
+  the message); a starting bracket end that underflowed is kept as an end of the sign
+  opposite to the other end's, since the sign change lies between them.
+* A bracket that closes on a sign change with |f| not falling towards 0 is a jump
+  (``x/abs(x) + x`` at 0), reported as ``discontinuity`` with converged False, or a
+  pole (|f| growing as it closes), reported as ``not_finite``. The check costs no call
+  when the points already evaluated show |f| falling at least as the square root of
+  the distance, else two at most (f 2**20 bracket widths out).
 
 Defaults, chosen for engineering work
 -------------------------------------
@@ -74,13 +92,14 @@ import math
 import operator
 import sys
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
 from solvers.result import (
     CONVERGED_REASONS,
+    DISCONTINUITY,
     EXACT_ZERO,
     F_TOLERANCE,
     MAX_ITERATIONS,
@@ -319,6 +338,122 @@ def _same_sign(u: float, v: float) -> bool:
     return (u > 0.0) == (v > 0.0)
 
 
+# The smallest positive double: the size given to a bracket end or iterate whose f
+# underflowed to 0 (see _zero_is_root), so that it keeps a sign without pretending
+# to have a size.
+_TINY = 5e-324
+
+
+def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None) -> bool:
+    """Whether f(x) == 0.0 is a zero of f, not a value that underflowed to 0.
+
+    A double 0.0 from f is also what a sum of terms below ~1e-308 gives (exp(-x) -
+    2*exp(-2*x) is 0.0 at x = 800; its root is ln 2). From f alone the two differ in
+    what f does beside x: at an isolated zero f is non-zero at x +- tol (a simple root
+    changes sign there, a double root touches), while underflow leaves f exactly 0 over
+    a stretch far wider than any tolerance. So f is evaluated at x + tol and x - tol
+    (calls counted) and the zero counts as a root unless f is 0.0 at either. A NaN
+    neighbour (x at the edge of f's domain, sqrt at 0) is no evidence either way, but
+    one neighbour must be finite and non-zero. Both sides are needed: x can sit at the
+    very edge of a stretch of underflow (f*1e-314 has one 4e-11 wide around its root),
+    with one neighbour outside it.
+
+    ``toward`` (a bracketing method's farther bracket end) is the side tried first: a
+    method closing in on a stretch of underflow from inside it comes from that side, so
+    that call usually settles it alone.
+    """
+    step = max(tol, 2.0 * math.ulp(x), sys.float_info.min)
+    first = step if toward is None or toward >= x else -step
+    finite = False
+    for side in (x + first, x - first):
+        value = ev(side)
+        if value == 0.0:
+            return False
+        finite = finite or math.isfinite(value)
+    return finite
+
+
+def _zero_verdict(ev: _Evaluator, x: float, xtol: float, rtol: float) -> tuple[str, str]:
+    """(reason, detail) for f(x) == 0.0 in an open method: a root, or underflow."""
+    if _zero_is_root(ev, x, xtol + rtol * abs(x)):
+        return EXACT_ZERO, ""
+    return NOT_FINITE, _underflow_detail(x)
+
+
+def _underflow_detail(x: float) -> str:
+    return (
+        f"f(x) = 0.0 at x = {_fmt(x)} only because f underflowed (f is also 0.0 beside it): "
+        "not a confirmed root"
+    )
+
+
+# Continuity check of a bracket that closed (see _closed_bracket_reason).
+_PROBE_REACH = 2.0**20  # probes this many bracket widths out: still local to the root
+_PROBE_GROWTH = 1.5  # |f| must grow at least this much there for a root
+
+
+def _closed_bracket_reason(
+    ev: _Evaluator,
+    settings: dict[str, Any],
+    lo: float,
+    flo: float,
+    hi: float,
+    fhi: float,
+    steps: list[Step],
+    underflowed: set[float],
+) -> tuple[str, str]:
+    """Whether a bracket [lo, hi] that shrank below tolerance holds a root or a jump.
+
+    Returns ``(X_TOLERANCE, "")`` for a root, ``(DISCONTINUITY, detail)`` for a jump
+    and ``(NOT_FINITE, detail)`` when an end's value underflowed to 0 (f cannot tell
+    where in the underflow the sign changes). A pole is left to :func:`_pole_detail`
+    (its |f| grows as the bracket closes).
+
+    Near a root f shrinks with the distance: |f| ~ C*d**p, for a power p > 0. Beside a
+    jump |f| stays at the height of the jump however small the bracket. So, with
+    ``near`` the smaller |f| at the closed ends and ``w`` the width:
+
+    1. at no cost, the points already evaluated: if one at distance d >= 2w from the
+       closed bracket has ``near <= |f| * sqrt(w/d)``, |f| fell at least as fast as the
+       square root of the distance (p >= 1/2), and the bracket holds a root. Beside a
+       jump of height J with slope s this needs (J + s*d)*sqrt(w/d) >= J: d >= J**2/(s**2*w),
+       beyond any point for a jump that stands out of the slope over the tolerance.
+    2. otherwise f is evaluated ``2**20`` widths out (inside the starting bracket), one
+       side and then the other: if |f| grew there by 1.5 or more (any p >= 0.03, so even
+       x**(1/19) passes) the bracket holds a root; if it did not on either side, a jump
+       (``discontinuity``).
+    """
+    for x in (lo, hi):
+        if x in underflowed:
+            return NOT_FINITE, (
+                f"{_underflow_detail(x)}; f underflows from there on, and the sign change "
+                f"lies somewhere in that stretch, not located by f"
+            )
+    if _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps):
+        return X_TOLERANCE, ""  # _finish reports the pole
+    near = min(abs(flo), abs(fhi))
+    width = hi - lo
+    for step in steps:
+        distance = max(lo - step.x, step.x - hi)
+        if distance >= 2.0 * width and math.isfinite(step.fx) and step.x not in underflowed:
+            if near <= abs(step.fx) * math.sqrt(width / distance):
+                return X_TOLERANCE, ""
+    a, b = sorted(settings["bracket"])
+    reach = _PROBE_REACH * width
+    for end, fend, probe in ((lo, flo, max(a, lo - reach)), (hi, fhi, min(b, hi + reach))):
+        if probe == end:
+            continue
+        fprobe = ev(probe)
+        if math.isfinite(fprobe) and fprobe != 0.0 and _same_sign(fprobe, fend):
+            if abs(fprobe) >= _PROBE_GROWTH * abs(fend):
+                return X_TOLERANCE, ""
+    return DISCONTINUITY, (
+        f"f changes sign from {flo:.6g} to {fhi:.6g} across [{_fmt(lo)}, {_fmt(hi)}] "
+        f"(width {width:.3g}) without approaching 0, and |f| stays that size "
+        f"{reach:.3g} further out: a jump of f there, not a root"
+    )
+
+
 # --------------------------------------------------------------------------- open methods
 
 
@@ -421,7 +556,8 @@ def newton(
             return done(NOT_FINITE, _last_finite(steps), k, _not_finite_detail(ev, x, fx))
         if fx == 0.0:
             steps.append(Step(k, x, fx, None, dx))
-            return done(EXACT_ZERO, x, k)
+            reason, detail = _zero_verdict(ev, x, xtol_, rtol_)
+            return done(reason, x, k, detail)
         if abs(fx) <= ftol_:
             steps.append(Step(k, x, fx, None, dx))
             return done(F_TOLERANCE, x, k)
@@ -493,7 +629,8 @@ def secant(
     if not math.isfinite(fa):
         return done(NOT_FINITE, math.nan, 0, _not_finite_detail(ev, xa, fa))
     if fa == 0.0:
-        return done(EXACT_ZERO, xa, 0)
+        reason, detail = _zero_verdict(ev, xa, xtol_, rtol_)
+        return done(reason, xa, 0, detail)
     if abs(fa) <= ftol_:
         return done(F_TOLERANCE, xa, 0)
     fb = ev(xb)
@@ -501,7 +638,8 @@ def secant(
     if not math.isfinite(fb):
         return done(NOT_FINITE, xa, 0, _not_finite_detail(ev, xb, fb))
     if fb == 0.0:
-        return done(EXACT_ZERO, xb, 0)
+        reason, detail = _zero_verdict(ev, xb, xtol_, rtol_)
+        return done(reason, xb, 0, detail)
     if abs(fb) <= ftol_:
         return done(F_TOLERANCE, xb, 0)
 
@@ -529,7 +667,8 @@ def secant(
         if not math.isfinite(fx):
             return done(NOT_FINITE, _last_finite(steps), iterations, _not_finite_detail(ev, x, fx))
         if fx == 0.0:
-            return done(EXACT_ZERO, x, iterations)
+            reason, detail = _zero_verdict(ev, x, xtol_, rtol_)
+            return done(reason, x, iterations, detail)
         if abs(fx) <= ftol_:
             return done(F_TOLERANCE, x, iterations)
         if abs(dx) <= xtol_ + rtol_ * abs(x):
@@ -549,6 +688,7 @@ class _Bracket:
     fa: float
     b: float
     fb: float
+    underflowed: set[float] = field(default_factory=set)
 
 
 def _start_bracket(
@@ -557,7 +697,10 @@ def _start_bracket(
     """Evaluate both ends of ``settings["bracket"]``; return a finished Run if they settle it.
 
     Both ends are recorded (k = 0, 1, ``dx`` None) with ``lo``/``hi`` the bracket as
-    given when it holds a sign change (or an exact zero), else None.
+    given when it holds a sign change (or an exact zero), else None. An end where f
+    underflowed to 0.0 (see :func:`_zero_is_root`) is no root: it goes on as an end of
+    the sign opposite to the other end's, with size ``_TINY`` (its Step keeps 0.0), and
+    is listed in ``underflowed``.
     """
 
     def done(reason: str, root: float, detail: str = "") -> Run:
@@ -579,10 +722,19 @@ def _start_bracket(
         return done(NOT_FINITE, _last_finite(steps), fault_a or f"f(a) = {fa!r} at a = {a!r}")
     if not math.isfinite(fb):
         return done(NOT_FINITE, _last_finite(steps), _not_finite_detail(ev, b, fb))
-    if fa == 0.0:
-        return done(EXACT_ZERO, a)
-    if fb == 0.0:
-        return done(EXACT_ZERO, b)
+    tolerance = settings["xtol"], settings["rtol"]
+    underflowed: set[float] = set()
+    for x, fx in ((a, fa), (b, fb)):
+        if fx == 0.0:
+            if _zero_is_root(ev, x, tolerance[0] + tolerance[1] * abs(x)):
+                return done(EXACT_ZERO, x)
+            underflowed.add(x)
+    if len(underflowed) == 2 or a == b and underflowed:
+        return done(NOT_FINITE, a, _underflow_detail(a) + " at either bracket end")
+    if a in underflowed:
+        fa = -math.copysign(_TINY, fb)
+    if b in underflowed:
+        fb = -math.copysign(_TINY, fa)
     better = a if abs(fa) <= abs(fb) else b
     if min(abs(fa), abs(fb)) <= settings["ftol"]:
         return done(F_TOLERANCE, better)
@@ -591,7 +743,73 @@ def _start_bracket(
             NO_SIGN_CHANGE, better,
             f"f({a!r}) = {fa!r} and f({b!r}) = {fb!r} have the same sign: no bracket",
         )
-    return _Bracket(a, fa, b, fb)
+    return _Bracket(a, fa, b, fb, underflowed)
+
+
+def _iterate_zero(
+    ev: _Evaluator,
+    x: float,
+    tol: float,
+    ends: tuple[tuple[float, float], tuple[float, float]],
+    underflowed: set[float],
+) -> float | None:
+    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means.
+
+    Returns None when it is a root (exact zero). When a bracket end underflowed too
+    (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800), x
+    lies in the same stretch of underflow: it takes that end's sign and is returned
+    as ``+-_TINY`` (x is added to ``underflowed``), at no call. Otherwise f is
+    checked beside x (:func:`_zero_is_root`, the farther end's side first) and a
+    zero that is only underflow returns NaN: a stretch of zeros inside a bracket with
+    real values at both ends hides on which side of x the sign change lies, so the
+    method stops there (``not_finite``) instead of guessing.
+
+    No call is spent either when the ends already show f to be far above underflow
+    near x: with x between ends of opposite sign, the chord through the ends crossing
+    zero within 1/16 of the bracket from x, the slopes |f(end)|/|end - x| from both
+    ends within a factor 1024 of the chord's (f close to a straight line through x,
+    with no drop of hundreds of orders of magnitude towards x as exp(-1/x**2) has),
+    and that slope times ``tol`` at least 1024 times the smallest normal double (a
+    stretch of underflow around a root there is far narrower than ``tol``).
+    """
+    (x1, f1), (x2, f2) = ends
+    for end, value in ((x1, f1), (x2, f2)):
+        if end in underflowed:
+            underflowed.add(x)
+            return math.copysign(_TINY, value)
+    if _straight_through(x, x1, f1, x2, f2, tol):
+        return None
+    far = x2 if abs(x - x1) <= abs(x - x2) else x1
+    if _zero_is_root(ev, x, tol, toward=far):
+        return None
+    return math.nan
+
+
+def _interior_underflow(x: float, lo: float, hi: float) -> str:
+    return (
+        f"{_underflow_detail(x)}; inside the bracket [{_fmt(lo)}, {_fmt(hi)}], f cannot "
+        "say on which side of it the sign change lies"
+    )
+
+
+_SLOPE_SPREAD = 1024.0
+_CHORD_SHARE = 1.0 / 16.0
+
+
+def _straight_through(x: float, x1: float, f1: float, x2: float, f2: float, tol: float) -> bool:
+    """f(x) == 0.0 between ends of opposite sign, in line with them (see _iterate_zero)."""
+    if not (min(x1, x2) < x < max(x1, x2)) or _same_sign(f1, f2):
+        return False
+    slope_1 = abs(f1) / abs(x - x1)
+    slope_2 = abs(f2) / abs(x2 - x)
+    secant = abs(f1) / abs(x2 - x1) + abs(f2) / abs(x2 - x1)
+    least = min(slope_1, slope_2)
+    if not (least * _SLOPE_SPREAD >= secant and least * tol >= _SLOPE_SPREAD * sys.float_info.min):
+        return False
+    # The chord through the ends must itself vanish near x: x at most 1/16 of the
+    # bracket from where the chord crosses zero.
+    chord = f1 + (f2 - f1) * ((x - x1) / (x2 - x1))
+    return abs(chord) <= _CHORD_SHARE * max(abs(f1), abs(f2))
 
 
 def _bracket_settings(xtol, rtol, ftol, max_iter, a, b) -> dict[str, Any]:
@@ -627,38 +845,50 @@ def bisection(
     lo, flo, hi, fhi = start.a, start.fa, start.b, start.fb
     if lo > hi:
         lo, flo, hi, fhi = hi, fhi, lo, flo
+    underflowed = start.underflowed
     last = start.b
     iterations = 0
 
     def done(reason: str, root: float, detail: str = "") -> Run:
         return _finish("bisection", reason, root, steps, iterations, ev.calls, settings, detail)
 
+    def closed(best: float, detail: str) -> Run:
+        reason, why = _closed_bracket_reason(ev, settings, lo, flo, hi, fhi, steps, underflowed)
+        return done(reason, best, why or detail)
+
     while True:
         best = lo if abs(flo) <= abs(fhi) else hi
         if hi - lo <= xtol_ + rtol_ * abs(best):
-            detail = _step_detail("bracket width", hi - lo, xtol_, rtol_, best)
-            return done(X_TOLERANCE, best, detail)
+            return closed(best, _step_detail("bracket width", hi - lo, xtol_, rtol_, best))
         if iterations >= cap:
             return done(MAX_ITERATIONS, best)
         mid = 0.5 * lo + 0.5 * hi
         if not lo < mid < hi:
-            return done(
-                X_TOLERANCE, best,
-                f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists",
+            return closed(
+                best, f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists"
             )
         fmid = ev(mid)
         iterations += 1
         if not math.isfinite(fmid):
             steps.append(Step(iterations + 1, mid, fmid, None, mid - last, lo, hi))
             return done(NOT_FINITE, best, _not_finite_detail(ev, mid, fmid))
-        if fmid == 0.0 or _same_sign(fmid, flo):
+        recorded = fmid
+        if fmid == 0.0:
+            carried = _iterate_zero(
+                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed
+            )
+            if carried is None or math.isnan(carried):
+                steps.append(Step(iterations + 1, mid, fmid, None, mid - last, mid, hi))
+                if carried is None:
+                    return done(EXACT_ZERO, mid)
+                return done(NOT_FINITE, mid, _interior_underflow(mid, lo, hi))
+            fmid = carried
+        if _same_sign(fmid, flo):
             lo, flo = mid, fmid
         else:
             hi, fhi = mid, fmid
-        steps.append(Step(iterations + 1, mid, fmid, None, mid - last, lo, hi))
+        steps.append(Step(iterations + 1, mid, recorded, None, mid - last, lo, hi))
         last = mid
-        if fmid == 0.0:
-            return done(EXACT_ZERO, mid)
         if abs(fmid) <= ftol_:
             return done(F_TOLERANCE, mid)
 
@@ -685,10 +915,12 @@ def _regula_falsi(
     # (xb, fb) is the newest point, (xa, fa) the retained end of opposite sign.
     # ga is the value used for interpolation at xa: fa, or fa halved by the Illinois rule.
     xa, fa, xb, fb = start.a, start.fa, start.b, start.fb
+    underflowed = start.underflowed
     ga = fa
     previous: float | None = None  # previous interpolated iterate
     previous_step: float | None = None  # |previous - the one before|
     previous_ratio: float | None = None  # previous_step / the step before it
+    probe: float | None = None  # next iterate: the check of a step-based estimate
     iterations = 0
     midpoints = 0
 
@@ -702,26 +934,34 @@ def _regula_falsi(
             method, reason, root, steps, iterations, ev.calls, settings, detail, note=note
         )
 
+    def closed(best: float, detail: str) -> Run:
+        (lo, flo), (hi, fhi) = sorted(((xa, fa), (xb, fb)))
+        reason, why = _closed_bracket_reason(ev, settings, lo, flo, hi, fhi, steps, underflowed)
+        return done(reason, best, why or detail)
+
     while True:
         lo, hi = (xa, xb) if xa < xb else (xb, xa)
         best = xa if abs(fa) < abs(fb) else xb
         if iterations >= cap:
             return done(MAX_ITERATIONS, best)
-        denominator = fb - ga  # never zero: fb and ga have opposite signs
-        if math.isinf(denominator):
-            fraction = 1.0 / (1.0 - ga / fb)
+        if probe is not None and lo < probe < hi:
+            x, fallback = probe, False
         else:
-            fraction = fb / denominator
-        x = xb - fraction * (xb - xa)
-        fallback = not lo < x < hi
+            denominator = fb - ga  # never zero: fb and ga have opposite signs
+            if math.isinf(denominator) or ga == 0.0:
+                fraction = 1.0 / (1.0 - ga / fb)
+            else:
+                fraction = fb / denominator
+            x = xb - fraction * (xb - xa)
+            fallback = not lo < x < hi
+        checking, probe = probe is not None, None
         if fallback:
             # Rounding put the chord's zero on (or past) an end, e.g. beside a pole where
             # |f| is huge: take the midpoint instead so the method cannot stall there.
             x = 0.5 * lo + 0.5 * hi
             if not lo < x < hi:
-                return done(
-                    X_TOLERANCE, best,
-                    f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists",
+                return closed(
+                    best, f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists"
                 )
             midpoints += 1
         fx = ev(x)
@@ -729,7 +969,18 @@ def _regula_falsi(
         if not math.isfinite(fx):
             steps.append(Step(iterations + 1, x, fx, None, x - xb, lo, hi))
             return done(NOT_FINITE, best, _not_finite_detail(ev, x, fx))
-        if fx != 0.0 and _same_sign(fx, fb):
+        recorded = fx
+        if fx == 0.0:
+            carried = _iterate_zero(
+                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed
+            )
+            if carried is None or math.isnan(carried):
+                steps.append(Step(iterations + 1, x, fx, None, x - xb, *sorted((xb, x))))
+                if carried is None:
+                    return done(EXACT_ZERO, x)
+                return done(NOT_FINITE, x, _interior_underflow(x, lo, hi))
+            fx = carried
+        if _same_sign(fx, fb):
             # xa retained once more: Illinois halves its value to pull the next iterate over.
             if illinois_rule:
                 ga *= 0.5
@@ -738,19 +989,17 @@ def _regula_falsi(
         dx = x - xb
         xb, fb = x, fx
         lo, hi = (xa, xb) if xa < xb else (xb, xa)
-        steps.append(Step(iterations + 1, x, fx, None, dx, lo, hi))
-        if fx == 0.0:
-            return done(EXACT_ZERO, x)
+        steps.append(Step(iterations + 1, x, recorded, None, dx, lo, hi))
         if abs(fx) <= ftol_:
             return done(F_TOLERANCE, x)
         best = xa if abs(fa) < abs(fb) else xb
         if hi - lo <= xtol_ + rtol_ * abs(best):
-            detail = _step_detail("bracket width", hi - lo, xtol_, rtol_, best)
-            return done(X_TOLERANCE, best, detail)
-        if illinois_rule or fallback:
+            return closed(best, _step_detail("bracket width", hi - lo, xtol_, rtol_, best))
+        if illinois_rule or fallback or checking:
             # Illinois: both ends move, so the bracket width alone decides. After a
-            # midpoint step the chord-step history says nothing: start it again.
-            if fallback:
+            # midpoint step, or a check that found no sign change, the chord-step
+            # history says nothing: start it again.
+            if fallback or checking:
                 previous = previous_step = previous_ratio = None
             continue
         if previous is not None:
@@ -765,8 +1014,11 @@ def _regula_falsi(
                 if previous_ratio is not None and c < 1.0:
                     error = step * max(1.0, c / (1.0 - c))
                     if error <= xtol_ + rtol_ * abs(x):
-                        what = f"error estimated from steps (ratio {c:.3g})"
-                        return done(X_TOLERANCE, best, _step_detail(what, error, xtol_, rtol_, x))
+                        # An estimate is no proof (f with rounding noise or random values
+                        # fools it): check it with f half a tolerance towards the other
+                        # end. A sign change there closes the bracket below tolerance;
+                        # none moves this end on, and the chords go on.
+                        probe = x + math.copysign(0.5 * (xtol_ + rtol_ * abs(x)), xa - x)
                 previous_ratio = ratio
             previous_step = step
         previous = x
@@ -788,8 +1040,10 @@ def false_position(
     Each iterate is where the chord through the bracket ends crosses zero; the end of
     the same sign is replaced. On a convex or concave f one end never moves, so the
     convergence is linear (order 1) and can be slow; users should see this.
-    Stops when the bracket width ``<= xtol + rtol*|x|``, or when the linear-convergence
-    error estimate from the last chord steps is (module notes give the exact rule).
+    Stops when the bracket width ``<= xtol + rtol*|x|``. When the linear-convergence
+    error estimate from the last chord steps is below tolerance, the next iterate is
+    the check half a tolerance towards the other end, whose sign change closes the
+    bracket (module notes give the exact rule): the estimate alone never stops it.
     Returns the bracket end of smaller |f|.
     """
     return _regula_falsi("false_position", False, f, a, b, xtol, rtol, ftol, max_iter)
@@ -834,7 +1088,15 @@ def brent(
     secant) step from b when it is short enough, else bisects: superlinear on smooth f,
     and never worse than about the square of bisection's count (Brent's bound). The
     arithmetic follows the form used in scipy's ``brentq`` (divided differences for
-    the interpolation), which is the reference it is benchmarked against.
+    the interpolation), which is the reference it is benchmarked against; the f
+    values are scaled by a power of two first, so the steps do not depend on the
+    units of f (f*1e-110 and x**19 interpolate as f and x do), and an interpolation
+    that under- or overflows bisects instead. Two departures from the book, both
+    cheaper on the test sets: a step shorter than half the tolerance proposed right
+    after a bisection is replaced by another bisection (the interpolation then rests on
+    points far from b, such as a bracket end beside a pole, so its "root within half a
+    tolerance" is not to be trusted), and a value that underflowed is never
+    interpolated through.
     Stops when the bracket width ``|c - b| <= xtol + rtol*|b|``; the smallest step
     taken is ``(xtol + rtol*|b|)/2``. Returns b, the bracket end of smaller |f|.
     """
@@ -851,12 +1113,19 @@ def brent(
     xa, fa = start.a, start.fa
     xb, fb = start.b, start.fb
     xc, fc = xa, fa
+    underflowed = start.underflowed
     d = e = xb - xa
     last = xb
     iterations = 0
+    bisected = False
 
     def done(reason: str, root: float, detail: str = "") -> Run:
         return _finish("brent", reason, root, steps, iterations, ev.calls, settings, detail)
+
+    def closed(detail: str) -> Run:
+        (lo, flo), (hi, fhi) = sorted(((xb, fb), (xc, fc)))
+        reason, why = _closed_bracket_reason(ev, settings, lo, flo, hi, fhi, steps, underflowed)
+        return done(reason, xb, why or detail)
 
     while True:
         if abs(fc) < abs(fb):
@@ -868,47 +1137,81 @@ def brent(
         m = 0.5 * xc - 0.5 * xb  # = (xc - xb)/2 exactly, without overflow on wide brackets
         if abs(m) <= half_tol:
             width = abs(xc - xb)
-            return done(X_TOLERANCE, xb, _step_detail("bracket width", width, xtol_, rtol_, xb))
+            return closed(_step_detail("bracket width", width, xtol_, rtol_, xb))
         if iterations >= cap:
             return done(MAX_ITERATIONS, xb)
 
-        if abs(e) > half_tol and abs(fb) < abs(fa):
-            if xa == xc:
-                # Two distinct points only: secant step.
-                s = -fb * (xb - xa) / (fb - fa)
-            else:
-                # Inverse quadratic interpolation through a, b, c.
-                slope_a = (fa - fb) / (xa - xb)
-                slope_c = (fc - fb) / (xc - xb)
-                s = -fb * (fc * slope_c - fa * slope_a) / (slope_c * slope_a * (fc - fa))
-            # Accept only a step well inside the bracket and shrinking fast enough.
-            if 2.0 * abs(s) < min(abs(e), 3.0 * abs(m) - half_tol):
+        # A value that underflowed has a sign but no size to interpolate with: bisect.
+        informed = not underflowed or underflowed.isdisjoint((xa, xb, xc))
+        if informed and abs(e) > half_tol and abs(fb) < abs(fa):
+            s = _interpolation_step(xa, fa, xb, fb, xc, fc)
+            # Accept only a step well inside the bracket and shrinking fast enough
+            # (an undefined step, NaN, fails the test and bisects).
+            if 2.0 * abs(s) < min(abs(e), 3.0 * abs(m) - half_tol) and not (
+                abs(s) <= half_tol and bisected
+            ):
                 e, d = d, s
             else:
                 e = d = m
         else:
             e = d = m
 
+        bisected = d == m
         xa, fa = xb, fb
         if abs(d) > half_tol:
             xb += d
         else:
             xb += half_tol if m > 0 else -half_tol
-        fb = ev(xb)
+        fb = recorded = ev(xb)
         iterations += 1
-        if math.isfinite(fb) and fb != 0.0 and not _same_sign(fb, fa):
+        if fb == 0.0:
+            carried = _iterate_zero(
+                ev, xb, xtol_ + rtol_ * abs(xb), ((xa, fa), (xc, fc)), underflowed
+            )
+            if carried is None or math.isnan(carried):
+                steps.append(Step(iterations + 1, xb, fb, None, xb - last, *sorted((xb, xc))))
+                if carried is None:
+                    return done(EXACT_ZERO, xb)
+                return done(NOT_FINITE, xb, _interior_underflow(xb, *sorted((xa, xc))))
+            fb = carried
+        if math.isfinite(fb) and not _same_sign(fb, fa):
             # The root now lies between the new b and the old b: a becomes the contrapoint.
             xc, fc = xa, fa
             e = d = xb - xa
         lo, hi = (xb, xc) if xb < xc else (xc, xb)
-        steps.append(Step(iterations + 1, xb, fb, None, xb - last, lo, hi))
+        steps.append(Step(iterations + 1, xb, recorded, None, xb - last, lo, hi))
         last = xb
         if not math.isfinite(fb):
             return done(NOT_FINITE, xa, _not_finite_detail(ev, xb, fb))
-        if fb == 0.0:
-            return done(EXACT_ZERO, xb)
         if abs(fb) <= ftol_:
             return done(F_TOLERANCE, xb)
+
+
+def _interpolation_step(
+    xa: float, fa: float, xb: float, fb: float, xc: float, fc: float
+) -> float:
+    """Brent's interpolation step from b (secant when a == c, else inverse quadratic).
+
+    NaN when the step is undefined; Brent then bisects. The step depends only on
+    ratios of f values, so it must not depend on the units of f: the values are first
+    scaled by a power of two, so that the largest is in [0.5, 1). The scaling is exact,
+    so wherever nothing under- or overflows the step is bit for bit that of the
+    divided-difference form in scipy's ``brentq`` (its evaluation counts stay equal),
+    and f*2**k takes the same steps for every k. Where the form still under- or
+    overflows (f ~ x**19 near its root: a product of two slopes and a difference of f)
+    the step is NaN and Brent bisects, as brentq does when its division yields inf or
+    NaN.
+    """
+    exponent = math.frexp(max(abs(fa), abs(fb), abs(fc)))[1]
+    fa, fb, fc = (math.ldexp(v, -exponent) for v in (fa, fb, fc))
+    if xa == xc:
+        return -fb * (xb - xa) / (fb - fa) if fb != fa else math.nan
+    slope_a = (fa - fb) / (xa - xb)
+    slope_c = (fc - fb) / (xc - xb)
+    denominator = slope_c * slope_a * (fc - fa)
+    if denominator == 0.0 or not math.isfinite(denominator):
+        return math.nan
+    return -fb * (fc * slope_c - fa * slope_a) / denominator
 
 
 # --------------------------------------------------------------------------- dispatch

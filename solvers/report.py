@@ -245,20 +245,27 @@ def _relative_last_step(run: Run) -> str:
     return "— (no step taken)"
 
 
+# Words for the codes of solvers.residual (the module returns codes, never prose).
+RESIDUAL_WORDS = {
+    "no_finite_root": "— (no finite root)",
+    "not_real": "not a real number there (outside the domain)",
+    "infinite": "infinite (a pole)",
+    "overflow": "beyond the double range",
+    "not_computable": "not computable at this precision",
+    "time_budget": "not computed (time budget exceeded)",
+}
+
+
 def _residual_mp(equation: Any, x: float) -> str:
     """f(root) evaluated by the equation's own 50-digit mpmath evaluation."""
-    if not math.isfinite(x):
-        return "— (no finite root)"
     import mpmath
 
-    try:
-        value = equation.residual_mp(x, dps=RESIDUAL_DIGITS)
-    except Exception as exc:  # a domain error at 50 digits is reported, not raised
-        return f"not evaluated ({type(exc).__name__})"
-    try:
-        return mpmath.nstr(value, 12)
-    except Exception:
-        return str(value)
+    from solvers.residual import residual_mp
+
+    result = residual_mp(equation, x, digits=RESIDUAL_DIGITS)
+    if result.value is None:
+        return RESIDUAL_WORDS.get(result.code, result.code)
+    return mpmath.nstr(result.value, 12)
 
 
 def _worksheet_identity(

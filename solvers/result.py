@@ -34,6 +34,7 @@ MAX_ITERATIONS = "max_iterations"
 ZERO_DERIVATIVE = "zero_derivative"
 NOT_FINITE = "not_finite"
 NO_SIGN_CHANGE = "no_sign_change"
+DISCONTINUITY = "discontinuity"
 
 REASONS: tuple[str, ...] = (
     X_TOLERANCE,
@@ -43,6 +44,7 @@ REASONS: tuple[str, ...] = (
     ZERO_DERIVATIVE,
     NOT_FINITE,
     NO_SIGN_CHANGE,
+    DISCONTINUITY,
 )
 CONVERGED_REASONS = frozenset({X_TOLERANCE, F_TOLERANCE, EXACT_ZERO})
 
@@ -53,8 +55,10 @@ REASON_TEXT: dict[str, str] = {
     EXACT_ZERO: "f(x) is exactly zero",
     MAX_ITERATIONS: "iteration cap reached before the tolerances were met",
     ZERO_DERIVATIVE: "derivative zero or vanishing: Newton step undefined",
-    NOT_FINITE: "f or x became infinite or NaN (domain error or overflow)",
+    NOT_FINITE: "f or x became infinite or NaN (domain error or overflow), or f underflowed to 0",
     NO_SIGN_CHANGE: "f has the same sign at both bracket ends",
+    DISCONTINUITY: "the bracket closed on a jump of f, not a root: f changes sign there "
+    "without passing through zero",
 }
 
 
@@ -152,7 +156,8 @@ def observed_order(run: Run) -> float | None:
     needed. Errors measured against the final iterate instead would be biased
     upwards for slow linear convergence (ratio 0.9 reads as p ~ 1.6).
     Trailing steps at rounding level (at most 1e3 ulps of the root) are dropped,
-    since an order computed from rounding noise would mislead. Returns ``None``
+    since an order computed from rounding noise would mislead; so are a bracketing
+    method's trailing steps of half its tolerance (checks, not its rate). Returns ``None``
     when fewer than three usable steps remain, when they do not shrink strictly
     (a run that is not converging has no order), or when the estimate is below
     ``MIN_OBSERVED_ORDER`` (0.8) or above ``MAX_OBSERVED_ORDER`` (3.5): no converging
@@ -166,6 +171,11 @@ def observed_order(run: Run) -> float | None:
     if not run.steps or not math.isfinite(run.root):
         return None
     floor = 1e3 * math.ulp(run.root)
+    if "bracket" in run.settings:
+        # A bracketing method's steps of half the tolerance are checks (Brent's shortest
+        # step, false position's sign check beside its estimate), not its rate.
+        tolerance = run.settings.get("xtol", 0.0) + run.settings.get("rtol", 0.0) * abs(run.root)
+        floor = max(floor, 0.5 * tolerance + 4.0 * math.ulp(run.root))  # dx is rounded
     sizes = [abs(s.dx) for s in run.steps if s.dx is not None and math.isfinite(s.dx)]
     while sizes and sizes[-1] <= floor:
         sizes.pop()

@@ -1,0 +1,463 @@
+"""A converged result is always a root: underflow, jumps, scaled and noisy f.
+
+Every check names its outside reference: scipy's own root-finding test collections
+(``scipy.optimize._tstutils``: the Chandrupatla set, the APS set and the "original"
+discontinuous and random-valued cases), scipy.optimize.brentq, closed forms, mpmath,
+and IEEE 754-2019 for signed zeros.
+"""
+
+from __future__ import annotations
+
+import math
+import random
+import struct
+
+import mpmath
+import numpy as np
+import pytest
+from scipy.optimize import _tstutils as tstutils
+from scipy.optimize import brentq
+
+from solvers import parse_equation
+from solvers.methods import (
+    DEFAULT_RTOL,
+    DEFAULT_XTOL,
+    METHODS,
+    bisection,
+    brent,
+    false_position,
+    illinois,
+    newton,
+    run_method,
+    secant,
+)
+from solvers.residual import CODES, Residual, residual_mp
+from solvers.result import CONVERGED_REASONS, REASON_TEXT, REASONS
+
+BRACKETING = (bisection, false_position, illinois, brent)
+
+
+def tolerance(x: float) -> float:
+    return DEFAULT_XTOL + DEFAULT_RTOL * abs(x)
+
+
+def run_every_method(f, bracket, x0, x1):
+    """One Run per method of the METHODS table, from the same start values."""
+    return [run_method(name, f, x0=x0, x1=x1, bracket=bracket) for name in METHODS]
+
+
+def assert_record(run) -> None:
+    assert run.reason in REASONS
+    assert run.converged == (run.reason in CONVERGED_REASONS)
+
+
+def sign_change_within_tolerance(f, x: float) -> bool:
+    """f changes sign (or is zero) within tolerance of x."""
+    h = tolerance(x)
+    lo, hi = f(x - h), f(x + h)
+    return f(x) == 0.0 or lo == 0.0 or hi == 0.0 or (lo < 0.0) != (hi < 0.0)
+
+
+# ------------------------------------------------------------ Brent: scale-free interpolation
+
+X19_CASES = [c for c in tstutils.get_tests("chandrupatla") if c["ID"].startswith("fun6")]
+
+
+def test_the_chandrupatla_set_has_the_five_x19_brackets():
+    # scipy.optimize._tstutils, Chandrupatla collection: fun6(x) = x**19, root 0
+    assert len(X19_CASES) == 5
+    assert all(case["f"](2.0) == 2.0**19 and case["root"] == 0 for case in X19_CASES)
+
+
+@pytest.mark.parametrize("case", X19_CASES, ids=lambda c: c["ID"])
+def test_brent_on_x19_never_raises_and_converges_like_brentq(case):
+    a, b = case["bracket"]
+    f = case["f"]
+    run = brent(f, a, b)  # default cap: converged at the root, or an honest max_iterations
+    assert_record(run)
+    assert run.reason in ("x_tolerance", "exact_zero", "max_iterations")
+    if run.converged:
+        assert abs(run.root) <= tolerance(0.0)
+    # scipy.optimize.brentq with the same tolerances and a cap of 1000 converges to 0
+    # (closed form: the only root of x**19); so does Brent here, with no more calls.
+    reference, info = brentq(f, a, b, xtol=DEFAULT_XTOL, rtol=DEFAULT_RTOL, maxiter=1000,
+                             full_output=True)
+    long_run = brent(f, a, b, max_iter=1000)
+    assert long_run.converged and abs(long_run.root) <= tolerance(0.0)
+    assert abs(reference) <= tolerance(0.0)
+    assert long_run.evaluations <= info.function_calls
+
+
+def test_brent_on_a_cubic_scaled_to_1e_minus_110():
+    # scipy _tstutils fun1 = x**3 - 2x - 5, root 2.0945514815423265 (mpmath, per scipy);
+    # scaled by 1e-110 the interpolation once divided by an underflowed product.
+    root = tstutils.get_tests("chandrupatla")[0]["root"]
+    run = brent(lambda x: 1e-110 * (x**3 - 2.0 * x - 5.0), 0.0, 3.0)
+    assert run.converged and abs(run.root - root) <= 2 * tolerance(root)
+    unscaled = brent(lambda x: x**3 - 2.0 * x - 5.0, 0.0, 3.0)
+    assert unscaled.evaluations == run.evaluations  # f*1e-110 interpolates as f does
+    reference = brentq(lambda x: 1e-110 * (x**3 - 2.0 * x - 5.0), 0.0, 3.0,
+                       xtol=DEFAULT_XTOL, rtol=DEFAULT_RTOL)
+    assert abs(run.root - reference) <= 2 * tolerance(root)
+
+
+def test_brent_takes_the_same_steps_for_f_times_any_power_of_two():
+    # Scaling by 2**k is exact in binary floating point, so a scale-free method must
+    # take bit-identical steps (closed-form argument, no outside value needed).
+    def f(x):
+        return math.cos(x) - x
+
+    base = [s.x for s in brent(f, 0.0, 1.0).steps]
+    for k in (-1000, -300, -60, 7, 300, 1000):
+        scaled = [s.x for s in brent(lambda x, k=k: math.ldexp(f(x), k), 0.0, 1.0).steps]
+        assert scaled == base, k
+
+
+SCALES = range(-320, 301)
+CUBIC_ROOT = 2.0945514815423265  # scipy _tstutils fun1.root (mpmath)
+
+
+def _scaled_cubic(k: int):
+    # 10.0**k underflows to 0 below 1e-323; build the subnormal scale in two steps.
+    scale = 10.0**k if k > -300 else 10.0 ** (k + 20) * 1e-20
+    return lambda x: scale * (x**3 - 2.0 * x - 5.0)
+
+
+def test_every_method_on_f_times_ten_to_the_k_for_k_from_minus_320_to_300():
+    # f*10^k has the roots of f (closed form). With |f| still above underflow near the
+    # root every method converges there; further down, where f*10^k is 0.0 over a
+    # stretch around the root wider than the tolerance, no method may call a point of
+    # that stretch a root.
+    for k in SCALES:
+        f = _scaled_cubic(k)
+        for run in run_every_method(f, (0.0, 3.0), 2.5, 2.6):
+            assert_record(run)
+            if run.converged:
+                assert abs(run.root - CUBIC_ROOT) <= 2 * tolerance(CUBIC_ROOT), (k, run.message)
+            if -290 <= k:
+                assert run.converged, (k, run.message)
+
+
+# ------------------------------------------------------------------ underflow is not a zero
+
+LN2 = math.log(2.0)  # closed form: exp(-x) = 2*exp(-2x)  <=>  exp(x) = 2
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_underflow_at_a_bracket_end_is_not_a_root(method):
+    equation = parse_equation("exp(-x) = 2*exp(-2*x)")
+    assert equation.f(800.0) == 0.0  # both terms underflow: exp(-800) < 5e-324
+    run = method(equation.f, 0.0, 800.0)
+    assert_record(run)
+    assert run.root != 800.0
+    if run.converged:
+        assert abs(run.root - LN2) <= 2 * tolerance(LN2)
+    else:  # plain false position creeps along the flat tail: it may run out of iterations
+        assert method is false_position and run.reason == "max_iterations"
+
+
+def test_all_methods_agree_on_ln2_not_on_800():
+    f = parse_equation("exp(-x) = 2*exp(-2*x)").f
+    converged = [r for r in run_every_method(f, (0.0, 800.0), 400.0, 400.5) if r.converged]
+    assert {r.method for r in converged} >= {"bisection", "illinois", "brent"}
+    assert all(abs(r.root - LN2) <= 2 * tolerance(LN2) for r in converged)
+
+
+@pytest.mark.parametrize("start", [760.0, 1000.0])
+def test_open_methods_stop_on_an_underflowed_zero(start):
+    f = parse_equation("exp(-x) = 2*exp(-2*x)").f
+    for run in (newton(f, start), secant(f, start, start + 1.0)):
+        assert_record(run)
+        assert not run.converged and run.reason == "not_finite"
+        assert "underflow" in run.message
+
+
+@pytest.mark.parametrize("case", [c for c in tstutils.get_tests("chandrupatla")
+                                  if c["ID"].startswith("fun7")], ids=lambda c: c["ID"])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_function_zero_by_underflow_around_its_root_is_never_converged(case, method):
+    # scipy _tstutils fun7 = x*exp(-x**-2) (0 for |x| < 3.8e-4), root 0: it is 0.0 in
+    # doubles for all |x| < 1/sqrt(ln(DBL_MAX)) ~ 0.0375, and scipy's brentq returns a
+    # point of that stretch as its root.
+    f = case["f"]
+    a, b = case["bracket"]
+    claimed = brentq(f, a, b)
+    assert f(claimed) == 0.0 and claimed != 0.0
+    run = method(f, a, b)
+    assert_record(run)
+    if run.converged:
+        assert run.root == 0.0  # the one true root, hit exactly
+    else:
+        assert run.reason in ("not_finite", "max_iterations")
+
+
+def test_an_exact_zero_is_still_an_exact_zero():
+    # closed forms: x - 1 at 1; x**2 - 4 at 2; sqrt(x) at 0 (f undefined left of 0)
+    assert bisection(lambda x: x - 1.0, 0.0, 2.0).reason == "exact_zero"
+    assert newton(lambda x: x * x - 4.0, 2.0).reason == "exact_zero"
+    run = brent(lambda x: math.sqrt(x) if x >= 0 else math.nan, 0.0, 1.0)
+    assert run.reason == "exact_zero" and run.root == 0.0
+
+
+# -------------------------------------------------------------------------- jumps and poles
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_bracket_closing_on_a_jump_is_a_discontinuity(method):
+    # x/|x| + x is -1 + x left of 0 and 1 + x right of it: |f| >= 1 except at 0, where
+    # it is undefined (closed form). The sign change on [-1, 2] is a jump, not a root.
+    equation = parse_equation("x/abs(x) + x")
+    run = method(equation.f, -1.0, 2.0)
+    assert_record(run)
+    assert not run.converged and run.reason == "discontinuity"
+    assert abs(run.root) <= tolerance(0.0)
+    assert "jump" in run.message
+
+
+@pytest.mark.parametrize("name, honest", [("f4", ("discontinuity",)),
+                                          ("f5", ("not_finite", "discontinuity"))])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_scipy_discontinuous_cases_converge_only_on_the_defined_zero(name, honest, method):
+    # scipy _tstutils "original" set: f4 jumps at 1, f5 = 1/(1 - x) has its pole there;
+    # both are defined as 0 at x = 1 itself. A pole may stay not_finite.
+    f = getattr(tstutils, name)
+    run = method(f, 0.5, math.sqrt(3.0))
+    assert_record(run)
+    if run.converged:
+        assert run.root == 1.0 and f(run.root) == 0.0
+    else:
+        assert run.reason in honest and abs(run.root - 1.0) <= tolerance(1.0)
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_pole_is_never_a_root(method):
+    # tan has a pole at pi/2 (closed form) with a sign change across it
+    run = method(math.tan, 1.0, 2.0)
+    assert_record(run)
+    assert not run.converged  # plain false position runs out of iterations beside it
+    assert run.reason in ("not_finite", "discontinuity", "max_iterations")
+
+
+@pytest.mark.parametrize("p", [1.0 / 3.0, 1.0 / 19.0])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_steep_continuous_root_is_not_taken_for_a_jump(method, p):
+    # sign(x)*|x|**p has its root at 0 (closed form) with an infinite slope there
+    def f(x):
+        return math.copysign(abs(x) ** p, x)
+
+    run = method(f, -1.0, 2.0, max_iter=200)
+    assert_record(run)
+    assert run.reason != "discontinuity"
+    if run.converged:
+        assert abs(run.root) <= tolerance(0.0)
+
+
+# ----------------------------------------------------------------- noisy and random values
+
+
+def _random_valued(seed: int):
+    """scipy _tstutils f6: a random value, positive right of 1, negative left of it, 0 at
+    1; memoized so that f is a function. Our own seeded copy of its rule."""
+    rng = random.Random(seed)
+    cache: dict[float, float] = {}
+
+    def f(x: float) -> float:
+        if x not in cache:
+            cache[x] = rng.random() if x > 1 else -rng.random() if x < 1 else 0.0
+        return cache[x]
+
+    return f
+
+
+@pytest.mark.parametrize("seed", range(12))
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_random_values_never_give_a_false_x_tolerance(method, seed):
+    # scipy _tstutils f6 on its bracket [0.5, sqrt(3)]: the only sign change is at 1.
+    f = _random_valued(seed)
+    run = method(f, 0.5, math.sqrt(3.0))
+    assert_record(run)
+    if run.converged:
+        assert abs(run.root - 1.0) <= tolerance(1.0), run.message
+
+
+def test_scipy_random_valued_case_itself():
+    f = tstutils.f6
+    tstutils._f6_cache.clear()
+    random.seed(20261202)
+    for method in BRACKETING:
+        run = method(f, 0.5, math.sqrt(3.0))
+        assert_record(run)
+        if run.converged:
+            assert abs(run.root - 1.0) <= tolerance(1.0), (method.__name__, run.message)
+
+
+# ------------------------------------------------------------------------- property test
+
+
+def _noise(x: float, seed: int) -> float:
+    """A fixed pseudo-random value in [-1, 1] for each double x (f stays a function)."""
+    bits = struct.unpack("<Q", struct.pack("<d", x))[0] ^ (seed * 0x9E3779B97F4A7C15)
+    bits = (bits * 0xBF58476D1CE4E5B9) & 0xFFFFFFFFFFFFFFFF
+    bits ^= bits >> 31
+    return (bits / 2.0**64) * 2.0 - 1.0
+
+
+def _case(rng: np.random.Generator):
+    root = float(rng.uniform(-10.0, 10.0))
+    scale = 10.0 ** float(rng.uniform(-300.0, 300.0))
+    curvature = float(rng.uniform(-0.5, 0.5))
+    noise = 10.0 ** float(rng.uniform(-16.0, -2.0)) * float(rng.integers(0, 2))
+    jump = float(rng.integers(0, 4)) == 0
+    seed = int(rng.integers(1, 2**31))
+
+    def f(x: float) -> float:
+        d = x - root
+        body = (math.copysign(1.0, d) if jump and d != 0.0 else 0.0) + d * (1.0 + curvature * d * d)
+        return scale * (body + noise * _noise(x, seed))
+
+    left = root - float(rng.uniform(0.1, 20.0))
+    right = root + float(rng.uniform(0.1, 20.0))
+    return f, root, scale, noise, jump, (left, right)
+
+
+def test_property_no_method_claims_a_false_root_on_scaled_noisy_or_jumping_f():
+    # Our own generator (numpy, seeded): f = s*(sign jump? + d*(1 + c*d^2) + noise),
+    # d = x - root, over a bracket around the root. Converged must mean a small |f|
+    # relative to f's scale, or a sign change within tolerance; never at a jump.
+    rng = np.random.default_rng(20261202)
+    for _ in range(400):
+        f, root, scale, noise, jump, bracket = _case(rng)
+        x0 = bracket[0] + 0.6 * (bracket[1] - bracket[0])
+        for run in run_every_method(f, bracket, x0, x0 + 0.01):
+            assert_record(run)
+            if not run.converged:
+                continue
+            x = run.root
+            small = abs(f(x)) <= scale * (1e3 * noise + 1e-9)
+            assert small or sign_change_within_tolerance(f, x), (run.method, run.message)
+            if jump and abs(x - root) <= 1e-6 * (1.0 + abs(root)):
+                # beside the jump |f| >= scale*(1 - noise): only x == root has f ~ 0
+                assert x == root, (run.method, run.message)
+
+
+# ----------------------------------------------------------------- one evaluation path
+
+
+@pytest.mark.parametrize("text", ["atan2(x, max(-x, x)) + 1", "atan2(x, min(-x, x)) + 1",
+                                  "atan2(-x, max(x, -x, -x))", "atan2(1, min(x, -x))",
+                                  "max(x, -x) - min(-x, x)"])
+@pytest.mark.parametrize("x", [0.0, -0.0, 1.5, -2.0])
+def test_scalar_and_array_evaluation_agree_at_signed_zeros(text, x):
+    # IEEE 754-2019 maximum/minimum: -0 < +0, whatever the order of the arguments;
+    # math.atan2 and numpy.arctan2 follow C's atan2 on signed zeros.
+    f = parse_equation(text).f
+    scalar, array = f(x), f(np.array([x]))[0]
+    assert struct.pack("<d", scalar) == struct.pack("<d", array), (scalar, array)
+
+
+def test_the_issue_case_gives_one_value_at_zero():
+    f = parse_equation("atan2(x, max(-x, x)) + 1").f
+    # max(-0, +0) is +0 (IEEE 754-2019), atan2(+0, +0) = +0 (C99 Annex F): f(0) = 1
+    assert f(0.0) == 1.0 and f(np.array([0.0]))[0] == 1.0
+
+
+# ---------------------------------------------------------------- the 50-digit residual
+
+
+def test_residual_matches_mpmath_at_a_root():
+    equation = parse_equation("x^2 - 2")
+    x = math.sqrt(2.0)
+    result = residual_mp(equation, x)
+    assert result.code == "computed"
+    with mpmath.workdps(50):  # reference: mpmath, same double x
+        expected = mpmath.mpf(x) ** 2 - 2
+        assert abs(result.value - expected) <= mpmath.mpf(10) ** -45
+
+
+@pytest.mark.parametrize("text, x", [
+    ("exp(-cosh(sinh(cosh(sinh(5*x))))) = 0.05", 0.5),
+    ("exp(-cosh(sinh(cosh(sinh(5*x))))) = 0.05", 3.0),
+    ("exp(exp(exp(x)))", 10.0),
+    ("exp(exp(exp(exp(x)))) - 1", 6.0),
+    ("x^(10^6)", 2.0),
+    ("sqrt(x)", -1.0),
+    ("1/x", 0.0),
+    ("x/abs(x) + x", 0.0),
+    ("x", math.inf),
+    ("x", math.nan),
+])
+def test_residual_never_raises_on_accepted_equations(text, x):
+    result = residual_mp(parse_equation(text), x)
+    assert isinstance(result, Residual) and result.code in CODES
+    assert (result.value is None) == (result.code != "computed")
+
+
+class _Hostile:
+    def __init__(self, exc: BaseException | None) -> None:
+        self.exc = exc
+
+    def residual_mp(self, x, dps=50):
+        if self.exc is None:
+            while True:  # Python calls forever: only the time budget stops it
+                abs(x)
+                math.fabs(x)
+                _ = [y for y in range(3)]
+        raise self.exc
+
+
+@pytest.mark.parametrize("exc", [TypeError("no mpf"), AttributeError("mpc"), MemoryError(),
+                                 OverflowError("too many digits in integer"), RecursionError()])
+def test_residual_turns_every_failure_into_a_code(exc):
+    assert residual_mp(_Hostile(exc), 1.0) == Residual(None, "not_computable")
+
+
+def test_residual_stays_within_its_time_budget():
+    assert residual_mp(_Hostile(None), 1.0, budget=0.05) == Residual(None, "time_budget")
+
+
+def test_report_words_cover_every_residual_code():
+    from solvers.report import RESIDUAL_WORDS, _residual_mp
+
+    assert set(CODES) - {"computed"} <= set(RESIDUAL_WORDS)
+    assert _residual_mp(_Hostile(MemoryError()), 1.0) == RESIDUAL_WORDS["not_computable"]
+    assert _residual_mp(parse_equation("x - 0.5"), 0.5) == "0.0"
+
+
+# --------------------------------------------------------------------- words for people
+
+
+def test_every_reason_has_words_and_discontinuity_is_one():
+    assert "discontinuity" in REASONS and "discontinuity" not in CONVERGED_REASONS
+    assert set(REASONS) == set(REASON_TEXT)
+    assert "jump" in REASON_TEXT["discontinuity"]
+
+
+def test_cli_says_the_bracket_closed_on_a_jump(capsys):
+    from app.cli import main
+
+    code = main(["solve", "x/abs(x) + x", "--method", "bisection", "--method", "brent",
+                 "--bracket", "-1", "2"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    assert "discontinuity" in out and "jump" in out
+    code = main(["solve", "x/abs(x) + x", "--method", "brent", "--bracket", "-1", "2",
+                 "--json"])
+    out, _ = capsys.readouterr()
+    assert code == 0 and '"reason": "discontinuity"' in out and '"converged": false' in out
+
+
+def test_cli_x19_and_scaled_cubic_no_longer_fail(capsys):
+    from app.cli import main
+
+    for argv in (["solve", "x^19", "--method", "brent", "--bracket", "-1", "4"],
+                 ["solve", "1e-110*(x^3 - 2x - 5)", "--method", "brent", "--bracket", "0", "3"]):
+        assert main(argv) == 0, capsys.readouterr().err
+
+
+def test_window_lane_states_the_discontinuity_in_words():
+    pytest.importorskip("PySide6")
+    from app.window.lanes import verdict_text
+
+    run = brent(parse_equation("x/abs(x) + x").f, -1.0, 2.0)
+    text = verdict_text(run)
+    assert "FAILED" in text and REASON_TEXT["discontinuity"] in text
