@@ -448,7 +448,8 @@ def test_ctrl_return_while_typing_a_parameter_value_solves_with_that_value(qtbot
 def test_a_start_value_picked_on_the_plot_carries_no_false_precision(qtbot, window):
     """Shift+click at x = 2.5 on a plot of [0, 4] set x0 = 2.50137362637362... (17 figures
     for a pick one pixel wide). The pick is rounded to the plot's resolution."""
-    from matplotlib.backend_bases import MouseEvent
+    from PySide6.QtCore import QPoint
+    from PySide6.QtTest import QTest
 
     type_equation(qtbot, window, "x^3 - 2*x - 5")
     window.inputs.set_field("from", 0.0)
@@ -458,8 +459,10 @@ def test_a_start_value_picked_on_the_plot_carries_no_false_precision(qtbot, wind
     canvas.draw()
     ax = window.plot.ax
     px, py = ax.transData.transform((2.50137362637, 0.0))
-    MouseEvent("button_press_event", canvas, px, py, button=1, key="shift")._process()
-    MouseEvent("button_release_event", canvas, px, py, button=1, key="shift")._process()
+    ratio = canvas.device_pixel_ratio or 1.0  # a real Shift+click on the canvas widget
+    where = QPoint(round(px / ratio), round((canvas.figure.bbox.height - py) / ratio))
+    QTest.mouseClick(canvas, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.ShiftModifier,
+                     where)
     x0 = window.inputs.fields["x0"].value()
     assert x0 == pytest.approx(2.5, abs=0.02)
     assert len(repr(x0)) <= 6, x0  # e.g. 2.501: a thousandth of the 4-unit span
