@@ -192,18 +192,23 @@ class LanesPanel(QWidget):
         self.set_methods(("newton", "secant", "false_position"))
 
     def set_methods(self, methods: Sequence[str]) -> None:
+        """One lane per method, in this order; a lane kept keeps its run."""
         if list(methods) == list(self.lanes):
             return
-        for lane in self.lanes.values():
+        old = self.lanes
+        for lane in old.values():
             self._row.removeWidget(lane)
-            lane.deleteLater()
         self.lanes = {}
         for name in methods:
-            lane = MethodLane(name)
-            lane.set_digits(self.digits.value())
-            lane.activated.connect(self.method_activated)
+            lane = old.pop(name, None)
+            if lane is None:
+                lane = MethodLane(name)
+                lane.set_digits(self.digits.value())
+                lane.activated.connect(self.method_activated)
             self._row.addWidget(lane, 1)
             self.lanes[name] = lane
+        for lane in old.values():
+            lane.deleteLater()
 
     def show_solution(self, solution: Any) -> None:
         self.set_methods([r.method for r in solution.runs])
@@ -222,12 +227,21 @@ class LanesPanel(QWidget):
         self.digits_changed.emit(value)
 
 
+def _names(methods: Sequence[str]) -> str:
+    labels = [method_label(m) for m in methods]
+    return labels[0] if len(labels) == 1 else ", ".join(labels[:-1]) + " and " + labels[-1]
+
+
 def agreement_text(solution: Any) -> str:
     runs = solution.runs
     converged = [r for r in runs if r.converged]
     failed = [method_label(r.method) for r in runs if not r.converged]
     digits = solution.agreement_digits
-    if digits is not None:
+    groups = solution.agreement.groups if hasattr(solution, "agreement") else ()
+    if len(groups) > 1:
+        found = "; ".join(f"{format_number(x, 8)} by {_names(methods)}" for x, methods in groups)
+        text = f"The converged methods found different roots: {found}."
+    elif digits is not None:
         text = (f"The {len(converged)} converged methods agree to {digits} significant "
                 f"figure{'s' if digits != 1 else ''}.")
     elif len(converged) == 1:
