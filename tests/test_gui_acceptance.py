@@ -56,7 +56,8 @@ def test_no_lane_column_is_cut_off_at_the_window_edge(qtbot, window):
                 table.itemDelegate().initStyleOption(option, index)
                 assert QFontMetrics(option.font).horizontalAdvance(option.text) <= \
                     option.rect.width(), (lane.method, option.text)
-                assert float(option.text) == pytest.approx(raw, rel=0.5), (option.text, raw)
+                shown = option.text.rstrip("…")  # '…': figures hidden
+                assert float(shown) == pytest.approx(raw, rel=0.5), (option.text, raw)
 
 
 def test_a_run_that_did_not_converge_never_shows_a_root(qtbot, window):
@@ -163,7 +164,7 @@ def test_the_roots_list_shows_x_residual_and_multiplicity_whole(qtbot, window):
             assert QFontMetrics(option.font).horizontalAdvance(option.text) <= \
                 option.rect.width(), option.text
             if raw:
-                assert float(option.text) == pytest.approx(raw, rel=0.5)
+                assert float(option.text.rstrip("…")) == pytest.approx(raw, rel=0.5)
 
 
 def test_a_long_scan_summary_is_readable_from_its_first_line(qtbot, window):

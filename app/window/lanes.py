@@ -5,7 +5,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Any
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import QEvent, Qt, Signal
 from PySide6.QtWidgets import (
     QFrame,
     QHBoxLayout,
@@ -84,16 +84,21 @@ class MethodLane(QFrame):
         self.table.setModel(self.model)
         # The columns share the lane's width: a column half past the edge shows only the
         # leading digits of a right-aligned number (5.465405906e-12 read as 5.4654). A
-        # number too long for its cell drops trailing digits instead, keeping its exponent.
+        # number too long for its cell drops trailing digits instead, keeping its exponent
+        # and ending in "…"; the user widens a column by dragging its divider, double-
+        # clicking it, or Ctrl+Shift+W (every column), and the table then scrolls sideways.
         self.delegate = FittedNumberDelegate(DEFAULT_DIGITS, self.table)
         self.table.setItemDelegate(self.delegate)
         header = self.table.horizontalHeader()
-        header.setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
-        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Fixed)
-        header.setStretchLastSection(False)  # all number columns stretch alike
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setStretchLastSection(False)
         header.setMinimumSectionSize(32)
         self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
-        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+        self.widened = False  # the user sized the columns: keep their widths
+        self._sizing = False
+        header.sectionResized.connect(self._on_section_resized)
+        self.table.viewport().installEventFilter(self)
         self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
                               "the selection as tab-separated text)")
         self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
@@ -120,11 +125,32 @@ class MethodLane(QFrame):
         self._refresh()
 
     def _size_columns(self) -> None:
-        # Only the iterate number has a width of its own; the number columns stretch
-        # (no cell is read to size them: resizeColumnsToContents was a third of the time
-        # from Solve to a full screen).
-        metrics = self.table.fontMetrics()
-        self.table.setColumnWidth(0, metrics.horizontalAdvance("8888") + 12)
+        # Only the iterate number has a width of its own; the number columns share the
+        # rest alike (no cell is read to size them: resizeColumnsToContents was a third
+        # of the time from Solve to a full screen). Widths the user set are kept.
+        if self.widened:
+            return
+        table = self.table
+        first = table.fontMetrics().horizontalAdvance("8888") + 12
+        shown = [c for c in range(1, self.model.columnCount()) if not table.isColumnHidden(c)]
+        room = table.viewport().width() - first
+        self._sizing = True
+        try:
+            table.setColumnWidth(0, first)
+            for i, c in enumerate(shown):
+                share = room // len(shown) + (1 if i < room % len(shown) else 0)
+                table.setColumnWidth(c, max(share, 32))
+        finally:
+            self._sizing = False
+
+    def _on_section_resized(self, _column: int, _old: int, _new: int) -> None:
+        if not self._sizing:
+            self.widened = True
+
+    def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
+        if watched is self.table.viewport() and event.type() == QEvent.Type.Resize:
+            self._size_columns()
+        return super().eventFilter(watched, event)
 
     def set_digits(self, digits: int) -> None:
         self._digits = digits
