@@ -56,7 +56,7 @@ def test_no_lane_column_is_cut_off_at_the_window_edge(qtbot, window):
                 table.itemDelegate().initStyleOption(option, index)
                 assert QFontMetrics(option.font).horizontalAdvance(option.text) <= \
                     option.rect.width(), (lane.method, option.text)
-                shown = option.text.rstrip("…")  # '…': figures hidden
+                shown = option.text.replace("…", "")  # '…': figures hidden
                 assert float(shown) == pytest.approx(raw, rel=0.5), (option.text, raw)
 
 
@@ -118,7 +118,7 @@ def test_a_number_too_long_for_its_field_is_shown_shortened_and_kept_exact(qtbot
         room = field.contentsRect().width() - 4
         assert field.fontMetrics().horizontalAdvance(field.text()) <= room, (key, field.text())
         if field.text():
-            shown = float(field.text())
+            shown = float(field.text().replace("…", ""))  # '…': figures hidden
             assert shown == pytest.approx(field.value(), rel=1e-2), (key, field.text())
     rtol = window.inputs.fields["rtol"]
     assert rtol.value() == 4 * np.finfo(float).eps
@@ -164,7 +164,7 @@ def test_the_roots_list_shows_x_residual_and_multiplicity_whole(qtbot, window):
             assert QFontMetrics(option.font).horizontalAdvance(option.text) <= \
                 option.rect.width(), option.text
             if raw:
-                assert float(option.text.rstrip("…")) == pytest.approx(raw, rel=0.5)
+                assert float(option.text.replace("…", "")) == pytest.approx(raw, rel=0.5)
 
 
 def test_a_long_scan_summary_is_readable_from_its_first_line(qtbot, window):

@@ -39,7 +39,8 @@ def fitted_text(value: float, digits: int, metrics: QFontMetrics, width: int) ->
         shorter = f"{value:.{d}g}"
         if shorter == full:
             continue  # no figure dropped yet: still too wide
-        text = shorter + HIDDEN_MARK
+        mantissa, e, exponent = shorter.partition("e")
+        text = mantissa + HIDDEN_MARK + e + exponent  # 9.188…e-05: the exponent stays last
         if metrics.horizontalAdvance(text) <= width:
             break
     return text
