@@ -77,14 +77,14 @@ START_FIELDS = (
 # On screen the rules are named in words; the file keys and CLI flags stay xtol, rtol,
 # ftol and max_iter (named in each tooltip, so a user can match screen, file and shell).
 RULE_FIELDS = (
-    FieldSpec("xtol", "step tolerance, absol&ute", "stop when |Δx| ≤ xtol + rtol·|x|: the "
+    FieldSpec("xtol", "step toleran&ce, absolute", "stop when |Δx| ≤ xtol + rtol·|x|: the "
               "absolute part, in units of the unknown (xtol in the worksheet, --xtol in "
               "the shell)", check=_nonneg),
     FieldSpec("rtol", "step tolerance, rela&tive", "the relative part of the step test, "
               "4 machine epsilons by default (rtol, --rtol)", check=_nonneg),
     FieldSpec("ftol", "residua&l tolerance", "stop when |f(x)| ≤ ftol; 0 is off, since the "
               "scale of f is yours (ftol, --ftol)", check=_nonneg),
-    FieldSpec("max_iter", "iteration &cap", "stop after this many iterates (max_iter, "
+    FieldSpec("max_iter", "&iteration cap", "stop after this many iterates (max_iter, "
               "--max-iter)", check=_iterations, integer=True),
     FieldSpec("damping", "&damping", "Newton–Raphson step multiplier λ in (0, 1]; "
               "1 is the plain method (damping, --damping)", check=_damping),
@@ -245,7 +245,7 @@ class InputsPanel(QWidget):
             box.setStyleSheet(f"QCheckBox {{ border-left: 4px solid {method_color(name)}; "
                               "padding-left: 3px; }")
             box.toggled.connect(self._on_methods)
-            methods_grid.addWidget(box, *divmod(i, 3))
+            methods_grid.addWidget(box, *divmod(i, 2))  # two columns fit the panel
             self.method_boxes[name] = box
         methods_grid.setContentsMargins(6, 4, 6, 4)
         methods_grid.setVerticalSpacing(2)

@@ -95,9 +95,6 @@ class MethodLane(QFrame):
         header.setMinimumSectionSize(32)
         self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
-        self.widened = False  # the user sized the columns: keep their widths
-        self._sizing = False
-        header.sectionResized.connect(self._on_section_resized)
         self.table.viewport().installEventFilter(self)
         self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
                               "the selection as tab-separated text)")
@@ -128,27 +125,20 @@ class MethodLane(QFrame):
         # Only the iterate number has a width of its own; the number columns share the
         # rest alike (no cell is read to size them: resizeColumnsToContents was a third
         # of the time from Solve to a full screen). Widths the user set are kept.
-        if self.widened:
-            return
         table = self.table
+        if table.user_sized:
+            return
         first = table.fontMetrics().horizontalAdvance("8888") + 12
         shown = [c for c in range(1, self.model.columnCount()) if not table.isColumnHidden(c)]
         room = table.viewport().width() - first
-        self._sizing = True
-        try:
-            table.setColumnWidth(0, first)
-            for i, c in enumerate(shown):
-                share = room // len(shown) + (1 if i < room % len(shown) else 0)
-                table.setColumnWidth(c, max(share, 32))
-        finally:
-            self._sizing = False
-
-    def _on_section_resized(self, _column: int, _old: int, _new: int) -> None:
-        if not self._sizing:
-            self.widened = True
+        table.setColumnWidth(0, first)
+        for i, c in enumerate(shown):
+            share = room // len(shown) + (1 if i < room % len(shown) else 0)
+            table.setColumnWidth(c, max(share, 32))
 
     def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
-        if watched is self.table.viewport() and event.type() == QEvent.Type.Resize:
+        if (watched is self.table.viewport() and event.type() == QEvent.Type.Resize
+                and event.size().width() != event.oldSize().width()):
             self._size_columns()
         return super().eventFilter(watched, event)
 

@@ -133,8 +133,22 @@ class CopyTableView(QTableView):
         self.fit_action = QAction("&Widen columns to show every figure", self)
         self.fit_action.setShortcut(QKeySequence("Ctrl+Shift+W"))
         self.fit_action.setShortcutContext(Qt.ShortcutContext.WidgetShortcut)
-        self.fit_action.triggered.connect(self.resizeColumnsToContents)
+        self.fit_action.triggered.connect(self.fit_columns)
+        # True once the user sizes a column (drag or double-click on a divider, or the
+        # action above); views that share their width among columns then leave them be.
+        self.user_sized = False
+        self.horizontalHeader().sectionResized.connect(self._on_section_resized)
         self.addAction(self.fit_action)
+
+    def fit_columns(self) -> None:
+        """Every column as wide as its widest cell at the figures asked for."""
+        self.user_sized = True
+        self.resizeColumnsToContents()
+
+    def _on_section_resized(self, _column: int, _old: int, _new: int) -> None:
+        # Only a resize made with the mouse on the header is the user's.
+        if QGuiApplication.mouseButtons() != Qt.MouseButton.NoButton:
+            self.user_sized = True
 
     def copy_selection(self) -> str:
         text = table_text(self, selection_only=True)
