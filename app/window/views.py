@@ -52,13 +52,23 @@ class FittedNumberDelegate(QStyledItemDelegate):
     def __init__(self, digits: int, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.digits = digits
+        self._shown: dict[tuple[str, int, int, str], str] = {}
 
     def initStyleOption(self, option: QStyleOptionViewItem, index: QModelIndex) -> None:  # noqa: N802
         super().initStyleOption(option, index)
         raw = index.data(Qt.ItemDataRole.UserRole)
         if isinstance(raw, float):
-            option.text = fitted_text(raw, self.digits, QFontMetrics(option.font),
-                                      option.rect.width() - CELL_PADDING)
+            # Remembered per value, figures, width and font: a repaint asks for the same
+            # few hundred cells again and again.
+            key = (repr(raw), self.digits, option.rect.width(), option.font.key())
+            text = self._shown.get(key)
+            if text is None:
+                if len(self._shown) > 20_000:
+                    self._shown.clear()
+                text = self._shown[key] = fitted_text(raw, self.digits,
+                                                      QFontMetrics(option.font),
+                                                      option.rect.width() - CELL_PADDING)
+            option.text = text
 
     def sizeHint(self, option: QStyleOptionViewItem, index: QModelIndex) -> QSize:  # noqa: N802
         """Room for every figure asked for (what "fit columns" and a double-click on the
