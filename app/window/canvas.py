@@ -64,11 +64,10 @@ def _navigator(canvas: Any) -> Any:
 
         def draw_rubberband(self, event: Any, x0: float, y0: float, x1: float,
                             y1: float) -> None:
-            # Figure pixels (origin bottom left) to widget pixels (origin top left).
+            # Figure pixels with the origin bottom left to top left (drawRectangle itself
+            # divides by the device pixel ratio).
             height = self.canvas.figure.bbox.height
-            ratio = self.canvas.device_pixel_ratio or 1.0
-            rect = [int(v / ratio) for v in (x0, height - y0, x1 - x0, y0 - y1)]
-            self.canvas.drawRectangle(rect)
+            self.canvas.drawRectangle([int(v) for v in (x0, height - y0, x1 - x0, y0 - y1)])
 
         def remove_rubberband(self) -> None:
             self.canvas.drawRectangle(None)

@@ -6,11 +6,13 @@ from collections.abc import Sequence
 from typing import Any
 
 from PySide6.QtCore import QEvent, Qt, Signal
+from PySide6.QtGui import QFontMetrics
 from PySide6.QtWidgets import (
     QFrame,
     QHBoxLayout,
     QHeaderView,
     QLabel,
+    QScrollArea,
     QSpinBox,
     QVBoxLayout,
     QWidget,
@@ -22,6 +24,7 @@ from solvers.figures import method_color, method_label, method_title
 from solvers.result import REASON_TEXT, Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
+LANE_WIDTH = 380  # pixels: room for the summary and four number columns at 6 figures
 OK_STYLE = "color: #1F5F3F; font-weight: bold;"
 
 
@@ -62,6 +65,7 @@ class MethodLane(QFrame):
         self.method = method
         self.setObjectName(f"lane_{method}")
         self.setFrameShape(QFrame.Shape.StyledPanel)
+        self.setMinimumWidth(LANE_WIDTH)
         color = method_color(method)
         self.title = QLabel(method_title(method))
         # Qt paints a one-sided border only when the rule names the widget and clears the
@@ -95,7 +99,9 @@ class MethodLane(QFrame):
         header.setMinimumSectionSize(32)
         self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+        self.table.setHorizontalScrollMode(CopyTableView.ScrollMode.ScrollPerPixel)
         self.table.viewport().installEventFilter(self)
+        self._cell_metrics = QFontMetrics(number_font())
         self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
                               "the selection as tab-separated text)")
         self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
@@ -131,10 +137,12 @@ class MethodLane(QFrame):
         first = table.fontMetrics().horizontalAdvance("8888") + 12
         shown = [c for c in range(1, self.model.columnCount()) if not table.isColumnHidden(c)]
         room = table.viewport().width() - first
+        # Never narrower than four figures and an exponent: the table scrolls instead.
+        least = self._cell_metrics.horizontalAdvance("-8.888…e-05") + 10
         table.setColumnWidth(0, first)
         for i, c in enumerate(shown):
             share = room // len(shown) + (1 if i < room % len(shown) else 0)
-            table.setColumnWidth(c, max(share, 32))
+            table.setColumnWidth(c, max(share, least))
 
     def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
         if (watched is self.table.viewport() and event.type() == QEvent.Type.Resize
@@ -197,13 +205,28 @@ class LanesPanel(QWidget):
         head.addWidget(self.agreement, 1)
         head.addWidget(digits_label)
         head.addWidget(self.digits)
-        self._row = QHBoxLayout()
+        # Lanes keep a readable width; more than fit side by side scroll sideways (six
+        # lanes squeezed into 1280 pixels showed "0.…" in every cell).
+        row_widget = QWidget()
+        self._row = QHBoxLayout(row_widget)
+        self._row.setContentsMargins(0, 0, 0, 0)
         self._row.setSpacing(6)
+        self.scroll = QScrollArea()
+        self.scroll.setObjectName("lanesScroll")
+        self.scroll.setWidget(row_widget)
+        self.scroll.setWidgetResizable(True)
+        self.scroll.setFrameShape(QFrame.Shape.NoFrame)
+        self.scroll.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.scroll.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        # The lanes are exactly as tall as the visible strip (the scroll area alone made
+        # them taller once its sideways scroll bar appeared, cutting off the tables' ends).
+        self._row_widget = row_widget
+        self.scroll.viewport().installEventFilter(self)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 2, 4, 2)
         layout.setSpacing(3)
         layout.addLayout(head)
-        layout.addLayout(self._row, 1)
+        layout.addWidget(self.scroll, 1)
         self.digits.valueChanged.connect(self._on_digits)
         self.set_methods(("newton", "secant", "false_position"))
 
@@ -226,11 +249,17 @@ class LanesPanel(QWidget):
         for lane in old.values():
             lane.deleteLater()
 
+    def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
+        if watched is self.scroll.viewport() and event.type() == QEvent.Type.Resize:
+            self._row_widget.setMaximumHeight(event.size().height())
+        return super().eventFilter(watched, event)
+
     def show_solution(self, solution: Any) -> None:
         self.set_methods([r.method for r in solution.runs])
         for run in solution.runs:
             self.lanes[run.method].set_run(run)
         self.agreement.setText(agreement_text(solution))
+        self.agreement.setToolTip(agreement_text(solution).replace("  ", "\n"))
         self.agreement.setStyleSheet("")
 
     def set_stale(self, stale: bool) -> None:
