@@ -378,3 +378,15 @@ def test_stopping_rules_are_named_in_words_and_saved_under_their_keys(qtbot, win
     qtbot.keyClick(window.strip.editor, Qt.Key.Key_S, Qt.KeyboardModifier.ControlModifier)
     saved = json.loads((tmp_path / "rules.json").read_text())["settings"]
     assert saved["xtol"] == 1e-9 and {"rtol", "ftol", "max_iter"} <= set(saved)
+
+
+def test_lanes_of_methods_no_longer_chosen_leave_the_screen_at_once(qtbot, window):
+    assert window.load_sample("cooling-water-friction.json")
+    settle(qtbot, window)
+    _click(qtbot, window.inputs.method_boxes["brent"])
+    brent = window.lanes.lanes["brent"]
+    qtbot.waitUntil(brent.isVisible)  # Qt shows a widget added to a layout on the next pass
+    assert window.load_sample("wall-conduction-eigenvalues.json")  # three methods again
+    assert tuple(window.lanes.lanes) == ("newton", "secant", "false_position")
+    assert not brent.isVisible()
+    assert window.inputs.methods() == ("newton", "secant", "false_position")

@@ -6,7 +6,6 @@ from collections.abc import Sequence
 from typing import Any
 
 from PySide6.QtCore import QEvent, Qt, Signal
-from PySide6.QtGui import QFontMetrics
 from PySide6.QtWidgets import (
     QFrame,
     QHBoxLayout,
@@ -24,7 +23,7 @@ from solvers.figures import method_color, method_label, method_title
 from solvers.result import REASON_TEXT, Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
-LANE_WIDTH = 380  # pixels: room for the summary and four number columns at 6 figures
+LANE_WIDTH = 380  # pixels: room for the summary and five number columns at 5 figures
 OK_STYLE = "color: #1F5F3F; font-weight: bold;"
 
 
@@ -101,7 +100,6 @@ class MethodLane(QFrame):
         self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
         self.table.setHorizontalScrollMode(CopyTableView.ScrollMode.ScrollPerPixel)
         self.table.viewport().installEventFilter(self)
-        self._cell_metrics = QFontMetrics(number_font())
         self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
                               "the selection as tab-separated text)")
         self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
@@ -137,12 +135,13 @@ class MethodLane(QFrame):
         first = table.fontMetrics().horizontalAdvance("8888") + 12
         shown = [c for c in range(1, self.model.columnCount()) if not table.isColumnHidden(c)]
         room = table.viewport().width() - first
-        # Never narrower than four figures and an exponent: the table scrolls instead.
-        least = self._cell_metrics.horizontalAdvance("-8.888…e-05") + 10
+        # Every column inside the lane (a column half past the edge shows the leading
+        # digits of a right-aligned number as if they were all); what does not fit is
+        # marked "…" in the cell, and the user widens the column to read it.
         table.setColumnWidth(0, first)
         for i, c in enumerate(shown):
             share = room // len(shown) + (1 if i < room % len(shown) else 0)
-            table.setColumnWidth(c, max(share, least))
+            table.setColumnWidth(c, max(share, 32))
 
     def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
         if (watched is self.table.viewport() and event.type() == QEvent.Type.Resize
@@ -247,6 +246,8 @@ class LanesPanel(QWidget):
             self._row.addWidget(lane, 1)
             self.lanes[name] = lane
         for lane in old.values():
+            lane.hide()  # off screen now, not when the event loop gets round to it
+            lane.setParent(None)
             lane.deleteLater()
 
     def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
