@@ -59,7 +59,8 @@ START_TEXT: dict[str, Callable[[tuple[float, ...]], str]] = {
     "x0_bracket_midpoint": lambda n: f"x0 = {n[0]:.6g}: the midpoint of the bracket",
     "x0_scan_midpoint": lambda n: f"x0 = {n[0]:.6g}: the midpoint of the scan range",
     "x0_default": lambda n: "x0 not given and no scan range: 1.0 used",
-    "x1_scan": lambda n: f"x1 = {n[0]:.6g}: the end of that sign change's cell nearest x0",
+    "x1_scan": lambda n: (f"x1 = {n[0]:.6g}: the end nearer x0 of the sign change "
+                          f"[{n[1]:.6g}, {n[2]:.6g}] a quick scan of the range found"),
     "x1_nudged": lambda n: f"x1 = {n[0]:.6g}: x0 nudged by 1e-4 (relative)",
     "bracket_scan_cell": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: the cell of the "
                                     "quick scan where f changes sign"),
@@ -251,7 +252,7 @@ def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues
             x1 = lo if abs(lo - x0) <= abs(hi - x0) else hi
             if x1 == x0:
                 x1 = hi if x1 == lo else lo
-            choices.append(StartChoice("x1_scan", (x1,)))
+            choices.append(StartChoice("x1_scan", (x1, lo, hi)))
         if bracket is None and "bracket" in kinds and lo != hi:
             bracket = (lo, hi)
             choices.append(StartChoice("bracket_scan_cell", (lo, hi)))
