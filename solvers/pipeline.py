@@ -176,8 +176,8 @@ def seed_scan(f: Callable, a: float, b: float, samples: int = SEED_SAMPLES) -> S
     """Sample f on [a, b] and keep every cell where it changes sign through a root.
 
     A sign change across a pole or a jump is not kept: at the estimate inside the cell
-    |f| must be under half its smaller value at the ends. Non-finite samples are skipped; never raises for what
-    f returns.
+    |f| must be under half its smaller value at the ends. Non-finite samples are skipped;
+    never raises for what f returns.
     """
     x = np.linspace(a, b, max(int(samples), 3))
     with np.errstate(all="ignore"):
