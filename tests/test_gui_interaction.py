@@ -390,3 +390,32 @@ def test_lanes_of_methods_no_longer_chosen_leave_the_screen_at_once(qtbot, windo
     assert tuple(window.lanes.lanes) == ("newton", "secant", "false_position")
     assert not brent.isVisible()
     assert window.inputs.methods() == ("newton", "secant", "false_position")
+
+
+def test_the_seed_scan_keeps_roots_and_drops_poles():
+    """x tan x = Bi (plane-wall conduction eigenvalues; here Bi = 0.9): on [0, 12] one
+    root on each branch of tan and sign changes across the poles at (k - 1/2)π (common
+    practice). Only the roots may seed a start; reference: scipy.optimize.brentq on each
+    branch (k-1)π .. (k-1/2)π."""
+    from scipy.optimize import brentq
+
+    from solvers import parse_equation, pipeline
+
+    eq = parse_equation("x*tan(x) = Bi", unknown="x", parameters={"Bi": 0.9})
+    seed = pipeline.seed_scan(eq.f, 0.0, 12.0)
+    branches = [((k - 1) * math.pi + 1e-9, (k - 0.5) * math.pi - 1e-9) for k in range(1, 5)]
+    reference = [brentq(eq.f, a, b, xtol=1e-14) for a, b in branches]
+    assert len(seed.cells) == 4
+    for (lo, hi, guess), root in zip(seed.cells, reference, strict=True):
+        assert lo <= root <= hi and abs(guess - root) < (hi - lo)
+
+
+def test_a_worksheet_listing_a_method_twice_is_refused_by_name():
+    import json
+
+    from solvers import worksheet
+
+    text = json.dumps({"format": "zerotrace-worksheet", "version": 1, "equation": "x^2 - 2",
+                       "settings": {"methods": ["brent", "newton", "brent"]}})
+    with pytest.raises(worksheet.WorksheetError, match=r"settings\.methods\[2\].*twice"):
+        worksheet.loads(text)
