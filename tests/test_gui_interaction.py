@@ -419,3 +419,17 @@ def test_a_worksheet_listing_a_method_twice_is_refused_by_name():
                        "settings": {"methods": ["brent", "newton", "brent"]}})
     with pytest.raises(worksheet.WorksheetError, match=r"settings\.methods\[2\].*twice"):
         worksheet.loads(text)
+
+
+def test_a_design_value_taken_from_one_of_two_different_roots_says_so(qtbot, window):
+    type_equation(qtbot, window, "x^2 - 2")
+    for key, value in (("x0", "1"), ("x1", "-1.1"), ("a", "0"), ("b", "3")):
+        field = window.inputs.fields[key]
+        field.setFocus()
+        field.selectAll()
+        qtbot.keyClicks(field, value)
+    solve_and_wait(qtbot, window)
+    window.strip.editor.setFocus()
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_D, Qt.KeyboardModifier.ControlModifier)
+    reason = window.worksheet().selection.reason
+    assert "different roots" in reason and "None" not in reason, reason

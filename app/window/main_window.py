@@ -675,8 +675,8 @@ class MainWindow(QMainWindow):
                 self._solve_key == self._key(self.solve_worksheet()):
             run = self.solution.converged_runs[0]
             x = run.root
-            reason = (f"converged root of {figures.method_label(run.method)}; "
-                      f"methods agree to {self.solution.agreement_digits} significant figures")
+            reason = f"converged root of {figures.method_label(run.method)}; " + \
+                _agreement_words(self.solution)
         else:
             self._report("Nothing to take: select a root of the scan, or solve first")
             return False
@@ -1049,6 +1049,17 @@ def _scan_job(ws: Worksheet, progress: Any, cancel: Any) -> tuple[Any, Any, Any]
     scan = pipeline.scan_worksheet(ws, equation, progress=progress, cancel=cancel)
     breaks = list(scan.poles) + list(getattr(scan, "discontinuities", []) or [])
     return scan, equation, figures.curve(equation.f, scan.a, scan.b, breaks=breaks)
+
+
+def _agreement_words(solution: Any) -> str:
+    """How the converged methods compare, for the design value's reason."""
+    groups = solution.agreement.groups
+    if len(groups) > 1:
+        return "the methods converged to different roots: " + ", ".join(
+            f"{_num(x)} ({', '.join(figures.method_label(m) for m in ms)})" for x, ms in groups)
+    if solution.agreement_digits is None:
+        return "no other method converged to cross-check it"
+    return f"methods agree to {solution.agreement_digits} significant figures"
 
 
 def _as_saved(ws: Worksheet) -> str:
