@@ -15,7 +15,7 @@ from PySide6.QtCore import QPoint, Qt
 from PySide6.QtTest import QTest
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import settle, solve_and_wait, type_equation  # noqa: E402
+from gui_helpers import settle, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
@@ -25,11 +25,30 @@ LEFT = Qt.MouseButton.LeftButton
 RIGHT = Qt.MouseButton.RightButton
 
 
+def _type(qtbot, field, text: str) -> None:
+    """Replace a field's text the way a user does: focus, select all, type."""
+    field.setFocus()
+    field.selectAll()
+    if text:
+        qtbot.keyClicks(field, text)
+    else:
+        qtbot.keyClick(field, Qt.Key.Key_Delete)
+
+
+def _solve(qtbot, window):
+    """Ctrl+Return, then wait for the answer on screen."""
+    before = window.solution
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.solution is not None and window.solution is not before
+                    and not window.runner.is_busy("solve"), timeout=20_000)
+    return window.solution
+
+
 def _plot_on_range(qtbot, window, text: str, a: float, b: float):
     type_equation(qtbot, window, text)
-    window.inputs.set_field("from", a)
-    window.inputs.set_field("to", b)
-    solve_and_wait(qtbot, window)
+    _type(qtbot, window.inputs.fields["from"], repr(a))
+    _type(qtbot, window.inputs.fields["to"], repr(b))
+    _solve(qtbot, window)
     canvas = window.plot.function_view.canvas
     canvas.draw()
     return canvas, window.plot.ax
@@ -65,7 +84,7 @@ def test_shift_click_right_click_and_drag_on_the_canvas_set_the_start_values(qtb
     assert fields["x0"].value() == pytest.approx(2.5, abs=0.02)
     # And the picks are used: Solve from them finds the root in [1, 3], which is
     # (3 + sqrt 5)/2 ≈ 2.618 (quadratic formula, common practice).
-    solution = solve_and_wait(qtbot, window)
+    solution = _solve(qtbot, window)
     assert solution.start.x0 == fields["x0"].value()
     assert solution.start.bracket == (fields["a"].value(), fields["b"].value())
     fp = next(r for r in solution.runs if r.method == "false_position")
@@ -118,7 +137,7 @@ def test_each_solve_updates_the_kept_axes_instead_of_building_a_new_one(qtbot, w
     canvas, ax = _plot_on_range(qtbot, window, "x^2 - 3*x + 1", 0.0, 4.0)
     line = window.plot._kept["line"]
     type_equation(qtbot, window, "x^2 - 3*x + 2")
-    solve_and_wait(qtbot, window)
+    _solve(qtbot, window)
     assert window.plot.ax is ax and window.plot._kept["line"] is line
     # The kept line carries the new curve: f(0) = 2 now (it was 1).
     x, y = line.get_data()
@@ -155,7 +174,7 @@ def test_any_of_the_six_methods_can_be_chosen_and_the_choice_is_saved(qtbot, win
     assert window.inputs.methods() == chosen
     assert tuple(window.lanes.lanes) == chosen  # the lanes follow at once
     assert window.isWindowModified()
-    solution = solve_and_wait(qtbot, window)
+    solution = _solve(qtbot, window)
     assert tuple(r.method for r in solution.runs) == chosen
     # Reference: scipy.optimize.brentq on the same compiled residual, [0.005, 0.1].
     f = pipeline.equation_of(solution.worksheet).f
@@ -171,16 +190,13 @@ def test_any_of_the_six_methods_can_be_chosen_and_the_choice_is_saved(qtbot, win
     for name in chosen:
         _click(qtbot, boxes[name])
     assert "tick at least one method" in window.inputs.problem_label.text()
-    assert not window.solve() and "tick at least one method" in window.last_error
+    before = window.solution
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    assert "tick at least one method" in window.last_error
+    assert window.solution is before and not window.runner.is_busy("solve")
 
 
 # ----------------------------------------------------------------- start values
-
-
-def _clear(qtbot, field) -> None:
-    field.setFocus()
-    field.selectAll()
-    qtbot.keyClick(field, Qt.Key.Key_Delete)
 
 
 def test_blank_start_values_are_seeded_from_the_scan_range(qtbot, window):
@@ -193,8 +209,8 @@ def test_blank_start_values_are_seeded_from_the_scan_range(qtbot, window):
     assert window.load_sample("cooling-water-friction.json")
     settle(qtbot, window)
     for key in ("x0", "x1", "a", "b"):
-        _clear(qtbot, window.inputs.fields[key])
-    solution = solve_and_wait(qtbot, window)
+        _type(qtbot, window.inputs.fields[key], "")
+    solution = _solve(qtbot, window)
     f = pipeline.equation_of(solution.worksheet).f
     reference = brentq(f, 0.005, 0.1, xtol=1e-15, rtol=8.9e-16)
     start = solution.start
@@ -240,11 +256,8 @@ def test_methods_that_found_different_roots_are_said_to_disagree(qtbot, window, 
 
     type_equation(qtbot, window, "x^2 - 2")
     for key, value in (("x0", "1"), ("x1", "-1.1"), ("a", "0"), ("b", "3")):
-        field = window.inputs.fields[key]
-        field.setFocus()
-        field.selectAll()
-        qtbot.keyClicks(field, value)
-    solution = solve_and_wait(qtbot, window)
+        _type(qtbot, window.inputs.fields[key], value)
+    solution = _solve(qtbot, window)
     assert solution.agreement_digits is None
     groups = pipeline.agreement(solution.runs).groups
     assert [round(x, 12) for x, _m in groups] == [round(-math.sqrt(2), 12),
@@ -274,14 +287,14 @@ def _painted(table, row: int, column: int) -> str:
 
 def test_tables_show_the_figures_asked_for_or_say_some_are_hidden(qtbot, window):
     type_equation(qtbot, window, "x^2 - 2")
-    window.inputs.set_field("x0", 1.0)
+    _type(qtbot, window.inputs.fields["x0"], "1")
     spin = window.lanes.digits
     spin.setFocus()
     spin.selectAll()
     qtbot.keyClicks(spin, "15")
     qtbot.keyClick(spin, Qt.Key.Key_Enter)
     assert spin.value() == 15
-    solve_and_wait(qtbot, window)
+    _solve(qtbot, window)
     qtbot.wait(20)
     table = window.lanes.lanes["newton"].table
     model = table.model()
@@ -300,7 +313,7 @@ def test_tables_show_the_figures_asked_for_or_say_some_are_hidden(qtbot, window)
                 assert _painted(table, r, c) == f"{value:.15g}", (r, c)
     # The widths the user chose survive the next Solve.
     width = table.columnWidth(1)
-    solve_and_wait(qtbot, window)
+    _solve(qtbot, window)
     assert table.columnWidth(1) == width
 
 
@@ -424,11 +437,8 @@ def test_a_worksheet_listing_a_method_twice_is_refused_by_name():
 def test_a_design_value_taken_from_one_of_two_different_roots_says_so(qtbot, window):
     type_equation(qtbot, window, "x^2 - 2")
     for key, value in (("x0", "1"), ("x1", "-1.1"), ("a", "0"), ("b", "3")):
-        field = window.inputs.fields[key]
-        field.setFocus()
-        field.selectAll()
-        qtbot.keyClicks(field, value)
-    solve_and_wait(qtbot, window)
+        _type(qtbot, window.inputs.fields[key], value)
+    _solve(qtbot, window)
     window.strip.editor.setFocus()
     qtbot.keyClick(window.strip.editor, Qt.Key.Key_D, Qt.KeyboardModifier.ControlModifier)
     reason = window.worksheet().selection.reason
