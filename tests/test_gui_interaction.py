@@ -107,6 +107,18 @@ def test_zoom_box_owns_the_mouse_and_fit_returns_to_the_range(qtbot, window):
     assert not view.buttons["zoom"].isChecked() and not view.toolbar.mode
     qtbot.mouseClick(view.buttons["fit"], LEFT)
     assert ax.get_xlim() == pytest.approx((0.0, 4.0))
+    # Pan: dragging from x = 2 to x = 3 moves the view one unit to the left.
+    qtbot.mouseClick(view.buttons["pan"], LEFT)
+    assert view.buttons["pan"].isChecked() and not view.buttons["zoom"].isChecked()
+    start, end = _at(canvas, ax, 2.0), _at(canvas, ax, 3.0)
+    QTest.mousePress(canvas, LEFT, Qt.KeyboardModifier.NoModifier, start)
+    QTest.mouseMove(canvas, end)
+    QTest.mouseRelease(canvas, LEFT, Qt.KeyboardModifier.NoModifier, end)
+    lo, hi = ax.get_xlim()
+    assert lo == pytest.approx(-1.0, abs=0.05) and hi == pytest.approx(3.0, abs=0.05)
+    qtbot.mouseClick(view.buttons["pan"], LEFT)
+    qtbot.mouseClick(view.buttons["fit"], LEFT)
+    assert ax.get_xlim() == pytest.approx((0.0, 4.0))
 
 
 def test_the_plot_bar_is_our_own_and_copies_and_saves_the_picture(qtbot, window, dialogs,
