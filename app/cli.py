@@ -287,7 +287,12 @@ def _print_solution(solution, *, steps: bool) -> None:
     for r in failed:
         why = r.message or REASON_TEXT.get(r.reason, r.reason)
         print(f"  {r.method.replace('_', ' ')} did not converge: {why}")
-    if solution.agreement_digits is not None:
+    groups = solution.agreement.groups
+    if len(groups) > 1:
+        found = "; ".join(f"{_g(x)} ({', '.join(m.replace('_', ' ') for m in ms)})"
+                          for x, ms in groups)
+        print(f"\nconverged methods found different roots, no agreement to count: {found}")
+    elif solution.agreement_digits is not None:
         print(f"\nconverged methods agree to {solution.agreement_digits} significant figures")
     if steps:
         for r in solution.runs:

@@ -5,7 +5,8 @@ Run under a real (virtual) display so fonts and the style are those a user sees:
     xvfb-run -s "-screen 0 1280x800x24" .venv/bin/python -m app.gui_screenshots docs/screenshots
 
 Writes solve.png (a sample after Solve), scan.png (a scan with roots and poles),
-convergence.png (the convergence view) and error.png (an equation with a typo).
+convergence.png (the convergence view), methods.png (all six methods, start values
+seeded from the scan range) and error.png (an equation with a typo).
 Recovery files and settings go to a temporary folder, never the user's.
 """
 
@@ -67,6 +68,17 @@ def main(argv: list[str] | None = None) -> int:
     _spin(app, idle)
     w.grab().save(str(out / "convergence.png"))
     w.plot.setCurrentIndex(0)
+
+    # All six methods, start values left blank: seeded from a quick scan of the range.
+    w.load_sample("cooling-water-friction.json")
+    _spin(app, settled)
+    for name in ("illinois", "bisection", "brent"):
+        w.inputs.method_boxes[name].setChecked(True)
+    for key in ("x0", "x1", "a", "b"):
+        w.inputs.set_field(key, None)
+    w.solve()
+    _spin(app, lambda: w.solution is not None and len(w.solution.runs) == 6 and idle())
+    w.grab().save(str(out / "methods.png"))
 
     w.load_sample("wall-conduction-eigenvalues.json")
     _spin(app, settled)

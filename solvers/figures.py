@@ -546,6 +546,8 @@ def _draw_bracket(ax: Any, f: Callable[[Any], Any], run: Run, limit: int) -> Non
 
 BRACKET_BARS = 8
 BRACKET_WIDTH = 2.2
+# The scan's marks on their own, for a view that keeps its axes and curve between redraws.
+draw_scan_marks = _draw_scan
 
 _PATH_DRAWERS: dict[str, Callable[[Any, Callable[[Any], Any], Run, int], None]] = {
     "newton": _draw_tangents,

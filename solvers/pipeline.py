@@ -21,6 +21,8 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 
+import numpy as np
+
 from solvers.equation import Equation, parse_equation
 from solvers.methods import METHODS
 from solvers.result import NO_SIGN_CHANGE, Run
@@ -30,19 +32,76 @@ from solvers.worksheet import Settings, Worksheet
 # How far a bracket search may grow from x0 before giving up: 2**40 times the first
 # half-width covers any physical range an engineer would type.
 _BRACKET_SEARCH_STEPS = 40
+# Samples of the quick scan that seeds blank start values from the scan range: enough
+# to separate roots a few hundredths of the range apart, cheap next to one full scan.
+SEED_SAMPLES = 401
+
+# Why a root of the quick scan was taken (the last number of an x0_scan_root choice).
+_WHY = {0: "the first from the left", 1: "the one nearest the typed x0",
+        2: "the first inside the typed bracket"}
+
+
+def _scan_root_text(n: tuple[float, ...]) -> str:
+    x, index, count, a, b, why = n[0], int(n[1]), int(n[2]), n[3], n[4], int(n[5])
+    if count == 1:
+        return f"x0 = {x:.6g}: the one sign change a quick scan of [{a:.6g}, {b:.6g}] found"
+    return (f"x0 = {x:.6g}: sign change {index} of {count} (from the left) in a quick scan "
+            f"of [{a:.6g}, {b:.6g}], taken as {_WHY.get(why, 'chosen')}; solve again with "
+            "another x0 or bracket for the others")
+
+
+# How each start value that was not typed got its number: code -> words from the
+# choice's numbers. The records keep the code; reports, the window and the CLI show these.
+START_TEXT: dict[str, Callable[[tuple[float, ...]], str]] = {
+    "x0_scan_root": _scan_root_text,
+    "x0_scan_min": lambda n: (f"x0 = {n[0]:.6g}: a quick scan of [{n[1]:.6g}, {n[2]:.6g}] "
+                              "found no sign change; x0 is where |f| was smallest"),
+    "x0_bracket_midpoint": lambda n: f"x0 = {n[0]:.6g}: the midpoint of the bracket",
+    "x0_scan_midpoint": lambda n: f"x0 = {n[0]:.6g}: the midpoint of the scan range",
+    "x0_default": lambda n: "x0 not given and no scan range: 1.0 used",
+    "x1_scan": lambda n: (f"x1 = {n[0]:.6g}: the end nearer x0 of the sign change "
+                          f"[{n[1]:.6g}, {n[2]:.6g}] a quick scan of the range found"),
+    "x1_nudged": lambda n: f"x1 = {n[0]:.6g}: x0 nudged by 1e-4 (relative)",
+    "bracket_scan_cell": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: the cell of the "
+                                    "quick scan where f changes sign"),
+    "bracket_scan_range": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: the scan range "
+                                     "(f changes sign between its ends)"),
+    "bracket_grown": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: grown around x0 until "
+                                "f changed sign"),
+    "bracket_none": lambda n: "no bracket given and no sign change found",
+}
+
+
+@dataclass(frozen=True)
+class StartChoice:
+    """How one start value was chosen: ``code`` (a key of :data:`START_TEXT`) and the
+    numbers it refers to (values in the unknown's units, then counts and indices)."""
+
+    code: str
+    numbers: tuple[float, ...] = ()
+
+    @property
+    def text(self) -> str:
+        words = START_TEXT.get(self.code)
+        return words(self.numbers) if words is not None else self.code
 
 
 @dataclass(frozen=True)
 class StartValues:
     """Resolved start values: x0 (Newton), x0/x1 (secant), bracket (bracketing methods).
 
-    ``notes`` records, in words, every value that was not typed by the user.
+    ``choices`` records, as codes and numbers, how every value that was not typed by the
+    user was chosen; ``notes`` says the same in words.
     """
 
     x0: float
     x1: float
     bracket: tuple[float, float] | None
-    notes: tuple[str, ...] = ()
+    choices: tuple[StartChoice, ...] = ()
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        return tuple(c.text for c in self.choices)
 
 
 @dataclass(frozen=True)
@@ -58,6 +117,11 @@ class Solution:
     @property
     def converged_runs(self) -> tuple[Run, ...]:
         return tuple(r for r in self.runs if r.converged)
+
+    @property
+    def agreement(self) -> Agreement:
+        """The converged roots grouped (different roots apart) with the shared figures."""
+        return agreement(self.runs, self.worksheet.settings.xtol)
 
 
 def equation_of(ws: Worksheet) -> Equation:
@@ -97,46 +161,134 @@ def _kinds(methods: tuple[str, ...]) -> set[str]:
     return {METHODS[m].kind for m in methods if m in METHODS}
 
 
-def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues:
-    """Resolve blank start values for the worksheet's methods.
+@dataclass(frozen=True)
+class SeedScan:
+    """What the quick scan of the scan range found: sign-change cells (a, b) with a
+    root estimate in each (linear interpolation), and the sample with the least |f|."""
 
-    Bracket (only when a bracketing method is chosen): the worksheet's bracket, else its
-    scan range, else an interval grown around x0 until f changes sign. x0: the
-    worksheet's, else the bracket's midpoint, else 1. x1 (secant only): the worksheet's,
-    else x0 nudged by 1e-4 relative (as scipy's secant does), so the first secant slope
-    is a good derivative estimate. ``notes`` says which values were not typed.
+    a: float
+    b: float
+    cells: tuple[tuple[float, float, float], ...]  # (lo, hi, estimate), by x
+    least: float | None
+
+
+def seed_scan(f: Callable, a: float, b: float, samples: int = SEED_SAMPLES) -> SeedScan:
+    """Sample f on [a, b] and keep every cell where it changes sign through a root.
+
+    A sign change across a pole or a jump is not kept: at the estimate inside the cell
+    |f| must be under half its smaller value at the ends. Non-finite samples are skipped;
+    never raises for what f returns.
+    """
+    x = np.linspace(a, b, max(int(samples), 3))
+    with np.errstate(all="ignore"):
+        try:
+            y = np.asarray(f(x), dtype=float)
+            if y.shape != x.shape:
+                y = np.broadcast_to(y, x.shape).astype(float)
+        except (ArithmeticError, ValueError, TypeError):
+            y = np.array([_evaluate(f, float(v)) for v in x])
+    y = np.where(np.isfinite(y), y, np.nan)
+    cells: list[tuple[float, float, float]] = []
+    for i in np.nonzero(y == 0)[0]:
+        cells.append((float(x[i]), float(x[i]), float(x[i])))
+    with np.errstate(invalid="ignore"):
+        change = np.nonzero(y[:-1] * y[1:] < 0)[0]
+    for i in change:
+        lo, hi, flo, fhi = float(x[i]), float(x[i + 1]), float(y[i]), float(y[i + 1])
+        guess = lo - flo * (hi - lo) / (fhi - flo)
+        fg = _evaluate(f, guess)
+        # Through a root f nearly vanishes at the interpolated point; across a pole or a
+        # jump it stays about as large as at the nearer end.
+        if math.isfinite(fg) and abs(fg) < 0.5 * min(abs(flo), abs(fhi)):
+            cells.append((lo, hi, min(max(guess, lo), hi)))
+    cells.sort(key=lambda c: c[2])
+    finite = np.nonzero(np.isfinite(y))[0]
+    least = float(x[finite[np.argmin(np.abs(y[finite]))]]) if finite.size else None
+    return SeedScan(float(a), float(b), tuple(cells), least)
+
+
+def _pick_cell(seed: SeedScan, x0: float | None,
+               bracket: tuple[float, float] | None) -> tuple[int, int]:
+    """(index of the cell to take, why: 0 first, 1 nearest the typed x0, 2 in the bracket)."""
+    if bracket is not None:
+        inside = [i for i, c in enumerate(seed.cells) if bracket[0] <= c[2] <= bracket[1]]
+        if inside:
+            return inside[0], 2
+    if x0 is not None:
+        return min(range(len(seed.cells)), key=lambda i: abs(seed.cells[i][2] - x0)), 1
+    return 0, 0
+
+
+def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues:
+    """Resolve blank start values; typed values are always kept as typed.
+
+    With a scan range and the equation, a quick scan of the range (:func:`seed_scan`,
+    ``SEED_SAMPLES`` points) seeds the blanks from one sign change: the first from the
+    left, or the one nearest a typed x0, or one inside a typed bracket. x0 is the root
+    estimate inside that cell, x1 the cell end nearest x0, the bracket the cell itself
+    (it changes sign). With no sign change: x0 where |f| was least; the bracket is the
+    scan range only if its ends change sign, else none. Without a scan range: x0 = the
+    bracket's midpoint, else 1; the bracket grows around x0 until f changes sign; x1 is
+    x0 nudged by 1e-4 relative (as scipy's secant does). ``choices`` records each choice
+    as a code with its numbers.
     """
     s = ws.settings
     kinds = _kinds(s.methods)
-    notes: list[str] = []
-    bracket = s.bracket
-    if bracket is None and ws.scan is not None and "bracket" in kinds:
-        bracket = ws.scan
-        notes.append("bracket taken from the scan range")
-    x0 = s.x0
+    choices: list[StartChoice] = []
+    x0, x1, bracket = s.x0, s.x1, s.bracket
+    blanks = x0 is None or (x1 is None and "two_point" in kinds) or (
+        bracket is None and "bracket" in kinds)
+    seed = None
+    if ws.scan is not None and equation is not None and blanks:
+        seed = seed_scan(equation.f, *ws.scan)
+    if seed is not None and seed.cells:
+        i, why = _pick_cell(seed, x0, bracket)
+        lo, hi, guess = seed.cells[i]
+        if x0 is None:
+            x0 = guess
+            choices.append(StartChoice("x0_scan_root", (guess, i + 1, len(seed.cells),
+                                                        seed.a, seed.b, why)))
+        if x1 is None and "two_point" in kinds and lo != hi:
+            x1 = lo if abs(lo - x0) <= abs(hi - x0) else hi
+            if x1 == x0:
+                x1 = hi if x1 == lo else lo
+            choices.append(StartChoice("x1_scan", (x1, lo, hi)))
+        if bracket is None and "bracket" in kinds and lo != hi:
+            bracket = (lo, hi)
+            choices.append(StartChoice("bracket_scan_cell", (lo, hi)))
+    elif seed is not None:
+        if x0 is None and seed.least is not None:
+            x0 = seed.least
+            choices.append(StartChoice("x0_scan_min", (x0, seed.a, seed.b)))
+        if bracket is None and "bracket" in kinds:
+            fa, fb = _evaluate(equation.f, seed.a), _evaluate(equation.f, seed.b)
+            if math.isfinite(fa) and math.isfinite(fb) and fa * fb <= 0:
+                bracket = (seed.a, seed.b)
+                choices.append(StartChoice("bracket_scan_range", bracket))
+    if bracket is None and ws.scan is not None and equation is None and "bracket" in kinds:
+        bracket = ws.scan  # no equation to look at: the range as given
+        choices.append(StartChoice("bracket_scan_range", bracket))
     if x0 is None:
-        if bracket is not None or ws.scan is not None:
-            lo, hi = bracket if bracket is not None else ws.scan
-            x0 = 0.5 * (lo + hi)
-            source = "bracket" if bracket is not None else "scan range"
-            notes.append(f"x0 taken as the midpoint of the {source}")
+        if bracket is not None:
+            x0 = 0.5 * (bracket[0] + bracket[1])
+            choices.append(StartChoice("x0_bracket_midpoint", (x0,)))
+        elif ws.scan is not None:
+            x0 = 0.5 * (ws.scan[0] + ws.scan[1])
+            choices.append(StartChoice("x0_scan_midpoint", (x0,)))
         else:
             x0 = 1.0
-            notes.append("x0 not given: 1.0 used")
+            choices.append(StartChoice("x0_default"))
     if bracket is None and equation is not None and "bracket" in kinds:
         bracket = _search_bracket(equation.f, x0)
-        if bracket is not None:
-            notes.append(f"bracket found by growing an interval around x0 = {x0!r}")
-        else:
-            notes.append("no bracket given and none found around x0")
-    x1 = s.x1
+        choices.append(StartChoice("bracket_grown", bracket) if bracket is not None
+                       else StartChoice("bracket_none"))
     if x1 is None:
         x1 = x0 * (1 + 1e-4) + (1e-4 if x0 >= 0 else -1e-4)
         if "two_point" in kinds:
-            notes.append("x1 taken as x0 nudged by 1e-4 (relative)")
+            choices.append(StartChoice("x1_nudged", (x1,)))
     if bracket is not None:
-        bracket = (min(bracket), max(bracket))
-    return StartValues(x0=float(x0), x1=float(x1), bracket=bracket, notes=tuple(notes))
+        bracket = (float(min(bracket)), float(max(bracket)))
+    return StartValues(x0=float(x0), x1=float(x1), bracket=bracket, choices=tuple(choices))
 
 
 def _tolerances(s: Settings) -> dict[str, float | int]:
@@ -185,23 +337,72 @@ def run_methods(equation: Equation, sv: StartValues, settings: Settings) -> tupl
     return tuple(runs)
 
 
-def agreement_digits(runs: tuple[Run, ...] | list[Run]) -> int | None:
-    """Significant figures on which all converged runs agree (None if fewer than two).
+# Converged roots farther apart than this, relative to their size, are different roots
+# of f, not one root found to different precision: two doubles that both satisfy the
+# step test at the default tolerances agree to far better than 1e-6 (common practice).
+DIFFERENT_ROOTS = 1e-6
 
-    Counted as floor(-log10(spread / |root|)) capped at 15, the most a double carries
-    reliably; roots at exactly zero agree to 15 when all are zero.
+
+@dataclass(frozen=True)
+class Agreement:
+    """How the converged runs' roots compare.
+
+    ``digits``: significant figures on which they all agree (0..15), or None when fewer
+    than two converged or when they found different roots. ``groups``: the distinct
+    roots found, each with the methods that found it, sorted by x (one group when they
+    agree).
     """
-    roots = [r.root for r in runs if r.converged and math.isfinite(r.root)]
-    if len(roots) < 2:
-        return None
+
+    digits: int | None
+    groups: tuple[tuple[float, tuple[str, ...]], ...]
+
+    @property
+    def different_roots(self) -> bool:
+        return len(self.groups) > 1
+
+
+def agreement(runs: tuple[Run, ...] | list[Run], xtol: float = 0.0) -> Agreement:
+    """Group the converged runs by root and count the figures they share.
+
+    Two roots belong to one group when they differ by at most ``DIFFERENT_ROOTS``
+    relative to the larger, plus 2·xtol (the absolute step tolerance they ran with, so
+    roots at or near zero group too).
+    """
+    found = sorted((r.root, r.method) for r in runs if r.converged and math.isfinite(r.root))
+    groups: list[tuple[list[float], list[str]]] = []
+    for x, method in found:
+        if groups:
+            last = groups[-1][0][-1]
+            if abs(x - last) <= DIFFERENT_ROOTS * max(abs(x), abs(last)) + 2 * xtol:
+                groups[-1][0].append(x)
+                groups[-1][1].append(method)
+                continue
+        groups.append(([x], [method]))
+    summary = tuple((xs[len(xs) // 2], tuple(ms)) for xs, ms in groups)
+    if len(found) < 2 or len(groups) > 1:
+        return Agreement(None, summary)
+    return Agreement(_digits([x for x, _m in found]), summary)
+
+
+def _digits(roots: list[float]) -> int:
     spread = max(roots) - min(roots)
     scale = max(abs(x) for x in roots)
     if spread == 0:
         return 15
     if scale == 0:
         return 0
-    digits = math.floor(-math.log10(spread / scale))
-    return max(0, min(15, digits))
+    return max(0, min(15, math.floor(-math.log10(spread / scale))))
+
+
+def agreement_digits(runs: tuple[Run, ...] | list[Run], xtol: float = 0.0) -> int | None:
+    """Significant figures on which all converged runs agree.
+
+    None if fewer than two converged, or if they converged to different roots (see
+    :func:`agreement`: then no count of figures means anything). Counted as
+    floor(-log10(spread / |root|)) capped at 15, the most a double carries reliably;
+    roots at exactly zero agree to 15 when all are zero.
+    """
+    return agreement(runs, xtol).digits
 
 
 def solve(ws: Worksheet, equation: Equation | None = None) -> Solution:
@@ -209,7 +410,7 @@ def solve(ws: Worksheet, equation: Equation | None = None) -> Solution:
     eq = equation if equation is not None else equation_of(ws)
     sv = start_values(ws, eq)
     runs = run_methods(eq, sv, ws.settings)
-    return Solution(ws, eq, sv, runs, agreement_digits(runs))
+    return Solution(ws, eq, sv, runs, agreement_digits(runs, ws.settings.xtol))
 
 
 def scan_worksheet(
@@ -245,4 +446,4 @@ def polish(ws: Worksheet, x: float, equation: Equation | None = None) -> Solutio
     polished = replace(ws, settings=settings)
     sv = start_values(polished, eq)
     runs = run_methods(eq, sv, settings)
-    return Solution(polished, eq, sv, runs, agreement_digits(runs))
+    return Solution(polished, eq, sv, runs, agreement_digits(runs, settings.xtol))

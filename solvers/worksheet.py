@@ -275,6 +275,8 @@ def from_dict(data: Any) -> Worksheet:
                 f"settings.methods[{i}]",
                 f"unknown method {m!r}; choose from {', '.join(METHOD_NAMES)}",
             )
+        if m.replace("-", "_") in methods:  # one lane and one column of results per method
+            raise _fail(f"settings.methods[{i}]", f"{m!r} is listed twice")
         methods.append(m.replace("-", "_"))
     bracket_raw = raw_settings.get("bracket")
     max_iter = raw_settings.get("max_iter", defaults.max_iter)

@@ -16,6 +16,7 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
     QAbstractItemDelegate,
     QAbstractItemView,
+    QCheckBox,
     QFrame,
     QGridLayout,
     QGroupBox,
@@ -31,7 +32,8 @@ from PySide6.QtWidgets import (
 
 from app.window.models import ParametersModel, fix_lines, number_font, parse_number
 from app.window.views import CopyTableView, fitted_text
-from solvers.worksheet import Settings
+from solvers.figures import method_color, method_title
+from solvers.worksheet import DEFAULT_METHODS, METHOD_NAMES, Settings
 
 BAD_STYLE = "QLineEdit { background: #FBE3D6; color: #8A2B00; }"
 
@@ -72,18 +74,29 @@ START_FIELDS = (
               "and drawn in the plot", optional=True),
     FieldSpec("to", "scan t&o", "right end of the scanned range", optional=True),
 )
+# On screen the rules are named in words; the file keys and CLI flags stay xtol, rtol,
+# ftol and max_iter (named in each tooltip, so a user can match screen, file and shell).
 RULE_FIELDS = (
-    FieldSpec("xtol", "&xtol", "stop when |Δx| ≤ xtol + rtol·|x| (absolute part, "
-              "units of the unknown)", check=_nonneg),
-    FieldSpec("rtol", "r&tol", "relative part of the step test (4 machine epsilons "
-              "by default)", check=_nonneg),
-    FieldSpec("ftol", "fto&l", "stop when |f(x)| ≤ ftol (0: off, since the scale of "
-              "f is yours)", check=_nonneg),
-    FieldSpec("max_iter", "max &iter.", "stop after this many iterates", check=_iterations,
-              integer=True),
+    FieldSpec("xtol", "step toleran&ce, absolute", "stop when |Δx| ≤ xtol + rtol·|x|: the "
+              "absolute part, in units of the unknown (xtol in the worksheet, --xtol in "
+              "the shell)", check=_nonneg),
+    FieldSpec("rtol", "step tolerance, rela&tive", "the relative part of the step test, "
+              "4 machine epsilons by default (rtol, --rtol)", check=_nonneg),
+    FieldSpec("ftol", "residua&l tolerance", "stop when |f(x)| ≤ ftol; 0 is off, since the "
+              "scale of f is yours (ftol, --ftol)", check=_nonneg),
+    FieldSpec("max_iter", "&iteration cap", "stop after this many iterates (max_iter, "
+              "--max-iter)", check=_iterations, integer=True),
     FieldSpec("damping", "&damping", "Newton–Raphson step multiplier λ in (0, 1]; "
-              "1 is the plain method", check=_damping),
+              "1 is the plain method (damping, --damping)", check=_damping),
 )
+METHOD_TIPS = {
+    "newton": "tangent steps from x0, using the derivative shown under the equation",
+    "secant": "chord steps from x0 and x1, no derivative needed",
+    "false_position": "keeps a bracket [a, b] with a sign change; chord inside it",
+    "illinois": "false position that halves the stale end's value, so neither end sticks",
+    "bisection": "halves the bracket each step: slow, never fails on a sign change",
+    "brent": "inverse quadratic steps inside the bracket, bisection as a safeguard",
+}
 
 
 class NumberField(QLineEdit):
@@ -197,9 +210,10 @@ class NumberField(QLineEdit):
 
 
 class InputsPanel(QWidget):
-    """Parameters, start values, stopping rules, Solve and Scan range."""
+    """Parameters, methods, start values, stopping rules, Solve and Scan range."""
 
     changed = Signal()
+    methods_changed = Signal(tuple)  # the chosen methods, in the table's order
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -220,13 +234,28 @@ class InputsPanel(QWidget):
         self.parameters_label = QLabel("&Parameters")
         self.parameters_label.setBuddy(self.parameters_view)
 
+        self.method_boxes: dict[str, QCheckBox] = {}
+        methods_box = QGroupBox("Methods to run")
+        methods_grid = QGridLayout(methods_box)
+        for i, name in enumerate(METHOD_NAMES):
+            box = QCheckBox(method_title(name))
+            box.setObjectName(f"method_{name}")
+            box.setToolTip(METHOD_TIPS.get(name, ""))
+            # The method's colour as a stripe, as on its lane and its path in the plot.
+            box.setStyleSheet(f"QCheckBox {{ border-left: 4px solid {method_color(name)}; "
+                              "padding-left: 3px; }")
+            box.toggled.connect(self._on_methods)
+            methods_grid.addWidget(box, *divmod(i, 2))  # two columns fit the panel
+            self.method_boxes[name] = box
+        methods_grid.setContentsMargins(6, 4, 6, 4)
+        methods_grid.setVerticalSpacing(2)
         self.fields: dict[str, NumberField] = {}
         start_box = QGroupBox("Start values and range")
         start_grid = QGridLayout(start_box)
         self._pairs(start_grid, START_FIELDS)
         rules_box = QGroupBox("Stopping rules")
         rules_grid = QGridLayout(rules_box)
-        self._pairs(rules_grid, RULE_FIELDS)
+        self._pairs(rules_grid, RULE_FIELDS, per_row=1)
         for grid in (start_grid, rules_grid):
             grid.setContentsMargins(6, 4, 6, 4)
             grid.setVerticalSpacing(3)
@@ -236,7 +265,7 @@ class InputsPanel(QWidget):
 
         self.solve_button = QPushButton("&Solve")
         self.solve_button.setObjectName("solveButton")
-        self.solve_button.setToolTip("Run Newton–Raphson, secant and false position (Ctrl+Return)")
+        self.solve_button.setToolTip("Run the chosen methods side by side (Ctrl+Return)")
         self.solve_button.setDefault(True)
         self.scan_button = QPushButton("Sca&n range")
         self.scan_button.setObjectName("scanButton")
@@ -249,7 +278,18 @@ class InputsPanel(QWidget):
         self.problem_label.setObjectName("inputsProblems")
         self.problem_label.setWordWrap(True)
         self.problem_label.setStyleSheet("color: #8A2B00;")
-        fix_lines(self.problem_label, 2)
+        self.problem_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        # Every problem is listed; past four lines the list scrolls (a fixed two-line label
+        # cut the third problem off, and a growing one would re-lay out the window).
+        self.problem_area = QScrollArea()
+        self.problem_area.setObjectName("inputsProblemsArea")
+        self.problem_area.setWidget(self.problem_label)
+        self.problem_area.setWidgetResizable(True)
+        self.problem_area.setFrameShape(QFrame.Shape.NoFrame)
+        self.problem_area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.problem_area.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        self.problem_label.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        fix_lines(self.problem_area, 4)
 
         # The fields scroll on a small screen; the two actions below them never do.
         fields = QWidget()
@@ -258,6 +298,7 @@ class InputsPanel(QWidget):
         fields_layout.setSpacing(4)
         fields_layout.addWidget(self.parameters_label)
         fields_layout.addWidget(self.parameters_view, 1)
+        fields_layout.addWidget(methods_box)
         fields_layout.addWidget(start_box)
         fields_layout.addWidget(rules_box)
         scroll = QScrollArea()
@@ -271,7 +312,7 @@ class InputsPanel(QWidget):
         layout.setSpacing(4)
         layout.addWidget(scroll, 1)
         layout.addLayout(buttons)
-        layout.addWidget(self.problem_label)
+        layout.addWidget(self.problem_area)
 
         self.parameters.edited.connect(self._on_changed)
         for field in self.fields.values():
@@ -290,28 +331,46 @@ class InputsPanel(QWidget):
             view.commitData(editor)
             view.closeEditor(editor, QAbstractItemDelegate.EndEditHint.NoHint)
 
-    def _pairs(self, grid: QGridLayout, specs: tuple[FieldSpec, ...]) -> None:
-        """Two label/field pairs per row, so the column fits a 1280x800 screen."""
+    def _pairs(self, grid: QGridLayout, specs: tuple[FieldSpec, ...], per_row: int = 2) -> None:
+        """Label/field pairs, two per row where the labels are short, so the column fits a
+        1280x800 screen."""
         for i, spec in enumerate(specs):
             field = NumberField(spec)
             field.setMinimumWidth(60)
             label = QLabel(spec.label)
             label.setBuddy(field)
             label.setToolTip(spec.tip)
-            row, col = divmod(i, 2)
+            row, col = divmod(i, per_row)
             grid.addWidget(label, row, 2 * col)
             grid.addWidget(field, row, 2 * col + 1)
             self.fields[spec.key] = field
 
     def _on_changed(self) -> None:
-        self.problem_label.setText("\n".join(self.problems()[:2]))
+        self.show_problems()
         if not self._loading:
             self.changed.emit()
+
+    def show_problems(self) -> None:
+        """List every problem under the actions (the list scrolls past four lines)."""
+        problems = self.problems()
+        self.problem_label.setText("\n".join(problems))
+        self.problem_area.setToolTip("\n".join(problems))
+
+    def methods(self) -> tuple[str, ...]:
+        """The methods ticked, in the fixed order of the method table."""
+        return tuple(name for name, box in self.method_boxes.items() if box.isChecked())
+
+    def _on_methods(self) -> None:
+        if not self._loading:
+            self.methods_changed.emit(self.methods())
+        self._on_changed()
 
     # -- worksheet <-> fields
     def show_settings(self, settings: Settings, scan: tuple[float, float] | None) -> None:
         self._loading = True
         try:
+            for name, box in self.method_boxes.items():
+                box.setChecked(name in settings.methods)
             values: dict[str, Any] = {
                 "x0": settings.x0,
                 "x1": settings.x1,
@@ -346,7 +405,7 @@ class InputsPanel(QWidget):
             scan = (v["from"], v["to"])
         defaults = Settings()
         settings = Settings(
-            methods=base.methods,
+            methods=self.methods() or base.methods or DEFAULT_METHODS,
             x0=v["x0"],
             x1=v["x1"],
             bracket=bracket,
@@ -362,6 +421,8 @@ class InputsPanel(QWidget):
         """Every input that is wrong, one line each naming the field."""
         found = [f"{key}: {field.problem()}" for key, field in self.fields.items()
                  if field.problem()]
+        if not self.methods():
+            found.append("methods: tick at least one method to run")
         v = {key: self.fields[key].value() for key in ("a", "b", "from", "to")}
         if (v["a"] is None) != (v["b"] is None):
             found.append("bracket: give both ends a and b, or neither")

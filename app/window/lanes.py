@@ -5,12 +5,13 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Any
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import QEvent, Qt, Signal
 from PySide6.QtWidgets import (
     QFrame,
     QHBoxLayout,
     QHeaderView,
     QLabel,
+    QScrollArea,
     QSpinBox,
     QVBoxLayout,
     QWidget,
@@ -22,6 +23,7 @@ from solvers.figures import method_color, method_label, method_title
 from solvers.result import REASON_TEXT, Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
+LANE_WIDTH = 380  # pixels: room for the summary and five number columns at 5 figures
 OK_STYLE = "color: #1F5F3F; font-weight: bold;"
 
 
@@ -62,6 +64,7 @@ class MethodLane(QFrame):
         self.method = method
         self.setObjectName(f"lane_{method}")
         self.setFrameShape(QFrame.Shape.StyledPanel)
+        self.setMinimumWidth(LANE_WIDTH)
         color = method_color(method)
         self.title = QLabel(method_title(method))
         # Qt paints a one-sided border only when the rule names the widget and clears the
@@ -84,16 +87,19 @@ class MethodLane(QFrame):
         self.table.setModel(self.model)
         # The columns share the lane's width: a column half past the edge shows only the
         # leading digits of a right-aligned number (5.465405906e-12 read as 5.4654). A
-        # number too long for its cell drops trailing digits instead, keeping its exponent.
+        # number too long for its cell drops trailing digits instead, keeping its exponent
+        # and ending in "…"; the user widens a column by dragging its divider, double-
+        # clicking it, or Ctrl+Shift+W (every column), and the table then scrolls sideways.
         self.delegate = FittedNumberDelegate(DEFAULT_DIGITS, self.table)
         self.table.setItemDelegate(self.delegate)
         header = self.table.horizontalHeader()
-        header.setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
-        header.setSectionResizeMode(0, QHeaderView.ResizeMode.Fixed)
-        header.setStretchLastSection(False)  # all number columns stretch alike
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setStretchLastSection(False)
         header.setMinimumSectionSize(32)
         self.table.setTextElideMode(Qt.TextElideMode.ElideMiddle)
-        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.table.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+        self.table.setHorizontalScrollMode(CopyTableView.ScrollMode.ScrollPerPixel)
+        self.table.viewport().installEventFilter(self)
         self.table.setToolTip(f"Every iterate of {method_label(method)} (Ctrl+C copies "
                               "the selection as tab-separated text)")
         self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
@@ -120,11 +126,28 @@ class MethodLane(QFrame):
         self._refresh()
 
     def _size_columns(self) -> None:
-        # Only the iterate number has a width of its own; the number columns stretch
-        # (no cell is read to size them: resizeColumnsToContents was a third of the time
-        # from Solve to a full screen).
-        metrics = self.table.fontMetrics()
-        self.table.setColumnWidth(0, metrics.horizontalAdvance("8888") + 12)
+        # Only the iterate number has a width of its own; the number columns share the
+        # rest alike (no cell is read to size them: resizeColumnsToContents was a third
+        # of the time from Solve to a full screen). Widths the user set are kept.
+        table = self.table
+        if table.user_sized:
+            return
+        first = table.fontMetrics().horizontalAdvance("8888") + 12
+        shown = [c for c in range(1, self.model.columnCount()) if not table.isColumnHidden(c)]
+        room = table.viewport().width() - first
+        # Every column inside the lane (a column half past the edge shows the leading
+        # digits of a right-aligned number as if they were all); what does not fit is
+        # marked "…" in the cell, and the user widens the column to read it.
+        table.setColumnWidth(0, first)
+        for i, c in enumerate(shown):
+            share = room // len(shown) + (1 if i < room % len(shown) else 0)
+            table.setColumnWidth(c, max(share, 32))
+
+    def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
+        if (watched is self.table.viewport() and event.type() == QEvent.Type.Resize
+                and event.size().width() != event.oldSize().width()):
+            self._size_columns()
+        return super().eventFilter(watched, event)
 
     def set_digits(self, digits: int) -> None:
         self._digits = digits
@@ -181,35 +204,63 @@ class LanesPanel(QWidget):
         head.addWidget(self.agreement, 1)
         head.addWidget(digits_label)
         head.addWidget(self.digits)
-        self._row = QHBoxLayout()
+        # Lanes keep a readable width; more than fit side by side scroll sideways (six
+        # lanes squeezed into 1280 pixels showed "0.…" in every cell).
+        row_widget = QWidget()
+        self._row = QHBoxLayout(row_widget)
+        self._row.setContentsMargins(0, 0, 0, 0)
         self._row.setSpacing(6)
+        self.scroll = QScrollArea()
+        self.scroll.setObjectName("lanesScroll")
+        self.scroll.setWidget(row_widget)
+        self.scroll.setWidgetResizable(True)
+        self.scroll.setFrameShape(QFrame.Shape.NoFrame)
+        self.scroll.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.scroll.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        # The lanes are exactly as tall as the visible strip (the scroll area alone made
+        # them taller once its sideways scroll bar appeared, cutting off the tables' ends).
+        self._row_widget = row_widget
+        self.scroll.viewport().installEventFilter(self)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 2, 4, 2)
         layout.setSpacing(3)
         layout.addLayout(head)
-        layout.addLayout(self._row, 1)
+        layout.addWidget(self.scroll, 1)
         self.digits.valueChanged.connect(self._on_digits)
         self.set_methods(("newton", "secant", "false_position"))
 
     def set_methods(self, methods: Sequence[str]) -> None:
+        """One lane per method, in this order; a lane kept keeps its run."""
         if list(methods) == list(self.lanes):
             return
-        for lane in self.lanes.values():
+        old = self.lanes
+        for lane in old.values():
             self._row.removeWidget(lane)
-            lane.deleteLater()
         self.lanes = {}
         for name in methods:
-            lane = MethodLane(name)
-            lane.set_digits(self.digits.value())
-            lane.activated.connect(self.method_activated)
+            lane = old.pop(name, None)
+            if lane is None:
+                lane = MethodLane(name)
+                lane.set_digits(self.digits.value())
+                lane.activated.connect(self.method_activated)
             self._row.addWidget(lane, 1)
             self.lanes[name] = lane
+        for lane in old.values():
+            lane.hide()  # off screen now, not when the event loop gets round to it
+            lane.setParent(None)
+            lane.deleteLater()
+
+    def eventFilter(self, watched: Any, event: Any) -> bool:  # noqa: N802 (Qt name)
+        if watched is self.scroll.viewport() and event.type() == QEvent.Type.Resize:
+            self._row_widget.setMaximumHeight(event.size().height())
+        return super().eventFilter(watched, event)
 
     def show_solution(self, solution: Any) -> None:
         self.set_methods([r.method for r in solution.runs])
         for run in solution.runs:
             self.lanes[run.method].set_run(run)
         self.agreement.setText(agreement_text(solution))
+        self.agreement.setToolTip(agreement_text(solution).replace("  ", "\n"))
         self.agreement.setStyleSheet("")
 
     def set_stale(self, stale: bool) -> None:
@@ -222,12 +273,21 @@ class LanesPanel(QWidget):
         self.digits_changed.emit(value)
 
 
+def _names(methods: Sequence[str]) -> str:
+    labels = [method_label(m) for m in methods]
+    return labels[0] if len(labels) == 1 else ", ".join(labels[:-1]) + " and " + labels[-1]
+
+
 def agreement_text(solution: Any) -> str:
     runs = solution.runs
     converged = [r for r in runs if r.converged]
     failed = [method_label(r.method) for r in runs if not r.converged]
     digits = solution.agreement_digits
-    if digits is not None:
+    groups = solution.agreement.groups if hasattr(solution, "agreement") else ()
+    if len(groups) > 1:
+        found = "; ".join(f"{format_number(x, 8)} by {_names(methods)}" for x, methods in groups)
+        text = f"The converged methods found different roots: {found}."
+    elif digits is not None:
         text = (f"The {len(converged)} converged methods agree to {digits} significant "
                 f"figure{'s' if digits != 1 else ''}.")
     elif len(converged) == 1:

@@ -110,7 +110,7 @@ class MainWindow(QMainWindow):
         self.runner = JobRunner(self)
         self.path: Path | None = None
         self._doc: Worksheet = BLANK
-        self._saved_text = worksheet.dumps(BLANK)
+        self._saved_text = _as_saved(BLANK)
         self._touched = False
         self._loading = False
         self.analysis: Analysis | None = None
@@ -325,6 +325,7 @@ class MainWindow(QMainWindow):
         self.strip.unknown_chosen.connect(lambda _u: self._on_edit())
         self.strip.editor.textChanged.connect(self._on_edit_quiet)
         self.inputs.changed.connect(self._on_edit)
+        self.inputs.methods_changed.connect(self.lanes.set_methods)
         self.inputs.solve_button.clicked.connect(self.solve)
         self.inputs.scan_button.clicked.connect(self.start_scan)
         self.cancel_button.clicked.connect(self.cancel_scan)
@@ -370,7 +371,7 @@ class MainWindow(QMainWindow):
         if self._loading:
             return False
         try:
-            current = worksheet.dumps(self.worksheet())
+            current = _as_saved(self.worksheet())
         except ValueError:
             return True
         has_bad_text = bool(self.inputs.problems()) and self._touched
@@ -407,7 +408,7 @@ class MainWindow(QMainWindow):
             self._show_design_value()
         finally:
             self._loading = False
-        self._saved_text = "" if modified else worksheet.dumps(self.worksheet())
+        self._saved_text = "" if modified else _as_saved(self.worksheet())
         self._touched = modified
         self.request_analysis()
         self._refresh_title()
@@ -478,8 +479,8 @@ class MainWindow(QMainWindow):
                     [n for n in analysis.names if n != analysis.unknown])
             finally:
                 self._loading = loading
-        self.strip.show_analysis(analysis)
-        self.inputs.problem_label.setText("\n".join(self.inputs.problems()[:2]))
+        self.strip.show_analysis(_name_bad_values(analysis, self.inputs.parameters))
+        self.inputs.show_problems()
         self._refresh_title()
         self._update_actions()
 
@@ -674,8 +675,8 @@ class MainWindow(QMainWindow):
                 self._solve_key == self._key(self.solve_worksheet()):
             run = self.solution.converged_runs[0]
             x = run.root
-            reason = (f"converged root of {figures.method_label(run.method)}; "
-                      f"methods agree to {self.solution.agreement_digits} significant figures")
+            reason = f"converged root of {figures.method_label(run.method)}; " + \
+                _agreement_words(self.solution)
         else:
             self._report("Nothing to take: select a root of the scan, or solve first")
             return False
@@ -786,7 +787,7 @@ class MainWindow(QMainWindow):
             return False
         self.path = path
         self._doc = ws
-        self._saved_text = worksheet.dumps(ws)
+        self._saved_text = _as_saved(ws)
         self._touched = False
         self.recovery.clear()
         self._add_recent(path)
@@ -1048,6 +1049,37 @@ def _scan_job(ws: Worksheet, progress: Any, cancel: Any) -> tuple[Any, Any, Any]
     scan = pipeline.scan_worksheet(ws, equation, progress=progress, cancel=cancel)
     breaks = list(scan.poles) + list(getattr(scan, "discontinuities", []) or [])
     return scan, equation, figures.curve(equation.f, scan.a, scan.b, breaks=breaks)
+
+
+def _agreement_words(solution: Any) -> str:
+    """How the converged methods compare, for the design value's reason."""
+    groups = solution.agreement.groups
+    if len(groups) > 1:
+        return "the methods converged to different roots: " + ", ".join(
+            f"{_num(x)} ({', '.join(figures.method_label(m) for m in ms)})" for x, ms in groups)
+    if solution.agreement_digits is None:
+        return "no other method converged to cross-check it"
+    return f"methods agree to {solution.agreement_digits} significant figures"
+
+
+def _as_saved(ws: Worksheet) -> str:
+    """The worksheet as text for "is it modified?": parameters in name order, since the
+    table lists them in the equation's order, which need not be the file's."""
+    ordered = tuple(sorted(ws.parameters, key=lambda p: p.name))
+    return worksheet.dumps(ws.with_changes(parameters=ordered))
+
+
+def _name_bad_values(analysis: Analysis, parameters: Any) -> Analysis:
+    """Say "P: 'abc' is not a finite number" instead of "no value for P" when P has a
+    value typed that is not a number (the parser only knows it got none)."""
+    from dataclasses import replace
+
+    bad = [row.problem for row in parameters.rows()
+           if row.name in analysis.missing and row.text.strip() and row.problem]
+    if not bad or analysis.ok:
+        return analysis
+    return replace(analysis, error="; ".join(bad) + " (in the parameters table)",
+                   position=None)
 
 
 def write_problem(path: Path, exc: BaseException) -> str:

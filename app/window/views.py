@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from PySide6.QtCore import QModelIndex, Qt
+from PySide6.QtCore import QModelIndex, QSize, Qt
 from PySide6.QtGui import QAction, QFontMetrics, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -17,22 +17,32 @@ from PySide6.QtWidgets import (
 )
 
 CELL_PADDING = 8  # pixels the style keeps free inside a cell
+HIDDEN_MARK = "…"  # after a number shown with fewer figures than asked for
 
 
 def fitted_text(value: float, digits: int, metrics: QFontMetrics, width: int) -> str:
-    """``value`` with at most ``digits`` significant figures, fewer if needed to fit ``width``.
+    """``value`` with ``digits`` significant figures; fewer, marked "…", if it must fit ``width``.
 
     A number cut at the cell edge reads as a different number (5.465405906e-12 seen as
-    "5.4654"); dropping trailing digits, as a spreadsheet does, keeps the magnitude and
-    the exponent. The full value is in the tooltip and in every copy.
+    "5.4654"); dropping trailing digits keeps the magnitude and the exponent, and the
+    trailing "…" says digits are hidden (0.0003… is not 0.0003: three rows that differ
+    beyond the fourth figure must not read alike). The full value is in the tooltip and
+    in every copy; widening the column shows it.
     """
     if not math.isfinite(value):
         return "undefined" if math.isnan(value) else ("+inf" if value > 0 else "-inf")
-    text = f"{value:.{digits}g}"
+    full = f"{value:.{digits}g}"
+    if metrics.horizontalAdvance(full) <= width:
+        return full
+    text = full
     for d in range(digits - 1, 0, -1):
+        shorter = f"{value:.{d}g}"
+        if shorter == full:
+            continue  # no figure dropped yet: still too wide
+        mantissa, e, exponent = shorter.partition("e")
+        text = mantissa + HIDDEN_MARK + e + exponent  # 9.188…e-05: the exponent stays last
         if metrics.horizontalAdvance(text) <= width:
             break
-        text = f"{value:.{d}g}"
     return text
 
 
@@ -42,13 +52,34 @@ class FittedNumberDelegate(QStyledItemDelegate):
     def __init__(self, digits: int, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.digits = digits
+        self._shown: dict[tuple[str, int, int, str], str] = {}
 
     def initStyleOption(self, option: QStyleOptionViewItem, index: QModelIndex) -> None:  # noqa: N802
         super().initStyleOption(option, index)
         raw = index.data(Qt.ItemDataRole.UserRole)
         if isinstance(raw, float):
-            option.text = fitted_text(raw, self.digits, QFontMetrics(option.font),
-                                      option.rect.width() - CELL_PADDING)
+            # Remembered per value, figures, width and font: a repaint asks for the same
+            # few hundred cells again and again.
+            key = (repr(raw), self.digits, option.rect.width(), option.font.key())
+            text = self._shown.get(key)
+            if text is None:
+                if len(self._shown) > 20_000:
+                    self._shown.clear()
+                text = self._shown[key] = fitted_text(raw, self.digits,
+                                                      QFontMetrics(option.font),
+                                                      option.rect.width() - CELL_PADDING)
+            option.text = text
+
+    def sizeHint(self, option: QStyleOptionViewItem, index: QModelIndex) -> QSize:  # noqa: N802
+        """Room for every figure asked for (what "fit columns" and a double-click on the
+        header's divider widen a column to)."""
+        hint = super().sizeHint(option, index)
+        raw = index.data(Qt.ItemDataRole.UserRole)
+        if isinstance(raw, float):
+            font = index.data(Qt.ItemDataRole.FontRole) or option.font
+            text = fitted_text(raw, self.digits, QFontMetrics(font), 10**6)
+            hint.setWidth(QFontMetrics(font).horizontalAdvance(text) + CELL_PADDING + 6)
+        return hint
 
 
 def table_text(view: QTableView, *, selection_only: bool = True) -> str:
@@ -109,6 +140,25 @@ class CopyTableView(QTableView):
         self.addAction(self.copy_action)
         self.copy_all_action = QAction("Copy &whole table", self)
         self.copy_all_action.triggered.connect(self.copy_all)
+        self.fit_action = QAction("&Widen columns to show every figure", self)
+        self.fit_action.setShortcut(QKeySequence("Ctrl+Shift+W"))
+        self.fit_action.setShortcutContext(Qt.ShortcutContext.WidgetShortcut)
+        self.fit_action.triggered.connect(self.fit_columns)
+        # True once the user sizes a column (drag or double-click on a divider, or the
+        # action above); views that share their width among columns then leave them be.
+        self.user_sized = False
+        self.horizontalHeader().sectionResized.connect(self._on_section_resized)
+        self.addAction(self.fit_action)
+
+    def fit_columns(self) -> None:
+        """Every column as wide as its widest cell at the figures asked for."""
+        self.user_sized = True
+        self.resizeColumnsToContents()
+
+    def _on_section_resized(self, _column: int, _old: int, _new: int) -> None:
+        # Only a resize made with the mouse on the header is the user's.
+        if QGuiApplication.mouseButtons() != Qt.MouseButton.NoButton:
+            self.user_sized = True
 
     def copy_selection(self) -> str:
         text = table_text(self, selection_only=True)
@@ -124,4 +174,6 @@ class CopyTableView(QTableView):
         menu = QMenu(self)
         menu.addAction(self.copy_action)
         menu.addAction(self.copy_all_action)
+        menu.addSeparator()
+        menu.addAction(self.fit_action)
         menu.exec(self.viewport().mapToGlobal(pos))
