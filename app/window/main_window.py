@@ -740,10 +740,10 @@ class MainWindow(QMainWindow):
         path = Path(path)
         try:
             ws = worksheet.load(path)
-        except WorksheetError as exc:
-            self.last_error = str(exc)
+        except WorksheetError as exc:  # load turns every failure into one line naming the field
+            self.last_error = str(exc).splitlines()[0] if str(exc) else "cannot be read"
             QMessageBox.warning(self, "Cannot open worksheet",
-                                f"{path.name} was not opened:\n{exc}\n\n"
+                                f"{path.name} was not opened:\n{self.last_error}\n\n"
                                 "The worksheet on screen is unchanged.")
             return False
         self.load_worksheet(ws, None if as_copy else path)
@@ -974,6 +974,11 @@ class MainWindow(QMainWindow):
     def offer_recovery(self) -> bool:
         """Offer the newest worksheet an earlier session left unsaved; True if restored."""
         left = self.recovery.left_behind()
+        unreadable = getattr(self.recovery, "unreadable", [])
+        if unreadable:  # never dropped silently: say where the copy is kept
+            path, why = unreadable[0]
+            self.last_error = f"A recovery copy could not be read and was kept: {path} ({why})"
+            self.statusBar().showMessage(self.last_error, 15000)
         if not left:
             return False
         item: Recovered = left[0]
