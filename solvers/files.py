@@ -204,7 +204,7 @@ def _stage(target: Path, data: bytes) -> Path:
                 except OSError:  # not a member of that group: the mode is still kept
                     pass
             if hasattr(os, "fchmod"):
-                os.fchmod(fd, stat.S_IMODE(old.st_mode))
+                os.fchmod(fd, stat.S_IMODE(old.st_mode) & 0o777)  # never set-id bits
         view = memoryview(data)
         while view:
             written = os.write(fd, view)

@@ -1049,8 +1049,8 @@ class _SheetTemplate(SimpleDocTemplate):
         if f is not None and getattr(f, "_postponed", False) and not isinstance(
             f, KeepInFrame
         ):
-            if isinstance(f, Table):
-                f.splitInRow = 1
+            if isinstance(f, Table) and _text_cells_only(f):
+                f.splitInRow = 1  # safe only for text: reportlab loops on a tall picture
             if not self._fits_or_splits(f):
                 flowables[0] = KeepInFrame(self.frame._width - self.frame._leftPadding
                                            - self.frame._rightPadding,
@@ -1073,6 +1073,16 @@ class _SheetTemplate(SimpleDocTemplate):
         _, first = parts[0].wrapOn(self.canv, frame._getAvailableWidth(),
                                    frame._y - frame._y1p)
         return first <= frame._y - frame._y1p
+
+
+def _text_cells_only(table: Table) -> bool:
+    """True when every cell is text (strings, paragraphs), which splits inside a row."""
+    def text(value: Any) -> bool:
+        if isinstance(value, (list, tuple)):
+            return all(text(v) for v in value)
+        return value is None or isinstance(value, (str, Paragraph))
+
+    return all(text(cell) for row in getattr(table, "_cellvalues", ()) for cell in row)
 
 
 def _render(c: _Context) -> tuple[bytes, int]:

@@ -534,6 +534,32 @@ def test_nothing_too_tall_ever_raises_a_layout_error(tmp_path: Path, monkeypatch
     assert "w0 " in text and "w3999" in text
 
 
+def test_a_flowable_taller_than_a_page_that_cannot_split_is_shrunk_not_fatal() -> None:
+    # A table cell holding something taller than the page that cannot be split (as a
+    # typeset picture is): reportlab alone raises LayoutError, or loops if told to split
+    # inside the row. Run in a child so a loop fails the test instead of hanging it.
+    done = _child("""
+        import io
+        from reportlab.lib.styles import getSampleStyleSheet
+        from reportlab.platypus import Paragraph, Spacer, Table
+        from solvers import report
+
+        class Tall(Spacer):  # 2000 pt, never splits
+            def split(self, width, height):
+                return []
+
+        body = getSampleStyleSheet()["Normal"]
+        story = [Paragraph("before", body), Tall(100, 2000),
+                 Table([[Tall(100, 2000), Paragraph("beside", body)]]),
+                 Paragraph("after", body)]
+        buffer = io.BytesIO()
+        report._SheetTemplate(buffer, pagesize=report.PAGE_SIZE).build(story)
+        print(buffer.getvalue()[:5].decode())
+    """)
+    assert done.returncode == 0, done.stderr[-2000:]
+    assert done.stdout.strip() == "%PDF-"
+
+
 # ------------------------------------------------------------------ --param numbers
 
 
