@@ -42,7 +42,7 @@ import time
 from collections.abc import Sequence
 from pathlib import Path
 
-STALE_AFTER_S = 600.0  # a save takes well under a second; ten minutes is surely abandoned
+STALE_AFTER_S = 120.0  # a save takes well under a second; two minutes is surely abandoned
 FOREIGN_STALE_AFTER_S = 86_400.0  # another machine's pid cannot be checked from here
 _READ_CHUNK = 1 << 16
 
