@@ -399,18 +399,27 @@ def test_saving_through_a_link_writes_the_target_and_keeps_the_link(tmp_path: Pa
 
 
 def _leave_temp(folder: Path, target: str) -> Path:
-    """A writer killed mid-save (os._exit: no cleanup at all), as kill -9 leaves it."""
-    done = _child("""
-        import os, sys
+    """Kill -9 a writer mid-save (temp file written, not yet renamed); the temp it left."""
+    code = textwrap.dedent("""
+        import sys, time
         from pathlib import Path
         from solvers import files
         tmp = files._stage(Path(sys.argv[1]) / sys.argv[2], b"half a worksheet" * 1000)
-        print(tmp)
-        sys.stdout.flush()
-        os._exit(9)
-    """, str(folder), target)
-    assert done.returncode == 9, done.stderr
-    return Path(done.stdout.strip())
+        print(tmp, flush=True)
+        time.sleep(600)  # the rename never comes: SIGKILL arrives first
+    """)
+    child = subprocess.Popen([sys.executable, "-c", code, str(folder), target], cwd=ROOT,
+                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                             stdin=subprocess.DEVNULL)
+    try:
+        line = child.stdout.readline().strip()  # the child exits (EOF) if it failed
+    finally:
+        child.kill()  # SIGKILL: no cleanup handler of any kind runs
+        child.wait(timeout=CHILD_TIMEOUT_S)
+        child.stdout.close()
+        child.stderr.close()
+    assert line, "the writer did not get as far as its temporary file"
+    return Path(line)
 
 
 @posix_only
