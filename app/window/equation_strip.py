@@ -225,7 +225,8 @@ def limit_text(editor: QPlainTextEdit, limit: int, what: str) -> None:
             cursor.removeSelectedText()
             if len(editor.toPlainText()) > limit:  # set from code, cursor at 0: cut the end
                 editor.setPlainText(editor.toPlainText()[:limit])
-            editor.setTextCursor(cursor)
+            else:
+                editor.setTextCursor(cursor)
             message = f"{what} is limited to {limit} characters; the rest was left out"
             editor.setProperty("limitMessage", message)
             QToolTip.showText(editor.mapToGlobal(editor.cursorRect().bottomLeft()), message,
