@@ -179,14 +179,24 @@ def _fail(where: str, what: str) -> WorksheetError:
     return WorksheetError(f"{where}: {what}", where)
 
 
-class _LongInteger(str):
-    """A JSON integer with more than MAX_DIGITS digits, kept as text so that the field
-    holding it can be named (Python refuses to convert more than 4300 digits at all)."""
+@dataclass(frozen=True)
+class _LongInteger:
+    """A JSON integer with more than MAX_DIGITS digits, kept unconverted so that the
+    field holding it can be named (Python refuses to convert over 4300 digits at all)."""
+
+    digits: int
+
+    def __repr__(self) -> str:
+        return f"<integer of {self.digits} digits>"
 
 
 def _json_int(text: str) -> int | _LongInteger:
     digits = len(text.lstrip("-"))
-    return _LongInteger(text) if digits > MAX_DIGITS else int(text)
+    return _LongInteger(digits) if digits > MAX_DIGITS else int(text)
+
+
+def _type_name(value: Any) -> str:
+    return "int" if isinstance(value, _LongInteger) else type(value).__name__
 
 
 def _shown(value: Any, room: int = 40) -> str:
@@ -197,9 +207,9 @@ def _shown(value: Any, room: int = 40) -> str:
 
 def _number(value: Any, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
     if isinstance(value, _LongInteger):
-        raise _fail(where, f"number too large ({len(value.lstrip('-'))} digits)")
+        raise _fail(where, f"number too large ({value.digits} digits)")
     if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise _fail(where, f"must be a number, got {type(value).__name__}")
+        raise _fail(where, f"must be a number, got {_type_name(value)}")
     if isinstance(value, int) and abs(value) > 10**308:
         raise _fail(where, "number too large")
     x = float(value)
@@ -220,7 +230,7 @@ def _text(value: Any, where: str, limit: int = MAX_NOTE) -> str:
     if value is None:
         return ""
     if not isinstance(value, str):
-        raise _fail(where, f"must be text, got {type(value).__name__}")
+        raise _fail(where, f"must be text, got {_type_name(value)}")
     if len(value) > limit:
         raise _fail(where, f"too long ({len(value)} characters, limit {limit})")
     try:
@@ -236,7 +246,7 @@ def _text(value: Any, where: str, limit: int = MAX_NOTE) -> str:
 
 def _mapping(value: Any, where: str) -> Mapping[str, Any]:
     if not isinstance(value, Mapping):
-        raise _fail(where, f"must be an object, got {type(value).__name__}")
+        raise _fail(where, f"must be an object, got {_type_name(value)}")
     return value
 
 

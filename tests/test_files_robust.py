@@ -177,6 +177,7 @@ def test_the_recovery_check_at_start_up_skips_fifos_in_its_folder(tmp_path: Path
     ("parameters[0].value", lambda d, n: d["parameters"][0].__setitem__("value", n)),
     ("settings.max_iter", lambda d, n: d["settings"].__setitem__("max_iter", n)),
     ("version", lambda d, n: d.__setitem__("version", n)),
+    ("title", lambda d, n: d.__setitem__("title", n)),  # a number where text belongs
 ])
 def test_a_5000_digit_integer_is_a_worksheet_error_naming_the_field(field, place) -> None:
     data = json.loads(wsmod.dumps(_sheet()))
