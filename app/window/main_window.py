@@ -780,9 +780,13 @@ class MainWindow(QMainWindow):
         except (OSError, ValueError) as exc:
             why = write_problem(path, exc)
             self.last_error = why
+            # A field past the worksheet's limits is refused before writing (it could not
+            # be opened again); anything else is about the folder.
+            fix = ("correct that field and save again" if isinstance(exc, WorksheetError)
+                   else "try another folder")
             QMessageBox.warning(self, "Cannot save worksheet",
                                 f"{path} was not written:\n{why}\n\nNothing on screen was lost; "
-                                "try another folder.")
+                                f"{fix}.")
             return False
         self.path = path
         self._doc = ws
