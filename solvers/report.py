@@ -288,7 +288,10 @@ def _worksheet_identity(
             raise ReportError(
                 f"{path}: cannot read the worksheet file to hash it ({exc.strerror or exc})"
             ) from None
-        return path.name, hashlib.sha256(data).hexdigest(), "SHA-256 of the worksheet file's bytes"
+        # A name that is not UTF-8 (bytes from another system) is shown with U+FFFD in
+        # the sheet and CSV: the text must be encodable; the hash still covers the file.
+        shown = os.fsencode(path.name).decode("utf-8", "replace")
+        return shown, hashlib.sha256(data).hexdigest(), "SHA-256 of the worksheet file's bytes"
     try:
         text = dumps(ws)
     except ValueError as exc:

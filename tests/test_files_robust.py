@@ -305,6 +305,18 @@ def test_a_lone_surrogate_is_refused_on_open_and_on_save(tmp_path: Path) -> None
     assert wsmod.load(path).notes == "pump \U0001f527 ok"
 
 
+@pytest.mark.skipif(sys.platform != "linux", reason="needs a file system that takes any bytes")
+def test_a_worksheet_whose_name_is_not_utf8_can_be_reported(tmp_path: Path) -> None:
+    from solvers.report import write_report
+
+    path = Path(os.fsdecode(bytes(tmp_path) + b"/calc-\xff.json"))  # a name from a Latin-1 system
+    wsmod.save(_sheet(settings=Settings(methods=("newton",), x0=1.0)), path)
+    result = write_report(wsmod.load(path), tmp_path / "calc.pdf", csv_dir=tmp_path / "csv",
+                          worksheet_path=path)
+    assert "calc-\ufffd.json" in _text_of(result.pdf_path)
+    assert "# worksheet: calc-\ufffd.json" in result.csv_paths[0].read_text("utf-8")
+
+
 # ------------------------------------------------------------------ recovery record times
 
 
