@@ -106,14 +106,33 @@ def _param(text: str) -> tuple[str, float]:
         raise argparse.ArgumentTypeError(f"{text!r} is not NAME=VALUE")
     if not (name.isidentifier() and name.isascii()) or name.startswith("_"):
         raise argparse.ArgumentTypeError(f"{name!r} is not a valid parameter name")
+    return name, _param_value(name, value)
+
+
+def _param_value(name: str, text: str) -> float:
+    """A parameter value, read by the equation parser's own number rule.
+
+    Python's ``float`` takes '1_000' and fullwidth digits ('１'); the parser refuses
+    them. The text goes through the parser first (its tokenizer and its checks on
+    numbers beyond double precision), so the command line refuses exactly what the
+    equation would, with the same message; then it must be one plain number.
+    """
+    from solvers.equation import EquationError, free_names
+
+    shown = text.strip()
+    if not shown:
+        raise argparse.ArgumentTypeError(f"value of {name} is empty; give a number")
     try:
-        number = float(value)
+        free_names(shown)
+    except EquationError as exc:
+        raise argparse.ArgumentTypeError(f"value of {name}: {exc}") from None
+    try:
+        number = float(shown)
     except ValueError:
-        shown = value.strip()
         raise argparse.ArgumentTypeError(f"value of {name} ({shown!r}) is not a number") from None
     if not math.isfinite(number):
         raise argparse.ArgumentTypeError(f"value of {name} must be finite")
-    return name, number
+    return number
 
 
 def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool) -> None:
@@ -417,8 +436,9 @@ def cmd_report(args: argparse.Namespace) -> int:
 
         if not args.csv_dir.strip():
             raise InputError("--csv-dir: the path is empty; give a folder")
-        if not Path(args.csv_dir).is_dir():
-            raise InputError(f"{args.csv_dir}: no such folder for the CSV files")
+        if Path(args.csv_dir).exists() and not Path(args.csv_dir).is_dir():
+            raise InputError(f"{args.csv_dir}: is a file, not a folder for the CSV files")
+        # a missing folder is created by the report (and removed again if it fails)
     result = report.write_report(
         ws, args.pdf, csv_dir=args.csv_dir, worksheet_path=args.worksheet, overwrite=args.force
     )

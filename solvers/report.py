@@ -42,12 +42,19 @@ Failure behaviour
 * An output path that cannot be written (missing folder, a folder in its place,
   no permission) or that exists while ``overwrite`` is False raises
   :class:`ReportError` (a ``ValueError``) with one line naming the path, *before*
-  any solving is done. Files are written to a temporary file in the target folder
-  and renamed into place, so a failure never leaves half a PDF or CSV behind.
+  any solving is done. A missing CSV folder is created (and removed again if the
+  sheet then fails). The PDF and its CSV files are written all or nothing
+  (:func:`solvers.files.write_group`): each to a temporary file in its target
+  folder, and renamed into place only when all are complete, so a full disk
+  never leaves half a PDF, or CSV files without their sheet.
 * An equation that does not parse raises :class:`solvers.equation.EquationError`
   unchanged (also a ``ValueError`` with one line), as :func:`pipeline.solve` does.
 * A figure or a typeset formula that cannot be drawn is replaced on the sheet by a
-  sentence saying so; the numbers are never dropped.
+  sentence saying so; the numbers are never dropped. A typeset formula taller than
+  ``MAX_MATH_HEIGHT`` is scaled down to fit, to no less than ``MIN_MATH_SCALE``;
+  below that the text as entered stands in for it. Anything else too tall for a
+  page (a table row with a very long note) is split across pages or, when it
+  cannot be split, shrunk to the page: the layout never fails.
 * A run with more than ``MAX_TABLE_ROWS`` iterates (only possible with a huge
   iteration cap) shows its first and last ``MAX_TABLE_ROWS // 2`` on the sheet, says
   how many rows it left out, and the runs CSV holds them all.
@@ -60,7 +67,6 @@ import io
 import math
 import os
 import struct
-import tempfile
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -83,6 +89,7 @@ from reportlab.platypus import (
     CondPageBreak,
     Flowable,
     Image,
+    KeepInFrame,
     KeepTogether,
     Paragraph,
     SimpleDocTemplate,
@@ -93,9 +100,9 @@ from reportlab.platypus import (
 
 from solvers import export, pipeline, printing
 from solvers.caution import CAUTION
-from solvers.files import write_atomic
+from solvers.files import FileRefused, check_writable, read_limited, write_group
 from solvers.result import REASON_TEXT, Run
-from solvers.worksheet import Worksheet, dumps
+from solvers.worksheet import MAX_FILE_BYTES, Worksheet, dumps
 
 TOOL_NAME = "zerotrace"
 PAGE_SIZE = A4
@@ -109,6 +116,9 @@ RESIDUAL_DIGITS = 50  # working precision of the independent residual (decimal d
 # sheet shows the first and last half and points to the runs CSV for the rest.
 MAX_TABLE_ROWS = 1000
 SHORT_TABLE_ROWS = 40  # iteration tables up to this long are never split across pages
+FRAME_HEIGHT = PAGE_SIZE[1] - MARGIN_TOP - MARGIN_BOTTOM
+MAX_MATH_HEIGHT = 0.45 * FRAME_HEIGHT  # a typeset formula takes at most about half a page
+MIN_MATH_SCALE = 0.55  # below ~6.5 pt on paper the text as entered reads better
 
 NUMERICAL_DERIVATIVE_NOTE = (
     "No symbolic derivative was available: Newton–Raphson used a numerical "
@@ -275,12 +285,17 @@ def _worksheet_identity(
     if worksheet_path is not None:
         path = Path(worksheet_path)
         try:
-            data = path.read_bytes()
+            data = read_limited(path, MAX_FILE_BYTES, what="worksheet")
+        except FileRefused as exc:
+            raise ReportError(f"cannot hash the worksheet file: {exc}") from None
         except OSError as exc:
             raise ReportError(
                 f"{path}: cannot read the worksheet file to hash it ({exc.strerror or exc})"
             ) from None
-        return path.name, hashlib.sha256(data).hexdigest(), "SHA-256 of the worksheet file's bytes"
+        # A name that is not UTF-8 (bytes from another system) is shown with U+FFFD in
+        # the sheet and CSV: the text must be encodable; the hash still covers the file.
+        shown = os.fsencode(path.name).decode("utf-8", "replace")
+        return shown, hashlib.sha256(data).hexdigest(), "SHA-256 of the worksheet file's bytes"
     try:
         text = dumps(ws)
     except ValueError as exc:
@@ -307,24 +322,33 @@ def _check_target(path: Path, overwrite: bool) -> Path:
     if path.exists() and not overwrite:
         raise ReportError(f"{path}: already exists (use --force to replace it)")
     try:  # the only reliable writability test is to write (os.access lies for root)
-        fd, probe = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".probe", dir=folder)
-        os.close(fd)
-        os.unlink(probe)
+        check_writable(folder)
     except OSError as exc:
         raise ReportError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
     return path
 
 
-def _prepare_csv_dir(csv_dir: Path) -> Path:
+def _prepare_csv_dir(csv_dir: Path) -> list[Path]:
+    """Create the CSV folder (and missing parents); the folders created, deepest last."""
     if csv_dir.exists() and not csv_dir.is_dir():
         raise ReportError(f"{csv_dir}: exists and is not a folder (CSV folder)")
+    created = [p for p in (csv_dir, *csv_dir.parents) if not p.exists()][::-1]
     try:
         csv_dir.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise ReportError(
             f"{csv_dir}: cannot create the CSV folder ({exc.strerror or exc})"
         ) from None
-    return csv_dir
+    return created
+
+
+def _remove_empty(folders: Sequence[Path]) -> None:
+    """Remove folders this run created, deepest first, if they are still empty."""
+    for folder in reversed(folders):
+        try:
+            folder.rmdir()
+        except OSError:
+            return
 
 
 # --------------------------------------------------------------------- images
@@ -365,14 +389,16 @@ def _math_png(latex: str, size: float = 12.0) -> tuple[bytes, float, float] | No
     return buffer.getvalue(), pixels_w * 72 / FIGURE_DPI, pixels_h * 72 / FIGURE_DPI
 
 
-def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
+def _math(latex: str, max_width: float, size: float = 12.0,
+          max_height: float = MAX_MATH_HEIGHT) -> Image | None:
     """Typeset ``latex`` with matplotlib mathtext; None when mathtext cannot set it legibly."""
     typeset = _math_png(latex, size)
     if typeset is None:
         return None
     png, width, height = typeset
-    scale = min(1.0, max_width / width) if width > 0 else 1.0
-    if scale < 0.55:  # would print below ~6.5 pt: hard to read, the plain text is clearer
+    scale = min(1.0, max_width / width if width > 0 else 1.0,
+                max_height / height if height > 0 else 1.0)
+    if scale < MIN_MATH_SCALE:  # would print below ~6.5 pt: the plain text is clearer
         return None
     return _png_image(png, width * scale, height * scale)
 
@@ -1069,9 +1095,60 @@ def _canvas_maker(draw: Callable[[rl_canvas.Canvas, int], None], pages: list[int
     return _TwoPassCanvas
 
 
+class _SheetTemplate(SimpleDocTemplate):
+    """SimpleDocTemplate whose layout never fails on a flowable too tall for a page.
+
+    reportlab puts a flowable that fits nowhere on the current page on a fresh one
+    (marking it ``_postponed``) and raises LayoutError if it fails there too. Before
+    that second try this template lets a table split inside a row (a very long note
+    or derivative then runs on over the page) and shrinks anything that still cannot
+    be split to the frame, so the sheet is always written.
+    """
+
+    def handle_flowable(self, flowables: list[Flowable]) -> None:  # reportlab's name
+        f = flowables[0] if flowables else None
+        if f is not None and getattr(f, "_postponed", False) and not isinstance(
+            f, KeepInFrame
+        ):
+            if isinstance(f, Table) and _text_cells_only(f):
+                f.splitInRow = 1  # safe only for text: reportlab loops on a tall picture
+            if not self._fits_or_splits(f):
+                flowables[0] = KeepInFrame(self.frame._width - self.frame._leftPadding
+                                           - self.frame._rightPadding,
+                                           self.frame._height - self.frame._topPadding
+                                           - self.frame._bottomPadding,
+                                           [f], mode="shrink")
+        super().handle_flowable(flowables)
+
+    def _fits_or_splits(self, f: Flowable) -> bool:
+        frame = self.frame
+        try:
+            _, height = f.wrapOn(self.canv, frame._getAvailableWidth(), frame._y - frame._y1p)
+            if height <= frame._y - frame._y1p:
+                return True
+            parts = f.splitOn(self.canv, frame._getAvailableWidth(), frame._y - frame._y1p)
+        except Exception:  # noqa: BLE001 - a flowable that cannot even be measured: shrink it
+            return False
+        if not parts:
+            return False
+        _, first = parts[0].wrapOn(self.canv, frame._getAvailableWidth(),
+                                   frame._y - frame._y1p)
+        return first <= frame._y - frame._y1p
+
+
+def _text_cells_only(table: Table) -> bool:
+    """True when every cell is text (strings, paragraphs), which splits inside a row."""
+    def text(value: Any) -> bool:
+        if isinstance(value, (list, tuple)):
+            return all(text(v) for v in value)
+        return value is None or isinstance(value, (str, Paragraph))
+
+    return all(text(cell) for row in getattr(table, "_cellvalues", ()) for cell in row)
+
+
 def _render(c: _Context) -> tuple[bytes, int]:
     buffer = io.BytesIO()
-    doc = SimpleDocTemplate(
+    doc = _SheetTemplate(
         buffer,
         pagesize=PAGE_SIZE,
         leftMargin=MARGIN_X,
@@ -1127,9 +1204,23 @@ def write_report(
             progress(fraction)
 
     pdf = _check_target(Path(pdf_path), overwrite)
+    created: list[Path] = []
+    try:
+        result = _write_report(ws, pdf, csv_dir, worksheet_path, overwrite, solution, scan,
+                               report, created)
+    except BaseException:
+        _remove_empty(created)  # all or nothing: not even an empty CSV folder is left
+        raise
+    return result
+
+
+def _write_report(ws: Worksheet, pdf: Path, csv_dir: Any, worksheet_path: Any,
+                  overwrite: bool, solution: Any, scan: Any,
+                  report: Callable[[float], None], created: list[Path]) -> ReportResult:
     csv_targets: list[Path] = []
     if csv_dir is not None:
-        folder = _prepare_csv_dir(Path(csv_dir))
+        folder = Path(csv_dir)
+        created += _prepare_csv_dir(folder)
         names = [f"{pdf.stem}-runs.csv"]
         if scan is not None or ws.scan is not None:
             names.append(f"{pdf.stem}-roots.csv")
@@ -1158,13 +1249,17 @@ def write_report(
         solution,
         extra={"calc number": _calc_number(ws), "worksheet": file_name, "worksheet sha256": sha},
     )
-    try:  # the PDF goes last: when it is there, its CSV files are complete too
-        for target in csv_targets:
-            if target.name.endswith("-runs.csv"):
-                export.runs_csv(solution.runs, target, meta=meta, overwrite=overwrite)
-            else:
-                export.roots_csv(scan, target, meta=meta, overwrite=overwrite)
-        write_atomic(pdf, data)
+    files: list[tuple[Path, bytes]] = []
+    for target in csv_targets:
+        text = io.StringIO()
+        if target.name.endswith("-runs.csv"):
+            export.runs_csv(solution.runs, text, meta=meta)
+        else:
+            export.roots_csv(scan, text, meta=meta)
+        files.append((target, text.getvalue().encode("utf-8")))
+    files.append((pdf, data))  # renamed last: when it is there, its CSV files are too
+    try:  # all or nothing: a full disk leaves neither the sheet nor its CSV files
+        write_group(files, overwrite=overwrite)
     except OSError as exc:
         raise ReportError(f"cannot write the report: {exc}") from None
     report(1.0)

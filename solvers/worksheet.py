@@ -20,10 +20,18 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
     }
 
 Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
-whose message names the field (``settings.xtol: must be a positive number``).
+whose message names the field (``settings.xtol: must be a positive number``); every
+failure to load, from a missing file to a 5000-digit integer, is a ``WorksheetError``
+with a one-line message. Only a regular file up to :data:`MAX_FILE_BYTES` is read
+(a FIFO or ``/dev/zero`` is refused at once, see :func:`solvers.files.read_limited`).
+
+The limits below are the one set used everywhere: loading checks them, saving
+checks them before writing (:func:`validate`), and the window's text fields stop
+typing at them, so whatever can be saved can be opened again.
+
 Saving is atomic: the text goes to a temporary file in the same folder, is flushed
 and fsynced, then renamed over the target, so a crash or a full disk mid-save
-leaves the previous file intact.
+leaves the previous file intact (modes and links: :mod:`solvers.files`).
 """
 
 from __future__ import annotations
@@ -36,14 +44,21 @@ from dataclasses import asdict, dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-from solvers.files import write_atomic
+from solvers.files import FileRefused, read_limited, write_atomic
 
 FORMAT = "zerotrace-worksheet"
 VERSION = 1
+
+# ---- the limits (one set: load, save and the window's text fields all use these)
 MAX_FILE_BYTES = 2_000_000  # a worksheet is a few kB; refuse anything absurd before parsing
 MAX_TEXT = 2_000  # characters in the equation: the parser's own limit (equation.MAX_LENGTH)
-MAX_NOTE = 100_000  # characters in free text fields
+MAX_EQUATION = MAX_TEXT
+MAX_TITLE = 500  # characters in the title
+MAX_NOTE = 100_000  # characters in free text: notes, parameter notes, why a design value
+MAX_CALC_FIELD = 200  # characters in calc number, revision, prepared by, checked by
+MAX_NAME = 100  # characters in a name (unknown, parameter)
 MAX_PARAMETERS = 500
+MAX_DIGITS = 400  # digits in a JSON integer; beyond ~309 it is past any double anyway
 
 METHOD_NAMES = ("newton", "secant", "false_position", "illinois", "bisection", "brent")
 DEFAULT_METHODS = ("newton", "secant", "false_position")
@@ -164,9 +179,37 @@ def _fail(where: str, what: str) -> WorksheetError:
     return WorksheetError(f"{where}: {what}", where)
 
 
+@dataclass(frozen=True)
+class _LongInteger:
+    """A JSON integer with more than MAX_DIGITS digits, kept unconverted so that the
+    field holding it can be named (Python refuses to convert over 4300 digits at all)."""
+
+    digits: int
+
+    def __repr__(self) -> str:
+        return f"<integer of {self.digits} digits>"
+
+
+def _json_int(text: str) -> int | _LongInteger:
+    digits = len(text.lstrip("-"))
+    return _LongInteger(digits) if digits > MAX_DIGITS else int(text)
+
+
+def _type_name(value: Any) -> str:
+    return "int" if isinstance(value, _LongInteger) else type(value).__name__
+
+
+def _shown(value: Any, room: int = 40) -> str:
+    """``repr`` of a value for a one-line message, shortened in the middle."""
+    text = repr(value)
+    return text if len(text) <= room else f"{text[: room // 2]}…{text[-(room // 2):]}"
+
+
 def _number(value: Any, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
+    if isinstance(value, _LongInteger):
+        raise _fail(where, f"number too large ({value.digits} digits)")
     if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise _fail(where, f"must be a number, got {type(value).__name__}")
+        raise _fail(where, f"must be a number, got {_type_name(value)}")
     if isinstance(value, int) and abs(value) > 10**308:
         raise _fail(where, "number too large")
     x = float(value)
@@ -187,15 +230,23 @@ def _text(value: Any, where: str, limit: int = MAX_NOTE) -> str:
     if value is None:
         return ""
     if not isinstance(value, str):
-        raise _fail(where, f"must be text, got {type(value).__name__}")
+        raise _fail(where, f"must be text, got {_type_name(value)}")
     if len(value) > limit:
         raise _fail(where, f"too long ({len(value)} characters, limit {limit})")
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError as exc:  # a lone surrogate ("\\ud800"): not text, cannot be saved
+        code = ord(value[exc.start])
+        raise _fail(
+            where, f"holds an unpaired surrogate U+{code:04X} at character {exc.start + 1}, "
+            "which is not text"
+        ) from None
     return value
 
 
 def _mapping(value: Any, where: str) -> Mapping[str, Any]:
     if not isinstance(value, Mapping):
-        raise _fail(where, f"must be an object, got {type(value).__name__}")
+        raise _fail(where, f"must be an object, got {_type_name(value)}")
     return value
 
 
@@ -218,7 +269,8 @@ def from_dict(data: Any) -> Worksheet:
     data = _mapping(data, "worksheet")
     fmt = data.get("format")
     if fmt != FORMAT:
-        raise _fail("format", f"not a zerotrace worksheet (expected {FORMAT!r}, got {fmt!r})")
+        raise _fail("format",
+                    f"not a zerotrace worksheet (expected {FORMAT!r}, got {_shown(fmt)})")
     version = data.get("version")
     if isinstance(version, bool) or not isinstance(version, int):
         raise _fail("version", "must be a whole number")
@@ -238,9 +290,9 @@ def from_dict(data: Any) -> Worksheet:
         raise _fail("equation", "is empty")
     unknown = data.get("unknown")
     if unknown is not None:
-        unknown = _text(unknown, "unknown", 100)
+        unknown = _text(unknown, "unknown", MAX_NAME)
         if not _is_name(unknown):
-            raise _fail("unknown", f"{unknown!r} is not a valid name")
+            raise _fail("unknown", f"{_shown(unknown)} is not a valid name")
 
     raw_params = data.get("parameters", [])
     if not isinstance(raw_params, list):
@@ -252,11 +304,11 @@ def from_dict(data: Any) -> Worksheet:
     for i, raw in enumerate(raw_params):
         where = f"parameters[{i}]"
         raw = _mapping(raw, where)
-        name = _text(raw.get("name"), f"{where}.name", 100)
+        name = _text(raw.get("name"), f"{where}.name", MAX_NAME)
         if not _is_name(name):
-            raise _fail(f"{where}.name", f"{name!r} is not a valid name")
+            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
         if name in seen:
-            raise _fail(f"{where}.name", f"{name!r} appears twice")
+            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
         seen.add(name)
         if "value" not in raw:
             raise _fail(f"{where}.value", "missing")
@@ -273,7 +325,7 @@ def from_dict(data: Any) -> Worksheet:
         if not isinstance(m, str) or m.replace("-", "_") not in METHOD_NAMES:
             raise _fail(
                 f"settings.methods[{i}]",
-                f"unknown method {m!r}; choose from {', '.join(METHOD_NAMES)}",
+                f"unknown method {_shown(m)}; choose from {', '.join(METHOD_NAMES)}",
             )
         if m.replace("-", "_") in methods:  # one lane and one column of results per method
             raise _fail(f"settings.methods[{i}]", f"{m!r} is listed twice")
@@ -313,10 +365,10 @@ def from_dict(data: Any) -> Worksheet:
 
     calc_raw = _mapping(data.get("calc") or {}, "calc")
     calc = CalcInfo(
-        number=_text(calc_raw.get("number"), "calc.number", 200),
-        revision=_text(calc_raw.get("revision"), "calc.revision", 200),
-        prepared_by=_text(calc_raw.get("prepared_by"), "calc.prepared_by", 200),
-        checked_by=_text(calc_raw.get("checked_by"), "calc.checked_by", 200),
+        number=_text(calc_raw.get("number"), "calc.number", MAX_CALC_FIELD),
+        revision=_text(calc_raw.get("revision"), "calc.revision", MAX_CALC_FIELD),
+        prepared_by=_text(calc_raw.get("prepared_by"), "calc.prepared_by", MAX_CALC_FIELD),
+        checked_by=_text(calc_raw.get("checked_by"), "calc.checked_by", MAX_CALC_FIELD),
     )
 
     sel_raw = data.get("selection")
@@ -334,7 +386,7 @@ def from_dict(data: Any) -> Worksheet:
         parameters=tuple(params),
         settings=settings,
         scan=scan,
-        title=_text(data.get("title"), "title", 500),
+        title=_text(data.get("title"), "title", MAX_TITLE),
         notes=_text(data.get("notes"), "notes"),
         calc=calc,
         selection=selection,
@@ -342,10 +394,11 @@ def from_dict(data: Any) -> Worksheet:
 
 
 def loads(text: str) -> Worksheet:
+    """Validate worksheet JSON text; every failure is a :class:`WorksheetError`."""
     if len(text) > MAX_FILE_BYTES:
         raise WorksheetError(f"file too large ({len(text)} characters) for a worksheet")
     try:
-        data = json.loads(text, parse_constant=_refuse_constant)
+        data = json.loads(text, parse_constant=_refuse_constant, parse_int=_json_int)
     except WorksheetError:
         raise
     except json.JSONDecodeError as exc:
@@ -354,6 +407,8 @@ def loads(text: str) -> Worksheet:
         ) from None
     except RecursionError:
         raise WorksheetError("not a worksheet: JSON nested too deeply") from None
+    except ValueError as exc:  # any other refusal of the decoder: still one line, still ours
+        raise WorksheetError(f"not valid JSON: {str(exc).splitlines()[0][:200]}") from None
     return from_dict(data)
 
 
@@ -362,21 +417,25 @@ def _refuse_constant(name: str) -> Any:
 
 
 def load(path: str | os.PathLike[str]) -> Worksheet:
-    """Read and validate a worksheet file; every failure is a :class:`WorksheetError`."""
+    """Read and validate a worksheet file; every failure is a :class:`WorksheetError`.
+
+    Only a regular file of at most :data:`MAX_FILE_BYTES` is read; a FIFO, a device,
+    a socket or a folder (also behind a symbolic link) is refused at once, never
+    waited on. Messages are one line and name the file and, for content, the field.
+    """
     p = Path(path)
     try:
-        size = p.stat().st_size
-        if size > MAX_FILE_BYTES:
-            raise WorksheetError(f"{p.name}: file too large ({size} bytes) for a worksheet")
-        raw = p.read_bytes()
-    except WorksheetError:
-        raise
+        raw = read_limited(p, MAX_FILE_BYTES, what="worksheet")
+    except FileRefused as exc:
+        raise WorksheetError(str(exc)) from None
     except FileNotFoundError:
         raise WorksheetError(f"{p}: no such file") from None
     except IsADirectoryError:
         raise WorksheetError(f"{p}: is a folder, not a worksheet file") from None
     except OSError as exc:
         raise WorksheetError(f"{p}: cannot read ({exc.strerror or exc})") from None
+    except ValueError as exc:  # a path the system cannot take (an embedded NUL)
+        raise WorksheetError(f"{_shown(str(p))}: cannot read ({exc})") from None
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
@@ -387,10 +446,39 @@ def load(path: str | os.PathLike[str]) -> Worksheet:
         raise WorksheetError(f"{p.name}: {exc}", exc.field) from None
 
 
-def save(ws: Worksheet, path: str | os.PathLike[str]) -> None:
-    """Write atomically (see :func:`solvers.files.write_atomic`).
+def validate(ws: Worksheet) -> bytes:
+    """The bytes :func:`save` would write, after checking that :func:`load` accepts them.
 
-    Raises ``OSError`` (for example a read-only folder or a full disk); the previous
-    file at ``path``, if any, is untouched in that case and the temp file removed.
+    Applies exactly the checks of loading (the same limits, the same messages) to
+    what would be written, so nothing is saved that cannot be opened again. Raises
+    :class:`WorksheetError` naming the field (a NaN, a title over
+    :data:`MAX_TITLE` characters, an unpaired surrogate, a file over
+    :data:`MAX_FILE_BYTES` bytes).
     """
-    write_atomic(path, dumps(ws).encode("utf-8"))
+    try:
+        text = dumps(ws)
+    except ValueError:  # allow_nan=False: find the field through the loader's own checks
+        text = json.dumps(to_dict(ws), indent=2, ensure_ascii=False, allow_nan=True)
+    try:
+        data = json.loads(text, parse_int=_json_int)
+    except ValueError as exc:  # pragma: no cover - dumps wrote it
+        raise WorksheetError(f"worksheet: cannot be written as JSON ({exc})") from None
+    from_dict(data)  # NaN/inf, lengths, surrogates, names: the load checks, by field
+    raw = text.encode("utf-8")  # from_dict refused every unpaired surrogate
+    if len(raw) > MAX_FILE_BYTES:
+        raise WorksheetError(
+            f"worksheet: would be {len(raw)} bytes, over the {MAX_FILE_BYTES}-byte limit of a "
+            "worksheet file; shorten the notes"
+        )
+    return raw
+
+
+def save(ws: Worksheet, path: str | os.PathLike[str]) -> None:
+    """Check with :func:`validate`, then write atomically (:func:`solvers.files.write_atomic`).
+
+    Raises :class:`WorksheetError` (a ``ValueError``, naming the field) for a
+    worksheet that could not be opened again, before anything is written, and
+    ``OSError`` (a read-only folder, a full disk); the previous file at ``path``, if
+    any, is untouched in every case and no temporary file is left.
+    """
+    write_atomic(path, validate(ws))

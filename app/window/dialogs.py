@@ -13,9 +13,17 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.window.equation_strip import limit_text
 from solvers.caution import CAUTION as CAUTION_FULL
 from solvers.caution import CAUTION_LINE
-from solvers.worksheet import CalcInfo, Selection, Worksheet
+from solvers.worksheet import (
+    MAX_CALC_FIELD,
+    MAX_NOTE,
+    MAX_TITLE,
+    CalcInfo,
+    Selection,
+    Worksheet,
+)
 
 # The window's status bar shows the one-line form; help and about carry the full text.
 CAUTION = CAUTION_LINE
@@ -119,6 +127,12 @@ class CalcDialog(QDialog):
         self.selection = ws.selection
         self.reason = QLineEdit(ws.selection.reason if ws.selection else "")
         self.reason.setEnabled(ws.selection is not None)
+        # The worksheet's own limits, so whatever is typed here can be saved and opened.
+        self.title.setMaxLength(MAX_TITLE)
+        for line in (self.number, self.revision, self.prepared, self.checked):
+            line.setMaxLength(MAX_CALC_FIELD)
+        self.reason.setMaxLength(min(MAX_NOTE, 32767))  # 32767: QLineEdit's own ceiling
+        limit_text(self.notes, MAX_NOTE, "the notes")
         self.reason.setPlaceholderText("take a root as the design value first (Ctrl+D)"
                                        if ws.selection is None else "")
         form = QFormLayout()

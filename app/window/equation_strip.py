@@ -24,12 +24,14 @@ from PySide6.QtWidgets import (
     QScrollArea,
     QSizePolicy,
     QTextEdit,
+    QToolTip,
     QVBoxLayout,
     QWidget,
 )
 
 from app.window.models import number_font
 from solvers.figures import residual_name
+from solvers.worksheet import MAX_EQUATION
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"
@@ -193,6 +195,49 @@ class _MathLabel(QScrollArea):
         self.label.setText("")
 
 
+def _qt_units(text: str) -> int:
+    """Length of ``text`` in Qt's positions (UTF-16 code units)."""
+    return len(text.encode("utf-16-le", "surrogatepass")) // 2
+
+
+def limit_text(editor: QPlainTextEdit, limit: int, what: str) -> None:
+    """Keep ``editor`` at most ``limit`` characters (the worksheet's limit for ``what``).
+
+    QPlainTextEdit has no maximum length. Typing or pasting past the limit keeps what
+    was there and the start of what came in, cutting the excess just before the cursor
+    (never the user's existing text at the end), and says so in a tooltip.
+    """
+    busy = False
+
+    def cap() -> None:
+        nonlocal busy
+        text = editor.toPlainText()
+        excess = len(text) - limit
+        if busy or excess <= 0:
+            return
+        busy = True
+        try:
+            cursor = editor.textCursor()
+            units = text.encode("utf-16-le", "surrogatepass")
+            end = len(units[: 2 * cursor.position()].decode("utf-16-le", "surrogatepass"))
+            start = max(0, end - excess)
+            cursor.setPosition(_qt_units(text[:start]))
+            cursor.setPosition(_qt_units(text[:end]), QTextCursor.MoveMode.KeepAnchor)
+            cursor.removeSelectedText()
+            if len(editor.toPlainText()) > limit:  # set from code, cursor at 0: cut the end
+                editor.setPlainText(editor.toPlainText()[:limit])
+            else:
+                editor.setTextCursor(cursor)
+            message = f"{what} is limited to {limit} characters; the rest was left out"
+            editor.setProperty("limitMessage", message)
+            QToolTip.showText(editor.mapToGlobal(editor.cursorRect().bottomLeft()), message,
+                              editor)
+        finally:
+            busy = False
+
+    editor.textChanged.connect(cap)
+
+
 class EquationStrip(QWidget):
     """Editor, typeset equation and derivative, unknown chooser and status line.
 
@@ -214,6 +259,7 @@ class EquationStrip(QWidget):
         self.editor.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Fixed)
         metrics = self.editor.fontMetrics()
         self.editor.setFixedHeight(int(metrics.lineSpacing() * 2) + 12)
+        limit_text(self.editor, MAX_EQUATION, "the equation")
 
         self.unknown_box = QComboBox()
         self.unknown_box.setObjectName("unknownBox")

@@ -741,10 +741,10 @@ class MainWindow(QMainWindow):
         path = Path(path)
         try:
             ws = worksheet.load(path)
-        except WorksheetError as exc:
-            self.last_error = str(exc)
+        except WorksheetError as exc:  # load turns every failure into one line naming the field
+            self.last_error = str(exc).splitlines()[0] if str(exc) else "cannot be read"
             QMessageBox.warning(self, "Cannot open worksheet",
-                                f"{path.name} was not opened:\n{exc}\n\n"
+                                f"{path.name} was not opened:\n{self.last_error}\n\n"
                                 "The worksheet on screen is unchanged.")
             return False
         self.load_worksheet(ws, None if as_copy else path)
@@ -781,9 +781,13 @@ class MainWindow(QMainWindow):
         except (OSError, ValueError) as exc:
             why = write_problem(path, exc)
             self.last_error = why
+            # A field past the worksheet's limits is refused before writing (it could not
+            # be opened again); anything else is about the folder.
+            fix = ("correct that field and save again" if isinstance(exc, WorksheetError)
+                   else "try another folder")
             QMessageBox.warning(self, "Cannot save worksheet",
                                 f"{path} was not written:\n{why}\n\nNothing on screen was lost; "
-                                "try another folder.")
+                                f"{fix}.")
             return False
         self.path = path
         self._doc = ws
@@ -975,6 +979,11 @@ class MainWindow(QMainWindow):
     def offer_recovery(self) -> bool:
         """Offer the newest worksheet an earlier session left unsaved; True if restored."""
         left = self.recovery.left_behind()
+        unreadable = getattr(self.recovery, "unreadable", [])
+        if unreadable:  # never dropped silently: say where the copy is kept
+            path, why = unreadable[0]
+            self.last_error = f"A recovery copy could not be read and was kept: {path} ({why})"
+            self.statusBar().showMessage(self.last_error, 15000)
         if not left:
             return False
         item: Recovered = left[0]

@@ -11,6 +11,7 @@ without closing cleanly are offered at the next start.
 from __future__ import annotations
 
 import json
+import math
 import os
 import time
 import uuid
@@ -18,10 +19,12 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from solvers import worksheet
+from solvers.files import read_limited, write_atomic
 from solvers.worksheet import Worksheet, WorksheetError
 
 ENV_VAR = "ZEROTRACE_RECOVERY_DIR"
 PREFIX = "unsaved-"
+MAX_META_BYTES = 64_000  # the meta file is a few hundred bytes
 
 
 def recovery_dir() -> Path:
@@ -63,6 +66,7 @@ class RecoveryStore:
         self.session = f"{os.getpid()}-{uuid.uuid4().hex[:8]}"
         self.path = self.folder / f"{PREFIX}{self.session}.json"
         self.last_error = ""
+        self.unreadable: list[tuple[Path, str]] = []  # filled by left_behind()
 
     def write(self, ws: Worksheet, origin: str | None) -> bool:
         """Save the recovery copy; False (with ``last_error``) if the folder is unusable."""
@@ -70,7 +74,7 @@ class RecoveryStore:
             self.folder.mkdir(parents=True, exist_ok=True)
             worksheet.save(ws, self.path)
             meta = {"origin": origin, "saved_at": time.time(), "session": self.session}
-            _meta_path(self.path).write_text(json.dumps(meta), encoding="utf-8")
+            write_atomic(_meta_path(self.path), json.dumps(meta).encode("utf-8"))
         except (OSError, ValueError) as exc:
             self.last_error = f"autosave failed: {exc}"
             return False
@@ -88,8 +92,15 @@ class RecoveryStore:
         return self.path.exists()
 
     def left_behind(self) -> list[Recovered]:
-        """Recovery files of other sessions, newest first (unreadable ones are skipped)."""
+        """Recovery files of other sessions, newest first.
+
+        A copy that cannot be read is never offered and never deleted: it stays in the
+        folder and is listed in :attr:`unreadable` with the reason, so the window can
+        say where it is. Reading never blocks or fills memory (a FIFO or a link to a
+        device in the folder is refused like any unreadable copy).
+        """
         found: list[Recovered] = []
+        self.unreadable = []
         try:
             candidates = sorted(self.folder.glob(f"{PREFIX}*.json"))
         except OSError:
@@ -99,15 +110,42 @@ class RecoveryStore:
                 continue
             try:
                 ws = worksheet.load(path)
-            except WorksheetError:
+            except WorksheetError as exc:
+                self.unreadable.append((path, str(exc)))
                 continue
-            origin, saved_at = None, path.stat().st_mtime
-            try:
-                meta = json.loads(_meta_path(path).read_text(encoding="utf-8"))
-                origin = meta.get("origin") if isinstance(meta.get("origin"), str) else None
-                saved_at = float(meta.get("saved_at", saved_at))
-            except (OSError, ValueError, TypeError, AttributeError):
-                pass
+            origin, saved_at = _read_meta(path)
             found.append(Recovered(path, ws, origin, saved_at))
         found.sort(key=lambda r: r.saved_at, reverse=True)
         return found
+
+
+def _read_meta(path: Path) -> tuple[str | None, float]:
+    """(origin, saved_at) from the meta file; the copy's own time where the meta is bad."""
+    try:
+        fallback = path.stat().st_mtime
+    except OSError:
+        fallback = time.time()
+    fallback = _plausible_time(fallback, time.time())
+    try:
+        meta = json.loads(read_limited(_meta_path(path), MAX_META_BYTES).decode("utf-8"))
+        if not isinstance(meta, dict):
+            return None, fallback
+        origin = meta.get("origin") if isinstance(meta.get("origin"), str) else None
+        saved = meta.get("saved_at", fallback)
+        if isinstance(saved, bool) or not isinstance(saved, (int, float)):
+            return origin, fallback
+        return origin, _plausible_time(float(saved), fallback)
+    except (OSError, ValueError, RecursionError):
+        return None, fallback
+
+
+def _plausible_time(value: float, fallback: float) -> float:
+    """``value`` if it is a time the clock can show (1e300 and NaN are not), else ``fallback``."""
+    try:
+        if math.isfinite(value) and value >= 0:
+            time.localtime(value)
+            time.strftime("%Y-%m-%d %H:%M", time.localtime(value))
+            return value
+    except (OverflowError, OSError, ValueError):
+        pass
+    return fallback
