@@ -142,7 +142,11 @@ def test_the_plot_bar_is_our_own_and_copies_and_saves_the_picture(qtbot, window,
     # The read-out names the unknown and the residual, not "x=… y=…".
     QTest.mouseMove(canvas, _at(canvas, ax, 1.5, 0.25))
     text = window.plot.readout.text()
-    assert text.startswith("x = 1.5") and "f(x) = " in text, text
+    # The pointer lands on a whole pixel: x is 1.5 to within one pixel's width of data.
+    lo, hi = ax.get_xlim()
+    pixel = (hi - lo) / ax.bbox.width * (canvas.device_pixel_ratio or 1.0)
+    assert text.startswith("x = ") and "f(x) = " in text, text
+    assert float(text.split()[2]) == pytest.approx(1.5, abs=1.5 * pixel), text
 
 
 def test_each_solve_updates_the_kept_axes_instead_of_building_a_new_one(qtbot, window):
