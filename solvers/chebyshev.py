@@ -143,9 +143,11 @@ def _colleagues(cs: np.ndarray) -> np.ndarray:
 _NEAR_BOUND = 1.002
 
 
-def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
+def _zeros(coefficients: list[np.ndarray],
+           between: Callable[[], None] | None = None) -> list[np.ndarray]:
     """Zeros of Chebyshev series in [-1, 1] units, as ``chebroots`` computes them, but with
-    the colleague-matrix eigenvalue problems of equal size solved in one batch."""
+    the colleague-matrix eigenvalue problems of equal size solved in batches of bounded
+    work (``between()`` is called before each batch: the cancel poll)."""
     out: list[np.ndarray] = [np.zeros(0, dtype=complex)] * len(coefficients)
     groups: dict[int, list[int]] = {}
     for i, c in enumerate(coefficients):
@@ -155,12 +157,18 @@ def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
             out[i] = np.array([-c[0] / c[1]], dtype=complex)
         elif len(c) > 2:
             groups.setdefault(len(c), []).append(i)
-    for members in groups.values():
-        # same rotation as numpy's chebroots, for accuracy with small leading coefficients
-        stack = _colleagues(np.stack([coefficients[i] for i in members]))[:, ::-1, ::-1]
-        values = np.linalg.eigvals(stack)
-        for i, v in zip(members, values, strict=True):
-            out[i] = np.asarray(v, dtype=complex)
+    for length, group in groups.items():
+        # about 1e6 multiply-adds of eigenvalue work per batch (a few milliseconds)
+        size = max(1, int(1e6 // length**3))
+        for start in range(0, len(group), size):
+            if between is not None:
+                between()
+            members = group[start:start + size]
+            # same rotation as numpy's chebroots, for accuracy with small leading coefficients
+            stack = _colleagues(np.stack([coefficients[i] for i in members]))[:, ::-1, ::-1]
+            values = np.linalg.eigvals(stack)
+            for i, v in zip(members, values, strict=True):
+                out[i] = np.asarray(v, dtype=complex)
     return out
 
 
@@ -222,7 +230,12 @@ def chebyshev_roots(
                 split += [(u, w), (w, v)]
         level = np.array(split, dtype=float).reshape(-1, 2)
     accepted.sort(key=lambda item: item[0])
-    zeros = _zeros([c for _, _, c in accepted])
+
+    def poll() -> None:
+        if cancel is not None and on_cancel is not None and cancel():
+            on_cancel()
+
+    zeros = _zeros([c for _, _, c in accepted], poll)
     # all zeros of all pieces in one array, each with its piece's centre and half-width
     t = np.concatenate(zeros) if zeros else np.zeros(0, dtype=complex)
     counts = [len(z) for z in zeros]

@@ -74,6 +74,7 @@ import collections
 import functools
 import itertools
 import math
+import time
 import warnings as _warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -100,6 +101,7 @@ _WINDOW = 32  # samples per window in the oscillation check
 _MAX_EXTREMA = 8  # more extrema of f per window than this: resample the window finer
 _RESAMPLE = 8  # refinement factor for an under-resolved window
 _MAX_LEVEL = 2  # at most 64x the base density
+_POLL = 0.02  # seconds of work between two polls of cancel()
 
 
 class ScanCancelled(Exception):
@@ -207,14 +209,25 @@ class _Guarded:
         self.f = f
         self.cancel = cancel
         self.calls = 0
+        self._polled = time.perf_counter()
 
     def check(self) -> None:
-        if self.cancel is not None and self.cancel():
-            raise ScanCancelled("scan cancelled")
+        if self.cancel is not None:
+            self._polled = time.perf_counter()
+            if self.cancel():
+                raise ScanCancelled("scan cancelled")
+
+    def poll(self) -> None:
+        """``check`` when more than ``_POLL`` seconds of work went by since the last one:
+        every f call polls, so a cancel takes effect within about that much work in any
+        loop (sampling, refinement, cross-check) without asking ``cancel`` per iteration."""
+        if self.cancel is not None and time.perf_counter() - self._polled > _POLL:
+            self.check()
 
     def __call__(self, x: np.ndarray) -> np.ndarray:
         x = np.asarray(x, dtype=float)
         self.calls += 1
+        self.poll()
         try:
             return _as_real(self.f(x), x.shape)
         except Exception:  # f raised: evaluate pointwise so the defined points survive
@@ -226,6 +239,7 @@ class _Guarded:
 
     def scalar(self, x: float) -> float:
         """f at one point as a float (NaN when undefined, complex or raising)."""
+        self.poll()
         for arg in (x, None):
             try:
                 y = self.f(x) if arg is not None else self.f(np.array([x]))
@@ -625,7 +639,7 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     return found, poles, jumps, undefined
 
 
-def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run:
+def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
     """The project's Brent on one sample bracket (its ends' f values already known)."""
     known = {float(row[0]): float(row[2]), float(row[1]): float(row[3])}
 
@@ -633,8 +647,11 @@ def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run:
         value = known.pop(x, None)
         return g.scalar(x) if value is None else value
 
-    return brent(f_known, float(row[0]), float(row[1]), xtol=xtol, rtol=_RTOL, ftol=0.0,
-                 max_iter=200)
+    try:
+        return brent(f_known, float(row[0]), float(row[1]), xtol=xtol, rtol=_RTOL, ftol=0.0,
+                     max_iter=200)
+    except ArithmeticError:
+        return None
 
 
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
@@ -757,7 +774,7 @@ def _multiplicity(
     with np.errstate(all="ignore"):
         spread = (np.max(np.where(pair, slopes, -np.inf), axis=1)
                   - np.min(np.where(pair, slopes, np.inf), axis=1))
-    return np.minimum(m, 12), np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
+    return m, np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
 
 
 # ----------------------------------------------------------------------------- the scan
@@ -1103,9 +1120,14 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
         value = known.pop(x, None)
         return g.scalar(x) if value is None else value
 
-    run = brent(f_known, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
-    x = float(run.root)
-    how = "sign change, Brent" + ("" if run.converged else f" (stopped: {run.reason})")
+    try:
+        run = brent(f_known, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
+                    max_iter=200)
+    except ArithmeticError:  # (the scan never fails because an interpolation divided badly)
+        run = None
+    x = float(run.root) if run is not None else math.nan
+    how = "sign change, Brent" + ("" if run is None or run.converged
+                                  else f" (stopped: {run.reason})")
     if not (lo <= x <= hi) or not math.isfinite(x):
         x = float(lo if abs(flo) <= abs(fhi) else hi)
         how = "sign change, bisection (Brent left the bracket)"
@@ -1119,19 +1141,33 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
 
 
 def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
-    """A confirmed touch at xm; with f' refine the extremum by Brent on f'."""
+    """A confirmed touch at xm; with f' refine the extremum by bracketing f'.
+
+    The bracketing is the scan's own vectorised Anderson-Bjorck (:func:`_bracket_all`):
+    its interpolation uses only ratios of f' values, so it is scale-free (f' of x^8 near 0
+    underflows gracefully instead of dividing by zero).
+    """
     how = "touch: |f| minimum (golden section) at noise level"
     if gp is not None:
         dl, dr = gp.scalar(lo), gp.scalar(hi)
         if math.isfinite(dl) and math.isfinite(dr) and dl != 0 and dr != 0 and (dl < 0) != (dr < 0):
-            run = brent(gp.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
-                        max_iter=200)
-            xr = float(run.root)
+            row = np.array([[float(lo), float(hi), dl, dr]])
+            done, blo, bhi, bflo, bfhi = _bracket_all(gp, row, xtol)
+            xr = float(blo[0] if abs(bflo[0]) <= abs(bfhi[0]) else bhi[0])
             level = max(abs(g.scalar(xm)), 16 * float(_noise(g, np.array([xr]), EPS)[0]))
-            if run.converged and lo <= xr <= hi and abs(g.scalar(xr)) <= level:
-                return _Found(xr, False, "touch: f' sign change, Brent on f'; |f| at noise level",
-                              run=run)
+            if done[0] and lo <= xr <= hi and abs(g.scalar(xr)) <= level:
+                return _Found(xr, False, "touch: f' sign change, bracketing on f'; |f| at noise "
+                              "level", run=functools.partial(_safe_brent, gp.scalar, float(lo),
+                                                             float(hi), xtol))
     return _Found(xm, False, how)
+
+
+def _safe_brent(fn, lo: float, hi: float, xtol: float) -> Run | None:
+    """The project's Brent as a record of a root already located; None if it raised."""
+    try:
+        return brent(fn, lo, hi, xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
+    except ArithmeticError:
+        return None
 
 
 def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
