@@ -83,6 +83,7 @@ import numpy as np
 
 from solvers.chebyshev import ChebyshevRoots, chebyshev_roots
 from solvers.methods import brent
+from solvers.noise import noise_level
 from solvers.result import Run
 
 __all__ = [
@@ -728,6 +729,37 @@ def _noise(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
         return np.nanmax(vals, axis=1) - np.nanmin(vals, axis=1)
 
 
+_NOISE_K = 8.0  # |f| within this many standard deviations of its rounding noise is "zero"
+
+
+def _sigma(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
+    """Standard deviation of f's rounding noise at each x (:func:`solvers.noise.noise_level`),
+    0 where it cannot be measured."""
+    s = noise_level(g, np.asarray(x, dtype=float), 1e-3 * max(scale, 1e-300))
+    return np.where(np.isfinite(s), s, 0.0)
+
+
+def _at_noise(g: _Guarded, x: np.ndarray, fx: np.ndarray, xtol: float,
+              scale: float) -> np.ndarray:
+    """Whether |f(x)| at a located minimum of |f| is indistinguishable from zero.
+
+    True where f(x) == 0, or |f(x)| is within 16x the spread of f over a few steps of the
+    minimiser's resolution (max(2 eps |x|, xtol): moving x by what its location is worth
+    moves f by more than f itself), or within ``_NOISE_K`` standard deviations of f's
+    rounding noise. A touch that stops short of zero (x^2 + 1e-20) is none of these.
+    """
+    x, fx = np.asarray(x, dtype=float), np.abs(np.asarray(fx, dtype=float))
+    ok = fx == 0
+    if x.size == 0:
+        return ok
+    spread = _noise(g, x, max(EPS * scale, xtol / (2 * EPS)))
+    ok |= fx <= 16 * spread
+    rest = np.flatnonzero(~ok & np.isfinite(fx))
+    if rest.size:
+        ok[rest] = fx[rest] <= _NOISE_K * _sigma(g, x[rest], scale)
+    return ok
+
+
 def _multiplicity(
     g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -887,9 +919,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
             brackets.append((xb[i], m[i, 2], fb[i], m[i, 5]))
         rest = np.nonzero(~crossed & np.isfinite(fb))[0]
         if len(rest):
-            noise = _noise(g, xb[rest], EPS * scale)
-            neigh = np.minimum(np.abs(m[rest, 3]), np.abs(m[rest, 5]))
-            ok = (fb[rest] == 0) | (np.abs(fb[rest]) <= np.maximum(16 * noise, 1e-14 * neigh))
+            ok = _at_noise(g, xb[rest], fb[rest], xtol, scale)
             for j, i in enumerate(rest):
                 if not ok[j]:
                     continue
@@ -1200,10 +1230,9 @@ def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
             brackets.append((float(lo), float(xb[0]), *((fe, fx) if side > 0 else (fi, fx))))
             brackets.append((float(xb[0]), float(hi), *((fx, fi) if side > 0 else (fx, fe))))
             continue
-        noise = _noise(g, np.array([end]), EPS * scale)[0]
-        if abs(fe) <= max(16 * noise, 1e-14 * abs(fi)):
+        if _at_noise(g, np.array([end]), np.array([fe]), xtol, scale)[0]:
             out.append(_Found(end, True, "range end: |f| at noise level"))
-        elif fb[0] == 0 or abs(fb[0]) <= max(16 * _noise(g, xb, EPS * scale)[0], 1e-14 * abs(fi)):
+        elif _at_noise(g, xb, fb, xtol, scale)[0]:
             out.append(_Found(float(xb[0]), False, "touch: |f| minimum (golden section) at noise "
                               "level"))
     return out
@@ -1310,10 +1339,7 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
             # an interior minimum, not the search running down to the known root's side
             margin = 1e3 * 64 * EPS * np.maximum(np.abs(xb[rest]), EPS)
             inner = (xb[rest] - pr[rest, 0] > margin) & (pr[rest, 1] - xb[rest] > margin)
-            noise = _noise(g, xb[rest], EPS)
-            ends = np.minimum(np.abs(pr[rest, 2]), np.abs(pr[rest, 3]))
-            touch = inner & ((fb[rest] == 0)
-                             | (np.abs(fb[rest]) <= np.maximum(16 * noise, 1e-14 * ends)))
+            touch = inner & _at_noise(g, xb[rest], fb[rest], xtol, 1.0)
             for i in rest[touch]:
                 found.append(_touch(g, gp, pr[i, 0], pr[i, 1], float(xb[i]), xtol))
     if brackets:
@@ -1493,9 +1519,7 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
                     brackets += [(mm[i, 0], xb[i], mm[i, 3], fb[i]),
                                  (xb[i], mm[i, 2], fb[i], mm[i, 5])]
                     continue
-                noise = _noise(g, xb[i:i + 1], EPS * scale)[0]
-                neigh = min(abs(mm[i, 3]), abs(mm[i, 5]))
-                if fb[i] == 0 or abs(fb[i]) <= max(16 * noise, 1e-14 * neigh):
+                if _at_noise(g, xb[i:i + 1], fb[i:i + 1], xtol, scale)[0]:
                     r = _touch(g, gp, mm[i, 0], mm[i, 2], float(xb[i]), xtol)
                     r.located_by = ("chebyshev",)
                     found.append(r)
