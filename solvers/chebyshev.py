@@ -75,12 +75,16 @@ def _nodes(degree: int) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
-             degrees: tuple[int, ...] = DEGREES):
+             degrees: tuple[int, ...] = DEGREES,
+             noise: Callable[[np.ndarray], np.ndarray] | None = None):
     """Try every degree on every span [a, b] (rows of ``spans``) with one f call per degree.
 
     Returns (status, coefficients) lists: status "ok" (coefficients decayed), "undefined"
     (f NaN/inf at every node, or identically zero), "nonfinite" (at some nodes), or
-    "unresolved" (no decay by the largest degree).
+    "unresolved" (no decay by the largest degree). With ``noise`` (x -> standard deviation
+    of f's rounding noise), a span whose coefficients fall to the noise floor by the largest
+    degree is "ok" too: rounding noise of deviation sigma at the nodes puts about
+    sigma sqrt(2 / (n + 1)) into every coefficient, and no degree resolves it further.
     """
     count = len(spans)
     status = np.full(count, "unresolved", dtype=object)
@@ -108,7 +112,19 @@ def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
         for row in np.flatnonzero(ok):
             status[pending[row]] = "ok"
             coefficients[pending[row]] = c[row, : length[row]]
-        pending = pending[whole & (scale > 0.0) & ~ok]
+        left = whole & (scale > 0.0) & ~ok
+        if noise is not None and degree == degrees[-1] and left.any():
+            rows = np.flatnonzero(left)
+            u, v = spans[pending[rows], 0], spans[pending[rows], 1]
+            sigma = np.asarray(noise(np.concatenate([u, 0.5 * (u + v), v])), dtype=float)
+            floor = 2.0 * np.nanmax(sigma.reshape(3, -1), axis=0)
+            quiet = (floor > DECAY_TOL * scale[rows]) & (tail[rows] <= floor)
+            for row, fl in zip(rows[quiet], floor[quiet], strict=True):
+                status[pending[row]] = "ok"
+                keep = np.flatnonzero(np.abs(c[row]) > fl)
+                coefficients[pending[row]] = c[row, : (keep[-1] + 1 if keep.size else 1)]
+            left[rows[quiet]] = False
+        pending = pending[left]
     return list(status), coefficients
 
 
@@ -182,6 +198,7 @@ def chebyshev_roots(
     max_pieces: int = 1024,
     cancel: Callable[[], bool] | None = None,
     on_cancel: Callable[[], None] | None = None,
+    noise: Callable[[np.ndarray], np.ndarray] | None = None,
 ) -> ChebyshevRoots:
     """Locate the real zeros of a vectorised f on [a, b] by Chebyshev proxies.
 
@@ -193,8 +210,11 @@ def chebyshev_roots(
     All pieces of one subdivision level are evaluated together (one f call per degree
     and level); a level with more than ``max_pieces`` pieces is not attempted (f is
     noisy or rough almost everywhere) and its pieces are reported as skipped.
-    ``cancel`` is polled per level; when it returns True, ``on_cancel`` is called (it is
-    expected to raise).
+    ``cancel`` is polled per level and between eigenvalue batches; when it returns True,
+    ``on_cancel`` is called (it is expected to raise). ``noise`` (x -> standard deviation
+    of f's rounding noise, e.g. :func:`solvers.noise.noise_level`) lets a piece whose
+    coefficients fall to the noise floor count as resolved (an expanded polynomial near its
+    roots) instead of being halved down to the depth limit.
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)
     level = np.column_stack([edges[:-1], edges[1:]])
@@ -210,11 +230,12 @@ def chebyshev_roots(
             skipped.extend((float(u), float(v)) for u, v in level)
             break
         with np.errstate(all="ignore"):  # NaN/inf from f are results here, not warnings
-            status, coefficients = _resolve(f, level)
+            status, coefficients = _resolve(f, level, noise=noise)
         rough = [i for i, st in enumerate(status) if st == "unresolved"]
         if rough and (depth == max_depth or 2 * len(rough) > max_pieces):
             with np.errstate(all="ignore"):
-                last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,))
+                last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,),
+                                                          noise)
             for i, st, c in zip(rough, last_status, last_coefficients, strict=True):
                 status[i], coefficients[i] = st, c
         split = []

@@ -11,8 +11,10 @@ The estimate is the one of J. J. More and S. M. Wild, "Estimating computational 
 SIAM J. Sci. Comput. 33 (2011): sample f at 2k + 1 points a tiny step apart (the smooth
 part of f is then a polynomial of low degree to many digits), take the k-th differences,
 which remove that smooth part, and scale by the variance an independent noise of standard
-deviation sigma gives them, C(2k, k) sigma^2. Works on any vectorised callable; no access
-to the formula is needed.
+deviation sigma gives them, C(2k, k) sigma^2. Noise does not depend on the step, the smooth
+part of f showing through does: estimates at two steps a factor 8 apart must agree, or
+they measured the smooth part and give no estimate. Works on any vectorised callable; no
+access to the formula is needed.
 """
 
 from __future__ import annotations
@@ -25,11 +27,16 @@ import numpy as np
 __all__ = ["NOISE_POINTS", "noise_level"]
 
 _ORDER = 4  # k-th differences: the smooth part up to a cubic drops out
-NOISE_POINTS = 2 * (2 * _ORDER + 1)  # evaluations of f per point estimated
+NOISE_POINTS = 4 * (2 * _ORDER + 1)  # evaluations of f per point estimated
 _GAMMA = math.comb(2 * _ORDER, _ORDER)  # variance of the k-th difference of unit noise
-# relative steps between the points: 2^-30 (independent rounding, smooth part flat to many
-# digits) and 2^-24 (so a value quantised to the ulp of a larger intermediate still moves)
-_STEPS = (2.0**-30, 2.0**-24)
+# relative steps between the points, in pairs a factor 8 apart: 2^-30 (independent rounding,
+# smooth part flat to many digits) and 2^-24 (so a value quantised to the ulp of a larger
+# intermediate still moves). Noise does not depend on the step; the smooth part of f that
+# shows through the differences grows at least as step^4 (4096-fold per factor 8), so a pair
+# whose two estimates differ more than 16-fold measured the smooth part, not noise.
+_PAIRS = ((2.0**-30, 2.0**-27), (2.0**-24, 2.0**-21))
+_STEPS = tuple(step for pair in _PAIRS for step in pair)
+_AGREE = 16.0
 
 
 def noise_level(
@@ -49,7 +56,8 @@ def noise_level(
     numpy.ndarray
         sigma >= 0 per point; 0 where f is computed exactly (or constant) there; NaN where
         f is undefined at some of the points; the larger of the estimates at two step
-        sizes. One call of f with ``18 len(x)`` points.
+        sizes that each agree with the estimate at 8 times their step. One call of f with
+        ``36 len(x)`` points.
     """
     x = np.asarray(x, dtype=float).reshape(-1)
     if x.size == 0:
@@ -61,4 +69,10 @@ def noise_level(
     y = np.asarray(f(pts.reshape(-1)), dtype=float).reshape(len(x), len(_STEPS), -1)
     with np.errstate(all="ignore"):
         d = np.diff(y, n=_ORDER, axis=2)
-        return np.sqrt(np.max(np.mean(d * d, axis=2), axis=1) / _GAMMA)
+        sigma = np.sqrt(np.mean(d * d, axis=2) / _GAMMA)  # one estimate per step
+        best = np.zeros(len(x))
+        for i in range(0, len(_STEPS), 2):
+            fine, coarse = sigma[:, i], sigma[:, i + 1]
+            agree = (fine > 0) & (coarse <= _AGREE * fine) & (fine <= _AGREE * coarse)
+            best = np.maximum(best, np.where(agree, np.maximum(fine, coarse), 0.0))
+        return np.where(np.isnan(y).any(axis=(1, 2)), np.nan, best)

@@ -169,7 +169,9 @@ class Scan:
     ``gaps``: (start, end) intervals where f is undefined (NaN), ends located to
     about one ulp. ``samples``: f evaluations in the sampling pass (base grid plus
     refined windows). ``cross_checked``: pieces where the Chebyshev proxy ran (f
-    smooth there); ``chebyshev_roots``: the real zeros it located.
+    smooth there); ``chebyshev_roots``: the real zeros it located. ``noise_bands``:
+    stretches where |f| is within its own rounding noise, each reported as one root
+    cluster at its middle (x uncertain by the half-width).
     """
 
     a: float
@@ -182,6 +184,7 @@ class Scan:
     samples: int = 0
     cross_checked: list[tuple[float, float]] = field(default_factory=list)
     chebyshev_roots: list[float] = field(default_factory=list)
+    noise_bands: list[tuple[float, float]] = field(default_factory=list)
 
 
 # ----------------------------------------------------------------------------- evaluation
@@ -902,9 +905,6 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
             runs[-1][1] = max(runs[-1][1], v)
         else:
             runs.append([u, v])
-    for u, v in runs:
-        notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
-                     "not counted as isolated roots")
     brackets = list(cand.brackets) + _overflow_brackets(g, cand.overflow)
     if cand.zeros:
         found += _zero_samples(g, np.array(cand.zeros), h, brackets)
@@ -958,15 +958,25 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     gaps, edge_roots, edge_poles = _domains(g, cand, a, b, h, xtol, scale)
     found.extend(edge_roots)
     poles.extend(edge_poles)
-    for u, v in cand.unresolved:
-        notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
-                     "roots there may be missed: raise samples")
 
     flagged: list[int] = []
     roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged)
     hidden = _hidden_roots(g, gp, [roots[i] for i in flagged], xtol)
     if hidden:
         roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale)
+    # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
+    # root cluster of a function evaluated with cancellation become that one root
+    poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
+    roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
+                                                       b, scale)
+    for u, v in runs:
+        notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
+                     "not counted as isolated roots")
+    for u, v in cand.unresolved:
+        if any(p <= u and v <= q for p, q in bands):
+            continue  # rounding noise, not an oscillation
+        notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
+                     "roots there may be missed: raise samples")
 
     cheb: ChebyshevRoots | None = None
     extra_samples = 0
@@ -975,10 +985,11 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         if progress is not None:
             progress(0.9)
         cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
-                               on_cancel=g.check)
-        roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale)
+                               on_cancel=g.check, noise=lambda x: _sigma(g, x, scale))
+        roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale,
+                             bands)
         explained = sorted(list(poles) + list(jumps) + [e for gap in gaps for e in gap]
-                           + [e for run in runs for e in run])
+                           + [e for run in runs for e in run] + [e for bd in bands for e in bd])
         rough = []
         for u, v in cheb.skipped:
             i = bisect.bisect_left(explained, u)
@@ -988,6 +999,11 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         if rough and depth == 0:
             roots, extra_samples = _resample(f, fprime, rough, n, a, b, progress, cancel, roots,
                                              poles, jumps, notes, scale)
+            # what the finer re-scan made of rounding noise merges like the rest
+            poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
+            roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
+                                                           b, scale)
+            bands = sorted(bands + more)
         elif rough:
             notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
                          f"{len(rough)} interval(s) in [{rough[0][0]:.6g}, {rough[-1][1]:.6g}] "
@@ -1006,6 +1022,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         samples=cand.samples + extra_samples,
         cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
         chebyshev_roots=list(cheb.roots) if cheb else [],
+        noise_bands=bands,
     )
 
 
@@ -1395,7 +1412,7 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
 
 
 def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, gaps, notes,
-                 h, xtol, scale) -> list[Root]:
+                 h, xtol, scale, bands=()) -> list[Root]:
     """Match sampled roots with proxy roots on the smooth pieces; confirm or warn."""
     pieces = cheb.pieces
     if not pieces:
@@ -1417,6 +1434,8 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         x = float(z.real)
         if any(abs(x - q) <= h for q in features):
             continue
+        if any(u - (v - u) <= x <= v + (v - u) for u, v in bands):
+            continue  # inside (or right beside) a stretch where f is rounding noise
         if extra and abs(x - extra[-1]) <= 1e-9 * max(scale, 1.0):
             continue
         extra.append(x)
@@ -1530,3 +1549,199 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
         if found:
             return found
     return []
+
+
+# ----------------------------------------------------------------------------- noise clusters
+
+
+@dataclass(frozen=True)
+class _Band:
+    lo: float
+    hi: float
+    members: tuple[int, ...]  # indices into the candidate list
+
+
+def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
+                 singular: np.ndarray | None = None):
+    """For each candidate x: the stretch around it where |f| stays within ``_NOISE_K``
+    standard deviations of f's rounding noise, as (noisy, lower end, upper end, level).
+
+    ``noisy`` is False where |f| rises above the noise level within 64 ulps on both sides
+    (a clean root, pole or jump: its stretch is then [x, x]). ``singular`` marks the poles
+    and jumps. Elsewhere the stretch is
+    found by doubling the distance until |f| exceeds the level (an upper bound within a
+    factor of 2 on each side), in one f call for all candidates.
+    """
+    n = len(x)
+    lo, hi = x.copy(), x.copy()
+    sig = _sigma(g, x, scale)
+    if singular is not None and singular.any():
+        # at a pole or jump the stencil of the noise estimate straddles the singularity and
+        # measures it: take the noise a millionth of the range beside it instead (the same
+        # there, where it is rounding noise; tiny beside a genuine pole or jump)
+        xs = x[singular]
+        off = 2.0**-20 * np.maximum(np.abs(xs), 1e-3 * scale)
+        side = _sigma(g, np.concatenate([xs - off, xs + off]), scale).reshape(2, -1)
+        sig[singular] = np.min(side, axis=0)
+    level = _NOISE_K * sig
+    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    near = np.abs(g(np.concatenate([x - d0, x + d0])))
+    noisy = (sig > 0) & ((near[:n] <= level) | (near[n:] <= level))
+    idx = np.flatnonzero(noisy)
+    if idx.size == 0:
+        return noisy, lo, hi, level
+    k = np.arange(64)
+    d = d0[idx, None] * 2.0 ** k[None, :]
+    room_lo, room_hi = (x[idx] - a)[:, None], (b - x[idx])[:, None]
+    dl, dr = np.minimum(d, room_lo), np.minimum(d, room_hi)
+    vals = np.abs(g(np.concatenate([x[idx, None] - dl, x[idx, None] + dr]).reshape(-1)))
+    vals = vals.reshape(2, idx.size, len(k))
+    lev = level[idx]
+    for side, dd, room in ((0, dl, room_lo), (1, dr, room_hi)):
+        out = ~(vals[side] <= lev[:, None])  # above the level, or undefined
+        first = np.where(out.any(axis=1), np.argmax(out, axis=1), len(k) - 1)
+        outer = np.take_along_axis(dd, first[:, None], axis=1)[:, 0]
+        inner = np.where(first > 0, np.take_along_axis(dd, np.maximum(first - 1, 0)[:, None],
+                                                       axis=1)[:, 0], 0.0)
+        sgn = -1.0 if side == 0 else 1.0
+        for _ in range(8):  # the edge to about 1/256 of its last doubling
+            mid = 0.5 * (inner + outer)
+            above = ~(np.abs(g(x[idx] + sgn * mid)) <= lev)
+            outer, inner = np.where(above, mid, outer), np.where(above, inner, mid)
+        reach = np.minimum(outer, room[:, 0])
+        if side == 0:
+            lo[idx] = x[idx] - reach
+        else:
+            hi[idx] = x[idx] + reach
+    return noisy, lo, hi, level
+
+
+def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.ndarray,
+                          level: np.ndarray):
+    """(multiplicity, odd) of root clusters centred at c with noise stretch half-widths w.
+
+    |f(c +/- D)| for D = 2w, 4w, ... (not beyond ``room``); the slope of log|f| against log D
+    from the three nearest distances where |f| is at least twice the noise level (closest
+    to the cluster: least influence of anything else), rounded to the integer of the
+    parity the signs outside the stretch show (odd: f changes sign across it).
+    """
+    j = np.arange(1, 13)
+    dist = w[:, None] * 2.0 ** j[None, :]
+    pts = np.concatenate([c[:, None] - dist, c[:, None] + dist], axis=1)
+    vals = g(pts.reshape(-1)).reshape(pts.shape)
+    fm, fp = vals[:, : len(j)], vals[:, len(j):]
+    valid = (np.isfinite(fm) & np.isfinite(fp) & (dist <= room[:, None])
+             & (np.minimum(np.abs(fm), np.abs(fp)) > 2 * level[:, None]))
+    first = np.argmax(valid, axis=1)
+    any_valid = valid.any(axis=1)
+    rows = np.arange(len(c))
+    odd = np.where(any_valid, np.signbit(fm[rows, first]) != np.signbit(fp[rows, first]), True)
+    with np.errstate(all="ignore"):
+        logf = 0.5 * (np.log(np.abs(fm)) + np.log(np.abs(fp)))
+        slopes = np.diff(logf, axis=1) / math.log(2.0)
+    pair = valid[:, :-1] & valid[:, 1:]
+    rank = np.cumsum(pair, axis=1)
+    use = pair & (rank <= 3)
+    est = np.array([np.median(slopes[i, use[i]]) if use[i].any() else np.nan
+                    for i in range(len(c))])
+    est = np.where(np.isfinite(est), est, np.where(odd, 1.0, 2.0))
+    m = np.maximum(1, np.rint(est)).astype(int)
+    wrong = (m % 2 == 1) != odd
+    m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
+    return np.maximum(m, np.where(odd, 1, 2)), odd
+
+
+def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
+                    runs: list[list[float]], notes: list[str], a: float, b: float,
+                    scale: float):
+    """Merge what rounding noise made of one root cluster into one root.
+
+    A function evaluated with cancellation (an expanded polynomial) is noise near its
+    roots: sign changes 1e-13 apart, minima at noise level, "poles" and "jumps" where
+    bisection met noise, whole runs of exact zeros. Every root, pole, jump and zero run
+    whose noise stretch (:func:`_noise_bands`) overlaps another's forms one cluster: one
+    root at the middle of the stretch, uncertain by its half-width, whose multiplicity is
+    what the slope of log|f| just outside the stretch supports (odd when f changes sign
+    across it). A lone clean root is left as it was. Returns (roots, poles, jumps, runs,
+    bands) with ``bands`` the (lo, hi) stretches of the clusters.
+    """
+    xs = ([r.x for r in roots] + list(poles) + list(jumps)
+          + [0.5 * (u + v) for u, v in runs])
+    if not xs:
+        return roots, poles, jumps, runs, []
+    kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
+    x = np.array(xs, dtype=float)
+    noisy, lo, hi, level = _noise_bands(g, x, a, b, scale, (kind == 1) | (kind == 2))
+    if not noisy.any():
+        return roots, poles, jumps, runs, []
+    for i in np.flatnonzero(kind == 3):  # a zero run spans at least its own samples
+        u, v = runs[i - len(roots) - len(poles) - len(jumps)]
+        lo[i], hi[i] = min(lo[i], u), max(hi[i], v)
+    order = np.argsort(lo, kind="stable")
+    groups: list[list[int]] = []
+    ends: list[float] = []
+    for i in order:
+        if not noisy[i] and kind[i] != 0:
+            continue  # a clean pole or jump stays what it is
+        if groups and lo[i] <= ends[-1]:
+            groups[-1].append(int(i))
+            ends[-1] = max(ends[-1], hi[i])
+        else:
+            groups.append([int(i)])
+            ends.append(float(hi[i]))
+    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    clusters = []
+    for members in groups:
+        mem = np.array(members)
+        span_lo, span_hi = float(lo[mem].min()), float(hi[mem].max())
+        wide = span_hi - span_lo > 1e3 * float(d0[mem].max())
+        if len(mem) == 1 and not wide and kind[mem[0]] == 0:
+            continue  # one clean root (or one with a tiny noise stretch): unchanged
+        if not noisy[mem].any():
+            continue
+        clusters.append((mem, span_lo, span_hi))
+    if not clusters:
+        return roots, poles, jumps, runs, []
+    c = np.array([0.5 * (u + v) for _, u, v in clusters])
+    w = np.array([0.5 * (v - u) for _, u, v in clusters])
+    w = np.maximum(w, d0[[mem[0] for mem, _, _ in clusters]])
+    lev = np.array([float(level[mem].max()) for mem, _, _ in clusters])
+    # room: up to 0.45 of the way to the next cluster or clean feature, and the range ends
+    others = np.sort(np.concatenate([x[~noisy], c]))
+    room = np.empty(len(c))
+    for i in range(len(c)):
+        gaps = np.abs(others - c[i])
+        gaps = gaps[gaps > w[i]]
+        room[i] = min(0.45 * gaps.min() if gaps.size else math.inf,
+                      max(c[i] - a, b - c[i]))
+    mult, odd = _cluster_multiplicity(g, c, w, room, lev)
+    residual = g(c)
+    drop = set()
+    new_roots: list[Root] = []
+    bands: list[tuple[float, float]] = []
+    for k, (mem, u, v) in enumerate(clusters):
+        drop.update(int(i) for i in mem)
+        member_roots = [roots[i] for i in mem if kind[i] == 0]
+        carrier = min(member_roots, key=lambda r: abs(r.x - c[k])) if member_roots else None
+        located = tuple(dict.fromkeys(t for r in member_roots for t in r.located_by)) or (
+            "sampling",)
+        inside = len(mem) - 1
+        how = (f"root cluster within rounding noise: |f| <= {lev[k]:.3g} (its evaluation noise) "
+               f"on [{u:.12g}, {v:.12g}]; x uncertain by +/-{w[k]:.3g}; multiplicity from the "
+               "slope of log|f| outside")
+        new_roots.append(Root(
+            x=float(c[k]), residual=float(residual[k]), multiplicity=int(mult[k]),
+            confirmed=how, located_by=located,
+            bracket=carrier.bracket if carrier is not None and odd[k] else None,
+            run=Root.__dict__["run"].raw(carrier) if carrier is not None and odd[k] else None))
+        bands.append((u, v))
+        notes.append(f"f is rounding noise on [{u:.12g}, {v:.12g}] (|f| <= {lev[k]:.3g}): one "
+                     f"root cluster reported at x = {c[k]:.12g} +/- {w[k]:.3g}, multiplicity "
+                     f"{int(mult[k])}" + (f"; {inside} more sign change(s), touch(es), pole(s) "
+                                           "or jump(s) inside were noise" if inside else ""))
+    keep = [i for i in range(len(x)) if i not in drop]
+    out_roots = sorted([roots[i] for i in keep if kind[i] == 0] + new_roots, key=lambda r: r.x)
+    out_poles = [poles[i - len(roots)] for i in keep if kind[i] == 1]
+    out_jumps = [jumps[i - len(roots) - len(poles)] for i in keep if kind[i] == 2]
+    out_runs = [runs[i - len(roots) - len(poles) - len(jumps)] for i in keep if kind[i] == 3]
+    return out_roots, out_poles, out_jumps, out_runs, bands
