@@ -13,8 +13,9 @@ part of f is then a polynomial of low degree to many digits), take the k-th diff
 which remove that smooth part, and scale by the variance an independent noise of standard
 deviation sigma gives them, C(2k, k) sigma^2. Noise does not depend on the step, the smooth
 part of f showing through does: estimates at two steps a factor 8 apart must agree, or
-they measured the smooth part and give no estimate. Works on any vectorised callable; no
-access to the formula is needed.
+they measured the smooth part and give no estimate. Noise below 8 eps of the values
+themselves is only their own rounding (no cancellation) and counts as 0. Works on any
+vectorised callable; no access to the formula is needed.
 """
 
 from __future__ import annotations
@@ -37,6 +38,7 @@ _GAMMA = math.comb(2 * _ORDER, _ORDER)  # variance of the k-th difference of uni
 _PAIRS = ((2.0**-30, 2.0**-27), (2.0**-24, 2.0**-21))
 _STEPS = tuple(step for pair in _PAIRS for step in pair)
 _AGREE = 16.0
+_EPS = float(np.finfo(float).eps)
 
 
 def noise_level(
@@ -64,12 +66,21 @@ def noise_level(
         return np.zeros(0)
     base = np.maximum(np.abs(x), floor)
     offsets = np.arange(-_ORDER, _ORDER + 1, dtype=float)
-    pts = np.concatenate([x[:, None] + (rel * base)[:, None] * offsets[None, :]
-                          for rel in _STEPS], axis=1)
+    stencils = []
+    for rel in _STEPS:
+        # a power-of-2 step and a centre on its grid: every point is exactly representable,
+        # so the differences see f's noise, not the rounding of the points
+        step = np.exp2(np.floor(np.log2(rel * base)))
+        centre = np.round(x / step)
+        stencils.append((centre[:, None] + offsets[None, :]) * step[:, None])
+    pts = np.concatenate(stencils, axis=1)
     y = np.asarray(f(pts.reshape(-1)), dtype=float).reshape(len(x), len(_STEPS), -1)
     with np.errstate(all="ignore"):
         d = np.diff(y, n=_ORDER, axis=2)
         sigma = np.sqrt(np.mean(d * d, axis=2) / _GAMMA)  # one estimate per step
+        # rounding of the values themselves (a few eps of |f|) is no cancellation noise
+        own = 8 * _EPS * np.max(np.abs(y), axis=2)
+        sigma = np.where(sigma > own, sigma, 0.0)
         best = np.zeros(len(x))
         for i in range(0, len(_STEPS), 2):
             fine, coarse = sigma[:, i], sigma[:, i + 1]
