@@ -278,6 +278,7 @@ class _Candidates:
     last_defined: bool = True
     unresolved: list[tuple[float, float]] = field(default_factory=list)
     samples: int = 0
+    typical: list[float] = field(default_factory=list)  # median finite |f| of each chunk
 
 
 def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) -> None:
@@ -407,6 +408,10 @@ def _sample_grid(
             x[-1] = b
         y = g(x)
         out.samples += stop - start
+        if level == 0:
+            finite = np.abs(y[np.isfinite(y)])
+            if finite.size:
+                out.typical.append(float(np.median(finite)))
         if start == 0:
             out.first_defined = not bool(np.isnan(y[0]))
         if stop == n:
@@ -899,6 +904,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     found: list[_Found] = []
     poles: list[float] = list(cand.inf_points)
     jumps: list[float] = []
+    bounded: list[float] = []  # sign changes that looked like poles, but |f| stays bounded
     runs: list[list[float]] = []
     for u, v in sorted(cand.flat):
         if runs and u <= runs[-1][1]:
@@ -930,7 +936,11 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         fk = np.abs(g(pk[:, 1]))
         xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True)
         top = np.abs(fb)
-        for i in np.nonzero(~np.isfinite(fb) | (top >= 2.0 * fk))[0]:
+        grows = (top >= 2.0 * fk) & np.isfinite(fb)
+        unbounded = ~np.isfinite(fb)
+        if grows.any():
+            unbounded[grows] = _grows_without_bound(g, xb[grows], h)
+        for i in np.flatnonzero(unbounded):
             poles.append(float(xb[i]))
     # ends of the range: |f| at noise level at a or b is a root there
     found.extend(_range_ends(g, a, b, h, xtol, scale, brackets))
@@ -950,7 +960,13 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         br = np.array(brackets, dtype=float)
         roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol)
         found += roots_here
-        poles += poles_here
+        if poles_here:
+            # a bracket whose |f| grew while bisected is a pole only if |f| keeps growing
+            # right up to it; a bounded oscillation (sin(1/x) near 0) only looked like one
+            ph = np.array(poles_here)
+            real = _grows_without_bound(g, ph, h)
+            poles += [float(p) for p in ph[real]]
+            bounded += [float(p) for p in ph[~real]]
         jumps += jumps_here
         for i in undefined:
             notes.append(f"f undefined somewhere inside [{br[i, 0]:.6g}, {br[i, 1]:.6g}] "
@@ -967,11 +983,16 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
     # root cluster of a function evaluated with cancellation become that one root
     poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
+    typical = float(np.median(cand.typical)) if cand.typical else 0.0
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
-                                                       b, scale)
+                                                       b, scale, typical)
     for u, v in runs:
         notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
                      "not counted as isolated roots")
+    for p in bounded:
+        if not any(u <= p <= v for u, v in bands):
+            notes.append(f"f oscillates, bounded, ever faster near x = {p:.12g}: a sign "
+                         "change there was not resolved into roots (no pole)")
     for u, v in cand.unresolved:
         if any(p <= u and v <= q for p, q in bands):
             continue  # rounding noise, not an oscillation
@@ -1002,7 +1023,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
             # what the finer re-scan made of rounding noise merges like the rest
             poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
             roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
-                                                           b, scale)
+                                                           b, scale, typical)
             bands = sorted(bands + more)
         elif rough:
             notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
@@ -1319,6 +1340,30 @@ def _domains(g, cand, a, b, h, xtol, scale):
     if open_at is not None:
         gaps.append((open_at, b))
     return gaps, roots, poles
+
+
+def _grows_without_bound(g: _Guarded, xp: np.ndarray, h: float) -> np.ndarray:
+    """Whether |f| keeps growing toward each located peak xp (a pole), or levels off (a
+    bounded peak that only outgrew the samples, like sin(1/x) near 0).
+
+    |f(xp +/- d)| for d halving 20 times down to 64 ulps of xp (so the probes resolve the
+    last doublings before float resolution): a pole grows steadily on at least one side
+    (monotone, the last value at least 1.2x the first: ln|x - c| gains about 1.7x over
+    those halvings near x = 1, 1/(x - c)^2 10^12x); a bounded smooth peak changes by a
+    relative (d / its width)^2 there, nothing.
+    """
+    k = np.arange(21)
+    least = 64 * EPS * np.maximum(np.abs(xp), EPS * h)
+    d = np.minimum(least[:, None] * 2.0 ** (20 - k[None, :]), h)
+    pts = np.concatenate([xp[:, None] - d, xp[:, None] + d], axis=1)
+    vals = np.abs(g(pts.reshape(-1)).reshape(pts.shape))
+    out = np.zeros(len(xp), dtype=bool)
+    for side in (vals[:, : len(k)], vals[:, len(k):]):
+        inf = np.isinf(side).any(axis=1)
+        fin = np.where(np.isfinite(side), side, np.nan)
+        steady = np.all(np.diff(fin, axis=1) >= 0, axis=1)  # NaN fails: undefined in between
+        out |= inf | (steady & (fin[:, -1] >= 1.2 * fin[:, 0]))
+    return out
 
 
 def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
@@ -1653,7 +1698,7 @@ def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.nd
 
 def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
                     runs: list[list[float]], notes: list[str], a: float, b: float,
-                    scale: float):
+                    scale: float, typical: float):
     """Merge what rounding noise made of one root cluster into one root.
 
     A function evaluated with cancellation (an expanded polynomial) is noise near its
@@ -1662,7 +1707,10 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     whose noise stretch (:func:`_noise_bands`) overlaps another's forms one cluster: one
     root at the middle of the stretch, uncertain by its half-width, whose multiplicity is
     what the slope of log|f| just outside the stretch supports (odd when f changes sign
-    across it). A lone clean root is left as it was. Returns (roots, poles, jumps, runs,
+    across it). A lone clean root is left as it was. Rounding noise is small beside f's
+    typical size (``typical``, the median sampled |f|): a "noise level" above 1e-3 of it is
+    f itself varying faster than any step (sin(1/x) near 0), not rounding, and so is a
+    stretch that never ends inside [a, b]. Returns (roots, poles, jumps, runs,
     bands) with ``bands`` the (lo, hi) stretches of the clusters.
     """
     xs = ([r.x for r in roots] + list(poles) + list(jumps)
@@ -1672,6 +1720,7 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
     x = np.array(xs, dtype=float)
     noisy, lo, hi, level = _noise_bands(g, x, a, b, scale, (kind == 1) | (kind == 2))
+    noisy &= (level <= 1e-3 * typical) & ((lo > a) | (hi < b))
     if not noisy.any():
         return roots, poles, jumps, runs, []
     for i in np.flatnonzero(kind == 3):  # a zero run spans at least its own samples
