@@ -338,7 +338,18 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
         ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
         sharp = np.isfinite(ap) & np.isfinite(al) & np.isfinite(ar)
         sp = np.sign(y[p])
-        sharp &= (ap > 0) & (ap >= 1.1 * np.minimum(al, ar))
+        # ... or a kink: the second difference at the peak 8x one of those two samples away
+        # (a pole riding on a large offset, 1/(x - c) - 1e6, bumps |f| by far less
+        # than 10 %; a smooth peak's second differences vary slowly)
+        d2 = np.abs(y[p - 1] - 2 * y[p] + y[p + 1])
+        far_l = np.where(p >= 3, np.abs(y[np.maximum(p - 3, 0)] - 2 * y[p - 2] + y[p - 1]),
+                         np.inf)
+        ok_r = p + 3 < n
+        far_r = np.where(ok_r, np.abs(y[np.minimum(p + 1, n - 1)]
+                                      - 2 * y[np.minimum(p + 2, n - 1)]
+                                      + y[np.minimum(p + 3, n - 1)]), np.inf)
+        kink = (d2 > 8 * np.minimum(far_l, far_r)) & (d2 > 1e-9 * ap)
+        sharp &= (ap > 0) & ((ap >= 1.1 * np.minimum(al, ar)) | kink)
         sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
         for kk in p[sharp]:
             out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
@@ -974,6 +985,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     gaps, edge_roots, edge_poles = _domains(g, cand, a, b, h, xtol, scale)
     found.extend(edge_roots)
     poles.extend(edge_poles)
+    if poles:
+        found += _beside_poles(g, gp, _dedupe_points(poles, scale), a, b, h, xtol, notes)
 
     flagged: list[int] = []
     roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged)
@@ -1340,6 +1353,46 @@ def _domains(g, cand, a, b, h, xtol, scale):
     if open_at is not None:
         gaps.append((open_at, b))
     return gaps, roots, poles
+
+
+def _beside_poles(g: _Guarded, gp, poles: list[float], a: float, b: float, h: float,
+                  xtol: float, notes: list[str]) -> list[_Found]:
+    """Roots between a pole and its neighbouring samples, where no sample pair brackets them.
+
+    f runs from +-inf at the pole to the value at the next sample; a root 1e-4 of a sample
+    spacing from the pole (a cubic equation of state's liquid root beside its co-volume
+    pole) leaves both samples of one sign. Each side is probed at p +/- h 2^-k (k = 0..52,
+    down to a few ulps of p) in one f call; every sign change between neighbouring probes
+    is a bracket refined like any other. A side where |f| dips and rises again between
+    the probes without a sign change could hide a pair of roots: that is said plainly.
+    """
+    pv = np.array(poles, dtype=float)
+    k = np.arange(53)
+    least = 4 * EPS * np.maximum(np.abs(pv), 1e-3 * max(abs(a), abs(b)))
+    d = np.maximum(h * 2.0 ** -k[None, :], least[:, None])
+    brackets = []
+    for side in (-1.0, 1.0):
+        pts = np.clip(pv[:, None] + side * d, a, b)
+        vals = g(pts.reshape(-1)).reshape(pts.shape)
+        for i in range(len(pv)):
+            x, y = pts[i], vals[i]
+            ok = np.isfinite(y) & (y != 0) & (x != pv[i])
+            x, y = x[ok], y[ok]
+            if len(x) < 2:
+                continue
+            flips = np.flatnonzero(np.signbit(y[:-1]) != np.signbit(y[1:]))
+            for j in flips:
+                lo, hi = (j + 1, j) if x[j + 1] < x[j] else (j, j + 1)
+                brackets.append((x[lo], x[hi], y[lo], y[hi]))
+            ay = np.abs(y)  # ordered from far to near: |f| should rise toward the pole
+            dips = np.flatnonzero((ay[1:-1] < ay[:-2]) & (ay[1:-1] < ay[2:]))
+            if not flips.size and dips.size and ay[dips + 1].min() < 1e-3 * ay.max():
+                notes.append(f"beside the pole at x = {pv[i]:.12g}, |f| dips to "
+                             f"{ay[dips + 1].min():.3g} within {float(abs(x[0] - pv[i])):.3g} "
+                             "without a sign change: a pair of roots may hide there")
+    if not brackets:
+        return []
+    return _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]
 
 
 def _grows_without_bound(g: _Guarded, xp: np.ndarray, h: float) -> np.ndarray:
