@@ -675,13 +675,14 @@ def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
 
 
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
-            *, peak: bool = False):
+            *, peak: bool = False, rel: float = 4 * EPS):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
     opposite sign (then xbest is that point: two roots straddle it). With ``peak`` it
     maximises |f| instead (fbest is then -|f|, and nothing is ever "crossed"); a search
-    that meets inf or NaN stops there.
+    that meets inf or NaN stops there. It stops when the bracket is no wider than
+    ``rel max(|lo|, |hi|) + xtol``.
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
@@ -723,10 +724,62 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
             crossed[act]
             | ~np.isfinite(fn)
             | ~np.isfinite(fbest[act])
-            | (width <= 4 * EPS * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
+            | (width <= rel * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
         )
         active[act[stop]] = False
     return xbest, sign * fbest, crossed
+
+
+_SQRT_EPS = math.sqrt(EPS)
+
+
+def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
+                  xtol: float, scale: float):
+    """Minimise sign*f on each [lo, hi]: (x, f(x), crossed, touch) per row.
+
+    A minimum is only located to about sqrt(eps) relative (f is flat there to the last
+    digits), so golden section stops at that width. Then f at x +/- w (w the final width):
+    a value of the opposite sign means crossed (two roots straddle x); |f(x)| at noise
+    level (:func:`_at_noise`) is a touch; a parabola through the three values whose vertex
+    stays above half of f(x) is a positive minimum, no root (x^2 + 1e-20, the troughs of
+    a sinusoid). Only the rest, the genuine touches whose f is computed without noise,
+    continue golden section to 4 eps around x before :func:`_at_noise` decides.
+    """
+    xb, fb, crossed = _golden(g, lo, hi, sign, xtol, rel=_SQRT_EPS)
+    touch = np.zeros(len(xb), dtype=bool)
+    rest = np.flatnonzero(~crossed & np.isfinite(fb))
+    if rest.size == 0:
+        return xb, fb, crossed, touch
+    x, sfb, sg = xb[rest], sign[rest] * fb[rest], sign[rest]
+    w = np.maximum(_SQRT_EPS * np.abs(x), xtol)
+    both = g(np.concatenate([x - w, x + w]))
+    sfl, sfr = sg * both[: rest.size], sg * both[rest.size:]
+    # a value of the opposite sign beside x: two roots straddle it
+    for arr, off in ((sfl, -w), (sfr, w)):
+        flip = np.isfinite(arr) & (arr < 0) & ~crossed[rest]
+        crossed[rest[flip]] = True
+        xb[rest[flip]] = (x + off)[flip]
+        fb[rest[flip]] = (sg * arr)[flip]
+    open_ = ~crossed[rest]
+    noise = np.zeros(rest.size, dtype=bool)
+    if open_.any():
+        noise[open_] = _at_noise(g, x[open_], fb[rest][open_], xtol, scale)
+    touch[rest[open_ & noise]] = True
+    with np.errstate(all="ignore"):
+        curv = sfl - 2 * sfb + sfr
+        vertex = sfb - (sfr - sfl) ** 2 / (8 * curv)
+    positive = (curv > 0) & (vertex > 0.5 * sfb) & (sfb > 0)
+    more = rest[open_ & ~noise & ~positive & np.isfinite(sfl) & np.isfinite(sfr)]
+    if more.size:
+        wm = np.maximum(_SQRT_EPS * np.abs(xb[more]), xtol)
+        x2, f2, c2 = _golden(g, xb[more] - 2 * wm, xb[more] + 2 * wm, sign[more], xtol)
+        better = c2 | (np.abs(f2) < np.abs(fb[more]))
+        xb[more[better]], fb[more[better]] = x2[better], f2[better]
+        crossed[more[c2]] = True
+        ok = ~c2
+        if ok.any():
+            touch[more[ok]] = _at_noise(g, xb[more[ok]], fb[more[ok]], xtol, scale)
+    return xb, fb, crossed, touch
 
 
 def _near_values(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
@@ -930,17 +983,12 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     if cand.minima:
         m = np.array(cand.minima)
         sign = np.sign(m[:, 4])
-        xb, fb, crossed = _golden(g, m[:, 0], m[:, 2], sign, xtol)
+        xb, fb, crossed, touch = _touch_search(g, m[:, 0], m[:, 2], sign, xtol, scale)
         for i in np.nonzero(crossed)[0]:
             brackets.append((m[i, 0], xb[i], m[i, 3], fb[i]))
             brackets.append((xb[i], m[i, 2], fb[i], m[i, 5]))
-        rest = np.nonzero(~crossed & np.isfinite(fb))[0]
-        if len(rest):
-            ok = _at_noise(g, xb[rest], fb[rest], xtol, scale)
-            for j, i in enumerate(rest):
-                if not ok[j]:
-                    continue
-                found.append(_touch(g, gp, m[i, 0], m[i, 2], float(xb[i]), xtol))
+        for i in np.flatnonzero(touch):
+            found.append(_touch(g, gp, m[i, 0], m[i, 2], float(xb[i]), xtol))
     # sharp peaks of |f| without a sign change: poles when |f| keeps growing toward a point
     if cand.peaks:
         pk = np.array(cand.peaks)
