@@ -1045,8 +1045,10 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     # root cluster of a function evaluated with cancellation become that one root
     poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
     typical = float(np.median(cand.typical)) if cand.typical else 0.0
+    unsure = np.zeros(len(roots), dtype=bool)
+    unsure[[i for i in flagged if i < len(roots)]] = True
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
-                                                       b, scale, typical)
+                                                       b, scale, typical, h, unsure)
     for u, v in runs:
         notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
                      "not counted as isolated roots")
@@ -1068,8 +1070,15 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
             progress(0.9)
         cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
                                on_cancel=g.check, noise=lambda x: _sigma(g, x, scale))
+        before = len(roots)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale,
                              bands)
+        if len(roots) > before:
+            # a proxy zero "confirmed" by a sign change of rounding noise beside a known root
+            # merges with it like any other noise
+            roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
+                                                           b, scale, typical, h)
+            bands = sorted(bands + more)
         explained = sorted(list(poles) + list(jumps) + [e for gap in gaps for e in gap]
                            + [e for run in runs for e in run] + [e for bd in bands for e in bd])
         rough = []
@@ -1084,7 +1093,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
             # what the finer re-scan made of rounding noise merges like the rest
             poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
             roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
-                                                           b, scale, typical)
+                                                           b, scale, typical, h)
             bands = sorted(bands + more)
         elif rough:
             notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
@@ -1799,7 +1808,7 @@ def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.nd
 
 def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
                     runs: list[list[float]], notes: list[str], a: float, b: float,
-                    scale: float, typical: float):
+                    scale: float, typical: float, h: float, unsure: np.ndarray | None = None):
     """Merge what rounding noise made of one root cluster into one root.
 
     A function evaluated with cancellation (an expanded polynomial) is noise near its
@@ -1818,9 +1827,27 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
           + [0.5 * (u + v) for u, v in runs])
     if not xs:
         return roots, poles, jumps, runs, []
+    unsure = np.zeros(len(roots), dtype=bool) if unsure is None else unsure
     kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
     x = np.array(xs, dtype=float)
-    noisy, lo, hi, level = _noise_bands(g, x, a, b, scale, (kind == 1) | (kind == 2))
+    # rounding noise shows as several findings close together (or as a pole, a jump, a zero
+    # run); a root with no other finding within two sample spacings is examined only when
+    # its own multiplicity estimate was unsure (``unsure``)
+    order = np.argsort(x)
+    gap = np.diff(x[order])
+    crowded = np.zeros(len(x), dtype=bool)
+    near = gap <= 2 * h
+    crowded[order[:-1][near]] = True
+    crowded[order[1:][near]] = True
+    look = crowded | (kind != 0)
+    look[: len(roots)] |= unsure
+    noisy = np.zeros(len(x), dtype=bool)
+    lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))
+    if look.any():
+        il = np.flatnonzero(look)
+        nz, lo[il], hi[il], level[il] = _noise_bands(g, x[il], a, b, scale,
+                                                     (kind[il] == 1) | (kind[il] == 2))
+        noisy[il] = nz
     noisy &= (level <= 1e-3 * typical) & ((lo > a) | (hi < b))
     if not noisy.any():
         return roots, poles, jumps, runs, []
