@@ -77,7 +77,11 @@ def noise_level(
     y = np.asarray(f(pts.reshape(-1)), dtype=float).reshape(len(x), len(_STEPS), -1)
     with np.errstate(all="ignore"):
         d = np.diff(y, n=_ORDER, axis=2)
-        sigma = np.sqrt(np.mean(d * d, axis=2) / _GAMMA)  # one estimate per step
+        # one estimate per step; scaled by the largest difference so that squares of tiny
+        # values (f near 1e-160) do not underflow
+        big = np.max(np.abs(d), axis=2, keepdims=True)
+        unit = np.where(big > 0, d / np.where(big > 0, big, 1.0), 0.0)
+        sigma = big[..., 0] * np.sqrt(np.mean(unit * unit, axis=2) / _GAMMA)
         # rounding of the values themselves (a few eps of |f|) is no cancellation noise
         own = 8 * _EPS * np.max(np.abs(y), axis=2)
         sigma = np.where(sigma > own, sigma, 0.0)
