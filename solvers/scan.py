@@ -29,22 +29,44 @@ How a scan works
 4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
    that a parabola through the three samples says dips at least 10 % toward zero,
    or whose lowest value is within the parabola's curvature scale (c h^2) of zero,
-   is searched by a vectorised golden-section minimisation of |f|. If the search
-   finds the opposite sign, two close roots were hidden between samples: both
-   brackets go to step 2 (close roots are resolved, not merged). Otherwise the
-   minimum is a root when |f| there is at rounding-noise level (no more than 16x
-   the spread of f over a few ulps around it) or below 1e-14 of |f| at the
-   neighbouring samples; with ``fprime`` the touch point is then refined by Brent
-   on f'.
+   is searched by a vectorised golden-section minimisation of |f| down to sqrt(eps)
+   (a minimum is located no better). If the search finds the opposite sign, two
+   close roots were hidden between samples: both brackets go to step 2 (close roots
+   are resolved, not merged). A parabola whose vertex stays above half the least |f|
+   is a positive minimum, no root. Otherwise the minimum is a root only when |f|
+   there is indistinguishable from zero: no more than 16x the spread of f over a few
+   steps of the minimiser's resolution, or within 8 standard deviations of f's
+   rounding noise (:mod:`solvers.noise`). A touch that stops short of zero
+   (x^2 + 1e-20) is not a root. With ``fprime`` the touch point is then refined by
+   bracketing f' (scale-free: only ratios of f' values are used).
 5. **Poles without a sign change** (1/(x - c)^2, ln|x - c|): a sharp local maximum
-   of |f| (at least 10 % above its lower neighbour) is searched by golden section
-   for the largest |f|; at least twice the sampled peak (or infinite) is a pole.
+   of |f| (at least 10 % above its lower neighbour, or a kink: its second difference
+   8x that two samples away, as for a pole riding on a large offset) is searched by
+   golden section for the largest |f|; at least twice the sampled peak (or infinite)
+   and |f| still growing through the last 20 halvings of the distance before float
+   resolution is a pole. A bounded oscillation (sin(1/x) near 0) is not, and a sign
+   change whose bisection looked like a pole is checked the same way. Beside every
+   pole the stretch to the neighbouring samples is probed at distances halving down
+   to a few ulps: each sign change there brackets a root no sample pair showed (a
+   liquid root 1e-4 of a spacing from an equation of state's co-volume pole), and a
+   dip without one is reported as a place where a pair of roots may hide.
 6. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
    log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance
    to the next feature) down to the noise level, rounded to the integer of the
-   right parity (odd for a sign change, even for a touch). When the slopes are not
-   those of one power (an odd cluster of roots inside one sample spacing shows as
-   one sign change), both sides of the refined root are searched for more roots.
+   right parity (odd for a sign change, even for a touch), with no upper cap. When
+   the slopes are not those of one power (an odd cluster of roots inside one sample
+   spacing shows as one sign change), both sides of the refined root are searched
+   for more roots.
+6a. **Rounding noise**: f typed with cancellation (a polynomial written out with
+   large integer coefficients) is noise near its roots, and noise changes sign at
+   random. Findings close together (roots, "poles", "jumps", runs of exact zeros)
+   are examined: where |f| stays within 8 standard deviations of f's own rounding
+   noise (estimated from f itself, :func:`solvers.noise.noise_level`) on a stretch
+   that overlaps several of them, they are one root cluster, reported once at the
+   middle of the stretch with ``confirmed`` stating the stretch and the uncertainty,
+   the multiplicity the slope of log|f| just outside supports (odd across a sign
+   change), and the stretch in ``Scan.noise_bands``. A "noise level" above 1e-3 of
+   f's typical sampled size is f itself, not rounding, and is never used.
 7. **Domains**: runs of undefined samples are **gaps**; their edges are located
    by bisection. A domain edge where f tends to 0 (sqrt(x) at 0, sqrt(1 - x^2) at
    +/-1) is reported as a root at the last defined point (multiplicity 1,
@@ -61,6 +83,12 @@ How a scan works
    multiplicity. Where the proxy finds f not smooth and no pole, jump or gap
    explains it (typically an oscillation the sampling aliased), that part is
    re-scanned with 64x the samples (up to 2e6 samples in all) and a warning says so.
+   A piece whose coefficients fall to f's noise floor counts as smooth (an expanded
+   polynomial), so noise alone never triggers the re-scan.
+
+``cancel()`` is polled on every f call once 20 ms of work went by since the last poll,
+and between batches of the cross-check's eigenvalue work, so a cancel takes effect
+within about that much work wherever the scan is.
 
 f must take and return numpy arrays. It may return NaN/inf where it is undefined;
 if it raises, the points are treated as undefined (evaluated one by one so the
@@ -929,8 +957,10 @@ def scan(
     (about full double precision for a simple root; a root of multiplicity m is only
     determined to about eps^(1/m) relative unless f is evaluated without cancellation).
     ``progress(fraction)`` is called from the calling thread between chunks and at the
-    end (1.0); ``cancel()`` is polled between chunks and refinement steps, and a True
-    answer raises :class:`ScanCancelled`.
+    end (1.0); ``cancel()`` is polled on f calls (at least every 20 ms of work, in every
+    loop) and between eigenvalue batches of the cross-check, and a True answer raises
+    :class:`ScanCancelled`. Where f is rounding noise, what the noise made of one root
+    cluster is reported as that one root (``Scan.noise_bands`` holds the stretches).
 
     Raises ValueError (one line) for a bad range or sample count; never raises because
     f misbehaves. See the module docstring for the classification rules.
