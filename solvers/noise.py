@@ -68,10 +68,12 @@ def noise_level(
     offsets = np.arange(-_ORDER, _ORDER + 1, dtype=float)
     stencils = []
     for rel in _STEPS:
-        # a power-of-2 step and a centre on its grid: every point is exactly representable,
-        # so the differences see f's noise, not the rounding of the points
+        # a power-of-2 step: x + k step is exact (away from a power of 2), so the differences
+        # see f's noise, not the rounding of the points; x keeps all its bits (points on a
+        # coarse grid would make a polynomial with integer coefficients exact there). Near
+        # 0, where the step exceeds |x|/64, the centre moves onto the step's grid instead.
         step = np.exp2(np.floor(np.log2(rel * base)))
-        centre = np.round(x / step)
+        centre = np.where(np.abs(x) >= 64 * step, x / step, np.round(x / step))
         stencils.append((centre[:, None] + offsets[None, :]) * step[:, None])
     pts = np.concatenate(stencils, axis=1)
     y = np.asarray(f(pts.reshape(-1)), dtype=float).reshape(len(x), len(_STEPS), -1)

@@ -830,6 +830,7 @@ def _noise(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
 
 
 _NOISE_K = 8.0  # |f| within this many standard deviations of its rounding noise is "zero"
+_LOOK_ALL = 64  # up to this many roots, every one is examined for rounding noise
 
 
 def _sigma(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
@@ -1861,15 +1862,15 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
     x = np.array(xs, dtype=float)
     # rounding noise shows as several findings close together (or as a pole, a jump, a zero
-    # run); a root with no other finding within two sample spacings is examined only when
-    # its own multiplicity estimate was unsure (``unsure``)
+    # run); with more than _LOOK_ALL roots, a root with no other finding within two sample
+    # spacings is examined only when its own multiplicity estimate was unsure (``unsure``)
     order = np.argsort(x)
     gap = np.diff(x[order])
     crowded = np.zeros(len(x), dtype=bool)
     near = gap <= 2 * h
     crowded[order[:-1][near]] = True
     crowded[order[1:][near]] = True
-    look = crowded | (kind != 0)
+    look = crowded | (kind != 0) | (len(roots) <= _LOOK_ALL)
     look[: len(roots)] |= unsure
     noisy = np.zeros(len(x), dtype=bool)
     lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))

@@ -252,3 +252,28 @@ def test_cancel_takes_effect_at_the_next_evaluation(fraction) -> None:
         scan(slow, 0.0, 20.0, cancel=slow.cancel)
     assert slow.after_flip <= 1
     assert math.isfinite(slow.calls)
+
+
+def test_written_out_polynomials_keep_their_roots_and_multiplicities() -> None:
+    # products of (x - r)^m with r = (5k + 1)/5, multiplied out (sympy) and typed with
+    # exact coefficients: roots and multiplicities by construction (closed form); the scan
+    # must report each once with its multiplicity, within its stated uncertainty, and no
+    # more roots than the degree, no pole, no jump
+    rng = np.random.default_rng(20261202)
+    for case in range(24):
+        ks = sorted(set(rng.integers(-3, 4, int(rng.integers(1, 4))).tolist()))
+        mult = [int(rng.integers(1, 6)) for _ in ks]
+        factor = int(rng.choice([1, 7, 1000]))
+        expr = factor * sympy.prod([(X - sympy.Rational(5 * k + 1, 5)) ** m
+                                    for k, m in zip(ks, mult, strict=True)])
+        eq = parse_equation(expanded(expr))
+        result = scan(eq.f, -3.9, 3.7, fprime=eq.fprime if case % 2 else None)
+        assert result.poles == [] and result.discontinuities == [], case
+        assert total_multiplicity(result) == sum(mult), case
+        for k, m in zip(ks, mult, strict=True):
+            r = (5 * k + 1) / 5
+            (near,) = [root for root in result.roots if abs(root.x - r) < 0.3]
+            assert near.multiplicity == m, (case, r, m, near)
+            band = [bd for bd in result.noise_bands if bd[0] <= near.x <= bd[1]]
+            allowed = band[0][1] - band[0][0] if band else 1e-5
+            assert abs(near.x - r) <= allowed, (case, r, near.x, band)
