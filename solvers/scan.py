@@ -1024,7 +1024,22 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     if cand.peaks:
         pk = np.array(cand.peaks)
         fk = np.abs(g(pk[:, 1]))
-        xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True)
+        # a maximum is located only to sqrt(eps) too; where |f| still changes across that
+        # width (a pole there, not a flat smooth peak) the search goes on down to 4 eps,
+        # where the growth test needs to stand next to it
+        xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True,
+                            rel=_SQRT_EPS)
+        w = np.maximum(_SQRT_EPS * np.abs(xb), xtol)
+        side = np.abs(g(np.concatenate([xb - w, xb + w]))).reshape(2, -1)
+        change = np.max(np.abs(side - np.abs(fb)), axis=0)
+        follow = np.flatnonzero(np.isfinite(fb) & ~(change <= 1e-6 * np.abs(fb)))
+        if follow.size:
+            wf = w[follow]
+            lo_f = np.maximum(xb[follow] - 2 * wf, pk[follow, 0])
+            hi_f = np.minimum(xb[follow] + 2 * wf, pk[follow, 2])
+            x2, f2, _ = _golden(g, lo_f, hi_f, np.ones(follow.size), xtol, peak=True)
+            better = ~np.isfinite(f2) | (np.abs(f2) >= np.abs(fb[follow]))
+            xb[follow[better]], fb[follow[better]] = x2[better], f2[better]
         top = np.abs(fb)
         grows = (top >= 2.0 * fk) & np.isfinite(fb)
         unbounded = ~np.isfinite(fb)
