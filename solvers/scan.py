@@ -868,13 +868,13 @@ def _multiplicity(
     spread of the local slopes (large when other roots hide within the probed distance);
     and f at each root (the residual).
 
-    |f(r +/- d)| at d = reach * 4^-j (j = 0..13); the local slope of log|f| against
+    |f(r +/- d)| at d = reach * 4^-j (j = 0..10); the local slope of log|f| against
     log d, taken from the four smallest d still 1000x above the rounding floor (the
     largest |f| within a few ulps of r). All points go to f in one call.
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
-    j = np.arange(14)
+    j = np.arange(11)
     d = reach[:, None] * 4.0 ** (-j[None, :])
     step = 2 * EPS * np.maximum(np.abs(x), scale)
     ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
