@@ -53,7 +53,9 @@ class ChebyshevRoots:
     ``pieces``: the subintervals where the proxy was accepted (f smooth there).
     ``skipped``: subintervals given up because f is not smooth there (no coefficient
     decay at the depth limit, or NaN/inf at some nodes); ``undefined``: subintervals
-    where f is NaN/inf at every node (or identically zero).
+    where f is NaN/inf at every node (or identically zero). ``ring``: the zeros inside
+    the pieces with |imag| up to 0.1 of the piece's half-width (the zeros of a proxy of
+    a root of multiplicity m spread on a small circle around it), in x units.
     """
 
     roots: tuple[float, ...]
@@ -61,6 +63,7 @@ class ChebyshevRoots:
     pieces: tuple[ChebyshevPiece, ...]
     skipped: tuple[tuple[float, float], ...]
     undefined: tuple[tuple[float, float], ...] = ()
+    ring: tuple[complex, ...] = ()
 
 
 @functools.cache
@@ -267,12 +270,15 @@ def chebyshev_roots(
     near = np.empty(int(close.sum()), dtype=complex)
     near.real, near.imag = (mid + half * t.real)[close], (half * t.imag)[close]
     real = np.clip((mid + half * t.real), u, v)[close & (np.abs(t.imag) <= 1e-10)]
+    loose = (np.abs(t.real) <= 1.0 + 1e-9) & (np.abs(t.imag) <= 0.1)
+    ring = (mid + half * t.real)[loose] + 1j * (half * t.imag)[loose]
     return ChebyshevRoots(
         roots=tuple(float(r) for r in np.sort(real)),
         near_real=tuple(complex(z) for z in near),
         pieces=tuple(ChebyshevPiece(u, v, len(c) - 1) for u, v, c in accepted),
         skipped=_merge(skipped),
         undefined=_merge(undefined),
+        ring=tuple(complex(z) for z in ring),
     )
 
 

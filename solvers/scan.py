@@ -1705,6 +1705,14 @@ def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[str]):
         hit = ok & (np.abs(near - np.clip(zr, first[kc], last[kc])) <= radius[kc])
         used |= hit
         located[kc[hit]] = True
+    # a multiple root's proxy zeros spread on a small circle (radius ~ (noise)^(1/m)): for
+    # a cluster of total multiplicity m >= 2 a proxy zero off the real line within the
+    # same radius counts too
+    ring = np.array(getattr(cheb, "ring", ()), dtype=complex)
+    if len(ring):
+        for k in np.flatnonzero(~located & (total >= 2) & (cpiece >= 0)):
+            dist = np.abs(ring - np.clip(ring.real, first[k], last[k]))
+            located[k] = bool(np.any(dist <= radius[k]))
     out: list[Root] = []
     for j, r in enumerate(roots):
         k = cluster[j]
