@@ -5,6 +5,10 @@ scan's base grid, then scipy.optimize.brentq on every sign change (tolerances se
 the scan's: xtol = 1e-3 eps max(|a|, |b|), rtol = 4 eps). Ratios are scan time /
 baseline time (target <= 1.0), with the Chebyshev cross-check (the default) and without
 it, best of several runs interleaved with the baseline's; no time is asserted anywhere.
+It first times equations compiled by ``parse_equation`` (the same compiled f given to the
+scan and to the baseline): cos x cosh x + 1 on [0, 50], 20 invented sinusoids on [0, 200]
+and sin(x^2) on [0, 30], then a double root and a pair 1e-7 apart the baseline misses, and
+Chebyshev T12 written out (rounding noise near every root).
 A summary repeats the ratios at the default density. Also reports what the baseline
 gets wrong on a case with poles and double roots, and the peak memory (tracemalloc) of
 a 10^7-sample scan. Run: ``.venv/bin/python benchmarks/bench_scan.py``.
