@@ -783,8 +783,9 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
     both = g(np.concatenate([x - w, x + w]))
     sfl, sfr = sg * both[: rest.size], sg * both[rest.size:]
     # a value of the opposite sign beside x: two roots straddle it
-    for arr, off in ((sfl, -w), (sfr, w)):
-        flip = np.isfinite(arr) & (arr < 0) & ~crossed[rest]
+    inside = ((x - w > lo[rest]), (x + w < hi[rest]))  # a split point strictly inside
+    for arr, off, ok in ((sfl, -w, inside[0]), (sfr, w, inside[1])):
+        flip = np.isfinite(arr) & (arr < 0) & ~crossed[rest] & ok
         crossed[rest[flip]] = True
         xb[rest[flip]] = (x + off)[flip]
         fb[rest[flip]] = (sg * arr)[flip]
@@ -800,7 +801,8 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
     more = rest[open_ & ~noise & ~positive & np.isfinite(sfl) & np.isfinite(sfr)]
     if more.size:
         wm = np.maximum(_SQRT_EPS * np.abs(xb[more]), xtol)
-        x2, f2, c2 = _golden(g, xb[more] - 2 * wm, xb[more] + 2 * wm, sign[more], xtol)
+        x2, f2, c2 = _golden(g, np.maximum(xb[more] - 2 * wm, lo[more]),
+                             np.minimum(xb[more] + 2 * wm, hi[more]), sign[more], xtol)
         better = c2 | (np.abs(f2) < np.abs(fb[more]))
         xb[more[better]], fb[more[better]] = x2[better], f2[better]
         crossed[more[c2]] = True
