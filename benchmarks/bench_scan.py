@@ -5,6 +5,10 @@ scan's base grid, then scipy.optimize.brentq on every sign change (tolerances se
 the scan's: xtol = 1e-3 eps max(|a|, |b|), rtol = 4 eps). Ratios are scan time /
 baseline time (target <= 1.0), with the Chebyshev cross-check (the default) and without
 it, best of several runs interleaved with the baseline's; no time is asserted anywhere.
+It first times equations compiled by ``parse_equation`` (the same compiled f given to the
+scan and to the baseline): cos x cosh x + 1 on [0, 50], 20 invented sinusoids on [0, 200]
+and sin(x^2) on [0, 30], then a double root and a pair 1e-7 apart the baseline misses, and
+Chebyshev T12 written out (rounding noise near every root).
 A summary repeats the ratios at the default density. Also reports what the baseline
 gets wrong on a case with poles and double roots, and the peak memory (tracemalloc) of
 a 10^7-sample scan. Run: ``.venv/bin/python benchmarks/bench_scan.py``.
@@ -30,6 +34,7 @@ from scipy.optimize import brentq
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+from solvers import parse_equation  # noqa: E402
 from solvers.scan import DEFAULT_SAMPLES, scan  # noqa: E402
 
 EPS = float(np.finfo(float).eps)
@@ -101,8 +106,53 @@ def row(name, f, a, b, n, repeat, expect=None):
     return tx / tb, tn / tb, agree, len(s.roots), len(base)
 
 
+def _sinusoids_text() -> str:
+    """The 20 invented sinusoids to 6 decimals, typed as an equation (compiled by
+    parse_equation)."""
+    return " + ".join(f"{amp:.6f}*sin({om:.6f}*x + {ph:.6f})"
+                      for amp, om, ph in zip(_AMPS, _OMEGAS, _PHASES, strict=True))
+
+
+def compiled_rows() -> dict[str, float]:
+    """Scan / baseline on equations compiled by the project (the same f for both)."""
+    print("Compiled equations (parse_equation(...).f given to both), default samples, "
+          "scan / baseline:")
+    print(f"  {'case':<34} {'base ms':>8} {'scan ms':>8} {'ratio':>6} {'plain ms':>9} "
+          f"{'ratio':>6}  roots scan/base")
+    ratios = {}
+    for label, text, a, b, repeat in (
+        ("cos x cosh x + 1 on [0, 50]", "cos(x)*cosh(x) + 1", 0.0, 50.0, 40),
+        ("20 sinusoids on [0, 200]", _sinusoids_text(), 0.0, 200.0, 10),
+        ("sin(x^2) on [0, 30]", "sin(x^2)", 0.0, 30.0, 10),
+    ):
+        f = parse_equation(text).f
+        tb, tx, tn = best_times([lambda f=f, a=a, b=b: baseline(f, a, b, DEFAULT_SAMPLES),
+                                 lambda f=f, a=a, b=b: scan(f, a, b),
+                                 lambda f=f, a=a, b=b: scan(f, a, b, cross_check=False)], repeat)
+        found, base = len(scan(f, a, b).roots), len(baseline(f, a, b, DEFAULT_SAMPLES))
+        ratios[label] = tx / tb
+        print(f"  {label:<34} {tb * 1e3:8.2f} {tx * 1e3:8.2f} {tx / tb:6.2f} {tn * 1e3:9.2f} "
+              f"{tn / tb:6.2f}  {found}/{base}")
+    # what the baseline misses, on a compiled equation: a double root and a pair 1e-7 apart
+    text = "(x - 1.3)^2*(x - 2.2)*(x - 2.2000001)*exp(-x/4)"
+    f = parse_equation(text).f
+    s = scan(f, 0.0, 4.0)
+    base = baseline(f, 0.0, 4.0, DEFAULT_SAMPLES)
+    print(f"  {text} on [0, 4]: scan {[(round(r.x, 9), r.multiplicity) for r in s.roots]}, "
+          f"baseline {[round(v, 9) for v in base]}")
+    # an expanded Chebyshev polynomial: rounding noise near every root
+    t12 = ("2048*x^12 - 6144*x^10 + 6912*x^8 - 3584*x^6 + 840*x^4 - 72*x^2 + 1")
+    f = parse_equation(t12).f
+    (t,) = best_times([lambda: scan(f, -1.0, 1.0)], 3)
+    print(f"  T12 written out on [-1, 1]: {len(scan(f, -1.0, 1.0).roots)} roots in "
+          f"{t * 1e3:.1f} ms")
+    return ratios
+
+
 def main() -> None:
     print("zerotrace scan benchmark (times: best of several interleaved runs, milliseconds)")
+    compiled = compiled_rows()
+    print()
     print(f"default samples = {DEFAULT_SAMPLES}; the baseline samples at the same count. "
           "ratio = scan / baseline; 'xchk' = with the Chebyshev cross-check (the default), "
           "'plain' = cross_check=False. Target: ratio <= 1.0.")
@@ -126,6 +176,9 @@ def main() -> None:
         print(f"  {label:<28} {rx:5.2f}x with the cross-check, {rn:5.2f}x without"
               + ("" if agree else f"   (the baseline found {found_base} roots, the scan "
                                   f"{found}: sampling alone aliases there)"))
+
+    for label, ratio in compiled.items():
+        print(f"  compiled {label:<32} {ratio:5.2f}x with the cross-check")
 
     print()
     print("What the baseline gets wrong: (x-1)^2 (x-3) (x-4.5)^2 / ((x-2)(x-5.5)) on [0, 7]")

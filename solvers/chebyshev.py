@@ -53,7 +53,9 @@ class ChebyshevRoots:
     ``pieces``: the subintervals where the proxy was accepted (f smooth there).
     ``skipped``: subintervals given up because f is not smooth there (no coefficient
     decay at the depth limit, or NaN/inf at some nodes); ``undefined``: subintervals
-    where f is NaN/inf at every node (or identically zero).
+    where f is NaN/inf at every node (or identically zero). ``ring``: the zeros inside
+    the pieces with |imag| up to 0.1 of the piece's half-width (the zeros of a proxy of
+    a root of multiplicity m spread on a small circle around it), in x units.
     """
 
     roots: tuple[float, ...]
@@ -61,6 +63,7 @@ class ChebyshevRoots:
     pieces: tuple[ChebyshevPiece, ...]
     skipped: tuple[tuple[float, float], ...]
     undefined: tuple[tuple[float, float], ...] = ()
+    ring: tuple[complex, ...] = ()
 
 
 @functools.cache
@@ -75,12 +78,16 @@ def _nodes(degree: int) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
-             degrees: tuple[int, ...] = DEGREES):
+             degrees: tuple[int, ...] = DEGREES,
+             noise: Callable[[np.ndarray], np.ndarray] | None = None):
     """Try every degree on every span [a, b] (rows of ``spans``) with one f call per degree.
 
     Returns (status, coefficients) lists: status "ok" (coefficients decayed), "undefined"
     (f NaN/inf at every node, or identically zero), "nonfinite" (at some nodes), or
-    "unresolved" (no decay by the largest degree).
+    "unresolved" (no decay by the largest degree). With ``noise`` (x -> standard deviation
+    of f's rounding noise), a span whose coefficients fall to the noise floor by the largest
+    degree is "ok" too: rounding noise of deviation sigma at the nodes puts about
+    sigma sqrt(2 / (n + 1)) into every coefficient, and no degree resolves it further.
     """
     count = len(spans)
     status = np.full(count, "unresolved", dtype=object)
@@ -108,7 +115,19 @@ def _resolve(f: Callable[[np.ndarray], np.ndarray], spans: np.ndarray,
         for row in np.flatnonzero(ok):
             status[pending[row]] = "ok"
             coefficients[pending[row]] = c[row, : length[row]]
-        pending = pending[whole & (scale > 0.0) & ~ok]
+        left = whole & (scale > 0.0) & ~ok
+        if noise is not None and degree == degrees[-1] and left.any():
+            rows = np.flatnonzero(left)
+            u, v = spans[pending[rows], 0], spans[pending[rows], 1]
+            sigma = np.asarray(noise(np.concatenate([u, 0.5 * (u + v), v])), dtype=float)
+            floor = 2.0 * np.nanmax(sigma.reshape(3, -1), axis=0)
+            quiet = (floor > DECAY_TOL * scale[rows]) & (tail[rows] <= floor)
+            for row, fl in zip(rows[quiet], floor[quiet], strict=True):
+                status[pending[row]] = "ok"
+                keep = np.flatnonzero(np.abs(c[row]) > fl)
+                coefficients[pending[row]] = c[row, : (keep[-1] + 1 if keep.size else 1)]
+            left[rows[quiet]] = False
+        pending = pending[left]
     return list(status), coefficients
 
 
@@ -143,9 +162,11 @@ def _colleagues(cs: np.ndarray) -> np.ndarray:
 _NEAR_BOUND = 1.002
 
 
-def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
+def _zeros(coefficients: list[np.ndarray],
+           between: Callable[[], None] | None = None) -> list[np.ndarray]:
     """Zeros of Chebyshev series in [-1, 1] units, as ``chebroots`` computes them, but with
-    the colleague-matrix eigenvalue problems of equal size solved in one batch."""
+    the colleague-matrix eigenvalue problems of equal size solved in batches of bounded
+    work (``between()`` is called before each batch: the cancel poll)."""
     out: list[np.ndarray] = [np.zeros(0, dtype=complex)] * len(coefficients)
     groups: dict[int, list[int]] = {}
     for i, c in enumerate(coefficients):
@@ -155,12 +176,18 @@ def _zeros(coefficients: list[np.ndarray]) -> list[np.ndarray]:
             out[i] = np.array([-c[0] / c[1]], dtype=complex)
         elif len(c) > 2:
             groups.setdefault(len(c), []).append(i)
-    for members in groups.values():
-        # same rotation as numpy's chebroots, for accuracy with small leading coefficients
-        stack = _colleagues(np.stack([coefficients[i] for i in members]))[:, ::-1, ::-1]
-        values = np.linalg.eigvals(stack)
-        for i, v in zip(members, values, strict=True):
-            out[i] = np.asarray(v, dtype=complex)
+    for length, group in groups.items():
+        # about 1e6 multiply-adds of eigenvalue work per batch (a few milliseconds)
+        size = max(1, int(1e6 // length**3))
+        for start in range(0, len(group), size):
+            if between is not None:
+                between()
+            members = group[start:start + size]
+            # same rotation as numpy's chebroots, for accuracy with small leading coefficients
+            stack = _colleagues(np.stack([coefficients[i] for i in members]))[:, ::-1, ::-1]
+            values = np.linalg.eigvals(stack)
+            for i, v in zip(members, values, strict=True):
+                out[i] = np.asarray(v, dtype=complex)
     return out
 
 
@@ -174,6 +201,7 @@ def chebyshev_roots(
     max_pieces: int = 1024,
     cancel: Callable[[], bool] | None = None,
     on_cancel: Callable[[], None] | None = None,
+    noise: Callable[[np.ndarray], np.ndarray] | None = None,
 ) -> ChebyshevRoots:
     """Locate the real zeros of a vectorised f on [a, b] by Chebyshev proxies.
 
@@ -185,8 +213,11 @@ def chebyshev_roots(
     All pieces of one subdivision level are evaluated together (one f call per degree
     and level); a level with more than ``max_pieces`` pieces is not attempted (f is
     noisy or rough almost everywhere) and its pieces are reported as skipped.
-    ``cancel`` is polled per level; when it returns True, ``on_cancel`` is called (it is
-    expected to raise).
+    ``cancel`` is polled per level and between eigenvalue batches; when it returns True,
+    ``on_cancel`` is called (it is expected to raise). ``noise`` (x -> standard deviation
+    of f's rounding noise, e.g. :func:`solvers.noise.noise_level`) lets a piece whose
+    coefficients fall to the noise floor count as resolved (an expanded polynomial near its
+    roots) instead of being halved down to the depth limit.
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)
     level = np.column_stack([edges[:-1], edges[1:]])
@@ -202,11 +233,12 @@ def chebyshev_roots(
             skipped.extend((float(u), float(v)) for u, v in level)
             break
         with np.errstate(all="ignore"):  # NaN/inf from f are results here, not warnings
-            status, coefficients = _resolve(f, level)
+            status, coefficients = _resolve(f, level, noise=noise)
         rough = [i for i, st in enumerate(status) if st == "unresolved"]
         if rough and (depth == max_depth or 2 * len(rough) > max_pieces):
             with np.errstate(all="ignore"):
-                last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,))
+                last_status, last_coefficients = _resolve(f, level[rough], (LAST_DEGREE,),
+                                                          noise)
             for i, st, c in zip(rough, last_status, last_coefficients, strict=True):
                 status[i], coefficients[i] = st, c
         split = []
@@ -222,7 +254,12 @@ def chebyshev_roots(
                 split += [(u, w), (w, v)]
         level = np.array(split, dtype=float).reshape(-1, 2)
     accepted.sort(key=lambda item: item[0])
-    zeros = _zeros([c for _, _, c in accepted])
+
+    def poll() -> None:
+        if cancel is not None and on_cancel is not None and cancel():
+            on_cancel()
+
+    zeros = _zeros([c for _, _, c in accepted], poll)
     # all zeros of all pieces in one array, each with its piece's centre and half-width
     t = np.concatenate(zeros) if zeros else np.zeros(0, dtype=complex)
     counts = [len(z) for z in zeros]
@@ -233,12 +270,15 @@ def chebyshev_roots(
     near = np.empty(int(close.sum()), dtype=complex)
     near.real, near.imag = (mid + half * t.real)[close], (half * t.imag)[close]
     real = np.clip((mid + half * t.real), u, v)[close & (np.abs(t.imag) <= 1e-10)]
+    loose = (np.abs(t.real) <= 1.0 + 1e-9) & (np.abs(t.imag) <= 0.1)
+    ring = (mid + half * t.real)[loose] + 1j * (half * t.imag)[loose]
     return ChebyshevRoots(
         roots=tuple(float(r) for r in np.sort(real)),
         near_real=tuple(complex(z) for z in near),
         pieces=tuple(ChebyshevPiece(u, v, len(c) - 1) for u, v, c in accepted),
         skipped=_merge(skipped),
         undefined=_merge(undefined),
+        ring=tuple(complex(z) for z in ring),
     )
 
 

@@ -29,22 +29,44 @@ How a scan works
 4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
    that a parabola through the three samples says dips at least 10 % toward zero,
    or whose lowest value is within the parabola's curvature scale (c h^2) of zero,
-   is searched by a vectorised golden-section minimisation of |f|. If the search
-   finds the opposite sign, two close roots were hidden between samples: both
-   brackets go to step 2 (close roots are resolved, not merged). Otherwise the
-   minimum is a root when |f| there is at rounding-noise level (no more than 16x
-   the spread of f over a few ulps around it) or below 1e-14 of |f| at the
-   neighbouring samples; with ``fprime`` the touch point is then refined by Brent
-   on f'.
+   is searched by a vectorised golden-section minimisation of |f| down to sqrt(eps)
+   (a minimum is located no better). If the search finds the opposite sign, two
+   close roots were hidden between samples: both brackets go to step 2 (close roots
+   are resolved, not merged). A parabola whose vertex stays above half the least |f|
+   is a positive minimum, no root. Otherwise the minimum is a root only when |f|
+   there is indistinguishable from zero: no more than 16x the spread of f over a few
+   steps of the minimiser's resolution, or within 8 standard deviations of f's
+   rounding noise (:mod:`solvers.noise`). A touch that stops short of zero
+   (x^2 + 1e-20) is not a root. With ``fprime`` the touch point is then refined by
+   bracketing f' (scale-free: only ratios of f' values are used).
 5. **Poles without a sign change** (1/(x - c)^2, ln|x - c|): a sharp local maximum
-   of |f| (at least 10 % above its lower neighbour) is searched by golden section
-   for the largest |f|; at least twice the sampled peak (or infinite) is a pole.
+   of |f| (at least 10 % above its lower neighbour, or a kink: its second difference
+   8x that two samples away, as for a pole riding on a large offset) is searched by
+   golden section for the largest |f|; at least twice the sampled peak (or infinite)
+   and |f| still growing through the last 20 halvings of the distance before float
+   resolution is a pole. A bounded oscillation (sin(1/x) near 0) is not, and a sign
+   change whose bisection looked like a pole is checked the same way. Beside every
+   pole the stretch to the neighbouring samples is probed at distances halving down
+   to a few ulps: each sign change there brackets a root no sample pair showed (a
+   liquid root 1e-4 of a spacing from an equation of state's co-volume pole), and a
+   dip without one is reported as a place where a pair of roots may hide.
 6. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
    log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance
    to the next feature) down to the noise level, rounded to the integer of the
-   right parity (odd for a sign change, even for a touch). When the slopes are not
-   those of one power (an odd cluster of roots inside one sample spacing shows as
-   one sign change), both sides of the refined root are searched for more roots.
+   right parity (odd for a sign change, even for a touch), with no upper cap. When
+   the slopes are not those of one power (an odd cluster of roots inside one sample
+   spacing shows as one sign change), both sides of the refined root are searched
+   for more roots.
+6a. **Rounding noise**: f typed with cancellation (a polynomial written out with
+   large integer coefficients) is noise near its roots, and noise changes sign at
+   random. Findings close together (roots, "poles", "jumps", runs of exact zeros)
+   are examined: where |f| stays within 8 standard deviations of f's own rounding
+   noise (estimated from f itself, :func:`solvers.noise.noise_level`) on a stretch
+   that overlaps several of them, they are one root cluster, reported once at the
+   middle of the stretch with ``confirmed`` stating the stretch and the uncertainty,
+   the multiplicity the slope of log|f| just outside supports (odd across a sign
+   change), and the stretch in ``Scan.noise_bands``. A "noise level" above 1e-3 of
+   f's typical sampled size is f itself, not rounding, and is never used.
 7. **Domains**: runs of undefined samples are **gaps**; their edges are located
    by bisection. A domain edge where f tends to 0 (sqrt(x) at 0, sqrt(1 - x^2) at
    +/-1) is reported as a root at the last defined point (multiplicity 1,
@@ -61,6 +83,12 @@ How a scan works
    multiplicity. Where the proxy finds f not smooth and no pole, jump or gap
    explains it (typically an oscillation the sampling aliased), that part is
    re-scanned with 64x the samples (up to 2e6 samples in all) and a warning says so.
+   A piece whose coefficients fall to f's noise floor counts as smooth (an expanded
+   polynomial), so noise alone never triggers the re-scan.
+
+``cancel()`` is polled on every f call once 20 ms of work went by since the last poll,
+and between batches of the cross-check's eigenvalue work, so a cancel takes effect
+within about that much work wherever the scan is.
 
 f must take and return numpy arrays. It may return NaN/inf where it is undefined;
 if it raises, the points are treated as undefined (evaluated one by one so the
@@ -74,6 +102,7 @@ import collections
 import functools
 import itertools
 import math
+import time
 import warnings as _warnings
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -82,6 +111,7 @@ import numpy as np
 
 from solvers.chebyshev import ChebyshevRoots, chebyshev_roots
 from solvers.methods import brent
+from solvers.noise import noise_level
 from solvers.result import Run
 
 __all__ = [
@@ -100,6 +130,7 @@ _WINDOW = 32  # samples per window in the oscillation check
 _MAX_EXTREMA = 8  # more extrema of f per window than this: resample the window finer
 _RESAMPLE = 8  # refinement factor for an under-resolved window
 _MAX_LEVEL = 2  # at most 64x the base density
+_POLL = 0.02  # seconds of work between two polls of cancel()
 
 
 class ScanCancelled(Exception):
@@ -166,7 +197,9 @@ class Scan:
     ``gaps``: (start, end) intervals where f is undefined (NaN), ends located to
     about one ulp. ``samples``: f evaluations in the sampling pass (base grid plus
     refined windows). ``cross_checked``: pieces where the Chebyshev proxy ran (f
-    smooth there); ``chebyshev_roots``: the real zeros it located.
+    smooth there); ``chebyshev_roots``: the real zeros it located. ``noise_bands``:
+    stretches where |f| is within its own rounding noise, each reported as one root
+    cluster at its middle (x uncertain by the half-width).
     """
 
     a: float
@@ -179,6 +212,7 @@ class Scan:
     samples: int = 0
     cross_checked: list[tuple[float, float]] = field(default_factory=list)
     chebyshev_roots: list[float] = field(default_factory=list)
+    noise_bands: list[tuple[float, float]] = field(default_factory=list)
 
 
 # ----------------------------------------------------------------------------- evaluation
@@ -207,14 +241,25 @@ class _Guarded:
         self.f = f
         self.cancel = cancel
         self.calls = 0
+        self._polled = time.perf_counter()
 
     def check(self) -> None:
-        if self.cancel is not None and self.cancel():
-            raise ScanCancelled("scan cancelled")
+        if self.cancel is not None:
+            self._polled = time.perf_counter()
+            if self.cancel():
+                raise ScanCancelled("scan cancelled")
+
+    def poll(self) -> None:
+        """``check`` when more than ``_POLL`` seconds of work went by since the last one:
+        every f call polls, so a cancel takes effect within about that much work in any
+        loop (sampling, refinement, cross-check) without asking ``cancel`` per iteration."""
+        if self.cancel is not None and time.perf_counter() - self._polled > _POLL:
+            self.check()
 
     def __call__(self, x: np.ndarray) -> np.ndarray:
         x = np.asarray(x, dtype=float)
         self.calls += 1
+        self.poll()
         try:
             return _as_real(self.f(x), x.shape)
         except Exception:  # f raised: evaluate pointwise so the defined points survive
@@ -226,6 +271,7 @@ class _Guarded:
 
     def scalar(self, x: float) -> float:
         """f at one point as a float (NaN when undefined, complex or raising)."""
+        self.poll()
         for arg in (x, None):
             try:
                 y = self.f(x) if arg is not None else self.f(np.array([x]))
@@ -260,6 +306,7 @@ class _Candidates:
     last_defined: bool = True
     unresolved: list[tuple[float, float]] = field(default_factory=list)
     samples: int = 0
+    typical: list[float] = field(default_factory=list)  # median finite |f| of each chunk
 
 
 def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) -> None:
@@ -319,7 +366,18 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
         ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
         sharp = np.isfinite(ap) & np.isfinite(al) & np.isfinite(ar)
         sp = np.sign(y[p])
-        sharp &= (ap > 0) & (ap >= 1.1 * np.minimum(al, ar))
+        # ... or a kink: the second difference at the peak 8x one of those two samples away
+        # (a pole riding on a large offset, 1/(x - c) - 1e6, bumps |f| by far less
+        # than 10 %; a smooth peak's second differences vary slowly)
+        d2 = np.abs(y[p - 1] - 2 * y[p] + y[p + 1])
+        far_l = np.where(p >= 3, np.abs(y[np.maximum(p - 3, 0)] - 2 * y[p - 2] + y[p - 1]),
+                         np.inf)
+        ok_r = p + 3 < n
+        far_r = np.where(ok_r, np.abs(y[np.minimum(p + 1, n - 1)]
+                                      - 2 * y[np.minimum(p + 2, n - 1)]
+                                      + y[np.minimum(p + 3, n - 1)]), np.inf)
+        kink = (d2 > 8 * np.minimum(far_l, far_r)) & (d2 > 1e-9 * ap)
+        sharp &= (ap > 0) & ((ap >= 1.1 * np.minimum(al, ar)) | kink)
         sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
         for kk in p[sharp]:
             out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
@@ -389,6 +447,10 @@ def _sample_grid(
             x[-1] = b
         y = g(x)
         out.samples += stop - start
+        if level == 0:
+            finite = np.abs(y[np.isfinite(y)])
+            if finite.size:
+                out.typical.append(float(np.median(finite)))
         if start == 0:
             out.first_defined = not bool(np.isnan(y[0]))
         if stop == n:
@@ -625,7 +687,7 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     return found, poles, jumps, undefined
 
 
-def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run:
+def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
     """The project's Brent on one sample bracket (its ends' f values already known)."""
     known = {float(row[0]): float(row[2]), float(row[1]): float(row[3])}
 
@@ -633,18 +695,22 @@ def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run:
         value = known.pop(x, None)
         return g.scalar(x) if value is None else value
 
-    return brent(f_known, float(row[0]), float(row[1]), xtol=xtol, rtol=_RTOL, ftol=0.0,
-                 max_iter=200)
+    try:
+        return brent(f_known, float(row[0]), float(row[1]), xtol=xtol, rtol=_RTOL, ftol=0.0,
+                     max_iter=200)
+    except ArithmeticError:
+        return None
 
 
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
-            *, peak: bool = False):
+            *, peak: bool = False, rel: float = 4 * EPS):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
     opposite sign (then xbest is that point: two roots straddle it). With ``peak`` it
     maximises |f| instead (fbest is then -|f|, and nothing is ever "crossed"); a search
-    that meets inf or NaN stops there.
+    that meets inf or NaN stops there. It stops when the bracket is no wider than
+    ``rel max(|lo|, |hi|) + xtol``.
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
@@ -686,10 +752,64 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
             crossed[act]
             | ~np.isfinite(fn)
             | ~np.isfinite(fbest[act])
-            | (width <= 4 * EPS * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
+            | (width <= rel * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
         )
         active[act[stop]] = False
     return xbest, sign * fbest, crossed
+
+
+_SQRT_EPS = math.sqrt(EPS)
+
+
+def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
+                  xtol: float, scale: float):
+    """Minimise sign*f on each [lo, hi]: (x, f(x), crossed, touch) per row.
+
+    A minimum is only located to about sqrt(eps) relative (f is flat there to the last
+    digits), so golden section stops at that width. Then f at x +/- w (w the final width):
+    a value of the opposite sign means crossed (two roots straddle x); |f(x)| at noise
+    level (:func:`_at_noise`) is a touch; a parabola through the three values whose vertex
+    stays above half of f(x) is a positive minimum, no root (x^2 + 1e-20, the troughs of
+    a sinusoid). Only the rest, the genuine touches whose f is computed without noise,
+    continue golden section to 4 eps around x before :func:`_at_noise` decides.
+    """
+    xb, fb, crossed = _golden(g, lo, hi, sign, xtol, rel=_SQRT_EPS)
+    touch = np.zeros(len(xb), dtype=bool)
+    rest = np.flatnonzero(~crossed & np.isfinite(fb))
+    if rest.size == 0:
+        return xb, fb, crossed, touch
+    x, sfb, sg = xb[rest], sign[rest] * fb[rest], sign[rest]
+    w = np.maximum(_SQRT_EPS * np.abs(x), xtol)
+    both = g(np.concatenate([x - w, x + w]))
+    sfl, sfr = sg * both[: rest.size], sg * both[rest.size:]
+    # a value of the opposite sign beside x: two roots straddle it
+    inside = ((x - w > lo[rest]), (x + w < hi[rest]))  # a split point strictly inside
+    for arr, off, ok in ((sfl, -w, inside[0]), (sfr, w, inside[1])):
+        flip = np.isfinite(arr) & (arr < 0) & ~crossed[rest] & ok
+        crossed[rest[flip]] = True
+        xb[rest[flip]] = (x + off)[flip]
+        fb[rest[flip]] = (sg * arr)[flip]
+    open_ = ~crossed[rest]
+    noise = np.zeros(rest.size, dtype=bool)
+    if open_.any():
+        noise[open_] = _at_noise(g, x[open_], fb[rest][open_], xtol, scale)
+    touch[rest[open_ & noise]] = True
+    with np.errstate(all="ignore"):
+        curv = sfl - 2 * sfb + sfr
+        vertex = sfb - (sfr - sfl) ** 2 / (8 * curv)
+    positive = (curv > 0) & (vertex > 0.5 * sfb) & (sfb > 0)
+    more = rest[open_ & ~noise & ~positive & np.isfinite(sfl) & np.isfinite(sfr)]
+    if more.size:
+        wm = np.maximum(_SQRT_EPS * np.abs(xb[more]), xtol)
+        x2, f2, c2 = _golden(g, np.maximum(xb[more] - 2 * wm, lo[more]),
+                             np.minimum(xb[more] + 2 * wm, hi[more]), sign[more], xtol)
+        better = c2 | (np.abs(f2) < np.abs(fb[more]))
+        xb[more[better]], fb[more[better]] = x2[better], f2[better]
+        crossed[more[c2]] = True
+        ok = ~c2
+        if ok.any():
+            touch[more[ok]] = _at_noise(g, xb[more[ok]], fb[more[ok]], xtol, scale)
+    return xb, fb, crossed, touch
 
 
 def _near_values(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
@@ -711,6 +831,38 @@ def _noise(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
         return np.nanmax(vals, axis=1) - np.nanmin(vals, axis=1)
 
 
+_NOISE_K = 8.0  # |f| within this many standard deviations of its rounding noise is "zero"
+_LOOK_ALL = 64  # up to this many roots, every one is examined for rounding noise
+
+
+def _sigma(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
+    """Standard deviation of f's rounding noise at each x (:func:`solvers.noise.noise_level`),
+    0 where it cannot be measured."""
+    s = noise_level(g, np.asarray(x, dtype=float), 1e-3 * max(scale, 1e-300))
+    return np.where(np.isfinite(s), s, 0.0)
+
+
+def _at_noise(g: _Guarded, x: np.ndarray, fx: np.ndarray, xtol: float,
+              scale: float) -> np.ndarray:
+    """Whether |f(x)| at a located minimum of |f| is indistinguishable from zero.
+
+    True where f(x) == 0, or |f(x)| is within 16x the spread of f over a few steps of the
+    minimiser's resolution (max(2 eps |x|, xtol): moving x by what its location is worth
+    moves f by more than f itself), or within ``_NOISE_K`` standard deviations of f's
+    rounding noise. A touch that stops short of zero (x^2 + 1e-20) is none of these.
+    """
+    x, fx = np.asarray(x, dtype=float), np.abs(np.asarray(fx, dtype=float))
+    ok = fx == 0
+    if x.size == 0:
+        return ok
+    spread = _noise(g, x, max(EPS * scale, xtol / (2 * EPS)))
+    ok |= fx <= 16 * spread
+    rest = np.flatnonzero(~ok & np.isfinite(fx))
+    if rest.size:
+        ok[rest] = fx[rest] <= _NOISE_K * _sigma(g, x[rest], scale)
+    return ok
+
+
 def _multiplicity(
     g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -718,13 +870,13 @@ def _multiplicity(
     spread of the local slopes (large when other roots hide within the probed distance);
     and f at each root (the residual).
 
-    |f(r +/- d)| at d = reach * 4^-j (j = 0..13); the local slope of log|f| against
+    |f(r +/- d)| at d = reach * 4^-j (j = 0..10); the local slope of log|f| against
     log d, taken from the four smallest d still 1000x above the rounding floor (the
     largest |f| within a few ulps of r). All points go to f in one call.
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
-    j = np.arange(14)
+    j = np.arange(11)
     d = reach[:, None] * 4.0 ** (-j[None, :])
     step = 2 * EPS * np.maximum(np.abs(x), scale)
     ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
@@ -757,7 +909,7 @@ def _multiplicity(
     with np.errstate(all="ignore"):
         spread = (np.max(np.where(pair, slopes, -np.inf), axis=1)
                   - np.min(np.where(pair, slopes, np.inf), axis=1))
-    return np.minimum(m, 12), np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
+    return m, np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
 
 
 # ----------------------------------------------------------------------------- the scan
@@ -808,8 +960,10 @@ def scan(
     (about full double precision for a simple root; a root of multiplicity m is only
     determined to about eps^(1/m) relative unless f is evaluated without cancellation).
     ``progress(fraction)`` is called from the calling thread between chunks and at the
-    end (1.0); ``cancel()`` is polled between chunks and refinement steps, and a True
-    answer raises :class:`ScanCancelled`.
+    end (1.0); ``cancel()`` is polled on f calls (at least every 20 ms of work, in every
+    loop) and between eigenvalue batches of the cross-check, and a True answer raises
+    :class:`ScanCancelled`. Where f is rounding noise, what the noise made of one root
+    cluster is reported as that one root (``Scan.noise_bands`` holds the stretches).
 
     Raises ValueError (one line) for a bad range or sample count; never raises because
     f misbehaves. See the module docstring for the classification rules.
@@ -847,15 +1001,13 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     found: list[_Found] = []
     poles: list[float] = list(cand.inf_points)
     jumps: list[float] = []
+    bounded: list[float] = []  # sign changes that looked like poles, but |f| stays bounded
     runs: list[list[float]] = []
     for u, v in sorted(cand.flat):
         if runs and u <= runs[-1][1]:
             runs[-1][1] = max(runs[-1][1], v)
         else:
             runs.append([u, v])
-    for u, v in runs:
-        notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
-                     "not counted as isolated roots")
     brackets = list(cand.brackets) + _overflow_brackets(g, cand.overflow)
     if cand.zeros:
         found += _zero_samples(g, np.array(cand.zeros), h, brackets)
@@ -864,26 +1016,38 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     if cand.minima:
         m = np.array(cand.minima)
         sign = np.sign(m[:, 4])
-        xb, fb, crossed = _golden(g, m[:, 0], m[:, 2], sign, xtol)
+        xb, fb, crossed, touch = _touch_search(g, m[:, 0], m[:, 2], sign, xtol, scale)
         for i in np.nonzero(crossed)[0]:
             brackets.append((m[i, 0], xb[i], m[i, 3], fb[i]))
             brackets.append((xb[i], m[i, 2], fb[i], m[i, 5]))
-        rest = np.nonzero(~crossed & np.isfinite(fb))[0]
-        if len(rest):
-            noise = _noise(g, xb[rest], EPS * scale)
-            neigh = np.minimum(np.abs(m[rest, 3]), np.abs(m[rest, 5]))
-            ok = (fb[rest] == 0) | (np.abs(fb[rest]) <= np.maximum(16 * noise, 1e-14 * neigh))
-            for j, i in enumerate(rest):
-                if not ok[j]:
-                    continue
-                found.append(_touch(g, gp, m[i, 0], m[i, 2], float(xb[i]), xtol))
+        for i in np.flatnonzero(touch):
+            found.append(_touch(g, gp, m[i, 0], m[i, 2], float(xb[i]), xtol))
     # sharp peaks of |f| without a sign change: poles when |f| keeps growing toward a point
     if cand.peaks:
         pk = np.array(cand.peaks)
         fk = np.abs(g(pk[:, 1]))
-        xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True)
+        # a maximum is located only to sqrt(eps) too; where |f| still changes across that
+        # width (a pole there, not a flat smooth peak) the search goes on down to 4 eps,
+        # where the growth test needs to stand next to it
+        xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True,
+                            rel=_SQRT_EPS)
+        w = np.maximum(_SQRT_EPS * np.abs(xb), xtol)
+        side = np.abs(g(np.concatenate([xb - w, xb + w]))).reshape(2, -1)
+        change = np.max(np.abs(side - np.abs(fb)), axis=0)
+        follow = np.flatnonzero(np.isfinite(fb) & ~(change <= 1e-6 * np.abs(fb)))
+        if follow.size:
+            wf = w[follow]
+            lo_f = np.maximum(xb[follow] - 2 * wf, pk[follow, 0])
+            hi_f = np.minimum(xb[follow] + 2 * wf, pk[follow, 2])
+            x2, f2, _ = _golden(g, lo_f, hi_f, np.ones(follow.size), xtol, peak=True)
+            better = ~np.isfinite(f2) | (np.abs(f2) >= np.abs(fb[follow]))
+            xb[follow[better]], fb[follow[better]] = x2[better], f2[better]
         top = np.abs(fb)
-        for i in np.nonzero(~np.isfinite(fb) | (top >= 2.0 * fk))[0]:
+        grows = (top >= 2.0 * fk) & np.isfinite(fb)
+        unbounded = ~np.isfinite(fb)
+        if grows.any():
+            unbounded[grows] = _grows_without_bound(g, xb[grows], h)
+        for i in np.flatnonzero(unbounded):
             poles.append(float(xb[i]))
     # ends of the range: |f| at noise level at a or b is a root there
     found.extend(_range_ends(g, a, b, h, xtol, scale, brackets))
@@ -903,7 +1067,13 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         br = np.array(brackets, dtype=float)
         roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol)
         found += roots_here
-        poles += poles_here
+        if poles_here:
+            # a bracket whose |f| grew while bisected is a pole only if |f| keeps growing
+            # right up to it; a bounded oscillation (sin(1/x) near 0) only looked like one
+            ph = np.array(poles_here)
+            real = _grows_without_bound(g, ph, h)
+            poles += [float(p) for p in ph[real]]
+            bounded += [float(p) for p in ph[~real]]
         jumps += jumps_here
         for i in undefined:
             notes.append(f"f undefined somewhere inside [{br[i, 0]:.6g}, {br[i, 1]:.6g}] "
@@ -911,15 +1081,34 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     gaps, edge_roots, edge_poles = _domains(g, cand, a, b, h, xtol, scale)
     found.extend(edge_roots)
     poles.extend(edge_poles)
-    for u, v in cand.unresolved:
-        notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
-                     "roots there may be missed: raise samples")
+    if poles:
+        found += _beside_poles(g, gp, _dedupe_points(poles, scale), a, b, h, xtol, notes)
 
     flagged: list[int] = []
     roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged)
     hidden = _hidden_roots(g, gp, [roots[i] for i in flagged], xtol)
     if hidden:
         roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale)
+    # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
+    # root cluster of a function evaluated with cancellation become that one root
+    poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
+    typical = float(np.median(cand.typical)) if cand.typical else 0.0
+    unsure = np.zeros(len(roots), dtype=bool)
+    unsure[[i for i in flagged if i < len(roots)]] = True
+    roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
+                                                       b, scale, typical, h, unsure)
+    for u, v in runs:
+        notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
+                     "not counted as isolated roots")
+    for p in bounded:
+        if not any(u <= p <= v for u, v in bands):
+            notes.append(f"f oscillates, bounded, ever faster near x = {p:.12g}: a sign "
+                         "change there was not resolved into roots (no pole)")
+    for u, v in cand.unresolved:
+        if any(p <= u and v <= q for p, q in bands):
+            continue  # rounding noise, not an oscillation
+        notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
+                     "roots there may be missed: raise samples")
 
     cheb: ChebyshevRoots | None = None
     extra_samples = 0
@@ -928,10 +1117,18 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         if progress is not None:
             progress(0.9)
         cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
-                               on_cancel=g.check)
-        roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale)
+                               on_cancel=g.check, noise=lambda x: _sigma(g, x, scale))
+        before = len(roots)
+        roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale,
+                             bands)
+        if len(roots) > before:
+            # a proxy zero "confirmed" by a sign change of rounding noise beside a known root
+            # merges with it like any other noise
+            roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
+                                                           b, scale, typical, h)
+            bands = sorted(bands + more)
         explained = sorted(list(poles) + list(jumps) + [e for gap in gaps for e in gap]
-                           + [e for run in runs for e in run])
+                           + [e for run in runs for e in run] + [e for bd in bands for e in bd])
         rough = []
         for u, v in cheb.skipped:
             i = bisect.bisect_left(explained, u)
@@ -941,6 +1138,11 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         if rough and depth == 0:
             roots, extra_samples = _resample(f, fprime, rough, n, a, b, progress, cancel, roots,
                                              poles, jumps, notes, scale)
+            # what the finer re-scan made of rounding noise merges like the rest
+            poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
+            roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
+                                                           b, scale, typical, h)
+            bands = sorted(bands + more)
         elif rough:
             notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
                          f"{len(rough)} interval(s) in [{rough[0][0]:.6g}, {rough[-1][1]:.6g}] "
@@ -959,6 +1161,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
         samples=cand.samples + extra_samples,
         cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
         chebyshev_roots=list(cheb.roots) if cheb else [],
+        noise_bands=bands,
     )
 
 
@@ -1103,9 +1306,14 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
         value = known.pop(x, None)
         return g.scalar(x) if value is None else value
 
-    run = brent(f_known, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
-    x = float(run.root)
-    how = "sign change, Brent" + ("" if run.converged else f" (stopped: {run.reason})")
+    try:
+        run = brent(f_known, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
+                    max_iter=200)
+    except ArithmeticError:  # (the scan never fails because an interpolation divided badly)
+        run = None
+    x = float(run.root) if run is not None else math.nan
+    how = "sign change, Brent" + ("" if run is None or run.converged
+                                  else f" (stopped: {run.reason})")
     if not (lo <= x <= hi) or not math.isfinite(x):
         x = float(lo if abs(flo) <= abs(fhi) else hi)
         how = "sign change, bisection (Brent left the bracket)"
@@ -1119,19 +1327,33 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
 
 
 def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
-    """A confirmed touch at xm; with f' refine the extremum by Brent on f'."""
+    """A confirmed touch at xm; with f' refine the extremum by bracketing f'.
+
+    The bracketing is the scan's own vectorised Anderson-Bjorck (:func:`_bracket_all`):
+    its interpolation uses only ratios of f' values, so it is scale-free (f' of x^8 near 0
+    underflows gracefully instead of dividing by zero).
+    """
     how = "touch: |f| minimum (golden section) at noise level"
     if gp is not None:
         dl, dr = gp.scalar(lo), gp.scalar(hi)
         if math.isfinite(dl) and math.isfinite(dr) and dl != 0 and dr != 0 and (dl < 0) != (dr < 0):
-            run = brent(gp.scalar, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
-                        max_iter=200)
-            xr = float(run.root)
+            row = np.array([[float(lo), float(hi), dl, dr]])
+            done, blo, bhi, bflo, bfhi = _bracket_all(gp, row, xtol)
+            xr = float(blo[0] if abs(bflo[0]) <= abs(bfhi[0]) else bhi[0])
             level = max(abs(g.scalar(xm)), 16 * float(_noise(g, np.array([xr]), EPS)[0]))
-            if run.converged and lo <= xr <= hi and abs(g.scalar(xr)) <= level:
-                return _Found(xr, False, "touch: f' sign change, Brent on f'; |f| at noise level",
-                              run=run)
+            if done[0] and lo <= xr <= hi and abs(g.scalar(xr)) <= level:
+                return _Found(xr, False, "touch: f' sign change, bracketing on f'; |f| at noise "
+                              "level", run=functools.partial(_safe_brent, gp.scalar, float(lo),
+                                                             float(hi), xtol))
     return _Found(xm, False, how)
+
+
+def _safe_brent(fn, lo: float, hi: float, xtol: float) -> Run | None:
+    """The project's Brent as a record of a root already located; None if it raised."""
+    try:
+        return brent(fn, lo, hi, xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
+    except ArithmeticError:
+        return None
 
 
 def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
@@ -1164,10 +1386,9 @@ def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
             brackets.append((float(lo), float(xb[0]), *((fe, fx) if side > 0 else (fi, fx))))
             brackets.append((float(xb[0]), float(hi), *((fx, fi) if side > 0 else (fx, fe))))
             continue
-        noise = _noise(g, np.array([end]), EPS * scale)[0]
-        if abs(fe) <= max(16 * noise, 1e-14 * abs(fi)):
+        if _at_noise(g, np.array([end]), np.array([fe]), xtol, scale)[0]:
             out.append(_Found(end, True, "range end: |f| at noise level"))
-        elif fb[0] == 0 or abs(fb[0]) <= max(16 * _noise(g, xb, EPS * scale)[0], 1e-14 * abs(fi)):
+        elif _at_noise(g, xb, fb, xtol, scale)[0]:
             out.append(_Found(float(xb[0]), False, "touch: |f| minimum (golden section) at noise "
                               "level"))
     return out
@@ -1239,6 +1460,70 @@ def _domains(g, cand, a, b, h, xtol, scale):
     return gaps, roots, poles
 
 
+def _beside_poles(g: _Guarded, gp, poles: list[float], a: float, b: float, h: float,
+                  xtol: float, notes: list[str]) -> list[_Found]:
+    """Roots between a pole and its neighbouring samples, where no sample pair brackets them.
+
+    f runs from +-inf at the pole to the value at the next sample; a root 1e-4 of a sample
+    spacing from the pole (a cubic equation of state's liquid root beside its co-volume
+    pole) leaves both samples of one sign. Each side is probed at p +/- h 2^-k (k = 0..52,
+    down to a few ulps of p) in one f call; every sign change between neighbouring probes
+    is a bracket refined like any other. A side where |f| dips and rises again between
+    the probes without a sign change could hide a pair of roots: that is said plainly.
+    """
+    pv = np.array(poles, dtype=float)
+    k = np.arange(53)
+    least = 4 * EPS * np.maximum(np.abs(pv), 1e-3 * max(abs(a), abs(b)))
+    d = np.maximum(h * 2.0 ** -k[None, :], least[:, None])
+    brackets = []
+    for side in (-1.0, 1.0):
+        pts = np.clip(pv[:, None] + side * d, a, b)
+        vals = g(pts.reshape(-1)).reshape(pts.shape)
+        for i in range(len(pv)):
+            x, y = pts[i], vals[i]
+            ok = np.isfinite(y) & (y != 0) & (x != pv[i])
+            x, y = x[ok], y[ok]
+            if len(x) < 2:
+                continue
+            flips = np.flatnonzero(np.signbit(y[:-1]) != np.signbit(y[1:]))
+            for j in flips:
+                lo, hi = (j + 1, j) if x[j + 1] < x[j] else (j, j + 1)
+                brackets.append((x[lo], x[hi], y[lo], y[hi]))
+            ay = np.abs(y)  # ordered from far to near: |f| should rise toward the pole
+            dips = np.flatnonzero((ay[1:-1] < ay[:-2]) & (ay[1:-1] < ay[2:]))
+            if not flips.size and dips.size and ay[dips + 1].min() < 1e-3 * ay.max():
+                notes.append(f"beside the pole at x = {pv[i]:.12g}, |f| dips to "
+                             f"{ay[dips + 1].min():.3g} within {float(abs(x[0] - pv[i])):.3g} "
+                             "without a sign change: a pair of roots may hide there")
+    if not brackets:
+        return []
+    return _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]
+
+
+def _grows_without_bound(g: _Guarded, xp: np.ndarray, h: float) -> np.ndarray:
+    """Whether |f| keeps growing toward each located peak xp (a pole), or levels off (a
+    bounded peak that only outgrew the samples, like sin(1/x) near 0).
+
+    |f(xp +/- d)| for d halving 20 times down to 64 ulps of xp (so the probes resolve the
+    last doublings before float resolution): a pole grows steadily on at least one side
+    (monotone, the last value at least 1.2x the first: ln|x - c| gains about 1.7x over
+    those halvings near x = 1, 1/(x - c)^2 10^12x); a bounded smooth peak changes by a
+    relative (d / its width)^2 there, nothing.
+    """
+    k = np.arange(21)
+    least = 64 * EPS * np.maximum(np.abs(xp), EPS * h)
+    d = np.minimum(least[:, None] * 2.0 ** (20 - k[None, :]), h)
+    pts = np.concatenate([xp[:, None] - d, xp[:, None] + d], axis=1)
+    vals = np.abs(g(pts.reshape(-1)).reshape(pts.shape))
+    out = np.zeros(len(xp), dtype=bool)
+    for side in (vals[:, : len(k)], vals[:, len(k):]):
+        inf = np.isinf(side).any(axis=1)
+        fin = np.where(np.isfinite(side), side, np.nan)
+        steady = np.all(np.diff(fin, axis=1) >= 0, axis=1)  # NaN fails: undefined in between
+        out |= inf | (steady & (fin[:, -1] >= 1.2 * fin[:, 0]))
+    return out
+
+
 def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
     """More roots inside the sample bracket of a root whose local shape is not one power.
 
@@ -1274,10 +1559,7 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
             # an interior minimum, not the search running down to the known root's side
             margin = 1e3 * 64 * EPS * np.maximum(np.abs(xb[rest]), EPS)
             inner = (xb[rest] - pr[rest, 0] > margin) & (pr[rest, 1] - xb[rest] > margin)
-            noise = _noise(g, xb[rest], EPS)
-            ends = np.minimum(np.abs(pr[rest, 2]), np.abs(pr[rest, 3]))
-            touch = inner & ((fb[rest] == 0)
-                             | (np.abs(fb[rest]) <= np.maximum(16 * noise, 1e-14 * ends)))
+            touch = inner & _at_noise(g, xb[rest], fb[rest], xtol, 1.0)
             for i in rest[touch]:
                 found.append(_touch(g, gp, pr[i, 0], pr[i, 1], float(xb[i]), xtol))
     if brackets:
@@ -1333,7 +1615,7 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
 
 
 def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, gaps, notes,
-                 h, xtol, scale) -> list[Root]:
+                 h, xtol, scale, bands=()) -> list[Root]:
     """Match sampled roots with proxy roots on the smooth pieces; confirm or warn."""
     pieces = cheb.pieces
     if not pieces:
@@ -1355,6 +1637,8 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         x = float(z.real)
         if any(abs(x - q) <= h for q in features):
             continue
+        if any(u - (v - u) <= x <= v + (v - u) for u, v in bands):
+            continue  # inside (or right beside) a stretch where f is rounding noise
         if extra and abs(x - extra[-1]) <= 1e-9 * max(scale, 1.0):
             continue
         extra.append(x)
@@ -1423,6 +1707,14 @@ def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[str]):
         hit = ok & (np.abs(near - np.clip(zr, first[kc], last[kc])) <= radius[kc])
         used |= hit
         located[kc[hit]] = True
+    # a multiple root's proxy zeros spread on a small circle (radius ~ (noise)^(1/m)): for
+    # a cluster of total multiplicity m >= 2 a proxy zero off the real line within the
+    # same radius counts too
+    ring = np.array(getattr(cheb, "ring", ()), dtype=complex)
+    if len(ring):
+        for k in np.flatnonzero(~located & (total >= 2) & (cpiece >= 0)):
+            dist = np.abs(ring - np.clip(ring.real, first[k], last[k]))
+            located[k] = bool(np.any(dist <= radius[k]))
     out: list[Root] = []
     for j, r in enumerate(roots):
         k = cluster[j]
@@ -1457,9 +1749,7 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
                     brackets += [(mm[i, 0], xb[i], mm[i, 3], fb[i]),
                                  (xb[i], mm[i, 2], fb[i], mm[i, 5])]
                     continue
-                noise = _noise(g, xb[i:i + 1], EPS * scale)[0]
-                neigh = min(abs(mm[i, 3]), abs(mm[i, 5]))
-                if fb[i] == 0 or abs(fb[i]) <= max(16 * noise, 1e-14 * neigh):
+                if _at_noise(g, xb[i:i + 1], fb[i:i + 1], xtol, scale)[0]:
                     r = _touch(g, gp, mm[i, 0], mm[i, 2], float(xb[i]), xtol)
                     r.located_by = ("chebyshev",)
                     found.append(r)
@@ -1470,3 +1760,221 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
         if found:
             return found
     return []
+
+
+# ----------------------------------------------------------------------------- noise clusters
+
+
+@dataclass(frozen=True)
+class _Band:
+    lo: float
+    hi: float
+    members: tuple[int, ...]  # indices into the candidate list
+
+
+def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
+                 singular: np.ndarray | None = None):
+    """For each candidate x: the stretch around it where |f| stays within ``_NOISE_K``
+    standard deviations of f's rounding noise, as (noisy, lower end, upper end, level).
+
+    ``noisy`` is False where |f| rises above the noise level within 64 ulps on both sides
+    (a clean root, pole or jump: its stretch is then [x, x]). ``singular`` marks the poles
+    and jumps. Elsewhere the stretch is
+    found by doubling the distance until |f| exceeds the level (an upper bound within a
+    factor of 2 on each side), in one f call for all candidates.
+    """
+    n = len(x)
+    lo, hi = x.copy(), x.copy()
+    sig = _sigma(g, x, scale)
+    if singular is not None and singular.any():
+        # at a pole or jump the stencil of the noise estimate straddles the singularity and
+        # measures it: take the noise a millionth of the range beside it instead (the same
+        # there, where it is rounding noise; tiny beside a genuine pole or jump)
+        xs = x[singular]
+        off = 2.0**-20 * np.maximum(np.abs(xs), 1e-3 * scale)
+        side = _sigma(g, np.concatenate([xs - off, xs + off]), scale).reshape(2, -1)
+        sig[singular] = np.min(side, axis=0)
+    level = _NOISE_K * sig
+    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    near = np.abs(g(np.concatenate([x - d0, x + d0])))
+    noisy = (sig > 0) & ((near[:n] <= level) | (near[n:] <= level))
+    idx = np.flatnonzero(noisy)
+    if idx.size == 0:
+        return noisy, lo, hi, level
+    k = np.arange(64)
+    d = d0[idx, None] * 2.0 ** k[None, :]
+    room_lo, room_hi = (x[idx] - a)[:, None], (b - x[idx])[:, None]
+    dl, dr = np.minimum(d, room_lo), np.minimum(d, room_hi)
+    vals = np.abs(g(np.concatenate([x[idx, None] - dl, x[idx, None] + dr]).reshape(-1)))
+    vals = vals.reshape(2, idx.size, len(k))
+    lev = level[idx]
+    for side, dd, room in ((0, dl, room_lo), (1, dr, room_hi)):
+        out = ~(vals[side] <= lev[:, None])  # above the level, or undefined
+        first = np.where(out.any(axis=1), np.argmax(out, axis=1), len(k) - 1)
+        outer = np.take_along_axis(dd, first[:, None], axis=1)[:, 0]
+        inner = np.where(first > 0, np.take_along_axis(dd, np.maximum(first - 1, 0)[:, None],
+                                                       axis=1)[:, 0], 0.0)
+        sgn = -1.0 if side == 0 else 1.0
+        for _ in range(8):  # the edge to about 1/256 of its last doubling
+            mid = 0.5 * (inner + outer)
+            above = ~(np.abs(g(x[idx] + sgn * mid)) <= lev)
+            outer, inner = np.where(above, mid, outer), np.where(above, inner, mid)
+        reach = np.minimum(outer, room[:, 0])
+        if side == 0:
+            lo[idx] = x[idx] - reach
+        else:
+            hi[idx] = x[idx] + reach
+    return noisy, lo, hi, level
+
+
+def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.ndarray,
+                          level: np.ndarray):
+    """(multiplicity, odd) of root clusters centred at c with noise stretch half-widths w.
+
+    |f(c +/- D)| for D = 2w, 4w, ... (not beyond ``room``); the slope of log|f| against log D
+    from the three nearest distances where |f| is at least twice the noise level (closest
+    to the cluster: least influence of anything else), rounded to the integer of the
+    parity the signs outside the stretch show (odd: f changes sign across it).
+    """
+    j = np.arange(1, 13)
+    dist = w[:, None] * 2.0 ** j[None, :]
+    pts = np.concatenate([c[:, None] - dist, c[:, None] + dist], axis=1)
+    vals = g(pts.reshape(-1)).reshape(pts.shape)
+    fm, fp = vals[:, : len(j)], vals[:, len(j):]
+    valid = (np.isfinite(fm) & np.isfinite(fp) & (dist <= room[:, None])
+             & (np.minimum(np.abs(fm), np.abs(fp)) > 2 * level[:, None]))
+    first = np.argmax(valid, axis=1)
+    any_valid = valid.any(axis=1)
+    rows = np.arange(len(c))
+    odd = np.where(any_valid, np.signbit(fm[rows, first]) != np.signbit(fp[rows, first]), True)
+    with np.errstate(all="ignore"):
+        logf = 0.5 * (np.log(np.abs(fm)) + np.log(np.abs(fp)))
+        slopes = np.diff(logf, axis=1) / math.log(2.0)
+    pair = valid[:, :-1] & valid[:, 1:]
+    rank = np.cumsum(pair, axis=1)
+    use = pair & (rank <= 3)
+    est = np.array([np.median(slopes[i, use[i]]) if use[i].any() else np.nan
+                    for i in range(len(c))])
+    est = np.where(np.isfinite(est), est, np.where(odd, 1.0, 2.0))
+    m = np.maximum(1, np.rint(est)).astype(int)
+    wrong = (m % 2 == 1) != odd
+    m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
+    return np.maximum(m, np.where(odd, 1, 2)), odd
+
+
+def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
+                    runs: list[list[float]], notes: list[str], a: float, b: float,
+                    scale: float, typical: float, h: float, unsure: np.ndarray | None = None):
+    """Merge what rounding noise made of one root cluster into one root.
+
+    A function evaluated with cancellation (an expanded polynomial) is noise near its
+    roots: sign changes 1e-13 apart, minima at noise level, "poles" and "jumps" where
+    bisection met noise, whole runs of exact zeros. Every root, pole, jump and zero run
+    whose noise stretch (:func:`_noise_bands`) overlaps another's forms one cluster: one
+    root at the middle of the stretch, uncertain by its half-width, whose multiplicity is
+    what the slope of log|f| just outside the stretch supports (odd when f changes sign
+    across it). A lone clean root is left as it was. Rounding noise is small beside f's
+    typical size (``typical``, the median sampled |f|): a "noise level" above 1e-3 of it is
+    f itself varying faster than any step (sin(1/x) near 0), not rounding, and so is a
+    stretch that never ends inside [a, b]. Returns (roots, poles, jumps, runs,
+    bands) with ``bands`` the (lo, hi) stretches of the clusters.
+    """
+    xs = ([r.x for r in roots] + list(poles) + list(jumps)
+          + [0.5 * (u + v) for u, v in runs])
+    if not xs:
+        return roots, poles, jumps, runs, []
+    unsure = np.zeros(len(roots), dtype=bool) if unsure is None else unsure
+    kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
+    x = np.array(xs, dtype=float)
+    # rounding noise shows as several findings close together (or as a pole, a jump, a zero
+    # run); with more than _LOOK_ALL roots, a root with no other finding within two sample
+    # spacings is examined only when its own multiplicity estimate was unsure (``unsure``)
+    order = np.argsort(x)
+    gap = np.diff(x[order])
+    crowded = np.zeros(len(x), dtype=bool)
+    near = gap <= 2 * h
+    crowded[order[:-1][near]] = True
+    crowded[order[1:][near]] = True
+    look = crowded | (kind != 0) | (len(roots) <= _LOOK_ALL)
+    look[: len(roots)] |= unsure
+    noisy = np.zeros(len(x), dtype=bool)
+    lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))
+    if look.any():
+        il = np.flatnonzero(look)
+        nz, lo[il], hi[il], level[il] = _noise_bands(g, x[il], a, b, scale,
+                                                     (kind[il] == 1) | (kind[il] == 2))
+        noisy[il] = nz
+    noisy &= (level <= 1e-3 * typical) & ((lo > a) | (hi < b))
+    if not noisy.any():
+        return roots, poles, jumps, runs, []
+    for i in np.flatnonzero(kind == 3):  # a zero run spans at least its own samples
+        u, v = runs[i - len(roots) - len(poles) - len(jumps)]
+        lo[i], hi[i] = min(lo[i], u), max(hi[i], v)
+    order = np.argsort(lo, kind="stable")
+    groups: list[list[int]] = []
+    ends: list[float] = []
+    for i in order:
+        if not noisy[i] and kind[i] != 0:
+            continue  # a clean pole or jump stays what it is
+        if groups and lo[i] <= ends[-1]:
+            groups[-1].append(int(i))
+            ends[-1] = max(ends[-1], hi[i])
+        else:
+            groups.append([int(i)])
+            ends.append(float(hi[i]))
+    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    clusters = []
+    for members in groups:
+        mem = np.array(members)
+        span_lo, span_hi = float(lo[mem].min()), float(hi[mem].max())
+        wide = span_hi - span_lo > 1e3 * float(d0[mem].max())
+        if len(mem) == 1 and not wide and kind[mem[0]] == 0:
+            continue  # one clean root (or one with a tiny noise stretch): unchanged
+        if not noisy[mem].any():
+            continue
+        clusters.append((mem, span_lo, span_hi))
+    if not clusters:
+        return roots, poles, jumps, runs, []
+    c = np.array([0.5 * (u + v) for _, u, v in clusters])
+    w = np.array([0.5 * (v - u) for _, u, v in clusters])
+    w = np.maximum(w, d0[[mem[0] for mem, _, _ in clusters]])
+    lev = np.array([float(level[mem].max()) for mem, _, _ in clusters])
+    # room: up to 0.45 of the way to the next cluster or clean feature, and the range ends
+    others = np.sort(np.concatenate([x[~noisy], c]))
+    room = np.empty(len(c))
+    for i in range(len(c)):
+        gaps = np.abs(others - c[i])
+        gaps = gaps[gaps > w[i]]
+        room[i] = min(0.45 * gaps.min() if gaps.size else math.inf,
+                      max(c[i] - a, b - c[i]))
+    mult, odd = _cluster_multiplicity(g, c, w, room, lev)
+    residual = g(c)
+    drop = set()
+    new_roots: list[Root] = []
+    bands: list[tuple[float, float]] = []
+    for k, (mem, u, v) in enumerate(clusters):
+        drop.update(int(i) for i in mem)
+        member_roots = [roots[i] for i in mem if kind[i] == 0]
+        carrier = min(member_roots, key=lambda r: abs(r.x - c[k])) if member_roots else None
+        located = tuple(dict.fromkeys(t for r in member_roots for t in r.located_by)) or (
+            "sampling",)
+        inside = len(mem) - 1
+        how = (f"root cluster within rounding noise: |f| <= {lev[k]:.3g} (its evaluation noise) "
+               f"on [{u:.12g}, {v:.12g}]; x uncertain by +/-{w[k]:.3g}; multiplicity from the "
+               "slope of log|f| outside")
+        new_roots.append(Root(
+            x=float(c[k]), residual=float(residual[k]), multiplicity=int(mult[k]),
+            confirmed=how, located_by=located,
+            bracket=carrier.bracket if carrier is not None and odd[k] else None,
+            run=Root.__dict__["run"].raw(carrier) if carrier is not None and odd[k] else None))
+        bands.append((u, v))
+        notes.append(f"f is rounding noise on [{u:.12g}, {v:.12g}] (|f| <= {lev[k]:.3g}): one "
+                     f"root cluster reported at x = {c[k]:.12g} +/- {w[k]:.3g}, multiplicity "
+                     f"{int(mult[k])}" + (f"; {inside} more sign change(s), touch(es), pole(s) "
+                                           "or jump(s) inside were noise" if inside else ""))
+    keep = [i for i in range(len(x)) if i not in drop]
+    out_roots = sorted([roots[i] for i in keep if kind[i] == 0] + new_roots, key=lambda r: r.x)
+    out_poles = [poles[i - len(roots)] for i in keep if kind[i] == 1]
+    out_jumps = [jumps[i - len(roots) - len(poles)] for i in keep if kind[i] == 2]
+    out_runs = [runs[i - len(roots) - len(poles) - len(jumps)] for i in keep if kind[i] == 3]
+    return out_roots, out_poles, out_jumps, out_runs, bands
