@@ -1,7 +1,7 @@
 """The ``zerotrace`` command: ``solve``, ``scan``, ``report`` headless; alone, it opens the window.
 
 Every sub-command is a thin shell over :mod:`solvers.pipeline`: it builds a
-:class:`~solvers.worksheet.Worksheet` from the flags (or a file), calls the core and
+:class:`~app.documents.worksheet.Worksheet` from the flags (or a file), calls the core and
 prints. Exit status: 0 for results (a run that did not converge is a result), 2 for
 bad input, with one line on stderr and never a traceback.
 
@@ -22,9 +22,9 @@ from typing import Any, NoReturn
 
 
 def caution() -> str:
-    """The one caution text (solvers.caution), read on first use: importing the solvers
+    """The one caution text (app.documents.words), read on first use: importing the solvers
     package loads sympy, which ``--version`` and the window's checks need not wait for."""
-    from solvers.caution import CAUTION
+    from app.documents.words import CAUTION
 
     return f"Caution: {CAUTION}"
 
@@ -52,7 +52,7 @@ class _Parser(argparse.ArgumentParser):
 
 
 def _method_name(text: str) -> str:
-    from solvers.worksheet import METHOD_NAMES
+    from app.documents.worksheet import METHOD_NAMES
 
     name = text.strip().lower().replace("-", "_")
     if name not in METHOD_NAMES:
@@ -211,13 +211,13 @@ def _build_parser() -> _Parser:
 
 
 def _load_worksheet(path: str):
-    from solvers.worksheet import load
+    from app.documents.worksheet import load
 
     return load(path)
 
 
 def _worksheet_from_args(args: argparse.Namespace):
-    from solvers.worksheet import Parameter, Settings, Worksheet
+    from app.documents.worksheet import Parameter, Settings, Worksheet
 
     if args.worksheet:
         ws = _load_worksheet(args.worksheet)
@@ -374,7 +374,8 @@ def _output_path(path: str, force: bool, flag: str) -> str:
 
 
 def cmd_solve(args: argparse.Namespace) -> int:
-    from solvers import export, pipeline
+    from app.documents import export
+    from solvers import pipeline
 
     ws = _worksheet_from_args(args)
     csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
@@ -394,7 +395,8 @@ def cmd_solve(args: argparse.Namespace) -> int:
 
 
 def cmd_scan(args: argparse.Namespace) -> int:
-    from solvers import export, pipeline
+    from app.documents import export
+    from solvers import pipeline
 
     ws = _worksheet_from_args(args)
     start = args.start if args.start is not None else (ws.scan[0] if ws.scan else None)
@@ -427,7 +429,7 @@ def cmd_scan(args: argparse.Namespace) -> int:
 
 
 def cmd_report(args: argparse.Namespace) -> int:
-    from solvers import report
+    from app.documents import report
 
     ws = _load_worksheet(args.worksheet)
     _output_path(args.pdf, args.force, "--pdf")
@@ -625,7 +627,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         args = parser.parse_args(marked_argv)
         _unmark(args, marked)
         if args.version:
-            from solvers.export import tool_version
+            from app.documents.export import tool_version
 
             print(f"zerotrace {tool_version()}")
             return EXIT_OK

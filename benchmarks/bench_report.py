@@ -19,9 +19,9 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+from app.documents.report import write_report  # noqa: E402
+from app.documents.worksheet import load  # noqa: E402
 from solvers import pipeline  # noqa: E402
-from solvers.report import write_report  # noqa: E402
-from solvers.worksheet import load  # noqa: E402
 
 SAMPLE = ROOT / "samples" / "cooling-water-friction.json"
 REPEATS = 5

@@ -1,4 +1,4 @@
-"""solvers.figures: plotting samples and drawings shared by the window and the report."""
+"""app.documents.figures: plotting samples and drawings shared by the window and the report."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 from matplotlib.figure import Figure
 
-from solvers import figures
+from app.documents import figures
 from solvers.equation import parse_equation
 from solvers.methods import false_position, newton, secant
 
@@ -128,7 +128,7 @@ def test_draw_convergence_is_log_scale_and_shows_every_iterate_with_a_residual()
 
 
 def test_figures_uses_no_pyplot_and_no_qt():
-    code = ("import sys, solvers.figures; "
+    code = ("import sys, app.documents.figures; "
             "print('matplotlib.pyplot' in sys.modules, 'PySide6' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          cwd=Path(__file__).resolve().parents[1], check=True).stdout

@@ -30,9 +30,9 @@ import pytest
 from PySide6.QtWidgets import QMessageBox
 
 from app.cli import main as cli_main
-from solvers import files
-from solvers import worksheet as wsmod
-from solvers.worksheet import (
+from app.documents import files
+from app.documents import worksheet as wsmod
+from app.documents.worksheet import (
     CalcInfo,
     Parameter,
     Selection,
@@ -97,7 +97,7 @@ def test_a_link_to_dev_zero_is_refused_before_reading(tmp_path: Path) -> None:
     link.symlink_to("/dev/zero")
     done = _child("""
         import resource, sys
-        from solvers import worksheet
+        from app.documents import worksheet
         resource.setrlimit(resource.RLIMIT_AS, (2 * 1024**3, 2 * 1024**3))  # no swallowing
         try:
             worksheet.load(sys.argv[1])
@@ -307,7 +307,7 @@ def test_a_lone_surrogate_is_refused_on_open_and_on_save(tmp_path: Path) -> None
 
 @pytest.mark.skipif(sys.platform != "linux", reason="needs a file system that takes any bytes")
 def test_a_worksheet_whose_name_is_not_utf8_can_be_reported(tmp_path: Path) -> None:
-    from solvers.report import write_report
+    from app.documents.report import write_report
 
     path = Path(os.fsdecode(bytes(tmp_path) + b"/calc-\xff.json"))  # a name from a Latin-1 system
     wsmod.save(_sheet(settings=Settings(methods=("newton",), x0=1.0)), path)
@@ -362,14 +362,15 @@ WRITERS = {
 
 
 def _write_csv(path: Path) -> None:
-    from solvers import export, pipeline
+    from app.documents import export
+    from solvers import pipeline
 
     solution = pipeline.solve(_sheet())
     export.runs_csv(solution.runs, path, meta=export.solution_meta(solution))
 
 
 def _write_pdf(path: Path) -> None:
-    from solvers.report import write_report
+    from app.documents.report import write_report
 
     write_report(_sheet(settings=Settings(methods=("newton",), x0=1.0)), path, overwrite=True)
 
@@ -416,7 +417,7 @@ def _leave_temp(folder: Path, target: str) -> Path:
     code = textwrap.dedent("""
         import sys, time
         from pathlib import Path
-        from solvers import files
+        from app.documents import files
         tmp = files._stage(Path(sys.argv[1]) / sys.argv[2], b"half a worksheet" * 1000)
         print(tmp, flush=True)
         time.sleep(600)  # the rename never comes: SIGKILL arrives first
@@ -482,7 +483,7 @@ def test_kill_9_during_saves_leaves_no_growing_pile(tmp_path: Path) -> None:
 
 
 def test_a_full_disk_leaves_neither_the_sheet_nor_its_csv_files(tmp_path, monkeypatch) -> None:
-    from solvers.report import ReportError, write_report
+    from app.documents.report import ReportError, write_report
 
     real_write = os.write
 
@@ -529,7 +530,7 @@ def _text_of(pdf: Path) -> str:
 
 
 def test_a_30_level_continued_fraction_gets_its_sheet(tmp_path: Path) -> None:
-    from solvers.report import write_report
+    from app.documents.report import write_report
 
     # 1 + 1/(1 + 1/(...x)) = 2.5 has a root: the sheet must say so, not fail on layout.
     ws = Worksheet(equation=_continued_fraction(30), unknown="x", title="Invented fraction",
@@ -539,7 +540,7 @@ def test_a_30_level_continued_fraction_gets_its_sheet(tmp_path: Path) -> None:
 
 
 def test_nothing_too_tall_ever_raises_a_layout_error(tmp_path: Path, monkeypatch) -> None:
-    from solvers import report
+    from app.documents import report
 
     # No cap on the typeset image, no legibility floor: the layout's own guard must cope.
     monkeypatch.setattr(report, "MAX_MATH_HEIGHT", 1e9)
@@ -564,7 +565,7 @@ def test_a_flowable_taller_than_a_page_that_cannot_split_is_shrunk_not_fatal() -
         import io
         from reportlab.lib.styles import getSampleStyleSheet
         from reportlab.platypus import Paragraph, Spacer, Table
-        from solvers import report
+        from app.documents import report
 
         class Tall(Spacer):  # 2000 pt, never splits
             def split(self, width, height):

@@ -76,10 +76,10 @@ def test_a_run_that_did_not_converge_never_shows_a_root(qtbot, window):
 
 def test_each_lane_carries_its_method_colour(qtbot, window):
     """The lane's colour stripe is what ties it to its path and convergence line (the
-    Okabe–Ito palette in solvers.figures); it must actually be painted."""
+    Okabe–Ito palette in app.documents.figures); it must actually be painted."""
     from PySide6.QtGui import QColor
 
-    from solvers.figures import method_color
+    from app.documents.figures import method_color
 
     for method, lane in window.lanes.lanes.items():
         image = lane.title.grab().toImage()
@@ -321,9 +321,9 @@ def test_a_new_worksheet_does_not_keep_the_old_ones_status(qtbot, window):
 
 def test_about_says_which_version_is_running(qtbot, window, monkeypatch):
     """A checker filing a calculation needs the tool's version; About did not give it.
-    It must match the one the CSV files record (solvers.export.tool_version)."""
+    It must match the one the CSV files record (app.documents.export.tool_version)."""
+    from app.documents.export import tool_version
     from app.window import dialogs
-    from solvers.export import tool_version
 
     shown = []
     monkeypatch.setattr(dialogs.TextDialog, "exec", lambda self: shown.append(self) or 0)

@@ -15,8 +15,9 @@ import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QMessageBox
 
+from app.documents import worksheet
 from app.window.recovery import RecoveryStore
-from solvers import pipeline, worksheet
+from solvers import pipeline
 
 pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import SAMPLES, settle, solve_and_wait, type_equation  # noqa: E402

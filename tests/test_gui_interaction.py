@@ -177,7 +177,8 @@ def test_any_of_the_six_methods_can_be_chosen_and_the_choice_is_saved(qtbot, win
                                                                       tmp_path):
     from scipy.optimize import brentq
 
-    from solvers import pipeline, worksheet
+    from app.documents import worksheet
+    from solvers import pipeline
 
     assert window.load_sample("cooling-water-friction.json")
     settle(qtbot, window)
@@ -247,8 +248,8 @@ def test_which_scan_root_seeds_the_start_is_said(x0, expected, why):
     ±sqrt(2) (common practice)."""
     from dataclasses import replace
 
+    from app.documents.worksheet import Settings, Worksheet
     from solvers import pipeline
-    from solvers.worksheet import Settings, Worksheet
 
     ws = Worksheet(equation="x^2 - 2", settings=replace(Settings(), x0=x0), scan=(-3.0, 3.0))
     solution = pipeline.solve(ws)
@@ -442,7 +443,7 @@ def test_the_seed_scan_keeps_roots_and_drops_poles():
 def test_a_worksheet_listing_a_method_twice_is_refused_by_name():
     import json
 
-    from solvers import worksheet
+    from app.documents import worksheet
 
     text = json.dumps({"format": "zerotrace-worksheet", "version": 1, "equation": "x^2 - 2",
                        "settings": {"methods": ["brent", "newton", "brent"]}})

@@ -416,7 +416,7 @@ def test_residual_stays_within_its_time_budget():
 
 
 def test_report_words_cover_every_residual_code():
-    from solvers.report import RESIDUAL_WORDS, _residual_mp
+    from app.documents.report import RESIDUAL_WORDS, _residual_mp
 
     assert set(CODES) - {"computed"} <= set(RESIDUAL_WORDS)
     assert _residual_mp(_Hostile(MemoryError()), 1.0) == RESIDUAL_WORDS["not_computable"]

@@ -1,4 +1,4 @@
-"""The calculation sheet (solvers.report) read back as a checker would read it.
+"""The calculation sheet (app.documents.report) read back as a checker would read it.
 
 Every check extracts the PDF's text with pypdf and looks for the numbers the
 pipeline produced, or reads the CSV files back with the csv module and numpy.
@@ -23,11 +23,9 @@ import pypdf
 import pytest
 from scipy.optimize import brentq
 
-from solvers import export, pipeline
-from solvers.methods import METHODS
-from solvers.report import CAUTION, NUMERICAL_DERIVATIVE_NOTE, ReportError, write_report
-from solvers.result import REASON_TEXT
-from solvers.worksheet import (
+from app.documents import export
+from app.documents.report import CAUTION, NUMERICAL_DERIVATIVE_NOTE, ReportError, write_report
+from app.documents.worksheet import (
     CalcInfo,
     Parameter,
     Selection,
@@ -38,6 +36,9 @@ from solvers.worksheet import (
     load,
     save,
 )
+from solvers import pipeline
+from solvers.methods import METHODS
+from solvers.result import REASON_TEXT
 
 NEWTON = METHODS["newton"].label  # the sheet names methods by their labels
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
@@ -459,7 +460,7 @@ def test_parameters_table_handles_many_parameters(tmp_path):
 
 
 def test_a_huge_run_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path, monkeypatch):
-    from solvers import report
+    from app.documents import report
 
     monkeypatch.setattr(report, "MAX_TABLE_ROWS", 40)  # small cap, so the test stays quick
     ws = no_root_worksheet().with_changes(settings=Settings(methods=("newton",), x0=0.5,

@@ -15,7 +15,8 @@ import pytest
 import scipy.constants
 from scipy.optimize import brentq
 
-from solvers import pipeline, worksheet
+from app.documents import worksheet
+from solvers import pipeline
 
 SAMPLES = Path(__file__).resolve().parent.parent / "samples"
 

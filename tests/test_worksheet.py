@@ -8,8 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from solvers import worksheet as wsmod
-from solvers.worksheet import Parameter, Settings, Worksheet, WorksheetError
+from app.documents import worksheet as wsmod
+from app.documents.worksheet import Parameter, Settings, Worksheet, WorksheetError
 
 SAMPLES = sorted((Path(__file__).resolve().parent.parent / "samples").glob("*.json"))
 

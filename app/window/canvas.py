@@ -3,7 +3,7 @@
 Both views are matplotlib figures embedded with FigureCanvasQTAgg under a small bar of
 our own (fit to range, zoom box, pan, copy picture, save picture) and a read-out of the
 pointer's position in the unknown's name. The samples and marks come from
-:mod:`solvers.figures`, shared with the calculation sheet. The function view keeps its
+:mod:`app.documents.figures`, shared with the calculation sheet. The function view keeps its
 axes between redraws and only replaces the artists' data, so Solve redraws in well under
 0.1 s. On the function view, with zoom and pan off:
 
@@ -33,7 +33,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from solvers import figures
+from app.documents import figures
 from solvers.result import Run
 
 HINT = ("Shift+click: x0   Shift+right-click: x1   Shift+drag: bracket [a, b]   "
@@ -449,7 +449,7 @@ class PlotPanel(QTabWidget):
         """Redraw f, the scan's marks and the chosen path into the kept axes.
 
         Only the curve's data changes in place; the marks and the path (a few artists)
-        are removed and drawn anew by :mod:`solvers.figures`.
+        are removed and drawn anew by :mod:`app.documents.figures`.
         """
         if self._f is None or self._range is None:
             return

@@ -13,10 +13,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.window.equation_strip import limit_text
-from solvers.caution import CAUTION as CAUTION_FULL
-from solvers.caution import CAUTION_LINE
-from solvers.worksheet import (
+from app.documents.words import CAUTION as CAUTION_FULL
+from app.documents.words import CAUTION_LINE
+from app.documents.worksheet import (
     MAX_CALC_FIELD,
     MAX_NOTE,
     MAX_TITLE,
@@ -24,6 +23,7 @@ from solvers.worksheet import (
     Selection,
     Worksheet,
 )
+from app.window.equation_strip import limit_text
 
 # The window's status bar shows the one-line form; help and about carry the full text.
 CAUTION = CAUTION_LINE

@@ -29,9 +29,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents.figures import residual_name
+from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
-from solvers.figures import residual_name
-from solvers.worksheet import MAX_EQUATION
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"

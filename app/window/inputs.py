@@ -30,10 +30,10 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents.figures import method_color, method_title
+from app.documents.worksheet import DEFAULT_METHODS, METHOD_NAMES, Settings
 from app.window.models import ParametersModel, fix_lines, number_font, parse_number
 from app.window.views import CopyTableView, fitted_text
-from solvers.figures import method_color, method_title
-from solvers.worksheet import DEFAULT_METHODS, METHOD_NAMES, Settings
 
 BAD_STYLE = "QLineEdit { background: #FBE3D6; color: #8A2B00; }"
 

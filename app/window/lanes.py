@@ -17,9 +17,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents.figures import method_color, method_label, method_title
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
-from solvers.figures import method_color, method_label, method_title
 from solvers.result import REASON_TEXT, Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"

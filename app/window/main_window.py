@@ -35,6 +35,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents import figures, worksheet
+from app.documents.worksheet import Parameter, Selection, Settings, Worksheet, WorksheetError
 from app.window.canvas import PlotPanel
 from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextDialog
 from app.window.equation_strip import Analysis, EquationStrip, analyse
@@ -50,8 +52,6 @@ from app.window.models import (
 from app.window.recovery import Recovered, RecoveryStore
 from app.window.views import CopyTableView, FittedNumberDelegate
 from app.window.workers import JobRunner
-from solvers import figures, worksheet
-from solvers.worksheet import Parameter, Selection, Settings, Worksheet, WorksheetError
 
 APP_NAME = "zerotrace"
 FILE_FILTER = "zerotrace worksheets (*.json);;All files (*)"
@@ -873,7 +873,7 @@ class MainWindow(QMainWindow):
                                 CSV_FILTER)
         if path is None:
             return False
-        from solvers import export
+        from app.documents import export
 
         try:
             export.runs_csv(self.solution.runs, path, meta=export.solution_meta(self.solution))
@@ -891,7 +891,7 @@ class MainWindow(QMainWindow):
         path = self._ask_output("Export roots", f"{self._stem()}-roots.csv", CSV_FILTER)
         if path is None:
             return False
-        from solvers import export
+        from app.documents import export
 
         eq = self.scan_equation
         meta = export.metadata(equation=eq.text, unknown=eq.unknown, parameters=eq.parameters)
@@ -905,9 +905,9 @@ class MainWindow(QMainWindow):
         return True
 
     def export_report(self) -> bool:
-        """Write the PDF calculation sheet in the background (solvers.report)."""
+        """Write the PDF calculation sheet in the background (app.documents.report)."""
         try:
-            from solvers import report
+            from app.documents import report
         except ImportError:
             self._report("The calculation sheet is not available in this installation")
             return False
@@ -960,7 +960,7 @@ class MainWindow(QMainWindow):
         TextDialog("Using zerotrace", HELP_HTML, self).exec()
 
     def show_about(self) -> None:
-        from solvers.export import tool_version
+        from app.documents.export import tool_version
 
         html = ABOUT_HTML.replace("<h2>zerotrace</h2>", f"<h2>zerotrace {tool_version()}</h2>", 1)
         TextDialog("About zerotrace", html, self).exec()

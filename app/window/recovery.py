@@ -18,9 +18,9 @@ import uuid
 from dataclasses import dataclass
 from pathlib import Path
 
-from solvers import worksheet
-from solvers.files import read_limited, write_atomic
-from solvers.worksheet import Worksheet, WorksheetError
+from app.documents import worksheet
+from app.documents.files import read_limited, write_atomic
+from app.documents.worksheet import Worksheet, WorksheetError
 
 ENV_VAR = "ZEROTRACE_RECOVERY_DIR"
 PREFIX = "unsaved-"

@@ -10,7 +10,7 @@
   iterate of every method at full precision (``repr``), with the calc number and
   "page N of M" on every page;
 * optionally, in ``csv_dir``, ``<pdf stem>-runs.csv`` (every iterate) and
-  ``<pdf stem>-roots.csv`` (the scan), written by :mod:`solvers.export` from the
+  ``<pdf stem>-roots.csv`` (the scan), written by :mod:`app.documents.export` from the
   same ``Run`` and ``Scan`` objects, so the sheet and the CSV carry the same floats.
 
 Why reportlab
@@ -28,7 +28,7 @@ Page size: A4 portrait (ISO 216), the paper of most engineering offices outside
 North America; the 170 mm x 253 mm text block also fits a US Letter sheet printed
 with "fit to page".
 
-Figures: drawn by :mod:`solvers.figures` on a matplotlib ``Figure`` (Agg, no
+Figures: drawn by :mod:`app.documents.figures` on a matplotlib ``Figure`` (Agg, no
 pyplot), saved as a 300 dpi PNG and placed at their print size. reportlab cannot
 place a PDF or SVG page without extra packages (pdfrw or svglib), and 300 dpi is
 print resolution for line art of this size, so the raster costs nothing a reader
@@ -44,7 +44,7 @@ Failure behaviour
   :class:`ReportError` (a ``ValueError``) with one line naming the path, *before*
   any solving is done. A missing CSV folder is created (and removed again if the
   sheet then fails). The PDF and its CSV files are written all or nothing
-  (:func:`solvers.files.write_group`): each to a temporary file in its target
+  (:func:`app.documents.files.write_group`): each to a temporary file in its target
   folder, and renamed into place only when all are complete, so a full disk
   never leaves half a PDF, or CSV files without their sheet.
 * An equation that does not parse raises :class:`solvers.equation.EquationError`
@@ -98,11 +98,12 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from solvers import export, pipeline, printing
-from solvers.caution import CAUTION
-from solvers.files import FileRefused, check_writable, read_limited, write_group
+from app.documents import export, printing
+from app.documents.files import FileRefused, check_writable, read_limited, write_group
+from app.documents.words import CAUTION
+from app.documents.worksheet import MAX_FILE_BYTES, Worksheet, dumps
+from solvers import pipeline
 from solvers.result import REASON_TEXT, Run
-from solvers.worksheet import MAX_FILE_BYTES, Worksheet, dumps
 
 TOOL_NAME = "zerotrace"
 PAGE_SIZE = A4
@@ -974,7 +975,7 @@ def _plot_range(c: _Context, run: Run | None) -> tuple[float, float]:
 
 
 def _figures_section(c: _Context) -> list[Flowable]:
-    from solvers import figures
+    from app.documents import figures
 
     st, sol = c.st, c.solution
     out: list[Flowable] = [CondPageBreak(95 * mm), *_heading("6  Figures", st, "h1")]

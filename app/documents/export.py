@@ -25,8 +25,8 @@ from collections.abc import Iterable, Mapping
 from datetime import datetime, timezone
 from typing import IO, Any
 
-from solvers.caution import CAUTION
-from solvers.files import write_atomic
+from app.documents.files import write_atomic
+from app.documents.words import CAUTION
 from solvers.result import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")

@@ -1,0 +1,428 @@
+"""The saved document: one equation, its parameters, method settings and notes.
+
+The file format is JSON of our own, versioned by the top-level ``format`` and
+``version`` keys::
+
+    {
+      "format": "zerotrace-worksheet",
+      "version": 1,
+      "title": "...", "notes": "...",
+      "equation": "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))",
+      "unknown": "f",                      # or null: inferred
+      "parameters": [{"name": "Re", "value": 1.2e5, "note": "..."}],
+      "settings": {"methods": ["newton", "secant", "false_position"],
+                   "x0": 0.02, "x1": 0.03, "bracket": [0.005, 0.1],
+                   "xtol": 1e-12, "rtol": 8.9e-16, "ftol": 0.0,
+                   "max_iter": 100, "damping": 1.0},
+      "scan": {"from": 0.005, "to": 0.1},   # or null
+      "calc": {"number": "", "revision": "", "prepared_by": "", "checked_by": ""},
+      "selection": {"root": 0.0213, "reason": "..."}   # or null
+    }
+
+Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
+whose message names the field (``settings.xtol: must be a positive number``); every
+failure to load, from a missing file to a 5000-digit integer, is a ``WorksheetError``
+with a one-line message. Only a regular file up to :data:`MAX_FILE_BYTES` is read
+(a FIFO or ``/dev/zero`` is refused at once, see :func:`app.documents.files.read_limited`).
+
+The limits below are the one set used everywhere: loading checks them, saving
+checks them before writing (:func:`validate`), and the window's text fields stop
+typing at them, so whatever can be saved can be opened again.
+
+Saving is atomic: the text goes to a temporary file in the same folder, is flushed
+and fsynced, then renamed over the target, so a crash or a full disk mid-save
+leaves the previous file intact (modes and links: :mod:`app.documents.files`).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+from collections.abc import Mapping
+from dataclasses import asdict, dataclass
+from pathlib import Path
+from typing import Any
+
+from app.documents.files import FileRefused, read_limited, write_atomic
+from solvers.worksheet import (
+    DEFAULT_METHODS,
+    METHOD_NAMES,
+    CalcInfo,
+    Parameter,
+    Selection,
+    Settings,
+    Worksheet,
+)
+
+__all__ = [
+    "DEFAULT_METHODS", "METHOD_NAMES", "CalcInfo", "Parameter", "Selection", "Settings",
+    "Worksheet", "WorksheetError", "load", "loads", "save", "dumps", "validate",
+    "to_dict", "from_dict",
+]
+
+FORMAT = "zerotrace-worksheet"
+VERSION = 1
+
+# ---- the limits (one set: load, save and the window's text fields all use these)
+MAX_FILE_BYTES = 2_000_000  # a worksheet is a few kB; refuse anything absurd before parsing
+MAX_TEXT = 2_000  # characters in the equation: the parser's own limit (equation.MAX_LENGTH)
+MAX_EQUATION = MAX_TEXT
+MAX_TITLE = 500  # characters in the title
+MAX_NOTE = 100_000  # characters in free text: notes, parameter notes, why a design value
+MAX_CALC_FIELD = 200  # characters in calc number, revision, prepared by, checked by
+MAX_NAME = 100  # characters in a name (unknown, parameter)
+MAX_PARAMETERS = 500
+MAX_DIGITS = 400  # digits in a JSON integer; beyond ~309 it is past any double anyway
+
+
+class WorksheetError(ValueError):
+    """A worksheet file or mapping that cannot be used; the message names the field."""
+
+    def __init__(self, message: str, field_name: str | None = None):
+        super().__init__(message)
+        self.field = field_name
+
+
+# ----------------------------------------------------------------- to / from JSON
+
+
+def to_dict(ws: Worksheet) -> dict[str, Any]:
+    s = ws.settings
+    return {
+        "format": FORMAT,
+        "version": VERSION,
+        "title": ws.title,
+        "notes": ws.notes,
+        "equation": ws.equation,
+        "unknown": ws.unknown,
+        "parameters": [asdict(p) for p in ws.parameters],
+        "settings": {
+            "methods": list(s.methods),
+            "x0": s.x0,
+            "x1": s.x1,
+            "bracket": list(s.bracket) if s.bracket is not None else None,
+            "xtol": s.xtol,
+            "rtol": s.rtol,
+            "ftol": s.ftol,
+            "max_iter": s.max_iter,
+            "damping": s.damping,
+        },
+        "scan": {"from": ws.scan[0], "to": ws.scan[1]} if ws.scan is not None else None,
+        "calc": asdict(ws.calc),
+        "selection": asdict(ws.selection) if ws.selection is not None else None,
+    }
+
+
+def dumps(ws: Worksheet) -> str:
+    # allow_nan=False: a NaN or inf would make the file unreadable by strict JSON readers.
+    return json.dumps(to_dict(ws), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def _fail(where: str, what: str) -> WorksheetError:
+    return WorksheetError(f"{where}: {what}", where)
+
+
+@dataclass(frozen=True)
+class _LongInteger:
+    """A JSON integer with more than MAX_DIGITS digits, kept unconverted so that the
+    field holding it can be named (Python refuses to convert over 4300 digits at all)."""
+
+    digits: int
+
+    def __repr__(self) -> str:
+        return f"<integer of {self.digits} digits>"
+
+
+def _json_int(text: str) -> int | _LongInteger:
+    digits = len(text.lstrip("-"))
+    return _LongInteger(digits) if digits > MAX_DIGITS else int(text)
+
+
+def _type_name(value: Any) -> str:
+    return "int" if isinstance(value, _LongInteger) else type(value).__name__
+
+
+def _shown(value: Any, room: int = 40) -> str:
+    """``repr`` of a value for a one-line message, shortened in the middle."""
+    text = repr(value)
+    return text if len(text) <= room else f"{text[: room // 2]}…{text[-(room // 2):]}"
+
+
+def _number(value: Any, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
+    if isinstance(value, _LongInteger):
+        raise _fail(where, f"number too large ({value.digits} digits)")
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise _fail(where, f"must be a number, got {_type_name(value)}")
+    if isinstance(value, int) and abs(value) > 10**308:
+        raise _fail(where, "number too large")
+    x = float(value)
+    if not math.isfinite(x):
+        raise _fail(where, "must be a finite number")
+    if positive and not x > 0:
+        raise _fail(where, "must be a positive number")
+    if nonneg and x < 0:
+        raise _fail(where, "must not be negative")
+    return x
+
+
+def _optional_number(value: Any, where: str) -> float | None:
+    return None if value is None else _number(value, where)
+
+
+def _text(value: Any, where: str, limit: int = MAX_NOTE) -> str:
+    if value is None:
+        return ""
+    if not isinstance(value, str):
+        raise _fail(where, f"must be text, got {_type_name(value)}")
+    if len(value) > limit:
+        raise _fail(where, f"too long ({len(value)} characters, limit {limit})")
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError as exc:  # a lone surrogate ("\\ud800"): not text, cannot be saved
+        code = ord(value[exc.start])
+        raise _fail(
+            where, f"holds an unpaired surrogate U+{code:04X} at character {exc.start + 1}, "
+            "which is not text"
+        ) from None
+    return value
+
+
+def _mapping(value: Any, where: str) -> Mapping[str, Any]:
+    if not isinstance(value, Mapping):
+        raise _fail(where, f"must be an object, got {_type_name(value)}")
+    return value
+
+
+def _pair(value: Any, where: str) -> tuple[float, float]:
+    if not isinstance(value, (list, tuple)) or len(value) != 2:
+        raise _fail(where, "must be a list of two numbers [a, b]")
+    a = _number(value[0], f"{where}[0]")
+    b = _number(value[1], f"{where}[1]")
+    if a == b:
+        raise _fail(where, "the two ends must differ")
+    return (a, b)
+
+
+def _is_name(text: str) -> bool:
+    return text.isidentifier() and text.isascii() and not text.startswith("_")
+
+
+def from_dict(data: Any) -> Worksheet:
+    """Validate a decoded JSON object and build a :class:`Worksheet`."""
+    data = _mapping(data, "worksheet")
+    fmt = data.get("format")
+    if fmt != FORMAT:
+        raise _fail("format",
+                    f"not a zerotrace worksheet (expected {FORMAT!r}, got {_shown(fmt)})")
+    version = data.get("version")
+    if isinstance(version, bool) or not isinstance(version, int):
+        raise _fail("version", "must be a whole number")
+    if version > VERSION:
+        raise _fail(
+            "version",
+            f"file is version {version}, written by a newer zerotrace; this one reads up to "
+            f"{VERSION}",
+        )
+    if version < 1:
+        raise _fail("version", f"unknown version {version}")
+
+    if "equation" not in data:
+        raise _fail("equation", "missing")
+    equation = _text(data["equation"], "equation", MAX_TEXT)
+    if not equation.strip():
+        raise _fail("equation", "is empty")
+    unknown = data.get("unknown")
+    if unknown is not None:
+        unknown = _text(unknown, "unknown", MAX_NAME)
+        if not _is_name(unknown):
+            raise _fail("unknown", f"{_shown(unknown)} is not a valid name")
+
+    raw_params = data.get("parameters", [])
+    if not isinstance(raw_params, list):
+        raise _fail("parameters", "must be a list")
+    if len(raw_params) > MAX_PARAMETERS:
+        raise _fail("parameters", f"too many ({len(raw_params)}, limit {MAX_PARAMETERS})")
+    params: list[Parameter] = []
+    seen: set[str] = set()
+    for i, raw in enumerate(raw_params):
+        where = f"parameters[{i}]"
+        raw = _mapping(raw, where)
+        name = _text(raw.get("name"), f"{where}.name", MAX_NAME)
+        if not _is_name(name):
+            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
+        if name in seen:
+            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
+        seen.add(name)
+        if "value" not in raw:
+            raise _fail(f"{where}.value", "missing")
+        value = _number(raw["value"], f"{where}.value")
+        params.append(Parameter(name, value, _text(raw.get("note"), f"{where}.note")))
+
+    raw_settings = _mapping(data.get("settings") or {}, "settings")
+    defaults = Settings()
+    methods_raw = raw_settings.get("methods", list(defaults.methods))
+    if not isinstance(methods_raw, list) or not methods_raw:
+        raise _fail("settings.methods", "must be a non-empty list of method names")
+    methods: list[str] = []
+    for i, m in enumerate(methods_raw):
+        if not isinstance(m, str) or m.replace("-", "_") not in METHOD_NAMES:
+            raise _fail(
+                f"settings.methods[{i}]",
+                f"unknown method {_shown(m)}; choose from {', '.join(METHOD_NAMES)}",
+            )
+        if m.replace("-", "_") in methods:  # one lane and one column of results per method
+            raise _fail(f"settings.methods[{i}]", f"{m!r} is listed twice")
+        methods.append(m.replace("-", "_"))
+    bracket_raw = raw_settings.get("bracket")
+    max_iter = raw_settings.get("max_iter", defaults.max_iter)
+    if isinstance(max_iter, bool) or not isinstance(max_iter, int) or not 1 <= max_iter <= 100_000:
+        raise _fail("settings.max_iter", "must be a whole number from 1 to 100000")
+    damping = _number(raw_settings.get("damping", defaults.damping), "settings.damping")
+    if not 0 < damping <= 1:
+        raise _fail("settings.damping", "must lie in (0, 1]")
+    settings = Settings(
+        methods=tuple(methods),
+        x0=_optional_number(raw_settings.get("x0"), "settings.x0"),
+        x1=_optional_number(raw_settings.get("x1"), "settings.x1"),
+        bracket=_pair(bracket_raw, "settings.bracket") if bracket_raw is not None else None,
+        xtol=_number(raw_settings.get("xtol", defaults.xtol), "settings.xtol", nonneg=True),
+        rtol=_number(raw_settings.get("rtol", defaults.rtol), "settings.rtol", nonneg=True),
+        ftol=_number(raw_settings.get("ftol", defaults.ftol), "settings.ftol", nonneg=True),
+        max_iter=max_iter,
+        damping=damping,
+    )
+    if settings.xtol == 0 and settings.rtol == 0 and settings.ftol == 0:
+        raise _fail("settings", "xtol, rtol and ftol are all zero: no run could ever stop early")
+
+    scan_raw = data.get("scan")
+    scan = None
+    if scan_raw is not None:
+        scan_map = _mapping(scan_raw, "scan")
+        if "from" not in scan_map or "to" not in scan_map:
+            raise _fail("scan", "needs both 'from' and 'to'")
+        a = _number(scan_map["from"], "scan.from")
+        b = _number(scan_map["to"], "scan.to")
+        if not a < b:
+            raise _fail("scan", "'from' must be less than 'to'")
+        scan = (a, b)
+
+    calc_raw = _mapping(data.get("calc") or {}, "calc")
+    calc = CalcInfo(
+        number=_text(calc_raw.get("number"), "calc.number", MAX_CALC_FIELD),
+        revision=_text(calc_raw.get("revision"), "calc.revision", MAX_CALC_FIELD),
+        prepared_by=_text(calc_raw.get("prepared_by"), "calc.prepared_by", MAX_CALC_FIELD),
+        checked_by=_text(calc_raw.get("checked_by"), "calc.checked_by", MAX_CALC_FIELD),
+    )
+
+    sel_raw = data.get("selection")
+    selection = None
+    if sel_raw is not None:
+        sel_map = _mapping(sel_raw, "selection")
+        selection = Selection(
+            root=_number(sel_map.get("root"), "selection.root"),
+            reason=_text(sel_map.get("reason"), "selection.reason"),
+        )
+
+    return Worksheet(
+        equation=equation,
+        unknown=unknown,
+        parameters=tuple(params),
+        settings=settings,
+        scan=scan,
+        title=_text(data.get("title"), "title", MAX_TITLE),
+        notes=_text(data.get("notes"), "notes"),
+        calc=calc,
+        selection=selection,
+    )
+
+
+def loads(text: str) -> Worksheet:
+    """Validate worksheet JSON text; every failure is a :class:`WorksheetError`."""
+    if len(text) > MAX_FILE_BYTES:
+        raise WorksheetError(f"file too large ({len(text)} characters) for a worksheet")
+    try:
+        data = json.loads(text, parse_constant=_refuse_constant, parse_int=_json_int)
+    except WorksheetError:
+        raise
+    except json.JSONDecodeError as exc:
+        raise WorksheetError(
+            f"not valid JSON (line {exc.lineno}, column {exc.colno}): {exc.msg}"
+        ) from None
+    except RecursionError:
+        raise WorksheetError("not a worksheet: JSON nested too deeply") from None
+    except ValueError as exc:  # any other refusal of the decoder: still one line, still ours
+        raise WorksheetError(f"not valid JSON: {str(exc).splitlines()[0][:200]}") from None
+    return from_dict(data)
+
+
+def _refuse_constant(name: str) -> Any:
+    raise WorksheetError(f"not valid JSON: {name} is not allowed in a worksheet")
+
+
+def load(path: str | os.PathLike[str]) -> Worksheet:
+    """Read and validate a worksheet file; every failure is a :class:`WorksheetError`.
+
+    Only a regular file of at most :data:`MAX_FILE_BYTES` is read; a FIFO, a device,
+    a socket or a folder (also behind a symbolic link) is refused at once, never
+    waited on. Messages are one line and name the file and, for content, the field.
+    """
+    p = Path(path)
+    try:
+        raw = read_limited(p, MAX_FILE_BYTES, what="worksheet")
+    except FileRefused as exc:
+        raise WorksheetError(str(exc)) from None
+    except FileNotFoundError:
+        raise WorksheetError(f"{p}: no such file") from None
+    except IsADirectoryError:
+        raise WorksheetError(f"{p}: is a folder, not a worksheet file") from None
+    except OSError as exc:
+        raise WorksheetError(f"{p}: cannot read ({exc.strerror or exc})") from None
+    except ValueError as exc:  # a path the system cannot take (an embedded NUL)
+        raise WorksheetError(f"{_shown(str(p))}: cannot read ({exc})") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise WorksheetError(f"{p.name}: not UTF-8 text (byte {exc.start})") from None
+    try:
+        return loads(text)
+    except WorksheetError as exc:  # say which file: a user may open several from colleagues
+        raise WorksheetError(f"{p.name}: {exc}", exc.field) from None
+
+
+def validate(ws: Worksheet) -> bytes:
+    """The bytes :func:`save` would write, after checking that :func:`load` accepts them.
+
+    Applies exactly the checks of loading (the same limits, the same messages) to
+    what would be written, so nothing is saved that cannot be opened again. Raises
+    :class:`WorksheetError` naming the field (a NaN, a title over
+    :data:`MAX_TITLE` characters, an unpaired surrogate, a file over
+    :data:`MAX_FILE_BYTES` bytes).
+    """
+    try:
+        text = dumps(ws)
+    except ValueError:  # allow_nan=False: find the field through the loader's own checks
+        text = json.dumps(to_dict(ws), indent=2, ensure_ascii=False, allow_nan=True)
+    try:
+        data = json.loads(text, parse_int=_json_int)
+    except ValueError as exc:  # pragma: no cover - dumps wrote it
+        raise WorksheetError(f"worksheet: cannot be written as JSON ({exc})") from None
+    from_dict(data)  # NaN/inf, lengths, surrogates, names: the load checks, by field
+    raw = text.encode("utf-8")  # from_dict refused every unpaired surrogate
+    if len(raw) > MAX_FILE_BYTES:
+        raise WorksheetError(
+            f"worksheet: would be {len(raw)} bytes, over the {MAX_FILE_BYTES}-byte limit of a "
+            "worksheet file; shorten the notes"
+        )
+    return raw
+
+
+def save(ws: Worksheet, path: str | os.PathLike[str]) -> None:
+    """Check with :func:`validate`, then write atomically (:func:`files.write_atomic`).
+
+    Raises :class:`WorksheetError` (a ``ValueError``, naming the field) for a
+    worksheet that could not be opened again, before anything is written, and
+    ``OSError`` (a read-only folder, a full disk); the previous file at ``path``, if
+    any, is untouched in every case and no temporary file is left.
+    """
+    write_atomic(path, validate(ws))
