@@ -20,6 +20,7 @@ treated as "undefined at this x" and leave a gap in the line.
 from __future__ import annotations
 
 import math
+import threading
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -28,6 +29,13 @@ import numpy as np
 
 from solvers.methods import LABELS
 from solvers.result import Run
+
+# matplotlib is not thread-safe: its mathtext parser and font objects are shared, and two
+# threads rendering at once raised spurious parse errors and corrupted the heap. Every
+# zerotrace caller that renders (window canvases, typesetting, the report's figures and
+# formulas) holds this one lock while matplotlib lays out or draws. Re-entrant, so a
+# drawing helper may call another.
+MATPLOTLIB_LOCK = threading.RLock()
 
 # Okabe & Ito (2008) colour-blind-safe palette, one colour per method. The function
 # itself is drawn in near-black so it never competes with a method's path.

@@ -92,6 +92,7 @@ from reportlab.platypus import (
 )
 
 from solvers import export, pipeline
+from solvers.figures import MATPLOTLIB_LOCK
 from solvers.files import write_atomic
 from solvers.result import REASON_TEXT, Run
 from solvers.worksheet import Worksheet, dumps
@@ -332,12 +333,13 @@ def _png_image(png: bytes, width: float, height: float) -> Image:
 
 def _figure(draw: Callable[[Any], None], width: float, height: float) -> Image:
     """A matplotlib Figure (Agg, no pyplot) drawn by ``draw(ax)``, placed at print size."""
-    fig = Figure(figsize=(width / 72, height / 72), layout="constrained")
-    FigureCanvasAgg(fig)
-    ax = fig.add_subplot()
-    draw(ax)
     buffer = io.BytesIO()
-    fig.savefig(buffer, format="png", dpi=FIGURE_DPI, facecolor="white")
+    with MATPLOTLIB_LOCK:  # the window may be drawing in the UI thread meanwhile
+        fig = Figure(figsize=(width / 72, height / 72), layout="constrained")
+        FigureCanvasAgg(fig)
+        ax = fig.add_subplot()
+        draw(ax)
+        fig.savefig(buffer, format="png", dpi=FIGURE_DPI, facecolor="white")
     return _png_image(buffer.getvalue(), width, height)
 
 
@@ -352,7 +354,8 @@ def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
     prop = FontProperties(size=size)
     buffer = io.BytesIO()
     try:
-        math_to_image(text, buffer, prop=prop, dpi=FIGURE_DPI, format="png")
+        with MATPLOTLIB_LOCK:
+            math_to_image(text, buffer, prop=prop, dpi=FIGURE_DPI, format="png")
     except Exception:  # mathtext knows a subset of LaTeX; fall back to the text as typed
         return None
     # Print size from the PNG's own header (IHDR width, height in pixels at FIGURE_DPI),
