@@ -30,6 +30,7 @@ Solve twice never shows the older answer last.
 from __future__ import annotations
 
 import threading
+import time
 import traceback
 import weakref
 from collections.abc import Callable
@@ -210,11 +211,12 @@ class JobRunner(QObject):
         for running in self._running.values():
             running.cancel.set()
         abandoned = []
+        start = time.monotonic()  # the lanes wait side by side: one bound, not their sum
         for lane, running in list(self._running.items()):
             wait = (timeout_ms / 1000 if timeout_ms is not None
                     else STOP_WAIT_S.get(lane, STOP_WAIT_DEFAULT_S))
             if running.thread is not None:
-                running.thread.join(wait)
+                running.thread.join(max(0.0, start + wait - time.monotonic()))
                 if running.thread.is_alive():
                     abandoned.append(lane)
         self._running.clear()
