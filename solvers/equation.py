@@ -851,6 +851,8 @@ def mathtext(latex: str, fallback: str) -> str:
     from solvers.figures import MATPLOTLIB_LOCK  # mathtext's parser is shared by all threads
 
     candidate = f"${latex}$"
+    if len(latex) > MAX_TYPESET_CHARS:  # over the typesetting budget: plain text
+        return fallback.replace("$", r"\$")
     try:
         with MATPLOTLIB_LOCK:
             MathTextParser("agg").parse(candidate, dpi=72)

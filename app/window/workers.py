@@ -1,9 +1,10 @@
 """Long work off the UI thread: plain Python threads, results delivered as queued Qt events.
 
 A job wraps a plain function ``work(progress, cancel)`` from solvers/ (a scan, a solve,
-a report, the live analysis of the equation). It runs in a daemon ``threading.Thread``;
-the UI thread only receives what the work reports (done, failed, cancelled, progress)
-through one queued signal, so the window stays responsive however long the work takes.
+a report, the live analysis of the equation). Each lane of a runner has one long-lived
+daemon ``threading.Thread`` that runs its jobs one after another; the UI thread only
+receives what the work reports (done, failed, cancelled, progress) through one queued
+signal, so the window stays responsive however long the work takes.
 
 Why Python threads and not one QThread per job: a QThread is a Qt object whose
 destructor waits for its thread, and the thread's own clean-up (deleting the worker
@@ -12,8 +13,13 @@ the UI thread, which holds that lock, deadlocked the window for good after some
 thousand actions. Here no Qt object is ever created or destroyed in a worker thread and
 none is destroyed while another thread waits on it: the worker thread only posts events
 to :data:`_BRIDGE`, one QObject that lives in the UI thread for the life of the process.
-Joining a Python thread releases the interpreter lock, so :meth:`JobRunner.stop` cannot
-deadlock either, and a daemon thread never holds the process open at exit.
+Waiting on a Python event releases the interpreter lock, so :meth:`JobRunner.stop`
+cannot deadlock either, and a daemon thread never holds the process open at exit.
+
+Why long-lived threads and not a thread per job: matplotlib keeps its font objects per
+thread (its font cache is keyed by thread id), and the C allocator keeps memory per
+thread arena, so a fresh thread for every settled edit made the process grow by several
+MiB per hundred actions. A lane's thread lives as long as its runner.
 
 Cancelling sets a ``threading.Event`` that the work polls (the scan checks it between
 chunks), so a cancel takes effect at the next chunk. :meth:`JobRunner.stop` (closing the
@@ -29,6 +35,7 @@ Solve twice never shows the older answer last.
 
 from __future__ import annotations
 
+import queue
 import threading
 import time
 import traceback
@@ -107,7 +114,7 @@ class _Running:
     lane: str
     request: _Request
     cancel: threading.Event = field(default_factory=threading.Event)
-    thread: threading.Thread | None = None
+    ended: threading.Event = field(default_factory=threading.Event)  # set by the worker
     superseded: bool = False
     done: bool = False
 
@@ -143,6 +150,25 @@ def _run(runner_ref: weakref.ReferenceType, running: _Running, bridge: _Bridge) 
         post("done", result)
 
 
+def _lane_loop(jobs: queue.SimpleQueue) -> None:
+    """A lane's worker thread: run each job handed to it, until told to stop (None)."""
+    while True:
+        item = jobs.get()
+        if item is None:
+            return
+        runner_ref, running, bridge = item
+        try:
+            _run(runner_ref, running, bridge)
+        finally:
+            running.ended.set()
+            del item, runner_ref, running  # keep no result alive while idle
+
+
+def _stop_lanes(queues: dict[str, queue.SimpleQueue]) -> None:
+    for jobs in queues.values():
+        jobs.put(None)
+
+
 class JobRunner(QObject):
     """Runs work in background threads, one job per lane at a time.
 
@@ -157,6 +183,11 @@ class JobRunner(QObject):
         self._running: dict[str, _Running] = {}
         self._pending: dict[str, _Request] = {}
         self._closing = False
+        # One worker thread per lane, started on first use; told to end when the runner
+        # stops or is collected.
+        self._queues: dict[str, queue.SimpleQueue] = {}
+        self._threads: dict[str, threading.Thread] = {}
+        self._finalizer = weakref.finalize(self, _stop_lanes, self._queues)
 
     def is_busy(self, lane: str) -> bool:
         return lane in self._running
@@ -191,12 +222,9 @@ class JobRunner(QObject):
             running.cancel.set()
 
     def wait(self, lane: str, timeout_ms: int = 5000) -> bool:
-        """Wait for the lane's thread to end (its result is delivered by the event loop)."""
+        """Wait for the lane's job to end (its result is delivered by the event loop)."""
         running = self._running.get(lane)
-        if running is None or running.thread is None:
-            return True
-        running.thread.join(timeout_ms / 1000)
-        return not running.thread.is_alive()
+        return running is None or running.ended.wait(timeout_ms / 1000)
 
     def stop(self, timeout_ms: int | None = None) -> list[str]:
         """Cancel every job and wait a bounded time for each (closing the window calls this).
@@ -204,7 +232,7 @@ class JobRunner(QObject):
         A scan stops at its next chunk; a solve or a report cannot be interrupted and is
         waited for up to ``timeout_ms`` (default: :data:`STOP_WAIT_S` per lane), then
         abandoned: its daemon thread ends on its own and whatever it reports is dropped.
-        Returns the lanes abandoned.
+        The lanes' threads are then told to end. Returns the lanes abandoned.
         """
         self._closing = True
         self._pending.clear()
@@ -215,22 +243,24 @@ class JobRunner(QObject):
         for lane, running in list(self._running.items()):
             wait = (timeout_ms / 1000 if timeout_ms is not None
                     else STOP_WAIT_S.get(lane, STOP_WAIT_DEFAULT_S))
-            if running.thread is not None:
-                running.thread.join(max(0.0, start + wait - time.monotonic()))
-                if running.thread.is_alive():
-                    abandoned.append(lane)
+            if not running.ended.wait(max(0.0, start + wait - time.monotonic())):
+                abandoned.append(lane)
         self._running.clear()
+        self._finalizer()  # every lane thread ends after its current job
         return abandoned
 
     # -- internals
     def _start(self, lane: str, request: _Request) -> None:
         running = _Running(lane, request)
-        running.thread = threading.Thread(
-            target=_run, args=(weakref.ref(self), running, self._bridge),
-            name=f"zerotrace-{lane}", daemon=True)
+        jobs = self._queues.get(lane)
+        if jobs is None:
+            jobs = self._queues[lane] = queue.SimpleQueue()
+            self._threads[lane] = threading.Thread(target=_lane_loop, args=(jobs,),
+                                                   name=f"zerotrace-{lane}", daemon=True)
+            self._threads[lane].start()
         self._running[lane] = running
         self.busy_changed.emit(lane, True)
-        running.thread.start()
+        jobs.put((weakref.ref(self), running, self._bridge))
 
     def _on_event(self, running: _Running, kind: str, value: Any) -> None:
         if running.done or self._running.get(running.lane) is not running:
