@@ -115,7 +115,7 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
     tmp = Path(tempfile.mkdtemp(prefix="zerotrace-soak-"))
     os.environ["ZEROTRACE_RECOVERY_DIR"] = str(tmp / "recovery")
 
-    from PySide6.QtCore import QSettings, Qt
+    from PySide6.QtCore import QObject, QSettings, Qt
     from PySide6.QtTest import QTest
     from PySide6.QtWidgets import QApplication, QFileDialog, QMessageBox
 
@@ -234,6 +234,7 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
     spent: dict[str, float] = {}
     warmup = args.warmup or max(1, args.actions // 5)
     rss_warm = float("nan")
+    objects_warm = (0, 0)
     samples_rss: list[float] = []  # every tenth of the run, for the slope
     started = time.perf_counter()
     for i in range(args.actions):
@@ -242,6 +243,7 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
         if i == warmup:
             gc.collect()
             rss_warm = _rss_mib()
+            objects_warm = (len(w.findChildren(QObject)), len(gc.get_objects()))
             if args.trace:
                 import tracemalloc
 
@@ -265,6 +267,7 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
         QTest.qWait(20)
     gc.collect()
     rss_end = _rss_mib()
+    objects_end = (len(w.findChildren(QObject)), len(gc.get_objects()))
     if args.trace:
         grown = tracemalloc.take_snapshot().compare_to(snapshot, "traceback")
         for stat in grown[:12]:
@@ -281,6 +284,8 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
         "rss_end_mib": round(rss_end, 1), "warmup_actions": warmup,
         "seconds": round(time.perf_counter() - started, 1), "close_seconds": round(close_s, 2),
         "abandoned_at_close": abandoned, "rss_samples_mib": samples_rss, **counts,
+        "qt_objects_warm_end": [objects_warm[0], objects_end[0]],
+        "python_objects_warm_end": [objects_warm[1], objects_end[1]],
         "seconds_by_action": {k: round(v, 1) for k, v in sorted(spent.items())},
     }), flush=True)
     app.processEvents()

@@ -17,6 +17,13 @@ from pathlib import Path
 
 import pytest
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import solve_and_wait, type_equation  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
+# matplotlib's Qt toolbar asks Qt about a deprecated attribute on every canvas: not ours.
+pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
 ROOT = Path(__file__).resolve().parents[1]
 
 
@@ -286,3 +293,38 @@ def test_oversize_latex_is_not_typeset(qapp):
     assert len(long) > MAX_TYPESET_CHARS
     assert render_png(long) is None
     assert render_png("x^{2}") is not None
+
+
+# ------------------------------------------------------------------ the window
+def test_window_typesets_off_the_ui_thread_and_says_too_large(qtbot, window, monkeypatch):
+    import app.window.equation_strip as strip_module
+    from app.window.equation_strip import TOO_LARGE_DERIVATIVE
+
+    ui = threading.get_ident()
+    calls: list[bool] = []
+    real = strip_module.render_png
+
+    def recording(*args, **kwargs):
+        calls.append(threading.get_ident() == ui)
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(strip_module, "render_png", recording)
+    type_equation(qtbot, window, "x*exp(-x/3) - 0.4")
+    assert window.analysis.ok and window.analysis.derivative_png
+    assert calls and not any(calls)  # every typesetting ran in the worker
+    assert not window.strip.derivative_view.label.pixmap().isNull()
+
+    # 30 nested levels: the derivative is over the typesetting budget; the strip says so
+    # and Solve still works with the compiled derivative. The root is the fixed point of
+    # exp(-x), the omega constant W(1).
+    calls.clear()
+    type_equation(qtbot, window, "exp(-" * 30 + "x" + ")" * 30 + " - x")
+    assert window.strip.derivative_view.label.text() == TOO_LARGE_DERIVATIVE
+    assert not any(calls)
+    solution = solve_and_wait(qtbot, window)
+    converged = [r for r in solution.runs if r.converged]
+    assert converged
+    # Reference: the omega constant W(1) from scipy.special.lambertw.
+    from scipy.special import lambertw
+
+    assert all(abs(r.root - lambertw(1).real) < 1e-12 for r in converged)
