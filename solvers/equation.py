@@ -848,13 +848,13 @@ def mathtext(latex: str, fallback: str) -> str:
     """
     from matplotlib.mathtext import MathTextParser
 
-    from solvers.figures import MATPLOTLIB_LOCK  # mathtext's parser is shared by all threads
+    from solvers.figures import typesetting  # mathtext's parser is shared by all threads
 
     candidate = f"${latex}$"
     if len(latex) > MAX_TYPESET_CHARS:  # over the typesetting budget: plain text
         return fallback.replace("$", r"\$")
     try:
-        with MATPLOTLIB_LOCK:
+        with typesetting():
             MathTextParser("agg").parse(candidate, dpi=72)
     except Exception:  # noqa: BLE001 - any mathtext failure means: show plain text
         return fallback.replace("$", r"\$")

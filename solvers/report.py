@@ -92,7 +92,7 @@ from reportlab.platypus import (
 )
 
 from solvers import export, pipeline
-from solvers.figures import MATPLOTLIB_LOCK
+from solvers.figures import MATPLOTLIB_LOCK, typesetting
 from solvers.files import write_atomic
 from solvers.result import REASON_TEXT, Run
 from solvers.worksheet import Worksheet, dumps
@@ -354,7 +354,7 @@ def _math(latex: str, max_width: float, size: float = 12.0) -> Image | None:
     prop = FontProperties(size=size)
     buffer = io.BytesIO()
     try:
-        with MATPLOTLIB_LOCK:
+        with typesetting():  # the matplotlib lock; frees what mathtext keeps behind
             math_to_image(text, buffer, prop=prop, dpi=FIGURE_DPI, format="png")
     except Exception:  # mathtext knows a subset of LaTeX; fall back to the text as typed
         return None

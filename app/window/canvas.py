@@ -125,7 +125,7 @@ class _FigureView(QWidget):
         left, top = 74.0, 12.0
         axes = self.figure.axes
         if axes and axes[0].axison:
-            with figures.MATPLOTLIB_LOCK:  # measures text: fonts and mathtext are shared
+            with figures.typesetting():  # measures text with mathtext: one thread at a time
                 left, top = _label_room(axes[0], self.figure.dpi)
         self.figure.subplots_adjust(left=min(0.4, left / width),
                                     right=1 - min(0.2, 26 / width),

@@ -32,7 +32,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.window.models import number_font
-from solvers.figures import MATPLOTLIB_LOCK, residual_name
+from solvers.figures import residual_name, typesetting
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"
@@ -192,7 +192,7 @@ def render_png(latex: str, *, dpi: float = 110, color: str = "#111111") -> bytes
 
     buffer = io.BytesIO()
     try:
-        with MATPLOTLIB_LOCK:
+        with typesetting():  # the one matplotlib lock, and mathtext's leftovers freed
             mathtext.math_to_image(f"${latex}$", buffer, prop=FontProperties(size=13),
                                    dpi=dpi, format="png", color=color)
     except Exception:  # sympy LaTeX that mathtext does not know: show the text instead
