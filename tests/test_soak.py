@@ -57,6 +57,7 @@ def test_soak_2000_random_actions_no_hang_no_exception_no_leak():
     assert figures["actions"] == 2000
     assert figures["unhandled_exceptions"] == [], figures["unhandled_exceptions"][:5]
     assert figures["abandoned_at_close"] == []
+    assert figures["preview_current"]  # the typeset preview caught up with the last edit
     assert figures["rss_end_mib"] <= GROWTH_LIMIT * figures["rss_warm_mib"], figures
     # The window kept answering: every settled edit got its analysis.
     assert figures["analyses"] > 0 and figures["solves_done"] > 0 and figures["scans"] > 0
@@ -223,7 +224,7 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
     actions = {  # name: (action, weight)
         "type_equation": (type_equation, 16), "edit_text": (edit_text, 14),
         "set_field": (set_field, 8), "solve": (lambda: click(w.inputs.solve_button), 16),
-        "scan": (scan, 8), "cancel": (lambda: click(w.cancel_button), 6),
+        "scan": (scan, 5), "cancel": (lambda: click(w.cancel_button), 6),
         "switch_tab": (switch_tab, 3), "digits": (digits, 3),
         "open_sample": (lambda: w.load_sample(rng.choice(samples)), 5), "save": (save, 3),
         "open_file": (lambda: w.open_file(), 2), "new_document": (lambda: w.new_document(), 2),
@@ -257,7 +258,7 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
             actions[name][0]()
         except Exception:  # an action that raised in the driver itself is a finding too
             errors.append(traceback.format_exc()[-1500:])
-        QTest.qWait(rng.choice((0, 0, 1, 2, 5, 10, 25)))
+        QTest.qWait(rng.choice((0, 0, 1, 2, 5, 10, 20)))
         spent[name] = spent.get(name, 0.0) + time.perf_counter() - began
     faulthandler.dump_traceback_later(args.hang_seconds, exit=True)
     # Let the last jobs end the way a user pausing would, then measure and close.
@@ -265,6 +266,14 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
     while time.perf_counter() < deadline and any(
             w.runner.is_busy(lane) for lane in ("preview", "solve", "scan", "report")):
         QTest.qWait(20)
+    # The preview caught up with the last edit (no stale typeset form left on screen).
+    QTest.qWait(400)  # past the edit debounce, then until the analysis lands
+    deadline = time.perf_counter() + 30
+    while time.perf_counter() < deadline and (
+            w.runner.is_busy("preview") or w.strip.editor.toPlainText() != (
+                w.analysis.text if w.analysis is not None else None)):
+        QTest.qWait(20)
+    preview_current = w.analysis is not None and w.analysis.text == w.strip.text()
     gc.collect()
     rss_end = _rss_mib()
     objects_end = (len(w.findChildren(QObject)), len(gc.get_objects()))
@@ -284,12 +293,14 @@ def main(argv: list[str]) -> int:  # noqa: C901 - one scripted session, read top
         "rss_end_mib": round(rss_end, 1), "warmup_actions": warmup,
         "seconds": round(time.perf_counter() - started, 1), "close_seconds": round(close_s, 2),
         "abandoned_at_close": abandoned, "rss_samples_mib": samples_rss, **counts,
+        "preview_current": preview_current,
         "qt_objects_warm_end": [objects_warm[0], objects_end[0]],
         "python_objects_warm_end": [objects_warm[1], objects_end[1]],
         "seconds_by_action": {k: round(v, 1) for k, v in sorted(spent.items())},
     }), flush=True)
     app.processEvents()
-    healthy = not errors and not abandoned and rss_end <= GROWTH_LIMIT * rss_warm
+    healthy = (not errors and not abandoned and preview_current
+               and rss_end <= GROWTH_LIMIT * rss_warm)
     return 0 if healthy else 1
 
 
