@@ -184,6 +184,9 @@ def _build_parser() -> _Parser:
     solve.add_argument("--max-iter", type=_count, metavar="N", help="iteration cap")
     solve.add_argument("--damping", type=_finite, metavar="L", help="Newton damping, 0 < L <= 1")
     solve.add_argument("--steps", action="store_true", help="print every iterate of every method")
+    solve.add_argument("--figures", type=_figures, default=None, metavar="N",
+                       help="significant figures of the roots printed (1-17; default: every "
+                       "digit, as the CSV holds them)")
     solve.add_argument("--csv", metavar="PATH", help="write the iteration log as CSV")
     solve.add_argument("--force", action="store_true", help="replace an existing output file")
 
@@ -261,12 +264,13 @@ def _worksheet_from_args(args: argparse.Namespace):
 # ----------------------------------------------------------------- text output
 
 
-def _g(value: float | None, digits: int = 17) -> str:
-    if value is None:
-        return "-"
-    if isinstance(value, float) and not math.isfinite(value):
-        return str(value)
-    return f"{value:.{digits}g}"
+def _g(value: float | None, figures: int | None = None) -> str:
+    """A number in the words module's one format: every digit, or ``figures`` of them."""
+    from app.documents import words
+
+    if figures is None:
+        return words.exact(value, blank="-")
+    return words.number(value, figures, blank="-")
 
 
 def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
@@ -277,45 +281,40 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
     return "\n".join([line, rule, *body])
 
 
-def _print_solution(solution, *, steps: bool) -> None:
-    from solvers.result import REASON_TEXT
+def _print_solution(solution, *, steps: bool, figures: int | None = None) -> None:
+    from app.documents import words
 
     eq = solution.equation
     print(f"equation: {solution.worksheet.equation}")
-    params = ", ".join(f"{k} = {v!r}" for k, v in eq.parameters.items())
+    params = ", ".join(f"{k} = {_g(v)}" for k, v in eq.parameters.items())
     print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
-    for note in (*getattr(eq, "notes", ()), *solution.start.notes):
+    for note in (*getattr(eq, "notes", ()), *words.start_notes(solution.start)):
         print(f"note:     {note}")
     print()
     rows = []
     for r in solution.runs:
         rows.append(
             [
-                r.method.replace("_", " "),
-                _g(r.root),
+                words.method_title(r.method),
+                _g(r.root, figures),
                 "yes" if r.converged else "NO",
                 r.reason,
                 str(r.iterations),
                 str(r.evaluations),
-                _g(r.order, 3) if r.order is not None else "-",
+                _g(r.order, 3),
+                r.method,
             ]
         )
-    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order"]
+    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order",
+              "--method"]
     print(_table(header, rows))
-    failed = [r for r in solution.runs if not r.converged]
-    for r in failed:
-        why = r.message or REASON_TEXT.get(r.reason, r.reason)
-        print(f"  {r.method.replace('_', ' ')} did not converge: {why}")
-    groups = solution.agreement.groups
-    if len(groups) > 1:
-        found = "; ".join(f"{_g(x)} ({', '.join(m.replace('_', ' ') for m in ms)})"
-                          for x, ms in groups)
-        print(f"\nconverged methods found different roots, no agreement to count: {found}")
-    elif solution.agreement_digits is not None:
-        print(f"\nconverged methods agree to {solution.agreement_digits} significant figures")
+    print()
+    for r in solution.runs:
+        print(f"  {words.stop_line(r)}")
+    print(f"\n{words.agreement_text(solution)}")
     if steps:
         for r in solution.runs:
-            print(f"\n{r.method.replace('_', ' ')}: every iterate")
+            print(f"\n{words.method_title(r.method)}: every iterate")
             body = [
                 [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
                 for s in r.steps
@@ -325,7 +324,8 @@ def _print_solution(solution, *, steps: bool) -> None:
 
 
 def _print_scan(scan, unknown: str) -> None:
-    print(f"scan of [{_g(scan.a)}, {_g(scan.b)}] for {unknown}: {len(scan.roots)} root(s), "
+    # The range as typed: 15 figures show any typed decimal whole, without a ".0".
+    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {unknown}: {len(scan.roots)} root(s), "
           f"{getattr(scan, 'samples', '?')} samples")
     if scan.roots:
         rows = [
@@ -358,6 +358,17 @@ def _json_out(data: dict) -> None:
 # ----------------------------------------------------------------- commands
 
 
+def _figures(text: str) -> int:
+    """--figures: a whole number of significant figures from 1 to 17."""
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if not 1 <= n <= 17:
+        raise argparse.ArgumentTypeError(f"{n} is outside 1-17 significant figures")
+    return n
+
+
 def _output_path(path: str, force: bool, flag: str) -> str:
     from pathlib import Path
 
@@ -388,7 +399,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
     if args.json:
         _json_out(export.solution_json(solution))
     else:
-        _print_solution(solution, steps=args.steps)
+        _print_solution(solution, steps=args.steps, figures=args.figures)
         if csv_path:
             print(f"iteration log written to {csv_path}")
     return EXIT_OK

@@ -25,6 +25,7 @@ from scipy.optimize import brentq
 
 from app.documents import export
 from app.documents.report import CAUTION, NUMERICAL_DERIVATIVE_NOTE, ReportError, write_report
+from app.documents.words import REASON_TEXT, method_title
 from app.documents.worksheet import (
     CalcInfo,
     Parameter,
@@ -37,10 +38,8 @@ from app.documents.worksheet import (
     save,
 )
 from solvers import pipeline
-from solvers.methods import METHODS
-from solvers.result import REASON_TEXT
 
-NEWTON = METHODS["newton"].label  # the sheet names methods by their labels
+NEWTON = method_title("newton")  # the sheet names methods by their titles
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 SAMPLE = SAMPLES / "cooling-water-friction.json"
 
@@ -203,7 +202,7 @@ def test_high_precision_residual_matches_an_independent_mpmath_evaluation(sheet)
 def test_agreement_sentence(sheet):
     digits = sheet["solution"].agreement_digits
     assert digits is not None
-    assert f"agree to {digits} significant digits" in flat(sheet["text"])
+    assert f"agree to {digits} significant figures" in flat(sheet["text"])
 
 
 def test_scan_roots_listed_and_no_selection_said_so(sheet):

@@ -98,12 +98,12 @@ from reportlab.platypus import (
     TableStyle,
 )
 
-from app.documents import export, printing
+from app.documents import export, printing, words
 from app.documents.files import FileRefused, check_writable, read_limited, write_group
-from app.documents.words import CAUTION
+from app.documents.words import CAUTION, NUMERICAL_DERIVATIVE_NOTE, RESIDUAL_WORDS
 from app.documents.worksheet import MAX_FILE_BYTES, Worksheet, dumps
 from solvers import pipeline
-from solvers.result import REASON_TEXT, Run
+from solvers.result import Run
 
 TOOL_NAME = "zerotrace"
 PAGE_SIZE = A4
@@ -120,11 +120,6 @@ SHORT_TABLE_ROWS = 40  # iteration tables up to this long are never split across
 FRAME_HEIGHT = PAGE_SIZE[1] - MARGIN_TOP - MARGIN_BOTTOM
 MAX_MATH_HEIGHT = 0.45 * FRAME_HEIGHT  # a typeset formula takes at most about half a page
 MIN_MATH_SCALE = 0.55  # below ~6.5 pt on paper the text as entered reads better
-
-NUMERICAL_DERIVATIVE_NOTE = (
-    "No symbolic derivative was available: Newton–Raphson used a numerical "
-    "(finite-difference) derivative of f, and its f′ column shows those estimates."
-)
 
 # Palette: dark slate for rules and headings, greys for table shading; one muted red
 # for "did not converge" and one amber for the caution. Legible in greyscale print.
@@ -226,10 +221,8 @@ def _styles() -> dict[str, ParagraphStyle]:
 
 
 def _num(value: float | int | None) -> str:
-    """Full precision: ``repr`` of floats (the same text as the CSV), '—' for none."""
-    if value is None:
-        return "—"
-    return export.number(value)
+    """Full precision: every digit of a float (the CSV's double), '—' for none."""
+    return words.exact(value, blank="—")
 
 
 def _text(value: str) -> str:
@@ -238,11 +231,7 @@ def _text(value: str) -> str:
 
 
 def _label(method: str) -> str:
-    from solvers.methods import METHODS
-
-    spec = METHODS.get(method)
-    label = getattr(spec, "label", None)
-    return label if label else method.replace("_", " ")
+    return words.method_title(method)
 
 
 def _relative_last_step(run: Run) -> str:
@@ -254,17 +243,6 @@ def _relative_last_step(run: Run) -> str:
                 return f"{abs(step.dx):.3e} (absolute, x = 0)"
             return f"{abs(step.dx) / abs(step.x):.3e}"
     return "— (no step taken)"
-
-
-# Words for the codes of solvers.residual (the module returns codes, never prose).
-RESIDUAL_WORDS = {
-    "no_finite_root": "— (no finite root)",
-    "not_real": "not a real number there (outside the domain)",
-    "infinite": "infinite (a pole)",
-    "overflow": "beyond the double range",
-    "not_computable": "not computable at this precision",
-    "time_budget": "not computed (time budget exceeded)",
-}
 
 
 def _residual_mp(equation: Any, x: float) -> str:
@@ -521,7 +499,8 @@ def _iteration_table(run: Run, st: dict) -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
         return [
-            Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(run.message)}", st["body"])
+            Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(words.run_message(run))}",
+                      st["body"])
         ]
     columns = [
         (key, head)
@@ -775,8 +754,9 @@ def _settings_section(c: _Context) -> list[Flowable]:
             "exactly, or after the maximum number of iterations (then it has not converged).",
             st["cell"])),
     ]
-    if sv.notes:
-        rows.append(("Start value notes", Paragraph(_text("; ".join(sv.notes)), st["cell"])))
+    notes = words.start_notes(sv)
+    if notes:
+        rows.append(("Start value notes", Paragraph(_text("; ".join(notes)), st["cell"])))
     return [*_heading("3  Method settings", st, "h1"), _key_value_table(rows, st)]
 
 
@@ -822,25 +802,22 @@ def _results_section(c: _Context) -> list[Flowable]:
     ]
     for r in runs:
         if not r.converged:
-            detail = f" {r.message.strip()}" if r.message.strip() else ""
-            if detail and detail[-1] not in ".!?":
-                detail += "."
+            detail = words.detail_text(r.detail)
+            detail = f" {detail}." if detail else ""
             out += [Spacer(1, 3), _boxed(Paragraph(
                 f"<b>{escape(_label(r.method))} did not converge.</b> Stop reason "
                 f"<font name='ZT-Mono'>{escape(r.reason)}</font>: "
-                f"{escape(REASON_TEXT.get(r.reason, ''))}.{_text(detail)} Its last iterate "
+                f"{escape(words.reason_text(r.reason))}.{_text(detail)} Its last iterate "
                 f"<font name='ZT-Mono'>{escape(_num(r.root))}</font> is not a root.",
                 st["body"]), FAIL_INK, FAIL_FILL)]
     out.append(Spacer(1, 4))
     for r in runs:
-        label = _label(r.method)
-        account = r.message.strip()
-        if account.startswith(label):  # the method's own account opens with its name
-            account = account[len(label):].strip()
+        account = "; ".join(t for t in (words.detail_text(r.detail),
+                                        words.detail_text(r.note)) if t)
         out.append(Paragraph(
-            f"<b>{escape(label)}</b> <font name='ZT-Mono'>{escape(r.reason)}</font>: "
-            f"{escape(REASON_TEXT.get(r.reason, ''))}."
-            + (f" <i>Record:</i> {_text(account)}" if account else ""),
+            f"<b>{escape(_label(r.method))}</b> <font name='ZT-Mono'>{escape(r.reason)}</font>: "
+            f"{escape(words.reason_text(r.reason))}."
+            + (f" <i>Record:</i> {_text(account)}." if account else ""),
             ParagraphStyle("reason", parent=st["small"], spaceAfter=1.5, leftIndent=8,
                            firstLineIndent=-8)))
 
@@ -867,15 +844,11 @@ def _results_section(c: _Context) -> list[Flowable]:
     if sol.agreement_digits is not None:
         spread = max(r.root for r in converged) - min(r.root for r in converged)
         agree = (
-            f"<b>Agreement.</b> The {len(converged)} converged methods agree to "
-            f"{sol.agreement_digits} significant digits (largest difference between their "
-            f"roots: <font name='ZT-Mono'>{escape(_num(spread))}</font>)."
+            f"<b>Agreement.</b> {escape(words.agreement_text(sol))} Largest difference "
+            f"between their roots: <font name='ZT-Mono'>{escape(_num(spread))}</font>."
         )
-    elif len(converged) == 1:
-        agree = ("<b>Agreement.</b> Only one method converged, so there is no second method to "
-                 "agree with; the root rests on that method alone.")
     else:
-        agree = "<b>Agreement.</b> No method converged: this sheet reports no root."
+        agree = f"<b>Agreement.</b> {escape(words.agreement_text(sol))}"
     out += [Spacer(1, 4), Paragraph(agree, st["body"])]
     return out
 
