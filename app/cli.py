@@ -441,6 +441,7 @@ def cmd_scan(args: argparse.Namespace) -> int:
 
 def cmd_report(args: argparse.Namespace) -> int:
     from app.documents import report
+    from solvers import pipeline
 
     ws = _load_worksheet(args.worksheet)
     _output_path(args.pdf, args.force, "--pdf")
@@ -452,8 +453,10 @@ def cmd_report(args: argparse.Namespace) -> int:
         if Path(args.csv_dir).exists() and not Path(args.csv_dir).is_dir():
             raise InputError(f"{args.csv_dir}: is a file, not a folder for the CSV files")
         # a missing folder is created by the report (and removed again if it fails)
+    solution, scan = pipeline.solve_and_scan(ws)  # the sheet is handed results, never solves
     result = report.write_report(
-        ws, args.pdf, csv_dir=args.csv_dir, worksheet_path=args.worksheet, overwrite=args.force
+        ws, args.pdf, solution=solution, scan=scan, csv_dir=args.csv_dir,
+        worksheet_path=args.worksheet, overwrite=args.force,
     )
     print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
     for path in result.csv_paths:

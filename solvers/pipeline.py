@@ -409,3 +409,24 @@ def polish(ws: Worksheet, x: float, equation: Equation | None = None) -> Solutio
     sv = start_values(polished, eq)
     runs = run_methods(eq, sv, settings)
     return Solution(polished, eq, sv, runs, agreement_digits(runs, settings.xtol))
+
+
+def solve_and_scan(
+    ws: Worksheet,
+    *,
+    progress: Callable[[float], None] | None = None,
+    cancel: Callable[[], bool] | None = None,
+) -> tuple[Solution, Scan | None]:
+    """Every result a calculation sheet reports: the worksheet's solution and, when it
+    has a scan range, the scan of that range (``None`` without one).
+
+    The equation is parsed once for both. ``progress(fraction)`` runs from 0 to 1: the
+    solve is the first quarter, the scan the rest. Raises as :func:`solve` does.
+    """
+    solution = solve(ws)
+    if progress is not None:
+        progress(0.25)
+    if ws.scan is None:
+        return solution, None
+    report = (lambda p: progress(0.25 + 0.75 * p)) if progress is not None else None
+    return solution, scan_worksheet(ws, solution.equation, progress=report, cancel=cancel)

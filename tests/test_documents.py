@@ -35,6 +35,12 @@ ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = ROOT / "samples"
 
 
+def handed(ws):
+    """What a caller hands the sheet: the worksheet's solution and scan (it never solves)."""
+    solution, scan = pipeline.solve_and_scan(ws)
+    return {"solution": solution, "scan": scan}
+
+
 def flat(text: str) -> str:
     return " ".join(text.split())
 
@@ -115,7 +121,7 @@ def sheets(tmp_path_factory):
     for name in ("cooling-water-friction", "gas-molar-volume-vdw"):
         ws = worksheet.load(SAMPLES / f"{name}.json")
         pdf = tmp_path_factory.mktemp(name) / "sheet.pdf"
-        report.write_report(ws, pdf)
+        report.write_report(ws, pdf, **handed(ws))
         out[name] = (ws, [p.extract_text() for p in pypdf.PdfReader(str(pdf)).pages])
     return out
 

@@ -30,7 +30,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.documents.figures import method_color, method_title
+from app.documents.figures import method_color
+from app.documents.words import method_title
 from app.documents.worksheet import DEFAULT_METHODS, METHOD_NAMES, Settings
 from app.window.models import ParametersModel, fix_lines, number_font, parse_number
 from app.window.views import CopyTableView, fitted_text

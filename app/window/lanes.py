@@ -18,7 +18,8 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents import words
-from app.documents.figures import method_color, method_label, method_title
+from app.documents.figures import method_color
+from app.documents.words import method_label, method_title
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
 from solvers.result import Run
