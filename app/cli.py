@@ -97,6 +97,7 @@ def _whole(low: int, high: int) -> Callable[[str], int]:
 
 _count = _whole(1, 100_000)  # iteration cap
 _count_samples = _whole(3, 100_000_000)  # scan sampling density
+_figures = _whole(1, 17)  # significant figures printed (17 hold every double)
 
 
 def _param(text: str) -> tuple[str, float]:
@@ -301,7 +302,7 @@ def _print_solution(solution, *, steps: bool, figures: int | None = None) -> Non
                 r.reason,
                 str(r.iterations),
                 str(r.evaluations),
-                _g(r.order, 3),
+                words.order_text(r.order, "-"),
                 r.method,
             ]
         )
@@ -356,17 +357,6 @@ def _json_out(data: dict) -> None:
 
 
 # ----------------------------------------------------------------- commands
-
-
-def _figures(text: str) -> int:
-    """--figures: a whole number of significant figures from 1 to 17."""
-    try:
-        n = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
-    if not 1 <= n <= 17:
-        raise argparse.ArgumentTypeError(f"{n} is outside 1-17 significant figures")
-    return n
 
 
 def _output_path(path: str, force: bool, flag: str) -> str:

@@ -79,6 +79,11 @@ def exact(value: float | int | None, blank: str = "") -> str:
     return _special(value) or repr(value)
 
 
+def order_text(order: float | None, blank: str = "—") -> str:
+    """An observed order of convergence (2.00 quadratic, 1.62 secant, 1.00 linear)."""
+    return blank if order is None else f"{order:.2f}"
+
+
 def figures_word(n: int) -> str:
     return f"{n} significant figure{'' if n == 1 else 's'}"
 

@@ -35,8 +35,7 @@ def summary_text(run: Run, digits: int) -> str:
     A run that did not converge has no root: its last iterate is shown as "last x" so it
     can never be copied into a design as one.
     """
-    order = run.order
-    order_text = f"{order:.2f}" if order is not None else "n/a"
+    order_text = words.order_text(run.order, "n/a")
     what = "root" if run.converged else "last x"
     return (f"{what} {format_number(run.root, digits)}   stop: {run.reason}\n"
             f"{_count(run.iterations, 'iterate')} · {_count(run.evaluations, 'evaluation')} · "

@@ -258,7 +258,7 @@ def _results_section(c: _Context) -> list[Flowable]:
             r.reason,
             str(r.iterations),
             str(r.evaluations),
-            "—" if order is None else f"{order:.2f}",
+            words.order_text(order),
         ])
     widths = [30 * mm, 47 * mm, 17 * mm, 31 * mm, 13 * mm, 13 * mm, 19 * mm]
     widths[-1] += TEXT_WIDTH - sum(widths)
