@@ -72,11 +72,20 @@ def _finite(text: str) -> float:
     return value
 
 
-def _nonneg(text: str) -> float:
-    value = _finite(text)
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"{text!r} must not be negative")
-    return value
+def _setting(key: str) -> Callable[[str], float]:
+    """An argparse type: a finite number meeting the worksheet's rule for ``key`` (the
+    same rules the worksheet loader and the window's fields apply)."""
+
+    def parse(text: str) -> float:
+        from app.documents.worksheet import setting_problem
+
+        value = _finite(text)
+        problem = setting_problem(key, value)
+        if problem:
+            raise argparse.ArgumentTypeError(f"{text!r} {problem}")
+        return int(value) if key == "max_iter" else value
+
+    return parse
 
 
 def _whole(low: int, high: int) -> Callable[[str], int]:
@@ -95,7 +104,6 @@ def _whole(low: int, high: int) -> Callable[[str], int]:
     return parse
 
 
-_count = _whole(1, 100_000)  # iteration cap
 _count_samples = _whole(3, 100_000_000)  # scan sampling density
 _figures = _whole(1, 17)  # significant figures printed (17 hold every double)
 
@@ -179,11 +187,16 @@ def _build_parser() -> _Parser:
     solve.add_argument("--x0", type=_finite, metavar="V", help="initial guess")
     solve.add_argument("--x1", type=_finite, metavar="V", help="second point for the secant")
     solve.add_argument("--bracket", nargs=2, type=_finite, metavar=("A", "B"), help="bracket ends")
-    solve.add_argument("--xtol", type=_nonneg, metavar="V", help="absolute step tolerance")
-    solve.add_argument("--rtol", type=_nonneg, metavar="V", help="relative step tolerance")
-    solve.add_argument("--ftol", type=_nonneg, metavar="V", help="absolute residual tolerance")
-    solve.add_argument("--max-iter", type=_count, metavar="N", help="iteration cap")
-    solve.add_argument("--damping", type=_finite, metavar="L", help="Newton damping, 0 < L <= 1")
+    solve.add_argument("--xtol", type=_setting("xtol"), metavar="V",
+                       help="absolute step tolerance")
+    solve.add_argument("--rtol", type=_setting("rtol"), metavar="V",
+                       help="relative step tolerance")
+    solve.add_argument("--ftol", type=_setting("ftol"), metavar="V",
+                       help="absolute residual tolerance")
+    solve.add_argument("--max-iter", type=_setting("max_iter"), metavar="N",
+                       help="iteration cap")
+    solve.add_argument("--damping", type=_setting("damping"), metavar="L",
+                       help="Newton damping, 0 < L <= 1")
     solve.add_argument("--steps", action="store_true", help="print every iterate of every method")
     solve.add_argument("--figures", type=_figures, default=None, metavar="N",
                        help="significant figures of the roots printed (1-17; default: every "
@@ -221,7 +234,7 @@ def _load_worksheet(path: str):
 
 
 def _worksheet_from_args(args: argparse.Namespace):
-    from app.documents.worksheet import Parameter, Settings, Worksheet
+    from app.documents.worksheet import Parameter, Settings, Worksheet, tolerances_problem
 
     if args.worksheet:
         ws = _load_worksheet(args.worksheet)
@@ -254,11 +267,10 @@ def _worksheet_from_args(args: argparse.Namespace):
         changes["bracket"] = (a, b)
     if getattr(args, "method", None):
         changes["methods"] = tuple(dict.fromkeys(args.method))
-    if "damping" in changes and not 0 < changes["damping"] <= 1:
-        raise InputError("zerotrace solve: --damping must lie in (0, 1]")
     s = replace(s, **changes)
-    if s.xtol == 0 and s.rtol == 0 and s.ftol == 0:
-        raise InputError("zerotrace solve: --xtol, --rtol and --ftol cannot all be zero")
+    problem = tolerances_problem(s.xtol, s.rtol, s.ftol)
+    if problem:
+        raise InputError(f"zerotrace solve: {problem} (set --xtol, --rtol or --ftol)")
     return replace(ws, settings=s)
 
 
