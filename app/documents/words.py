@@ -115,6 +115,21 @@ def method_label(name: str) -> str:
     return title if name in _PROPER else title.lower()
 
 
+# How each method works, in one line (the window's tooltips).
+METHOD_SUMMARIES: dict[str, str] = {
+    "newton": "tangent steps from x0, using the derivative shown under the equation",
+    "secant": "chord steps from x0 and x1, no derivative needed",
+    "false_position": "keeps a bracket [a, b] with a sign change; chord inside it",
+    "illinois": "false position that halves the stale end's value, so neither end sticks",
+    "bisection": "halves the bracket each step: slow, never fails on a sign change",
+    "brent": "inverse quadratic steps inside the bracket, bisection as a safeguard",
+}
+
+
+def method_summary(name: str) -> str:
+    return METHOD_SUMMARIES.get(name, "")
+
+
 def method_names(methods: Iterable[str]) -> str:
     """In-sentence labels joined: "Newton–Raphson, secant and false position"."""
     labels = [method_label(m) for m in methods]

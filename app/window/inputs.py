@@ -31,7 +31,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents.figures import method_color
-from app.documents.words import method_title
+from app.documents.words import method_summary, method_title
 from app.documents.worksheet import (
     DEFAULT_METHODS,
     METHOD_NAMES,
@@ -89,14 +89,6 @@ RULE_FIELDS = (
     FieldSpec("damping", "&damping", "Newton–Raphson step multiplier λ in (0, 1]; "
               "1 is the plain method (damping, --damping)", check=_rule("damping")),
 )
-METHOD_TIPS = {
-    "newton": "tangent steps from x0, using the derivative shown under the equation",
-    "secant": "chord steps from x0 and x1, no derivative needed",
-    "false_position": "keeps a bracket [a, b] with a sign change; chord inside it",
-    "illinois": "false position that halves the stale end's value, so neither end sticks",
-    "bisection": "halves the bracket each step: slow, never fails on a sign change",
-    "brent": "inverse quadratic steps inside the bracket, bisection as a safeguard",
-}
 
 
 class NumberField(QLineEdit):
@@ -240,7 +232,7 @@ class InputsPanel(QWidget):
         for i, name in enumerate(METHOD_NAMES):
             box = QCheckBox(method_title(name))
             box.setObjectName(f"method_{name}")
-            box.setToolTip(METHOD_TIPS.get(name, ""))
+            box.setToolTip(method_summary(name))
             # The method's colour as a stripe, as on its lane and its path in the plot.
             box.setStyleSheet(f"QCheckBox {{ border-left: 4px solid {method_color(name)}; "
                               "padding-left: 3px; }")
