@@ -110,3 +110,24 @@ def test_cli_window_and_sheet_print_the_same_names_reasons_and_roots(
     agreement = words.agreement_text(solution)
     assert agreement in shell and agreement in flat(window.lanes.agreement.text())
     assert agreement in sheet
+
+
+def test_every_code_the_core_records_has_words():
+    """Each Detail, StartChoice and stop-reason code written in solvers/ has its sentence in
+    app.documents.words (a code without words would reach the user as a bare code)."""
+    import re
+
+    from solvers.result import REASONS
+
+    root = Path(__file__).resolve().parents[1] / "solvers"
+    source = "\n".join((root / name).read_text("utf-8")
+                       for name in ("methods.py", "pipeline.py", "result.py"))
+    details = set(re.findall(r'Detail\(\s*"(\w+)"', source))
+    details |= {f"{what}_small" for what in re.findall(r'_step_detail\(\s*"(\w+)"', source)}
+    starts = set(re.findall(r'StartChoice\(\s*"(\w+)"', source))
+    assert {"raised", "jump", "pole", "step_small", "width_small", "no_bracket"} <= details
+    assert details <= set(words.DETAIL_TEXT), details - set(words.DETAIL_TEXT)
+    assert starts and starts <= set(words.START_TEXT), starts - set(words.START_TEXT)
+    assert set(REASONS) <= set(words.REASON_TEXT)
+    for name in ("newton", "secant", "false_position", "illinois", "bisection", "brent"):
+        assert words.method_title(name) != name and words.method_summary(name)
