@@ -307,9 +307,14 @@ class _Candidates:
     unresolved: list[tuple[float, float]] = field(default_factory=list)
     samples: int = 0
     typical: list[float] = field(default_factory=list)  # median finite |f| of each chunk
+    # f' sampled with f (derivative check): sample pairs of one sign of f across which f'
+    # changes sign toward zero, not proved root-free; same layout as ``minima``
+    extrema: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
+    proved: int = 0  # extrema between samples proved root-free by the tangent bound
 
 
-def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) -> None:
+def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
+            yp: np.ndarray | None = None) -> None:
     """Append candidates whose anchor index i lies in [lo, hi) of the arrays x, y.
 
     Sign changes and edges are anchored at the left sample of the pair (i, i+1);
@@ -318,6 +323,8 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
     then exact tests on those few (most samples are nothing).
     """
     n = len(x)
+    if yp is not None:
+        _detect_extrema(x, y, yp, lo, hi, out)
     allfin = bool(np.isfinite(y).all())
     last_pair = min(hi, n - 1)
     # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
@@ -412,8 +419,52 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates) ->
         )
 
 
-def _underresolved(y: np.ndarray) -> np.ndarray:
-    """Indices of windows (of _WINDOW samples) where f has too many extrema."""
+def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: int,
+                    out: _Candidates) -> None:
+    """Extrema of f between neighbouring samples (anchored at the left one, in [lo, hi)).
+
+    Two roots hidden between samples i and i+1 (f of one sign at both) need an extremum
+    of f between them, where f' changes sign, moving toward zero: s f'_i < 0 < s f'_(i+1)
+    with s the sign of f. Where f' is monotone between the samples (checked: the secant
+    slope lies between f'_i and f'_(i+1), as the mean value theorem then demands), s f is
+    convex there and lies above both tangent lines, so it cannot fall below the value
+    where they meet: above zero means no root, proved. Every other such pair is a
+    candidate for the touch search (appended to ``out.extrema``).
+    """
+    n = len(x)
+    last_pair = min(hi, n - 1)
+    if last_pair <= lo:
+        return
+    sl = slice(lo, last_pair)
+    y0, y1, d0, d1 = y[lo:last_pair], y[lo + 1:last_pair + 1], yp[sl], yp[lo + 1:last_pair + 1]
+    s = np.where(np.signbit(y0), -1.0, 1.0)
+    k = np.flatnonzero((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
+                       & (s * d0 < 0) & (s * d1 > 0))
+    if k.size == 0:
+        return
+    x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
+    s = s[k]
+    u0, u1, p0, p1 = s * y0[k], s * y1[k], s * d0[k], s * d1[k]  # u > 0, p0 < 0 < p1
+    h = x1 - x0
+    with np.errstate(all="ignore"):
+        secant = (u1 - u0) / h
+        # tangent lines u0 + p0 (t - x0) and u1 + p1 (t - x1) meet at t*
+        t = (u1 - u0 - p1 * h) / (p0 - p1)  # distance of t* from x0 (in [0, h] when convex)
+        bound = u0 + p0 * t
+    slack = 64 * EPS * (np.abs(p0) + np.abs(p1))
+    convex = (secant >= p0 - slack) & (secant <= p1 + slack)
+    margin = 1e3 * EPS * np.maximum(u0, u1)  # rounding of the values themselves
+    safe = convex & np.isfinite(bound) & (bound > margin)
+    out.proved += int(safe.sum())
+    for i in np.flatnonzero(~safe):
+        out.extrema.append((float(x0[i]), float(x0[i]), float(x1[i]),
+                            float(s[i] * u0[i]), float(s[i] * u0[i]), float(s[i] * u1[i])))
+
+
+def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
+                   yp: np.ndarray | None = None) -> np.ndarray:
+    """Indices of windows (of _WINDOW samples) where f has too many extrema, or (with f'
+    sampled too) where f' contradicts the differences of f (:func:`_inconsistent`)."""
     n = len(y)
     if n < 3 * _WINDOW:
         return np.zeros(0, dtype=int)
@@ -421,7 +472,34 @@ def _underresolved(y: np.ndarray) -> np.ndarray:
     turn = d[1:] != d[:-1]
     nwin = (len(turn)) // _WINDOW
     counts = turn[: nwin * _WINDOW].reshape(nwin, _WINDOW).sum(axis=1)
-    return np.nonzero(counts > _MAX_EXTREMA)[0]
+    bad = np.flatnonzero(counts > _MAX_EXTREMA)
+    if yp is not None and x is not None:
+        # (the last, partial window too: pair i lies in window i // _WINDOW)
+        pairs = np.flatnonzero(_inconsistent(x, y, yp)) // _WINDOW
+        if pairs.size:
+            bad = np.union1d(bad, pairs)
+    return bad
+
+
+_TRAPEZOID = 0.5  # f' may disagree with f's differences by this fraction before a resample
+
+
+def _inconsistent(x: np.ndarray, y: np.ndarray, yp: np.ndarray) -> np.ndarray:
+    """Per sample pair (i, i+1): f' contradicts f's difference (aliasing).
+
+    The trapezoid rule on f', h (f'_i + f'_(i+1)) / 2, predicts f_(i+1) - f_i to a relative
+    (h omega)^2 / 12 for an oscillation of angular frequency omega (0.05 at 8 samples per
+    period). An error above half of the change's own scale, |f_(i+1) - f_i| + h (|f'_i| +
+    |f'_(i+1)|) / 2, plus 1e3 eps of |f| for rounding, means f changes faster than the
+    sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
+    non-finite value are left to the other checks.
+    """
+    h = np.diff(x)
+    dy = np.diff(y)
+    avg = 0.5 * h * (yp[:-1] + yp[1:])
+    scale_ = np.abs(dy) + 0.5 * h * (np.abs(yp[:-1]) + np.abs(yp[1:]))
+    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (np.abs(y[:-1]) + np.abs(y[1:]))
+    return np.abs(dy - avg) > allow  # NaN compares False
 
 
 def _sample_grid(
@@ -433,8 +511,15 @@ def _sample_grid(
     level: int,
     progress: Callable[[float], None] | None,
     frac: tuple[float, float],
+    gp: _Guarded | None = None,
 ) -> None:
-    """Sample n equally spaced points on [a, b] in chunks and collect candidates."""
+    """Sample n equally spaced points on [a, b] in chunks and collect candidates.
+
+    With ``gp`` (the derivative check) f' is sampled on the same points (one more
+    vectorised call per chunk): windows where f' contradicts f's differences are
+    resampled like windows with too many extrema, and extrema of f between samples are
+    collected (:func:`_detect_extrema`).
+    """
     h = (b - a) / (n - 1)
     start = 0
     while start < n:
@@ -446,6 +531,7 @@ def _sample_grid(
         if hi_idx == n:
             x[-1] = b
         y = g(x)
+        yp = gp(x) if gp is not None else None
         out.samples += stop - start
         if level == 0:
             finite = np.abs(y[np.isfinite(y)])
@@ -456,7 +542,7 @@ def _sample_grid(
         if stop == n:
             out.last_defined = not bool(np.isnan(y[-1]))
         offset = start - lo_idx
-        windows = _underresolved(y) if level < _MAX_LEVEL else np.zeros(0, dtype=int)
+        windows = _underresolved(y, x, yp) if level < _MAX_LEVEL else np.zeros(0, dtype=int)
         if len(windows):
             # resample under-resolved windows finer; detect outside them on this grid
             spans = []
@@ -472,23 +558,20 @@ def _sample_grid(
                 if w0c >= w1c:
                     continue
                 if cursor < w0c:
-                    _detect(x, y, cursor, w0c, out)
+                    _detect(x, y, cursor, w0c, out, yp)
                 sub_n = (w1c - w0c) * _RESAMPLE + 1
-                _sample_grid(g, float(x[w0c]), float(x[w1c]), sub_n, out, level + 1, None, frac)
+                _sample_grid(g, float(x[w0c]), float(x[w1c]), sub_n, out, level + 1, None, frac,
+                             gp)
                 cursor = w1c
             if cursor < offset + (stop - start):
-                _detect(x, y, cursor, offset + (stop - start), out)
+                _detect(x, y, cursor, offset + (stop - start), out, yp)
         else:
-            _detect(x, y, offset, offset + (stop - start), out)
-            if level == _MAX_LEVEL and _underresolved_any(y):
+            _detect(x, y, offset, offset + (stop - start), out, yp)
+            if level == _MAX_LEVEL and len(_underresolved(y, x, yp)) > 0:
                 out.unresolved.append((float(x[0]), float(x[-1])))
         if progress is not None:
             progress(frac[0] + (frac[1] - frac[0]) * stop / n)
         start = stop
-
-
-def _underresolved_any(y: np.ndarray) -> bool:
-    return len(_underresolved(y)) > 0
 
 
 # ----------------------------------------------------------------------------- classification
@@ -948,7 +1031,7 @@ def scan(
     samples: int | None = None,
     progress: Callable[[float], None] | None = None,
     cancel: Callable[[], bool] | None = None,
-    cross_check: bool = True,
+    cross_check: bool | str = True,
 ) -> Scan:
     """Find every real root of f on [a, b]; report poles, jumps and undefined gaps.
 
@@ -980,12 +1063,34 @@ def scan(
             raise ValueError(f"samples must be an integer >= 3, got {samples!r}")
     # no more samples than there are floats in [a, b] (a range a few ulps wide)
     n = max(3, min(n, int((b - a) / math.ulp(max(abs(a), abs(b)))) // 2 + 1))
+    mode = _check_mode(cross_check, fprime)
     with np.errstate(all="ignore"), _warnings.catch_warnings():
         _warnings.simplefilter("ignore")
-        return _scan(f, a, b, fprime, n, progress, cancel, cross_check)
+        return _scan(f, a, b, fprime, n, progress, cancel, mode)
 
 
-def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
+# cross_check values and the check each one runs
+_MODES = {True: "auto", "auto": "auto", False: "off", "off": "off",
+          "derivative": "derivative", "chebyshev": "chebyshev", "deep": "chebyshev"}
+
+
+def _check_mode(cross_check: object, fprime: object) -> str:
+    """The cross-check a ``cross_check`` value asks for: "off", "derivative" or
+    "chebyshev" ("auto": the derivative check when f' is given, else the proxy)."""
+    try:
+        mode = _MODES[cross_check]  # type: ignore[index]
+    except (KeyError, TypeError):
+        raise ValueError("cross_check must be True, False, 'auto', 'derivative', 'chebyshev' "
+                         f"or 'deep', got {cross_check!r}") from None
+    if mode == "auto":
+        mode = "derivative" if fprime is not None else "chebyshev"
+    if mode == "derivative" and fprime is None:
+        raise ValueError("cross_check='derivative' needs fprime (f' as a vectorised callable)")
+    return mode
+
+
+def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
+    cross_check = mode == "chebyshev"
     g = _Guarded(f, cancel)
     gp = _Guarded(fprime, cancel) if fprime is not None else None
     scale = max(abs(a), abs(b))
@@ -996,7 +1101,16 @@ def _scan(f, a, b, fprime, n, progress, cancel, cross_check, depth=0) -> Scan:
     notes: list[str] = []
     cand = _Candidates()
     g.check()
-    _sample_grid(g, a, b, n, cand, 0, progress, (0.0, 0.8))
+    _sample_grid(g, a, b, n, cand, 0, progress, (0.0, 0.8),
+                 gp if mode != "off" and gp is not None else None)
+    if cand.extrema:
+        # extrema between samples that no sampled minimum of |f| already covers
+        cover = sorted((m[0], m[2]) for m in cand.minima)
+        starts = [u for u, _ in cover]
+        for e in cand.extrema:
+            i = bisect.bisect_right(starts, e[0]) - 1
+            if i < 0 or cover[i][1] < e[2]:
+                cand.minima.append(e)
 
     found: list[_Found] = []
     poles: list[float] = list(cand.inf_points)
@@ -1194,7 +1308,7 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
         budget -= count
         if progress is not None:
             progress(0.9 + 0.09 * k / len(rough))
-        sub = _scan(f, u, v, fprime, max(count, 3), None, cancel, True, depth=1)
+        sub = _scan(f, u, v, fprime, max(count, 3), None, cancel, "chebyshev", depth=1)
         spent += sub.samples
         merged += sub.roots
         poles += sub.poles
