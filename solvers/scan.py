@@ -72,7 +72,16 @@ How a scan works
    +/-1) is reported as a root at the last defined point (multiplicity 1,
    confirmed "domain edge"); one where |f| grows without bound (ln x at 0) is a
    pole; otherwise (arcsin at +/-1) it is only a gap end.
-8. **Cross-check** (``cross_check=True``): the Chebyshev proxy rootfinder of
+8. **Cross-check**, derivative (the default when ``fprime`` is given, see :func:`scan`):
+   f' sampled with f. Between neighbouring samples of one sign of f across which f'
+   changes sign toward zero lies an extremum that may hide two roots; where the secant
+   slope lies between the two f' values (f' monotone there, as the mean value theorem
+   demands) and the tangent lines at both samples meet above zero, f is convex there and
+   cannot reach zero: proved root-free, no evaluation spent. Every other such pair goes
+   to the touch search of step 4 (these extrema replace the sampled minima of |f| where
+   f' is finite). Windows where f' contradicts f's differences are resampled (step 1).
+8a. **Cross-check**, Chebyshev (the default without ``fprime``, or
+   ``cross_check="chebyshev"``): the Chebyshev proxy rootfinder of
    :mod:`solvers.chebyshev` runs independently on the smooth parts. Roots both
    found list ``located_by=("sampling", "chebyshev")``; a proxy root the sampling
    missed is confirmed locally and added (``located_by=("chebyshev",)``) or, when it
@@ -199,7 +208,8 @@ class Scan:
     refined windows). ``cross_checked``: pieces where the Chebyshev proxy ran (f
     smooth there); ``chebyshev_roots``: the real zeros it located. ``noise_bands``:
     stretches where |f| is within its own rounding noise, each reported as one root
-    cluster at its middle (x uncertain by the half-width).
+    cluster at its middle (x uncertain by the half-width). ``check``: the cross-check that
+    ran ("derivative", "chebyshev" or "off"; see :func:`scan`).
     """
 
     a: float
@@ -213,6 +223,7 @@ class Scan:
     cross_checked: list[tuple[float, float]] = field(default_factory=list)
     chebyshev_roots: list[float] = field(default_factory=list)
     noise_bands: list[tuple[float, float]] = field(default_factory=list)
+    check: str = "off"  # the cross-check that ran: "derivative", "chebyshev" or "off"
 
 
 # ----------------------------------------------------------------------------- evaluation
@@ -754,10 +765,12 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
             better[ok] = np.abs(g(xn[ok])) < np.abs(fx[ok])
             x[ir[better]] = xn[better]
             how[ir[better]] = how[ir[better]] + ", Newton polish with f'"
+    ir = np.flatnonzero(root)
+    # (plain Python lists: indexing numpy arrays per root costs more than the roots' records)
     found = [
-        _Found(float(x[i]), True, str(how[i]), bracket=(float(br[i, 0]), float(br[i, 1])),
-               run=functools.partial(_brent_record, g, br[i], xtol))
-        for i in np.flatnonzero(root)
+        _Found(xi, True, hw, bracket=(b0, b1), run=functools.partial(_brent_record, g, row, xtol))
+        for xi, hw, b0, b1, row in zip(x[ir].tolist(), how[ir].tolist(), br[ir, 0].tolist(),
+                                       br[ir, 1].tolist(), br[ir], strict=True)
     ]
     poles: list[float] = []
     jumps: list[float] = []
@@ -1058,8 +1071,31 @@ def scan(
     :class:`ScanCancelled`. Where f is rounding noise, what the noise made of one root
     cluster is reported as that one root (``Scan.noise_bands`` holds the stretches).
 
-    Raises ValueError (one line) for a bad range or sample count; never raises because
-    f misbehaves. See the module docstring for the classification rules.
+    ``cross_check`` picks the second look at what sampling can miss (``Scan.check`` says
+    which ran):
+
+    - ``True`` / ``"auto"`` (default): ``"derivative"`` when ``fprime`` is given, else
+      ``"chebyshev"``.
+    - ``"derivative"`` (needs ``fprime``): f' is sampled on the same grid. Guarantee:
+      wherever f' changes sign at most once between neighbouring samples, every extremum
+      of f between samples that moves toward zero is either proved root-free (f' monotone
+      there by the mean value theorem test, and the tangent lines at both samples meet
+      above zero) or searched, so hidden close pairs and touches are found; grid windows
+      where f's differences disagree with f' (trapezoid rule off by more than half:
+      an oscillation aliased by the sampling) are resampled up to 64x finer, with a
+      warning where that is not enough. Not covered: a feature narrower than a sample
+      spacing that leaves neither f nor f' changed at any sample (a spike between samples).
+    - ``"chebyshev"`` / ``"deep"``: the Chebyshev proxy rootfinder runs independently on
+      the smooth pieces (module docstring, step 8); parts where it finds f not smooth for
+      no known reason are re-scanned with 64x the samples. Also covers a spike between
+      samples wherever the proxy resolves it; costs eigenvalue work (several times the
+      sampling). With ``fprime`` the derivative check runs as well.
+    - ``False`` / ``"off"``: sampling alone (sampled minima of |f| still catch touches and
+      close pairs the sampling shows).
+
+    Raises ValueError (one line) for a bad range, sample count or ``cross_check`` value
+    (``"derivative"`` without ``fprime``); never raises because f misbehaves. See the
+    module docstring for the classification rules.
     """
     a, b = _check_range(a, b)
     if samples is None:
@@ -1286,6 +1322,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
         chebyshev_roots=list(cheb.roots) if cheb else [],
         noise_bands=bands,
+        check=mode,
     )
 
 
@@ -1723,18 +1760,17 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale)
     if flags is not None:
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
-    edge = np.array([r.how.startswith("domain edge") for r in merged])
     return [
         Root(
-            x=float(x[i]),
-            residual=float(res[i]),
-            multiplicity=1 if edge[i] else int(mult[i]),
-            confirmed=merged[i].how,
-            located_by=merged[i].located_by,
-            bracket=merged[i].bracket,
-            run=merged[i].run,
+            x=xi,
+            residual=ri,
+            multiplicity=1 if r.how.startswith("domain edge") else mi,
+            confirmed=r.how,
+            located_by=r.located_by,
+            bracket=r.bracket,
+            run=r.run,
         )
-        for i in range(len(merged))
+        for r, xi, ri, mi in zip(merged, x.tolist(), res.tolist(), mult.tolist(), strict=True)
     ]
 
 
