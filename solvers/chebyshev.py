@@ -17,6 +17,7 @@ scan's job; see :mod:`solvers.scan`.
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -191,6 +192,84 @@ def _zeros(coefficients: list[np.ndarray],
     return out
 
 
+# Degrees up to this are certified by counting (the Chebyshev-to-Bernstein matrix grows
+# as about 2^n / sqrt(n): 1.5e6 at degree 21, 3e9 at 32, so rounding there stays far below
+# the coefficients' signs); higher degrees always go to the eigenvalues.
+_COUNT_DEGREE = 32
+_CERTIFY_STEP = 1e-9  # a known root's sign change is checked at t +/- this ([-1, 1] units)
+
+
+@functools.cache
+def _bernstein(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """The matrix taking Chebyshev coefficients (degree n, on [-1, 1]) to Bernstein
+    coefficients of the same polynomial on [-1, 1], and its entrywise absolute value.
+
+    Entry (j, k) = sum_i (-1)^(k-i) C(2k, 2i) C(n-k, j-i) / C(n, j) (A. Rababah,
+    "Transformation of Chebyshev-Bernstein polynomial basis", Comput. Methods Appl. Math.
+    3 (2003) 608-622), summed in exact integers and rounded once.
+    """
+    m = np.zeros((n + 1, n + 1))
+    for k in range(n + 1):
+        for j in range(n + 1):
+            total = sum((-1) ** (k - i) * math.comb(2 * k, 2 * i) * math.comb(n - k, j - i)
+                        for i in range(max(0, j + k - n), min(j, k) + 1))
+            m[j, k] = total / math.comb(n, j)
+    return m, np.abs(m)
+
+
+def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bool]:
+    """Which proxies provably have exactly the ``known`` zeros (in [-1, 1] units) in and
+    near [-1, 1], so that no eigenvalue problem is needed for them.
+
+    Descartes' rule in the Bernstein basis: the number V of sign variations of the
+    Bernstein coefficients is at least the number of zeros in the Obreshkoff lens over the
+    interval (the region seen from the segment under an angle above pi - pi / (n + 2); it
+    holds every point within about (pi / (2 (n + 2))) times the half-width of the segment,
+    away from its ends) and has V's parity (N. Obreshkoff, 1963; B. Mourrain, F. Rouillier
+    and M.-F. Roy, "The Bernstein basis and real root isolation", MSRI Publications 52
+    (2005); from memory). A proxy is certified when no coefficient's sign is in doubt from
+    rounding, V equals the number of known zeros, and the proxy changes sign across each
+    (at t +/- ``_CERTIFY_STEP``): its zeros in and near the segment are then exactly those,
+    each simple, and no complex pair sits close to the real line there.
+    """
+    out = [False] * len(coefficients)
+    checks: list[tuple[int, np.ndarray]] = []
+    for i, (c, t) in enumerate(zip(coefficients, known, strict=True)):
+        n = len(c) - 1
+        if n < 1 or n > _COUNT_DEGREE:
+            continue
+        m, m_abs = _bernstein(n)
+        bern = m @ c
+        doubt = 2 * (n + 2) * np.finfo(float).eps * (m_abs @ np.abs(c))
+        if np.any(np.abs(bern) <= doubt):
+            continue
+        variations = int(np.count_nonzero(np.signbit(bern[:-1]) != np.signbit(bern[1:])))
+        if variations == len(t):
+            checks.append((i, t))
+    if not checks:
+        return out
+    # the proxies at t -/+ the step around their known zeros, in one evaluation
+    width = max(len(coefficients[i]) for i, _ in checks)
+    table = np.zeros((len(checks), width))
+    for row, (i, _) in enumerate(checks):
+        table[row, : len(coefficients[i])] = coefficients[i]
+    rows = np.concatenate([np.full(len(t), row) for row, (_, t) in enumerate(checks)])
+    ts = np.concatenate([t for _, t in checks])
+    if ts.size:
+        pts = np.clip(np.concatenate([ts - _CERTIFY_STEP, ts + _CERTIFY_STEP]), -1.0, 1.0)
+        basis = np.cos(np.outer(np.arccos(pts), np.arange(width)))
+        values = np.sum(basis * table[np.concatenate([rows, rows])], axis=1)
+        left, right = values[: ts.size], values[ts.size:]
+        flips = (left != 0) & (right != 0) & (np.signbit(left) != np.signbit(right))
+    else:
+        flips = np.zeros(0, dtype=bool)
+    start = 0
+    for i, t in checks:
+        out[i] = bool(flips[start:start + len(t)].all())
+        start += len(t)
+    return out
+
+
 def chebyshev_roots(
     f: Callable[[np.ndarray], np.ndarray],
     a: float,
@@ -202,6 +281,7 @@ def chebyshev_roots(
     cancel: Callable[[], bool] | None = None,
     on_cancel: Callable[[], None] | None = None,
     noise: Callable[[np.ndarray], np.ndarray] | None = None,
+    known: np.ndarray | None = None,
 ) -> ChebyshevRoots:
     """Locate the real zeros of a vectorised f on [a, b] by Chebyshev proxies.
 
@@ -217,7 +297,10 @@ def chebyshev_roots(
     ``on_cancel`` is called (it is expected to raise). ``noise`` (x -> standard deviation
     of f's rounding noise, e.g. :func:`solvers.noise.noise_level`) lets a piece whose
     coefficients fall to the noise floor count as resolved (an expanded polynomial near its
-    roots) instead of being halved down to the depth limit.
+    roots) instead of being halved down to the depth limit. ``known`` (sorted x of simple
+    roots located by other means, e.g. the scan's sampling) lets a piece skip its eigenvalue
+    problem when the proxy provably has exactly those zeros there (:func:`_certify`); its
+    zeros are then reported at those x (each within 1e-9 of the piece's half-width).
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)
     level = np.column_stack([edges[:-1], edges[1:]])
@@ -259,7 +342,20 @@ def chebyshev_roots(
         if cancel is not None and on_cancel is not None and cancel():
             on_cancel()
 
-    zeros = _zeros([c for _, _, c in accepted], poll)
+    coefficients = [c for _, _, c in accepted]
+    certified = [False] * len(accepted)
+    if known is not None and len(accepted):
+        known = np.asarray(known, dtype=float)
+        inner = []
+        for u, v, _ in accepted:
+            lo, hi = np.searchsorted(known, [u, v], side="left")
+            inner.append((known[lo:hi] - 0.5 * (u + v)) / (0.5 * (v - u)))
+        certified = _certify(coefficients, inner)
+    zeros = _zeros([np.zeros(1) if ok else c for ok, c in zip(certified, coefficients,
+                                                                strict=True)], poll)
+    for i, ok in enumerate(certified):
+        if ok:
+            zeros[i] = inner[i].astype(complex)
     # all zeros of all pieces in one array, each with its piece's centre and half-width
     t = np.concatenate(zeros) if zeros else np.zeros(0, dtype=complex)
     counts = [len(z) for z in zeros]

@@ -1276,8 +1276,12 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         g.check()
         if progress is not None:
             progress(0.9)
+        # the simple roots found so far let the proxy skip eigenvalue work where it provably
+        # has exactly those zeros (chebyshev._certify); it still locates everything else
+        simple = np.array(sorted(r.x for r in roots if r.multiplicity == 1), dtype=float)
         cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
-                               on_cancel=g.check, noise=lambda x: _sigma(g, x, scale))
+                               on_cancel=g.check, noise=lambda x: _sigma(g, x, scale),
+                               known=simple)
         before = len(roots)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale,
                              bands)
