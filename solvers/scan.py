@@ -805,15 +805,40 @@ def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
         return None
 
 
+def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
+    """Least value a convex function through the four points lo < c < d < hi can take on
+    [lo, hi] (-inf where the four values are not convex: slopes must not decrease).
+
+    A convex function lies above every chord's extension beyond the chord: on [lo, c] and
+    [d, hi] above the line through c and d, on [c, d] above both the line through lo, c
+    and the one through d, hi (their meeting point, or an end of [c, d]).
+    """
+    with np.errstate(all="ignore"):
+        s1, s2, s3 = (fc - flo) / (c - lo), (fd - fc) / (d - c), (fhi - fd) / (hi - d)
+        convex = (s1 <= s2) & (s2 <= s3)
+        outer = np.minimum(np.minimum(fc + s2 * (lo - c), fc), np.minimum(fd + s2 * (hi - d),
+                                                                          fd))
+        # lines fc + s1 (x - c) and fd + s3 (x - d) meet at x*, clamped to [c, d]
+        xs = np.clip(np.where(s3 > s1, (fd - fc + s1 * c - s3 * d) / (s1 - s3), c), c, d)
+        middle = np.maximum(fc + s1 * (xs - c), fd + s3 * (xs - d))
+        low = np.minimum(outer, middle)
+    return np.where(convex & np.isfinite(low), low, -np.inf)
+
+
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
-            *, peak: bool = False, rel: float = 4 * EPS):
+            *, peak: bool = False, rel: float = 4 * EPS,
+            ends: tuple[np.ndarray, np.ndarray] | None = None,
+            positive: np.ndarray | None = None):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
     opposite sign (then xbest is that point: two roots straddle it). With ``peak`` it
     maximises |f| instead (fbest is then -|f|, and nothing is ever "crossed"); a search
     that meets inf or NaN stops there. It stops when the bracket is no wider than
-    ``rel max(|lo|, |hi|) + xtol``.
+    ``rel max(|lo|, |hi|) + xtol``. With ``ends`` (sign*f at lo and hi) a search also stops
+    once sign*f is convex through the bracket's four points and its convex floor
+    (:func:`_convex_floor`) stays above half the least value found: a positive minimum,
+    marked True in ``positive`` (a bool array of the rows' length, filled in place).
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
@@ -828,13 +853,27 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     fbest = np.minimum(fc, fd)
     crossed = (fbest < 0) if not peak else np.zeros(len(lo), dtype=bool)
     active = ~crossed & np.isfinite(fbest)
+    if ends is not None:
+        flo, fhi = ends[0].astype(float).copy(), ends[1].astype(float).copy()
     for _ in range(120):
         act = np.nonzero(active)[0]
         if len(act) == 0:
             break
         g.check()
+        if ends is not None and positive is not None:
+            floor = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act], fc[act],
+                                  fd[act], fhi[act])
+            sure = floor > 0.5 * fbest[act]
+            if sure.any():
+                positive[act[sure]] = True
+                active[act[sure]] = False
+                act = act[~sure]
+                if act.size == 0:
+                    break
         left = fc[act] <= fd[act]  # minimum in [lo, d]
         il, ir = act[left], act[~left]
+        if ends is not None:
+            fhi[il], flo[ir] = fd[il], fc[ir]
         hi[il], d[il], fd[il] = d[il], c[il], fc[il]
         c[il] = hi[il] - r * (hi[il] - lo[il])
         lo[ir], c[ir], fc[ir] = c[ir], d[ir], fd[ir]
@@ -865,7 +904,8 @@ _SQRT_EPS = math.sqrt(EPS)
 
 
 def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
-                  xtol: float, scale: float):
+                  xtol: float, scale: float,
+                  ends: tuple[np.ndarray, np.ndarray] | None = None):
     """Minimise sign*f on each [lo, hi]: (x, f(x), crossed, touch) per row.
 
     A minimum is only located to about sqrt(eps) relative (f is flat there to the last
@@ -874,11 +914,21 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
     level (:func:`_at_noise`) is a touch; a parabola through the three values whose vertex
     stays above half of f(x) is a positive minimum, no root (x^2 + 1e-20, the troughs of
     a sinusoid). Only the rest, the genuine touches whose f is computed without noise,
-    continue golden section to 4 eps around x before :func:`_at_noise` decides.
+    continue golden section to 4 eps around x before :func:`_at_noise` decides. With
+    ``ends`` (f at lo and hi) a search whose convex floor proves a positive minimum stops
+    early (:func:`_golden`): no root there.
     """
-    xb, fb, crossed = _golden(g, lo, hi, sign, xtol, rel=_SQRT_EPS)
+    positive = np.zeros(len(lo), dtype=bool)
+    xb, fb, crossed = _golden(g, lo, hi, sign, xtol, rel=_SQRT_EPS,
+                              ends=None if ends is None else (sign * ends[0], sign * ends[1]),
+                              positive=positive)
+    sure = np.flatnonzero(positive)
+    if sure.size:
+        # rounding noise is not convex: a floor drawn through values at noise level proves
+        # nothing, and such a minimum goes on as a candidate touch
+        positive[sure[_at_noise(g, xb[sure], fb[sure], xtol, scale)]] = False
     touch = np.zeros(len(xb), dtype=bool)
-    rest = np.flatnonzero(~crossed & np.isfinite(fb))
+    rest = np.flatnonzero(~crossed & np.isfinite(fb) & ~positive)
     if rest.size == 0:
         return xb, fb, crossed, touch
     x, sfb, sg = xb[rest], sign[rest] * fb[rest], sign[rest]
@@ -1176,7 +1226,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     if cand.minima:
         m = np.array(cand.minima)
         sign = np.sign(m[:, 4])
-        xb, fb, crossed, touch = _touch_search(g, m[:, 0], m[:, 2], sign, xtol, scale)
+        xb, fb, crossed, touch = _touch_search(g, m[:, 0], m[:, 2], sign, xtol, scale,
+                                               ends=(m[:, 3], m[:, 5]))
         for i in np.nonzero(crossed)[0]:
             brackets.append((m[i, 0], xb[i], m[i, 3], fb[i]))
             brackets.append((xb[i], m[i, 2], fb[i], m[i, 5]))

@@ -78,8 +78,9 @@ def test_aliased_oscillation_is_resampled_from_fprime():
 def test_troughs_proved_root_free_cost_no_search():
     # 1.001 + cos x on [0, 100]: 16 troughs 1e-3 above zero, none a root (common practice).
     # At the default spacing (0.05) many troughs dip more than 10 % between samples, and
-    # sampling alone searches them; the tangent bound proves each from f and f' at the
-    # samples, so the only f calls left are the sampling and the range-end checks
+    # sampling alone searches them (golden section until a convex floor proves each, then
+    # a noise check); the tangent bound proves each from f and f' at the samples, so the
+    # only f calls left are the sampling and the range-end checks
     calls = []
 
     def f(x):
@@ -91,7 +92,7 @@ def test_troughs_proved_root_free_cost_no_search():
     proved = len(calls)
     calls.clear()
     assert scan(f, 0.0, 100.0, cross_check=False).roots == []
-    assert proved <= 8 < 20 < len(calls)
+    assert proved <= 8 < len(calls)
 
 
 def test_deep_check_with_fprime_runs_the_chebyshev_proxy():
