@@ -1315,14 +1315,24 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         if not any(u <= p <= v for u, v in bands):
             notes.append(f"f oscillates, bounded, ever faster near x = {p:.12g}: a sign "
                          "change there was not resolved into roots (no pole)")
-    for u, v in cand.unresolved:
-        if any(p <= u and v <= q for p, q in bands):
-            continue  # rounding noise, not an oscillation
-        notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
-                     "roots there may be missed: raise samples")
+    unresolved = [(u, v) for u, v in _merge_spans(cand.unresolved)
+                  if not any(p <= u and v <= q for p, q in bands)]  # (noise: no oscillation)
+    extra_samples = 0
+    if mode == "derivative" and depth == 0 and unresolved:
+        # what the sampling could not resolve even 64x finer (f' contradicting f there too)
+        # is re-scanned with 64x the samples, as the Chebyshev check does with rough pieces
+        roots, extra_samples = _resample(f, fprime, unresolved, n, a, b, progress, cancel,
+                                         roots, poles, jumps, notes, scale, mode)
+        poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
+        roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a, b,
+                                                       scale, typical, h)
+        bands = sorted(bands + more)
+    else:
+        for u, v in unresolved:
+            notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
+                         "roots there may be missed: raise samples")
 
     cheb: ChebyshevRoots | None = None
-    extra_samples = 0
     if cross_check:
         g.check()
         if progress is not None:
@@ -1351,8 +1361,9 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
                 continue  # a pole, jump or domain edge inside: not smooth, as expected
             rough.append((u, v))
         if rough and depth == 0:
-            roots, extra_samples = _resample(f, fprime, rough, n, a, b, progress, cancel, roots,
-                                             poles, jumps, notes, scale)
+            roots, spent = _resample(f, fprime, rough, n, a, b, progress, cancel, roots,
+                                     poles, jumps, notes, scale, mode)
+            extra_samples += spent
             # what the finer re-scan made of rounding noise merges like the rest
             poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
             roots, poles, jumps, _, more = _noise_clusters(g, roots, poles, jumps, [], notes, a,
@@ -1385,13 +1396,32 @@ _RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check 
 MAX_ROOTS = 100_000  # sign changes refined by one scan: beyond that, a narrower range is needed
 
 
-def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, notes, scale):
-    """Re-scan, 64x denser, the parts where the proxy found f not smooth for no known reason.
+_RESCAN_WHY = {  # what made a re-scan necessary, by cross-check mode
+    "chebyshev": "cross-check: f not smooth enough for the Chebyshev proxy",
+    "derivative": "f oscillates faster than 64x the sampling (f' contradicts f's differences)",
+}
+
+
+def _merge_spans(spans: list[tuple[float, float]]) -> list[tuple[float, float]]:
+    """Sorted spans with overlapping or touching ones joined."""
+    out: list[tuple[float, float]] = []
+    for u, v in sorted(spans):
+        if out and u <= out[-1][1]:
+            out[-1] = (out[-1][0], max(v, out[-1][1]))
+        else:
+            out.append((u, v))
+    return out
+
+
+def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, notes, scale,
+              mode="chebyshev"):
+    """Re-scan, 64x denser, the parts the cross-check found unresolved for no known reason.
 
     Sampling can alias an oscillation faster than its spacing into a smooth-looking
-    curve; the Chebyshev proxy, refined down to short pieces, does not. Where it gave
-    up, the sampling is repeated at 64x the density (within a budget of
-    ``_RESAMPLE_BUDGET`` samples) and its roots, poles and jumps are merged in.
+    curve; the Chebyshev proxy, refined down to short pieces, does not, and neither does
+    f' (its values contradict f's differences there). Where either gave up, the sampling
+    is repeated at 64x the density (within a budget of ``_RESAMPLE_BUDGET`` samples, with
+    the same cross-check ``mode``) and its roots, poles and jumps are merged in.
     Returns (roots, samples spent); progress moves from 0.9 toward 1 per interval.
     """
     density = 64 * (n - 1) / (b - a)
@@ -1410,7 +1440,7 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
         budget -= count
         if progress is not None:
             progress(0.9 + 0.09 * k / len(rough))
-        sub = _scan(f, u, v, fprime, max(count, 3), None, cancel, "chebyshev", depth=1)
+        sub = _scan(f, u, v, fprime, max(count, 3), None, cancel, mode, depth=1)
         spent += sub.samples
         merged += sub.roots
         poles += sub.poles
@@ -1418,14 +1448,14 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
         notes.extend(sub.warnings)
         done.append((u, v))
     left = [span for span in rough if span not in done]
+    why = _RESCAN_WHY[mode]
     if done:
-        notes.append(f"cross-check: f not smooth enough for the Chebyshev proxy on {len(done)} "
-                     f"interval(s) in [{done[0][0]:.6g}, {done[-1][1]:.6g}]; re-scanned there "
-                     "with 64x the samples")
+        notes.append(f"{why} on {len(done)} interval(s) in [{done[0][0]:.6g}, "
+                     f"{done[-1][1]:.6g}]; re-scanned there with 64x the samples")
     if left:
-        notes.append(f"cross-check: f not smooth enough for the Chebyshev proxy on {len(left)} "
-                     f"interval(s) in [{left[0][0]:.6g}, {left[-1][1]:.6g}], beyond the re-scan "
-                     "budget: roots there rest on sampling alone; raise samples")
+        notes.append(f"{why} on {len(left)} interval(s) in [{left[0][0]:.6g}, "
+                     f"{left[-1][1]:.6g}], beyond the re-scan budget: roots there rest on "
+                     "sampling alone; raise samples")
     merged.sort(key=lambda r: r.x)
     out: list[Root] = []
     for r in merged:

@@ -129,3 +129,14 @@ def test_battery_with_the_derivative_check():
         if any(score.values()):
             bad.append((case["kind"], case["a"], case["b"], score))
     assert bad == []
+
+
+def test_what_64x_finer_sampling_cannot_resolve_is_rescanned():
+    # sin(1/x) on [1e-3, 1]: zeros 1/(n pi), n = 1..318 (common practice; numpy.pi). Near
+    # 1e-3 they are 3e-6 apart, beyond 64x the default density: f' flags those windows, the
+    # stretch is re-scanned with 64x the samples and says so
+    result = scan(lambda x: np.sin(1.0 / x), 1e-3, 1.0, fprime=lambda x: -np.cos(1.0 / x) / x**2)
+    expected = sorted(1.0 / (n * math.pi) for n in range(1, 319))
+    assert len(result.roots) == len(expected)
+    assert np.allclose([r.x for r in result.roots], expected, rtol=1e-12)
+    assert any("re-scanned" in w and "f' contradicts" in w for w in result.warnings)
