@@ -79,7 +79,9 @@ How a scan works
    demands) and the tangent lines at both samples meet above zero, f is convex there and
    cannot reach zero: proved root-free, no evaluation spent. Every other such pair goes
    to the touch search of step 4 (these extrema replace the sampled minima of |f| where
-   f' is finite). Windows where f' contradicts f's differences are resampled (step 1).
+   f' is finite). Windows where f' contradicts f's differences are resampled (step 1);
+   what is still unresolved at 64x is re-scanned with 64x the samples (as in 8a) and a
+   warning says so.
 8a. **Cross-check**, Chebyshev (the default without ``fprime``, or
    ``cross_check="chebyshev"``): the Chebyshev proxy rootfinder of
    :mod:`solvers.chebyshev` runs independently on the smooth parts. Roots both
@@ -1132,8 +1134,8 @@ def scan(
       there by the mean value theorem test, and the tangent lines at both samples meet
       above zero) or searched, so hidden close pairs and touches are found; grid windows
       where f's differences disagree with f' (trapezoid rule off by more than half:
-      an oscillation aliased by the sampling) are resampled up to 64x finer, with a
-      warning where that is not enough. Not covered: a feature narrower than a sample
+      an oscillation aliased by the sampling) are resampled up to 64x finer, and what is
+      still unresolved then is re-scanned with 64x the samples, with a warning. Not covered: a feature narrower than a sample
       spacing that leaves neither f nor f' changed at any sample (a spike between samples).
     - ``"chebyshev"`` / ``"deep"``: the Chebyshev proxy rootfinder runs independently on
       the smooth pieces (module docstring, step 8); parts where it finds f not smooth for
