@@ -1,4 +1,4 @@
-"""solvers.chebyshev: pieces whose proxy provably has exactly the known zeros skip the
+"""solvers.scan.crosscheck: pieces whose proxy provably has exactly the known zeros skip the
 eigenvalue work; anything else (a missed root, a hidden pair, a near touch) still goes to
 the eigenvalues, so the proxy stays an independent second locator."""
 
@@ -9,7 +9,7 @@ import math
 import numpy as np
 import pytest
 
-from solvers.chebyshev import _bernstein, chebyshev_roots
+from solvers.scan.crosscheck import _bernstein, chebyshev_roots
 
 
 def test_bernstein_matrix_reproduces_the_chebyshev_series():
