@@ -140,3 +140,20 @@ def test_what_64x_finer_sampling_cannot_resolve_is_rescanned():
     assert len(result.roots) == len(expected)
     assert np.allclose([r.x for r in result.roots], expected, rtol=1e-12)
     assert any("re-scanned" in w and "f' contradicts" in w for w in result.warnings)
+
+
+def test_poles_are_not_taken_for_an_unresolved_oscillation():
+    # x tan x = 0.9 on [0, 12] (plane-wall conduction eigenvalues, Bi = 0.9; an invented
+    # Biot number). Across each pole of tan, f' contradicts f's differences as it must:
+    # that is the pole, not an oscillation, so no warning and no re-scan. References:
+    # scipy.optimize.brentq on (k pi, k pi + pi / 2), one root each (numpy.pi)
+    from scipy.optimize import brentq
+
+    eq = parse_equation("x*tan(x) = 0.9")
+    result = scan(eq.f, 0.0, 12.0, fprime=eq.fprime)
+    assert result.check == "derivative" and result.warnings == []
+    poles = [(2 * k + 1) * math.pi / 2 for k in range(4)]
+    assert result.poles == pytest.approx(poles, rel=1e-12)
+    refs = [brentq(eq.f, k * math.pi + 1e-9, k * math.pi + math.pi / 2 - 1e-9, xtol=1e-15)
+            for k in range(4)]
+    assert [r.x for r in result.roots] == pytest.approx(refs, rel=1e-12)

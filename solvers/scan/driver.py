@@ -265,8 +265,13 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         if not any(u <= p <= v for u, v in bands):
             notes.append(f"f oscillates, bounded, ever faster near x = {p:.12g}: a sign "
                          "change there was not resolved into roots (no pole)")
+    # windows still unresolved at 64x: not an oscillation where rounding noise made them
+    # (inside a noise band) or where a pole, jump or domain edge inside explains them (f'
+    # contradicts f's differences across a pole of tan x, as it must)
+    singular = sorted(list(poles) + list(jumps) + [e for gap in gaps for e in gap])
     unresolved = [(u, v) for u, v in _merge_spans(cand.unresolved)
-                  if not any(p <= u and v <= q for p, q in bands)]  # (noise: no oscillation)
+                  if not any(p <= u and v <= q for p, q in bands)
+                  and not _holds_any(singular, u, v)]
     extra_samples = 0
     if mode == "derivative" and depth == 0 and unresolved:
         # what the sampling could not resolve even 64x finer (f' contradicting f there too)
@@ -352,6 +357,12 @@ _RESCAN_WHY = {  # what made a re-scan necessary, by cross-check mode
     "chebyshev": "cross-check: f not smooth enough for the Chebyshev proxy",
     "derivative": "f oscillates faster than 64x the sampling (f' contradicts f's differences)",
 }
+
+
+def _holds_any(points: list[float], u: float, v: float) -> bool:
+    """Whether any of the sorted ``points`` lies in [u, v]."""
+    i = bisect.bisect_left(points, u)
+    return i < len(points) and points[i] <= v
 
 
 def _merge_spans(spans: list[tuple[float, float]]) -> list[tuple[float, float]]:
