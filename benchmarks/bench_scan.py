@@ -131,8 +131,8 @@ def compiled_rows() -> dict[str, tuple[float, float, float]]:
     ratios = {}
     for label, text, a, b, repeat in (
         ("cos x cosh x + 1 on [0, 50]", "cos(x)*cosh(x) + 1", 0.0, 50.0, 40),
-        ("20 sinusoids on [0, 200]", _sinusoids_text(), 0.0, 200.0, 10),
-        ("sin(x^2) on [0, 30]", "sin(x^2)", 0.0, 30.0, 10),
+        ("20 sinusoids on [0, 200]", _sinusoids_text(), 0.0, 200.0, 25),
+        ("sin(x^2) on [0, 30]", "sin(x^2)", 0.0, 30.0, 25),
     ):
         eq = parse_equation(text)
         f, fp = eq.f, eq.fprime
