@@ -337,6 +337,8 @@ def _print_solution(solution, *, steps: bool, figures: int | None = None) -> Non
 
 
 def _print_scan(scan, unknown: str) -> None:
+    from app.documents import words
+
     # The range as typed: 15 figures show any typed decimal whole, without a ".0".
     print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {unknown}: {len(scan.roots)} root(s), "
           f"{getattr(scan, 'samples', '?')} samples")
@@ -347,8 +349,8 @@ def _print_scan(scan, unknown: str) -> None:
                 _g(r.x),
                 _g(r.residual, 3),
                 str(r.multiplicity),
-                getattr(r, "confirmed", ""),
-                " + ".join(getattr(r, "located_by", ())),
+                words.confirmed_text(r),
+                words.located_text(r),
             ]
             for i, r in enumerate(scan.roots)
         ]
@@ -359,7 +361,7 @@ def _print_scan(scan, unknown: str) -> None:
         print(f"jump (not a root) at {unknown} = {_g(x)}")
     for a, b in getattr(scan, "gaps", []):
         print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]")
-    for w in getattr(scan, "warnings", []):
+    for w in words.scan_warnings(scan):
         print(f"warning: {w}")
     print(f"\n{caution()}")
 

@@ -26,7 +26,14 @@ from datetime import datetime, timezone
 from typing import IO, Any
 
 from app.documents.files import write_atomic
-from app.documents.words import CAUTION, run_message, start_notes
+from app.documents.words import (
+    CAUTION,
+    confirmed_text,
+    located_text,
+    run_message,
+    scan_warnings,
+    start_notes,
+)
 from solvers.result import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
@@ -116,7 +123,7 @@ def root_rows(scan: Any) -> list[list[str]]:
     for r in scan.roots:
         rows.append(
             ["root", number(r.x), number(r.residual), str(r.multiplicity),
-             getattr(r, "confirmed", ""), " + ".join(getattr(r, "located_by", ()))]
+             confirmed_text(r), located_text(r)]
         )
     for x in scan.poles:
         rows.append(["pole", number(x), "", "", "", ""])
@@ -173,7 +180,7 @@ def roots_csv(
     gaps = getattr(scan, "gaps", [])
     if gaps:
         extra["undefined"] = "; ".join(f"[{number(a)} {number(b)}]" for a, b in gaps)
-    warnings = getattr(scan, "warnings", [])
+    warnings = scan_warnings(scan)
     if warnings:
         extra["warnings"] = " | ".join(warnings)
     _write_table(buffer, {**meta, **extra}, ROOT_COLUMNS, root_rows(scan))
@@ -210,6 +217,12 @@ def run_json(run: Run) -> dict[str, Any]:
     return data
 
 
+def _detail_json(detail: Any) -> dict[str, Any]:
+    data = detail.as_dict()
+    data["values"] = [_json_float(v) if isinstance(v, float) else v for v in data["values"]]
+    return data
+
+
 def scan_json(scan: Any) -> dict[str, Any]:
     return {
         "from": _json_float(getattr(scan, "a", None)),
@@ -219,7 +232,8 @@ def scan_json(scan: Any) -> dict[str, Any]:
                 "x": _json_float(r.x),
                 "residual": _json_float(r.residual),
                 "multiplicity": r.multiplicity,
-                "confirmed": getattr(r, "confirmed", ""),
+                "confirmed": confirmed_text(r),  # in words, for people reading the file
+                "confirmed_codes": list(getattr(r, "confirmed", ())),
                 "located_by": list(getattr(r, "located_by", ())),
             }
             for r in scan.roots
@@ -227,7 +241,8 @@ def scan_json(scan: Any) -> dict[str, Any]:
         "poles": [_json_float(x) for x in scan.poles],
         "discontinuities": [_json_float(x) for x in getattr(scan, "discontinuities", [])],
         "gaps": [[_json_float(a), _json_float(b)] for a, b in getattr(scan, "gaps", [])],
-        "warnings": list(getattr(scan, "warnings", [])),
+        "warnings": scan_warnings(scan),  # in words; the same as codes and values below
+        "details": [_detail_json(d) for d in getattr(scan, "details", ())],
         "samples": int(scan.samples) if getattr(scan, "samples", None) is not None else None,
     }
 

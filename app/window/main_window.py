@@ -34,7 +34,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.documents import figures, worksheet
+from app.documents import figures, words, worksheet
 from app.documents.worksheet import Parameter, Selection, Settings, Worksheet, WorksheetError
 from app.window.canvas import PlotPanel
 from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextDialog
@@ -671,7 +671,7 @@ class MainWindow(QMainWindow):
             scan = self.scan_result
             x = root.x
             reason = (f"root {i + 1} of {len(scan.roots)} found by the scan of "
-                      f"[{_num(scan.a)}, {_num(scan.b)}] ({getattr(root, 'confirmed', '')})")
+                      f"[{_num(scan.a)}, {_num(scan.b)}] ({words.confirmed_text(root)})")
         elif self.solution is not None and self.solution.converged_runs and \
                 self._solve_key == self._key(self.solve_worksheet()):
             run = self.solution.converged_runs[0]
@@ -1137,7 +1137,7 @@ def scan_summary(scan: Any, unknown: str) -> str:
     if gaps:
         parts.append(f"undefined on {len(gaps)} stretch{'es' if len(gaps) != 1 else ''}")
     text = "; ".join(parts) + "."
-    warnings = list(getattr(scan, "warnings", []) or [])
+    warnings = words.scan_warnings(scan)
     if warnings:
         text += "\n⚠ " + "\n⚠ ".join(warnings[:3])
     return text

@@ -151,9 +151,9 @@ class RootsModel(_RecordModel):
         Column("x", lambda r: r.x, "root"),
         Column("residual", lambda r: r.residual, "f at the root"),
         Column("mult.", lambda r: r.multiplicity, "multiplicity (2 = double root)"),
-        Column("confirmed", lambda r: getattr(r, "confirmed", ""),
+        Column("confirmed", words.confirmed_text,
                "how the scan confirmed the root"),
-        Column("located by", lambda r: " + ".join(getattr(r, "located_by", ()) or ()),
+        Column("located by", words.located_text,
                "what located the root"),
     )
 

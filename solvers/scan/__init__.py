@@ -63,15 +63,16 @@ How a scan works
    are examined: where |f| stays within 8 standard deviations of f's own rounding
    noise (estimated from f itself, :func:`solvers.scan.noise.noise_level`) on a stretch
    that overlaps several of them, they are one root cluster, reported once at the
-   middle of the stretch with ``confirmed`` stating the stretch and the uncertainty,
+   middle of the stretch with ``confirmed=("noise_cluster",)`` and ``Root.detail``
+   holding the stretch and the uncertainty,
    the multiplicity the slope of log|f| just outside supports (odd across a sign
    change), and the stretch in ``Scan.noise_bands``. A "noise level" above 1e-3 of
    f's typical sampled size is f itself, not rounding, and is never used.
 7. **Domains**: runs of undefined samples are **gaps**; their edges are located
    by bisection. A domain edge where f tends to 0 (sqrt(x) at 0, sqrt(1 - x^2) at
    +/-1) is reported as a root at the last defined point (multiplicity 1,
-   confirmed "domain edge"); one where |f| grows without bound (ln x at 0) is a
-   pole; otherwise (arcsin at +/-1) it is only a gap end.
+   confirmed ``("domain_edge_zero",)`` or ``("domain_edge_limit",)``); one where |f|
+   grows without bound (ln x at 0) is a pole; otherwise (arcsin at +/-1) it is only a gap end.
 8. **Cross-check**, derivative (the default when ``fprime`` is given, see :func:`scan`):
    f' sampled with f. Between neighbouring samples of one sign of f across which f'
    changes sign toward zero lies an extremum that may hide two roots; where the secant
@@ -87,7 +88,7 @@ How a scan works
    :mod:`solvers.scan.crosscheck` runs independently on the smooth parts. Roots both
    found list ``located_by=("sampling", "chebyshev")``; a proxy root the sampling
    missed is confirmed locally and added (``located_by=("chebyshev",)``) or, when it
-   cannot be confirmed, reported in ``warnings``, as is a sampled root on a smooth
+   cannot be confirmed, reported in ``details``, as is a sampled root on a smooth
    piece the proxy did not see. Roots closer than 1e-4 of a piece's width are matched
    as one cluster (the proxy cannot separate them reliably): the cluster counts as
    located when the proxy has zeros within eps^(1/m) of it, m the cluster's total
@@ -104,6 +105,11 @@ within about that much work wherever the scan is.
 f must take and return numpy arrays. It may return NaN/inf where it is undefined;
 if it raises, the points are treated as undefined (evaluated one by one so the
 defined ones survive). Floating-point warnings are suppressed during the scan.
+
+The scan records codes and numbers, never sentences: ``Root.confirmed`` holds codes of
+:data:`~solvers.scan.records.CONFIRMED_CODES`, ``Scan.details`` holds
+:class:`~solvers.result.Detail` records with codes of
+:data:`~solvers.scan.records.SCAN_DETAIL_CODES`; :mod:`app.documents.words` words them.
 
 Modules: :mod:`~solvers.scan.records` (what a scan returns), :mod:`~solvers.scan.sampling`
 (step 1), :mod:`~solvers.scan.kernels` (steps 2-3 and the searches), :mod:`~solvers.scan.features`

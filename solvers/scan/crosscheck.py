@@ -25,6 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from solvers.result import Detail
 from solvers.scan.features import _finish, _touch
 from solvers.scan.kernels import _golden, _resolve_brackets
 from solvers.scan.noise import _at_noise
@@ -429,8 +430,7 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
         g.check()
         confirmed = _confirm_near(g, gp, x, h, xtol, scale)
         if not confirmed:
-            notes.append(f"cross-check: the Chebyshev proxy has a zero near x = {x:.12g} "
-                         f"(|f| = {abs(g.scalar(x)):.3g}) that the scan could not confirm")
+            notes.append(Detail("proxy_unconfirmed", (float(x), abs(float(g.scalar(x))))))
         for conf in confirmed:
             known = [r.x for r in out] + [r.x for r in added]
             if all(abs(conf.x - k) > 1e3 * EPS * max(abs(k), 1e-3 * scale) for k in known):
@@ -438,12 +438,11 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     if added:
         new = _finish(g, added, poles, jumps, gaps, h, scale)
         out = sorted(out + new, key=lambda r: r.x)
-        notes.append(f"cross-check: {len(new)} root(s) located only by the Chebyshev proxy and "
-                     "then confirmed: " + ", ".join(f"{r.x:.12g}" for r in new))
+        notes.append(Detail("proxy_only_roots", tuple(float(r.x) for r in new)))
     return out
 
 
-def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[str]):
+def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[Detail]):
     """Mark the sampled roots (sorted, at least one) the proxy also located.
 
     Roots closer than 1e-4 of their piece's width form one cluster (a near-double pair
@@ -507,8 +506,7 @@ def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[str]):
         else:
             p = cheb.pieces[cpiece[k]]
             out.append(r)
-            notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by "
-                         f"the Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
+            notes.append(Detail("sampling_only_root", (float(r.x), float(p.a), float(p.b))))
     return out, near, used
 
 
@@ -520,7 +518,7 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
         y = g(pts)
         cand = _Candidates()
         _detect(pts, y, 0, len(pts), cand)
-        found = [_Found(xz, bool(odd), "f exactly zero (near a Chebyshev proxy root)",
+        found = [_Found(xz, bool(odd), ("zero_near_proxy",),
                         located_by=("chebyshev",)) for xz, odd, *_ in cand.zeros]
         brackets = list(cand.brackets)
         if cand.minima:

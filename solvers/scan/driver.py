@@ -11,6 +11,7 @@ from collections.abc import Callable
 
 import numpy as np
 
+from solvers.result import Detail
 from solvers.scan.crosscheck import ChebyshevRoots, _cross_check, chebyshev_roots
 from solvers.scan.features import (
     _beside_poles,
@@ -144,7 +145,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     # wide range (up to 1e300) does not blur a root of order one into zero
     xtol = 1e-3 * EPS * min(scale, 1.0)
     h = (b - a) / (n - 1)
-    notes: list[str] = []
+    notes: list[Detail] = []
     cand = _Candidates()
     g.check()
     _sample_grid(g, a, b, n, cand, 0, progress, (0.0, 0.8),
@@ -222,8 +223,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         brackets.sort()
         cut = brackets[MAX_ROOTS][0]
         brackets = brackets[:MAX_ROOTS]
-        notes.append(f"more than {MAX_ROOTS} sign changes in [{a:.6g}, {b:.6g}]: roots refined "
-                     f"only up to x = {cut:.6g}; scan a narrower range for the rest")
+        notes.append(Detail("many_sign_changes", (MAX_ROOTS, float(a), float(b), float(cut))))
     if brackets:
         br = np.array(brackets, dtype=float)
         roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol)
@@ -237,8 +237,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
             bounded += [float(p) for p in ph[~real]]
         jumps += jumps_here
         for i in undefined:
-            notes.append(f"f undefined somewhere inside [{br[i, 0]:.6g}, {br[i, 1]:.6g}] "
-                         "between two samples of opposite sign")
+            notes.append(Detail("undefined_inside", (float(br[i, 0]), float(br[i, 1]))))
     gaps, edge_roots, edge_poles = _domains(g, cand, a, b, h, xtol, scale)
     found.extend(edge_roots)
     poles.extend(edge_poles)
@@ -259,12 +258,10 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
                                                        b, scale, typical, h, unsure)
     for u, v in runs:
-        notes.append(f"f is exactly zero at consecutive samples in [{u:.6g}, {v:.6g}]; "
-                     "not counted as isolated roots")
+        notes.append(Detail("zero_run", (float(u), float(v))))
     for p in bounded:
         if not any(u <= p <= v for u, v in bands):
-            notes.append(f"f oscillates, bounded, ever faster near x = {p:.12g}: a sign "
-                         "change there was not resolved into roots (no pole)")
+            notes.append(Detail("bounded_oscillation", (float(p),)))
     # windows still unresolved at 64x: not an oscillation where rounding noise made them
     # (inside a noise band) or where a pole, jump or domain edge inside explains them (f'
     # contradicts f's differences across a pole of tan x, as it must)
@@ -284,8 +281,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         bands = sorted(bands + more)
     else:
         for u, v in unresolved:
-            notes.append(f"f oscillates faster than 64x the sampling on [{u:.6g}, {v:.6g}]; "
-                         "roots there may be missed: raise samples")
+            notes.append(Detail("fast_oscillation", (float(u), float(v))))
 
     cheb: ChebyshevRoots | None = None
     if cross_check:
@@ -325,10 +321,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
                                                            b, scale, typical, h)
             bands = sorted(bands + more)
         elif rough:
-            notes.append(f"cross-check: f is not smooth enough for the Chebyshev proxy on "
-                         f"{len(rough)} interval(s) in [{rough[0][0]:.6g}, {rough[-1][1]:.6g}] "
-                         "that no pole, jump or gap explains (rough f, or oscillation faster "
-                         "than the sampling): roots there rest on sampling alone")
+            notes.append(Detail("proxy_rough", (len(rough), float(rough[0][0]),
+                                                float(rough[-1][1]))))
     if progress is not None:
         progress(1.0)
     return Scan(
@@ -338,7 +332,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         poles=sorted(_dedupe_points(poles, scale)),
         discontinuities=sorted(_dedupe_points(jumps, scale)),
         gaps=gaps,
-        warnings=notes,
+        details=tuple(notes),
         samples=cand.samples + extra_samples,
         cross_checked=[(p.a, p.b) for p in cheb.pieces] if cheb else [],
         chebyshev_roots=list(cheb.roots) if cheb else [],
@@ -351,12 +345,6 @@ _RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check 
 
 
 MAX_ROOTS = 100_000  # sign changes refined by one scan: beyond that, a narrower range is needed
-
-
-_RESCAN_WHY = {  # what made a re-scan necessary, by cross-check mode
-    "chebyshev": "cross-check: f not smooth enough for the Chebyshev proxy",
-    "derivative": "f oscillates faster than 64x the sampling (f' contradicts f's differences)",
-}
 
 
 def _holds_any(points: list[float], u: float, v: float) -> bool:
@@ -408,17 +396,15 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
         merged += sub.roots
         poles += sub.poles
         jumps += sub.discontinuities
-        notes.extend(sub.warnings)
+        notes.extend(sub.details)
         done.append((u, v))
     left = [span for span in rough if span not in done]
-    why = _RESCAN_WHY[mode]
     if done:
-        notes.append(f"{why} on {len(done)} interval(s) in [{done[0][0]:.6g}, "
-                     f"{done[-1][1]:.6g}]; re-scanned there with 64x the samples")
+        notes.append(Detail("rescanned", (mode, len(done), float(done[0][0]),
+                                          float(done[-1][1]))))
     if left:
-        notes.append(f"{why} on {len(left)} interval(s) in [{left[0][0]:.6g}, "
-                     f"{left[-1][1]:.6g}], beyond the re-scan budget: roots there rest on "
-                     "sampling alone; raise samples")
+        notes.append(Detail("rescan_budget", (mode, len(left), float(left[0][0]),
+                                              float(left[-1][1]))))
     merged.sort(key=lambda r: r.x)
     out: list[Root] = []
     for r in merged:

@@ -9,9 +9,10 @@ import math
 
 import numpy as np
 
+from solvers.result import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
 from solvers.scan.noise import _at_noise, _noise
-from solvers.scan.records import EPS, Root, _Found
+from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found
 from solvers.scan.sampling import _Guarded
 
 
@@ -137,7 +138,7 @@ def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[
     for i in range(len(z)):
         usable = math.isfinite(fl[i]) and math.isfinite(fr[i]) and fl[i] != 0 and fr[i] != 0
         odd = ((fl[i] < 0) != (fr[i] < 0)) if usable else bool(z[i, 1])
-        found.append(_Found(float(x0[i]), odd, "f exactly zero at a sample"))
+        found.append(_Found(float(x0[i]), odd, ("zero_at_sample",)))
         for xa, fa, xb, fb in ((z[i, 2], z[i, 4], x0[i] - d[i], fl[i]),
                                (x0[i] + d[i], fr[i], z[i, 3], z[i, 5])):
             if (xa < xb and math.isfinite(fa) and math.isfinite(fb) and fa != 0 and fb != 0
@@ -162,7 +163,7 @@ def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
     its interpolation uses only ratios of f' values, so it is scale-free (f' of x^8 near 0
     underflows gracefully instead of dividing by zero).
     """
-    how = "touch: |f| minimum (golden section) at noise level"
+    how = ("touch_golden",)
     if gp is not None:
         dl, dr = gp.scalar(lo), gp.scalar(hi)
         if math.isfinite(dl) and math.isfinite(dr) and dl != 0 and dr != 0 and (dl < 0) != (dr < 0):
@@ -171,9 +172,9 @@ def _touch(g, gp, lo, hi, xm, xtol) -> _Found:
             xr = float(blo[0] if abs(bflo[0]) <= abs(bfhi[0]) else bhi[0])
             level = max(abs(g.scalar(xm)), 16 * float(_noise(g, np.array([xr]), EPS)[0]))
             if done[0] and lo <= xr <= hi and abs(g.scalar(xr)) <= level:
-                return _Found(xr, False, "touch: f' sign change, bracketing on f'; |f| at noise "
-                              "level", run=functools.partial(_safe_brent, gp.scalar, float(lo),
-                                                             float(hi), xtol))
+                return _Found(xr, False, ("touch_fprime",),
+                              run=functools.partial(_safe_brent, gp.scalar, float(lo),
+                                                    float(hi), xtol))
     return _Found(xm, False, how)
 
 
@@ -195,7 +196,7 @@ def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
                 # x^2 at 0 is a touch (even), sin x at 0 a crossing (odd)
                 fo = g.scalar(2 * end - inner)
                 odd = not (math.isfinite(fo) and fo != 0) or (fo < 0) != (fi < 0)
-                out.append(_Found(end, odd, "f exactly zero at the range end"))
+                out.append(_Found(end, odd, ("zero_at_range_end",)))
             continue
         if fi == 0 or (fe < 0) != (fi < 0) or abs(fe) >= abs(fi):
             continue
@@ -208,10 +209,9 @@ def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
             brackets.append((float(xb[0]), float(hi), *((fx, fi) if side > 0 else (fx, fe))))
             continue
         if _at_noise(g, np.array([end]), np.array([fe]), xtol, scale)[0]:
-            out.append(_Found(end, True, "range end: |f| at noise level"))
+            out.append(_Found(end, True, ("range_end_noise",)))
         elif _at_noise(g, xb, fb, xtol, scale)[0]:
-            out.append(_Found(float(xb[0]), False, "touch: |f| minimum (golden section) at noise "
-                              "level"))
+            out.append(_Found(float(xb[0]), False, ("touch_golden",)))
     return out
 
 
@@ -253,7 +253,7 @@ def _domains(g, cand, a, b, h, xtol, scale):
             poles.append(float(dfd[i]))
             continue
         if fd[i] == 0:
-            roots.append(_Found(float(dfd[i]), True, "domain edge: f = 0 at the last defined point",
+            roots.append(_Found(float(dfd[i]), True, ("domain_edge_zero",),
                                 located_by=("sampling",)))
             continue
         if len(seq) < 4:
@@ -262,7 +262,7 @@ def _domains(g, cand, a, b, h, xtol, scale):
         rising = np.all(np.diff(seq[-10:]) >= 0)
         if falling and abs(fd[i]) <= 1e-3 * seq[0]:
             roots.append(_Found(float(dfd[i]), True,
-                                "domain edge: f -> 0 at the last defined point"))
+                                ("domain_edge_limit",)))
         elif rising and abs(fd[i]) >= 2 * seq[0]:
             poles.append(float(dfd[i]))
     # assemble gaps from edges in order
@@ -282,7 +282,7 @@ def _domains(g, cand, a, b, h, xtol, scale):
 
 
 def _beside_poles(g: _Guarded, gp, poles: list[float], a: float, b: float, h: float,
-                  xtol: float, notes: list[str]) -> list[_Found]:
+                  xtol: float, notes: list[Detail]) -> list[_Found]:
     """Roots between a pole and its neighbouring samples, where no sample pair brackets them.
 
     f runs from +-inf at the pole to the value at the next sample; a root 1e-4 of a sample
@@ -313,9 +313,8 @@ def _beside_poles(g: _Guarded, gp, poles: list[float], a: float, b: float, h: fl
             ay = np.abs(y)  # ordered from far to near: |f| should rise toward the pole
             dips = np.flatnonzero((ay[1:-1] < ay[:-2]) & (ay[1:-1] < ay[2:]))
             if not flips.size and dips.size and ay[dips + 1].min() < 1e-3 * ay.max():
-                notes.append(f"beside the pole at x = {pv[i]:.12g}, |f| dips to "
-                             f"{ay[dips + 1].min():.3g} within {float(abs(x[0] - pv[i])):.3g} "
-                             "without a sign change: a pair of roots may hide there")
+                notes.append(Detail("pole_dip", (float(pv[i]), float(ay[dips + 1].min()),
+                                                 float(abs(x[0] - pv[i])))))
     if not brackets:
         return []
     return _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]
@@ -424,7 +423,7 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
         Root(
             x=xi,
             residual=ri,
-            multiplicity=1 if r.how.startswith("domain edge") else mi,
+            multiplicity=1 if DOMAIN_EDGE_CODES.intersection(r.how) else mi,
             confirmed=r.how,
             located_by=r.located_by,
             bracket=r.bracket,

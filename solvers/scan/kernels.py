@@ -172,8 +172,8 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
     root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
     x = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
-    how = np.full(len(br), "sign change, Anderson-Bjorck bracketing", dtype=object)
-    how[root & (lo == hi)] = "sign change; f exactly zero at an iterate"
+    how: list[tuple[str, ...]] = [("zero_at_iterate",) if z else ("anderson_bjorck",)
+                                  for z in (root & (lo == hi)).tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
         xr = x[ir]
@@ -186,12 +186,14 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
             better = np.zeros(len(ir), dtype=bool)
             better[ok] = np.abs(g(xn[ok])) < np.abs(fx[ok])
             x[ir[better]] = xn[better]
-            how[ir[better]] = how[ir[better]] + ", Newton polish with f'"
+            for i in ir[better].tolist():
+                how[i] = how[i] + ("newton_polish",)
     ir = np.flatnonzero(root)
     # (plain Python lists: indexing numpy arrays per root costs more than the roots' records)
     found = [
         _Found(xi, True, hw, bracket=(b0, b1), run=functools.partial(_brent_record, g, row, xtol))
-        for xi, hw, b0, b1, row in zip(x[ir].tolist(), how[ir].tolist(), br[ir, 0].tolist(),
+        for xi, hw, b0, b1, row in zip(x[ir].tolist(), [how[i] for i in ir.tolist()],
+                                       br[ir, 0].tolist(),
                                        br[ir, 1].tolist(), br[ir], strict=True)
     ]
     poles: list[float] = []
@@ -373,8 +375,7 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
     """Brent from the narrowed bracket, then a Newton step with f' if it helps."""
     bracket = (float(row[0]), float(row[1]))
     if lo == hi:
-        return _Found(float(lo), True, "sign change; f exactly zero at a bisection point",
-                      bracket=bracket)
+        return _Found(float(lo), True, ("zero_at_bisection",), bracket=bracket)
     known = {float(lo): float(flo), float(hi): float(fhi)}
 
     def f_known(x: float) -> float:  # the bracket ends were evaluated while classifying
@@ -387,17 +388,17 @@ def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
     except ArithmeticError:  # (the scan never fails because an interpolation divided badly)
         run = None
     x = float(run.root) if run is not None else math.nan
-    how = "sign change, Brent" + ("" if run is None or run.converged
-                                  else f" (stopped: {run.reason})")
+    how: tuple[str, ...] = ("brent",) + (() if run is None or run.converged
+                                         else ("brent_stopped",))
     if not (lo <= x <= hi) or not math.isfinite(x):
         x = float(lo if abs(flo) <= abs(fhi) else hi)
-        how = "sign change, bisection (Brent left the bracket)"
+        how = ("brent_left",)
     if gp is not None:
         fx, dfx = g.scalar(x), gp.scalar(x)
         if math.isfinite(dfx) and dfx != 0 and math.isfinite(fx) and fx != 0:
             xn = x - fx / dfx
             if lo <= xn <= hi and abs(g.scalar(xn)) < abs(fx):
-                x, how = xn, how + ", Newton polish with f'"
+                x, how = xn, how + ("newton_polish",)
     return _Found(x, True, how, bracket=bracket, run=run)
 
 

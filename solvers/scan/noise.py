@@ -30,6 +30,7 @@ from collections.abc import Callable
 
 import numpy as np
 
+from solvers.result import Detail
 from solvers.scan.records import EPS, Root
 from solvers.scan.sampling import _Guarded
 
@@ -269,7 +270,7 @@ def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.nd
 
 
 def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
-                    runs: list[list[float]], notes: list[str], a: float, b: float,
+                    runs: list[list[float]], notes: list[Detail], a: float, b: float,
                     scale: float, typical: float, h: float, unsure: np.ndarray | None = None):
     """Merge what rounding noise made of one root cluster into one root.
 
@@ -365,19 +366,15 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
         located = tuple(dict.fromkeys(t for r in member_roots for t in r.located_by)) or (
             "sampling",)
         inside = len(mem) - 1
-        how = (f"root cluster within rounding noise: |f| <= {lev[k]:.3g} (its evaluation noise) "
-               f"on [{u:.12g}, {v:.12g}]; x uncertain by +/-{w[k]:.3g}; multiplicity from the "
-               "slope of log|f| outside")
         new_roots.append(Root(
             x=float(c[k]), residual=float(residual[k]), multiplicity=int(mult[k]),
-            confirmed=how, located_by=located,
+            confirmed=("noise_cluster",), located_by=located,
             bracket=carrier.bracket if carrier is not None and odd[k] else None,
-            run=Root.__dict__["run"].raw(carrier) if carrier is not None and odd[k] else None))
+            run=Root.__dict__["run"].raw(carrier) if carrier is not None and odd[k] else None,
+            detail=Detail("noise_cluster", (float(lev[k]), float(u), float(v), float(w[k])))))
         bands.append((u, v))
-        notes.append(f"f is rounding noise on [{u:.12g}, {v:.12g}] (|f| <= {lev[k]:.3g}): one "
-                     f"root cluster reported at x = {c[k]:.12g} +/- {w[k]:.3g}, multiplicity "
-                     f"{int(mult[k])}" + (f"; {inside} more sign change(s), touch(es), pole(s) "
-                                           "or jump(s) inside were noise" if inside else ""))
+        notes.append(Detail("noise_band", (float(u), float(v), float(lev[k]), float(c[k]),
+                                           float(w[k]), int(mult[k]), int(inside))))
     keep = [i for i in range(len(x)) if i not in drop]
     out_roots = sorted([roots[i] for i in keep if kind[i] == 0] + new_roots, key=lambda r: r.x)
     out_poles = [poles[i - len(roots)] for i in keep if kind[i] == 1]

@@ -8,9 +8,50 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from solvers.result import Run
+from solvers.result import Detail, Run
 
 EPS = float(np.finfo(float).eps)
+
+# Codes of ``Root.confirmed`` (how a root was confirmed), in the order they combine: a
+# first code says how the root was found, later ones what refined it. Their words live
+# in app.documents.words (CONFIRMED_WORDS); the core records codes, never sentences.
+CONFIRMED_CODES: tuple[str, ...] = (
+    "anderson_bjorck",     # sign change, vectorised Anderson-Bjorck bracketing
+    "zero_at_iterate",     # sign change; f exactly zero at a bracketing iterate
+    "zero_at_bisection",   # sign change; f exactly zero at a bisection point
+    "brent",               # sign change, the project's Brent on the narrowed bracket
+    "brent_stopped",       # ... which stopped unconverged (its reason: Root.run.reason)
+    "brent_left",          # sign change, bisection: Brent left the bracket
+    "newton_polish",       # then one Newton step with f' that lowered |f|
+    "touch_golden",        # touch: |f| minimum by golden section, at noise level
+    "touch_fprime",        # touch: f' sign change bracketed; |f| at noise level
+    "zero_at_sample",      # f exactly zero at a sample
+    "zero_at_range_end",   # f exactly zero at the range end
+    "range_end_noise",     # range end: |f| at noise level
+    "domain_edge_zero",    # domain edge: f = 0 at the last defined point
+    "domain_edge_limit",   # domain edge: f -> 0 at the last defined point
+    "zero_near_proxy",     # f exactly zero near a Chebyshev proxy root
+    "noise_cluster",       # root cluster within rounding noise (numbers: Root.detail)
+)
+DOMAIN_EDGE_CODES = frozenset({"domain_edge_zero", "domain_edge_limit"})
+
+# Codes of ``Scan.details`` (what a checker should know about a scan), with the values
+# each carries (x values in the unknown's units, |f| in f's units, counts):
+SCAN_DETAIL_CODES: dict[str, str] = {
+    "many_sign_changes": "max_roots, a, b, x where refining stopped",
+    "undefined_inside": "lo, hi: f undefined between two samples of opposite sign",
+    "zero_run": "lo, hi: f exactly zero at consecutive samples",
+    "bounded_oscillation": "x: bounded ever-faster oscillation, no pole",
+    "fast_oscillation": "lo, hi: oscillation faster than 64x the sampling",
+    "proxy_rough": "count, lo, hi: pieces not smooth for the Chebyshev proxy, unexplained",
+    "rescanned": "mode, count, lo, hi: re-scanned with 64x the samples",
+    "rescan_budget": "mode, count, lo, hi: beyond the re-scan budget",
+    "proxy_unconfirmed": "x, |f|: a proxy zero the scan could not confirm",
+    "proxy_only_roots": "x...: roots located only by the proxy, then confirmed",
+    "sampling_only_root": "x, lo, hi: root not seen by the proxy on its piece [lo, hi]",
+    "pole_dip": "pole x, least |f|, within distance: a pair of roots may hide",
+    "noise_band": "lo, hi, |f| level, centre, half-width, multiplicity, findings inside",
+}
 
 
 class ScanCancelled(Exception):
@@ -49,8 +90,10 @@ class _OnDemandRun:
 
 @dataclass(frozen=True)
 class Root:
-    """One root of f. ``residual`` is f(x). ``confirmed`` says how it was confirmed,
-    ``located_by`` which locator(s) found it ("sampling", "chebyshev"). ``bracket`` is the
+    """One root of f. ``residual`` is f(x). ``confirmed`` says how it was confirmed (codes
+    of :data:`CONFIRMED_CODES`; ``detail`` carries the numbers a code refers to, the noise
+    stretch of a root cluster), ``located_by`` which locator(s) found it ("sampling",
+    "chebyshev"). ``bracket`` is the
     sign-change bracket between samples (None for touches and edges); ``run`` is the
     project's Brent (:func:`solvers.methods.brent`) on that bracket, built when first
     read (or Brent on f' for a touch), None when no Brent run belongs to the root."""
@@ -58,16 +101,17 @@ class Root:
     x: float
     residual: float
     multiplicity: int = 1
-    confirmed: str = ""
+    confirmed: tuple[str, ...] = ()
     located_by: tuple[str, ...] = ("sampling",)
     bracket: tuple[float, float] | None = None
     run: Run | None = _OnDemandRun()  # type: ignore[assignment]
+    detail: Detail | None = None
 
 
 def _relabel(r: Root, located_by: tuple[str, ...]) -> Root:
     """r with another ``located_by``, its on-demand Brent run left unbuilt."""
     return Root(r.x, r.residual, r.multiplicity, r.confirmed, located_by, r.bracket,
-                Root.__dict__["run"].raw(r))
+                Root.__dict__["run"].raw(r), r.detail)
 
 
 @dataclass(frozen=True)
@@ -79,8 +123,10 @@ class Scan:
     refined windows). ``cross_checked``: pieces where the Chebyshev proxy ran (f
     smooth there); ``chebyshev_roots``: the real zeros it located. ``noise_bands``:
     stretches where |f| is within its own rounding noise, each reported as one root
-    cluster at its middle (x uncertain by the half-width). ``check``: the cross-check that
-    ran ("derivative", "chebyshev" or "off"; see :func:`scan`).
+    cluster at its middle (x uncertain by the half-width). ``details``: what a checker
+    should know about the scan, as :class:`solvers.result.Detail` records (codes of
+    :data:`SCAN_DETAIL_CODES`; :func:`app.documents.words.scan_warnings` words them).
+    ``check``: the cross-check that ran ("derivative", "chebyshev" or "off"; see :func:`scan`).
     """
 
     a: float
@@ -89,7 +135,7 @@ class Scan:
     poles: list[float] = field(default_factory=list)
     discontinuities: list[float] = field(default_factory=list)
     gaps: list[tuple[float, float]] = field(default_factory=list)
-    warnings: list[str] = field(default_factory=list)
+    details: tuple[Detail, ...] = ()
     samples: int = 0
     cross_checked: list[tuple[float, float]] = field(default_factory=list)
     chebyshev_roots: list[float] = field(default_factory=list)
@@ -101,7 +147,7 @@ class Scan:
 class _Found:
     x: float
     odd: bool
-    how: str
+    how: tuple[str, ...]
     bracket: tuple[float, float] | None = None
     run: Run | Callable[[], Run] | None = None  # a callable: Root.run built on demand
     located_by: tuple[str, ...] = ("sampling",)

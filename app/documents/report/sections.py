@@ -351,8 +351,8 @@ def _scan_section(c: _Context) -> list[Flowable]:
         if sc.roots:
             data: list[list[Any]] = [["#", "Root x", "Residual f(x)", "Mult.", "Confirmed by"]]
             for i, root in enumerate(sc.roots, start=1):
-                how = getattr(root, "confirmed", "") or ""
-                located = " + ".join(getattr(root, "located_by", ()) or ())
+                how = words.confirmed_text(root)
+                located = words.located_text(root)
                 if located:
                     how = f"{how} (located by {located})" if how else f"located by {located}"
                 data.append([str(i), _num(root.x), _num(root.residual), str(root.multiplicity),
@@ -375,7 +375,7 @@ def _scan_section(c: _Context) -> list[Flowable]:
         rows.append(("Gaps (f undefined)", Paragraph(escape(
             "; ".join(f"[{_num(a)}, {_num(b)}]" for a, b in gaps) if gaps else "none"),
             st["cellmono"])))
-        warnings = list(getattr(sc, "warnings", []))
+        warnings = words.scan_warnings(sc)
         if warnings:
             rows.append(("Scan warnings", Paragraph(_text("; ".join(warnings)), st["cell"])))
         out += [Spacer(1, 4), _key_value_table(rows, st)]
