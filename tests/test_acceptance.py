@@ -15,6 +15,7 @@ import pytest
 import sympy
 
 from app.cli import main
+from app.documents.words import scan_warnings
 from solvers import scan
 
 
@@ -303,7 +304,7 @@ def test_a_scan_with_too_many_roots_stops_refining_and_says_so(monkeypatch) -> N
     # it. A small cap keeps this test quick: sin(20 x) has 6367 roots k*pi/20 in [0, 1000].
     monkeypatch.setattr(scan_module, "MAX_ROOTS", 2000)
     found = scan(lambda x: np.sin(20.0 * x), 0.0, 1000.0)
-    assert any("narrower range" in w for w in found.warnings)
+    assert any("narrower range" in w for w in scan_warnings(found))
     assert 2000 <= len(found.roots) < 6367
     k = np.array([r.x for r in found.roots]) * 20.0 / np.pi
     assert np.max(np.abs(k - np.rint(k))) < 1e-9  # every one a true zero (numpy.pi reference)

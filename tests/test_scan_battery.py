@@ -202,7 +202,7 @@ def test_summary(battery, capsys):
     mult = sum(len(s["mult"]) for _, _, s in battery)
     poles = sum(len(c["poles"]) for c, _, _ in battery)
     jumps = sum(len(c["jumps"]) for c, _, _ in battery)
-    warned = sum(len(r.warnings) for _, r, _ in battery)
+    warned = sum(len(r.details) for _, r, _ in battery)
     line = (f"scan battery: {len(battery)} cases, {roots} known roots, {poles} poles, "
             f"{jumps} jumps; misses {misses}, false roots {false}, wrong multiplicity {mult}; "
             f"{warned} cross-check warnings")
