@@ -200,7 +200,7 @@ def _value(name: str, value: Any) -> Any:
         if value - value == 0.0:  # finite (inf - inf and nan - nan are nan)
             return value
         raise EquationError(f"parameter {name!r} must be finite, got {value!r}")
-    if isinstance(value, np.ndarray | list | tuple) and not isinstance(value, str):
+    if isinstance(value, np.ndarray):  # rows of values; a list is refused (type confusion)
         arr = np.asarray(value)
         if arr.dtype.kind not in "iuf" or arr.dtype == np.bool_:
             raise EquationError(f"parameter {name!r} must be real numbers, "

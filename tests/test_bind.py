@@ -1,0 +1,214 @@
+"""Parse once, bind late: Equation.bind gives new parameter values without parsing again.
+
+Outside references (each check names its own): a fresh parse_equation of the same text
+(the behaviour bind replaces), numpy written out by hand, numpy.roots for the cubic
+equation of state, scipy.optimize.brentq and scipy.optimize.newton for roots, and a
+central-difference derivative. Scenarios are invented (pipes, gas states, plates).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize
+import sympy as sp
+
+import solvers.equation.parser as parser_module
+import solvers.equation.record as record_module
+from solvers import EquationError, parse_equation
+
+COLEBROOK = "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))"
+VDW = "(p + a/v^2)*(v - b) = R*T"  # van der Waals equation of state, solved for v
+PLATE = "x*tan(x) = Bi"  # conduction eigenvalue equation of a plane wall (Biot number Bi)
+
+CASES = [
+    (COLEBROOK, "f", {"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5},
+     {"eps": 1.5e-6, "D": 0.05, "Re": 2.4e6}, (0.008, 0.02, 0.05)),
+    (VDW, "v", {"p": 2e6, "a": 0.3640, "b": 4.267e-5, "R": 8.314, "T": 300.0},
+     {"p": 5e6, "a": 0.1382, "b": 3.19e-5, "R": 8.314, "T": 250.0}, (1e-4, 5e-4, 1e-3)),
+    (PLATE, "x", {"Bi": 0.9}, {"Bi": 7.5}, (0.3, 0.8, 1.4)),
+]
+
+
+def colebrook(f, eps, D, Re):
+    """The Colebrook residual written out with numpy (independent of the parser)."""
+    return 1 / np.sqrt(f) + 2 * np.log10(eps / (3.7 * D) + 2.51 / (Re * np.sqrt(f)))
+
+
+@pytest.mark.parametrize(("text", "unknown", "first", "second", "points"), CASES,
+                         ids=["colebrook", "van-der-waals", "plane-wall"])
+def test_bind_gives_the_values_of_a_fresh_parse(text, unknown, first, second, points):
+    eq = parse_equation(text, unknown=unknown, parameters=first)
+    rebound = eq.bind(second)
+    fresh = parse_equation(text, unknown=unknown, parameters=second)  # reference: a new parse
+    for x in points:
+        assert rebound.f(x) == fresh.f(x)
+        assert rebound.fprime(x) == fresh.fprime(x)
+        # central difference as an independent derivative (step ~ cube root of eps * x)
+        h = 1e-6 * x
+        numeric = (rebound.f(x + h) - rebound.f(x - h)) / (2 * h)
+        assert rebound.fprime(x) == pytest.approx(numeric, rel=1e-6)
+    assert rebound.parameters == second
+    assert rebound.expr == fresh.expr and rebound.derivative == fresh.derivative
+    assert rebound.latex == fresh.latex and rebound.notes == fresh.notes
+    assert eq.f(points[1]) == parse_equation(text, unknown=unknown, parameters=first).f(points[1])
+
+
+def test_bound_colebrook_matches_numpy_written_out():
+    eq = parse_equation(COLEBROOK, parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    values = {"eps": 2.6e-4, "D": 0.3, "Re": 8e5}  # invented cast-iron main
+    rebound = eq.bind(values)
+    for f in (0.01, 0.02, 0.04):
+        assert rebound.f(f) == pytest.approx(colebrook(f, **values), rel=1e-13)
+
+
+def test_bound_cubic_roots_agree_with_numpy_roots():
+    eq = parse_equation(VDW, unknown="v",
+                        parameters={"p": 2e6, "a": 0.3640, "b": 4.267e-5, "R": 8.314, "T": 300.0})
+    # invented constants of a gas below its critical temperature (8a/(27Rb) ~ 304 K):
+    # three real volumes; R in J/(mol K) from memory (scipy.constants.R = 8.314462618)
+    values = {"p": 4e6, "a": 0.3640, "b": 4.267e-5, "R": 8.314, "T": 270.0}
+    rebound = eq.bind(values)
+    p, a, b, R, T = (values[k] for k in "pabRT")
+    # p v^3 - (p b + R T) v^2 + a v - a b = 0 (the same equation times v^2); numpy.roots
+    reference = sorted(r.real for r in np.roots([p, -(p * b + R * T), a, -a * b])
+                       if abs(r.imag) < 1e-12 * abs(r))
+    assert len(reference) == 3
+    for v in reference:
+        root = scipy.optimize.newton(rebound.f, v * (1 + 1e-3), fprime=rebound.fprime,
+                                     tol=1e-16, maxiter=100)
+        assert root == pytest.approx(v, rel=1e-10)
+
+
+def test_bind_neither_parses_nor_compiles(monkeypatch):
+    eq = parse_equation(COLEBROOK, parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    eq.f(0.02)  # the scalar path is compiled at the first scalar call
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("bind parsed or compiled again")
+
+    monkeypatch.setattr(record_module, "read", refuse)
+    monkeypatch.setattr(parser_module._Parser, "equation", refuse)
+    monkeypatch.setattr(sp, "lambdify", refuse)
+    monkeypatch.setattr(sp, "diff", refuse)
+    rebound = eq.bind({"eps": 1e-5, "D": 0.1, "Re": 5e5})
+    assert math.isfinite(rebound.f(0.02)) and math.isfinite(rebound.fprime(0.02))
+    assert rebound.f(np.array([0.01, 0.03])).shape == (2,)
+    with pytest.raises(AssertionError):
+        parse_equation(COLEBROOK, parameters={"eps": 1e-5, "D": 0.1, "Re": 5e5})
+
+
+def _pipe_rows(n: int) -> dict[str, np.ndarray]:
+    rng = np.random.default_rng(20261202)  # invented pipes: roughness, bore, Reynolds number
+    return {"eps": rng.uniform(1e-6, 5e-4, n), "D": rng.uniform(0.02, 1.0, n),
+            "Re": 10 ** rng.uniform(3.7, 7.5, n)}
+
+
+def test_array_parameters_broadcast_in_one_call():
+    eq = parse_equation(COLEBROOK, parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    rows = _pipe_rows(100_000)
+    calls = {"n": 0}
+    vector = eq._core.f_code.vector
+
+    def counted(*args):
+        calls["n"] += 1
+        return vector(*args)
+
+    eq._core.f_code.vector = counted
+    try:
+        table = eq.bind(rows)
+        y = table.f(0.02)
+    finally:
+        eq._core.f_code.vector = vector
+    assert calls["n"] == 1 and y.shape == (100_000,) and y.dtype == np.float64
+    # a Python loop of scalar binds on a sample of rows gives the same values
+    for i in range(0, 100_000, 997):
+        row = eq.bind({k: float(v[i]) for k, v in rows.items()})
+        assert y[i] == pytest.approx(row.f(0.02), rel=1e-14)
+        assert table.fprime(0.02)[i] == pytest.approx(row.fprime(0.02), rel=1e-14)
+    # numpy by hand; the two terms are ~7 in size, so near a root agreement is absolute, to
+    # a few units in the last place of the terms
+    np.testing.assert_allclose(y, colebrook(0.02, **rows), rtol=1e-13, atol=1e-14)
+    # x broadcasts against the rows too: a column of x against a row of values
+    grid = table.f(np.array([[0.01], [0.03]]))
+    assert grid.shape == (2, 100_000)
+    # a parameter that is a row vector against one that is a column: an outer table
+    outer = eq.bind({"eps": np.array([1e-6, 1e-4]), "D": np.array([[0.1], [0.2], [0.4]]),
+                     "Re": 1e5})
+    assert outer.f(0.02).shape == (3, 2)
+    assert outer.f(0.02)[2, 1] == eq.bind({"eps": 1e-4, "D": 0.4, "Re": 1e5}).f(0.02)
+
+
+def test_newton_on_bound_rows_agrees_with_brentq_per_row():
+    eq = parse_equation(COLEBROOK, parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    rows = _pipe_rows(100_000)
+    table = eq.bind(rows)
+    # start values: the Swamee-Jain explicit approximation (published 1976; from memory)
+    start = 0.25 / np.log10(rows["eps"] / (3.7 * rows["D"]) + 5.74 / rows["Re"] ** 0.9) ** 2
+    # scipy.optimize.newton iterates every row at once with an array start value
+    roots = scipy.optimize.newton(table.f, start, fprime=table.fprime, tol=1e-15, maxiter=100)
+    assert np.all(np.isfinite(roots))
+    for i in range(0, 100_000, 1999):
+        values = {k: float(v[i]) for k, v in rows.items()}
+        # reference: scipy.optimize.brentq on the residual written out with numpy
+        reference = scipy.optimize.brentq(lambda f, v=values: colebrook(f, **v), 1e-3, 0.5,
+                                          xtol=1e-16, rtol=1e-15)
+        assert roots[i] == pytest.approx(reference, rel=1e-10)
+
+
+def test_plane_wall_eigenvalues_per_biot_number():
+    eq = parse_equation(PLATE, unknown="x", parameters={"Bi": 1.0})
+    bi = np.array([0.1, 1.0, 10.0, 100.0])
+    table = eq.bind({"Bi": bi})
+    # from the right of the first root, where x tan x - Bi is increasing and convex, Newton's
+    # steps stay in the first branch (0, pi/2)
+    start = np.full(4, math.pi / 2 * (1 - 1e-3))
+    roots = scipy.optimize.newton(table.f, start, fprime=table.fprime, tol=1e-15, maxiter=100)
+    for b, root in zip(bi, roots, strict=True):
+        # reference: scipy.optimize.brentq on x tan x - Bi in the first branch (0, pi/2)
+        reference = scipy.optimize.brentq(lambda x, b=b: x * math.tan(x) - b, 1e-9,
+                                          math.pi / 2 - 1e-12, xtol=1e-16, rtol=1e-15)
+        assert root == pytest.approx(reference, rel=1e-10)
+
+
+@pytest.mark.parametrize(
+    ("values", "named"),
+    [
+        ({"eps": 1e-5, "D": 0.1}, "'Re'"),  # missing
+        ({"eps": 1e-5, "D": 0.1, "Re": 1e5, "L": 3.0}, "'L'"),  # not in the equation
+        ({"eps": 1e-5, "D": 0.1, "Re": 1e5, "f": 0.02}, "'f'"),  # the unknown
+        ({"eps": 1e-5, "D": 0.1, "Re": math.nan}, "'Re'"),
+        ({"eps": 1e-5, "D": math.inf, "Re": 1e5}, "'D'"),
+        ({"eps": 1e-5, "D": 0.1, "Re": np.array([1e5, np.inf])}, "'Re'"),
+        ({"eps": "1e-5", "D": 0.1, "Re": 1e5}, "'eps'"),
+        ({"eps": np.array([1 + 1j]), "D": 0.1, "Re": 1e5}, "'eps'"),
+    ],
+)
+def test_bind_refuses_names_and_values_it_cannot_use(values, named):
+    eq = parse_equation(COLEBROOK, parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    with pytest.raises(EquationError) as info:
+        eq.bind(values)
+    message = str(info.value)
+    assert named in message and "\n" not in message
+
+
+def test_bind_checks_parts_with_parameters_only_like_a_parse():
+    eq = parse_equation("x = sqrt(a) + 1/(b - 2)", parameters={"a": 1.0, "b": 3.0})
+    with pytest.raises(EquationError) as info:
+        eq.bind({"a": -1.0, "b": 3.0})
+    assert "no real value" in str(info.value) and info.value.position == 4
+    with pytest.raises(EquationError) as info:
+        eq.bind({"a": 1.0, "b": 2.0})
+    assert "division by zero" in str(info.value) and info.value.position == 16
+    # in rows, the message names the first bad row
+    with pytest.raises(EquationError) as info:
+        eq.bind({"a": np.array([1.0, 4.0, -2.0]), "b": 3.0})
+    assert "row 2" in str(info.value)
+    # the same refusal as a fresh parse with those values
+    with pytest.raises(EquationError) as fresh:
+        parse_equation("x = sqrt(a) + 1/(b - 2)", parameters={"a": -1.0, "b": 3.0})
+    with pytest.raises(EquationError) as bound:
+        eq.bind({"a": -1.0, "b": 3.0})
+    assert str(fresh.value) == str(bound.value)
