@@ -284,7 +284,9 @@ def _print_solution(solution, *, steps: bool) -> None:
     print(f"equation: {solution.worksheet.equation}")
     params = ", ".join(f"{k} = {v!r}" for k, v in eq.parameters.items())
     print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
-    for note in (*getattr(eq, "notes", ()), *solution.start.notes):
+    from app.documents.equation_words import remarks_text
+
+    for note in (*remarks_text(getattr(eq, "remarks", ())), *solution.start.notes):
         print(f"note:     {note}")
     print()
     rows = []

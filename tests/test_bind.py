@@ -212,3 +212,26 @@ def test_bind_checks_parts_with_parameters_only_like_a_parse():
     with pytest.raises(EquationError) as bound:
         eq.bind({"a": -1.0, "b": 3.0})
     assert str(fresh.value) == str(bound.value)
+
+
+@pytest.mark.parametrize(
+    ("text", "kwargs"),
+    [
+        ("sin(30deg)*x = 1", {}),
+        ("sin(x) = 0.5", {}),
+        ("abs(x - 1) = 2", {}),
+        ("x - x + 1", {}),
+        ("e*x = 2e3", {"parameters": {"e": 2.0}}),
+        ("a*x = 1", {"unknown": "x", "parameters": {"a": 2.0, "x": 5.0}}),
+        ("0^x + x", {}),
+        ("*".join(f"sin({k}x)" for k in range(1, 120)), {}),
+    ],
+)
+def test_remarks_are_codes_and_the_app_words_match_the_notes(text, kwargs):
+    from app.documents.equation_words import remarks_text
+
+    eq = parse_equation(text, **kwargs)
+    assert eq.remarks and all(r.code.isidentifier() for r in eq.remarks)
+    assert remarks_text(eq.remarks) == eq.notes
+    # a binding keeps the remarks of the text (a parse's value remarks are its own)
+    assert set(eq.bind(dict(eq.parameters)).remarks) <= set(eq.remarks)

@@ -28,7 +28,26 @@ from solvers.equation.typeset import derivative_latex, typeset
 
 _TRIG = ("sin", "cos", "tan")
 
-# Why no symbolic derivative (codes from calculus.derivative), as the notes say it.
+@dataclass(frozen=True)
+class Remark:
+    """Something the reader of an equation should know, as a code with its subject.
+
+    Codes: "unknown_has_value" (subject: the unknown), "no_derivative" (subject: the
+    reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
+    numbers: the limit passed, if any), "degrees", "radians", "kinks", "no_dependence"
+    (subject: the unknown), "e_notation". app/documents/equation_words.py renders them.
+    """
+
+    code: str
+    subject: str = ""
+    numbers: tuple[float, ...] = ()
+
+
+_LIMITS = {"too_large": (calculus.MAX_DERIVATIVE_NODES,),
+           "kinks_nested": (calculus.MAX_KINK_NESTING,)}
+
+# Transitional: the sentences ``Equation.notes`` gives until every reader renders
+# ``remarks`` through app/documents/equation_words.py (the same words).
 _NO_DERIVATIVE = {
     "too_large": f"more than {calculus.MAX_DERIVATIVE_NODES} terms",
     "kinks_nested": f"abs/min/max nested more than {calculus.MAX_KINK_NESTING} deep",
@@ -56,7 +75,7 @@ class _Core:
     checks: tuple[Check, ...]  # parameter-only parts, in parse order
     check_code: Code | None  # all checks' expressions as one function of *params
     sides: tuple[_Node, _Node | None]
-    notes: tuple[str, ...]
+    remarks: tuple[Remark, ...]
     cache: dict[str, Any] = field(default_factory=dict)
 
 
@@ -69,7 +88,7 @@ class Equation:
     vectorised, real-valued, never raising on domain errors (nan/inf instead). With float
     values a float x gives a float; with array values the result is an array of the
     broadcast shape of x and the values. ``fprime`` is None when no usable symbolic
-    derivative exists (``notes`` says why); Newton then uses a numerical derivative.
+    derivative exists (``remarks`` says why); Newton then uses a numerical derivative.
     ``expr`` and ``derivative`` have the values substituted (computed on first use; with
     array values they keep the parameters as symbols); ``symbolic_expr`` and
     ``symbolic_derivative`` keep parameters as symbols (what ``latex`` and
@@ -82,7 +101,7 @@ class Equation:
     names: tuple[str, ...]
     f: Callable[[Any], Any] = field(repr=False)
     fprime: Callable[[Any], Any] | None = field(repr=False)
-    notes: tuple[str, ...] = ()
+    remarks: tuple[Remark, ...] = ()
     _core: _Core | None = field(default=None, repr=False)
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
 
@@ -107,7 +126,12 @@ class Equation:
         if missing:
             raise EquationError("no value for " + ", ".join(f"'{n}'" for n in missing)
                                 + f" (the unknown is '{core.unknown}')")
-        return _bind(core, {n: given[n] for n in core.parameter_names}, core.notes)
+        return _bind(core, {n: given[n] for n in core.parameter_names}, core.remarks)
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        """``remarks`` as sentences (transitional; see app/documents/equation_words.py)."""
+        return tuple(_sentence(r) for r in self.remarks)
 
     @property
     def symbolic_expr(self) -> Any:
@@ -299,7 +323,7 @@ def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> None:
             raise EquationError(f"{err}{suffix}", err.position)
 
 
-def _bind(core: _Core, values: dict[str, Any], notes: tuple[str, ...]) -> Equation:
+def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...]) -> Equation:
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
     _run_checks(core, args, scalar)
@@ -310,7 +334,7 @@ def _bind(core: _Core, values: dict[str, Any], notes: tuple[str, ...]) -> Equati
         names=(core.unknown, *core.parameter_names),
         f=bound(core.f_code, args),
         fprime=None if core.fprime_code is None else bound(core.fprime_code, args),
-        notes=notes,
+        remarks=remarks,
         _core=core,
     )
 
@@ -321,7 +345,7 @@ def _bind(core: _Core, values: dict[str, Any], notes: tuple[str, ...]) -> Equati
 
 
 def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[str, Any],
-                    first_pos: Mapping[str, int], notes: list[str]) -> str:
+                    first_pos: Mapping[str, int], remarks: list[Remark]) -> str:
     if not names:
         raise EquationError("the equation has no unknown (it contains no names)", None)
     if unknown is None:
@@ -343,7 +367,7 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
         raise EquationError(f"the unknown '{unknown}' does not appear in the equation "
                             "(names: " + ", ".join(names) + ")", None)
     if unknown in values:
-        notes.append(f"'{unknown}' is the unknown: its parameter value is not used")
+        remarks.append(Remark("unknown_has_value", unknown))
     missing = [n for n in names if n != unknown and n not in values]
     if missing:
         raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
@@ -364,7 +388,7 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
     except Exception as err:  # noqa: BLE001 - say so in one line rather than a traceback
         raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
                             None) from None
-    notes: list[str] = []
+    remarks: list[Remark] = []
     derivative, why = calculus.derivative(symbolic, x)
     fprime_code = None
     if derivative is not None:
@@ -373,8 +397,7 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
         except Exception:  # noqa: BLE001 - Newton can still differentiate numerically
             derivative, why = None, "not_compiled"
     if why is not None:
-        notes.append(f"no symbolic derivative ({_NO_DERIVATIVE[why]}): "
-                     "Newton uses a numerical one")
+        remarks.append(Remark("no_derivative", why, _LIMITS.get(why, ())))
     checks = tuple(c for c in parser.checks if unknown not in c.names)
     check_code = None
     if checks:
@@ -383,11 +406,11 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
         except Exception as err:  # noqa: BLE001 - one line rather than a traceback
             raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
                                 None) from None
-    notes.extend(_notes(parser, parser.names, unknown, symbolic, x, text))
+    remarks.extend(_remarks(parser, parser.names, unknown, symbolic, x, text))
     return _Core(text=text, unknown=unknown, parameter_names=tuple(names), symbols=symbols,
                  x=x, symbolic_expr=symbolic, symbolic_derivative=derivative, f_code=f_code,
                  fprime_code=fprime_code, checks=checks, check_code=check_code,
-                 sides=(lhs, rhs), notes=tuple(notes))
+                 sides=(lhs, rhs), remarks=tuple(remarks))
 
 
 def parse_equation(text: str, unknown: str | None = None,
@@ -403,24 +426,41 @@ def parse_equation(text: str, unknown: str | None = None,
     """
     values = _validate_parameters(parameters)
     parser, lhs, rhs = read(text)
-    notes: list[str] = []
-    unknown = _choose_unknown(text, parser.names, unknown, values, parser.first_pos, notes)
+    remarks: list[Remark] = []
+    unknown = _choose_unknown(text, parser.names, unknown, values, parser.first_pos, remarks)
     core = _build_core(text, parser, lhs, rhs, unknown)
     used = {n: values[n] for n in core.parameter_names}
-    return _bind(core, used, tuple(notes) + core.notes)
+    return _bind(core, used, tuple(remarks) + core.remarks)
 
 
-def _notes(parser: Any, names: list[str], unknown: str, expr: Any, x: Any,
-           text: str) -> list[str]:
-    notes = []
+def _remarks(parser: Any, names: list[str], unknown: str, expr: Any, x: Any,
+             text: str) -> list[Remark]:
+    remarks = []
     if "deg" in parser.used:
-        notes.append("deg = pi/180: angles in degrees become radians")
+        remarks.append(Remark("degrees"))
     if parser.used.intersection(_TRIG) and "deg" not in parser.used:
-        notes.append("sin, cos and tan take radians (multiply by deg for degrees)")
+        remarks.append(Remark("radians"))
     if parser.used.intersection({"abs", "min", "max"}):
-        notes.append("abs/min/max have a kink: the derivative there uses sign/step values")
+        remarks.append(Remark("kinks"))
     if x not in expr.free_symbols:
-        notes.append(f"the equation does not depend on '{unknown}' once simplified")
+        remarks.append(Remark("no_dependence", unknown))
     if any(n in ("e", "E") for n in names) and re.search(r"[0-9.][eE][+-]?[0-9]", text):
-        notes.append("numbers such as 2e3 are read as 2000, not as 2*e*3")
-    return notes
+        remarks.append(Remark("e_notation"))
+    return remarks
+
+
+_NOTE_TEXT: dict[str, Callable[[Remark], str]] = {
+    "unknown_has_value": lambda r: f"'{r.subject}' is the unknown: its parameter value is "
+                                   "not used",
+    "no_derivative": lambda r: f"no symbolic derivative ({_NO_DERIVATIVE[r.subject]}): "
+                               "Newton uses a numerical one",
+    "degrees": lambda r: "deg = pi/180: angles in degrees become radians",
+    "radians": lambda r: "sin, cos and tan take radians (multiply by deg for degrees)",
+    "kinks": lambda r: "abs/min/max have a kink: the derivative there uses sign/step values",
+    "no_dependence": lambda r: f"the equation does not depend on '{r.subject}' once simplified",
+    "e_notation": lambda r: "numbers such as 2e3 are read as 2000, not as 2*e*3",
+}
+
+
+def _sentence(remark: Remark) -> str:
+    return _NOTE_TEXT[remark.code](remark)
