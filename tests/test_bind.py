@@ -235,3 +235,30 @@ def test_remarks_are_codes_and_the_app_words_match_the_notes(text, kwargs):
     assert remarks_text(eq.remarks) == eq.notes
     # a binding keeps the remarks of the text (a parse's value remarks are its own)
     assert set(eq.bind(dict(eq.parameters)).remarks) <= set(eq.remarks)
+
+
+def test_pipeline_binds_the_kept_equation_instead_of_parsing(monkeypatch):
+    from app.documents.worksheet import Parameter, Settings, Worksheet
+    from solvers import pipeline
+
+    # an invented pipe; the worksheet is what the window and the CLI hand to the pipeline
+    ws = Worksheet(equation=COLEBROOK, unknown="f",
+                   parameters=(Parameter("eps", 4.5e-5), Parameter("D", 0.15),
+                               Parameter("Re", 1.2e5)),
+                   settings=Settings(x0=0.02, bracket=(0.005, 0.1), xtol=1e-14, max_iter=60))
+    kept = pipeline.equation_of(ws)
+    changed = ws.with_changes(parameters=(Parameter("eps", 2.6e-4), Parameter("D", 0.3),
+                                          Parameter("Re", 8e5)))
+    fresh = pipeline.solve(changed)  # parses
+
+    def refuse(*args, **kwargs):
+        raise AssertionError("parsed again")
+
+    monkeypatch.setattr(record_module, "read", refuse)
+    bound = pipeline.solve(changed, pipeline.equation_of(changed, kept))
+    assert [r.root for r in bound.runs] == [r.root for r in fresh.runs]
+    # reference: scipy.optimize.brentq on the residual written out with numpy
+    reference = scipy.optimize.brentq(lambda f: colebrook(f, 2.6e-4, 0.3, 8e5), 1e-3, 0.5,
+                                      xtol=1e-16, rtol=1e-15)
+    assert all(r.root == pytest.approx(reference, rel=1e-12) for r in bound.runs if r.converged)
+    assert any(r.converged for r in bound.runs)
