@@ -465,7 +465,9 @@ class MainWindow(QMainWindow):
         model = self.inputs.parameters
         values = model.remembered_values()
         previous = self.analysis.unknown if self.analysis is not None else self._doc.unknown
-        self.runner.submit("preview", lambda _p, _c: analyse(text, chosen, values, previous),
+        dpi = self.strip.typeset_dpi()  # typeset in the worker too, not on the UI thread
+        self.runner.submit("preview",
+                           lambda _p, _c: analyse(text, chosen, values, previous, dpi=dpi),
                            on_done=self._on_analysis, on_error=self._on_analysis_error)
 
     def _on_analysis(self, analysis: Analysis) -> None:

@@ -93,6 +93,7 @@ from solvers.equation.lexer import (
 )
 from solvers.equation.parser import free_names
 from solvers.equation.record import Equation, parse_equation
+from solvers.equation.typeset import MAX_TYPESET_CHARS, MAX_TYPESET_NODES
 
 constants = CONSTANT_NAMES  # the names that are constants, never parameters: pi, deg
 
@@ -102,6 +103,8 @@ __all__ = [
     "MAX_KINK_DEPTH",
     "MAX_LENGTH",
     "MAX_NAME",
+    "MAX_TYPESET_CHARS",
+    "MAX_TYPESET_NODES",
     "Equation",
     "EquationError",
     "constants",

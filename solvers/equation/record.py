@@ -176,11 +176,18 @@ class Equation:
 
     @property
     def derivative_latex(self) -> str:
-        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none."""
+        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none, or if
+        it is over the typesetting budget (MAX_TYPESET_NODES nodes, MAX_TYPESET_CHARS
+        characters of solvers.equation.typeset): see :attr:`derivative_too_large`."""
         cache = self._core.cache
         if "dlatex" not in cache:
             cache["dlatex"] = derivative_latex(self.symbolic_derivative)
         return cache["dlatex"]
+
+    @property
+    def derivative_too_large(self) -> bool:
+        """True when there is a symbolic derivative but it is over the typesetting budget."""
+        return self.symbolic_derivative is not None and not self.derivative_latex
 
     def residual_mp(self, x: Any, dps: int = 50) -> Any:
         """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).

@@ -16,8 +16,16 @@ from typing import Any
 import sympy as sp
 from sympy.printing.latex import LatexPrinter
 
+from solvers.equation.calculus import _node_count
 from solvers.equation.compile import floatify_big
 from solvers.equation.lexer import _Token, tokenize
+
+# Typesetting budget: LaTeX longer than this is not typeset (mathtext takes ~0.4 s per
+# 1,000 characters and the result is unreadable on a strip or a page anyway), and a
+# derivative of more nodes than this is not even printed to LaTeX. Callers show "too
+# large to typeset" instead.
+MAX_TYPESET_CHARS = 2_000
+MAX_TYPESET_NODES = 1_500
 
 
 class _MathtextLatexPrinter(LatexPrinter):
@@ -66,6 +74,14 @@ _LATEX_SETTINGS = {"ln_notation": True}  # a printer per call: printers keep sta
 
 def latex(expr: Any) -> str:
     """sympy LaTeX of ``expr``, restricted to what matplotlib's mathtext renders."""
+    # The printer asks sign questions of every exponent (is it negative? is it constant?)
+    # to decide what goes under a fraction bar; with real symbols, exp(-exp(-...(x)))
+    # answers them by simplifying, which took time exponential in the depth (133 s for 14
+    # levels). The same names without assumptions print the same text and answer at once.
+    plain = {s: sp.Symbol(s.name) for s in getattr(expr, "free_symbols", ())
+             if isinstance(s, sp.Symbol) and s.assumptions0}
+    if plain:
+        expr = expr.xreplace(plain)
     printer = _MathtextLatexPrinter(_LATEX_SETTINGS)
     try:
         tex = printer.doprint(expr)
@@ -234,12 +250,14 @@ def typeset(text: str, lhs: Any, rhs: Any | None) -> str:
 
 
 def derivative_latex(d: Any) -> str:
-    """LaTeX (mathtext-safe) of a derivative, parameters by name; '' for None.
+    """LaTeX (mathtext-safe) of a derivative, parameters by name; '' for None, or when it
+    is over the typesetting budget (MAX_TYPESET_NODES nodes, MAX_TYPESET_CHARS characters).
 
     Constants folded while differentiating (1/3.7 -> 0.27027027027027) are shown to six
     significant figures: the typeset form is for reading; f' itself is exact.
     """
-    if d is None:
+    if d is None or _node_count(d, MAX_TYPESET_NODES) > MAX_TYPESET_NODES:
         return ""
     short = {c: sp.Float(float(f"{float(c):.6g}")) for c in d.atoms(sp.Float)}
-    return latex(d.xreplace(short) if short else d)
+    tex = latex(d.xreplace(short) if short else d)
+    return tex if len(tex) <= MAX_TYPESET_CHARS else ""
