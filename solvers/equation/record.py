@@ -193,7 +193,9 @@ class Equation:
         """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).
 
         Uses the same double values of constants and parameters as ``f`` (so it checks
-        the equation that was solved); x may be a float, a string or an mpf. NaN when the
+        the equation that was solved; constant parts are the doubles the parser folded,
+        parts with parameters are evaluated at ``dps`` digits from the parameters'
+        doubles); x may be a float, a string or an mpf. NaN when the
         value is not real or not defined, or when the parameters are arrays. Meant for
         checking a root: f should be finite near x.
         """
