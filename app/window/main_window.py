@@ -9,7 +9,6 @@ figures, worksheet), and everything that can take time runs in a
 
 from __future__ import annotations
 
-import inspect
 import math
 import time
 from pathlib import Path
@@ -928,19 +927,23 @@ class MainWindow(QMainWindow):
         origin = str(self.path) if self.path is not None and not self.is_modified() else None
         current = self.solution if self._solve_key == self._key(ws) else None
         scan = self.scan_result if self._scan_key == self._scan_key_of(ws) else None
-        candidates: dict[str, Any] = {"worksheet_path": origin, "overwrite": True}
-        if current is not None:
-            candidates["solution"] = current
-        if scan is not None:
-            candidates["scan"] = scan
-        kwargs = _accepted(report.write_report, **candidates)
-        takes_progress = "progress" in _accepted(report.write_report, progress=None)
         self.statusBar().showMessage("Writing the calculation sheet…")
         self.report_result: Any = None
 
-        def work(progress: Any, _cancel: Any) -> Any:
-            extra = {"progress": progress} if takes_progress else {}
-            return report.write_report(ws, path, **kwargs, **extra)
+        def work(progress: Any, cancel: Any) -> Any:
+            from solvers import pipeline
+
+            # The sheet is handed results, never solves: what is on screen, else computed
+            # here, off the UI thread, through the same pipeline.
+            solution, result = current, scan
+            if solution is None:
+                solution = pipeline.solve(ws)
+            if result is None and ws.scan is not None:
+                result = pipeline.scan_worksheet(ws, solution.equation, cancel=cancel,
+                                                 progress=lambda p: progress(0.6 * p))
+            return report.write_report(ws, path, solution=solution, scan=result,
+                                       worksheet_path=origin, overwrite=True,
+                                       progress=lambda p: progress(0.6 + 0.4 * p))
 
         def done(result: Any) -> None:
             self.report_result = result
@@ -1107,17 +1110,6 @@ def write_problem(path: Path, exc: BaseException) -> str:
     if isinstance(exc, OSError) and exc.strerror:
         return f"{exc.strerror} (in the folder {folder})"
     return str(exc)
-
-
-def _accepted(function: Any, **candidates: Any) -> dict[str, Any]:
-    """The keyword arguments ``function`` accepts, out of ``candidates``."""
-    try:
-        params = inspect.signature(function).parameters
-    except (TypeError, ValueError):
-        return {}
-    if any(p.kind is inspect.Parameter.VAR_KEYWORD for p in params.values()):
-        return candidates
-    return {k: v for k, v in candidates.items() if k in params}
 
 
 def _num(x: float) -> str:
