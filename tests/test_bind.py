@@ -194,6 +194,13 @@ def test_bind_refuses_names_and_values_it_cannot_use(values, named):
     assert named in message and "\n" not in message
 
 
+def test_rows_that_do_not_broadcast_are_refused_naming_them():
+    eq = parse_equation(COLEBROOK, parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    with pytest.raises(EquationError) as info:
+        eq.bind({"eps": np.full(3, 1e-5), "D": np.full(4, 0.1), "Re": 1e5})
+    assert "eps (3,)" in str(info.value) and "D (4,)" in str(info.value)
+
+
 def test_bind_checks_parts_with_parameters_only_like_a_parse():
     eq = parse_equation("x = sqrt(a) + 1/(b - 2)", parameters={"a": 1.0, "b": 3.0})
     with pytest.raises(EquationError) as info:

@@ -335,6 +335,13 @@ def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> None:
 def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...]) -> Equation:
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
+    if not scalar:
+        try:
+            np.broadcast_shapes(*(np.shape(v) for v in args))
+        except ValueError:
+            shapes = ", ".join(f"{n} {np.shape(v)}" for n, v in values.items()
+                               if v.__class__ is not float)
+            raise EquationError(f"parameter rows do not broadcast together: {shapes}") from None
     _run_checks(core, args, scalar)
     return Equation(
         text=core.text,
