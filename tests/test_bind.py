@@ -269,3 +269,21 @@ def test_pipeline_binds_the_kept_equation_instead_of_parsing(monkeypatch):
                                       xtol=1e-16, rtol=1e-15)
     assert all(r.root == pytest.approx(reference, rel=1e-12) for r in bound.runs if r.converged)
     assert any(r.converged for r in bound.runs)
+
+
+@pytest.mark.parametrize(
+    ("text", "values"),
+    [
+        ("atan2(a*x, max(-x, b*x))", {"a": 1.0, "b": 1.0}),
+        ("atan2(min(x, c), -a)", {"a": 0.0, "c": 0.0}),
+        ("sqrt(x - c) + ln(a*x)", {"a": 2.0, "c": 1.0}),
+        ("x^n - c", {"n": 0.5, "c": 3.0}),
+    ],
+)
+def test_scalar_and_array_paths_agree_after_bind_signed_zeros_included(text, values):
+    eq = parse_equation(text, unknown="x", parameters=values).bind(values)
+    for x in (-0.0, 0.0, -1.5, 0.25, 2.0):
+        one, row = eq.f(x), eq.f(np.array([x]))[0]
+        # bitwise agreement (nan == nan), as in test_honesty_methods for unbound equations
+        assert np.array_equal(np.array([one]), np.array([row]), equal_nan=True)
+        assert math.copysign(1.0, one) == math.copysign(1.0, row) or math.isnan(one)

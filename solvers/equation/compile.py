@@ -122,6 +122,44 @@ def arguments(n_unknowns: int, n_parameters: int) -> tuple[Any, ...]:
             *(sp.Symbol(f"_p{i}", real=True) for i in range(n_parameters)))
 
 
+def hoist(expr: Any, unknowns: frozenset[Any], table: dict[Any, Any]) -> Any:
+    """``expr`` with each largest part free of the unknowns (but not of parameters) replaced
+    by a symbol ``_h<k>`` recorded in ``table`` (part -> symbol, shared across calls).
+
+    Those parts are then computed once per binding of the parameter values, not at every
+    evaluation of f: the compiled f sees them as plain numbers, as when values were
+    folded in at parse time.
+    """
+    memo: dict[Any, Any] = {}
+
+    def walk(e: Any) -> Any:
+        hit = memo.get(e)
+        if hit is not None:
+            return hit
+        symbols = e.free_symbols
+        if not symbols:
+            out = e
+        elif not symbols & unknowns:
+            out = table.get(e)
+            if out is None:
+                out = table[e] = sp.Symbol(f"_h{len(table)}", real=True)
+        elif not e.args:
+            out = e  # the unknown itself
+        else:
+            args = [walk(a) for a in e.args]
+            if all(a is b for a, b in zip(args, e.args, strict=True)):
+                out = e
+            else:
+                try:
+                    out = e.func(*args, evaluate=False)  # keep the tree as parsed
+                except TypeError:
+                    out = e.func(*args)
+        memo[e] = out
+        return out
+
+    return walk(expr)
+
+
 class Code:
     """``exprs`` compiled once as functions of (unknowns..., parameters...), in that order.
 
@@ -155,20 +193,21 @@ class Code:
         return self._scalar
 
 
-def bound(code: Code, values: tuple[Any, ...]) -> Callable[[Any], Any]:
+def bound(code: Code, values: tuple[Any, ...],
+          rows: tuple[int, ...] = ()) -> Callable[[Any], Any]:
     """f(x) = code(x, *values), vectorised, never raising on domain errors (nan/inf instead).
 
     With float ``values``, a float (or numpy scalar) x gives a Python float and an array x
     an array of x's shape. With array ``values``, the result is an array of the broadcast
-    shape of x and the values (one vectorised call, however many rows).
+    shape of x, the values and ``rows`` (one vectorised call, however many rows).
     """
     vector = code.vector
     scalars = values
     # numpy scalars on the vector path: a part with parameters only overflows to inf there
     # instead of raising OverflowError as Python floats do.
     values = tuple(np.float64(v) if v.__class__ is float else v for v in values)
-    if not all(v.__class__ is float for v in scalars):
-        shape = np.broadcast_shapes(*(np.shape(v) for v in values))
+    if rows or not all(v.__class__ is float for v in scalars):
+        shape = np.broadcast_shapes(rows, *(np.shape(v) for v in values))
 
         def on_rows(x: Any) -> Any:
             arr = np.asarray(x, dtype=np.float64)

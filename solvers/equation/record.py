@@ -21,7 +21,7 @@ import numpy as np
 import sympy as sp
 
 from solvers.equation import calculus
-from solvers.equation.compile import Code, arguments, bound, floatify_big
+from solvers.equation.compile import Code, arguments, bound, floatify_big, hoist
 from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.parser import Check, _is_bad, _Node, read, snippet
 from solvers.equation.typeset import derivative_latex, typeset
@@ -70,10 +70,11 @@ class _Core:
     x: Any
     symbolic_expr: Any
     symbolic_derivative: Any  # None when no usable symbolic derivative
-    f_code: Code
-    fprime_code: Code | None
+    f_code: Code  # f(x, *hoisted): the parts with parameters only are arguments
+    fprime_code: Code | None  # f'(x, *hoisted)
     checks: tuple[Check, ...]  # parameter-only parts, in parse order
-    check_code: Code | None  # all checks' expressions as one function of *params
+    n_hoisted: int  # how many parameter-only parts f and f' take as arguments
+    bind_code: Code | None  # (*params) -> [*hoisted values, *check values]
     sides: tuple[_Node, _Node | None]
     remarks: tuple[Remark, ...]
     cache: dict[str, Any] = field(default_factory=dict)
@@ -293,29 +294,34 @@ def _check_message(check: Check, text: str, values: tuple[Any, ...]) -> str:
     return f"'{where}' has no real value" if v != v else f"'{where}' overflows double precision"
 
 
-def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> None:
-    """Raise EquationError at the first parameter-only part that fails on ``values``."""
-    code = core.check_code
+def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> tuple[Any, ...]:
+    """The parameter-only parts f and f' take, computed once for ``values``; raises
+    EquationError at the first checked part that fails on them."""
+    code = core.bind_code
     if code is None:
-        return
-    if scalar:
-        fn = code.scalar()
+        return ()
+    k = core.n_hoisted
+    if scalar and code._scalar is not False:
+        # the math path pays off from the second binding on: compile it then, not in the parse
+        fn = code._scalar if code._scalar is not None or not core.cache.get("bound") \
+            else code.scalar()
+        core.cache["bound"] = True
         if fn:
             try:
                 out = fn(*values)
-                i = 0
+                i = k
                 for check in core.checks:
                     n = len(check.exprs)
                     if not _PASSES[check.kind](*out[i:i + n]):
                         break
                     i += n
                 else:
-                    return
+                    return tuple(float(v) for v in out[:k])
             except (ArithmeticError, ValueError, TypeError):
                 pass
     with np.errstate(all="ignore"):  # numpy scalars: overflow gives inf, not OverflowError
         out = code.vector(*(np.float64(v) if v.__class__ is float else v for v in values))
-    i = 0
+    i = k
     for check in core.checks:
         n = len(check.exprs)
         parts = [np.asarray(v, dtype=np.float64) for v in out[i:i + n]]
@@ -330,26 +336,30 @@ def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> None:
             suffix = " (with the given parameter values"
             suffix += f", row {row})" if row is not None else ")"
             raise EquationError(f"{err}{suffix}", err.position)
+    if scalar:
+        return tuple(float(v) for v in out[:k])
+    return tuple(np.asarray(v, dtype=np.float64) for v in out[:k])
 
 
 def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...]) -> Equation:
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
+    rows: tuple[int, ...] = ()
     if not scalar:
         try:
-            np.broadcast_shapes(*(np.shape(v) for v in args))
+            rows = np.broadcast_shapes(*(np.shape(v) for v in args))
         except ValueError:
             shapes = ", ".join(f"{n} {np.shape(v)}" for n, v in values.items()
                                if v.__class__ is not float)
             raise EquationError(f"parameter rows do not broadcast together: {shapes}") from None
-    _run_checks(core, args, scalar)
+    hoisted = _run_checks(core, args, scalar)
     return Equation(
         text=core.text,
         unknown=core.unknown,
         parameters=values,
         names=(core.unknown, *core.parameter_names),
-        f=bound(core.f_code, args),
-        fprime=None if core.fprime_code is None else bound(core.fprime_code, args),
+        f=bound(core.f_code, hoisted, rows),
+        fprime=None if core.fprime_code is None else bound(core.fprime_code, hoisted, rows),
         remarks=remarks,
         _core=core,
     )
@@ -399,33 +409,42 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
     symbolic = floatify_big(lhs.expr if rhs is None else lhs.expr - rhs.expr)
     if not isinstance(symbolic, sp.Basic) or _is_bad(symbolic):
         raise EquationError("part of the equation has no finite real value", None)
+    # Parts with parameters only are computed once per binding and passed to f and f' as
+    # arguments (_h0, _h1, ...), so f costs what it cost when values were folded in.
+    table: dict[Any, Any] = {}
+    unknowns = frozenset((x,))
+    remarks: list[Remark] = []
+    f_expr = hoist(symbolic, unknowns, table)
+    derivative, why = calculus.derivative(symbolic, x)
+    d_expr = None if derivative is None else hoist(derivative, unknowns, table)
+    hoisted = list(table.values())
     try:
-        f_code = Code([symbolic], [x], symbols)
+        f_code = Code([f_expr], [x], hoisted)
     except Exception as err:  # noqa: BLE001 - say so in one line rather than a traceback
         raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
                             None) from None
-    remarks: list[Remark] = []
-    derivative, why = calculus.derivative(symbolic, x)
     fprime_code = None
-    if derivative is not None:
+    if d_expr is not None:
         try:
-            fprime_code = Code([derivative], [x], symbols)
+            fprime_code = Code([d_expr], [x], hoisted)
         except Exception:  # noqa: BLE001 - Newton can still differentiate numerically
             derivative, why = None, "not_compiled"
     if why is not None:
         remarks.append(Remark("no_derivative", why, _LIMITS.get(why, ())))
     checks = tuple(c for c in parser.checks if unknown not in c.names)
-    check_code = None
-    if checks:
+    bind_code = None
+    if table or checks:
         try:
-            check_code = Code([e for c in checks for e in c.exprs], [], symbols, many=True)
+            bind_code = Code([*table, *(e for c in checks for e in c.exprs)], [], symbols,
+                             many=True)
         except Exception as err:  # noqa: BLE001 - one line rather than a traceback
             raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
                                 None) from None
     remarks.extend(_remarks(parser, parser.names, unknown, symbolic, x, text))
     return _Core(text=text, unknown=unknown, parameter_names=tuple(names), symbols=symbols,
                  x=x, symbolic_expr=symbolic, symbolic_derivative=derivative, f_code=f_code,
-                 fprime_code=fprime_code, checks=checks, check_code=check_code,
+                 fprime_code=fprime_code, checks=checks, n_hoisted=len(table),
+                 bind_code=bind_code,
                  sides=(lhs, rhs), remarks=tuple(remarks))
 
 
