@@ -13,7 +13,7 @@ from solvers.methods import (
     newton,
     secant,
 )
-from solvers.result import REASONS, Run, Step, observed_order
+from solvers.records import REASONS, Run, Step, observed_order
 from solvers.scan import Root, Scan, ScanCancelled, scan
 
 __all__ = [

@@ -25,7 +25,7 @@ import numpy as np
 
 from solvers.equation import Equation, parse_equation
 from solvers.methods import METHODS
-from solvers.result import NO_SIGN_CHANGE, Detail, Run
+from solvers.records import NO_SIGN_CHANGE, Detail, Run
 from solvers.scan import Scan, scan
 from solvers.worksheet import Settings, Worksheet
 

@@ -117,7 +117,7 @@ def test_every_code_the_core_records_has_words():
     app.documents.words (a code without words would reach the user as a bare code)."""
     import re
 
-    from solvers.result import REASONS
+    from solvers.records import REASONS
 
     root = Path(__file__).resolve().parents[1] / "solvers"
     source = "\n".join((root / name).read_text("utf-8")

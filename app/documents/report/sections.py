@@ -55,7 +55,7 @@ from app.documents.report.typeset import (
 )
 from app.documents.words import CAUTION, NUMERICAL_DERIVATIVE_NOTE
 from app.documents.worksheet import Worksheet
-from solvers.result import Run
+from solvers.records import Run
 
 # ------------------------------------------------------------------- sections
 
