@@ -120,8 +120,8 @@ def test_every_code_the_core_records_has_words():
     from solvers.records import REASONS
 
     root = Path(__file__).resolve().parents[1] / "solvers"
-    source = "\n".join((root / name).read_text("utf-8")
-                       for name in ("methods.py", "pipeline.py", "result.py"))
+    files = [*sorted((root / "methods").glob("*.py")), root / "pipeline.py", root / "records.py"]
+    source = "\n".join(path.read_text("utf-8") for path in files)
     details = set(re.findall(r'Detail\(\s*"(\w+)"', source))
     details |= {f"{what}_small" for what in re.findall(r'_step_detail\(\s*"(\w+)"', source)}
     starts = set(re.findall(r'StartChoice\(\s*"(\w+)"', source))

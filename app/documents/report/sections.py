@@ -241,7 +241,7 @@ def _settings_section(c: _Context) -> list[Flowable]:
 def _method_kinds(methods: Sequence[str]) -> set[str]:
     from solvers.methods import METHODS
 
-    return {getattr(METHODS.get(m), "kind", "") for m in methods}
+    return {METHODS[m].kind for m in methods if m in METHODS}
 
 
 def _results_section(c: _Context) -> list[Flowable]:
