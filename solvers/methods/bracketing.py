@@ -10,7 +10,6 @@ from __future__ import annotations
 import math
 import sys
 from dataclasses import dataclass, field
-from typing import Any
 
 from solvers.methods.common import (
     _TINY,
@@ -39,6 +38,7 @@ from solvers.records import (
     NOT_FINITE,
     Detail,
     Run,
+    Setting,
     Step,
 )
 
@@ -55,7 +55,7 @@ class _Bracket:
 
 
 def _start_bracket(
-    method: str, ev: _Evaluator, settings: dict[str, Any], steps: list[Step]
+    method: str, ev: _Evaluator, settings: dict[str, Setting], steps: list[Step]
 ) -> Run | _Bracket:
     """Evaluate both ends of ``settings["bracket"]``; return a finished Run if they settle it.
 
@@ -169,7 +169,9 @@ def _straight_through(x: float, x1: float, f1: float, x2: float, f2: float, tol:
     return abs(chord) <= _CHORD_SHARE * max(abs(f1), abs(f2))
 
 
-def _bracket_settings(xtol, rtol, ftol, max_iter, a, b) -> dict[str, Any]:
+def _bracket_settings(
+    xtol: float, rtol: float, ftol: float, max_iter: int, a: float, b: float
+) -> dict[str, Setting]:
     bracket = (_start_value(a, "bracket end a"), _start_value(b, "bracket end b"))
     return dict(_check_settings(xtol, rtol, ftol, max_iter), bracket=bracket)
 

@@ -24,6 +24,7 @@ from solvers.records import (
     X_TOLERANCE,
     Detail,
     Run,
+    Setting,
     Step,
 )
 
@@ -42,7 +43,9 @@ DEFAULT_MAX_ITER = 100
 DERIVATIVE_STEP = EPS ** (1.0 / 3.0)
 DERIVATIVE_FLOOR = 1e-3
 
-Function = Callable[[float], Any]
+# f(x) in the units of f; numpy scalars and 0-d arrays are converted, anything else
+# (a complex value, a list, an exception) is recorded in the run.
+Function = Callable[[float], float]
 
 # --------------------------------------------------------------------------- helpers
 
@@ -97,10 +100,10 @@ class _Evaluator:
         return math.nan
 
 
-def _check_settings(xtol: float, rtol: float, ftol: float, max_iter: int) -> dict[str, Any]:
+def _check_settings(xtol: float, rtol: float, ftol: float, max_iter: int) -> dict[str, Setting]:
     """Validate the stopping rules; a bad setting is the caller's error (ValueError)."""
     values = {"xtol": xtol, "rtol": rtol, "ftol": ftol}
-    checked: dict[str, Any] = {}
+    checked: dict[str, Setting] = {}
     for name, value in values.items():
         try:
             number = float(value)
@@ -150,7 +153,7 @@ def _finish(
     steps: list[Step],
     iterations: int,
     evaluations: int,
-    settings: dict[str, Any],
+    settings: dict[str, Setting],
     detail: Detail | None = None,
     derivative: str | None = None,
     note: Detail | None = None,
@@ -263,7 +266,7 @@ _PROBE_GROWTH = 1.5  # |f| must grow at least this much there for a root
 
 def _closed_bracket_reason(
     ev: _Evaluator,
-    settings: dict[str, Any],
+    settings: dict[str, Setting],
     lo: float,
     flo: float,
     hi: float,
