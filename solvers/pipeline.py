@@ -367,7 +367,30 @@ def agreement_digits(runs: Sequence[Run], xtol: float = 0.0) -> int | None:
 
 
 def solve(ws: Worksheet, equation: Equation | None = None) -> Solution:
-    """Parse (unless given) and run every method of the worksheet side by side."""
+    """Parse (unless given) and run every method of the worksheet side by side.
+
+    Parameters
+    ----------
+    ws : Worksheet
+        The equation, its parameters, the methods and their settings (tolerances in
+        the units of the unknown and of f).
+    equation : Equation, optional
+        The worksheet's equation already parsed; parsed from ``ws`` when None.
+
+    Returns
+    -------
+    Solution
+        The runs in the worksheet's method order, the start values and how each was
+        chosen, and the figures on which the converged roots agree. A method that
+        fails gives a run with its reason, never an exception.
+
+    Raises
+    ------
+    EquationError
+        When the equation does not parse (one line, with the position).
+    ValueError
+        For a method name that is not in :data:`solvers.methods.METHODS`.
+    """
     eq = equation if equation is not None else equation_of(ws)
     sv = start_values(ws, eq)
     runs = run_methods(eq, sv, ws.settings)
