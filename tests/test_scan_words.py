@@ -20,7 +20,7 @@ from PySide6.QtCore import Qt
 from app.cli import main as cli_main
 from app.documents import words, worksheet
 from solvers import parse_equation
-from solvers.result import Detail
+from solvers.records import Detail
 from solvers.scan import scan
 from solvers.scan.records import CONFIRMED_CODES, SCAN_DETAIL_CODES
 

@@ -34,7 +34,7 @@ from app.documents.words import (
     scan_warnings,
     start_notes,
 )
-from solvers.result import Run
+from solvers.records import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
 ROOT_COLUMNS = ("kind", "x", "residual", "multiplicity", "confirmed", "located_by")

@@ -142,7 +142,7 @@ def method_names(methods: Iterable[str]) -> str:
 
 # ----------------------------------------------------------------- stop reasons
 
-# One line for each value of Run.reason (solvers.result.REASONS).
+# One line for each value of Run.reason (solvers.records.REASONS).
 REASON_TEXT: dict[str, str] = {
     "x_tolerance": "step below tolerance |dx| <= xtol + rtol*|x|",
     "f_tolerance": "residual below tolerance |f| <= ftol",
@@ -166,7 +166,7 @@ def _underflow(v: Sequence[Any]) -> str:
             "beside it): not a confirmed root")
 
 
-# Words for each solvers.result.Detail code, from its values (see solvers.methods).
+# Words for each solvers.records.Detail code, from its values (see solvers.methods).
 DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
     "raised": lambda v: f"{v[0]} raised {v[1]} at x = {exact(v[2])}",
     "many_values": lambda v: f"{v[0]} returned {v[1]} values at x = {exact(v[2])}, not one",
@@ -214,7 +214,7 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
 
 
 def detail_text(detail: Any) -> str:
-    """Words for a :class:`solvers.result.Detail` ('' for None, the code if unknown)."""
+    """Words for a :class:`solvers.records.Detail` ('' for None, the code if unknown)."""
     if detail is None:
         return ""
     words = DETAIL_TEXT.get(detail.code)
@@ -416,7 +416,7 @@ SCAN_DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
 
 
 def scan_detail_text(detail: Any) -> str:
-    """Words for one :class:`solvers.result.Detail` of ``Scan.details``."""
+    """Words for one :class:`solvers.records.Detail` of ``Scan.details``."""
     words = SCAN_DETAIL_TEXT.get(detail.code)
     return words(detail.values) if words is not None else detail.code.replace("_", " ")
 

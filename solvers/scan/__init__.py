@@ -108,7 +108,7 @@ defined ones survive). Floating-point warnings are suppressed during the scan.
 
 The scan records codes and numbers, never sentences: ``Root.confirmed`` holds codes of
 :data:`~solvers.scan.records.CONFIRMED_CODES`, ``Scan.details`` holds
-:class:`~solvers.result.Detail` records with codes of
+:class:`~solvers.records.Detail` records with codes of
 :data:`~solvers.scan.records.SCAN_DETAIL_CODES`; :mod:`app.documents.words` words them.
 
 Modules: :mod:`~solvers.scan.records` (what a scan returns), :mod:`~solvers.scan.sampling`

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from solvers.result import Detail
+from solvers.records import Detail
 from solvers.scan.features import _finish, _touch
 from solvers.scan.kernels import _golden, _resolve_brackets
 from solvers.scan.noise import _at_noise

@@ -11,7 +11,7 @@ from collections.abc import Callable
 
 import numpy as np
 
-from solvers.result import Detail
+from solvers.records import Detail
 from solvers.scan.crosscheck import ChebyshevRoots, _cross_check, chebyshev_roots
 from solvers.scan.features import (
     _beside_poles,

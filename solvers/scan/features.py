@@ -9,7 +9,7 @@ import math
 
 import numpy as np
 
-from solvers.result import Detail
+from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
 from solvers.scan.noise import _at_noise, _noise
 from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found

@@ -30,7 +30,7 @@ from collections.abc import Callable
 
 import numpy as np
 
-from solvers.result import Detail
+from solvers.records import Detail
 from solvers.scan.records import EPS, Root
 from solvers.scan.sampling import _Guarded
 

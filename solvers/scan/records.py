@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from solvers.result import Detail, Run
+from solvers.records import Detail, Run
 
 EPS = float(np.finfo(float).eps)
 
@@ -124,7 +124,7 @@ class Scan:
     smooth there); ``chebyshev_roots``: the real zeros it located. ``noise_bands``:
     stretches where |f| is within its own rounding noise, each reported as one root
     cluster at its middle (x uncertain by the half-width). ``details``: what a checker
-    should know about the scan, as :class:`solvers.result.Detail` records (codes of
+    should know about the scan, as :class:`solvers.records.Detail` records (codes of
     :data:`SCAN_DETAIL_CODES`; :func:`app.documents.words.scan_warnings` words them).
     ``check``: the cross-check that ran ("derivative", "chebyshev" or "off"; see :func:`scan`).
     """
