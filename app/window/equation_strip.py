@@ -242,11 +242,13 @@ class EquationStrip(QWidget):
     """Editor, typeset equation and derivative, unknown chooser and status line.
 
     Signals: ``text_settled(str)`` after the user stops typing for DEBOUNCE_MS,
-    ``unknown_chosen(str)`` ('' for automatic) when the user picks the unknown.
+    ``unknown_chosen(str)`` ('' for automatic) when the user picks the unknown,
+    ``text_edited()`` at once on every change of the text.
     """
 
     text_settled = Signal(str)
     unknown_chosen = Signal(str)
+    text_edited = Signal()  # every change of the text (blocked with the strip while loading)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -308,8 +310,8 @@ class EquationStrip(QWidget):
         self._timer.setInterval(DEBOUNCE_MS)
         self._timer.timeout.connect(lambda: self.text_settled.emit(self.text()))
         self.editor.textChanged.connect(self._timer.start)
+        self.editor.textChanged.connect(self.text_edited)
         self.unknown_box.activated.connect(self._on_unknown_activated)
-        self._filling = False
         self.analysis: Analysis | None = None
 
     # -- reading and writing the text
@@ -324,20 +326,17 @@ class EquationStrip(QWidget):
         data = self.unknown_box.currentData()
         return data or None
 
+    # ``activated`` comes only from the user, never from filling the box in code, so
+    # refilling it needs no guard.
     def set_chosen_unknown(self, name: str | None) -> None:
-        self._filling = True
-        try:
-            self.unknown_box.clear()
-            self.unknown_box.addItem(AUTO, "")
-            if name:
-                self.unknown_box.addItem(name, name)
-                self.unknown_box.setCurrentIndex(1)
-        finally:
-            self._filling = False
+        self.unknown_box.clear()
+        self.unknown_box.addItem(AUTO, "")
+        if name:
+            self.unknown_box.addItem(name, name)
+            self.unknown_box.setCurrentIndex(1)
 
     def _on_unknown_activated(self, _index: int) -> None:
-        if not self._filling:
-            self.unknown_chosen.emit(self.unknown_box.currentData() or "")
+        self.unknown_chosen.emit(self.unknown_box.currentData() or "")
 
     # -- showing an analysis
     def show_analysis(self, analysis: Analysis) -> None:
@@ -381,20 +380,16 @@ class EquationStrip(QWidget):
         self.status.setStyleSheet("color: #1F5F3F;" if ok else "color: #8A2B00; font-weight: bold;")
 
     def _fill_unknowns(self, analysis: Analysis) -> None:
-        self._filling = True
-        try:
-            chosen = self.chosen_unknown()
-            self.unknown_box.clear()
-            self.unknown_box.addItem(
-                AUTO if not analysis.unknown or chosen else f"{AUTO}: {analysis.unknown}", "")
-            for name in analysis.candidates:
-                self.unknown_box.addItem(name, name)
-            if chosen and chosen in analysis.candidates:
-                self.unknown_box.setCurrentIndex(self.unknown_box.findData(chosen))
-            else:
-                self.unknown_box.setCurrentIndex(0)
-        finally:
-            self._filling = False
+        chosen = self.chosen_unknown()
+        self.unknown_box.clear()
+        self.unknown_box.addItem(
+            AUTO if not analysis.unknown or chosen else f"{AUTO}: {analysis.unknown}", "")
+        for name in analysis.candidates:
+            self.unknown_box.addItem(name, name)
+        if chosen and chosen in analysis.candidates:
+            self.unknown_box.setCurrentIndex(self.unknown_box.findData(chosen))
+        else:
+            self.unknown_box.setCurrentIndex(0)
 
     def _highlight(self, position: int | None) -> None:
         """Mark the offending character (or the end of the text) with a wavy vermillion line."""
