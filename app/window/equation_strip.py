@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import io
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from PySide6.QtCore import Qt, QTimer, Signal
@@ -118,6 +118,17 @@ def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
     return Analysis(**base, equation=equation, notes=notes,
                     latex=getattr(equation, "latex", ""),
                     derivative_latex=_derivative_latex(equation))
+
+
+def name_bad_values(analysis: Analysis, parameters: Any) -> Analysis:
+    """Say "P: 'abc' is not a finite number" instead of "no value for P" when P has a
+    value typed that is not a number (the parser only knows it got none)."""
+    bad = [row.problem for row in parameters.rows()
+           if row.name in analysis.missing and row.text.strip() and row.problem]
+    if not bad or analysis.ok:
+        return analysis
+    return replace(analysis, error="; ".join(bad) + " (in the parameters table)",
+                   position=None)
 
 
 def _derivative_latex(equation: Any) -> str:

@@ -25,38 +25,18 @@ from app.documents.worksheet import Parameter, Selection, Worksheet
 from app.window.canvas import PlotPanel
 from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextDialog
 from app.window.document import Staleness, WorksheetDocument, result_key, scan_key
-from app.window.equation_strip import Analysis, EquationStrip, analyse
+from app.window.equation_strip import Analysis, EquationStrip, analyse, name_bad_values
 from app.window.file_actions import DEFAULT_SAMPLE, FileActions
 from app.window.inputs import InputsPanel
+from app.window.jobs import polish_job, scan_job, solve_job
 from app.window.lanes import LanesPanel
 from app.window.models import format_number
 from app.window.recovery import RecoveryStore
-from app.window.roots import RootsPanel, scan_summary
+from app.window.roots import RootsPanel, agreement_words, scan_summary
 from app.window.workers import JobRunner
 
 APP_NAME = "zerotrace"
 AUTOSAVE_MS = 20_000
-
-
-def plot_range(ws: Worksheet, solution: Any = None) -> tuple[float, float]:
-    """Where to draw f: the scan range, else the bracket widened, else around x0 or the roots."""
-    if ws.scan is not None:
-        return ws.scan
-    start = solution.start if solution is not None else None
-    bracket = ws.settings.bracket or (start.bracket if start is not None else None)
-    if bracket is not None:
-        a, b = bracket
-        pad = 0.15 * (b - a)
-        return (a - pad, b + pad)
-    points = [x for x in (ws.settings.x0, start.x0 if start is not None else None)
-              if x is not None]
-    if solution is not None:
-        points += [r.root for r in solution.runs if r.converged and math.isfinite(r.root)]
-    if not points:
-        return (-10.0, 10.0)
-    lo, hi = min(points), max(points)
-    half = max(hi - lo, 0.5 * max(abs(lo), abs(hi)), 1.0)
-    return (lo - half, hi + half)
 
 
 class MainWindow(QMainWindow):
@@ -248,42 +228,16 @@ class MainWindow(QMainWindow):
         self._inputs_timer.timeout.connect(self.request_analysis)
 
     # ------------------------------------------------------------------ the document
-    # What tests and tools read of the document, by its old names.
-    @property
-    def path(self) -> Path | None:
-        return self.document.path
-
-    @property
-    def analysis(self) -> Analysis | None:
-        return self.document.analysis
-
-    @property
-    def solution(self) -> Any:
-        return self.document.solution
-
-    @property
-    def scan_result(self) -> Any:
-        return self.document.scan
-
-    @property
-    def _saved_text(self) -> str:
-        return self.document.saved_text
-
-    @_saved_text.setter
-    def _saved_text(self, text: str) -> None:
-        self.document.saved_text = text
-
-    @property
-    def _touched(self) -> bool:
-        return self.document.touched
-
-    @_touched.setter
-    def _touched(self, touched: bool) -> None:
-        self.document.touched = touched
-
-    @property
-    def report_result(self) -> Any:
-        return self.files.report_result
+    # The document's state by the names tests and tools read (and two they reset).
+    path = property(lambda self: self.document.path)
+    analysis = property(lambda self: self.document.analysis)
+    solution = property(lambda self: self.document.solution)
+    scan_result = property(lambda self: self.document.scan)
+    report_result = property(lambda self: self.files.report_result)
+    _saved_text = property(lambda self: self.document.saved_text,
+                           lambda self, text: setattr(self.document, "saved_text", text))
+    _touched = property(lambda self: self.document.touched,
+                        lambda self, touched: setattr(self.document, "touched", touched))
 
     def worksheet(self) -> Worksheet:
         """The worksheet as it stands on screen (last good value where an input is wrong)."""
@@ -372,7 +326,7 @@ class MainWindow(QMainWindow):
     def _show_analysis(self, analysis: Analysis) -> None:
         if analysis.names:  # fills the table; never an edit (the model emits no ``edited``)
             self.inputs.parameters.set_names([n for n in analysis.names if n != analysis.unknown])
-        self.strip.show_analysis(_name_bad_values(analysis, self.inputs.parameters))
+        self.strip.show_analysis(name_bad_values(analysis, self.inputs.parameters))
         self.inputs.show_problems()
         self._refresh_title()
         self._update_actions()
@@ -403,7 +357,7 @@ class MainWindow(QMainWindow):
         key = result_key(ws)
         self.solve_started_at = time.perf_counter()
         self.statusBar().showMessage("Solving…")
-        self.runner.submit("solve", lambda _p, _c: _solve_job(ws, equation, scan),
+        self.runner.submit("solve", lambda _p, _c: solve_job(ws, equation, scan),
                            on_done=lambda result: self._on_solved(result, key, scan),
                            on_error=self._on_solve_error)
         return True
@@ -430,8 +384,6 @@ class MainWindow(QMainWindow):
         self.last_error = message
         self.statusBar().showMessage(message, 15000)
 
-    _report = report_problem
-
     # ------------------------------------------------------------------ scan
     def start_scan(self) -> bool:
         if self.runner.is_busy("scan"):
@@ -447,7 +399,7 @@ class MainWindow(QMainWindow):
         equation = self.document.equation_for(ws)
         self.progress_updates = 0
         self.roots.scan_started(*ws.scan)
-        self.runner.submit("scan", lambda progress, cancel: _scan_job(ws, equation, progress,
+        self.runner.submit("scan", lambda progress, cancel: scan_job(ws, equation, progress,
                                                                       cancel),
                            on_done=lambda result: self._on_scanned(result, ws, key),
                            on_error=self._on_scan_error, on_cancel=self._on_scan_cancelled,
@@ -519,7 +471,7 @@ class MainWindow(QMainWindow):
                 self.inputs.set_field("b", s.bracket[1])
             self._on_solved(result, result_key(self.solve_worksheet()), scan)
 
-        self.runner.submit("solve", lambda _p, _c: _polish_job(ws, equation, x, scan),
+        self.runner.submit("solve", lambda _p, _c: polish_job(ws, equation, x, scan),
                            on_done=done, on_error=self._on_solve_error)
         return True
 
@@ -538,7 +490,7 @@ class MainWindow(QMainWindow):
             run = solution.converged_runs[0]
             x = run.root
             reason = (f"converged root of {figures.method_label(run.method)}; "
-                      + _agreement_words(solution))
+                      + agreement_words(solution))
         else:
             self.report_problem("Nothing to take: select a root of the scan, or solve first")
             return False
@@ -639,66 +591,6 @@ class MainWindow(QMainWindow):
         self.runner.stop()
         self.recovery.clear()
         event.accept()
-
-
-# ---------------------------------------------------------------------- background jobs
-# Plain functions: they run in worker threads and touch no widget. ``equation`` is the
-# document's parse of exactly this worksheet, or None when the job must parse it.
-
-
-def _breaks(scan: Any) -> list[float]:
-    return list(scan.poles) + list(scan.discontinuities) if scan is not None else []
-
-
-def _solve_job(ws: Worksheet, equation: Any, scan: Any) -> tuple[Any, tuple[float, float], Any]:
-    from solvers import pipeline
-
-    solution = pipeline.solve(ws, equation)
-    a, b = plot_range(ws, solution)
-    return solution, (a, b), figures.curve(solution.equation.f, a, b, breaks=_breaks(scan))
-
-
-def _polish_job(ws: Worksheet, equation: Any, x: float,
-                scan: Any) -> tuple[Any, tuple[float, float], Any]:
-    from solvers import pipeline
-
-    solution = pipeline.polish(ws, x, equation)
-    a, b = plot_range(ws, solution)
-    breaks = list(scan.poles) if scan is not None else []
-    return solution, (a, b), figures.curve(solution.equation.f, a, b, breaks=breaks)
-
-
-def _scan_job(ws: Worksheet, equation: Any, progress: Any, cancel: Any) -> tuple[Any, Any, Any]:
-    from solvers import pipeline
-
-    if equation is None:
-        equation = pipeline.equation_of(ws)
-    scan = pipeline.scan_worksheet(ws, equation, progress=progress, cancel=cancel)
-    return scan, equation, figures.curve(equation.f, scan.a, scan.b, breaks=_breaks(scan))
-
-
-def _agreement_words(solution: Any) -> str:
-    """How the converged methods compare, for the design value's reason."""
-    groups = solution.agreement.groups
-    if len(groups) > 1:
-        return "the methods converged to different roots: " + ", ".join(
-            f"{_num(x)} ({', '.join(figures.method_label(m) for m in ms)})" for x, ms in groups)
-    if solution.agreement_digits is None:
-        return "no other method converged to cross-check it"
-    return f"methods agree to {solution.agreement_digits} significant figures"
-
-
-def _name_bad_values(analysis: Analysis, parameters: Any) -> Analysis:
-    """Say "P: 'abc' is not a finite number" instead of "no value for P" when P has a
-    value typed that is not a number (the parser only knows it got none)."""
-    from dataclasses import replace
-
-    bad = [row.problem for row in parameters.rows()
-           if row.name in analysis.missing and row.text.strip() and row.problem]
-    if not bad or analysis.ok:
-        return analysis
-    return replace(analysis, error="; ".join(bad) + " (in the parameters table)",
-                   position=None)
 
 
 def _num(x: float) -> str:

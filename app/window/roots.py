@@ -208,3 +208,14 @@ class RootsPanel(QGroupBox):
         if watched is self.view.viewport() and event.type() == QEvent.Type.Resize:
             self.size_columns()
         return super().eventFilter(watched, event)
+
+
+def agreement_words(solution: Any) -> str:
+    """How the converged methods compare, for the design value's reason."""
+    groups = solution.agreement.groups
+    if len(groups) > 1:
+        return "the methods converged to different roots: " + ", ".join(
+            f"{_num(x)} ({', '.join(figures.method_label(m) for m in ms)})" for x, ms in groups)
+    if solution.agreement_digits is None:
+        return "no other method converged to cross-check it"
+    return f"methods agree to {solution.agreement_digits} significant figures"

@@ -1,0 +1,155 @@
+"""The window's document model on its own (no window): what it says, and when.
+
+The numbers are an invented pump-on-system scenario of our own (not from any text).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+
+pytest.importorskip("PySide6")
+
+from app.documents.worksheet import Parameter, Selection, Settings, Worksheet  # noqa: E402
+from app.window.document import Staleness, WorksheetDocument, result_key, scan_key  # noqa: E402
+from app.window.equation_strip import analyse  # noqa: E402
+
+PUMP = "42 - 8.5*Q - 310*Q^2 = Hs + ks*Q^1.85"  # invented pump and system curves
+
+
+def _sheet(**changes) -> Worksheet:
+    base = Worksheet(equation=PUMP, unknown="Q",
+                     parameters=(Parameter("Hs", 12.0, ""), Parameter("ks", 95.0, "")),
+                     settings=Settings(x0=0.2), scan=(0.0, 0.5))
+    return base.with_changes(**changes)
+
+
+class Recorder:
+    """Every emission of every signal of a document, in order."""
+
+    NAMES = ("worksheetChanged", "equationChanged", "resultsChanged", "staleChanged",
+             "modifiedChanged", "pathChanged", "selectionChanged")
+
+    def __init__(self, doc: WorksheetDocument) -> None:
+        self.seen: list[tuple[str, tuple]] = []
+        for name in self.NAMES:
+            getattr(doc, name).connect(lambda *args, name=name: self.seen.append((name, args)))
+
+    def of(self, name: str) -> list[tuple]:
+        return [args for n, args in self.seen if n == name]
+
+    def clear(self) -> None:
+        self.seen.clear()
+
+
+@pytest.fixture
+def doc(qtbot) -> WorksheetDocument:
+    document = WorksheetDocument()
+    document.load(_sheet(), Path("pump.json"))
+    document.mark_loaded(_sheet(), modified=False)
+    return document
+
+
+def test_loading_announces_the_worksheet_and_drops_the_old_results(qtbot) -> None:
+    doc = WorksheetDocument()
+    doc.set_solution(object(), "old")
+    seen = Recorder(doc)
+    with qtbot.waitSignal(doc.worksheetChanged) as blocker:
+        doc.load(_sheet(), Path("pump.json"))
+    assert blocker.args == [_sheet()]
+    assert seen.of("pathChanged") == [(Path("pump.json"),)]
+    assert seen.of("resultsChanged") == [()]
+    assert seen.of("staleChanged") == [(Staleness(),)]
+    assert doc.solution is None and doc.scan is None and doc.plot_key is None
+
+
+def test_modified_is_said_once_when_it_changes_and_again_when_undone(doc) -> None:
+    seen = Recorder(doc)
+    doc.edited(_sheet(), bad_inputs=False)  # touched, but equal to the file
+    assert seen.of("modifiedChanged") == []
+    edited = _sheet(settings=Settings(x0=0.3))
+    doc.edited(edited, bad_inputs=False)
+    doc.edited(edited.with_changes(notes="a second edit, still modified"), bad_inputs=False)
+    assert seen.of("modifiedChanged") == [(True,)]
+    doc.edited(_sheet(), bad_inputs=False)
+    assert seen.of("modifiedChanged") == [(True,), (False,)]
+    # Text that is not a number yet is unsaved work even when the last good value matches.
+    assert doc.is_modified(_sheet(), bad_inputs=True)
+
+
+def test_parameter_order_is_not_a_modification(doc) -> None:
+    reordered = _sheet(parameters=(Parameter("ks", 95.0, ""), Parameter("Hs", 12.0, "")))
+    assert not doc.is_modified(reordered, bad_inputs=False)
+
+
+def test_saving_clears_modified_and_names_the_new_file(doc, tmp_path) -> None:
+    doc.edited(_sheet(settings=Settings(x0=0.3)), bad_inputs=False)
+    seen = Recorder(doc)
+    doc.mark_saved(_sheet(settings=Settings(x0=0.3)), tmp_path / "copy.json")
+    assert seen.of("modifiedChanged") == [(False,)]
+    assert seen.of("pathChanged") == [(tmp_path / "copy.json",)]
+    assert not doc.is_modified(_sheet(settings=Settings(x0=0.3)), bad_inputs=False)
+
+
+def test_a_start_value_makes_the_solution_stale_but_not_the_scan(doc) -> None:
+    ws = _sheet()
+    doc.set_scan(object(), object(), scan_key(ws))
+    doc.set_solution(object(), result_key(ws))
+    doc.refresh_stale(ws)
+    seen = Recorder(doc)
+    doc.edited(_sheet(settings=Settings(x0=0.35)), bad_inputs=False)
+    # The plot was last drawn by the solution, so it is stale with it.
+    assert seen.of("staleChanged") == [(Staleness(plot=True, solution=True, scan=False),)]
+    doc.edited(_sheet(settings=Settings(x0=0.36)), bad_inputs=False)
+    assert len(seen.of("staleChanged")) == 1  # no news, no signal
+    doc.edited(_sheet(scan=(0.0, 0.6)), bad_inputs=False)
+    assert seen.of("staleChanged")[-1] == (Staleness(plot=True, solution=True, scan=True),)
+    doc.edited(ws.with_changes(notes="notes and the title block change no result"),
+               bad_inputs=False)
+    assert seen.of("staleChanged")[-1] == (Staleness(),)
+    assert doc.solution_for(ws) is doc.solution and doc.scan_for(ws) is doc.scan
+    assert doc.solution_for(_sheet(settings=Settings(x0=0.35))) is None
+    assert doc.scan_for(_sheet(settings=Settings(x0=0.35))) is doc.scan
+
+
+def test_the_parsed_equation_is_handed_out_only_for_exactly_its_worksheet(doc) -> None:
+    ws = _sheet()
+    analysis = analyse(ws.equation, "Q", ws.parameter_values())
+    with_signal = Recorder(doc)
+    doc.set_analysis(analysis)
+    assert with_signal.of("equationChanged") == [(analysis,)]
+    eq = doc.equation_for(ws)
+    assert eq is analysis.equation  # parsed once, reused by Solve, Scan and Polish
+    # f(Q) = lhs - rhs, checked against plain float arithmetic (common practice).
+    q = 0.2
+    expected = (42 - 8.5 * q - 310 * q**2) - (12.0 + 95.0 * q**1.85)
+    assert float(eq.f(q)) == pytest.approx(expected, rel=1e-14)
+    # Other text or another unknown: the job must parse.
+    assert doc.equation_for(ws.with_changes(equation=PUMP + " + 1")) is None
+    assert doc.equation_for(ws.with_changes(unknown="Hs")) is None
+    # Other values: bound late where the equation can bind, else parsed again.
+    changed = ws.with_changes(parameters=(Parameter("Hs", 14.0, ""), Parameter("ks", 95.0, "")))
+    bound = doc.equation_for(changed)
+    if hasattr(type(eq), "bind"):
+        expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)
+        assert float(bound.f(q)) == pytest.approx(expected, rel=1e-14)
+    else:
+        assert bound is None
+
+
+def test_a_bad_equation_hands_out_nothing_and_keeps_its_column(doc) -> None:
+    analysis = analyse("42 - 8.5*Q - = Hs", "Q", {"Hs": 12.0})
+    doc.set_analysis(analysis)
+    assert not analysis.ok and analysis.position is not None
+    assert doc.equation_for(_sheet(equation="42 - 8.5*Q - = Hs")) is None
+
+
+def test_the_design_value_is_recorded_and_announced(doc) -> None:
+    seen = Recorder(doc)
+    chosen = Selection(0.2413, "root 1 of 1 found by the scan")
+    doc.set_selection(chosen)
+    assert doc.record.selection == chosen and doc.touched
+    assert seen.of("selectionChanged") == [(chosen,)]
+    doc.change_record(doc.record.with_changes(title="pump P-101 duty point"))
+    assert seen.of("selectionChanged") == [(chosen,)]  # the title is not the design value
