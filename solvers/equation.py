@@ -96,7 +96,6 @@ __all__ = [
     "Equation",
     "EquationError",
     "free_names",
-    "mathtext",
     "parse_equation",
 ]
 
@@ -104,6 +103,12 @@ MAX_LENGTH = 2000  # characters; a long design equation is a few hundred
 MAX_DEPTH = 100  # nesting levels: parentheses, signs and exponents together
 MAX_NAME = 40  # characters in one name
 MAX_DERIVATIVE_NODES = 5_000  # larger symbolic derivatives are not compiled (numerical f')
+# Typesetting budget: LaTeX longer than this is not typeset (mathtext takes ~0.4 s per
+# 1,000 characters and the result is unreadable on a strip or a page anyway), and a
+# derivative of more nodes than this is not even printed to LaTeX. Callers show "too
+# large to typeset" instead.
+MAX_TYPESET_CHARS = 2_000
+MAX_TYPESET_NODES = 1_500
 MAX_KINK_NESTING = 8  # deeper abs/min/max nesting: no symbolic derivative (sympy is too slow)
 MAX_KINK_DEPTH = 20  # deeper abs/min/max nesting is refused (sympy's checks grow ~depth^4)
 _BIG_INT = 2**53  # larger exact integers become floats before compiling
@@ -848,6 +853,14 @@ _LATEX_SETTINGS = {"ln_notation": True}  # a printer per call: printers keep sta
 
 
 def _latex(expr: Any) -> str:
+    # The printer asks sign questions of every exponent (is it negative? is it constant?)
+    # to decide what goes under a fraction bar; with real symbols, exp(-exp(-...(x)))
+    # answers them by simplifying, which took time exponential in the depth (133 s for 14
+    # levels). The same names without assumptions print the same text and answer at once.
+    plain = {s: sp.Symbol(s.name) for s in getattr(expr, "free_symbols", ())
+             if isinstance(s, sp.Symbol) and s.assumptions0}
+    if plain:
+        expr = expr.xreplace(plain)
     printer = _MathtextLatexPrinter(_LATEX_SETTINGS)
     try:
         tex = printer.doprint(expr)
@@ -855,21 +868,6 @@ def _latex(expr: Any) -> str:
         tex = printer.doprint(_floatify_big(expr))
     # mathtext has no \operatorname in older matplotlib; \mathrm looks the same.
     return tex.replace(r"\operatorname{", r"\mathrm{")
-
-
-def mathtext(latex: str, fallback: str) -> str:
-    """``$latex$`` when matplotlib's mathtext can render it, else ``fallback`` as plain text.
-
-    Imports matplotlib lazily (the parser itself never needs it). Use for Figure text.
-    """
-    from matplotlib.mathtext import MathTextParser
-
-    candidate = f"${latex}$"
-    try:
-        MathTextParser("agg").parse(candidate, dpi=72)
-    except Exception:  # noqa: BLE001 - any mathtext failure means: show plain text
-        return fallback.replace("$", r"\$")
-    return candidate
 
 
 # ---------------------------------------------------------------------------------------------
@@ -1141,14 +1139,27 @@ class Equation:
 
     @property
     def derivative_latex(self) -> str:
-        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none."""
+        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none, or if
+        it is over the typesetting budget (:data:`MAX_TYPESET_NODES` nodes,
+        :data:`MAX_TYPESET_CHARS` characters): see :attr:`derivative_too_large`."""
+        if "dlatex" not in self._cache:
+            self._cache["dlatex"] = self._derivative_latex()
+        return self._cache["dlatex"]
+
+    @property
+    def derivative_too_large(self) -> bool:
+        """True when there is a symbolic derivative but it is over the typesetting budget."""
+        return self.symbolic_derivative is not None and not self.derivative_latex
+
+    def _derivative_latex(self) -> str:
         d = self.symbolic_derivative
-        if d is None:
+        if d is None or _node_count(d, MAX_TYPESET_NODES) > MAX_TYPESET_NODES:
             return ""
         # Constants folded while differentiating (1/3.7 -> 0.27027027027027) are shown to
         # six significant figures: the typeset form is for reading; f' itself is exact.
         short = {c: sp.Float(float(f"{float(c):.6g}")) for c in d.atoms(sp.Float)}
-        return _latex(d.xreplace(short) if short else d)
+        tex = _latex(d.xreplace(short) if short else d)
+        return tex if len(tex) <= MAX_TYPESET_CHARS else ""
 
     def residual_mp(self, x: Any, dps: int = 50) -> Any:
         """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).
@@ -1173,11 +1184,6 @@ class Equation:
             if isinstance(r, mpmath.mpc):
                 return mpmath.mpf(r.real) if r.imag == 0 else mpmath.mpf("nan")
             return +mpmath.mpf(r)
-
-    def mathtext(self) -> str:
-        """The typeset equation for a matplotlib Text: ``$...$``, or the plain text if
-        mathtext cannot render it."""
-        return mathtext(self.latex, self.text)
 
 
 def _validate_parameters(parameters: Mapping[str, Any] | None) -> dict[str, float]:

@@ -18,13 +18,13 @@ import scipy.optimize
 import scipy.special
 import sympy as sp
 
+from app.documents.typesetting import mathtext
 from solvers.equation import (
     MAX_DEPTH,
     MAX_LENGTH,
     Equation,
     EquationError,
     free_names,
-    mathtext,
     parse_equation,
 )
 
@@ -669,7 +669,7 @@ class TestTypeset:
     def test_mathtext_fallback_is_the_plain_text(self):
         assert mathtext(r"\begin{cases} x \end{cases}", "x = 1 $") == r"x = 1 \$"
         eq = parse_equation("2x = 1")
-        assert eq.mathtext() == "$2 x = 1$"
+        assert mathtext(eq.latex, eq.text) == "$2 x = 1$"
 
 
 class TestHighPrecisionResidual:

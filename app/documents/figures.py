@@ -20,7 +20,9 @@ treated as "undefined at this x" and leave a gap in the line.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Iterable, Sequence
+import threading
+from collections.abc import Callable, Iterable, Iterator, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass
 from typing import Any
 
@@ -28,6 +30,51 @@ import numpy as np
 
 from solvers.methods import LABELS
 from solvers.result import Run
+
+# matplotlib is not thread-safe: its mathtext parser and font objects are shared, and two
+# threads rendering at once raised spurious parse errors and corrupted the heap. Every
+# zerotrace caller that renders (window canvases, typesetting, the report's figures and
+# formulas) holds this one lock while matplotlib lays out or draws. Re-entrant, so a
+# drawing helper may call another.
+MATPLOTLIB_LOCK = threading.RLock()
+
+
+@contextmanager
+def typesetting() -> Iterator[None]:
+    """Hold :data:`MATPLOTLIB_LOCK` while mathtext sets a formula, then release what
+    mathtext keeps behind.
+
+    matplotlib's mathtext leaks for the life of the process: a class-level
+    ``functools.cache`` (the sized alternatives of delimiters and radicals) keeps every
+    font set it was asked about, and each glyph it loads stays in the shared per-thread
+    font objects until those are cleared. Every typeset equation and derivative added
+    ~40 KiB, so a session grew by several MiB per hundred edits. Dropping those caches
+    after each formula frees all of it; re-opening the fonts costs well under a
+    millisecond per formula.
+    """
+    with MATPLOTLIB_LOCK:
+        try:
+            yield
+        finally:
+            _release_mathtext_caches()
+
+
+def _release_mathtext_caches() -> None:
+    try:
+        from matplotlib import _mathtext, font_manager, mathtext
+    except ImportError:  # pragma: no cover - matplotlib always ships these
+        return
+    for cls in vars(_mathtext).values():
+        if isinstance(cls, type):
+            for member in vars(cls).values():
+                clear = getattr(member, "cache_clear", None)
+                if callable(clear):
+                    clear()
+    for cached in (getattr(mathtext.MathTextParser, "_parse_cached", None),
+                   getattr(font_manager, "_get_font", None)):
+        clear = getattr(cached, "cache_clear", None)
+        if callable(clear):
+            clear()
 
 # Okabe & Ito (2008) colour-blind-safe palette, one colour per method. The function
 # itself is drawn in near-black so it never competes with a method's path.

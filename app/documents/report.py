@@ -99,6 +99,7 @@ from reportlab.platypus import (
 )
 
 from app.documents import export, printing
+from app.documents.figures import MATPLOTLIB_LOCK, typesetting
 from app.documents.files import FileRefused, check_writable, read_limited, write_group
 from app.documents.words import CAUTION
 from app.documents.worksheet import MAX_FILE_BYTES, Worksheet, dumps
@@ -361,12 +362,13 @@ def _png_image(png: bytes, width: float, height: float) -> Image:
 
 def _figure(draw: Callable[[Any], None], width: float, height: float) -> Image:
     """A matplotlib Figure (Agg, no pyplot) drawn by ``draw(ax)``, placed at print size."""
-    fig = Figure(figsize=(width / 72, height / 72), layout="constrained")
-    FigureCanvasAgg(fig)
-    ax = fig.add_subplot()
-    draw(ax)
     buffer = io.BytesIO()
-    fig.savefig(buffer, format="png", dpi=FIGURE_DPI, facecolor="white")
+    with MATPLOTLIB_LOCK:  # the window may be drawing in the UI thread meanwhile
+        fig = Figure(figsize=(width / 72, height / 72), layout="constrained")
+        FigureCanvasAgg(fig)
+        ax = fig.add_subplot()
+        draw(ax)
+        fig.savefig(buffer, format="png", dpi=FIGURE_DPI, facecolor="white")
     return _png_image(buffer.getvalue(), width, height)
 
 
@@ -380,8 +382,9 @@ def _math_png(latex: str, size: float = 12.0) -> tuple[bytes, float, float] | No
     text = latex if latex.startswith("$") else f"${latex}$"
     buffer = io.BytesIO()
     try:
-        math_to_image(text, buffer, prop=FontProperties(size=size), dpi=FIGURE_DPI,
-                      format="png")
+        with typesetting():  # the matplotlib lock; frees what mathtext keeps behind
+            math_to_image(text, buffer, prop=FontProperties(size=size), dpi=FIGURE_DPI,
+                          format="png")
     except Exception:  # mathtext knows a subset of LaTeX; fall back to the text as typed
         return None
     # Print size from the PNG's own header (IHDR width, height in pixels at FIGURE_DPI),

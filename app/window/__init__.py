@@ -11,7 +11,7 @@ and runs the event loop. Modules:
 * ``lanes``     one lane per method: summary and iteration table
 * ``models``    QAbstractTableModels over Run/Step, Root and parameters
 * ``views``     table views that copy as tab-separated text
-* ``workers``   QThread job runner (progress, cancel, newest-request-wins)
+* ``workers``   job runner on Python threads (progress, cancel, newest-request-wins)
 * ``recovery``  autosave of unsaved work, offered at the next start
 * ``dialogs``   help, about (with the safety caution), calculation details
 

@@ -140,7 +140,7 @@ class _FigureView(QWidget):
             # Fixed margins in pixels instead of a layout engine: constrained layout took
             # more than half of each redraw, and Solve must redraw well under 0.1 s.
             figure = Figure(figsize=(6, 3.2), dpi=100)
-            canvas = FigureCanvasQTAgg(figure)
+            canvas = _locked(FigureCanvasQTAgg)(figure)
             canvas.setMinimumSize(320, 200)
             navigator = _navigator(canvas)
             self._layout.replaceWidget(self._placeholder, canvas)
@@ -222,7 +222,8 @@ class _FigureView(QWidget):
         left, top = 74.0, 12.0
         axes = self.figure.axes
         if axes and axes[0].axison:
-            left, top = _label_room(axes[0], self.figure.dpi)
+            with figures.typesetting():  # measures text with mathtext: one thread at a time
+                left, top = _label_room(axes[0], self.figure.dpi)
         self.figure.subplots_adjust(left=min(0.4, left / width),
                                     right=1 - min(0.2, 26 / width),
                                     bottom=min(0.35, 46 / height),
@@ -246,6 +247,18 @@ class _FigureView(QWidget):
         if self.dirty and self._built is not None:
             self.dirty = False
             self.canvas.draw_idle()
+
+
+def _locked(canvas_class: type) -> type:
+    """``canvas_class`` whose draw holds :data:`app.documents.figures.MATPLOTLIB_LOCK` (a report or
+    the typesetting may be rendering in a worker thread at the same moment)."""
+
+    class LockedCanvas(canvas_class):
+        def draw(self) -> None:
+            with figures.MATPLOTLIB_LOCK:
+                super().draw()
+
+    return LockedCanvas
 
 
 def _label_room(ax: Any, dpi: float) -> tuple[float, float]:

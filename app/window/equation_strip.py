@@ -3,7 +3,10 @@
 The strip only displays: :func:`analyse` (run off the UI thread by the window) turns
 the text into an :class:`Analysis` with the names, the unknown, the parsed
 :class:`solvers.equation.Equation` or the error and its column; :meth:`EquationStrip.show_analysis`
-puts that on screen. The typeset form is matplotlib mathtext rendered to a pixmap.
+puts that on screen. The typeset forms are matplotlib mathtext rendered to PNG in the
+same worker thread (under :data:`app.documents.figures.MATPLOTLIB_LOCK`), so a settled edit
+costs the UI thread only the decoding of two small images. Text over the typesetting
+budget (:data:`solvers.equation.MAX_TYPESET_CHARS`) is shown as "too large to typeset".
 """
 
 from __future__ import annotations
@@ -29,12 +32,15 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.documents.figures import residual_name
+from app.documents.figures import residual_name, typesetting
 from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"
+TOO_LARGE = "(too large to typeset: the text as typed governs)"
+TOO_LARGE_DERIVATIVE = "(too large to typeset; Newton–Raphson uses it all the same)"
+TYPESET_DPI = 100.0  # at a device pixel ratio of 1
 CONVENTIONAL_UNKNOWNS = ("x", "y", "z", "t")
 
 
@@ -54,6 +60,12 @@ class Analysis:
     notes: tuple[str, ...] = field(default_factory=tuple)
     latex: str = ""  # typeset forms; present also when only parameter values are missing
     derivative_latex: str = ""
+    # The typeset forms as PNG (made in the worker when analyse() is given a dpi); None
+    # when mathtext cannot set it or it is over the budget (then *_note says why).
+    equation_png: bytes | None = None
+    derivative_png: bytes | None = None
+    derivative_note: str = ""
+    typeset_dpi: float | None = None  # set once the PNGs above were made
 
     @property
     def ok(self) -> bool:
@@ -84,8 +96,35 @@ def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str
 
 
 def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
-            previous: str | None = None) -> Analysis:
-    """Parse ``text`` for the strip (called in a worker thread; never raises for bad text)."""
+            previous: str | None = None, *, dpi: float | None = None) -> Analysis:
+    """Parse ``text`` for the strip (called in a worker thread; never raises for bad text).
+
+    With ``dpi`` the typeset forms are also rendered (PNG at that resolution), so the UI
+    thread does no typesetting.
+    """
+    analysis = _analyse(text, chosen, values, previous)
+    return analysis if dpi is None else typeset(analysis, dpi)
+
+
+def typeset(analysis: Analysis, dpi: float) -> Analysis:
+    """``analysis`` with its equation and derivative rendered to PNG (worker thread)."""
+    from dataclasses import replace
+
+    if not analysis.latex:
+        return analysis
+    u = analysis.unknown or "x"
+    derivative_png, note = None, ""
+    if analysis.derivative_latex:
+        derivative_png = render_png(
+            f"{derivative_heading(u)} = {analysis.derivative_latex}", dpi=dpi)
+    elif getattr(analysis.equation, "derivative_too_large", False):
+        note = TOO_LARGE_DERIVATIVE
+    return replace(analysis, equation_png=render_png(analysis.latex, dpi=dpi),
+                   derivative_png=derivative_png, derivative_note=note, typeset_dpi=dpi)
+
+
+def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
+             previous: str | None) -> Analysis:
     from solvers.equation import EquationError, free_names, parse_equation
 
     if not text.strip():
@@ -155,21 +194,33 @@ def _typeset_only(text: str, unknown: str, given: Mapping[str, float],
     return "", ""
 
 
-def render_math(latex: str, *, dpi: float = 110, color: str = "#111111") -> QPixmap | None:
-    """Typeset ``latex`` (mathtext subset) into a pixmap; None when mathtext cannot."""
-    if not latex:
+def render_png(latex: str, *, dpi: float = 110, color: str = "#111111") -> bytes | None:
+    """Typeset ``latex`` (mathtext subset) as PNG bytes; None when mathtext cannot or the
+    text is over :data:`solvers.equation.MAX_TYPESET_CHARS`. Safe in any thread."""
+    from solvers.equation import MAX_TYPESET_CHARS
+
+    if not latex or len(latex) > MAX_TYPESET_CHARS:
         return None
     from matplotlib import mathtext
     from matplotlib.font_manager import FontProperties
 
     buffer = io.BytesIO()
     try:
-        mathtext.math_to_image(f"${latex}$", buffer, prop=FontProperties(size=13), dpi=dpi,
-                               format="png", color=color)
+        with typesetting():  # the one matplotlib lock, and mathtext's leftovers freed
+            mathtext.math_to_image(f"${latex}$", buffer, prop=FontProperties(size=13),
+                                   dpi=dpi, format="png", color=color)
     except Exception:  # sympy LaTeX that mathtext does not know: show the text instead
         return None
+    return buffer.getvalue()
+
+
+def render_math(latex: str, *, dpi: float = 110, color: str = "#111111") -> QPixmap | None:
+    """Typeset ``latex`` into a pixmap (UI thread); None when mathtext cannot."""
+    png = render_png(latex, dpi=dpi, color=color)
+    if png is None:
+        return None
     pixmap = QPixmap()
-    pixmap.loadFromData(buffer.getvalue(), "PNG")
+    pixmap.loadFromData(png, "PNG")
     return pixmap
 
 
@@ -191,7 +242,16 @@ class _MathLabel(QScrollArea):
 
     def show_latex(self, latex: str, fallback: str) -> None:
         ratio = self.devicePixelRatioF() or 1.0
-        pixmap = render_math(latex, dpi=100 * ratio)
+        self.show_png(render_png(latex, dpi=TYPESET_DPI * ratio), fallback)
+
+    def show_png(self, png: bytes | None, fallback: str, tooltip: str | None = None) -> None:
+        """Show a typeset form rendered elsewhere (``fallback`` text when there is none)."""
+        ratio = self.devicePixelRatioF() or 1.0
+        pixmap = None
+        if png is not None:
+            pixmap = QPixmap()
+            if not pixmap.loadFromData(png, "PNG"):
+                pixmap = None
         if pixmap is None:
             self.label.setPixmap(QPixmap())
             self.label.setText(fallback)
@@ -199,7 +259,7 @@ class _MathLabel(QScrollArea):
             pixmap.setDevicePixelRatio(ratio)
             self.label.setText("")
             self.label.setPixmap(pixmap)
-        self.label.setToolTip(fallback)
+        self.label.setToolTip(fallback if tooltip is None else tooltip)
 
     def clear(self) -> None:
         self.label.setPixmap(QPixmap())
@@ -374,17 +434,31 @@ class EquationStrip(QWidget):
             self.equation_view.clear()
             self.derivative_view.clear()
             return
-        self.equation_view.show_latex(analysis.latex, analysis.text)
+        if analysis.typeset_dpi is None:
+            # Not typeset in the worker (an analysis made without a dpi): typeset here.
+            analysis = typeset(analysis, self.typeset_dpi())
+        from solvers.equation import MAX_TYPESET_CHARS
+
+        too_large = len(analysis.latex) > MAX_TYPESET_CHARS
+        self.equation_view.show_png(analysis.equation_png,
+                                    TOO_LARGE if too_large else analysis.text, analysis.text)
         u = analysis.unknown or "x"
         if analysis.derivative_latex:
-            self.derivative_view.show_latex(
-                f"{derivative_heading(u)} = {analysis.derivative_latex}",
-                f"derivative of {residual_name(u)} = lhs - rhs")
+            self.derivative_view.show_png(
+                analysis.derivative_png,
+                TOO_LARGE_DERIVATIVE if len(analysis.derivative_latex) > MAX_TYPESET_CHARS
+                else f"derivative of {residual_name(u)} = lhs - rhs")
+        elif analysis.derivative_note:
+            self.derivative_view.show_png(None, analysis.derivative_note)
         elif analysis.equation is not None:
-            self.derivative_view.show_latex(
-                "", "no symbolic derivative: Newton–Raphson will use a numerical one")
+            self.derivative_view.show_png(
+                None, "no symbolic derivative: Newton–Raphson will use a numerical one")
         else:
             self.derivative_view.clear()
+
+    def typeset_dpi(self) -> float:
+        """Resolution for the typeset forms on this screen (call in the UI thread)."""
+        return TYPESET_DPI * (self.equation_view.devicePixelRatioF() or 1.0)
 
     def _set_status(self, text: str, *, ok: bool) -> None:
         self.status.setText(("✓ " if ok else "✗ ") + text)

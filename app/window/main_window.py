@@ -20,6 +20,7 @@ from PySide6.QtCore import QSettings, QSignalBlocker, Qt, QTimer
 from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
 from PySide6.QtWidgets import QApplication, QLabel, QMainWindow, QSplitter, QVBoxLayout, QWidget
 
+from app import samples_dir  # noqa: F401 (the soak test finds the samples here)
 from app.documents import figures
 from app.documents.worksheet import Parameter, Selection, Worksheet
 from app.window.canvas import PlotPanel
@@ -315,7 +316,9 @@ class MainWindow(QMainWindow):
         values = self.inputs.parameters.remembered_values()
         analysis = self.document.analysis
         previous = analysis.unknown if analysis is not None else self.document.record.unknown
-        self.runner.submit("preview", lambda _p, _c: analyse(text, chosen, values, previous),
+        dpi = self.strip.typeset_dpi()  # typeset in the worker too, not on the UI thread
+        self.runner.submit("preview",
+                           lambda _p, _c: analyse(text, chosen, values, previous, dpi=dpi),
                            on_done=self._on_analysis, on_error=self._on_analysis_error)
 
     def _on_analysis(self, analysis: Analysis) -> None:

@@ -1,14 +1,31 @@
-"""Long work off the UI thread: one QThread per job, results delivered as queued signals.
+"""Long work off the UI thread: plain Python threads, results delivered as queued Qt events.
 
-A :class:`Job` wraps a plain function ``work(progress, cancel)`` from solvers/ (a scan,
-a solve, a report). It runs in its own QThread; the UI thread only receives
-``finished(result)``, ``failed(message)``, ``cancelled()`` and ``progress(fraction)``
-through Qt's queued connections, so the window stays responsive however long the
-work takes.
+A job wraps a plain function ``work(progress, cancel)`` from solvers/ (a scan, a solve,
+a report, the live analysis of the equation). Each lane of a runner has one long-lived
+daemon ``threading.Thread`` that runs its jobs one after another; the UI thread only
+receives what the work reports (done, failed, cancelled, progress) through one queued
+signal, so the window stays responsive however long the work takes.
+
+Why Python threads and not one QThread per job: a QThread is a Qt object whose
+destructor waits for its thread, and the thread's own clean-up (deleting the worker
+object that lived in it) needs the interpreter lock. Destroying a finishing QThread from
+the UI thread, which holds that lock, deadlocked the window for good after some
+thousand actions. Here no Qt object is ever created or destroyed in a worker thread and
+none is destroyed while another thread waits on it: the worker thread only posts events
+to :data:`_BRIDGE`, one QObject that lives in the UI thread for the life of the process.
+Waiting on a Python event releases the interpreter lock, so :meth:`JobRunner.stop`
+cannot deadlock either, and a daemon thread never holds the process open at exit.
+
+Why long-lived threads and not a thread per job: matplotlib keeps its font objects per
+thread (its font cache is keyed by thread id), and the C allocator keeps memory per
+thread arena, so a fresh thread for every settled edit made the process grow by several
+MiB per hundred actions. A lane's thread lives as long as its runner.
 
 Cancelling sets a ``threading.Event`` that the work polls (the scan checks it between
-chunks), so a cancel takes effect at the next chunk; :meth:`JobRunner.stop` cancels
-and waits, which is what closing the window does.
+chunks), so a cancel takes effect at the next chunk. :meth:`JobRunner.stop` (closing the
+window) cancels everything and waits a bounded time: a job that does not stop in time is
+abandoned (its thread is a daemon; whatever it reports later is dropped), so closing
+never waits on a runaway job.
 
 A :class:`JobRunner` holds at most one job per *lane* ("preview", "solve", "scan",
 "report"). Submitting to a busy lane keeps only the newest request and starts it when
@@ -18,50 +35,28 @@ Solve twice never shows the older answer last.
 
 from __future__ import annotations
 
+import queue
 import threading
+import time
 import traceback
+import weakref
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
-from PySide6.QtCore import QObject, QThread, Signal, Slot
-
-# Jobs that outlived JobRunner.stop(): referenced here so their QThread is never destroyed
-# while it runs (which would abort the process).
-_STILL_RUNNING: list[Any] = []
+from PySide6.QtCore import QObject, Qt, Signal, Slot
 
 Work = Callable[[Callable[[float], None], Callable[[], bool]], Any]
+
+# Seconds closing waits for a lane's job before abandoning it. A scan stops at its next
+# chunk and the preview is budgeted, so they end well inside this; a report is the user's
+# document, so it gets longer before it is given up.
+STOP_WAIT_S = {"report": 20.0}
+STOP_WAIT_DEFAULT_S = 3.0
 
 
 class Cancelled(Exception):
     """Raised inside work to report a clean cancel (any ``*Cancelled`` is treated alike)."""
-
-
-class _Worker(QObject):
-    progress = Signal(float)
-    finished = Signal(object)
-    failed = Signal(str)
-    cancelled = Signal()
-
-    def __init__(self, work: Work, cancel_event: threading.Event) -> None:
-        super().__init__()
-        self._work = work
-        self._cancel = cancel_event
-
-    @Slot()
-    def run(self) -> None:
-        try:
-            result = self._work(self.progress.emit, self._cancel.is_set)
-        except Exception as exc:  # the work's own failure: report it, never crash the UI
-            if type(exc).__name__.endswith("Cancelled") or self._cancel.is_set():
-                self.cancelled.emit()
-            else:
-                self.failed.emit(_one_line(exc))
-            return
-        if self._cancel.is_set():
-            self.cancelled.emit()
-        else:
-            self.finished.emit(result)
 
 
 def _one_line(exc: BaseException) -> str:
@@ -74,39 +69,35 @@ def _one_line(exc: BaseException) -> str:
     return f"{type(exc).__name__}{where}"
 
 
-class _Relay(QObject):
-    """Lives in the UI thread; the worker's signals reach it as queued calls.
+class _Bridge(QObject):
+    """The one QObject worker threads talk to; it lives in the UI thread and is never deleted.
 
-    (Connecting a cross-thread signal to a lambda is not guaranteed to run the lambda in
-    the UI thread, so the job's callbacks hang off this object's slots instead.)
+    A worker thread emits ``posted``; the explicit queued connection turns the emit into
+    an event in the UI thread's queue, and :meth:`_deliver` runs there.
     """
 
-    def __init__(self, runner: JobRunner, lane: str, running: _Running) -> None:
-        super().__init__(runner)
-        self._runner = runner
-        self._lane = lane
-        self._running = running
+    posted = Signal(object)
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.posted.connect(self._deliver, Qt.ConnectionType.QueuedConnection)
 
     @Slot(object)
-    def finished(self, result: Any) -> None:
-        self._runner._deliver(self._running, self._running.request.on_done, result)
+    def _deliver(self, event: tuple[Any, ...]) -> None:
+        runner_ref, running, kind, value = event
+        runner = runner_ref()
+        if runner is not None:
+            runner._on_event(running, kind, value)
 
-    @Slot(str)
-    def failed(self, message: str) -> None:
-        self._runner._deliver(self._running, self._running.request.on_error, message)
 
-    @Slot()
-    def cancelled(self) -> None:
-        self._runner._deliver(self._running, self._running.request.on_cancel)
+_BRIDGE: _Bridge | None = None
 
-    @Slot(float)
-    def progress(self, value: float) -> None:
-        self._runner._on_progress(self._running, value)
 
-    @Slot()
-    def thread_finished(self) -> None:
-        self._runner._on_thread_finished(self._lane, self._running)
-        self.deleteLater()
+def _bridge() -> _Bridge:
+    global _BRIDGE
+    if _BRIDGE is None:  # made on first use, in the UI thread (JobRunner is made there)
+        _BRIDGE = _Bridge()
+    return _BRIDGE
 
 
 @dataclass
@@ -118,15 +109,64 @@ class _Request:
     on_progress: Callable[[float], None] | None = None
 
 
-@dataclass
+@dataclass(eq=False)
 class _Running:
-    thread: QThread
-    worker: _Worker
-    cancel: threading.Event
+    lane: str
     request: _Request
+    cancel: threading.Event = field(default_factory=threading.Event)
+    ended: threading.Event = field(default_factory=threading.Event)  # set by the worker
     superseded: bool = False
     done: bool = False
-    extra: dict = field(default_factory=dict)
+
+
+# What a job can report, and which callback of its request takes it (None: progress).
+_FINAL = {"done": "on_done", "failed": "on_error", "cancelled": "on_cancel"}
+
+
+def _run(runner_ref: weakref.ReferenceType, running: _Running, bridge: _Bridge) -> None:
+    """The body of a worker thread: run the work, post exactly one final event."""
+
+    def post(kind: str, value: Any = None) -> None:
+        try:
+            bridge.posted.emit((runner_ref, running, kind, value))
+        except RuntimeError:  # the application is shutting down: nobody to tell
+            pass
+
+    def progress(fraction: float) -> None:
+        if not running.cancel.is_set():
+            post("progress", fraction)
+
+    try:
+        result = running.request.work(progress, running.cancel.is_set)
+    except Exception as exc:  # the work's own failure: report it, never crash the UI
+        if type(exc).__name__.endswith("Cancelled") or running.cancel.is_set():
+            post("cancelled")
+        else:
+            post("failed", _one_line(exc))
+        return
+    if running.cancel.is_set():
+        post("cancelled")
+    else:
+        post("done", result)
+
+
+def _lane_loop(jobs: queue.SimpleQueue) -> None:
+    """A lane's worker thread: run each job handed to it, until told to stop (None)."""
+    while True:
+        item = jobs.get()
+        if item is None:
+            return
+        runner_ref, running, bridge = item
+        try:
+            _run(runner_ref, running, bridge)
+        finally:
+            running.ended.set()
+            del item, runner_ref, running  # keep no result alive while idle
+
+
+def _stop_lanes(queues: dict[str, queue.SimpleQueue]) -> None:
+    for jobs in queues.values():
+        jobs.put(None)
 
 
 class JobRunner(QObject):
@@ -139,9 +179,15 @@ class JobRunner(QObject):
 
     def __init__(self, parent: QObject | None = None) -> None:
         super().__init__(parent)
+        self._bridge = _bridge()
         self._running: dict[str, _Running] = {}
         self._pending: dict[str, _Request] = {}
         self._closing = False
+        # One worker thread per lane, started on first use; told to end when the runner
+        # stops or is collected.
+        self._queues: dict[str, queue.SimpleQueue] = {}
+        self._threads: dict[str, threading.Thread] = {}
+        self._finalizer = weakref.finalize(self, _stop_lanes, self._queues)
 
     def is_busy(self, lane: str) -> bool:
         return lane in self._running
@@ -176,65 +222,65 @@ class JobRunner(QObject):
             running.cancel.set()
 
     def wait(self, lane: str, timeout_ms: int = 5000) -> bool:
+        """Wait for the lane's job to end (its result is delivered by the event loop)."""
         running = self._running.get(lane)
-        if running is None:
-            return True
-        return running.thread.wait(timeout_ms)
+        return running is None or running.ended.wait(timeout_ms / 1000)
 
-    def stop(self, timeout_ms: int = 30_000) -> None:
-        """Cancel every job and wait for its thread (closing the window calls this).
+    def stop(self, timeout_ms: int | None = None) -> list[str]:
+        """Cancel every job and wait a bounded time for each (closing the window calls this).
 
         A scan stops at its next chunk; a solve or a report cannot be interrupted and is
-        waited for. A thread still running after ``timeout_ms`` is kept referenced for
-        the life of the process, since destroying a running QThread aborts it.
+        waited for up to ``timeout_ms`` (default: :data:`STOP_WAIT_S` per lane), then
+        abandoned: its daemon thread ends on its own and whatever it reports is dropped.
+        The lanes' threads are then told to end. Returns the lanes abandoned.
         """
         self._closing = True
         self._pending.clear()
-        for running in list(self._running.values()):
+        for running in self._running.values():
             running.cancel.set()
+        abandoned = []
+        start = time.monotonic()  # the lanes wait side by side: one bound, not their sum
         for lane, running in list(self._running.items()):
-            running.thread.quit()
-            if not running.thread.wait(timeout_ms):
-                _STILL_RUNNING.append(running)
-            del self._running[lane]
+            wait = (timeout_ms / 1000 if timeout_ms is not None
+                    else STOP_WAIT_S.get(lane, STOP_WAIT_DEFAULT_S))
+            if not running.ended.wait(max(0.0, start + wait - time.monotonic())):
+                abandoned.append(lane)
+        self._running.clear()
+        self._finalizer()  # every lane thread ends after its current job
+        return abandoned
 
     # -- internals
     def _start(self, lane: str, request: _Request) -> None:
-        thread = QThread()
-        thread.setObjectName(f"zerotrace-{lane}")
-        cancel = threading.Event()
-        worker = _Worker(request.work, cancel)
-        worker.moveToThread(thread)
-        running = _Running(thread, worker, cancel, request)
+        running = _Running(lane, request)
+        jobs = self._queues.get(lane)
+        if jobs is None:
+            jobs = self._queues[lane] = queue.SimpleQueue()
+            self._threads[lane] = threading.Thread(target=_lane_loop, args=(jobs,),
+                                                   name=f"zerotrace-{lane}", daemon=True)
+            self._threads[lane].start()
         self._running[lane] = running
-        relay = _Relay(self, lane, running)
-        running.extra["relay"] = relay
-        thread.started.connect(worker.run)
-        worker.finished.connect(relay.finished)
-        worker.failed.connect(relay.failed)
-        worker.cancelled.connect(relay.cancelled)
-        worker.progress.connect(relay.progress)
-        thread.finished.connect(relay.thread_finished)
         self.busy_changed.emit(lane, True)
-        thread.start()
+        jobs.put((weakref.ref(self), running, self._bridge))
 
-    def _on_progress(self, running: _Running, value: float) -> None:
-        if not running.superseded and not running.cancel.is_set() and running.request.on_progress:
-            running.request.on_progress(value)
-
-    def _deliver(self, running: _Running, callback: Callable | None, *args: Any) -> None:
+    def _on_event(self, running: _Running, kind: str, value: Any) -> None:
+        if running.done or self._running.get(running.lane) is not running:
+            return  # abandoned at close, or a stray report after the end
+        request = running.request
+        if kind == "progress":
+            if not running.superseded and not running.cancel.is_set() and request.on_progress:
+                request.on_progress(value)
+            return
         running.done = True
-        running.thread.quit()
-        if callback is not None and not running.superseded and not self._closing:
-            callback(*args)
-
-    def _on_thread_finished(self, lane: str, running: _Running) -> None:
-        if self._running.get(lane) is running:
-            del self._running[lane]
-        running.worker.deleteLater()
-        running.thread.deleteLater()
-        pending = self._pending.pop(lane, None)
-        if pending is not None and not self._closing:
-            self._start(lane, pending)
-        else:
-            self.busy_changed.emit(lane, False)
+        del self._running[running.lane]
+        callback = getattr(request, _FINAL[kind])
+        try:
+            if callback is not None and not running.superseded and not self._closing:
+                callback(*(() if kind == "cancelled" else (value,)))
+        finally:
+            pending = self._pending.pop(running.lane, None)
+            if running.lane in self._running:
+                pass  # the callback itself started the next job of this lane
+            elif pending is not None and not self._closing:
+                self._start(running.lane, pending)
+            else:
+                self.busy_changed.emit(running.lane, False)
