@@ -153,3 +153,30 @@ def test_the_design_value_is_recorded_and_announced(doc) -> None:
     assert seen.of("selectionChanged") == [(chosen,)]
     doc.change_record(doc.record.with_changes(title="pump P-101 duty point"))
     assert seen.of("selectionChanged") == [(chosen,)]  # the title is not the design value
+
+
+def test_a_change_of_values_alone_binds_the_parsed_text_instead_of_parsing(doc, monkeypatch):
+    """The seam for late binding: with an ``Equation.bind``, neither the live reading nor
+    Solve parses again when only a parameter value changed."""
+    from solvers import equation as equation_module
+
+    bound: list[dict] = []
+
+    def bind(self, values):  # noqa: ANN001, ANN202 (stands in for solvers' own bind)
+        bound.append(dict(values))
+        return equation_module.parse_equation(self.text, unknown=self.unknown,
+                                              parameters=values)
+
+    monkeypatch.setattr(equation_module.Equation, "bind", bind, raising=False)
+    first = analyse(PUMP, "Q", {"Hs": 12.0, "ks": 95.0})
+    again = analyse(PUMP, "Q", {"Hs": 14.0, "ks": 95.0}, parsed=first)
+    assert bound == [{"Hs": 14.0, "ks": 95.0}] and again.ok
+    other_text = analyse(PUMP + " + 0", "Q", {"Hs": 14.0, "ks": 95.0}, parsed=first)
+    assert len(bound) == 1 and other_text.ok  # new text: parsed, not bound
+    doc.set_analysis(first)
+    changed = _sheet(parameters=(Parameter("Hs", 14.0, ""), Parameter("ks", 95.0, "")))
+    eq = doc.equation_for(changed)
+    q = 0.2
+    expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)  # plain float arithmetic
+    assert float(eq.f(q)) == pytest.approx(expected, rel=1e-14)
+    assert len(bound) == 2

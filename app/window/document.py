@@ -22,7 +22,7 @@ from PySide6.QtCore import QObject, Signal
 
 from app.documents import worksheet
 from app.documents.worksheet import Selection, Settings, Worksheet
-from app.window.equation_strip import Analysis
+from app.window.equation_strip import Analysis, rebind
 
 BLANK = Worksheet(equation="")
 
@@ -51,17 +51,6 @@ def result_key(ws: Worksheet) -> str:
 def scan_key(ws: Worksheet) -> str:
     """What a scan depends on: the equation, parameters and range, not the start values."""
     return result_key(ws.with_changes(settings=Settings()))
-
-
-def rebind(equation: Any, values: dict[str, float]) -> Any:
-    """``equation`` with new parameter values, or None when that needs a new parse.
-
-    The one seam for late binding: where the equation can bind values to a parsed
-    text (``Equation.bind``), a change of values costs no parse; otherwise the caller
-    parses again (one parse per text, unknown and values).
-    """
-    bind = getattr(type(equation), "bind", None)  # not every solvers version has it
-    return bind(equation, values) if bind is not None else None
 
 
 class WorksheetDocument(QObject):
@@ -147,11 +136,24 @@ class WorksheetDocument(QObject):
             return True
         return current != self.saved_text or (bad_inputs and self.touched)
 
-    def edited(self, shown: Worksheet, bad_inputs: bool) -> None:
-        """The user changed something on screen: re-judge modified and stale."""
+    def edited(self, shown: Worksheet, bad_inputs: bool,
+               solved: Worksheet | None = None) -> bool:
+        """The user changed something on screen: re-judge modified and stale.
+
+        ``shown`` is the worksheet as on screen (what a save writes), ``solved`` the same
+        with the unknown the strip inferred (what the results were computed from; default
+        ``shown``). Returns whether the worksheet is now modified.
+        """
         self.touched = True
-        self._set_modified(self.is_modified(shown, bad_inputs))
-        self.refresh_stale(shown)
+        modified = self.judge_modified(shown, bad_inputs)
+        self.refresh_stale(shown if solved is None else solved)
+        return modified
+
+    def judge_modified(self, shown: Worksheet, bad_inputs: bool) -> bool:
+        """:meth:`is_modified`, announced through ``modifiedChanged`` when it changed."""
+        modified = self.is_modified(shown, bad_inputs)
+        self._set_modified(modified)
+        return modified
 
     def change_record(self, ws: Worksheet) -> None:
         """Title block, notes or design value changed (not shown in the panels)."""

@@ -96,14 +96,35 @@ def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str
 
 
 def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
-            previous: str | None = None, *, dpi: float | None = None) -> Analysis:
+            previous: str | None = None, *, dpi: float | None = None,
+            parsed: Analysis | None = None) -> Analysis:
     """Parse ``text`` for the strip (called in a worker thread; never raises for bad text).
 
     With ``dpi`` the typeset forms are also rendered (PNG at that resolution), so the UI
-    thread does no typesetting.
+    thread does no typesetting. ``parsed`` is the previous reading: when it is of the
+    same text and unknown, only the parameter values are bound again (:func:`rebind`)
+    where the equation supports that, instead of a new parse.
     """
-    analysis = _analyse(text, chosen, values, previous)
+    analysis = _analyse(text, chosen, values, previous, parsed)
     return analysis if dpi is None else typeset(analysis, dpi)
+
+
+def rebind(equation: Any, values: dict[str, float]) -> Any:
+    """``equation`` with new parameter values, or None when that needs a new parse.
+
+    The one seam for late binding: where the equation can bind values to a parsed
+    text (``Equation.bind``), a change of values costs no parse; otherwise the caller
+    parses again (one parse per text, unknown and values).
+    """
+    bind = getattr(type(equation), "bind", None)  # not every solvers version has it
+    return bind(equation, values) if bind is not None else None
+
+
+def _bound(parsed: Analysis | None, text: str, unknown: str, given: dict[str, float]) -> Any:
+    """The previous parse of the same text and unknown with ``given`` bound late, or None."""
+    if parsed is None or not parsed.ok or parsed.text != text or parsed.unknown != unknown:
+        return None
+    return rebind(parsed.equation, given)
 
 
 def typeset(analysis: Analysis, dpi: float) -> Analysis:
@@ -117,14 +138,14 @@ def typeset(analysis: Analysis, dpi: float) -> Analysis:
     if analysis.derivative_latex:
         derivative_png = render_png(
             f"{derivative_heading(u)} = {analysis.derivative_latex}", dpi=dpi)
-    elif getattr(analysis.equation, "derivative_too_large", False):
+    elif analysis.equation is not None and analysis.equation.derivative_too_large:
         note = TOO_LARGE_DERIVATIVE
     return replace(analysis, equation_png=render_png(analysis.latex, dpi=dpi),
                    derivative_png=derivative_png, derivative_note=note, typeset_dpi=dpi)
 
 
 def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
-             previous: str | None) -> Analysis:
+             previous: str | None, parsed: Analysis | None) -> Analysis:
     from solvers.equation import EquationError, free_names, parse_equation
 
     if not text.strip():
@@ -142,7 +163,8 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
     base = {"text": text, "names": names, "unknown": unknown, "candidates": names,
             "ambiguous": ambiguous, "missing": missing}
     try:
-        equation = parse_equation(text, unknown=unknown, parameters=given)
+        equation = _bound(parsed, text, unknown, given) or parse_equation(
+            text, unknown=unknown, parameters=given)
     except EquationError as exc:
         latex = derivative = ""
         if missing:
@@ -153,9 +175,8 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
                         derivative_latex=derivative)
     except Exception as exc:  # the parser's own bug must not take the window down
         return Analysis(**base, error=f"could not read the equation ({type(exc).__name__})")
-    notes = tuple(getattr(equation, "notes", ()) or ())
-    return Analysis(**base, equation=equation, notes=notes,
-                    latex=getattr(equation, "latex", ""),
+    return Analysis(**base, equation=equation, notes=tuple(equation.notes),
+                    latex=equation.latex,
                     derivative_latex=_derivative_latex(equation))
 
 
@@ -171,10 +192,10 @@ def name_bad_values(analysis: Analysis, parameters: Any) -> Analysis:
 
 
 def _derivative_latex(equation: Any) -> str:
-    if getattr(equation, "fprime", None) is None:
+    if equation.fprime is None:
         return ""
     try:
-        return getattr(equation, "derivative_latex", "") or ""
+        return equation.derivative_latex
     except Exception:  # a derivative too large to typeset: leave it out of the preview
         return ""
 
@@ -190,7 +211,7 @@ def _typeset_only(text: str, unknown: str, given: Mapping[str, float],
             eq = parse_equation(text, unknown=unknown, parameters=trial)
         except Exception:
             continue
-        return getattr(eq, "latex", ""), _derivative_latex(eq)
+        return eq.latex, _derivative_latex(eq)
     return "", ""
 
 

@@ -283,7 +283,7 @@ def agreement_text(solution: Any) -> str:
     converged = [r for r in runs if r.converged]
     failed = [method_label(r.method) for r in runs if not r.converged]
     digits = solution.agreement_digits
-    groups = solution.agreement.groups if hasattr(solution, "agreement") else ()
+    groups = solution.agreement.groups
     if len(groups) > 1:
         found = "; ".join(f"{format_number(x, 8)} by {_names(methods)}" for x, methods in groups)
         text = f"The converged methods found different roots: {found}."
@@ -298,7 +298,7 @@ def agreement_text(solution: Any) -> str:
         text = ""
     if failed:
         text += f"  Failed: {', '.join(failed)} (see the lane for why)."
-    notes = getattr(getattr(solution, "start", None), "notes", ())
+    notes = solution.start.notes
     if notes:
         text += "  Start values: " + "; ".join(notes) + "."
     return text.strip()

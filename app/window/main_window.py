@@ -252,7 +252,9 @@ class MainWindow(QMainWindow):
 
     def solve_worksheet(self) -> Worksheet:
         """The worksheet with the unknown the strip inferred, for the pipeline."""
-        ws = self.worksheet()
+        return self._with_inferred_unknown(self.worksheet())
+
+    def _with_inferred_unknown(self, ws: Worksheet) -> Worksheet:
         analysis = self.document.analysis
         if ws.unknown is None and analysis is not None and analysis.unknown:
             if analysis.text == ws.equation:
@@ -291,11 +293,13 @@ class MainWindow(QMainWindow):
         doc = self.document
         name = doc.path.name if doc.path is not None else (doc.record.title or "untitled")
         self.setWindowTitle(f"{name}[*] — {APP_NAME}")
-        self.setWindowModified(self.is_modified())
+        self.setWindowModified(self.document.judge_modified(self.worksheet(),
+                                                            bool(self.inputs.problems())))
 
     def _on_edit_quiet(self) -> None:
-        self.document.edited(self.solve_worksheet(), bool(self.inputs.problems()))
-        self.setWindowModified(self.is_modified())
+        shown = self.worksheet()
+        self.setWindowModified(self.document.edited(
+            shown, bool(self.inputs.problems()), self._with_inferred_unknown(shown)))
 
     def _on_edit(self) -> None:
         self._on_edit_quiet()
@@ -318,7 +322,8 @@ class MainWindow(QMainWindow):
         previous = analysis.unknown if analysis is not None else self.document.record.unknown
         dpi = self.strip.typeset_dpi()  # typeset in the worker too, not on the UI thread
         self.runner.submit("preview",
-                           lambda _p, _c: analyse(text, chosen, values, previous, dpi=dpi),
+                           lambda _p, _c: analyse(text, chosen, values, previous, dpi=dpi,
+                                                  parsed=analysis),
                            on_done=self._on_analysis, on_error=self._on_analysis_error)
 
     def _on_analysis(self, analysis: Analysis) -> None:

@@ -160,9 +160,9 @@ class RootsModel(_RecordModel):
         Column("x", lambda r: r.x, "root"),
         Column("residual", lambda r: r.residual, "f at the root"),
         Column("mult.", lambda r: r.multiplicity, "multiplicity (2 = double root)"),
-        Column("confirmed", lambda r: getattr(r, "confirmed", ""),
+        Column("confirmed", lambda r: r.confirmed,
                "how the scan confirmed the root"),
-        Column("located by", lambda r: " + ".join(getattr(r, "located_by", ()) or ()),
+        Column("located by", lambda r: " + ".join(r.located_by),
                "what located the root"),
     )
 
