@@ -17,12 +17,13 @@ from pathlib import Path
 from typing import Any
 
 from PySide6.QtCore import QSettings, QSignalBlocker, Qt, QTimer
-from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
+from PySide6.QtGui import QCloseEvent
 from PySide6.QtWidgets import QApplication, QLabel, QMainWindow, QSplitter, QVBoxLayout, QWidget
 
 from app import samples_dir  # noqa: F401 (the soak test finds the samples here)
 from app.documents import figures
 from app.documents.worksheet import Parameter, Selection, Worksheet
+from app.window.actions import build_actions, build_menus
 from app.window.canvas import PlotPanel
 from app.window.dialogs import ABOUT_HTML, CAUTION, HELP_HTML, CalcDialog, TextDialog
 from app.window.document import Staleness, WorksheetDocument, result_key, scan_key
@@ -62,8 +63,8 @@ class MainWindow(QMainWindow):
         self.solve_seconds = math.nan
 
         self._build_widgets()
-        self._build_actions()
-        self._build_menus()
+        build_actions(self)
+        build_menus(self)
         self._connect()
         self.setWindowTitle(f"untitled[*] — {APP_NAME}")
         self.resize(1280, 800)
@@ -117,86 +118,12 @@ class MainWindow(QMainWindow):
         QWidget.setTabOrder(self.strip.editor, self.strip.unknown_box)
         QWidget.setTabOrder(self.strip.unknown_box, self.inputs.parameters_view)
 
-    def _action(self, text: str, slot: Any, shortcut: Any = None, tip: str = "") -> QAction:
-        action = QAction(text, self)
-        if shortcut is not None:
-            if isinstance(shortcut, (list, tuple)):
-                action.setShortcuts([QKeySequence(s) for s in shortcut])
-            else:
-                action.setShortcut(QKeySequence(shortcut))
-        if tip:
-            action.setStatusTip(tip)
-            action.setToolTip(tip)
-        action.triggered.connect(lambda _checked=False: slot())
-        self.addAction(action)
-        return action
-
-    def _build_actions(self) -> None:
-        k = QKeySequence.StandardKey
-        self.new_action = self._action("&New", self.new_document, k.New)
-        self.open_action = self._action("&Open…", self.open_file, k.Open)
-        self.save_action = self._action("&Save", self.save, k.Save)
-        self.save_as_action = self._action("Save &As…", self.save_as, k.SaveAs)
-        self.export_runs_action = self._action(
-            "Export &iteration log (CSV)…", self.export_runs_csv,
-            tip="Every iterate of every method, numbers written exactly")
-        self.export_roots_action = self._action("Export roo&ts (CSV)…", self.export_roots_csv)
-        self.export_pdf_action = self._action("Export calculation s&heet (PDF)…",
-                                              self.export_report)
-        self.quit_action = self._action("&Quit", self.close, k.Quit)
-        self.calc_action = self._action("Calculation &details…", self.edit_calc_details)
-        self.solve_action = self._action("&Solve", self.solve, ["Ctrl+Return", "Ctrl+Enter"],
-                                         "Run every method side by side")
-        self.scan_action = self._action("Scan &range", self.start_scan,
-                                        ["Ctrl+Shift+Return", "Ctrl+Shift+Enter"],
-                                        "Find every root, pole and jump in the scan range")
-        self.cancel_action = self._action("&Cancel scan", self.cancel_scan, "Esc")
-        self.polish_action = self._action("&Polish selected root", self.polish_selected)
-        self.design_action = self._action(
-            "Take as &design value", self.take_design_value, "Ctrl+D",
-            "Record the selected root (or the converged root) as the design value")
-        self.function_view_action = self._action(
-            "&Function plot", lambda: self.plot.setCurrentIndex(0), "Ctrl+1")
-        self.convergence_view_action = self._action(
-            "&Convergence plot", lambda: self.plot.setCurrentIndex(1), "Ctrl+2")
-        self.more_digits_action = self._action(
-            "&More significant figures", lambda: self._step_digits(1), ["Ctrl+=", "Ctrl++"])
-        self.fewer_digits_action = self._action(
-            "Fe&wer significant figures", lambda: self._step_digits(-1), "Ctrl+-")
-        self.help_action = self._action("&Using zerotrace", self.show_help, k.HelpContents)
-        self.about_action = self._action("&About zerotrace", self.show_about)
-
-    def _build_menus(self) -> None:
-        bar = self.menuBar()
-        file_menu = bar.addMenu("&File")
-        file_menu.addActions([self.new_action, self.open_action])
-        self.recent_menu = file_menu.addMenu("Open &recent")
-        self.samples_menu = file_menu.addMenu("Sa&mples")
-        file_menu.addSeparator()
-        file_menu.addActions([self.save_action, self.save_as_action])
-        file_menu.addSeparator()
-        file_menu.addActions([self.export_runs_action, self.export_roots_action,
-                              self.export_pdf_action])
-        file_menu.addSeparator()
-        file_menu.addAction(self.quit_action)
-        edit_menu = bar.addMenu("&Edit")
-        edit_menu.addAction(self.calc_action)
-        run_menu = bar.addMenu("&Run")
-        run_menu.addActions([self.solve_action, self.scan_action, self.cancel_action,
-                             self.polish_action, self.design_action])
-        view_menu = bar.addMenu("&View")
-        view_menu.addActions([self.function_view_action, self.convergence_view_action])
-        view_menu.addSeparator()
-        view_menu.addActions([self.more_digits_action, self.fewer_digits_action])
-        help_menu = bar.addMenu("&Help")
-        help_menu.addActions([self.help_action, self.about_action])
+    def _connect(self) -> None:
+        doc = self.document
         self.recent_menu.aboutToShow.connect(self.files.fill_recent)
         self.samples_menu.aboutToShow.connect(self.files.fill_samples)
         self.files.fill_recent()
         self.files.fill_samples()
-
-    def _connect(self) -> None:
-        doc = self.document
         # user edits -> the document
         self.strip.text_settled.connect(lambda _t: self.request_analysis())
         self.strip.unknown_chosen.connect(lambda _u: self._on_edit())
@@ -523,7 +450,7 @@ class MainWindow(QMainWindow):
         self.inputs.set_field("b", b)
         self.statusBar().showMessage(f"bracket set to [{_num(a)}, {_num(b)}] from the plot", 5000)
 
-    def _step_digits(self, step: int) -> None:
+    def step_digits(self, step: int) -> None:
         self.lanes.digits.setValue(self.lanes.digits.value() + step)
 
     # ------------------------------------------------------------------ files (file_actions)
