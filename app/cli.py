@@ -72,11 +72,20 @@ def _finite(text: str) -> float:
     return value
 
 
-def _nonneg(text: str) -> float:
-    value = _finite(text)
-    if value < 0:
-        raise argparse.ArgumentTypeError(f"{text!r} must not be negative")
-    return value
+def _setting(key: str) -> Callable[[str], float]:
+    """An argparse type: a finite number meeting the worksheet's rule for ``key`` (the
+    same rules the worksheet loader and the window's fields apply)."""
+
+    def parse(text: str) -> float:
+        from app.documents.worksheet import setting_problem
+
+        value = _finite(text)
+        problem = setting_problem(key, value)
+        if problem:
+            raise argparse.ArgumentTypeError(f"{text!r} {problem}")
+        return int(value) if key == "max_iter" else value
+
+    return parse
 
 
 def _whole(low: int, high: int) -> Callable[[str], int]:
@@ -95,8 +104,8 @@ def _whole(low: int, high: int) -> Callable[[str], int]:
     return parse
 
 
-_count = _whole(1, 100_000)  # iteration cap
 _count_samples = _whole(3, 100_000_000)  # scan sampling density
+_figures = _whole(1, 17)  # significant figures printed (17 hold every double)
 
 
 def _param(text: str) -> tuple[str, float]:
@@ -178,12 +187,20 @@ def _build_parser() -> _Parser:
     solve.add_argument("--x0", type=_finite, metavar="V", help="initial guess")
     solve.add_argument("--x1", type=_finite, metavar="V", help="second point for the secant")
     solve.add_argument("--bracket", nargs=2, type=_finite, metavar=("A", "B"), help="bracket ends")
-    solve.add_argument("--xtol", type=_nonneg, metavar="V", help="absolute step tolerance")
-    solve.add_argument("--rtol", type=_nonneg, metavar="V", help="relative step tolerance")
-    solve.add_argument("--ftol", type=_nonneg, metavar="V", help="absolute residual tolerance")
-    solve.add_argument("--max-iter", type=_count, metavar="N", help="iteration cap")
-    solve.add_argument("--damping", type=_finite, metavar="L", help="Newton damping, 0 < L <= 1")
+    solve.add_argument("--xtol", type=_setting("xtol"), metavar="V",
+                       help="absolute step tolerance")
+    solve.add_argument("--rtol", type=_setting("rtol"), metavar="V",
+                       help="relative step tolerance")
+    solve.add_argument("--ftol", type=_setting("ftol"), metavar="V",
+                       help="absolute residual tolerance")
+    solve.add_argument("--max-iter", type=_setting("max_iter"), metavar="N",
+                       help="iteration cap")
+    solve.add_argument("--damping", type=_setting("damping"), metavar="L",
+                       help="Newton damping, 0 < L <= 1")
     solve.add_argument("--steps", action="store_true", help="print every iterate of every method")
+    solve.add_argument("--figures", type=_figures, default=None, metavar="N",
+                       help="significant figures of the roots printed (1-17; default: every "
+                       "digit, as the CSV holds them)")
     solve.add_argument("--csv", metavar="PATH", help="write the iteration log as CSV")
     solve.add_argument("--force", action="store_true", help="replace an existing output file")
 
@@ -217,7 +234,7 @@ def _load_worksheet(path: str):
 
 
 def _worksheet_from_args(args: argparse.Namespace):
-    from app.documents.worksheet import Parameter, Settings, Worksheet
+    from app.documents.worksheet import Parameter, Settings, Worksheet, tolerances_problem
 
     if args.worksheet:
         ws = _load_worksheet(args.worksheet)
@@ -250,23 +267,23 @@ def _worksheet_from_args(args: argparse.Namespace):
         changes["bracket"] = (a, b)
     if getattr(args, "method", None):
         changes["methods"] = tuple(dict.fromkeys(args.method))
-    if "damping" in changes and not 0 < changes["damping"] <= 1:
-        raise InputError("zerotrace solve: --damping must lie in (0, 1]")
     s = replace(s, **changes)
-    if s.xtol == 0 and s.rtol == 0 and s.ftol == 0:
-        raise InputError("zerotrace solve: --xtol, --rtol and --ftol cannot all be zero")
+    problem = tolerances_problem(s.xtol, s.rtol, s.ftol)
+    if problem:
+        raise InputError(f"zerotrace solve: {problem} (set --xtol, --rtol or --ftol)")
     return replace(ws, settings=s)
 
 
 # ----------------------------------------------------------------- text output
 
 
-def _g(value: float | None, digits: int = 17) -> str:
-    if value is None:
-        return "-"
-    if isinstance(value, float) and not math.isfinite(value):
-        return str(value)
-    return f"{value:.{digits}g}"
+def _g(value: float | None, figures: int | None = None) -> str:
+    """A number in the words module's one format: every digit, or ``figures`` of them."""
+    from app.documents import words
+
+    if figures is None:
+        return words.exact(value, blank="-")
+    return words.number(value, figures, blank="-")
 
 
 def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
@@ -277,45 +294,40 @@ def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
     return "\n".join([line, rule, *body])
 
 
-def _print_solution(solution, *, steps: bool) -> None:
-    from solvers.result import REASON_TEXT
+def _print_solution(solution, *, steps: bool, figures: int | None = None) -> None:
+    from app.documents import words
 
     eq = solution.equation
     print(f"equation: {solution.worksheet.equation}")
-    params = ", ".join(f"{k} = {v!r}" for k, v in eq.parameters.items())
+    params = ", ".join(f"{k} = {_g(v)}" for k, v in eq.parameters.items())
     print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
-    for note in (*getattr(eq, "notes", ()), *solution.start.notes):
+    for note in (*getattr(eq, "notes", ()), *words.start_notes(solution.start)):
         print(f"note:     {note}")
     print()
     rows = []
     for r in solution.runs:
         rows.append(
             [
-                r.method.replace("_", " "),
-                _g(r.root),
+                words.method_title(r.method),
+                _g(r.root, figures),
                 "yes" if r.converged else "NO",
                 r.reason,
                 str(r.iterations),
                 str(r.evaluations),
-                _g(r.order, 3) if r.order is not None else "-",
+                words.order_text(r.order, "-"),
+                r.method,
             ]
         )
-    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order"]
+    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order",
+              "--method"]
     print(_table(header, rows))
-    failed = [r for r in solution.runs if not r.converged]
-    for r in failed:
-        why = r.message or REASON_TEXT.get(r.reason, r.reason)
-        print(f"  {r.method.replace('_', ' ')} did not converge: {why}")
-    groups = solution.agreement.groups
-    if len(groups) > 1:
-        found = "; ".join(f"{_g(x)} ({', '.join(m.replace('_', ' ') for m in ms)})"
-                          for x, ms in groups)
-        print(f"\nconverged methods found different roots, no agreement to count: {found}")
-    elif solution.agreement_digits is not None:
-        print(f"\nconverged methods agree to {solution.agreement_digits} significant figures")
+    print()
+    for r in solution.runs:
+        print(f"  {words.stop_line(r)}")
+    print(f"\n{words.agreement_text(solution)}")
     if steps:
         for r in solution.runs:
-            print(f"\n{r.method.replace('_', ' ')}: every iterate")
+            print(f"\n{words.method_title(r.method)}: every iterate")
             body = [
                 [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
                 for s in r.steps
@@ -325,7 +337,8 @@ def _print_solution(solution, *, steps: bool) -> None:
 
 
 def _print_scan(scan, unknown: str) -> None:
-    print(f"scan of [{_g(scan.a)}, {_g(scan.b)}] for {unknown}: {len(scan.roots)} root(s), "
+    # The range as typed: 15 figures show any typed decimal whole, without a ".0".
+    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {unknown}: {len(scan.roots)} root(s), "
           f"{getattr(scan, 'samples', '?')} samples")
     if scan.roots:
         rows = [
@@ -388,7 +401,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
     if args.json:
         _json_out(export.solution_json(solution))
     else:
-        _print_solution(solution, steps=args.steps)
+        _print_solution(solution, steps=args.steps, figures=args.figures)
         if csv_path:
             print(f"iteration log written to {csv_path}")
     return EXIT_OK
@@ -430,6 +443,7 @@ def cmd_scan(args: argparse.Namespace) -> int:
 
 def cmd_report(args: argparse.Namespace) -> int:
     from app.documents import report
+    from solvers import pipeline
 
     ws = _load_worksheet(args.worksheet)
     _output_path(args.pdf, args.force, "--pdf")
@@ -441,8 +455,10 @@ def cmd_report(args: argparse.Namespace) -> int:
         if Path(args.csv_dir).exists() and not Path(args.csv_dir).is_dir():
             raise InputError(f"{args.csv_dir}: is a file, not a folder for the CSV files")
         # a missing folder is created by the report (and removed again if it fails)
+    solution, scan = pipeline.solve_and_scan(ws)  # the sheet is handed results, never solves
     result = report.write_report(
-        ws, args.pdf, csv_dir=args.csv_dir, worksheet_path=args.worksheet, overwrite=args.force
+        ws, args.pdf, solution=solution, scan=scan, csv_dir=args.csv_dir,
+        worksheet_path=args.worksheet, overwrite=args.force,
     )
     print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
     for path in result.csv_paths:
@@ -451,108 +467,10 @@ def cmd_report(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
-def _no_display() -> bool:
-    """True on Linux when Qt would find no screen (it aborts the process then)."""
-    import os
-
-    if not sys.platform.startswith("linux") or os.environ.get("QT_QPA_PLATFORM"):
-        return False
-    return not (os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
-
-
-# Shared libraries Qt's window needs from the system (PySide6's wheels bring Qt itself),
-# with the Debian/Ubuntu package of each: the union of what `ldd` reports for the xcb
-# platform plugin (plugins/platforms/libqxcb.so) and QtWidgets of PySide6 6.x.
-QT_SYSTEM_LIBRARIES: dict[str, str] = {
-    "libEGL.so.1": "libegl1",
-    "libGL.so.1": "libgl1",
-    "libGLX.so.0": "libglx0",
-    "libGLdispatch.so.0": "libglvnd0",
-    "libOpenGL.so.0": "libopengl0",
-    "libfontconfig.so.1": "libfontconfig1",
-    "libfreetype.so.6": "libfreetype6",
-    "libdbus-1.so.3": "libdbus-1-3",
-    "libglib-2.0.so.0": "libglib2.0-0",
-    "libgthread-2.0.so.0": "libglib2.0-0",
-    "libX11.so.6": "libx11-6",
-    "libX11-xcb.so.1": "libx11-xcb1",
-    "libxkbcommon.so.0": "libxkbcommon0",
-    "libxkbcommon-x11.so.0": "libxkbcommon-x11-0",
-    "libxcb.so.1": "libxcb1",
-    "libxcb-cursor.so.0": "libxcb-cursor0",
-    "libxcb-icccm.so.4": "libxcb-icccm4",
-    "libxcb-image.so.0": "libxcb-image0",
-    "libxcb-keysyms.so.1": "libxcb-keysyms1",
-    "libxcb-randr.so.0": "libxcb-randr0",
-    "libxcb-render.so.0": "libxcb-render0",
-    "libxcb-render-util.so.0": "libxcb-render-util0",
-    "libxcb-shape.so.0": "libxcb-shape0",
-    "libxcb-shm.so.0": "libxcb-shm0",
-    "libxcb-sync.so.1": "libxcb-sync1",
-    "libxcb-util.so.1": "libxcb-util1",
-    "libxcb-xfixes.so.0": "libxcb-xfixes0",
-    "libxcb-xkb.so.1": "libxcb-xkb1",
-}
-
-
-def _qt_binaries() -> list[str]:
-    """PySide6's QtWidgets module and the platform plugin Qt will load, found without
-    importing PySide6 (an import with a missing library would fail with Qt's own words)."""
-    import importlib.util
-    import os
-    from pathlib import Path
-
-    spec = importlib.util.find_spec("PySide6")
-    if spec is None or not spec.submodule_search_locations:
-        return []
-    root = Path(next(iter(spec.submodule_search_locations)))
-    platform = (os.environ.get("QT_QPA_PLATFORM") or "").split(":")[0].strip()
-    wayland = os.environ.get("WAYLAND_DISPLAY") and os.environ.get("XDG_SESSION_TYPE") == "wayland"
-    if not platform and not wayland:
-        platform = "xcb"  # Qt's choice on Linux outside a Wayland session
-    candidates = [*root.glob("QtWidgets*.so")]
-    if platform:
-        candidates.append(root / "Qt" / "plugins" / "platforms" / f"libq{platform}.so")
-    return [str(p) for p in candidates if p.is_file()]
-
-
-def missing_system_libraries(binaries: Sequence[str] | None = None) -> list[str]:
-    """Shared libraries that ``binaries`` (default: Qt's widgets and platform plugin) need
-    and the system lacks, as ``ldd`` reports them ("name => not found"), sorted.
-
-    Empty when nothing is missing, off Linux, or when ``ldd`` itself is unavailable
-    (then Qt reports for itself).
-    """
-    import shutil
-    import subprocess
-
-    if not sys.platform.startswith("linux"):
-        return []
-    binaries = _qt_binaries() if binaries is None else list(binaries)
-    ldd = shutil.which("ldd")
-    if not binaries or ldd is None:
-        return []
-    try:
-        out = subprocess.run([ldd, *binaries], capture_output=True, text=True, timeout=10,
-                             check=False).stdout
-    except (OSError, subprocess.SubprocessError):
-        return []
-    missing = {line.split("=>")[0].strip() for line in out.splitlines()
-               if "=>" in line and line.split("=>")[1].strip() == "not found"}
-    return sorted(missing)
-
-
-def missing_libraries_message(missing: Sequence[str]) -> str:
-    """One line naming the missing libraries and the Debian/Ubuntu packages that hold them."""
-    packages = sorted({QT_SYSTEM_LIBRARIES[m] for m in missing if m in QT_SYSTEM_LIBRARIES})
-    hint = f" (Debian/Ubuntu: apt-get install {' '.join(packages)})" if packages else ""
-    return (f"error: zerotrace: the window needs system libraries that are missing: "
-            f"{', '.join(missing)}{hint}; 'zerotrace solve', 'scan' and 'report' work "
-            f"without them")
-
-
 def cmd_window(argv: Sequence[str]) -> int:
-    if _no_display():
+    from app.qt_libraries import missing_libraries_message, missing_system_libraries, no_display
+
+    if no_display():
         print(
             "error: zerotrace: no display for the window (DISPLAY and WAYLAND_DISPLAY are unset); "
             "use 'zerotrace solve', 'scan' or 'report' headless",

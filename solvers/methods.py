@@ -35,8 +35,8 @@ What "step" means:
   go on. The observed order (``Run.order`` ~ 1) shows the linear convergence.
 * False position and Illinois: when rounding puts the chord's zero on (or outside) a
   bracket end, which happens beside a pole or a steep exponential where one end's
-  |f| is enormous, the iterate is the bracket midpoint instead (said in the
-  message), so the method cannot stall; the chord-step history then starts again.
+  |f| is enormous, the iterate is the bracket midpoint instead (recorded in the
+  run's note), so the method cannot stall; the chord-step history then starts again.
 
 Stop order after each new iterate: non-finite f -> ``not_finite``; ``f == 0`` ->
 ``exact_zero``; ``|f| <= ftol`` -> ``f_tolerance``; step test -> ``x_tolerance``;
@@ -49,8 +49,8 @@ A converged run ends at a root, never at a value that merely looks like one:
   then f is 0.0 beside x as well, over a stretch far wider than any tolerance. So
   f is evaluated at x +- tol (one side for a bracketing method, whose ends often show
   f to be far above underflow near x at no cost at all). An underflowed zero stops an
-  open method, and a bracketing one inside its bracket, with ``not_finite`` (said in
-  the message); a starting bracket end that underflowed is kept as an end of the sign
+  open method, and a bracketing one inside its bracket, with ``not_finite`` (recorded in
+  the run's detail); a starting bracket end that underflowed is kept as an end of the sign
   opposite to the other end's, since the sign change lies between them.
 * A bracket that closes on a sign change with |f| not falling towards 0 is a jump
   (``x/abs(x) + x`` at 0), reported as ``discontinuity`` with converged False, or a
@@ -105,9 +105,9 @@ from solvers.result import (
     MAX_ITERATIONS,
     NO_SIGN_CHANGE,
     NOT_FINITE,
-    REASON_TEXT,
     X_TOLERANCE,
     ZERO_DERIVATIVE,
+    Detail,
     Run,
     Step,
 )
@@ -145,23 +145,13 @@ DERIVATIVE_FLOOR = 1e-3
 
 Function = Callable[[float], Any]
 
-LABELS: dict[str, str] = {
-    "newton": "Newton–Raphson",  # en dash, as in the window and the sheet
-    "secant": "Secant",
-    "false_position": "False position",
-    "illinois": "Illinois",
-    "bisection": "Bisection",
-    "brent": "Brent",
-}
-
-
 # --------------------------------------------------------------------------- helpers
 
 
 class _Evaluator:
     """Calls f, counts the calls and turns every misbehaviour into NaN with a note.
 
-    ``fault`` holds a one-line account of the last call's failure (an exception or a
+    ``fault`` holds a :class:`Detail` of the last call's failure (an exception or a
     complex value), or None when the call returned a real number.
     """
 
@@ -170,7 +160,7 @@ class _Evaluator:
     def __init__(self, f: Function, name: str = "f") -> None:
         self.f = f
         self.calls = 0
-        self.fault: str | None = None
+        self.fault: Detail | None = None
         self.name = name
 
     def __call__(self, x: float) -> float:
@@ -179,7 +169,7 @@ class _Evaluator:
         try:
             y = self.f(x)
         except Exception as exc:  # f is the user's: any failure is a result, not a crash
-            self.fault = f"{self.name} raised {type(exc).__name__} at x = {x!r}"
+            self.fault = Detail("raised", (self.name, type(exc).__name__, x))
             return math.nan
         if type(y) is float:
             return y
@@ -191,20 +181,20 @@ class _Evaluator:
                 return float(y)  # an int too large for a double raises OverflowError
             arr = np.asarray(y)
             if arr.size != 1:
-                self.fault = f"{self.name} returned {arr.size} values at x = {x!r}, not one"
+                self.fault = Detail("many_values", (self.name, int(arr.size), x))
                 return math.nan
             value = arr.reshape(()).item()
             if isinstance(value, complex):
                 if value.imag != 0.0:
-                    self.fault = f"{self.name} is complex ({value!r}) at x = {x!r}"
+                    self.fault = Detail("complex", (self.name, value.real, value.imag, x))
                     return math.nan
                 return float(value.real)
             if isinstance(value, (float, int)):
                 return float(value)
         except Exception as exc:
-            self.fault = f"{self.name} gave an unusable value ({type(exc).__name__}) at x = {x!r}"
+            self.fault = Detail("unusable", (self.name, type(exc).__name__, x))
             return math.nan
-        self.fault = f"{self.name} returned {type(y).__name__}, not a number, at x = {x!r}"
+        self.fault = Detail("not_a_number", (self.name, type(y).__name__, x))
         return math.nan
 
 
@@ -254,10 +244,6 @@ def _quiet(method: Callable[..., Run]) -> Callable[..., Run]:
     return wrapper
 
 
-def _fmt(x: float) -> str:
-    return f"{x:.15g}" if math.isfinite(x) else repr(x)
-
-
 def _finish(
     method: str,
     reason: str,
@@ -266,40 +252,31 @@ def _finish(
     iterations: int,
     evaluations: int,
     settings: dict[str, Any],
-    detail: str = "",
+    detail: Detail | None = None,
     derivative: str | None = None,
-    note: str = "",
+    note: Detail | None = None,
 ) -> Run:
     if reason == X_TOLERANCE and "bracket" in settings:
         pole = _pole_detail(root, steps)
-        if pole:
+        if pole is not None:
             reason, detail = NOT_FINITE, pole
-    converged = reason in CONVERGED_REASONS
-    label = LABELS[method]
-    counts = f"{iterations} iterations, {evaluations} evaluations"
-    account = detail or REASON_TEXT[reason]
-    if converged:
-        message = f"{label} converged to x = {_fmt(root)} ({counts}): {account}"
-    else:
-        message = f"{label} did not converge ({counts}): {account}; last x = {_fmt(root)}"
-    if note:
-        message += f"; {note}"
     return Run(
         method=method,
         root=float(root),
-        converged=converged,
+        converged=reason in CONVERGED_REASONS,
         reason=reason,
         iterations=iterations,
         evaluations=evaluations,
         steps=steps,
         settings=settings,
         derivative=derivative,
-        message=message,
+        detail=detail,
+        note=note,
     )
 
 
-def _pole_detail(root: float, steps: list[Step]) -> str:
-    """Why a bracket that closed on ``root`` holds a pole, not a root ('' if it holds a root).
+def _pole_detail(root: float, steps: list[Step]) -> Detail | None:
+    """Why a bracket that closed on ``root`` holds a pole, not a root (None for a root).
 
     A continuous f that changes sign has |f| at the closed bracket's better end at most
     |f'| times the tolerance: far below |f| at the starting ends. If instead |f| there
@@ -307,15 +284,12 @@ def _pole_detail(root: float, steps: list[Step]) -> str:
     change is a pole (tan at pi/2, 1/(x - c)); calling it a root would be wrong.
     """
     if len(steps) < 2:
-        return ""
+        return None
     ends = max(abs(steps[0].fx), abs(steps[1].fx))
     at_root = next((abs(s.fx) for s in reversed(steps) if s.x == root), None)
     if at_root is None or not at_root > ends:
-        return ""
-    return (
-        f"|f| grew from {ends:.3g} at the bracket ends to {at_root:.3g} as the bracket closed "
-        f"on x = {_fmt(root)}: a pole (f -> +-inf) there, not a root"
-    )
+        return None
+    return Detail("pole", (ends, at_root, root))
 
 
 def _last_finite(steps: list[Step]) -> float:
@@ -326,12 +300,13 @@ def _last_finite(steps: list[Step]) -> float:
     return math.nan
 
 
-def _not_finite_detail(ev: _Evaluator, x: float, fx: float) -> str:
-    return ev.fault or f"f(x) = {fx!r} at x = {x!r}"
+def _not_finite_detail(ev: _Evaluator, x: float, fx: float) -> Detail:
+    return ev.fault or Detail("f_value", (fx, x))
 
 
-def _step_detail(what: str, size: float, xtol: float, rtol: float, x: float) -> str:
-    return f"{what} {size:.3g} <= xtol + rtol*|x| = {xtol + rtol * abs(x):.3g}"
+def _step_detail(what: str, size: float, xtol: float, rtol: float, x: float) -> Detail:
+    """``what`` is "step" (|dx|) or "width" (a bracket's): the size and the tolerance."""
+    return Detail(f"{what}_small", (size, xtol + rtol * abs(x)))
 
 
 def _same_sign(u: float, v: float) -> bool:
@@ -373,18 +348,13 @@ def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = N
     return finite
 
 
-def _zero_verdict(ev: _Evaluator, x: float, xtol: float, rtol: float) -> tuple[str, str]:
+def _zero_verdict(
+    ev: _Evaluator, x: float, xtol: float, rtol: float
+) -> tuple[str, Detail | None]:
     """(reason, detail) for f(x) == 0.0 in an open method: a root, or underflow."""
     if _zero_is_root(ev, x, xtol + rtol * abs(x)):
-        return EXACT_ZERO, ""
-    return NOT_FINITE, _underflow_detail(x)
-
-
-def _underflow_detail(x: float) -> str:
-    return (
-        f"f(x) = 0.0 at x = {_fmt(x)} only because f underflowed (f is also 0.0 beside it): "
-        "not a confirmed root"
-    )
+        return EXACT_ZERO, None
+    return NOT_FINITE, Detail("underflow", (x,))
 
 
 # Continuity check of a bracket that closed (see _closed_bracket_reason).
@@ -401,10 +371,10 @@ def _closed_bracket_reason(
     fhi: float,
     steps: list[Step],
     underflowed: set[float],
-) -> tuple[str, str]:
+) -> tuple[str, Detail | None]:
     """Whether a bracket [lo, hi] that shrank below tolerance holds a root or a jump.
 
-    Returns ``(X_TOLERANCE, "")`` for a root, ``(DISCONTINUITY, detail)`` for a jump
+    Returns ``(X_TOLERANCE, None)`` for a root, ``(DISCONTINUITY, detail)`` for a jump
     and ``(NOT_FINITE, detail)`` when an end's value underflowed to 0 (f cannot tell
     where in the underflow the sign changes). A pole is left to :func:`_pole_detail`
     (its |f| grows as the bracket closes).
@@ -425,19 +395,16 @@ def _closed_bracket_reason(
     """
     for x in (lo, hi):
         if x in underflowed:
-            return NOT_FINITE, (
-                f"{_underflow_detail(x)}; f underflows from there on, and the sign change "
-                f"lies somewhere in that stretch, not located by f"
-            )
+            return NOT_FINITE, Detail("underflow_stretch", (x,))
     if _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps):
-        return X_TOLERANCE, ""  # _finish reports the pole
+        return X_TOLERANCE, None  # _finish reports the pole
     near = min(abs(flo), abs(fhi))
     width = hi - lo
     for step in steps:
         distance = max(lo - step.x, step.x - hi)
         if distance >= 2.0 * width and math.isfinite(step.fx) and step.x not in underflowed:
             if near <= abs(step.fx) * math.sqrt(width / distance):
-                return X_TOLERANCE, ""
+                return X_TOLERANCE, None
     a, b = sorted(settings["bracket"])
     reach = _PROBE_REACH * width
     for end, fend, probe in ((lo, flo, max(a, lo - reach)), (hi, fhi, min(b, hi + reach))):
@@ -446,12 +413,8 @@ def _closed_bracket_reason(
         fprobe = ev(probe)
         if math.isfinite(fprobe) and fprobe != 0.0 and _same_sign(fprobe, fend):
             if abs(fprobe) >= _PROBE_GROWTH * abs(fend):
-                return X_TOLERANCE, ""
-    return DISCONTINUITY, (
-        f"f changes sign from {flo:.6g} to {fhi:.6g} across [{_fmt(lo)}, {_fmt(hi)}] "
-        f"(width {width:.3g}) without approaching 0, and |f| stays that size "
-        f"{reach:.3g} further out: a jump of f there, not a root"
-    )
+                return X_TOLERANCE, None
+    return DISCONTINUITY, Detail("jump", (flo, fhi, lo, hi, width, reach))
 
 
 # --------------------------------------------------------------------------- open methods
@@ -540,12 +503,12 @@ def newton(
     xtol_, rtol_, ftol_, cap = tol["xtol"], tol["rtol"], tol["ftol"], tol["max_iter"]
     steps: list[Step] = []
 
-    def done(reason: str, root: float, k: int, detail: str = "") -> Run:
+    def done(reason: str, root: float, k: int, detail: Detail | None = None) -> Run:
         evaluations = ev.calls + (dev.calls if dev is not None else 0)
         return _finish("newton", reason, root, steps, k, evaluations, settings, detail, source)
 
     if not math.isfinite(x):
-        return done(NOT_FINITE, math.nan, 0, f"starting point x0 = {x!r} is not finite")
+        return done(NOT_FINITE, math.nan, 0, Detail("start_not_finite", ("x0", x)))
     scale = DERIVATIVE_FLOOR * abs(x) if x != 0.0 else 1.0  # floor of the difference step
     fx = ev(x)
     k = 0
@@ -563,7 +526,7 @@ def newton(
             return done(F_TOLERANCE, x, k)
         if dx is not None and abs(dx) <= xtol_ + rtol_ * abs(x):
             steps.append(Step(k, x, fx, None, dx))
-            return done(X_TOLERANCE, x, k, _step_detail("step |dx|", abs(dx), xtol_, rtol_, x))
+            return done(X_TOLERANCE, x, k, _step_detail("step", abs(dx), xtol_, rtol_, x))
         if k >= cap:
             steps.append(Step(k, x, fx, None, dx))
             return done(MAX_ITERATIONS, x, k)
@@ -571,20 +534,17 @@ def newton(
         steps.append(Step(k, x, fx, dfx, dx))
         if not math.isfinite(dfx):
             fault = (dev.fault if dev is not None else None) or (
-                f"f'(x) = {dfx!r} at x = {x!r}"
+                Detail("derivative_value", (dfx, x))
             )
             return done(NOT_FINITE, x, k, fault)
         if dfx == 0.0:
-            return done(ZERO_DERIVATIVE, x, k, f"f'(x) = 0 at x = {x!r}")
+            return done(ZERO_DERIVATIVE, x, k, Detail("derivative_zero", (x,)))
         step = -damping * fx / dfx
         x_new = x + step
         if not math.isfinite(x_new):
             if not math.isfinite(step):
-                return done(
-                    ZERO_DERIVATIVE, x, k,
-                    f"f'(x) = {dfx!r} is vanishingly small at x = {x!r}: the step overflows",
-                )
-            return done(NOT_FINITE, x, k, f"the next iterate overflows from x = {x!r}")
+                return done(ZERO_DERIVATIVE, x, k, Detail("derivative_tiny", (dfx, x)))
+            return done(NOT_FINITE, x, k, Detail("step_overflows", (x,)))
         dx = x_new - x
         x = x_new
         fx = ev(x)
@@ -617,12 +577,12 @@ def secant(
     ev = _Evaluator(f)
     steps: list[Step] = []
 
-    def done(reason: str, root: float, k: int, detail: str = "") -> Run:
+    def done(reason: str, root: float, k: int, detail: Detail | None = None) -> Run:
         return _finish("secant", reason, root, steps, k, ev.calls, settings, detail)
 
     for x in (xa, xb):
         if not math.isfinite(x):
-            return done(NOT_FINITE, math.nan, 0, f"starting point {x!r} is not finite")
+            return done(NOT_FINITE, math.nan, 0, Detail("start_not_finite", ("", x)))
     # Starting points: a zero or small residual at either ends the run there.
     fa = ev(xa)
     steps.append(Step(0, xa, fa))
@@ -648,10 +608,7 @@ def secant(
         if iterations >= cap:
             return done(MAX_ITERATIONS, xb, iterations)
         if fb == fa:
-            return done(
-                ZERO_DERIVATIVE, xb, iterations,
-                f"secant slope is zero: f({xa!r}) == f({xb!r})",
-            )
+            return done(ZERO_DERIVATIVE, xb, iterations, Detail("secant_flat", (xa, xb)))
         difference = fb - fa
         # fb/(fb - fa) without overflow when f values of opposite signs are huge
         fraction = 1.0 / (1.0 - fa / fb) if math.isinf(difference) else fb / difference
@@ -659,7 +616,7 @@ def secant(
         x = xb + step
         if not math.isfinite(x):
             reason = ZERO_DERIVATIVE if not math.isfinite(step) else NOT_FINITE
-            return done(reason, xb, iterations, f"the secant step from x = {xb!r} overflows")
+            return done(reason, xb, iterations, Detail("secant_overflows", (xb,)))
         fx = ev(x)
         iterations += 1
         dx = x - xb
@@ -672,7 +629,7 @@ def secant(
         if abs(fx) <= ftol_:
             return done(F_TOLERANCE, x, iterations)
         if abs(dx) <= xtol_ + rtol_ * abs(x):
-            detail = _step_detail("step |dx|", abs(dx), xtol_, rtol_, x)
+            detail = _step_detail("step", abs(dx), xtol_, rtol_, x)
             return done(X_TOLERANCE, x, iterations, detail)
         xa, fa, xb, fb = xb, fb, x, fx
 
@@ -703,13 +660,13 @@ def _start_bracket(
     is listed in ``underflowed``.
     """
 
-    def done(reason: str, root: float, detail: str = "") -> Run:
+    def done(reason: str, root: float, detail: Detail | None = None) -> Run:
         return _finish(method, reason, root, steps, 0, ev.calls, settings, detail)
 
     a, b = settings["bracket"]
     for x in (a, b):
         if not math.isfinite(x):
-            return done(NOT_FINITE, math.nan, f"bracket end {x!r} is not finite")
+            return done(NOT_FINITE, math.nan, Detail("end_not_finite", (x,)))
     fa = ev(a)
     fault_a = ev.fault
     fb = ev(b)
@@ -719,7 +676,7 @@ def _start_bracket(
     steps.append(Step(0, a, fa, None, None, lo if holds else None, hi if holds else None))
     steps.append(Step(1, b, fb, None, None, lo if holds else None, hi if holds else None))
     if not math.isfinite(fa):
-        return done(NOT_FINITE, _last_finite(steps), fault_a or f"f(a) = {fa!r} at a = {a!r}")
+        return done(NOT_FINITE, _last_finite(steps), fault_a or Detail("f_value", (fa, a)))
     if not math.isfinite(fb):
         return done(NOT_FINITE, _last_finite(steps), _not_finite_detail(ev, b, fb))
     tolerance = settings["xtol"], settings["rtol"]
@@ -730,7 +687,7 @@ def _start_bracket(
                 return done(EXACT_ZERO, x)
             underflowed.add(x)
     if len(underflowed) == 2 or a == b and underflowed:
-        return done(NOT_FINITE, a, _underflow_detail(a) + " at either bracket end")
+        return done(NOT_FINITE, a, Detail("underflow_ends", (a,)))
     if a in underflowed:
         fa = -math.copysign(_TINY, fb)
     if b in underflowed:
@@ -739,10 +696,7 @@ def _start_bracket(
     if min(abs(fa), abs(fb)) <= settings["ftol"]:
         return done(F_TOLERANCE, better)
     if _same_sign(fa, fb):
-        return done(
-            NO_SIGN_CHANGE, better,
-            f"f({a!r}) = {fa!r} and f({b!r}) = {fb!r} have the same sign: no bracket",
-        )
+        return done(NO_SIGN_CHANGE, better, Detail("same_sign", (a, fa, b, fb)))
     return _Bracket(a, fa, b, fb, underflowed)
 
 
@@ -785,11 +739,8 @@ def _iterate_zero(
     return math.nan
 
 
-def _interior_underflow(x: float, lo: float, hi: float) -> str:
-    return (
-        f"{_underflow_detail(x)}; inside the bracket [{_fmt(lo)}, {_fmt(hi)}], f cannot "
-        "say on which side of it the sign change lies"
-    )
+def _interior_underflow(x: float, lo: float, hi: float) -> Detail:
+    return Detail("underflow_inside", (x, lo, hi))
 
 
 _SLOPE_SPREAD = 1024.0
@@ -833,7 +784,7 @@ def bisection(
     Each iterate is the bracket's midpoint; the bracket halves every iterate (order 1,
     ratio 1/2). Stops when the bracket width ``hi - lo <= xtol + rtol*|x|`` with x the
     end of smaller |f| (returned as the root), or when the ends are adjacent doubles
-    and cannot be split (also ``x_tolerance``, said in the message).
+    and cannot be split (also ``x_tolerance``, recorded in the detail).
     """
     settings = _bracket_settings(xtol, rtol, ftol, max_iter, a, b)
     ev = _Evaluator(f)
@@ -849,23 +800,23 @@ def bisection(
     last = start.b
     iterations = 0
 
-    def done(reason: str, root: float, detail: str = "") -> Run:
+    def done(reason: str, root: float, detail: Detail | None = None) -> Run:
         return _finish("bisection", reason, root, steps, iterations, ev.calls, settings, detail)
 
-    def closed(best: float, detail: str) -> Run:
+    def closed(best: float, detail: Detail) -> Run:
         reason, why = _closed_bracket_reason(ev, settings, lo, flo, hi, fhi, steps, underflowed)
         return done(reason, best, why or detail)
 
     while True:
         best = lo if abs(flo) <= abs(fhi) else hi
         if hi - lo <= xtol_ + rtol_ * abs(best):
-            return closed(best, _step_detail("bracket width", hi - lo, xtol_, rtol_, best))
+            return closed(best, _step_detail("width", hi - lo, xtol_, rtol_, best))
         if iterations >= cap:
             return done(MAX_ITERATIONS, best)
         mid = 0.5 * lo + 0.5 * hi
         if not lo < mid < hi:
             return closed(
-                best, f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists"
+                best, Detail("adjacent_doubles", (lo, hi))
             )
         fmid = ev(mid)
         iterations += 1
@@ -924,17 +875,13 @@ def _regula_falsi(
     iterations = 0
     midpoints = 0
 
-    def done(reason: str, root: float, detail: str = "") -> Run:
-        note = (
-            f"{midpoints} midpoint step(s) where rounding put the chord's zero on a bracket end"
-            if midpoints
-            else ""
-        )
+    def done(reason: str, root: float, detail: Detail | None = None) -> Run:
+        note = Detail("midpoint_steps", (midpoints,)) if midpoints else None
         return _finish(
             method, reason, root, steps, iterations, ev.calls, settings, detail, note=note
         )
 
-    def closed(best: float, detail: str) -> Run:
+    def closed(best: float, detail: Detail) -> Run:
         (lo, flo), (hi, fhi) = sorted(((xa, fa), (xb, fb)))
         reason, why = _closed_bracket_reason(ev, settings, lo, flo, hi, fhi, steps, underflowed)
         return done(reason, best, why or detail)
@@ -961,7 +908,7 @@ def _regula_falsi(
             x = 0.5 * lo + 0.5 * hi
             if not lo < x < hi:
                 return closed(
-                    best, f"bracket [{lo!r}, {hi!r}] is two adjacent doubles: no finer step exists"
+                    best, Detail("adjacent_doubles", (lo, hi))
                 )
             midpoints += 1
         fx = ev(x)
@@ -994,7 +941,7 @@ def _regula_falsi(
             return done(F_TOLERANCE, x)
         best = xa if abs(fa) < abs(fb) else xb
         if hi - lo <= xtol_ + rtol_ * abs(best):
-            return closed(best, _step_detail("bracket width", hi - lo, xtol_, rtol_, best))
+            return closed(best, _step_detail("width", hi - lo, xtol_, rtol_, best))
         if illinois_rule or fallback or checking:
             # Illinois: both ends move, so the bracket width alone decides. After a
             # midpoint step, or a check that found no sign change, the chord-step
@@ -1119,10 +1066,10 @@ def brent(
     iterations = 0
     bisected = False
 
-    def done(reason: str, root: float, detail: str = "") -> Run:
+    def done(reason: str, root: float, detail: Detail | None = None) -> Run:
         return _finish("brent", reason, root, steps, iterations, ev.calls, settings, detail)
 
-    def closed(detail: str) -> Run:
+    def closed(detail: Detail) -> Run:
         (lo, flo), (hi, fhi) = sorted(((xb, fb), (xc, fc)))
         reason, why = _closed_bracket_reason(ev, settings, lo, flo, hi, fhi, steps, underflowed)
         return done(reason, xb, why or detail)
@@ -1137,7 +1084,7 @@ def brent(
         m = 0.5 * xc - 0.5 * xb  # = (xc - xb)/2 exactly, without overflow on wide brackets
         if abs(m) <= half_tol:
             width = abs(xc - xb)
-            return closed(_step_detail("bracket width", width, xtol_, rtol_, xb))
+            return closed(_step_detail("width", width, xtol_, rtol_, xb))
         if iterations >= cap:
             return done(MAX_ITERATIONS, xb)
 
@@ -1226,20 +1173,17 @@ class MethodSpec:
     """
 
     name: str
-    label: str
     function: Callable[..., Run]
     kind: str
 
 
 METHODS: dict[str, MethodSpec] = {
-    "newton": MethodSpec("newton", LABELS["newton"], newton, "open"),
-    "secant": MethodSpec("secant", LABELS["secant"], secant, "two_point"),
-    "false_position": MethodSpec(
-        "false_position", LABELS["false_position"], false_position, "bracket"
-    ),
-    "illinois": MethodSpec("illinois", LABELS["illinois"], illinois, "bracket"),
-    "bisection": MethodSpec("bisection", LABELS["bisection"], bisection, "bracket"),
-    "brent": MethodSpec("brent", LABELS["brent"], brent, "bracket"),
+    "newton": MethodSpec("newton", newton, "open"),
+    "secant": MethodSpec("secant", secant, "two_point"),
+    "false_position": MethodSpec("false_position", false_position, "bracket"),
+    "illinois": MethodSpec("illinois", illinois, "bracket"),
+    "bisection": MethodSpec("bisection", bisection, "bracket"),
+    "brent": MethodSpec("brent", brent, "bracket"),
 }
 
 

@@ -25,7 +25,7 @@ import numpy as np
 
 from solvers.equation import Equation, parse_equation
 from solvers.methods import METHODS
-from solvers.result import NO_SIGN_CHANGE, Run
+from solvers.result import NO_SIGN_CHANGE, Detail, Run
 from solvers.scan import Scan, scan
 from solvers.worksheet import Settings, Worksheet
 
@@ -36,54 +36,20 @@ _BRACKET_SEARCH_STEPS = 40
 # to separate roots a few hundredths of the range apart, cheap next to one full scan.
 SEED_SAMPLES = 401
 
-# Why a root of the quick scan was taken (the last number of an x0_scan_root choice).
-_WHY = {0: "the first from the left", 1: "the one nearest the typed x0",
-        2: "the first inside the typed bracket"}
-
-
-def _scan_root_text(n: tuple[float, ...]) -> str:
-    x, index, count, a, b, why = n[0], int(n[1]), int(n[2]), n[3], n[4], int(n[5])
-    if count == 1:
-        return f"x0 = {x:.6g}: the one sign change a quick scan of [{a:.6g}, {b:.6g}] found"
-    return (f"x0 = {x:.6g}: sign change {index} of {count} (from the left) in a quick scan "
-            f"of [{a:.6g}, {b:.6g}], taken as {_WHY.get(why, 'chosen')}; solve again with "
-            "another x0 or bracket for the others")
-
-
-# How each start value that was not typed got its number: code -> words from the
-# choice's numbers. The records keep the code; reports, the window and the CLI show these.
-START_TEXT: dict[str, Callable[[tuple[float, ...]], str]] = {
-    "x0_scan_root": _scan_root_text,
-    "x0_scan_min": lambda n: (f"x0 = {n[0]:.6g}: a quick scan of [{n[1]:.6g}, {n[2]:.6g}] "
-                              "found no sign change; x0 is where |f| was smallest"),
-    "x0_bracket_midpoint": lambda n: f"x0 = {n[0]:.6g}: the midpoint of the bracket",
-    "x0_scan_midpoint": lambda n: f"x0 = {n[0]:.6g}: the midpoint of the scan range",
-    "x0_default": lambda n: "x0 not given and no scan range: 1.0 used",
-    "x1_scan": lambda n: (f"x1 = {n[0]:.6g}: the end nearer x0 of the sign change "
-                          f"[{n[1]:.6g}, {n[2]:.6g}] a quick scan of the range found"),
-    "x1_nudged": lambda n: f"x1 = {n[0]:.6g}: x0 nudged by 1e-4 (relative)",
-    "bracket_scan_cell": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: the cell of the "
-                                    "quick scan where f changes sign"),
-    "bracket_scan_range": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: the scan range "
-                                     "(f changes sign between its ends)"),
-    "bracket_grown": lambda n: (f"bracket [{n[0]:.6g}, {n[1]:.6g}]: grown around x0 until "
-                                "f changed sign"),
-    "bracket_none": lambda n: "no bracket given and no sign change found",
-}
-
-
 @dataclass(frozen=True)
 class StartChoice:
-    """How one start value was chosen: ``code`` (a key of :data:`START_TEXT`) and the
-    numbers it refers to (values in the unknown's units, then counts and indices)."""
+    """How one start value was chosen: ``code`` and the numbers it refers to (values in
+    the unknown's units, then counts and indices).
+
+    Codes: x0_scan_root (x0, index, count, a, b, why: 0 the first from the left, 1 the
+    one nearest the typed x0, 2 the first inside the typed bracket), x0_scan_min (x0, a,
+    b), x0_bracket_midpoint (x0), x0_scan_midpoint (x0), x0_default (), x1_scan (x1, lo,
+    hi), x1_nudged (x1), bracket_scan_cell (lo, hi), bracket_scan_range (a, b),
+    bracket_grown (lo, hi), bracket_none (). :mod:`app.documents.words` says them in words.
+    """
 
     code: str
     numbers: tuple[float, ...] = ()
-
-    @property
-    def text(self) -> str:
-        words = START_TEXT.get(self.code)
-        return words(self.numbers) if words is not None else self.code
 
 
 @dataclass(frozen=True)
@@ -91,17 +57,13 @@ class StartValues:
     """Resolved start values: x0 (Newton), x0/x1 (secant), bracket (bracketing methods).
 
     ``choices`` records, as codes and numbers, how every value that was not typed by the
-    user was chosen; ``notes`` says the same in words.
+    user was chosen.
     """
 
     x0: float
     x1: float
     bracket: tuple[float, float] | None
     choices: tuple[StartChoice, ...] = ()
-
-    @property
-    def notes(self) -> tuple[str, ...]:
-        return tuple(c.text for c in self.choices)
 
 
 @dataclass(frozen=True)
@@ -304,7 +266,7 @@ def _no_bracket_run(name: str) -> Run:
         iterations=0,
         evaluations=0,
         steps=[],
-        message="no bracket: give one, or a scan range, or an x0 near a sign change",
+        detail=Detail("no_bracket"),
     )
 
 
@@ -447,3 +409,24 @@ def polish(ws: Worksheet, x: float, equation: Equation | None = None) -> Solutio
     sv = start_values(polished, eq)
     runs = run_methods(eq, sv, settings)
     return Solution(polished, eq, sv, runs, agreement_digits(runs, settings.xtol))
+
+
+def solve_and_scan(
+    ws: Worksheet,
+    *,
+    progress: Callable[[float], None] | None = None,
+    cancel: Callable[[], bool] | None = None,
+) -> tuple[Solution, Scan | None]:
+    """Every result a calculation sheet reports: the worksheet's solution and, when it
+    has a scan range, the scan of that range (``None`` without one).
+
+    The equation is parsed once for both. ``progress(fraction)`` runs from 0 to 1: the
+    solve is the first quarter, the scan the rest. Raises as :func:`solve` does.
+    """
+    solution = solve(ws)
+    if progress is not None:
+        progress(0.25)
+    if ws.scan is None:
+        return solution, None
+    report = (lambda p: progress(0.25 + 0.75 * p)) if progress is not None else None
+    return solution, scan_worksheet(ws, solution.equation, progress=report, cancel=cancel)

@@ -26,7 +26,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-# Stop reasons: the only values ``Run.reason`` takes (DESIGN.md contract).
+# Stop reasons: the only values ``Run.reason`` takes (the contract outside checks rely on).
 X_TOLERANCE = "x_tolerance"
 F_TOLERANCE = "f_tolerance"
 EXACT_ZERO = "exact_zero"
@@ -48,18 +48,25 @@ REASONS: tuple[str, ...] = (
 )
 CONVERGED_REASONS = frozenset({X_TOLERANCE, F_TOLERANCE, EXACT_ZERO})
 
-# One-line explanations for people (reports, GUI tooltips, CLI).
-REASON_TEXT: dict[str, str] = {
-    X_TOLERANCE: "step below tolerance |dx| <= xtol + rtol*|x|",
-    F_TOLERANCE: "residual below tolerance |f| <= ftol",
-    EXACT_ZERO: "f(x) is exactly zero",
-    MAX_ITERATIONS: "iteration cap reached before the tolerances were met",
-    ZERO_DERIVATIVE: "derivative zero or vanishing: Newton step undefined",
-    NOT_FINITE: "f or x became infinite or NaN (domain error or overflow), or f underflowed to 0",
-    NO_SIGN_CHANGE: "f has the same sign at both bracket ends",
-    DISCONTINUITY: "the bracket closed on a jump of f, not a root: f changes sign there "
-    "without passing through zero",
-}
+# The words for each reason (and for every Detail code) live in app.documents.words:
+# the numerics core records codes and numbers, never sentences.
+
+
+@dataclass(frozen=True)
+class Detail:
+    """What exactly stopped (or qualified) a run, as a code and the values it refers to.
+
+    ``code`` is a key of :data:`app.documents.words.DETAIL_TEXT`; ``values`` are numbers
+    (x values in the unknown's units, values of f, sizes, counts) and, where the code
+    needs them, short names (the function called, "f" or "f'", or an exception's class
+    name). A record for machines: front ends turn it into words.
+    """
+
+    code: str
+    values: tuple[float | int | str, ...] = ()
+
+    def as_dict(self) -> dict[str, Any]:
+        return {"code": self.code, "values": list(self.values)}
 
 
 @dataclass(frozen=True)
@@ -95,7 +102,8 @@ class Run:
     holds the tolerances and options actually used (xtol, rtol, ftol, max_iter,
     and method extras such as damping); ``derivative`` says where Newton's f'
     came from ("symbolic", "numerical", or "supplied"), ``None`` for other methods.
-    ``message`` is a one-line account for people.
+    ``detail`` says what exactly stopped the run (a :class:`Detail`, ``None`` when the
+    reason says it all) and ``note`` anything else a checker should know about it.
     """
 
     method: str
@@ -107,7 +115,8 @@ class Run:
     steps: list[Step] = field(default_factory=list)
     settings: dict[str, Any] = field(default_factory=dict)
     derivative: str | None = None
-    message: str = ""
+    detail: Detail | None = None
+    note: Detail | None = None
 
     @property
     def residual(self) -> float:
@@ -123,7 +132,7 @@ class Run:
         return observed_order(self)
 
     def as_dict(self) -> dict[str, Any]:
-        """JSON-ready mapping with the DESIGN.md keys first."""
+        """JSON-ready mapping with the contract's keys first."""
         return {
             "method": self.method,
             "root": self.root,
@@ -133,7 +142,8 @@ class Run:
             "evaluations": self.evaluations,
             "order": self.order,
             "derivative": self.derivative,
-            "message": self.message,
+            "detail": self.detail.as_dict() if self.detail is not None else None,
+            "note": self.note.as_dict() if self.note is not None else None,
             "settings": dict(self.settings),
             "steps": [s.as_dict() for s in self.steps],
         }

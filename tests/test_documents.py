@@ -26,13 +26,19 @@ import pytest
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 
-from app import cli
+from app import cli, qt_libraries
 from app.documents import export, figures, printing, report, worksheet
 from app.documents.words import CAUTION
 from solvers import parse_equation, pipeline
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = ROOT / "samples"
+
+
+def handed(ws):
+    """What a caller hands the sheet: the worksheet's solution and scan (it never solves)."""
+    solution, scan = pipeline.solve_and_scan(ws)
+    return {"solution": solution, "scan": scan}
 
 
 def flat(text: str) -> str:
@@ -115,7 +121,7 @@ def sheets(tmp_path_factory):
     for name in ("cooling-water-friction", "gas-molar-volume-vdw"):
         ws = worksheet.load(SAMPLES / f"{name}.json")
         pdf = tmp_path_factory.mktemp(name) / "sheet.pdf"
-        report.write_report(ws, pdf)
+        report.write_report(ws, pdf, **handed(ws))
         out[name] = (ws, [p.extract_text() for p in pypdf.PdfReader(str(pdf)).pages])
     return out
 
@@ -320,9 +326,9 @@ def test_missing_system_libraries_are_named_in_one_line(tmp_path):
     subprocess.run([gcc, "-shared", "-fPIC", "-o", "probe.so", "probe.c", "-L.",
                     "-Wl,--no-as-needed", "-lztabsent"], cwd=tmp_path, check=True)
     (tmp_path / "libztabsent.so").unlink()  # now the loader cannot find the dependency
-    missing = cli.missing_system_libraries([str(tmp_path / "probe.so")])
+    missing = qt_libraries.missing_system_libraries([str(tmp_path / "probe.so")])
     assert missing == ["libztabsent.so.1"]
-    message = cli.missing_libraries_message(["libxcb-keysyms.so.1", "libxcb-icccm.so.4"])
+    message = qt_libraries.missing_libraries_message(["libxcb-keysyms.so.1", "libxcb-icccm.so.4"])
     assert "\n" not in message
     assert "libxcb-keysyms.so.1" in message and "libxcb-icccm4 libxcb-keysyms1" in message
 
@@ -341,10 +347,11 @@ def test_every_library_of_the_xcb_platform_is_listed_in_readme_and_ci():
     needed = {name for name in system if not runtime.match(name)}
     x_and_gl = {name for name in needed if name.startswith(("libxcb", "libX11", "libxkb",
                                                            "libGL", "libEGL", "libOpenGL"))}
-    assert x_and_gl <= set(cli.QT_SYSTEM_LIBRARIES), x_and_gl - set(cli.QT_SYSTEM_LIBRARIES)
+    known = set(qt_libraries.QT_SYSTEM_LIBRARIES)
+    assert x_and_gl <= known, x_and_gl - known
     readme = (ROOT / "README.md").read_text(encoding="utf-8")
     ci = (ROOT / ".ci" / "run").read_text(encoding="utf-8")
-    for package in set(cli.QT_SYSTEM_LIBRARIES.values()):
+    for package in set(qt_libraries.QT_SYSTEM_LIBRARIES.values()):
         assert re.search(rf"(?<![\w-]){re.escape(package)}(?![\w-])", readme), package
         assert re.search(rf"(?<![\w-]){re.escape(package)}(?![\w-])", ci), package
 
@@ -354,7 +361,7 @@ def test_window_command_names_missing_libraries_instead_of_aborting(monkeypatch)
     monkeypatch.delenv("QT_QPA_PLATFORM", raising=False)
     monkeypatch.delenv("WAYLAND_DISPLAY", raising=False)
     monkeypatch.setenv("DISPLAY", ":97")
-    missing = cli.missing_system_libraries()
+    missing = qt_libraries.missing_system_libraries()
     if not missing:
         pytest.skip("every library Qt's xcb window needs is installed here")
     env = dict(os.environ)

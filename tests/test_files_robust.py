@@ -40,6 +40,7 @@ from app.documents.worksheet import (
     Worksheet,
     WorksheetError,
 )
+from solvers import pipeline
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 
@@ -47,6 +48,12 @@ ROOT = Path(__file__).resolve().parents[1]
 SAMPLE = ROOT / "samples" / "cooling-water-friction.json"
 CHILD_TIMEOUT_S = 60  # a blocked read never returns; anything that returns is far quicker
 posix_only = pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs FIFOs (POSIX)")
+
+
+def handed(ws):
+    """What a caller hands the sheet: the worksheet's solution and scan (it never solves)."""
+    solution, scan = pipeline.solve_and_scan(ws)
+    return {"solution": solution, "scan": scan}
 
 
 def _sheet(**changes: Any) -> Worksheet:
@@ -311,8 +318,9 @@ def test_a_worksheet_whose_name_is_not_utf8_can_be_reported(tmp_path: Path) -> N
 
     path = Path(os.fsdecode(bytes(tmp_path) + b"/calc-\xff.json"))  # a name from a Latin-1 system
     wsmod.save(_sheet(settings=Settings(methods=("newton",), x0=1.0)), path)
-    result = write_report(wsmod.load(path), tmp_path / "calc.pdf", csv_dir=tmp_path / "csv",
-                          worksheet_path=path)
+    ws = wsmod.load(path)
+    result = write_report(ws, tmp_path / "calc.pdf", csv_dir=tmp_path / "csv",
+                          worksheet_path=path, **handed(ws))
     assert "calc-\ufffd.json" in _text_of(result.pdf_path)
     assert "# worksheet: calc-\ufffd.json" in result.csv_paths[0].read_text("utf-8")
 
@@ -372,7 +380,8 @@ def _write_csv(path: Path) -> None:
 def _write_pdf(path: Path) -> None:
     from app.documents.report import write_report
 
-    write_report(_sheet(settings=Settings(methods=("newton",), x0=1.0)), path, overwrite=True)
+    ws = _sheet(settings=Settings(methods=("newton",), x0=1.0))
+    write_report(ws, path, overwrite=True, **handed(ws))
 
 
 @posix_only
@@ -494,12 +503,14 @@ def test_a_full_disk_leaves_neither_the_sheet_nor_its_csv_files(tmp_path, monkey
 
     monkeypatch.setattr(os, "write", disk_full_on_the_pdf)
     csv_dir = tmp_path / "calc-csv"
+    ws = wsmod.load(SAMPLE)
+    results = handed(ws)
     with pytest.raises(ReportError, match="No space left"):
-        write_report(wsmod.load(SAMPLE), tmp_path / "calc.pdf", csv_dir=csv_dir)
+        write_report(ws, tmp_path / "calc.pdf", csv_dir=csv_dir, **results)
     assert sorted(os.listdir(tmp_path)) == [], "no PDF, no CSV, no temp, no empty folder"
 
     monkeypatch.setattr(os, "write", real_write)
-    result = write_report(wsmod.load(SAMPLE), tmp_path / "calc.pdf", csv_dir=csv_dir)
+    result = write_report(ws, tmp_path / "calc.pdf", csv_dir=csv_dir, **results)
     assert result.pdf_path.exists() and all(p.exists() for p in result.csv_paths)
 
 
@@ -535,7 +546,7 @@ def test_a_30_level_continued_fraction_gets_its_sheet(tmp_path: Path) -> None:
     # 1 + 1/(1 + 1/(...x)) = 2.5 has a root: the sheet must say so, not fail on layout.
     ws = Worksheet(equation=_continued_fraction(30), unknown="x", title="Invented fraction",
                    settings=Settings(methods=("newton", "secant"), x0=1.0, x1=1.1))
-    result = write_report(ws, tmp_path / "tall.pdf")
+    result = write_report(ws, tmp_path / "tall.pdf", **handed(ws))
     assert result.pages >= 2 and "Caution" in _text_of(result.pdf_path)
 
 
@@ -543,16 +554,16 @@ def test_nothing_too_tall_ever_raises_a_layout_error(tmp_path: Path, monkeypatch
     from app.documents import report
 
     # No cap on the typeset image, no legibility floor: the layout's own guard must cope.
-    monkeypatch.setattr(report, "MAX_MATH_HEIGHT", 1e9)
-    monkeypatch.setattr(report, "MIN_MATH_SCALE", 0.0)
+    monkeypatch.setattr(report.typeset, "MAX_MATH_HEIGHT", 1e9)
+    monkeypatch.setattr(report.typeset, "MIN_MATH_SCALE", 0.0)
     ws = Worksheet(equation=_continued_fraction(30), unknown="x",
                    settings=Settings(methods=("newton",), x0=1.0))
-    assert report.write_report(ws, tmp_path / "a.pdf").pages >= 2
+    assert report.write_report(ws, tmp_path / "a.pdf", **handed(ws)).pages >= 2
     # a parameter note several pages long runs on over the pages, every word kept
     note = " ".join(f"w{i}" for i in range(4000))
     ws = _sheet(parameters=(Parameter("a", 2.0, note), Parameter("q", 9.0)),
                 settings=Settings(methods=("newton",), x0=1.0))
-    result = report.write_report(ws, tmp_path / "b.pdf")
+    result = report.write_report(ws, tmp_path / "b.pdf", **handed(ws))
     text = _text_of(result.pdf_path)
     assert "w0 " in text and "w3999" in text
 

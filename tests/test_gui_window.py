@@ -11,9 +11,9 @@ import math
 import pytest
 from PySide6.QtCore import Qt
 
+from app.documents.words import REASON_TEXT
 from app.window.models import RunModel, format_number
 from solvers import pipeline
-from solvers.result import REASON_TEXT
 
 pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import idle, settle, solve_and_wait, type_equation  # noqa: E402

@@ -24,6 +24,7 @@ import scipy.special
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from app.documents.words import method_title, run_message
 from solvers.methods import (
     DEFAULT_FTOL,
     DEFAULT_MAX_ITER,
@@ -74,7 +75,7 @@ def check_run_record(run: Run) -> None:
     if run.converged:
         assert run.root in xs  # the root is a point where f was evaluated
         assert math.isfinite(run.residual)
-    assert run.message and "\n" not in run.message
+    assert run_message(run) and "\n" not in run_message(run)
 
 
 def check_bracket_record(run: Run, f) -> None:
@@ -130,7 +131,7 @@ def test_roots_within_four_ulps_of_mpmath(case):
         bisection(f, a, b, xtol=0.0),
     ]
     for run in runs:
-        assert run.converged, run.message
+        assert run.converged, run_message(run)
         assert ulps_apart(run.root, reference) <= 4, (run.method, run.root, reference)
         check_run_record(run)
 
@@ -142,7 +143,7 @@ def test_default_tolerances_meet_xtol_against_mpmath(case):
     allowed = DEFAULT_XTOL + DEFAULT_RTOL * abs(reference)
     for method in BRACKETING:
         run = method(f, a, b)
-        assert run.converged, run.message
+        assert run.converged, run_message(run)
         assert abs(run.root - reference) <= allowed, (run.method, run.root - reference)
     for run in (newton(f, x0, fprime=fp), newton(f, x0), secant(f, a, b)):
         assert run.converged
@@ -194,7 +195,7 @@ def test_colebrook_friction_factor_against_wright_omega_closed_form(reynolds, ro
     reference = colebrook_closed_form(reynolds, roughness)  # scipy.special.wrightomega
     for run in (newton(f, 0.02), secant(f, 0.01, 0.05), brent(f, 0.005, 0.1),
                 illinois(f, 0.005, 0.1)):
-        assert run.converged, run.message
+        assert run.converged, run_message(run)
         assert abs(run.root - reference) <= 1e-12, run.method
     assert newton(f, 0.02).derivative == "numerical"
 
@@ -226,7 +227,7 @@ def test_plane_wall_first_conduction_eigenvalue_matches_table(biot, zeta1):
     fp = lambda x: math.sin(x) + x * math.cos(x) + biot * math.sin(x)  # noqa: E731
     for run in (brent(f, 0.0, math.pi / 2), newton(f, 0.8, fprime=fp),
                 false_position(f, 0.0, math.pi / 2), bisection(f, 0.0, math.pi / 2)):
-        assert run.converged, run.message
+        assert run.converged, run_message(run)
         assert abs(run.root - zeta1) <= 5e-5 + 1e-12, run.method
 
 
@@ -241,7 +242,7 @@ def test_cantilever_frequency_equation_roots_match_handbook(bracket, root):
         run = method(f, *bracket)
         if method is false_position and not run.converged:
             continue  # plain false position may need more than max_iter (linear rate)
-        assert run.converged, run.message
+        assert run.converged, run_message(run)
         assert abs(run.root - root) <= 5e-9, run.method
 
 
@@ -308,7 +309,7 @@ def test_zero_derivative_at_start_is_recorded():
     assert (run.reason, run.converged) == ("zero_derivative", False)
     assert run.steps[0].dfx == 0.0 and run.steps[0].fx == -1.0
     assert run.evaluations == f.calls + fp.calls == 2
-    assert run.root == 0.0 and "f'(x) = 0" in run.message
+    assert run.root == 0.0 and "f'(x) = 0" in run_message(run)
     check_run_record(run)
 
 
@@ -330,14 +331,14 @@ def test_log_stepping_negative_is_not_finite_and_quiet():
         assert run.steps[-1].x == pytest.approx(3.0 - 3.0 * math.log(3.0))
         assert run.root == 3.0  # the last iterate with finite f, for inspection only
         check_run_record(run)
-    assert "ValueError" in math_run.message
+    assert "ValueError" in run_message(math_run)
     assert math.isnan(np_run.steps[-1].fx)
 
 
 def test_exception_from_f_at_a_pole_is_not_finite():
     f = Counted(lambda x: 1.0 / (x - 1.0))  # pole at 1 with a sign change across it
     run = bisection(f, 0.0, 2.0)
-    assert run.reason == "not_finite" and "ZeroDivisionError" in run.message
+    assert run.reason == "not_finite" and "ZeroDivisionError" in run_message(run)
     assert run.evaluations == f.calls == 3
 
 
@@ -353,10 +354,10 @@ def test_overflow_is_not_finite():
 
 def test_complex_result_is_not_finite():
     run = newton(lambda x: cmath.sqrt(x) - 2.0, -1.0)
-    assert run.reason == "not_finite" and "complex" in run.message
+    assert run.reason == "not_finite" and "complex" in run_message(run)
     # Python's fractional power of a negative float is complex: (-8.0)**(1/3)
     run = bisection(lambda x: x ** (1.0 / 3.0) - 1.0, -8.0, 8.0)
-    assert run.reason == "not_finite" and "complex" in run.message
+    assert run.reason == "not_finite" and "complex" in run_message(run)
     # numpy gives nan instead, quietly
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
@@ -366,7 +367,7 @@ def test_complex_result_is_not_finite():
 
 def test_f_returning_several_values_is_not_finite():
     run = newton(lambda x: np.array([x, x]), 1.0)
-    assert run.reason == "not_finite" and "2 values" in run.message
+    assert run.reason == "not_finite" and "2 values" in run_message(run)
 
 
 def test_non_finite_start_values_are_results():
@@ -509,19 +510,19 @@ def test_numerical_derivative_at_the_edge_of_the_domain_falls_back_to_one_side()
 def test_huge_f_values_of_opposite_sign_do_not_overflow_the_interpolation():
     f = lambda x: 1e308 * (x - 1.5)  # noqa: E731  f(1) - f(2) overflows to -inf
     for run in (secant(f, 1.0, 2.0), false_position(f, 1.0, 2.0), illinois(f, 1.0, 2.0)):
-        assert run.converged and run.root == 1.5, run.message
+        assert run.converged and run.root == 1.5, run_message(run)
 
 
 def test_bracket_spanning_most_of_the_double_range():
     f = lambda x: x - 1e300  # noqa: E731  hi - lo overflows to inf
     for method in (brent, bisection, illinois):
         run = method(f, -1e308, 1.7e308)
-        assert run.converged and run.root == pytest.approx(1e300, rel=1e-15), run.message
+        assert run.converged and run.root == pytest.approx(1e300, rel=1e-15), run_message(run)
 
 
 def test_huge_integer_from_f_is_not_finite():
     run = newton(lambda x: 10**400, 1.0)
-    assert run.reason == "not_finite" and "OverflowError" in run.message
+    assert run.reason == "not_finite" and "OverflowError" in run_message(run)
 
 
 def test_accepts_numpy_scalars_and_returns_plain_floats():
@@ -558,7 +559,7 @@ def test_methods_table_matches_the_interface():
              "illinois": "bracket", "bisection": "bracket", "brent": "bracket"}
     assert {name: spec.kind for name, spec in METHODS.items()} == kinds
     for name, spec in METHODS.items():
-        assert isinstance(spec, MethodSpec) and spec.name == name and spec.label
+        assert isinstance(spec, MethodSpec) and spec.name == name and method_title(name)
 
 
 @pytest.mark.parametrize("name", list(METHODS))
@@ -656,7 +657,7 @@ def test_bracketing_methods_find_the_root_of_any_monotone_cubic(root, p, left, r
     for method in (brent, illinois, bisection):
         f.calls = 0
         run = method(f, root - left, root + right)
-        assert run.converged, run.message
+        assert run.converged, run_message(run)
         assert abs(run.root - root) <= slack
         assert run.evaluations == f.calls
         check_run_record(run)

@@ -25,6 +25,7 @@ from scipy.optimize import brentq
 
 from app.documents import export
 from app.documents.report import CAUTION, NUMERICAL_DERIVATIVE_NOTE, ReportError, write_report
+from app.documents.words import REASON_TEXT, method_title
 from app.documents.worksheet import (
     CalcInfo,
     Parameter,
@@ -37,12 +38,16 @@ from app.documents.worksheet import (
     save,
 )
 from solvers import pipeline
-from solvers.methods import METHODS
-from solvers.result import REASON_TEXT
 
-NEWTON = METHODS["newton"].label  # the sheet names methods by their labels
+NEWTON = method_title("newton")  # the sheet names methods by their titles
 SAMPLES = Path(__file__).resolve().parents[1] / "samples"
 SAMPLE = SAMPLES / "cooling-water-friction.json"
+
+
+def handed(ws):
+    """What a caller hands the sheet: the worksheet's solution and scan (it never solves)."""
+    solution, scan = pipeline.solve_and_scan(ws)
+    return {"solution": solution, "scan": scan}
 
 
 def pages_text(pdf: Path) -> list[str]:
@@ -78,15 +83,15 @@ def sheet(tmp_path_factory):
     shutil.copyfile(SAMPLE, ws_path)
     ws = load(ws_path)
     fractions: list[float] = []
+    solution, scan = pipeline.solve_and_scan(ws)
     result = write_report(
-        ws, folder / "calc.pdf", csv_dir=folder / "csv", worksheet_path=ws_path,
-        progress=fractions.append,
+        ws, folder / "calc.pdf", solution=solution, scan=scan, csv_dir=folder / "csv",
+        worksheet_path=ws_path, progress=fractions.append,
     )
-    solution = pipeline.solve(ws)
     texts = pages_text(result.pdf_path)
     return {
         "ws": ws, "ws_path": ws_path, "result": result, "solution": solution,
-        "scan": pipeline.scan_worksheet(ws), "pages": texts, "text": "\n".join(texts),
+        "scan": scan, "pages": texts, "text": "\n".join(texts),
         "progress": fractions,
     }
 
@@ -203,7 +208,7 @@ def test_high_precision_residual_matches_an_independent_mpmath_evaluation(sheet)
 def test_agreement_sentence(sheet):
     digits = sheet["solution"].agreement_digits
     assert digits is not None
-    assert f"agree to {digits} significant digits" in flat(sheet["text"])
+    assert f"agree to {digits} significant figures" in flat(sheet["text"])
 
 
 def test_scan_roots_listed_and_no_selection_said_so(sheet):
@@ -289,7 +294,7 @@ def no_root_worksheet(**settings) -> Worksheet:
 
 def test_failed_solve_still_produces_the_sheet_and_says_why(tmp_path):
     ws = no_root_worksheet()
-    result = write_report(ws, tmp_path / "fail.pdf")
+    result = write_report(ws, tmp_path / "fail.pdf", **handed(ws))
     texts = pages_text(result.pdf_path)
     text = flat("\n".join(texts))
     solution = pipeline.solve(ws)
@@ -304,7 +309,7 @@ def test_failed_solve_still_produces_the_sheet_and_says_why(tmp_path):
 
 def test_a_long_table_repeats_its_header_on_every_page(tmp_path):
     ws = no_root_worksheet()
-    result = write_report(ws, tmp_path / "long.pdf")
+    result = write_report(ws, tmp_path / "long.pdf", **handed(ws))
     newton = next(r for r in pipeline.solve(ws).runs if r.method == "newton")
     assert len(newton.steps) > 100  # Newton wanders on x^2 + 1 until the cap
     banner = f"{NEWTON} — {len(newton.steps)} points recorded"
@@ -322,7 +327,7 @@ def test_selected_design_value_and_reason(tmp_path):
     ws = load(SAMPLE)
     scan = pipeline.scan_worksheet(ws)
     ws = ws.with_changes(selection=Selection(scan.roots[0].x, "turbulent branch (invented)"))
-    result = write_report(ws, tmp_path / "sel.pdf")
+    result = write_report(ws, tmp_path / "sel.pdf", **handed(ws))
     text = flat("\n".join(pages_text(result.pdf_path)))
     assert f"Selected design value: f = {r(scan.roots[0].x)}" in text
     assert "nearest scanned root #1" in text
@@ -339,7 +344,7 @@ def test_numerical_derivative_is_said(tmp_path):
 
 def test_unsaved_worksheet_hashes_its_canonical_json(tmp_path):
     ws = load(SAMPLE)
-    result = write_report(ws, tmp_path / "unsaved.pdf")
+    result = write_report(ws, tmp_path / "unsaved.pdf", **handed(ws))
     assert result.sha256 == hashlib.sha256(dumps(ws).encode("utf-8")).hexdigest()
     text = flat(pages_text(result.pdf_path)[0])
     assert result.sha256 in text and "canonical worksheet JSON" in text
@@ -349,7 +354,8 @@ def test_user_text_is_printed_literally_not_as_markup(tmp_path):
     ws = load(SAMPLE).with_changes(
         title="Line <b>A</b> & <font size=40>B</font>", notes="Invented: 2 < 3 & 5 > 4 <br/>"
     )
-    result = write_report(ws, tmp_path / "odd name ø.pdf", csv_dir=tmp_path / "csv ø")
+    result = write_report(ws, tmp_path / "odd name ø.pdf", csv_dir=tmp_path / "csv ø",
+                          **handed(ws))
     text = flat("\n".join(pages_text(result.pdf_path)))
     assert "Line <b>A</b> & <font size=40>B</font>" in text
     assert "Invented: 2 < 3 & 5 > 4 <br/>" in text
@@ -368,7 +374,8 @@ def test_missing_and_malformed_worksheets_are_refused_in_one_line(tmp_path):
         load(broken)
     # a worksheet path that vanished before the report hashes it
     with pytest.raises(ReportError) as info:
-        write_report(load(SAMPLE), tmp_path / "x.pdf", worksheet_path=tmp_path / "gone.json")
+        write_report(load(SAMPLE), tmp_path / "x.pdf", worksheet_path=tmp_path / "gone.json",
+                     **handed(load(SAMPLE)))
     assert "\n" not in str(info.value) and "gone.json" in str(info.value)
     assert not (tmp_path / "x.pdf").exists()
 
@@ -386,9 +393,10 @@ def test_unwritable_output_path_is_refused_before_any_work(tmp_path, where, monk
     def no_solving(*args, **kwargs):
         raise AssertionError("solved before checking the output path")
 
+    results = handed(load(SAMPLE))  # the caller's results; the sheet must not solve
     monkeypatch.setattr(pipeline, "solve", no_solving)
     with pytest.raises(ReportError) as info:
-        write_report(load(SAMPLE), target)
+        write_report(load(SAMPLE), target, **results)
     message = str(info.value)
     assert "\n" not in message and str(target) in message
 
@@ -401,7 +409,7 @@ def test_read_only_folder_is_refused(tmp_path):
     folder.chmod(0o500)
     try:
         with pytest.raises(ReportError, match="cannot write"):
-            write_report(load(SAMPLE), folder / "calc.pdf")
+            write_report(load(SAMPLE), folder / "calc.pdf", **handed(load(SAMPLE)))
     finally:
         folder.chmod(0o700)
 
@@ -411,14 +419,14 @@ def test_existing_files_are_kept_unless_overwrite(tmp_path):
     pdf = tmp_path / "calc.pdf"
     pdf.write_bytes(b"previous sheet")
     with pytest.raises(ReportError, match="already exists"):
-        write_report(ws, pdf)
+        write_report(ws, pdf, **handed(ws))
     assert pdf.read_bytes() == b"previous sheet"
     (tmp_path / "csv").mkdir()
     (tmp_path / "csv" / "new-runs.csv").write_text("old", "utf-8")
     with pytest.raises(ReportError, match="already exists"):
-        write_report(ws, tmp_path / "new.pdf", csv_dir=tmp_path / "csv")
+        write_report(ws, tmp_path / "new.pdf", csv_dir=tmp_path / "csv", **handed(ws))
     assert not (tmp_path / "new.pdf").exists()
-    result = write_report(ws, pdf, overwrite=True)
+    result = write_report(ws, pdf, overwrite=True, **handed(ws))
     assert pdf.read_bytes().startswith(b"%PDF") and result.pages >= 3
 
 
@@ -432,7 +440,7 @@ def test_a_failed_write_leaves_no_half_file(tmp_path, monkeypatch):
 
     monkeypatch.setattr(os, "replace", disk_full)
     with pytest.raises(ReportError, match="No space left"):
-        write_report(ws, pdf, overwrite=True)
+        write_report(ws, pdf, overwrite=True, **handed(ws))
     assert pdf.read_bytes() == b"previous sheet"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["calc.pdf"]  # no temp left
 
@@ -442,7 +450,7 @@ def test_saved_sample_round_trip_keeps_the_hash_stable(tmp_path):
     ws = load(SAMPLE)
     path = tmp_path / "copy.json"
     save(ws, path)
-    result = write_report(ws, tmp_path / "copy.pdf", worksheet_path=path)
+    result = write_report(ws, tmp_path / "copy.pdf", worksheet_path=path, **handed(ws))
     assert result.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
     assert result.sha256 == hashlib.sha256(dumps(ws).encode("utf-8")).hexdigest()
 
@@ -453,7 +461,7 @@ def test_parameters_table_handles_many_parameters(tmp_path):
     ws = Worksheet(equation="x - p1", unknown="x", parameters=params,
                    settings=Settings(x0=0.0, bracket=(-1.0, 1.0)),
                    title="Many parameters (invented)")
-    result = write_report(ws, tmp_path / "many.pdf")
+    result = write_report(ws, tmp_path / "many.pdf", **handed(ws))
     text = flat("\n".join(pages_text(result.pdf_path)))
     for p in params:
         assert f"{p.name} {r(p.value)} {p.note}" in text
@@ -462,10 +470,10 @@ def test_parameters_table_handles_many_parameters(tmp_path):
 def test_a_huge_run_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path, monkeypatch):
     from app.documents import report
 
-    monkeypatch.setattr(report, "MAX_TABLE_ROWS", 40)  # small cap, so the test stays quick
+    monkeypatch.setattr(report.tables, "MAX_TABLE_ROWS", 40)  # small cap, so the test stays quick
     ws = no_root_worksheet().with_changes(settings=Settings(methods=("newton",), x0=0.5,
                                                             max_iter=150))
-    result = write_report(ws, tmp_path / "cut.pdf", csv_dir=tmp_path)
+    result = write_report(ws, tmp_path / "cut.pdf", csv_dir=tmp_path, **handed(ws))
     newton = pipeline.solve(ws).runs[0]
     left_out = len(newton.steps) - 40
     text = flat("\n".join(pages_text(result.pdf_path)))

@@ -184,9 +184,10 @@ def test_three_threads_typeset_and_draw_through_the_one_lock():
         def strip(i):
             assert render_png(dtex if i % 2 else tex, dpi=90 + i) is not None
         def sheet(i):
-            assert report._math(tex + " + %d" % i, 400.0) is not None
+            assert report.typeset._math(tex + " + %d" % i, 400.0) is not None
             if i % 8 == 0:
-                report._figure(lambda ax: figures.draw_function(ax, eq.f, -1.0, 6.0), 300, 200)
+                report.typeset._figure(lambda ax: figures.draw_function(ax, eq.f, -1.0, 6.0),
+                                       300, 200)
         def check(i):
             assert mathtext(tex, "plain").startswith("$")
         threads = [loop(strip), loop(sheet), loop(check)]
@@ -250,7 +251,7 @@ def test_long_chain_parses_solves_and_reports_within_budget(tmp_path):
     out = run_child(f"""
         import math
         from pathlib import Path
-        from solvers import parse_equation, newton
+        from solvers import parse_equation, newton, pipeline
         from app.documents import worksheet
         from solvers.equation import MAX_TYPESET_CHARS
         from app.documents.report import write_report
@@ -264,7 +265,8 @@ def test_long_chain_parses_solves_and_reports_within_budget(tmp_path):
         assert eq.fprime is None and not eq.derivative_too_large and not a.derivative_note
         ws = worksheet.Worksheet(equation={CHAIN!r}, unknown="x", settings=worksheet.Settings(
             x0=0.5, x1=0.6, bracket=(0.0, 2.0)))
-        write_report(ws, Path({str(tmp_path / "chain.pdf")!r}))
+        solution, scan = pipeline.solve_and_scan(ws)  # the sheet is handed results
+        write_report(ws, Path({str(tmp_path / "chain.pdf")!r}), solution=solution, scan=scan)
         print(run.reason)
     """, timeout_s=240)
     assert out.strip()

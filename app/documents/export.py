@@ -26,7 +26,7 @@ from datetime import datetime, timezone
 from typing import IO, Any
 
 from app.documents.files import write_atomic
-from app.documents.words import CAUTION
+from app.documents.words import CAUTION, run_message, start_notes
 from solvers.result import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
@@ -202,6 +202,11 @@ def run_json(run: Run) -> dict[str, Any]:
     data["settings"] = {
         k: (_json_float(v) if isinstance(v, float) else v) for k, v in data["settings"].items()
     }
+    for key in ("detail", "note"):
+        if data.get(key) is not None:
+            data[key]["values"] = [_json_float(v) if isinstance(v, float) else v
+                                   for v in data[key]["values"]]
+    data["message"] = run_message(run)  # the run in words, for people reading the file
     return data
 
 
@@ -244,8 +249,9 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
         "damping": s.damping,
     }
     more = dict(extra or {})
-    if sv.notes:
-        more["start values"] = "; ".join(sv.notes)
+    notes = start_notes(sv)
+    if notes:
+        more["start values"] = "; ".join(notes)
     return metadata(
         equation=ws.equation,
         unknown=solution.equation.unknown,
@@ -267,7 +273,7 @@ def solution_json(solution: Any) -> dict[str, Any]:
             "bracket": [_json_float(v) for v in solution.start.bracket]
             if solution.start.bracket is not None
             else None,
-            "notes": list(solution.start.notes),
+            "notes": list(start_notes(solution.start)),
         },
         "agreement_digits": solution.agreement_digits,
         "runs": [run_json(r) for r in solution.runs],

@@ -28,7 +28,8 @@ from typing import Any
 
 import numpy as np
 
-from solvers.methods import LABELS
+# method_label and method_title are the words module's, re-exported for the drawing callers.
+from app.documents.words import method_label, method_title  # noqa: F401
 from solvers.result import Run
 
 # matplotlib is not thread-safe: its mathtext parser and font objects are shared, and two
@@ -96,12 +97,6 @@ METHOD_COLORS: dict[str, str] = {
     "bisection": OKABE_ITO["orange"],
     "brent": OKABE_ITO["sky_blue"],
 }
-# In-sentence names, from the methods' own titles (solvers.methods.LABELS): lower case
-# except the methods named after people.
-_PROPER = ("newton", "illinois", "brent")
-METHOD_LABELS: dict[str, str] = {
-    name: title if name in _PROPER else title.lower() for name, title in LABELS.items()
-}
 FUNCTION_COLOR = "#222222"
 POLE_COLOR = "#6B6B6B"
 ROOT_MARKER = {"marker": "o", "markersize": 7, "markerfacecolor": "white",
@@ -123,18 +118,6 @@ def residual_name(unknown: str) -> str:
 
 def method_color(name: str) -> str:
     return METHOD_COLORS.get(name, OKABE_ITO["black"])
-
-
-def method_label(name: str) -> str:
-    """The method's name as it reads inside a sentence ("… the secant and Newton–Raphson")."""
-    return METHOD_LABELS.get(name, name.replace("_", " "))
-
-
-def method_title(name: str) -> str:
-    """The method's name as a title or legend entry: first letter capital, like the
-    calculation sheet's ("Newton–Raphson", "Secant", "False position")."""
-    label = method_label(name)
-    return label[:1].upper() + label[1:]
 
 
 @dataclass(frozen=True)

@@ -1,15 +1,30 @@
-"""The safety caution every output of zerotrace carries, written once.
+"""Every sentence and label zerotrace prints, written once.
 
-The README, the help and about pages, the calculation sheet, every CSV file and every
-``--json`` document carry :data:`CAUTION` word for word; only the window's status bar,
-which has room for one short line, shows :data:`CAUTION_LINE`, and the window's help and
-about pages carry the full text.
+The numerics core (:mod:`solvers`) records codes and numbers; this module turns them
+into words, and the CLI, the window and the calculation sheet all take their words
+from here, so a method, a stop reason or a root reads the same in all three:
 
-The full text has no comma, so its CSV metadata line stays a plain ``# caution: ...``
-line (a line with a comma must be quoted to stay one spreadsheet cell).
+* the caution (:data:`CAUTION`, and :data:`CAUTION_LINE` for the status bar);
+* method titles and in-sentence labels (:func:`method_title`, :func:`method_label`);
+* stop reasons (:data:`REASON_TEXT`), the detail of a run (:func:`detail_text`) and a
+  run's one-line account (:func:`run_message`);
+* how each start value was chosen (:func:`start_text`, :func:`start_notes`);
+* the agreement of the converged methods (:func:`agreement_text`);
+* the words for the codes of :mod:`solvers.residual` (:data:`RESIDUAL_WORDS`);
+* one number-formatting family: :func:`number` (``figures`` significant figures, the
+  setting the user chooses) and :func:`exact` (every digit, ``repr``), both writing a
+  NaN as "undefined" and an infinity as "+inf" / "-inf". Machine files (CSV, JSON)
+  keep Python's exact ``repr`` (see :mod:`app.documents.export`).
+
+The caution's full text has no comma, so its CSV metadata line stays a plain
+``# caution: ...`` line (a line with a comma must be quoted to stay one spreadsheet cell).
 """
 
 from __future__ import annotations
+
+import math
+from collections.abc import Callable, Iterable, Sequence
+from typing import Any
 
 CAUTION = (
     "zerotrace gives a numerical solution of the equation exactly as it was entered; it "
@@ -22,4 +37,306 @@ CAUTION = (
 CAUTION_LINE = (
     "Check the equation, inputs and units. Results need review by a qualified engineer; "
     "local codes and licensed engineering practice govern."
+)
+
+# ----------------------------------------------------------------- numbers
+
+# Significant figures the window shows until the user chooses another count.
+DEFAULT_FIGURES = 10
+UNDEFINED = "undefined"  # a NaN: f or x has no value there (domain error, 0/0)
+
+
+def _special(value: float) -> str | None:
+    if math.isnan(value):
+        return UNDEFINED
+    if math.isinf(value):
+        return "+inf" if value > 0 else "-inf"
+    return None
+
+
+def number(value: float | int | None, figures: int = DEFAULT_FIGURES, blank: str = "") -> str:
+    """``value`` with ``figures`` significant figures.
+
+    ``blank`` for None, whole numbers (and booleans) as they are, "undefined" for NaN,
+    "+inf" / "-inf" for infinities.
+    """
+    if value is None:
+        return blank
+    if isinstance(value, (bool, int)):
+        return str(value)
+    value = float(value)
+    return _special(value) or f"{value:.{figures}g}"
+
+
+def exact(value: float | int | None, blank: str = "") -> str:
+    """Every digit: ``repr`` of a float (reads back as the same double), with the same
+    words as :func:`number` for None, NaN and infinities."""
+    if value is None:
+        return blank
+    if isinstance(value, (bool, int)):
+        return str(value)
+    value = float(value)
+    return _special(value) or repr(value)
+
+
+def order_text(order: float | None, blank: str = "—") -> str:
+    """An observed order of convergence (2.00 quadratic, 1.62 secant, 1.00 linear)."""
+    return blank if order is None else f"{order:.2f}"
+
+
+def figures_word(n: int) -> str:
+    return f"{n} significant figure{'' if n == 1 else 's'}"
+
+
+# ----------------------------------------------------------------- methods
+
+# Titles, as a heading, a legend entry or a table cell names a method.
+METHOD_TITLES: dict[str, str] = {
+    "newton": "Newton–Raphson",  # en dash
+    "secant": "Secant",
+    "false_position": "False position",
+    "illinois": "Illinois",
+    "bisection": "Bisection",
+    "brent": "Brent",
+}
+# Methods named after people keep their capital inside a sentence.
+_PROPER = frozenset({"newton", "illinois", "brent"})
+
+
+def method_title(name: str) -> str:
+    """The method's name as a title ("Newton–Raphson", "Secant", "False position")."""
+    title = METHOD_TITLES.get(name, name.replace("_", " "))
+    return title[:1].upper() + title[1:]
+
+
+def method_label(name: str) -> str:
+    """The method's name inside a sentence ("… the secant and Newton–Raphson")."""
+    title = method_title(name)
+    return title if name in _PROPER else title.lower()
+
+
+# How each method works, in one line (the window's tooltips).
+METHOD_SUMMARIES: dict[str, str] = {
+    "newton": "tangent steps from x0, using the derivative shown under the equation",
+    "secant": "chord steps from x0 and x1, no derivative needed",
+    "false_position": "keeps a bracket [a, b] with a sign change; chord inside it",
+    "illinois": "false position that halves the stale end's value, so neither end sticks",
+    "bisection": "halves the bracket each step: slow, never fails on a sign change",
+    "brent": "inverse quadratic steps inside the bracket, bisection as a safeguard",
+}
+
+
+def method_summary(name: str) -> str:
+    return METHOD_SUMMARIES.get(name, "")
+
+
+def method_names(methods: Iterable[str]) -> str:
+    """In-sentence labels joined: "Newton–Raphson, secant and false position"."""
+    labels = [method_label(m) for m in methods]
+    if len(labels) <= 1:
+        return "".join(labels)
+    return ", ".join(labels[:-1]) + " and " + labels[-1]
+
+
+# ----------------------------------------------------------------- stop reasons
+
+# One line for each value of Run.reason (solvers.result.REASONS).
+REASON_TEXT: dict[str, str] = {
+    "x_tolerance": "step below tolerance |dx| <= xtol + rtol*|x|",
+    "f_tolerance": "residual below tolerance |f| <= ftol",
+    "exact_zero": "f(x) is exactly zero",
+    "max_iterations": "iteration cap reached before the tolerances were met",
+    "zero_derivative": "derivative zero or vanishing: Newton step undefined",
+    "not_finite": "f or x became infinite or NaN (domain error or overflow), or f underflowed "
+    "to 0",
+    "no_sign_change": "f has the same sign at both bracket ends",
+    "discontinuity": "the bracket closed on a jump of f, not a root: f changes sign there "
+    "without passing through zero",
+}
+
+
+def reason_text(reason: str) -> str:
+    return REASON_TEXT.get(reason, reason.replace("_", " "))
+
+
+def _underflow(v: Sequence[Any]) -> str:
+    return (f"f(x) = 0.0 at x = {exact(v[0])} only because f underflowed (f is also 0.0 "
+            "beside it): not a confirmed root")
+
+
+# Words for each solvers.result.Detail code, from its values (see solvers.methods).
+DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
+    "raised": lambda v: f"{v[0]} raised {v[1]} at x = {exact(v[2])}",
+    "many_values": lambda v: f"{v[0]} returned {v[1]} values at x = {exact(v[2])}, not one",
+    "complex": lambda v: f"{v[0]} is complex ({complex(v[1], v[2])!r}) at x = {exact(v[3])}",
+    "unusable": lambda v: f"{v[0]} gave an unusable value ({v[1]}) at x = {exact(v[2])}",
+    "not_a_number": lambda v: f"{v[0]} returned {v[1]}, not a number, at x = {exact(v[2])}",
+    "f_value": lambda v: f"f(x) = {exact(v[0])} at x = {exact(v[1])}",
+    "derivative_value": lambda v: f"f'(x) = {exact(v[0])} at x = {exact(v[1])}",
+    "derivative_zero": lambda v: f"f'(x) = 0 at x = {exact(v[0])}",
+    "derivative_tiny": lambda v: (f"f'(x) = {exact(v[0])} is vanishingly small at x = "
+                                  f"{exact(v[1])}: the step overflows"),
+    "step_overflows": lambda v: f"the next iterate overflows from x = {exact(v[0])}",
+    "start_not_finite": lambda v: (f"starting point {v[0] + ' = ' if v[0] else ''}"
+                                   f"{exact(v[1])} is not finite"),
+    "end_not_finite": lambda v: f"bracket end {exact(v[0])} is not finite",
+    "secant_flat": lambda v: f"secant slope is zero: f({exact(v[0])}) == f({exact(v[1])})",
+    "secant_overflows": lambda v: f"the secant step from x = {exact(v[0])} overflows",
+    "step_small": lambda v: (f"step |dx| {number(v[0], 3)} <= xtol + rtol*|x| = "
+                             f"{number(v[1], 3)}"),
+    "width_small": lambda v: (f"bracket width {number(v[0], 3)} <= xtol + rtol*|x| = "
+                              f"{number(v[1], 3)}"),
+    "same_sign": lambda v: (f"f({exact(v[0])}) = {exact(v[1])} and f({exact(v[2])}) = "
+                            f"{exact(v[3])} have the same sign: no bracket"),
+    "adjacent_doubles": lambda v: (f"bracket [{exact(v[0])}, {exact(v[1])}] is two adjacent "
+                                   "doubles: no finer step exists"),
+    "underflow": _underflow,
+    "underflow_ends": lambda v: _underflow(v) + " at either bracket end",
+    "underflow_stretch": lambda v: (_underflow(v) + "; f underflows from there on, and the "
+                                    "sign change lies somewhere in that stretch, not "
+                                    "located by f"),
+    "underflow_inside": lambda v: (_underflow(v) + f"; inside the bracket [{exact(v[1])}, "
+                                   f"{exact(v[2])}], f cannot say on which side of it the "
+                                   "sign change lies"),
+    "pole": lambda v: (f"|f| grew from {number(v[0], 3)} at the bracket ends to "
+                       f"{number(v[1], 3)} as the bracket closed on x = {exact(v[2])}: a pole "
+                       "(f -> +-inf) there, not a root"),
+    "jump": lambda v: (f"f changes sign from {number(v[0], 6)} to {number(v[1], 6)} across "
+                       f"[{exact(v[2])}, {exact(v[3])}] (width {number(v[4], 3)}) without "
+                       f"approaching 0, and |f| stays that size {number(v[5], 3)} further "
+                       "out: a jump of f there, not a root"),
+    "midpoint_steps": lambda v: (f"{v[0]} midpoint step(s) where rounding put the chord's "
+                                 "zero on a bracket end"),
+    "no_bracket": lambda v: "no bracket: give one, or a scan range, or an x0 near a sign change",
+}
+
+
+def detail_text(detail: Any) -> str:
+    """Words for a :class:`solvers.result.Detail` ('' for None, the code if unknown)."""
+    if detail is None:
+        return ""
+    words = DETAIL_TEXT.get(detail.code)
+    return words(detail.values) if words is not None else detail.code.replace("_", " ")
+
+
+def run_account(run: Any) -> str:
+    """What stopped the run: its detail in words, else the reason's words."""
+    return detail_text(run.detail) or reason_text(run.reason)
+
+
+def run_message(run: Any) -> str:
+    """The run in one line: method, verdict, counts, what stopped it, and any note."""
+    title = method_title(run.method)
+    counts = f"{run.iterations} iterations, {run.evaluations} evaluations"
+    if run.converged:
+        text = f"{title} converged to x = {exact(run.root)} ({counts}): {run_account(run)}"
+    else:
+        text = (f"{title} did not converge ({counts}): {run_account(run)}; "
+                f"last x = {exact(run.root)}")
+    note = detail_text(getattr(run, "note", None))
+    return text + (f"; {note}" if note else "")
+
+
+def stop_line(run: Any) -> str:
+    """"Title reason: reason words." with the run's detail after it, one line."""
+    detail = detail_text(run.detail)
+    note = detail_text(getattr(run, "note", None))
+    extra = "; ".join(t for t in (detail, note) if t)
+    return (f"{method_title(run.method)} {run.reason}: {reason_text(run.reason)}."
+            + (f" Record: {extra}." if extra else ""))
+
+
+# ----------------------------------------------------------------- start values
+
+# Why a root of the quick scan was taken (the last number of an x0_scan_root choice).
+_WHY = {0: "the first from the left", 1: "the one nearest the typed x0",
+        2: "the first inside the typed bracket"}
+
+
+def _g6(x: float) -> str:
+    return number(x, 6)
+
+
+def _scan_root_text(n: Sequence[float]) -> str:
+    x, index, count, a, b, why = n[0], int(n[1]), int(n[2]), n[3], n[4], int(n[5])
+    if count == 1:
+        return f"x0 = {_g6(x)}: the one sign change a quick scan of [{_g6(a)}, {_g6(b)}] found"
+    return (f"x0 = {_g6(x)}: sign change {index} of {count} (from the left) in a quick scan "
+            f"of [{_g6(a)}, {_g6(b)}], taken as {_WHY.get(why, 'chosen')}; solve again with "
+            "another x0 or bracket for the others")
+
+
+# How each start value that was not typed got its number (solvers.pipeline.StartChoice).
+START_TEXT: dict[str, Callable[[Sequence[float]], str]] = {
+    "x0_scan_root": _scan_root_text,
+    "x0_scan_min": lambda n: (f"x0 = {_g6(n[0])}: a quick scan of [{_g6(n[1])}, {_g6(n[2])}] "
+                              "found no sign change; x0 is where |f| was smallest"),
+    "x0_bracket_midpoint": lambda n: f"x0 = {_g6(n[0])}: the midpoint of the bracket",
+    "x0_scan_midpoint": lambda n: f"x0 = {_g6(n[0])}: the midpoint of the scan range",
+    "x0_default": lambda n: "x0 not given and no scan range: 1.0 used",
+    "x1_scan": lambda n: (f"x1 = {_g6(n[0])}: the end nearer x0 of the sign change "
+                          f"[{_g6(n[1])}, {_g6(n[2])}] a quick scan of the range found"),
+    "x1_nudged": lambda n: f"x1 = {_g6(n[0])}: x0 nudged by 1e-4 (relative)",
+    "bracket_scan_cell": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the cell of the "
+                                    "quick scan where f changes sign"),
+    "bracket_scan_range": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the scan range "
+                                     "(f changes sign between its ends)"),
+    "bracket_grown": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: grown around x0 until "
+                                "f changed sign"),
+    "bracket_none": lambda n: "no bracket given and no sign change found",
+}
+
+
+def start_text(choice: Any) -> str:
+    """Words for one :class:`solvers.pipeline.StartChoice`."""
+    words = START_TEXT.get(choice.code)
+    return words(choice.numbers) if words is not None else choice.code
+
+
+def start_notes(start: Any) -> tuple[str, ...]:
+    """How every start value that was not typed was chosen, one sentence each."""
+    return tuple(start_text(c) for c in getattr(start, "choices", ()))
+
+
+# ----------------------------------------------------------------- agreement
+
+
+def agreement_text(solution: Any, figures: int = 8) -> str:
+    """How the converged runs of a :class:`solvers.pipeline.Solution` compare, in words.
+
+    Different roots are listed (each with ``figures`` significant figures and the
+    methods that found it); one root found by several methods gives the significant
+    figures they share; fewer than two converged runs say there is no cross-check.
+    """
+    converged = [r for r in solution.runs if r.converged]
+    groups = solution.agreement.groups
+    digits = solution.agreement_digits
+    if len(groups) > 1:
+        found = "; ".join(f"{number(x, figures)} by {method_names(ms)}" for x, ms in groups)
+        return f"The converged methods found different roots: {found}."
+    if digits is not None:
+        return (f"The {len(converged)} converged methods "
+                f"({method_names(r.method for r in converged)}) agree to "
+                f"{figures_word(digits)}.")
+    if len(converged) == 1:
+        return (f"Only {method_label(converged[0].method)} converged: no second method to "
+                "agree with; try other start values.")
+    return "No method converged: check the equation, start values and bracket."
+
+
+# ----------------------------------------------------------------- residuals
+
+# Words for the codes of solvers.residual (the module returns codes, never prose).
+RESIDUAL_WORDS = {
+    "no_finite_root": "— (no finite root)",
+    "not_real": "not a real number there (outside the domain)",
+    "infinite": "infinite (a pole)",
+    "overflow": "beyond the double range",
+    "not_computable": "not computable at this precision",
+    "time_budget": "not computed (time budget exceeded)",
+}
+
+NUMERICAL_DERIVATIVE_NOTE = (
+    "No symbolic derivative was available: Newton–Raphson used a numerical "
+    "(finite-difference) derivative of f, and its f′ column shows those estimates."
 )

@@ -20,7 +20,7 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
     }
 
 Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
-whose message names the field (``settings.xtol: must be a positive number``); every
+whose message names the field (``settings.xtol: must not be negative``); every
 failure to load, from a missing file to a 5000-digit integer, is a ``WorksheetError``
 with a one-line message. Only a regular file up to :data:`MAX_FILE_BYTES` is read
 (a FIFO or ``/dev/zero`` is refused at once, see :func:`app.documents.files.read_limited`).
@@ -39,7 +39,7 @@ from __future__ import annotations
 import json
 import math
 import os
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any
@@ -58,7 +58,7 @@ from solvers.worksheet import (
 __all__ = [
     "DEFAULT_METHODS", "METHOD_NAMES", "CalcInfo", "Parameter", "Selection", "Settings",
     "Worksheet", "WorksheetError", "load", "loads", "save", "dumps", "validate",
-    "to_dict", "from_dict",
+    "to_dict", "from_dict", "SETTING_RULES", "setting_problem", "tolerances_problem",
 ]
 
 FORMAT = "zerotrace-worksheet"
@@ -74,6 +74,31 @@ MAX_CALC_FIELD = 200  # characters in calc number, revision, prepared by, checke
 MAX_NAME = 100  # characters in a name (unknown, parameter)
 MAX_PARAMETERS = 500
 MAX_DIGITS = 400  # digits in a JSON integer; beyond ~309 it is past any double anyway
+MAX_ITER_CAP = 100_000  # the largest iteration cap a worksheet, the CLI or the window takes
+
+# The rules a method setting must meet, checked alike by the worksheet loader, the CLI's
+# flags and the window's fields: key -> (test of the value, what is wrong when it fails).
+SETTING_RULES: dict[str, tuple[Callable[[float], bool], str]] = {
+    "xtol": (lambda v: v >= 0, "must not be negative"),
+    "rtol": (lambda v: v >= 0, "must not be negative"),
+    "ftol": (lambda v: v >= 0, "must not be negative"),
+    "max_iter": (lambda v: float(v).is_integer() and 1 <= v <= MAX_ITER_CAP,
+                 f"must be a whole number from 1 to {MAX_ITER_CAP}"),
+    "damping": (lambda v: 0 < v <= 1, "must lie in (0, 1]"),
+}
+
+
+def setting_problem(key: str, value: float) -> str:
+    """What is wrong with ``value`` for the setting ``key`` ('' when it is fine)."""
+    test, problem = SETTING_RULES[key]
+    return "" if test(value) else problem
+
+
+def tolerances_problem(xtol: float, rtol: float, ftol: float) -> str:
+    """'' unless all three stopping tolerances are zero (then no run could stop early)."""
+    if xtol == 0 and rtol == 0 and ftol == 0:
+        return "xtol, rtol and ftol are all zero: no run could ever stop early"
+    return ""
 
 
 class WorksheetError(ValueError):
@@ -149,7 +174,7 @@ def _shown(value: Any, room: int = 40) -> str:
     return text if len(text) <= room else f"{text[: room // 2]}…{text[-(room // 2):]}"
 
 
-def _number(value: Any, where: str, *, positive: bool = False, nonneg: bool = False) -> float:
+def _number(value: Any, where: str) -> float:
     if isinstance(value, _LongInteger):
         raise _fail(where, f"number too large ({value.digits} digits)")
     if isinstance(value, bool) or not isinstance(value, (int, float)):
@@ -159,11 +184,16 @@ def _number(value: Any, where: str, *, positive: bool = False, nonneg: bool = Fa
     x = float(value)
     if not math.isfinite(x):
         raise _fail(where, "must be a finite number")
-    if positive and not x > 0:
-        raise _fail(where, "must be a positive number")
-    if nonneg and x < 0:
-        raise _fail(where, "must not be negative")
     return x
+
+
+def _setting(raw: Mapping[str, Any], defaults: Settings, key: str) -> float:
+    """A number setting of the file, checked against :data:`SETTING_RULES`."""
+    value = _number(raw.get(key, getattr(defaults, key)), f"settings.{key}")
+    problem = setting_problem(key, value)
+    if problem:
+        raise _fail(f"settings.{key}", problem)
+    return value
 
 
 def _optional_number(value: Any, where: str) -> float | None:
@@ -276,24 +306,24 @@ def from_dict(data: Any) -> Worksheet:
         methods.append(m.replace("-", "_"))
     bracket_raw = raw_settings.get("bracket")
     max_iter = raw_settings.get("max_iter", defaults.max_iter)
-    if isinstance(max_iter, bool) or not isinstance(max_iter, int) or not 1 <= max_iter <= 100_000:
-        raise _fail("settings.max_iter", "must be a whole number from 1 to 100000")
-    damping = _number(raw_settings.get("damping", defaults.damping), "settings.damping")
-    if not 0 < damping <= 1:
-        raise _fail("settings.damping", "must lie in (0, 1]")
+    if isinstance(max_iter, bool) or not isinstance(max_iter, int) or setting_problem(
+            "max_iter", max_iter):
+        raise _fail("settings.max_iter", SETTING_RULES["max_iter"][1])
+    damping = _setting(raw_settings, defaults, "damping")
     settings = Settings(
         methods=tuple(methods),
         x0=_optional_number(raw_settings.get("x0"), "settings.x0"),
         x1=_optional_number(raw_settings.get("x1"), "settings.x1"),
         bracket=_pair(bracket_raw, "settings.bracket") if bracket_raw is not None else None,
-        xtol=_number(raw_settings.get("xtol", defaults.xtol), "settings.xtol", nonneg=True),
-        rtol=_number(raw_settings.get("rtol", defaults.rtol), "settings.rtol", nonneg=True),
-        ftol=_number(raw_settings.get("ftol", defaults.ftol), "settings.ftol", nonneg=True),
+        xtol=_setting(raw_settings, defaults, "xtol"),
+        rtol=_setting(raw_settings, defaults, "rtol"),
+        ftol=_setting(raw_settings, defaults, "ftol"),
         max_iter=max_iter,
         damping=damping,
     )
-    if settings.xtol == 0 and settings.rtol == 0 and settings.ftol == 0:
-        raise _fail("settings", "xtol, rtol and ftol are all zero: no run could ever stop early")
+    problem = tolerances_problem(settings.xtol, settings.rtol, settings.ftol)
+    if problem:
+        raise _fail("settings", problem)
 
     scan_raw = data.get("scan")
     scan = None

@@ -250,8 +250,9 @@ class FileActions(QObject):
     def export_report(self) -> bool:
         """Write the PDF calculation sheet in the background (app.documents.report).
 
-        The sheet takes the current solution and scan (each carrying the parsed
-        equation) when they match the worksheet on screen, so nothing is solved twice.
+        The sheet is handed results and never solves: the solution and scan on screen
+        when they are of exactly this worksheet, else computed in the job (from the
+        document's parsed equation when it has it), off the UI thread.
         """
         window = self.window
         problems = window.inputs.problems()
@@ -271,13 +272,23 @@ class FileActions(QObject):
         # The sheet hashes the worksheet file it names: only name it when the file on
         # disk is exactly what is on screen.
         origin = str(doc.path) if doc.path is not None and not window.is_modified() else None
-        solution, scan = doc.solution_for(ws), doc.scan_for(ws)
+        current, shown_scan = doc.solution_for(ws), doc.scan_for(ws)
+        equation = doc.equation_for(ws)
         self._status("Writing the calculation sheet…")
         self.report_result = None
 
-        def work(progress: Any, _cancel: Any) -> Any:
-            return report.write_report(ws, path, worksheet_path=origin, overwrite=True,
-                                       solution=solution, scan=scan, progress=progress)
+        def work(progress: Any, cancel: Any) -> Any:
+            from solvers import pipeline
+
+            solution, scan = current, shown_scan
+            if solution is None:
+                solution = pipeline.solve(ws, equation)
+            if scan is None and ws.scan is not None:
+                scan = pipeline.scan_worksheet(ws, solution.equation, cancel=cancel,
+                                               progress=lambda p: progress(0.6 * p))
+            return report.write_report(ws, path, solution=solution, scan=scan,
+                                       worksheet_path=origin, overwrite=True,
+                                       progress=lambda p: progress(0.6 + 0.4 * p))
 
         def done(result: Any) -> None:
             self.report_result = result

@@ -30,8 +30,15 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.documents.figures import method_color, method_title
-from app.documents.worksheet import DEFAULT_METHODS, METHOD_NAMES, Settings
+from app.documents.figures import method_color
+from app.documents.words import method_summary, method_title
+from app.documents.worksheet import (
+    DEFAULT_METHODS,
+    METHOD_NAMES,
+    Settings,
+    setting_problem,
+    tolerances_problem,
+)
 from app.window.models import ParametersModel, fix_lines, number_font, parse_number
 from app.window.views import CopyTableView, fitted_text
 
@@ -50,16 +57,9 @@ class FieldSpec:
     integer: bool = False
 
 
-def _nonneg(v: float) -> str:
-    return "" if v >= 0 else "must not be negative"
-
-
-def _damping(v: float) -> str:
-    return "" if 0 < v <= 1 else "must lie in (0, 1]"
-
-
-def _iterations(v: float) -> str:
-    return "" if 1 <= v <= 100_000 else "must be a whole number from 1 to 100000"
+def _rule(key: str) -> Callable[[float], str]:
+    """The worksheet's rule for a setting (the CLI and the file loader check the same)."""
+    return lambda v: setting_problem(key, v)
 
 
 START_FIELDS = (
@@ -79,24 +79,16 @@ START_FIELDS = (
 RULE_FIELDS = (
     FieldSpec("xtol", "step toleran&ce, absolute", "stop when |Δx| ≤ xtol + rtol·|x|: the "
               "absolute part, in units of the unknown (xtol in the worksheet, --xtol in "
-              "the shell)", check=_nonneg),
+              "the shell)", check=_rule("xtol")),
     FieldSpec("rtol", "step tolerance, rela&tive", "the relative part of the step test, "
-              "4 machine epsilons by default (rtol, --rtol)", check=_nonneg),
+              "4 machine epsilons by default (rtol, --rtol)", check=_rule("rtol")),
     FieldSpec("ftol", "residua&l tolerance", "stop when |f(x)| ≤ ftol; 0 is off, since the "
-              "scale of f is yours (ftol, --ftol)", check=_nonneg),
+              "scale of f is yours (ftol, --ftol)", check=_rule("ftol")),
     FieldSpec("max_iter", "&iteration cap", "stop after this many iterates (max_iter, "
-              "--max-iter)", check=_iterations, integer=True),
+              "--max-iter)", check=_rule("max_iter"), integer=True),
     FieldSpec("damping", "&damping", "Newton–Raphson step multiplier λ in (0, 1]; "
-              "1 is the plain method (damping, --damping)", check=_damping),
+              "1 is the plain method (damping, --damping)", check=_rule("damping")),
 )
-METHOD_TIPS = {
-    "newton": "tangent steps from x0, using the derivative shown under the equation",
-    "secant": "chord steps from x0 and x1, no derivative needed",
-    "false_position": "keeps a bracket [a, b] with a sign change; chord inside it",
-    "illinois": "false position that halves the stale end's value, so neither end sticks",
-    "bisection": "halves the bracket each step: slow, never fails on a sign change",
-    "brent": "inverse quadratic steps inside the bracket, bisection as a safeguard",
-}
 
 
 class NumberField(QLineEdit):
@@ -240,7 +232,7 @@ class InputsPanel(QWidget):
         for i, name in enumerate(METHOD_NAMES):
             box = QCheckBox(method_title(name))
             box.setObjectName(f"method_{name}")
-            box.setToolTip(METHOD_TIPS.get(name, ""))
+            box.setToolTip(method_summary(name))
             # The method's colour as a stripe, as on its lane and its path in the plot.
             box.setStyleSheet(f"QCheckBox {{ border-left: 4px solid {method_color(name)}; "
                               "padding-left: 3px; }")
@@ -428,9 +420,9 @@ class InputsPanel(QWidget):
             found.append("scan range: give both 'from' and 'to', or neither")
         elif v["from"] is not None and not v["from"] < v["to"]:
             found.append("scan range: 'from' must be less than 'to'")
-        tolerances = [self.fields[k].value() for k in ("xtol", "rtol", "ftol")]
-        if all(t == 0 for t in tolerances):
-            found.append("tolerances: xtol, rtol and ftol are all zero; no run could stop early")
+        problem = tolerances_problem(*(self.fields[k].value() for k in ("xtol", "rtol", "ftol")))
+        if problem:
+            found.append(f"tolerances: {problem}")
         return self.parameters.problems() + found
 
 

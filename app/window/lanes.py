@@ -17,10 +17,12 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.documents.figures import method_color, method_label, method_title
+from app.documents import words
+from app.documents.figures import method_color
+from app.documents.words import method_label, method_title
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
-from solvers.result import REASON_TEXT, Run
+from solvers.result import Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
 LANE_WIDTH = 380  # pixels: room for the summary and five number columns at 5 figures
@@ -33,8 +35,7 @@ def summary_text(run: Run, digits: int) -> str:
     A run that did not converge has no root: its last iterate is shown as "last x" so it
     can never be copied into a design as one.
     """
-    order = run.order
-    order_text = f"{order:.2f}" if order is not None else "n/a"
+    order_text = words.order_text(run.order, "n/a")
     what = "root" if run.converged else "last x"
     return (f"{what} {format_number(run.root, digits)}   stop: {run.reason}\n"
             f"{_count(run.iterations, 'iterate')} · {_count(run.evaluations, 'evaluation')} · "
@@ -49,9 +50,8 @@ def verdict_text(run: Run) -> str:
     if run.converged:
         extra = f"  (f′ {run.derivative})" if run.derivative else ""
         return "✓ converged" + extra
-    why = run.message or REASON_TEXT.get(run.reason, run.reason)
-    return f"✗ FAILED: {REASON_TEXT.get(run.reason, run.reason)}" + (
-        f" — {run.message}" if run.message and run.message != why else "")
+    detail = words.detail_text(run.detail)
+    return f"✗ FAILED: {words.reason_text(run.reason)}" + (f" — {detail}" if detail else "")
 
 
 class MethodLane(QFrame):
@@ -174,9 +174,9 @@ class MethodLane(QFrame):
             return
         self.verdict.setText(verdict_text(run))
         self.verdict.setStyleSheet(OK_STYLE if run.converged else FAILED_STYLE)
-        self.verdict.setToolTip(REASON_TEXT.get(run.reason, run.reason))
+        self.verdict.setToolTip(words.reason_text(run.reason))
         self.summary.setText(summary_text(run, self._digits))
-        self.summary.setToolTip(f"root = {run.root!r}\n{run.message}".strip())
+        self.summary.setToolTip(f"root = {words.exact(run.root)}\n{words.run_message(run)}")
 
 
 class LanesPanel(QWidget):
@@ -273,32 +273,13 @@ class LanesPanel(QWidget):
         self.digits_changed.emit(value)
 
 
-def _names(methods: Sequence[str]) -> str:
-    labels = [method_label(m) for m in methods]
-    return labels[0] if len(labels) == 1 else ", ".join(labels[:-1]) + " and " + labels[-1]
-
-
 def agreement_text(solution: Any) -> str:
-    runs = solution.runs
-    converged = [r for r in runs if r.converged]
-    failed = [method_label(r.method) for r in runs if not r.converged]
-    digits = solution.agreement_digits
-    groups = solution.agreement.groups
-    if len(groups) > 1:
-        found = "; ".join(f"{format_number(x, 8)} by {_names(methods)}" for x, methods in groups)
-        text = f"The converged methods found different roots: {found}."
-    elif digits is not None:
-        text = (f"The {len(converged)} converged methods agree to {digits} significant "
-                f"figure{'s' if digits != 1 else ''}.")
-    elif len(converged) == 1:
-        text = "Only one method converged: no cross-check; try other start values."
-    elif not converged:
-        text = "No method converged: check the equation, start values and bracket."
-    else:
-        text = ""
+    """The agreement sentence (the words module's), failures and start-value notes."""
+    text = words.agreement_text(solution)
+    failed = [method_label(r.method) for r in solution.runs if not r.converged]
     if failed:
         text += f"  Failed: {', '.join(failed)} (see the lane for why)."
-    notes = solution.start.notes
+    notes = words.start_notes(solution.start)
     if notes:
         text += "  Start values: " + "; ".join(notes) + "."
     return text.strip()

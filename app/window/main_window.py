@@ -21,7 +21,7 @@ from PySide6.QtGui import QCloseEvent
 from PySide6.QtWidgets import QApplication, QLabel, QMainWindow, QSplitter, QVBoxLayout, QWidget
 
 from app import samples_dir  # noqa: F401 (the soak test finds the samples here)
-from app.documents import figures
+from app.documents.words import method_label
 from app.documents.worksheet import Parameter, Selection, Worksheet
 from app.window.actions import build_actions, build_menus
 from app.window.canvas import PlotPanel
@@ -424,7 +424,7 @@ class MainWindow(QMainWindow):
         elif solution is not None and solution.converged_runs:
             run = solution.converged_runs[0]
             x = run.root
-            reason = (f"converged root of {figures.method_label(run.method)}; "
+            reason = (f"converged root of {method_label(run.method)}; "
                       + agreement_words(solution))
         else:
             self.report_problem("Nothing to take: select a root of the scan, or solve first")

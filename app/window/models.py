@@ -16,12 +16,13 @@ from typing import Any
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
 from PySide6.QtGui import QBrush, QColor, QFont, QFontDatabase
 
+from app.documents import words
 from solvers.result import Run, Step
 
 Index = QModelIndex | QPersistentModelIndex
 INVALID_BACKGROUND = QColor("#FBE3D6")  # pale vermillion: reads as "attention" without red/green
 INVALID_FOREGROUND = QColor("#8A2B00")
-DEFAULT_DIGITS = 10
+DEFAULT_DIGITS = words.DEFAULT_FIGURES
 
 
 def fix_lines(label: Any, lines: int) -> None:
@@ -40,18 +41,8 @@ def number_font() -> QFont:
 
 
 def format_number(value: float | int | None, digits: int = DEFAULT_DIGITS) -> str:
-    """A float with ``digits`` significant figures; '' for None, words for NaN/inf."""
-    if value is None:
-        return ""
-    if isinstance(value, bool):
-        return str(value)
-    if isinstance(value, int):
-        return str(value)
-    if math.isnan(value):
-        return "undefined"
-    if math.isinf(value):
-        return "+inf" if value > 0 else "-inf"
-    return f"{value:.{digits}g}"
+    """A float with ``digits`` significant figures (the words module's one formatter)."""
+    return words.number(value, digits)
 
 
 @dataclass(frozen=True)
@@ -115,7 +106,7 @@ class _RecordModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.UserRole:
             return value
         if role == Qt.ItemDataRole.ToolTipRole and isinstance(value, float):
-            return repr(value)
+            return words.exact(value)
         if role == Qt.ItemDataRole.FontRole and isinstance(value, (int, float)):
             return self._font
         if role == Qt.ItemDataRole.TextAlignmentRole and isinstance(value, (int, float)):

@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents import figures
+from app.documents.words import method_label
 from app.window.models import DEFAULT_DIGITS, RootsModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
 
@@ -215,7 +216,7 @@ def agreement_words(solution: Any) -> str:
     groups = solution.agreement.groups
     if len(groups) > 1:
         return "the methods converged to different roots: " + ", ".join(
-            f"{_num(x)} ({', '.join(figures.method_label(m) for m in ms)})" for x, ms in groups)
+            f"{_num(x)} ({', '.join(method_label(m) for m in ms)})" for x, ms in groups)
     if solution.agreement_digits is None:
         return "no other method converged to cross-check it"
     return f"methods agree to {solution.agreement_digits} significant figures"

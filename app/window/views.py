@@ -16,6 +16,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents import words
+
 CELL_PADDING = 8  # pixels the style keeps free inside a cell
 HIDDEN_MARK = "…"  # after a number shown with fewer figures than asked for
 
@@ -29,14 +31,14 @@ def fitted_text(value: float, digits: int, metrics: QFontMetrics, width: int) ->
     beyond the fourth figure must not read alike). The full value is in the tooltip and
     in every copy; widening the column shows it.
     """
+    full = words.number(value, digits)
     if not math.isfinite(value):
-        return "undefined" if math.isnan(value) else ("+inf" if value > 0 else "-inf")
-    full = f"{value:.{digits}g}"
+        return full
     if metrics.horizontalAdvance(full) <= width:
         return full
     text = full
     for d in range(digits - 1, 0, -1):
-        shorter = f"{value:.{d}g}"
+        shorter = words.number(value, d)
         if shorter == full:
             continue  # no figure dropped yet: still too wide
         mantissa, e, exponent = shorter.partition("e")
