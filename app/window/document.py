@@ -3,13 +3,15 @@
 :class:`WorksheetDocument` is a plain ``QObject`` the panels observe. The window writes
 the user's edits into it (:meth:`WorksheetDocument.edited`) and the background jobs'
 answers (:meth:`set_analysis`, :meth:`set_solution`, :meth:`set_scan`); the document
-decides what that means (modified? a result stale?) and says so through its signals,
-each emitted only when the thing it names really changed, so a panel being filled never
-has to guard against its own echo.
+decides what that means (modified? a result stale?) and says so through its signals;
+``modifiedChanged`` and ``staleChanged`` only when the verdict changes. Panels are
+filled with their own signals blocked (QSignalBlocker), so no guard flags are needed
+against the echo of a load.
 
-The parsed equation is kept here and handed to Solve, Scan and Polish
-(:meth:`equation_for`): the text is parsed once per text, unknown and parameter values
-(in the preview lane, while the user types) and never again by the job that uses it.
+The parsed equation is kept here and handed to Solve, Scan, Polish and the sheet
+(:meth:`equation_for`): the text is parsed in the preview lane while the user types,
+once per text and unknown where the equation can bind new values late, else once per
+text, unknown and values, and never again by the job that uses it.
 """
 
 from __future__ import annotations
