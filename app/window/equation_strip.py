@@ -235,16 +235,6 @@ def render_png(latex: str, *, dpi: float = 110, color: str = "#111111") -> bytes
     return buffer.getvalue()
 
 
-def render_math(latex: str, *, dpi: float = 110, color: str = "#111111") -> QPixmap | None:
-    """Typeset ``latex`` into a pixmap (UI thread); None when mathtext cannot."""
-    png = render_png(latex, dpi=dpi, color=color)
-    if png is None:
-        return None
-    pixmap = QPixmap()
-    pixmap.loadFromData(png, "PNG")
-    return pixmap
-
-
 class _MathLabel(QScrollArea):
     """A typeset formula that scrolls sideways when it is wider than the strip."""
 
@@ -260,10 +250,6 @@ class _MathLabel(QScrollArea):
         self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.setFixedHeight(52)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)
-
-    def show_latex(self, latex: str, fallback: str) -> None:
-        ratio = self.devicePixelRatioF() or 1.0
-        self.show_png(render_png(latex, dpi=TYPESET_DPI * ratio), fallback)
 
     def show_png(self, png: bytes | None, fallback: str, tooltip: str | None = None) -> None:
         """Show a typeset form rendered elsewhere (``fallback`` text when there is none)."""
