@@ -10,6 +10,7 @@ from pathlib import Path
 import pytest
 
 pytest.importorskip("PySide6")
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 
 from app.documents.worksheet import Parameter, Selection, Settings, Worksheet  # noqa: E402
 from app.window.document import Staleness, WorksheetDocument, result_key, scan_key  # noqa: E402
@@ -180,3 +181,59 @@ def test_a_change_of_values_alone_binds_the_parsed_text_instead_of_parsing(doc, 
     expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)  # plain float arithmetic
     assert float(eq.f(q)) == pytest.approx(expected, rel=1e-14)
     assert len(bound) == 2
+
+
+# ---------------------------------------------------------------------- in the window
+
+def test_the_window_solves_and_scans_with_the_equation_it_read_while_typing(
+        qtbot, window, monkeypatch) -> None:
+    """Solve and Scan take the document's parse; only a new value makes a new one.
+
+    The roots are checked against numpy.roots of the same quadratic (outside reference).
+    """
+    import numpy as np
+    from gui_helpers import idle, settle, type_equation
+    from PySide6.QtCore import Qt
+
+    from solvers import pipeline
+
+    type_equation(qtbot, window, "(x - a)*(x - 3.25)")  # invented: roots a and 3.25
+    model = window.inputs.parameters
+    model.setData(model.index(0, 1), "1.5")
+    for key, value in (("x0", 1.0), ("x1", 1.2), ("a", 0.0), ("b", 2.0),
+                       ("from", 0.0), ("to", 5.0)):
+        window.inputs.set_field(key, value)
+    settle(qtbot, window)
+    qtbot.waitUntil(lambda: window.analysis.ok
+                    and window.analysis.equation.parameters == {"a": 1.5}, timeout=10_000)
+    idle(qtbot, window)
+    parses: list[str] = []
+    real_parse = pipeline.parse_equation
+    monkeypatch.setattr(pipeline, "parse_equation",
+                        lambda text, **kw: parses.append(text) or real_parse(text, **kw))
+    parsed = window.analysis.equation
+
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.solution is not None and not window.runner.is_busy("solve"),
+                    timeout=20_000)
+    assert window.solution.equation is parsed and parses == []
+    qtbot.mouseClick(window.inputs.scan_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: window.scan_result is not None and not window.runner.is_busy("scan"),
+                    timeout=30_000)
+    assert window.document.scan_equation is parsed and parses == []
+    reference = sorted(np.roots([1.0, -(1.5 + 3.25), 1.5 * 3.25]).real)  # numpy.roots
+    assert [r.x for r in window.scan_result.roots] == pytest.approx(reference, abs=1e-12)
+
+    # A new value is a new reading (or a late binding); the old parse is never reused.
+    model.setData(model.index(0, 1), "1.75")
+    qtbot.waitUntil(lambda: window.analysis.equation is not parsed
+                    and window.analysis.equation.parameters == {"a": 1.75}, timeout=10_000)
+    idle(qtbot, window)
+    assert window.document.stale.scan and not window.roots_view.isEnabled()
+    before = window.solution
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.solution is not before and not window.runner.is_busy("solve"),
+                    timeout=20_000)
+    assert window.solution.equation is window.analysis.equation and parses == []
+    newton = next(r for r in window.solution.runs if r.method == "newton")
+    assert newton.converged and newton.root == pytest.approx(1.75, abs=1e-12)
