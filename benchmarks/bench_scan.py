@@ -6,19 +6,23 @@ the scan's: xtol = 1e-3 eps max(|a|, |b|), rtol = 4 eps). Ratios are scan time /
 baseline time (target <= 1.0), with the Chebyshev cross-check (the default) and without
 it, best of several runs interleaved with the baseline's; no time is asserted anywhere.
 It first times equations compiled by ``parse_equation`` (the same compiled f given to the
-scan and to the baseline): cos x cosh x + 1 on [0, 50], 20 invented sinusoids on [0, 200]
-and sin(x^2) on [0, 30], then a double root and a pair 1e-7 apart the baseline misses, and
-Chebyshev T12 written out (rounding noise near every root).
+scan and to the baseline; the scan also gets the compiled f' in one column, as the app
+passes it): cos x cosh x + 1 on [0, 50], 20 invented sinusoids on [0, 200] and sin(x^2) on
+[0, 30], then a double root and a pair 1e-7 apart the baseline misses, and Chebyshev T12
+written out (rounding noise near every root).
 A summary repeats the ratios at the default density. Also reports what the baseline
 gets wrong on a case with poles and double roots, and the peak memory (tracemalloc) of
 a 10^7-sample scan. Run: ``.venv/bin/python benchmarks/bench_scan.py``.
 
 Where the floor is: at 2001 samples and 16 roots the baseline is one f call on the grid
-plus 16 brentq calls in C (about 0.17 ms here). Any vectorised scan pays numpy's
-per-call overhead (about 1 us per array operation) on every refinement iteration,
-and the cross-check pays LAPACK eigenvalue work for its colleague matrices (eight of
-degree about 21 for this case, more than twice the whole baseline), so the ratio stays
-above 1 there; with many roots (the sinusoids) or many samples it falls below 1.
+plus 16 brentq calls in C, each iterate a scalar call of the compiled f (about 0.5 us):
+about 0.17 ms in all. The scan does more on purpose: f' on the grid, the extrema between
+samples, a multiplicity ladder and a rounding-noise look at every root, the range ends,
+and it refines all brackets at once in numpy, which costs about 1 us per array operation
+(some 40 per iteration, 5 or 6 iterations) whatever the bracket count. That overhead, not
+f, bounds the cantilever's ratio (about 4x with f', 6x with f alone, where the Chebyshev
+proxy still solves an eigenvalue problem on every piece it cannot certify by counting);
+with many roots (sin(x^2): 287) or many samples the ratio falls toward or below 1.
 """
 
 from __future__ import annotations
@@ -113,33 +117,44 @@ def _sinusoids_text() -> str:
                       for amp, om, ph in zip(_AMPS, _OMEGAS, _PHASES, strict=True))
 
 
-def compiled_rows() -> dict[str, float]:
-    """Scan / baseline on equations compiled by the project (the same f for both)."""
-    print("Compiled equations (parse_equation(...).f given to both), default samples, "
-          "scan / baseline:")
-    print(f"  {'case':<34} {'base ms':>8} {'scan ms':>8} {'ratio':>6} {'plain ms':>9} "
-          f"{'ratio':>6}  roots scan/base")
+def compiled_rows() -> dict[str, tuple[float, float, float]]:
+    """Scan / baseline on equations compiled by the project (the same f for both).
+
+    Three scans per case: with the compiled f' as the app passes it (the default cross-check
+    is then the derivative check), with f alone (the default is then the Chebyshev proxy),
+    and with f alone and no cross-check. The baseline gets f alone (brentq has no use for f').
+    """
+    print("Compiled equations (parse_equation(...).f given to both; the scan also gets .fprime "
+          "in 'f+f\'' as the app passes it), default samples, scan / baseline:")
+    print(f"  {'case':<30} {'base ms':>8} {'f+fp ms':>8} {'ratio':>6} {'f ms':>8} {'ratio':>6} "
+          f"{'off ms':>8} {'ratio':>6}  roots scan/base")
     ratios = {}
     for label, text, a, b, repeat in (
         ("cos x cosh x + 1 on [0, 50]", "cos(x)*cosh(x) + 1", 0.0, 50.0, 40),
-        ("20 sinusoids on [0, 200]", _sinusoids_text(), 0.0, 200.0, 10),
-        ("sin(x^2) on [0, 30]", "sin(x^2)", 0.0, 30.0, 10),
+        ("20 sinusoids on [0, 200]", _sinusoids_text(), 0.0, 200.0, 25),
+        ("sin(x^2) on [0, 30]", "sin(x^2)", 0.0, 30.0, 25),
     ):
-        f = parse_equation(text).f
-        tb, tx, tn = best_times([lambda f=f, a=a, b=b: baseline(f, a, b, DEFAULT_SAMPLES),
-                                 lambda f=f, a=a, b=b: scan(f, a, b),
-                                 lambda f=f, a=a, b=b: scan(f, a, b, cross_check=False)], repeat)
-        found, base = len(scan(f, a, b).roots), len(baseline(f, a, b, DEFAULT_SAMPLES))
-        ratios[label] = tx / tb
-        print(f"  {label:<34} {tb * 1e3:8.2f} {tx * 1e3:8.2f} {tx / tb:6.2f} {tn * 1e3:9.2f} "
-              f"{tn / tb:6.2f}  {found}/{base}")
+        eq = parse_equation(text)
+        f, fp = eq.f, eq.fprime
+        tb, td, tx, tn = best_times([
+            lambda f=f, a=a, b=b: baseline(f, a, b, DEFAULT_SAMPLES),
+            lambda f=f, fp=fp, a=a, b=b: scan(f, a, b, fprime=fp),
+            lambda f=f, a=a, b=b: scan(f, a, b),
+            lambda f=f, a=a, b=b: scan(f, a, b, cross_check=False)], repeat)
+        found = len(scan(f, a, b, fprime=fp).roots)
+        base = len(baseline(f, a, b, DEFAULT_SAMPLES))
+        ratios[label] = (td / tb, tx / tb, tn / tb)
+        print(f"  {label:<30} {tb * 1e3:8.2f} {td * 1e3:8.2f} {td / tb:6.2f} {tx * 1e3:8.2f} "
+              f"{tx / tb:6.2f} {tn * 1e3:8.2f} {tn / tb:6.2f}  {found}/{base}")
     # what the baseline misses, on a compiled equation: a double root and a pair 1e-7 apart
     text = "(x - 1.3)^2*(x - 2.2)*(x - 2.2000001)*exp(-x/4)"
-    f = parse_equation(text).f
-    s = scan(f, 0.0, 4.0)
-    base = baseline(f, 0.0, 4.0, DEFAULT_SAMPLES)
-    print(f"  {text} on [0, 4]: scan {[(round(r.x, 9), r.multiplicity) for r in s.roots]}, "
-          f"baseline {[round(v, 9) for v in base]}")
+    eq = parse_equation(text)
+    base = baseline(eq.f, 0.0, 4.0, DEFAULT_SAMPLES)
+    for how, s in (("f+f'", scan(eq.f, 0.0, 4.0, fprime=eq.fprime)),
+                   ("f alone", scan(eq.f, 0.0, 4.0))):
+        print(f"  {text} on [0, 4], {how}: scan "
+              f"{[(round(r.x, 9), r.multiplicity) for r in s.roots]} ({s.check} check)")
+    print(f"  ... baseline {[round(v, 9) for v in base]}")
     # an expanded Chebyshev polynomial: rounding noise near every root
     t12 = ("2048*x^12 - 6144*x^10 + 6912*x^8 - 3584*x^6 + 840*x^4 - 72*x^2 + 1")
     f = parse_equation(t12).f
@@ -177,8 +192,9 @@ def main() -> None:
               + ("" if agree else f"   (the baseline found {found_base} roots, the scan "
                                   f"{found}: sampling alone aliases there)"))
 
-    for label, ratio in compiled.items():
-        print(f"  compiled {label:<32} {ratio:5.2f}x with the cross-check")
+    for label, (rd, rx, rn) in compiled.items():
+        print(f"  compiled {label:<28} {rd:5.2f}x with f' (derivative check), {rx:5.2f}x f alone "
+              f"(Chebyshev check), {rn:5.2f}x no check")
 
     print()
     print("What the baseline gets wrong: (x-1)^2 (x-3) (x-4.5)^2 / ((x-2)(x-5.5)) on [0, 7]")

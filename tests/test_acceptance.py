@@ -298,7 +298,7 @@ def test_a_genuine_root_next_to_a_steep_wall_still_converges() -> None:
 def test_a_scan_with_too_many_roots_stops_refining_and_says_so(monkeypatch) -> None:
     import importlib
 
-    scan_module = importlib.import_module("solvers.scan")
+    scan_module = importlib.import_module("solvers.scan.driver")
     # sin(1e4 x) on [0, 1000] (3.2e6 roots) took > 2 min and 10 GB; the cap is what bounds
     # it. A small cap keeps this test quick: sin(20 x) has 6367 roots k*pi/20 in [0, 1000].
     monkeypatch.setattr(scan_module, "MAX_ROOTS", 2000)

@@ -17,8 +17,8 @@ import scipy.constants
 import scipy.optimize
 import scipy.special
 
-from solvers.chebyshev import chebyshev_roots
 from solvers.scan import CHUNK, DEFAULT_SAMPLES, Root, Scan, ScanCancelled, scan
+from solvers.scan.crosscheck import chebyshev_roots
 
 
 def xs(result: Scan) -> list[float]:
@@ -421,7 +421,7 @@ def test_chebyshev_proxy_skips_eigenproblems_only_where_no_zero_can_be_near():
     # (the reference) must then find no zero with |Re| <= 1 + 1e-9 and |Im| <= 1e-6
     from numpy.polynomial import chebyshev as cheb
 
-    from solvers.chebyshev import _zeros
+    from solvers.scan.crosscheck import _zeros
 
     rng = np.random.default_rng(3)
     skipped = 0

@@ -22,8 +22,8 @@ from scipy.optimize import brentq
 
 from app.cli import main
 from solvers import parse_equation
-from solvers.noise import noise_level
 from solvers.scan import ScanCancelled, scan
+from solvers.scan.noise import noise_level
 
 X = sympy.Symbol("x")
 

@@ -10,17 +10,26 @@ degree is halved; one with non-finite values is halved too, so the defined parts
 next to a gap are still covered, down to a depth limit below which it is skipped
 (the function is not smooth there: a pole, a jump, a domain edge).
 
-This module only locates. Confirming a root (residual, multiplicity, Brent) is the
-scan's job; see :mod:`solvers.scan`.
+:func:`chebyshev_roots` only locates (on any vectorised f, independently of the scan).
+The scan's side of the check is at the end of this module: :func:`_cross_check` matches
+the proxy's zeros with the sampled roots (:func:`_match_proxy`) and confirms the ones the
+sampling missed (:func:`_confirm_near`); see :mod:`solvers.scan` (step 8a).
 """
 
 from __future__ import annotations
 
 import functools
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
+
+from solvers.scan.features import _finish, _touch
+from solvers.scan.kernels import _golden, _resolve_brackets
+from solvers.scan.noise import _at_noise
+from solvers.scan.records import EPS, Root, _Found, _relabel
+from solvers.scan.sampling import _Candidates, _detect
 
 # Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead:
 # the eigenvalue cost grows as degree^3). LAST_DEGREE is tried only where subdividing
@@ -191,6 +200,84 @@ def _zeros(coefficients: list[np.ndarray],
     return out
 
 
+# Degrees up to this are certified by counting (the Chebyshev-to-Bernstein matrix grows
+# as about 2^n / sqrt(n): 1.5e6 at degree 21, 3e9 at 32, so rounding there stays far below
+# the coefficients' signs); higher degrees always go to the eigenvalues.
+_COUNT_DEGREE = 32
+_CERTIFY_STEP = 1e-9  # a known root's sign change is checked at t +/- this ([-1, 1] units)
+
+
+@functools.cache
+def _bernstein(n: int) -> tuple[np.ndarray, np.ndarray]:
+    """The matrix taking Chebyshev coefficients (degree n, on [-1, 1]) to Bernstein
+    coefficients of the same polynomial on [-1, 1], and its entrywise absolute value.
+
+    Entry (j, k) = sum_i (-1)^(k-i) C(2k, 2i) C(n-k, j-i) / C(n, j) (A. Rababah,
+    "Transformation of Chebyshev-Bernstein polynomial basis", Comput. Methods Appl. Math.
+    3 (2003) 608-622), summed in exact integers and rounded once.
+    """
+    m = np.zeros((n + 1, n + 1))
+    for k in range(n + 1):
+        for j in range(n + 1):
+            total = sum((-1) ** (k - i) * math.comb(2 * k, 2 * i) * math.comb(n - k, j - i)
+                        for i in range(max(0, j + k - n), min(j, k) + 1))
+            m[j, k] = total / math.comb(n, j)
+    return m, np.abs(m)
+
+
+def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bool]:
+    """Which proxies provably have exactly the ``known`` zeros (in [-1, 1] units) in and
+    near [-1, 1], so that no eigenvalue problem is needed for them.
+
+    Descartes' rule in the Bernstein basis: the number V of sign variations of the
+    Bernstein coefficients is at least the number of zeros in the Obreshkoff lens over the
+    interval (the region seen from the segment under an angle above pi - pi / (n + 2); it
+    holds every point within about (pi / (2 (n + 2))) times the half-width of the segment,
+    away from its ends) and has V's parity (N. Obreshkoff, 1963; B. Mourrain, F. Rouillier
+    and M.-F. Roy, "The Bernstein basis and real root isolation", MSRI Publications 52
+    (2005); from memory). A proxy is certified when no coefficient's sign is in doubt from
+    rounding, V equals the number of known zeros, and the proxy changes sign across each
+    (at t +/- ``_CERTIFY_STEP``): its zeros in and near the segment are then exactly those,
+    each simple, and no complex pair sits close to the real line there.
+    """
+    out = [False] * len(coefficients)
+    checks: list[tuple[int, np.ndarray]] = []
+    for i, (c, t) in enumerate(zip(coefficients, known, strict=True)):
+        n = len(c) - 1
+        if n < 1 or n > _COUNT_DEGREE:
+            continue
+        m, m_abs = _bernstein(n)
+        bern = m @ c
+        doubt = 2 * (n + 2) * np.finfo(float).eps * (m_abs @ np.abs(c))
+        if np.any(np.abs(bern) <= doubt):
+            continue
+        variations = int(np.count_nonzero(np.signbit(bern[:-1]) != np.signbit(bern[1:])))
+        if variations == len(t):
+            checks.append((i, t))
+    if not checks:
+        return out
+    # the proxies at t -/+ the step around their known zeros, in one evaluation
+    width = max(len(coefficients[i]) for i, _ in checks)
+    table = np.zeros((len(checks), width))
+    for row, (i, _) in enumerate(checks):
+        table[row, : len(coefficients[i])] = coefficients[i]
+    rows = np.concatenate([np.full(len(t), row) for row, (_, t) in enumerate(checks)])
+    ts = np.concatenate([t for _, t in checks])
+    if ts.size:
+        pts = np.clip(np.concatenate([ts - _CERTIFY_STEP, ts + _CERTIFY_STEP]), -1.0, 1.0)
+        basis = np.cos(np.outer(np.arccos(pts), np.arange(width)))
+        values = np.sum(basis * table[np.concatenate([rows, rows])], axis=1)
+        left, right = values[: ts.size], values[ts.size:]
+        flips = (left != 0) & (right != 0) & (np.signbit(left) != np.signbit(right))
+    else:
+        flips = np.zeros(0, dtype=bool)
+    start = 0
+    for i, t in checks:
+        out[i] = bool(flips[start:start + len(t)].all())
+        start += len(t)
+    return out
+
+
 def chebyshev_roots(
     f: Callable[[np.ndarray], np.ndarray],
     a: float,
@@ -202,6 +289,7 @@ def chebyshev_roots(
     cancel: Callable[[], bool] | None = None,
     on_cancel: Callable[[], None] | None = None,
     noise: Callable[[np.ndarray], np.ndarray] | None = None,
+    known: np.ndarray | None = None,
 ) -> ChebyshevRoots:
     """Locate the real zeros of a vectorised f on [a, b] by Chebyshev proxies.
 
@@ -215,9 +303,12 @@ def chebyshev_roots(
     noisy or rough almost everywhere) and its pieces are reported as skipped.
     ``cancel`` is polled per level and between eigenvalue batches; when it returns True,
     ``on_cancel`` is called (it is expected to raise). ``noise`` (x -> standard deviation
-    of f's rounding noise, e.g. :func:`solvers.noise.noise_level`) lets a piece whose
+    of f's rounding noise, e.g. :func:`solvers.scan.noise.noise_level`) lets a piece whose
     coefficients fall to the noise floor count as resolved (an expanded polynomial near its
-    roots) instead of being halved down to the depth limit.
+    roots) instead of being halved down to the depth limit. ``known`` (sorted x of simple
+    roots located by other means, e.g. the scan's sampling) lets a piece skip its eigenvalue
+    problem when the proxy provably has exactly those zeros there (:func:`_certify`); its
+    zeros are then reported at those x (each within 1e-9 of the piece's half-width).
     """
     edges = np.linspace(a, b, max(1, pieces) + 1)
     level = np.column_stack([edges[:-1], edges[1:]])
@@ -259,7 +350,20 @@ def chebyshev_roots(
         if cancel is not None and on_cancel is not None and cancel():
             on_cancel()
 
-    zeros = _zeros([c for _, _, c in accepted], poll)
+    coefficients = [c for _, _, c in accepted]
+    certified = [False] * len(accepted)
+    if known is not None and len(accepted):
+        known = np.asarray(known, dtype=float)
+        inner = []
+        for u, v, _ in accepted:
+            lo, hi = np.searchsorted(known, [u, v], side="left")
+            inner.append((known[lo:hi] - 0.5 * (u + v)) / (0.5 * (v - u)))
+        certified = _certify(coefficients, inner)
+    zeros = _zeros([np.zeros(1) if ok else c for ok, c in zip(certified, coefficients,
+                                                                strict=True)], poll)
+    for i, ok in enumerate(certified):
+        if ok:
+            zeros[i] = inner[i].astype(complex)
     # all zeros of all pieces in one array, each with its piece's centre and half-width
     t = np.concatenate(zeros) if zeros else np.zeros(0, dtype=complex)
     counts = [len(z) for z in zeros]
@@ -290,3 +394,151 @@ def _merge(spans: list[tuple[float, float]]) -> tuple[tuple[float, float], ...]:
         else:
             merged.append((u, v))
     return tuple(merged)
+
+
+def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, gaps, notes,
+                 h, xtol, scale, bands=()) -> list[Root]:
+    """Match sampled roots with proxy roots on the smooth pieces; confirm or warn."""
+    pieces = cheb.pieces
+    if not pieces:
+        return roots
+    roots = sorted(roots, key=lambda r: r.x)
+    if not roots:
+        near = np.array(cheb.near_real, dtype=complex)
+        near = near[np.argsort(near.real)] if len(near) else near
+        used = np.zeros(len(near), dtype=bool)
+        out: list[Root] = []
+    else:
+        out, near, used = _match_proxy(cheb, roots, notes)
+    # proxy roots nobody matched
+    features = list(poles) + list(jumps) + [e for gap in gaps for e in gap]
+    extra: list[float] = []
+    for z, u in zip(near, used, strict=False):
+        if u or abs(z.imag) > 1e-10 * max(1.0, scale):
+            continue
+        x = float(z.real)
+        if any(abs(x - q) <= h for q in features):
+            continue
+        if any(u - (v - u) <= x <= v + (v - u) for u, v in bands):
+            continue  # inside (or right beside) a stretch where f is rounding noise
+        if extra and abs(x - extra[-1]) <= 1e-9 * max(scale, 1.0):
+            continue
+        extra.append(x)
+    added: list[_Found] = []
+    for x in extra:
+        g.check()
+        confirmed = _confirm_near(g, gp, x, h, xtol, scale)
+        if not confirmed:
+            notes.append(f"cross-check: the Chebyshev proxy has a zero near x = {x:.12g} "
+                         f"(|f| = {abs(g.scalar(x)):.3g}) that the scan could not confirm")
+        for conf in confirmed:
+            known = [r.x for r in out] + [r.x for r in added]
+            if all(abs(conf.x - k) > 1e3 * EPS * max(abs(k), 1e-3 * scale) for k in known):
+                added.append(conf)
+    if added:
+        new = _finish(g, added, poles, jumps, gaps, h, scale)
+        out = sorted(out + new, key=lambda r: r.x)
+        notes.append(f"cross-check: {len(new)} root(s) located only by the Chebyshev proxy and "
+                     "then confirmed: " + ", ".join(f"{r.x:.12g}" for r in new))
+    return out
+
+
+def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[str]):
+    """Mark the sampled roots (sorted, at least one) the proxy also located.
+
+    Roots closer than 1e-4 of their piece's width form one cluster (a near-double pair
+    the proxy cannot separate); a cluster counts as located when a proxy zero lies within
+    ``radius`` of it, radius = max(4 (1e-12)^(1/m), 1e-9) piece widths for total
+    multiplicity m, and at most 0.45 of the gap to the next cluster (so no zero serves
+    two). Vectorised: the cluster windows are disjoint, so each proxy zero falls in at
+    most one. Returns (roots relabelled, proxy zeros sorted by real part, which matched).
+    """
+    starts = np.array([p.a for p in cheb.pieces])
+    ends = np.array([p.b for p in cheb.pieces])
+    x = np.array([r.x for r in roots])
+    mult = np.array([r.multiplicity for r in roots], dtype=float)
+    # the piece holding each root (as bisect_right on the starts, then its neighbour)
+    i = np.searchsorted(starts, x, side="right") - 1
+    ic = np.maximum(i, 0)
+    inside = (i >= 0) & (x <= ends[ic])
+    left = (i >= 1) & (ends[np.maximum(i - 1, 0)] >= x)
+    piece = np.where(inside, i, np.where(left, i - 1, -1))
+    pw = np.where(piece >= 0, (ends - starts)[np.maximum(piece, 0)], np.nan)
+    join = np.zeros(len(x), dtype=bool)
+    join[1:] = (piece[1:] >= 0) & (np.diff(x) <= 1e-4 * pw[1:])
+    cluster = np.cumsum(~join) - 1
+    heads = np.flatnonzero(~join)
+    tails = np.append(heads[1:] - 1, len(x) - 1)
+    first, last = x[heads], x[tails]
+    cpiece = piece[heads]
+    width = pw[heads]
+    total = np.add.reduceat(mult, heads)
+    radius = np.maximum(4 * (1e-12) ** (1.0 / total) * width, 1e-9 * width)
+    gap = first[1:] - last[:-1]
+    radius[1:] = np.minimum(radius[1:], 0.45 * gap)
+    radius[:-1] = np.minimum(radius[:-1], 0.45 * gap)
+    near = np.array(cheb.near_real, dtype=complex)
+    near = near[np.argsort(near.real)] if len(near) else near
+    used = np.zeros(len(near), dtype=bool)
+    located = np.zeros(len(heads), dtype=bool)
+    if len(near):
+        zr = near.real
+        k = np.searchsorted(first - radius, zr, side="right") - 1
+        kc = np.maximum(k, 0)
+        ok = (k >= 0) & (zr <= last[kc] + radius[kc]) & (cpiece[kc] >= 0)
+        hit = ok & (np.abs(near - np.clip(zr, first[kc], last[kc])) <= radius[kc])
+        used |= hit
+        located[kc[hit]] = True
+    # a multiple root's proxy zeros spread on a small circle (radius ~ (noise)^(1/m)): for
+    # a cluster of total multiplicity m >= 2 a proxy zero off the real line within the
+    # same radius counts too
+    ring = np.array(getattr(cheb, "ring", ()), dtype=complex)
+    if len(ring):
+        for k in np.flatnonzero(~located & (total >= 2) & (cpiece >= 0)):
+            dist = np.abs(ring - np.clip(ring.real, first[k], last[k]))
+            located[k] = bool(np.any(dist <= radius[k]))
+    out: list[Root] = []
+    for j, r in enumerate(roots):
+        k = cluster[j]
+        if cpiece[k] < 0:
+            out.append(r)
+        elif located[k]:
+            out.append(_relabel(r, tuple(dict.fromkeys(r.located_by + ("chebyshev",)))))
+        else:
+            p = cheb.pieces[cpiece[k]]
+            out.append(r)
+            notes.append(f"cross-check: root at x = {r.x:.12g} found by sampling, not by "
+                         f"the Chebyshev proxy on [{p.a:.6g}, {p.b:.6g}]")
+    return out, near, used
+
+
+def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
+    """Look for sign changes or a touch within a small window around a proxy root."""
+    w = max(min(h, 1e-6 * max(abs(x), 1.0)), 1e3 * EPS * max(abs(x), 1e-3 * scale))
+    for width in (w, 100 * w):
+        pts = np.linspace(x - width, x + width, 65)
+        y = g(pts)
+        cand = _Candidates()
+        _detect(pts, y, 0, len(pts), cand)
+        found = [_Found(xz, bool(odd), "f exactly zero (near a Chebyshev proxy root)",
+                        located_by=("chebyshev",)) for xz, odd, *_ in cand.zeros]
+        brackets = list(cand.brackets)
+        if cand.minima:
+            mm = np.array(cand.minima)
+            xb, fb, crossed = _golden(g, mm[:, 0], mm[:, 2], np.sign(mm[:, 4]), xtol)
+            for i in range(len(mm)):
+                if crossed[i]:
+                    brackets += [(mm[i, 0], xb[i], mm[i, 3], fb[i]),
+                                 (xb[i], mm[i, 2], fb[i], mm[i, 5])]
+                    continue
+                if _at_noise(g, xb[i:i + 1], fb[i:i + 1], xtol, scale)[0]:
+                    r = _touch(g, gp, mm[i, 0], mm[i, 2], float(xb[i]), xtol)
+                    r.located_by = ("chebyshev",)
+                    found.append(r)
+        if brackets:
+            for r in _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]:
+                r.located_by = ("chebyshev",)
+                found.append(r)
+        if found:
+            return found
+    return []

@@ -1,0 +1,409 @@
+"""Vectorised refinement kernels: all sign-change brackets at once (Anderson-Bjorck, then
+bisection to classify root / pole / jump), golden-section search with its convex floor,
+and the brackets beside an overflow."""
+
+from __future__ import annotations
+
+import collections
+import functools
+import itertools
+import math
+
+import numpy as np
+
+from solvers.methods import brent
+from solvers.result import Run
+from solvers.scan.records import EPS, _Found
+from solvers.scan.sampling import _Guarded
+
+_ROOT, _POLE, _JUMP, _UNDEF = 1, 2, 3, 4
+
+
+def _classify(g: _Guarded, br: np.ndarray, xtol: float):
+    """Bisect all sign-change brackets at once and say root / pole / jump / undefined.
+
+    br has rows (lo, hi, f(lo), f(hi)). Returns (kind, lo, hi, flo, fhi) arrays; for roots
+    the bracket is narrowed only until the decision (Brent does the rest), for poles and
+    jumps down to adjacent floats.
+    """
+    lo, hi, flo, fhi = (br[:, j].astype(float).copy() for j in range(4))
+    g0 = np.maximum(np.abs(flo), np.abs(fhi))
+    kind = np.zeros(len(lo), dtype=int)
+    history = collections.deque([np.minimum(np.abs(flo), np.abs(fhi))], maxlen=21)
+    for it in range(1100):
+        act = np.flatnonzero(kind == 0)
+        if act.size == 0:
+            break
+        if it % 4 == 0:
+            g.check()
+        left_end, right_end = lo[act], hi[act]
+        mid = 0.5 * (left_end + right_end)
+        fm = g(mid)
+        narrow = (mid <= left_end) | (mid >= right_end) | (right_end - left_end <= xtol)
+        special = ~np.isfinite(fm) | (fm == 0)
+        stuck = np.zeros(act.size, dtype=bool)
+        if special.any():
+            bad = np.isnan(fm)
+            if bad.any():  # an isolated undefined point (0 * inf at a pole): step aside
+                mid[bad] = left_end[bad] + 0.381966 * (right_end[bad] - left_end[bad])
+                fm[bad] = g(mid[bad])
+            inf, nan, zero = np.isinf(fm), np.isnan(fm), fm == 0
+            kind[act[inf]] = _POLE
+            lo[act[inf]] = hi[act[inf]] = mid[inf]
+            # still undefined after stepping aside: at float resolution that is the singular
+            # point itself (decided below like a narrow bracket), else a hole in the domain
+            width = right_end - left_end
+            tight = width <= 1e-9 * np.maximum(np.abs(left_end), np.abs(right_end)) + xtol
+            kind[act[nan & ~tight]] = _UNDEF
+            stuck = nan & tight
+            kind[act[zero]] = _ROOT
+            lo[act[zero]] = hi[act[zero]] = mid[zero]
+            flo[act[zero]] = fhi[act[zero]] = 0.0
+            special = inf | nan | zero
+        regular = ~special
+        left = regular & ((fm > 0) == (flo[act] > 0))
+        right = regular & ~left
+        lo[act[left]], flo[act[left]] = mid[left], fm[left]
+        hi[act[right]], fhi[act[right]] = mid[right], fm[right]
+        big = np.maximum(np.abs(flo[act]), np.abs(fhi[act]))
+        root = regular & (big <= 1e-6 * g0[act])
+        kind[act[root]] = _ROOT
+        cur = np.minimum(np.abs(flo), np.abs(fhi))
+        history.append(cur)
+        done = act[(regular & narrow & ~root) | stuck]
+        if done.size:
+            past = history[0][done]
+            grows = cur[done] >= 1.2 * past
+            steady = np.ones(done.size, dtype=bool)
+            for h0, h1 in itertools.pairwise(history):
+                steady &= h1[done] >= h0[done]
+            huge = cur[done] >= 1e3 * g0[done]
+            kind[done] = np.where((grows & steady) | huge, _POLE, _JUMP)
+    kind[kind == 0] = _JUMP
+    return kind, lo, hi, flo, fhi
+
+
+_RTOL = 4 * EPS  # relative bracket-width tolerance of every refinement (Brent's stop rule)
+
+
+def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
+    """Anderson–Björck on every sign-change bracket at once: one f call per iteration.
+
+    br has rows (lo, hi, f(lo), f(hi)) with f(lo), f(hi) finite, nonzero, of opposite
+    sign. Each bracket is shrunk by false position with the Anderson–Björck weight on
+    the end held twice running (N. Anderson and Å. Björck, BIT 12 (1972) 503-508), a
+    bisection whenever three iterations failed to halve the bracket, and a least step of
+    half the tolerance (as in Brent's method) so both ends close in. It stops when
+    ``hi - lo <= xtol + 4 eps max(|lo|, |hi|)``, Brent's stop rule, or at an exact zero.
+
+    Returns (done, lo, hi, flo, fhi): ``done`` marks brackets that converged (lo == hi
+    at an exact zero); the others met NaN/inf inside or hit ``max_iter`` and are left
+    to :func:`_classify`.
+    """
+    count = len(br)
+    lo_out, hi_out = br[:, 0].astype(float).copy(), br[:, 1].astype(float).copy()
+    flo_out, fhi_out = br[:, 2].astype(float).copy(), br[:, 3].astype(float).copy()
+    done = np.zeros(count, dtype=bool)
+    # working copies of the brackets still shrinking (compressed as brackets finish)
+    idx = np.arange(count)
+    lo, hi, flo, fhi = lo_out.copy(), hi_out.copy(), flo_out.copy(), fhi_out.copy()
+    wlo, whi = flo.copy(), fhi.copy()  # false-position weights (scaled f at held ends)
+    prev_lo = np.zeros(count, dtype=np.int8) - 1  # end replaced last: 1 lo, 0 hi, -1 none
+    w1 = np.full(count, np.inf)  # bracket widths one, two and three iterations back
+    w2, w3 = w1.copy(), w1.copy()
+    for it in range(max_iter + 1):
+        width = hi - lo
+        tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
+        finished = width <= tol
+        if finished.any():
+            k = idx[finished]
+            done[k] = True
+            lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
+                                                            flo[finished], fhi[finished])
+            keep = ~finished
+            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width, tol = (
+                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width,
+                                  tol))
+        if idx.size == 0 or it == max_iter:
+            break
+        if it % 4 == 0:
+            g.check()
+        # where the chord through the weighted ends meets zero (t in [0, 1] as the weights
+        # have opposite signs; NaN from underflowed weights is caught by fmax below)
+        t = np.where(width > 0.5 * w3, 0.5, wlo / (wlo - whi))
+        half = 0.5 * tol
+        x = np.fmin(np.fmax(lo + t * width, lo + half), hi - half)
+        fx = g(x)
+        w3, w2, w1 = w2, w1, width
+        regular = np.isfinite(fx) & (fx != 0)
+        if not regular.all():
+            zero = fx == 0
+            k = idx[zero]
+            done[k] = True
+            lo_out[k] = hi_out[k] = x[zero]
+            flo_out[k] = fhi_out[k] = 0.0
+            # NaN/inf inside: a pole or a hole, left (not done) for _classify to decide
+            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x, fx = (
+                v[regular] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x,
+                                     fx))
+        on_lo = np.signbit(fx) == np.signbit(flo)  # x replaces lo; hi is held
+        # Anderson–Björck: the end held for the second time running is weighted by
+        # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
+        m = 1.0 - fx / np.where(on_lo, flo, fhi)
+        m = np.where(prev_lo == on_lo, np.where(m > 0, m, 0.5), 1.0)
+        wlo, whi = np.where(on_lo, fx, wlo * m), np.where(on_lo, whi * m, fx)
+        lo, hi = np.where(on_lo, x, lo), np.where(on_lo, hi, x)
+        flo, fhi = np.where(on_lo, fx, flo), np.where(on_lo, fhi, fx)
+        prev_lo = on_lo.view(np.int8)
+    return done, lo_out, hi_out, flo_out, fhi_out
+
+
+def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: float):
+    """Roots, poles and jumps of sign-change brackets (rows lo, hi, f(lo), f(hi)).
+
+    All brackets are refined at once by :func:`_bracket_all`; a converged bracket whose
+    ends' |f| fell to 1e-6 of the sampled |f| is a root (the end of smaller |f|, then one
+    vectorised Newton step with f' where that lowers |f|). Every other bracket (|f| not
+    falling: a pole or a jump; NaN inside; no convergence) is decided by
+    :func:`_classify` from its original ends, as before. Returns (found, poles, jumps,
+    undefined) with ``undefined`` the rows whose inside is partly undefined.
+    """
+    done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
+    g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
+    root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
+    x = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
+    how = np.full(len(br), "sign change, Anderson-Bjorck bracketing", dtype=object)
+    how[root & (lo == hi)] = "sign change; f exactly zero at an iterate"
+    if gp is not None and root.any():
+        ir = np.flatnonzero(root & (lo != hi))
+        xr = x[ir]
+        fx, dfx = g(xr), gp(xr)
+        with np.errstate(all="ignore"):
+            xn = xr - fx / dfx
+        ok = np.isfinite(dfx) & (dfx != 0) & np.isfinite(fx) & (fx != 0)
+        ok &= (lo[ir] <= xn) & (xn <= hi[ir])
+        if ok.any():
+            better = np.zeros(len(ir), dtype=bool)
+            better[ok] = np.abs(g(xn[ok])) < np.abs(fx[ok])
+            x[ir[better]] = xn[better]
+            how[ir[better]] = how[ir[better]] + ", Newton polish with f'"
+    ir = np.flatnonzero(root)
+    # (plain Python lists: indexing numpy arrays per root costs more than the roots' records)
+    found = [
+        _Found(xi, True, hw, bracket=(b0, b1), run=functools.partial(_brent_record, g, row, xtol))
+        for xi, hw, b0, b1, row in zip(x[ir].tolist(), how[ir].tolist(), br[ir, 0].tolist(),
+                                       br[ir, 1].tolist(), br[ir], strict=True)
+    ]
+    poles: list[float] = []
+    jumps: list[float] = []
+    undefined: list[int] = []
+    rest = np.flatnonzero(~root)
+    if rest.size:
+        kind, clo, chi, cflo, cfhi = _classify(g, br[rest], xtol)
+        for j, i in enumerate(rest):
+            if kind[j] == _ROOT:  # (|f| fell, but the fast iteration met NaN on the way)
+                found.append(_refine(g, gp, br[i], clo[j], chi[j], cflo[j], cfhi[j], xtol))
+            elif kind[j] == _POLE:
+                poles.append(float(0.5 * (clo[j] + chi[j])))
+            elif kind[j] == _JUMP:
+                jumps.append(float(0.5 * (clo[j] + chi[j])))
+            else:
+                undefined.append(int(i))
+    return found, poles, jumps, undefined
+
+
+def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
+    """The project's Brent on one sample bracket (its ends' f values already known)."""
+    known = {float(row[0]): float(row[2]), float(row[1]): float(row[3])}
+
+    def f_known(x: float) -> float:
+        value = known.pop(x, None)
+        return g.scalar(x) if value is None else value
+
+    try:
+        return brent(f_known, float(row[0]), float(row[1]), xtol=xtol, rtol=_RTOL, ftol=0.0,
+                     max_iter=200)
+    except ArithmeticError:
+        return None
+
+
+def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
+    """Least value a convex function through the four points lo < c < d < hi can take on
+    [lo, hi] (-inf where the four values are not convex: slopes must not decrease).
+
+    A convex function lies above every chord's extension beyond the chord: on [lo, c] and
+    [d, hi] above the line through c and d, on [c, d] above both the line through lo, c
+    and the one through d, hi (their meeting point, or an end of [c, d]).
+    """
+    with np.errstate(all="ignore"):
+        s1, s2, s3 = (fc - flo) / (c - lo), (fd - fc) / (d - c), (fhi - fd) / (hi - d)
+        convex = (s1 <= s2) & (s2 <= s3)
+        outer = np.minimum(np.minimum(fc + s2 * (lo - c), fc), np.minimum(fd + s2 * (hi - d),
+                                                                          fd))
+        # lines fc + s1 (x - c) and fd + s3 (x - d) meet at x*, clamped to [c, d]
+        xs = np.clip(np.where(s3 > s1, (fd - fc + s1 * c - s3 * d) / (s1 - s3), c), c, d)
+        middle = np.maximum(fc + s1 * (xs - c), fd + s3 * (xs - d))
+        low = np.minimum(outer, middle)
+    return np.where(convex & np.isfinite(low), low, -np.inf)
+
+
+def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
+            *, peak: bool = False, rel: float = 4 * EPS,
+            ends: tuple[np.ndarray, np.ndarray] | None = None,
+            positive: np.ndarray | None = None):
+    """Vectorised golden-section minimisation of sign*f on each [lo, hi].
+
+    Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
+    opposite sign (then xbest is that point: two roots straddle it). With ``peak`` it
+    maximises |f| instead (fbest is then -|f|, and nothing is ever "crossed"); a search
+    that meets inf or NaN stops there. It stops when the bracket is no wider than
+    ``rel max(|lo|, |hi|) + xtol``. With ``ends`` (sign*f at lo and hi) a search also stops
+    once sign*f is convex through the bracket's four points and its convex floor
+    (:func:`_convex_floor`) stays above half the least value found: a positive minimum,
+    marked True in ``positive`` (a bool array of the rows' length, filled in place).
+    """
+
+    def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
+        return -np.abs(g(v)) if peak else s * g(v)
+
+    r = (math.sqrt(5) - 1) / 2
+    lo, hi = lo.copy(), hi.copy()
+    c = hi - r * (hi - lo)
+    d = lo + r * (hi - lo)
+    fc, fd = objective(c, sign), objective(d, sign)
+    xbest = np.where(fc <= fd, c, d)
+    fbest = np.minimum(fc, fd)
+    crossed = (fbest < 0) if not peak else np.zeros(len(lo), dtype=bool)
+    active = ~crossed & np.isfinite(fbest)
+    if ends is not None:
+        flo, fhi = ends[0].astype(float).copy(), ends[1].astype(float).copy()
+    for _ in range(120):
+        act = np.nonzero(active)[0]
+        if len(act) == 0:
+            break
+        g.check()
+        if ends is not None and positive is not None:
+            floor = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act], fc[act],
+                                  fd[act], fhi[act])
+            sure = floor > 0.5 * fbest[act]
+            if sure.any():
+                positive[act[sure]] = True
+                active[act[sure]] = False
+                act = act[~sure]
+                if act.size == 0:
+                    break
+        left = fc[act] <= fd[act]  # minimum in [lo, d]
+        il, ir = act[left], act[~left]
+        if ends is not None:
+            fhi[il], flo[ir] = fd[il], fc[ir]
+        hi[il], d[il], fd[il] = d[il], c[il], fc[il]
+        c[il] = hi[il] - r * (hi[il] - lo[il])
+        lo[ir], c[ir], fc[ir] = c[ir], d[ir], fd[ir]
+        d[ir] = lo[ir] + r * (hi[ir] - lo[ir])
+        newx = np.empty(len(act))
+        newx[left] = c[il]
+        newx[~left] = d[ir]
+        fn = objective(newx, sign[act])
+        fc[il] = fn[left]
+        fd[ir] = fn[~left]
+        better = fn < fbest[act]
+        xbest[act[better]] = newx[better]
+        fbest[act[better]] = fn[better]
+        if not peak:
+            crossed[act] |= fn < 0
+        width = hi[act] - lo[act]
+        stop = (
+            crossed[act]
+            | ~np.isfinite(fn)
+            | ~np.isfinite(fbest[act])
+            | (width <= rel * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
+        )
+        active[act[stop]] = False
+    return xbest, sign * fbest, crossed
+
+
+_SQRT_EPS = math.sqrt(EPS)
+
+
+def _overflow_brackets(g: _Guarded, pairs: list[tuple[float, float, float]]) -> list:
+    """Brackets with finite ends inside sign changes whose one end overflows to +-inf.
+
+    Bisects (by value, then in the doubles' bit pattern once the midpoint stalls) until a
+    finite value of the infinite end's sign appears: that and the finite end bracket a
+    root. Where f is inf right up to the last finite point there is no root (a pole
+    sampled exactly, or an overflow boundary), and nothing is returned.
+    """
+    out = []
+    for xf, xi, yf in pairs:
+        lo, hi = xf, xi  # lo: finite with yf's sign; hi: infinite with the other sign
+        for _ in range(2200):  # enough to halve the 2^64 doubles between any two points
+            mid = 0.5 * (lo + hi)
+            if mid in (lo, hi) or abs(hi - lo) > 1e3 * abs(mid) + 1e-300:
+                # halve in the bit pattern: spans many binades geometrically
+                mid = _bit_midpoint(lo, hi)
+            if mid in (lo, hi):
+                break
+            fm = g.scalar(mid)
+            if math.isnan(fm):
+                break
+            if fm == 0 or (math.isfinite(fm) and (fm < 0) != (yf < 0)):
+                out.append((min(xf, mid), max(xf, mid), *((yf, fm) if xf < mid else (fm, yf))))
+                break
+            if math.isfinite(fm):
+                lo = mid
+            else:
+                hi = mid
+    return out
+
+
+def _bit_midpoint(u: float, v: float) -> float:
+    """The double halfway between u and v in order of representation (geometric spacing)."""
+    def key(t: float) -> int:
+        i = int(np.array(t, dtype=np.float64).view(np.int64))
+        return i if i >= 0 else -(i & 0x7FFFFFFFFFFFFFFF)
+
+    def unkey(i: int) -> float:
+        bits = i if i >= 0 else (-i) | (1 << 63)
+        return float(np.array(bits, dtype=np.uint64).view(np.float64))
+
+    return unkey((key(u) + key(v)) // 2)
+
+
+def _refine(g, gp, row, lo, hi, flo, fhi, xtol) -> _Found:
+    """Brent from the narrowed bracket, then a Newton step with f' if it helps."""
+    bracket = (float(row[0]), float(row[1]))
+    if lo == hi:
+        return _Found(float(lo), True, "sign change; f exactly zero at a bisection point",
+                      bracket=bracket)
+    known = {float(lo): float(flo), float(hi): float(fhi)}
+
+    def f_known(x: float) -> float:  # the bracket ends were evaluated while classifying
+        value = known.pop(x, None)
+        return g.scalar(x) if value is None else value
+
+    try:
+        run = brent(f_known, float(lo), float(hi), xtol=xtol, rtol=4 * EPS, ftol=0.0,
+                    max_iter=200)
+    except ArithmeticError:  # (the scan never fails because an interpolation divided badly)
+        run = None
+    x = float(run.root) if run is not None else math.nan
+    how = "sign change, Brent" + ("" if run is None or run.converged
+                                  else f" (stopped: {run.reason})")
+    if not (lo <= x <= hi) or not math.isfinite(x):
+        x = float(lo if abs(flo) <= abs(fhi) else hi)
+        how = "sign change, bisection (Brent left the bracket)"
+    if gp is not None:
+        fx, dfx = g.scalar(x), gp.scalar(x)
+        if math.isfinite(dfx) and dfx != 0 and math.isfinite(fx) and fx != 0:
+            xn = x - fx / dfx
+            if lo <= xn <= hi and abs(g.scalar(xn)) < abs(fx):
+                x, how = xn, how + ", Newton polish with f'"
+    return _Found(x, True, how, bracket=bracket, run=run)
+
+
+def _safe_brent(fn, lo: float, hi: float, xtol: float) -> Run | None:
+    """The project's Brent as a record of a root already located; None if it raised."""
+    try:
+        return brent(fn, lo, hi, xtol=xtol, rtol=4 * EPS, ftol=0.0, max_iter=200)
+    except ArithmeticError:
+        return None

@@ -1,0 +1,394 @@
+"""Sampling f (and f') on the grid in chunks: f made total (:class:`_Guarded`), and the
+candidates each chunk yields (sign changes, zeros, minima, peaks, domain edges, extrema
+between samples), with under-resolved windows resampled finer."""
+
+from __future__ import annotations
+
+import math
+import time
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from solvers.scan.records import EPS, ScanCancelled
+
+DEFAULT_SAMPLES = 2001  # base samples when ``samples`` is None (adaptive refinement on top)
+
+
+CHUNK = 65536  # samples evaluated per f call in the sampling pass (bounds memory)
+
+
+_WINDOW = 32  # samples per window in the oscillation check
+
+
+_MAX_EXTREMA = 8  # more extrema of f per window than this: resample the window finer
+
+
+_RESAMPLE = 8  # refinement factor for an under-resolved window
+
+
+_MAX_LEVEL = 2  # at most 64x the base density
+
+
+_POLL = 0.02  # seconds of work between two polls of cancel()
+
+
+def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
+    arr = np.asarray(y)
+    if np.iscomplexobj(arr):
+        arr = np.where(arr.imag == 0, arr.real, np.nan)
+    try:
+        arr = np.asarray(arr, dtype=float)
+    except (TypeError, ValueError):
+        return np.full(shape, np.nan)
+    if arr.shape != shape:
+        try:
+            arr = np.broadcast_to(arr, shape).copy()
+        except ValueError:
+            return np.full(shape, np.nan)
+    return arr
+
+
+class _Guarded:
+    """f made total: arrays in, float arrays out, NaN where f raised or is complex."""
+
+    def __init__(self, f: Callable, cancel: Callable[[], bool] | None):
+        self.f = f
+        self.cancel = cancel
+        self.calls = 0
+        self._polled = time.perf_counter()
+
+    def check(self) -> None:
+        if self.cancel is not None:
+            self._polled = time.perf_counter()
+            if self.cancel():
+                raise ScanCancelled("scan cancelled")
+
+    def poll(self) -> None:
+        """``check`` when more than ``_POLL`` seconds of work went by since the last one:
+        every f call polls, so a cancel takes effect within about that much work in any
+        loop (sampling, refinement, cross-check) without asking ``cancel`` per iteration."""
+        if self.cancel is not None and time.perf_counter() - self._polled > _POLL:
+            self.check()
+
+    def __call__(self, x: np.ndarray) -> np.ndarray:
+        x = np.asarray(x, dtype=float)
+        self.calls += 1
+        self.poll()
+        try:
+            return _as_real(self.f(x), x.shape)
+        except Exception:  # f raised: evaluate pointwise so the defined points survive
+            out = np.full(x.shape, np.nan)
+            flat = out.reshape(-1)
+            for i, xi in enumerate(x.reshape(-1)):
+                flat[i] = self.scalar(float(xi))
+            return out
+
+    def scalar(self, x: float) -> float:
+        """f at one point as a float (NaN when undefined, complex or raising)."""
+        self.poll()
+        for arg in (x, None):
+            try:
+                y = self.f(x) if arg is not None else self.f(np.array([x]))
+            except Exception:
+                continue
+            try:
+                if np.iscomplexobj(y):
+                    z = complex(np.asarray(y).reshape(-1)[0])
+                    return z.real if z.imag == 0 else math.nan
+                return float(np.asarray(y, dtype=float).reshape(-1)[0])
+            except (TypeError, ValueError, IndexError):
+                return math.nan
+        return math.nan
+
+
+@dataclass
+class _Candidates:
+    brackets: list[tuple[float, float, float, float]] = field(default_factory=list)
+    # samples where f == 0: (x, odd by the neighbours, x left, x right, f left, f right)
+    zeros: list[tuple[float, int, float, float, float, float]] = field(default_factory=list)
+    minima: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
+    peaks: list[tuple[float, float, float]] = field(default_factory=list)  # (lo, x, hi), |f|
+    edges: list[tuple[float, float, int]] = field(default_factory=list)  # (undef x, def x, side)
+    inf_points: list[float] = field(default_factory=list)
+    # sign changes between a finite sample and an infinite one: (x finite, x inf, f finite)
+    overflow: list[tuple[float, float, float]] = field(default_factory=list)
+    flat: list[tuple[float, float]] = field(default_factory=list)
+    first_defined: bool = True
+    last_defined: bool = True
+    unresolved: list[tuple[float, float]] = field(default_factory=list)
+    samples: int = 0
+    typical: list[float] = field(default_factory=list)  # median finite |f| of each chunk
+    # f' sampled with f (derivative check): sample pairs of one sign of f across which f'
+    # changes sign toward zero, not proved root-free; same layout as ``minima``
+    extrema: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
+    proved: int = 0  # extrema between samples proved root-free by the tangent bound
+
+
+def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
+            yp: np.ndarray | None = None) -> None:
+    """Append candidates whose anchor index i lies in [lo, hi) of the arrays x, y.
+
+    Sign changes and edges are anchored at the left sample of the pair (i, i+1);
+    zeros and minima at the centre sample i (which needs i-1 and i+1 to exist).
+    Written as a few full passes over the chunk that select a handful of indices,
+    then exact tests on those few (most samples are nothing).
+    """
+    n = len(x)
+    if yp is not None:
+        _detect_extrema(x, y, yp, lo, hi, out)
+    allfin = bool(np.isfinite(y).all())
+    last_pair = min(hi, n - 1)
+    # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
+    neg = np.signbit(y)
+    for k in np.flatnonzero(neg[:-1] != neg[1:]):
+        if lo <= k < last_pair:
+            yl, yr = y[k], y[k + 1]
+            # signs compared, not multiplied: a product of two tiny values underflows to 0
+            if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
+                out.brackets.append((float(x[k]), float(x[k + 1]), float(yl), float(yr)))
+            elif yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
+                # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
+                # between the last finite value and the overflow
+                fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
+                if not math.isnan(y[far]):
+                    out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
+    if not allfin:
+        dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
+        for k in np.flatnonzero(dfn[:-1] != dfn[1:]):
+            if lo <= k < last_pair:
+                if dfn[k]:
+                    out.edges.append((float(x[k + 1]), float(x[k]), -1))  # defined on the left
+                else:
+                    out.edges.append((float(x[k]), float(x[k + 1]), +1))  # defined on the right
+        for k in np.flatnonzero(np.isinf(y)):
+            if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
+                out.inf_points.append(float(x[k]))
+    zero_idx = np.flatnonzero(y == 0)
+    for k in zero_idx:
+        if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
+            if y[k - 1] == 0 or y[k + 1] == 0:
+                out.flat.append((float(x[k - 1]), float(x[k + 1])))
+            else:
+                out.zeros.append((float(x[k]), 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0,
+                                  float(x[k - 1]), float(x[k + 1]), float(y[k - 1]),
+                                  float(y[k + 1])))
+    # local minima of |f| away from sign changes: |f| stops falling and starts rising
+    if n < 3:
+        return
+    da = np.diff(np.abs(y))
+    # sharp local maxima of |f| (a pole without a sign change, 1/(x-c)^2, ln|x-c|): at least
+    # 10 % above the lower neighbour, where a resolved smooth peak is within a fraction of 1 %
+    p = np.flatnonzero((da[:-1] >= 0) & (da[1:] <= 0)) + 1
+    p = p[(p >= max(lo, 1)) & (p < last_pair)]
+    if p.size:
+        ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
+        sharp = np.isfinite(ap) & np.isfinite(al) & np.isfinite(ar)
+        sp = np.sign(y[p])
+        # ... or a kink: the second difference at the peak 8x one of those two samples away
+        # (a pole riding on a large offset, 1/(x - c) - 1e6, bumps |f| by far less
+        # than 10 %; a smooth peak's second differences vary slowly)
+        d2 = np.abs(y[p - 1] - 2 * y[p] + y[p + 1])
+        far_l = np.where(p >= 3, np.abs(y[np.maximum(p - 3, 0)] - 2 * y[p - 2] + y[p - 1]),
+                         np.inf)
+        ok_r = p + 3 < n
+        far_r = np.where(ok_r, np.abs(y[np.minimum(p + 1, n - 1)]
+                                      - 2 * y[np.minimum(p + 2, n - 1)]
+                                      + y[np.minimum(p + 3, n - 1)]), np.inf)
+        kink = (d2 > 8 * np.minimum(far_l, far_r)) & (d2 > 1e-9 * ap)
+        sharp &= (ap > 0) & ((ap >= 1.1 * np.minimum(al, ar)) | kink)
+        sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
+        for kk in p[sharp]:
+            out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
+    k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
+    k = k[(k >= max(lo, 1)) & (k < last_pair)]
+    if k.size == 0:
+        return
+    yc, yl, yr = y[k], y[k - 1], y[k + 1]
+    ac, al, ar = np.abs(yc), np.abs(yl), np.abs(yr)
+    ok = np.isfinite(yc) & np.isfinite(yl) & np.isfinite(yr) & (yc != 0)
+    sc = np.sign(yc)
+    ok &= (sc == np.sign(yl)) & (sc == np.sign(yr)) & ((ac < al) | (ac < ar))
+    k = k[ok]
+    if k.size == 0:
+        return
+    # parabola through the three samples: keep if it dips at least 10% toward zero ...
+    h1, h2 = x[k] - x[k - 1], x[k + 1] - x[k]
+    sgn = np.sign(y[k])
+    d1 = (sgn * y[k] - sgn * y[k - 1]) / h1
+    d2 = (sgn * y[k + 1] - sgn * y[k]) / h2
+    curv = (d2 - d1) / (0.5 * (h1 + h2))
+    slope = 0.5 * (d1 + d2)
+    with np.errstate(all="ignore"):
+        vertex = sgn * y[k] - np.where(curv > 0, slope**2 / (2 * curv), np.inf)
+    # ... or comes within its own curvature scale of zero (a near-double pair whose
+    # sample sits almost on the dip looks like a touch that narrowly misses)
+    keep = (vertex <= 0.9 * sgn * y[k]) | (vertex <= curv * h1 * h2)
+    if yp is not None:
+        # with f' sampled, the extrema between samples (:func:`_detect_extrema`) stand in for
+        # these minima wherever f' is finite at all three samples
+        keep &= ~(np.isfinite(yp[k - 1]) & np.isfinite(yp[k]) & np.isfinite(yp[k + 1]))
+    for kk in k[keep]:
+        out.minima.append(
+            (float(x[kk - 1]), float(x[kk]), float(x[kk + 1]),
+             float(y[kk - 1]), float(y[kk]), float(y[kk + 1]))
+        )
+
+
+def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: int,
+                    out: _Candidates) -> None:
+    """Extrema of f between neighbouring samples (anchored at the left one, in [lo, hi)).
+
+    Two roots hidden between samples i and i+1 (f of one sign at both) need an extremum
+    of f between them, where f' changes sign, moving toward zero: s f'_i < 0 < s f'_(i+1)
+    with s the sign of f. Where f' is monotone between the samples (checked: the secant
+    slope lies between f'_i and f'_(i+1), as the mean value theorem then demands), s f is
+    convex there and lies above both tangent lines, so it cannot fall below the value
+    where they meet: above zero means no root, proved. Every other such pair is a
+    candidate for the touch search (appended to ``out.extrema``).
+    """
+    n = len(x)
+    last_pair = min(hi, n - 1)
+    if last_pair <= lo:
+        return
+    sl = slice(lo, last_pair)
+    y0, y1, d0, d1 = y[lo:last_pair], y[lo + 1:last_pair + 1], yp[sl], yp[lo + 1:last_pair + 1]
+    s = np.where(np.signbit(y0), -1.0, 1.0)
+    k = np.flatnonzero((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
+                       & (s * d0 < 0) & (s * d1 > 0))
+    if k.size == 0:
+        return
+    x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
+    s = s[k]
+    u0, u1, p0, p1 = s * y0[k], s * y1[k], s * d0[k], s * d1[k]  # u > 0, p0 < 0 < p1
+    h = x1 - x0
+    with np.errstate(all="ignore"):
+        secant = (u1 - u0) / h
+        # tangent lines u0 + p0 (t - x0) and u1 + p1 (t - x1) meet at t*
+        t = (u1 - u0 - p1 * h) / (p0 - p1)  # distance of t* from x0 (in [0, h] when convex)
+        bound = u0 + p0 * t
+    slack = 64 * EPS * (np.abs(p0) + np.abs(p1))
+    convex = (secant >= p0 - slack) & (secant <= p1 + slack)
+    margin = 1e3 * EPS * np.maximum(u0, u1)  # rounding of the values themselves
+    safe = convex & np.isfinite(bound) & (bound > margin)
+    out.proved += int(safe.sum())
+    for i in np.flatnonzero(~safe):
+        out.extrema.append((float(x0[i]), float(x0[i]), float(x1[i]),
+                            float(s[i] * u0[i]), float(s[i] * u0[i]), float(s[i] * u1[i])))
+
+
+def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
+                   yp: np.ndarray | None = None) -> np.ndarray:
+    """Indices of windows (of _WINDOW samples) where f has too many extrema, or (with f'
+    sampled too) where f' contradicts the differences of f (:func:`_inconsistent`)."""
+    n = len(y)
+    if n < 3 * _WINDOW:
+        return np.zeros(0, dtype=int)
+    d = np.signbit(np.diff(y))
+    turn = d[1:] != d[:-1]
+    nwin = (len(turn)) // _WINDOW
+    counts = turn[: nwin * _WINDOW].reshape(nwin, _WINDOW).sum(axis=1)
+    bad = np.flatnonzero(counts > _MAX_EXTREMA)
+    if yp is not None and x is not None:
+        # (the last, partial window too: pair i lies in window i // _WINDOW)
+        pairs = np.flatnonzero(_inconsistent(x, y, yp)) // _WINDOW
+        if pairs.size:
+            bad = np.union1d(bad, pairs)
+    return bad
+
+
+_TRAPEZOID = 0.5  # f' may disagree with f's differences by this fraction before a resample
+
+
+def _inconsistent(x: np.ndarray, y: np.ndarray, yp: np.ndarray) -> np.ndarray:
+    """Per sample pair (i, i+1): f' contradicts f's difference (aliasing).
+
+    The trapezoid rule on f', h (f'_i + f'_(i+1)) / 2, predicts f_(i+1) - f_i to a relative
+    (h omega)^2 / 12 for an oscillation of angular frequency omega (0.05 at 8 samples per
+    period). An error above half of the change's own scale, |f_(i+1) - f_i| + h (|f'_i| +
+    |f'_(i+1)|) / 2, plus 1e3 eps of |f| for rounding, means f changes faster than the
+    sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
+    non-finite value are left to the other checks.
+    """
+    h = np.diff(x)
+    dy = np.diff(y)
+    avg = 0.5 * h * (yp[:-1] + yp[1:])
+    scale_ = np.abs(dy) + 0.5 * h * (np.abs(yp[:-1]) + np.abs(yp[1:]))
+    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (np.abs(y[:-1]) + np.abs(y[1:]))
+    return np.abs(dy - avg) > allow  # NaN compares False
+
+
+def _sample_grid(
+    g: _Guarded,
+    a: float,
+    b: float,
+    n: int,
+    out: _Candidates,
+    level: int,
+    progress: Callable[[float], None] | None,
+    frac: tuple[float, float],
+    gp: _Guarded | None = None,
+) -> None:
+    """Sample n equally spaced points on [a, b] in chunks and collect candidates.
+
+    With ``gp`` (the derivative check) f' is sampled on the same points (one more
+    vectorised call per chunk): windows where f' contradicts f's differences are
+    resampled like windows with too many extrema, and extrema of f between samples are
+    collected (:func:`_detect_extrema`).
+    """
+    h = (b - a) / (n - 1)
+    start = 0
+    while start < n:
+        g.check()
+        stop = min(n, start + CHUNK)
+        lo_idx, hi_idx = max(start - 1, 0), min(stop + 1, n)
+        idx = np.arange(lo_idx, hi_idx)
+        x = a + idx * h
+        if hi_idx == n:
+            x[-1] = b
+        y = g(x)
+        yp = gp(x) if gp is not None else None
+        out.samples += stop - start
+        if level == 0:
+            finite = np.abs(y[np.isfinite(y)])
+            if finite.size:  # (the median, by partition: np.median's overhead is larger)
+                half = finite.size // 2
+                part = np.partition(finite, (half - 1, half) if finite.size % 2 == 0 else half)
+                out.typical.append(float(part[half] if finite.size % 2
+                                         else 0.5 * (part[half - 1] + part[half])))
+        if start == 0:
+            out.first_defined = not bool(np.isnan(y[0]))
+        if stop == n:
+            out.last_defined = not bool(np.isnan(y[-1]))
+        offset = start - lo_idx
+        windows = _underresolved(y, x, yp) if level < _MAX_LEVEL else np.zeros(0, dtype=int)
+        if len(windows):
+            # resample under-resolved windows finer; detect outside them on this grid
+            spans = []
+            for w in windows:
+                w0, w1 = w * _WINDOW, (w + 1) * _WINDOW + 1
+                if spans and spans[-1][1] >= w0:
+                    spans[-1] = (spans[-1][0], w1)
+                else:
+                    spans.append((w0, w1))
+            cursor = offset
+            for w0, w1 in spans:
+                w0c, w1c = max(w0, offset), min(w1, offset + stop - start + 1, len(x) - 1)
+                if w0c >= w1c:
+                    continue
+                if cursor < w0c:
+                    _detect(x, y, cursor, w0c, out, yp)
+                sub_n = (w1c - w0c) * _RESAMPLE + 1
+                _sample_grid(g, float(x[w0c]), float(x[w1c]), sub_n, out, level + 1, None, frac,
+                             gp)
+                cursor = w1c
+            if cursor < offset + (stop - start):
+                _detect(x, y, cursor, offset + (stop - start), out, yp)
+        else:
+            _detect(x, y, offset, offset + (stop - start), out, yp)
+            if level == _MAX_LEVEL and len(_underresolved(y, x, yp)) > 0:
+                out.unresolved.append((float(x[0]), float(x[-1])))
+        if progress is not None:
+            progress(frac[0] + (frac[1] - frac[0]) * stop / n)
+        start = stop

@@ -1,0 +1,159 @@
+"""solvers.scan, derivative cross-check: f' sampled with f instead of the Chebyshev proxy.
+
+What it must still find (close pairs, touches, aliased oscillations) and what it must still
+refuse (a touch that stops short of zero), plus the choice of check and its one-line errors.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from test_scan_battery import N_CASES, SEED, _make_case, _score
+
+from solvers import parse_equation
+from solvers.scan import scan
+
+
+def complex_step(f):
+    """f' by the complex step, Im f(x + i t) / t with t = 1e-200: exact to rounding for
+    analytic f (W. Squire and G. Trapp, SIAM Review 40 (1998) 110-112)."""
+
+    def fprime(x):
+        x = np.asarray(x, dtype=float)
+        with np.errstate(all="ignore"):
+            return np.imag(f(x + 1e-200j)) / 1e-200
+
+    return fprime
+
+
+def test_default_with_fprime_is_the_derivative_check_and_finds_what_sampling_hides():
+    # invented: a double root at 1.3 and a pair 1e-7 apart at 2.2 (roots of the factored
+    # form, closed form); the plain sample-and-bracket approach misses all but one
+    eq = parse_equation("(x - 1.3)^2*(x - 2.2)*(x - 2.2000001)*exp(-x/4)")
+    result = scan(eq.f, 0.0, 4.0, fprime=eq.fprime)
+    assert result.check == "derivative"
+    assert result.cross_checked == [] and result.chebyshev_roots == []
+    got = [(r.x, r.multiplicity) for r in result.roots]
+    assert len(got) == 3
+    for (x, m), (want, mult) in zip(got, [(1.3, 2), (2.2, 1), (2.2000001, 1)], strict=True):
+        assert x == pytest.approx(want, rel=1e-9) and m == mult
+
+
+@pytest.mark.parametrize("offset", [0.0, 0.3, 0.77])
+def test_close_pair_between_two_samples_is_found(offset):
+    # (x - c)(x - c - 1e-6): both roots inside one sample spacing (4e-3 / 2000 = 2e-3),
+    # f of one sign at every sample; roots by construction (closed form)
+    h = 4.0 / 2000
+    c = 1.0 + (offset + 0.1) * h
+
+    def f(x):
+        return (x - c) * (x - c - 1e-6)
+
+    result = scan(f, 0.0, 4.0, fprime=lambda x: 2 * x - 2 * c - 1e-6, cross_check="derivative")
+    assert [r.x for r in result.roots] == pytest.approx([c, c + 1e-6], rel=1e-12)
+
+
+def test_touch_and_near_miss_with_fprime():
+    c = 2.00031
+    touch = scan(lambda x: (x - c) ** 2, 0.0, 4.0, fprime=lambda x: 2 * (x - c))
+    (root,) = touch.roots
+    assert root.x == pytest.approx(c, rel=1e-12) and root.multiplicity == 2
+    # |f| dips to 1e-20 at c: no root there (a touch that stops short is not one)
+    miss = scan(lambda x: (x - c) ** 2 + 1e-20, 0.0, 4.0, fprime=lambda x: 2 * (x - c))
+    assert miss.roots == []
+
+
+def test_aliased_oscillation_is_resampled_from_fprime():
+    # sin(1e4 x) on [0, 1]: zeros n pi / 1e4, n = 0..3183 (common practice; numpy.pi). The
+    # default grid has 0.8 samples per period; f' contradicts f's differences there
+    result = scan(lambda x: np.sin(1e4 * x), 0.0, 1.0, fprime=lambda x: 1e4 * np.cos(1e4 * x))
+    expected = np.arange(0, 3184) * math.pi / 1e4
+    assert result.check == "derivative"
+    assert len(result.roots) == len(expected)
+    assert np.allclose([r.x for r in result.roots], expected, rtol=1e-12, atol=1e-15)
+
+
+def test_troughs_proved_root_free_cost_no_search():
+    # 1.001 + cos x on [0, 100]: 16 troughs 1e-3 above zero, none a root (common practice).
+    # At the default spacing (0.05) many troughs dip more than 10 % between samples, and
+    # sampling alone searches them (golden section until a convex floor proves each, then
+    # a noise check); the tangent bound proves each from f and f' at the samples, so the
+    # only f calls left are the sampling and the range-end checks
+    calls = []
+
+    def f(x):
+        calls.append(np.size(x))
+        return 1.001 + np.cos(x)
+
+    result = scan(f, 0.0, 100.0, fprime=lambda x: -np.sin(x))
+    assert result.roots == [] and result.poles == [] and result.warnings == []
+    proved = len(calls)
+    calls.clear()
+    assert scan(f, 0.0, 100.0, cross_check=False).roots == []
+    assert proved <= 8 < len(calls)
+
+
+def test_deep_check_with_fprime_runs_the_chebyshev_proxy():
+    result = scan(np.sin, 1.0, 10.0, fprime=np.cos, cross_check="deep")
+    assert result.check == "chebyshev" and result.cross_checked
+    assert [r.x for r in result.roots] == pytest.approx([math.pi, 2 * math.pi, 3 * math.pi],
+                                                        rel=1e-15)
+    assert all(r.located_by == ("sampling", "chebyshev") for r in result.roots)
+    assert scan(np.sin, 1.0, 10.0).check == "chebyshev"  # no f': the proxy by default
+    assert scan(np.sin, 1.0, 10.0, cross_check=False).check == "off"
+
+
+@pytest.mark.parametrize(("kwargs", "words"), [
+    ({"cross_check": "derivative"}, "needs fprime"),
+    ({"cross_check": "sometimes"}, "cross_check must be"),
+    ({"cross_check": None}, "cross_check must be"),
+])
+def test_bad_cross_check_values_are_one_line_errors(kwargs, words):
+    with pytest.raises(ValueError, match=words) as info:
+        scan(np.sin, 1.0, 10.0, **kwargs)
+    assert "\n" not in str(info.value)
+
+
+def test_battery_with_the_derivative_check():
+    # the generated battery of test_scan_battery (roots, poles, jumps known by construction),
+    # f' by the complex step: no miss, no false root, no wrong multiplicity, pole or jump
+    rng = np.random.default_rng(SEED)
+    bad = []
+    for k in range(N_CASES):
+        case = _make_case(rng, k)
+        result = scan(case["f"], case["a"], case["b"], fprime=complex_step(case["f"]))
+        assert result.check == "derivative"
+        score = _score(case, result)
+        if any(score.values()):
+            bad.append((case["kind"], case["a"], case["b"], score))
+    assert bad == []
+
+
+def test_what_64x_finer_sampling_cannot_resolve_is_rescanned():
+    # sin(1/x) on [1e-3, 1]: zeros 1/(n pi), n = 1..318 (common practice; numpy.pi). Near
+    # 1e-3 they are 3e-6 apart, beyond 64x the default density: f' flags those windows, the
+    # stretch is re-scanned with 64x the samples and says so
+    result = scan(lambda x: np.sin(1.0 / x), 1e-3, 1.0, fprime=lambda x: -np.cos(1.0 / x) / x**2)
+    expected = sorted(1.0 / (n * math.pi) for n in range(1, 319))
+    assert len(result.roots) == len(expected)
+    assert np.allclose([r.x for r in result.roots], expected, rtol=1e-12)
+    assert any("re-scanned" in w and "f' contradicts" in w for w in result.warnings)
+
+
+def test_poles_are_not_taken_for_an_unresolved_oscillation():
+    # x tan x = 0.9 on [0, 12] (plane-wall conduction eigenvalues, Bi = 0.9; an invented
+    # Biot number). Across each pole of tan, f' contradicts f's differences as it must:
+    # that is the pole, not an oscillation, so no warning and no re-scan. References:
+    # scipy.optimize.brentq on (k pi, k pi + pi / 2), one root each (numpy.pi)
+    from scipy.optimize import brentq
+
+    eq = parse_equation("x*tan(x) = 0.9")
+    result = scan(eq.f, 0.0, 12.0, fprime=eq.fprime)
+    assert result.check == "derivative" and result.warnings == []
+    poles = [(2 * k + 1) * math.pi / 2 for k in range(4)]
+    assert result.poles == pytest.approx(poles, rel=1e-12)
+    refs = [brentq(eq.f, k * math.pi + 1e-9, k * math.pi + math.pi / 2 - 1e-9, xtol=1e-15)
+            for k in range(4)]
+    assert [r.x for r in result.roots] == pytest.approx(refs, rel=1e-12)
