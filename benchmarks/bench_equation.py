@@ -5,7 +5,11 @@
 * scalar f(x): our compiled f on a Python float against a hand-written math-module function
   (the floor) and against sympy's lambdify-to-numpy called on a float under np.errstate
   (what a plain lambdify user would get with the same never-warn guarantee);
-* array f(x): our f on 100,000 points against lambdify-to-numpy on the same array.
+* array f(x): our f on 100,000 points against lambdify-to-numpy on the same array;
+* bind: ``Equation.bind`` of new parameter values against ``parse_equation`` of the same
+  text with those values (the re-parse it replaces); the ratio parse/bind is printed;
+* rows: f over 100,000 rows of bound parameter arrays (one vectorised call) against a
+  Python loop of scalar binds and calls, per row.
 
 Ratios below 1 mean zerotrace is faster. Run: .venv/bin/python benchmarks/bench_equation.py
 """
@@ -84,6 +88,31 @@ def main() -> None:
     print(f"array f(x), 1e5 points       ours {ours_arr * 1e3:7.2f} ms   "
           f"lambdify numpy {ref_arr * 1e3:7.2f} ms   ratio {ours_arr / ref_arr:5.2f}")
     assert np.allclose(eq.f(x), plain(x), rtol=1e-14)  # same function, or the ratios mean nothing
+
+    # Bind against re-parse: the same text and values, on the same compiled code.
+    other = {"eps": 1.5e-6, "D": 0.2, "Re": 3e5}
+    bind = best_of(lambda: eq.bind(other), number=200)
+    parse = best_of(lambda: parse_equation(COLEBROOK, parameters=other), number=10)
+    assert eq.bind(other).f(0.02) == parse_equation(COLEBROOK, parameters=other).f(0.02)
+    print(f"bind new values              ours {bind * 1e6:7.1f} us   "
+          f"parse_equation {parse * 1e3:7.2f} ms   parse/bind ratio {parse / bind:7.0f}")
+
+    # 1e5 rows of parameter values: one vectorised call against scalar binds row by row.
+    rng = np.random.default_rng(7)
+    rows = {"eps": rng.uniform(1e-6, 1e-4, 100_000), "D": rng.uniform(0.05, 0.5, 100_000),
+            "Re": rng.uniform(4e3, 1e7, 100_000)}
+    table = eq.bind(rows)
+    vector_rows = best_of(lambda: table.f(0.02), number=5)
+    sample = range(0, 100_000, 100)
+
+    def row_loop():
+        for i in sample:
+            eq.bind({k: float(v[i]) for k, v in rows.items()}).f(0.02)
+
+    loop_rows = best_of(row_loop, repeat=3) / len(sample)
+    print(f"f over 1e5 bound rows        ours {vector_rows * 1e3:7.2f} ms (one call)   "
+          f"scalar bind+f per row {loop_rows * 1e6:7.1f} us   "
+          f"ratio per row {vector_rows / 1e5 / loop_rows:7.4f}")
 
 
 if __name__ == "__main__":

@@ -86,9 +86,20 @@ class Solution:
         return agreement(self.runs, self.worksheet.settings.xtol)
 
 
-def equation_of(ws: Worksheet) -> Equation:
-    """Parse the worksheet's equation with its parameters (raises EquationError)."""
-    return parse_equation(ws.equation, unknown=ws.unknown, parameters=ws.parameter_values())
+def equation_of(ws: Worksheet, parsed: Equation | None = None) -> Equation:
+    """The worksheet's equation with its parameter values (raises EquationError).
+
+    With ``parsed`` (an Equation of the same text, e.g. the one the window keeps), the
+    worksheet's values are bound to it: no re-parse, no re-compile. Otherwise, or when the
+    text or the unknown differ, the text is parsed.
+    """
+    values = ws.parameter_values()
+    if parsed is not None and parsed.text == ws.equation:
+        names = parsed.names[1:]
+        same_unknown = ws.unknown in (None, parsed.unknown) and parsed.unknown not in values
+        if same_unknown and all(n in values for n in names):
+            return parsed.bind({n: values[n] for n in names})
+    return parse_equation(ws.equation, unknown=ws.unknown, parameters=values)
 
 
 def _evaluate(f: Callable[[float], float], x: float) -> float:

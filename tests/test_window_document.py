@@ -129,14 +129,12 @@ def test_the_parsed_equation_is_handed_out_only_for_exactly_its_worksheet(doc) -
     # Other text or another unknown: the job must parse.
     assert doc.equation_for(ws.with_changes(equation=PUMP + " + 1")) is None
     assert doc.equation_for(ws.with_changes(unknown="Hs")) is None
-    # Other values: bound late where the equation can bind, else parsed again.
+    # Other values: bound late to the same parse; a value missing: the job must parse.
     changed = ws.with_changes(parameters=(Parameter("Hs", 14.0, ""), Parameter("ks", 95.0, "")))
     bound = doc.equation_for(changed)
-    if hasattr(type(eq), "bind"):
-        expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)
-        assert float(bound.f(q)) == pytest.approx(expected, rel=1e-14)
-    else:
-        assert bound is None
+    expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)
+    assert float(bound.f(q)) == pytest.approx(expected, rel=1e-14)
+    assert doc.equation_for(ws.with_changes(parameters=(Parameter("Hs", 14.0, ""),))) is None
 
 
 def test_a_bad_equation_hands_out_nothing_and_keeps_its_column(doc) -> None:
@@ -157,37 +155,40 @@ def test_the_design_value_is_recorded_and_announced(doc) -> None:
 
 
 def test_a_change_of_values_alone_binds_the_parsed_text_instead_of_parsing(doc, monkeypatch):
-    """The seam for late binding: with an ``Equation.bind``, neither the live reading nor
-    Solve parses again when only a parameter value changed."""
+    """Neither the live reading nor Solve parses again when only a parameter value
+    changed: the values are bound to the parse (Equation.bind)."""
     from solvers import equation as equation_module
 
-    bound: list[dict] = []
-
-    def bind(self, values):  # noqa: ANN001, ANN202 (stands in for solvers' own bind)
-        bound.append(dict(values))
-        return equation_module.parse_equation(self.text, unknown=self.unknown,
-                                              parameters=values)
-
-    monkeypatch.setattr(equation_module.Equation, "bind", bind, raising=False)
     first = analyse(PUMP, "Q", {"Hs": 12.0, "ks": 95.0})
+    parses: list[str] = []
+    bound: list[dict] = []
+    real_parse, real_bind = equation_module.parse_equation, equation_module.Equation.bind
+    monkeypatch.setattr(equation_module, "parse_equation",
+                        lambda text, **kw: parses.append(text) or real_parse(text, **kw))
+    monkeypatch.setattr(equation_module.Equation, "bind",
+                        lambda self, values: bound.append(dict(values)) or real_bind(self, values))
     again = analyse(PUMP, "Q", {"Hs": 14.0, "ks": 95.0}, parsed=first)
-    assert bound == [{"Hs": 14.0, "ks": 95.0}] and again.ok
+    assert again.ok and parses == [] and bound == [{"Hs": 14.0, "ks": 95.0}]
+    q = 0.2
+    expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)  # plain float arithmetic
+    assert float(again.equation.f(q)) == pytest.approx(expected, rel=1e-14)
     other_text = analyse(PUMP + " + 0", "Q", {"Hs": 14.0, "ks": 95.0}, parsed=first)
-    assert len(bound) == 1 and other_text.ok  # new text: parsed, not bound
+    assert parses == [PUMP + " + 0"] and other_text.ok  # new text: parsed, not bound
+    missing = analyse(PUMP, "Q", {"Hs": 14.0, "ks": None}, parsed=first)
+    assert not missing.ok and "ks" in missing.error  # the parser's own words for it
+    parsed_so_far = list(parses)
     doc.set_analysis(first)
     changed = _sheet(parameters=(Parameter("Hs", 14.0, ""), Parameter("ks", 95.0, "")))
     eq = doc.equation_for(changed)
-    q = 0.2
-    expected = (42 - 8.5 * q - 310 * q**2) - (14.0 + 95.0 * q**1.85)  # plain float arithmetic
     assert float(eq.f(q)) == pytest.approx(expected, rel=1e-14)
-    assert len(bound) == 2
+    assert len(bound) == 2 and parses == parsed_so_far
 
 
 # ---------------------------------------------------------------------- in the window
 
 def test_the_window_solves_and_scans_with_the_equation_it_read_while_typing(
         qtbot, window, monkeypatch) -> None:
-    """Solve and Scan take the document's parse; only a new value makes a new one.
+    """Solve and Scan take the document's parse; a new value is bound to it, not parsed.
 
     The roots are checked against numpy.roots of the same quadratic (outside reference).
     """
@@ -195,6 +196,7 @@ def test_the_window_solves_and_scans_with_the_equation_it_read_while_typing(
     from gui_helpers import idle, settle, type_equation
     from PySide6.QtCore import Qt
 
+    from solvers import equation as equation_module
     from solvers import pipeline
 
     type_equation(qtbot, window, "(x - a)*(x - 3.25)")  # invented: roots a and 3.25
@@ -209,8 +211,9 @@ def test_the_window_solves_and_scans_with_the_equation_it_read_while_typing(
     idle(qtbot, window)
     parses: list[str] = []
     real_parse = pipeline.parse_equation
-    monkeypatch.setattr(pipeline, "parse_equation",
-                        lambda text, **kw: parses.append(text) or real_parse(text, **kw))
+    for module in (pipeline, equation_module):  # the jobs' parser and the live reading's
+        monkeypatch.setattr(module, "parse_equation",
+                            lambda text, **kw: parses.append(text) or real_parse(text, **kw))
     parsed = window.analysis.equation
 
     qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
@@ -224,11 +227,12 @@ def test_the_window_solves_and_scans_with_the_equation_it_read_while_typing(
     reference = sorted(np.roots([1.0, -(1.5 + 3.25), 1.5 * 3.25]).real)  # numpy.roots
     assert [r.x for r in window.scan_result.roots] == pytest.approx(reference, abs=1e-12)
 
-    # A new value is a new reading (or a late binding); the old parse is never reused.
+    # A new value is bound to the same parse: a new reading, and still no parse.
     model.setData(model.index(0, 1), "1.75")
     qtbot.waitUntil(lambda: window.analysis.equation is not parsed
                     and window.analysis.equation.parameters == {"a": 1.75}, timeout=10_000)
     idle(qtbot, window)
+    assert parses == []
     assert window.document.stale.scan and not window.roots_view.isEnabled()
     before = window.solution
     qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)

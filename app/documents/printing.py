@@ -177,7 +177,7 @@ def latex_terms(expr: Any, digits: int = 6) -> list[str]:
     """
     if expr is None:
         return []
-    from solvers.equation import _latex  # the typeset form the window shows, same printer
+    from solvers.equation.typeset import latex as _latex  # the typeset form the window shows
 
     short = {c: sp.Float(float(f"{float(c):.{digits}g}")) for c in expr.atoms(sp.Float)}
     if short:

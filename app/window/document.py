@@ -184,11 +184,13 @@ class WorksheetDocument(QObject):
         a = self.analysis
         if a is None or not a.ok or a.text != ws.equation or a.unknown != ws.unknown:
             return None
-        wanted = {n: v for n, v in ws.parameter_values().items() if n in a.names}
-        have = {n: v for n, v in a.equation.parameters.items() if n in a.names}
-        if wanted == have:
+        values = ws.parameter_values()
+        if all(values.get(n) == v for n, v in a.equation.parameters.items()):
             return a.equation
-        return rebind(a.equation, wanted)
+        try:
+            return rebind(a.equation, values)
+        except ValueError:  # no finite value for these values: the job parses and says where
+            return None
 
     # -- results
     def set_solution(self, solution: Any, key: str) -> None:

@@ -109,22 +109,31 @@ def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
     return analysis if dpi is None else typeset(analysis, dpi)
 
 
-def rebind(equation: Any, values: dict[str, float]) -> Any:
-    """``equation`` with new parameter values, or None when that needs a new parse.
+def rebind(equation: Any, values: Mapping[str, float | None]) -> Any:
+    """``equation`` with ``values`` bound late (no parse, no compile), or None when a
+    parameter has no value.
 
-    The one seam for late binding: where the equation can bind values to a parsed
-    text (``Equation.bind``), a change of values costs no parse; otherwise the caller
-    parses again (one parse per text, unknown and values).
+    The one seam between the window and :meth:`solvers.equation.Equation.bind`; raises
+    :class:`solvers.equation.EquationError` as ``bind`` does (a part with no finite
+    real value for these values).
     """
-    bind = getattr(type(equation), "bind", None)  # not every solvers version has it
-    return bind(equation, values) if bind is not None else None
+    names = tuple(equation.parameters)
+    if any(values.get(n) is None for n in names):
+        return None
+    return equation.bind({n: values[n] for n in names})
 
 
 def _bound(parsed: Analysis | None, text: str, unknown: str, given: dict[str, float]) -> Any:
-    """The previous parse of the same text and unknown with ``given`` bound late, or None."""
+    """The previous parse of the same text and unknown with ``given`` bound late, or None
+    (then the text is parsed, which also says where a bad value makes the equation fail)."""
+    from solvers.equation import EquationError
+
     if parsed is None or not parsed.ok or parsed.text != text or parsed.unknown != unknown:
         return None
-    return rebind(parsed.equation, given)
+    try:
+        return rebind(parsed.equation, given)
+    except EquationError:
+        return None
 
 
 def typeset(analysis: Analysis, dpi: float) -> Analysis:

@@ -1,0 +1,501 @@
+"""The public record: an Equation parsed and compiled once, bound late to parameter values.
+
+``parse_equation`` reads the text once with parameters as symbols, differentiates once and
+compiles f(x, *params) and f'(x, *params) once (a :class:`_Core`, shared). An
+:class:`Equation` is that core with parameter values bound: ``Equation.bind(values)``
+gives a new Equation over the same compiled code, with no re-parse and no re-compile.
+Values may be numpy arrays: they broadcast against each other and against x, so f over
+10^5 rows of values is one vectorised call.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from numbers import Real
+from typing import Any
+
+import numpy as np
+import sympy as sp
+
+from solvers.equation import calculus
+from solvers.equation.compile import Code, arguments, bound, floatify_big, hoist
+from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
+from solvers.equation.parser import Check, _is_bad, _Node, read, snippet
+from solvers.equation.typeset import derivative_latex, typeset
+
+_TRIG = ("sin", "cos", "tan")
+
+@dataclass(frozen=True)
+class Remark:
+    """Something the reader of an equation should know, as a code with its subject.
+
+    Codes: "unknown_has_value" (subject: the unknown), "no_derivative" (subject: the
+    reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
+    numbers: the limit passed, if any), "degrees", "radians", "kinks", "no_dependence"
+    (subject: the unknown), "e_notation". app/documents/equation_words.py renders them.
+    """
+
+    code: str
+    subject: str = ""
+    numbers: tuple[float, ...] = ()
+
+
+_LIMITS = {"too_large": (calculus.MAX_DERIVATIVE_NODES,),
+           "kinks_nested": (calculus.MAX_KINK_NESTING,)}
+
+# Transitional: the sentences ``Equation.notes`` gives until every reader renders
+# ``remarks`` through app/documents/equation_words.py (the same words).
+_NO_DERIVATIVE = {
+    "too_large": f"more than {calculus.MAX_DERIVATIVE_NODES} terms",
+    "kinks_nested": f"abs/min/max nested more than {calculus.MAX_KINK_NESTING} deep",
+    "unevaluated": "sympy left it unevaluated",
+    "not_finite": "it is not real or not finite",
+    "too_deep": "expression too deep",
+    "not_handled": "a function not handled",
+    "not_compiled": "it cannot be compiled",
+}
+
+
+@dataclass(frozen=True, eq=False)
+class _Core:
+    """What parse_equation builds once per text and unknown; shared by every binding."""
+
+    text: str
+    unknown: str
+    parameter_names: tuple[str, ...]  # the order of the compiled code's *params
+    symbols: tuple[Any, ...]  # sympy Symbols of the parameters, same order
+    x: Any
+    symbolic_expr: Any
+    symbolic_derivative: Any  # None when no usable symbolic derivative
+    f_code: Code  # f(x, *hoisted): the parts with parameters only are arguments
+    fprime_code: Code | None  # f'(x, *hoisted)
+    checks: tuple[Check, ...]  # parameter-only parts, in parse order
+    n_hoisted: int  # how many parameter-only parts f and f' take as arguments
+    bind_code: Code | None  # (*params) -> [*hoisted values, *check values]
+    sides: tuple[_Node, _Node | None]
+    remarks: tuple[Remark, ...]
+    cache: dict[str, Any] = field(default_factory=dict)
+
+
+@dataclass(frozen=True, eq=False)
+class Equation:
+    """A checked equation ``lhs = rhs`` read as ``f(unknown) = lhs - rhs = 0``.
+
+    ``parameters`` maps each parameter to its value (a float, or a float64 array when
+    bound to rows). ``f`` and ``fprime`` are the compiled code with these values bound:
+    vectorised, real-valued, never raising on domain errors (nan/inf instead). With float
+    values a float x gives a float; with array values the result is an array of the
+    broadcast shape of x and the values. ``fprime`` is None when no usable symbolic
+    derivative exists (``remarks`` says why); Newton then uses a numerical derivative.
+    ``expr`` and ``derivative`` have the values substituted (computed on first use; with
+    array values they keep the parameters as symbols); ``symbolic_expr`` and
+    ``symbolic_derivative`` keep parameters as symbols (what ``latex`` and
+    ``derivative_latex`` show).
+    """
+
+    text: str
+    unknown: str
+    parameters: dict[str, Any]
+    names: tuple[str, ...]
+    f: Callable[[Any], Any] = field(repr=False)
+    fprime: Callable[[Any], Any] | None = field(repr=False)
+    remarks: tuple[Remark, ...] = ()
+    _core: _Core | None = field(default=None, repr=False)
+    _cache: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    def bind(self, values: Mapping[str, Any]) -> Equation:
+        """The same compiled equation with new parameter values (floats or numpy arrays).
+
+        No re-parse, no re-compile: the parameter-only parts are checked on the values
+        (one compiled call) and f, f' are the shared code with the values as arguments.
+        Raises :class:`EquationError` naming a missing name, a name the equation does not
+        have (the unknown included), a value that is not a finite real number (or array of
+        them), or a part with no finite real value for these values.
+        """
+        core = self._core
+        assert core is not None
+        given = _validate_parameters(values)
+        extra = [n for n in given if n not in core.parameter_names]
+        if extra:
+            what = ("is the unknown" if extra[0] == core.unknown
+                    else "does not appear in the equation")
+            raise EquationError(f"'{extra[0]}' {what}: it takes no value here")
+        missing = [n for n in core.parameter_names if n not in given]
+        if missing:
+            raise EquationError("no value for " + ", ".join(f"'{n}'" for n in missing)
+                                + f" (the unknown is '{core.unknown}')")
+        return _bind(core, {n: given[n] for n in core.parameter_names}, core.remarks)
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        """``remarks`` as sentences (transitional; see app/documents/equation_words.py)."""
+        return tuple(_sentence(r) for r in self.remarks)
+
+    @property
+    def symbolic_expr(self) -> Any:
+        return self._core.symbolic_expr if self._core else None
+
+    @property
+    def symbolic_derivative(self) -> Any:
+        """d symbolic_expr / d unknown with parameters as symbols (None if unusable)."""
+        return self._core.symbolic_derivative if self._core else None
+
+    @property
+    def expr(self) -> Any:
+        """The expression with parameter values substituted (sympy)."""
+        if "expr" not in self._cache:
+            self._cache["expr"] = self._substitute(self.symbolic_expr)
+        return self._cache["expr"]
+
+    @property
+    def derivative(self) -> Any:
+        """d expr / d unknown with parameter values substituted; None when fprime is None."""
+        if "derivative" not in self._cache:
+            d = self.symbolic_derivative
+            self._cache["derivative"] = None if d is None else self._substitute(d)
+        return self._cache["derivative"]
+
+    def _substitute(self, expr: Any) -> Any:
+        core = self._core
+        values = {s: sp.Float(v) for s, v in zip(core.symbols, self.parameters.values(),
+                                                 strict=True)
+                  if v.__class__ is float}
+        return floatify_big(expr.xreplace(values)) if values else expr
+
+    @property
+    def latex(self) -> str:
+        """The typeset equation (mathtext-safe LaTeX, no $): ``lhs = rhs`` or ``expr = 0``,
+        in the order typed, parameters by name, ``ln`` for the natural log."""
+        cache = self._core.cache
+        if "latex" not in cache:
+            lhs, rhs = self._core.sides
+            cache["latex"] = typeset(self.text, lhs, rhs)
+        return cache["latex"]
+
+    @property
+    def derivative_latex(self) -> str:
+        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none, or if
+        it is over the typesetting budget (MAX_TYPESET_NODES nodes, MAX_TYPESET_CHARS
+        characters of solvers.equation.typeset): see :attr:`derivative_too_large`."""
+        cache = self._core.cache
+        if "dlatex" not in cache:
+            cache["dlatex"] = derivative_latex(self.symbolic_derivative)
+        return cache["dlatex"]
+
+    @property
+    def derivative_too_large(self) -> bool:
+        """True when there is a symbolic derivative but it is over the typesetting budget."""
+        return self.symbolic_derivative is not None and not self.derivative_latex
+
+    def residual_mp(self, x: Any, dps: int = 50) -> Any:
+        """f(x) in ``dps`` significant digits with mpmath (an ``mpmath.mpf``).
+
+        Uses the same double values of constants and parameters as ``f`` (so it checks
+        the equation that was solved; constant parts are the doubles the parser folded,
+        parts with parameters are evaluated at ``dps`` digits from the parameters'
+        doubles); x may be a float, a string or an mpf. NaN when the
+        value is not real or not defined, or when the parameters are arrays. Meant for
+        checking a root: f should be finite near x.
+        """
+        import mpmath
+
+        core = self._core
+        fn = core.cache.get("mp")
+        if fn is None:  # fixed argument names: no user name in the code
+            args = arguments(1, len(core.symbols))
+            rename = dict(zip((core.x, *core.symbols), args, strict=True))
+            fn = sp.lambdify(args, floatify_big(core.symbolic_expr.xreplace(rename)),
+                             modules="mpmath")
+            core.cache["mp"] = fn
+        values = list(self.parameters.values())
+        if any(v.__class__ is not float for v in values):
+            return mpmath.mpf("nan")
+        with mpmath.workdps(dps):
+            try:
+                r = fn(mpmath.mpf(x), *[mpmath.mpf(v) for v in values])
+            except (ArithmeticError, ValueError):
+                return mpmath.mpf("nan")
+            if isinstance(r, mpmath.mpc):
+                return mpmath.mpf(r.real) if r.imag == 0 else mpmath.mpf("nan")
+            return +mpmath.mpf(r)
+
+
+# ---------------------------------------------------------------------------------------------
+# Parameter values and the checks of parameter-only parts
+# ---------------------------------------------------------------------------------------------
+
+
+def _value(name: str, value: Any) -> Any:
+    """A float, or a float64 array of finite values; EquationError naming ``name`` if not."""
+    if value.__class__ is float:
+        if value - value == 0.0:  # finite (inf - inf and nan - nan are nan)
+            return value
+        raise EquationError(f"parameter {name!r} must be finite, got {value!r}")
+    if isinstance(value, np.ndarray):  # rows of values; a list is refused (type confusion)
+        arr = np.asarray(value)
+        if arr.dtype.kind not in "iuf" or arr.dtype == np.bool_:
+            raise EquationError(f"parameter {name!r} must be real numbers, "
+                                f"got an array of {arr.dtype}")
+        arr = arr.astype(np.float64)
+        if not np.isfinite(arr).all():
+            raise EquationError(f"parameter {name!r} must be finite in every row")
+        return float(arr) if arr.ndim == 0 else arr
+    if isinstance(value, bool) or not isinstance(value, (Real, np.number)) or \
+            isinstance(value, complex | np.complexfloating):
+        raise EquationError(f"parameter {name!r} must be a real number, "
+                            f"got {type(value).__name__}")
+    v = float(value)
+    if not math.isfinite(v):
+        raise EquationError(f"parameter {name!r} must be finite, got {v!r}")
+    return v
+
+
+def _validate_parameters(parameters: Mapping[str, Any] | None) -> dict[str, Any]:
+    if parameters is None:
+        return {}
+    if not isinstance(parameters, Mapping):
+        raise EquationError("parameters must be a mapping of name to number")
+    values: dict[str, Any] = {}
+    for name, value in parameters.items():
+        if not isinstance(name, str):
+            raise EquationError(f"parameter name {name!r} is not a string")
+        if name in CONSTANT_NAMES:
+            # the text's 'pi' or 'deg' is always the constant: a value would be dropped unseen
+            meaning = "pi = 3.14159..." if name == "pi" else "deg = pi/180"
+            raise EquationError(f"parameter '{name}' has the name of the constant {meaning}; "
+                                "give the parameter another name")
+        values[name] = _value(name, value)
+    return values
+
+
+# Each check kind: does it pass on float values, and on array values (every row)?
+_PASSES: dict[str, Callable[..., bool]] = {
+    "value": lambda v: v - v == 0.0,
+    "divisor": lambda v: v != 0.0,
+    "zero_power": lambda b, e: not (b == 0.0 and e < 0.0),
+}
+_ROWS_FAIL: dict[str, Callable[..., Any]] = {
+    "value": lambda v: ~np.isfinite(v),
+    "divisor": lambda v: v == 0.0,
+    "zero_power": lambda b, e: (b == 0.0) & (e < 0.0),
+}
+
+
+def _check_message(check: Check, text: str, values: tuple[Any, ...]) -> str:
+    where = snippet(text, check.start, check.end)
+    if check.kind == "divisor":
+        return "division by zero"
+    if check.kind == "zero_power":
+        return f"'{where}' divides by zero"
+    v = values[0]
+    return f"'{where}' has no real value" if v != v else f"'{where}' overflows double precision"
+
+
+def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> tuple[Any, ...]:
+    """The parameter-only parts f and f' take, computed once for ``values``; raises
+    EquationError at the first checked part that fails on them."""
+    code = core.bind_code
+    if code is None:
+        return ()
+    k = core.n_hoisted
+    if scalar and code._scalar is not False:
+        # the math path pays off from the second binding on: compile it then, not in the parse
+        fn = code._scalar if code._scalar is not None or not core.cache.get("bound") \
+            else code.scalar()
+        core.cache["bound"] = True
+        if fn:
+            try:
+                out = fn(*values)
+                i = k
+                for check in core.checks:
+                    n = len(check.exprs)
+                    if not _PASSES[check.kind](*out[i:i + n]):
+                        break
+                    i += n
+                else:
+                    return tuple(float(v) for v in out[:k])
+            except (ArithmeticError, ValueError, TypeError):
+                pass
+    with np.errstate(all="ignore"):  # numpy scalars: overflow gives inf, not OverflowError
+        out = code.vector(*(np.float64(v) if v.__class__ is float else v for v in values))
+    i = k
+    for check in core.checks:
+        n = len(check.exprs)
+        parts = [np.asarray(v, dtype=np.float64) for v in out[i:i + n]]
+        bad = np.asarray(_ROWS_FAIL[check.kind](*parts))
+        i += n
+        if bad.any():
+            row = int(np.flatnonzero(bad)[0]) if bad.ndim else None
+            first = tuple(np.broadcast_to(p, bad.shape).flat[row] if row is not None
+                          else float(p) for p in parts)
+            message = _check_message(check, core.text, first)
+            err = _fail(core.text, message, check.start)
+            suffix = " (with the given parameter values"
+            suffix += f", row {row})" if row is not None else ")"
+            raise EquationError(f"{err}{suffix}", err.position)
+    if scalar:
+        return tuple(float(v) for v in out[:k])
+    return tuple(np.asarray(v, dtype=np.float64) for v in out[:k])
+
+
+def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...]) -> Equation:
+    args = tuple(values.values())
+    scalar = all(v.__class__ is float for v in args)
+    rows: tuple[int, ...] = ()
+    if not scalar:
+        try:
+            rows = np.broadcast_shapes(*(np.shape(v) for v in args))
+        except ValueError:
+            shapes = ", ".join(f"{n} {np.shape(v)}" for n, v in values.items()
+                               if v.__class__ is not float)
+            raise EquationError(f"parameter rows do not broadcast together: {shapes}") from None
+    hoisted = _run_checks(core, args, scalar)
+    return Equation(
+        text=core.text,
+        unknown=core.unknown,
+        parameters=values,
+        names=(core.unknown, *core.parameter_names),
+        f=bound(core.f_code, hoisted, rows),
+        fprime=None if core.fprime_code is None else bound(core.fprime_code, hoisted, rows),
+        remarks=remarks,
+        _core=core,
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# Parsing
+# ---------------------------------------------------------------------------------------------
+
+
+def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[str, Any],
+                    first_pos: Mapping[str, int], remarks: list[Remark]) -> str:
+    if not names:
+        raise EquationError("the equation has no unknown (it contains no names)", None)
+    if unknown is None:
+        open_names = [n for n in names if n not in values]
+        if len(open_names) == 1:
+            return open_names[0]
+        if not open_names:
+            raise EquationError("no unknown: every name has a value ("
+                                + ", ".join(names) + "); say which one to solve for", None)
+        hint = ""
+        if "e" in open_names:
+            hint = " ('e' is an ordinary name; write exp(...) for the exponential)"
+        raise _fail(text, "cannot tell the unknown: " + ", ".join(
+            f"'{n}'" for n in open_names) + " have no value; name the unknown or give "
+            "values for the others" + hint, None)
+    if not isinstance(unknown, str):
+        raise EquationError(f"the unknown must be a name, got {type(unknown).__name__}")
+    if unknown not in names:
+        raise EquationError(f"the unknown '{unknown}' does not appear in the equation "
+                            "(names: " + ", ".join(names) + ")", None)
+    if unknown in values:
+        remarks.append(Remark("unknown_has_value", unknown))
+    missing = [n for n in names if n != unknown and n not in values]
+    if missing:
+        raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
+                    + f" (the unknown is '{unknown}')", first_pos[missing[0]])
+    return unknown
+
+
+def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: str) -> _Core:
+    """Differentiate and compile once, with the parameters as arguments."""
+    names = [n for n in parser.names if n != unknown]
+    x = sp.Symbol(unknown, real=True)
+    symbols = tuple(sp.Symbol(n, real=True) for n in names)
+    symbolic = floatify_big(lhs.expr if rhs is None else lhs.expr - rhs.expr)
+    if not isinstance(symbolic, sp.Basic) or _is_bad(symbolic):
+        raise EquationError("part of the equation has no finite real value", None)
+    # Parts with parameters only are computed once per binding and passed to f and f' as
+    # arguments (_h0, _h1, ...), so f costs what it cost when values were folded in.
+    table: dict[Any, Any] = {}
+    unknowns = frozenset((x,))
+    remarks: list[Remark] = []
+    f_expr = hoist(symbolic, unknowns, table)
+    derivative, why = calculus.derivative(symbolic, x)
+    d_expr = None if derivative is None else hoist(derivative, unknowns, table)
+    hoisted = list(table.values())
+    try:
+        f_code = Code([f_expr], [x], hoisted)
+    except Exception as err:  # noqa: BLE001 - say so in one line rather than a traceback
+        raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
+                            None) from None
+    fprime_code = None
+    if d_expr is not None:
+        try:
+            fprime_code = Code([d_expr], [x], hoisted)
+        except Exception:  # noqa: BLE001 - Newton can still differentiate numerically
+            derivative, why = None, "not_compiled"
+    if why is not None:
+        remarks.append(Remark("no_derivative", why, _LIMITS.get(why, ())))
+    checks = tuple(c for c in parser.checks if unknown not in c.names)
+    bind_code = None
+    if table or checks:
+        try:
+            bind_code = Code([*table, *(e for c in checks for e in c.exprs)], [], symbols,
+                             many=True)
+        except Exception as err:  # noqa: BLE001 - one line rather than a traceback
+            raise EquationError(f"the equation cannot be compiled ({type(err).__name__})",
+                                None) from None
+    remarks.extend(_remarks(parser, parser.names, unknown, symbolic, x, text))
+    return _Core(text=text, unknown=unknown, parameter_names=tuple(names), symbols=symbols,
+                 x=x, symbolic_expr=symbolic, symbolic_derivative=derivative, f_code=f_code,
+                 fprime_code=fprime_code, checks=checks, n_hoisted=len(table),
+                 bind_code=bind_code,
+                 sides=(lhs, rhs), remarks=tuple(remarks))
+
+
+def parse_equation(text: str, unknown: str | None = None,
+                   parameters: Mapping[str, Any] | None = None) -> Equation:
+    """Read, check and compile an equation; see :mod:`solvers.equation` for the syntax.
+
+    ``parameters`` maps names to numbers or numpy arrays (entries the text does not use
+    are ignored; arrays broadcast); ``unknown`` is the name to solve for, inferred when
+    exactly one name in the text has no value. Raises :class:`EquationError` (one line,
+    with ``.position`` where it applies) for anything it cannot use, including a part
+    with no finite real value for the given values; never evaluates user text as code.
+    The result's :meth:`Equation.bind` gives other values without parsing again.
+    """
+    values = _validate_parameters(parameters)
+    parser, lhs, rhs = read(text)
+    remarks: list[Remark] = []
+    unknown = _choose_unknown(text, parser.names, unknown, values, parser.first_pos, remarks)
+    core = _build_core(text, parser, lhs, rhs, unknown)
+    used = {n: values[n] for n in core.parameter_names}
+    return _bind(core, used, tuple(remarks) + core.remarks)
+
+
+def _remarks(parser: Any, names: list[str], unknown: str, expr: Any, x: Any,
+             text: str) -> list[Remark]:
+    remarks = []
+    if "deg" in parser.used:
+        remarks.append(Remark("degrees"))
+    if parser.used.intersection(_TRIG) and "deg" not in parser.used:
+        remarks.append(Remark("radians"))
+    if parser.used.intersection({"abs", "min", "max"}):
+        remarks.append(Remark("kinks"))
+    if x not in expr.free_symbols:
+        remarks.append(Remark("no_dependence", unknown))
+    if any(n in ("e", "E") for n in names) and re.search(r"[0-9.][eE][+-]?[0-9]", text):
+        remarks.append(Remark("e_notation"))
+    return remarks
+
+
+_NOTE_TEXT: dict[str, Callable[[Remark], str]] = {
+    "unknown_has_value": lambda r: f"'{r.subject}' is the unknown: its parameter value is "
+                                   "not used",
+    "no_derivative": lambda r: f"no symbolic derivative ({_NO_DERIVATIVE[r.subject]}): "
+                               "Newton uses a numerical one",
+    "degrees": lambda r: "deg = pi/180: angles in degrees become radians",
+    "radians": lambda r: "sin, cos and tan take radians (multiply by deg for degrees)",
+    "kinks": lambda r: "abs/min/max have a kink: the derivative there uses sign/step values",
+    "no_dependence": lambda r: f"the equation does not depend on '{r.subject}' once simplified",
+    "e_notation": lambda r: "numbers such as 2e3 are read as 2000, not as 2*e*3",
+}
+
+
+def _sentence(remark: Remark) -> str:
+    return _NOTE_TEXT[remark.code](remark)

@@ -1,0 +1,263 @@
+"""The typeset form: LaTeX strings for matplotlib's mathtext (pure string building).
+
+The equation's LaTeX is built straight from the tokens (after the checked parse has
+accepted them), in the order typed (``2^{10}``, ``\\pi``, ``\\mathrm{deg}``, ``\\ln``),
+mathtext-safe and linear in the text. Derivatives are printed by sympy's LaTeX printer
+restricted to what mathtext renders. Whether mathtext really renders a string is checked
+in the app (app.documents.typesetting.mathtext): the core never imports matplotlib.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import sympy as sp
+from sympy.printing.latex import LatexPrinter
+
+from solvers.equation.calculus import _node_count
+from solvers.equation.compile import floatify_big
+from solvers.equation.lexer import _Token, tokenize
+
+# Typesetting budget: LaTeX longer than this is not typeset (mathtext takes ~0.4 s per
+# 1,000 characters and the result is unreadable on a strip or a page anyway), and a
+# derivative of more nodes than this is not even printed to LaTeX. Callers show "too
+# large to typeset" instead.
+MAX_TYPESET_CHARS = 2_000
+MAX_TYPESET_NODES = 1_500
+
+
+class _MathtextLatexPrinter(LatexPrinter):
+    """sympy LaTeX restricted to what matplotlib's mathtext renders."""
+
+    def _named(self, name: str, expr: Any, exp: Any) -> str:
+        args = ", ".join(self._print(a) for a in expr.args)
+        tex = name + r"\left(" + args + r"\right)"
+        return tex if exp is None else r"\left(" + tex + r"\right)^{" + str(exp) + "}"
+
+    def _print_log10(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\log_{10}", expr, exp)
+
+    def _print_log2(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\log_{2}", expr, exp)
+
+    def _print_Heaviside(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\mathrm{H}", expr, exp)
+
+    def _print_sign(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\mathrm{sgn}", expr, exp)
+
+    def _print_atan2(self, expr: Any, exp: Any = None) -> str:
+        return self._named(r"\mathrm{atan2}", expr, exp)
+
+    def _print_Float(self, expr: Any) -> str:
+        # Constants are doubles here: print the shortest text that reads back as the same
+        # double (2.0 as 2, 0.1 as 0.1), not sympy's 15 digits.
+        try:
+            v = float(expr)
+        except OverflowError:
+            return super()._print_Float(expr)
+        if not math.isfinite(v):
+            return super()._print_Float(expr)
+        if v == int(v) and abs(v) < 1e15:
+            return str(int(v))
+        text = repr(v)
+        if "e" in text:
+            mantissa, exponent = text.split("e")
+            return mantissa + r" \cdot 10^{" + str(int(exponent)) + "}"
+        return text
+
+
+_LATEX_SETTINGS = {"ln_notation": True}  # a printer per call: printers keep state while printing
+
+
+def latex(expr: Any) -> str:
+    """sympy LaTeX of ``expr``, restricted to what matplotlib's mathtext renders."""
+    # The printer asks sign questions of every exponent (is it negative? is it constant?)
+    # to decide what goes under a fraction bar; with real symbols, exp(-exp(-...(x)))
+    # answers them by simplifying, which took time exponential in the depth (133 s for 14
+    # levels). The same names without assumptions print the same text and answer at once.
+    plain = {s: sp.Symbol(s.name) for s in getattr(expr, "free_symbols", ())
+             if isinstance(s, sp.Symbol) and s.assumptions0}
+    if plain:
+        expr = expr.xreplace(plain)
+    printer = _MathtextLatexPrinter(_LATEX_SETTINGS)
+    try:
+        tex = printer.doprint(expr)
+    except ValueError:  # an integer too long for str(): show it as a float
+        tex = printer.doprint(floatify_big(expr))
+    # mathtext has no \operatorname in older matplotlib; \mathrm looks the same.
+    return tex.replace(r"\operatorname{", r"\mathrm{")
+
+
+# The typeset form is built as a string straight from the tokens (after the checked parse
+# has accepted them), in the order typed: linear in the text, and nothing for sympy's
+# printer to simplify or to slow down on (its printing of unevaluated nested trees can be
+# exponential).
+_SUM, _NEG, _PROD, _FRAC, _POW, _ATOM = range(6)
+
+_TEX_FUNCTIONS = {
+    "ln": r"\ln", "log10": r"\log_{10}", "log2": r"\log_{2}", "sin": r"\sin", "cos": r"\cos",
+    "tan": r"\tan", "asin": r"\arcsin", "acos": r"\arccos", "atan": r"\arctan",
+    "sinh": r"\sinh", "cosh": r"\cosh", "tanh": r"\tanh", "asinh": r"\mathrm{asinh}",
+    "acosh": r"\mathrm{acosh}", "atanh": r"\mathrm{atanh}", "atan2": r"\mathrm{atan2}",
+    "min": r"\min", "max": r"\max",
+}
+
+
+@dataclass(frozen=True)
+class _Tex:
+    tex: str
+    prec: int
+    number: bool = False  # a bare number (a product writes \cdot before it)
+
+
+def _paren(node: _Tex, below: int) -> str:
+    return rf"\left({node.tex}\right)" if node.prec < below else node.tex
+
+
+class _Typesetter:
+    """Recursive descent over tokens the checked parse accepted, producing LaTeX."""
+
+    def __init__(self, tokens: list[_Token]):
+        self.tokens = tokens
+        self.i = 0
+        self.symbols: dict[str, str] = {}
+
+    @property
+    def tok(self) -> _Token:
+        return self.tokens[self.i]
+
+    def advance(self) -> _Token:
+        self.i += 1
+        return self.tokens[self.i - 1]
+
+    def equation(self) -> str:
+        lhs = self.sum().tex
+        if self.tok.text == "=":
+            self.advance()
+            return f"{lhs} = {self.sum().tex}"
+        return f"{lhs} = 0"
+
+    def sum(self) -> _Tex:
+        first = self.product()
+        parts = [first.tex]
+        while self.tok.text in ("+", "-"):
+            op = self.advance().text
+            parts.append(f"{op} {_paren(self.product(), _PROD)}")
+        return first if len(parts) == 1 else _Tex(" ".join(parts), _SUM)
+
+    def product(self) -> _Tex:
+        top, bottom = [self.signed()], []
+        while self.tok.text in ("*", "/"):
+            (top if self.advance().text == "*" else bottom).append(self.signed())
+        if len(top) == 1 and not bottom:
+            return top[0]
+        negative = top[0].prec == _NEG and bool(bottom)
+        if negative:  # -a/b is typeset as - a/b, the sign before the fraction
+            top[0] = _Tex(top[0].tex[2:], top[0].prec + 1)
+        numerator = self.juxtapose(top)
+        if not bottom:
+            return _Tex(numerator, _PROD)
+        tex = rf"\frac{{{numerator}}}{{{self.juxtapose(bottom)}}}"
+        return _Tex("- " + tex, _NEG) if negative else _Tex(tex, _FRAC)
+
+    @staticmethod
+    def juxtapose(factors: list[_Tex]) -> str:
+        tex = _paren(factors[0], _NEG) if len(factors) > 1 else factors[0].tex
+        for f in factors[1:]:
+            tex += (r" \cdot " if f.number or f.tex[:1].isdigit() else " ") + _paren(f, _FRAC)
+        return tex
+
+    def signed(self) -> _Tex:
+        if self.tok.text in ("+", "-"):
+            op = self.advance().text
+            inner = self.signed()
+            return inner if op == "+" else _Tex("- " + _paren(inner, _PROD), _NEG)
+        return self.power()
+
+    def power(self) -> _Tex:
+        base = self.primary()
+        if self.tok.text not in ("^", "**"):
+            return base
+        self.advance()
+        exponent = self.signed()
+        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW)
+
+    def primary(self) -> _Tex:
+        t = self.advance()
+        if t.kind == "num":
+            number = _Tex(_tex_number(t.text), _ATOM, number=True)
+            nxt = self.tok
+            if nxt.pos == t.end and (nxt.kind == "name" or nxt.text == "("):
+                rest = self.power()
+                joint = r" \cdot " if rest.tex[:1].isdigit() else " "
+                return _Tex(number.tex + joint + _paren(rest, _FRAC), _PROD)
+            return number
+        if t.text == "(":
+            inner = self.sum()
+            self.advance()  # ')'
+            return inner
+        if self.tok.text == "(":  # a function call
+            self.advance()
+            args = []
+            while self.tok.text != ")":
+                args.append(self.sum().tex)
+                if self.tok.text == ",":
+                    self.advance()
+            self.advance()  # ')'
+            return self.call(t.text, args)
+        if t.text == "pi":
+            return _Tex(r"\pi", _ATOM)
+        if t.text == "deg":
+            return _Tex(r"\mathrm{deg}", _ATOM)
+        tex = self.symbols.get(t.text)
+        if tex is None:
+            tex = self.symbols[t.text] = latex(sp.Symbol(t.text))
+        return _Tex(tex, _ATOM)
+
+    @staticmethod
+    def call(name: str, args: list[str]) -> _Tex:
+        joined = ", ".join(args)
+        if name == "sqrt":
+            return _Tex(rf"\sqrt{{{joined}}}", _ATOM)
+        if name == "exp":
+            return _Tex(rf"e^{{{joined}}}", _POW)
+        if name == "abs":
+            return _Tex(rf"\left|{joined}\right|", _ATOM)
+        return _Tex(rf"{_TEX_FUNCTIONS[name]}\left({joined}\right)", _ATOM)
+
+
+def _tex_number(text: str) -> str:
+    mantissa, _, exponent = text.lower().partition("e")
+    if not exponent:
+        return text
+    power = rf"10^{{{int(exponent)}}}"
+    return power if mantissa in ("1", "1.", "1.0") else rf"{mantissa} \cdot {power}"
+
+
+def typeset(text: str, lhs: Any, rhs: Any | None) -> str:
+    """LaTeX of the equation in the order it was typed (parameters by name); if that
+    cannot be built, sympy's printing of the checked expression."""
+    try:
+        return _Typesetter(tokenize(text)).equation()
+    except Exception:  # noqa: BLE001 - cosmetic path: fall back to the checked expression
+        sides = [lhs] if rhs is None else [lhs, rhs]
+        tex = [latex(side.expr) for side in sides]
+        return " = ".join(tex) + (" = 0" if len(tex) == 1 else "")
+
+
+
+def derivative_latex(d: Any) -> str:
+    """LaTeX (mathtext-safe) of a derivative, parameters by name; '' for None, or when it
+    is over the typesetting budget (MAX_TYPESET_NODES nodes, MAX_TYPESET_CHARS characters).
+
+    Constants folded while differentiating (1/3.7 -> 0.27027027027027) are shown to six
+    significant figures: the typeset form is for reading; f' itself is exact.
+    """
+    if d is None or _node_count(d, MAX_TYPESET_NODES) > MAX_TYPESET_NODES:
+        return ""
+    short = {c: sp.Float(float(f"{float(c):.6g}")) for c in d.atoms(sp.Float)}
+    tex = latex(d.xreplace(short) if short else d)
+    return tex if len(tex) <= MAX_TYPESET_CHARS else ""
