@@ -43,12 +43,26 @@ class _Parser(argparse.ArgumentParser):
     def format_help(self) -> str:
         if self.epilog is None and " " not in self.prog:  # the top-level parser's epilog
             self.epilog = caution()
+        for action in self._actions:  # the registry is read on first use (it loads sympy)
+            if action.help == _METHOD_HELP:
+                action.help = _method_help()
         return super().format_help()
 
     def error(self, message: str) -> NoReturn:
         if message.startswith("unrecognized arguments: -"):
             message += " (an equation that looks like an option goes after '--')"
         raise InputError(f"{self.prog}: {message}")
+
+
+_METHOD_HELP = "METHODS"  # placeholder: format_help lists the registry's methods
+
+
+def _method_help() -> str:
+    from app.documents.worksheet import DEFAULT_METHODS, METHOD_NAMES
+
+    every, default = (", ".join(m.replace("_", "-") for m in names)
+                      for names in (METHOD_NAMES, DEFAULT_METHODS))
+    return f"{every}; repeat for several (default: {default})"
 
 
 def _method_name(text: str) -> str:
@@ -181,8 +195,7 @@ def _build_parser() -> _Parser:
         type=_method_name,
         default=[],
         metavar="M",
-        help="newton, secant, false-position, illinois, bisection, brent; repeat for several "
-        "(default: newton, secant, false-position)",
+        help=_METHOD_HELP,
     )
     solve.add_argument("--x0", type=_finite, metavar="V", help="initial guess")
     solve.add_argument("--x1", type=_finite, metavar="V", help="second point for the secant")

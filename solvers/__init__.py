@@ -6,14 +6,16 @@ Never imports Qt. Every front end (CLI, window, report, tests) calls these funct
 from solvers.equation import Equation, EquationError, parse_equation
 from solvers.methods import (
     METHODS,
+    MethodSpec,
     bisection,
     brent,
     false_position,
     illinois,
     newton,
+    run_method,
     secant,
 )
-from solvers.result import REASONS, Run, Step, observed_order
+from solvers.records import REASONS, Run, Step, observed_order
 from solvers.scan import Root, Scan, ScanCancelled, scan
 
 __all__ = [
@@ -21,6 +23,7 @@ __all__ = [
     "REASONS",
     "Equation",
     "EquationError",
+    "MethodSpec",
     "Root",
     "Run",
     "Scan",
@@ -33,6 +36,7 @@ __all__ = [
     "newton",
     "observed_order",
     "parse_equation",
+    "run_method",
     "scan",
     "secant",
 ]

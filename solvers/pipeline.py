@@ -18,14 +18,14 @@ raises :class:`solvers.equation.EquationError` or :class:`ValueError` with one l
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
 
 from solvers.equation import Equation, parse_equation
-from solvers.methods import METHODS
-from solvers.result import NO_SIGN_CHANGE, Detail, Run
+from solvers.methods import METHODS, method_spec, run_method
+from solvers.records import NO_SIGN_CHANGE, Detail, Run
 from solvers.scan import Scan, scan
 from solvers.worksheet import Settings, Worksheet
 
@@ -145,7 +145,10 @@ class SeedScan:
     least: float | None
 
 
-def seed_scan(f: Callable, a: float, b: float, samples: int = SEED_SAMPLES) -> SeedScan:
+def seed_scan(
+    f: Callable[[np.ndarray], np.ndarray | float], a: float, b: float,
+    samples: int = SEED_SAMPLES,
+) -> SeedScan:
     """Sample f on [a, b] and keep every cell where it changes sign through a root.
 
     A sign change across a pole or a jump is not kept: at the estimate inside the cell
@@ -264,10 +267,6 @@ def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues
     return StartValues(x0=float(x0), x1=float(x1), bracket=bracket, choices=tuple(choices))
 
 
-def _tolerances(s: Settings) -> dict[str, float | int]:
-    return {"xtol": s.xtol, "rtol": s.rtol, "ftol": s.ftol, "max_iter": s.max_iter}
-
-
 def _no_bracket_run(name: str) -> Run:
     return Run(
         method=name,
@@ -276,37 +275,37 @@ def _no_bracket_run(name: str) -> Run:
         reason=NO_SIGN_CHANGE,
         iterations=0,
         evaluations=0,
-        steps=[],
         detail=Detail("no_bracket"),
     )
 
 
-# How each kind of method is started: kind -> (equation, start values, settings) -> kwargs.
-_ARGUMENTS: dict[str, Callable[[Equation, StartValues, Settings], dict]] = {
-    "open": lambda eq, sv, s: {
-        "x0": sv.x0,
-        "fprime": eq.fprime,
-        "damping": s.damping,
-        "derivative_source": "symbolic" if eq.fprime is not None else "numerical",
-    },
-    "two_point": lambda eq, sv, s: {"x0": sv.x0, "x1": sv.x1},
-    "bracket": lambda eq, sv, s: {"a": sv.bracket[0], "b": sv.bracket[1]},
-}
-
-
 def run_methods(equation: Equation, sv: StartValues, settings: Settings) -> tuple[Run, ...]:
-    """Run each of ``settings.methods`` on the equation from the resolved start values."""
+    """Run each of ``settings.methods`` on the equation from the resolved start values.
+
+    Every method goes through :func:`solvers.methods.run_method`, the one dispatcher; a
+    bracketing method with no bracket to start from gets a ``no_sign_change`` run with
+    detail ``no_bracket`` (a result, not an error). Raises ValueError for an unknown
+    method name.
+    """
     runs: list[Run] = []
-    tol = _tolerances(settings)
     for name in settings.methods:
-        spec = METHODS.get(name)
-        if spec is None:
-            raise ValueError(f"unknown method {name!r}; choose from {', '.join(METHODS)}")
-        if spec.kind == "bracket" and sv.bracket is None:
+        if "bracket" in method_spec(name).needs and sv.bracket is None:
             runs.append(_no_bracket_run(name))
             continue
-        kwargs = _ARGUMENTS[spec.kind](equation, sv, settings)
-        runs.append(spec.function(equation.f, **kwargs, **tol))
+        runs.append(run_method(
+            name,
+            equation.f,
+            fprime=equation.fprime,
+            x0=sv.x0,
+            x1=sv.x1,
+            bracket=sv.bracket,
+            damping=settings.damping,
+            derivative_source="symbolic" if equation.fprime is not None else "numerical",
+            xtol=settings.xtol,
+            rtol=settings.rtol,
+            ftol=settings.ftol,
+            max_iter=settings.max_iter,
+        ))
     return tuple(runs)
 
 
@@ -334,7 +333,7 @@ class Agreement:
         return len(self.groups) > 1
 
 
-def agreement(runs: tuple[Run, ...] | list[Run], xtol: float = 0.0) -> Agreement:
+def agreement(runs: Sequence[Run], xtol: float = 0.0) -> Agreement:
     """Group the converged runs by root and count the figures they share.
 
     Two roots belong to one group when they differ by at most ``DIFFERENT_ROOTS``
@@ -367,7 +366,7 @@ def _digits(roots: list[float]) -> int:
     return max(0, min(15, math.floor(-math.log10(spread / scale))))
 
 
-def agreement_digits(runs: tuple[Run, ...] | list[Run], xtol: float = 0.0) -> int | None:
+def agreement_digits(runs: Sequence[Run], xtol: float = 0.0) -> int | None:
     """Significant figures on which all converged runs agree.
 
     None if fewer than two converged, or if they converged to different roots (see
@@ -379,7 +378,30 @@ def agreement_digits(runs: tuple[Run, ...] | list[Run], xtol: float = 0.0) -> in
 
 
 def solve(ws: Worksheet, equation: Equation | None = None) -> Solution:
-    """Parse (unless given) and run every method of the worksheet side by side."""
+    """Parse (unless given) and run every method of the worksheet side by side.
+
+    Parameters
+    ----------
+    ws : Worksheet
+        The equation, its parameters, the methods and their settings (tolerances in
+        the units of the unknown and of f).
+    equation : Equation, optional
+        The worksheet's equation already parsed; parsed from ``ws`` when None.
+
+    Returns
+    -------
+    Solution
+        The runs in the worksheet's method order, the start values and how each was
+        chosen, and the figures on which the converged roots agree. A method that
+        fails gives a run with its reason, never an exception.
+
+    Raises
+    ------
+    EquationError
+        When the equation does not parse (one line, with the position).
+    ValueError
+        For a method name that is not in :data:`solvers.methods.METHODS`.
+    """
     eq = equation if equation is not None else equation_of(ws)
     sv = start_values(ws, eq)
     runs = run_methods(eq, sv, ws.settings)

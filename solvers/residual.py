@@ -38,10 +38,15 @@ from __future__ import annotations
 import math
 import sys
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Any
+from types import FrameType
+from typing import TYPE_CHECKING, Protocol, TypeVar
 
-__all__ = ["CODES", "DEFAULT_BUDGET", "DEFAULT_DIGITS", "Residual", "residual_mp"]
+if TYPE_CHECKING:
+    from mpmath import mpf
+
+__all__ = ["CODES", "DEFAULT_BUDGET", "DEFAULT_DIGITS", "HighPrecision", "Residual", "residual_mp"]
 
 COMPUTED = "computed"
 NO_FINITE_ROOT = "no_finite_root"
@@ -68,8 +73,17 @@ _DOUBLE_RANGE_BITS = 1024
 class Residual:
     """f(x) at high precision (``value``, an ``mpmath.mpf``) or None, with a code."""
 
-    value: Any
+    value: mpf | None
     code: str
+
+
+class HighPrecision(Protocol):
+    """What :func:`residual_mp` evaluates: :class:`solvers.equation.Equation` is one."""
+
+    def residual_mp(self, x: float, *, dps: int) -> mpf: ...
+
+
+_T = TypeVar("_T")
 
 
 class _OverBudget(Exception):
@@ -77,7 +91,11 @@ class _OverBudget(Exception):
 
 
 def residual_mp(
-    equation: Any, x: float, *, digits: int = DEFAULT_DIGITS, budget: float = DEFAULT_BUDGET
+    equation: HighPrecision,
+    x: float,
+    *,
+    digits: int = DEFAULT_DIGITS,
+    budget: float = DEFAULT_BUDGET,
 ) -> Residual:
     """f(x) with ``digits`` significant digits by ``equation.residual_mp``; never raises.
 
@@ -117,7 +135,7 @@ def residual_mp(
     return _classify(value, digits)
 
 
-def _classify(value: Any, digits: int) -> Residual:
+def _classify(value: object, digits: int) -> Residual:
     import mpmath
 
     try:
@@ -134,7 +152,7 @@ def _classify(value: Any, digits: int) -> Residual:
         return Residual(None, NOT_REAL)
 
 
-def _within_budget(evaluate: Any, budget: float) -> Any:
+def _within_budget(evaluate: Callable[[], _T], budget: float) -> _T:
     """Call ``evaluate()``, raising _OverBudget at a function call after ``budget`` s.
 
     A call-event trace function (no per-line tracing, so the cost is small) on this
@@ -143,7 +161,7 @@ def _within_budget(evaluate: Any, budget: float) -> Any:
     deadline = time.monotonic() + max(0.0, float(budget))
     previous = sys.gettrace()
 
-    def tracer(frame: Any, event: str, arg: Any) -> None:
+    def tracer(frame: FrameType, event: str, arg: object) -> None:
         if event == "call" and time.monotonic() > deadline:
             raise _OverBudget
         return None

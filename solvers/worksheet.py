@@ -9,7 +9,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from typing import Any
 
-METHOD_NAMES = ("newton", "secant", "false_position", "illinois", "bisection", "brent")
+from solvers.methods import METHODS
+
+METHOD_NAMES: tuple[str, ...] = tuple(METHODS)  # the registry's keys, in its order
 DEFAULT_METHODS = ("newton", "secant", "false_position")
 
 

@@ -32,7 +32,7 @@ from solvers.methods import (
     false_position,
     illinois,
 )
-from solvers.result import REASONS
+from solvers.records import REASONS
 
 CASES = get_tests("aps")
 FLAT = "aps.13.00"

@@ -32,8 +32,8 @@ from solvers.methods import (
     run_method,
     secant,
 )
+from solvers.records import CONVERGED_REASONS, REASONS
 from solvers.residual import CODES, Residual, residual_mp
-from solvers.result import CONVERGED_REASONS, REASONS
 
 BRACKETING = (bisection, false_position, illinois, brent)
 

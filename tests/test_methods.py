@@ -40,7 +40,7 @@ from solvers.methods import (
     run_method,
     secant,
 )
-from solvers.result import REASONS, Run
+from solvers.records import REASONS, Run
 
 BRACKETING = (bisection, false_position, illinois, brent)
 

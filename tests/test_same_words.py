@@ -117,11 +117,11 @@ def test_every_code_the_core_records_has_words():
     app.documents.words (a code without words would reach the user as a bare code)."""
     import re
 
-    from solvers.result import REASONS
+    from solvers.records import REASONS
 
     root = Path(__file__).resolve().parents[1] / "solvers"
-    source = "\n".join((root / name).read_text("utf-8")
-                       for name in ("methods.py", "pipeline.py", "result.py"))
+    files = [*sorted((root / "methods").glob("*.py")), root / "pipeline.py", root / "records.py"]
+    source = "\n".join(path.read_text("utf-8") for path in files)
     details = set(re.findall(r'Detail\(\s*"(\w+)"', source))
     details |= {f"{what}_small" for what in re.findall(r'_step_detail\(\s*"(\w+)"', source)}
     starts = set(re.findall(r'StartChoice\(\s*"(\w+)"', source))

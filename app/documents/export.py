@@ -27,7 +27,7 @@ from typing import IO, Any
 
 from app.documents.files import write_atomic
 from app.documents.words import CAUTION, run_message, start_notes
-from solvers.result import Run
+from solvers.records import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
 ROOT_COLUMNS = ("kind", "x", "residual", "multiplicity", "confirmed", "located_by")

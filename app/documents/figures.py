@@ -30,7 +30,7 @@ import numpy as np
 
 # method_label and method_title are the words module's, re-exported for the drawing callers.
 from app.documents.words import method_label, method_title  # noqa: F401
-from solvers.result import Run
+from solvers.records import Run
 
 # matplotlib is not thread-safe: its mathtext parser and font objects are shared, and two
 # threads rendering at once raised spurious parse errors and corrupted the heap. Every

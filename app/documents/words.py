@@ -140,7 +140,7 @@ def method_names(methods: Iterable[str]) -> str:
 
 # ----------------------------------------------------------------- stop reasons
 
-# One line for each value of Run.reason (solvers.result.REASONS).
+# One line for each value of Run.reason (solvers.records.REASONS).
 REASON_TEXT: dict[str, str] = {
     "x_tolerance": "step below tolerance |dx| <= xtol + rtol*|x|",
     "f_tolerance": "residual below tolerance |f| <= ftol",
@@ -164,7 +164,7 @@ def _underflow(v: Sequence[Any]) -> str:
             "beside it): not a confirmed root")
 
 
-# Words for each solvers.result.Detail code, from its values (see solvers.methods).
+# Words for each solvers.records.Detail code, from its values (see solvers.methods).
 DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
     "raised": lambda v: f"{v[0]} raised {v[1]} at x = {exact(v[2])}",
     "many_values": lambda v: f"{v[0]} returned {v[1]} values at x = {exact(v[2])}, not one",
@@ -212,7 +212,7 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
 
 
 def detail_text(detail: Any) -> str:
-    """Words for a :class:`solvers.result.Detail` ('' for None, the code if unknown)."""
+    """Words for a :class:`solvers.records.Detail` ('' for None, the code if unknown)."""
     if detail is None:
         return ""
     words = DETAIL_TEXT.get(detail.code)

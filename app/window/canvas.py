@@ -34,7 +34,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents import figures
-from solvers.result import Run
+from solvers.records import Run
 
 HINT = ("Shift+click: x0   Shift+right-click: x1   Shift+drag: bracket [a, b]   "
         "(zoom box and pan on the bar above)")

@@ -22,7 +22,7 @@ from app.documents.figures import method_color
 from app.documents.words import method_label, method_title
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
-from solvers.result import Run
+from solvers.records import Run
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
 LANE_WIDTH = 380  # pixels: room for the summary and five number columns at 5 figures

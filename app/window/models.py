@@ -17,7 +17,7 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelInd
 from PySide6.QtGui import QBrush, QColor, QFont, QFontDatabase
 
 from app.documents import words
-from solvers.result import Run, Step
+from solvers.records import Run, Step
 
 Index = QModelIndex | QPersistentModelIndex
 INVALID_BACKGROUND = QColor("#FBE3D6")  # pale vermillion: reads as "attention" without red/green

@@ -12,7 +12,7 @@ import math
 import numpy as np
 
 from solvers.methods import brent
-from solvers.result import Run
+from solvers.records import Run
 from solvers.scan.records import EPS, _Found
 from solvers.scan.sampling import _Guarded
 

@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from solvers.result import Run
+from solvers.records import Run
 
 EPS = float(np.finfo(float).eps)
 

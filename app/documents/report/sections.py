@@ -55,7 +55,7 @@ from app.documents.report.typeset import (
 )
 from app.documents.words import CAUTION, NUMERICAL_DERIVATIVE_NOTE
 from app.documents.worksheet import Worksheet
-from solvers.result import Run
+from solvers.records import Run
 
 # ------------------------------------------------------------------- sections
 
@@ -241,7 +241,7 @@ def _settings_section(c: _Context) -> list[Flowable]:
 def _method_kinds(methods: Sequence[str]) -> set[str]:
     from solvers.methods import METHODS
 
-    return {getattr(METHODS.get(m), "kind", "") for m in methods}
+    return {METHODS[m].kind for m in methods if m in METHODS}
 
 
 def _results_section(c: _Context) -> list[Flowable]:

@@ -31,7 +31,7 @@ from app.documents.report.layout import (
     _text,
 )
 from app.documents.words import RESIDUAL_WORDS
-from solvers.result import Run
+from solvers.records import Run
 
 
 def _relative_last_step(run: Run) -> str:

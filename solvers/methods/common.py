@@ -1,0 +1,350 @@
+"""What every method shares: default tolerances, the counting evaluator of f, the checks
+of settings, the stop details, the zero and closed-bracket verdicts and the numerical
+derivative.
+
+The conventions they implement are described in :mod:`solvers.methods`.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import operator
+import sys
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+
+from solvers.records import (
+    CONVERGED_REASONS,
+    DISCONTINUITY,
+    EXACT_ZERO,
+    NOT_FINITE,
+    X_TOLERANCE,
+    Detail,
+    Run,
+    Setting,
+    Step,
+)
+
+EPS = sys.float_info.epsilon
+DEFAULT_XTOL = 1e-12
+DEFAULT_RTOL = 4 * EPS
+DEFAULT_FTOL = 0.0
+DEFAULT_MAX_ITER = 100
+
+# Central-difference step h = eps**(1/3) * max(|x|, s): eps**(1/3) balances the
+# O(h^2) truncation error against the O(eps/h) rounding error (the factor scipy's
+# approx_derivative uses for its 3-point rule). The step is relative to x because
+# the truncation error of power laws, logarithms and square roots scales with x (an
+# SI molar volume of 1e-4 m3/mol needs h ~ 1e-9, not 6e-6), floored at s = |x0|/1000
+# (s = 1 when x0 = 0) so that iterates approaching a root at zero keep a usable step.
+DERIVATIVE_STEP = EPS ** (1.0 / 3.0)
+DERIVATIVE_FLOOR = 1e-3
+
+# f(x) in the units of f; numpy scalars and 0-d arrays are converted, anything else
+# (a complex value, a list, an exception) is recorded in the run.
+Function = Callable[[float], float]
+
+# --------------------------------------------------------------------------- helpers
+
+
+class _Evaluator:
+    """Calls f, counts the calls and turns every misbehaviour into NaN with a note.
+
+    ``fault`` holds a :class:`Detail` of the last call's failure (an exception or a
+    complex value), or None when the call returned a real number.
+    """
+
+    __slots__ = ("f", "calls", "fault", "name")
+
+    def __init__(self, f: Function, name: str = "f") -> None:
+        self.f = f
+        self.calls = 0
+        self.fault: Detail | None = None
+        self.name = name
+
+    def __call__(self, x: float) -> float:
+        self.calls += 1
+        self.fault = None
+        try:
+            y = self.f(x)
+        except Exception as exc:  # f is the user's: any failure is a result, not a crash
+            self.fault = Detail("raised", (self.name, type(exc).__name__, x))
+            return math.nan
+        if type(y) is float:
+            return y
+        return self._convert(y, x)
+
+    def _convert(self, y: Any, x: float) -> float:
+        try:
+            if isinstance(y, (float, int, np.floating, np.integer)):
+                return float(y)  # an int too large for a double raises OverflowError
+            arr = np.asarray(y)
+            if arr.size != 1:
+                self.fault = Detail("many_values", (self.name, int(arr.size), x))
+                return math.nan
+            value = arr.reshape(()).item()
+            if isinstance(value, complex):
+                if value.imag != 0.0:
+                    self.fault = Detail("complex", (self.name, value.real, value.imag, x))
+                    return math.nan
+                return float(value.real)
+            if isinstance(value, (float, int)):
+                return float(value)
+        except Exception as exc:
+            self.fault = Detail("unusable", (self.name, type(exc).__name__, x))
+            return math.nan
+        self.fault = Detail("not_a_number", (self.name, type(y).__name__, x))
+        return math.nan
+
+
+def _check_settings(xtol: float, rtol: float, ftol: float, max_iter: int) -> dict[str, Setting]:
+    """Validate the stopping rules; a bad setting is the caller's error (ValueError)."""
+    values = {"xtol": xtol, "rtol": rtol, "ftol": ftol}
+    checked: dict[str, Setting] = {}
+    for name, value in values.items():
+        try:
+            number = float(value)
+        except (TypeError, ValueError):
+            raise ValueError(f"{name} must be a number, got {value!r}") from None
+        if not (number >= 0.0) or math.isinf(number):
+            raise ValueError(f"{name} must be finite and >= 0, got {value!r}")
+        checked[name] = number
+    if isinstance(max_iter, bool):
+        raise ValueError(f"max_iter must be a whole number >= 0, got {max_iter!r}")
+    try:
+        cap = operator.index(max_iter)
+    except TypeError:
+        if isinstance(max_iter, float) and max_iter.is_integer():
+            cap = int(max_iter)
+        else:
+            raise ValueError(f"max_iter must be a whole number >= 0, got {max_iter!r}") from None
+    if cap < 0:
+        raise ValueError(f"max_iter must be a whole number >= 0, got {max_iter!r}")
+    checked["max_iter"] = cap
+    return checked
+
+
+def _start_value(value: Any, name: str) -> float:
+    """A start value as a float; NaN and infinities pass (the run records them)."""
+    try:
+        return float(value)
+    except (TypeError, ValueError, OverflowError):
+        raise ValueError(f"{name} must be a number, got {value!r}") from None
+
+
+def _quiet(method: Callable[..., Run]) -> Callable[..., Run]:
+    """Run a method with numpy's floating-point warnings switched off (they become results)."""
+
+    @functools.wraps(method)
+    def wrapper(*args: Any, **kwargs: Any) -> Run:
+        with np.errstate(all="ignore"):
+            return method(*args, **kwargs)
+
+    return wrapper
+
+
+def _finish(
+    method: str,
+    reason: str,
+    root: float,
+    steps: list[Step],
+    iterations: int,
+    evaluations: int,
+    settings: dict[str, Setting],
+    detail: Detail | None = None,
+    derivative: str | None = None,
+    note: Detail | None = None,
+) -> Run:
+    if reason == X_TOLERANCE and "bracket" in settings:
+        pole = _pole_detail(root, steps)
+        if pole is not None:
+            reason, detail = NOT_FINITE, pole
+    return Run(
+        method=method,
+        root=float(root),
+        converged=reason in CONVERGED_REASONS,
+        reason=reason,
+        iterations=iterations,
+        evaluations=evaluations,
+        steps=steps,
+        settings=settings,
+        derivative=derivative,
+        detail=detail,
+        note=note,
+    )
+
+
+def _pole_detail(root: float, steps: list[Step]) -> Detail | None:
+    """Why a bracket that closed on ``root`` holds a pole, not a root (None for a root).
+
+    A continuous f that changes sign has |f| at the closed bracket's better end at most
+    |f'| times the tolerance: far below |f| at the starting ends. If instead |f| there
+    exceeds both starting ends, f grew without bound as the bracket shrank, so the sign
+    change is a pole (tan at pi/2, 1/(x - c)); calling it a root would be wrong.
+    """
+    if len(steps) < 2:
+        return None
+    ends = max(abs(steps[0].fx), abs(steps[1].fx))
+    at_root = next((abs(s.fx) for s in reversed(steps) if s.x == root), None)
+    if at_root is None or not at_root > ends:
+        return None
+    return Detail("pole", (ends, at_root, root))
+
+
+def _last_finite(steps: list[Step]) -> float:
+    """The last iterate with finite x and f(x): the root reported by a failed run."""
+    for step in reversed(steps):
+        if math.isfinite(step.x) and math.isfinite(step.fx):
+            return step.x
+    return math.nan
+
+
+def _not_finite_detail(ev: _Evaluator, x: float, fx: float) -> Detail:
+    return ev.fault or Detail("f_value", (fx, x))
+
+
+def _step_detail(what: str, size: float, xtol: float, rtol: float, x: float) -> Detail:
+    """``what`` is "step" (|dx|) or "width" (a bracket's): the size and the tolerance."""
+    return Detail(f"{what}_small", (size, xtol + rtol * abs(x)))
+
+
+def _same_sign(u: float, v: float) -> bool:
+    return (u > 0.0) == (v > 0.0)
+
+
+# The smallest positive double: the size given to a bracket end or iterate whose f
+# underflowed to 0 (see _zero_is_root), so that it keeps a sign without pretending
+# to have a size.
+_TINY = 5e-324
+
+
+def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None) -> bool:
+    """Whether f(x) == 0.0 is a zero of f, not a value that underflowed to 0.
+
+    A double 0.0 from f is also what a sum of terms below ~1e-308 gives (exp(-x) -
+    2*exp(-2*x) is 0.0 at x = 800; its root is ln 2). From f alone the two differ in
+    what f does beside x: at an isolated zero f is non-zero at x +- tol (a simple root
+    changes sign there, a double root touches), while underflow leaves f exactly 0 over
+    a stretch far wider than any tolerance. So f is evaluated at x + tol and x - tol
+    (calls counted) and the zero counts as a root unless f is 0.0 at either. A NaN
+    neighbour (x at the edge of f's domain, sqrt at 0) is no evidence either way, but
+    one neighbour must be finite and non-zero. Both sides are needed: x can sit at the
+    very edge of a stretch of underflow (f*1e-314 has one 4e-11 wide around its root),
+    with one neighbour outside it.
+
+    ``toward`` (a bracketing method's farther bracket end) is the side tried first: a
+    method closing in on a stretch of underflow from inside it comes from that side, so
+    that call usually settles it alone.
+    """
+    step = max(tol, 2.0 * math.ulp(x), sys.float_info.min)
+    first = step if toward is None or toward >= x else -step
+    finite = False
+    for side in (x + first, x - first):
+        value = ev(side)
+        if value == 0.0:
+            return False
+        finite = finite or math.isfinite(value)
+    return finite
+
+
+def _zero_verdict(
+    ev: _Evaluator, x: float, xtol: float, rtol: float
+) -> tuple[str, Detail | None]:
+    """(reason, detail) for f(x) == 0.0 in an open method: a root, or underflow."""
+    if _zero_is_root(ev, x, xtol + rtol * abs(x)):
+        return EXACT_ZERO, None
+    return NOT_FINITE, Detail("underflow", (x,))
+
+
+# Continuity check of a bracket that closed (see _closed_bracket_reason).
+_PROBE_REACH = 2.0**20  # probes this many bracket widths out: still local to the root
+_PROBE_GROWTH = 1.5  # |f| must grow at least this much there for a root
+
+
+def _closed_bracket_reason(
+    ev: _Evaluator,
+    settings: dict[str, Setting],
+    lo: float,
+    flo: float,
+    hi: float,
+    fhi: float,
+    steps: list[Step],
+    underflowed: set[float],
+) -> tuple[str, Detail | None]:
+    """Whether a bracket [lo, hi] that shrank below tolerance holds a root or a jump.
+
+    Returns ``(X_TOLERANCE, None)`` for a root, ``(DISCONTINUITY, detail)`` for a jump
+    and ``(NOT_FINITE, detail)`` when an end's value underflowed to 0 (f cannot tell
+    where in the underflow the sign changes). A pole is left to :func:`_pole_detail`
+    (its |f| grows as the bracket closes).
+
+    Near a root f shrinks with the distance: |f| ~ C*d**p, for a power p > 0. Beside a
+    jump |f| stays at the height of the jump however small the bracket. So, with
+    ``near`` the smaller |f| at the closed ends and ``w`` the width:
+
+    1. at no cost, the points already evaluated: if one at distance d >= 2w from the
+       closed bracket has ``near <= |f| * sqrt(w/d)``, |f| fell at least as fast as the
+       square root of the distance (p >= 1/2), and the bracket holds a root. Beside a
+       jump of height J with slope s this needs (J + s*d)*sqrt(w/d) >= J: d >= J**2/(s**2*w),
+       beyond any point for a jump that stands out of the slope over the tolerance.
+    2. otherwise f is evaluated ``2**20`` widths out (inside the starting bracket), one
+       side and then the other: if |f| grew there by 1.5 or more (any p >= 0.03, so even
+       x**(1/19) passes) the bracket holds a root; if it did not on either side, a jump
+       (``discontinuity``).
+    """
+    for x in (lo, hi):
+        if x in underflowed:
+            return NOT_FINITE, Detail("underflow_stretch", (x,))
+    if _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps):
+        return X_TOLERANCE, None  # _finish reports the pole
+    near = min(abs(flo), abs(fhi))
+    width = hi - lo
+    for step in steps:
+        distance = max(lo - step.x, step.x - hi)
+        if distance >= 2.0 * width and math.isfinite(step.fx) and step.x not in underflowed:
+            if near <= abs(step.fx) * math.sqrt(width / distance):
+                return X_TOLERANCE, None
+    a, b = sorted(settings["bracket"])
+    reach = _PROBE_REACH * width
+    for end, fend, probe in ((lo, flo, max(a, lo - reach)), (hi, fhi, min(b, hi + reach))):
+        if probe == end:
+            continue
+        fprobe = ev(probe)
+        if math.isfinite(fprobe) and fprobe != 0.0 and _same_sign(fprobe, fend):
+            if abs(fprobe) >= _PROBE_GROWTH * abs(fend):
+                return X_TOLERANCE, None
+    return DISCONTINUITY, Detail("jump", (flo, fhi, lo, hi, width, reach))
+
+
+
+def _central_difference(ev: _Evaluator, x: float, fx: float, scale: float) -> float:
+    """f'(x) by a central difference, shrinking the step near the edge of f's domain.
+
+    Step h = eps**(1/3)*max(|x|, scale). If f is not finite on one side (x near the edge
+    of its domain, e.g. sqrt near 0), a central difference with h/1000 is tried (its
+    rounding error, ~1e-8 relative, is still small); failing that, the one-sided
+    difference at the first h that had a finite side (smaller steps would be swamped
+    by rounding). Returns NaN when no usable difference exists. Every call of f
+    counts in ``ev.calls``.
+    """
+    h = DERIVATIVE_STEP * max(abs(x), scale)
+    one_sided = math.nan
+    for _ in range(2):
+        xp = x + h
+        xm = x - h
+        fp = ev(xp)
+        fm = ev(xm)
+        fp_ok = math.isfinite(fp)
+        fm_ok = math.isfinite(fm)
+        if fp_ok and fm_ok:
+            return (fp - fm) / (xp - xm)
+        if math.isnan(one_sided):
+            if fp_ok:
+                one_sided = (fp - fx) / (xp - x)
+            elif fm_ok:
+                one_sided = (fx - fm) / (x - xm)
+        h *= 1e-3
+    return one_sided
