@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from app.documents import figures
+from app.documents import plotdata
 from app.documents.worksheet import Worksheet
 
 
@@ -44,7 +44,7 @@ def solve_job(ws: Worksheet, equation: Any, scan: Any) -> tuple[Any, tuple[float
 
     solution = pipeline.solve(ws, equation)
     a, b = plot_range(ws, solution)
-    return solution, (a, b), figures.curve(solution.equation.f, a, b, breaks=_breaks(scan))
+    return solution, (a, b), plotdata.curve(solution.equation.f, a, b, breaks=_breaks(scan))
 
 
 def polish_job(ws: Worksheet, equation: Any, x: float,
@@ -54,7 +54,7 @@ def polish_job(ws: Worksheet, equation: Any, x: float,
     solution = pipeline.polish(ws, x, equation)
     a, b = plot_range(ws, solution)
     breaks = list(scan.poles) if scan is not None else []
-    return solution, (a, b), figures.curve(solution.equation.f, a, b, breaks=breaks)
+    return solution, (a, b), plotdata.curve(solution.equation.f, a, b, breaks=breaks)
 
 
 def scan_job(ws: Worksheet, equation: Any, progress: Any, cancel: Any) -> tuple[Any, Any, Any]:
@@ -63,4 +63,4 @@ def scan_job(ws: Worksheet, equation: Any, progress: Any, cancel: Any) -> tuple[
     if equation is None:
         equation = pipeline.equation_of(ws)
     scan = pipeline.scan_worksheet(ws, equation, progress=progress, cancel=cancel)
-    return scan, equation, figures.curve(equation.f, scan.a, scan.b, breaks=_breaks(scan))
+    return scan, equation, plotdata.curve(equation.f, scan.a, scan.b, breaks=_breaks(scan))
