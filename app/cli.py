@@ -314,7 +314,7 @@ def _print_solution(solution, *, steps: bool, figures: int | None = None) -> Non
     print(f"equation: {solution.worksheet.equation}")
     params = ", ".join(f"{k} = {_g(v)}" for k, v in eq.parameters.items())
     print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
-    from app.documents.equation_words import remarks_text
+    from app.documents.words import remarks_text
 
     for note in (*remarks_text(getattr(eq, "remarks", ())), *words.start_notes(solution.start)):
         print(f"note:     {note}")

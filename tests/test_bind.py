@@ -243,7 +243,7 @@ def test_bind_checks_parts_with_parameters_only_like_a_parse():
     ],
 )
 def test_remarks_are_codes_and_the_app_words_match_the_notes(text, kwargs):
-    from app.documents.equation_words import remarks_text
+    from app.documents.words import remarks_text
 
     eq = parse_equation(text, **kwargs)
     assert eq.remarks and all(r.code.isidentifier() for r in eq.remarks)

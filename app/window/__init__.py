@@ -4,7 +4,12 @@
 QApplication, shows the window with a bundled sample (or the worksheet named in argv)
 and runs the event loop. Modules:
 
-* ``main_window``  MainWindow and main(): menus, file handling, wiring of panels to solvers/
+* ``main_window``  MainWindow and main(): composes the regions, wires panels and jobs
+* ``document``  WorksheetDocument: worksheet, file, parsed equation, results, staleness
+* ``file_actions``  open, save, recent, samples, CSV/PDF exports, recovery
+* ``actions``   the actions, shortcuts and menus, as tables
+* ``jobs``      solve, polish and scan jobs run off the UI thread
+* ``roots``     roots list, scan summary and progress, design value
 * ``equation_strip``  editor, typeset equation and derivative, unknown, status line
 * ``inputs``    parameters table, start values, stopping rules, Solve / Scan range
 * ``canvas``    embedded matplotlib plots (function with method path; convergence)

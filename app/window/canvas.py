@@ -478,8 +478,8 @@ class PlotPanel(QTabWidget):
         run = next((r for r in self._runs if r.method == method), None)
         a, b = self._range
         scan = self._scan
-        poles = list(getattr(scan, "poles", []) or []) if scan is not None else []
-        jumps = list(getattr(scan, "discontinuities", []) or []) if scan is not None else []
+        poles = list(scan.poles) if scan is not None else []
+        jumps = list(scan.discontinuities) if scan is not None else []
         try:
             c = self._curve if self._curve is not None else figures.curve(
                 self._f, a, b, breaks=poles + jumps)

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import io
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from PySide6.QtCore import Qt, QTimer, Signal
@@ -96,14 +96,44 @@ def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str
 
 
 def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
-            previous: str | None = None, *, dpi: float | None = None) -> Analysis:
+            previous: str | None = None, *, dpi: float | None = None,
+            parsed: Analysis | None = None) -> Analysis:
     """Parse ``text`` for the strip (called in a worker thread; never raises for bad text).
 
     With ``dpi`` the typeset forms are also rendered (PNG at that resolution), so the UI
-    thread does no typesetting.
+    thread does no typesetting. ``parsed`` is the previous reading: when it is of the
+    same text and unknown, only the parameter values are bound again (:func:`rebind`)
+    where the equation supports that, instead of a new parse.
     """
-    analysis = _analyse(text, chosen, values, previous)
+    analysis = _analyse(text, chosen, values, previous, parsed)
     return analysis if dpi is None else typeset(analysis, dpi)
+
+
+def rebind(equation: Any, values: Mapping[str, float | None]) -> Any:
+    """``equation`` with ``values`` bound late (no parse, no compile), or None when a
+    parameter has no value.
+
+    The one seam between the window and :meth:`solvers.equation.Equation.bind`; raises
+    :class:`solvers.equation.EquationError` as ``bind`` does (a part with no finite
+    real value for these values).
+    """
+    names = tuple(equation.parameters)
+    if any(values.get(n) is None for n in names):
+        return None
+    return equation.bind({n: values[n] for n in names})
+
+
+def _bound(parsed: Analysis | None, text: str, unknown: str, given: dict[str, float]) -> Any:
+    """The previous parse of the same text and unknown with ``given`` bound late, or None
+    (then the text is parsed, which also says where a bad value makes the equation fail)."""
+    from solvers.equation import EquationError
+
+    if parsed is None or not parsed.ok or parsed.text != text or parsed.unknown != unknown:
+        return None
+    try:
+        return rebind(parsed.equation, given)
+    except EquationError:
+        return None
 
 
 def typeset(analysis: Analysis, dpi: float) -> Analysis:
@@ -117,14 +147,14 @@ def typeset(analysis: Analysis, dpi: float) -> Analysis:
     if analysis.derivative_latex:
         derivative_png = render_png(
             f"{derivative_heading(u)} = {analysis.derivative_latex}", dpi=dpi)
-    elif getattr(analysis.equation, "derivative_too_large", False):
+    elif analysis.equation is not None and analysis.equation.derivative_too_large:
         note = TOO_LARGE_DERIVATIVE
     return replace(analysis, equation_png=render_png(analysis.latex, dpi=dpi),
                    derivative_png=derivative_png, derivative_note=note, typeset_dpi=dpi)
 
 
 def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
-             previous: str | None) -> Analysis:
+             previous: str | None, parsed: Analysis | None) -> Analysis:
     from solvers.equation import EquationError, free_names, parse_equation
 
     if not text.strip():
@@ -142,7 +172,8 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
     base = {"text": text, "names": names, "unknown": unknown, "candidates": names,
             "ambiguous": ambiguous, "missing": missing}
     try:
-        equation = parse_equation(text, unknown=unknown, parameters=given)
+        equation = _bound(parsed, text, unknown, given) or parse_equation(
+            text, unknown=unknown, parameters=given)
     except EquationError as exc:
         latex = derivative = ""
         if missing:
@@ -153,17 +184,27 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
                         derivative_latex=derivative)
     except Exception as exc:  # the parser's own bug must not take the window down
         return Analysis(**base, error=f"could not read the equation ({type(exc).__name__})")
-    notes = tuple(getattr(equation, "notes", ()) or ())
-    return Analysis(**base, equation=equation, notes=notes,
-                    latex=getattr(equation, "latex", ""),
+    return Analysis(**base, equation=equation, notes=tuple(equation.notes),
+                    latex=equation.latex,
                     derivative_latex=_derivative_latex(equation))
 
 
+def name_bad_values(analysis: Analysis, parameters: Any) -> Analysis:
+    """Say "P: 'abc' is not a finite number" instead of "no value for P" when P has a
+    value typed that is not a number (the parser only knows it got none)."""
+    bad = [row.problem for row in parameters.rows()
+           if row.name in analysis.missing and row.text.strip() and row.problem]
+    if not bad or analysis.ok:
+        return analysis
+    return replace(analysis, error="; ".join(bad) + " (in the parameters table)",
+                   position=None)
+
+
 def _derivative_latex(equation: Any) -> str:
-    if getattr(equation, "fprime", None) is None:
+    if equation.fprime is None:
         return ""
     try:
-        return getattr(equation, "derivative_latex", "") or ""
+        return equation.derivative_latex
     except Exception:  # a derivative too large to typeset: leave it out of the preview
         return ""
 
@@ -179,7 +220,7 @@ def _typeset_only(text: str, unknown: str, given: Mapping[str, float],
             eq = parse_equation(text, unknown=unknown, parameters=trial)
         except Exception:
             continue
-        return getattr(eq, "latex", ""), _derivative_latex(eq)
+        return eq.latex, _derivative_latex(eq)
     return "", ""
 
 
@@ -203,16 +244,6 @@ def render_png(latex: str, *, dpi: float = 110, color: str = "#111111") -> bytes
     return buffer.getvalue()
 
 
-def render_math(latex: str, *, dpi: float = 110, color: str = "#111111") -> QPixmap | None:
-    """Typeset ``latex`` into a pixmap (UI thread); None when mathtext cannot."""
-    png = render_png(latex, dpi=dpi, color=color)
-    if png is None:
-        return None
-    pixmap = QPixmap()
-    pixmap.loadFromData(png, "PNG")
-    return pixmap
-
-
 class _MathLabel(QScrollArea):
     """A typeset formula that scrolls sideways when it is wider than the strip."""
 
@@ -228,10 +259,6 @@ class _MathLabel(QScrollArea):
         self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.setFixedHeight(52)
         self.setFocusPolicy(Qt.FocusPolicy.NoFocus)
-
-    def show_latex(self, latex: str, fallback: str) -> None:
-        ratio = self.devicePixelRatioF() or 1.0
-        self.show_png(render_png(latex, dpi=TYPESET_DPI * ratio), fallback)
 
     def show_png(self, png: bytes | None, fallback: str, tooltip: str | None = None) -> None:
         """Show a typeset form rendered elsewhere (``fallback`` text when there is none)."""
@@ -302,11 +329,13 @@ class EquationStrip(QWidget):
     """Editor, typeset equation and derivative, unknown chooser and status line.
 
     Signals: ``text_settled(str)`` after the user stops typing for DEBOUNCE_MS,
-    ``unknown_chosen(str)`` ('' for automatic) when the user picks the unknown.
+    ``unknown_chosen(str)`` ('' for automatic) when the user picks the unknown,
+    ``text_edited()`` at once on every change of the text.
     """
 
     text_settled = Signal(str)
     unknown_chosen = Signal(str)
+    text_edited = Signal()  # every change of the text (blocked with the strip while loading)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -368,8 +397,8 @@ class EquationStrip(QWidget):
         self._timer.setInterval(DEBOUNCE_MS)
         self._timer.timeout.connect(lambda: self.text_settled.emit(self.text()))
         self.editor.textChanged.connect(self._timer.start)
+        self.editor.textChanged.connect(self.text_edited)
         self.unknown_box.activated.connect(self._on_unknown_activated)
-        self._filling = False
         self.analysis: Analysis | None = None
 
     # -- reading and writing the text
@@ -384,20 +413,17 @@ class EquationStrip(QWidget):
         data = self.unknown_box.currentData()
         return data or None
 
+    # ``activated`` comes only from the user, never from filling the box in code, so
+    # refilling it needs no guard.
     def set_chosen_unknown(self, name: str | None) -> None:
-        self._filling = True
-        try:
-            self.unknown_box.clear()
-            self.unknown_box.addItem(AUTO, "")
-            if name:
-                self.unknown_box.addItem(name, name)
-                self.unknown_box.setCurrentIndex(1)
-        finally:
-            self._filling = False
+        self.unknown_box.clear()
+        self.unknown_box.addItem(AUTO, "")
+        if name:
+            self.unknown_box.addItem(name, name)
+            self.unknown_box.setCurrentIndex(1)
 
     def _on_unknown_activated(self, _index: int) -> None:
-        if not self._filling:
-            self.unknown_chosen.emit(self.unknown_box.currentData() or "")
+        self.unknown_chosen.emit(self.unknown_box.currentData() or "")
 
     # -- showing an analysis
     def show_analysis(self, analysis: Analysis) -> None:
@@ -455,20 +481,16 @@ class EquationStrip(QWidget):
         self.status.setStyleSheet("color: #1F5F3F;" if ok else "color: #8A2B00; font-weight: bold;")
 
     def _fill_unknowns(self, analysis: Analysis) -> None:
-        self._filling = True
-        try:
-            chosen = self.chosen_unknown()
-            self.unknown_box.clear()
-            self.unknown_box.addItem(
-                AUTO if not analysis.unknown or chosen else f"{AUTO}: {analysis.unknown}", "")
-            for name in analysis.candidates:
-                self.unknown_box.addItem(name, name)
-            if chosen and chosen in analysis.candidates:
-                self.unknown_box.setCurrentIndex(self.unknown_box.findData(chosen))
-            else:
-                self.unknown_box.setCurrentIndex(0)
-        finally:
-            self._filling = False
+        chosen = self.chosen_unknown()
+        self.unknown_box.clear()
+        self.unknown_box.addItem(
+            AUTO if not analysis.unknown or chosen else f"{AUTO}: {analysis.unknown}", "")
+        for name in analysis.candidates:
+            self.unknown_box.addItem(name, name)
+        if chosen and chosen in analysis.candidates:
+            self.unknown_box.setCurrentIndex(self.unknown_box.findData(chosen))
+        else:
+            self.unknown_box.setCurrentIndex(0)
 
     def _highlight(self, position: int | None) -> None:
         """Mark the offending character (or the end of the text) with a wavy vermillion line."""

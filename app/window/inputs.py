@@ -12,7 +12,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import QSignalBlocker, Qt, Signal
 from PySide6.QtWidgets import (
     QAbstractItemDelegate,
     QAbstractItemView,
@@ -309,7 +309,6 @@ class InputsPanel(QWidget):
         self.parameters.edited.connect(self._on_changed)
         for field in self.fields.values():
             field.textChanged.connect(self._on_changed)
-        self._loading = False
         self.show_settings(Settings(), None)
 
     def commit_edits(self) -> None:
@@ -339,8 +338,7 @@ class InputsPanel(QWidget):
 
     def _on_changed(self) -> None:
         self.show_problems()
-        if not self._loading:
-            self.changed.emit()
+        self.changed.emit()
 
     def show_problems(self) -> None:
         """List every problem under the actions (the list scrolls past four lines)."""
@@ -353,14 +351,14 @@ class InputsPanel(QWidget):
         return tuple(name for name, box in self.method_boxes.items() if box.isChecked())
 
     def _on_methods(self) -> None:
-        if not self._loading:
-            self.methods_changed.emit(self.methods())
+        self.methods_changed.emit(self.methods())
         self._on_changed()
 
     # -- worksheet <-> fields
     def show_settings(self, settings: Settings, scan: tuple[float, float] | None) -> None:
-        self._loading = True
-        try:
+        """Fill the fields from a worksheet: no ``changed`` or ``methods_changed`` (the
+        panel's own signals are blocked; it is not an edit)."""
+        with QSignalBlocker(self):
             for name, box in self.method_boxes.items():
                 box.setChecked(name in settings.methods)
             values: dict[str, Any] = {
@@ -378,9 +376,7 @@ class InputsPanel(QWidget):
             }
             for key, value in values.items():
                 self.fields[key].set_value(value)
-        finally:
-            self._loading = False
-        self._on_changed()
+        self.show_problems()
 
     def set_field(self, key: str, value: float | None) -> None:
         """Set one field as if typed (clicks on the plot use this)."""

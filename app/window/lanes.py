@@ -279,7 +279,7 @@ def agreement_text(solution: Any) -> str:
     failed = [method_label(r.method) for r in solution.runs if not r.converged]
     if failed:
         text += f"  Failed: {', '.join(failed)} (see the lane for why)."
-    notes = words.start_notes(getattr(solution, "start", None))
+    notes = words.start_notes(solution.start)
     if notes:
         text += "  Start values: " + "; ".join(notes) + "."
     return text.strip()

@@ -226,9 +226,6 @@ class ParametersModel(QAbstractTableModel):
         self._rows = list(self._memory.values())
         self.endResetModel()
 
-    def remember(self, name: str) -> ParameterRow | None:
-        return self._memory.get(name)
-
     def names(self) -> list[str]:
         return [r.name for r in self._rows]
 

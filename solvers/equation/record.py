@@ -35,7 +35,7 @@ class Remark:
     Codes: "unknown_has_value" (subject: the unknown), "no_derivative" (subject: the
     reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
     numbers: the limit passed, if any), "degrees", "radians", "kinks", "no_dependence"
-    (subject: the unknown), "e_notation". app/documents/equation_words.py renders them.
+    (subject: the unknown), "e_notation". app/documents/words.py renders them.
     """
 
     code: str
@@ -47,7 +47,7 @@ _LIMITS = {"too_large": (calculus.MAX_DERIVATIVE_NODES,),
            "kinks_nested": (calculus.MAX_KINK_NESTING,)}
 
 # Transitional: the sentences ``Equation.notes`` gives until every reader renders
-# ``remarks`` through app/documents/equation_words.py (the same words).
+# ``remarks`` through app/documents/words.py (the same words).
 _NO_DERIVATIVE = {
     "too_large": f"more than {calculus.MAX_DERIVATIVE_NODES} terms",
     "kinks_nested": f"abs/min/max nested more than {calculus.MAX_KINK_NESTING} deep",
@@ -131,7 +131,7 @@ class Equation:
 
     @property
     def notes(self) -> tuple[str, ...]:
-        """``remarks`` as sentences (transitional; see app/documents/equation_words.py)."""
+        """``remarks`` as sentences (transitional; see app/documents/words.py)."""
         return tuple(_sentence(r) for r in self.remarks)
 
     @property
