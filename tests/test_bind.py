@@ -52,7 +52,7 @@ def test_bind_gives_the_values_of_a_fresh_parse(text, unknown, first, second, po
         assert rebound.fprime(x) == pytest.approx(numeric, rel=1e-6)
     assert rebound.parameters == second
     assert rebound.expr == fresh.expr and rebound.derivative == fresh.derivative
-    assert rebound.latex == fresh.latex and rebound.notes == fresh.notes
+    assert rebound.latex == fresh.latex and rebound.remarks == fresh.remarks
     assert eq.f(points[1]) == parse_equation(text, unknown=unknown, parameters=first).f(points[1])
 
 
@@ -242,12 +242,14 @@ def test_bind_checks_parts_with_parameters_only_like_a_parse():
         ("*".join(f"sin({k}x)" for k in range(1, 120)), {}),
     ],
 )
-def test_remarks_are_codes_and_the_app_words_match_the_notes(text, kwargs):
+def test_remarks_are_codes_and_every_code_has_words(text, kwargs):
     from app.documents.words import remarks_text
 
     eq = parse_equation(text, **kwargs)
     assert eq.remarks and all(r.code.isidentifier() for r in eq.remarks)
-    assert remarks_text(eq.remarks) == eq.notes
+    # every code has its own sentence (an unknown code would fall back to the code itself)
+    for remark, sentence in zip(eq.remarks, remarks_text(eq.remarks), strict=True):
+        assert sentence and sentence != remark.code.replace("_", " "), remark
     # a binding keeps the remarks of the text (a parse's value remarks are its own)
     assert set(eq.bind(dict(eq.parameters)).remarks) <= set(eq.remarks)
 

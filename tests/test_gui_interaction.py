@@ -462,3 +462,35 @@ def test_a_design_value_taken_from_one_of_two_different_roots_says_so(qtbot, win
     qtbot.keyClick(window.strip.editor, Qt.Key.Key_D, Qt.KeyboardModifier.ControlModifier)
     reason = window.worksheet().selection.reason
     assert "different roots" in reason and "None" not in reason, reason
+
+
+def test_log_y_button_shows_the_whole_curve_and_keeps_the_crossings(qtbot, window):
+    # cosh grows to ~1e8 on [0, 20] while its crossing of 1e3 sits near x = 7.6: the linear
+    # axis shows |f| near that root, the symmetric-log axis the whole curve.
+    canvas, ax = _plot_on_range(qtbot, window, "cosh(x) - 1000", 0.0, 20.0)
+    button = window.plot.symlog_button
+    assert not button.isChecked() and ax.get_yscale() == "linear"
+    linear_top = ax.get_ylim()[1]
+    # Closed form: cosh(20) - 1000 = 2.4e8 (math.cosh), far above the linear view.
+    assert linear_top < (math.cosh(20.0) - 1000) / 100
+    qtbot.mouseClick(button, LEFT)
+    ax = window.plot.ax
+    assert button.isChecked() and ax.get_yscale() == "symlog"
+    assert ax.get_ylim()[1] >= 0.9 * (math.cosh(20.0) - 1000)
+    lo, hi = ax.get_ylim()
+    assert lo < 0 < hi  # the zero line, where the root sits, stays in view
+    qtbot.mouseClick(button, LEFT)
+    assert window.plot.ax.get_yscale() == "linear"
+    assert window.plot.ax.get_ylim()[1] == pytest.approx(linear_top)
+
+
+def test_the_convergence_view_names_the_real_unknown(qtbot, window):
+    type_equation(qtbot, window, "V^3 - 2*V - 1")
+    _type(qtbot, window.inputs.fields["x0"], "2")
+    _solve(qtbot, window)
+    bar = window.plot.tabBar()
+    qtbot.mouseClick(bar, LEFT, pos=bar.tabRect(1).center())  # the Convergence tab
+    assert window.plot.currentWidget() is window.plot.convergence_view
+    qtbot.waitUntil(lambda: bool(window.plot.convergence_view.figure.axes), timeout=5000)
+    labels = [a.get_ylabel() for a in window.plot.convergence_view.figure.axes]
+    assert any("V_k" in label for label in labels), labels

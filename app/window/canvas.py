@@ -308,6 +308,18 @@ class PlotPanel(QTabWidget):
         path_label.setBuddy(self.path_box)
         self.function_view.bar.addWidget(path_label)
         self.function_view.bar.addWidget(self.path_box)
+        # A symmetric-log y axis shows the whole curve (poles, growth like cosh) while
+        # staying linear in a band around zero, so the crossings remain visible.
+        self.symlog_button = QToolButton()
+        self.symlog_button.setObjectName("function_symlog")
+        self.symlog_button.setText("Log y")
+        self.symlog_button.setToolTip(
+            "Symmetric-log y axis: the whole curve, linear in a band around zero")
+        self.symlog_button.setCheckable(True)
+        self.symlog_button.setAutoRaise(True)
+        self.symlog_button.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+        self.symlog_button.toggled.connect(lambda _on: self._draw_function())
+        self.function_view.bar.addWidget(self.symlog_button)
         self.hint = QLabel(HINT)
         self.hint.setStyleSheet("color: #555555;")
         self.readout = QLabel("")
@@ -491,7 +503,12 @@ class PlotPanel(QTabWidget):
         line.set_label(name)
         if scan is not None:
             figures.draw_scan_marks(ax, scan, poles, jumps)
-        limits = ((min(a, b), max(a, b)), c.ylim)
+        symlog = self.symlog_button.isChecked()
+        if symlog:
+            ax.set_yscale("symlog", linthresh=figures.symlog_threshold(c))
+        else:
+            ax.set_yscale("linear")
+        limits = ((min(a, b), max(a, b)), c.limits(symlog))
         # Limits first: the path drawers space their labels by the visible range.
         ax.set_xlim(*limits[0])
         ax.set_ylim(*limits[1])
@@ -530,7 +547,8 @@ class PlotPanel(QTabWidget):
             return
         self._convergence_stale = False
         ax = self.convergence_view.new_axes()
-        figures.draw_convergence(ax, self._runs, quantity=self.quantity_box.currentData())
+        figures.draw_convergence(ax, self._runs, quantity=self.quantity_box.currentData(),
+                                 unknown=self._unknown)
         self.convergence_view.fit_margins()
         self.convergence_view.redraw()
 

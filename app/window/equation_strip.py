@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents.figures import residual_name, typesetting
+from app.documents.words import remarks_text
 from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
 
@@ -184,7 +185,7 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
                         derivative_latex=derivative)
     except Exception as exc:  # the parser's own bug must not take the window down
         return Analysis(**base, error=f"could not read the equation ({type(exc).__name__})")
-    return Analysis(**base, equation=equation, notes=tuple(equation.notes),
+    return Analysis(**base, equation=equation, notes=remarks_text(equation.remarks),
                     latex=equation.latex,
                     derivative_latex=_derivative_latex(equation))
 

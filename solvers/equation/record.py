@@ -46,17 +46,6 @@ class Remark:
 _LIMITS = {"too_large": (calculus.MAX_DERIVATIVE_NODES,),
            "kinks_nested": (calculus.MAX_KINK_NESTING,)}
 
-# Transitional: the sentences ``Equation.notes`` gives until every reader renders
-# ``remarks`` through app/documents/words.py (the same words).
-_NO_DERIVATIVE = {
-    "too_large": f"more than {calculus.MAX_DERIVATIVE_NODES} terms",
-    "kinks_nested": f"abs/min/max nested more than {calculus.MAX_KINK_NESTING} deep",
-    "unevaluated": "sympy left it unevaluated",
-    "not_finite": "it is not real or not finite",
-    "too_deep": "expression too deep",
-    "not_handled": "a function not handled",
-    "not_compiled": "it cannot be compiled",
-}
 
 
 @dataclass(frozen=True, eq=False)
@@ -128,11 +117,6 @@ class Equation:
             raise EquationError("no value for " + ", ".join(f"'{n}'" for n in missing)
                                 + f" (the unknown is '{core.unknown}')")
         return _bind(core, {n: given[n] for n in core.parameter_names}, core.remarks)
-
-    @property
-    def notes(self) -> tuple[str, ...]:
-        """``remarks`` as sentences (transitional; see app/documents/words.py)."""
-        return tuple(_sentence(r) for r in self.remarks)
 
     @property
     def symbolic_expr(self) -> Any:
@@ -482,20 +466,3 @@ def _remarks(parser: Any, names: list[str], unknown: str, expr: Any, x: Any,
     if any(n in ("e", "E") for n in names) and re.search(r"[0-9.][eE][+-]?[0-9]", text):
         remarks.append(Remark("e_notation"))
     return remarks
-
-
-_NOTE_TEXT: dict[str, Callable[[Remark], str]] = {
-    "unknown_has_value": lambda r: f"'{r.subject}' is the unknown: its parameter value is "
-                                   "not used",
-    "no_derivative": lambda r: f"no symbolic derivative ({_NO_DERIVATIVE[r.subject]}): "
-                               "Newton uses a numerical one",
-    "degrees": lambda r: "deg = pi/180: angles in degrees become radians",
-    "radians": lambda r: "sin, cos and tan take radians (multiply by deg for degrees)",
-    "kinks": lambda r: "abs/min/max have a kink: the derivative there uses sign/step values",
-    "no_dependence": lambda r: f"the equation does not depend on '{r.subject}' once simplified",
-    "e_notation": lambda r: "numbers such as 2e3 are read as 2000, not as 2*e*3",
-}
-
-
-def _sentence(remark: Remark) -> str:
-    return _NOTE_TEXT[remark.code](remark)
