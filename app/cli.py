@@ -316,7 +316,7 @@ def _print_solution(solution, *, steps: bool, figures: int | None = None) -> Non
     print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
     from app.documents.words import remarks_text
 
-    for note in (*remarks_text(getattr(eq, "remarks", ())), *words.start_notes(solution.start)):
+    for note in (*remarks_text(eq.remarks), *words.start_notes(solution.start)):
         print(f"note:     {note}")
     print()
     rows = []
@@ -356,7 +356,7 @@ def _print_scan(scan, unknown: str) -> None:
 
     # The range as typed: 15 figures show any typed decimal whole, without a ".0".
     print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {unknown}: {len(scan.roots)} root(s), "
-          f"{getattr(scan, 'samples', '?')} samples")
+          f"{scan.samples} samples")
     if scan.roots:
         rows = [
             [
@@ -372,9 +372,9 @@ def _print_scan(scan, unknown: str) -> None:
         print(_table(["#", "x", "residual", "multiplicity", "confirmed by", "located by"], rows))
     for x in scan.poles:
         print(f"pole (not a root) near {unknown} = {_g(x)}")
-    for x in getattr(scan, "discontinuities", []):
+    for x in scan.discontinuities:
         print(f"jump (not a root) at {unknown} = {_g(x)}")
-    for a, b in getattr(scan, "gaps", []):
+    for a, b in scan.gaps:
         print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]")
     for w in words.scan_warnings(scan):
         print(f"warning: {w}")

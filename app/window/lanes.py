@@ -23,6 +23,7 @@ from app.documents.words import method_label, method_title
 from app.window.models import DEFAULT_DIGITS, RunModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
 from solvers.records import Run
+from solvers.worksheet import DEFAULT_METHODS
 
 FAILED_STYLE = "color: #8A2B00; font-weight: bold;"
 LANE_WIDTH = 380  # pixels: room for the summary and five number columns at 5 figures
@@ -227,7 +228,7 @@ class LanesPanel(QWidget):
         layout.addLayout(head)
         layout.addWidget(self.scroll, 1)
         self.digits.valueChanged.connect(self._on_digits)
-        self.set_methods(("newton", "secant", "false_position"))
+        self.set_methods(DEFAULT_METHODS)
 
     def set_methods(self, methods: Sequence[str]) -> None:
         """One lane per method, in this order; a lane kept keeps its run."""
