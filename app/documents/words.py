@@ -276,11 +276,11 @@ START_TEXT: dict[str, Callable[[Sequence[float]], str]] = {
     "x0_bracket_midpoint": lambda n: f"x0 = {_g6(n[0])}: the midpoint of the bracket",
     "x0_scan_midpoint": lambda n: f"x0 = {_g6(n[0])}: the midpoint of the scan range",
     "x0_default": lambda n: "x0 not given and no scan range: 1.0 used",
-    "x1_scan": lambda n: (f"x1 = {_g6(n[0])}: the end nearer x0 of the sign change "
-                          f"[{_g6(n[1])}, {_g6(n[2])}] a quick scan of the range found"),
+    "x1_scan": lambda n: (f"x1 = {_g6(n[0])}: the end nearer x0 of the scan's sign change "
+                          f"[{_g6(n[1])}, {_g6(n[2])}]"),
     "x1_nudged": lambda n: f"x1 = {_g6(n[0])}: x0 nudged by 1e-4 (relative)",
-    "bracket_scan_cell": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the cell of the "
-                                    "quick scan where f changes sign"),
+    "bracket_scan_cell": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the scan's sign "
+                                    "change"),
     "bracket_scan_range": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the scan range "
                                      "(f changes sign between its ends)"),
     "bracket_grown": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: grown around x0 until "

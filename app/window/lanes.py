@@ -192,7 +192,7 @@ class LanesPanel(QWidget):
         self.agreement = QLabel("Press Solve (Ctrl+Return) to run the methods side by side.")
         self.agreement.setObjectName("agreementNote")
         self.agreement.setWordWrap(True)
-        fix_lines(self.agreement, 2)
+        fix_lines(self.agreement, 3)  # agreement, failures and start-value notes
         self.digits = QSpinBox()
         self.digits.setObjectName("digitsBox")
         self.digits.setRange(3, 17)
