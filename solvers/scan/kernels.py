@@ -214,9 +214,15 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
             noisy = _within_noise(g, 0.5 * (clo[jump] + chi[jump]),
                                   np.maximum(np.abs(cflo[jump]), np.abs(cfhi[jump])), scale)
             kind[jump[noisy]] = _ROOT
+        in_noise = np.zeros(len(rest), dtype=bool)
+        if jump.size:
+            in_noise[jump[noisy]] = True
         for j, i in enumerate(rest):
             if kind[j] == _ROOT:  # (|f| fell, but the fast iteration met NaN on the way)
-                found.append(_refine(g, gp, br[i], clo[j], chi[j], cflo[j], cfhi[j], xtol))
+                r = _refine(g, gp, br[i], clo[j], chi[j], cflo[j], cfhi[j], xtol)
+                if in_noise[j]:
+                    r.how = r.how + ("bracket_in_noise",)
+                found.append(r)
             elif kind[j] == _POLE:
                 poles.append(float(0.5 * (clo[j] + chi[j])))
             elif kind[j] == _JUMP:

@@ -161,13 +161,15 @@ def _at_noise(g: _Guarded, x: np.ndarray, fx: np.ndarray, xtol: float,
 
 
 def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
-                 singular: np.ndarray | None = None):
+                 singular: np.ndarray | None = None, in_noise: np.ndarray | None = None):
     """For each candidate x: the stretch around it where |f| stays within ``_NOISE_K``
     standard deviations of f's rounding noise, as (noisy, lower end, upper end, level).
 
     ``noisy`` is False where |f| rises above the noise level within 64 ulps on both sides
     (a clean root, pole or jump: its stretch is then [x, x]). ``singular`` marks the poles
-    and jumps. Elsewhere the stretch is
+    and jumps, ``in_noise`` the roots whose bracket already closed in f's rounding noise
+    (their noise is measured, never presumed absent from a few ulps that look like a
+    ramp). Elsewhere the stretch is
     found by doubling the distance until |f| exceeds the level (an upper bound within a
     factor of 2 on each side), in one f call for all candidates.
     """
@@ -191,6 +193,8 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
                                                                        / 6))
     if singular is not None:
         clean &= ~singular
+    if in_noise is not None:
+        clean &= ~in_noise
     if clean.all():
         return np.zeros(n, dtype=bool), lo, hi, np.zeros(n)
     rest = np.flatnonzero(~clean)
@@ -308,8 +312,11 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))
     if look.any():
         il = np.flatnonzero(look)
+        in_noise = np.zeros(len(x), dtype=bool)
+        in_noise[: len(roots)] = ["bracket_in_noise" in r.confirmed for r in roots]
         nz, lo[il], hi[il], level[il] = _noise_bands(g, x[il], a, b, scale,
-                                                     (kind[il] == 1) | (kind[il] == 2))
+                                                     (kind[il] == 1) | (kind[il] == 2),
+                                                     in_noise[il])
         noisy[il] = nz
     noisy &= (level <= 1e-3 * typical) & ((lo > a) | (hi < b))
     if not noisy.any():
