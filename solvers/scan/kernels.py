@@ -13,7 +13,7 @@ import numpy as np
 
 from solvers.methods import brent
 from solvers.records import Run
-from solvers.scan.noise import _NOISE_K, _sigma
+from solvers.scan.noise import _noise_beside
 from solvers.scan.records import EPS, _Found
 from solvers.scan.sampling import _Guarded
 
@@ -168,8 +168,9 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     vectorised Newton step with f' where that lowers |f|). Every other bracket (|f| not
     falling: a pole or a jump; NaN inside; no convergence) is decided by
     :func:`_classify` from its original ends, as before; a "jump" whose ends' |f| lie
-    within f's rounding noise (:func:`_within_noise`; ``scale`` is the range's largest
-    |x|, the noise estimate's step floor) is a root that bisection met in noise.
+    within f's rounding noise (:func:`solvers.scan.noise._noise_beside`; ``scale`` is the
+    range's largest |x|, the noise estimate's step floor) is a root that bisection met in
+    noise (confirmed code ``bracket_in_noise``).
     Returns (found, poles, jumps, undefined) with ``undefined`` the rows whose inside is
     partly undefined.
     """
@@ -211,8 +212,8 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
         if jump.size:
             # a sign change of f whose ends sit in f's rounding noise is a root (or one
             # member of a noise cluster), never a jump: noise only looks like a step
-            noisy = _within_noise(g, 0.5 * (clo[jump] + chi[jump]),
-                                  np.maximum(np.abs(cflo[jump]), np.abs(cfhi[jump])), scale)
+            level = _noise_beside(g, 0.5 * (clo[jump] + chi[jump]), scale)
+            noisy = (level > 0) & (np.maximum(np.abs(cflo[jump]), np.abs(cfhi[jump])) <= level)
             kind[jump[noisy]] = _ROOT
         in_noise = np.zeros(len(rest), dtype=bool)
         if jump.size:
@@ -230,22 +231,6 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
             else:
                 undefined.append(int(i))
     return found, poles, jumps, undefined
-
-
-def _within_noise(g: _Guarded, x: np.ndarray, fend: np.ndarray, scale: float) -> np.ndarray:
-    """Whether |f| at the ends of brackets closed at x (``fend``, the larger end) is within
-    ``_NOISE_K`` standard deviations of f's rounding noise.
-
-    The noise is measured a millionth of the range either side of x (a stencil across x
-    would measure the step itself at a genuine jump), and the larger of the two counts: an
-    estimate can miss noise on one side where its points happen to fall in step with it.
-    Beside a genuine jump or pole f is smooth (noise 0 or far below |f| at the ends), so
-    these stay what they are.
-    """
-    off = 2.0**-20 * np.maximum(np.abs(x), 1e-3 * scale)
-    side = _sigma(g, np.concatenate([x - off, x + off]), scale).reshape(2, -1)
-    level = _NOISE_K * np.max(side, axis=0)
-    return (level > 0) & (fend <= level)
 
 
 def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
