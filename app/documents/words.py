@@ -452,6 +452,7 @@ CONFIRMED_WORDS: dict[str, Callable[[Any], str]] = {
     "brent_stopped": _brent_stopped,
     "brent_left": lambda r: "sign change, bisection (Brent left the bracket)",
     "newton_polish": lambda r: ", Newton polish with f'",
+    "bracket_in_noise": lambda r: "; the bracket closed where f is rounding noise",
     "touch_golden": lambda r: "touch: |f| minimum (golden section) at noise level",
     "touch_fprime": lambda r: "touch: f' sign change, bracketing on f'; |f| at noise level",
     "zero_at_sample": lambda r: "f exactly zero at a sample",

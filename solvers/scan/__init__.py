@@ -22,9 +22,11 @@ How a scan works
    taken, then one Newton step with ``fprime`` when given and it lowers |f|.
 3. Every other bracket is **bisected** from its sample ends (all at once): |f|
    growing 1000-fold (or steadily, like a logarithm) down to adjacent floats means a
-   **pole**; |f| staying put means a **discontinuity** (a jump). Poles and jumps
-   are never reported as roots. ``Root.run``, the project's Brent
-   (:func:`solvers.methods.brent`) on a root's sample bracket with the same
+   **pole**; |f| staying put means a **discontinuity** (a jump), unless |f| at the
+   closed bracket's ends is within f's rounding noise measured beside it (then it is a
+   root bisection met in noise, confirmed ``bracket_in_noise``, and joins its noise
+   cluster in step 6a). Poles and jumps are never reported as roots. ``Root.run``,
+   the project's Brent (:func:`solvers.methods.brent`) on a root's sample bracket with the same
    tolerances, is built when first read (few callers want every root's iterates).
 4. **Touches** (even multiplicity, no sign change): every local minimum of |f|
    that a parabola through the three samples says dips at least 10 % toward zero,

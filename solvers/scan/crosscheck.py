@@ -534,7 +534,7 @@ def _confirm_near(g, gp, x, h, xtol, scale) -> list[_Found]:
                     r.located_by = ("chebyshev",)
                     found.append(r)
         if brackets:
-            for r in _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]:
+            for r in _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol, scale)[0]:
                 r.located_by = ("chebyshev",)
                 found.append(r)
         if found:

@@ -226,7 +226,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         notes.append(Detail("many_sign_changes", (MAX_ROOTS, float(a), float(b), float(cut))))
     if brackets:
         br = np.array(brackets, dtype=float)
-        roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol)
+        roots_here, poles_here, jumps_here, undefined = _resolve_brackets(g, gp, br, xtol, scale)
         found += roots_here
         if poles_here:
             # a bracket whose |f| grew while bisected is a pole only if |f| keeps growing

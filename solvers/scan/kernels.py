@@ -13,6 +13,7 @@ import numpy as np
 
 from solvers.methods import brent
 from solvers.records import Run
+from solvers.scan.noise import _noise_beside
 from solvers.scan.records import EPS, _Found
 from solvers.scan.sampling import _Guarded
 
@@ -158,15 +159,20 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     return done, lo_out, hi_out, flo_out, fhi_out
 
 
-def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: float):
+def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: float,
+                      scale: float = 1.0):
     """Roots, poles and jumps of sign-change brackets (rows lo, hi, f(lo), f(hi)).
 
     All brackets are refined at once by :func:`_bracket_all`; a converged bracket whose
     ends' |f| fell to 1e-6 of the sampled |f| is a root (the end of smaller |f|, then one
     vectorised Newton step with f' where that lowers |f|). Every other bracket (|f| not
     falling: a pole or a jump; NaN inside; no convergence) is decided by
-    :func:`_classify` from its original ends, as before. Returns (found, poles, jumps,
-    undefined) with ``undefined`` the rows whose inside is partly undefined.
+    :func:`_classify` from its original ends, as before; a "jump" whose ends' |f| lie
+    within f's rounding noise (:func:`solvers.scan.noise._noise_beside`; ``scale`` is the
+    range's largest |x|, the noise estimate's step floor) is a root that bisection met in
+    noise (confirmed code ``bracket_in_noise``).
+    Returns (found, poles, jumps, undefined) with ``undefined`` the rows whose inside is
+    partly undefined.
     """
     done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
     g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
@@ -202,9 +208,22 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     rest = np.flatnonzero(~root)
     if rest.size:
         kind, clo, chi, cflo, cfhi = _classify(g, br[rest], xtol)
+        jump = np.flatnonzero(kind == _JUMP)
+        if jump.size:
+            # a sign change of f whose ends sit in f's rounding noise is a root (or one
+            # member of a noise cluster), never a jump: noise only looks like a step
+            level = _noise_beside(g, 0.5 * (clo[jump] + chi[jump]), scale)
+            noisy = (level > 0) & (np.maximum(np.abs(cflo[jump]), np.abs(cfhi[jump])) <= level)
+            kind[jump[noisy]] = _ROOT
+        in_noise = np.zeros(len(rest), dtype=bool)
+        if jump.size:
+            in_noise[jump[noisy]] = True
         for j, i in enumerate(rest):
             if kind[j] == _ROOT:  # (|f| fell, but the fast iteration met NaN on the way)
-                found.append(_refine(g, gp, br[i], clo[j], chi[j], cflo[j], cfhi[j], xtol))
+                r = _refine(g, gp, br[i], clo[j], chi[j], cflo[j], cfhi[j], xtol)
+                if in_noise[j]:
+                    r.how = r.how + ("bracket_in_noise",)
+                found.append(r)
             elif kind[j] == _POLE:
                 poles.append(float(0.5 * (clo[j] + chi[j])))
             elif kind[j] == _JUMP:

@@ -160,14 +160,38 @@ def _at_noise(g: _Guarded, x: np.ndarray, fx: np.ndarray, xtol: float,
     return ok
 
 
+def _noise_beside(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
+    """The level of |f| that is rounding noise at points x where f may step (a bracket
+    closed on adjacent floats), measured beside x: |f| at the ends of such a bracket within
+    it is a root in noise, never a jump or a pole.
+
+    The noise is measured 2^-20 of |x| (or of 1e-3 of the range near 0) either side of x (a
+    stencil across x would measure the step itself at a genuine jump), as ``_NOISE_K``
+    standard deviations (:func:`noise_level`) and, as for a touch (:func:`_at_noise`), 16x
+    the spread of f over a few ulps; the larger over both sides counts (an estimate can
+    miss noise where its points happen to fall in step with it). Beside a genuine jump or
+    pole f is smooth: both are then 0 or far below |f| at the bracket's ends.
+    """
+    x = np.asarray(x, dtype=float)
+    off = 2.0**-20 * np.maximum(np.abs(x), 1e-3 * scale)
+    beside = np.concatenate([x - off, x + off])
+    side = _sigma(g, beside, scale).reshape(2, -1)
+    spread = _noise(g, beside, EPS * scale).reshape(2, -1)
+    with np.errstate(all="ignore"):
+        level = np.maximum(_NOISE_K * np.max(side, axis=0), 16 * np.max(spread, axis=0))
+    return np.where(np.isfinite(level), level, 0.0)
+
+
 def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
-                 singular: np.ndarray | None = None):
+                 singular: np.ndarray | None = None, in_noise: np.ndarray | None = None):
     """For each candidate x: the stretch around it where |f| stays within ``_NOISE_K``
     standard deviations of f's rounding noise, as (noisy, lower end, upper end, level).
 
     ``noisy`` is False where |f| rises above the noise level within 64 ulps on both sides
     (a clean root, pole or jump: its stretch is then [x, x]). ``singular`` marks the poles
-    and jumps. Elsewhere the stretch is
+    and jumps, ``in_noise`` the roots whose bracket already closed in f's rounding noise
+    (their noise is measured, never presumed absent from a few ulps that look like a
+    ramp). Elsewhere the stretch is
     found by doubling the distance until |f| exceeds the level (an upper bound within a
     factor of 2 on each side), in one f call for all candidates.
     """
@@ -191,6 +215,8 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
                                                                        / 6))
     if singular is not None:
         clean &= ~singular
+    if in_noise is not None:
+        clean &= ~in_noise
     if clean.all():
         return np.zeros(n, dtype=bool), lo, hi, np.zeros(n)
     rest = np.flatnonzero(~clean)
@@ -204,7 +230,10 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
         side = _sigma(g, np.concatenate([xs - off, xs + off]), scale).reshape(2, -1)
         sig[singular] = np.min(side, axis=0)
     level = _NOISE_K * sig
-    noisy = (sig > 0) & ((near[:, 0] <= level) | (near[:, 1] <= level))
+    if in_noise is not None and in_noise.any():
+        # (measured where the bracket was judged: the estimate at x itself can miss it)
+        level[in_noise] = np.maximum(level[in_noise], _noise_beside(g, x[in_noise], scale))
+    noisy = (level > 0) & ((near[:, 0] <= level) | (near[:, 1] <= level))
     idx = np.flatnonzero(noisy)
     if idx.size == 0:
         return noisy, lo, hi, level
@@ -308,8 +337,11 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))
     if look.any():
         il = np.flatnonzero(look)
+        in_noise = np.zeros(len(x), dtype=bool)
+        in_noise[: len(roots)] = ["bracket_in_noise" in r.confirmed for r in roots]
         nz, lo[il], hi[il], level[il] = _noise_bands(g, x[il], a, b, scale,
-                                                     (kind[il] == 1) | (kind[il] == 2))
+                                                     (kind[il] == 1) | (kind[il] == 2),
+                                                     in_noise[il])
         noisy[il] = nz
     noisy &= (level <= 1e-3 * typical) & ((lo > a) | (hi < b))
     if not noisy.any():

@@ -23,6 +23,7 @@ CONFIRMED_CODES: tuple[str, ...] = (
     "brent_stopped",       # ... which stopped unconverged (its reason: Root.run.reason)
     "brent_left",          # sign change, bisection: Brent left the bracket
     "newton_polish",       # then one Newton step with f' that lowered |f|
+    "bracket_in_noise",    # ... on a bracket that closed where f is rounding noise
     "touch_golden",        # touch: |f| minimum by golden section, at noise level
     "touch_fprime",        # touch: f' sign change bracketed; |f| at noise level
     "zero_at_sample",      # f exactly zero at a sample
