@@ -20,13 +20,8 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 from typing import Any, NoReturn
 
-
-def caution() -> str:
-    """The one caution text (app.documents.words), read on first use: importing the solvers
-    package loads sympy, which ``--version`` and the window's checks need not wait for."""
-    from app.documents.words import CAUTION
-
-    return f"Caution: {CAUTION}"
+from app import terminal
+from app.terminal import caution
 
 EXIT_OK = 0
 EXIT_BAD_INPUT = 2
@@ -287,100 +282,6 @@ def _worksheet_from_args(args: argparse.Namespace):
     return replace(ws, settings=s)
 
 
-# ----------------------------------------------------------------- text output
-
-
-def _g(value: float | None, figures: int | None = None) -> str:
-    """A number in the words module's one format: every digit, or ``figures`` of them."""
-    from app.documents import words
-
-    if figures is None:
-        return words.exact(value, blank="-")
-    return words.number(value, figures, blank="-")
-
-
-def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:
-    widths = [max([len(h), *(len(r[i]) for r in rows)]) for i, h in enumerate(header)]
-    line = "  ".join(h.ljust(w) for h, w in zip(header, widths, strict=True)).rstrip()
-    rule = "  ".join("-" * w for w in widths)
-    body = ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip() for r in rows]
-    return "\n".join([line, rule, *body])
-
-
-def _print_solution(solution, *, steps: bool, figures: int | None = None) -> None:
-    from app.documents import words
-
-    eq = solution.equation
-    print(f"equation: {solution.worksheet.equation}")
-    params = ", ".join(f"{k} = {_g(v)}" for k, v in eq.parameters.items())
-    print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
-    from app.documents.words import remarks_text
-
-    for note in (*remarks_text(eq.remarks), *words.start_notes(solution.start)):
-        print(f"note:     {note}")
-    print()
-    rows = []
-    for r in solution.runs:
-        rows.append(
-            [
-                words.method_title(r.method),
-                _g(r.root, figures),
-                "yes" if r.converged else "NO",
-                r.reason,
-                str(r.iterations),
-                str(r.evaluations),
-                words.order_text(r.order, "-"),
-                r.method,
-            ]
-        )
-    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order",
-              "--method"]
-    print(_table(header, rows))
-    print()
-    for r in solution.runs:
-        print(f"  {words.stop_line(r)}")
-    print(f"\n{words.agreement_text(solution)}")
-    if steps:
-        for r in solution.runs:
-            print(f"\n{words.method_title(r.method)}: every iterate")
-            body = [
-                [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
-                for s in r.steps
-            ]
-            print(_table(["k", "x", "f(x)", "f'(x)", "dx", "lo", "hi"], body))
-    print(f"\n{caution()}")
-
-
-def _print_scan(scan, unknown: str) -> None:
-    from app.documents import words
-
-    # The range as typed: 15 figures show any typed decimal whole, without a ".0".
-    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {unknown}: {len(scan.roots)} root(s), "
-          f"{scan.samples} samples")
-    if scan.roots:
-        rows = [
-            [
-                str(i + 1),
-                _g(r.x),
-                _g(r.residual, 3),
-                str(r.multiplicity),
-                words.confirmed_text(r),
-                words.located_text(r),
-            ]
-            for i, r in enumerate(scan.roots)
-        ]
-        print(_table(["#", "x", "residual", "multiplicity", "confirmed by", "located by"], rows))
-    for x in scan.poles:
-        print(f"pole (not a root) near {unknown} = {_g(x)}")
-    for x in scan.discontinuities:
-        print(f"jump (not a root) at {unknown} = {_g(x)}")
-    for a, b in scan.gaps:
-        print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]")
-    for w in words.scan_warnings(scan):
-        print(f"warning: {w}")
-    print(f"\n{caution()}")
-
-
 def _json_out(data: dict) -> None:
     print(json.dumps(data, indent=2, allow_nan=False))
 
@@ -418,7 +319,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
     if args.json:
         _json_out(export.solution_json(solution))
     else:
-        _print_solution(solution, steps=args.steps, figures=args.figures)
+        terminal.print_solution(solution, steps=args.steps, figures=args.figures)
         if csv_path:
             print(f"iteration log written to {csv_path}")
     return EXIT_OK
@@ -452,7 +353,7 @@ def cmd_scan(args: argparse.Namespace) -> int:
         _json_out({"equation": ws.equation, "unknown": equation.unknown, **data,
                    "caution": export.CAUTION})
     else:
-        _print_scan(result, equation.unknown)
+        terminal.print_scan(result, equation.unknown)
         if csv_path:
             print(f"roots written to {csv_path}")
     return EXIT_OK
