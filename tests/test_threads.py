@@ -160,6 +160,7 @@ def test_three_threads_typeset_and_draw_through_the_one_lock():
     # Without the lock this raised spurious mathtext parse errors or corrupted the heap.
     out = run_child("""
         import threading
+        import time
         from PySide6.QtWidgets import QApplication
         from app.window.equation_strip import render_png
         from solvers import parse_equation
@@ -201,6 +202,9 @@ def test_three_threads_typeset_and_draw_through_the_one_lock():
                 ax.clear()
                 ax.set_title(r"$\\alpha_{%d} = x^{2}$" % len(errors))
                 canvas.draw()
+            # A UI thread idles between paints; redrawing in a tight loop would take the
+            # lock straight back and starve the other threads (the lock is not fair).
+            time.sleep(0.002)
         print(len(errors), errors[:3])
     """, timeout_s=240)
     assert out.startswith("0 "), out
