@@ -447,19 +447,26 @@ def polish(ws: Worksheet, x: float, equation: Equation | None = None) -> Solutio
 def solve_and_scan(
     ws: Worksheet,
     *,
+    equation: Equation | None = None,
+    solution: Solution | None = None,
+    scan: Scan | None = None,
     progress: Callable[[float], None] | None = None,
     cancel: Callable[[], bool] | None = None,
 ) -> tuple[Solution, Scan | None]:
     """Every result a calculation sheet reports: the worksheet's solution and, when it
     has a scan range, the scan of that range (``None`` without one).
 
-    The equation is parsed once for both. ``progress(fraction)`` runs from 0 to 1: the
-    solve is the first quarter, the scan the rest. Raises as :func:`solve` does.
+    A ``solution`` or ``scan`` already computed for this worksheet is used as it is, and
+    ``equation`` (the worksheet's parsed equation, if the caller keeps one) spares the
+    parse; otherwise the equation is parsed once for both. ``progress(fraction)`` runs
+    from 0 to 1: the solve is the first quarter, the scan the rest. Raises as
+    :func:`solve` does.
     """
-    solution = solve(ws)
+    if solution is None:
+        solution = solve(ws, equation)
     if progress is not None:
         progress(0.25)
-    if ws.scan is None:
-        return solution, None
+    if ws.scan is None or scan is not None:
+        return solution, scan if ws.scan is not None else None
     report = (lambda p: progress(0.25 + 0.75 * p)) if progress is not None else None
     return solution, scan_worksheet(ws, solution.equation, progress=report, cancel=cancel)

@@ -280,12 +280,9 @@ class FileActions(QObject):
         def work(progress: Any, cancel: Any) -> Any:
             from solvers import pipeline
 
-            solution, scan = current, shown_scan
-            if solution is None:
-                solution = pipeline.solve(ws, equation)
-            if scan is None and ws.scan is not None:
-                scan = pipeline.scan_worksheet(ws, solution.equation, cancel=cancel,
-                                               progress=lambda p: progress(0.6 * p))
+            solution, scan = pipeline.solve_and_scan(
+                ws, equation=equation, solution=current, scan=shown_scan, cancel=cancel,
+                progress=lambda p: progress(0.6 * p))
             return report.write_report(ws, path, solution=solution, scan=scan,
                                        worksheet_path=origin, overwrite=True,
                                        progress=lambda p: progress(0.6 + 0.4 * p))
