@@ -96,6 +96,10 @@ class _Parser:
         self.first_pos: dict[str, int] = {}
         self.used: set[str] = set()  # functions and constants used, for notes
         self.checks: list[Check] = []  # parameter-only parts, in the order they complete
+        # every non-constant part as (sympy expression, start, end), innermost first: where
+        # the dimensional check (solvers.units) names a part as typed
+        self.spans: list[tuple[Any, int, int]] = []
+        self.equals: int | None = None  # the position of the equation's '='
 
     # -- helpers ------------------------------------------------------------------------------
     def fail(self, message: str, pos: int | None) -> EquationError:
@@ -136,6 +140,7 @@ class _Parser:
         node = self.settle(expr, names)
         if node.value is None:
             self.checks.append(Check("value", (node.expr,), names, start, end))
+            self.spans.append((node.expr, start, end))
         return node
 
     def evaluate(self, fn: Callable[..., float], *args: float) -> float:
@@ -157,6 +162,7 @@ class _Parser:
         rhs = None
         if self.tok.text == "=":
             eq = self.advance()
+            self.equals = eq.pos
             if self.tok.kind == "end":
                 raise self.fail("nothing after '='", eq.pos)
             rhs = self.sum()

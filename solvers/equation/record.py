@@ -25,6 +25,7 @@ from solvers.equation.compile import Code, arguments, bound, floatify_big, hoist
 from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.parser import Check, _is_bad, _Node, read, snippet
 from solvers.equation.typeset import derivative_latex, typeset
+from solvers.units import Converted, Plan, convert_parameters, plan_for
 
 _TRIG = ("sin", "cos", "tan")
 
@@ -67,6 +68,7 @@ class _Core:
     sides: tuple[_Node, _Node | None]
     remarks: tuple[Remark, ...]
     cache: dict[str, Any] = field(default_factory=dict)
+    units: Plan | None = None  # the units side (solvers.units): unknown unit, dimension check
 
 
 @dataclass(frozen=True, eq=False)
@@ -94,9 +96,15 @@ class Equation:
     remarks: tuple[Remark, ...] = ()
     _core: _Core | None = field(default=None, repr=False)
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
+    unknown_unit: str | None = None  # the unit x is given and returned in (None: no unit)
+    units: Mapping[str, Converted] = field(default_factory=dict, repr=False)
 
     def bind(self, values: Mapping[str, Any]) -> Equation:
         """The same compiled equation with new parameter values (floats or numpy arrays).
+
+        A value may carry a unit (``"150 mm"`` or :class:`solvers.units.Measured`): it
+        is converted to SI base units here, once, and the dimensions are checked for the
+        new units (cached by dimension); the unknown keeps the parse's unit.
 
         No re-parse, no re-compile: the parameter-only parts are checked on the values
         (one compiled call) and f, f' are the shared code with the values as arguments.
@@ -106,6 +114,7 @@ class Equation:
         """
         core = self._core
         assert core is not None
+        values, converted = convert_parameters(values)
         given = _validate_parameters(values)
         extra = [n for n in given if n not in core.parameter_names]
         if extra:
@@ -116,7 +125,8 @@ class Equation:
         if missing:
             raise EquationError("no value for " + ", ".join(f"'{n}'" for n in missing)
                                 + f" (the unknown is '{core.unknown}')")
-        return _bind(core, {n: given[n] for n in core.parameter_names}, core.remarks)
+        return _bind(core, {n: given[n] for n in core.parameter_names}, core.remarks,
+                     converted)
 
     @property
     def symbolic_expr(self) -> Any:
@@ -325,7 +335,15 @@ def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> tuple[Any
     return tuple(np.asarray(v, dtype=np.float64) for v in out[:k])
 
 
-def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...]) -> Equation:
+def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
+          converted: Mapping[str, Converted] | None = None) -> Equation:
+    unknown_unit = None
+    used: dict[str, Converted] = {}
+    if core.units is not None:
+        used = {n: c for n, c in (converted or {}).items() if n in values}
+        resolution = core.units.resolve(used)
+        unknown_unit = resolution.unknown_unit
+        remarks = remarks + tuple(Remark(*r) for r in resolution.remarks)
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
     rows: tuple[int, ...] = ()
@@ -346,6 +364,8 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...]) -> E
         fprime=None if core.fprime_code is None else bound(core.fprime_code, hoisted, rows),
         remarks=remarks,
         _core=core,
+        unknown_unit=unknown_unit,
+        units=used,
     )
 
 
@@ -385,12 +405,19 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
     return unknown
 
 
-def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: str) -> _Core:
+def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: str,
+                unknown_unit: str | None = None, check_dimensions: bool = True) -> _Core:
     """Differentiate and compile once, with the parameters as arguments."""
     names = [n for n in parser.names if n != unknown]
     x = sp.Symbol(unknown, real=True)
     symbols = tuple(sp.Symbol(n, real=True) for n in names)
     symbolic = floatify_big(lhs.expr if rhs is None else lhs.expr - rhs.expr)
+    plan = plan_for(text, parser, lhs, rhs, x, dict(zip(names, symbols, strict=True)),
+                    unknown_unit, check_dimensions)
+    if plan.scale != 1.0 or plan.offset != 0.0:
+        # x is in the unknown's unit: the code reads x_SI = scale*x + offset, constants
+        # compiled in (no wrapper per call); f' picks up the scale by the chain rule
+        symbolic = symbolic.xreplace({x: plan.scale * x + plan.offset})
     if not isinstance(symbolic, sp.Basic) or _is_bad(symbolic):
         raise EquationError("part of the equation has no finite real value", None)
     # Parts with parameters only are computed once per binding and passed to f and f' as
@@ -429,27 +456,36 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
                  x=x, symbolic_expr=symbolic, symbolic_derivative=derivative, f_code=f_code,
                  fprime_code=fprime_code, checks=checks, n_hoisted=len(table),
                  bind_code=bind_code,
-                 sides=(lhs, rhs), remarks=tuple(remarks))
+                 sides=(lhs, rhs), remarks=tuple(remarks), units=plan)
 
 
 def parse_equation(text: str, unknown: str | None = None,
-                   parameters: Mapping[str, Any] | None = None) -> Equation:
+                   parameters: Mapping[str, Any] | None = None,
+                   unknown_unit: str | None = None, *,
+                   check_dimensions: bool = True) -> Equation:
     """Read, check and compile an equation; see :mod:`solvers.equation` for the syntax.
 
-    ``parameters`` maps names to numbers or numpy arrays (entries the text does not use
-    are ignored; arrays broadcast); ``unknown`` is the name to solve for, inferred when
-    exactly one name in the text has no value. Raises :class:`EquationError` (one line,
-    with ``.position`` where it applies) for anything it cannot use, including a part
-    with no finite real value for the given values; never evaluates user text as code.
-    The result's :meth:`Equation.bind` gives other values without parsing again.
+    ``parameters`` maps names to numbers, numpy arrays (entries the text does not use
+    are ignored; arrays broadcast), or values with a unit: a string ``"150 mm"`` or a
+    :class:`solvers.units.Measured` (converted once to SI base units); ``unknown`` is the
+    name to solve for, inferred when exactly one name in the text has no value.
+    ``unknown_unit`` is the unit f takes x in and roots are in (it must fit the dimension
+    the equation implies; without it, the SI unit of that dimension). When any parameter
+    or the unknown has a unit the dimensions are checked, unless ``check_dimensions`` is
+    False (the remark ``dimensions_unchecked`` then says so). Raises
+    :class:`EquationError` (one line, with ``.position`` where it applies) for anything it
+    cannot use, including a part with no finite real value for the given values or a
+    dimensional mismatch; never evaluates user text as code. The result's
+    :meth:`Equation.bind` gives other values without parsing again.
     """
+    parameters, converted = convert_parameters(parameters)
     values = _validate_parameters(parameters)
     parser, lhs, rhs = read(text)
     remarks: list[Remark] = []
     unknown = _choose_unknown(text, parser.names, unknown, values, parser.first_pos, remarks)
-    core = _build_core(text, parser, lhs, rhs, unknown)
+    core = _build_core(text, parser, lhs, rhs, unknown, unknown_unit, check_dimensions)
     used = {n: values[n] for n in core.parameter_names}
-    return _bind(core, used, tuple(remarks) + core.remarks)
+    return _bind(core, used, tuple(remarks) + core.remarks, converted)
 
 
 def _remarks(parser: Any, names: list[str], unknown: str, expr: Any, x: Any,

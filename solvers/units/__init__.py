@@ -1,0 +1,234 @@
+"""Units of parameters and of the unknown (pint): converted once, at bind time.
+
+A parameter value may carry a unit: a string ``"150 mm"``, ``"0.35 m^3/s"``,
+``"1.0 mPa*s"``, ``"25 degC"``, or a :class:`Measured` ``(value, unit)`` whose value may be
+a numpy array (a table column ``D [mm]``: :func:`measured` turns the column and its unit
+text into a parameter value). ``parse_equation`` and ``Equation.bind`` convert every such
+value once to SI base units (m, kg, s, K, mol, A, cd; angles in rad) and the compiled f
+sees plain floats or float arrays, so the iteration loops pay nothing for units.
+
+The unknown x is given and returned in ``unknown_unit``: the compiled code reads
+``x_SI = scale*x + offset`` (constants folded in at compile time, nothing per call; a
+scale of 1 and offset 0 compile to the code of an equation without units). Without a
+chosen unit the unknown's unit is the SI unit of the dimension the equation implies.
+
+When any parameter or the unknown carries a unit, the equation's dimensions are checked
+(:mod:`solvers.units.dimensions`): a mismatch is an ``EquationError`` naming the part as
+typed, the two dimensions and the column. Parameters without a unit and plain numbers are
+dimensionless. ``check_dimensions=False`` skips the check (for correlations whose
+constants hide their units); the equation then carries the remark code
+``dimensions_unchecked`` so every document says so.
+
+Offset temperatures, one rule: ``degC``/``degF`` alone are absolute temperatures
+(25 degC -> 298.15 K, remark ``absolute_temperature``); in a compound unit
+(``J/(kg*degC)``) they are differences, as pint reads them; a difference on its own is
+typed ``delta_degC``/``delta_degF``. An unknown in degC is converted with the offset.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from numbers import Real
+from typing import Any
+
+import numpy as np
+
+from solvers.equation.lexer import EquationError
+from solvers.units.reading import (
+    DIMENSIONLESS,
+    MAX_UNIT_TEXT,
+    Dimension,
+    Unit,
+    dimension_words,
+    read_unit,
+    split_value,
+    unit_text,
+)
+
+__all__ = [
+    "DIMENSIONLESS", "MAX_UNIT_TEXT", "Converted", "Dimension", "Measured", "Plan", "Unit",
+    "convert_parameters", "dimension_words", "measured", "read_unit", "split_value",
+    "unit_text",
+]
+
+
+@dataclass(frozen=True)
+class Measured:
+    """A parameter value with its unit: ``value`` a number or a numpy array, ``unit`` text.
+
+    ``Measured(np.array([100, 150, 200]), "mm")`` is a table column ``D [mm]``.
+    """
+
+    value: Any
+    unit: str
+
+
+def measured(value: Any, unit: str) -> Measured:
+    """A :class:`Measured` with its unit text checked now (raises :class:`EquationError`).
+
+    ``unit`` '' gives the value back unchanged (a column without a unit).
+    """
+    if isinstance(unit, str) and not unit.strip():
+        return value
+    read_unit(unit)
+    return Measured(value, unit.strip() if isinstance(unit, str) else unit)
+
+
+@dataclass(frozen=True)
+class Converted:
+    """A parameter given with a unit: as entered and in SI base units."""
+
+    value: Any  # as entered: a float or a float64 array
+    unit: str  # as entered
+    si_value: Any  # value * factor + offset
+    si_unit: str  # SI base units (ASCII), '1' when dimensionless
+    dimension: Dimension
+    absolute_temperature: bool = False  # degC/degF alone: converted with the offset
+
+
+def _number_or_array(name: str, value: Any) -> Any:
+    if isinstance(value, np.ndarray):
+        if value.dtype.kind not in "iuf":
+            raise EquationError(f"parameter {name!r} must be real numbers, "
+                                f"got an array of {value.dtype}")
+        arr = value.astype(np.float64)
+        return float(arr) if arr.ndim == 0 else arr
+    if isinstance(value, bool) or not isinstance(value, (Real, np.number)) or \
+            isinstance(value, complex | np.complexfloating):
+        raise EquationError(f"parameter {name!r} must be a real number, "
+                            f"got {type(value).__name__}")
+    return float(value)
+
+
+def _convert(name: str, value: Any, unit_text_: str) -> Converted:
+    try:
+        unit = read_unit(unit_text_)
+    except EquationError as err:
+        raise EquationError(f"parameter {name!r}: {err}") from None
+    magnitude = _number_or_array(name, value)
+    with np.errstate(all="ignore"):
+        si = magnitude * unit.factor + unit.offset
+    return Converted(magnitude, unit.text, si, unit.si_text, unit.dimension,
+                     absolute_temperature=unit.offset != 0.0)
+
+
+def convert_parameters(values: Mapping[str, Any] | None
+                       ) -> tuple[Mapping[str, Any] | None, dict[str, Converted]]:
+    """Values with units -> SI magnitudes; others untouched. Returns (values, converted).
+
+    Strings hold a number and a unit (``"150 mm"``; a number alone as text is refused);
+    :class:`Measured` holds a value and a unit. Raises :class:`EquationError` naming the
+    parameter. Without any unit the mapping is returned as it came (no copy).
+    """
+    if values is None or not isinstance(values, Mapping):
+        return values, {}
+    if not any(isinstance(v, (str, Measured)) for v in values.values()):
+        return values, {}
+    out: dict[str, Any] = {}
+    converted: dict[str, Converted] = {}
+    for name, value in values.items():
+        if isinstance(value, str):
+            try:
+                number, unit = split_value(value)
+            except EquationError as err:
+                raise EquationError(f"parameter {name!r}: {err}") from None
+            if not unit:  # a number as text is a type slip, as before units: say so
+                raise EquationError(f"parameter {name!r}: {value.strip()[:40]!r} is text "
+                                    "without a unit; give a number, or a number and a unit")
+            value = Measured(number, unit)
+        if isinstance(value, Measured):
+            c = _convert(str(name), value.value, value.unit)
+            converted[name] = c
+            out[name] = c.si_value
+        else:
+            out[name] = value
+    return out, converted
+
+
+@dataclass(frozen=True)
+class Resolution:
+    """What the units make of one binding: the unknown's unit and remark codes."""
+
+    unknown_unit: str | None
+    remarks: tuple[tuple[str, str, tuple[float, ...]], ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
+class Plan:
+    """The units side of a parsed equation: built once per parse, resolved per binding.
+
+    ``unit``: the unknown unit the user chose (None: inferred). ``scale``/``offset``: what
+    the compiled code multiplies x by and adds to it (x_SI = scale*x + offset).
+    """
+
+    text: str
+    spans: tuple[tuple[Any, int, int], ...]
+    sides: tuple[Any, Any, tuple[int, int, int]]
+    unknown: Any  # the unknown's sympy Symbol
+    symbols: Mapping[str, Any]  # parameter name -> sympy Symbol
+    names_at: Mapping[Any, int]  # sympy Symbol -> where its name is first typed
+    unit: Unit | None
+    check_dimensions: bool
+    cache: dict[Any, Resolution] = field(default_factory=dict)
+
+    @property
+    def scale(self) -> float:
+        return 1.0 if self.unit is None else self.unit.factor
+
+    @property
+    def offset(self) -> float:
+        return 0.0 if self.unit is None else self.unit.offset
+
+    def resolve(self, converted: Mapping[str, Converted]) -> Resolution:
+        """Check the dimensions for these parameter units (cached by their dimensions)."""
+        used = {n: c for n, c in converted.items() if n in self.symbols}
+        temperatures = tuple(("absolute_temperature", n, ()) for n, c in used.items()
+                             if c.absolute_temperature)
+        if not used and self.unit is None:
+            return Resolution(None, ())
+        given_text = None if self.unit is None else self.unit.text
+        if not self.check_dimensions:
+            return Resolution(given_text, (("dimensions_unchecked", "", ()), *temperatures))
+        key = tuple(sorted((n, c.dimension) for n, c in used.items()))
+        hit = self.cache.get(key)
+        if hit is None:
+            from solvers.units import dimensions
+
+            outcome = dimensions.check(
+                self.text, self.spans, self.sides, self.unknown,
+                {self.symbols[n]: c.dimension for n, c in used.items()},
+                None if self.unit is None else self.unit.dimension,
+                self.unknown.name, given_text, self.names_at)
+            remarks: tuple[tuple[str, str, tuple[float, ...]], ...] = ()
+            if not outcome.fixed and self.unit is None:
+                remarks = (("unknown_dimension_free", self.unknown.name, ()),)
+            unit = given_text if given_text is not None else (
+                unit_text(outcome.dimension) or None)
+            hit = self.cache[key] = Resolution(unit, remarks)
+        return Resolution(hit.unknown_unit, hit.remarks + temperatures)
+
+
+def plan_for(text: str, parser: Any, lhs: Any, rhs: Any, unknown: Any,
+             symbols: Mapping[str, Any], unknown_unit: str | None,
+             check_dimensions: bool) -> Plan:
+    """The :class:`Plan` of a parse (``unknown_unit`` read now: EquationError if bad)."""
+    unit = None
+    if unknown_unit is not None:
+        if not isinstance(unknown_unit, str):
+            raise EquationError("the unknown unit must be text, got "
+                                f"{type(unknown_unit).__name__}")
+        if unknown_unit.strip():
+            try:
+                unit = read_unit(unknown_unit)
+            except EquationError as err:
+                raise EquationError(f"unknown unit: {err}") from None
+    equals = parser.equals if parser.equals is not None else len(text)
+    start = len(text) - len(text.lstrip())
+    sides = (lhs.expr, None if rhs is None else rhs.expr, (start, equals, len(text.rstrip())))
+    names_at = {s: parser.first_pos[n] for n, s in symbols.items() if n in parser.first_pos}
+    if unknown.name in parser.first_pos:
+        names_at[unknown] = parser.first_pos[unknown.name]
+    return Plan(text=text, spans=tuple(parser.spans), sides=sides, unknown=unknown,
+                symbols=dict(symbols), names_at=names_at, unit=unit,
+                check_dimensions=bool(check_dimensions))

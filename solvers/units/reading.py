@@ -1,0 +1,257 @@
+"""Unit text -> a checked unit (factor and offset to SI base units, dimension), with pint.
+
+User text is read in a restricted way: at most :data:`MAX_UNIT_TEXT` characters from a
+whitelist (letters, digits, spaces, ``* / ^ ** ( ) . - _ %``, ``µ``, ``°``, ``Ω``),
+then pint's own unit parser (which builds units from its registry by name and never
+evaluates Python). A name pint does not know is an :class:`EquationError` naming it, with
+the closest names of the registry as suggestions. Exponents are bounded and every
+factor must be a finite, non-zero double.
+
+pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
+never at start-up; readings are cached by text.
+
+Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
+temperatures, converted with their offset (25 degC -> 298.15 K). In a compound unit
+(``J/(kg*degC)``, ``degC/m``) pint reads them as a temperature difference, and so do we;
+a difference on its own is typed ``delta_degC`` / ``delta_degF`` (or ``K``).
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import re
+import threading
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any
+
+from solvers.equation.lexer import EquationError
+
+MAX_UNIT_TEXT = 60  # characters of one unit; 'kg*m^2/(s^3*A)' is 14
+MAX_UNIT_EXPONENT = 12  # |exponent| of any unit in a unit text (m^3, s^-2 ... never m^99)
+
+_ALLOWED = re.compile(r"[A-Za-z0-9 µμΩ°%*/^().\-_]*")
+_ALLOWED_ONE = re.compile(r"[A-Za-z0-9 µμΩ°%*/^().\-_]")
+
+Dimension = tuple[tuple[str, float], ...]  # sorted (pint base dimension, exponent) pairs
+DIMENSIONLESS: Dimension = ()
+
+_lock = threading.Lock()
+_registry: list[Any] = []
+
+
+def registry() -> Any:
+    """The one pint UnitRegistry (built on first use; thread-safe)."""
+    if not _registry:
+        with _lock:
+            if not _registry:
+                import pint
+
+                # offsets never autoconvert: 25 degC * 2 is refused by pint, not guessed
+                _registry.append(pint.UnitRegistry(autoconvert_offset_to_baseunit=False))
+    return _registry[0]
+
+
+@dataclass(frozen=True)
+class Unit:
+    """A read unit: ``si = value * factor + offset`` in SI base units of ``dimension``.
+
+    ``offset`` is non-zero only for an absolute temperature (degC, degF standing alone).
+    ``text`` is the unit as the user typed it (stripped).
+    """
+
+    text: str
+    factor: float
+    offset: float
+    dimension: Dimension
+
+    @property
+    def si_text(self) -> str:
+        """The SI unit of the converted value (ASCII, readable back by :func:`read_unit`)."""
+        return unit_text(self.dimension) or "1"
+
+
+def _normalised(exponent: float) -> float:
+    r = round(float(exponent), 9)
+    return float(int(r)) if r == int(r) else r
+
+
+def dimension_of(container: Any) -> Dimension:
+    """pint dimensionality -> our sorted tuple of (name, exponent)."""
+    return tuple(sorted((str(k), _normalised(v)) for k, v in dict(container).items()
+                        if _normalised(v) != 0.0))
+
+
+_PREFIXES = ("k", "m", "c", "M", "G", "µ", "u", "n")
+
+
+def _suggest(name: str, reg: Any) -> str:
+    names = [n for n in reg if isinstance(n, str)]
+    names += [p + n for n in names if len(n) <= 3 for p in _PREFIXES]  # mm, kPa, MPa ...
+    close = difflib.get_close_matches(name, names, n=3, cutoff=0.6)
+    if not close:
+        close = difflib.get_close_matches(name.lower(), [n.lower() for n in names], n=3,
+                                          cutoff=0.6)
+    return (" (did you mean " + ", ".join(f"'{c}'" for c in close) + "?)") if close else ""
+
+
+def _refuse(text: str, what: str) -> EquationError:
+    return EquationError(f"unit '{text}': {what}")
+
+
+@lru_cache(maxsize=512)
+def _read_cached(text: str) -> Unit:
+    reg = registry()
+    try:
+        units = reg.parse_units(text.replace("μ", "µ"))  # Greek mu typed for the micro sign
+    except Exception as exc:  # noqa: BLE001 - pint raises many kinds; each is one line here
+        names = getattr(exc, "unit_names", None)
+        if names:
+            name = names[0] if isinstance(names, (list, tuple)) else str(names)
+            inside = "" if name == text else f" in '{text}'"
+            raise EquationError(f"unknown unit '{name}'{inside}"
+                                + _suggest(name, reg)) from None
+        raise _refuse(text, "cannot be read as a unit") from None
+    for name, power in dict(units._units).items():
+        if abs(float(power)) > MAX_UNIT_EXPONENT:
+            raise _refuse(text, f"the power of {name} is beyond ±{MAX_UNIT_EXPONENT}")
+    try:
+        dimension = dimension_of(units.dimensionality)
+        zero = float(reg.Quantity(0.0, units).to_base_units().magnitude)
+        one = float(reg.Quantity(1.0, units).to_base_units().magnitude)
+    except Exception:  # noqa: BLE001 - an offset unit pint will not convert: one line
+        raise _refuse(text, "cannot be converted to SI base units") from None
+    factor = one - zero
+    if not (math.isfinite(zero) and math.isfinite(factor) and factor != 0.0):
+        raise _refuse(text, "its size is beyond double precision")
+    if zero != 0.0:  # an absolute temperature: its scale from the difference unit, not
+        # from subtracting two offsets (degF: 5/9 to the last bit, not 0.55555555555554)
+        try:
+            (name, power), = dict(units._units).items()
+            delta = reg.parse_units(f"delta_{name}")
+            factor = float(reg.Quantity(1.0, delta).to_base_units().magnitude)
+        except Exception:  # noqa: BLE001 - keep the subtraction's value
+            pass
+    return Unit(text=text, factor=factor, offset=zero, dimension=dimension)
+
+
+def read_unit(text: Any) -> Unit:
+    """Read unit text (``"mm"``, ``"m^3/s"``, ``"mPa*s"``, ``"degC"``) into a :class:`Unit`.
+
+    Raises :class:`EquationError` (one line) for text that is too long, holds a character
+    outside the whitelist, names a unit pint does not know (with close names suggested),
+    has an exponent beyond ±``MAX_UNIT_EXPONENT`` or a size beyond double precision.
+    """
+    if not isinstance(text, str):
+        raise EquationError(f"a unit must be text, got {type(text).__name__}")
+    stripped = " ".join(text.split())
+    if not stripped:
+        raise EquationError("the unit is empty")
+    if len(stripped) > MAX_UNIT_TEXT:
+        raise EquationError(f"unit text longer than {MAX_UNIT_TEXT} characters "
+                            f"({len(stripped)})")
+    if not _ALLOWED.fullmatch(stripped):
+        bad = next(c for c in stripped if not _ALLOWED_ONE.fullmatch(c))
+        raise _refuse(stripped, f"character {bad!r} is not allowed in a unit "
+                      "(letters, digits, spaces and * / ^ ( ) . - only)")
+    if "__" in stripped or stripped.count("(") > 8:
+        raise _refuse(stripped, "cannot be read as a unit")
+    return _read_cached(stripped)
+
+
+# ---------------------------------------------------------------------------------------------
+# Value strings: "150 mm", "-5 delta_degC", "1.2e5"
+# ---------------------------------------------------------------------------------------------
+
+_NUMBER = re.compile(r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)(.*)",
+                     re.ASCII | re.DOTALL)
+
+
+def split_value(text: str) -> tuple[float, str]:
+    """``"150 mm"`` -> ``(150.0, "mm")``; ``"2.5"`` -> ``(2.5, "")``.
+
+    The number is ASCII decimal (as in an equation: no ``1_000``, no fullwidth digits);
+    it must be finite and not underflow to zero. Raises :class:`EquationError`.
+    """
+    m = _NUMBER.match(text)
+    if m is None:
+        shown = text.strip()[:40]
+        raise EquationError(f"'{shown}' does not start with a number")
+    number_text, rest = m.group(1), m.group(2)
+    value = float(number_text)
+    if not math.isfinite(value):
+        raise EquationError(f"number {number_text} is beyond double precision")
+    if value == 0 and any(c in "123456789" for c in number_text.lower().split("e")[0]):
+        raise EquationError(f"number {number_text} underflows to zero in double precision")
+    unit = rest.strip()
+    if unit.startswith("*"):  # "150*mm" reads as "150 mm"
+        unit = unit[1:].strip()
+    if rest and not rest[0].isspace() and not rest.startswith("*") and \
+            not (rest[0].isalpha() or rest[0] in "µμ°%Ω"):
+        raise EquationError(f"'{text.strip()[:40]}' is not a number followed by a unit")
+    return value, unit
+
+
+# ---------------------------------------------------------------------------------------------
+# Dimensions as unit text
+# ---------------------------------------------------------------------------------------------
+
+_SYMBOLS = {"[length]": "m", "[mass]": "kg", "[time]": "s", "[temperature]": "K",
+            "[substance]": "mol", "[current]": "A", "[luminosity]": "cd"}
+
+# Coherent SI units with names (factor 1 from base units), used when a dimension matches.
+_NAMED: dict[Dimension, str] = {
+    (("[length]", 1.0), ("[mass]", 1.0), ("[time]", -2.0)): "N",
+    (("[length]", -1.0), ("[mass]", 1.0), ("[time]", -2.0)): "Pa",
+    (("[length]", 2.0), ("[mass]", 1.0), ("[time]", -2.0)): "J",
+    (("[length]", 2.0), ("[mass]", 1.0), ("[time]", -3.0)): "W",
+}
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def _power_text(value: float, pretty: bool) -> str:
+    value = float(value)
+    if value == int(value):
+        n = int(value)
+        if n == 1:
+            return ""
+        return str(n).translate(_SUPERSCRIPT) if pretty else f"^{n}"
+    from fractions import Fraction
+
+    frac = Fraction(value).limit_denominator(12)
+    if abs(float(frac) - value) < 1e-9:
+        return f"^({frac.numerator}/{frac.denominator})"
+    return f"^{value:g}"
+
+
+def unit_text(dimension: Dimension, pretty: bool = False) -> str:
+    """SI units of a dimension: ``m^3/s``, ``kg/(m*s)``, ``Pa`` ('' when dimensionless).
+
+    ``pretty`` writes powers as superscripts and products with '·' (for messages).
+    """
+    if dimension in _NAMED:
+        return _NAMED[dimension]
+    dot = "·" if pretty else "*"
+    up = [(_SYMBOLS.get(n, n.strip("[]")), e) for n, e in dimension if e > 0]
+    down = [(_SYMBOLS.get(n, n.strip("[]")), -e) for n, e in dimension if e < 0]
+    order = {"kg": 0, "m": 1, "s": 2, "K": 3, "mol": 4, "A": 5, "cd": 6}
+    up.sort(key=lambda p: order.get(p[0], 9))
+    down.sort(key=lambda p: order.get(p[0], 9))
+
+    def join(parts: list[tuple[str, float]]) -> str:
+        return dot.join(s + _power_text(e, pretty) for s, e in parts)
+
+    if not up and not down:
+        return ""
+    top = join(up) if up else "1"
+    if not down:
+        return top
+    bottom = join(down)
+    return f"{top}/({bottom})" if len(down) > 1 else f"{top}/{bottom}"
+
+
+def dimension_words(dimension: Dimension) -> str:
+    """A dimension for a one-line message: its SI unit, or 'dimensionless'."""
+    return unit_text(dimension, pretty=True) or "dimensionless"
