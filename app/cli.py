@@ -117,14 +117,37 @@ _count_samples = _whole(3, 100_000_000)  # scan sampling density
 _figures = _whole(1, 17)  # significant figures printed (17 hold every double)
 
 
-def _param(text: str) -> tuple[str, float]:
+def _param(text: str) -> tuple[str, float, str]:
+    """``NAME=VALUE`` or ``NAME=VALUE UNIT`` -> (name, number, unit text or '')."""
     name, sep, value = text.partition("=")
     name = name.strip()
     if not sep or not name:
         raise argparse.ArgumentTypeError(f"{text!r} is not NAME=VALUE")
     if not (name.isidentifier() and name.isascii()) or name.startswith("_"):
         raise argparse.ArgumentTypeError(f"{name!r} is not a valid parameter name")
-    return name, _param_value(name, value)
+    try:
+        return name, _param_value(name, value), ""
+    except argparse.ArgumentTypeError as plain:
+        unit_split = _with_unit(value)
+        if unit_split is None:
+            raise plain from None
+        number_text, unit = unit_split
+        number = _param_value(name, number_text)
+        from solvers.equation import EquationError
+        from solvers.units import read_unit
+
+        try:
+            read_unit(unit)
+        except EquationError as exc:
+            raise argparse.ArgumentTypeError(f"value of {name}: {exc}") from None
+        return name, number, " ".join(unit.split())
+
+
+def _with_unit(text: str) -> tuple[str, str] | None:
+    """``"150 mm"`` -> ("150", "mm"); None unless a number is followed by unit text."""
+    m = re.fullmatch(r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)"
+                     r"\s*\*?\s*([^\d\s_.*+-].*?)\s*", text, re.ASCII | re.DOTALL)
+    return (m.group(1), m.group(2)) if m else None
 
 
 def _param_value(name: str, text: str) -> float:
@@ -167,8 +190,14 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
         type=_param,
         default=[],
         metavar="NAME=VALUE",
-        help="a parameter value; repeat for each",
+        help="a parameter value, optionally with a unit ('D=150 mm'); repeat for each",
     )
+    p.add_argument("--unknown-unit", metavar="U",
+                   help="the unit of the unknown, its start values and range (default: the "
+                   "SI unit its dimension implies)")
+    p.add_argument("--no-dimension-check", action="store_true",
+                   help="convert units but do not check the equation's dimensions (said on "
+                   "every output)")
     p.add_argument("--json", action="store_true", help="print JSON for machines")
 
 
@@ -257,11 +286,15 @@ def _worksheet_from_args(args: argparse.Namespace):
     if args.unknown:
         ws = replace(ws, unknown=args.unknown)
     if args.param:
-        values = ws.parameter_values()
-        notes = {p.name: p.note for p in ws.parameters}
-        values.update(dict(args.param))
-        params = tuple(Parameter(n, v, notes.get(n, "")) for n, v in values.items())
-        ws = replace(ws, parameters=params)
+        params = {p.name: p for p in ws.parameters}
+        for name, value, unit in args.param:
+            note = params[name].note if name in params else ""
+            params[name] = Parameter(name, value, note, unit)
+        ws = replace(ws, parameters=tuple(params.values()))
+    if args.unknown_unit is not None:
+        ws = replace(ws, unknown_unit=_unknown_unit(args.unknown_unit))
+    if args.no_dimension_check:
+        ws = replace(ws, dimension_check=False)
     s = ws.settings if args.worksheet else Settings()
     changes: dict[str, Any] = {}
     for flag in ("x0", "x1", "xtol", "rtol", "ftol", "max_iter", "damping"):
@@ -280,6 +313,18 @@ def _worksheet_from_args(args: argparse.Namespace):
     if problem:
         raise InputError(f"zerotrace solve: {problem} (set --xtol, --rtol or --ftol)")
     return replace(ws, settings=s)
+
+
+def _unknown_unit(text: str) -> str | None:
+    from solvers.equation import EquationError
+    from solvers.units import read_unit
+
+    if not text.strip():
+        return None
+    try:
+        return read_unit(text).text
+    except EquationError as exc:
+        raise InputError(f"--unknown-unit: {exc}") from None
 
 
 def _json_out(data: dict) -> None:
@@ -341,19 +386,17 @@ def cmd_scan(args: argparse.Namespace) -> int:
     equation = pipeline.equation_of(ws)
     result = pipeline.scan_worksheet(ws, equation, samples=args.samples)
     if csv_path:
-        meta = export.metadata(
-            equation=ws.equation, unknown=equation.unknown, parameters=equation.parameters
-        )
+        meta = export.equation_meta(equation)
         try:
             export.roots_csv(result, csv_path, meta=meta)
         except OSError as exc:
             raise InputError(f"{csv_path}: cannot write ({exc.strerror or exc})") from None
     if args.json:
         data = export.scan_json(result)
-        _json_out({"equation": ws.equation, "unknown": equation.unknown, **data,
-                   "caution": export.CAUTION})
+        _json_out({"equation": ws.equation, "unknown": equation.unknown,
+                   **export.units_json(equation), **data, "caution": export.CAUTION})
     else:
-        terminal.print_scan(result, equation.unknown)
+        terminal.print_scan(result, equation.unknown, equation.unknown_unit)
         if csv_path:
             print(f"roots written to {csv_path}")
     return EXIT_OK

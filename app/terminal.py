@@ -38,8 +38,9 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
 
     eq = solution.equation
     print(f"equation: {solution.worksheet.equation}")
-    params = ", ".join(f"{k} = {_g(v)}" for k, v in eq.parameters.items())
-    print(f"unknown:  {eq.unknown}" + (f"    parameters: {params}" if params else ""))
+    params = ", ".join(_parameter(k, v, eq.units.get(k)) for k, v in eq.parameters.items())
+    unknown = f"{eq.unknown} [{eq.unknown_unit}]" if eq.unknown_unit else eq.unknown
+    print(f"unknown:  {unknown}" + (f"    parameters: {params}" if params else ""))
     from app.documents.words import remarks_text
 
     for note in (*remarks_text(eq.remarks), *words.start_notes(solution.start)):
@@ -59,7 +60,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
                 r.method,
             ]
         )
-    header = ["method", "root", "converged", "reason", "iterations", "evaluations", "order",
+    header = ["method", _labelled("root", eq.unknown_unit), "converged", "reason", "iterations", "evaluations", "order",
               "--method"]
     print(_table(header, rows))
     print()
@@ -73,16 +74,32 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
                 [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
                 for s in r.steps
             ]
-            print(_table(["k", "x", "f(x)", "f'(x)", "dx", "lo", "hi"], body))
+            unit = eq.unknown_unit
+            print(_table(["k", _labelled("x", unit), "f(x)", "f'(x)", _labelled("dx", unit),
+                          _labelled("lo", unit), _labelled("hi", unit)], body))
     print(f"\n{caution()}")
 
 
-def print_scan(scan, unknown: str) -> None:
+def _labelled(column: str, unit: str | None) -> str:
+    """A column heading in the unknown's unit: ``root [mm]``."""
+    return f"{column} [{unit}]" if unit else column
+
+
+def _parameter(name: str, value: float, converted) -> str:
+    """``D = 150 mm (0.15 m)`` for a value with a unit, ``Re = 120000`` without."""
+    if converted is None:
+        return f"{name} = {_g(value)}"
+    return f"{name} = {_g(converted.value)} {converted.unit} ({_g(converted.si_value)} " \
+           f"{converted.si_unit})"
+
+
+def print_scan(scan, unknown: str, unit: str | None = None) -> None:
     from app.documents import words
 
     # The range as typed: 15 figures show any typed decimal whole, without a ".0".
-    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {unknown}: {len(scan.roots)} root(s), "
-          f"{scan.samples} samples")
+    shown = f"{unknown} [{unit}]" if unit else unknown
+    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {shown}: {len(scan.roots)} "
+          f"root(s), {scan.samples} samples")
     if scan.roots:
         rows = [
             [
@@ -95,7 +112,8 @@ def print_scan(scan, unknown: str) -> None:
             ]
             for i, r in enumerate(scan.roots)
         ]
-        print(_table(["#", "x", "residual", "multiplicity", "confirmed by", "located by"], rows))
+        print(_table(["#", _labelled("x", unit), "residual", "multiplicity", "confirmed by",
+                      "located by"], rows))
     for x in scan.poles:
         print(f"pole (not a root) near {unknown} = {_g(x)}")
     for x in scan.discontinuities:

@@ -94,12 +94,25 @@ def equation_of(ws: Worksheet, parsed: Equation | None = None) -> Equation:
     text or the unknown differ, the text is parsed.
     """
     values = ws.parameter_values()
-    if parsed is not None and parsed.text == ws.equation:
+    unit = ws.unknown_unit or None
+    if parsed is not None and parsed.text == ws.equation and _same_units(parsed, ws):
         names = parsed.names[1:]
         same_unknown = ws.unknown in (None, parsed.unknown) and parsed.unknown not in values
         if same_unknown and all(n in values for n in names):
             return parsed.bind({n: values[n] for n in names})
-    return parse_equation(ws.equation, unknown=ws.unknown, parameters=values)
+    return parse_equation(ws.equation, unknown=ws.unknown, parameters=values,
+                          unknown_unit=unit, check_dimensions=ws.dimension_check)
+
+
+def _same_units(parsed: Equation, ws: Worksheet) -> bool:
+    """Whether ``parsed`` was compiled for the worksheet's unknown unit and check switch
+    (both are fixed at parse time; parameter units are bound)."""
+    plan = parsed._core.units if parsed._core is not None else None
+    if plan is None:
+        return True
+    chosen = None if plan.unit is None else plan.unit.text
+    return chosen == (" ".join(ws.unknown_unit.split()) if ws.unknown_unit else None) \
+        and plan.check_dimensions == ws.dimension_check
 
 
 def _evaluate(f: Callable[[float], float], x: float) -> float:

@@ -10,6 +10,7 @@ from dataclasses import dataclass, field, replace
 from typing import Any
 
 from solvers.methods import METHODS
+from solvers.units import Measured
 
 METHOD_NAMES: tuple[str, ...] = tuple(METHODS)  # the registry's keys, in its order
 DEFAULT_METHODS = ("newton", "secant", "false_position")
@@ -17,11 +18,13 @@ DEFAULT_METHODS = ("newton", "secant", "false_position")
 
 @dataclass(frozen=True)
 class Parameter:
-    """A named input of the equation: value in the user's units, note free text."""
+    """A named input of the equation: value in ``unit`` ('' for a plain number, taken as
+    it stands), note free text."""
 
     name: str
     value: float
     note: str = ""
+    unit: str = ""
 
 
 @dataclass(frozen=True)
@@ -75,9 +78,13 @@ class Worksheet:
     notes: str = ""
     calc: CalcInfo = field(default_factory=CalcInfo)
     selection: Selection | None = None
+    unknown_unit: str | None = None  # the unit of the unknown, start values and scan range
+    dimension_check: bool = True  # False: units converted, dimensions not checked (stated)
 
-    def parameter_values(self) -> dict[str, float]:
-        return {p.name: p.value for p in self.parameters}
+    def parameter_values(self) -> dict[str, Any]:
+        """name -> value for ``parse_equation``: a float, or a Measured when it has a unit."""
+        return {p.name: Measured(p.value, p.unit) if p.unit else p.value
+                for p in self.parameters}
 
     def with_changes(self, **changes: Any) -> Worksheet:
         return replace(self, **changes)

@@ -28,6 +28,7 @@ from typing import IO, Any
 from app.documents.files import write_atomic
 from app.documents.words import (
     CAUTION,
+    DIMENSIONS_UNCHECKED,
     confirmed_text,
     located_text,
     run_message,
@@ -38,6 +39,13 @@ from solvers.records import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
 ROOT_COLUMNS = ("kind", "x", "residual", "multiplicity", "confirmed", "located_by")
+IN_UNKNOWN_UNIT = ("x", "dx", "lo", "hi")  # columns in the unknown's unit: "x [mm]"
+UNIT_KEY = "unknown unit"  # the metadata line that carries it (and labels those columns)
+
+
+def with_units(columns: Iterable[str], unit: str | None) -> list[str]:
+    """Header cells: the columns in the unknown's unit get it in brackets, ``x [m]``."""
+    return [f"{c} [{unit}]" if unit and c in IN_UNKNOWN_UNIT else c for c in columns]
 
 
 def tool_version() -> str:
@@ -68,21 +76,50 @@ def metadata(
     settings: Mapping[str, Any] | None = None,
     extra: Mapping[str, str] | None = None,
     when: datetime | None = None,
+    units: Mapping[str, Any] | None = None,
+    unknown_unit: str | None = None,
+    remarks: Iterable[Any] = (),
 ) -> dict[str, str]:
-    """The ``#`` header lines of an export, as an ordered mapping."""
+    """The ``#`` header lines of an export, as an ordered mapping.
+
+    ``units``: parameter name -> :class:`solvers.units.Converted` for parameters given with
+    a unit (written as entered and in SI); ``unknown_unit`` labels the columns in the
+    unknown's unit; ``remarks`` (the equation's) add a ``dimensions`` line when the
+    dimensional check was switched off.
+    """
+    units = units or {}
     meta = {
         "tool": f"zerotrace {tool_version()}",
         "time": (when or datetime.now(timezone.utc)).isoformat(timespec="seconds"),
         "equation": equation,
         "unknown": unknown,
-        "parameters": "; ".join(f"{k}={number(v)}" for k, v in parameters.items()) or "(none)",
+        "parameters": "; ".join(_parameter_cell(k, v, units.get(k))
+                                for k, v in parameters.items()) or "(none)",
     }
+    if unknown_unit:
+        meta[UNIT_KEY] = unknown_unit
+    if any(getattr(r, "code", "") == "dimensions_unchecked" for r in remarks):
+        meta["dimensions"] = DIMENSIONS_UNCHECKED
     if settings:
         meta["settings"] = "; ".join(f"{k}={_setting(v)}" for k, v in settings.items())
     if extra:
         meta.update(extra)
     meta["caution"] = CAUTION
     return meta
+
+
+def _parameter_cell(name: str, value: Any, converted: Any) -> str:
+    if converted is None:
+        return f"{name}={number(value)}"
+    return (f"{name}={number(converted.value)} {converted.unit} "
+            f"(= {number(converted.si_value)} {converted.si_unit})")
+
+
+def equation_meta(equation: Any, **more: Any) -> dict[str, str]:
+    """:func:`metadata` of an :class:`~solvers.equation.Equation` (units and remarks too)."""
+    return metadata(equation=equation.text, unknown=equation.unknown,
+                    parameters=equation.parameters, units=equation.units,
+                    unknown_unit=equation.unknown_unit, remarks=equation.remarks, **more)
 
 
 def _setting(value: Any) -> str:
@@ -163,7 +200,8 @@ def runs_csv(
         )
         for r in runs
     }
-    _write_table(buffer, {**meta, **summary}, RUN_COLUMNS, run_rows(runs))
+    _write_table(buffer, {**meta, **summary}, with_units(RUN_COLUMNS, meta.get(UNIT_KEY)),
+                 run_rows(runs))
     _emit(target, buffer.getvalue(), overwrite)
 
 
@@ -183,7 +221,8 @@ def roots_csv(
     warnings = scan_warnings(scan)
     if warnings:
         extra["warnings"] = " | ".join(warnings)
-    _write_table(buffer, {**meta, **extra}, ROOT_COLUMNS, root_rows(scan))
+    _write_table(buffer, {**meta, **extra}, with_units(ROOT_COLUMNS, meta.get(UNIT_KEY)),
+                 root_rows(scan))
     _emit(target, buffer.getvalue(), overwrite)
 
 
@@ -267,13 +306,31 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
     notes = start_notes(sv)
     if notes:
         more["start values"] = "; ".join(notes)
+    eq = solution.equation
     return metadata(
         equation=ws.equation,
-        unknown=solution.equation.unknown,
-        parameters=solution.equation.parameters,
+        unknown=eq.unknown,
+        parameters=eq.parameters,
         settings=settings,
         extra=more,
+        units=eq.units,
+        unknown_unit=eq.unknown_unit,
+        remarks=eq.remarks,
     )
+
+
+def units_json(equation: Any) -> dict[str, Any]:
+    """The units of a JSON document: ``unknown_unit``, each parameter's unit as entered
+    and in SI (``parameter_units``), and whether dimensions were checked."""
+    return {
+        "unknown_unit": equation.unknown_unit,
+        "parameter_units": {
+            name: {"value": _json_float(c.value), "unit": c.unit,
+                   "si_value": _json_float(c.si_value), "si_unit": c.si_unit}
+            for name, c in equation.units.items() if isinstance(c.value, float)},
+        "dimension_check": not any(r.code == "dimensions_unchecked"
+                                   for r in equation.remarks),
+    }
 
 
 def solution_json(solution: Any) -> dict[str, Any]:
@@ -281,6 +338,7 @@ def solution_json(solution: Any) -> dict[str, Any]:
     return {
         "equation": solution.worksheet.equation,
         "unknown": solution.equation.unknown,
+        **units_json(solution.equation),
         "parameters": dict(solution.equation.parameters),
         "start": {
             "x0": _json_float(solution.start.x0),

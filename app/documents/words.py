@@ -496,6 +496,18 @@ NO_DERIVATIVE_WORDS: dict[str, Callable[[tuple[float, ...]], str]] = {
     "not_compiled": lambda n: "it cannot be compiled",
 }
 
+# The dimensional check switched off (a worksheet's dimension_check, --no-dimension-check):
+# said on every document of such a worksheet, never a silent pass.
+DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every unit is "
+                        "converted but whether the equation is consistent is yours to verify")
+
+# The remarks about units (every document that lists an equation's remarks shows these)
+UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
+                          "unknown_dimension_free"})
+
+DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
+                      "function arguments and exponents are dimensionless")
+
 REMARK_WORDS: dict[str, Callable[[Any], str]] = {
     "unknown_has_value": lambda r: f"'{r.subject}' is the unknown: its parameter value is "
                                    "not used",
@@ -507,6 +519,12 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
     "kinks": lambda r: "abs/min/max have a kink: the derivative there uses sign/step values",
     "no_dependence": lambda r: f"the equation does not depend on '{r.subject}' once simplified",
     "e_notation": lambda r: "numbers such as 2e3 are read as 2000, not as 2*e*3",
+    "dimensions_unchecked": lambda r: f"dimensions {DIMENSIONS_UNCHECKED}",
+    "absolute_temperature": lambda r: f"'{r.subject}' in degC/degF is an absolute temperature, "
+                                      "converted to kelvin with the offset (type delta_degC "
+                                      "or delta_degF for a difference)",
+    "unknown_dimension_free": lambda r: f"the equation does not fix the dimension of "
+                                        f"'{r.subject}': it is taken as dimensionless",
 }
 
 

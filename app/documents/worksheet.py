@@ -9,7 +9,10 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
       "title": "...", "notes": "...",
       "equation": "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))",
       "unknown": "f",                      # or null: inferred
-      "parameters": [{"name": "Re", "value": 1.2e5, "note": "..."}],
+      "parameters": [{"name": "Re", "value": 1.2e5, "note": "..."},
+                     {"name": "D", "value": 150, "unit": "mm", "note": "..."}],
+      "unknown_unit": "mm",                # optional: the unit of x, x0, x1, bracket, scan
+      "dimension_check": false,            # optional (default true): see below
       "settings": {"methods": ["newton", "secant", "false_position"],
                    "x0": 0.02, "x1": 0.03, "bracket": [0.005, 0.1],
                    "xtol": 1e-12, "rtol": 8.9e-16, "ftol": 0.0,
@@ -18,6 +21,13 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
       "calc": {"number": "", "revision": "", "prepared_by": "", "checked_by": ""},
       "selection": {"root": 0.0213, "reason": "..."}   # or null
     }
+
+A parameter's ``unit`` (optional; absent or "" for a plain number) is read by pint in the
+restricted way of :func:`solvers.units.read_unit` when the file is loaded, so a unit pint
+does not know is a load error naming the field. ``dimension_check: false`` switches the
+dimensional check off for correlations whose constants hide their units; every document of
+such a worksheet says so. The three keys are written only when they are set, so a
+worksheet without units is written exactly as before.
 
 Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
 whose message names the field (``settings.xtol: must not be negative``); every
@@ -114,14 +124,14 @@ class WorksheetError(ValueError):
 
 def to_dict(ws: Worksheet) -> dict[str, Any]:
     s = ws.settings
-    return {
+    data = {
         "format": FORMAT,
         "version": VERSION,
         "title": ws.title,
         "notes": ws.notes,
         "equation": ws.equation,
         "unknown": ws.unknown,
-        "parameters": [asdict(p) for p in ws.parameters],
+        "parameters": [_parameter_dict(p) for p in ws.parameters],
         "settings": {
             "methods": list(s.methods),
             "x0": s.x0,
@@ -137,6 +147,32 @@ def to_dict(ws: Worksheet) -> dict[str, Any]:
         "calc": asdict(ws.calc),
         "selection": asdict(ws.selection) if ws.selection is not None else None,
     }
+    if ws.unknown_unit:
+        data["unknown_unit"] = ws.unknown_unit
+    if not ws.dimension_check:
+        data["dimension_check"] = False
+    return data
+
+
+def _parameter_dict(p: Parameter) -> dict[str, Any]:
+    data = asdict(p)
+    if not p.unit:  # a plain number: the file is exactly what it was before units
+        del data["unit"]
+    return data
+
+
+def _unit(value: Any, where: str) -> str:
+    """Unit text of a field: '' when absent, else read by pint (restricted) or refused."""
+    from solvers.equation import EquationError
+    from solvers.units import MAX_UNIT_TEXT, read_unit
+
+    text = _text(value, where, MAX_UNIT_TEXT).strip()
+    if text:
+        try:
+            read_unit(text)
+        except EquationError as exc:
+            raise _fail(where, str(exc)) from None
+    return text
 
 
 def dumps(ws: Worksheet) -> str:
@@ -287,7 +323,8 @@ def from_dict(data: Any) -> Worksheet:
         if "value" not in raw:
             raise _fail(f"{where}.value", "missing")
         value = _number(raw["value"], f"{where}.value")
-        params.append(Parameter(name, value, _text(raw.get("note"), f"{where}.note")))
+        params.append(Parameter(name, value, _text(raw.get("note"), f"{where}.note"),
+                                _unit(raw.get("unit"), f"{where}.unit")))
 
     raw_settings = _mapping(data.get("settings") or {}, "settings")
     defaults = Settings()
@@ -354,7 +391,12 @@ def from_dict(data: Any) -> Worksheet:
             reason=_text(sel_map.get("reason"), "selection.reason"),
         )
 
+    check = data.get("dimension_check", True)
+    if not isinstance(check, bool):
+        raise _fail("dimension_check", f"must be true or false, got {_type_name(check)}")
     return Worksheet(
+        unknown_unit=_unit(data.get("unknown_unit"), "unknown_unit") or None,
+        dimension_check=check,
         equation=equation,
         unknown=unknown,
         parameters=tuple(params),

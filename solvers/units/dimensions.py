@@ -267,11 +267,15 @@ def check(text: str, spans: Sequence[tuple[Any, int, int]],
     x_dim = fixed if fixed is not None else (given_exact or ())
     found = run((x_dim, _ZERO))
     if found is not None:
-        _raise(text, found[0], found[1], positions)
+        because = ""
+        if fixed is not None and where is not None and found[1] != where:
+            because = (f" (with '{unknown_name}' in {dimension_words(_plain(fixed))}, as "
+                       f"`{snippet(text, *where)}` makes it)")
+        _raise(text, found[0], found[1], positions, because)
     return Outcome(_plain(x_dim), fixed is not None, where)
 
 
 def _raise(text: str, conflict: _Conflict, where: tuple[int, int],
-           positions: Mapping[Any, int]) -> None:
+           positions: Mapping[Any, int], because: str = "") -> None:
     part = snippet(text, *where)
-    raise _fail(text, _message(conflict, part, positions), where[0])
+    raise _fail(text, _message(conflict, part, positions) + because, where[0])

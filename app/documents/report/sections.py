@@ -149,8 +149,17 @@ def _equation_section(c: _Context) -> list[Flowable]:
         ("Typeset", typeset or Paragraph(
             "(mathtext cannot typeset this form legibly; the text as entered governs)",
             st["small"])),
-        ("Unknown", Paragraph(f"<font name='ZT-Mono'>{escape(eq.unknown)}</font>", st["cell"])),
+        ("Unknown", Paragraph(f"<font name='ZT-Mono'>{escape(eq.unknown)}</font>"
+                              + (f", in <font name='ZT-Mono'>{escape(eq.unknown_unit)}</font> "
+                                 "(start values, scan range and roots)"
+                                 if getattr(eq, "unknown_unit", None) else ""), st["cell"])),
     ]
+    units_used = bool(getattr(eq, "units", None)) or bool(getattr(eq, "unknown_unit", None))
+    unchecked = any(r.code == "dimensions_unchecked" for r in getattr(eq, "remarks", ()))
+    if units_used or unchecked:
+        rows.append(("Dimensions", Paragraph(_text(
+            words.DIMENSIONS_UNCHECKED if unchecked else words.DIMENSIONS_CHECKED),
+            st["cell"])))
     newton_runs = [r for r in c.solution.runs if r.method == "newton"]
     numerical = getattr(eq, "fprime", None) is None or any(
         r.derivative == "numerical" for r in newton_runs
@@ -173,15 +182,32 @@ def _equation_section(c: _Context) -> list[Flowable]:
             f"{_text(formula)}</font>", st["formula"]
         )
         rows.append(("Derivative used by Newton", [*images, text] if images else text))
-    notes = tuple(getattr(eq, "notes", ()) or ())
+    notes = tuple(getattr(eq, "notes", ()) or ()) + words.remarks_text(
+        r for r in getattr(eq, "remarks", ()) if r.code in words.UNIT_REMARKS)
     if notes:
         rows.append(("Reading of the text", Paragraph(_text("; ".join(notes)), st["cell"])))
     out: list[Flowable] = [*_heading("1  Equation", st, "h1"), _key_value_table(rows, st)]
 
     out += _heading("2  Parameters", st, "h1")
     params = c.ws.parameters
+    converted = getattr(eq, "units", None) or {}
     if not params:
         out.append(Paragraph("The equation has no named parameters.", st["body"]))
+    elif any(p.unit for p in params):
+        # as entered, and as the equation used it (SI base units), side by side
+        def si(p: Any) -> str:
+            got = converted.get(p.name)
+            return "" if got is None else f"{_num(got.si_value)} {got.si_unit}"
+
+        data = [["Name", "Value", "Unit", "In SI units", "Note"]] + [
+            [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
+             Paragraph(escape(_num(p.value)), st["cellmono"]),
+             Paragraph(escape(p.unit or "(none)"), st["cellmono"]),
+             Paragraph(escape(si(p)), st["cellmono"]),
+             Paragraph(_text(p.note), st["cell"])]
+            for p in params
+        ]
+        widths = [24 * mm, 34 * mm, 22 * mm, 40 * mm, TEXT_WIDTH - 120 * mm]
     else:
         data = [["Name", "Value", "Note"]] + [
             [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
@@ -247,7 +273,9 @@ def _method_kinds(methods: Sequence[str]) -> set[str]:
 def _results_section(c: _Context) -> list[Flowable]:
     st, sol = c.st, c.solution
     runs = list(sol.runs)
-    head = ["Method", "Root x", "Conv.", "Stop reason", "Iter.", "Evals", "Order"]
+    unit = getattr(sol.equation, "unknown_unit", None)
+    head = ["Method", f"Root x [{unit}]" if unit else "Root x", "Conv.", "Stop reason", "Iter.",
+            "Evals", "Order"]
     data: list[list[Any]] = [head]
     for r in runs:
         order = r.order
