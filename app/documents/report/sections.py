@@ -216,6 +216,7 @@ def _equation_section(c: _Context) -> list[Flowable]:
             for p in params
         ]
         widths = [30 * mm, 46 * mm, TEXT_WIDTH - 76 * mm]
+    if params:
         out.append(Table(data, colWidths=widths, repeatRows=1, hAlign="LEFT",
                          style=TableStyle(_grid_style())))
     return out
