@@ -60,8 +60,8 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
                 r.method,
             ]
         )
-    header = ["method", _labelled("root", eq.unknown_unit), "converged", "reason", "iterations", "evaluations", "order",
-              "--method"]
+    header = ["method", _labelled("root", eq.unknown_unit), "converged", "reason", "iterations",
+              "evaluations", "order", "--method"]
     print(_table(header, rows))
     print()
     for r in solution.runs:

@@ -1,0 +1,346 @@
+"""Units: parameters with units, the dimensional check and the unknown in its own unit.
+
+Outside references named beside each check: NIST SP 811 (2008), Appendix B, for the exact
+definitions of customary units; scipy.constants (CODATA values and the same exact
+definitions); closed forms of the equations solved (algebra, stated where used).
+The hydraulic and gas scenarios are invented for these tests.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+
+import numpy as np
+import pytest
+import scipy.constants as sc
+
+from app.cli import main
+from app.documents import words
+from app.documents.worksheet import Parameter, Worksheet, dumps, loads
+from solvers import EquationError, brent, newton, parse_equation, pipeline
+from solvers.units import Measured, measured, read_unit
+
+ULP = 4 * 2.220446049250313e-16  # pint multiplies definitions: a few ulps, never more
+
+
+# ---------------------------------------------------------------- conversion factors
+
+
+@pytest.mark.parametrize(("text", "si"), [
+    ("ft", 0.3048),  # NIST SP 811 B.8: international foot = 0.3048 m exactly
+    ("inch", 0.0254),  # NIST SP 811: inch = 2.54 cm exactly
+    ("lb", 0.45359237),  # NIST SP 811: pound (avoirdupois) = 0.45359237 kg exactly
+    ("gallon", 3.785411784e-3),  # NIST SP 811: US gallon = 3.785411784 L exactly
+    ("g_0", 9.80665),  # NIST SP 811 / CGPM 1901: standard gravity 9.80665 m/s^2 exactly
+    ("atm", 101325.0),  # NIST SP 811: standard atmosphere = 101 325 Pa exactly
+    ("mPa*s", 1e-3),  # SI prefix milli (NIST SP 811 Table 5)
+    ("km/h", 1000 / 3600),  # SI: 1 h = 3600 s
+])
+def test_conversion_factors_match_exact_definitions(text, si):
+    unit = read_unit(text)
+    assert unit.offset == 0.0
+    assert unit.factor == pytest.approx(si, rel=ULP)
+
+
+@pytest.mark.parametrize(("text", "reference"), [
+    ("ft", sc.foot), ("lb", sc.pound), ("gallon", sc.gallon), ("psi", sc.psi),
+    ("lbf", sc.pound_force), ("mile", sc.mile), ("hp", sc.horsepower), ("bar", sc.bar),
+    ("deg", sc.degree), ("Btu_it", sc.Btu_IT),  # scipy.constants values (SI)
+])
+def test_conversion_factors_match_scipy_constants(text, reference):
+    assert read_unit(text).factor == pytest.approx(reference, rel=1e-9)
+
+
+def test_a_parameter_with_a_unit_reaches_f_in_si_base_units():
+    eq = parse_equation("x = a", parameters={"a": "1 ft"})
+    assert eq.f(0.0) == pytest.approx(-0.3048, rel=ULP)  # NIST SP 811: 1 ft = 0.3048 m
+    assert eq.units["a"].value == 1.0 and eq.units["a"].unit == "ft"
+    assert eq.units["a"].si_unit == "m"
+    assert eq.unknown_unit == "m"  # inferred: x is what a is
+
+
+# ---------------------------------------------------------------- the same physics in two systems
+
+
+def _pipe_diameter_closed_form(f_d, length, flow, g, head):
+    # Darcy-Weisbach with v = 4Q/(pi D^2): hf = fD L/D * 8 Q^2/(pi^2 g D^4), so
+    # D^5 = 8 fD L Q^2 / (pi^2 g hf) (algebra)
+    return (8 * f_d * length * flow**2 / (math.pi**2 * g * head)) ** 0.2
+
+
+DARCY = "hf = fD*L/D*(4*Q/(pi*D^2))^2/(2*g)"
+
+
+def test_darcy_weisbach_in_si_and_us_customary_gives_one_physical_diameter():
+    # Invented scenario: a cooling-water line of 250 m taking 35 L/s with 4.5 m of head loss.
+    si = parse_equation(DARCY, unknown="D", unknown_unit="mm", parameters={
+        "hf": "4.5 m", "fD": 0.02, "L": "250 m", "Q": "35 L/s", "g": "9.80665 m/s^2"})
+    # The same line in US customary units (values converted by NIST SP 811's exact foot and
+    # gallon: 1 ft = 0.3048 m, 1 gal = 3.785411784 L), the diameter asked in inches.
+    ft, gal = 0.3048, 3.785411784e-3
+    us = parse_equation(DARCY, unknown="D", unknown_unit="in", parameters={
+        "hf": f"{4.5 / ft!r} ft", "fD": 0.02, "L": f"{250 / ft!r} ft",
+        "Q": f"{0.035 / gal * 60!r} gal/min", "g": f"{9.80665 / ft!r} ft/s^2"})
+    root_mm = newton(si.f, 150.0, fprime=si.fprime).root
+    root_in = brent(us.f, 2.0, 20.0).root
+    expected_m = _pipe_diameter_closed_form(0.02, 250.0, 0.035, 9.80665, 4.5)
+    assert root_mm / 1000 == pytest.approx(expected_m, rel=1e-13)
+    assert root_in * 0.0254 == pytest.approx(expected_m, rel=1e-12)  # NIST: 1 in = 25.4 mm
+    assert si.unknown_unit == "mm" and us.unknown_unit == "in"
+
+
+def test_ideal_gas_molar_volume_at_25_degC_matches_scipy_constants():
+    eq = parse_equation("p*V = n*R*T", unknown="V", unknown_unit="L", parameters={
+        "p": "101.325 kPa", "n": "1 mol", "R": f"{sc.R!r} J/(mol*K)", "T": "25 degC"})
+    root = newton(eq.f, 20.0, fprime=eq.fprime).root
+    # scipy.constants: R (CODATA, exact since 2019), zero_Celsius = 273.15 K, atm = 101325 Pa
+    expected_litres = sc.R * (sc.zero_Celsius + 25) / sc.atm * 1000
+    assert root == pytest.approx(expected_litres, rel=1e-13)
+    assert any(r.code == "absolute_temperature" and r.subject == "T" for r in eq.remarks)
+
+
+# ---------------------------------------------------------------- offset temperatures
+
+
+def test_offset_temperature_rule():
+    def root(value, unit):
+        eq = parse_equation("x = T", parameters={"T": value}, unknown_unit=unit)
+        return newton(eq.f, 1.0).root
+
+    # alone, degC and degF are absolute (scipy.constants.zero_Celsius = 273.15 K)
+    assert root("25 degC", "K") == pytest.approx(sc.zero_Celsius + 25, rel=1e-15)
+    assert root("77 degF", "K") == pytest.approx(298.15, rel=1e-14)  # (77 + 459.67) * 5/9
+    assert root("25 degC", "degC") == pytest.approx(25.0, abs=1e-12)  # unknown with offset
+    assert root("0 degC", "degF") == pytest.approx(32.0, abs=1e-12)  # freezing point
+    # a difference is typed delta_degC: 5 K, never 278.15 K
+    assert root("5 delta_degC", "K") == pytest.approx(5.0, rel=1e-15)
+    assert root("9 delta_degF", "K") == pytest.approx(5.0, rel=1e-14)
+    # in a compound unit degC is a difference (pint's reading): J/(kg*degC) = J/(kg*K)
+    assert read_unit("J/(kg*degC)").factor == 1.0 and read_unit("J/(kg*degC)").offset == 0.0
+
+
+def test_absolute_temperature_is_said_in_words():
+    eq = parse_equation("x = T", parameters={"T": "25 degC"})
+    text = " ".join(words.remarks_text(eq.remarks))
+    assert "absolute temperature" in text and "delta_degC" in text
+
+
+# ---------------------------------------------------------------- refusals, with the part named
+
+
+def _error(text, parameters, **kw) -> EquationError:
+    with pytest.raises(EquationError) as info:
+        parse_equation(text, parameters=parameters, **kw)
+    return info.value
+
+
+def test_a_sum_of_different_dimensions_is_refused_naming_the_term():
+    err = _error("H = Q + D", {"Q": "0.35 m^3/s", "D": "150 mm"}, unknown="H")
+    assert "`Q + D`" in str(err) and "m³/s added to m" in str(err)
+    assert err.position == 4  # column of the sum as typed
+
+
+def test_sides_of_different_dimensions_are_refused():
+    err = _error("Q*x = D", {"Q": "0.35 m^3/s", "D": "150 mm"}, unknown_unit="s")
+    assert "'s' does not fit 'x'" in str(err)
+    err = _error("Q = D + E*x", {"Q": "1 m^3/s", "D": "1 m", "E": "1 m"}, unknown="x")
+    assert "left side is m³/s" in str(err) and "right side is m" in str(err)
+
+
+@pytest.mark.parametrize("function", ["ln", "exp", "log10", "sin", "cosh"])
+def test_a_dimensioned_argument_of_a_function_is_refused(function):
+    err = _error(f"x = {function}(D)", {"D": "150 mm"})
+    assert f"`{function}(D)`" in str(err) and "dimensionless" in str(err) and "m" in str(err)
+    assert err.position == 4
+
+
+def test_a_ratio_inside_ln_and_an_angle_in_degrees_are_fine():
+    eq = parse_equation("x = ln(D/E) + sin(a)", parameters={
+        "D": "300 mm", "E": "1 ft", "a": "30 deg"})
+    # ln(0.3/0.3048) + sin(pi/6): NIST foot; sin 30 deg = 1/2 (exact trigonometry)
+    assert -eq.f(0.0) == pytest.approx(math.log(0.3 / 0.3048) + 0.5, rel=1e-14)
+    assert eq.unknown_unit is None  # dimensionless
+
+
+def test_an_exponent_with_a_dimension_is_refused():
+    err = _error("x = 2^D", {"D": "1 m"})
+    assert "`2^D`" in str(err) and "exponent" in str(err)
+
+
+def test_an_incompatible_unknown_unit_is_refused_naming_the_part():
+    err = _error("Q = pi*D^2/4*v", {"Q": "0.35 m^3/s", "v": "2 m/s"}, unknown="D",
+                 unknown_unit="kg")
+    assert "'kg'" in str(err) and "`Q = pi*D^2/4*v`" in str(err) and "makes it m" in str(err)
+
+
+def test_an_unknown_unit_is_named_with_close_names():
+    err = _error("x = D", {"D": "150 mmm"})
+    assert "'mmm'" in str(err) and "'mm'" in str(err) and "'D'" in str(err)
+
+
+@pytest.mark.parametrize("unit", [
+    "__import__('os')", "m; import os", "m\nos", "exec(m)", "m" * 80, "m^99", "m**(10**10)",
+    "lambda: 0", "m[0]", "m{}", "${HOME}",
+])
+def test_code_like_or_oversized_unit_text_is_refused(unit):
+    with pytest.raises(EquationError):
+        read_unit(unit)
+    with pytest.raises(EquationError):
+        parse_equation("x = a", parameters={"a": Measured(1.0, unit)})
+
+
+def test_a_number_string_without_a_unit_stays_refused():
+    with pytest.raises(EquationError, match="without a unit"):
+        parse_equation("g*x = 1", parameters={"g": "9.81"})
+
+
+# ---------------------------------------------------------------- hidden-unit correlations
+
+
+MANNING = "Q = 1/n*A*R^(2/3)*S^0.5"
+
+
+def test_manning_with_a_unit_on_n_infers_an_area():
+    # Invented channel; n for a concrete lining with its SI unit s/m^(1/3) (common practice)
+    eq = parse_equation(MANNING, unknown="A", parameters={
+        "Q": "10 m^3/s", "n": "0.013 s/m^(1/3)", "R": "0.8 m", "S": 0.001})
+    assert eq.unknown_unit == "m^2"
+    root = newton(eq.f, 1.0, fprime=eq.fprime).root
+    assert root == pytest.approx(10 * 0.013 / (0.8 ** (2 / 3) * 0.001**0.5), rel=1e-14)  # algebra
+
+
+def test_switching_the_check_off_is_said_never_silent():
+    eq = parse_equation("x = Q + D", parameters={"Q": "1 m^3/s", "D": "1 m"},
+                        check_dimensions=False)
+    assert any(r.code == "dimensions_unchecked" for r in eq.remarks)
+    assert "not checked" in " ".join(words.remarks_text(eq.remarks))
+    assert eq.f(0.0) == -2.0  # the conversion still happens
+
+
+# ---------------------------------------------------------------- bind, arrays, plain worksheets
+
+
+def test_bind_converts_units_and_rechecks_dimensions():
+    eq = parse_equation("Q = pi*D^2/4*v", unknown="D", unknown_unit="mm",
+                        parameters={"Q": "0.35 m^3/s", "v": "2 m/s"})
+    other = eq.bind({"Q": "5.55 L/s", "v": "0.5 m/s"})
+    # D = sqrt(4Q/(pi v)) (algebra), in mm
+    assert newton(other.f, 100.0, fprime=other.fprime).root == pytest.approx(
+        1000 * math.sqrt(4 * 5.55e-3 / (math.pi * 0.5)), rel=1e-13)
+    with pytest.raises(EquationError, match="does not fit"):
+        eq.bind({"Q": "0.35 kg/s", "v": "2 m/s"})
+
+
+def test_a_column_with_a_unit_binds_as_an_array():
+    eq = parse_equation("Q = pi*D^2/4*v", unknown="v", parameters={"Q": "30 L/s", "D": 0.1})
+    rows = eq.bind({"Q": "30 L/s", "D": measured(np.array([100.0, 150.0, 200.0]), "mm")})
+    d = np.array([0.1, 0.15, 0.2])
+    v = 4 * 0.03 / (math.pi * d**2)  # v = 4Q/(pi D^2) (algebra)
+    np.testing.assert_allclose(rows.f(v), 0.0, atol=1e-15)
+    assert rows.units["D"].si_unit == "m"
+
+
+def test_an_unknown_unit_of_the_si_base_compiles_to_the_plain_code():
+    plain = parse_equation("x^2 - a", parameters={"a": 2.0})
+    metres = parse_equation("x^2 - a", parameters={"a": "2 m^2"}, unknown_unit="m")
+    assert metres.symbolic_expr == plain.symbolic_expr  # no scale multiplied in
+
+
+def test_without_units_nothing_changes():
+    eq = parse_equation("x^2 - a", parameters={"a": 2.0})
+    assert eq.unknown_unit is None and eq.units == {}
+    assert not any(r.code in words.UNIT_REMARKS for r in eq.remarks)
+
+
+def test_worksheet_json_keeps_units_and_plain_files_stay_as_they_were():
+    plain = Worksheet("x^2 = a", parameters=(Parameter("a", 2.0),))
+    assert "unit" not in dumps(plain)
+    ws = Worksheet(DARCY, unknown="D", unknown_unit="mm", dimension_check=False,
+                   parameters=(Parameter("hf", 4.5, "head loss", "m"), Parameter("fD", 0.02)))
+    back = loads(dumps(ws))
+    assert back == ws
+    data = json.loads(dumps(ws))
+    assert data["unknown_unit"] == "mm" and data["dimension_check"] is False
+    assert data["parameters"][0]["unit"] == "m" and "unit" not in data["parameters"][1]
+
+
+def test_worksheet_with_an_unknown_unit_names_the_field():
+    text = dumps(Worksheet("x = a", parameters=(Parameter("a", 2.0),))).replace(
+        '"value": 2.0', '"value": 2.0, "unit": "mmm"')
+    with pytest.raises(ValueError, match=r"parameters\[0\]\.unit: unknown unit 'mmm'"):
+        loads(text)
+
+
+def test_pipeline_solves_a_worksheet_with_units():
+    ws = Worksheet(DARCY, unknown="D", unknown_unit="mm", parameters=(
+        Parameter("hf", 4.5, "", "m"), Parameter("fD", 0.02), Parameter("L", 250, "", "m"),
+        Parameter("Q", 35, "", "L/s"), Parameter("g", 9.80665, "", "m/s^2")))
+    solution = pipeline.solve(ws.with_changes(settings=ws.settings.__class__(
+        methods=("newton", "brent"), x0=150.0, bracket=(50.0, 500.0))))
+    expected_mm = 1000 * _pipe_diameter_closed_form(0.02, 250.0, 0.035, 9.80665, 4.5)
+    for run in solution.runs:
+        assert run.converged and run.root == pytest.approx(expected_mm, rel=1e-12)
+
+
+# ---------------------------------------------------------------- the command line
+
+
+def test_cli_param_with_unit_json_and_csv_headers(capsys, tmp_path):
+    out_csv = tmp_path / "log.csv"
+    code = main(["solve", "Q = pi*D^2/4*v", "--unknown", "D", "--param", "Q=0.35 m^3/s",
+                 "--param", "v=2 ft/s", "--unknown-unit", "in", "--x0", "20", "--method",
+                 "newton", "--json", "--csv", str(out_csv)])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["unknown_unit"] == "in"
+    assert data["parameter_units"]["v"] == {"value": 2.0, "unit": "ft/s",
+                                            "si_value": pytest.approx(0.6096, rel=ULP),
+                                            "si_unit": "m/s"}
+    # D = sqrt(4Q/(pi v)) with v = 2 ft = 0.6096 m/s (NIST foot), in inches (25.4 mm)
+    expected_in = math.sqrt(4 * 0.35 / (math.pi * 0.6096)) / 0.0254
+    assert data["runs"][0]["root"] == pytest.approx(expected_in, rel=1e-14)
+    lines = out_csv.read_text().splitlines()
+    header = next(row for row in csv.reader(lines) if not row[0].startswith("#"))
+    assert header[2] == "x [in]" and "dx [in]" in header
+    assert "# unknown unit: in" in lines
+
+
+def test_cli_scan_range_is_in_the_unknown_unit(capsys):
+    code = main(["scan", "Q = pi*D^2/4*v", "--unknown", "D", "--param", "Q=0.35 m^3/s",
+                 "--param", "v=2 m/s", "--unknown-unit", "mm", "--from", "10", "--to",
+                 "1000", "--json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["unknown_unit"] == "mm"
+    expected_mm = 1000 * math.sqrt(4 * 0.35 / (math.pi * 2))  # algebra
+    assert [r["x"] for r in data["roots"]] == [pytest.approx(expected_mm, rel=1e-12)]
+
+
+def test_cli_no_dimension_check_is_printed(capsys, tmp_path):
+    out_csv = tmp_path / "log.csv"
+    code = main(["solve", "Q = k*D^2.63", "--unknown", "D", "--param", "Q=0.05 m^3/s",
+                 "--param", "k=3.1", "--no-dimension-check", "--x0", "0.2", "--method",
+                 "newton", "--csv", str(out_csv)])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    assert "dimensions not checked" in out
+    assert any(line.startswith("# dimensions: not checked")
+               for line in out_csv.read_text().splitlines())
+
+
+@pytest.mark.parametrize(("argv", "named"), [
+    (["--param", "D=150 mmm"], "'mmm'"),
+    (["--param", "D=150 m;ls"], "';'"),
+    (["--unknown-unit", "furlong_per_x"], "furlong_per_x"),
+    (["--param", "D=150 kg", "--unknown-unit", "m/s"], "'m/s' does not fit 'v'"),
+])
+def test_cli_bad_units_exit_2_with_one_line(capsys, argv, named):
+    code = main(["solve", "Q = pi*D^2/4*v", "--unknown", "v", "--param", "Q=0.35 m^3/s",
+                 "--param", "D=150 mm", *argv])
+    out, err = capsys.readouterr()
+    assert code == 2
+    assert len(err.strip().splitlines()) == 1 and named in err
