@@ -29,6 +29,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from functools import lru_cache
 from numbers import Real
 from typing import Any
 
@@ -101,16 +102,28 @@ def _number_or_array(name: str, value: Any) -> Any:
     return float(value)
 
 
-def _convert(name: str, value: Any, unit_text_: str) -> Converted:
-    try:
-        unit = read_unit(unit_text_)
-    except EquationError as err:
-        raise EquationError(f"parameter {name!r}: {err}") from None
-    magnitude = _number_or_array(name, value)
-    with np.errstate(all="ignore"):
-        si = magnitude * unit.factor + unit.offset
+def _convert(name: str, value: Any, unit: Unit | str) -> Converted:
+    if not isinstance(unit, Unit):
+        try:
+            unit = read_unit(unit)
+        except EquationError as err:
+            raise EquationError(f"parameter {name!r}: {err}") from None
+    if value.__class__ is float:
+        magnitude = value
+        si = value * unit.factor + unit.offset
+    else:
+        magnitude = _number_or_array(name, value)
+        with np.errstate(all="ignore"):
+            si = magnitude * unit.factor + unit.offset
     return Converted(magnitude, unit.text, si, unit.si_text, unit.dimension,
                      absolute_temperature=unit.offset != 0.0)
+
+
+@lru_cache(maxsize=4096)
+def _value_string(text: str) -> tuple[float, Unit | None]:
+    """``"150 mm"`` -> (150.0, its Unit); (number, None) without a unit (cached by text)."""
+    number, unit = split_value(text)
+    return number, (read_unit(unit) if unit else None)
 
 
 def convert_parameters(values: Mapping[str, Any] | None
@@ -130,14 +143,16 @@ def convert_parameters(values: Mapping[str, Any] | None
     for name, value in values.items():
         if isinstance(value, str):
             try:
-                number, unit = split_value(value)
+                number, unit = _value_string(value)
             except EquationError as err:
                 raise EquationError(f"parameter {name!r}: {err}") from None
-            if not unit:  # a number as text is a type slip, as before units: say so
+            if unit is None:  # a number as text is a type slip, as before units: say so
                 raise EquationError(f"parameter {name!r}: {value.strip()[:40]!r} is text "
                                     "without a unit; give a number, or a number and a unit")
-            value = Measured(number, unit)
-        if isinstance(value, Measured):
+            c = _convert(str(name), number, unit)
+            converted[name] = c
+            out[name] = c.si_value
+        elif isinstance(value, Measured):
             c = _convert(str(name), value.value, value.unit)
             converted[name] = c
             out[name] = c.si_value

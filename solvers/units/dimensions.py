@@ -39,8 +39,14 @@ _ZERO = Fraction(0)
 _ONE: _Dim = ((), _ZERO)
 
 
-def _fraction(v: Any) -> Fraction:
-    return Fraction(float(v)).limit_denominator(10**6)
+def _fraction(v: Any) -> Fraction | int:
+    """An exact exponent: a Python int when whole (fast), else the nearest small fraction."""
+    if getattr(v, "is_Integer", False):
+        return int(v)
+    f = float(v)
+    if f.is_integer():
+        return int(f)
+    return Fraction(f).limit_denominator(10**6)
 
 
 def _exact(d: Dimension) -> _Exact:
@@ -265,6 +271,10 @@ def check(text: str, spans: Sequence[tuple[Any, int, int]],
                     f"`{part}` makes it {dimension_words(_plain(fixed))}, not "
                     f"{dimension_words(given)}", where[0])
     x_dim = fixed if fixed is not None else (given_exact or ())
+    if open_found is None:
+        # no rule involved the unknown's dimension with a different power on each side, and
+        # every other rule held: they hold for any dimension of the unknown
+        return Outcome(_plain(x_dim), False, None)
     found = run((x_dim, _ZERO))
     if found is not None:
         because = ""

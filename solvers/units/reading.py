@@ -65,11 +65,7 @@ class Unit:
     factor: float
     offset: float
     dimension: Dimension
-
-    @property
-    def si_text(self) -> str:
-        """The SI unit of the converted value (ASCII, readable back by :func:`read_unit`)."""
-        return unit_text(self.dimension) or "1"
+    si_text: str = "1"  # the SI unit of the converted value (ASCII, readable back)
 
 
 def _normalised(exponent: float) -> float:
@@ -133,7 +129,8 @@ def _read_cached(text: str) -> Unit:
             factor = float(reg.Quantity(1.0, delta).to_base_units().magnitude)
         except Exception:  # noqa: BLE001 - keep the subtraction's value
             pass
-    return Unit(text=text, factor=factor, offset=zero, dimension=dimension)
+    return Unit(text=text, factor=factor, offset=zero, dimension=dimension,
+                si_text=unit_text(dimension) or "1")
 
 
 def read_unit(text: Any) -> Unit:
