@@ -128,7 +128,9 @@ def _param(text: str) -> tuple[str, float, str]:
     try:
         return name, _param_value(name, value), ""
     except argparse.ArgumentTypeError as plain:
-        unit_split = _with_unit(value)
+        from solvers.units import with_unit
+
+        unit_split = with_unit(value)
         if unit_split is None:
             raise plain from None
         number_text, unit = unit_split
@@ -141,13 +143,6 @@ def _param(text: str) -> tuple[str, float, str]:
         except EquationError as exc:
             raise argparse.ArgumentTypeError(f"value of {name}: {exc}") from None
         return name, number, " ".join(unit.split())
-
-
-def _with_unit(text: str) -> tuple[str, str] | None:
-    """``"150 mm"`` -> ("150", "mm"); None unless a number is followed by unit text."""
-    m = re.fullmatch(r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)"
-                     r"\s*\*?\s*([^\d\s_.*+-].*?)\s*", text, re.ASCII | re.DOTALL)
-    return (m.group(1), m.group(2)) if m else None
 
 
 def _param_value(name: str, text: str) -> float:

@@ -95,7 +95,8 @@ def equation_of(ws: Worksheet, parsed: Equation | None = None) -> Equation:
     """
     values = ws.parameter_values()
     unit = ws.unknown_unit or None
-    if parsed is not None and parsed.text == ws.equation and _same_units(parsed, ws):
+    if parsed is not None and parsed.text == ws.equation and \
+            compiled_for(parsed, ws.unknown_unit, ws.dimension_check):
         names = parsed.names[1:]
         same_unknown = ws.unknown in (None, parsed.unknown) and parsed.unknown not in values
         if same_unknown and all(n in values for n in names):
@@ -104,15 +105,15 @@ def equation_of(ws: Worksheet, parsed: Equation | None = None) -> Equation:
                           unknown_unit=unit, check_dimensions=ws.dimension_check)
 
 
-def _same_units(parsed: Equation, ws: Worksheet) -> bool:
-    """Whether ``parsed`` was compiled for the worksheet's unknown unit and check switch
-    (both are fixed at parse time; parameter units are bound)."""
+def compiled_for(parsed: Equation, unknown_unit: str | None, check_dimensions: bool) -> bool:
+    """Whether ``parsed`` was compiled for this unknown unit and dimension-check switch
+    (both are fixed at parse time, unlike parameter values and their units, which bind)."""
     plan = parsed._core.units if parsed._core is not None else None
     if plan is None:
         return True
     chosen = None if plan.unit is None else plan.unit.text
-    return chosen == (" ".join(ws.unknown_unit.split()) if ws.unknown_unit else None) \
-        and plan.check_dimensions == ws.dimension_check
+    wanted = " ".join(unknown_unit.split()) if unknown_unit else None
+    return chosen == (wanted or None) and plan.check_dimensions == bool(check_dimensions)
 
 
 def _evaluate(f: Callable[[float], float], x: float) -> float:

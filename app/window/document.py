@@ -25,6 +25,7 @@ from PySide6.QtCore import QObject, Signal
 from app.documents import worksheet
 from app.documents.worksheet import Selection, Settings, Worksheet
 from app.window.equation_strip import Analysis, rebind
+from solvers.pipeline import compiled_for
 
 BLANK = Worksheet(equation="")
 
@@ -184,6 +185,8 @@ class WorksheetDocument(QObject):
         a = self.analysis
         if a is None or not a.ok or a.text != ws.equation or a.unknown != ws.unknown:
             return None
+        if not compiled_for(a.equation, ws.unknown_unit, ws.dimension_check):
+            return None  # the unknown's unit or the check switch changed: the job parses
         values = ws.parameter_values()
         if all(values.get(n) == v for n, v in a.equation.parameters.items()):
             return a.equation

@@ -19,10 +19,12 @@ from typing import Any
 from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtGui import QColor, QFont, QPixmap, QTextCharFormat, QTextCursor, QTextFormat
 from PySide6.QtWidgets import (
+    QCheckBox,
     QComboBox,
     QFrame,
     QHBoxLayout,
     QLabel,
+    QLineEdit,
     QPlainTextEdit,
     QScrollArea,
     QSizePolicy,
@@ -36,6 +38,8 @@ from app.documents.figures import residual_name, typesetting
 from app.documents.words import remarks_text
 from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
+from solvers.pipeline import compiled_for
+from solvers.units import MAX_UNIT_TEXT
 
 DEBOUNCE_MS = 250  # long enough to skip the intermediate states of a word being typed
 AUTO = "(automatic)"
@@ -96,17 +100,23 @@ def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str
     return pick, True
 
 
-def analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
+def analyse(text: str, chosen: str | None, values: Mapping[str, Any],
             previous: str | None = None, *, dpi: float | None = None,
-            parsed: Analysis | None = None) -> Analysis:
+            parsed: Analysis | None = None, unknown_unit: str | None = None,
+            check_dimensions: bool = True) -> Analysis:
     """Parse ``text`` for the strip (called in a worker thread; never raises for bad text).
 
     With ``dpi`` the typeset forms are also rendered (PNG at that resolution), so the UI
     thread does no typesetting. ``parsed`` is the previous reading: when it is of the
     same text and unknown, only the parameter values are bound again (:func:`rebind`)
-    where the equation supports that, instead of a new parse.
+    where the equation supports that, instead of a new parse. ``unknown_unit`` and
+    ``check_dimensions`` are passed to the parse (a change of either parses again).
     """
-    analysis = _analyse(text, chosen, values, previous, parsed)
+    if parsed is not None and parsed.ok and not compiled_for(parsed.equation, unknown_unit,
+                                                             check_dimensions):
+        parsed = None
+    analysis = _analyse(text, chosen, values, previous, parsed,
+                        {"unknown_unit": unknown_unit, "check_dimensions": check_dimensions})
     return analysis if dpi is None else typeset(analysis, dpi)
 
 
@@ -154,8 +164,9 @@ def typeset(analysis: Analysis, dpi: float) -> Analysis:
                    derivative_png=derivative_png, derivative_note=note, typeset_dpi=dpi)
 
 
-def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
-             previous: str | None, parsed: Analysis | None) -> Analysis:
+def _analyse(text: str, chosen: str | None, values: Mapping[str, Any],
+             previous: str | None, parsed: Analysis | None,
+             units: Mapping[str, Any] | None = None) -> Analysis:
     from solvers.equation import EquationError, free_names, parse_equation
 
     if not text.strip():
@@ -174,7 +185,7 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, float | None],
             "ambiguous": ambiguous, "missing": missing}
     try:
         equation = _bound(parsed, text, unknown, given) or parse_equation(
-            text, unknown=unknown, parameters=given)
+            text, unknown=unknown, parameters=given, **(units or {}))
     except EquationError as exc:
         latex = derivative = ""
         if missing:
@@ -336,6 +347,7 @@ class EquationStrip(QWidget):
 
     text_settled = Signal(str)
     unknown_chosen = Signal(str)
+    units_chosen = Signal()  # the unknown's unit or the dimension-check switch changed
     text_edited = Signal()  # every change of the text (blocked with the strip while loading)
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -358,6 +370,24 @@ class EquationStrip(QWidget):
         unknown_label = QLabel("&Unknown")
         unknown_label.setBuddy(self.unknown_box)
         self.unknown_box.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
+        self.unit_box = QLineEdit()
+        self.unit_box.setObjectName("unknownUnitBox")
+        self.unit_box.setPlaceholderText("SI")
+        self.unit_box.setMaxLength(MAX_UNIT_TEXT)
+        self.unit_box.setFont(number_font())
+        self.unit_box.setToolTip("The unit of the unknown, its start values, scan range and "
+                                 "roots (mm, ft, degC). Blank: the SI unit the equation's "
+                                 "dimensions give it.")
+        self.unit_box.setMaximumWidth(110)
+        unit_label = QLabel("Uni&t")
+        unit_label.setBuddy(self.unit_box)
+        self.dimension_box = QCheckBox("Check dimensions")
+        self.dimension_box.setObjectName("dimensionCheckBox")
+        self.dimension_box.setChecked(True)
+        self.dimension_box.setToolTip(
+            "When parameters carry units, check that both sides and every term agree. Clear "
+            "it only for a correlation whose constants hide their units; every document "
+            "then says the dimensions were not checked.")
 
         self.equation_view = _MathLabel()
         self.derivative_view = _MathLabel()
@@ -376,7 +406,12 @@ class EquationStrip(QWidget):
         top.addWidget(self.editor, 1)
         side = QVBoxLayout()
         side.addWidget(unknown_label)
-        side.addWidget(self.unknown_box)
+        unknown_row = QHBoxLayout()
+        unknown_row.addWidget(self.unknown_box)
+        unknown_row.addWidget(unit_label)
+        unknown_row.addWidget(self.unit_box)
+        side.addLayout(unknown_row)
+        side.addWidget(self.dimension_box)
         side.addStretch(1)
         top.addLayout(side)
         # Equation and derivative side by side: the strip stays short on a 800-pixel screen.
@@ -400,6 +435,9 @@ class EquationStrip(QWidget):
         self.editor.textChanged.connect(self._timer.start)
         self.editor.textChanged.connect(self.text_edited)
         self.unknown_box.activated.connect(self._on_unknown_activated)
+        self.unit_box.editingFinished.connect(self._on_unit_edited)
+        self.dimension_box.toggled.connect(lambda _on: self.units_chosen.emit())
+        self._unit_sent = ""
         self.analysis: Analysis | None = None
 
     # -- reading and writing the text
@@ -423,6 +461,26 @@ class EquationStrip(QWidget):
             self.unknown_box.addItem(name, name)
             self.unknown_box.setCurrentIndex(1)
 
+    def chosen_unit(self) -> str | None:
+        """The unknown's unit as typed (None when blank: the SI unit is inferred)."""
+        text = " ".join(self.unit_box.text().split())
+        return text or None
+
+    def set_chosen_unit(self, unit: str | None) -> None:
+        self.unit_box.setText(unit or "")
+        self._unit_sent = self.unit_box.text()
+
+    def dimension_check(self) -> bool:
+        return self.dimension_box.isChecked()
+
+    def set_dimension_check(self, on: bool) -> None:
+        self.dimension_box.setChecked(bool(on))
+
+    def _on_unit_edited(self) -> None:
+        if self.unit_box.text() != self._unit_sent:  # Return and focus-out both finish
+            self._unit_sent = self.unit_box.text()
+            self.units_chosen.emit()
+
     def _on_unknown_activated(self, _index: int) -> None:
         self.unknown_chosen.emit(self.unknown_box.currentData() or "")
 
@@ -433,7 +491,8 @@ class EquationStrip(QWidget):
         self._highlight(analysis.position if analysis.error else None)
         self._show_typeset(analysis)
         if analysis.ok:
-            message = f"Ready: solving for {analysis.unknown}."
+            unit = getattr(analysis.equation, "unknown_unit", None)
+            message = f"Ready: solving for {analysis.unknown}" + (f" in {unit}." if unit else ".")
             if analysis.ambiguous:
                 message += " Several names could be the unknown: choose one under Unknown."
             if analysis.notes:

@@ -219,10 +219,13 @@ class InputsPanel(QWidget):
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
         header.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
         header.resizeSection(1, 110)
+        header.setSectionResizeMode(2, QHeaderView.ResizeMode.Interactive)
+        header.resizeSection(2, 70)
         self.parameters_view.setMinimumHeight(80)
         self.parameters_view.setMaximumHeight(200)
-        self.parameters_view.setToolTip("Values of the names the equation uses (F2 to edit). "
-                                        "Tinted cells need a valid number.")
+        self.parameters_view.setToolTip("Values of the names the equation uses (F2 to edit), "
+                                        "with a unit if you like (typing '150 mm' in a value "
+                                        "cell splits it). Tinted cells need a valid number.")
         self.parameters_label = QLabel("&Parameters")
         self.parameters_label.setBuddy(self.parameters_view)
 

@@ -127,6 +127,7 @@ class MainWindow(QMainWindow):
         # user edits -> the document
         self.strip.text_settled.connect(lambda _t: self.request_analysis())
         self.strip.unknown_chosen.connect(lambda _u: self._on_edit())
+        self.strip.units_chosen.connect(self._on_edit)
         self.strip.text_edited.connect(self._on_edit_quiet)
         self.inputs.changed.connect(self._on_edit)
         self.inputs.methods_changed.connect(self.lanes.set_methods)
@@ -171,10 +172,12 @@ class MainWindow(QMainWindow):
         """The worksheet as it stands on screen (last good value where an input is wrong)."""
         record = self.document.record
         settings, scan = self.inputs.settings(record.settings)
-        parameters = tuple(Parameter(r.name, r.value, r.note)
+        parameters = tuple(Parameter(r.name, r.value, r.note, r.unit)
                            for r in self.inputs.parameters.rows() if r.value is not None)
         return record.with_changes(equation=self.strip.text(),
                                    unknown=self.strip.chosen_unknown(),
+                                   unknown_unit=self.strip.chosen_unit(),
+                                   dimension_check=self.strip.dimension_check(),
                                    parameters=parameters, settings=settings, scan=scan)
 
     def solve_worksheet(self) -> Worksheet:
@@ -206,6 +209,8 @@ class MainWindow(QMainWindow):
             self.inputs.parameters.load(ws.parameters)
             self.inputs.show_settings(ws.settings, ws.scan)
             self.strip.set_chosen_unknown(ws.unknown)
+            self.strip.set_chosen_unit(ws.unknown_unit)
+            self.strip.set_dimension_check(ws.dimension_check)
             self.strip.set_text(ws.equation)
         self.lanes.set_methods(ws.settings.methods)
         for lane in self.lanes.lanes.values():
@@ -248,9 +253,11 @@ class MainWindow(QMainWindow):
         analysis = self.document.analysis
         previous = analysis.unknown if analysis is not None else self.document.record.unknown
         dpi = self.strip.typeset_dpi()  # typeset in the worker too, not on the UI thread
+        unit, check = self.strip.chosen_unit(), self.strip.dimension_check()
         self.runner.submit("preview",
                            lambda _p, _c: analyse(text, chosen, values, previous, dpi=dpi,
-                                                  parsed=analysis),
+                                                  parsed=analysis, unknown_unit=unit,
+                                                  check_dimensions=check),
                            on_done=self._on_analysis, on_error=self._on_analysis_error)
 
     def _on_analysis(self, analysis: Analysis) -> None:

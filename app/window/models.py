@@ -178,30 +178,49 @@ class ParameterRow:
     name: str
     text: str = ""
     note: str = ""
+    unit: str = ""  # as typed; '' for a plain number (pint reads it in the parse)
 
     @property
     def value(self) -> float | None:
         return parse_number(self.text)
 
     @property
+    def quantity(self) -> Any:
+        """The value for the parser: the number, or a Measured with the unit (None if blank)."""
+        from solvers.units import Measured
+
+        value = self.value
+        if value is None or not self.unit.strip():
+            return value
+        return Measured(value, self.unit.strip())
+
+    @property
     def problem(self) -> str:
+        from solvers.units import unit_text_problem
+
         if not self.text.strip():
             return f"{self.name}: needs a value"
         if self.value is None:
             return f"{self.name}: {self.text.strip()!r} is not a finite number"
+        if self.unit.strip():
+            problem = unit_text_problem(self.unit)
+            if problem:
+                return f"{self.name}: {problem}"
         return ""
 
 
 class ParametersModel(QAbstractTableModel):
-    """Name, value, note of every parameter the equation uses.
+    """Name, value, unit, note of every parameter the equation uses.
 
-    Rows follow the equation (``set_names``); values and notes typed for a name are
+    Rows follow the equation (``set_names``); values, units and notes typed for a name are
     remembered while the equation is edited, so deleting and retyping a name, or
-    fixing a typo elsewhere, never loses a value.
+    fixing a typo elsewhere, never loses a value. A value typed with its unit in the value
+    cell (``150 mm``) is split: the number stays, the unit goes to the unit cell.
     """
 
     edited = Signal()
-    COLUMNS = ("name", "value", "note")
+    COLUMNS = ("name", "value", "unit", "note")
+    VALUE, UNIT, NOTE = 1, 2, 3
 
     def __init__(self, parent: Any = None) -> None:
         super().__init__(parent)
@@ -221,7 +240,8 @@ class ParametersModel(QAbstractTableModel):
     def load(self, parameters: Sequence[Any]) -> None:
         """Replace everything with a worksheet's parameters (name, value, note)."""
         self.beginResetModel()
-        self._memory = {p.name: ParameterRow(p.name, repr(float(p.value)), p.note)
+        self._memory = {p.name: ParameterRow(p.name, repr(float(p.value)), p.note,
+                                             getattr(p, "unit", ""))
                         for p in parameters}
         self._rows = list(self._memory.values())
         self.endResetModel()
@@ -229,15 +249,16 @@ class ParametersModel(QAbstractTableModel):
     def names(self) -> list[str]:
         return [r.name for r in self._rows]
 
-    def remembered_values(self) -> dict[str, float | None]:
-        """Every name ever given a row, with its value (None when blank or wrong)."""
-        return {name: row.value for name, row in self._memory.items()}
+    def remembered_values(self) -> dict[str, Any]:
+        """Every name ever given a row, with its value for the parser (a number or a
+        Measured with its unit; None when blank or wrong)."""
+        return {name: row.quantity for name, row in self._memory.items()}
 
     def rows(self) -> list[ParameterRow]:
         return list(self._rows)
 
-    def values(self) -> dict[str, float]:
-        return {r.name: r.value for r in self._rows if r.value is not None}
+    def values(self) -> dict[str, Any]:
+        return {r.name: r.quantity for r in self._rows if r.value is not None}
 
     def problems(self) -> list[str]:
         return [r.problem for r in self._rows if r.problem]
@@ -254,7 +275,7 @@ class ParametersModel(QAbstractTableModel):
         return 0 if parent.isValid() else len(self._rows)
 
     def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
-        return 0 if parent.isValid() else 3
+        return 0 if parent.isValid() else len(self.COLUMNS)
 
     def headerData(self, section: int, orientation: Qt.Orientation,
                    role: int = Qt.ItemDataRole.DisplayRole) -> Any:
@@ -264,7 +285,7 @@ class ParametersModel(QAbstractTableModel):
 
     def flags(self, index: Index) -> Qt.ItemFlag:
         base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
-        if index.column() in (1, 2):
+        if index.column() in (self.VALUE, self.UNIT, self.NOTE):
             base |= Qt.ItemFlag.ItemIsEditable
         return base
 
@@ -274,8 +295,8 @@ class ParametersModel(QAbstractTableModel):
         row = self._rows[index.row()]
         col = index.column()
         if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
-            return (row.name, row.text, row.note)[col]
-        bad = col == 1 and bool(row.problem)
+            return (row.name, row.text, row.unit, row.note)[col]
+        bad = col in (self.VALUE, self.UNIT) and bool(row.problem)
         if role == Qt.ItemDataRole.BackgroundRole and bad:
             return QBrush(INVALID_BACKGROUND)
         if role == Qt.ItemDataRole.ForegroundRole and bad:
@@ -285,7 +306,7 @@ class ParametersModel(QAbstractTableModel):
                 return row.problem
             if col == 1 and row.value is not None:
                 return repr(row.value)
-        if role == Qt.ItemDataRole.FontRole and col in (0, 1):
+        if role == Qt.ItemDataRole.FontRole and col in (0, 1, 2):
             return self._font
         if role == Qt.ItemDataRole.UserRole and col == 1:
             return row.value
@@ -296,14 +317,25 @@ class ParametersModel(QAbstractTableModel):
             return False
         row = self._rows[index.row()]
         text = "" if value is None else str(value)
-        if index.column() == 1:
-            if text == row.text:
+        col = index.column()
+        if col == self.VALUE:
+            from solvers.units import with_unit
+
+            split = with_unit(text) if parse_number(text) is None else None
+            number, unit = split if split is not None else (text, row.unit)
+            if number == row.text and unit == row.unit:
                 return False
-            row.text = text
+            row.text, row.unit = number, unit
+            index = self.index(index.row(), self.VALUE)
+            last = self.index(index.row(), self.UNIT)
         else:
-            if text == row.note:
+            field_name = "unit" if col == self.UNIT else "note"
+            if col == self.UNIT:
+                text = " ".join(text.split())
+            if text == getattr(row, field_name):
                 return False
-            row.note = text
-        self.dataChanged.emit(index, index)
+            setattr(row, field_name, text)
+            last = index
+        self.dataChanged.emit(index, last)
         self.edited.emit()
         return True

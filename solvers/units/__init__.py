@@ -27,6 +27,7 @@ typed ``delta_degC``/``delta_degF``. An unknown in degC is converted with the of
 
 from __future__ import annotations
 
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -45,12 +46,13 @@ from solvers.units.reading import (
     read_unit,
     split_value,
     unit_text,
+    unit_text_problem,
 )
 
 __all__ = [
     "DIMENSIONLESS", "MAX_UNIT_TEXT", "Converted", "Dimension", "Measured", "Plan", "Unit",
     "convert_parameters", "dimension_words", "measured", "read_unit", "split_value",
-    "unit_text",
+    "unit_text", "unit_text_problem", "with_unit",
 ]
 
 
@@ -74,6 +76,18 @@ def measured(value: Any, unit: str) -> Measured:
         return value
     read_unit(unit)
     return Measured(value, unit.strip() if isinstance(unit, str) else unit)
+
+
+def with_unit(text: str) -> tuple[str, str] | None:
+    """``"150 mm"`` -> ("150", "mm"): a number followed by unit text, split (no pint);
+    None when the text is not a number followed by something that could be a unit."""
+    m = _VALUE_AND_UNIT.fullmatch(text)
+    return (m.group(1), m.group(2)) if m else None
+
+
+_VALUE_AND_UNIT = re.compile(
+    r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*\*?\s*"
+    r"([A-Za-zµμ°%Ω(].*?)\s*", re.ASCII | re.DOTALL)
 
 
 @dataclass(frozen=True)

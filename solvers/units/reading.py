@@ -140,21 +140,29 @@ def read_unit(text: Any) -> Unit:
     outside the whitelist, names a unit pint does not know (with close names suggested),
     has an exponent beyond ±``MAX_UNIT_EXPONENT`` or a size beyond double precision.
     """
+    problem = unit_text_problem(text)
+    if problem:
+        raise EquationError(problem)
+    return _read_cached(" ".join(text.split()))
+
+
+def unit_text_problem(text: Any) -> str:
+    """What is wrong with unit text before pint reads it ('' if nothing): type, length,
+    characters. Cheap and without pint, for checks while typing."""
     if not isinstance(text, str):
-        raise EquationError(f"a unit must be text, got {type(text).__name__}")
+        return f"a unit must be text, got {type(text).__name__}"
     stripped = " ".join(text.split())
     if not stripped:
-        raise EquationError("the unit is empty")
+        return "the unit is empty"
     if len(stripped) > MAX_UNIT_TEXT:
-        raise EquationError(f"unit text longer than {MAX_UNIT_TEXT} characters "
-                            f"({len(stripped)})")
+        return f"unit text longer than {MAX_UNIT_TEXT} characters ({len(stripped)})"
     if not _ALLOWED.fullmatch(stripped):
         bad = next(c for c in stripped if not _ALLOWED_ONE.fullmatch(c))
-        raise _refuse(stripped, f"character {bad!r} is not allowed in a unit "
-                      "(letters, digits, spaces and * / ^ ( ) . - only)")
+        return (f"unit '{stripped}': character {bad!r} is not allowed in a unit "
+                "(letters, digits, spaces and * / ^ ( ) . - only)")
     if "__" in stripped or stripped.count("(") > 8:
-        raise _refuse(stripped, "cannot be read as a unit")
-    return _read_cached(stripped)
+        return f"unit '{stripped}': cannot be read as a unit"
+    return ""
 
 
 # ---------------------------------------------------------------------------------------------

@@ -1,0 +1,155 @@
+"""Units in the window, worked with real key events: the unit column of the parameters table
+(``150 mm`` typed in a value cell splits), the unit box beside the unknown and the
+dimension-check switch. Roots are checked against closed forms (algebra, named beside each
+check) and NIST SP 811's exact definitions (1 ft = 0.3048 m, 1 in = 25.4 mm).
+"""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QApplication
+
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import settle, type_equation  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
+pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
+
+
+def _type_cell(qtbot, window, row: int, column: int, text: str) -> None:
+    """F2 on a cell of the parameters table, type, Return: as a user edits it."""
+    view = window.inputs.parameters_view
+    view.setFocus()
+    view.setCurrentIndex(window.inputs.parameters.index(row, column))
+    qtbot.keyClick(view, Qt.Key.Key_F2)
+    qtbot.waitUntil(lambda: view.indexWidget(view.currentIndex()) is not None
+                    or QApplication.focusWidget() is not view, timeout=5_000)
+    editor = QApplication.focusWidget()
+    editor.selectAll()
+    qtbot.keyClicks(editor, text)
+    qtbot.keyClick(editor, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: QApplication.focusWidget() is view, timeout=5_000)
+
+
+def _type_field(qtbot, field, text: str) -> None:
+    field.setFocus()
+    field.selectAll()
+    if text:
+        qtbot.keyClicks(field, text)
+    else:
+        qtbot.keyClick(field, Qt.Key.Key_Delete)
+    qtbot.keyClick(field, Qt.Key.Key_Return)
+
+
+def _solve(qtbot, window):
+    before = window.solution
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.solution is not None and window.solution is not before
+                    and not window.runner.is_busy("solve"), timeout=20_000)
+    return window.solution
+
+
+def _choose_unknown(qtbot, window, name: str) -> None:
+    """Pick the unknown in its box with the keyboard (a closed combo box searches by key)."""
+    box = window.strip.unknown_box
+    box.setFocus()
+    qtbot.keyClicks(box, name)
+    qtbot.waitUntil(lambda: window.strip.chosen_unknown() == name, timeout=5_000)
+    settle(qtbot, window)
+    qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.unknown == name,
+                    timeout=10_000)
+
+
+def _row(window, name: str) -> int:
+    return window.inputs.parameters.names().index(name)
+
+
+def test_value_typed_with_its_unit_splits_and_the_root_comes_in_the_unit_box_unit(qtbot,
+                                                                                   window):
+    # Invented scenario: the bore of a line carrying 35 L/s at 2 ft/s.
+    type_equation(qtbot, window, "Q = pi*D^2/4*v")
+    _choose_unknown(qtbot, window, "D")
+    model = window.inputs.parameters
+    _type_cell(qtbot, window, _row(window, "Q"), model.VALUE, "35 L/s")
+    _type_cell(qtbot, window, _row(window, "v"), model.VALUE, "2ft/s")
+    q, v = model.rows()[_row(window, "Q")], model.rows()[_row(window, "v")]
+    assert (q.text, q.unit) == ("35", "L/s")  # the value cell split it
+    assert (v.text, v.unit) == ("2", "ft/s")
+    assert model.data(model.index(_row(window, "Q"), model.UNIT)) == "L/s"
+    _type_field(qtbot, window.strip.unit_box, "in")
+    _type_field(qtbot, window.inputs.fields["x0"], "6")
+    qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.ok
+                    and window.analysis.equation.unknown_unit == "in", timeout=10_000)
+    solution = _solve(qtbot, window)
+    # D = sqrt(4Q/(pi v)) (algebra) with v = 2 ft/s = 0.6096 m/s, in inches of 25.4 mm
+    expected = math.sqrt(4 * 0.035 / (math.pi * 0.6096)) / 0.0254
+    converged = [r for r in solution.runs if r.converged]
+    assert converged and all(r.root == pytest.approx(expected, rel=1e-12) for r in converged)
+    ws = window.worksheet()
+    assert ws.unknown_unit == "in"
+    assert {p.name: p.unit for p in ws.parameters} == {"Q": "L/s", "v": "ft/s"}
+
+
+def test_a_dimensional_mismatch_is_named_in_the_status_line(qtbot, window):
+    type_equation(qtbot, window, "H = Q + D")
+    model = window.inputs.parameters
+    _type_cell(qtbot, window, _row(window, "Q"), model.VALUE, "0.35 m^3/s")
+    _type_cell(qtbot, window, _row(window, "D"), model.VALUE, "150 mm")
+    qtbot.waitUntil(lambda: "added to" in window.strip.status.text(), timeout=10_000)
+    status = window.strip.status.text()
+    assert "`Q + D`" in status and "m³/s added to m" in status
+
+
+def test_a_bad_unit_is_tinted_and_an_unknown_one_named_with_close_names(qtbot, window):
+    type_equation(qtbot, window, "x = a*b")
+    model = window.inputs.parameters
+    _type_cell(qtbot, window, _row(window, "a"), model.VALUE, "2")
+    _type_cell(qtbot, window, _row(window, "a"), model.UNIT, "m;ls")
+    assert "not allowed in a unit" in model.rows()[_row(window, "a")].problem
+    _type_cell(qtbot, window, _row(window, "a"), model.UNIT, "mmm")
+    _type_cell(qtbot, window, _row(window, "b"), model.VALUE, "3")
+    qtbot.waitUntil(lambda: "unknown unit 'mmm'" in window.strip.status.text(),
+                    timeout=10_000)
+    assert "'mm'" in window.strip.status.text()
+
+
+def test_switching_the_dimension_check_off_lets_a_correlation_through(qtbot, window):
+    # Hazen-Williams-like power law with a constant whose unit is hidden (invented numbers)
+    type_equation(qtbot, window, "Q = k*D^2.63")
+    _choose_unknown(qtbot, window, "D")
+    model = window.inputs.parameters
+    _type_cell(qtbot, window, _row(window, "Q"), model.VALUE, "50 L/s")
+    _type_cell(qtbot, window, _row(window, "k"), model.VALUE, "3.1")
+    _type_field(qtbot, window.strip.unit_box, "mm")
+    qtbot.waitUntil(lambda: "does not fit" in window.strip.status.text(), timeout=10_000)
+    window.strip.dimension_box.setFocus()
+    qtbot.keyClick(window.strip.dimension_box, Qt.Key.Key_Space)  # a real key toggles it
+    assert not window.strip.dimension_check()
+    qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.ok,
+                    timeout=10_000)
+    assert any("not checked" in n for n in window.analysis.notes)
+    assert window.worksheet().dimension_check is False
+    _type_field(qtbot, window.inputs.fields["x0"], "200")
+    solution = _solve(qtbot, window)
+    expected_mm = 1000 * (0.05 / 3.1) ** (1 / 2.63)  # D = (Q/k)^(1/2.63) (algebra), in mm
+    assert solution.runs[0].root == pytest.approx(expected_mm, rel=1e-12)
+
+
+def test_a_worksheet_with_units_opens_with_its_units_shown(qtbot, window, tmp_path):
+    from app.documents.worksheet import Parameter, Worksheet, save
+
+    path = tmp_path / "bore.json"
+    save(Worksheet("Q = pi*D^2/4*v", unknown="D", unknown_unit="mm", dimension_check=False,
+                   parameters=(Parameter("Q", 35.0, "", "L/s"), Parameter("v", 2.0, "", "m/s"))),
+         path)
+    assert window.open_path(path, ask=False)
+    settle(qtbot, window)
+    assert window.strip.unit_box.text() == "mm"
+    assert not window.strip.dimension_box.isChecked()
+    model = window.inputs.parameters
+    assert model.data(model.index(_row(window, "Q"), model.UNIT)) == "L/s"
+    assert window.worksheet().parameters == (Parameter("Q", 35.0, "", "L/s"),
+                                             Parameter("v", 2.0, "", "m/s"))
