@@ -138,7 +138,7 @@ def test_save_and_reopen_round_trip(qtbot, window, dialogs, tmp_path):
     assert window.load_sample("drainage-channel-normal-depth.json")
     settle(qtbot, window)
     model = window.inputs.parameters
-    model.setData(model.index(0, 2), "changed note ✓")
+    model.setData(model.index(0, model.NOTE), "changed note ✓")
     window.inputs.set_field("xtol", 1e-10)
     assert window.is_modified()
     target = tmp_path / "my channel ü.json"  # spaces and non-ASCII in the path

@@ -108,6 +108,11 @@ POLE_COLOR = "#6B6B6B"
 ROOT_MARKER = {"marker": "o", "markersize": 7, "markerfacecolor": "white",
                "markeredgecolor": "#000000", "markeredgewidth": 1.5, "linestyle": "none"}
 
+def axis_label(unknown: str, unit: str | None = None) -> str:
+    """The x-axis title: the unknown's name, with its unit in brackets when it has one."""
+    return f"{unknown} [{unit}]" if unit else unknown
+
+
 def residual_name(unknown: str) -> str:
     """The letter for the residual lhs - rhs: f, or F when the unknown itself is called f
     (a friction factor), so nothing reads "f(f)"."""
@@ -130,6 +135,7 @@ def draw_function(
     unknown: str = "x",
     precomputed: Curve | None = None,
     symlog: bool = False,
+    unit: str | None = None,
 ) -> Curve:
     """Draw f on [a, b] into ``ax``, with a scan's findings and one run's path.
 
@@ -140,7 +146,7 @@ def draw_function(
     from the roots squashes the crossings onto the axis. ``symlog`` puts y on a
     symmetric-log scale, linear within the |f| scale of the roots and logarithmic
     beyond, showing the whole curve (pole spikes clipped). The axes are named after
-    the unknown (``V``, ``f(V)``). Returns the curve drawn.
+    the unknown (``V``, ``f(V)``), x with its ``unit`` (``D [mm]``). Returns the curve drawn.
     """
     poles = list(getattr(scan, "poles", []) or []) if scan is not None else []
     jumps = list(getattr(scan, "discontinuities", []) or []) if scan is not None else []
@@ -164,7 +170,7 @@ def draw_function(
         draw_path(ax, f, run)
         ax.set_xlim(min(a, b), max(a, b))
         ax.set_ylim(*ylim)
-    ax.set_xlabel(unknown)
+    ax.set_xlabel(axis_label(unknown, unit))
     ax.set_ylabel(name)
     fit_x_ticks(ax)
     ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)

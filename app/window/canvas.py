@@ -107,6 +107,7 @@ class PlotPanel(QTabWidget):
         self._runs: tuple[Run, ...] = ()
         self._curve: figures.Curve | None = None
         self._unknown = "x"
+        self._unit: str | None = None
         self._press: tuple[float, int] | None = None
         self._span: Any = None
         # The function view's axes and its lasting artists (curve, y = 0), kept between
@@ -172,9 +173,12 @@ class PlotPanel(QTabWidget):
         self._show_text(text)
 
     def show_function(self, f: Any, a: float, b: float, *, unknown: str = "x", scan: Any = None,
-                      runs: Sequence[Run] = (), curve: figures.Curve | None = None) -> None:
-        """Draw f on [a, b] with the scan's marks and the selected method's path."""
+                      runs: Sequence[Run] = (), curve: figures.Curve | None = None,
+                      unit: str | None = None) -> None:
+        """Draw f on [a, b] with the scan's marks and the selected method's path (x in
+        ``unit``, named on the axis)."""
         self._f, self._range, self._scan, self._unknown = f, (a, b), scan, unknown
+        self._unit = unit
         self._curve = curve
         self._runs = tuple(runs)
         self._fill_paths()
@@ -269,7 +273,7 @@ class PlotPanel(QTabWidget):
             ax.set_xlim(*limits[0])
             ax.set_ylim(*limits[1])
         self._limits = limits
-        ax.set_xlabel(self._unknown)
+        ax.set_xlabel(figures.axis_label(self._unknown, self._unit))
         ax.set_ylabel(name)
         handles, _labels = ax.get_legend_handles_labels()
         if len(handles) > 1:

@@ -310,7 +310,8 @@ class MainWindow(QMainWindow):
         self.document.set_solution(solution, key)
         self.lanes.show_solution(solution)
         self.plot.show_function(solution.equation.f, a, b, unknown=solution.equation.unknown,
-                                scan=scan, runs=solution.runs, curve=curve)
+                                scan=scan, runs=solution.runs, curve=curve,
+                                unit=solution.equation.unknown_unit)
         self.document.refresh_stale(self.solve_worksheet())
         self._show_stale(self.document.stale)
         self.solve_seconds = time.perf_counter() - self.solve_started_at
@@ -362,6 +363,7 @@ class MainWindow(QMainWindow):
         self.plot.set_stale(False)
         self.roots.show_scan(scan, equation.unknown)
         self.plot.show_function(equation.f, scan.a, scan.b, unknown=equation.unknown, scan=scan,
+                                unit=equation.unknown_unit,
                                 runs=current.runs if current is not None else (), curve=curve)
         self.document.refresh_stale(self.solve_worksheet())
         self._show_stale(self.document.stale)

@@ -235,18 +235,21 @@ def _settings_section(c: _Context) -> list[Flowable]:
         return Paragraph(f"<font name='ZT-Mono'>{escape(text)}</font>", st["cell"])
 
     kinds = _method_kinds(s.methods)
+    unit = getattr(c.solution.equation, "unknown_unit", None)
+    in_unit = f" [{unit}]" if unit else ""  # start values and the range are in x's unit
     rows: list[tuple[str, Any]] = [
         ("Methods", Paragraph(escape(", ".join(_label(m) for m in s.methods)), st["cell"])),
     ]
     if kinds & {"open", "two_point"}:
-        rows.append(("Initial guess x0", value(sv.x0, s.x0)))
+        rows.append((f"Initial guess x0{in_unit}", value(sv.x0, s.x0)))
     if "two_point" in kinds:
-        rows.append(("Second point x1 (secant)", value(sv.x1, s.x1)))
+        rows.append((f"Second point x1 (secant){in_unit}", value(sv.x1, s.x1)))
     if "bracket" in kinds or sv.bracket is not None:
-        rows.append(("Bracket [a, b]", value(sv.bracket, s.bracket) if sv.bracket is not None
+        rows.append((f"Bracket [a, b]{in_unit}",
+                     value(sv.bracket, s.bracket) if sv.bracket is not None
                      else Paragraph("none: bracketing methods could not start", st["cell"])))
     rows += [
-        ("Scan range", mono(f"[{_num(c.ws.scan[0])}, {_num(c.ws.scan[1])}]")
+        (f"Scan range{in_unit}", mono(f"[{_num(c.ws.scan[0])}, {_num(c.ws.scan[1])}]")
          if c.ws.scan else Paragraph("not set", st["cell"])),
         ("Step tolerance xtol", mono(_num(s.xtol))),
         ("Relative tolerance rtol", mono(_num(s.rtol))),
@@ -473,7 +476,8 @@ def _figures_section(c: _Context) -> list[Flowable]:
         "iterate k for every method (log scale).",
     )
     draws = (
-        lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run, unknown=unknown),
+        lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run, unknown=unknown,
+                                         unit=getattr(sol.equation, "unknown_unit", None)),
         lambda ax: figures.draw_convergence(ax, list(sol.runs), unknown=unknown),
     )
     for caption, draw in zip(captions, draws, strict=True):
