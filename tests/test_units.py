@@ -344,3 +344,21 @@ def test_cli_bad_units_exit_2_with_one_line(capsys, argv, named):
     out, err = capsys.readouterr()
     assert code == 2
     assert len(err.strip().splitlines()) == 1 and named in err
+
+
+def test_the_us_customary_sample_bore_matches_its_closed_form():
+    from pathlib import Path
+
+    from app.documents.worksheet import load
+
+    ws = load(Path(__file__).resolve().parent.parent / "samples"
+              / "cooling-line-bore-us-customary.json")
+    solution = pipeline.solve(ws)
+    # the sample's inputs converted by NIST SP 811's exact foot (0.3048 m) and US gallon
+    # (3.785411784 L); D from the closed form above, in mm
+    ft, gal = 0.3048, 3.785411784e-3
+    expected_mm = 1000 * _pipe_diameter_closed_form(0.018, 800 * ft, 450 * gal / 60,
+                                                    32.174 * ft, 15 * ft)
+    assert solution.equation.unknown_unit == "mm"
+    for run in solution.runs:
+        assert run.converged and run.root == pytest.approx(expected_mm, rel=1e-13)
