@@ -40,6 +40,13 @@ Syntax (what an engineer types)
   with a letter, contain no ``__``, are not Python keywords and are at most
   ``MAX_NAME`` characters.
 
+Units
+-----
+Parameter values may carry units (``"150 mm"``, :class:`solvers.units.Measured`), and the
+unknown a unit (``unknown_unit``): values are converted once at bind time and the
+dimensions checked over the parsed parts (:mod:`solvers.units`); names in the text never
+carry units.
+
 Limits and refusals
 -------------------
 Every refusal is an :class:`EquationError` (a ``ValueError``) with a one-line message;

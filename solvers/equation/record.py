@@ -85,6 +85,13 @@ class Equation:
     array values they keep the parameters as symbols); ``symbolic_expr`` and
     ``symbolic_derivative`` keep parameters as symbols (what ``latex`` and
     ``derivative_latex`` show).
+
+    Units (:mod:`solvers.units`): a parameter given with a unit is held in ``parameters``
+    as its SI base-unit magnitude, and as entered in ``units`` (name ->
+    :class:`solvers.units.Converted`). ``unknown_unit`` is the unit f takes x in and every
+    root is in (chosen at parse time, or the SI unit the dimensions imply; None without
+    units or when x is dimensionless); with a chosen unit, ``symbolic_expr`` and the
+    derivative are in terms of x in that unit (x_SI = scale*x + offset substituted).
     """
 
     text: str
