@@ -244,7 +244,7 @@ class FileActions(QObject):
             return False
         from app.documents import export
 
-        meta = export.metadata(equation=eq.text, unknown=eq.unknown, parameters=eq.parameters)
+        meta = export.equation_meta(eq)
         return self._write_csv(path, lambda: export.roots_csv(scan, path, meta=meta), "Roots")
 
     def export_report(self) -> bool:
