@@ -381,7 +381,9 @@ def _scan_section(c: _Context) -> list[Flowable]:
             f"real root: {len(sc.roots)} found.", st["body"]))
         out.append(Spacer(1, 4))
         if sc.roots:
-            data: list[list[Any]] = [["#", "Root x", "Residual f(x)", "Mult.", "Confirmed by"]]
+            unit = getattr(c.solution.equation, "unknown_unit", None)
+            data: list[list[Any]] = [["#", f"Root x [{unit}]" if unit else "Root x",
+                                      "Residual f(x)", "Mult.", "Confirmed by"]]
             for i, root in enumerate(sc.roots, start=1):
                 how = words.confirmed_text(root)
                 located = words.located_text(root)
@@ -504,6 +506,6 @@ def _iterations_section(c: _Context) -> list[Flowable]:
     ]
     for run in c.solution.runs:
         out.append(CondPageBreak(40 * mm))  # never a banner and one row at a page foot
-        out += _iteration_table(run, st)
+        out += _iteration_table(run, st, getattr(c.solution.equation, "unknown_unit", None))
         out.append(Spacer(1, 10))
     return out

@@ -68,7 +68,10 @@ _STEP_COLUMNS: tuple[tuple[str, str], ...] = (
 )
 
 
-def _iteration_table(run: Run, st: dict) -> list[Flowable]:
+_IN_UNKNOWN_UNIT = ("x", "dx", "lo", "hi")  # columns in the unknown's unit
+
+
+def _iteration_table(run: Run, st: dict, unit: str | None = None) -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
         return [
@@ -86,7 +89,8 @@ def _iteration_table(run: Run, st: dict) -> list[Flowable]:
         half = MAX_TABLE_ROWS // 2
         omitted = len(steps) - 2 * half
         steps = steps[:half] + [None] + steps[-half:]  # type: ignore[list-item]
-    header = ["k"] + [head for _, head in columns]
+    header = ["k"] + [f"{head} [{unit}]" if unit and key in _IN_UNKNOWN_UNIT else head
+                      for key, head in columns]
     body: list[list[str]] = []
     gap_row = None
     for step in steps:
