@@ -11,6 +11,7 @@ from __future__ import annotations
 import csv
 import json
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -347,8 +348,6 @@ def test_cli_bad_units_exit_2_with_one_line(capsys, argv, named):
 
 
 def test_the_us_customary_sample_bore_matches_its_closed_form():
-    from pathlib import Path
-
     from app.documents.worksheet import load
 
     ws = load(Path(__file__).resolve().parent.parent / "samples"
@@ -362,3 +361,17 @@ def test_the_us_customary_sample_bore_matches_its_closed_form():
     assert solution.equation.unknown_unit == "mm"
     for run in solution.runs:
         assert run.converged and run.root == pytest.approx(expected_mm, rel=1e-13)
+
+
+def test_the_calculation_sheet_gives_units_as_entered_and_in_si(capsys, tmp_path):
+    import pypdf
+
+    sample = (Path(__file__).resolve().parent.parent / "samples"
+              / "cooling-line-bore-us-customary.json")
+    pdf, folder = tmp_path / "bore.pdf", tmp_path / "csv"
+    assert main(["report", str(sample), "--pdf", str(pdf), "--csv-dir", str(folder)]) == 0
+    text = " ".join(page.extract_text() for page in pypdf.PdfReader(pdf).pages)
+    assert "In SI units" in text and "gal/min" in text and "Root x [mm]" in text
+    assert "243.83999999999997 m" in text  # 800 ft at NIST SP 811's 0.3048 m, every digit
+    runs = next(folder.glob("*runs.csv")).read_text().splitlines()
+    assert "method,k,x [mm],fx,dfx,dx [mm],lo [mm],hi [mm]" in runs
