@@ -379,7 +379,7 @@ class EquationStrip(QWidget):
                                  "roots (mm, ft, degC). Blank: the SI unit the equation's "
                                  "dimensions give it.")
         self.unit_box.setMaximumWidth(110)
-        unit_label = QLabel("Uni&t")
+        unit_label = QLabel("Unit")  # every letter of it is taken as an Alt key
         unit_label.setBuddy(self.unit_box)
         self.dimension_box = QCheckBox("Check dimensions")
         self.dimension_box.setObjectName("dimensionCheckBox")
