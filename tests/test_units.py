@@ -375,3 +375,13 @@ def test_the_calculation_sheet_gives_units_as_entered_and_in_si(capsys, tmp_path
     assert "243.83999999999997 m" in text  # 800 ft at NIST SP 811's 0.3048 m, every digit
     runs = next(folder.glob("*runs.csv")).read_text().splitlines()
     assert "method,k,x [mm],fx,dfx,dx [mm],lo [mm],hi [mm]" in runs
+
+
+def test_a_hidden_unit_shows_as_fractional_powers_and_is_said():
+    # Manning with n typed as a bare number: the area comes out in m^(7/3)/s, which no
+    # engineer means; the remark points at the constant (or the switch)
+    eq = parse_equation(MANNING, unknown="A", parameters={
+        "Q": "10 m^3/s", "n": 0.013, "R": "0.8 m", "S": 0.001})
+    assert eq.unknown_unit == "m^(7/3)/s"
+    assert any(r.code == "unknown_dimension_fractional" for r in eq.remarks)
+    assert "hides its unit" in " ".join(words.remarks_text(eq.remarks))

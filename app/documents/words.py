@@ -503,7 +503,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
-                          "unknown_dimension_free"})
+                          "unknown_dimension_free", "unknown_dimension_fractional"})
 
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
@@ -525,6 +525,11 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                       "or delta_degF for a difference)",
     "unknown_dimension_free": lambda r: f"the equation does not fix the dimension of "
                                         f"'{r.subject}': it is taken as dimensionless",
+    "unknown_dimension_fractional": lambda r: f"the dimensions give '{r.subject}' fractional "
+                                              "powers of units: if a constant of the equation "
+                                              "hides its unit (Manning's n, a Hazen–Williams "
+                                              "coefficient) give it its unit or switch the "
+                                              "dimension check off",
 }
 
 

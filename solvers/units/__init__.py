@@ -232,6 +232,9 @@ class Plan:
             remarks: tuple[tuple[str, str, tuple[float, ...]], ...] = ()
             if not outcome.fixed and self.unit is None:
                 remarks = (("unknown_dimension_free", self.unknown.name, ()),)
+            elif any(float(e) != int(e) for _n, e in outcome.dimension):
+                # m^(60/37)/s^(20/37): most likely a constant whose unit the text hides
+                remarks = (("unknown_dimension_fractional", self.unknown.name, ()),)
             unit = given_text if given_text is not None else (
                 unit_text(outcome.dimension) or None)
             hit = self.cache[key] = Resolution(unit, remarks)
