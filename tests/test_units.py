@@ -16,6 +16,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 import scipy.constants as sc
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from app.cli import main
 from app.documents import words
@@ -184,6 +186,8 @@ def test_an_unknown_unit_is_named_with_close_names():
 @pytest.mark.parametrize("unit", [
     "__import__('os')", "m; import os", "m\nos", "exec(m)", "m" * 80, "m^99", "m**(10**10)",
     "lambda: 0", "m[0]", "m{}", "${HOME}",
+    # resource bombs: pint computes powers of numbers exactly (9^9^9^9 would never end)
+    "9^9^9^9", "2**2**2**2**2**m", "m^99999999999", "((((9*m)^12)^12)^12)^12", "m^(1/3)^3",
 ])
 def test_code_like_or_oversized_unit_text_is_refused(unit):
     with pytest.raises(EquationError):
@@ -385,3 +389,21 @@ def test_a_hidden_unit_shows_as_fractional_powers_and_is_said():
     assert eq.unknown_unit == "m^(7/3)/s"
     assert any(r.code == "unknown_dimension_fractional" for r in eq.remarks)
     assert "hides its unit" in " ".join(words.remarks_text(eq.remarks))
+
+
+_UNIT_ALPHABET = "mskgKAlLnNPaJWhzµ°%ΩdegCF_0123456789 */^().-e"
+
+
+@settings(max_examples=400, deadline=None,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(st.text(alphabet=_UNIT_ALPHABET, max_size=60))
+def test_any_unit_text_is_read_or_refused_in_one_line(text):
+    # property: whatever the text, a Unit with a finite non-zero factor or an EquationError
+    # with one line, never another exception and never a hang (the suite's timeout)
+    try:
+        unit = read_unit(text)
+    except EquationError as err:
+        assert "\n" not in str(err)
+    else:
+        assert math.isfinite(unit.factor) and unit.factor != 0.0
+        assert all(abs(e) <= 12 for _n, e in unit.dimension)

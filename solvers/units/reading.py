@@ -160,9 +160,31 @@ def unit_text_problem(text: Any) -> str:
         bad = next(c for c in stripped if not _ALLOWED_ONE.fullmatch(c))
         return (f"unit '{stripped}': character {bad!r} is not allowed in a unit "
                 "(letters, digits, spaces and * / ^ ( ) . - only)")
-    if "__" in stripped or stripped.count("(") > 8:
+    if "__" in stripped or _depth(stripped) > 3:
         return f"unit '{stripped}': cannot be read as a unit"
+    # Powers only of a name or a group, by one small number or fraction, never chained:
+    # pint computes number powers exactly, so 9^9^9^9 would never finish.
+    powers = stripped.replace("**", "^")
+    for m in re.finditer(r"\^", powers):
+        before = powers[:m.start()].rstrip()
+        after = _EXPONENT.match(powers, m.end())
+        if after is None or not before or before[-1].isdigit() or before[-1] == "." \
+                or powers[after.end():].lstrip().startswith("^"):
+            return (f"unit '{stripped}': a power must be a unit to a small number "
+                    "(m^3, s^-2, m^(1/3))")
     return ""
+
+
+_EXPONENT = re.compile(r"\s*(?:[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?![0-9.])|"
+                       r"\(\s*[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?:\s*/\s*[0-9]{1,2})?\s*\))")
+
+
+def _depth(text: str) -> int:
+    depth = deepest = 0
+    for c in text:
+        depth += (c == "(") - (c == ")")
+        deepest = max(deepest, depth)
+    return deepest
 
 
 # ---------------------------------------------------------------------------------------------
