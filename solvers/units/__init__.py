@@ -86,7 +86,7 @@ def with_unit(text: str) -> tuple[str, str] | None:
 
 
 _VALUE_AND_UNIT = re.compile(
-    r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)\s*\*?\s*"
+    r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)(?![eE][+-]?[0-9])\s*\*?\s*"
     r"([A-Za-zµμ°%Ω(].*?)\s*", re.ASCII | re.DOTALL)
 
 
