@@ -74,9 +74,8 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
                 [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
                 for s in r.steps
             ]
-            unit = eq.unknown_unit
-            print(_table(["k", _labelled("x", unit), "f(x)", "f'(x)", _labelled("dx", unit),
-                          _labelled("lo", unit), _labelled("hi", unit)], body))
+            print(_table(list(words.iterate_headings(eq.unknown, "ascii",
+                                                     eq.unknown_unit).values()), body))
     print(f"\n{caution()}")
 
 

@@ -29,6 +29,7 @@ from app.documents.files import write_atomic
 from app.documents.words import (
     CAUTION,
     DIMENSIONS_UNCHECKED,
+    IN_UNKNOWN_UNIT,
     confirmed_text,
     located_text,
     run_message,
@@ -39,7 +40,6 @@ from solvers.records import Run
 
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
 ROOT_COLUMNS = ("kind", "x", "residual", "multiplicity", "confirmed", "located_by")
-IN_UNKNOWN_UNIT = ("x", "dx", "lo", "hi")  # columns in the unknown's unit: "x [mm]"
 UNIT_KEY = "unknown unit"  # the metadata line that carries it (and labels those columns)
 
 

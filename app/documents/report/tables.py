@@ -57,30 +57,22 @@ def _residual_mp(equation: Any, x: float) -> str:
     return mpmath.nstr(result.value, 12)
 
 
-# Columns of an iteration table, kept only when some step of the run has the value.
-_STEP_COLUMNS: tuple[tuple[str, str], ...] = (
-    ("x", "x\u2096"),
-    ("fx", "f(x\u2096)"),
-    ("dfx", "f\u2032(x\u2096)"),
-    ("dx", "\u0394x\u2096 = x\u2096 \u2212 x\u2096\u208b\u2081"),
-    ("lo", "bracket lo"),
-    ("hi", "bracket hi"),
-)
+# Columns of an iteration table (Step fields), kept only when some step of the run has the value.
+_STEP_KEYS = ("x", "fx", "dfx", "dx", "lo", "hi")
 
 
-_IN_UNKNOWN_UNIT = ("x", "dx", "lo", "hi")  # columns in the unknown's unit
-
-
-def _iteration_table(run: Run, st: dict, unit: str | None = None) -> list[Flowable]:
+def _iteration_table(run: Run, st: dict, unknown: str = "x",
+                     unit: str | None = None) -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
         return [
             Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(words.run_message(run))}",
                       st["body"])
         ]
+    headings = words.iterate_headings(unknown, "sheet", unit)
     columns = [
-        (key, head)
-        for key, head in _STEP_COLUMNS
+        (key, headings[key])
+        for key in _STEP_KEYS
         if key in ("x", "fx") or any(getattr(s, key) is not None for s in run.steps)
     ]
     steps = list(run.steps)
@@ -89,8 +81,7 @@ def _iteration_table(run: Run, st: dict, unit: str | None = None) -> list[Flowab
         half = MAX_TABLE_ROWS // 2
         omitted = len(steps) - 2 * half
         steps = steps[:half] + [None] + steps[-half:]  # type: ignore[list-item]
-    header = ["k"] + [f"{head} [{unit}]" if unit and key in _IN_UNKNOWN_UNIT else head
-                      for key, head in columns]
+    header = ["k"] + [head for _, head in columns]
     body: list[list[str]] = []
     gap_row = None
     for step in steps:
