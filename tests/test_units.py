@@ -407,3 +407,13 @@ def test_any_unit_text_is_read_or_refused_in_one_line(text):
     else:
         assert math.isfinite(unit.factor) and unit.factor != 0.0
         assert all(abs(e) <= 12 for _n, e in unit.dimension)
+
+
+def test_an_angle_unknown_in_degrees_and_a_value_unit_pair():
+    eq = parse_equation("sin(x) = a/b", unknown_unit="deg",
+                        parameters={"a": (np.array([1.0, 0.5]), "m"),
+                                    "b": (np.array([200.0, 100.0]), "cm")})
+    # sin x = 1 m / 2 m and 0.5 m / 1 m: x = 30 deg (exact trigonometry), in degrees
+    root = newton(lambda x: eq.bind({"a": (1.0, "m"), "b": (2.0, "m")}).f(x), 20.0).root
+    assert root == pytest.approx(30.0, rel=1e-14)
+    np.testing.assert_allclose(eq.f(30.0), [0.0, 0.0], atol=1e-15)

@@ -145,12 +145,13 @@ def convert_parameters(values: Mapping[str, Any] | None
     """Values with units -> SI magnitudes; others untouched. Returns (values, converted).
 
     Strings hold a number and a unit (``"150 mm"``; a number alone as text is refused);
-    :class:`Measured` holds a value and a unit. Raises :class:`EquationError` naming the
-    parameter. Without any unit the mapping is returned as it came (no copy).
+    :class:`Measured` or a pair ``(value, "mm")`` holds a value (or array) and a unit.
+    Raises :class:`EquationError` naming the parameter. Without any unit the mapping is
+    returned as it came (no copy).
     """
     if values is None or not isinstance(values, Mapping):
         return values, {}
-    if not any(isinstance(v, (str, Measured)) for v in values.values()):
+    if not any(isinstance(v, (str, Measured, tuple)) for v in values.values()):
         return values, {}
     out: dict[str, Any] = {}
     converted: dict[str, Converted] = {}
@@ -164,6 +165,10 @@ def convert_parameters(values: Mapping[str, Any] | None
                 raise EquationError(f"parameter {name!r}: {value.strip()[:40]!r} is text "
                                     "without a unit; give a number, or a number and a unit")
             c = _convert(str(name), number, unit)
+            converted[name] = c
+            out[name] = c.si_value
+        elif isinstance(value, tuple) and len(value) == 2 and isinstance(value[1], str):
+            c = _convert(str(name), value[0], value[1])  # (value or array, "mm")
             converted[name] = c
             out[name] = c.si_value
         elif isinstance(value, Measured):
