@@ -32,14 +32,17 @@ PLAIN2 = {"hf": 3.0, "fD": 0.019, "L": 300.0, "Q": 0.04, "g": 9.80665}
 UNITS2 = {"hf": "3 m", "fD": 0.019, "L": "300 m", "Q": "40 L/s", "g": "9.80665 m/s^2"}
 
 
-def best_of(fn, repeat: int = 7, number: int = 1) -> float:
-    times = []
+def paired(fn_units, fn_plain, repeat: int = 9, number: int = 1) -> tuple[float, float]:
+    """Best time per call of each, measured alternately (a shared machine's load then
+    weighs on both alike)."""
+    best = [float("inf"), float("inf")]
     for _ in range(repeat):
-        t0 = time.perf_counter()
-        for _ in range(number):
-            fn()
-        times.append((time.perf_counter() - t0) / number)
-    return min(times)
+        for i, fn in enumerate((fn_units, fn_plain)):
+            t0 = time.perf_counter()
+            for _ in range(number):
+                fn()
+            best[i] = min(best[i], (time.perf_counter() - t0) / number)
+    return best[0], best[1]
 
 
 def first_use() -> float:
@@ -62,8 +65,7 @@ def main() -> None:
 
     a, b = plain_solve(), units_solve()  # warm (and pint's registry built)
     assert abs(a.root * 1000 - b.root) <= 1e-12 * b.root, (a.root, b.root)
-    t_plain = best_of(plain_solve, number=5)
-    t_units = best_of(units_solve, number=5)
+    t_units, t_plain = paired(units_solve, plain_solve, number=5)
     print(f"end to end (parse + Newton)   units {t_units * 1e3:7.2f} ms   "
           f"plain {t_plain * 1e3:7.2f} ms   ratio {t_units / t_plain:5.2f}")
 
@@ -78,22 +80,22 @@ def main() -> None:
         e = eq_units.bind(UNITS2)
         return newton(e.f, 150.0, fprime=e.fprime)
 
-    t_plain = best_of(plain_bind, number=200)
-    t_units = best_of(units_bind, number=200)
+    t_units, t_plain = paired(units_bind, plain_bind, number=200)
     print(f"bind + Newton                 units {t_units * 1e6:7.1f} us   "
           f"plain {t_plain * 1e6:7.1f} us   ratio {t_units / t_plain:5.2f}")
 
     n = 20_000
     eq_plain.f(0.15)
     eq_units.f(150.0)
-    t_plain = best_of(lambda: [eq_plain.f(0.15) for _ in range(n)]) / n
-    t_units = best_of(lambda: [eq_units.f(150.0) for _ in range(n)]) / n
+    t_units, t_plain = (t / n for t in paired(lambda: [eq_units.f(150.0) for _ in range(n)],
+                                               lambda: [eq_plain.f(0.15) for _ in range(n)]))
     print(f"per iteration: scalar f(x)    units {t_units * 1e6:7.3f} us   "
           f"plain {t_plain * 1e6:7.3f} us   ratio {t_units / t_plain:5.2f}")
     run_p = newton(eq_plain.f, 0.15, fprime=eq_plain.fprime)
     run_u = newton(eq_units.f, 150.0, fprime=eq_units.fprime)
-    t_plain = best_of(lambda: newton(eq_plain.f, 0.15, fprime=eq_plain.fprime), number=200)
-    t_units = best_of(lambda: newton(eq_units.f, 150.0, fprime=eq_units.fprime), number=200)
+    t_units, t_plain = paired(lambda: newton(eq_units.f, 150.0, fprime=eq_units.fprime),
+                              lambda: newton(eq_plain.f, 0.15, fprime=eq_plain.fprime),
+                              number=200)
     print(f"per iteration: Newton loop    units {t_units / run_u.iterations * 1e6:7.2f} us   "
           f"plain {t_plain / run_p.iterations * 1e6:7.2f} us   ratio {t_units / t_plain:5.2f}"
           f"   ({run_u.iterations} vs {run_p.iterations} iterations)")
