@@ -153,3 +153,8 @@ def test_a_worksheet_with_units_opens_with_its_units_shown(qtbot, window, tmp_pa
     assert model.data(model.index(_row(window, "Q"), model.UNIT)) == "L/s"
     assert window.worksheet().parameters == (Parameter("Q", 35.0, "", "L/s"),
                                              Parameter("v", 2.0, "", "m/s"))
+    assert not window.is_modified()  # opening is not editing
+    qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.ok,
+                    timeout=10_000)
+    assert window.analysis.equation.unknown_unit == "mm"
+    assert "in mm" in window.strip.status.text()
