@@ -1,0 +1,276 @@
+"""The iterations: Newton on the Jacobian and Broyden's method, both globalised by a
+backtracking line search on phi = ||F||^2 / 2.
+
+Globalisation (both methods)
+----------------------------
+A line search, not a trust region. From x with residuals F and direction d, the step
+x + lam*d is accepted when phi decreases enough (Armijo's condition with c = 1e-4:
+phi(x + lam*d) <= phi(x) + c*lam*grad(phi).d, grad(phi) = J^T F); otherwise lam shrinks
+(the minimiser of the quadratic through phi(0), phi'(0), phi(lam), kept within
+[lam/10, lam/2]). A trial where F is not finite (ln of a negative number, overflow)
+halves lam: the search backs into the domain first. A step longer than
+100*max(||x||, n) is cut to that length before the search (a start far from the root
+would otherwise overflow).
+
+Newton: d solves J d = -F. Where J is singular (its smallest singular value below
+n*eps times its largest, or J not finite) the step is Levenberg-Marquardt,
+d = -(J^T J + mu I)^-1 J^T F with mu = sqrt(eps)*||J||^2 + ||J^T F||, recorded as
+``regularised``. Broyden (the "good" update, B += (y - B s) s^T / s^T s) starts from a
+forward-difference Jacobian and refreshes it by differences when its direction fails to
+decrease ||F||, and before it may stop: a Broyden matrix can be wrong where a step is small.
+
+Stopping (scale-aware)
+----------------------
+* ``x_tolerance``: a full (lam = 1, not regularised) step with |dx_i| <= xtol + rtol*|x_i|
+  for every unknown, each in its own scale. For Newton that step is J^-1 F: a small step
+  with a nonsingular J means a small residual in J's own units. Broyden confirms it with a
+  fresh difference Jacobian.
+* ``f_tolerance``: max |F_i| <= ftol (ftol in the residuals' units; 0 turns it off).
+* ``exact_zero``: every residual exactly 0.
+* ``zero_derivative``: the line search cannot decrease ||F|| even along the regularised
+  direction: the gradient J^T F vanishes while F does not, so J is singular there (a
+  minimum of ||F|| that is no root, such as two circles that do not meet). Never converged.
+* ``not_finite``: F or J not finite at the start, or no finite trial along the direction.
+* ``max_iterations``: the iteration cap.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from solvers.records import (
+    EXACT_ZERO,
+    F_TOLERANCE,
+    MAX_ITERATIONS,
+    NOT_FINITE,
+    X_TOLERANCE,
+    ZERO_DERIVATIVE,
+)
+
+_EPS = float(np.finfo(float).eps)
+_ARMIJO = 1e-4
+_MIN_LAMBDA = 1e-12
+_MAX_STEP = 100.0
+
+
+@dataclass
+class Counter:
+    """Evaluations of F and J made so far (a difference Jacobian adds its F calls)."""
+
+    evaluations: int = 0
+
+
+@dataclass
+class Problem:
+    """One block: F and J restricted to the block's equations and unknowns."""
+
+    F: Callable[[np.ndarray], np.ndarray]
+    J: Callable[[np.ndarray], np.ndarray] | None  # None: differences only (Broyden)
+    record: Callable[[np.ndarray, np.ndarray, float, float, bool], None]
+    counter: Counter
+
+
+@dataclass
+class Outcome:
+    x: np.ndarray
+    reason: str
+    iterations: int
+
+
+def _phi(f: np.ndarray) -> float:
+    return 0.5 * float(f @ f)
+
+
+def _finite(a: np.ndarray) -> bool:
+    return bool(np.isfinite(a).all())
+
+
+def _small_step(dx: np.ndarray, x: np.ndarray, xtol: float, rtol: float) -> bool:
+    return bool((np.abs(dx) <= xtol + rtol * np.abs(x)).all())
+
+
+def _differences(p: Problem, x: np.ndarray, f0: np.ndarray) -> np.ndarray:
+    n = x.size
+    jac = np.empty((f0.size, n))
+    for j in range(n):
+        h = math.sqrt(_EPS) * max(abs(x[j]), 1.0)
+        xh = x.copy()
+        xh[j] += h
+        p.counter.evaluations += 1
+        jac[:, j] = (p.F(xh) - f0) / (xh[j] - x[j])
+    return jac
+
+
+def _direction(jac: np.ndarray, f: np.ndarray) -> tuple[np.ndarray, bool]:
+    """(d, regularised): the Newton direction, or Levenberg-Marquardt where J is singular."""
+    n = f.size
+    if _finite(jac):
+        s = np.linalg.svd(jac, compute_uv=False)
+        if s[-1] > n * _EPS * s[0]:
+            try:
+                d = np.linalg.solve(jac, -f)
+                if _finite(d):
+                    return d, False
+            except np.linalg.LinAlgError:
+                pass
+        g = jac.T @ f
+        mu = math.sqrt(_EPS) * float(s[0]) ** 2 + float(np.linalg.norm(g)) + 1e-300
+        d = np.linalg.solve(jac.T @ jac + mu * np.eye(n), -g)
+        return d, True
+    return np.full(n, np.nan), True
+
+
+def _cap(d: np.ndarray, x: np.ndarray) -> np.ndarray:
+    longest = _MAX_STEP * max(float(np.linalg.norm(x)), float(x.size))
+    length = float(np.linalg.norm(d))
+    return d * (longest / length) if length > longest else d
+
+
+def _search(p: Problem, x: np.ndarray, f: np.ndarray, d: np.ndarray, slope: float
+            ) -> tuple[np.ndarray, np.ndarray, float] | None:
+    """(x_new, F_new, lam) with sufficient decrease of phi along d, or None."""
+    phi0 = _phi(f)
+    lam = 1.0
+    while lam >= _MIN_LAMBDA:
+        xt = x + lam * d
+        p.counter.evaluations += 1
+        ft = p.F(xt)
+        if not _finite(ft):
+            lam *= 0.5  # back into the domain first
+            continue
+        phit = _phi(ft)
+        if phit <= phi0 + _ARMIJO * lam * slope:
+            return xt, ft, lam
+        denominator = 2.0 * (phit - phi0 - slope * lam)
+        trial = -slope * lam * lam / denominator if denominator > 0 else 0.5 * lam
+        lam = min(max(trial, 0.1 * lam), 0.5 * lam)
+    return None
+
+
+def _stop_on_residual(f: np.ndarray, ftol: float) -> str | None:
+    if not f.any():
+        return EXACT_ZERO
+    if ftol > 0 and float(np.max(np.abs(f))) <= ftol:
+        return F_TOLERANCE
+    return None
+
+
+def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
+           max_iter: int) -> Outcome:
+    """Newton with the line search; see the module docstring for the rules."""
+    x = x0.copy()
+    p.counter.evaluations += 1
+    f = p.F(x)
+    p.record(x, f, 0.0, 0.0, False)
+    if not _finite(f):
+        return Outcome(x, NOT_FINITE, 0)
+    stop = _stop_on_residual(f, ftol)
+    if stop:
+        return Outcome(x, stop, 0)
+    for k in range(1, max_iter + 1):
+        if p.J is None:
+            jac = _differences(p, x, f)
+        else:
+            p.counter.evaluations += 1
+            jac = p.J(x)
+            if not _finite(jac):
+                jac = _differences(p, x, f)  # e.g. a kink's derivative at the point itself
+        if not _finite(jac):
+            return Outcome(x, NOT_FINITE, k - 1)
+        d, regularised = _direction(jac, f)
+        full = d
+        d = _cap(d, x)
+        slope = float((jac.T @ f) @ d)
+        if not regularised and d is full and _small_step(d, x, xtol, rtol):
+            p.counter.evaluations += 1
+            fn = p.F(x + d)
+            if _finite(fn):  # the Newton step itself is within the tolerance: a root
+                x = x + d
+                f = fn
+                p.record(x, f, float(np.linalg.norm(d)), 1.0, False)
+                return Outcome(x, _stop_on_residual(f, ftol) or X_TOLERANCE, k)
+        found = _search(p, x, f, d, slope) if slope < 0 else None
+        if found is None and not regularised:
+            g = jac.T @ f  # fall back on the regularised direction once
+            mu = math.sqrt(_EPS) * float(np.linalg.norm(jac, 2)) ** 2 + float(np.linalg.norm(g))
+            d = np.linalg.solve(jac.T @ jac + mu * np.eye(x.size), -g)
+            full, regularised = d, True
+            found = _search(p, x, f, d, float(g @ d))
+        if found is None:
+            return Outcome(x, ZERO_DERIVATIVE, k - 1)
+        x_new, f, lam = found
+        step = x_new - x
+        x = x_new
+        damping = float(np.linalg.norm(step) / np.linalg.norm(full))
+        p.record(x, f, float(np.linalg.norm(step)), damping, regularised)
+        stop = _stop_on_residual(f, ftol)
+        if stop:
+            return Outcome(x, stop, k)
+    return Outcome(x, MAX_ITERATIONS, max_iter)
+
+
+def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
+            max_iter: int) -> Outcome:
+    """Broyden's good update with the same line search; differences only (no J)."""
+    x = x0.copy()
+    p.counter.evaluations += 1
+    f = p.F(x)
+    p.record(x, f, 0.0, 0.0, False)
+    if not _finite(f):
+        return Outcome(x, NOT_FINITE, 0)
+    stop = _stop_on_residual(f, ftol)
+    if stop:
+        return Outcome(x, stop, 0)
+    b = _differences(p, x, f)
+    fresh = True
+    k = 0
+    while k < max_iter:
+        if not _finite(b):
+            return Outcome(x, NOT_FINITE, k)
+        d, regularised = _direction(b, f)
+        full = d
+        d = _cap(d, x)
+        if not regularised and d is full and _small_step(d, x, xtol, rtol):
+            if not fresh:  # confirm with a fresh Jacobian before stopping
+                b, fresh = _differences(p, x, f), True
+                continue
+            p.counter.evaluations += 1
+            fn = p.F(x + d)
+            if _finite(fn):
+                k += 1
+                x, f = x + d, fn
+                p.record(x, f, float(np.linalg.norm(d)), 1.0, False)
+                return Outcome(x, _stop_on_residual(f, ftol) or X_TOLERANCE, k)
+        slope = float((b.T @ f) @ d)
+        found = _search(p, x, f, d, slope) if slope < 0 else None
+        if found is None:
+            if not fresh:
+                b, fresh = _differences(p, x, f), True
+                continue
+            if not regularised:
+                g = b.T @ f
+                mu = math.sqrt(_EPS) * float(np.linalg.norm(b, 2)) ** 2 + float(np.linalg.norm(g))
+                d = np.linalg.solve(b.T @ b + mu * np.eye(x.size), -g)
+                full, regularised = d, True
+                found = _search(p, x, f, d, float(g @ d))
+            if found is None:
+                return Outcome(x, ZERO_DERIVATIVE, k)
+        x_new, f_new, lam = found
+        k += 1
+        s = x_new - x
+        y = f_new - f
+        ss = float(s @ s)
+        if ss > 0:
+            b = b + np.outer(y - b @ s, s) / ss
+        fresh = False
+        x, f = x_new, f_new
+        p.record(x, f, float(np.linalg.norm(s)), float(np.linalg.norm(s) / np.linalg.norm(full)),
+                 regularised)
+        stop = _stop_on_residual(f, ftol)
+        if stop:
+            return Outcome(x, stop, k)
+    return Outcome(x, MAX_ITERATIONS, max_iter)
