@@ -20,7 +20,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 from typing import Any, NoReturn
 
-from app import terminal
+from app import systems_cli, terminal
 from app.terminal import caution
 
 EXIT_OK = 0
@@ -61,11 +61,12 @@ def _method_help() -> str:
 
 
 def _method_name(text: str) -> str:
-    from app.documents.worksheet import METHOD_NAMES
+    from app.documents.worksheet import METHOD_NAMES, SYSTEM_METHOD_NAMES
 
     name = text.strip().lower().replace("-", "_")
-    if name not in METHOD_NAMES:
-        choices = ", ".join(m.replace("_", "-") for m in METHOD_NAMES)
+    if name not in METHOD_NAMES and name not in SYSTEM_METHOD_NAMES:
+        choices = ", ".join(m.replace("_", "-") for m in dict.fromkeys(
+            (*METHOD_NAMES, *SYSTEM_METHOD_NAMES)))
         raise argparse.ArgumentTypeError(f"unknown method {text!r} (choose from {choices})")
     return name
 
@@ -160,7 +161,8 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
         metavar="EQUATION",
         help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers",
     )
-    p.add_argument("--unknown", metavar="X", help="the name to solve for (inferred if omitted)")
+    p.add_argument("--unknown", metavar="X", action="append",
+                   help="the name to solve for (inferred if omitted); repeat for a system")
     p.add_argument(
         "--param",
         action="append",
@@ -192,7 +194,8 @@ def _build_parser() -> _Parser:
         metavar="M",
         help=_METHOD_HELP,
     )
-    solve.add_argument("--x0", type=_finite, metavar="V", help="initial guess")
+    solve.add_argument("--x0", type=systems_cli.x0_value, action="append", metavar="V",
+                       help="initial guess; NAME=VALUE for each unknown of a system")
     solve.add_argument("--x1", type=_finite, metavar="V", help="second point for the secant")
     solve.add_argument("--bracket", nargs=2, type=_finite, metavar=("A", "B"), help="bracket ends")
     solve.add_argument("--xtol", type=_setting("xtol"), metavar="V",
@@ -243,6 +246,8 @@ def _load_worksheet(path: str):
 
 def _worksheet_from_args(args: argparse.Namespace):
     from app.documents.worksheet import Parameter, Settings, Worksheet, tolerances_problem
+
+    systems_cli.one_equation(args)  # --unknown, --x0: one value each here
 
     if args.worksheet:
         ws = _load_worksheet(args.worksheet)
@@ -308,6 +313,8 @@ def cmd_solve(args: argparse.Namespace) -> int:
     from app.documents import export
     from solvers import pipeline
 
+    if systems_cli.is_system(args):
+        return systems_cli.cmd_solve_system(args)
     ws = _worksheet_from_args(args)
     csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
     solution = pipeline.solve(ws)

@@ -55,6 +55,11 @@ _EPS = float(np.finfo(float).eps)
 _ARMIJO = 1e-4
 _MIN_LAMBDA = 1e-12
 _MAX_STEP = 100.0
+# A damped step where grad(phi) = J^T F is this nearly orthogonal to F (relative to
+# ||J|| ||F||) means J is singular in F's direction: ||F|| has a minimum there that no
+# step will leave. At a root with a nonsingular J the ratio is at least 1/cond(J).
+_STALL_COSINE = math.sqrt(_EPS)
+_FALLBACK_LAMBDA = 0.1  # a Newton step cut below this fraction: try the regularised one too
 
 
 @dataclass
@@ -117,11 +122,15 @@ def _direction(jac: np.ndarray, f: np.ndarray) -> tuple[np.ndarray, bool]:
                     return d, False
             except np.linalg.LinAlgError:
                 pass
-        g = jac.T @ f
-        mu = math.sqrt(_EPS) * float(s[0]) ** 2 + float(np.linalg.norm(g)) + 1e-300
-        d = np.linalg.solve(jac.T @ jac + mu * np.eye(n), -g)
-        return d, True
+        return _levenberg(jac, f), True
     return np.full(n, np.nan), True
+
+
+def _levenberg(jac: np.ndarray, f: np.ndarray) -> np.ndarray:
+    """The Levenberg-Marquardt direction -(J^T J + mu I)^-1 J^T F (see the module docstring)."""
+    g = jac.T @ f
+    mu = math.sqrt(_EPS) * float(np.linalg.norm(jac, 2)) ** 2 + float(np.linalg.norm(g)) + 1e-300
+    return np.linalg.solve(jac.T @ jac + mu * np.eye(f.size), -g)
 
 
 def _cap(d: np.ndarray, x: np.ndarray) -> np.ndarray:
@@ -149,6 +158,17 @@ def _search(p: Problem, x: np.ndarray, f: np.ndarray, d: np.ndarray, slope: floa
         trial = -slope * lam * lam / denominator if denominator > 0 else 0.5 * lam
         lam = min(max(trial, 0.1 * lam), 0.5 * lam)
     return None
+
+
+def _stalled(jac: np.ndarray, f: np.ndarray, step: np.ndarray, x: np.ndarray, xtol: float,
+             rtol: float) -> bool:
+    """After a damped step: no progress left (the step is below the tolerance although the
+    full step is not), or the gradient of ||F||^2 has vanished relative to ||J|| ||F||."""
+    if _small_step(step, x, xtol, rtol):
+        return True
+    g = float(np.linalg.norm(jac.T @ f))
+    scale = float(np.linalg.norm(jac)) * float(np.linalg.norm(f))
+    return scale > 0 and g <= _STALL_COSINE * scale
 
 
 def _stop_on_residual(f: np.ndarray, ftol: float) -> str | None:
@@ -194,12 +214,13 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
                 p.record(x, f, float(np.linalg.norm(d)), 1.0, False)
                 return Outcome(x, _stop_on_residual(f, ftol) or X_TOLERANCE, k)
         found = _search(p, x, f, d, slope) if slope < 0 else None
-        if found is None and not regularised:
-            g = jac.T @ f  # fall back on the regularised direction once
-            mu = math.sqrt(_EPS) * float(np.linalg.norm(jac, 2)) ** 2 + float(np.linalg.norm(g))
-            d = np.linalg.solve(jac.T @ jac + mu * np.eye(x.size), -g)
-            full, regularised = d, True
-            found = _search(p, x, f, d, float(g @ d))
+        if not regularised and (found is None or found[2] < _FALLBACK_LAMBDA):
+            # a Newton step cut this short means J is nearly singular: try the
+            # regularised direction too and keep whichever lowers ||F|| more
+            d2 = _levenberg(jac, f)
+            other = _search(p, x, f, d2, float((jac.T @ f) @ d2))
+            if other is not None and (found is None or _phi(other[1]) < _phi(found[1])):
+                found, full, regularised = other, d2, True
         if found is None:
             return Outcome(x, ZERO_DERIVATIVE, k - 1)
         x_new, f, lam = found
@@ -210,6 +231,8 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
         stop = _stop_on_residual(f, ftol)
         if stop:
             return Outcome(x, stop, k)
+        if (lam < 1.0 or regularised) and _stalled(jac, f, step, x, xtol, rtol):
+            return Outcome(x, ZERO_DERIVATIVE, k)
     return Outcome(x, MAX_ITERATIONS, max_iter)
 
 
@@ -247,23 +270,22 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
                 return Outcome(x, _stop_on_residual(f, ftol) or X_TOLERANCE, k)
         slope = float((b.T @ f) @ d)
         found = _search(p, x, f, d, slope) if slope < 0 else None
+        if found is None and not fresh:
+            b, fresh = _differences(p, x, f), True
+            continue
+        if not regularised and (found is None or found[2] < _FALLBACK_LAMBDA):
+            d2 = _levenberg(b, f)  # as in Newton: the regularised direction as well
+            other = _search(p, x, f, d2, float((b.T @ f) @ d2))
+            if other is not None and (found is None or _phi(other[1]) < _phi(found[1])):
+                found, full, regularised = other, d2, True
         if found is None:
-            if not fresh:
-                b, fresh = _differences(p, x, f), True
-                continue
-            if not regularised:
-                g = b.T @ f
-                mu = math.sqrt(_EPS) * float(np.linalg.norm(b, 2)) ** 2 + float(np.linalg.norm(g))
-                d = np.linalg.solve(b.T @ b + mu * np.eye(x.size), -g)
-                full, regularised = d, True
-                found = _search(p, x, f, d, float(g @ d))
-            if found is None:
-                return Outcome(x, ZERO_DERIVATIVE, k)
+            return Outcome(x, ZERO_DERIVATIVE, k)
         x_new, f_new, lam = found
         k += 1
         s = x_new - x
         y = f_new - f
         ss = float(s @ s)
+        stall = (lam < 1.0 or regularised) and fresh and _stalled(b, f_new, s, x_new, xtol, rtol)
         if ss > 0:
             b = b + np.outer(y - b @ s, s) / ss
         fresh = False
@@ -273,4 +295,8 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
         stop = _stop_on_residual(f, ftol)
         if stop:
             return Outcome(x, stop, k)
+        if stall:
+            return Outcome(x, ZERO_DERIVATIVE, k)
+        if (lam < 1.0 or regularised) and _small_step(s, x, xtol, rtol):
+            b, fresh = _differences(p, x, f), True  # no progress with this B: refresh it
     return Outcome(x, MAX_ITERATIONS, max_iter)

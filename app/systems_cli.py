@@ -1,0 +1,157 @@
+"""``zerotrace solve`` for a system of equations (several unknowns), and the flags they share.
+
+A solve is a system when ``--unknown`` is given more than once, when any ``--x0`` reads
+``NAME=VALUE``, or when the worksheet holds a system. Then the equations are separated by
+``;`` or line breaks (definitions ``name = expression`` may stand among them), each unknown
+needs a start value (``--x0 NAME=VALUE``; a plain ``--x0 V`` is the start of every unknown
+not named), and the methods are those for systems (``newton``, ``broyden``). Otherwise
+``--unknown`` and ``--x0`` take one value, as they always did.
+"""
+
+from __future__ import annotations
+
+import argparse
+from dataclasses import replace
+from typing import Any
+
+
+def x0_value(text: str) -> float | tuple[str, float]:
+    """An argparse type for ``--x0``: a number, or NAME=VALUE (a system's start value)."""
+    from app.cli import _finite, _param
+
+    if "=" in text:
+        return _param(text)
+    return _finite(text)
+
+
+def method_names() -> tuple[str, ...]:
+    from solvers.worksheet import SYSTEM_METHOD_NAMES
+
+    return SYSTEM_METHOD_NAMES
+
+
+def is_system(args: argparse.Namespace) -> bool:
+    """Whether the flags (or the worksheet) ask for a system."""
+    unknowns = args.unknown or []
+    starts = getattr(args, "x0", None) or []
+    if len(unknowns) > 1 or any(isinstance(v, tuple) for v in starts):
+        return True
+    if getattr(args, "worksheet", None):
+        from app.cli import _load_worksheet
+
+        return _load_worksheet(args.worksheet).system is not None
+    return False
+
+
+def one_equation(args: argparse.Namespace) -> None:
+    """``--unknown``, ``--x0`` and ``--method`` back to what one equation takes, in place;
+    InputError naming the flag when they ask for a system."""
+    from app.cli import InputError
+    from solvers.worksheet import METHOD_NAMES
+
+    unknowns = args.unknown or []
+    if len(unknowns) > 1:
+        raise InputError(f"zerotrace {args.command}: --unknown given {len(unknowns)} times; "
+                         "several unknowns need several equations (a system)")
+    args.unknown = unknowns[0] if unknowns else None
+    if hasattr(args, "x0"):
+        starts = args.x0 or []
+        args.x0 = starts[-1] if starts else None
+    for m in getattr(args, "method", None) or []:
+        if m not in METHOD_NAMES:
+            raise InputError(f"zerotrace {args.command}: --method {m} is for systems of "
+                             "equations (name two or more unknowns)")
+
+
+def _worksheet(args: argparse.Namespace) -> Any:
+    from app.cli import InputError, _load_worksheet
+    from app.documents.worksheet import (
+        Parameter,
+        StartValue,
+        SystemSpec,
+        Worksheet,
+        tolerances_problem,
+    )
+
+    if args.worksheet:
+        ws = _load_worksheet(args.worksheet)
+        if args.equation:
+            ws = replace(ws, equation=args.equation)
+    elif args.equation:
+        ws = Worksheet(equation=args.equation)
+    else:
+        raise InputError("zerotrace solve: give the EQUATIONS or --worksheet FILE")
+    if not ws.equation.strip():
+        raise InputError("zerotrace solve: the equations are empty")
+    if args.param:
+        values = ws.parameter_values()
+        notes = {p.name: p.note for p in ws.parameters}
+        values.update(dict(args.param))
+        ws = replace(ws, parameters=tuple(Parameter(n, v, notes.get(n, ""))
+                                          for n, v in values.items()))
+    starts = args.x0 or []
+    named = dict(v for v in starts if isinstance(v, tuple))
+    plain = [v for v in starts if not isinstance(v, tuple)]
+    old = ws.system.start() if ws.system else {}
+    names = list(args.unknown or []) or list(old) or list(_inferred_unknowns(ws))
+    start: dict[str, float] = {}
+    for n in names:
+        if n in named:
+            start[n] = named[n]
+        elif plain:
+            start[n] = plain[-1]
+        elif n in old:
+            start[n] = old[n]
+        else:
+            raise InputError(f"zerotrace solve: no start value for '{n}'; give --x0 {n}=VALUE")
+    stray = [n for n in named if n not in start]
+    if stray:
+        raise InputError(f"zerotrace solve: --x0 {stray[0]}=...: '{stray[0]}' is not an "
+                         "unknown (name it with --unknown)")
+    methods = tuple(dict.fromkeys(args.method or [])) or (
+        ws.system.methods if ws.system else method_names())
+    for m in methods:
+        if m not in method_names():
+            raise InputError(f"zerotrace solve: --method {m.replace('_', '-')} solves one "
+                             "equation; for a system choose " + ", ".join(method_names()))
+    s = ws.settings
+    changes = {f: getattr(args, f) for f in ("xtol", "rtol", "ftol", "max_iter")
+               if getattr(args, f, None) is not None}
+    s = replace(s, **changes)
+    problem = tolerances_problem(s.xtol, s.rtol, s.ftol)
+    if problem:
+        raise InputError(f"zerotrace solve: {problem} (set --xtol, --rtol or --ftol)")
+    spec = SystemSpec(tuple(StartValue(n, v) for n, v in start.items()), methods)
+    return replace(ws, settings=s, system=spec, unknown=None)
+
+
+def _inferred_unknowns(ws: Any) -> tuple[str, ...]:
+    from solvers.systems import parse_system
+
+    return parse_system(ws.equation, None, ws.parameter_values()).unknowns
+
+
+def cmd_solve_system(args: argparse.Namespace) -> int:
+    from app.cli import EXIT_OK, InputError, _json_out, _output_path
+    from app.documents import system_export
+    from app.terminal_systems import print_system_solution
+    from solvers.systems.pipeline import solve_worksheet
+
+    for flag in ("x1", "bracket", "damping"):
+        if getattr(args, flag, None) is not None:
+            raise InputError(f"zerotrace solve: --{flag} is for one equation, not a system")
+    ws = _worksheet(args)
+    csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
+    solution = solve_worksheet(ws)
+    if csv_path:
+        try:
+            system_export.system_csv(solution, csv_path)
+        except OSError as exc:
+            raise InputError(f"{csv_path}: cannot write ({exc.strerror or exc})") from None
+    if args.json:
+        _json_out(system_export.system_json(solution))
+    else:
+        print_system_solution(solution, steps=args.steps, figures=args.figures)
+        if csv_path:
+            print(f"iteration log written to {csv_path}")
+    return EXIT_OK
