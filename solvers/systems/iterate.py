@@ -226,7 +226,7 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
         x_new, f, lam = found
         step = x_new - x
         x = x_new
-        damping = float(np.linalg.norm(step) / np.linalg.norm(full))
+        damping = min(1.0, float(np.linalg.norm(step) / np.linalg.norm(full)))
         p.record(x, f, float(np.linalg.norm(step)), damping, regularised)
         stop = _stop_on_residual(f, ftol)
         if stop:
@@ -290,8 +290,8 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
             b = b + np.outer(y - b @ s, s) / ss
         fresh = False
         x, f = x_new, f_new
-        p.record(x, f, float(np.linalg.norm(s)), float(np.linalg.norm(s) / np.linalg.norm(full)),
-                 regularised)
+        p.record(x, f, float(np.linalg.norm(s)),
+                 min(1.0, float(np.linalg.norm(s) / np.linalg.norm(full))), regularised)
         stop = _stop_on_residual(f, ftol)
         if stop:
             return Outcome(x, stop, k)
