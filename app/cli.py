@@ -372,6 +372,8 @@ def cmd_report(args: argparse.Namespace) -> int:
 
     ws = _load_worksheet(args.worksheet)
     _output_path(args.pdf, args.force, "--pdf")
+    if ws.system is not None:
+        return systems_cli.cmd_report_system(args, ws)
     if args.csv_dir is not None:
         from pathlib import Path
 

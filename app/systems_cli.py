@@ -155,3 +155,22 @@ def cmd_solve_system(args: argparse.Namespace) -> int:
         if csv_path:
             print(f"iteration log written to {csv_path}")
     return EXIT_OK
+
+
+def cmd_report_system(args: argparse.Namespace, ws: Any) -> int:
+    """``zerotrace report`` of a worksheet that holds a system (the output checked already)."""
+    from app.cli import EXIT_OK, InputError
+    from app.documents.report.system_sheet import write_system_report
+    from app.terminal import caution
+    from solvers.systems.pipeline import solve_worksheet
+
+    if args.csv_dir is not None and not args.csv_dir.strip():
+        raise InputError("--csv-dir: the path is empty; give a folder")
+    solution = solve_worksheet(ws)  # the sheet is handed results, never solves
+    result = write_system_report(ws, args.pdf, solution=solution, csv_dir=args.csv_dir,
+                                 worksheet_path=args.worksheet, overwrite=args.force)
+    print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
+    for path in result.csv_paths:
+        print(f"csv written to {path}")
+    print(caution())
+    return EXIT_OK
