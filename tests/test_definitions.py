@@ -142,3 +142,27 @@ def test_definitions_in_a_system_are_written_out():
     assert run.root["x"] == pytest.approx(2.0, rel=1e-14)
     assert run.root["y"] == pytest.approx(1.0, rel=1e-14)
     assert system.definition_values([2.0, 1.0]) == {"s": 3.0}
+
+
+def test_the_calculation_sheet_shows_definitions_and_their_values(tmp_path, capsys):
+    import json
+
+    import pypdf
+
+    from app.cli import main
+
+    # an invented orifice: the head h that passes Q through it (v = sqrt(2 g h), by hand)
+    sheet = {"format": "zerotrace-worksheet", "version": 1, "title": "Orifice head",
+             "equation": "A = pi*d^2/4\nv = Q/(Cd*A)\nv^2 = 2*g*h", "unknown": "h",
+             "parameters": [{"name": "d", "value": 0.05}, {"name": "Cd", "value": 0.62},
+                            {"name": "Q", "value": 0.004}, {"name": "g", "value": 9.80665}],
+             "settings": {"methods": ["newton"], "x0": 1.0}}
+    path = tmp_path / "orifice.json"
+    path.write_text(json.dumps(sheet))
+    pdf = tmp_path / "orifice.pdf"
+    assert main(["report", str(path), "--pdf", str(pdf)]) == 0
+    text = " ".join(p.extract_text() for p in pypdf.PdfReader(pdf).pages)
+    assert "Definitions" in text and "v = Q/(Cd*A)" in text
+    v = 0.004 / (0.62 * math.pi * 0.05**2 / 4)
+    assert "Definitions at each root" in text
+    assert repr(v)[:12] in text
