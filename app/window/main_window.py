@@ -463,6 +463,18 @@ class MainWindow(QMainWindow):
     def open_file(self) -> bool:
         return self.files.open_file()
 
+    def open_system(self, ws: Any = None) -> Any:
+        """The system window (one per main window), showing ``ws`` when given."""
+        from app.window.system_view import SystemWindow
+
+        if getattr(self, "system_window", None) is None:
+            self.system_window = SystemWindow(self.runner)
+        if ws is not None:
+            self.system_window.load_worksheet(ws)
+        self.system_window.show()
+        self.system_window.raise_()
+        return self.system_window
+
     def open_path(self, path: str | Path, *, ask: bool = True, as_copy: bool = False) -> bool:
         return self.files.open_path(path, ask=ask, as_copy=as_copy)
 
@@ -523,6 +535,8 @@ class MainWindow(QMainWindow):
             event.ignore()
             return
         self._autosave.stop()
+        if getattr(self, "system_window", None) is not None:
+            self.system_window.close()  # it runs its jobs in this window's runner
         self.runner.stop()
         self.recovery.clear()
         event.accept()
