@@ -135,3 +135,25 @@ def test_closing_the_main_window_closes_the_system_window(qtbot, window):
     sw = _open_system_window(qtbot, window)
     window.close()
     qtbot.waitUntil(lambda: not sw.isVisible(), timeout=5000)
+
+
+def test_the_equation_strip_reads_definitions(qtbot, window):
+    from gui_helpers import settle
+
+    # invented orifice: the parameters table lists the inputs, never the defined names
+    editor = window.strip.editor
+    editor.setFocus()
+    editor.selectAll()
+    editor.textCursor().removeSelectedText()
+    for i, line in enumerate(("A = pi*d^2/4", "v = Q/(Cd*A)", "v^2 = 2*g*h")):
+        if i:
+            QTest.keyClick(editor, Qt.Key.Key_Return)
+        QTest.keyClicks(editor, line)
+    settle(qtbot, window)
+    analysis = window.analysis
+    assert set(analysis.names) == {"d", "Q", "Cd", "g", "h"}  # A and v are defined
+    qtbot.waitUntil(lambda: "h" in window.inputs.parameters.names()
+                    or "d" in window.inputs.parameters.names(), timeout=5000)
+    shown = set(window.inputs.parameters.names())
+    assert "A" not in shown and "v" not in shown
+    assert analysis.latex.startswith(r"A = \frac{\pi d^{2}}{4}") and "2 g h" in analysis.latex
