@@ -37,6 +37,7 @@ Stopping (scale-aware)
 from __future__ import annotations
 
 import math
+import sys
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -171,9 +172,27 @@ def _stalled(jac: np.ndarray, f: np.ndarray, step: np.ndarray, x: np.ndarray, xt
     return scale > 0 and g <= _STALL_COSINE * scale
 
 
-def _stop_on_residual(f: np.ndarray, ftol: float) -> str | None:
+def _stop_on_residual(p: Problem, x: np.ndarray, f: np.ndarray, ftol: float, xtol: float,
+                      rtol: float) -> str | None:
+    """EXACT_ZERO / F_TOLERANCE when the residuals say so, else None.
+
+    Every residual exactly 0.0 is also what terms below ~1e-308 give (exp(-x) = 0 has no
+    root, yet evaluates to 0.0 for x > 745): as for one equation, F is evaluated beside x,
+    one unknown at a time by its step tolerance, and the zero counts as a root only when
+    some neighbour has finite residuals that are not all zero; otherwise the run stops as
+    ``not_finite`` (underflow), never converged.
+    """
     if not f.any():
-        return EXACT_ZERO
+        for j in range(x.size):
+            step = max(xtol + rtol * abs(x[j]), 2.0 * math.ulp(x[j]), sys.float_info.min)
+            for side in (step, -step):
+                xs = x.copy()
+                xs[j] += side
+                p.counter.evaluations += 1
+                fs = p.F(xs)
+                if _finite(fs) and fs.any():
+                    return EXACT_ZERO
+        return NOT_FINITE
     if ftol > 0 and float(np.max(np.abs(f))) <= ftol:
         return F_TOLERANCE
     return None
@@ -188,7 +207,7 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
     p.record(x, f, 0.0, 0.0, False)
     if not _finite(f):
         return Outcome(x, NOT_FINITE, 0)
-    stop = _stop_on_residual(f, ftol)
+    stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
     if stop:
         return Outcome(x, stop, 0)
     for k in range(1, max_iter + 1):
@@ -212,7 +231,7 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
                 x = x + d
                 f = fn
                 p.record(x, f, float(np.linalg.norm(d)), 1.0, False)
-                return Outcome(x, _stop_on_residual(f, ftol) or X_TOLERANCE, k)
+                return Outcome(x, _stop_on_residual(p, x, f, ftol, xtol, rtol) or X_TOLERANCE, k)
         found = _search(p, x, f, d, slope) if slope < 0 else None
         if not regularised and (found is None or found[2] < _FALLBACK_LAMBDA):
             # a Newton step cut this short means J is nearly singular: try the
@@ -228,7 +247,7 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
         x = x_new
         damping = min(1.0, float(np.linalg.norm(step) / np.linalg.norm(full)))
         p.record(x, f, float(np.linalg.norm(step)), damping, regularised)
-        stop = _stop_on_residual(f, ftol)
+        stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
         if stop:
             return Outcome(x, stop, k)
         if (lam < 1.0 or regularised) and _stalled(jac, f, step, x, xtol, rtol):
@@ -245,7 +264,7 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
     p.record(x, f, 0.0, 0.0, False)
     if not _finite(f):
         return Outcome(x, NOT_FINITE, 0)
-    stop = _stop_on_residual(f, ftol)
+    stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
     if stop:
         return Outcome(x, stop, 0)
     b = _differences(p, x, f)
@@ -267,7 +286,7 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
                 k += 1
                 x, f = x + d, fn
                 p.record(x, f, float(np.linalg.norm(d)), 1.0, False)
-                return Outcome(x, _stop_on_residual(f, ftol) or X_TOLERANCE, k)
+                return Outcome(x, _stop_on_residual(p, x, f, ftol, xtol, rtol) or X_TOLERANCE, k)
         slope = float((b.T @ f) @ d)
         found = _search(p, x, f, d, slope) if slope < 0 else None
         if found is None and not fresh:
@@ -292,7 +311,7 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
         x, f = x_new, f_new
         p.record(x, f, float(np.linalg.norm(s)),
                  min(1.0, float(np.linalg.norm(s) / np.linalg.norm(full))), regularised)
-        stop = _stop_on_residual(f, ftol)
+        stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
         if stop:
             return Outcome(x, stop, k)
         if stall:
