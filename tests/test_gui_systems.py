@@ -79,6 +79,9 @@ def test_typing_a_system_filling_starts_and_solving(qtbot, window):
     # the convergence view: ||F|| and the step length of both methods
     ax = sw.convergence.figure.axes[0]
     assert len(ax.get_lines()) == 4 and ax.get_yscale() == "log"
+    from app.documents.words import CAUTION_LINE
+
+    assert sw.caution.text() == CAUTION_LINE and sw.caution.isVisible()
 
 
 def test_a_system_that_has_no_solution_is_shown_as_not_converged(qtbot, window):

@@ -291,6 +291,10 @@ class SystemWindow(QWidget):
         splitter.addWidget(results)
         layout = QVBoxLayout(self)
         layout.addWidget(splitter)
+        self.caution = QLabel(words.CAUTION_LINE)  # the one copy, as on the main window
+        self.caution.setObjectName("systemCaution")
+        self.caution.setWordWrap(True)
+        layout.addWidget(self.caution)
         self.resize(1000, 760)
 
         self._timer = QTimer(self)
