@@ -353,3 +353,15 @@ def test_residuals_that_underflowed_to_zero_are_no_root():
     for method in SYSTEM_METHODS:
         run = solve_system(system, {"x": 1.0, "y": 0.0}, method=method, by_blocks=False)
         assert not run.converged
+
+
+def test_records_follow_the_contract_types():
+    system = parse_system("x + y = 3; x - y = 1")
+    run = solve_system(system, [1.0, 1.0])  # a sequence in the order of system.unknowns
+    assert isinstance(run.root, dict) and json.loads(json.dumps(run.root)) == run.root
+    assert run.root == pytest.approx({"x": 2.0, "y": 1.0}, rel=1e-15)  # by hand
+    assert isinstance(run.steps[-1].x, dict)
+    assert system.F(np.array([2.0, 1.0])).shape == (2,)
+    assert system.J([2.0, 1.0]).tolist() == [[1.0, 1.0], [1.0, -1.0]]
+    with pytest.raises(ValueError, match="one start value per unknown"):
+        solve_system(system, [1.0])

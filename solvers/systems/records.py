@@ -1,6 +1,6 @@
 """The records of a system solve: :class:`SystemStep` and :class:`SystemRun` (codes and
-numbers, never words; frozen, so a run handed to a view or a report is the run the method
-returned).
+numbers, never words; frozen, with ``root`` and each step's ``x`` plain dicts (the type the
+public contract names) copied at construction: treat them as read-only).
 
 Conventions
 -----------
@@ -40,7 +40,7 @@ class SystemStep:
     regularised: bool = False
 
     def __post_init__(self) -> None:
-        object.__setattr__(self, "x", MappingProxyType(dict(self.x)))
+        object.__setattr__(self, "x", dict(self.x))  # a plain dict, as the contract says
 
     def as_dict(self) -> dict[str, Any]:
         return {"k": self.k, "x": dict(self.x), "residuals": list(self.residuals),
@@ -78,7 +78,7 @@ class SystemRun:
     settings: Mapping[str, Any] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
-        object.__setattr__(self, "root", MappingProxyType(dict(self.root)))
+        object.__setattr__(self, "root", dict(self.root))  # a plain dict (name -> float)
         object.__setattr__(self, "settings", MappingProxyType(dict(self.settings)))
         object.__setattr__(self, "steps", tuple(self.steps))
         if self.converged != (self.reason in CONVERGED_REASONS):

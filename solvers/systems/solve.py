@@ -42,9 +42,13 @@ SYSTEM_METHODS: dict[str, SystemMethod] = {
 }
 
 
-def _start(system: System, x0: Mapping[str, Any]) -> np.ndarray:
+def _start(system: System, x0: Any) -> np.ndarray:
     if not isinstance(x0, Mapping):
-        raise ValueError("x0 must map each unknown to a start value")
+        values = list(np.ravel(np.asarray(x0, dtype=object))) if x0 is not None else []
+        if len(values) != len(system.unknowns) or isinstance(x0, str):
+            raise ValueError("x0 must map each unknown to a start value (or list one start "
+                             "value per unknown, in the order of System.unknowns)")
+        x0 = dict(zip(system.unknowns, values, strict=True))
     extra = [n for n in x0 if n not in system.unknowns]
     if extra:
         raise ValueError(f"'{extra[0]}' is not an unknown of the system")
@@ -76,7 +80,8 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
                  xtol: float | None = None, rtol: float | None = None,
                  ftol: float | None = None, max_iter: int | None = None,
                  by_blocks: bool = True) -> SystemRun:
-    """Solve F(x) = 0 from ``x0`` (name -> start value) with one method of SYSTEM_METHODS.
+    """Solve F(x) = 0 from ``x0`` (name -> start value; or a sequence in the order of
+    ``system.unknowns``) with one method of SYSTEM_METHODS.
 
     Tolerances: ``xtol`` (absolute step, each unknown in its own units; default 1e-12),
     ``rtol`` (relative step; default 4 eps), ``ftol`` (largest |residual| in the
