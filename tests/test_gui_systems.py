@@ -160,3 +160,25 @@ def test_the_equation_strip_reads_definitions(qtbot, window):
     shown = set(window.inputs.parameters.names())
     assert "A" not in shown and "v" not in shown
     assert analysis.latex.startswith(r"A = \frac{\pi d^{2}}{4}") and "2 g h" in analysis.latex
+
+
+def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs, tmp_path):
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
+    dialogs.save_name = str(tmp_path / "pair.json")
+    QTest.mouseClick(sw.save_button, Qt.MouseButton.LeftButton)
+    saved = worksheet.load(tmp_path / "pair.json")
+    assert saved.equation == "x^2 + y^2 = 4; x*y = 1"
+    assert saved.system.start() == {"x": 2.0, "y": 1.0}
+    assert saved.system.methods == ("newton", "broyden")
+    # opened again (File > Open), it lands in the system window with its start values
+    sw.close()
+    window.activateWindow()
+    qtbot.waitUntil(window.isActiveWindow, timeout=5000)
+    dialogs.open_name = dialogs.save_name
+    QTest.keyClick(window, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.system_window.isVisible(), timeout=5000)
+    assert window.system_window.unknowns.starts() == {"x": 2.0, "y": 1.0}

@@ -226,6 +226,7 @@ class SystemWindow(QWidget):
         self.jobs = jobs or JobRunner(self)
         self._own_jobs = jobs is None
         self.settings = Worksheet(equation="x").settings
+        self.title = ""
         self.solution: Any = None
         self.reading = Reading()
         self.editor = QPlainTextEdit()
@@ -259,7 +260,13 @@ class SystemWindow(QWidget):
         self.solve_button = QPushButton("&Solve")
         self.solve_button.setObjectName("systemSolve")
         self.solve_button.clicked.connect(self.solve)
+        self.save_button = QPushButton("Save &as…")
+        self.save_button.setObjectName("systemSave")
+        self.save_button.setToolTip("Save the equations, parameters, start values and methods "
+                                    "as a worksheet")
+        self.save_button.clicked.connect(self.save_as)
         methods_row.addStretch(1)
+        methods_row.addWidget(self.save_button)
         methods_row.addWidget(self.solve_button)
         self.lanes = QTabWidget()
         self.lanes.setObjectName("systemLanes")
@@ -396,9 +403,50 @@ class SystemWindow(QWidget):
             for r in solution.runs))
 
     # -- worksheets
+    def worksheet(self) -> Worksheet:
+        """The worksheet on screen (blank or wrong start values become 0 with the problem
+        named by :meth:`solve`; the file keeps what can be opened again)."""
+        starts = self.unknowns.starts()
+        spec = SystemSpec(tuple(StartValue(n, v if v is not None else 0.0)
+                                for n, v in starts.items()),
+                          tuple(m for m, b in self.method_boxes.items() if b.isChecked())
+                          or SYSTEM_METHOD_NAMES)
+        params = tuple(Parameter(r.name, r.value if r.value is not None else 0.0, r.note)
+                       for r in self.parameters.rows())
+        title = self.title
+        return Worksheet(equation=self.editor.toPlainText(), parameters=params,
+                         settings=self.settings, title=title,
+                         system=spec if spec.unknowns else None)
+
+    def save_as(self) -> bool:
+        """Ask for a file and write the worksheet there (atomically); say why not if it fails."""
+        from PySide6.QtWidgets import QFileDialog, QMessageBox
+
+        from app.documents.worksheet import save
+
+        name, _ = QFileDialog.getSaveFileName(self, "Save system worksheet", "system.json",
+                                              "zerotrace worksheets (*.json);;All files (*)")
+        if not name:
+            return False
+        ws = self.worksheet()
+        if ws.system is None or not ws.equation.strip():
+            self.status.setText("nothing to save yet: type the equations first")
+            return False
+        try:
+            save(ws, name)
+        except (OSError, ValueError) as exc:
+            why = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+            self.status.setText(f"not saved: {why}")
+            QMessageBox.warning(self, "Cannot save worksheet",
+                                f"{name} was not written:\n{why}\n\nNothing on screen was lost.")
+            return False
+        self.status.setText(f"saved {name}")
+        return True
+
     def load_worksheet(self, ws: Worksheet) -> None:
         """Show a worksheet that holds a system (its text, parameters, start values)."""
         self.settings = ws.settings
+        self.title = ws.title
         self.parameters.load(ws.parameters)
         if ws.system is not None:
             self.unknowns.load(ws.system.unknowns)
