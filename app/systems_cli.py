@@ -32,8 +32,9 @@ def method_names() -> tuple[str, ...]:
 
 def is_system(args: argparse.Namespace) -> bool:
     """Whether the flags (or the worksheet) ask for a system."""
-    unknowns = args.unknown or []
-    starts = getattr(args, "x0", None) or []
+    unknowns = args.unknown if isinstance(args.unknown, list) else []
+    starts = getattr(args, "x0", None)
+    starts = starts if isinstance(starts, list) else []
     if len(unknowns) > 1 or any(isinstance(v, tuple) for v in starts):
         return True
     if getattr(args, "worksheet", None):
@@ -49,13 +50,18 @@ def one_equation(args: argparse.Namespace) -> None:
     from app.cli import InputError
     from solvers.worksheet import METHOD_NAMES
 
-    unknowns = args.unknown or []
-    if len(unknowns) > 1:
-        raise InputError(f"zerotrace {args.command}: --unknown given {len(unknowns)} times; "
-                         "several unknowns need several equations (a system)")
-    args.unknown = unknowns[0] if unknowns else None
-    if hasattr(args, "x0"):
-        starts = args.x0 or []
+    unknowns = args.unknown
+    if isinstance(unknowns, list):  # a command whose --unknown repeats (solve, scan)
+        if len(unknowns) > 1:
+            raise InputError(f"zerotrace {args.command}: --unknown given {len(unknowns)} "
+                             "times; several unknowns need several equations (a system)")
+        args.unknown = unknowns[0] if unknowns else None
+    starts = getattr(args, "x0", None)
+    if isinstance(starts, list):  # solve's --x0 repeats (NAME=VALUE for a system)
+        named = [v for v in starts if isinstance(v, tuple)]
+        if named:
+            raise InputError(f"zerotrace {args.command}: --x0 {named[0][0]}=... names an "
+                             "unknown of a system; one equation takes --x0 VALUE")
         args.x0 = starts[-1] if starts else None
     for m in getattr(args, "method", None) or []:
         if m not in METHOD_NAMES:

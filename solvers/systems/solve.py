@@ -111,6 +111,8 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
         rows, cols = list(eqs), list(idx)
 
         def full(z: np.ndarray, cols: list[int] = cols) -> np.ndarray:
+            if len(cols) == n:  # one block of everything: z is x in order
+                return z.copy()
             xf = x.copy()
             xf[cols] = z
             return xf
@@ -135,6 +137,8 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
                                     step, damping, b, regularised))
 
         uses_j = spec.uses_jacobian and symbolic
+        if len(blocks) == 1:  # the whole system as it is: no copies, no index gathering
+            F, J = system.F, system.J  # type: ignore[assignment]
         problem = iterate.Problem(F, J if uses_j else None, record, counter)
         outcome = spec.iterate(problem, x[cols], xtol=xt, rtol=rt, ftol=ft, max_iter=cap)
         x[cols] = outcome.x
