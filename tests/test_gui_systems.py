@@ -14,6 +14,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
 from app.documents import worksheet
+from app.window.views import CopyTableView
 from solvers.systems.pipeline import solve_worksheet
 
 pytest.register_assert_rewrite("gui_helpers")
@@ -76,6 +77,11 @@ def test_typing_a_system_filling_starts_and_solving(qtbot, window):
         last = model.rowCount() - 1
         assert model.raw(last, 2) == run.root["x"] and model.raw(last, 3) == run.root["y"]
         assert model.headers()[:4] == ["k", "block", "x", "y"]
+    # a lane's table copies as tab-separated text at full precision
+    view = sw.lanes.widget(0).findChild(CopyTableView)
+    text = view.copy_all().splitlines()
+    assert text[0].split("\t")[:4] == ["k", "block", "x", "y"]
+    assert text[-1].split("\t")[2] == repr(solution.runs[0].root["x"])
     # the convergence view: ||F|| and the step length of both methods
     ax = sw.convergence.figure.axes[0]
     assert len(ax.get_lines()) == 4 and ax.get_yscale() == "log"

@@ -25,7 +25,6 @@ from PySide6.QtWidgets import (
     QPlainTextEdit,
     QPushButton,
     QSplitter,
-    QTableView,
     QTabWidget,
     QVBoxLayout,
     QWidget,
@@ -36,6 +35,7 @@ from app.documents.system_figures import draw_system_convergence
 from app.documents.worksheet import MAX_EQUATION, Parameter, StartValue, SystemSpec, Worksheet
 from app.window.figure_view import FigureView
 from app.window.models import ParametersModel, format_number, number_font, parse_number
+from app.window.views import CopyTableView
 from app.window.workers import JobRunner
 
 Index = QModelIndex | QPersistentModelIndex
@@ -164,6 +164,8 @@ class SystemRunModel(QAbstractTableModel):
             return str(value) if isinstance(value, int) else format_number(value)
         if role == Qt.ItemDataRole.ToolTipRole and isinstance(value, float):
             return repr(value)
+        if role == Qt.ItemDataRole.UserRole:  # full precision for copying (views.table_text)
+            return value
         if role == Qt.ItemDataRole.FontRole:
             return self._font
         if role == Qt.ItemDataRole.TextAlignmentRole:
@@ -242,11 +244,11 @@ class SystemWindow(QWidget):
         self.unknown_names.setPlaceholderText("(automatic: every name without a value)")
         self.unknown_names.setToolTip("The unknowns, separated by commas, in the order of x")
         self.unknowns = UnknownsModel(self)
-        self.unknowns_view = QTableView()
+        self.unknowns_view = CopyTableView()
         self.unknowns_view.setObjectName("unknownsView")
         self.unknowns_view.setModel(self.unknowns)
         self.parameters = ParametersModel(self)
-        self.parameters_view = QTableView()
+        self.parameters_view = CopyTableView()
         self.parameters_view.setModel(self.parameters)
         self.method_boxes = {}
         methods_row = QHBoxLayout()
@@ -385,7 +387,7 @@ class SystemWindow(QWidget):
             summary.setWordWrap(True)
             model = SystemRunModel(self)
             model.set_run(run)
-            view = QTableView()
+            view = CopyTableView()
             view.setModel(model)
             box.addWidget(summary)
             box.addWidget(view)
