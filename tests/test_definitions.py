@@ -166,3 +166,16 @@ def test_the_calculation_sheet_shows_definitions_and_their_values(tmp_path, caps
     v = 0.004 / (0.62 * math.pi * 0.05**2 / 4)
     assert "Definitions at each root" in text
     assert repr(v)[:12] in text
+
+
+@pytest.mark.parametrize("text, params, line", [
+    ("A = B*2; B = 3; x*A = 1", {}, 1),
+    ("A = 1; D = 2; x*D*A = 1", {"D": 1.0}, 2),
+    ("A = 1; x*A = (1", {}, 2),
+    ("A = 1; A = 2; x*A = 1", {}, 2),
+])
+def test_lines_separated_by_semicolons_are_numbered_in_messages(text, params, line):
+    with pytest.raises(EquationError) as err:
+        parse_equation(text, parameters=params)
+    assert str(err.value).startswith(f"line {line}: ")
+    assert err.value.position is not None

@@ -103,6 +103,12 @@ class Reading:
     checks: list[Check] = field(default_factory=list)
     definitions: list[Definition] = field(default_factory=list)
     equations: list[Statement] = field(default_factory=list)
+    lines: list[Line] = field(default_factory=list)
+
+    def numbered(self, err: EquationError) -> EquationError:
+        """``err`` with "line N: " in front when the lines are separated by ';' on one
+        line of text (several lines of text already say "line L, column C")."""
+        return numbered(err, self.text, self.lines)
 
     def absorb(self, parser: _Parser) -> None:
         for name in parser.names:
@@ -114,6 +120,15 @@ class Reading:
 
 
 _ENDS_OPERAND = ("num", "name")
+
+
+def numbered(err: EquationError, text: str, lines: list[Line]) -> EquationError:
+    """See :meth:`Reading.numbered`."""
+    pos = err.position
+    if pos is None or len(lines) < 2 or "\n" in text.strip():
+        return err
+    k = max((i for i, line in enumerate(lines) if line.start <= pos), default=0)
+    return EquationError(f"line {k + 1}: {err}", pos)
 
 
 def _ends_operand(t: _Token) -> bool:
@@ -185,7 +200,16 @@ def read_lines(text: Any,
     if is_definition is None:
         def is_definition(i: int, line: Line, all_lines: list[Line]) -> bool:
             return i < len(all_lines) - 1
-    reading = Reading(text)
+    reading = Reading(text, lines=lines)
+    try:
+        _read(text, lines, is_definition, reading)
+    except EquationError as err:
+        raise numbered(err, text, lines) from None
+    return reading
+
+
+def _read(text: str, lines: list[Line], is_definition: Callable[[int, Line, list[Line]], bool],
+          reading: Reading) -> None:
     bindings: dict[str, _Node] = dict(_constant_bindings())
     chosen = [is_definition(i, line, lines) for i, line in enumerate(lines)]
     later: dict[str, int] = {}  # defined name -> the start of its definition
@@ -224,7 +248,6 @@ def read_lines(text: Any,
             used_before.setdefault(used, parser.first_pos[used])
         bindings[name] = node
         reading.definitions.append(Definition(name, node, line.start, line.end))
-    return reading
 
 
 def _later(later: dict[str, int], own: str | None) -> dict[str, str]:
@@ -255,11 +278,12 @@ def check_shadowing(reading: Reading, parameters: Iterable[str],
     params, xs = set(parameters), set(unknowns)
     for d in reading.definitions:
         if d.name in params:
-            raise _fail(reading.text, f"'{d.name}' is defined here but is also given as a "
-                        "parameter; rename one of them", d.start)
+            raise reading.numbered(_fail(reading.text, f"'{d.name}' is defined here but is "
+                                         "also given as a parameter; rename one of them",
+                                         d.start))
         if d.name in xs:
-            raise _fail(reading.text, f"'{d.name}' is the unknown and cannot be defined",
-                        d.start)
+            raise reading.numbered(_fail(reading.text, f"'{d.name}' is the unknown and "
+                                         "cannot be defined", d.start))
 
 
 def free_names(text: str) -> tuple[str, ...]:

@@ -188,9 +188,9 @@ def _choose_unknowns(reading: Reading, given: tuple[str, ...] | None,
             raise EquationError(f"the unknown '{u}' does not appear in the equations")
     missing = [n for n in names if n not in given and n not in values]
     if missing:
-        raise _fail(reading.text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-                    + " (the unknowns are " + ", ".join(given) + ")",
-                    reading.first_pos[missing[0]])
+        raise reading.numbered(_fail(
+            reading.text, "no value for " + ", ".join(f"'{n}'" for n in missing)
+            + " (the unknowns are " + ", ".join(given) + ")", reading.first_pos[missing[0]]))
     return given
 
 
@@ -221,7 +221,7 @@ def _run_checks(reading: Reading, unknowns: tuple[str, ...], symbols: tuple[Any,
         i += n
         if not _PASSES[check.kind](*parts):
             message = _check_message(check, reading.text, parts)
-            err = _fail(reading.text, message, check.start)
+            err = reading.numbered(_fail(reading.text, message, check.start))
             raise EquationError(f"{err} (with the given parameter values)", err.position)
 
 
@@ -258,10 +258,11 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
     for eq in reading.equations:
         expr = floatify_big(eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr)
         if not isinstance(expr, sp.Basic) or _is_bad(expr):
-            raise _fail(text, "this equation has no finite real value", eq.start)
+            raise reading.numbered(_fail(text, "this equation has no finite real value",
+                                         eq.start))
         if not expr.free_symbols & set(xs):
-            raise _fail(text, "this equation holds none of the unknowns ("
-                        + ", ".join(chosen) + ")", eq.start)
+            raise reading.numbered(_fail(text, "this equation holds none of the unknowns ("
+                                         + ", ".join(chosen) + ")", eq.start))
         exprs.append(expr)
     incidence = tuple(tuple(x in e.free_symbols for x in xs) for e in exprs)
     for j, name in enumerate(chosen):
