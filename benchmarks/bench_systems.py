@@ -77,6 +77,22 @@ def main() -> None:
         print(f"{row[0]:34s} {row[1]:>10s} {row[2]:>10s} {row[3]:>10s}")
     for name, (count, evals) in totals.items():
         print(f"  {name:8s} solved {count}/{n}, {evals} evaluations of F (and J) in all")
+    far = {"newton": 0, "broyden": 0, "hybr": 0}
+    cases = 0
+    for p in problems():  # the source's harder starts: 10 and 100 times the standard one
+        system = parse_system(p.text, unknowns=p.unknowns)
+        for factor in (10.0, 100.0):
+            x0 = np.array(p.x0) * factor if any(p.x0) else np.full(p.n, factor)
+            cases += 1
+            for method in ("newton", "broyden"):
+                run = solve_system(system, dict(zip(p.unknowns, x0, strict=True)),
+                                   method=method)
+                root = np.array([run.root[n] for n in system.unknowns])
+                far[method] += bool(run.converged and solved(p.F, root, x0))
+            hybr = scipy.optimize.root(p.F, x0, method="hybr")
+            far["hybr"] += bool(hybr.success and solved(p.F, hybr.x, x0))
+    print(f"from 10x and 100x the standard starts ({cases} cases): "
+          + ", ".join(f"{k} solved {v}" for k, v in far.items()))
     print(f"Newton wall time vs scipy hybr with jac=system.J, same callables: "
           f"{t_ours / t_ref:.2f}x ({t_ours * 1e3:.1f} ms vs {t_ref * 1e3:.1f} ms, "
           f"all {n} problems, best of {REPEAT}; zerotrace records every iterate)")

@@ -365,3 +365,15 @@ def test_records_follow_the_contract_types():
     assert system.J([2.0, 1.0]).tolist() == [[1.0, 1.0], [1.0, -1.0]]
     with pytest.raises(ValueError, match="one start value per unknown"):
         solve_system(system, [1.0])
+
+
+@pytest.mark.parametrize("p", PROBLEMS, ids=lambda p: p.name)
+def test_mgh_from_ten_times_the_start_is_never_falsely_converged(p):
+    # the source's harder start (10 x the standard one; x_j = 10 where that is 0)
+    system = parse_system(p.text, unknowns=p.unknowns)
+    x0 = np.array(p.x0) * 10 if any(p.x0) else np.full(p.n, 10.0)
+    for method in SYSTEM_METHODS:
+        run = solve_system(system, dict(zip(p.unknowns, x0, strict=True)), method=method)
+        root = np.array([run.root[n] for n in system.unknowns])
+        if run.converged:
+            assert _small(p.F, root, x0), (method, run.reason)
