@@ -279,7 +279,7 @@ class SystemWindow(QWidget):
         inputs = QWidget()
         grid = QVBoxLayout(inputs)
         grid.addWidget(QLabel("Equations and definitions"))
-        grid.addWidget(self.editor, 2)
+        grid.addWidget(self.editor, 1)
         grid.addWidget(self.status)
         tables = QHBoxLayout()
         left, right = QVBoxLayout(), QVBoxLayout()
@@ -295,9 +295,13 @@ class SystemWindow(QWidget):
         results = QSplitter(Qt.Orientation.Horizontal)
         results.addWidget(self.lanes)
         results.addWidget(self.convergence)
+        results.setStretchFactor(0, 3)  # the lanes' tables are wider than the plot needs
+        results.setStretchFactor(1, 2)
+        results.setSizes([600, 400])
         splitter = QSplitter(Qt.Orientation.Vertical)
         splitter.addWidget(inputs)
         splitter.addWidget(results)
+        splitter.setSizes([360, 400])
         layout = QVBoxLayout(self)
         layout.addWidget(splitter)
         self.caution = QLabel(words.CAUTION_LINE)  # the one copy, as on the main window
@@ -389,6 +393,7 @@ class SystemWindow(QWidget):
             model.set_run(run)
             view = CopyTableView()
             view.setModel(model)
+            view.resizeColumnsToContents()  # every figure of the iterates visible
             box.addWidget(summary)
             box.addWidget(view)
             self.lane_models[run.method] = model
