@@ -188,3 +188,27 @@ def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs,
     QTest.keyClick(window, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
     qtbot.waitUntil(lambda: window.system_window.isVisible(), timeout=5000)
     assert window.system_window.unknowns.starts() == {"x": 2.0, "y": 1.0}
+
+
+def test_cancel_stops_a_solve_between_methods(qtbot, window, monkeypatch):
+    import time
+
+    import solvers.systems as systems_package
+
+    original = systems_package.solve_system
+
+    def slow(*args, **kwargs):  # a long solve: each method takes a while
+        time.sleep(0.4)
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(systems_package, "solve_system", slow)
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(sw.cancel_button.isEnabled, timeout=5000)
+    QTest.mouseClick(sw.cancel_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: not sw.jobs.is_busy("system-solve"), timeout=10_000)
+    assert sw.status.text() == "cancelled: nothing was solved"
+    assert sw.solution is None and not sw.cancel_button.isEnabled()

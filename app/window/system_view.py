@@ -36,7 +36,7 @@ from app.documents.worksheet import MAX_EQUATION, Parameter, StartValue, SystemS
 from app.window.figure_view import FigureView
 from app.window.models import ParametersModel, format_number, number_font, parse_number
 from app.window.views import CopyTableView
-from app.window.workers import JobRunner
+from app.window.workers import Cancelled, JobRunner
 
 Index = QModelIndex | QPersistentModelIndex
 DEBOUNCE_MS = 250
@@ -208,15 +208,29 @@ def read_system(text: str, values: dict[str, float], given: Sequence[str] = ()) 
 
 
 def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, float],
-               starts: dict[str, float], methods: Sequence[str], settings: Any) -> Any:
-    """Parse and solve (in a worker): the SystemSolution of a worksheet built from the fields."""
-    from solvers.systems.pipeline import solve_worksheet
+               starts: dict[str, float], methods: Sequence[str], settings: Any,
+               progress: Any = None, cancelled: Any = None) -> Any:
+    """Parse and solve (in a worker): the SystemSolution of a worksheet built from the fields.
+    ``progress(fraction)`` after the parse and after each method; ``cancelled()`` is polled
+    between them (a cancel raises :class:`app.window.workers.Cancelled`)."""
+    from solvers.systems import solve_system
+    from solvers.systems.pipeline import SystemSolution, system_of
 
     spec = SystemSpec(tuple(StartValue(n, starts[n]) for n in unknowns), tuple(methods))
     ws = Worksheet(equation=text, parameters=tuple(Parameter(n, v)
                                                    for n, v in parameters.items()),
                    settings=settings, system=spec)
-    return solve_worksheet(ws)
+    system = system_of(ws)
+    runs = []
+    for i, method in enumerate(methods):
+        if progress is not None:
+            progress(i / (len(methods) + 1) + 1 / (len(methods) + 1))
+        if cancelled is not None and cancelled():
+            raise Cancelled()
+        runs.append(solve_system(system, ws.system.start(), method=method, xtol=settings.xtol,
+                                 rtol=settings.rtol, ftol=settings.ftol,
+                                 max_iter=settings.max_iter))
+    return SystemSolution(ws, system, tuple(runs))
 
 
 class SystemWindow(QWidget):
@@ -262,6 +276,10 @@ class SystemWindow(QWidget):
         self.solve_button = QPushButton("&Solve")
         self.solve_button.setObjectName("systemSolve")
         self.solve_button.clicked.connect(self.solve)
+        self.cancel_button = QPushButton("&Cancel")
+        self.cancel_button.setObjectName("systemCancel")
+        self.cancel_button.setEnabled(False)
+        self.cancel_button.clicked.connect(lambda: self.jobs.cancel("system-solve"))
         self.save_button = QPushButton("Save &as…")
         self.save_button.setObjectName("systemSave")
         self.save_button.setToolTip("Save the equations, parameters, start values and methods "
@@ -270,6 +288,7 @@ class SystemWindow(QWidget):
         methods_row.addStretch(1)
         methods_row.addWidget(self.save_button)
         methods_row.addWidget(self.solve_button)
+        methods_row.addWidget(self.cancel_button)
         self.lanes = QTabWidget()
         self.lanes.setObjectName("systemLanes")
         self.lane_models: dict[str, SystemRunModel] = {}
@@ -374,10 +393,24 @@ class SystemWindow(QWidget):
         values = self._values()
         settings = self.settings
         self.status.setText("solving…")
+        self.cancel_button.setEnabled(True)
+
+        def ended(message: str | None = None) -> None:
+            self.cancel_button.setEnabled(False)
+            if message is not None:
+                self.status.setText(message)
+
+        def done(solution: Any) -> None:
+            ended()
+            self.show_solution(solution)
+
         self.jobs.submit("system-solve",
-                         lambda _p, _c: solve_text(text, unknowns, values,
-                                                   starts, methods, settings),  # type: ignore[arg-type]
-                         on_done=self.show_solution, on_error=self.status.setText)
+                         lambda p, c: solve_text(text, unknowns, values, starts,  # type: ignore[arg-type]
+                                                 methods, settings, p, c),
+                         on_done=done, on_error=ended,
+                         on_cancel=lambda: ended("cancelled: nothing was solved"),
+                         on_progress=lambda f: self.status.setText(
+                             f"solving… {round(100 * f)} %"))
 
     def show_solution(self, solution: Any) -> None:
         self.solution = solution
