@@ -159,7 +159,9 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
         "equation",
         nargs=None if equation_required else "?",
         metavar="EQUATION",
-        help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers",
+        help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers; lines "
+        "separated by ';' (definitions name = expression before it; several equations "
+        "make a system)",
     )
     p.add_argument("--unknown", metavar="X", action="append",
                    help="the name to solve for (inferred if omitted); repeat for a system")
