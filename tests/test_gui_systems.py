@@ -212,3 +212,20 @@ def test_cancel_stops_a_solve_between_methods(qtbot, window, monkeypatch):
     qtbot.waitUntil(lambda: not sw.jobs.is_busy("system-solve"), timeout=10_000)
     assert sw.status.text() == "cancelled: nothing was solved"
     assert sw.solution is None and not sw.cancel_button.isEnabled()
+
+
+def test_closing_with_an_unsaved_system_asks_and_cancel_keeps_it(qtbot, window, dialogs):
+    from PySide6.QtWidgets import QMessageBox
+
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x + y = 3; x - y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    assert sw.modified
+    dialogs.question = [QMessageBox.StandardButton.Cancel]
+    window.close()  # the main window asks the system window first
+    assert window.isVisible() and sw.isVisible()
+    assert dialogs.titles("question")[-1].startswith("Unsaved system")
+    dialogs.question = QMessageBox.StandardButton.Discard
+    window.close()
+    qtbot.waitUntil(lambda: not sw.isVisible() and not window.isVisible(), timeout=5000)

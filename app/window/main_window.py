@@ -534,9 +534,11 @@ class MainWindow(QMainWindow):
         if not self.maybe_save():
             event.ignore()
             return
+        if getattr(self, "system_window", None) is not None and self.system_window.isVisible() \
+                and not self.system_window.close():  # it runs its jobs in this runner
+            event.ignore()  # the user kept the unsaved system open
+            return
         self._autosave.stop()
-        if getattr(self, "system_window", None) is not None:
-            self.system_window.close()  # it runs its jobs in this window's runner
         self.runner.stop()
         self.recovery.clear()
         event.accept()

@@ -334,6 +334,7 @@ class SystemWindow(QWidget):
         self._timer.setInterval(DEBOUNCE_MS)
         self._timer.timeout.connect(self._read)
         self.editor.textChanged.connect(self._text_changed)
+        self._saved = self.worksheet()  # what Save wrote or the worksheet opened
         self.parameters.edited.connect(self._timer.start)
         self.unknown_names.textChanged.connect(lambda _t: self._timer.start())
 
@@ -481,7 +482,13 @@ class SystemWindow(QWidget):
                                 f"{name} was not written:\n{why}\n\nNothing on screen was lost.")
             return False
         self.status.setText(f"saved {name}")
+        self._saved = ws
         return True
+
+    @property
+    def modified(self) -> bool:
+        """Whether the system on screen differs from the one opened or last saved."""
+        return self.worksheet() != self._saved
 
     def load_worksheet(self, ws: Worksheet) -> None:
         """Show a worksheet that holds a system (its text, parameters, start values)."""
@@ -496,8 +503,21 @@ class SystemWindow(QWidget):
         self.editor.setPlainText(ws.equation)
         if ws.title:
             self.setWindowTitle(f"zerotrace — {ws.title}")
+        self._saved = self.worksheet()
 
     def closeEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        if self.modified and self.editor.toPlainText().strip():
+            from PySide6.QtWidgets import QMessageBox
+
+            buttons = (QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
+                       | QMessageBox.StandardButton.Cancel)
+            answer = QMessageBox.question(self, "Unsaved system",
+                                          "The system of equations has changes that are not "
+                                          "saved. Save them?", buttons)
+            if answer == QMessageBox.StandardButton.Cancel or (
+                    answer == QMessageBox.StandardButton.Save and not self.save_as()):
+                event.ignore()
+                return
         if self._own_jobs:
             self.jobs.stop()
         super().closeEvent(event)
