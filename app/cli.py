@@ -20,7 +20,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import replace
 from typing import Any, NoReturn
 
-from app import terminal
+from app import systems_cli, terminal
 from app.terminal import caution
 
 EXIT_OK = 0
@@ -61,11 +61,12 @@ def _method_help() -> str:
 
 
 def _method_name(text: str) -> str:
-    from app.documents.worksheet import METHOD_NAMES
+    from app.documents.worksheet import METHOD_NAMES, SYSTEM_METHOD_NAMES
 
     name = text.strip().lower().replace("-", "_")
-    if name not in METHOD_NAMES:
-        choices = ", ".join(m.replace("_", "-") for m in METHOD_NAMES)
+    if name not in METHOD_NAMES and name not in SYSTEM_METHOD_NAMES:
+        choices = ", ".join(m.replace("_", "-") for m in dict.fromkeys(
+            (*METHOD_NAMES, *SYSTEM_METHOD_NAMES)))
         raise argparse.ArgumentTypeError(f"unknown method {text!r} (choose from {choices})")
     return name
 
@@ -145,6 +146,18 @@ def _param(text: str) -> tuple[str, float, str]:
         return name, number, " ".join(unit.split())
 
 
+def with_params(ws: Any, given: list[tuple[str, float, str]]) -> Any:
+    """``ws`` with the ``--param`` values (name, number, unit text) over its own; a
+    parameter keeps its note."""
+    from app.documents.worksheet import Parameter
+
+    params = {p.name: p for p in ws.parameters}
+    for name, value, unit in given:
+        note = params[name].note if name in params else ""
+        params[name] = Parameter(name, value, note, unit)
+    return replace(ws, parameters=tuple(params.values()))
+
+
 def _param_value(name: str, text: str) -> float:
     """A parameter value, read by the equation parser's own number rule.
 
@@ -176,9 +189,12 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
         "equation",
         nargs=None if equation_required else "?",
         metavar="EQUATION",
-        help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers",
+        help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers; lines "
+        "separated by ';' (definitions name = expression before it; several equations "
+        "make a system)",
     )
-    p.add_argument("--unknown", metavar="X", help="the name to solve for (inferred if omitted)")
+    p.add_argument("--unknown", metavar="X", action="append",
+                   help="the name to solve for (inferred if omitted); repeat for a system")
     p.add_argument(
         "--param",
         action="append",
@@ -216,7 +232,8 @@ def _build_parser() -> _Parser:
         metavar="M",
         help=_METHOD_HELP,
     )
-    solve.add_argument("--x0", type=_finite, metavar="V", help="initial guess")
+    solve.add_argument("--x0", type=systems_cli.x0_value, action="append", metavar="V",
+                       help="initial guess; NAME=VALUE for each unknown of a system")
     solve.add_argument("--x1", type=_finite, metavar="V", help="second point for the secant")
     solve.add_argument("--bracket", nargs=2, type=_finite, metavar=("A", "B"), help="bracket ends")
     solve.add_argument("--xtol", type=_setting("xtol"), metavar="V",
@@ -266,7 +283,9 @@ def _load_worksheet(path: str):
 
 
 def _worksheet_from_args(args: argparse.Namespace):
-    from app.documents.worksheet import Parameter, Settings, Worksheet, tolerances_problem
+    from app.documents.worksheet import Settings, Worksheet, tolerances_problem
+
+    systems_cli.one_equation(args)  # --unknown, --x0: one value each here
 
     if args.worksheet:
         ws = _load_worksheet(args.worksheet)
@@ -281,11 +300,7 @@ def _worksheet_from_args(args: argparse.Namespace):
     if args.unknown:
         ws = replace(ws, unknown=args.unknown)
     if args.param:
-        params = {p.name: p for p in ws.parameters}
-        for name, value, unit in args.param:
-            note = params[name].note if name in params else ""
-            params[name] = Parameter(name, value, note, unit)
-        ws = replace(ws, parameters=tuple(params.values()))
+        ws = with_params(ws, args.param)
     if args.unknown_unit is not None:
         ws = replace(ws, unknown_unit=_unknown_unit(args.unknown_unit))
     if args.no_dimension_check:
@@ -348,6 +363,8 @@ def cmd_solve(args: argparse.Namespace) -> int:
     from app.documents import export
     from solvers import pipeline
 
+    if systems_cli.is_system(args):
+        return systems_cli.cmd_solve_system(args)
     ws = _worksheet_from_args(args)
     csv_path = _output_path(args.csv, args.force, "--csv") if args.csv is not None else None
     solution = pipeline.solve(ws)
@@ -403,6 +420,8 @@ def cmd_report(args: argparse.Namespace) -> int:
 
     ws = _load_worksheet(args.worksheet)
     _output_path(args.pdf, args.force, "--pdf")
+    if ws.system is not None:
+        return systems_cli.cmd_report_system(args, ws)
     if args.csv_dir is not None:
         from pathlib import Path
 

@@ -67,6 +67,11 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     for r in solution.runs:
         print(f"  {words.stop_line(r)}")
     print(f"\n{words.agreement_text(solution)}")
+    if eq.definitions:
+        for r in solution.runs:
+            values = eq.definition_values(r.root)
+            print(f"{words.method_title(r.method)}, definitions at the root: "
+                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES))
     if steps:
         for r in solution.runs:
             print(f"\n{words.method_title(r.method)}: every iterate")

@@ -17,6 +17,7 @@ from solvers.methods import (
 )
 from solvers.records import REASONS, Run, Step, observed_order
 from solvers.scan import Root, Scan, ScanCancelled, scan
+from solvers.systems import System, SystemRun, SystemStep, parse_system, solve_system
 
 __all__ = [
     "METHODS",
@@ -29,6 +30,9 @@ __all__ = [
     "Scan",
     "ScanCancelled",
     "Step",
+    "System",
+    "SystemRun",
+    "SystemStep",
     "bisection",
     "brent",
     "false_position",
@@ -36,7 +40,9 @@ __all__ = [
     "newton",
     "observed_order",
     "parse_equation",
+    "parse_system",
     "run_method",
     "scan",
     "secant",
+    "solve_system",
 ]

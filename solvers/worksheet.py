@@ -1,4 +1,5 @@
-"""The worksheet record: one equation, its parameters, method settings and notes.
+"""The worksheet record: one equation (or a system of them), its parameters, method
+settings and notes.
 
 Plain frozen data that the pipeline turns into runs and scans. Reading and writing it
 as a file (JSON, limits, validation) lives in :mod:`app.documents.worksheet`.
@@ -68,6 +69,30 @@ class Selection:
 
 
 @dataclass(frozen=True)
+class StartValue:
+    """An unknown of a system and its start value (in the unknown's own units)."""
+
+    name: str
+    x0: float
+
+
+SYSTEM_METHOD_NAMES = ("newton", "broyden")  # solvers.systems.SYSTEM_METHODS' keys
+
+
+@dataclass(frozen=True)
+class SystemSpec:
+    """What makes a worksheet a system: its unknowns with start values, in the order of x,
+    and the methods run side by side. The equation text then holds several equations
+    (and definitions); the stopping rules are the worksheet's settings."""
+
+    unknowns: tuple[StartValue, ...]
+    methods: tuple[str, ...] = ("newton", "broyden")
+
+    def start(self) -> dict[str, float]:
+        return {u.name: u.x0 for u in self.unknowns}
+
+
+@dataclass(frozen=True)
 class Worksheet:
     equation: str
     unknown: str | None = None
@@ -80,6 +105,7 @@ class Worksheet:
     selection: Selection | None = None
     unknown_unit: str | None = None  # the unit of the unknown, start values and scan range
     dimension_check: bool = True  # False: units converted, dimensions not checked (stated)
+    system: SystemSpec | None = None  # None: one equation in one unknown
 
     def parameter_values(self) -> dict[str, Any]:
         """name -> value for ``parse_equation``: a float, or a Measured when it has a unit."""

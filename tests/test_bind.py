@@ -95,7 +95,7 @@ def test_bind_neither_parses_nor_compiles(monkeypatch):
             return original(*args, **kwargs)
         return wrapper
 
-    monkeypatch.setattr(record_module, "read", counting("read", record_module.read))
+    monkeypatch.setattr(record_module, "read_lines", counting("read", record_module.read_lines))
     monkeypatch.setattr(parser_module._Parser, "equation",
                         counting("parse", parser_module._Parser.equation))
     monkeypatch.setattr(sp, "lambdify", counting("lambdify", sp.lambdify))
@@ -271,7 +271,7 @@ def test_pipeline_binds_the_kept_equation_instead_of_parsing(monkeypatch):
     def refuse(*args, **kwargs):
         raise AssertionError("parsed again")
 
-    monkeypatch.setattr(record_module, "read", refuse)
+    monkeypatch.setattr(record_module, "read_lines", refuse)
     bound = pipeline.solve(changed, pipeline.equation_of(changed, kept))
     assert [r.root for r in bound.runs] == [r.root for r in fresh.runs]
     # reference: scipy.optimize.brentq on the residual written out with numpy

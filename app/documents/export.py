@@ -349,6 +349,15 @@ def solution_json(solution: Any) -> dict[str, Any]:
             "notes": list(start_notes(solution.start)),
         },
         "agreement_digits": solution.agreement_digits,
-        "runs": [run_json(r) for r in solution.runs],
+        "runs": [{**run_json(r), **_definitions_json(solution.equation, r)}
+                 for r in solution.runs],
         "caution": CAUTION,
     }
+
+
+def _definitions_json(equation: Any, run: Run) -> dict[str, Any]:
+    """The defined quantities (lines ``name = expression``) at the run's last iterate."""
+    if not getattr(equation, "definitions", ()):
+        return {}
+    values = equation.definition_values(run.root)
+    return {"definitions": {k: _json_float(v) for k, v in values.items()}}

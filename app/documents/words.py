@@ -25,7 +25,7 @@ The caution's full text has no comma, so its CSV metadata line stays a plain
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from typing import Any
 
 CAUTION = (
@@ -578,3 +578,65 @@ def remark_text(remark: Any) -> str:
 def remarks_text(remarks: Iterable[Any]) -> tuple[str, ...]:
     """Every remark of an equation (``Equation.remarks``) as sentences, in order."""
     return tuple(remark_text(r) for r in remarks)
+
+
+# ----------------------------------------------------------------- systems and definitions
+
+# Titles of the methods for systems (solvers.systems.SYSTEM_METHODS).
+SYSTEM_METHOD_TITLES: dict[str, str] = {
+    "newton": "Newton–Raphson",  # on the Jacobian: the same name as for one equation
+    "broyden": "Broyden",
+}
+
+SYSTEM_METHOD_SUMMARIES: dict[str, str] = {
+    "newton": "Newton steps on the symbolic Jacobian, shortened by a line search on ||F||",
+    "broyden": "Broyden's rank-one updates of a difference Jacobian, no derivatives, same "
+               "line search",
+}
+
+# The stop reasons of a system solve, where they read differently from one equation's.
+SYSTEM_REASON_TEXT: dict[str, str] = {
+    "x_tolerance": "full step below tolerance |dx_i| <= xtol + rtol*|x_i| for every unknown",
+    "f_tolerance": "every residual below tolerance |F_i| <= ftol",
+    "exact_zero": "every residual is exactly zero",
+    "max_iterations": "iteration cap reached before the tolerances were met",
+    "zero_derivative": "Jacobian singular where ||F|| stopped decreasing: a minimum of ||F|| "
+                       "that is not a root (the equations may have no common solution there)",
+    "not_finite": "F or its Jacobian is infinite or NaN at the start or along every step "
+                  "(domain error or overflow)",
+}
+
+JACOBIAN_WORDS: dict[str, str] = {
+    "symbolic": "symbolic Jacobian (sympy), compiled once",
+    "differences": "Jacobian by forward differences",
+}
+
+
+def system_method_title(name: str) -> str:
+    return SYSTEM_METHOD_TITLES.get(name, name.replace("_", " "))
+
+
+def system_reason_text(reason: str) -> str:
+    return SYSTEM_REASON_TEXT.get(reason, reason_text(reason))
+
+
+def system_run_message(run: Any) -> str:
+    """A system run in one sentence: converged or not, why, and at what cost."""
+    title = system_method_title(run.method)
+    verdict = "converged" if run.converged else "did not converge"
+    return (f"{title} {verdict} after {run.iterations} iterations and {run.evaluations} "
+            f"evaluations of F and J. Stop reason {run.reason}: "
+            f"{system_reason_text(run.reason)}.")
+
+
+def blocks_text(blocks: Sequence[Any], unknowns: Sequence[str]) -> str:
+    """The block-triangular order in words: "solved in 2 blocks: (Q1) then (Q2, H)"."""
+    if len(blocks) <= 1:
+        return "solved as one block (every equation couples with the others)"
+    parts = ["(" + ", ".join(unknowns[j] for j in cols) + ")" for _, cols in blocks]
+    return f"solved in {len(blocks)} blocks, in this order: " + " then ".join(parts)
+
+
+def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES) -> str:
+    """Defined quantities at the root: "A = 0.0314, v = 3.18"."""
+    return ", ".join(f"{name} = {number(v, figures)}" for name, v in values.items())

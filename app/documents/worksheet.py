@@ -19,7 +19,9 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
                    "max_iter": 100, "damping": 1.0},
       "scan": {"from": 0.005, "to": 0.1},   # or null
       "calc": {"number": "", "revision": "", "prepared_by": "", "checked_by": ""},
-      "selection": {"root": 0.0213, "reason": "..."}   # or null
+      "selection": {"root": 0.0213, "reason": "..."},  # or null
+      "system": {"unknowns": [{"name": "Q1", "x0": 0.1}, ...],   # only for a system
+                 "methods": ["newton", "broyden"]}
     }
 
 A parameter's ``unit`` (optional; absent or "" for a plain number) is read by pint in the
@@ -28,6 +30,9 @@ does not know is a load error naming the field. ``dimension_check: false`` switc
 dimensional check off for correlations whose constants hide their units; every document of
 such a worksheet says so. The three keys are written only when they are set, so a
 worksheet without units is written exactly as before.
+A worksheet with a "system" object holds several equations (and definitions) in
+"equation"; its unknowns are listed with their start values, in the order of x. Files
+without it are one equation in one unknown, as before.
 
 Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
 whose message names the field (``settings.xtol: must not be negative``); every
@@ -58,16 +63,20 @@ from app.documents.files import FileRefused, read_limited, write_atomic
 from solvers.worksheet import (
     DEFAULT_METHODS,
     METHOD_NAMES,
+    SYSTEM_METHOD_NAMES,
     CalcInfo,
     Parameter,
     Selection,
     Settings,
+    StartValue,
+    SystemSpec,
     Worksheet,
 )
 
 __all__ = [
     "DEFAULT_METHODS", "METHOD_NAMES", "CalcInfo", "Parameter", "Selection", "Settings",
-    "Worksheet", "WorksheetError", "load", "loads", "save", "dumps", "validate",
+    "StartValue", "SystemSpec", "Worksheet", "WorksheetError", "load", "loads", "save",
+    "dumps", "validate",
     "to_dict", "from_dict", "SETTING_RULES", "setting_problem", "tolerances_problem",
 ]
 
@@ -146,6 +155,9 @@ def to_dict(ws: Worksheet) -> dict[str, Any]:
         "scan": {"from": ws.scan[0], "to": ws.scan[1]} if ws.scan is not None else None,
         "calc": asdict(ws.calc),
         "selection": asdict(ws.selection) if ws.selection is not None else None,
+        **({} if ws.system is None else {"system": {
+            "unknowns": [{"name": u.name, "x0": u.x0} for u in ws.system.unknowns],
+            "methods": list(ws.system.methods)}}),
     }
     if ws.unknown_unit:
         data["unknown_unit"] = ws.unknown_unit
@@ -394,6 +406,15 @@ def from_dict(data: Any) -> Worksheet:
     check = data.get("dimension_check", True)
     if not isinstance(check, bool):
         raise _fail("dimension_check", f"must be true or false, got {_type_name(check)}")
+    system = _system(data.get("system"))
+    if system is not None:
+        names = {u.name for u in system.unknowns}
+        if unknown is not None and unknown not in names:
+            raise _fail("unknown", f"{unknown!r} is not among system.unknowns")
+        clash = [p.name for p in params if p.name in names]
+        if clash:
+            raise _fail("system.unknowns", f"{clash[0]!r} is also a parameter")
+
     return Worksheet(
         unknown_unit=_unit(data.get("unknown_unit"), "unknown_unit") or None,
         dimension_check=check,
@@ -406,7 +427,44 @@ def from_dict(data: Any) -> Worksheet:
         notes=_text(data.get("notes"), "notes"),
         calc=calc,
         selection=selection,
+        system=system,
     )
+
+
+def _system(raw: Any) -> SystemSpec | None:
+    """The optional "system" object: {"unknowns": [{"name", "x0"}...], "methods": [...]}."""
+    if raw is None:
+        return None
+    raw = _mapping(raw, "system")
+    unknowns_raw = raw.get("unknowns")
+    if not isinstance(unknowns_raw, list) or not unknowns_raw:
+        raise _fail("system.unknowns", "must be a non-empty list of {name, x0}")
+    if len(unknowns_raw) > MAX_PARAMETERS:
+        raise _fail("system.unknowns", f"too many ({len(unknowns_raw)}, limit {MAX_PARAMETERS})")
+    unknowns: list[StartValue] = []
+    for i, item in enumerate(unknowns_raw):
+        where = f"system.unknowns[{i}]"
+        item = _mapping(item, where)
+        name = _text(item.get("name"), f"{where}.name", MAX_NAME)
+        if not _is_name(name):
+            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
+        if any(u.name == name for u in unknowns):
+            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
+        if "x0" not in item:
+            raise _fail(f"{where}.x0", "missing (every unknown of a system needs a start value)")
+        unknowns.append(StartValue(name, _number(item["x0"], f"{where}.x0")))
+    methods_raw = raw.get("methods", list(SYSTEM_METHOD_NAMES))
+    if not isinstance(methods_raw, list) or not methods_raw:
+        raise _fail("system.methods", "must be a non-empty list of method names")
+    methods: list[str] = []
+    for i, m in enumerate(methods_raw):
+        if not isinstance(m, str) or m not in SYSTEM_METHOD_NAMES:
+            raise _fail(f"system.methods[{i}]", f"unknown method {_shown(m)}; choose from "
+                        + ", ".join(SYSTEM_METHOD_NAMES))
+        if m in methods:
+            raise _fail(f"system.methods[{i}]", f"{m!r} is listed twice")
+        methods.append(m)
+    return SystemSpec(tuple(unknowns), tuple(methods))
 
 
 def loads(text: str) -> Worksheet:

@@ -38,6 +38,8 @@ wrightomega, the closed form of the Colebrook friction-factor equation);</li>
 <li><b>scipy.constants</b>: physical constants used in the engineering checks;</li>
 <li>the <b>Alefeld–Potra–Shi</b> test set of nonlinear equations, 154 cases (ACM TOMS 21,
 1995);</li>
+<li>the <b>Moré–Garbow–Hillstrom</b> systems of nonlinear equations (ACM TOMS 7, 1981)
+against scipy.optimize.root (MINPACK's hybrid method) from their standard starts;</li>
 <li>published <b>handbook tables</b>: Blevins, <i>Formulas for Natural Frequency and Mode
 Shape</i>, Table 8-1 (cantilever frequency roots); Incropera &amp; DeWitt, <i>Fundamentals of
 Heat and Mass Transfer</i>, 6th ed., Table 5.1 (plane-wall eigenvalues); the CRC Handbook of
@@ -69,6 +71,15 @@ The Convergence tab shows |f(x_k)| or |Δx_k| against k on a log axis.</p>
 Double-click a root (or select it and press Enter, or Polish) to polish it with every
 method; the start values are set from it. <b>Take as design value</b> (Ctrl+D) records the
 selected root, and why, for the calculation sheet.</p>
+<p><b>Definitions.</b> Lines before the equation may define intermediate quantities,
+one per line (or separated by <code>;</code>): <code>A = pi*D^2/4</code>, then
+<code>v = Q/A</code>, then the equation. The parameters table lists only the inputs; the
+defined values at the root are printed by the command line and on the calculation sheet.</p>
+<p><b>Systems.</b> Run ▸ System of equations (Ctrl+Shift+Y) opens a window for several
+equations in several unknowns: type one equation per line, give each unknown a start value,
+and Solve runs Newton–Raphson (on the Jacobian, with a line search) and Broyden side by side,
+with every iterate and a convergence view of ||F|| and the step length. A system worksheet
+opened with File ▸ Open goes there.</p>
 <p><b>Files.</b> Worksheets are saved as JSON files of our own (.json). Export the iteration
 log and the
 roots as CSV (numbers written exactly) and the calculation sheet as PDF from the File menu.
@@ -77,7 +88,8 @@ whole table. Unsaved work is kept in a recovery file and offered at the next sta
 <p><b>Keys.</b> Ctrl+N new, Ctrl+O open, Ctrl+S save, Ctrl+Return solve,
 Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+D take as design value,
 Ctrl+1 / Ctrl+2 function / convergence view,
-Ctrl+= / Ctrl+- more / fewer significant figures, F1 this help.</p>
+Ctrl+= / Ctrl+- more / fewer significant figures, Ctrl+Shift+Y system of equations,
+F1 this help.</p>
 <p style="color:#8A2B00"><b>Caution.</b> {CAUTION_FULL}</p>
 """
 

@@ -197,7 +197,7 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, Any],
     except Exception as exc:  # the parser's own bug must not take the window down
         return Analysis(**base, error=f"could not read the equation ({type(exc).__name__})")
     return Analysis(**base, equation=equation, notes=remarks_text(equation.remarks),
-                    latex=equation.latex,
+                    latex=_with_definitions(equation),
                     derivative_latex=_derivative_latex(equation))
 
 
@@ -210,6 +210,13 @@ def name_bad_values(analysis: Analysis, parameters: Any) -> Analysis:
         return analysis
     return replace(analysis, error="; ".join(bad) + " (in the parameters table)",
                    position=None)
+
+
+def _with_definitions(equation: Any) -> str:
+    """The typeset equation after its definition lines, on one line, separated by wide
+    spaces and semicolons (mathtext sets one line)."""
+    lines = (*getattr(equation, "definitions_latex", ()), equation.latex)
+    return r";\quad ".join(lines)
 
 
 def _derivative_latex(equation: Any) -> str:
@@ -232,7 +239,7 @@ def _typeset_only(text: str, unknown: str, given: Mapping[str, float],
             eq = parse_equation(text, unknown=unknown, parameters=trial)
         except Exception:
             continue
-        return eq.latex, _derivative_latex(eq)
+        return _with_definitions(eq), _derivative_latex(eq)
     return "", ""
 
 

@@ -99,6 +99,10 @@ class FileActions(QObject):
                                 f"{path.name} was not opened:\n{self.window.last_error}\n\n"
                                 "The worksheet on screen is unchanged.")
             return False
+        if ws.system is not None:  # several unknowns: the system window shows it
+            self.window.open_system(ws)
+            self._status(f"Opened {path.name} in the system window", 5000)
+            return True
         self.window.load_worksheet(ws, None if as_copy else path)
         if not as_copy:
             self.add_recent(path)

@@ -472,6 +472,18 @@ class MainWindow(QMainWindow):
     def open_file(self) -> bool:
         return self.files.open_file()
 
+    def open_system(self, ws: Any = None) -> Any:
+        """The system window (one per main window), showing ``ws`` when given."""
+        from app.window.system_view import SystemWindow
+
+        if getattr(self, "system_window", None) is None:
+            self.system_window = SystemWindow(self.runner)
+        if ws is not None:
+            self.system_window.load_worksheet(ws)
+        self.system_window.show()
+        self.system_window.raise_()
+        return self.system_window
+
     def open_path(self, path: str | Path, *, ask: bool = True, as_copy: bool = False) -> bool:
         return self.files.open_path(path, ask=ask, as_copy=as_copy)
 
@@ -530,6 +542,10 @@ class MainWindow(QMainWindow):
     def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802 (Qt name)
         if not self.maybe_save():
             event.ignore()
+            return
+        if getattr(self, "system_window", None) is not None and self.system_window.isVisible() \
+                and not self.system_window.close():  # it runs its jobs in this runner
+            event.ignore()  # the user kept the unsaved system open
             return
         self._autosave.stop()
         self.runner.stop()

@@ -98,7 +98,7 @@ from solvers.equation.lexer import (
     MAX_NAME,
     EquationError,
 )
-from solvers.equation.parser import free_names
+from solvers.equation.lines import free_names
 from solvers.equation.record import Equation, parse_equation
 from solvers.equation.typeset import MAX_TYPESET_CHARS, MAX_TYPESET_NODES
 

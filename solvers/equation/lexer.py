@@ -34,7 +34,7 @@ _TOKEN_RE = re.compile(
     r"(?P<ws>[ \t\r\n]+)"
     r"|(?P<num>(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)"
     r"|(?P<name>[A-Za-z_][A-Za-z0-9_]*)"
-    r"|(?P<op>\*\*|[-+*/^(),=])",
+    r"|(?P<op>\*\*|[-+*/^(),=;])",
     re.ASCII,
 )
 
@@ -81,7 +81,6 @@ _CHAR_HINTS = {
     "'": "strings are not allowed",
     '"': "strings are not allowed",
     ".": "a '.' belongs only in a decimal number such as 0.5; no attribute access",
-    ";": "one equation only",
     "!": "factorials are not supported",
     "[": "use ( ) for grouping",
     "]": "use ( ) for grouping",
@@ -105,10 +104,10 @@ _ASCII_LOOKALIKES = {
 
 
 def _where(text: str, pos: int) -> str:
-    """'column N' (1-based) or 'line L, column N' for multi-line text."""
+    """'column N' (1-based), or 'line L, column N' for text of several lines."""
     line = text.count("\n", 0, pos)
     column = pos - (text.rfind("\n", 0, pos) + 1)
-    if line:
+    if line or "\n" in text.rstrip():  # text of several lines: always say which line
         return f"line {line + 1}, column {column + 1}"
     return f"column {column + 1}"
 

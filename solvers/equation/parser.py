@@ -100,6 +100,7 @@ class _Parser:
         # the dimensional check (solvers.units) names a part as typed
         self.spans: list[tuple[Any, int, int]] = []
         self.equals: int | None = None  # the position of the equation's '='
+        self.refused: dict[str, str] = {}  # names this line may not use, with the reason
 
     # -- helpers ------------------------------------------------------------------------------
     def fail(self, message: str, pos: int | None) -> EquationError:
@@ -381,9 +382,11 @@ class _Parser:
                                 t.pos)
             raise self.fail(f"unknown function '{name}' (write {name}*(...) for a product)",
                             t.pos)
-        if name in CONSTANT_NAMES:
+        if name in self.bindings:  # the constants pi and deg, and names defined on earlier lines
             self.used.add(name)
             return self.bindings[name]
+        if name in self.refused:  # defined on a later line, or the name being defined
+            raise self.fail(self.refused[name], t.pos)
         if name not in self.first_pos:
             self.first_pos[name] = t.pos
             self.names.append(name)
@@ -442,8 +445,9 @@ def _number(value: float) -> Any:
 
 
 
-def read(text: Any) -> tuple[_Parser, _Node, _Node | None]:
-    """Tokenize and parse ``text`` once (parameters as symbols); EquationError if unusable."""
+def checked_tokens(text: Any) -> list[_Token]:
+    """The tokens of ``text`` after the checks every text gets (a string, not too long,
+    not empty)."""
     if not isinstance(text, str):
         raise EquationError(f"equation text must be a string, got {type(text).__name__}")
     if len(text) > MAX_LENGTH:
@@ -451,7 +455,12 @@ def read(text: Any) -> tuple[_Parser, _Node, _Node | None]:
                             MAX_LENGTH)
     if not text.strip():
         raise EquationError("the equation is empty", None)
-    parser = _Parser(text, tokenize(text), _constant_bindings())
+    return tokenize(text)
+
+
+def read(text: Any) -> tuple[_Parser, _Node, _Node | None]:
+    """Tokenize and parse ``text`` once (parameters as symbols); EquationError if unusable."""
+    parser = _Parser(text, checked_tokens(text), _constant_bindings())
     try:
         lhs, rhs = parser.equation()
     except RecursionError:
@@ -463,14 +472,3 @@ def _constant_bindings() -> dict[str, Any]:
     deg_value = math.pi / 180
     return {"pi": _Node(sp.Float(math.pi), math.pi),
             "deg": _Node(sp.Float(deg_value), deg_value)}
-
-
-def free_names(text: str) -> tuple[str, ...]:
-    """The names an equation uses, in order of first appearance (for a parameter table).
-
-    Functions and the constants pi and deg are not names. Raises :class:`EquationError`
-    on text that does not parse.
-    """
-    parser, _, _ = read(text)
-    return tuple(parser.names)
-

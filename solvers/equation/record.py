@@ -13,7 +13,7 @@ from __future__ import annotations
 import math
 import re
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from numbers import Real
 from typing import Any
 
@@ -23,7 +23,8 @@ import sympy as sp
 from solvers.equation import calculus
 from solvers.equation.compile import Code, arguments, bound, floatify_big, hoist
 from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
-from solvers.equation.parser import Check, _is_bad, _Node, read, snippet
+from solvers.equation.lines import Definition, check_shadowing, read_lines
+from solvers.equation.parser import Check, _is_bad, _Node, snippet
 from solvers.equation.typeset import derivative_latex, typeset
 from solvers.units import Converted, Plan, convert_parameters, plan_for
 
@@ -69,6 +70,9 @@ class _Core:
     remarks: tuple[Remark, ...]
     cache: dict[str, Any] = field(default_factory=dict)
     units: Plan | None = None  # the units side (solvers.units): unknown unit, dimension check
+    # the definition lines before the equation, and where the equation line stands
+    definitions: tuple[Definition, ...] = ()
+    span: tuple[int, int] | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -173,8 +177,53 @@ class Equation:
         cache = self._core.cache
         if "latex" not in cache:
             lhs, rhs = self._core.sides
-            cache["latex"] = typeset(self.text, lhs, rhs)
+            span = self._core.span
+            text = self.text if span is None else self.text[span[0]:span[1]]
+            cache["latex"] = typeset(text, lhs, rhs)
         return cache["latex"]
+
+    # -- definitions (lines ``name = expression`` before the equation) -------------------------
+    @property
+    def definitions(self) -> tuple[str, ...]:
+        """The names defined on the lines before the equation, in the order written."""
+        return tuple(d.name for d in self._core.definitions) if self._core else ()
+
+    @property
+    def definition_records(self) -> tuple[Definition, ...]:
+        """Each definition: ``name``, ``expr`` (sympy, parameters and the unknown as
+        symbols, earlier definitions written out) and its ``start``/``end`` in the text."""
+        return self._core.definitions if self._core else ()
+
+    @property
+    def definitions_latex(self) -> tuple[str, ...]:
+        """The typeset form of each definition line (``name = expression``), in order."""
+        cache = self._core.cache
+        if "dlines" not in cache:
+            cache["dlines"] = tuple(
+                typeset(self.text[d.start:d.end], _Node(sp.Symbol(d.name), None), d.node)
+                for d in self._core.definitions)
+        return cache["dlines"]
+
+    def definition_values(self, x: Any) -> dict[str, Any]:
+        """Each defined quantity at the unknown's value ``x`` (a float gives floats; an
+        array, or array parameters, give arrays), computed with the parameter values bound
+        here. NaN where a definition has no real value there; never raises on values."""
+        core = self._core
+        if core is None or not core.definitions:
+            return {}
+        code = core.cache.get("defs")
+        if code is None:
+            code = core.cache["defs"] = Code([d.expr for d in core.definitions], [core.x],
+                                             core.symbols, many=True)
+        args = [np.float64(v) if v.__class__ is float else v for v in self.parameters.values()]
+        with np.errstate(all="ignore"):
+            out = code.vector(np.asarray(x, dtype=np.float64), *args)
+        scalar = np.ndim(x) == 0 and all(np.ndim(v) == 0 for v in args)
+        values = {}
+        for d, v in zip(core.definitions, out, strict=True):
+            arr = np.asarray(v, dtype=np.float64)
+            values[d.name] = float(arr) if scalar else arr
+        return values
 
     @property
     def derivative_latex(self) -> str:
@@ -487,10 +536,16 @@ def parse_equation(text: str, unknown: str | None = None,
     """
     parameters, converted = convert_parameters(parameters)
     values = _validate_parameters(parameters)
-    parser, lhs, rhs = read(text)
+    reading = read_lines(text)
+    check_shadowing(reading, values, () if unknown is None else (unknown,))
     remarks: list[Remark] = []
-    unknown = _choose_unknown(text, parser.names, unknown, values, parser.first_pos, remarks)
-    core = _build_core(text, parser, lhs, rhs, unknown, unknown_unit, check_dimensions)
+    unknown = _choose_unknown(text, reading.names, unknown, values, reading.first_pos, remarks)
+    line = reading.equations[0]
+    core = _build_core(text, reading, line.lhs, line.rhs, unknown, unknown_unit,
+                       check_dimensions)
+    if reading.definitions or line.start > 0 or line.end < len(text.rstrip()):
+        core = replace(core, definitions=tuple(reading.definitions),
+                       span=(line.start, line.end))
     used = {n: values[n] for n in core.parameter_names}
     return _bind(core, used, tuple(remarks) + core.remarks, converted)
 

@@ -260,9 +260,11 @@ def plan_for(text: str, parser: Any, lhs: Any, rhs: Any, unknown: Any,
                 unit = read_unit(unknown_unit)
             except EquationError as err:
                 raise EquationError(f"unknown unit: {err}") from None
-    equals = parser.equals if parser.equals is not None else len(text)
-    start = len(text) - len(text.lstrip())
-    sides = (lhs.expr, None if rhs is None else rhs.expr, (start, equals, len(text.rstrip())))
+    # the equation's own line: definition lines before it are not its left side
+    start, end = getattr(parser, "equation_span", (len(text) - len(text.lstrip()),
+                                                   len(text.rstrip())))
+    equals = parser.equals if parser.equals is not None else end
+    sides = (lhs.expr, None if rhs is None else rhs.expr, (start, equals, end))
     names_at = {s: parser.first_pos[n] for n, s in symbols.items() if n in parser.first_pos}
     if unknown.name in parser.first_pos:
         names_at[unknown] = parser.first_pos[unknown.name]

@@ -160,6 +160,11 @@ def _equation_section(c: _Context) -> list[Flowable]:
         rows.append(("Dimensions", Paragraph(_text(
             words.DIMENSIONS_UNCHECKED if unchecked else words.DIMENSIONS_CHECKED),
             st["cell"])))
+    definitions = getattr(eq, "definition_records", ())
+    if definitions:  # lines name = expression before the equation, written out into f
+        rows.insert(2, ("Definitions", [Paragraph(
+            f"<font name='ZT-Mono'>{_text(' '.join(c.ws.equation[d.start:d.end].split()))}"
+            "</font>", st["cell"]) for d in definitions]))
     newton_runs = [r for r in c.solution.runs if r.method == "newton"]
     numerical = getattr(eq, "fprime", None) is None or any(
         r.derivative == "numerical" for r in newton_runs
@@ -360,6 +365,13 @@ def _results_section(c: _Context) -> list[Flowable]:
     else:
         agree = f"<b>Agreement.</b> {escape(words.agreement_text(sol))}"
     out += [Spacer(1, 4), Paragraph(agree, st["body"])]
+    if getattr(sol.equation, "definitions", ()):
+        out += _heading("Definitions at each root", st, "h2")
+        values = [sol.equation.definition_values(r.root) for r in runs]
+        ddata = [["Name", *(_label(r.method) for r in runs)]] + [
+            [name, *(_num(v[name]) for v in values)] for name in sol.equation.definitions]
+        out.append(Table(ddata, repeatRows=1, hAlign="LEFT",
+                         style=TableStyle(_grid_style(mono_from_col=0))))
     return out
 
 

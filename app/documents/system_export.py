@@ -1,0 +1,118 @@
+"""CSV and JSON of a system solve (the same conventions as :mod:`app.documents.export`).
+
+CSV: ``#`` metadata lines (tool, time, equations, unknowns, parameters, settings, the
+block order, one summary line per run, the caution), one header row, one row per
+iterate: ``method, block, k``, one column per unknown, one per equation's residual
+(``residual_1`` ...), then ``residual_norm, step_norm, damping, regularised``. Floats are
+written with ``repr`` (round-trip exact).
+"""
+
+from __future__ import annotations
+
+import io
+import os
+from typing import IO, Any
+
+from app.documents.export import _emit, _json_float, _write_table, metadata, number
+from app.documents.words import (
+    CAUTION,
+    JACOBIAN_WORDS,
+    blocks_text,
+    system_method_title,
+    system_run_message,
+)
+
+
+def _settings(solution: Any) -> dict[str, Any]:
+    s = solution.worksheet.settings
+    return {"methods": list(solution.worksheet.system.methods), "xtol": s.xtol,
+            "rtol": s.rtol, "ftol": s.ftol, "max_iter": s.max_iter,
+            "x0": [number(u.x0) for u in solution.worksheet.system.unknowns]}
+
+
+def system_meta(solution: Any) -> dict[str, str]:
+    system = solution.system
+    extra = {
+        "equations": " ; ".join(system.equations),
+        "definitions": ", ".join(system.definitions) or "(none)",
+        "jacobian": JACOBIAN_WORDS[system.jacobian_kind],
+        "structure": blocks_text(system.blocks, system.unknowns),
+    }
+    for r in solution.runs:
+        extra[f"run {r.method}"] = (
+            "root=[" + " ".join(f"{k}={number(v)}" for k, v in r.root.items()) + "]; "
+            f"converged={r.converged}; reason={r.reason}; iterations={r.iterations}; "
+            f"evaluations={r.evaluations}")
+    return metadata(equation=solution.worksheet.equation,
+                    unknown=" ".join(system.unknowns), parameters=system.parameters,
+                    settings=_settings(solution), extra=extra)
+
+
+def header(system: Any) -> list[str]:
+    n = len(system.equations)
+    return ["method", "block", "k", *system.unknowns,
+            *(f"residual_{i}" for i in range(1, n + 1)),
+            "residual_norm", "step_norm", "damping", "regularised"]
+
+
+def rows(runs: Any) -> list[list[str]]:
+    out = []
+    for run in runs:
+        for s in run.steps:
+            out.append([run.method, str(s.block), str(s.k),
+                        *(number(v) for v in s.x.values()),
+                        *(number(v) for v in s.residuals),
+                        number(s.residual_norm), number(s.step_norm), number(s.damping),
+                        str(s.regularised)])
+    return out
+
+
+def system_csv(solution: Any, target: str | os.PathLike[str] | IO[str], *,
+               overwrite: bool = True) -> None:
+    """The iteration log of every run of a system solve (see the module docstring)."""
+    buffer = io.StringIO()
+    _write_table(buffer, system_meta(solution), header(solution.system), rows(solution.runs))
+    _emit(target, buffer.getvalue(), overwrite)
+
+
+def _floats(mapping: Any) -> dict[str, Any]:
+    return {k: _json_float(v) for k, v in mapping.items()}
+
+
+def system_run_json(run: Any, system: Any) -> dict[str, Any]:
+    data = run.as_dict()
+    data["root"] = _floats(run.root)
+    data["residuals"] = [_json_float(v) for v in run.residuals]
+    data["residual_norm"] = _json_float(run.residual_norm)
+    data["steps"] = [{**s, "x": _floats(s["x"]), "residuals": [_json_float(v)
+                                                               for v in s["residuals"]],
+                      "residual_norm": _json_float(s["residual_norm"]),
+                      "step_norm": _json_float(s["step_norm"]),
+                      "damping": _json_float(s["damping"])} for s in data["steps"]]
+    data["settings"] = {k: (_json_float(v) if isinstance(v, float) else
+                            [_json_float(x) for x in v] if isinstance(v, tuple) else v)
+                        for k, v in run.settings.items()}
+    x = [run.root[n] for n in system.unknowns]
+    data["definitions"] = _floats(system.definition_values(x))
+    data["title"] = system_method_title(run.method)
+    data["message"] = system_run_message(run)
+    return data
+
+
+def system_json(solution: Any) -> dict[str, Any]:
+    """The ``zerotrace solve --json`` document of a system: the contract's keys
+    (equations, unknowns, runs) and the caution, with the structure and parameters."""
+    system = solution.system
+    return {
+        "equations": list(system.equations),
+        "unknowns": list(system.unknowns),
+        "definitions": list(system.definitions),
+        "parameters": _floats(system.parameters),
+        "start": {u.name: _json_float(u.x0) for u in solution.worksheet.system.unknowns},
+        "jacobian": system.jacobian_kind,
+        "blocks": [{"equations": [system.equations[i] for i in eqs],
+                    "unknowns": [system.unknowns[j] for j in cols]}
+                   for eqs, cols in system.blocks],
+        "runs": [system_run_json(r, system) for r in solution.runs],
+        "caution": CAUTION,
+    }

@@ -1,0 +1,58 @@
+"""What ``zerotrace solve`` prints for a system: plain tables, words from words.py."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from app.terminal import _g, _table, caution
+
+
+def print_system_solution(solution: Any, *, steps: bool, figures: int | None = None) -> None:
+    from app.documents import words
+
+    system = solution.system
+    runs = solution.runs
+    print("equations:")
+    for i, text in enumerate(system.equations, 1):
+        print(f"  ({i}) {text}")
+    if system.definitions:
+        print("definitions: " + ", ".join(system.definitions))
+    params = ", ".join(f"{k} = {_g(v)}" for k, v in system.parameters.items())
+    print("unknowns:  " + ", ".join(system.unknowns)
+          + (f"    parameters: {params}" if params else ""))
+    start = solution.worksheet.system.start()
+    print("start:     " + ", ".join(f"{k} = {_g(v)}" for k, v in start.items()))
+    print(f"note:      {words.JACOBIAN_WORDS[system.jacobian_kind]}; "
+          f"{words.blocks_text(system.blocks, system.unknowns)}")
+    print()
+    header = ["method", "converged", "reason", "iterations", "evaluations", "||F|| at the end",
+              "--method"]
+    print(_table(header, [[words.system_method_title(r.method),
+                           "yes" if r.converged else "NO", r.reason, str(r.iterations),
+                           str(r.evaluations), _g(r.residual_norm, 3), r.method]
+                          for r in runs]))
+    print()
+    titles = [words.system_method_title(r.method) for r in runs]
+    print(_table(["unknown", *titles],
+                 [[n, *(_g(r.root[n], figures) for r in runs)] for n in system.unknowns]))
+    print()
+    print(_table(["residual at the root", *titles],
+                 [[f"({i + 1}) {text}"[:48], *(_g(r.residuals[i], 3) for r in runs)]
+                  for i, text in enumerate(system.equations)]))
+    for r in runs:
+        values = system.definition_values([r.root[n] for n in system.unknowns])
+        if values:
+            print(f"\n{words.system_method_title(r.method)}, definitions at the root: "
+                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES))
+    print()
+    for r in runs:
+        print(f"  {words.system_run_message(r)}")
+    if steps:
+        for r in runs:
+            print(f"\n{words.system_method_title(r.method)}: every iterate")
+            body = [[str(s.k), str(s.block), *(_g(v) for v in s.x.values()),
+                     _g(s.residual_norm, 6), _g(s.step_norm, 6), _g(s.damping, 4),
+                     "LM" if s.regularised else ""] for s in r.steps]
+            print(_table(["k", "block", *system.unknowns, "||F||", "||step||", "damping", ""],
+                         body))
+    print(f"\n{caution()}")

@@ -1,0 +1,297 @@
+"""Text -> :class:`System`: n equations in n unknowns, parsed, differentiated and compiled once.
+
+The lines are read as for one equation (:mod:`solvers.equation.lines`): ``;`` or a line
+break ends a line, a name defined on a line is written out into every later line. Which
+lines are definitions:
+
+* with ``unknowns`` given: every line ``name = expression`` whose name is neither an
+  unknown nor a parameter (its right side may use the unknowns: ``v1 = Q1/A1``);
+* without: every line ``name = expression`` whose name is not a parameter and has not
+  appeared on an earlier line, and whose right side uses only parameters, constants and
+  earlier definitions. The unknowns are then the names left without a value.
+
+Every other line is an equation (``lhs = rhs``, or an expression meaning ``expr = 0``).
+F and the symbolic Jacobian (the chain rule of :mod:`solvers.equation.calculus`) are
+compiled once as functions of (x..., *params); where no symbolic Jacobian can be built,
+``J`` is forward differences (``System.jacobian_kind`` says which).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import sympy as sp
+
+from solvers.equation import calculus
+from solvers.equation.compile import Code, floatify_big
+from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
+from solvers.equation.lines import Line, Reading, check_shadowing, read_lines
+from solvers.equation.parser import _is_bad
+from solvers.equation.record import _PASSES, _check_message, _validate_parameters
+from solvers.systems.structure import Block, block_order
+from solvers.units import Measured
+
+_FD_STEP = math.sqrt(np.finfo(float).eps)  # forward-difference step, relative (common practice)
+
+
+@dataclass(frozen=True, eq=False)
+class System:
+    """A checked square system F(x) = 0 with its parameter values bound.
+
+    ``unknowns`` (names, the order of x), ``definitions`` (names defined on the lines),
+    ``equations`` (each equation line as typed), ``exprs`` (sympy, lhs - rhs, parameters
+    as symbols, definitions written out), ``jacobian_exprs`` (rows of sympy entries, or
+    None), ``incidence`` (which unknowns each equation uses), ``blocks`` (the
+    block-triangular order: (equation indices, unknown indices) solvable one after
+    another), ``parameters`` (name -> float).
+
+    ``F(x)`` -> float array (n,), ``J(x)`` -> float array (n, n), ``x`` an array-like in
+    the order of ``unknowns``: real arithmetic, NaN/inf where undefined, never raising on
+    values. Each call of ``F`` or ``J`` is one evaluation (a difference Jacobian is n + 1).
+    """
+
+    text: str
+    unknowns: tuple[str, ...]
+    definitions: tuple[str, ...]
+    equations: tuple[str, ...]
+    exprs: tuple[Any, ...]
+    jacobian_exprs: tuple[tuple[Any, ...], ...] | None
+    incidence: tuple[tuple[bool, ...], ...]
+    blocks: tuple[Block, ...]
+    parameters: Mapping[str, float]
+    _f_code: Code = field(repr=False)
+    _j_code: Code | None = field(repr=False)
+    _symbols: tuple[Any, ...] = field(repr=False)
+    _xs: tuple[Any, ...] = field(repr=False)
+    _definition_exprs: tuple[Any, ...] = field(repr=False, default=())
+    _cache: dict[str, Any] = field(default_factory=dict, repr=False)
+
+    @property
+    def jacobian_kind(self) -> str:
+        """"symbolic" (compiled from sympy) or "differences" (forward differences)."""
+        return "symbolic" if self._j_code is not None else "differences"
+
+    def F(self, x: Any) -> np.ndarray:
+        """The residuals lhs - rhs of every equation at ``x`` (float array of shape (n,))."""
+        return _call(self._f_code, x, self.parameters, len(self.unknowns))
+
+    def J(self, x: Any) -> np.ndarray:
+        """dF_i/dx_j at ``x`` (float array (n, n)): symbolic where it could be built, else
+        forward differences with the step sqrt(eps)*max(|x_j|, 1)."""
+        n = len(self.unknowns)
+        if self._j_code is not None:
+            return _call(self._j_code, x, self.parameters, n * n).reshape(n, n)
+        return differences(self.F, np.asarray(x, dtype=np.float64))
+
+    def definition_values(self, x: Any) -> dict[str, float]:
+        """Each defined quantity at ``x`` (NaN where it has no real value there)."""
+        if not self.definitions:
+            return {}
+        code = self._cache.get("defs")
+        if code is None:
+            code = self._cache["defs"] = Code(self._definition_exprs, self._xs, self._symbols,
+                                              many=True)
+        values = _call(code, x, self.parameters, len(self.definitions))
+        return {name: float(v) for name, v in zip(self.definitions, values, strict=True)}
+
+
+def differences(F: Any, x: np.ndarray) -> np.ndarray:
+    """Forward-difference Jacobian of ``F`` at ``x`` (n extra calls of F)."""
+    f0 = F(x)
+    n = x.size
+    jac = np.empty((f0.size, n))
+    for j in range(n):
+        h = _FD_STEP * max(abs(x[j]), 1.0)
+        xh = x.copy()
+        xh[j] += h
+        jac[:, j] = (F(xh) - f0) / (xh[j] - x[j])
+    return jac
+
+
+def _call(code: Code, x: Any, parameters: Mapping[str, float], size: int) -> np.ndarray:
+    args = [float(v) for v in np.asarray(x, dtype=np.float64).ravel()]
+    values = list(parameters.values())
+    scalar = code.scalar()
+    if scalar:
+        try:
+            out = scalar(*args, *values)
+            return np.array(out, dtype=np.float64).reshape(size)
+        except (ArithmeticError, ValueError, TypeError):
+            pass  # a domain error on the math path: the numpy path gives the nan/inf
+    with np.errstate(all="ignore"):
+        out = code.vector(*(np.float64(a) for a in args), *(np.float64(v) for v in values))
+    return np.array([float(np.asarray(v, dtype=np.float64)) for v in out], dtype=np.float64)
+
+
+# ---------------------------------------------------------------------------------------------
+# Parsing
+# ---------------------------------------------------------------------------------------------
+
+
+def _names_in(line: Line) -> list[str]:
+    from solvers.equation.functions import FUNCTIONS
+
+    return [t.text for t in line.tokens[2:] if t.kind == "name" and t.text not in FUNCTIONS
+            and t.text not in CONSTANT_NAMES]
+
+
+def _classifier(values: Mapping[str, Any], unknowns: Sequence[str] | None) -> Any:
+    defined: set[str] = set()
+    seen: set[str] = set()
+
+    def is_definition(i: int, line: Line, lines: list[Line]) -> bool:
+        name = line.defines()
+        names = [t.text for t in line.tokens if t.kind == "name"]
+        verdict = False
+        if name is not None and name not in values:
+            if unknowns is not None:
+                verdict = name not in unknowns
+            else:
+                verdict = name not in seen and all(
+                    n in values or n in defined for n in _names_in(line))
+        seen.update(names)
+        if verdict:
+            defined.add(name)  # type: ignore[arg-type]
+        return verdict
+
+    return is_definition
+
+
+def _check_unknowns(unknowns: Any) -> tuple[str, ...] | None:
+    if unknowns is None:
+        return None
+    if isinstance(unknowns, str) or not isinstance(unknowns, Sequence):
+        raise EquationError("the unknowns must be a list of names")
+    out = []
+    for u in unknowns:
+        if not isinstance(u, str):
+            raise EquationError(f"an unknown must be a name, got {type(u).__name__}")
+        if u in out:
+            raise EquationError(f"the unknown '{u}' is named twice")
+        out.append(u)
+    return tuple(out)
+
+
+def _choose_unknowns(reading: Reading, given: tuple[str, ...] | None,
+                     values: Mapping[str, Any]) -> tuple[str, ...]:
+    names = reading.names
+    if given is None:
+        chosen = tuple(n for n in names if n not in values)
+        if not chosen:
+            raise EquationError("no unknowns: every name has a value; say which to solve for")
+        return chosen
+    for u in given:
+        if u not in names:
+            raise EquationError(f"the unknown '{u}' does not appear in the equations")
+    missing = [n for n in names if n not in given and n not in values]
+    if missing:
+        raise reading.numbered(_fail(
+            reading.text, "no value for " + ", ".join(f"'{n}'" for n in missing)
+            + " (the unknowns are " + ", ".join(given) + ")", reading.first_pos[missing[0]]))
+    return given
+
+
+def _count_message(n_eq: int, unknowns: tuple[str, ...]) -> str:
+    n = len(unknowns)
+    listed = ", ".join(unknowns)
+    more = n_eq - n
+    if more > 0:
+        return (f"{n_eq} equations in {n} unknown{'s' if n != 1 else ''} ({listed}): "
+                f"{more} equation{'s' if more != 1 else ''} more than unknowns")
+    return (f"{n_eq} equation{'s' if n_eq != 1 else ''} in {n} unknowns ({listed}): "
+            f"{-more} equation{'s' if more != -1 else ''} fewer than unknowns")
+
+
+def _run_checks(reading: Reading, unknowns: tuple[str, ...], symbols: tuple[Any, ...],
+                values: tuple[float, ...]) -> None:
+    """The parts with parameters only must have finite real values (as for one equation)."""
+    checks = [c for c in reading.checks if not c.names & set(unknowns)]
+    if not checks:
+        return
+    code = Code([e for c in checks for e in c.exprs], [], symbols, many=True)
+    with np.errstate(all="ignore"):
+        out = code.vector(*(np.float64(v) for v in values))
+    i = 0
+    for check in checks:
+        n = len(check.exprs)
+        parts = tuple(float(np.asarray(v, dtype=np.float64)) for v in out[i:i + n])
+        i += n
+        if not _PASSES[check.kind](*parts):
+            message = _check_message(check, reading.text, parts)
+            err = reading.numbered(_fail(reading.text, message, check.start))
+            raise EquationError(f"{err} (with the given parameter values)", err.position)
+
+
+def parse_system(text: str, unknowns: Sequence[str] | None = None,
+                 parameters: Mapping[str, Any] | None = None) -> System:
+    """Read, check and compile a system of equations; see the module docstring.
+
+    ``parameters`` maps names to numbers (one number each; entries the text does not use are
+    ignored). ``unknowns``: the names to solve for, in the order of x; when omitted, every
+    name of the equations without a value, in order of first appearance. Raises
+    :class:`EquationError` (one line, with ``.position`` where it applies) for text that
+    does not parse, a bad definition, more or fewer equations than unknowns (saying
+    which), an equation with none of the unknowns, an unknown in no equation, or a part
+    with no finite real value for the parameter values.
+    """
+    for name, value in (parameters or {}).items():
+        if isinstance(value, (str, tuple, Measured)):
+            # units are converted and checked for one equation (solvers.units); a system
+            # takes plain numbers until that check covers several equations
+            raise EquationError(f"parameter {name!r} has a unit: a system takes plain numbers "
+                                "(in consistent units) for now")
+    values = _validate_parameters(parameters)
+    for name, value in values.items():
+        if value.__class__ is not float:
+            raise EquationError(f"parameter {name!r}: a system takes one number per "
+                                "parameter, not an array")
+    given = _check_unknowns(unknowns)
+    reading = read_lines(text, _classifier(values, given))
+    check_shadowing(reading, values, given or ())
+    chosen = _choose_unknowns(reading, given, values)
+    if not reading.equations:
+        raise EquationError("no equation: every line is a definition")
+    if len(reading.equations) != len(chosen):
+        raise EquationError(_count_message(len(reading.equations), chosen))
+    xs = tuple(sp.Symbol(n, real=True) for n in chosen)
+    param_names = tuple(n for n in reading.names if n not in chosen)
+    symbols = tuple(sp.Symbol(n, real=True) for n in param_names)
+    bound = tuple(values[n] for n in param_names)
+    exprs = []
+    for eq in reading.equations:
+        expr = floatify_big(eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr)
+        if not isinstance(expr, sp.Basic) or _is_bad(expr):
+            raise reading.numbered(_fail(text, "this equation has no finite real value",
+                                         eq.start))
+        if not expr.free_symbols & set(xs):
+            raise reading.numbered(_fail(text, "this equation holds none of the unknowns ("
+                                         + ", ".join(chosen) + ")", eq.start))
+        exprs.append(expr)
+    incidence = tuple(tuple(x in e.free_symbols for x in xs) for e in exprs)
+    for j, name in enumerate(chosen):
+        if not any(row[j] for row in incidence):
+            raise EquationError(f"the unknown '{name}' appears in no equation "
+                                "(only in a definition no equation uses)")
+    _run_checks(reading, chosen, symbols, bound)
+    jac = calculus.jacobian(exprs, xs)
+    try:
+        f_code = Code(exprs, xs, symbols, many=True)
+        j_code = None if jac is None else Code([e for row in jac for e in row], xs, symbols,
+                                               many=True)
+    except Exception as err:  # noqa: BLE001 - one line rather than a traceback
+        raise EquationError(f"the equations cannot be compiled ({type(err).__name__})",
+                            None) from None
+    return System(
+        text=text, unknowns=chosen,
+        definitions=tuple(d.name for d in reading.definitions),
+        equations=tuple(" ".join(text[e.start:e.end].split()) for e in reading.equations),
+        exprs=tuple(exprs),
+        jacobian_exprs=None if jac is None else tuple(tuple(r) for r in jac),
+        incidence=incidence, blocks=block_order(incidence),
+        parameters=dict(zip(param_names, bound, strict=True)),
+        _f_code=f_code, _j_code=j_code, _symbols=symbols, _xs=xs,
+        _definition_exprs=tuple(d.expr for d in reading.definitions))

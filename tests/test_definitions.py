@@ -1,0 +1,181 @@
+"""Definitions: lines ``name = expression`` before the equation.
+
+Outside references: scipy.optimize.brentq on an independent numpy version of the same
+relation (the definitions written out by hand), and numpy for the defined values at the
+root. The channel below is an invented scenario (numbers made up for the test); Manning's
+formula Q = A R^(2/3) S^(1/2) / n in SI units is common practice.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize
+
+from solvers import EquationError, parse_equation, solve_system
+from solvers.equation import free_names
+from solvers.systems import parse_system
+
+CHANNEL = """A = b*y
+P = b + 2*y
+R = A/P
+Q = A*R^(2/3)*sqrt(S)/n"""
+CHANNEL_VALUES = {"b": 2.5, "S": 0.0012, "n": 0.014, "Q": 4.2}  # invented channel
+
+
+def _channel_numpy(y: float) -> float:
+    b, s, n, q = 2.5, 0.0012, 0.014, 4.2
+    area = b * y
+    return q - area * (area / (b + 2 * y)) ** (2 / 3) * math.sqrt(s) / n
+
+
+def test_definitions_reach_the_root_and_their_values():
+    eq = parse_equation(CHANNEL, parameters=CHANNEL_VALUES)
+    assert eq.unknown == "y"
+    assert eq.definitions == ("A", "P", "R")
+    # reference: brentq on the hand-written numpy version
+    y_ref = scipy.optimize.brentq(_channel_numpy, 0.05, 5.0, xtol=1e-15)
+    from solvers import brent
+    run = brent(eq.f, 0.05, 5.0)
+    assert run.converged and run.root == pytest.approx(y_ref, rel=1e-12)
+    values = eq.definition_values(run.root)
+    assert values["A"] == pytest.approx(2.5 * y_ref, rel=1e-12)
+    assert values["P"] == pytest.approx(2.5 + 2 * y_ref, rel=1e-12)
+    assert values["R"] == pytest.approx(2.5 * y_ref / (2.5 + 2 * y_ref), rel=1e-12)
+    arrays = eq.definition_values(np.array([0.5, 1.0]))
+    assert arrays["A"].shape == (2,) and arrays["A"][1] == pytest.approx(2.5)
+
+
+def test_a_definition_with_the_unknown_is_differentiated_through():
+    written_out = "Q = (b*y)*((b*y)/(b + 2*y))^(2/3)*sqrt(S)/n"
+    eq = parse_equation(CHANNEL, parameters=CHANNEL_VALUES)
+    ref = parse_equation(written_out, parameters=CHANNEL_VALUES)
+    for y in (0.3, 0.9, 2.0):
+        assert eq.f(y) == pytest.approx(ref.f(y), rel=1e-14)
+        assert eq.fprime(y) == pytest.approx(ref.fprime(y), rel=1e-13)
+        # the derivative against a central difference of the numpy version (common practice)
+        h = 1e-6 * y
+        fd = (_channel_numpy(y + h) - _channel_numpy(y - h)) / (2 * h)
+        assert eq.fprime(y) == pytest.approx(fd, rel=1e-6)
+
+
+def test_semicolons_and_line_breaks_give_the_same_equation():
+    one = parse_equation("A = b*y; P = b + 2*y; R = A/P; Q = A*R^(2/3)*sqrt(S)/n",
+                         parameters=CHANNEL_VALUES)
+    two = parse_equation(CHANNEL, parameters=CHANNEL_VALUES)
+    assert one.f(0.8) == two.f(0.8)
+    assert one.definitions_latex == two.definitions_latex
+    assert two.definitions_latex[0] == "A = b y"
+
+
+@pytest.mark.parametrize("text, one_line", [
+    ("1/sqrt(f) = -2*log10(eps/(3.7*D)\n  + 2.51/(Re*sqrt(f)))",
+     "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))"),
+    ("42 - 8.5Q - 310Q^2\n  = Hs + ks*Q^1.85", "42 - 8.5Q - 310Q^2 = Hs + ks*Q^1.85"),
+    ("Hs + ks*Q^1.85 = 42 - 8.5Q\n  - 310Q^2", "Hs + ks*Q^1.85 = 42 - 8.5Q - 310Q^2"),
+    ("Hs + ks*Q^1.85 = 42 - 8.5Q -\n  310Q^2", "Hs + ks*Q^1.85 = 42 - 8.5Q - 310Q^2"),
+    ("Hs = 42 - 8.5*Q*(1 +\nQ)\n*ks", "Hs = 42 - 8.5*Q*(1 + Q)*ks"),
+    ("Hs = sqrt\n(Q) + ks", "Hs = sqrt(Q) + ks"),
+])
+def test_one_equation_over_several_lines_is_unchanged(text, one_line):
+    values = {"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5, "Hs": 12.0, "ks": 950.0}
+    a = parse_equation(text, parameters=values)
+    b = parse_equation(one_line, parameters=values)
+    assert a.definitions == ()
+    assert a.unknown == b.unknown
+    assert sp_equal(a.symbolic_expr, b.symbolic_expr)
+    assert a.latex == b.latex
+
+
+def sp_equal(a, b) -> bool:
+    return (a - b).expand() == 0
+
+
+@pytest.mark.parametrize("text, params, where, words", [
+    ("v = Q/A\nA = pi*D^2/4\nh = v^2", {"D": 0.2, "h": 1.0}, "A\nA", "later line"),
+    ("A = A*2\nh = A*Q", {"h": 1.0}, "A*2", "its own definition"),
+    ("D = 0.3\nh = D*Q", {"D": 0.2, "h": 1.0}, "D = 0.3", "parameter"),
+    ("pi = 3\nh = pi*Q", {"h": 1.0}, "pi = 3", "constant"),
+    ("sin = 3\nh = sin*Q", {"h": 1.0}, "sin = 3", "function"),
+    ("A = 1\nA = 2\nh = A*Q", {"h": 1.0}, "A = 2", "twice"),
+    ("Q + 1 = 2; h = Q", {"h": 1.0}, "Q + 1", "define a name"),
+    ("A = (1; 2)\nh = A*Q", {"h": 1.0}, "; 2)", "inside parentheses"),
+    ("A = 2 = 3\nh = A*Q", {"h": 1.0}, "= 3", "second '='"),
+])
+def test_definition_errors_name_the_line(text, params, where, words):
+    with pytest.raises(EquationError) as err:
+        parse_equation(text, parameters=params)
+    assert words in str(err.value)
+    assert err.value.position is not None
+    assert text[err.value.position:].startswith(where), (str(err.value), where)
+    if "\n" in text:
+        assert "line" in str(err.value)  # the position is given as line and column
+
+
+def test_a_definition_of_the_unknown_is_refused():
+    with pytest.raises(EquationError, match="is the unknown") as err:
+        parse_equation("Q = 2*k\nh = Q*k", unknown="Q", parameters={"h": 1.0, "k": 2.0})
+    assert err.value.position == 0
+
+
+def test_free_names_leave_out_defined_names():
+    assert free_names(CHANNEL) == ("b", "y", "Q", "S", "n")
+    assert free_names("Re = rho*V*D/mu") == ("Re", "rho", "V", "D", "mu")
+
+
+def test_a_definition_of_parameters_only_is_checked_when_bound():
+    eq = parse_equation("r = sqrt(a - 1)\nx*r = 1", parameters={"a": 5.0})
+    assert eq.f(0.5) == 0.0
+    with pytest.raises(EquationError, match="no real value"):
+        eq.bind({"a": 0.5})
+
+
+def test_definitions_in_a_system_are_written_out():
+    # an invented pair: two coupled relations with a shared intermediate quantity
+    system = parse_system("s = x + y\nx*s = 6\ny*s = 3", unknowns=["x", "y"])
+    assert system.definitions == ("s",)
+    run = solve_system(system, {"x": 1.0, "y": 1.0})
+    assert run.converged
+    # by hand: s^2 = 9 so s = 3, x = 2, y = 1
+    assert run.root["x"] == pytest.approx(2.0, rel=1e-14)
+    assert run.root["y"] == pytest.approx(1.0, rel=1e-14)
+    assert system.definition_values([2.0, 1.0]) == {"s": 3.0}
+
+
+def test_the_calculation_sheet_shows_definitions_and_their_values(tmp_path, capsys):
+    import json
+
+    import pypdf
+
+    from app.cli import main
+
+    # an invented orifice: the head h that passes Q through it (v = sqrt(2 g h), by hand)
+    sheet = {"format": "zerotrace-worksheet", "version": 1, "title": "Orifice head",
+             "equation": "A = pi*d^2/4\nv = Q/(Cd*A)\nv^2 = 2*g*h", "unknown": "h",
+             "parameters": [{"name": "d", "value": 0.05}, {"name": "Cd", "value": 0.62},
+                            {"name": "Q", "value": 0.004}, {"name": "g", "value": 9.80665}],
+             "settings": {"methods": ["newton"], "x0": 1.0}}
+    path = tmp_path / "orifice.json"
+    path.write_text(json.dumps(sheet))
+    pdf = tmp_path / "orifice.pdf"
+    assert main(["report", str(path), "--pdf", str(pdf)]) == 0
+    text = " ".join(p.extract_text() for p in pypdf.PdfReader(pdf).pages)
+    assert "Definitions" in text and "v = Q/(Cd*A)" in text
+    v = 0.004 / (0.62 * math.pi * 0.05**2 / 4)
+    assert "Definitions at each root" in text
+    assert repr(v)[:12] in text
+
+
+@pytest.mark.parametrize("text, params, line", [
+    ("A = B*2; B = 3; x*A = 1", {}, 1),
+    ("A = 1; D = 2; x*D*A = 1", {"D": 1.0}, 2),
+    ("A = 1; x*A = (1", {}, 2),
+    ("A = 1; A = 2; x*A = 1", {}, 2),
+])
+def test_lines_separated_by_semicolons_are_numbered_in_messages(text, params, line):
+    with pytest.raises(EquationError) as err:
+        parse_equation(text, parameters=params)
+    assert str(err.value).startswith(f"line {line}: ")
+    assert err.value.position is not None

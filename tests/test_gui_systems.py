@@ -1,0 +1,231 @@
+"""The system window worked with real key and mouse events (pytest-qt, offscreen).
+
+References: the root of x^2 + y^2 = 4, x*y = 1 with x > y > 0 by hand (x^2 = 2 + sqrt(3));
+the pump sample against solve_system called directly (the same core, outside the window).
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import pytest
+from PySide6.QtCore import Qt
+from PySide6.QtTest import QTest
+
+from app.documents import worksheet
+from app.window.views import CopyTableView
+from solvers.systems.pipeline import solve_worksheet
+
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import SAMPLES  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)
+
+PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
+
+
+def _open_system_window(qtbot, window):
+    QTest.keyClick(window, Qt.Key.Key_Y,
+                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
+    qtbot.waitUntil(lambda: getattr(window, "system_window", None) is not None
+                    and window.system_window.isVisible(), timeout=5000)
+    sw = window.system_window
+    qtbot.waitExposed(sw)
+    return sw
+
+
+def _edit_cell(qtbot, view, row: int, column: int, text: str) -> None:
+    index = view.model().index(row, column)
+    rect = view.visualRect(index)
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    editor = view.focusWidget()
+    QTest.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(editor, text)
+    QTest.keyClick(editor, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: view.model().index(row, column).data() == text, timeout=3000)
+
+
+def _solve(qtbot, sw):
+    before = sw.solution
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: sw.solution is not None and sw.solution is not before
+                    and not sw.jobs.is_busy("system-solve"), timeout=20_000)
+    return sw.solution
+
+
+def test_typing_a_system_filling_starts_and_solving(qtbot, window):
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4")
+    QTest.keyClick(sw.editor, Qt.Key.Key_Return)
+    QTest.keyClicks(sw.editor, "x*y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    assert "2 equations in x, y" in sw.status.text()
+    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
+    _edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")
+    solution = _solve(qtbot, sw)
+    x = math.sqrt(2 + math.sqrt(3))  # by hand
+    assert sw.lanes.count() == 2
+    for run in solution.runs:
+        assert run.converged
+        assert run.root["x"] == pytest.approx(x, rel=1e-15)
+        assert run.root["y"] == pytest.approx(1 / x, rel=1e-15)
+        model = sw.lane_models[run.method]
+        assert model.rowCount() == len(run.steps)
+        last = model.rowCount() - 1
+        assert model.raw(last, 2) == run.root["x"] and model.raw(last, 3) == run.root["y"]
+        assert model.headers()[:4] == ["k", "block", "x", "y"]
+    # a lane's table copies as tab-separated text at full precision
+    view = sw.lanes.widget(0).findChild(CopyTableView)
+    text = view.copy_all().splitlines()
+    assert text[0].split("\t")[:4] == ["k", "block", "x", "y"]
+    assert text[-1].split("\t")[2] == repr(solution.runs[0].root["x"])
+    # the convergence view: ||F|| and the step length of both methods
+    ax = sw.convergence.figure.axes[0]
+    assert len(ax.get_lines()) == 4 and ax.get_yscale() == "log"
+    from app.documents.words import CAUTION_LINE
+
+    assert sw.caution.text() == CAUTION_LINE and sw.caution.isVisible()
+
+
+def test_a_system_that_has_no_solution_is_shown_as_not_converged(qtbot, window):
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x^2 + y^2 = 1; (x - 3)^2 + y^2 = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    _edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.5")
+    solution = _solve(qtbot, sw)
+    assert all(not r.converged for r in solution.runs)
+    assert "did not converge" in sw.lanes.tabText(0)
+    assert "did not converge" in sw.status.text()
+
+
+def test_a_bad_start_value_is_named_and_nothing_runs(qtbot, window):
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "a*x + y = 1; x - y = 0")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["a", "x", "y"], timeout=10_000)
+    # a is meant as a parameter: name the unknowns, then give a its value
+    sw.unknown_names.setFocus()
+    QTest.keyClicks(sw.unknown_names, "x, y")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    qtbot.waitUntil(lambda: sw.parameters.names() == ["a"], timeout=10_000)
+    assert "no value for 'a'" in sw.status.text()
+    _edit_cell(qtbot, sw.parameters_view, 0, 1, "3")
+    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "abc")
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    assert "start value of x" in sw.status.text() and sw.solution is None
+    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "0")
+    solution = _solve(qtbot, sw)
+    # by hand: 3x + x = 1, x = y = 1/4 (a linear system: one Newton step)
+    assert solution.runs[0].root["x"] == pytest.approx(0.25, rel=1e-15)
+
+
+def test_opening_a_system_worksheet_shows_it_in_the_system_window(qtbot, window, dialogs):
+    dialogs.open_name = str(PUMP)
+    before = window.strip.text()
+    QTest.keyClick(window, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: getattr(window, "system_window", None) is not None
+                    and window.system_window.isVisible(), timeout=5000)
+    sw = window.system_window
+    assert sw.unknowns.names() == ["Q1", "Q2", "H"]
+    qtbot.waitUntil(lambda: "3 equations" in sw.status.text(), timeout=10_000)
+    solution = _solve(qtbot, sw)
+    reference = solve_worksheet(worksheet.load(Path(PUMP)))  # the core, outside the window
+    for run, ref in zip(solution.runs, reference.runs, strict=True):
+        assert run.converged and dict(run.root) == dict(ref.root)
+    # the main window keeps its own (single-equation) worksheet
+    assert window.strip.text() == before
+
+
+def test_closing_the_main_window_closes_the_system_window(qtbot, window):
+    sw = _open_system_window(qtbot, window)
+    window.close()
+    qtbot.waitUntil(lambda: not sw.isVisible(), timeout=5000)
+
+
+def test_the_equation_strip_reads_definitions(qtbot, window):
+    from gui_helpers import settle
+
+    # invented orifice: the parameters table lists the inputs, never the defined names
+    editor = window.strip.editor
+    editor.setFocus()
+    editor.selectAll()
+    editor.textCursor().removeSelectedText()
+    for i, line in enumerate(("A = pi*d^2/4", "v = Q/(Cd*A)", "v^2 = 2*g*h")):
+        if i:
+            QTest.keyClick(editor, Qt.Key.Key_Return)
+        QTest.keyClicks(editor, line)
+    settle(qtbot, window)
+    analysis = window.analysis
+    assert set(analysis.names) == {"d", "Q", "Cd", "g", "h"}  # A and v are defined
+    qtbot.waitUntil(lambda: "h" in window.inputs.parameters.names()
+                    or "d" in window.inputs.parameters.names(), timeout=5000)
+    shown = set(window.inputs.parameters.names())
+    assert "A" not in shown and "v" not in shown
+    assert analysis.latex.startswith(r"A = \frac{\pi d^{2}}{4}") and "2 g h" in analysis.latex
+
+
+def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs, tmp_path):
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
+    dialogs.save_name = str(tmp_path / "pair.json")
+    QTest.mouseClick(sw.save_button, Qt.MouseButton.LeftButton)
+    saved = worksheet.load(tmp_path / "pair.json")
+    assert saved.equation == "x^2 + y^2 = 4; x*y = 1"
+    assert saved.system.start() == {"x": 2.0, "y": 1.0}
+    assert saved.system.methods == ("newton", "broyden")
+    # opened again (File > Open), it lands in the system window with its start values
+    sw.close()
+    window.activateWindow()
+    qtbot.waitUntil(window.isActiveWindow, timeout=5000)
+    dialogs.open_name = dialogs.save_name
+    QTest.keyClick(window, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.system_window.isVisible(), timeout=5000)
+    assert window.system_window.unknowns.starts() == {"x": 2.0, "y": 1.0}
+
+
+def test_cancel_stops_a_solve_between_methods(qtbot, window, monkeypatch):
+    import time
+
+    import solvers.systems as systems_package
+
+    original = systems_package.solve_system
+
+    def slow(*args, **kwargs):  # a long solve: each method takes a while
+        time.sleep(0.4)
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(systems_package, "solve_system", slow)
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(sw.cancel_button.isEnabled, timeout=5000)
+    QTest.mouseClick(sw.cancel_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: not sw.jobs.is_busy("system-solve"), timeout=10_000)
+    assert sw.status.text() == "cancelled: nothing was solved"
+    assert sw.solution is None and not sw.cancel_button.isEnabled()
+
+
+def test_closing_with_an_unsaved_system_asks_and_cancel_keeps_it(qtbot, window, dialogs):
+    from PySide6.QtWidgets import QMessageBox
+
+    sw = _open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x + y = 3; x - y = 1")
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    assert sw.modified
+    dialogs.question = [QMessageBox.StandardButton.Cancel]
+    window.close()  # the main window asks the system window first
+    assert window.isVisible() and sw.isVisible()
+    assert dialogs.titles("question")[-1].startswith("Unsaved system")
+    dialogs.question = QMessageBox.StandardButton.Discard
+    window.close()
+    qtbot.waitUntil(lambda: not sw.isVisible() and not window.isVisible(), timeout=5000)

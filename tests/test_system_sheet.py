@@ -1,0 +1,80 @@
+"""The calculation sheet of a system: what a checker reads on it, read back with pypdf."""
+
+from __future__ import annotations
+
+import csv
+import dataclasses
+from pathlib import Path
+
+import pypdf
+import pytest
+
+from app.cli import main
+from app.documents import worksheet
+from app.documents.words import CAUTION, SYSTEM_REASON_TEXT
+
+SAMPLES = Path(__file__).resolve().parent.parent / "samples" / "systems"
+
+
+def flat(text: str) -> str:
+    return " ".join(text.split())
+
+
+def sheet_text(path: Path) -> str:
+    return flat(" ".join(page.extract_text() for page in pypdf.PdfReader(path).pages))
+
+
+def test_junction_sheet_holds_equations_structure_roots_and_residuals(tmp_path, capsys):
+    ws_path = SAMPLES / "pipe-junction-three-branches.json"
+    pdf = tmp_path / "junction.pdf"
+    code = main(["report", str(ws_path), "--pdf", str(pdf), "--csv-dir", str(tmp_path / "c")])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    text = sheet_text(pdf)
+    for words in ("Equations and definitions", "Structure of the Jacobian",
+                  "Residual of each equation at the root", "Definitions at the root",
+                  "Iteration tables", "Convergence", flat(CAUTION), "ZT-DEMO-008"):
+        assert words in text, words
+    for eq in ("z1 - HJ = h1", "HJ - z2 = h2", "HJ - z3 = h3", "Q1 = Q2 + Q3"):
+        assert eq in text
+    # the roots on the sheet are the CSV's floats, digit for digit
+    rows = [r for r in csv.reader((tmp_path / "c" / "junction-runs.csv").open())
+            if r and not r[0].startswith("#")]
+    header, body = rows[0], rows[1:]
+    last = {}
+    for r in body:
+        last[r[0]] = dict(zip(header, r, strict=True))
+    for method in ("newton", "broyden"):
+        for name in ("Q1", "Q2", "Q3", "HJ"):
+            assert last[method][name] in text.replace(" ", ""), (method, name)
+    pages = len(pypdf.PdfReader(pdf).pages)
+    assert f"page {pages} of {pages}" in text
+
+
+def test_a_system_that_fails_says_so_on_the_sheet(tmp_path, capsys):
+    ws = worksheet.load(SAMPLES / "pump-two-parallel-lines.json")
+    # an iteration cap of 1: both methods stop before the tolerances are met, and a run
+    # that did not converge is reported on the sheet, never raised
+    ws = dataclasses.replace(ws, settings=dataclasses.replace(ws.settings, max_iter=1))
+    path = tmp_path / "pump.json"
+    worksheet.save(ws, path)
+    pdf = tmp_path / "pump.pdf"
+    assert main(["report", str(path), "--pdf", str(pdf)]) == 0
+    text = sheet_text(pdf)
+    assert "did not converge" in text
+    assert flat(SYSTEM_REASON_TEXT["max_iterations"]) in text
+
+
+def test_the_sheet_refuses_an_existing_file_before_solving(tmp_path, capsys):
+    pdf = tmp_path / "x.pdf"
+    pdf.write_bytes(b"old")
+    code = main(["report", str(SAMPLES / "pump-two-parallel-lines.json"), "--pdf", str(pdf)])
+    _, err = capsys.readouterr()
+    assert code == 2 and "already exists" in err
+    assert pdf.read_bytes() == b"old"
+
+
+@pytest.mark.parametrize("name", ["pipe-junction-three-branches", "pump-two-parallel-lines"])
+def test_every_system_sample_makes_a_sheet(tmp_path, name, capsys):
+    assert main(["report", str(SAMPLES / f"{name}.json"), "--pdf",
+                 str(tmp_path / "s.pdf")]) == 0
