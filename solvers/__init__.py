@@ -17,7 +17,14 @@ from solvers.methods import (
 )
 from solvers.records import REASONS, Run, Step, observed_order
 from solvers.scan import Root, Scan, ScanCancelled, scan
-from solvers.systems import System, SystemRun, SystemStep, parse_system, solve_system
+from solvers.systems import (
+    System,
+    SystemCancelled,
+    SystemRun,
+    SystemStep,
+    parse_system,
+    solve_system,
+)
 
 __all__ = [
     "METHODS",
@@ -31,6 +38,7 @@ __all__ = [
     "ScanCancelled",
     "Step",
     "System",
+    "SystemCancelled",
     "SystemRun",
     "SystemStep",
     "bisection",

@@ -8,17 +8,18 @@ block-triangular order of the incidence structure.
 
 Modules: structure (matching, strongly connected blocks), model (System, parse_system),
 iterate (the Newton and Broyden iterations, line search, stopping rules), records
-(SystemStep, SystemRun), solve (SYSTEM_METHODS, solve_system).
+(SystemStep, SystemRun, SystemCancelled), solve (SYSTEM_METHODS, solve_system).
 """
 
 from solvers.systems.model import System, parse_system
-from solvers.systems.records import SystemRun, SystemStep
+from solvers.systems.records import SystemCancelled, SystemRun, SystemStep
 from solvers.systems.solve import SYSTEM_METHODS, SystemMethod, solve_system
 from solvers.systems.structure import block_order
 
 __all__ = [
     "SYSTEM_METHODS",
     "System",
+    "SystemCancelled",
     "SystemMethod",
     "SystemRun",
     "SystemStep",

@@ -32,6 +32,13 @@ Stopping (scale-aware)
   minimum of ||F|| that is no root, such as two circles that do not meet). Never converged.
 * ``not_finite``: F or J not finite at the start, or no finite trial along the direction.
 * ``max_iterations``: the iteration cap.
+
+Cancel and progress
+-------------------
+``Problem.poll(k)`` is called before every iteration, on every trial of the line search
+and on every column of a difference Jacobian (each is one F call): solve_system's poll
+reports progress and raises :class:`solvers.systems.records.SystemCancelled` when asked
+to stop, so a cancel takes effect within one evaluation of F, even inside a long search.
 """
 
 from __future__ import annotations
@@ -78,6 +85,14 @@ class Problem:
     J: Callable[[np.ndarray], np.ndarray] | None  # None: differences only (Broyden)
     record: Callable[[np.ndarray, np.ndarray, float, float, bool], None]
     counter: Counter
+    poll: Callable[[int], None] = lambda _k: None  # before each iteration and F call
+    k: int = 0  # the iteration under way (what poll is told)
+
+    def tick(self, k: int | None = None) -> None:
+        """Poll (may raise SystemCancelled); ``k`` starts a new iteration."""
+        if k is not None:
+            self.k = k
+        self.poll(self.k)
 
 
 @dataclass
@@ -106,6 +121,7 @@ def _differences(p: Problem, x: np.ndarray, f0: np.ndarray) -> np.ndarray:
         h = math.sqrt(_EPS) * max(abs(x[j]), 1.0)
         xh = x.copy()
         xh[j] += h
+        p.tick()
         p.counter.evaluations += 1
         jac[:, j] = (p.F(xh) - f0) / (xh[j] - x[j])
     return jac
@@ -147,6 +163,7 @@ def _search(p: Problem, x: np.ndarray, f: np.ndarray, d: np.ndarray, slope: floa
     lam = 1.0
     while lam >= _MIN_LAMBDA:
         xt = x + lam * d
+        p.tick()
         p.counter.evaluations += 1
         ft = p.F(xt)
         if not _finite(ft):
@@ -211,6 +228,7 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
     if stop:
         return Outcome(x, stop, 0)
     for k in range(1, max_iter + 1):
+        p.tick(k)
         if p.J is None:
             jac = _differences(p, x, f)
         else:
@@ -271,6 +289,7 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
     fresh = True
     k = 0
     while k < max_iter:
+        p.tick(k + 1)
         if not _finite(b):
             return Outcome(x, NOT_FINITE, k)
         d, regularised = _direction(b, f)

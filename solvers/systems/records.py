@@ -97,3 +97,15 @@ class SystemRun:
                 "blocks": [{"equations": list(e), "unknowns": [self.unknowns[j] for j in u]}
                            for e, u in self.blocks],
                 "steps": [s.as_dict() for s in self.steps]}
+
+
+class SystemCancelled(Exception):  # noqa: N818 (named like ScanCancelled)
+    """Raised by :func:`solvers.solve_system` when ``cancel()`` returned True.
+
+    A cancelled solve is no result: nothing of it is called converged. ``iterations``
+    counts the iterations made before the cancel took effect (all blocks together).
+    """
+
+    def __init__(self, iterations: int = 0) -> None:
+        super().__init__(f"system solve cancelled after {iterations} iterations")
+        self.iterations = iterations

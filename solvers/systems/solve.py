@@ -18,7 +18,7 @@ import numpy as np
 from solvers.records import CONVERGED_REASONS, X_TOLERANCE
 from solvers.systems import iterate
 from solvers.systems.model import System
-from solvers.systems.records import SystemRun, SystemStep
+from solvers.systems.records import SystemCancelled, SystemRun, SystemStep
 
 DEFAULT_XTOL = 1e-12
 DEFAULT_RTOL = 4 * float(np.finfo(float).eps)
@@ -79,7 +79,9 @@ def _tolerance(name: str, value: Any, default: float) -> float:
 def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newton",
                  xtol: float | None = None, rtol: float | None = None,
                  ftol: float | None = None, max_iter: int | None = None,
-                 by_blocks: bool = True) -> SystemRun:
+                 by_blocks: bool = True,
+                 progress: Callable[[float], None] | None = None,
+                 cancel: Callable[[], bool] | None = None) -> SystemRun:
     """Solve F(x) = 0 from ``x0`` (name -> start value; or a sequence in the order of
     ``system.unknowns``) with one method of SYSTEM_METHODS.
 
@@ -88,6 +90,13 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
     equations' units; default 0: off), ``max_iter`` (iterations per block; default 100).
     Never raises because of what F returns: a singular Jacobian, no solution, a domain
     error are the run's ``reason``. Raises ValueError for a bad method, start or setting.
+
+    ``progress(fraction)`` (0..1) is called at the start of each iteration: the blocks
+    done plus this block's iterations over ``max_iter`` (an upper bound: a solve that
+    converges early jumps to 1 at the end). ``cancel()`` is polled before each iteration,
+    on every line-search trial and every difference-Jacobian column; when it returns True
+    the solve stops there and raises :class:`SystemCancelled` (no run is returned, so
+    nothing of a cancelled solve is ever called converged).
     """
     spec = SYSTEM_METHODS.get(method)
     if spec is None:
@@ -107,6 +116,17 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
     reason = X_TOLERANCE
     iterations = 0
     symbolic = system.jacobian_kind == "symbolic"
+    shown = [-1.0]
+
+    def poll(k: int, b: int) -> None:
+        if cancel is not None and cancel():
+            raise SystemCancelled(iterations + k)
+        if progress is not None:
+            fraction = min(1.0, (b + min(k, cap) / cap) / len(blocks))
+            if fraction > shown[0]:  # once per iteration, not per F call
+                shown[0] = fraction
+                progress(fraction)
+
     for b, (eqs, idx) in enumerate(blocks):
         rows, cols = list(eqs), list(idx)
 
@@ -139,13 +159,17 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
         uses_j = spec.uses_jacobian and symbolic
         if len(blocks) == 1:  # the whole system as it is: no copies, no index gathering
             F, J = system.F, system.J  # type: ignore[assignment]
-        problem = iterate.Problem(F, J if uses_j else None, record, counter)
+        problem = iterate.Problem(F, J if uses_j else None, record, counter,
+                                  lambda k, b=b: poll(k, b))
+        problem.tick(0)
         outcome = spec.iterate(problem, x[cols], xtol=xt, rtol=rt, ftol=ft, max_iter=cap)
         x[cols] = outcome.x
         iterations += outcome.iterations
         reason = outcome.reason
         if reason not in CONVERGED_REASONS:
             break
+    if progress is not None:
+        progress(1.0)
     residuals = system.F(x)
     return SystemRun(
         method=method, unknowns=system.unknowns,
