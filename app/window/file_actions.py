@@ -100,7 +100,9 @@ class FileActions(QObject):
                                 "The worksheet on screen is unchanged.")
             return False
         if ws.system is not None:  # several unknowns: the system window shows it
-            self.window.open_system(ws)
+            self.window.open_system(ws, None if as_copy else path)
+            if not as_copy:
+                self.add_recent(path)
             self._status(f"Opened {path.name} in the system window", 5000)
             return True
         self.window.load_worksheet(ws, None if as_copy else path)
@@ -319,27 +321,43 @@ class FileActions(QObject):
         return False
 
     def offer_recovery(self) -> bool:
-        """Offer the newest worksheet an earlier session left unsaved; True if restored."""
+        """Offer the newest worksheet an earlier session left unsaved, and the newest system
+        worksheet (it reopens in the system window); True if anything was restored."""
         window = self.window
         left = window.recovery.left_behind()
         if window.recovery.unreadable:  # never dropped silently: say where the copy is kept
             path, why = window.recovery.unreadable[0]
             window.last_error = f"A recovery copy could not be read and was kept: {path} ({why})"
             self._status(window.last_error, 15000)
-        if not left:
-            return False
-        item: Recovered = left[0]
+        newest: dict[bool, Recovered] = {}
+        for item in left:  # newest first: the first of each kind
+            newest.setdefault(item.worksheet.system is not None, item)
+        restored = False
+        for item in newest.values():
+            restored = self._offer(item) or restored
+        return restored
+
+    def _offer(self, item: Recovered) -> bool:
+        window = self.window
         when = time.strftime("%Y-%m-%d %H:%M", time.localtime(item.saved_at))
         where = f" (from {item.origin})" if item.origin else ""
+        what = "system of equations" if item.worksheet.system is not None else "worksheet"
         answer = QMessageBox.question(
             window, "Recover unsaved work?",
-            f"A worksheet with unsaved changes was kept from {when}{where}:\n\n"
+            f"A {what} with unsaved changes was kept from {when}{where}:\n\n"
             f"{item.worksheet.title or item.worksheet.equation[:80]}\n\nOpen it now? "
             "(No discards the recovery copy.)", Button.Yes | Button.No, Button.Yes)
         if answer != Button.Yes:
             item.discard()
             return False
         origin = Path(item.origin) if item.origin else None
+        if item.worksheet.system is not None:
+            system_window = window.open_system()
+            system_window.load_worksheet(item.worksheet, origin, modified=True)
+            item.discard()
+            system_window.autosave_now()
+            system_window.status.setText("Recovered unsaved work: save it to keep it.")
+            return True
         window.load_worksheet(item.worksheet, origin, modified=True)
         item.discard()
         self.autosave_now()

@@ -180,6 +180,19 @@ class MethodLane(QFrame):
         self.summary.setToolTip(f"root = {words.exact(run.root)}\n{words.run_message(run)}")
 
 
+def digits_box() -> tuple[QLabel, QSpinBox]:
+    """The significant-figures control (its label and spin box) of every window's tables."""
+    box = QSpinBox()
+    box.setObjectName("digitsBox")
+    box.setRange(3, 17)
+    box.setValue(DEFAULT_DIGITS)
+    box.setToolTip("Significant figures shown in the tables (copies are always "
+                   "full precision)")
+    label = QLabel("Si&gnificant figures")
+    label.setBuddy(box)
+    return label, box
+
+
 class LanesPanel(QWidget):
     """The lanes side by side, the agreement note and the significant-figures control."""
 
@@ -193,14 +206,7 @@ class LanesPanel(QWidget):
         self.agreement.setObjectName("agreementNote")
         self.agreement.setWordWrap(True)
         fix_lines(self.agreement, 3)  # agreement, failures and start-value notes
-        self.digits = QSpinBox()
-        self.digits.setObjectName("digitsBox")
-        self.digits.setRange(3, 17)
-        self.digits.setValue(DEFAULT_DIGITS)
-        self.digits.setToolTip("Significant figures shown in the tables (copies are always "
-                               "full precision)")
-        digits_label = QLabel("Si&gnificant figures")
-        digits_label.setBuddy(self.digits)
+        digits_label, self.digits = digits_box()
         head = QHBoxLayout()
         head.addWidget(self.agreement, 1)
         head.addWidget(digits_label)

@@ -472,14 +472,16 @@ class MainWindow(QMainWindow):
     def open_file(self) -> bool:
         return self.files.open_file()
 
-    def open_system(self, ws: Any = None) -> Any:
-        """The system window (one per main window), showing ``ws`` when given."""
+    def open_system(self, ws: Any = None, path: Path | None = None) -> Any:
+        """The system window (one per main window), showing ``ws`` (opened from ``path``)
+        when given and the window's unsaved changes may be dropped (it asks)."""
         from app.window.system_view import SystemWindow
 
         if getattr(self, "system_window", None) is None:
-            self.system_window = SystemWindow(self.runner)
-        if ws is not None:
-            self.system_window.load_worksheet(ws)
+            self.system_window = SystemWindow(self.runner, recovery=self.recovery.companion(
+                "system"), files=self.files)
+        if ws is not None and self.system_window.maybe_save():
+            self.system_window.load_worksheet(ws, path)
         self.system_window.show()
         self.system_window.raise_()
         return self.system_window

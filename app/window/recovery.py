@@ -4,8 +4,11 @@ The recovery folder is ``$ZEROTRACE_RECOVERY_DIR`` when set (tests point it at a
 temporary folder), else ``<AppDataLocation>/recovery``. Each window writes
 ``unsaved-<session>.json`` (a normal worksheet, saved atomically, so a crash mid-write
 leaves the previous copy) and ``unsaved-<session>.meta.json`` (where the worksheet came
-from and when). A clean close removes both; files left behind by a session that ended
-without closing cleanly are offered at the next start.
+from and when). Another window of the same session (the system window) keeps its own
+copy beside it, ``unsaved-<session>-<tag>.json``, through :meth:`RecoveryStore.companion`.
+A clean close removes both; files left behind by a session that ended without closing
+cleanly are offered at the next start (a worksheet that holds a system reopens in the
+system window).
 """
 
 from __future__ import annotations
@@ -61,12 +64,23 @@ def _meta_path(path: Path) -> Path:
 class RecoveryStore:
     """This window's recovery file, and the ones earlier sessions left behind."""
 
-    def __init__(self, folder: Path | None = None) -> None:
+    def __init__(self, folder: Path | None = None, *, session: str | None = None,
+                 tag: str = "") -> None:
         self.folder = folder if folder is not None else recovery_dir()
-        self.session = f"{os.getpid()}-{uuid.uuid4().hex[:8]}"
-        self.path = self.folder / f"{PREFIX}{self.session}.json"
+        self.session = session or f"{os.getpid()}-{uuid.uuid4().hex[:8]}"
+        self.path = self.folder / f"{PREFIX}{self.session}{'-' + tag if tag else ''}.json"
         self.last_error = ""
         self.unreadable: list[tuple[Path, str]] = []  # filled by left_behind()
+
+    def companion(self, tag: str) -> RecoveryStore:
+        """A store for another window of this session, in the same folder: its copy is
+        ``unsaved-<session>-<tag>.json``, never offered to this session."""
+        return RecoveryStore(self.folder, session=self.session, tag=tag)
+
+    def _ours(self, path: Path) -> bool:
+        """A copy of this session (this window's or a companion's): not left behind."""
+        return path == self.path or path.name.startswith(f"{PREFIX}{self.session}-") \
+            or path.name == f"{PREFIX}{self.session}.json"
 
     def write(self, ws: Worksheet, origin: str | None) -> bool:
         """Save the recovery copy; False (with ``last_error``) if the folder is unusable."""
@@ -106,7 +120,7 @@ class RecoveryStore:
         except OSError:
             return []
         for path in candidates:
-            if path.name.endswith(".meta.json") or path == self.path:
+            if path.name.endswith(".meta.json") or self._ours(path):
                 continue
             try:
                 ws = worksheet.load(path)

@@ -8,24 +8,33 @@ then one lane per method (its summary over its iteration table: k, block, every 
 iterate, :mod:`app.documents.system_figures`). The text is read in the "system-preview" lane and
 solved in the "system-solve" lane of the window's job runner (:mod:`app.window.workers`),
 never on the UI thread; every word comes from :mod:`app.documents.words`.
+
+Files: Open…, Save (Ctrl+S: to the file opened or last saved), Save as…, and Recent (the
+main window's one list of recent files). Unsaved work is autosaved by the main window's
+recovery mechanism (:mod:`app.window.recovery`, a companion copy of the same session) and
+offered again at the next start after a crash. The significant-figures box is the main
+window's control (:func:`app.window.lanes.digits_box`).
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, QTimer
+from PySide6.QtCore import Qt, QTimer
 from PySide6.QtWidgets import (
     QCheckBox,
     QHBoxLayout,
     QLabel,
     QLineEdit,
+    QMenu,
     QPlainTextEdit,
     QPushButton,
     QSplitter,
     QTabWidget,
+    QToolButton,
     QVBoxLayout,
     QWidget,
 )
@@ -34,143 +43,16 @@ from app.documents import words
 from app.documents.system_figures import draw_system_convergence
 from app.documents.worksheet import MAX_EQUATION, Parameter, StartValue, SystemSpec, Worksheet
 from app.window.figure_view import FigureView
-from app.window.models import ParametersModel, format_number, number_font, parse_number
+from app.window.lanes import digits_box
+from app.window.models import ParametersModel, number_font
+from app.window.recovery import RecoveryStore
+from app.window.system_models import SystemRunModel, UnknownsModel
 from app.window.views import CopyTableView
 from app.window.workers import Cancelled, JobRunner
 
-Index = QModelIndex | QPersistentModelIndex
 DEBOUNCE_MS = 250
+AUTOSAVE_MS = 20_000  # as often as the main window autosaves
 SYSTEM_METHOD_NAMES = tuple(words.SYSTEM_METHOD_TITLES)
-
-
-@dataclass
-class StartRow:
-    name: str
-    text: str = "1.0"
-
-    @property
-    def value(self) -> float | None:
-        return parse_number(self.text)
-
-
-class UnknownsModel(QAbstractTableModel):
-    """The unknowns in the order of x, with an editable start value each (remembered by
-    name while the equations are edited)."""
-
-    COLUMNS = ("unknown", "start value")
-
-    def __init__(self, parent: Any = None) -> None:
-        super().__init__(parent)
-        self._rows: list[StartRow] = []
-        self._memory: dict[str, StartRow] = {}
-        self._font = number_font()
-
-    def set_names(self, names: Sequence[str]) -> None:
-        names = list(dict.fromkeys(names))
-        if names == [r.name for r in self._rows]:
-            return
-        self.beginResetModel()
-        self._rows = [self._memory.setdefault(n, StartRow(n)) for n in names]
-        self.endResetModel()
-
-    def load(self, starts: Sequence[StartValue]) -> None:
-        self.beginResetModel()
-        self._memory = {s.name: StartRow(s.name, repr(float(s.x0))) for s in starts}
-        self._rows = list(self._memory.values())
-        self.endResetModel()
-
-    def starts(self) -> dict[str, float | None]:
-        return {r.name: r.value for r in self._rows}
-
-    def names(self) -> list[str]:
-        return [r.name for r in self._rows]
-
-    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008 (Qt signature)
-        return 0 if parent.isValid() else len(self._rows)
-
-    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
-        return 0 if parent.isValid() else 2
-
-    def headerData(self, section: int, orientation: Qt.Orientation,
-                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
-            return self.COLUMNS[section]
-        return None
-
-    def flags(self, index: Index) -> Qt.ItemFlag:
-        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
-        return base | Qt.ItemFlag.ItemIsEditable if index.column() == 1 else base
-
-    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid():
-            return None
-        row = self._rows[index.row()]
-        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
-            return (row.name, row.text)[index.column()]
-        if role == Qt.ItemDataRole.FontRole:
-            return self._font
-        if role == Qt.ItemDataRole.ToolTipRole and index.column() == 1 and row.value is None:
-            return f"{row.name}: {row.text.strip()!r} is not a finite number"
-        return None
-
-    def setData(self, index: Index, value: Any, role: int = Qt.ItemDataRole.EditRole) -> bool:
-        if not index.isValid() or index.column() != 1 or role != Qt.ItemDataRole.EditRole:
-            return False
-        self._rows[index.row()].text = "" if value is None else str(value)
-        self.dataChanged.emit(index, index)
-        return True
-
-
-class SystemRunModel(QAbstractTableModel):
-    """Every iterate of one system run: k, block, each unknown, ||F||, step length, damping."""
-
-    def __init__(self, parent: Any = None) -> None:
-        super().__init__(parent)
-        self.run: Any = None
-        self._unknowns: tuple[str, ...] = ()
-        self._font = number_font()
-
-    def set_run(self, run: Any) -> None:
-        self.beginResetModel()
-        self.run = run
-        self._unknowns = tuple(run.unknowns) if run is not None else ()
-        self.endResetModel()
-
-    def headers(self) -> list[str]:
-        return ["k", "block", *self._unknowns, "||F||", "step length", "damping"]
-
-    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
-        return 0 if parent.isValid() or self.run is None else len(self.run.steps)
-
-    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
-        return 0 if parent.isValid() else len(self.headers())
-
-    def headerData(self, section: int, orientation: Qt.Orientation,
-                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
-            return self.headers()[section]
-        return None
-
-    def raw(self, row: int, column: int) -> Any:
-        s = self.run.steps[row]
-        values = [s.k, s.block + 1, *s.x.values(), s.residual_norm, s.step_norm, s.damping]
-        return values[column]
-
-    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid() or self.run is None:
-            return None
-        value = self.raw(index.row(), index.column())
-        if role == Qt.ItemDataRole.DisplayRole:
-            return str(value) if isinstance(value, int) else format_number(value)
-        if role == Qt.ItemDataRole.ToolTipRole and isinstance(value, float):
-            return repr(value)
-        if role == Qt.ItemDataRole.UserRole:  # full precision for copying (views.table_text)
-            return value
-        if role == Qt.ItemDataRole.FontRole:
-            return self._font
-        if role == Qt.ItemDataRole.TextAlignmentRole:
-            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-        return None
 
 
 @dataclass(frozen=True)
@@ -211,8 +93,10 @@ def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, float],
                starts: dict[str, float], methods: Sequence[str], settings: Any,
                progress: Any = None, cancelled: Any = None) -> Any:
     """Parse and solve (in a worker): the SystemSolution of a worksheet built from the fields.
-    ``progress(fraction)`` after the parse and after each method; ``cancelled()`` is polled
-    between them (a cancel raises :class:`app.window.workers.Cancelled`)."""
+    ``progress(fraction)`` runs across the methods (each method's share from inside its
+    solve); ``cancelled()`` is polled inside every solve, each iteration and line-search
+    trial (a cancel raises :class:`solvers.SystemCancelled`, which the runner reports as
+    cancelled)."""
     from solvers.systems import solve_system
     from solvers.systems.pipeline import SystemSolution, system_of
 
@@ -221,26 +105,38 @@ def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, float],
                                                    for n, v in parameters.items()),
                    settings=settings, system=spec)
     system = system_of(ws)
+    share = 1.0 / (len(methods) + 1)  # the parse counts as one share
     runs = []
     for i, method in enumerate(methods):
-        if progress is not None:
-            progress(i / (len(methods) + 1) + 1 / (len(methods) + 1))
         if cancelled is not None and cancelled():
             raise Cancelled()
+
+        def within(f: float, i: int = i) -> None:
+            if progress is not None:
+                progress(share * (1 + i + f))
+
         runs.append(solve_system(system, ws.system.start(), method=method, xtol=settings.xtol,
                                  rtol=settings.rtol, ftol=settings.ftol,
-                                 max_iter=settings.max_iter))
+                                 max_iter=settings.max_iter, progress=within,
+                                 cancel=cancelled))
     return SystemSolution(ws, system, tuple(runs))
 
 
 class SystemWindow(QWidget):
     """The system window (see the module docstring)."""
 
-    def __init__(self, jobs: JobRunner | None = None, parent: QWidget | None = None) -> None:
+    def __init__(self, jobs: JobRunner | None = None, parent: QWidget | None = None, *,
+                 recovery: RecoveryStore | None = None, files: Any = None) -> None:
+        """``recovery``: where unsaved work is autosaved (the main window passes a companion
+        of its own store); ``files``: the main window's file actions (recent files, and
+        opening a worksheet of one equation there). Both optional for a window alone."""
         super().__init__(parent, Qt.WindowType.Window)
         self.setWindowTitle("zerotrace — system of equations")
         self.jobs = jobs or JobRunner(self)
         self._own_jobs = jobs is None
+        self.recovery = recovery if recovery is not None else RecoveryStore()
+        self.files = files
+        self.path: Path | None = None  # the file opened or last saved (Save writes there)
         self.settings = Worksheet(equation="x").settings
         self.title = ""
         self.solution: Any = None
@@ -280,12 +176,40 @@ class SystemWindow(QWidget):
         self.cancel_button.setObjectName("systemCancel")
         self.cancel_button.setEnabled(False)
         self.cancel_button.clicked.connect(lambda: self.jobs.cancel("system-solve"))
+        self.open_button = QPushButton("&Open…")
+        self.open_button.setObjectName("systemOpen")
+        self.open_button.setToolTip("Open a system worksheet (Ctrl+O)")
+        self.open_button.setShortcut("Ctrl+O")
+        self.open_button.clicked.connect(self.open_file)
+        self.recent_menu = QMenu(self)
+        self.recent_menu.aboutToShow.connect(self.fill_recent)
+        self.recent_button = QToolButton()
+        self.recent_button.setObjectName("systemRecent")
+        self.recent_button.setText("&Recent")
+        self.recent_button.setToolTip("Worksheets opened or saved lately (the main window's "
+                                      "list)")
+        self.recent_button.setPopupMode(QToolButton.ToolButtonPopupMode.InstantPopup)
+        self.recent_button.setMenu(self.recent_menu)
+        self.recent_button.setEnabled(files is not None)
+        self.quick_save_button = QPushButton("Sa&ve")
+        self.quick_save_button.setObjectName("systemQuickSave")
+        self.quick_save_button.setToolTip("Save to the file opened or last saved (Ctrl+S); "
+                                          "asks where the first time")
+        self.quick_save_button.setShortcut("Ctrl+S")
+        self.quick_save_button.clicked.connect(self.save)
         self.save_button = QPushButton("Save &as…")
         self.save_button.setObjectName("systemSave")
         self.save_button.setToolTip("Save the equations, parameters, start values and methods "
                                     "as a worksheet")
         self.save_button.clicked.connect(self.save_as)
+        digits_label, self.digits = digits_box()
+        self.digits.valueChanged.connect(self._on_digits)
         methods_row.addStretch(1)
+        methods_row.addWidget(digits_label)
+        methods_row.addWidget(self.digits)
+        methods_row.addWidget(self.open_button)
+        methods_row.addWidget(self.recent_button)
+        methods_row.addWidget(self.quick_save_button)
         methods_row.addWidget(self.save_button)
         methods_row.addWidget(self.solve_button)
         methods_row.addWidget(self.cancel_button)
@@ -337,6 +261,16 @@ class SystemWindow(QWidget):
         self._saved = self.worksheet()  # what Save wrote or the worksheet opened
         self.parameters.edited.connect(self._timer.start)
         self.unknown_names.textChanged.connect(lambda _t: self._timer.start())
+        self._autosave = QTimer(self)
+        self._autosave.setInterval(AUTOSAVE_MS)
+        self._autosave.timeout.connect(self.autosave_now)
+        self._autosave.start()
+
+    def _on_digits(self, digits: int) -> None:
+        for model in self.lane_models.values():
+            model.set_digits(digits)
+        if self.solution is not None:
+            self.status.setText(self._roots_text(self.solution))
 
     # -- reading the text
     def _text_changed(self) -> None:
@@ -424,6 +358,7 @@ class SystemWindow(QWidget):
             summary = QLabel(words.system_run_message(run))
             summary.setWordWrap(True)
             model = SystemRunModel(self)
+            model.set_digits(self.digits.value())
             model.set_run(run)
             view = CopyTableView()
             view.setModel(model)
@@ -437,11 +372,15 @@ class SystemWindow(QWidget):
         ax = self.convergence.new_axes()
         draw_system_convergence(ax, list(solution.runs))
         self.convergence.redraw()
-        self.status.setText("; ".join(
+        self.status.setText(self._roots_text(solution))
+
+    def _roots_text(self, solution: Any) -> str:
+        digits = self.digits.value()
+        return "; ".join(
             f"{words.system_method_title(r.method)}: "
-            + ", ".join(f"{n} = {words.number(v)}" for n, v in r.root.items())
+            + ", ".join(f"{n} = {words.number(v, digits)}" for n, v in r.root.items())
             + ("" if r.converged else f" — did not converge ({r.reason})")
-            for r in solution.runs))
+            for r in solution.runs)
 
     # -- worksheets
     def worksheet(self) -> Worksheet:
@@ -459,39 +398,137 @@ class SystemWindow(QWidget):
                          settings=self.settings, title=title,
                          system=spec if spec.unknowns else None)
 
+    def save(self) -> bool:
+        """Save to the file opened or last saved; ask where when there is none."""
+        return self.write(self.path) if self.path is not None else self.save_as()
+
     def save_as(self) -> bool:
         """Ask for a file and write the worksheet there (atomically); say why not if it fails."""
-        from PySide6.QtWidgets import QFileDialog, QMessageBox
+        from PySide6.QtWidgets import QFileDialog
 
-        from app.documents.worksheet import save
-
-        name, _ = QFileDialog.getSaveFileName(self, "Save system worksheet", "system.json",
+        start = str(self.path) if self.path is not None else "system.json"
+        name, _ = QFileDialog.getSaveFileName(self, "Save system worksheet", start,
                                               "zerotrace worksheets (*.json);;All files (*)")
         if not name:
             return False
+        path = Path(name)
+        return self.write(path if path.suffix else path.with_suffix(".json"))
+
+    def write(self, path: Path) -> bool:
+        """Write the worksheet to ``path``; on failure one line in the status and a warning
+        (nothing on screen is lost)."""
+        from PySide6.QtWidgets import QMessageBox
+
+        from app.documents.worksheet import save
+        from app.window.file_actions import write_problem
+
         ws = self.worksheet()
         if ws.system is None or not ws.equation.strip():
             self.status.setText("nothing to save yet: type the equations first")
             return False
         try:
-            save(ws, name)
+            save(ws, path)
         except (OSError, ValueError) as exc:
-            why = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+            why = write_problem(path, exc)
             self.status.setText(f"not saved: {why}")
             QMessageBox.warning(self, "Cannot save worksheet",
-                                f"{name} was not written:\n{why}\n\nNothing on screen was lost.")
+                                f"{path} was not written:\n{why}\n\nNothing on screen was lost.")
             return False
-        self.status.setText(f"saved {name}")
+        self.status.setText(f"saved {path}")
         self._saved = ws
+        self.path = path
+        self.recovery.clear()
+        if self.files is not None:
+            self.files.add_recent(path)
         return True
+
+    def open_file(self) -> bool:
+        """Ask for a worksheet and open it (a system here; one equation in the main window)."""
+        from PySide6.QtWidgets import QFileDialog
+
+        start = str(self.path.parent) if self.path is not None else str(Path.home())
+        name, _ = QFileDialog.getOpenFileName(self, "Open system worksheet", start,
+                                              "zerotrace worksheets (*.json);;All files (*)")
+        return self.open_path(name) if name else False
+
+    def open_path(self, path: str | Path) -> bool:
+        """Open a worksheet file; a file that cannot be read is said in one line and the
+        system on screen stays as it was."""
+        from PySide6.QtWidgets import QMessageBox
+
+        from app.documents.worksheet import WorksheetError, load
+
+        path = Path(path)
+        try:
+            ws = load(path)
+        except WorksheetError as exc:  # load says what is wrong in one line
+            why = str(exc).splitlines()[0] if str(exc) else "cannot be read"
+            self.status.setText(f"{path.name} was not opened: {why}")
+            QMessageBox.warning(self, "Cannot open worksheet",
+                                f"{path.name} was not opened:\n{why}\n\n"
+                                "The system on screen is unchanged.")
+            return False
+        if ws.system is None:  # one equation: the main window's job (it asks about its own)
+            if self.files is not None:
+                return bool(self.files.open_path(path))
+            self.status.setText(f"{path.name} holds one equation, not a system: open it "
+                                "in the main window")
+            return False
+        if not self.maybe_save():
+            return False
+        self.load_worksheet(ws, path)
+        if self.files is not None:
+            self.files.add_recent(path)
+        self.status.setText(f"opened {path.name}")
+        return True
+
+    def fill_recent(self) -> None:
+        """The main window's recent files, each opened from here."""
+        self.recent_menu.clear()
+        recent = self.files.recent_files() if self.files is not None else []
+        for i, p in enumerate(recent):
+            action = self.recent_menu.addAction(f"&{i + 1} {Path(p).name}")
+            action.setToolTip(p)
+            action.triggered.connect(lambda _c=False, p=p: self.open_path(p))
+        if not recent:
+            self.recent_menu.addAction("(no recent files)").setEnabled(False)
+
+    def autosave_now(self) -> bool:
+        """Write the recovery copy while there are unsaved changes (removed once saved)."""
+        if self.modified and self.editor.toPlainText().strip():
+            ok = self.recovery.write(self.worksheet(), str(self.path) if self.path else None)
+            if not ok:
+                self.status.setText(self.recovery.last_error)
+            return ok
+        self.recovery.clear()
+        return False
+
+    def maybe_save(self) -> bool:
+        """Ask about unsaved changes (Save, Discard, Cancel); True when they may be dropped."""
+        if not (self.modified and self.editor.toPlainText().strip()):
+            return True
+        from PySide6.QtWidgets import QMessageBox
+
+        buttons = (QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
+                   | QMessageBox.StandardButton.Cancel)
+        answer = QMessageBox.question(self, "Unsaved system",
+                                      "The system of equations has changes that are not "
+                                      "saved. Save them?", buttons)
+        if answer == QMessageBox.StandardButton.Save:
+            return self.save()
+        return answer == QMessageBox.StandardButton.Discard
 
     @property
     def modified(self) -> bool:
         """Whether the system on screen differs from the one opened or last saved."""
         return self.worksheet() != self._saved
 
-    def load_worksheet(self, ws: Worksheet) -> None:
-        """Show a worksheet that holds a system (its text, parameters, start values)."""
+    def load_worksheet(self, ws: Worksheet, path: Path | None = None, *,
+                       modified: bool = False) -> None:
+        """Show a worksheet that holds a system (its text, parameters, start values).
+        ``path``: where it came from (Save writes there); ``modified``: it is not saved
+        there yet (recovered work)."""
+        self.path = path
         self.settings = ws.settings
         self.title = ws.title
         self.parameters.load(ws.parameters)
@@ -503,21 +540,14 @@ class SystemWindow(QWidget):
         self.editor.setPlainText(ws.equation)
         if ws.title:
             self.setWindowTitle(f"zerotrace — {ws.title}")
-        self._saved = self.worksheet()
+        self._saved = Worksheet(equation="") if modified else self.worksheet()
 
     def closeEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
-        if self.modified and self.editor.toPlainText().strip():
-            from PySide6.QtWidgets import QMessageBox
-
-            buttons = (QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Discard
-                       | QMessageBox.StandardButton.Cancel)
-            answer = QMessageBox.question(self, "Unsaved system",
-                                          "The system of equations has changes that are not "
-                                          "saved. Save them?", buttons)
-            if answer == QMessageBox.StandardButton.Cancel or (
-                    answer == QMessageBox.StandardButton.Save and not self.save_as()):
-                event.ignore()
-                return
+        if not self.maybe_save():
+            event.ignore()
+            return
+        self._autosave.stop()
+        self.recovery.clear()  # saved or discarded on purpose: nothing to recover
         if self._own_jobs:
             self.jobs.stop()
         super().closeEvent(event)

@@ -1,0 +1,153 @@
+"""The system window's tables: the unknowns with their start values, and one method's
+iterates (Qt models; numbers formatted by :func:`app.window.models.format_number`)."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
+
+from app.documents import words
+from app.documents.worksheet import StartValue
+from app.window.models import DEFAULT_DIGITS, format_number, number_font, parse_number
+
+Index = QModelIndex | QPersistentModelIndex
+
+
+@dataclass
+class StartRow:
+    name: str
+    text: str = "1.0"
+
+    @property
+    def value(self) -> float | None:
+        return parse_number(self.text)
+
+
+class UnknownsModel(QAbstractTableModel):
+    """The unknowns in the order of x, with an editable start value each (remembered by
+    name while the equations are edited)."""
+
+    COLUMNS = ("unknown", "start value")
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._rows: list[StartRow] = []
+        self._memory: dict[str, StartRow] = {}
+        self._font = number_font()
+
+    def set_names(self, names: Sequence[str]) -> None:
+        names = list(dict.fromkeys(names))
+        if names == [r.name for r in self._rows]:
+            return
+        self.beginResetModel()
+        self._rows = [self._memory.setdefault(n, StartRow(n)) for n in names]
+        self.endResetModel()
+
+    def load(self, starts: Sequence[StartValue]) -> None:
+        self.beginResetModel()
+        self._memory = {s.name: StartRow(s.name, repr(float(s.x0))) for s in starts}
+        self._rows = list(self._memory.values())
+        self.endResetModel()
+
+    def starts(self) -> dict[str, float | None]:
+        return {r.name: r.value for r in self._rows}
+
+    def names(self) -> list[str]:
+        return [r.name for r in self._rows]
+
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008 (Qt signature)
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else 2
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
+            return self.COLUMNS[section]
+        return None
+
+    def flags(self, index: Index) -> Qt.ItemFlag:
+        base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
+        return base | Qt.ItemFlag.ItemIsEditable if index.column() == 1 else base
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid():
+            return None
+        row = self._rows[index.row()]
+        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
+            return (row.name, row.text)[index.column()]
+        if role == Qt.ItemDataRole.FontRole:
+            return self._font
+        if role == Qt.ItemDataRole.ToolTipRole and index.column() == 1 and row.value is None:
+            return f"{row.name}: {row.text.strip()!r} is not a finite number"
+        return None
+
+    def setData(self, index: Index, value: Any, role: int = Qt.ItemDataRole.EditRole) -> bool:
+        if not index.isValid() or index.column() != 1 or role != Qt.ItemDataRole.EditRole:
+            return False
+        self._rows[index.row()].text = "" if value is None else str(value)
+        self.dataChanged.emit(index, index)
+        return True
+
+
+class SystemRunModel(QAbstractTableModel):
+    """Every iterate of one system run: k, block, each unknown, ||F||, step length, damping."""
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self.run: Any = None
+        self._unknowns: tuple[str, ...] = ()
+        self._font = number_font()
+        self._digits = DEFAULT_DIGITS
+
+    def set_digits(self, digits: int) -> None:
+        self._digits = int(digits)
+        if self.rowCount():
+            self.dataChanged.emit(self.index(0, 0),
+                                  self.index(self.rowCount() - 1, self.columnCount() - 1))
+
+    def set_run(self, run: Any) -> None:
+        self.beginResetModel()
+        self.run = run
+        self._unknowns = tuple(run.unknowns) if run is not None else ()
+        self.endResetModel()
+
+    def headers(self) -> list[str]:
+        return ["k", "block", *self._unknowns, "||F||", "step length", "damping"]
+
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() or self.run is None else len(self.run.steps)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(self.headers())
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
+            return self.headers()[section]
+        return None
+
+    def raw(self, row: int, column: int) -> Any:
+        s = self.run.steps[row]
+        values = [s.k, s.block + 1, *s.x.values(), s.residual_norm, s.step_norm, s.damping]
+        return values[column]
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid() or self.run is None:
+            return None
+        value = self.raw(index.row(), index.column())
+        if role == Qt.ItemDataRole.DisplayRole:
+            return str(value) if isinstance(value, int) else format_number(value, self._digits)
+        if role == Qt.ItemDataRole.ToolTipRole and isinstance(value, float):
+            return words.exact(value)
+        if role == Qt.ItemDataRole.UserRole:  # full precision for copying (views.table_text)
+            return value
+        if role == Qt.ItemDataRole.FontRole:
+            return self._font
+        if role == Qt.ItemDataRole.TextAlignmentRole:
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None
