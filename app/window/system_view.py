@@ -24,6 +24,7 @@ from pathlib import Path
 from typing import Any
 
 from PySide6.QtCore import Qt, QTimer
+from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
     QCheckBox,
     QHBoxLayout,
@@ -179,7 +180,6 @@ class SystemWindow(QWidget):
         self.open_button = QPushButton("&Open…")
         self.open_button.setObjectName("systemOpen")
         self.open_button.setToolTip("Open a system worksheet (Ctrl+O)")
-        self.open_button.setShortcut("Ctrl+O")
         self.open_button.clicked.connect(self.open_file)
         self.recent_menu = QMenu(self)
         self.recent_menu.aboutToShow.connect(self.fill_recent)
@@ -195,13 +195,19 @@ class SystemWindow(QWidget):
         self.quick_save_button.setObjectName("systemQuickSave")
         self.quick_save_button.setToolTip("Save to the file opened or last saved (Ctrl+S); "
                                           "asks where the first time")
-        self.quick_save_button.setShortcut("Ctrl+S")
         self.quick_save_button.clicked.connect(self.save)
         self.save_button = QPushButton("Save &as…")
         self.save_button.setObjectName("systemSave")
         self.save_button.setToolTip("Save the equations, parameters, start values and methods "
                                     "as a worksheet")
         self.save_button.clicked.connect(self.save_as)
+        for keys, slot in ((QKeySequence.StandardKey.Open, self.open_file),
+                           (QKeySequence.StandardKey.Save, self.save),
+                           (QKeySequence.StandardKey.SaveAs, self.save_as)):
+            action = QAction(self)  # the window's keys, as the main window's File menu
+            action.setShortcut(QKeySequence(keys))
+            action.triggered.connect(slot)
+            self.addAction(action)
         digits_label, self.digits = digits_box()
         self.digits.valueChanged.connect(self._on_digits)
         methods_row.addStretch(1)

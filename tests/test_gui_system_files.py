@@ -1,0 +1,257 @@
+"""The system window's files, recovery, significant figures and cancel, driven as a user
+would (pytest-qt, offscreen; every modal dialog scripted by gui_helpers).
+
+References: x + y = 3, x - y = 1 gives x = 2, y = 1 (by hand); the pump sample's runs
+against solve_system called directly on the same worksheet (the core, outside the window).
+"""
+
+from __future__ import annotations
+
+import threading
+
+import pytest
+from PySide6.QtCore import Qt, QTimer
+from PySide6.QtTest import QTest
+from PySide6.QtWidgets import QApplication, QMessageBox
+
+from app.documents import worksheet
+from app.window.recovery import RecoveryStore
+from solvers.systems.pipeline import solve_worksheet
+
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import SAMPLES  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)
+
+Button = QMessageBox.StandardButton
+PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
+
+
+def _open_system_window(qtbot, window):
+    window.activateWindow()
+    qtbot.waitUntil(window.isActiveWindow, timeout=5000)
+    QTest.keyClick(window, Qt.Key.Key_Y,
+                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
+    qtbot.waitUntil(lambda: getattr(window, "system_window", None) is not None
+                    and window.system_window.isVisible(), timeout=5000)
+    sw = window.system_window
+    qtbot.waitExposed(sw)
+    return sw
+
+
+def _type_system(qtbot, sw, text: str, names: list[str]) -> None:
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, text)
+    qtbot.waitUntil(lambda: sw.unknowns.names() == names, timeout=10_000)
+
+
+def _solve(qtbot, sw):
+    before = sw.solution
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: sw.solution is not None and sw.solution is not before
+                    and not sw.jobs.is_busy("system-solve"), timeout=20_000)
+    return sw.solution
+
+
+def _abandon(w) -> None:
+    """The session ends without closing (a crash): no close event, no clean-up."""
+    w.runner.stop()
+    w._autosave.stop()
+    if getattr(w, "system_window", None) is not None:
+        w.system_window._autosave.stop()
+
+
+def test_unsaved_system_work_is_offered_at_the_next_start(qtbot, isolated, dialogs):
+    from app.window import MainWindow
+
+    folder = isolated / "recovery"
+    first = MainWindow(recovery=RecoveryStore(folder))
+    qtbot.addWidget(first)
+    first.show()
+    qtbot.waitExposed(first)
+    sw = _open_system_window(qtbot, first)
+    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    assert sw.modified
+    assert sw.autosave_now()  # what its autosave timer does every 20 s
+    copies = [p.name for p in folder.glob("unsaved-*.json") if ".meta." not in p.name]
+    assert copies == [sw.recovery.path.name] and copies[0].endswith("-system.json")
+    # the same session never offers its own system copy to itself
+    assert first.recovery.left_behind() == []
+    _abandon(first)
+
+    second = MainWindow(recovery=RecoveryStore(folder))
+    qtbot.addWidget(second)
+    second.show()
+    qtbot.waitExposed(second)
+    dialogs.question = Button.Yes
+    assert second.offer_recovery()
+    assert any("A system of equations with unsaved changes" in q
+               for q in dialogs.titles("question"))
+    restored = second.system_window
+    qtbot.waitUntil(lambda: restored.isVisible() and restored.unknowns.names() == ["x", "y"],
+                    timeout=10_000)
+    assert restored.editor.toPlainText() == "x + y = 3; x - y = 1"
+    assert restored.modified, "recovered work is unsaved until the user saves it"
+    assert not sw.recovery.exists(), "the offered copy is taken over by the new session"
+    assert restored.recovery.exists(), "and autosaved again by the new session"
+    solution = _solve(qtbot, restored)
+    assert solution.runs[0].root == pytest.approx({"x": 2.0, "y": 1.0})  # by hand
+
+    # declining discards the copy, so it is not offered again
+    _abandon(second)
+    dialogs.question = Button.No
+    third = MainWindow(recovery=RecoveryStore(folder))
+    qtbot.addWidget(third)
+    assert not third.offer_recovery()
+    assert not RecoveryStore(folder).left_behind()
+    for w in (first, second):
+        w.system_window._saved = w.system_window.worksheet()  # let the fixtures close them
+    third.runner.stop()
+
+
+def test_a_clean_close_leaves_no_recovery_copy(qtbot, window, dialogs):
+    sw = _open_system_window(qtbot, window)
+    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    assert sw.autosave_now() and sw.recovery.exists()
+    dialogs.question = Button.Discard
+    assert sw.close()
+    assert not sw.recovery.exists()
+
+
+def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_path):
+    sw = _open_system_window(qtbot, window)
+    _type_system(qtbot, sw, "x^2 + y^2 = 4; x*y = 1", ["x", "y"])
+    dialogs.save_name = str(tmp_path / "pair")  # no suffix: .json is added
+    sw.activateWindow()
+    qtbot.waitUntil(sw.isActiveWindow, timeout=5000)
+    QTest.keyClick(sw, Qt.Key.Key_S, Qt.KeyboardModifier.ControlModifier)
+    saved = tmp_path / "pair.json"
+    assert worksheet.load(saved).equation == "x^2 + y^2 = 4; x*y = 1"
+    assert not sw.modified and sw.path == saved
+    assert window.recent_files()[0] == str(saved)  # the main window's one list
+    # a second Ctrl+S writes there again without asking
+    sw.editor.setFocus()
+    QTest.keyClick(sw.editor, Qt.Key.Key_End, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClick(sw.editor, Qt.Key.Key_Return)
+    assert sw.modified
+    asked = len(dialogs.titles("save"))
+    QTest.keyClick(sw, Qt.Key.Key_S, Qt.KeyboardModifier.ControlModifier)
+    assert len(dialogs.titles("save")) == asked and not sw.modified
+
+    # open the pump sample, then come back to pair.json from Recent
+    dialogs.open_name = str(PUMP)
+    QTest.keyClick(sw, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["Q1", "Q2", "H"], timeout=10_000)
+    assert window.recent_files()[:2] == [str(PUMP), str(saved)]
+
+    def pick_second() -> None:
+        menu = QApplication.activePopupWidget()
+        assert menu is not None and [a.toolTip() for a in menu.actions()][:2] == \
+            [str(PUMP), str(saved)]
+        QTest.keyClick(menu, Qt.Key.Key_Down)
+        QTest.keyClick(menu, Qt.Key.Key_Down)
+        QTest.keyClick(menu, Qt.Key.Key_Return)
+
+    QTimer.singleShot(300, pick_second)
+    QTest.mouseClick(sw.recent_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    assert sw.path == saved
+
+    # significant figures: typed into the box, every cell follows; copies stay exact
+    for row, text in ((0, "2"), (1, "0.3")):
+        index = sw.unknowns.index(row, 1)
+        rect = sw.unknowns_view.visualRect(index)
+        QTest.mouseDClick(sw.unknowns_view.viewport(), Qt.MouseButton.LeftButton,
+                          pos=rect.center())
+        editor = sw.unknowns_view.focusWidget()
+        QTest.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+        QTest.keyClicks(editor, text)
+        QTest.keyClick(editor, Qt.Key.Key_Return)
+    solution = _solve(qtbot, sw)
+    model = sw.lane_models["newton"]
+    last = model.rowCount() - 1
+    x = solution.runs[0].root["x"]
+    sw.digits.setFocus()
+    QTest.keyClick(sw.digits, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(sw.digits, "4")
+    QTest.keyClick(sw.digits, Qt.Key.Key_Return)
+    assert sw.digits.value() == 4
+    assert model.index(last, 2).data() == f"{x:.4g}"
+    assert f"x = {x:.4g}" in sw.status.text()
+    QTest.keyClick(sw.digits, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(sw.digits, "12")
+    QTest.keyClick(sw.digits, Qt.Key.Key_Return)
+    assert model.index(last, 2).data() == f"{x:.12g}"
+    assert model.index(last, 2).data(Qt.ItemDataRole.UserRole) == x
+
+
+def test_a_bad_file_and_a_bad_equation_are_one_line(qtbot, window, dialogs, tmp_path):
+    sw = _open_system_window(qtbot, window)
+    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    bad = tmp_path / "broken.json"
+    bad.write_text('{"format": "zerotrace-worksheet", "version": 1, "equation": ')
+    dialogs.open_name = str(bad)
+    sw.activateWindow()
+    QTest.keyClick(sw, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
+    message = sw.status.text()
+    assert message.startswith("broken.json was not opened:") and "\n" not in message
+    assert "Traceback" not in message
+    assert any(t.startswith("Cannot open worksheet") for t in dialogs.titles("warning"))
+    assert sw.editor.toPlainText() == "x + y = 3; x - y = 1"  # nothing on screen lost
+    # a bad equation line: one line naming what is wrong, and Solve runs nothing
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "; x*y = = 2")
+    qtbot.waitUntil(lambda: sw.reading.error != "", timeout=10_000)
+    assert "\n" not in sw.status.text() and "Traceback" not in sw.status.text()
+    assert sw.status.text() == sw.reading.error
+
+
+def test_cancel_reaches_inside_a_long_solve_and_the_window_stays_live(qtbot, window,
+                                                                      monkeypatch):
+    # An expensive model stands in for a slow F: each evaluation of the pump sample's
+    # residuals takes 30 ms (the real F, then a pause), so one solve lasts seconds.
+    import solvers.systems.pipeline as pipeline
+
+    calls = {"n": 0}
+    parse = pipeline.parse_system
+    release = threading.Event()
+
+    def slow_parse(*args, **kwargs):
+        system = parse(*args, **kwargs)
+        real_f = system.F
+
+        def slow_f(x):
+            calls["n"] += 1
+            release.wait(0.03)
+            return real_f(x)
+
+        object.__setattr__(system, "F", slow_f)
+        return system
+
+    monkeypatch.setattr(pipeline, "parse_system", slow_parse)
+    ws = worksheet.load(PUMP)
+    reference = solve_worksheet(ws)  # the same core without the pause: the full cost
+    full_cost = sum(r.evaluations for r in reference.runs)
+    calls["n"] = 0
+    sw = _open_system_window(qtbot, window)
+    sw.load_worksheet(ws)
+    qtbot.waitUntil(lambda: "3 equations" in sw.status.text(), timeout=10_000)
+    calls["n"] = 0
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: calls["n"] >= 3, timeout=10_000)  # inside the first solve
+    # the window answers while the solve runs: a click toggles a method box at once
+    box = sw.method_boxes["broyden"]
+    was = box.isChecked()
+    QTest.mouseClick(box, Qt.MouseButton.LeftButton, pos=box.rect().center())
+    assert box.isChecked() != was
+    assert "solving" in sw.status.text()
+    QTest.mouseClick(sw.cancel_button, Qt.MouseButton.LeftButton)
+    at_cancel = calls["n"]
+    qtbot.waitUntil(lambda: not sw.jobs.is_busy("system-solve"), timeout=10_000)
+    assert sw.status.text() == "cancelled: nothing was solved"
+    assert sw.solution is None and not sw.cancel_button.isEnabled()
+    assert calls["n"] - at_cancel <= 2  # the evaluation under way, then the poll stopped it
+    assert calls["n"] < full_cost  # stopped inside the solve, long before its end
+    stopped = calls["n"]
+    qtbot.wait(300)  # nothing runs on in the background after the cancel
+    assert calls["n"] == stopped
