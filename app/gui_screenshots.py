@@ -6,7 +6,9 @@ Run under a real (virtual) display so fonts and the style are those a user sees:
 
 Writes solve.png (a sample after Solve), scan.png (a scan with roots and poles),
 convergence.png (the convergence view), methods.png (all six methods, start values
-seeded from the scan range) and error.png (an equation with a typo).
+seeded from the scan range), error.png (an equation with a typo), and from the system
+window system-<sample>.png (each sample of samples/systems solved) and system-error.png
+(a system with a bad line).
 Recovery files and settings go to a temporary folder, never the user's.
 """
 
@@ -94,12 +96,39 @@ def main(argv: list[str] | None = None) -> int:
     _spin(app, lambda: settled() and bool(w.analysis.error))
     w.grab().save(str(out / "error.png"))
 
+    _systems(app, w, out)
+
     w._saved_text = ""  # nothing to ask about: close without the unsaved-changes prompt
     w.setWindowModified(False)
     w.runner.stop()
     w.recovery.clear()
     print("\n".join(str(p) for p in sorted(out.glob("*.png"))))
     return 0
+
+
+def _systems(app, w, out: Path) -> None:
+    """Each system sample solved in the system window, and a bad line."""
+    import app as package
+
+    sw = w.open_system()
+    sw.resize(1280, 800)
+
+    def solved() -> bool:
+        return sw.solution is not None and not sw.jobs.is_busy("system-solve")
+
+    for path in sorted((package.samples_dir() / "systems").glob("*.json")):
+        sw._saved = sw.worksheet()  # a solve changes nothing to save; never a modal here
+        w.open_path(path, ask=False, as_copy=True)
+        _spin(app, lambda: "equations in" in sw.status.text())
+        sw.solution = None
+        sw.solve()
+        _spin(app, solved)
+        sw.grab().save(str(out / f"system-{path.stem}.png"))
+    sw.editor.setPlainText("x^2 + y^2 = 4\nx*y = = 1")
+    _spin(app, lambda: bool(sw.reading.error))
+    sw.grab().save(str(out / "system-error.png"))
+    sw._saved = sw.worksheet()  # nothing to ask about when the window closes
+    sw.close()
 
 
 if __name__ == "__main__":

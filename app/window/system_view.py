@@ -305,8 +305,12 @@ class SystemWindow(QWidget):
     def _show_reading(self, reading: Reading) -> None:
         self.reading = reading
         self.unknowns.set_names(reading.unknowns)
-        names = list(reading.parameters)
-        self.parameters.set_names(names)
+        # the parameters keep the order they have on screen (a worksheet's own order, or the
+        # user's): reordering them to the reading's order would make a file just opened
+        # look changed, and ask to be saved
+        used = set(reading.parameters)
+        shown = [n for n in self.parameters.names() if n in used]
+        self.parameters.set_names(shown + [n for n in reading.parameters if n not in shown])
         if reading.error:
             self.status.setText(reading.error)
         else:
