@@ -277,3 +277,26 @@ def test_a_sample_opened_and_solved_is_not_unsaved_work(qtbot, window, dialogs, 
     asked = len(dialogs.titles("question"))
     assert sw.close()
     assert len(dialogs.titles("question")) == asked, "nothing to save: closing asks nothing"
+
+
+def test_results_of_earlier_inputs_say_so(qtbot, window):
+    # found by looking at the window: after an edit the old lanes passed for the new text
+    sw = _open_system_window(qtbot, window)
+    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    solution = _solve(qtbot, sw)
+    assert not sw.results_note.isVisible()
+    model = sw.lane_models["newton"]
+    assert model.index(0, model.columnCount() - 1).data() == ""  # the start: no step yet
+    assert model.index(1, model.columnCount() - 1).data() == "1"  # a full Newton step
+    assert solution.runs[0].root == pytest.approx({"x": 2.0, "y": 1.0})  # by hand
+    sw.editor.setFocus()
+    QTest.keyClick(sw.editor, Qt.Key.Key_End, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(sw.editor, "0")  # x - y = 10
+    assert sw.results_note.isVisible() and "earlier inputs" in sw.results_note.text()
+    assert not sw.lanes.currentWidget().isEnabled()
+    QTest.keyClick(sw.editor, Qt.Key.Key_Backspace)  # back to what was solved
+    assert not sw.results_note.isVisible() and sw.lanes.currentWidget().isEnabled()
+    QTest.keyClicks(sw.editor, "0")
+    solution = _solve(qtbot, sw)
+    assert not sw.results_note.isVisible()
+    assert solution.runs[0].root == pytest.approx({"x": 6.5, "y": -3.5})  # by hand

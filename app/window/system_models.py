@@ -131,9 +131,16 @@ class SystemRunModel(QAbstractTableModel):
             return self.headers()[section]
         return None
 
+    def starts_block(self, row: int) -> bool:
+        """Whether the row is a block's start point (no step taken to reach it)."""
+        steps = self.run.steps
+        return row == 0 or steps[row - 1].block != steps[row].block
+
     def raw(self, row: int, column: int) -> Any:
         s = self.run.steps[row]
-        values = [s.k, s.block + 1, *s.x.values(), s.residual_norm, s.step_norm, s.damping]
+        # a block's start point has no step: blank, not a step of length 0 with damping 0
+        step = (None, None) if self.starts_block(row) else (s.step_norm, s.damping)
+        values = [s.k, s.block + 1, *s.x.values(), s.residual_norm, *step]
         return values[column]
 
     def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
@@ -144,6 +151,8 @@ class SystemRunModel(QAbstractTableModel):
             return str(value) if isinstance(value, int) else format_number(value, self._digits)
         if role == Qt.ItemDataRole.ToolTipRole and isinstance(value, float):
             return words.exact(value)
+        if role == Qt.ItemDataRole.ToolTipRole and value is None:
+            return "the start point of this block: no step yet"
         if role == Qt.ItemDataRole.UserRole:  # full precision for copying (views.table_text)
             return value
         if role == Qt.ItemDataRole.FontRole:

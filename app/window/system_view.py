@@ -241,15 +241,24 @@ class SystemWindow(QWidget):
         tables.addLayout(right)
         grid.addLayout(tables, 1)
         grid.addLayout(methods_row)
+        self.results_note = QLabel("")
+        self.results_note.setObjectName("systemStale")
+        self.results_note.setStyleSheet("color: #8A2B00;")
+        self.results_note.hide()
         results = QSplitter(Qt.Orientation.Horizontal)
         results.addWidget(self.lanes)
         results.addWidget(self.convergence)
         results.setStretchFactor(0, 3)  # the lanes' tables are wider than the plot needs
         results.setStretchFactor(1, 2)
         results.setSizes([600, 400])
+        results_box = QWidget()
+        results_layout = QVBoxLayout(results_box)
+        results_layout.setContentsMargins(0, 0, 0, 0)
+        results_layout.addWidget(self.results_note)
+        results_layout.addWidget(results, 1)
         splitter = QSplitter(Qt.Orientation.Vertical)
         splitter.addWidget(inputs)
-        splitter.addWidget(results)
+        splitter.addWidget(results_box)
         splitter.setSizes([360, 400])
         layout = QVBoxLayout(self)
         layout.addWidget(splitter)
@@ -267,10 +276,37 @@ class SystemWindow(QWidget):
         self._saved = self.worksheet()  # what Save wrote or the worksheet opened
         self.parameters.edited.connect(self._timer.start)
         self.unknown_names.textChanged.connect(lambda _t: self._timer.start())
+        self._solved: Worksheet | None = None  # the inputs of the results shown
+        self.unknowns.dataChanged.connect(lambda *_a: self._check_stale())
+        self.parameters.dataChanged.connect(lambda *_a: self._check_stale())
+        self.unknown_names.textChanged.connect(lambda _t: self._check_stale())
+        for box in self.method_boxes.values():
+            box.toggled.connect(lambda _on: self._check_stale())
         self._autosave = QTimer(self)
         self._autosave.setInterval(AUTOSAVE_MS)
         self._autosave.timeout.connect(self.autosave_now)
         self._autosave.start()
+
+    def clear_results(self) -> None:
+        """No lanes and an empty convergence view (another worksheet is shown)."""
+        self.solution = None
+        self._solved = None
+        self.lanes.clear()
+        self.lane_models.clear()
+        self.lane_summaries.clear()
+        draw_system_convergence(self.convergence.new_axes(), [])
+        self.convergence.redraw()
+        self._check_stale()
+
+    def _check_stale(self) -> None:
+        """Say so over the results when the inputs on screen are not those they came from
+        (a table of an earlier text must not pass for this one's)."""
+        stale = self._solved is not None and self.worksheet() != self._solved
+        self.results_note.setText("⚠ The results below are for earlier inputs: press Solve "
+                                  "to update them." if stale else "")
+        self.results_note.setVisible(stale)
+        for i in range(self.lanes.count()):
+            self.lanes.widget(i).setEnabled(not stale)
 
     def _on_digits(self, digits: int) -> None:
         for model in self.lane_models.values():
@@ -285,6 +321,7 @@ class SystemWindow(QWidget):
             self.editor.setPlainText(text[:MAX_EQUATION])
             return
         self._timer.start()
+        self._check_stale()
 
     def _values(self) -> dict[str, float]:
         return {n: v for n, v in self.parameters.remembered_values().items() if v is not None}
@@ -337,6 +374,7 @@ class SystemWindow(QWidget):
         unknowns = self.unknowns.names()
         values = self._values()
         settings = self.settings
+        asked = self.worksheet()
         self.status.setText("solving…")
         self.cancel_button.setEnabled(True)
 
@@ -348,6 +386,8 @@ class SystemWindow(QWidget):
         def done(solution: Any) -> None:
             ended()
             self.show_solution(solution)
+            self._solved = asked
+            self._check_stale()
 
         self.jobs.submit("system-solve",
                          lambda p, c: solve_text(text, unknowns, values, starts,  # type: ignore[arg-type]
@@ -539,6 +579,7 @@ class SystemWindow(QWidget):
         ``path``: where it came from (Save writes there); ``modified``: it is not saved
         there yet (recovered work)."""
         self.path = path
+        self.clear_results()
         self.settings = ws.settings
         self.title = ws.title
         self.parameters.load(ws.parameters)
