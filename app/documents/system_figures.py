@@ -45,9 +45,13 @@ def draw_system_convergence(ax: Any, runs: Iterable[Any]) -> None:
                     label=f"{title}: step length")
     if drawn:
         ax.set_yscale("log")
-        # ||F|| and the step fall from the upper left: the lower left stays clear ("best"
-        # put the legend over the slower method's tail)
-        ax.legend(loc="lower left", fontsize="small", framealpha=0.85)
+        # Headroom above the curves for the legend: a fast method's tail fills the lower
+        # left and a slow one's the right, so no corner of the data is clear ("best" and
+        # "lower left" both covered iterates). The top third of the axes is kept empty.
+        low, high = ax.get_ylim()
+        if low > 0 and high > low:
+            ax.set_ylim(low, high * (high / low) ** 0.5)
+        ax.legend(loc="upper right", fontsize="small", framealpha=0.85)
     else:
         ax.text(0.5, 0.5, "no iterates to show yet", transform=ax.transAxes, ha="center",
                 va="center", color="#666666")

@@ -250,7 +250,7 @@ class SystemWindow(QWidget):
         results.addWidget(self.convergence)
         results.setStretchFactor(0, 3)  # the lanes' tables are wider than the plot needs
         results.setStretchFactor(1, 2)
-        results.setSizes([600, 400])
+        results.setSizes([780, 500])  # a lane of four unknowns fits without scrolling
         results_box = QWidget()
         results_layout = QVBoxLayout(results_box)
         results_layout.setContentsMargins(0, 0, 0, 0)
@@ -259,7 +259,7 @@ class SystemWindow(QWidget):
         splitter = QSplitter(Qt.Orientation.Vertical)
         splitter.addWidget(inputs)
         splitter.addWidget(results_box)
-        splitter.setSizes([360, 400])
+        splitter.setSizes([420, 340])  # the tables of unknowns and parameters show ~6 rows
         layout = QVBoxLayout(self)
         layout.addWidget(splitter)
         self.caution = QLabel(words.CAUTION_LINE)  # the one copy, as on the main window
