@@ -187,16 +187,23 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     # sharp peaks of |f| without a sign change: poles when |f| keeps growing toward a point
     if cand.peaks:
         pk = np.array(cand.peaks)
-        fk = np.abs(g(pk[:, 1]))
+        # |f| at the peak sample and at its two neighbours (the search's bracket ends)
+        f3 = np.abs(g(pk.T.reshape(-1))).reshape(3, -1)
+        fk = f3[1]
         # a maximum is located only to sqrt(eps) too; where |f| still changes across that
         # width (a pole there, not a flat smooth peak) the search goes on down to 4 eps,
-        # where the growth test needs to stand next to it
+        # where the growth test needs to stand next to it. A peak whose concave ceiling
+        # stays below twice the sampled |f| is bounded (``_golden``'s ``limit``): no pole,
+        # its search stops there (the troughs of a sampled oscillation, sin(x^2))
+        bounded_peak = np.zeros(len(pk), dtype=bool)
         xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True,
-                            rel=_SQRT_EPS)
+                            rel=_SQRT_EPS, ends=(-f3[0], -f3[2]), positive=bounded_peak,
+                            limit=-2.0 * fk)
         w = np.maximum(_SQRT_EPS * np.abs(xb), xtol)
-        side = np.abs(g(np.concatenate([xb - w, xb + w]))).reshape(2, -1)
-        change = np.max(np.abs(side - np.abs(fb)), axis=0)
-        follow = np.flatnonzero(np.isfinite(fb) & ~(change <= 1e-6 * np.abs(fb)))
+        open_ = np.flatnonzero(np.isfinite(fb) & ~bounded_peak)
+        side = np.abs(g(np.concatenate([xb[open_] - w[open_], xb[open_] + w[open_]])))
+        change = np.max(np.abs(side.reshape(2, -1) - np.abs(fb[open_])), axis=0)
+        follow = open_[~(change <= 1e-6 * np.abs(fb[open_]))]
         if follow.size:
             wf = w[follow]
             lo_f = np.maximum(xb[follow] - 2 * wf, pk[follow, 0])
@@ -205,8 +212,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
             better = ~np.isfinite(f2) | (np.abs(f2) >= np.abs(fb[follow]))
             xb[follow[better]], fb[follow[better]] = x2[better], f2[better]
         top = np.abs(fb)
-        grows = (top >= 2.0 * fk) & np.isfinite(fb)
-        unbounded = ~np.isfinite(fb)
+        grows = (top >= 2.0 * fk) & np.isfinite(fb) & ~bounded_peak
+        unbounded = ~np.isfinite(fb) & ~bounded_peak
         if grows.any():
             unbounded[grows] = _grows_without_bound(g, xb[grows], h)
         for i in np.flatnonzero(unbounded):

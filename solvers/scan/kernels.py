@@ -268,10 +268,13 @@ def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
     return np.where(convex & np.isfinite(low), low, -np.inf)
 
 
+_PEAK_RESOLVED = 1e-3  # a peak's concave ceiling this close to its top value: resolved
+
+
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
             *, peak: bool = False, rel: float = 4 * EPS,
             ends: tuple[np.ndarray, np.ndarray] | None = None,
-            positive: np.ndarray | None = None):
+            positive: np.ndarray | None = None, limit: np.ndarray | None = None):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
@@ -282,6 +285,15 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     once sign*f is convex through the bracket's four points and its convex floor
     (:func:`_convex_floor`) stays above half the least value found: a positive minimum,
     marked True in ``positive`` (a bool array of the rows' length, filled in place).
+    With ``peak`` and ``limit`` (-2 |f| sampled at each peak) a row stops, marked in
+    ``positive``, once |f| is concave through the four points and its ceiling (minus the
+    convex floor of -|f|) stays below twice the sampled peak and within ``_PEAK_RESOLVED``
+    of the largest |f| found: a resolved bounded peak, which the pole test (twice the
+    sampled peak, or infinite) can never call a pole, so locating its top to sqrt(eps)
+    would be work for nothing. A pole between the two inner points can make the four
+    values look concave, but never that tight: the chords either side of it climb at
+    least a third above the values next to it (1/|x - c|^k), or half a unit over
+    |ln|x - c|| < 745 (ln|x - c|), far beyond 1e-3.
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
@@ -306,7 +318,10 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
         if ends is not None and positive is not None:
             floor = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act], fc[act],
                                   fd[act], fhi[act])
-            sure = floor > 0.5 * fbest[act]
+            if limit is None:
+                sure = floor > 0.5 * fbest[act]
+            else:
+                sure = (floor > limit[act]) & (floor > (1.0 + _PEAK_RESOLVED) * fbest[act])
             if sure.any():
                 positive[act[sure]] = True
                 active[act[sure]] = False

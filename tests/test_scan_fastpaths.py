@@ -1,0 +1,50 @@
+"""The scan's shortcuts skip work only where it provably finds nothing, and the full
+search still runs where it is needed.
+
+Each shortcut has two sides: the cheap case it certifies (the finding stays as the full
+search would leave it) and the case that must fall through to the full search (a pole, a
+multiple root, a hidden pair), so a shortcut that swallowed it fails here. Reference
+values are closed forms (common practice) or scipy's ``brentq`` as named beside each.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from solvers import parse_equation
+from solvers.scan import scan
+
+# -------------------------------------------------- bounded peaks versus poles (no sign change)
+
+_POLES = {
+    # closed forms, each with a pole at c and no sign change of f across it
+    "log": lambda c: (lambda x: np.log(np.abs(x - c))),
+    "inverse square": lambda c: (lambda x: 1.0 / (x - c) ** 2),
+    "inverse abs": lambda c: (lambda x: 1.0 / np.abs(x - c)),
+    "inverse square root": lambda c: (lambda x: 1.0 / np.sqrt(np.abs(x - c))),
+    "on an offset": lambda c: (lambda x: 1.0 / (x - c) ** 2 + 1e4),
+    "riding on an oscillation": lambda c: (lambda x: np.sin(40 * x) + 1e-3 / np.abs(x - c)),
+}
+
+
+@pytest.mark.parametrize("family", sorted(_POLES))
+def test_a_pole_anywhere_between_samples_is_still_searched_to_the_end(family) -> None:
+    # the resolved-peak shortcut must never stop at a pole, wherever it falls between the
+    # samples (40 positions at random, so also just beside the golden-section points)
+    rng = np.random.default_rng(20261202)
+    for c in rng.uniform(0.1, 0.9, 40):
+        result = scan(_POLES[family](float(c)), 0.0, 1.0)
+        assert any(abs(p - c) <= 1e-9 for p in result.poles), (family, c, result.poles)
+
+
+def test_the_peaks_of_a_sampled_oscillation_are_bounded_not_poles() -> None:
+    # sin(x^2) on [0, 30] oscillates with 7 samples per period at the far end, so its sampled
+    # peaks look sharp; |sin| <= 1 (closed form): no pole, and every zero sqrt(k pi) is there
+    eq = parse_equation("sin(x^2)")
+    zeros = np.sqrt(np.pi * np.arange(0, int(900 / np.pi) + 1))
+    for kw in ({}, {"fprime": eq.fprime}, {"cross_check": False}):
+        result = scan(eq.f, 0.0, 30.0, **kw)
+        assert result.poles == [] and result.discontinuities == []
+        assert len(result.roots) == len(zeros)
+        assert np.max(np.abs(np.array([r.x for r in result.roots]) - zeros)) <= 1e-13 * 30
