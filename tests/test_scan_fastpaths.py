@@ -48,3 +48,20 @@ def test_the_peaks_of_a_sampled_oscillation_are_bounded_not_poles() -> None:
         assert result.poles == [] and result.discontinuities == []
         assert len(result.roots) == len(zeros)
         assert np.max(np.abs(np.array([r.x for r in result.roots]) - zeros)) <= 1e-13 * 30
+
+
+# ------------------------------------------------------------------ the roots' records
+
+
+def test_a_root_built_in_bulk_equals_the_one_its_constructor_builds() -> None:
+    from solvers.scan.records import Root, _new_root
+
+    built = _new_root(1.5, -2e-16, 3, ("anderson_bjorck",), ("sampling",), (1.0, 2.0), None)
+    plain = Root(x=1.5, residual=-2e-16, multiplicity=3, confirmed=("anderson_bjorck",),
+                 located_by=("sampling",), bracket=(1.0, 2.0), run=None)
+    assert built == plain and hash(built) == hash(plain) and repr(built) == repr(plain)
+    assert vars(built) == vars(plain)
+    lazy = _new_root(1.5, 0.0, 1, (), ("sampling",), None, lambda: "run built")
+    assert lazy.run == "run built"
+    with pytest.raises(AttributeError):  # still frozen
+        built.x = 2.0  # type: ignore[misc]

@@ -12,7 +12,7 @@ import numpy as np
 from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
 from solvers.scan.noise import _at_noise, _noise
-from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found
+from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
 from solvers.scan.sampling import _Guarded
 
 
@@ -405,9 +405,10 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
         merged.append(r)
     if not merged:
         return []
-    x = np.array([r.x for r in merged])
+    xs = [r.x for r in merged]
+    x = np.array(xs)
     features = np.sort(np.array(
-        list(x) + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
+        xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
     # distance to the nearest other feature (root, pole, jump, gap end) on either side
     left = np.searchsorted(features, x, side="left") - 1
     right = np.searchsorted(features, x, side="right")
@@ -420,14 +421,7 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     if flags is not None:
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
     return [
-        Root(
-            x=xi,
-            residual=ri,
-            multiplicity=1 if DOMAIN_EDGE_CODES.intersection(r.how) else mi,
-            confirmed=r.how,
-            located_by=r.located_by,
-            bracket=r.bracket,
-            run=r.run,
-        )
-        for r, xi, ri, mi in zip(merged, x.tolist(), res.tolist(), mult.tolist(), strict=True)
+        _new_root(xi, ri, mi if DOMAIN_EDGE_CODES.isdisjoint(r.how) else 1, r.how,
+                  r.located_by, r.bracket, r.run)
+        for r, xi, ri, mi in zip(merged, xs, res.tolist(), mult.tolist(), strict=True)
     ]

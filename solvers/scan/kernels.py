@@ -197,10 +197,10 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     ir = np.flatnonzero(root)
     # (plain Python lists: indexing numpy arrays per root costs more than the roots' records)
     found = [
-        _Found(xi, True, hw, bracket=(b0, b1), run=functools.partial(_brent_record, g, row, xtol))
-        for xi, hw, b0, b1, row in zip(x[ir].tolist(), [how[i] for i in ir.tolist()],
-                                       br[ir, 0].tolist(),
-                                       br[ir, 1].tolist(), br[ir], strict=True)
+        _Found(xi, True, hw, bracket=(row[0], row[1]),
+               run=functools.partial(_brent_record, g, row, xtol))
+        for xi, hw, row in zip(x[ir].tolist(), [how[i] for i in ir.tolist()],
+                               br[ir].tolist(), strict=True)
     ]
     poles: list[float] = []
     jumps: list[float] = []
@@ -233,7 +233,7 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     return found, poles, jumps, undefined
 
 
-def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
+def _brent_record(g: _Guarded, row: list[float] | np.ndarray, xtol: float) -> Run | None:
     """The project's Brent on one sample bracket (its ends' f values already known)."""
     known = {float(row[0]): float(row[2]), float(row[1]): float(row[3])}
 

@@ -142,18 +142,26 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     last_pair = min(hi, n - 1)
     # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
     neg = np.signbit(y)
-    for k in np.flatnonzero(neg[:-1] != neg[1:]):
-        if lo <= k < last_pair:
-            yl, yr = y[k], y[k + 1]
-            # signs compared, not multiplied: a product of two tiny values underflows to 0
-            if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
-                out.brackets.append((float(x[k]), float(x[k + 1]), float(yl), float(yr)))
-            elif yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
-                # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
-                # between the last finite value and the overflow
-                fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
-                if not math.isnan(y[far]):
-                    out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
+    flips = np.flatnonzero(neg[:-1] != neg[1:])
+    flips = flips[(flips >= lo) & (flips < last_pair)]
+    if flips.size:
+        # signs compared, not multiplied: a product of two tiny values underflows to 0
+        yl, yr = y[flips], y[flips + 1]
+        plain = (yl != 0) & (yr != 0) & np.isfinite(yl) & np.isfinite(yr)
+        k = flips[plain]
+        # (whole columns to Python floats at once: per-element numpy indexing costs more
+        # than the brackets' records when a fast oscillation gives hundreds)
+        out.brackets.extend(zip(x[k].tolist(), x[k + 1].tolist(), y[k].tolist(),
+                                y[k + 1].tolist(), strict=True))
+        flips = flips[~plain]
+    for k in flips:
+        yl, yr = y[k], y[k + 1]
+        if yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
+            # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
+            # between the last finite value and the overflow
+            fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
+            if not math.isnan(y[far]):
+                out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
     if not allfin:
         dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
         for k in np.flatnonzero(dfn[:-1] != dfn[1:]):
@@ -199,8 +207,9 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         kink = (d2 > 8 * np.minimum(far_l, far_r)) & (d2 > 1e-9 * ap)
         sharp &= (ap > 0) & ((ap >= 1.1 * np.minimum(al, ar)) | kink)
         sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
-        for kk in p[sharp]:
-            out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
+        kk = p[sharp]
+        out.peaks.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
+                             strict=True))
     k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
     k = k[(k >= max(lo, 1)) & (k < last_pair)]
     if k.size == 0:
@@ -229,11 +238,9 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         # with f' sampled, the extrema between samples (:func:`_detect_extrema`) stand in for
         # these minima wherever f' is finite at all three samples
         keep &= ~(np.isfinite(yp[k - 1]) & np.isfinite(yp[k]) & np.isfinite(yp[k + 1]))
-    for kk in k[keep]:
-        out.minima.append(
-            (float(x[kk - 1]), float(x[kk]), float(x[kk + 1]),
-             float(y[kk - 1]), float(y[kk]), float(y[kk + 1]))
-        )
+    kk = k[keep]
+    out.minima.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
+                          y[kk - 1].tolist(), y[kk].tolist(), y[kk + 1].tolist(), strict=True))
 
 
 def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: int,
@@ -273,9 +280,10 @@ def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: i
     margin = 1e3 * EPS * np.maximum(u0, u1)  # rounding of the values themselves
     safe = convex & np.isfinite(bound) & (bound > margin)
     out.proved += int(safe.sum())
-    for i in np.flatnonzero(~safe):
-        out.extrema.append((float(x0[i]), float(x0[i]), float(x1[i]),
-                            float(s[i] * u0[i]), float(s[i] * u0[i]), float(s[i] * u1[i])))
+    i = np.flatnonzero(~safe)
+    left, right = x0[i].tolist(), (s[i] * u0[i]).tolist()
+    out.extrema.extend(zip(left, left, x1[i].tolist(), right, right, (s[i] * u1[i]).tolist(),
+                           strict=True))
 
 
 def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
