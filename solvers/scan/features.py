@@ -100,31 +100,32 @@ def _multiplicity(
     near = vals[:, 2 * len(j):]
     vals = np.abs(vals[:, : 2 * len(j)])
     fp, fm = vals[:, : len(j)], vals[:, len(j):]
-    floor = np.nanmax(np.abs(near), axis=1)
+    # (ufunc reductions and plain indexing below: the numpy wrappers nanmax, take_along_axis
+    # and the like cost several times more per call, and a scan calls this for every root)
+    floor = np.fmax.reduce(np.abs(near), axis=1)  # nanmax, NaN only where all are NaN
     valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
     logf = 0.5 * (np.log(fp) + np.log(fm))
     slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
     # the last four usable slopes of each row (smallest distances above the floor)
-    rank = np.cumsum(pair[:, ::-1], axis=1)[:, ::-1]
+    rank = np.add.accumulate(pair[:, ::-1], axis=1, dtype=int)[:, ::-1]
     last4 = pair & (rank <= 4)
     ordered = np.sort(np.where(last4, slopes, np.inf), axis=1)
-    count = last4.sum(axis=1)
-    lo_i = np.maximum(count - 1, 0)[:, None] // 2
-    hi_i = count[:, None] // 2
+    count = np.add.reduce(last4, axis=1, dtype=int)
+    rows = np.arange(len(x))
+    lo_i = np.maximum(count - 1, 0) // 2
+    hi_i = np.minimum(count // 2, ordered.shape[1] - 1)
     with np.errstate(all="ignore"):
-        est = 0.5 * (np.take_along_axis(ordered, lo_i, axis=1)
-                     + np.take_along_axis(ordered, np.minimum(hi_i, ordered.shape[1] - 1),
-                                          axis=1))[:, 0]
+        est = 0.5 * (ordered[rows, lo_i] + ordered[rows, hi_i])
     est = np.where((count > 0) & np.isfinite(est), est, np.where(odd, 1.0, 2.0))
     m = np.maximum(1, np.rint(est)).astype(int)
     wrong = (m % 2 == 1) != odd
     m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
     m = np.maximum(m, np.where(odd, 1, 2))
     with np.errstate(all="ignore"):
-        spread = (np.max(np.where(pair, slopes, -np.inf), axis=1)
-                  - np.min(np.where(pair, slopes, np.inf), axis=1))
-    return m, np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
+        spread = (np.maximum.reduce(np.where(pair, slopes, -np.inf), axis=1)
+                  - np.minimum.reduce(np.where(pair, slopes, np.inf), axis=1))
+    return m, np.where(np.add.reduce(pair, axis=1, dtype=int) >= 2, spread, 0.0), near[:, 3]
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:

@@ -116,7 +116,7 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
         width = hi - lo
         tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
         finished = width <= tol
-        if finished.any():
+        if np.count_nonzero(finished):
             k = idx[finished]
             done[k] = True
             lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
@@ -137,7 +137,7 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
         fx = g(x)
         w3, w2, w1 = w2, w1, width
         regular = np.isfinite(fx) & (fx != 0)
-        if not regular.all():
+        if np.count_nonzero(regular) < regular.size:
             zero = fx == 0
             k = idx[zero]
             done[k] = True
@@ -151,10 +151,16 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
         # Anderson–Björck: the end held for the second time running is weighted by
         # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
         m = 1.0 - fx / np.where(on_lo, flo, fhi)
-        m = np.where(prev_lo == on_lo, np.where(m > 0, m, 0.5), 1.0)
-        wlo, whi = np.where(on_lo, fx, wlo * m), np.where(on_lo, whi * m, fx)
-        lo, hi = np.where(on_lo, x, lo), np.where(on_lo, hi, x)
-        flo, fhi = np.where(on_lo, fx, flo), np.where(on_lo, fhi, fx)
+        m[~(m > 0)] = 0.5
+        m[prev_lo != on_lo] = 1.0
+        # (in place: these arrays are this loop's own, and a masked copy costs less than
+        # building a new array with np.where)
+        on_hi = ~on_lo
+        wlo *= m  # the held end's weight; the moved end's is replaced by f(x) next
+        whi *= m
+        for end, value, moved in ((wlo, fx, on_lo), (whi, fx, on_hi), (lo, x, on_lo),
+                                  (hi, x, on_hi), (flo, fx, on_lo), (fhi, fx, on_hi)):
+            np.copyto(end, value, where=moved)
         prev_lo = on_lo.view(np.int8)
     return done, lo_out, hi_out, flo_out, fhi_out
 
