@@ -299,7 +299,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         # has exactly those zeros (chebyshev._certify); it still locates everything else
         simple = np.array(sorted(r.x for r in roots if r.multiplicity == 1), dtype=float)
         cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
-                               on_cancel=g.check, noise=lambda x: _sigma(g, x, scale),
+                               on_cancel=g.check, noise=_MemoNoise(g, scale),
                                known=simple)
         before = len(roots)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale,
@@ -346,6 +346,25 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         noise_bands=bands,
         check=mode,
     )
+
+
+class _MemoNoise:
+    """x -> f's rounding-noise deviation (:func:`solvers.scan.noise._sigma`), each x measured
+    once. The proxy asks at every piece's ends and middle, level after level: a child's
+    ends are its parent's end and middle, already measured (the estimate at a point does
+    not depend on the other points asked with it, so a remembered value is the same)."""
+
+    def __init__(self, g: _Guarded, scale: float):
+        self.g, self.scale = g, scale
+        self.seen: dict[float, float] = {}
+
+    def __call__(self, x: np.ndarray) -> np.ndarray:
+        keys = np.asarray(x, dtype=float).reshape(-1).tolist()
+        new = [k for k in dict.fromkeys(keys) if k not in self.seen]
+        if new:
+            self.seen.update(zip(new, _sigma(self.g, np.array(new), self.scale).tolist(),
+                                 strict=True))
+        return np.array([self.seen[k] for k in keys], dtype=float)
 
 
 _RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check could not resolve
