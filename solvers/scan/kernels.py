@@ -254,13 +254,14 @@ def _brent_record(g: _Guarded, row: list[float] | np.ndarray, xtol: float) -> Ru
         return None
 
 
-def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
+def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi, where: bool = False):
     """Least value a convex function through the four points lo < c < d < hi can take on
     [lo, hi] (-inf where the four values are not convex: slopes must not decrease).
 
     A convex function lies above every chord's extension beyond the chord: on [lo, c] and
     [d, hi] above the line through c and d, on [c, d] above both the line through lo, c
-    and the one through d, hi (their meeting point, or an end of [c, d]).
+    and the one through d, hi (their meeting point, or an end of [c, d]). With ``where``
+    also that meeting point x* in [c, d] and the lines' value there: (floor, x*, value).
     """
     with np.errstate(all="ignore"):
         s1, s2, s3 = (fc - flo) / (c - lo), (fd - fc) / (d - c), (fhi - fd) / (hi - d)
@@ -271,10 +272,8 @@ def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
         xs = np.clip(np.where(s3 > s1, (fd - fc + s1 * c - s3 * d) / (s1 - s3), c), c, d)
         middle = np.maximum(fc + s1 * (xs - c), fd + s3 * (xs - d))
         low = np.minimum(outer, middle)
-    return np.where(convex & np.isfinite(low), low, -np.inf)
-
-
-_PEAK_RESOLVED = 1e-3  # a peak's concave ceiling this close to its top value: resolved
+    floor = np.where(convex & np.isfinite(low), low, -np.inf)
+    return (floor, xs, middle) if where else floor
 
 
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
@@ -292,14 +291,16 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     (:func:`_convex_floor`) stays above half the least value found: a positive minimum,
     marked True in ``positive`` (a bool array of the rows' length, filled in place).
     With ``peak`` and ``limit`` (-2 |f| sampled at each peak) a row stops, marked in
-    ``positive``, once |f| is concave through the four points and its ceiling (minus the
-    convex floor of -|f|) stays below twice the sampled peak and within ``_PEAK_RESOLVED``
-    of the largest |f| found: a resolved bounded peak, which the pole test (twice the
-    sampled peak, or infinite) can never call a pole, so locating its top to sqrt(eps)
-    would be work for nothing. A pole between the two inner points can make the four
-    values look concave, but never that tight: the chords either side of it climb at
-    least a third above the values next to it (1/|x - c|^k), or half a unit over
-    |ln|x - c|| < 745 (ln|x - c|), far beyond 1e-3.
+    ``positive``, once |f| is concave through the four points, its ceiling (minus the
+    convex floor of -|f|) stays below twice the sampled peak, and |f| at the point x*
+    where the two outer chords meet lies strictly below them: a bounded peak, which the
+    pole test (twice the sampled peak, or infinite) can never call a pole, so locating
+    its top to sqrt(eps) would be work for nothing. Why no pole passes: |f| near a pole
+    (1/|x - c|^k, ln|x - c|, on any offset) is convex on each side of it. A pole in
+    [lo, c] or [d, hi] leaves three of the points on one convex side, and the four values
+    are not concave. A pole in (c, d) can make them look concave, but then x* lies on one
+    side of it, where the convex |f| is on or above the extension of that side's chord
+    beyond it: |f(x*)| is at least the chords' value there, and the strict test fails.
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
@@ -322,12 +323,17 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
             break
         g.check()
         if ends is not None and positive is not None:
-            floor = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act], fc[act],
-                                  fd[act], fhi[act])
+            floor, xs, middle = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act],
+                                              fc[act], fd[act], fhi[act], where=True)
             if limit is None:
                 sure = floor > 0.5 * fbest[act]
             else:
-                sure = (floor > limit[act]) & (floor > (1.0 + _PEAK_RESOLVED) * fbest[act])
+                sure = floor > limit[act]
+                if sure.any():
+                    # the probe at x*: -|f| there strictly above the chords' value (the
+                    # objective is -|f|), as it is for a concave |f| and never beside a pole
+                    probe = np.flatnonzero(sure)
+                    sure[probe] = objective(xs[probe], sign[act[probe]]) > middle[probe]
             if sure.any():
                 positive[act[sure]] = True
                 active[act[sure]] = False
