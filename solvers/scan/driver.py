@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import bisect
 import math
+import statistics
 import warnings as _warnings
 from collections.abc import Callable
 
@@ -259,7 +260,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
     # root cluster of a function evaluated with cancellation become that one root
     poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
-    typical = float(np.median(cand.typical)) if cand.typical else 0.0
+    # (statistics.median: the same middle value, without np.median's overhead on a short list)
+    typical = float(statistics.median(cand.typical)) if cand.typical else 0.0
     unsure = np.zeros(len(roots), dtype=bool)
     unsure[[i for i in flagged if i < len(roots)]] = True
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,

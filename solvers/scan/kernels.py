@@ -183,13 +183,15 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
     g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
     root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
-    x = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
+    nearer = np.abs(flo) <= np.abs(fhi)
+    x = np.where(nearer, lo, hi)
     how: list[tuple[str, ...]] = [("zero_at_iterate",) if z else ("anderson_bjorck",)
                                   for z in (root & (lo == hi)).tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
         xr = x[ir]
-        fx, dfx = g(xr), gp(xr)
+        # f at x is the bracket end's value the refinement already has (no second call)
+        fx, dfx = np.where(nearer, flo, fhi)[ir], gp(xr)
         with np.errstate(all="ignore"):
             xn = xr - fx / dfx
         ok = np.isfinite(dfx) & (dfx != 0) & np.isfinite(fx) & (fx != 0)

@@ -207,17 +207,21 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
     pts = np.concatenate([x[:, None] + step[:, None] * _ULPS[None, :], (x - d0)[:, None],
                           (x + d0)[:, None]], axis=1)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
-    d1 = np.diff(vals[:, : len(_ULPS)], axis=1)
-    d2 = np.diff(d1, axis=1)
-    up, down = (d1 > 0).all(axis=1), (d1 < 0).all(axis=1)
+    # (slices and ufunc reductions: np.diff, np.mean and the like cost several times more
+    # per call, and every root of a scan with few roots comes through here)
+    ramp = vals[:, : len(_ULPS)]
+    d1 = ramp[:, 1:] - ramp[:, :-1]
+    d2 = d1[:, 1:] - d1[:, :-1]
+    up = np.logical_and.reduce(d1 > 0, axis=1)
+    down = np.logical_and.reduce(d1 < 0, axis=1)
     near = np.abs(vals[:, len(_ULPS):])
-    clean = (up | down) & (np.min(near, axis=1) > 4 * _NOISE_K * np.sqrt(np.mean(d2 * d2, axis=1)
-                                                                       / 6))
+    spread = np.sqrt(np.add.reduce(d2 * d2, axis=1) / (d2.shape[1] * 6))
+    clean = (up | down) & (np.minimum.reduce(near, axis=1) > 4 * _NOISE_K * spread)
     if singular is not None:
         clean &= ~singular
     if in_noise is not None:
         clean &= ~in_noise
-    if clean.all():
+    if np.count_nonzero(clean) == n:
         return np.zeros(n, dtype=bool), lo, hi, np.zeros(n)
     rest = np.flatnonzero(~clean)
     sig[rest] = _sigma(g, x[rest], scale)

@@ -212,6 +212,8 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         kk = p[sharp]
         out.peaks.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
                              strict=True))
+    if yp is not None and np.isfinite(yp).all():
+        return  # f' finite everywhere: every minimum below would be dropped (end of function)
     k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
     k = k[(k >= max(lo, 1)) & (k < last_pair)]
     if k.size == 0:
