@@ -65,3 +65,53 @@ def test_a_root_built_in_bulk_equals_the_one_its_constructor_builds() -> None:
     assert lazy.run == "run built"
     with pytest.raises(AttributeError):  # still frozen
         built.x = 2.0  # type: ignore[misc]
+
+
+# ------------------------------------------- few brackets in Python, many brackets in numpy
+
+_BRACKET_FUNCTIONS = [
+    np.sin,
+    lambda x: np.cos(x) * np.cosh(x) + 1.0,
+    lambda x: (x - 0.3) ** 3,  # a triple root: slow linear phase
+    lambda x: 1.0 / (x - 0.3),  # a pole: no convergence to a root
+    lambda x: np.where(x < 0.37, -1.0, 1.0),  # a jump
+    lambda x: np.sqrt(x - 0.2) - 0.1,  # undefined on part of the bracket
+    lambda x: 1e-300 * (x - 0.41),  # tiny values (weights underflow)
+    lambda x: x**19 - 1e-5,
+    np.tan,
+]
+
+
+@pytest.mark.parametrize("k", range(len(_BRACKET_FUNCTIONS)))
+def test_scalar_and_vectorised_bracketing_agree(k, monkeypatch) -> None:
+    # the same Anderson-Bjorck iteration on the scalar f (few brackets) and in numpy (many):
+    # both converge on the same brackets, each converged one no wider than Brent's stop rule
+    # and holding a sign change (or an exact zero); reference: the stop rule itself
+    from solvers.scan import kernels
+    from solvers.scan.sampling import _Guarded
+
+    eps = float(np.finfo(float).eps)
+    with np.errstate(all="ignore"):
+        g = _Guarded(_BRACKET_FUNCTIONS[k], None)
+        rng = np.random.default_rng(k)
+        rows = []
+        for _ in range(40):
+            a = rng.uniform(-1.0, 1.0)
+            xs = np.linspace(a, a + rng.uniform(1e-6, 2.0), 7)
+            ys = g(xs)
+            rows += [(xs[i], xs[i + 1], ys[i], ys[i + 1]) for i in range(6)
+                     if np.isfinite(ys[i]) and np.isfinite(ys[i + 1]) and ys[i] != 0
+                     and ys[i + 1] != 0 and (ys[i] < 0) != (ys[i + 1] < 0)]
+        br = np.array(rows[:20], dtype=float).reshape(-1, 4)
+        assert len(br) >= 3
+        monkeypatch.setattr(kernels, "_FEW", 1000)
+        each = kernels._bracket_all(g, br, 1e-19)
+        monkeypatch.setattr(kernels, "_FEW", -1)
+        whole = kernels._bracket_all(g, br, 1e-19)
+    assert np.array_equal(each[0], whole[0])
+    for done, lo, hi, flo, fhi in (each, whole):
+        for i in np.flatnonzero(done):
+            assert hi[i] - lo[i] <= 1e-19 + 4 * eps * max(abs(lo[i]), abs(hi[i]))
+            assert (lo[i] == hi[i] and flo[i] == 0) or (flo[i] < 0) != (fhi[i] < 0)
+        # brackets that did not converge are handed on unchanged, for the classification
+        assert np.array_equal(np.column_stack([lo, hi, flo, fhi])[~done], br[~done])

@@ -87,6 +87,19 @@ class _Guarded:
                 flat[i] = self.scalar(float(xi))
             return out
 
+    def fast(self, x: float) -> float:
+        """:meth:`scalar` with its conversions skipped where f returns a real float already
+        (a compiled equation on a Python float, a numpy function on a number): the scalar
+        refinement's inner loop calls it."""
+        self.poll()
+        try:
+            y = self.f(x)
+        except Exception:  # noqa: BLE001 - undefined there; scalar() decides how
+            return self.scalar(x)
+        if isinstance(y, float):  # (numpy's float64 too)
+            return float(y)
+        return self.scalar(x)
+
     def scalar(self, x: float) -> float:
         """f at one point as a float (NaN when undefined, complex or raising)."""
         self.poll()
