@@ -126,9 +126,12 @@ def _new_root(x: float, residual: float, multiplicity: int, confirmed: tuple[str
 
 
 def _relabel(r: Root, located_by: tuple[str, ...]) -> Root:
-    """r with another ``located_by``, its on-demand Brent run left unbuilt."""
-    return Root(r.x, r.residual, r.multiplicity, r.confirmed, located_by, r.bracket,
-                Root.__dict__["run"].raw(r), r.detail)
+    """r with another ``located_by``, its on-demand Brent run left unbuilt (the instance
+    dictionary copied, as :func:`_new_root` fills it)."""
+    root = object.__new__(Root)
+    root.__dict__.update(r.__dict__)
+    root.__dict__["located_by"] = located_by
+    return root
 
 
 @dataclass(frozen=True)
