@@ -34,8 +34,12 @@ from solvers.scan.sampling import _Candidates, _detect
 
 # Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead:
 # the eigenvalue cost grows as degree^3). LAST_DEGREE is tried only where subdividing
-# further is not allowed (depth limit or piece budget).
-DEGREES: tuple[int, ...] = (8, 16, 32)
+# further is not allowed (depth limit or piece budget). One degree: its series is cut to
+# its significant length (trailing coefficients below 0.1 DECAY_TOL dropped), so a piece a
+# lower degree would resolve gets the same short series from this one fit, without the
+# extra calls of f per level (each costs f's whole overhead); and an oscillation aliased
+# into a smooth-looking interpolant at 9 or 17 nodes cannot pass as resolved there.
+DEGREES: tuple[int, ...] = (32,)
 LAST_DEGREE = 64
 # Trailing coefficients below this fraction of the largest count as decayed.
 DECAY_TOL = 1e-13
