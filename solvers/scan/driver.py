@@ -253,10 +253,12 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         found += _beside_poles(g, gp, _dedupe_points(poles, scale), a, b, h, xtol, notes)
 
     flagged: list[int] = []
-    roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged)
+    clean: list[bool] = []
+    roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged, clean)
     hidden = _hidden_roots(g, gp, [roots[i] for i in flagged], xtol)
     if hidden:
-        roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale)
+        clean = []
+        roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale, clean=clean)
     # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
     # root cluster of a function evaluated with cancellation become that one root
     poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
@@ -265,7 +267,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     unsure = np.zeros(len(roots), dtype=bool)
     unsure[[i for i in flagged if i < len(roots)]] = True
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
-                                                       b, scale, typical, h, unsure)
+                                                       b, scale, typical, h, unsure,
+                                                       np.array(clean, dtype=bool))
     for u, v in runs:
         notes.append(Detail("zero_run", (float(u), float(v))))
     for p in bounded:

@@ -11,7 +11,7 @@ import numpy as np
 
 from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
-from solvers.scan.noise import _at_noise, _noise
+from solvers.scan.noise import _at_noise, _noise, _ramp_clean, _ramp_points
 from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
 from solvers.scan.sampling import _Guarded
 
@@ -79,7 +79,8 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
 
 
 def _multiplicity(
-    g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
+    g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float,
+    extra: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``; the
     spread of the local slopes (large when other roots hide within the probed distance);
@@ -87,7 +88,8 @@ def _multiplicity(
 
     |f(r +/- d)| at d = reach * 4^-j (j = 0..10); the local slope of log|f| against
     log d, taken from the four smallest d still 1000x above the rounding floor (the
-    largest |f| within a few ulps of r). All points go to f in one call.
+    largest |f| within a few ulps of r). All points go to f in one call, with ``extra``
+    (more points per root, rows) whose values are written back into ``extra``.
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
@@ -95,8 +97,12 @@ def _multiplicity(
     d = reach[:, None] * 4.0 ** (-j[None, :])
     step = 2 * EPS * np.maximum(np.abs(x), scale)
     ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
-    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps], axis=1)
+    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps]
+                         + ([] if extra is None else [extra]), axis=1)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
+    if extra is not None:
+        extra[...] = vals[:, pts.shape[1] - extra.shape[1]:]
+        vals = vals[:, : pts.shape[1] - extra.shape[1]]
     near = vals[:, 2 * len(j):]
     vals = np.abs(vals[:, : 2 * len(j)])
     fp, fm = vals[:, : len(j)], vals[:, len(j):]
@@ -388,11 +394,15 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
     return found
 
 
-def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) -> list[Root]:
+def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
+            clean=None) -> list[Root]:
     """Deduplicate, estimate multiplicities, evaluate residuals, sort.
 
     ``flags``, when a list, receives the indices of roots whose local slopes are not
     consistent with one c (x - r)^m (more roots may hide within a sample spacing).
+    ``clean``, when a list, receives per root whether f is a clean ramp there
+    (:func:`solvers.scan.noise._ramp_clean`, judged from points evaluated with the
+    multiplicity ladder, in the same call of f), for the noise look.
     """
     found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
     zero = min(scale, 1.0)  # x floor near zero, as for the step test's xtol
@@ -418,9 +428,12 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * zero))
     odd = np.array([r.odd for r in merged])
-    mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale)
+    ramp = _ramp_points(x, scale) if clean is not None else None
+    mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale, ramp)
     if flags is not None:
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
+    if clean is not None:
+        clean.extend(_ramp_clean(ramp).tolist())
     return [
         _new_root(xi, ri, mi if DOMAIN_EDGE_CODES.isdisjoint(r.how) else 1, r.how,
                   r.located_by, r.bracket, r.run)
