@@ -341,6 +341,9 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
           + [0.5 * (u + v) for u, v in runs])
     if not xs:
         return roots, poles, jumps, runs, []
+    if (clean is not None and not (poles or jumps or runs) and bool(np.all(clean))
+            and not any("bracket_in_noise" in r.confirmed for r in roots)):
+        return roots, poles, jumps, runs, []  # every root a clean ramp: nothing to look at
     unsure = np.zeros(len(roots), dtype=bool) if unsure is None else unsure
     kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
     x = np.array(xs, dtype=float)
