@@ -157,7 +157,7 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     last_pair = min(hi, n - 1)
     # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
     neg = np.signbit(y)
-    flips = np.flatnonzero(neg[:-1] != neg[1:])
+    flips = (neg[:-1] != neg[1:]).nonzero()[0]
     flips = flips[(flips >= lo) & (flips < last_pair)]
     if flips.size:
         # signs compared, not multiplied: a product of two tiny values underflows to 0
@@ -188,7 +188,7 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         for k in np.flatnonzero(np.isinf(y)):
             if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
                 out.inf_points.append(float(x[k]))
-    zero_idx = np.flatnonzero(y == 0)
+    zero_idx = (y == 0).nonzero()[0]
     for k in zero_idx:
         if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
             if y[k - 1] == 0 or y[k + 1] == 0:
@@ -200,10 +200,11 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     # local minima of |f| away from sign changes: |f| stops falling and starts rising
     if n < 3:
         return
-    da = np.diff(np.abs(y))
+    da = np.abs(y)
+    da = da[1:] - da[:-1]
     # sharp local maxima of |f| (a pole without a sign change, 1/(x-c)^2, ln|x-c|): at least
     # 10 % above the lower neighbour, where a resolved smooth peak is within a fraction of 1 %
-    p = np.flatnonzero((da[:-1] >= 0) & (da[1:] <= 0)) + 1
+    p = ((da[:-1] >= 0) & (da[1:] <= 0)).nonzero()[0] + 1
     p = p[(p >= max(lo, 1)) & (p < last_pair)]
     if p.size:
         ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
@@ -227,7 +228,7 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
                              strict=True))
     if yp is not None and np.isfinite(yp).all():
         return  # f' finite everywhere: every minimum below would be dropped (end of function)
-    k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
+    k = ((da[:-1] <= 0) & (da[1:] >= 0)).nonzero()[0] + 1
     k = k[(k >= max(lo, 1)) & (k < last_pair)]
     if k.size == 0:
         return
@@ -279,8 +280,8 @@ def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: i
     sl = slice(lo, last_pair)
     y0, y1, d0, d1 = y[lo:last_pair], y[lo + 1:last_pair + 1], yp[sl], yp[lo + 1:last_pair + 1]
     s = np.where(np.signbit(y0), -1.0, 1.0)
-    k = np.flatnonzero((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
-                       & (s * d0 < 0) & (s * d1 > 0))
+    k = ((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
+         & (s * d0 < 0) & (s * d1 > 0)).nonzero()[0]
     if k.size == 0:
         return
     x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
@@ -310,14 +311,16 @@ def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
     n = len(y)
     if n < 3 * _WINDOW:
         return np.zeros(0, dtype=int)
-    d = np.signbit(np.diff(y))
+    # (slices and ufuncs, not np.diff and friends: this runs on every chunk, and their
+    # wrappers cost as much as the arithmetic on a 2001-sample grid)
+    d = np.signbit(y[1:] - y[:-1])
     turn = d[1:] != d[:-1]
     nwin = (len(turn)) // _WINDOW
-    counts = turn[: nwin * _WINDOW].reshape(nwin, _WINDOW).sum(axis=1)
-    bad = np.flatnonzero(counts > _MAX_EXTREMA)
+    counts = np.add.reduce(turn[: nwin * _WINDOW].reshape(nwin, _WINDOW), axis=1, dtype=int)
+    bad = (counts > _MAX_EXTREMA).nonzero()[0]
     if yp is not None and x is not None:
         # (the last, partial window too: pair i lies in window i // _WINDOW)
-        pairs = np.flatnonzero(_inconsistent(x, y, yp)) // _WINDOW
+        pairs = _inconsistent(x, y, yp).nonzero()[0] // _WINDOW
         if pairs.size:
             bad = np.union1d(bad, pairs)
     return bad
@@ -336,11 +339,12 @@ def _inconsistent(x: np.ndarray, y: np.ndarray, yp: np.ndarray) -> np.ndarray:
     sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
     non-finite value are left to the other checks.
     """
-    h = np.diff(x)
-    dy = np.diff(y)
-    avg = 0.5 * h * (yp[:-1] + yp[1:])
-    scale_ = np.abs(dy) + 0.5 * h * (np.abs(yp[:-1]) + np.abs(yp[1:]))
-    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (np.abs(y[:-1]) + np.abs(y[1:]))
+    half = 0.5 * (x[1:] - x[:-1])
+    dy = y[1:] - y[:-1]
+    avg = half * (yp[:-1] + yp[1:])
+    ap, ay = np.abs(yp), np.abs(y)
+    scale_ = np.abs(dy) + half * (ap[:-1] + ap[1:])
+    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (ay[:-1] + ay[1:])
     return np.abs(dy - avg) > allow  # NaN compares False
 
 
