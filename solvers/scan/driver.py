@@ -268,7 +268,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     unsure[[i for i in flagged if i < len(roots)]] = True
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
                                                        b, scale, typical, h, unsure,
-                                                       np.array(clean, dtype=bool))
+                                                       np.array(clean) if clean else None)
     for u, v in runs:
         notes.append(Detail("zero_run", (float(u), float(v))))
     for p in bounded:

@@ -11,7 +11,7 @@ import numpy as np
 
 from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
-from solvers.scan.noise import _at_noise, _noise, _ramp_clean, _ramp_points
+from solvers.scan.noise import _LOOK_ALL, _at_noise, _noise, _ramp_clean, _ramp_points
 from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
 from solvers.scan.sampling import _Guarded
 
@@ -402,7 +402,8 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
     consistent with one c (x - r)^m (more roots may hide within a sample spacing).
     ``clean``, when a list, receives per root whether f is a clean ramp there
     (:func:`solvers.scan.noise._ramp_clean`, judged from points evaluated with the
-    multiplicity ladder, in the same call of f), for the noise look.
+    multiplicity ladder, in the same call of f), for the noise look; it stays empty with
+    more than ``_LOOK_ALL`` roots (the noise look then examines only crowded roots).
     """
     found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
     zero = min(scale, 1.0)  # x floor near zero, as for the step test's xtol
@@ -428,11 +429,13 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
     reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * zero))
     odd = np.array([r.odd for r in merged])
-    ramp = _ramp_points(x, scale) if clean is not None else None
+    # (only where the noise look examines every root: beyond _LOOK_ALL roots it examines
+    # the crowded ones alone, and the points would be spent for nothing)
+    ramp = _ramp_points(x, scale) if clean is not None and len(x) <= _LOOK_ALL else None
     mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale, ramp)
     if flags is not None:
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
-    if clean is not None:
+    if ramp is not None:
         clean.extend(_ramp_clean(ramp).tolist())
     return [
         _new_root(xi, ri, mi if DOMAIN_EDGE_CODES.isdisjoint(r.how) else 1, r.how,
