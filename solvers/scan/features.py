@@ -194,7 +194,7 @@ def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
     """
     out = []
     for end, inner, side in ((a, a + h, +1), (b, b - h, -1)):
-        fe, fi = g.scalar(end), g.scalar(inner)
+        fe, fi = g.fast(end), g.fast(inner)
         if not (math.isfinite(fe) and math.isfinite(fi)):
             continue
         if fe == 0:
