@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import functools
 import math
+import operator
 
 import numpy as np
 
@@ -394,6 +395,9 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
     return found
 
 
+_by_x = operator.attrgetter("x")
+
+
 def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
             clean=None) -> list[Root]:
     """Deduplicate, estimate multiplicities, evaluate residuals, sort.
@@ -405,20 +409,25 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
     multiplicity ladder, in the same call of f), for the noise look; it stays empty with
     more than ``_LOOK_ALL`` roots (the noise look then examines only crowded roots).
     """
-    found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
+    found = sorted((r for r in found if math.isfinite(r.x)), key=_by_x)
     zero = min(scale, 1.0)  # x floor near zero, as for the step test's xtol
-    merged: list[_Found] = []
-    for r in found:
-        if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * zero):
-            prev = merged[-1]
-            if prev.bracket is None and r.bracket is not None:
-                merged[-1] = r
-            continue
-        merged.append(r)
-    if not merged:
+    if not found:
         return []
-    xs = [r.x for r in merged]
-    x = np.array(xs)
+    x = np.array([r.x for r in found])
+    close = np.abs(x[1:] - x[:-1]) <= 64 * EPS * np.maximum(np.abs(x[1:]), 1e-3 * zero)
+    if np.count_nonzero(close):  # (else every root stays: the loop below would keep all)
+        merged: list[_Found] = []
+        for r in found:
+            if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * zero):
+                prev = merged[-1]
+                if prev.bracket is None and r.bracket is not None:
+                    merged[-1] = r
+                continue
+            merged.append(r)
+        x = np.array([r.x for r in merged])
+    else:
+        merged = found
+    xs = x.tolist()
     features = np.sort(np.array(
         xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
     # distance to the nearest other feature (root, pole, jump, gap end) on either side

@@ -265,7 +265,8 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
     nearer = np.abs(flo) <= np.abs(fhi)
     x = np.where(nearer, lo, hi)
-    how: list[tuple[str, ...]] = [("zero_at_iterate",) if z else ("anderson_bjorck",)
+    at_zero, bracketed = ("zero_at_iterate",), ("anderson_bjorck",)  # (shared tuples)
+    how: list[tuple[str, ...]] = [at_zero if z else bracketed
                                   for z in (root & (lo == hi)).tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
@@ -285,10 +286,8 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     ir = np.flatnonzero(root)
     # (plain Python lists: indexing numpy arrays per root costs more than the roots' records)
     found = [
-        _Found(xi, True, hw, bracket=(row[0], row[1]),
-               run=functools.partial(_brent_record, g, row, xtol))
-        for xi, hw, row in zip(x[ir].tolist(), [how[i] for i in ir.tolist()],
-                               br[ir].tolist(), strict=True)
+        _Found(xi, True, how[i], (row[0], row[1]), functools.partial(_brent_record, g, row, xtol))
+        for xi, i, row in zip(x[ir].tolist(), ir.tolist(), br[ir].tolist(), strict=True)
     ]
     poles: list[float] = []
     jumps: list[float] = []
