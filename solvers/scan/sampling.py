@@ -150,6 +150,13 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     Written as a few full passes over the chunk that select a handful of indices,
     then exact tests on those few (most samples are nothing).
     """
+    # only [lo, hi) and 4 samples either side are read (the kink test reaches 3 away):
+    # between resampled windows a chunk is visited piece by piece, not whole each time
+    start, stop = max(lo - 4, 0), min(hi + 4, len(x))
+    if start > 0 or stop < len(x):
+        x, y = x[start:stop], y[start:stop]
+        yp = None if yp is None else yp[start:stop]
+        lo, hi = lo - start, hi - start
     n = len(x)
     if yp is not None:
         _detect_extrema(x, y, yp, lo, hi, out)
