@@ -194,9 +194,10 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         fk = f3[1]
         # a maximum is located only to sqrt(eps) too; where |f| still changes across that
         # width (a pole there, not a flat smooth peak) the search goes on down to 4 eps,
-        # where the growth test needs to stand next to it. A peak whose concave ceiling
-        # stays below twice the sampled |f| is bounded (``_golden``'s ``limit``): no pole,
-        # its search stops there (the troughs of a sampled oscillation, sin(x^2))
+        # where the growth test needs to stand next to it. A peak proved bounded below
+        # twice the sampled |f| (``_golden``'s ``limit``: concave, and the probe where the
+        # outer chords meet below them) is no pole, and its search stops there (the peaks
+        # of |f| of a sampled oscillation, sin(x^2))
         bounded_peak = np.zeros(len(pk), dtype=bool)
         xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True,
                             rel=_SQRT_EPS, ends=(-f3[0], -f3[2]), positive=bounded_peak,
