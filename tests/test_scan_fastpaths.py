@@ -115,3 +115,42 @@ def test_scalar_and_vectorised_bracketing_agree(k, monkeypatch) -> None:
             assert (lo[i] == hi[i] and flo[i] == 0) or (flo[i] < 0) != (fhi[i] < 0)
         # brackets that did not converge are handed on unchanged, for the classification
         assert np.array_equal(np.column_stack([lo, hi, flo, fhi])[~done], br[~done])
+
+
+# ------------------------------------------------ the noise look's clean-ramp shortcut
+
+
+@pytest.mark.parametrize("text, a, b", [
+    ("cos(x)*cosh(x) + 1", 0.0, 50.0),  # clean simple roots: the shortcut skips them all
+    # Chebyshev T12 written out (numpy.polynomial.chebyshev.cheb2poly): rounding noise
+    # near every root, so the noise look must still run and merge each cluster
+    ("2048*x^12 - 6144*x^10 + 6912*x^8 - 3584*x^6 + 840*x^4 - 72*x^2 + 1", -1.0, 1.0),
+    # (x - 1)^9 multiplied out (binomial theorem): one root cluster in rounding noise
+    ("x^9 - 9*x^8 + 36*x^7 - 84*x^6 + 126*x^5 - 126*x^4 + 84*x^3 - 36*x^2 + 9*x - 1",
+     0.0, 2.0),
+    ("x^3 - 2*x - 5", -3.0, 3.0),
+])
+def test_clean_ramps_judged_with_the_ladder_change_nothing(text, a, b, monkeypatch) -> None:
+    # the clean-ramp test riding on the multiplicity ladder's call of f is the noise look's
+    # own first test: with it off (every root examined by the noise look), the scan reports
+    # the same roots, multiplicities, noise bands and details
+    from solvers.scan import features
+
+    eq = parse_equation(text)
+    # (the written-out ninth power with f' takes seconds either way: its noise re-scan)
+    for kw in ({},) if "126" in text else ({}, {"fprime": eq.fprime}):
+        fast = scan(eq.f, a, b, **kw)
+        monkeypatch.setattr(features, "_LOOK_ALL", -1)
+        slow = scan(eq.f, a, b, **kw)
+        monkeypatch.undo()
+        assert [(r.x, r.multiplicity, r.confirmed) for r in fast.roots] == [
+            (r.x, r.multiplicity, r.confirmed) for r in slow.roots]
+        assert fast.noise_bands == slow.noise_bands
+        assert [d.code for d in fast.details] == [d.code for d in slow.details]
+    if "6144" in text:  # T12's 12 roots are cos((2k - 1) pi / 24) (closed form)
+        want = np.sort(np.cos((2 * np.arange(1, 13) - 1) * np.pi / 24))
+        assert np.max(np.abs(np.array([r.x for r in fast.roots]) - want)) <= 1e-12
+    if "126" in text:  # the noise look ran: one cluster at 1 of multiplicity 9
+        assert fast.noise_bands and [r.multiplicity for r in fast.roots] == [9]
+        band = fast.noise_bands[0]
+        assert abs(fast.roots[0].x - 1.0) <= 0.5 * (band[1] - band[0])
