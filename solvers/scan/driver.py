@@ -26,7 +26,13 @@ from solvers.scan.features import (
     _touch_search,
     _zero_samples,
 )
-from solvers.scan.kernels import _SQRT_EPS, _golden, _overflow_brackets, _resolve_brackets
+from solvers.scan.kernels import (
+    _SQRT_EPS,
+    _golden,
+    _golden_start,
+    _overflow_brackets,
+    _resolve_brackets,
+)
 from solvers.scan.noise import _noise_clusters, _sigma
 from solvers.scan.records import EPS, Root, Scan, _Found
 from solvers.scan.sampling import DEFAULT_SAMPLES, _Candidates, _Guarded, _sample_grid
@@ -189,8 +195,10 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     # sharp peaks of |f| without a sign change: poles when |f| keeps growing toward a point
     if cand.peaks:
         pk = np.array(cand.peaks)
-        # |f| at the peak sample and at its two neighbours (the search's bracket ends)
-        f3 = np.abs(g(pk.T.reshape(-1))).reshape(3, -1)
+        # |f| at the peak sample, at its two neighbours (the search's bracket ends) and at
+        # golden section's first two points, in one call
+        c0, d0 = _golden_start(pk[:, 0], pk[:, 2])
+        f3 = np.abs(g(np.concatenate([pk.T.reshape(-1), c0, d0]))).reshape(5, -1)
         fk = f3[1]
         # a maximum is located only to sqrt(eps) too; where |f| still changes across that
         # width (a pole there, not a flat smooth peak) the search goes on down to 4 eps,
@@ -201,7 +209,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         bounded_peak = np.zeros(len(pk), dtype=bool)
         xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True,
                             rel=_SQRT_EPS, ends=(-f3[0], -f3[2]), positive=bounded_peak,
-                            limit=-2.0 * fk)
+                            limit=-2.0 * fk, first=(-f3[3], -f3[4]))
         w = np.maximum(_SQRT_EPS * np.abs(xb), xtol)
         open_ = np.flatnonzero(np.isfinite(fb) & ~bounded_peak)
         side = np.abs(g(np.concatenate([xb[open_] - w[open_], xb[open_] + w[open_]])))

@@ -357,10 +357,19 @@ def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi, where: bool = False):
     return (floor, xs, middle) if where else floor
 
 
+_GOLDEN = (math.sqrt(5) - 1) / 2
+
+
+def _golden_start(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The first two points of golden section on each [lo, hi]."""
+    return hi - _GOLDEN * (hi - lo), lo + _GOLDEN * (hi - lo)
+
+
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
             *, peak: bool = False, rel: float = 4 * EPS,
             ends: tuple[np.ndarray, np.ndarray] | None = None,
-            positive: np.ndarray | None = None, limit: np.ndarray | None = None):
+            positive: np.ndarray | None = None, limit: np.ndarray | None = None,
+            first: tuple[np.ndarray, np.ndarray] | None = None):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
@@ -382,17 +391,21 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     are not concave. A pole in (c, d) can make them look concave, but then x* lies on one
     side of it, where the convex |f| is on or above the extension of that side's chord
     beyond it: |f(x*)| is at least the chords' value there, and the strict test fails.
+    ``first``: the objective already evaluated at the first two points
+    (:func:`_golden_start`), when the caller asked f for them with other points.
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
         return -np.abs(g(v)) if peak else s * g(v)
 
-    r = (math.sqrt(5) - 1) / 2
+    r = _GOLDEN
     lo, hi = lo.copy(), hi.copy()
-    c = hi - r * (hi - lo)
-    d = lo + r * (hi - lo)
-    # (both first points in one call of f: each call costs f's whole overhead)
-    fc, fd = objective(np.concatenate([c, d]), np.concatenate([sign, sign])).reshape(2, -1)
+    c, d = _golden_start(lo, hi)
+    if first is not None:
+        fc, fd = first[0].astype(float), first[1].astype(float)
+    else:
+        # (both first points in one call of f: each call costs f's whole overhead)
+        fc, fd = objective(np.concatenate([c, d]), np.concatenate([sign, sign])).reshape(2, -1)
     xbest = np.where(fc <= fd, c, d)
     fbest = np.minimum(fc, fd)
     crossed = (fbest < 0) if not peak else np.zeros(len(lo), dtype=bool)

@@ -34,7 +34,12 @@ _MAX_LEVEL = 2  # at most 64x the base density
 _POLL = 0.02  # seconds of work between two polls of cancel()
 
 
+_FLOAT = np.dtype(float)
+
+
 def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
+    if type(y) is np.ndarray and y.dtype == _FLOAT and y.shape == shape:
+        return y  # (already what the scan needs: the usual case, no conversion)
     arr = np.asarray(y)
     if np.iscomplexobj(arr):
         arr = np.where(arr.imag == 0, arr.real, np.nan)
