@@ -3,6 +3,7 @@
 Never imports Qt. Every front end (CLI, window, report, tests) calls these functions.
 """
 
+from solvers.batch import Batch, BatchCancelled, solve_batch, sweep
 from solvers.equation import Equation, EquationError, parse_equation
 from solvers.methods import (
     METHODS,
@@ -19,6 +20,8 @@ from solvers.records import REASONS, Run, Step, observed_order
 from solvers.scan import Root, Scan, ScanCancelled, scan
 
 __all__ = [
+    "Batch",
+    "BatchCancelled",
     "METHODS",
     "REASONS",
     "Equation",
@@ -39,4 +42,6 @@ __all__ = [
     "run_method",
     "scan",
     "secant",
+    "solve_batch",
+    "sweep",
 ]

@@ -1,0 +1,204 @@
+"""sweep: follow a root along one parameter by continuation, row after row.
+
+Continuation is sequential by nature (each row starts where the previous one ended), so
+each row runs the scalar method of the registry (:func:`solvers.run_method`) on the
+equation bound to that row's value: every row is a full single solve (its ``Run`` is
+rebuilt by :meth:`Batch.run` identically), and hundreds of values take milliseconds to a
+few tenths of a second. The vectorised kernels gain nothing here.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
+
+import numpy as np
+
+from solvers.batch.records import Batch, BatchCancelled
+from solvers.equation import EquationError
+from solvers.methods.common import (
+    DEFAULT_FTOL,
+    DEFAULT_MAX_ITER,
+    DEFAULT_RTOL,
+    DEFAULT_XTOL,
+    DERIVATIVE_STEP,
+    _check_settings,
+)
+from solvers.methods.registry import method_spec, run_method
+from solvers.records import NOT_FINITE
+
+# A converged root counts as a jump off the branch when it lies farther from the
+# straight-line prediction of the last two roots than JUMP_FACTOR times the predicted
+# step (or the last step). Near a fold the root moves like sqrt(distance to the fold),
+# so consecutive steps grow by at most ~2.4x (sqrt(h) against sqrt(2h) - sqrt(h)) and a
+# prediction error of 3 steps is not reached on the branch itself (common practice for
+# step control in continuation; the constant is ours).
+JUMP_FACTOR = 3.0
+
+
+def _slope(equation: Any, x: float) -> float:
+    """f'(x): the symbolic derivative when there is one, else a central difference."""
+    if equation.fprime is not None:
+        return float(equation.fprime(x))
+    h = DERIVATIVE_STEP * max(abs(x), 1e-3)
+    return float((equation.f(x + h) - equation.f(x - h)) / (2.0 * h))
+
+
+def sweep(
+    equation: Any,
+    name: str,
+    values: Sequence[float] | np.ndarray,
+    *,
+    x0: float | None = None,
+    x1: float | None = None,
+    bracket: tuple[float, float] | None = None,
+    method: str = "newton",
+    parameters: Mapping[str, float] | None = None,
+    bounds: tuple[float, float] | None = None,
+    damping: float = 1.0,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+    progress: Callable[[float], Any] | None = None,
+    cancel: Callable[[], bool] | None = None,
+) -> Batch:
+    """Solve ``equation`` for each value of parameter ``name``, in the order given.
+
+    Each row starts from the previous row's converged root (continuation), so one branch
+    of roots is followed; the first row starts from ``x0``. For the secant the second
+    start value keeps the spacing ``x1 - x0`` (``x1`` required). A bracketing method
+    needs no start value: every row uses ``bracket`` (a ``fixed_bracket`` note on row 0).
+
+    ``.notes`` (flat index, code) say where the branch ends or changes:
+    ``failed`` (the row did not converge; the next row restarts from the last good
+    root, ``restart_last_good``, or from x0 when there is none, ``restart_x0``),
+    ``branch_jump`` (the root lies far off the straight-line prediction of the last two:
+    the branch ended, typically at a turning point, and another branch was found),
+    ``turning_point`` (f' at the root changed sign from the previous row: a fold was
+    crossed), ``left_range`` (the root is outside ``bounds``; continuation goes on from
+    the last root inside), ``bad_parameters`` (the value gives part of f no finite value).
+
+    Other parameters are floats: ``parameters`` (or the equation's own values) with
+    ``name`` replaced row by row. Tolerances, ``damping``, ``progress`` and ``cancel`` as
+    in :func:`solvers.solve_batch` (:class:`BatchCancelled` when cancelled). Raises
+    ValueError for an unknown name, values that are not finite numbers, missing start
+    values or an invalid setting.
+    """
+    spec = method_spec(method)
+    tol = _check_settings(xtol, rtol, ftol, max_iter)
+    if name not in equation.names[1:]:
+        what = "is the unknown" if name == equation.unknown else "is not a parameter"
+        raise ValueError(f"'{name}' {what} of the equation; sweep one of its parameters")
+    try:
+        rows = np.asarray(values, dtype=np.float64).reshape(-1)
+    except (TypeError, ValueError):
+        raise ValueError("sweep values must be numbers") from None
+    if not np.isfinite(rows).all():
+        raise ValueError("sweep values must be finite")
+    base = dict(equation.parameters if parameters is None else parameters)
+    arrays = [n for n, v in base.items() if n != name and isinstance(v, np.ndarray)]
+    if arrays:
+        raise ValueError(f"a sweep varies one parameter; '{arrays[0]}' holds several values")
+    kind = spec.kind
+    if kind != "bracket" and x0 is None:
+        raise ValueError(f"method {spec.name!r} needs a start value x0")
+    if kind == "two_point" and x1 is None:
+        raise ValueError("the secant needs x1 (its spacing from x0 is kept from row to row)")
+    if kind == "bracket" and bracket is None:
+        raise ValueError(f"method {spec.name!r} needs a bracket (a, b)")
+    if spec.name == "newton" and not 0.0 < float(damping) <= 1.0:
+        raise ValueError(f"damping must be in (0, 1], got {damping!r}")
+    symbolic = spec.name == "newton" and equation.fprime is not None
+    settings: dict[str, Any] = dict(tol)
+    if spec.name == "newton":
+        settings["damping"] = float(damping)
+        settings["derivative"] = "symbolic" if symbolic else "numerical"
+    settings["swept"] = name
+
+    n = rows.size
+    root = np.full(n, np.nan)
+    converged = np.zeros(n, dtype=bool)
+    reason = np.full(n, NOT_FINITE, dtype="<U15")
+    iterations = np.zeros(n, dtype=np.int64)
+    evaluations = np.zeros(n, dtype=np.int64)
+    residual = np.full(n, np.nan)
+    starts_x0 = np.full(n, np.nan)
+    notes: list[tuple[int, str]] = []
+    if kind == "bracket":
+        notes.append((0, "fixed_bracket"))
+    spacing = (float(x1) - float(x0)) if kind == "two_point" else 0.0
+    first = float(x0) if x0 is not None else math.nan
+    last_good: float | None = None
+    branch: list[tuple[float, float]] = []  # (value, root) of the branch now followed
+    last_slope: float | None = None
+    restarted = False
+    for k, value in enumerate(rows.tolist()):
+        if cancel is not None and cancel():
+            raise BatchCancelled
+        if progress is not None:
+            progress(k / n)
+        start = last_good if last_good is not None else first
+        if restarted:
+            notes.append((k, "restart_last_good" if last_good is not None else "restart_x0"))
+            restarted = False
+        starts_x0[k] = start
+        try:
+            bound = equation.bind({**base, name: value})
+        except EquationError:
+            notes.append((k, "bad_parameters"))
+            restarted, branch = True, []
+            continue
+        run = run_method(
+            spec.name, bound.f, fprime=bound.fprime if symbolic else None,
+            derivative_source="symbolic" if symbolic else None,
+            x0=start, x1=start + spacing, bracket=bracket, damping=damping, **tol)
+        reason[k], iterations[k], evaluations[k] = run.reason, run.iterations, run.evaluations
+        if not run.converged:
+            notes.append((k, "failed"))
+            restarted, branch = True, []
+            continue
+        converged[k], root[k], residual[k] = True, run.root, run.residual
+        if bounds is not None and not min(bounds) <= run.root <= max(bounds):
+            notes.append((k, "left_range"))
+            restarted, branch = True, []
+            continue
+        if _jumped(branch, value, run.root, tol):
+            notes.append((k, "branch_jump"))
+            branch = []
+        slope = _slope(bound, run.root)
+        if last_slope is not None and branch and math.isfinite(slope) and slope * last_slope < 0:
+            notes.append((k, "turning_point"))
+        last_slope = slope if math.isfinite(slope) else last_slope
+        branch = [*branch[-1:], (value, run.root)]
+        last_good = run.root
+    if progress is not None:
+        progress(1.0)
+    starts: dict[str, Any] = {}
+    if kind == "bracket":
+        starts["a"], starts["b"] = (float(v) for v in bracket)  # type: ignore[union-attr]
+    else:
+        starts["x0"] = starts_x0
+        if kind == "two_point":
+            starts["x1"] = starts_x0 + spacing
+    return Batch(root=root, converged=converged, reason=reason, iterations=iterations,
+                 evaluations=evaluations, residual=residual, notes=tuple(notes),
+                 method=spec.name, settings=settings, equation=equation,
+                 parameters={**{n: float(v) for n, v in base.items() if n != name},
+                             name: rows},
+                 starts=starts)
+
+
+def _jumped(branch: list[tuple[float, float]], value: float, root: float,
+            tol: Mapping[str, Any]) -> bool:
+    """Whether ``root`` at ``value`` lies off the straight line through the last two."""
+    if len(branch) < 2:
+        return False
+    (p0, r0), (p1, r1) = branch
+    if p1 == p0:
+        return False
+    predicted = (r1 - r0) * (value - p1) / (p1 - p0)
+    floor = 1e3 * (tol["xtol"] + tol["rtol"] * abs(root))
+    scale = max(abs(predicted), abs(r1 - r0))
+    return abs((root - r1) - predicted) > JUMP_FACTOR * scale + floor
