@@ -153,8 +153,9 @@ class Work:
     ``rows`` are chunk positions (ascending), ``position`` their places among the rows
     bound in :class:`Rows`. Every kernel iterates its rows in step, so the iteration count
     ``k`` is one number; calls of f made for every active row are counted in ``calls``
-    and calls for some rows only (probes) in the array ``extra``. Every attribute that is
-    an array of the active length is compressed by :meth:`finish`.
+    and calls for some rows only (probes) per chunk row. Every attribute that is an array
+    of the active length is compressed by :meth:`finish` (private ones, named ``_...``,
+are per chunk row and are not).
     """
 
     def __init__(self, out: Outcome, fn: Rows, rows: np.ndarray, poll: Poll,
@@ -164,8 +165,22 @@ class Work:
         self.position = np.arange(rows.size)
         self.k = 0
         self.calls = 0
-        self.extra = np.zeros(rows.size, dtype=np.int64)
+        # per chunk row, never compressed: calls made for some rows only (probes), and
+        # values kept from the start (read through ``kept``)
+        self._extra = np.zeros(len(out.code), dtype=np.int64)
+        self._kept: dict[str, np.ndarray] = {}
         self.__dict__.update(arrays)
+
+    def keep(self, **arrays: np.ndarray) -> None:
+        """Keep start values (active length now) for later reading by :meth:`kept`."""
+        for name, value in arrays.items():
+            whole = np.full(len(self.out.code), np.nan)
+            whole[self.rows] = value
+            self._kept[name] = whole
+
+    def kept(self, name: str, idx: np.ndarray) -> np.ndarray:
+        """A kept start value of the active rows ``idx``."""
+        return self._kept[name][self.rows[idx]]
 
     @property
     def size(self) -> int:
@@ -179,7 +194,7 @@ class Work:
         else:
             if subset.dtype == bool:
                 subset = np.flatnonzero(subset)
-            self.extra[subset] += 1
+            self._extra[self.rows[subset]] += 1
             m = int(subset.size)
         if fn.fixed or m == fn.size:  # every bound row (active rows are among them)
             return fn.direct(which, x)
@@ -192,13 +207,21 @@ class Work:
         position = self.position if subset is None else self.position[subset]
         return fn.through_buffer(which, x, position)
 
+    def _owned(self, which: str, x: np.ndarray, subset: np.ndarray | None) -> np.ndarray:
+        # The kernels write into f's values in place: never into x itself (f = x returns
+        # its argument) or a read-only broadcast.
+        out = self._evaluate(which, x, subset)
+        if not out.flags.writeable or np.may_share_memory(out, x):
+            out = np.array(out, dtype=np.float64)
+        return out
+
     def f(self, x: np.ndarray, subset: np.ndarray | None = None) -> np.ndarray:
         """f at x for every active row (``subset`` None) or for the rows ``subset`` marks
         (a boolean mask or ascending indices of the active rows)."""
-        return self._evaluate("f", x, subset)
+        return self._owned("f", x, subset)
 
     def fprime(self, x: np.ndarray) -> np.ndarray:
-        return self._evaluate("fprime", x, None)
+        return self._owned("fprime", x, None)
 
     def finish(self, code: np.ndarray, root: np.ndarray, residual: np.ndarray) -> None:
         """Finish the rows with ``code >= 0`` (their stop reasons), with root and residual."""
@@ -206,11 +229,11 @@ class Work:
         if not mask.any():
             return
         self.out.write(self.rows[mask], code[mask], root[mask], residual[mask],
-                       self.k, self.calls + self.extra[mask])
+                       self.k, self.calls + self._extra[self.rows[mask]])
         keep = np.flatnonzero(~mask)  # once, then a plain take per array
         n = mask.size
         for name, value in list(vars(self).items()):
-            if isinstance(value, np.ndarray) and value.shape == (n,):
+            if isinstance(value, np.ndarray) and value.shape == (n,) and name[0] != "_":
                 setattr(self, name, value.take(keep))
 
     def stop(self, mask: np.ndarray, code: int, root: np.ndarray, residual: np.ndarray) -> None:
@@ -267,78 +290,82 @@ def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:
     return inside & steady & (np.abs(chord) <= _CHORD_SHARE * np.maximum(np.abs(f1), np.abs(f2)))
 
 
-def iterate_zero(w: Work, zero: np.ndarray, x, x1, f1, u1, x2, f2, u2, tol):
-    """f(x) == 0.0 at bracketing iterates (rows ``zero`` marks; the other arguments full
-    length): element-wise :func:`solvers.methods.bracketing._iterate_zero`.
+def carried(f: np.ndarray) -> np.ndarray:
+    """Where a value is the signed tiny number an underflowed point is carried as.
 
-    Returns (root, inside, carried): ``root`` marks exact zeros, ``inside`` zeros that are
-    only underflow between real ends (the run stops not finite), ``carried`` the signed
-    tiny value for zeros in an end's stretch of underflow (NaN elsewhere).
+    The scalar methods keep the points whose f underflowed to 0.0 in a set and carry
+    their f as +-5e-324 (the smallest double, a sign without a size); here the value
+    itself marks them (an f that truly returned +-5e-324 counts as underflowed too: it
+    has no size either).
     """
-    n = x.size
-    root = np.zeros(n, dtype=bool)
-    inside = np.zeros(n, dtype=bool)
-    carried = np.full(n, np.nan)
-    carry_1 = zero & u1
-    carry_2 = zero & u2 & ~u1
-    carried[carry_1] = np.copysign(_TINY, f1[carry_1])
-    carried[carry_2] = np.copysign(_TINY, f2[carry_2])
-    rest = zero & ~(u1 | u2)
-    straight = rest & _straight_through(x, x1, f1, x2, f2, tol)
-    root |= straight
-    ask = rest & ~straight
+    return np.abs(f) == _TINY
+
+
+def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
+    """f(x) == 0.0 at bracketing iterates: element-wise
+    :func:`solvers.methods.bracketing._iterate_zero` for the active rows ``idx`` (the
+    other arguments are those rows' values, ends (x1, f1) and (x2, f2)).
+
+    Returns (root, inside, value): ``root`` marks exact zeros, ``inside`` zeros that are
+    only underflow between real ends (the run stops not finite), ``value`` the f to go on
+    with (the signed tiny value inside an end's stretch of underflow, else 0.0).
+    """
+    u1, u2 = carried(f1), carried(f2)
+    value = np.zeros(x.size)
+    value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
+    rest = ~(u1 | u2)
+    root = rest & _straight_through(x, x1, f1, x2, f2, tol)
+    inside = np.zeros(x.size, dtype=bool)
+    ask = rest & ~root
     if ask.any():
         far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
-        verdict = zero_is_root(w, ask, x[ask], tol[ask], far[ask])
+        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask])
         where = np.flatnonzero(ask)
         root[where[verdict]] = True
         inside[where[~verdict]] = True
-    return root, inside, carried
+    return root, inside, value
 
 
-def closed_verdict(w: Work, mask: np.ndarray, lo, flo, ulo, hi, fhi, uhi) -> np.ndarray:
-    """Codes for brackets that closed below tolerance (rows ``mask`` marks, -1 for the
-    others; arrays full length): element-wise
+def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
+    """Codes for the active rows ``idx`` whose brackets [lo, hi] closed below tolerance
+    (the other arguments are those rows' values): element-wise
     :func:`solvers.methods.common._closed_bracket_reason` and the pole test of
     :func:`solvers.methods.common._finish`.
 
-    Uses the work's start arrays ``a0, fa0, b0, fb0`` (the bracket as given, f there as
-    evaluated). ``x_tolerance`` for a root; ``not_finite`` for an end in a stretch of
+    Uses the work's kept start values ``a0, fa0, b0, fb0`` (the bracket as given, f
+    there as evaluated). ``x_tolerance`` for a root; ``not_finite`` for an end in a stretch of
     underflow or a pole (|f| at the closed bracket above both starting ends);
     ``discontinuity`` for a jump (|f| not growing away from the bracket).
     """
-    code = np.where(mask, X_TOL, -1).astype(np.int8)
-    under = mask & (ulo | uhi)
-    code[under] = NOT_FIN
+    code = np.full(idx.size, X_TOL, dtype=np.int8)
+    a0, fa0, b0, fb0 = (w.kept(name, idx) for name in ("a0", "fa0", "b0", "fb0"))
+    under = carried(flo) | carried(fhi)
     near = np.minimum(np.abs(flo), np.abs(fhi))
-    ends = np.maximum(np.abs(w.fa0), np.abs(w.fb0))
-    pole = mask & ~under & (near > ends)
-    code[pole] = NOT_FIN
-    open_ = mask & ~under & ~pole
+    pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
+    code[under | pole] = NOT_FIN
+    open_ = ~under & ~pole
     if not open_.any():
         return code
     width = hi - lo
-    decided = np.zeros(lo.size, dtype=bool)
+    decided = ~open_
     # 1. the starting ends (already evaluated): |f| fell at least as fast as sqrt(distance)
-    for x0, f0 in ((w.a0, w.fa0), (w.b0, w.fb0)):
+    for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = np.maximum(lo - x0, x0 - hi)
         usable = (distance >= 2.0 * width) & np.isfinite(f0) & (f0 != 0.0)
         with np.errstate(all="ignore"):
-            fell = near <= np.abs(f0) * np.sqrt(width / distance)
-        decided |= open_ & usable & fell
+            decided |= usable & (near <= np.abs(f0) * np.sqrt(width / distance))
     # 2. probes 2**20 widths out, one side then the other: |f| must grow there
-    start_lo, start_hi = np.minimum(w.a0, w.b0), np.maximum(w.a0, w.b0)
     reach = _PROBE_REACH * width
-    for end, fend, probe in ((lo, flo, np.maximum(start_lo, lo - reach)),
-                             (hi, fhi, np.minimum(start_hi, hi + reach))):
-        ask = open_ & ~decided & (probe != end)
+    for end, fend, probe in ((lo, flo, np.maximum(np.minimum(a0, b0), lo - reach)),
+                             (hi, fhi, np.minimum(np.maximum(a0, b0), hi + reach))):
+        ask = ~decided & (probe != end)
         if not ask.any():
             continue
-        fp = w.f(probe[ask], ask)
+        fp = w.f(probe[ask], idx[ask])
         grew = (np.isfinite(fp) & (fp != 0.0) & same_sign(fp, fend[ask])
                 & (np.abs(fp) >= _PROBE_GROWTH * np.abs(fend[ask])))
         decided[np.flatnonzero(ask)[grew]] = True
-    code[open_ & ~decided] = DISCONT
+    code[~decided] = DISCONT
     return code
 
 
