@@ -33,7 +33,6 @@ from app.cli import (
     _setting,
 )
 
-START_COLUMNS = {"x0": "x0", "x1": "x1", "bracket_a": "a", "bracket_b": "b"}
 MAX_SWEEP = 1_000_000
 SHOWN_ROWS = 5  # first and last rows printed in a terminal
 
@@ -83,43 +82,6 @@ def _settings(args: argparse.Namespace) -> dict[str, Any]:
     if problem:
         raise InputError(f"zerotrace {args.command}: {problem} (set --xtol, --rtol or --ftol)")
     return out
-
-
-def _parse(args: argparse.Namespace, values: list[dict[str, float]]):
-    """Parse the equation once, with the first row of values it accepts.
-
-    A row whose values give part of the equation no value must not stop the table (it
-    becomes a ``bad_parameters`` row), so a few rows are tried; when none parses, the
-    first row's error is the message (a syntax error reads the same for every row).
-    """
-    from solvers import EquationError, parse_equation
-
-    first: EquationError | None = None
-    for row in values:
-        try:
-            return parse_equation(args.equation, unknown=args.unknown, parameters=row)
-        except EquationError as exc:
-            first = first or exc
-    assert first is not None
-    raise first
-
-
-def _starts(args: argparse.Namespace, method: str, columns: dict[str, np.ndarray]
-            ) -> dict[str, Any]:
-    from solvers import METHODS
-
-    x0 = columns.get("x0", args.x0)
-    x1 = columns.get("x1", args.x1)
-    a = columns.get("a", args.bracket[0] if args.bracket else None)
-    b = columns.get("b", args.bracket[1] if args.bracket else None)
-    needs = METHODS[method].needs
-    missing = {"x0": x0 is None, "x1": x1 is None, "bracket": a is None or b is None}
-    for need in needs:
-        if missing[need]:
-            flag = {"x0": "--x0 (or an x0 column)", "x1": "--x1 (or an x1 column)",
-                    "bracket": "--bracket A B (or bracket_a, bracket_b columns)"}[need]
-            raise InputError(f"zerotrace {args.command}: method {method} needs {flag}")
-    return {"x0": x0, "x1": x1, "bracket": (a, b) if a is not None and b is not None else None}
 
 
 def _meta(args: argparse.Namespace, equation: Any, batch: Any, constants: dict[str, float],
@@ -183,54 +145,50 @@ def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray]) -> None
     print(terminal._table(["row", *names, "root", "reason"], rows))
 
 
+def _core(args: argparse.Namespace, settings: dict[str, Any]) -> dict[str, Any]:
+    return {"unknown": args.unknown, "constants": dict(args.param), "method": args.method,
+            "x0": args.x0, "x1": args.x1,
+            "bracket": tuple(args.bracket) if args.bracket else None, **settings}
+
+
+def _input_error(where: str, exc: ValueError) -> InputError | ValueError:
+    """A column's or a start value's problem, said with where it is (the equation's own
+    errors already say where: they pass unchanged)."""
+    from solvers import EquationError
+
+    if isinstance(exc, EquationError):
+        return exc
+    if str(exc).startswith("method "):  # a start value the method needs
+        return InputError(f"{where}: {exc}: give it with --x0, --x1 or --bracket A B (a table "
+                          "may hold x0, x1, bracket_a, bracket_b columns)")
+    return InputError(f"{where}: {exc}")
+
+
 def cmd_batch(args: argparse.Namespace) -> int:
     from app.documents.tables import read_table
-    from solvers import solve_batch
+    from solvers.batch import solve_table
 
     settings = _settings(args)
     table = read_table(args.table)
-    constants = dict(args.param)
     for column in table.columns:
         if column.unit:
             raise InputError(
                 f"{table.path}: column {column.header!r}: units in table headers are not "
                 f"supported yet; give {column.name} in the equation's units and write the "
                 f"header as {column.name!r}")
-        if column.name in constants:
-            raise InputError(f"{table.path}: '{column.name}' is both a column and a --param")
     names = [c.name for c in table.columns]
-    rows = [{**constants, **{n: float(table.values[n][i]) for n in names}}
-            for i in range(min(table.rows, 20))]
     try:
-        equation = _parse(args, [{k: v for k, v in r.items() if k not in START_COLUMNS}
-                                 for r in rows])
-    except ValueError:
-        equation = _parse(args, rows)  # a parameter may be called x0: give it its value
-    parameters = set(equation.names[1:])
-    arrays: dict[str, np.ndarray] = {}
-    starts: dict[str, np.ndarray] = {}
-    for j, column in enumerate(table.columns):
-        if column.name in parameters:
-            arrays[column.name] = table.values[column.name]
-        elif column.name in START_COLUMNS:
-            starts[START_COLUMNS[column.name]] = table.values[column.name]
-        elif column.name == equation.unknown:
-            raise InputError(f"{table.path}: column {j + 1} {column.header!r} is the unknown; "
-                             "give start values as x0 (or bracket_a, bracket_b) columns")
-        else:
-            known = ", ".join(sorted(parameters)) or "none"
-            raise InputError(f"{table.path}: column {j + 1} {column.header!r} is not a "
-                             f"parameter of the equation (its parameters: {known})")
-    start = _starts(args, args.method, starts)
-    used = {k: v for k, v in constants.items() if k in parameters}
-    batch = solve_batch(equation, method=args.method, parameters={**used, **arrays},
-                        x0=start["x0"], x1=start["x1"], bracket=start["bracket"], **settings)
-    return _finish(args, equation, batch, used, [c.header for c in table.columns],
-                   list(table.cells), names, [table.values[n] for n in names],
+        done = solve_table(args.equation, [(n, table.values[n]) for n in names],
+                           **_core(args, settings))
+    except ValueError as exc:
+        raise _input_error(table.path, exc) from None
+    roles = {n: "parameter" if n in done.parameters else "start value" for n in names}
+    return _finish(args, done.equation, done.batch, done.constants,
+                   [c.header for c in table.columns], list(table.cells), names,
+                   [table.values[n] for n in names],
                    {"table": f"{table.path} ({table.rows} rows)",
-                    "columns": "; ".join(
-                        f"{c.header} ({'parameter' if c.name in arrays else 'start value'})"
-                        for c in table.columns)})
+                    "columns": "; ".join(f"{c.header} ({roles[c.name]})"
+                                         for c in table.columns)})
 
 
 def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
@@ -258,29 +216,20 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
 
 
 def cmd_sweep(args: argparse.Namespace) -> int:
-    from solvers import sweep
+    from solvers.batch import solve_sweep
 
     settings = _settings(args)
     name, values = _vary(args)
-    constants = dict(args.param)
-    if name in constants:
-        raise InputError(f"--vary: '{name}' is also given by --param")
-    from solvers.equation import free_names
-
-    if name == args.unknown or name not in free_names(args.equation):
-        raise InputError(f"--vary: '{name}' is " + ("the unknown" if name == args.unknown
-                                                    else "not a name of the equation"))
-    equation = _parse(args, [{**constants, name: float(v)} for v in values[:20]])
-    if name not in equation.names[1:]:
-        raise InputError(f"--vary: '{name}' is the unknown; sweep a parameter")
-    used = {k: v for k, v in constants.items() if k in equation.names}
-    start = _starts(args, args.method, {})
-    batch = sweep(equation, name, values, method=args.method, parameters=used,
-                  x0=start["x0"], x1=start["x1"], bracket=start["bracket"],
-                  bounds=tuple(args.within) if args.within else None, **settings)
+    try:
+        done = solve_sweep(args.equation, name, values,
+                           bounds=tuple(args.within) if args.within else None,
+                           **_core(args, settings))
+    except ValueError as exc:
+        raise _input_error("--vary", exc) from None
     cells = [[repr(float(v)) for v in values]]
     spacing = "logarithmic" if args.log else "linear"
-    return _finish(args, equation, batch, used, [name], cells, [name], [values],
+    return _finish(args, done.equation, done.batch, done.constants, [name], cells, [name],
+                   [values],
                    {"sweep": f"{name} from {values[0]!r} to {values[-1]!r}, {values.size} "
                              f"values, {spacing} spacing; each row starts from the previous "
                              "row's root"})

@@ -86,7 +86,18 @@ def read_table(path: str | os.PathLike[str]) -> Table:
         text = data.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise TableError(f"{shown}: not UTF-8 text (byte {exc.start})") from None
-    reader = csv.reader(io.StringIO(text, newline=""))
+    return parse_table(text, shown)
+
+
+def parse_table(text: str, shown: str = "pasted table") -> Table:
+    """A table of inputs from text (a file's, or cells pasted from a spreadsheet: a first
+    line holding a tab makes the table tab-separated, else comma-separated); ``shown``
+    names it in messages. :class:`TableError` as for :func:`read_table`."""
+    if len(text) > MAX_TABLE_BYTES:
+        raise TableError(f"{shown}: more than {MAX_TABLE_BYTES} characters")
+    first = next((line for line in text.splitlines()
+                  if line.strip() and not line.lstrip().startswith("#")), "")
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter="\t" if "\t" in first else ",")
     header: list[str] | None = None
     header_line = 0
     rows: list[list[str]] = []
