@@ -61,6 +61,7 @@ class MainWindow(QMainWindow):
         self.progress_updates = 0
         self.solve_started_at = 0.0
         self.solve_seconds = math.nan
+        self.tables: Any = None  # the tables-of-inputs window, built on first use
 
         self._build_widgets()
         build_actions(self)
@@ -433,6 +434,20 @@ class MainWindow(QMainWindow):
         self._refresh_title()
         self.statusBar().showMessage(f"Design value set to {_num(x)}", 8000)
         return True
+
+    def open_tables(self) -> None:
+        """The tables-of-inputs window, given this worksheet's equation, values and rules."""
+        from app.window.table_view import TableWindow
+
+        ws = self.solve_worksheet()
+        if self.tables is None:
+            self.tables = TableWindow(self.runner, self)
+        s = ws.settings
+        self.tables.set_worksheet(ws.equation, ws.unknown, ws.parameter_values(),
+                                  {"xtol": s.xtol, "rtol": s.rtol, "ftol": s.ftol,
+                                   "max_iter": s.max_iter, "damping": s.damping})
+        self.tables.show()
+        self.tables.raise_()
 
     def edit_calc_details(self) -> None:
         dialog = CalcDialog(self.worksheet(), self)

@@ -1,0 +1,501 @@
+"""Tables of inputs in the window: a table (opened, pasted or generated as a sweep), run
+off the UI thread with progress and cancel, its results as a table model over the
+batch's arrays, failed rows marked, a row's full method lane on demand, and the design
+chart (the root against a chosen column, log axes on request, failures marked).
+
+The window never computes: the work is :func:`solvers.batch.solve_table` or
+:func:`solvers.batch.solve_sweep` in the "batch" lane of the window's job runner, and
+every sentence comes from :mod:`app.documents.words`.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from functools import partial
+from typing import Any
+
+import numpy as np
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
+from PySide6.QtGui import QGuiApplication
+from PySide6.QtWidgets import (
+    QCheckBox,
+    QComboBox,
+    QFileDialog,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QProgressBar,
+    QPushButton,
+    QSpinBox,
+    QSplitter,
+    QVBoxLayout,
+    QWidget,
+)
+
+from app.documents import words
+from app.window.figure_view import FigureView
+from app.window.lanes import MethodLane
+from app.window.models import (
+    DEFAULT_DIGITS,
+    INVALID_BACKGROUND,
+    INVALID_FOREGROUND,
+    format_number,
+    number_font,
+)
+from app.window.views import CopyTableView
+
+Index = QModelIndex | QPersistentModelIndex
+LANE = "batch"
+RESULT_TITLES = ("root", "reason", "iterations", "residual")
+
+
+class BatchModel(QAbstractTableModel):
+    """Input columns and, once solved, the results, read straight from the arrays.
+
+    Nothing is copied per row: 10^5 rows scroll as fast as 10. ``Qt.UserRole`` gives the
+    raw value; a row that did not converge is shaded, its reason in words in the tooltip.
+    """
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self.names: list[str] = []
+        self.columns: list[np.ndarray] = []
+        self.batch: Any = None
+        self._digits = DEFAULT_DIGITS
+        self._font = number_font()
+        self._notes: dict[int, list[str]] = {}
+
+    def set_inputs(self, names: Sequence[str], columns: Sequence[np.ndarray]) -> None:
+        self.beginResetModel()
+        self.names = list(names)
+        self.columns = [np.asarray(c, dtype=np.float64).reshape(-1) for c in columns]
+        self.batch = None
+        self._notes = {}
+        self.endResetModel()
+
+    def set_batch(self, batch: Any) -> None:
+        self.beginResetModel()
+        self.batch = batch
+        self._notes = {}
+        for index, code in batch.notes:
+            self._notes.setdefault(index, []).append(words.batch_note_text(code))
+        self.endResetModel()
+
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008 (Qt signature)
+        return 0 if parent.isValid() or not self.columns else int(self.columns[0].size)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
+        if parent.isValid():
+            return 0
+        return len(self.names) + (len(RESULT_TITLES) if self.batch is not None else 0)
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if role != Qt.ItemDataRole.DisplayRole:
+            return None
+        if orientation == Qt.Orientation.Vertical:
+            return str(section + 1)
+        titles = [*self.names, *RESULT_TITLES]
+        return titles[section] if 0 <= section < len(titles) else None
+
+    def failed(self, row: int) -> bool:
+        return self.batch is not None and not bool(self.batch.converged.flat[row])
+
+    def raw(self, row: int, column: int) -> Any:
+        if column < len(self.names):
+            return float(self.columns[column][row])
+        b, which = self.batch, RESULT_TITLES[column - len(self.names)]
+        if which == "reason":
+            return str(b.reason.flat[row])
+        if which == "iterations":
+            return int(b.iterations.flat[row])
+        return float(getattr(b, which).flat[row])
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid():
+            return None
+        row, column = index.row(), index.column()
+        if role == Qt.ItemDataRole.BackgroundRole:
+            return INVALID_BACKGROUND if self.failed(row) else None
+        if role == Qt.ItemDataRole.ForegroundRole:
+            return INVALID_FOREGROUND if self.failed(row) else None
+        value = self.raw(row, column)
+        if role == Qt.ItemDataRole.DisplayRole:
+            if isinstance(value, float):
+                return "—" if math.isnan(value) and column >= len(self.names) \
+                    else format_number(value, self._digits)
+            return str(value)
+        if role == Qt.ItemDataRole.UserRole:
+            return value
+        if role == Qt.ItemDataRole.ToolTipRole:
+            lines = [words.exact(value)] if isinstance(value, float) else []
+            if self.batch is not None:
+                lines.append(words.reason_text(str(self.batch.reason.flat[row])))
+                lines.extend(self._notes.get(row, []))
+            return "\n".join(lines) or None
+        if role == Qt.ItemDataRole.FontRole and isinstance(value, (int, float)):
+            return self._font
+        if role == Qt.ItemDataRole.TextAlignmentRole and isinstance(value, (int, float)):
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None
+
+
+def _number(text: str) -> float | None:
+    """A field's number; None when empty; ValueError naming it when not a number."""
+    text = text.strip()
+    if not text:
+        return None
+    value = float(text)
+    if not math.isfinite(value):
+        raise ValueError(f"{text!r} is not a finite number")
+    return value
+
+
+class TableWindow(QWidget):
+    """The view of a table of inputs or a sweep, opened from the main window."""
+
+    def __init__(self, runner: Any, parent: QWidget | None = None) -> None:
+        super().__init__(parent, Qt.WindowType.Window)
+        self.setObjectName("tableWindow")
+        self.setWindowTitle("Tables of inputs — zerotrace")
+        self.runner = runner
+        self.kind = "table"  # or "sweep"
+        self.sweep_name = ""
+        self.constants: dict[str, float] = {}
+        self.settings: dict[str, Any] = {}
+        self.done: Any = None
+        self.headers: list[str] = []
+        self.cells: list[Sequence[str]] = []
+        self.last_error = ""
+
+        self.equation_edit = QLineEdit()
+        self.equation_edit.setObjectName("tableEquation")
+        self.unknown_edit = QLineEdit()
+        self.unknown_edit.setObjectName("tableUnknown")
+        self.unknown_edit.setMaximumWidth(90)
+        self.open_button = QPushButton("&Open table…")
+        self.paste_button = QPushButton("&Paste table")
+        self.sweep_name_edit = QLineEdit()
+        self.sweep_from = QLineEdit()
+        self.sweep_to = QLineEdit()
+        self.sweep_count = QSpinBox()
+        self.sweep_count.setRange(2, 100_000)
+        self.sweep_count.setValue(41)
+        self.sweep_log = QCheckBox("log spacing")
+        self.sweep_button = QPushButton("Make s&weep")
+        self.method_box = QComboBox()
+        from solvers import METHODS
+
+        for name in METHODS:
+            self.method_box.addItem(words.method_title(name), name)
+        self.x0_edit, self.x1_edit = QLineEdit(), QLineEdit()
+        self.a_edit, self.b_edit = QLineEdit(), QLineEdit()
+        self.run_button = QPushButton("&Run")
+        self.cancel_button = QPushButton("&Cancel")
+        self.cancel_button.setEnabled(False)
+        self.progress = QProgressBar()
+        self.progress.setRange(0, 1000)
+        self.status = QLabel("")
+        self.status.setObjectName("tableStatus")
+        self.status.setWordWrap(True)
+        self.export_button = QPushButton("&Export results (CSV)…")
+        self.export_button.setEnabled(False)
+        for name in ("open_button", "paste_button", "sweep_button", "run_button",
+                     "cancel_button", "export_button", "x0_edit", "x1_edit", "a_edit",
+                     "b_edit", "sweep_name_edit", "sweep_from", "sweep_to", "sweep_count",
+                     "sweep_log", "method_box"):
+            getattr(self, name).setObjectName(name)
+
+        self.model = BatchModel(self)
+        self.view = CopyTableView()
+        self.view.setObjectName("tableResults")
+        self.view.setModel(self.model)
+        self.view.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
+        self.view.doubleClicked.connect(lambda index: self.open_row(index.row()))
+        self.chart = FigureView(name="design")
+        self.against_box = QComboBox()
+        self.against_box.setObjectName("against_box")
+        self.log_x = QCheckBox("log x")
+        self.log_y = QCheckBox("log y")
+        for box in (self.log_x, self.log_y):
+            box.setObjectName(box.text().replace(" ", "_"))
+            box.toggled.connect(lambda _on: self.draw_chart())
+        self.against_box.currentIndexChanged.connect(lambda _i: self.draw_chart())
+        self.chart.bar.addWidget(QLabel("against"))
+        self.chart.bar.addWidget(self.against_box)
+        self.chart.bar.addWidget(self.log_x)
+        self.chart.bar.addWidget(self.log_y)
+        self.lane_holder = QVBoxLayout()
+        self.lane: MethodLane | None = None
+        self.lane_row = -1
+
+        self._layout()
+        self.open_button.clicked.connect(self.open_table)
+        self.paste_button.clicked.connect(self.paste_table)
+        self.sweep_button.clicked.connect(self.make_sweep)
+        self.run_button.clicked.connect(self.run)
+        self.cancel_button.clicked.connect(self.cancel)
+        self.export_button.clicked.connect(self.export_csv)
+        self.resize(1100, 760)
+
+    def _layout(self) -> None:
+        top = QGridLayout()
+        top.addWidget(QLabel("Equation"), 0, 0)
+        top.addWidget(self.equation_edit, 0, 1, 1, 7)
+        top.addWidget(QLabel("unknown"), 0, 8)
+        top.addWidget(self.unknown_edit, 0, 9)
+        top.addWidget(self.open_button, 1, 0)
+        top.addWidget(self.paste_button, 1, 1)
+        top.addWidget(QLabel("or sweep"), 1, 2)
+        top.addWidget(self.sweep_name_edit, 1, 3)
+        top.addWidget(QLabel("from"), 1, 4)
+        top.addWidget(self.sweep_from, 1, 5)
+        top.addWidget(QLabel("to"), 1, 6)
+        top.addWidget(self.sweep_to, 1, 7)
+        top.addWidget(self.sweep_count, 1, 8)
+        top.addWidget(self.sweep_log, 1, 9)
+        top.addWidget(self.sweep_button, 1, 10)
+        top.addWidget(QLabel("Method"), 2, 0)
+        top.addWidget(self.method_box, 2, 1)
+        for column, (label, edit) in enumerate((("x0", self.x0_edit), ("x1", self.x1_edit),
+                                                ("bracket a", self.a_edit),
+                                                ("b", self.b_edit))):
+            top.addWidget(QLabel(label), 2, 2 + 2 * column)
+            top.addWidget(edit, 2, 3 + 2 * column)
+        actions = QHBoxLayout()
+        for widget in (self.run_button, self.cancel_button, self.progress, self.export_button):
+            actions.addWidget(widget)
+        upper = QSplitter(Qt.Orientation.Horizontal)
+        upper.addWidget(self.view)
+        upper.addWidget(self.chart)
+        upper.setSizes([520, 560])
+        lanes = QWidget()
+        lanes.setLayout(self.lane_holder)
+        body = QSplitter(Qt.Orientation.Vertical)
+        body.addWidget(upper)
+        body.addWidget(lanes)
+        body.setSizes([480, 200])
+        layout = QVBoxLayout(self)
+        layout.addLayout(top)
+        layout.addLayout(actions)
+        layout.addWidget(self.status)
+        layout.addWidget(body, 1)
+        caution = QLabel("⚠ " + words.CAUTION)
+        caution.setWordWrap(True)
+        caution.setStyleSheet("color: #8A2B00;")
+        layout.addWidget(caution)
+
+    # ------------------------------------------------------------------ inputs
+    def set_worksheet(self, equation: str, unknown: str | None,
+                      constants: Mapping[str, float], settings: Mapping[str, Any]) -> None:
+        """The equation, its parameter values (constants for columns the table lacks) and
+        the stopping rules of the main window's worksheet."""
+        self.equation_edit.setText(equation)
+        self.unknown_edit.setText(unknown or "")
+        self.constants = dict(constants)
+        self.settings = dict(settings)
+
+    def say(self, text: str) -> None:
+        self.last_error = ""
+        self.status.setText(text)
+
+    def refuse(self, text: str) -> None:
+        self.last_error = text
+        self.status.setText("✗ " + text)
+
+    def set_table(self, headers: Sequence[str], names: Sequence[str],
+                  columns: Sequence[np.ndarray], cells: Sequence[Sequence[str]],
+                  kind: str) -> None:
+        self.kind = kind
+        self.headers, self.cells = list(headers), list(cells)
+        self.model.set_inputs(names, columns)
+        self.done = None
+        self.export_button.setEnabled(False)
+        self.against_box.blockSignals(True)
+        self.against_box.clear()
+        self.against_box.addItems(list(names))
+        self.against_box.blockSignals(False)
+        self.view.fit_columns()
+        self.say(f"{len(columns[0]) if columns else 0} rows of {', '.join(names)}")
+
+    def _use_table(self, table: Any) -> None:
+        units = [c.header for c in table.columns if c.unit]
+        if units:
+            self.refuse(f"column {units[0]!r}: units in table headers are not supported yet; "
+                        "give the column in the equation's units")
+            return
+        names = [c.name for c in table.columns]
+        self.set_table([c.header for c in table.columns], names,
+                       [table.values[n] for n in names], table.cells, "table")
+
+    def load_table(self, path: str) -> bool:
+        from app.documents.tables import read_table
+
+        try:
+            table = read_table(path)
+        except (ValueError, OSError) as exc:
+            self.refuse(str(exc).splitlines()[0] if str(exc) else type(exc).__name__)
+            return False
+        self._use_table(table)
+        return not self.last_error
+
+    def open_table(self) -> bool:
+        path, _ = QFileDialog.getOpenFileName(self, "Open a table of inputs", "",
+                                              "CSV tables (*.csv *.txt);;All files (*)")
+        return bool(path) and self.load_table(path)
+
+    def paste_table(self) -> bool:
+        from app.documents.tables import parse_table
+
+        try:
+            table = parse_table(QGuiApplication.clipboard().text())
+        except ValueError as exc:
+            self.refuse(str(exc))
+            return False
+        self._use_table(table)
+        return not self.last_error
+
+    def make_sweep(self) -> bool:
+        name = self.sweep_name_edit.text().strip()
+        try:
+            start, stop = _number(self.sweep_from.text()), _number(self.sweep_to.text())
+        except ValueError as exc:
+            self.refuse(f"sweep: {exc}")
+            return False
+        if not name.isidentifier() or start is None or stop is None:
+            self.refuse("sweep: give the parameter's name and the values from and to")
+            return False
+        count = self.sweep_count.value()
+        if self.sweep_log.isChecked():
+            if not (start > 0 and stop > 0):
+                self.refuse("sweep: log spacing needs values from and to above 0")
+                return False
+            values = np.geomspace(start, stop, count)
+        else:
+            values = np.linspace(start, stop, count)
+        self.sweep_name = name
+        self.set_table([name], [name], [values], [[repr(float(v)) for v in values]], "sweep")
+        return True
+
+    # ------------------------------------------------------------------ running
+    def run(self) -> bool:
+        from solvers.batch import solve_sweep, solve_table
+
+        if not self.model.columns:
+            self.refuse("open, paste or make a table first")
+            return False
+        try:
+            starts = {k: _number(e.text()) for k, e in (("x0", self.x0_edit),
+                                                         ("x1", self.x1_edit),
+                                                         ("a", self.a_edit),
+                                                         ("b", self.b_edit))}
+        except ValueError as exc:
+            self.refuse(f"start value: {exc}")
+            return False
+        bracket = (starts["a"], starts["b"]) if None not in (starts["a"], starts["b"]) else None
+        text = self.equation_edit.text()
+        unknown = self.unknown_edit.text().strip() or None
+        names = self.model.names
+        constants = {k: v for k, v in self.constants.items() if k not in names}
+        common = dict(unknown=unknown, constants=constants,
+                      method=self.method_box.currentData(), x0=starts["x0"],
+                      x1=starts["x1"], bracket=bracket, **self.settings)
+        if self.kind == "sweep":
+            job = partial(solve_sweep, text, names[0], self.model.columns[0], **common)
+        else:
+            job = partial(solve_table, text, list(zip(names, self.model.columns,
+                                                      strict=True)), **common)
+
+        def work(progress: Any, cancel: Any) -> Any:
+            return job(progress=progress, cancel=cancel)
+
+        self.progress.setValue(0)
+        self.run_button.setEnabled(False)
+        self.cancel_button.setEnabled(True)
+        self.say("running…")
+        return self.runner.submit(LANE, work, on_done=self._on_done, on_error=self._on_error,
+                                  on_cancel=self._on_cancelled,
+                                  on_progress=lambda f: self.progress.setValue(int(f * 1000)))
+
+    def cancel(self) -> None:
+        self.runner.cancel(LANE)
+
+    def _idle(self) -> None:
+        self.run_button.setEnabled(True)
+        self.cancel_button.setEnabled(False)
+
+    def _on_done(self, done: Any) -> None:
+        self._idle()
+        self.done = done
+        self.model.set_batch(done.batch)
+        self.progress.setValue(1000)
+        self.export_button.setEnabled(True)
+        self.say(words.batch_summary(done.batch))
+        self.draw_chart()
+
+    def _on_error(self, message: str) -> None:
+        self._idle()
+        self.refuse(message)
+
+    def _on_cancelled(self) -> None:
+        self._idle()
+        self.say("cancelled: no results")
+
+    # ------------------------------------------------------------------ results
+    def draw_chart(self) -> None:
+        if self.done is None or not self.model.columns:
+            return
+        from app.documents import figures
+
+        column = max(0, self.against_box.currentIndex())
+        ax = self.chart.new_axes()
+        figures.draw_design_chart(ax, self.model.columns[column], self.done.batch,
+                                  name=self.model.names[column],
+                                  unknown=self.done.equation.unknown,
+                                  log_x=self.log_x.isChecked(), log_y=self.log_y.isChecked(),
+                                  line=self.kind == "sweep")
+        self.chart.redraw()
+
+    def open_row(self, row: int) -> None:
+        """Show row ``row``'s full run (every iterate) in a method lane."""
+        if self.done is None or not 0 <= row < self.model.rowCount():
+            return
+        batch = self.done.batch
+        try:
+            run = batch.run(row)
+        except ValueError as exc:
+            self.refuse(f"row {row + 1}: {exc}")
+            return
+        if self.lane is None or self.lane.method != batch.method:
+            if self.lane is not None:
+                self.lane.setParent(None)
+                self.lane.deleteLater()
+            self.lane = MethodLane(batch.method)
+            self.lane_holder.addWidget(self.lane)
+        self.lane.set_run(run)
+        self.lane_row = row
+        self.say(f"row {row + 1}: " + words.run_message(run))
+
+    def export_csv(self) -> bool:
+        from app.documents import export, tables
+
+        if self.done is None:
+            return False
+        path, _ = QFileDialog.getSaveFileName(self, "Export the table of results", "",
+                                              "CSV files (*.csv)")
+        if not path:
+            return False
+        done = self.done
+        meta = export.metadata(equation=self.equation_edit.text(),
+                               unknown=done.equation.unknown, parameters=done.constants,
+                               settings={"method": done.batch.method, **done.batch.settings})
+        try:
+            tables.results_csv(done.batch, self.headers, self.cells, path, meta=meta,
+                               overwrite=True)  # the file dialog asked before replacing
+        except OSError as exc:
+            self.refuse(f"{path}: cannot write ({exc.strerror or exc})")
+            return False
+        self.say(f"results written to {path}")
+        return True

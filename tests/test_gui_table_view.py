@@ -1,0 +1,187 @@
+"""Tables of inputs in the window, worked with real mouse and key events: open a table,
+run it off the UI thread, read the shaded failed rows, open a row's lane, draw the design
+chart, sweep a parameter, cancel a long run, export the results.
+
+Outside references: scipy.optimize.brentq row by row for the friction factors shown,
+numpy.roots for the swept cubic. Scenarios are invented (cooling-water pipes).
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize
+from PySide6.QtCore import Qt
+from PySide6.QtTest import QTest
+
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
+
+COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
+
+
+def residual(lam, Re, rr):
+    return 1 / math.sqrt(lam) + 2 * math.log10(rr / 3.7 + 2.51 / (Re * math.sqrt(lam)))
+
+
+def type_into(qtbot, edit, text: str) -> None:
+    edit.setFocus()
+    edit.selectAll()
+    QTest.keyClick(edit, Qt.Key.Key_Delete)
+    qtbot.keyClicks(edit, text)
+
+
+def click(qtbot, button) -> None:
+    qtbot.mouseClick(button, Qt.MouseButton.LeftButton)
+
+
+@pytest.fixture
+def tables(qtbot, window):
+    window.activateWindow()
+    window.strip.editor.setFocus()  # the menu action's shortcut opens the view
+    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.tables is not None and window.tables.isVisible())
+    t = window.tables
+    qtbot.waitExposed(t)
+    type_into(qtbot, t.equation_edit, COLEBROOK)
+    type_into(qtbot, t.unknown_edit, "lam")
+    return t
+
+
+def run_and_wait(qtbot, t) -> None:
+    before = t.done
+    click(qtbot, t.run_button)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+
+
+def test_a_table_runs_in_the_background_and_failed_rows_are_marked(qtbot, window, dialogs,
+                                                                     tables, tmp_path):
+    path = tmp_path / "pipes.csv"
+    path.write_text("Re,rr,x0\n1.2e5,4.5e-4,0.02\n2.4e6,3e-5,0.012\n8000,0.02,-1\n",
+                    encoding="utf-8")  # the third row starts at a negative friction factor
+    dialogs.open_name = str(path)
+    click(qtbot, tables.open_button)
+    assert tables.model.rowCount() == 3 and tables.model.names == ["Re", "rr", "x0"]
+    run_and_wait(qtbot, tables)
+    batch = tables.done.batch
+    assert batch.converged.tolist() == [True, True, False]
+    model = tables.model
+    root_column = model.names.__len__()
+    for row, (Re, rr) in enumerate(((1.2e5, 4.5e-4), (2.4e6, 3e-5))):
+        ref = scipy.optimize.brentq(residual, 1e-3, 0.2, args=(Re, rr), xtol=1e-15)  # reference
+        shown = model.data(model.index(row, root_column), Qt.ItemDataRole.UserRole)
+        assert abs(shown - ref) <= 1e-10 * ref
+        assert model.data(model.index(row, 0), Qt.ItemDataRole.BackgroundRole) is None
+    failed = model.index(2, root_column)
+    assert model.data(failed, Qt.ItemDataRole.BackgroundRole) is not None  # shaded
+    assert model.data(failed, Qt.ItemDataRole.DisplayRole) == "—"
+    assert "NaN" in model.data(failed, Qt.ItemDataRole.ToolTipRole) or \
+        "infinite" in model.data(failed, Qt.ItemDataRole.ToolTipRole)
+    assert "2 converged" in tables.status.text()
+    assert tables.chart.figure.axes and tables.chart.figure.axes[0].lines
+
+
+def test_double_clicking_a_row_shows_its_method_lane_with_every_iterate(qtbot, window,
+                                                                         dialogs, tables,
+                                                                         tmp_path):
+    path = tmp_path / "pipes.csv"
+    path.write_text("Re,rr\n1.2e5,4.5e-4\n2.4e6,3e-5\n", encoding="utf-8")
+    dialogs.open_name = str(path)
+    click(qtbot, tables.open_button)
+    tables.method_box.setCurrentIndex(tables.method_box.findData("brent"))
+    type_into(qtbot, tables.a_edit, "0.001")
+    type_into(qtbot, tables.b_edit, "0.2")
+    run_and_wait(qtbot, tables)
+    view = tables.view
+    rect = view.visualRect(tables.model.index(1, 0))
+    # a double click as the user makes it: press, release, then the second press
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    qtbot.waitUntil(lambda: tables.lane is not None and tables.lane_row == 1)
+    run = tables.lane.run
+    assert run.method == "brent" and run.converged
+    assert run.root == pytest.approx(float(tables.done.batch.root[1]), rel=1e-13)
+    assert tables.lane.model.rowCount() == len(run.steps) >= 3
+
+
+def test_a_sweep_follows_the_branch_and_the_chart_marks_where_it_ended(qtbot, window, tables):
+    type_into(qtbot, tables.equation_edit, "x^3 - x - p")
+    type_into(qtbot, tables.unknown_edit, "x")
+    type_into(qtbot, tables.sweep_name_edit, "p")
+    type_into(qtbot, tables.sweep_from, "-1")
+    type_into(qtbot, tables.sweep_to, "1")
+    tables.sweep_count.setValue(21)
+    click(qtbot, tables.sweep_button)
+    type_into(qtbot, tables.x0_edit, "-1.3")
+    run_and_wait(qtbot, tables)
+    batch = tables.done.batch
+    assert batch.converged.all()
+    values = np.linspace(-1, 1, 21)
+    for k, p in enumerate(values):
+        roots = np.roots([1.0, 0.0, -1.0, -p])  # reference: numpy.roots
+        real = roots[np.abs(roots.imag) < 1e-9].real
+        assert np.min(np.abs(real - batch.root[k])) <= 1e-12
+    assert any(code == "branch_jump" for _, code in batch.notes)
+    ax = tables.chart.figure.axes[0]
+    assert any(line.get_linestyle() == ":" for line in ax.lines)  # the branch's end
+    click(qtbot, tables.log_y)  # log axes on request: only positive roots remain
+    assert tables.chart.figure.axes[0].get_yscale() == "log"
+
+
+def test_cancel_stops_a_long_run_and_says_so(qtbot, window, tables, monkeypatch):
+    from PySide6.QtGui import QGuiApplication
+
+    rng = np.random.default_rng(5)
+    Re = 10 ** rng.uniform(3.7, 8, 400_000)
+    rr = 10 ** rng.uniform(-6, -1.4, 400_000)
+    rows = ["Re\trr"] + [f"{r!r}\t{e!r}" for r, e in zip(Re.tolist(), rr.tolist(), strict=True)]
+    QGuiApplication.clipboard().setText("\n".join(rows))
+    click(qtbot, tables.paste_button)
+    assert tables.model.rowCount() == 400_000
+    tables.method_box.setCurrentIndex(tables.method_box.findData("bisection"))
+    type_into(qtbot, tables.a_edit, "0.001")
+    type_into(qtbot, tables.b_edit, "0.2")
+    click(qtbot, tables.run_button)
+    qtbot.waitUntil(lambda: tables.progress.value() > 0, timeout=20_000)
+    click(qtbot, tables.cancel_button)
+    qtbot.waitUntil(lambda: "cancelled" in tables.status.text(), timeout=20_000)
+    assert tables.done is None and tables.run_button.isEnabled()
+
+
+def test_bad_tables_and_fields_say_what_is_wrong_in_one_line(qtbot, window, dialogs, tables,
+                                                              tmp_path):
+    path = tmp_path / "bad.csv"
+    path.write_text("Re,rr\n1e5,\n", encoding="utf-8")
+    dialogs.open_name = str(path)
+    click(qtbot, tables.open_button)
+    assert "row 1 (line 2), column 'rr': missing value" in tables.last_error
+    path.write_text("Re,Q\n1e5,3\n", encoding="utf-8")
+    click(qtbot, tables.open_button)
+    type_into(qtbot, tables.x0_edit, "0.02")
+    click(qtbot, tables.run_button)
+    qtbot.waitUntil(lambda: bool(tables.last_error), timeout=20_000)
+    assert "column 2 'Q' is not a parameter" in tables.last_error or "'rr'" in tables.last_error
+    type_into(qtbot, tables.x0_edit, "abc")
+    click(qtbot, tables.run_button)
+    assert "start value" in tables.last_error
+
+
+def test_results_export_as_csv_with_every_input_column(qtbot, window, dialogs, tables,
+                                                       tmp_path):
+    path = tmp_path / "pipes.csv"
+    path.write_text("Re,rr\n1.2e5,4.5e-4\n2.4e6,3e-5\n", encoding="utf-8")
+    dialogs.open_name = str(path)
+    click(qtbot, tables.open_button)
+    type_into(qtbot, tables.x0_edit, "0.008")
+    run_and_wait(qtbot, tables)
+    out = tmp_path / "out.csv"
+    dialogs.save_name = str(out)
+    click(qtbot, tables.export_button)
+    lines = out.read_text(encoding="utf-8").splitlines()
+    assert any(line.startswith("# caution:") for line in lines)
+    rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
+    assert [r["Re"] for r in rows] == ["1.2e5", "2.4e6"]
+    assert float(rows[0]["root"]) == float(tables.done.batch.root[0])
