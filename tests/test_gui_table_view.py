@@ -185,3 +185,25 @@ def test_results_export_as_csv_with_every_input_column(qtbot, window, dialogs, t
     rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
     assert [r["Re"] for r in rows] == ["1.2e5", "2.4e6"]
     assert float(rows[0]["root"]) == float(tables.done.batch.root[0])
+
+
+def test_the_calculation_sheet_carries_the_table(qtbot, window, dialogs, tables, tmp_path):
+    import pypdf
+
+    window.load_sample()  # the cooling-water sample: f from Re, eps, D
+    window.activateWindow()
+    window.open_tables()  # the worksheet handed again, as Ctrl+T does
+    path = tmp_path / "re.csv"
+    path.write_text("Re\n5e4\n2e5\n1e6\n", encoding="utf-8")
+    dialogs.open_name = str(path)
+    click(qtbot, tables.open_button)
+    type_into(qtbot, tables.x0_edit, "0.01")
+    run_and_wait(qtbot, tables)
+    assert tables.done.batch.converged.all()
+    pdf = tmp_path / "sheet.pdf"
+    dialogs.save_name = str(pdf)
+    click(qtbot, tables.sheet_button)
+    qtbot.waitUntil(lambda: tables.sheet_path == str(pdf), timeout=60_000)
+    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(pdf)).pages)
+    assert "Table of inputs and results" in text
+    assert all(repr(float(r)) in text for r in tables.done.batch.root)

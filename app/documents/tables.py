@@ -170,6 +170,23 @@ def _numbers(shown: str, column: Column, cells: Sequence[str], lines: Sequence[i
 # ----------------------------------------------------------------- results
 
 
+@dataclass(frozen=True)
+class TableResults:
+    """A solved table or sweep as documents are handed it: the inputs as read (names,
+    arrays, headers and cells as written), what solved them (a
+    :class:`solvers.batch.TableSolve`), ``kind`` ("table" or "sweep") and the column the
+    design chart runs along."""
+
+    names: tuple[str, ...]
+    columns: tuple[np.ndarray, ...]
+    headers: tuple[str, ...]
+    cells: tuple[Sequence[str], ...]
+    done: Any
+    kind: str = "table"
+    against: int = 0
+
+
+
 def note_lines(batch: Any, label: str = "row") -> dict[str, str]:
     """Metadata lines for the summary and each note ('row N' counted from 1)."""
     meta = {"summary": batch_summary(batch)}

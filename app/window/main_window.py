@@ -445,7 +445,7 @@ class MainWindow(QMainWindow):
         s = ws.settings
         self.tables.set_worksheet(ws.equation, ws.unknown, ws.parameter_values(),
                                   {"xtol": s.xtol, "rtol": s.rtol, "ftol": s.ftol,
-                                   "max_iter": s.max_iter, "damping": s.damping})
+                                   "max_iter": s.max_iter, "damping": s.damping}, ws)
         self.tables.show()
         self.tables.raise_()
 

@@ -202,9 +202,13 @@ class TableWindow(QWidget):
         self.status.setWordWrap(True)
         self.export_button = QPushButton("&Export results (CSV)…")
         self.export_button.setEnabled(False)
+        self.sheet_button = QPushButton("Calculation s&heet (PDF)…")
+        self.sheet_button.setEnabled(False)
+        self.worksheet: Any = None
+        self.sheet_path = ""
         for name in ("open_button", "paste_button", "sweep_button", "run_button",
-                     "cancel_button", "export_button", "x0_edit", "x1_edit", "a_edit",
-                     "b_edit", "sweep_name_edit", "sweep_from", "sweep_to", "sweep_count",
+                     "cancel_button", "export_button", "sheet_button", "x0_edit", "x1_edit",
+                     "a_edit", "b_edit", "sweep_name_edit", "sweep_from", "sweep_to", "sweep_count",
                      "sweep_log", "method_box"):
             getattr(self, name).setObjectName(name)
 
@@ -238,6 +242,7 @@ class TableWindow(QWidget):
         self.run_button.clicked.connect(self.run)
         self.cancel_button.clicked.connect(self.cancel)
         self.export_button.clicked.connect(self.export_csv)
+        self.sheet_button.clicked.connect(self.export_sheet)
         self.resize(1100, 760)
 
     def _layout(self) -> None:
@@ -265,7 +270,8 @@ class TableWindow(QWidget):
             top.addWidget(QLabel(label), 2, 2 + 2 * column)
             top.addWidget(edit, 2, 3 + 2 * column)
         actions = QHBoxLayout()
-        for widget in (self.run_button, self.cancel_button, self.progress, self.export_button):
+        for widget in (self.run_button, self.cancel_button, self.progress, self.export_button,
+                       self.sheet_button):
             actions.addWidget(widget)
         upper = QSplitter(Qt.Orientation.Horizontal)
         upper.addWidget(self.view)
@@ -289,9 +295,12 @@ class TableWindow(QWidget):
 
     # ------------------------------------------------------------------ inputs
     def set_worksheet(self, equation: str, unknown: str | None,
-                      constants: Mapping[str, float], settings: Mapping[str, Any]) -> None:
+                      constants: Mapping[str, float], settings: Mapping[str, Any],
+                      worksheet: Any = None) -> None:
         """The equation, its parameter values (constants for columns the table lacks) and
-        the stopping rules of the main window's worksheet."""
+        the stopping rules of the main window's worksheet (``worksheet`` itself for the
+        calculation sheet)."""
+        self.worksheet = worksheet
         self.equation_edit.setText(equation)
         self.unknown_edit.setText(unknown or "")
         self.constants = dict(constants)
@@ -313,6 +322,7 @@ class TableWindow(QWidget):
         self.model.set_inputs(names, columns)
         self.done = None
         self.export_button.setEnabled(False)
+        self.sheet_button.setEnabled(False)
         self.against_box.blockSignals(True)
         self.against_box.clear()
         self.against_box.addItems(list(names))
@@ -432,6 +442,7 @@ class TableWindow(QWidget):
         self.model.set_batch(done.batch)
         self.progress.setValue(1000)
         self.export_button.setEnabled(True)
+        self.sheet_button.setEnabled(self.worksheet is not None)
         self.say(words.batch_summary(done.batch))
         self.draw_chart()
 
@@ -499,3 +510,42 @@ class TableWindow(QWidget):
             return False
         self.say(f"results written to {path}")
         return True
+
+    def results(self) -> Any:
+        """The solved table as documents are handed it."""
+        from app.documents.tables import TableResults
+
+        return TableResults(tuple(self.model.names), tuple(self.model.columns),
+                            tuple(self.headers), tuple(self.cells), self.done, self.kind,
+                            max(0, self.against_box.currentIndex()))
+
+    def export_sheet(self) -> bool:
+        """The worksheet's calculation sheet with this table's section, in the "report"
+        lane (the worksheet is solved and scanned there, as for File > Export)."""
+        from app.documents.report import write_report
+        from solvers import pipeline
+
+        ws = self.worksheet
+        if self.done is None or ws is None:
+            return False
+        if self.equation_edit.text().strip() != ws.equation.strip():
+            self.refuse("the calculation sheet is the worksheet's: solve the table with the "
+                        "worksheet's equation first")
+            return False
+        path, _ = QFileDialog.getSaveFileName(self, "Export the calculation sheet", "",
+                                              "PDF files (*.pdf)")
+        if not path:
+            return False
+        table = self.results()
+
+        def work(progress: Any, _cancel: Any) -> Any:
+            solution, scan = pipeline.solve_and_scan(ws)
+            return write_report(ws, path, solution=solution, scan=scan, table=table,
+                                overwrite=True, progress=progress)  # the dialog asked
+
+        def done(result: Any) -> None:
+            self.sheet_path = str(result.pdf_path)
+            self.say(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
+
+        self.say("writing the calculation sheet…")
+        return self.runner.submit("report", work, on_done=done, on_error=self.refuse)
