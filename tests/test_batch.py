@@ -336,3 +336,33 @@ def test_sweep_notes_a_root_leaving_the_range_and_rejects_bad_names():
         sweep(equation, "q", [1.0], x0=1.0)
     bracketed = sweep(equation, "p", [1.0, 2.0], method="brent", bracket=(0.0, 3.0))
     assert (0, "fixed_bracket") in bracketed.notes and bracketed.converged.all()
+
+
+def test_parameters_go_over_the_equations_own_and_unknown_names_are_refused():
+    from solvers import EquationError
+
+    equation = parse_equation("x^2 - p*q", unknown="x", parameters={"p": 2.0, "q": 1.0})
+    batch = solve_batch(equation, x0=1.0, parameters={"p": np.array([1.0, 4.0])})
+    np.testing.assert_allclose(batch.root, [1.0, 2.0], rtol=1e-15)
+    with pytest.raises(EquationError, match="'z' does not appear"):
+        solve_batch(equation, x0=1.0, parameters={"z": np.array([1.0, 4.0])})
+    np.testing.assert_allclose(sweep(equation, "p", [1.0, 4.0], x0=1.0,
+                                     parameters={"q": 4.0}).root, [2.0, 4.0], rtol=1e-15)
+
+
+def test_a_table_from_text_and_columns_takes_start_columns_and_names_bad_ones():
+    from solvers.batch import solve_table
+
+    p = np.array([4.0, 9.0, 16.0])
+    done = solve_table("x^2 = p", [("p", p), ("x0", np.array([1.0, 1.0, 1.0]))],
+                       unknown="x")
+    assert done.parameters == ("p",) and done.starts == ("x0",)
+    np.testing.assert_allclose(done.batch.root, [2.0, 3.0, 4.0], rtol=1e-15)
+    with pytest.raises(ValueError, match="column 2 'Q' is not a parameter"):
+        solve_table("x^2 = p", [("p", p), ("Q", p)], unknown="x", x0=1.0)
+    with pytest.raises(ValueError, match="needs a bracket"):
+        solve_table("x^2 = p", [("p", p)], unknown="x", method="brent")
+    # the first row gives part of the equation no value: parsed with the next row instead
+    done = solve_table("x = sqrt(p)", [("p", np.array([-1.0, 4.0]))], unknown="x", x0=1.0)
+    assert done.batch.converged.tolist() == [False, True]
+    assert done.batch.notes == ((0, "bad_parameters"),)

@@ -11,6 +11,7 @@ from solvers.batch import bracketing
 from solvers.batch.open import newton, secant
 from solvers.batch.records import CONVERGED_INDEX, Batch, reason_array
 from solvers.batch.rows import NOT_FIN, Outcome, Rows, Work, make_poll
+from solvers.equation import EquationError
 from solvers.methods.common import (
     DEFAULT_FTOL,
     DEFAULT_MAX_ITER,
@@ -60,6 +61,25 @@ def _start_arrays(spec: Any, x0: Any, x1: Any, bracket: Any) -> dict[str, Any]:
     return out
 
 
+def _parameter_values(equation: Any, parameters: Mapping[str, Any] | None) -> dict[str, Any]:
+    """The equation's values with ``parameters`` over them; a name the equation lacks is
+    the caller's error (EquationError, as bind says it), never a table of failed rows."""
+    values = dict(equation.parameters)
+    values.update(parameters or {})
+    names = set(equation.names[1:])
+    extra = sorted(set(values) - names)
+    if extra:
+        what = ("is the unknown" if extra[0] == equation.unknown
+                else "does not appear in the equation")
+        raise EquationError(f"'{extra[0]}' {what}: it takes no value here")
+    missing = sorted(names - set(values))
+    if missing:
+        raise EquationError("no value for " + ", ".join(f"'{n}'" for n in missing)
+                            + f" (the unknown is '{equation.unknown}')")
+    return {n: (np.asarray(v, dtype=np.float64) if isinstance(v, (np.ndarray, list, tuple))
+                else v) for n, v in values.items()}
+
+
 def _method_settings(method: str, equation: Any, damping: float, tol: dict[str, Any]
                      ) -> dict[str, Any]:
     settings = dict(tol)
@@ -104,8 +124,8 @@ def solve_batch(
         arrays, broadcast with the parameter arrays (``bracket=(a, b)``, each end a
         scalar or an array: every row keeps its own bracket).
     parameters : mapping, optional
-        Parameter values to bind instead of the equation's (name -> float or array);
-        the equation is not parsed again.
+        Parameter values to bind over the equation's own (name -> float or array); the
+        equation is not parsed again.
     damping
         Newton's step factor in (0, 1]. Newton uses the symbolic f' when the equation has
         one, else a central difference (``settings["derivative"]`` says which).
@@ -139,9 +159,7 @@ def solve_batch(
     spec = method_spec(method)
     tol = _check_settings(xtol, rtol, ftol, max_iter)
     settings = _method_settings(spec.name, equation, damping, tol)
-    values = dict(equation.parameters if parameters is None else parameters)
-    values = {n: (np.asarray(v, dtype=np.float64) if isinstance(v, (np.ndarray, list, tuple))
-                  else v) for n, v in values.items()}
+    values = _parameter_values(equation, parameters)
     starts = _start_arrays(spec, x0, x1, bracket)
     chunk_rows = int(chunk_rows)
     if chunk_rows < 1:

@@ -15,6 +15,7 @@ from typing import Any
 
 import numpy as np
 
+from solvers.batch.driver import _parameter_values
 from solvers.batch.records import Batch, BatchCancelled
 from solvers.equation import EquationError
 from solvers.methods.common import (
@@ -80,8 +81,8 @@ def sweep(
     crossed), ``left_range`` (the root is outside ``bounds``; continuation goes on from
     the last root inside), ``bad_parameters`` (the value gives part of f no finite value).
 
-    Other parameters are floats: ``parameters`` (or the equation's own values) with
-    ``name`` replaced row by row. Tolerances, ``damping``, ``progress`` and ``cancel`` as
+    Other parameters are floats: the equation's own values, with ``parameters`` over
+    them and ``name`` replaced row by row. Tolerances, ``damping``, ``progress`` and ``cancel`` as
     in :func:`solvers.solve_batch` (:class:`BatchCancelled` when cancelled). Raises
     ValueError for an unknown name, values that are not finite numbers, missing start
     values or an invalid setting.
@@ -97,7 +98,7 @@ def sweep(
         raise ValueError("sweep values must be numbers") from None
     if not np.isfinite(rows).all():
         raise ValueError("sweep values must be finite")
-    base = dict(equation.parameters if parameters is None else parameters)
+    base = _parameter_values(equation, {**(parameters or {}), name: 0.0})
     arrays = [n for n, v in base.items() if n != name and isinstance(v, np.ndarray)]
     if arrays:
         raise ValueError(f"a sweep varies one parameter; '{arrays[0]}' holds several values")
