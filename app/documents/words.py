@@ -550,7 +550,7 @@ def batch_summary(batch: Any) -> str:
     good = int(batch.converged.sum())
     failed = {r: c for r, c in batch.counts().items()
               if r not in ("x_tolerance", "f_tolerance", "exact_zero")}
-    text = f"{total} rows: {good} converged"
+    text = f"{total} {'row' if total == 1 else 'rows'}: {good} converged"
     if failed:
         text += "; " + "; ".join(f"{c} stopped on {r.replace('_', ' ')}"
                                  for r, c in sorted(failed.items()))

@@ -216,6 +216,7 @@ class TableWindow(QWidget):
         self.view = CopyTableView()
         self.view.setObjectName("tableResults")
         self.view.setModel(self.model)
+        self.view.verticalHeader().setVisible(True)  # row numbers, as messages count them
         self.view.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
         self.view.doubleClicked.connect(lambda index: self.open_row(index.row()))
         self.chart = FigureView(name="design")
