@@ -366,3 +366,32 @@ def test_a_table_from_text_and_columns_takes_start_columns_and_names_bad_ones():
     done = solve_table("x = sqrt(p)", [("p", np.array([-1.0, 4.0]))], unknown="x", x0=1.0)
     assert done.batch.converged.tolist() == [False, True]
     assert done.batch.notes == ((0, "bad_parameters"),)
+
+
+def test_a_sweep_resumed_from_a_scanned_root_follows_that_branch():
+    # x^3 - x - p: between the folds at p = -+2/(3 sqrt 3) there are three branches; from
+    # p = 0 the middle one (x = 0 there) runs down to the lower fold at p* = +2/(3 sqrt 3).
+    from solvers import scan
+    from solvers.batch import resume_sweep
+
+    equation = parse_equation("x^3 - x - p", unknown="x", parameters={"p": -1.0})
+    values = np.linspace(-1.0, 1.0, 41)
+    batch = sweep(equation, "p", values, x0=-1.3)
+    index = 20  # p = 0
+    row = equation.bind(batch.row_values(index))
+    found = scan(row.f, -2.0, 2.0, fprime=row.fprime)
+    middle = sorted(r.x for r in found.roots)[1]
+    assert abs(middle) < 1e-12  # the scan's three roots at p = 0: -1, 0, 1
+    resumed = resume_sweep(batch, index, middle)
+    assert (index, "restart_scan") in resumed.notes
+    np.testing.assert_array_equal(resumed.root[:index], batch.root[:index])
+    turning = 2.0 / (3.0 * math.sqrt(3.0))
+    for k in range(index, 41):
+        p = values[k]
+        roots = np.roots([1.0, 0.0, -1.0, -p])  # reference: numpy.roots
+        real = np.sort(roots[np.abs(roots.imag) < 1e-9].real)
+        if p < turning:
+            assert abs(resumed.root[k] - real[1]) <= 1e-12, (k, p)  # the middle branch
+    # past the fold the middle branch ends: a jump, or a row that fails there
+    assert any(code in ("branch_jump", "failed") and k > index for k, code in resumed.notes)
+    assert resumed.run(index).steps[0].x == middle

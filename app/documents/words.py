@@ -537,6 +537,7 @@ BATCH_NOTE_TEXT: dict[str, str] = {
                   "from the last root inside it",
     "fixed_bracket": "every row uses the same bracket (a bracketing method needs no "
                      "continuation)",
+    "restart_scan": "the sweep was resumed here from a root chosen from a scan at this value",
 }
 
 

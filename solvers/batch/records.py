@@ -30,6 +30,7 @@ NOTE_CODES: tuple[str, ...] = (
     "turning_point",       # sweep: f' changed sign along the branch (a fold was crossed)
     "left_range",          # sweep: the root left the given range of the unknown
     "fixed_bracket",       # sweep: a bracketing method uses the same bracket on every row
+    "restart_scan",        # sweep: resumed here from a root chosen by a scan at this value
 )
 
 # Reason codes as small integers inside the kernels: REASONS[i].

@@ -117,6 +117,8 @@ def sweep(
         settings["damping"] = float(damping)
         settings["derivative"] = "symbolic" if symbolic else "numerical"
     settings["swept"] = name
+    if bounds is not None:
+        settings["bounds"] = (float(min(bounds)), float(max(bounds)))
 
     n = rows.size
     root = np.full(n, np.nan)
@@ -203,3 +205,54 @@ def _jumped(branch: list[tuple[float, float]], value: float, root: float,
     floor = 1e3 * (tol["xtol"] + tol["rtol"] * abs(root))
     scale = max(abs(predicted), abs(r1 - r0))
     return abs((root - r1) - predicted) > JUMP_FACTOR * scale + floor
+
+
+def resume_sweep(batch: Batch, index: int, x0: float, *,
+                 progress: Callable[[float], Any] | None = None,
+                 cancel: Callable[[], bool] | None = None) -> Batch:
+    """The sweep ``batch`` again from row ``index`` on, started there from ``x0``.
+
+    This is the restart a branch end offers: scan f at that row's value, pick a root, and
+    follow it from there (the rows before keep their results; their notes before
+    ``index`` too). Row ``index`` gets a ``restart_scan`` note. The same method, settings
+    and range as the sweep. Raises ValueError for a batch that is not a sweep and
+    IndexError for a row outside it.
+    """
+    name = batch.settings.get("swept")
+    if not isinstance(name, str):
+        raise ValueError("not a sweep: only a sweep can be resumed from a row")
+    if not 0 <= index < batch.size:
+        raise IndexError(f"row {index} is outside the sweep of {batch.size} rows")
+    values = np.asarray(batch.parameters[name], dtype=np.float64).reshape(-1)
+    s = batch.settings
+    starts = batch.starts
+    kind = "bracket" if "a" in starts else "open"
+    spacing = 0.0
+    if "x1" in starts:
+        spacing = float(np.asarray(starts["x1"]).reshape(-1)[0]
+                        - np.asarray(starts["x0"]).reshape(-1)[0])
+    tail = sweep(
+        batch.equation, name, values[index:], x0=float(x0),
+        x1=float(x0) + spacing if "x1" in starts else None,
+        bracket=(starts["a"], starts["b"]) if kind == "bracket" else None,
+        method=batch.method,
+        parameters={n: v for n, v in batch.parameters.items() if n != name},
+        bounds=s.get("bounds"), damping=float(s.get("damping", 1.0)), xtol=float(s["xtol"]),
+        rtol=float(s["rtol"]), ftol=float(s["ftol"]), max_iter=int(s["max_iter"]),
+        progress=progress, cancel=cancel)
+
+    def joined(field: str) -> np.ndarray:
+        return np.concatenate([getattr(batch, field)[:index], getattr(tail, field)])
+
+    notes = ([n for n in batch.notes if n[0] < index] + [(index, "restart_scan")]
+             + [(i + index, c) for i, c in tail.notes if c != "fixed_bracket"])
+    new_starts = dict(starts)
+    for key in ("x0", "x1"):
+        if key in starts:
+            new_starts[key] = np.concatenate([np.asarray(starts[key])[:index],
+                                              np.asarray(tail.starts[key])])
+    return Batch(root=joined("root"), converged=joined("converged"), reason=joined("reason"),
+                 iterations=joined("iterations"), evaluations=joined("evaluations"),
+                 residual=joined("residual"), notes=tuple(notes), method=batch.method,
+                 settings=batch.settings, equation=batch.equation,
+                 parameters=batch.parameters, starts=new_starts)
