@@ -207,3 +207,36 @@ def test_the_calculation_sheet_carries_the_table(qtbot, window, dialogs, tables,
     text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(pdf)).pages)
     assert "Table of inputs and results" in text
     assert all(repr(float(r)) in text for r in tables.done.batch.root)
+
+
+def test_a_sweeps_row_is_scanned_and_the_sweep_resumed_from_a_root_there(qtbot, window,
+                                                                         tables):
+    type_into(qtbot, tables.equation_edit, "x^3 - x - p")
+    type_into(qtbot, tables.unknown_edit, "x")
+    type_into(qtbot, tables.sweep_name_edit, "p")
+    type_into(qtbot, tables.sweep_from, "-1")
+    type_into(qtbot, tables.sweep_to, "1")
+    tables.sweep_count.setValue(41)
+    click(qtbot, tables.sweep_button)
+    type_into(qtbot, tables.x0_edit, "-1.3")
+    run_and_wait(qtbot, tables)
+    view = tables.view
+    view.scrollTo(tables.model.index(20, 0))
+    rect = view.visualRect(tables.model.index(20, 0))  # p = 0
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    qtbot.waitUntil(lambda: tables.lane_row == 20)
+    click(qtbot, tables.scan_button)
+    qtbot.waitUntil(lambda: tables.resume_button.isEnabled(), timeout=20_000)
+    assert tables.scan_roots.count() == 3  # x^3 - x = 0: -1, 0, 1
+    tables.scan_roots.setFocus()
+    QTest.keyClick(tables.scan_roots, Qt.Key.Key_Down)  # from -1 to the middle root, 0
+    assert abs(tables.scan_roots.currentData()) < 1e-12
+    before = tables.done
+    click(qtbot, tables.resume_button)
+    qtbot.waitUntil(lambda: tables.done is not before, timeout=20_000)
+    batch = tables.done.batch
+    assert (20, "restart_scan") in batch.notes
+    roots = np.roots([1.0, 0.0, -1.0, -0.05])  # reference: numpy.roots at p = 0.05
+    middle = np.sort(roots[np.abs(roots.imag) < 1e-9].real)[1]
+    assert abs(batch.root[21] - middle) <= 1e-12

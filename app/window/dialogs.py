@@ -74,7 +74,8 @@ selected root, and why, for the calculation sheet.</p>
 row of values per case; columns x0, x1, bracket_a, bracket_b give a row its own start values)
 or sweep one parameter, each value started from the previous root. The run goes in the
 background with progress and Cancel; rows that did not converge are shaded, with the reason
-in their tooltip; double-click a row to see its method lane with every iterate. The design
+in their tooltip; double-click a row to see its method lane with every iterate (in a sweep,
+scan that row and continue the sweep from another root there). The design
 chart plots the root against a column (log axes on request), failures as crosses. Export the
 results as CSV.</p>
 <p><b>Files.</b> Worksheets are saved as JSON files of our own (.json). Export the iteration

@@ -206,10 +206,17 @@ class TableWindow(QWidget):
         self.sheet_button.setEnabled(False)
         self.worksheet: Any = None
         self.sheet_path = ""
+        # A sweep's row can be scanned and the sweep resumed from one of its roots there.
+        self.scan_button = QPushButton("Sc&an this row")
+        self.scan_button.setEnabled(False)
+        self.scan_roots = QComboBox()
+        self.resume_button = QPushButton("Continue the sweep from this root")
+        self.resume_button.setEnabled(False)
         for name in ("open_button", "paste_button", "sweep_button", "run_button",
                      "cancel_button", "export_button", "sheet_button", "x0_edit", "x1_edit",
                      "a_edit", "b_edit", "sweep_name_edit", "sweep_from", "sweep_to", "sweep_count",
-                     "sweep_log", "method_box"):
+                     "sweep_log", "method_box", "scan_button", "scan_roots",
+                     "resume_button"):
             getattr(self, name).setObjectName(name)
 
         self.model = BatchModel(self)
@@ -244,6 +251,8 @@ class TableWindow(QWidget):
         self.cancel_button.clicked.connect(self.cancel)
         self.export_button.clicked.connect(self.export_csv)
         self.sheet_button.clicked.connect(self.export_sheet)
+        self.scan_button.clicked.connect(self.scan_row)
+        self.resume_button.clicked.connect(self.resume_from_root)
         self.resize(1100, 760)
 
     def _layout(self) -> None:
@@ -278,6 +287,11 @@ class TableWindow(QWidget):
         upper.addWidget(self.view)
         upper.addWidget(self.chart)
         upper.setSizes([520, 560])
+        restart = QHBoxLayout()
+        for widget in (self.scan_button, self.scan_roots, self.resume_button):
+            restart.addWidget(widget)
+        restart.addStretch(1)
+        self.lane_holder.addLayout(restart)
         lanes = QWidget()
         lanes.setLayout(self.lane_holder)
         body = QSplitter(Qt.Orientation.Vertical)
@@ -488,7 +502,75 @@ class TableWindow(QWidget):
             self.lane_holder.addWidget(self.lane)
         self.lane.set_run(run)
         self.lane_row = row
+        self.scan_button.setEnabled(self.kind == "sweep")
+        self.scan_roots.clear()
+        self.resume_button.setEnabled(False)
         self.say(f"row {row + 1}: " + words.run_message(run))
+
+    def scan_range(self) -> tuple[float, float]:
+        """Where a row is scanned: the worksheet's scan range, else around the sweep's roots."""
+        ws = self.worksheet
+        if ws is not None and ws.scan and ws.equation.strip() == self.equation_edit.text().strip():
+            return float(ws.scan[0]), float(ws.scan[1])
+        roots = self.done.batch.root[np.isfinite(self.done.batch.root)]
+        if roots.size == 0:
+            return -10.0, 10.0
+        lo, hi = float(roots.min()), float(roots.max())
+        span = hi - lo if hi > lo else max(1.0, abs(lo))
+        return lo - span, hi + span
+
+    def scan_row(self) -> bool:
+        """Scan f at the open row's value (the "batch" lane): its roots are offered as
+        restarts of the sweep."""
+        from solvers import scan
+
+        if self.done is None or self.lane_row < 0 or self.kind != "sweep":
+            return False
+        batch, row = self.done.batch, self.lane_row
+        bound = batch.equation.bind(batch.row_values(row))
+        a, b = self.scan_range()
+
+        def work(progress: Any, cancel: Any) -> Any:
+            return scan(bound.f, a, b, fprime=bound.fprime, progress=progress, cancel=cancel)
+
+        def done(found: Any) -> None:
+            self._idle()
+            self.scan_roots.clear()
+            for root in found.roots:
+                self.scan_roots.addItem(words.exact(root.x), root.x)
+            self.resume_button.setEnabled(bool(found.roots))
+            name = batch.settings["swept"]
+            value = words.exact(float(batch.row_values(row)[name]))
+            listed = ", ".join(words.exact(r.x) for r in found.roots) or "none"
+            self.say(f"roots at {name} = {value} in [{words.exact(a)}, {words.exact(b)}]: "
+                     f"{listed}")
+
+        self.run_button.setEnabled(False)
+        self.cancel_button.setEnabled(True)
+        self.say("scanning…")
+        return self.runner.submit(LANE, work, on_done=done, on_error=self._on_error,
+                                  on_cancel=self._on_cancelled,
+                                  on_progress=lambda f: self.progress.setValue(int(f * 1000)))
+
+    def resume_from_root(self) -> bool:
+        """The sweep again from the open row, started from the root chosen in the list."""
+        from solvers.batch import TableSolve, resume_sweep
+
+        if self.done is None or self.scan_roots.count() == 0:
+            return False
+        done, row, x0 = self.done, self.lane_row, float(self.scan_roots.currentData())
+
+        def work(progress: Any, cancel: Any) -> Any:
+            batch = resume_sweep(done.batch, row, x0, progress=progress, cancel=cancel)
+            return TableSolve(done.equation, batch, done.parameters, done.starts,
+                              done.constants)
+
+        self.run_button.setEnabled(False)
+        self.cancel_button.setEnabled(True)
+        self.say("running…")
+        return self.runner.submit(LANE, work, on_done=self._on_done, on_error=self._on_error,
+                                  on_cancel=self._on_cancelled,
+                                  on_progress=lambda f: self.progress.setValue(int(f * 1000)))
 
     def export_csv(self) -> bool:
         from app.documents import export, tables
