@@ -73,7 +73,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
                 [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
                 for s in r.steps
             ]
-            print(_table(["k", "x", "f(x)", "f'(x)", "dx", "lo", "hi"], body))
+            print(_table(list(words.iterate_headings(eq.unknown, "ascii").values()), body))
     print(f"\n{caution()}")
 
 

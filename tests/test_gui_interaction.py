@@ -494,3 +494,22 @@ def test_the_convergence_view_names_the_real_unknown(qtbot, window):
     qtbot.waitUntil(lambda: bool(window.plot.convergence_view.figure.axes), timeout=5000)
     labels = [a.get_ylabel() for a in window.plot.convergence_view.figure.axes]
     assert any("V_k" in label for label in labels), labels
+
+
+def test_iteration_tables_are_headed_in_the_unknowns_own_name(qtbot, window):
+    """An unknown called f (a friction factor) heads its lanes f, F(f), F′(f), Δf: never
+    "x, f(x)" beside an equation with no x in it, and never "f(f)"."""
+    assert window.load_sample("cooling-water-friction.json")
+    settle(qtbot, window)
+    solution = _solve(qtbot, window)
+    assert solution.equation.unknown == "f"
+    lane = window.lanes.lanes["newton"]
+    header = lane.table.horizontalHeader()
+    titles = [lane.model.headerData(c, Qt.Orientation.Horizontal) for c in range(header.count())]
+    assert titles[:5] == ["k", "f", "F(f)", "F′(f)", "Δf"]
+    type_equation(qtbot, window, "V^3 - 2*V - 1")
+    _type(qtbot, window.inputs.fields["x0"], "2")
+    _solve(qtbot, window)
+    lane = window.lanes.lanes["newton"]
+    assert [lane.model.headerData(c, Qt.Orientation.Horizontal) for c in range(3)] == \
+        ["k", "V", "f(V)"]

@@ -35,7 +35,7 @@ from app.documents.plotdata import (  # noqa: F401 - the drawers' data, re-expor
 )
 
 # method_label and method_title are the words module's, re-exported for the drawing callers.
-from app.documents.words import method_label, method_title  # noqa: F401
+from app.documents.words import method_label, method_title, residual_name  # noqa: F401
 from solvers.records import Run
 
 # matplotlib is not thread-safe: its mathtext parser and font objects are shared, and two
@@ -108,10 +108,6 @@ POLE_COLOR = "#6B6B6B"
 ROOT_MARKER = {"marker": "o", "markersize": 7, "markerfacecolor": "white",
                "markeredgecolor": "#000000", "markeredgewidth": 1.5, "linestyle": "none"}
 
-def residual_name(unknown: str) -> str:
-    """The letter for the residual lhs - rhs: f, or F when the unknown itself is called f
-    (a friction factor), so nothing reads "f(f)"."""
-    return "F" if unknown == "f" else "f"
 
 
 def method_color(name: str) -> str:

@@ -143,6 +143,33 @@ def method_names(methods: Iterable[str]) -> str:
 # ----------------------------------------------------------------- stop reasons
 
 # One line for each value of Run.reason (solvers.records.REASONS).
+def residual_name(unknown: str) -> str:
+    """The letter for the residual lhs - rhs: f, or F when the unknown itself is called f
+    (a friction factor), so nothing reads "f(f)"."""
+    return "F" if unknown == "f" else "f"
+
+
+# The columns of an iteration table (keys are Step fields), as each front end prints them:
+# "screen" for the window's tables, "sheet" with a subscript k for the calculation sheet,
+# "ascii" for a terminal. {u} is the unknown's name, {f} the residual's letter.
+_ITERATE_HEADINGS: dict[str, dict[str, str]] = {
+    "screen": {"k": "k", "x": "{u}", "fx": "{f}({u})", "dfx": "{f}′({u})",
+               "dx": "Δ{u}", "lo": "lo", "hi": "hi"},
+    "sheet": {"k": "k", "x": "{u}ₖ", "fx": "{f}({u}ₖ)", "dfx": "{f}′({u}ₖ)",
+              "dx": "Δ{u}ₖ = {u}ₖ − {u}ₖ₋₁",
+              "lo": "bracket lo", "hi": "bracket hi"},
+    "ascii": {"k": "k", "x": "{u}", "fx": "{f}({u})", "dfx": "{f}'({u})", "dx": "d{u}",
+              "lo": "lo", "hi": "hi"},
+}
+
+
+def iterate_headings(unknown: str, style: str = "screen") -> dict[str, str]:
+    """Headings of an iteration table's columns (keys: k, x, fx, dfx, dx, lo, hi) in the
+    unknown's own name: a friction factor's table reads f, F(f), F′(f)."""
+    fill = {"u": unknown or "x", "f": residual_name(unknown)}
+    return {key: head.format(**fill) for key, head in _ITERATE_HEADINGS[style].items()}
+
+
 REASON_TEXT: dict[str, str] = {
     "x_tolerance": "step below tolerance |dx| <= xtol + rtol*|x|",
     "f_tolerance": "residual below tolerance |f| <= ftol",

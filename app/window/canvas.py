@@ -31,6 +31,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents import figures
+from app.documents.words import residual_name
 from app.window.figure_view import FigureView, import_backend
 from solvers.records import Run
 
@@ -250,7 +251,7 @@ class PlotPanel(QTabWidget):
         except ValueError as exc:
             self._show_text(f"cannot draw: {exc}")
             return
-        name = f"{figures.residual_name(self._unknown)}({self._unknown})"
+        name = f"{residual_name(self._unknown)}({self._unknown})"
         line.set_data(c.x, c.y)
         line.set_label(name)
         if scan is not None:
@@ -321,7 +322,7 @@ class PlotPanel(QTabWidget):
             return
         u = self._unknown
         self.readout.setText(f"{u} = {event.xdata:.6g}   "
-                             f"{figures.residual_name(u)}({u}) = {event.ydata:.4g}")
+                             f"{residual_name(u)}({u}) = {event.ydata:.4g}")
 
     def _on_press(self, event: Any) -> None:
         if self._active(event):

@@ -32,8 +32,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from app.documents.figures import residual_name, typesetting
-from app.documents.words import remarks_text
+from app.documents.figures import typesetting
+from app.documents.words import remarks_text, residual_name
 from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
 

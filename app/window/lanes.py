@@ -119,8 +119,8 @@ class MethodLane(QFrame):
     def run(self) -> Run | None:
         return self.model.run
 
-    def set_run(self, run: Run | None) -> None:
-        self.model.set_run(run)
+    def set_run(self, run: Run | None, unknown: str = "x") -> None:
+        self.model.set_run(run, unknown)
         for c in range(self.model.columnCount()):
             self.table.setColumnHidden(c, c in self.model.empty_columns())
         self._size_columns()
@@ -259,7 +259,7 @@ class LanesPanel(QWidget):
     def show_solution(self, solution: Any) -> None:
         self.set_methods([r.method for r in solution.runs])
         for run in solution.runs:
-            self.lanes[run.method].set_run(run)
+            self.lanes[run.method].set_run(run, solution.equation.unknown)
         self.agreement.setText(agreement_text(solution))
         self.agreement.setToolTip(agreement_text(solution).replace("  ", "\n"))
         self.agreement.setStyleSheet("")

@@ -127,13 +127,29 @@ class RunModel(_RecordModel):
         Column("hi", lambda s: s.hi, "bracket end held after this iterate"),
     )
 
+    keys = ("k", "x", "fx", "dfx", "dx", "lo", "hi")  # the Step field of each column
+
     def __init__(self, parent: Any = None) -> None:
         super().__init__(parent)
         self.run: Run | None = None
+        self._headings = words.iterate_headings("x")
 
-    def set_run(self, run: Run | None) -> None:
+    def set_run(self, run: Run | None, unknown: str = "x") -> None:
+        """Show ``run``'s iterates; the headings name ``unknown`` (f, F(f), F′(f) for an
+        unknown called f)."""
         self.run = run
+        headings = words.iterate_headings(unknown)
+        if headings != self._headings:
+            self._headings = headings
+            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(self.columns) - 1)
         self.set_rows(run.steps if run is not None else [])
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if (orientation == Qt.Orientation.Horizontal and role == Qt.ItemDataRole.DisplayRole
+                and 0 <= section < len(self.keys)):
+            return self._headings[self.keys[section]]
+        return super().headerData(section, orientation, role)
 
     def step(self, row: int) -> Step:
         return self._rows[row]

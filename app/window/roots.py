@@ -21,8 +21,7 @@ from PySide6.QtWidgets import (
     QVBoxLayout,
 )
 
-from app.documents import figures
-from app.documents.words import method_label, scan_warnings
+from app.documents.words import method_label, residual_name, scan_warnings
 from app.window.models import DEFAULT_DIGITS, RootsModel, fix_lines, format_number, number_font
 from app.window.views import CopyTableView, FittedNumberDelegate
 
@@ -48,7 +47,7 @@ def scan_summary(scan: Any, unknown: str) -> str:
     """Roots, poles, jumps and gaps of a scan in one line, then its warnings."""
     roots = len(scan.roots)
     parts = [f"{roots} root{'s' if roots != 1 else ''} of "
-             f"{figures.residual_name(unknown)}({unknown}) in "
+             f"{residual_name(unknown)}({unknown}) in "
              f"[{_num(scan.a)}, {_num(scan.b)}]"]
     poles = list(scan.poles)
     if poles:

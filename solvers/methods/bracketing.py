@@ -112,15 +112,19 @@ def _iterate_zero(
     tol: float,
     ends: tuple[tuple[float, float], tuple[float, float]],
     underflowed: set[float],
-) -> float | None:
-    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means.
+    bracket: tuple[float, float],
+) -> tuple[float, str | None, Detail | None]:
+    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means:
+    ``(value to carry on with, None, None)``, or ``(0.0, reason, detail)`` when the method
+    stops there (``exact_zero``, or ``not_finite`` with the ``underflow_inside`` detail
+    naming x and ``bracket``, the bracket held before x).
 
-    Returns None when it is a root (exact zero). When a bracket end underflowed too
+    An exact zero is a root. When a bracket end underflowed too
     (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800), x
     lies in the same stretch of underflow: it takes that end's sign and is returned
     as ``+-_TINY`` (x is added to ``underflowed``), at no call. Otherwise f is
     checked beside x (:func:`_zero_is_root`, the farther end's side first) and a
-    zero that is only underflow returns NaN: a stretch of zeros inside a bracket with
+    zero that is only underflow stops the method: a stretch of zeros inside a bracket with
     real values at both ends hides on which side of x the sign change lies, so the
     method stops there (``not_finite``) instead of guessing.
 
@@ -136,13 +140,11 @@ def _iterate_zero(
     for end, value in ((x1, f1), (x2, f2)):
         if end in underflowed:
             underflowed.add(x)
-            return math.copysign(_TINY, value)
-    if _straight_through(x, x1, f1, x2, f2, tol):
-        return None
+            return math.copysign(_TINY, value), None, None
     far = x2 if abs(x - x1) <= abs(x - x2) else x1
-    if _zero_is_root(ev, x, tol, toward=far):
-        return None
-    return math.nan
+    if _straight_through(x, x1, f1, x2, f2, tol) or _zero_is_root(ev, x, tol, toward=far):
+        return 0.0, EXACT_ZERO, None
+    return 0.0, NOT_FINITE, _interior_underflow(x, *bracket)
 
 
 def _interior_underflow(x: float, lo: float, hi: float) -> Detail:
@@ -233,15 +235,12 @@ def bisection(
             return done(NOT_FINITE, best, _not_finite_detail(ev, mid, fmid))
         recorded = fmid
         if fmid == 0.0:
-            carried = _iterate_zero(
-                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed
+            fmid, stop, why = _iterate_zero(
+                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed, (lo, hi)
             )
-            if carried is None or math.isnan(carried):
-                steps.append(Step(iterations + 1, mid, fmid, None, mid - last, mid, hi))
-                if carried is None:
-                    return done(EXACT_ZERO, mid)
-                return done(NOT_FINITE, mid, _interior_underflow(mid, lo, hi))
-            fmid = carried
+            if stop:
+                steps.append(Step(iterations + 1, mid, recorded, None, mid - last, mid, hi))
+                return done(stop, mid, why)
         if _same_sign(fmid, flo):
             lo, flo = mid, fmid
         else:
@@ -326,15 +325,12 @@ def _regula_falsi(
             return done(NOT_FINITE, best, _not_finite_detail(ev, x, fx))
         recorded = fx
         if fx == 0.0:
-            carried = _iterate_zero(
-                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed
+            fx, stop, why = _iterate_zero(
+                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed, (lo, hi)
             )
-            if carried is None or math.isnan(carried):
-                steps.append(Step(iterations + 1, x, fx, None, x - xb, *sorted((xb, x))))
-                if carried is None:
-                    return done(EXACT_ZERO, x)
-                return done(NOT_FINITE, x, _interior_underflow(x, lo, hi))
-            fx = carried
+            if stop:
+                steps.append(Step(iterations + 1, x, recorded, None, x - xb, *sorted((xb, x))))
+                return done(stop, x, why)
         if _same_sign(fx, fb):
             # xa retained once more: Illinois halves its value to pull the next iterate over.
             if illinois_rule:

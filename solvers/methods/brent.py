@@ -8,7 +8,6 @@ import math
 
 from solvers.methods.bracketing import (
     _bracket_settings,
-    _interior_underflow,
     _iterate_zero,
     _start_bracket,
 )
@@ -27,7 +26,6 @@ from solvers.methods.common import (
     _step_detail,
 )
 from solvers.records import (
-    EXACT_ZERO,
     F_TOLERANCE,
     MAX_ITERATIONS,
     NOT_FINITE,
@@ -132,15 +130,14 @@ def brent(
         fb = recorded = ev(xb)
         iterations += 1
         if fb == 0.0:
-            carried = _iterate_zero(
-                ev, xb, xtol_ + rtol_ * abs(xb), ((xa, fa), (xc, fc)), underflowed
+            fb, stop, why = _iterate_zero(
+                ev, xb, xtol_ + rtol_ * abs(xb), ((xa, fa), (xc, fc)), underflowed,
+                tuple(sorted((xa, xc))),
             )
-            if carried is None or math.isnan(carried):
-                steps.append(Step(iterations + 1, xb, fb, None, xb - last, *sorted((xb, xc))))
-                if carried is None:
-                    return done(EXACT_ZERO, xb)
-                return done(NOT_FINITE, xb, _interior_underflow(xb, *sorted((xa, xc))))
-            fb = carried
+            if stop:
+                steps.append(Step(iterations + 1, xb, recorded, None, xb - last,
+                                  *sorted((xb, xc))))
+                return done(stop, xb, why)
         if math.isfinite(fb) and not _same_sign(fb, fa):
             # The root now lies between the new b and the old b: a becomes the contrapoint.
             xc, fc = xa, fa

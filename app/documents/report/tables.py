@@ -57,27 +57,21 @@ def _residual_mp(equation: Any, x: float) -> str:
     return mpmath.nstr(result.value, 12)
 
 
-# Columns of an iteration table, kept only when some step of the run has the value.
-_STEP_COLUMNS: tuple[tuple[str, str], ...] = (
-    ("x", "x\u2096"),
-    ("fx", "f(x\u2096)"),
-    ("dfx", "f\u2032(x\u2096)"),
-    ("dx", "\u0394x\u2096 = x\u2096 \u2212 x\u2096\u208b\u2081"),
-    ("lo", "bracket lo"),
-    ("hi", "bracket hi"),
-)
+# Columns of an iteration table (Step fields), kept only when some step of the run has the value.
+_STEP_KEYS = ("x", "fx", "dfx", "dx", "lo", "hi")
 
 
-def _iteration_table(run: Run, st: dict) -> list[Flowable]:
+def _iteration_table(run: Run, st: dict, unknown: str = "x") -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
         return [
             Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(words.run_message(run))}",
                       st["body"])
         ]
+    headings = words.iterate_headings(unknown, "sheet")
     columns = [
-        (key, head)
-        for key, head in _STEP_COLUMNS
+        (key, headings[key])
+        for key in _STEP_KEYS
         if key in ("x", "fx") or any(getattr(s, key) is not None for s in run.steps)
     ]
     steps = list(run.steps)
