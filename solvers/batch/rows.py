@@ -24,6 +24,7 @@ import numpy as np
 
 from solvers.batch.records import CONVERGED_INDEX, REASON_CODES, BatchCancelled
 from solvers.equation import EquationError
+from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
 from solvers.methods.common import _PROBE_GROWTH, _PROBE_REACH, _TINY, DERIVATIVE_STEP
 
 X_TOL, F_TOL, EXACT, MAX_IT, ZERO_D, NOT_FIN, NO_SIGN, DISCONT = (
@@ -274,12 +275,8 @@ def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
     return ~zero & (np.isfinite(one) | np.isfinite(two))
 
 
-_SLOPE_SPREAD = 1024.0
-_CHORD_SHARE = 1.0 / 16.0
-
-
 def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:
-    """Element-wise :func:`solvers.methods.bracketing._straight_through`."""
+    """Element-wise :func:`solvers.methods.bracketing._straight_through` (its constants)."""
     inside = (np.minimum(x1, x2) < x) & (x < np.maximum(x1, x2)) & ~same_sign(f1, f2)
     slope_1 = np.abs(f1) / np.abs(x - x1)
     slope_2 = np.abs(f2) / np.abs(x2 - x)
