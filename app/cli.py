@@ -378,9 +378,14 @@ def cmd_report(args: argparse.Namespace) -> int:
             raise InputError(f"{args.csv_dir}: is a file, not a folder for the CSV files")
         # a missing folder is created by the report (and removed again if it fails)
     solution, scan = pipeline.solve_and_scan(ws)  # the sheet is handed results, never solves
+    table = None
+    if ws.table is not None:  # its table of inputs too (app.tables_cli solves it)
+        from app.tables_cli import worksheet_table
+
+        table = worksheet_table(ws)
     result = report.write_report(
         ws, args.pdf, solution=solution, scan=scan, csv_dir=args.csv_dir,
-        worksheet_path=args.worksheet, overwrite=args.force,
+        worksheet_path=args.worksheet, overwrite=args.force, table=table,
     )
     print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
     for path in result.csv_paths:

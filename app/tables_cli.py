@@ -233,3 +233,14 @@ def cmd_sweep(args: argparse.Namespace) -> int:
                    {"sweep": f"{name} from {values[0]!r} to {values[-1]!r}, {values.size} "
                              f"values, {spacing} spacing; each row starts from the previous "
                              "row's root"})
+
+
+def worksheet_table(ws: Any) -> Any:
+    """A worksheet's table of inputs solved, as the calculation sheet is handed it."""
+    from app.documents.tables import results_of
+    from solvers.batch import solve_inputs
+
+    try:
+        return results_of(ws.table, solve_inputs(ws))
+    except ValueError as exc:
+        raise _input_error("table", exc) from None

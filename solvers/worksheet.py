@@ -65,6 +65,28 @@ class Selection:
 
 
 @dataclass(frozen=True)
+class TableInputs:
+    """A table of inputs, or a sweep, kept with the worksheet.
+
+    ``columns`` are (name, values) in table order: parameters of the equation, or the
+    start-value columns x0, x1, bracket_a, bracket_b; a sweep has one column, the values
+    of the parameter swept, in order. ``method`` and the start values apply to every row
+    that has none of its own; the stopping rules are the worksheet's.
+    """
+
+    columns: tuple[tuple[str, tuple[float, ...]], ...]
+    kind: str = "table"  # or "sweep"
+    method: str = "newton"
+    x0: float | None = None
+    x1: float | None = None
+    bracket: tuple[float, float] | None = None
+
+    @property
+    def rows(self) -> int:
+        return len(self.columns[0][1]) if self.columns else 0
+
+
+@dataclass(frozen=True)
 class Worksheet:
     equation: str
     unknown: str | None = None
@@ -75,6 +97,7 @@ class Worksheet:
     notes: str = ""
     calc: CalcInfo = field(default_factory=CalcInfo)
     selection: Selection | None = None
+    table: TableInputs | None = None
 
     def parameter_values(self) -> dict[str, float]:
         return {p.name: p.value for p in self.parameters}

@@ -115,3 +115,54 @@ def test_the_design_chart_marks_failed_rows_and_branch_ends(kind):
                                       line=kind == "sweep")
     assert drawn == 21 and ax.get_xlabel() == "p" and ax.get_ylabel() == "x"
     assert any(line.get_linestyle() == ":" for line in ax.lines)
+
+
+def test_a_table_is_saved_with_the_worksheet_and_read_back_exactly(tmp_path):
+    from app.documents.worksheet import TableInputs, WorksheetError, loads, save
+
+    ws = load(SAMPLE)
+    inputs = TableInputs(columns=(("Re", (5e4, 2e5, 1.0000000000000002e6)),), method="brent",
+                         bracket=(0.005, 0.1))
+    path = tmp_path / "with-table.json"
+    save(ws.with_changes(table=inputs), path)
+    again = load(path)
+    assert again.table == inputs  # every double read back identical (repr in JSON)
+    assert load(SAMPLE).table is None
+    text = path.read_text(encoding="utf-8")
+    bad = text.replace('"name": "Re",\n        "values"', '"name": "R e",\n        "values"')
+    assert bad != text
+    with pytest.raises(WorksheetError, match=r"table.columns\[0\].name"):
+        loads(bad)
+    uneven = path.read_text(encoding="utf-8").replace(
+        '"kind": "table"', '"kind": "sweep"').replace(
+        '"columns": [', '"columns": [{"name": "D", "values": [0.1]}, ')
+    with pytest.raises(WorksheetError, match="a sweep has one column"):
+        loads(uneven)
+
+
+def test_zerotrace_report_prints_the_worksheets_table(tmp_path, capsys):
+    from app.cli import main
+    from app.documents.worksheet import TableInputs, save
+
+    ws = load(SAMPLE).with_changes(table=TableInputs(
+        columns=(("Re", (5e4, 2e5, 1e6)),), method="brent", bracket=(0.005, 0.1)))
+    path = tmp_path / "ws.json"
+    save(ws, path)
+    pdf = tmp_path / "sheet.pdf"
+    code = main(["report", str(path), "--pdf", str(pdf), "--csv-dir", str(tmp_path / "c")])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    text = flat(" ".join(p.extract_text() for p in pypdf.PdfReader(str(pdf)).pages))
+    assert "Table of inputs and results" in text and "3 rows: 3 converged" in text
+    constants = {p.name: p.value for p in ws.parameters}
+    printed = []
+    for word in text.split():
+        try:
+            printed.append(float(word))
+        except ValueError:
+            continue
+    for Re in (5e4, 2e5, 1e6):
+        ref = scipy.optimize.brentq(residual, 0.005, 0.1, args=(Re, constants["eps"],
+                                    constants["D"]), xtol=1e-15)  # reference
+        assert any(abs(value - ref) <= 1e-10 * ref for value in printed)
+    assert (tmp_path / "c" / "sheet-table.csv").exists()

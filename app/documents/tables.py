@@ -187,6 +187,15 @@ class TableResults:
 
 
 
+def results_of(inputs: Any, done: Any) -> TableResults:
+    """A worksheet's table (:class:`solvers.worksheet.TableInputs`) and what solved it, as
+    documents are handed them (cells written with ``repr``, round-trip exact)."""
+    names = tuple(name for name, _ in inputs.columns)
+    columns = tuple(np.asarray(values, dtype=np.float64) for _, values in inputs.columns)
+    cells = tuple(tuple(repr(float(v)) for v in values) for _, values in inputs.columns)
+    return TableResults(names, columns, names, cells, done, inputs.kind)
+
+
 def note_lines(batch: Any, label: str = "row") -> dict[str, str]:
     """Metadata lines for the summary and each note ('row N' counted from 1)."""
     meta = {"summary": batch_summary(batch)}

@@ -14,8 +14,14 @@ end alike.
 from solvers.batch.driver import CHUNK_ROWS, KERNELS, solve_batch
 from solvers.batch.records import NOTE_CODES, Batch, BatchCancelled
 from solvers.batch.sweep import resume_sweep, sweep
-from solvers.batch.table import START_COLUMNS, TableSolve, solve_sweep, solve_table
+from solvers.batch.table import (
+    START_COLUMNS,
+    TableSolve,
+    solve_inputs,
+    solve_sweep,
+    solve_table,
+)
 
 __all__ = ["CHUNK_ROWS", "KERNELS", "NOTE_CODES", "START_COLUMNS", "Batch", "BatchCancelled",
-           "TableSolve", "resume_sweep", "solve_batch", "solve_sweep", "solve_table",
-           "sweep"]
+           "TableSolve", "resume_sweep", "solve_batch", "solve_inputs", "solve_sweep",
+           "solve_table", "sweep"]

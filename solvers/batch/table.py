@@ -162,3 +162,25 @@ def solve_sweep(
                   x1=start["x1"], bracket=start["bracket"], bounds=bounds, progress=progress,
                   cancel=cancel, **settings)
     return TableSolve(equation, batch, (name,), (), used)
+
+
+def solve_inputs(worksheet: Any, progress: Callable[[float], Any] | None = None,
+                 cancel: Callable[[], bool] | None = None) -> TableSolve:
+    """A worksheet's table of inputs (``worksheet.table``, a
+    :class:`solvers.worksheet.TableInputs`) solved with its equation, unknown, parameter
+    values (constants for the names the table has no column of) and stopping rules."""
+    t = worksheet.table
+    if t is None:
+        raise ValueError("the worksheet has no table of inputs")
+    s = worksheet.settings
+    names = {name for name, _ in t.columns}
+    common: dict[str, Any] = dict(
+        unknown=worksheet.unknown,
+        constants={k: v for k, v in worksheet.parameter_values().items() if k not in names},
+        method=t.method, x0=t.x0, x1=t.x1, bracket=t.bracket, progress=progress,
+        cancel=cancel, xtol=s.xtol, rtol=s.rtol, ftol=s.ftol, max_iter=s.max_iter,
+        damping=s.damping)
+    columns = [(name, np.asarray(values, dtype=np.float64)) for name, values in t.columns]
+    if t.kind == "sweep":
+        return solve_sweep(worksheet.equation, columns[0][0], columns[0][1], **common)
+    return solve_table(worksheet.equation, columns, **common)
