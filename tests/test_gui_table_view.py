@@ -240,3 +240,37 @@ def test_a_sweeps_row_is_scanned_and_the_sweep_resumed_from_a_root_there(qtbot, 
     roots = np.roots([1.0, 0.0, -1.0, -0.05])  # reference: numpy.roots at p = 0.05
     middle = np.sort(roots[np.abs(roots.imag) < 1e-9].real)[1]
     assert abs(batch.root[21] - middle) <= 1e-12
+
+
+def test_the_table_is_saved_with_the_worksheet_and_comes_back(qtbot, window, dialogs, tables,
+                                                              tmp_path):
+    from app.documents.worksheet import load
+
+    window.load_sample()
+    window.activateWindow()
+    window.open_tables()
+    path = tmp_path / "re.csv"
+    path.write_text("Re\n5e4\n2e5\n", encoding="utf-8")
+    dialogs.open_name = str(path)
+    click(qtbot, tables.open_button)
+    tables.method_box.setCurrentIndex(tables.method_box.findData("brent"))
+    type_into(qtbot, tables.a_edit, "0.005")
+    type_into(qtbot, tables.b_edit, "0.1")
+    assert window.isWindowModified()  # the table is part of the worksheet
+    saved = tmp_path / "with-table.json"
+    dialogs.save_name = str(saved)
+    window.activateWindow()
+    window.strip.editor.setFocus()
+    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_S,
+                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
+    qtbot.waitUntil(saved.exists)
+    table = load(saved).table
+    assert table.columns == (("Re", (5e4, 2e5)),) and table.method == "brent"
+    assert table.bracket == (0.005, 0.1)
+    window.new_document()
+    assert tables.model.rowCount() == 0
+    assert window.open_path(saved, ask=False)
+    assert tables.model.names == ["Re"] and tables.model.rowCount() == 2
+    assert tables.method_box.currentData() == "brent" and tables.a_edit.text() == "0.005"
+    assert not window.isWindowModified()

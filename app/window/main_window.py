@@ -174,9 +174,11 @@ class MainWindow(QMainWindow):
         settings, scan = self.inputs.settings(record.settings)
         parameters = tuple(Parameter(r.name, r.value, r.note)
                            for r in self.inputs.parameters.rows() if r.value is not None)
+        table = self.tables.inputs_record() if self.tables is not None else record.table
         return record.with_changes(equation=self.strip.text(),
                                    unknown=self.strip.chosen_unknown(),
-                                   parameters=parameters, settings=settings, scan=scan)
+                                   parameters=parameters, settings=settings, scan=scan,
+                                   table=table)
 
     def solve_worksheet(self) -> Worksheet:
         """The worksheet with the unknown the strip inferred, for the pipeline."""
@@ -216,6 +218,9 @@ class MainWindow(QMainWindow):
         self.roots.clear(ws.scan is not None)
         self.plot.set_runs(())
         self.plot.show_message("Press Solve (Ctrl+Return) or Scan range to draw f.")
+        if self.tables is not None:
+            with QSignalBlocker(self.tables):
+                self.tables.restore(ws.table)
 
     def _refresh_title(self) -> None:
         doc = self.document
@@ -442,6 +447,9 @@ class MainWindow(QMainWindow):
         ws = self.solve_worksheet()
         if self.tables is None:
             self.tables = TableWindow(self.runner, self)
+            with QSignalBlocker(self.tables):
+                self.tables.restore(ws.table)
+            self.tables.inputs_changed.connect(self._refresh_title)
         s = ws.settings
         self.tables.set_worksheet(ws.equation, ws.unknown, ws.parameter_values(),
                                   {"xtol": s.xtol, "rtol": s.rtol, "ftol": s.ftol,

@@ -16,7 +16,7 @@ from functools import partial
 from typing import Any
 
 import numpy as np
-from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import (
     QCheckBox,
@@ -35,111 +35,12 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents import words
+from app.window.batch_model import BatchModel
 from app.window.figure_view import FigureView
 from app.window.lanes import MethodLane
-from app.window.models import (
-    DEFAULT_DIGITS,
-    INVALID_BACKGROUND,
-    INVALID_FOREGROUND,
-    format_number,
-    number_font,
-)
 from app.window.views import CopyTableView
 
-Index = QModelIndex | QPersistentModelIndex
 LANE = "batch"
-RESULT_TITLES = ("root", "reason", "iterations", "residual")
-
-
-class BatchModel(QAbstractTableModel):
-    """Input columns and, once solved, the results, read straight from the arrays.
-
-    Nothing is copied per row: 10^5 rows scroll as fast as 10. ``Qt.UserRole`` gives the
-    raw value; a row that did not converge is shaded, its reason in words in the tooltip.
-    """
-
-    def __init__(self, parent: Any = None) -> None:
-        super().__init__(parent)
-        self.names: list[str] = []
-        self.columns: list[np.ndarray] = []
-        self.batch: Any = None
-        self._digits = DEFAULT_DIGITS
-        self._font = number_font()
-        self._notes: dict[int, list[str]] = {}
-
-    def set_inputs(self, names: Sequence[str], columns: Sequence[np.ndarray]) -> None:
-        self.beginResetModel()
-        self.names = list(names)
-        self.columns = [np.asarray(c, dtype=np.float64).reshape(-1) for c in columns]
-        self.batch = None
-        self._notes = {}
-        self.endResetModel()
-
-    def set_batch(self, batch: Any) -> None:
-        self.beginResetModel()
-        self.batch = batch
-        self._notes = {}
-        for index, code in batch.notes:
-            self._notes.setdefault(index, []).append(words.batch_note_text(code))
-        self.endResetModel()
-
-    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008 (Qt signature)
-        return 0 if parent.isValid() or not self.columns else int(self.columns[0].size)
-
-    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
-        if parent.isValid():
-            return 0
-        return len(self.names) + (len(RESULT_TITLES) if self.batch is not None else 0)
-
-    def headerData(self, section: int, orientation: Qt.Orientation,
-                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if role != Qt.ItemDataRole.DisplayRole:
-            return None
-        if orientation == Qt.Orientation.Vertical:
-            return str(section + 1)
-        titles = [*self.names, *RESULT_TITLES]
-        return titles[section] if 0 <= section < len(titles) else None
-
-    def failed(self, row: int) -> bool:
-        return self.batch is not None and not bool(self.batch.converged.flat[row])
-
-    def raw(self, row: int, column: int) -> Any:
-        if column < len(self.names):
-            return float(self.columns[column][row])
-        b, which = self.batch, RESULT_TITLES[column - len(self.names)]
-        if which == "reason":
-            return str(b.reason.flat[row])
-        if which == "iterations":
-            return int(b.iterations.flat[row])
-        return float(getattr(b, which).flat[row])
-
-    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid():
-            return None
-        row, column = index.row(), index.column()
-        if role == Qt.ItemDataRole.BackgroundRole:
-            return INVALID_BACKGROUND if self.failed(row) else None
-        if role == Qt.ItemDataRole.ForegroundRole:
-            return INVALID_FOREGROUND if self.failed(row) else None
-        value = self.raw(row, column)
-        if role == Qt.ItemDataRole.DisplayRole:
-            if isinstance(value, float):
-                return "—" if math.isnan(value) and column >= len(self.names) \
-                    else format_number(value, self._digits)
-            return str(value)
-        if role == Qt.ItemDataRole.UserRole:
-            return value
-        if role == Qt.ItemDataRole.ToolTipRole:
-            lines = [words.exact(value)] if isinstance(value, float) else []
-            if self.batch is not None:
-                lines.append(words.reason_text(str(self.batch.reason.flat[row])))
-                lines.extend(self._notes.get(row, []))
-            return "\n".join(lines) or None
-        if role == Qt.ItemDataRole.FontRole and isinstance(value, (int, float)):
-            return self._font
-        if role == Qt.ItemDataRole.TextAlignmentRole and isinstance(value, (int, float)):
-            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-        return None
 
 
 def _number(text: str) -> float | None:
@@ -154,7 +55,14 @@ def _number(text: str) -> float | None:
 
 
 class TableWindow(QWidget):
-    """The view of a table of inputs or a sweep, opened from the main window."""
+    """The view of a table of inputs or a sweep, opened from the main window.
+
+    Its inputs (the table, the method, the start values) are part of the worksheet:
+    :meth:`inputs_record` gives them as a :class:`solvers.worksheet.TableInputs`,
+    :meth:`restore` shows a saved one, and ``inputs_changed`` tells the main window.
+    """
+
+    inputs_changed = Signal()
 
     def __init__(self, runner: Any, parent: QWidget | None = None) -> None:
         super().__init__(parent, Qt.WindowType.Window)
@@ -243,7 +151,11 @@ class TableWindow(QWidget):
         self.lane: MethodLane | None = None
         self.lane_row = -1
 
+        self._record: Any = None  # inputs_record, kept until the inputs change
         self._layout()
+        for edit in (self.x0_edit, self.x1_edit, self.a_edit, self.b_edit):
+            edit.textChanged.connect(self._inputs_edited)
+        self.method_box.currentIndexChanged.connect(self._inputs_edited)
         self.open_button.clicked.connect(self.open_table)
         self.paste_button.clicked.connect(self.paste_table)
         self.sweep_button.clicked.connect(self.make_sweep)
@@ -344,6 +256,60 @@ class TableWindow(QWidget):
         self.against_box.blockSignals(False)
         self.view.fit_columns()
         self.say(f"{len(columns[0]) if columns else 0} rows of {', '.join(names)}")
+        self._inputs_edited()
+
+    def _inputs_edited(self, *_args: Any) -> None:
+        self._record = None
+        self.inputs_changed.emit()
+
+    def inputs_record(self) -> Any:
+        """The table, method and start values as the worksheet keeps them (None when no
+        table is loaded; a start field that is not a number is left out)."""
+        from solvers.worksheet import TableInputs
+
+        if not self.model.columns:
+            return None
+        if self._record is None:
+            def field(edit: QLineEdit) -> float | None:
+                try:
+                    return _number(edit.text())
+                except ValueError:
+                    return None
+
+            a, b = field(self.a_edit), field(self.b_edit)
+            self._record = TableInputs(
+                columns=tuple((name, tuple(column.tolist())) for name, column in
+                              zip(self.model.names, self.model.columns, strict=True)),
+                kind=self.kind, method=self.method_box.currentData(),
+                x0=field(self.x0_edit), x1=field(self.x1_edit),
+                bracket=(a, b) if a is not None and b is not None and a != b else None)
+        return self._record
+
+    def restore(self, inputs: Any) -> None:
+        """Show a worksheet's saved table (None clears the view)."""
+        if inputs is None:
+            self.model.set_inputs([], [])
+            self.done = None
+            self.headers, self.cells = [], []
+            self._inputs_edited()
+            return
+        names = [name for name, _ in inputs.columns]
+        columns = [np.asarray(values, dtype=np.float64) for _, values in inputs.columns]
+        with_signals_blocked = (self.method_box, self.x0_edit, self.x1_edit, self.a_edit,
+                                self.b_edit)
+        for widget in with_signals_blocked:
+            widget.blockSignals(True)
+        self.method_box.setCurrentIndex(max(0, self.method_box.findData(inputs.method)))
+        for edit, value in ((self.x0_edit, inputs.x0), (self.x1_edit, inputs.x1),
+                            (self.a_edit, inputs.bracket[0] if inputs.bracket else None),
+                            (self.b_edit, inputs.bracket[1] if inputs.bracket else None)):
+            edit.setText("" if value is None else repr(float(value)))
+        for widget in with_signals_blocked:
+            widget.blockSignals(False)
+        if inputs.kind == "sweep":
+            self.sweep_name = names[0]
+        self.set_table(names, names, columns, [[repr(float(v)) for v in c] for c in columns],
+                       inputs.kind)
 
     def _use_table(self, table: Any) -> None:
         units = [c.header for c in table.columns if c.unit]
