@@ -35,6 +35,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents import words
+from app.documents.worksheet import MAX_TABLE_CELLS
 from app.window.batch_model import BatchModel
 from app.window.figure_view import FigureView
 from app.window.lanes import MethodLane
@@ -255,8 +256,16 @@ class TableWindow(QWidget):
         self.against_box.addItems(list(names))
         self.against_box.blockSignals(False)
         self.view.fit_columns()
-        self.say(f"{len(columns[0]) if columns else 0} rows of {', '.join(names)}")
+        rows = len(columns[0]) if columns else 0
+        text = f"{rows} rows of {', '.join(names)}"
+        if not self._keepable():
+            text += (f" (over {MAX_TABLE_CELLS} numbers: kept in this view, not in the "
+                     "worksheet file; open it from its CSV file)")
+        self.say(text)
         self._inputs_edited()
+
+    def _keepable(self) -> bool:
+        return sum(c.size for c in self.model.columns) <= MAX_TABLE_CELLS
 
     def _inputs_edited(self, *_args: Any) -> None:
         self._record = None
@@ -264,10 +273,11 @@ class TableWindow(QWidget):
 
     def inputs_record(self) -> Any:
         """The table, method and start values as the worksheet keeps them (None when no
-        table is loaded; a start field that is not a number is left out)."""
+        table is loaded or it is over the worksheet's limit; a start field that is not a
+        number is left out)."""
         from solvers.worksheet import TableInputs
 
-        if not self.model.columns:
+        if not self.model.columns or not self._keepable():
             return None
         if self._record is None:
             def field(edit: QLineEdit) -> float | None:
