@@ -60,7 +60,8 @@ def add_table_commands(sub: Any) -> None:
     batch = sub.add_parser("batch", help="solve one equation for every row of a CSV table")
     _common(batch)
     batch.add_argument("--table", required=True, metavar="IN.csv",
-                       help="one header row of parameter names, one row of values per case")
+                       help="one header row of parameter names, one row of values per case "
+                       "(columns x0, x1, bracket_a, bracket_b: a row's own start values)")
     batch.set_defaults(run=cmd_batch)
     sweep = sub.add_parser("sweep", help="follow a root along one parameter (continuation)")
     _common(sweep)
