@@ -51,6 +51,12 @@ def tables(qtbot, window):
     return t
 
 
+def open_and_wait(qtbot, t, button=None) -> None:
+    t.loaded, t.last_error = False, ""
+    click(qtbot, button or t.open_button)
+    qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=60_000)
+
+
 def run_and_wait(qtbot, t) -> None:
     before = t.done
     click(qtbot, t.run_button)
@@ -63,7 +69,7 @@ def test_a_table_runs_in_the_background_and_failed_rows_are_marked(qtbot, window
     path.write_text("Re,rr,x0\n1.2e5,4.5e-4,0.02\n2.4e6,3e-5,0.012\n8000,0.02,-1\n",
                     encoding="utf-8")  # the third row starts at a negative friction factor
     dialogs.open_name = str(path)
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     assert tables.model.rowCount() == 3 and tables.model.names == ["Re", "rr", "x0"]
     run_and_wait(qtbot, tables)
     batch = tables.done.batch
@@ -90,7 +96,7 @@ def test_double_clicking_a_row_shows_its_method_lane_with_every_iterate(qtbot, w
     path = tmp_path / "pipes.csv"
     path.write_text("Re,rr\n1.2e5,4.5e-4\n2.4e6,3e-5\n", encoding="utf-8")
     dialogs.open_name = str(path)
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     tables.method_box.setCurrentIndex(tables.method_box.findData("brent"))
     type_into(qtbot, tables.a_edit, "0.001")
     type_into(qtbot, tables.b_edit, "0.2")
@@ -139,7 +145,7 @@ def test_cancel_stops_a_long_run_and_says_so(qtbot, window, tables, monkeypatch)
     rr = 10 ** rng.uniform(-6, -1.4, 400_000)
     rows = ["Re\trr"] + [f"{r!r}\t{e!r}" for r, e in zip(Re.tolist(), rr.tolist(), strict=True)]
     QGuiApplication.clipboard().setText("\n".join(rows))
-    click(qtbot, tables.paste_button)
+    open_and_wait(qtbot, tables, tables.paste_button)
     assert tables.model.rowCount() == 400_000
     tables.method_box.setCurrentIndex(tables.method_box.findData("bisection"))
     type_into(qtbot, tables.a_edit, "0.001")
@@ -156,10 +162,10 @@ def test_bad_tables_and_fields_say_what_is_wrong_in_one_line(qtbot, window, dial
     path = tmp_path / "bad.csv"
     path.write_text("Re,rr\n1e5,\n", encoding="utf-8")
     dialogs.open_name = str(path)
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     assert "row 1 (line 2), column 'rr': missing value" in tables.last_error
     path.write_text("Re,Q\n1e5,3\n", encoding="utf-8")
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     type_into(qtbot, tables.x0_edit, "0.02")
     click(qtbot, tables.run_button)
     qtbot.waitUntil(lambda: bool(tables.last_error), timeout=20_000)
@@ -174,7 +180,7 @@ def test_results_export_as_csv_with_every_input_column(qtbot, window, dialogs, t
     path = tmp_path / "pipes.csv"
     path.write_text("Re,rr\n1.2e5,4.5e-4\n2.4e6,3e-5\n", encoding="utf-8")
     dialogs.open_name = str(path)
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     type_into(qtbot, tables.x0_edit, "0.008")
     run_and_wait(qtbot, tables)
     out = tmp_path / "out.csv"
@@ -196,7 +202,7 @@ def test_the_calculation_sheet_carries_the_table(qtbot, window, dialogs, tables,
     path = tmp_path / "re.csv"
     path.write_text("Re\n5e4\n2e5\n1e6\n", encoding="utf-8")
     dialogs.open_name = str(path)
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     type_into(qtbot, tables.x0_edit, "0.01")
     run_and_wait(qtbot, tables)
     assert tables.done.batch.converged.all()
@@ -252,7 +258,7 @@ def test_the_table_is_saved_with_the_worksheet_and_comes_back(qtbot, window, dia
     path = tmp_path / "re.csv"
     path.write_text("Re\n5e4\n2e5\n", encoding="utf-8")
     dialogs.open_name = str(path)
-    click(qtbot, tables.open_button)
+    open_and_wait(qtbot, tables)
     tables.method_box.setCurrentIndex(tables.method_box.findData("brent"))
     type_into(qtbot, tables.a_edit, "0.005")
     type_into(qtbot, tables.b_edit, "0.1")

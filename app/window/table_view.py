@@ -78,7 +78,7 @@ class TableWindow(QWidget):
         self.headers: list[str] = []
         self.cells: list[Sequence[str]] = []
         self.last_error = ""
-
+        self.loaded = False  # a table read in (open, paste) and shown
         self.equation_edit = QLineEdit()
         self.equation_edit.setObjectName("tableEquation")
         self.unknown_edit = QLineEdit()
@@ -331,16 +331,30 @@ class TableWindow(QWidget):
         self.set_table([c.header for c in table.columns], names,
                        [table.values[n] for n in names], table.cells, "table")
 
+    def _read(self, read: Any) -> bool:
+        """Read a table off the UI thread (a file of 10^6 rows takes seconds), in the
+        "batch" lane; the view takes it when it is read."""
+        def work(_progress: Any, _cancel: Any) -> Any:
+            return read()
+
+        def failed(message: str) -> None:
+            self._idle()
+            self.refuse(message)
+
+        self.run_button.setEnabled(False)
+        self.say("reading the table…")
+        self.loaded = False
+        return self.runner.submit(LANE, work, on_done=self._table_read, on_error=failed)
+
+    def _table_read(self, table: Any) -> None:
+        self._idle()
+        self._use_table(table)
+        self.loaded = not self.last_error
+
     def load_table(self, path: str) -> bool:
         from app.documents.tables import read_table
 
-        try:
-            table = read_table(path)
-        except (ValueError, OSError) as exc:
-            self.refuse(str(exc).splitlines()[0] if str(exc) else type(exc).__name__)
-            return False
-        self._use_table(table)
-        return not self.last_error
+        return self._read(partial(read_table, path))
 
     def open_table(self) -> bool:
         path, _ = QFileDialog.getOpenFileName(self, "Open a table of inputs", "",
@@ -350,13 +364,7 @@ class TableWindow(QWidget):
     def paste_table(self) -> bool:
         from app.documents.tables import parse_table
 
-        try:
-            table = parse_table(QGuiApplication.clipboard().text())
-        except ValueError as exc:
-            self.refuse(str(exc))
-            return False
-        self._use_table(table)
-        return not self.last_error
+        return self._read(partial(parse_table, QGuiApplication.clipboard().text()))
 
     def make_sweep(self) -> bool:
         name = self.sweep_name_edit.text().strip()
