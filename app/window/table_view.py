@@ -36,6 +36,7 @@ from PySide6.QtWidgets import (
 
 from app.documents import words
 from app.documents.worksheet import MAX_TABLE_CELLS
+from app.window import table_exports
 from app.window.batch_model import BatchModel
 from app.window.figure_view import FigureView
 from app.window.lanes import MethodLane
@@ -556,63 +557,12 @@ class TableWindow(QWidget):
                                   on_cancel=self._on_cancelled,
                                   on_progress=lambda f: self.progress.setValue(int(f * 1000)))
 
+    # the exports live in app.window.table_exports
     def export_csv(self) -> bool:
-        from app.documents import export, tables
-
-        if self.done is None:
-            return False
-        path, _ = QFileDialog.getSaveFileName(self, "Export the table of results", "",
-                                              "CSV files (*.csv)")
-        if not path:
-            return False
-        done = self.done
-        meta = export.metadata(equation=self.equation_edit.text(),
-                               unknown=done.equation.unknown, parameters=done.constants,
-                               settings={"method": done.batch.method, **done.batch.settings})
-        try:
-            tables.results_csv(done.batch, self.headers, self.cells, path, meta=meta,
-                               overwrite=True)  # the file dialog asked before replacing
-        except OSError as exc:
-            self.refuse(f"{path}: cannot write ({exc.strerror or exc})")
-            return False
-        self.say(f"results written to {path}")
-        return True
+        return table_exports.export_csv(self)
 
     def results(self) -> Any:
-        """The solved table as documents are handed it."""
-        from app.documents.tables import TableResults
-
-        return TableResults(tuple(self.model.names), tuple(self.model.columns),
-                            tuple(self.headers), tuple(self.cells), self.done, self.kind,
-                            max(0, self.against_box.currentIndex()))
+        return table_exports.results(self)
 
     def export_sheet(self) -> bool:
-        """The worksheet's calculation sheet with this table's section, in the "report"
-        lane (the worksheet is solved and scanned there, as for File > Export)."""
-        from app.documents.report import write_report
-        from solvers import pipeline
-
-        ws = self.worksheet
-        if self.done is None or ws is None:
-            return False
-        if self.equation_edit.text().strip() != ws.equation.strip():
-            self.refuse("the calculation sheet is the worksheet's: solve the table with the "
-                        "worksheet's equation first")
-            return False
-        path, _ = QFileDialog.getSaveFileName(self, "Export the calculation sheet", "",
-                                              "PDF files (*.pdf)")
-        if not path:
-            return False
-        table = self.results()
-
-        def work(progress: Any, _cancel: Any) -> Any:
-            solution, scan = pipeline.solve_and_scan(ws)
-            return write_report(ws, path, solution=solution, scan=scan, table=table,
-                                overwrite=True, progress=progress)  # the dialog asked
-
-        def done(result: Any) -> None:
-            self.sheet_path = str(result.pdf_path)
-            self.say(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
-
-        self.say("writing the calculation sheet…")
-        return self.runner.submit("report", work, on_done=done, on_error=self.refuse)
+        return table_exports.export_sheet(self)
