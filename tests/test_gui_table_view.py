@@ -147,6 +147,9 @@ def test_cancel_stops_a_long_run_and_says_so(qtbot, window, tables, monkeypatch)
     QGuiApplication.clipboard().setText("\n".join(rows))
     open_and_wait(qtbot, tables, tables.paste_button)
     assert tables.model.rowCount() == 400_000
+    # 800,000 numbers: over what a worksheet file keeps, so the view keeps them and says so
+    assert "kept in this view" in tables.status.text()
+    assert tables.inputs_record() is None and window.worksheet().table is None
     tables.method_box.setCurrentIndex(tables.method_box.findData("bisection"))
     type_into(qtbot, tables.a_edit, "0.001")
     type_into(qtbot, tables.b_edit, "0.2")
