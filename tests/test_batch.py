@@ -395,3 +395,9 @@ def test_a_sweep_resumed_from_a_scanned_root_follows_that_branch():
     # past the fold the middle branch ends: a jump, or a row that fails there
     assert any(code in ("branch_jump", "failed") and k > index for k, code in resumed.notes)
     assert resumed.run(index).steps[0].x == middle
+
+
+def test_every_method_of_the_registry_has_an_array_kernel():
+    from solvers.batch import KERNELS
+
+    assert set(KERNELS) == set(METHODS)  # one dispatch table, keyed like METHODS
