@@ -136,21 +136,27 @@ class Batch:
 
         Runs the scalar method of the registry (:func:`solvers.run_method`) on the
         equation bound to this row's values, from this row's start values, with the
-        batch's settings: the same rules as the vectorised result, so its ``converged``
-        agrees with ``self.converged[index]`` and its root with ``self.root[index]``
-        (to the tolerance; the vectorised and scalar f may differ in the last bit).
+        batch's settings, with f evaluated by the same numpy code on an array of one:
+        the kernels take the scalar method's steps, so the run ends with the row's
+        reason, iterations, evaluations and root, to the bit.
         Raises :class:`solvers.EquationError` for a row whose parameter values f cannot
         use (a ``bad_parameters`` note).
         """
         from solvers.methods.registry import run_method
 
-        equation = self.equation.bind(self.row_values(index))
+        # The row bound as rows of one, and f called on arrays of one: the same numpy
+        # arithmetic as the vectorised kernels (the scalar path's math functions can
+        # differ in the last bit, which an open method far from a root may amplify).
+        equation = self.equation.bind({n: np.array([v]) for n, v in
+                                       self.row_values(index).items()})
         starts = self.row_starts(index)
         s = self.settings
-        fprime = equation.fprime if s.get("derivative") == "symbolic" else None
+        fprime = (_one_row(equation.fprime)
+                  if s.get("derivative") == "symbolic" and equation.fprime is not None
+                  else None)
         bracket = (starts["a"], starts["b"]) if "a" in starts else None
         return run_method(
-            self.method, equation.f, fprime=fprime,
+            self.method, _one_row(equation.f), fprime=fprime,
             derivative_source="symbolic" if fprime is not None else None,
             x0=starts.get("x0"), x1=starts.get("x1"), bracket=bracket,
             damping=float(s.get("damping", 1.0)), xtol=float(s["xtol"]),
@@ -161,6 +167,15 @@ class Batch:
         """How many rows stopped for each reason (reasons with no row left out)."""
         names, counts = np.unique(self.reason, return_counts=True)
         return {str(n): int(c) for n, c in zip(names, counts, strict=True)}
+
+
+def _one_row(fn: Any) -> Any:
+    """f of a scalar x through the array path: f(x) = fn([x])[0]."""
+
+    def at(x: float) -> Any:
+        return fn(np.array([x], dtype=np.float64))[0]
+
+    return at
 
 
 def _element(value: Any, shape: tuple[int, ...], i: int) -> float:

@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from solvers.batch.driver import _parameter_values
-from solvers.batch.records import Batch, BatchCancelled
+from solvers.batch.records import Batch, BatchCancelled, _one_row
 from solvers.equation import EquationError
 from solvers.methods.common import (
     DEFAULT_FTOL,
@@ -41,9 +41,10 @@ JUMP_FACTOR = 3.0
 def _slope(equation: Any, x: float) -> float:
     """f'(x): the symbolic derivative when there is one, else a central difference."""
     if equation.fprime is not None:
-        return float(equation.fprime(x))
+        return float(_one_row(equation.fprime)(x))
     h = DERIVATIVE_STEP * max(abs(x), 1e-3)
-    return float((equation.f(x + h) - equation.f(x - h)) / (2.0 * h))
+    f = _one_row(equation.f)
+    return float((f(x + h) - f(x - h)) / (2.0 * h))
 
 
 def sweep(
@@ -148,13 +149,15 @@ def sweep(
             restarted = False
         starts_x0[k] = start
         try:
-            bound = equation.bind({**base, name: value})
+            # rows of one, as Batch.run rebuilds a row: the same arithmetic
+            bound = equation.bind({k: np.array([v]) for k, v in {**base, name: value}.items()})
         except EquationError:
             notes.append((k, "bad_parameters"))
             restarted, branch = True, []
             continue
         run = run_method(
-            spec.name, bound.f, fprime=bound.fprime if symbolic else None,
+            spec.name, _one_row(bound.f),
+            fprime=_one_row(bound.fprime) if symbolic else None,
             derivative_source="symbolic" if symbolic else None,
             x0=start, x1=start + spacing, bracket=bracket, damping=damping, **tol)
         reason[k], iterations[k], evaluations[k] = run.reason, run.iterations, run.evaluations
