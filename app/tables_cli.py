@@ -100,7 +100,7 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
     from app.documents import tables
     from app.documents.words import batch_note_text, batch_summary
 
-    out = _output_path(args.out, args.force, "--out") if args.out is not None else None
+    out = args.out  # checked before the solving (_out_checked)
     if out:
         try:
             tables.results_csv(batch, headers, cells, out,
@@ -146,6 +146,12 @@ def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray]) -> None
     print(terminal._table(["row", *names, "root", "reason"], rows))
 
 
+def _out_checked(args: argparse.Namespace) -> None:
+    """Refuse an output that cannot be written (or exists, without --force) before any work."""
+    if args.out is not None:
+        _output_path(args.out, args.force, "--out")
+
+
 def _core(args: argparse.Namespace, settings: dict[str, Any]) -> dict[str, Any]:
     return {"unknown": args.unknown, "constants": dict(args.param), "method": args.method,
             "x0": args.x0, "x1": args.x1,
@@ -170,6 +176,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
     from solvers.batch import solve_table
 
     settings = _settings(args)
+    _out_checked(args)
     table = read_table(args.table)
     for column in table.columns:
         if column.unit:
@@ -220,6 +227,7 @@ def cmd_sweep(args: argparse.Namespace) -> int:
     from solvers.batch import solve_sweep
 
     settings = _settings(args)
+    _out_checked(args)
     name, values = _vary(args)
     try:
         done = solve_sweep(args.equation, name, values,
