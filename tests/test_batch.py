@@ -205,7 +205,7 @@ def test_a_row_whose_values_give_no_real_value_is_not_finite_with_a_note():
     batch = solve_batch(equation, method="newton", x0=1.0, parameters={"p": p})
     assert batch.converged.tolist() == [True, False, True]
     assert batch.reason[1] == "not_finite" and math.isnan(batch.root[1])
-    assert batch.notes == ((1, "bad_parameters"),)
+    assert batch.notes == [(1, "bad_parameters")]
     np.testing.assert_allclose(batch.root[[0, 2]], [2.0, 3.0], rtol=1e-15)
 
 
@@ -390,7 +390,7 @@ def test_a_table_from_text_and_columns_takes_start_columns_and_names_bad_ones():
     # the first row gives part of the equation no value: parsed with the next row instead
     done = solve_table("x = sqrt(p)", [("p", np.array([-1.0, 4.0]))], unknown="x", x0=1.0)
     assert done.batch.converged.tolist() == [False, True]
-    assert done.batch.notes == ((0, "bad_parameters"),)
+    assert done.batch.notes == [(0, "bad_parameters")]
 
 
 def test_a_sweep_resumed_from_a_scanned_root_follows_that_branch():

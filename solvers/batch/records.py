@@ -61,9 +61,9 @@ class Batch:
         scalar methods count them (a vectorised call counts once for every row in it).
     residual : numpy.ndarray of float
         f at the root in f's units (NaN where there is no root).
-    notes : tuple of (int, str)
-        ``(flat row index, code)`` for rows a checker should know about; codes in
-        :data:`NOTE_CODES`.
+    notes : list of (int, str)
+        ``(flat row index, code)`` for rows a checker should know about, in row order;
+        codes in :data:`NOTE_CODES` (app/documents/words.py says each in words).
     method : str
         The method's name in :data:`solvers.METHODS`.
     settings : mapping
@@ -82,7 +82,7 @@ class Batch:
     iterations: np.ndarray
     evaluations: np.ndarray
     residual: np.ndarray
-    notes: tuple[tuple[int, str], ...] = ()
+    notes: list[tuple[int, str]] = field(default_factory=list)
     method: str = ""
     settings: Mapping[str, Setting] = field(default_factory=lambda: MappingProxyType({}))
     equation: Any = field(default=None, repr=False)
@@ -99,7 +99,8 @@ class Batch:
             value = np.asarray(getattr(self, name)).view()
             value.flags.writeable = False
             object.__setattr__(self, name, value)
-        object.__setattr__(self, "notes", tuple((int(i), str(c)) for i, c in self.notes))
+        # a list, as the documented contract reads (a fresh copy: nothing else holds it)
+        object.__setattr__(self, "notes", [(int(i), str(c)) for i, c in self.notes])
         object.__setattr__(self, "settings", MappingProxyType(dict(self.settings)))
         object.__setattr__(self, "parameters", MappingProxyType(dict(self.parameters)))
         object.__setattr__(self, "starts", MappingProxyType(dict(self.starts)))
