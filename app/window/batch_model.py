@@ -32,15 +32,20 @@ class BatchModel(QAbstractTableModel):
     def __init__(self, parent: Any = None) -> None:
         super().__init__(parent)
         self.names: list[str] = []
+        self.units: list[str] = []
         self.columns: list[np.ndarray] = []
         self.batch: Any = None
         self._digits = DEFAULT_DIGITS
         self._font = number_font()
         self._notes: dict[int, list[str]] = {}
 
-    def set_inputs(self, names: Sequence[str], columns: Sequence[np.ndarray]) -> None:
+    def set_inputs(self, names: Sequence[str], columns: Sequence[np.ndarray],
+                   units: Sequence[str] = ()) -> None:
+        """The input columns; ``units`` each column's unit ('' for a plain number), shown
+        in its heading as ``NAME [unit]``."""
         self.beginResetModel()
         self.names = list(names)
+        self.units = [units[j] if j < len(units) else "" for j in range(len(self.names))]
         self.columns = [np.asarray(c, dtype=np.float64).reshape(-1) for c in columns]
         self.batch = None
         self._notes = {}
@@ -68,7 +73,11 @@ class BatchModel(QAbstractTableModel):
             return None
         if orientation == Qt.Orientation.Vertical:
             return str(section + 1)
-        titles = [*self.names, *RESULT_TITLES]
+        unit = getattr(getattr(self.batch, "equation", None), "unknown_unit", None)
+        root = f"root [{unit}]" if unit else "root"
+        titles = [*(f"{n} [{u}]" if u else n for n, u in zip(self.names, self.units,
+                                                             strict=True)),
+                  root, *RESULT_TITLES[1:]]
         return titles[section] if 0 <= section < len(titles) else None
 
     def failed(self, row: int) -> bool:

@@ -252,7 +252,7 @@ class TableWindow(QWidget):
         self.kind = kind
         self.units = [units[j] if j < len(units) else "" for j in range(len(names))]
         self.headers, self.cells = list(headers), list(cells)
-        self.model.set_inputs(names, columns)
+        self.model.set_inputs(names, columns, self.units)
         self.done = None
         self.export_button.setEnabled(False)
         self.sheet_button.setEnabled(False)
