@@ -440,6 +440,10 @@ class TableWindow(QWidget):
             return job(progress=progress, cancel=cancel)
 
         self.progress.setValue(0)
+        return self._submit(work)
+
+    def _submit(self, work: Any) -> bool:
+        """Run ``work(progress, cancel)`` in the batch lane, the view showing it running."""
         self.run_button.setEnabled(False)
         self.cancel_button.setEnabled(True)
         self.say("running…")
@@ -568,12 +572,7 @@ class TableWindow(QWidget):
             return TableSolve(done.equation, batch, done.parameters, done.starts,
                               done.constants)
 
-        self.run_button.setEnabled(False)
-        self.cancel_button.setEnabled(True)
-        self.say("running…")
-        return self.runner.submit(LANE, work, on_done=self._on_done, on_error=self._on_error,
-                                  on_cancel=self._on_cancelled,
-                                  on_progress=lambda f: self.progress.setValue(int(f * 1000)))
+        return self._submit(work)
 
     # the exports live in app.window.table_exports
     def export_csv(self) -> bool:
