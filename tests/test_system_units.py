@@ -245,3 +245,33 @@ def test_a_worksheet_keeps_each_unknowns_unit():
     # x = 2/3 km in feet (NIST SP 811: 1 ft = 0.3048 m)
     assert run.root["x"] == pytest.approx(2000 / 3 / FOOT, rel=1e-12)
     assert solution.system.unknown_units == {"x": "ft", "y": "m"}
+
+
+def test_the_sample_with_units_has_the_roots_of_the_si_sample(tmp_path, capsys):
+    from pathlib import Path
+
+    import pypdf
+
+    from app.documents import worksheet
+    from solvers.systems.pipeline import solve_worksheet
+
+    samples = Path(__file__).resolve().parent.parent / "samples" / "systems"
+    si = solve_worksheet(worksheet.load(samples / "pump-two-parallel-lines.json"))
+    ws = worksheet.load(samples / "pump-two-parallel-lines-units.json")
+    assert "invented" in ws.notes
+    with_units = solve_worksheet(ws)
+    assert with_units.system.unknown_units == {"Q1": "L/s", "Q2": "L/s", "H": "m"}
+    for a, b in zip(si.runs, with_units.runs, strict=True):
+        # 1 L = 1e-3 m^3 (NIST SP 811, exact)
+        assert b.root["Q1"] == pytest.approx(a.root["Q1"] * 1000, rel=1e-12)
+        assert b.root["Q2"] == pytest.approx(a.root["Q2"] * 1000, rel=1e-12)
+        assert b.root["H"] == pytest.approx(a.root["H"], rel=1e-12)
+    from app.cli import main
+
+    pdf = tmp_path / "units.pdf"
+    assert main(["report", str(samples / "pump-two-parallel-lines-units.json"),
+                 "--pdf", str(pdf)]) == 0
+    capsys.readouterr()
+    text = " ".join(" ".join(p.extract_text() for p in pypdf.PdfReader(pdf).pages).split())
+    for said in ("Q1 [L/s]", "H [m]", "150.0 mm (= 0.15 m)", "52.0 m pump", "checked: both sides"):
+        assert said in text, said
