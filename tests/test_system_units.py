@@ -275,3 +275,22 @@ def test_the_sample_with_units_has_the_roots_of_the_si_sample(tmp_path, capsys):
     text = " ".join(" ".join(p.extract_text() for p in pypdf.PdfReader(pdf).pages).split())
     for said in ("Q1 [L/s]", "H [m]", "150.0 mm (= 0.15 m)", "52.0 m pump", "checked: both sides"):
         assert said in text, said
+
+
+def test_chosen_units_settle_the_unknowns_they_are_tied_to():
+    # x - y = 0 ties y's dimension to x's; x's chosen unit settles both (no open remark)
+    text = "x - y = 0; x*w = 2*y*w; w = 2"
+    system = parse_system(text, ["x", "y", "w"], unknown_units={"x": "m"})
+    assert system.unknown_units == {"x": "m", "y": "m", "w": None}
+    assert system.remarks == ()
+    with pytest.raises(EquationError, match=r"`x - y`: m added to s"):
+        parse_system(text, ["x", "y", "w"], unknown_units={"x": "m", "y": "s"})
+
+
+def test_an_equation_equal_to_zero_fits_any_dimension():
+    # '= 0' is dimensionless as typed, yet fits a side of any dimension (common practice)
+    system = parse_system("x - L = 0; y - x/2 = 0", None, {"L": "3 m"})
+    assert system.unknown_units == {"x": "m", "y": "m"}
+    from solvers import parse_equation
+
+    assert parse_equation("x - L = 0", "x", {"L": "1 m"}).unknown_unit == "m"

@@ -344,7 +344,8 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
             walk.where = (start, end)
             try:
                 dl = walk(lhs)
-                if rhs is not None and not (rhs.is_Number and rhs == 0):
+                # "= 0" fits a side of any dimension (the parser gives 0.0: Float, not Integer)
+                if rhs is not None and not (rhs.is_Number and rhs.is_zero):
                     dr = walk(rhs)
                     if dl != dr:
                         walk.differ(_Conflict("sides", dl, dr))
@@ -391,12 +392,16 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
             if found is not None:
                 _raise(text, found[0], found[1], positions,
                        f" (with '{unknowns[j].name}' in '{given_text[j]}')")
+            raise _fail(text, f"the unknown unit '{given_text[j]}' does not fit "
+                        f"'{unknowns[j].name}' with the units of the other unknowns", None)
+    # unknowns the chosen units settle through the rules (x - y with x in m: y in m too)
+    settled = set(rows.determined()) | set(given_exact)
     values = rows.solution()
     if rules:
         found = fixed_run(values)
         if found is not None:  # cannot happen when the rules hold: say so, never pass it
             _raise(text, found[0], found[1], positions)
-    return tuple(Outcome(_plain(values[j]), j in fixed_at, fixed_at.get(j))
+    return tuple(Outcome(_plain(values[j]), j in fixed_at or j in settled, fixed_at.get(j))
                  for j in range(n))
 
 
