@@ -89,18 +89,26 @@ def one_equation(args: argparse.Namespace) -> None:
             raise InputError(f"zerotrace {args.command}: --x0 {named[0][0]}=... names an "
                              "unknown of a system; one equation takes --x0 VALUE")
         args.x0 = starts[-1] if starts else None
-    units = getattr(args, "unknown_unit", None)
-    if isinstance(units, list):  # --unknown-unit repeats (NAME=U for a system)
-        named = [v for v in units if isinstance(v, tuple)]
-        if named:
-            raise InputError(f"zerotrace {args.command}: --unknown-unit {named[0][0]}=... "
-                             "names an unknown of a system; one equation takes "
-                             "--unknown-unit U")
-        args.unknown_unit = units[-1] if units else None
+    args.unknown_unit = one_unknown_unit(args)
     for m in getattr(args, "method", None) or []:
         if m not in METHOD_NAMES:
             raise InputError(f"zerotrace {args.command}: --method {m} is for systems of "
                              "equations (name two or more unknowns)")
+
+
+def one_unknown_unit(args: argparse.Namespace) -> str | None:
+    """The one ``--unknown-unit U`` of one equation (the last given; None without); InputError
+    when it names an unknown of a system (NAME=U)."""
+    from app.cli import InputError
+
+    units = getattr(args, "unknown_unit", None)
+    if not isinstance(units, list):  # already one value
+        return units
+    named = [v for v in units if isinstance(v, tuple)]
+    if named:
+        raise InputError(f"zerotrace {args.command}: --unknown-unit {named[0][0]}=... "
+                         "names an unknown of a system; one equation takes --unknown-unit U")
+    return units[-1] if units else None
 
 
 def _worksheet(args: argparse.Namespace) -> Any:

@@ -3,6 +3,7 @@
 Never imports Qt. Every front end (CLI, window, report, tests) calls these functions.
 """
 
+from solvers.batch import Batch, BatchCancelled, solve_batch, sweep
 from solvers.equation import Equation, EquationError, parse_equation
 from solvers.methods import (
     METHODS,
@@ -20,6 +21,8 @@ from solvers.scan import Root, Scan, ScanCancelled, scan
 from solvers.systems import System, SystemRun, SystemStep, parse_system, solve_system
 
 __all__ = [
+    "Batch",
+    "BatchCancelled",
     "METHODS",
     "REASONS",
     "Equation",
@@ -45,4 +48,6 @@ __all__ = [
     "scan",
     "secant",
     "solve_system",
+    "solve_batch",
+    "sweep",
 ]

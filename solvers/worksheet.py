@@ -99,6 +99,34 @@ class SystemSpec:
 
 
 @dataclass(frozen=True)
+class TableInputs:
+    """A table of inputs, or a sweep, kept with the worksheet.
+
+    ``columns`` are (name, values) in table order: parameters of the equation, or the
+    start-value columns x0, x1, bracket_a, bracket_b; a sweep has one column, the values
+    of the parameter swept, in order. ``method`` and the start values apply to every row
+    that has none of its own; the stopping rules are the worksheet's.
+    """
+
+    columns: tuple[tuple[str, tuple[float, ...]], ...]
+    kind: str = "table"  # or "sweep"
+    method: str = "newton"
+    x0: float | None = None
+    x1: float | None = None
+    bracket: tuple[float, float] | None = None
+    # the unit of each column ('' for a plain number), in the order of ``columns``; () when
+    # no column has one
+    units: tuple[str, ...] = ()
+
+    def unit_of(self, j: int) -> str:
+        return self.units[j] if j < len(self.units) else ""
+
+    @property
+    def rows(self) -> int:
+        return len(self.columns[0][1]) if self.columns else 0
+
+
+@dataclass(frozen=True)
 class Worksheet:
     equation: str
     unknown: str | None = None
@@ -112,6 +140,7 @@ class Worksheet:
     unknown_unit: str | None = None  # the unit of the unknown, start values and scan range
     dimension_check: bool = True  # False: units converted, dimensions not checked (stated)
     system: SystemSpec | None = None  # None: one equation in one unknown
+    table: TableInputs | None = None
 
     def parameter_values(self) -> dict[str, Any]:
         """name -> value for ``parse_equation``: a float, or a Measured when it has a unit."""

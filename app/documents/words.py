@@ -643,3 +643,38 @@ def blocks_text(blocks: Sequence[Any], unknowns: Sequence[str]) -> str:
 def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES) -> str:
     """Defined quantities at the root: "A = 0.0314, v = 3.18"."""
     return ", ".join(f"{name} = {number(v, figures)}" for name, v in values.items())
+# ----------------------------------------------------------------- tables of inputs
+
+# Words for each code of solvers.batch.NOTE_CODES (Batch.notes: one row each).
+BATCH_NOTE_TEXT: dict[str, str] = {
+    "bad_parameters": "the row's parameter values give part of the equation no finite real "
+                      "value: not solved",
+    "failed": "did not converge: the branch followed so far ends before this value",
+    "restart_last_good": "started again from the last converged root (the previous row failed)",
+    "restart_x0": "started again from x0 (no row had converged yet)",
+    "branch_jump": "the root jumped off the branch followed so far (a turning point was "
+                   "passed, or another root was found): check which root you need here",
+    "turning_point": "f' changed sign at the root: the sweep went round a turning point",
+    "left_range": "the root lies outside the given range of the unknown; the next row starts "
+                  "from the last root inside it",
+    "fixed_bracket": "every row uses the same bracket (a bracketing method needs no "
+                     "continuation)",
+    "restart_scan": "the sweep was resumed here from a root chosen from a scan at this value",
+}
+
+
+def batch_note_text(code: str) -> str:
+    return BATCH_NOTE_TEXT.get(code, code.replace("_", " "))
+
+
+def batch_summary(batch: Any) -> str:
+    """One line: how many rows converged, and why the others stopped."""
+    total = batch.size
+    good = int(batch.converged.sum())
+    failed = {r: c for r, c in batch.counts().items()
+              if r not in ("x_tolerance", "f_tolerance", "exact_zero")}
+    text = f"{total} {'row' if total == 1 else 'rows'}: {good} converged"
+    if failed:
+        text += "; " + "; ".join(f"{c} stopped on {r.replace('_', ' ')}"
+                                 for r, c in sorted(failed.items()))
+    return text
