@@ -204,9 +204,11 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
         metavar="NAME=VALUE",
         help="a parameter value, optionally with a unit ('D=150 mm'); repeat for each",
     )
-    p.add_argument("--unknown-unit", metavar="U",
+    p.add_argument("--unknown-unit", metavar="U", action="append",
+                   type=systems_cli.unknown_unit_value,
                    help="the unit of the unknown, its start values and range (default: the "
-                   "SI unit its dimension implies)")
+                   "SI unit its dimension implies); NAME=U for an unknown of a system, "
+                   "repeat for each")
     p.add_argument("--no-dimension-check", action="store_true",
                    help="convert units but do not check the equation's dimensions (said on "
                    "every output)")

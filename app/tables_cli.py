@@ -21,7 +21,7 @@ from typing import Any
 
 import numpy as np
 
-from app import terminal
+from app import systems_cli, terminal
 from app.cli import (
     EXIT_OK,
     InputError,
@@ -176,8 +176,9 @@ def _core(args: argparse.Namespace, settings: dict[str, Any]) -> dict[str, Any]:
                          f"got --unknown {' '.join(unknowns)}")
     constants = {name: Measured(value, unit) if unit else value
                  for name, value, unit in args.param}
+    unit = systems_cli.one_unknown_unit(args)  # --unknown-unit repeats (NAME=U: a system)
     return {"unknown": unknowns[0] if unknowns else None, "constants": constants,
-            "unknown_unit": _unknown_unit(args.unknown_unit) if args.unknown_unit else None,
+            "unknown_unit": _unknown_unit(unit) if unit else None,
             "check_dimensions": not args.no_dimension_check,
             "method": args.method, "x0": args.x0, "x1": args.x1,
             "bracket": tuple(args.bracket) if args.bracket else None, **settings}

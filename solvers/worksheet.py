@@ -70,10 +70,12 @@ class Selection:
 
 @dataclass(frozen=True)
 class StartValue:
-    """An unknown of a system and its start value (in the unknown's own units)."""
+    """An unknown of a system, its start value and the unit it is in (None: the SI unit of
+    the dimension the equations imply, or no unit)."""
 
     name: str
     x0: float
+    unit: str | None = None
 
 
 SYSTEM_METHOD_NAMES = ("newton", "broyden")  # solvers.systems.SYSTEM_METHODS' keys
@@ -90,6 +92,10 @@ class SystemSpec:
 
     def start(self) -> dict[str, float]:
         return {u.name: u.x0 for u in self.unknowns}
+
+    def units(self) -> dict[str, str]:
+        """name -> the chosen unit, for the unknowns that have one."""
+        return {u.name: u.unit for u in self.unknowns if u.unit}
 
 
 @dataclass(frozen=True)

@@ -539,7 +539,8 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
-                          "unknown_dimension_free", "unknown_dimension_fractional"})
+                          "unknown_dimension_free", "unknown_dimension_fractional",
+                          "system_dimension_free"})
 
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
@@ -561,6 +562,8 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                       "or delta_degF for a difference)",
     "unknown_dimension_free": lambda r: f"the equation does not fix the dimension of "
                                         f"'{r.subject}': it is taken as dimensionless",
+    "system_dimension_free": lambda r: f"the equations do not fix the dimension of "
+                                       f"'{r.subject}': it is taken as dimensionless",
     "unknown_dimension_fractional": lambda r: f"the dimensions give '{r.subject}' fractional "
                                               "powers of units: if a constant of the equation "
                                               "hides its unit (Manning's n, a Hazen–Williams "

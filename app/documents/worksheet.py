@@ -20,7 +20,7 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
       "scan": {"from": 0.005, "to": 0.1},   # or null
       "calc": {"number": "", "revision": "", "prepared_by": "", "checked_by": ""},
       "selection": {"root": 0.0213, "reason": "..."},  # or null
-      "system": {"unknowns": [{"name": "Q1", "x0": 0.1}, ...],   # only for a system
+      "system": {"unknowns": [{"name": "Q1", "x0": 0.1, "unit": "L/s"}, ...],  # a system
                  "methods": ["newton", "broyden"]},
       "table": {"kind": "table", "method": "brent",    # only when there is one
                 "x0": null, "x1": null, "bracket": [0.005, 0.1],
@@ -34,7 +34,8 @@ dimensional check off for correlations whose constants hide their units; every d
 such a worksheet says so. The three keys are written only when they are set, so a
 worksheet without units is written exactly as before.
 A worksheet with a "system" object holds several equations (and definitions) in
-"equation"; its unknowns are listed with their start values, in the order of x. Files
+"equation"; its unknowns are listed with their start values, in the order of x, each with
+an optional "unit" (its start value and root are in it; written only when set). Files
 without it are one equation in one unknown, as before.
 
 Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
@@ -162,7 +163,8 @@ def to_dict(ws: Worksheet) -> dict[str, Any]:
         "calc": asdict(ws.calc),
         "selection": asdict(ws.selection) if ws.selection is not None else None,
         **({} if ws.system is None else {"system": {
-            "unknowns": [{"name": u.name, "x0": u.x0} for u in ws.system.unknowns],
+            "unknowns": [{"name": u.name, "x0": u.x0, **({"unit": u.unit} if u.unit else {})}
+                         for u in ws.system.unknowns],
             "methods": list(ws.system.methods)}}),
         # only when there is one: a worksheet without a table is written as before
         **({"table": _table_dict(ws.table)} if ws.table is not None else {}),
@@ -524,7 +526,8 @@ def _system(raw: Any) -> SystemSpec | None:
             raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
         if "x0" not in item:
             raise _fail(f"{where}.x0", "missing (every unknown of a system needs a start value)")
-        unknowns.append(StartValue(name, _number(item["x0"], f"{where}.x0")))
+        unknowns.append(StartValue(name, _number(item["x0"], f"{where}.x0"),
+                                   _unit(item.get("unit"), f"{where}.unit") or None))
     methods_raw = raw.get("methods", list(SYSTEM_METHOD_NAMES))
     if not isinstance(methods_raw, list) or not methods_raw:
         raise _fail("system.methods", "must be a non-empty list of method names")
