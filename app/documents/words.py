@@ -81,6 +81,21 @@ def exact(value: float | int | None, blank: str = "") -> str:
     return _special(value) or repr(value)
 
 
+def measured_text(value: Any, converted: Any,
+                  show: Callable[[Any], str] | None = None) -> str:
+    """A parameter's value as entered: ``150 mm (= 0.15 m)`` when it carries a unit
+    (``converted``: a :class:`solvers.units.Converted`), ``350 m`` when that unit is
+    already SI, the number alone without one. ``show`` formats the numbers (every digit
+    by default)."""
+    show = show or exact
+    if converted is None:
+        return show(value)
+    if converted.unit == converted.si_unit:  # already in SI: nothing to convert
+        return f"{show(converted.value)} {converted.unit}"
+    return (f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} "
+            f"{converted.si_unit})")
+
+
 def order_text(order: float | None, blank: str = "—") -> str:
     """An observed order of convergence (2.00 quadratic, 1.62 secant, 1.00 linear)."""
     return blank if order is None else f"{order:.2f}"

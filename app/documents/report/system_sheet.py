@@ -82,12 +82,7 @@ def _labelled(system: Any, name: str) -> str:
 
 def _parameter_value(p: Any, converted: Any) -> str:
     """``150 mm (= 0.15 m)`` for a parameter with a unit, the number alone without."""
-    if converted is None:
-        return _num(p.value)
-    if converted.unit == converted.si_unit:  # already in SI: nothing to convert
-        return f"{_num(converted.value)} {converted.unit}"
-    return (f"{_num(converted.value)} {converted.unit} (= {_num(converted.si_value)} "
-            f"{converted.si_unit})")
+    return words.measured_text(p.value, converted, _num)
 
 
 def _mono(text: str, st: dict, style: str = "cell") -> Paragraph:
