@@ -1,4 +1,5 @@
-"""The ``zerotrace`` command: ``solve``, ``scan``, ``report`` headless; alone, it opens the window.
+"""The ``zerotrace`` command: ``solve``, ``scan``, ``batch``, ``sweep``, ``report`` headless;
+alone, it opens the window (``batch`` and ``sweep`` live in :mod:`app.tables_cli`).
 
 Every sub-command is a thin shell over :mod:`solvers.pipeline`: it builds a
 :class:`~app.documents.worksheet.Worksheet` from the flags (or a file), calls the core and
@@ -203,9 +204,11 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
         metavar="NAME=VALUE",
         help="a parameter value, optionally with a unit ('D=150 mm'); repeat for each",
     )
-    p.add_argument("--unknown-unit", metavar="U",
+    p.add_argument("--unknown-unit", metavar="U", action="append",
+                   type=systems_cli.unknown_unit_value,
                    help="the unit of the unknown, its start values and range (default: the "
-                   "SI unit its dimension implies)")
+                   "SI unit its dimension implies); NAME=U for an unknown of a system, "
+                   "repeat for each")
     p.add_argument("--no-dimension-check", action="store_true",
                    help="convert units but do not check the equation's dimensions (said on "
                    "every output)")
@@ -270,6 +273,9 @@ def _build_parser() -> _Parser:
     report.add_argument("--pdf", required=True, metavar="OUT.pdf", help="the sheet to write")
     report.add_argument("--csv-dir", metavar="DIR", help="also write the CSV files behind it")
     report.add_argument("--force", action="store_true", help="replace existing output files")
+    from app.tables_cli import add_table_commands
+
+    add_table_commands(sub)
     return parser
 
 
@@ -431,9 +437,14 @@ def cmd_report(args: argparse.Namespace) -> int:
             raise InputError(f"{args.csv_dir}: is a file, not a folder for the CSV files")
         # a missing folder is created by the report (and removed again if it fails)
     solution, scan = pipeline.solve_and_scan(ws)  # the sheet is handed results, never solves
+    table = None
+    if ws.table is not None:  # its table of inputs too (app.tables_cli solves it)
+        from app.tables_cli import worksheet_table
+
+        table = worksheet_table(ws)
     result = report.write_report(
         ws, args.pdf, solution=solution, scan=scan, csv_dir=args.csv_dir,
-        worksheet_path=args.worksheet, overwrite=args.force,
+        worksheet_path=args.worksheet, overwrite=args.force, table=table,
     )
     print(f"calculation sheet written to {result.pdf_path} ({result.pages} pages)")
     for path in result.csv_paths:
@@ -525,8 +536,9 @@ def main(argv: Sequence[str] | None = None) -> int:
             print(f"zerotrace {tool_version()}")
             return EXIT_OK
         if args.command is None:
-            raise InputError("zerotrace: give a command: solve, scan or report (see --help)")
-        code = COMMANDS[args.command](args)
+            raise InputError("zerotrace: give a command: solve, scan, batch, sweep or report "
+                             "(see --help)")
+        code = (COMMANDS.get(args.command) or args.run)(args)
         sys.stdout.flush()  # a closed pipe shows here, not at interpreter exit
         return code
     except BrokenPipeError:
@@ -571,4 +583,8 @@ def _quiet_after_broken_pipe() -> int:
 
 
 if __name__ == "__main__":
-    raise SystemExit(main())
+    # Run the module imported under its own name (python -m runs a copy called __main__):
+    # the table commands raise app.cli.InputError, which this copy would not recognise.
+    from app.cli import main as _main
+
+    raise SystemExit(_main())

@@ -28,6 +28,26 @@ def x0_value(text: str) -> float | tuple[str, float]:
     return _finite(text)
 
 
+def unknown_unit_value(text: str) -> str | tuple[str, str]:
+    """An argparse type for ``--unknown-unit``: unit text, or NAME=U (an unknown of a
+    system; the unit is read now). Unit text never holds '=', so the two cannot mix."""
+    if "=" not in text:
+        return text  # one equation's unit: read where the worksheet is built, as before
+    name, _sep, unit = text.partition("=")
+    name = name.strip()
+    if not (name.isidentifier() and name.isascii()) or name.startswith("_"):
+        raise argparse.ArgumentTypeError(f"{name!r} is not a valid name of an unknown")
+    if not unit.strip():
+        raise argparse.ArgumentTypeError(f"--unknown-unit {name}=: the unit is empty")
+    from solvers.equation import EquationError
+    from solvers.units import read_unit
+
+    try:
+        return name, read_unit(unit).text
+    except EquationError as exc:
+        raise argparse.ArgumentTypeError(f"--unknown-unit {name}: {exc}") from None
+
+
 def method_names() -> tuple[str, ...]:
     from solvers.worksheet import SYSTEM_METHOD_NAMES
 
@@ -39,7 +59,9 @@ def is_system(args: argparse.Namespace) -> bool:
     unknowns = args.unknown if isinstance(args.unknown, list) else []
     starts = getattr(args, "x0", None)
     starts = starts if isinstance(starts, list) else []
-    if len(unknowns) > 1 or any(isinstance(v, tuple) for v in starts):
+    units = getattr(args, "unknown_unit", None)
+    units = units if isinstance(units, list) else []
+    if len(unknowns) > 1 or any(isinstance(v, tuple) for v in starts + units):
         return True
     if getattr(args, "worksheet", None):
         from app.cli import _load_worksheet
@@ -67,10 +89,26 @@ def one_equation(args: argparse.Namespace) -> None:
             raise InputError(f"zerotrace {args.command}: --x0 {named[0][0]}=... names an "
                              "unknown of a system; one equation takes --x0 VALUE")
         args.x0 = starts[-1] if starts else None
+    args.unknown_unit = one_unknown_unit(args)
     for m in getattr(args, "method", None) or []:
         if m not in METHOD_NAMES:
             raise InputError(f"zerotrace {args.command}: --method {m} is for systems of "
                              "equations (name two or more unknowns)")
+
+
+def one_unknown_unit(args: argparse.Namespace) -> str | None:
+    """The one ``--unknown-unit U`` of one equation (the last given; None without); InputError
+    when it names an unknown of a system (NAME=U)."""
+    from app.cli import InputError
+
+    units = getattr(args, "unknown_unit", None)
+    if not isinstance(units, list):  # already one value
+        return units
+    named = [v for v in units if isinstance(v, tuple)]
+    if named:
+        raise InputError(f"zerotrace {args.command}: --unknown-unit {named[0][0]}=... "
+                         "names an unknown of a system; one equation takes --unknown-unit U")
+    return units[-1] if units else None
 
 
 def _worksheet(args: argparse.Namespace) -> Any:
@@ -126,7 +164,21 @@ def _worksheet(args: argparse.Namespace) -> Any:
     problem = tolerances_problem(s.xtol, s.rtol, s.ftol)
     if problem:
         raise InputError(f"zerotrace solve: {problem} (set --xtol, --rtol or --ftol)")
-    spec = SystemSpec(tuple(StartValue(n, v) for n, v in start.items()), methods)
+    old_units = ws.system.units() if ws.system else {}
+    given_units = list(getattr(args, "unknown_unit", None) or [])
+    plain_units = [v for v in given_units if not isinstance(v, tuple)]
+    if plain_units:
+        raise InputError(f"zerotrace solve: --unknown-unit {plain_units[0]}: a system names "
+                         "the unknown (--unknown-unit NAME=U)")
+    units = {**old_units, **dict(given_units)}
+    stray = [n for n in units if n not in start]
+    if stray:
+        raise InputError(f"zerotrace solve: --unknown-unit {stray[0]}=...: '{stray[0]}' is "
+                         "not an unknown")
+    spec = SystemSpec(tuple(StartValue(n, v, units.get(n)) for n, v in start.items()),
+                      methods)
+    if args.no_dimension_check:
+        ws = replace(ws, dimension_check=False)
     return replace(ws, settings=s, system=spec, unknown=None)
 
 

@@ -90,11 +90,10 @@ def _labelled(column: str, unit: str | None) -> str:
 
 
 def _parameter(name: str, value: float, converted) -> str:
-    """``D = 150 mm (0.15 m)`` for a value with a unit, ``Re = 120000`` without."""
-    if converted is None:
-        return f"{name} = {_g(value)}"
-    return f"{name} = {_g(converted.value)} {converted.unit} ({_g(converted.si_value)} " \
-           f"{converted.si_unit})"
+    """``D = 150 mm (= 0.15 m)`` for a value with a unit, ``Re = 120000`` without."""
+    from app.documents.words import measured_text
+
+    return f"{name} = {measured_text(value, converted, _g)}"
 
 
 def print_scan(scan, unknown: str, unit: str | None = None) -> None:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from app.terminal import _g, _table, caution
+from app.terminal import _g, _labelled, _parameter, _table, caution
 
 
 def print_system_solution(solution: Any, *, steps: bool, figures: int | None = None) -> None:
@@ -17,11 +17,16 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
         print(f"  ({i}) {text}")
     if system.definitions:
         print("definitions: " + ", ".join(system.definitions))
-    params = ", ".join(f"{k} = {_g(v)}" for k, v in system.parameters.items())
-    print("unknowns:  " + ", ".join(system.unknowns)
+    params = ", ".join(_parameter(k, v, system.parameter_units.get(k))
+                       for k, v in system.parameters.items())
+    units = system.unknown_units
+    print("unknowns:  " + ", ".join(_labelled(n, units.get(n)) for n in system.unknowns)
           + (f"    parameters: {params}" if params else ""))
     start = solution.worksheet.system.start()
-    print("start:     " + ", ".join(f"{k} = {_g(v)}" for k, v in start.items()))
+    print("start:     " + ", ".join(f"{k} = {_g(v)}" + (f" {units[k]}" if units.get(k) else "")
+                                    for k, v in start.items()))
+    for note in words.remarks_text(system.remarks):
+        print(f"note:      {note}")
     print(f"note:      {words.JACOBIAN_WORDS[system.jacobian_kind]}; "
           f"{words.blocks_text(system.blocks, system.unknowns)}")
     print()
@@ -34,7 +39,8 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
     print()
     titles = [words.system_method_title(r.method) for r in runs]
     print(_table(["unknown", *titles],
-                 [[n, *(_g(r.root[n], figures) for r in runs)] for n in system.unknowns]))
+                 [[_labelled(n, units.get(n)), *(_g(r.root[n], figures) for r in runs)]
+                  for n in system.unknowns]))
     print()
     print(_table(["residual at the root", *titles],
                  [[f"({i + 1}) {text}"[:48], *(_g(r.residuals[i], 3) for r in runs)]
@@ -53,6 +59,7 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
             body = [[str(s.k), str(s.block), *(_g(v) for v in s.x.values()),
                      _g(s.residual_norm, 6), _g(s.step_norm, 6), _g(s.damping, 4),
                      "LM" if s.regularised else ""] for s in r.steps]
-            print(_table(["k", "block", *system.unknowns, "||F||", "||step||", "damping", ""],
+            print(_table(["k", "block", *(_labelled(n, units.get(n)) for n in system.unknowns),
+                          "||F||", "||step||", "damping", ""],
                          body))
     print(f"\n{caution()}")

@@ -16,13 +16,15 @@ a 10^7-sample scan. Run: ``.venv/bin/python benchmarks/bench_scan.py``.
 
 Where the floor is: at 2001 samples and 16 roots the baseline is one f call on the grid
 plus 16 brentq calls in C, each iterate a scalar call of the compiled f (about 0.5 us):
-about 0.17 ms in all. The scan does more on purpose: f' on the grid, the extrema between
-samples, a multiplicity ladder and a rounding-noise look at every root, the range ends,
-and it refines all brackets at once in numpy, which costs about 1 us per array operation
-(some 40 per iteration, 5 or 6 iterations) whatever the bracket count. That overhead, not
-f, bounds the cantilever's ratio (about 4x with f', 6x with f alone, where the Chebyshev
-proxy still solves an eigenvalue problem on every piece it cannot certify by counting);
-with many roots (sin(x^2): 287) or many samples the ratio falls toward or below 1.
+about 0.2 ms in all. The scan refines few brackets (up to 24) the same way, one by one on
+the scalar f (Anderson-Bjorck in plain Python, about as many evaluations as brentq), and many
+brackets in numpy; what it costs beyond the baseline is what it checks on purpose: f' on
+the grid (the derivative check), candidate passes over the grid (touches, close pairs,
+poles, aliasing), a multiplicity ladder of 29 evaluations at every root, a rounding-noise
+look, the range ends, and its records. On the cantilever that work, not f, bounds the
+ratio (about 3x with f'); with f alone the Chebyshev proxy adds its fits, the counting
+that certifies most pieces and eigenvalues for the rest (about 5x). With many roots
+(sin(x^2): 287) the scan is near the baseline.
 """
 
 from __future__ import annotations

@@ -3,6 +3,7 @@
 Never imports Qt. Every front end (CLI, window, report, tests) calls these functions.
 """
 
+from solvers.batch import Batch, BatchCancelled, solve_batch, sweep
 from solvers.equation import Equation, EquationError, parse_equation
 from solvers.methods import (
     METHODS,
@@ -27,6 +28,8 @@ from solvers.systems import (
 )
 
 __all__ = [
+    "Batch",
+    "BatchCancelled",
     "METHODS",
     "REASONS",
     "Equation",
@@ -53,4 +56,6 @@ __all__ = [
     "scan",
     "secant",
     "solve_system",
+    "solve_batch",
+    "sweep",
 ]

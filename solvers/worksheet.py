@@ -70,10 +70,12 @@ class Selection:
 
 @dataclass(frozen=True)
 class StartValue:
-    """An unknown of a system and its start value (in the unknown's own units)."""
+    """An unknown of a system, its start value and the unit it is in (None: the SI unit of
+    the dimension the equations imply, or no unit)."""
 
     name: str
     x0: float
+    unit: str | None = None
 
 
 SYSTEM_METHOD_NAMES = ("newton", "broyden")  # solvers.systems.SYSTEM_METHODS' keys
@@ -91,6 +93,38 @@ class SystemSpec:
     def start(self) -> dict[str, float]:
         return {u.name: u.x0 for u in self.unknowns}
 
+    def units(self) -> dict[str, str]:
+        """name -> the chosen unit, for the unknowns that have one."""
+        return {u.name: u.unit for u in self.unknowns if u.unit}
+
+
+@dataclass(frozen=True)
+class TableInputs:
+    """A table of inputs, or a sweep, kept with the worksheet.
+
+    ``columns`` are (name, values) in table order: parameters of the equation, or the
+    start-value columns x0, x1, bracket_a, bracket_b; a sweep has one column, the values
+    of the parameter swept, in order. ``method`` and the start values apply to every row
+    that has none of its own; the stopping rules are the worksheet's.
+    """
+
+    columns: tuple[tuple[str, tuple[float, ...]], ...]
+    kind: str = "table"  # or "sweep"
+    method: str = "newton"
+    x0: float | None = None
+    x1: float | None = None
+    bracket: tuple[float, float] | None = None
+    # the unit of each column ('' for a plain number), in the order of ``columns``; () when
+    # no column has one
+    units: tuple[str, ...] = ()
+
+    def unit_of(self, j: int) -> str:
+        return self.units[j] if j < len(self.units) else ""
+
+    @property
+    def rows(self) -> int:
+        return len(self.columns[0][1]) if self.columns else 0
+
 
 @dataclass(frozen=True)
 class Worksheet:
@@ -106,6 +140,7 @@ class Worksheet:
     unknown_unit: str | None = None  # the unit of the unknown, start values and scan range
     dimension_check: bool = True  # False: units converted, dimensions not checked (stated)
     system: SystemSpec | None = None  # None: one equation in one unknown
+    table: TableInputs | None = None
 
     def parameter_values(self) -> dict[str, Any]:
         """name -> value for ``parse_equation``: a float, or a Measured when it has a unit."""

@@ -74,7 +74,8 @@ def test_the_sheet_refuses_an_existing_file_before_solving(tmp_path, capsys):
     assert pdf.read_bytes() == b"old"
 
 
-@pytest.mark.parametrize("name", ["pipe-junction-three-branches", "pump-two-parallel-lines"])
+@pytest.mark.parametrize("name", ["pipe-junction-three-branches", "pump-two-parallel-lines",
+                                  "pump-two-parallel-lines-units"])
 def test_every_system_sample_makes_a_sheet(tmp_path, name, capsys):
     assert main(["report", str(SAMPLES / f"{name}.json"), "--pdf",
                  str(tmp_path / "s.pdf")]) == 0

@@ -151,12 +151,15 @@ def test_one_equation_with_definitions_from_the_shell(capsys):
 
 
 @pytest.mark.parametrize(("extra", "said"), [
-    (("--param", "r=2 m"), "'r' has a unit"),
+    # r in metres makes x and y lengths (x^2 + y^2 = r^2), so x*y = 1 sets an area equal to
+    # a pure number: refused naming the part and both dimensions, never solved unit-blind
+    (("--param", "r=2 m"), "`x*y = 1`: the left side is m², the right side is dimensionless"),
     (("--x0", "x=2 m"), "a start value is a plain number"),
 ])
-def test_a_unit_in_a_system_is_refused_in_one_line_not_dropped(capsys, extra, said):
-    """Units are converted and checked for one equation; a system says so plainly rather
-    than solving with a unit silently dropped (common practice: never lose a unit)."""
+def test_a_unit_in_a_system_is_checked_in_one_line_not_dropped(capsys, extra, said):
+    """A parameter's unit in a system is converted and the dimensions of every equation
+    checked; a start value is a number in its unknown's unit (common practice: never lose
+    a unit)."""
     code, out, err = run(capsys, "solve", "x^2 + y^2 = r^2; x*y = 1", "--unknown", "x",
                          "--unknown", "y", "--x0", "y=0.3", *extra,
                          *(("--param", "r=2") if extra[0] == "--x0" else ("--x0", "x=2")))

@@ -32,6 +32,7 @@ from app.documents.words import (
     IN_UNKNOWN_UNIT,
     confirmed_text,
     located_text,
+    measured_text,
     run_message,
     scan_warnings,
     start_notes,
@@ -109,10 +110,7 @@ def metadata(
 
 
 def _parameter_cell(name: str, value: Any, converted: Any) -> str:
-    if converted is None:
-        return f"{name}={number(value)}"
-    return (f"{name}={number(converted.value)} {converted.unit} "
-            f"(= {number(converted.si_value)} {converted.si_unit})")
+    return f"{name}={measured_text(value, converted, number)}"
 
 
 def equation_meta(equation: Any, **more: Any) -> dict[str, str]:

@@ -375,3 +375,64 @@ def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual"
     ax.set_xlabel("iterate k")
     ax.set_ylabel(label)
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6)
+
+
+def design_chart_data(values: Any, batch: Any) -> tuple[Any, Any, Any, list[float]]:
+    """The design chart's points, computed apart from drawing.
+
+    ``values`` is the parameter the chart runs along (one per row of ``batch``). Returns
+    (x, root) of the converged rows in the order of x, the x of the rows that did not
+    converge, and the x where a sweep's branch ended (``branch_jump``/``turning_point``
+    notes).
+    """
+    import numpy as np
+
+    x = np.asarray(values, dtype=float).reshape(-1)
+    root = np.asarray(batch.root, dtype=float).reshape(-1)
+    good = np.asarray(batch.converged, dtype=bool).reshape(-1) & np.isfinite(x)
+    order = np.argsort(x[good], kind="stable")
+    ends = sorted({float(x[i]) for i, code in batch.notes
+                   if code in ("branch_jump", "turning_point") and 0 <= i < x.size})
+    return x[good][order], root[good][order], x[~good & np.isfinite(x)], ends
+
+
+def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: str,
+                      log_x: bool = False, log_y: bool = False, line: bool = True) -> int:
+    """The root against one parameter: converged rows as a line with markers (``line``
+    for a sweep, markers alone for a table in no order), rows that did not converge as
+    red crosses along the bottom, the ends of a sweep's branch as dotted verticals.
+
+    Log axes on request (only positive values are shown on a log axis). Returns the
+    number of converged rows drawn.
+    """
+    from matplotlib.transforms import blended_transform_factory
+
+    x, y, failed, ends = design_chart_data(values, batch)
+    if log_x:
+        keep = x > 0
+        x, y, failed = x[keep], y[keep], failed[failed > 0]
+        ends = [e for e in ends if e > 0]
+    if log_y:
+        keep = y > 0
+        x, y = x[keep], y[keep]
+    ax.plot(x, y, color=METHOD_COLORS.get(batch.method, FUNCTION_COLOR),
+            linestyle="-" if line else "none", marker="o", markersize=3 if x.size > 200 else 4,
+            linewidth=1.2, label=f"{unknown} (converged)", zorder=3)
+    if failed.size:
+        bottom = blended_transform_factory(ax.transData, ax.transAxes)
+        ax.plot(failed, [0.02] * failed.size, transform=bottom, linestyle="none",
+                marker="x", color=OKABE_ITO["vermillion"], markersize=6,
+                label="did not converge", zorder=4)
+    for i, end in enumerate(ends):
+        ax.axvline(end, color=POLE_COLOR, linestyle=":", linewidth=1.0,
+                   label="branch ended" if i == 0 else None, zorder=2)
+    if log_x:
+        ax.set_xscale("log")
+    if log_y:
+        ax.set_yscale("log")
+    ax.set_xlabel(name)
+    ax.set_ylabel(unknown)
+    ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6, zorder=0)
+    if failed.size or ends:
+        ax.legend(loc="best", fontsize="small", framealpha=0.85)
+    return int(x.size)

@@ -2,9 +2,12 @@
 
 CSV: ``#`` metadata lines (tool, time, equations, unknowns, parameters, settings, the
 block order, one summary line per run, the caution), one header row, one row per
-iterate: ``method, block, k``, one column per unknown, one per equation's residual
-(``residual_1`` ...), then ``residual_norm, step_norm, damping, regularised``. Floats are
-written with ``repr`` (round-trip exact).
+iterate: ``method, block, k``, one column per unknown (``Q1 [m^3/s]`` when it has a unit:
+its values are in that unit), one per equation's residual (``residual_1`` ..., in SI base
+units of the equation's dimension), then ``residual_norm, step_norm, damping,
+regularised``. Parameters are listed as entered and in SI; a ``dimensions`` line says when
+the dimensional check was switched off. Floats are written with ``repr`` (round-trip
+exact).
 """
 
 from __future__ import annotations
@@ -13,7 +16,14 @@ import io
 import os
 from typing import IO, Any
 
-from app.documents.export import _emit, _json_float, _write_table, metadata, number
+from app.documents.export import (
+    _emit,
+    _json_float,
+    _write_table,
+    metadata,
+    number,
+    units_json,
+)
 from app.documents.words import (
     CAUTION,
     JACOBIAN_WORDS,
@@ -43,14 +53,24 @@ def system_meta(solution: Any) -> dict[str, str]:
             "root=[" + " ".join(f"{k}={number(v)}" for k, v in r.root.items()) + "]; "
             f"converged={r.converged}; reason={r.reason}; iterations={r.iterations}; "
             f"evaluations={r.evaluations}")
+    if any(system.unknown_units.values()):
+        extra["unknown units"] = "; ".join(f"{n} [{u}]" for n, u in
+                                           system.unknown_units.items() if u)
     return metadata(equation=solution.worksheet.equation,
                     unknown=" ".join(system.unknowns), parameters=system.parameters,
-                    settings=_settings(solution), extra=extra)
+                    settings=_settings(solution), extra=extra,
+                    units=system.parameter_units, remarks=system.remarks)
+
+
+def unknown_label(system: Any, name: str) -> str:
+    """``Q1 [m^3/s]``: an unknown's column, with its unit when it has one."""
+    unit = system.unknown_units.get(name)
+    return f"{name} [{unit}]" if unit else name
 
 
 def header(system: Any) -> list[str]:
     n = len(system.equations)
-    return ["method", "block", "k", *system.unknowns,
+    return ["method", "block", "k", *(unknown_label(system, u) for u in system.unknowns),
             *(f"residual_{i}" for i in range(1, n + 1)),
             "residual_norm", "step_norm", "damping", "regularised"]
 
@@ -99,6 +119,15 @@ def system_run_json(run: Any, system: Any) -> dict[str, Any]:
     return data
 
 
+class _UnitsView:
+    """A system seen as :func:`units_json` reads an equation (one rule for both)."""
+
+    def __init__(self, system: Any):
+        self.unknown_unit = None
+        self.units = system.parameter_units
+        self.remarks = system.remarks
+
+
 def system_json(solution: Any) -> dict[str, Any]:
     """The ``zerotrace solve --json`` document of a system: the contract's keys
     (equations, unknowns, runs) and the caution, with the structure and parameters."""
@@ -107,6 +136,8 @@ def system_json(solution: Any) -> dict[str, Any]:
         "equations": list(system.equations),
         "unknowns": list(system.unknowns),
         "definitions": list(system.definitions),
+        "unknown_units": dict(system.unknown_units),
+        **{k: v for k, v in units_json(_UnitsView(system)).items() if k != "unknown_unit"},
         "parameters": _floats(system.parameters),
         "start": {u.name: _json_float(u.x0) for u in solution.worksheet.system.unknowns},
         "jacobian": system.jacobian_kind,

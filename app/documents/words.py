@@ -81,6 +81,21 @@ def exact(value: float | int | None, blank: str = "") -> str:
     return _special(value) or repr(value)
 
 
+def measured_text(value: Any, converted: Any,
+                  show: Callable[[Any], str] | None = None) -> str:
+    """A parameter's value as entered: ``150 mm (= 0.15 m)`` when it carries a unit
+    (``converted``: a :class:`solvers.units.Converted`), ``350 m`` when that unit is
+    already SI, the number alone without one. ``show`` formats the numbers (every digit
+    by default)."""
+    show = show or exact
+    if converted is None:
+        return show(value)
+    if converted.unit == converted.si_unit:  # already in SI: nothing to convert
+        return f"{show(converted.value)} {converted.unit}"
+    return (f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} "
+            f"{converted.si_unit})")
+
+
 def order_text(order: float | None, blank: str = "—") -> str:
     """An observed order of convergence (2.00 quadratic, 1.62 secant, 1.00 linear)."""
     return blank if order is None else f"{order:.2f}"
@@ -539,7 +554,8 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
-                          "unknown_dimension_free", "unknown_dimension_fractional"})
+                          "unknown_dimension_free", "unknown_dimension_fractional",
+                          "system_dimension_free"})
 
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
@@ -561,6 +577,8 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                       "or delta_degF for a difference)",
     "unknown_dimension_free": lambda r: f"the equation does not fix the dimension of "
                                         f"'{r.subject}': it is taken as dimensionless",
+    "system_dimension_free": lambda r: f"the equations do not fix the dimension of "
+                                       f"'{r.subject}': it is taken as dimensionless",
     "unknown_dimension_fractional": lambda r: f"the dimensions give '{r.subject}' fractional "
                                               "powers of units: if a constant of the equation "
                                               "hides its unit (Manning's n, a Hazen–Williams "
@@ -640,3 +658,38 @@ def blocks_text(blocks: Sequence[Any], unknowns: Sequence[str]) -> str:
 def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES) -> str:
     """Defined quantities at the root: "A = 0.0314, v = 3.18"."""
     return ", ".join(f"{name} = {number(v, figures)}" for name, v in values.items())
+# ----------------------------------------------------------------- tables of inputs
+
+# Words for each code of solvers.batch.NOTE_CODES (Batch.notes: one row each).
+BATCH_NOTE_TEXT: dict[str, str] = {
+    "bad_parameters": "the row's parameter values give part of the equation no finite real "
+                      "value: not solved",
+    "failed": "did not converge: the branch followed so far ends before this value",
+    "restart_last_good": "started again from the last converged root (the previous row failed)",
+    "restart_x0": "started again from x0 (no row had converged yet)",
+    "branch_jump": "the root jumped off the branch followed so far (a turning point was "
+                   "passed, or another root was found): check which root you need here",
+    "turning_point": "f' changed sign at the root: the sweep went round a turning point",
+    "left_range": "the root lies outside the given range of the unknown; the next row starts "
+                  "from the last root inside it",
+    "fixed_bracket": "every row uses the same bracket (a bracketing method needs no "
+                     "continuation)",
+    "restart_scan": "the sweep was resumed here from a root chosen from a scan at this value",
+}
+
+
+def batch_note_text(code: str) -> str:
+    return BATCH_NOTE_TEXT.get(code, code.replace("_", " "))
+
+
+def batch_summary(batch: Any) -> str:
+    """One line: how many rows converged, and why the others stopped."""
+    total = batch.size
+    good = int(batch.converged.sum())
+    failed = {r: c for r, c in batch.counts().items()
+              if r not in ("x_tolerance", "f_tolerance", "exact_zero")}
+    text = f"{total} {'row' if total == 1 else 'rows'}: {good} converged"
+    if failed:
+        text += "; " + "; ".join(f"{c} stopped on {r.replace('_', ' ')}"
+                                 for r, c in sorted(failed.items()))
+    return text

@@ -20,8 +20,11 @@ The file format is JSON of our own, versioned by the top-level ``format`` and
       "scan": {"from": 0.005, "to": 0.1},   # or null
       "calc": {"number": "", "revision": "", "prepared_by": "", "checked_by": ""},
       "selection": {"root": 0.0213, "reason": "..."},  # or null
-      "system": {"unknowns": [{"name": "Q1", "x0": 0.1}, ...],   # only for a system
-                 "methods": ["newton", "broyden"]}
+      "system": {"unknowns": [{"name": "Q1", "x0": 0.1, "unit": "L/s"}, ...],  # a system
+                 "methods": ["newton", "broyden"]},
+      "table": {"kind": "table", "method": "brent",    # only when there is one
+                "x0": null, "x1": null, "bracket": [0.005, 0.1],
+                "columns": [{"name": "Re", "values": [5e4, 2e5]}]}
     }
 
 A parameter's ``unit`` (optional; absent or "" for a plain number) is read by pint in the
@@ -31,7 +34,8 @@ dimensional check off for correlations whose constants hide their units; every d
 such a worksheet says so. The three keys are written only when they are set, so a
 worksheet without units is written exactly as before.
 A worksheet with a "system" object holds several equations (and definitions) in
-"equation"; its unknowns are listed with their start values, in the order of x. Files
+"equation"; its unknowns are listed with their start values, in the order of x, each with
+an optional "unit" (its start value and root are in it; written only when set). Files
 without it are one equation in one unknown, as before.
 
 Loading validates every field and raises :class:`WorksheetError` (a ``ValueError``)
@@ -70,13 +74,14 @@ from solvers.worksheet import (
     Settings,
     StartValue,
     SystemSpec,
+    TableInputs,
     Worksheet,
 )
 
 __all__ = [
     "DEFAULT_METHODS", "METHOD_NAMES", "CalcInfo", "Parameter", "Selection", "Settings",
-    "StartValue", "SystemSpec", "Worksheet", "WorksheetError", "load", "loads", "save",
-    "dumps", "validate",
+    "StartValue", "SystemSpec", "TableInputs", "Worksheet", "WorksheetError", "load", "loads",
+    "save", "dumps", "validate",
     "to_dict", "from_dict", "SETTING_RULES", "setting_problem", "tolerances_problem",
 ]
 
@@ -94,6 +99,8 @@ MAX_NAME = 100  # characters in a name (unknown, parameter)
 MAX_PARAMETERS = 500
 MAX_DIGITS = 400  # digits in a JSON integer; beyond ~309 it is past any double anyway
 MAX_ITER_CAP = 100_000  # the largest iteration cap a worksheet, the CLI or the window takes
+MAX_TABLE_COLUMNS = 50  # columns of a table of inputs kept in a worksheet
+MAX_TABLE_CELLS = 100_000  # its numbers (about 2.4 MB of JSON at most: within the file limit)
 
 # The rules a method setting must meet, checked alike by the worksheet loader, the CLI's
 # flags and the window's fields: key -> (test of the value, what is wrong when it fails).
@@ -156,8 +163,11 @@ def to_dict(ws: Worksheet) -> dict[str, Any]:
         "calc": asdict(ws.calc),
         "selection": asdict(ws.selection) if ws.selection is not None else None,
         **({} if ws.system is None else {"system": {
-            "unknowns": [{"name": u.name, "x0": u.x0} for u in ws.system.unknowns],
+            "unknowns": [{"name": u.name, "x0": u.x0, **({"unit": u.unit} if u.unit else {})}
+                         for u in ws.system.unknowns],
             "methods": list(ws.system.methods)}}),
+        # only when there is one: a worksheet without a table is written as before
+        **({"table": _table_dict(ws.table)} if ws.table is not None else {}),
     }
     if ws.unknown_unit:
         data["unknown_unit"] = ws.unknown_unit
@@ -185,6 +195,69 @@ def _unit(value: Any, where: str) -> str:
         except EquationError as exc:
             raise _fail(where, str(exc)) from None
     return text
+
+
+def _table_dict(t: TableInputs) -> dict[str, Any]:
+    return {
+        "kind": t.kind,
+        "method": t.method,
+        "x0": t.x0,
+        "x1": t.x1,
+        "bracket": list(t.bracket) if t.bracket is not None else None,
+        "columns": [{"name": name, **({"unit": t.unit_of(j)} if t.unit_of(j) else {}),
+                     "values": list(values)} for j, (name, values) in enumerate(t.columns)],
+    }
+
+
+def _table(raw: Any) -> TableInputs:
+    """A table of inputs from its JSON, checked field by field (names, equal lengths,
+    finite numbers, the limits)."""
+    t = _mapping(raw, "table")
+    kind = t.get("kind", "table")
+    if kind not in ("table", "sweep"):
+        raise _fail("table.kind", f"must be 'table' or 'sweep', got {_shown(kind)}")
+    method = t.get("method", "newton")
+    if not isinstance(method, str) or method.replace("-", "_") not in METHOD_NAMES:
+        raise _fail("table.method",
+                    f"unknown method {_shown(method)}; choose from {', '.join(METHOD_NAMES)}")
+    raw_columns = t.get("columns")
+    if not isinstance(raw_columns, list) or not raw_columns:
+        raise _fail("table.columns", "must be a non-empty list of {name, values}")
+    if len(raw_columns) > MAX_TABLE_COLUMNS:
+        raise _fail("table.columns", f"too many ({len(raw_columns)}, limit {MAX_TABLE_COLUMNS})")
+    if kind == "sweep" and len(raw_columns) != 1:
+        raise _fail("table.columns", "a sweep has one column: the parameter swept")
+    columns: list[tuple[str, tuple[float, ...]]] = []
+    units: list[str] = []
+    cells = 0
+    for j, raw_column in enumerate(raw_columns):
+        where = f"table.columns[{j}]"
+        column = _mapping(raw_column, where)
+        name = _text(column.get("name"), f"{where}.name", MAX_NAME)
+        if not _is_name(name):
+            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
+        if any(name == other for other, _ in columns):
+            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
+        values = column.get("values")
+        if not isinstance(values, list) or not values:
+            raise _fail(f"{where}.values", "must be a non-empty list of numbers")
+        cells += len(values)
+        if cells > MAX_TABLE_CELLS:
+            raise _fail("table.columns", f"more than {MAX_TABLE_CELLS} numbers")
+        if columns and len(values) != len(columns[0][1]):
+            raise _fail(f"{where}.values", f"has {len(values)} rows; the first column has "
+                        f"{len(columns[0][1])}")
+        columns.append((name, tuple(_number(v, f"{where}.values[{i}]")
+                                    for i, v in enumerate(values))))
+        units.append(_unit(column.get("unit"), f"{where}.unit"))
+    bracket = t.get("bracket")
+    return TableInputs(
+        columns=tuple(columns), kind=kind, method=method.replace("-", "_"),
+        x0=_optional_number(t.get("x0"), "table.x0"),
+        x1=_optional_number(t.get("x1"), "table.x1"),
+        bracket=_pair(bracket, "table.bracket") if bracket is not None else None,
+        units=tuple(units) if any(units) else (),
+    )
 
 
 def dumps(ws: Worksheet) -> str:
@@ -428,6 +501,7 @@ def from_dict(data: Any) -> Worksheet:
         calc=calc,
         selection=selection,
         system=system,
+        table=_table(data["table"]) if data.get("table") is not None else None,
     )
 
 
@@ -452,7 +526,8 @@ def _system(raw: Any) -> SystemSpec | None:
             raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
         if "x0" not in item:
             raise _fail(f"{where}.x0", "missing (every unknown of a system needs a start value)")
-        unknowns.append(StartValue(name, _number(item["x0"], f"{where}.x0")))
+        unknowns.append(StartValue(name, _number(item["x0"], f"{where}.x0"),
+                                   _unit(item.get("unit"), f"{where}.unit") or None))
     methods_raw = raw.get("methods", list(SYSTEM_METHOD_NAMES))
     if not isinstance(methods_raw, list) or not methods_raw:
         raise _fail("system.methods", "must be a non-empty list of method names")

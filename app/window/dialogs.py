@@ -80,13 +80,22 @@ equations in several unknowns: type one equation per line, give each unknown a s
 and Solve runs Newton–Raphson (on the Jacobian, with a line search) and Broyden side by side,
 with every iterate and a convergence view of ||F|| and the step length. A system worksheet
 opened with File ▸ Open goes there.</p>
+<p><b>6. Tables of inputs</b> (Ctrl+T, Run menu) solve the equation for every row of a table
+(open a CSV file or paste cells from a spreadsheet: one header row of parameter names, one
+row of values per case; columns x0, x1, bracket_a, bracket_b give a row its own start values)
+or sweep one parameter, each value started from the previous root. The run goes in the
+background with progress and Cancel; rows that did not converge are shaded, with the reason
+in their tooltip; double-click a row to see its method lane with every iterate (in a sweep,
+scan that row and continue the sweep from another root there). The design
+chart plots the root against a column (log axes on request), failures as crosses. Export the
+results as CSV.</p>
 <p><b>Files.</b> Worksheets are saved as JSON files of our own (.json). Export the iteration
 log and the
 roots as CSV (numbers written exactly) and the calculation sheet as PDF from the File menu.
 Ctrl+C on any table copies the selection as tab-separated text; the context menu copies the
 whole table. Unsaved work is kept in a recovery file and offered at the next start.</p>
 <p><b>Keys.</b> Ctrl+N new, Ctrl+O open, Ctrl+S save, Ctrl+Return solve,
-Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+D take as design value,
+Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+D take as design value, Ctrl+T tables of inputs,
 Ctrl+1 / Ctrl+2 function / convergence view,
 Ctrl+= / Ctrl+- more / fewer significant figures, Ctrl+Shift+Y system of equations,
 F1 this help.</p>

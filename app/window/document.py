@@ -43,12 +43,16 @@ def as_saved(ws: Worksheet) -> str:
     """The worksheet as text for "is it modified?": parameters in name order, since the
     table lists them in the equation's order, which need not be the file's."""
     ordered = tuple(sorted(ws.parameters, key=lambda p: p.name))
-    return worksheet.dumps(ws.with_changes(parameters=ordered))
+    text = worksheet.dumps(ws.with_changes(parameters=ordered, table=None))
+    # A table of inputs (up to 10^5 numbers) is compared by its hash, not written out as
+    # JSON at every keystroke.
+    return text if ws.table is None else f"{text}table {hash(ws.table)}"
 
 
 def result_key(ws: Worksheet) -> str:
     """What a solution depends on (everything except the notes and title block)."""
-    return worksheet.dumps(ws.with_changes(title="", notes="", calc=BLANK.calc, selection=None))
+    return worksheet.dumps(ws.with_changes(title="", notes="", calc=BLANK.calc, selection=None,
+                                           table=None))
 
 
 def scan_key(ws: Worksheet) -> str:

@@ -218,11 +218,16 @@ class InputsPanel(QWidget):
         header = self.parameters_view.horizontalHeader()
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.ResizeToContents)
         header.setSectionResizeMode(1, QHeaderView.ResizeMode.Interactive)
-        header.resizeSection(1, 110)
+        header.resizeSection(1, 100)
         header.setSectionResizeMode(2, QHeaderView.ResizeMode.Interactive)
-        header.resizeSection(2, 70)
-        self.parameters_view.setMinimumHeight(80)
+        header.resizeSection(2, 60)
+        header.setMinimumSectionSize(36)  # the note keeps a sliver rather than a scroll bar
         self.parameters_view.setMaximumHeight(200)
+        # tall enough for every parameter up to five (a fixed 80 px showed two and a half)
+        self.parameters.modelReset.connect(self._fit_parameter_rows)
+        self.parameters.rowsInserted.connect(self._fit_parameter_rows)
+        self.parameters.rowsRemoved.connect(self._fit_parameter_rows)
+        self._fit_parameter_rows()
         self.parameters_view.setToolTip("Values of the names the equation uses (F2 to edit), "
                                         "with a unit if you like (typing '150 mm' in a value "
                                         "cell splits it). Tinted cells need a valid number.")
@@ -324,6 +329,14 @@ class InputsPanel(QWidget):
         if editor is not None:
             view.commitData(editor)
             view.closeEditor(editor, QAbstractItemDelegate.EndEditHint.NoHint)
+
+    def _fit_parameter_rows(self, *_args: Any) -> None:
+        view = self.parameters_view
+        rows = min(max(self.parameters.rowCount(), 2), 5)
+        view.setMinimumHeight(view.horizontalHeader().sizeHint().height()
+                              + rows * view.verticalHeader().defaultSectionSize()
+                              + 2 * view.frameWidth()
+                              + view.horizontalScrollBar().sizeHint().height())
 
     def _pairs(self, grid: QGridLayout, specs: tuple[FieldSpec, ...], per_row: int = 2) -> None:
         """Label/field pairs, two per row where the labels are short, so the column fits a

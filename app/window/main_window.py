@@ -61,6 +61,7 @@ class MainWindow(QMainWindow):
         self.progress_updates = 0
         self.solve_started_at = 0.0
         self.solve_seconds = math.nan
+        self.tables: Any = None  # the tables-of-inputs window, built on first use
 
         self._build_widgets()
         build_actions(self)
@@ -174,11 +175,13 @@ class MainWindow(QMainWindow):
         settings, scan = self.inputs.settings(record.settings)
         parameters = tuple(Parameter(r.name, r.value, r.note, r.unit)
                            for r in self.inputs.parameters.rows() if r.value is not None)
+        table = self.tables.inputs_record() if self.tables is not None else record.table
         return record.with_changes(equation=self.strip.text(),
                                    unknown=self.strip.chosen_unknown(),
                                    unknown_unit=self.strip.chosen_unit(),
                                    dimension_check=self.strip.dimension_check(),
-                                   parameters=parameters, settings=settings, scan=scan)
+                                   parameters=parameters, settings=settings, scan=scan,
+                                   table=table)
 
     def solve_worksheet(self) -> Worksheet:
         """The worksheet with the unknown the strip inferred, for the pipeline."""
@@ -220,6 +223,9 @@ class MainWindow(QMainWindow):
         self.roots.clear(ws.scan is not None)
         self.plot.set_runs(())
         self.plot.show_message("Press Solve (Ctrl+Return) or Scan range to draw f.")
+        if self.tables is not None:
+            with QSignalBlocker(self.tables):
+                self.tables.restore(ws.table)
 
     def _refresh_title(self) -> None:
         doc = self.document
@@ -442,6 +448,23 @@ class MainWindow(QMainWindow):
         self._refresh_title()
         self.statusBar().showMessage(f"Design value set to {_num(x)}", 8000)
         return True
+
+    def open_tables(self) -> None:
+        """The tables-of-inputs window, given this worksheet's equation, values and rules."""
+        from app.window.table_view import TableWindow
+
+        ws = self.solve_worksheet()
+        if self.tables is None:
+            self.tables = TableWindow(self.runner, self)
+            with QSignalBlocker(self.tables):
+                self.tables.restore(ws.table)
+            self.tables.inputs_changed.connect(self._refresh_title)
+        s = ws.settings
+        self.tables.set_worksheet(ws.equation, ws.unknown, ws.parameter_values(),
+                                  {"xtol": s.xtol, "rtol": s.rtol, "ftol": s.ftol,
+                                   "max_iter": s.max_iter, "damping": s.damping}, ws)
+        self.tables.show()
+        self.tables.raise_()
 
     def edit_calc_details(self) -> None:
         dialog = CalcDialog(self.worksheet(), self)

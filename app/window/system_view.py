@@ -90,9 +90,11 @@ def read_system(text: str, values: dict[str, float], given: Sequence[str] = ()) 
                    words.blocks_text(system.blocks, system.unknowns))
 
 
-def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, float],
+def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, Any],
                starts: dict[str, float], methods: Sequence[str], settings: Any,
-               progress: Any = None, cancelled: Any = None) -> Any:
+               progress: Any = None, cancelled: Any = None,
+               units: dict[str, str] | None = None,
+               dimension_check: bool = True) -> Any:
     """Parse and solve (in a worker): the SystemSolution of a worksheet built from the fields.
     ``progress(fraction)`` runs across the methods (each method's share from inside its
     solve); ``cancelled()`` is polled inside every solve, each iteration and line-search
@@ -101,10 +103,12 @@ def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, float],
     from solvers.systems import solve_system
     from solvers.systems.pipeline import SystemSolution, system_of
 
-    spec = SystemSpec(tuple(StartValue(n, starts[n]) for n in unknowns), tuple(methods))
+    units = units or {}
+    spec = SystemSpec(tuple(StartValue(n, starts[n], units.get(n)) for n in unknowns),
+                      tuple(methods))
     ws = Worksheet(equation=text, parameters=tuple(Parameter(n, v)
                                                    for n, v in parameters.items()),
-                   settings=settings, system=spec)
+                   settings=settings, system=spec, dimension_check=dimension_check)
     system = system_of(ws)
     share = 1.0 / (len(methods) + 1)  # the parse counts as one share
     runs = []
@@ -159,6 +163,8 @@ class SystemWindow(QWidget):
         self.unknowns_view.setObjectName("unknownsView")
         self.unknowns_view.setModel(self.unknowns)
         self.parameters = ParametersModel(self)
+        self.unknown_units: dict[str, str] = {}
+        self.dimension_check = True
         self.parameters_view = CopyTableView()
         self.parameters_view.setModel(self.parameters)
         self.method_boxes = {}
@@ -374,6 +380,7 @@ class SystemWindow(QWidget):
         unknowns = self.unknowns.names()
         values = self._values()
         settings = self.settings
+        units, check = dict(self.unknown_units), self.dimension_check
         asked = self.worksheet()
         self.status.setText("solving…")
         self.cancel_button.setEnabled(True)
@@ -391,7 +398,7 @@ class SystemWindow(QWidget):
 
         self.jobs.submit("system-solve",
                          lambda p, c: solve_text(text, unknowns, values, starts,  # type: ignore[arg-type]
-                                                 methods, settings, p, c),
+                                                 methods, settings, p, c, units, check),
                          on_done=done, on_error=ended,
                          on_cancel=lambda: ended("cancelled: nothing was solved"),
                          on_progress=lambda f: self.status.setText(
@@ -437,15 +444,18 @@ class SystemWindow(QWidget):
         """The worksheet on screen (blank or wrong start values become 0 with the problem
         named by :meth:`solve`; the file keeps what can be opened again)."""
         starts = self.unknowns.starts()
-        spec = SystemSpec(tuple(StartValue(n, v if v is not None else 0.0)
+        spec = SystemSpec(tuple(StartValue(n, v if v is not None else 0.0,
+                                           self.unknown_units.get(n))
                                 for n, v in starts.items()),
                           tuple(m for m, b in self.method_boxes.items() if b.isChecked())
                           or SYSTEM_METHOD_NAMES)
-        params = tuple(Parameter(r.name, r.value if r.value is not None else 0.0, r.note)
+        params = tuple(Parameter(r.name, r.value if r.value is not None else 0.0, r.note,
+                                 r.unit.strip())
                        for r in self.parameters.rows())
         title = self.title
         return Worksheet(equation=self.editor.toPlainText(), parameters=params,
                          settings=self.settings, title=title,
+                         dimension_check=self.dimension_check,
                          system=spec if spec.unknowns else None)
 
     def save(self) -> bool:
@@ -582,6 +592,10 @@ class SystemWindow(QWidget):
         self.clear_results()
         self.settings = ws.settings
         self.title = ws.title
+        # the unknowns' units and the check switch are kept as the file has them (no field
+        # on screen edits them yet) and written back on save
+        self.unknown_units = ws.system.units() if ws.system is not None else {}
+        self.dimension_check = ws.dimension_check
         self.parameters.load(ws.parameters)
         if ws.system is not None:
             self.unknowns.load(ws.system.unknowns)

@@ -11,7 +11,8 @@ How a scan works
    and edges between defined and undefined (NaN) samples. Windows of 32 samples
    where f turns more than 8 times are resampled 8x finer (twice at most, so up to
    64x) before candidates are taken.
-2. **Refine and classify** every sign-change bracket at once (vectorised: one f
+2. **Refine and classify** every sign-change bracket (up to 24 one by one on the scalar
+   f, where numpy's per-call overhead would dominate; more at once, vectorised, one f
    call per iteration for all brackets): Anderson–Björck false position, safeguarded
    by bisection and a least step of half the tolerance, until each bracket is no
    wider than xtol + rtol |x| (rtol = 4 eps, xtol = 1e-3 eps min(max(|a|, |b|), 1):
@@ -46,12 +47,16 @@ How a scan works
    8x that two samples away, as for a pole riding on a large offset) is searched by
    golden section for the largest |f|; at least twice the sampled peak (or infinite)
    and |f| still growing through the last 20 halvings of the distance before float
-   resolution is a pole. A bounded oscillation (sin(1/x) near 0) is not, and a sign
-   change whose bisection looked like a pole is checked the same way. Beside every
-   pole the stretch to the neighbouring samples is probed at distances halving down
-   to a few ulps: each sign change there brackets a root no sample pair showed (a
-   liquid root 1e-4 of a spacing from an equation of state's co-volume pole), and a
-   dip without one is reported as a place where a pair of roots may hide.
+   resolution is a pole. The search stops early on a peak proved bounded: |f| concave
+   through the search's four points, its ceiling below twice the sampled peak, and |f|
+   where the outer chords meet strictly below them (|f| is convex on each side of a
+   pole, so a pole never passes; the peaks of a sampled oscillation, sin(x^2), do). A
+   bounded oscillation (sin(1/x) near 0) is not, and a sign change whose bisection looked
+   like a pole is checked the same way. Beside every pole the stretch to the neighbouring
+   samples is probed at distances halving down to a few ulps: each sign change there
+   brackets a root no sample pair showed (a liquid root 1e-4 of a spacing from an
+   equation of state's co-volume pole), and a dip without one is reported as a place
+   where a pair of roots may hide.
 6. **Multiplicity** m from f ~ c (x - r)^m: the slope of log|f(r +/- d)| against
    log d for d shrinking fourfold from the sample spacing (or 0.3 of the distance
    to the next feature) down to the noise level, rounded to the integer of the

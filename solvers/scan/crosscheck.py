@@ -34,8 +34,12 @@ from solvers.scan.sampling import _Candidates, _detect
 
 # Degrees tried on a piece, smallest first (Boyd: keep degrees modest, subdivide instead:
 # the eigenvalue cost grows as degree^3). LAST_DEGREE is tried only where subdividing
-# further is not allowed (depth limit or piece budget).
-DEGREES: tuple[int, ...] = (8, 16, 32)
+# further is not allowed (depth limit or piece budget). One degree: its series is cut to
+# its significant length (trailing coefficients below 0.1 DECAY_TOL dropped), so a piece a
+# lower degree would resolve gets the same short series from this one fit, without the
+# extra calls of f per level (each costs f's whole overhead); and an oscillation aliased
+# into a smooth-looking interpolant at 9 or 17 nodes cannot pass as resolved there.
+DEGREES: tuple[int, ...] = (32,)
 LAST_DEGREE = 64
 # Trailing coefficients below this fraction of the largest count as decayed.
 DECAY_TOL = 1e-13
@@ -243,18 +247,24 @@ def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bo
     """
     out = [False] * len(coefficients)
     checks: list[tuple[int, np.ndarray]] = []
-    for i, (c, t) in enumerate(zip(coefficients, known, strict=True)):
-        n = len(c) - 1
-        if n < 1 or n > _COUNT_DEGREE:
-            continue
+    # pieces of one degree counted together (one product for all of them: a scan of a fast
+    # oscillation has hundreds of pieces, and a call per piece cost more than the counting)
+    by_degree: dict[int, list[int]] = {}
+    for i, c in enumerate(coefficients):
+        if 1 <= len(c) - 1 <= _COUNT_DEGREE:
+            by_degree.setdefault(len(c) - 1, []).append(i)
+    for n, members in by_degree.items():
         m, m_abs = _bernstein(n)
-        bern = m @ c
-        doubt = 2 * (n + 2) * np.finfo(float).eps * (m_abs @ np.abs(c))
-        if np.any(np.abs(bern) <= doubt):
-            continue
-        variations = int(np.count_nonzero(np.signbit(bern[:-1]) != np.signbit(bern[1:])))
-        if variations == len(t):
-            checks.append((i, t))
+        cs = np.array([coefficients[i] for i in members])
+        bern = cs @ m.T
+        doubt = 2 * (n + 2) * np.finfo(float).eps * (np.abs(cs) @ m_abs.T)
+        sure = ~np.logical_or.reduce(np.abs(bern) <= doubt, axis=1)
+        signs = np.signbit(bern)
+        variations = np.add.reduce(signs[:, :-1] != signs[:, 1:], axis=1, dtype=int)
+        for i, ok, v in zip(members, sure.tolist(), variations.tolist(), strict=True):
+            if ok and v == len(known[i]):
+                checks.append((i, known[i]))
+    checks.sort(key=lambda item: item[0])
     if not checks:
         return out
     # the proxies at t -/+ the step around their known zeros, in one evaluation
@@ -355,10 +365,12 @@ def chebyshev_roots(
     certified = [False] * len(accepted)
     if known is not None and len(accepted):
         known = np.asarray(known, dtype=float)
-        inner = []
-        for u, v, _ in accepted:
-            lo, hi = np.searchsorted(known, [u, v], side="left")
-            inner.append((known[lo:hi] - 0.5 * (u + v)) / (0.5 * (v - u)))
+        us = np.array([u for u, _, _ in accepted])
+        vs = np.array([v for _, v, _ in accepted])
+        starts = np.searchsorted(known, us, side="left").tolist()
+        stops = np.searchsorted(known, vs, side="left").tolist()
+        inner = [(known[lo:hi] - 0.5 * (u + v)) / (0.5 * (v - u))
+                 for lo, hi, u, v in zip(starts, stops, us.tolist(), vs.tolist(), strict=True)]
         certified = _certify(coefficients, inner)
     zeros = _zeros([np.zeros(1) if ok else c for ok, c in zip(certified, coefficients,
                                                                 strict=True)], poll)

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import bisect
 import math
+import statistics
 import warnings as _warnings
 from collections.abc import Callable
 
@@ -25,7 +26,13 @@ from solvers.scan.features import (
     _touch_search,
     _zero_samples,
 )
-from solvers.scan.kernels import _SQRT_EPS, _golden, _overflow_brackets, _resolve_brackets
+from solvers.scan.kernels import (
+    _SQRT_EPS,
+    _golden,
+    _golden_start,
+    _overflow_brackets,
+    _resolve_brackets,
+)
 from solvers.scan.noise import _noise_clusters, _sigma
 from solvers.scan.records import EPS, Root, Scan, _Found
 from solvers.scan.sampling import DEFAULT_SAMPLES, _Candidates, _Guarded, _sample_grid
@@ -62,7 +69,8 @@ def scan(
     where undefined; exceptions from f count as undefined. ``samples`` is the number of
     equally spaced base samples (default ``DEFAULT_SAMPLES`` = 2001, at least 3); windows
     where f oscillates faster than that are resampled up to 64x finer automatically.
-    Roots are refined, all brackets at once, to Brent's stop rule with rtol = 4 eps
+    Roots are refined (all brackets at once, or one by one when there are few) to Brent's
+    stop rule with rtol = 4 eps
     (about full double precision for a simple root; a root of multiplicity m is only
     determined to about eps^(1/m) relative unless f is evaluated without cancellation).
     ``progress(fraction)`` is called from the calling thread between chunks and at the
@@ -187,16 +195,26 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     # sharp peaks of |f| without a sign change: poles when |f| keeps growing toward a point
     if cand.peaks:
         pk = np.array(cand.peaks)
-        fk = np.abs(g(pk[:, 1]))
+        # |f| at the peak sample, at its two neighbours (the search's bracket ends) and at
+        # golden section's first two points, in one call
+        c0, d0 = _golden_start(pk[:, 0], pk[:, 2])
+        f3 = np.abs(g(np.concatenate([pk.T.reshape(-1), c0, d0]))).reshape(5, -1)
+        fk = f3[1]
         # a maximum is located only to sqrt(eps) too; where |f| still changes across that
         # width (a pole there, not a flat smooth peak) the search goes on down to 4 eps,
-        # where the growth test needs to stand next to it
+        # where the growth test needs to stand next to it. A peak proved bounded below
+        # twice the sampled |f| (``_golden``'s ``limit``: concave, and the probe where the
+        # outer chords meet below them) is no pole, and its search stops there (the peaks
+        # of |f| of a sampled oscillation, sin(x^2))
+        bounded_peak = np.zeros(len(pk), dtype=bool)
         xb, fb, _ = _golden(g, pk[:, 0], pk[:, 2], np.ones(len(pk)), xtol, peak=True,
-                            rel=_SQRT_EPS)
+                            rel=_SQRT_EPS, ends=(-f3[0], -f3[2]), positive=bounded_peak,
+                            limit=-2.0 * fk, first=(-f3[3], -f3[4]))
         w = np.maximum(_SQRT_EPS * np.abs(xb), xtol)
-        side = np.abs(g(np.concatenate([xb - w, xb + w]))).reshape(2, -1)
-        change = np.max(np.abs(side - np.abs(fb)), axis=0)
-        follow = np.flatnonzero(np.isfinite(fb) & ~(change <= 1e-6 * np.abs(fb)))
+        open_ = np.flatnonzero(np.isfinite(fb) & ~bounded_peak)
+        side = np.abs(g(np.concatenate([xb[open_] - w[open_], xb[open_] + w[open_]])))
+        change = np.max(np.abs(side.reshape(2, -1) - np.abs(fb[open_])), axis=0)
+        follow = open_[~(change <= 1e-6 * np.abs(fb[open_]))]
         if follow.size:
             wf = w[follow]
             lo_f = np.maximum(xb[follow] - 2 * wf, pk[follow, 0])
@@ -205,8 +223,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
             better = ~np.isfinite(f2) | (np.abs(f2) >= np.abs(fb[follow]))
             xb[follow[better]], fb[follow[better]] = x2[better], f2[better]
         top = np.abs(fb)
-        grows = (top >= 2.0 * fk) & np.isfinite(fb)
-        unbounded = ~np.isfinite(fb)
+        grows = (top >= 2.0 * fk) & np.isfinite(fb) & ~bounded_peak
+        unbounded = ~np.isfinite(fb) & ~bounded_peak
         if grows.any():
             unbounded[grows] = _grows_without_bound(g, xb[grows], h)
         for i in np.flatnonzero(unbounded):
@@ -245,18 +263,22 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         found += _beside_poles(g, gp, _dedupe_points(poles, scale), a, b, h, xtol, notes)
 
     flagged: list[int] = []
-    roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged)
+    clean: list[bool] = []
+    roots = _finish(g, found, poles, jumps, gaps, h, scale, flagged, clean)
     hidden = _hidden_roots(g, gp, [roots[i] for i in flagged], xtol)
     if hidden:
-        roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale)
+        clean = []
+        roots = _finish(g, found + hidden, poles, jumps, gaps, h, scale, clean=clean)
     # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
     # root cluster of a function evaluated with cancellation become that one root
     poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
-    typical = float(np.median(cand.typical)) if cand.typical else 0.0
+    # (statistics.median: the same middle value, without np.median's overhead on a short list)
+    typical = float(statistics.median(cand.typical)) if cand.typical else 0.0
     unsure = np.zeros(len(roots), dtype=bool)
     unsure[[i for i in flagged if i < len(roots)]] = True
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,
-                                                       b, scale, typical, h, unsure)
+                                                       b, scale, typical, h, unsure,
+                                                       np.array(clean) if clean else None)
     for u, v in runs:
         notes.append(Detail("zero_run", (float(u), float(v))))
     for p in bounded:
@@ -292,7 +314,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         # has exactly those zeros (chebyshev._certify); it still locates everything else
         simple = np.array(sorted(r.x for r in roots if r.multiplicity == 1), dtype=float)
         cheb = chebyshev_roots(g, a, b, max_pieces=min(max(256, n // 8), 4096), cancel=cancel,
-                               on_cancel=g.check, noise=lambda x: _sigma(g, x, scale),
+                               on_cancel=g.check, noise=_MemoNoise(g, scale),
                                known=simple)
         before = len(roots)
         roots = _cross_check(g, gp, cheb, roots, poles, jumps, gaps, notes, h, xtol, scale,
@@ -339,6 +361,25 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         noise_bands=bands,
         check=mode,
     )
+
+
+class _MemoNoise:
+    """x -> f's rounding-noise deviation (:func:`solvers.scan.noise._sigma`), each x measured
+    once. The proxy asks at every piece's ends and middle, level after level: a child's
+    ends are its parent's end and middle, already measured (the estimate at a point does
+    not depend on the other points asked with it, so a remembered value is the same)."""
+
+    def __init__(self, g: _Guarded, scale: float):
+        self.g, self.scale = g, scale
+        self.seen: dict[float, float] = {}
+
+    def __call__(self, x: np.ndarray) -> np.ndarray:
+        keys = np.asarray(x, dtype=float).reshape(-1).tolist()
+        new = [k for k in dict.fromkeys(keys) if k not in self.seen]
+        if new:
+            self.seen.update(zip(new, _sigma(self.g, np.array(new), self.scale).tolist(),
+                                 strict=True))
+        return np.array([self.seen[k] for k in keys], dtype=float)
 
 
 _RESAMPLE_BUDGET = 2_000_000  # samples spent re-scanning parts the cross-check could not resolve

@@ -6,13 +6,14 @@ from __future__ import annotations
 
 import functools
 import math
+import operator
 
 import numpy as np
 
 from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
-from solvers.scan.noise import _at_noise, _noise
-from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found
+from solvers.scan.noise import _LOOK_ALL, _at_noise, _noise, _ramp_clean, _ramp_points
+from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
 from solvers.scan.sampling import _Guarded
 
 
@@ -79,7 +80,8 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
 
 
 def _multiplicity(
-    g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float
+    g: _Guarded, x: np.ndarray, reach: np.ndarray, odd: np.ndarray, scale: float,
+    extra: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Integer m with f ~ c (x - r)^m near each root, parity forced by ``odd``; the
     spread of the local slopes (large when other roots hide within the probed distance);
@@ -87,7 +89,8 @@ def _multiplicity(
 
     |f(r +/- d)| at d = reach * 4^-j (j = 0..10); the local slope of log|f| against
     log d, taken from the four smallest d still 1000x above the rounding floor (the
-    largest |f| within a few ulps of r). All points go to f in one call.
+    largest |f| within a few ulps of r). All points go to f in one call, with ``extra``
+    (more points per root, rows) whose values are written back into ``extra``.
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
@@ -95,36 +98,41 @@ def _multiplicity(
     d = reach[:, None] * 4.0 ** (-j[None, :])
     step = 2 * EPS * np.maximum(np.abs(x), scale)
     ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
-    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps], axis=1)
+    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps]
+                         + ([] if extra is None else [extra]), axis=1)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
+    if extra is not None:
+        extra[...] = vals[:, pts.shape[1] - extra.shape[1]:]
+        vals = vals[:, : pts.shape[1] - extra.shape[1]]
     near = vals[:, 2 * len(j):]
     vals = np.abs(vals[:, : 2 * len(j)])
     fp, fm = vals[:, : len(j)], vals[:, len(j):]
-    floor = np.nanmax(np.abs(near), axis=1)
+    # (ufunc reductions and plain indexing below: the numpy wrappers nanmax, take_along_axis
+    # and the like cost several times more per call, and a scan calls this for every root)
+    floor = np.fmax.reduce(np.abs(near), axis=1)  # nanmax, NaN only where all are NaN
     valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
     logf = 0.5 * (np.log(fp) + np.log(fm))
     slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
     # the last four usable slopes of each row (smallest distances above the floor)
-    rank = np.cumsum(pair[:, ::-1], axis=1)[:, ::-1]
+    rank = np.add.accumulate(pair[:, ::-1], axis=1, dtype=int)[:, ::-1]
     last4 = pair & (rank <= 4)
     ordered = np.sort(np.where(last4, slopes, np.inf), axis=1)
-    count = last4.sum(axis=1)
-    lo_i = np.maximum(count - 1, 0)[:, None] // 2
-    hi_i = count[:, None] // 2
+    count = np.add.reduce(last4, axis=1, dtype=int)
+    rows = np.arange(len(x))
+    lo_i = np.maximum(count - 1, 0) // 2
+    hi_i = np.minimum(count // 2, ordered.shape[1] - 1)
     with np.errstate(all="ignore"):
-        est = 0.5 * (np.take_along_axis(ordered, lo_i, axis=1)
-                     + np.take_along_axis(ordered, np.minimum(hi_i, ordered.shape[1] - 1),
-                                          axis=1))[:, 0]
+        est = 0.5 * (ordered[rows, lo_i] + ordered[rows, hi_i])
     est = np.where((count > 0) & np.isfinite(est), est, np.where(odd, 1.0, 2.0))
     m = np.maximum(1, np.rint(est)).astype(int)
     wrong = (m % 2 == 1) != odd
     m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
     m = np.maximum(m, np.where(odd, 1, 2))
     with np.errstate(all="ignore"):
-        spread = (np.max(np.where(pair, slopes, -np.inf), axis=1)
-                  - np.min(np.where(pair, slopes, np.inf), axis=1))
-    return m, np.where(pair.sum(axis=1) >= 2, spread, 0.0), near[:, 3]
+        spread = (np.maximum.reduce(np.where(pair, slopes, -np.inf), axis=1)
+                  - np.minimum.reduce(np.where(pair, slopes, np.inf), axis=1))
+    return m, np.where(np.add.reduce(pair, axis=1, dtype=int) >= 2, spread, 0.0), near[:, 3]
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:
@@ -187,7 +195,7 @@ def _range_ends(g, a, b, h, xtol, scale, brackets: list) -> list[_Found]:
     """
     out = []
     for end, inner, side in ((a, a + h, +1), (b, b - h, -1)):
-        fe, fi = g.scalar(end), g.scalar(inner)
+        fe, fi = g.fast(end), g.fast(inner)
         if not (math.isfinite(fe) and math.isfinite(fi)):
             continue
         if fe == 0:
@@ -387,27 +395,41 @@ def _hidden_roots(g, gp, suspects: list[Root], xtol: float) -> list[_Found]:
     return found
 
 
-def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) -> list[Root]:
+_by_x = operator.attrgetter("x")
+
+
+def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
+            clean=None) -> list[Root]:
     """Deduplicate, estimate multiplicities, evaluate residuals, sort.
 
     ``flags``, when a list, receives the indices of roots whose local slopes are not
     consistent with one c (x - r)^m (more roots may hide within a sample spacing).
+    ``clean``, when a list, receives per root whether f is a clean ramp there
+    (:func:`solvers.scan.noise._ramp_clean`, judged from points evaluated with the
+    multiplicity ladder, in the same call of f), for the noise look; it stays empty with
+    more than ``_LOOK_ALL`` roots (the noise look then examines only crowded roots).
     """
-    found = sorted((r for r in found if math.isfinite(r.x)), key=lambda r: r.x)
+    found = sorted((r for r in found if math.isfinite(r.x)), key=_by_x)
     zero = min(scale, 1.0)  # x floor near zero, as for the step test's xtol
-    merged: list[_Found] = []
-    for r in found:
-        if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * zero):
-            prev = merged[-1]
-            if prev.bracket is None and r.bracket is not None:
-                merged[-1] = r
-            continue
-        merged.append(r)
-    if not merged:
+    if not found:
         return []
-    x = np.array([r.x for r in merged])
+    x = np.array([r.x for r in found])
+    close = np.abs(x[1:] - x[:-1]) <= 64 * EPS * np.maximum(np.abs(x[1:]), 1e-3 * zero)
+    if np.count_nonzero(close):  # (else every root stays: the loop below would keep all)
+        merged: list[_Found] = []
+        for r in found:
+            if merged and abs(r.x - merged[-1].x) <= 64 * EPS * max(abs(r.x), 1e-3 * zero):
+                prev = merged[-1]
+                if prev.bracket is None and r.bracket is not None:
+                    merged[-1] = r
+                continue
+            merged.append(r)
+        x = np.array([r.x for r in merged])
+    else:
+        merged = found
+    xs = x.tolist()
     features = np.sort(np.array(
-        list(x) + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
+        xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
     # distance to the nearest other feature (root, pole, jump, gap end) on either side
     left = np.searchsorted(features, x, side="left") - 1
     right = np.searchsorted(features, x, side="right")
@@ -416,18 +438,16 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None) ->
     reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * zero))
     odd = np.array([r.odd for r in merged])
-    mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale)
+    # (only where the noise look examines every root: beyond _LOOK_ALL roots it examines
+    # the crowded ones alone, and the points would be spent for nothing)
+    ramp = _ramp_points(x, scale) if clean is not None and len(x) <= _LOOK_ALL else None
+    mult, spread, res = _multiplicity(g, x, reach, odd, EPS * scale, ramp)
     if flags is not None:
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
+    if ramp is not None:
+        clean.extend(_ramp_clean(ramp).tolist())
     return [
-        Root(
-            x=xi,
-            residual=ri,
-            multiplicity=1 if DOMAIN_EDGE_CODES.intersection(r.how) else mi,
-            confirmed=r.how,
-            located_by=r.located_by,
-            bracket=r.bracket,
-            run=r.run,
-        )
-        for r, xi, ri, mi in zip(merged, x.tolist(), res.tolist(), mult.tolist(), strict=True)
+        _new_root(xi, ri, mi if DOMAIN_EDGE_CODES.isdisjoint(r.how) else 1, r.how,
+                  r.located_by, r.bracket, r.run)
+        for r, xi, ri, mi in zip(merged, xs, res.tolist(), mult.tolist(), strict=True)
     ]

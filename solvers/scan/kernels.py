@@ -102,6 +102,8 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     to :func:`_classify`.
     """
     count = len(br)
+    if count <= _FEW:
+        return _bracket_each(g, br, xtol, max_iter)
     lo_out, hi_out = br[:, 0].astype(float).copy(), br[:, 1].astype(float).copy()
     flo_out, fhi_out = br[:, 2].astype(float).copy(), br[:, 3].astype(float).copy()
     done = np.zeros(count, dtype=bool)
@@ -116,7 +118,7 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
         width = hi - lo
         tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
         finished = width <= tol
-        if finished.any():
+        if np.count_nonzero(finished):
             k = idx[finished]
             done[k] = True
             lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
@@ -137,7 +139,7 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
         fx = g(x)
         w3, w2, w1 = w2, w1, width
         regular = np.isfinite(fx) & (fx != 0)
-        if not regular.all():
+        if np.count_nonzero(regular) < regular.size:
             zero = fx == 0
             k = idx[zero]
             done[k] = True
@@ -151,12 +153,96 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
         # Anderson–Björck: the end held for the second time running is weighted by
         # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
         m = 1.0 - fx / np.where(on_lo, flo, fhi)
-        m = np.where(prev_lo == on_lo, np.where(m > 0, m, 0.5), 1.0)
-        wlo, whi = np.where(on_lo, fx, wlo * m), np.where(on_lo, whi * m, fx)
-        lo, hi = np.where(on_lo, x, lo), np.where(on_lo, hi, x)
-        flo, fhi = np.where(on_lo, fx, flo), np.where(on_lo, fhi, fx)
+        m[~(m > 0)] = 0.5
+        m[prev_lo != on_lo] = 1.0
+        # (in place: these arrays are this loop's own, and a masked copy costs less than
+        # building a new array with np.where)
+        on_hi = ~on_lo
+        wlo *= m  # the held end's weight; the moved end's is replaced by f(x) next
+        whi *= m
+        for end, value, moved in ((wlo, fx, on_lo), (whi, fx, on_hi), (lo, x, on_lo),
+                                  (hi, x, on_hi), (flo, fx, on_lo), (fhi, fx, on_hi)):
+            np.copyto(end, value, where=moved)
         prev_lo = on_lo.view(np.int8)
     return done, lo_out, hi_out, flo_out, fhi_out
+
+
+# Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`):
+# an iteration of the vectorised loop costs some 35 numpy calls of about 1 us whatever the
+# bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x, 60 us for a
+# sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to 2.5 us) per
+# bracket; the two break even near 25 brackets for both.
+_FEW = 24
+
+
+def _bracket_each(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
+    """:func:`_bracket_all` one bracket at a time, on the scalar f: the same iteration
+    (Anderson-Bjorck weights, the bisection after three iterations that failed to halve
+    the bracket, the least step of half the tolerance, Brent's stop rule) in Python
+    floats, with numpy's rules where Python's differ (0/0 in the weights is NaN, and the
+    step then falls back on the least step as ``np.fmax`` does). Same returns.
+    """
+    g.check()
+    rows = br.tolist()
+    count = len(rows)
+    done = np.zeros(count, dtype=bool)
+    out = np.array(rows, dtype=float).reshape(count, 4)
+    fast = g.fast
+    rtol = _RTOL
+    for i, (lo, hi, flo, fhi) in enumerate(rows):
+        lo, hi, flo, fhi = float(lo), float(hi), float(flo), float(fhi)
+        wlo, whi = flo, fhi
+        prev_lo = -1
+        w1 = w2 = w3 = math.inf
+        converged = False
+        for it in range(max_iter + 1):
+            width = hi - lo
+            tol = xtol + rtol * max(abs(lo), abs(hi))
+            if width <= tol:
+                converged = True
+                break
+            if it == max_iter:
+                break
+            if width > 0.5 * w3:
+                t = 0.5
+            else:
+                try:
+                    t = wlo / (wlo - whi)
+                except ZeroDivisionError:
+                    t = math.nan
+            half = 0.5 * tol
+            x = lo + t * width
+            if not x >= lo + half:  # (NaN too, as np.fmax)
+                x = lo + half
+            if x > hi - half:
+                x = hi - half
+            fx = fast(x)
+            w3, w2, w1 = w2, w1, width
+            if fx == 0:
+                lo = hi = x
+                flo = fhi = 0.0
+                converged = True
+                break
+            if not math.isfinite(fx):
+                break  # NaN/inf inside: a pole or a hole, left for _classify
+            on_lo = (fx < 0) == (flo < 0)  # x replaces lo (both nonzero here); hi is held
+            try:
+                m = 1.0 - fx / (flo if on_lo else fhi)
+            except ZeroDivisionError:
+                m = math.nan
+            if prev_lo != on_lo:
+                m = 1.0
+            elif not m > 0:
+                m = 0.5
+            if on_lo:
+                lo, flo, wlo, whi = x, fx, fx, whi * m
+            else:
+                hi, fhi, whi, wlo = x, fx, fx, wlo * m
+            prev_lo = on_lo
+        if converged:
+            done[i] = True
+            out[i] = (lo, hi, flo, fhi)
+    return done, out[:, 0].copy(), out[:, 1].copy(), out[:, 2].copy(), out[:, 3].copy()
 
 
 def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: float,
@@ -177,13 +263,16 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
     g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
     root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
-    x = np.where(np.abs(flo) <= np.abs(fhi), lo, hi)
-    how: list[tuple[str, ...]] = [("zero_at_iterate",) if z else ("anderson_bjorck",)
+    nearer = np.abs(flo) <= np.abs(fhi)
+    x = np.where(nearer, lo, hi)
+    at_zero, bracketed = ("zero_at_iterate",), ("anderson_bjorck",)  # (shared tuples)
+    how: list[tuple[str, ...]] = [at_zero if z else bracketed
                                   for z in (root & (lo == hi)).tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
         xr = x[ir]
-        fx, dfx = g(xr), gp(xr)
+        # f at x is the bracket end's value the refinement already has (no second call)
+        fx, dfx = np.where(nearer, flo, fhi)[ir], gp(xr)
         with np.errstate(all="ignore"):
             xn = xr - fx / dfx
         ok = np.isfinite(dfx) & (dfx != 0) & np.isfinite(fx) & (fx != 0)
@@ -197,10 +286,8 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     ir = np.flatnonzero(root)
     # (plain Python lists: indexing numpy arrays per root costs more than the roots' records)
     found = [
-        _Found(xi, True, hw, bracket=(b0, b1), run=functools.partial(_brent_record, g, row, xtol))
-        for xi, hw, b0, b1, row in zip(x[ir].tolist(), [how[i] for i in ir.tolist()],
-                                       br[ir, 0].tolist(),
-                                       br[ir, 1].tolist(), br[ir], strict=True)
+        _Found(xi, True, how[i], (row[0], row[1]), functools.partial(_brent_record, g, row, xtol))
+        for xi, i, row in zip(x[ir].tolist(), ir.tolist(), br[ir].tolist(), strict=True)
     ]
     poles: list[float] = []
     jumps: list[float] = []
@@ -233,7 +320,7 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     return found, poles, jumps, undefined
 
 
-def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
+def _brent_record(g: _Guarded, row: list[float] | np.ndarray, xtol: float) -> Run | None:
     """The project's Brent on one sample bracket (its ends' f values already known)."""
     known = {float(row[0]): float(row[2]), float(row[1]): float(row[3])}
 
@@ -248,13 +335,14 @@ def _brent_record(g: _Guarded, row: np.ndarray, xtol: float) -> Run | None:
         return None
 
 
-def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
+def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi, where: bool = False):
     """Least value a convex function through the four points lo < c < d < hi can take on
     [lo, hi] (-inf where the four values are not convex: slopes must not decrease).
 
     A convex function lies above every chord's extension beyond the chord: on [lo, c] and
     [d, hi] above the line through c and d, on [c, d] above both the line through lo, c
-    and the one through d, hi (their meeting point, or an end of [c, d]).
+    and the one through d, hi (their meeting point, or an end of [c, d]). With ``where``
+    also that meeting point x* in [c, d] and the lines' value there: (floor, x*, value).
     """
     with np.errstate(all="ignore"):
         s1, s2, s3 = (fc - flo) / (c - lo), (fd - fc) / (d - c), (fhi - fd) / (hi - d)
@@ -265,13 +353,23 @@ def _convex_floor(lo, c, d, hi, flo, fc, fd, fhi) -> np.ndarray:
         xs = np.clip(np.where(s3 > s1, (fd - fc + s1 * c - s3 * d) / (s1 - s3), c), c, d)
         middle = np.maximum(fc + s1 * (xs - c), fd + s3 * (xs - d))
         low = np.minimum(outer, middle)
-    return np.where(convex & np.isfinite(low), low, -np.inf)
+    floor = np.where(convex & np.isfinite(low), low, -np.inf)
+    return (floor, xs, middle) if where else floor
+
+
+_GOLDEN = (math.sqrt(5) - 1) / 2
+
+
+def _golden_start(lo: np.ndarray, hi: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The first two points of golden section on each [lo, hi]."""
+    return hi - _GOLDEN * (hi - lo), lo + _GOLDEN * (hi - lo)
 
 
 def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol: float,
             *, peak: bool = False, rel: float = 4 * EPS,
             ends: tuple[np.ndarray, np.ndarray] | None = None,
-            positive: np.ndarray | None = None):
+            positive: np.ndarray | None = None, limit: np.ndarray | None = None,
+            first: tuple[np.ndarray, np.ndarray] | None = None):
     """Vectorised golden-section minimisation of sign*f on each [lo, hi].
 
     Returns (xbest, fbest, crossed) where crossed marks searches that met a value of the
@@ -282,16 +380,32 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     once sign*f is convex through the bracket's four points and its convex floor
     (:func:`_convex_floor`) stays above half the least value found: a positive minimum,
     marked True in ``positive`` (a bool array of the rows' length, filled in place).
+    With ``peak`` and ``limit`` (-2 |f| sampled at each peak) a row stops, marked in
+    ``positive``, once |f| is concave through the four points, its ceiling (minus the
+    convex floor of -|f|) stays below twice the sampled peak, and |f| at the point x*
+    where the two outer chords meet lies strictly below them: a bounded peak, which the
+    pole test (twice the sampled peak, or infinite) can never call a pole, so locating
+    its top to sqrt(eps) would be work for nothing. Why no pole passes: |f| near a pole
+    (1/|x - c|^k, ln|x - c|, on any offset) is convex on each side of it. A pole in
+    [lo, c] or [d, hi] leaves three of the points on one convex side, and the four values
+    are not concave. A pole in (c, d) can make them look concave, but then x* lies on one
+    side of it, where the convex |f| is on or above the extension of that side's chord
+    beyond it: |f(x*)| is at least the chords' value there, and the strict test fails.
+    ``first``: the objective already evaluated at the first two points
+    (:func:`_golden_start`), when the caller asked f for them with other points.
     """
 
     def objective(v: np.ndarray, s: np.ndarray) -> np.ndarray:
         return -np.abs(g(v)) if peak else s * g(v)
 
-    r = (math.sqrt(5) - 1) / 2
+    r = _GOLDEN
     lo, hi = lo.copy(), hi.copy()
-    c = hi - r * (hi - lo)
-    d = lo + r * (hi - lo)
-    fc, fd = objective(c, sign), objective(d, sign)
+    c, d = _golden_start(lo, hi)
+    if first is not None:
+        fc, fd = first[0].astype(float), first[1].astype(float)
+    else:
+        # (both first points in one call of f: each call costs f's whole overhead)
+        fc, fd = objective(np.concatenate([c, d]), np.concatenate([sign, sign])).reshape(2, -1)
     xbest = np.where(fc <= fd, c, d)
     fbest = np.minimum(fc, fd)
     crossed = (fbest < 0) if not peak else np.zeros(len(lo), dtype=bool)
@@ -304,9 +418,17 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
             break
         g.check()
         if ends is not None and positive is not None:
-            floor = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act], fc[act],
-                                  fd[act], fhi[act])
-            sure = floor > 0.5 * fbest[act]
+            floor, xs, middle = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act],
+                                              fc[act], fd[act], fhi[act], where=True)
+            if limit is None:
+                sure = floor > 0.5 * fbest[act]
+            else:
+                sure = floor > limit[act]
+                if sure.any():
+                    # the probe at x*: -|f| there strictly above the chords' value (the
+                    # objective is -|f|), as it is for a concave |f| and never beside a pole
+                    probe = np.flatnonzero(sure)
+                    sure[probe] = objective(xs[probe], sign[act[probe]]) > middle[probe]
             if sure.any():
                 positive[act[sure]] = True
                 active[act[sure]] = False

@@ -182,6 +182,35 @@ def _noise_beside(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
     return np.where(np.isfinite(level), level, 0.0)
 
 
+def _ramp_points(x: np.ndarray, scale: float) -> np.ndarray:
+    """Per point x (rows): x and 3 steps of about one ulp either side, then x -/+ 64 ulps:
+    what :func:`_ramp_clean` judges."""
+    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    step = 2 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    return np.concatenate([x[:, None] + step[:, None] * _ULPS[None, :], (x - d0)[:, None],
+                           (x + d0)[:, None]], axis=1)
+
+
+def _ramp_clean(vals: np.ndarray) -> np.ndarray:
+    """Whether f (rows of values at :func:`_ramp_points`) is a clean ramp there.
+
+    A clean point: f a ramp over a few ulps (first differences of one sign), whose noise
+    there (the second differences of 7 values, sigma^2 ~ mean(d2^2) / 6) is so small that
+    |f| at 64 ulps stands 4x beyond the 8 standard deviations of the noise-band test: not
+    noisy, and no noise estimate (36 evaluations per point) is needed.
+    """
+    # (slices and ufunc reductions: np.diff, np.mean and the like cost several times more
+    # per call, and every root of a scan with few roots comes through here)
+    ramp = vals[:, : len(_ULPS)]
+    d1 = ramp[:, 1:] - ramp[:, :-1]
+    d2 = d1[:, 1:] - d1[:, :-1]
+    up = np.logical_and.reduce(d1 > 0, axis=1)
+    down = np.logical_and.reduce(d1 < 0, axis=1)
+    near = np.abs(vals[:, len(_ULPS):])
+    spread = np.sqrt(np.add.reduce(d2 * d2, axis=1) / (d2.shape[1] * 6))
+    return (up | down) & (np.minimum.reduce(near, axis=1) > 4 * _NOISE_K * spread)
+
+
 def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
                  singular: np.ndarray | None = None, in_noise: np.ndarray | None = None):
     """For each candidate x: the stretch around it where |f| stays within ``_NOISE_K``
@@ -198,26 +227,15 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
     n = len(x)
     lo, hi = x.copy(), x.copy()
     sig = np.zeros(n)
-    # a clean point: f a ramp over a few ulps (first differences of one sign), whose noise
-    # there (the second differences of 7 values, sigma^2 ~ mean(d2^2) / 6) is so small that
-    # |f| at 64 ulps stands 4x beyond the 8 standard deviations of the test below: not
-    # noisy, and no noise estimate (36 evaluations per point) is needed
     d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
-    step = 2 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
-    pts = np.concatenate([x[:, None] + step[:, None] * _ULPS[None, :], (x - d0)[:, None],
-                          (x + d0)[:, None]], axis=1)
-    vals = g(pts.reshape(-1)).reshape(pts.shape)
-    d1 = np.diff(vals[:, : len(_ULPS)], axis=1)
-    d2 = np.diff(d1, axis=1)
-    up, down = (d1 > 0).all(axis=1), (d1 < 0).all(axis=1)
+    vals = g(_ramp_points(x, scale).reshape(-1)).reshape(n, -1)
+    clean = _ramp_clean(vals)
     near = np.abs(vals[:, len(_ULPS):])
-    clean = (up | down) & (np.min(near, axis=1) > 4 * _NOISE_K * np.sqrt(np.mean(d2 * d2, axis=1)
-                                                                       / 6))
     if singular is not None:
         clean &= ~singular
     if in_noise is not None:
         clean &= ~in_noise
-    if clean.all():
+    if np.count_nonzero(clean) == n:
         return np.zeros(n, dtype=bool), lo, hi, np.zeros(n)
     rest = np.flatnonzero(~clean)
     sig[rest] = _sigma(g, x[rest], scale)
@@ -300,7 +318,8 @@ def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.nd
 
 def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
                     runs: list[list[float]], notes: list[Detail], a: float, b: float,
-                    scale: float, typical: float, h: float, unsure: np.ndarray | None = None):
+                    scale: float, typical: float, h: float, unsure: np.ndarray | None = None,
+                    clean: np.ndarray | None = None):
     """Merge what rounding noise made of one root cluster into one root.
 
     A function evaluated with cancellation (an expanded polynomial) is noise near its
@@ -312,13 +331,19 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     across it). A lone clean root is left as it was. Rounding noise is small beside f's
     typical size (``typical``, the median sampled |f|): a "noise level" above 1e-3 of it is
     f itself varying faster than any step (sin(1/x) near 0), not rounding, and so is a
-    stretch that never ends inside [a, b]. Returns (roots, poles, jumps, runs,
-    bands) with ``bands`` the (lo, hi) stretches of the clusters.
+    stretch that never ends inside [a, b]. ``clean`` (per root, when given) marks the
+    roots already judged clean ramps (:func:`_ramp_clean`, evaluated with their
+    multiplicity ladder): :func:`_noise_bands` would find them so again, and they are not
+    examined twice. Returns (roots, poles, jumps, runs, bands) with ``bands`` the (lo, hi)
+    stretches of the clusters.
     """
     xs = ([r.x for r in roots] + list(poles) + list(jumps)
           + [0.5 * (u + v) for u, v in runs])
     if not xs:
         return roots, poles, jumps, runs, []
+    if (clean is not None and not (poles or jumps or runs) and bool(np.all(clean))
+            and not any("bracket_in_noise" in r.confirmed for r in roots)):
+        return roots, poles, jumps, runs, []  # every root a clean ramp: nothing to look at
     unsure = np.zeros(len(roots), dtype=bool) if unsure is None else unsure
     kind = np.array([0] * len(roots) + [1] * len(poles) + [2] * len(jumps) + [3] * len(runs))
     x = np.array(xs, dtype=float)
@@ -333,12 +358,16 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     crowded[order[1:][near]] = True
     look = crowded | (kind != 0) | (len(roots) <= _LOOK_ALL)
     look[: len(roots)] |= unsure
+    in_noise = np.zeros(len(x), dtype=bool)
+    in_noise[: len(roots)] = ["bracket_in_noise" in r.confirmed for r in roots]
+    if clean is not None:
+        # a clean ramp comes out of the noise bands as not noisy, stretch [x, x], level 0:
+        # exactly what a root not looked at keeps (a bracket closed in noise is measured)
+        look[: len(roots)] &= ~(clean & ~in_noise[: len(roots)])
     noisy = np.zeros(len(x), dtype=bool)
     lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))
     if look.any():
         il = np.flatnonzero(look)
-        in_noise = np.zeros(len(x), dtype=bool)
-        in_noise[: len(roots)] = ["bracket_in_noise" in r.confirmed for r in roots]
         nz, lo[il], hi[il], level[il] = _noise_bands(g, x[il], a, b, scale,
                                                      (kind[il] == 1) | (kind[il] == 2),
                                                      in_noise[il])

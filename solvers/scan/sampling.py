@@ -34,7 +34,12 @@ _MAX_LEVEL = 2  # at most 64x the base density
 _POLL = 0.02  # seconds of work between two polls of cancel()
 
 
+_FLOAT = np.dtype(float)
+
+
 def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
+    if type(y) is np.ndarray and y.dtype == _FLOAT and y.shape == shape:
+        return y  # (already what the scan needs: the usual case, no conversion)
     arr = np.asarray(y)
     if np.iscomplexobj(arr):
         arr = np.where(arr.imag == 0, arr.real, np.nan)
@@ -74,6 +79,8 @@ class _Guarded:
 
     def __call__(self, x: np.ndarray) -> np.ndarray:
         x = np.asarray(x, dtype=float)
+        if x.size == 0:  # (nothing to ask: a call of f costs its whole overhead even so)
+            return np.zeros(x.shape)
         self.calls += 1
         self.poll()
         try:
@@ -84,6 +91,19 @@ class _Guarded:
             for i, xi in enumerate(x.reshape(-1)):
                 flat[i] = self.scalar(float(xi))
             return out
+
+    def fast(self, x: float) -> float:
+        """:meth:`scalar` with its conversions skipped where f returns a real float already
+        (a compiled equation on a Python float, a numpy function on a number): the scalar
+        refinement's inner loop calls it."""
+        self.poll()
+        try:
+            y = self.f(x)
+        except Exception:  # noqa: BLE001 - undefined there; scalar() decides how
+            return self.scalar(x)
+        if isinstance(y, float):  # (numpy's float64 too)
+            return float(y)
+        return self.scalar(x)
 
     def scalar(self, x: float) -> float:
         """f at one point as a float (NaN when undefined, complex or raising)."""
@@ -135,6 +155,13 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     Written as a few full passes over the chunk that select a handful of indices,
     then exact tests on those few (most samples are nothing).
     """
+    # only [lo, hi) and 4 samples either side are read (the kink test reaches 3 away):
+    # between resampled windows a chunk is visited piece by piece, not whole each time
+    start, stop = max(lo - 4, 0), min(hi + 4, len(x))
+    if start > 0 or stop < len(x):
+        x, y = x[start:stop], y[start:stop]
+        yp = None if yp is None else yp[start:stop]
+        lo, hi = lo - start, hi - start
     n = len(x)
     if yp is not None:
         _detect_extrema(x, y, yp, lo, hi, out)
@@ -142,18 +169,26 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     last_pair = min(hi, n - 1)
     # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
     neg = np.signbit(y)
-    for k in np.flatnonzero(neg[:-1] != neg[1:]):
-        if lo <= k < last_pair:
-            yl, yr = y[k], y[k + 1]
-            # signs compared, not multiplied: a product of two tiny values underflows to 0
-            if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
-                out.brackets.append((float(x[k]), float(x[k + 1]), float(yl), float(yr)))
-            elif yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
-                # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
-                # between the last finite value and the overflow
-                fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
-                if not math.isnan(y[far]):
-                    out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
+    flips = (neg[:-1] != neg[1:]).nonzero()[0]
+    flips = flips[(flips >= lo) & (flips < last_pair)]
+    if flips.size:
+        # signs compared, not multiplied: a product of two tiny values underflows to 0
+        yl, yr = y[flips], y[flips + 1]
+        plain = (yl != 0) & (yr != 0) & np.isfinite(yl) & np.isfinite(yr)
+        k = flips[plain]
+        # (whole columns to Python floats at once: per-element numpy indexing costs more
+        # than the brackets' records when a fast oscillation gives hundreds)
+        out.brackets.extend(zip(x[k].tolist(), x[k + 1].tolist(), y[k].tolist(),
+                                y[k + 1].tolist(), strict=True))
+        flips = flips[~plain]
+    for k in flips:
+        yl, yr = y[k], y[k + 1]
+        if yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
+            # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
+            # between the last finite value and the overflow
+            fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
+            if not math.isnan(y[far]):
+                out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
     if not allfin:
         dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
         for k in np.flatnonzero(dfn[:-1] != dfn[1:]):
@@ -165,7 +200,7 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         for k in np.flatnonzero(np.isinf(y)):
             if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
                 out.inf_points.append(float(x[k]))
-    zero_idx = np.flatnonzero(y == 0)
+    zero_idx = (y == 0).nonzero()[0]
     for k in zero_idx:
         if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
             if y[k - 1] == 0 or y[k + 1] == 0:
@@ -177,10 +212,11 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     # local minima of |f| away from sign changes: |f| stops falling and starts rising
     if n < 3:
         return
-    da = np.diff(np.abs(y))
+    da = np.abs(y)
+    da = da[1:] - da[:-1]
     # sharp local maxima of |f| (a pole without a sign change, 1/(x-c)^2, ln|x-c|): at least
     # 10 % above the lower neighbour, where a resolved smooth peak is within a fraction of 1 %
-    p = np.flatnonzero((da[:-1] >= 0) & (da[1:] <= 0)) + 1
+    p = ((da[:-1] >= 0) & (da[1:] <= 0)).nonzero()[0] + 1
     p = p[(p >= max(lo, 1)) & (p < last_pair)]
     if p.size:
         ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
@@ -199,9 +235,12 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         kink = (d2 > 8 * np.minimum(far_l, far_r)) & (d2 > 1e-9 * ap)
         sharp &= (ap > 0) & ((ap >= 1.1 * np.minimum(al, ar)) | kink)
         sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
-        for kk in p[sharp]:
-            out.peaks.append((float(x[kk - 1]), float(x[kk]), float(x[kk + 1])))
-    k = np.flatnonzero((da[:-1] <= 0) & (da[1:] >= 0)) + 1
+        kk = p[sharp]
+        out.peaks.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
+                             strict=True))
+    if yp is not None and np.isfinite(yp).all():
+        return  # f' finite everywhere: every minimum below would be dropped (end of function)
+    k = ((da[:-1] <= 0) & (da[1:] >= 0)).nonzero()[0] + 1
     k = k[(k >= max(lo, 1)) & (k < last_pair)]
     if k.size == 0:
         return
@@ -229,11 +268,9 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         # with f' sampled, the extrema between samples (:func:`_detect_extrema`) stand in for
         # these minima wherever f' is finite at all three samples
         keep &= ~(np.isfinite(yp[k - 1]) & np.isfinite(yp[k]) & np.isfinite(yp[k + 1]))
-    for kk in k[keep]:
-        out.minima.append(
-            (float(x[kk - 1]), float(x[kk]), float(x[kk + 1]),
-             float(y[kk - 1]), float(y[kk]), float(y[kk + 1]))
-        )
+    kk = k[keep]
+    out.minima.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
+                          y[kk - 1].tolist(), y[kk].tolist(), y[kk + 1].tolist(), strict=True))
 
 
 def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: int,
@@ -255,8 +292,8 @@ def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: i
     sl = slice(lo, last_pair)
     y0, y1, d0, d1 = y[lo:last_pair], y[lo + 1:last_pair + 1], yp[sl], yp[lo + 1:last_pair + 1]
     s = np.where(np.signbit(y0), -1.0, 1.0)
-    k = np.flatnonzero((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
-                       & (s * d0 < 0) & (s * d1 > 0))
+    k = ((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
+         & (s * d0 < 0) & (s * d1 > 0)).nonzero()[0]
     if k.size == 0:
         return
     x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
@@ -273,9 +310,10 @@ def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: i
     margin = 1e3 * EPS * np.maximum(u0, u1)  # rounding of the values themselves
     safe = convex & np.isfinite(bound) & (bound > margin)
     out.proved += int(safe.sum())
-    for i in np.flatnonzero(~safe):
-        out.extrema.append((float(x0[i]), float(x0[i]), float(x1[i]),
-                            float(s[i] * u0[i]), float(s[i] * u0[i]), float(s[i] * u1[i])))
+    i = np.flatnonzero(~safe)
+    left, right = x0[i].tolist(), (s[i] * u0[i]).tolist()
+    out.extrema.extend(zip(left, left, x1[i].tolist(), right, right, (s[i] * u1[i]).tolist(),
+                           strict=True))
 
 
 def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
@@ -285,14 +323,16 @@ def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
     n = len(y)
     if n < 3 * _WINDOW:
         return np.zeros(0, dtype=int)
-    d = np.signbit(np.diff(y))
+    # (slices and ufuncs, not np.diff and friends: this runs on every chunk, and their
+    # wrappers cost as much as the arithmetic on a 2001-sample grid)
+    d = np.signbit(y[1:] - y[:-1])
     turn = d[1:] != d[:-1]
     nwin = (len(turn)) // _WINDOW
-    counts = turn[: nwin * _WINDOW].reshape(nwin, _WINDOW).sum(axis=1)
-    bad = np.flatnonzero(counts > _MAX_EXTREMA)
+    counts = np.add.reduce(turn[: nwin * _WINDOW].reshape(nwin, _WINDOW), axis=1, dtype=int)
+    bad = (counts > _MAX_EXTREMA).nonzero()[0]
     if yp is not None and x is not None:
         # (the last, partial window too: pair i lies in window i // _WINDOW)
-        pairs = np.flatnonzero(_inconsistent(x, y, yp)) // _WINDOW
+        pairs = _inconsistent(x, y, yp).nonzero()[0] // _WINDOW
         if pairs.size:
             bad = np.union1d(bad, pairs)
     return bad
@@ -311,11 +351,12 @@ def _inconsistent(x: np.ndarray, y: np.ndarray, yp: np.ndarray) -> np.ndarray:
     sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
     non-finite value are left to the other checks.
     """
-    h = np.diff(x)
-    dy = np.diff(y)
-    avg = 0.5 * h * (yp[:-1] + yp[1:])
-    scale_ = np.abs(dy) + 0.5 * h * (np.abs(yp[:-1]) + np.abs(yp[1:]))
-    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (np.abs(y[:-1]) + np.abs(y[1:]))
+    half = 0.5 * (x[1:] - x[:-1])
+    dy = y[1:] - y[:-1]
+    avg = half * (yp[:-1] + yp[1:])
+    ap, ay = np.abs(yp), np.abs(y)
+    scale_ = np.abs(dy) + half * (ap[:-1] + ap[1:])
+    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (ay[:-1] + ay[1:])
     return np.abs(dy - avg) > allow  # NaN compares False
 
 

@@ -32,8 +32,9 @@ from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.lines import Line, Reading, check_shadowing, read_lines
 from solvers.equation.parser import _is_bad
 from solvers.equation.record import _PASSES, _check_message, _validate_parameters
+from solvers.systems import units as system_units
 from solvers.systems.structure import Block, block_order
-from solvers.units import Measured
+from solvers.units import Converted, convert_parameters
 
 _FD_STEP = math.sqrt(np.finfo(float).eps)  # forward-difference step, relative (common practice)
 
@@ -47,7 +48,14 @@ class System:
     as symbols, definitions written out), ``jacobian_exprs`` (rows of sympy entries, or
     None), ``incidence`` (which unknowns each equation uses), ``blocks`` (the
     block-triangular order: (equation indices, unknown indices) solvable one after
-    another), ``parameters`` (name -> float).
+    another), ``parameters`` (name -> float, in SI base units when given with a unit).
+
+    Units: ``unknown_units`` (name -> the unit each unknown is given and returned in, or
+    None when it has none), ``parameter_units`` (the parameters given with a unit, as
+    entered and in SI), ``check_dimensions`` (whether the dimensional check was asked for;
+    it runs when any parameter or unknown has a unit) and ``remarks`` (codes, as for one
+    equation: ``dimensions_unchecked``, ``absolute_temperature``,
+    ``system_dimension_free``, ``unknown_dimension_fractional``).
 
     ``F(x)`` -> float array (n,), ``J(x)`` -> float array (n, n), ``x`` an array-like in
     the order of ``unknowns``: real arithmetic, NaN/inf where undefined, never raising on
@@ -68,6 +76,10 @@ class System:
     _symbols: tuple[Any, ...] = field(repr=False)
     _xs: tuple[Any, ...] = field(repr=False)
     _definition_exprs: tuple[Any, ...] = field(repr=False, default=())
+    unknown_units: Mapping[str, str | None] = field(default_factory=dict)
+    parameter_units: Mapping[str, Converted] = field(default_factory=dict)
+    check_dimensions: bool = True
+    remarks: tuple[Any, ...] = ()
     _cache: dict[str, Any] = field(default_factory=dict, repr=False)
 
     @property
@@ -227,23 +239,29 @@ def _run_checks(reading: Reading, unknowns: tuple[str, ...], symbols: tuple[Any,
 
 
 def parse_system(text: str, unknowns: Sequence[str] | None = None,
-                 parameters: Mapping[str, Any] | None = None) -> System:
+                 parameters: Mapping[str, Any] | None = None, *,
+                 unknown_units: Mapping[str, str | None] | None = None,
+                 check_dimensions: bool = True) -> System:
     """Read, check and compile a system of equations; see the module docstring.
 
-    ``parameters`` maps names to numbers (one number each; entries the text does not use are
-    ignored). ``unknowns``: the names to solve for, in the order of x; when omitted, every
-    name of the equations without a value, in order of first appearance. Raises
-    :class:`EquationError` (one line, with ``.position`` where it applies) for text that
-    does not parse, a bad definition, more or fewer equations than unknowns (saying
-    which), an equation with none of the unknowns, an unknown in no equation, or a part
-    with no finite real value for the parameter values.
+    ``parameters`` maps names to numbers, or to numbers with a unit (``"150 mm"``,
+    :class:`solvers.units.Measured`, a pair ``(0.15, "m")``), converted once to SI base
+    units here (one value each; entries the text does not use are ignored). ``unknowns``:
+    the names to solve for, in the order of x; when omitted, every name of the equations
+    without a value, in order of first appearance. ``unknown_units`` (name -> unit text)
+    chooses the unit an unknown's start value and root are in; the others are in the SI
+    unit of the dimension the equations imply. When any parameter or unknown has a unit,
+    every line is checked dimensionally (both sides, every term of a sum, dimensionless
+    function arguments and exponents) unless ``check_dimensions`` is False.
+
+    Raises :class:`EquationError` (one line, with ``.position`` where it applies) for text
+    that does not parse, a bad definition, more or fewer equations than unknowns (saying
+    which), an equation with none of the unknowns, an unknown in no equation, a part
+    with no finite real value for the parameter values, a unit that does not read, a
+    dimensional mismatch (naming the part as typed, the two dimensions, the line and
+    column) or an unknown's unit that does not fit the dimension the equations imply.
     """
-    for name, value in (parameters or {}).items():
-        if isinstance(value, (str, tuple, Measured)):
-            # units are converted and checked for one equation (solvers.units); a system
-            # takes plain numbers until that check covers several equations
-            raise EquationError(f"parameter {name!r} has a unit: a system takes plain numbers "
-                                "(in consistent units) for now")
+    parameters, converted = convert_parameters(parameters)
     values = _validate_parameters(parameters)
     for name, value in values.items():
         if value.__class__ is not float:
@@ -253,6 +271,7 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
     reading = read_lines(text, _classifier(values, given))
     check_shadowing(reading, values, given or ())
     chosen = _choose_unknowns(reading, given, values)
+    chosen_units = system_units.read_unknown_units(unknown_units, chosen)
     if not reading.equations:
         raise EquationError("no equation: every line is a definition")
     if len(reading.equations) != len(chosen):
@@ -261,6 +280,11 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
     param_names = tuple(n for n in reading.names if n not in chosen)
     symbols = tuple(sp.Symbol(n, real=True) for n in param_names)
     bound = tuple(values[n] for n in param_names)
+    units = system_units.resolve(reading, xs, dict(zip(param_names, symbols, strict=True)),
+                                 converted, chosen_units, check_dimensions)
+    # each unknown in its unit: x_SI = scale*x + offset, constants compiled in once
+    in_si = {x: units.conversions[x.name][0] * x + units.conversions[x.name][1]
+             for x in xs if x.name in units.conversions}
     exprs = []
     for eq in reading.equations:
         expr = floatify_big(eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr)
@@ -270,7 +294,7 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
         if not expr.free_symbols & set(xs):
             raise reading.numbered(_fail(text, "this equation holds none of the unknowns ("
                                          + ", ".join(chosen) + ")", eq.start))
-        exprs.append(expr)
+        exprs.append(expr.xreplace(in_si) if in_si else expr)
     incidence = tuple(tuple(x in e.free_symbols for x in xs) for e in exprs)
     for j, name in enumerate(chosen):
         if not any(row[j] for row in incidence):
@@ -294,4 +318,8 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
         incidence=incidence, blocks=block_order(incidence),
         parameters=dict(zip(param_names, bound, strict=True)),
         _f_code=f_code, _j_code=j_code, _symbols=symbols, _xs=xs,
-        _definition_exprs=tuple(d.expr for d in reading.definitions))
+        _definition_exprs=tuple(d.expr.xreplace(in_si) if in_si else d.expr
+                                for d in reading.definitions),
+        unknown_units=units.units,
+        parameter_units={n: c for n, c in converted.items() if n in param_names},
+        check_dimensions=bool(check_dimensions), remarks=units.remarks)

@@ -28,7 +28,8 @@ def system_of(ws: Worksheet) -> System:
     if ws.system is None:
         raise ValueError("the worksheet holds one equation, not a system")
     return parse_system(ws.equation, [u.name for u in ws.system.unknowns],
-                        ws.parameter_values())
+                        ws.parameter_values(), unknown_units=ws.system.units(),
+                        check_dimensions=ws.dimension_check)
 
 
 def solve_worksheet(ws: Worksheet, system: System | None = None) -> SystemSolution:

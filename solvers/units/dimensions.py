@@ -10,10 +10,13 @@ Rules (every parameter without a unit, and every plain number, is dimensionless)
   constant is dimensionless too; ``abs`` keeps its argument's dimension;
 * a constant exponent multiplies the base's dimension (``D^2``, ``R^(2/3)``, ``Q^1.85``).
 
-The unknown's dimension is solved for: dimensions are vectors of exponents, so each rule
-that involves the unknown is a linear equation in its vector; the first rule that fixes it
-(in the order the parser completed the parts of the text) gives it, and then every rule is
-checked with it. Parts are located in the text by the spans the parser recorded, so a
+The unknowns' dimensions are solved for: dimensions are vectors of exponents, so each rule
+that involves unknowns is a linear equation in their vectors. The rules are noted in the
+order the parser completed the parts of the text (over every line of a system) and solved
+together (Gauss-Jordan over exact fractions): an unknown is fixed by the first part that
+determines it, one the rules leave open is dimensionless, and then every rule is checked
+with those dimensions. One equation is the case of one unknown.
+Parts are located in the text by the spans the parser recorded, so a
 mismatch names the part as typed and its column, whatever order sympy keeps terms in.
 """
 
@@ -33,10 +36,9 @@ from solvers.units.reading import Dimension, dimension_words
 # Exponents are exact fractions here (a double exponent such as 1.85 is read as 37/20), so
 # Q^1.85 with Q's dimension solved from it gives back exactly Q's dimension.
 _Exact = tuple[tuple[str, Fraction], ...]
-# A dimension while the unknown's is open: (base exponents, power of the unknown).
-_Dim = tuple[_Exact, Fraction]
+# A dimension while the unknowns' are open: (base exponents, power of each unknown).
+_Dim = tuple[_Exact, tuple[Fraction, ...]]
 _ZERO = Fraction(0)
-_ONE: _Dim = ((), _ZERO)
 
 
 def _fraction(v: Any) -> Fraction | int:
@@ -69,11 +71,11 @@ def _scale(a: _Exact, s: Fraction) -> _Exact:
 
 
 def _mul(a: _Dim, b: _Dim) -> _Dim:
-    return _combine(a[0], b[0]), a[1] + b[1]
+    return _combine(a[0], b[0]), tuple(x + y for x, y in zip(a[1], b[1], strict=True))
 
 
 def _pow(a: _Dim, s: Fraction) -> _Dim:
-    return _scale(a[0], s), a[1] * s
+    return _scale(a[0], s), tuple(x * s for x in a[1])
 
 
 class _Conflict(Exception):
@@ -98,10 +100,20 @@ def _function_name(expr: Any) -> str:
 
 
 class _Walker:
-    """Dimensions of sympy expressions, memoised; raises _Conflict at the first broken rule."""
+    """Dimensions of sympy expressions, memoised.
 
-    def __init__(self, symbols: Mapping[Any, _Dim]):
+    With ``record`` None a broken rule raises _Conflict at once; with a list, each broken
+    rule is noted there as (conflict, where) and the walk goes on with the first of the two
+    dimensions (the later rules then hold whenever the noted one does): the noted rules are
+    linear equations in the unknowns' dimensions, solved together afterwards.
+    """
+
+    def __init__(self, symbols: Mapping[Any, _Dim], one: _Dim,
+                 record: list[tuple[_Conflict, tuple[int, int]]] | None = None):
         self.symbols = symbols
+        self.one = one
+        self.record = record
+        self.where = (0, 0)  # the part being walked (where a noted rule stands)
         self.memo: dict[Any, _Dim] = {}
 
     def __call__(self, expr: Any) -> _Dim:
@@ -110,39 +122,44 @@ class _Walker:
             hit = self.memo[expr] = self._dimension(expr)
         return hit
 
-    @staticmethod
-    def _same(rule: str, dims: Sequence[_Dim], function: str = "",
+    def differ(self, conflict: _Conflict) -> None:
+        if self.record is None:
+            raise conflict
+        self.record.append((conflict, self.where))
+
+    def _same(self, rule: str, dims: Sequence[_Dim], function: str = "",
               args: Sequence[Any] = ()) -> _Dim:
         first = dims[0]
         for i, d in enumerate(dims[1:], 1):
             if d != first:
                 terms = (args[0], args[i]) if args else None
-                raise _Conflict(rule, first, d, function, terms)
+                self.differ(_Conflict(rule, first, d, function, terms))
         return first
 
     def _dimension(self, expr: Any) -> _Dim:
+        one = self.one
         if expr.is_Number or expr.is_NumberSymbol:
-            return _ONE
+            return one
         if expr.is_Symbol:
-            return self.symbols.get(expr, _ONE)
+            return self.symbols.get(expr, one)
         if expr.is_Add:
             return self._same("add", [self(a) for a in expr.args], args=expr.args)
         if expr.is_Mul:
-            out = _ONE
+            out = one
             for a in expr.args:
                 out = _mul(out, self(a))
             return out
         if expr.is_Pow:
             base, exponent = expr.args
             d_exp = self(exponent)
-            if d_exp != _ONE:
-                raise _Conflict("exponent", d_exp, _ONE)
+            if d_exp != one:
+                self.differ(_Conflict("exponent", d_exp, one))
             if exponent.is_Number:
                 return _pow(self(base), _fraction(exponent))
             d_base = self(base)
-            if d_base != _ONE:
-                raise _Conflict("base", d_base, _ONE)
-            return _ONE
+            if d_base != one:
+                self.differ(_Conflict("base", d_base, one))
+            return one
         if isinstance(expr, _SAME_AS_ARGUMENT):
             return self(expr.args[0])
         if isinstance(expr, _ARGUMENTS_ALIKE):
@@ -150,15 +167,15 @@ class _Walker:
         if isinstance(expr, _ANY_ARGUMENT):
             for a in expr.args:
                 self(a)
-            return _ONE
+            return one
         if isinstance(expr, sp.atan2):
             self._same("compare", [self(a) for a in expr.args], "atan2")
-            return _ONE
+            return one
         for a in expr.args:  # exp, ln, log10, log2, trigonometric, hyperbolic, ...
             d = self(a)
-            if d != _ONE:
-                raise _Conflict("argument", d, _ONE, _function_name(expr))
-        return _ONE
+            if d != one:
+                self.differ(_Conflict("argument", d, one, _function_name(expr)))
+        return one
 
 
 @dataclass(frozen=True)
@@ -171,14 +188,6 @@ class Outcome:
     dimension: Dimension
     fixed: bool
     where: tuple[int, int] | None
-
-
-def _solve(conflict: _Conflict) -> _Exact | None:
-    """The unknown's dimension that makes the conflict's two sides equal, if it is open."""
-    (a, ka), (b, kb) = conflict.a, conflict.b
-    if ka == kb:
-        return None
-    return _scale(_combine(b, a, Fraction(-1)), 1 / (ka - kb))
 
 
 def _typed_order(conflict: _Conflict, positions: Mapping[Any, int]) -> tuple[_Dim, _Dim]:
@@ -219,7 +228,8 @@ def check(text: str, spans: Sequence[tuple[Any, int, int]],
           dimensions: Mapping[Any, Dimension], given: Dimension | None,
           unknown_name: str, given_text: str | None,
           names_at: Mapping[Any, int] | None = None) -> Outcome:
-    """Check the equation's dimensions and find the unknown's.
+    """Check one equation's dimensions and find its unknown's (:func:`check_system` with
+    one equation and one unknown).
 
     ``spans``: (sympy expression, start, end) of each part the parser built, innermost
     first; ``sides``: the lhs and rhs expressions (rhs None for ``expr = 0``) and
@@ -230,59 +240,176 @@ def check(text: str, spans: Sequence[tuple[Any, int, int]],
     equation implies, naming the unit and the part that implies it. ``names_at``: symbol
     -> where it is first typed (orders a sum's two dimensions as typed in messages).
     """
-    lhs, rhs, (start, equals, end) = sides
+    chosen = {} if given is None else {unknown: (given, given_text or "")}
+    return check_system(text, spans, (sides,), (unknown,), dimensions, chosen, names_at)[0]
+
+
+class _Rows:
+    """The noted rules as linear equations sum_j c_j X_j = r in the unknowns' dimension
+    vectors X_j, kept reduced (Gauss-Jordan over exact fractions), one rule at a time."""
+
+    def __init__(self, n: int):
+        self.n = n
+        self.rows: list[tuple[int, list[Fraction], dict[str, Fraction]]] = []
+
+    @staticmethod
+    def _less(r: dict[str, Fraction], q: Mapping[str, Fraction], f: Fraction
+              ) -> dict[str, Fraction]:
+        out = dict(r)
+        for k, v in q.items():
+            out[k] = out.get(k, _ZERO) - f * v
+        return {k: v for k, v in out.items() if v != 0}
+
+    def add(self, coeffs: Sequence[Fraction], rhs: _Exact) -> bool:
+        """Add a rule; False when it contradicts the rules before it."""
+        c = [Fraction(v) for v in coeffs]
+        r: dict[str, Fraction] = {k: Fraction(v) for k, v in rhs}
+        for p, pc, pr in self.rows:
+            f = c[p]
+            if f:
+                c = [x - f * y for x, y in zip(c, pc, strict=True)]
+                r = self._less(r, pr, f)
+        pivot = next((j for j, v in enumerate(c) if v), None)
+        if pivot is None:
+            return not r
+        f = c[pivot]
+        c = [v / f for v in c]
+        r = {k: v / f for k, v in r.items()}
+        rows = []
+        for p, pc, pr in self.rows:
+            g = pc[pivot]
+            if g:
+                pc = [x - g * y for x, y in zip(pc, c, strict=True)]
+                pr = self._less(pr, r, g)
+            rows.append((p, pc, pr))
+        rows.append((pivot, c, r))
+        self.rows = rows
+        return True
+
+    def determined(self) -> dict[int, _Exact]:
+        """The unknowns the rules fix whatever the others' dimensions, and their values."""
+        return {p: tuple(sorted(pr.items())) for p, pc, pr in self.rows
+                if all(v == 0 for j, v in enumerate(pc) if j != p)}
+
+    def solution(self) -> list[_Exact]:
+        """One solution: every unknown the rules leave open dimensionless."""
+        out: list[_Exact] = [() for _ in range(self.n)]
+        for p, _pc, pr in self.rows:
+            out[p] = tuple(sorted(pr.items()))
+        return out
+
+
+def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
+                 sides: Sequence[tuple[Any, Any | None, tuple[int, int, int]]],
+                 unknowns: Sequence[Any], dimensions: Mapping[Any, Dimension],
+                 given: Mapping[Any, tuple[Dimension, str]],
+                 names_at: Mapping[Any, int] | None = None) -> tuple[Outcome, ...]:
+    """Check the dimensions of equations that share unknowns, and find each unknown's.
+
+    ``spans``: every part of every line (definitions too) as (sympy expression, start,
+    end), innermost first; ``sides``: each equation's (lhs, rhs or None, (start, '='
+    position, end)); ``unknowns``: their sympy Symbols; ``dimensions``: symbol -> dimension
+    of every parameter with a unit (others are dimensionless); ``given``: unknown symbol ->
+    (dimension, unit text) for the unknowns whose unit the user chose.
+
+    Every rule involving unknowns is a linear equation in their dimension vectors; the
+    rules are taken in the order the parts stand in the text and solved together, so an
+    unknown is fixed by the first part that (with the parts before it) determines it. An
+    unknown the rules leave open is dimensionless (``Outcome.fixed`` False). Raises
+    :class:`EquationError` naming the part as typed, the two dimensions and its column
+    (with which unknowns' dimensions made it so, and where they were fixed); or, when a
+    chosen unit does not fit, naming the unit and the part that implies another dimension.
+    Returns one :class:`Outcome` per unknown, in order.
+    """
     parts = list(spans)
     positions: dict[Any, int] = dict(names_at or {})
     for expr, a, _b in parts:
         positions.setdefault(expr, a)
-    given_exact = None if given is None else _exact(given)
-    side_conflicts = rhs is not None and not (rhs.is_Number and rhs == 0)
+    n = len(unknowns)
+    none = tuple(_ZERO for _ in range(n))
+    one: _Dim = ((), none)
 
-    def run(x_dim: _Dim) -> tuple[_Conflict, tuple[int, int]] | None:
-        symbols: dict[Any, _Dim] = {s: (_exact(d), _ZERO) for s, d in dimensions.items()}
-        symbols[unknown] = x_dim
-        walk = _Walker(symbols)
+    def run(x_dims: Mapping[Any, _Dim], record: list | None = None
+            ) -> tuple[_Conflict, tuple[int, int]] | None:
+        symbols: dict[Any, _Dim] = {s: (_exact(d), none) for s, d in dimensions.items()}
+        symbols.update(x_dims)
+        walk = _Walker(symbols, one, record)
         for expr, a, b in parts:
+            walk.where = (a, b)
             try:
                 walk(expr)
             except _Conflict as c:
                 return c, (a, b)
-        try:
-            dl = walk(lhs)
-            if side_conflicts:
-                dr = walk(rhs)
-                if dl != dr:
-                    raise _Conflict("sides", dl, dr)
-        except _Conflict as c:
-            return c, (start, end)
+        for lhs, rhs, (start, _equals, end) in sides:
+            walk.where = (start, end)
+            try:
+                dl = walk(lhs)
+                # "= 0" fits a side of any dimension (the parser gives 0.0: Float, not Integer)
+                if rhs is not None and not (rhs.is_Number and rhs.is_zero):
+                    dr = walk(rhs)
+                    if dl != dr:
+                        walk.differ(_Conflict("sides", dl, dr))
+            except _Conflict as c:
+                return c, (start, end)
         return None
 
-    open_found = run(((), Fraction(1)))
-    fixed: _Exact | None = None
-    where = None
-    if open_found is not None:
-        conflict, where = open_found
-        fixed = _solve(conflict)
-        if fixed is None:  # a mismatch whatever the unknown's dimension
-            _raise(text, conflict, where, positions)
-    if fixed is not None and given_exact is not None and fixed != given_exact:
-        part = snippet(text, *where)
-        raise _fail(text, f"the unknown unit '{given_text}' does not fit '{unknown_name}': "
-                    f"`{part}` makes it {dimension_words(_plain(fixed))}, not "
-                    f"{dimension_words(given)}", where[0])
-    x_dim = fixed if fixed is not None else (given_exact or ())
-    if open_found is None:
-        # no rule involved the unknown's dimension with a different power on each side, and
-        # every other rule held: they hold for any dimension of the unknown
-        return Outcome(_plain(x_dim), False, None)
-    found = run((x_dim, _ZERO))
-    if found is not None:
-        because = ""
-        if fixed is not None and where is not None and found[1] != where:
-            because = (f" (with '{unknown_name}' in {dimension_words(_plain(fixed))}, as "
-                       f"`{snippet(text, *where)}` makes it)")
-        _raise(text, found[0], found[1], positions, because)
-    return Outcome(_plain(x_dim), fixed is not None, where)
+    def fixed_run(values: Sequence[_Exact]) -> tuple[_Conflict, tuple[int, int]] | None:
+        return run({u: (values[j], none) for j, u in enumerate(unknowns)})
+
+    def unit_vector(j: int) -> tuple[Fraction, ...]:
+        return tuple(Fraction(int(i == j)) for i in range(n))
+
+    rules: list[tuple[_Conflict, tuple[int, int]]] = []
+    run({u: ((), unit_vector(j)) for j, u in enumerate(unknowns)}, rules)
+    given_exact = {unknowns.index(u): _exact(d) for u, (d, _t) in given.items()}
+    given_text = {unknowns.index(u): t for u, (_d, t) in given.items()}
+    rows = _Rows(n)
+    fixed_at: dict[int, tuple[int, int]] = {}
+    for conflict, where in rules:
+        (a, ka), (b, kb) = conflict.a, conflict.b
+        if not rows.add([x - y for x, y in zip(ka, kb, strict=True)],
+                        _combine(b, a, Fraction(-1))):
+            # a mismatch whatever the unknowns' dimensions the parts before allow
+            involved = [j for j in range(n) if ka[j] or kb[j]]
+            found = fixed_run(rows.solution())
+            if found is None or found[1] != where:
+                _raise(text, conflict, where, positions)
+            because = [(unknowns[j].name, rows.solution()[j], fixed_at[j]) for j in involved
+                       if j in fixed_at and fixed_at[j] != where]
+            _raise(text, found[0], where, positions, _because(text, because))
+        for j, value in rows.determined().items():
+            if j in fixed_at:
+                continue
+            fixed_at[j] = where
+            if j in given_exact and value != given_exact[j]:
+                raise _fail(text, f"the unknown unit '{given_text[j]}' does not fit "
+                            f"'{unknowns[j].name}': `{snippet(text, *where)}` makes it "
+                            f"{dimension_words(_plain(value))}, not "
+                            f"{dimension_words(_plain(given_exact[j]))}", where[0])
+    for j, value in given_exact.items():  # chosen units of the unknowns left open
+        if j not in fixed_at and not rows.add(unit_vector(j), value):
+            found = fixed_run([*rows.solution()[:j], value, *rows.solution()[j + 1:]])
+            if found is not None:
+                _raise(text, found[0], found[1], positions,
+                       f" (with '{unknowns[j].name}' in '{given_text[j]}')")
+            raise _fail(text, f"the unknown unit '{given_text[j]}' does not fit "
+                        f"'{unknowns[j].name}' with the units of the other unknowns", None)
+    # unknowns the chosen units settle through the rules (x - y with x in m: y in m too)
+    settled = set(rows.determined()) | set(given_exact)
+    values = rows.solution()
+    if rules:
+        found = fixed_run(values)
+        if found is not None:  # cannot happen when the rules hold: say so, never pass it
+            _raise(text, found[0], found[1], positions)
+    return tuple(Outcome(_plain(values[j]), j in fixed_at or j in settled, fixed_at.get(j))
+                 for j in range(n))
+
+
+def _because(text: str, fixed: Sequence[tuple[str, _Exact, tuple[int, int]]]) -> str:
+    """' (with 'Q' in m³/s, as `part` makes it)' for the unknowns a mismatch involves."""
+    said = [f"'{name}' in {dimension_words(_plain(value))}, as `{snippet(text, *where)}` "
+            "makes it" for name, value, where in fixed]
+    return f" (with {'; '.join(said)})" if said else ""
 
 
 def _raise(text: str, conflict: _Conflict, where: tuple[int, int],

@@ -118,6 +118,9 @@ def _read_cached(text: str) -> Unit:
         one = float(reg.Quantity(1.0, units).to_base_units().magnitude)
     except Exception:  # noqa: BLE001 - an offset unit pint will not convert: one line
         raise _refuse(text, "cannot be converted to SI base units") from None
+    for name, power in dimension:  # W^5 is s^-15: bound the dimension's powers too
+        if abs(power) > MAX_UNIT_EXPONENT:
+            raise _refuse(text, f"its power of {name} is beyond ±{MAX_UNIT_EXPONENT}")
     factor = one - zero
     if not (math.isfinite(zero) and math.isfinite(factor) and factor != 0.0):
         raise _refuse(text, "its size is beyond double precision")

@@ -12,7 +12,10 @@ scan range): the sheet never solves. It writes
   "page N of M" on every page;
 * optionally, in ``csv_dir``, ``<pdf stem>-runs.csv`` (every iterate) and
   ``<pdf stem>-roots.csv`` (the scan), written by :mod:`app.documents.export` from the
-  same ``Run`` and ``Scan`` objects, so the sheet and the CSV carry the same floats.
+  same ``Run`` and ``Scan`` objects, so the sheet and the CSV carry the same floats;
+* when handed a solved table of inputs or sweep (``table=``), a last section with its
+  summary, notes, rows (the first and last ten when long) and the design chart, and
+  ``<pdf stem>-table.csv`` with every row.
 
 Why reportlab
 -------------

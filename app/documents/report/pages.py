@@ -40,6 +40,7 @@ from app.documents.report.sections import (
     _title,
     _title_block,
 )
+from app.documents.report.table_section import table_section
 
 # --------------------------------------------------------------- page furniture
 
@@ -180,7 +181,7 @@ def _render(c: _Context) -> tuple[bytes, int]:
     )
     story: list[Flowable] = []
     for section in (_title_block, _equation_section, _settings_section, _results_section,
-                    _scan_section, _figures_section, _iterations_section):
+                    _scan_section, _figures_section, _iterations_section, table_section):
         story += section(c)
     pages: list[int] = []
     doc.build(story, canvasmaker=_canvas_maker(_furniture(c), pages))

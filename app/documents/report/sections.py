@@ -71,6 +71,7 @@ class _Context:
     when: datetime
     version: str
     st: dict
+    table: Any = None  # a solved table of inputs (app.documents.tables.TableResults)
 
 
 def _calc_number(ws: Worksheet) -> str:

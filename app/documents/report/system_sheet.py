@@ -74,6 +74,17 @@ def _title_of(solution: Any) -> Any:
         unknown=", ".join(solution.system.unknowns)))
 
 
+def _labelled(system: Any, name: str) -> str:
+    """``Q1 [L/s]``: an unknown with the unit its start value and root are in."""
+    unit = system.unknown_units.get(name)
+    return f"{name} [{unit}]" if unit else name
+
+
+def _parameter_value(p: Any, converted: Any) -> str:
+    """``150 mm (= 0.15 m)`` for a parameter with a unit, the number alone without."""
+    return words.measured_text(p.value, converted, _num)
+
+
 def _mono(text: str, st: dict, style: str = "cell") -> Paragraph:
     return Paragraph(f"<font name='ZT-Mono'>{_text(text)}</font>", st[style])
 
@@ -83,7 +94,17 @@ def _equations_section(c: _Context, sol: Any) -> list[Flowable]:
     rows: list[tuple[str, Any]] = [("As entered", _mono(c.ws.equation, st, "cellmono"))]
     rows.append(("Equations", [_mono(f"({i}) {t}", st) for i, t in
                                enumerate(system.equations, 1)]))
-    rows.append(("Unknowns", _mono(", ".join(system.unknowns), st)))
+    rows.append(("Unknowns", _mono(", ".join(_labelled(system, n) for n in system.unknowns),
+                                   st)))
+    unchecked = any(r.code == "dimensions_unchecked" for r in system.remarks)
+    if system.parameter_units or any(system.unknown_units.values()) or unchecked:
+        rows.append(("Dimensions", Paragraph(_text(
+            words.DIMENSIONS_UNCHECKED if unchecked else words.DIMENSIONS_CHECKED),
+            st["cell"])))
+    notes = [n for n in words.remarks_text(system.remarks)
+             if not n.startswith("dimensions ")]  # the switch has its own row above
+    if notes:
+        rows.append(("Notes", [Paragraph(_text(n), st["cell"]) for n in notes]))
     rows.append(("Definitions", _mono(", ".join(system.definitions), st) if system.definitions
                  else Paragraph("none", st["cell"])))
     out = [*_heading("1  Equations and definitions", st, "h1"), _key_value_table(rows, st),
@@ -95,8 +116,10 @@ def _equations_section(c: _Context, sol: Any) -> list[Flowable]:
     if not params:
         out.append(Paragraph("The equations have no named parameters.", st["body"]))
     else:
+        converted = system.parameter_units
         data = [["Name", "Value", "Note"]] + [
-            [_mono(p.name, st), Paragraph(escape(_num(p.value)), st["cellmono"]),
+            [_mono(p.name, st), Paragraph(escape(_parameter_value(p, converted.get(p.name))),
+                                          st["cellmono"]),
              Paragraph(_text(p.note), st["cell"])] for p in params]
         out.append(Table(data, colWidths=[30 * mm, 46 * mm, TEXT_WIDTH - 76 * mm],
                          repeatRows=1, hAlign="LEFT", style=TableStyle(_grid_style())))
@@ -116,8 +139,9 @@ def _settings_section(c: _Context, sol: Any) -> list[Flowable]:
     ]
     out = [*_heading("3  Settings and start values", st, "h1"), _key_value_table(rows, st),
            Spacer(1, 4)]
-    data = [["Unknown", "Start value"]] + [[_mono(u.name, st), _mono(_num(u.x0), st)]
-                                          for u in c.ws.system.unknowns]
+    data = [["Unknown", "Start value"]] + [
+        [_mono(_labelled(sol.system, u.name), st), _mono(_num(u.x0), st)]
+        for u in c.ws.system.unknowns]
     out.append(Table(data, colWidths=[40 * mm, 60 * mm], hAlign="LEFT",
                      style=TableStyle(_grid_style())))
     for m in c.ws.system.methods:
@@ -195,13 +219,15 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
 
     out += _heading("Root", st, "h2")
     out.append(grid(["Unknown", *titles],
-                    [[n, *(_num(r.root[n]) for r in runs)] for n in system.unknowns]))
+                    [[_labelled(system, n), *(_num(r.root[n]) for r in runs)]
+                     for n in system.unknowns]))
     out += _heading("Residual of each equation at the root", st, "h2")
     out.append(grid(["Equation", *titles],
                     [[f"({i + 1})", *(_num(r.residuals[i]) for r in runs)]
                      for i in range(len(system.equations))]))
     out.append(Paragraph("Each equation's left side minus its right side at the method's "
-                         "root, in double precision, in that equation's own units.",
+                         "root, in double precision, in that equation's own units (SI base "
+                         "units when parameters carry units).",
                          st["small"]))
     if system.definitions:
         values = [system.definition_values([r.root[n] for n in system.unknowns])
@@ -209,6 +235,8 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
         out += _heading("Definitions at the root", st, "h2")
         out.append(grid(["Name", *titles],
                         [[d, *(_num(v[d]) for v in values)] for d in system.definitions]))
+        if system.parameter_units or any(system.unknown_units.values()):
+            out.append(Paragraph("Defined quantities are in SI base units.", st["small"]))
     return out
 
 
@@ -227,7 +255,8 @@ def _figure_section(c: _Context, sol: Any) -> list[Flowable]:
 
 
 def _iteration_table(run: Any, system: Any, st: dict) -> list[Flowable]:
-    header = ["k", "block", *system.unknowns, "||F||", "||step||", "damping"]
+    header = ["k", "block", *(_labelled(system, n) for n in system.unknowns), "||F||",
+              "||step||", "damping"]
     steps = list(run.steps)
     omitted = 0
     if len(steps) > MAX_TABLE_ROWS:

@@ -11,7 +11,7 @@ from datetime import datetime, timezone
 from pathlib import Path
 from typing import Any
 
-from app.documents import export
+from app.documents import export, tables
 from app.documents.files import FileRefused, check_writable, read_limited, write_group
 from app.documents.report.layout import (
     ReportError,
@@ -115,6 +115,7 @@ def write_report(
     worksheet_path: str | os.PathLike[str] | None = None,
     overwrite: bool = False,
     progress: Callable[[float], None] | None = None,
+    table: Any = None,
 ) -> ReportResult:
     """Write the calculation sheet of ``ws`` to ``pdf_path`` (and its CSVs to ``csv_dir``).
 
@@ -125,7 +126,10 @@ def write_report(
     ``worksheet_path`` names the file in the title block and is
     hashed (SHA-256 of its bytes); without it the canonical worksheet JSON is
     hashed and the sheet says so. ``progress(fraction)`` is called with values
-    from 0 to 1 from the calling thread.
+    from 0 to 1 from the calling thread. ``table`` (an
+    :class:`app.documents.tables.TableResults` of the same equation, solved by its caller)
+    adds a section with the table of results and the design chart, and
+    ``<pdf stem>-table.csv`` with every row beside the sheet.
 
     Raises :class:`ReportError` for an output path that cannot be written or that
     exists while ``overwrite`` is False (checked before any work). A method that did
@@ -141,7 +145,7 @@ def write_report(
     created: list[Path] = []
     try:
         result = _write_report(ws, pdf, csv_dir, worksheet_path, overwrite, solution, scan,
-                               report, created)
+                               report, created, table)
     except BaseException:
         _remove_empty(created)  # all or nothing: not even an empty CSV folder is left
         raise
@@ -150,7 +154,8 @@ def write_report(
 
 def _write_report(ws: Worksheet, pdf: Path, csv_dir: Any, worksheet_path: Any,
                   overwrite: bool, solution: Any, scan: Any,
-                  report: Callable[[float], None], created: list[Path]) -> ReportResult:
+                  report: Callable[[float], None], created: list[Path],
+                  table: Any = None) -> ReportResult:
     csv_targets: list[Path] = []
     if csv_dir is not None:
         folder = Path(csv_dir)
@@ -158,6 +163,8 @@ def _write_report(ws: Worksheet, pdf: Path, csv_dir: Any, worksheet_path: Any,
         names = [f"{pdf.stem}-runs.csv"]
         if scan is not None:
             names.append(f"{pdf.stem}-roots.csv")
+        if table is not None:
+            names.append(f"{pdf.stem}-table.csv")
         csv_targets = [_check_target(folder / name, overwrite) for name in names]
     file_name, sha, basis = _worksheet_identity(ws, worksheet_path)
     report(0.0)
@@ -165,7 +172,7 @@ def _write_report(ws: Worksheet, pdf: Path, csv_dir: Any, worksheet_path: Any,
     context = _Context(
         ws=ws, solution=solution, scan=scan, file_name=file_name, sha256=sha,
         hash_basis=basis, when=datetime.now(timezone.utc), version=export.tool_version(),
-        st=_styles(),
+        st=_styles(), table=table,
     )
     data, pages = _render(context)
     report(0.9)
@@ -179,6 +186,12 @@ def _write_report(ws: Worksheet, pdf: Path, csv_dir: Any, worksheet_path: Any,
         text = io.StringIO()
         if target.name.endswith("-runs.csv"):
             export.runs_csv(solution.runs, text, meta=meta)
+        elif target.name.endswith("-table.csv"):
+            batch = table.done.batch
+            tables.results_csv(batch, table.headers, table.cells, text, meta={
+                **meta, "settings": "; ".join(f"{k}={v}" for k, v in
+                                              {"method": batch.method,
+                                               **batch.settings}.items())})
         else:
             export.roots_csv(scan, text, meta=meta)
         files.append((target, text.getvalue().encode("utf-8")))

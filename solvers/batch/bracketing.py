@@ -1,0 +1,322 @@
+"""Bisection, false position, Illinois and Brent over arrays: every row keeps its own
+bracket and its own stop.
+
+The element-wise form of :mod:`solvers.methods.bracketing` and
+:mod:`solvers.methods.brent`: the same start-up (ends not finite, an end's exact zero
+checked for underflow, ``|f| <= ftol``, no sign change), the same iterate formulas and the
+same verdict on a bracket that closed (root, jump or pole: :func:`closed_verdict`). Rows
+that stop leave the work at once, so a row that needs 60 bisections never slows the rows
+that needed 8 Brent steps. Updates that touch few rows (a swap of ends, a new
+contrapoint) are written in place on those rows only.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from solvers.batch.rows import (
+    EXACT,
+    F_TOL,
+    MAX_IT,
+    NO_SIGN,
+    NOT_FIN,
+    Work,
+    carried,
+    closed_verdict,
+    iterate_zero,
+    mark,
+    same_sign,
+    zero_is_root,
+)
+from solvers.methods.common import _TINY
+
+
+def start_brackets(w: Work, s: dict[str, Any]) -> None:
+    """Evaluate both ends of every row's bracket (``w.a``, ``w.b``); stop the rows they
+    settle. Leaves ``w.fa``, ``w.fb`` (an end whose f underflowed to 0.0 carried as
+    -+tiny, the sign opposite to the other end's) and the bracket as given in
+    ``w.kept`` (a0, fa0, b0, fb0); ``w.tiny`` says whether any end was carried."""
+    xtol, rtol, ftol = s["xtol"], s["rtol"], s["ftol"]
+    nan = np.full(w.size, np.nan)
+    w.stop(~(np.isfinite(w.a) & np.isfinite(w.b)), NOT_FIN, nan, nan)
+    w.tiny = False
+    if not w.size:
+        return
+    w.fa = w.f(w.a)
+    w.fb = w.f(w.b)
+    w.stop(~(np.isfinite(w.fa) & np.isfinite(w.fb)), NOT_FIN, w.a, w.fa)
+    w.keep(a0=w.a, b0=w.b, fa0=w.fa, fb0=w.fb)
+    under_a = np.zeros(w.size, dtype=bool)
+    under_b = np.zeros(w.size, dtype=bool)
+    for x, fx, under in (("a", "fa", under_a), ("b", "fb", under_b)):
+        zero = np.flatnonzero(getattr(w, fx) == 0.0)
+        if zero.size:
+            at = getattr(w, x)[zero]
+            verdict = zero_is_root(w, zero, at, xtol + rtol * np.abs(at))
+            under[zero[~verdict]] = True
+            code = w.codes()
+            code[zero[verdict]] = EXACT
+            w.finish(code, getattr(w, x), getattr(w, fx))
+            keep = np.ones(code.size, dtype=bool)
+            keep[zero[verdict]] = False
+            under_a, under_b = under_a[keep], under_b[keep]
+            under = under_a if x == "a" else under_b
+    both = (under_a & under_b) | ((w.a == w.b) & (under_a | under_b))
+    if both.any():
+        w.stop(both, NOT_FIN, w.a, w.fa)
+        under_a, under_b = under_a[~both], under_b[~both]
+    if under_a.any() or under_b.any():
+        w.tiny = True
+        w.fa = np.where(under_a, -np.copysign(_TINY, w.fb), w.fa)
+        w.fb = np.where(under_b, -np.copysign(_TINY, w.fa), w.fb)
+    code = w.codes()
+    a_better = np.abs(w.fa) <= np.abs(w.fb)
+    mark(code, np.minimum(np.abs(w.fa), np.abs(w.fb)) <= ftol, F_TOL)
+    mark(code, same_sign(w.fa, w.fb), NO_SIGN)
+    w.finish(code, np.where(a_better, w.a, w.b), np.where(a_better, w.fa, w.fb))
+
+
+def _closed(w: Work, code: np.ndarray, closed: np.ndarray, x1, f1, x2, f2) -> None:
+    """Write the verdicts of the rows whose bracket (x1, x2) closed into ``code``."""
+    idx = np.flatnonzero(closed)
+    if idx.size:
+        x1, f1, x2, f2 = x1[idx], f1[idx], x2[idx], f2[idx]
+        first = x1 < x2
+        code[idx] = closed_verdict(w, idx, np.where(first, x1, x2), np.where(first, f1, f2),
+                                   np.where(first, x2, x1), np.where(first, f2, f1))
+
+
+def _new_point(w: Work, s: dict[str, Any], code: np.ndarray, x: np.ndarray, fx: np.ndarray,
+               x1, f1, x2, f2) -> np.ndarray:
+    """The tests at a bracketing iterate x (ends (x1, f1), (x2, f2)), in the scalar order:
+    not finite; an exact zero (root, underflow inside, or carried from an end's stretch
+    of underflow). Returns f to go on with."""
+    mark(code, ~np.isfinite(fx), NOT_FIN)
+    zero = np.flatnonzero(fx == 0.0)
+    if zero.size:
+        root, inside, value = iterate_zero(w, zero, x[zero], x1[zero], f1[zero], x2[zero],
+                                           f2[zero], s["xtol"] + s["rtol"] * np.abs(x[zero]))
+        code[zero[root]] = EXACT
+        code[zero[inside]] = NOT_FIN
+        fx = fx.copy()
+        fx[zero] = value
+        w.tiny = w.tiny or bool(carried(value).any())
+    return fx
+
+
+def bisection(w: Work, s: dict[str, Any]) -> None:
+    """Bisection on every row's bracket: the midpoint each iterate."""
+    xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
+    start_brackets(w, s)
+    if not w.size:
+        return
+    swap = w.a > w.b
+    w.lo, w.hi = np.where(swap, w.b, w.a), np.where(swap, w.a, w.b)
+    w.flo, w.fhi = np.where(swap, w.fb, w.fa), np.where(swap, w.fa, w.fb)
+    del w.a, w.b, w.fa, w.fb
+    while w.size:
+        w.tick()
+        lo_better = np.abs(w.flo) <= np.abs(w.fhi)
+        best, fbest = np.where(lo_better, w.lo, w.hi), np.where(lo_better, w.flo, w.fhi)
+        w.mid = 0.5 * w.lo + 0.5 * w.hi
+        code = w.codes()
+        closed = w.hi - w.lo <= xtol + rtol * np.abs(best)
+        if w.k < cap:  # two adjacent doubles cannot be split: closed as well
+            closed |= ~((w.lo < w.mid) & (w.mid < w.hi))
+        _closed(w, code, closed, w.lo, w.flo, w.hi, w.fhi)
+        if w.k >= cap:
+            code[code < 0] = MAX_IT
+        w.finish(code, best, fbest)
+        if not w.size:
+            break
+        fmid = w.f(w.mid)
+        w.k += 1
+        code = w.codes()
+        fmid = _new_point(w, s, code, w.mid, fmid, w.lo, w.flo, w.hi, w.fhi)
+        left = np.flatnonzero(same_sign(fmid, w.flo) & (code < 0))
+        right = np.flatnonzero(~same_sign(fmid, w.flo) & (code < 0))
+        w.lo[left], w.flo[left] = w.mid[left], fmid[left]
+        w.hi[right], w.fhi[right] = w.mid[right], fmid[right]
+        mark(code, np.abs(fmid) <= ftol, F_TOL)
+        w.finish(code, w.mid, fmid)
+
+
+def _regula_falsi(w: Work, s: dict[str, Any], illinois_rule: bool) -> None:
+    xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
+    start_brackets(w, s)
+    if not w.size:
+        return
+    # (xb, fb) the newest point, (xa, fa) the retained end of opposite sign; ga the value
+    # interpolated at xa (fa, or halved by the Illinois rule)
+    w.xa, w.xb, w.ga = w.a, w.b, w.fa.copy()
+    del w.a, w.b
+    nan = np.full(w.size, np.nan)
+    if not illinois_rule:
+        w.previous, w.previous_step, w.previous_ratio = nan.copy(), nan.copy(), nan.copy()
+    w.probe = nan.copy()
+    while w.size:
+        w.tick()
+        lo, hi = np.minimum(w.xa, w.xb), np.maximum(w.xa, w.xb)
+        use_probe = (lo < w.probe) & (w.probe < hi)  # (false where there is none: NaN)
+        denominator = w.fb - w.ga  # never zero: fb and ga have opposite signs
+        special = np.isinf(denominator) | (w.ga == 0.0)
+        if special.any():
+            fraction = np.where(special, 1.0 / (1.0 - w.ga / w.fb), w.fb / denominator)
+        else:
+            fraction = w.fb / denominator
+        x = np.where(use_probe, w.probe, w.xb - fraction * (w.xb - w.xa))
+        w.fallback = ~use_probe & ~((lo < x) & (x < hi))
+        w.checking = ~np.isnan(w.probe)
+        if w.fallback.any():  # rounding put the chord's zero on an end: the midpoint
+            x = np.where(w.fallback, 0.5 * lo + 0.5 * hi, x)
+        w.x = x
+        a_better = np.abs(w.fa) < np.abs(w.fb)
+        w.best, w.fbest = np.where(a_better, w.xa, w.xb), np.where(a_better, w.fa, w.fb)
+        code = np.full(w.size, MAX_IT if w.k >= cap else -1, dtype=np.int8)
+        if w.k < cap:
+            _closed(w, code, w.fallback & ~((lo < x) & (x < hi)), w.xa, w.fa, w.xb, w.fb)
+        w.finish(code, w.best, w.fbest)
+        if not w.size:
+            break
+        w.probe = np.full(w.size, np.nan)
+        fx = w.f(w.x)
+        w.k += 1
+        code = w.codes()
+        fx = _new_point(w, s, code, w.x, fx, w.xa, w.fa, w.xb, w.fb)
+        w.fx = fx
+        # (a row that stops here reports best, the end of smaller |f| before this iterate,
+        # as the scalar method does: for exact zero and ftol the iterate itself, below)
+        same = same_sign(fx, w.fb)
+        moved = np.flatnonzero(~same)
+        if illinois_rule:  # xa retained once more: halve its value to pull the next over
+            w.ga = np.where(same, 0.5 * w.ga, w.fb)
+        else:
+            w.ga[moved] = w.fb[moved]
+        w.xa[moved], w.fa[moved] = w.xb[moved], w.fb[moved]
+        w.xb, w.fb = w.x, fx
+        mark(code, np.abs(fx) <= ftol, F_TOL)
+        converged_here = (code == EXACT) | (code == F_TOL)
+        a_better = np.abs(w.fa) < np.abs(w.fb)
+        best = np.where(a_better, w.xa, w.xb)
+        fbest = np.where(a_better, w.fa, w.fb)
+        closed = (code < 0) & (np.abs(w.xb - w.xa) <= xtol + rtol * np.abs(best))
+        _closed(w, code, closed, w.xa, w.fa, w.xb, w.fb)
+        w.finish(code, np.where(converged_here, w.x, best), np.where(converged_here, fx, fbest))
+        if illinois_rule or not w.size:
+            continue  # Illinois: both ends move, so the bracket width alone decides
+        _false_position_estimate(w, xtol, rtol)
+
+
+def _false_position_estimate(w: Work, xtol: float, rtol: float) -> None:
+    """Plain false position's check of its linear-convergence estimate (the scalar
+    method's rule): when the error estimated from the last chord steps is below
+    tolerance, the next iterate is the probe half a tolerance towards the other end."""
+    reset = w.fallback | w.checking
+    nan = np.full(w.size, np.nan)
+    w.previous_step = np.where(reset, nan, w.previous_step)
+    w.previous_ratio = np.where(reset, nan, w.previous_ratio)
+    go = ~reset & ~np.isnan(w.previous)
+    step = np.abs(w.x - w.previous)
+    had_step = go & ~np.isnan(w.previous_step)
+    with np.errstate(all="ignore"):
+        ratio = step / w.previous_step
+        c = np.where(np.isnan(w.previous_ratio), ratio, np.maximum(ratio, w.previous_ratio))
+        error = step * np.maximum(1.0, c / (1.0 - c))
+    tolerance = xtol + rtol * np.abs(w.x)
+    check = had_step & ~np.isnan(w.previous_ratio) & (c < 1.0) & (error <= tolerance)
+    w.probe = np.where(check, w.x + np.copysign(0.5 * tolerance, w.xa - w.x), np.nan)
+    w.previous_ratio = np.where(had_step, ratio, w.previous_ratio)
+    w.previous_step = np.where(go, step, w.previous_step)
+    w.previous = np.where(reset, nan, w.x)
+
+
+def false_position(w: Work, s: dict[str, Any]) -> None:
+    """Plain false position on every row's bracket."""
+    _regula_falsi(w, s, illinois_rule=False)
+
+
+def illinois(w: Work, s: dict[str, Any]) -> None:
+    """Illinois-modified false position on every row's bracket."""
+    _regula_falsi(w, s, illinois_rule=True)
+
+
+_SAFE = 2.0**300  # f values within [2**-300, 2**300]: the interpolation cannot overflow
+
+
+def _interpolation_step(xa, fa, xb, fb, xc, fc) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.brent._interpolation_step` (NaN: bisect).
+
+    The step is homogeneous of degree 0 in f, and scaling by a power of two is exact, so
+    the scalar method's scaling changes nothing where the values are far from under- and
+    overflow: it is applied only when some row's values are not.
+    """
+    big = np.maximum(np.maximum(np.abs(fa), np.abs(fb)), np.abs(fc))
+    if not (big.max() < _SAFE and big.min() > 1.0 / _SAFE):
+        exponent = np.frexp(big)[1]
+        fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
+    secant = -fb * (xb - xa) / (fb - fa)  # (NaN or inf where fb == fa: not accepted)
+    slope_a = (fa - fb) / (xa - xb)
+    slope_c = (fc - fb) / (xc - xb)
+    denominator = slope_c * slope_a * (fc - fa)
+    quadratic = -fb * (fc * slope_c - fa * slope_a) / denominator
+    step = np.where(xa == xc, secant, quadratic)
+    # a zero or overflowing denominator gives an undefined step (bisect)
+    step[~np.isfinite(step)] = np.nan
+    return step
+
+
+def brent(w: Work, s: dict[str, Any]) -> None:
+    """Brent's method on every row's bracket (the scalar :func:`solvers.brent`'s steps)."""
+    xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
+    start_brackets(w, s)
+    if not w.size:
+        return
+    w.xa, w.xb, w.xc = w.a.copy(), w.b.copy(), w.a.copy()
+    w.fb, w.fc = w.fb.copy(), w.fa.copy()
+    del w.a, w.b
+    w.d = w.xb - w.xa
+    w.e = w.d.copy()
+    w.bisected = np.zeros(w.size, dtype=bool)
+    while w.size:
+        w.tick()
+        swap = np.flatnonzero(np.abs(w.fc) < np.abs(w.fb))
+        if swap.size:  # b becomes the better end; a follows the old b to interpolate
+            old_b, old_fb = w.xb[swap], w.fb[swap]
+            w.xa[swap], w.fa[swap] = old_b, old_fb
+            w.xb[swap], w.fb[swap] = w.xc[swap], w.fc[swap]
+            w.xc[swap], w.fc[swap] = old_b, old_fb
+        half_tol = 0.5 * (xtol + rtol * np.abs(w.xb))
+        m = 0.5 * w.xc - 0.5 * w.xb  # = (xc - xb)/2 without overflow on wide brackets
+        code = np.full(w.size, MAX_IT if w.k >= cap else -1, dtype=np.int8)
+        _closed(w, code, np.abs(m) <= half_tol, w.xb, w.fb, w.xc, w.fc)
+        if (code >= 0).any():
+            w.half_tol, w.m = half_tol, m
+            w.finish(code, w.xb, w.fb)
+            if not w.size:
+                break
+            half_tol, m = w.half_tol, w.m
+        try_step = (np.abs(w.e) > half_tol) & (np.abs(w.fb) < np.abs(w.fa))
+        if w.tiny:  # a value that underflowed has a sign but no size: bisect there
+            try_step &= ~(carried(w.fa) | carried(w.fb) | carried(w.fc))
+        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc)
+        size = np.abs(step)
+        accept = (try_step & (2.0 * size < np.minimum(np.abs(w.e), 3.0 * np.abs(m) - half_tol))
+                  & ~((size <= half_tol) & w.bisected))
+        w.e, w.d = np.where(accept, w.d, m), np.where(accept, step, m)
+        w.bisected = w.d == m
+        w.xa, w.fa = w.xb, w.fb
+        w.xb = w.xb + np.where(np.abs(w.d) > half_tol, w.d, np.copysign(half_tol, m))
+        fb = w.f(w.xb)
+        w.k += 1
+        code = w.codes()
+        w.fb = _new_point(w, s, code, w.xb, fb, w.xa, w.fa, w.xc, w.fc)
+        # the root now lies between the new b and the old b: a becomes the contrapoint
+        change = np.flatnonzero(np.isfinite(w.fb) & ~same_sign(w.fb, w.fa))
+        if change.size:
+            w.xc[change], w.fc[change] = w.xa[change], w.fa[change]
+            w.d[change] = w.xb[change] - w.xa[change]
+            w.e[change] = w.d[change]
+        mark(code, np.abs(w.fb) <= ftol, F_TOL)
+        w.finish(code, w.xb, w.fb)

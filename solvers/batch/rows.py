@@ -1,0 +1,409 @@
+"""The shared machinery of the batch kernels: f over a chunk's rows, the active set, and
+the vectorised forms of the scalar methods' honesty rules.
+
+* :class:`Rows` binds the equation to one chunk's parameter values once and evaluates f
+  (and f') on any subset of those rows. When the rows still at work fall to half of the
+  rows bound, it binds again to those rows only (no re-parse, no re-compile), so the
+  work per iteration follows the active set; smaller probe sets are bound apart.
+* :class:`Work` holds the arrays of the rows still iterating; :meth:`Work.stop` writes
+  the finished rows' results and compresses every array at once.
+* :func:`zero_is_root`, :func:`iterate_zero`, :func:`closed_verdict` and
+  :func:`central_difference` are the element-wise forms of the rules of
+  :mod:`solvers.methods.common` and :mod:`solvers.methods.bracketing` (same constants,
+  same order of tests): an exact 0.0 from underflow is no root, a bracket that closed on
+  a jump is a discontinuity, a pole is not finite.
+"""
+
+from __future__ import annotations
+
+import sys
+from collections.abc import Callable, Mapping
+from typing import Any
+
+import numpy as np
+
+from solvers.batch.records import CONVERGED_INDEX, REASON_CODES, BatchCancelled
+from solvers.equation import EquationError
+from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
+from solvers.methods.common import _PROBE_GROWTH, _PROBE_REACH, _TINY, DERIVATIVE_STEP
+from solvers.units import Measured
+
+X_TOL, F_TOL, EXACT, MAX_IT, ZERO_D, NOT_FIN, NO_SIGN, DISCONT = (
+    REASON_CODES[r] for r in ("x_tolerance", "f_tolerance", "exact_zero", "max_iterations",
+                              "zero_derivative", "not_finite", "no_sign_change",
+                              "discontinuity"))
+_FLOAT_MIN = sys.float_info.min
+
+
+class Outcome:
+    """Results of one chunk, written row by row as rows finish."""
+
+    def __init__(self, n: int) -> None:
+        self.root = np.full(n, np.nan)
+        self.code = np.full(n, -1, dtype=np.int8)
+        self.iterations = np.zeros(n, dtype=np.int64)
+        self.evaluations = np.zeros(n, dtype=np.int64)
+        self.residual = np.full(n, np.nan)
+        self.notes: list[tuple[int, str]] = []
+
+    def write(self, rows: np.ndarray, code: Any, root: np.ndarray, residual: np.ndarray,
+              iterations: Any, evaluations: Any) -> None:
+        code = np.broadcast_to(np.asarray(code, dtype=np.int8), rows.shape)
+        good = CONVERGED_INDEX[code]
+        self.code[rows] = code
+        self.root[rows] = np.where(good, root, np.nan)
+        self.residual[rows] = np.where(good, residual, np.nan)
+        self.iterations[rows] = iterations
+        self.evaluations[rows] = evaluations
+
+
+def bind_rows(equation: Any, values: Mapping[str, Any], units: Mapping[str, str],
+              rows: np.ndarray | None = None) -> Any:
+    """``equation`` bound to ``values`` (floats or arrays; ``rows`` of the arrays when
+    given). A name in ``units`` holds an SI magnitude and is bound with that SI unit
+    (:class:`solvers.units.Measured`: a factor of one), so it keeps its dimension: a
+    plain number beside values with units is dimensionless."""
+    if rows is not None:
+        values = {n: v[rows] if isinstance(v, np.ndarray) else v for n, v in values.items()}
+    if units:
+        values = {n: Measured(v, units[n]) if n in units else v for n, v in values.items()}
+    return equation.bind(values)
+
+
+def _find_bad_rows(equation: Any, values: Mapping[str, Any], units: Mapping[str, str],
+                   rows: np.ndarray, bad: list[np.ndarray]) -> None:
+    """Split ``rows`` until every row whose values the equation refuses is found."""
+    try:
+        bind_rows(equation, values, units, rows)
+    except EquationError:
+        if rows.size == 1:
+            bad.append(rows)
+            return
+        half = rows.size // 2
+        _find_bad_rows(equation, values, units, rows[:half], bad)
+        _find_bad_rows(equation, values, units, rows[half:], bad)
+
+
+class Rows:
+    """f and f' of one chunk's rows (parameter ``values``: floats or 1-D arrays of n).
+
+    ``bad`` marks rows whose values give a part of f with no finite real value (found by
+    halving the chunk until the refused rows are single); they are not bound. ``bound``:
+    the equation already bound to exactly these values, if there is one. ``size`` is
+    the number of rows bound now: :class:`Work` rebinds to the rows still at work when
+    they fall to half of it.
+    """
+
+    def __init__(self, equation: Any, values: Mapping[str, Any], n: int,
+                 bound: Any = None, units: Mapping[str, str] | None = None) -> None:
+        self._equation = equation
+        self._values = dict(values)
+        self._units = dict(units or {})
+        self.fixed = not any(isinstance(v, np.ndarray) for v in self._values.values())
+        self.bad = np.zeros(n, dtype=bool)
+        rows = np.arange(n)
+        try:
+            self._bound = bound if bound is not None else bind_rows(equation, self._values,
+                                                                    self._units)
+        except EquationError:
+            if self.fixed:
+                raise
+            found: list[np.ndarray] = []
+            _find_bad_rows(equation, self._values, self._units, rows, found)
+            if not found:  # refused as a whole only: the caller's error
+                raise
+            self.bad[np.concatenate(found)] = True
+            rows = np.flatnonzero(~self.bad)
+            self._bound = self._bind(rows) if rows.size else None
+        self.size = int(rows.size)
+        self._buffer = np.zeros(rows.size)
+
+    def _bind(self, rows: np.ndarray) -> Any:
+        return bind_rows(self._equation, self._values, self._units, rows)
+
+    def rebind(self, rows: np.ndarray) -> None:
+        """Bind to ``rows`` (chunk positions) only: the rows still at work."""
+        self._bound = self._bind(rows)
+        self.size = int(rows.size)
+        self._buffer = np.zeros(rows.size)
+
+    def direct(self, which: str, x: np.ndarray) -> np.ndarray:
+        """f or f' at x for every bound row (or for any x when no value is an array)."""
+        out = getattr(self._bound, which)(x)
+        if self.fixed:  # a part free of x and of the rows may come back as one number
+            return np.broadcast_to(np.asarray(out, dtype=np.float64), x.shape)
+        return out
+
+    def through_buffer(self, which: str, x: np.ndarray, position: np.ndarray) -> np.ndarray:
+        """f or f' at x for the bound rows at ``position``; the others keep stale x
+        (their values are computed and not read: cheaper than binding again)."""
+        buffer = self._buffer
+        buffer[position] = x
+        return getattr(self._bound, which)(buffer)[position]
+
+    def apart(self, which: str, x: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        """f or f' at x for a few rows, bound apart (probes of rows that are finishing)."""
+        return getattr(self._bind(rows), which)(x)
+
+
+Poll = Callable[[float], None]
+
+
+def make_poll(progress: Callable[[float], Any] | None, cancel: Callable[[], bool] | None,
+              done: int, total: int, chunk: int) -> Poll:
+    """progress/cancel as one callable of the share of the chunk finished."""
+
+    def poll(share: float) -> None:
+        if cancel is not None and cancel():
+            raise BatchCancelled
+        if progress is not None and total:
+            progress(min(1.0, (done + share * chunk) / total))
+
+    return poll
+
+
+class Work:
+    """The rows of a chunk still iterating: named arrays of equal length, compressed together.
+
+    ``rows`` are chunk positions (ascending), ``position`` their places among the rows
+    bound in :class:`Rows`. Every kernel iterates its rows in step, so the iteration count
+    ``k`` is one number; calls of f made for every active row are counted in ``calls``
+    and calls for some rows only (probes) per chunk row. Every attribute that is an array
+    of the active length is compressed by :meth:`finish` (private ones, named ``_...``,
+are per chunk row and are not).
+    """
+
+    def __init__(self, out: Outcome, fn: Rows, rows: np.ndarray, poll: Poll,
+                 **arrays: np.ndarray) -> None:
+        self.out, self.fn, self.poll, self.total = out, fn, poll, len(out.code)
+        self.rows = rows
+        self.position = np.arange(rows.size)
+        self.k = 0
+        self.calls = 0
+        # per chunk row, never compressed: calls made for some rows only (probes), and
+        # values kept from the start (read through ``kept``)
+        self._extra = np.zeros(len(out.code), dtype=np.int64)
+        self._kept: dict[str, np.ndarray] = {}
+        self.__dict__.update(arrays)
+
+    def keep(self, **arrays: np.ndarray) -> None:
+        """Keep start values (active length now) for later reading by :meth:`kept`."""
+        for name, value in arrays.items():
+            whole = np.full(len(self.out.code), np.nan)
+            whole[self.rows] = value
+            self._kept[name] = whole
+
+    def kept(self, name: str, idx: np.ndarray) -> np.ndarray:
+        """A kept start value of the active rows ``idx``."""
+        return self._kept[name][self.rows[idx]]
+
+    @property
+    def size(self) -> int:
+        return int(self.rows.size)
+
+    def _evaluate(self, which: str, x: np.ndarray, subset: np.ndarray | None) -> np.ndarray:
+        fn = self.fn
+        if subset is None:
+            self.calls += 1
+            m = self.size
+        else:
+            if subset.dtype == bool:
+                subset = np.flatnonzero(subset)
+            self._extra[self.rows[subset]] += 1
+            m = int(subset.size)
+        if fn.fixed or m == fn.size:  # every bound row (active rows are among them)
+            return fn.direct(which, x)
+        if 2 * m <= fn.size:
+            if subset is None:  # the active set itself: keep the smaller binding
+                fn.rebind(self.rows)
+                self.position = np.arange(m)
+                return fn.direct(which, x)
+            return fn.apart(which, x, self.rows[subset])
+        position = self.position if subset is None else self.position[subset]
+        return fn.through_buffer(which, x, position)
+
+    def _owned(self, which: str, x: np.ndarray, subset: np.ndarray | None) -> np.ndarray:
+        # The kernels write into f's values in place: never into x itself (f = x returns
+        # its argument) or a read-only broadcast.
+        out = self._evaluate(which, x, subset)
+        if not out.flags.writeable or np.may_share_memory(out, x):
+            out = np.array(out, dtype=np.float64)
+        return out
+
+    def f(self, x: np.ndarray, subset: np.ndarray | None = None) -> np.ndarray:
+        """f at x for every active row (``subset`` None) or for the rows ``subset`` marks
+        (a boolean mask or ascending indices of the active rows)."""
+        return self._owned("f", x, subset)
+
+    def fprime(self, x: np.ndarray) -> np.ndarray:
+        return self._owned("fprime", x, None)
+
+    def finish(self, code: np.ndarray, root: np.ndarray, residual: np.ndarray) -> None:
+        """Finish the rows with ``code >= 0`` (their stop reasons), with root and residual."""
+        mask = code >= 0
+        if not mask.any():
+            return
+        self.out.write(self.rows[mask], code[mask], root[mask], residual[mask],
+                       self.k, self.calls + self._extra[self.rows[mask]])
+        keep = np.flatnonzero(~mask)  # once, then a plain take per array
+        n = mask.size
+        for name, value in list(vars(self).items()):
+            if isinstance(value, np.ndarray) and value.shape == (n,) and name[0] != "_":
+                setattr(self, name, value.take(keep))
+
+    def stop(self, mask: np.ndarray, code: int, root: np.ndarray, residual: np.ndarray) -> None:
+        """Finish the rows ``mask`` marks with one ``code``."""
+        if mask.any():
+            self.finish(np.where(mask, np.int8(code), np.int8(-1)), root, residual)
+
+    def codes(self) -> np.ndarray:
+        """A fresh code array: -1 (go on) for every active row."""
+        return np.full(self.size, -1, dtype=np.int8)
+
+    def tick(self) -> None:
+        self.poll(1.0 - self.size / max(self.total, 1))
+
+
+def mark(code: np.ndarray, mask: np.ndarray, value: int) -> None:
+    """Give ``value`` to the rows ``mask`` marks that have no code yet (first test wins)."""
+    code[mask & (code < 0)] = value
+
+
+def same_sign(u: np.ndarray, v: np.ndarray) -> np.ndarray:
+    return (u > 0.0) == (v > 0.0)
+
+
+def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
+                 toward: np.ndarray | None = None) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common._zero_is_root` for the rows ``subset``
+    marks (x, tol, toward given for those rows): f(x) == 0.0 is a root unless f is 0.0
+    beside x too (underflow); one neighbour must be finite. Both neighbours are
+    evaluated (two calls counted)."""
+    if subset.dtype == bool:
+        subset = np.flatnonzero(subset)
+    step = np.maximum(np.maximum(tol, 2.0 * np.spacing(np.abs(x))), _FLOAT_MIN)
+    first = step if toward is None else np.where(toward >= x, step, -step)
+    one = w.f(x + first, subset)
+    two = w.f(x - first, subset)
+    zero = (one == 0.0) | (two == 0.0)
+    return ~zero & (np.isfinite(one) | np.isfinite(two))
+
+
+def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.bracketing._straight_through` (its constants)."""
+    inside = (np.minimum(x1, x2) < x) & (x < np.maximum(x1, x2)) & ~same_sign(f1, f2)
+    slope_1 = np.abs(f1) / np.abs(x - x1)
+    slope_2 = np.abs(f2) / np.abs(x2 - x)
+    secant = np.abs(f1) / np.abs(x2 - x1) + np.abs(f2) / np.abs(x2 - x1)
+    least = np.minimum(slope_1, slope_2)
+    steady = (least * _SLOPE_SPREAD >= secant) & (least * tol >= _SLOPE_SPREAD * _FLOAT_MIN)
+    chord = f1 + (f2 - f1) * ((x - x1) / (x2 - x1))
+    return inside & steady & (np.abs(chord) <= _CHORD_SHARE * np.maximum(np.abs(f1), np.abs(f2)))
+
+
+def carried(f: np.ndarray) -> np.ndarray:
+    """Where a value is the signed tiny number an underflowed point is carried as.
+
+    The scalar methods keep the points whose f underflowed to 0.0 in a set and carry
+    their f as +-5e-324 (the smallest double, a sign without a size); here the value
+    itself marks them (an f that truly returned +-5e-324 counts as underflowed too: it
+    has no size either).
+    """
+    return np.abs(f) == _TINY
+
+
+def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
+    """f(x) == 0.0 at bracketing iterates: element-wise
+    :func:`solvers.methods.bracketing._iterate_zero` for the active rows ``idx`` (the
+    other arguments are those rows' values, ends (x1, f1) and (x2, f2)).
+
+    Returns (root, inside, value): ``root`` marks exact zeros, ``inside`` zeros that are
+    only underflow between real ends (the run stops not finite), ``value`` the f to go on
+    with (the signed tiny value inside an end's stretch of underflow, else 0.0).
+    """
+    u1, u2 = carried(f1), carried(f2)
+    value = np.zeros(x.size)
+    value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
+    rest = ~(u1 | u2)
+    root = rest & _straight_through(x, x1, f1, x2, f2, tol)
+    inside = np.zeros(x.size, dtype=bool)
+    ask = rest & ~root
+    if ask.any():
+        far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
+        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask])
+        where = np.flatnonzero(ask)
+        root[where[verdict]] = True
+        inside[where[~verdict]] = True
+    return root, inside, value
+
+
+def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
+    """Codes for the active rows ``idx`` whose brackets [lo, hi] closed below tolerance
+    (the other arguments are those rows' values): element-wise
+    :func:`solvers.methods.common._closed_bracket_reason` and the pole test of
+    :func:`solvers.methods.common._finish`.
+
+    Uses the work's kept start values ``a0, fa0, b0, fb0`` (the bracket as given, f
+    there as evaluated). ``x_tolerance`` for a root; ``not_finite`` for an end in a stretch of
+    underflow or a pole (|f| at the closed bracket above both starting ends);
+    ``discontinuity`` for a jump (|f| not growing away from the bracket).
+    """
+    code = np.full(idx.size, X_TOL, dtype=np.int8)
+    a0, fa0, b0, fb0 = (w.kept(name, idx) for name in ("a0", "fa0", "b0", "fb0"))
+    under = carried(flo) | carried(fhi)
+    near = np.minimum(np.abs(flo), np.abs(fhi))
+    pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
+    code[under | pole] = NOT_FIN
+    open_ = ~under & ~pole
+    if not open_.any():
+        return code
+    width = hi - lo
+    decided = ~open_
+    # 1. the starting ends (already evaluated): |f| fell at least as fast as sqrt(distance)
+    for x0, f0 in ((a0, fa0), (b0, fb0)):
+        distance = np.maximum(lo - x0, x0 - hi)
+        usable = (distance >= 2.0 * width) & np.isfinite(f0) & (f0 != 0.0)
+        with np.errstate(all="ignore"):
+            decided |= usable & (near <= np.abs(f0) * np.sqrt(width / distance))
+    # 2. probes 2**20 widths out, one side then the other: |f| must grow there
+    reach = _PROBE_REACH * width
+    for end, fend, probe in ((lo, flo, np.maximum(np.minimum(a0, b0), lo - reach)),
+                             (hi, fhi, np.minimum(np.maximum(a0, b0), hi + reach))):
+        ask = ~decided & (probe != end)
+        if not ask.any():
+            continue
+        fp = w.f(probe[ask], idx[ask])
+        grew = (np.isfinite(fp) & (fp != 0.0) & same_sign(fp, fend[ask])
+                & (np.abs(fp) >= _PROBE_GROWTH * np.abs(fend[ask])))
+        decided[np.flatnonzero(ask)[grew]] = True
+    code[~decided] = DISCONT
+    return code
+
+
+def central_difference(w: Work, x: np.ndarray, fx: np.ndarray, scale: np.ndarray) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common._central_difference` (h shrinks by 1000
+    where a side is not finite, then a one-sided difference; NaN when none is usable)."""
+    h = DERIVATIVE_STEP * np.maximum(np.abs(x), scale)
+    out = np.full(x.size, np.nan)
+    one_sided = np.full(x.size, np.nan)
+    need = np.ones(x.size, dtype=bool)
+    for _ in range(2):
+        if not need.any():
+            break
+        xs, hs = x[need], h[need]
+        xp, xm = xs + hs, xs - hs
+        everyone = bool(need.all())
+        fp = w.f(xp) if everyone else w.f(xp, need)
+        fm = w.f(xm) if everyone else w.f(xm, need)
+        fp_ok, fm_ok = np.isfinite(fp), np.isfinite(fm)
+        both = fp_ok & fm_ok
+        where = np.flatnonzero(need)
+        out[where[both]] = ((fp - fm) / (xp - xm))[both]
+        fresh = np.isnan(one_sided[where])
+        side_p = fresh & ~both & fp_ok
+        side_m = fresh & ~both & ~fp_ok & fm_ok
+        one_sided[where[side_p]] = ((fp - fx[need]) / (xp - xs))[side_p]
+        one_sided[where[side_m]] = ((fx[need] - fm) / (xs - xm))[side_m]
+        need[where[both]] = False
+        h = h * 1e-3
+    return np.where(np.isnan(out), one_sided, out)

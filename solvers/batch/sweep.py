@@ -1,0 +1,269 @@
+"""sweep: follow a root along one parameter by continuation, row after row.
+
+Continuation is sequential by nature (each row starts where the previous one ended), so
+each row runs the scalar method of the registry (:func:`solvers.run_method`) on the
+equation bound to that row's value: every row is a full single solve (its ``Run`` is
+rebuilt by :meth:`Batch.run` identically), and hundreds of values take milliseconds to a
+few tenths of a second. The vectorised kernels gain nothing here.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
+
+import numpy as np
+
+from solvers.batch.driver import _parameter_values, si_units
+from solvers.batch.records import Batch, BatchCancelled, _one_row
+from solvers.batch.rows import bind_rows
+from solvers.equation import EquationError
+from solvers.methods.common import (
+    DEFAULT_FTOL,
+    DEFAULT_MAX_ITER,
+    DEFAULT_RTOL,
+    DEFAULT_XTOL,
+    DERIVATIVE_STEP,
+    _check_settings,
+)
+from solvers.methods.registry import method_spec, run_method
+from solvers.records import NOT_FINITE
+
+# A converged root counts as a jump off the branch when it lies farther from the
+# straight-line prediction of the last two roots than JUMP_FACTOR times the predicted
+# step (or the last step). Near a fold the root moves like sqrt(distance to the fold),
+# so consecutive steps grow by at most ~2.4x (sqrt(h) against sqrt(2h) - sqrt(h)) and a
+# prediction error of 3 steps is not reached on the branch itself (common practice for
+# step control in continuation; the constant is ours).
+JUMP_FACTOR = 3.0
+
+
+def _slope(equation: Any, x: float) -> float:
+    """f'(x): the symbolic derivative when there is one, else a central difference."""
+    if equation.fprime is not None:
+        return float(_one_row(equation.fprime)(x))
+    h = DERIVATIVE_STEP * max(abs(x), 1e-3)
+    f = _one_row(equation.f)
+    return float((f(x + h) - f(x - h)) / (2.0 * h))
+
+
+def sweep(
+    equation: Any,
+    name: str,
+    values: Sequence[float] | np.ndarray,
+    *,
+    x0: float | None = None,
+    x1: float | None = None,
+    bracket: tuple[float, float] | None = None,
+    method: str = "newton",
+    parameters: Mapping[str, float] | None = None,
+    bounds: tuple[float, float] | None = None,
+    damping: float = 1.0,
+    xtol: float = DEFAULT_XTOL,
+    rtol: float = DEFAULT_RTOL,
+    ftol: float = DEFAULT_FTOL,
+    max_iter: int = DEFAULT_MAX_ITER,
+    progress: Callable[[float], Any] | None = None,
+    cancel: Callable[[], bool] | None = None,
+) -> Batch:
+    """Solve ``equation`` for each value of parameter ``name``, in the order given.
+
+    Each row starts from the previous row's converged root (continuation), so one branch
+    of roots is followed; the first row starts from ``x0``. For the secant the second
+    start value keeps the spacing ``x1 - x0`` (``x1`` required). A bracketing method
+    needs no start value: every row uses ``bracket`` (a ``fixed_bracket`` note on row 0).
+
+    ``.notes`` (flat index, code) say where the branch ends or changes:
+    ``failed`` (the row did not converge; the next row restarts from the last good
+    root, ``restart_last_good``, or from x0 when there is none, ``restart_x0``),
+    ``branch_jump`` (the root lies far off the straight-line prediction of the last two:
+    the branch ended, typically at a turning point, and another branch was found),
+    ``turning_point`` (f' at the root changed sign from the previous row: a fold was
+    crossed), ``left_range`` (the root is outside ``bounds``; continuation goes on from
+    the last root inside), ``bad_parameters`` (the value gives part of f no finite value).
+
+    Other parameters are floats: the equation's own values, with ``parameters`` over
+    them and ``name`` replaced row by row. Units: where the equation holds ``name`` with a
+    unit, ``values`` are in that parameter's SI base unit (the unknown keeps its own
+    unit); the other parameters keep theirs. Tolerances, ``damping``, ``progress`` and ``cancel`` as
+    in :func:`solvers.solve_batch` (:class:`BatchCancelled` when cancelled). Raises
+    ValueError for an unknown name, values that are not finite numbers, missing start
+    values or an invalid setting.
+    """
+    spec = method_spec(method)
+    tol = _check_settings(xtol, rtol, ftol, max_iter)
+    if name not in equation.names[1:]:
+        what = "is the unknown" if name == equation.unknown else "is not a parameter"
+        raise ValueError(f"'{name}' {what} of the equation; sweep one of its parameters")
+    try:
+        rows = np.asarray(values, dtype=np.float64).reshape(-1)
+    except (TypeError, ValueError):
+        raise ValueError("sweep values must be numbers") from None
+    if not np.isfinite(rows).all():
+        raise ValueError("sweep values must be finite")
+    base = _parameter_values(equation, {**(parameters or {}), name: 0.0})
+    # the swept values are plain numbers: in SI units when the parameter has a unit
+    units = si_units(equation, {k: v for k, v in (parameters or {}).items() if k != name})
+    if name in getattr(equation, "units", {}):
+        units[name] = equation.units[name].si_unit
+    arrays = [n for n, v in base.items() if n != name and isinstance(v, np.ndarray)]
+    if arrays:
+        raise ValueError(f"a sweep varies one parameter; '{arrays[0]}' holds several values")
+    kind = spec.kind
+    if kind != "bracket" and x0 is None:
+        raise ValueError(f"method {spec.name!r} needs a start value x0")
+    if kind == "two_point" and x1 is None:
+        raise ValueError("the secant needs x1 (its spacing from x0 is kept from row to row)")
+    if kind == "bracket" and bracket is None:
+        raise ValueError(f"method {spec.name!r} needs a bracket (a, b)")
+    if spec.name == "newton" and not 0.0 < float(damping) <= 1.0:
+        raise ValueError(f"damping must be in (0, 1], got {damping!r}")
+    symbolic = spec.name == "newton" and equation.fprime is not None
+    settings: dict[str, Any] = dict(tol)
+    if spec.name == "newton":
+        settings["damping"] = float(damping)
+        settings["derivative"] = "symbolic" if symbolic else "numerical"
+    settings["swept"] = name
+    if bounds is not None:
+        settings["bounds"] = (float(min(bounds)), float(max(bounds)))
+
+    n = rows.size
+    root = np.full(n, np.nan)
+    converged = np.zeros(n, dtype=bool)
+    reason = np.full(n, NOT_FINITE, dtype="<U15")
+    iterations = np.zeros(n, dtype=np.int64)
+    evaluations = np.zeros(n, dtype=np.int64)
+    residual = np.full(n, np.nan)
+    starts_x0 = np.full(n, np.nan)
+    notes: list[tuple[int, str]] = []
+    if kind == "bracket":
+        notes.append((0, "fixed_bracket"))
+    spacing = (float(x1) - float(x0)) if kind == "two_point" else 0.0
+    first = float(x0) if x0 is not None else math.nan
+    last_good: float | None = None
+    branch: list[tuple[float, float]] = []  # (value, root) of the branch now followed
+    last_slope: float | None = None
+    restarted = False
+    for k, value in enumerate(rows.tolist()):
+        if cancel is not None and cancel():
+            raise BatchCancelled
+        if progress is not None:
+            progress(k / n)
+        start = last_good if last_good is not None else first
+        if restarted:
+            notes.append((k, "restart_last_good" if last_good is not None else "restart_x0"))
+            restarted = False
+        starts_x0[k] = start
+        try:
+            # rows of one, as Batch.run rebuilds a row: the same arithmetic
+            bound = bind_rows(equation, {k: np.array([v])
+                                         for k, v in {**base, name: value}.items()}, units)
+        except EquationError:
+            notes.append((k, "bad_parameters"))
+            restarted, branch = True, []
+            continue
+        run = run_method(
+            spec.name, _one_row(bound.f),
+            fprime=_one_row(bound.fprime) if symbolic else None,
+            derivative_source="symbolic" if symbolic else None,
+            x0=start, x1=start + spacing, bracket=bracket, damping=damping, **tol)
+        reason[k], iterations[k], evaluations[k] = run.reason, run.iterations, run.evaluations
+        if not run.converged:
+            notes.append((k, "failed"))
+            restarted, branch = True, []
+            continue
+        converged[k], root[k], residual[k] = True, run.root, run.residual
+        if bounds is not None and not min(bounds) <= run.root <= max(bounds):
+            notes.append((k, "left_range"))
+            restarted, branch = True, []
+            continue
+        if _jumped(branch, value, run.root, tol):
+            notes.append((k, "branch_jump"))
+            branch = []
+        slope = _slope(bound, run.root)
+        if last_slope is not None and branch and math.isfinite(slope) and slope * last_slope < 0:
+            notes.append((k, "turning_point"))
+        last_slope = slope if math.isfinite(slope) else last_slope
+        branch = [*branch[-1:], (value, run.root)]
+        last_good = run.root
+    if progress is not None:
+        progress(1.0)
+    starts: dict[str, Any] = {}
+    if kind == "bracket":
+        starts["a"], starts["b"] = (float(v) for v in bracket)  # type: ignore[union-attr]
+    else:
+        starts["x0"] = starts_x0
+        if kind == "two_point":
+            starts["x1"] = starts_x0 + spacing
+    return Batch(root=root, converged=converged, reason=reason, iterations=iterations,
+                 evaluations=evaluations, residual=residual, notes=tuple(notes),
+                 method=spec.name, settings=settings, equation=equation,
+                 parameters={**{n: float(v) for n, v in base.items() if n != name},
+                             name: rows}, units=units,
+                 starts=starts)
+
+
+def _jumped(branch: list[tuple[float, float]], value: float, root: float,
+            tol: Mapping[str, Any]) -> bool:
+    """Whether ``root`` at ``value`` lies off the straight line through the last two."""
+    if len(branch) < 2:
+        return False
+    (p0, r0), (p1, r1) = branch
+    if p1 == p0:
+        return False
+    predicted = (r1 - r0) * (value - p1) / (p1 - p0)
+    floor = 1e3 * (tol["xtol"] + tol["rtol"] * abs(root))
+    scale = max(abs(predicted), abs(r1 - r0))
+    return abs((root - r1) - predicted) > JUMP_FACTOR * scale + floor
+
+
+def resume_sweep(batch: Batch, index: int, x0: float, *,
+                 progress: Callable[[float], Any] | None = None,
+                 cancel: Callable[[], bool] | None = None) -> Batch:
+    """The sweep ``batch`` again from row ``index`` on, started there from ``x0``.
+
+    This is the restart a branch end offers: scan f at that row's value, pick a root, and
+    follow it from there (the rows before keep their results; their notes before
+    ``index`` too). Row ``index`` gets a ``restart_scan`` note. The same method, settings
+    and range as the sweep. Raises ValueError for a batch that is not a sweep and
+    IndexError for a row outside it.
+    """
+    name = batch.settings.get("swept")
+    if not isinstance(name, str):
+        raise ValueError("not a sweep: only a sweep can be resumed from a row")
+    if not 0 <= index < batch.size:
+        raise IndexError(f"row {index} is outside the sweep of {batch.size} rows")
+    values = np.asarray(batch.parameters[name], dtype=np.float64).reshape(-1)
+    s = batch.settings
+    starts = batch.starts
+    kind = "bracket" if "a" in starts else "open"
+    spacing = 0.0
+    if "x1" in starts:
+        spacing = float(np.asarray(starts["x1"]).reshape(-1)[0]
+                        - np.asarray(starts["x0"]).reshape(-1)[0])
+    tail = sweep(
+        batch.equation, name, values[index:], x0=float(x0),
+        x1=float(x0) + spacing if "x1" in starts else None,
+        bracket=(starts["a"], starts["b"]) if kind == "bracket" else None,
+        method=batch.method,
+        parameters={n: v for n, v in batch.parameters.items() if n != name},
+        bounds=s.get("bounds"), damping=float(s.get("damping", 1.0)), xtol=float(s["xtol"]),
+        rtol=float(s["rtol"]), ftol=float(s["ftol"]), max_iter=int(s["max_iter"]),
+        progress=progress, cancel=cancel)
+
+    def joined(field: str) -> np.ndarray:
+        return np.concatenate([getattr(batch, field)[:index], getattr(tail, field)])
+
+    notes = ([n for n in batch.notes if n[0] < index] + [(index, "restart_scan")]
+             + [(i + index, c) for i, c in tail.notes if c != "fixed_bracket"])
+    new_starts = dict(starts)
+    for key in ("x0", "x1"):
+        if key in starts:
+            new_starts[key] = np.concatenate([np.asarray(starts[key])[:index],
+                                              np.asarray(tail.starts[key])])
+    return Batch(root=joined("root"), converged=joined("converged"), reason=joined("reason"),
+                 iterations=joined("iterations"), evaluations=joined("evaluations"),
+                 residual=joined("residual"), notes=tuple(notes), method=batch.method,
+                 settings=batch.settings, equation=batch.equation,
+                 parameters=batch.parameters, starts=new_starts, units=batch.units)

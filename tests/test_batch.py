@@ -1,0 +1,439 @@
+"""Tables of inputs in the core: solve_batch over arrays of rows, sweep by continuation.
+
+Outside references (each check names its own): the closed form of the Colebrook–White
+equation through the Lambert W function (scipy.special.lambertw / wrightomega),
+scipy.optimize.brentq row by row, numpy.roots for a cubic's real roots, and the scalar
+methods of the registry (the rules the rows must follow). Scenarios are invented: pipes
+of a cooling-water network, a pump against a system curve, an open channel.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+import scipy.optimize
+import scipy.special
+
+from solvers import (
+    METHODS,
+    REASONS,
+    Batch,
+    BatchCancelled,
+    parse_equation,
+    solve_batch,
+    sweep,
+)
+
+# Colebrook–White with rr the relative roughness eps/D, solved for the Darcy factor lam.
+COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
+BRACKET = (1e-3, 0.2)  # every turbulent friction factor of the grid lies inside
+
+
+def colebrook_exact(Re, rr):
+    """The Colebrook–White friction factor in closed form through Lambert W.
+
+    With y = 1/sqrt(lam), a = rr/3.7, b = 2.51/Re and c = 2/ln 10 the equation reads
+    y = -c ln(a + b y). Put u = a + b y: then y = (u - a)/b and u = exp(-(u - a)/(b c)),
+    so (u/(b c)) exp(u/(b c)) = exp(a/(b c))/(b c) and u/(b c) = W(exp(t)) with
+    t = a/(b c) - ln(b c). Hence y = -c ln(u) = -c ln(b c W(e^t)): no difference of
+    large numbers (y = (u - a)/b would lose five digits on rough pipes). W(e^t) is
+    scipy.special.lambertw(exp(t)) where exp(t) is a double, and
+    scipy.special.wrightomega(t) (defined as W(e^t)) beyond.
+    """
+    a, b, c = rr / 3.7, 2.51 / Re, 2.0 / math.log(10.0)
+    t = a / (b * c) - np.log(b * c)
+    small = t < 700.0
+    w = np.where(small, scipy.special.lambertw(np.exp(np.where(small, t, 0.0))).real,
+                 scipy.special.wrightomega(t).real)
+    y = -c * np.log(b * c * w)
+    return 1.0 / y**2
+
+
+def colebrook_residual(lam, Re, rr):
+    """The residual written out with math (independent of the parser), for brentq."""
+    return 1 / math.sqrt(lam) + 2 * math.log10(rr / 3.7 + 2.51 / (Re * math.sqrt(lam)))
+
+
+@pytest.fixture(scope="module")
+def grid():
+    """A 30 x 30 grid of Reynolds numbers and relative roughness (broadcast 2-D)."""
+    Re = np.logspace(np.log10(4e3), 8, 30)[:, None]
+    rr = np.logspace(-6, np.log10(5e-2), 30)[None, :]
+    equation = parse_equation(COLEBROOK, unknown="lam", parameters={"Re": Re, "rr": rr})
+    return equation, Re, rr
+
+
+def haaland(Re, rr):
+    """Haaland's explicit approximation (within ~2 % of Colebrook): a start value."""
+    return (-1.8 * np.log10((rr / 3.7) ** 1.11 + 6.9 / Re)) ** -2
+
+
+def test_colebrook_grid_agrees_with_lambert_w_closed_form_to_1e_10(grid):
+    equation, Re, rr = grid
+    exact = colebrook_exact(Re, rr)  # reference: Lambert W (scipy.special)
+    for method in ("newton", "brent", "bisection", "illinois", "secant"):
+        start = haaland(Re, rr)
+        batch = solve_batch(equation, method=method, x0=start, x1=start * 1.01,
+                            bracket=BRACKET)
+        assert batch.shape == (30, 30)
+        assert batch.converged.all(), (method, batch.counts())
+        assert np.max(np.abs(batch.root - exact) / exact) <= 1e-10, method
+        assert set(batch.reason.ravel()) <= {"x_tolerance", "exact_zero", "f_tolerance"}
+
+
+def test_colebrook_grid_agrees_with_brentq_row_by_row(grid):
+    equation, Re, rr = grid
+    batch = solve_batch(equation, method="newton", x0=0.02)
+    Re_rows, rr_rows = np.broadcast_arrays(Re, rr)
+    for i in range(0, Re_rows.size, 7):
+        ref = scipy.optimize.brentq(colebrook_residual, *BRACKET, xtol=1e-15, rtol=1e-15,
+                                    args=(Re_rows.flat[i], rr_rows.flat[i]))  # reference
+        if batch.converged.flat[i]:
+            assert abs(batch.root.flat[i] - ref) <= 1e-10 * ref
+    # a fixed start of 0.02 is poor for the roughest pipes: Newton may leave the domain
+    # there (sqrt of a negative iterate), and those rows say so instead of stopping all
+    failed = ~batch.converged
+    assert batch.converged.sum() > 0.5 * batch.size
+    assert np.isnan(batch.root[failed]).all()
+    assert set(batch.reason[failed].ravel()) <= {"not_finite", "max_iterations"}
+
+
+PUMP = "H0 - k1*Q^2 = Hs + k2*Q^1.85"  # pump curve against a system curve (invented duty)
+CHANNEL = "Q = (1/n)*(B*y)*((B*y)/(B + 2*y))^(2/3)*sqrt(S)"  # Manning, rectangular channel
+
+
+def _pump(Q, H0, k1, Hs, k2):
+    return H0 - k1 * Q**2 - Hs - k2 * Q**1.85
+
+
+def _channel(y, Q, n, B, S):
+    return Q - (1 / n) * (B * y) * ((B * y) / (B + 2 * y)) ** (2 / 3) * math.sqrt(S)
+
+
+@pytest.mark.parametrize("method", list(METHODS))
+def test_random_rows_of_two_equations_agree_with_brentq(method):
+    rng = np.random.default_rng(20261202)
+    rows = 200
+    pump = {"H0": rng.uniform(20, 80, rows), "k1": rng.uniform(50, 400, rows),
+            "Hs": rng.uniform(2, 15, rows), "k2": rng.uniform(20, 300, rows)}
+    channel = {"Q": rng.uniform(0.5, 10, rows), "n": rng.uniform(0.011, 0.035, rows),
+               "B": rng.uniform(1, 8, rows), "S": 10 ** rng.uniform(-4, -2, rows)}
+    cases = ((PUMP, "Q", pump, _pump, (1e-6, 2.0), 0.3),
+             (CHANNEL, "y", channel, _channel, (1e-3, 100.0), 1.0))
+    for text, unknown, values, residual, bracket, x0 in cases:
+        equation = parse_equation(text, unknown=unknown, parameters=values)
+        batch = solve_batch(equation, method=method, x0=x0, x1=x0 * 1.1, bracket=bracket,
+                            max_iter=2000)
+        assert batch.converged.all(), (method, text, batch.counts())
+        for i in range(rows):
+            args = tuple(values[n][i] for n in values)
+            ref = scipy.optimize.brentq(residual, *bracket, args=args, xtol=1e-14,
+                                        rtol=1e-15)  # reference
+            assert abs(batch.root[i] - ref) <= 1e-10 * abs(ref), (method, text, i)
+
+
+@pytest.mark.parametrize("method", list(METHODS))
+def test_rows_rebuilt_one_by_one_agree_with_the_vectorised_result(method):
+    # The registry's scalar method on one row's bound equation (Batch.run) must reach the
+    # same verdict and root: the vectorised kernels follow the same rules.
+    rng = np.random.default_rng(7)
+    Re = 10 ** rng.uniform(np.log10(4e3), 8, 300)
+    rr = 10 ** rng.uniform(-6, np.log10(5e-2), 300)
+    equation = parse_equation(COLEBROOK, unknown="lam", parameters={"Re": Re, "rr": rr})
+    batch = solve_batch(equation, method=method, x0=0.02, x1=0.021, bracket=BRACKET)
+    for i in range(0, 300, 11):
+        run = batch.run(i)
+        assert run.method == method
+        # the same steps: verdict, reason, counts and root to the bit
+        assert run.converged == bool(batch.converged[i]), (i, run.reason, batch.reason[i])
+        assert run.reason == batch.reason[i]
+        assert run.iterations == batch.iterations[i]
+        assert run.evaluations == batch.evaluations[i]
+        if run.converged:
+            assert run.root == batch.root[i]
+            assert any(s.x == run.root for s in run.steps)
+        else:
+            assert math.isnan(batch.root[i])
+
+
+@pytest.mark.parametrize("method", list(METHODS))
+def test_wandering_rows_follow_the_scalar_method_step_for_step(method):
+    # Random cubics with a ripple, random starts and brackets (many without a sign
+    # change): open methods wander far from a root on some rows; the row's scalar run
+    # must still end the same way (same arithmetic: a last-bit difference in f would
+    # send a wandering iterate elsewhere).
+    rng = np.random.default_rng(11)
+    n = 400
+    values = {k: rng.normal(size=n) for k in ("a3", "a2", "a1", "a0")}
+    equation = parse_equation("a3*x^3 + a2*x^2 + a1*x + a0 + 0.3*sin(5*x)", unknown="x",
+                              parameters=values)
+    x0 = rng.uniform(-2, 2, n)
+    batch = solve_batch(equation, method=method, x0=x0, x1=x0 + 0.1,
+                        bracket=(rng.uniform(-3, 0, n), rng.uniform(0, 3, n)), max_iter=200)
+    assert len(set(batch.reason.tolist())) >= 2  # more than one way of ending
+    for i in range(n):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
+
+
+def test_a_failing_row_among_good_rows_keeps_nan_and_its_own_reason():
+    p = np.array([4.0, 9.0, -1.0, 16.0, 25.0])  # x^2 = -1 has no real root
+    equation = parse_equation("x^2 = p", unknown="x", parameters={"p": p})
+    for method, kwargs, reason in (
+        ("brent", {"bracket": (0.0, 10.0)}, "no_sign_change"),
+        ("bisection", {"bracket": (0.0, 10.0)}, "no_sign_change"),
+        ("newton", {"x0": 1.0, "max_iter": 60}, None),
+    ):
+        batch = solve_batch(equation, method=method, **kwargs)
+        good = np.array([True, True, False, True, True])
+        assert batch.converged.tolist() == good.tolist()
+        # within the default tolerance xtol = 1e-12
+        np.testing.assert_allclose(batch.root[good], np.sqrt(p[good]), rtol=0, atol=2e-12)
+        assert math.isnan(batch.root[2]) and math.isnan(batch.residual[2])
+        if reason is not None:
+            assert batch.reason[2] == reason
+        assert batch.reason[2] in REASONS and batch.reason[2] == batch.run(2).reason
+
+
+def test_a_row_whose_values_give_no_real_value_is_not_finite_with_a_note():
+    p = np.array([4.0, -1.0, 9.0])  # sqrt(p) of a negative p: the row, not the table, fails
+    equation = parse_equation("x = sqrt(p)", unknown="x", parameters={"p": 1.0})
+    batch = solve_batch(equation, method="newton", x0=1.0, parameters={"p": p})
+    assert batch.converged.tolist() == [True, False, True]
+    assert batch.reason[1] == "not_finite" and math.isnan(batch.root[1])
+    assert batch.notes == [(1, "bad_parameters")]
+    np.testing.assert_allclose(batch.root[[0, 2]], [2.0, 3.0], rtol=1e-15)
+
+
+@pytest.mark.parametrize("method", ["bisection", "brent", "illinois", "false_position"])
+def test_jumps_and_poles_are_told_apart_from_roots_row_by_row(method):
+    c = np.array([0.3, 0.45, 0.6])
+    rows = {"jump": ("(x - c)/abs(x - c) + 0.01*(x - c)", "discontinuity"),
+            "pole": ("1/(x - c)", "not_finite"),
+            "root": ("x - c", None)}
+    for text, reason in rows.values():
+        equation = parse_equation(text, unknown="x", parameters={"c": c})
+        batch = solve_batch(equation, method=method, bracket=(0.0, 1.0), max_iter=500)
+        if reason is None:
+            assert batch.converged.all()
+            np.testing.assert_allclose(batch.root, c, rtol=1e-12)
+        else:
+            assert not batch.converged.any(), (text, batch.reason)
+            # plain false position creeps towards a pole from one side (one end held):
+            # it may reach the cap first, which is no root either
+            allowed = {reason, "max_iterations"} if method == "false_position" else {reason}
+            assert set(batch.reason) <= allowed, (text, batch.reason)
+            assert np.isnan(batch.root).all()
+        for i in range(3):  # the scalar method says the same (the one rule)
+            assert batch.run(i).reason == batch.reason[i] or (
+                batch.run(i).converged and batch.converged[i])
+
+
+def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
+    # exp(-x) - 2 exp(-2x): root ln 2; at x = 800 both terms underflow to 0.0.
+    equation = parse_equation("exp(-x) - 2*exp(-2*x)", unknown="x")
+    batch = solve_batch(equation, method="newton", x0=np.array([0.5, 800.0, 1.0]))
+    assert batch.converged.tolist() == [True, False, True]
+    assert batch.reason[1] == "not_finite"
+    np.testing.assert_allclose(batch.root[[0, 2]], math.log(2.0), rtol=1e-14)
+    secant = solve_batch(equation, method="secant", x0=np.array([0.5, 800.0]),
+                         x1=np.array([0.6, 801.0]))
+    assert secant.converged.tolist() == [True, False]
+
+
+def test_non_finite_start_values_and_values_fail_only_their_rows():
+    equation = parse_equation("x^3 - 2", unknown="x")
+    batch = solve_batch(equation, method="newton", x0=np.array([1.0, np.nan, np.inf, 2.0]))
+    assert batch.converged.tolist() == [True, False, False, True]
+    assert (batch.reason[[1, 2]] == "not_finite").all()
+    bracket = solve_batch(equation, method="brent",
+                          bracket=(np.array([0.0, -np.inf]), np.array([2.0, 2.0])))
+    assert bracket.converged.tolist() == [True, False]
+    np.testing.assert_allclose(bracket.root[0], 2 ** (1 / 3), rtol=0, atol=2e-12)
+
+
+def test_chunks_give_the_same_rows_as_one_piece():
+    rng = np.random.default_rng(3)
+    Re = 10 ** rng.uniform(np.log10(4e3), 8, 1000)
+    rr = 10 ** rng.uniform(-6, np.log10(5e-2), 1000)
+    equation = parse_equation(COLEBROOK, unknown="lam", parameters={"Re": Re, "rr": rr})
+    for method in METHODS:
+        whole = solve_batch(equation, method=method, x0=0.02, x1=0.021, bracket=BRACKET)
+        pieces = solve_batch(equation, method=method, x0=0.02, x1=0.021, bracket=BRACKET,
+                             chunk_rows=37)
+        assert (whole.converged == pieces.converged).all(), method
+        both = whole.converged
+        np.testing.assert_allclose(pieces.root[both], whole.root[both], rtol=1e-15, atol=0)
+        assert (whole.reason[~both] == pieces.reason[~both]).all()
+
+
+def test_progress_rises_to_one_and_cancel_stops_the_batch():
+    p = np.linspace(1.0, 100.0, 5000)
+    equation = parse_equation("x^2 = p", unknown="x", parameters={"p": p})
+    seen: list[float] = []
+    batch = solve_batch(equation, method="bisection", bracket=(0.0, 20.0), chunk_rows=1000,
+                        progress=seen.append)
+    assert batch.converged.all()
+    assert seen[-1] == 1.0 and seen == sorted(seen) and len(seen) > 10
+    polls = []
+
+    def cancel() -> bool:
+        polls.append(1)
+        return len(polls) > 3
+
+    with pytest.raises(BatchCancelled):
+        solve_batch(equation, method="bisection", bracket=(0.0, 20.0), chunk_rows=1000,
+                    cancel=cancel)
+    assert len(polls) == 4
+
+
+def test_settings_are_checked_as_for_one_solve():
+    equation = parse_equation("x - p", unknown="x", parameters={"p": np.arange(3.0)})
+    with pytest.raises(ValueError, match="xtol"):
+        solve_batch(equation, x0=1.0, xtol=-1.0)
+    with pytest.raises(ValueError, match="max_iter"):
+        solve_batch(equation, x0=1.0, max_iter=2.5)
+    with pytest.raises(ValueError, match="unknown method"):
+        solve_batch(equation, method="regula", x0=1.0)
+    with pytest.raises(ValueError, match="bracket"):
+        solve_batch(equation, method="brent")
+    with pytest.raises(ValueError, match="broadcast"):
+        solve_batch(equation, x0=np.ones(4))
+
+
+def test_the_record_is_read_only_and_counts_reasons():
+    equation = parse_equation("x - p", unknown="x", parameters={"p": np.arange(4.0)})
+    batch = solve_batch(equation, method="brent", bracket=(-1.0, 10.0))
+    assert isinstance(batch, Batch) and len(batch) == 4
+    with pytest.raises(ValueError):
+        batch.root[0] = 1.0
+    assert sum(batch.counts().values()) == 4
+    assert batch.row_values(2) == {"p": 2.0}
+
+
+# ----------------------------------------------------------------- sweep
+
+
+def test_sweep_follows_a_branch_to_its_turning_point_and_says_where_it_ends():
+    # x^3 - x - p = 0: three real roots for |p| < 2/(3 sqrt 3); the lowest branch folds
+    # into the middle one at p* = 2/(3 sqrt 3) (f = f' = 0 at x = -1/sqrt 3).
+    equation = parse_equation("x^3 - x - p", unknown="x", parameters={"p": -1.0})
+    values = np.linspace(-1.0, 1.0, 41)
+    batch = sweep(equation, "p", values, x0=-1.3)
+    turning = 2.0 / (3.0 * math.sqrt(3.0))
+    assert batch.converged.all()
+    for k, p in enumerate(values):
+        roots = np.roots([1.0, 0.0, -1.0, -p])  # reference: numpy.roots
+        real = np.sort(roots[np.abs(roots.imag) < 1e-9].real)
+        expected = real[0] if p < turning else real[-1]  # the branch, then the jump
+        assert abs(batch.root[k] - expected) <= 1e-12, (k, p)
+    first_past = int(np.argmax(values > turning))
+    assert (first_past, "branch_jump") in batch.notes
+    assert all(code != "branch_jump" for k, code in batch.notes if k != first_past)
+    run = batch.run(first_past)  # started from the previous row's root
+    assert run.steps[0].x == batch.root[first_past - 1]
+
+
+def test_sweep_restarts_after_a_failed_row_and_says_from_where():
+    # x^2 = p has no real root for p < 0: those rows fail, the next good row restarts.
+    equation = parse_equation("x^2 = p", unknown="x", parameters={"p": 1.0})
+    values = np.array([1.0, 2.0, -1.0, 3.0, 4.0])
+    batch = sweep(equation, "p", values, x0=1.0, max_iter=50)
+    assert batch.converged.tolist() == [True, True, False, True, True]
+    assert (2, "failed") in batch.notes and (3, "restart_last_good") in batch.notes
+    np.testing.assert_allclose(batch.root[[0, 1, 3, 4]], np.sqrt(values[[0, 1, 3, 4]]),
+                               rtol=1e-14)
+    first_bad = sweep(equation, "p", np.array([-1.0, 4.0]), x0=1.0, max_iter=50)
+    assert (1, "restart_x0") in first_bad.notes and first_bad.converged[1]
+
+
+def test_sweep_notes_a_root_leaving_the_range_and_rejects_bad_names():
+    equation = parse_equation("x - p", unknown="x", parameters={"p": 1.0})
+    batch = sweep(equation, "p", [1.0, 2.0, 5.0], x0=1.0, bounds=(0.0, 3.0))
+    assert (2, "left_range") in batch.notes and batch.converged.all()
+    with pytest.raises(ValueError, match="unknown"):
+        sweep(equation, "x", [1.0], x0=1.0)
+    with pytest.raises(ValueError, match="not a parameter"):
+        sweep(equation, "q", [1.0], x0=1.0)
+    bracketed = sweep(equation, "p", [1.0, 2.0], method="brent", bracket=(0.0, 3.0))
+    assert (0, "fixed_bracket") in bracketed.notes and bracketed.converged.all()
+
+
+def test_parameters_go_over_the_equations_own_and_unknown_names_are_refused():
+    from solvers import EquationError
+
+    equation = parse_equation("x^2 - p*q", unknown="x", parameters={"p": 2.0, "q": 1.0})
+    batch = solve_batch(equation, x0=1.0, parameters={"p": np.array([1.0, 4.0])})
+    np.testing.assert_allclose(batch.root, [1.0, 2.0], rtol=1e-15)
+    with pytest.raises(EquationError, match="'z' does not appear"):
+        solve_batch(equation, x0=1.0, parameters={"z": np.array([1.0, 4.0])})
+    np.testing.assert_allclose(sweep(equation, "p", [1.0, 4.0], x0=1.0,
+                                     parameters={"q": 4.0}).root, [2.0, 4.0], rtol=1e-15)
+
+
+def test_a_table_from_text_and_columns_takes_start_columns_and_names_bad_ones():
+    from solvers.batch import solve_table
+
+    p = np.array([4.0, 9.0, 16.0])
+    done = solve_table("x^2 = p", [("p", p), ("x0", np.array([1.0, 1.0, 1.0]))],
+                       unknown="x")
+    assert done.parameters == ("p",) and done.starts == ("x0",)
+    np.testing.assert_allclose(done.batch.root, [2.0, 3.0, 4.0], rtol=1e-15)
+    with pytest.raises(ValueError, match="column 2 'Q' is not a parameter"):
+        solve_table("x^2 = p", [("p", p), ("Q", p)], unknown="x", x0=1.0)
+    with pytest.raises(ValueError, match="needs a bracket"):
+        solve_table("x^2 = p", [("p", p)], unknown="x", method="brent")
+    # the first row gives part of the equation no value: parsed with the next row instead
+    done = solve_table("x = sqrt(p)", [("p", np.array([-1.0, 4.0]))], unknown="x", x0=1.0)
+    assert done.batch.converged.tolist() == [False, True]
+    assert done.batch.notes == [(0, "bad_parameters")]
+
+
+def test_a_sweep_resumed_from_a_scanned_root_follows_that_branch():
+    # x^3 - x - p: between the folds at p = -+2/(3 sqrt 3) there are three branches; from
+    # p = 0 the middle one (x = 0 there) runs down to the lower fold at p* = +2/(3 sqrt 3).
+    from solvers import scan
+    from solvers.batch import resume_sweep
+
+    equation = parse_equation("x^3 - x - p", unknown="x", parameters={"p": -1.0})
+    values = np.linspace(-1.0, 1.0, 41)
+    batch = sweep(equation, "p", values, x0=-1.3)
+    index = 20  # p = 0
+    row = equation.bind(batch.row_values(index))
+    found = scan(row.f, -2.0, 2.0, fprime=row.fprime)
+    middle = sorted(r.x for r in found.roots)[1]
+    assert abs(middle) < 1e-12  # the scan's three roots at p = 0: -1, 0, 1
+    resumed = resume_sweep(batch, index, middle)
+    assert (index, "restart_scan") in resumed.notes
+    np.testing.assert_array_equal(resumed.root[:index], batch.root[:index])
+    turning = 2.0 / (3.0 * math.sqrt(3.0))
+    for k in range(index, 41):
+        p = values[k]
+        roots = np.roots([1.0, 0.0, -1.0, -p])  # reference: numpy.roots
+        real = np.sort(roots[np.abs(roots.imag) < 1e-9].real)
+        if p < turning:
+            assert abs(resumed.root[k] - real[1]) <= 1e-12, (k, p)  # the middle branch
+    # past the fold the middle branch ends: a jump, or a row that fails there
+    assert any(code in ("branch_jump", "failed") and k > index for k, code in resumed.notes)
+    assert resumed.run(index).steps[0].x == middle
+
+
+def test_every_method_of_the_registry_has_an_array_kernel():
+    from solvers.batch import KERNELS
+
+    assert set(KERNELS) == set(METHODS)  # one dispatch table, keyed like METHODS
+
+
+def test_a_sweeps_rows_are_rebuilt_exactly():
+    equation = parse_equation("x^3 - x - p + 0.1*sin(7*x)", unknown="x",
+                              parameters={"p": 0.0})
+    batch = sweep(equation, "p", np.linspace(-1.0, 1.0, 61), x0=-1.3)
+    for i in range(batch.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i])
+        assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
