@@ -5,9 +5,10 @@ the unknowns with their start values (a table filled from the names the equation
 without a value; edit the start column), the parameters (name, value), the methods, Solve;
 then one lane per method (its summary over its iteration table: k, block, every unknown,
 ||F||, step length, damping) beside the convergence view (||F|| and step length per
-iterate, :mod:`app.documents.system_figures`). The text is read in the "system-preview" lane and
-solved in the "system-solve" lane of the window's job runner (:mod:`app.window.workers`),
-never on the UI thread; every word comes from :mod:`app.documents.words`.
+iterate, :mod:`app.documents.system_figures`). The text is read in the "system-preview"
+lane and solved in the "system-solve" lane of the window's job runner
+(:mod:`app.window.workers`; the work itself is :mod:`app.window.system_work`), never on the
+UI thread; every word comes from :mod:`app.documents.words`.
 
 Files: Open…, Save (Ctrl+S: to the file opened or last saved), Save as…, and Recent (the
 main window's one list of recent files). Unsaved work is autosaved by the main window's
@@ -18,8 +19,6 @@ window's control (:func:`app.window.lanes.digits_box`).
 
 from __future__ import annotations
 
-from collections.abc import Sequence
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -48,83 +47,13 @@ from app.window.lanes import digits_box
 from app.window.models import ParametersModel, number_font
 from app.window.recovery import RecoveryStore
 from app.window.system_models import SystemRunModel, UnknownsModel
+from app.window.system_work import Reading, read_system, solve_text
 from app.window.views import CopyTableView
-from app.window.workers import Cancelled, JobRunner
+from app.window.workers import JobRunner
 
 DEBOUNCE_MS = 250
 AUTOSAVE_MS = 20_000  # as often as the main window autosaves
 SYSTEM_METHOD_NAMES = tuple(words.SYSTEM_METHOD_TITLES)
-
-
-@dataclass(frozen=True)
-class Reading:
-    """What the text means as a system: the unknowns and parameter names, or why not."""
-
-    unknowns: tuple[str, ...] = ()
-    parameters: tuple[str, ...] = ()
-    definitions: tuple[str, ...] = ()
-    blocks: str = ""
-    error: str = ""
-
-
-def read_system(text: str, values: dict[str, float], given: Sequence[str] = ()) -> Reading:
-    """The names of a system text (in a worker; never raises for bad text). The unknowns are
-    ``given``, or else every name without a value; every other name is a parameter."""
-    from solvers.equation import EquationError
-    from solvers.equation.lines import read_lines
-    from solvers.systems import parse_system
-    from solvers.systems.model import _classifier
-
-    try:
-        reading = read_lines(text, _classifier(values, tuple(given) or None))
-    except EquationError as exc:
-        return Reading(error=str(exc))
-    unknowns = tuple(given) or tuple(n for n in reading.names if n not in values)
-    params = tuple(n for n in reading.names if n not in unknowns)
-    try:
-        system = parse_system(text, unknowns or None,
-                              {n: values[n] for n in params if n in values})
-    except EquationError as exc:
-        return Reading(unknowns, params, error=str(exc))
-    return Reading(system.unknowns, params, system.definitions,
-                   words.blocks_text(system.blocks, system.unknowns))
-
-
-def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, Any],
-               starts: dict[str, float], methods: Sequence[str], settings: Any,
-               progress: Any = None, cancelled: Any = None,
-               units: dict[str, str] | None = None,
-               dimension_check: bool = True) -> Any:
-    """Parse and solve (in a worker): the SystemSolution of a worksheet built from the fields.
-    ``progress(fraction)`` runs across the methods (each method's share from inside its
-    solve); ``cancelled()`` is polled inside every solve, each iteration and line-search
-    trial (a cancel raises :class:`solvers.SystemCancelled`, which the runner reports as
-    cancelled)."""
-    from solvers.systems import solve_system
-    from solvers.systems.pipeline import SystemSolution, system_of
-
-    units = units or {}
-    spec = SystemSpec(tuple(StartValue(n, starts[n], units.get(n)) for n in unknowns),
-                      tuple(methods))
-    ws = Worksheet(equation=text, parameters=tuple(Parameter(n, v)
-                                                   for n, v in parameters.items()),
-                   settings=settings, system=spec, dimension_check=dimension_check)
-    system = system_of(ws)
-    share = 1.0 / (len(methods) + 1)  # the parse counts as one share
-    runs = []
-    for i, method in enumerate(methods):
-        if cancelled is not None and cancelled():
-            raise Cancelled()
-
-        def within(f: float, i: int = i) -> None:
-            if progress is not None:
-                progress(share * (1 + i + f))
-
-        runs.append(solve_system(system, ws.system.start(), method=method, xtol=settings.xtol,
-                                 rtol=settings.rtol, ftol=settings.ftol,
-                                 max_iter=settings.max_iter, progress=within,
-                                 cancel=cancelled))
-    return SystemSolution(ws, system, tuple(runs))
 
 
 class SystemWindow(QWidget):

@@ -1,0 +1,84 @@
+"""The system window's work off the UI thread: reading a system text (its unknowns,
+parameters and block order, or why not) and solving it with the methods ticked. Plain
+functions called in the window's job lanes; they never touch a widget."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from app.documents import words
+from app.documents.worksheet import Parameter, StartValue, SystemSpec, Worksheet
+from app.window.workers import Cancelled
+
+
+@dataclass(frozen=True)
+class Reading:
+    """What the text means as a system: the unknowns and parameter names, or why not."""
+
+    unknowns: tuple[str, ...] = ()
+    parameters: tuple[str, ...] = ()
+    definitions: tuple[str, ...] = ()
+    blocks: str = ""
+    error: str = ""
+
+
+def read_system(text: str, values: dict[str, float], given: Sequence[str] = ()) -> Reading:
+    """The names of a system text (in a worker; never raises for bad text). The unknowns are
+    ``given``, or else every name without a value; every other name is a parameter."""
+    from solvers.equation import EquationError
+    from solvers.equation.lines import read_lines
+    from solvers.systems import parse_system
+    from solvers.systems.model import _classifier
+
+    try:
+        reading = read_lines(text, _classifier(values, tuple(given) or None))
+    except EquationError as exc:
+        return Reading(error=str(exc))
+    unknowns = tuple(given) or tuple(n for n in reading.names if n not in values)
+    params = tuple(n for n in reading.names if n not in unknowns)
+    try:
+        system = parse_system(text, unknowns or None,
+                              {n: values[n] for n in params if n in values})
+    except EquationError as exc:
+        return Reading(unknowns, params, error=str(exc))
+    return Reading(system.unknowns, params, system.definitions,
+                   words.blocks_text(system.blocks, system.unknowns))
+
+
+def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, Any],
+               starts: dict[str, float], methods: Sequence[str], settings: Any,
+               progress: Any = None, cancelled: Any = None,
+               units: dict[str, str] | None = None,
+               dimension_check: bool = True) -> Any:
+    """Parse and solve (in a worker): the SystemSolution of a worksheet built from the fields.
+    ``progress(fraction)`` runs across the methods (each method's share from inside its
+    solve); ``cancelled()`` is polled inside every solve, each iteration and line-search
+    trial (a cancel raises :class:`solvers.SystemCancelled`, which the runner reports as
+    cancelled)."""
+    from solvers.systems import solve_system
+    from solvers.systems.pipeline import SystemSolution, system_of
+
+    units = units or {}
+    spec = SystemSpec(tuple(StartValue(n, starts[n], units.get(n)) for n in unknowns),
+                      tuple(methods))
+    ws = Worksheet(equation=text, parameters=tuple(Parameter(n, v)
+                                                   for n, v in parameters.items()),
+                   settings=settings, system=spec, dimension_check=dimension_check)
+    system = system_of(ws)
+    share = 1.0 / (len(methods) + 1)  # the parse counts as one share
+    runs = []
+    for i, method in enumerate(methods):
+        if cancelled is not None and cancelled():
+            raise Cancelled()
+
+        def within(f: float, i: int = i) -> None:
+            if progress is not None:
+                progress(share * (1 + i + f))
+
+        runs.append(solve_system(system, ws.system.start(), method=method, xtol=settings.xtol,
+                                 rtol=settings.rtol, ftol=settings.ftol,
+                                 max_iter=settings.max_iter, progress=within,
+                                 cancel=cancelled))
+    return SystemSolution(ws, system, tuple(runs))
