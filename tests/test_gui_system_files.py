@@ -300,3 +300,26 @@ def test_results_of_earlier_inputs_say_so(qtbot, window):
     solution = _solve(qtbot, sw)
     assert not sw.results_note.isVisible()
     assert solution.runs[0].root == pytest.approx({"x": 6.5, "y": -3.5})  # by hand
+
+
+def test_unknowns_with_units_show_them_in_the_lanes_and_the_roots(qtbot, window, dialogs):
+    # found by looking at the window: the units sample showed "Q1 = 42.56" with no unit
+    sample = SAMPLES / "systems" / "pump-two-parallel-lines-units.json"
+    units = worksheet.load(sample).system.units()
+    assert units, "the sample gives its unknowns units"
+    sw = _open_system_window(qtbot, window)
+    dialogs.open_name = str(sample)
+    sw.activateWindow()
+    QTest.keyClick(sw, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: "equations in" in sw.status.text(), timeout=10_000)
+    solution = _solve(qtbot, sw)
+    run = solution.runs[0]
+    model = sw.lane_models[run.method]
+    for i, name in enumerate(run.unknowns):
+        unit = units.get(name)
+        assert model.headers()[2 + i] == (f"{name} [{unit}]" if unit else name)
+        if unit:
+            assert f"{name} = " in sw.status.text() and f" {unit}" in sw.status.text()
+    # the same operating point as the sample in SI (the core on the other file)
+    si = solve_worksheet(worksheet.load(PUMP)).runs[0].root
+    assert run.root["H"] == pytest.approx(si["H"], rel=1e-9)

@@ -101,6 +101,7 @@ class SystemRunModel(QAbstractTableModel):
         super().__init__(parent)
         self.run: Any = None
         self._unknowns: tuple[str, ...] = ()
+        self._units: dict[str, str] = {}
         self._font = number_font()
         self._digits = DEFAULT_DIGITS
 
@@ -110,14 +111,18 @@ class SystemRunModel(QAbstractTableModel):
             self.dataChanged.emit(self.index(0, 0),
                                   self.index(self.rowCount() - 1, self.columnCount() - 1))
 
-    def set_run(self, run: Any) -> None:
+    def set_run(self, run: Any, units: dict[str, str] | None = None) -> None:
+        """Show ``run``; ``units`` (unknown -> unit) label the unknowns' columns ``Q1 [L/s]``
+        as the tables window labels its columns (the iterates are in those units)."""
         self.beginResetModel()
         self.run = run
         self._unknowns = tuple(run.unknowns) if run is not None else ()
+        self._units = dict(units or {})
         self.endResetModel()
 
     def headers(self) -> list[str]:
-        return ["k", "block", *self._unknowns, "||F||", "step length", "damping"]
+        named = [f"{n} [{self._units[n]}]" if self._units.get(n) else n for n in self._unknowns]
+        return ["k", "block", *named, "||F||", "step length", "damping"]
 
     def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
         return 0 if parent.isValid() or self.run is None else len(self.run.steps)

@@ -345,7 +345,7 @@ class SystemWindow(QWidget):
             summary.setWordWrap(True)
             model = SystemRunModel(self)
             model.set_digits(self.digits.value())
-            model.set_run(run)
+            model.set_run(run, self.unknown_units)
             view = CopyTableView()
             view.setModel(model)
             view.resizeColumnsToContents()  # every figure of the iterates visible
@@ -364,7 +364,9 @@ class SystemWindow(QWidget):
         digits = self.digits.value()
         return "; ".join(
             f"{words.system_method_title(r.method)}: "
-            + ", ".join(f"{n} = {words.number(v, digits)}" for n, v in r.root.items())
+            + ", ".join(f"{n} = {words.number(v, digits)}"
+                        + (f" {self.unknown_units[n]}" if self.unknown_units.get(n) else "")
+                        for n, v in r.root.items())
             + ("" if r.converged else f" — did not converge ({r.reason})")
             for r in solution.runs)
 
