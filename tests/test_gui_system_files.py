@@ -116,6 +116,10 @@ def test_a_clean_close_leaves_no_recovery_copy(qtbot, window, dialogs):
     dialogs.question = Button.Discard
     assert sw.close()
     assert not sw.recovery.exists()
+    assert not sw._autosave.isActive()  # a closed window writes no copy behind the user
+    # shown again (Run > System of equations), it autosaves again
+    assert _open_system_window(qtbot, window) is sw
+    assert sw._autosave.isActive()
 
 
 def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_path):

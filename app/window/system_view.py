@@ -538,6 +538,10 @@ class SystemWindow(QWidget):
             self.setWindowTitle(f"zerotrace — {ws.title}")
         self._saved = Worksheet(equation="") if modified else self.worksheet()
 
+    def showEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        self._autosave.start()  # stopped by a close; the window may be shown again
+        super().showEvent(event)
+
     def closeEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
         if not self.maybe_save():
             event.ignore()
