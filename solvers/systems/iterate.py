@@ -103,7 +103,9 @@ class Outcome:
 
 
 def _phi(f: np.ndarray) -> float:
-    return 0.5 * float(f @ f)
+    """||F||^2 / 2; inf when it overflows (a trial step far out), never a warning."""
+    with np.errstate(over="ignore"):
+        return 0.5 * float(f @ f)
 
 
 def _finite(a: np.ndarray) -> bool:
