@@ -217,18 +217,26 @@ def _stop_on_residual(p: Problem, x: np.ndarray, f: np.ndarray, ftol: float, xto
     return None
 
 
-def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
-           max_iter: int) -> Outcome:
-    """Newton with the line search; see the module docstring for the rules."""
+def _start(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
+           ) -> tuple[np.ndarray, np.ndarray, Outcome | None]:
+    """F at the start point, recorded as iterate 0; an Outcome when the run ends there
+    (F undefined, or the start already meets a residual stop)."""
     x = x0.copy()
     p.counter.evaluations += 1
     f = p.F(x)
     p.record(x, f, 0.0, 0.0, False)
     if not _finite(f):
-        return Outcome(x, NOT_FINITE, 0)
+        return x, f, Outcome(x, NOT_FINITE, 0)
     stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
-    if stop:
-        return Outcome(x, stop, 0)
+    return x, f, (Outcome(x, stop, 0) if stop else None)
+
+
+def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
+           max_iter: int) -> Outcome:
+    """Newton with the line search; see the module docstring for the rules."""
+    x, f, ended = _start(p, x0, xtol=xtol, rtol=rtol, ftol=ftol)
+    if ended:
+        return ended
     for k in range(1, max_iter + 1):
         p.tick(k)
         if p.J is None:
@@ -278,15 +286,9 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
 def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
             max_iter: int) -> Outcome:
     """Broyden's good update with the same line search; differences only (no J)."""
-    x = x0.copy()
-    p.counter.evaluations += 1
-    f = p.F(x)
-    p.record(x, f, 0.0, 0.0, False)
-    if not _finite(f):
-        return Outcome(x, NOT_FINITE, 0)
-    stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
-    if stop:
-        return Outcome(x, stop, 0)
+    x, f, ended = _start(p, x0, xtol=xtol, rtol=rtol, ftol=ftol)
+    if ended:
+        return ended
     b = _differences(p, x, f)
     fresh = True
     k = 0
