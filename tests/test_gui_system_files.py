@@ -208,6 +208,7 @@ def test_a_bad_file_and_a_bad_equation_are_one_line(qtbot, window, dialogs, tmp_
     qtbot.waitUntil(lambda: sw.reading.error != "", timeout=10_000)
     assert "\n" not in sw.status.text() and "Traceback" not in sw.status.text()
     assert sw.status.text() == sw.reading.error
+    assert "#8A2B00" in sw.status.styleSheet()  # said in the warning colour, as a problem
 
 
 def test_cancel_reaches_inside_a_long_solve_and_the_window_stays_live(qtbot, window,

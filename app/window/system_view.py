@@ -247,7 +247,7 @@ class SystemWindow(QWidget):
         for model in self.lane_models.values():
             model.set_digits(digits)
         if self.solution is not None:
-            self.status.setText(self._roots_text(self.solution))
+            self._say(self._roots_text(self.solution))
 
     # -- reading the text
     def _text_changed(self) -> None:
@@ -269,7 +269,7 @@ class SystemWindow(QWidget):
         values = self._values()
         given = self.given_unknowns()
         if not text.strip():
-            self.status.setText("type the equations, one per line")
+            self._say("type the equations, one per line")
             return
         self.jobs.submit("system-preview", lambda _p, _c: read_system(text, values, given),
                          on_done=self._show_reading)
@@ -284,10 +284,15 @@ class SystemWindow(QWidget):
         shown = [n for n in self.parameters.names() if n in used]
         self.parameters.set_names(shown + [n for n in reading.parameters if n not in shown])
         if reading.error:
-            self.status.setText(reading.error)
+            self._say(reading.error, problem=True)
         else:
-            self.status.setText(f"{len(reading.unknowns)} equations in "
-                                f"{', '.join(reading.unknowns)}; {reading.blocks}")
+            self._say(f"{len(reading.unknowns)} equations in "
+                      f"{', '.join(reading.unknowns)}; {reading.blocks}")
+
+    def _say(self, text: str, problem: bool = False) -> None:
+        """The one status line; a problem in the warning colour the main window uses."""
+        self.status.setText(text)
+        self.status.setStyleSheet("color: #8A2B00;" if problem else "")
 
     # -- solving
     def solve(self) -> None:
@@ -298,26 +303,26 @@ class SystemWindow(QWidget):
         bad = [n for n, v in starts.items() if v is None]
         methods = [m for m, box in self.method_boxes.items() if box.isChecked()]
         if not starts:
-            self.status.setText("no unknowns yet: type the equations first")
+            self._say("no unknowns yet: type the equations first", problem=True)
             return
         if bad:
-            self.status.setText(f"start value of {bad[0]}: not a finite number")
+            self._say(f"start value of {bad[0]}: not a finite number", problem=True)
             return
         if not methods:
-            self.status.setText("tick at least one method")
+            self._say("tick at least one method", problem=True)
             return
         unknowns = self.unknowns.names()
         values = self._values()
         settings = self.settings
         units, check = dict(self.unknown_units), self.dimension_check
         asked = self.worksheet()
-        self.status.setText("solving…")
+        self._say("solving…")
         self.cancel_button.setEnabled(True)
 
         def ended(message: str | None = None) -> None:
             self.cancel_button.setEnabled(False)
             if message is not None:
-                self.status.setText(message)
+                self._say(message)
 
         def done(solution: Any) -> None:
             ended()
@@ -330,7 +335,7 @@ class SystemWindow(QWidget):
                                                  methods, settings, p, c, units, check),
                          on_done=done, on_error=ended,
                          on_cancel=lambda: ended("cancelled: nothing was solved"),
-                         on_progress=lambda f: self.status.setText(
+                         on_progress=lambda f: self._say(
                              f"solving… {round(100 * f)} %"))
 
     def show_solution(self, solution: Any) -> None:
@@ -358,7 +363,7 @@ class SystemWindow(QWidget):
         ax = self.convergence.new_axes()
         draw_system_convergence(ax, list(solution.runs))
         self.convergence.redraw()
-        self.status.setText(self._roots_text(solution))
+        self._say(self._roots_text(solution))
 
     def _roots_text(self, solution: Any) -> str:
         digits = self.digits.value()
@@ -415,17 +420,17 @@ class SystemWindow(QWidget):
 
         ws = self.worksheet()
         if ws.system is None or not ws.equation.strip():
-            self.status.setText("nothing to save yet: type the equations first")
+            self._say("nothing to save yet: type the equations first", problem=True)
             return False
         try:
             save(ws, path)
         except (OSError, ValueError) as exc:
             why = write_problem(path, exc)
-            self.status.setText(f"not saved: {why}")
+            self._say(f"not saved: {why}", problem=True)
             QMessageBox.warning(self, "Cannot save worksheet",
                                 f"{path} was not written:\n{why}\n\nNothing on screen was lost.")
             return False
-        self.status.setText(f"saved {path}")
+        self._say(f"saved {path}")
         self._saved = ws
         self.path = path
         self.recovery.clear()
@@ -454,7 +459,7 @@ class SystemWindow(QWidget):
             ws = load(path)
         except WorksheetError as exc:  # load says what is wrong in one line
             why = str(exc).splitlines()[0] if str(exc) else "cannot be read"
-            self.status.setText(f"{path.name} was not opened: {why}")
+            self._say(f"{path.name} was not opened: {why}", problem=True)
             QMessageBox.warning(self, "Cannot open worksheet",
                                 f"{path.name} was not opened:\n{why}\n\n"
                                 "The system on screen is unchanged.")
@@ -462,7 +467,7 @@ class SystemWindow(QWidget):
         if ws.system is None:  # one equation: the main window's job (it asks about its own)
             if self.files is not None:
                 return bool(self.files.open_path(path))
-            self.status.setText(f"{path.name} holds one equation, not a system: open it "
+            self._say(f"{path.name} holds one equation, not a system: open it "
                                 "in the main window")
             return False
         if not self.maybe_save():
@@ -470,7 +475,7 @@ class SystemWindow(QWidget):
         self.load_worksheet(ws, path)
         if self.files is not None:
             self.files.add_recent(path)
-        self.status.setText(f"opened {path.name}")
+        self._say(f"opened {path.name}")
         return True
 
     def fill_recent(self) -> None:
@@ -489,7 +494,7 @@ class SystemWindow(QWidget):
         if self.modified and self.editor.toPlainText().strip():
             ok = self.recovery.write(self.worksheet(), str(self.path) if self.path else None)
             if not ok:
-                self.status.setText(self.recovery.last_error)
+                self._say(self.recovery.last_error, problem=True)
             return ok
         self.recovery.clear()
         return False
