@@ -117,3 +117,41 @@ def solve_and_wait(qtbot: Any, w: Any) -> Any:
     qtbot.waitUntil(lambda: w.solution is not None and w.solution is not before
                     and not w.runner.is_busy("solve"), timeout=20_000)
     return w.solution
+
+
+def solve_by_keys(qtbot: Any, w: Any) -> Any:
+    """Ctrl+Return in the equation editor, then wait for the answer on screen."""
+    from PySide6.QtCore import Qt
+
+    before = w.solution
+    qtbot.keyClick(w.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: w.solution is not None and w.solution is not before
+                    and not w.runner.is_busy("solve"), timeout=20_000)
+    return w.solution
+
+
+def open_system_window(qtbot: Any, w: Any) -> Any:
+    """Ctrl+Shift+Y on the main window; the system window once it is on screen."""
+    from PySide6.QtCore import Qt
+    from PySide6.QtTest import QTest
+
+    w.activateWindow()  # the shortcut belongs to the main window
+    qtbot.waitUntil(w.isActiveWindow, timeout=5000)
+    QTest.keyClick(w, Qt.Key.Key_Y,
+                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
+    qtbot.waitUntil(lambda: getattr(w, "system_window", None) is not None
+                    and w.system_window.isVisible(), timeout=5000)
+    qtbot.waitExposed(w.system_window)
+    return w.system_window
+
+
+def solve_system_by_click(qtbot: Any, sw: Any) -> Any:
+    """Click the system window's Solve, then wait for its solution."""
+    from PySide6.QtCore import Qt
+    from PySide6.QtTest import QTest
+
+    before = sw.solution
+    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: sw.solution is not None and sw.solution is not before
+                    and not sw.jobs.is_busy("system-solve"), timeout=20_000)
+    return sw.solution

@@ -17,7 +17,7 @@ from PySide6.QtTest import QTest
 from app.documents.words import start_text
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import settle, type_equation  # noqa: E402
+from gui_helpers import settle, solve_by_keys, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
@@ -37,20 +37,12 @@ def _type(qtbot, field, text: str) -> None:
         qtbot.keyClick(field, Qt.Key.Key_Delete)
 
 
-def _solve(qtbot, window):
-    """Ctrl+Return, then wait for the answer on screen."""
-    before = window.solution
-    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
-    qtbot.waitUntil(lambda: window.solution is not None and window.solution is not before
-                    and not window.runner.is_busy("solve"), timeout=20_000)
-    return window.solution
-
 
 def _plot_on_range(qtbot, window, text: str, a: float, b: float):
     type_equation(qtbot, window, text)
     _type(qtbot, window.inputs.fields["from"], repr(a))
     _type(qtbot, window.inputs.fields["to"], repr(b))
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     canvas = window.plot.function_view.canvas
     canvas.draw()
     return canvas, window.plot.ax
@@ -86,7 +78,7 @@ def test_shift_click_right_click_and_drag_on_the_canvas_set_the_start_values(qtb
     assert fields["x0"].value() == pytest.approx(2.5, abs=0.02)
     # And the picks are used: Solve from them finds the root in [1, 3], which is
     # (3 + sqrt 5)/2 ≈ 2.618 (quadratic formula, common practice).
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     assert solution.start.x0 == fields["x0"].value()
     assert solution.start.bracket == (fields["a"].value(), fields["b"].value())
     fp = next(r for r in solution.runs if r.method == "false_position")
@@ -155,7 +147,7 @@ def test_each_solve_updates_the_kept_axes_instead_of_building_a_new_one(qtbot, w
     canvas, ax = _plot_on_range(qtbot, window, "x^2 - 3*x + 1", 0.0, 4.0)
     line = window.plot._kept["line"]
     type_equation(qtbot, window, "x^2 - 3*x + 2")
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     assert window.plot.ax is ax and window.plot._kept["line"] is line
     # The kept line carries the new curve: f(0) = 2 now (it was 1).
     x, y = line.get_data()
@@ -193,7 +185,7 @@ def test_any_of_the_six_methods_can_be_chosen_and_the_choice_is_saved(qtbot, win
     assert window.inputs.methods() == chosen
     assert tuple(window.lanes.lanes) == chosen  # the lanes follow at once
     assert window.isWindowModified()
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     assert tuple(r.method for r in solution.runs) == chosen
     # Reference: scipy.optimize.brentq on the same compiled residual, [0.005, 0.1].
     f = pipeline.equation_of(solution.worksheet).f
@@ -229,7 +221,7 @@ def test_blank_start_values_are_seeded_from_the_scan_range(qtbot, window):
     settle(qtbot, window)
     for key in ("x0", "x1", "a", "b"):
         _type(qtbot, window.inputs.fields[key], "")
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     f = pipeline.equation_of(solution.worksheet).f
     reference = brentq(f, 0.005, 0.1, xtol=1e-15, rtol=8.9e-16)
     start = solution.start
@@ -276,7 +268,7 @@ def test_methods_that_found_different_roots_are_said_to_disagree(qtbot, window, 
     type_equation(qtbot, window, "x^2 - 2")
     for key, value in (("x0", "1"), ("x1", "-1.1"), ("a", "0"), ("b", "3")):
         _type(qtbot, window.inputs.fields[key], value)
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     assert solution.agreement_digits is None
     groups = pipeline.agreement(solution.runs).groups
     assert [round(x, 12) for x, _m in groups] == [round(-math.sqrt(2), 12),
@@ -313,7 +305,7 @@ def test_tables_show_the_figures_asked_for_or_say_some_are_hidden(qtbot, window)
     qtbot.keyClicks(spin, "15")
     qtbot.keyClick(spin, Qt.Key.Key_Enter)
     assert spin.value() == 15
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     qtbot.wait(20)
     table = window.lanes.lanes["newton"].table
     model = table.model()
@@ -332,7 +324,7 @@ def test_tables_show_the_figures_asked_for_or_say_some_are_hidden(qtbot, window)
                 assert _painted(table, r, c) == f"{value:.15g}", (r, c)
     # The widths the user chose survive the next Solve.
     width = table.columnWidth(1)
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     assert table.columnWidth(1) == width
 
 
@@ -457,7 +449,7 @@ def test_a_design_value_taken_from_one_of_two_different_roots_says_so(qtbot, win
     type_equation(qtbot, window, "x^2 - 2")
     for key, value in (("x0", "1"), ("x1", "-1.1"), ("a", "0"), ("b", "3")):
         _type(qtbot, window.inputs.fields[key], value)
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     window.strip.editor.setFocus()
     qtbot.keyClick(window.strip.editor, Qt.Key.Key_D, Qt.KeyboardModifier.ControlModifier)
     reason = window.worksheet().selection.reason
@@ -487,7 +479,7 @@ def test_log_y_button_shows_the_whole_curve_and_keeps_the_crossings(qtbot, windo
 def test_the_convergence_view_names_the_real_unknown(qtbot, window):
     type_equation(qtbot, window, "V^3 - 2*V - 1")
     _type(qtbot, window.inputs.fields["x0"], "2")
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     bar = window.plot.tabBar()
     qtbot.mouseClick(bar, LEFT, pos=bar.tabRect(1).center())  # the Convergence tab
     assert window.plot.currentWidget() is window.plot.convergence_view
@@ -501,7 +493,7 @@ def test_iteration_tables_are_headed_in_the_unknowns_own_name(qtbot, window):
     "x, f(x)" beside an equation with no x in it, and never "f(f)"."""
     assert window.load_sample("cooling-water-friction.json")
     settle(qtbot, window)
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     assert solution.equation.unknown == "f"
     lane = window.lanes.lanes["newton"]
     header = lane.table.horizontalHeader()
@@ -509,7 +501,7 @@ def test_iteration_tables_are_headed_in_the_unknowns_own_name(qtbot, window):
     assert titles[:5] == ["k", "f", "F(f)", "F′(f)", "Δf"]
     type_equation(qtbot, window, "V^3 - 2*V - 1")
     _type(qtbot, window.inputs.fields["x0"], "2")
-    _solve(qtbot, window)
+    solve_by_keys(qtbot, window)
     lane = window.lanes.lanes["newton"]
     assert [lane.model.headerData(c, Qt.Orientation.Horizontal) for c in range(3)] == \
         ["k", "V", "f(V)"]

@@ -19,7 +19,7 @@ from app.window.recovery import RecoveryStore
 from solvers.systems.pipeline import solve_worksheet
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import SAMPLES  # noqa: E402
+from gui_helpers import SAMPLES, open_system_window, solve_system_by_click  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)
 
@@ -27,30 +27,12 @@ Button = QMessageBox.StandardButton
 PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
 
 
-def _open_system_window(qtbot, window):
-    window.activateWindow()
-    qtbot.waitUntil(window.isActiveWindow, timeout=5000)
-    QTest.keyClick(window, Qt.Key.Key_Y,
-                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
-    qtbot.waitUntil(lambda: getattr(window, "system_window", None) is not None
-                    and window.system_window.isVisible(), timeout=5000)
-    sw = window.system_window
-    qtbot.waitExposed(sw)
-    return sw
-
 
 def _type_system(qtbot, sw, text: str, names: list[str]) -> None:
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, text)
     qtbot.waitUntil(lambda: sw.unknowns.names() == names, timeout=10_000)
 
-
-def _solve(qtbot, sw):
-    before = sw.solution
-    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: sw.solution is not None and sw.solution is not before
-                    and not sw.jobs.is_busy("system-solve"), timeout=20_000)
-    return sw.solution
 
 
 def _abandon(w) -> None:
@@ -69,7 +51,7 @@ def test_unsaved_system_work_is_offered_at_the_next_start(qtbot, isolated, dialo
     qtbot.addWidget(first)
     first.show()
     qtbot.waitExposed(first)
-    sw = _open_system_window(qtbot, first)
+    sw = open_system_window(qtbot, first)
     _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     assert sw.modified
     assert sw.autosave_now()  # what its autosave timer does every 20 s
@@ -94,7 +76,7 @@ def test_unsaved_system_work_is_offered_at_the_next_start(qtbot, isolated, dialo
     assert restored.modified, "recovered work is unsaved until the user saves it"
     assert not sw.recovery.exists(), "the offered copy is taken over by the new session"
     assert restored.recovery.exists(), "and autosaved again by the new session"
-    solution = _solve(qtbot, restored)
+    solution = solve_system_by_click(qtbot, restored)
     assert solution.runs[0].root == pytest.approx({"x": 2.0, "y": 1.0})  # by hand
 
     # declining discards the copy, so it is not offered again
@@ -110,7 +92,7 @@ def test_unsaved_system_work_is_offered_at_the_next_start(qtbot, isolated, dialo
 
 
 def test_a_clean_close_leaves_no_recovery_copy(qtbot, window, dialogs):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     assert sw.autosave_now() and sw.recovery.exists()
     dialogs.question = Button.Discard
@@ -118,12 +100,12 @@ def test_a_clean_close_leaves_no_recovery_copy(qtbot, window, dialogs):
     assert not sw.recovery.exists()
     assert not sw._autosave.isActive()  # a closed window writes no copy behind the user
     # shown again (Run > System of equations), it autosaves again
-    assert _open_system_window(qtbot, window) is sw
+    assert open_system_window(qtbot, window) is sw
     assert sw._autosave.isActive()
 
 
 def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_path):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     _type_system(qtbot, sw, "x^2 + y^2 = 4; x*y = 1", ["x", "y"])
     dialogs.save_name = str(tmp_path / "pair")  # no suffix: .json is added
     sw.activateWindow()
@@ -171,7 +153,7 @@ def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_pa
         QTest.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
         QTest.keyClicks(editor, text)
         QTest.keyClick(editor, Qt.Key.Key_Return)
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     model = sw.lane_models["newton"]
     last = model.rowCount() - 1
     x = solution.runs[0].root["x"]
@@ -190,7 +172,7 @@ def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_pa
 
 
 def test_a_bad_file_and_a_bad_equation_are_one_line(qtbot, window, dialogs, tmp_path):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     bad = tmp_path / "broken.json"
     bad.write_text('{"format": "zerotrace-worksheet", "version": 1, "equation": ')
@@ -238,7 +220,7 @@ def test_cancel_reaches_inside_a_long_solve_and_the_window_stays_live(qtbot, win
     reference = solve_worksheet(ws)  # the same core without the pause: the full cost
     full_cost = sum(r.evaluations for r in reference.runs)
     calls["n"] = 0
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.load_worksheet(ws)
     qtbot.waitUntil(lambda: "3 equations" in sw.status.text(), timeout=10_000)
     calls["n"] = 0
@@ -276,7 +258,7 @@ def test_a_sample_opened_and_solved_is_not_unsaved_work(qtbot, window, dialogs, 
     sw = window.system_window
     order = [p.name for p in worksheet.load(sample).parameters]
     assert sw.parameters.names() == order
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     assert all(r.converged for r in solution.runs)
     assert not sw.modified
     asked = len(dialogs.titles("question"))
@@ -286,9 +268,9 @@ def test_a_sample_opened_and_solved_is_not_unsaved_work(qtbot, window, dialogs, 
 
 def test_results_of_earlier_inputs_say_so(qtbot, window):
     # found by looking at the window: after an edit the old lanes passed for the new text
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     assert not sw.results_note.isVisible()
     model = sw.lane_models["newton"]
     assert model.index(0, model.columnCount() - 1).data() == ""  # the start: no step yet
@@ -302,7 +284,7 @@ def test_results_of_earlier_inputs_say_so(qtbot, window):
     QTest.keyClick(sw.editor, Qt.Key.Key_Backspace)  # back to what was solved
     assert not sw.results_note.isVisible() and sw.lanes.currentWidget().isEnabled()
     QTest.keyClicks(sw.editor, "0")
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     assert not sw.results_note.isVisible()
     assert solution.runs[0].root == pytest.approx({"x": 6.5, "y": -3.5})  # by hand
 
@@ -312,12 +294,12 @@ def test_unknowns_with_units_show_them_in_the_lanes_and_the_roots(qtbot, window,
     sample = SAMPLES / "systems" / "pump-two-parallel-lines-units.json"
     units = worksheet.load(sample).system.units()
     assert units, "the sample gives its unknowns units"
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     dialogs.open_name = str(sample)
     sw.activateWindow()
     QTest.keyClick(sw, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)
     qtbot.waitUntil(lambda: "equations in" in sw.status.text(), timeout=10_000)
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     run = solution.runs[0]
     model = sw.lane_models[run.method]
     for i, name in enumerate(run.unknowns):

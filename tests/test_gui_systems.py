@@ -18,21 +18,11 @@ from app.window.views import CopyTableView
 from solvers.systems.pipeline import solve_worksheet
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import SAMPLES  # noqa: E402
+from gui_helpers import SAMPLES, open_system_window, solve_system_by_click  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)
 
 PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
-
-
-def _open_system_window(qtbot, window):
-    QTest.keyClick(window, Qt.Key.Key_Y,
-                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
-    qtbot.waitUntil(lambda: getattr(window, "system_window", None) is not None
-                    and window.system_window.isVisible(), timeout=5000)
-    sw = window.system_window
-    qtbot.waitExposed(sw)
-    return sw
 
 
 def _edit_cell(qtbot, view, row: int, column: int, text: str) -> None:
@@ -47,16 +37,9 @@ def _edit_cell(qtbot, view, row: int, column: int, text: str) -> None:
     qtbot.waitUntil(lambda: view.model().index(row, column).data() == text, timeout=3000)
 
 
-def _solve(qtbot, sw):
-    before = sw.solution
-    QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: sw.solution is not None and sw.solution is not before
-                    and not sw.jobs.is_busy("system-solve"), timeout=20_000)
-    return sw.solution
-
 
 def test_typing_a_system_filling_starts_and_solving(qtbot, window):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x^2 + y^2 = 4")
     QTest.keyClick(sw.editor, Qt.Key.Key_Return)
@@ -65,7 +48,7 @@ def test_typing_a_system_filling_starts_and_solving(qtbot, window):
     assert "2 equations in x, y" in sw.status.text()
     _edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
     _edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     x = math.sqrt(2 + math.sqrt(3))  # by hand
     assert sw.lanes.count() == 2
     for run in solution.runs:
@@ -91,19 +74,19 @@ def test_typing_a_system_filling_starts_and_solving(qtbot, window):
 
 
 def test_a_system_that_has_no_solution_is_shown_as_not_converged(qtbot, window):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x^2 + y^2 = 1; (x - 3)^2 + y^2 = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
     _edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.5")
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     assert all(not r.converged for r in solution.runs)
     assert "did not converge" in sw.lanes.tabText(0)
     assert "did not converge" in sw.status.text()
 
 
 def test_a_bad_start_value_is_named_and_nothing_runs(qtbot, window):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "a*x + y = 1; x - y = 0")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["a", "x", "y"], timeout=10_000)
@@ -118,7 +101,7 @@ def test_a_bad_start_value_is_named_and_nothing_runs(qtbot, window):
     QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
     assert "start value of x" in sw.status.text() and sw.solution is None
     _edit_cell(qtbot, sw.unknowns_view, 0, 1, "0")
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     # by hand: 3x + x = 1, x = y = 1/4 (a linear system: one Newton step)
     assert solution.runs[0].root["x"] == pytest.approx(0.25, rel=1e-15)
 
@@ -132,7 +115,7 @@ def test_opening_a_system_worksheet_shows_it_in_the_system_window(qtbot, window,
     sw = window.system_window
     assert sw.unknowns.names() == ["Q1", "Q2", "H"]
     qtbot.waitUntil(lambda: "3 equations" in sw.status.text(), timeout=10_000)
-    solution = _solve(qtbot, sw)
+    solution = solve_system_by_click(qtbot, sw)
     reference = solve_worksheet(worksheet.load(Path(PUMP)))  # the core, outside the window
     for run, ref in zip(solution.runs, reference.runs, strict=True):
         assert run.converged and dict(run.root) == dict(ref.root)
@@ -141,7 +124,7 @@ def test_opening_a_system_worksheet_shows_it_in_the_system_window(qtbot, window,
 
 
 def test_closing_the_main_window_closes_the_system_window(qtbot, window):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     window.close()
     qtbot.waitUntil(lambda: not sw.isVisible(), timeout=5000)
 
@@ -169,7 +152,7 @@ def test_the_equation_strip_reads_definitions(qtbot, window):
 
 
 def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs, tmp_path):
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
@@ -202,7 +185,7 @@ def test_cancel_stops_a_solve_between_methods(qtbot, window, monkeypatch):
         return original(*args, **kwargs)
 
     monkeypatch.setattr(systems_package, "solve_system", slow)
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
@@ -217,7 +200,7 @@ def test_cancel_stops_a_solve_between_methods(qtbot, window, monkeypatch):
 def test_closing_with_an_unsaved_system_asks_and_cancel_keeps_it(qtbot, window, dialogs):
     from PySide6.QtWidgets import QMessageBox
 
-    sw = _open_system_window(qtbot, window)
+    sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x + y = 3; x - y = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)

@@ -13,7 +13,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import settle, type_equation  # noqa: E402
+from gui_helpers import settle, solve_by_keys, type_equation  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
@@ -43,13 +43,6 @@ def _type_field(qtbot, field, text: str) -> None:
         qtbot.keyClick(field, Qt.Key.Key_Delete)
     qtbot.keyClick(field, Qt.Key.Key_Return)
 
-
-def _solve(qtbot, window):
-    before = window.solution
-    qtbot.keyClick(window.strip.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
-    qtbot.waitUntil(lambda: window.solution is not None and window.solution is not before
-                    and not window.runner.is_busy("solve"), timeout=20_000)
-    return window.solution
 
 
 def _choose_unknown(qtbot, window, name: str) -> None:
@@ -83,7 +76,7 @@ def test_value_typed_with_its_unit_splits_and_the_root_comes_in_the_unit_box_uni
     _type_field(qtbot, window.inputs.fields["x0"], "6")
     qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.ok
                     and window.analysis.equation.unknown_unit == "in", timeout=10_000)
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     # D = sqrt(4Q/(pi v)) (algebra) with v = 2 ft/s = 0.6096 m/s, in inches of 25.4 mm
     expected = math.sqrt(4 * 0.035 / (math.pi * 0.6096)) / 0.0254
     converged = [r for r in solution.runs if r.converged]
@@ -133,7 +126,7 @@ def test_switching_the_dimension_check_off_lets_a_correlation_through(qtbot, win
     assert any("not checked" in n for n in window.analysis.notes)
     assert window.worksheet().dimension_check is False
     _type_field(qtbot, window.inputs.fields["x0"], "200")
-    solution = _solve(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
     expected_mm = 1000 * (0.05 / 3.1) ** (1 / 2.63)  # D = (Q/k)^(1/2.63) (algebra), in mm
     assert solution.runs[0].root == pytest.approx(expected_mm, rel=1e-12)
 
