@@ -37,7 +37,6 @@ def _type(qtbot, field, text: str) -> None:
         qtbot.keyClick(field, Qt.Key.Key_Delete)
 
 
-
 def _plot_on_range(qtbot, window, text: str, a: float, b: float):
     type_equation(qtbot, window, text)
     _type(qtbot, window.inputs.fields["from"], repr(a))

@@ -27,12 +27,10 @@ Button = QMessageBox.StandardButton
 PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
 
 
-
 def _type_system(qtbot, sw, text: str, names: list[str]) -> None:
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, text)
     qtbot.waitUntil(lambda: sw.unknowns.names() == names, timeout=10_000)
-
 
 
 def _abandon(w) -> None:

@@ -37,7 +37,6 @@ def _edit_cell(qtbot, view, row: int, column: int, text: str) -> None:
     qtbot.waitUntil(lambda: view.model().index(row, column).data() == text, timeout=3000)
 
 
-
 def test_typing_a_system_filling_starts_and_solving(qtbot, window):
     sw = open_system_window(qtbot, window)
     sw.editor.setFocus()

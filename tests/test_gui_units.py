@@ -44,7 +44,6 @@ def _type_field(qtbot, field, text: str) -> None:
     qtbot.keyClick(field, Qt.Key.Key_Return)
 
 
-
 def _choose_unknown(qtbot, window, name: str) -> None:
     """Pick the unknown in its box with the keyboard (a closed combo box searches by key)."""
     box = window.strip.unknown_box
