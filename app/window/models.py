@@ -225,7 +225,23 @@ class ParameterRow:
         return ""
 
 
-class ParametersModel(QAbstractTableModel):
+class NamedRows:
+    """Rows that follow a list of names and remember what was typed for a name while it
+    leaves and comes back (the equations being edited). A table model mixes it in and
+    sets ``row_type`` (made from a name alone)."""
+
+    row_type: Any = None
+
+    def set_names(self, names: Sequence[str]) -> None:
+        names = list(dict.fromkeys(names))
+        if names == [r.name for r in self._rows]:
+            return
+        self.beginResetModel()
+        self._rows = [self._memory.setdefault(n, self.row_type(n)) for n in names]
+        self.endResetModel()
+
+
+class ParametersModel(NamedRows, QAbstractTableModel):
     """Name, value, unit, note of every parameter the equation uses.
 
     Rows follow the equation (``set_names``); values, units and notes typed for a name are
@@ -244,15 +260,9 @@ class ParametersModel(QAbstractTableModel):
         self._memory: dict[str, ParameterRow] = {}
         self._font = number_font()
 
-    # -- content
-    def set_names(self, names: Sequence[str]) -> None:
-        names = list(dict.fromkeys(names))
-        if names == [r.name for r in self._rows]:
-            return
-        self.beginResetModel()
-        self._rows = [self._memory.setdefault(n, ParameterRow(n)) for n in names]
-        self.endResetModel()
+    row_type = ParameterRow
 
+    # -- content
     def load(self, parameters: Sequence[Any]) -> None:
         """Replace everything with a worksheet's parameters (name, value, note)."""
         self.beginResetModel()

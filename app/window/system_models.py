@@ -11,7 +11,13 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelInd
 
 from app.documents import words
 from app.documents.worksheet import StartValue
-from app.window.models import DEFAULT_DIGITS, format_number, number_font, parse_number
+from app.window.models import (
+    DEFAULT_DIGITS,
+    NamedRows,
+    format_number,
+    number_font,
+    parse_number,
+)
 
 Index = QModelIndex | QPersistentModelIndex
 
@@ -26,25 +32,18 @@ class StartRow:
         return parse_number(self.text)
 
 
-class UnknownsModel(QAbstractTableModel):
+class UnknownsModel(NamedRows, QAbstractTableModel):
     """The unknowns in the order of x, with an editable start value each (remembered by
     name while the equations are edited)."""
 
     COLUMNS = ("unknown", "start value")
+    row_type = StartRow
 
     def __init__(self, parent: Any = None) -> None:
         super().__init__(parent)
         self._rows: list[StartRow] = []
         self._memory: dict[str, StartRow] = {}
         self._font = number_font()
-
-    def set_names(self, names: Sequence[str]) -> None:
-        names = list(dict.fromkeys(names))
-        if names == [r.name for r in self._rows]:
-            return
-        self.beginResetModel()
-        self._rows = [self._memory.setdefault(n, StartRow(n)) for n in names]
-        self.endResetModel()
 
     def load(self, starts: Sequence[StartValue]) -> None:
         self.beginResetModel()
