@@ -8,7 +8,8 @@ Writes solve.png (a sample after Solve), scan.png (a scan with roots and poles),
 convergence.png (the convergence view), methods.png (all six methods, start values
 seeded from the scan range), error.png (an equation with a typo), and from the system
 window system-<sample>.png (each sample of samples/systems solved) and system-error.png
-(a system with a bad line).
+(a system with a bad line), and tables.png (a sweep of the friction-factor sample in the
+tables window).
 Recovery files and settings go to a temporary folder, never the user's.
 """
 
@@ -97,6 +98,7 @@ def main(argv: list[str] | None = None) -> int:
     w.grab().save(str(out / "error.png"))
 
     _systems(app, w, out)
+    _tables(app, w, out)
 
     w._saved_text = ""  # nothing to ask about: close without the unsaved-changes prompt
     w.setWindowModified(False)
@@ -129,6 +131,30 @@ def _systems(app, w, out: Path) -> None:
     sw.grab().save(str(out / "system-error.png"))
     sw._saved = sw.worksheet()  # nothing to ask about when the window closes
     sw.close()
+
+
+def _tables(app, w, out: Path) -> None:
+    """The friction-factor sample swept over the Reynolds number in the tables window, one
+    row's full run open beside the design chart."""
+    w.load_sample("cooling-water-friction.json")
+    _spin(app, lambda: w.analysis is not None and w.analysis.text == w.strip.text())
+    w.open_tables()
+    t = w.tables
+    t.resize(1280, 800)
+    t.sweep_name_edit.setText("Re")
+    t.sweep_from.setText("4000")
+    t.sweep_to.setText("1e8")
+    t.sweep_log.setChecked(True)
+    t.sweep_count.setValue(60)
+    t.make_sweep()
+    t.x0_edit.setText("0.02")
+    t.run()
+    _spin(app, lambda: t.done is not None and not t.runner.is_busy("batch"))
+    t.view.selectRow(12)
+    t.open_row(12)
+    _spin(app, lambda: t.lane is not None and not t.runner.is_busy("batch"))
+    t.grab().save(str(out / "tables.png"))
+    t.close()
 
 
 if __name__ == "__main__":

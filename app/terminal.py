@@ -70,7 +70,8 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     if eq.definitions:
         for r in solution.runs:
             values = eq.definition_values(r.root)
-            print(f"{words.method_title(r.method)}, definitions at the root: "
+            where = "the root" if r.converged else "the last iterate (not a root)"
+            print(f"{words.method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES))
     if steps:
         for r in solution.runs:

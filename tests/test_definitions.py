@@ -48,6 +48,24 @@ def test_definitions_reach_the_root_and_their_values():
     assert arrays["A"].shape == (2,) and arrays["A"][1] == pytest.approx(2.5)
 
 
+def test_definitions_are_in_si_when_the_unknown_is_solved_in_another_unit():
+    """The channel depth asked in millimetres: the root is in mm, the defined area,
+    wetted perimeter and hydraulic radius in SI from the depth in metres (1 mm = 1e-3 m
+    exactly, NIST SP 811); the same numbers as the solve in metres."""
+    values = {k: (f"{v} m" if k == "b" else v) for k, v in CHANNEL_VALUES.items()}
+    values["Q"] = "4.2 m^3/s"
+    values["n"] = "0.014 s/m^(1/3)"  # Manning's n carries s/m^(1/3) in SI (common practice)
+    eq = parse_equation(CHANNEL, parameters=values, unknown_unit="mm")
+    y_ref = scipy.optimize.brentq(_channel_numpy, 0.05, 5.0, xtol=1e-15)  # metres
+    from solvers import brent
+    run = brent(eq.f, 50.0, 5000.0)
+    assert run.converged and run.root == pytest.approx(1e3 * y_ref, rel=1e-12)
+    at_root = eq.definition_values(run.root)
+    assert at_root["A"] == pytest.approx(2.5 * y_ref, rel=1e-12)  # m^2, not mm*m
+    assert at_root["P"] == pytest.approx(2.5 + 2 * y_ref, rel=1e-12)
+    assert at_root["R"] == pytest.approx(2.5 * y_ref / (2.5 + 2 * y_ref), rel=1e-12)
+
+
 def test_a_definition_with_the_unknown_is_differentiated_through():
     written_out = "Q = (b*y)*((b*y)/(b + 2*y))^(2/3)*sqrt(S)/n"
     eq = parse_equation(CHANNEL, parameters=CHANNEL_VALUES)

@@ -167,6 +167,31 @@ def test_the_roots_list_shows_x_residual_and_multiplicity_whole(qtbot, window):
                 assert float(option.text.replace("…", "")) == pytest.approx(raw, rel=0.5)
 
 
+def _headings(model, count: int) -> list[str]:
+    return [model.headerData(c, Qt.Orientation.Horizontal) for c in range(count)]
+
+
+def test_the_roots_list_heads_its_columns_with_the_unknown_and_its_unit(qtbot, window):
+    """The roots list names the unknown as the iteration tables do: the bore D in the unit it
+    is wanted in, and the residual f(D) (invented US customary sample; the Darcy-Weisbach
+    form is common practice). x tan x = Bi keeps x and f(x)."""
+    assert window.load_sample("wall-conduction-eigenvalues.json")
+    settle(qtbot, window)
+    _scan_and_wait(qtbot, window)
+    assert _headings(window.roots_model, 3) == ["x", "f(x)", "mult."]
+    assert window.load_sample("cooling-line-bore-us-customary.json")
+    settle(qtbot, window)
+    for name, text in (("from", "20"), ("to", "500")):
+        field = window.inputs.fields[name]
+        field.setFocus()
+        field.selectAll()
+        qtbot.keyClicks(field, text)
+    qtbot.keyClick(window.inputs.fields["to"], Qt.Key.Key_Tab)
+    _scan_and_wait(qtbot, window)
+    assert _headings(window.roots_model, 3) == ["D [mm]", "f(D)", "mult."]
+    assert window.roots_model.rowCount() == 1
+
+
 def test_a_long_scan_summary_is_readable_from_its_first_line(qtbot, window):
     """sin(1/x) on [1e-4, 1] oscillates without bound near 0 (common practice): the scan
     adds warnings, and the summary ran past its five lines, cut at top and bottom. The

@@ -504,3 +504,27 @@ def test_iteration_tables_are_headed_in_the_unknowns_own_name(qtbot, window):
     lane = window.lanes.lanes["newton"]
     assert [lane.model.headerData(c, Qt.Orientation.Horizontal) for c in range(3)] == \
         ["k", "V", "f(V)"]
+
+
+@pytest.mark.parametrize("typed, meant", [
+    ("1_000", None), ("nan", None), ("1e400", None), ("1,5", None), ("0x10", None),
+    (" 2.5e-3 ", 2.5e-3), (".5", 0.5), ("-4E+2", -400.0),
+])
+def test_a_number_field_takes_only_what_a_calc_sheet_would_show(qtbot, window, typed, meant):
+    """Digits, a point and an exponent (common practice for a calc sheet): Python's float()
+    would also take '1_000' or 'nan', which the sheet could not show as typed."""
+    field = window.inputs.fields["x0"]
+    _type(qtbot, field, typed)
+    if meant is None:
+        assert "is not a finite number" in field.problem()
+    else:
+        assert field.problem() == "" and field.value() == meant
+
+
+def test_non_ascii_digits_are_no_number_and_the_typographic_minus_is_a_minus():
+    """Full-width and Arabic-Indic digits pass float() but are not what the field shows
+    back (typed through the clipboard, not the keyboard: the test reads the parser)."""
+    from app.window.models import parse_number
+
+    assert parse_number("１２") is None and parse_number("٣") is None
+    assert parse_number("−0.25") == -0.25

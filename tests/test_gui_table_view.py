@@ -17,6 +17,8 @@ import scipy.optimize
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
+from app.documents import words
+
 pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
 
 COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
@@ -84,6 +86,11 @@ def test_a_table_runs_in_the_background_and_failed_rows_are_marked(qtbot, window
     failed = model.index(2, root_column)
     assert model.data(failed, Qt.ItemDataRole.BackgroundRole) is not None  # shaded
     assert model.data(failed, Qt.ItemDataRole.DisplayRole) == "—"
+    # the reason column reads in words, the code's sentence in the tooltip
+    reason = model.index(2, root_column + 1)
+    code = str(batch.reason[2])
+    assert model.data(reason, Qt.ItemDataRole.DisplayRole) == words.reason_short(code) != code
+    assert words.reason_text(code) in model.data(reason, Qt.ItemDataRole.ToolTipRole)
     assert "NaN" in model.data(failed, Qt.ItemDataRole.ToolTipRole) or \
         "infinite" in model.data(failed, Qt.ItemDataRole.ToolTipRole)
     assert "2 converged" in tables.status.text()
@@ -111,6 +118,10 @@ def test_double_clicking_a_row_shows_its_method_lane_with_every_iterate(qtbot, w
     assert run.method == "brent" and run.converged
     assert run.root == pytest.approx(float(tables.done.batch.root[1]), rel=1e-13)
     assert tables.lane.model.rowCount() == len(run.steps) >= 3
+    # the lane's headings name the table's unknown, as a single solve's do
+    lane = tables.lane.model
+    headings = [lane.headerData(c, Qt.Orientation.Horizontal) for c in range(3)]
+    assert headings == ["k", "lam", "f(lam)"]
 
 
 def test_a_sweep_follows_the_branch_and_the_chart_marks_where_it_ended(qtbot, window, tables):
@@ -175,7 +186,10 @@ def test_bad_tables_and_fields_say_what_is_wrong_in_one_line(qtbot, window, dial
     assert "column 2 'Q' is not a parameter" in tables.last_error or "'rr'" in tables.last_error
     type_into(qtbot, tables.x0_edit, "abc")
     click(qtbot, tables.run_button)
-    assert "start value" in tables.last_error
+    assert "start value: 'abc' is not a finite number" in tables.last_error
+    type_into(qtbot, tables.x0_edit, "2_0")  # float() would read 20; the fields do not
+    click(qtbot, tables.run_button)
+    assert "start value: '2_0' is not a finite number" in tables.last_error
 
 
 def test_results_export_as_csv_with_every_input_column(qtbot, window, dialogs, tables,

@@ -11,7 +11,7 @@ import math
 import pytest
 from PySide6.QtCore import Qt
 
-from app.documents.words import REASON_TEXT
+from app.documents.words import REASON_TEXT, reason_short
 from app.window.models import RunModel, format_number
 from solvers import pipeline
 
@@ -128,7 +128,7 @@ def test_ctrl_return_solves_and_the_tables_show_every_iterate(qtbot, window):
             assert model.data(model.index(row, 2), Qt.ItemDataRole.UserRole) == step.fx
         digits = window.lanes.digits.value()
         assert format_number(run.root, digits) in lane.summary.text()
-        assert run.reason in lane.summary.text()
+        assert reason_short(run.reason) in lane.summary.text()  # words, not the code
         assert run.converged and "converged" in lane.verdict.text()
         assert run.root == pytest.approx(reference, rel=1e-12)
     # Same numbers as the core computes for the same worksheet (no numerics in the window).

@@ -129,5 +129,6 @@ def test_every_code_the_core_records_has_words():
     assert details <= set(words.DETAIL_TEXT), details - set(words.DETAIL_TEXT)
     assert starts and starts <= set(words.START_TEXT), starts - set(words.START_TEXT)
     assert set(REASONS) <= set(words.REASON_TEXT)
+    assert set(REASONS) <= set(words.REASON_SHORT)  # a table cell's few words
     for name in ("newton", "secant", "false_position", "illinois", "bisection", "brent"):
         assert words.method_title(name) != name and words.method_summary(name)

@@ -157,7 +157,6 @@ def method_names(methods: Iterable[str]) -> str:
 
 # ----------------------------------------------------------------- stop reasons
 
-# One line for each value of Run.reason (solvers.records.REASONS).
 def residual_name(unknown: str) -> str:
     """The letter for the residual lhs - rhs: f, or F when the unknown itself is called f
     (a friction factor), so nothing reads "f(f)"."""
@@ -194,6 +193,7 @@ def iterate_headings(unknown: str, style: str = "screen",
 IN_UNKNOWN_UNIT = ("x", "dx", "lo", "hi")  # iterate columns in the unknown's unit
 
 
+# One line for each value of Run.reason (solvers.records.REASONS).
 REASON_TEXT: dict[str, str] = {
     "x_tolerance": "step below tolerance |dx| <= xtol + rtol*|x|",
     "f_tolerance": "residual below tolerance |f| <= ftol",
@@ -208,8 +208,27 @@ REASON_TEXT: dict[str, str] = {
 }
 
 
+# A few words for each value of Run.reason, where a table cell or a lane's first line
+# has no room for the sentence (the sentence goes in the tooltip).
+REASON_SHORT: dict[str, str] = {
+    "x_tolerance": "step within tolerance",
+    "f_tolerance": "residual within tolerance",
+    "exact_zero": "residual exactly zero",
+    "max_iterations": "iteration cap",
+    "zero_derivative": "zero derivative",
+    "not_finite": "not finite",
+    "no_sign_change": "no sign change",
+    "discontinuity": "jump, not a root",
+}
+
+
 def reason_text(reason: str) -> str:
     return REASON_TEXT.get(reason, reason.replace("_", " "))
+
+
+def reason_short(reason: str) -> str:
+    """A few words for a stop reason (a table cell); :func:`reason_text` is the sentence."""
+    return REASON_SHORT.get(reason, reason.replace("_", " "))
 
 
 def _underflow(v: Sequence[Any]) -> str:
@@ -277,15 +296,17 @@ def run_account(run: Any) -> str:
     return detail_text(run.detail) or reason_text(run.reason)
 
 
-def run_message(run: Any) -> str:
-    """The run in one line: method, verdict, counts, what stopped it, and any note."""
+def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
+    """The run in one line: method, verdict, counts, what stopped it, and any note; the
+    root named as the unknown (``D = 144.9 mm``)."""
     title = method_title(run.method)
     counts = f"{run.iterations} iterations, {run.evaluations} evaluations"
+    value = f"{unknown or 'x'} = {exact(run.root)}" + (f" {unit}" if unit else "")
     if run.converged:
-        text = f"{title} converged to x = {exact(run.root)} ({counts}): {run_account(run)}"
+        text = f"{title} converged to {value} ({counts}): {run_account(run)}"
     else:
         text = (f"{title} did not converge ({counts}): {run_account(run)}; "
-                f"last x = {exact(run.root)}")
+                f"last {value}")
     note = detail_text(getattr(run, "note", None))
     return text + (f"; {note}" if note else "")
 

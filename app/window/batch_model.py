@@ -88,7 +88,7 @@ class BatchModel(QAbstractTableModel):
             return float(self.columns[column][row])
         b, which = self.batch, RESULT_TITLES[column - len(self.names)]
         if which == "reason":
-            return str(b.reason.flat[row])
+            return words.reason_short(str(b.reason.flat[row]))
         if which == "iterations":
             return int(b.iterations.flat[row])
         return float(getattr(b, which).flat[row])

@@ -38,7 +38,7 @@ def summary_text(run: Run, digits: int) -> str:
     """
     order_text = words.order_text(run.order, "n/a")
     what = "root" if run.converged else "last x"
-    return (f"{what} {format_number(run.root, digits)}   stop: {run.reason}\n"
+    return (f"{what} {format_number(run.root, digits)}   stop: {words.reason_short(run.reason)}\n"
             f"{_count(run.iterations, 'iterate')} · {_count(run.evaluations, 'evaluation')} · "
             f"order ≈ {order_text}")
 
@@ -63,6 +63,7 @@ class MethodLane(QFrame):
     def __init__(self, method: str, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.method = method
+        self._named: tuple[str, str | None] = ("x", None)  # the unknown and its unit
         self.setObjectName(f"lane_{method}")
         self.setFrameShape(QFrame.Shape.StyledPanel)
         self.setMinimumWidth(LANE_WIDTH)
@@ -120,6 +121,7 @@ class MethodLane(QFrame):
         return self.model.run
 
     def set_run(self, run: Run | None, unknown: str = "x", unit: str | None = None) -> None:
+        self._named = (unknown, unit)
         self.model.set_run(run, unknown, unit)
         for c in range(self.model.columnCount()):
             self.table.setColumnHidden(c, c in self.model.empty_columns())
@@ -177,7 +179,8 @@ class MethodLane(QFrame):
         self.verdict.setStyleSheet(OK_STYLE if run.converged else FAILED_STYLE)
         self.verdict.setToolTip(words.reason_text(run.reason))
         self.summary.setText(summary_text(run, self._digits))
-        self.summary.setToolTip(f"root = {words.exact(run.root)}\n{words.run_message(run)}")
+        self.summary.setToolTip(f"root = {words.exact(run.root)}\n"
+                                f"{words.run_message(run, *self._named)}")
 
 
 def digits_box() -> tuple[QLabel, QSpinBox]:

@@ -9,6 +9,7 @@ the tooltip shows ``repr`` so no digit is ever hidden from a checker.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -173,6 +174,28 @@ class RootsModel(_RecordModel):
                "what located the root"),
     )
 
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._titles = [c.title for c in self.columns]
+
+    def set_roots(self, roots: Sequence[Any], unknown: str = "x",
+                  unit: str | None = None) -> None:
+        """Show ``roots``; the headings name ``unknown`` and its ``unit`` (``D [mm]``,
+        ``f(D)``) as the iteration tables do."""
+        headings = words.iterate_headings(unknown, unit=unit)
+        titles = [headings["x"], headings["fx"], *(c.title for c in self.columns[2:])]
+        if titles != self._titles:
+            self._titles = titles
+            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(self.columns) - 1)
+        self.set_rows(roots)
+
+    def headerData(self, section: int, orientation: Qt.Orientation,
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if (orientation == Qt.Orientation.Horizontal and role == Qt.ItemDataRole.DisplayRole
+                and 0 <= section < len(self._titles)):
+            return self._titles[section]
+        return super().headerData(section, orientation, role)
+
     def root(self, row: int) -> Any:
         return self._rows[row]
 
@@ -180,12 +203,21 @@ class RootsModel(_RecordModel):
 # ----------------------------------------------------------------- parameters
 
 
+# A number as an engineer types it: digits with an optional point and exponent. Python's
+# float() also takes '1_000', non-ASCII digits and 'nan'/'inf'; none is a number on a calc
+# sheet, and a field must show what it will use.
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
+
+
 def parse_number(text: str) -> float | None:
-    """A finite float from the user's text, or None (NaN and inf are refused)."""
-    try:
-        value = float(text.strip().replace("−", "-"))
-    except (ValueError, AttributeError):
+    """A finite float from the user's text (ASCII digits, optional sign, point and
+    exponent; the typographic minus taken as '-'), or None."""
+    if not isinstance(text, str):
         return None
+    stripped = text.strip().replace("−", "-")
+    if not _NUMBER.fullmatch(stripped):
+        return None
+    value = float(stripped)
     return value if math.isfinite(value) else None
 
 

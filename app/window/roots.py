@@ -143,8 +143,9 @@ class RootsPanel(QGroupBox):
         self.summary.setText("No scan yet." if has_range else NO_RANGE)
         self.set_stale(False, None, "")
 
-    def show_scan(self, scan: Any, unknown: str) -> None:
-        self.model.set_rows(scan.roots)
+    def show_scan(self, scan: Any, unknown: str, unit: str | None = None) -> None:
+        """List ``scan``'s roots under headings in ``unknown``'s name and ``unit``."""
+        self.model.set_roots(scan.roots, unknown, unit)
         self.set_stale(False, scan, unknown)
         self.size_columns()
         if self.model.rowCount():

@@ -8,11 +8,14 @@ from dataclasses import dataclass
 from typing import Any
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
+from PySide6.QtGui import QBrush
 
 from app.documents import words
 from app.documents.worksheet import StartValue
 from app.window.models import (
     DEFAULT_DIGITS,
+    INVALID_BACKGROUND,
+    INVALID_FOREGROUND,
     NamedRows,
     format_number,
     number_font,
@@ -26,17 +29,33 @@ Index = QModelIndex | QPersistentModelIndex
 class StartRow:
     name: str
     text: str = "1.0"
+    unit: str = ""  # as typed; '' for the SI unit the equations imply (or none)
 
     @property
     def value(self) -> float | None:
         return parse_number(self.text)
 
+    @property
+    def problem(self) -> str:
+        """What is wrong with the start value or the unit, naming the unknown ('' if fine)."""
+        from solvers.units import unit_text_problem
+
+        if self.value is None:
+            return f"start value of {self.name}: {self.text.strip()!r} is not a finite number"
+        if self.unit.strip():
+            problem = unit_text_problem(self.unit)
+            if problem:
+                return f"unit of {self.name}: {problem}"
+        return ""
+
 
 class UnknownsModel(NamedRows, QAbstractTableModel):
-    """The unknowns in the order of x, with an editable start value each (remembered by
-    name while the equations are edited)."""
+    """The unknowns in the order of x, with an editable start value and unit each
+    (remembered by name while the equations are edited). The start value is in the unit;
+    a blank unit means the SI unit the equations imply."""
 
-    COLUMNS = ("unknown", "start value")
+    COLUMNS = ("unknown", "start value", "unit")
+    VALUE, UNIT = 1, 2
     row_type = StartRow
 
     def __init__(self, parent: Any = None) -> None:
@@ -47,12 +66,20 @@ class UnknownsModel(NamedRows, QAbstractTableModel):
 
     def load(self, starts: Sequence[StartValue]) -> None:
         self.beginResetModel()
-        self._memory = {s.name: StartRow(s.name, repr(float(s.x0))) for s in starts}
+        self._memory = {s.name: StartRow(s.name, repr(float(s.x0)), s.unit or "")
+                        for s in starts}
         self._rows = list(self._memory.values())
         self.endResetModel()
 
     def starts(self) -> dict[str, float | None]:
         return {r.name: r.value for r in self._rows}
+
+    def units(self) -> dict[str, str]:
+        """name -> unit, for the unknowns on screen that have one."""
+        return {r.name: r.unit.strip() for r in self._rows if r.unit.strip()}
+
+    def problems(self) -> list[str]:
+        return [r.problem for r in self._rows if r.problem]
 
     def names(self) -> list[str]:
         return [r.name for r in self._rows]
@@ -61,34 +88,56 @@ class UnknownsModel(NamedRows, QAbstractTableModel):
         return 0 if parent.isValid() else len(self._rows)
 
     def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008
-        return 0 if parent.isValid() else 2
+        return 0 if parent.isValid() else len(self.COLUMNS)
 
     def headerData(self, section: int, orientation: Qt.Orientation,
                    role: int = Qt.ItemDataRole.DisplayRole) -> Any:
         if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
             return self.COLUMNS[section]
+        if role == Qt.ItemDataRole.ToolTipRole and orientation == Qt.Orientation.Horizontal \
+                and section == self.UNIT:
+            return ("the unit the unknown's start value and result are in (e.g. L/s); "
+                    "blank: the SI unit the equations imply")
         return None
 
     def flags(self, index: Index) -> Qt.ItemFlag:
         base = Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
-        return base | Qt.ItemFlag.ItemIsEditable if index.column() == 1 else base
+        return base | Qt.ItemFlag.ItemIsEditable if index.column() > 0 else base
 
     def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
         if not index.isValid():
             return None
         row = self._rows[index.row()]
+        col = index.column()
         if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
-            return (row.name, row.text)[index.column()]
+            return (row.name, row.text, row.unit)[col]
         if role == Qt.ItemDataRole.FontRole:
             return self._font
-        if role == Qt.ItemDataRole.ToolTipRole and index.column() == 1 and row.value is None:
-            return f"{row.name}: {row.text.strip()!r} is not a finite number"
+        problem = row.problem if col > 0 else ""
+        # only the cell at fault is marked: a bad unit is not a bad start value
+        bad = bool(problem) and problem.startswith("unit" if col == self.UNIT else "start")
+        if role == Qt.ItemDataRole.BackgroundRole and bad:
+            return QBrush(INVALID_BACKGROUND)
+        if role == Qt.ItemDataRole.ForegroundRole and bad:
+            return QBrush(INVALID_FOREGROUND)
+        if role == Qt.ItemDataRole.ToolTipRole and bad:
+            return problem
         return None
 
     def setData(self, index: Index, value: Any, role: int = Qt.ItemDataRole.EditRole) -> bool:
-        if not index.isValid() or index.column() != 1 or role != Qt.ItemDataRole.EditRole:
+        if not index.isValid() or index.column() == 0 or role != Qt.ItemDataRole.EditRole:
             return False
-        self._rows[index.row()].text = "" if value is None else str(value)
+        row = self._rows[index.row()]
+        text = "" if value is None else str(value)
+        if index.column() == self.UNIT:
+            text = " ".join(text.split())
+            if text == row.unit:
+                return False
+            row.unit = text
+        else:
+            if text == row.text:
+                return False
+            row.text = text
         self.dataChanged.emit(index, index)
         return True
 

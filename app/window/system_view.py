@@ -2,7 +2,8 @@
 
 Top to bottom: the editor (one equation or definition per line, or ``;`` between them),
 the unknowns with their start values (a table filled from the names the equations leave
-without a value; edit the start column), the parameters (name, value), the methods, Solve;
+without a value; edit the start value and the unit it is in), the parameters (name, value,
+unit), the methods and the dimension-check switch, Solve;
 then one lane per method (its summary over its iteration table: k, block, every unknown,
 ||F||, step length, damping) beside the convergence view (||F|| and step length per
 iterate, :mod:`app.documents.system_figures`). The text is read in the "system-preview"
@@ -92,8 +93,11 @@ class SystemWindow(QWidget):
         self.unknowns_view.setObjectName("unknownsView")
         self.unknowns_view.setModel(self.unknowns)
         self.parameters = ParametersModel(self)
-        self.unknown_units: dict[str, str] = {}
-        self.dimension_check = True
+        self.dimension_box = QCheckBox("Check &dimensions")
+        self.dimension_box.setObjectName("systemCheckDimensions")
+        self.dimension_box.setChecked(True)
+        self.dimension_box.setToolTip("Check that every equation is dimensionally consistent "
+                                      "with the parameters' and the unknowns' units")
         self.parameters_view = CopyTableView()
         self.parameters_view.setModel(self.parameters)
         self.method_boxes = {}
@@ -145,6 +149,7 @@ class SystemWindow(QWidget):
             self.addAction(action)
         digits_label, self.digits = digits_box()
         self.digits.valueChanged.connect(self._on_digits)
+        methods_row.addWidget(self.dimension_box)
         methods_row.addStretch(1)
         methods_row.addWidget(digits_label)
         methods_row.addWidget(self.digits)
@@ -215,7 +220,7 @@ class SystemWindow(QWidget):
         self.unknowns.dataChanged.connect(lambda *_a: self._check_stale())
         self.parameters.dataChanged.connect(lambda *_a: self._check_stale())
         self.unknown_names.textChanged.connect(lambda _t: self._check_stale())
-        for box in self.method_boxes.values():
+        for box in (*self.method_boxes.values(), self.dimension_box):
             box.toggled.connect(lambda _on: self._check_stale())
         self._autosave = QTimer(self)
         self._autosave.setInterval(AUTOSAVE_MS)
@@ -300,13 +305,13 @@ class SystemWindow(QWidget):
         self._timer.stop()
         text = self.editor.toPlainText()
         starts = self.unknowns.starts()
-        bad = [n for n, v in starts.items() if v is None]
+        bad = self.unknowns.problems()
         methods = [m for m, box in self.method_boxes.items() if box.isChecked()]
         if not starts:
             self._say("no unknowns yet: type the equations first", problem=True)
             return
         if bad:
-            self._say(f"start value of {bad[0]}: not a finite number", problem=True)
+            self._say(bad[0], problem=True)
             return
         if not methods:
             self._say("tick at least one method", problem=True)
@@ -314,7 +319,7 @@ class SystemWindow(QWidget):
         unknowns = self.unknowns.names()
         values = self._values()
         settings = self.settings
-        units, check = dict(self.unknown_units), self.dimension_check
+        units, check = self.unknowns.units(), self.dimension_box.isChecked()
         asked = self.worksheet()
         self._say("solving…")
         self.cancel_button.setEnabled(True)
@@ -350,7 +355,7 @@ class SystemWindow(QWidget):
             summary.setWordWrap(True)
             model = SystemRunModel(self)
             model.set_digits(self.digits.value())
-            model.set_run(run, self.unknown_units)
+            model.set_run(run, solution.system.unknown_units)
             view = CopyTableView()
             view.setModel(model)
             view.resizeColumnsToContents()  # every figure of the iterates visible
@@ -367,12 +372,14 @@ class SystemWindow(QWidget):
 
     def _roots_text(self, solution: Any) -> str:
         digits = self.digits.value()
+        units = solution.system.unknown_units
         return "; ".join(
             f"{words.system_method_title(r.method)}: "
             + ", ".join(f"{n} = {words.number(v, digits)}"
-                        + (f" {self.unknown_units[n]}" if self.unknown_units.get(n) else "")
+                        + (f" {units[n]}" if units.get(n) else "")
                         for n, v in r.root.items())
-            + ("" if r.converged else f" — did not converge ({r.reason})")
+            + ("" if r.converged
+               else f" — did not converge ({words.reason_short(r.reason)})")
             for r in solution.runs)
 
     # -- worksheets
@@ -380,8 +387,8 @@ class SystemWindow(QWidget):
         """The worksheet on screen (blank or wrong start values become 0 with the problem
         named by :meth:`solve`; the file keeps what can be opened again)."""
         starts = self.unknowns.starts()
-        spec = SystemSpec(tuple(StartValue(n, v if v is not None else 0.0,
-                                           self.unknown_units.get(n))
+        units = self.unknowns.units()
+        spec = SystemSpec(tuple(StartValue(n, v if v is not None else 0.0, units.get(n))
                                 for n, v in starts.items()),
                           tuple(m for m, b in self.method_boxes.items() if b.isChecked())
                           or SYSTEM_METHOD_NAMES)
@@ -391,7 +398,7 @@ class SystemWindow(QWidget):
         title = self.title
         return Worksheet(equation=self.editor.toPlainText(), parameters=params,
                          settings=self.settings, title=title,
-                         dimension_check=self.dimension_check,
+                         dimension_check=self.dimension_box.isChecked(),
                          system=spec if spec.unknowns else None)
 
     def save(self) -> bool:
@@ -528,14 +535,13 @@ class SystemWindow(QWidget):
         self.clear_results()
         self.settings = ws.settings
         self.title = ws.title
-        # the unknowns' units and the check switch are kept as the file has them (no field
-        # on screen edits them yet) and written back on save
-        self.unknown_units = ws.system.units() if ws.system is not None else {}
-        self.dimension_check = ws.dimension_check
+        self.dimension_box.setChecked(ws.dimension_check)
         self.parameters.load(ws.parameters)
+        # a worksheet of one equation brings no unknowns: the last system's must not stay
+        unknowns = ws.system.unknowns if ws.system is not None else ()
+        self.unknowns.load(unknowns)
+        self.unknown_names.setText(", ".join(u.name for u in unknowns))
         if ws.system is not None:
-            self.unknowns.load(ws.system.unknowns)
-            self.unknown_names.setText(", ".join(u.name for u in ws.system.unknowns))
             for name, box in self.method_boxes.items():
                 box.setChecked(name in ws.system.methods)
         self.editor.setPlainText(ws.equation)

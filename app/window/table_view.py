@@ -10,7 +10,6 @@ every sentence comes from :mod:`app.documents.words`.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Mapping, Sequence
 from functools import partial
 from typing import Any
@@ -40,6 +39,7 @@ from app.window import table_exports
 from app.window.batch_model import BatchModel
 from app.window.figure_view import FigureView
 from app.window.lanes import MethodLane
+from app.window.models import parse_number
 from app.window.views import CopyTableView
 
 LANE = "batch"
@@ -50,8 +50,8 @@ def _number(text: str) -> float | None:
     text = text.strip()
     if not text:
         return None
-    value = float(text)
-    if not math.isfinite(value):
+    value = parse_number(text)  # the main window's rule: digits, point, exponent
+    if value is None:
         raise ValueError(f"{text!r} is not a finite number")
     return value
 
@@ -399,6 +399,7 @@ class TableWindow(QWidget):
         else:
             values = np.linspace(start, stop, count)
         self.sweep_name = name
+        self.log_x.setChecked(self.sweep_log.isChecked())  # the chart spaced as the sweep
         self.set_table([name], [name], [values], [[repr(float(v)) for v in values]], "sweep")
         return True
 
@@ -462,6 +463,9 @@ class TableWindow(QWidget):
         self._idle()
         self.done = done
         self.model.set_batch(done.batch)
+        # every figure of the root and the reason's words in sight (Qt measures the first
+        # rows only, so 10^5 rows cost what 1000 do)
+        self.view.resizeColumnsToContents()
         self.progress.setValue(1000)
         self.export_button.setEnabled(True)
         self.sheet_button.setEnabled(self.worksheet is not None)
@@ -507,12 +511,13 @@ class TableWindow(QWidget):
                 self.lane.deleteLater()
             self.lane = MethodLane(batch.method)
             self.lane_holder.addWidget(self.lane)
-        self.lane.set_run(run)
+        self.lane.set_run(run, batch.equation.unknown, batch.equation.unknown_unit)
         self.lane_row = row
         self.scan_button.setEnabled(self.kind == "sweep")
         self.scan_roots.clear()
         self.resume_button.setEnabled(False)
-        self.say(f"row {row + 1}: " + words.run_message(run))
+        self.say(f"row {row + 1}: " + words.run_message(run, batch.equation.unknown,
+                                                         batch.equation.unknown_unit))
 
     def scan_range(self) -> tuple[float, float]:
         """Where a row is scanned: the worksheet's scan range, else around the sweep's roots."""

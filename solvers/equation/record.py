@@ -207,14 +207,21 @@ class Equation:
     def definition_values(self, x: Any) -> dict[str, Any]:
         """Each defined quantity at the unknown's value ``x`` (a float gives floats; an
         array, or array parameters, give arrays), computed with the parameter values bound
-        here. NaN where a definition has no real value there; never raises on values."""
+        here. ``x`` is in the unknown's unit, as f takes it; the values are in SI (the
+        parameters are bound in SI). NaN where a definition has no real value there;
+        never raises on values."""
         core = self._core
         if core is None or not core.definitions:
             return {}
         code = core.cache.get("defs")
         if code is None:
-            code = core.cache["defs"] = Code([d.expr for d in core.definitions], [core.x],
-                                             core.symbols, many=True)
+            exprs = [d.expr for d in core.definitions]
+            plan = core.units
+            if plan is not None and (plan.scale != 1.0 or plan.offset != 0.0):
+                # x is in the unknown's unit, the definitions in SI: read x_SI as f does
+                in_si = {core.x: plan.scale * core.x + plan.offset}
+                exprs = [e.xreplace(in_si) for e in exprs]
+            code = core.cache["defs"] = Code(exprs, [core.x], core.symbols, many=True)
         args = [np.float64(v) if v.__class__ is float else v for v in self.parameters.values()]
         with np.errstate(all="ignore"):
             out = code.vector(np.asarray(x, dtype=np.float64), *args)
