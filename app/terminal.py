@@ -72,7 +72,8 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
             values = eq.definition_values(r.root)
             where = "the root" if r.converged else "the last iterate (not a root)"
             print(f"{words.method_title(r.method)}, definitions at {where}: "
-                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES))
+                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
+                                           eq.definition_units()))
     if steps:
         for r in solution.runs:
             print(f"\n{words.method_title(r.method)}: every iterate")

@@ -49,7 +49,8 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
         values = system.definition_values([r.root[n] for n in system.unknowns])
         if values:
             print(f"\n{words.system_method_title(r.method)}, definitions at the root: "
-                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES))
+                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
+                                           system.definition_units()))
     print()
     for r in runs:
         print(f"  {words.system_run_message(r)}")

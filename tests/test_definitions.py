@@ -9,6 +9,7 @@ formula Q = A R^(2/3) S^(1/2) / n in SI units is common practice.
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -184,6 +185,65 @@ def test_the_calculation_sheet_shows_definitions_and_their_values(tmp_path, caps
     v = 0.004 / (0.62 * math.pi * 0.05**2 / 4)
     assert "Definitions at each root" in text
     assert repr(v)[:12] in text
+
+
+ORIFICE_US = {"d": "2 in", "Cd": 0.62, "Q": "60 gal/min", "g": "9.80665 m/s^2"}
+ORIFICE = "A = pi*d^2/4\nv = Q/(Cd*A)\nRe = v*d/nu\nv^2 = 2*g*h"  # invented orifice
+
+
+def test_defined_quantities_carry_their_si_units():
+    """The orifice in US customary inputs: A in m^2, v in m/s, the Reynolds number
+    dimensionless (SI base units; 1 in = 0.0254 m and 1 US gal = 3.785411784e-3 m^3
+    exactly, NIST SP 811), the values those of the hand calculation in SI."""
+    eq = parse_equation(ORIFICE, unknown="h",
+                        parameters={**ORIFICE_US, "nu": "1.0e-6 m^2/s"}, unknown_unit="ft")
+    assert eq.definition_units() == {"A": "m^2", "v": "m/s", "Re": ""}
+    d, q = 2 * 0.0254, 60 * 3.785411784e-3 / 60
+    h_m = (q / (0.62 * math.pi * d**2 / 4)) ** 2 / (2 * 9.80665)  # by hand, metres
+    values = eq.definition_values(h_m / 0.3048)  # the unknown in feet, as f takes it
+    assert values["A"] == pytest.approx(math.pi * d**2 / 4, rel=1e-12)
+    assert values["v"] == pytest.approx(q / (0.62 * math.pi * d**2 / 4), rel=1e-12)
+    assert values["Re"] == pytest.approx(values["v"] * d / 1.0e-6, rel=1e-12)
+    # plain numbers: no unit can be claimed, none is printed
+    plain = parse_equation(ORIFICE, unknown="h", parameters={
+        "d": 0.05, "Cd": 0.62, "Q": 0.004, "g": 9.80665, "nu": 1e-6})
+    assert plain.definition_units() == {}
+    # the check switched off: the unknown's dimension is never worked out
+    unchecked = parse_equation(ORIFICE, unknown="h", parameters={**ORIFICE_US, "nu": 1e-6},
+                               check_dimensions=False)
+    assert unchecked.definition_units() == {"A": None, "v": None, "Re": None}
+
+
+def test_a_systems_defined_quantities_carry_their_si_units():
+    """The two-line pump sample with flows in L/s: Q = Q1 + Q2 in m^3/s (1 L = 1e-3 m^3
+    exactly, NIST SP 811), the pipe areas in m^2, the line constants in s^2/m^5."""
+    from app.documents import worksheet
+    from solvers.systems.pipeline import system_of
+
+    root = Path(__file__).resolve().parents[1]
+    ws = worksheet.load(root / "samples" / "systems" / "pump-two-parallel-lines-units.json")
+    system = system_of(ws)
+    assert system.definition_units() == {"Q": "m^3/s", "A1": "m^2", "A2": "m^2",
+                                         "k1": "s^2/m^5", "k2": "s^2/m^5"}
+    at = system.definition_values([50.0, 50.0, 40.0])  # Q1, Q2 in L/s, H in m
+    assert at["Q"] == pytest.approx(0.1, rel=1e-14)
+
+
+def test_the_terminal_and_json_give_definitions_with_their_units(capsys):
+    import json
+
+    from app.cli import main
+
+    args = ["solve", ORIFICE, "--unknown", "h", "--unknown-unit", "ft", "--x0", "3",
+            "--method", "newton", *(a for n, v in {**ORIFICE_US, "nu": "1.0e-6 m^2/s"}.items()
+                                    for a in ("--param", f"{n}={v}"))]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    line = next(t for t in out.splitlines() if "definitions at the root" in t)
+    assert " m^2, v = " in line and " m/s, Re = " in line
+    assert main([*args, "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["runs"][0]["definition_units"] == {"A": "m^2", "v": "m/s", "Re": ""}
 
 
 @pytest.mark.parametrize("text, params, line", [

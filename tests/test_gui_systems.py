@@ -18,7 +18,12 @@ from app.window.views import CopyTableView
 from solvers.systems.pipeline import solve_worksheet
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import SAMPLES, open_system_window, solve_system_by_click  # noqa: E402
+from gui_helpers import (  # noqa: E402
+    SAMPLES,
+    open_system_window,
+    solve_by_keys,
+    solve_system_by_click,
+)
 
 pytest_plugins = ("gui_helpers",)
 
@@ -148,6 +153,25 @@ def test_the_equation_strip_reads_definitions(qtbot, window):
     shown = set(window.inputs.parameters.names())
     assert "A" not in shown and "v" not in shown
     assert analysis.latex.startswith(r"A = \frac{\pi d^{2}}{4}") and "2 g h" in analysis.latex
+    # values typed with units; after Solve the note under the plot gives the defined
+    # quantities at the root in SI (by hand: A = pi d^2/4 with d = 0.05 m)
+    values = {"d": ("50", "mm"), "Q": ("4", "L/s"), "Cd": ("0.62", ""),
+              "g": ("9.80665", "m/s^2")}
+    box = window.strip.unknown_box  # solve for the head: pick h by its first letter
+    box.setFocus()
+    QTest.keyClick(box, Qt.Key.Key_H)
+    qtbot.waitUntil(lambda: "d" in window.inputs.parameters.names(), timeout=5000)
+    settle(qtbot, window)
+    names = window.inputs.parameters.names()
+    for name, (number, unit) in values.items():
+        _edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 1, number)
+        if unit:
+            _edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 2, unit)
+    solution = solve_by_keys(qtbot, window)
+    assert any(r.converged for r in solution.runs)
+    note = window.lanes.agreement.toolTip()
+    area = math.pi * 0.05**2 / 4
+    assert f"A = {area:.6g} m^2" in note and " m/s." in note
 
 
 def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs, tmp_path):

@@ -147,7 +147,15 @@ def test_no_solution_where_a_curve_ends_is_not_converged():
     system = parse_system("sqrt(x) + y = 3; x + y = 1")
     for method in SYSTEM_METHODS:
         run = solve_system(system, {"x": 1.0, "y": 0.5}, method=method)
-        assert not run.converged and run.reason in ("zero_derivative", "not_finite")
+        assert not run.converged
+        # Newton meets the singular Jacobian at the fold; Broyden's secant updates may
+        # instead creep along the fold until the cap (seen with numpy 2.4.6, not with the
+        # build an earlier machine had): both are honest ends, never a converged run
+        stops = ("zero_derivative", "not_finite") + (
+            ("max_iterations",) if method == "broyden" else ())
+        assert run.reason in stops, (method, run.reason)
+        # F1 - F2 = sqrt(x) - x - 2 <= -7/4, so ||F|| >= 7/(4 sqrt 2) > 1 (by hand)
+        assert run.residual_norm > 1.0
 
 
 def test_undefined_at_the_start_is_not_finite():

@@ -358,4 +358,5 @@ def _definitions_json(equation: Any, run: Run) -> dict[str, Any]:
     if not getattr(equation, "definitions", ()):
         return {}
     values = equation.definition_values(run.root)
-    return {"definitions": {k: _json_float(v) for k, v in values.items()}}
+    return {"definitions": {k: _json_float(v) for k, v in values.items()},
+            "definition_units": equation.definition_units()}  # SI; {} when no units

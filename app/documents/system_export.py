@@ -114,6 +114,8 @@ def system_run_json(run: Any, system: Any) -> dict[str, Any]:
                         for k, v in run.settings.items()}
     x = [run.root[n] for n in system.unknowns]
     data["definitions"] = _floats(system.definition_values(x))
+    if system.definitions:
+        data["definition_units"] = system.definition_units()  # SI; {} when no units
     data["title"] = system_method_title(run.method)
     data["message"] = system_run_message(run)
     return data

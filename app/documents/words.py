@@ -676,9 +676,21 @@ def blocks_text(blocks: Sequence[Any], unknowns: Sequence[str]) -> str:
     return f"solved in {len(blocks)} blocks, in this order: " + " then ".join(parts)
 
 
-def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES) -> str:
-    """Defined quantities at the root: "A = 0.0314, v = 3.18"."""
-    return ", ".join(f"{name} = {number(v, figures)}" for name, v in values.items())
+def unit_cell(unit: str | None) -> str:
+    """A defined quantity's SI unit in a table cell: the unit, "dimensionless", or "—"
+    where none can be named (the dimension check off, or a mixed dimension)."""
+    return "—" if unit is None else unit or "dimensionless"
+
+
+def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES,
+                     units: Mapping[str, str | None] | None = None) -> str:
+    """Defined quantities at the root: "A = 0.0314 m^2, v = 3.18 m/s" (``units``: each
+    one's SI unit, '' or None for none)."""
+    units = units or {}
+    return ", ".join(f"{name} = {number(v, figures)}"
+                     + (f" {units[name]}" if units.get(name) else "")
+                     for name, v in values.items())
+
 # ----------------------------------------------------------------- tables of inputs
 
 # Words for each code of solvers.batch.NOTE_CODES (Batch.notes: one row each).

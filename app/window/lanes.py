@@ -293,4 +293,13 @@ def agreement_text(solution: Any) -> str:
     notes = words.start_notes(solution.start)
     if notes:
         text += "  Start values: " + "; ".join(notes) + "."
+    equation = solution.equation
+    converged = [r for r in solution.runs if r.converged]
+    if getattr(equation, "definitions", ()) and converged:
+        # what the definitions come to is part of the answer (a Reynolds number tells the
+        # flow regime the friction relation assumed)
+        run = converged[0]
+        text += (f"  At {method_label(run.method)}'s root: "
+                 + words.definitions_line(equation.definition_values(run.root), 6,
+                                          equation.definition_units()) + ".")
     return text.strip()

@@ -232,6 +232,30 @@ class Equation:
             values[d.name] = float(arr) if scalar else arr
         return values
 
+    def definition_units(self) -> dict[str, str | None]:
+        """The SI unit of each defined quantity, as :meth:`definition_values` gives it
+        (``m^2``; '' when dimensionless; None where a definition mixes dimensions or the
+        dimension check is off), from the parameters' units and the unknown's. Empty when
+        the equation has no units at all (plain numbers: the values are in whatever
+        consistent units were typed)."""
+        core = self._core
+        if core is None or not core.definitions or (not self.units and not self.unknown_unit):
+            return {}
+        if (core.units is not None and not core.units.check_dimensions) or any(
+                r.code == "unknown_dimension_free" for r in self.remarks):
+            # the unknown's dimension was never worked out: no unit can be claimed
+            return {d.name: None for d in core.definitions}
+        from solvers.units import read_unit, unit_text
+        from solvers.units.dimensions import dimensions_of
+
+        by_name = dict(zip(core.parameter_names, core.symbols, strict=True))
+        dims = {by_name[n]: c.dimension for n, c in self.units.items() if n in by_name}
+        if self.unknown_unit:
+            dims[core.x] = read_unit(self.unknown_unit).dimension
+        found = dimensions_of([d.expr for d in core.definitions], dims)
+        return {d.name: None if dim is None else unit_text(dim)
+                for d, dim in zip(core.definitions, found, strict=True)}
+
     @property
     def derivative_latex(self) -> str:
         """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none, or if

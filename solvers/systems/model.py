@@ -110,6 +110,30 @@ class System:
         values = _call(code, x, self.parameters, len(self.definitions))
         return {name: float(v) for name, v in zip(self.definitions, values, strict=True)}
 
+    def definition_units(self) -> dict[str, str | None]:
+        """The SI unit of each defined quantity, as :meth:`definition_values` gives it
+        (``m^2``; '' when dimensionless; None where a definition mixes dimensions, the
+        dimension check is off or an unknown's dimension is free). Empty when the system
+        has no units at all."""
+        if not self.definitions or (not self.parameter_units
+                                    and not any(self.unknown_units.values())):
+            return {}
+        if not self.check_dimensions or any(
+                getattr(r, "code", "") == "system_dimension_free" for r in self.remarks):
+            return {name: None for name in self.definitions}
+        from solvers.units import read_unit, unit_text
+        from solvers.units.dimensions import dimensions_of
+
+        dims = {s: self.parameter_units[s.name].dimension for s in self._symbols
+                if s.name in self.parameter_units}
+        for x in self._xs:  # x in its unit: the same dimension as in SI
+            unit = self.unknown_units.get(x.name)
+            if unit:
+                dims[x] = read_unit(unit).dimension
+        found = dimensions_of(self._definition_exprs, dims)
+        return {name: None if dim is None else unit_text(dim)
+                for name, dim in zip(self.definitions, found, strict=True)}
+
 
 def differences(F: Any, x: np.ndarray) -> np.ndarray:
     """Forward-difference Jacobian of ``F`` at ``x`` (n extra calls of F)."""

@@ -178,6 +178,23 @@ class _Walker:
         return one
 
 
+def dimensions_of(exprs: Sequence[Any], dimensions: Mapping[Any, Dimension]
+                  ) -> tuple[Dimension | None, ...]:
+    """The dimension of each expression from its symbols' (``dimensions``: symbol ->
+    dimension; symbols not in it are dimensionless): a defined quantity's unit. None for an
+    expression that breaks a rule (a sum of unlike terms, a unit inside exp), which a
+    checked equation never holds but an unchecked one may."""
+    one: _Dim = ((), ())
+    walker = _Walker({s: (_exact(d), ()) for s, d in dimensions.items()}, one)
+    out: list[Dimension | None] = []
+    for expr in exprs:
+        try:
+            out.append(_plain(walker(expr)[0]))
+        except _Conflict:
+            out.append(None)
+    return tuple(out)
+
+
 @dataclass(frozen=True)
 class Outcome:
     """The unknown's dimension after the check, and whether the equation fixed it.

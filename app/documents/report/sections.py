@@ -369,10 +369,15 @@ def _results_section(c: _Context) -> list[Flowable]:
     if getattr(sol.equation, "definitions", ()):
         out += _heading("Definitions at each root", st, "h2")
         values = [sol.equation.definition_values(r.root) for r in runs]
-        ddata = [["Name", *(_label(r.method) for r in runs)]] + [
-            [name, *(_num(v[name]) for v in values)] for name in sol.equation.definitions]
+        units = sol.equation.definition_units()  # {} when the equation has no units
+        unit_column = ["Unit (SI)"] if units else []
+        ddata = [["Name", *unit_column, *(_label(r.method) for r in runs)]] + [
+            [name, *([words.unit_cell(units.get(name))] if units else []),
+             *(_num(v[name]) for v in values)] for name in sol.equation.definitions]
         out.append(Table(ddata, repeatRows=1, hAlign="LEFT",
                          style=TableStyle(_grid_style(mono_from_col=0))))
+        if units:
+            out.append(Paragraph("Defined quantities are in SI base units.", st["small"]))
     return out
 
 

@@ -233,10 +233,15 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
         values = [system.definition_values([r.root[n] for n in system.unknowns])
                   for r in runs]
         out += _heading("Definitions at the root", st, "h2")
-        out.append(grid(["Name", *titles],
-                        [[d, *(_num(v[d]) for v in values)] for d in system.definitions]))
-        if system.parameter_units or any(system.unknown_units.values()):
+        units = system.definition_units()
+        if units:
+            out.append(grid(["Name", "Unit (SI)", *titles],
+                            [[d, words.unit_cell(units.get(d)), *(_num(v[d]) for v in values)]
+                             for d in system.definitions]))
             out.append(Paragraph("Defined quantities are in SI base units.", st["small"]))
+        else:
+            out.append(grid(["Name", *titles],
+                            [[d, *(_num(v[d]) for v in values)] for d in system.definitions]))
     return out
 
 
