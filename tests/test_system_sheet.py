@@ -79,3 +79,28 @@ def test_the_sheet_refuses_an_existing_file_before_solving(tmp_path, capsys):
 def test_every_system_sample_makes_a_sheet(tmp_path, name, capsys):
     assert main(["report", str(SAMPLES / f"{name}.json"), "--pdf",
                  str(tmp_path / "s.pdf")]) == 0
+
+
+def test_the_sheet_typesets_every_line_and_numbers_the_equations(tmp_path, capsys):
+    """Each definition and equation is set as typed (common practice on a calc sheet: the
+    formula as a reader writes it beside the text as entered); the equations carry the
+    numbers of the residual tables, the definitions none."""
+    from solvers.equation.typeset import lines_latex
+
+    ws = worksheet.load(SAMPLES / "pump-two-parallel-lines-units.json")
+    lines = lines_latex(ws.equation)
+    assert [line for line, _tex in lines] == ws.equation.splitlines()
+    assert all(tex for _line, tex in lines)
+    assert lines[1][1] == r"A_{1} = \frac{\pi D_{1}^{2}}{4}"
+    assert lines_latex("x^2 + y^2 = 4; x*y = 1") == (("x^2 + y^2 = 4", "x^{2} + y^{2} = 4"),
+                                                      ("x*y = 1", "x y = 1"))
+    pdf = tmp_path / "pump.pdf"
+    assert main(["report", str(SAMPLES / "pump-two-parallel-lines-units.json"), "--pdf",
+                 str(pdf)]) == 0
+    capsys.readouterr()
+    text = sheet_text(pdf)
+    typeset = text[text.index("Typeset"):text.index("Equations (1)")]
+    assert "(1) (2) (3)" in typeset  # three equations numbered, five definitions not
+    assert "(4)" not in typeset
+    page = pypdf.PdfReader(pdf).pages[0]
+    assert len(page.images) >= 8  # one picture per line

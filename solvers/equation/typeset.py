@@ -249,6 +249,27 @@ def typeset(text: str, lhs: Any, rhs: Any | None) -> str:
 
 
 
+def lines_latex(text: str) -> tuple[tuple[str, str], ...]:
+    """Each line of a text of several lines (definitions and equations, ``;`` or line
+    breaks between them) as (the line as typed, its LaTeX in typed order, or '' where it
+    cannot be typeset); () when the text cannot be split into lines."""
+    from solvers.equation.lines import split_lines
+
+    try:
+        lines = split_lines(text, tokenize(text))
+    except Exception:  # noqa: BLE001 - cosmetic path: the text as entered governs
+        return ()
+    out = []
+    for line in lines:
+        piece = text[line.start:line.end]
+        try:
+            tex = _Typesetter(tokenize(piece)).equation()
+        except Exception:  # noqa: BLE001 - as above
+            tex = ""
+        out.append((piece, tex))
+    return tuple(out)
+
+
 def derivative_latex(d: Any) -> str:
     """LaTeX (mathtext-safe) of a derivative, parameters by name; '' for None, or when it
     is over the typesetting budget (MAX_TYPESET_NODES nodes, MAX_TYPESET_CHARS characters).

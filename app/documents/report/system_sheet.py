@@ -57,7 +57,7 @@ from app.documents.report.layout import (
 )
 from app.documents.report.pages import _canvas_maker, _furniture, _SheetTemplate
 from app.documents.report.sections import _calc_number, _Context, _title, _title_block
-from app.documents.report.typeset import _figure
+from app.documents.report.typeset import _figure, _math
 from app.documents.report.writing import (
     _check_target,
     _prepare_csv_dir,
@@ -66,6 +66,7 @@ from app.documents.report.writing import (
 )
 from app.documents.system_figures import draw_system_convergence
 from app.documents.worksheet import Worksheet
+from solvers.equation.typeset import lines_latex
 
 
 def _title_of(solution: Any) -> Any:
@@ -89,9 +90,37 @@ def _mono(text: str, st: dict, style: str = "cell") -> Paragraph:
     return Paragraph(f"<font name='ZT-Mono'>{_text(text)}</font>", st[style])
 
 
+def _typeset_lines(text: str, equations: Any, st: dict) -> Table | None:
+    """Each line typeset as typed, the equations numbered as in the residual tables, the
+    definitions not; a line mathtext cannot set legibly stays text."""
+    lines = lines_latex(text)
+    if not lines:
+        return None
+    math_width = TEXT_WIDTH - 44 * mm - 12 * mm
+    numbers = iter(range(1, len(equations) + 1))
+    pending = [e.strip() for e in equations]
+    data = []
+    for line, tex in lines:
+        label = ""
+        if pending and line.strip() == pending[0]:
+            pending.pop(0)
+            label = f"({next(numbers)})"
+        image = (_math(tex, math_width, 11.0) if tex else None) or _mono(line, st)
+        data.append([Paragraph(label, st["cell"]), image])
+    table = Table(data, colWidths=[10 * mm, TEXT_WIDTH - 44 * mm - 10 * mm], hAlign="LEFT")
+    table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+                               ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                               ("TOPPADDING", (0, 0), (-1, -1), 2),
+                               ("BOTTOMPADDING", (0, 0), (-1, -1), 2)]))
+    return table
+
+
 def _equations_section(c: _Context, sol: Any) -> list[Flowable]:
     st, system = c.st, sol.system
     rows: list[tuple[str, Any]] = [("As entered", _mono(c.ws.equation, st, "cellmono"))]
+    typeset = _typeset_lines(c.ws.equation, system.equations, st)
+    if typeset is not None:
+        rows.append(("Typeset", typeset))
     rows.append(("Equations", [_mono(f"({i}) {t}", st) for i, t in
                                enumerate(system.equations, 1)]))
     rows.append(("Unknowns", _mono(", ".join(_labelled(system, n) for n in system.unknowns),
