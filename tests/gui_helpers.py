@@ -155,3 +155,22 @@ def solve_system_by_click(qtbot: Any, sw: Any) -> Any:
     qtbot.waitUntil(lambda: sw.solution is not None and sw.solution is not before
                     and not sw.jobs.is_busy("system-solve"), timeout=20_000)
     return sw.solution
+
+
+def edit_cell(qtbot: Any, view: Any, row: int, column: int, text: str,
+              shown: str | None = None) -> None:
+    """Edit a table cell as a user does: click, double-click, select all, type, Return;
+    then wait until the cell shows ``shown`` (default: the text typed)."""
+    from PySide6.QtCore import Qt
+    from PySide6.QtTest import QTest
+
+    index = view.model().index(row, column)
+    rect = view.visualRect(index)
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    editor = view.focusWidget()
+    QTest.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClicks(editor, text)
+    QTest.keyClick(editor, Qt.Key.Key_Return)
+    expected = text if shown is None else shown
+    qtbot.waitUntil(lambda: view.model().index(row, column).data() == expected, timeout=3000)

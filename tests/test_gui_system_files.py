@@ -19,7 +19,12 @@ from app.window.recovery import RecoveryStore
 from solvers.systems.pipeline import solve_worksheet
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import SAMPLES, open_system_window, solve_system_by_click  # noqa: E402
+from gui_helpers import (  # noqa: E402
+    SAMPLES,
+    edit_cell,
+    open_system_window,
+    solve_system_by_click,
+)
 
 pytest_plugins = ("gui_helpers",)
 
@@ -310,19 +315,6 @@ def test_unknowns_with_units_show_them_in_the_lanes_and_the_roots(qtbot, window,
     assert run.root["H"] == pytest.approx(si["H"], rel=1e-9)
 
 
-def _edit_unknown(qtbot, sw, row: int, column: int, text: str) -> None:
-    """Double-click a cell of the unknowns table, select all, type, Return."""
-    view = sw.unknowns_view
-    rect = view.visualRect(sw.unknowns.index(row, column))
-    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
-    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
-    editor = view.focusWidget()
-    QTest.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
-    QTest.keyClicks(editor, text)
-    QTest.keyClick(editor, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: sw.unknowns.index(row, column).data() == text, timeout=3000)
-
-
 def test_an_unknowns_unit_is_edited_in_its_table_and_saved(qtbot, window, dialogs, tmp_path):
     """The flow Q1 asked in m^3/h instead of L/s: the same operating point, 3.6 times the
     number (1 L/s = 3.6 m^3/h exactly, NIST SP 811 definitions of litre and hour); a unit
@@ -336,18 +328,18 @@ def test_an_unknowns_unit_is_edited_in_its_table_and_saved(qtbot, window, dialog
     qtbot.waitUntil(lambda: "equations in" in sw.status.text(), timeout=10_000)
     assert [sw.unknowns.index(r, 2).data() for r in range(3)] == ["L/s", "L/s", "m"]
     in_litres = solve_system_by_click(qtbot, sw).runs[0].root["Q1"]
-    _edit_unknown(qtbot, sw, 0, 2, "fathum")
+    edit_cell(qtbot, sw.unknowns_view, 0, 2, "fathum")
     before = sw.solution
     QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
     qtbot.waitUntil(lambda: "fathum" in sw.status.text(), timeout=10_000)
     assert "unknown 'Q1'" in sw.status.text() and sw.solution is before  # nothing new ran
-    _edit_unknown(qtbot, sw, 0, 2, "L/s^")  # not even unit text: marked as it is typed
+    edit_cell(qtbot, sw.unknowns_view, 0, 2, "L/s^")  # not even unit text: marked as it is typed
     assert "unit of Q1" in sw.unknowns.data(sw.unknowns.index(0, 2),
                                             Qt.ItemDataRole.ToolTipRole)
     QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
     assert sw.status.text().startswith("unit of Q1")
-    _edit_unknown(qtbot, sw, 0, 2, "m^3/h")
-    _edit_unknown(qtbot, sw, 0, 1, "180")
+    edit_cell(qtbot, sw.unknowns_view, 0, 2, "m^3/h")
+    edit_cell(qtbot, sw.unknowns_view, 0, 1, "180")
     solution = solve_system_by_click(qtbot, sw)
     run = solution.runs[0]
     assert run.converged and run.root["Q1"] == pytest.approx(3.6 * in_litres, rel=1e-9)

@@ -20,6 +20,7 @@ from solvers.systems.pipeline import solve_worksheet
 pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import (  # noqa: E402
     SAMPLES,
+    edit_cell,
     open_system_window,
     solve_by_keys,
     solve_system_by_click,
@@ -30,18 +31,6 @@ pytest_plugins = ("gui_helpers",)
 PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
 
 
-def _edit_cell(qtbot, view, row: int, column: int, text: str) -> None:
-    index = view.model().index(row, column)
-    rect = view.visualRect(index)
-    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
-    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
-    editor = view.focusWidget()
-    QTest.keyClick(editor, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
-    QTest.keyClicks(editor, text)
-    QTest.keyClick(editor, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: view.model().index(row, column).data() == text, timeout=3000)
-
-
 def test_typing_a_system_filling_starts_and_solving(qtbot, window):
     sw = open_system_window(qtbot, window)
     sw.editor.setFocus()
@@ -50,8 +39,8 @@ def test_typing_a_system_filling_starts_and_solving(qtbot, window):
     QTest.keyClicks(sw.editor, "x*y = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
     assert "2 equations in x, y" in sw.status.text()
-    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
-    _edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")
+    edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
+    edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")
     solution = solve_system_by_click(qtbot, sw)
     x = math.sqrt(2 + math.sqrt(3))  # by hand
     assert sw.lanes.count() == 2
@@ -82,7 +71,7 @@ def test_a_system_that_has_no_solution_is_shown_as_not_converged(qtbot, window):
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x^2 + y^2 = 1; (x - 3)^2 + y^2 = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
-    _edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.5")
+    edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.5")
     solution = solve_system_by_click(qtbot, sw)
     assert all(not r.converged for r in solution.runs)
     assert "did not converge" in sw.lanes.tabText(0)
@@ -100,11 +89,11 @@ def test_a_bad_start_value_is_named_and_nothing_runs(qtbot, window):
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
     qtbot.waitUntil(lambda: sw.parameters.names() == ["a"], timeout=10_000)
     assert "no value for 'a'" in sw.status.text()
-    _edit_cell(qtbot, sw.parameters_view, 0, 1, "3")
-    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "abc")
+    edit_cell(qtbot, sw.parameters_view, 0, 1, "3")
+    edit_cell(qtbot, sw.unknowns_view, 0, 1, "abc")
     QTest.mouseClick(sw.solve_button, Qt.MouseButton.LeftButton)
     assert "start value of x" in sw.status.text() and sw.solution is None
-    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "0")
+    edit_cell(qtbot, sw.unknowns_view, 0, 1, "0")
     solution = solve_system_by_click(qtbot, sw)
     # by hand: 3x + x = 1, x = y = 1/4 (a linear system: one Newton step)
     assert solution.runs[0].root["x"] == pytest.approx(0.25, rel=1e-15)
@@ -164,9 +153,9 @@ def test_the_equation_strip_reads_definitions(qtbot, window):
     settle(qtbot, window)
     names = window.inputs.parameters.names()
     for name, (number, unit) in values.items():
-        _edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 1, number)
+        edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 1, number)
         if unit:
-            _edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 2, unit)
+            edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 2, unit)
     solution = solve_by_keys(qtbot, window)
     assert any(r.converged for r in solution.runs)
     note = window.lanes.agreement.toolTip()
@@ -179,7 +168,7 @@ def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs,
     sw.editor.setFocus()
     QTest.keyClicks(sw.editor, "x^2 + y^2 = 4; x*y = 1")
     qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
-    _edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
+    edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
     dialogs.save_name = str(tmp_path / "pair.json")
     QTest.mouseClick(sw.save_button, Qt.MouseButton.LeftButton)
     saved = worksheet.load(tmp_path / "pair.json")

@@ -244,17 +244,21 @@ class ParameterRow:
 
     @property
     def problem(self) -> str:
-        from solvers.units import unit_text_problem
+        _which, what = value_and_unit_problem(self.text, self.value, self.unit)
+        return f"{self.name}: {what}" if what else ""
 
-        if not self.text.strip():
-            return f"{self.name}: needs a value"
-        if self.value is None:
-            return f"{self.name}: {self.text.strip()!r} is not a finite number"
-        if self.unit.strip():
-            problem = unit_text_problem(self.unit)
-            if problem:
-                return f"{self.name}: {problem}"
-        return ""
+
+def value_and_unit_problem(text: str, value: float | None, unit: str) -> tuple[str, str]:
+    """What is wrong with a number typed beside its unit: ("value" or "unit", the words),
+    or ("", "") when nothing is. The unit is checked as text only (pint reads it later)."""
+    from solvers.units import unit_text_problem
+
+    if not text.strip():
+        return "value", "needs a value"
+    if value is None:
+        return "value", f"{text.strip()!r} is not a finite number"
+    problem = unit_text_problem(unit) if unit.strip() else ""
+    return ("unit", problem) if problem else ("", "")
 
 
 class NamedRows:

@@ -20,6 +20,7 @@ from app.window.models import (
     format_number,
     number_font,
     parse_number,
+    value_and_unit_problem,
 )
 
 Index = QModelIndex | QPersistentModelIndex
@@ -38,15 +39,10 @@ class StartRow:
     @property
     def problem(self) -> str:
         """What is wrong with the start value or the unit, naming the unknown ('' if fine)."""
-        from solvers.units import unit_text_problem
-
-        if self.value is None:
-            return f"start value of {self.name}: {self.text.strip()!r} is not a finite number"
-        if self.unit.strip():
-            problem = unit_text_problem(self.unit)
-            if problem:
-                return f"unit of {self.name}: {problem}"
-        return ""
+        which, what = value_and_unit_problem(self.text, self.value, self.unit)
+        if not what:
+            return ""
+        return f"{'start value' if which == 'value' else 'unit'} of {self.name}: {what}"
 
 
 class UnknownsModel(NamedRows, QAbstractTableModel):
