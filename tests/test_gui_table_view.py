@@ -326,6 +326,9 @@ def test_a_table_with_units_in_its_headers_runs_and_is_saved_with_them(qtbot, wi
     expected = [0.02 * L * 0.3048 * 4 / (2 * 9.80665 * h * 0.3048)
                 for L, h in ((328.0839895013123, 9.842519685039369), (1000, 5))]
     assert batch.root == pytest.approx(expected, rel=1e-10)  # in m: the SI unit of D
+    model = tables.model
+    titles = [model.headerData(c, Qt.Orientation.Horizontal) for c in range(model.columnCount())]
+    assert titles == ["L [ft]", "h [ft]", "D [m]", "reason", "iterations", "f(D)"]
     record = tables.inputs_record()
     assert record.units == ("ft", "ft")
     saved = tmp_path / "units-table.json"

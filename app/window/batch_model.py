@@ -73,11 +73,13 @@ class BatchModel(QAbstractTableModel):
             return None
         if orientation == Qt.Orientation.Vertical:
             return str(section + 1)
-        unit = getattr(getattr(self.batch, "equation", None), "unknown_unit", None)
-        root = f"root [{unit}]" if unit else "root"
+        equation = getattr(self.batch, "equation", None)
+        unknown = getattr(equation, "unknown", "") or "x"
+        headings = words.iterate_headings(unknown, unit=getattr(equation, "unknown_unit", None))
+        # the root in the unknown's name and unit (D [mm]), the residual as f(D)
         titles = [*(f"{n} [{u}]" if u else n for n, u in zip(self.names, self.units,
                                                              strict=True)),
-                  root, *RESULT_TITLES[1:]]
+                  headings["x"], *RESULT_TITLES[1:3], headings["fx"]]
         return titles[section] if 0 <= section < len(titles) else None
 
     def failed(self, row: int) -> bool:
