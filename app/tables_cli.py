@@ -86,24 +86,6 @@ def _settings(args: argparse.Namespace) -> dict[str, Any]:
     return out
 
 
-def _meta(args: argparse.Namespace, equation: Any, batch: Any, constants: dict[str, float],
-          extra: dict[str, str]) -> dict[str, str]:
-    from app.documents.export import metadata
-
-    settings = {"method": batch.method, **batch.settings}
-    units = {k: c for k, c in equation.units.items() if k in constants}
-    return metadata(equation=args.equation, unknown=equation.unknown,
-                    parameters=_as_entered(equation, constants), settings=settings,
-                    extra=extra, units=units, unknown_unit=equation.unknown_unit,
-                    remarks=equation.remarks)
-
-
-def _as_entered(equation: Any, constants: dict[str, Any]) -> dict[str, float]:
-    """Each constant's number as typed (a value with a unit: its magnitude)."""
-    return {k: equation.units[k].value if k in equation.units else v
-            for k, v in constants.items()}
-
-
 def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict[str, float],
             headers: list[str], cells: list[list[str]] | list[tuple[str, ...]],
             names: list[str], columns: list[np.ndarray], extra: dict[str, str]) -> int:
@@ -114,7 +96,8 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
     if out:
         try:
             tables.results_csv(batch, headers, cells, out,
-                               meta=_meta(args, equation, batch, constants, extra),
+                               meta=tables.table_metadata(args.equation, equation, batch,
+                                                          constants, extra),
                                overwrite=args.force)
         except OSError as exc:
             raise InputError(f"{out}: cannot write ({exc.strerror or exc})") from None
@@ -123,7 +106,8 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
 
         data = tables.results_json(batch, names, columns, equation=args.equation,
                                    unknown=equation.unknown,
-                                   parameters=_as_entered(equation, constants))
+                                   parameters=tables.constants_as_entered(equation,
+                                                                                constants))
         data.update(units_json(equation))
         _json_out({**data, **{k: v for k, v in extra.items() if k not in data}})
         return EXIT_OK

@@ -331,6 +331,15 @@ def test_a_table_with_units_in_its_headers_runs_and_is_saved_with_them(qtbot, wi
     assert titles == ["L [ft]", "h [ft]", "D [m]", "reason", "iterations", "f(D)"]
     record = tables.inputs_record()
     assert record.units == ("ft", "ft")
+    # the export writes the constants as entered and in SI (a trial found the click did
+    # nothing when a constant had a unit)
+    out = tmp_path / "lines-out.csv"
+    dialogs.save_name = str(out)
+    click(qtbot, tables.export_button)
+    qtbot.waitUntil(out.exists, timeout=5000)
+    text = out.read_text(encoding="utf-8")
+    assert "v=2.0 m/s" in text and "g=9.80665 m/s^2" in text and "# caution:" in text
+    assert f"results written to {out}" in tables.status.text()
     saved = tmp_path / "units-table.json"
     window.load_sample()
     window.open_tables()
@@ -355,3 +364,88 @@ def test_a_header_with_an_unknown_unit_is_named_when_the_table_is_opened(qtbot, 
     open_and_wait(qtbot, tables)
     assert "column 2 'rr [furlongz]'" in tables.last_error
     assert "furlong" in tables.last_error  # a close name is suggested
+
+
+def test_the_worksheets_start_values_fill_the_blank_fields(qtbot, window, dialogs, tmp_path):
+    """The invented US customary bore sample has x0 = 100 mm and the bracket [20, 500] mm:
+    the tables window opens with them (a trial found its fields blank and Run refused);
+    with x0 cleared, Run names the method by its title and what it needs."""
+    assert window.load_sample("cooling-line-bore-us-customary.json")
+    modified = window.isWindowModified()
+    window.activateWindow()
+    window.strip.editor.setFocus()
+    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.tables is not None and window.tables.isVisible())
+    t = window.tables
+    assert (t.x0_edit.text(), t.a_edit.text(), t.b_edit.text()) == ("100.0", "20.0", "500.0")
+    assert window.isWindowModified() == modified  # filling blank fields is no edit
+    path = tmp_path / "lines.csv"
+    path.write_text("L [ft],hf [ft]\n800,15\n1200,15\n", encoding="utf-8")
+    dialogs.open_name = str(path)
+    open_and_wait(qtbot, t)
+    type_into(qtbot, t.x0_edit, "")
+    click(qtbot, t.run_button)
+    assert t.last_error == "Newton–Raphson needs a start value x0"
+    type_into(qtbot, t.x0_edit, "100")
+    run_and_wait(qtbot, t)
+    batch = t.done.batch
+    assert batch.converged.all()
+    # the sample's own Darcy-Weisbach bore at L = 800 ft (the main window's solve, the same
+    # core) and, at 1200 ft, D ~ L^(1/5) (common practice: hf ~ L / D^5 at fixed flow)
+    solution = window.solve_worksheet()
+    from solvers import pipeline
+
+    d800 = pipeline.solve(solution).runs[0].root
+    assert batch.root[0] == pytest.approx(d800, rel=1e-10)
+    assert batch.root[1] == pytest.approx(d800 * 1.5 ** 0.2, rel=1e-10)
+
+
+def test_a_sweep_takes_the_parameters_unit_and_a_new_table_clears_the_old_results(
+        qtbot, window, dialogs):
+    """Sweeping the flow Q of the invented US customary bore sample: the values typed are
+    in gal/min as the worksheet gives Q (or in the unit typed, Q [L/s]); each bore equals the
+    core's single solve at that flow. Making a new sweep clears the previous chart and row
+    lane (a trial saw them stay, labelled for the old table)."""
+    from gui_helpers import SAMPLES
+
+    from app.documents.worksheet import load
+    from solvers import brent, parse_equation
+
+    assert window.load_sample("cooling-line-bore-us-customary.json")
+    window.activateWindow()
+    window.strip.editor.setFocus()
+    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
+    qtbot.keyClick(window.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: window.tables is not None and window.tables.isVisible())
+    t = window.tables
+    type_into(qtbot, t.sweep_name_edit, "Q")
+    type_into(qtbot, t.sweep_from, "100")
+    type_into(qtbot, t.sweep_to, "900")
+    t.sweep_count.setValue(9)
+    click(qtbot, t.sweep_button)
+    assert t.headers == ["Q [gal/min]"] and t.units == ["gal/min"]
+    run_and_wait(qtbot, t)
+    batch = t.done.batch
+    assert batch.converged.all()
+    ws = load(SAMPLES / "cooling-line-bore-us-customary.json")
+    values = ws.parameter_values()
+    for row, q in ((0, 100.0), (8, 900.0)):
+        eq = parse_equation(ws.equation, unknown="D", unknown_unit="mm",
+                            parameters={**values, "Q": f"{q} gal/min"})
+        single = brent(eq.f, 20.0, 500.0)  # the core's own scalar solve, in mm
+        assert batch.root[row] == pytest.approx(single.root, rel=1e-10)
+    rect = t.view.visualRect(t.model.index(3, 0))
+    QTest.mouseClick(t.view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseDClick(t.view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    qtbot.waitUntil(lambda: t.lane is not None and t.lane_row == 3)
+    assert t.chart.figure.axes[0].lines
+    type_into(qtbot, t.sweep_name_edit, "Q [L/s]")
+    type_into(qtbot, t.sweep_from, "5")
+    type_into(qtbot, t.sweep_to, "50")
+    click(qtbot, t.sweep_button)
+    assert t.headers == ["Q [L/s]"] and t.lane is None and t.lane_row == -1
+    assert not any(ax.lines for ax in t.chart.figure.axes)
+    type_into(qtbot, t.sweep_name_edit, "Q [fathum/s]")  # a misspelt unit
+    click(qtbot, t.sweep_button)
+    assert t.last_error.startswith("sweep:")

@@ -132,16 +132,22 @@ def parse_table(text: str, shown: str = "pasted table") -> Table:
     return Table(shown, columns, cells, values, tuple(lines))
 
 
+def read_header(cell: str) -> tuple[str, str] | None:
+    """``NAME`` or ``NAME [unit]`` -> (name, unit or ''); None when it is neither."""
+    match = _HEADER.fullmatch(cell)
+    return None if match is None else (match.group(1), (match.group(2) or "").strip())
+
+
 def _columns(shown: str, header: Sequence[str], line: int) -> tuple[Column, ...]:
     columns: list[Column] = []
     for j, cell in enumerate(header):
-        match = _HEADER.fullmatch(cell)
+        header = read_header(cell)
         where = f"{shown}: header (line {line}), column {j + 1}"
         if not cell.strip():
             raise TableError(f"{where}: empty name")
-        if match is None:
+        if header is None:
             raise TableError(f"{where}: {cell.strip()!r} is not NAME or NAME [unit]")
-        name, unit = match.group(1), (match.group(2) or "").strip()
+        name, unit = header
         if any(c.name == name for c in columns):
             raise TableError(f"{where}: {name!r} appears twice")
         columns.append(Column(cell.strip(), name, unit))
@@ -194,6 +200,27 @@ def results_of(inputs: Any, done: Any) -> TableResults:
     columns = tuple(np.asarray(values, dtype=np.float64) for _, values in inputs.columns)
     cells = tuple(tuple(repr(float(v)) for v in values) for _, values in inputs.columns)
     return TableResults(names, columns, names, cells, done, inputs.kind)
+
+
+def table_metadata(equation_text: str, equation: Any, batch: Any,
+                   constants: Mapping[str, Any], extra: Mapping[str, str] | None = None
+                   ) -> dict[str, str]:
+    """The ``#`` lines of a table's results: the constants as entered (a value with a unit:
+    its number here, the unit and SI value from ``equation.units``), the method's settings,
+    the unknown's unit and the dimension-check remark."""
+    from app.documents.export import metadata
+
+    units = {k: c for k, c in equation.units.items() if k in constants}
+    return metadata(equation=equation_text, unknown=equation.unknown,
+                    parameters=constants_as_entered(equation, constants),
+                    settings={"method": batch.method, **batch.settings}, extra=extra,
+                    units=units, unknown_unit=equation.unknown_unit, remarks=equation.remarks)
+
+
+def constants_as_entered(equation: Any, constants: Mapping[str, Any]) -> dict[str, float]:
+    """Each constant's number as typed (a value with a unit: its magnitude)."""
+    return {k: equation.units[k].value if k in equation.units else v
+            for k, v in constants.items()}
 
 
 def note_lines(batch: Any, label: str = "row") -> dict[str, str]:

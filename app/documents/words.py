@@ -311,6 +311,19 @@ def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
     return text + (f"; {note}" if note else "")
 
 
+# What a method needs before it can start (solvers.methods.registry's "needs").
+NEED_TEXT: dict[str, str] = {
+    "x0": "a start value x0",
+    "x1": "a second start value x1",
+    "bracket": "a bracket a, b",
+}
+
+
+def method_needs_text(method: str, needs: Sequence[str]) -> str:
+    """"Newton–Raphson needs a start value x0": the method by its title, what is missing."""
+    return f"{method_title(method)} needs " + " and ".join(NEED_TEXT.get(n, n) for n in needs)
+
+
 def stop_line(run: Any) -> str:
     """"Title reason: reason words." with the run's detail after it, one line."""
     detail = detail_text(run.detail)

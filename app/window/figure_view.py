@@ -71,7 +71,9 @@ class FigureView(QWidget):
 
     def __init__(self, parent: QWidget | None = None,
                  on_build: Callable[[FigureView], None] | None = None,
-                 name: str = "plot") -> None:
+                 name: str = "plot", placeholder: str = "preparing the plot…") -> None:
+        """``placeholder``: what the view says until its figure is first built (a view
+        drawn only after some work says what brings it)."""
         super().__init__(parent)
         self._on_build = on_build
         self._built: tuple[Any, Any, Any] | None = None
@@ -104,7 +106,8 @@ class FigureView(QWidget):
             self.buttons[key] = button
         self.bar.addSpacing(8)
         self.bar.addStretch(1)
-        self._placeholder = QLabel("preparing the plot…")
+        self._placeholder = QLabel(placeholder)
+        self._placeholder.setWordWrap(True)
         self._placeholder.setAlignment(Qt.AlignmentFlag.AlignCenter)
         self._placeholder.setMinimumSize(320, 200)
         self._layout = QVBoxLayout(self)

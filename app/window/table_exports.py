@@ -9,7 +9,7 @@ from PySide6.QtWidgets import QFileDialog
 
 
 def export_csv(window: Any) -> bool:
-    from app.documents import export, tables
+    from app.documents import tables
 
     if window.done is None:
         return False
@@ -18,9 +18,8 @@ def export_csv(window: Any) -> bool:
     if not path:
         return False
     done = window.done
-    meta = export.metadata(equation=window.equation_edit.text(),
-                           unknown=done.equation.unknown, parameters=done.constants,
-                           settings={"method": done.batch.method, **done.batch.settings})
+    meta = tables.table_metadata(window.equation_edit.text(), done.equation, done.batch,
+                                 done.constants)
     try:
         tables.results_csv(done.batch, window.headers, window.cells, path, meta=meta,
                            overwrite=True)  # the file dialog asked before replacing

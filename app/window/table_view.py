@@ -137,7 +137,8 @@ class TableWindow(QWidget):
         self.view.verticalHeader().setVisible(True)  # row numbers, as messages count them
         self.view.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
         self.view.doubleClicked.connect(lambda index: self.open_row(index.row()))
-        self.chart = FigureView(name="design")
+        self.chart = FigureView(name="design", placeholder="The design chart (the root "
+                                "against a column) is drawn when the table is run.")
         self.against_box = QComboBox()
         self.against_box.setObjectName("against_box")
         self.log_x = QCheckBox("log x")
@@ -235,6 +236,15 @@ class TableWindow(QWidget):
         self.unknown_edit.setText(unknown or "")
         self.constants = dict(constants)
         self.settings = dict(settings)
+        # the worksheet's start values and bracket fill the fields left blank (a table
+        # saved with its own start values keeps them)
+        ws_settings = getattr(worksheet, "settings", None)
+        if ws_settings is not None:
+            bracket = ws_settings.bracket or (None, None)
+            for edit, value in ((self.x0_edit, ws_settings.x0), (self.x1_edit, ws_settings.x1),
+                                (self.a_edit, bracket[0]), (self.b_edit, bracket[1])):
+                if value is not None and not edit.text().strip():
+                    edit.setText(repr(float(value)))
 
     def say(self, text: str) -> None:
         self.last_error = ""
@@ -256,6 +266,7 @@ class TableWindow(QWidget):
         self.done = None
         self.export_button.setEnabled(False)
         self.sheet_button.setEnabled(False)
+        self._clear_results()
         self.against_box.blockSignals(True)
         self.against_box.clear()
         self.against_box.addItems(list(names))
@@ -268,6 +279,21 @@ class TableWindow(QWidget):
                      "worksheet file; open it from its CSV file)")
         self.say(text)
         self._inputs_edited()
+
+    def _clear_results(self) -> None:
+        """No chart and no row lane of an earlier table: they would pass for this one's."""
+        if self.lane is not None:
+            self.lane.hide()
+            self.lane.setParent(None)
+            self.lane.deleteLater()
+            self.lane = None
+        self.lane_row = -1
+        self.scan_roots.clear()
+        self.scan_button.setEnabled(False)
+        self.resume_button.setEnabled(False)
+        if self.chart._built is not None:
+            self.chart.new_axes()
+            self.chart.redraw()
 
     def _keepable(self) -> bool:
         return sum(c.size for c in self.model.columns) <= MAX_TABLE_CELLS
@@ -381,15 +407,32 @@ class TableWindow(QWidget):
         return self._read(partial(parse_table, QGuiApplication.clipboard().text()))
 
     def make_sweep(self) -> bool:
-        name = self.sweep_name_edit.text().strip()
+        """A sweep of one parameter, ``NAME`` or ``NAME [unit]``: the values from and to in
+        that unit; without one, in the unit the worksheet gives that parameter."""
+        from app.documents.tables import read_header
+        from solvers.equation import EquationError
+        from solvers.units import Measured, read_unit
+
+        typed = self.sweep_name_edit.text().strip()
         try:
             start, stop = _number(self.sweep_from.text()), _number(self.sweep_to.text())
         except ValueError as exc:
             self.refuse(f"sweep: {exc}")
             return False
-        if not name.isidentifier() or start is None or stop is None:
-            self.refuse("sweep: give the parameter's name and the values from and to")
+        header = read_header(typed)
+        if header is None or start is None or stop is None:
+            self.refuse("sweep: give the parameter's name (NAME or NAME [unit]) and the "
+                        "values from and to")
             return False
+        name, unit = header
+        if not unit and isinstance(self.constants.get(name), Measured):
+            unit = self.constants[name].unit  # the worksheet's unit for that parameter
+        if unit:
+            try:
+                read_unit(unit)
+            except EquationError as exc:
+                self.refuse(f"sweep: {exc}")
+                return False
         count = self.sweep_count.value()
         if self.sweep_log.isChecked():
             if not (start > 0 and stop > 0):
@@ -400,12 +443,14 @@ class TableWindow(QWidget):
             values = np.linspace(start, stop, count)
         self.sweep_name = name
         self.log_x.setChecked(self.sweep_log.isChecked())  # the chart spaced as the sweep
-        self.set_table([name], [name], [values], [[repr(float(v)) for v in values]], "sweep")
+        self.set_table([f"{name} [{unit}]" if unit else name], [name], [values],
+                       [[repr(float(v)) for v in values]], "sweep", [unit])
         return True
 
     # ------------------------------------------------------------------ running
     def run(self) -> bool:
         from solvers.batch import solve_sweep, solve_table
+        from solvers.methods.registry import method_spec
         from solvers.units import Measured
 
         if not self.model.columns:
@@ -420,13 +465,21 @@ class TableWindow(QWidget):
             self.refuse(f"start value: {exc}")
             return False
         bracket = (starts["a"], starts["b"]) if None not in (starts["a"], starts["b"]) else None
+        method = self.method_box.currentData()
+        given = {"x0": starts["x0"] is not None or "x0" in self.model.names,
+                 "x1": starts["x1"] is not None or "x1" in self.model.names,
+                 "bracket": bracket is not None or {"a", "b"} <= set(self.model.names)}
+        missing = [need for need in method_spec(method).needs if not given[need]]
+        if missing:
+            self.refuse(words.method_needs_text(method, missing))
+            return False
         text = self.equation_edit.text()
         unknown = self.unknown_edit.text().strip() or None
         names = self.model.names
         constants = {k: v for k, v in self.constants.items() if k not in names}
         ws = self.worksheet
         common = dict(unknown=unknown, constants=constants,
-                      method=self.method_box.currentData(), x0=starts["x0"],
+                      method=method, x0=starts["x0"],
                       x1=starts["x1"], bracket=bracket, **self.settings,
                       unknown_unit=getattr(ws, "unknown_unit", None),
                       check_dimensions=getattr(ws, "dimension_check", True))
