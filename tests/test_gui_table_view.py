@@ -439,7 +439,8 @@ def test_a_sweep_takes_the_parameters_unit_and_a_new_table_clears_the_old_result
     QTest.mouseClick(t.view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
     QTest.mouseDClick(t.view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
     qtbot.waitUntil(lambda: t.lane is not None and t.lane_row == 3)
-    assert t.chart.figure.axes[0].lines
+    ax = t.chart.figure.axes[0]
+    assert ax.lines and ax.get_xlabel() == "Q [gal/min]" and ax.get_ylabel() == "D [mm]"
     type_into(qtbot, t.sweep_name_edit, "Q [L/s]")
     type_into(qtbot, t.sweep_from, "5")
     type_into(qtbot, t.sweep_to, "50")

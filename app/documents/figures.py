@@ -397,10 +397,12 @@ def design_chart_data(values: Any, batch: Any) -> tuple[Any, Any, Any, list[floa
 
 
 def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: str,
-                      log_x: bool = False, log_y: bool = False, line: bool = True) -> int:
+                      log_x: bool = False, log_y: bool = False, line: bool = True,
+                      x_unit: str = "", unit: str | None = None) -> int:
     """The root against one parameter: converged rows as a line with markers (``line``
     for a sweep, markers alone for a table in no order), rows that did not converge as
-    red crosses along the bottom, the ends of a sweep's branch as dotted verticals.
+    red crosses along the bottom, the ends of a sweep's branch as dotted verticals. The
+    axes name the parameter and the unknown with their units (``x_unit``, ``unit``).
 
     Log axes on request (only positive values are shown on a log axis). Returns the
     number of converged rows drawn.
@@ -430,8 +432,8 @@ def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: s
         ax.set_xscale("log")
     if log_y:
         ax.set_yscale("log")
-    ax.set_xlabel(name)
-    ax.set_ylabel(unknown)
+    ax.set_xlabel(f"{name} [{x_unit}]" if x_unit else name)
+    ax.set_ylabel(f"{unknown} [{unit}]" if unit else unknown)
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6, zorder=0)
     if failed.size or ends:
         ax.legend(loc="best", fontsize="small", framealpha=0.85)

@@ -543,7 +543,9 @@ class TableWindow(QWidget):
         ax = self.chart.new_axes()
         figures.draw_design_chart(ax, self.model.columns[column], self.done.batch,
                                   name=self.model.names[column],
+                                  x_unit=self.model.units[column],
                                   unknown=self.done.equation.unknown,
+                                  unit=self.done.equation.unknown_unit,
                                   log_x=self.log_x.isChecked(), log_y=self.log_y.isChecked(),
                                   line=self.kind == "sweep")
         self.chart.redraw()

@@ -30,6 +30,7 @@ from app.documents.report.layout import (
     _num,
 )
 from app.documents.report.typeset import _figure
+from app.documents.tables import read_header
 
 SHOWN_ROWS = 10  # first and last rows printed when a table is longer than twice this
 SHOWN_NOTES = 20
@@ -75,9 +76,10 @@ def table_section(c: Any, number: str = "8") -> list[Flowable]:
                "lines where a sweep's branch ended.")
     try:
         image: Flowable = _figure(
-            lambda ax: figures.draw_design_chart(ax, t.columns[column], batch,
-                                                 name=t.names[column], unknown=equation.unknown,
-                                                 line=t.kind == "sweep"),
+            lambda ax: figures.draw_design_chart(
+                ax, t.columns[column], batch, name=t.names[column], unknown=equation.unknown,
+                line=t.kind == "sweep", x_unit=(read_header(t.headers[column]) or ("", ""))[1],
+                unit=equation.unknown_unit),
             TEXT_WIDTH, 74 * mm)
     except Exception as exc:  # a figure must never cost the checker the numbers
         image = Paragraph(f"(figure could not be drawn: {escape(str(exc))[:200]})", st["small"])
