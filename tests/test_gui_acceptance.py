@@ -190,6 +190,10 @@ def test_the_roots_list_heads_its_columns_with_the_unknown_and_its_unit(qtbot, w
     _scan_and_wait(qtbot, window)
     assert _headings(window.roots_model, 3) == ["D [mm]", "f(D)", "mult."]
     assert window.roots_model.rowCount() == 1
+    # the design value taken from the list says its unit too
+    qtbot.mouseClick(window.roots.design_button, Qt.MouseButton.LeftButton)
+    label = window.roots.design_label.text()
+    assert label.startswith("Design value: 144.9") and label.endswith(" mm")
 
 
 def test_a_long_scan_summary_is_readable_from_its_first_line(qtbot, window):

@@ -148,7 +148,7 @@ class MainWindow(QMainWindow):
         doc.worksheetChanged.connect(self._show_worksheet)
         doc.equationChanged.connect(self._show_analysis)
         doc.staleChanged.connect(self._show_stale)
-        doc.selectionChanged.connect(self.roots.show_design_value)
+        doc.selectionChanged.connect(self._show_design_value)
         doc.modifiedChanged.connect(self.setWindowModified)
         doc.pathChanged.connect(lambda _p: self._refresh_title())
         doc.resultsChanged.connect(self._update_actions)
@@ -426,6 +426,12 @@ class MainWindow(QMainWindow):
         return True
 
     # ------------------------------------------------------------------ design value
+    def _show_design_value(self, selection: Any) -> None:
+        """The design value with the unit the roots are in (the equation's as analysed)."""
+        equation = getattr(self.analysis, "equation", None)
+        unit = getattr(equation, "unknown_unit", None) or self.worksheet().unknown_unit
+        self.roots.show_design_value(selection, unit)
+
     def take_design_value(self) -> bool:
         """Record the chosen root (roots list first, else the converged root) and why."""
         row = self.roots.selected_row()

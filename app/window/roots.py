@@ -158,12 +158,13 @@ class RootsPanel(QGroupBox):
         if scan is not None:
             self.summary.setText((STALE_SCAN if stale else "") + scan_summary(scan, unknown))
 
-    def show_design_value(self, selection: Any) -> None:
+    def show_design_value(self, selection: Any, unit: str | None = None) -> None:
         if selection is None:
             self.design_label.setText("Design value: none chosen")
             self.design_label.setToolTip("")
         else:
-            self.design_label.setText(f"Design value: {format_number(selection.root, 12)}")
+            self.design_label.setText(f"Design value: {format_number(selection.root, 12)}"
+                                      + (f" {unit}" if unit else ""))
             self.design_label.setToolTip(f"{selection.root!r}\n{selection.reason}")
 
     def selected_row(self) -> int | None:
