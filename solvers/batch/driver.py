@@ -235,18 +235,23 @@ def _solve_chunk(equation: Any, kernel: Callable[[Work, dict[str, Any]], None],
     chunk_values = {k: (v[begin:end] if isinstance(v, np.ndarray) else v)
                     for k, v in values.items()}
     fn = Rows(equation, chunk_values, n, bound, units)
-    out = Outcome(n)
+    whole = n == len(result.code)  # one chunk: the kernel writes the results in place
+    out = result if whole else Outcome(n)
     bad = np.flatnonzero(fn.bad)
     if bad.size:
         nothing = np.full(bad.size, np.nan)
         out.write(bad, NOT_FIN, nothing, nothing, np.zeros(bad.size, np.int64),
                   np.zeros(bad.size, np.int64))
         out.notes.extend((begin + int(i), "bad_parameters") for i in bad)
-    rows = np.flatnonzero(~fn.bad)
+        rows = np.flatnonzero(~fn.bad)
+        chunk_starts = {k: v[begin:end].take(rows) for k, v in starts.items()}
+    else:
+        rows = np.arange(n)
+        chunk_starts = {k: v[begin:end].copy() for k, v in starts.items()}
     if rows.size:
-        work = Work(out, fn, rows, poll, **{k: v[begin:end][rows].copy()
-                                            for k, v in starts.items()})
-        kernel(work, settings)
+        kernel(Work(out, fn, rows, poll, **chunk_starts), settings)
+    if whole:
+        return
     sl = slice(begin, end)
     result.root[sl], result.code[sl], result.residual[sl] = out.root, out.code, out.residual
     result.iterations[sl], result.evaluations[sl] = out.iterations, out.evaluations
