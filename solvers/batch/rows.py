@@ -130,6 +130,18 @@ class Rows:
     def _bind(self, rows: np.ndarray) -> Any:
         return bind_rows(self._equation, self._values, self._units, rows)
 
+    def part(self, begin: int, end: int) -> Rows:
+        """The rows begin..end of rows bound with no bad row: the same compiled code,
+        views of the parameter parts (a chunk of a bound equation binds nothing)."""
+        assert not self.bad.any()
+        part = object.__new__(Rows)
+        part.__dict__.update(self.__dict__)
+        part.bad = np.zeros(end - begin, dtype=bool)
+        part.size = end - begin
+        part.hoisted = tuple(h[begin:end] if h.__class__ is np.ndarray else h
+                             for h in self.hoisted)
+        return part
+
     def _compiled(self, bound: Any) -> None:
         """The compiled f and f' of the bound equation and its parameter-only parts, as
         :func:`solvers.equation.record._run_checks` computes them (numpy path)."""
