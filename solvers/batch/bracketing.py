@@ -247,8 +247,8 @@ def illinois(w: Work, s: dict[str, Any]) -> None:
 _SAFE = 2.0**300  # f values within [2**-300, 2**300]: the interpolation cannot overflow
 
 
-def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None) -> np.ndarray:
-    """Element-wise :func:`solvers.methods.brent._interpolation_step` (NaN: bisect).
+def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None, abs_fa=None) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.brent._interpolation_step` (not finite: bisect).
 
     The step is homogeneous of degree 0 in f, and scaling by a power of two is exact, so
     the scalar method's scaling changes nothing where the values are far from under- and
@@ -257,7 +257,7 @@ def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None) -> np.ndarray:
     largest |f| of a row is that of a or c. The arithmetic is the scalar's, operation
     for operation (written in place to spare the temporaries).
     """
-    big = np.abs(fa)
+    big = np.abs(fa) if abs_fa is None else abs_fa  # (|fa| given is written over)
     np.maximum(big, np.abs(fc), out=big)
     if not (big.max() < _SAFE and big.min() > 1.0 / _SAFE):
         out = ~((big < _SAFE) & (big > 1.0 / _SAFE))
@@ -266,9 +266,10 @@ def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None) -> np.ndarray:
         if out.any():
             exponent = np.frexp(np.maximum(big, np.abs(fb)))[1]
             fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
-    # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa: not accepted)
+    minus_fb = -fb
+    # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa)
     secant = np.subtract(xb, xa)
-    secant *= -fb
+    secant *= minus_fb
     secant /= np.subtract(fb, fa, out=big)
     slope_a = np.subtract(fa, fb)
     slope_a /= np.subtract(xa, xb, out=big)
@@ -279,11 +280,12 @@ def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None) -> np.ndarray:
     denominator *= np.subtract(fc, fa, out=big)
     quadratic = np.multiply(fc, slope_c, out=slope_c)
     quadratic -= np.multiply(fa, slope_a, out=slope_a)
-    quadratic *= -fb
+    quadratic *= minus_fb
     quadratic /= denominator
     np.copyto(quadratic, secant, where=xa == xc)
-    # a zero or overflowing denominator gives an undefined step (bisect)
-    quadratic[~np.isfinite(quadratic)] = np.nan
+    # A zero or overflowing denominator gives a step that is not finite: the scalar
+    # method bisects there, and so does the caller, since a step that is not finite
+    # never passes its test 2|step| < min(|e|, 3|m| - half_tol).
     return quadratic
 
 
@@ -354,10 +356,11 @@ def brent(w: Work, s: dict[str, Any]) -> None:
             del w.half_tol, w.m, w.abs_m, w.afb
         abs_e = np.abs(w.e)
         try_step = abs_e > half_tol
-        try_step &= afb < np.abs(w.fa)
+        afa = np.abs(w.fa)
+        try_step &= afb < afa
         if w.tiny:  # a value that underflowed has a sign but no size: bisect there
             try_step &= ~(carried(w.fa) | carried(w.fb) | carried(w.fc))
-        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.dead)
+        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.dead, afa)
         size = np.abs(step)
         # 2|step| < min(|e|, 3|m| - half_tol), and no tiny step twice after a bisection
         limit = np.multiply(abs_m, 3.0, out=abs_m)
@@ -395,7 +398,8 @@ def brent(w: Work, s: dict[str, Any]) -> None:
             if not w.size:
                 break
         # the root now lies between the new b and the old b: a becomes the contrapoint
-        change = np.flatnonzero(np.isfinite(w.fb) & ~same_sign(w.fb, w.fa))
+        # (every row at work has a finite f here, not 0.0: the others have stopped)
+        change = np.flatnonzero((w.fb > 0.0) != (w.fa > 0.0))
         if change.size:
             xa, fa = w.xa[change], w.fa[change]
             w.xc[change], w.fc[change] = xa, fa
