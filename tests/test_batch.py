@@ -2,8 +2,9 @@
 
 Outside references (each check names its own): the closed form of the Colebrook–White
 equation through the Lambert W function (scipy.special.lambertw / wrightomega),
-scipy.optimize.brentq row by row, numpy.roots for a cubic's real roots, and the scalar
-methods of the registry (the rules the rows must follow). Scenarios are invented: pipes
+scipy.optimize.brentq and scipy.optimize.newton row by row, numpy.roots for a cubic's
+real roots, numpy.cbrt, the residual written out in numpy, and the scalar methods of the
+registry (the rules the rows must follow). Scenarios are invented: pipes
 of a cooling-water network, a pump against a system curve, an open channel.
 """
 
