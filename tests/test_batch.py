@@ -281,6 +281,29 @@ def test_newton_rows_finishing_decades_apart_match_scipy_and_the_scalar_run():
         assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
 
 
+def test_newton_with_a_numerical_derivative_keeps_each_rows_steps_with_rows_riding_along():
+    # The same cube roots with f' by central differences (as for an equation sympy cannot
+    # differentiate): the difference's calls are made for every row of the arrays, dead
+    # rows included, and must still be counted as the scalar method counts them.
+    import dataclasses
+
+    rng = np.random.default_rng(19)
+    c = 10 ** rng.uniform(-9, 9, 300)
+    equation = dataclasses.replace(
+        parse_equation("x^3 - c", unknown="x", parameters={"c": c}), fprime=None)
+    batch = solve_batch(equation, method="newton", x0=1.0, max_iter=200)
+    assert batch.settings["derivative"] == "numerical"
+    assert batch.converged.all() and len(set(batch.iterations.tolist())) > 15
+    # reference: numpy.cbrt (a difference quotient's f' still converges to the root)
+    np.testing.assert_allclose(batch.root, np.cbrt(c), rtol=1e-12, atol=0)
+    for i in range(0, 300, 9):
+        run = batch.run(i)
+        assert run.derivative == "numerical"
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        assert run.root == batch.root[i]
+
+
 def test_brent_rows_of_roots_jumps_and_exact_zeros_in_one_batch_keep_their_verdicts():
     # One equation, three kinds of row: a root (g = 1, J = 0), a jump of height 2 at c
     # (a ramp 2e-15 wide, narrower than any tolerance; g = 0.01, J = 1) and a root the
