@@ -2,8 +2,9 @@
 
 Outside references (each check names its own): the closed form of the Colebrook–White
 equation through the Lambert W function (scipy.special.lambertw / wrightomega),
-scipy.optimize.brentq row by row, numpy.roots for a cubic's real roots, and the scalar
-methods of the registry (the rules the rows must follow). Scenarios are invented: pipes
+scipy.optimize.brentq and scipy.optimize.newton row by row, numpy.roots for a cubic's
+real roots, numpy.cbrt, the residual written out in numpy, and the scalar methods of the
+registry (the rules the rows must follow). Scenarios are invented: pipes
 of a cooling-water network, a pump against a system curve, an open channel.
 """
 
@@ -243,6 +244,118 @@ def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     secant = solve_batch(equation, method="secant", x0=np.array([0.5, 800.0]),
                          x1=np.array([0.6, 801.0]))
     assert secant.converged.tolist() == [True, False]
+    # the probe beside x = 800 is 0.0 too: the scalar rule stops after that one call
+    # (f(800), then f(800 + step)), and the row's count says the same
+    for result in (batch, secant):
+        run = result.run(1)
+        assert (run.reason, run.evaluations) == (result.reason[1], result.evaluations[1])
+    assert batch.evaluations[1] == 2
+
+
+def test_newton_rows_finishing_decades_apart_match_scipy_and_the_scalar_run():
+    # Cube roots of c over 24 decades from x0 = 1: from 0 iterations (c = 1: f is 0.0
+    # at the start, a probed exact zero) to 49 (c = 1e12 overshoots to 3e11 first), so
+    # the work's finished rows ride along and the arrays are compressed several times;
+    # x0 = 0 rows stop at once on f'(0) = 0, beside the others.
+    rng = np.random.default_rng(17)
+    c = 10 ** rng.uniform(-12, 12, 500)
+    c[:5] = 1.0
+    x0 = np.ones_like(c)
+    x0[5:10] = 0.0
+    equation = parse_equation("x^3 - c", unknown="x", parameters={"c": c})
+    batch = solve_batch(equation, method="newton", x0=x0, max_iter=200)
+    assert len(set(batch.iterations.tolist())) > 20
+    assert set(batch.reason[:5]) == {"exact_zero"}
+    assert set(batch.reason[5:10]) == {"zero_derivative"}
+    assert batch.converged[10:].all()
+    # reference: numpy.cbrt, and scipy.optimize.newton row by row (same tolerances)
+    np.testing.assert_allclose(batch.root[10:], np.cbrt(c[10:]), rtol=1e-13, atol=0)
+    for i in range(10, 500, 7):
+        ref = scipy.optimize.newton(lambda x, c=c[i]: x**3 - c, 1.0,
+                                    fprime=lambda x: 3 * x**2, tol=1e-12, maxiter=200)
+        assert abs(batch.root[i] - ref) <= 1e-10 * abs(ref), i
+    for i in list(range(10)) + list(range(10, 500, 13)):
+        run = batch.run(i)  # the scalar method row by row: the same steps and counts
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
+
+
+def test_newton_with_a_numerical_derivative_keeps_each_rows_steps_with_rows_riding_along():
+    # The same cube roots with f' by central differences (as for an equation sympy cannot
+    # differentiate): the difference's calls are made for every row of the arrays, dead
+    # rows included, and must still be counted as the scalar method counts them.
+    import dataclasses
+
+    rng = np.random.default_rng(19)
+    c = 10 ** rng.uniform(-9, 9, 300)
+    equation = dataclasses.replace(
+        parse_equation("x^3 - c", unknown="x", parameters={"c": c}), fprime=None)
+    batch = solve_batch(equation, method="newton", x0=1.0, max_iter=200)
+    assert batch.settings["derivative"] == "numerical"
+    assert batch.converged.all() and len(set(batch.iterations.tolist())) > 15
+    # reference: numpy.cbrt (a difference quotient's f' still converges to the root)
+    np.testing.assert_allclose(batch.root, np.cbrt(c), rtol=1e-12, atol=0)
+    for i in range(0, 300, 9):
+        run = batch.run(i)
+        assert run.derivative == "numerical"
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        assert run.root == batch.root[i]
+
+
+def test_brent_rows_of_roots_jumps_and_exact_zeros_in_one_batch_keep_their_verdicts():
+    # One equation, three kinds of row: a root (g = 1, J = 0), a jump of height 2 at c
+    # (a ramp 2e-15 wide, narrower than any tolerance; g = 0.01, J = 1) and a root the
+    # first bisection lands on exactly (c = 0.5). Rows close at different iterations,
+    # jumps after the closed-bracket probes: the verdicts must stay each row's own.
+    rng = np.random.default_rng(23)
+    n = 600
+    c = rng.uniform(0.05, 0.95, n)
+    c[:20] = 0.5
+    jump = np.zeros(n)
+    jump[20:220] = 1.0
+    g = np.where(jump == 1.0, 0.01, 1.0)
+    equation = parse_equation("g*(x - c) + J*max(min(1e15*(x - c), 1), -1)", unknown="x",
+                              parameters={"g": g, "c": c, "J": jump})
+    batch = solve_batch(equation, method="brent", bracket=(0.0, 1.0), chunk_rows=128)
+    assert set(batch.reason[:20]) == {"exact_zero"}
+    assert set(batch.reason[20:220]) == {"discontinuity"}  # a jump is no root (the rule)
+    assert np.isnan(batch.root[20:220]).all()
+    assert batch.converged[220:].all()
+    # reference: scipy.optimize.brentq row by row on the same function written in Python
+    for i in range(220, n, 9):
+        ref = scipy.optimize.brentq(lambda x, c=c[i]: x - c, 0.0, 1.0, xtol=1e-14,
+                                    rtol=1e-15)
+        assert abs(batch.root[i] - ref) <= 1e-10 * abs(ref), i
+    for i in list(range(0, 30, 3)) + list(range(30, n, 11)):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+
+
+def test_compiled_f_in_blocks_is_the_same_arithmetic_as_one_call():
+    # f over more rows than two blocks is evaluated block by block
+    # (solvers.equation.compile.in_blocks): every value bit for bit that of one call of
+    # the same generated code on the whole arrays, and within rounding of the residual
+    # written out with numpy (the outside reference).
+    from solvers.equation.compile import BLOCK_ROWS, in_blocks
+
+    n = 5 * BLOCK_ROWS + 123
+    rng = np.random.default_rng(5)
+    Re = 10 ** rng.uniform(np.log10(4e3), 8, n)
+    rr = 10 ** rng.uniform(-6, np.log10(5e-2), n)
+    lam = rng.uniform(0.008, 0.08, n)
+    equation = parse_equation(COLEBROOK, unknown="lam", parameters={"Re": Re, "rr": rr})
+    core = equation._core
+    hoisted = tuple(np.asarray(v, dtype=np.float64) for v in core.bind_code.vector(
+        *(equation.parameters[name] for name in core.parameter_names))[:core.n_hoisted])
+    whole = core.f_code.vector(lam, *hoisted)
+    assert np.array_equal(in_blocks(core.f_code.vector, lam, hoisted), whole)
+    assert np.array_equal(equation.f(lam), whole)
+    assert np.array_equal(equation.fprime(lam), core.fprime_code.vector(lam, *hoisted))
+    numpy_residual = 1 / np.sqrt(lam) + 2 * np.log10(rr / 3.7 + 2.51 / (Re * np.sqrt(lam)))
+    np.testing.assert_allclose(whole, numpy_residual, rtol=1e-12, atol=1e-12)
 
 
 def test_non_finite_start_values_and_values_fail_only_their_rows():
@@ -266,6 +379,9 @@ def test_chunks_give_the_same_rows_as_one_piece():
         pieces = solve_batch(equation, method=method, x0=0.02, x1=0.021, bracket=BRACKET,
                              chunk_rows=37)
         assert (whole.converged == pieces.converged).all(), method
+        # the same steps: a chunk of a bound equation takes views of its parameter parts
+        assert (whole.iterations == pieces.iterations).all(), method
+        assert (whole.evaluations == pieces.evaluations).all(), method
         both = whole.converged
         np.testing.assert_allclose(pieces.root[both], whole.root[both], rtol=1e-15, atol=0)
         assert (whole.reason[~both] == pieces.reason[~both]).all()

@@ -89,14 +89,16 @@ def _closed(w: Work, code: np.ndarray, closed: np.ndarray, x1, f1, x2, f2) -> No
 
 
 def _new_point(w: Work, s: dict[str, Any], code: np.ndarray, x: np.ndarray, fx: np.ndarray,
-               x1, f1, x2, f2) -> np.ndarray:
+               x1, f1, x2, f2, idx: np.ndarray | None = None) -> np.ndarray:
     """The tests at a bracketing iterate x (ends (x1, f1), (x2, f2)), in the scalar order:
     not finite; an exact zero (root, underflow inside, or carried from an end's stretch
-    of underflow). Returns f to go on with."""
+    of underflow). The arguments are of the rows ``idx`` (None: every row of the
+    arrays). Returns f to go on with."""
     mark(code, ~np.isfinite(fx), NOT_FIN)
     zero = np.flatnonzero(fx == 0.0)
     if zero.size:
-        root, inside, value = iterate_zero(w, zero, x[zero], x1[zero], f1[zero], x2[zero],
+        rows = zero if idx is None else idx.take(zero)
+        root, inside, value = iterate_zero(w, rows, x[zero], x1[zero], f1[zero], x2[zero],
                                            f2[zero], s["xtol"] + s["rtol"] * np.abs(x[zero]))
         code[zero[root]] = EXACT
         code[zero[inside]] = NOT_FIN
@@ -245,30 +247,63 @@ def illinois(w: Work, s: dict[str, Any]) -> None:
 _SAFE = 2.0**300  # f values within [2**-300, 2**300]: the interpolation cannot overflow
 
 
-def _interpolation_step(xa, fa, xb, fb, xc, fc) -> np.ndarray:
-    """Element-wise :func:`solvers.methods.brent._interpolation_step` (NaN: bisect).
+def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None, abs_fa=None) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.brent._interpolation_step` (not finite: bisect).
 
     The step is homogeneous of degree 0 in f, and scaling by a power of two is exact, so
     the scalar method's scaling changes nothing where the values are far from under- and
-    overflow: it is applied only when some row's values are not.
+    overflow: it is applied only when some row's values are not (``dead`` rows, a lazy
+    work's finished ones, left out of that question). Brent keeps |fb| <= |fc|, so the
+    largest |f| of a row is that of a or c. The arithmetic is the scalar's, operation
+    for operation (written in place to spare the temporaries).
     """
-    big = np.maximum(np.maximum(np.abs(fa), np.abs(fb)), np.abs(fc))
+    big = np.abs(fa) if abs_fa is None else abs_fa  # (|fa| given is written over)
+    np.maximum(big, np.abs(fc), out=big)
     if not (big.max() < _SAFE and big.min() > 1.0 / _SAFE):
-        exponent = np.frexp(big)[1]
-        fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
-    secant = -fb * (xb - xa) / (fb - fa)  # (NaN or inf where fb == fa: not accepted)
-    slope_a = (fa - fb) / (xa - xb)
-    slope_c = (fc - fb) / (xc - xb)
-    denominator = slope_c * slope_a * (fc - fa)
-    quadratic = -fb * (fc * slope_c - fa * slope_a) / denominator
-    step = np.where(xa == xc, secant, quadratic)
-    # a zero or overflowing denominator gives an undefined step (bisect)
-    step[~np.isfinite(step)] = np.nan
-    return step
+        out = ~((big < _SAFE) & (big > 1.0 / _SAFE))
+        if dead is not None:
+            out &= ~dead
+        if out.any():
+            exponent = np.frexp(np.maximum(big, np.abs(fb)))[1]
+            fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
+    minus_fb = -fb
+    # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa)
+    secant = np.subtract(xb, xa)
+    secant *= minus_fb
+    secant /= np.subtract(fb, fa, out=big)
+    slope_a = np.subtract(fa, fb)
+    slope_a /= np.subtract(xa, xb, out=big)
+    slope_c = np.subtract(fc, fb)
+    slope_c /= np.subtract(xc, xb, out=big)
+    # quadratic: -fb*(fc*slope_c - fa*slope_a)/(slope_c*slope_a*(fc - fa))
+    denominator = np.multiply(slope_c, slope_a)
+    denominator *= np.subtract(fc, fa, out=big)
+    quadratic = np.multiply(fc, slope_c, out=slope_c)
+    quadratic -= np.multiply(fa, slope_a, out=slope_a)
+    quadratic *= minus_fb
+    quadratic /= denominator
+    np.copyto(quadratic, secant, where=xa == xc)
+    # A zero or overflowing denominator gives a step that is not finite: the scalar
+    # method bisects there, and so does the caller, since a step that is not finite
+    # never passes its test 2|step| < min(|e|, 3|m| - half_tol).
+    return quadratic
+
+
+def _verdicts(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
+    """The closed-bracket verdicts of the rows ``idx`` (the other arguments theirs)."""
+    first = x1 < x2
+    return closed_verdict(w, idx, np.where(first, x1, x2), np.where(first, f1, f2),
+                          np.where(first, x2, x1), np.where(first, f2, f1))
 
 
 def brent(w: Work, s: dict[str, Any]) -> None:
-    """Brent's method on every row's bracket (the scalar :func:`solvers.brent`'s steps)."""
+    """Brent's method on every row's bracket (the scalar :func:`solvers.brent`'s steps).
+
+    Lazy (:meth:`Work.lazy`): finished rows ride along until they are a quarter of the
+    arrays. Each iteration asks with a few operations on every row which rows closed
+    their bracket or met a new point that stops them (not finite, 0.0, ``ftol``); the
+    verdicts and probes run on those rows only.
+    """
     xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     start_brackets(w, s)
     if not w.size:
@@ -279,44 +314,95 @@ def brent(w: Work, s: dict[str, Any]) -> None:
     w.d = w.xb - w.xa
     w.e = w.d.copy()
     w.bisected = np.zeros(w.size, dtype=bool)
+    w.lazy()
     while w.size:
         w.tick()
-        swap = np.flatnonzero(np.abs(w.fc) < np.abs(w.fb))
+        afb, afc = np.abs(w.fb), np.abs(w.fc)
+        swap = np.flatnonzero(afc < afb)
         if swap.size:  # b becomes the better end; a follows the old b to interpolate
             old_b, old_fb = w.xb[swap], w.fb[swap]
             w.xa[swap], w.fa[swap] = old_b, old_fb
             w.xb[swap], w.fb[swap] = w.xc[swap], w.fc[swap]
             w.xc[swap], w.fc[swap] = old_b, old_fb
-        half_tol = 0.5 * (xtol + rtol * np.abs(w.xb))
-        m = 0.5 * w.xc - 0.5 * w.xb  # = (xc - xb)/2 without overflow on wide brackets
-        code = np.full(w.size, MAX_IT if w.k >= cap else -1, dtype=np.int8)
-        _closed(w, code, np.abs(m) <= half_tol, w.xb, w.fb, w.xc, w.fc)
-        if (code >= 0).any():
-            w.half_tol, w.m = half_tol, m
-            w.finish(code, w.xb, w.fb)
+            afb[swap] = afc[swap]
+        half_tol = np.abs(w.xb)
+        half_tol *= rtol
+        half_tol += xtol
+        half_tol *= 0.5  # = 0.5*(xtol + rtol*|xb|)
+        m = 0.5 * w.xc
+        m -= 0.5 * w.xb  # = (xc - xb)/2 without overflow on wide brackets
+        abs_m = np.abs(m)
+        closed = abs_m <= half_tol
+        if w._dead_count:
+            closed &= ~w.dead
+        if w.k >= cap or closed.any():
+            if w.k >= cap:
+                idx = np.flatnonzero(w.live(np.ones(w.size, dtype=bool)))
+                code = np.full(idx.size, MAX_IT, dtype=np.int8)
+                shut = np.flatnonzero(closed.take(idx))
+            else:
+                idx = np.flatnonzero(closed)
+                code = np.empty(idx.size, dtype=np.int8)
+                shut = np.arange(idx.size)
+            if shut.size:
+                at = idx.take(shut)
+                code[shut] = _verdicts(w, at, w.xb.take(at), w.fb.take(at), w.xc.take(at),
+                                       w.fc.take(at))
+            w.half_tol, w.m, w.abs_m, w.afb = half_tol, m, abs_m, afb
+            w.finish_at(idx, code, w.xb.take(idx), w.fb.take(idx))
             if not w.size:
                 break
-            half_tol, m = w.half_tol, w.m
-        try_step = (np.abs(w.e) > half_tol) & (np.abs(w.fb) < np.abs(w.fa))
+            half_tol, m, abs_m, afb = w.half_tol, w.m, w.abs_m, w.afb
+            del w.half_tol, w.m, w.abs_m, w.afb
+        abs_e = np.abs(w.e)
+        try_step = abs_e > half_tol
+        afa = np.abs(w.fa)
+        try_step &= afb < afa
         if w.tiny:  # a value that underflowed has a sign but no size: bisect there
             try_step &= ~(carried(w.fa) | carried(w.fb) | carried(w.fc))
-        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc)
+        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.dead, afa)
         size = np.abs(step)
-        accept = (try_step & (2.0 * size < np.minimum(np.abs(w.e), 3.0 * np.abs(m) - half_tol))
-                  & ~((size <= half_tol) & w.bisected))
-        w.e, w.d = np.where(accept, w.d, m), np.where(accept, step, m)
-        w.bisected = w.d == m
+        # 2|step| < min(|e|, 3|m| - half_tol), and no tiny step twice after a bisection
+        limit = np.multiply(abs_m, 3.0, out=abs_m)
+        limit -= half_tol
+        np.minimum(abs_e, limit, out=limit)
+        accept = try_step
+        accept &= 2.0 * size < limit
+        accept &= ~((size <= half_tol) & w.bisected)
+        w.e = np.where(accept, w.d, m)
+        np.copyto(step, m, where=~accept)
+        w.d = step
+        w.bisected = np.equal(step, m, out=w.bisected)
         w.xa, w.fa = w.xb, w.fb
-        w.xb = w.xb + np.where(np.abs(w.d) > half_tol, w.d, np.copysign(half_tol, m))
-        fb = w.f(w.xb)
+        move = np.copysign(half_tol, m)
+        np.copyto(move, step, where=np.abs(step) > half_tol)
+        w.xb = w.xb + move
+        w.fb = w.f(w.xb)
         w.k += 1
-        code = w.codes()
-        w.fb = _new_point(w, s, code, w.xb, fb, w.xa, w.fa, w.xc, w.fc)
+        # the usual row goes on: f finite, not 0.0, above ftol
+        size = np.abs(w.fb, out=size)
+        going = size > ftol
+        going &= size < np.inf
+        if w._dead_count:
+            going |= w.dead
+        if not going.all():
+            idx = np.flatnonzero(~going)
+            fx = w.fb.take(idx)
+            code = np.full(idx.size, -1, dtype=np.int8)
+            x = w.xb.take(idx)
+            fx = _new_point(w, s, code, x, fx, w.xa.take(idx), w.fa.take(idx),
+                            w.xc.take(idx), w.fc.take(idx), idx)
+            w.fb[idx] = fx
+            mark(code, np.abs(fx) <= ftol, F_TOL)
+            w.finish_at(idx, code, x, fx)
+            if not w.size:
+                break
         # the root now lies between the new b and the old b: a becomes the contrapoint
-        change = np.flatnonzero(np.isfinite(w.fb) & ~same_sign(w.fb, w.fa))
+        # (every row at work has a finite f here, not 0.0: the others have stopped)
+        change = np.flatnonzero((w.fb > 0.0) != (w.fa > 0.0))
         if change.size:
-            w.xc[change], w.fc[change] = w.xa[change], w.fa[change]
-            w.d[change] = w.xb[change] - w.xa[change]
-            w.e[change] = w.d[change]
-        mark(code, np.abs(w.fb) <= ftol, F_TOL)
-        w.finish(code, w.xb, w.fb)
+            xa, fa = w.xa[change], w.fa[change]
+            w.xc[change], w.fc[change] = xa, fa
+            d = w.xb[change] - xa
+            w.d[change] = d
+            w.e[change] = d

@@ -22,9 +22,12 @@ from solvers.methods.common import (
 from solvers.methods.registry import method_spec
 from solvers.units import convert_parameters
 
-CHUNK_ROWS = 131_072
-"""Rows processed together: bounded memory (a few dozen float arrays of this length)
-however many rows there are, and long enough vectors for numpy to run at full speed."""
+CHUNK_ROWS = 24_576
+"""Rows processed together: bounded memory however many rows there are. Small enough
+that a kernel's few dozen arrays (196 kB each) stay in the processor's cache and are
+reused by the allocator from iteration to iteration (arrays of 10^5 rows come back as
+fresh pages every time: page faults cost more than the arithmetic), large enough that
+numpy's per-call cost is spread over many rows (benchmarks/bench_batch.py)."""
 
 # The one dispatch table of array kernels, keyed like solvers.METHODS.
 KERNELS: Mapping[str, Callable[[Work, dict[str, Any]], None]] = {
@@ -152,7 +155,7 @@ def solve_batch(
     xtol, rtol, ftol, max_iter
         The stopping rules of the scalar methods, checked by the same function.
     chunk_rows : int
-        Rows processed together (default 131,072; the rows are split in equal chunks):
+        Rows processed together (default 24,576; the rows are split in equal chunks):
         memory stays bounded for 10^7 rows.
     progress, cancel : callable, optional
         ``progress(fraction)`` is called between iterations and chunks; ``cancel()`` is
@@ -201,18 +204,21 @@ def solve_batch(
     result = Outcome(total)
     chunks = max(1, -(-total // chunk_rows))
     step = -(-total // chunks)  # equal chunks: no short tail chunk
-    # One chunk of rows the equation is already bound to (1-D arrays of every row): no
-    # second binding.
-    bound = equation if (parameters is None and chunks == 1 and all(
-        not isinstance(v, np.ndarray) or v.shape == (total,) for v in values.values())) \
-        else None
+    # Rows the equation is already bound to (1-D arrays of every row): its checks have
+    # run, so no chunk binds again; each takes its share of the parameter parts.
+    whole = None
+    if parameters is None and all(not isinstance(v, np.ndarray) or v.shape == (total,)
+                                  for v in values.values()):
+        whole = Rows(equation, flat, total, equation, units)
     with np.errstate(all="ignore"):
         for begin in range(0, total, step):
             end = min(begin + step, total)
             poll = make_poll(progress, cancel, begin, total, end - begin)
             poll(0.0)
+            fn = (whole if end - begin == total else whole.part(begin, end)) \
+                if whole is not None else None
             _solve_chunk(equation, kernel, settings, flat, flat_starts, begin, end, result,
-                         poll, bound, units)
+                         poll, fn, units)
     if progress is not None:
         progress(1.0)
     return Batch(
@@ -229,24 +235,30 @@ def solve_batch(
 
 def _solve_chunk(equation: Any, kernel: Callable[[Work, dict[str, Any]], None],
                  settings: dict[str, Any], values: dict[str, Any], starts: dict[str, Any],
-                 begin: int, end: int, result: Outcome, poll: Any, bound: Any,
+                 begin: int, end: int, result: Outcome, poll: Any, fn: Rows | None,
                  units: Mapping[str, str]) -> None:
     n = end - begin
-    chunk_values = {k: (v[begin:end] if isinstance(v, np.ndarray) else v)
-                    for k, v in values.items()}
-    fn = Rows(equation, chunk_values, n, bound, units)
-    out = Outcome(n)
+    if fn is None:
+        chunk_values = {k: (v[begin:end] if isinstance(v, np.ndarray) else v)
+                        for k, v in values.items()}
+        fn = Rows(equation, chunk_values, n, None, units)
+    whole = n == len(result.code)  # one chunk: the kernel writes the results in place
+    out = result if whole else Outcome(n)
     bad = np.flatnonzero(fn.bad)
     if bad.size:
         nothing = np.full(bad.size, np.nan)
         out.write(bad, NOT_FIN, nothing, nothing, np.zeros(bad.size, np.int64),
                   np.zeros(bad.size, np.int64))
         out.notes.extend((begin + int(i), "bad_parameters") for i in bad)
-    rows = np.flatnonzero(~fn.bad)
+        rows = np.flatnonzero(~fn.bad)
+        chunk_starts = {k: v[begin:end].take(rows) for k, v in starts.items()}
+    else:
+        rows = np.arange(n)
+        chunk_starts = {k: v[begin:end].copy() for k, v in starts.items()}
     if rows.size:
-        work = Work(out, fn, rows, poll, **{k: v[begin:end][rows].copy()
-                                            for k, v in starts.items()})
-        kernel(work, settings)
+        kernel(Work(out, fn, rows, poll, **chunk_starts), settings)
+    if whole:
+        return
     sl = slice(begin, end)
     result.root[sl], result.code[sl], result.residual[sl] = out.root, out.code, out.residual
     result.iterations[sl], result.evaluations[sl] = out.iterations, out.evaluations

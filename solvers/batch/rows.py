@@ -1,12 +1,12 @@
 """The shared machinery of the batch kernels: f over a chunk's rows, the active set, and
 the vectorised forms of the scalar methods' honesty rules.
 
-* :class:`Rows` binds the equation to one chunk's parameter values once and evaluates f
-  (and f') on any subset of those rows. When the rows still at work fall to half of the
-  rows bound, it binds again to those rows only (no re-parse, no re-compile), so the
-  work per iteration follows the active set; smaller probe sets are bound apart.
-* :class:`Work` holds the arrays of the rows still iterating; :meth:`Work.stop` writes
-  the finished rows' results and compresses every array at once.
+* :class:`Rows` binds the equation to one chunk's parameter values once (its checks run
+  once) and evaluates f (and f') on any subset of those rows as one call of the compiled
+  code, with the rows' parameter-only parts of f taken along (no binding again).
+* :class:`Work` holds the arrays of the rows still iterating; :meth:`Work.finish` writes
+  the finished rows' results and compresses every array at once (or, for a lazy
+  kernel, when the finished rows are a quarter of the arrays).
 * :func:`zero_is_root`, :func:`iterate_zero`, :func:`closed_verdict` and
   :func:`central_difference` are the element-wise forms of the rules of
   :mod:`solvers.methods.common` and :mod:`solvers.methods.bracketing` (same constants,
@@ -24,6 +24,7 @@ import numpy as np
 
 from solvers.batch.records import CONVERGED_INDEX, REASON_CODES, BatchCancelled
 from solvers.equation import EquationError
+from solvers.equation.compile import in_blocks
 from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
 from solvers.methods.common import _PROBE_GROWTH, _PROBE_REACH, _TINY, DERIVATIVE_STEP
 from solvers.units import Measured
@@ -89,9 +90,14 @@ class Rows:
 
     ``bad`` marks rows whose values give a part of f with no finite real value (found by
     halving the chunk until the refused rows are single); they are not bound. ``bound``:
-    the equation already bound to exactly these values, if there is one. ``size`` is
-    the number of rows bound now: :class:`Work` rebinds to the rows still at work when
-    they fall to half of it.
+    the equation already bound to exactly these values, if there is one.
+
+    The equation is bound once (its checks run once); after that f and f' are the
+    compiled code called with x and the parts of f made of parameters only
+    (``hoisted``: one value per bound row, or one number for every row), the values
+    :meth:`solvers.Equation.bind` computed with the same numpy code. :class:`Work`
+    keeps the active rows' share of them and takes them along when it compresses, so
+    f at any subset of rows is one call of the compiled code: no binding again.
     """
 
     def __init__(self, equation: Any, values: Mapping[str, Any], n: int,
@@ -116,34 +122,50 @@ class Rows:
             rows = np.flatnonzero(~self.bad)
             self._bound = self._bind(rows) if rows.size else None
         self.size = int(rows.size)
-        self._buffer = np.zeros(rows.size)
+        self.hoisted: tuple[Any, ...] = ()
+        self._codes: dict[str, Any] = {}
+        if self._bound is not None:
+            self._compiled(self._bound)
 
     def _bind(self, rows: np.ndarray) -> Any:
         return bind_rows(self._equation, self._values, self._units, rows)
 
-    def rebind(self, rows: np.ndarray) -> None:
-        """Bind to ``rows`` (chunk positions) only: the rows still at work."""
-        self._bound = self._bind(rows)
-        self.size = int(rows.size)
-        self._buffer = np.zeros(rows.size)
+    def part(self, begin: int, end: int) -> Rows:
+        """The rows begin..end of rows bound with no bad row: the same compiled code,
+        views of the parameter parts (a chunk of a bound equation binds nothing)."""
+        assert not self.bad.any()
+        part = object.__new__(Rows)
+        part.__dict__.update(self.__dict__)
+        part.bad = np.zeros(end - begin, dtype=bool)
+        part.size = end - begin
+        part.hoisted = tuple(h[begin:end] if h.__class__ is np.ndarray else h
+                             for h in self.hoisted)
+        return part
 
-    def direct(self, which: str, x: np.ndarray) -> np.ndarray:
-        """f or f' at x for every bound row (or for any x when no value is an array)."""
-        out = getattr(self._bound, which)(x)
-        if self.fixed:  # a part free of x and of the rows may come back as one number
-            return np.broadcast_to(np.asarray(out, dtype=np.float64), x.shape)
+    def _compiled(self, bound: Any) -> None:
+        """The compiled f and f' of the bound equation and its parameter-only parts, as
+        :func:`solvers.equation.record._run_checks` computes them (numpy path)."""
+        core = bound._core
+        self._codes = {"f": core.f_code.vector,
+                       "fprime": None if core.fprime_code is None else core.fprime_code.vector}
+        if core.bind_code is None:
+            return
+        params = (bound.parameters[name] for name in core.parameter_names)
+        out = core.bind_code.vector(*(np.float64(v) if v.__class__ is float else v
+                                      for v in params))
+        hoisted = []
+        for value in out[:core.n_hoisted]:
+            arr = np.asarray(value, dtype=np.float64)
+            hoisted.append(arr if arr.ndim else np.float64(arr))
+        self.hoisted = tuple(hoisted)
+
+    def call(self, which: str, x: np.ndarray, hoisted: tuple[Any, ...]) -> np.ndarray:
+        """f or f' at x, one value per row, ``hoisted`` those rows' parameter parts."""
+        out = in_blocks(self._codes[which], x, hoisted)
+        if out.__class__ is not np.ndarray or out.shape != x.shape or out.dtype != np.float64:
+            # a part free of x (or of the rows) comes back as one number, or an int
+            out = np.array(np.broadcast_to(np.asarray(out, dtype=np.float64), x.shape))
         return out
-
-    def through_buffer(self, which: str, x: np.ndarray, position: np.ndarray) -> np.ndarray:
-        """f or f' at x for the bound rows at ``position``; the others keep stale x
-        (their values are computed and not read: cheaper than binding again)."""
-        buffer = self._buffer
-        buffer[position] = x
-        return getattr(self._bound, which)(buffer)[position]
-
-    def apart(self, which: str, x: np.ndarray, rows: np.ndarray) -> np.ndarray:
-        """f or f' at x for a few rows, bound apart (probes of rows that are finishing)."""
-        return getattr(self._bind(rows), which)(x)
 
 
 Poll = Callable[[float], None]
@@ -165,26 +187,49 @@ def make_poll(progress: Callable[[float], Any] | None, cancel: Callable[[], bool
 class Work:
     """The rows of a chunk still iterating: named arrays of equal length, compressed together.
 
-    ``rows`` are chunk positions (ascending), ``position`` their places among the rows
-    bound in :class:`Rows`. Every kernel iterates its rows in step, so the iteration count
-    ``k`` is one number; calls of f made for every active row are counted in ``calls``
-    and calls for some rows only (probes) per chunk row. Every attribute that is an array
-    of the active length is compressed by :meth:`finish` (private ones, named ``_...``,
-are per chunk row and are not).
+    ``rows`` are chunk positions (ascending). Every kernel iterates its rows in step, so
+    the iteration count ``k`` is one number; calls of f made for every row of the arrays
+    are counted in ``calls`` and calls for some rows only (probes) per chunk row. Every
+    attribute that is an array of the arrays' length is compressed with them (private
+    ones, named ``_...``, are per chunk row and are not), and so are the rows' parts of
+    f made of parameters only (:attr:`Rows.hoisted`).
+
+    Compressing costs a copy of every array, so a kernel may let finished rows ride
+    along (``lazy=True``): they are marked in ``dead``, their results are written
+    once, when they finish, and the arrays are compressed only when the dead rows are
+    a quarter of them (then f on a dead row costs less than copying every array for
+    it). The kernel then leaves dead rows out of every test that evaluates f for some
+    rows only (:meth:`live`); their values go on being computed and are never read.
     """
+
+    #: dead rows are dropped when they are this share of the arrays (or more)
+    DEAD_SHARE = 0.25
 
     def __init__(self, out: Outcome, fn: Rows, rows: np.ndarray, poll: Poll,
                  **arrays: np.ndarray) -> None:
         self.out, self.fn, self.poll, self.total = out, fn, poll, len(out.code)
         self.rows = rows
-        self.position = np.arange(rows.size)
         self.k = 0
         self.calls = 0
+        self.dead: np.ndarray | None = None  # lazy kernels: finished rows still in the arrays
+        self._dead_count = 0
+        self._h = fn.hoisted  # the active rows' parameter parts of f (arrays or numbers)
         # per chunk row, never compressed: calls made for some rows only (probes), and
         # values kept from the start (read through ``kept``)
         self._extra = np.zeros(len(out.code), dtype=np.int64)
         self._kept: dict[str, np.ndarray] = {}
         self.__dict__.update(arrays)
+
+    def lazy(self) -> None:
+        """Let finished rows ride along until they are :attr:`DEAD_SHARE` of the arrays."""
+        self.dead = np.zeros(self.size, dtype=bool)
+        self._dead_count = 0
+
+    def live(self, mask: np.ndarray) -> np.ndarray:
+        """``mask`` without the dead rows (the mask itself when no row is dead)."""
+        if self._dead_count:
+            return mask & ~self.dead
+        return mask
 
     def keep(self, **arrays: np.ndarray) -> None:
         """Keep start values (active length now) for later reading by :meth:`kept`."""
@@ -202,25 +247,14 @@ are per chunk row and are not).
         return int(self.rows.size)
 
     def _evaluate(self, which: str, x: np.ndarray, subset: np.ndarray | None) -> np.ndarray:
-        fn = self.fn
         if subset is None:
             self.calls += 1
-            m = self.size
-        else:
-            if subset.dtype == bool:
-                subset = np.flatnonzero(subset)
-            self._extra[self.rows[subset]] += 1
-            m = int(subset.size)
-        if fn.fixed or m == fn.size:  # every bound row (active rows are among them)
-            return fn.direct(which, x)
-        if 2 * m <= fn.size:
-            if subset is None:  # the active set itself: keep the smaller binding
-                fn.rebind(self.rows)
-                self.position = np.arange(m)
-                return fn.direct(which, x)
-            return fn.apart(which, x, self.rows[subset])
-        position = self.position if subset is None else self.position[subset]
-        return fn.through_buffer(which, x, position)
+            return self.fn.call(which, x, self._h)
+        if subset.dtype == bool:
+            subset = np.flatnonzero(subset)
+        self._extra[self.rows[subset]] += 1
+        return self.fn.call(which, x, tuple(h.take(subset) if h.__class__ is np.ndarray
+                                            else h for h in self._h))
 
     def _owned(self, which: str, x: np.ndarray, subset: np.ndarray | None) -> np.ndarray:
         # The kernels write into f's values in place: never into x itself (f = x returns
@@ -231,25 +265,55 @@ are per chunk row and are not).
         return out
 
     def f(self, x: np.ndarray, subset: np.ndarray | None = None) -> np.ndarray:
-        """f at x for every active row (``subset`` None) or for the rows ``subset`` marks
-        (a boolean mask or ascending indices of the active rows)."""
+        """f at x for every row of the arrays (``subset`` None) or for the rows ``subset``
+        marks (a boolean mask or ascending indices of the arrays' rows)."""
         return self._owned("f", x, subset)
 
     def fprime(self, x: np.ndarray) -> np.ndarray:
         return self._owned("fprime", x, None)
 
     def finish(self, code: np.ndarray, root: np.ndarray, residual: np.ndarray) -> None:
-        """Finish the rows with ``code >= 0`` (their stop reasons), with root and residual."""
+        """Finish the rows with ``code >= 0`` (their stop reasons), with root and residual
+        (dead rows are finished already: their codes are not read)."""
         mask = code >= 0
-        if not mask.any():
+        if self._dead_count:
+            mask &= ~self.dead
+        if mask.any():
+            idx = np.flatnonzero(mask)
+            self._finish(idx, code.take(idx), root.take(idx), residual.take(idx))
+
+    def finish_at(self, idx: np.ndarray, code: np.ndarray, root: np.ndarray,
+                  residual: np.ndarray) -> None:
+        """:meth:`finish` for the rows ``idx`` (ascending indices of live rows; the other
+        arguments are those rows' values): the rows with ``code >= 0`` finish."""
+        stop = code >= 0
+        if stop.all():
+            self._finish(idx, code, root, residual)
+        elif stop.any():
+            self._finish(idx[stop], code[stop], root[stop], residual[stop])
+
+    def _finish(self, idx: np.ndarray, code: np.ndarray, root: np.ndarray,
+                residual: np.ndarray) -> None:
+        rows = self.rows.take(idx)
+        self.out.write(rows, code, root, residual, self.k, self.calls + self._extra.take(rows))
+        if self.dead is None:
+            keep = np.ones(self.size, dtype=bool)
+            keep[idx] = False
+            self._compress(np.flatnonzero(keep))
             return
-        self.out.write(self.rows[mask], code[mask], root[mask], residual[mask],
-                       self.k, self.calls + self._extra[self.rows[mask]])
-        keep = np.flatnonzero(~mask)  # once, then a plain take per array
-        n = mask.size
+        self.dead[idx] = True
+        self._dead_count += int(idx.size)
+        if self._dead_count >= self.DEAD_SHARE * self.size:
+            self._compress(np.flatnonzero(~self.dead))
+
+    def _compress(self, keep: np.ndarray) -> None:
+        """Keep the rows ``keep`` (ascending indices) of every array: one take per array."""
+        n = self.size
         for name, value in list(vars(self).items()):
             if isinstance(value, np.ndarray) and value.shape == (n,) and name[0] != "_":
                 setattr(self, name, value.take(keep))
+        self._h = tuple(h.take(keep) if h.__class__ is np.ndarray else h for h in self._h)
+        self._dead_count = 0
 
     def stop(self, mask: np.ndarray, code: int, root: np.ndarray, residual: np.ndarray) -> None:
         """Finish the rows ``mask`` marks with one ``code``."""
@@ -257,11 +321,11 @@ are per chunk row and are not).
             self.finish(np.where(mask, np.int8(code), np.int8(-1)), root, residual)
 
     def codes(self) -> np.ndarray:
-        """A fresh code array: -1 (go on) for every active row."""
+        """A fresh code array: -1 (go on) for every row of the arrays."""
         return np.full(self.size, -1, dtype=np.int8)
 
     def tick(self) -> None:
-        self.poll(1.0 - self.size / max(self.total, 1))
+        self.poll(1.0 - (self.size - self._dead_count) / max(self.total, 1))
 
 
 def mark(code: np.ndarray, mask: np.ndarray, value: int) -> None:
@@ -277,16 +341,20 @@ def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
                  toward: np.ndarray | None = None) -> np.ndarray:
     """Element-wise :func:`solvers.methods.common._zero_is_root` for the rows ``subset``
     marks (x, tol, toward given for those rows): f(x) == 0.0 is a root unless f is 0.0
-    beside x too (underflow); one neighbour must be finite. Both neighbours are
-    evaluated (two calls counted)."""
+    beside x too (underflow); one neighbour must be finite. The side ``toward`` (or
+    x + step) first; the other side only where the first was not 0.0, as the scalar
+    rule stops there (each call counted for its rows)."""
     if subset.dtype == bool:
         subset = np.flatnonzero(subset)
     step = np.maximum(np.maximum(tol, 2.0 * np.spacing(np.abs(x))), _FLOAT_MIN)
     first = step if toward is None else np.where(toward >= x, step, -step)
     one = w.f(x + first, subset)
-    two = w.f(x - first, subset)
-    zero = (one == 0.0) | (two == 0.0)
-    return ~zero & (np.isfinite(one) | np.isfinite(two))
+    verdict = one != 0.0
+    ask = np.flatnonzero(verdict)
+    if ask.size:
+        two = w.f(x[ask] - first[ask], subset[ask])
+        verdict[ask] = (two != 0.0) & (np.isfinite(one[ask]) | np.isfinite(two))
+    return verdict
 
 
 def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:

@@ -193,6 +193,34 @@ class Code:
         return self._scalar
 
 
+BLOCK_ROWS = 8192
+"""Rows of x a compiled expression is evaluated on at a time (see :func:`in_blocks`)."""
+
+
+def in_blocks(vector: Callable[..., Any], x: np.ndarray, values: tuple[Any, ...]) -> Any:
+    """``vector(x, *values)`` for a long 1-D x, computed in blocks of :data:`BLOCK_ROWS`.
+
+    The generated code makes a temporary array per operation; over 10^5 rows those are
+    fresh memory every call (page faults) and far larger than the caches. In blocks of
+    8192 rows (64 kB) the temporaries are reused and stay in cache: the same element-wise
+    arithmetic on each element (bit for bit), in about half the time. ``values`` are
+    numbers (0-d arrays too) or arrays of x's shape; anything else (broadcasting, a
+    short x) is one call.
+    """
+    n = x.size
+    if x.ndim != 1 or n < 2 * BLOCK_ROWS:
+        return vector(x, *values)
+    arrays = [v.__class__ is np.ndarray and v.ndim > 0 for v in values]
+    if any(a and v.shape != x.shape for a, v in zip(arrays, values, strict=True)):
+        return vector(x, *values)
+    out = np.empty(n)
+    for i in range(0, n, BLOCK_ROWS):
+        j = i + BLOCK_ROWS
+        out[i:j] = vector(x[i:j], *(v[i:j] if a else v
+                                    for a, v in zip(arrays, values, strict=True)))
+    return out
+
+
 def bound(code: Code, values: tuple[Any, ...],
           rows: tuple[int, ...] = ()) -> Callable[[Any], Any]:
     """f(x) = code(x, *values), vectorised, never raising on domain errors (nan/inf instead).
@@ -212,7 +240,7 @@ def bound(code: Code, values: tuple[Any, ...],
         def on_rows(x: Any) -> Any:
             arr = np.asarray(x, dtype=np.float64)
             with np.errstate(all="ignore"):
-                out = np.asarray(vector(arr, *values), dtype=np.float64)
+                out = np.asarray(in_blocks(vector, arr, values), dtype=np.float64)
             target = np.broadcast_shapes(arr.shape, shape)
             if out.shape != target:  # a part that depends on neither x nor every value
                 out = np.broadcast_to(out, target).copy()
@@ -223,7 +251,7 @@ def bound(code: Code, values: tuple[Any, ...],
     def on_array(x: Any) -> Any:
         arr = np.asarray(x, dtype=np.float64)
         with np.errstate(all="ignore"):
-            out = vector(arr, *values)
+            out = in_blocks(vector, arr, values)
         out = np.asarray(out, dtype=np.float64)
         if out.shape != arr.shape:  # an expression that does not depend on x
             out = np.broadcast_to(out, arr.shape).copy()
