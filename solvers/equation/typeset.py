@@ -5,8 +5,9 @@ accepted them), in the order typed (``2^{10}``, ``\\pi``, ``\\mathrm{deg}``, ``\
 mathtext-safe and linear in the text. Derivatives are printed by sympy's LaTeX printer
 restricted to what mathtext renders. Both set a name of several letters upright as one
 symbol (``\\mathrm{cp}``) and separate the factors of a product holding one by ``\\cdot``;
-constants are printed in their shortest digits, never padded with zeros. Whether mathtext really renders a string is checked
-in the app (app.documents.typesetting.mathtext): the core never imports matplotlib.
+constants are printed in their shortest digits, never padded with zeros. Whether mathtext
+really renders a string is checked in the app (app.documents.typesetting.mathtext): the core
+never imports matplotlib.
 """
 
 from __future__ import annotations
