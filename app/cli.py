@@ -161,12 +161,16 @@ def distinct_params(given: Sequence[tuple[str, float, str]]) -> None:
 def note_unused_params(text: str, given: Sequence[tuple[str, float, str]]) -> None:
     """One line on stderr for each ``--param`` the equation does not use (not an error:
     the run goes on; a close name the equation lacks is also named by the parse error)."""
-    from solvers.equation import EquationError, free_names
+    from solvers.equation import EquationError
+    from solvers.equation.lines import read_lines
 
     try:
-        names = set(free_names(text))
+        reading = read_lines(text)
     except EquationError:  # the parse says what is wrong with the text itself
         return
+    # a line `h = ...` reads as a definition until h is given a value: a name the text
+    # defines is used (what a value for it does is the equation's own rule to say)
+    names = {*reading.names, *(d.name for d in reading.definitions)}
     for name, _value, _unit in given:
         if name not in names:
             print(f"note: parameter '{name}' is not used by the equation", file=sys.stderr)

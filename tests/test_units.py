@@ -340,12 +340,13 @@ def test_cli_no_dimension_check_is_printed(capsys, tmp_path):
 @pytest.mark.parametrize(("argv", "named"), [
     (["--param", "D=150 mmm"], "'mmm'"),
     (["--param", "D=150 m;ls"], "';'"),
-    (["--unknown-unit", "furlong_per_x"], "furlong_per_x"),
+    (["--param", "D=150 mm", "--unknown-unit", "furlong_per_x"], "furlong_per_x"),
     (["--param", "D=150 kg", "--unknown-unit", "m/s"], "'m/s' does not fit 'v'"),
 ])
 def test_cli_bad_units_exit_2_with_one_line(capsys, argv, named):
+    # (D once per run: a --param given twice is itself refused)
     code = main(["solve", "Q = pi*D^2/4*v", "--unknown", "v", "--param", "Q=0.35 m^3/s",
-                 "--param", "D=150 mm", *argv])
+                 *argv])
     out, err = capsys.readouterr()
     assert code == 2
     assert len(err.strip().splitlines()) == 1 and named in err
@@ -389,6 +390,56 @@ def test_a_hidden_unit_shows_as_fractional_powers_and_is_said():
     assert eq.unknown_unit == "m^(7/3)/s"
     assert any(r.code == "unknown_dimension_fractional" for r in eq.remarks)
     assert "hides its unit" in " ".join(words.remarks_text(eq.remarks))
+
+
+# --- A wrong input unit named (found by a new-user trial) ----------------------------------
+# Darcy-Weisbach: the head loss h is a length (h = f L/D v^2/(2g); common practice). Typed
+# as a pressure, the bore D comes out in m^(7/5)*s^(2/5)/kg^(1/5) (D^5 ~ L^6/[h]).
+_DARCY = "h = f*L/D*(4*Q/(pi*D^2))^2/(2*g)"
+_DARCY_PARAMS = {"h": "3 psi", "L": "100 ft", "Q": "85 gal/min", "f": 0.021,
+                 "g": "32.174 ft/s^2"}
+
+
+def test_a_unit_that_does_not_fit_names_the_input_most_likely_wrong():
+    with pytest.raises(EquationError) as info:
+        parse_equation(_DARCY, unknown="D", unknown_unit="mm", parameters=_DARCY_PARAMS)
+    message = str(info.value)
+    assert "the unknown unit 'mm' does not fit 'D'" in message
+    # the pascal is kg/(m*s^2) (NIST SP 811, Table 3: Pa = N/m^2 = m^-1*kg*s^-2)
+    assert ("most likely an input's unit is wrong: 'h' in 'psi' is a pressure (Pa); with "
+            "'D' in 'mm' the equation needs 'h' as a length (m)") in message
+    assert "'L'" not in message and "'g'" not in message  # they would need odd units
+    # the control: h as a head in ft is what the equation needs, and it solves
+    eq = parse_equation(_DARCY, unknown="D", unknown_unit="mm",
+                        parameters={**_DARCY_PARAMS, "h": "3 ft"})
+    assert eq.unknown_unit == "mm"
+
+
+def test_a_fractional_unknown_dimension_names_the_suspect_input():
+    eq = parse_equation(_DARCY, unknown="D", parameters=_DARCY_PARAMS)
+    assert eq.unknown_unit == "m^(7/5)*s^(2/5)/kg^(1/5)"
+    said = words.remarks_text(eq.remarks)
+    assert [r.subject for r in eq.remarks if r.code == "unit_suspect"] == ["h"]
+    assert ("most likely the unit of 'h' is wrong: it is a pressure (Pa); with the unknown "
+            "as a length (m) the equation needs 'h' as a length (m)") in said
+
+
+def test_a_hidden_constant_unit_blames_no_input():
+    # Manning's n typed bare: only n's own (fractional) unit would fit, so no input is
+    # blamed and the remark about hidden constants stands alone
+    eq = parse_equation(MANNING, unknown="A", parameters={
+        "Q": "10 m^3/s", "n": 0.013, "R": "0.8 m", "S": 0.001})
+    assert not any(r.code == "unit_suspect" for r in eq.remarks)
+
+
+def test_a_system_unit_that_does_not_fit_names_the_input(capsys):
+    code = main(["solve", _DARCY + "; Q = v*pi*D^2/4", "--unknown", "D", "--unknown", "v",
+                 *[a for n, v in _DARCY_PARAMS.items()
+                   for a in ("--param", f"{n}={v}")],
+                 "--x0", "D=50", "--x0", "v=1", "--unknown-unit", "D=mm"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    assert "'h' in 'psi' is a pressure (Pa)" in err and "needs 'h' as a length (m)" in err
 
 
 _UNIT_ALPHABET = "mskgKAlLnNPaJWhzµ°%ΩdegCF_0123456789 */^().-e"

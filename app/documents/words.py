@@ -576,7 +576,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
                           "unknown_dimension_free", "unknown_dimension_fractional",
-                          "system_dimension_free"})
+                          "system_dimension_free", "unit_suspect"})
 
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
@@ -605,7 +605,20 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                               "hides its unit (Manning's n, a Hazen–Williams "
                                               "coefficient) give it its unit or switch the "
                                               "dimension check off",
+    "unit_suspect": lambda r: _unit_suspect(r.subject, r.numbers),
 }
+
+
+def _unit_suspect(name: str, numbers: Sequence[float]) -> str:
+    """A parameter whose unit alone explains the unknown's fractional dimension; numbers:
+    the unknown's meant dimension, the parameter's and the one it needs (7 each)."""
+    from solvers.units.reading import needs_words, numbers_dimension, quantity_words
+
+    meant, now, needed = (numbers_dimension(numbers[i:i + 7]) for i in (0, 7, 14))
+    what = f"is {quantity_words(now)}" if now else "has no unit"
+    return (f"most likely the unit of '{name}' is wrong: it {what}; with the unknown "
+            f"{needs_words(meant)} the equation needs '{name}' {needs_words(needed)}")
+
 
 
 def remark_text(remark: Any) -> str:

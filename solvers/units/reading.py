@@ -282,6 +282,58 @@ def unit_text(dimension: Dimension, pretty: bool = False) -> str:
     return f"{top}/({bottom})" if len(down) > 1 else f"{top}/{bottom}"
 
 
+# Names of common quantities (common practice; ISO 80000 names), for messages that say
+# what a parameter is and what the equation needs: "a pressure (Pa)".
+_L, _M, _T, _K = "[length]", "[mass]", "[time]", "[temperature]"
+_QUANTITIES: dict[Dimension, str] = {
+    ((_L, 1.0),): "a length", ((_L, 2.0),): "an area", ((_L, 3.0),): "a volume",
+    ((_M, 1.0),): "a mass", ((_T, 1.0),): "a time", ((_K, 1.0),): "a temperature",
+    ((_L, 1.0), (_T, -1.0)): "a velocity", ((_L, 1.0), (_T, -2.0)): "an acceleration",
+    ((_L, 3.0), (_T, -1.0)): "a volume flow", ((_M, 1.0), (_T, -1.0)): "a mass flow",
+    ((_L, -3.0), (_M, 1.0)): "a density", ((_T, -1.0),): "a frequency",
+    ((_L, 1.0), (_M, 1.0), (_T, -2.0)): "a force",
+    ((_L, -1.0), (_M, 1.0), (_T, -2.0)): "a pressure",
+    ((_L, 2.0), (_M, 1.0), (_T, -2.0)): "an energy",
+    ((_L, 2.0), (_M, 1.0), (_T, -3.0)): "a power",
+    ((_L, -1.0), (_M, 1.0), (_T, -1.0)): "a dynamic viscosity",
+    ((_L, 2.0), (_T, -1.0)): "a kinematic viscosity",
+}
+
+
+def quantity_words(dimension: Dimension) -> str:
+    """'a pressure (Pa)' for a common quantity, else its SI unit ('m^3/kg'), or
+    'dimensionless'."""
+    key = tuple((n, float(e)) for n, e in dimension)
+    name = _QUANTITIES.get(key)
+    unit = dimension_words(key)
+    return f"{name} ({unit})" if name else unit
+
+
+def needs_words(dimension: Dimension) -> str:
+    """'as a length (m)' for a common quantity, else 'in m^3/kg' (or 'dimensionless')."""
+    key = tuple((n, float(e)) for n, e in dimension)
+    if key in _QUANTITIES:
+        return "as " + quantity_words(key)
+    return "in " + dimension_words(key) if key else "dimensionless"
+
+
+# Dimensions carried in a remark's numbers: the exponents of these, in this order.
+BASE_DIMENSIONS = ("[length]", "[mass]", "[time]", "[temperature]", "[substance]",
+                   "[current]", "[luminosity]")
+
+
+def dimension_numbers(dimension: Dimension) -> tuple[float, ...]:
+    """A dimension as its exponents of :data:`BASE_DIMENSIONS` (a remark's numbers)."""
+    d = dict(dimension)
+    return tuple(float(d.get(n, 0.0)) for n in BASE_DIMENSIONS)
+
+
+def numbers_dimension(numbers: Any) -> Dimension:
+    """:func:`dimension_numbers` read back."""
+    return tuple(sorted((n, float(e)) for n, e in zip(BASE_DIMENSIONS, numbers, strict=True)
+                        if e))
+
+
 def dimension_words(dimension: Dimension) -> str:
     """A dimension for a one-line message: its SI unit, or 'dimensionless'."""
     return unit_text(dimension, pretty=True) or "dimensionless"
