@@ -442,6 +442,70 @@ def test_a_system_unit_that_does_not_fit_names_the_input(capsys):
     assert "'h' in 'psi' is a pressure (Pa)" in err and "needs 'h' as a length (m)" in err
 
 
+def test_a_kinematic_viscosity_for_a_dynamic_one_is_named():
+    # Hagen-Poiseuille dp = 32 mu L v / D^2 needs mu in Pa*s (common practice); m^2/s is a
+    # kinematic viscosity. L could also be "fixed" (kg/m^2) but that is the less likely unit.
+    with pytest.raises(EquationError) as info:
+        parse_equation("dp = 32*mu*L*v/D^2", unknown="D", unknown_unit="mm", parameters={
+            "dp": "3 psi", "mu": "1.2 m^2/s", "L": "10 m", "v": "1 m/s"})
+    message = str(info.value)
+    assert ("'mu' in 'm^2/s' is a kinematic viscosity (m²/s); with 'D' in 'mm' the equation "
+            "needs 'mu' as a dynamic viscosity (Pa·s)") in message
+    assert "'L'" not in message and "'dp'" not in message
+
+
+# SI derived units (SI Brochure, 9th ed., Table 4; NIST SP 811, Table 3): W = m^2*kg*s^-3,
+# J = m^2*kg*s^-2, N = m*kg*s^-2, Pa = m^-1*kg*s^-2; the compositions are the ones NIST SP
+# 811 Table 4 lists (W/(m^2*K) heat transfer coefficient, J/(kg*K) specific heat, Pa*s
+# dynamic viscosity, W/(m*K) thermal conductivity, N/m surface tension, J/kg, N*s).
+@pytest.mark.parametrize(("typed", "base", "people"), [
+    ("W/(m^2*K)", "kg/(s^3*K)", "W/(m^2*K)"),
+    ("J/(kg*K)", "m^2/(s^2*K)", "J/(kg*K)"),
+    ("Pa*s", "kg/(m*s)", "Pa*s"),
+    ("W/(m*K)", "kg*m/(s^3*K)", "W/(m*K)"),
+    ("N/m", "kg/s^2", "N/m"),
+    ("J/kg", "m^2/s^2", "J/kg"),
+    ("N*s", "kg*m/s", "N*s"),
+    ("W/m^2", "kg/s^3", "W/m^2"),
+    ("1/Pa", "m*s^2/kg", "1/Pa"),
+    ("psi", "Pa", "Pa"),
+    # no derived unit where it gains nothing or would bring kg into a kinematic quantity
+    ("m/s^2", "m/s^2", "m/s^2"),
+    ("kg*m^2", "kg*m^2", "kg*m^2"),
+    ("kg/m^3", "kg/m^3", "kg/m^3"),
+    ("m^2/s", "m^2/s", "m^2/s"),
+    ("gal/min", "m^3/s", "m^3/s"),
+])
+def test_si_units_for_people_use_derived_units_where_simpler(typed, base, people):
+    from solvers.units.reading import unit_text
+
+    unit = read_unit(typed)
+    assert unit.si_text == base  # what files and JSON keep: base units, unchanged
+    assert unit_text(unit.dimension, derived=True) == people
+
+
+def test_si_equivalents_printed_for_people_use_derived_units(capsys, tmp_path):
+    # 4.18 J/(g*K) = 4180 J/(kg*K) (SI prefix g = 10^-3 kg); 1.2 cP = 0.0012 Pa*s (NIST SP
+    # 811, B.8: centipoise = 1.0 E-03 Pa*s)
+    out_csv = tmp_path / "log.csv"
+    code = main(["solve", "q = m*cp*dT + 0*mu", "--unknown", "dT", "--param", "q=10 kW",
+                 "--param", "m=0.5 kg/s", "--param", "cp=4.18 J/(g*K)", "--param",
+                 "mu=1.2 cP", "--x0", "1", "--method", "newton", "--json", "--csv",
+                 str(out_csv)])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["parameter_units"]["cp"]["si_unit"] == "m^2/(s^2*K)"  # machine: base units
+    code = main(["solve", "q = m*cp*dT + 0*mu", "--unknown", "dT", "--param", "q=10 kW",
+                 "--param", "m=0.5 kg/s", "--param", "cp=4.18 J/(g*K)", "--param",
+                 "mu=1.2 cP", "--x0", "1", "--method", "newton"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    assert "cp = 4.18 J/(g*K) (= 4180.0 J/(kg*K))" in out
+    assert "mu = 1.2 cP (= 0.0012 Pa*s)" in out
+    assert "q = 10.0 kW (= 10000.0 W)" in out
+
+
 _UNIT_ALPHABET = "mskgKAlLnNPaJWhzµ°%ΩdegCF_0123456789 */^().-e"
 
 

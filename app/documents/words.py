@@ -85,15 +85,20 @@ def measured_text(value: Any, converted: Any,
                   show: Callable[[Any], str] | None = None) -> str:
     """A parameter's value as entered: ``150 mm (= 0.15 m)`` when it carries a unit
     (``converted``: a :class:`solvers.units.Converted`), ``350 m`` when that unit is
-    already SI, the number alone without one. ``show`` formats the numbers (every digit
-    by default)."""
+    already SI, the number alone without one. The SI unit is written with a derived unit
+    where that is simpler (:func:`solvers.units.reading.unit_text`, ``derived``).
+    ``show`` formats the numbers (every digit by default)."""
+    from solvers.units.reading import unit_text
+
     show = show or exact
     if converted is None:
         return show(value)
-    if converted.unit == converted.si_unit:  # already in SI: nothing to convert
+    # the SI unit for people: a coherent derived unit where simpler (W/(m^2*K), not
+    # kg/(s^3*K)); files keep converted.si_unit, in base units
+    si = unit_text(converted.dimension, derived=True) or converted.si_unit
+    if converted.unit in (converted.si_unit, si):  # already in SI: nothing to convert
         return f"{show(converted.value)} {converted.unit}"
-    return (f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} "
-            f"{converted.si_unit})")
+    return f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} {si})"
 
 
 def order_text(order: float | None, blank: str = "—") -> str:

@@ -31,7 +31,7 @@ import sympy as sp
 
 from solvers.equation.lexer import EquationError, _fail
 from solvers.equation.parser import snippet
-from solvers.units.reading import Dimension, dimension_words, needs_words, quantity_words
+from solvers.units.reading import Dimension, dimension_words, needs_words, quantity_words, unit_size
 
 # Exponents are exact fractions here (a double exponent such as 1.85 is read as 37/20), so
 # Q^1.85 with Q's dimension solved from it gives back exactly Q's dimension.
@@ -447,10 +447,6 @@ class Suspect:
     needed: Dimension
 
 
-def _size(d: _Exact) -> Fraction:
-    return sum((abs(Fraction(e)) for _n, e in d), _ZERO)
-
-
 def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
              sides: Sequence[tuple[Any, Any | None, tuple[int, int, int]]],
              unknowns: Sequence[Any], dimensions: Mapping[Any, Dimension],
@@ -462,11 +458,12 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
     Each parameter in turn is taken as one more unknown of the check (its unit set aside):
     where the equations then hold with the chosen units, the dimension they fix for it is
     what its unit should have been. Of those, the ones needing the simplest dimension
-    (whole exponents, least sum of |exponent|: a length before kg/(m^2*s^2)) are returned,
+    (whole exponents, least :func:`reading.unit_size`: a length before kg/(m*s^2),
+    Pa*s before kg/m^2) are returned,
     at most ``most``, in the order typed. A parameter the rules leave open, or that would
     need fractional powers, is no suspect. () when no single parameter explains it.
     """
-    found: list[tuple[Fraction, int, Suspect]] = []
+    found: list[tuple[tuple[float, float, int], int, Suspect]] = []
     order = names_at or {}
     for p, unit in typed.items():
         if p in unknowns:
@@ -482,7 +479,7 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
         if not outcome.fixed or needed == now or any(
                 Fraction(e).denominator != 1 for _n, e in needed):
             continue
-        found.append((_size(needed), order.get(p, 0),
+        found.append((unit_size(outcome.dimension), order.get(p, 0),
                       Suspect(p.name, unit, _plain(now), outcome.dimension)))
     if not found:
         return ()
