@@ -147,11 +147,43 @@ def _param(text: str) -> tuple[str, float, str]:
         return name, number, " ".join(unit.split())
 
 
+def distinct_params(given: Sequence[tuple[str, float, str]]) -> None:
+    """Refuse a name given twice by ``--param`` (InputError: exit 2): which of the two
+    values was meant cannot be told, and the later silently winning hid the slip."""
+    seen: set[str] = set()
+    for name, _value, _unit in given:
+        if name in seen:
+            raise InputError(f"--param {name} is given more than once; give each parameter "
+                             "once")
+        seen.add(name)
+
+
+def note_unused_params(text: str, given: Sequence[tuple[str, float, str]]) -> None:
+    """One line on stderr for each ``--param`` the equation does not use (not an error:
+    the run goes on; a close name the equation lacks is also named by the parse error)."""
+    from solvers.equation import EquationError
+    from solvers.equation.lines import read_lines
+
+    try:
+        reading = read_lines(text)
+    except EquationError:  # the parse says what is wrong with the text itself
+        return
+    # a line `h = ...` reads as a definition until h is given a value: a name the text
+    # defines is used (what a value for it does is the equation's own rule to say)
+    names = {*reading.names, *(d.name for d in reading.definitions)}
+    for name, _value, _unit in given:
+        if name not in names:
+            print(f"note: parameter '{name}' is not used by the equation", file=sys.stderr)
+
+
 def with_params(ws: Any, given: list[tuple[str, float, str]]) -> Any:
     """``ws`` with the ``--param`` values (name, number, unit text) over its own; a
-    parameter keeps its note."""
+    parameter keeps its note. A name given twice is refused (InputError); one the
+    equation does not use is noted on stderr."""
     from app.documents.worksheet import Parameter
 
+    distinct_params(given)
+    note_unused_params(ws.equation, given)
     params = {p.name: p for p in ws.parameters}
     for name, value, unit in given:
         note = params[name].note if name in params else ""

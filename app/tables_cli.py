@@ -32,6 +32,7 @@ from app.cli import (
     _output_path,
     _setting,
     _unknown_unit,
+    distinct_params,
 )
 
 MAX_SWEEP = 1_000_000
@@ -158,6 +159,7 @@ def _core(args: argparse.Namespace, settings: dict[str, Any]) -> dict[str, Any]:
     if len(unknowns) > 1:
         raise InputError(f"zerotrace {args.command}: one unknown (a table solves one equation), "
                          f"got --unknown {' '.join(unknowns)}")
+    distinct_params(args.param)
     constants = {name: Measured(value, unit) if unit else value
                  for name, value, unit in args.param}
     unit = systems_cli.one_unknown_unit(args)  # --unknown-unit repeats (NAME=U: a system)

@@ -255,3 +255,38 @@ def test_an_internal_defect_is_one_line_not_a_traceback(capsys, monkeypatch) -> 
         "internal error (TypeError: something we did not foresee); please report it with the "
         "command line"
     ]
+
+
+# --- Parameter names (found by a new-user trial) -------------------------------------------
+
+
+def test_a_parameter_name_in_the_wrong_case_is_named(capsys) -> None:
+    code, _out, err = run(capsys, "solve", "x^2 = a", "--unknown", "x", "--param", "A=4",
+                          "--x0", "1")
+    assert code == 2
+    assert "no value for 'a'" in err
+    assert "did you mean 'a'? 'A' is not in the equation" in err
+    # The same hint when the unknown is to be inferred, and in a system.
+    code, _out, err = run(capsys, "solve", "x^2 = eps", "--param", "esp=4", "--x0", "1")
+    assert code == 2 and "did you mean 'eps'? 'esp' is not in the equation" in err
+    code, _out, err = run(capsys, "solve", "x + y = a; x - y = 1", "--unknown", "x",
+                          "--unknown", "y", "--param", "A=3", "--x0", "x=1", "--x0", "y=1")
+    assert code == 2 and "did you mean 'a'?" in err
+
+
+def test_an_unused_parameter_is_noted_and_the_run_goes_on(capsys) -> None:
+    code, out, err = run(capsys, "solve", "x^2 = a", "--param", "a=4", "--param", "b=3",
+                         "--x0", "1", "--method", "newton", "--json")
+    assert code == 0
+    assert "note: parameter 'b' is not used by the equation" in err
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(2.0, rel=1e-15)  # sqrt(4)
+    _code, _out, err = run(capsys, "solve", "x^2 = a", "--param", "a=4", "--x0", "1")
+    assert "not used" not in err
+
+
+@pytest.mark.parametrize("command", [["solve", "x^2 = a"],
+                                     ["sweep", "x^2 = a*b", "--vary", "b=1:2:3"]])
+def test_a_parameter_given_twice_exits_2_naming_it(capsys, command) -> None:
+    code, out, err = run(capsys, *command, "--param", "a=1", "--param", "a=4", "--x0", "1")
+    assert code == 2 and out == ""
+    assert err.strip() == "error: --param a is given more than once; give each parameter once"

@@ -28,6 +28,7 @@ from solvers.equation import (
     free_names,
     parse_equation,
 )
+from solvers.equation.typeset import latex as latex_of
 
 
 def value(text: str, x: float, **parameters: float) -> float:
@@ -635,6 +636,7 @@ TYPESET = [
     "atan2(y, x) + asinh(x) + acosh(x) + atanh(x/2) + abs(x) + min(x, 1) + max(x, y)",
     "log2(x) + ln(x) + exp(-x) + sinh(x) + tanh(x) + tan(x*deg) + pi",
     "sum_k - C_0*(1 + r)^(-N)",
+    "m*cp*(Thi - T) = U*A*LMTD/Re^(3/2)",
 ]
 
 
@@ -733,3 +735,70 @@ def test_typeset_derivative_shows_folded_constants_to_six_figures() -> None:
     h = 1e-7
     numeric = (eq.f(0.02 + h) - eq.f(0.02 - h)) / (2 * h)
     assert eq.fprime(0.02) == pytest.approx(numeric, rel=1e-6)
+
+
+# --- Typeset products and numbers (found by a new-user trial) -----------------------------
+# The convention (ours): a name of several letters is one upright symbol (\mathrm{cp});
+# a product holding one separates its factors by \cdot, so "m cp" cannot read as m*c*p.
+
+
+def test_multi_letter_names_are_one_symbol_and_set_apart_in_products() -> None:
+    eq = parse_equation("m*cp*(Thi - T) = U*A*LMTD", unknown="T",
+                        parameters=dict(m=2.0, cp=4180.0, Thi=350.0, U=500.0, A=2.0,
+                                        LMTD=10.0))
+    assert eq.latex == (r"m \cdot \mathrm{cp} \cdot \left(\mathrm{Thi} - T\right)"
+                        r" = U \cdot A \cdot \mathrm{LMTD}")
+    # Its derivative -m*cp, printed by sympy's printer with the same convention.
+    assert eq.derivative_latex == r"- \mathrm{cp} \cdot m"
+    # One-letter products stay juxtaposed; Greek names and split subscripts keep their form.
+    assert parse_equation("E*I*x = w*L^4", parameters={"E": 2.0, "I": 1.0, "w": 1.0,
+                                                       "L": 2.0}).latex == "E I x = w L^{4}"
+    assert parse_equation("alpha*x_1 = 2", unknown="x_1",
+                          parameters={"alpha": 1.0}).latex == r"\alpha x_{1} = 2"
+
+
+def test_friction_factor_derivative_separates_re_from_f() -> None:
+    eq = parse_equation("1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))",
+                        parameters={"eps": 4.5e-5, "D": 0.15, "Re": 1.2e5})
+    assert r"\mathrm{Re} \cdot f^{\frac{3}{2}}" in eq.derivative_latex
+    assert "Re f" not in eq.derivative_latex and r"\mathrm{eps}" in eq.derivative_latex
+
+
+def test_unit_scale_one_is_not_printed_as_a_coefficient() -> None:
+    # T in degC enters as 1.0*T + 273.15 (SI kelvin); the typeset derivative shows neither
+    # a "1" before the factors nor before T, and -1*x as -x.
+    eq = parse_equation(
+        "m*cp*(Thi - T) = U*A*((T-Tci)-(Thi-Tco))/ln((T-Tci)/(Thi-Tco))", unknown="T",
+        unknown_unit="degC",
+        parameters=dict(m="2 kg/s", cp="4180 J/(kg*K)", Thi="80 degC", U="500 W/(m^2*K)",
+                        A="2 m^2", Tco="30 degC", Tci="20 degC"))
+    tex = eq.derivative_latex
+    assert "1 " not in tex and "1.0" not in tex and r"1 \cdot" not in tex
+    assert r"T - \mathrm{Tci} + 273.15" in tex and tex.endswith(r"- \mathrm{cp} \cdot m")
+    assert mathtext(tex, "plain") == f"${tex}$"
+
+
+def test_typeset_numbers_are_not_padded_with_zeros() -> None:
+    # hf = fD*(L/D)*(4Q/(pi D^2))^2/(2g) with D in mm: f'(D) = 40/pi^2 * 10^15 L Q^2 fD /
+    # (D^6 g) (closed form, D_SI = D/1000). repr wrote 4052850000000000.0 (16 digits, 10
+    # of them padding); the sheet shows six significant figures as mantissa and power.
+    eq = parse_equation("hf = fD*(L/D)*(4*Q/(pi*D^2))^2/(2*g)", unknown="D",
+                        unknown_unit="mm",
+                        parameters=dict(hf="15 ft", fD=0.018, L="800 ft", Q="450 gal/min",
+                                        g="32.174 ft/s^2"))
+    mantissa = f"{40 / math.pi ** 2:.6g}"  # 4.05285
+    assert eq.derivative_latex.startswith(rf"\frac{{{mantissa} \cdot 10^{{15}} \cdot L")
+    assert "0000" not in eq.derivative_latex
+
+
+@pytest.mark.parametrize(("value", "tex"), [
+    (4.05285e15, r"4.05285 \cdot 10^{15}"), (1e-6, "10^{-6}"), (-2.5e-7, r"-2.5 \cdot 10^{-7}"),
+    (273.15, "273.15"), (2.0, "2"), (123456.0, "123456"), (0.1, "0.1"), (1e6, "10^{6}"),
+    (2.5e14, r"2.5 \cdot 10^{14}"),
+])
+def test_float_constants_print_shortest_digits(value: float, tex: str) -> None:
+    # Shortest round-trip digits (Python's repr, the common practice for doubles).
+    assert latex_of(sp.Float(value)) == tex
+    mantissa, _, power = tex.partition(r" \cdot 10^{")
+    back = float(mantissa) * 10.0 ** int(power[:-1]) if power else None
+    assert back is None or back == pytest.approx(value, rel=1e-15)

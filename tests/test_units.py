@@ -340,12 +340,13 @@ def test_cli_no_dimension_check_is_printed(capsys, tmp_path):
 @pytest.mark.parametrize(("argv", "named"), [
     (["--param", "D=150 mmm"], "'mmm'"),
     (["--param", "D=150 m;ls"], "';'"),
-    (["--unknown-unit", "furlong_per_x"], "furlong_per_x"),
+    (["--param", "D=150 mm", "--unknown-unit", "furlong_per_x"], "furlong_per_x"),
     (["--param", "D=150 kg", "--unknown-unit", "m/s"], "'m/s' does not fit 'v'"),
 ])
 def test_cli_bad_units_exit_2_with_one_line(capsys, argv, named):
+    # (D once per run: a --param given twice is itself refused)
     code = main(["solve", "Q = pi*D^2/4*v", "--unknown", "v", "--param", "Q=0.35 m^3/s",
-                 "--param", "D=150 mm", *argv])
+                 *argv])
     out, err = capsys.readouterr()
     assert code == 2
     assert len(err.strip().splitlines()) == 1 and named in err
@@ -389,6 +390,120 @@ def test_a_hidden_unit_shows_as_fractional_powers_and_is_said():
     assert eq.unknown_unit == "m^(7/3)/s"
     assert any(r.code == "unknown_dimension_fractional" for r in eq.remarks)
     assert "hides its unit" in " ".join(words.remarks_text(eq.remarks))
+
+
+# --- A wrong input unit named (found by a new-user trial) ----------------------------------
+# Darcy-Weisbach: the head loss h is a length (h = f L/D v^2/(2g); common practice). Typed
+# as a pressure, the bore D comes out in m^(7/5)*s^(2/5)/kg^(1/5) (D^5 ~ L^6/[h]).
+_DARCY = "h = f*L/D*(4*Q/(pi*D^2))^2/(2*g)"
+_DARCY_PARAMS = {"h": "3 psi", "L": "100 ft", "Q": "85 gal/min", "f": 0.021,
+                 "g": "32.174 ft/s^2"}
+
+
+def test_a_unit_that_does_not_fit_names_the_input_most_likely_wrong():
+    with pytest.raises(EquationError) as info:
+        parse_equation(_DARCY, unknown="D", unknown_unit="mm", parameters=_DARCY_PARAMS)
+    message = str(info.value)
+    assert "the unknown unit 'mm' does not fit 'D'" in message
+    # the pascal is kg/(m*s^2) (NIST SP 811, Table 3: Pa = N/m^2 = m^-1*kg*s^-2)
+    assert ("most likely an input's unit is wrong: 'h' in 'psi' is a pressure (Pa); with "
+            "'D' in 'mm' the equation needs 'h' as a length (m)") in message
+    assert "'L'" not in message and "'g'" not in message  # they would need odd units
+    # the control: h as a head in ft is what the equation needs, and it solves
+    eq = parse_equation(_DARCY, unknown="D", unknown_unit="mm",
+                        parameters={**_DARCY_PARAMS, "h": "3 ft"})
+    assert eq.unknown_unit == "mm"
+
+
+def test_a_fractional_unknown_dimension_names_the_suspect_input():
+    eq = parse_equation(_DARCY, unknown="D", parameters=_DARCY_PARAMS)
+    assert eq.unknown_unit == "m^(7/5)*s^(2/5)/kg^(1/5)"
+    said = words.remarks_text(eq.remarks)
+    assert [r.subject for r in eq.remarks if r.code == "unit_suspect"] == ["h"]
+    assert ("most likely the unit of 'h' is wrong: it is a pressure (Pa); with the unknown "
+            "as a length (m) the equation needs 'h' as a length (m)") in said
+
+
+def test_a_hidden_constant_unit_blames_no_input():
+    # Manning's n typed bare: only n's own (fractional) unit would fit, so no input is
+    # blamed and the remark about hidden constants stands alone
+    eq = parse_equation(MANNING, unknown="A", parameters={
+        "Q": "10 m^3/s", "n": 0.013, "R": "0.8 m", "S": 0.001})
+    assert not any(r.code == "unit_suspect" for r in eq.remarks)
+
+
+def test_a_system_unit_that_does_not_fit_names_the_input(capsys):
+    code = main(["solve", _DARCY + "; Q = v*pi*D^2/4", "--unknown", "D", "--unknown", "v",
+                 *[a for n, v in _DARCY_PARAMS.items()
+                   for a in ("--param", f"{n}={v}")],
+                 "--x0", "D=50", "--x0", "v=1", "--unknown-unit", "D=mm"])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    assert "'h' in 'psi' is a pressure (Pa)" in err and "needs 'h' as a length (m)" in err
+
+
+def test_a_kinematic_viscosity_for_a_dynamic_one_is_named():
+    # Hagen-Poiseuille dp = 32 mu L v / D^2 needs mu in Pa*s (common practice); m^2/s is a
+    # kinematic viscosity. L could also be "fixed" (kg/m^2) but that is the less likely unit.
+    with pytest.raises(EquationError) as info:
+        parse_equation("dp = 32*mu*L*v/D^2", unknown="D", unknown_unit="mm", parameters={
+            "dp": "3 psi", "mu": "1.2 m^2/s", "L": "10 m", "v": "1 m/s"})
+    message = str(info.value)
+    assert ("'mu' in 'm^2/s' is a kinematic viscosity (m²/s); with 'D' in 'mm' the equation "
+            "needs 'mu' as a dynamic viscosity (Pa·s)") in message
+    assert "'L'" not in message and "'dp'" not in message
+
+
+# SI derived units (SI Brochure, 9th ed., Table 4; NIST SP 811, Table 3): W = m^2*kg*s^-3,
+# J = m^2*kg*s^-2, N = m*kg*s^-2, Pa = m^-1*kg*s^-2; the compositions are the ones NIST SP
+# 811 Table 4 lists (W/(m^2*K) heat transfer coefficient, J/(kg*K) specific heat, Pa*s
+# dynamic viscosity, W/(m*K) thermal conductivity, N/m surface tension, J/kg, N*s).
+@pytest.mark.parametrize(("typed", "base", "people"), [
+    ("W/(m^2*K)", "kg/(s^3*K)", "W/(m^2*K)"),
+    ("J/(kg*K)", "m^2/(s^2*K)", "J/(kg*K)"),
+    ("Pa*s", "kg/(m*s)", "Pa*s"),
+    ("W/(m*K)", "kg*m/(s^3*K)", "W/(m*K)"),
+    ("N/m", "kg/s^2", "N/m"),
+    ("J/kg", "m^2/s^2", "J/kg"),
+    ("N*s", "kg*m/s", "N*s"),
+    ("W/m^2", "kg/s^3", "W/m^2"),
+    ("1/Pa", "m*s^2/kg", "1/Pa"),
+    ("psi", "Pa", "Pa"),
+    # no derived unit where it gains nothing or would bring kg into a kinematic quantity
+    ("m/s^2", "m/s^2", "m/s^2"),
+    ("kg*m^2", "kg*m^2", "kg*m^2"),
+    ("kg/m^3", "kg/m^3", "kg/m^3"),
+    ("m^2/s", "m^2/s", "m^2/s"),
+    ("gal/min", "m^3/s", "m^3/s"),
+])
+def test_si_units_for_people_use_derived_units_where_simpler(typed, base, people):
+    from solvers.units.reading import unit_text
+
+    unit = read_unit(typed)
+    assert unit.si_text == base  # what files and JSON keep: base units, unchanged
+    assert unit_text(unit.dimension, derived=True) == people
+
+
+def test_si_equivalents_printed_for_people_use_derived_units(capsys, tmp_path):
+    # 4.18 J/(g*K) = 4180 J/(kg*K) (SI prefix g = 10^-3 kg); 1.2 cP = 0.0012 Pa*s (NIST SP
+    # 811, B.8: centipoise = 1.0 E-03 Pa*s)
+    out_csv = tmp_path / "log.csv"
+    code = main(["solve", "q = m*cp*dT + 0*mu", "--unknown", "dT", "--param", "q=10 kW",
+                 "--param", "m=0.5 kg/s", "--param", "cp=4.18 J/(g*K)", "--param",
+                 "mu=1.2 cP", "--x0", "1", "--method", "newton", "--json", "--csv",
+                 str(out_csv)])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    data = json.loads(out)
+    assert data["parameter_units"]["cp"]["si_unit"] == "m^2/(s^2*K)"  # machine: base units
+    code = main(["solve", "q = m*cp*dT + 0*mu", "--unknown", "dT", "--param", "q=10 kW",
+                 "--param", "m=0.5 kg/s", "--param", "cp=4.18 J/(g*K)", "--param",
+                 "mu=1.2 cP", "--x0", "1", "--method", "newton"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    assert "cp = 4.18 J/(g*K) (= 4180.0 J/(kg*K))" in out
+    assert "mu = 1.2 cP (= 0.0012 Pa*s)" in out
+    assert "q = 10.0 kW (= 10000.0 W)" in out
 
 
 _UNIT_ALPHABET = "mskgKAlLnNPaJWhzµ°%ΩdegCF_0123456789 */^().-e"

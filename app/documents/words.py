@@ -85,15 +85,20 @@ def measured_text(value: Any, converted: Any,
                   show: Callable[[Any], str] | None = None) -> str:
     """A parameter's value as entered: ``150 mm (= 0.15 m)`` when it carries a unit
     (``converted``: a :class:`solvers.units.Converted`), ``350 m`` when that unit is
-    already SI, the number alone without one. ``show`` formats the numbers (every digit
-    by default)."""
+    already SI, the number alone without one. The SI unit is written with a derived unit
+    where that is simpler (:func:`solvers.units.reading.unit_text`, ``derived``).
+    ``show`` formats the numbers (every digit by default)."""
+    from solvers.units.reading import unit_text
+
     show = show or exact
     if converted is None:
         return show(value)
-    if converted.unit == converted.si_unit:  # already in SI: nothing to convert
+    # the SI unit for people: a coherent derived unit where simpler (W/(m^2*K), not
+    # kg/(s^3*K)); files keep converted.si_unit, in base units
+    si = unit_text(converted.dimension, derived=True) or converted.si_unit
+    if converted.unit in (converted.si_unit, si):  # already in SI: nothing to convert
         return f"{show(converted.value)} {converted.unit}"
-    return (f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} "
-            f"{converted.si_unit})")
+    return f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} {si})"
 
 
 def order_text(order: float | None, blank: str = "—") -> str:
@@ -589,7 +594,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
                           "unknown_dimension_free", "unknown_dimension_fractional",
-                          "system_dimension_free"})
+                          "system_dimension_free", "unit_suspect"})
 
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
@@ -618,7 +623,20 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                               "hides its unit (Manning's n, a Hazen–Williams "
                                               "coefficient) give it its unit or switch the "
                                               "dimension check off",
+    "unit_suspect": lambda r: _unit_suspect(r.subject, r.numbers),
 }
+
+
+def _unit_suspect(name: str, numbers: Sequence[float]) -> str:
+    """A parameter whose unit alone explains the unknown's fractional dimension; numbers:
+    the unknown's meant dimension, the parameter's and the one it needs (7 each)."""
+    from solvers.units.reading import needs_words, numbers_dimension, quantity_words
+
+    meant, now, needed = (numbers_dimension(numbers[i:i + 7]) for i in (0, 7, 14))
+    what = f"is {quantity_words(now)}" if now else "has no unit"
+    return (f"most likely the unit of '{name}' is wrong: it {what}; with the unknown "
+            f"{needs_words(meant)} the equation needs '{name}' {needs_words(needed)}")
+
 
 
 def remark_text(remark: Any) -> str:

@@ -10,9 +10,10 @@ Values may be numpy arrays: they broadcast against each other and against x, so 
 
 from __future__ import annotations
 
+import difflib
 import math
 import re
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from numbers import Real
 from typing import Any
@@ -461,6 +462,26 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
 # ---------------------------------------------------------------------------------------------
 
 
+def misnamed_hint(missing: Sequence[str], given: Iterable[str]) -> str:
+    """' (did you mean 'a'? 'A' is not in the equation)' for each given name the equation
+    does not use that is close to a name it lacks a value for ('' when none is).
+
+    Close: the same name in another case, or difflib's ratio >= 0.6 on the lower-case
+    names (esp for eps, hf for h), each missing name suggested once.
+    """
+    names = set(missing)
+    lower = {n.lower(): n for n in missing}
+    said, taken = [], set()
+    for name in given:
+        if not isinstance(name, str) or name in names:
+            continue
+        close = difflib.get_close_matches(name.lower(), list(lower), n=1, cutoff=0.6)
+        if close and lower[close[0]] not in taken:
+            taken.add(lower[close[0]])
+            said.append(f"did you mean '{lower[close[0]]}'? '{name}' is not in the equation")
+    return f" ({'; '.join(said)})" if said else ""
+
+
 def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[str, Any],
                     first_pos: Mapping[str, int], remarks: list[Remark]) -> str:
     if not names:
@@ -477,7 +498,7 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
             hint = " ('e' is an ordinary name; write exp(...) for the exponential)"
         raise _fail(text, "cannot tell the unknown: " + ", ".join(
             f"'{n}'" for n in open_names) + " have no value; name the unknown or give "
-            "values for the others" + hint, None)
+            "values for the others" + hint + misnamed_hint(open_names, values), None)
     if not isinstance(unknown, str):
         raise EquationError(f"the unknown must be a name, got {type(unknown).__name__}")
     if unknown not in names:
@@ -488,7 +509,8 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
     missing = [n for n in names if n != unknown and n not in values]
     if missing:
         raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-                    + f" (the unknown is '{unknown}')", first_pos[missing[0]])
+                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values),
+                    first_pos[missing[0]])
     return unknown
 
 

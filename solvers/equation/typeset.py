@@ -3,18 +3,24 @@
 The equation's LaTeX is built straight from the tokens (after the checked parse has
 accepted them), in the order typed (``2^{10}``, ``\\pi``, ``\\mathrm{deg}``, ``\\ln``),
 mathtext-safe and linear in the text. Derivatives are printed by sympy's LaTeX printer
-restricted to what mathtext renders. Whether mathtext really renders a string is checked
-in the app (app.documents.typesetting.mathtext): the core never imports matplotlib.
+restricted to what mathtext renders. Both set a name of several letters upright as one
+symbol (``\\mathrm{cp}``) and separate the factors of a product holding one by ``\\cdot``;
+constants are printed in their shortest digits, never padded with zeros. Whether mathtext
+really renders a string is checked in the app (app.documents.typesetting.mathtext): the core
+never imports matplotlib.
 """
 
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
+from decimal import Decimal
 from typing import Any
 
 import sympy as sp
-from sympy.printing.latex import LatexPrinter
+from sympy.printing.conventions import split_super_sub
+from sympy.printing.latex import LatexPrinter, translate
 
 from solvers.equation.calculus import _node_count
 from solvers.equation.compile import floatify_big
@@ -28,8 +34,46 @@ MAX_TYPESET_CHARS = 2_000
 MAX_TYPESET_NODES = 1_500
 
 
+# A name of several letters is set upright as one symbol (\mathrm{cp}, \mathrm{Re}) so it
+# cannot be read as a product of one-letter names; within a product that has such a name
+# among its factors (or as the base of a factor's power), the factors are separated by
+# \cdot ("m \cdot \mathrm{cp}", not "m cp"). Greek names (alpha -> \alpha) and the
+# subscripts sympy splits off (x1 -> x_{1}, T_hi -> T_{hi}) keep sympy's form. The token
+# typesetter and the printer of derivatives share this rule (the strip and the sheet show
+# one convention).
+_MULTI_LETTER = re.compile(r"[A-Za-z]{2,}")
+_NAME_DOT = r" \cdot "
+
+
+def _named_factor(factor: Any) -> bool:
+    """Whether a factor of a product is a multi-letter name or a power of one."""
+    base = factor.base if isinstance(factor, sp.Pow) else factor
+    if not isinstance(base, sp.Symbol):
+        return False
+    name, _, _ = split_super_sub(base.name)
+    return bool(_MULTI_LETTER.fullmatch(translate(name)))
+
+
 class _MathtextLatexPrinter(LatexPrinter):
-    """sympy LaTeX restricted to what matplotlib's mathtext renders."""
+    """sympy LaTeX restricted to what matplotlib's mathtext renders, multi-letter names
+    upright and set apart by \\cdot in products (the token typesetter's convention)."""
+
+    def _deal_with_super_sub(self, string: str, style: str = "plain") -> str:
+        tex = super()._deal_with_super_sub(string, style=style)
+        name, _, _ = self._split_super_sub(string)
+        if name and _MULTI_LETTER.fullmatch(name):
+            return r"\mathrm{" + name + "}" + tex[len(name):]
+        return tex
+
+    def _print_Mul(self, expr: Any) -> str:
+        if not any(_named_factor(f) for f in expr.args):
+            return super()._print_Mul(expr)
+        saved = self._settings["mul_symbol_latex"]
+        self._settings["mul_symbol_latex"] = _NAME_DOT
+        try:
+            return super()._print_Mul(expr)
+        finally:
+            self._settings["mul_symbol_latex"] = saved
 
     def _named(self, name: str, expr: Any, exp: Any) -> str:
         args = ", ".join(self._print(a) for a in expr.args)
@@ -53,20 +97,35 @@ class _MathtextLatexPrinter(LatexPrinter):
 
     def _print_Float(self, expr: Any) -> str:
         # Constants are doubles here: print the shortest text that reads back as the same
-        # double (2.0 as 2, 0.1 as 0.1), not sympy's 15 digits.
+        # double (2.0 as 2, 0.1 as 0.1), not sympy's 15 digits; see _float_tex.
         try:
             v = float(expr)
         except OverflowError:
             return super()._print_Float(expr)
         if not math.isfinite(v):
             return super()._print_Float(expr)
-        if v == int(v) and abs(v) < 1e15:
-            return str(int(v))
-        text = repr(v)
-        if "e" in text:
-            mantissa, exponent = text.split("e")
-            return mantissa + r" \cdot 10^{" + str(int(exponent)) + "}"
-        return text
+        return _float_tex(v)
+
+
+def _float_tex(v: float) -> str:
+    """A finite double as LaTeX: its shortest round-tripping digits, never padded.
+
+    From 10^-4 up to 10^6 the plain decimal (2, 0.1, 273.15); outside it mantissa and power
+    of ten (4.05285 \\cdot 10^{15}, 10^{-6}): repr writes 4.05285e15 as 4052850000000000.0,
+    sixteen digits of which ten are padding that claim a precision the value does not have.
+    """
+    if v == 0:
+        return "0"
+    if 1e-4 <= abs(v) < 1e6:
+        return str(int(v)) if v == int(v) else repr(v)
+    sign, digits, exponent = Decimal(repr(v)).normalize().as_tuple()
+    text = "".join(map(str, digits))
+    power = exponent + len(text) - 1  # v = +-d.ddd * 10^power
+    mantissa = text[0] + ("." + text[1:] if len(text) > 1 else "")
+    mantissa = ("-" if sign else "") + mantissa
+    if mantissa in ("1", "-1"):
+        return mantissa[:-1] + "10^{" + str(power) + "}"
+    return mantissa + r" \cdot 10^{" + str(power) + "}"
 
 
 _LATEX_SETTINGS = {"ln_notation": True}  # a printer per call: printers keep state while printing
@@ -82,6 +141,13 @@ def latex(expr: Any) -> str:
              if isinstance(s, sp.Symbol) and s.assumptions0}
     if plain:
         expr = expr.xreplace(plain)
+    # A double that is an integer (the scale 1.0 of a unit, the exponent -1.0) as an
+    # integer: sympy then writes 1.0*T as T, -1.0*m as -m and x**-1.0 as a fraction,
+    # where the printed "1" of 1.0 stood in front of the factors (- 1 cp m).
+    whole = {c: sp.Integer(int(c)) for c in getattr(expr, "atoms", lambda *_: ())(sp.Float)
+             if math.isfinite(float(c)) and float(c) == int(c) and abs(float(c)) < 1e6}
+    if whole:
+        expr = expr.xreplace(whole)
     printer = _MathtextLatexPrinter(_LATEX_SETTINGS)
     try:
         tex = printer.doprint(expr)
@@ -111,6 +177,7 @@ class _Tex:
     tex: str
     prec: int
     number: bool = False  # a bare number (a product writes \cdot before it)
+    named: bool = False  # a multi-letter name or a power of one (\cdot in its product)
 
 
 def _paren(node: _Tex, below: int) -> str:
@@ -165,9 +232,14 @@ class _Typesetter:
 
     @staticmethod
     def juxtapose(factors: list[_Tex]) -> str:
+        # The printer's rule (_MathtextLatexPrinter._print_Mul): \cdot between all the
+        # factors of a product that holds a multi-letter name, else a space (and \cdot
+        # before a number, which would otherwise run into the digits before it).
+        named = any(f.named for f in factors)
         tex = _paren(factors[0], _NEG) if len(factors) > 1 else factors[0].tex
         for f in factors[1:]:
-            tex += (r" \cdot " if f.number or f.tex[:1].isdigit() else " ") + _paren(f, _FRAC)
+            dot = named or f.number or f.tex[:1].isdigit()
+            tex += (_NAME_DOT if dot else " ") + _paren(f, _FRAC)
         return tex
 
     def signed(self) -> _Tex:
@@ -183,7 +255,7 @@ class _Typesetter:
             return base
         self.advance()
         exponent = self.signed()
-        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW)
+        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW, named=base.named)
 
     def primary(self) -> _Tex:
         t = self.advance()
@@ -192,7 +264,7 @@ class _Typesetter:
             nxt = self.tok
             if nxt.pos == t.end and (nxt.kind == "name" or nxt.text == "("):
                 rest = self.power()
-                joint = r" \cdot " if rest.tex[:1].isdigit() else " "
+                joint = _NAME_DOT if rest.named or rest.tex[:1].isdigit() else " "
                 return _Tex(number.tex + joint + _paren(rest, _FRAC), _PROD)
             return number
         if t.text == "(":
@@ -215,7 +287,7 @@ class _Typesetter:
         tex = self.symbols.get(t.text)
         if tex is None:
             tex = self.symbols[t.text] = latex(sp.Symbol(t.text))
-        return _Tex(tex, _ATOM)
+        return _Tex(tex, _ATOM, named=tex.startswith(r"\mathrm{"))
 
     @staticmethod
     def call(name: str, args: list[str]) -> _Tex:

@@ -31,7 +31,12 @@ from solvers.equation.compile import Code, floatify_big
 from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.lines import Line, Reading, check_shadowing, read_lines
 from solvers.equation.parser import _is_bad
-from solvers.equation.record import _PASSES, _check_message, _validate_parameters
+from solvers.equation.record import (
+    _PASSES,
+    _check_message,
+    _validate_parameters,
+    misnamed_hint,
+)
 from solvers.systems import units as system_units
 from solvers.systems.structure import Block, block_order
 from solvers.units import Converted, convert_parameters
@@ -227,7 +232,8 @@ def _choose_unknowns(reading: Reading, given: tuple[str, ...] | None,
     if missing:
         raise reading.numbered(_fail(
             reading.text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-            + " (the unknowns are " + ", ".join(given) + ")", reading.first_pos[missing[0]]))
+            + " (the unknowns are " + ", ".join(given) + ")" + misnamed_hint(missing, values),
+            reading.first_pos[missing[0]]))
     return given
 
 

@@ -88,7 +88,8 @@ def resolve(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
             reading.text, reading.spans, sides, tuple(xs),
             {symbols[n]: c.dimension for n, c in used.items()},
             {x: (chosen[x.name].dimension, chosen[x.name].text) for x in xs
-             if x.name in chosen}, names_at)
+             if x.name in chosen}, names_at,
+            {s: used[n].unit if n in used else "" for n, s in symbols.items()})
     except EquationError as err:
         raise reading.numbered(err) from None
     for x, outcome in zip(xs, outcomes, strict=True):

@@ -42,6 +42,7 @@ from solvers.units.reading import (
     MAX_UNIT_TEXT,
     Dimension,
     Unit,
+    dimension_numbers,
     dimension_words,
     read_unit,
     split_value,
@@ -229,21 +230,50 @@ class Plan:
         if hit is None:
             from solvers.units import dimensions
 
+            typed = {s: used[n].unit if n in used else "" for n, s in self.symbols.items()}
             outcome = dimensions.check(
                 self.text, self.spans, self.sides, self.unknown,
                 {self.symbols[n]: c.dimension for n, c in used.items()},
                 None if self.unit is None else self.unit.dimension,
-                self.unknown.name, given_text, self.names_at)
+                self.unknown.name, given_text, self.names_at, typed)
             remarks: tuple[tuple[str, str, tuple[float, ...]], ...] = ()
             if not outcome.fixed and self.unit is None:
                 remarks = (("unknown_dimension_free", self.unknown.name, ()),)
             elif any(float(e) != int(e) for _n, e in outcome.dimension):
-                # m^(60/37)/s^(20/37): most likely a constant whose unit the text hides
-                remarks = (("unknown_dimension_fractional", self.unknown.name, ()),)
+                # m^(60/37)/s^(20/37): most likely a constant whose unit the text hides,
+                # or a parameter's unit is wrong: name that parameter when one alone
+                # explains it (see _suspect_remarks)
+                remarks = (("unknown_dimension_fractional", self.unknown.name, ()),
+                           *self._suspect_remarks(outcome.dimension, used, typed))
             unit = given_text if given_text is not None else (
                 unit_text(outcome.dimension) or None)
             hit = self.cache[key] = Resolution(unit, remarks)
         return Resolution(hit.unknown_unit, hit.remarks + temperatures)
+
+
+    def _suspect_remarks(self, dimension: Dimension, used: Mapping[str, Converted],
+                         typed: Mapping[Any, str]
+                         ) -> tuple[tuple[str, str, tuple[float, ...]], ...]:
+        """("unit_suspect", parameter, numbers) for the parameters whose unit alone, if
+        wrong, explains the unknown's fractional dimension.
+
+        The unknown's dimension with each exponent rounded to a whole number is taken as
+        what was meant (m^(7/5)*s^(2/5)/kg^(1/5) -> m) and
+        :func:`solvers.units.dimensions.suspects` names the parameters that would make
+        that fit. numbers: the unknown's meant dimension, the parameter's dimension and
+        the one it would need, each as :func:`reading.dimension_numbers` (21 numbers).
+        """
+        from solvers.units import dimensions
+
+        meant = tuple((n, float(round(e))) for n, e in dimension if round(e))
+        found = dimensions.suspects(
+            self.text, self.spans, (self.sides,), (self.unknown,),
+            {self.symbols[n]: c.dimension for n, c in used.items()},
+            {self.unknown: (meant, unit_text(meant))}, self.names_at, typed)
+        return tuple(("unit_suspect", s.name, (*dimension_numbers(meant),
+                                               *dimension_numbers(s.dimension),
+                                               *dimension_numbers(s.needed)))
+                     for s in found)
 
 
 def plan_for(text: str, parser: Any, lhs: Any, rhs: Any, unknown: Any,

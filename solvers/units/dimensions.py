@@ -29,9 +29,9 @@ from typing import Any
 
 import sympy as sp
 
-from solvers.equation.lexer import _fail
+from solvers.equation.lexer import EquationError, _fail
 from solvers.equation.parser import snippet
-from solvers.units.reading import Dimension, dimension_words
+from solvers.units.reading import Dimension, dimension_words, needs_words, quantity_words, unit_size
 
 # Exponents are exact fractions here (a double exponent such as 1.85 is read as 37/20), so
 # Q^1.85 with Q's dimension solved from it gives back exactly Q's dimension.
@@ -244,7 +244,8 @@ def check(text: str, spans: Sequence[tuple[Any, int, int]],
           sides: tuple[Any, Any | None, tuple[int, int, int]], unknown: Any,
           dimensions: Mapping[Any, Dimension], given: Dimension | None,
           unknown_name: str, given_text: str | None,
-          names_at: Mapping[Any, int] | None = None) -> Outcome:
+          names_at: Mapping[Any, int] | None = None,
+          typed: Mapping[Any, str] | None = None) -> Outcome:
     """Check one equation's dimensions and find its unknown's (:func:`check_system` with
     one equation and one unknown).
 
@@ -256,9 +257,13 @@ def check(text: str, spans: Sequence[tuple[Any, int, int]],
     two dimensions and its column; or, when ``given`` does not fit the dimension the
     equation implies, naming the unit and the part that implies it. ``names_at``: symbol
     -> where it is first typed (orders a sum's two dimensions as typed in messages).
+    ``typed``: parameter symbol -> its unit as typed ('' for none), for every parameter:
+    when the unknown unit does not fit, the parameters whose unit alone would make it fit
+    are named (:func:`suspects`).
     """
     chosen = {} if given is None else {unknown: (given, given_text or "")}
-    return check_system(text, spans, (sides,), (unknown,), dimensions, chosen, names_at)[0]
+    return check_system(text, spans, (sides,), (unknown,), dimensions, chosen, names_at,
+                        typed)[0]
 
 
 class _Rows:
@@ -320,14 +325,17 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
                  sides: Sequence[tuple[Any, Any | None, tuple[int, int, int]]],
                  unknowns: Sequence[Any], dimensions: Mapping[Any, Dimension],
                  given: Mapping[Any, tuple[Dimension, str]],
-                 names_at: Mapping[Any, int] | None = None) -> tuple[Outcome, ...]:
+                 names_at: Mapping[Any, int] | None = None,
+                 typed: Mapping[Any, str] | None = None) -> tuple[Outcome, ...]:
     """Check the dimensions of equations that share unknowns, and find each unknown's.
 
     ``spans``: every part of every line (definitions too) as (sympy expression, start,
     end), innermost first; ``sides``: each equation's (lhs, rhs or None, (start, '='
     position, end)); ``unknowns``: their sympy Symbols; ``dimensions``: symbol -> dimension
     of every parameter with a unit (others are dimensionless); ``given``: unknown symbol ->
-    (dimension, unit text) for the unknowns whose unit the user chose.
+    (dimension, unit text) for the unknowns whose unit the user chose; ``typed``: each
+    parameter's symbol -> its unit as typed ('' for none), to name in the message the
+    parameters whose unit alone would make a chosen unit fit (:func:`suspects`).
 
     Every rule involving unknowns is a linear equation in their dimension vectors; the
     rules are taken in the order the parts stand in the text and solved together, so an
@@ -399,10 +407,13 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
                 continue
             fixed_at[j] = where
             if j in given_exact and value != given_exact[j]:
+                blame = "" if typed is None else suspects_words(suspects(
+                    text, parts, sides, unknowns, dimensions, given, names_at, typed),
+                    unknowns[j].name, given_text[j], given_exact[j])
                 raise _fail(text, f"the unknown unit '{given_text[j]}' does not fit "
                             f"'{unknowns[j].name}': `{snippet(text, *where)}` makes it "
                             f"{dimension_words(_plain(value))}, not "
-                            f"{dimension_words(_plain(given_exact[j]))}", where[0])
+                            f"{dimension_words(_plain(given_exact[j]))}{blame}", where[0])
     for j, value in given_exact.items():  # chosen units of the unknowns left open
         if j not in fixed_at and not rows.add(unit_vector(j), value):
             found = fixed_run([*rows.solution()[:j], value, *rows.solution()[j + 1:]])
@@ -420,6 +431,76 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
             _raise(text, found[0], found[1], positions)
     return tuple(Outcome(_plain(values[j]), j in fixed_at or j in settled, fixed_at.get(j))
                  for j in range(n))
+
+
+@dataclass(frozen=True)
+class Suspect:
+    """A parameter whose unit alone, changed, would make the chosen units fit.
+
+    ``name``: the parameter; ``unit``: its unit as typed ('' for none); ``dimension``: what
+    that unit is; ``needed``: the dimension the equation needs it to have.
+    """
+
+    name: str
+    unit: str
+    dimension: Dimension
+    needed: Dimension
+
+
+def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
+             sides: Sequence[tuple[Any, Any | None, tuple[int, int, int]]],
+             unknowns: Sequence[Any], dimensions: Mapping[Any, Dimension],
+             given: Mapping[Any, tuple[Dimension, str]],
+             names_at: Mapping[Any, int] | None, typed: Mapping[Any, str],
+             most: int = 2) -> tuple[Suspect, ...]:
+    """The parameters whose unit is most likely wrong, given the unknowns' chosen units.
+
+    Each parameter in turn is taken as one more unknown of the check (its unit set aside):
+    where the equations then hold with the chosen units, the dimension they fix for it is
+    what its unit should have been. Of those, the ones needing the simplest dimension
+    (whole exponents, least :func:`reading.unit_size`: a length before kg/(m*s^2),
+    Pa*s before kg/m^2) are returned,
+    at most ``most``, in the order typed. A parameter the rules leave open, or that would
+    need fractional powers, is no suspect. () when no single parameter explains it.
+    """
+    found: list[tuple[tuple[float, float, int], int, Suspect]] = []
+    order = names_at or {}
+    for p, unit in typed.items():
+        if p in unknowns:
+            continue
+        rest = {s: d for s, d in dimensions.items() if s != p}
+        try:
+            outcome = check_system(text, spans, sides, (*unknowns, p), rest, given,
+                                   names_at)[-1]
+        except EquationError:
+            continue
+        needed = _exact(outcome.dimension)
+        now = _exact(dimensions.get(p, ()))
+        if not outcome.fixed or needed == now or any(
+                Fraction(e).denominator != 1 for _n, e in needed):
+            continue
+        found.append((unit_size(outcome.dimension), order.get(p, 0),
+                      Suspect(p.name, unit, _plain(now), outcome.dimension)))
+    if not found:
+        return ()
+    least = min(size for size, _at, _s in found)
+    return tuple(s for size, _at, s in sorted(found, key=lambda f: f[1])
+                 if size == least)[:most]
+
+
+def suspects_words(found: Sequence[Suspect], unknown: str, unit: str,
+                   dimension: _Exact) -> str:
+    """'; most likely an input's unit is wrong: 'h' is a pressure (Pa, typed 'psi');
+    with 'D' in 'mm' the equation needs it as a length (m)' ('' for none)."""
+    if not found:
+        return ""
+    said = []
+    for s in found:
+        now = (f"'{s.name}' in '{s.unit}' is {quantity_words(s.dimension)}" if s.unit
+               else f"'{s.name}' has no unit")
+        said.append(f"{now}; with '{unknown}' in '{unit}' the equation needs "
+                    f"'{s.name}' {needs_words(s.needed)}")
+    return "; most likely an input's unit is wrong: " + "; or ".join(said)
 
 
 def _because(text: str, fixed: Sequence[tuple[str, _Exact, tuple[int, int]]]) -> str:

@@ -256,22 +256,42 @@ def _power_text(value: float, pretty: bool) -> str:
     return f"^{value:g}"
 
 
-def unit_text(dimension: Dimension, pretty: bool = False) -> str:
+def unit_text(dimension: Dimension, pretty: bool = False, derived: bool = False) -> str:
     """SI units of a dimension: ``m^3/s``, ``kg/(m*s)``, ``Pa`` ('' when dimensionless).
 
     ``pretty`` writes powers as superscripts and products with '·' (for messages).
+    ``derived`` (text for people; see :func:`_with_derived`) writes a coherent derived
+    unit where it makes the unit simpler: ``W/(m^2*K)`` for kg/(s^3*K), ``J/(kg*K)``,
+    ``Pa*s``. Without it the text is in base units (what files and JSON keep).
     """
     if dimension in _NAMED:
         return _NAMED[dimension]
-    dot = "·" if pretty else "*"
-    up = [(_SYMBOLS.get(n, n.strip("[]")), e) for n, e in dimension if e > 0]
-    down = [(_SYMBOLS.get(n, n.strip("[]")), -e) for n, e in dimension if e < 0]
-    order = {"kg": 0, "m": 1, "s": 2, "K": 3, "mol": 4, "A": 5, "cd": 6}
-    up.sort(key=lambda p: order.get(p[0], 9))
-    down.sort(key=lambda p: order.get(p[0], 9))
+    parts = [(_SYMBOLS.get(n, n.strip("[]")), float(e)) for n, e in dimension]
+    if derived:
+        parts = _with_derived(dimension, parts)
+    return _join_units(parts, pretty)
 
-    def join(parts: list[tuple[str, float]]) -> str:
-        return dot.join(s + _power_text(e, pretty) for s, e in parts)
+
+def unit_size(dimension: Dimension) -> tuple[float, float, int]:
+    """How involved a dimension's SI unit is, for ranking which unit is the likelier one:
+    the sum of |exponents| of its base units, then of its factors with a derived unit
+    counted as one where simpler (kg/(m*s) 3, 2 as Pa*s; kg/m^2 3, 3), then 0 for a named
+    quantity (a length, a pressure) and 1 for any other."""
+    parts = [(_SYMBOLS.get(n, n.strip("[]")), float(e)) for n, e in dimension]
+    key = tuple((n, float(e)) for n, e in dimension)
+    return (sum(abs(e) for _n, e in parts),
+            sum(abs(e) for _n, e in _with_derived(dimension, parts)),
+            0 if key in _QUANTITIES else 1)
+
+
+def _join_units(parts: list[tuple[str, float]], pretty: bool) -> str:
+    dot = "·" if pretty else "*"
+    order = {"kg": 1, "m": 2, "s": 3, "K": 4, "mol": 5, "A": 6, "cd": 7}  # derived first
+    up = sorted(((n, e) for n, e in parts if e > 0), key=lambda p: order.get(p[0], 0))
+    down = sorted(((n, -e) for n, e in parts if e < 0), key=lambda p: order.get(p[0], 0))
+
+    def join(group: list[tuple[str, float]]) -> str:
+        return dot.join(s + _power_text(e, pretty) for s, e in group)
 
     if not up and not down:
         return ""
@@ -282,6 +302,108 @@ def unit_text(dimension: Dimension, pretty: bool = False) -> str:
     return f"{top}/({bottom})" if len(down) > 1 else f"{top}/{bottom}"
 
 
+# Coherent derived SI units tried on text for people, in the order a tie is settled (SI
+# Brochure, 9th ed., Table 4; NIST SP 811, Table 3: W = J/s = m^2*kg*s^-3, J = N*m =
+# m^2*kg*s^-2, N = m*kg*s^-2, Pa = N/m^2 = m^-1*kg*s^-2).
+_DERIVED: tuple[tuple[str, dict[str, float]], ...] = (
+    ("W", {"[length]": 2.0, "[mass]": 1.0, "[time]": -3.0}),
+    ("J", {"[length]": 2.0, "[mass]": 1.0, "[time]": -2.0}),
+    ("N", {"[length]": 1.0, "[mass]": 1.0, "[time]": -2.0}),
+    ("Pa", {"[length]": -1.0, "[mass]": 1.0, "[time]": -2.0}),
+)
+
+
+def _with_derived(dimension: Dimension, parts: list[tuple[str, float]]
+                  ) -> list[tuple[str, float]]:
+    """The factors of a unit with one of W, J, N, Pa (to the power 1 or -1) divided out
+    where that makes the unit simpler, else ``parts`` as they are.
+
+    Simpler (deterministic): a strictly smaller sum of |exponents| over the factors
+    (W/(m^2*K) 4 < kg/(s^3*K) 5; J/(kg*K) 3 < m^2/(s^2*K) 5; Pa*s 2 < kg/(m*s) 3), then
+    fewer factors, then shorter text, then the order of _DERIVED; a unit that does not take up the
+    dimension's mass (all four hold kg) must lower that sum by 2 (J/kg for m^2/s^2, but
+    m/s^2 never N/kg). A unit that gains nothing keeps its base units (kg*m^2 stays: J*s^2
+    is no simpler), and fractional powers are left alone.
+    """
+    if any(float(e) != int(e) for _n, e in dimension):
+        return parts
+
+    def cost(candidate: list[tuple[str, float]]) -> tuple[float, int, int]:
+        return (sum(abs(e) for _n, e in candidate), len(candidate),
+                len(_join_units(candidate, False)))
+
+    best, best_cost = parts, cost(parts)
+    have = dict(dimension)
+    for symbol, unit in _DERIVED:
+        for power in (1.0, -1.0):
+            rest = dict(have)
+            for n, e in unit.items():
+                rest[n] = rest.get(n, 0.0) - power * e
+            candidate = [(symbol, power)] + [(_SYMBOLS.get(n, n.strip("[]")), e)
+                                              for n, e in sorted(rest.items()) if e]
+            c = cost(candidate)
+            # each of W, J, N, Pa holds kg^1: one that takes up the dimension's mass needs
+            # any gain (W/(m^2*K)); one that brings kg in needs a clear gain (J/(kg*K)),
+            # so an acceleration stays m/s^2, never N/kg
+            takes_mass = have.get("[mass]", 0.0) * power > 0
+            if c[0] <= cost(parts)[0] - (1 if takes_mass else 2) and c < best_cost:
+                best, best_cost = candidate, c
+    return best
+
+
+# Names of common quantities (common practice; ISO 80000 names), for messages that say
+# what a parameter is and what the equation needs: "a pressure (Pa)".
+_L, _M, _T, _K = "[length]", "[mass]", "[time]", "[temperature]"
+_QUANTITIES: dict[Dimension, str] = {
+    ((_L, 1.0),): "a length", ((_L, 2.0),): "an area", ((_L, 3.0),): "a volume",
+    ((_M, 1.0),): "a mass", ((_T, 1.0),): "a time", ((_K, 1.0),): "a temperature",
+    ((_L, 1.0), (_T, -1.0)): "a velocity", ((_L, 1.0), (_T, -2.0)): "an acceleration",
+    ((_L, 3.0), (_T, -1.0)): "a volume flow", ((_M, 1.0), (_T, -1.0)): "a mass flow",
+    ((_L, -3.0), (_M, 1.0)): "a density", ((_T, -1.0),): "a frequency",
+    ((_L, 1.0), (_M, 1.0), (_T, -2.0)): "a force",
+    ((_L, -1.0), (_M, 1.0), (_T, -2.0)): "a pressure",
+    ((_L, 2.0), (_M, 1.0), (_T, -2.0)): "an energy",
+    ((_L, 2.0), (_M, 1.0), (_T, -3.0)): "a power",
+    ((_L, -1.0), (_M, 1.0), (_T, -1.0)): "a dynamic viscosity",
+    ((_L, 2.0), (_T, -1.0)): "a kinematic viscosity",
+}
+
+
+def quantity_words(dimension: Dimension) -> str:
+    """'a pressure (Pa)' for a common quantity, else its SI unit ('m^3/kg'), or
+    'dimensionless'."""
+    key = tuple((n, float(e)) for n, e in dimension)
+    name = _QUANTITIES.get(key)
+    unit = unit_text(key, pretty=True, derived=True) or "dimensionless"
+    return f"{name} ({unit})" if name else unit
+
+
+def needs_words(dimension: Dimension) -> str:
+    """'as a length (m)' for a common quantity, else 'in m^3/kg' (or 'dimensionless')."""
+    key = tuple((n, float(e)) for n, e in dimension)
+    if key in _QUANTITIES:
+        return "as " + quantity_words(key)
+    return "in " + unit_text(key, pretty=True, derived=True) if key else "dimensionless"
+
+
+# Dimensions carried in a remark's numbers: the exponents of these, in this order.
+BASE_DIMENSIONS = ("[length]", "[mass]", "[time]", "[temperature]", "[substance]",
+                   "[current]", "[luminosity]")
+
+
+def dimension_numbers(dimension: Dimension) -> tuple[float, ...]:
+    """A dimension as its exponents of :data:`BASE_DIMENSIONS` (a remark's numbers)."""
+    d = dict(dimension)
+    return tuple(float(d.get(n, 0.0)) for n in BASE_DIMENSIONS)
+
+
+def numbers_dimension(numbers: Any) -> Dimension:
+    """:func:`dimension_numbers` read back."""
+    return tuple(sorted((n, float(e)) for n, e in zip(BASE_DIMENSIONS, numbers, strict=True)
+                        if e))
+
+
 def dimension_words(dimension: Dimension) -> str:
     """A dimension for a one-line message: its SI unit, or 'dimensionless'."""
+    # base units: a mismatch reads best in them (v^2/2 is m²/s², not J/kg)
     return unit_text(dimension, pretty=True) or "dimensionless"

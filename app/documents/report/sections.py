@@ -200,10 +200,15 @@ def _equation_section(c: _Context) -> list[Flowable]:
     if not params:
         out.append(Paragraph("The equation has no named parameters.", st["body"]))
     elif any(p.unit for p in params):
-        # as entered, and as the equation used it (SI base units), side by side
+        # as entered, and as the equation used it (SI, a derived unit where simpler:
+        # W/(m^2*K) rather than kg/(s^3*K)), side by side
         def si(p: Any) -> str:
+            from solvers.units.reading import unit_text
+
             got = converted.get(p.name)
-            return "" if got is None else f"{_num(got.si_value)} {got.si_unit}"
+            if got is None:
+                return ""
+            return f"{_num(got.si_value)} {unit_text(got.dimension, derived=True) or got.si_unit}"
 
         data = [["Name", "Value", "Unit", "In SI units", "Note"]] + [
             [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
