@@ -94,34 +94,35 @@ def _multiplicity(
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
-    j = np.arange(11)
-    d = reach[:, None] * 4.0 ** (-j[None, :])
+    rungs = _LADDER.shape[1]
     step = 2 * EPS * np.maximum(np.abs(x), scale)
-    ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
-    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps]
+    xc, d = x[:, None], reach[:, None] * _LADDER
+    pts = np.concatenate([xc + d, xc - d, xc + step[:, None] * _ULP_STEPS]
                          + ([] if extra is None else [extra]), axis=1)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
     if extra is not None:
         extra[...] = vals[:, pts.shape[1] - extra.shape[1]:]
-        vals = vals[:, : pts.shape[1] - extra.shape[1]]
-    near = vals[:, 2 * len(j):]
-    vals = np.abs(vals[:, : 2 * len(j)])
-    fp, fm = vals[:, : len(j)], vals[:, len(j):]
+    near = vals[:, 2 * rungs: 2 * rungs + len(_ULP_STEPS)]
+    vals = np.abs(vals[:, : 2 * rungs])
+    fp, fm = vals[:, :rungs], vals[:, rungs:]
     # (ufunc reductions and plain indexing below: the numpy wrappers nanmax, take_along_axis
     # and the like cost several times more per call, and a scan calls this for every root)
     floor = np.fmax.reduce(np.abs(near), axis=1)  # nanmax, NaN only where all are NaN
-    valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
+    fin = np.isfinite(vals)
+    valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & fin[:, :rungs] & fin[:, rungs:]
     logf = 0.5 * (np.log(fp) + np.log(fm))
     slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
     # the last four usable slopes of each row (smallest distances above the floor)
     rank = np.add.accumulate(pair[:, ::-1], axis=1, dtype=int)[:, ::-1]
     last4 = pair & (rank <= 4)
-    ordered = np.sort(np.where(last4, slopes, np.inf), axis=1)
-    count = np.add.reduce(last4, axis=1, dtype=int)
+    ordered = np.where(last4, slopes, np.inf)
+    ordered.sort(axis=1)
+    total = rank[:, 0]  # the usable pairs of each row, of which the last four are taken
+    count = np.minimum(total, 4)
     rows = np.arange(len(x))
     lo_i = np.maximum(count - 1, 0) // 2
-    hi_i = np.minimum(count // 2, ordered.shape[1] - 1)
+    hi_i = count // 2  # (at most 2: inside the row)
     with np.errstate(all="ignore"):
         est = 0.5 * (ordered[rows, lo_i] + ordered[rows, hi_i])
     est = np.where((count > 0) & np.isfinite(est), est, np.where(odd, 1.0, 2.0))
@@ -132,7 +133,12 @@ def _multiplicity(
     with np.errstate(all="ignore"):
         spread = (np.maximum.reduce(np.where(pair, slopes, -np.inf), axis=1)
                   - np.minimum.reduce(np.where(pair, slopes, np.inf), axis=1))
-    return m, np.where(np.add.reduce(pair, axis=1, dtype=int) >= 2, spread, 0.0), near[:, 3]
+    return m, np.where(total >= 2, spread, 0.0), near[:, 3]
+
+
+# the multiplicity ladder: distances reach * 4^-j (j = 0..10), and steps of about one ulp
+_LADDER = 4.0 ** (-np.arange(11)[None, :])
+_ULP_STEPS = np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:
