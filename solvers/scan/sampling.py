@@ -5,6 +5,7 @@ between samples), with under-resolved windows resampled finer."""
 from __future__ import annotations
 
 import math
+import statistics
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -98,13 +99,17 @@ class _Guarded:
     def fast(self, x: float) -> float:
         """:meth:`scalar` with its conversions skipped where f returns a real float already
         (a compiled equation on a Python float, a numpy function on a number): the scalar
-        refinement's inner loop calls it."""
-        self.poll()
+        refinement's inner loop calls it (:meth:`poll` written out: a call per value costs
+        as much as a compiled equation's arithmetic)."""
+        if self.cancel is not None and time.perf_counter() - self._polled > _POLL:
+            self.check()
         try:
             y = self.f(x)
         except Exception:  # noqa: BLE001 - undefined there; scalar() decides how
             return self.scalar(x)
-        if isinstance(y, float):  # (numpy's float64 too)
+        if y.__class__ is float:
+            return y
+        if isinstance(y, float):  # (numpy's float64)
             return float(y)
         return self.scalar(x)
 
@@ -143,10 +148,32 @@ class _Candidates:
     unresolved: list[tuple[float, float]] = field(default_factory=list)
     samples: int = 0
     typical: list[float] = field(default_factory=list)  # median finite |f| of each chunk
+    grid: np.ndarray | None = None  # f on the base grid when it was one chunk (else None)
     # f' sampled with f (derivative check): sample pairs of one sign of f across which f'
     # changes sign toward zero, not proved root-free; same layout as ``minima``
     extrema: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
     proved: int = 0  # extrema between samples proved root-free by the tangent bound
+
+
+def _median_abs(y: np.ndarray) -> float | None:
+    """The median of the finite |y| (None when there are none), by partition: np.median's
+    overhead is larger."""
+    finite = np.abs(y[np.isfinite(y)])
+    if not finite.size:
+        return None
+    half = finite.size // 2
+    part = np.partition(finite, (half - 1, half) if finite.size % 2 == 0 else half)
+    return float(part[half] if finite.size % 2 else 0.5 * (part[half - 1] + part[half]))
+
+
+def _typical_size(cand: _Candidates) -> float:
+    """f's typical sampled size: the median of the chunks' median finite |f| (0 when f
+    was nowhere finite)."""
+    if cand.grid is not None:
+        median = _median_abs(cand.grid)
+        return 0.0 if median is None else median
+    # (statistics.median: the same middle value, without np.median's overhead on a short list)
+    return float(statistics.median(cand.typical)) if cand.typical else 0.0
 
 
 def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
@@ -398,12 +425,12 @@ def _sample_grid(
         yp = gp(x) if gp is not None else None
         out.samples += stop - start
         if level == 0:
-            finite = np.abs(y[np.isfinite(y)])
-            if finite.size:  # (the median, by partition: np.median's overhead is larger)
-                half = finite.size // 2
-                part = np.partition(finite, (half - 1, half) if finite.size % 2 == 0 else half)
-                out.typical.append(float(part[half] if finite.size % 2
-                                         else 0.5 * (part[half - 1] + part[half])))
+            if n <= CHUNK:
+                out.grid = y  # the only chunk: its median is taken if the noise look asks
+            else:
+                median = _median_abs(y)
+                if median is not None:
+                    out.typical.append(median)
         if start == 0:
             out.first_defined = not bool(np.isnan(y[0]))
         if stop == n:
