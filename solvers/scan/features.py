@@ -110,7 +110,8 @@ def _multiplicity(
     floor = np.fmax.reduce(np.abs(near), axis=1)  # nanmax, NaN only where all are NaN
     fin = np.isfinite(vals)
     valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & fin[:, :rungs] & fin[:, rungs:]
-    logf = 0.5 * (np.log(fp) + np.log(fm))
+    logs = np.log(vals)
+    logf = 0.5 * (logs[:, :rungs] + logs[:, rungs:])
     slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
     # the last four usable slopes of each row (smallest distances above the floor)
@@ -434,13 +435,18 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
     else:
         merged = found
     xs = x.tolist()
-    features = np.sort(np.array(
-        xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
     # distance to the nearest other feature (root, pole, jump, gap end) on either side
-    left = np.searchsorted(features, x, side="left") - 1
-    right = np.searchsorted(features, x, side="right")
-    padded = np.concatenate([[-np.inf], features, [np.inf]])
-    nearest = np.minimum(x - padded[left + 1], padded[right + 1] - x)
+    if len(poles) or len(jumps) or len(gaps):
+        features = np.sort(np.array(
+            xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
+        left = np.searchsorted(features, x, side="left") - 1
+        right = np.searchsorted(features, x, side="right")
+        padded = np.concatenate([[-np.inf], features, [np.inf]])
+        nearest = np.minimum(x - padded[left + 1], padded[right + 1] - x)
+    else:  # (the roots alone: sorted and distinct, their neighbours are the features)
+        spacing = x[1:] - x[:-1]
+        nearest = np.minimum(np.concatenate([[np.inf], spacing]),
+                             np.concatenate([spacing, [np.inf]]))
     reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * zero))
     odd = np.array([r.odd for r in merged])

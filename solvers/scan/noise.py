@@ -185,8 +185,8 @@ def _noise_beside(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
 def _ramp_points(x: np.ndarray, scale: float) -> np.ndarray:
     """Per point x (rows): x and 3 steps of about one ulp either side, then x -/+ 64 ulps:
     what :func:`_ramp_clean` judges."""
-    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
-    step = 2 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    size = np.maximum(np.abs(x), 1e-3 * scale)
+    d0, step = 64 * EPS * size, 2 * EPS * size
     return np.concatenate([x[:, None] + step[:, None] * _ULPS[None, :], (x - d0)[:, None],
                            (x + d0)[:, None]], axis=1)
 

@@ -322,11 +322,16 @@ def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: i
     last_pair = min(hi, n - 1)
     if last_pair <= lo:
         return
-    sl = slice(lo, last_pair)
-    y0, y1, d0, d1 = y[lo:last_pair], y[lo + 1:last_pair + 1], yp[sl], yp[lo + 1:last_pair + 1]
-    s = np.where(np.signbit(y0), -1.0, 1.0)
-    k = ((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
-         & (s * d0 < 0) & (s * d1 > 0)).nonzero()[0]
+    y0, y1, d0, d1 = (y[lo:last_pair], y[lo + 1:last_pair + 1], yp[lo:last_pair],
+                      yp[lo + 1:last_pair + 1])
+    # (one pass per quantity over the samples, sliced for the pairs: where both samples of
+    # a pair have one sign, s f' at the right one is the same whichever sample's s is used)
+    neg = np.signbit(y[lo:last_pair + 1])
+    sgn = np.where(neg, -1.0, 1.0)
+    sd = sgn * yp[lo:last_pair + 1]
+    nz = y[lo:last_pair + 1] != 0
+    k = ((neg[:-1] == neg[1:]) & nz[:-1] & nz[1:] & (sd[:-1] < 0) & (sd[1:] > 0)).nonzero()[0]
+    s = sgn[:-1]
     if k.size == 0:
         return
     x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
