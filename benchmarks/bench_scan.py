@@ -25,9 +25,9 @@ on the grid (65 us, f' alone twice f), the candidate passes over the grid (touch
 pairs, poles, aliasing: about 100 us), the Newton polish and the roots' records (about
 50 us), a multiplicity ladder of 29 evaluations at every root (about 70 us), and the rest
 of finishing the roots, a rounding-noise look and the range ends (about 100 us): each a
-few dozen numpy calls of about 1 us. That work, not f, bounds the ratio (about 2.9x with
+few dozen numpy calls of about 1 us. That work, not f, bounds the ratio (about 2.8x with
 f'); with f alone the Chebyshev proxy adds its fits, the counting that certifies most
-pieces and eigenvalues for the rest (about 4.2x). With many roots (sin(x^2): 287) the scan
+pieces and eigenvalues for the rest (about 4.3x). With many roots (sin(x^2): 287) the scan
 is near the baseline; on the 20 sinusoids the ladder alone evaluates f at 2436 points.
 
 Measured and not kept: a start at the zero of the cubic Hermite interpolant through f and
