@@ -15,16 +15,32 @@ gets wrong on a case with poles and double roots, and the peak memory (tracemall
 a 10^7-sample scan. Run: ``.venv/bin/python benchmarks/bench_scan.py``.
 
 Where the floor is: at 2001 samples and 16 roots the baseline is one f call on the grid
-plus 16 brentq calls in C, each iterate a scalar call of the compiled f (about 0.5 us):
-about 0.2 ms in all. The scan refines few brackets (up to 24) the same way, one by one on
-the scalar f (Anderson-Bjorck in plain Python, about as many evaluations as brentq), and many
-brackets in numpy; what it costs beyond the baseline is what it checks on purpose: f' on
-the grid (the derivative check), candidate passes over the grid (touches, close pairs,
-poles, aliasing), a multiplicity ladder of 29 evaluations at every root, a rounding-noise
-look, the range ends, and its records. On the cantilever that work, not f, bounds the
-ratio (about 3x with f'); with f alone the Chebyshev proxy adds its fits, the counting
-that certifies most pieces and eigenvalues for the rest (about 5x). With many roots
-(sin(x^2): 287) the scan is near the baseline.
+plus 16 brentq calls in C, each iterate a scalar call of the compiled f (about 0.2 us):
+about 0.16 ms in all. The scan refines few brackets (up to 24) the same way, one by one on
+the scalar f (Anderson-Bjorck in plain Python, about 5 evaluations a root, each about
+0.25 us through compile.py's float path: some 55 us for the cantilever's 16 roots, less
+than the baseline's brentq calls), and many brackets in numpy. What it costs beyond the
+baseline is what it checks on purpose. On the cantilever with f' (about 0.45 ms): f and f'
+on the grid (65 us, f' alone twice f), the candidate passes over the grid (touches, close
+pairs, poles, aliasing: about 100 us), the Newton polish and the roots' records (about
+50 us), a multiplicity ladder of 29 evaluations at every root (about 70 us), and the rest
+of finishing the roots, a rounding-noise look and the range ends (about 100 us): each a
+few dozen numpy calls of about 1 us. That work, not f, bounds the ratio (about 2.8x with
+f'); with f alone the Chebyshev proxy adds its fits, the counting that certifies most
+pieces and eigenvalues for the rest (about 4.3x). With many roots (sin(x^2): 287) the scan
+is near the baseline; on the 20 sinusoids the ladder alone evaluates f at 2436 points.
+
+Measured and not kept: a start at the zero of the cubic Hermite interpolant through f and
+f' at a bracket's ends (an error of order h^4), then Newton and secant steps each checked
+for a sign change at -/+ a quarter of the tolerance, handing what does not confirm to
+Anderson-Bjorck. From a sample bracket Anderson-Bjorck needs about 5 evaluations a root,
+the Hermite path at least 3 plus its arithmetic, so on the scalar path it saves next to
+nothing; vectorised, its 25 or so numpy calls a step cost more than the calls of f it saves
+(in one run: the 84 sinusoid brackets 442 us against Anderson-Bjorck's 428 us, the 286 of
+sin(x^2) 244 us against 143 us, the cantilever's 16 at 155 us against 73 us one by one).
+Narrowing every bracket to 1e-4 of its width around the Hermite zero before Anderson-Bjorck
+saved one call of f in six on the sinusoids (413 us against 447 us) and lost on sin(x^2)
+(166 us against 149 us).
 """
 
 from __future__ import annotations

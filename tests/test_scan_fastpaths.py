@@ -9,6 +9,8 @@ values are closed forms (common practice) or scipy's ``brentq`` as named beside 
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pytest
 
@@ -154,3 +156,125 @@ def test_clean_ramps_judged_with_the_ladder_change_nothing(text, a, b, monkeypat
         assert fast.noise_bands and [r.multiplicity for r in fast.roots] == [9]
         band = fast.noise_bands[0]
         assert abs(fast.roots[0].x - 1.0) <= 0.5 * (band[1] - band[0])
+
+
+# ------------------------------------------- the scalar path the refinement calls per value
+
+
+@pytest.mark.parametrize("text, points, reference", [
+    # closed forms through the math module (common practice), and the numpy path of the
+    # same compiled equation, which must agree with the float path value for value
+    ("cos(x)*cosh(x) + 1", [0.0, 1.875, 7.5, 49.9], lambda x: math.cos(x) * math.cosh(x) + 1),
+    ("sqrt(x) - 0.3", [0.09, 4.0, -1.0], lambda x: math.sqrt(x) - 0.3 if x >= 0 else math.nan),
+    ("ln(x)", [1.0, 2.5, 0.0, -2.0],
+     lambda x: math.log(x) if x > 0 else (-math.inf if x == 0 else math.nan)),
+    ("1/(x - 0.5)", [0.25, 0.5, 2.0], lambda x: 1 / (x - 0.5) if x != 0.5 else math.inf),
+    ("exp(x) - 1e6", [13.8, 800.0], lambda x: math.exp(x) - 1e6 if x < 709 else math.inf),
+    ("2 + 0*x", [1.0, -3.0], lambda x: 2.0),  # no x left: the float path's result is an int
+])
+def test_the_compiled_float_path_answers_as_the_numpy_path(text, points, reference) -> None:
+    # the float path (the math module, tried first) falls back on the numpy path wherever it
+    # raises (a domain error) or does not answer a float; each answer is a Python float
+    eq = parse_equation(text)
+    for x in points:
+        value = eq.f(float(x))
+        assert value.__class__ is float, (text, x, value)
+        vector = float(eq.f(np.array([x]))[0])
+        ref = reference(x)
+        for got in (value, vector):
+            if math.isnan(ref):
+                assert math.isnan(got), (text, x, got)
+            else:
+                assert got == pytest.approx(ref, rel=1e-14, abs=1e-300), (text, x, got, ref)
+        # (the math module and numpy's vector loops may differ in the last bit)
+        assert math.isnan(value) == math.isnan(vector)
+
+
+def test_the_guarded_scalar_value_is_total_and_polls_cancel() -> None:
+    from solvers.scan.records import ScanCancelled
+    from solvers.scan.sampling import _Guarded
+
+    def raising(x):
+        if np.any(np.asarray(x) < 0):
+            raise ValueError("undefined")  # an f that raises: undefined there, NaN
+        return np.sqrt(x)
+
+    cases = [
+        (parse_equation("cos(x)*cosh(x) + 1").f, 1.3, math.cos(1.3) * math.cosh(1.3) + 1),
+        (np.sin, 0.5, math.sin(0.5)),  # numpy's float64: handed on as a float
+        (lambda x: 3, 2.0, 3.0),  # an int: converted like any value
+        (lambda x: complex(x, 1.0), 2.0, math.nan),  # complex: undefined
+        (lambda x: complex(x, 0.0), 2.0, 2.0),  # ... unless its imaginary part is 0
+        (raising, -1.0, math.nan),
+        (raising, 4.0, 2.0),
+    ]
+    for f, x, want in cases:
+        g = _Guarded(f, None)
+        got = g.fast(x)
+        assert isinstance(got, float)
+        assert (math.isnan(want) and math.isnan(got)) or got == pytest.approx(want, rel=1e-15)
+        same = g.scalar(x)
+        assert (math.isnan(got) and math.isnan(same)) or got == same
+    asked = []
+    g = _Guarded(np.sin, lambda: asked.append(1) or True)
+    g._polled = -1e9  # long past the polling interval: the next value asks cancel()
+    with pytest.raises(ScanCancelled):
+        g.fast(0.5)
+    assert asked == [1]
+
+
+@pytest.mark.parametrize("k", [0, 2, 6, 7])
+def test_scalar_bracketing_closes_on_brentq_roots(k) -> None:
+    # every converged bracket of the scalar refinement holds the root scipy.optimize.brentq
+    # finds on the same sample bracket (functions with one root per bracket), within
+    # Brent's stop rule, and holds a sign change
+    import scipy.optimize
+
+    from solvers.scan import kernels
+    from solvers.scan.sampling import _Guarded
+
+    eps = float(np.finfo(float).eps)
+    f = _BRACKET_FUNCTIONS[k]
+    g = _Guarded(f, None)
+    rng = np.random.default_rng(100 + k)
+    rows = []
+    for _ in range(30):
+        a = rng.uniform(-1.0, 0.4)
+        xs = np.linspace(a, a + rng.uniform(1e-3, 0.5), 5)
+        ys = f(xs)
+        rows += [(xs[i], xs[i + 1], ys[i], ys[i + 1]) for i in range(4)
+                 if ys[i] != 0 and ys[i + 1] != 0 and (ys[i] < 0) != (ys[i + 1] < 0)]
+    br = np.array(rows[:kernels._FEW], dtype=float).reshape(-1, 4)
+    assert len(br) >= 1
+    done, lo, hi, flo, fhi = kernels._bracket_all(g, br, 0.0)
+    assert done.all()
+    for i, row in enumerate(br):
+        ref = scipy.optimize.brentq(f, row[0], row[1], xtol=1e-300, rtol=4 * eps, maxiter=2000)
+        tol = 4 * eps * max(abs(lo[i]), abs(hi[i]))
+        assert hi[i] - lo[i] <= tol
+        assert lo[i] - 2 * tol <= ref <= hi[i] + 2 * tol, (k, row, lo[i], hi[i], ref)
+        assert (lo[i] == hi[i] and flo[i] == 0) or (flo[i] < 0) != (fhi[i] < 0)
+
+
+def test_the_typical_size_is_the_median_sampled_magnitude(monkeypatch) -> None:
+    # f's typical size (what the noise look compares a noise level with) is taken from the
+    # grid only when asked; reference: numpy.median of the finite |f| on the grid (one
+    # chunk), and the median of numpy's per-chunk medians (several chunks)
+    from solvers.scan import sampling
+
+    f = lambda x: np.where(np.abs(x - 0.3) < 0.01, np.nan, np.sin(7 * x) * np.exp(x))  # noqa: E731
+    for n in (2001, 2000):  # odd and even counts of finite values
+        cand = sampling._Candidates()
+        sampling._sample_grid(sampling._Guarded(f, None), 0.0, 2.0, n, cand, 0, None, (0, 1))
+        assert cand.grid is not None and cand.typical == []
+        y = f(np.linspace(0.0, 2.0, n))
+        assert sampling._typical_size(cand) == pytest.approx(
+            float(np.median(np.abs(y[np.isfinite(y)]))), rel=1e-15)
+    monkeypatch.setattr(sampling, "CHUNK", 500)
+    cand = sampling._Candidates()
+    sampling._sample_grid(sampling._Guarded(f, None), 0.0, 2.0, 2001, cand, 0, None, (0, 1))
+    assert cand.grid is None and len(cand.typical) == 5
+    x = np.linspace(0.0, 2.0, 2001)
+    chunks = [np.abs(f(x[max(s - 1, 0): min(s + 500 + 1, 2001)])) for s in range(0, 2001, 500)]
+    medians = [float(np.median(c[np.isfinite(c)])) for c in chunks]
+    assert sampling._typical_size(cand) == pytest.approx(float(np.median(medians)), rel=1e-15)

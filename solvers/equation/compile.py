@@ -276,6 +276,13 @@ def bound(code: Code, values: tuple[Any, ...],
 
     def evaluate(x: Any) -> Any:
         if x.__class__ is float:
+            if scalar:  # (compiled: the usual case written out, a call less per value)
+                try:
+                    r = scalar(x, *scalars)
+                    if r.__class__ is float:
+                        return r
+                except (ArithmeticError, ValueError, TypeError):
+                    pass  # on_float asks again and answers from the numpy path
             return on_float(x)
         if isinstance(x, (Real, np.number)) and not isinstance(x, np.ndarray):
             return on_float(float(x))

@@ -5,8 +5,8 @@ what a cross-check found unresolved."""
 from __future__ import annotations
 
 import bisect
+import functools
 import math
-import statistics
 import warnings as _warnings
 from collections.abc import Callable
 
@@ -35,7 +35,13 @@ from solvers.scan.kernels import (
 )
 from solvers.scan.noise import _noise_clusters, _sigma
 from solvers.scan.records import EPS, Root, Scan, _Found
-from solvers.scan.sampling import DEFAULT_SAMPLES, _Candidates, _Guarded, _sample_grid
+from solvers.scan.sampling import (
+    DEFAULT_SAMPLES,
+    _Candidates,
+    _Guarded,
+    _sample_grid,
+    _typical_size,
+)
 
 
 def _check_range(a: float, b: float) -> tuple[float, float]:
@@ -272,8 +278,8 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     # rounding noise: sign changes, touches, "poles", "jumps" and zero runs that are one
     # root cluster of a function evaluated with cancellation become that one root
     poles, jumps = _dedupe_points(poles, scale), _dedupe_points(jumps, scale)
-    # (statistics.median: the same middle value, without np.median's overhead on a short list)
-    typical = float(statistics.median(cand.typical)) if cand.typical else 0.0
+    # f's typical size, taken only if the noise look finds a noisy stretch to judge
+    typical = functools.cache(functools.partial(_typical_size, cand))
     unsure = np.zeros(len(roots), dtype=bool)
     unsure[[i for i in flagged if i < len(roots)]] = True
     roots, poles, jumps, runs, bands = _noise_clusters(g, roots, poles, jumps, runs, notes, a,

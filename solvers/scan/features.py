@@ -94,34 +94,36 @@ def _multiplicity(
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
-    j = np.arange(11)
-    d = reach[:, None] * 4.0 ** (-j[None, :])
+    rungs = _LADDER.shape[1]
     step = 2 * EPS * np.maximum(np.abs(x), scale)
-    ulps = x[:, None] + step[:, None] * np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
-    pts = np.concatenate([x[:, None] + d, x[:, None] - d, ulps]
+    xc, d = x[:, None], reach[:, None] * _LADDER
+    pts = np.concatenate([xc + d, xc - d, xc + step[:, None] * _ULP_STEPS]
                          + ([] if extra is None else [extra]), axis=1)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
     if extra is not None:
         extra[...] = vals[:, pts.shape[1] - extra.shape[1]:]
-        vals = vals[:, : pts.shape[1] - extra.shape[1]]
-    near = vals[:, 2 * len(j):]
-    vals = np.abs(vals[:, : 2 * len(j)])
-    fp, fm = vals[:, : len(j)], vals[:, len(j):]
+    near = vals[:, 2 * rungs: 2 * rungs + len(_ULP_STEPS)]
+    vals = np.abs(vals[:, : 2 * rungs])
+    fp, fm = vals[:, :rungs], vals[:, rungs:]
     # (ufunc reductions and plain indexing below: the numpy wrappers nanmax, take_along_axis
     # and the like cost several times more per call, and a scan calls this for every root)
     floor = np.fmax.reduce(np.abs(near), axis=1)  # nanmax, NaN only where all are NaN
-    valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & np.isfinite(fp) & np.isfinite(fm)
-    logf = 0.5 * (np.log(fp) + np.log(fm))
+    fin = np.isfinite(vals)
+    valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & fin[:, :rungs] & fin[:, rungs:]
+    logs = np.log(vals)
+    logf = 0.5 * (logs[:, :rungs] + logs[:, rungs:])
     slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
     pair = valid[:, :-1] & valid[:, 1:]
     # the last four usable slopes of each row (smallest distances above the floor)
     rank = np.add.accumulate(pair[:, ::-1], axis=1, dtype=int)[:, ::-1]
     last4 = pair & (rank <= 4)
-    ordered = np.sort(np.where(last4, slopes, np.inf), axis=1)
-    count = np.add.reduce(last4, axis=1, dtype=int)
+    ordered = np.where(last4, slopes, np.inf)
+    ordered.sort(axis=1)
+    total = rank[:, 0]  # the usable pairs of each row, of which the last four are taken
+    count = np.minimum(total, 4)
     rows = np.arange(len(x))
     lo_i = np.maximum(count - 1, 0) // 2
-    hi_i = np.minimum(count // 2, ordered.shape[1] - 1)
+    hi_i = count // 2  # (at most 2: inside the row)
     with np.errstate(all="ignore"):
         est = 0.5 * (ordered[rows, lo_i] + ordered[rows, hi_i])
     est = np.where((count > 0) & np.isfinite(est), est, np.where(odd, 1.0, 2.0))
@@ -132,7 +134,12 @@ def _multiplicity(
     with np.errstate(all="ignore"):
         spread = (np.maximum.reduce(np.where(pair, slopes, -np.inf), axis=1)
                   - np.minimum.reduce(np.where(pair, slopes, np.inf), axis=1))
-    return m, np.where(np.add.reduce(pair, axis=1, dtype=int) >= 2, spread, 0.0), near[:, 3]
+    return m, np.where(total >= 2, spread, 0.0), near[:, 3]
+
+
+# the multiplicity ladder: distances reach * 4^-j (j = 0..10), and steps of about one ulp
+_LADDER = 4.0 ** (-np.arange(11)[None, :])
+_ULP_STEPS = np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:
@@ -428,13 +435,18 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
     else:
         merged = found
     xs = x.tolist()
-    features = np.sort(np.array(
-        xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
     # distance to the nearest other feature (root, pole, jump, gap end) on either side
-    left = np.searchsorted(features, x, side="left") - 1
-    right = np.searchsorted(features, x, side="right")
-    padded = np.concatenate([[-np.inf], features, [np.inf]])
-    nearest = np.minimum(x - padded[left + 1], padded[right + 1] - x)
+    if len(poles) or len(jumps) or len(gaps):
+        features = np.sort(np.array(
+            xs + list(poles) + list(jumps) + [p for gap in gaps for p in gap], dtype=float))
+        left = np.searchsorted(features, x, side="left") - 1
+        right = np.searchsorted(features, x, side="right")
+        padded = np.concatenate([[-np.inf], features, [np.inf]])
+        nearest = np.minimum(x - padded[left + 1], padded[right + 1] - x)
+    else:  # (the roots alone: sorted and distinct, their neighbours are the features)
+        spacing = x[1:] - x[:-1]
+        nearest = np.minimum(np.concatenate([[np.inf], spacing]),
+                             np.concatenate([spacing, [np.inf]]))
     reach = np.minimum(h, 0.3 * nearest)
     reach = np.maximum(reach, 64 * EPS * np.maximum(np.abs(x), 1e-3 * zero))
     odd = np.array([r.odd for r in merged])

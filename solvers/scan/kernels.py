@@ -189,6 +189,7 @@ def _bracket_each(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200)
     out = np.array(rows, dtype=float).reshape(count, 4)
     fast = g.fast
     rtol = _RTOL
+    isfinite = math.isfinite
     for i, (lo, hi, flo, fhi) in enumerate(rows):
         lo, hi, flo, fhi = float(lo), float(hi), float(flo), float(fhi)
         wlo, whi = flo, fhi
@@ -197,7 +198,8 @@ def _bracket_each(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200)
         converged = False
         for it in range(max_iter + 1):
             width = hi - lo
-            tol = xtol + rtol * max(abs(lo), abs(hi))
+            # max(|lo|, |hi|) for lo < hi, without the builtins' calls
+            tol = xtol + rtol * (hi if lo >= 0 else (-lo if hi <= 0 or -lo > hi else hi))
             if width <= tol:
                 converged = True
                 break
@@ -223,17 +225,20 @@ def _bracket_each(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200)
                 flo = fhi = 0.0
                 converged = True
                 break
-            if not math.isfinite(fx):
+            if not isfinite(fx):
                 break  # NaN/inf inside: a pole or a hole, left for _classify
             on_lo = (fx < 0) == (flo < 0)  # x replaces lo (both nonzero here); hi is held
-            try:
-                m = 1.0 - fx / (flo if on_lo else fhi)
-            except ZeroDivisionError:
-                m = math.nan
             if prev_lo != on_lo:
                 m = 1.0
-            elif not m > 0:
-                m = 0.5
+            else:
+                # Anderson-Bjorck's weight on the end held twice running (the Illinois
+                # factor 1/2 where it is not positive, or 0/0)
+                try:
+                    m = 1.0 - fx / (flo if on_lo else fhi)
+                except ZeroDivisionError:
+                    m = math.nan
+                if not m > 0:
+                    m = 0.5
             if on_lo:
                 lo, flo, wlo, whi = x, fx, fx, whi * m
             else:

@@ -185,8 +185,8 @@ def _noise_beside(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
 def _ramp_points(x: np.ndarray, scale: float) -> np.ndarray:
     """Per point x (rows): x and 3 steps of about one ulp either side, then x -/+ 64 ulps:
     what :func:`_ramp_clean` judges."""
-    d0 = 64 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
-    step = 2 * EPS * np.maximum(np.abs(x), 1e-3 * scale)
+    size = np.maximum(np.abs(x), 1e-3 * scale)
+    d0, step = 64 * EPS * size, 2 * EPS * size
     return np.concatenate([x[:, None] + step[:, None] * _ULPS[None, :], (x - d0)[:, None],
                            (x + d0)[:, None]], axis=1)
 
@@ -318,7 +318,8 @@ def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.nd
 
 def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: list[float],
                     runs: list[list[float]], notes: list[Detail], a: float, b: float,
-                    scale: float, typical: float, h: float, unsure: np.ndarray | None = None,
+                    scale: float, typical: Callable[[], float], h: float,
+                    unsure: np.ndarray | None = None,
                     clean: np.ndarray | None = None):
     """Merge what rounding noise made of one root cluster into one root.
 
@@ -329,7 +330,8 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     root at the middle of the stretch, uncertain by its half-width, whose multiplicity is
     what the slope of log|f| just outside the stretch supports (odd when f changes sign
     across it). A lone clean root is left as it was. Rounding noise is small beside f's
-    typical size (``typical``, the median sampled |f|): a "noise level" above 1e-3 of it is
+    typical size (``typical()``, the median sampled |f|, asked only when a stretch is
+    noisy): a "noise level" above 1e-3 of it is
     f itself varying faster than any step (sin(1/x) near 0), not rounding, and so is a
     stretch that never ends inside [a, b]. ``clean`` (per root, when given) marks the
     roots already judged clean ramps (:func:`_ramp_clean`, evaluated with their
@@ -372,7 +374,8 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
                                                      (kind[il] == 1) | (kind[il] == 2),
                                                      in_noise[il])
         noisy[il] = nz
-    noisy &= (level <= 1e-3 * typical) & ((lo > a) | (hi < b))
+    if noisy.any():
+        noisy &= (level <= 1e-3 * typical()) & ((lo > a) | (hi < b))
     if not noisy.any():
         return roots, poles, jumps, runs, []
     for i in np.flatnonzero(kind == 3):  # a zero run spans at least its own samples

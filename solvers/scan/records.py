@@ -119,9 +119,15 @@ def _new_root(x: float, residual: float, multiplicity: int, confirmed: tuple[str
     the on-demand slot, as :class:`_OnDemandRun` stores it). Root has no ``__post_init__``,
     so the result is equal, field for field, to the one ``__init__`` builds."""
     root = object.__new__(Root)
-    root.__dict__.update(x=x, residual=residual, multiplicity=multiplicity,
-                         confirmed=confirmed, located_by=located_by, bracket=bracket,
-                         _run=run, detail=None)
+    d = root.__dict__  # (item by item: a keyword dictionary for update() costs more)
+    d["x"] = x
+    d["residual"] = residual
+    d["multiplicity"] = multiplicity
+    d["confirmed"] = confirmed
+    d["located_by"] = located_by
+    d["bracket"] = bracket
+    d["_run"] = run
+    d["detail"] = None
     return root
 
 

@@ -5,6 +5,7 @@ between samples), with under-resolved windows resampled finer."""
 from __future__ import annotations
 
 import math
+import statistics
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
@@ -35,6 +36,9 @@ _POLL = 0.02  # seconds of work between two polls of cancel()
 
 
 _FLOAT = np.dtype(float)
+
+
+_SEVEN = np.arange(-3, 4)  # a sample and three either side (the peak test's block)
 
 
 def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
@@ -95,13 +99,17 @@ class _Guarded:
     def fast(self, x: float) -> float:
         """:meth:`scalar` with its conversions skipped where f returns a real float already
         (a compiled equation on a Python float, a numpy function on a number): the scalar
-        refinement's inner loop calls it."""
-        self.poll()
+        refinement's inner loop calls it (:meth:`poll` written out: a call per value costs
+        as much as a compiled equation's arithmetic)."""
+        if self.cancel is not None and time.perf_counter() - self._polled > _POLL:
+            self.check()
         try:
             y = self.f(x)
         except Exception:  # noqa: BLE001 - undefined there; scalar() decides how
             return self.scalar(x)
-        if isinstance(y, float):  # (numpy's float64 too)
+        if y.__class__ is float:
+            return y
+        if isinstance(y, float):  # (numpy's float64)
             return float(y)
         return self.scalar(x)
 
@@ -140,10 +148,32 @@ class _Candidates:
     unresolved: list[tuple[float, float]] = field(default_factory=list)
     samples: int = 0
     typical: list[float] = field(default_factory=list)  # median finite |f| of each chunk
+    grid: np.ndarray | None = None  # f on the base grid when it was one chunk (else None)
     # f' sampled with f (derivative check): sample pairs of one sign of f across which f'
     # changes sign toward zero, not proved root-free; same layout as ``minima``
     extrema: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
     proved: int = 0  # extrema between samples proved root-free by the tangent bound
+
+
+def _median_abs(y: np.ndarray) -> float | None:
+    """The median of the finite |y| (None when there are none), by partition: np.median's
+    overhead is larger."""
+    finite = np.abs(y[np.isfinite(y)])
+    if not finite.size:
+        return None
+    half = finite.size // 2
+    part = np.partition(finite, (half - 1, half) if finite.size % 2 == 0 else half)
+    return float(part[half] if finite.size % 2 else 0.5 * (part[half - 1] + part[half]))
+
+
+def _typical_size(cand: _Candidates) -> float:
+    """f's typical sampled size: the median of the chunks' median finite |f| (0 when f
+    was nowhere finite)."""
+    if cand.grid is not None:
+        median = _median_abs(cand.grid)
+        return 0.0 if median is None else median
+    # (statistics.median: the same middle value, without np.median's overhead on a short list)
+    return float(statistics.median(cand.typical)) if cand.typical else 0.0
 
 
 def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
@@ -219,22 +249,25 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     p = ((da[:-1] >= 0) & (da[1:] <= 0)).nonzero()[0] + 1
     p = p[(p >= max(lo, 1)) & (p < last_pair)]
     if p.size:
-        ap, al, ar = np.abs(y[p]), np.abs(y[p - 1]), np.abs(y[p + 1])
-        sharp = np.isfinite(ap) & np.isfinite(al) & np.isfinite(ar)
-        sp = np.sign(y[p])
+        # the seven samples around each peak in one gather (indices clipped at the ends;
+        # the kink test below ignores what the clipping put there): a few passes over a
+        # small block instead of a pass per neighbour
+        blk = y[np.minimum(np.maximum(p[:, None] + _SEVEN, 0), n - 1)]
+        ab = np.abs(blk)
+        ap, al, ar = ab[:, 3], ab[:, 2], ab[:, 4]
+        sb = np.signbit(blk[:, 2:5])
+        # finite, nonzero, and one sign at the peak and both neighbours
+        mid3 = ab[:, 2:5]
+        sharp = (np.logical_and.reduce(np.isfinite(mid3) & (mid3 > 0), axis=1)
+                 & (sb[:, 0] == sb[:, 1]) & (sb[:, 1] == sb[:, 2]))
         # ... or a kink: the second difference at the peak 8x one of those two samples away
         # (a pole riding on a large offset, 1/(x - c) - 1e6, bumps |f| by far less
         # than 10 %; a smooth peak's second differences vary slowly)
-        d2 = np.abs(y[p - 1] - 2 * y[p] + y[p + 1])
-        far_l = np.where(p >= 3, np.abs(y[np.maximum(p - 3, 0)] - 2 * y[p - 2] + y[p - 1]),
-                         np.inf)
-        ok_r = p + 3 < n
-        far_r = np.where(ok_r, np.abs(y[np.minimum(p + 1, n - 1)]
-                                      - 2 * y[np.minimum(p + 2, n - 1)]
-                                      + y[np.minimum(p + 3, n - 1)]), np.inf)
-        kink = (d2 > 8 * np.minimum(far_l, far_r)) & (d2 > 1e-9 * ap)
-        sharp &= (ap > 0) & ((ap >= 1.1 * np.minimum(al, ar)) | kink)
-        sharp &= (sp == np.sign(y[p - 1])) & (sp == np.sign(y[p + 1]))
+        d2 = np.abs(blk[:, :-2] - 2 * blk[:, 1:-1] + blk[:, 2:])  # centred at -2 .. 2
+        far = np.minimum(np.where(p >= 3, d2[:, 0], np.inf), np.where(p + 3 < n, d2[:, 4],
+                                                                       np.inf))
+        kink = (d2[:, 2] > 8 * far) & (d2[:, 2] > 1e-9 * ap)
+        sharp &= (ap >= 1.1 * np.minimum(al, ar)) | kink
         kk = p[sharp]
         out.peaks.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
                              strict=True))
@@ -289,11 +322,16 @@ def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: i
     last_pair = min(hi, n - 1)
     if last_pair <= lo:
         return
-    sl = slice(lo, last_pair)
-    y0, y1, d0, d1 = y[lo:last_pair], y[lo + 1:last_pair + 1], yp[sl], yp[lo + 1:last_pair + 1]
-    s = np.where(np.signbit(y0), -1.0, 1.0)
-    k = ((np.signbit(y0) == np.signbit(y1)) & (y0 != 0) & (y1 != 0)
-         & (s * d0 < 0) & (s * d1 > 0)).nonzero()[0]
+    y0, y1, d0, d1 = (y[lo:last_pair], y[lo + 1:last_pair + 1], yp[lo:last_pair],
+                      yp[lo + 1:last_pair + 1])
+    # (one pass per quantity over the samples, sliced for the pairs: where both samples of
+    # a pair have one sign, s f' at the right one is the same whichever sample's s is used)
+    neg = np.signbit(y[lo:last_pair + 1])
+    sgn = np.where(neg, -1.0, 1.0)
+    sd = sgn * yp[lo:last_pair + 1]
+    nz = y[lo:last_pair + 1] != 0
+    k = ((neg[:-1] == neg[1:]) & nz[:-1] & nz[1:] & (sd[:-1] < 0) & (sd[1:] > 0)).nonzero()[0]
+    s = sgn[:-1]
     if k.size == 0:
         return
     x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
@@ -392,12 +430,12 @@ def _sample_grid(
         yp = gp(x) if gp is not None else None
         out.samples += stop - start
         if level == 0:
-            finite = np.abs(y[np.isfinite(y)])
-            if finite.size:  # (the median, by partition: np.median's overhead is larger)
-                half = finite.size // 2
-                part = np.partition(finite, (half - 1, half) if finite.size % 2 == 0 else half)
-                out.typical.append(float(part[half] if finite.size % 2
-                                         else 0.5 * (part[half - 1] + part[half])))
+            if n <= CHUNK:
+                out.grid = y  # the only chunk: its median is taken if the noise look asks
+            else:
+                median = _median_abs(y)
+                if median is not None:
+                    out.typical.append(median)
         if start == 0:
             out.first_defined = not bool(np.isnan(y[0]))
         if stop == n:
