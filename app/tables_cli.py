@@ -70,7 +70,9 @@ def add_table_commands(sub: Any) -> None:
                        help="the parameter swept and its values")
     sweep.add_argument("--log", action="store_true", help="space the values logarithmically")
     sweep.add_argument("--within", nargs=2, type=_finite, metavar=("A", "B"),
-                       help="range of the unknown: a root outside it ends the branch")
+                       help="range of the unknown: a root found outside it ends the branch and is "
+                       "not reported (that row has no root; the next row starts again "
+                       "from the last root inside)")
     sweep.set_defaults(run=cmd_sweep)
 
 

@@ -205,6 +205,9 @@ REASON_TEXT: dict[str, str] = {
     "no_sign_change": "f has the same sign at both bracket ends",
     "discontinuity": "the bracket closed on a jump of f, not a root: f changes sign there "
     "without passing through zero",
+    # a sweep's row only (solvers.batch.OUTSIDE_RANGE)
+    "outside_range": "the method converged to a root outside the range given for the "
+    "unknown: not this branch's root, so the row has none",
 }
 
 
@@ -219,6 +222,7 @@ REASON_SHORT: dict[str, str] = {
     "not_finite": "not finite",
     "no_sign_change": "no sign change",
     "discontinuity": "jump, not a root",
+    "outside_range": "root outside the range",
 }
 
 
@@ -703,8 +707,9 @@ BATCH_NOTE_TEXT: dict[str, str] = {
     "branch_jump": "the root jumped off the branch followed so far (a turning point was "
                    "passed, or another root was found): check which root you need here",
     "turning_point": "f' changed sign at the root: the sweep went round a turning point",
-    "left_range": "the root lies outside the given range of the unknown; the next row starts "
-                  "from the last root inside it",
+    "left_range": "the method converged to a root outside the range given for the unknown: "
+                  "it is not taken as this branch's root (the row has none), and the next "
+                  "row starts from the last root inside the range",
     "fixed_bracket": "every row uses the same bracket (a bracketing method needs no "
                      "continuation)",
     "restart_scan": "the sweep was resumed here from a root chosen from a scan at this value",
@@ -715,6 +720,12 @@ def batch_note_text(code: str) -> str:
     return BATCH_NOTE_TEXT.get(code, code.replace("_", " "))
 
 
+# How batch_summary counts the rows of a reason that is not "stopped on" something.
+_SUMMARY_STOPS: dict[str, str] = {
+    "outside_range": "{c} converged outside the range of the unknown (no root taken)",
+}
+
+
 def batch_summary(batch: Any) -> str:
     """One line: how many rows converged, and why the others stopped."""
     total = batch.size
@@ -723,6 +734,6 @@ def batch_summary(batch: Any) -> str:
               if r not in ("x_tolerance", "f_tolerance", "exact_zero")}
     text = f"{total} {'row' if total == 1 else 'rows'}: {good} converged"
     if failed:
-        text += "; " + "; ".join(f"{c} stopped on {r.replace('_', ' ')}"
-                                 for r, c in sorted(failed.items()))
+        text += "; " + "; ".join(_SUMMARY_STOPS.get(r, "{c} stopped on {r}").format(
+            c=c, r=r.replace("_", " ")) for r, c in sorted(failed.items()))
     return text

@@ -1,0 +1,65 @@
+"""Defects a new user found in a trial of the CLI, the sheet and the windows, each pinned.
+
+Outside references are named beside each check (numpy.roots for the swept cubic, Python's
+csv and json modules reading the files back, pypdf reading the sheet). The equations and
+numbers are invented for the tests.
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+
+import numpy as np
+
+from app.cli import main
+from solvers import parse_equation
+from solvers.batch import sweep
+
+CUBIC = "x^3 - x - p"
+
+
+def run(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def data_rows(path):
+    lines = path.read_text(encoding="utf-8").splitlines()
+    return list(csv.DictReader(x for x in lines if not x.lstrip('"').startswith("#")))
+
+
+# ------------------------------------------------ 1. a root outside --within ends the branch
+
+
+def test_a_root_outside_the_range_is_not_reported_as_the_branchs_root(tmp_path, capsys):
+    # numpy.roots: x^3 - x - 1 has its one real root at 1.3247..., outside [-2, 0]
+    real = [r.real for r in np.roots([1, 0, -1, -1]) if abs(r.imag) < 1e-12]
+    assert len(real) == 1 and not -2 <= real[0] <= 0
+    out = tmp_path / "b.csv"
+    code, stdout, err = run(capsys, "sweep", CUBIC, "--vary", "p=-1:1:5", "--x0", "-1.3",
+                            "--within", "-2", "0", "--out", str(out))
+    assert code == 0, err
+    last = data_rows(out)[-1]
+    assert last["root"] == "" and last["converged"] == "False"
+    assert last["reason"] == "outside_range"
+    assert "outside the range" in stdout and " 1.3247" not in stdout.replace("-1.3", "")
+    code, stdout, err = run(capsys, "sweep", CUBIC, "--vary", "p=-1:1:5", "--x0", "-1.3",
+                            "--within", "-2", "0", "--json")
+    row = json.loads(stdout)["rows"][-1]
+    assert row["root"] is None and row["converged"] is False
+    # the rows inside the range are the branch's roots (numpy.roots, the real one < 0)
+    for r in json.loads(stdout)["rows"][:3]:
+        inside = [z.real for z in np.roots([1, 0, -1, -r["p"]])
+                  if abs(z.imag) < 1e-9 and -2 <= z.real <= 0]
+        assert min(abs(r["root"] - z) for z in inside) < 1e-12
+
+
+def test_the_sweep_itself_records_no_root_outside_the_range():
+    equation = parse_equation("x - p", unknown="x", parameters={"p": 1.0})
+    batch = sweep(equation, "p", [1.0, 2.0, 5.0], x0=1.0, bounds=(0.0, 3.0))
+    assert batch.converged.tolist() == [True, True, False]
+    assert np.isnan(batch.root[2]) and batch.reason[2] == "outside_range"
+    # the method's own run did converge, out there (x = p = 5: closed form)
+    assert batch.run(2).converged and batch.run(2).root == 5.0
