@@ -264,6 +264,7 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
 
 
 def cmd_sweep(args: argparse.Namespace) -> int:
+    from app.documents import words
     from solvers.batch import solve_sweep
 
     settings = _settings(args)
@@ -276,13 +277,12 @@ def cmd_sweep(args: argparse.Namespace) -> int:
                            **_core(args, settings))
     except ValueError as exc:
         raise _input_error("--vary", exc) from None
-    cells = [[repr(float(v)) for v in values]]
-    spacing = "logarithmic" if args.log else "linear"
+    cells = [[repr(float(v)) for v in values]]  # exact: the shortest repr that reads back
+    unit = str(getattr(swept, "unit", "") or "")
     return _finish(args, done.equation, done.batch, done.constants, [name], cells, [name],
                    [values],
-                   {"sweep": f"{name} from {values[0]!r} to {values[-1]!r}, {values.size} "
-                             f"values, {spacing} spacing; each row starts from the previous "
-                             "row's root"})
+                   {"sweep": words.sweep_text(name, float(values[0]), float(values[-1]),
+                                              int(values.size), unit=unit, log=args.log)})
 
 
 def worksheet_table(ws: Any) -> Any:

@@ -11,6 +11,7 @@ import csv
 import json
 
 import numpy as np
+import pytest
 
 from app.cli import main
 from solvers import parse_equation
@@ -63,3 +64,37 @@ def test_the_sweep_itself_records_no_root_outside_the_range():
     assert np.isnan(batch.root[2]) and batch.reason[2] == "outside_range"
     # the method's own run did converge, out there (x = p = 5: closed form)
     assert batch.run(2).converged and batch.run(2).root == 5.0
+
+
+# ------------------------------------------------ 4. the sweep described in plain numbers
+
+
+def test_the_sweep_is_described_in_plain_numbers_and_the_cells_stay_exact(tmp_path, capsys):
+    out = tmp_path / "b.csv"
+    code, _, err = run(capsys, "sweep", CUBIC, "--vary", "p=-1:1:41", "--x0", "-1.3",
+                       "--out", str(out))
+    assert code == 0, err
+    meta = [x for x in out.read_text(encoding="utf-8").splitlines()
+            if x.lstrip('"').startswith("#")]
+    sweep_line = next(x for x in meta if "# sweep:" in x)
+    assert "p from -1 to 1 in 41 values" in sweep_line and "np." not in sweep_line
+    # the data cells are the values solved for, each read back to the same double
+    # (numpy.linspace is the reference for the values)
+    cells = [float(r["p"]) for r in data_rows(out)]
+    assert cells == np.linspace(-1.0, 1.0, 41).tolist()
+    code, stdout, _ = run(capsys, "sweep", CUBIC, "--vary", "p=-1:1:41", "--x0", "-1.3",
+                          "--json")
+    assert json.loads(stdout)["sweep"].startswith("p from -1 to 1 in 41 values")
+
+
+# ------------------------------------------------ 7. the caution in every command's help
+
+
+@pytest.mark.parametrize("command", ["solve", "scan", "report", "batch", "sweep"])
+def test_every_commands_help_ends_with_the_caution(capsys, command):
+    from app.documents.words import CAUTION
+
+    with pytest.raises(SystemExit):
+        main([command, "--help"])
+    out = " ".join(capsys.readouterr().out.split())  # argparse wraps the epilog
+    assert CAUTION in out

@@ -102,7 +102,25 @@ def order_text(order: float | None, blank: str = "—") -> str:
 
 
 def figures_word(n: int) -> str:
-    return f"{n} significant figure{'' if n == 1 else 's'}"
+    return counted(n, "significant figure")
+
+
+def counted(n: int, noun: str, plural: str | None = None) -> str:
+    """``n`` and its noun, singular for one: "1 cell", "3 cells", "1 iteration", "2 blocks"
+    (``plural`` where adding an s is wrong: "1 match", "2 matches")."""
+    return f"{n} {noun if n == 1 else plural or noun + 's'}"
+
+
+def sweep_text(name: str, start: float, stop: float, count: int, *, unit: str = "",
+               log: bool = False) -> str:
+    """What a sweep varies, for people: "p from -1 to 1 in 41 values, linear spacing".
+
+    START and STOP as numbers a person types (15 significant figures: no float noise,
+    no type names); the values themselves stay exact in the data cells."""
+    u = f" {unit}" if unit else ""
+    return (f"{name} from {start:.15g}{u} to {stop:.15g}{u} in {counted(count, 'value')}, "
+            f"{'logarithmic' if log else 'linear'} spacing; each row starts from the "
+            "previous row's root")
 
 
 # ----------------------------------------------------------------- methods
