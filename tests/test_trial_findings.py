@@ -98,3 +98,41 @@ def test_every_commands_help_ends_with_the_caution(capsys, command):
         main([command, "--help"])
     out = " ".join(capsys.readouterr().out.split())  # argparse wraps the epilog
     assert CAUTION in out
+
+
+# ------------------------------------------------ 3. a text of several lines on one line
+
+PUMP = "samples/systems/pump-two-parallel-lines-units.json"
+
+
+def meta_line(path, key):
+    return next(x for x in path.read_text(encoding="utf-8").splitlines()
+                if x.lstrip('"').startswith(f"# {key}:"))
+
+
+def test_csv_equation_lines_are_joined_by_semicolons_and_read_back_the_same(tmp_path, capsys):
+    from solvers import parse_equation
+
+    text = "A = pi*D^2/4\nv = Q/A\nv - 3"
+    out = tmp_path / "s.csv"
+    code, _, err = run(capsys, "solve", text, "--unknown", "D", "--param", "Q=0.1", "--x0",
+                       "0.2", "--method", "newton", "--csv", str(out))
+    assert code == 0, err
+    line = meta_line(out, "equation")
+    assert line == "# equation: A = pi*D^2/4; v = Q/A; v - 3"
+    # the one line is the same equation (closed form: D = sqrt(4 Q / (3 pi)))
+    one = parse_equation(line.split(": ", 1)[1], unknown="D", parameters={"Q": 0.1})
+    root = (4 * 0.1 / (3 * np.pi)) ** 0.5
+    assert abs(one.f(root)) < 1e-12
+    system = tmp_path / "sys.csv"
+    code, _, err = run(capsys, "solve", "--worksheet", PUMP, "--csv", str(system))
+    assert code == 0, err
+    assert meta_line(system, "equation").startswith("# equation: Q = Q1 + Q2; A1 = pi*D1^2/4; ")
+
+
+def test_a_line_broken_inside_an_expression_stays_one_line():
+    from solvers.equation import one_line
+
+    # a break after '+' continues the line (solvers.equation.lines): joined by a space
+    assert one_line("x^2 +\n  3*x = 4") == "x^2 + 3*x = 4"
+    assert one_line("a = 2\nb = a*x\n\nb = 1") == "a = 2; b = a*x; b = 1"

@@ -88,11 +88,14 @@ def metadata(
     unknown's unit; ``remarks`` (the equation's) add a ``dimensions`` line when the
     dimensional check was switched off.
     """
+    from solvers.equation.lines import one_line
+
     units = units or {}
     meta = {
         "tool": f"zerotrace {tool_version()}",
         "time": (when or datetime.now(timezone.utc)).isoformat(timespec="seconds"),
-        "equation": equation,
+        # one line: its lines joined by "; " (reads back as the same text), never run together
+        "equation": one_line(equation),
         "unknown": unknown,
         "parameters": "; ".join(_parameter_cell(k, v, units.get(k))
                                 for k, v in parameters.items()) or "(none)",

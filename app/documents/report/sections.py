@@ -81,7 +81,9 @@ def _calc_number(ws: Worksheet) -> str:
 def _title(ws: Worksheet, equation: Any) -> str:
     if ws.title.strip():
         return ws.title.strip()
-    text = " ".join(ws.equation.split())
+    from solvers.equation.lines import one_line
+
+    text = one_line(ws.equation)  # its lines joined by "; ", as the CSV files write it
     text = text if len(text) <= 80 else text[:79] + "…"
     return f"Root of {text} for {equation.unknown}"
 
