@@ -136,3 +136,24 @@ def test_a_line_broken_inside_an_expression_stays_one_line():
     # a break after '+' continues the line (solvers.equation.lines): joined by a space
     assert one_line("x^2 +\n  3*x = 4") == "x^2 + 3*x = 4"
     assert one_line("a = 2\nb = a*x\n\nb = 1") == "a = 2; b = a*x; b = 1"
+
+
+# ------------------------------------------------ 10. a full step's damping is exactly 1
+
+
+@pytest.mark.parametrize("sample", ["pump-two-parallel-lines-units.json",
+                                    "pump-two-parallel-lines.json",
+                                    "pipe-junction-three-branches.json"])
+def test_a_full_step_records_damping_exactly_one(sample):
+    from app.documents.worksheet import load
+    from solvers.systems.pipeline import solve_worksheet
+
+    solution = solve_worksheet(load(f"samples/systems/{sample}"))
+    for run in solution.runs:
+        assert run.converged
+        damping = [s.damping for s in run.steps[1:]]
+        # a fraction of the full step: a step cut short is clearly short, never 1 - 1e-16
+        assert all(d == 1.0 or 0.0 < d <= 1.0 - 1e-6 for d in damping), damping
+        # near a regular root the full (Newton or Broyden) step is accepted (common
+        # practice: the Armijo test with c = 1e-4 holds there), so the tail reads 1
+        assert damping[-2:] == [1.0, 1.0]
