@@ -157,3 +157,28 @@ def test_a_full_step_records_damping_exactly_one(sample):
         # near a regular root the full (Newton or Broyden) step is accepted (common
         # practice: the Armijo test with c = 1e-4 holds there), so the tail reads 1
         assert damping[-2:] == [1.0, 1.0]
+
+
+# ------------------------------------------------ 11. iterate axes tick whole numbers
+
+
+def test_convergence_plots_tick_whole_iterates_only():
+    from matplotlib.figure import Figure
+
+    from app.documents.figures import draw_convergence
+    from app.documents.system_figures import draw_system_convergence
+    from app.documents.worksheet import load
+    from solvers import run_method
+    from solvers.systems.pipeline import solve_worksheet
+
+    # x^2 - 4 from 1.9: Newton is done in a few iterates, where a float locator put
+    # ticks at 0.5, 1.5, ...
+    short = run_method("newton", lambda x: x * x - 4.0, fprime=lambda x: 2.0 * x, x0=1.9)
+    system = solve_worksheet(load("samples/systems/pump-two-parallel-lines.json"))
+    for draw, runs in ((draw_convergence, [short]), (draw_system_convergence, system.runs)):
+        fig = Figure()
+        ax = fig.add_subplot()
+        draw(ax, runs)
+        lo, hi = ax.get_xlim()
+        ticks = [t for t in ax.get_xticks() if lo <= t <= hi]
+        assert len(ticks) >= 2 and all(float(t).is_integer() for t in ticks), ticks
