@@ -182,3 +182,17 @@ def test_convergence_plots_tick_whole_iterates_only():
         lo, hi = ax.get_xlim()
         ticks = [t for t in ax.get_xticks() if lo <= t <= hi]
         assert len(ticks) >= 2 and all(float(t).is_integer() for t in ticks), ticks
+
+
+# ------------------------------------------------ 14. the JSON message names the unknown
+
+
+def test_json_message_names_the_unknown_and_its_unit(capsys):
+    code, out, err = run(capsys, "solve", "--worksheet",
+                         "samples/cooling-line-bore-us-customary.json", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["unknown"] == "D" and doc["unknown_unit"] == "mm"
+    for r in doc["runs"]:
+        if r["converged"]:
+            assert f"converged to D = {r['root']!r} mm" in r["message"]

@@ -65,10 +65,9 @@ def _iteration_table(run: Run, st: dict, unknown: str = "x",
                      unit: str | None = None) -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
-        return [
-            Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(words.run_message(run))}",
-                      st["body"])
-        ]
+        message = words.run_message(run, unknown, unit)
+        return [Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(message)}",
+                          st["body"])]
     headings = words.iterate_headings(unknown, "sheet", unit)
     columns = [
         (key, headings[key])
