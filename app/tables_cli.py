@@ -157,10 +157,13 @@ def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray]) -> None
             rows.append(["..."] + [""] * (len(names) + 2))
             continue
         rows.append([str(i + 1), *(words.exact(float(c[i])) for c in flat),
-                     words.exact(float(batch.root.flat[i])) if batch.converged.flat[i] else "-",
+                     (words.exact(float(batch.root.flat[i])) if batch.converged.flat[i]
+                      else words.NOT_A_ROOT),
                      str(batch.reason.flat[i])])
     print()
     print(terminal._table(["row", *names, "root", "reason"], rows))
+    # the reason column holds codes (scripts read them): what each one shown means
+    print("reasons: " + words.reason_legend(r[-1] for r in rows if r[-1]))
 
 
 def _out_checked(args: argparse.Namespace) -> None:

@@ -51,13 +51,13 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
         rows.append(
             [
                 words.method_title(r.method),
-                _g(r.root, figures),
+                words.root_cell(r, lambda v: _g(v, figures)),
                 "yes" if r.converged else "NO",
                 r.reason,
                 str(r.iterations),
                 str(r.evaluations),
                 words.order_text(r.order, "-"),
-                r.method,
+                words.method_flag(r.method),
             ]
         )
     header = ["method", _labelled("root", eq.unknown_unit), "converged", "reason", "iterations",
@@ -66,6 +66,11 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     print()
     for r in solution.runs:
         print(f"  {words.stop_line(r)}")
+    for r in solution.runs:  # the root column says "—" for these: where they stopped
+        if not r.converged:
+            line = words.last_iterate_line(r, eq.unknown, eq.unknown_unit,
+                                           lambda v: _g(v, figures))
+            print(f"  {line}")
     print(f"\n{words.agreement_text(solution)}")
     if eq.definitions:
         for r in solution.runs:

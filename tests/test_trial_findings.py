@@ -196,3 +196,60 @@ def test_json_message_names_the_unknown_and_its_unit(capsys):
     for r in doc["runs"]:
         if r["converged"]:
             assert f"converged to D = {r['root']!r} mm" in r["message"]
+
+
+# ------------------------------------------------ 5, 6. words for codes; no root for a failure
+
+
+def table_rows(out: str, first: str) -> list[list[str]]:
+    """The rows of the terminal table whose heading starts with ``first``."""
+    lines = out.splitlines()
+    start = next(i for i, x in enumerate(lines) if x.startswith(first))
+    rows = []
+    for line in lines[start + 2:]:
+        if not line.strip():
+            break
+        rows.append(line.split())
+    return rows
+
+
+def test_a_run_that_did_not_converge_shows_no_root_and_its_last_iterate_labelled(capsys):
+    # x^2 - 4 has the same sign at 3 and 5 (5 and 21): no bracket, no root there
+    code, out, err = run(capsys, "solve", "x^2 - 4", "--bracket", "3", "5",
+                         "--method", "brent", "--method", "false-position")
+    assert code == 0, err
+    rows = table_rows(out, "method")
+    assert [r[1] for r in rows[:1]] == ["—"] and rows[1][2] == "—"
+    assert rows[1][-1] == "false-position"  # the flag's spelling, not false_position
+    assert "Brent did not converge: last iterate x = 3.0 (not a root)." in out
+    # the JSON contract keeps the number with converged false (README: --json)
+    code, out, err = run(capsys, "solve", "x^2 - 4", "--bracket", "3", "5", "--method",
+                         "brent", "--json")
+    doc = json.loads(out)["runs"][0]
+    assert doc["converged"] is False and doc["root"] == 3.0
+
+
+def test_batch_and_sweep_tables_say_what_each_reason_code_means(capsys):
+    from app.documents.words import reason_text
+
+    code, out, err = run(capsys, "sweep", CUBIC, "--vary", "p=-1:1:5", "--x0", "-1.3",
+                         "--within", "-2", "0")
+    assert code == 0, err
+    legend = next(x for x in out.splitlines() if x.startswith("reasons: "))
+    for shown in ("x_tolerance", "exact_zero", "max_iterations", "outside_range"):
+        assert f"{shown}: {reason_text(shown)}" in legend
+    assert "f_tolerance" not in legend  # only the codes that occur
+
+
+def test_the_sheet_says_stop_reasons_in_words(tmp_path, capsys):
+    from pypdf import PdfReader
+
+    from app.documents.words import reason_short
+
+    pdf = tmp_path / "one.pdf"
+    code, _, err = run(capsys, "report", "samples/cooling-water-friction.json", "--pdf",
+                       str(pdf))
+    assert code == 0, err
+    text = " ".join(" ".join(p.extract_text() for p in PdfReader(pdf).pages).split())
+    assert "stop: x_tolerance" not in text and "stop: exact_zero" not in text
+    assert f"stop: {reason_short('exact_zero')}" in text

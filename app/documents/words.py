@@ -165,6 +165,11 @@ def method_summary(name: str) -> str:
     return METHOD_SUMMARIES.get(name, "")
 
 
+def method_flag(name: str) -> str:
+    """The method as the ``--method`` flag spells it: ``false-position``."""
+    return name.replace("_", "-")
+
+
 def method_names(methods: Iterable[str]) -> str:
     """In-sentence labels joined: "Newton–Raphson, secant and false position"."""
     labels = [method_label(m) for m in methods]
@@ -331,6 +336,34 @@ def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
                 f"last {value}")
     note = detail_text(getattr(run, "note", None))
     return text + (f"; {note}" if note else "")
+
+
+NOT_A_ROOT = "—"  # the root cell of a run that did not converge: it has no root
+
+
+def root_cell(run: Any, show: Callable[[Any], str]) -> str:
+    """A run's root in a results table: the number when it converged, else "—" (its last
+    iterate is not a root; :func:`last_iterate_line` says where it stopped)."""
+    return show(run.root) if run.converged else NOT_A_ROOT
+
+
+def last_iterate_line(run: Any, unknown: str = "x", unit: str | None = None,
+                      show: Callable[[Any], str] | None = None) -> str:
+    """Where a run that did not converge stopped: "Brent did not converge: last iterate
+    x = 3.0 (not a root)." ('' for a converged run)."""
+    if run.converged:
+        return ""
+    value = (show or exact)(run.root) + (f" {unit}" if unit else "")
+    return (f"{method_title(run.method)} did not converge: last iterate "
+            f"{unknown or 'x'} = {value} (not a root).")
+
+
+def reason_legend(codes: Iterable[str], system: bool = False) -> str:
+    """What each stop-reason code in a table means, one after another, in the order given
+    (each once): "x_tolerance: step below tolerance ...; max_iterations: ..."."""
+    text = system_reason_text if system else reason_text
+    seen = dict.fromkeys(str(c) for c in codes)
+    return "; ".join(f"{c}: {text(c)}" for c in seen)
 
 
 def stop_line(run: Any) -> str:
@@ -685,8 +718,9 @@ def system_run_message(run: Any) -> str:
     """A system run in one sentence: converged or not, why, and at what cost."""
     title = system_method_title(run.method)
     verdict = "converged" if run.converged else "did not converge"
-    return (f"{title} {verdict} after {run.iterations} iterations and {run.evaluations} "
-            f"evaluations of F and J. Stop reason {run.reason}: "
+    # the reason in words only: the code is for scripts (JSON, CSV, a table's column)
+    return (f"{title} {verdict} after {counted(run.iterations, 'iteration')} and "
+            f"{counted(run.evaluations, 'evaluation')} of F and J: "
             f"{system_reason_text(run.reason)}.")
 
 

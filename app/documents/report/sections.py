@@ -293,9 +293,10 @@ def _results_section(c: _Context) -> list[Flowable]:
         order = r.order
         data.append([
             Paragraph(escape(_label(r.method)), st["cell"]),
-            _num(r.root),
+            words.root_cell(r, _num),  # "—" where it did not converge (box below)
             "yes" if r.converged else "NO",
-            r.reason,
+            # words, not the code (the code stands in the line under the table)
+            Paragraph(escape(words.reason_short(r.reason)), st["cell"]),
             str(r.iterations),
             str(r.evaluations),
             words.order_text(order),
@@ -305,8 +306,6 @@ def _results_section(c: _Context) -> list[Flowable]:
     style = _grid_style()
     style += [
         ("FONTNAME", (1, 1), (1, -1), "ZT-Mono"),
-        ("FONTNAME", (3, 1), (3, -1), "ZT-Mono"),
-        ("FONTSIZE", (3, 1), (3, -1), 7.4),
         ("ALIGN", (4, 0), (-1, -1), "RIGHT"),
     ]
     for i, r in enumerate(runs, start=1):

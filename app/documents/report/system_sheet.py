@@ -215,9 +215,11 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
     head = ["Method", "Conv.", "Stop reason", "Iter.", "Evals", "||F|| at the end"]
     data: list[list[Any]] = [head] + [
         [Paragraph(escape(words.system_method_title(r.method)), st["cell"]),
-         "yes" if r.converged else "NO", r.reason, str(r.iterations), str(r.evaluations),
+         "yes" if r.converged else "NO",
+         Paragraph(escape(words.reason_short(r.reason)), st["cell"]),  # words, not the code
+         str(r.iterations), str(r.evaluations),
          words.number(r.residual_norm, 4)] for r in runs]
-    style = _grid_style() + [("FONTNAME", (2, 1), (-1, -1), "ZT-Mono"),
+    style = _grid_style() + [("FONTNAME", (3, 1), (-1, -1), "ZT-Mono"),
                              ("ALIGN", (3, 0), (-1, -1), "RIGHT")]
     for i, r in enumerate(runs, start=1):
         if not r.converged:
@@ -301,8 +303,10 @@ def _iteration_table(run: Any, system: Any, st: dict) -> list[Flowable]:
              words.number(s.residual_norm, 6), words.number(s.step_norm, 6),
              words.number(s.damping, 4) + (" LM" if s.regularised else "")] for s in steps]
     widths, size = _fitted_widths([header, *body], ["ZT-Mono"] * len(header), TEXT_WIDTH, 7.8)
-    banner = (f"{words.system_method_title(run.method)} — {len(run.steps)} points recorded, "
-              f"{run.iterations} iterations, stop: {run.reason}"
+    banner = (f"{words.system_method_title(run.method)} — "
+              f"{words.counted(len(run.steps), 'point')} recorded, "
+              f"{words.counted(run.iterations, 'iteration')}, stop: "
+              f"{words.reason_short(run.reason)}"
               + (f"; {omitted} middle iterates left out here (the CSV holds every one)"
                  if omitted else ""))
     style = _grid_style(header_rows=2) + [
