@@ -203,6 +203,7 @@ def _input_error(where: str, exc: ValueError) -> InputError | ValueError:
 
 
 def cmd_batch(args: argparse.Namespace) -> int:
+    from app.documents import words
     from app.documents.tables import read_table
     from solvers.batch import solve_table
 
@@ -227,7 +228,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
     return _finish(args, done.equation, done.batch, done.constants,
                    [c.header for c in table.columns], list(table.cells), names,
                    [table.values[n] for n in names],
-                   {"table": f"{table.path} ({table.rows} rows)",
+                   {"table": f"{table.path} ({words.counted(table.rows, 'row')})",
                     "columns": "; ".join(f"{c.header} ({roles[c.name]})"
                                          for c in table.columns)})
 

@@ -108,8 +108,8 @@ def print_scan(scan, unknown: str, unit: str | None = None) -> None:
 
     # The range as typed: 15 figures show any typed decimal whole, without a ".0".
     shown = f"{unknown} [{unit}]" if unit else unknown
-    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {shown}: {len(scan.roots)} "
-          f"root(s), {scan.samples} samples")
+    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {shown}: "
+          f"{words.counted(len(scan.roots), 'root')}, {words.counted(scan.samples, 'sample')}")
     if scan.roots:
         rows = [
             [

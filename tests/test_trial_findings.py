@@ -253,3 +253,20 @@ def test_the_sheet_says_stop_reasons_in_words(tmp_path, capsys):
     text = " ".join(" ".join(p.extract_text() for p in PdfReader(pdf).pages).split())
     assert "stop: x_tolerance" not in text and "stop: exact_zero" not in text
     assert f"stop: {reason_short('exact_zero')}" in text
+
+
+# ------------------------------------------------ 12. one cell, one iteration
+
+
+def test_counts_of_one_are_singular(tmp_path, capsys):
+    table = tmp_path / "t.csv"
+    table.write_text("a,b\n1\n", encoding="utf-8")
+    code, _, err = run(capsys, "batch", "x - a*b", "--table", str(table), "--x0", "1")
+    assert code == 2 and "has 1 cell;" in err and "1 cells" not in err
+    # x - 2 = 0 from x0 = 1: Newton lands on 2 in one step, then f(2) = 0 exactly
+    code, out, err = run(capsys, "solve", "x - 2", "--x0", "1", "--method", "newton",
+                         "--json")
+    message = json.loads(out)["runs"][0]["message"]
+    assert "1 iteration," in message and "1 iterations" not in message
+    code, out, err = run(capsys, "scan", "x - 2", "--from", "0", "--to", "5")
+    assert ": 1 root," in out and "root(s)" not in out

@@ -30,7 +30,13 @@ import numpy as np
 
 from app.documents.export import _emit, _json_float, _write_metadata, number
 from app.documents.files import read_limited
-from app.documents.words import CAUTION, batch_note_text, batch_summary, reason_text
+from app.documents.words import (
+    CAUTION,
+    batch_note_text,
+    batch_summary,
+    counted,
+    reason_text,
+)
 
 MAX_TABLE_BYTES = 256 * 1024 * 1024
 MAX_TABLE_ROWS = 10_000_000
@@ -125,7 +131,7 @@ def parse_table(text: str, shown: str = "pasted table") -> Table:
     for i, record in enumerate(rows):
         if len(record) != len(columns):
             raise TableError(f"{shown}: row {i + 1} (line {lines[i]}) has "
-                             f"{len(record)} cells; the header has {len(columns)}")
+                             f"{counted(len(record), 'cell')}; the header has {len(columns)}")
     cells = tuple(tuple(c.strip() for c in column) for column in zip(*rows, strict=True))
     values = {col.name: _numbers(shown, col, column, lines)
               for col, column in zip(columns, cells, strict=True)}

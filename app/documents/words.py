@@ -304,8 +304,8 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                        f"[{exact(v[2])}, {exact(v[3])}] (width {number(v[4], 3)}) without "
                        f"approaching 0, and |f| stays that size {number(v[5], 3)} further "
                        "out: a jump of f there, not a root"),
-    "midpoint_steps": lambda v: (f"{v[0]} midpoint step(s) where rounding put the chord's "
-                                 "zero on a bracket end"),
+    "midpoint_steps": lambda v: (f"{counted(int(v[0]), 'midpoint step')} where rounding put "
+                                 "the chord's zero on a bracket end"),
     "no_bracket": lambda v: "no bracket: give one, or a scan range, or an x0 near a sign change",
 }
 
@@ -327,7 +327,8 @@ def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
     """The run in one line: method, verdict, counts, what stopped it, and any note; the
     root named as the unknown (``D = 144.9 mm``)."""
     title = method_title(run.method)
-    counts = f"{run.iterations} iterations, {run.evaluations} evaluations"
+    counts = (f"{counted(run.iterations, 'iteration')}, "
+              f"{counted(run.evaluations, 'evaluation')}")
     value = f"{unknown or 'x'} = {exact(run.root)}" + (f" {unit}" if unit else "")
     if run.converged:
         text = f"{title} converged to {value} ({counts}): {run_account(run)}"
@@ -518,18 +519,19 @@ SCAN_DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                                    f"[{_g6(v[0])}, {_g6(v[1])}]; roots there may be missed: "
                                    "raise samples"),
     "proxy_rough": lambda v: (f"cross-check: f is not smooth enough for the Chebyshev proxy on "
-                              f"{v[0]} interval(s) in [{_g6(v[1])}, {_g6(v[2])}] that no pole, "
-                              "jump or gap explains (rough f, or oscillation faster than the "
-                              "sampling): roots there rest on sampling alone"),
-    "rescanned": lambda v: (f"{_rescan_why(v[0])} on {v[1]} interval(s) in [{_g6(v[2])}, "
-                            f"{_g6(v[3])}]; re-scanned there with 64x the samples"),
-    "rescan_budget": lambda v: (f"{_rescan_why(v[0])} on {v[1]} interval(s) in [{_g6(v[2])}, "
-                                f"{_g6(v[3])}], beyond the re-scan budget: roots there rest on "
-                                "sampling alone; raise samples"),
+                              f"{counted(int(v[0]), 'interval')} in [{_g6(v[1])}, "
+                              f"{_g6(v[2])}] that no pole, jump or gap explains (rough f, or "
+                              "oscillation faster than the sampling): roots there rest on "
+                              "sampling alone"),
+    "rescanned": lambda v: (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
+                            f"[{_g6(v[2])}, {_g6(v[3])}]; re-scanned there with 64x the samples"),
+    "rescan_budget": lambda v: (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
+                                f"[{_g6(v[2])}, {_g6(v[3])}], beyond the re-scan budget: roots "
+                                "there rest on sampling alone; raise samples"),
     "proxy_unconfirmed": lambda v: (f"cross-check: the Chebyshev proxy has a zero near x = "
                                     f"{_g12(v[0])} (|f| = {_g3(v[1])}) that the scan could not "
                                     "confirm"),
-    "proxy_only_roots": lambda v: (f"cross-check: {len(v)} root(s) located only by the "
+    "proxy_only_roots": lambda v: (f"cross-check: {counted(len(v), 'root')} located only by the "
                                    "Chebyshev proxy and then confirmed: "
                                    + ", ".join(_g12(x) for x in v)),
     "sampling_only_root": lambda v: (f"cross-check: root at x = {_g12(v[0])} found by sampling, "
