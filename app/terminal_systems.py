@@ -64,7 +64,7 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
     if steps:
         for r in runs:
             print(f"\n{words.system_method_title(r.method)}: every iterate")
-            body = [[str(s.k), str(s.block), *(_g(v) for v in s.x.values()),
+            body = [[str(s.k), str(s.block + 1), *(_g(v) for v in s.x.values()),
                      _g(s.residual_norm, 6), _g(s.step_norm, 6), _g(s.damping, 4),
                      "LM" if s.regularised else ""] for s in r.steps]
             print(_table(["k", "block", *(_labelled(n, units.get(n)) for n in system.unknowns),

@@ -270,3 +270,22 @@ def test_counts_of_one_are_singular(tmp_path, capsys):
     assert "1 iteration," in message and "1 iterations" not in message
     code, out, err = run(capsys, "scan", "x - 2", "--from", "0", "--to", "5")
     assert ": 1 root," in out and "root(s)" not in out
+
+
+# ------------------------------------------------ 9. blocks counted from 1 everywhere
+
+
+def test_blocks_are_counted_from_one_in_the_terminal_csv_and_json(tmp_path, capsys):
+    # x^2 = 4 alone fixes x (block 1), then x*y = 6 gives y (block 2): closed form x = 2, y = 3
+    argv = ["solve", "x^2 = 4; x*y = 6", "--unknown", "x", "--unknown", "y", "--x0", "x=1",
+            "--x0", "y=1", "--method", "newton"]
+    out_csv = tmp_path / "blk.csv"
+    code, out, err = run(capsys, *argv, "--steps", "--csv", str(out_csv))
+    assert code == 0, err
+    steps = table_rows(out, "k  block")
+    assert {r[1] for r in steps} == {"1", "2"}
+    assert {r["block"] for r in data_rows(out_csv)} == {"1", "2"}
+    code, out, err = run(capsys, *argv, "--json")
+    doc = json.loads(out)["runs"][0]
+    assert {s["block"] for s in doc["steps"]} == {1, 2}
+    assert doc["root"] == {"x": 2.0, "y": 3.0}
