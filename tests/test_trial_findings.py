@@ -289,3 +289,44 @@ def test_blocks_are_counted_from_one_in_the_terminal_csv_and_json(tmp_path, caps
     doc = json.loads(out)["runs"][0]
     assert {s["block"] for s in doc["steps"]} == {1, 2}
     assert doc["root"] == {"x": 2.0, "y": 3.0}
+
+
+# ------------------------------------------------ 13. hints in refusals; ';' tables read
+
+COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
+
+
+def test_refusals_hint_at_a_decimal_comma_and_a_misspelt_function(capsys):
+    code, _, err = run(capsys, "solve", "x - a", "--param", "a=2,5", "--x0", "1")
+    assert code == 2 and "(a decimal comma? write 2.5)" in err
+    code, _, err = run(capsys, "solve", "sqr(x) - 2", "--x0", "1")
+    assert code == 2 and "unknown function 'sqr' (did you mean 'sqrt'?" in err
+    # a comma that is no decimal comma gets no such hint
+    code, _, err = run(capsys, "solve", "x - 2, 5", "--x0", "1")
+    assert code == 2 and "decimal comma" not in err
+
+
+def test_a_semicolon_table_is_read_as_a_comma_table(tmp_path, capsys):
+    import scipy.optimize
+
+    def colebrook(lam, Re, rr):
+        return 1 / lam ** 0.5 + 2 * np.log10(rr / 3.7 + 2.51 / (Re * lam ** 0.5))
+
+    semi = tmp_path / "semi.csv"
+    semi.write_text("Re;rr\n1.2e5;4.5e-4\n2.4e6;3e-5\n", encoding="utf-8")
+    out = tmp_path / "out.csv"
+    code, _, err = run(capsys, "batch", COLEBROOK, "--table", str(semi), "--x0", "0.02",
+                       "--out", str(out))
+    assert code == 0, err
+    for row in data_rows(out):  # scipy.optimize.brentq row by row
+        ref = scipy.optimize.brentq(colebrook, 1e-3, 0.2, args=(float(row["Re"]),
+                                                                float(row["rr"])), xtol=1e-15)
+        assert abs(float(row["root"]) - ref) < 1e-13
+    decimal = tmp_path / "decimal.csv"
+    decimal.write_text("Re;rr\n1.2e5;0,00045\n", encoding="utf-8")
+    code, _, err = run(capsys, "batch", COLEBROOK, "--table", str(decimal), "--x0", "0.02")
+    assert code == 2 and "(a decimal comma? write 0.00045)" in err
+    bars = tmp_path / "bars.csv"
+    bars.write_text("Re|rr\n1.2e5|4.5e-4\n", encoding="utf-8")
+    code, _, err = run(capsys, "batch", COLEBROOK, "--table", str(bars), "--x0", "0.02")
+    assert code == 2 and "separate the columns by commas" in err
