@@ -75,7 +75,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     if eq.definitions:
         for r in solution.runs:
             values = eq.definition_values(r.root)
-            where = "the root" if r.converged else "the last iterate (not a root)"
+            where = "the root" if r.converged else f"the {words.LAST_ITERATE}"
             print(f"{words.method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
                                            eq.definition_units()))

@@ -49,7 +49,7 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
                   for i, text in enumerate(system.equations)]))
     for r in runs:
         values = system.definition_values([r.root[n] for n in system.unknowns])
-        where = "the root" if r.converged else "the last iterate (not a root)"
+        where = "the root" if r.converged else f"the {words.LAST_ITERATE}"
         if values:
             print(f"\n{words.system_method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES,

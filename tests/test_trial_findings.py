@@ -330,3 +330,69 @@ def test_a_semicolon_table_is_read_as_a_comma_table(tmp_path, capsys):
     bars.write_text("Re|rr\n1.2e5|4.5e-4\n", encoding="utf-8")
     code, _, err = run(capsys, "batch", COLEBROOK, "--table", str(bars), "--x0", "0.02")
     assert code == 2 and "separate the columns by commas" in err
+
+
+# ------------------------------------------------ 2, 15. the sheet's tables: headers over
+# their columns; a failed run's values labelled as its last iterate
+
+
+def placed_text(pdf, page_number):
+    """(text, x start, x end, y) of every text run on a page, the end from the font's
+    metrics (reportlab's, the fonts the sheet registered)."""
+    from pypdf import PdfReader
+    from reportlab.pdfbase import pdfmetrics
+
+    fonts = {"DejaVuSans-Bold": "ZT-Sans-Bold", "DejaVuSansMono": "ZT-Mono",
+             "DejaVuSans": "ZT-Sans"}
+    placed = []
+
+    def visit(text, cm, tm, font, size):
+        text = text.strip()
+        if not text or font is None:
+            return
+        base = str(font.get("/BaseFont", "")).split("+")[-1]
+        if base not in fonts:
+            return
+        x = tm[4] * cm[0] + cm[4]
+        width = pdfmetrics.stringWidth(text, fonts[base], size * cm[0])
+        placed.append((text, x, x + width, round(tm[5] * cm[3] + cm[5], 1)))
+
+    PdfReader(pdf).pages[page_number].extract_text(visitor_text=visit)
+    return placed
+
+
+def test_system_sheet_headers_sit_over_their_right_aligned_numbers(tmp_path, capsys):
+    pdf = tmp_path / "sys.pdf"
+    code, _, err = run(capsys, "report", PUMP, "--pdf", str(pdf))
+    assert code == 0, err
+    placed = placed_text(pdf, 2)  # page 3: Root, Residual, Definitions
+    heads = [p for p in placed if p[0] in ("Newton–Raphson", "Broyden")]
+    assert len(heads) == 6  # two method columns in each of the three tables
+    rows = sorted({p[3] for p in heads}, reverse=True)
+    for y in rows:
+        line = sorted((p for p in placed if p[3] == y), key=lambda p: p[1])
+        # adjacent headers never run together (3 pt of padding on each side)
+        for a, b in zip(line, line[1:], strict=False):
+            assert a[2] + 3 <= b[1], (a, b)
+        # each method's numbers end where its header ends: right-aligned under it
+        for head in (p for p in line if p[0] in ("Newton–Raphson", "Broyden")):
+            below = [p for p in placed if y - 60 < p[3] < y and abs(p[2] - head[2]) < 1.0]
+            assert len(below) >= 2, head
+
+
+def test_sheet_labels_a_failed_runs_definitions_as_its_last_iterate(tmp_path, capsys):
+    from pypdf import PdfReader
+
+    sample = json.loads(open("samples/drainage-channel-normal-depth.json").read())
+    sample["equation"] = ("A = (b + z*y)*y\nP = b + 2*y*sqrt(1 + z^2)\n"
+                          "Q = (1/n)*A^(5/3)/P^(2/3)*sqrt(S)")
+    sample["settings"]["max_iter"] = 3  # every method stops on the cap: no root
+    ws = tmp_path / "defs.json"
+    ws.write_text(json.dumps(sample), encoding="utf-8")
+    pdf = tmp_path / "defs.pdf"
+    code, _, err = run(capsys, "report", str(ws), "--pdf", str(pdf))
+    assert code == 0, err
+    text = " ".join(" ".join(p.extract_text() for p in PdfReader(pdf).pages).split())
+    table = text[text.index("Definitions at each root"):]
+    for title in ("Newton–Raphson", "Secant", "False position"):
+        assert f"{title}: last iterate (not a root)" in table

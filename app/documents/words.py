@@ -740,6 +740,16 @@ def unit_cell(unit: str | None) -> str:
     return "—" if unit is None else unit or "dimensionless"
 
 
+LAST_ITERATE = "last iterate (not a root)"
+
+
+def result_column(title: str, converged: bool) -> str:
+    """The heading of a run's column of values at its root: the method's title, or for a
+    run that did not converge "Brent: last iterate (not a root)" (as the terminal says
+    "definitions at the last iterate (not a root)")."""
+    return title if converged else f"{title}: {LAST_ITERATE}"
+
+
 def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES,
                      units: Mapping[str, str | None] | None = None) -> str:
     """Defined quantities at the root: "A = 0.0314 m^2, v = 3.18 m/s" (``units``: each

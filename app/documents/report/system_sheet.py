@@ -237,14 +237,18 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
                 "root.", st["body"]), FAIL_INK, FAIL_FILL), Spacer(1, 3)]
         else:
             out.append(Paragraph(escape(words.system_run_message(r)), st["small"]))
-    titles = [words.system_method_title(r.method) for r in runs]
+    # a run that did not converge has no root: its columns say where the values are
+    titles = [words.result_column(words.system_method_title(r.method), r.converged)
+              for r in runs]
 
-    def grid(header: list[str], rows: list[list[str]]) -> Table:
+    def grid(header: list[str], rows: list[list[str]], text_columns: int = 1) -> Table:
+        """Names (and units) in the first ``text_columns`` columns, left-aligned; numbers
+        after them right-aligned under right-aligned headers."""
         widths, size = _fitted_widths([header, *rows], ["ZT-Mono"] * len(header), TEXT_WIDTH,
                                       7.8)
         style = _grid_style() + [("FONTNAME", (0, 1), (-1, -1), "ZT-Mono"),
                                  ("FONTSIZE", (0, 0), (-1, -1), size),
-                                 ("ALIGN", (1, 1), (-1, -1), "RIGHT")]
+                                 ("ALIGN", (text_columns, 0), (-1, -1), "RIGHT")]
         return Table([header, *rows], colWidths=widths, repeatRows=1, hAlign="LEFT",
                      style=TableStyle(style))
 
@@ -268,7 +272,7 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
         if units:
             out.append(grid(["Name", "Unit (SI)", *titles],
                             [[d, words.unit_cell(units.get(d)), *(_num(v[d]) for v in values)]
-                             for d in system.definitions]))
+                             for d in system.definitions], text_columns=2))
             out.append(Paragraph("Defined quantities are in SI base units.", st["small"]))
         else:
             out.append(grid(["Name", *titles],
