@@ -46,3 +46,25 @@ def test_system_lanes_say_the_stop_reason_in_words_and_full_steps_as_one(qtbot, 
         column = model.headers().index("damping")
         last = model.rowCount() - 1
         assert model.raw(last, column) == 1.0
+
+
+def test_help_by_f1_explains_units_and_matches_the_controls(qtbot, window, monkeypatch):
+    from app.window import dialogs
+
+    shown = []
+    monkeypatch.setattr(dialogs.TextDialog, "exec", lambda self: shown.append(self) or 0)
+    window.activateWindow()
+    window.strip.editor.setFocus()
+    QTest.keyClick(window.strip.editor, Qt.Key.Key_F1)
+    qtbot.waitUntil(lambda: bool(shown), timeout=5_000)
+    text = " ".join(shown[0].browser.toPlainText().split())
+    assert "Units." in text and "150 mm" in text
+    # the controls it names are on screen under those names
+    assert window.strip.dimension_box.text() == "Check dimensions" and "Check dimensions" in text
+    assert "Unit box beside the unknown" in text
+    sw = open_system_window(qtbot, window)
+    model = sw.unknowns
+    headers = [model.headerData(c, Qt.Orientation.Horizontal, Qt.ItemDataRole.DisplayRole)
+               for c in range(model.columnCount())]
+    assert "unit" in headers and "unit column in its unknowns table" in text
+    assert "no field to edit an unknown's unit" not in open("README.md").read()

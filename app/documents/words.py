@@ -759,6 +759,21 @@ def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES
                      + (f" {units[name]}" if units.get(name) else "")
                      for name, v in values.items())
 
+# ----------------------------------------------------------------- help (F1)
+
+# The help page's paragraph on units (HTML; app/window/dialogs.py sets it in the page).
+HELP_UNITS = (
+    "<p><b>Units.</b> A parameter takes its unit in the <i>unit</i> column of the parameters "
+    "table, or typed after its number (<code>150 mm</code>, <code>2.5 m/s</code>, "
+    "<code>20 degC</code>); it is converted once to SI. The <b>Unit</b> box beside the "
+    "unknown gives the unit of the unknown, its start values, scan range and roots (blank: "
+    "the SI unit its dimensions give it). <b>Check dimensions</b> (on by default) checks that "
+    "both sides and every term agree; clear it only for a correlation whose constants hide "
+    "their units, and every document then says the dimensions were not checked. The system "
+    "window has the same: a <i>unit</i> column in its unknowns table, units on its "
+    "parameters and its own Check dimensions switch.</p>"
+)
+
 # ----------------------------------------------------------------- tables of inputs
 
 # Words for each code of solvers.batch.NOTE_CODES (Batch.notes: one row each).
