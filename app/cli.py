@@ -37,7 +37,7 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports errors as one line and exit 2 (its own default is 2 plus usage)."""
 
     def format_help(self) -> str:
-        if self.epilog is None and " " not in self.prog:  # the top-level parser's epilog
+        if self.epilog is None:  # every command's help ends with the caution (words.CAUTION)
             self.epilog = caution()
         for action in self._actions:  # the registry is read on first use (it loads sympy)
             if action.help == _METHOD_HELP:

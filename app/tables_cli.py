@@ -71,7 +71,9 @@ def add_table_commands(sub: Any) -> None:
                        help="the parameter swept and its values")
     sweep.add_argument("--log", action="store_true", help="space the values logarithmically")
     sweep.add_argument("--within", nargs=2, type=_finite, metavar=("A", "B"),
-                       help="range of the unknown: a root outside it ends the branch")
+                       help="range of the unknown: a root found outside it ends the branch and is "
+                       "not reported (that row has no root; the next row starts again "
+                       "from the last root inside)")
     sweep.set_defaults(run=cmd_sweep)
 
 
@@ -140,10 +142,13 @@ def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray]) -> None
             rows.append(["..."] + [""] * (len(names) + 2))
             continue
         rows.append([str(i + 1), *(words.exact(float(c[i])) for c in flat),
-                     words.exact(float(batch.root.flat[i])) if batch.converged.flat[i] else "-",
+                     (words.exact(float(batch.root.flat[i])) if batch.converged.flat[i]
+                      else words.NOT_A_ROOT),
                      str(batch.reason.flat[i])])
     print()
     print(terminal._table(["row", *names, "root", "reason"], rows))
+    # the reason column holds codes (scripts read them): what each one shown means
+    print("reasons: " + words.reason_legend(r[-1] for r in rows if r[-1]))
 
 
 def _out_checked(args: argparse.Namespace) -> None:
@@ -184,6 +189,7 @@ def _input_error(where: str, exc: ValueError) -> InputError | ValueError:
 
 
 def cmd_batch(args: argparse.Namespace) -> int:
+    from app.documents import words
     from app.documents.tables import read_table
     from solvers.batch import solve_table
 
@@ -208,7 +214,7 @@ def cmd_batch(args: argparse.Namespace) -> int:
     return _finish(args, done.equation, done.batch, done.constants,
                    [c.header for c in table.columns], list(table.cells), names,
                    [table.values[n] for n in names],
-                   {"table": f"{table.path} ({table.rows} rows)",
+                   {"table": f"{table.path} ({words.counted(table.rows, 'row')})",
                     "columns": "; ".join(f"{c.header} ({roles[c.name]})"
                                          for c in table.columns)})
 
@@ -248,6 +254,7 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
 
 
 def cmd_sweep(args: argparse.Namespace) -> int:
+    from app.documents import words
     from solvers.batch import solve_sweep
 
     settings = _settings(args)
@@ -260,13 +267,12 @@ def cmd_sweep(args: argparse.Namespace) -> int:
                            **_core(args, settings))
     except ValueError as exc:
         raise _input_error("--vary", exc) from None
-    cells = [[repr(float(v)) for v in values]]
-    spacing = "logarithmic" if args.log else "linear"
+    cells = [[repr(float(v)) for v in values]]  # exact: the shortest repr that reads back
+    unit = str(getattr(swept, "unit", "") or "")
     return _finish(args, done.equation, done.batch, done.constants, [name], cells, [name],
                    [values],
-                   {"sweep": f"{name} from {values[0]!r} to {values[-1]!r}, {values.size} "
-                             f"values, {spacing} spacing; each row starts from the previous "
-                             "row's root"})
+                   {"sweep": words.sweep_text(name, float(values[0]), float(values[-1]),
+                                              int(values.size), unit=unit, log=args.log)})
 
 
 def worksheet_table(ws: Any) -> Any:

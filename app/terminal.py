@@ -51,13 +51,13 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
         rows.append(
             [
                 words.method_title(r.method),
-                _g(r.root, figures),
+                words.root_cell(r, lambda v: _g(v, figures)),
                 "yes" if r.converged else "NO",
                 r.reason,
                 str(r.iterations),
                 str(r.evaluations),
                 words.order_text(r.order, "-"),
-                r.method,
+                words.method_flag(r.method),
             ]
         )
     header = ["method", _labelled("root", eq.unknown_unit), "converged", "reason", "iterations",
@@ -66,11 +66,16 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     print()
     for r in solution.runs:
         print(f"  {words.stop_line(r)}")
+    for r in solution.runs:  # the root column says "—" for these: where they stopped
+        if not r.converged:
+            line = words.last_iterate_line(r, eq.unknown, eq.unknown_unit,
+                                           lambda v: _g(v, figures))
+            print(f"  {line}")
     print(f"\n{words.agreement_text(solution)}")
     if eq.definitions:
         for r in solution.runs:
             values = eq.definition_values(r.root)
-            where = "the root" if r.converged else "the last iterate (not a root)"
+            where = "the root" if r.converged else f"the {words.LAST_ITERATE}"
             print(f"{words.method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
                                            eq.definition_units()))
@@ -103,8 +108,8 @@ def print_scan(scan, unknown: str, unit: str | None = None) -> None:
 
     # The range as typed: 15 figures show any typed decimal whole, without a ".0".
     shown = f"{unknown} [{unit}]" if unit else unknown
-    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {shown}: {len(scan.roots)} "
-          f"root(s), {scan.samples} samples")
+    print(f"scan of [{_g(scan.a, 15)}, {_g(scan.b, 15)}] for {shown}: "
+          f"{words.counted(len(scan.roots), 'root')}, {words.counted(scan.samples, 'sample')}")
     if scan.roots:
         rows = [
             [

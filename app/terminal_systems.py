@@ -39,7 +39,9 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
     print()
     titles = [words.system_method_title(r.method) for r in runs]
     print(_table(["unknown", *titles],
-                 [[_labelled(n, units.get(n)), *(_g(r.root[n], figures) for r in runs)]
+                 [[_labelled(n, units.get(n)),
+                   *(_g(r.root[n], figures) if r.converged else words.NOT_A_ROOT
+                     for r in runs)]
                   for n in system.unknowns]))
     print()
     print(_table(["residual at the root", *titles],
@@ -47,17 +49,22 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
                   for i, text in enumerate(system.equations)]))
     for r in runs:
         values = system.definition_values([r.root[n] for n in system.unknowns])
+        where = "the root" if r.converged else f"the {words.LAST_ITERATE}"
         if values:
-            print(f"\n{words.system_method_title(r.method)}, definitions at the root: "
+            print(f"\n{words.system_method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
                                            system.definition_units()))
     print()
     for r in runs:
         print(f"  {words.system_run_message(r)}")
+        if not r.converged:  # its root column says "—": where it stopped
+            print("  Its last iterate (not a root): " + ", ".join(
+                f"{n} = {_g(r.root[n], figures)}" + (f" {units[n]}" if units.get(n) else "")
+                for n in system.unknowns))
     if steps:
         for r in runs:
             print(f"\n{words.system_method_title(r.method)}: every iterate")
-            body = [[str(s.k), str(s.block), *(_g(v) for v in s.x.values()),
+            body = [[str(s.k), str(s.block + 1), *(_g(v) for v in s.x.values()),
                      _g(s.residual_norm, 6), _g(s.step_norm, 6), _g(s.damping, 4),
                      "LM" if s.regularised else ""] for s in r.steps]
             print(_table(["k", "block", *(_labelled(n, units.get(n)) for n in system.unknowns),

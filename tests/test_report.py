@@ -25,7 +25,7 @@ from scipy.optimize import brentq
 
 from app.documents import export
 from app.documents.report import CAUTION, NUMERICAL_DERIVATIVE_NOTE, ReportError, write_report
-from app.documents.words import REASON_TEXT, method_title
+from app.documents.words import REASON_TEXT, method_title, reason_short
 from app.documents.worksheet import (
     CalcInfo,
     Parameter,
@@ -161,8 +161,13 @@ def test_results_row_per_method_with_full_precision_root(sheet):
     for run in sheet["solution"].runs:
         order = "—" if run.order is None else f"{run.order:.2f}"
         conv = "yes" if run.converged else "NO"
-        row = f"{r(run.root)} {conv} {run.reason} {run.iterations} {run.evaluations} {order}"
+        # the reason in words in the table ("—" for the root of a run that did not
+        # converge); the code and its sentence in the line under it
+        root = r(run.root) if run.converged else "—"
+        row = (f"{root} {conv} {reason_short(run.reason)} {run.iterations} "
+               f"{run.evaluations} {order}")
         assert row in text, run.method
+        assert f"{run.reason}: {REASON_TEXT[run.reason]}" in text
         assert REASON_TEXT[run.reason] in text
 
 

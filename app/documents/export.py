@@ -88,11 +88,14 @@ def metadata(
     unknown's unit; ``remarks`` (the equation's) add a ``dimensions`` line when the
     dimensional check was switched off.
     """
+    from solvers.equation.lines import one_line
+
     units = units or {}
     meta = {
         "tool": f"zerotrace {tool_version()}",
         "time": (when or datetime.now(timezone.utc)).isoformat(timespec="seconds"),
-        "equation": equation,
+        # one line: its lines joined by "; " (reads back as the same text), never run together
+        "equation": one_line(equation),
         "unknown": unknown,
         "parameters": "; ".join(_parameter_cell(k, v, units.get(k))
                                 for k, v in parameters.items()) or "(none)",
@@ -234,7 +237,8 @@ def _json_float(value: float | None) -> float | str | None:
     return "nan" if math.isnan(value) else ("inf" if value > 0 else "-inf")
 
 
-def run_json(run: Run) -> dict[str, Any]:
+def run_json(run: Run, unknown: str = "x", unit: str | None = None) -> dict[str, Any]:
+    """One run as JSON; its ``message`` names the root as the unknown, in its unit."""
     data = run.as_dict()
     data["root"] = _json_float(run.root)
     order = data.get("order")
@@ -250,7 +254,8 @@ def run_json(run: Run) -> dict[str, Any]:
         if data.get(key) is not None:
             data[key]["values"] = [_json_float(v) if isinstance(v, float) else v
                                    for v in data[key]["values"]]
-    data["message"] = run_message(run)  # the run in words, for people reading the file
+    # the run in words, for people reading the file
+    data["message"] = run_message(run, unknown, unit)
     return data
 
 
@@ -347,7 +352,8 @@ def solution_json(solution: Any) -> dict[str, Any]:
             "notes": list(start_notes(solution.start)),
         },
         "agreement_digits": solution.agreement_digits,
-        "runs": [{**run_json(r), **_definitions_json(solution.equation, r)}
+        "runs": [{**run_json(r, solution.equation.unknown, solution.equation.unknown_unit),
+                  **_definitions_json(solution.equation, r)}
                  for r in solution.runs],
         "caution": CAUTION,
     }

@@ -346,6 +346,15 @@ def convergence_label(quantity: str = "residual", unknown: str = "x") -> str:
             "step": f"|Δ{unknown}_k|"}.get(quantity, label)
 
 
+def iterate_axis(ax: Any) -> None:
+    """The x axis of iterates k: named, with ticks on whole numbers only (an iterate 1.5
+    does not exist; matplotlib's default locator put ticks there on a short run)."""
+    from matplotlib.ticker import MaxNLocator
+
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True))
+    ax.set_xlabel("iterate k")
+
+
 def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual",
                      unknown: str = "x") -> None:
     """|f(x_k)| (quantity="residual") or |Δx_k| ("step") against k, log y-axis, every run,
@@ -372,7 +381,7 @@ def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual"
     else:
         ax.text(0.5, 0.5, "no iterates to show yet", transform=ax.transAxes,
                 ha="center", va="center", color="#666666")
-    ax.set_xlabel("iterate k")
+    iterate_axis(ax)
     ax.set_ylabel(label)
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6)
 

@@ -2,12 +2,13 @@
 
 CSV: ``#`` metadata lines (tool, time, equations, unknowns, parameters, settings, the
 block order, one summary line per run, the caution), one header row, one row per
-iterate: ``method, block, k``, one column per unknown (``Q1 [m^3/s]`` when it has a unit:
-its values are in that unit), one per equation's residual (``residual_1`` ..., in SI base
-units of the equation's dimension), then ``residual_norm, step_norm, damping,
-regularised``. Parameters are listed as entered and in SI; a ``dimensions`` line says when
-the dimensional check was switched off. Floats are written with ``repr`` (round-trip
-exact).
+iterate: ``method, block, k`` (blocks counted from 1 in the order solved, as the terminal,
+the window and the sheet count them; the JSON's ``block`` too), one column per unknown
+(``Q1 [m^3/s]`` when it has a unit: its values are in that unit), one per equation's
+residual (``residual_1`` ..., in SI base units of the equation's dimension), then
+``residual_norm, step_norm, damping, regularised``. Parameters are listed as entered and
+in SI; a ``dimensions`` line says when the dimensional check was switched off. Floats are
+written with ``repr`` (round-trip exact).
 """
 
 from __future__ import annotations
@@ -79,7 +80,7 @@ def rows(runs: Any) -> list[list[str]]:
     out = []
     for run in runs:
         for s in run.steps:
-            out.append([run.method, str(s.block), str(s.k),
+            out.append([run.method, str(s.block + 1), str(s.k),
                         *(number(v) for v in s.x.values()),
                         *(number(v) for v in s.residuals),
                         number(s.residual_norm), number(s.step_norm), number(s.damping),
@@ -108,7 +109,8 @@ def system_run_json(run: Any, system: Any) -> dict[str, Any]:
                                                                for v in s["residuals"]],
                       "residual_norm": _json_float(s["residual_norm"]),
                       "step_norm": _json_float(s["step_norm"]),
-                      "damping": _json_float(s["damping"])} for s in data["steps"]]
+                      "damping": _json_float(s["damping"]),
+                      "block": s["block"] + 1} for s in data["steps"]]
     data["settings"] = {k: (_json_float(v) if isinstance(v, float) else
                             [_json_float(x) for x in v] if isinstance(v, tuple) else v)
                         for k, v in run.settings.items()}

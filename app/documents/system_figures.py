@@ -7,7 +7,7 @@ import math
 from collections.abc import Iterable
 from typing import Any
 
-from app.documents.figures import OKABE_ITO
+from app.documents.figures import OKABE_ITO, iterate_axis
 from app.documents.words import system_method_title
 
 SYSTEM_METHOD_COLORS = {"newton": OKABE_ITO["blue"], "broyden": OKABE_ITO["vermillion"]}
@@ -55,6 +55,6 @@ def draw_system_convergence(ax: Any, runs: Iterable[Any]) -> None:
     else:
         ax.text(0.5, 0.5, "no iterates to show yet", transform=ax.transAxes, ha="center",
                 va="center", color="#666666")
-    ax.set_xlabel("iterate k")
+    iterate_axis(ax)
     ax.set_ylabel("||F||, step length")
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6)

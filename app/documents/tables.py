@@ -2,11 +2,13 @@
 
 Input (IN.csv): UTF-8 text; optional ``#`` lines first (comments, or the metadata of a
 zerotrace file); one header row of names, each optionally followed by a unit in square
-brackets (``D [mm]``); then one row of plain numbers per case. Blank lines and ``#`` lines
-between rows are skipped. Anything else is refused with one line naming the row, the file
-line and the column: a missing value, a cell that is not a plain number (``1,5``,
-``1_000``, ``nan``), a row with more or fewer cells than the header, a header only, an
-empty file, a file over :data:`MAX_TABLE_BYTES` or :data:`MAX_TABLE_ROWS` rows.
+brackets (``D [mm]``); then one row of plain numbers per case. Cells are separated by
+commas, or by tabs or semicolons throughout (recognised from the header and first rows).
+Blank lines and ``#`` lines between rows are skipped. Anything else is refused with one line
+naming the row, the file line and the column: a missing value, a cell that is not a plain
+number (``1,5``, ``1_000``, ``nan``), a row with more or fewer cells than the header, a
+header only, an empty file, a file over :data:`MAX_TABLE_BYTES` or :data:`MAX_TABLE_ROWS`
+rows.
 
 Output (OUT.csv): the ``#`` metadata lines of :mod:`app.documents.export` (equation,
 unknown, parameters, settings, tool, time, the caution) plus the summary and the notes of
@@ -30,7 +32,13 @@ import numpy as np
 
 from app.documents.export import _emit, _json_float, _write_metadata, number
 from app.documents.files import read_limited
-from app.documents.words import CAUTION, batch_note_text, batch_summary, reason_text
+from app.documents.words import (
+    CAUTION,
+    batch_note_text,
+    batch_summary,
+    counted,
+    reason_text,
+)
 
 MAX_TABLE_BYTES = 256 * 1024 * 1024
 MAX_TABLE_ROWS = 10_000_000
@@ -39,6 +47,7 @@ RESULT_COLUMNS = ("root", "converged", "reason", "iterations", "residual")
 _HEADER = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*(?:\[([^\[\]]*)\])?\s*")
 _NUMBER = r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _ONE_NUMBER = re.compile(rf"[ \t]*{_NUMBER}[ \t]*")
+_DECIMAL_COMMA = re.compile(r"[-+]?\d+,\d+")  # 1,5: a decimal comma, refused with a hint
 _MANY_NUMBERS = re.compile(rf"(?:{_NUMBER}\n)*")  # cells are stripped, one per line
 
 
@@ -95,9 +104,7 @@ def parse_table(text: str, shown: str = "pasted table") -> Table:
     names it in messages. :class:`TableError` as for :func:`read_table`."""
     if len(text) > MAX_TABLE_BYTES:
         raise TableError(f"{shown}: more than {MAX_TABLE_BYTES} characters")
-    first = next((line for line in text.splitlines()
-                  if line.strip() and not line.lstrip().startswith("#")), "")
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter="\t" if "\t" in first else ",")
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=_delimiter(text))
     header: list[str] | None = None
     header_line = 0
     rows: list[list[str]] = []
@@ -125,7 +132,7 @@ def parse_table(text: str, shown: str = "pasted table") -> Table:
     for i, record in enumerate(rows):
         if len(record) != len(columns):
             raise TableError(f"{shown}: row {i + 1} (line {lines[i]}) has "
-                             f"{len(record)} cells; the header has {len(columns)}")
+                             f"{counted(len(record), 'cell')}; the header has {len(columns)}")
     cells = tuple(tuple(c.strip() for c in column) for column in zip(*rows, strict=True))
     values = {col.name: _numbers(shown, col, column, lines)
               for col, column in zip(columns, cells, strict=True)}
@@ -138,16 +145,36 @@ def read_header(cell: str) -> tuple[str, str] | None:
     return None if match is None else (match.group(1), (match.group(2) or "").strip())
 
 
+def _delimiter(text: str) -> str:
+    """The cells' separator: ',' (CSV), a tab (cells pasted from a spreadsheet) or ';' (the
+    CSV of spreadsheets set up for a decimal comma). csv.Sniffer, limited to those three,
+    reads the header and the first rows; its answer is taken only when the header holds
+    it (names never contain one), else a tab in the header means tabs and anything else
+    commas, the rule before ';' was read."""
+    lines = [line for line in text.splitlines()[:200]
+             if line.strip() and not line.lstrip().startswith("#")][:20]
+    first = lines[0] if lines else ""
+    try:
+        sniffed = csv.Sniffer().sniff("\n".join(lines), delimiters=",;\t").delimiter
+    except csv.Error:
+        sniffed = ""
+    if sniffed and sniffed in first:
+        return sniffed
+    return "\t" if "\t" in first else ","
+
+
 def _columns(shown: str, header: Sequence[str], line: int) -> tuple[Column, ...]:
     columns: list[Column] = []
     for j, cell in enumerate(header):
-        header = read_header(cell)
+        parsed = read_header(cell)
         where = f"{shown}: header (line {line}), column {j + 1}"
         if not cell.strip():
             raise TableError(f"{where}: empty name")
-        if header is None:
-            raise TableError(f"{where}: {cell.strip()!r} is not NAME or NAME [unit]")
-        name, unit = header
+        if parsed is None:
+            hint = ("; separate the columns by commas (or tabs, or semicolons throughout)"
+                    if any(c in cell for c in ",;\t|") else "")
+            raise TableError(f"{where}: {cell.strip()!r} is not NAME or NAME [unit]{hint}")
+        name, unit = parsed
         if any(c.name == name for c in columns):
             raise TableError(f"{where}: {name!r} appears twice")
         columns.append(Column(cell.strip(), name, unit))
@@ -163,7 +190,9 @@ def _numbers(shown: str, column: Column, cells: Sequence[str], lines: Sequence[i
                 where = f"{shown}: row {i + 1} (line {lines[i]}), column {column.header!r}"
                 if not cell:
                     raise TableError(f"{where}: missing value")
-                raise TableError(f"{where}: {cell[:40]!r} is not a plain number")
+                hint = (f" (a decimal comma? write {cell.replace(',', '.')})"
+                        if _DECIMAL_COMMA.fullmatch(cell) else "")
+                raise TableError(f"{where}: {cell[:40]!r} is not a plain number{hint}")
     values = np.array(cells, dtype=np.float64)
     bad = np.flatnonzero(~np.isfinite(values))
     if bad.size:

@@ -107,7 +107,25 @@ def order_text(order: float | None, blank: str = "—") -> str:
 
 
 def figures_word(n: int) -> str:
-    return f"{n} significant figure{'' if n == 1 else 's'}"
+    return counted(n, "significant figure")
+
+
+def counted(n: int, noun: str, plural: str | None = None) -> str:
+    """``n`` and its noun, singular for one: "1 cell", "3 cells", "1 iteration", "2 blocks"
+    (``plural`` where adding an s is wrong: "1 match", "2 matches")."""
+    return f"{n} {noun if n == 1 else plural or noun + 's'}"
+
+
+def sweep_text(name: str, start: float, stop: float, count: int, *, unit: str = "",
+               log: bool = False) -> str:
+    """What a sweep varies, for people: "p from -1 to 1 in 41 values, linear spacing".
+
+    START and STOP as numbers a person types (15 significant figures: no float noise,
+    no type names); the values themselves stay exact in the data cells."""
+    u = f" {unit}" if unit else ""
+    return (f"{name} from {start:.15g}{u} to {stop:.15g}{u} in {counted(count, 'value')}, "
+            f"{'logarithmic' if log else 'linear'} spacing; each row starts from the "
+            "previous row's root")
 
 
 # ----------------------------------------------------------------- methods
@@ -150,6 +168,11 @@ METHOD_SUMMARIES: dict[str, str] = {
 
 def method_summary(name: str) -> str:
     return METHOD_SUMMARIES.get(name, "")
+
+
+def method_flag(name: str) -> str:
+    """The method as the ``--method`` flag spells it: ``false-position``."""
+    return name.replace("_", "-")
 
 
 def method_names(methods: Iterable[str]) -> str:
@@ -210,6 +233,9 @@ REASON_TEXT: dict[str, str] = {
     "no_sign_change": "f has the same sign at both bracket ends",
     "discontinuity": "the bracket closed on a jump of f, not a root: f changes sign there "
     "without passing through zero",
+    # a sweep's row only (solvers.batch.OUTSIDE_RANGE)
+    "outside_range": "the method converged to a root outside the range given for the "
+    "unknown: not this branch's root, so the row has none",
 }
 
 
@@ -224,6 +250,7 @@ REASON_SHORT: dict[str, str] = {
     "not_finite": "not finite",
     "no_sign_change": "no sign change",
     "discontinuity": "jump, not a root",
+    "outside_range": "root outside the range",
 }
 
 
@@ -282,8 +309,8 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                        f"[{exact(v[2])}, {exact(v[3])}] (width {number(v[4], 3)}) without "
                        f"approaching 0, and |f| stays that size {number(v[5], 3)} further "
                        "out: a jump of f there, not a root"),
-    "midpoint_steps": lambda v: (f"{v[0]} midpoint step(s) where rounding put the chord's "
-                                 "zero on a bracket end"),
+    "midpoint_steps": lambda v: (f"{counted(int(v[0]), 'midpoint step')} where rounding put "
+                                 "the chord's zero on a bracket end"),
     "no_bracket": lambda v: "no bracket: give one, or a scan range, or an x0 near a sign change",
 }
 
@@ -305,7 +332,8 @@ def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
     """The run in one line: method, verdict, counts, what stopped it, and any note; the
     root named as the unknown (``D = 144.9 mm``)."""
     title = method_title(run.method)
-    counts = f"{run.iterations} iterations, {run.evaluations} evaluations"
+    counts = (f"{counted(run.iterations, 'iteration')}, "
+              f"{counted(run.evaluations, 'evaluation')}")
     value = f"{unknown or 'x'} = {exact(run.root)}" + (f" {unit}" if unit else "")
     if run.converged:
         text = f"{title} converged to {value} ({counts}): {run_account(run)}"
@@ -327,6 +355,34 @@ NEED_TEXT: dict[str, str] = {
 def method_needs_text(method: str, needs: Sequence[str]) -> str:
     """"Newton–Raphson needs a start value x0": the method by its title, what is missing."""
     return f"{method_title(method)} needs " + " and ".join(NEED_TEXT.get(n, n) for n in needs)
+
+
+NOT_A_ROOT = "—"  # the root cell of a run that did not converge: it has no root
+
+
+def root_cell(run: Any, show: Callable[[Any], str]) -> str:
+    """A run's root in a results table: the number when it converged, else "—" (its last
+    iterate is not a root; :func:`last_iterate_line` says where it stopped)."""
+    return show(run.root) if run.converged else NOT_A_ROOT
+
+
+def last_iterate_line(run: Any, unknown: str = "x", unit: str | None = None,
+                      show: Callable[[Any], str] | None = None) -> str:
+    """Where a run that did not converge stopped: "Brent did not converge: last iterate
+    x = 3.0 (not a root)." ('' for a converged run)."""
+    if run.converged:
+        return ""
+    value = (show or exact)(run.root) + (f" {unit}" if unit else "")
+    return (f"{method_title(run.method)} did not converge: last iterate "
+            f"{unknown or 'x'} = {value} (not a root).")
+
+
+def reason_legend(codes: Iterable[str], system: bool = False) -> str:
+    """What each stop-reason code in a table means, one after another, in the order given
+    (each once): "x_tolerance: step below tolerance ...; max_iterations: ..."."""
+    text = system_reason_text if system else reason_text
+    seen = dict.fromkeys(str(c) for c in codes)
+    return "; ".join(f"{c}: {text(c)}" for c in seen)
 
 
 def stop_line(run: Any) -> str:
@@ -481,18 +537,19 @@ SCAN_DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                                    f"[{_g6(v[0])}, {_g6(v[1])}]; roots there may be missed: "
                                    "raise samples"),
     "proxy_rough": lambda v: (f"cross-check: f is not smooth enough for the Chebyshev proxy on "
-                              f"{v[0]} interval(s) in [{_g6(v[1])}, {_g6(v[2])}] that no pole, "
-                              "jump or gap explains (rough f, or oscillation faster than the "
-                              "sampling): roots there rest on sampling alone"),
-    "rescanned": lambda v: (f"{_rescan_why(v[0])} on {v[1]} interval(s) in [{_g6(v[2])}, "
-                            f"{_g6(v[3])}]; re-scanned there with 64x the samples"),
-    "rescan_budget": lambda v: (f"{_rescan_why(v[0])} on {v[1]} interval(s) in [{_g6(v[2])}, "
-                                f"{_g6(v[3])}], beyond the re-scan budget: roots there rest on "
-                                "sampling alone; raise samples"),
+                              f"{counted(int(v[0]), 'interval')} in [{_g6(v[1])}, "
+                              f"{_g6(v[2])}] that no pole, jump or gap explains (rough f, or "
+                              "oscillation faster than the sampling): roots there rest on "
+                              "sampling alone"),
+    "rescanned": lambda v: (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
+                            f"[{_g6(v[2])}, {_g6(v[3])}]; re-scanned there with 64x the samples"),
+    "rescan_budget": lambda v: (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
+                                f"[{_g6(v[2])}, {_g6(v[3])}], beyond the re-scan budget: roots "
+                                "there rest on sampling alone; raise samples"),
     "proxy_unconfirmed": lambda v: (f"cross-check: the Chebyshev proxy has a zero near x = "
                                     f"{_g12(v[0])} (|f| = {_g3(v[1])}) that the scan could not "
                                     "confirm"),
-    "proxy_only_roots": lambda v: (f"cross-check: {len(v)} root(s) located only by the "
+    "proxy_only_roots": lambda v: (f"cross-check: {counted(len(v), 'root')} located only by the "
                                    "Chebyshev proxy and then confirmed: "
                                    + ", ".join(_g12(x) for x in v)),
     "sampling_only_root": lambda v: (f"cross-check: root at x = {_g12(v[0])} found by sampling, "
@@ -694,8 +751,9 @@ def system_run_message(run: Any) -> str:
     """A system run in one sentence: converged or not, why, and at what cost."""
     title = system_method_title(run.method)
     verdict = "converged" if run.converged else "did not converge"
-    return (f"{title} {verdict} after {run.iterations} iterations and {run.evaluations} "
-            f"evaluations of F and J. Stop reason {run.reason}: "
+    # the reason in words only: the code is for scripts (JSON, CSV, a table's column)
+    return (f"{title} {verdict} after {counted(run.iterations, 'iteration')} and "
+            f"{counted(run.evaluations, 'evaluation')} of F and J: "
             f"{system_reason_text(run.reason)}.")
 
 
@@ -713,6 +771,16 @@ def unit_cell(unit: str | None) -> str:
     return "—" if unit is None else unit or "dimensionless"
 
 
+LAST_ITERATE = "last iterate (not a root)"
+
+
+def result_column(title: str, converged: bool) -> str:
+    """The heading of a run's column of values at its root: the method's title, or for a
+    run that did not converge "Brent: last iterate (not a root)" (as the terminal says
+    "definitions at the last iterate (not a root)")."""
+    return title if converged else f"{title}: {LAST_ITERATE}"
+
+
 def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES,
                      units: Mapping[str, str | None] | None = None) -> str:
     """Defined quantities at the root: "A = 0.0314 m^2, v = 3.18 m/s" (``units``: each
@@ -721,6 +789,21 @@ def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES
     return ", ".join(f"{name} = {number(v, figures)}"
                      + (f" {units[name]}" if units.get(name) else "")
                      for name, v in values.items())
+
+# ----------------------------------------------------------------- help (F1)
+
+# The help page's paragraph on units (HTML; app/window/dialogs.py sets it in the page).
+HELP_UNITS = (
+    "<p><b>Units.</b> A parameter takes its unit in the <i>unit</i> column of the parameters "
+    "table, or typed after its number (<code>150 mm</code>, <code>2.5 m/s</code>, "
+    "<code>20 degC</code>); it is converted once to SI. The <b>Unit</b> box beside the "
+    "unknown gives the unit of the unknown, its start values, scan range and roots (blank: "
+    "the SI unit its dimensions give it). <b>Check dimensions</b> (on by default) checks that "
+    "both sides and every term agree; clear it only for a correlation whose constants hide "
+    "their units, and every document then says the dimensions were not checked. The system "
+    "window has the same: a <i>unit</i> column in its unknowns table, units on its "
+    "parameters and its own Check dimensions switch.</p>"
+)
 
 # ----------------------------------------------------------------- tables of inputs
 
@@ -734,8 +817,9 @@ BATCH_NOTE_TEXT: dict[str, str] = {
     "branch_jump": "the root jumped off the branch followed so far (a turning point was "
                    "passed, or another root was found): check which root you need here",
     "turning_point": "f' changed sign at the root: the sweep went round a turning point",
-    "left_range": "the root lies outside the given range of the unknown; the next row starts "
-                  "from the last root inside it",
+    "left_range": "the method converged to a root outside the range given for the unknown: "
+                  "it is not taken as this branch's root (the row has none), and the next "
+                  "row starts from the last root inside the range",
     "fixed_bracket": "every row uses the same bracket (a bracketing method needs no "
                      "continuation)",
     "restart_scan": "the sweep was resumed here from a root chosen from a scan at this value",
@@ -746,6 +830,12 @@ def batch_note_text(code: str) -> str:
     return BATCH_NOTE_TEXT.get(code, code.replace("_", " "))
 
 
+# How batch_summary counts the rows of a reason that is not "stopped on" something.
+_SUMMARY_STOPS: dict[str, str] = {
+    "outside_range": "{c} converged outside the range of the unknown (no root taken)",
+}
+
+
 def batch_summary(batch: Any) -> str:
     """One line: how many rows converged, and why the others stopped."""
     total = batch.size
@@ -754,6 +844,6 @@ def batch_summary(batch: Any) -> str:
               if r not in ("x_tolerance", "f_tolerance", "exact_zero")}
     text = f"{total} {'row' if total == 1 else 'rows'}: {good} converged"
     if failed:
-        text += "; " + "; ".join(f"{c} stopped on {r.replace('_', ' ')}"
-                                 for r, c in sorted(failed.items()))
+        text += "; " + "; ".join(_SUMMARY_STOPS.get(r, "{c} stopped on {r}").format(
+            c=c, r=r.replace("_", " ")) for r, c in sorted(failed.items()))
     return text

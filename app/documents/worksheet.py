@@ -64,6 +64,7 @@ from pathlib import Path
 from typing import Any
 
 from app.documents.files import FileRefused, read_limited, write_atomic
+from app.documents.words import counted
 from solvers.worksheet import (
     DEFAULT_METHODS,
     METHOD_NAMES,
@@ -245,7 +246,8 @@ def _table(raw: Any) -> TableInputs:
         if cells > MAX_TABLE_CELLS:
             raise _fail("table.columns", f"more than {MAX_TABLE_CELLS} numbers")
         if columns and len(values) != len(columns[0][1]):
-            raise _fail(f"{where}.values", f"has {len(values)} rows; the first column has "
+            raise _fail(f"{where}.values", f"has {counted(len(values), 'row')}; the first "
+                        "column has "
                         f"{len(columns[0][1])}")
         columns.append((name, tuple(_number(v, f"{where}.values[{i}]")
                                     for i, v in enumerate(values))))

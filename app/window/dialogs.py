@@ -14,7 +14,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents.words import CAUTION as CAUTION_FULL
-from app.documents.words import CAUTION_LINE
+from app.documents.words import CAUTION_LINE, HELP_UNITS
 from app.documents.worksheet import (
     MAX_CALC_FIELD,
     MAX_NOTE,
@@ -75,6 +75,7 @@ selected root, and why, for the calculation sheet.</p>
 one per line (or separated by <code>;</code>): <code>A = pi*D^2/4</code>, then
 <code>v = Q/A</code>, then the equation. The parameters table lists only the inputs; the
 defined values at the root are printed by the command line and on the calculation sheet.</p>
+{HELP_UNITS}
 <p><b>Systems.</b> Run ▸ System of equations (Ctrl+Shift+Y) opens a window for several
 equations in several unknowns: type one equation per line, give each unknown a start value,
 and Solve runs Newton–Raphson (on the Jacobian, with a line search) and Broyden side by side,

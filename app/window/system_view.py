@@ -291,7 +291,7 @@ class SystemWindow(QWidget):
         if reading.error:
             self._say(reading.error, problem=True)
         else:
-            self._say(f"{len(reading.unknowns)} equations in "
+            self._say(f"{words.counted(len(reading.unknowns), 'equation')} in "
                       f"{', '.join(reading.unknowns)}; {reading.blocks}")
 
     def _say(self, text: str, problem: bool = False) -> None:

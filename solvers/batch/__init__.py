@@ -12,7 +12,7 @@ end alike.
 """
 
 from solvers.batch.driver import CHUNK_ROWS, KERNELS, solve_batch
-from solvers.batch.records import NOTE_CODES, Batch, BatchCancelled
+from solvers.batch.records import NOTE_CODES, OUTSIDE_RANGE, Batch, BatchCancelled
 from solvers.batch.sweep import resume_sweep, sweep
 from solvers.batch.table import (
     START_COLUMNS,
@@ -22,6 +22,7 @@ from solvers.batch.table import (
     solve_table,
 )
 
-__all__ = ["CHUNK_ROWS", "KERNELS", "NOTE_CODES", "START_COLUMNS", "Batch", "BatchCancelled",
+__all__ = ["CHUNK_ROWS", "KERNELS", "NOTE_CODES", "OUTSIDE_RANGE", "START_COLUMNS", "Batch",
+           "BatchCancelled",
            "TableSolve", "resume_sweep", "solve_batch", "solve_inputs", "solve_sweep",
            "solve_table", "sweep"]

@@ -17,7 +17,12 @@ import numpy as np
 
 from solvers.records import CONVERGED_REASONS, REASONS, Run, Setting
 
-__all__ = ["NOTE_CODES", "REASON_CODES", "Batch", "BatchCancelled"]
+__all__ = ["NOTE_CODES", "OUTSIDE_RANGE", "REASON_CODES", "Batch", "BatchCancelled"]
+
+# The one reason a row of a sweep can have beyond solvers.REASONS: its method converged,
+# but to a root outside the range given for the unknown (``bounds``). That root is not the
+# branch's: the row records no root (NaN), converged False, and a ``left_range`` note.
+OUTSIDE_RANGE = "outside_range"
 
 # Codes of ``Batch.notes`` (index, code): what a checker should know about one row.
 # Words for them live in app.documents.words (BATCH_NOTE_TEXT).
@@ -28,7 +33,7 @@ NOTE_CODES: tuple[str, ...] = (
     "restart_x0",          # sweep: after a failure with no good root yet, started from x0
     "branch_jump",         # sweep: the root jumped away from the branch (turning point passed?)
     "turning_point",       # sweep: f' changed sign along the branch (a fold was crossed)
-    "left_range",          # sweep: the root left the given range of the unknown
+    "left_range",          # sweep: the root left the given range of the unknown (not taken)
     "fixed_bracket",       # sweep: a bracketing method uses the same bracket on every row
     "restart_scan",        # sweep: resumed here from a root chosen by a scan at this value
 )
@@ -55,7 +60,10 @@ class Batch:
         True only where the row's method stopped at a root of f (the same rule as
         :attr:`solvers.Run.converged`).
     reason : numpy.ndarray of str
-        The stop reason of each row, one of :data:`solvers.REASONS`.
+        The stop reason of each row, one of :data:`solvers.REASONS`, or
+        :data:`OUTSIDE_RANGE` for a sweep's row whose method converged to a root outside
+        the range given for the unknown (no root recorded; :meth:`run` rebuilds the
+        method's run, which did converge, out there).
     iterations, evaluations : numpy.ndarray of int
         Iterates produced and calls of f (and f') made for each row, counted as the
         scalar methods count them (a vectorised call counts once for every row in it).

@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from solvers.batch.driver import _parameter_values, si_units
-from solvers.batch.records import Batch, BatchCancelled, _one_row
+from solvers.batch.records import OUTSIDE_RANGE, Batch, BatchCancelled, _one_row
 from solvers.batch.rows import bind_rows
 from solvers.equation import EquationError
 from solvers.methods.common import (
@@ -80,8 +80,10 @@ def sweep(
     ``branch_jump`` (the root lies far off the straight-line prediction of the last two:
     the branch ended, typically at a turning point, and another branch was found),
     ``turning_point`` (f' at the root changed sign from the previous row: a fold was
-    crossed), ``left_range`` (the root is outside ``bounds``; continuation goes on from
-    the last root inside), ``bad_parameters`` (the value gives part of f no finite value).
+    crossed), ``left_range`` (the method converged to a root outside ``bounds``: that row
+    records no root, ``converged`` False and the reason :data:`OUTSIDE_RANGE`, and
+    continuation goes on from the last root inside), ``bad_parameters`` (the value gives
+    part of f no finite value).
 
     Other parameters are floats: the equation's own values, with ``parameters`` over
     them and ``name`` replaced row by row. Units: where the equation holds ``name`` with a
@@ -173,11 +175,14 @@ def sweep(
             notes.append((k, "failed"))
             restarted, branch = True, []
             continue
-        converged[k], root[k], residual[k] = True, run.root, run.residual
         if bounds is not None and not min(bounds) <= run.root <= max(bounds):
+            # a root of f, but not of the branch asked for: the row has no root in the
+            # range (an engineer reading the table must not take it as the branch's value)
+            reason[k] = OUTSIDE_RANGE
             notes.append((k, "left_range"))
             restarted, branch = True, []
             continue
+        converged[k], root[k], residual[k] = True, run.root, run.residual
         if _jumped(branch, value, run.root, tol):
             notes.append((k, "branch_jump"))
             branch = []

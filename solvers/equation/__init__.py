@@ -98,7 +98,7 @@ from solvers.equation.lexer import (
     MAX_NAME,
     EquationError,
 )
-from solvers.equation.lines import free_names
+from solvers.equation.lines import free_names, one_line
 from solvers.equation.record import Equation, parse_equation
 from solvers.equation.typeset import MAX_TYPESET_CHARS, MAX_TYPESET_NODES
 
@@ -116,5 +116,6 @@ __all__ = [
     "EquationError",
     "constants",
     "free_names",
+    "one_line",
     "parse_equation",
 ]

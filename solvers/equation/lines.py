@@ -300,6 +300,18 @@ def check_shadowing(reading: Reading, parameters: Iterable[str],
                                          "cannot be defined", d.start))
 
 
+def one_line(text: str) -> str:
+    """The text on one line, its lines joined by ``"; "`` (what ends a line is the rule of
+    :func:`split_lines`, so the one line reads back as the same equation or system; a break
+    inside a line becomes a space). Text that cannot be read has its whitespace runs made
+    single spaces. Never raises."""
+    try:
+        lines = split_lines(text, checked_tokens(text))
+    except (EquationError, RecursionError, TypeError):
+        return " ".join(str(text).split())
+    return "; ".join(" ".join(text[line.start:line.end].split()) for line in lines)
+
+
 def free_names(text: str) -> tuple[str, ...]:
     """The names an equation uses, in order of first appearance (for a parameter table).
 

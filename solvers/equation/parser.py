@@ -174,7 +174,7 @@ class _Parser:
             if t.text == ")":
                 raise self.fail("')' without a matching '('", t.pos)
             if t.text == ",":
-                raise self.fail("',' outside a function call", t.pos)
+                raise self.comma(t, "',' outside a function call")
             raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
         return lhs, rhs
 
@@ -337,7 +337,7 @@ class _Parser:
             prev = self.tokens[self.i - 2]
             raise self.fail(f"nothing between {prev.text!r} and '='", t.pos)
         if t.text == ",":
-            raise self.fail("',' outside a function call or a missing argument", t.pos)
+            raise self.comma(t, "',' outside a function call or a missing argument")
         prev = self.tokens[self.i - 2].text if self.i >= 2 else ""
         if t.text in ("*", "**", "/", "^"):
             if prev in ("*", "**", "/", "^", "+", "-"):
@@ -355,8 +355,19 @@ class _Parser:
         if t.text == "=":
             raise self.fail("'=' inside parentheses", t.pos)
         if t.text == ",":
-            raise self.fail("',' outside a function call", t.pos)
+            raise self.comma(t, "',' outside a function call")
         raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
+
+    def comma(self, t: _Token, message: str) -> EquationError:
+        """A misplaced ','; between two whole numbers written tight (2,5) it is most likely
+        a decimal comma, and the message says how to write the number."""
+        j = next((k for k, u in enumerate(self.tokens) if u is t), None)
+        if j is not None and 0 < j < len(self.tokens) - 1:
+            before, after = self.tokens[j - 1], self.tokens[j + 1]
+            if (before.kind == after.kind == "num" and before.text.isdigit()
+                    and after.text.isdigit() and before.end == t.pos and after.pos == t.end):
+                message += f" (a decimal comma? write {before.text}.{after.text})"
+        return self.fail(message, t.pos)
 
     def number(self, t: _Token) -> _Node:
         value = float(t.text)
@@ -380,8 +391,8 @@ class _Parser:
             if name in CONSTANT_NAMES:
                 raise self.fail(f"'{name}' is a constant, not a function: write {name}*(...)",
                                 t.pos)
-            raise self.fail(f"unknown function '{name}' (write {name}*(...) for a product)",
-                            t.pos)
+            raise self.fail(f"unknown function '{name}' ({_did_you_mean(name)}write "
+                            f"{name}*(...) for a product)", t.pos)
         if name in self.bindings:  # the constants pi and deg, and names defined on earlier lines
             self.used.add(name)
             return self.bindings[name]
@@ -472,3 +483,14 @@ def _constant_bindings() -> dict[str, Any]:
     deg_value = math.pi / 180
     return {"pi": _Node(sp.Float(math.pi), math.pi),
             "deg": _Node(sp.Float(deg_value), deg_value)}
+
+
+def _did_you_mean(name: str) -> str:
+    """"did you mean 'sqrt'? " for a name close to one of the functions (difflib's
+    ratio >= 0.6, its default), else ''."""
+    import difflib
+
+    close = difflib.get_close_matches(name, FUNCTIONS, n=2)
+    if not close:
+        return ""
+    return "did you mean " + " or ".join(f"'{c}'" for c in close) + "? or "

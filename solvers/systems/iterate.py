@@ -158,6 +158,16 @@ def _cap(d: np.ndarray, x: np.ndarray) -> np.ndarray:
     return d * (longest / length) if length > longest else d
 
 
+def _fraction(lam: float, taken: np.ndarray, full: np.ndarray) -> float:
+    """The damping recorded for a step: the fraction of the full step taken, lam times the
+    cap's shortening of the direction. From lam and the directions, not from the norm of
+    x_new - x (rounding in x + lam*d - x made a full step read 0.9999999999999999, and
+    0.99999988 where the step is tiny beside x): a full step records exactly 1.0."""
+    if taken is full:
+        return float(lam)
+    return min(1.0, float(lam) * float(np.linalg.norm(taken) / np.linalg.norm(full)))
+
+
 def _search(p: Problem, x: np.ndarray, f: np.ndarray, d: np.ndarray, slope: float
             ) -> tuple[np.ndarray, np.ndarray, float] | None:
     """(x_new, F_new, lam) with sufficient decrease of phi along d, or None."""
@@ -267,14 +277,13 @@ def newton(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float,
             d2 = _levenberg(jac, f)
             other = _search(p, x, f, d2, float((jac.T @ f) @ d2))
             if other is not None and (found is None or _phi(other[1]) < _phi(found[1])):
-                found, full, regularised = other, d2, True
+                found, full, d, regularised = other, d2, d2, True
         if found is None:
             return Outcome(x, ZERO_DERIVATIVE, k - 1)
         x_new, f, lam = found
         step = x_new - x
         x = x_new
-        damping = min(1.0, float(np.linalg.norm(step) / np.linalg.norm(full)))
-        p.record(x, f, float(np.linalg.norm(step)), damping, regularised)
+        p.record(x, f, float(np.linalg.norm(step)), _fraction(lam, d, full), regularised)
         stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
         if stop:
             return Outcome(x, stop, k)
@@ -319,7 +328,7 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
             d2 = _levenberg(b, f)  # as in Newton: the regularised direction as well
             other = _search(p, x, f, d2, float((b.T @ f) @ d2))
             if other is not None and (found is None or _phi(other[1]) < _phi(found[1])):
-                found, full, regularised = other, d2, True
+                found, full, d, regularised = other, d2, d2, True
         if found is None:
             return Outcome(x, ZERO_DERIVATIVE, k)
         x_new, f_new, lam = found
@@ -332,8 +341,7 @@ def broyden(p: Problem, x0: np.ndarray, *, xtol: float, rtol: float, ftol: float
             b = b + np.outer(y - b @ s, s) / ss
         fresh = False
         x, f = x_new, f_new
-        p.record(x, f, float(np.linalg.norm(s)),
-                 min(1.0, float(np.linalg.norm(s) / np.linalg.norm(full))), regularised)
+        p.record(x, f, float(np.linalg.norm(s)), _fraction(lam, d, full), regularised)
         stop = _stop_on_residual(p, x, f, ftol, xtol, rtol)
         if stop:
             return Outcome(x, stop, k)

@@ -177,9 +177,12 @@ def _key_value_table(rows: Sequence[tuple[str, Any]], st: dict, key_width: float
     return table
 
 
+HEADER_FONT = "ZT-Sans-Bold"  # the header rows of every grid
+
+
 def _grid_style(header_rows: int = 1, mono_from_col: int | None = None) -> list:
     style = [
-        ("FONTNAME", (0, 0), (-1, header_rows - 1), "ZT-Sans-Bold"),
+        ("FONTNAME", (0, 0), (-1, header_rows - 1), HEADER_FONT),
         ("FONTSIZE", (0, 0), (-1, -1), 8),
         ("TEXTCOLOR", (0, 0), (-1, -1), INK),
         ("BACKGROUND", (0, 0), (-1, header_rows - 1), HEAD_FILL),
@@ -201,12 +204,22 @@ def _grid_style(header_rows: int = 1, mono_from_col: int | None = None) -> list:
 def _fitted_widths(
     rows: Sequence[Sequence[str]], fonts: Sequence[str], width: float, size: float
 ) -> tuple[list[float], float]:
-    """Column widths for plain-text cells and a font size (<= size) so the table fits."""
-    pad = 6.0
-    natural = [
-        max(pdfmetrics.stringWidth(str(row[c]), fonts[c], 1.0) for row in rows)
-        for c in range(len(fonts))
-    ]
+    """Column widths for plain-text cells and a font size (<= size) so the table fits.
+
+    ``rows[0]`` is the header row: it is measured in the header's bold face as well as in
+    ``fonts`` (whichever is wider), since :func:`_grid_style` sets headers in bold sans;
+    measured in the body's mono face alone, a header wider than its numbers ran into the
+    next column's ("Unknown Newton–Raphson")."""
+    pad = 6.0  # the cell's left and right padding of _grid_style (3 + 3)
+
+    def measure(row: int, c: int) -> float:
+        text = str(rows[row][c])
+        width = pdfmetrics.stringWidth(text, fonts[c], 1.0)
+        if row == 0:
+            width = max(width, pdfmetrics.stringWidth(text, HEADER_FONT, 1.0))
+        return width
+
+    natural = [max(measure(r, c) for r in range(len(rows))) for c in range(len(fonts))]
     needed = sum(natural) * size + pad * len(fonts)
     if needed > width:
         size = max(5.5, (width - pad * len(fonts)) / sum(natural))

@@ -11,6 +11,7 @@ from typing import Any
 from xml.sax.saxutils import escape
 
 from reportlab.lib import colors
+from reportlab.lib.enums import TA_RIGHT
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
 from reportlab.platypus import (
@@ -36,6 +37,7 @@ from app.documents.report.layout import (
     TEXT_WIDTH,
     TOOL_NAME,
     _boxed,
+    _fitted_widths,
     _grid_style,
     _heading,
     _key_value_table,
@@ -81,7 +83,9 @@ def _calc_number(ws: Worksheet) -> str:
 def _title(ws: Worksheet, equation: Any) -> str:
     if ws.title.strip():
         return ws.title.strip()
-    text = " ".join(ws.equation.split())
+    from solvers.equation.lines import one_line
+
+    text = one_line(ws.equation)  # its lines joined by "; ", as the CSV files write it
     text = text if len(text) <= 80 else text[:79] + "…"
     return f"Root of {text} for {equation.unknown}"
 
@@ -296,9 +300,10 @@ def _results_section(c: _Context) -> list[Flowable]:
         order = r.order
         data.append([
             Paragraph(escape(_label(r.method)), st["cell"]),
-            _num(r.root),
+            words.root_cell(r, _num),  # "—" where it did not converge (box below)
             "yes" if r.converged else "NO",
-            r.reason,
+            # words, not the code (the code stands in the line under the table)
+            Paragraph(escape(words.reason_short(r.reason)), st["cell"]),
             str(r.iterations),
             str(r.evaluations),
             words.order_text(order),
@@ -308,8 +313,6 @@ def _results_section(c: _Context) -> list[Flowable]:
     style = _grid_style()
     style += [
         ("FONTNAME", (1, 1), (1, -1), "ZT-Mono"),
-        ("FONTNAME", (3, 1), (3, -1), "ZT-Mono"),
-        ("FONTSIZE", (3, 1), (3, -1), 7.4),
         ("ALIGN", (4, 0), (-1, -1), "RIGHT"),
     ]
     for i, r in enumerate(runs, start=1):
@@ -376,11 +379,24 @@ def _results_section(c: _Context) -> list[Flowable]:
         values = [sol.equation.definition_values(r.root) for r in runs]
         units = sol.equation.definition_units()  # {} when the equation has no units
         unit_column = ["Unit (SI)"] if units else []
-        ddata = [["Name", *unit_column, *(_label(r.method) for r in runs)]] + [
-            [name, *([words.unit_cell(units.get(name))] if units else []),
-             *(_num(v[name]) for v in values)] for name in sol.equation.definitions]
-        out.append(Table(ddata, repeatRows=1, hAlign="LEFT",
-                         style=TableStyle(_grid_style(mono_from_col=0))))
+        texts = 1 + len(unit_column)  # name (and unit) columns, left; numbers right
+        body = [[name, *([words.unit_cell(units.get(name))] if units else []),
+                 *(_num(v[name]) for v in values)] for name in sol.equation.definitions]
+        # widths for the method's title and the numbers (every header measured in bold)
+        widths, size = _fitted_widths([["Name", *unit_column, *(_label(r.method) for r in runs)],
+                                       *body], ["ZT-Mono"] * (texts + len(runs)), TEXT_WIDTH,
+                                      8)
+        # a run that did not converge has no root: its column says where the values are,
+        # wrapped under the method's title
+        right = ParagraphStyle("head_right", parent=st["label"], alignment=TA_RIGHT,
+                               textColor=INK, fontSize=8, leading=9.8)
+        head = ["Name", *unit_column,
+                *(Paragraph(escape(words.result_column(_label(r.method), r.converged)), right)
+                  for r in runs)]
+        style = _grid_style(mono_from_col=0) + [("FONTSIZE", (0, 1), (-1, -1), size),
+                                                ("ALIGN", (texts, 0), (-1, -1), "RIGHT")]
+        out.append(Table([head, *body], colWidths=widths, repeatRows=1, hAlign="LEFT",
+                         style=TableStyle(style)))
         if units:
             out.append(Paragraph("Defined quantities are in SI base units.", st["small"]))
     return out

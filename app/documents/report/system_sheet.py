@@ -215,9 +215,11 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
     head = ["Method", "Conv.", "Stop reason", "Iter.", "Evals", "||F|| at the end"]
     data: list[list[Any]] = [head] + [
         [Paragraph(escape(words.system_method_title(r.method)), st["cell"]),
-         "yes" if r.converged else "NO", r.reason, str(r.iterations), str(r.evaluations),
+         "yes" if r.converged else "NO",
+         Paragraph(escape(words.reason_short(r.reason)), st["cell"]),  # words, not the code
+         str(r.iterations), str(r.evaluations),
          words.number(r.residual_norm, 4)] for r in runs]
-    style = _grid_style() + [("FONTNAME", (2, 1), (-1, -1), "ZT-Mono"),
+    style = _grid_style() + [("FONTNAME", (3, 1), (-1, -1), "ZT-Mono"),
                              ("ALIGN", (3, 0), (-1, -1), "RIGHT")]
     for i, r in enumerate(runs, start=1):
         if not r.converged:
@@ -235,14 +237,18 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
                 "root.", st["body"]), FAIL_INK, FAIL_FILL), Spacer(1, 3)]
         else:
             out.append(Paragraph(escape(words.system_run_message(r)), st["small"]))
-    titles = [words.system_method_title(r.method) for r in runs]
+    # a run that did not converge has no root: its columns say where the values are
+    titles = [words.result_column(words.system_method_title(r.method), r.converged)
+              for r in runs]
 
-    def grid(header: list[str], rows: list[list[str]]) -> Table:
+    def grid(header: list[str], rows: list[list[str]], text_columns: int = 1) -> Table:
+        """Names (and units) in the first ``text_columns`` columns, left-aligned; numbers
+        after them right-aligned under right-aligned headers."""
         widths, size = _fitted_widths([header, *rows], ["ZT-Mono"] * len(header), TEXT_WIDTH,
                                       7.8)
         style = _grid_style() + [("FONTNAME", (0, 1), (-1, -1), "ZT-Mono"),
                                  ("FONTSIZE", (0, 0), (-1, -1), size),
-                                 ("ALIGN", (1, 1), (-1, -1), "RIGHT")]
+                                 ("ALIGN", (text_columns, 0), (-1, -1), "RIGHT")]
         return Table([header, *rows], colWidths=widths, repeatRows=1, hAlign="LEFT",
                      style=TableStyle(style))
 
@@ -266,7 +272,7 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
         if units:
             out.append(grid(["Name", "Unit (SI)", *titles],
                             [[d, words.unit_cell(units.get(d)), *(_num(v[d]) for v in values)]
-                             for d in system.definitions]))
+                             for d in system.definitions], text_columns=2))
             out.append(Paragraph("Defined quantities are in SI base units.", st["small"]))
         else:
             out.append(grid(["Name", *titles],
@@ -301,8 +307,10 @@ def _iteration_table(run: Any, system: Any, st: dict) -> list[Flowable]:
              words.number(s.residual_norm, 6), words.number(s.step_norm, 6),
              words.number(s.damping, 4) + (" LM" if s.regularised else "")] for s in steps]
     widths, size = _fitted_widths([header, *body], ["ZT-Mono"] * len(header), TEXT_WIDTH, 7.8)
-    banner = (f"{words.system_method_title(run.method)} — {len(run.steps)} points recorded, "
-              f"{run.iterations} iterations, stop: {run.reason}"
+    banner = (f"{words.system_method_title(run.method)} — "
+              f"{words.counted(len(run.steps), 'point')} recorded, "
+              f"{words.counted(run.iterations, 'iteration')}, stop: "
+              f"{words.reason_short(run.reason)}"
               + (f"; {omitted} middle iterates left out here (the CSV holds every one)"
                  if omitted else ""))
     style = _grid_style(header_rows=2) + [

@@ -53,7 +53,7 @@ def table_section(c: Any, number: str = "8") -> list[Flowable]:
 
     st, batch, equation = c.st, t.done.batch, t.done.equation
     what = ("a sweep of " + t.names[0] + ", each value started from the previous root"
-            if t.kind == "sweep" else f"a table of {batch.size} rows")
+            if t.kind == "sweep" else f"a table of {words.counted(batch.size, 'row')}")
     settings = "; ".join(f"{k} = {v}" for k, v in batch.settings.items() if k != "swept")
     out: list[Flowable] = [
         CondPageBreak(70 * mm),

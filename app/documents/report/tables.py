@@ -65,10 +65,9 @@ def _iteration_table(run: Run, st: dict, unknown: str = "x",
                      unit: str | None = None) -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
-        return [
-            Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(words.run_message(run))}",
-                      st["body"])
-        ]
+        message = words.run_message(run, unknown, unit)
+        return [Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(message)}",
+                          st["body"])]
     headings = words.iterate_headings(unknown, "sheet", unit)
     columns = [
         (key, headings[key])
@@ -95,8 +94,9 @@ def _iteration_table(run: Run, st: dict, unknown: str = "x",
     measured = [header] + [r for i, r in enumerate(body) if i != gap_row]
     widths, size = _fitted_widths(measured, fonts, TEXT_WIDTH, 7.8)
     banner = (
-        f"{label} — {len(run.steps)} points recorded, {run.iterations} iterations, "
-        f"stop: {run.reason}"
+        f"{label} — {words.counted(len(run.steps), 'point')} recorded, "
+        f"{words.counted(run.iterations, 'iteration')}, "
+        f"stop: {words.reason_short(run.reason)}"
     )
     data = [[banner] + [""] * len(columns), header] + body
     style = _grid_style(header_rows=2)
