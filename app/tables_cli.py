@@ -122,15 +122,21 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
         print(f"note: row {index + 1}: {batch_note_text(code)}")
     if len(batch.notes) > 20:
         print(f"note: ... {len(batch.notes) - 20} more notes (all of them in --out or --json)")
-    _print_rows(batch, names, columns)
+    _print_rows(batch, headers, columns, equation)
     if out:
         print(f"results written to {out}")
     print(terminal.caution())
     return EXIT_OK
 
 
-def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray]) -> None:
+def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray],
+                equation: Any = None) -> None:
+    """The first and last rows: ``names`` the input columns' headings as read (with their
+    units), the root headed with the unknown's name and unit."""
     from app.documents import words
+
+    root_heading = words.iterate_headings(getattr(equation, "unknown", "x") or "x", "ascii",
+                                          getattr(equation, "unknown_unit", None))["x"]
 
     n = batch.size
     shown = list(range(n)) if n <= 2 * SHOWN_ROWS else [
@@ -146,7 +152,7 @@ def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray]) -> None
                       else words.NOT_A_ROOT),
                      str(batch.reason.flat[i])])
     print()
-    print(terminal._table(["row", *names, "root", "reason"], rows))
+    print(terminal._table(["row", *names, root_heading, "reason"], rows))
     # the reason column holds codes (scripts read them): what each one shown means
     print("reasons: " + words.reason_legend(r[-1] for r in rows if r[-1]))
 

@@ -20,7 +20,7 @@ import scipy.optimize
 from app.documents.report import write_report
 from app.documents.report.table_section import SHOWN_ROWS, shown_rows
 from app.documents.tables import TableResults
-from app.documents.words import CAUTION, batch_summary
+from app.documents.words import CAUTION, batch_summary, reason_short
 from app.documents.worksheet import load
 from solvers import pipeline
 from solvers.batch import solve_sweep, solve_table
@@ -69,6 +69,13 @@ def test_a_sheet_with_a_long_table_prints_its_ends_summary_notes_and_chart(tmp_p
         if i != 50:
             assert repr(printed) in text
     assert "Row 31: the row's parameter values give part of the equation" in text
+    # the table heads the root with the unknown's name, the residual as F(f) (an unknown
+    # called f), and gives each row's reason in words, never the code
+    assert "row Re D f reason iter. F(f)" in text
+    rows_text = text[text.index("row Re D f reason iter. F(f)"):text.index("rows left out here")]
+    shown = {str(c) for c in done.batch.reason[:SHOWN_ROWS]}
+    assert all(reason_short(c) in rows_text for c in shown)
+    assert not any(c in rows_text for c in shown if c != reason_short(c))
     assert repr(float(done.batch.root[20])) not in text  # left out of the middle
     assert "Figure 3. Design chart" in text
     assert flat(CAUTION)[:60] in text

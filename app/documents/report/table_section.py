@@ -89,7 +89,10 @@ def table_section(c: Any, number: str = "8") -> list[Flowable]:
 
 def _rows_table(t: Any, st: dict) -> Table:
     batch = t.done.batch
-    header = ["row", *t.headers, "root", "reason", "iter.", "residual"]
+    equation = t.done.equation
+    headings = words.iterate_headings(equation.unknown, "ascii", equation.unknown_unit)
+    # the root in the unknown's name and unit, the reason in words (the CSV keeps codes)
+    header = ["row", *t.headers, headings["x"], "reason", "iter.", headings["fx"]]
     body: list[list[str]] = []
     failed_rows: list[int] = []
     gap = None
@@ -105,7 +108,8 @@ def _rows_table(t: Any, st: dict) -> Table:
             failed_rows.append(len(body))
         body.append([str(i + 1), *(str(cells[i]) for cells in t.cells),
                      _num(root) if math.isfinite(root) else "—",
-                     str(batch.reason.flat[i]), str(int(batch.iterations.flat[i])),
+                     words.reason_short(str(batch.reason.flat[i])),
+                     str(int(batch.iterations.flat[i])),
                      _num(residual) if math.isfinite(residual) else "—"])
     measured = [header] + [r for k, r in enumerate(body) if k != gap]
     widths, size = _fitted_widths(measured, ["ZT-Mono"] * len(header), TEXT_WIDTH, 7.8)
