@@ -274,6 +274,18 @@ def test_a_parameter_name_in_the_wrong_case_is_named(capsys) -> None:
     assert code == 2 and "did you mean 'a'?" in err
 
 
+def test_a_name_the_equation_uses_is_never_called_a_misspelling(capsys) -> None:
+    """h is in the equation beside hf: the hint must not say "'h' is not in the equation"
+    (a review found it did); likewise a with A both in the text."""
+    code, _out, err = run(capsys, "solve", "hf = f*L/D*V^2/(2*g) + h", "--unknown", "D",
+                          "--param", "h=1", "--param", "f=0.02", "--param", "L=10",
+                          "--param", "V=1", "--param", "g=9.8", "--x0", "1")
+    assert code == 2 and "no value for 'hf'" in err and "did you mean" not in err
+    code, _out, err = run(capsys, "solve", "x = a + A", "--unknown", "x", "--param", "a=1",
+                          "--x0", "1")
+    assert code == 2 and "no value for 'A'" in err and "did you mean" not in err
+
+
 def test_an_unused_parameter_is_noted_and_the_run_goes_on(capsys) -> None:
     code, out, err = run(capsys, "solve", "x^2 = a", "--param", "a=4", "--param", "b=3",
                          "--x0", "1", "--method", "newton", "--json")

@@ -257,3 +257,20 @@ def test_lines_separated_by_semicolons_are_numbered_in_messages(text, params, li
         parse_equation(text, parameters=params)
     assert str(err.value).startswith(f"line {line}: ")
     assert err.value.position is not None
+
+
+def test_a_fractional_unit_of_the_unknown_leaves_the_defined_units_unnamed(capsys):
+    """Hazen-Williams in SI with C unitless (common practice: the empirical 0.278 carries
+    units the text does not show): D comes out in m^1.14.../s^0.38..., which pint cannot
+    read back; the defined area then has no unit to claim, and nothing raises (the solve
+    once printed its results and then exited 2)."""
+    from app.cli import main
+
+    text = "A = pi*D^2/4; Q = 0.278*C*D^2.63*S^0.54"
+    eq = parse_equation(text, unknown="D", parameters={"Q": "2 m^3/s", "C": 130, "S": 0.001})
+    assert eq.definition_units() == {"A": None}
+    d = (2 / (0.278 * 130 * 0.001**0.54)) ** (1 / 2.63)  # by hand
+    assert eq.definition_values(d)["A"] == pytest.approx(math.pi * d**2 / 4, rel=1e-12)
+    assert main(["solve", text, "--unknown", "D", "--param", "Q=2 m^3/s", "--param", "C=130",
+                 "--param", "S=0.001", "--x0", "1", "--method", "newton"]) == 0
+    assert "definitions at the root: A = 1.48308940" in capsys.readouterr().out

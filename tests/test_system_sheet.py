@@ -104,3 +104,22 @@ def test_the_sheet_typesets_every_line_and_numbers_the_equations(tmp_path, capsy
     assert "(4)" not in typeset
     page = pypdf.PdfReader(pdf).pages[0]
     assert len(page.images) >= 8  # one picture per line
+
+
+def test_equations_typed_with_odd_spacing_keep_their_numbers(tmp_path, capsys):
+    """A double space and an equation broken over two lines are still equations (1) and (2)
+    beside their typeset form (a review found them left unnumbered). By hand: x = 2, y = 1."""
+    import json
+
+    sheet = {"format": "zerotrace-worksheet", "version": 1, "title": "Spacing",
+             "equation": "s = x + y\nx +  y = 3\nx - y +\n 0 = 1",
+             "system": {"unknowns": [{"name": "x", "x0": 1.0}, {"name": "y", "x0": 1.0}],
+                        "methods": ["newton"]}}
+    path = tmp_path / "spacing.json"
+    path.write_text(json.dumps(sheet), encoding="utf-8")
+    pdf = tmp_path / "spacing.pdf"
+    assert main(["report", str(path), "--pdf", str(pdf)]) == 0
+    capsys.readouterr()
+    text = sheet_text(pdf)
+    typeset = text[text.index("Typeset"):text.index("Equations (1)")]
+    assert "(1) (2)" in typeset and "(3)" not in typeset

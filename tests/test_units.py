@@ -400,6 +400,18 @@ _DARCY_PARAMS = {"h": "3 psi", "L": "100 ft", "Q": "85 gal/min", "f": 0.021,
                  "g": "32.174 ft/s^2"}
 
 
+def test_a_wrong_unit_on_the_unknown_is_named_not_the_inputs():
+    """With every input right (h a head in ft) and the bore asked in psi, the equation
+    makes D a plain length: the unit given for D is the slip, and no input is blamed (a
+    review found L and g named, with absurd units)."""
+    with pytest.raises(EquationError) as info:
+        parse_equation(_DARCY, unknown="D", unknown_unit="psi",
+                       parameters={**_DARCY_PARAMS, "h": "3 ft"})
+    message = str(info.value)
+    assert "the unknown unit 'psi' does not fit 'D'" in message and "makes it m," in message
+    assert "check the unit given for 'D'" in message and "most likely" not in message
+
+
 def test_a_unit_that_does_not_fit_names_the_input_most_likely_wrong():
     with pytest.raises(EquationError) as info:
         parse_equation(_DARCY, unknown="D", unknown_unit="mm", parameters=_DARCY_PARAMS)
@@ -455,17 +467,27 @@ def test_a_kinematic_viscosity_for_a_dynamic_one_is_named():
 
 
 # SI derived units (SI Brochure, 9th ed., Table 4; NIST SP 811, Table 3): W = m^2*kg*s^-3,
-# J = m^2*kg*s^-2, N = m*kg*s^-2, Pa = m^-1*kg*s^-2; the compositions are the ones NIST SP
-# 811 Table 4 lists (W/(m^2*K) heat transfer coefficient, J/(kg*K) specific heat, Pa*s
-# dynamic viscosity, W/(m*K) thermal conductivity, N/m surface tension, J/kg, N*s).
+# J = m^2*kg*s^-2, N = m*kg*s^-2, Pa = m^-1*kg*s^-2, V = W/A, ohm = V/A; the compositions
+# are ones NIST SP 811 Table 4 lists (W/(m^2*K) heat transfer coefficient, J/(kg*K)
+# specific heat, Pa*s dynamic viscosity, W/(m*K) thermal conductivity, N/m surface
+# tension, W/m^2 heat flux) and common practice (W/m^3 a volumetric heat source, W/K a
+# conductance UA); every other dimension stays in base units (a review found a search
+# writing W/m^3 as "Pa/s" and a mass flux as "Pa*s/m").
 @pytest.mark.parametrize(("typed", "base", "people"), [
     ("W/(m^2*K)", "kg/(s^3*K)", "W/(m^2*K)"),
     ("J/(kg*K)", "m^2/(s^2*K)", "J/(kg*K)"),
     ("Pa*s", "kg/(m*s)", "Pa*s"),
     ("W/(m*K)", "kg*m/(s^3*K)", "W/(m*K)"),
     ("N/m", "kg/s^2", "N/m"),
-    ("J/kg", "m^2/s^2", "J/kg"),
-    ("N*s", "kg*m/s", "N*s"),
+    ("J/kg", "m^2/s^2", "m^2/s^2"),  # also a velocity squared: left in base units
+    ("N*s", "kg*m/s", "kg*m/s"),
+    ("W/m^3", "kg/(m*s^3)", "W/m^3"),
+    ("W/K", "kg*m^2/(s^3*K)", "W/K"),
+    ("J/K", "kg*m^2/(s^2*K)", "J/K"),
+    ("V", "kg*m^2/(s^3*A)", "V"),
+    ("ohm", "kg*m^2/(s^3*A^2)", "ohm"),
+    ("kg/(m^2*s)", "kg/(m^2*s)", "kg/(m^2*s)"),
+    ("kg/(m^3*s)", "kg/(m^3*s)", "kg/(m^3*s)"),
     ("W/m^2", "kg/s^3", "W/m^2"),
     ("1/Pa", "m*s^2/kg", "1/Pa"),
     ("psi", "Pa", "Pa"),

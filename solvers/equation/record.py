@@ -13,7 +13,7 @@ from __future__ import annotations
 import difflib
 import math
 import re
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Callable, Collection, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from numbers import Real
 from typing import Any
@@ -252,7 +252,12 @@ class Equation:
         by_name = dict(zip(core.parameter_names, core.symbols, strict=True))
         dims = {by_name[n]: c.dimension for n, c in self.units.items() if n in by_name}
         if self.unknown_unit:
-            dims[core.x] = read_unit(self.unknown_unit).dimension
+            try:
+                dims[core.x] = read_unit(self.unknown_unit).dimension
+            except EquationError:
+                # an inferred unit with fractional powers (m^1.14/s^0.38) is not unit
+                # text pint reads back: no unit can be claimed for what uses x
+                return {d.name: None for d in core.definitions}
         found = dimensions_of([d.expr for d in core.definitions], dims)
         return {d.name: None if dim is None else unit_text(dim)
                 for d, dim in zip(core.definitions, found, strict=True)}
@@ -462,9 +467,11 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
 # ---------------------------------------------------------------------------------------------
 
 
-def misnamed_hint(missing: Sequence[str], given: Iterable[str]) -> str:
+def misnamed_hint(missing: Sequence[str], given: Iterable[str],
+                  used: Collection[str] = ()) -> str:
     """' (did you mean 'a'? 'A' is not in the equation)' for each given name the equation
-    does not use that is close to a name it lacks a value for ('' when none is).
+    does not use (``used``: the names it does) that is close to a name it lacks a value for
+    ('' when none is).
 
     Close: the same name in another case, or difflib's ratio >= 0.6 on the lower-case
     names (esp for eps, hf for h), each missing name suggested once.
@@ -473,7 +480,7 @@ def misnamed_hint(missing: Sequence[str], given: Iterable[str]) -> str:
     lower = {n.lower(): n for n in missing}
     said, taken = [], set()
     for name in given:
-        if not isinstance(name, str) or name in names:
+        if not isinstance(name, str) or name in names or name in used:
             continue
         close = difflib.get_close_matches(name.lower(), list(lower), n=1, cutoff=0.6)
         if close and lower[close[0]] not in taken:
@@ -498,7 +505,8 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
             hint = " ('e' is an ordinary name; write exp(...) for the exponential)"
         raise _fail(text, "cannot tell the unknown: " + ", ".join(
             f"'{n}'" for n in open_names) + " have no value; name the unknown or give "
-            "values for the others" + hint + misnamed_hint(open_names, values), None)
+            "values for the others" + hint + misnamed_hint(open_names, values, names),
+            None)
     if not isinstance(unknown, str):
         raise EquationError(f"the unknown must be a name, got {type(unknown).__name__}")
     if unknown not in names:
@@ -509,7 +517,7 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
     missing = [n for n in names if n != unknown and n not in values]
     if missing:
         raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values),
+                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values, names),
                     first_pos[missing[0]])
     return unknown
 

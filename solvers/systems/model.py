@@ -134,7 +134,10 @@ class System:
         for x in self._xs:  # x in its unit: the same dimension as in SI
             unit = self.unknown_units.get(x.name)
             if unit:
-                dims[x] = read_unit(unit).dimension
+                try:
+                    dims[x] = read_unit(unit).dimension
+                except EquationError:  # fractional powers: no unit can be claimed
+                    return {name: None for name in self.definitions}
         found = dimensions_of(self._definition_exprs, dims)
         return {name: None if dim is None else unit_text(dim)
                 for name, dim in zip(self.definitions, found, strict=True)}
@@ -232,7 +235,8 @@ def _choose_unknowns(reading: Reading, given: tuple[str, ...] | None,
     if missing:
         raise reading.numbered(_fail(
             reading.text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-            + " (the unknowns are " + ", ".join(given) + ")" + misnamed_hint(missing, values),
+            + " (the unknowns are " + ", ".join(given) + ")"
+            + misnamed_hint(missing, values, names),
             reading.first_pos[missing[0]]))
     return given
 

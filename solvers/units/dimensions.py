@@ -31,7 +31,14 @@ import sympy as sp
 
 from solvers.equation.lexer import EquationError, _fail
 from solvers.equation.parser import snippet
-from solvers.units.reading import Dimension, dimension_words, needs_words, quantity_words, unit_size
+from solvers.units.reading import (
+    Dimension,
+    dimension_words,
+    is_common_quantity,
+    needs_words,
+    quantity_words,
+    unit_size,
+)
 
 # Exponents are exact fractions here (a double exponent such as 1.85 is read as 37/20), so
 # Q^1.85 with Q's dimension solved from it gives back exactly Q's dimension.
@@ -407,9 +414,16 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
                 continue
             fixed_at[j] = where
             if j in given_exact and value != given_exact[j]:
-                blame = "" if typed is None else suspects_words(suspects(
-                    text, parts, sides, unknowns, dimensions, given, names_at, typed),
-                    unknowns[j].name, given_text[j], given_exact[j])
+                if is_common_quantity(_plain(value)):
+                    # the equation makes the unknown a plain length, pressure, ...: the
+                    # unit chosen for it is the likelier slip, not the inputs' units
+                    blame = f"; check the unit given for '{unknowns[j].name}'"
+                elif typed is None:
+                    blame = ""
+                else:
+                    blame = suspects_words(suspects(
+                        text, parts, sides, unknowns, dimensions, given, names_at, typed),
+                        unknowns[j].name, given_text[j], given_exact[j])
                 raise _fail(text, f"the unknown unit '{given_text[j]}' does not fit "
                             f"'{unknowns[j].name}': `{snippet(text, *where)}` makes it "
                             f"{dimension_words(_plain(value))}, not "

@@ -260,9 +260,10 @@ def unit_text(dimension: Dimension, pretty: bool = False, derived: bool = False)
     """SI units of a dimension: ``m^3/s``, ``kg/(m*s)``, ``Pa`` ('' when dimensionless).
 
     ``pretty`` writes powers as superscripts and products with '·' (for messages).
-    ``derived`` (text for people; see :func:`_with_derived`) writes a coherent derived
-    unit where it makes the unit simpler: ``W/(m^2*K)`` for kg/(s^3*K), ``J/(kg*K)``,
-    ``Pa*s``. Without it the text is in base units (what files and JSON keep).
+    ``derived`` (text for people; see :func:`_with_derived`) writes the compositions
+    engineers use with a derived unit: ``W/(m^2*K)`` for kg/(s^3*K), ``J/(kg*K)``,
+    ``Pa*s``; any other dimension stays in base units. Without it the text is in base units
+    (what files and JSON keep).
     """
     if dimension in _NAMED:
         return _NAMED[dimension]
@@ -302,53 +303,59 @@ def _join_units(parts: list[tuple[str, float]], pretty: bool) -> str:
     return f"{top}/({bottom})" if len(down) > 1 else f"{top}/{bottom}"
 
 
-# Coherent derived SI units tried on text for people, in the order a tie is settled (SI
-# Brochure, 9th ed., Table 4; NIST SP 811, Table 3: W = J/s = m^2*kg*s^-3, J = N*m =
-# m^2*kg*s^-2, N = m*kg*s^-2, Pa = N/m^2 = m^-1*kg*s^-2).
-_DERIVED: tuple[tuple[str, dict[str, float]], ...] = (
-    ("W", {"[length]": 2.0, "[mass]": 1.0, "[time]": -3.0}),
-    ("J", {"[length]": 2.0, "[mass]": 1.0, "[time]": -2.0}),
-    ("N", {"[length]": 1.0, "[mass]": 1.0, "[time]": -2.0}),
-    ("Pa", {"[length]": -1.0, "[mass]": 1.0, "[time]": -2.0}),
+# Coherent derived SI units for text for people (SI Brochure, 9th ed., Tables 4 and 5;
+# NIST SP 811, Tables 3 and 4: W = J/s = m^2*kg*s^-3, J = N*m = m^2*kg*s^-2, N = m*kg*s^-2,
+# Pa = N/m^2, V = W/A, ohm = V/A), and the compositions engineers write with them: each
+# entry is used exactly where its dimension matches, nothing is searched for, so a mass
+# flux stays kg/(m^2*s) and a velocity squared m^2/s^2 (never "Pa*s/m" or "J/kg").
+_DERIVED_UNITS: dict[str, dict[str, float]] = {
+    "W": {"[length]": 2.0, "[mass]": 1.0, "[time]": -3.0},
+    "J": {"[length]": 2.0, "[mass]": 1.0, "[time]": -2.0},
+    "N": {"[length]": 1.0, "[mass]": 1.0, "[time]": -2.0},
+    "Pa": {"[length]": -1.0, "[mass]": 1.0, "[time]": -2.0},
+    "V": {"[length]": 2.0, "[mass]": 1.0, "[time]": -3.0, "[current]": -1.0},
+    "ohm": {"[length]": 2.0, "[mass]": 1.0, "[time]": -3.0, "[current]": -2.0},
+}
+_PREFERRED_PARTS: tuple[tuple[tuple[str, float], ...], ...] = (
+    (("Pa", 1.0), ("s", 1.0)),                  # dynamic viscosity
+    (("W", 1.0), ("m", -2.0), ("K", -1.0)),     # heat transfer coefficient
+    (("W", 1.0), ("m", -1.0), ("K", -1.0)),     # thermal conductivity
+    (("J", 1.0), ("kg", -1.0), ("K", -1.0)),    # specific heat capacity
+    (("J", 1.0), ("K", -1.0)),                  # heat capacity
+    (("W", 1.0), ("K", -1.0)),                  # thermal conductance (UA)
+    (("W", 1.0), ("m", -2.0)),                  # heat flux
+    (("W", 1.0), ("m", -3.0)),                  # volumetric heat source
+    (("N", 1.0), ("m", -1.0)),                  # surface tension, line load, stiffness
+    (("Pa", 1.0), ("m", -1.0)),                 # pressure gradient
+    (("Pa", -1.0),),                            # compressibility
+    (("V", 1.0),),
+    (("ohm", 1.0),),
 )
+
+
+def _parts_dimension(parts: tuple[tuple[str, float], ...]) -> Dimension:
+    base = {symbol: name for name, symbol in _SYMBOLS.items()}
+    total: dict[str, float] = {}
+    for symbol, power in parts:
+        unit = _DERIVED_UNITS.get(symbol) or {base[symbol]: 1.0}
+        for name, e in unit.items():
+            total[name] = total.get(name, 0.0) + power * e
+    return tuple(sorted((n, e) for n, e in total.items() if e))
+
+
+_PREFERRED: dict[Dimension, tuple[tuple[str, float], ...]] = {
+    _parts_dimension(parts): parts for parts in _PREFERRED_PARTS}
 
 
 def _with_derived(dimension: Dimension, parts: list[tuple[str, float]]
                   ) -> list[tuple[str, float]]:
-    """The factors of a unit with one of W, J, N, Pa (to the power 1 or -1) divided out
-    where that makes the unit simpler, else ``parts`` as they are.
-
-    Simpler (deterministic): a strictly smaller sum of |exponents| over the factors
-    (W/(m^2*K) 4 < kg/(s^3*K) 5; J/(kg*K) 3 < m^2/(s^2*K) 5; Pa*s 2 < kg/(m*s) 3), then
-    fewer factors, then shorter text, then the order of _DERIVED; a unit that does not take up the
-    dimension's mass (all four hold kg) must lower that sum by 2 (J/kg for m^2/s^2, but
-    m/s^2 never N/kg). A unit that gains nothing keeps its base units (kg*m^2 stays: J*s^2
-    is no simpler), and fractional powers are left alone.
-    """
-    if any(float(e) != int(e) for _n, e in dimension):
-        return parts
-
-    def cost(candidate: list[tuple[str, float]]) -> tuple[float, int, int]:
-        return (sum(abs(e) for _n, e in candidate), len(candidate),
-                len(_join_units(candidate, False)))
-
-    best, best_cost = parts, cost(parts)
-    have = dict(dimension)
-    for symbol, unit in _DERIVED:
-        for power in (1.0, -1.0):
-            rest = dict(have)
-            for n, e in unit.items():
-                rest[n] = rest.get(n, 0.0) - power * e
-            candidate = [(symbol, power)] + [(_SYMBOLS.get(n, n.strip("[]")), e)
-                                              for n, e in sorted(rest.items()) if e]
-            c = cost(candidate)
-            # each of W, J, N, Pa holds kg^1: one that takes up the dimension's mass needs
-            # any gain (W/(m^2*K)); one that brings kg in needs a clear gain (J/(kg*K)),
-            # so an acceleration stays m/s^2, never N/kg
-            takes_mass = have.get("[mass]", 0.0) * power > 0
-            if c[0] <= cost(parts)[0] - (1 if takes_mass else 2) and c < best_cost:
-                best, best_cost = candidate, c
-    return best
+    """The factors of a unit written with a derived SI unit where the dimension is one of
+    the compositions engineers use (:data:`_PREFERRED_PARTS`: Pa*s, W/(m^2*K), J/(kg*K),
+    ...), else ``parts`` as they are (base units; a named unit alone, Pa or J, is found
+    before this by the dimension's name)."""
+    key = tuple(sorted((n, float(e)) for n, e in dimension if e))
+    preferred = _PREFERRED.get(key)
+    return list(preferred) if preferred is not None else parts
 
 
 # Names of common quantities (common practice; ISO 80000 names), for messages that say
@@ -367,6 +374,12 @@ _QUANTITIES: dict[Dimension, str] = {
     ((_L, -1.0), (_M, 1.0), (_T, -1.0)): "a dynamic viscosity",
     ((_L, 2.0), (_T, -1.0)): "a kinematic viscosity",
 }
+
+
+def is_common_quantity(dimension: Dimension) -> bool:
+    """Whether a dimension is one of the common quantities named in messages (a length,
+    a pressure, ...)."""
+    return tuple((n, float(e)) for n, e in dimension) in _QUANTITIES
 
 
 def quantity_words(dimension: Dimension) -> str:

@@ -98,11 +98,13 @@ def _typeset_lines(text: str, equations: Any, st: dict) -> Table | None:
         return None
     math_width = TEXT_WIDTH - 44 * mm - 12 * mm
     numbers = iter(range(1, len(equations) + 1))
-    pending = [e.strip() for e in equations]
+    # compared with their whitespace collapsed, as System.equations keeps them (a line
+    # broken over two, or a double space, is still that equation)
+    pending = [" ".join(e.split()) for e in equations]
     data = []
     for line, tex in lines:
         label = ""
-        if pending and line.strip() == pending[0]:
+        if pending and " ".join(line.split()) == pending[0]:
             pending.pop(0)
             label = f"({next(numbers)})"
         image = (_math(tex, math_width, 11.0) if tex else None) or _mono(line, st)
