@@ -33,6 +33,7 @@ from app.cli import (
     _setting,
     _unknown_unit,
     distinct_params,
+    note_unused_params,
 )
 
 MAX_SWEEP = 1_000_000
@@ -171,6 +172,7 @@ def _core(args: argparse.Namespace, settings: dict[str, Any]) -> dict[str, Any]:
         raise InputError(f"zerotrace {args.command}: one unknown (a table solves one equation), "
                          f"got --unknown {' '.join(unknowns)}")
     distinct_params(args.param)
+    note_unused_params(args.equation, args.param)
     constants = {name: Measured(value, unit) if unit else value
                  for name, value, unit in args.param}
     unit = systems_cli.one_unknown_unit(args)  # --unknown-unit repeats (NAME=U: a system)

@@ -245,3 +245,19 @@ def test_a_column_given_without_its_unit_beside_units_is_refused_not_solved_wron
     assert batch.converged.all()
     assert batch.root == pytest.approx([_bore(100, 3), _bore(30.48, 3)], rel=1e-10)
     assert batch.run(1).root == batch.root[1]
+
+
+def test_a_param_the_equation_does_not_use_is_noted_by_batch_and_sweep(tmp_path, capsys):
+    """As for solve: a --param the equation does not use is one note on stderr and the run
+    goes on (the swept cubic's roots against numpy.roots)."""
+    code, out, err = run(capsys, "sweep", "x^3 - x - p", "--vary", "p=-1:1:3", "--x0", "-1.3",
+                         "--param", "q=2", "--json")
+    assert code == 0 and "note: parameter 'q' is not used by the equation" in err
+    first = json.loads(out)["rows"][0]
+    real = [r.real for r in np.roots([1, 0, -1, 1]) if abs(r.imag) < 1e-12]  # p = -1
+    assert first["root"] == pytest.approx(real[0], rel=1e-12)
+    table = tmp_path / "pipes.csv"
+    table.write_text(TABLE, encoding="utf-8")
+    code, _out, err = run(capsys, "batch", COLEBROOK, "--table", str(table), "--x0", "0.02",
+                          "--param", "Rr=1e-4")
+    assert code == 0 and "note: parameter 'Rr' is not used by the equation" in err

@@ -109,9 +109,10 @@ class UnknownsModel(NamedRows, QAbstractTableModel):
             return (row.name, row.text, row.unit)[col]
         if role == Qt.ItemDataRole.FontRole:
             return self._font
-        problem = row.problem if col > 0 else ""
+        which, _what = value_and_unit_problem(row.text, row.value, row.unit)
         # only the cell at fault is marked: a bad unit is not a bad start value
-        bad = bool(problem) and problem.startswith("unit" if col == self.UNIT else "start")
+        bad = col > 0 and which == ("unit" if col == self.UNIT else "value")
+        problem = row.problem if bad else ""
         if role == Qt.ItemDataRole.BackgroundRole and bad:
             return QBrush(INVALID_BACKGROUND)
         if role == Qt.ItemDataRole.ForegroundRole and bad:

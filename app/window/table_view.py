@@ -450,7 +450,7 @@ class TableWindow(QWidget):
     # ------------------------------------------------------------------ running
     def run(self) -> bool:
         from solvers.batch import solve_sweep, solve_table
-        from solvers.methods.registry import method_spec
+        from solvers.methods.registry import missing_needs
         from solvers.units import Measured
 
         if not self.model.columns:
@@ -469,7 +469,7 @@ class TableWindow(QWidget):
         given = {"x0": starts["x0"] is not None or "x0" in self.model.names,
                  "x1": starts["x1"] is not None or "x1" in self.model.names,
                  "bracket": bracket is not None or {"a", "b"} <= set(self.model.names)}
-        missing = [need for need in method_spec(method).needs if not given[need]]
+        missing = missing_needs(method, given)
         if missing:
             self.refuse(words.method_needs_text(method, missing))
             return False

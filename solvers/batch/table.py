@@ -21,7 +21,7 @@ from solvers.batch.driver import solve_batch
 from solvers.batch.records import Batch
 from solvers.batch.sweep import sweep
 from solvers.equation import EquationError, free_names, parse_equation
-from solvers.methods.registry import method_spec
+from solvers.methods.registry import missing_needs
 from solvers.units import Measured, convert_parameters, measured
 
 # Columns that give each row its own start values (unless the equation has a parameter
@@ -65,12 +65,11 @@ def _start_values(method: str, columns: Mapping[str, np.ndarray], x0: Any, x1: A
     x1 = columns.get("x1", x1)
     a = columns.get("a", bracket[0] if bracket is not None else None)
     b = columns.get("b", bracket[1] if bracket is not None else None)
-    what = {"x0": ("x0", x0 is None), "x1": ("x1", x1 is None),
-            "bracket": ("a bracket (a, b)", a is None or b is None)}
-    for need in method_spec(method).needs:
-        text, missing = what[need]
-        if missing:
-            raise ValueError(f"method {method} needs {text}")
+    text = {"x0": "x0", "x1": "x1", "bracket": "a bracket (a, b)"}
+    missing = missing_needs(method, {"x0": x0 is not None, "x1": x1 is not None,
+                                     "bracket": a is not None and b is not None})
+    if missing:
+        raise ValueError(f"method {method} needs {text[missing[0]]}")
     return {"x0": x0, "x1": x1, "bracket": (a, b) if a is not None and b is not None else None}
 
 

@@ -129,6 +129,12 @@ def method_spec(name: str) -> MethodSpec:
     return spec
 
 
+def missing_needs(name: str, given: Mapping[str, bool]) -> tuple[str, ...]:
+    """What method ``name`` needs to start ("x0", "x1", "bracket") that ``given`` (need ->
+    whether it is there) lacks, in the registry's order."""
+    return tuple(need for need in method_spec(name).needs if not given.get(need))
+
+
 def run_method(
     name: str,
     f: Function,
