@@ -174,3 +174,29 @@ def edit_cell(qtbot: Any, view: Any, row: int, column: int, text: str,
     QTest.keyClick(editor, Qt.Key.Key_Return)
     expected = text if shown is None else shown
     qtbot.waitUntil(lambda: view.model().index(row, column).data() == expected, timeout=3000)
+
+
+def type_system(qtbot: Any, sw: Any, text: str, names: list[str]) -> None:
+    """Type ``text`` into the system window's editor (Return for each line break) and wait
+    until its unknowns table lists ``names``."""
+    from PySide6.QtCore import Qt
+    from PySide6.QtTest import QTest
+
+    sw.editor.setFocus()
+    for i, line in enumerate(text.split("\n")):
+        if i:
+            QTest.keyClick(sw.editor, Qt.Key.Key_Return)
+        QTest.keyClicks(sw.editor, line)
+    qtbot.waitUntil(lambda: sw.unknowns.names() == names, timeout=10_000)
+
+
+def open_tables_window(qtbot: Any, w: Any) -> Any:
+    """Ctrl+T in the main window's equation editor; the tables window once it is shown."""
+    from PySide6.QtCore import Qt
+
+    w.activateWindow()
+    w.strip.editor.setFocus()
+    qtbot.waitUntil(lambda: w.strip.editor.hasFocus())
+    qtbot.keyClick(w.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: w.tables is not None and w.tables.isVisible())
+    return w.tables

@@ -24,18 +24,13 @@ from gui_helpers import (  # noqa: E402
     edit_cell,
     open_system_window,
     solve_system_by_click,
+    type_system,
 )
 
 pytest_plugins = ("gui_helpers",)
 
 Button = QMessageBox.StandardButton
 PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
-
-
-def _type_system(qtbot, sw, text: str, names: list[str]) -> None:
-    sw.editor.setFocus()
-    QTest.keyClicks(sw.editor, text)
-    qtbot.waitUntil(lambda: sw.unknowns.names() == names, timeout=10_000)
 
 
 def _abandon(w) -> None:
@@ -55,7 +50,7 @@ def test_unsaved_system_work_is_offered_at_the_next_start(qtbot, isolated, dialo
     first.show()
     qtbot.waitExposed(first)
     sw = open_system_window(qtbot, first)
-    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     assert sw.modified
     assert sw.autosave_now()  # what its autosave timer does every 20 s
     copies = [p.name for p in folder.glob("unsaved-*.json") if ".meta." not in p.name]
@@ -96,7 +91,7 @@ def test_unsaved_system_work_is_offered_at_the_next_start(qtbot, isolated, dialo
 
 def test_a_clean_close_leaves_no_recovery_copy(qtbot, window, dialogs):
     sw = open_system_window(qtbot, window)
-    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     assert sw.autosave_now() and sw.recovery.exists()
     dialogs.question = Button.Discard
     assert sw.close()
@@ -109,7 +104,7 @@ def test_a_clean_close_leaves_no_recovery_copy(qtbot, window, dialogs):
 
 def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_path):
     sw = open_system_window(qtbot, window)
-    _type_system(qtbot, sw, "x^2 + y^2 = 4; x*y = 1", ["x", "y"])
+    type_system(qtbot, sw, "x^2 + y^2 = 4; x*y = 1", ["x", "y"])
     dialogs.save_name = str(tmp_path / "pair")  # no suffix: .json is added
     sw.activateWindow()
     qtbot.waitUntil(sw.isActiveWindow, timeout=5000)
@@ -176,7 +171,7 @@ def test_save_open_recent_and_significant_figures(qtbot, window, dialogs, tmp_pa
 
 def test_a_bad_file_and_a_bad_equation_are_one_line(qtbot, window, dialogs, tmp_path):
     sw = open_system_window(qtbot, window)
-    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     bad = tmp_path / "broken.json"
     bad.write_text('{"format": "zerotrace-worksheet", "version": 1, "equation": ')
     dialogs.open_name = str(bad)
@@ -272,7 +267,7 @@ def test_a_sample_opened_and_solved_is_not_unsaved_work(qtbot, window, dialogs, 
 def test_results_of_earlier_inputs_say_so(qtbot, window):
     # found by looking at the window: after an edit the old lanes passed for the new text
     sw = open_system_window(qtbot, window)
-    _type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
+    type_system(qtbot, sw, "x + y = 3; x - y = 1", ["x", "y"])
     solution = solve_system_by_click(qtbot, sw)
     assert not sw.results_note.isVisible()
     model = sw.lane_models["newton"]

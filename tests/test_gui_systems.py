@@ -24,6 +24,7 @@ from gui_helpers import (  # noqa: E402
     open_system_window,
     solve_by_keys,
     solve_system_by_click,
+    type_system,
 )
 
 pytest_plugins = ("gui_helpers",)
@@ -33,11 +34,7 @@ PUMP = SAMPLES / "systems" / "pump-two-parallel-lines.json"
 
 def test_typing_a_system_filling_starts_and_solving(qtbot, window):
     sw = open_system_window(qtbot, window)
-    sw.editor.setFocus()
-    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4")
-    QTest.keyClick(sw.editor, Qt.Key.Key_Return)
-    QTest.keyClicks(sw.editor, "x*y = 1")
-    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    type_system(qtbot, sw, "x^2 + y^2 = 4\nx*y = 1", ["x", "y"])
     assert "2 equations in x, y" in sw.status.text()
     edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
     edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")

@@ -14,6 +14,7 @@ import math
 import numpy as np
 import pytest
 import scipy.optimize
+from gui_helpers import open_tables_window  # noqa: E402
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
@@ -41,12 +42,7 @@ def click(qtbot, button) -> None:
 
 @pytest.fixture
 def tables(qtbot, window):
-    window.activateWindow()
-    window.strip.editor.setFocus()  # the menu action's shortcut opens the view
-    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
-    qtbot.keyClick(window.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
-    qtbot.waitUntil(lambda: window.tables is not None and window.tables.isVisible())
-    t = window.tables
+    t = open_tables_window(qtbot, window)  # the menu action's shortcut opens the view
     qtbot.waitExposed(t)
     type_into(qtbot, t.equation_edit, COLEBROOK)
     type_into(qtbot, t.unknown_edit, "lam")
@@ -372,12 +368,7 @@ def test_the_worksheets_start_values_fill_the_blank_fields(qtbot, window, dialog
     with x0 cleared, Run names the method by its title and what it needs."""
     assert window.load_sample("cooling-line-bore-us-customary.json")
     modified = window.isWindowModified()
-    window.activateWindow()
-    window.strip.editor.setFocus()
-    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
-    qtbot.keyClick(window.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
-    qtbot.waitUntil(lambda: window.tables is not None and window.tables.isVisible())
-    t = window.tables
+    t = open_tables_window(qtbot, window)
     assert (t.x0_edit.text(), t.a_edit.text(), t.b_edit.text()) == ("100.0", "20.0", "500.0")
     assert window.isWindowModified() == modified  # filling blank fields is no edit
     path = tmp_path / "lines.csv"
@@ -413,12 +404,7 @@ def test_a_sweep_takes_the_parameters_unit_and_a_new_table_clears_the_old_result
     from solvers import brent, parse_equation
 
     assert window.load_sample("cooling-line-bore-us-customary.json")
-    window.activateWindow()
-    window.strip.editor.setFocus()
-    qtbot.waitUntil(lambda: window.strip.editor.hasFocus())
-    qtbot.keyClick(window.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
-    qtbot.waitUntil(lambda: window.tables is not None and window.tables.isVisible())
-    t = window.tables
+    t = open_tables_window(qtbot, window)
     type_into(qtbot, t.sweep_name_edit, "Q")
     type_into(qtbot, t.sweep_from, "100")
     type_into(qtbot, t.sweep_to, "900")

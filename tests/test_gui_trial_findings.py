@@ -19,6 +19,7 @@ from gui_helpers import (  # noqa: E402
     edit_cell,
     open_system_window,
     solve_system_by_click,
+    type_system,
 )
 
 pytest_plugins = ("gui_helpers",)
@@ -26,11 +27,7 @@ pytest_plugins = ("gui_helpers",)
 
 def test_system_lanes_say_the_stop_reason_in_words_and_full_steps_as_one(qtbot, window):
     sw = open_system_window(qtbot, window)
-    sw.editor.setFocus()
-    QTest.keyClicks(sw.editor, "x^2 + y^2 = 4")
-    QTest.keyClick(sw.editor, Qt.Key.Key_Return)
-    QTest.keyClicks(sw.editor, "x*y = 1")
-    qtbot.waitUntil(lambda: sw.unknowns.names() == ["x", "y"], timeout=10_000)
+    type_system(qtbot, sw, "x^2 + y^2 = 4\nx*y = 1", ["x", "y"])
     edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
     edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")
     solution = solve_system_by_click(qtbot, sw)
