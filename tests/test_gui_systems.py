@@ -157,7 +157,10 @@ def test_the_equation_strip_reads_definitions(qtbot, window):
     assert any(r.converged for r in solution.runs)
     note = window.lanes.agreement.toolTip()
     area = math.pi * 0.05**2 / 4
-    assert f"A = {area:.6g} m^2" in note and " m/s." in note
+    from app.documents import words
+
+    shown = words.number(area, window.lanes.digits.value())  # the figures the lanes show
+    assert f"A = {shown} m^2" in note and " m/s." in note
 
 
 def test_save_writes_a_system_worksheet_that_opens_again(qtbot, window, dialogs, tmp_path):

@@ -43,8 +43,19 @@ def solve_job(ws: Worksheet, equation: Any, scan: Any) -> tuple[Any, tuple[float
     from solvers import pipeline
 
     solution = pipeline.solve(ws, equation)
+    _prepare_definitions(solution)
     a, b = plot_range(ws, solution)
     return solution, (a, b), plotdata.curve(solution.equation.f, a, b, breaks=_breaks(scan))
+
+
+def _prepare_definitions(solution: Any) -> None:
+    """Compile the definitions' code and work out their units here, in the worker: the
+    window then only evaluates them at the root (the first call compiles, which the UI
+    thread must not do)."""
+    equation = solution.equation
+    if getattr(equation, "definitions", ()) and solution.runs:
+        equation.definition_values(solution.runs[0].root)
+        equation.definition_units()
 
 
 def polish_job(ws: Worksheet, equation: Any, x: float,
@@ -52,6 +63,7 @@ def polish_job(ws: Worksheet, equation: Any, x: float,
     from solvers import pipeline
 
     solution = pipeline.polish(ws, x, equation)
+    _prepare_definitions(solution)
     a, b = plot_range(ws, solution)
     breaks = list(scan.poles) if scan is not None else []
     return solution, (a, b), plotdata.curve(solution.equation.f, a, b, breaks=breaks)

@@ -270,8 +270,9 @@ class LanesPanel(QWidget):
         for run in solution.runs:
             self.lanes[run.method].set_run(run, solution.equation.unknown,
                                            solution.equation.unknown_unit)
-        self.agreement.setText(agreement_text(solution))
-        self.agreement.setToolTip(agreement_text(solution).replace("  ", "\n"))
+        text = agreement_text(solution, self.digits.value())
+        self.agreement.setText(text)
+        self.agreement.setToolTip(text.replace("  ", "\n"))
         self.agreement.setStyleSheet("")
 
     def set_stale(self, stale: bool) -> None:
@@ -284,7 +285,7 @@ class LanesPanel(QWidget):
         self.digits_changed.emit(value)
 
 
-def agreement_text(solution: Any) -> str:
+def agreement_text(solution: Any, digits: int = 6) -> str:
     """The agreement sentence (the words module's), failures and start-value notes."""
     text = words.agreement_text(solution)
     failed = [method_label(r.method) for r in solution.runs if not r.converged]
@@ -300,6 +301,6 @@ def agreement_text(solution: Any) -> str:
         # flow regime the friction relation assumed)
         run = converged[0]
         text += (f"  At {method_label(run.method)}'s root: "
-                 + words.definitions_line(equation.definition_values(run.root), 6,
+                 + words.definitions_line(equation.definition_values(run.root), digits,
                                           equation.definition_units()) + ".")
     return text.strip()

@@ -239,6 +239,12 @@ class Equation:
         dimension check is off), from the parameters' units and the unknown's. Empty when
         the equation has no units at all (plain numbers: the values are in whatever
         consistent units were typed)."""
+        hit = self._cache.get("definition_units")
+        if hit is None:
+            hit = self._cache["definition_units"] = self._definition_units()
+        return dict(hit)
+
+    def _definition_units(self) -> dict[str, str | None]:
         core = self._core
         if core is None or not core.definitions or (not self.units and not self.unknown_unit):
             return {}
