@@ -123,3 +123,14 @@ def test_equations_typed_with_odd_spacing_keep_their_numbers(tmp_path, capsys):
     text = sheet_text(pdf)
     typeset = text[text.index("Typeset"):text.index("Equations (1)")]
     assert "(1) (2)" in typeset and "(3)" not in typeset
+
+
+def test_a_line_past_the_typesetting_budget_stays_text():
+    """Each line keeps the one equation's budget (MAX_TYPESET_CHARS of LaTeX): a line of
+    hundreds of terms is left as typed rather than set in type too small to read."""
+    from solvers.equation.typeset import MAX_TYPESET_CHARS, lines_latex
+
+    long_line = "y = " + " + ".join(f"a{i}*x^{i}" for i in range(400))
+    ((line, tex), (_short, short_tex)) = lines_latex(long_line + "\nx*y = 1")
+    assert line == long_line and tex == "" and len(long_line) > MAX_TYPESET_CHARS / 4
+    assert short_tex == "x y = 1"

@@ -554,3 +554,18 @@ def test_an_angle_unknown_in_degrees_and_a_value_unit_pair():
     root = newton(lambda x: eq.bind({"a": (1.0, "m"), "b": (2.0, "m")}).f(x), 20.0).root
     assert root == pytest.approx(30.0, rel=1e-14)
     np.testing.assert_allclose(eq.f(30.0), [0.0, 0.0], atol=1e-15)
+
+
+@pytest.mark.parametrize("parameters, unit", [
+    ({"L": "4 m"}, "m^(1/2)"),
+    ({"L": "4 m", "t": "2 m^4"}, "m^(5/2)"),
+])
+def test_a_half_exponent_names_no_suspect_input(parameters, unit):
+    """x^2 = L (times t): x in m^(1/2) or m^(5/2) is half-way between two whole exponents,
+    so no 'meant' dimension can be guessed and no input is blamed (a review found m^(1/2)
+    read as dimensionless by round-half-even); the fractional unit is still noted."""
+    text = "x^2 = L" if "t" not in parameters else "x^2 = L*t"
+    eq = parse_equation(text, unknown="x", parameters=parameters)
+    codes = [r.code for r in eq.remarks]
+    assert eq.unknown_unit == unit and "unknown_dimension_fractional" in codes
+    assert "unit_suspect" not in codes

@@ -338,7 +338,8 @@ def lines_latex(text: str) -> tuple[tuple[str, str], ...]:
             tex = _Typesetter(tokenize(piece)).equation()
         except Exception:  # noqa: BLE001 - as above
             tex = ""
-        out.append((piece, tex))
+        # the one equation's budget, per line: past it the text as entered is clearer
+        out.append((piece, tex if len(tex) <= MAX_TYPESET_CHARS else ""))
     return tuple(out)
 
 

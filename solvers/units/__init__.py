@@ -265,6 +265,8 @@ class Plan:
         """
         from solvers.units import dimensions
 
+        if any(abs(abs(e - round(e)) - 0.5) < 1e-9 for _n, e in dimension):
+            return ()  # m^(1/2) or m^(5/2): no whole exponent is nearer, nothing to guess
         meant = tuple((n, float(round(e))) for n, e in dimension if round(e))
         found = dimensions.suspects(
             self.text, self.spans, (self.sides,), (self.unknown,),
