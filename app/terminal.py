@@ -78,7 +78,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
             where = "the root" if r.converged else f"the {words.LAST_ITERATE}"
             print(f"{words.method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
-                                           eq.definition_units()))
+                                           eq.definition_units(derived=True)))
     if steps:
         for r in solution.runs:
             print(f"\n{words.method_title(r.method)}: every iterate")

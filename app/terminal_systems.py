@@ -53,7 +53,7 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
         if values:
             print(f"\n{words.system_method_title(r.method)}, definitions at {where}: "
                   + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
-                                           system.definition_units()))
+                                           system.definition_units(derived=True)))
     print()
     for r in runs:
         print(f"  {words.system_run_message(r)}")

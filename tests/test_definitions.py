@@ -274,3 +274,18 @@ def test_a_fractional_unit_of_the_unknown_leaves_the_defined_units_unnamed(capsy
     assert main(["solve", text, "--unknown", "D", "--param", "Q=2 m^3/s", "--param", "C=130",
                  "--param", "S=0.001", "--x0", "1", "--method", "newton"]) == 0
     assert "definitions at the root: A = 1.48308940" in capsys.readouterr().out
+
+
+def test_defined_units_for_people_use_derived_units_and_files_keep_base_units():
+    """A heat duty defined as U*A*dT: W for people (W = m^2*kg*s^-3, SI Brochure Table 4),
+    kg*m^2/s^3 in files, as every other SI unit the outputs write."""
+    eq = parse_equation("q = U*A*dT\nq = m*cp*x", unknown="x",
+                        parameters={"U": "500 W/(m^2*K)", "A": "2 m^2", "dT": "10 K",
+                                    "m": "0.5 kg/s", "cp": "4180 J/(kg*K)"})
+    assert eq.definition_units(derived=True) == {"q": "W"}
+    assert eq.definition_units() == {"q": "W"}  # a named unit is the same in files
+    heat = parse_equation("h = q/(A*dT)\nh = x", unknown="x",
+                          parameters={"q": "10 kW", "A": "2 m^2", "dT": "10 K"})
+    assert heat.definition_units(derived=True) == {"h": "W/(m^2*K)"}
+    assert heat.definition_units() == {"h": "kg/(s^3*K)"}
+    assert heat.definition_values(500.0)["h"] == pytest.approx(500.0, rel=1e-15)

@@ -88,17 +88,22 @@ def measured_text(value: Any, converted: Any,
     already SI, the number alone without one. The SI unit is written with a derived unit
     where that is simpler (:func:`solvers.units.reading.unit_text`, ``derived``).
     ``show`` formats the numbers (every digit by default)."""
-    from solvers.units.reading import unit_text
-
     show = show or exact
     if converted is None:
         return show(value)
-    # the SI unit for people: a coherent derived unit where simpler (W/(m^2*K), not
-    # kg/(s^3*K)); files keep converted.si_unit, in base units
-    si = unit_text(converted.dimension, derived=True) or converted.si_unit
+    si = si_unit_text(converted)
     if converted.unit in (converted.si_unit, si):  # already in SI: nothing to convert
         return f"{show(converted.value)} {converted.unit}"
     return f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} {si})"
+
+
+def si_unit_text(converted: Any) -> str:
+    """The SI unit of a converted value for people: a derived unit for the compositions
+    engineers use (W/(m^2*K), not kg/(s^3*K)); files keep ``converted.si_unit``, in base
+    units."""
+    from solvers.units.reading import unit_text
+
+    return unit_text(converted.dimension, derived=True) or converted.si_unit
 
 
 def order_text(order: float | None, blank: str = "—") -> str:

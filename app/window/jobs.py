@@ -55,7 +55,7 @@ def _prepare_definitions(solution: Any) -> None:
     equation = solution.equation
     if getattr(equation, "definitions", ()) and solution.runs:
         equation.definition_values(solution.runs[0].root)
-        equation.definition_units()
+        equation.definition_units(derived=True)
 
 
 def polish_job(ws: Worksheet, equation: Any, x: float,

@@ -302,5 +302,5 @@ def agreement_text(solution: Any, digits: int = 6) -> str:
         run = converged[0]
         text += (f"  At {method_label(run.method)}'s root: "
                  + words.definitions_line(equation.definition_values(run.root), digits,
-                                          equation.definition_units()) + ".")
+                                          equation.definition_units(derived=True)) + ".")
     return text.strip()

@@ -233,18 +233,20 @@ class Equation:
             values[d.name] = float(arr) if scalar else arr
         return values
 
-    def definition_units(self) -> dict[str, str | None]:
+    def definition_units(self, derived: bool = False) -> dict[str, str | None]:
         """The SI unit of each defined quantity, as :meth:`definition_values` gives it
         (``m^2``; '' when dimensionless; None where a definition mixes dimensions or the
         dimension check is off), from the parameters' units and the unknown's. Empty when
         the equation has no units at all (plain numbers: the values are in whatever
-        consistent units were typed)."""
-        hit = self._cache.get("definition_units")
+        consistent units were typed). ``derived``: text for people, with a derived unit for
+        the compositions engineers use (W/(m^2*K)); files keep base units."""
+        key = f"definition_units_{derived}"
+        hit = self._cache.get(key)
         if hit is None:
-            hit = self._cache["definition_units"] = self._definition_units()
+            hit = self._cache[key] = self._definition_units(derived)
         return dict(hit)
 
-    def _definition_units(self) -> dict[str, str | None]:
+    def _definition_units(self, derived: bool) -> dict[str, str | None]:
         core = self._core
         if core is None or not core.definitions or (not self.units and not self.unknown_unit):
             return {}
@@ -265,7 +267,7 @@ class Equation:
                 # text pint reads back: no unit can be claimed for what uses x
                 return {d.name: None for d in core.definitions}
         found = dimensions_of([d.expr for d in core.definitions], dims)
-        return {d.name: None if dim is None else unit_text(dim)
+        return {d.name: None if dim is None else unit_text(dim, derived=derived)
                 for d, dim in zip(core.definitions, found, strict=True)}
 
     @property

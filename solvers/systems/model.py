@@ -115,11 +115,12 @@ class System:
         values = _call(code, x, self.parameters, len(self.definitions))
         return {name: float(v) for name, v in zip(self.definitions, values, strict=True)}
 
-    def definition_units(self) -> dict[str, str | None]:
+    def definition_units(self, derived: bool = False) -> dict[str, str | None]:
         """The SI unit of each defined quantity, as :meth:`definition_values` gives it
         (``m^2``; '' when dimensionless; None where a definition mixes dimensions, the
         dimension check is off or an unknown's dimension is free). Empty when the system
-        has no units at all."""
+        has no units at all. ``derived``: text for people (W/(m^2*K)); files keep base
+        units."""
         if not self.definitions or (not self.parameter_units
                                     and not any(self.unknown_units.values())):
             return {}
@@ -139,7 +140,7 @@ class System:
                 except EquationError:  # fractional powers: no unit can be claimed
                     return {name: None for name in self.definitions}
         found = dimensions_of(self._definition_exprs, dims)
-        return {name: None if dim is None else unit_text(dim)
+        return {name: None if dim is None else unit_text(dim, derived=derived)
                 for name, dim in zip(self.definitions, found, strict=True)}
 
 

@@ -207,12 +207,8 @@ def _equation_section(c: _Context) -> list[Flowable]:
         # as entered, and as the equation used it (SI, a derived unit where simpler:
         # W/(m^2*K) rather than kg/(s^3*K)), side by side
         def si(p: Any) -> str:
-            from solvers.units.reading import unit_text
-
             got = converted.get(p.name)
-            if got is None:
-                return ""
-            return f"{_num(got.si_value)} {unit_text(got.dimension, derived=True) or got.si_unit}"
+            return "" if got is None else f"{_num(got.si_value)} {words.si_unit_text(got)}"
 
         data = [["Name", "Value", "Unit", "In SI units", "Note"]] + [
             [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
@@ -377,7 +373,7 @@ def _results_section(c: _Context) -> list[Flowable]:
     if getattr(sol.equation, "definitions", ()):
         out += _heading("Definitions at each root", st, "h2")
         values = [sol.equation.definition_values(r.root) for r in runs]
-        units = sol.equation.definition_units()  # {} when the equation has no units
+        units = sol.equation.definition_units(derived=True)  # {} when the equation has no units
         unit_column = ["Unit (SI)"] if units else []
         texts = 1 + len(unit_column)  # name (and unit) columns, left; numbers right
         body = [[name, *([words.unit_cell(units.get(name))] if units else []),

@@ -270,7 +270,7 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
         values = [system.definition_values([r.root[n] for n in system.unknowns])
                   for r in runs]
         out += _heading("Definitions at the root", st, "h2")
-        units = system.definition_units()
+        units = system.definition_units(derived=True)
         if units:
             out.append(grid(["Name", "Unit (SI)", *titles],
                             [[d, words.unit_cell(units.get(d)), *(_num(v[d]) for v in values)]
