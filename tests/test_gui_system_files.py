@@ -14,7 +14,7 @@ from PySide6.QtCore import Qt, QTimer
 from PySide6.QtTest import QTest
 from PySide6.QtWidgets import QApplication, QMessageBox
 
-from app.documents import worksheet
+from app.documents import words, worksheet
 from app.window.recovery import RecoveryStore
 from solvers.systems.pipeline import solve_worksheet
 
@@ -308,6 +308,9 @@ def test_unknowns_with_units_show_them_in_the_lanes_and_the_roots(qtbot, window,
     # the same operating point as the sample in SI (the core on the other file)
     si = solve_worksheet(worksheet.load(PUMP)).runs[0].root
     assert run.root["H"] == pytest.approx(si["H"], rel=1e-9)
+    # the definitions at the root, in SI: Q = Q1 + Q2 in m^3/s (1 L = 1e-3 m^3, NIST SP 811)
+    total = words.number((run.root["Q1"] + run.root["Q2"]) / 1000, sw.digits.value())
+    assert f"Q = {total} m^3/s" in sw.status.text()
 
 
 def test_an_unknowns_unit_is_edited_in_its_table_and_saved(qtbot, window, dialogs, tmp_path):

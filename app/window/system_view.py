@@ -372,8 +372,9 @@ class SystemWindow(QWidget):
 
     def _roots_text(self, solution: Any) -> str:
         digits = self.digits.value()
-        units = solution.system.unknown_units
-        return "; ".join(
+        system = solution.system
+        units = system.unknown_units
+        text = "; ".join(
             f"{words.system_method_title(r.method)}: "
             + ", ".join(f"{n} = {words.number(v, digits)}"
                         + (f" {units[n]}" if units.get(n) else "")
@@ -381,6 +382,15 @@ class SystemWindow(QWidget):
             + ("" if r.converged
                else f" — did not converge ({words.reason_short(r.reason)})")
             for r in solution.runs)
+        converged = [r for r in solution.runs if r.converged]
+        if system.definitions and converged:
+            # what the definitions come to is part of the answer (a total flow, an area)
+            run = converged[0]
+            values = system.definition_values([run.root[n] for n in system.unknowns])
+            text += (f"\nAt {words.system_method_title(run.method)}'s root: "
+                     + words.definitions_line(values, digits,
+                                              system.definition_units(derived=True)))
+        return text
 
     # -- worksheets
     def worksheet(self) -> Worksheet:
