@@ -82,10 +82,7 @@ def _closed(w: Work, code: np.ndarray, closed: np.ndarray, x1, f1, x2, f2) -> No
     """Write the verdicts of the rows whose bracket (x1, x2) closed into ``code``."""
     idx = np.flatnonzero(closed)
     if idx.size:
-        x1, f1, x2, f2 = x1[idx], f1[idx], x2[idx], f2[idx]
-        first = x1 < x2
-        code[idx] = closed_verdict(w, idx, np.where(first, x1, x2), np.where(first, f1, f2),
-                                   np.where(first, x2, x1), np.where(first, f2, f1))
+        code[idx] = _verdicts(w, idx, x1[idx], f1[idx], x2[idx], f2[idx])
 
 
 def _new_point(w: Work, s: dict[str, Any], code: np.ndarray, x: np.ndarray, fx: np.ndarray,
