@@ -377,7 +377,9 @@ def test_the_calculation_sheet_gives_units_as_entered_and_in_si(capsys, tmp_path
     assert main(["report", str(sample), "--pdf", str(pdf), "--csv-dir", str(folder)]) == 0
     text = " ".join(page.extract_text() for page in pypdf.PdfReader(pdf).pages)
     assert "In SI units" in text and "gal/min" in text and "Root x [mm]" in text
-    assert "243.83999999999997 m" in text  # 800 ft at NIST SP 811's 0.3048 m, every digit
+    # 800 ft at NIST SP 811's 0.3048 m, to the 15 figures people read (the double the
+    # conversion returns, 243.83999999999997 here, stays in the JSON)
+    assert "243.84 m" in text and "243.83999999999997" not in text
     runs = next(folder.glob("*runs.csv")).read_text().splitlines()
     assert "method,k,x [mm],fx,dfx,dx [mm],lo [mm],hi [mm]" in runs
 
@@ -569,3 +571,20 @@ def test_a_half_exponent_names_no_suspect_input(parameters, unit):
     codes = [r.code for r in eq.remarks]
     assert eq.unknown_unit == unit and "unknown_dimension_fractional" in codes
     assert "unit_suspect" not in codes
+
+
+def test_si_equivalents_for_people_carry_no_conversion_noise(capsys):
+    """15 ft = 4.572 m and 800 ft = 243.84 m exactly (international foot 0.3048 m, NIST SP
+    811); the double nearest each product prints as 4.571999999999999 and
+    243.83999999999997, which a checker would read as a conversion error. People see 15
+    significant figures; the JSON keeps the double the solve used."""
+    args = ["solve", "h = f*L/D*v^2/(2*g)", "--unknown", "D", "--param", "h=15 ft",
+            "--param", "L=800 ft", "--param", "f=0.02", "--param", "v=2 m/s",
+            "--param", "g=9.80665 m/s^2", "--x0", "1", "--method", "newton"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "h = 15.0 ft (= 4.572 m)" in out and "L = 800.0 ft (= 243.84 m)" in out
+    assert main([*args, "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    si = data["parameter_units"]["h"]["si_value"]  # the double the solve used, as pint gave it
+    assert abs(si - 4.572) <= 4 * 2.2e-16 * 4.572  # within a few ulps of the exact 4.572

@@ -94,7 +94,15 @@ def measured_text(value: Any, converted: Any,
     si = si_unit_text(converted)
     if converted.unit in (converted.si_unit, si):  # already in SI: nothing to convert
         return f"{show(converted.value)} {converted.unit}"
-    return f"{show(converted.value)} {converted.unit} (= {show(converted.si_value)} {si})"
+    return (f"{show(converted.value)} {converted.unit} "
+            f"(= {show(si_value_shown(converted))} {si})")
+
+
+def si_value_shown(converted: Any) -> float:
+    """A converted value's SI magnitude as people read it, to 15 significant figures: 15 ft
+    is 4.572 m, not the double nearest the product, 4.571999999999999 (that double is what
+    the solve uses and the JSON keeps)."""
+    return float(f"{converted.si_value:.15g}")
 
 
 def si_unit_text(converted: Any) -> str:

@@ -208,7 +208,9 @@ def _equation_section(c: _Context) -> list[Flowable]:
         # W/(m^2*K) rather than kg/(s^3*K)), side by side
         def si(p: Any) -> str:
             got = converted.get(p.name)
-            return "" if got is None else f"{_num(got.si_value)} {words.si_unit_text(got)}"
+            if got is None:
+                return ""
+            return f"{_num(words.si_value_shown(got))} {words.si_unit_text(got)}"
 
         data = [["Name", "Value", "Unit", "In SI units", "Note"]] + [
             [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
