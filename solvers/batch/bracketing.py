@@ -252,9 +252,9 @@ def _interpolation_step(xa, fa, xb, fb, xc, fc, dead, afa, afb, afc) -> np.ndarr
     overflow: it is applied only when some row's values are not (``dead`` rows, a lazy
     work's finished ones, left out of that question). Brent keeps |fb| <= |fc|, so the
     largest |f| of a row is that of a or c (``afa``, ``afb``, ``afc``: the |f| the caller
-    keeps, read only). The arithmetic is the scalar's, operation for operation (written
-    in place to spare the temporaries); the secant's is done only when some row has
-    a == c, the quadratic's only when some row has not.
+    keeps, read only). Every value is the scalar's, bit for bit (written in place to
+    spare the temporaries; signs moved only where that is exact, below); the secant is
+    computed only when some row has a == c, the quadratic only when some row has not.
     """
     big = np.maximum(afa, afc)
     if not (big.max() < _SAFE and big.min() > 1.0 / _SAFE):
@@ -264,27 +264,29 @@ def _interpolation_step(xa, fa, xb, fb, xc, fc, dead, afa, afb, afc) -> np.ndarr
         if out.any():
             exponent = np.frexp(np.maximum(big, afb))[1]
             fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
-    minus_fb = -fb
+    # The scalar's -fb*(...) written as fb*(...) with the differences the other way
+    # round: x - y is -(y - x) and (-u)*v is -(u*v) exactly in binary floating point,
+    # so every value is the scalar's, bit for bit, with one operation fewer.
     two_point = np.equal(xa, xc)
     some_two = two_point.any()
+    back = np.subtract(xa, xb)
     secant = None
     if some_two:
         # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa)
-        secant = np.subtract(xb, xa)
-        secant *= minus_fb
+        secant = np.multiply(fb, back)
         secant /= np.subtract(fb, fa, out=big)
         if two_point.all():
             return secant
     slope_a = np.subtract(fa, fb)
-    slope_a /= np.subtract(xa, xb, out=big)
+    slope_a /= back
     slope_c = np.subtract(fc, fb)
     slope_c /= np.subtract(xc, xb, out=big)
     # quadratic: -fb*(fc*slope_c - fa*slope_a)/(slope_c*slope_a*(fc - fa))
     denominator = np.multiply(slope_c, slope_a)
     denominator *= np.subtract(fc, fa, out=big)
-    quadratic = np.multiply(fc, slope_c, out=slope_c)
-    quadratic -= np.multiply(fa, slope_a, out=slope_a)
-    quadratic *= minus_fb
+    quadratic = np.multiply(fa, slope_a, out=slope_a)
+    quadratic -= np.multiply(fc, slope_c, out=slope_c)
+    quadratic *= fb
     quadratic /= denominator
     if some_two:
         np.copyto(quadratic, secant, where=two_point)
