@@ -238,9 +238,10 @@ class Work:
             whole[self.rows] = value
             self._kept[name] = whole
 
-    def kept(self, name: str, idx: np.ndarray) -> np.ndarray:
-        """A kept start value of the active rows ``idx``."""
-        return self._kept[name][self.rows[idx]]
+    def kept(self, idx: np.ndarray, *names: str) -> list[np.ndarray]:
+        """Kept start values ``names`` of the active rows ``idx`` (one array per name)."""
+        rows = self.rows.take(idx)
+        return [self._kept[name].take(rows) for name in names]
 
     @property
     def size(self) -> int:
@@ -417,7 +418,7 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     ``discontinuity`` for a jump (|f| not growing away from the bracket).
     """
     code = np.full(idx.size, X_TOL, dtype=np.int8)
-    a0, fa0, b0, fb0 = (w.kept(name, idx) for name in ("a0", "fa0", "b0", "fb0"))
+    a0, fa0, b0, fb0 = w.kept(idx, "a0", "fa0", "b0", "fb0")
     under = carried(flo) | carried(fhi)
     near = np.minimum(np.abs(flo), np.abs(fhi))
     pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
