@@ -288,8 +288,8 @@ def _interpolation_step(xa, fa, xb, fb, xc, fc, dead, afa, afb, afc) -> np.ndarr
     quadratic -= np.multiply(fc, slope_c, out=slope_c)
     quadratic *= fb
     quadratic /= denominator
-    if some_two:
-        np.copyto(quadratic, secant, where=two_point)
+    if some_two:  # (np.where: a masked copyto is slower on a mask of scattered rows)
+        quadratic = np.where(two_point, secant, quadratic)
     # A zero or overflowing denominator gives a step that is not finite: the scalar
     # method bisects there, and so does the caller, since a step that is not finite
     # never passes its test 2|step| < min(|e|, 3|m| - half_tol).
@@ -426,7 +426,7 @@ def brent(w: Work, s: dict[str, Any]) -> None:
         if change.size:
             xa, fa = w.xa[change], w.fa[change]
             w.xc[change], w.fc[change] = xa, fa
-            w.afc[change] = w.afa[change]
+            np.abs(w.fc, out=w.afc)  # (one pass: cheaper than moving |fa| at the rows)
             d = w.xb[change] - xa
             w.d[change] = d
             w.e[change] = d
