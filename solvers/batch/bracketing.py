@@ -378,15 +378,18 @@ def brent(w: Work, s: dict[str, Any]) -> None:
         np.minimum(abs_e, limit, out=limit)
         size *= 2.0
         accept &= size < limit
-        np.greater(accept, small & w.bisected, out=accept)  # accept and not (small and ...)
         # the steps taken: an accepted step shorter than half_tol moves half_tol instead
-        # (every bisection of a row at work is longer: its bracket has not closed)
-        short = np.flatnonzero(small & accept)
+        # (every bisection of a row at work is longer: its bracket has not closed);
+        # short steps are proposed only near the end, so most iterations ask no more
+        short = None
+        if small.any():
+            np.greater(accept, small & w.bisected, out=accept)  # not (small, bisected)
+            short = np.flatnonzero(small & accept)
         # e takes over d (its array too) and d the step, where a row bisects m in both
         # (few rows: written by index)
-        bisect = np.flatnonzero(~accept)
         w.e = w.d
-        if bisect.size:
+        if not accept.all():
+            bisect = np.flatnonzero(~accept)
             m_bisect = m.take(bisect)
             w.e[bisect] = m_bisect
             step[bisect] = m_bisect
@@ -394,7 +397,7 @@ def brent(w: Work, s: dict[str, Any]) -> None:
         w.bisected = np.equal(step, m, out=w.bisected)
         w.xa, w.fa, w.afa = w.xb, w.fb, afb
         w.xb = w.xb + step
-        if short.size:
+        if short is not None and short.size:
             w.xb[short] = w.xa.take(short) + np.copysign(half_tol.take(short), m.take(short))
         w.fb = w.f(w.xb)
         w.k += 1
