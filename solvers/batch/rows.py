@@ -434,6 +434,8 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
         usable = (distance >= 2.0 * width) & np.isfinite(f0) & (f0 != 0.0)
         with np.errstate(all="ignore"):
             decided |= usable & (near <= np.abs(f0) * np.sqrt(width / distance))
+    if decided.all():  # every row a root or not finite: no probe to place
+        return code
     # 2. probes 2**20 widths out, one side then the other: |f| must grow there
     reach = _PROBE_REACH * width
     for end, fend, probe in ((lo, flo, np.maximum(np.minimum(a0, b0), lo - reach)),
