@@ -244,42 +244,52 @@ def illinois(w: Work, s: dict[str, Any]) -> None:
 _SAFE = 2.0**300  # f values within [2**-300, 2**300]: the interpolation cannot overflow
 
 
-def _interpolation_step(xa, fa, xb, fb, xc, fc, dead=None, abs_fa=None) -> np.ndarray:
+def _interpolation_step(xa, fa, xb, fb, xc, fc, dead, afa, afb, afc) -> np.ndarray:
     """Element-wise :func:`solvers.methods.brent._interpolation_step` (not finite: bisect).
 
     The step is homogeneous of degree 0 in f, and scaling by a power of two is exact, so
     the scalar method's scaling changes nothing where the values are far from under- and
     overflow: it is applied only when some row's values are not (``dead`` rows, a lazy
     work's finished ones, left out of that question). Brent keeps |fb| <= |fc|, so the
-    largest |f| of a row is that of a or c. The arithmetic is the scalar's, operation
-    for operation (written in place to spare the temporaries).
+    largest |f| of a row is that of a or c (``afa``, ``afb``, ``afc``: the |f| the caller
+    keeps, read only). Every value is the scalar's, bit for bit (written in place to
+    spare the temporaries; signs moved only where that is exact, below); the secant is
+    computed only when some row has a == c, the quadratic only when some row has not.
     """
-    big = np.abs(fa) if abs_fa is None else abs_fa  # (|fa| given is written over)
-    np.maximum(big, np.abs(fc), out=big)
+    big = np.maximum(afa, afc)
     if not (big.max() < _SAFE and big.min() > 1.0 / _SAFE):
         out = ~((big < _SAFE) & (big > 1.0 / _SAFE))
         if dead is not None:
             out &= ~dead
         if out.any():
-            exponent = np.frexp(np.maximum(big, np.abs(fb)))[1]
+            exponent = np.frexp(np.maximum(big, afb))[1]
             fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
-    minus_fb = -fb
-    # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa)
-    secant = np.subtract(xb, xa)
-    secant *= minus_fb
-    secant /= np.subtract(fb, fa, out=big)
+    # The scalar's -fb*(...) written as fb*(...) with the differences the other way
+    # round: x - y is -(y - x) and (-u)*v is -(u*v) exactly in binary floating point,
+    # so every value is the scalar's, bit for bit, with one operation fewer.
+    two_point = np.equal(xa, xc)
+    some_two = two_point.any()
+    back = np.subtract(xa, xb)
+    secant = None
+    if some_two:
+        # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa)
+        secant = np.multiply(fb, back)
+        secant /= np.subtract(fb, fa, out=big)
+        if two_point.all():
+            return secant
     slope_a = np.subtract(fa, fb)
-    slope_a /= np.subtract(xa, xb, out=big)
+    slope_a /= back
     slope_c = np.subtract(fc, fb)
     slope_c /= np.subtract(xc, xb, out=big)
     # quadratic: -fb*(fc*slope_c - fa*slope_a)/(slope_c*slope_a*(fc - fa))
     denominator = np.multiply(slope_c, slope_a)
     denominator *= np.subtract(fc, fa, out=big)
-    quadratic = np.multiply(fc, slope_c, out=slope_c)
-    quadratic -= np.multiply(fa, slope_a, out=slope_a)
-    quadratic *= minus_fb
+    quadratic = np.multiply(fa, slope_a, out=slope_a)
+    quadratic -= np.multiply(fc, slope_c, out=slope_c)
+    quadratic *= fb
     quadratic /= denominator
-    np.copyto(quadratic, secant, where=xa == xc)
+    if some_two:  # (np.where: a masked copyto is slower on a mask of scattered rows)
+        quadratic = np.where(two_point, secant, quadratic)
     # A zero or overflowing denominator gives a step that is not finite: the scalar
     # method bisects there, and so does the caller, since a step that is not finite
     # never passes its test 2|step| < min(|e|, 3|m| - half_tol).
@@ -307,6 +317,9 @@ def brent(w: Work, s: dict[str, Any]) -> None:
         return
     w.xa, w.xb, w.xc = w.a.copy(), w.b.copy(), w.a.copy()
     w.fb, w.fc = w.fb.copy(), w.fa.copy()
+    # |f| at a, b and c, kept beside the values: the new b's |f| is computed for the
+    # stop tests anyway, and a, c take theirs over from b and a
+    w.afa, w.afb, w.afc = np.abs(w.fa), np.abs(w.fb), np.abs(w.fc)
     del w.a, w.b
     w.d = w.xb - w.xa
     w.e = w.d.copy()
@@ -314,14 +327,13 @@ def brent(w: Work, s: dict[str, Any]) -> None:
     w.lazy()
     while w.size:
         w.tick()
-        afb, afc = np.abs(w.fb), np.abs(w.fc)
+        afa, afb, afc = w.afa, w.afb, w.afc
         swap = np.flatnonzero(afc < afb)
         if swap.size:  # b becomes the better end; a follows the old b to interpolate
-            old_b, old_fb = w.xb[swap], w.fb[swap]
-            w.xa[swap], w.fa[swap] = old_b, old_fb
-            w.xb[swap], w.fb[swap] = w.xc[swap], w.fc[swap]
-            w.xc[swap], w.fc[swap] = old_b, old_fb
-            afb[swap] = afc[swap]
+            old_b, old_fb, old_afb = w.xb[swap], w.fb[swap], afb[swap]
+            w.xa[swap], w.fa[swap], afa[swap] = old_b, old_fb, old_afb
+            w.xb[swap], w.fb[swap], afb[swap] = w.xc[swap], w.fc[swap], afc[swap]
+            w.xc[swap], w.fc[swap], afc[swap] = old_b, old_fb, old_afb
         half_tol = np.abs(w.xb)
         half_tol *= rtol
         half_tol += xtol
@@ -331,7 +343,7 @@ def brent(w: Work, s: dict[str, Any]) -> None:
         abs_m = np.abs(m)
         closed = abs_m <= half_tol
         if w._dead_count:
-            closed &= ~w.dead
+            np.greater(closed, w.dead, out=closed)  # closed and not dead
         if w.k >= cap or closed.any():
             if w.k >= cap:
                 idx = np.flatnonzero(w.live(np.ones(w.size, dtype=bool)))
@@ -345,61 +357,79 @@ def brent(w: Work, s: dict[str, Any]) -> None:
                 at = idx.take(shut)
                 code[shut] = _verdicts(w, at, w.xb.take(at), w.fb.take(at), w.xc.take(at),
                                        w.fc.take(at))
-            w.half_tol, w.m, w.abs_m, w.afb = half_tol, m, abs_m, afb
+            w.half_tol, w.m, w.abs_m = half_tol, m, abs_m
             w.finish_at(idx, code, w.xb.take(idx), w.fb.take(idx))
             if not w.size:
                 break
-            half_tol, m, abs_m, afb = w.half_tol, w.m, w.abs_m, w.afb
-            del w.half_tol, w.m, w.abs_m, w.afb
+            half_tol, m, abs_m = w.half_tol, w.m, w.abs_m
+            afa, afb, afc = w.afa, w.afb, w.afc
+            del w.half_tol, w.m, w.abs_m
         abs_e = np.abs(w.e)
-        try_step = abs_e > half_tol
-        afa = np.abs(w.fa)
-        try_step &= afb < afa
+        accept = abs_e > half_tol
+        accept &= afb < afa
         if w.tiny:  # a value that underflowed has a sign but no size: bisect there
-            try_step &= ~(carried(w.fa) | carried(w.fb) | carried(w.fc))
-        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.dead, afa)
+            accept &= ~(carried(w.fa) | carried(w.fb) | carried(w.fc))
+        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.dead, afa, afb, afc)
         size = np.abs(step)
         # 2|step| < min(|e|, 3|m| - half_tol), and no tiny step twice after a bisection
+        small = size <= half_tol
         limit = np.multiply(abs_m, 3.0, out=abs_m)
         limit -= half_tol
         np.minimum(abs_e, limit, out=limit)
-        accept = try_step
-        accept &= 2.0 * size < limit
-        accept &= ~((size <= half_tol) & w.bisected)
-        w.e = np.where(accept, w.d, m)
-        np.copyto(step, m, where=~accept)
+        size *= 2.0
+        accept &= size < limit
+        # the steps taken: an accepted step shorter than half_tol moves half_tol instead
+        # (every bisection of a row at work is longer: its bracket has not closed);
+        # short steps are proposed only near the end, so most iterations ask no more
+        short = None
+        if small.any():
+            np.greater(accept, small & w.bisected, out=accept)  # not (small, bisected)
+            short = np.flatnonzero(small & accept)
+        # e takes over d (its array too) and d the step, where a row bisects m in both
+        # (few rows: written by index)
+        w.e = w.d
+        if not accept.all():
+            bisect = np.flatnonzero(~accept)
+            m_bisect = m.take(bisect)
+            w.e[bisect] = m_bisect
+            step[bisect] = m_bisect
         w.d = step
         w.bisected = np.equal(step, m, out=w.bisected)
-        w.xa, w.fa = w.xb, w.fb
-        move = np.copysign(half_tol, m)
-        np.copyto(move, step, where=np.abs(step) > half_tol)
-        w.xb = w.xb + move
+        w.xa, w.fa, w.afa = w.xb, w.fb, afb
+        w.xb = w.xb + step
+        if short is not None and short.size:
+            w.xb[short] = w.xa.take(short) + np.copysign(half_tol.take(short), m.take(short))
         w.fb = w.f(w.xb)
         w.k += 1
         # the usual row goes on: f finite, not 0.0, above ftol
-        size = np.abs(w.fb, out=size)
+        w.afb = size = np.abs(w.fb, out=size)
         going = size > ftol
-        going &= size < np.inf
         if w._dead_count:
             going |= w.dead
-        if not going.all():
+        if not (going.all() and size.max() < np.inf):
+            going &= size < np.inf
+            if w._dead_count:
+                going |= w.dead
             idx = np.flatnonzero(~going)
-            fx = w.fb.take(idx)
-            code = np.full(idx.size, -1, dtype=np.int8)
-            x = w.xb.take(idx)
-            fx = _new_point(w, s, code, x, fx, w.xa.take(idx), w.fa.take(idx),
-                            w.xc.take(idx), w.fc.take(idx), idx)
-            w.fb[idx] = fx
-            mark(code, np.abs(fx) <= ftol, F_TOL)
-            w.finish_at(idx, code, x, fx)
-            if not w.size:
-                break
+            if idx.size:
+                fx = w.fb.take(idx)
+                code = np.full(idx.size, -1, dtype=np.int8)
+                x = w.xb.take(idx)
+                fx = _new_point(w, s, code, x, fx, w.xa.take(idx), w.fa.take(idx),
+                                w.xc.take(idx), w.fc.take(idx), idx)
+                w.fb[idx] = fx
+                w.afb[idx] = np.abs(fx)
+                mark(code, np.abs(fx) <= ftol, F_TOL)
+                w.finish_at(idx, code, x, fx)
+                if not w.size:
+                    break
         # the root now lies between the new b and the old b: a becomes the contrapoint
         # (every row at work has a finite f here, not 0.0: the others have stopped)
         change = np.flatnonzero((w.fb > 0.0) != (w.fa > 0.0))
         if change.size:
             xa, fa = w.xa[change], w.fa[change]
             w.xc[change], w.fc[change] = xa, fa
+            np.abs(w.fc, out=w.afc)  # (one pass: cheaper than moving |fa| at the rows)
             d = w.xb[change] - xa
             w.d[change] = d
             w.e[change] = d

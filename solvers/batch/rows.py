@@ -238,9 +238,10 @@ class Work:
             whole[self.rows] = value
             self._kept[name] = whole
 
-    def kept(self, name: str, idx: np.ndarray) -> np.ndarray:
-        """A kept start value of the active rows ``idx``."""
-        return self._kept[name][self.rows[idx]]
+    def kept(self, idx: np.ndarray, *names: str) -> list[np.ndarray]:
+        """Kept start values ``names`` of the active rows ``idx`` (one array per name)."""
+        rows = self.rows.take(idx)
+        return [self._kept[name].take(rows) for name in names]
 
     @property
     def size(self) -> int:
@@ -417,7 +418,7 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     ``discontinuity`` for a jump (|f| not growing away from the bracket).
     """
     code = np.full(idx.size, X_TOL, dtype=np.int8)
-    a0, fa0, b0, fb0 = (w.kept(name, idx) for name in ("a0", "fa0", "b0", "fb0"))
+    a0, fa0, b0, fb0 = w.kept(idx, "a0", "fa0", "b0", "fb0")
     under = carried(flo) | carried(fhi)
     near = np.minimum(np.abs(flo), np.abs(fhi))
     pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
@@ -433,6 +434,8 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
         usable = (distance >= 2.0 * width) & np.isfinite(f0) & (f0 != 0.0)
         with np.errstate(all="ignore"):
             decided |= usable & (near <= np.abs(f0) * np.sqrt(width / distance))
+    if decided.all():  # every row a root or not finite: no probe to place
+        return code
     # 2. probes 2**20 widths out, one side then the other: |f| must grow there
     reach = _PROBE_REACH * width
     for end, fend, probe in ((lo, flo, np.maximum(np.minimum(a0, b0), lo - reach)),
