@@ -516,6 +516,12 @@ def _rescan_why(mode: Any) -> str:
     return _RESCAN_WHY.get(str(mode), f"cross-check {mode}")
 
 
+def _rescan_where(v: Sequence[Any]) -> str:
+    """"<why> on 3 intervals in [a, b]": what a re-scan record's numbers say first."""
+    return (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
+            f"[{_g6(v[2])}, {_g6(v[3])}]")
+
+
 def _g12(x: float) -> str:
     return number(x, 12)
 
@@ -554,11 +560,9 @@ SCAN_DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                               f"{_g6(v[2])}] that no pole, jump or gap explains (rough f, or "
                               "oscillation faster than the sampling): roots there rest on "
                               "sampling alone"),
-    "rescanned": lambda v: (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
-                            f"[{_g6(v[2])}, {_g6(v[3])}]; re-scanned there with 64x the samples"),
-    "rescan_budget": lambda v: (f"{_rescan_why(v[0])} on {counted(int(v[1]), 'interval')} in "
-                                f"[{_g6(v[2])}, {_g6(v[3])}], beyond the re-scan budget: roots "
-                                "there rest on sampling alone; raise samples"),
+    "rescanned": lambda v: f"{_rescan_where(v)}; re-scanned there with 64x the samples",
+    "rescan_budget": lambda v: (f"{_rescan_where(v)}, beyond the re-scan budget: roots there "
+                                "rest on sampling alone; raise samples"),
     "proxy_unconfirmed": lambda v: (f"cross-check: the Chebyshev proxy has a zero near x = "
                                     f"{_g12(v[0])} (|f| = {_g3(v[1])}) that the scan could not "
                                     "confirm"),
@@ -708,7 +712,6 @@ def _unit_suspect(name: str, numbers: Sequence[float]) -> str:
             f"{needs_words(meant)} the equation needs '{name}' {needs_words(needed)}")
 
 
-
 def remark_text(remark: Any) -> str:
     """One remark (``code``, ``subject``, ``numbers``) as a sentence; unknown codes as is."""
     words = REMARK_WORDS.get(remark.code)
@@ -803,6 +806,7 @@ def definitions_line(values: Mapping[str, float], figures: int = DEFAULT_FIGURES
                      + (f" {units[name]}" if units.get(name) else "")
                      for name, v in values.items())
 
+
 # ----------------------------------------------------------------- help (F1)
 
 # The help page's paragraph on units (HTML; app/window/dialogs.py sets it in the page).
@@ -855,7 +859,7 @@ def batch_summary(batch: Any) -> str:
     good = int(batch.converged.sum())
     failed = {r: c for r, c in batch.counts().items()
               if r not in ("x_tolerance", "f_tolerance", "exact_zero")}
-    text = f"{total} {'row' if total == 1 else 'rows'}: {good} converged"
+    text = f"{counted(total, 'row')}: {good} converged"
     if failed:
         text += "; " + "; ".join(_SUMMARY_STOPS.get(r, "{c} stopped on {r}").format(
             c=c, r=r.replace("_", " ")) for r, c in sorted(failed.items()))

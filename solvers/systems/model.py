@@ -121,6 +121,12 @@ class System:
         dimension check is off or an unknown's dimension is free). Empty when the system
         has no units at all. ``derived``: text for people (W/(m^2*K)); files keep base
         units."""
+        key = f"definition_units_{derived}"  # the dimension walk once per system and style
+        if key not in self._cache:
+            self._cache[key] = self._definition_units(derived)
+        return dict(self._cache[key])
+
+    def _definition_units(self, derived: bool) -> dict[str, str | None]:
         if not self.definitions or (not self.parameter_units
                                     and not any(self.unknown_units.values())):
             return {}

@@ -423,7 +423,7 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
                 else:
                     blame = suspects_words(suspects(
                         text, parts, sides, unknowns, dimensions, given, names_at, typed),
-                        unknowns[j].name, given_text[j], given_exact[j])
+                        unknowns[j].name, given_text[j])
                 raise _fail(text, f"the unknown unit '{given_text[j]}' does not fit "
                             f"'{unknowns[j].name}': `{snippet(text, *where)}` makes it "
                             f"{dimension_words(_plain(value))}, not "
@@ -502,8 +502,7 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
                  if size == least)[:most]
 
 
-def suspects_words(found: Sequence[Suspect], unknown: str, unit: str,
-                   dimension: _Exact) -> str:
+def suspects_words(found: Sequence[Suspect], unknown: str, unit: str) -> str:
     """'; most likely an input's unit is wrong: 'h' is a pressure (Pa, typed 'psi');
     with 'D' in 'mm' the equation needs it as a length (m)' ('' for none)."""
     if not found:
