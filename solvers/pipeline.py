@@ -17,6 +17,7 @@ raises :class:`solvers.equation.EquationError` or :class:`ValueError` with one l
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, replace
@@ -84,6 +85,16 @@ class Solution:
     def agreement(self) -> Agreement:
         """The converged roots grouped (different roots apart) with the shared figures."""
         return agreement(self.runs, self.worksheet.settings.xtol)
+
+    @functools.cached_property
+    def definitions_at_root(self) -> tuple[Run, dict[str, float]] | None:
+        """(run, values): each defined quantity (SI) at the first converged run's root;
+        None without definitions or without a converged run. Computed once and kept, so
+        a front end can have it computed off its display thread and only read it there."""
+        converged = self.converged_runs
+        if not getattr(self.equation, "definitions", ()) or not converged:
+            return None
+        return converged[0], self.equation.definition_values(converged[0].root)
 
 
 def equation_of(ws: Worksheet, parsed: Equation | None = None) -> Equation:

@@ -119,7 +119,7 @@ def test_closing_the_main_window_closes_the_system_window(qtbot, window):
     qtbot.waitUntil(lambda: not sw.isVisible(), timeout=5000)
 
 
-def test_the_equation_strip_reads_definitions(qtbot, window):
+def test_the_equation_strip_reads_definitions(qtbot, window, monkeypatch):
     from gui_helpers import settle
 
     # invented orifice: the parameters table lists the inputs, never the defined names
@@ -153,9 +153,23 @@ def test_the_equation_strip_reads_definitions(qtbot, window):
         edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 1, number)
         if unit:
             edit_cell(qtbot, window.inputs.parameters_view, names.index(name), 2, unit)
+    # the values at the root are worked out in the solve job; the window only shows them
+    import threading
+
+    from solvers.equation.record import Equation
+
+    callers = []
+    evaluate = Equation.definition_values
+
+    def spy(self, x):
+        callers.append(threading.current_thread() is threading.main_thread())
+        return evaluate(self, x)
+
+    monkeypatch.setattr(Equation, "definition_values", spy)
     solution = solve_by_keys(qtbot, window)
     assert any(r.converged for r in solution.runs)
     note = window.lanes.agreement.toolTip()
+    assert callers and not any(callers)  # computed, and never on the window's thread
     area = math.pi * 0.05**2 / 4
     from app.documents import words
 

@@ -49,13 +49,10 @@ def solve_job(ws: Worksheet, equation: Any, scan: Any) -> tuple[Any, tuple[float
 
 
 def _prepare_definitions(solution: Any) -> None:
-    """Compile the definitions' code and work out their units here, in the worker: the
-    window then only evaluates them at the root (the first call compiles, which the UI
-    thread must not do)."""
-    equation = solution.equation
-    if getattr(equation, "definitions", ()) and solution.runs:
-        equation.definition_values(solution.runs[0].root)
-        equation.definition_units(derived=True)
+    """The definitions' values at the root and their units, worked out here, in the
+    worker: the window only reads them (both are kept once computed)."""
+    if solution.definitions_at_root is not None:
+        solution.equation.definition_units(derived=True)
 
 
 def polish_job(ws: Worksheet, equation: Any, x: float,

@@ -294,13 +294,13 @@ def agreement_text(solution: Any, digits: int = 6) -> str:
     notes = words.start_notes(solution.start)
     if notes:
         text += "  Start values: " + "; ".join(notes) + "."
-    equation = solution.equation
-    converged = [r for r in solution.runs if r.converged]
-    if getattr(equation, "definitions", ()) and converged:
+    at_root = solution.definitions_at_root  # (computed in the solve job: read here)
+    if at_root is not None:
         # what the definitions come to is part of the answer (a Reynolds number tells the
         # flow regime the friction relation assumed)
-        run = converged[0]
+        run, values = at_root
         text += (f"  At {method_label(run.method)}'s root: "
-                 + words.definitions_line(equation.definition_values(run.root), digits,
-                                          equation.definition_units(derived=True)) + ".")
+                 + words.definitions_line(values, digits,
+                                          solution.equation.definition_units(derived=True))
+                 + ".")
     return text.strip()

@@ -382,11 +382,10 @@ class SystemWindow(QWidget):
             + ("" if r.converged
                else f" — did not converge ({words.reason_short(r.reason)})")
             for r in solution.runs)
-        converged = [r for r in solution.runs if r.converged]
-        if system.definitions and converged:
+        at_root = solution.definitions_at_root  # (computed in the solve job: read here)
+        if at_root is not None:
             # what the definitions come to is part of the answer (a total flow, an area)
-            run = converged[0]
-            values = system.definition_values([run.root[n] for n in system.unknowns])
+            run, values = at_root
             text += (f"\nAt {words.system_method_title(run.method)}'s root: "
                      + words.definitions_line(values, digits,
                                               system.definition_units(derived=True)))

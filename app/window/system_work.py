@@ -81,7 +81,7 @@ def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, Any],
                                  rtol=settings.rtol, ftol=settings.ftol,
                                  max_iter=settings.max_iter, progress=within,
                                  cancel=cancelled))
-    if system.definitions:  # compiled and walked here, in the worker: the window only reads
-        system.definition_values([runs[0].root[n] for n in system.unknowns])
+    solution = SystemSolution(ws, system, tuple(runs))
+    if solution.definitions_at_root is not None:  # worked out here: the window only reads
         system.definition_units(derived=True)
-    return SystemSolution(ws, system, tuple(runs))
+    return solution

@@ -6,6 +6,7 @@ The one path every front end takes for a system (the CLI and the sheet), as
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 from solvers.systems.model import System, parse_system
@@ -21,6 +22,17 @@ class SystemSolution:
     worksheet: Worksheet
     system: System
     runs: tuple[SystemRun, ...]
+
+    @functools.cached_property
+    def definitions_at_root(self) -> tuple[SystemRun, dict[str, float]] | None:
+        """(run, values): each defined quantity (SI) at the first converged run's root;
+        None without definitions or without a converged run. Computed once and kept, so
+        a front end can have it computed off its display thread and only read it there."""
+        converged = [r for r in self.runs if r.converged]
+        if not self.system.definitions or not converged:
+            return None
+        run = converged[0]
+        return run, self.system.definition_values([run.root[n] for n in self.system.unknowns])
 
 
 def system_of(ws: Worksheet) -> System:
