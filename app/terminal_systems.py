@@ -1,4 +1,4 @@
-"""What ``zerotrace solve`` prints for a system: plain tables, words from words.py."""
+"""What ``zerotrace solve`` prints for a system: plain tables, words from the words package."""
 
 from __future__ import annotations
 

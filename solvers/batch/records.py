@@ -71,7 +71,7 @@ class Batch:
         f at the root in f's units (NaN where there is no root).
     notes : list of (int, str)
         ``(flat row index, code)`` for rows a checker should know about, in row order;
-        codes in :data:`NOTE_CODES` (app/documents/words.py says each in words).
+        codes in :data:`NOTE_CODES` (app/documents/words says each in words).
     method : str
         The method's name in :data:`solvers.METHODS`.
     settings : mapping

@@ -38,7 +38,7 @@ class Remark:
     Codes: "unknown_has_value" (subject: the unknown), "no_derivative" (subject: the
     reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
     numbers: the limit passed, if any), "degrees", "radians", "kinks", "no_dependence"
-    (subject: the unknown), "e_notation". app/documents/words.py renders them.
+    (subject: the unknown), "e_notation". app/documents/words renders them.
     """
 
     code: str

@@ -1,0 +1,106 @@
+"""Numbers for people: significant figures, exact digits, values with units, counts."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from typing import Any
+
+# ----------------------------------------------------------------- numbers
+
+# Significant figures the window shows until the user chooses another count.
+DEFAULT_FIGURES = 10
+UNDEFINED = "undefined"  # a NaN: f or x has no value there (domain error, 0/0)
+
+
+def _special(value: float) -> str | None:
+    if math.isnan(value):
+        return UNDEFINED
+    if math.isinf(value):
+        return "+inf" if value > 0 else "-inf"
+    return None
+
+
+def number(value: float | int | None, figures: int = DEFAULT_FIGURES, blank: str = "") -> str:
+    """``value`` with ``figures`` significant figures.
+
+    ``blank`` for None, whole numbers (and booleans) as they are, "undefined" for NaN,
+    "+inf" / "-inf" for infinities.
+    """
+    if value is None:
+        return blank
+    if isinstance(value, (bool, int)):
+        return str(value)
+    value = float(value)
+    return _special(value) or f"{value:.{figures}g}"
+
+
+def exact(value: float | int | None, blank: str = "") -> str:
+    """Every digit: ``repr`` of a float (reads back as the same double), with the same
+    words as :func:`number` for None, NaN and infinities."""
+    if value is None:
+        return blank
+    if isinstance(value, (bool, int)):
+        return str(value)
+    value = float(value)
+    return _special(value) or repr(value)
+
+
+def measured_text(value: Any, converted: Any,
+                  show: Callable[[Any], str] | None = None) -> str:
+    """A parameter's value as entered: ``150 mm (= 0.15 m)`` when it carries a unit
+    (``converted``: a :class:`solvers.units.Converted`), ``350 m`` when that unit is
+    already SI, the number alone without one. The SI unit is written with a derived unit
+    where that is simpler (:func:`solvers.units.reading.unit_text`, ``derived``).
+    ``show`` formats the numbers (every digit by default)."""
+    show = show or exact
+    if converted is None:
+        return show(value)
+    si = si_unit_text(converted)
+    if converted.unit in (converted.si_unit, si):  # already in SI: nothing to convert
+        return f"{show(converted.value)} {converted.unit}"
+    return (f"{show(converted.value)} {converted.unit} "
+            f"(= {show(si_value_shown(converted))} {si})")
+
+
+def si_value_shown(converted: Any) -> float:
+    """A converted value's SI magnitude as people read it, to 15 significant figures: 15 ft
+    is 4.572 m, not the double nearest the product, 4.571999999999999 (that double is what
+    the solve uses and the JSON keeps)."""
+    return float(f"{converted.si_value:.15g}")
+
+
+def si_unit_text(converted: Any) -> str:
+    """The SI unit of a converted value for people: a derived unit for the compositions
+    engineers use (W/(m^2*K), not kg/(s^3*K)); files keep ``converted.si_unit``, in base
+    units."""
+    from solvers.units.reading import unit_text
+
+    return unit_text(converted.dimension, derived=True) or converted.si_unit
+
+
+def order_text(order: float | None, blank: str = "—") -> str:
+    """An observed order of convergence (2.00 quadratic, 1.62 secant, 1.00 linear)."""
+    return blank if order is None else f"{order:.2f}"
+
+
+def figures_word(n: int) -> str:
+    return counted(n, "significant figure")
+
+
+def counted(n: int, noun: str, plural: str | None = None) -> str:
+    """``n`` and its noun, singular for one: "1 cell", "3 cells", "1 iteration", "2 blocks"
+    (``plural`` where adding an s is wrong: "1 match", "2 matches")."""
+    return f"{n} {noun if n == 1 else plural or noun + 's'}"
+
+
+def sweep_text(name: str, start: float, stop: float, count: int, *, unit: str = "",
+               log: bool = False) -> str:
+    """What a sweep varies, for people: "p from -1 to 1 in 41 values, linear spacing".
+
+    START and STOP as numbers a person types (15 significant figures: no float noise,
+    no type names); the values themselves stay exact in the data cells."""
+    u = f" {unit}" if unit else ""
+    return (f"{name} from {start:.15g}{u} to {stop:.15g}{u} in {counted(count, 'value')}, "
+            f"{'logarithmic' if log else 'linear'} spacing; each row starts from the "
+            "previous row's root")

@@ -1,0 +1,99 @@
+"""The words for what the equation core remarks (derivatives, units, the dimension
+check, unit suspects) and the help page's paragraph on units."""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable, Sequence
+from typing import Any
+
+# --------------------------------------------------------------- equation remarks
+# What the equation core reports as codes (``Equation.remarks``: code, subject, numbers).
+
+# Why there is no symbolic derivative, by the reason code of solvers.equation.calculus.
+NO_DERIVATIVE_WORDS: dict[str, Callable[[tuple[float, ...]], str]] = {
+    "too_large": lambda n: f"more than {n[0]:g} terms",
+    "kinks_nested": lambda n: f"abs/min/max nested more than {n[0]:g} deep",
+    "unevaluated": lambda n: "sympy left it unevaluated",
+    "not_finite": lambda n: "it is not real or not finite",
+    "too_deep": lambda n: "expression too deep",
+    "not_handled": lambda n: "a function not handled",
+    "not_compiled": lambda n: "it cannot be compiled",
+}
+
+# The dimensional check switched off (a worksheet's dimension_check, --no-dimension-check):
+# said on every document of such a worksheet, never a silent pass.
+DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every unit is "
+                        "converted but whether the equation is consistent is yours to verify")
+
+# The remarks about units (every document that lists an equation's remarks shows these)
+UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
+                          "unknown_dimension_free", "unknown_dimension_fractional",
+                          "system_dimension_free", "unit_suspect"})
+
+DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
+                      "function arguments and exponents are dimensionless")
+
+REMARK_WORDS: dict[str, Callable[[Any], str]] = {
+    "unknown_has_value": lambda r: f"'{r.subject}' is the unknown: its parameter value is "
+                                   "not used",
+    "no_derivative": lambda r: "no symbolic derivative ("
+                               + NO_DERIVATIVE_WORDS[r.subject](r.numbers)
+                               + "): Newton uses a numerical one",
+    "degrees": lambda r: "deg = pi/180: angles in degrees become radians",
+    "radians": lambda r: "sin, cos and tan take radians (multiply by deg for degrees)",
+    "kinks": lambda r: "abs/min/max have a kink: the derivative there uses sign/step values",
+    "no_dependence": lambda r: f"the equation does not depend on '{r.subject}' once simplified",
+    "e_notation": lambda r: "numbers such as 2e3 are read as 2000, not as 2*e*3",
+    "dimensions_unchecked": lambda r: f"dimensions {DIMENSIONS_UNCHECKED}",
+    "absolute_temperature": lambda r: f"'{r.subject}' in degC/degF is an absolute temperature, "
+                                      "converted to kelvin with the offset (type delta_degC "
+                                      "or delta_degF for a difference)",
+    "unknown_dimension_free": lambda r: f"the equation does not fix the dimension of "
+                                        f"'{r.subject}': it is taken as dimensionless",
+    "system_dimension_free": lambda r: f"the equations do not fix the dimension of "
+                                       f"'{r.subject}': it is taken as dimensionless",
+    "unknown_dimension_fractional": lambda r: f"the dimensions give '{r.subject}' fractional "
+                                              "powers of units: if a constant of the equation "
+                                              "hides its unit (Manning's n, a Hazen–Williams "
+                                              "coefficient) give it its unit or switch the "
+                                              "dimension check off",
+    "unit_suspect": lambda r: _unit_suspect(r.subject, r.numbers),
+}
+
+
+def _unit_suspect(name: str, numbers: Sequence[float]) -> str:
+    """A parameter whose unit alone explains the unknown's fractional dimension; numbers:
+    the unknown's meant dimension, the parameter's and the one it needs (7 each)."""
+    from solvers.units.reading import needs_words, numbers_dimension, quantity_words
+
+    meant, now, needed = (numbers_dimension(numbers[i:i + 7]) for i in (0, 7, 14))
+    what = f"is {quantity_words(now)}" if now else "has no unit"
+    return (f"most likely the unit of '{name}' is wrong: it {what}; with the unknown "
+            f"{needs_words(meant)} the equation needs '{name}' {needs_words(needed)}")
+
+
+def remark_text(remark: Any) -> str:
+    """One remark (``code``, ``subject``, ``numbers``) as a sentence; unknown codes as is."""
+    words = REMARK_WORDS.get(remark.code)
+    return words(remark) if words else remark.code.replace("_", " ")
+
+
+def remarks_text(remarks: Iterable[Any]) -> tuple[str, ...]:
+    """Every remark of an equation (``Equation.remarks``) as sentences, in order."""
+    return tuple(remark_text(r) for r in remarks)
+
+
+# ----------------------------------------------------------------- help (F1)
+
+# The help page's paragraph on units (HTML; app/window/dialogs.py sets it in the page).
+HELP_UNITS = (
+    "<p><b>Units.</b> A parameter takes its unit in the <i>unit</i> column of the parameters "
+    "table, or typed after its number (<code>150 mm</code>, <code>2.5 m/s</code>, "
+    "<code>20 degC</code>); it is converted once to SI. The <b>Unit</b> box beside the "
+    "unknown gives the unit of the unknown, its start values, scan range and roots (blank: "
+    "the SI unit its dimensions give it). <b>Check dimensions</b> (on by default) checks that "
+    "both sides and every term agree; clear it only for a correlation whose constants hide "
+    "their units, and every document then says the dimensions were not checked. The system "
+    "window has the same: a <i>unit</i> column in its unknowns table, units on its "
+    "parameters and its own Check dimensions switch.</p>"
+)
