@@ -262,7 +262,7 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
 
 
 def cmd_sweep(args: argparse.Namespace) -> int:
-    from app.documents import words
+    from app.documents import tables, words
     from solvers.batch import solve_sweep
 
     settings = _settings(args)
@@ -277,7 +277,8 @@ def cmd_sweep(args: argparse.Namespace) -> int:
         raise _input_error("--vary", exc) from None
     cells = [[repr(float(v)) for v in values]]  # exact: the shortest repr that reads back
     unit = str(getattr(swept, "unit", "") or "")
-    return _finish(args, done.equation, done.batch, done.constants, [name], cells, [name],
+    return _finish(args, done.equation, done.batch, done.constants,
+                   [tables.column_header(name, unit)], cells, [name],
                    [values],
                    {"sweep": words.sweep_text(name, float(values[0]), float(values[-1]),
                                               int(values.size), unit=unit, log=args.log)})

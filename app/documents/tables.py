@@ -145,6 +145,13 @@ def read_header(cell: str) -> tuple[str, str] | None:
     return None if match is None else (match.group(1), (match.group(2) or "").strip())
 
 
+def column_header(name: str, unit: str = "") -> str:
+    """A column's heading as :func:`read_header` reads it back: ``NAME [unit]``, or the
+    name alone for a plain number. Every table of results (the CLI's, the window's, the
+    sheet's) heads an input column this way, so its numbers never lose their unit."""
+    return f"{name} [{unit}]" if unit else name
+
+
 def _delimiter(text: str) -> str:
     """The cells' separator: ',' (CSV), a tab (cells pasted from a spreadsheet) or ';' (the
     CSV of spreadsheets set up for a decimal comma). csv.Sniffer, limited to those three,
@@ -227,8 +234,9 @@ def results_of(inputs: Any, done: Any) -> TableResults:
     documents are handed them (cells written with ``repr``, round-trip exact)."""
     names = tuple(name for name, _ in inputs.columns)
     columns = tuple(np.asarray(values, dtype=np.float64) for _, values in inputs.columns)
+    headers = tuple(column_header(name, inputs.unit_of(j)) for j, name in enumerate(names))
     cells = tuple(tuple(repr(float(v)) for v in values) for _, values in inputs.columns)
-    return TableResults(names, columns, names, cells, done, inputs.kind)
+    return TableResults(names, columns, headers, cells, done, inputs.kind)
 
 
 def table_metadata(equation_text: str, equation: Any, batch: Any,

@@ -351,7 +351,9 @@ class TableWindow(QWidget):
         if inputs.kind == "sweep":
             self.sweep_name = names[0]
         units = [inputs.unit_of(j) for j in range(len(names))]
-        headers = [f"{n} [{u}]" if u else n for n, u in zip(names, units, strict=True)]
+        from app.documents.tables import column_header
+
+        headers = [column_header(n, u) for n, u in zip(names, units, strict=True)]
         self.set_table(headers, names, columns, [[repr(float(v)) for v in c] for c in columns],
                        inputs.kind, units)
 
@@ -409,7 +411,7 @@ class TableWindow(QWidget):
     def make_sweep(self) -> bool:
         """A sweep of one parameter, ``NAME`` or ``NAME [unit]``: the values from and to in
         that unit; without one, in the unit the worksheet gives that parameter."""
-        from app.documents.tables import read_header
+        from app.documents.tables import column_header, read_header
         from solvers.equation import EquationError
         from solvers.units import Measured, read_unit
 
@@ -443,7 +445,7 @@ class TableWindow(QWidget):
             values = np.linspace(start, stop, count)
         self.sweep_name = name
         self.log_x.setChecked(self.sweep_log.isChecked())  # the chart spaced as the sweep
-        self.set_table([f"{name} [{unit}]" if unit else name], [name], [values],
+        self.set_table([column_header(name, unit)], [name], [values],
                        [[repr(float(v)) for v in values]], "sweep", [unit])
         return True
 

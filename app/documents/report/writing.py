@@ -187,11 +187,16 @@ def _write_report(ws: Worksheet, pdf: Path, csv_dir: Any, worksheet_path: Any,
         if target.name.endswith("-runs.csv"):
             export.runs_csv(solution.runs, text, meta=meta)
         elif target.name.endswith("-table.csv"):
-            batch = table.done.batch
-            tables.results_csv(batch, table.headers, table.cells, text, meta={
-                **meta, "settings": "; ".join(f"{k}={v}" for k, v in
-                                              {"method": batch.method,
-                                               **batch.settings}.items())})
+            # the table's own lines, as `zerotrace batch` writes them: its constants only
+            # (a column's parameter is not a constant: the worksheet's single value for it
+            # was not used) and the table's method settings
+            tables.results_csv(table.done.batch, table.headers, table.cells, text,
+                               meta=tables.table_metadata(
+                                   ws.equation, table.done.equation, table.done.batch,
+                                   table.done.constants, extra={
+                                       "calc number": _calc_number(ws),
+                                       "worksheet": file_name, "worksheet sha256": sha,
+                                       "columns": "; ".join(table.headers)}))
         else:
             export.roots_csv(scan, text, meta=meta)
         files.append((target, text.getvalue().encode("utf-8")))

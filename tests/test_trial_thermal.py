@@ -1,0 +1,106 @@
+"""A thermal/process engineer's first trial of zerotrace: each finding pinned.
+
+Scenarios are invented for this trial (a straight aluminium fin sized for 80 % efficiency,
+a counterflow water-water exchanger by effectiveness-NTU, a refractory wall with two
+unknown surface temperatures); the numbers are checked against outside references named
+beside each check: the fin equation tanh(mL)/(mL) = eta by scipy.optimize.brentq, unit
+factors from NIST SP 811 (1 Btu_IT = 1055.05585262 J, 1 lb = 0.45359237 kg exactly,
+1 kJ = 1000 J by the SI prefix), the exchanger's outlet by the closed form of the
+effectiveness-NTU relation for counterflow (common practice, from memory:
+eps = (1 - exp(-NTU (1 - Cr))) / (1 - Cr exp(-NTU (1 - Cr))), Q = eps Cmin (Thi - Tci)).
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+from pathlib import Path
+
+import pypdf
+import pytest
+import scipy.optimize
+
+from app.cli import main
+
+FIN = "m = sqrt(2*h/(k*t)); tanh(m*L)/(m*L) = eta"
+FIN_PARAMS = ("--param", "k=205 W/(m*K)", "--param", "t=2 mm", "--param", "eta=0.8")
+
+
+def run(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def fin_length_mm(h: float, k: float = 205.0, t: float = 0.002, eta: float = 0.8) -> float:
+    """The fin length for efficiency eta, by scipy.optimize.brentq on the positive branch."""
+    m = math.sqrt(2 * h / (k * t))
+    return 1000 * scipy.optimize.brentq(lambda L: math.tanh(m * L) / (m * L) - eta,
+                                        1e-6, 10.0, xtol=1e-15)
+
+
+def table_rows(path: Path) -> tuple[list[str], list[dict[str, str]]]:
+    lines = path.read_text(encoding="utf-8").splitlines()
+    meta = [line for line in lines if line.lstrip('"').startswith("#")]
+    rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
+    return meta, rows
+
+
+# 1. A sweep in a unit wrote its column as a bare "h": a checker reading the results file
+#    saw h = 10 ... 200 with no unit (only a `# sweep` line further up said W/(m^2*K)).
+def test_a_sweep_in_a_unit_heads_its_column_with_that_unit(tmp_path, capsys):
+    out = tmp_path / "fin.csv"
+    code, stdout, err = run(capsys, "sweep", FIN, "--unknown", "L", "--unknown-unit", "mm",
+                            *FIN_PARAMS, "--vary", "h=10:200:5 W/(m^2*K)", "--x0", "100",
+                            "--within", "0", "1000", "--out", str(out))
+    assert code == 0, err
+    assert "h [W/(m^2*K)]" in stdout  # the terminal's table too
+    _meta, rows = table_rows(out)
+    assert list(rows[0])[0] == "h [W/(m^2*K)]"
+    for row in rows:  # the numbers under that heading are in that unit (brentq, in SI)
+        h = float(row["h [W/(m^2*K)]"])
+        assert float(row["root"]) == pytest.approx(fin_length_mm(h), rel=1e-12)
+
+
+def _fin_worksheet(tmp_path: Path) -> Path:
+    ws = {
+        "format": "zerotrace-worksheet", "version": 1,
+        "title": "Straight fin for 80 % efficiency (invented trial case)",
+        "equation": FIN, "unknown": "L", "unknown_unit": "mm",
+        "parameters": [{"name": "h", "value": 45, "unit": "W/(m^2*K)"},
+                       {"name": "k", "value": 205, "unit": "W/(m*K)"},
+                       {"name": "t", "value": 2, "unit": "mm"},
+                       {"name": "eta", "value": 0.8}],
+        "settings": {"methods": ["newton"], "x0": 50.0, "bracket": [5, 500]},
+        "scan": {"from": 5.0, "to": 500.0},
+        "table": {"kind": "sweep", "method": "newton", "x0": 100.0,
+                  "columns": [{"name": "h", "unit": "W/(m^2*K)",
+                               "values": [10, 57.5, 105, 152.5, 200]}]},
+    }
+    path = tmp_path / "fin.json"
+    path.write_text(json.dumps(ws), encoding="utf-8")
+    return path
+
+
+# 2. `zerotrace report` of a worksheet with a table in units printed the table's column
+#    and the design chart's axis as a bare "h", and the table CSV beside the sheet listed
+#    "h=45.0 W/(m^2*K)" among its constants: the worksheet's single value for a parameter
+#    the table varies, which no row used.
+def test_the_sheet_of_a_table_in_units_keeps_the_units_and_lists_only_constants(
+        tmp_path, capsys):
+    sheet = tmp_path / "fin.pdf"
+    code, _out, err = run(capsys, "report", str(_fin_worksheet(tmp_path)), "--pdf",
+                          str(sheet), "--csv-dir", str(tmp_path / "csv"))
+    assert code == 0, err
+    text = " ".join(" ".join(p.extract_text().split())
+                    for p in pypdf.PdfReader(str(sheet)).pages)
+    assert "h [W/(m^2*K)]" in text  # the table's heading (and the chart's axis label)
+    meta, rows = table_rows(tmp_path / "csv" / "fin-table.csv")
+    assert list(rows[0])[0] == "h [W/(m^2*K)]"
+    parameters = next(line for line in meta if line.startswith("# parameters:"))
+    assert "h=" not in parameters.replace("eta=", "")  # the swept h is not a constant
+    assert "k=205.0 W/(m*K)" in parameters and "t=2.0 mm" in parameters
+    for row in rows:
+        assert float(row["root"]) == pytest.approx(
+            fin_length_mm(float(row["h [W/(m^2*K)]"])), rel=1e-12)
