@@ -112,7 +112,7 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
                                    unknown=equation.unknown,
                                    parameters=tables.constants_as_entered(equation,
                                                                                 constants))
-        data.update(units_json(equation))
+        data.update(units_json(equation, columns=names))
         _json_out({**data, **{k: v for k, v in extra.items() if k not in data}})
         return EXIT_OK
     print(f"equation: {args.equation}")

@@ -21,7 +21,7 @@ import csv
 import io
 import math
 import os
-from collections.abc import Iterable, Mapping
+from collections.abc import Collection, Iterable, Mapping
 from datetime import datetime, timezone
 from typing import IO, Any
 
@@ -322,15 +322,26 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
     )
 
 
-def units_json(equation: Any) -> dict[str, Any]:
+def units_json(equation: Any, columns: Collection[str] = ()) -> dict[str, Any]:
     """The units of a JSON document: ``unknown_unit``, each parameter's unit as entered
-    and in SI (``parameter_units``), and whether dimensions were checked."""
+    and in SI (``parameter_units``), and whether dimensions were checked.
+
+    ``columns``: the parameters a table gives row by row. Each has its unit and SI unit,
+    ``"column": true`` and ``value``/``si_value`` null: its values are the rows', and the
+    one value the equation was last bound to (a single row's) is no value of the table."""
+
+    def entry(name: str, c: Any) -> dict[str, Any]:
+        if name in columns:
+            return {"value": None, "unit": c.unit, "si_value": None, "si_unit": c.si_unit,
+                    "column": True}
+        return {"value": _json_float(c.value), "unit": c.unit,
+                "si_value": _json_float(c.si_value), "si_unit": c.si_unit}
+
     return {
         "unknown_unit": equation.unknown_unit,
         "parameter_units": {
-            name: {"value": _json_float(c.value), "unit": c.unit,
-                   "si_value": _json_float(c.si_value), "si_unit": c.si_unit}
-            for name, c in equation.units.items() if isinstance(c.value, float)},
+            name: entry(name, c) for name, c in equation.units.items()
+            if name in columns or isinstance(c.value, float)},
         "dimension_check": not any(r.code == "dimensions_unchecked"
                                    for r in equation.remarks),
     }
