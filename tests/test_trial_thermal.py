@@ -143,3 +143,44 @@ def test_batch_json_gives_a_columns_unit_but_no_single_value(tmp_path, capsys):
         assert row["root"] == pytest.approx(
             hx_outlet_degC(row["mh"], row["mc"], row["U"], row["A"], row["Thi"],
                            row["Tci"]), rel=1e-12)
+
+
+# 4. A latent heat typed in kJ/kg was shown for people as "(= 2257000.0 m^2/s^2)": a
+#    velocity squared, where the engineer wrote an energy per mass. The Stefan-Boltzmann
+#    constant, already in SI as W/(m^2*K^4), was "converted" to kg/(s^3*K^4), and a gas
+#    constant in J/(mol*K) likewise. The SI text for people now keeps the composition
+#    typed, each factor made coherent, wherever every factor is a prefixed SI unit.
+@pytest.mark.parametrize("typed, value, shown", [
+    # SI prefixes (NIST SP 811, Table 5): k = 1e3, m = 1e-3, M = 1e6
+    ("2257 kJ/kg", 2257e3, "2257.0 kJ/kg (= 2257000.0 J/kg)"),
+    ("1.2 kW/(m^2*K)", 1200.0, "1.2 kW/(m^2*K) (= 1200.0 W/(m^2*K))"),
+    ("0.89 mPa*s", 0.89e-3, "0.89 mPa*s (= 0.00089 Pa*s)"),
+    ("-285.83 MJ/kmol", -285.83e3, "-285.83 MJ/kmol (= -285830.0 J/mol)"),
+])
+def test_si_text_for_people_keeps_the_composition_typed(typed, value, shown):
+    from app.documents import words
+    from solvers.units import convert_parameters
+
+    converted = convert_parameters({"p": typed})[1]["p"]
+    assert converted.si_value == pytest.approx(value, rel=1e-15)
+    assert words.measured_text(converted.value, converted) == shown
+
+
+def test_units_already_coherent_are_not_converted_and_others_fall_back():
+    import scipy.constants
+
+    from app.documents import words
+    from solvers.units import convert_parameters
+
+    _values, got = convert_parameters({
+        "sig": f"{scipy.constants.Stefan_Boltzmann!r} W/(m^2*K^4)",
+        "R": f"{scipy.constants.R!r} J/(mol*K)",
+        "cp": "1 Btu_it/(lb*delta_degF)", "Q": "3 L/s"})
+    assert words.measured_text(got["sig"].value, got["sig"]) == \
+        f"{scipy.constants.Stefan_Boltzmann!r} W/(m^2*K^4)"
+    assert words.measured_text(got["R"].value, got["R"]) == f"{scipy.constants.R!r} J/(mol*K)"
+    # not SI units: the dimension's SI unit as before. NIST SP 811: Btu_IT/(lb*degF) =
+    # 4186.8 J/(kg*K) exactly; 1 L = 1e-3 m^3
+    assert got["cp"].si_value == pytest.approx(4186.8, rel=1e-15)
+    assert words.si_unit_text(got["cp"]) == "J/(kg*K)"
+    assert words.measured_text(got["Q"].value, got["Q"]) == "3.0 L/s (= 0.003 m^3/s)"

@@ -273,6 +273,52 @@ def unit_text(dimension: Dimension, pretty: bool = False, derived: bool = False)
     return _join_units(parts, pretty)
 
 
+# pint's names of the coherent SI units (SI Brochure, 9th ed., Tables 2 and 4; NIST SP 811,
+# Tables 1 and 3) and their symbols: a factor of one of these, with or without a prefix, is
+# that unit times a power of ten (the gram's coherent unit is the kilogram). A kelvin-sized
+# difference (delta_degC, degC inside a compound unit) is a kelvin.
+_COHERENT: dict[str, str] = {
+    "meter": "m", "gram": "kg", "second": "s", "kelvin": "K", "mole": "mol",
+    "ampere": "A", "candela": "cd", "joule": "J", "watt": "W", "newton": "N",
+    "pascal": "Pa", "volt": "V", "ohm": "ohm", "delta_degree_Celsius": "K",
+}
+
+
+@lru_cache(maxsize=512)
+def coherent_text(text: str) -> str | None:
+    """The coherent SI unit of unit text written in its own composition: each factor a
+    (prefixed) coherent SI unit replaced by that unit, ``kJ/kg`` -> ``J/kg``,
+    ``kW/(m^2*K)`` -> ``W/(m^2*K)``, ``mPa*s`` -> ``Pa*s``, ``MJ/kmol`` -> ``J/mol``;
+    ``W/(m^2*K^4)`` stays as it is. The value in that unit is the SI base-unit value (a
+    coherent unit's factor is exactly 1), so only the words change: what the user wrote,
+    an energy per mass, is not read back as a velocity squared (m^2/s^2).
+
+    None when a factor is not a coherent SI unit with a prefix (ft, L, h, bar, degC alone,
+    %), when the text reads as dimensionless, or when it cannot be read: the caller then
+    names the dimension's SI unit (:func:`unit_text`)."""
+    try:
+        reg = registry()
+        units = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        parts: dict[str, float] = {}
+        for name, power in units.items():
+            readings = {_COHERENT.get(unit) for _prefix, unit, _suffix in
+                        reg.parse_unit_name(name)}
+            if len(readings) != 1 or None in readings:
+                return None
+            symbol = readings.pop()
+            parts[symbol] = parts.get(symbol, 0.0) + float(power)
+    except Exception:  # noqa: BLE001 - any unit pint will not read has no coherent text
+        return None
+    # in the order typed (J/(mol*K) stays so), numerator then denominator
+    up = "*".join(n + _power_text(e, False) for n, e in parts.items() if e > 0)
+    down = [n + _power_text(-e, False) for n, e in parts.items() if e < 0]
+    if not up and not down:
+        return None
+    bottom = "*".join(down)
+    return (up or "1") + ("" if not down else f"/({bottom})" if len(down) > 1
+                          else f"/{bottom}")
+
+
 def unit_size(dimension: Dimension) -> tuple[float, float, int]:
     """How involved a dimension's SI unit is, for ranking which unit is the likelier one:
     the sum of |exponents| of its base units, then of its factors with a derived unit

@@ -71,12 +71,14 @@ def si_value_shown(converted: Any) -> float:
 
 
 def si_unit_text(converted: Any) -> str:
-    """The SI unit of a converted value for people: a derived unit for the compositions
-    engineers use (W/(m^2*K), not kg/(s^3*K)); files keep ``converted.si_unit``, in base
-    units."""
-    from solvers.units.reading import unit_text
+    """The SI unit of a converted value for people: the unit as entered with each factor
+    made coherent where every factor is a prefixed SI unit (kJ/kg -> J/kg, W/(m^2*K^4) as
+    it is), else a derived unit for the compositions engineers use (W/(m^2*K), not
+    kg/(s^3*K)); files keep ``converted.si_unit``, in base units."""
+    from solvers.units.reading import coherent_text, unit_text
 
-    return unit_text(converted.dimension, derived=True) or converted.si_unit
+    return (coherent_text(converted.unit) if isinstance(converted.unit, str) else None) \
+        or unit_text(converted.dimension, derived=True) or converted.si_unit
 
 
 def order_text(order: float | None, blank: str = "—") -> str:
