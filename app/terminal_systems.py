@@ -45,7 +45,8 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
                   for n in system.unknowns]))
     print()
     print(_table(["residual at the root", *titles],
-                 [[f"({i + 1}) {text}"[:48], *(_g(r.residuals[i], 3) for r in runs)]
+                 [[words.clipped(f"({i + 1}) {text}", 48),
+                   *(_g(r.residuals[i], 3) for r in runs)]
                   for i, text in enumerate(system.equations)]))
     for r in runs:
         values = system.definition_values([r.root[n] for n in system.unknowns])

@@ -184,3 +184,58 @@ def test_units_already_coherent_are_not_converted_and_others_fall_back():
     assert got["cp"].si_value == pytest.approx(4186.8, rel=1e-15)
     assert words.si_unit_text(got["cp"]) == "J/(kg*K)"
     assert words.measured_text(got["Q"].value, got["Q"]) == "3.0 L/s (= 0.003 m^3/s)"
+
+
+WALL = ("hi*(Tin - T1) = k/Lw*(T1 - T2); "
+        "k/Lw*(T1 - T2) = ho*(T2 - Ta) + em*sig*(T2^4 - Ts^4)")
+
+
+def _wall_args():
+    import scipy.constants
+
+    return ["solve", WALL, "--unknown", "T1", "--unknown", "T2",
+            "--unknown-unit", "T1=degC", "--unknown-unit", "T2=degC",
+            "--x0", "T1=700", "--x0", "T2=100", "--param", "Tin=850 degC",
+            "--param", "Ta=25 degC", "--param", "Ts=25 degC",
+            "--param", "hi=60 W/(m^2*K)", "--param", "k=1.1 W/(m*K)",
+            "--param", "Lw=230 mm", "--param", "ho=12 W/(m^2*K)", "--param", "em=0.85",
+            "--param", f"sig={scipy.constants.Stefan_Boltzmann!r} W/(m^2*K^4)"]
+
+
+def wall_surfaces_degC() -> tuple[float, float]:
+    """The two surface temperatures by scipy.optimize.root (hybr), in kelvin then degC."""
+    import scipy.constants
+
+    sig = scipy.constants.Stefan_Boltzmann
+    tin, ta = 850 + 273.15, 25 + 273.15
+
+    def F(x):
+        t1, t2 = x
+        return [60 * (tin - t1) - 1.1 / 0.23 * (t1 - t2),
+                1.1 / 0.23 * (t1 - t2) - 12 * (t2 - ta) - 0.85 * sig * (t2 ** 4 - ta ** 4)]
+
+    got = scipy.optimize.root(F, [973.15, 373.15], tol=1e-14)
+    assert got.success
+    return float(got.x[0] - 273.15), float(got.x[1] - 273.15)
+
+
+# 5. A system's residual table cut a long equation at 48 characters with nothing to say
+#    so ("(2) k/Lw*(T1 - T2) = ho*(T2 - Ta) + em*sig*(T2^4"), and Broyden's one-line
+#    account said "12 evaluations of F and J" for a run that never calls J.
+def test_a_system_says_where_an_equation_is_cut_and_what_broyden_evaluated(capsys):
+    code, out, err = run(capsys, *_wall_args())
+    assert code == 0, err
+    residual_rows = [line for line in out.splitlines() if line.startswith("(2) ")]
+    assert len(residual_rows) == 1 and "(T2^…" in residual_rows[0]
+    broyden = next(line for line in out.splitlines()
+                   if line.strip().startswith("Broyden converged"))
+    assert "of F and J" not in broyden and "evaluations of F (" in broyden
+    newton = next(line for line in out.splitlines()
+                  if line.strip().startswith("Newton–Raphson converged"))
+    assert "evaluations of F and J" in newton
+    code, out, err = run(capsys, *_wall_args(), "--json")
+    t1, t2 = wall_surfaces_degC()
+    for r in json.loads(out)["runs"]:
+        assert r["converged"]
+        assert r["root"]["T1"] == pytest.approx(t1, rel=1e-12)
+        assert r["root"]["T2"] == pytest.approx(t2, rel=1e-12)

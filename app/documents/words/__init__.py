@@ -31,6 +31,7 @@ from __future__ import annotations
 from app.documents.words.numbers import (
     DEFAULT_FIGURES,
     UNDEFINED,
+    clipped,
     counted,
     exact,
     figures_word,
@@ -96,6 +97,7 @@ from app.documents.words.scans import (
     scan_warnings,
 )
 from app.documents.words.systems import (
+    EVALUATIONS_OF,
     JACOBIAN_WORDS,
     LAST_ITERATE,
     SYSTEM_METHOD_SUMMARIES,
@@ -131,6 +133,7 @@ __all__ = [
     "CAUTION_LINE",
     "DEFAULT_FIGURES",
     "UNDEFINED",
+    "clipped",
     "counted",
     "exact",
     "figures_word",
@@ -188,6 +191,7 @@ __all__ = [
     "UNIT_REMARKS",
     "remark_text",
     "remarks_text",
+    "EVALUATIONS_OF",
     "JACOBIAN_WORDS",
     "LAST_ITERATE",
     "SYSTEM_METHOD_SUMMARIES",

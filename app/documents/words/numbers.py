@@ -96,6 +96,12 @@ def counted(n: int, noun: str, plural: str | None = None) -> str:
     return f"{n} {noun if n == 1 else plural or noun + 's'}"
 
 
+def clipped(text: str, room: int) -> str:
+    """``text`` cut to ``room`` characters, ending in "…" where it was cut (a table cell
+    that must stay narrow never ends mid-expression as if that were all there is)."""
+    return text if len(text) <= room else text[:room - 1].rstrip() + "…"
+
+
 def sweep_text(name: str, start: float, stop: float, count: int, *, unit: str = "",
                log: bool = False) -> str:
     """What a sweep varies, for people: "p from -1 to 1 in 41 values, linear spacing".

@@ -39,8 +39,17 @@ def system_run_message(run: Any) -> str:
     verdict = "converged" if run.converged else "did not converge"
     # the reason in words only: the code is for scripts (JSON, CSV, a table's column)
     return (f"{title} {verdict} after {counted(run.iterations, 'iteration')} and "
-            f"{counted(run.evaluations, 'evaluation')} of F and J: "
+            f"{counted(run.evaluations, 'evaluation')} "
+            f"{EVALUATIONS_OF.get(run.jacobian, EVALUATIONS_OF['symbolic'])}: "
             f"{system_reason_text(run.reason)}.")
+
+
+# What a system run's evaluations count (SystemRun.evaluations), by its Jacobian: a run on
+# differences never calls J, so "of F and J" would claim work it did not do.
+EVALUATIONS_OF: dict[str, str] = {
+    "symbolic": "of F and J",
+    "differences": "of F (the difference Jacobian's included)",
+}
 
 
 def blocks_text(blocks: Sequence[Any], unknowns: Sequence[str]) -> str:
