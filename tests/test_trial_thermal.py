@@ -239,3 +239,38 @@ def test_a_system_says_where_an_equation_is_cut_and_what_broyden_evaluated(capsy
         assert r["converged"]
         assert r["root"]["T1"] == pytest.approx(t1, rel=1e-12)
         assert r["root"]["T2"] == pytest.approx(t2, rel=1e-12)
+
+
+HX_ONE = ("Ch = mh*cph; Cc = mc*cpc; Cmin = min(Ch, Cc); Cr = Cmin/max(Ch, Cc); "
+          "NTU = U*A/Cmin; eps = (1 - exp(-NTU*(1 - Cr)))/(1 - Cr*exp(-NTU*(1 - Cr))); "
+          "Ch*(Thi - Tho) = eps*Cmin*(Thi - Tci)")
+HX_PARAMS = ("--param", "mh=1.2 kg/s", "--param", "cph=4.19 kJ/(kg*K)",
+             "--param", "mc=0.9 kg/s", "--param", "cpc=4.18 kJ/(kg*K)",
+             "--param", "A=6.5 m^2", "--param", "Thi=90 degC", "--param", "Tci=20 degC",
+             "--unknown", "Tho", "--unknown-unit", "degC", "--x0", "50")
+
+
+# 6. U typed without its unit (850, meant W/(m^2*K)) was refused only as "the argument of
+#    exp must be dimensionless, not s³·K/kg at column 97": where the mismatch shows, not
+#    which input causes it. The inputs whose unit alone would make it fit are now named.
+#    W/(m^2*K) = kg/(s^3*K) (NIST SP 811, Table 3: W = m^2*kg*s^-3).
+def test_a_mismatch_among_the_inputs_names_the_input_whose_unit_would_fit(capsys):
+    code, _out, err = run(capsys, "solve", HX_ONE, *HX_PARAMS, "--param", "U=850")
+    assert code == 2
+    assert "`exp(-NTU*(1 - Cr))`" in err and f"column {HX_ONE.index('exp(-NTU') + 1}" in err
+    assert "'U' has no unit; the equation needs 'U' in W/(m²·K)" in err
+    # cp typed as a bare number: min() compares a heat capacity rate with a mass flow
+    code, _out, err = run(capsys, "solve", HX_ONE,
+                          *(a if a != "cph=4.19 kJ/(kg*K)" else "cph=4.19"
+                            for a in HX_PARAMS), "--param", "U=850 W/(m^2*K)")
+    assert code == 2 and "'cph' has no unit; the equation needs 'cph' in J/(kg·K)" in err
+    # with the unit the solve goes through, to the closed form's outlet
+    code, out, err = run(capsys, "solve", HX_ONE, *HX_PARAMS, "--param", "U=850 W/(m^2*K)",
+                         "--json")
+    assert code == 0, err
+    Ch, Cc = 1.2 * 4190.0, 0.9 * 4180.0
+    Cr, ntu = Cc / Ch, 850 * 6.5 / Cc
+    eps = (1 - math.exp(-ntu * (1 - Cr))) / (1 - Cr * math.exp(-ntu * (1 - Cr)))
+    expected = 90 - eps * Cc * 70 / Ch
+    for r in json.loads(out)["runs"]:
+        assert r["root"] == pytest.approx(expected, rel=1e-13)

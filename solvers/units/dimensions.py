@@ -403,12 +403,17 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
                         _combine(b, a, Fraction(-1))):
             # a mismatch whatever the unknowns' dimensions the parts before allow
             involved = [j for j in range(n) if ka[j] or kb[j]]
+            # the inputs whose unit alone would remove the mismatch: where it is, the
+            # message shows; what caused it (U typed without its W/(m^2*K)), this names
+            blame = "" if typed is None else suspects_words(suspects(
+                text, parts, sides, unknowns, dimensions, given, names_at, typed,
+                most=3, simplest=False))
             found = fixed_run(rows.solution())
             if found is None or found[1] != where:
-                _raise(text, conflict, where, positions)
+                _raise(text, conflict, where, positions, blame=blame)
             because = [(unknowns[j].name, rows.solution()[j], fixed_at[j]) for j in involved
                        if j in fixed_at and fixed_at[j] != where]
-            _raise(text, found[0], where, positions, _because(text, because))
+            _raise(text, found[0], where, positions, _because(text, because), blame)
         for j, value in rows.determined().items():
             if j in fixed_at:
                 continue
@@ -466,7 +471,7 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
              unknowns: Sequence[Any], dimensions: Mapping[Any, Dimension],
              given: Mapping[Any, tuple[Dimension, str]],
              names_at: Mapping[Any, int] | None, typed: Mapping[Any, str],
-             most: int = 2) -> tuple[Suspect, ...]:
+             most: int = 2, simplest: bool = True) -> tuple[Suspect, ...]:
     """The parameters whose unit is most likely wrong, given the unknowns' chosen units.
 
     Each parameter in turn is taken as one more unknown of the check (its unit set aside):
@@ -474,8 +479,11 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
     what its unit should have been. Of those, the ones needing the simplest dimension
     (whole exponents, least :func:`reading.unit_size`: a length before kg/(m*s^2),
     Pa*s before kg/m^2) are returned,
-    at most ``most``, in the order typed. A parameter the rules leave open, or that would
-    need fractional powers, is no suspect. () when no single parameter explains it.
+    at most ``most``, in the order typed; with ``simplest`` False every one that explains
+    it (a mismatch among the inputs themselves: U in W/(m*K) where W/(m^2*K) was meant
+    is explained by U's unit and by A's alike, and neither is the likelier on its face).
+    A parameter the rules leave open, or that would need fractional powers, is no
+    suspect. () when no single parameter explains it.
     """
     found: list[tuple[tuple[float, float, int], int, Suspect]] = []
     order = names_at or {}
@@ -499,20 +507,23 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
         return ()
     least = min(size for size, _at, _s in found)
     return tuple(s for size, _at, s in sorted(found, key=lambda f: f[1])
-                 if size == least)[:most]
+                 if size == least or not simplest)[:most]
 
 
-def suspects_words(found: Sequence[Suspect], unknown: str, unit: str) -> str:
+def suspects_words(found: Sequence[Suspect], unknown: str | None = None,
+                   unit: str | None = None) -> str:
     """'; most likely an input's unit is wrong: 'h' is a pressure (Pa, typed 'psi');
-    with 'D' in 'mm' the equation needs it as a length (m)' ('' for none)."""
+    with 'D' in 'mm' the equation needs it as a length (m)' ('' for none). Without
+    ``unknown`` (a mismatch among the inputs, whatever the unknown's unit): "...: 'U' has
+    no unit; the equation needs 'U' in W/(m²·K)"."""
     if not found:
         return ""
     said = []
     for s in found:
         now = (f"'{s.name}' in '{s.unit}' is {quantity_words(s.dimension)}" if s.unit
                else f"'{s.name}' has no unit")
-        said.append(f"{now}; with '{unknown}' in '{unit}' the equation needs "
-                    f"'{s.name}' {needs_words(s.needed)}")
+        given = f"with '{unknown}' in '{unit}' " if unknown is not None else ""
+        said.append(f"{now}; {given}the equation needs '{s.name}' {needs_words(s.needed)}")
     return "; most likely an input's unit is wrong: " + "; or ".join(said)
 
 
@@ -524,6 +535,9 @@ def _because(text: str, fixed: Sequence[tuple[str, _Exact, tuple[int, int]]]) ->
 
 
 def _raise(text: str, conflict: _Conflict, where: tuple[int, int],
-           positions: Mapping[Any, int], because: str = "") -> None:
+           positions: Mapping[Any, int], because: str = "", blame: str = "") -> None:
+    """Raise the mismatch at ``where``: the part, its column, then ``blame`` (the inputs
+    whose unit alone would remove it, :func:`suspects_words`)."""
     part = snippet(text, *where)
-    raise _fail(text, _message(conflict, part, positions) + because, where[0])
+    error = _fail(text, _message(conflict, part, positions) + because, where[0])
+    raise EquationError(f"{error}{blame}", error.position)
