@@ -274,3 +274,28 @@ def test_a_mismatch_among_the_inputs_names_the_input_whose_unit_would_fit(capsys
     expected = 90 - eps * Cc * 70 / Ch
     for r in json.loads(out)["runs"]:
         assert r["root"] == pytest.approx(expected, rel=1e-13)
+
+
+# 7. A heat transfer coefficient typed as handbooks print it, "850 W/m2K", was refused
+#    with "(did you mean 'mK', 'm°K'?)": a millikelvin is no help. A unit with a power
+#    glued on is now answered with the text it means (a product after '/' in parentheses:
+#    W/m^2*K would be W*K/m^2 by the usual precedence, common practice).
+@pytest.mark.parametrize("typed, meant, si", [
+    # SI base units of each (NIST SP 811, Table 3: W = m^2*kg*s^-3)
+    ("W/m2K", "W/(m^2*K)", "kg/(s^3*K)"), ("kg/m3", "kg/m^3", "kg/m^3"),
+    ("m3/h", "m^3/h", "m^3/s"), ("W/(m2*K)", "W/(m^2*K)", "kg/(s^3*K)")])
+def test_a_power_glued_to_a_unit_is_answered_with_the_unit_meant(capsys, typed, meant, si):
+    from solvers.units.reading import read_unit
+
+    code, _out, err = run(capsys, "solve", "q = mh*U", "--unknown", "q",
+                          "--param", "mh=1 kg/s", "--param", f"U=2 {typed}", "--x0", "1")
+    assert code == 2
+    assert f"(a power is written with ^: {meant}, not {typed})" in err
+    assert "did you mean" not in err
+    assert read_unit(meant).si_text == si  # what the hint offers reads as the unit meant
+
+
+def test_the_power_hint_leaves_other_unknown_units_to_close_names(capsys):
+    code, _out, err = run(capsys, "solve", "q = mh*U", "--unknown", "q",
+                          "--param", "mh=1 kg/s", "--param", "U=2 mmm", "--x0", "1")
+    assert code == 2 and "did you mean 'mm'" in err and "power" not in err

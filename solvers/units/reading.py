@@ -92,6 +92,33 @@ def _suggest(name: str, reg: Any) -> str:
     return (" (did you mean " + ", ".join(f"'{c}'" for c in close) + "?)") if close else ""
 
 
+_GLUED_POWER = re.compile(r"([A-Za-zµ]+?)([2-4])([A-Za-z]*)")
+
+
+def _power_hint(name: str, text: str) -> str:
+    """' (a power is written with ^: W/(m^2*K), not W/m2K)' when an unknown name is a
+    known unit with a power glued on, as handbooks print W/m2K or m3/h; '' otherwise (a
+    close name would mislead there: 'mK' for 'm2K'). A glued product after '/' is put in
+    parentheses: W/m^2*K would be W*K/m^2."""
+    match = _GLUED_POWER.fullmatch(name)
+    if match is None:
+        return ""
+    base, power, rest = match.groups()
+    reg = registry()
+    try:
+        reg.parse_units(base)
+        if rest:
+            reg.parse_units(rest)
+    except Exception:  # noqa: BLE001 - not a unit with a power glued on: no hint
+        return ""
+    meant = f"{base}^{power}" + (f"*{rest}" if rest else "")
+    if rest and re.search(r"/\s*" + re.escape(name) + r"(?![A-Za-z0-9])", text):
+        meant = f"({meant})"
+    whole = re.sub(r"(?<![A-Za-z0-9])" + re.escape(name) + r"(?![A-Za-z0-9])",
+                   lambda _m: meant, text, count=1)
+    return f" (a power is written with ^: {whole}, not {text})"
+
+
 def _refuse(text: str, what: str) -> EquationError:
     return EquationError(f"unit '{text}': {what}")
 
@@ -107,7 +134,7 @@ def _read_cached(text: str) -> Unit:
             name = names[0] if isinstance(names, (list, tuple)) else str(names)
             inside = "" if name == text else f" in '{text}'"
             raise EquationError(f"unknown unit '{name}'{inside}"
-                                + _suggest(name, reg)) from None
+                                + (_power_hint(name, text) or _suggest(name, reg))) from None
         raise _refuse(text, "cannot be read as a unit") from None
     for name, power in dict(units._units).items():
         if abs(float(power)) > MAX_UNIT_EXPONENT:
