@@ -446,7 +446,8 @@ def cmd_scan(args: argparse.Namespace) -> int:
         _json_out({"equation": ws.equation, "unknown": equation.unknown,
                    **export.units_json(equation), **data, "caution": export.CAUTION})
     else:
-        terminal.print_scan(result, equation.unknown, equation.unknown_unit)
+        terminal.print_scan(result, equation.unknown, equation.unknown_unit,
+                            equation.residual_unit(derived=True))
         if csv_path:
             print(f"roots written to {csv_path}")
     return EXIT_OK

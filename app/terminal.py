@@ -86,8 +86,9 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
                 [str(s.k), _g(s.x), _g(s.fx), _g(s.dfx), _g(s.dx), _g(s.lo), _g(s.hi)]
                 for s in r.steps
             ]
-            print(_table(list(words.iterate_headings(eq.unknown, "ascii",
-                                                     eq.unknown_unit).values()), body))
+            print(_table(list(words.iterate_headings(
+                eq.unknown, "ascii", eq.unknown_unit,
+                eq.residual_unit(derived=True)).values()), body))
     print(f"\n{caution()}")
 
 
@@ -103,7 +104,8 @@ def _parameter(name: str, value: float, converted) -> str:
     return f"{name} = {measured_text(value, converted, _g)}"
 
 
-def print_scan(scan, unknown: str, unit: str | None = None) -> None:
+def print_scan(scan, unknown: str, unit: str | None = None,
+               f_unit: str | None = None) -> None:
     from app.documents import words
 
     # The range as typed: 15 figures show any typed decimal whole, without a ".0".
@@ -122,7 +124,9 @@ def print_scan(scan, unknown: str, unit: str | None = None) -> None:
             ]
             for i, r in enumerate(scan.roots)
         ]
-        print(_table(["#", _labelled("x", unit), "residual", "multiplicity", "confirmed by",
+        residual = words.residual_units(f_unit, unit).get("fx")
+        print(_table(["#", _labelled("x", unit), _labelled("residual", residual),
+                      "multiplicity", "confirmed by",
                       "located by"], rows))
     for x in scan.poles:
         print(f"pole (not a root) near {unknown} = {_g(x)}")

@@ -299,3 +299,55 @@ def test_the_power_hint_leaves_other_unknown_units_to_close_names(capsys):
     code, _out, err = run(capsys, "solve", "q = mh*U", "--unknown", "q",
                           "--param", "mh=1 kg/s", "--param", "U=2 mmm", "--x0", "1")
     assert code == 2 and "did you mean 'mm'" in err and "power" not in err
+
+
+# 8. Every f(x) printed (iterates, residuals, the scan's roots) carried no unit: the
+#    exchanger's heat balance f = Ch*(Thi - Tho) - eps*Cmin*(Thi - Tci) is in W, and its
+#    f' per degC of the outlet, yet the tables said "f(Tho)" and "fx". The residual's unit
+#    now heads those columns in the terminal, the CSV (with a "# residual unit" line) and
+#    on the sheet (the window's lanes and roots list take the same headings).
+def test_the_residual_and_its_derivative_are_headed_with_their_units(tmp_path, capsys):
+    log = tmp_path / "hx.csv"
+    code, out, err = run(capsys, "solve", HX_ONE, *HX_PARAMS, "--param", "U=850 W/(m^2*K)",
+                         "--method", "newton", "--steps", "--csv", str(log))
+    assert code == 0, err
+    assert "f(Tho) [W]" in out and "f'(Tho) [W/degC]" in out
+    meta, rows = table_rows(log)
+    assert "# residual unit: W" in meta
+    assert list(rows[0]) == ["method", "k", "x [degC]", "fx [W]", "dfx [W/degC]",
+                             "dx [degC]", "lo [degC]", "hi [degC]"]
+    # the numbers are in those units: f at the start x0 = 50 degC by the closed form (W),
+    # and f' = -Ch = -mh*cph (W/K, a kelvin and a degree Celsius of difference alike)
+    Ch, Cc = 1.2 * 4190.0, 0.9 * 4180.0
+    Cr, ntu = Cc / Ch, 850 * 6.5 / Cc
+    eps = (1 - math.exp(-ntu * (1 - Cr))) / (1 - Cr * math.exp(-ntu * (1 - Cr)))
+    assert float(rows[0]["fx [W]"]) == pytest.approx(Ch * (90 - 50) - eps * Cc * 70,
+                                                     rel=1e-12)
+    assert float(rows[0]["dfx [W/degC]"]) == pytest.approx(-Ch, rel=1e-15)
+    # a dimensionless f (the fin's efficiency balance) has no unit; its f' is per mm
+    code, out, err = run(capsys, "solve", FIN, "--unknown", "L", "--unknown-unit", "mm",
+                         *FIN_PARAMS, "--param", "h=45 W/(m^2*K)", "--x0", "30",
+                         "--method", "newton", "--steps")
+    assert code == 0, err
+    heading = next(line for line in out.splitlines() if line.startswith("k  L [mm]"))
+    assert "f(L) " in heading and "f(L) [" not in heading and "f'(L) [1/mm]" in heading
+    # a scan's roots: the residual column in W
+    code, out, err = run(capsys, "scan", HX_ONE, *HX_PARAMS[:-2], "--param",
+                         "U=850 W/(m^2*K)", "--from", "0", "--to", "100")
+    assert code == 0, err
+    assert "residual [W]" in out
+
+
+def test_plain_numbers_claim_no_residual_unit(tmp_path, capsys):
+    log = tmp_path / "plain.csv"
+    code, _out, err = run(capsys, "solve", "x^3 - 2*x - 5", "--x0", "2", "--method",
+                          "newton", "--csv", str(log))
+    assert code == 0, err
+    meta, rows = table_rows(log)
+    assert list(rows[0])[:5] == ["method", "k", "x", "fx", "dfx"]
+    assert not any(line.startswith("# residual unit") for line in meta)
+    # the root against numpy.roots' real root of x^3 - 2x - 5 (outside reference)
+    import numpy as np
+
+    real = [r.real for r in np.roots([1, 0, -2, -5]) if abs(r.imag) < 1e-12]
+    assert float(rows[-1]["x"]) == pytest.approx(real[0], rel=1e-14)

@@ -381,7 +381,9 @@ def test_the_calculation_sheet_gives_units_as_entered_and_in_si(capsys, tmp_path
     # conversion returns, 243.83999999999997 here, stays in the JSON)
     assert "243.84 m" in text and "243.83999999999997" not in text
     runs = next(folder.glob("*runs.csv")).read_text().splitlines()
-    assert "method,k,x [mm],fx,dfx,dx [mm],lo [mm],hi [mm]" in runs
+    # f = hf - (...) is a head in m, and f' is per mm of the bore
+    assert "method,k,x [mm],fx [m],dfx [m/mm],dx [mm],lo [mm],hi [mm]" in runs
+    assert "# residual unit: m" in runs
 
 
 def test_a_hidden_unit_shows_as_fractional_powers_and_is_said():

@@ -33,6 +33,7 @@ from app.documents.words import (
     confirmed_text,
     located_text,
     measured_text,
+    residual_units,
     run_message,
     scan_warnings,
     start_notes,
@@ -42,11 +43,19 @@ from solvers.records import Run
 RUN_COLUMNS = ("method", "k", "x", "fx", "dfx", "dx", "lo", "hi")
 ROOT_COLUMNS = ("kind", "x", "residual", "multiplicity", "confirmed", "located_by")
 UNIT_KEY = "unknown unit"  # the metadata line that carries it (and labels those columns)
+RESIDUAL_UNIT_KEY = "residual unit"  # f's SI unit (base units), labelling fx and dfx
 
 
-def with_units(columns: Iterable[str], unit: str | None) -> list[str]:
-    """Header cells: the columns in the unknown's unit get it in brackets, ``x [m]``."""
-    return [f"{c} [{unit}]" if unit and c in IN_UNKNOWN_UNIT else c for c in columns]
+def with_units(columns: Iterable[str], unit: str | None,
+               f_unit: str | None = None) -> list[str]:
+    """Header cells: the columns in the unknown's unit get it in brackets, ``x [m]``; with
+    the residual's ``f_unit``, fx and dfx theirs (``fx [kg*m^2/s^3]``, see
+    :func:`app.documents.words.residual_units`)."""
+    residual = residual_units(f_unit, unit)
+    if "fx" in residual:  # a scan's root table: its residual column is f at the root
+        residual["residual"] = residual["fx"]
+    return [f"{c} [{unit}]" if unit and c in IN_UNKNOWN_UNIT else
+            f"{c} [{residual[c]}]" if c in residual else c for c in columns]
 
 
 def tool_version() -> str:
@@ -80,6 +89,7 @@ def metadata(
     units: Mapping[str, Any] | None = None,
     unknown_unit: str | None = None,
     remarks: Iterable[Any] = (),
+    residual_unit: str | None = None,
 ) -> dict[str, str]:
     """The ``#`` header lines of an export, as an ordered mapping.
 
@@ -102,6 +112,8 @@ def metadata(
     }
     if unknown_unit:
         meta[UNIT_KEY] = unknown_unit
+    if residual_unit:  # f = lhs - rhs in SI base units; '' (dimensionless) needs no line
+        meta[RESIDUAL_UNIT_KEY] = residual_unit
     if any(getattr(r, "code", "") == "dimensions_unchecked" for r in remarks):
         meta["dimensions"] = DIMENSIONS_UNCHECKED
     if settings:
@@ -120,7 +132,8 @@ def equation_meta(equation: Any, **more: Any) -> dict[str, str]:
     """:func:`metadata` of an :class:`~solvers.equation.Equation` (units and remarks too)."""
     return metadata(equation=equation.text, unknown=equation.unknown,
                     parameters=equation.parameters, units=equation.units,
-                    unknown_unit=equation.unknown_unit, remarks=equation.remarks, **more)
+                    unknown_unit=equation.unknown_unit, remarks=equation.remarks,
+                    residual_unit=equation.residual_unit(), **more)
 
 
 def _setting(value: Any) -> str:
@@ -201,7 +214,8 @@ def runs_csv(
         )
         for r in runs
     }
-    _write_table(buffer, {**meta, **summary}, with_units(RUN_COLUMNS, meta.get(UNIT_KEY)),
+    _write_table(buffer, {**meta, **summary},
+                 with_units(RUN_COLUMNS, meta.get(UNIT_KEY), meta.get(RESIDUAL_UNIT_KEY)),
                  run_rows(runs))
     _emit(target, buffer.getvalue(), overwrite)
 
@@ -222,7 +236,8 @@ def roots_csv(
     warnings = scan_warnings(scan)
     if warnings:
         extra["warnings"] = " | ".join(warnings)
-    _write_table(buffer, {**meta, **extra}, with_units(ROOT_COLUMNS, meta.get(UNIT_KEY)),
+    _write_table(buffer, {**meta, **extra}, with_units(ROOT_COLUMNS, meta.get(UNIT_KEY),
+                                                     meta.get(RESIDUAL_UNIT_KEY)),
                  root_rows(scan))
     _emit(target, buffer.getvalue(), overwrite)
 
@@ -319,6 +334,7 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
         units=eq.units,
         unknown_unit=eq.unknown_unit,
         remarks=eq.remarks,
+        residual_unit=eq.residual_unit(),
     )
 
 

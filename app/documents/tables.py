@@ -251,7 +251,8 @@ def table_metadata(equation_text: str, equation: Any, batch: Any,
     return metadata(equation=equation_text, unknown=equation.unknown,
                     parameters=constants_as_entered(equation, constants),
                     settings={"method": batch.method, **batch.settings}, extra=extra,
-                    units=units, unknown_unit=equation.unknown_unit, remarks=equation.remarks)
+                    units=units, unknown_unit=equation.unknown_unit, remarks=equation.remarks,
+                    residual_unit=equation.residual_unit())
 
 
 def constants_as_entered(equation: Any, constants: Mapping[str, Any]) -> dict[str, float]:

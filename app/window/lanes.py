@@ -120,9 +120,11 @@ class MethodLane(QFrame):
     def run(self) -> Run | None:
         return self.model.run
 
-    def set_run(self, run: Run | None, unknown: str = "x", unit: str | None = None) -> None:
+    def set_run(self, run: Run | None, unknown: str = "x", unit: str | None = None,
+                f_unit: str | None = None) -> None:
+        """``f_unit``: the residual's unit for people (f and f′ columns), None unknown."""
         self._named = (unknown, unit)
-        self.model.set_run(run, unknown, unit)
+        self.model.set_run(run, unknown, unit, f_unit)
         for c in range(self.model.columnCount()):
             self.table.setColumnHidden(c, c in self.model.empty_columns())
         self._size_columns()
@@ -269,7 +271,8 @@ class LanesPanel(QWidget):
         self.set_methods([r.method for r in solution.runs])
         for run in solution.runs:
             self.lanes[run.method].set_run(run, solution.equation.unknown,
-                                           solution.equation.unknown_unit)
+                                           solution.equation.unknown_unit,
+                                           solution.equation.residual_unit(derived=True))
         text = agreement_text(solution, self.digits.value())
         self.agreement.setText(text)
         self.agreement.setToolTip(text.replace("  ", "\n"))

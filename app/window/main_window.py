@@ -367,7 +367,8 @@ class MainWindow(QMainWindow):
         current = self.document.solution_for(ws)
         self.document.set_scan(scan, equation, key)
         self.plot.set_stale(False)
-        self.roots.show_scan(scan, equation.unknown, equation.unknown_unit)
+        self.roots.show_scan(scan, equation.unknown, equation.unknown_unit,
+                             equation.residual_unit(derived=True))
         self.plot.show_function(equation.f, scan.a, scan.b, unknown=equation.unknown, scan=scan,
                                 unit=equation.unknown_unit,
                                 runs=current.runs if current is not None else (), curve=curve)

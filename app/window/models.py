@@ -135,11 +135,12 @@ class RunModel(_RecordModel):
         self.run: Run | None = None
         self._headings = words.iterate_headings("x")
 
-    def set_run(self, run: Run | None, unknown: str = "x", unit: str | None = None) -> None:
+    def set_run(self, run: Run | None, unknown: str = "x", unit: str | None = None,
+                f_unit: str | None = None) -> None:
         """Show ``run``'s iterates; the headings name ``unknown`` (f, F(f), F′(f) for an
-        unknown called f) and its ``unit`` (``D [mm]``)."""
+        unknown called f), its ``unit`` (``D [mm]``) and the residual's ``f_unit``."""
         self.run = run
-        headings = words.iterate_headings(unknown, unit=unit)
+        headings = words.iterate_headings(unknown, unit=unit, f_unit=f_unit)
         if headings != self._headings:
             self._headings = headings
             self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(self.columns) - 1)
@@ -179,10 +180,10 @@ class RootsModel(_RecordModel):
         self._titles = [c.title for c in self.columns]
 
     def set_roots(self, roots: Sequence[Any], unknown: str = "x",
-                  unit: str | None = None) -> None:
-        """Show ``roots``; the headings name ``unknown`` and its ``unit`` (``D [mm]``,
-        ``f(D)``) as the iteration tables do."""
-        headings = words.iterate_headings(unknown, unit=unit)
+                  unit: str | None = None, f_unit: str | None = None) -> None:
+        """Show ``roots``; the headings name ``unknown``, its ``unit`` and the residual's
+        ``f_unit`` (``D [mm]``, ``f(D) [m]``) as the iteration tables do."""
+        headings = words.iterate_headings(unknown, unit=unit, f_unit=f_unit)
         titles = [headings["x"], headings["fx"], *(c.title for c in self.columns[2:])]
         if titles != self._titles:
             self._titles = titles

@@ -143,9 +143,11 @@ class RootsPanel(QGroupBox):
         self.summary.setText("No scan yet." if has_range else NO_RANGE)
         self.set_stale(False, None, "")
 
-    def show_scan(self, scan: Any, unknown: str, unit: str | None = None) -> None:
-        """List ``scan``'s roots under headings in ``unknown``'s name and ``unit``."""
-        self.model.set_roots(scan.roots, unknown, unit)
+    def show_scan(self, scan: Any, unknown: str, unit: str | None = None,
+                  f_unit: str | None = None) -> None:
+        """List ``scan``'s roots under headings in ``unknown``'s name and ``unit`` (and
+        the residual's ``f_unit``)."""
+        self.model.set_roots(scan.roots, unknown, unit, f_unit)
         self.set_stale(False, scan, unknown)
         self.size_columns()
         if self.model.rowCount():

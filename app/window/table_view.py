@@ -568,7 +568,8 @@ class TableWindow(QWidget):
                 self.lane.deleteLater()
             self.lane = MethodLane(batch.method)
             self.lane_holder.addWidget(self.lane)
-        self.lane.set_run(run, batch.equation.unknown, batch.equation.unknown_unit)
+        self.lane.set_run(run, batch.equation.unknown, batch.equation.unknown_unit,
+                          batch.equation.residual_unit(derived=True))
         self.lane_row = row
         self.scan_button.setEnabled(self.kind == "sweep")
         self.scan_roots.clear()

@@ -270,6 +270,38 @@ class Equation:
         return {d.name: None if dim is None else unit_text(dim, derived=derived)
                 for d, dim in zip(core.definitions, found, strict=True)}
 
+    def residual_unit(self, derived: bool = False) -> str | None:
+        """The SI unit of f = lhs - rhs (what every f(x) value, the residual, is in):
+        ``kg*m^2/s^3`` for a heat balance (``W`` with ``derived``, text for people); ''
+        when f is dimensionless; None when it cannot be claimed: no units at all (plain
+        numbers are in whatever consistent units were typed), the dimension check off,
+        or the unknown's dimension never worked out. f' is this unit per the unknown's
+        unit (x in ``unknown_unit``)."""
+        key = f"residual_unit_{derived}"
+        if key not in self._cache:
+            self._cache[key] = self._residual_unit(derived)
+        return self._cache[key]
+
+    def _residual_unit(self, derived: bool) -> str | None:
+        core = self._core
+        plan = None if core is None else core.units
+        if plan is None or not plan.check_dimensions or (
+                not self.units and not self.unknown_unit) or any(
+                r.code == "unknown_dimension_free" for r in self.remarks):
+            return None
+        from solvers.units import read_unit, unit_text
+        from solvers.units.dimensions import dimensions_of
+
+        dims = {plan.symbols[n]: c.dimension for n, c in self.units.items()
+                if n in plan.symbols}
+        if self.unknown_unit:
+            try:
+                dims[plan.unknown] = read_unit(self.unknown_unit).dimension
+            except EquationError:  # fractional powers pint does not read back
+                return None
+        found = dimensions_of([plan.sides[0]], dims)[0]
+        return None if found is None else unit_text(found, derived=derived)
+
     @property
     def derivative_latex(self) -> str:
         """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none, or if

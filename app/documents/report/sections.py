@@ -544,6 +544,7 @@ def _iterations_section(c: _Context) -> list[Flowable]:
     for run in c.solution.runs:
         out.append(CondPageBreak(40 * mm))  # never a banner and one row at a page foot
         out += _iteration_table(run, st, c.solution.equation.unknown,
-                                getattr(c.solution.equation, "unknown_unit", None))
+                                getattr(c.solution.equation, "unknown_unit", None),
+                                c.solution.equation.residual_unit(derived=True))
         out.append(Spacer(1, 10))
     return out

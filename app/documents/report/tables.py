@@ -62,13 +62,13 @@ _STEP_KEYS = ("x", "fx", "dfx", "dx", "lo", "hi")
 
 
 def _iteration_table(run: Run, st: dict, unknown: str = "x",
-                     unit: str | None = None) -> list[Flowable]:
+                     unit: str | None = None, f_unit: str | None = None) -> list[Flowable]:
     label = _label(run.method)
     if not run.steps:
         message = words.run_message(run, unknown, unit)
         return [Paragraph(f"<b>{escape(label)}</b>: no iterates. {_text(message)}",
                           st["body"])]
-    headings = words.iterate_headings(unknown, "sheet", unit)
+    headings = words.iterate_headings(unknown, "sheet", unit, f_unit)
     columns = [
         (key, headings[key])
         for key in _STEP_KEYS

@@ -87,16 +87,35 @@ _ITERATE_HEADINGS: dict[str, dict[str, str]] = {
 
 
 def iterate_headings(unknown: str, style: str = "screen",
-                     unit: str | None = None) -> dict[str, str]:
+                     unit: str | None = None, f_unit: str | None = None) -> dict[str, str]:
     """Headings of an iteration table's columns (keys: k, x, fx, dfx, dx, lo, hi) in the
     unknown's own name: a friction factor's table reads f, F(f), F′(f). With the unknown's
-    ``unit``, the columns in that unit say it: ``D [mm]``, ``dD [mm]``."""
+    ``unit``, the columns in that unit say it: ``D [mm]``, ``dD [mm]``. With the residual's
+    unit ``f_unit`` (:meth:`solvers.equation.Equation.residual_unit`; '' dimensionless,
+    None unknown) f and f′ say theirs: ``f(T) [W]``, ``f′(T) [W/degC]``."""
     fill = {"u": unknown or "x", "f": residual_name(unknown)}
     headings = {key: head.format(**fill) for key, head in _ITERATE_HEADINGS[style].items()}
     if unit:
         for key in IN_UNKNOWN_UNIT:
             headings[key] = f"{headings[key]} [{unit}]"
+    for key, shown in residual_units(f_unit, unit).items():
+        headings[key] = f"{headings[key]} [{shown}]"
     return headings
+
+
+def residual_units(f_unit: str | None, unit: str | None) -> dict[str, str]:
+    """The units of the columns fx and dfx: f in ``f_unit``, f′ in ``f_unit`` per the
+    unknown's ``unit`` ({} when the residual's unit is not known; a dimensionless f has
+    none, its f′ is 1/unit)."""
+    if f_unit is None:
+        return {}
+    out = {"fx": f_unit} if f_unit else {}
+    if unit:
+        per = f"({unit})" if any(c in unit for c in "*/") else unit
+        out["dfx"] = f"{f_unit or '1'}/{per}"
+    elif f_unit:
+        out["dfx"] = f_unit
+    return out
 
 
 IN_UNKNOWN_UNIT = ("x", "dx", "lo", "hi")  # iterate columns in the unknown's unit
