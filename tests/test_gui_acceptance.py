@@ -188,7 +188,8 @@ def test_the_roots_list_heads_its_columns_with_the_unknown_and_its_unit(qtbot, w
         qtbot.keyClicks(field, text)
     qtbot.keyClick(window.inputs.fields["to"], Qt.Key.Key_Tab)
     _scan_and_wait(qtbot, window)
-    assert _headings(window.roots_model, 3) == ["D [mm]", "f(D)", "mult."]
+    # f = hf - fD*(L/D)*v^2/(2g) is a head: the residual in m
+    assert _headings(window.roots_model, 3) == ["D [mm]", "f(D) [m]", "mult."]
     assert window.roots_model.rowCount() == 1
     # the design value taken from the list says its unit too
     qtbot.mouseClick(window.roots.design_button, Qt.MouseButton.LeftButton)

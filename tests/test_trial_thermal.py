@@ -351,3 +351,30 @@ def test_plain_numbers_claim_no_residual_unit(tmp_path, capsys):
 
     real = [r.real for r in np.roots([1, 0, -2, -5]) if abs(r.imag) < 1e-12]
     assert float(rows[-1]["x"]) == pytest.approx(real[0], rel=1e-14)
+
+
+def test_the_function_figure_names_the_residuals_unit_on_its_y_axis():
+    """The sheet's Figure 1 and the window's plot share figures.draw_function: f's axis
+    says f(Tho) [W] as the tables do (the curve itself against the closed form)."""
+    import numpy as np
+    from matplotlib.figure import Figure
+
+    from app.documents import figures
+    from solvers.equation import parse_equation
+
+    eq = parse_equation(HX_ONE, unknown="Tho", unknown_unit="degC", parameters={
+        "mh": "1.2 kg/s", "cph": "4.19 kJ/(kg*K)", "mc": "0.9 kg/s",
+        "cpc": "4.18 kJ/(kg*K)", "A": "6.5 m^2", "Thi": "90 degC", "Tci": "20 degC",
+        "U": "850 W/(m^2*K)"})
+    ax = Figure().add_subplot()
+    with figures.MATPLOTLIB_LOCK:
+        drawn = figures.draw_function(ax, eq.f, 0.0, 100.0, unknown="Tho", unit="degC",
+                                      f_unit=eq.residual_unit(derived=True))
+    assert ax.get_ylabel() == "f(Tho) [W]" and ax.get_xlabel() == "Tho [degC]"
+    Ch, Cc = 1.2 * 4190.0, 0.9 * 4180.0
+    Cr, ntu = Cc / Ch, 850 * 6.5 / Cc
+    eps = (1 - math.exp(-ntu * (1 - Cr))) / (1 - Cr * math.exp(-ntu * (1 - Cr)))
+    x = np.asarray(drawn.x, dtype=float)
+    finite = np.isfinite(np.asarray(drawn.y, dtype=float))
+    np.testing.assert_allclose(np.asarray(drawn.y, dtype=float)[finite],
+                               (Ch * (90 - x) - eps * Cc * 70)[finite], rtol=1e-9, atol=1e-6)

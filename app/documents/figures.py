@@ -130,6 +130,7 @@ def draw_function(
     precomputed: Curve | None = None,
     symlog: bool = False,
     unit: str | None = None,
+    f_unit: str | None = None,
 ) -> Curve:
     """Draw f on [a, b] into ``ax``, with a scan's findings and one run's path.
 
@@ -140,7 +141,8 @@ def draw_function(
     from the roots squashes the crossings onto the axis. ``symlog`` puts y on a
     symmetric-log scale, linear within the |f| scale of the roots and logarithmic
     beyond, showing the whole curve (pole spikes clipped). The axes are named after
-    the unknown (``V``, ``f(V)``), x with its ``unit`` (``D [mm]``). Returns the curve drawn.
+    the unknown (``V``, ``f(V)``), x with its ``unit`` (``D [mm]``), f with the residual's
+    ``f_unit`` (``f(T) [W]``; None or '' for none). Returns the curve drawn.
     """
     poles = list(getattr(scan, "poles", []) or []) if scan is not None else []
     jumps = list(getattr(scan, "discontinuities", []) or []) if scan is not None else []
@@ -165,7 +167,7 @@ def draw_function(
         ax.set_xlim(min(a, b), max(a, b))
         ax.set_ylim(*ylim)
     ax.set_xlabel(axis_label(unknown, unit))
-    ax.set_ylabel(name)
+    ax.set_ylabel(axis_label(name, f_unit))
     fit_x_ticks(ax)
     ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)
     handles, _labels = ax.get_legend_handles_labels()

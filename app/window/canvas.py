@@ -109,6 +109,7 @@ class PlotPanel(QTabWidget):
         self._curve: figures.Curve | None = None
         self._unknown = "x"
         self._unit: str | None = None
+        self._f_unit: str | None = None  # the residual's unit, on the y axis
         self._press: tuple[float, int] | None = None
         self._span: Any = None
         # The function view's axes and its lasting artists (curve, y = 0), kept between
@@ -175,11 +176,11 @@ class PlotPanel(QTabWidget):
 
     def show_function(self, f: Any, a: float, b: float, *, unknown: str = "x", scan: Any = None,
                       runs: Sequence[Run] = (), curve: figures.Curve | None = None,
-                      unit: str | None = None) -> None:
+                      unit: str | None = None, f_unit: str | None = None) -> None:
         """Draw f on [a, b] with the scan's marks and the selected method's path (x in
-        ``unit``, named on the axis)."""
+        ``unit``, f in ``f_unit``, each named on its axis)."""
         self._f, self._range, self._scan, self._unknown = f, (a, b), scan, unknown
-        self._unit = unit
+        self._unit, self._f_unit = unit, f_unit
         self._curve = curve
         self._runs = tuple(runs)
         self._fill_paths()
@@ -275,7 +276,7 @@ class PlotPanel(QTabWidget):
             ax.set_ylim(*limits[1])
         self._limits = limits
         ax.set_xlabel(figures.axis_label(self._unknown, self._unit))
-        ax.set_ylabel(name)
+        ax.set_ylabel(figures.axis_label(name, self._f_unit))
         handles, _labels = ax.get_legend_handles_labels()
         if len(handles) > 1:
             ax.legend(loc="best", fontsize="small", framealpha=0.85)

@@ -317,7 +317,8 @@ class MainWindow(QMainWindow):
         self.lanes.show_solution(solution)
         self.plot.show_function(solution.equation.f, a, b, unknown=solution.equation.unknown,
                                 scan=scan, runs=solution.runs, curve=curve,
-                                unit=solution.equation.unknown_unit)
+                                unit=solution.equation.unknown_unit,
+                                f_unit=solution.equation.residual_unit(derived=True))
         self.document.refresh_stale(self.solve_worksheet())
         self._show_stale(self.document.stale)
         self.solve_seconds = time.perf_counter() - self.solve_started_at
@@ -371,6 +372,7 @@ class MainWindow(QMainWindow):
                              equation.residual_unit(derived=True))
         self.plot.show_function(equation.f, scan.a, scan.b, unknown=equation.unknown, scan=scan,
                                 unit=equation.unknown_unit,
+                                f_unit=equation.residual_unit(derived=True),
                                 runs=current.runs if current is not None else (), curve=curve)
         self.document.refresh_stale(self.solve_worksheet())
         self._show_stale(self.document.stale)
