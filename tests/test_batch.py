@@ -555,3 +555,43 @@ def test_a_sweeps_rows_are_rebuilt_exactly():
         assert (run.reason, run.iterations, run.evaluations) == (
             batch.reason[i], batch.iterations[i], batch.evaluations[i])
         assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
+
+
+def test_a_sweep_with_long_steps_follows_its_branch_through_intermediate_values():
+    # Invented fin: efficiency tanh(mL)/(mL) = 0.8 with m = sqrt(2h/(k t)). f is even in L,
+    # so from the last row's root a long step in h sends Newton to the mirror root -L;
+    # the sweep halves the step and stays on the physical branch (L > 0) instead.
+    from scipy.optimize import brentq  # reference: scipy's bracketing root finder
+
+    text = "m = sqrt(2*h/(k*t)); tanh(m*L)/(m*L) = eta"
+    equation = parse_equation(text, unknown="L", parameters={"h": 10.0, "k": 205.0,
+                                                             "t": 0.002, "eta": 0.8})
+    values = np.array([10.0, 105.0, 200.0])  # W/(m^2 K): three rows far apart
+    for bounds in (None, (0.0, 1.0)):
+        batch = sweep(equation, "h", values, x0=0.1, bounds=bounds)
+        assert batch.converged.all()
+        for k, h in enumerate(values):
+            m = math.sqrt(2 * h / (205.0 * 0.002))
+            expected = brentq(lambda L, m=m: math.tanh(m * L) / (m * L) - 0.8, 1e-4, 10.0,
+                              xtol=1e-15)
+            assert batch.root[k] == pytest.approx(expected, rel=1e-12), (bounds, k)
+        assert (1, "continued") in batch.notes
+        assert not any(code in ("turning_point", "branch_jump", "failed", "left_range")
+                       for _, code in batch.notes)
+        # the row is rebuilt from its recorded start: the last intermediate root
+        run = batch.run(1)
+        assert run.root == batch.root[1] and run.steps[0].x != batch.root[0]
+
+
+def test_a_sweep_past_a_fold_still_ends_the_branch_after_halving_the_step():
+    # x^3 - x - p: the lowest branch ends at the fold p* = 2/(3 sqrt 3); no halving of the
+    # step follows it further, so the row past it keeps its own solve (the upper branch,
+    # numpy.roots) with a branch_jump note, and no "continued" note is claimed there.
+    equation = parse_equation("x^3 - x - p", unknown="x", parameters={"p": 0.0})
+    values = np.array([0.0, 0.2, 0.38, 0.5])
+    batch = sweep(equation, "p", values, x0=-1.0)
+    real = np.sort(np.roots([1.0, 0.0, -1.0, -0.5]).real[
+        np.abs(np.roots([1.0, 0.0, -1.0, -0.5]).imag) < 1e-9])
+    assert batch.root[3] == pytest.approx(real[-1], rel=1e-14)
+    assert (3, "branch_jump") in batch.notes and (3, "continued") not in batch.notes
+    assert batch.run(3).steps[0].x == batch.root[2]

@@ -31,11 +31,12 @@ NOTE_CODES: tuple[str, ...] = (
     "failed",              # sweep: the row did not converge
     "restart_last_good",   # sweep: after a failure, started again from the last good root
     "restart_x0",          # sweep: after a failure with no good root yet, started from x0
-    "branch_jump",         # sweep: the root jumped away from the branch (turning point passed?)
-    "turning_point",       # sweep: f' changed sign along the branch (a fold was crossed)
+    "branch_jump",         # sweep: the root is off the branch, which shorter steps could not follow
+    "turning_point",       # sweep: f' changed sign from the last row's root: another branch
     "left_range",          # sweep: the root left the given range of the unknown (not taken)
     "fixed_bracket",       # sweep: a bracketing method uses the same bracket on every row
     "restart_scan",        # sweep: resumed here from a root chosen by a scan at this value
+    "continued",           # sweep: reached through intermediate values (the step was too long)
 )
 
 # Reason codes as small integers inside the kernels: REASONS[i].

@@ -38,6 +38,12 @@ from solvers.records import NOT_FINITE
 # step control in continuation; the constant is ours).
 JUMP_FACTOR = 3.0
 
+# Where a row's solve leaves the branch, the step from the previous row is halved up to
+# this many times (down to 1/64 of it) to follow the branch to the row's value. A branch
+# that even such short steps cannot follow ends there (a turning point), or turns too
+# sharply for the rows' spacing: the row then keeps its own solve, with a note.
+MAX_HALVINGS = 6
+
 
 def _slope(equation: Any, x: float) -> float:
     """f'(x): the symbolic derivative when there is one, else a central difference."""
@@ -74,13 +80,21 @@ def sweep(
     start value keeps the spacing ``x1 - x0`` (``x1`` required). A bracketing method
     needs no start value: every row uses ``bracket`` (a ``fixed_bracket`` note on row 0).
 
+    Where a row's solve does not continue the branch (it fails, lands outside ``bounds``,
+    off the straight-line prediction of the last two roots, or where f' has the other
+    sign), the step from the previous row is halved, up to :data:`MAX_HALVINGS` times, and
+    the branch followed through those intermediate values (a ``continued`` note; the row's
+    start is then the last intermediate root, so :meth:`Batch.run` rebuilds it). Where even
+    that fails the row keeps its own solve, and the notes say how it ends.
+
     ``.notes`` (flat index, code) say where the branch ends or changes:
     ``failed`` (the row did not converge; the next row restarts from the last good
     root, ``restart_last_good``, or from x0 when there is none, ``restart_x0``),
     ``branch_jump`` (the root lies far off the straight-line prediction of the last two:
     the branch ended, typically at a turning point, and another branch was found),
-    ``turning_point`` (f' at the root changed sign from the previous row: a fold was
-    crossed), ``left_range`` (the method converged to a root outside ``bounds``: that row
+    ``turning_point`` (f' at the root changed sign from the previous row: the root is on
+    another branch, past a fold), ``continued`` (reached through intermediate values),
+    ``left_range`` (the method converged to a root outside ``bounds``: that row
     records no root, ``converged`` False and the reason :data:`OUTSIDE_RANGE`, and
     continuation goes on from the last root inside), ``bad_parameters`` (the value gives
     part of f no finite value).
@@ -147,6 +161,61 @@ def sweep(
     branch: list[tuple[float, float]] = []  # (value, root) of the branch now followed
     last_slope: float | None = None
     restarted = False
+    def solve_at(value: float, start: float) -> tuple[Any, Any] | None:
+        """(run, bound equation) of the method at ``value`` from ``start``; None when the
+        value gives part of f no finite value."""
+        try:
+            # rows of one, as Batch.run rebuilds a row: the same arithmetic
+            bound = bind_rows(equation, {k: np.array([v])
+                                         for k, v in {**base, name: value}.items()}, units)
+        except EquationError:
+            return None
+        run = run_method(
+            spec.name, _one_row(bound.f),
+            fprime=_one_row(bound.fprime) if symbolic else None,
+            derivative_source="symbolic" if symbolic else None,
+            x0=start, x1=start + spacing, bracket=bracket, damping=damping, **tol)
+        return run, bound
+
+    def inside(x: float) -> bool:
+        return bounds is None or min(bounds) <= x <= max(bounds)
+
+    def on_branch(value: float, run: Any, bound: Any, branch: list[tuple[float, float]],
+                  slope_before: float | None) -> tuple[bool, float | None]:
+        """(whether ``run`` continues ``branch``: converged, in the range, on the straight-
+        line prediction, f' of the same sign; f' at its root, or the last finite one)."""
+        if not run.converged or not inside(run.root) or _jumped(branch, value, run.root, tol):
+            return False, slope_before
+        slope = _slope(bound, run.root)
+        if not math.isfinite(slope):
+            return True, slope_before
+        # f' cannot change sign along one branch short of a turning point
+        return slope_before is None or slope * slope_before >= 0, slope
+
+    def halved(p_from: float, x_from: float, p_to: float, branch: list[tuple[float, float]],
+               slope: float | None, depth: int = 0) -> list[tuple[float, float, Any, Any,
+                                                               float | None]] | None:
+        """The branch followed from (p_from, x_from) to ``p_to`` by halving the step until
+        each solve stays on it: the points (value, start, run, bound, f') reached, the last
+        at ``p_to``; None where :data:`MAX_HALVINGS` halvings do not get there."""
+        if cancel is not None and cancel():
+            raise BatchCancelled
+        solved = solve_at(p_to, x_from)
+        if solved is not None:
+            run, bound = solved
+            stays, got = on_branch(p_to, run, bound, branch, slope)
+            if stays:
+                return [(p_to, x_from, run, bound, got)]
+        if depth >= MAX_HALVINGS:
+            return None
+        middle = 0.5 * (p_from + p_to)
+        left = halved(p_from, x_from, middle, branch, slope, depth + 1)
+        if left is None:
+            return None
+        value, _, run, _, got = left[-1]
+        right = halved(value, run.root, p_to, _extended(branch, left), got, depth + 1)
+        return None if right is None else left + right
+
     for k, value in enumerate(rows.tolist()):
         if cancel is not None and cancel():
             raise BatchCancelled
@@ -156,26 +225,33 @@ def sweep(
         if restarted:
             notes.append((k, "restart_last_good" if last_good is not None else "restart_x0"))
             restarted = False
-        starts_x0[k] = start
-        try:
-            # rows of one, as Batch.run rebuilds a row: the same arithmetic
-            bound = bind_rows(equation, {k: np.array([v])
-                                         for k, v in {**base, name: value}.items()}, units)
-        except EquationError:
+        solved = solve_at(value, start)
+        if solved is None:
+            starts_x0[k] = start
             notes.append((k, "bad_parameters"))
             restarted, branch = True, []
             continue
-        run = run_method(
-            spec.name, _one_row(bound.f),
-            fprime=_one_row(bound.fprime) if symbolic else None,
-            derivative_source="symbolic" if symbolic else None,
-            x0=start, x1=start + spacing, bracket=bracket, damping=damping, **tol)
+        run, bound = solved
+        if kind != "bracket" and branch and \
+                not on_branch(value, run, bound, branch, last_slope)[0]:
+            # the step from the last row was too long to stay on the branch (a jump to
+            # another root, a root outside the range, no convergence): follow the branch
+            # through intermediate values; where even short steps fail it ends, or turns
+            # back at a turning point, before this value
+            path = halved(branch[-1][0], branch[-1][1], value, branch, last_slope)
+            if path is not None:
+                notes.append((k, "continued"))
+                branch = _extended(branch, path[:-1])
+                start, run, bound = path[-1][1], path[-1][2], path[-1][3]
+                if len(path) > 1:
+                    last_slope = path[-2][4]
+        starts_x0[k] = start
         reason[k], iterations[k], evaluations[k] = run.reason, run.iterations, run.evaluations
         if not run.converged:
             notes.append((k, "failed"))
             restarted, branch = True, []
             continue
-        if bounds is not None and not min(bounds) <= run.root <= max(bounds):
+        if not inside(run.root):
             # a root of f, but not of the branch asked for: the row has no root in the
             # range (an engineer reading the table must not take it as the branch's value)
             reason[k] = OUTSIDE_RANGE
@@ -207,6 +283,13 @@ def sweep(
                  parameters={**{n: float(v) for n, v in base.items() if n != name},
                              name: rows}, units=units,
                  starts=starts)
+
+
+def _extended(branch: list[tuple[float, float]],
+              points: Sequence[tuple[float, float, Any, Any, Any]]) -> list[tuple[float, float]]:
+    """The last two (value, root) of ``branch`` followed by ``points`` (value, start, run,
+    ...): the straight-line prediction goes on from the newest two."""
+    return [*branch, *((p[0], p[2].root) for p in points)][-2:]
 
 
 def _jumped(branch: list[tuple[float, float]], value: float, root: float,

@@ -12,18 +12,27 @@ from app.documents.words.numbers import counted
 BATCH_NOTE_TEXT: dict[str, str] = {
     "bad_parameters": "the row's parameter values give part of the equation no finite real "
                       "value: not solved",
-    "failed": "did not converge: the branch followed so far ends before this value",
+    "failed": "did not converge from the last root, nor by following the branch through "
+              "intermediate values: the branch may end before this value (a turning point) "
+              "or turn too sharply for this spacing; a scan at this value shows its roots",
     "restart_last_good": "started again from the last converged root (the previous row failed)",
     "restart_x0": "started again from x0 (no row had converged yet)",
-    "branch_jump": "the root jumped off the branch followed so far (a turning point was "
-                   "passed, or another root was found): check which root you need here",
-    "turning_point": "f' changed sign at the root: the sweep went round a turning point",
+    "branch_jump": "the root lies off the branch followed so far, and shorter steps could not "
+                   "follow that branch to this value (it ends at a turning point, or another "
+                   "root was found): check which root you need here",
+    "turning_point": "f' at the root changed sign from the previous row's, so this root is on "
+                     "another branch (the one followed turned back at a turning point between "
+                     "the two values, and shorter steps could not follow it): check which root "
+                     "you need here",
     "left_range": "the method converged to a root outside the range given for the unknown: "
                   "it is not taken as this branch's root (the row has none), and the next "
                   "row starts from the last root inside the range",
     "fixed_bracket": "every row uses the same bracket (a bracketing method needs no "
                      "continuation)",
     "restart_scan": "the sweep was resumed here from a root chosen from a scan at this value",
+    "continued": "the step from the previous row was too long to stay on the branch in one "
+                 "solve: the branch was followed through intermediate values (each row's "
+                 "start is the last of them)",
 }
 
 
