@@ -12,6 +12,15 @@ from typing import Any
 
 import numpy as np
 
+from solvers.batch.open_kernels import (
+    newton_step,
+    newton_tests,
+    settle,
+    zero_points,
+    zero_second,
+    zero_verdict,
+)
+from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
     F_TOL,
@@ -47,84 +56,117 @@ def _test_point(w: Work, code: np.ndarray, x: np.ndarray, fx: np.ndarray,
     mark(code, np.abs(fx) <= s["ftol"], F_TOL)
 
 
+class _AtWork:
+    """The arrays of the rows at work, kept compact by the compiled kernels
+    (:mod:`solvers.batch.open_kernels`): the kernels move the rows that go on to the
+    front of every array in place, so the rows at work are always the first ``n``.
+
+    ``carry`` holds, one row each, what must move with the rows besides the iterates:
+    the rows' parameter parts of f that are arrays (:attr:`Rows.hoisted`), and any
+    ``extra`` per-row values (Newton's difference-step floor). :meth:`at_work` points the
+    work's f at the first ``n`` rows (chunk positions and parameter parts) and its
+    progress at their number.
+    """
+
+    def __init__(self, w: Work, *extra: np.ndarray) -> None:
+        self.w = w
+        n = w.size
+        self.rows = np.array(w.rows, dtype=np.int64)
+        self.parts = w._h
+        self.arrays = [j for j, h in enumerate(self.parts) if h.__class__ is np.ndarray]
+        self.carry = np.empty((len(self.arrays) + len(extra), n))
+        for row, j in enumerate(self.arrays):
+            self.carry[row] = self.parts[j]
+        for row, values in enumerate(extra, start=len(self.arrays)):
+            self.carry[row] = values
+        self.code = np.empty(n, dtype=np.int8)
+        out = w.out
+        self.out = (CONVERGED_INDEX, out.code, out.root, out.residual, out.iterations,
+                    out.evaluations)
+
+    def at_work(self, n: int) -> None:
+        w, carry = self.w, self.carry
+        w.rows = self.rows[:n]
+        parts = list(self.parts)
+        for row, j in enumerate(self.arrays):
+            parts[j] = carry[row, :n]
+        w._h = tuple(parts)
+
+    def call(self, x: np.ndarray, n: int, parts: np.ndarray) -> np.ndarray:
+        """f at ``x[:n]`` for rows whose parameter parts of f are ``parts[:, :n]`` (rows
+        apart from those at work: probes; the caller counts the calls)."""
+        values = list(self.parts)
+        for row, j in enumerate(self.arrays):
+            values[j] = parts[row, :n]
+        return self.w.fn.call("f", x[:n], tuple(values))
+
+    def extra(self, which: int, n: int) -> np.ndarray:
+        """The ``which``-th extra per-row values of the first ``n`` rows."""
+        return self.carry[len(self.arrays) + which, :n]
+
+
+def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) -> None:
+    """The exact-zero rule (:func:`zero_is_root`: a root, or underflow) for the rows
+    among the first ``n`` whose code is PENDING: their codes become its verdicts. The
+    probes' bookkeeping is compiled (:func:`solvers.batch.open_kernels.zero_points`);
+    f at the probes is one vectorised call per side."""
+    code, rows, carry = a.code, a.rows, a.carry
+    at = np.empty(n, dtype=np.int64)
+    step, px = np.empty(n), np.empty(n)
+    pparts = np.empty((carry.shape[0], n))
+    p = zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, step, px,
+                    pparts)
+    one = a.call(px, p, pparts)
+    q = zero_second(p, one, x, code, rows, w._extra, at, step, px, pparts)
+    if q:
+        two = a.call(px, q, pparts)
+        zero_verdict(q, one, two, code, at)
+
+
 def newton(w: Work, s: dict[str, Any]) -> None:
     """Newton–Raphson on every row of ``w`` (start array ``w.x0``); see the module notes.
 
-    Lazy (:meth:`Work.lazy`): a Newton row needs a handful of iterations and most rows
-    finish together, so compressing the arrays at every stop would cost more than f on
-    the few finished rows. Each iteration first asks, with a few operations on every
-    row, which rows may stop or met a bad derivative; the full tests (and their probes)
-    run on those rows only.
+    f and f' are evaluated on the rows at work only; everything between (the tests, the
+    step, the rows that stop and their results) is compiled passes over those rows
+    (:mod:`solvers.batch.open_kernels`), and the rows that stop leave the arrays at once.
     """
     xtol, rtol, ftol, cap, damping = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter",
                                                      "damping"))
     symbolic = s["derivative"] == "symbolic"
     nan = np.full(w.size, np.nan)
     w.stop(~np.isfinite(w.x0), NOT_FIN, nan, nan)
-    w.x = w.x0
-    del w.x0  # (one array fewer to compress)
-    if not symbolic:
-        w.scale = np.where(w.x != 0.0, DERIVATIVE_FLOOR * np.abs(w.x), 1.0)
-    w.lazy()
-    w.dx = np.full(w.size, np.nan)  # NaN: no step taken yet
-    w.fx = w.f(w.x)
-    # Work arrays reused from iteration to iteration, written in place (out=): the
-    # arrays of a batch are large, and fresh ones cost page faults on every iteration.
-    w.x_new = np.empty(w.size)
-    w.limit = np.empty(w.size)
-    w.size_ = np.empty(w.size)
-    w.going = np.empty(w.size, dtype=bool)
-    w.other = np.empty(w.size, dtype=bool)
-    while w.size:
+    n = w.size
+    if not n:
+        return
+    x = np.array(w.x0, dtype=np.float64)
+    extra = () if symbolic else (np.where(x != 0.0, DERIVATIVE_FLOOR * np.abs(x), 1.0),)
+    a = _AtWork(w, *extra)
+    rows, carry, code, out = a.rows, a.carry, a.code, a.out
+    dx = np.full(n, np.nan)  # NaN: no step taken yet
+    fx = w.f(x)
+    k = 0
+    while True:
+        w.k = k
         w.tick()
-        # the usual row goes on: finite |f| above ftol (not NaN, not 0.0), step above
-        # tolerance (after the first step dx of a row at work is never NaN: a row whose
-        # step is not finite stops, so > is the scalar test's "not <=")
-        size, going, other, limit = w.size_, w.going, w.other, w.limit
-        np.abs(w.fx, out=size)
-        np.greater(size, ftol, out=going)
-        going &= np.less(size, np.inf, out=other)
-        np.multiply(np.abs(w.x, out=limit), rtol, out=limit)
-        limit += xtol  # (= xtol + rtol*|x|: the same sum)
-        if w.k:
-            going &= np.greater(np.abs(w.dx, out=size), limit, out=other)
-        if w._dead_count:
-            going |= w.dead
-        if w.k >= cap or not going.all():
-            idx = np.flatnonzero(w.live(np.ones(w.size, dtype=bool)) if w.k >= cap
-                                 else ~going)
-            x, fx = w.x.take(idx), w.fx.take(idx)
-            code = np.full(idx.size, -1, dtype=np.int8)
-            _test_point(w, code, x, fx, s, idx)
-            mark(code, np.abs(w.dx.take(idx)) <= limit.take(idx), X_TOL)
-            if w.k >= cap:
-                code[code < 0] = MAX_IT
-            w.finish_at(idx, code, x, fx)
-            if not w.size:
+        stops, pending = newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, code)
+        if stops:
+            if pending:
+                _probe_zeros(w, a, n, x, s)
+            n = settle(n, k, x, fx, dx, rows, carry, code, w.calls, w._extra, *out)
+            if not n:
                 break
-        dfx = w.fprime(w.x) if symbolic else central_difference(w, w.x, w.fx, w.scale)
-        step = np.multiply(w.fx, -damping, out=w.size_)  # (= -damping*fx: one product)
-        step /= dfx
-        x_new = np.add(w.x, step, out=w.x_new)
-        usable = np.isfinite(x_new, out=w.going)
-        usable &= np.isfinite(dfx, out=w.other)
-        if w._dead_count:
-            usable |= w.dead
-        if not usable.all():
-            idx = np.flatnonzero(~usable)
-            d, st = dfx.take(idx), step.take(idx)
-            code = np.full(idx.size, -1, dtype=np.int8)
-            mark(code, ~np.isfinite(d), NOT_FIN)
-            mark(code, d == 0.0, ZERO_D)
-            bad = ~np.isfinite(x_new.take(idx))
-            mark(code, bad & ~np.isfinite(st), ZERO_D)  # a vanishing f': the step overflows
-            mark(code, bad, NOT_FIN)
-            w.finish_at(idx, code, w.x.take(idx), w.fx.take(idx))
-            x_new = w.x_new  # (compressed with the rest if rows left)
-        np.subtract(x_new, w.x, out=w.dx)
-        w.x, w.x_new = x_new, w.x  # the old x is the next iteration's buffer
-        w.fx = w.f(w.x)
-        w.k += 1
+            a.at_work(n)
+        xs = x[:n]
+        dfx = w.fprime(xs) if symbolic else central_difference(w, xs, fx[:n],
+                                                                 a.extra(0, n))
+        if newton_step(n, damping, x, fx, dfx, dx, code):
+            n = settle(n, k, x, fx, dx, rows, carry, code, w.calls, w._extra, *out)
+            if not n:
+                break
+            a.at_work(n)
+        fx = w.f(x[:n])
+        k += 1
+    a.at_work(0)
 
 
 def secant(w: Work, s: dict[str, Any]) -> None:

@@ -1,0 +1,204 @@
+"""Compiled loops of the open methods over arrays: Newton's and the secant's bookkeeping.
+
+Each kernel is one pass over the rows at work that does what numpy did in a dozen or
+more whole-array operations per iteration: the scalar method's tests at a new point, in
+its order (:func:`solvers.methods.newton`, :func:`solvers.methods.secant`), the step
+and the new iterate, and for every row that stops its results written to the chunk's
+:class:`solvers.batch.rows.Outcome` arrays at once. The rows that go on are moved to
+the front of every array in the same pass (their order kept), parameter parts of f
+included, so f and f' are then evaluated on exactly the rows at work, with no
+rows riding along and no copies.
+
+f is never called here: it is evaluated outside, vectorised, on the first ``m`` entries
+of the arrays a kernel returns ``m`` for. The arithmetic is the scalar method's, in
+its order (no fast-math: see :mod:`solvers.compiled`), so every row takes the scalar
+method's steps to the bit.
+
+Codes are those of :data:`solvers.batch.records.REASON_CODES` (int8); ``PENDING`` marks
+a row whose f is an exact 0.0: it stops, with the verdict of the exact-zero rule
+(:func:`solvers.batch.rows.zero_is_root`, probes of f evaluated outside) still to come.
+"""
+
+from __future__ import annotations
+
+import sys
+
+import numpy as np
+
+from solvers.batch.rows import EXACT, F_TOL, MAX_IT, NOT_FIN, X_TOL, ZERO_D
+from solvers.compiled import kernel
+
+_FLOAT_MIN = sys.float_info.min  # the rule's floor of the probe step
+
+PENDING = -2
+"""A row stopping on an exact 0.0 of f, before the exact-zero rule's verdict."""
+GO_ON = -1
+
+
+@kernel
+def _write(r, code, root, residual, k, evaluations, converged, out_code, out_root,
+           out_residual, out_iterations, out_evaluations):
+    """The results of chunk row ``r`` (as :meth:`Outcome.write`: NaN unless converged)."""
+    out_code[r] = code
+    if converged[code]:
+        out_root[r] = root
+        out_residual[r] = residual
+    else:
+        out_root[r] = np.nan
+        out_residual[r] = np.nan
+    out_iterations[r] = k
+    out_evaluations[r] = evaluations
+
+
+@kernel
+def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, code):
+    """The tests of :func:`solvers.methods.newton` at the rows' iterates ``x[:n]`` (f
+    there ``fx``, the step that led there ``dx``, NaN before the first), in its order:
+    f not finite; f an exact 0.0 (``PENDING``); ``|f| <= ftol``; ``|dx| <= xtol +
+    rtol*|x|``; ``k >= cap``. Writes each row's ``code`` (GO_ON when no test stops it).
+
+    Returns (stops, pending): the rows stopping (pending ones included) and how many of
+    them are pending. (No row moves here: most iterations stop no row, and a pass that
+    only compares is several times faster than one that also moves rows.)
+    """
+    stops = 0
+    pending = 0
+    for i in range(n):
+        fi = fx[i]
+        c = GO_ON
+        if not np.isfinite(fi):
+            c = NOT_FIN
+        elif fi == 0.0:
+            c = PENDING
+        elif abs(fi) <= ftol:
+            c = F_TOL
+        elif abs(dx[i]) <= xtol + rtol * abs(x[i]):  # NaN before the first step: never
+            c = X_TOL
+        elif k >= cap:
+            c = MAX_IT
+        code[i] = c
+        stops += c != GO_ON
+        pending += c == PENDING
+    return stops, pending
+
+
+@kernel
+def settle(n, k, x, fx, dx, rows, hoisted, code, calls, extra, converged, out_code,
+           out_root, out_residual, out_iterations, out_evaluations):
+    """Write out the rows of ``x[:n]`` whose ``code`` is a stop reason (iterations
+    ``k``, evaluations ``calls`` plus the row's own ``extra``; root ``x`` and residual
+    ``fx`` when converged) and move the rest (``code`` GO_ON) to the front of x, fx,
+    dx, rows and every row of ``hoisted`` (one row per parameter part of f), their order
+    kept. Returns the rows kept."""
+    m = 0
+    for i in range(n):
+        c = code[i]
+        if c >= 0:
+            r = rows[i]
+            _write(r, c, x[i], fx[i], k, calls + extra[r], converged, out_code, out_root,
+                   out_residual, out_iterations, out_evaluations)
+            continue
+        if m != i:
+            x[m] = x[i]
+            fx[m] = fx[i]
+            dx[m] = dx[i]
+            rows[m] = rows[i]
+            for j in range(hoisted.shape[0]):
+                hoisted[j, m] = hoisted[j, i]
+        m += 1
+    return m
+
+
+@kernel
+def newton_step(n, damping, x, fx, dfx, dx, code):
+    """Newton's step on the rows ``x[:n]`` (f there ``fx``, f' ``dfx``), as
+    :func:`solvers.methods.newton` takes it: f' not finite (not finite) or 0.0 (zero
+    derivative) stops the row; ``step = -damping*fx/dfx``, ``x_new = x + step``; a new
+    iterate that is not finite stops it (zero derivative when the step itself overflowed,
+    else not finite). Every row gets ``x = x_new``, ``dx = x_new - x`` (a stopped row's
+    are never read: it has failed, so its root is NaN) and its ``code``.
+
+    Returns the rows stopping (then :func:`settle` writes them out).
+    """
+    stops = 0
+    for i in range(n):
+        xi = x[i]
+        d = dfx[i]
+        step = -damping * fx[i] / d
+        x_new = xi + step
+        c = GO_ON
+        if not np.isfinite(d):
+            c = NOT_FIN
+        elif d == 0.0:
+            c = ZERO_D
+        elif not np.isfinite(x_new):
+            c = ZERO_D if not np.isfinite(step) else NOT_FIN
+        code[i] = c
+        stops += c != GO_ON
+        x[i] = x_new
+        dx[i] = x_new - xi
+    return stops
+
+
+@kernel
+def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, pparts):
+    """The first probes of the exact-zero rule (:func:`solvers.methods.common._zero_is_root`,
+    element-wise :func:`solvers.batch.rows.zero_is_root`) for the rows of ``x[:n]`` whose
+    ``code`` is PENDING: ``step = max(tol, 2*ulp(x), smallest normal)`` with
+    ``tol = xtol + rtol*|x|``, the probe ``px = x + step``; ``at`` their positions,
+    ``pparts`` their parameter parts of f; each probe counted in the row's ``extra``.
+    Returns how many."""
+    p = 0
+    for i in range(n):
+        if code[i] != PENDING:
+            continue
+        xi = x[i]
+        s = xtol + rtol * abs(xi)
+        u = 2.0 * np.spacing(abs(xi))
+        if u > s:
+            s = u
+        if _FLOAT_MIN > s:
+            s = _FLOAT_MIN
+        at[p] = i
+        step[p] = s
+        px[p] = xi + s
+        for j in range(hoisted.shape[0]):
+            pparts[j, p] = hoisted[j, i]
+        extra[rows[i]] += 1
+        p += 1
+    return p
+
+
+@kernel
+def zero_second(p, one, x, code, rows, extra, at, step, px, pparts):
+    """After f at the first probes (``one``): a probe that is 0.0 too makes the zero
+    underflow (NOT_FIN, no more calls, as the scalar rule stops there); the other rows
+    move to the front with their second probe ``px = x - step`` (counted). Returns how
+    many second probes."""
+    q = 0
+    for t in range(p):
+        i = at[t]
+        if one[t] == 0.0:
+            code[i] = NOT_FIN
+            continue
+        at[q] = i
+        one[q] = one[t]
+        px[q] = x[i] - step[t]
+        for j in range(pparts.shape[0]):
+            pparts[j, q] = pparts[j, t]
+        extra[rows[i]] += 1
+        q += 1
+    return q
+
+
+@kernel
+def zero_verdict(q, one, two, code, at):
+    """The verdict beside the second probes (``two``): a root (EXACT) unless f is 0.0 there
+    too; one of the two neighbours must be finite."""
+    for t in range(q):
+        root = two[t] != 0.0 and (np.isfinite(one[t]) or np.isfinite(two[t]))
+        code[at[t]] = EXACT if root else NOT_FIN
+
+
+__all__ = ["GO_ON", "PENDING", "newton_step", "newton_tests", "settle", "zero_points",
+           "zero_second", "zero_verdict"]
