@@ -80,6 +80,9 @@ class _AtWork:
         for row, values in enumerate(extra, start=len(self.arrays)):
             self.carry[row] = values
         self.code = np.empty(n, dtype=np.int8)
+        self.dead = np.zeros(n, dtype=np.int8)
+        self.dead_count = 0
+        self.probes: tuple[np.ndarray, ...] | None = None  # the probes' arrays, made once
         out = w.out
         self.out = (CONVERGED_INDEX, out.code, out.root, out.residual, out.iterations,
                     out.evaluations)
@@ -91,6 +94,18 @@ class _AtWork:
         for row, j in enumerate(self.arrays):
             parts[j] = carry[row, :n]
         w._h = tuple(parts)
+
+    def settle(self, n: int, k: int, x: np.ndarray, fx: np.ndarray, dx: np.ndarray) -> int:
+        """:func:`solvers.batch.open_kernels.settle`: the stopped rows among the first
+        ``n`` written out; returns the rows left in the arrays (dead ones riding along
+        included: 0 only when every row has stopped)."""
+        w = self.w
+        m, self.dead_count = settle(n, k, x, fx, dx, self.rows, self.carry, self.dead,
+                                    self.dead_count, self.code, w.calls, w._extra,
+                                    *self.out)
+        if m != n:
+            self.at_work(m)
+        return m
 
     def call(self, x: np.ndarray, n: int, parts: np.ndarray) -> np.ndarray:
         """f at ``x[:n]`` for rows whose parameter parts of f are ``parts[:, :n]`` (rows
@@ -111,9 +126,11 @@ def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) 
     probes' bookkeeping is compiled (:func:`solvers.batch.open_kernels.zero_points`);
     f at the probes is one vectorised call per side."""
     code, rows, carry = a.code, a.rows, a.carry
-    at = np.empty(n, dtype=np.int64)
-    step, px = np.empty(n), np.empty(n)
-    pparts = np.empty((carry.shape[0], n))
+    if a.probes is None:
+        size = a.code.size
+        a.probes = (np.empty(size, dtype=np.int64), np.empty(size), np.empty(size),
+                    np.empty((carry.shape[0], size)))
+    at, step, px, pparts = a.probes
     p = zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, step, px,
                     pparts)
     one = a.call(px, p, pparts)
@@ -141,29 +158,27 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     x = np.array(w.x0, dtype=np.float64)
     extra = () if symbolic else (np.where(x != 0.0, DERIVATIVE_FLOOR * np.abs(x), 1.0),)
     a = _AtWork(w, *extra)
-    rows, carry, code, out = a.rows, a.carry, a.code, a.out
+    code, dead = a.code, a.dead
     dx = np.full(n, np.nan)  # NaN: no step taken yet
     fx = w.f(x)
     k = 0
     while True:
         w.k = k
         w.tick()
-        stops, pending = newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, code)
+        stops, pending = newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
         if stops:
             if pending:
                 _probe_zeros(w, a, n, x, s)
-            n = settle(n, k, x, fx, dx, rows, carry, code, w.calls, w._extra, *out)
+            n = a.settle(n, k, x, fx, dx)
             if not n:
                 break
-            a.at_work(n)
         xs = x[:n]
         dfx = w.fprime(xs) if symbolic else central_difference(w, xs, fx[:n],
                                                                  a.extra(0, n))
-        if newton_step(n, damping, x, fx, dfx, dx, code):
-            n = settle(n, k, x, fx, dx, rows, carry, code, w.calls, w._extra, *out)
+        if newton_step(n, damping, x, fx, dfx, dx, dead, code):
+            n = a.settle(n, k, x, fx, dx)
             if not n:
                 break
-            a.at_work(n)
         fx = w.f(x[:n])
         k += 1
     a.at_work(0)

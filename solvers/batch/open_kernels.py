@@ -1,22 +1,23 @@
-"""Compiled loops of the open methods over arrays: Newton's and the secant's bookkeeping.
+"""Compiled loops of the open methods over arrays: Newton's bookkeeping.
 
 Each kernel is one pass over the rows at work that does what numpy did in a dozen or
 more whole-array operations per iteration: the scalar method's tests at a new point, in
-its order (:func:`solvers.methods.newton`, :func:`solvers.methods.secant`), the step
-and the new iterate, and for every row that stops its results written to the chunk's
-:class:`solvers.batch.rows.Outcome` arrays at once. The rows that go on are moved to
-the front of every array in the same pass (their order kept), parameter parts of f
-included, so f and f' are then evaluated on exactly the rows at work, with no
-rows riding along and no copies.
+its order (:func:`solvers.methods.newton`), the step and the new iterate, and for every
+row that stops its results written to the chunk's :class:`solvers.batch.rows.Outcome`
+arrays at once (:func:`settle`). The rows that stop leave the arrays as soon as they
+are a quarter of them: the rows that go on are moved to the front of every array, their
+order kept, parameter parts of f included, so f and f' are evaluated on the rows at
+work. Until then (one row in a hundred stopping, say) the stopped rows ride along,
+marked ``dead``: moving every row costs more than f on the few stopped ones.
 
-f is never called here: it is evaluated outside, vectorised, on the first ``m`` entries
-of the arrays a kernel returns ``m`` for. The arithmetic is the scalar method's, in
-its order (no fast-math: see :mod:`solvers.compiled`), so every row takes the scalar
-method's steps to the bit.
+f is never called here: it is evaluated outside, vectorised, on the first ``n`` entries
+of the arrays. The arithmetic is the scalar method's, in its order (no fast-math: see
+:mod:`solvers.compiled`), so every row takes the scalar method's steps to the bit.
 
 Codes are those of :data:`solvers.batch.records.REASON_CODES` (int8); ``PENDING`` marks
-a row whose f is an exact 0.0: it stops, with the verdict of the exact-zero rule
-(:func:`solvers.batch.rows.zero_is_root`, probes of f evaluated outside) still to come.
+a row whose f is an exact 0.0: it stops, with the verdict of the exact-zero rule (probes
+of f evaluated outside, :func:`zero_points`) still to come; ``DEAD`` a row that stopped
+at an earlier iteration and still rides along.
 """
 
 from __future__ import annotations
@@ -29,10 +30,13 @@ from solvers.batch.rows import EXACT, F_TOL, MAX_IT, NOT_FIN, X_TOL, ZERO_D
 from solvers.compiled import kernel
 
 _FLOAT_MIN = sys.float_info.min  # the rule's floor of the probe step
+_ULP_BOUND = 2.0**-51  # 2*ulp(x) <= 2**-51*|x| for every double x (ulp <= eps*|x|)
 
+GO_ON = -1
 PENDING = -2
 """A row stopping on an exact 0.0 of f, before the exact-zero rule's verdict."""
-GO_ON = -1
+DEAD = -3
+"""A row that stopped earlier (its results written) and rides along in the arrays."""
 
 
 @kernel
@@ -51,11 +55,12 @@ def _write(r, code, root, residual, k, evaluations, converged, out_code, out_roo
 
 
 @kernel
-def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, code):
+def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code):
     """The tests of :func:`solvers.methods.newton` at the rows' iterates ``x[:n]`` (f
     there ``fx``, the step that led there ``dx``, NaN before the first), in its order:
     f not finite; f an exact 0.0 (``PENDING``); ``|f| <= ftol``; ``|dx| <= xtol +
-    rtol*|x|``; ``k >= cap``. Writes each row's ``code`` (GO_ON when no test stops it).
+    rtol*|x|``; ``k >= cap``. Writes each row's ``code`` (GO_ON when no test stops it,
+    DEAD for a row marked ``dead``).
 
     Returns (stops, pending): the rows stopping (pending ones included) and how many of
     them are pending. (No row moves here: most iterations stop no row, and a pass that
@@ -66,7 +71,9 @@ def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, code):
     for i in range(n):
         fi = fx[i]
         c = GO_ON
-        if not np.isfinite(fi):
+        if dead[i]:
+            c = DEAD
+        elif not np.isfinite(fi):
             c = NOT_FIN
         elif fi == 0.0:
             c = PENDING
@@ -77,26 +84,36 @@ def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, code):
         elif k >= cap:
             c = MAX_IT
         code[i] = c
-        stops += c != GO_ON
+        stops += c >= 0
         pending += c == PENDING
-    return stops, pending
+    return stops + pending, pending
 
 
 @kernel
-def settle(n, k, x, fx, dx, rows, hoisted, code, calls, extra, converged, out_code,
-           out_root, out_residual, out_iterations, out_evaluations):
+def settle(n, k, x, fx, dx, rows, hoisted, dead, dead_count, code, calls, extra, converged,
+           out_code, out_root, out_residual, out_iterations, out_evaluations):
     """Write out the rows of ``x[:n]`` whose ``code`` is a stop reason (iterations
     ``k``, evaluations ``calls`` plus the row's own ``extra``; root ``x`` and residual
-    ``fx`` when converged) and move the rest (``code`` GO_ON) to the front of x, fx,
+    ``fx`` when converged) and mark them ``dead``. When the dead rows (``dead_count``
+    before) are a quarter of the rows or more, the others move to the front of x, fx,
     dx, rows and every row of ``hoisted`` (one row per parameter part of f), their order
-    kept. Returns the rows kept."""
-    m = 0
+    kept, and no row is dead any more.
+
+    Returns (rows at work, dead rows among them).
+    """
     for i in range(n):
         c = code[i]
         if c >= 0:
             r = rows[i]
             _write(r, c, x[i], fx[i], k, calls + extra[r], converged, out_code, out_root,
                    out_residual, out_iterations, out_evaluations)
+            dead[i] = 1
+            dead_count += 1
+    if 4 * dead_count < n:
+        return n, dead_count
+    m = 0
+    for i in range(n):
+        if dead[i]:
             continue
         if m != i:
             x[m] = x[i]
@@ -106,17 +123,19 @@ def settle(n, k, x, fx, dx, rows, hoisted, code, calls, extra, converged, out_co
             for j in range(hoisted.shape[0]):
                 hoisted[j, m] = hoisted[j, i]
         m += 1
-    return m
+    dead[:m] = 0
+    return m, 0
 
 
 @kernel
-def newton_step(n, damping, x, fx, dfx, dx, code):
+def newton_step(n, damping, x, fx, dfx, dx, dead, code):
     """Newton's step on the rows ``x[:n]`` (f there ``fx``, f' ``dfx``), as
     :func:`solvers.methods.newton` takes it: f' not finite (not finite) or 0.0 (zero
     derivative) stops the row; ``step = -damping*fx/dfx``, ``x_new = x + step``; a new
     iterate that is not finite stops it (zero derivative when the step itself overflowed,
     else not finite). Every row gets ``x = x_new``, ``dx = x_new - x`` (a stopped row's
-    are never read: it has failed, so its root is NaN) and its ``code``.
+    are never read: it has failed, so its root is NaN; a dead row's neither) and its
+    ``code``.
 
     Returns the rows stopping (then :func:`settle` writes them out).
     """
@@ -127,14 +146,16 @@ def newton_step(n, damping, x, fx, dfx, dx, code):
         step = -damping * fx[i] / d
         x_new = xi + step
         c = GO_ON
-        if not np.isfinite(d):
+        if dead[i]:
+            c = DEAD
+        elif not np.isfinite(d):
             c = NOT_FIN
         elif d == 0.0:
             c = ZERO_D
         elif not np.isfinite(x_new):
             c = ZERO_D if not np.isfinite(step) else NOT_FIN
         code[i] = c
-        stops += c != GO_ON
+        stops += c >= 0
         x[i] = x_new
         dx[i] = x_new - xi
     return stops
@@ -154,9 +175,10 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, ppar
             continue
         xi = x[i]
         s = xtol + rtol * abs(xi)
-        u = 2.0 * np.spacing(abs(xi))
-        if u > s:
-            s = u
+        if s < _ULP_BOUND * abs(xi):  # only then can 2*ulp(x) exceed the tolerance
+            u = 2.0 * np.spacing(abs(xi))
+            if u > s:
+                s = u
         if _FLOAT_MIN > s:
             s = _FLOAT_MIN
         at[p] = i
@@ -200,5 +222,5 @@ def zero_verdict(q, one, two, code, at):
         code[at[t]] = EXACT if root else NOT_FIN
 
 
-__all__ = ["GO_ON", "PENDING", "newton_step", "newton_tests", "settle", "zero_points",
+__all__ = ["DEAD", "GO_ON", "PENDING", "newton_step", "newton_tests", "settle", "zero_points",
            "zero_second", "zero_verdict"]
