@@ -12,14 +12,6 @@ from typing import Any
 
 import numpy as np
 
-from solvers.batch.open_kernels import (
-    newton_step,
-    newton_tests,
-    settle,
-    zero_points,
-    zero_second,
-    zero_verdict,
-)
 from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
@@ -54,6 +46,14 @@ def _test_point(w: Work, code: np.ndarray, x: np.ndarray, fx: np.ndarray,
         verdict = zero_is_root(w, rows, at, s["xtol"] + s["rtol"] * np.abs(at))
         code[zero] = np.where(verdict, EXACT, NOT_FIN)
     mark(code, np.abs(fx) <= s["ftol"], F_TOL)
+
+
+def _kernels() -> Any:
+    """:mod:`solvers.batch.open_kernels`, imported on first use: numba's import (about
+    0.15 s) stays off the start-up of commands that never solve a table."""
+    from solvers.batch import open_kernels
+
+    return open_kernels
 
 
 class _AtWork:
@@ -100,9 +100,9 @@ class _AtWork:
         ``n`` written out; returns the rows left in the arrays (dead ones riding along
         included: 0 only when every row has stopped)."""
         w = self.w
-        m, self.dead_count = settle(n, k, x, fx, dx, self.rows, self.carry, self.dead,
-                                    self.dead_count, self.code, w.calls, w._extra,
-                                    *self.out)
+        m, self.dead_count = _kernels().settle(n, k, x, fx, dx, self.rows, self.carry,
+                                               self.dead, self.dead_count, self.code,
+                                               w.calls, w._extra, *self.out)
         if m != n:
             self.at_work(m)
         return m
@@ -131,13 +131,14 @@ def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) 
         a.probes = (np.empty(size, dtype=np.int64), np.empty(size), np.empty(size),
                     np.empty((carry.shape[0], size)))
     at, step, px, pparts = a.probes
-    p = zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, step, px,
+    ok = _kernels()
+    p = ok.zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, step, px,
                     pparts)
     one = a.call(px, p, pparts)
-    q = zero_second(p, one, x, code, rows, w._extra, at, step, px, pparts)
+    q = ok.zero_second(p, one, x, code, rows, w._extra, at, step, px, pparts)
     if q:
         two = a.call(px, q, pparts)
-        zero_verdict(q, one, two, code, at)
+        ok.zero_verdict(q, one, two, code, at)
 
 
 def newton(w: Work, s: dict[str, Any]) -> None:
@@ -159,13 +160,14 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     extra = () if symbolic else (np.where(x != 0.0, DERIVATIVE_FLOOR * np.abs(x), 1.0),)
     a = _AtWork(w, *extra)
     code, dead = a.code, a.dead
+    ok = _kernels()
     dx = np.full(n, np.nan)  # NaN: no step taken yet
     fx = w.f(x)
     k = 0
     while True:
         w.k = k
         w.tick()
-        stops, pending = newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
+        stops, pending = ok.newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
         if stops:
             if pending:
                 _probe_zeros(w, a, n, x, s)
@@ -175,7 +177,7 @@ def newton(w: Work, s: dict[str, Any]) -> None:
         xs = x[:n]
         dfx = w.fprime(xs) if symbolic else central_difference(w, xs, fx[:n],
                                                                  a.extra(0, n))
-        if newton_step(n, damping, x, fx, dfx, dx, dead, code):
+        if ok.newton_step(n, damping, x, fx, dfx, dx, dead, code):
             n = a.settle(n, k, x, fx, dx)
             if not n:
                 break
