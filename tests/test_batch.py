@@ -293,7 +293,8 @@ def test_newton_exact_zeros_with_no_tolerance_probe_at_two_ulps_or_the_smallest_
             batch.reason[i], batch.iterations[i], batch.evaluations[i], batch.root[i]), i
 
 
-def test_newton_rows_of_f_times_ten_to_the_k_keep_the_scalar_verdicts_down_to_underflow():
+@pytest.mark.parametrize("method", ["newton", "secant"])
+def test_open_rows_of_f_times_ten_to_the_k_keep_the_scalar_verdicts_down_to_underflow(method):
     # s*(x^3 - 2x - 5) for s = 10^k, k = -320..300: the roots of the cubic (numpy.roots),
     # whatever s; where s*f is 0.0 over a stretch around the root wider than the
     # tolerance (k below about -300) no row may be called converged there. Every row
@@ -304,7 +305,7 @@ def test_newton_rows_of_f_times_ten_to_the_k_keep_the_scalar_verdicts_down_to_un
     s = np.array([10.0**j if j > -300 else 10.0 ** (j + 20) * 1e-20 for j in k])
     root = max(r.real for r in np.roots([1.0, 0.0, -2.0, -5.0]) if abs(r.imag) < 1e-12)
     equation = parse_equation("s*(x^3 - 2*x - 5)", unknown="x", parameters={"s": s})
-    batch = solve_batch(equation, method="newton", x0=2.5)
+    batch = solve_batch(equation, method=method, x0=2.5, x1=2.6)
     tol = 1e-12 + 8.9e-16 * root
     assert batch.converged[k >= -290].all()
     assert (np.abs(batch.root[batch.converged] - root) <= 2 * tol).all()

@@ -16,10 +16,7 @@ from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
     F_TOL,
-    MAX_IT,
     NOT_FIN,
-    X_TOL,
-    ZERO_D,
     Work,
     central_difference,
     mark,
@@ -95,14 +92,16 @@ class _AtWork:
             parts[j] = carry[row, :n]
         w._h = tuple(parts)
 
-    def settle(self, n: int, k: int, x: np.ndarray, fx: np.ndarray, dx: np.ndarray) -> int:
+    def settle(self, n: int, k: int, root: np.ndarray, residual: np.ndarray,
+               state: tuple[np.ndarray, ...]) -> int:
         """:func:`solvers.batch.open_kernels.settle`: the stopped rows among the first
-        ``n`` written out; returns the rows left in the arrays (dead ones riding along
-        included: 0 only when every row has stopped)."""
+        ``n`` written out (``root``, ``residual`` when converged), the ``state`` arrays
+        compacted with the rest; returns the rows left in the arrays (dead ones riding
+        along included: 0 only when every row has stopped)."""
         w = self.w
-        m, self.dead_count = _kernels().settle(n, k, x, fx, dx, self.rows, self.carry,
-                                               self.dead, self.dead_count, self.code,
-                                               w.calls, w._extra, *self.out)
+        m, self.dead_count = _kernels().settle(n, k, root, residual, state, self.rows,
+                                               self.carry, self.dead, self.dead_count,
+                                               self.code, w.calls, w._extra, *self.out)
         if m != n:
             self.at_work(m)
         return m
@@ -171,14 +170,14 @@ def newton(w: Work, s: dict[str, Any]) -> None:
         if stops:
             if pending:
                 _probe_zeros(w, a, n, x, s)
-            n = a.settle(n, k, x, fx, dx)
+            n = a.settle(n, k, x, fx, (x, fx, dx))
             if not n:
                 break
         xs = x[:n]
         dfx = w.fprime(xs) if symbolic else central_difference(w, xs, fx[:n],
                                                                  a.extra(0, n))
         if ok.newton_step(n, damping, x, fx, dfx, dx, dead, code):
-            n = a.settle(n, k, x, fx, dx)
+            n = a.settle(n, k, x, fx, (x, fx, dx))
             if not n:
                 break
         fx = w.f(x[:n])
@@ -187,8 +186,14 @@ def newton(w: Work, s: dict[str, Any]) -> None:
 
 
 def secant(w: Work, s: dict[str, Any]) -> None:
-    """The secant method on every row of ``w`` (start arrays ``w.x0``, ``w.x1``)."""
-    xtol, rtol, cap = (s[k] for k in ("xtol", "rtol", "max_iter"))
+    """The secant method on every row of ``w`` (start arrays ``w.x0``, ``w.x1``).
+
+    The two starting points are tested with numpy, once per chunk; the iterations then
+    run as Newton's do: the step and the tests at the new point compiled
+    (:func:`solvers.batch.open_kernels.secant_step`, ``secant_tests``), f on the rows at
+    work only.
+    """
+    xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     nan = np.full(w.size, np.nan)
     w.stop(~(np.isfinite(w.x0) & np.isfinite(w.x1)), NOT_FIN, nan, nan)
     # the starting points: a zero or small residual at either ends the row there
@@ -203,26 +208,31 @@ def secant(w: Work, s: dict[str, Any]) -> None:
     code = w.codes()
     _test_point(w, code, w.xb, w.fb, s)
     w.finish(code, w.xb, w.fb)
-    while w.size:
+    n = w.size
+    if not n:
+        return
+    a = _AtWork(w)
+    code, dead = a.code, a.dead
+    ok = _kernels()
+    xa, fa, xb, fb = (np.array(v, dtype=np.float64) for v in (w.xa, w.fa, w.xb, w.fb))
+    x = np.empty(n)
+    state = (xa, fa, xb, fb, x)
+    k = 0
+    while True:
+        w.k = k
         w.tick()
-        code = np.full(w.size, MAX_IT if w.k >= cap else -1, dtype=np.int8)
-        mark(code, w.fb == w.fa, ZERO_D)
-        difference = w.fb - w.fa
-        # fb/(fb - fa) without overflow when f values of opposite signs are huge
-        fraction = np.where(np.isinf(difference), 1.0 / (1.0 - w.fa / w.fb), w.fb / difference)
-        step = -fraction * (w.xb - w.xa)
-        w.x = w.xb + step
-        bad = ~np.isfinite(w.x)
-        mark(code, bad & ~np.isfinite(step), ZERO_D)
-        mark(code, bad, NOT_FIN)
-        w.finish(code, w.xb, w.fb)
-        if not w.size:
-            break
-        w.fx = w.f(w.x)
-        w.k += 1
-        w.dx = w.x - w.xb
-        code = w.codes()
-        _test_point(w, code, w.x, w.fx, s)
-        mark(code, np.abs(w.dx) <= xtol + rtol * np.abs(w.x), X_TOL)
-        w.finish(code, w.x, w.fx)
-        w.xa, w.fa, w.xb, w.fb = w.xb, w.fb, w.x, w.fx
+        if ok.secant_step(n, k, cap, xa, fa, xb, fb, x, dead, code):
+            n = a.settle(n, k, xb, fb, state)
+            if not n:
+                break
+        fx = w.f(x[:n])
+        k += 1
+        stops, pending = ok.secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead,
+                                         code)
+        if stops:
+            if pending:
+                _probe_zeros(w, a, n, xb, s)
+            n = a.settle(n, k, xb, fb, state)
+            if not n:
+                break
+    a.at_work(0)

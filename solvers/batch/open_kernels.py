@@ -1,14 +1,15 @@
-"""Compiled loops of the open methods over arrays: Newton's bookkeeping.
+"""Compiled loops of the open methods over arrays: Newton's and the secant's bookkeeping.
 
 Each kernel is one pass over the rows at work that does what numpy did in a dozen or
 more whole-array operations per iteration: the scalar method's tests at a new point, in
-its order (:func:`solvers.methods.newton`), the step and the new iterate, and for every
-row that stops its results written to the chunk's :class:`solvers.batch.rows.Outcome`
-arrays at once (:func:`settle`). The rows that stop leave the arrays as soon as they
-are a quarter of them: the rows that go on are moved to the front of every array, their
-order kept, parameter parts of f included, so f and f' are evaluated on the rows at
-work. Until then (one row in a hundred stopping, say) the stopped rows ride along,
-marked ``dead``: moving every row costs more than f on the few stopped ones.
+its order (:func:`solvers.methods.newton`, :func:`solvers.methods.secant`), the step and
+the new iterate, and for every row that stops its results written to the chunk's
+:class:`solvers.batch.rows.Outcome` arrays at once (:func:`settle`). The rows that stop
+leave the arrays as soon as they are a quarter of them: the rows that go on are moved to
+the front of every array, their order kept, parameter parts of f included, so f and f'
+are evaluated on the rows at work. Until then (one row in a hundred stopping, say) the
+stopped rows ride along, marked ``dead``: moving every row costs more than f on the few
+stopped ones.
 
 f is never called here: it is evaluated outside, vectorised, on the first ``n`` entries
 of the arrays. The arithmetic is the scalar method's, in its order (no fast-math: see
@@ -90,14 +91,15 @@ def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code):
 
 
 @kernel
-def settle(n, k, x, fx, dx, rows, hoisted, dead, dead_count, code, calls, extra, converged,
-           out_code, out_root, out_residual, out_iterations, out_evaluations):
-    """Write out the rows of ``x[:n]`` whose ``code`` is a stop reason (iterations
-    ``k``, evaluations ``calls`` plus the row's own ``extra``; root ``x`` and residual
-    ``fx`` when converged) and mark them ``dead``. When the dead rows (``dead_count``
-    before) are a quarter of the rows or more, the others move to the front of x, fx,
-    dx, rows and every row of ``hoisted`` (one row per parameter part of f), their order
-    kept, and no row is dead any more.
+def settle(n, k, root, residual, state, rows, hoisted, dead, dead_count, code, calls, extra,
+           converged, out_code, out_root, out_residual, out_iterations, out_evaluations):
+    """Write out the rows among the first ``n`` whose ``code`` is a stop reason
+    (iterations ``k``, evaluations ``calls`` plus the row's own ``extra``; ``root`` and
+    ``residual`` when converged) and mark them ``dead``. When the dead rows
+    (``dead_count`` before) are a quarter of the rows or more, the others move to the
+    front of every array of ``state`` (a tuple: the method's iterates), of rows and of
+    every row of ``hoisted`` (one row per parameter part of f), their order kept, and no
+    row is dead any more.
 
     Returns (rows at work, dead rows among them).
     """
@@ -105,8 +107,8 @@ def settle(n, k, x, fx, dx, rows, hoisted, dead, dead_count, code, calls, extra,
         c = code[i]
         if c >= 0:
             r = rows[i]
-            _write(r, c, x[i], fx[i], k, calls + extra[r], converged, out_code, out_root,
-                   out_residual, out_iterations, out_evaluations)
+            _write(r, c, root[i], residual[i], k, calls + extra[r], converged, out_code,
+                   out_root, out_residual, out_iterations, out_evaluations)
             dead[i] = 1
             dead_count += 1
     if 4 * dead_count < n:
@@ -116,9 +118,8 @@ def settle(n, k, x, fx, dx, rows, hoisted, dead, dead_count, code, calls, extra,
         if dead[i]:
             continue
         if m != i:
-            x[m] = x[i]
-            fx[m] = fx[i]
-            dx[m] = dx[i]
+            for a in state:
+                a[m] = a[i]
             rows[m] = rows[i]
             for j in range(hoisted.shape[0]):
                 hoisted[j, m] = hoisted[j, i]
@@ -159,6 +160,75 @@ def newton_step(n, damping, x, fx, dfx, dx, dead, code):
         x[i] = x_new
         dx[i] = x_new - xi
     return stops
+
+
+@kernel
+def secant_step(n, k, cap, xa, fa, xb, fb, x, dead, code):
+    """The secant's step on the rows ``[:n]`` (last two points ``(xa, fa)``,
+    ``(xb, fb)``), as :func:`solvers.methods.secant` takes it: the cap (max iterations,
+    ``k >= cap``), equal f at the two points (zero derivative), then ``x = xb + step``
+    with ``step = -fb/(fb - fa)*(xb - xa)`` (``1/(1 - fa/fb)`` for the fraction when the
+    difference overflows); a new point that is not finite stops the row (zero derivative
+    when the step itself overflowed, else not finite). Writes ``x`` and each row's
+    ``code``; returns the rows stopping (all failures: their root is NaN)."""
+    stops = 0
+    for i in range(n):
+        a = fa[i]
+        b = fb[i]
+        c = GO_ON
+        if dead[i]:
+            c = DEAD
+        elif k >= cap:
+            c = MAX_IT
+        elif b == a:
+            c = ZERO_D
+        else:
+            difference = b - a
+            if np.isinf(difference):
+                fraction = 1.0 / (1.0 - a / b)
+            else:
+                fraction = b / difference
+            step = -fraction * (xb[i] - xa[i])
+            xi = xb[i] + step
+            x[i] = xi
+            if not np.isfinite(xi):
+                c = ZERO_D if not np.isfinite(step) else NOT_FIN
+        code[i] = c
+        stops += c >= 0
+    return stops
+
+
+@kernel
+def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
+    """The secant's tests at its new points ``x[:n]`` (f there ``fx``, the step
+    ``dx = x - xb``), in :func:`solvers.methods.secant`'s order: f not finite; f an
+    exact 0.0 (``PENDING``); ``|f| <= ftol``; ``|dx| <= xtol + rtol*|x|``. Then every row
+    moves on: ``(xa, fa) = (xb, fb)``, ``(xb, fb) = (x, fx)`` (a row that stops has its
+    point in ``xb``, ``fb``). Returns (stops, pending) as :func:`newton_tests`."""
+    stops = 0
+    pending = 0
+    for i in range(n):
+        xi = x[i]
+        fi = fx[i]
+        c = GO_ON
+        if dead[i]:
+            c = DEAD
+        elif not np.isfinite(fi):
+            c = NOT_FIN
+        elif fi == 0.0:
+            c = PENDING
+        elif abs(fi) <= ftol:
+            c = F_TOL
+        elif abs(xi - xb[i]) <= xtol + rtol * abs(xi):
+            c = X_TOL
+        code[i] = c
+        stops += c >= 0
+        pending += c == PENDING
+        xa[i] = xb[i]
+        fa[i] = fb[i]
+        xb[i] = xi
+        fb[i] = fi
+    return stops + pending, pending
 
 
 @kernel
@@ -222,5 +292,6 @@ def zero_verdict(q, one, two, code, at):
         code[at[t]] = EXACT if root else NOT_FIN
 
 
-__all__ = ["DEAD", "GO_ON", "PENDING", "newton_step", "newton_tests", "settle", "zero_points",
+__all__ = ["DEAD", "GO_ON", "PENDING", "newton_step", "newton_tests", "secant_step",
+           "secant_tests", "settle", "zero_points",
            "zero_second", "zero_verdict"]
