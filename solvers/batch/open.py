@@ -3,7 +3,10 @@
 The element-wise form of :func:`solvers.methods.newton` and :func:`solvers.methods.secant`:
 the same tests in the same order on each row (not finite, exact zero checked for
 underflow, ``|f| <= ftol``, ``|dx| <= xtol + rtol*|x|``, the iteration cap, a zero or
-non-finite derivative, a step that overflows). Rows that stop leave the work at once.
+non-finite derivative, a step that overflows), so each row takes the scalar method's
+steps to the bit. Between the calls of f (and f'), vectorised over the rows at work, an
+iteration is a few compiled passes over those rows (:mod:`solvers.batch.open_kernels`);
+the rows that stop are written out there and leave the arrays.
 """
 
 from __future__ import annotations
@@ -26,21 +29,15 @@ from solvers.methods.common import DERIVATIVE_FLOOR
 
 
 def _test_point(w: Work, code: np.ndarray, x: np.ndarray, fx: np.ndarray,
-                s: dict[str, Any], idx: np.ndarray | None = None) -> None:
-    """The scalar methods' tests at a new point, in their order: not finite; an exact
-    zero (a root, or underflow: not finite); ``|f| <= ftol``. ``code``, ``x``, ``fx``
-    are of the rows ``idx`` (live rows; None: every row of the arrays, dead ones not
-    probed)."""
+                s: dict[str, Any]) -> None:
+    """The scalar methods' tests at a starting point, in their order: not finite; an
+    exact zero (a root, or underflow: not finite); ``|f| <= ftol`` (every row of the
+    arrays)."""
     mark(code, ~np.isfinite(fx), NOT_FIN)
-    if idx is None:
-        zero = np.flatnonzero(w.live(fx == 0.0))  # (not finite is never 0.0)
-        rows = zero
-    else:
-        zero = np.flatnonzero(fx == 0.0)
-        rows = idx.take(zero)
+    zero = np.flatnonzero(fx == 0.0)  # (not finite is never 0.0)
     if zero.size:
         at = x[zero]
-        verdict = zero_is_root(w, rows, at, s["xtol"] + s["rtol"] * np.abs(at))
+        verdict = zero_is_root(w, zero, at, s["xtol"] + s["rtol"] * np.abs(at))
         code[zero] = np.where(verdict, EXACT, NOT_FIN)
     mark(code, np.abs(fx) <= s["ftol"], F_TOL)
 
