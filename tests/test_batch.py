@@ -472,6 +472,30 @@ def test_progress_rises_to_one_and_cancel_stops_the_batch():
     assert len(polls) == 4
 
 
+@pytest.mark.parametrize("method", ["newton", "secant"])
+def test_open_methods_report_progress_every_iteration_and_stop_on_cancel(method):
+    # The open methods' compiled iterations still poll between the calls of f: progress
+    # rises to 1 through every chunk and iteration, and cancel stops the batch at once.
+    p = np.linspace(1.0, 100.0, 5000)
+    equation = parse_equation("x^2 = p", unknown="x", parameters={"p": p})
+    seen: list[float] = []
+    batch = solve_batch(equation, method=method, x0=30.0, x1=31.0, chunk_rows=1000,
+                        progress=seen.append)
+    assert batch.converged.all()
+    np.testing.assert_allclose(batch.root, np.sqrt(p), rtol=1e-14)  # reference: numpy.sqrt
+    assert seen[-1] == 1.0 and seen == sorted(seen) and len(seen) > 5 * 8
+    polls = []
+
+    def cancel() -> bool:
+        polls.append(1)
+        return len(polls) > 6
+
+    with pytest.raises(BatchCancelled):
+        solve_batch(equation, method=method, x0=30.0, x1=31.0, chunk_rows=1000,
+                    cancel=cancel)
+    assert len(polls) == 7
+
+
 def test_settings_are_checked_as_for_one_solve():
     equation = parse_equation("x - p", unknown="x", parameters={"p": np.arange(3.0)})
     with pytest.raises(ValueError, match="xtol"):
