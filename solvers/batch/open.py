@@ -75,6 +75,7 @@ class _AtWork:
             self.carry[row] = values
         self.code = np.empty(n, dtype=np.int8)
         self.dead = np.zeros(n, dtype=np.int8)
+        self.place = np.empty(n, dtype=np.int64)  # positions the kernels list rows in
         self.dead_count = 0
         self.probes: tuple[np.ndarray, ...] | None = None  # the probes' arrays, made once
         out = w.out
@@ -98,7 +99,8 @@ class _AtWork:
         w = self.w
         m, self.dead_count = _kernels().settle(n, k, root, residual, state, self.rows,
                                                self.carry, self.dead, self.dead_count,
-                                               self.code, w.calls, w._extra, *self.out)
+                                               self.code, self.place, w.calls, w._extra,
+                                               *self.out)
         if m != n:
             self.at_work(m)
         return m

@@ -91,8 +91,9 @@ def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code):
 
 
 @kernel
-def settle(n, k, root, residual, state, rows, hoisted, dead, dead_count, code, calls, extra,
-           converged, out_code, out_root, out_residual, out_iterations, out_evaluations):
+def settle(n, k, root, residual, state, rows, hoisted, dead, dead_count, code, place, calls,
+           extra, converged, out_code, out_root, out_residual, out_iterations,
+           out_evaluations):
     """Write out the rows among the first ``n`` whose ``code`` is a stop reason
     (iterations ``k``, evaluations ``calls`` plus the row's own ``extra``; ``root`` and
     ``residual`` when converged) and mark them ``dead``. When the dead rows
@@ -103,27 +104,32 @@ def settle(n, k, root, residual, state, rows, hoisted, dead, dead_count, code, c
 
     Returns (rows at work, dead rows among them).
     """
+    # the stopping rows' positions first (``place``), with no branch on the code
+    s = 0
     for i in range(n):
-        c = code[i]
-        if c >= 0:
-            r = rows[i]
-            _write(r, c, root[i], residual[i], k, calls + extra[r], converged, out_code,
-                   out_root, out_residual, out_iterations, out_evaluations)
-            dead[i] = 1
-            dead_count += 1
+        place[s] = i
+        s += code[i] >= 0
+    for t in range(s):
+        i = place[t]
+        r = rows[i]
+        _write(r, code[i], root[i], residual[i], k, calls + extra[r], converged, out_code,
+               out_root, out_residual, out_iterations, out_evaluations)
+        dead[i] = 1
+    dead_count += s
     if 4 * dead_count < n:
         return n, dead_count
     m = 0
     for i in range(n):
-        if dead[i]:
-            continue
-        if m != i:
-            for a in state:
-                a[m] = a[i]
-            rows[m] = rows[i]
-            for j in range(hoisted.shape[0]):
-                hoisted[j, m] = hoisted[j, i]
-        m += 1
+        place[m] = i
+        m += dead[i] == 0
+    for a in state:
+        for t in range(m):
+            a[t] = a[place[t]]
+    for t in range(m):
+        rows[t] = rows[place[t]]
+    for j in range(hoisted.shape[0]):
+        for t in range(m):
+            hoisted[j, t] = hoisted[j, place[t]]
     dead[:m] = 0
     return m, 0
 
@@ -239,10 +245,13 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, ppar
     ``tol = xtol + rtol*|x|``, the probe ``px = x + step``; ``at`` their positions,
     ``pparts`` their parameter parts of f; each probe counted in the row's ``extra``.
     Returns how many."""
+    # the pending rows' positions first, with no branch on the (unpredictable) code
     p = 0
     for i in range(n):
-        if code[i] != PENDING:
-            continue
+        at[p] = i
+        p += code[i] == PENDING
+    for t in range(p):
+        i = at[t]
         xi = x[i]
         s = xtol + rtol * abs(xi)
         if s < _ULP_BOUND * abs(xi):  # only then can 2*ulp(x) exceed the tolerance
@@ -251,13 +260,12 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, ppar
                 s = u
         if _FLOAT_MIN > s:
             s = _FLOAT_MIN
-        at[p] = i
-        step[p] = s
-        px[p] = xi + s
-        for j in range(hoisted.shape[0]):
-            pparts[j, p] = hoisted[j, i]
+        step[t] = s
+        px[t] = xi + s
         extra[rows[i]] += 1
-        p += 1
+    for j in range(hoisted.shape[0]):
+        for t in range(p):
+            pparts[j, t] = hoisted[j, at[t]]
     return p
 
 
