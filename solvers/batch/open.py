@@ -128,14 +128,14 @@ def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) 
         size = a.code.size
         a.probes = (np.empty(size, dtype=np.int64), np.empty(size), np.empty(size),
                     np.empty((carry.shape[0], size)))
-    at, step, px, pparts = a.probes
+    at, px, px2, pparts = a.probes
     ok = _kernels()
-    p = ok.zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, step, px,
-                    pparts)
+    p = ok.zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, px, px2,
+                       pparts)
     one = a.call(px, p, pparts)
-    q = ok.zero_second(p, one, x, code, rows, w._extra, at, step, px, pparts)
+    q = ok.zero_second(p, one, code, rows, w._extra, at, px2, pparts)
     if q:
-        two = a.call(px, q, pparts)
+        two = a.call(px2, q, pparts)
         ok.zero_verdict(q, one, two, code, at)
 
 

@@ -238,13 +238,13 @@ def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
 
 
 @kernel
-def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, pparts):
-    """The first probes of the exact-zero rule (:func:`solvers.methods.common._zero_is_root`,
+def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, px, px2, pparts):
+    """The probes of the exact-zero rule (:func:`solvers.methods.common._zero_is_root`,
     element-wise :func:`solvers.batch.rows.zero_is_root`) for the rows of ``x[:n]`` whose
     ``code`` is PENDING: ``step = max(tol, 2*ulp(x), smallest normal)`` with
-    ``tol = xtol + rtol*|x|``, the probe ``px = x + step``; ``at`` their positions,
-    ``pparts`` their parameter parts of f; each probe counted in the row's ``extra``.
-    Returns how many."""
+    ``tol = xtol + rtol*|x|``, the probes ``px = x + step`` (first) and ``px2 = x - step``;
+    ``at`` their positions, ``pparts`` their parameter parts of f; the first probe
+    counted in the row's ``extra``. Returns how many."""
     # the pending rows' positions first, with no branch on the (unpredictable) code
     p = 0
     for i in range(n):
@@ -260,8 +260,8 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, ppar
                 s = u
         if _FLOAT_MIN > s:
             s = _FLOAT_MIN
-        step[t] = s
         px[t] = xi + s
+        px2[t] = xi - s
         extra[rows[i]] += 1
     for j in range(hoisted.shape[0]):
         for t in range(p):
@@ -270,11 +270,18 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, step, px, ppar
 
 
 @kernel
-def zero_second(p, one, x, code, rows, extra, at, step, px, pparts):
+def zero_second(p, one, code, rows, extra, at, px2, pparts):
     """After f at the first probes (``one``): a probe that is 0.0 too makes the zero
-    underflow (NOT_FIN, no more calls, as the scalar rule stops there); the other rows
-    move to the front with their second probe ``px = x - step`` (counted). Returns how
-    many second probes."""
+    underflow (NOT_FIN, no more calls, as the scalar rule stops there); the other rows,
+    moved to the front of at, one, px2 and pparts when some row left, take their second
+    probe (counted). Returns how many second probes."""
+    zeros = 0
+    for t in range(p):
+        zeros += one[t] == 0.0
+    if not zeros:  # the usual case: every row takes its second probe, nothing moves
+        for t in range(p):
+            extra[rows[at[t]]] += 1
+        return p
     q = 0
     for t in range(p):
         i = at[t]
@@ -283,7 +290,7 @@ def zero_second(p, one, x, code, rows, extra, at, step, px, pparts):
             continue
         at[q] = i
         one[q] = one[t]
-        px[q] = x[i] - step[t]
+        px2[q] = px2[t]
         for j in range(pparts.shape[0]):
             pparts[j, q] = pparts[j, t]
         extra[rows[i]] += 1
