@@ -428,6 +428,10 @@ def test_non_finite_start_values_and_values_fail_only_their_rows():
     batch = solve_batch(equation, method="newton", x0=np.array([1.0, np.nan, np.inf, 2.0]))
     assert batch.converged.tolist() == [True, False, False, True]
     assert (batch.reason[[1, 2]] == "not_finite").all()
+    for i in range(4):  # the scalar method: a start that is not finite costs no call of f
+        run = batch.run(i)
+        assert (run.reason, run.evaluations) == (batch.reason[i], batch.evaluations[i])
+    assert batch.evaluations[[1, 2]].tolist() == [0, 0]
     bracket = solve_batch(equation, method="brent",
                           bracket=(np.array([0.0, -np.inf]), np.array([2.0, 2.0])))
     assert bracket.converged.tolist() == [True, False]

@@ -149,18 +149,18 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     xtol, rtol, ftol, cap, damping = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter",
                                                      "damping"))
     symbolic = s["derivative"] == "symbolic"
-    nan = np.full(w.size, np.nan)
-    w.stop(~np.isfinite(w.x0), NOT_FIN, nan, nan)
     n = w.size
-    if not n:
-        return
-    x = np.array(w.x0, dtype=np.float64)
-    extra = () if symbolic else (np.where(x != 0.0, DERIVATIVE_FLOOR * np.abs(x), 1.0),)
+    x0 = w.x0
+    extra = () if symbolic else (np.where(x0 != 0.0, DERIVATIVE_FLOOR * np.abs(x0), 1.0),)
     a = _AtWork(w, *extra)
     code, dead = a.code, a.dead
     ok = _kernels()
-    dx = np.full(n, np.nan)  # NaN: no step taken yet
-    fx = w.f(x)
+    x, dx = np.empty(n), np.empty(n)
+    if ok.start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
+        n = a.settle(n, 0, x, x, (x, dx))
+        if not n:
+            return
+    fx = w.f(x[:n])
     k = 0
     while True:
         w.k = k

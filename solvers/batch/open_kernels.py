@@ -56,6 +56,22 @@ def _write(r, code, root, residual, k, evaluations, converged, out_code, out_roo
 
 
 @kernel
+def start(n, x0, x, dx, code):
+    """The start values ``x0`` copied into ``x`` (``dx`` NaN: no step taken yet); a row
+    whose start is not finite stops there, not finite, before f is called (its ``code``).
+    Returns the rows stopping."""
+    stops = 0
+    for i in range(n):
+        xi = x0[i]
+        x[i] = xi
+        dx[i] = np.nan
+        bad = not np.isfinite(xi)
+        code[i] = NOT_FIN if bad else GO_ON
+        stops += bad
+    return stops
+
+
+@kernel
 def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code):
     """The tests of :func:`solvers.methods.newton` at the rows' iterates ``x[:n]`` (f
     there ``fx``, the step that led there ``dx``, NaN before the first), in its order:
@@ -308,5 +324,5 @@ def zero_verdict(q, one, two, code, at):
 
 
 __all__ = ["DEAD", "GO_ON", "PENDING", "newton_step", "newton_tests", "secant_step",
-           "secant_tests", "settle", "zero_points",
+           "secant_tests", "settle", "start", "zero_points",
            "zero_second", "zero_verdict"]
