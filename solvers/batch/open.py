@@ -83,6 +83,7 @@ class _AtWork:
                     out.evaluations)
 
     def at_work(self, n: int) -> None:
+        """Point the work's f (and its count of calls per row) at the first ``n`` rows."""
         w, carry = self.w, self.carry
         w.rows = self.rows[:n]
         parts = list(self.parts)
@@ -156,7 +157,7 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     code, dead = a.code, a.dead
     ok = _kernels()
     x, dx = np.empty(n), np.empty(n)
-    if ok.start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
+    if ok.newton_start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
         n = a.settle(n, 0, x, x, (x, dx))
         if not n:
             return

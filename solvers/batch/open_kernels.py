@@ -31,7 +31,10 @@ from solvers.batch.rows import EXACT, F_TOL, MAX_IT, NOT_FIN, X_TOL, ZERO_D
 from solvers.compiled import kernel
 
 _FLOAT_MIN = sys.float_info.min  # the rule's floor of the probe step
-_ULP_BOUND = 2.0**-51  # 2*ulp(x) <= 2**-51*|x| for every double x (ulp <= eps*|x|)
+# 2*ulp(x) <= 2**-51*|x| for every normal double x (ulp <= eps*|x|); below the smallest
+# normal, 2*ulp(x) = 2**-1073 is under the rule's floor anyway. So where the tolerance is
+# at least 2**-51*|x| (the default rtol, 4 eps, always), 2*ulp(x) need not be computed.
+_ULP_BOUND = 2.0**-51
 
 GO_ON = -1
 PENDING = -2
@@ -56,7 +59,7 @@ def _write(r, code, root, residual, k, evaluations, converged, out_code, out_roo
 
 
 @kernel
-def start(n, x0, x, dx, code):
+def newton_start(n, x0, x, dx, code):
     """The start values ``x0`` copied into ``x`` (``dx`` NaN: no step taken yet); a row
     whose start is not finite stops there, not finite, before f is called (its ``code``).
     Returns the rows stopping."""
@@ -323,6 +326,6 @@ def zero_verdict(q, one, two, code, at):
         code[at[t]] = EXACT if root else NOT_FIN
 
 
-__all__ = ["DEAD", "GO_ON", "PENDING", "newton_step", "newton_tests", "secant_step",
-           "secant_tests", "settle", "start", "zero_points",
-           "zero_second", "zero_verdict"]
+__all__ = ["DEAD", "GO_ON", "PENDING", "newton_start", "newton_step", "newton_tests",
+           "secant_step", "secant_tests", "settle", "zero_points", "zero_second",
+           "zero_verdict"]
