@@ -42,12 +42,18 @@ def _test_point(w: Work, code: np.ndarray, x: np.ndarray, fx: np.ndarray,
     mark(code, np.abs(fx) <= s["ftol"], F_TOL)
 
 
+_KERNELS: Any = None
+
+
 def _kernels() -> Any:
     """:mod:`solvers.batch.open_kernels`, imported on first use: numba's import (about
     0.15 s) stays off the start-up of commands that never solve a table."""
-    from solvers.batch import open_kernels
+    global _KERNELS
+    if _KERNELS is None:
+        from solvers.batch import open_kernels
 
-    return open_kernels
+        _KERNELS = open_kernels
+    return _KERNELS
 
 
 class _AtWork:
