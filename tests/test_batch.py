@@ -252,6 +252,71 @@ def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     assert batch.evaluations[1] == 2
 
 
+def test_newton_landing_in_underflow_after_a_large_residual_is_not_a_root():
+    # exp(-x^2) has no real root (exp > 0: closed form). From x0 Newton's first iterate
+    # is x1 = x0 + 1/(2*x0) (the step -f/f' in closed form), where exp(-x1^2) is below
+    # the smallest subnormal double 2**-1074 (IEEE 754 binary64) and f is an exact 0.0,
+    # although f at x0 was ~1 and |f'*dx| ~1: the size of the last residual is no proof
+    # that a 0.0 is a root. Only f beside x1 (0.0 there too: underflow) tells; batch
+    # and scalar method stop not finite, after f(x0), f'(x0), f(x1) and one probe.
+    x0 = np.array([0.01, 0.015, 0.005, 0.5])
+    equation = parse_equation("exp(-x^2)", unknown="x")
+    batch = solve_batch(equation, method="newton", x0=x0)
+    x1 = x0 + 1.0 / (2.0 * x0)
+    assert (x1[:3] > 28.0).all() and math.exp(-(28.0**2)) == 0.0  # underflows (IEEE 754)
+    assert not batch.converged[:3].any() and set(batch.reason[:3]) == {"not_finite"}
+    assert np.isnan(batch.root[:3]).all() and batch.evaluations[:3].tolist() == [4, 4, 4]
+    # from 0.5 it creeps outward (x + 1/(2x) each step) and reaches the cap, beside them
+    assert batch.reason[3] == "max_iterations" and math.isnan(batch.root[3])
+    for i in range(4):
+        run = batch.run(i)  # the scalar method: the same verdict and counts
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        if i < 3:
+            assert run.detail is not None and run.detail.code == "underflow"
+
+
+def test_newton_exact_zeros_with_no_tolerance_probe_at_two_ulps_or_the_smallest_normal():
+    # x - c: Newton's first step from 1 lands on c exactly (f linear; c - 1 + 1 rounds
+    # back to c for these c), or, for a subnormal c, one step later. With xtol = rtol = 0
+    # the exact-zero rule probes f at x +- max(2 ulp(x), smallest normal double) (the
+    # rule's floor); f there is +-that step, not 0.0, so each is an exact zero at c
+    # (closed form), with the scalar method's counts.
+    c = np.array([1e20, 3.0, 0.0, -7e-310, -2.5e15])
+    equation = parse_equation("x - c", unknown="x", parameters={"c": c})
+    batch = solve_batch(equation, method="newton", x0=1.0, xtol=0.0, rtol=0.0)
+    assert batch.converged.all() and set(batch.reason) == {"exact_zero"}
+    assert batch.root.tolist() == c.tolist()
+    for i in range(c.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations, run.root) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i], batch.root[i]), i
+
+
+@pytest.mark.parametrize("method", ["newton", "secant"])
+def test_open_rows_of_f_times_ten_to_the_k_keep_the_scalar_verdicts_down_to_underflow(method):
+    # s*(x^3 - 2x - 5) for s = 10^k, k = -320..300: the roots of the cubic (numpy.roots),
+    # whatever s; where s*f is 0.0 over a stretch around the root wider than the
+    # tolerance (k below about -300) no row may be called converged there. Every row
+    # must end as the scalar method ends (probes on one side or both, counts, root).
+    # Between 1e-314 and 1e-310 the stretch is about as wide as the tolerance: there
+    # an iterate near its edge has f 0.0 on one side only (the second probe decides).
+    k = np.concatenate([np.arange(-320, 301), np.linspace(-314.0, -310.0, 401)])
+    s = np.array([10.0**j if j > -300 else 10.0 ** (j + 20) * 1e-20 for j in k])
+    root = max(r.real for r in np.roots([1.0, 0.0, -2.0, -5.0]) if abs(r.imag) < 1e-12)
+    equation = parse_equation("s*(x^3 - 2*x - 5)", unknown="x", parameters={"s": s})
+    batch = solve_batch(equation, method=method, x0=2.5, x1=2.6)
+    tol = 1e-12 + 8.9e-16 * root
+    assert batch.converged[k >= -290].all()
+    assert (np.abs(batch.root[batch.converged] - root) <= 2 * tol).all()
+    assert {"exact_zero", "not_finite"} <= set(batch.reason.tolist())
+    for i in range(k.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), k[i]
+        assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
+
+
 def test_newton_rows_finishing_decades_apart_match_scipy_and_the_scalar_run():
     # Cube roots of c over 24 decades from x0 = 1: from 0 iterations (c = 1: f is 0.0
     # at the start, a probed exact zero) to 49 (c = 1e12 overshoots to 3e11 first), so
@@ -363,6 +428,10 @@ def test_non_finite_start_values_and_values_fail_only_their_rows():
     batch = solve_batch(equation, method="newton", x0=np.array([1.0, np.nan, np.inf, 2.0]))
     assert batch.converged.tolist() == [True, False, False, True]
     assert (batch.reason[[1, 2]] == "not_finite").all()
+    for i in range(4):  # the scalar method: a start that is not finite costs no call of f
+        run = batch.run(i)
+        assert (run.reason, run.evaluations) == (batch.reason[i], batch.evaluations[i])
+    assert batch.evaluations[[1, 2]].tolist() == [0, 0]
     bracket = solve_batch(equation, method="brent",
                           bracket=(np.array([0.0, -np.inf]), np.array([2.0, 2.0])))
     assert bracket.converged.tolist() == [True, False]
@@ -405,6 +474,30 @@ def test_progress_rises_to_one_and_cancel_stops_the_batch():
         solve_batch(equation, method="bisection", bracket=(0.0, 20.0), chunk_rows=1000,
                     cancel=cancel)
     assert len(polls) == 4
+
+
+@pytest.mark.parametrize("method", ["newton", "secant"])
+def test_open_methods_report_progress_every_iteration_and_stop_on_cancel(method):
+    # The open methods' compiled iterations still poll between the calls of f: progress
+    # rises to 1 through every chunk and iteration, and cancel stops the batch at once.
+    p = np.linspace(1.0, 100.0, 5000)
+    equation = parse_equation("x^2 = p", unknown="x", parameters={"p": p})
+    seen: list[float] = []
+    batch = solve_batch(equation, method=method, x0=30.0, x1=31.0, chunk_rows=1000,
+                        progress=seen.append)
+    assert batch.converged.all()
+    np.testing.assert_allclose(batch.root, np.sqrt(p), rtol=1e-14)  # reference: numpy.sqrt
+    assert seen[-1] == 1.0 and seen == sorted(seen) and len(seen) > 5 * 8
+    polls = []
+
+    def cancel() -> bool:
+        polls.append(1)
+        return len(polls) > 6
+
+    with pytest.raises(BatchCancelled):
+        solve_batch(equation, method=method, x0=30.0, x1=31.0, chunk_rows=1000,
+                    cancel=cancel)
+    assert len(polls) == 7
 
 
 def test_settings_are_checked_as_for_one_solve():

@@ -3,7 +3,10 @@
 The element-wise form of :func:`solvers.methods.newton` and :func:`solvers.methods.secant`:
 the same tests in the same order on each row (not finite, exact zero checked for
 underflow, ``|f| <= ftol``, ``|dx| <= xtol + rtol*|x|``, the iteration cap, a zero or
-non-finite derivative, a step that overflows). Rows that stop leave the work at once.
+non-finite derivative, a step that overflows), so each row takes the scalar method's
+steps to the bit. Between the calls of f (and f'), vectorised over the rows at work, an
+iteration is a few compiled passes over those rows (:mod:`solvers.batch.open_kernels`);
+the rows that stop are written out there and leave the arrays.
 """
 
 from __future__ import annotations
@@ -12,13 +15,11 @@ from typing import Any
 
 import numpy as np
 
+from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
     F_TOL,
-    MAX_IT,
     NOT_FIN,
-    X_TOL,
-    ZERO_D,
     Work,
     central_difference,
     mark,
@@ -28,108 +29,177 @@ from solvers.methods.common import DERIVATIVE_FLOOR
 
 
 def _test_point(w: Work, code: np.ndarray, x: np.ndarray, fx: np.ndarray,
-                s: dict[str, Any], idx: np.ndarray | None = None) -> None:
-    """The scalar methods' tests at a new point, in their order: not finite; an exact
-    zero (a root, or underflow: not finite); ``|f| <= ftol``. ``code``, ``x``, ``fx``
-    are of the rows ``idx`` (live rows; None: every row of the arrays, dead ones not
-    probed)."""
+                s: dict[str, Any]) -> None:
+    """The scalar methods' tests at a starting point, in their order: not finite; an
+    exact zero (a root, or underflow: not finite); ``|f| <= ftol`` (every row of the
+    arrays)."""
     mark(code, ~np.isfinite(fx), NOT_FIN)
-    if idx is None:
-        zero = np.flatnonzero(w.live(fx == 0.0))  # (not finite is never 0.0)
-        rows = zero
-    else:
-        zero = np.flatnonzero(fx == 0.0)
-        rows = idx.take(zero)
+    zero = np.flatnonzero(fx == 0.0)  # (not finite is never 0.0)
     if zero.size:
         at = x[zero]
-        verdict = zero_is_root(w, rows, at, s["xtol"] + s["rtol"] * np.abs(at))
+        verdict = zero_is_root(w, zero, at, s["xtol"] + s["rtol"] * np.abs(at))
         code[zero] = np.where(verdict, EXACT, NOT_FIN)
     mark(code, np.abs(fx) <= s["ftol"], F_TOL)
+
+
+_KERNELS: Any = None
+
+
+def _kernels() -> Any:
+    """:mod:`solvers.batch.open_kernels`, imported on first use: numba's import (about
+    0.15 s) stays off the start-up of commands that never solve a table."""
+    global _KERNELS
+    if _KERNELS is None:
+        from solvers.batch import open_kernels
+
+        _KERNELS = open_kernels
+    return _KERNELS
+
+
+class _AtWork:
+    """The arrays of the rows at work, kept compact by the compiled kernels
+    (:mod:`solvers.batch.open_kernels`): the kernels move the rows that go on to the
+    front of every array in place, so the rows at work are always the first ``n``.
+
+    ``carry`` holds, one row each, what must move with the rows besides the iterates:
+    the rows' parameter parts of f that are arrays (:attr:`Rows.hoisted`), and any
+    ``extra`` per-row values (Newton's difference-step floor). :meth:`at_work` points the
+    work's f at the first ``n`` rows (chunk positions and parameter parts) and its
+    progress at their number.
+    """
+
+    def __init__(self, w: Work, *extra: np.ndarray) -> None:
+        self.w = w
+        n = w.size
+        self.rows = np.array(w.rows, dtype=np.int64)
+        self.parts = w._h
+        self.arrays = [j for j, h in enumerate(self.parts) if h.__class__ is np.ndarray]
+        self.carry = np.empty((len(self.arrays) + len(extra), n))
+        for row, j in enumerate(self.arrays):
+            self.carry[row] = self.parts[j]
+        for row, values in enumerate(extra, start=len(self.arrays)):
+            self.carry[row] = values
+        self.code = np.empty(n, dtype=np.int8)
+        self.dead = np.zeros(n, dtype=np.int8)
+        self.place = np.empty(n, dtype=np.int64)  # positions the kernels list rows in
+        self.dead_count = 0
+        self.probes: tuple[np.ndarray, ...] | None = None  # the probes' arrays, made once
+        out = w.out
+        self.out = (CONVERGED_INDEX, out.code, out.root, out.residual, out.iterations,
+                    out.evaluations)
+
+    def at_work(self, n: int) -> None:
+        """Point the work's f (and its count of calls per row) at the first ``n`` rows."""
+        w, carry = self.w, self.carry
+        w.rows = self.rows[:n]
+        parts = list(self.parts)
+        for row, j in enumerate(self.arrays):
+            parts[j] = carry[row, :n]
+        w._h = tuple(parts)
+
+    def settle(self, n: int, k: int, root: np.ndarray, residual: np.ndarray,
+               state: tuple[np.ndarray, ...]) -> int:
+        """:func:`solvers.batch.open_kernels.settle`: the stopped rows among the first
+        ``n`` written out (``root``, ``residual`` when converged), the ``state`` arrays
+        compacted with the rest; returns the rows left in the arrays (dead ones riding
+        along included: 0 only when every row has stopped)."""
+        w = self.w
+        m, self.dead_count = _kernels().settle(n, k, root, residual, state, self.rows,
+                                               self.carry, self.dead, self.dead_count,
+                                               self.code, self.place, w.calls, w._extra,
+                                               *self.out)
+        if m != n:
+            self.at_work(m)
+        return m
+
+    def call(self, x: np.ndarray, n: int, parts: np.ndarray) -> np.ndarray:
+        """f at ``x[:n]`` for rows whose parameter parts of f are ``parts[:, :n]`` (rows
+        apart from those at work: probes; the caller counts the calls)."""
+        values = list(self.parts)
+        for row, j in enumerate(self.arrays):
+            values[j] = parts[row, :n]
+        return self.w.fn.call("f", x[:n], tuple(values))
+
+    def extra(self, which: int, n: int) -> np.ndarray:
+        """The ``which``-th extra per-row values of the first ``n`` rows."""
+        return self.carry[len(self.arrays) + which, :n]
+
+
+def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) -> None:
+    """The exact-zero rule (:func:`zero_is_root`: a root, or underflow) for the rows
+    among the first ``n`` whose code is PENDING: their codes become its verdicts. The
+    probes' bookkeeping is compiled (:func:`solvers.batch.open_kernels.zero_points`);
+    f at the probes is one vectorised call per side."""
+    code, rows, carry = a.code, a.rows, a.carry
+    if a.probes is None:
+        size = a.code.size
+        a.probes = (np.empty(size, dtype=np.int64), np.empty(size), np.empty(size),
+                    np.empty((carry.shape[0], size)))
+    at, px, px2, pparts = a.probes
+    ok = _kernels()
+    p = ok.zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, px, px2,
+                       pparts)
+    one = a.call(px, p, pparts)
+    q = ok.zero_second(p, one, code, rows, w._extra, at, px2, pparts)
+    if q:
+        two = a.call(px2, q, pparts)
+        ok.zero_verdict(q, one, two, code, at)
 
 
 def newton(w: Work, s: dict[str, Any]) -> None:
     """Newton–Raphson on every row of ``w`` (start array ``w.x0``); see the module notes.
 
-    Lazy (:meth:`Work.lazy`): a Newton row needs a handful of iterations and most rows
-    finish together, so compressing the arrays at every stop would cost more than f on
-    the few finished rows. Each iteration first asks, with a few operations on every
-    row, which rows may stop or met a bad derivative; the full tests (and their probes)
-    run on those rows only.
+    f and f' are evaluated on the rows at work only; everything between (the tests, the
+    step, the rows that stop and their results) is compiled passes over those rows
+    (:mod:`solvers.batch.open_kernels`), and the rows that stop leave the arrays at once.
     """
     xtol, rtol, ftol, cap, damping = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter",
                                                      "damping"))
     symbolic = s["derivative"] == "symbolic"
-    nan = np.full(w.size, np.nan)
-    w.stop(~np.isfinite(w.x0), NOT_FIN, nan, nan)
-    w.x = w.x0
-    del w.x0  # (one array fewer to compress)
-    if not symbolic:
-        w.scale = np.where(w.x != 0.0, DERIVATIVE_FLOOR * np.abs(w.x), 1.0)
-    w.lazy()
-    w.dx = np.full(w.size, np.nan)  # NaN: no step taken yet
-    w.fx = w.f(w.x)
-    # Work arrays reused from iteration to iteration, written in place (out=): the
-    # arrays of a batch are large, and fresh ones cost page faults on every iteration.
-    w.x_new = np.empty(w.size)
-    w.limit = np.empty(w.size)
-    w.size_ = np.empty(w.size)
-    w.going = np.empty(w.size, dtype=bool)
-    w.other = np.empty(w.size, dtype=bool)
-    while w.size:
+    n = w.size
+    x0 = w.x0
+    extra = () if symbolic else (np.where(x0 != 0.0, DERIVATIVE_FLOOR * np.abs(x0), 1.0),)
+    a = _AtWork(w, *extra)
+    code, dead = a.code, a.dead
+    ok = _kernels()
+    x, dx = np.empty(n), np.empty(n)
+    if ok.newton_start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
+        n = a.settle(n, 0, x, x, (x, dx))
+        if not n:
+            return
+    fx = w.f(x[:n])
+    k = 0
+    while True:
+        w.k = k
         w.tick()
-        # the usual row goes on: finite |f| above ftol (not NaN, not 0.0), step above
-        # tolerance (after the first step dx of a row at work is never NaN: a row whose
-        # step is not finite stops, so > is the scalar test's "not <=")
-        size, going, other, limit = w.size_, w.going, w.other, w.limit
-        np.abs(w.fx, out=size)
-        np.greater(size, ftol, out=going)
-        going &= np.less(size, np.inf, out=other)
-        np.multiply(np.abs(w.x, out=limit), rtol, out=limit)
-        limit += xtol  # (= xtol + rtol*|x|: the same sum)
-        if w.k:
-            going &= np.greater(np.abs(w.dx, out=size), limit, out=other)
-        if w._dead_count:
-            going |= w.dead
-        if w.k >= cap or not going.all():
-            idx = np.flatnonzero(w.live(np.ones(w.size, dtype=bool)) if w.k >= cap
-                                 else ~going)
-            x, fx = w.x.take(idx), w.fx.take(idx)
-            code = np.full(idx.size, -1, dtype=np.int8)
-            _test_point(w, code, x, fx, s, idx)
-            mark(code, np.abs(w.dx.take(idx)) <= limit.take(idx), X_TOL)
-            if w.k >= cap:
-                code[code < 0] = MAX_IT
-            w.finish_at(idx, code, x, fx)
-            if not w.size:
+        stops, pending = ok.newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
+        if stops:
+            if pending:
+                _probe_zeros(w, a, n, x, s)
+            n = a.settle(n, k, x, fx, (x, fx, dx))
+            if not n:
                 break
-        dfx = w.fprime(w.x) if symbolic else central_difference(w, w.x, w.fx, w.scale)
-        step = np.multiply(w.fx, -damping, out=w.size_)  # (= -damping*fx: one product)
-        step /= dfx
-        x_new = np.add(w.x, step, out=w.x_new)
-        usable = np.isfinite(x_new, out=w.going)
-        usable &= np.isfinite(dfx, out=w.other)
-        if w._dead_count:
-            usable |= w.dead
-        if not usable.all():
-            idx = np.flatnonzero(~usable)
-            d, st = dfx.take(idx), step.take(idx)
-            code = np.full(idx.size, -1, dtype=np.int8)
-            mark(code, ~np.isfinite(d), NOT_FIN)
-            mark(code, d == 0.0, ZERO_D)
-            bad = ~np.isfinite(x_new.take(idx))
-            mark(code, bad & ~np.isfinite(st), ZERO_D)  # a vanishing f': the step overflows
-            mark(code, bad, NOT_FIN)
-            w.finish_at(idx, code, w.x.take(idx), w.fx.take(idx))
-            x_new = w.x_new  # (compressed with the rest if rows left)
-        np.subtract(x_new, w.x, out=w.dx)
-        w.x, w.x_new = x_new, w.x  # the old x is the next iteration's buffer
-        w.fx = w.f(w.x)
-        w.k += 1
+        xs = x[:n]
+        dfx = w.fprime(xs) if symbolic else central_difference(w, xs, fx[:n],
+                                                                 a.extra(0, n))
+        if ok.newton_step(n, damping, x, fx, dfx, dx, dead, code):
+            n = a.settle(n, k, x, fx, (x, fx, dx))
+            if not n:
+                break
+        fx = w.f(x[:n])
+        k += 1
+    a.at_work(0)
 
 
 def secant(w: Work, s: dict[str, Any]) -> None:
-    """The secant method on every row of ``w`` (start arrays ``w.x0``, ``w.x1``)."""
-    xtol, rtol, cap = (s[k] for k in ("xtol", "rtol", "max_iter"))
+    """The secant method on every row of ``w`` (start arrays ``w.x0``, ``w.x1``).
+
+    The two starting points are tested with numpy, once per chunk; the iterations then
+    run as Newton's do: the step and the tests at the new point compiled
+    (:func:`solvers.batch.open_kernels.secant_step`, ``secant_tests``), f on the rows at
+    work only.
+    """
+    xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     nan = np.full(w.size, np.nan)
     w.stop(~(np.isfinite(w.x0) & np.isfinite(w.x1)), NOT_FIN, nan, nan)
     # the starting points: a zero or small residual at either ends the row there
@@ -144,26 +214,31 @@ def secant(w: Work, s: dict[str, Any]) -> None:
     code = w.codes()
     _test_point(w, code, w.xb, w.fb, s)
     w.finish(code, w.xb, w.fb)
-    while w.size:
+    n = w.size
+    if not n:
+        return
+    a = _AtWork(w)
+    code, dead = a.code, a.dead
+    ok = _kernels()
+    xa, fa, xb, fb = (np.array(v, dtype=np.float64) for v in (w.xa, w.fa, w.xb, w.fb))
+    x = np.empty(n)
+    state = (xa, fa, xb, fb, x)
+    k = 0
+    while True:
+        w.k = k
         w.tick()
-        code = np.full(w.size, MAX_IT if w.k >= cap else -1, dtype=np.int8)
-        mark(code, w.fb == w.fa, ZERO_D)
-        difference = w.fb - w.fa
-        # fb/(fb - fa) without overflow when f values of opposite signs are huge
-        fraction = np.where(np.isinf(difference), 1.0 / (1.0 - w.fa / w.fb), w.fb / difference)
-        step = -fraction * (w.xb - w.xa)
-        w.x = w.xb + step
-        bad = ~np.isfinite(w.x)
-        mark(code, bad & ~np.isfinite(step), ZERO_D)
-        mark(code, bad, NOT_FIN)
-        w.finish(code, w.xb, w.fb)
-        if not w.size:
-            break
-        w.fx = w.f(w.x)
-        w.k += 1
-        w.dx = w.x - w.xb
-        code = w.codes()
-        _test_point(w, code, w.x, w.fx, s)
-        mark(code, np.abs(w.dx) <= xtol + rtol * np.abs(w.x), X_TOL)
-        w.finish(code, w.x, w.fx)
-        w.xa, w.fa, w.xb, w.fb = w.xb, w.fb, w.x, w.fx
+        if ok.secant_step(n, k, cap, xa, fa, xb, fb, x, dead, code):
+            n = a.settle(n, k, xb, fb, state)
+            if not n:
+                break
+        fx = w.f(x[:n])
+        k += 1
+        stops, pending = ok.secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead,
+                                         code)
+        if stops:
+            if pending:
+                _probe_zeros(w, a, n, xb, s)
+            n = a.settle(n, k, xb, fb, state)
+            if not n:
+                break
+    a.at_work(0)
