@@ -1,0 +1,236 @@
+"""Compiled passes over the samples (:data:`solvers.compiled.kernel`).
+
+The candidate passes of :func:`solvers.scan.sampling._detect` and the aliasing check of
+:func:`solvers.scan.sampling._underresolved` were written as a few dozen numpy calls
+over each chunk; on a 2001-sample grid each call costs about as much as its arithmetic.
+Here each is one loop over the samples that returns the indices of the few candidates,
+with every test and every formula transcribed in the numpy code's order (the same
+comparisons on the same IEEE values, so the same candidates). No transcendental
+function is evaluated here (numpy's and numba's may differ in the last bit).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from solvers.compiled import kernel
+from solvers.scan.records import EPS
+
+_SLACK = 64 * EPS  # the extrema's convexity test: slack on f' (as 64 * EPS * (...))
+_MARGIN = 1e3 * EPS  # the extrema's bound: rounding of the values (as 1e3 * EPS * max)
+
+
+@kernel
+def _nan_min(a: float, b: float) -> float:
+    """np.minimum of two numbers: NaN when either is NaN."""
+    if a != a or b != b:
+        return math.nan
+    return a if a <= b else b
+
+
+@kernel
+def _sign(v: float) -> float:
+    """np.sign of a number (NaN stays NaN)."""
+    if v > 0:
+        return 1.0
+    if v < 0:
+        return -1.0
+    return v  # 0, -0 or NaN, as np.sign returns them
+
+
+@kernel
+def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candidate kind
+    """Candidate indices of one stretch of samples (see ``sampling._detect``).
+
+    Returns (brackets, overflow, edges, inf_points, zeros, flat, peaks, minima, extrema,
+    proved): ``brackets`` the left index k of plain sign changes (k, k+1); ``overflow``
+    rows (finite index, far index) of sign changes into an overflow; ``edges`` rows (k,
+    1 when defined on the left else 0); ``inf_points``, ``zeros`` (rows (k, odd)) and
+    ``flat`` centre indices; ``peaks`` and ``minima`` centre indices; ``extrema`` left
+    indices of pairs not proved root-free; ``proved`` how many were.
+    """
+    n = len(x)
+    last_pair = min(hi, n - 1)
+    m = max(n, 1)
+    extrema = np.empty(m, np.int64)
+    n_ext = 0
+    proved = 0
+    if has_yp and last_pair > lo:
+        for i in range(lo, last_pair):
+            y0, y1 = y[i], y[i + 1]
+            neg0, neg1 = np.signbit(y0), np.signbit(y1)
+            if neg0 != neg1 or y0 == 0 or y1 == 0:
+                continue
+            s = -1.0 if neg0 else 1.0
+            if not (s * yp[i] < 0 and s * yp[i + 1] > 0):
+                continue
+            u0, u1, p0, p1 = s * y0, s * y1, s * yp[i], s * yp[i + 1]
+            h = x[i + 1] - x[i]
+            secant = (u1 - u0) / h
+            t = (u1 - u0 - p1 * h) / (p0 - p1)
+            bound = u0 + p0 * t
+            slack = _SLACK * (abs(p0) + abs(p1))
+            convex = (secant >= p0 - slack) and (secant <= p1 + slack)
+            if u0 != u0 or u1 != u1:
+                margin = math.nan
+            else:
+                margin = _MARGIN * (u0 if u0 >= u1 else u1)
+            if convex and math.isfinite(bound) and bound > margin:
+                proved += 1
+            else:
+                extrema[n_ext] = i
+                n_ext += 1
+    brackets = np.empty(m, np.int64)
+    n_br = 0
+    overflow = np.empty((m, 2), np.int64)
+    n_ov = 0
+    for k in range(lo, last_pair):
+        yl, yr = y[k], y[k + 1]
+        if np.signbit(yl) == np.signbit(yr):
+            continue
+        if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
+            brackets[n_br] = k
+            n_br += 1
+        elif yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
+            if math.isfinite(yl):
+                fin, far = k, k + 1
+            else:
+                fin, far = k + 1, k
+            if not math.isnan(y[far]):
+                overflow[n_ov, 0] = fin
+                overflow[n_ov, 1] = far
+                n_ov += 1
+    edges = np.empty((m, 2), np.int64)
+    n_ed = 0
+    infs = np.empty(m, np.int64)
+    n_inf = 0
+    for k in range(lo, last_pair):
+        dk, dk1 = not math.isnan(y[k]), not math.isnan(y[k + 1])
+        if dk != dk1:
+            edges[n_ed, 0] = k
+            edges[n_ed, 1] = 1 if dk else 0
+            n_ed += 1
+    zeros = np.empty((m, 2), np.int64)
+    n_z = 0
+    flat = np.empty(m, np.int64)
+    n_fl = 0
+    for k in range(max(lo, 1), last_pair):
+        if not (math.isfinite(y[k - 1]) and math.isfinite(y[k + 1])):
+            continue
+        if math.isinf(y[k]):
+            infs[n_inf] = k
+            n_inf += 1
+        elif y[k] == 0:
+            if y[k - 1] == 0 or y[k + 1] == 0:
+                flat[n_fl] = k
+                n_fl += 1
+            else:
+                zeros[n_z, 0] = k
+                zeros[n_z, 1] = 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0
+                n_z += 1
+    peaks = np.empty(m, np.int64)
+    n_pk = 0
+    minima = np.empty(m, np.int64)
+    n_mn = 0
+    yp_finite = True
+    if has_yp:
+        for i in range(n):
+            if not math.isfinite(yp[i]):
+                yp_finite = False
+                break
+    blk = np.empty(7)
+    d2 = np.empty(5)
+    for p in range(max(lo, 1), last_pair):
+        if p > n - 2:
+            break
+        # da[j] = |y[j+1]| - |y[j]|, at j = p - 1 and p
+        da0 = abs(y[p]) - abs(y[p - 1])
+        da1 = abs(y[p + 1]) - abs(y[p])
+        if da0 >= 0 and da1 <= 0:
+            # a sharp local maximum of |f|: the seven samples around it, clipped at the ends
+            for j in range(7):
+                blk[j] = y[min(max(p + j - 3, 0), n - 1)]
+            ap, al, ar = abs(blk[3]), abs(blk[2]), abs(blk[4])
+            sharp = (math.isfinite(al) and al > 0 and math.isfinite(ap) and ap > 0
+                     and math.isfinite(ar) and ar > 0
+                     and np.signbit(blk[2]) == np.signbit(blk[3])
+                     and np.signbit(blk[3]) == np.signbit(blk[4]))
+            if sharp:
+                for j in range(5):
+                    d2[j] = abs(blk[j] - 2 * blk[j + 1] + blk[j + 2])
+                far = _nan_min(d2[0] if p >= 3 else math.inf,
+                               d2[4] if p + 3 < n else math.inf)
+                kink = (d2[2] > 8 * far) and (d2[2] > 1e-9 * ap)
+                if (ap >= 1.1 * _nan_min(al, ar)) or kink:
+                    peaks[n_pk] = p
+                    n_pk += 1
+        if yp_finite and has_yp:
+            continue  # f' finite everywhere: the extrema stand in for every minimum
+        if da0 <= 0 and da1 >= 0:
+            yc, yl, yr = y[p], y[p - 1], y[p + 1]
+            ac, al, ar = abs(yc), abs(yl), abs(yr)
+            if not (math.isfinite(yc) and math.isfinite(yl) and math.isfinite(yr) and yc != 0):
+                continue
+            sc = _sign(yc)
+            if not (sc == _sign(yl) and sc == _sign(yr) and (ac < al or ac < ar)):
+                continue
+            # parabola through the three samples: keep if it dips at least 10% toward zero
+            h1, h2 = x[p] - x[p - 1], x[p + 1] - x[p]
+            sgn = sc
+            dd1 = (sgn * yc - sgn * yl) / h1
+            dd2 = (sgn * yr - sgn * yc) / h2
+            curv = (dd2 - dd1) / (0.5 * (h1 + h2))
+            slope = 0.5 * (dd1 + dd2)
+            if curv > 0:
+                vertex = sgn * yc - slope * slope / (2 * curv)
+            else:
+                vertex = sgn * yc - math.inf
+            keep = (vertex <= 0.9 * sgn * yc) or (vertex <= curv * h1 * h2)
+            if has_yp and (math.isfinite(yp[p - 1]) and math.isfinite(yp[p])
+                           and math.isfinite(yp[p + 1])):
+                keep = False
+            if keep:
+                minima[n_mn] = p
+                n_mn += 1
+    return (brackets[:n_br], overflow[:n_ov], edges[:n_ed], infs[:n_inf], zeros[:n_z],
+            flat[:n_fl], peaks[:n_pk], minima[:n_mn], extrema[:n_ext], proved)
+
+
+@kernel
+def underresolved_pass(x, y, yp, has_yp, window, max_turns, trapezoid):
+    """Sorted indices of windows (of ``window`` samples) where f turns more than
+    ``max_turns`` times, or (``has_yp``) where f' contradicts f's differences on some pair
+    (see ``sampling._underresolved`` and ``sampling._inconsistent``)."""
+    n = len(y)
+    nwin = (n - 2) // window
+    bad = np.zeros(nwin + 1, np.bool_)
+    count = 0
+    w = 0
+    for i in range(nwin * window):
+        d0 = np.signbit(y[i + 1] - y[i])
+        d1 = np.signbit(y[i + 2] - y[i + 1])
+        if d0 != d1:
+            count += 1
+        if (i + 1) % window == 0:
+            if count > max_turns:
+                bad[w] = True
+            w += 1
+            count = 0
+    if has_yp:
+        for i in range(n - 1):
+            half = 0.5 * (x[i + 1] - x[i])
+            dy = y[i + 1] - y[i]
+            avg = half * (yp[i] + yp[i + 1])
+            scale = abs(dy) + half * (abs(yp[i]) + abs(yp[i + 1]))
+            allow = trapezoid * scale + _MARGIN * (abs(y[i]) + abs(y[i + 1]))
+            if abs(dy - avg) > allow:
+                bad[i // window] = True
+    out = np.empty(nwin + 1, np.int64)
+    k = 0
+    for j in range(nwin + 1):
+        if bad[j]:
+            out[k] = j
+            k += 1
+    return out[:k]
