@@ -14,6 +14,7 @@ import numpy as np
 from solvers.methods import brent
 from solvers.records import Run
 from solvers.scan.noise import _noise_beside
+from solvers.scan.passes import ab_accept, ab_start
 from solvers.scan.records import EPS, _Found
 from solvers.scan.sampling import _Guarded
 
@@ -104,67 +105,32 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     count = len(br)
     if count <= _FEW:
         return _bracket_each(g, br, xtol, max_iter)
-    lo_out, hi_out = br[:, 0].astype(float).copy(), br[:, 1].astype(float).copy()
-    flo_out, fhi_out = br[:, 2].astype(float).copy(), br[:, 3].astype(float).copy()
+    # the iteration's arithmetic in two compiled halves around the one call of f
+    # (:func:`solvers.scan.passes.ab_start`, :func:`~solvers.scan.passes.ab_accept`): the
+    # numpy form cost some 35 calls an iteration; every row is updated in place, and
+    # ``active`` lists the brackets still shrinking, in order (so f sees the same points)
+    out = np.array(br, dtype=float)  # rows lo, hi, f(lo), f(hi) as they end
     done = np.zeros(count, dtype=bool)
-    # working copies of the brackets still shrinking (compressed as brackets finish)
-    idx = np.arange(count)
-    lo, hi, flo, fhi = lo_out.copy(), hi_out.copy(), flo_out.copy(), fhi_out.copy()
+    active = np.arange(count)
+    lo, hi, flo, fhi = (out[:, j].copy() for j in range(4))
     wlo, whi = flo.copy(), fhi.copy()  # false-position weights (scaled f at held ends)
-    prev_lo = np.zeros(count, dtype=np.int8) - 1  # end replaced last: 1 lo, 0 hi, -1 none
+    prev = np.full(count, -1, dtype=np.int8)  # end replaced last: 1 lo, 0 hi, -1 none
     w1 = np.full(count, np.inf)  # bracket widths one, two and three iterations back
     w2, w3 = w1.copy(), w1.copy()
+    width, x = np.empty(count), np.empty(count)
+    n_act = count
     for it in range(max_iter + 1):
-        width = hi - lo
-        tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
-        finished = width <= tol
-        if np.count_nonzero(finished):
-            k = idx[finished]
-            done[k] = True
-            lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
-                                                            flo[finished], fhi[finished])
-            keep = ~finished
-            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width, tol = (
-                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width,
-                                  tol))
-        if idx.size == 0 or it == max_iter:
+        propose = it < max_iter
+        n_act = ab_start(active, n_act, lo, hi, flo, fhi, wlo, whi, w3, xtol, _RTOL, propose,
+                         done, out, width, x)
+        if n_act == 0 or not propose:
             break
         if it % 4 == 0:
             g.check()
-        # where the chord through the weighted ends meets zero (t in [0, 1] as the weights
-        # have opposite signs; NaN from underflowed weights is caught by fmax below)
-        t = np.where(width > 0.5 * w3, 0.5, wlo / (wlo - whi))
-        half = 0.5 * tol
-        x = np.fmin(np.fmax(lo + t * width, lo + half), hi - half)
-        fx = g(x)
-        w3, w2, w1 = w2, w1, width
-        regular = np.isfinite(fx) & (fx != 0)
-        if np.count_nonzero(regular) < regular.size:
-            zero = fx == 0
-            k = idx[zero]
-            done[k] = True
-            lo_out[k] = hi_out[k] = x[zero]
-            flo_out[k] = fhi_out[k] = 0.0
-            # NaN/inf inside: a pole or a hole, left (not done) for _classify to decide
-            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x, fx = (
-                v[regular] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x,
-                                     fx))
-        on_lo = np.signbit(fx) == np.signbit(flo)  # x replaces lo; hi is held
-        # Anderson–Björck: the end held for the second time running is weighted by
-        # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
-        m = 1.0 - fx / np.where(on_lo, flo, fhi)
-        m[~(m > 0)] = 0.5
-        m[prev_lo != on_lo] = 1.0
-        # (in place: these arrays are this loop's own, and a masked copy costs less than
-        # building a new array with np.where)
-        on_hi = ~on_lo
-        wlo *= m  # the held end's weight; the moved end's is replaced by f(x) next
-        whi *= m
-        for end, value, moved in ((wlo, fx, on_lo), (whi, fx, on_hi), (lo, x, on_lo),
-                                  (hi, x, on_hi), (flo, fx, on_lo), (fhi, fx, on_hi)):
-            np.copyto(end, value, where=moved)
-        prev_lo = on_lo.view(np.int8)
-    return done, lo_out, hi_out, flo_out, fhi_out
+        fx = g(x[:n_act])
+        n_act = ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3,
+                          width, done, out)
+    return done, out[:, 0].copy(), out[:, 1].copy(), out[:, 2].copy(), out[:, 3].copy()
 
 
 # Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`):

@@ -234,3 +234,86 @@ def underresolved_pass(x, y, yp, has_yp, window, max_turns, trapezoid):
             out[k] = j
             k += 1
     return out[:k]
+
+
+@kernel
+def ab_start(active, n_act, lo, hi, flo, fhi, wlo, whi, w3, xtol, rtol, propose, done,
+             out, width, x):
+    """One iteration's first half of ``kernels._bracket_all`` (Anderson-Bjorck on many
+    brackets), for the brackets ``active[:n_act]`` (ascending row numbers).
+
+    Brackets that meet Brent's stop rule, ``hi - lo <= xtol + rtol max(|lo|, |hi|)``,
+    are marked ``done`` and their ends written to ``out`` (rows lo, hi, f(lo), f(hi));
+    the rest stay in ``active`` (compacted, in order). With ``propose`` each remaining
+    bracket's next point goes to ``x[j]`` (j its place in ``active``): false position
+    through the weighted ends, bisection when three iterations failed to halve the
+    bracket, at least half the tolerance inside both ends. Returns the new count.
+    """
+    k = 0
+    for j in range(n_act):
+        i = active[j]
+        w = hi[i] - lo[i]
+        a, b = abs(lo[i]), abs(hi[i])
+        if a != a or b != b:
+            big = math.nan
+        else:
+            big = a if a >= b else b
+        tol = xtol + rtol * big
+        if w <= tol:
+            done[i] = True
+            out[i, 0], out[i, 1], out[i, 2], out[i, 3] = lo[i], hi[i], flo[i], fhi[i]
+            continue
+        active[k] = i
+        if propose:
+            if w > 0.5 * w3[i]:
+                t = 0.5
+            else:
+                t = wlo[i] / (wlo[i] - whi[i])
+            half = 0.5 * tol
+            v = lo[i] + t * w
+            c = lo[i] + half
+            if not v >= c:  # (NaN too: np.fmax takes the other value)
+                v = c
+            c = hi[i] - half
+            if not v <= c:
+                v = c
+            x[k] = v
+        width[i] = w
+        k += 1
+    return k
+
+
+@kernel
+def ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3, width,
+              done, out):
+    """One iteration's second half of ``kernels._bracket_all``: f(x) replaces the end of
+    its sign; Anderson-Bjorck's weight m = 1 - f(x)/f(previous iterate) (1/2 where not
+    positive) on the end held twice running. An exact zero ends its bracket (``done``,
+    both ends at x); NaN/inf drops it from ``active`` (not done). Returns the new count."""
+    k = 0
+    for j in range(n_act):
+        i = active[j]
+        w3[i], w2[i], w1[i] = w2[i], w1[i], width[i]
+        v, fv = x[j], fx[j]
+        if fv == 0:
+            done[i] = True
+            out[i, 0], out[i, 1], out[i, 2], out[i, 3] = v, v, 0.0, 0.0
+            continue
+        if not math.isfinite(fv):
+            continue
+        on_lo = np.signbit(fv) == np.signbit(flo[i])
+        m = 1.0 - fv / (flo[i] if on_lo else fhi[i])
+        if not m > 0:
+            m = 0.5
+        if prev[i] != (1 if on_lo else 0):
+            m = 1.0
+        wlo[i] *= m
+        whi[i] *= m
+        if on_lo:
+            wlo[i], lo[i], flo[i] = fv, v, fv
+        else:
+            whi[i], hi[i], fhi[i] = fv, v, fv
+        prev[i] = 1 if on_lo else 0
+        active[k] = i
+        k += 1
+    return k
