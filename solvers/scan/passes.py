@@ -317,3 +317,158 @@ def ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3
         active[k] = i
         k += 1
     return k
+
+
+_LADDER = 4.0 ** (-np.arange(11))  # the multiplicity ladder: reach * 4^-j (j = 0..10)
+_ULP_STEPS = np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)  # steps of about one ulp
+_LOG4 = math.log(4.0)
+_TWO_EPS = 2 * EPS
+_RAMP_D0 = 64 * EPS
+
+
+@kernel
+def ladder_points(x, reach, scale, extra):
+    """Rows of the points ``features._multiplicity`` evaluates f at, per root x: x + d,
+    then x - d, for d = reach * 4^-j (j = 0..10), then x + s k (k = -3..3, s = 2 eps
+    max(|x|, scale), about one ulp), then the row's ``extra`` points."""
+    n = len(x)
+    rungs = len(_LADDER)
+    near = len(_ULP_STEPS)
+    pts = np.empty((n, 2 * rungs + near + extra.shape[1]))
+    for i in range(n):
+        xi = x[i]
+        for j in range(rungs):
+            d = reach[i] * _LADDER[j]
+            pts[i, j] = xi + d
+            pts[i, rungs + j] = xi - d
+        a = abs(xi)
+        step = _TWO_EPS * (a if a >= scale else scale)
+        for k in range(near):
+            pts[i, 2 * rungs + k] = xi + step * _ULP_STEPS[k]
+        for k in range(extra.shape[1]):
+            pts[i, 2 * rungs + near + k] = extra[i, k]
+    return pts
+
+
+@kernel
+def ladder_read(vals, logs, odd):
+    """Multiplicity, spread of the local slopes and residual per row of ``vals`` (f at
+    :func:`ladder_points`; ``logs`` = log|vals|, taken by numpy), as
+    ``features._multiplicity`` describes them."""
+    n = vals.shape[0]
+    rungs = len(_LADDER)
+    m_out = np.empty(n, np.int64)
+    spread_out = np.empty(n)
+    res = np.empty(n)
+    slopes = np.empty(rungs - 1)
+    valid = np.empty(rungs, np.bool_)
+    pair = np.empty(rungs - 1, np.bool_)
+    last = np.empty(4)
+    for i in range(n):
+        # the rounding floor: the largest |f| within a few ulps of the root (NaN only when
+        # all are NaN, as np.fmax.reduce)
+        floor = math.nan
+        for k in range(len(_ULP_STEPS)):
+            v = abs(vals[i, 2 * rungs + k])
+            if v == v and (floor != floor or v > floor):
+                floor = v
+        for j in range(rungs):
+            fp, fm = abs(vals[i, j]), abs(vals[i, rungs + j])
+            if fp != fp or fm != fm:
+                low = math.nan
+            else:
+                low = fp if fp <= fm else fm
+            valid[j] = (low > 1e3 * floor) and math.isfinite(fp) and math.isfinite(fm)
+        total = 0
+        for j in range(rungs - 1):
+            pair[j] = valid[j] and valid[j + 1]
+            if pair[j]:
+                total += 1
+                slopes[j] = ((0.5 * (logs[i, j] + logs[i, rungs + j])
+                              - 0.5 * (logs[i, j + 1] + logs[i, rungs + j + 1])) / _LOG4)
+        # the last four usable slopes (the smallest distances above the floor), sorted
+        for k in range(4):
+            last[k] = math.inf
+        count = 0
+        for j in range(rungs - 2, -1, -1):
+            if pair[j] and count < 4:
+                last[count] = slopes[j]
+                count += 1
+        last.sort()
+        lo_i = max(count - 1, 0) // 2
+        hi_i = count // 2
+        est = 0.5 * (last[lo_i] + last[hi_i])
+        if not (count > 0 and math.isfinite(est)):
+            est = 1.0 if odd[i] else 2.0
+        r = np.rint(est)
+        m = int(r) if r > 1 else 1
+        if (m % 2 == 1) != odd[i]:
+            m = m + 1 if (est >= m or m == 1) else m - 1
+        least = 1 if odd[i] else 2
+        m_out[i] = m if m >= least else least
+        if total >= 2:
+            hi_s, lo_s = -math.inf, math.inf
+            for j in range(rungs - 1):
+                if pair[j]:
+                    s = slopes[j]
+                    if s != s or hi_s != hi_s:
+                        hi_s = math.nan
+                    elif s > hi_s:
+                        hi_s = s
+                    if s != s or lo_s != lo_s:
+                        lo_s = math.nan
+                    elif s < lo_s:
+                        lo_s = s
+            spread_out[i] = hi_s - lo_s
+        else:
+            spread_out[i] = 0.0
+        res[i] = vals[i, 2 * rungs + 3]
+    return m_out, spread_out, res
+
+
+@kernel
+def ramp_points(x, scale):
+    """Per point x (rows): x and 3 steps of about one ulp either side, then x -/+ 64 ulps
+    (``noise._ramp_points``)."""
+    n = len(x)
+    near = len(_ULP_STEPS)
+    pts = np.empty((n, near + 2))
+    floor = 1e-3 * scale
+    for i in range(n):
+        a = abs(x[i])
+        size = a if a >= floor else floor
+        d0, step = _RAMP_D0 * size, _TWO_EPS * size
+        for k in range(near):
+            pts[i, k] = x[i] + step * _ULP_STEPS[k]
+        pts[i, near] = x[i] - d0
+        pts[i, near + 1] = x[i] + d0
+    return pts
+
+
+@kernel
+def ramp_clean(vals, margin):
+    """Per row of f at :func:`ramp_points`: a clean ramp (first differences of one sign,
+    |f| at 64 ulps above ``margin`` times the noise of the second differences)
+    (``noise._ramp_clean``)."""
+    n = vals.shape[0]
+    near = len(_ULP_STEPS)
+    out = np.empty(n, np.bool_)
+    d1 = np.empty(near - 1)
+    for i in range(n):
+        up, down = True, True
+        for k in range(near - 1):
+            d1[k] = vals[i, k + 1] - vals[i, k]
+            up = up and d1[k] > 0
+            down = down and d1[k] < 0
+        total = 0.0
+        for k in range(near - 2):
+            d2 = d1[k + 1] - d1[k]
+            total = d2 * d2 if k == 0 else total + d2 * d2
+        spread = math.sqrt(total / ((near - 2) * 6))
+        a, b = abs(vals[i, near]), abs(vals[i, near + 1])
+        if a != a or b != b:
+            low = math.nan
+        else:
+            low = a if a <= b else b
+        out[i] = (up or down) and (low > margin * spread)
+    return out
