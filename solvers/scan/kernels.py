@@ -14,7 +14,13 @@ import numpy as np
 from solvers.methods import brent
 from solvers.records import Run
 from solvers.scan.noise import _noise_beside
-from solvers.scan.passes import ab_accept, ab_start
+from solvers.scan.passes import (
+    ab_accept,
+    ab_start,
+    golden_accept,
+    golden_floor,
+    golden_move,
+)
 from solvers.scan.records import EPS, _Found
 from solvers.scan.sampling import _Guarded
 
@@ -383,56 +389,40 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     active = ~crossed & np.isfinite(fbest)
     if ends is not None:
         flo, fhi = ends[0].astype(float).copy(), ends[1].astype(float).copy()
+    # each step in compiled passes around its calls of f (:func:`solvers.scan.passes.
+    # golden_floor`, ``golden_move``, ``golden_accept``): the numpy form cost some 40 calls
+    # a step. ``act`` lists the rows still searching, in order (f sees the same points)
+    sign = np.asarray(sign, dtype=float)
+    count = len(lo)
+    act = np.flatnonzero(active)
+    n_act = act.size
+    act = np.concatenate([act, np.zeros(count - n_act, dtype=act.dtype)])
+    has_floor = ends is not None and positive is not None
+    if ends is None:
+        flo = fhi = np.empty(count)  # (unused: no ends to keep up to date)
+    sure = np.zeros(count, dtype=bool)
+    xs, middle, newx = np.empty(count), np.empty(count), np.empty(count)
+    left = np.zeros(count, dtype=bool)
+    lim = limit if limit is not None else fbest
+    pos = positive if positive is not None else np.zeros(count, dtype=bool)
     for _ in range(120):
-        act = np.nonzero(active)[0]
-        if len(act) == 0:
+        if n_act == 0:
             break
         g.check()
-        if ends is not None and positive is not None:
-            floor, xs, middle = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act],
-                                              fc[act], fd[act], fhi[act], where=True)
-            if limit is None:
-                sure = floor > 0.5 * fbest[act]
-            else:
-                sure = floor > limit[act]
-                if sure.any():
-                    # the probe at x*: -|f| there strictly above the chords' value (the
-                    # objective is -|f|), as it is for a concave |f| and never beside a pole
-                    probe = np.flatnonzero(sure)
-                    sure[probe] = objective(xs[probe], sign[act[probe]]) > middle[probe]
-            if sure.any():
-                positive[act[sure]] = True
-                active[act[sure]] = False
-                act = act[~sure]
-                if act.size == 0:
-                    break
-        left = fc[act] <= fd[act]  # minimum in [lo, d]
-        il, ir = act[left], act[~left]
-        if ends is not None:
-            fhi[il], flo[ir] = fd[il], fc[ir]
-        hi[il], d[il], fd[il] = d[il], c[il], fc[il]
-        c[il] = hi[il] - r * (hi[il] - lo[il])
-        lo[ir], c[ir], fc[ir] = c[ir], d[ir], fd[ir]
-        d[ir] = lo[ir] + r * (hi[ir] - lo[ir])
-        newx = np.empty(len(act))
-        newx[left] = c[il]
-        newx[~left] = d[ir]
-        fn = objective(newx, sign[act])
-        fc[il] = fn[left]
-        fd[ir] = fn[~left]
-        better = fn < fbest[act]
-        xbest[act[better]] = newx[better]
-        fbest[act[better]] = fn[better]
-        if not peak:
-            crossed[act] |= fn < 0
-        width = hi[act] - lo[act]
-        stop = (
-            crossed[act]
-            | ~np.isfinite(fn)
-            | ~np.isfinite(fbest[act])
-            | (width <= rel * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
-        )
-        active[act[stop]] = False
+        sure[:n_act] = False
+        if has_floor:
+            if golden_floor(act, n_act, lo, c, d, hi, flo, fc, fd, fhi, fbest, lim,
+                            limit is not None, sure, xs, middle) and limit is not None:
+                # the probe at x*: -|f| there strictly above the chords' value (the
+                # objective is -|f|), as it is for a concave |f| and never beside a pole
+                probe = np.flatnonzero(sure[:n_act])
+                sure[probe] = objective(xs[probe], sign[act[probe]]) > middle[probe]
+        n_act = golden_move(act, n_act, sure, pos, active, ends is not None, lo, hi, c, d,
+                            fc, fd, flo, fhi, r, left, newx)
+        if n_act == 0:
+            break
+        n_act = golden_accept(act, n_act, left, newx, g(newx[:n_act]), peak, sign, lo, hi,
+                              fc, fd, xbest, fbest, crossed, active, rel, xtol)
     return xbest, sign * fbest, crossed
 
 

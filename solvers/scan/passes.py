@@ -472,3 +472,112 @@ def ramp_clean(vals, margin):
             low = a if a <= b else b
         out[i] = (up or down) and (low > margin * spread)
     return out
+
+
+@kernel
+def _np_max(a: float, b: float) -> float:
+    """np.maximum of two numbers (NaN when either is NaN)."""
+    if a != a or b != b:
+        return math.nan
+    return a if a >= b else b
+
+
+@kernel
+def golden_floor(act, n_act, lo, c, d, hi, flo, fc, fd, fhi, fbest, limit, has_limit, sure,
+                 xs, middle):
+    """The convex-floor test of ``kernels._golden`` on the rows ``act[:n_act]``
+    (``kernels._convex_floor`` transcribed): ``sure[j]`` (j the place in ``act``) when the
+    floor stays above half the least value found, or with ``has_limit`` above ``limit``
+    (then ``xs[j]``, ``middle[j]``: where the outer chords meet and their value there, for
+    the probe). Returns how many are sure."""
+    count = 0
+    for j in range(n_act):
+        i = act[j]
+        s1 = (fc[i] - flo[i]) / (c[i] - lo[i])
+        s2 = (fd[i] - fc[i]) / (d[i] - c[i])
+        s3 = (fhi[i] - fd[i]) / (hi[i] - d[i])
+        convex = (s1 <= s2) and (s2 <= s3)
+        outer = _nan_min(_nan_min(fc[i] + s2 * (lo[i] - c[i]), fc[i]),
+                         _nan_min(fd[i] + s2 * (hi[i] - d[i]), fd[i]))
+        if s3 > s1:
+            v = (fd[i] - fc[i] + s1 * c[i] - s3 * d[i]) / (s1 - s3)
+        else:
+            v = c[i]
+        # np.clip(v, c, d): NaN stays, as numpy's clip keeps it
+        if v == v:
+            v = v if v > c[i] else c[i]
+            v = v if v < d[i] else d[i]
+        mid = _np_max(fc[i] + s1 * (v - c[i]), fd[i] + s3 * (v - d[i]))
+        low = _nan_min(outer, mid)
+        floor = low if (convex and math.isfinite(low)) else -math.inf
+        xs[j], middle[j] = v, mid
+        if has_limit:
+            sure[j] = floor > limit[i]
+        else:
+            sure[j] = floor > 0.5 * fbest[i]
+        if sure[j]:
+            count += 1
+    return count
+
+
+@kernel
+def golden_move(act, n_act, sure, positive, active, has_ends, lo, hi, c, d, fc, fd, flo, fhi,
+                ratio, left, newx):
+    """The rows ``sure`` marks leave (``positive``); every other row of ``act[:n_act]``
+    moves one golden-section step toward its smaller value, ``newx[j]`` the new point
+    and ``left[j]`` whether the minimum lay in [lo, d] (``kernels._golden``). Returns the
+    new count."""
+    k = 0
+    for j in range(n_act):
+        i = act[j]
+        if sure[j]:
+            positive[i] = True
+            active[i] = False
+            continue
+        act[k] = i
+        if fc[i] <= fd[i]:
+            left[k] = True
+            if has_ends:
+                fhi[i] = fd[i]
+            hi[i], d[i], fd[i] = d[i], c[i], fc[i]
+            c[i] = hi[i] - ratio * (hi[i] - lo[i])
+            newx[k] = c[i]
+        else:
+            left[k] = False
+            if has_ends:
+                flo[i] = fc[i]
+            lo[i], c[i], fc[i] = c[i], d[i], fd[i]
+            d[i] = lo[i] + ratio * (hi[i] - lo[i])
+            newx[k] = d[i]
+        k += 1
+    return k
+
+
+@kernel
+def golden_accept(act, n_act, left, newx, values, peak, sign, lo, hi, fc, fd, xbest, fbest,
+                  crossed, active, rel, xtol):
+    """f at the new points (``values``, raw) into the golden-section rows ``act[:n_act]``:
+    the objective (-|f| for a peak, else sign f), the best value, a crossing, and the stop
+    rule (``kernels._golden``). Returns the new count of rows still searching."""
+    k = 0
+    for j in range(n_act):
+        i = act[j]
+        fn = -abs(values[j]) if peak else sign[i] * values[j]
+        if left[j]:
+            fc[i] = fn
+        else:
+            fd[i] = fn
+        if fn < fbest[i]:
+            xbest[i] = newx[j]
+            fbest[i] = fn
+        if not peak:
+            crossed[i] = crossed[i] or fn < 0
+        width = hi[i] - lo[i]
+        stop = (crossed[i] or not math.isfinite(fn) or not math.isfinite(fbest[i])
+                or width <= rel * _np_max(abs(lo[i]), abs(hi[i])) + xtol)
+        if stop:
+            active[i] = False
+            continue
+        act[k] = i
+        k += 1
+    return k
