@@ -20,6 +20,8 @@ from solvers.scan.passes import (
     golden_accept,
     golden_floor,
     golden_move,
+    newton_try,
+    root_pick,
 )
 from solvers.scan.records import EPS, _Found
 from solvers.scan.sampling import _Guarded
@@ -238,25 +240,17 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     partly undefined.
     """
     done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
-    g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
-    root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
-    nearer = np.abs(flo) <= np.abs(fhi)
-    x = np.where(nearer, lo, hi)
+    # (compiled passes, :func:`solvers.scan.passes.root_pick` and ``newton_try``, around
+    # the calls of f' and f: the numpy form cost some 30 calls, for every scan)
+    root, zero_end, x, fend = root_pick(br, done, lo, hi, flo, fhi)
     at_zero, bracketed = ("zero_at_iterate",), ("anderson_bjorck",)  # (shared tuples)
-    how: list[tuple[str, ...]] = [at_zero if z else bracketed
-                                  for z in (root & (lo == hi)).tolist()]
+    how: list[tuple[str, ...]] = [at_zero if z else bracketed for z in zero_end.tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
-        xr = x[ir]
         # f at x is the bracket end's value the refinement already has (no second call)
-        fx, dfx = np.where(nearer, flo, fhi)[ir], gp(xr)
-        with np.errstate(all="ignore"):
-            xn = xr - fx / dfx
-        ok = np.isfinite(dfx) & (dfx != 0) & np.isfinite(fx) & (fx != 0)
-        ok &= (lo[ir] <= xn) & (xn <= hi[ir])
-        if ok.any():
-            better = np.zeros(len(ir), dtype=bool)
-            better[ok] = np.abs(g(xn[ok])) < np.abs(fx[ok])
+        ok, xn = newton_try(ir, x, fend, gp(x[ir]), lo, hi)
+        if ok.size:
+            better = ok[np.abs(g(xn[ok])) < np.abs(fend[ir[ok]])]
             x[ir[better]] = xn[better]
             for i in ir[better].tolist():
                 how[i] = how[i] + ("newton_polish",)

@@ -581,3 +581,44 @@ def golden_accept(act, n_act, left, newx, values, peak, sign, lo, hi, fc, fd, xb
         act[k] = i
         k += 1
     return k
+
+
+@kernel
+def root_pick(br, done, lo, hi, flo, fhi):
+    """Which refined brackets are roots (converged, and |f| at both ends down to 1e-6 of
+    the sampled |f|), x at the end of smaller |f|, and f there (``kernels.
+    _resolve_brackets``). Returns (root, at_zero (a root with lo == hi), x, fx)."""
+    n = len(lo)
+    root = np.zeros(n, np.bool_)
+    at_zero = np.zeros(n, np.bool_)
+    x = np.empty(n)
+    fx = np.empty(n)
+    for i in range(n):
+        g0 = _np_max(abs(br[i, 2]), abs(br[i, 3]))
+        a, b = abs(flo[i]), abs(fhi[i])
+        root[i] = done[i] and (_np_max(a, b) <= 1e-6 * g0)
+        at_zero[i] = root[i] and lo[i] == hi[i]
+        if a <= b:
+            x[i], fx[i] = lo[i], flo[i]
+        else:
+            x[i], fx[i] = hi[i], fhi[i]
+    return root, at_zero, x, fx
+
+
+@kernel
+def newton_try(ir, x, fx, dfx, lo, hi):
+    """One Newton step x - f/f' from each root ``ir`` (f' in ``dfx``, in ``ir``'s order);
+    returns (the places j in ``ir`` whose step is finite and stays in the bracket, the
+    steps' x)."""
+    n = len(ir)
+    ok = np.empty(n, np.int64)
+    xn = np.empty(n)
+    k = 0
+    for j in range(n):
+        i = ir[j]
+        xn[j] = x[i] - fx[i] / dfx[j]
+        if (math.isfinite(dfx[j]) and dfx[j] != 0 and math.isfinite(fx[i]) and fx[i] != 0
+                and lo[i] <= xn[j] and xn[j] <= hi[i]):
+            ok[k] = j
+            k += 1
+    return ok[:k], xn
