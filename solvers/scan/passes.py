@@ -60,7 +60,7 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
     if has_yp and last_pair > lo:
         for i in range(lo, last_pair):
             y0, y1 = y[i], y[i + 1]
-            neg0, neg1 = np.signbit(y0), np.signbit(y1)
+            neg0, neg1 = (math.copysign(1.0, y0) < 0), (math.copysign(1.0, y1) < 0)
             if neg0 != neg1 or y0 == 0 or y1 == 0:
                 continue
             s = -1.0 if neg0 else 1.0
@@ -88,7 +88,7 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
     n_ov = 0
     for k in range(lo, last_pair):
         yl, yr = y[k], y[k + 1]
-        if np.signbit(yl) == np.signbit(yr):
+        if (math.copysign(1.0, yl) < 0) == (math.copysign(1.0, yr) < 0):
             continue
         if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
             brackets[n_br] = k
@@ -155,8 +155,8 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
             ap, al, ar = abs(blk[3]), abs(blk[2]), abs(blk[4])
             sharp = (math.isfinite(al) and al > 0 and math.isfinite(ap) and ap > 0
                      and math.isfinite(ar) and ar > 0
-                     and np.signbit(blk[2]) == np.signbit(blk[3])
-                     and np.signbit(blk[3]) == np.signbit(blk[4]))
+                     and (math.copysign(1.0, blk[2]) < 0) == (math.copysign(1.0, blk[3]) < 0)
+                     and (math.copysign(1.0, blk[3]) < 0) == (math.copysign(1.0, blk[4]) < 0))
             if sharp:
                 for j in range(5):
                     d2[j] = abs(blk[j] - 2 * blk[j + 1] + blk[j + 2])
@@ -209,8 +209,8 @@ def underresolved_pass(x, y, yp, has_yp, window, max_turns, trapezoid):
     count = 0
     w = 0
     for i in range(nwin * window):
-        d0 = np.signbit(y[i + 1] - y[i])
-        d1 = np.signbit(y[i + 2] - y[i + 1])
+        d0 = (math.copysign(1.0, y[i + 1] - y[i]) < 0)
+        d1 = (math.copysign(1.0, y[i + 2] - y[i + 1]) < 0)
         if d0 != d1:
             count += 1
         if (i + 1) % window == 0:
@@ -301,7 +301,7 @@ def ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3
             continue
         if not math.isfinite(fv):
             continue
-        on_lo = np.signbit(fv) == np.signbit(flo[i])
+        on_lo = (math.copysign(1.0, fv) < 0) == (math.copysign(1.0, flo[i]) < 0)
         m = 1.0 - fv / (flo[i] if on_lo else fhi[i])
         if not m > 0:
             m = 0.5
@@ -394,7 +394,13 @@ def ladder_read(vals, logs, odd):
             if pair[j] and count < 4:
                 last[count] = slopes[j]
                 count += 1
-        last.sort()
+        for k in range(1, count):  # (insertion sort of at most 4: np.sort compiles slowly)
+            v = last[k]
+            j = k - 1
+            while j >= 0 and last[j] > v:
+                last[j + 1] = last[j]
+                j -= 1
+            last[j + 1] = v
         lo_i = max(count - 1, 0) // 2
         hi_i = count // 2
         est = 0.5 * (last[lo_i] + last[hi_i])
