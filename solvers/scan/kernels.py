@@ -141,11 +141,14 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     return done, out[:, 0].copy(), out[:, 1].copy(), out[:, 2].copy(), out[:, 3].copy()
 
 
-# Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`):
-# an iteration of the vectorised loop costs some 35 numpy calls of about 1 us whatever the
-# bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x, 60 us for a
-# sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to 2.5 us) per
-# bracket; the two break even near 25 brackets for both.
+# Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`).
+# Chosen when an iteration of the vectorised loop cost some 35 numpy calls of about 1 us
+# whatever the bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x,
+# 60 us for a sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to
+# 2.5 us) per bracket: the two broke even near 25 brackets. The vectorised iteration is now
+# two compiled passes (a few us), which moves the break-even lower; the bound stays, as
+# moving it would change results: the scalar f (math) and the vectorised f (numpy) may
+# differ in the last bit, and so may the roots refined on them.
 _FEW = 24
 
 
