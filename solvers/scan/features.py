@@ -13,9 +13,8 @@ import numpy as np
 from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
 from solvers.scan.noise import _LOOK_ALL, _at_noise, _noise, _ramp_clean, _ramp_points
-from solvers.scan.passes import _LADDER, ladder_points, ladder_read
 from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
-from solvers.scan.sampling import _Guarded
+from solvers.scan.sampling import _Guarded, _passes
 
 
 def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
@@ -97,13 +96,14 @@ def _multiplicity(
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
     # (two compiled passes around the one call of f, and numpy's log between them: the
     # numpy form of the points and of the slopes cost some 40 calls, for every scan)
-    pts = ladder_points(x, reach, scale, np.zeros((len(x), 0)) if extra is None else extra)
+    passes = _passes()
+    pts = passes.ladder_points(x, reach, scale, np.zeros((len(x), 0)) if extra is None else extra)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
     if extra is not None:
         extra[...] = vals[:, pts.shape[1] - extra.shape[1]:]
-    rungs = 2 * len(_LADDER)
+    rungs = 2 * len(passes.LADDER)
     logs = np.log(np.abs(vals[:, :rungs]))
-    return ladder_read(vals, logs, np.asarray(odd, dtype=bool))
+    return passes.ladder_read(vals, logs, np.asarray(odd, dtype=bool))
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:

@@ -14,17 +14,8 @@ import numpy as np
 from solvers.methods import brent
 from solvers.records import Run
 from solvers.scan.noise import _noise_beside
-from solvers.scan.passes import (
-    ab_accept,
-    ab_start,
-    golden_accept,
-    golden_floor,
-    golden_move,
-    newton_try,
-    root_pick,
-)
 from solvers.scan.records import EPS, _Found
-from solvers.scan.sampling import _Guarded
+from solvers.scan.sampling import _Guarded, _passes
 
 _ROOT, _POLE, _JUMP, _UNDEF = 1, 2, 3, 4
 
@@ -127,6 +118,7 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     w2, w3 = w1.copy(), w1.copy()
     width, x = np.empty(count), np.empty(count)
     n_act = count
+    ab_start, ab_accept = _passes().ab_start, _passes().ab_accept
     for it in range(max_iter + 1):
         propose = it < max_iter
         n_act = ab_start(active, n_act, lo, hi, flo, fhi, wlo, whi, w3, xtol, _RTOL, propose,
@@ -245,13 +237,13 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
     # (compiled passes, :func:`solvers.scan.passes.root_pick` and ``newton_try``, around
     # the calls of f' and f: the numpy form cost some 30 calls, for every scan)
-    root, zero_end, x, fend = root_pick(br, done, lo, hi, flo, fhi)
+    root, zero_end, x, fend = _passes().root_pick(br, done, lo, hi, flo, fhi)
     at_zero, bracketed = ("zero_at_iterate",), ("anderson_bjorck",)  # (shared tuples)
     how: list[tuple[str, ...]] = [at_zero if z else bracketed for z in zero_end.tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
         # f at x is the bracket end's value the refinement already has (no second call)
-        ok, xn = newton_try(ir, x, fend, gp(x[ir]), lo, hi)
+        ok, xn = _passes().newton_try(ir, x, fend, gp(x[ir]), lo, hi)
         if ok.size:
             better = ok[np.abs(g(xn[ok])) < np.abs(fend[ir[ok]])]
             x[ir[better]] = xn[better]
@@ -402,6 +394,9 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     left = np.zeros(count, dtype=bool)
     lim = limit if limit is not None else fbest
     pos = positive if positive is not None else np.zeros(count, dtype=bool)
+    passes = _passes()
+    golden_floor, golden_move, golden_accept = (passes.golden_floor, passes.golden_move,
+                                                passes.golden_accept)
     for _ in range(120):
         if n_act == 0:
             break

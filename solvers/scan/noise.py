@@ -31,9 +31,8 @@ from collections.abc import Callable
 import numpy as np
 
 from solvers.records import Detail
-from solvers.scan.passes import ramp_clean, ramp_points
 from solvers.scan.records import EPS, Root
-from solvers.scan.sampling import _Guarded
+from solvers.scan.sampling import _Guarded, _passes
 
 __all__ = ["NOISE_POINTS", "noise_level"]
 
@@ -187,7 +186,7 @@ def _ramp_points(x: np.ndarray, scale: float) -> np.ndarray:
     """Per point x (rows): x and 3 steps of about one ulp either side, then x -/+ 64 ulps:
     what :func:`_ramp_clean` judges (one compiled pass,
     :func:`solvers.scan.passes.ramp_points`)."""
-    return ramp_points(np.ascontiguousarray(x, dtype=float), float(scale))
+    return _passes().ramp_points(np.ascontiguousarray(x, dtype=float), float(scale))
 
 
 def _ramp_clean(vals: np.ndarray) -> np.ndarray:
@@ -200,7 +199,7 @@ def _ramp_clean(vals: np.ndarray) -> np.ndarray:
     (:func:`solvers.scan.passes.ramp_clean`): every root of a scan with few roots comes
     through here, and the numpy form cost some 15 calls.
     """
-    return ramp_clean(np.ascontiguousarray(vals, dtype=float), 4 * _NOISE_K)
+    return _passes().ramp_clean(np.ascontiguousarray(vals, dtype=float), 4 * _NOISE_K)
 
 
 def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,

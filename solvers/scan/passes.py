@@ -319,7 +319,7 @@ def ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3
     return k
 
 
-_LADDER = 4.0 ** (-np.arange(11))  # the multiplicity ladder: reach * 4^-j (j = 0..10)
+LADDER = 4.0 ** (-np.arange(11))  # the multiplicity ladder: reach * 4^-j (j = 0..10)
 _ULP_STEPS = np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)  # steps of about one ulp
 _LOG4 = math.log(4.0)
 _TWO_EPS = 2 * EPS
@@ -332,13 +332,13 @@ def ladder_points(x, reach, scale, extra):
     then x - d, for d = reach * 4^-j (j = 0..10), then x + s k (k = -3..3, s = 2 eps
     max(|x|, scale), about one ulp), then the row's ``extra`` points."""
     n = len(x)
-    rungs = len(_LADDER)
+    rungs = len(LADDER)
     near = len(_ULP_STEPS)
     pts = np.empty((n, 2 * rungs + near + extra.shape[1]))
     for i in range(n):
         xi = x[i]
         for j in range(rungs):
-            d = reach[i] * _LADDER[j]
+            d = reach[i] * LADDER[j]
             pts[i, j] = xi + d
             pts[i, rungs + j] = xi - d
         a = abs(xi)
@@ -356,7 +356,7 @@ def ladder_read(vals, logs, odd):
     :func:`ladder_points`; ``logs`` = log|vals|, taken by numpy), as
     ``features._multiplicity`` describes them."""
     n = vals.shape[0]
-    rungs = len(_LADDER)
+    rungs = len(LADDER)
     m_out = np.empty(n, np.int64)
     spread_out = np.empty(n)
     res = np.empty(n)

@@ -9,10 +9,10 @@ import statistics
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from types import ModuleType
 
 import numpy as np
 
-from solvers.scan.passes import detect_pass, underresolved_pass
 from solvers.scan.records import ScanCancelled
 
 DEFAULT_SAMPLES = 2001  # base samples when ``samples`` is None (adaptive refinement on top)
@@ -37,6 +37,22 @@ _POLL = 0.02  # seconds of work between two polls of cancel()
 
 
 _FLOAT = np.dtype(float)
+
+
+_PASSES: ModuleType | None = None
+
+
+def _passes() -> ModuleType:
+    """:mod:`solvers.scan.passes`, imported on the first scan: the compiled loops bring numba
+    (some 0.2-0.4 s to import) into the process, and most processes that import the core
+    (`zerotrace solve`) never scan. The import system's lock makes the first use safe from
+    any thread; later calls return the module."""
+    global _PASSES
+    if _PASSES is None:
+        from solvers.scan import passes
+
+        _PASSES = passes
+    return _PASSES
 
 
 def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
@@ -209,7 +225,7 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         yp = None if yp is None else yp[start:stop]
         lo, hi = lo - start, hi - start
     (brackets, overflow, edges, infs, zeros, flat, peaks, minima, extrema,
-     proved) = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi)
+     proved) = _passes().detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi)
     if yp is not None:
         _detect_extrema(x, y, extrema, proved, out)
     # (whole columns to Python floats at once: per-element numpy indexing costs more than
@@ -276,7 +292,7 @@ def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
     if n < 3 * _WINDOW:
         return np.zeros(0, dtype=int)
     has_yp = yp is not None and x is not None
-    return underresolved_pass(y if x is None else x, y, yp if has_yp else y, has_yp,
+    return _passes().underresolved_pass(y if x is None else x, y, yp if has_yp else y, has_yp,
                               _WINDOW, _MAX_EXTREMA, _TRAPEZOID)
 
 
