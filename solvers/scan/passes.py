@@ -41,19 +41,7 @@ def _sign(v: float) -> float:
 
 
 @kernel
-def _push(buf, n, v):
-    """``buf`` with ``v`` written at ``n``, doubled first when full (candidates are few: a
-    buffer the size of a chunk per kind would hold megabytes for nothing)."""
-    if n == len(buf):
-        grown = np.empty(2 * len(buf), np.int64)
-        grown[:n] = buf
-        buf = grown
-    buf[n] = v
-    return buf
-
-
-@kernel
-def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candidate kind
+def detect_pass(x, y, yp, has_yp, lo, hi, cap):  # noqa: C901 - one pass, every candidate kind
     """Candidate indices of one stretch of samples (see ``sampling._detect``).
 
     Returns (brackets, overflow, edges, inf_points, zeros, flat, peaks, minima, extrema,
@@ -61,11 +49,15 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
     rows (finite index, far index) of sign changes into an overflow; ``edges`` rows (k,
     1 when defined on the left else 0); ``inf_points``, ``zeros`` (rows (k, odd)) and
     ``flat`` centre indices; ``peaks`` and ``minima`` centre indices; ``extrema`` left
-    indices of pairs not proved root-free; ``proved`` how many were.
+    indices of pairs not proved root-free; ``proved`` how many were; ``most`` the largest
+    count of one kind. Each kind is stored up to ``cap`` (buffers the size of the stretch
+    would hold megabytes for a handful of candidates, and buffers grown in the loop slow
+    every iteration down): when ``most`` exceeds ``cap`` the lists are cut short and the
+    caller asks again with ``cap = most``.
     """
     n = len(x)
     last_pair = min(hi, n - 1)
-    extrema = np.empty(16, np.int64)
+    extrema = np.empty(cap, np.int64)
     n_ext = 0
     proved = 0
     if has_yp and last_pair > lo:
@@ -91,18 +83,20 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
             if convex and math.isfinite(bound) and bound > margin:
                 proved += 1
             else:
-                extrema = _push(extrema, n_ext, i)
+                if n_ext < cap:
+                    extrema[n_ext] = i
                 n_ext += 1
-    brackets = np.empty(16, np.int64)
+    brackets = np.empty(cap, np.int64)
     n_br = 0
-    overflow = np.empty(16, np.int64)
+    overflow = np.empty(2 * cap, np.int64)
     n_ov = 0
     for k in range(lo, last_pair):
         yl, yr = y[k], y[k + 1]
         if (math.copysign(1.0, yl) < 0) == (math.copysign(1.0, yr) < 0):
             continue
         if yl != 0 and yr != 0 and math.isfinite(yl) and math.isfinite(yr):
-            brackets = _push(brackets, n_br, k)
+            if n_br < cap:
+                brackets[n_br] = k
             n_br += 1
         elif yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
             if math.isfinite(yl):
@@ -110,40 +104,45 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
             else:
                 fin, far = k + 1, k
             if not math.isnan(y[far]):
-                overflow = _push(overflow, 2 * n_ov, fin)
-                overflow = _push(overflow, 2 * n_ov + 1, far)
+                if n_ov < cap:
+                    overflow[2 * n_ov] = fin
+                    overflow[2 * n_ov + 1] = far
                 n_ov += 1
-    edges = np.empty(16, np.int64)
+    edges = np.empty(2 * cap, np.int64)
     n_ed = 0
-    infs = np.empty(16, np.int64)
+    infs = np.empty(cap, np.int64)
     n_inf = 0
     for k in range(lo, last_pair):
         dk, dk1 = not math.isnan(y[k]), not math.isnan(y[k + 1])
         if dk != dk1:
-            edges = _push(edges, 2 * n_ed, k)
-            edges = _push(edges, 2 * n_ed + 1, 1 if dk else 0)
+            if n_ed < cap:
+                edges[2 * n_ed] = k
+                edges[2 * n_ed + 1] = 1 if dk else 0
             n_ed += 1
-    zeros = np.empty(16, np.int64)
+    zeros = np.empty(2 * cap, np.int64)
     n_z = 0
-    flat = np.empty(16, np.int64)
+    flat = np.empty(cap, np.int64)
     n_fl = 0
     for k in range(max(lo, 1), last_pair):
         if not (math.isfinite(y[k - 1]) and math.isfinite(y[k + 1])):
             continue
         if math.isinf(y[k]):
-            infs = _push(infs, n_inf, k)
+            if n_inf < cap:
+                infs[n_inf] = k
             n_inf += 1
         elif y[k] == 0:
             if y[k - 1] == 0 or y[k + 1] == 0:
-                flat = _push(flat, n_fl, k)
+                if n_fl < cap:
+                    flat[n_fl] = k
                 n_fl += 1
             else:
-                zeros = _push(zeros, 2 * n_z, k)
-                zeros = _push(zeros, 2 * n_z + 1, 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0)
+                if n_z < cap:
+                    zeros[2 * n_z] = k
+                    zeros[2 * n_z + 1] = 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0
                 n_z += 1
-    peaks = np.empty(16, np.int64)
+    peaks = np.empty(cap, np.int64)
     n_pk = 0
-    minima = np.empty(16, np.int64)
+    minima = np.empty(cap, np.int64)
     n_mn = 0
     yp_finite = True
     if has_yp:
@@ -175,7 +174,8 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
                                d2[4] if p + 3 < n else math.inf)
                 kink = (d2[2] > 8 * far) and (d2[2] > 1e-9 * ap)
                 if (ap >= 1.1 * _nan_min(al, ar)) or kink:
-                    peaks = _push(peaks, n_pk, p)
+                    if n_pk < cap:
+                        peaks[n_pk] = p
                     n_pk += 1
         if yp_finite and has_yp:
             continue  # f' finite everywhere: the extrema stand in for every minimum
@@ -203,11 +203,16 @@ def detect_pass(x, y, yp, has_yp, lo, hi):  # noqa: C901 - one pass, every candi
                            and math.isfinite(yp[p + 1])):
                 keep = False
             if keep:
-                minima = _push(minima, n_mn, p)
+                if n_mn < cap:
+                    minima[n_mn] = p
                 n_mn += 1
-    return (brackets[:n_br], overflow[:2 * n_ov].reshape((n_ov, 2)),
-            edges[:2 * n_ed].reshape((n_ed, 2)), infs[:n_inf], zeros[:2 * n_z].reshape((n_z, 2)),
-            flat[:n_fl], peaks[:n_pk], minima[:n_mn], extrema[:n_ext], proved)
+    # counted beyond ``cap`` but not stored: the caller asks again with room for ``most``
+    most = max(n_br, n_ov, n_ed, n_inf, n_z, n_fl, n_pk, n_mn, n_ext)
+    n_ov, n_ed, n_z = min(n_ov, cap), min(n_ed, cap), min(n_z, cap)
+    return (brackets[:min(n_br, cap)], overflow[:2 * n_ov].reshape((n_ov, 2)),
+            edges[:2 * n_ed].reshape((n_ed, 2)), infs[:min(n_inf, cap)],
+            zeros[:2 * n_z].reshape((n_z, 2)), flat[:min(n_fl, cap)], peaks[:min(n_pk, cap)],
+            minima[:min(n_mn, cap)], extrema[:min(n_ext, cap)], proved, most)
 
 
 @kernel

@@ -33,6 +33,9 @@ _RESAMPLE = 8  # refinement factor for an under-resolved window
 _MAX_LEVEL = 2  # at most 64x the base density
 
 
+_CAP = 256  # candidates of each kind one compiled candidate pass stores at first
+
+
 _POLL = 0.02  # seconds of work between two polls of cancel()
 
 
@@ -224,8 +227,12 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         x, y = x[start:stop], y[start:stop]
         yp = None if yp is None else yp[start:stop]
         lo, hi = lo - start, hi - start
-    (brackets, overflow, edges, infs, zeros, flat, peaks, minima, extrema,
-     proved) = _passes().detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi)
+    detect_pass = _passes().detect_pass
+    found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, _CAP)
+    if found[-1] > _CAP:  # (more candidates of one kind than the buffers held: a fast
+        # oscillation; asked again with room for all)
+        found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, found[-1])
+    brackets, overflow, edges, infs, zeros, flat, peaks, minima, extrema, proved, _ = found
     if yp is not None:
         _detect_extrema(x, y, extrema, proved, out)
     # (whole columns to Python floats at once: per-element numpy indexing costs more than
