@@ -19,16 +19,26 @@ plus 16 brentq calls in C, each iterate a scalar call of the compiled f (about 0
 about 0.16 ms in all. The scan refines few brackets (up to 24) the same way, one by one on
 the scalar f (Anderson-Bjorck in plain Python, about 5 evaluations a root, each about
 0.25 us through compile.py's float path: some 55 us for the cantilever's 16 roots, less
-than the baseline's brentq calls), and many brackets in numpy. What it costs beyond the
-baseline is what it checks on purpose. On the cantilever with f' (about 0.45 ms): f and f'
-on the grid (65 us, f' alone twice f), the candidate passes over the grid (touches, close
-pairs, poles, aliasing: about 100 us), the Newton polish and the roots' records (about
-50 us), a multiplicity ladder of 29 evaluations at every root (about 70 us), and the rest
-of finishing the roots, a rounding-noise look and the range ends (about 100 us): each a
-few dozen numpy calls of about 1 us. That work, not f, bounds the ratio (about 2.8x with
-f'); with f alone the Chebyshev proxy adds its fits, the counting that certifies most
-pieces and eigenvalues for the rest (about 4.3x). With many roots (sin(x^2): 287) the scan
-is near the baseline; on the 20 sinusoids the ladder alone evaluates f at 2436 points.
+than the baseline's brentq calls), and many brackets vectorised. What it costs beyond the
+baseline is what it checks on purpose. Its loops over the samples and the brackets (the
+candidate passes, the aliasing check, Anderson-Bjorck's and golden section's bracket
+updates, the multiplicity ladder's points and slopes, the clean-ramp test) are compiled
+(solvers/scan/passes.py): a few us each where they were dozens of numpy calls of about
+1 us. On the cantilever with f' (about 0.3 ms, 0.45 ms before them) what remains is f
+itself (f and f' on the grid, about 60 us; the scalar refinement; the ladder's 29 points a
+root and the noise look's 9), the Python that records the roots, and the glue between the
+steps. With many roots (sin(x^2): 287) the scan is below the baseline; on the 20 sinusoids
+f's own cost dominates (the ladder alone evaluates f at 2436 points, the grid twice with
+f'), so no compiled loop brings that ratio to 1 without evaluating f less, which would
+change results. With f alone the Chebyshev proxy adds its fits (matrix products), the
+counting that certifies most pieces and eigenvalues for the rest (about 3.5x on the
+cantilever).
+
+The compiled loops cost a first compilation once per install (numba's cache, beside the
+module or in the user's cache directory): about 5-7 s the first time a scan runs, then about
+0.6-0.7 s in each new process on its first scan (numba's start: its registries and its
+check for scipy's BLAS), nothing on later scans. They are imported on the first scan, so a
+process that never scans (`zerotrace solve`) does not load numba.
 
 Measured and not kept: a start at the zero of the cubic Hermite interpolant through f and
 f' at a bracket's ends (an error of order h^4), then Newton and secant steps each checked

@@ -278,3 +278,23 @@ def test_the_typical_size_is_the_median_sampled_magnitude(monkeypatch) -> None:
     chunks = [np.abs(f(x[max(s - 1, 0): min(s + 500 + 1, 2001)])) for s in range(0, 2001, 500)]
     medians = [float(np.median(c[np.isfinite(c)])) for c in chunks]
     assert sampling._typical_size(cand) == pytest.approx(float(np.median(medians)), rel=1e-15)
+
+
+# ------------------------------------------- the compiled candidate pass: more than its buffers
+
+def test_a_stretch_with_more_sign_changes_than_the_first_buffers_yields_every_one():
+    # the candidate pass stores up to a fixed number per kind at first and asks again with
+    # room for all: every sign change between neighbouring samples must come back, as
+    # numpy counts them (sign bits of neighbours differ; common practice)
+    from solvers.scan.sampling import _CAP, _Candidates, _detect
+
+    x = np.linspace(0.0, 10.0, 20001)
+    y = np.sin(200.0 * x + 0.1)
+    expected = int(np.count_nonzero(np.signbit(y[:-1]) != np.signbit(y[1:])))
+    assert expected > _CAP  # (the case under test: the first buffers overflow)
+    found = _Candidates()
+    _detect(x, y, 0, len(x), found)
+    flips = np.signbit(y[:-1]) != np.signbit(y[1:])
+    assert len(found.brackets) == expected
+    assert [b[0] for b in found.brackets] == x[:-1][flips].tolist()
+    assert [b[1] for b in found.brackets] == x[1:][flips].tolist()

@@ -119,7 +119,8 @@ The scan records codes and numbers, never sentences: ``Root.confirmed`` holds co
 :data:`~solvers.scan.records.SCAN_DETAIL_CODES`; :mod:`app.documents.words` words them.
 
 Modules: :mod:`~solvers.scan.records` (what a scan returns), :mod:`~solvers.scan.sampling`
-(step 1), :mod:`~solvers.scan.kernels` (steps 2-3 and the searches), :mod:`~solvers.scan.features`
+(step 1), :mod:`~solvers.scan.kernels` (steps 2-3 and the searches), :mod:`~solvers.scan.passes`
+(their loops over samples and brackets, compiled), :mod:`~solvers.scan.features`
 (steps 4-7), :mod:`~solvers.scan.noise` (step 6a), :mod:`~solvers.scan.crosscheck` (step 8a)
 and :mod:`~solvers.scan.driver` (:func:`scan` itself).
 """

@@ -14,7 +14,7 @@ from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
 from solvers.scan.noise import _LOOK_ALL, _at_noise, _noise, _ramp_clean, _ramp_points
 from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
-from solvers.scan.sampling import _Guarded
+from solvers.scan.sampling import _Guarded, _passes
 
 
 def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
@@ -94,52 +94,16 @@ def _multiplicity(
     """
     if len(x) == 0:
         return np.zeros(0, dtype=int), np.zeros(0), np.zeros(0)
-    rungs = _LADDER.shape[1]
-    step = 2 * EPS * np.maximum(np.abs(x), scale)
-    xc, d = x[:, None], reach[:, None] * _LADDER
-    pts = np.concatenate([xc + d, xc - d, xc + step[:, None] * _ULP_STEPS]
-                         + ([] if extra is None else [extra]), axis=1)
+    # (two compiled passes around the one call of f, and numpy's log between them: the
+    # numpy form of the points and of the slopes cost some 40 calls, for every scan)
+    passes = _passes()
+    pts = passes.ladder_points(x, reach, scale, np.zeros((len(x), 0)) if extra is None else extra)
     vals = g(pts.reshape(-1)).reshape(pts.shape)
     if extra is not None:
         extra[...] = vals[:, pts.shape[1] - extra.shape[1]:]
-    near = vals[:, 2 * rungs: 2 * rungs + len(_ULP_STEPS)]
-    vals = np.abs(vals[:, : 2 * rungs])
-    fp, fm = vals[:, :rungs], vals[:, rungs:]
-    # (ufunc reductions and plain indexing below: the numpy wrappers nanmax, take_along_axis
-    # and the like cost several times more per call, and a scan calls this for every root)
-    floor = np.fmax.reduce(np.abs(near), axis=1)  # nanmax, NaN only where all are NaN
-    fin = np.isfinite(vals)
-    valid = (np.minimum(fp, fm) > 1e3 * floor[:, None]) & fin[:, :rungs] & fin[:, rungs:]
-    logs = np.log(vals)
-    logf = 0.5 * (logs[:, :rungs] + logs[:, rungs:])
-    slopes = (logf[:, :-1] - logf[:, 1:]) / math.log(4.0)
-    pair = valid[:, :-1] & valid[:, 1:]
-    # the last four usable slopes of each row (smallest distances above the floor)
-    rank = np.add.accumulate(pair[:, ::-1], axis=1, dtype=int)[:, ::-1]
-    last4 = pair & (rank <= 4)
-    ordered = np.where(last4, slopes, np.inf)
-    ordered.sort(axis=1)
-    total = rank[:, 0]  # the usable pairs of each row, of which the last four are taken
-    count = np.minimum(total, 4)
-    rows = np.arange(len(x))
-    lo_i = np.maximum(count - 1, 0) // 2
-    hi_i = count // 2  # (at most 2: inside the row)
-    with np.errstate(all="ignore"):
-        est = 0.5 * (ordered[rows, lo_i] + ordered[rows, hi_i])
-    est = np.where((count > 0) & np.isfinite(est), est, np.where(odd, 1.0, 2.0))
-    m = np.maximum(1, np.rint(est)).astype(int)
-    wrong = (m % 2 == 1) != odd
-    m = np.where(wrong, np.where((est >= m) | (m == 1), m + 1, m - 1), m)
-    m = np.maximum(m, np.where(odd, 1, 2))
-    with np.errstate(all="ignore"):
-        spread = (np.maximum.reduce(np.where(pair, slopes, -np.inf), axis=1)
-                  - np.minimum.reduce(np.where(pair, slopes, np.inf), axis=1))
-    return m, np.where(total >= 2, spread, 0.0), near[:, 3]
-
-
-# the multiplicity ladder: distances reach * 4^-j (j = 0..10), and steps of about one ulp
-_LADDER = 4.0 ** (-np.arange(11)[None, :])
-_ULP_STEPS = np.array([-3, -2, -1, 0, 1, 2, 3], dtype=float)
+    rungs = 2 * len(passes.LADDER)
+    logs = np.log(np.abs(vals[:, :rungs]))
+    return passes.ladder_read(vals, logs, np.asarray(odd, dtype=bool))
 
 
 def _zero_samples(g: _Guarded, z: np.ndarray, h: float, brackets: list) -> list[_Found]:

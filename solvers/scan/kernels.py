@@ -15,7 +15,7 @@ from solvers.methods import brent
 from solvers.records import Run
 from solvers.scan.noise import _noise_beside
 from solvers.scan.records import EPS, _Found
-from solvers.scan.sampling import _Guarded
+from solvers.scan.sampling import _Guarded, _passes
 
 _ROOT, _POLE, _JUMP, _UNDEF = 1, 2, 3, 4
 
@@ -104,74 +104,43 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     count = len(br)
     if count <= _FEW:
         return _bracket_each(g, br, xtol, max_iter)
-    lo_out, hi_out = br[:, 0].astype(float).copy(), br[:, 1].astype(float).copy()
-    flo_out, fhi_out = br[:, 2].astype(float).copy(), br[:, 3].astype(float).copy()
+    # the iteration's arithmetic in two compiled halves around the one call of f
+    # (:func:`solvers.scan.passes.ab_start`, :func:`~solvers.scan.passes.ab_accept`): the
+    # numpy form cost some 35 calls an iteration; every row is updated in place, and
+    # ``active`` lists the brackets still shrinking, in order (so f sees the same points)
+    out = np.array(br, dtype=float)  # rows lo, hi, f(lo), f(hi) as they end
     done = np.zeros(count, dtype=bool)
-    # working copies of the brackets still shrinking (compressed as brackets finish)
-    idx = np.arange(count)
-    lo, hi, flo, fhi = lo_out.copy(), hi_out.copy(), flo_out.copy(), fhi_out.copy()
+    active = np.arange(count)
+    lo, hi, flo, fhi = (out[:, j].copy() for j in range(4))
     wlo, whi = flo.copy(), fhi.copy()  # false-position weights (scaled f at held ends)
-    prev_lo = np.zeros(count, dtype=np.int8) - 1  # end replaced last: 1 lo, 0 hi, -1 none
+    prev = np.full(count, -1, dtype=np.int8)  # end replaced last: 1 lo, 0 hi, -1 none
     w1 = np.full(count, np.inf)  # bracket widths one, two and three iterations back
     w2, w3 = w1.copy(), w1.copy()
+    width, x = np.empty(count), np.empty(count)
+    n_act = count
+    ab_start, ab_accept = _passes().ab_start, _passes().ab_accept
     for it in range(max_iter + 1):
-        width = hi - lo
-        tol = xtol + _RTOL * np.maximum(np.abs(lo), np.abs(hi))
-        finished = width <= tol
-        if np.count_nonzero(finished):
-            k = idx[finished]
-            done[k] = True
-            lo_out[k], hi_out[k], flo_out[k], fhi_out[k] = (lo[finished], hi[finished],
-                                                            flo[finished], fhi[finished])
-            keep = ~finished
-            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width, tol = (
-                v[keep] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, width,
-                                  tol))
-        if idx.size == 0 or it == max_iter:
+        propose = it < max_iter
+        n_act = ab_start(active, n_act, lo, hi, flo, fhi, wlo, whi, w3, xtol, _RTOL, propose,
+                         done, out, width, x)
+        if n_act == 0 or not propose:
             break
         if it % 4 == 0:
             g.check()
-        # where the chord through the weighted ends meets zero (t in [0, 1] as the weights
-        # have opposite signs; NaN from underflowed weights is caught by fmax below)
-        t = np.where(width > 0.5 * w3, 0.5, wlo / (wlo - whi))
-        half = 0.5 * tol
-        x = np.fmin(np.fmax(lo + t * width, lo + half), hi - half)
-        fx = g(x)
-        w3, w2, w1 = w2, w1, width
-        regular = np.isfinite(fx) & (fx != 0)
-        if np.count_nonzero(regular) < regular.size:
-            zero = fx == 0
-            k = idx[zero]
-            done[k] = True
-            lo_out[k] = hi_out[k] = x[zero]
-            flo_out[k] = fhi_out[k] = 0.0
-            # NaN/inf inside: a pole or a hole, left (not done) for _classify to decide
-            idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x, fx = (
-                v[regular] for v in (idx, lo, hi, flo, fhi, wlo, whi, prev_lo, w1, w2, w3, x,
-                                     fx))
-        on_lo = np.signbit(fx) == np.signbit(flo)  # x replaces lo; hi is held
-        # Anderson–Björck: the end held for the second time running is weighted by
-        # m = 1 - f(x)/f(previous iterate), or 1/2 when m <= 0 (the Illinois factor)
-        m = 1.0 - fx / np.where(on_lo, flo, fhi)
-        m[~(m > 0)] = 0.5
-        m[prev_lo != on_lo] = 1.0
-        # (in place: these arrays are this loop's own, and a masked copy costs less than
-        # building a new array with np.where)
-        on_hi = ~on_lo
-        wlo *= m  # the held end's weight; the moved end's is replaced by f(x) next
-        whi *= m
-        for end, value, moved in ((wlo, fx, on_lo), (whi, fx, on_hi), (lo, x, on_lo),
-                                  (hi, x, on_hi), (flo, fx, on_lo), (fhi, fx, on_hi)):
-            np.copyto(end, value, where=moved)
-        prev_lo = on_lo.view(np.int8)
-    return done, lo_out, hi_out, flo_out, fhi_out
+        fx = g(x[:n_act])
+        n_act = ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3,
+                          width, done, out)
+    return done, out[:, 0].copy(), out[:, 1].copy(), out[:, 2].copy(), out[:, 3].copy()
 
 
-# Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`):
-# an iteration of the vectorised loop costs some 35 numpy calls of about 1 us whatever the
-# bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x, 60 us for a
-# sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to 2.5 us) per
-# bracket; the two break even near 25 brackets for both.
+# Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`).
+# Chosen when an iteration of the vectorised loop cost some 35 numpy calls of about 1 us
+# whatever the bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x,
+# 60 us for a sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to
+# 2.5 us) per bracket: the two broke even near 25 brackets. The vectorised iteration is now
+# two compiled passes (a few us), which moves the break-even lower; the bound stays, as
+# moving it would change results: the scalar f (math) and the vectorised f (numpy) may
+# differ in the last bit, and so may the roots refined on them.
 _FEW = 24
 
 
@@ -266,25 +235,17 @@ def _resolve_brackets(g: _Guarded, gp: _Guarded | None, br: np.ndarray, xtol: fl
     partly undefined.
     """
     done, lo, hi, flo, fhi = _bracket_all(g, br, xtol)
-    g0 = np.maximum(np.abs(br[:, 2]), np.abs(br[:, 3]))
-    root = done & (np.maximum(np.abs(flo), np.abs(fhi)) <= 1e-6 * g0)
-    nearer = np.abs(flo) <= np.abs(fhi)
-    x = np.where(nearer, lo, hi)
+    # (compiled passes, :func:`solvers.scan.passes.root_pick` and ``newton_try``, around
+    # the calls of f' and f: the numpy form cost some 30 calls, for every scan)
+    root, zero_end, x, fend = _passes().root_pick(br, done, lo, hi, flo, fhi)
     at_zero, bracketed = ("zero_at_iterate",), ("anderson_bjorck",)  # (shared tuples)
-    how: list[tuple[str, ...]] = [at_zero if z else bracketed
-                                  for z in (root & (lo == hi)).tolist()]
+    how: list[tuple[str, ...]] = [at_zero if z else bracketed for z in zero_end.tolist()]
     if gp is not None and root.any():
         ir = np.flatnonzero(root & (lo != hi))
-        xr = x[ir]
         # f at x is the bracket end's value the refinement already has (no second call)
-        fx, dfx = np.where(nearer, flo, fhi)[ir], gp(xr)
-        with np.errstate(all="ignore"):
-            xn = xr - fx / dfx
-        ok = np.isfinite(dfx) & (dfx != 0) & np.isfinite(fx) & (fx != 0)
-        ok &= (lo[ir] <= xn) & (xn <= hi[ir])
-        if ok.any():
-            better = np.zeros(len(ir), dtype=bool)
-            better[ok] = np.abs(g(xn[ok])) < np.abs(fx[ok])
+        ok, xn = _passes().newton_try(ir, x, fend, gp(x[ir]), lo, hi)
+        if ok.size:
+            better = ok[np.abs(g(xn[ok])) < np.abs(fend[ir[ok]])]
             x[ir[better]] = xn[better]
             for i in ir[better].tolist():
                 how[i] = how[i] + ("newton_polish",)
@@ -417,56 +378,43 @@ def _golden(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray, xtol:
     active = ~crossed & np.isfinite(fbest)
     if ends is not None:
         flo, fhi = ends[0].astype(float).copy(), ends[1].astype(float).copy()
+    # each step in compiled passes around its calls of f (:func:`solvers.scan.passes.
+    # golden_floor`, ``golden_move``, ``golden_accept``): the numpy form cost some 40 calls
+    # a step. ``act`` lists the rows still searching, in order (f sees the same points)
+    sign = np.asarray(sign, dtype=float)
+    count = len(lo)
+    act = np.flatnonzero(active)
+    n_act = act.size
+    act = np.concatenate([act, np.zeros(count - n_act, dtype=act.dtype)])
+    has_floor = ends is not None and positive is not None
+    if ends is None:
+        flo = fhi = np.empty(count)  # (unused: no ends to keep up to date)
+    sure = np.zeros(count, dtype=bool)
+    xs, middle, newx = np.empty(count), np.empty(count), np.empty(count)
+    left = np.zeros(count, dtype=bool)
+    lim = limit if limit is not None else fbest
+    pos = positive if positive is not None else np.zeros(count, dtype=bool)
+    passes = _passes()
+    golden_floor, golden_move, golden_accept = (passes.golden_floor, passes.golden_move,
+                                                passes.golden_accept)
     for _ in range(120):
-        act = np.nonzero(active)[0]
-        if len(act) == 0:
+        if n_act == 0:
             break
         g.check()
-        if ends is not None and positive is not None:
-            floor, xs, middle = _convex_floor(lo[act], c[act], d[act], hi[act], flo[act],
-                                              fc[act], fd[act], fhi[act], where=True)
-            if limit is None:
-                sure = floor > 0.5 * fbest[act]
-            else:
-                sure = floor > limit[act]
-                if sure.any():
-                    # the probe at x*: -|f| there strictly above the chords' value (the
-                    # objective is -|f|), as it is for a concave |f| and never beside a pole
-                    probe = np.flatnonzero(sure)
-                    sure[probe] = objective(xs[probe], sign[act[probe]]) > middle[probe]
-            if sure.any():
-                positive[act[sure]] = True
-                active[act[sure]] = False
-                act = act[~sure]
-                if act.size == 0:
-                    break
-        left = fc[act] <= fd[act]  # minimum in [lo, d]
-        il, ir = act[left], act[~left]
-        if ends is not None:
-            fhi[il], flo[ir] = fd[il], fc[ir]
-        hi[il], d[il], fd[il] = d[il], c[il], fc[il]
-        c[il] = hi[il] - r * (hi[il] - lo[il])
-        lo[ir], c[ir], fc[ir] = c[ir], d[ir], fd[ir]
-        d[ir] = lo[ir] + r * (hi[ir] - lo[ir])
-        newx = np.empty(len(act))
-        newx[left] = c[il]
-        newx[~left] = d[ir]
-        fn = objective(newx, sign[act])
-        fc[il] = fn[left]
-        fd[ir] = fn[~left]
-        better = fn < fbest[act]
-        xbest[act[better]] = newx[better]
-        fbest[act[better]] = fn[better]
-        if not peak:
-            crossed[act] |= fn < 0
-        width = hi[act] - lo[act]
-        stop = (
-            crossed[act]
-            | ~np.isfinite(fn)
-            | ~np.isfinite(fbest[act])
-            | (width <= rel * np.maximum(np.abs(lo[act]), np.abs(hi[act])) + xtol)
-        )
-        active[act[stop]] = False
+        sure[:n_act] = False
+        if has_floor:
+            if golden_floor(act, n_act, lo, c, d, hi, flo, fc, fd, fhi, fbest, lim,
+                            limit is not None, sure, xs, middle) and limit is not None:
+                # the probe at x*: -|f| there strictly above the chords' value (the
+                # objective is -|f|), as it is for a concave |f| and never beside a pole
+                probe = np.flatnonzero(sure[:n_act])
+                sure[probe] = objective(xs[probe], sign[act[probe]]) > middle[probe]
+        n_act = golden_move(act, n_act, sure, pos, active, ends is not None, lo, hi, c, d,
+                            fc, fd, flo, fhi, r, left, newx)
+        if n_act == 0:
+            break
+        n_act = golden_accept(act, n_act, left, newx, g(newx[:n_act]), peak, sign, lo, hi,
+                              fc, fd, xbest, fbest, crossed, active, rel, xtol)
     return xbest, sign * fbest, crossed
 
 

@@ -32,7 +32,7 @@ import numpy as np
 
 from solvers.records import Detail
 from solvers.scan.records import EPS, Root
-from solvers.scan.sampling import _Guarded
+from solvers.scan.sampling import _Guarded, _passes
 
 __all__ = ["NOISE_POINTS", "noise_level"]
 
@@ -184,11 +184,9 @@ def _noise_beside(g: _Guarded, x: np.ndarray, scale: float) -> np.ndarray:
 
 def _ramp_points(x: np.ndarray, scale: float) -> np.ndarray:
     """Per point x (rows): x and 3 steps of about one ulp either side, then x -/+ 64 ulps:
-    what :func:`_ramp_clean` judges."""
-    size = np.maximum(np.abs(x), 1e-3 * scale)
-    d0, step = 64 * EPS * size, 2 * EPS * size
-    return np.concatenate([x[:, None] + step[:, None] * _ULPS[None, :], (x - d0)[:, None],
-                           (x + d0)[:, None]], axis=1)
+    what :func:`_ramp_clean` judges (one compiled pass,
+    :func:`solvers.scan.passes.ramp_points`)."""
+    return _passes().ramp_points(np.ascontiguousarray(x, dtype=float), float(scale))
 
 
 def _ramp_clean(vals: np.ndarray) -> np.ndarray:
@@ -197,18 +195,11 @@ def _ramp_clean(vals: np.ndarray) -> np.ndarray:
     A clean point: f a ramp over a few ulps (first differences of one sign), whose noise
     there (the second differences of 7 values, sigma^2 ~ mean(d2^2) / 6) is so small that
     |f| at 64 ulps stands 4x beyond the 8 standard deviations of the noise-band test: not
-    noisy, and no noise estimate (36 evaluations per point) is needed.
+    noisy, and no noise estimate (36 evaluations per point) is needed. One compiled pass
+    (:func:`solvers.scan.passes.ramp_clean`): every root of a scan with few roots comes
+    through here, and the numpy form cost some 15 calls.
     """
-    # (slices and ufunc reductions: np.diff, np.mean and the like cost several times more
-    # per call, and every root of a scan with few roots comes through here)
-    ramp = vals[:, : len(_ULPS)]
-    d1 = ramp[:, 1:] - ramp[:, :-1]
-    d2 = d1[:, 1:] - d1[:, :-1]
-    up = np.logical_and.reduce(d1 > 0, axis=1)
-    down = np.logical_and.reduce(d1 < 0, axis=1)
-    near = np.abs(vals[:, len(_ULPS):])
-    spread = np.sqrt(np.add.reduce(d2 * d2, axis=1) / (d2.shape[1] * 6))
-    return (up | down) & (np.minimum.reduce(near, axis=1) > 4 * _NOISE_K * spread)
+    return _passes().ramp_clean(np.ascontiguousarray(vals, dtype=float), 4 * _NOISE_K)
 
 
 def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,

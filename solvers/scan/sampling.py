@@ -9,10 +9,11 @@ import statistics
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from types import ModuleType
 
 import numpy as np
 
-from solvers.scan.records import EPS, ScanCancelled
+from solvers.scan.records import ScanCancelled
 
 DEFAULT_SAMPLES = 2001  # base samples when ``samples`` is None (adaptive refinement on top)
 
@@ -32,13 +33,29 @@ _RESAMPLE = 8  # refinement factor for an under-resolved window
 _MAX_LEVEL = 2  # at most 64x the base density
 
 
+_CAP = 256  # candidates of each kind one compiled candidate pass stores at first
+
+
 _POLL = 0.02  # seconds of work between two polls of cancel()
 
 
 _FLOAT = np.dtype(float)
 
 
-_SEVEN = np.arange(-3, 4)  # a sample and three either side (the peak test's block)
+_PASSES: ModuleType | None = None
+
+
+def _passes() -> ModuleType:
+    """:mod:`solvers.scan.passes`, imported on the first scan: the compiled loops bring numba
+    (some 0.2-0.4 s to import) into the process, and most processes that import the core
+    (`zerotrace solve`) never scan. The import system's lock makes the first use safe from
+    any thread; later calls return the module."""
+    global _PASSES
+    if _PASSES is None:
+        from solvers.scan import passes
+
+        _PASSES = passes
+    return _PASSES
 
 
 def _as_real(y: object, shape: tuple[int, ...]) -> np.ndarray:
@@ -181,9 +198,27 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
     """Append candidates whose anchor index i lies in [lo, hi) of the arrays x, y.
 
     Sign changes and edges are anchored at the left sample of the pair (i, i+1);
-    zeros and minima at the centre sample i (which needs i-1 and i+1 to exist).
-    Written as a few full passes over the chunk that select a handful of indices,
-    then exact tests on those few (most samples are nothing).
+    zeros and minima at the centre sample i (which needs i-1 and i+1 to exist). One
+    compiled pass (:func:`solvers.scan.passes.detect_pass`) selects the indices of the
+    few candidates (most samples are nothing); their records are built here:
+
+    - sign changes: the sign bit flips between neighbours, both values finite and
+      nonzero (signs compared, not multiplied: a product of two tiny values underflows
+      to 0); a flip from a finite value into an overflow to +-inf (x^2 far out, exp past
+      709.78) is kept apart, as the root may lie between the last finite value and it;
+    - edges between defined and undefined (NaN) samples; infinite samples between
+      finite ones; exact zeros (runs of them are ``flat``);
+    - sharp local maxima of |f| (a pole without a sign change, 1/(x-c)^2, ln|x-c|): one
+      sign at the peak and both neighbours, and at least 10 % above the lower neighbour,
+      where a resolved smooth peak is within a fraction of 1 %, or a kink: the second
+      difference at the peak 8x one of those two samples away (a pole riding on a large
+      offset, 1/(x - c) - 1e6, bumps |f| by far less than 10 %; a smooth peak's second
+      differences vary slowly);
+    - local minima of |f| of one sign whose parabola through the three samples dips at
+      least 10 % toward zero, or comes within its own curvature scale of zero (a
+      near-double pair whose sample sits almost on the dip looks like a touch that
+      narrowly misses); with f' sampled, the extrema between samples
+      (:func:`_detect_extrema`) stand in for them wherever f' is finite at all three.
     """
     # only [lo, hi) and 4 samples either side are read (the kink test reaches 3 away):
     # between resampled windows a chunk is visited piece by piece, not whole each time
@@ -192,210 +227,83 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         x, y = x[start:stop], y[start:stop]
         yp = None if yp is None else yp[start:stop]
         lo, hi = lo - start, hi - start
-    n = len(x)
+    detect_pass = _passes().detect_pass
+    found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, _CAP)
+    if found[-1] > _CAP:  # (more candidates of one kind than the buffers held: a fast
+        # oscillation; asked again with room for all)
+        found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, found[-1])
+    brackets, overflow, edges, infs, zeros, flat, peaks, minima, extrema, proved, _ = found
     if yp is not None:
-        _detect_extrema(x, y, yp, lo, hi, out)
-    allfin = bool(np.isfinite(y).all())
-    last_pair = min(hi, n - 1)
-    # sign changes: the sign bit flips between neighbours (zeros and non-finite filtered next)
-    neg = np.signbit(y)
-    flips = (neg[:-1] != neg[1:]).nonzero()[0]
-    flips = flips[(flips >= lo) & (flips < last_pair)]
-    if flips.size:
-        # signs compared, not multiplied: a product of two tiny values underflows to 0
-        yl, yr = y[flips], y[flips + 1]
-        plain = (yl != 0) & (yr != 0) & np.isfinite(yl) & np.isfinite(yr)
-        k = flips[plain]
-        # (whole columns to Python floats at once: per-element numpy indexing costs more
-        # than the brackets' records when a fast oscillation gives hundreds)
-        out.brackets.extend(zip(x[k].tolist(), x[k + 1].tolist(), y[k].tolist(),
-                                y[k + 1].tolist(), strict=True))
-        flips = flips[~plain]
-    for k in flips:
-        yl, yr = y[k], y[k + 1]
-        if yl != 0 and yr != 0 and math.isinf(yl) != math.isinf(yr):
-            # f overflows on one side (x^2 far out, exp past 709.78): the root may lie
-            # between the last finite value and the overflow
-            fin, far = (k, k + 1) if math.isfinite(yl) else (k + 1, k)
-            if not math.isnan(y[far]):
-                out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
-    if not allfin:
-        dfn = ~np.isnan(y)  # defined (inf counts: a pole sits in the defined part)
-        for k in np.flatnonzero(dfn[:-1] != dfn[1:]):
-            if lo <= k < last_pair:
-                if dfn[k]:
-                    out.edges.append((float(x[k + 1]), float(x[k]), -1))  # defined on the left
-                else:
-                    out.edges.append((float(x[k]), float(x[k + 1]), +1))  # defined on the right
-        for k in np.flatnonzero(np.isinf(y)):
-            if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
-                out.inf_points.append(float(x[k]))
-    zero_idx = (y == 0).nonzero()[0]
-    for k in zero_idx:
-        if max(lo, 1) <= k < last_pair and math.isfinite(y[k - 1]) and math.isfinite(y[k + 1]):
-            if y[k - 1] == 0 or y[k + 1] == 0:
-                out.flat.append((float(x[k - 1]), float(x[k + 1])))
-            else:
-                out.zeros.append((float(x[k]), 1 if (y[k - 1] < 0) != (y[k + 1] < 0) else 0,
-                                  float(x[k - 1]), float(x[k + 1]), float(y[k - 1]),
-                                  float(y[k + 1])))
-    # local minima of |f| away from sign changes: |f| stops falling and starts rising
-    if n < 3:
-        return
-    da = np.abs(y)
-    da = da[1:] - da[:-1]
-    # sharp local maxima of |f| (a pole without a sign change, 1/(x-c)^2, ln|x-c|): at least
-    # 10 % above the lower neighbour, where a resolved smooth peak is within a fraction of 1 %
-    p = ((da[:-1] >= 0) & (da[1:] <= 0)).nonzero()[0] + 1
-    p = p[(p >= max(lo, 1)) & (p < last_pair)]
-    if p.size:
-        # the seven samples around each peak in one gather (indices clipped at the ends;
-        # the kink test below ignores what the clipping put there): a few passes over a
-        # small block instead of a pass per neighbour
-        blk = y[np.minimum(np.maximum(p[:, None] + _SEVEN, 0), n - 1)]
-        ab = np.abs(blk)
-        ap, al, ar = ab[:, 3], ab[:, 2], ab[:, 4]
-        sb = np.signbit(blk[:, 2:5])
-        # finite, nonzero, and one sign at the peak and both neighbours
-        mid3 = ab[:, 2:5]
-        sharp = (np.logical_and.reduce(np.isfinite(mid3) & (mid3 > 0), axis=1)
-                 & (sb[:, 0] == sb[:, 1]) & (sb[:, 1] == sb[:, 2]))
-        # ... or a kink: the second difference at the peak 8x one of those two samples away
-        # (a pole riding on a large offset, 1/(x - c) - 1e6, bumps |f| by far less
-        # than 10 %; a smooth peak's second differences vary slowly)
-        d2 = np.abs(blk[:, :-2] - 2 * blk[:, 1:-1] + blk[:, 2:])  # centred at -2 .. 2
-        far = np.minimum(np.where(p >= 3, d2[:, 0], np.inf), np.where(p + 3 < n, d2[:, 4],
-                                                                       np.inf))
-        kink = (d2[:, 2] > 8 * far) & (d2[:, 2] > 1e-9 * ap)
-        sharp &= (ap >= 1.1 * np.minimum(al, ar)) | kink
-        kk = p[sharp]
-        out.peaks.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
+        _detect_extrema(x, y, extrema, proved, out)
+    # (whole columns to Python floats at once: per-element numpy indexing costs more than
+    # the records when a fast oscillation gives hundreds)
+    if brackets.size:
+        out.brackets.extend(zip(x[brackets].tolist(), x[brackets + 1].tolist(),
+                                y[brackets].tolist(), y[brackets + 1].tolist(), strict=True))
+    for fin, far in overflow.tolist():
+        out.overflow.append((float(x[fin]), float(x[far]), float(y[fin])))
+    for k, left in edges.tolist():
+        if left:
+            out.edges.append((float(x[k + 1]), float(x[k]), -1))  # defined on the left
+        else:
+            out.edges.append((float(x[k]), float(x[k + 1]), +1))  # defined on the right
+    out.inf_points.extend(x[infs].tolist())
+    for k in flat.tolist():
+        out.flat.append((float(x[k - 1]), float(x[k + 1])))
+    for k, odd in zeros.tolist():
+        out.zeros.append((float(x[k]), odd, float(x[k - 1]), float(x[k + 1]),
+                          float(y[k - 1]), float(y[k + 1])))
+    if peaks.size:
+        out.peaks.extend(zip(x[peaks - 1].tolist(), x[peaks].tolist(), x[peaks + 1].tolist(),
                              strict=True))
-    if yp is not None and np.isfinite(yp).all():
-        return  # f' finite everywhere: every minimum below would be dropped (end of function)
-    k = ((da[:-1] <= 0) & (da[1:] >= 0)).nonzero()[0] + 1
-    k = k[(k >= max(lo, 1)) & (k < last_pair)]
-    if k.size == 0:
-        return
-    yc, yl, yr = y[k], y[k - 1], y[k + 1]
-    ac, al, ar = np.abs(yc), np.abs(yl), np.abs(yr)
-    ok = np.isfinite(yc) & np.isfinite(yl) & np.isfinite(yr) & (yc != 0)
-    sc = np.sign(yc)
-    ok &= (sc == np.sign(yl)) & (sc == np.sign(yr)) & ((ac < al) | (ac < ar))
-    k = k[ok]
-    if k.size == 0:
-        return
-    # parabola through the three samples: keep if it dips at least 10% toward zero ...
-    h1, h2 = x[k] - x[k - 1], x[k + 1] - x[k]
-    sgn = np.sign(y[k])
-    d1 = (sgn * y[k] - sgn * y[k - 1]) / h1
-    d2 = (sgn * y[k + 1] - sgn * y[k]) / h2
-    curv = (d2 - d1) / (0.5 * (h1 + h2))
-    slope = 0.5 * (d1 + d2)
-    with np.errstate(all="ignore"):
-        vertex = sgn * y[k] - np.where(curv > 0, slope**2 / (2 * curv), np.inf)
-    # ... or comes within its own curvature scale of zero (a near-double pair whose
-    # sample sits almost on the dip looks like a touch that narrowly misses)
-    keep = (vertex <= 0.9 * sgn * y[k]) | (vertex <= curv * h1 * h2)
-    if yp is not None:
-        # with f' sampled, the extrema between samples (:func:`_detect_extrema`) stand in for
-        # these minima wherever f' is finite at all three samples
-        keep &= ~(np.isfinite(yp[k - 1]) & np.isfinite(yp[k]) & np.isfinite(yp[k + 1]))
-    kk = k[keep]
-    out.minima.extend(zip(x[kk - 1].tolist(), x[kk].tolist(), x[kk + 1].tolist(),
-                          y[kk - 1].tolist(), y[kk].tolist(), y[kk + 1].tolist(), strict=True))
+    if minima.size:
+        out.minima.extend(zip(x[minima - 1].tolist(), x[minima].tolist(),
+                              x[minima + 1].tolist(), y[minima - 1].tolist(),
+                              y[minima].tolist(), y[minima + 1].tolist(), strict=True))
 
 
-def _detect_extrema(x: np.ndarray, y: np.ndarray, yp: np.ndarray, lo: int, hi: int,
+def _detect_extrema(x: np.ndarray, y: np.ndarray, i: np.ndarray, proved: int,
                     out: _Candidates) -> None:
-    """Extrema of f between neighbouring samples (anchored at the left one, in [lo, hi)).
+    """Extrema of f between neighbouring samples: the pairs (i, i+1) ``detect_pass`` kept.
 
     Two roots hidden between samples i and i+1 (f of one sign at both) need an extremum
     of f between them, where f' changes sign, moving toward zero: s f'_i < 0 < s f'_(i+1)
     with s the sign of f. Where f' is monotone between the samples (checked: the secant
     slope lies between f'_i and f'_(i+1), as the mean value theorem then demands), s f is
     convex there and lies above both tangent lines, so it cannot fall below the value
-    where they meet: above zero means no root, proved. Every other such pair is a
-    candidate for the touch search (appended to ``out.extrema``).
+    where they meet: above zero means no root, proved (``proved`` counts those). Every
+    other such pair is a candidate for the touch search (appended to ``out.extrema``).
     """
-    n = len(x)
-    last_pair = min(hi, n - 1)
-    if last_pair <= lo:
-        return
-    y0, y1, d0, d1 = (y[lo:last_pair], y[lo + 1:last_pair + 1], yp[lo:last_pair],
-                      yp[lo + 1:last_pair + 1])
-    # (one pass per quantity over the samples, sliced for the pairs: where both samples of
-    # a pair have one sign, s f' at the right one is the same whichever sample's s is used)
-    neg = np.signbit(y[lo:last_pair + 1])
-    sgn = np.where(neg, -1.0, 1.0)
-    sd = sgn * yp[lo:last_pair + 1]
-    nz = y[lo:last_pair + 1] != 0
-    k = ((neg[:-1] == neg[1:]) & nz[:-1] & nz[1:] & (sd[:-1] < 0) & (sd[1:] > 0)).nonzero()[0]
-    s = sgn[:-1]
-    if k.size == 0:
-        return
-    x0, x1 = x[lo:last_pair][k], x[lo + 1:last_pair + 1][k]
-    s = s[k]
-    u0, u1, p0, p1 = s * y0[k], s * y1[k], s * d0[k], s * d1[k]  # u > 0, p0 < 0 < p1
-    h = x1 - x0
-    with np.errstate(all="ignore"):
-        secant = (u1 - u0) / h
-        # tangent lines u0 + p0 (t - x0) and u1 + p1 (t - x1) meet at t*
-        t = (u1 - u0 - p1 * h) / (p0 - p1)  # distance of t* from x0 (in [0, h] when convex)
-        bound = u0 + p0 * t
-    slack = 64 * EPS * (np.abs(p0) + np.abs(p1))
-    convex = (secant >= p0 - slack) & (secant <= p1 + slack)
-    margin = 1e3 * EPS * np.maximum(u0, u1)  # rounding of the values themselves
-    safe = convex & np.isfinite(bound) & (bound > margin)
-    out.proved += int(safe.sum())
-    i = np.flatnonzero(~safe)
-    left, right = x0[i].tolist(), (s[i] * u0[i]).tolist()
-    out.extrema.extend(zip(left, left, x1[i].tolist(), right, right, (s[i] * u1[i]).tolist(),
-                           strict=True))
+    out.proved += int(proved)
+    if i.size:
+        left, right = x[i].tolist(), y[i].tolist()
+        out.extrema.extend(zip(left, left, x[i + 1].tolist(), right, right,
+                               y[i + 1].tolist(), strict=True))
 
 
 def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
                    yp: np.ndarray | None = None) -> np.ndarray:
     """Indices of windows (of _WINDOW samples) where f has too many extrema, or (with f'
-    sampled too) where f' contradicts the differences of f (:func:`_inconsistent`)."""
-    n = len(y)
-    if n < 3 * _WINDOW:
-        return np.zeros(0, dtype=int)
-    # (slices and ufuncs, not np.diff and friends: this runs on every chunk, and their
-    # wrappers cost as much as the arithmetic on a 2001-sample grid)
-    d = np.signbit(y[1:] - y[:-1])
-    turn = d[1:] != d[:-1]
-    nwin = (len(turn)) // _WINDOW
-    counts = np.add.reduce(turn[: nwin * _WINDOW].reshape(nwin, _WINDOW), axis=1, dtype=int)
-    bad = (counts > _MAX_EXTREMA).nonzero()[0]
-    if yp is not None and x is not None:
-        # (the last, partial window too: pair i lies in window i // _WINDOW)
-        pairs = _inconsistent(x, y, yp).nonzero()[0] // _WINDOW
-        if pairs.size:
-            bad = np.union1d(bad, pairs)
-    return bad
-
-
-_TRAPEZOID = 0.5  # f' may disagree with f's differences by this fraction before a resample
-
-
-def _inconsistent(x: np.ndarray, y: np.ndarray, yp: np.ndarray) -> np.ndarray:
-    """Per sample pair (i, i+1): f' contradicts f's difference (aliasing).
+    sampled too) where f' contradicts the differences of f, for some pair of samples
+    (i, i+1) in the window (the last, partial window too).
 
     The trapezoid rule on f', h (f'_i + f'_(i+1)) / 2, predicts f_(i+1) - f_i to a relative
     (h omega)^2 / 12 for an oscillation of angular frequency omega (0.05 at 8 samples per
     period). An error above half of the change's own scale, |f_(i+1) - f_i| + h (|f'_i| +
     |f'_(i+1)|) / 2, plus 1e3 eps of |f| for rounding, means f changes faster than the
     sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
-    non-finite value are left to the other checks.
+    non-finite value are left to the other checks. One compiled pass
+    (:func:`solvers.scan.passes.underresolved_pass`).
     """
-    half = 0.5 * (x[1:] - x[:-1])
-    dy = y[1:] - y[:-1]
-    avg = half * (yp[:-1] + yp[1:])
-    ap, ay = np.abs(yp), np.abs(y)
-    scale_ = np.abs(dy) + half * (ap[:-1] + ap[1:])
-    allow = _TRAPEZOID * scale_ + 1e3 * EPS * (ay[:-1] + ay[1:])
-    return np.abs(dy - avg) > allow  # NaN compares False
+    n = len(y)
+    if n < 3 * _WINDOW:
+        return np.zeros(0, dtype=int)
+    has_yp = yp is not None and x is not None
+    return _passes().underresolved_pass(y if x is None else x, y, yp if has_yp else y, has_yp,
+                              _WINDOW, _MAX_EXTREMA, _TRAPEZOID)
+
+
+_TRAPEZOID = 0.5  # f' may disagree with f's differences by this fraction before a resample
 
 
 def _sample_grid(
