@@ -16,6 +16,8 @@ from typing import Any
 
 import numpy as np
 
+from solvers.batch.kernels import PROBE, RERUN, ZERO, brent_pass, brent_settle
+from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
     F_TOL,
@@ -241,61 +243,6 @@ def illinois(w: Work, s: dict[str, Any]) -> None:
     _regula_falsi(w, s, illinois_rule=True)
 
 
-_SAFE = 2.0**300  # f values within [2**-300, 2**300]: the interpolation cannot overflow
-
-
-def _interpolation_step(xa, fa, xb, fb, xc, fc, dead, afa, afb, afc) -> np.ndarray:
-    """Element-wise :func:`solvers.methods.brent._interpolation_step` (not finite: bisect).
-
-    The step is homogeneous of degree 0 in f, and scaling by a power of two is exact, so
-    the scalar method's scaling changes nothing where the values are far from under- and
-    overflow: it is applied only when some row's values are not (``dead`` rows, a lazy
-    work's finished ones, left out of that question). Brent keeps |fb| <= |fc|, so the
-    largest |f| of a row is that of a or c (``afa``, ``afb``, ``afc``: the |f| the caller
-    keeps, read only). Every value is the scalar's, bit for bit (written in place to
-    spare the temporaries; signs moved only where that is exact, below); the secant is
-    computed only when some row has a == c, the quadratic only when some row has not.
-    """
-    big = np.maximum(afa, afc)
-    if not (big.max() < _SAFE and big.min() > 1.0 / _SAFE):
-        out = ~((big < _SAFE) & (big > 1.0 / _SAFE))
-        if dead is not None:
-            out &= ~dead
-        if out.any():
-            exponent = np.frexp(np.maximum(big, afb))[1]
-            fa, fb, fc = (np.ldexp(v, -exponent) for v in (fa, fb, fc))
-    # The scalar's -fb*(...) written as fb*(...) with the differences the other way
-    # round: x - y is -(y - x) and (-u)*v is -(u*v) exactly in binary floating point,
-    # so every value is the scalar's, bit for bit, with one operation fewer.
-    two_point = np.equal(xa, xc)
-    some_two = two_point.any()
-    back = np.subtract(xa, xb)
-    secant = None
-    if some_two:
-        # secant: -fb*(xb - xa)/(fb - fa) (NaN or inf where fb == fa)
-        secant = np.multiply(fb, back)
-        secant /= np.subtract(fb, fa, out=big)
-        if two_point.all():
-            return secant
-    slope_a = np.subtract(fa, fb)
-    slope_a /= back
-    slope_c = np.subtract(fc, fb)
-    slope_c /= np.subtract(xc, xb, out=big)
-    # quadratic: -fb*(fc*slope_c - fa*slope_a)/(slope_c*slope_a*(fc - fa))
-    denominator = np.multiply(slope_c, slope_a)
-    denominator *= np.subtract(fc, fa, out=big)
-    quadratic = np.multiply(fa, slope_a, out=slope_a)
-    quadratic -= np.multiply(fc, slope_c, out=slope_c)
-    quadratic *= fb
-    quadratic /= denominator
-    if some_two:  # (np.where: a masked copyto is slower on a mask of scattered rows)
-        quadratic = np.where(two_point, secant, quadratic)
-    # A zero or overflowing denominator gives a step that is not finite: the scalar
-    # method bisects there, and so does the caller, since a step that is not finite
-    # never passes its test 2|step| < min(|e|, 3|m| - half_tol).
-    return quadratic
-
-
 def _verdicts(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
     """The closed-bracket verdicts of the rows ``idx`` (the other arguments theirs)."""
     first = x1 < x2
@@ -306,130 +253,81 @@ def _verdicts(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
 def brent(w: Work, s: dict[str, Any]) -> None:
     """Brent's method on every row's bracket (the scalar :func:`solvers.brent`'s steps).
 
-    Lazy (:meth:`Work.lazy`): finished rows ride along until they are a quarter of the
-    arrays. Each iteration asks with a few operations on every row which rows closed
-    their bracket or met a new point that stops them (not finite, 0.0, ``ftol``); the
-    verdicts and probes run on those rows only.
+    Each iteration is one compiled pass over the rows (:func:`brent_pass`: the new
+    point's stop tests and contrapoint, the better end, the closed-bracket test, the
+    interpolation or bisection step) and f evaluated, vectorised, at every row's new
+    point. Rows the pass flags are resolved by :func:`brent_settle` without calls of f,
+    or, where the rules need probes of f (beside an exact 0.0, around a closed bracket),
+    by the numpy rules on those rows only. Lazy (:meth:`Work.lazy`): finished rows ride
+    along until they are a quarter of the arrays.
     """
     xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     start_brackets(w, s)
     if not w.size:
         return
+    # b: the best point so far; a: the previous b; c: the contrapoint; d: the step just
+    # taken, e: the one before it (the scalar method's names); every array the pass's own
     w.xa, w.xb, w.xc = w.a.copy(), w.b.copy(), w.a.copy()
-    w.fb, w.fc = w.fb.copy(), w.fa.copy()
-    # |f| at a, b and c, kept beside the values: the new b's |f| is computed for the
-    # stop tests anyway, and a, c take theirs over from b and a
-    w.afa, w.afb, w.afc = np.abs(w.fa), np.abs(w.fb), np.abs(w.fc)
+    w.fa, w.fb, w.fc = w.fa.copy(), w.fb.copy(), w.fa.copy()
     del w.a, w.b
     w.d = w.xb - w.xa
     w.e = w.d.copy()
     w.bisected = np.zeros(w.size, dtype=bool)
+    w.status = np.full(w.size, -1, dtype=np.int8)
     w.lazy()
-    while w.size:
+    # the bracket as given and f there, per chunk row (the closed-bracket verdicts), and
+    # where the rows' results go
+    out = w.out
+    fixed = (*(w._kept[name] for name in ("a0", "fa0", "b0", "fb0")), out.code, out.root,
+             out.residual, out.iterations, out.evaluations, w._extra, CONVERGED_INDEX)
+    while True:
         w.tick()
-        afa, afb, afc = w.afa, w.afb, w.afc
-        swap = np.flatnonzero(afc < afb)
-        if swap.size:  # b becomes the better end; a follows the old b to interpolate
-            old_b, old_fb, old_afb = w.xb[swap], w.fb[swap], afb[swap]
-            w.xa[swap], w.fa[swap], afa[swap] = old_b, old_fb, old_afb
-            w.xb[swap], w.fb[swap], afb[swap] = w.xc[swap], w.fc[swap], afc[swap]
-            w.xc[swap], w.fc[swap], afc[swap] = old_b, old_fb, old_afb
-        half_tol = np.abs(w.xb)
-        half_tol *= rtol
-        half_tol += xtol
-        half_tol *= 0.5  # = 0.5*(xtol + rtol*|xb|)
-        m = 0.5 * w.xc
-        m -= 0.5 * w.xb  # = (xc - xb)/2 without overflow on wide brackets
-        abs_m = np.abs(m)
-        closed = abs_m <= half_tol
-        if w._dead_count:
-            np.greater(closed, w.dead, out=closed)  # closed and not dead
-        if w.k >= cap or closed.any():
-            if w.k >= cap:
-                idx = np.flatnonzero(w.live(np.ones(w.size, dtype=bool)))
-                code = np.full(idx.size, MAX_IT, dtype=np.int8)
-                shut = np.flatnonzero(closed.take(idx))
-            else:
-                idx = np.flatnonzero(closed)
-                code = np.empty(idx.size, dtype=np.int8)
-                shut = np.arange(idx.size)
-            if shut.size:
-                at = idx.take(shut)
-                code[shut] = _verdicts(w, at, w.xb.take(at), w.fb.take(at), w.xc.take(at),
-                                       w.fc.take(at))
-            w.half_tol, w.m, w.abs_m = half_tol, m, abs_m
-            w.finish_at(idx, code, w.xb.take(idx), w.fb.take(idx))
+        at_cap = w.k >= cap
+        if brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.dead,
+                      w.status, xtol, rtol, ftol, at_cap, w.tiny):
+            _brent_settle(w, s, fixed, at_cap)
             if not w.size:
-                break
-            half_tol, m, abs_m = w.half_tol, w.m, w.abs_m
-            afa, afb, afc = w.afa, w.afb, w.afc
-            del w.half_tol, w.m, w.abs_m
-        abs_e = np.abs(w.e)
-        accept = abs_e > half_tol
-        accept &= afb < afa
-        if w.tiny:  # a value that underflowed has a sign but no size: bisect there
-            accept &= ~(carried(w.fa) | carried(w.fb) | carried(w.fc))
-        step = _interpolation_step(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.dead, afa, afb, afc)
-        size = np.abs(step)
-        # 2|step| < min(|e|, 3|m| - half_tol), and no tiny step twice after a bisection
-        small = size <= half_tol
-        limit = np.multiply(abs_m, 3.0, out=abs_m)
-        limit -= half_tol
-        np.minimum(abs_e, limit, out=limit)
-        size *= 2.0
-        accept &= size < limit
-        # the steps taken: an accepted step shorter than half_tol moves half_tol instead
-        # (every bisection of a row at work is longer: its bracket has not closed);
-        # short steps are proposed only near the end, so most iterations ask no more
-        short = None
-        if small.any():
-            np.greater(accept, small & w.bisected, out=accept)  # not (small, bisected)
-            short = np.flatnonzero(small & accept)
-        # e takes over d (its array too) and d the step, where a row bisects m in both
-        # (few rows: written by index)
-        w.e = w.d
-        if not accept.all():
-            bisect = np.flatnonzero(~accept)
-            m_bisect = m.take(bisect)
-            w.e[bisect] = m_bisect
-            step[bisect] = m_bisect
-        w.d = step
-        w.bisected = np.equal(step, m, out=w.bisected)
-        w.xa, w.fa, w.afa = w.xb, w.fb, afb
-        w.xb = w.xb + step
-        if short is not None and short.size:
-            w.xb[short] = w.xa.take(short) + np.copysign(half_tol.take(short), m.take(short))
+                return
         w.fb = w.f(w.xb)
         w.k += 1
-        # the usual row goes on: f finite, not 0.0, above ftol
-        w.afb = size = np.abs(w.fb, out=size)
-        going = size > ftol
-        if w._dead_count:
-            going |= w.dead
-        if not (going.all() and size.max() < np.inf):
-            going &= size < np.inf
-            if w._dead_count:
-                going |= w.dead
-            idx = np.flatnonzero(~going)
-            if idx.size:
-                fx = w.fb.take(idx)
-                code = np.full(idx.size, -1, dtype=np.int8)
-                x = w.xb.take(idx)
-                fx = _new_point(w, s, code, x, fx, w.xa.take(idx), w.fa.take(idx),
-                                w.xc.take(idx), w.fc.take(idx), idx)
-                w.fb[idx] = fx
-                w.afb[idx] = np.abs(fx)
-                mark(code, np.abs(fx) <= ftol, F_TOL)
-                w.finish_at(idx, code, x, fx)
-                if not w.size:
-                    break
-        # the root now lies between the new b and the old b: a becomes the contrapoint
-        # (every row at work has a finite f here, not 0.0: the others have stopped)
-        change = np.flatnonzero((w.fb > 0.0) != (w.fa > 0.0))
-        if change.size:
-            xa, fa = w.xa[change], w.fa[change]
-            w.xc[change], w.fc[change] = xa, fa
-            np.abs(w.fc, out=w.afc)  # (one pass: cheaper than moving |fa| at the rows)
-            d = w.xb[change] - xa
-            w.d[change] = d
-            w.e[change] = d
+
+
+def _brent_settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
+                  at_cap: bool) -> None:
+    """Resolve the rows the pass flagged and finish those that stop (see :func:`brent`)."""
+    xtol, rtol, ftol = s["xtol"], s["rtol"], s["ftol"]
+    while True:
+        stopped, probes, again = brent_settle(
+            w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.status, w.dead,
+            w.rows, *fixed, w.k, w.calls, xtol, rtol)
+        if probes:  # verdicts that need calls of f: then finish those rows too
+            _brent_probes(w, s)
+            stopped += brent_settle(
+                w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.status, w.dead,
+                w.rows, *fixed, w.k, w.calls, xtol, rtol)[0]
+        w.finished_in_place(stopped)
+        if not again:
+            return
+        # x in an end's stretch of underflow, carried as +-tiny: the rest of its iteration
+        w.tiny = True
+        if not brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected,
+                          w.status != RERUN, w.status, xtol, rtol, ftol, at_cap, w.tiny):
+            return
+
+
+def _brent_probes(w: Work, s: dict[str, Any]) -> None:
+    """The verdicts that need probes of f, in numpy on those rows: a closed bracket
+    (:data:`PROBE`, :func:`closed_verdict`) and an exact 0.0 at a new point
+    (:data:`ZERO`, :func:`iterate_zero`); their codes are written in ``w.status``."""
+    idx = np.flatnonzero(w.status >= PROBE)
+    code = w.status.take(idx)
+    closed = idx[code == PROBE]
+    if closed.size:
+        w.status[closed] = _verdicts(w, closed, w.xb.take(closed), w.fb.take(closed),
+                                     w.xc.take(closed), w.fc.take(closed))
+    zero = idx[code == ZERO]
+    if zero.size:
+        verdict = np.full(zero.size, -1, dtype=np.int8)
+        _new_point(w, s, verdict, w.xb.take(zero), w.fb.take(zero), w.xa.take(zero),
+                   w.fa.take(zero), w.xc.take(zero), w.fc.take(zero), zero)
+        w.status[zero] = verdict  # (exact_zero or not_finite: no end here underflowed)
