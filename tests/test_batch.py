@@ -343,11 +343,10 @@ def test_brent_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_st
     # stretch of underflow around a triple root (probes beside an exact 0.0), poles and
     # jumps (closed-bracket verdicts, with and without probes), the cap and ftol. Each
     # row must end as the scalar method ends, to the bit: reason, counts and root.
-    import solvers.batch.bracketing as bracketing
     from solvers.batch import kernels
 
     seen: set[int] = set()
-    settle = bracketing.brent_settle
+    settle = kernels.brent_settle
 
     def watched(*args):
         status = args[9]
@@ -356,7 +355,7 @@ def test_brent_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_st
         seen.update(int(v) for v in np.unique(status[status >= 0]))
         return counts
 
-    monkeypatch.setattr(bracketing, "brent_settle", watched)
+    monkeypatch.setattr(kernels, "brent_settle", watched)
     rng = np.random.default_rng(29)
     n = 120
     c = rng.uniform(-0.5, 0.5, n)
@@ -407,6 +406,23 @@ def test_brent_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_st
              kernels.EXOTIC}
     assert flags <= seen
     assert {REASONS.index(r) for r in ("f_tolerance", "max_iterations")} <= seen
+
+
+def test_numba_is_imported_on_the_first_compiled_pass_not_at_start_up():
+    # The command line and the window start without the compiler (start-up benchmark);
+    # a batch Brent loads it, and the cached kernels, on first use.
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    code = ("import sys, app.cli, solvers; print('numba' in sys.modules); "
+            "import numpy as np; "
+            "e = solvers.parse_equation('x^2 - p', unknown='x', parameters={'p': np.ones(3)}); "
+            "b = solvers.solve_batch(e, method='brent', bracket=(0.0, 2.0)); "
+            "print('numba' in sys.modules, bool(b.converged.all()))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         cwd=Path(__file__).resolve().parents[1], check=True).stdout
+    assert out.split() == ["False", "True", "True"]
 
 
 def test_compiled_f_in_blocks_is_the_same_arithmetic_as_one_call():

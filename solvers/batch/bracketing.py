@@ -16,7 +16,6 @@ from typing import Any
 
 import numpy as np
 
-from solvers.batch.kernels import PROBE, RERUN, ZERO, brent_pass, brent_settle
 from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
@@ -261,6 +260,10 @@ def brent(w: Work, s: dict[str, Any]) -> None:
     by the numpy rules on those rows only. Lazy (:meth:`Work.lazy`): finished rows ride
     along until they are a quarter of the arrays.
     """
+    # numba is imported on the first Brent over a table, not with the package: the
+    # command line and the window start without it
+    from solvers.batch import kernels
+
     xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     start_brackets(w, s)
     if not w.size:
@@ -283,8 +286,8 @@ def brent(w: Work, s: dict[str, Any]) -> None:
     while True:
         w.tick()
         at_cap = w.k >= cap
-        if brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.dead,
-                      w.status, xtol, rtol, ftol, at_cap, w.tiny):
+        if kernels.brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected,
+                              w.dead, w.status, xtol, rtol, ftol, at_cap, w.tiny):
             _brent_settle(w, s, fixed, at_cap)
             if not w.size:
                 return
@@ -295,14 +298,16 @@ def brent(w: Work, s: dict[str, Any]) -> None:
 def _brent_settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
                   at_cap: bool) -> None:
     """Resolve the rows the pass flagged and finish those that stop (see :func:`brent`)."""
+    from solvers.batch import kernels
+
     xtol, rtol, ftol = s["xtol"], s["rtol"], s["ftol"]
     while True:
-        stopped, probes, again = brent_settle(
+        stopped, probes, again = kernels.brent_settle(
             w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.status, w.dead,
             w.rows, *fixed, w.k, w.calls, xtol, rtol)
         if probes:  # verdicts that need calls of f: then finish those rows too
             _brent_probes(w, s)
-            stopped += brent_settle(
+            stopped += kernels.brent_settle(
                 w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.status, w.dead,
                 w.rows, *fixed, w.k, w.calls, xtol, rtol)[0]
         w.finished_in_place(stopped)
@@ -310,8 +315,9 @@ def _brent_settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
             return
         # x in an end's stretch of underflow, carried as +-tiny: the rest of its iteration
         w.tiny = True
-        if not brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected,
-                          w.status != RERUN, w.status, xtol, rtol, ftol, at_cap, w.tiny):
+        if not kernels.brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected,
+                                  w.status != kernels.RERUN, w.status, xtol, rtol, ftol,
+                                  at_cap, w.tiny):
             return
 
 
@@ -319,6 +325,8 @@ def _brent_probes(w: Work, s: dict[str, Any]) -> None:
     """The verdicts that need probes of f, in numpy on those rows: a closed bracket
     (:data:`PROBE`, :func:`closed_verdict`) and an exact 0.0 at a new point
     (:data:`ZERO`, :func:`iterate_zero`); their codes are written in ``w.status``."""
+    from solvers.batch.kernels import PROBE, ZERO
+
     idx = np.flatnonzero(w.status >= PROBE)
     code = w.status.take(idx)
     closed = idx[code == PROBE]
