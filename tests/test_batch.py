@@ -334,28 +334,32 @@ def test_brent_rows_of_roots_jumps_and_exact_zeros_in_one_batch_keep_their_verdi
             batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
 
 
-def test_brent_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_steps(
-        monkeypatch):
-    # The batch Brent's iteration is one compiled pass (solvers/batch/kernels.py) that
-    # flags what it cannot decide alone. These rows reach every flag and stop: f scaled
-    # beyond the normal doubles (the interpolation's power-of-two scaling by ldexp), an
-    # end beyond exp's underflow (iterates carried in its stretch of underflow), a
-    # stretch of underflow around a triple root (probes beside an exact 0.0), poles and
-    # jumps (closed-bracket verdicts, with and without probes), the cap and ftol. Each
-    # row must end as the scalar method ends, to the bit: reason, counts and root.
+@pytest.mark.parametrize("method", ["brent", "bisection"])
+def test_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_steps(
+        method, monkeypatch):
+    # The batch Brent and bisection iterate by one compiled pass per iteration
+    # (solvers/batch/kernels.py) that flags what it cannot decide alone. These rows reach
+    # every flag and stop: f scaled beyond the normal doubles (Brent's interpolation
+    # scaled by ldexp), an end beyond exp's underflow (iterates carried in its stretch
+    # of underflow), a stretch of underflow around a triple root (probes beside an
+    # exact 0.0), poles and jumps (closed-bracket verdicts, with and without probes),
+    # the cap and ftol. Each row must end as the scalar method ends, to the bit: reason,
+    # counts and root.
     from solvers.batch import kernels
 
     seen: set[int] = set()
-    settle = kernels.brent_settle
+    name = f"{method}_settle"
+    settle = getattr(kernels, name)
+    status_at = {"brent": 9, "bisection": 6}[method]  # (the state arrays come first)
 
     def watched(*args):
-        status = args[9]
+        status = args[status_at]
         seen.update(int(v) for v in np.unique(status[status >= 0]))
         counts = settle(*args)
         seen.update(int(v) for v in np.unique(status[status >= 0]))
         return counts
 
-    monkeypatch.setattr(kernels, "brent_settle", watched)
+    monkeypatch.setattr(kernels, name, watched)
     rng = np.random.default_rng(29)
     n = 120
     c = rng.uniform(-0.5, 0.5, n)
@@ -381,7 +385,7 @@ def test_brent_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_st
     compared = 0
     for text, values, bracket, settings, roots in cases:
         equation = parse_equation(text, unknown="x", parameters=values)
-        batch = solve_batch(equation, method="brent", bracket=bracket, chunk_rows=64,
+        batch = solve_batch(equation, method=method, bracket=bracket, chunk_rows=64,
                             **settings)
         for i in range(n):
             run = batch.run(i)
@@ -402,8 +406,9 @@ def test_brent_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_st
             assert good.sum() > n // 2, (text, batch.counts())
             np.testing.assert_allclose(batch.root[good], roots[good], rtol=1e-10, atol=2e-12)
     assert compared > 0.8 * len(cases) * n
-    flags = {kernels.PROBE, kernels.ZERO, kernels.RERUN, kernels.CLOSED, kernels.SPECIAL,
-             kernels.EXOTIC}
+    flags = {kernels.PROBE, kernels.ZERO, kernels.RERUN, kernels.CLOSED, kernels.SPECIAL}
+    if method == "brent":
+        flags.add(kernels.EXOTIC)
     assert flags <= seen
     assert {REASONS.index(r) for r in ("f_tolerance", "max_iterations")} <= seen
 

@@ -12,6 +12,7 @@ contrapoint) are written in place on those rows only.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -107,7 +108,14 @@ def _new_point(w: Work, s: dict[str, Any], code: np.ndarray, x: np.ndarray, fx: 
 
 
 def bisection(w: Work, s: dict[str, Any]) -> None:
-    """Bisection on every row's bracket: the midpoint each iterate."""
+    """Bisection on every row's bracket: the midpoint each iterate.
+
+    As :func:`brent`: one compiled pass per iteration (:func:`bisection_pass`), f at
+    every row's midpoint between passes, the flagged rows settled without calls of f
+    where the rules allow (:func:`bisection_settle`), probes in numpy on their rows.
+    """
+    from solvers.batch import kernels  # (numba on first use, as for brent)
+
     xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     start_brackets(w, s)
     if not w.size:
@@ -116,31 +124,48 @@ def bisection(w: Work, s: dict[str, Any]) -> None:
     w.lo, w.hi = np.where(swap, w.b, w.a), np.where(swap, w.a, w.b)
     w.flo, w.fhi = np.where(swap, w.fb, w.fa), np.where(swap, w.fa, w.fb)
     del w.a, w.b, w.fa, w.fb
-    while w.size:
+    w.mid, w.fmid = w.lo.copy(), w.flo.copy()  # (read on no pass before the first f)
+    w.status = np.full(w.size, -1, dtype=np.int8)
+    w.lazy()
+    fixed = _fixed(w)
+
+    def state() -> tuple[np.ndarray, ...]:
+        return w.lo, w.flo, w.hi, w.fhi, w.mid, w.fmid
+
+    first = True
+    while True:
         w.tick()
-        lo_better = np.abs(w.flo) <= np.abs(w.fhi)
-        best, fbest = np.where(lo_better, w.lo, w.hi), np.where(lo_better, w.flo, w.fhi)
-        w.mid = 0.5 * w.lo + 0.5 * w.hi
-        code = w.codes()
-        closed = w.hi - w.lo <= xtol + rtol * np.abs(best)
-        if w.k < cap:  # two adjacent doubles cannot be split: closed as well
-            closed |= ~((w.lo < w.mid) & (w.mid < w.hi))
-        _closed(w, code, closed, w.lo, w.flo, w.hi, w.fhi)
-        if w.k >= cap:
-            code[code < 0] = MAX_IT
-        w.finish(code, best, fbest)
-        if not w.size:
-            break
-        fmid = w.f(w.mid)
+        at_cap = w.k >= cap
+
+        def run(skip: np.ndarray, at_cap: bool = at_cap, first: bool = first) -> int:
+            return kernels.bisection_pass(*state(), skip, w.status, xtol, rtol, ftol, at_cap,
+                                          first)
+
+        if run(w.dead):
+            _settle(w, s, fixed, state, kernels.bisection_settle, run, _bisection_probes)
+            if not w.size:
+                return
+        first = False
+        w.fmid = w.f(w.mid)
         w.k += 1
-        code = w.codes()
-        fmid = _new_point(w, s, code, w.mid, fmid, w.lo, w.flo, w.hi, w.fhi)
-        left = np.flatnonzero(same_sign(fmid, w.flo) & (code < 0))
-        right = np.flatnonzero(~same_sign(fmid, w.flo) & (code < 0))
-        w.lo[left], w.flo[left] = w.mid[left], fmid[left]
-        w.hi[right], w.fhi[right] = w.mid[right], fmid[right]
-        mark(code, np.abs(fmid) <= ftol, F_TOL)
-        w.finish(code, w.mid, fmid)
+
+
+def _bisection_probes(w: Work, s: dict[str, Any]) -> None:
+    """:func:`_brent_probes` for bisection (the bracket [lo, hi], the midpoint)."""
+    from solvers.batch.kernels import PROBE, ZERO
+
+    idx = np.flatnonzero(w.status >= PROBE)
+    code = w.status.take(idx)
+    closed = idx[code == PROBE]
+    if closed.size:
+        w.status[closed] = closed_verdict(w, closed, w.lo.take(closed), w.flo.take(closed),
+                                          w.hi.take(closed), w.fhi.take(closed))
+    zero = idx[code == ZERO]
+    if zero.size:
+        verdict = np.full(zero.size, -1, dtype=np.int8)
+        _new_point(w, s, verdict, w.mid.take(zero), w.fmid.take(zero), w.lo.take(zero),
+                   w.flo.take(zero), w.hi.take(zero), w.fhi.take(zero), zero)
+        w.status[zero] = verdict
 
 
 def _regula_falsi(w: Work, s: dict[str, Any], illinois_rule: bool) -> None:
@@ -278,46 +303,60 @@ def brent(w: Work, s: dict[str, Any]) -> None:
     w.bisected = np.zeros(w.size, dtype=bool)
     w.status = np.full(w.size, -1, dtype=np.int8)
     w.lazy()
-    # the bracket as given and f there, per chunk row (the closed-bracket verdicts), and
-    # where the rows' results go
-    out = w.out
-    fixed = (*(w._kept[name] for name in ("a0", "fa0", "b0", "fb0")), out.code, out.root,
-             out.residual, out.iterations, out.evaluations, w._extra, CONVERGED_INDEX)
+    fixed = _fixed(w)
+
+    def state() -> tuple[np.ndarray, ...]:
+        return w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected
+
     while True:
         w.tick()
         at_cap = w.k >= cap
-        if kernels.brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected,
-                              w.dead, w.status, xtol, rtol, ftol, at_cap, w.tiny):
-            _brent_settle(w, s, fixed, at_cap)
+
+        def run(skip: np.ndarray, at_cap: bool = at_cap) -> int:
+            return kernels.brent_pass(*state(), skip, w.status, xtol, rtol, ftol, at_cap,
+                                      w.tiny)
+
+        if run(w.dead):
+            _settle(w, s, fixed, state, kernels.brent_settle, run, _brent_probes)
             if not w.size:
                 return
         w.fb = w.f(w.xb)
         w.k += 1
 
 
-def _brent_settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
-                  at_cap: bool) -> None:
-    """Resolve the rows the pass flagged and finish those that stop (see :func:`brent`)."""
-    from solvers.batch import kernels
+def _fixed(w: Work) -> tuple[np.ndarray, ...]:
+    """What a settling loop reads besides the rows' state: the bracket as given and f
+    there, per chunk row (the closed-bracket verdicts), and where the results go."""
+    out = w.out
+    return (*(w._kept[name] for name in ("a0", "fa0", "b0", "fb0")), out.code, out.root,
+            out.residual, out.iterations, out.evaluations, w._extra, CONVERGED_INDEX)
 
-    xtol, rtol, ftol = s["xtol"], s["rtol"], s["ftol"]
+
+def _settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
+            state: Callable[[], tuple[np.ndarray, ...]], settle: Callable[..., Any],
+            run: Callable[[np.ndarray], int],
+            probes: Callable[[Work, dict[str, Any]], None]) -> None:
+    """Resolve the rows a pass flagged and finish those that stop: ``settle`` (compiled)
+    decides what needs no call of f and writes the finished rows, ``probes`` (numpy)
+    what needs probes of f; rows carried in an end's stretch of underflow go through
+    the pass again (``run``, on those rows only) until none is flagged."""
+    from solvers.batch.kernels import RERUN
+
+    def settled() -> tuple[int, int, int]:
+        return settle(*state(), w.status, w.dead, w.rows, *fixed, w.k, w.calls, s["xtol"],
+                      s["rtol"])
+
     while True:
-        stopped, probes, again = kernels.brent_settle(
-            w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.status, w.dead,
-            w.rows, *fixed, w.k, w.calls, xtol, rtol)
-        if probes:  # verdicts that need calls of f: then finish those rows too
-            _brent_probes(w, s)
-            stopped += kernels.brent_settle(
-                w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected, w.status, w.dead,
-                w.rows, *fixed, w.k, w.calls, xtol, rtol)[0]
+        stopped, probing, again = settled()
+        if probing:  # verdicts that need calls of f: then finish those rows too
+            probes(w, s)
+            stopped += settled()[0]
         w.finished_in_place(stopped)
         if not again:
             return
         # x in an end's stretch of underflow, carried as +-tiny: the rest of its iteration
         w.tiny = True
-        if not kernels.brent_pass(w.xa, w.fa, w.xb, w.fb, w.xc, w.fc, w.d, w.e, w.bisected,
-                                  w.status != kernels.RERUN, w.status, xtol, rtol, ftol,
-                                  at_cap, w.tiny):
+        if not run(w.status != RERUN):
             return
 
 

@@ -306,3 +306,100 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
             code = -1
         status[i] = code
     return stopped, probes, again
+
+
+@kernel
+def bisection_pass(lo, flo, hi, fhi, mid, fmid, skip, status, xtol: float, rtol: float,
+                   ftol: float, at_cap: bool, first: bool) -> int:
+    """One bisection iteration on every row that ``skip`` does not mark, from f at the
+    last midpoint (``fmid``; none on the ``first`` pass) to the next midpoint (``mid``):
+    the loop of :func:`solvers.methods.bracketing.bisection` from ``fmid = ev(mid)`` round
+    to the next ``mid``.
+
+    In the scalar order: f 0.0 or not finite flags ``SPECIAL`` (the row is left as it
+    was); the midpoint replaces the end of its sign; ``|f| <= ftol`` stops the row
+    (``f_tolerance``, at the midpoint); a bracket closed below tolerance, or of two
+    adjacent doubles, flags ``CLOSED``; at the cap the row stops (``max_iterations``);
+    otherwise ``mid`` is the next midpoint. Selections, no branches on the data, as in
+    :func:`brent_pass`. Returns the number of rows stopped or flagged.
+    """
+    flagged = 0
+    for i in range(lo.size):
+        x_lo, f_lo, x_hi, f_hi, x_m, f_m = lo[i], flo[i], hi[i], fhi[i], mid[i], fmid[i]
+        go = not skip[i]
+        special = not first and (not (abs(f_m) < math.inf) or f_m == 0.0)
+        left = (f_m > 0.0) == (f_lo > 0.0)
+        n_lo = x_m if not first and left else x_lo
+        g_lo = f_m if not first and left else f_lo
+        n_hi = x_hi if first or left else x_m
+        g_hi = f_hi if first or left else f_m
+        f_stop = not first and abs(f_m) <= ftol
+        best = n_lo if abs(g_lo) <= abs(g_hi) else n_hi
+        closed = n_hi - n_lo <= xtol + rtol * abs(best)
+        m = 0.5 * n_lo + 0.5 * n_hi
+        split = n_lo < m and m < n_hi
+        code = (SPECIAL if special else F_TOL if f_stop else CLOSED if closed else
+                MAX_IT if at_cap else -1 if split else CLOSED)
+        keeps = go and code != SPECIAL
+        flagged += 1 if go and code != -1 else 0
+        status[i] = code if go else status[i]
+        lo[i] = n_lo if keeps else x_lo
+        flo[i] = g_lo if keeps else f_lo
+        hi[i] = n_hi if keeps else x_hi
+        fhi[i] = g_hi if keeps else f_hi
+        mid[i] = m if go and code == -1 else x_m
+    return flagged
+
+
+@kernel
+def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b0, fb0,
+                     code_out, root_out, residual_out, iterations_out, evaluations_out,
+                     extra, converged, k: int, calls: int, xtol: float, rtol: float
+                     ) -> tuple[int, int, int]:
+    """:func:`brent_settle` for bisection: ``CLOSED`` rows get their verdict (root: the
+    end of smaller |f|), ``SPECIAL`` rows the rules of an exact 0.0 or a value that is
+    not finite at the midpoint (root: the midpoint); rows with a reason code are
+    finished in place. Returns the numbers of rows finished, left for probes, and to
+    run again."""
+    stopped = probes = again = 0
+    for i in range(lo.size):
+        code = status[i]
+        if code < 0:
+            continue
+        if code == CLOSED:
+            row = rows[i]
+            code = _closed_code(lo[i], flo[i], hi[i], fhi[i], a0[row], fa0[row], b0[row],
+                                fb0[row])
+        elif code == SPECIAL:
+            x_m = mid[i]
+            if not math.isfinite(fmid[i]):
+                code = NOT_FIN
+            elif abs(flo[i]) == _TINY or abs(fhi[i]) == _TINY:
+                fmid[i] = math.copysign(_TINY, flo[i] if abs(flo[i]) == _TINY else fhi[i])
+                code = RERUN
+            elif _straight_through(x_m, lo[i], flo[i], hi[i], fhi[i],
+                                   xtol + rtol * abs(x_m)):
+                code = EXACT
+            else:
+                code = ZERO
+        if code == PROBE or code == ZERO:
+            probes += 1
+        elif code == RERUN:
+            again += 1
+        elif code >= 0:
+            row = rows[i]
+            good = converged[code]
+            at_mid = code == F_TOL or code == EXACT
+            lo_better = abs(flo[i]) <= abs(fhi[i])
+            root = mid[i] if at_mid else (lo[i] if lo_better else hi[i])
+            residual = fmid[i] if at_mid else (flo[i] if lo_better else fhi[i])
+            code_out[row] = code
+            root_out[row] = root if good else math.nan
+            residual_out[row] = residual if good else math.nan
+            iterations_out[row] = k
+            evaluations_out[row] = calls + extra[row]
+            dead[i] = True
+            stopped += 1
+            code = -1
+        status[i] = code
+    return stopped, probes, again
