@@ -21,7 +21,6 @@ from solvers.batch.records import CONVERGED_INDEX
 from solvers.batch.rows import (
     EXACT,
     F_TOL,
-    MAX_IT,
     NO_SIGN,
     NOT_FIN,
     Work,
@@ -78,13 +77,6 @@ def start_brackets(w: Work, s: dict[str, Any]) -> None:
     mark(code, np.minimum(np.abs(w.fa), np.abs(w.fb)) <= ftol, F_TOL)
     mark(code, same_sign(w.fa, w.fb), NO_SIGN)
     w.finish(code, np.where(a_better, w.a, w.b), np.where(a_better, w.fa, w.fb))
-
-
-def _closed(w: Work, code: np.ndarray, closed: np.ndarray, x1, f1, x2, f2) -> None:
-    """Write the verdicts of the rows whose bracket (x1, x2) closed into ``code``."""
-    idx = np.flatnonzero(closed)
-    if idx.size:
-        code[idx] = _verdicts(w, idx, x1[idx], f1[idx], x2[idx], f2[idx])
 
 
 def _new_point(w: Work, s: dict[str, Any], code: np.ndarray, x: np.ndarray, fx: np.ndarray,
@@ -169,92 +161,67 @@ def _bisection_probes(w: Work, s: dict[str, Any]) -> None:
 
 
 def _regula_falsi(w: Work, s: dict[str, Any], illinois_rule: bool) -> None:
+    """False position or Illinois on every row's bracket: as :func:`brent`, one compiled
+    pass per iteration (:func:`regula_falsi_pass`), f at every row's iterate between
+    passes, the flagged rows settled (:func:`regula_falsi_settle`, probes in numpy)."""
+    from solvers.batch import kernels  # (numba on first use, as for brent)
+
     xtol, rtol, ftol, cap = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter"))
     start_brackets(w, s)
     if not w.size:
         return
     # (xb, fb) the newest point, (xa, fa) the retained end of opposite sign; ga the value
-    # interpolated at xa (fa, or halved by the Illinois rule)
-    w.xa, w.xb, w.ga = w.a, w.b, w.fa.copy()
+    # interpolated at xa (fa, or halved by the Illinois rule); (x, fx) the iterate
+    w.xa, w.xb, w.fa, w.fb, w.ga = w.a.copy(), w.b.copy(), w.fa.copy(), w.fb.copy(), w.fa.copy()
     del w.a, w.b
+    w.x, w.fx = w.xb.copy(), w.fb.copy()  # (read on no pass before the first f)
     nan = np.full(w.size, np.nan)
-    if not illinois_rule:
-        w.previous, w.previous_step, w.previous_ratio = nan.copy(), nan.copy(), nan.copy()
-    w.probe = nan.copy()
-    while w.size:
+    w.previous, w.previous_step, w.previous_ratio = nan, nan.copy(), nan.copy()
+    w.fallback = np.zeros(w.size, dtype=bool)
+    w.checking = np.zeros(w.size, dtype=bool)
+    w.status = np.full(w.size, -1, dtype=np.int8)
+    w.lazy()
+    fixed = _fixed(w)
+
+    def state() -> tuple[np.ndarray, ...]:
+        return (w.xa, w.fa, w.xb, w.fb, w.ga, w.x, w.fx, w.previous, w.previous_step,
+                w.previous_ratio, w.fallback, w.checking)
+
+    first = True
+    while True:
         w.tick()
-        lo, hi = np.minimum(w.xa, w.xb), np.maximum(w.xa, w.xb)
-        use_probe = (lo < w.probe) & (w.probe < hi)  # (false where there is none: NaN)
-        denominator = w.fb - w.ga  # never zero: fb and ga have opposite signs
-        special = np.isinf(denominator) | (w.ga == 0.0)
-        if special.any():
-            fraction = np.where(special, 1.0 / (1.0 - w.ga / w.fb), w.fb / denominator)
-        else:
-            fraction = w.fb / denominator
-        x = np.where(use_probe, w.probe, w.xb - fraction * (w.xb - w.xa))
-        w.fallback = ~use_probe & ~((lo < x) & (x < hi))
-        w.checking = ~np.isnan(w.probe)
-        if w.fallback.any():  # rounding put the chord's zero on an end: the midpoint
-            x = np.where(w.fallback, 0.5 * lo + 0.5 * hi, x)
-        w.x = x
-        a_better = np.abs(w.fa) < np.abs(w.fb)
-        w.best, w.fbest = np.where(a_better, w.xa, w.xb), np.where(a_better, w.fa, w.fb)
-        code = np.full(w.size, MAX_IT if w.k >= cap else -1, dtype=np.int8)
-        if w.k < cap:
-            _closed(w, code, w.fallback & ~((lo < x) & (x < hi)), w.xa, w.fa, w.xb, w.fb)
-        w.finish(code, w.best, w.fbest)
-        if not w.size:
-            break
-        w.probe = np.full(w.size, np.nan)
-        fx = w.f(w.x)
+        at_cap = w.k >= cap
+
+        def run(skip: np.ndarray, at_cap: bool = at_cap, first: bool = first) -> int:
+            return kernels.regula_falsi_pass(*state(), skip, w.status, xtol, rtol, ftol,
+                                             at_cap, first, illinois_rule)
+
+        if run(w.dead):
+            _settle(w, s, fixed, state, kernels.regula_falsi_settle, run,
+                    _regula_falsi_probes)
+            if not w.size:
+                return
+        first = False
+        w.fx = w.f(w.x)
         w.k += 1
-        code = w.codes()
-        fx = _new_point(w, s, code, w.x, fx, w.xa, w.fa, w.xb, w.fb)
-        w.fx = fx
-        # (a row that stops here reports best, the end of smaller |f| before this iterate,
-        # as the scalar method does: for exact zero and ftol the iterate itself, below)
-        same = same_sign(fx, w.fb)
-        moved = np.flatnonzero(~same)
-        if illinois_rule:  # xa retained once more: halve its value to pull the next over
-            w.ga = np.where(same, 0.5 * w.ga, w.fb)
-        else:
-            w.ga[moved] = w.fb[moved]
-        w.xa[moved], w.fa[moved] = w.xb[moved], w.fb[moved]
-        w.xb, w.fb = w.x, fx
-        mark(code, np.abs(fx) <= ftol, F_TOL)
-        converged_here = (code == EXACT) | (code == F_TOL)
-        a_better = np.abs(w.fa) < np.abs(w.fb)
-        best = np.where(a_better, w.xa, w.xb)
-        fbest = np.where(a_better, w.fa, w.fb)
-        closed = (code < 0) & (np.abs(w.xb - w.xa) <= xtol + rtol * np.abs(best))
-        _closed(w, code, closed, w.xa, w.fa, w.xb, w.fb)
-        w.finish(code, np.where(converged_here, w.x, best), np.where(converged_here, fx, fbest))
-        if illinois_rule or not w.size:
-            continue  # Illinois: both ends move, so the bracket width alone decides
-        _false_position_estimate(w, xtol, rtol)
 
 
-def _false_position_estimate(w: Work, xtol: float, rtol: float) -> None:
-    """Plain false position's check of its linear-convergence estimate (the scalar
-    method's rule): when the error estimated from the last chord steps is below
-    tolerance, the next iterate is the probe half a tolerance towards the other end."""
-    reset = w.fallback | w.checking
-    nan = np.full(w.size, np.nan)
-    w.previous_step = np.where(reset, nan, w.previous_step)
-    w.previous_ratio = np.where(reset, nan, w.previous_ratio)
-    go = ~reset & ~np.isnan(w.previous)
-    step = np.abs(w.x - w.previous)
-    had_step = go & ~np.isnan(w.previous_step)
-    with np.errstate(all="ignore"):
-        ratio = step / w.previous_step
-        c = np.where(np.isnan(w.previous_ratio), ratio, np.maximum(ratio, w.previous_ratio))
-        error = step * np.maximum(1.0, c / (1.0 - c))
-    tolerance = xtol + rtol * np.abs(w.x)
-    check = had_step & ~np.isnan(w.previous_ratio) & (c < 1.0) & (error <= tolerance)
-    w.probe = np.where(check, w.x + np.copysign(0.5 * tolerance, w.xa - w.x), np.nan)
-    w.previous_ratio = np.where(had_step, ratio, w.previous_ratio)
-    w.previous_step = np.where(go, step, w.previous_step)
-    w.previous = np.where(reset, nan, w.x)
+def _regula_falsi_probes(w: Work, s: dict[str, Any]) -> None:
+    """:func:`_brent_probes` for false position and Illinois (ends a and b, the iterate)."""
+    from solvers.batch.kernels import PROBE, ZERO
+
+    idx = np.flatnonzero(w.status >= PROBE)
+    code = w.status.take(idx)
+    closed = idx[code == PROBE]
+    if closed.size:
+        w.status[closed] = _verdicts(w, closed, w.xa.take(closed), w.fa.take(closed),
+                                     w.xb.take(closed), w.fb.take(closed))
+    zero = idx[code == ZERO]
+    if zero.size:
+        verdict = np.full(zero.size, -1, dtype=np.int8)
+        _new_point(w, s, verdict, w.x.take(zero), w.fx.take(zero), w.xa.take(zero),
+                   w.fa.take(zero), w.xb.take(zero), w.fb.take(zero), zero)
+        w.status[zero] = verdict
 
 
 def false_position(w: Work, s: dict[str, Any]) -> None:

@@ -403,3 +403,159 @@ def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b
             code = -1
         status[i] = code
     return stopped, probes, again
+
+
+@kernel
+def _maximum(u: float, v: float) -> float:
+    """numpy.maximum of two numbers: NaN when either is NaN."""
+    if u != u or v != v:
+        return math.nan
+    return u if u >= v else v
+
+
+@kernel
+def regula_falsi_pass(xa, fa, xb, fb, ga, x, fx, previous, previous_step,
+                      previous_ratio, fallback, checking, skip, status, xtol: float,
+                      rtol: float, ftol: float, at_cap: bool, first: bool,
+                      illinois: bool) -> int:
+    """One false position (``illinois``: Illinois) iteration on every row that ``skip``
+    does not mark, from f at the last iterate (``x``, ``fx``; none on the ``first``
+    pass) to the next iterate: the loop of
+    :func:`solvers.methods.bracketing._regula_falsi`, in the form of the numpy kernel
+    before it (NaN for "none" in the step history; the probe is made and taken in the
+    same pass).
+
+    In the scalar order: f 0.0 or not finite flags ``SPECIAL`` (the row is left as it
+    was); the iterate replaces b, and a the old b on a sign change (Illinois halves
+    the value interpolated at a kept a); ``|f| <= ftol`` stops the row (at the
+    iterate); a bracket closed below tolerance flags ``CLOSED``; plain false position
+    checks its linear-convergence estimate (the next iterate is then the probe half a
+    tolerance towards a); at the cap the row stops; the next iterate is the probe, the
+    chord's zero, or the midpoint where rounding put the chord's zero on an end (two
+    adjacent doubles: ``CLOSED``). Selections, no branches on the data, as in
+    :func:`brent_pass`. Returns the number of rows stopped or flagged.
+    """
+    flagged = 0
+    for i in range(xb.size):
+        x_a, f_a, x_b, f_b, g_a = xa[i], fa[i], xb[i], fb[i], ga[i]
+        x_n, f_n = x[i], fx[i]
+        prev, p_step, p_ratio = previous[i], previous_step[i], previous_ratio[i]
+        was_fallback, was_checking = fallback[i], checking[i]
+        go = not skip[i]
+        # f at the last iterate
+        special = not first and (not (abs(f_n) < math.inf) or f_n == 0.0)
+        moved = not first and (f_n > 0.0) != (f_b > 0.0)
+        kept = not first and not moved
+        n_a = x_b if moved else x_a
+        h_a = f_b if moved else f_a
+        h_ga = f_b if moved else (0.5 * g_a if kept and illinois else g_a)
+        n_b = x_b if first else x_n
+        h_b = f_b if first else f_n
+        f_stop = not first and abs(f_n) <= ftol
+        lo = min(n_a, n_b)
+        hi = max(n_a, n_b)
+        a_better = abs(h_a) < abs(h_b)
+        best = n_a if a_better else n_b
+        closed = not first and abs(n_b - n_a) <= xtol + rtol * abs(best)
+        # plain false position: the estimate from the last chord steps
+        reset = was_fallback or was_checking
+        p_step = math.nan if reset else p_step
+        p_ratio = math.nan if reset else p_ratio
+        going = not reset and not math.isnan(prev)
+        step = abs(x_n - prev)
+        had_step = going and not math.isnan(p_step)
+        ratio = step / p_step
+        c = ratio if math.isnan(p_ratio) else _maximum(ratio, p_ratio)
+        error = step * _maximum(1.0, c / (1.0 - c))
+        tolerance = xtol + rtol * abs(x_n)
+        check = (had_step and not math.isnan(p_ratio) and c < 1.0 and error <= tolerance
+                 and not first and not illinois)
+        p = x_n + math.copysign(0.5 * tolerance, n_a - x_n) if check else math.nan
+        estimate = not first and not illinois
+        n_ratio = ratio if estimate and had_step else p_ratio
+        n_step = step if estimate and going else p_step
+        n_prev = (math.nan if reset else x_n) if estimate else prev
+        # the next iterate
+        use_probe = lo < p and p < hi
+        denominator = h_b - h_ga  # never zero: fb and ga have opposite signs
+        if abs(denominator) == math.inf or h_ga == 0.0:
+            fraction = 1.0 / (1.0 - h_ga / h_b)
+        else:
+            fraction = h_b / denominator
+        chord = n_b - fraction * (n_b - n_a)
+        nxt = p if use_probe else chord
+        n_fallback = not use_probe and not (lo < nxt and nxt < hi)
+        nxt = 0.5 * lo + 0.5 * hi if n_fallback else nxt
+        adjacent = n_fallback and not (lo < nxt and nxt < hi)
+        code = (SPECIAL if special else F_TOL if f_stop else CLOSED if closed else
+                MAX_IT if at_cap else CLOSED if adjacent else -1)
+        moves = go and code == -1
+        keeps = go and code != SPECIAL
+        flagged += 1 if go and code != -1 else 0
+        status[i] = code if go else status[i]
+        xa[i] = n_a if keeps else x_a
+        fa[i] = h_a if keeps else f_a
+        xb[i] = n_b if keeps else x_b
+        fb[i] = h_b if keeps else f_b
+        ga[i] = h_ga if keeps else g_a
+        x[i] = nxt if moves else x_n
+        previous[i] = n_prev if moves else prev
+        previous_step[i] = n_step if moves else previous_step[i]
+        previous_ratio[i] = n_ratio if moves else previous_ratio[i]
+        fallback[i] = n_fallback if moves else was_fallback
+        checking[i] = (not math.isnan(p)) if moves else was_checking
+    return flagged
+
+
+@kernel
+def regula_falsi_settle(xa, fa, xb, fb, ga, x, fx, previous, previous_step, previous_ratio,
+                        fallback, checking, status, dead, rows, a0, fa0, b0, fb0,
+                        code_out, root_out, residual_out, iterations_out, evaluations_out,
+                        extra, converged, k: int, calls: int, xtol: float, rtol: float
+                        ) -> tuple[int, int, int]:
+    """:func:`brent_settle` for false position and Illinois: ``CLOSED`` rows get their
+    verdict (root: the end of smaller |f|), ``SPECIAL`` rows the rules of an exact 0.0
+    or a value that is not finite at the iterate (root: the iterate); rows with a
+    reason code are finished in place. Returns the numbers of rows finished, left for
+    probes, and to run again."""
+    stopped = probes = again = 0
+    for i in range(xb.size):
+        code = status[i]
+        if code < 0:
+            continue
+        if code == CLOSED:
+            row = rows[i]
+            code = _closed_code(xa[i], fa[i], xb[i], fb[i], a0[row], fa0[row], b0[row],
+                                fb0[row])
+        elif code == SPECIAL:
+            x_n = x[i]
+            if not math.isfinite(fx[i]):
+                code = NOT_FIN
+            elif abs(fa[i]) == _TINY or abs(fb[i]) == _TINY:
+                fx[i] = math.copysign(_TINY, fa[i] if abs(fa[i]) == _TINY else fb[i])
+                code = RERUN
+            elif _straight_through(x_n, xa[i], fa[i], xb[i], fb[i], xtol + rtol * abs(x_n)):
+                code = EXACT
+            else:
+                code = ZERO
+        if code == PROBE or code == ZERO:
+            probes += 1
+        elif code == RERUN:
+            again += 1
+        elif code >= 0:
+            row = rows[i]
+            good = converged[code]
+            at_x = code == F_TOL or code == EXACT
+            a_better = abs(fa[i]) < abs(fb[i])
+            root = x[i] if at_x else (xa[i] if a_better else xb[i])
+            residual = fx[i] if at_x else (fa[i] if a_better else fb[i])
+            code_out[row] = code
+            root_out[row] = root if good else math.nan
+            residual_out[row] = residual if good else math.nan
+            iterations_out[row] = k
+            evaluations_out[row] = calls + extra[row]
+            dead[i] = True
+            stopped += 1
+            code = -1
+        status[i] = code
+    return stopped, probes, again
