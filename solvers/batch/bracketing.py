@@ -4,10 +4,15 @@ bracket and its own stop.
 The element-wise form of :mod:`solvers.methods.bracketing` and
 :mod:`solvers.methods.brent`: the same start-up (ends not finite, an end's exact zero
 checked for underflow, ``|f| <= ftol``, no sign change), the same iterate formulas and the
-same verdict on a bracket that closed (root, jump or pole: :func:`closed_verdict`). Rows
-that stop leave the work at once, so a row that needs 60 bisections never slows the rows
-that needed 8 Brent steps. Updates that touch few rows (a swap of ends, a new
-contrapoint) are written in place on those rows only.
+same verdict on a bracket that closed (root, jump or pole: :func:`closed_verdict`).
+The start-up is numpy; each iteration after it is one compiled pass over the rows
+(:mod:`solvers.batch.kernels`, numba, imported on first use) and f evaluated, vectorised,
+at every row's new point. The pass flags the rows it cannot decide alone; a compiled
+settling loop decides those that need no call of f and writes the finished rows'
+results; the rules that need probes of f run here, in numpy, on their rows only
+(:func:`_settle`). Finished rows ride along until they are a quarter of the arrays
+(:meth:`Work.lazy`), so a row that needs 60 bisections never slows the rows that needed
+8 Brent steps.
 """
 
 from __future__ import annotations

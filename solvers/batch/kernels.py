@@ -1,22 +1,26 @@
-"""Compiled passes of the batch Brent method: one pass over a chunk's rows per iteration.
+"""Compiled passes of the batch bracketing methods: one pass over a chunk's rows per
+iteration (Brent, bisection, false position and Illinois).
 
 The numpy form of Brent's method over a table spent about 70 array operations per
 iteration on the bookkeeping around f (which end is better, interpolation or bisection,
 the new point, the new contrapoint, the stop tests). :func:`brent_pass` does that
 bookkeeping row by row in one compiled loop (:data:`solvers.compiled.kernel`: IEEE order,
 no fast-math, the GIL released), transcribing the scalar method's arithmetic in the same
-order, so every row takes the scalar method's steps to the bit. f stays outside: the
-caller evaluates it, vectorised, at every row's new point between two passes.
+order, so every row takes the scalar method's steps to the bit; :func:`bisection_pass`
+and :func:`regula_falsi_pass` do the same for the other bracketing methods. f stays
+outside: the caller evaluates it, vectorised, at every row's new point between passes.
 
-The pass is written without branches on the rows' data (every row computes the
-interpolation step, and a selection keeps it or the bisection), so the compiler turns it
-into vector instructions: most of its cost was the waiting on one row's chain of
-divisions at a time. What it cannot decide alone it flags in ``status`` for
-:func:`brent_settle`, a plain loop over the flagged rows: a closed bracket (its verdict),
-f 0.0 or not finite at the new point (the scalar ``_iterate_zero`` rules), values whose
-scaling by a power of two leaves the normal doubles. What needs more calls of f (probes
-beside an exact 0.0, probes of a closed bracket) is flagged again for the numpy rules of
-:mod:`solvers.batch.rows`, on those rows only.
+A pass is written without branches on the rows' data (every row computes every
+quantity, e.g. Brent's interpolation step, and selections keep the right ones), so the
+compiler turns it into vector instructions: most of the cost of a branching loop was
+the waiting on one row's chain of divisions at a time. What it cannot decide alone it
+flags in ``status`` for the settling loop of its method (:func:`brent_settle` and the
+others), a plain loop over the flagged rows: a closed bracket (its verdict), f 0.0 or
+not finite at the new point (the scalar ``_iterate_zero`` rules), Brent's values whose
+scaling by a power of two leaves the normal doubles. The settling loop also writes the
+finished rows' results in place. What needs more calls of f (probes beside an exact
+0.0, probes of a closed bracket) is flagged again for the numpy rules of
+:mod:`solvers.batch.rows`, which run on those rows only.
 
 ``status`` of a row: -1 goes on; a reason code of :data:`solvers.batch.records.REASON_CODES`
 (below 100): the row stops with it; 100 and above: the flags below.
