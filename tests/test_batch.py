@@ -399,6 +399,107 @@ def test_brent_rows_of_roots_jumps_and_exact_zeros_in_one_batch_keep_their_verdi
             batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
 
 
+@pytest.mark.parametrize("method", ["brent", "bisection", "illinois", "false_position"])
+def test_rows_through_every_branch_of_the_compiled_pass_take_the_scalar_steps(
+        method, monkeypatch):
+    # The batch bracketing methods iterate by one compiled pass per iteration
+    # (solvers/batch/kernels.py) that flags what it cannot decide alone. These rows reach
+    # every flag and stop: f scaled beyond the normal doubles (Brent's interpolation
+    # scaled by ldexp), an end beyond exp's underflow (iterates carried in its stretch
+    # of underflow), a stretch of underflow around a triple root (probes beside an
+    # exact 0.0), poles and jumps (closed-bracket verdicts, with and without probes),
+    # the cap and ftol. Each row must end as the scalar method ends, to the bit: reason,
+    # counts and root.
+    from solvers.batch import kernels
+
+    seen: set[int] = set()
+    family = "regula_falsi" if method in ("illinois", "false_position") else method
+    name = f"{family}_settle"
+    settle = getattr(kernels, name)
+    status_at = {"brent": 9, "bisection": 6, "regula_falsi": 12}[family]  # (after the state)
+
+    def watched(*args):
+        status = args[status_at]
+        seen.update(int(v) for v in np.unique(status[status >= 0]))
+        counts = settle(*args)
+        seen.update(int(v) for v in np.unique(status[status >= 0]))
+        return counts
+
+    monkeypatch.setattr(kernels, name, watched)
+    rng = np.random.default_rng(29)
+    n = 120
+    c = rng.uniform(-0.5, 0.5, n)
+    cubic = {k: rng.normal(size=n) for k in ("a3", "a2", "a1", "a0")}
+    ripple = "a3*x^3 + a2*x^2 + a1*x + a0 + 0.3*sin(5*x)"
+    cubic_bracket = (rng.uniform(-3, 0, n), rng.uniform(0, 3, n))
+    none = np.full(n, np.nan)  # no row may converge: no root of f is to be seen there
+    cases = [  # text, parameters, bracket, settings, the root where one converges
+        ("s*(x - c)*(1 + x^2)", {"s": 10 ** rng.uniform(306, 308, n), "c": c}, (-1.0, 1.0),
+         {}, c),
+        ("s*(x - c)*(1 + x^2)", {"s": 10 ** rng.uniform(-312, -309, n), "c": c},
+         (-1.0, 1.0), {}, c),
+        ("exp(-x) - 2*exp(-2*x)", {}, (rng.uniform(0.0, 0.5, n), rng.uniform(760, 900, n)),
+         {}, np.full(n, math.log(2.0))),
+        # f underflows to 0.0 over a stretch far wider than the tolerance around c
+        ("s*(x - c)^3", {"s": 10 ** rng.uniform(-300, -290, n), "c": c}, (-1.0, 1.0), {},
+         none),
+        ("1/(x - c)", {"c": c}, (-1.0, 1.0), {}, none),
+        ("(x - c)/abs(x - c) + 0.01*(x - c)", {"c": c}, (-1.0, 1.0), {}, none),
+        (ripple, cubic, cubic_bracket, {"max_iter": 5}, None),
+        (ripple, cubic, cubic_bracket, {"ftol": 1e-6}, None),
+        # the first midpoint far inside exp's underflow (false position's chords creep)
+        ("exp(-x) - 2*exp(-2*x)", {}, (rng.uniform(0.0, 0.5, n), rng.uniform(1500, 2000, n)),
+         {}, np.full(n, math.log(2.0))),
+    ]
+    compared = found = 0
+    for text, values, bracket, settings, roots in cases:
+        equation = parse_equation(text, unknown="x", parameters=values)
+        batch = solve_batch(equation, method=method, bracket=bracket, chunk_rows=64,
+                            **settings)
+        for i in range(n):
+            run = batch.run(i)
+            if any(abs(step.fx) == 5e-324 for step in run.steps):
+                # f took the smallest double itself: the batch carries such a value as
+                # underflow (solvers.batch.rows.carried, its documented rule); the
+                # scalar run does not. Both are honest; they may take other steps.
+                assert not batch.converged[i] or run.converged
+                continue
+            compared += 1
+            assert (run.reason, run.iterations, run.evaluations) == (
+                batch.reason[i], batch.iterations[i], batch.evaluations[i]), (text, i)
+            assert run.root == batch.root[i] if run.converged else math.isnan(batch.root[i])
+        if roots is none:
+            assert not batch.converged.any(), (text, batch.counts())
+        elif roots is not None:  # reference: the closed form (c; ln 2 for the exponentials)
+            good = batch.converged
+            found += int(good.sum())
+            np.testing.assert_allclose(batch.root[good], roots[good], rtol=1e-10, atol=2e-12)
+    # (plain false position creeps: on the exponentials it reaches the cap, no root)
+    assert found > n and compared > 0.8 * len(cases) * n
+    flags = {kernels.PROBE, kernels.ZERO, kernels.RERUN, kernels.CLOSED, kernels.SPECIAL}
+    if method == "brent":
+        flags.add(kernels.EXOTIC)
+    assert flags <= seen
+    assert {REASONS.index(r) for r in ("f_tolerance", "max_iterations")} <= seen
+
+
+def test_numba_is_imported_on_the_first_compiled_pass_not_at_start_up():
+    # The command line and the window start without the compiler (start-up benchmark);
+    # a batch Brent loads it, and the cached kernels, on first use.
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    code = ("import sys, app.cli, solvers; print('numba' in sys.modules); "
+            "import numpy as np; "
+            "e = solvers.parse_equation('x^2 - p', unknown='x', parameters={'p': np.ones(3)}); "
+            "b = solvers.solve_batch(e, method='brent', bracket=(0.0, 2.0)); "
+            "print('numba' in sys.modules, bool(b.converged.all()))")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         cwd=Path(__file__).resolve().parents[1], check=True).stdout
+    assert out.split() == ["False", "True", "True"]
+
+
 def test_compiled_f_in_blocks_is_the_same_arithmetic_as_one_call():
     # f over more rows than two blocks is evaluated block by block
     # (solvers.equation.compile.in_blocks): every value bit for bit that of one call of

@@ -307,6 +307,14 @@ class Work:
         if self._dead_count >= self.DEAD_SHARE * self.size:
             self._compress(np.flatnonzero(~self.dead))
 
+    def finished_in_place(self, count: int) -> None:
+        """``count`` more rows were finished by a compiled pass itself (a lazy work's:
+        results written to ``out`` as :meth:`finish` writes them, rows marked in
+        ``dead``); the arrays are compressed as :meth:`finish` would."""
+        self._dead_count += count
+        if self._dead_count >= self.DEAD_SHARE * self.size:
+            self._compress(np.flatnonzero(~self.dead))
+
     def _compress(self, keep: np.ndarray) -> None:
         """Keep the rows ``keep`` (ascending indices) of every array: one take per array."""
         n = self.size
