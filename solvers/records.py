@@ -42,6 +42,7 @@ __all__ = [
     "MAX_ITERATIONS",
     "MAX_OBSERVED_ORDER",
     "MIN_OBSERVED_ORDER",
+    "ORDER_AGREEMENT",
     "NOT_FINITE",
     "NO_SIGN_CHANGE",
     "REASONS",
@@ -189,13 +190,20 @@ MIN_OBSERVED_ORDER = 0.8
 # larger estimate comes from an uneven step pattern (Illinois's halved-end steps read
 # 15 or 20), not from the method.
 MAX_OBSERVED_ORDER = 3.5
+# Two successive estimates of the order must agree within this share of the last for it to
+# be reported (ours; a settled rate moves by a few per cent from step to step: Newton
+# 1.94 then 2.00, the secant 1.68 then 1.60, false position 1.00 then 1.00).
+ORDER_AGREEMENT = 0.35
 
 
 def observed_order(run: Run) -> float | None:
     """Estimate the order of convergence p from the steps of the last iterates.
 
     Uses the step lengths s_k = |x_k - x_{k-1}| (``Step.dx``; starting points have
-    none) and p ~ log(s_{k+1}/s_k) / log(s_k/s_{k-1}) over the last three. For a
+    none) and p ~ log(s_{k+1}/s_k) / log(s_k/s_{k-1}) over the last three; where a fourth
+    step before them gives a second estimate, the two must agree within
+    ``ORDER_AGREEMENT`` (35 %) of the last, else the rate has not settled and no order is
+    claimed. For a
     converging sequence the steps shrink as the errors do (superlinear: s_{k+1} ~ e_k;
     linear with ratio c: s_{k+1} = c*s_k exactly as e_{k+1} = c*e_k), so no root is
     needed. Errors measured against the final iterate instead would be biased
@@ -232,4 +240,12 @@ def observed_order(run: Run) -> float | None:
     p = math.log(s2 / s1) / math.log(s1 / s0)
     if not math.isfinite(p) or not MIN_OBSERVED_ORDER <= p <= MAX_OBSERVED_ORDER:
         return None
+    if len(sizes) >= 4 and sizes[-4] > s0:
+        # an order is a rate the steps have settled into: where the estimate from the
+        # three steps before differs by more than ORDER_AGREEMENT of it, the last three
+        # are still finding it (a secant run can read 3.5 then 0.9 before 1.6) and no
+        # order is claimed
+        before = math.log(s1 / s0) / math.log(s0 / sizes[-4])
+        if not abs(before - p) <= ORDER_AGREEMENT * p:
+            return None
     return p

@@ -545,6 +545,23 @@ def test_observed_order_shows_each_method_for_what_it_is():
     assert double.converged and double.order == pytest.approx(1.0, abs=0.05)  # multiple root
 
 
+def test_no_order_is_claimed_before_the_rate_has_settled():
+    # Invented fin, tanh(mL)/(mL) = 0.8 with m = 14.8159 1/m: the secant's last three steps
+    # read 0.90 and the three before them 3.48. The secant's order is the golden ratio
+    # (1 + sqrt 5)/2 (its standard convergence theory), so 0.90 is not an order but a
+    # rate still settling: none is reported. Newton from 0.0300031 reads 3.47 then 2.00.
+    m = 14.8159
+    f = lambda L: math.tanh(m * L) / (m * L) - 0.8  # noqa: E731
+    run = secant(f, 0.03, 0.0300031)
+    assert run.converged and run.order is None
+    steps = [abs(s.dx) for s in run.steps if s.dx is not None]
+    early = math.log(steps[-3] / steps[-4]) / math.log(steps[-4] / steps[-5])
+    late = math.log(steps[-2] / steps[-3]) / math.log(steps[-3] / steps[-4])
+    assert abs(early - late) > 0.35 * late  # the two estimates the rule compares
+    settled = secant(lambda x: math.cos(x) - x, 0.0, 1.0)  # estimates 1.68 then 1.60
+    assert settled.order == pytest.approx((1 + math.sqrt(5)) / 2, abs=0.1)
+
+
 def test_slow_linear_convergence_is_not_read_as_superlinear():
     # false position on exp(x) - 10 over [0, 3]: ratio near 0.8 (one end fixed)
     run = false_position(lambda x: math.exp(x) - 10.0, 0.0, 3.0)
