@@ -132,3 +132,23 @@ def test_every_code_the_core_records_has_words():
     assert set(REASONS) <= set(words.REASON_SHORT)  # a table cell's few words
     for name in ("newton", "secant", "false_position", "illinois", "bisection", "brent"):
         assert words.method_title(name) != name and words.method_summary(name)
+
+
+def test_a_root_that_is_not_the_last_iterate_is_pointed_to_in_every_front_end():
+    # Brent returns the end of its closed bracket where |f| is smaller; its last row can be
+    # the step that closed the bracket. The words say which row the root is, once, for the
+    # terminal's stop line and the one-line message the window and the sheet show.
+    from scipy.optimize import brentq  # reference root
+
+    from solvers import brent, newton
+
+    f = lambda x: x**3 - 2 * x - 5  # noqa: E731 (scipy's own brentq test function)
+    run = brent(f, 2.0, 3.0)
+    assert run.converged and run.steps[-1].x != run.root
+    assert run.root == pytest.approx(brentq(f, 2.0, 3.0, xtol=1e-14), abs=1e-12)
+    row = next(s for s in reversed(run.steps) if s.x == run.root)
+    assert all(abs(row.fx) <= abs(s.fx) for s in run.steps if s.k > row.k)
+    said = f"the root is iterate k = {row.k}"
+    assert said in words.run_message(run) and said.capitalize() in words.stop_line(run)
+    last = newton(f, 2.0, fprime=lambda x: 3 * x**2 - 2)  # its root is its last row
+    assert last.steps[-1].x == last.root and words.root_row_text(last) == ""

@@ -244,6 +244,20 @@ def run_account(run: Any) -> str:
     return detail_text(run.detail) or reason_text(run.reason)
 
 
+def root_row_text(run: Any) -> str:
+    """Where a converged run's root is not its last iterate (a bracketing method returns
+    the end of the closed bracket where |f| is smaller, and its last step may be the
+    check that closed it), which iterate it is; '' otherwise."""
+    steps = getattr(run, "steps", ())
+    if not run.converged or not steps or steps[-1].x == run.root:
+        return ""
+    k = next((s.k for s in reversed(steps) if s.x == run.root), None)
+    if k is None:
+        return ""
+    return (f"the root is iterate k = {k}, where |f| is smaller than at the rows after it "
+            "(they are the steps that closed the bracket on it)")
+
+
 def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
     """The run in one line: method, verdict, counts, what stopped it, and any note; the
     root named as the unknown (``D = 144.9 mm``)."""
@@ -256,8 +270,9 @@ def run_message(run: Any, unknown: str = "x", unit: str | None = None) -> str:
     else:
         text = (f"{title} did not converge ({counts}): {run_account(run)}; "
                 f"last {value}")
-    note = detail_text(getattr(run, "note", None))
-    return text + (f"; {note}" if note else "")
+    extra = "; ".join(t for t in (root_row_text(run), detail_text(getattr(run, "note", None)))
+                      if t)
+    return text + (f"; {extra}" if extra else "")
 
 
 # What a method needs before it can start (solvers.methods.registry's "needs").
@@ -306,8 +321,10 @@ def stop_line(run: Any) -> str:
     detail = detail_text(run.detail)
     note = detail_text(getattr(run, "note", None))
     extra = "; ".join(t for t in (detail, note) if t)
+    where = root_row_text(run)
     return (f"{method_title(run.method)} {run.reason}: {reason_text(run.reason)}."
-            + (f" Record: {extra}." if extra else ""))
+            + (f" Record: {extra}." if extra else "")
+            + (f" {where[0].upper()}{where[1:]}." if where else ""))
 
 
 # ----------------------------------------------------------------- start values
