@@ -303,3 +303,23 @@ def test_written_out_polynomials_keep_their_roots_and_multiplicities() -> None:
             band = [bd for bd in result.noise_bands if bd[0] <= near.x <= bd[1]]
             allowed = band[0][1] - band[0][0] if band else 1e-5
             assert abs(near.x - r) <= allowed, (case, r, near.x, band)
+
+
+def test_one_noise_cluster_is_reported_once_with_no_oscillations_inside_it():
+    # (x - 23/10)^5 typed out with exact coefficients (sympy's expand: the closed form is
+    # the reference): f is rounding noise near 2.3, where the derivative check finds f'
+    # contradicting f's differences and re-scans 64x finer. Everything the looks found in
+    # that stretch is the one root cluster: one root of multiplicity 5, one noise-band
+    # detail (the last look's, the one the root reports), no oscillation or zero run.
+    x = sympy.Symbol("x")
+    text = str(sympy.expand((x - sympy.Rational(23, 10)) ** 5)).replace("**", "^")
+    eq = parse_equation(text)
+    found = scan(eq.f, 0.0, 5.0, fprime=eq.fprime)
+    assert len(found.roots) == 1 and found.roots[0].multiplicity == 5
+    assert abs(found.roots[0].x - 2.3) < 0.01 and not found.poles
+    codes = [d.code for d in found.details]
+    assert codes.count("noise_band") == 1
+    assert not {"bounded_oscillation", "fast_oscillation", "zero_run"} & set(codes)
+    band = next(d for d in found.details if d.code == "noise_band")
+    assert any(u == band.values[0] and v == band.values[1] for u, v in found.noise_bands)
+    assert band.values[0] < 2.3 < band.values[1]

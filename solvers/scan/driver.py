@@ -353,6 +353,10 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
                                                 float(rough[-1][1]))))
     if progress is not None:
         progress(1.0)
+    # later noise looks (after a re-scan or the cross-check) can find a band around what an
+    # earlier step, or a re-scan's own look, recorded as an oscillation or a zero run:
+    # inside the final bands those are rounding noise of the one root cluster, not findings
+    notes = _outside_bands(notes, bands)
     return Scan(
         a=a,
         b=b,
@@ -461,3 +465,36 @@ def _resample(f, fprime, rough, n, a, b, progress, cancel, roots, poles, jumps, 
             continue
         out.append(r)
     return out, spent
+
+
+# The details that name a stretch of f's behaviour and that rounding noise also produces.
+_NOISE_LOOKALIKES = frozenset({"bounded_oscillation", "fast_oscillation", "zero_run"})
+
+
+def _outside_bands(notes: list[Detail], bands: list[tuple[float, float]]) -> list[Detail]:
+    """``notes`` with what the final noise bands explain taken out: an oscillation or zero
+    run lying (mostly: at least half of its stretch) inside a band, and a band's detail
+    that a later look at the same stretch replaced (the later one, made with more
+    samples, is the one the root cluster reports)."""
+    if not bands:
+        return notes
+
+    def covered(d: Detail) -> bool:
+        lo, hi = float(d.values[0]), float(d.values[-1])
+        if hi <= lo:
+            return any(u <= lo <= v for u, v in bands)
+        shared = sum(max(0.0, min(hi, v) - max(lo, u)) for u, v in bands)
+        return shared >= 0.5 * (hi - lo)
+
+    kept: list[Detail] = []
+    seen: list[tuple[float, float]] = []
+    for d in reversed(notes):
+        if d.code == "noise_band":
+            lo, hi = float(d.values[0]), float(d.values[1])
+            if any(lo <= v and u <= hi for u, v in seen):
+                continue  # an earlier look at a stretch a later one covers
+            seen.append((lo, hi))
+        elif d.code in _NOISE_LOOKALIKES and covered(d):
+            continue
+        kept.append(d)
+    return kept[::-1]
