@@ -7,6 +7,7 @@ roots themselves are checked against outside references named beside each check.
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import pytest
 from PySide6.QtCore import Qt
@@ -266,3 +267,30 @@ def test_tab_moves_from_the_equation_to_the_unknown_then_the_parameters(qtbot, w
     qtbot.keyClick(window.strip.unknown_box, Qt.Key.Key_Tab)
     assert QApplication.focusWidget() is window.inputs.parameters_view
     assert window.solve_action.shortcut().toString() == "Ctrl+Return"
+
+
+def test_the_launch_loads_the_scans_compiled_passes_in_the_background():
+    # `zerotrace` starts numba and loads the scan's compiled passes in a thread of its own
+    # as the window opens, so a user's first scan does not wait for them (nor the window's
+    # thread for the GIL they hold while loading). In a fresh process, so that no scan of
+    # another test has loaded them already.
+    import subprocess
+    import sys
+
+    probe = (
+        "import threading\n"
+        "from app.window.main_window import warm_compiled_loops\n"
+        "from solvers.scan import passes\n"
+        "kernels = (passes.detect_pass, passes.ab_start, passes.ab_accept,\n"
+        "           passes.ladder_points, passes.ladder_read)\n"
+        "before = [bool(k.signatures) for k in kernels]\n"
+        "thread = warm_compiled_loops()\n"
+        "assert thread.daemon and thread is not threading.current_thread()\n"
+        "thread.join(timeout=280)\n"  # a fresh install compiles them here (seconds)
+        "print(before, [bool(k.signatures) for k in kernels], thread.is_alive())\n"
+    )
+    out = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True,
+                         cwd=Path(__file__).resolve().parents[1], timeout=290)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.split() == ["[False,", "False,", "False,", "False,", "False]",
+                                  "[True,", "True,", "True,", "True,", "True]", "False"]

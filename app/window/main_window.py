@@ -12,6 +12,7 @@ the UI thread.
 from __future__ import annotations
 
 import math
+import threading
 import time
 from pathlib import Path
 from typing import Any
@@ -591,6 +592,31 @@ def _num(x: float) -> str:
     return format_number(x, 8)
 
 
+def warm_compiled_loops() -> threading.Thread:
+    """Start numba and load the scan's compiled passes in a background thread, now.
+
+    The first scan of a process otherwise pays numba's start (about 0.5 s: its import, its
+    registries, each pass loaded from the cache, or compiled once after an install) in the
+    worker, and while that holds the GIL the window's thread waits: gaps of 150-230 ms.
+    Done at launch, it is over before a user asks for a scan. The thread touches neither
+    Qt nor matplotlib; a failure here only leaves the work to the first scan.
+    """
+    def warm() -> None:
+        import numpy as np
+
+        from solvers.scan import scan
+
+        try:  # enough roots (over 24) that the vectorised refinement runs too
+            scan(lambda x: np.sin(20.0 * x), 0.3, 10.0,
+                 fprime=lambda x: 20.0 * np.cos(20.0 * x), cross_check=False)
+        except Exception:  # noqa: BLE001 - the first real scan will say what is wrong
+            pass
+
+    thread = threading.Thread(target=warm, name="zerotrace-warm-up", daemon=True)
+    thread.start()
+    return thread
+
+
 def main(argv: list[str] | None = None) -> int:
     """Create the application, show the window with a sample (or the file named), run it."""
     import sys
@@ -606,4 +632,5 @@ def main(argv: list[str] | None = None) -> int:
         window.load_sample()
     window.show()
     QTimer.singleShot(0, window.offer_recovery)
+    QTimer.singleShot(0, warm_compiled_loops)
     return int(app.exec())
