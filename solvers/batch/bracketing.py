@@ -17,6 +17,7 @@ results; the rules that need probes of f run here, in numpy, on their rows only
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Callable
 from typing import Any
 
@@ -147,24 +148,6 @@ def bisection(w: Work, s: dict[str, Any]) -> None:
         w.k += 1
 
 
-def _bisection_probes(w: Work, s: dict[str, Any]) -> None:
-    """:func:`_brent_probes` for bisection (the bracket [lo, hi], the midpoint)."""
-    from solvers.batch.kernels import PROBE, ZERO
-
-    idx = np.flatnonzero(w.status >= PROBE)
-    code = w.status.take(idx)
-    closed = idx[code == PROBE]
-    if closed.size:
-        w.status[closed] = closed_verdict(w, closed, w.lo.take(closed), w.flo.take(closed),
-                                          w.hi.take(closed), w.fhi.take(closed))
-    zero = idx[code == ZERO]
-    if zero.size:
-        verdict = np.full(zero.size, -1, dtype=np.int8)
-        _new_point(w, s, verdict, w.mid.take(zero), w.fmid.take(zero), w.lo.take(zero),
-                   w.flo.take(zero), w.hi.take(zero), w.fhi.take(zero), zero)
-        w.status[zero] = verdict
-
-
 def _regula_falsi(w: Work, s: dict[str, Any], illinois_rule: bool) -> None:
     """False position or Illinois on every row's bracket: as :func:`brent`, one compiled
     pass per iteration (:func:`regula_falsi_pass`), f at every row's iterate between
@@ -211,24 +194,6 @@ def _regula_falsi(w: Work, s: dict[str, Any], illinois_rule: bool) -> None:
         w.k += 1
 
 
-def _regula_falsi_probes(w: Work, s: dict[str, Any]) -> None:
-    """:func:`_brent_probes` for false position and Illinois (ends a and b, the iterate)."""
-    from solvers.batch.kernels import PROBE, ZERO
-
-    idx = np.flatnonzero(w.status >= PROBE)
-    code = w.status.take(idx)
-    closed = idx[code == PROBE]
-    if closed.size:
-        w.status[closed] = _verdicts(w, closed, w.xa.take(closed), w.fa.take(closed),
-                                     w.xb.take(closed), w.fb.take(closed))
-    zero = idx[code == ZERO]
-    if zero.size:
-        verdict = np.full(zero.size, -1, dtype=np.int8)
-        _new_point(w, s, verdict, w.x.take(zero), w.fx.take(zero), w.xa.take(zero),
-                   w.fa.take(zero), w.xb.take(zero), w.fb.take(zero), zero)
-        w.status[zero] = verdict
-
-
 def false_position(w: Work, s: dict[str, Any]) -> None:
     """Plain false position on every row's bracket."""
     _regula_falsi(w, s, illinois_rule=False)
@@ -244,6 +209,36 @@ def _verdicts(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
     first = x1 < x2
     return closed_verdict(w, idx, np.where(first, x1, x2), np.where(first, f1, f2),
                           np.where(first, x2, x1), np.where(first, f2, f1))
+
+
+def _probes(w: Work, s: dict[str, Any], *, closed: tuple[str, str, str, str],
+            point: tuple[str, str], ends: tuple[str, str, str, str]) -> None:
+    """The verdicts that need probes of f, in numpy on those rows: a closed bracket
+    (:data:`PROBE`, :func:`closed_verdict`, its ends the arrays named by ``closed``) and
+    an exact 0.0 at a new point (:data:`ZERO`, :func:`iterate_zero`: the point and the
+    bracket ends around it named by ``point`` and ``ends``); their codes are written in
+    ``w.status`` (exact_zero or not_finite for a zero: no end there underflowed)."""
+    from solvers.batch.kernels import PROBE, ZERO
+
+    idx = np.flatnonzero(w.status >= PROBE)
+    code = w.status.take(idx)
+    rows = idx[code == PROBE]
+    if rows.size:
+        w.status[rows] = _verdicts(w, rows, *(getattr(w, n).take(rows) for n in closed))
+    zero = idx[code == ZERO]
+    if zero.size:
+        verdict = np.full(zero.size, -1, dtype=np.int8)
+        _new_point(w, s, verdict, *(getattr(w, n).take(zero) for n in (*point, *ends)), zero)
+        w.status[zero] = verdict
+
+
+# Each method's arrays: the closed bracket's ends, the new point, the ends around it.
+_brent_probes = functools.partial(_probes, closed=("xb", "fb", "xc", "fc"),
+                                  point=("xb", "fb"), ends=("xa", "fa", "xc", "fc"))
+_bisection_probes = functools.partial(_probes, closed=("lo", "flo", "hi", "fhi"),
+                                      point=("mid", "fmid"), ends=("lo", "flo", "hi", "fhi"))
+_regula_falsi_probes = functools.partial(_probes, closed=("xa", "fa", "xb", "fb"),
+                                         point=("x", "fx"), ends=("xa", "fa", "xb", "fb"))
 
 
 def brent(w: Work, s: dict[str, Any]) -> None:
@@ -332,21 +327,3 @@ def _settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
             return
 
 
-def _brent_probes(w: Work, s: dict[str, Any]) -> None:
-    """The verdicts that need probes of f, in numpy on those rows: a closed bracket
-    (:data:`PROBE`, :func:`closed_verdict`) and an exact 0.0 at a new point
-    (:data:`ZERO`, :func:`iterate_zero`); their codes are written in ``w.status``."""
-    from solvers.batch.kernels import PROBE, ZERO
-
-    idx = np.flatnonzero(w.status >= PROBE)
-    code = w.status.take(idx)
-    closed = idx[code == PROBE]
-    if closed.size:
-        w.status[closed] = _verdicts(w, closed, w.xb.take(closed), w.fb.take(closed),
-                                     w.xc.take(closed), w.fc.take(closed))
-    zero = idx[code == ZERO]
-    if zero.size:
-        verdict = np.full(zero.size, -1, dtype=np.int8)
-        _new_point(w, s, verdict, w.xb.take(zero), w.fb.take(zero), w.xa.take(zero),
-                   w.fa.take(zero), w.xc.take(zero), w.fc.take(zero), zero)
-        w.status[zero] = verdict  # (exact_zero or not_finite: no end here underflowed)

@@ -228,6 +228,22 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
 
 
 @kernel
+def _special(x: float, fx: float, x1: float, f1: float, x2: float, f2: float, xtol: float,
+             rtol: float) -> tuple[int, float]:
+    """(code, f to go on with) at a new point x between the ends (x1, f1), (x2, f2) whose
+    f is 0.0 or not finite: not finite; inside an end's stretch of underflow (x lies in
+    it, carried with that end's sign: run again); an exact zero in line with the ends (a
+    root); else a 0.0 the caller probes."""
+    if not math.isfinite(fx):
+        return NOT_FIN, fx
+    if abs(f1) == _TINY or abs(f2) == _TINY:
+        return RERUN, math.copysign(_TINY, f1 if abs(f1) == _TINY else f2)
+    if _straight_through(x, x1, f1, x2, f2, xtol + rtol * abs(x)):
+        return EXACT, fx
+    return ZERO, fx
+
+
+@kernel
 def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0, fa0, b0,
                  fb0, code_out, root_out, residual_out, iterations_out, evaluations_out,
                  extra, converged, k: int, calls: int, xtol: float, rtol: float
@@ -260,18 +276,7 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
             code = _closed_code(xb[i], fb[i], xc[i], fc[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
         elif code == SPECIAL:
-            x_b = xb[i]
-            if not math.isfinite(fb[i]):
-                code = NOT_FIN
-            elif abs(fa[i]) == _TINY or abs(fc[i]) == _TINY:
-                # an end's stretch of underflow: x lies in it, with its sign
-                fb[i] = math.copysign(_TINY, fa[i] if abs(fa[i]) == _TINY else fc[i])
-                code = RERUN
-            elif _straight_through(x_b, xa[i], fa[i], xc[i], fc[i],
-                                   xtol + rtol * abs(x_b)):
-                code = EXACT
-            else:
-                code = ZERO
+            code, fb[i] = _special(xb[i], fb[i], xa[i], fa[i], xc[i], fc[i], xtol, rtol)
         elif code == EXOTIC:  # the pass's tests passed: the step scaled with ldexp
             x_a, f_a, x_b, f_b, x_c, f_c = xa[i], fa[i], xb[i], fb[i], xc[i], fc[i]
             half_tol = 0.5 * (xtol + rtol * abs(x_b))
@@ -375,17 +380,7 @@ def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b
             code = _closed_code(lo[i], flo[i], hi[i], fhi[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
         elif code == SPECIAL:
-            x_m = mid[i]
-            if not math.isfinite(fmid[i]):
-                code = NOT_FIN
-            elif abs(flo[i]) == _TINY or abs(fhi[i]) == _TINY:
-                fmid[i] = math.copysign(_TINY, flo[i] if abs(flo[i]) == _TINY else fhi[i])
-                code = RERUN
-            elif _straight_through(x_m, lo[i], flo[i], hi[i], fhi[i],
-                                   xtol + rtol * abs(x_m)):
-                code = EXACT
-            else:
-                code = ZERO
+            code, fmid[i] = _special(mid[i], fmid[i], lo[i], flo[i], hi[i], fhi[i], xtol, rtol)
         if code == PROBE or code == ZERO:
             probes += 1
         elif code == RERUN:
@@ -532,16 +527,7 @@ def regula_falsi_settle(xa, fa, xb, fb, ga, x, fx, previous, previous_step, prev
             code = _closed_code(xa[i], fa[i], xb[i], fb[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
         elif code == SPECIAL:
-            x_n = x[i]
-            if not math.isfinite(fx[i]):
-                code = NOT_FIN
-            elif abs(fa[i]) == _TINY or abs(fb[i]) == _TINY:
-                fx[i] = math.copysign(_TINY, fa[i] if abs(fa[i]) == _TINY else fb[i])
-                code = RERUN
-            elif _straight_through(x_n, xa[i], fa[i], xb[i], fb[i], xtol + rtol * abs(x_n)):
-                code = EXACT
-            else:
-                code = ZERO
+            code, fx[i] = _special(x[i], fx[i], xa[i], fa[i], xb[i], fb[i], xtol, rtol)
         if code == PROBE or code == ZERO:
             probes += 1
         elif code == RERUN:
