@@ -361,26 +361,26 @@ def bisection_pass(lo, flo, hi, fhi, mid, fmid, skip, status, xtol: float, rtol:
 
 
 @kernel
-def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b0, fb0,
-                     code_out, root_out, residual_out, iterations_out, evaluations_out,
-                     extra, converged, k: int, calls: int, xtol: float, rtol: float
-                     ) -> tuple[int, int, int]:
-    """:func:`brent_settle` for bisection: ``CLOSED`` rows get their verdict (root: the
-    end of smaller |f|), ``SPECIAL`` rows the rules of an exact 0.0 or a value that is
-    not finite at the midpoint (root: the midpoint); rows with a reason code are
-    finished in place. Returns the numbers of rows finished, left for probes, and to
-    run again."""
+def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0, code_out,
+                    root_out, residual_out, iterations_out, evaluations_out, extra,
+                    converged, k: int, calls: int, xtol: float, rtol: float,
+                    first_on_tie: bool) -> tuple[int, int, int]:
+    """The settling loop of a method with a bracket [e1, e2] and one new point x:
+    ``CLOSED`` rows get their verdict (root: the end of smaller |f|, e1 on a tie when
+    ``first_on_tie``), ``SPECIAL`` rows the rules of an exact 0.0 or a value that is not
+    finite at x (root: x); rows with a reason code are finished in place. Returns the
+    numbers of rows finished, left for probes, and to run again."""
     stopped = probes = again = 0
-    for i in range(lo.size):
+    for i in range(x.size):
         code = status[i]
         if code < 0:
             continue
         if code == CLOSED:
             row = rows[i]
-            code = _closed_code(lo[i], flo[i], hi[i], fhi[i], a0[row], fa0[row], b0[row],
+            code = _closed_code(e1[i], f1[i], e2[i], f2[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
         elif code == SPECIAL:
-            code, fmid[i] = _special(mid[i], fmid[i], lo[i], flo[i], hi[i], fhi[i], xtol, rtol)
+            code, fx[i] = _special(x[i], fx[i], e1[i], f1[i], e2[i], f2[i], xtol, rtol)
         if code == PROBE or code == ZERO:
             probes += 1
         elif code == RERUN:
@@ -388,10 +388,10 @@ def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b
         elif code >= 0:
             row = rows[i]
             good = converged[code]
-            at_mid = code == F_TOL or code == EXACT
-            lo_better = abs(flo[i]) <= abs(fhi[i])
-            root = mid[i] if at_mid else (lo[i] if lo_better else hi[i])
-            residual = fmid[i] if at_mid else (flo[i] if lo_better else fhi[i])
+            at_x = code == F_TOL or code == EXACT
+            first = abs(f1[i]) <= abs(f2[i]) if first_on_tie else abs(f1[i]) < abs(f2[i])
+            root = x[i] if at_x else (e1[i] if first else e2[i])
+            residual = fx[i] if at_x else (f1[i] if first else f2[i])
             code_out[row] = code
             root_out[row] = root if good else math.nan
             residual_out[row] = residual if good else math.nan
@@ -402,6 +402,18 @@ def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b
             code = -1
         status[i] = code
     return stopped, probes, again
+
+
+@kernel
+def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b0, fb0,
+                     code_out, root_out, residual_out, iterations_out, evaluations_out,
+                     extra, converged, k: int, calls: int, xtol: float, rtol: float
+                     ) -> tuple[int, int, int]:
+    """:func:`brent_settle` for bisection (:func:`_two_end_settle` on [lo, hi] and the
+    midpoint; lo on a tie of |f|, as the scalar bisection)."""
+    return _two_end_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b0,
+                           fb0, code_out, root_out, residual_out, iterations_out,
+                           evaluations_out, extra, converged, k, calls, xtol, rtol, True)
 
 
 @kernel
@@ -512,40 +524,8 @@ def regula_falsi_settle(xa, fa, xb, fb, ga, x, fx, previous, previous_step, prev
                         code_out, root_out, residual_out, iterations_out, evaluations_out,
                         extra, converged, k: int, calls: int, xtol: float, rtol: float
                         ) -> tuple[int, int, int]:
-    """:func:`brent_settle` for false position and Illinois: ``CLOSED`` rows get their
-    verdict (root: the end of smaller |f|), ``SPECIAL`` rows the rules of an exact 0.0
-    or a value that is not finite at the iterate (root: the iterate); rows with a
-    reason code are finished in place. Returns the numbers of rows finished, left for
-    probes, and to run again."""
-    stopped = probes = again = 0
-    for i in range(xb.size):
-        code = status[i]
-        if code < 0:
-            continue
-        if code == CLOSED:
-            row = rows[i]
-            code = _closed_code(xa[i], fa[i], xb[i], fb[i], a0[row], fa0[row], b0[row],
-                                fb0[row])
-        elif code == SPECIAL:
-            code, fx[i] = _special(x[i], fx[i], xa[i], fa[i], xb[i], fb[i], xtol, rtol)
-        if code == PROBE or code == ZERO:
-            probes += 1
-        elif code == RERUN:
-            again += 1
-        elif code >= 0:
-            row = rows[i]
-            good = converged[code]
-            at_x = code == F_TOL or code == EXACT
-            a_better = abs(fa[i]) < abs(fb[i])
-            root = x[i] if at_x else (xa[i] if a_better else xb[i])
-            residual = fx[i] if at_x else (fa[i] if a_better else fb[i])
-            code_out[row] = code
-            root_out[row] = root if good else math.nan
-            residual_out[row] = residual if good else math.nan
-            iterations_out[row] = k
-            evaluations_out[row] = calls + extra[row]
-            dead[i] = True
-            stopped += 1
-            code = -1
-        status[i] = code
-    return stopped, probes, again
+    """:func:`brent_settle` for false position and Illinois (:func:`_two_end_settle` on
+    the ends a, b and the iterate; b on a tie of |f|, as the scalar methods)."""
+    return _two_end_settle(xa, fa, xb, fb, x, fx, status, dead, rows, a0, fa0, b0, fb0,
+                           code_out, root_out, residual_out, iterations_out,
+                           evaluations_out, extra, converged, k, calls, xtol, rtol, False)
