@@ -289,3 +289,28 @@ def test_defined_units_for_people_use_derived_units_and_files_keep_base_units():
     assert heat.definition_units(derived=True) == {"h": "W/(m^2*K)"}
     assert heat.definition_units() == {"h": "kg/(s^3*K)"}
     assert heat.definition_values(500.0)["h"] == pytest.approx(500.0, rel=1e-15)
+
+
+def test_the_solve_csv_carries_the_definitions_at_the_root(tmp_path, capsys):
+    # Invented pipe: Darcy-Weisbach written in three lines. Closed form (hand algebra):
+    # hf = f L/D v^2/(2g), v = 4Q/(pi D^2)  =>  D^5 = 8 f L Q^2 / (pi^2 g hf).
+    import csv
+
+    from app.cli import main
+
+    log = tmp_path / "pipe.csv"
+    code = main(["solve", "A = pi*D^2/4; v = Q/A; hf = f*L/D*v^2/(2*g)", "--unknown", "D",
+                 "--unknown-unit", "mm", "--param", "Q=20 L/s", "--param", "f=0.02",
+                 "--param", "L=300 m", "--param", "g=9.80665 m/s^2", "--param", "hf=5 m",
+                 "--x0", "100", "--method", "newton", "--csv", str(log)])
+    capsys.readouterr()
+    assert code == 0
+    d = (8 * 0.02 * 300 * 0.020**2 / (math.pi**2 * 9.80665 * 5.0)) ** 0.2  # m
+    lines = [row[0] for row in csv.reader(log.read_text().splitlines()) if row]
+    line = next(x for x in lines if x.startswith("# definitions at newton's root:"))
+    values = dict(part.split(" = ") for part in line.split(": ", 1)[1].split("; "))
+    area, unit = values["A"].split()
+    assert unit == "m^2" and float(area) == pytest.approx(math.pi * d**2 / 4, rel=1e-12)
+    speed, unit = values["v"].split()
+    assert unit == "m/s" and float(speed) == pytest.approx(0.020 / (math.pi * d**2 / 4),
+                                                          rel=1e-12)

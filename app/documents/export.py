@@ -325,6 +325,13 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
     if notes:
         more["start values"] = "; ".join(notes)
     eq = solution.equation
+    at_root = getattr(solution, "definitions_at_root", None)
+    if at_root is not None:  # part of the answer (a Reynolds number, an area): SI, exact
+        run, values = at_root
+        units = eq.definition_units()
+        more[f"definitions at {run.method}'s root"] = "; ".join(
+            f"{name} = {value!r}" + (f" {units[name]}" if units.get(name) else "")
+            for name, value in values.items())
     return metadata(
         equation=ws.equation,
         unknown=eq.unknown,
