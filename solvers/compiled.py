@@ -22,7 +22,23 @@ evaluated outside, vectorised, by the compiled numpy code of the equation.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from typing import Any
+
 from numba import njit
 
-kernel = njit(cache=True, nogil=True, error_model="numpy")
-"""Decorator: compile a loop over numbers and arrays (see the module notes)."""
+_CACHED = njit(cache=True, nogil=True, error_model="numpy")
+_IN_MEMORY = njit(nogil=True, error_model="numpy")
+
+
+def kernel(loop: Callable[..., Any]) -> Any:
+    """Decorator: compile a loop over numbers and arrays (see the module notes).
+
+    Where numba finds no writable place for its cache (a read-only install with no
+    writable home or cache folder: it refuses at decoration with a RuntimeError), the
+    loop is compiled in memory instead, once per process: slower to start, never broken.
+    """
+    try:
+        return _CACHED(loop)
+    except RuntimeError:
+        return _IN_MEMORY(loop)
