@@ -223,7 +223,7 @@ def solve_batch(
         progress(1.0)
     return Batch(
         root=result.root.reshape(shape),
-        converged=CONVERGED_INDEX[result.code].reshape(shape),
+        converged=CONVERGED_INDEX.take(result.code).reshape(shape),
         reason=reason_array(result.code).reshape(shape),
         iterations=result.iterations.reshape(shape),
         evaluations=result.evaluations.reshape(shape),
@@ -242,8 +242,7 @@ def _solve_chunk(equation: Any, kernel: Callable[[Work, dict[str, Any]], None],
         chunk_values = {k: (v[begin:end] if isinstance(v, np.ndarray) else v)
                         for k, v in values.items()}
         fn = Rows(equation, chunk_values, n, None, units)
-    whole = n == len(result.code)  # one chunk: the kernel writes the results in place
-    out = result if whole else Outcome(n)
+    out = result if n == len(result.code) else result.part(begin, end)
     bad = np.flatnonzero(fn.bad)
     if bad.size:
         nothing = np.full(bad.size, np.nan)
@@ -257,9 +256,3 @@ def _solve_chunk(equation: Any, kernel: Callable[[Work, dict[str, Any]], None],
         chunk_starts = {k: v[begin:end].copy() for k, v in starts.items()}
     if rows.size:
         kernel(Work(out, fn, rows, poll, **chunk_starts), settings)
-    if whole:
-        return
-    sl = slice(begin, end)
-    result.root[sl], result.code[sl], result.residual[sl] = out.root, out.code, out.residual
-    result.iterations[sl], result.evaluations[sl] = out.iterations, out.evaluations
-    result.notes.extend(out.notes)
