@@ -85,24 +85,22 @@ def newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code):
     Returns (stops, pending): the rows stopping (pending ones included) and how many of
     them are pending. (No row moves here: most iterations stop no row, and a pass that
     only compares is several times faster than one that also moves rows.)
+
+    The tests are selections from the last to the first (the first that holds wins, as
+    in the scalar method's chain of ifs), not branches: where most rows stop, which test
+    stops a row follows no pattern, and the pass takes half the time without branches.
     """
     stops = 0
     pending = 0
+    last = MAX_IT if k >= cap else GO_ON
     for i in range(n):
         fi = fx[i]
-        c = GO_ON
-        if dead[i]:
-            c = DEAD
-        elif not np.isfinite(fi):
-            c = NOT_FIN
-        elif fi == 0.0:
-            c = PENDING
-        elif abs(fi) <= ftol:
-            c = F_TOL
-        elif abs(dx[i]) <= xtol + rtol * abs(x[i]):  # NaN before the first step: never
-            c = X_TOL
-        elif k >= cap:
-            c = MAX_IT
+        # NaN before the first step: the step test never holds
+        c = X_TOL if abs(dx[i]) <= xtol + rtol * abs(x[i]) else last
+        c = F_TOL if abs(fi) <= ftol else c
+        c = PENDING if fi == 0.0 else c
+        c = NOT_FIN if not np.isfinite(fi) else c
+        c = DEAD if dead[i] else c
         code[i] = c
         stops += c >= 0
         pending += c == PENDING
