@@ -159,9 +159,11 @@ class Rows:
                        "fprime": None if core.fprime_code is None else core.fprime_code.vector}
         if core.bind_code is None:
             return
-        params = (bound.parameters[name] for name in core.parameter_names)
-        out = core.bind_code.vector(*(np.float64(v) if v.__class__ is float else v
-                                      for v in params))
+        out = bound._cache.get("hoisted")  # computed by the binding: the same numpy code
+        if out is None:
+            params = (bound.parameters[name] for name in core.parameter_names)
+            out = core.bind_code.vector(*(np.float64(v) if v.__class__ is float else v
+                                          for v in params))
         hoisted = []
         for value in out[:core.n_hoisted]:
             arr = np.asarray(value, dtype=np.float64)
