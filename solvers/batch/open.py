@@ -190,6 +190,9 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     f and f' are evaluated on the rows at work only; everything between (the tests, the
     step, the rows that stop and their results) is compiled passes over those rows
     (:mod:`solvers.batch.open_kernels`), and the rows that stop leave the arrays at once.
+    The exact-zero rule's probes beside the rows that stop on a 0.0 of f (both sides,
+    counted as the scalar rule takes them) are evaluated with the next call of f, after
+    the rows at work (:meth:`_AtWork.f_and_probes`): one call of f per iteration.
     """
     xtol, rtol, ftol, cap, damping = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter",
                                                      "damping"))
