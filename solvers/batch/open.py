@@ -68,17 +68,18 @@ class _AtWork:
     progress at their number.
     """
 
-    def __init__(self, w: Work, *extra: np.ndarray) -> None:
+    def __init__(self, w: Work, *extra: np.ndarray, room: int = 0) -> None:
         self.w = w
         n = w.size
         self.rows = np.array(w.rows, dtype=np.int64)
         self.parts = w._h
         self.arrays = [j for j, h in enumerate(self.parts) if h.__class__ is np.ndarray]
-        self.carry = np.empty((len(self.arrays) + len(extra), n))
+        # ``room`` more columns: probes evaluated in one call with the rows at work
+        self.carry = np.empty((len(self.arrays) + len(extra), n + room))
         for row, j in enumerate(self.arrays):
-            self.carry[row] = self.parts[j]
+            self.carry[row, :n] = self.parts[j]
         for row, values in enumerate(extra, start=len(self.arrays)):
-            self.carry[row] = values
+            self.carry[row, :n] = values
         self.code = np.empty(n, dtype=np.int8)
         self.dead = np.zeros(n, dtype=np.int8)
         self.place = np.empty(n, dtype=np.int64)  # positions the kernels list rows in
@@ -120,6 +121,43 @@ class _AtWork:
             values[j] = parts[row, :n]
         return self.w.fn.call("f", x[:n], tuple(values))
 
+    def stage_zeros(self, n: int, x: np.ndarray, s: dict[str, Any]) -> int:
+        """:func:`solvers.batch.open_kernels.zero_probes`: both probes of the exact-zero
+        rule for the PENDING rows among the first ``n``, staged for the next call of f
+        (:meth:`f_and_probes`); returns how many rows."""
+        if self.probes is None:
+            size, parts = self.code.size, self.carry.shape[0]
+            self.probes = (np.empty(size, dtype=np.int64), np.empty(size, dtype=np.int64),
+                           np.empty(2 * size), np.empty((parts, 2 * size)))
+        at, prow, px, pparts = self.probes
+        return _kernels().zero_probes(n, x, self.code, s["xtol"], s["rtol"], self.rows,
+                                      self.carry, self.w._extra, at, prow, px, pparts)
+
+    def f_and_probes(self, n: int, x: np.ndarray, p: int) -> np.ndarray:
+        """f at the rows at work ``x[:n]`` (one call for each of them, counted) and at the
+        ``p`` rows' probes :meth:`stage_zeros` staged, as one call: the probes go after
+        the rows at work (``x`` and the carried parts have room for them), and
+        :func:`solvers.batch.open_kernels.zero_verdicts` writes those rows' verdicts.
+        Returns f at ``x[:n]`` (and beyond: the probes' values, not to be read)."""
+        w = self.w
+        if not p:
+            return w.f(x[:n])
+        end = n + 2 * p
+        _, prow, px, pparts = self.probes
+        x[n:end] = px[:2 * p]
+        carry = self.carry
+        carry[:, n:end] = pparts[:, :2 * p]
+        values = list(self.parts)
+        for row, j in enumerate(self.arrays):
+            values[j] = carry[row, :end]
+        fx = w.fn.call("f", x[:end], tuple(values))
+        if not fx.flags.writeable or np.may_share_memory(fx, x):
+            fx = np.array(fx, dtype=np.float64)  # the kernels write into f's values
+        w.calls += 1
+        out = self.out
+        _kernels().zero_verdicts(p, fx[n:end], prow, w._extra, out[1], out[2], out[3], out[5])
+        return fx
+
     def extra(self, which: int, n: int) -> np.ndarray:
         """The ``which``-th extra per-row values of the first ``n`` rows."""
         return self.carry[len(self.arrays) + which, :n]
@@ -152,6 +190,9 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     f and f' are evaluated on the rows at work only; everything between (the tests, the
     step, the rows that stop and their results) is compiled passes over those rows
     (:mod:`solvers.batch.open_kernels`), and the rows that stop leave the arrays at once.
+    The exact-zero rule's probes beside the rows that stop on a 0.0 of f (both sides,
+    counted as the scalar rule takes them) are evaluated with the next call of f, after
+    the rows at work (:meth:`_AtWork.f_and_probes`): one call of f per iteration.
     """
     xtol, rtol, ftol, cap, damping = (s[k] for k in ("xtol", "rtol", "ftol", "max_iter",
                                                      "damping"))
@@ -159,23 +200,26 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     n = w.size
     x0 = w.x0
     extra = () if symbolic else (np.where(x0 != 0.0, DERIVATIVE_FLOOR * np.abs(x0), 1.0),)
-    a = _AtWork(w, *extra)
+    # room for the probes of the exact-zero rule after the rows at work: at most one pair
+    # per row that stops, evaluated with the next call of f (f'(x) comes first)
+    a = _AtWork(w, *extra, room=n)
     code, dead = a.code, a.dead
     ok = _kernels()
-    x, dx = np.empty(n), np.empty(n)
+    x, dx = np.empty(2 * n), np.empty(n)
     if ok.newton_start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
         n = a.settle(n, 0, x, x, (x, dx))
         if not n:
             return
     fx = w.f(x[:n])
     k = 0
+    p = 0  # rows whose probes wait for the next call of f
     while True:
         w.k = k
         w.tick()
         stops, pending = ok.newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
         if stops:
             if pending:
-                _probe_zeros(w, a, n, x, s)
+                p = a.stage_zeros(n, x, s)
             n = a.settle(n, k, x, fx, (x, fx, dx))
             if not n:
                 break
@@ -186,8 +230,11 @@ def newton(w: Work, s: dict[str, Any]) -> None:
             n = a.settle(n, k, x, fx, (x, fx, dx))
             if not n:
                 break
-        fx = w.f(x[:n])
+        fx = a.f_and_probes(n, x, p)
+        p = 0
         k += 1
+    if p:  # every row has stopped: the last probes alone
+        a.f_and_probes(0, x, p)
     a.at_work(0)
 
 

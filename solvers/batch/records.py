@@ -198,6 +198,10 @@ def _element(value: Any, shape: tuple[int, ...], i: int) -> float:
     return float(value)
 
 
+_REASON_STRINGS = np.asarray(REASONS)
+
+
 def reason_array(codes: np.ndarray) -> np.ndarray:
-    """Reason strings from the kernels' integer codes."""
-    return np.asarray(REASONS)[codes]
+    """Reason strings from the kernels' integer codes (``take``: about half the time of
+    indexing with the codes, the same array of str)."""
+    return _REASON_STRINGS.take(codes)

@@ -47,6 +47,15 @@ class Outcome:
         self.residual = np.full(n, np.nan)
         self.notes: list[tuple[int, str]] = []
 
+    def part(self, begin: int, end: int) -> Outcome:
+        """The rows begin..end: views of these arrays (a chunk's kernel writes its results
+        straight into the whole batch's, no copy afterwards) and the same notes."""
+        part = object.__new__(Outcome)
+        for name in ("root", "code", "iterations", "evaluations", "residual"):
+            setattr(part, name, getattr(self, name)[begin:end])
+        part.notes = self.notes
+        return part
+
     def write(self, rows: np.ndarray, code: Any, root: np.ndarray, residual: np.ndarray,
               iterations: Any, evaluations: Any) -> None:
         code = np.broadcast_to(np.asarray(code, dtype=np.int8), rows.shape)
@@ -150,9 +159,11 @@ class Rows:
                        "fprime": None if core.fprime_code is None else core.fprime_code.vector}
         if core.bind_code is None:
             return
-        params = (bound.parameters[name] for name in core.parameter_names)
-        out = core.bind_code.vector(*(np.float64(v) if v.__class__ is float else v
-                                      for v in params))
+        out = bound._cache.get("hoisted")  # computed by the binding: the same numpy code
+        if out is None:
+            params = (bound.parameters[name] for name in core.parameter_names)
+            out = core.bind_code.vector(*(np.float64(v) if v.__class__ is float else v
+                                          for v in params))
         hoisted = []
         for value in out[:core.n_hoisted]:
             arr = np.asarray(value, dtype=np.float64)

@@ -488,7 +488,7 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
                                if v.__class__ is not float)
             raise EquationError(f"parameter rows do not broadcast together: {shapes}") from None
     hoisted = _run_checks(core, args, scalar)
-    return Equation(
+    equation = Equation(
         text=core.text,
         unknown=core.unknown,
         parameters=values,
@@ -500,6 +500,11 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
         unknown_unit=unknown_unit,
         units=used,
     )
+    if not scalar:
+        # the numpy path's values (arrays of the rows): solve_batch takes f's parameter
+        # parts from here instead of computing them again (solvers.batch.rows.Rows)
+        equation._cache["hoisted"] = hoisted
+    return equation
 
 
 # ---------------------------------------------------------------------------------------------
