@@ -272,7 +272,8 @@ def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bo
     table = np.zeros((len(checks), width))
     for row, (i, _) in enumerate(checks):
         table[row, : len(coefficients[i])] = coefficients[i]
-    rows = np.concatenate([np.full(len(t), row) for row, (_, t) in enumerate(checks)])
+    # (each check's row number once per known zero: one repeat, not an array per check)
+    rows = np.repeat(np.arange(len(checks)), [len(t) for _, t in checks])
     ts = np.concatenate([t for _, t in checks])
     if ts.size:
         pts = np.clip(np.concatenate([ts - _CERTIFY_STEP, ts + _CERTIFY_STEP]), -1.0, 1.0)
@@ -283,8 +284,9 @@ def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bo
     else:
         flips = np.zeros(0, dtype=bool)
     start = 0
+    flipped = flips.tolist()  # (list slices: a numpy slice and .all() per check cost more)
     for i, t in checks:
-        out[i] = bool(flips[start:start + len(t)].all())
+        out[i] = all(flipped[start:start + len(t)])
         start += len(t)
     return out
 
