@@ -25,14 +25,14 @@ vectorised. What it costs beyond the baseline is what it checks on purpose. Its 
 the samples and the brackets (the candidate passes, the aliasing check, Anderson-Bjorck's
 and golden section's bracket updates, the multiplicity ladder's points and slopes, the
 clean-ramp test) are compiled (solvers/scan/passes.py): a few us each where they were
-dozens of numpy calls of about 1 us. On the cantilever with f' (about 0.28 ms) what
+dozens of numpy calls of about 1 us. On the cantilever with f' (about 0.26 ms) what
 remains is f itself (f and f' on the grid, about 70 us, f' the dearer; the Newton polish's
 calls of f' and f on the 16 roots, about 20 us; the ladder's 29 points a root, about 20 us),
 the scalar refinement, and the numpy calls and Python between the steps (a few us each,
 spread over dozens of places). With many roots (sin(x^2): 287) the scan is below the
 baseline; on the 20 sinusoids f's own cost dominates: a call of that compiled f costs
 55-75 us whatever its length (its hundred numpy calls), the scan makes 10 calls with f'
-(the baseline 1, and about 700 scalar ones), each waiting on the values of the one before,
+(the baseline 1, and about 600 scalar ones), each waiting on the values of the one before,
 and asks 7060 points (the ladder alone 2436, the grid twice with f'), so no compiled loop
 brings that ratio to 1 without evaluating f less, which would change results. With f alone
 the Chebyshev proxy adds its fits (matrix products), the counting that certifies most
