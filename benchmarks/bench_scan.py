@@ -16,23 +16,42 @@ a 10^7-sample scan. Run: ``.venv/bin/python benchmarks/bench_scan.py``.
 
 Where the floor is: at 2001 samples and 16 roots the baseline is one f call on the grid
 plus 16 brentq calls in C, each iterate a scalar call of the compiled f (about 0.2 us):
-about 0.16 ms in all. The scan refines few brackets (up to 24) the same way, one by one on
-the scalar f (Anderson-Bjorck in plain Python, about 5 evaluations a root, each about
-0.25 us through compile.py's float path: some 55 us for the cantilever's 16 roots, less
-than the baseline's brentq calls), and many brackets vectorised. What it costs beyond the
-baseline is what it checks on purpose. Its loops over the samples and the brackets (the
-candidate passes, the aliasing check, Anderson-Bjorck's and golden section's bracket
-updates, the multiplicity ladder's points and slopes, the clean-ramp test) are compiled
-(solvers/scan/passes.py): a few us each where they were dozens of numpy calls of about
-1 us. On the cantilever with f' (about 0.3 ms, 0.45 ms before them) what remains is f
-itself (f and f' on the grid, about 60 us; the scalar refinement; the ladder's 29 points a
-root and the noise look's 9), the Python that records the roots, and the glue between the
-steps. With many roots (sin(x^2): 287) the scan is below the baseline; on the 20 sinusoids
-f's own cost dominates (the ladder alone evaluates f at 2436 points, the grid twice with
-f'), so no compiled loop brings that ratio to 1 without evaluating f less, which would
-change results. With f alone the Chebyshev proxy adds its fits (matrix products), the
-counting that certifies most pieces and eigenvalues for the rest (about 3.5x on the
-cantilever).
+about 0.16 ms in all. The scan refines few brackets (up to 24) the same way on the scalar
+f (Anderson-Bjorck, about 5 evaluations a root through compile.py's float path; all the
+brackets in step through the same compiled halves as the vectorised path, f asked a point
+at a time: about 40 us for the cantilever's 16 roots, 81 us when the iteration was plain
+Python bracket by bracket, less than the baseline's brentq calls), and many brackets
+vectorised. What it costs beyond the baseline is what it checks on purpose. Its loops over
+the samples and the brackets (the candidate passes, the aliasing check, Anderson-Bjorck's
+and golden section's bracket updates, the multiplicity ladder's points and slopes, the
+clean-ramp test) are compiled (solvers/scan/passes.py): a few us each where they were
+dozens of numpy calls of about 1 us. On the cantilever with f' (about 0.26 ms) what
+remains is f itself (f and f' on the grid, about 70 us, f' the dearer; the Newton polish's
+calls of f' and f on the 16 roots, about 20 us; the ladder's 29 points a root, about 20 us),
+the scalar refinement, and the numpy calls and Python between the steps (a few us each,
+spread over dozens of places). With many roots (sin(x^2): 287) the scan is below the
+baseline; on the 20 sinusoids f's own cost dominates: a call of that compiled f costs
+55-75 us whatever its length (its hundred numpy calls), the scan makes 10 calls with f'
+(the baseline 1, and about 600 scalar ones), each waiting on the values of the one before,
+and asks 7060 points (the ladder alone 2436, the grid twice with f'), so no compiled loop
+brings that ratio to 1 without evaluating f less, which would change results. With f alone
+the Chebyshev proxy adds its fits (matrix products), the counting that certifies most
+pieces and eigenvalues for the rest (about 3x on the cantilever).
+
+Measured in the round that wrote the refinement in step (profiles of the three compiled
+cases in each mode): the records of the roots (about 0.35 us a root after the earlier
+rounds) and the per-root Python of the proxy's matching were cut by building them in one
+loop and from plain lists (a few % on sin(x^2), nothing visible on 16 roots). Left as they
+are: merging the noise look's two calls of f in a touch test (``noise._at_noise``: the
+spread over a few ulps, then the noise level where that did not decide) would save one call
+of the 20 sinusoids' f (about 60 us of 2.2 ms without a check) at 36 points more a touch
+that the spread already decided, and needs care where f raises on some points (the
+pointwise fallback then sees other points); the proxy's matching (``_match_proxy``, some 40
+numpy calls on 16 roots, about 40 us) compiled would need numba's pow and complex abs to
+agree with numpy's to the bit. With hundreds of roots the garbage collector runs about twice
+a scan (sin(x^2)), now and then a full collection of everything the process holds (sympy's
+objects: several ms): the mean scan time there is far above the best (the ratios here take
+the best).
 
 The compiled loops cost a first compilation once per install (numba's cache, beside the
 module or in the user's cache directory): about 5-7 s the first time a scan runs, then about

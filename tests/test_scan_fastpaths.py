@@ -69,6 +69,22 @@ def test_a_root_built_in_bulk_equals_the_one_its_constructor_builds() -> None:
         built.x = 2.0  # type: ignore[misc]
 
 
+def test_roots_built_in_one_loop_equal_the_ones_the_constructor_builds() -> None:
+    # the multiplicity of a root found at a domain edge is reported as 1 (records.py's rule)
+    from solvers.scan.records import Root, _Found, _new_roots
+
+    found = [_Found(1.5, True, ("anderson_bjorck",), (1.0, 2.0), None),
+             _Found(3.0, False, ("domain_edge_zero",), None, None, ("sampling", "chebyshev"))]
+    built = _new_roots(found, [1.5, 3.0], [-2e-16, 0.0], [3, 2])
+    plain = [Root(x=1.5, residual=-2e-16, multiplicity=3, confirmed=("anderson_bjorck",),
+                  located_by=("sampling",), bracket=(1.0, 2.0), run=None),
+             Root(x=3.0, residual=0.0, multiplicity=1, confirmed=("domain_edge_zero",),
+                  located_by=("sampling", "chebyshev"), bracket=None, run=None)]
+    assert built == plain and [vars(r) for r in built] == [vars(r) for r in plain]
+    with pytest.raises(AttributeError):  # still frozen
+        built[0].x = 2.0  # type: ignore[misc]
+
+
 # ------------------------------------------- few brackets in Python, many brackets in numpy
 
 _BRACKET_FUNCTIONS = [

@@ -11,9 +11,10 @@ How a scan works
    and edges between defined and undefined (NaN) samples. Windows of 32 samples
    where f turns more than 8 times are resampled 8x finer (twice at most, so up to
    64x) before candidates are taken.
-2. **Refine and classify** every sign-change bracket (up to 24 one by one on the scalar
-   f, where numpy's per-call overhead would dominate; more at once, vectorised, one f
-   call per iteration for all brackets): Anderson–Björck false position, safeguarded
+2. **Refine and classify** every sign-change bracket (up to 24 on the scalar f, a
+   point at a time, where numpy's per-call overhead would dominate; more on the
+   vectorised f, one call per iteration for all brackets; both in step, all brackets
+   per iteration): Anderson–Björck false position, safeguarded
    by bisection and a least step of half the tolerance, until each bracket is no
    wider than xtol + rtol |x| (rtol = 4 eps, xtol = 1e-3 eps min(max(|a|, |b|), 1):
    Brent's stop rule, full double precision for a simple root, in any range). A sign

@@ -272,7 +272,8 @@ def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bo
     table = np.zeros((len(checks), width))
     for row, (i, _) in enumerate(checks):
         table[row, : len(coefficients[i])] = coefficients[i]
-    rows = np.concatenate([np.full(len(t), row) for row, (_, t) in enumerate(checks)])
+    # (each check's row number once per known zero: one repeat, not an array per check)
+    rows = np.repeat(np.arange(len(checks)), [len(t) for _, t in checks])
     ts = np.concatenate([t for _, t in checks])
     if ts.size:
         pts = np.clip(np.concatenate([ts - _CERTIFY_STEP, ts + _CERTIFY_STEP]), -1.0, 1.0)
@@ -283,8 +284,9 @@ def _certify(coefficients: list[np.ndarray], known: list[np.ndarray]) -> list[bo
     else:
         flips = np.zeros(0, dtype=bool)
     start = 0
+    flipped = flips.tolist()  # (list slices: a numpy slice and .all() per check cost more)
     for i, t in checks:
-        out[i] = bool(flips[start:start + len(t)].all())
+        out[i] = all(flipped[start:start + len(t)])
         start += len(t)
     return out
 
@@ -390,12 +392,12 @@ def chebyshev_roots(
     loose = (np.abs(t.real) <= 1.0 + 1e-9) & (np.abs(t.imag) <= 0.1)
     ring = (mid + half * t.real)[loose] + 1j * (half * t.imag)[loose]
     return ChebyshevRoots(
-        roots=tuple(float(r) for r in np.sort(real)),
-        near_real=tuple(complex(z) for z in near),
+        roots=tuple(np.sort(real).tolist()),
+        near_real=tuple(near.tolist()),
         pieces=tuple(ChebyshevPiece(u, v, len(c) - 1) for u, v, c in accepted),
         skipped=_merge(skipped),
         undefined=_merge(undefined),
-        ring=tuple(complex(z) for z in ring),
+        ring=tuple(ring.tolist()),
     )
 
 
@@ -426,7 +428,8 @@ def _cross_check(g, gp, cheb: ChebyshevRoots, roots: list[Root], poles, jumps, g
     # proxy roots nobody matched
     features = list(poles) + list(jumps) + [e for gap in gaps for e in gap]
     extra: list[float] = []
-    for z, u in zip(near, used, strict=False):
+    # (Python complex and bool: iterating the arrays makes a numpy scalar per zero)
+    for z, u in zip(near.tolist(), used.tolist(), strict=False):
         if u or abs(z.imag) > 1e-10 * max(1.0, scale):
             continue
         x = float(z.real)
@@ -509,14 +512,22 @@ def _match_proxy(cheb: ChebyshevRoots, roots: list[Root], notes: list[Detail]):
             dist = np.abs(ring - np.clip(ring.real, first[k], last[k]))
             located[k] = bool(np.any(dist <= radius[k]))
     out: list[Root] = []
-    for j, r in enumerate(roots):
-        k = cluster[j]
-        if cpiece[k] < 0:
+    # (plain lists, and each located_by's relabelled tuple made once: numpy indexing and
+    # the tuple per root cost more than the record, with hundreds of roots)
+    piece_of, found_by = cpiece.tolist(), located.tolist()
+    labels: dict[tuple[str, ...], tuple[str, ...]] = {}
+    for k, r in zip(cluster.tolist(), roots, strict=True):
+        kp = piece_of[k]
+        if kp < 0:
             out.append(r)
-        elif located[k]:
-            out.append(_relabel(r, tuple(dict.fromkeys(r.located_by + ("chebyshev",)))))
+        elif found_by[k]:
+            label = labels.get(r.located_by)
+            if label is None:
+                label = labels[r.located_by] = tuple(dict.fromkeys(r.located_by
+                                                                   + ("chebyshev",)))
+            out.append(_relabel(r, label))
         else:
-            p = cheb.pieces[cpiece[k]]
+            p = cheb.pieces[kp]
             out.append(r)
             notes.append(Detail("sampling_only_root", (float(r.x), float(p.a), float(p.b))))
     return out, near, used

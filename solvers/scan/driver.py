@@ -75,8 +75,8 @@ def scan(
     where undefined; exceptions from f count as undefined. ``samples`` is the number of
     equally spaced base samples (default ``DEFAULT_SAMPLES`` = 2001, at least 3); windows
     where f oscillates faster than that are resampled up to 64x finer automatically.
-    Roots are refined (all brackets at once, or one by one when there are few) to Brent's
-    stop rule with rtol = 4 eps
+    Roots are refined (all brackets in step, on the vectorised f, or a point at a time on
+    the scalar f when there are few) to Brent's stop rule with rtol = 4 eps
     (about full double precision for a simple root; a root of multiplicity m is only
     determined to about eps^(1/m) relative unless f is evaluated without cancellation).
     ``progress(fraction)`` is called from the calling thread between chunks and at the

@@ -13,7 +13,7 @@ import numpy as np
 from solvers.records import Detail
 from solvers.scan.kernels import _SQRT_EPS, _bracket_all, _golden, _resolve_brackets, _safe_brent
 from solvers.scan.noise import _LOOK_ALL, _at_noise, _noise, _ramp_clean, _ramp_points
-from solvers.scan.records import DOMAIN_EDGE_CODES, EPS, Root, _Found, _new_root
+from solvers.scan.records import EPS, Root, _Found, _new_roots
 from solvers.scan.sampling import _Guarded, _passes
 
 
@@ -422,8 +422,4 @@ def _finish(g, found: list[_Found], poles, jumps, gaps, h, scale, flags=None,
         flags.extend(int(i) for i in np.flatnonzero(spread > 0.5))
     if ramp is not None:
         clean.extend(_ramp_clean(ramp).tolist())
-    return [
-        _new_root(xi, ri, mi if DOMAIN_EDGE_CODES.isdisjoint(r.how) else 1, r.how,
-                  r.located_by, r.bracket, r.run)
-        for r, xi, ri, mi in zip(merged, xs, res.tolist(), mult.tolist(), strict=True)
-    ]
+    return _new_roots(merged, xs, res.tolist(), mult.tolist())

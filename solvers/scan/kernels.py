@@ -133,89 +133,69 @@ def _bracket_all(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
     return done, out[:, 0].copy(), out[:, 1].copy(), out[:, 2].copy(), out[:, 3].copy()
 
 
-# Up to this many brackets are refined one by one in plain Python (:func:`_bracket_each`).
-# Chosen when an iteration of the vectorised loop cost some 35 numpy calls of about 1 us
-# whatever the bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x,
-# 60 us for a sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to
-# 2.5 us) per bracket: the two broke even near 25 brackets. The vectorised iteration is now
-# two compiled passes (a few us), which moves the break-even lower; the bound stays, as
-# moving it would change results: the scalar f (math) and the vectorised f (numpy) may
-# differ in the last bit, and so may the roots refined on them.
+# Up to this many brackets are refined on the scalar f (:func:`_bracket_each`). Chosen when
+# an iteration of the vectorised loop cost some 35 numpy calls of about 1 us whatever the
+# bracket count, plus one call of f (its own overhead: 3 us for cos x cosh x, 60 us for a
+# sum of 20 sines), against about 1 us of Python and one scalar f (0.5 to 2.5 us) per
+# bracket: the two broke even near 25 brackets. Both now run the same two compiled passes
+# an iteration, which moves the break-even lower; the bound stays, as moving it would
+# change results: the scalar f (math) and the vectorised f (numpy) may differ in the last
+# bit, and so may the roots refined on them.
 _FEW = 24
 
 
 def _bracket_each(g: _Guarded, br: np.ndarray, xtol: float, max_iter: int = 200):
-    """:func:`_bracket_all` one bracket at a time, on the scalar f: the same iteration
-    (Anderson-Bjorck weights, the bisection after three iterations that failed to halve
-    the bracket, the least step of half the tolerance, Brent's stop rule) in Python
-    floats, with numpy's rules where Python's differ (0/0 in the weights is NaN, and the
-    step then falls back on the least step as ``np.fmax`` does). Same returns.
+    """:func:`_bracket_all` on the scalar f: the same iteration (Anderson-Bjorck weights,
+    the bisection after three iterations that failed to halve the bracket, the least step
+    of half the tolerance, Brent's stop rule) in the same compiled halves
+    (:func:`solvers.scan.passes.ab_start`, ``ab_accept``), all brackets in step, with f
+    asked one point at a time on Python floats. Same returns.
+
+    (It was the iteration written out in Python floats, bracket after bracket, with
+    numpy's rules where Python's differ: the compiled halves do that arithmetic in the
+    same order, so each bracket meets the same points and f the same values, and about
+    1 us of Python an evaluation became a few us an iteration: the cantilever's 16
+    brackets 81 us -> 39 us.)
     """
     g.check()
-    rows = br.tolist()
-    count = len(rows)
+    count = len(br)
+    out = np.array(br, dtype=float).reshape(count, 4)  # rows lo, hi, f(lo), f(hi) as they end
     done = np.zeros(count, dtype=bool)
-    out = np.array(rows, dtype=float).reshape(count, 4)
-    fast = g.fast
-    rtol = _RTOL
-    isfinite = math.isfinite
-    for i, (lo, hi, flo, fhi) in enumerate(rows):
-        lo, hi, flo, fhi = float(lo), float(hi), float(flo), float(fhi)
-        wlo, whi = flo, fhi
-        prev_lo = -1
-        w1 = w2 = w3 = math.inf
-        converged = False
-        for it in range(max_iter + 1):
-            width = hi - lo
-            # max(|lo|, |hi|) for lo < hi, without the builtins' calls
-            tol = xtol + rtol * (hi if lo >= 0 else (-lo if hi <= 0 or -lo > hi else hi))
-            if width <= tol:
-                converged = True
-                break
-            if it == max_iter:
-                break
-            if width > 0.5 * w3:
-                t = 0.5
+    active = np.arange(count)
+    lo, hi, flo, fhi = (out[:, j].copy() for j in range(4))
+    wlo, whi = flo.copy(), fhi.copy()
+    prev = np.full(count, -1, dtype=np.int8)
+    w1 = np.full(count, np.inf)
+    w2, w3 = w1.copy(), w1.copy()
+    width, x, fx = np.empty(count), np.empty(count), np.empty(count)
+    n_act = count
+    ab_start, ab_accept = _passes().ab_start, _passes().ab_accept
+    # g.fast written out (a Python call less per evaluation): f itself where it answers a
+    # float, g.scalar (its conversions) where it does not
+    f, scalar, poll = g.f, g.scalar, g.poll
+    polled = g.cancel is not None
+    values: list[float] = []
+    for it in range(max_iter + 1):
+        propose = it < max_iter
+        n_act = ab_start(active, n_act, lo, hi, flo, fhi, wlo, whi, w3, xtol, _RTOL, propose,
+                         done, out, width, x)
+        if n_act == 0 or not propose:
+            break
+        values.clear()
+        for v in x[:n_act].tolist():
+            if polled:
+                poll()
+            try:
+                fv = f(v)
+            except Exception:  # noqa: BLE001 - undefined there; scalar() decides how
+                fv = scalar(v)
             else:
-                try:
-                    t = wlo / (wlo - whi)
-                except ZeroDivisionError:
-                    t = math.nan
-            half = 0.5 * tol
-            x = lo + t * width
-            if not x >= lo + half:  # (NaN too, as np.fmax)
-                x = lo + half
-            if x > hi - half:
-                x = hi - half
-            fx = fast(x)
-            w3, w2, w1 = w2, w1, width
-            if fx == 0:
-                lo = hi = x
-                flo = fhi = 0.0
-                converged = True
-                break
-            if not isfinite(fx):
-                break  # NaN/inf inside: a pole or a hole, left for _classify
-            on_lo = (fx < 0) == (flo < 0)  # x replaces lo (both nonzero here); hi is held
-            if prev_lo != on_lo:
-                m = 1.0
-            else:
-                # Anderson-Bjorck's weight on the end held twice running (the Illinois
-                # factor 1/2 where it is not positive, or 0/0)
-                try:
-                    m = 1.0 - fx / (flo if on_lo else fhi)
-                except ZeroDivisionError:
-                    m = math.nan
-                if not m > 0:
-                    m = 0.5
-            if on_lo:
-                lo, flo, wlo, whi = x, fx, fx, whi * m
-            else:
-                hi, fhi, whi, wlo = x, fx, fx, wlo * m
-            prev_lo = on_lo
-        if converged:
-            done[i] = True
-            out[i] = (lo, hi, flo, fhi)
+                if fv.__class__ is not float:
+                    fv = float(fv) if isinstance(fv, float) else scalar(v)
+            values.append(fv)
+        fx[:n_act] = values
+        n_act = ab_accept(active, n_act, x, fx, lo, hi, flo, fhi, wlo, whi, prev, w1, w2, w3,
+                          width, done, out)
     return done, out[:, 0].copy(), out[:, 1].copy(), out[:, 2].copy(), out[:, 3].copy()
 
 
