@@ -255,6 +255,20 @@ def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
 
 
 @kernel
+def _probe_step(xi: float, xtol: float, rtol: float) -> float:
+    """The exact-zero rule's probe step at x: ``max(tol, 2*ulp(x), smallest normal)``
+    with ``tol = xtol + rtol*|x|`` (:func:`solvers.methods.common._zero_is_root`)."""
+    s = xtol + rtol * abs(xi)
+    if s < _ULP_BOUND * abs(xi):  # only then can 2*ulp(x) exceed the tolerance
+        u = 2.0 * np.spacing(abs(xi))
+        if u > s:
+            s = u
+    if _FLOAT_MIN > s:
+        s = _FLOAT_MIN
+    return s
+
+
+@kernel
 def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, px, px2, pparts):
     """The probes of the exact-zero rule (:func:`solvers.methods.common._zero_is_root`,
     element-wise :func:`solvers.batch.rows.zero_is_root`) for the rows of ``x[:n]`` whose
@@ -270,13 +284,7 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, px, px2, ppart
     for t in range(p):
         i = at[t]
         xi = x[i]
-        s = xtol + rtol * abs(xi)
-        if s < _ULP_BOUND * abs(xi):  # only then can 2*ulp(x) exceed the tolerance
-            u = 2.0 * np.spacing(abs(xi))
-            if u > s:
-                s = u
-        if _FLOAT_MIN > s:
-            s = _FLOAT_MIN
+        s = _probe_step(xi, xtol, rtol)
         px[t] = xi + s
         px2[t] = xi - s
         extra[rows[i]] += 1
@@ -340,13 +348,7 @@ def zero_probes(n, x, code, xtol, rtol, rows, hoisted, extra, at, prow, px, ppar
     for t in range(p):
         i = at[t]
         xi = x[i]
-        s = xtol + rtol * abs(xi)
-        if s < _ULP_BOUND * abs(xi):  # only then can 2*ulp(x) exceed the tolerance
-            u = 2.0 * np.spacing(abs(xi))
-            if u > s:
-                s = u
-        if _FLOAT_MIN > s:
-            s = _FLOAT_MIN
+        s = _probe_step(xi, xtol, rtol)
         px[t] = xi + s
         px[p + t] = xi - s
         r = rows[i]
