@@ -255,6 +255,17 @@ def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
 
 
 @kernel
+def _pending(n: int, code, at) -> int:
+    """The positions of the rows of ``code[:n]`` that are PENDING written to ``at`` (listed
+    with no branch on the code, which follows no pattern); returns how many."""
+    p = 0
+    for i in range(n):
+        at[p] = i
+        p += code[i] == PENDING
+    return p
+
+
+@kernel
 def _probe_step(xi: float, xtol: float, rtol: float) -> float:
     """The exact-zero rule's probe step at x: ``max(tol, 2*ulp(x), smallest normal)``
     with ``tol = xtol + rtol*|x|`` (:func:`solvers.methods.common._zero_is_root`)."""
@@ -276,11 +287,7 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, px, px2, ppart
     ``tol = xtol + rtol*|x|``, the probes ``px = x + step`` (first) and ``px2 = x - step``;
     ``at`` their positions, ``pparts`` their parameter parts of f; the first probe
     counted in the row's ``extra``. Returns how many."""
-    # the pending rows' positions first, with no branch on the (unpredictable) code
-    p = 0
-    for i in range(n):
-        at[p] = i
-        p += code[i] == PENDING
+    p = _pending(n, code, at)
     for t in range(p):
         i = at[t]
         xi = x[i]
@@ -341,10 +348,7 @@ def zero_probes(n, x, code, xtol, rtol, rows, hoisted, extra, at, prow, px, ppar
     parameter parts, ``prow[:p]`` their chunk rows. Each row's code becomes EXACT for
     now (a root, :func:`settle` writes x and f there), its first probe counted in its
     ``extra``. Returns ``p``."""
-    p = 0
-    for i in range(n):
-        at[p] = i
-        p += code[i] == PENDING
+    p = _pending(n, code, at)
     for t in range(p):
         i = at[t]
         xi = x[i]

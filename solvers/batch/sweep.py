@@ -193,14 +193,15 @@ def sweep(
         return slope_before is None or slope * slope_before >= 0, slope
 
     def halved(p_from: float, x_from: float, p_to: float, branch: list[tuple[float, float]],
-               slope: float | None, depth: int = 0) -> list[tuple[float, float, Any, Any,
-                                                               float | None]] | None:
+               slope: float | None, depth: int = 0, known_off: bool = False
+               ) -> list[tuple[float, float, Any, Any, float | None]] | None:
         """The branch followed from (p_from, x_from) to ``p_to`` by halving the step until
         each solve stays on it: the points (value, start, run, bound, f') reached, the last
-        at ``p_to``; None where :data:`MAX_HALVINGS` halvings do not get there."""
+        at ``p_to``; None where :data:`MAX_HALVINGS` halvings do not get there.
+        ``known_off``: the whole step was solved already and left the branch (not again)."""
         if cancel is not None and cancel():
             raise BatchCancelled
-        solved = solve_at(p_to, x_from)
+        solved = None if known_off else solve_at(p_to, x_from)
         if solved is not None:
             run, bound = solved
             stays, got = on_branch(p_to, run, bound, branch, slope)
@@ -238,7 +239,8 @@ def sweep(
             # another root, a root outside the range, no convergence): follow the branch
             # through intermediate values; where even short steps fail it ends, or turns
             # back at a turning point, before this value
-            path = halved(branch[-1][0], branch[-1][1], value, branch, last_slope)
+            path = halved(branch[-1][0], branch[-1][1], value, branch, last_slope,
+                          known_off=True)
             if path is not None:
                 notes.append((k, "continued"))
                 branch = _extended(branch, path[:-1])
