@@ -151,7 +151,7 @@ def _print_rows(batch: Any, names: list[str], columns: list[np.ndarray],
         rows.append([str(i + 1), *(words.exact(float(c[i])) for c in flat),
                      (words.exact(float(batch.root.flat[i])) if batch.converged.flat[i]
                       else words.NOT_A_ROOT),
-                     str(batch.reason.flat[i])])
+                     batch.reason_at(i)])
     print()
     print(terminal._table(["row", *names, root_heading, "reason"], rows))
     # the reason column holds codes (scripts read them): what each one shown means

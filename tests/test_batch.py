@@ -26,6 +26,8 @@ from solvers import (
     solve_batch,
     sweep,
 )
+from solvers.batch.records import BATCH_REASONS, converged_of
+from solvers.records import CONVERGED_REASONS
 
 # Colebrook–White with rr the relative roughness eps/D, solved for the Darcy factor lam.
 COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
@@ -623,6 +625,30 @@ def test_the_record_is_read_only_and_counts_reasons():
         batch.root[0] = 1.0
     assert sum(batch.counts().values()) == 4
     assert batch.row_values(2) == {"p": 2.0}
+
+
+def test_reasons_are_codes_read_as_words_on_demand_and_agree_everywhere():
+    # rows that end in three ways: a root (twice), an exact zero, no sign change
+    equation = parse_equation("(x - p)*q", unknown="x",
+                              parameters={"p": np.array([0.3, 0.0, 5.0, 0.2]),
+                                          "q": np.array([1.0, 1.0, 1.0, 1.0])})
+    batch = solve_batch(equation, method="bisection", bracket=(-1.0, 1.0))
+    assert batch.reason_code.dtype == np.int8
+    with pytest.raises(ValueError):
+        batch.reason[0] = "x_tolerance"
+    with pytest.raises(ValueError):
+        batch.reason_code[0] = 0
+    for i in range(len(batch)):
+        # the string array, one row's reason and the scalar method's own run say the same
+        assert batch.reason[i] == batch.reason_at(i) == batch.run(i).reason
+        assert batch.converged[i] == (batch.reason_at(i) in CONVERGED_REASONS)
+    assert batch.counts() == {r: int(np.sum(batch.reason == r)) for r in set(batch.reason)}
+
+
+def test_a_code_never_written_is_not_read_as_converged():
+    codes = np.array([-1, *range(len(BATCH_REASONS))], dtype=np.int8)
+    assert converged_of(codes).tolist() == [False] + [r in CONVERGED_REASONS
+                                                     for r in BATCH_REASONS]
 
 
 # ----------------------------------------------------------------- sweep

@@ -298,7 +298,7 @@ def results_json(batch: Any, names: Sequence[str], columns: Sequence[np.ndarray]
     for i in range(batch.size):
         row: dict[str, Any] = {n: _json_float(c[i]) for n, c in zip(names, flat, strict=True)}
         row.update(root=_json_float(root[i]) if root[i] == root[i] else None,
-                   converged=bool(batch.converged.flat[i]), reason=str(batch.reason.flat[i]),
+                   converged=bool(batch.converged.flat[i]), reason=batch.reason_at(i),
                    iterations=int(batch.iterations.flat[i]),
                    evaluations=int(batch.evaluations.flat[i]),
                    residual=_json_float(residual[i]) if residual[i] == residual[i] else None)

@@ -90,7 +90,7 @@ class BatchModel(QAbstractTableModel):
             return float(self.columns[column][row])
         b, which = self.batch, RESULT_TITLES[column - len(self.names)]
         if which == "reason":
-            return words.reason_short(str(b.reason.flat[row]))
+            return words.reason_short(b.reason_at(row))
         if which == "iterations":
             return int(b.iterations.flat[row])
         return float(getattr(b, which).flat[row])
@@ -114,7 +114,7 @@ class BatchModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.ToolTipRole:
             lines = [words.exact(value)] if isinstance(value, float) else []
             if self.batch is not None:
-                lines.append(words.reason_text(str(self.batch.reason.flat[row])))
+                lines.append(words.reason_text(self.batch.reason_at(row)))
                 lines.extend(self._notes.get(row, []))
             return "\n".join(lines) or None
         if role == Qt.ItemDataRole.FontRole and isinstance(value, (int, float)):

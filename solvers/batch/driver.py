@@ -9,7 +9,7 @@ import numpy as np
 
 from solvers.batch import bracketing
 from solvers.batch.open import newton, secant
-from solvers.batch.records import CONVERGED_INDEX, Batch, reason_array
+from solvers.batch.records import Batch, converged_of
 from solvers.batch.rows import NOT_FIN, Outcome, Rows, Work, make_poll
 from solvers.equation import EquationError
 from solvers.methods.common import (
@@ -227,8 +227,8 @@ def solve_batch(
         progress(1.0)
     return Batch(
         root=result.root.reshape(shape),
-        converged=CONVERGED_INDEX.take(result.code).reshape(shape),
-        reason=reason_array(result.code).reshape(shape),
+        converged=converged_of(result.code).reshape(shape),
+        reason_code=result.code.reshape(shape),
         iterations=result.iterations.reshape(shape),
         evaluations=result.evaluations.reshape(shape),
         residual=result.residual.reshape(shape),

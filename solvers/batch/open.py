@@ -121,32 +121,28 @@ class _AtWork:
             values[j] = parts[row, :n]
         return self.w.fn.call("f", x[:n], tuple(values))
 
-    def stage_zeros(self, n: int, x: np.ndarray, s: dict[str, Any]) -> int:
-        """:func:`solvers.batch.open_kernels.zero_probes`: both probes of the exact-zero
-        rule for the PENDING rows among the first ``n``, staged for the next call of f
-        (:meth:`f_and_probes`); returns how many rows."""
+    def probe_arrays(self) -> tuple[np.ndarray, ...]:
+        """The arrays the probes of the exact-zero rule are staged in (made once): their
+        positions, chunk rows, points (two per row) and parameter parts."""
         if self.probes is None:
             size, parts = self.code.size, self.carry.shape[0]
             self.probes = (np.empty(size, dtype=np.int64), np.empty(size, dtype=np.int64),
                            np.empty(2 * size), np.empty((parts, 2 * size)))
-        at, prow, px, pparts = self.probes
-        return _kernels().zero_probes(n, x, self.code, s["xtol"], s["rtol"], self.rows,
-                                      self.carry, self.w._extra, at, prow, px, pparts)
+        return self.probes
 
     def f_and_probes(self, n: int, x: np.ndarray, p: int) -> np.ndarray:
         """f at the rows at work ``x[:n]`` (one call for each of them, counted) and at the
-        ``p`` rows' probes :meth:`stage_zeros` staged, as one call: the probes go after
-        the rows at work (``x`` and the carried parts have room for them), and
+        ``p`` rows' probes :meth:`stage_zeros` staged, as one call: the probes sit after
+        the rows at work (``x[n:n + 2p]`` and the carried parts: Newton's kernels put them
+        there, :func:`solvers.batch.open_kernels.place_probes`), and
         :func:`solvers.batch.open_kernels.zero_verdicts` writes those rows' verdicts.
         Returns f at ``x[:n]`` (and beyond: the probes' values, not to be read)."""
         w = self.w
         if not p:
             return w.f(x[:n])
         end = n + 2 * p
-        _, prow, px, pparts = self.probes
-        x[n:end] = px[:2 * p]
+        _, prow, _, _ = self.probes
         carry = self.carry
-        carry[:, n:end] = pparts[:, :2 * p]
         values = list(self.parts)
         for row, j in enumerate(self.arrays):
             values[j] = carry[row, :end]
@@ -203,7 +199,9 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     # room for the probes of the exact-zero rule after the rows at work: at most one pair
     # per row that stops, evaluated with the next call of f (f'(x) comes first)
     a = _AtWork(w, *extra, room=n)
-    code, dead = a.code, a.dead
+    code, dead, rows, carry, place = a.code, a.dead, a.rows, a.carry, a.place
+    at, prow, px, pparts = a.probe_arrays()
+    out = a.out
     ok = _kernels()
     x, dx = np.empty(2 * n), np.empty(n)
     if ok.newton_start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
@@ -212,28 +210,33 @@ def newton(w: Work, s: dict[str, Any]) -> None:
             return
     fx = w.f(x[:n])
     k = 0
-    p = 0  # rows whose probes wait for the next call of f
     while True:
         w.k = k
         w.tick()
-        stops, pending = ok.newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
-        if stops:
-            if pending:
-                p = a.stage_zeros(n, x, s)
-            n = a.settle(n, k, x, fx, (x, fx, dx))
+        m, a.dead_count, p = ok.newton_stops(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead,
+                                             a.dead_count, code, rows, carry, w._extra, at,
+                                             prow, px, pparts, place, w.calls, *out)
+        if m != n:
+            n = m
+            a.at_work(n)
             if not n:
                 break
         xs = x[:n]
         dfx = w.fprime(xs) if symbolic else central_difference(w, xs, fx[:n],
                                                                  a.extra(0, n))
-        if ok.newton_step(n, damping, x, fx, dfx, dx, dead, code):
-            n = a.settle(n, k, x, fx, (x, fx, dx))
-            if not n:
-                break
+        m, a.dead_count = ok.newton_moves(n, k, damping, x, fx, dfx, dx, dead, a.dead_count,
+                                          code, rows, carry, w._extra, place, w.calls, p, px,
+                                          pparts, *out)
+        if m != n:
+            n = m
+            a.at_work(n)
+        if not n:
+            break  # with the probes staged at the tests, if any: evaluated below
         fx = a.f_and_probes(n, x, p)
         p = 0
         k += 1
-    if p:  # every row has stopped: the last probes alone
+    if p:  # every row has stopped: the last probes alone (placed at the front)
+        ok.place_probes(0, p, x, carry, px, pparts)
         a.f_and_probes(0, x, p)
     a.at_work(0)
 

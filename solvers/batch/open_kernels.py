@@ -42,13 +42,18 @@ PENDING = -2
 DEAD = -3
 """A row that stopped earlier (its results written) and rides along in the arrays."""
 
+_at = np.uint64
+"""An index read from an array (a row, a position), as unsigned: numba then indexes
+without the check for negative indexes it adds for signed ones (half the time of the
+settling loop). Every such index here is a position, never negative."""
+
 
 @kernel
 def _write(r, code, root, residual, k, evaluations, converged, out_code, out_root,
            out_residual, out_iterations, out_evaluations):
     """The results of chunk row ``r`` (as :meth:`Outcome.write`: NaN unless converged)."""
     out_code[r] = code
-    if converged[code]:
+    if converged[_at(code)]:
         out_root[r] = root
         out_residual[r] = residual
     else:
@@ -127,8 +132,8 @@ def settle(n, k, root, residual, state, rows, hoisted, dead, dead_count, code, p
         place[s] = i
         s += code[i] >= 0
     for t in range(s):
-        i = place[t]
-        r = rows[i]
+        i = _at(place[t])
+        r = _at(rows[i])
         _write(r, code[i], root[i], residual[i], k, calls + extra[r], converged, out_code,
                out_root, out_residual, out_iterations, out_evaluations)
         dead[i] = 1
@@ -141,12 +146,12 @@ def settle(n, k, root, residual, state, rows, hoisted, dead, dead_count, code, p
         m += dead[i] == 0
     for a in state:
         for t in range(m):
-            a[t] = a[place[t]]
+            a[t] = a[_at(place[t])]
     for t in range(m):
-        rows[t] = rows[place[t]]
+        rows[t] = rows[_at(place[t])]
     for j in range(hoisted.shape[0]):
         for t in range(m):
-            hoisted[j, t] = hoisted[j, place[t]]
+            hoisted[j, t] = hoisted[j, _at(place[t])]
     dead[:m] = 0
     return m, 0
 
@@ -289,15 +294,15 @@ def zero_points(n, x, code, xtol, rtol, rows, hoisted, extra, at, px, px2, ppart
     counted in the row's ``extra``. Returns how many."""
     p = _pending(n, code, at)
     for t in range(p):
-        i = at[t]
+        i = _at(at[t])
         xi = x[i]
         s = _probe_step(xi, xtol, rtol)
         px[t] = xi + s
         px2[t] = xi - s
-        extra[rows[i]] += 1
+        extra[_at(rows[i])] += 1
     for j in range(hoisted.shape[0]):
         for t in range(p):
-            pparts[j, t] = hoisted[j, at[t]]
+            pparts[j, t] = hoisted[j, _at(at[t])]
     return p
 
 
@@ -350,18 +355,18 @@ def zero_probes(n, x, code, xtol, rtol, rows, hoisted, extra, at, prow, px, ppar
     ``extra``. Returns ``p``."""
     p = _pending(n, code, at)
     for t in range(p):
-        i = at[t]
+        i = _at(at[t])
         xi = x[i]
         s = _probe_step(xi, xtol, rtol)
         px[t] = xi + s
         px[p + t] = xi - s
         r = rows[i]
         prow[t] = r
-        extra[r] += 1
+        extra[_at(r)] += 1
         code[i] = EXACT
     for j in range(hoisted.shape[0]):
         for t in range(p):
-            value = hoisted[j, at[t]]
+            value = hoisted[j, _at(at[t])]
             pparts[j, t] = value
             pparts[j, p + t] = value
     return p
@@ -379,7 +384,7 @@ def zero_verdicts(p, values, prow, extra, out_code, out_root, out_residual,
     residual."""
     for t in range(p):
         one = values[t]
-        r = prow[t]
+        r = _at(prow[t])
         root = False
         if one != 0.0:
             two = values[p + t]
@@ -392,6 +397,55 @@ def zero_verdicts(p, values, prow, extra, out_code, out_root, out_residual,
             out_residual[r] = np.nan
 
 
-__all__ = ["DEAD", "GO_ON", "PENDING", "newton_start", "newton_step", "newton_tests",
+@kernel
+def place_probes(n, p, x, hoisted, px, pparts):
+    """The ``p`` rows' staged probes (``px[:2p]``, their parameter parts ``pparts[:, :2p]``)
+    copied to ``x[n:n + 2p]`` and ``hoisted[:, n:n + 2p]``: after the first ``n`` rows,
+    to be evaluated in one call of f with them."""
+    for t in range(2 * p):
+        x[n + t] = px[t]
+    for j in range(hoisted.shape[0]):
+        for t in range(2 * p):
+            hoisted[j, n + t] = pparts[j, t]
+
+
+@kernel
+def newton_stops(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, dead_count, code, rows, hoisted,
+                 extra, at, prow, px, pparts, place, calls, converged, out_code, out_root,
+                 out_residual, out_iterations, out_evaluations):
+    """One call for what follows each call of f in Newton's loop: :func:`newton_tests`
+    at ``x[:n]``; when rows stop, the exact-zero rule's probes of the pending ones staged
+    (:func:`zero_probes`) and the stopped rows written out (:func:`settle`, state
+    ``(x, fx, dx)``). Returns (rows at work, dead rows among them, probes staged)."""
+    stops, pending = newton_tests(n, k, cap, xtol, rtol, ftol, x, fx, dx, dead, code)
+    p = 0
+    if stops:
+        if pending:
+            p = zero_probes(n, x, code, xtol, rtol, rows, hoisted, extra, at, prow, px, pparts)
+        n, dead_count = settle(n, k, x, fx, (x, fx, dx), rows, hoisted, dead, dead_count,
+                               code, place, calls, extra, converged, out_code, out_root,
+                               out_residual, out_iterations, out_evaluations)
+    return n, dead_count, p
+
+
+@kernel
+def newton_moves(n, k, damping, x, fx, dfx, dx, dead, dead_count, code, rows, hoisted, extra,
+                 place, calls, p, px, pparts, converged, out_code, out_root, out_residual,
+                 out_iterations, out_evaluations):
+    """One call for what follows each call of f' in Newton's loop: :func:`newton_step`
+    on ``x[:n]``, the rows it stops written out (:func:`settle`), then the ``p`` rows'
+    staged probes (``px[:2p]``, ``pparts[:, :2p]``) placed right after the rows at work,
+    in ``x`` and ``hoisted``, for the next call of f. Returns (rows at work, dead rows
+    among them)."""
+    if newton_step(n, damping, x, fx, dfx, dx, dead, code):
+        n, dead_count = settle(n, k, x, fx, (x, fx, dx), rows, hoisted, dead, dead_count,
+                               code, place, calls, extra, converged, out_code, out_root,
+                               out_residual, out_iterations, out_evaluations)
+    place_probes(n, p, x, hoisted, px, pparts)
+    return n, dead_count
+
+
+__all__ = ["DEAD", "GO_ON", "PENDING", "newton_moves", "newton_start", "newton_step",
+           "newton_stops", "newton_tests", "place_probes",
            "secant_step", "secant_tests", "settle", "zero_points", "zero_probes",
            "zero_second", "zero_verdict", "zero_verdicts"]

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from functools import cached_property
 from types import MappingProxyType
 from typing import Any
 
@@ -17,7 +18,8 @@ import numpy as np
 
 from solvers.records import CONVERGED_REASONS, REASONS, Run, Setting
 
-__all__ = ["NOTE_CODES", "OUTSIDE_RANGE", "REASON_CODES", "Batch", "BatchCancelled"]
+__all__ = ["BATCH_REASONS", "NOTE_CODES", "OUTSIDE_RANGE", "REASON_CODES", "Batch",
+           "BatchCancelled"]
 
 # The one reason a row of a sweep can have beyond solvers.REASONS: its method converged,
 # but to a root outside the range given for the unknown (``bounds``). That root is not the
@@ -39,9 +41,22 @@ NOTE_CODES: tuple[str, ...] = (
     "continued",           # sweep: reached through intermediate values (the step was too long)
 )
 
-# Reason codes as small integers inside the kernels: REASONS[i].
-REASON_CODES: Mapping[str, int] = MappingProxyType({r: i for i, r in enumerate(REASONS)})
-CONVERGED_INDEX = np.array([r in CONVERGED_REASONS for r in REASONS], dtype=bool)
+# Every reason a row of a batch can have, in code order: the kernels' small integer codes
+# are indexes into it (REASONS first, so REASON_CODES[r] == REASONS.index(r)).
+BATCH_REASONS: tuple[str, ...] = (*REASONS, OUTSIDE_RANGE)
+REASON_CODES: Mapping[str, int] = MappingProxyType({r: i for i, r in enumerate(BATCH_REASONS)})
+CONVERGED_INDEX = np.array([r in CONVERGED_REASONS for r in BATCH_REASONS], dtype=bool)
+# The converged reasons are the first codes (solvers.records lists them first): a row
+# converged where its code, read as unsigned (a code never written, -1, reads 255), is
+# below their number. One comparison instead of a gather over the table above.
+_CONVERGED_END = int(CONVERGED_INDEX.sum())
+if not CONVERGED_INDEX[:_CONVERGED_END].all():
+    raise ImportError("solvers.REASONS must list the converged reasons first")
+
+
+def converged_of(codes: np.ndarray) -> np.ndarray:
+    """Where the rows' reason codes (int8, :data:`REASON_CODES`) are converged reasons."""
+    return codes.view(np.uint8) < _CONVERGED_END
 
 
 class BatchCancelled(Exception):
@@ -60,11 +75,15 @@ class Batch:
     converged : numpy.ndarray of bool
         True only where the row's method stopped at a root of f (the same rule as
         :attr:`solvers.Run.converged`).
+    reason_code : numpy.ndarray of int8
+        The stop reason of each row as its index in :data:`BATCH_REASONS`: one of
+        :data:`solvers.REASONS`, or :data:`OUTSIDE_RANGE` for a sweep's row whose method
+        converged to a root outside the range given for the unknown (no root recorded;
+        :meth:`run` rebuilds the method's run, which did converge, out there).
     reason : numpy.ndarray of str
-        The stop reason of each row, one of :data:`solvers.REASONS`, or
-        :data:`OUTSIDE_RANGE` for a sweep's row whose method converged to a root outside
-        the range given for the unknown (no root recorded; :meth:`run` rebuilds the
-        method's run, which did converge, out there).
+        The same reasons as strings, made from ``reason_code`` when first read (10^5
+        rows of 15-character strings are 6 MB: a table that is only counted, charted or
+        shown a screenful at a time never needs them all).
     iterations, evaluations : numpy.ndarray of int
         Iterates produced and calls of f (and f') made for each row, counted as the
         scalar methods count them (a vectorised call counts once for every row in it).
@@ -87,7 +106,7 @@ class Batch:
 
     root: np.ndarray
     converged: np.ndarray
-    reason: np.ndarray
+    reason_code: np.ndarray
     iterations: np.ndarray
     evaluations: np.ndarray
     residual: np.ndarray
@@ -102,7 +121,8 @@ class Batch:
     units: Mapping[str, str] = field(default_factory=lambda: MappingProxyType({}), repr=False)
 
     def __post_init__(self) -> None:
-        for name in ("root", "converged", "reason", "iterations", "evaluations", "residual"):
+        for name in ("root", "converged", "reason_code", "iterations", "evaluations",
+                     "residual"):
             # a read-only view: the record cannot be changed through its attributes (the
             # solvers hand over arrays nobody else holds; no copy of 10^6 rows)
             value = np.asarray(getattr(self, name)).view()
@@ -114,6 +134,18 @@ class Batch:
         object.__setattr__(self, "parameters", MappingProxyType(dict(self.parameters)))
         object.__setattr__(self, "starts", MappingProxyType(dict(self.starts)))
         object.__setattr__(self, "units", MappingProxyType(dict(self.units)))
+
+    @cached_property
+    def reason(self) -> np.ndarray:
+        """The stop reason of each row as a string (see the class notes; read-only)."""
+        value = reason_array(self.reason_code)
+        value.flags.writeable = False
+        return value
+
+    def reason_at(self, index: int | tuple[int, ...]) -> str:
+        """The stop reason of one row (flat index or index tuple), without decoding the
+        others."""
+        return BATCH_REASONS[int(self.reason_code.reshape(-1)[self._flat(index)])]
 
     @property
     def shape(self) -> tuple[int, ...]:
@@ -179,8 +211,8 @@ class Batch:
 
     def counts(self) -> dict[str, int]:
         """How many rows stopped for each reason (reasons with no row left out)."""
-        names, counts = np.unique(self.reason, return_counts=True)
-        return {str(n): int(c) for n, c in zip(names, counts, strict=True)}
+        counts = np.bincount(self.reason_code.reshape(-1), minlength=len(BATCH_REASONS))
+        return {r: int(c) for r, c in sorted(zip(BATCH_REASONS, counts, strict=True)) if c}
 
 
 def _one_row(fn: Any) -> Any:
@@ -198,10 +230,11 @@ def _element(value: Any, shape: tuple[int, ...], i: int) -> float:
     return float(value)
 
 
-_REASON_STRINGS = np.asarray(REASONS)
+_REASON_STRINGS = np.asarray(BATCH_REASONS)
 
 
 def reason_array(codes: np.ndarray) -> np.ndarray:
     """Reason strings from the kernels' integer codes (``take``: about half the time of
     indexing with the codes, the same array of str)."""
     return _REASON_STRINGS.take(codes)
+

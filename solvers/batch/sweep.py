@@ -16,7 +16,13 @@ from typing import Any
 import numpy as np
 
 from solvers.batch.driver import _parameter_values, si_units
-from solvers.batch.records import OUTSIDE_RANGE, Batch, BatchCancelled, _one_row
+from solvers.batch.records import (
+    OUTSIDE_RANGE,
+    REASON_CODES,
+    Batch,
+    BatchCancelled,
+    _one_row,
+)
 from solvers.batch.rows import bind_rows
 from solvers.equation import EquationError
 from solvers.methods.common import (
@@ -147,7 +153,7 @@ def sweep(
     n = rows.size
     root = np.full(n, np.nan)
     converged = np.zeros(n, dtype=bool)
-    reason = np.full(n, NOT_FINITE, dtype="<U15")
+    reason = np.full(n, REASON_CODES[NOT_FINITE], dtype=np.int8)
     iterations = np.zeros(n, dtype=np.int64)
     evaluations = np.zeros(n, dtype=np.int64)
     residual = np.full(n, np.nan)
@@ -248,7 +254,8 @@ def sweep(
                 if len(path) > 1:
                     last_slope = path[-2][4]
         starts_x0[k] = start
-        reason[k], iterations[k], evaluations[k] = run.reason, run.iterations, run.evaluations
+        reason[k], iterations[k], evaluations[k] = (REASON_CODES[run.reason], run.iterations,
+                                                   run.evaluations)
         if not run.converged:
             notes.append((k, "failed"))
             restarted, branch = True, []
@@ -256,7 +263,7 @@ def sweep(
         if not inside(run.root):
             # a root of f, but not of the branch asked for: the row has no root in the
             # range (an engineer reading the table must not take it as the branch's value)
-            reason[k] = OUTSIDE_RANGE
+            reason[k] = REASON_CODES[OUTSIDE_RANGE]
             notes.append((k, "left_range"))
             restarted, branch = True, []
             continue
@@ -279,7 +286,8 @@ def sweep(
         starts["x0"] = starts_x0
         if kind == "two_point":
             starts["x1"] = starts_x0 + spacing
-    return Batch(root=root, converged=converged, reason=reason, iterations=iterations,
+    return Batch(root=root, converged=converged, reason_code=reason,
+                 iterations=iterations,
                  evaluations=evaluations, residual=residual, notes=tuple(notes),
                  method=spec.name, settings=settings, equation=equation,
                  parameters={**{n: float(v) for n, v in base.items() if n != name},
@@ -352,7 +360,8 @@ def resume_sweep(batch: Batch, index: int, x0: float, *,
         if key in starts:
             new_starts[key] = np.concatenate([np.asarray(starts[key])[:index],
                                               np.asarray(tail.starts[key])])
-    return Batch(root=joined("root"), converged=joined("converged"), reason=joined("reason"),
+    return Batch(root=joined("root"), converged=joined("converged"),
+                 reason_code=joined("reason_code"),
                  iterations=joined("iterations"), evaluations=joined("evaluations"),
                  residual=joined("residual"), notes=tuple(notes), method=batch.method,
                  settings=batch.settings, equation=batch.equation,

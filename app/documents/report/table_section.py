@@ -108,7 +108,7 @@ def _rows_table(t: Any, st: dict) -> Table:
             failed_rows.append(len(body))
         body.append([str(i + 1), *(str(cells[i]) for cells in t.cells),
                      _num(root) if math.isfinite(root) else "—",
-                     words.reason_short(str(batch.reason.flat[i])),
+                     words.reason_short(batch.reason_at(i)),
                      str(int(batch.iterations.flat[i])),
                      _num(residual) if math.isfinite(residual) else "—"])
     measured = [header] + [r for k, r in enumerate(body) if k != gap]
