@@ -10,7 +10,7 @@ import numpy as np
 from solvers.batch import bracketing
 from solvers.batch.open import newton, secant
 from solvers.batch.records import Batch, converged_of
-from solvers.batch.rows import NOT_FIN, Outcome, Rows, Work, make_poll
+from solvers.batch.rows import NOT_FIN, Outcome, Rows, Scratch, Work, make_poll
 from solvers.equation import EquationError
 from solvers.methods.common import (
     DEFAULT_FTOL,
@@ -214,6 +214,7 @@ def solve_batch(
     if parameters is None and all(not isinstance(v, np.ndarray) or v.shape == (total,)
                                   for v in values.values()):
         whole = Rows(equation, flat, total, equation, units)
+    scratch = Scratch()  # one set of work arrays for every chunk
     with np.errstate(all="ignore"):
         for begin in range(0, total, step):
             end = min(begin + step, total)
@@ -222,7 +223,7 @@ def solve_batch(
             fn = (whole if end - begin == total else whole.part(begin, end)) \
                 if whole is not None else None
             _solve_chunk(equation, kernel, settings, flat, flat_starts, begin, end, result,
-                         poll, fn, units)
+                         poll, fn, units, scratch)
     if progress is not None:
         progress(1.0)
     return Batch(
@@ -240,7 +241,7 @@ def solve_batch(
 def _solve_chunk(equation: Any, kernel: Callable[[Work, dict[str, Any]], None],
                  settings: dict[str, Any], values: dict[str, Any], starts: dict[str, Any],
                  begin: int, end: int, result: Outcome, poll: Any, fn: Rows | None,
-                 units: Mapping[str, str]) -> None:
+                 units: Mapping[str, str], scratch: Scratch) -> None:
     n = end - begin
     if fn is None:
         chunk_values = {k: (v[begin:end] if isinstance(v, np.ndarray) else v)
@@ -259,4 +260,4 @@ def _solve_chunk(equation: Any, kernel: Callable[[Work, dict[str, Any]], None],
         rows = np.arange(n)
         chunk_starts = {k: v[begin:end].copy() for k, v in starts.items()}
     if rows.size:
-        kernel(Work(out, fn, rows, poll, **chunk_starts), settings)
+        kernel(Work(out, fn, rows, poll, scratch, **chunk_starts), settings)

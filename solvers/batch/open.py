@@ -71,18 +71,20 @@ class _AtWork:
     def __init__(self, w: Work, *extra: np.ndarray, room: int = 0) -> None:
         self.w = w
         n = w.size
-        self.rows = np.array(w.rows, dtype=np.int64)
+        take = w.scratch.take
+        self.rows = take("rows", n, np.int64)
+        self.rows[:] = w.rows
         self.parts = w._h
         self.arrays = [j for j, h in enumerate(self.parts) if h.__class__ is np.ndarray]
         # ``room`` more columns: probes evaluated in one call with the rows at work
-        self.carry = np.empty((len(self.arrays) + len(extra), n + room))
+        self.carry = take("carry", (len(self.arrays) + len(extra), n + room))
         for row, j in enumerate(self.arrays):
             self.carry[row, :n] = self.parts[j]
         for row, values in enumerate(extra, start=len(self.arrays)):
             self.carry[row, :n] = values
-        self.code = np.empty(n, dtype=np.int8)
-        self.dead = np.zeros(n, dtype=np.int8)
-        self.place = np.empty(n, dtype=np.int64)  # positions the kernels list rows in
+        self.code = take("code", n, np.int8)
+        self.dead = w.scratch.zeros("dead", n, np.int8)
+        self.place = take("place", n, np.int64)  # positions the kernels list rows in
         self.dead_count = 0
         self.probes: tuple[np.ndarray, ...] | None = None  # the probes' arrays, made once
         out = w.out
@@ -125,9 +127,9 @@ class _AtWork:
         """The arrays the probes of the exact-zero rule are staged in (made once): their
         positions, chunk rows, points (two per row) and parameter parts."""
         if self.probes is None:
-            size, parts = self.code.size, self.carry.shape[0]
-            self.probes = (np.empty(size, dtype=np.int64), np.empty(size, dtype=np.int64),
-                           np.empty(2 * size), np.empty((parts, 2 * size)))
+            size, parts, take = self.code.size, self.carry.shape[0], self.w.scratch.take
+            self.probes = (take("at", size, np.int64), take("probe_rows", size, np.int64),
+                           take("probe_x", 2 * size), take("probe_parts", (parts, 2 * size)))
         return self.probes
 
     def f_and_probes(self, n: int, x: np.ndarray, p: int) -> np.ndarray:
@@ -166,9 +168,9 @@ def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) 
     f at the probes is one vectorised call per side."""
     code, rows, carry = a.code, a.rows, a.carry
     if a.probes is None:
-        size = a.code.size
-        a.probes = (np.empty(size, dtype=np.int64), np.empty(size), np.empty(size),
-                    np.empty((carry.shape[0], size)))
+        size, take = a.code.size, w.scratch.take
+        a.probes = (take("at", size, np.int64), take("probe_x", size), take("probe_x2", size),
+                    take("probe_parts", (carry.shape[0], size)))
     at, px, px2, pparts = a.probes
     ok = _kernels()
     p = ok.zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, px, px2,
@@ -203,7 +205,7 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     at, prow, px, pparts = a.probe_arrays()
     out = a.out
     ok = _kernels()
-    x, dx = np.empty(2 * n), np.empty(n)
+    x, dx = w.scratch.take("x", 2 * n), w.scratch.take("dx", n)
     if ok.newton_start(n, x0, x, dx, code):  # start values not finite: those rows stop at once
         n = a.settle(n, 0, x, x, (x, dx))
         if not n:

@@ -16,6 +16,7 @@ the vectorised forms of the scalar methods' honesty rules.
 
 from __future__ import annotations
 
+import math
 import sys
 from collections.abc import Callable, Mapping
 from typing import Any
@@ -36,14 +37,49 @@ X_TOL, F_TOL, EXACT, MAX_IT, ZERO_D, NOT_FIN, NO_SIGN, DISCONT = (
 _FLOAT_MIN = sys.float_info.min
 
 
+class Scratch:
+    """Work arrays of one batch, reused from chunk to chunk.
+
+    A chunk's work arrays (iterates, carried parameter parts, probes) are a few hundred
+    kB each; numpy allocates arrays that large as fresh pages from the system, whose
+    first touch costs a page fault each (about 0.2 ms per MB): made again for every
+    chunk, they cost Newton over 10^5 rows more than its arithmetic (3,200 faults a
+    batch against 700 for scipy's array Newton, benchmarks/bench_batch.py). Made once
+    per batch and handed out again to every chunk, they fault once. A chunk's arrays
+    hold nothing the next chunk reads: every kernel writes before it reads.
+    """
+
+    def __init__(self) -> None:
+        self._buffers: dict[tuple[str, Any], np.ndarray] = {}
+
+    def take(self, name: str, shape: int | tuple[int, ...], dtype: Any = np.float64
+             ) -> np.ndarray:
+        """An array of ``shape`` (contents left over: the caller writes before reading),
+        the same memory as the last one taken under ``name`` whenever it fits."""
+        shape = (shape,) if shape.__class__ is int else shape
+        size = math.prod(shape)
+        key = (name, dtype)
+        buffer = self._buffers.get(key)
+        if buffer is None or buffer.size < size:
+            buffer = self._buffers[key] = np.empty(size, dtype=dtype)
+        return buffer[:size].reshape(shape)
+
+    def zeros(self, name: str, shape: int | tuple[int, ...], dtype: Any = np.float64
+              ) -> np.ndarray:
+        """:meth:`take`, filled with zeros."""
+        out = self.take(name, shape, dtype)
+        out.fill(0)
+        return out
+
+
 class Outcome:
     """Results of one chunk, written row by row as rows finish."""
 
     def __init__(self, n: int) -> None:
         self.root = np.full(n, np.nan)
         self.code = np.full(n, -1, dtype=np.int8)
-        self.iterations = np.zeros(n, dtype=np.int64)
-        self.evaluations = np.zeros(n, dtype=np.int64)
+        self.iterations = np.zeros(n, dtype=np.int32)
+        self.evaluations = np.zeros(n, dtype=np.int32)
         self.residual = np.full(n, np.nan)
         self.notes: list[tuple[int, str]] = []
 
@@ -217,8 +253,9 @@ class Work:
     DEAD_SHARE = 0.25
 
     def __init__(self, out: Outcome, fn: Rows, rows: np.ndarray, poll: Poll,
-                 **arrays: np.ndarray) -> None:
+                 scratch: Scratch | None = None, **arrays: np.ndarray) -> None:
         self.out, self.fn, self.poll, self.total = out, fn, poll, len(out.code)
+        self.scratch = Scratch() if scratch is None else scratch
         self.rows = rows
         self.k = 0
         self.calls = 0
@@ -227,7 +264,7 @@ class Work:
         self._h = fn.hoisted  # the active rows' parameter parts of f (arrays or numbers)
         # per chunk row, never compressed: calls made for some rows only (probes), and
         # values kept from the start (read through ``kept``)
-        self._extra = np.zeros(len(out.code), dtype=np.int64)
+        self._extra = self.scratch.zeros("extra", len(out.code), np.int64)
         self._kept: dict[str, np.ndarray] = {}
         self.__dict__.update(arrays)
 
