@@ -561,6 +561,32 @@ def test_chunks_give_the_same_rows_as_one_piece():
         assert (whole.reason == pieces.reason).all()
 
 
+def test_a_batch_inside_another_batchs_callback_leaves_both_rows_untouched():
+    # each thread hands its work arrays from one batch to its next (rows.scratch); a
+    # table solved from inside another's progress callback must take arrays of its own
+    rng = np.random.default_rng(11)
+    Re = 10 ** rng.uniform(np.log10(4e3), 8, 600)
+    rr = 10 ** rng.uniform(-6, np.log10(5e-2), 600)
+    equation = parse_equation(COLEBROOK, unknown="lam", parameters={"Re": Re, "rr": rr})
+    alone = solve_batch(equation, x0=0.02, chunk_rows=100)
+    inner: list[Batch] = []
+
+    def progress(share: float) -> None:
+        if not inner:
+            inner.append(solve_batch(equation, method="secant", x0=0.02, x1=0.021,
+                                     chunk_rows=100))
+
+    outer = solve_batch(equation, x0=0.02, chunk_rows=100, progress=progress)
+    again = solve_batch(equation, method="secant", x0=0.02, x1=0.021, chunk_rows=100)
+    np.testing.assert_array_equal(outer.root, alone.root)
+    np.testing.assert_array_equal(outer.evaluations, alone.evaluations)
+    np.testing.assert_array_equal(inner[0].root, again.root)
+    np.testing.assert_array_equal(inner[0].evaluations, again.evaluations)
+    # and against the outside reference: the Lambert W closed form, row by row
+    np.testing.assert_allclose(outer.root[outer.converged],
+                               colebrook_exact(Re, rr)[outer.converged], rtol=1e-10)
+
+
 def test_progress_rises_to_one_and_cancel_stops_the_batch():
     p = np.linspace(1.0, 100.0, 5000)
     equation = parse_equation("x^2 = p", unknown="x", parameters={"p": p})

@@ -10,7 +10,16 @@ import numpy as np
 from solvers.batch import bracketing
 from solvers.batch.open import newton, secant
 from solvers.batch.records import Batch, converged_of
-from solvers.batch.rows import NOT_FIN, Outcome, Rows, Scratch, Work, make_poll
+from solvers.batch.rows import (
+    NOT_FIN,
+    Outcome,
+    Rows,
+    Scratch,
+    Work,
+    done_with,
+    make_poll,
+    scratch,
+)
 from solvers.equation import EquationError
 from solvers.methods.common import (
     DEFAULT_FTOL,
@@ -214,16 +223,19 @@ def solve_batch(
     if parameters is None and all(not isinstance(v, np.ndarray) or v.shape == (total,)
                                   for v in values.values()):
         whole = Rows(equation, flat, total, equation, units)
-    scratch = Scratch()  # one set of work arrays for every chunk
-    with np.errstate(all="ignore"):
-        for begin in range(0, total, step):
-            end = min(begin + step, total)
-            poll = make_poll(progress, cancel, begin, total, end - begin)
-            poll(0.0)
-            fn = (whole if end - begin == total else whole.part(begin, end)) \
-                if whole is not None else None
-            _solve_chunk(equation, kernel, settings, flat, flat_starts, begin, end, result,
-                         poll, fn, units, scratch)
+    work = scratch()  # one set of work arrays for every chunk
+    try:
+        with np.errstate(all="ignore"):
+            for begin in range(0, total, step):
+                end = min(begin + step, total)
+                poll = make_poll(progress, cancel, begin, total, end - begin)
+                poll(0.0)
+                fn = (whole if end - begin == total else whole.part(begin, end)) \
+                    if whole is not None else None
+                _solve_chunk(equation, kernel, settings, flat, flat_starts, begin, end,
+                             result, poll, fn, units, work)
+    finally:
+        done_with(work)
     if progress is not None:
         progress(1.0)
     return Batch(

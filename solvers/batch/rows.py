@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 import sys
+import threading
 from collections.abc import Callable, Mapping
 from typing import Any
 
@@ -52,6 +53,11 @@ class Scratch:
     def __init__(self) -> None:
         self._buffers: dict[tuple[str, Any], np.ndarray] = {}
 
+    @property
+    def nbytes(self) -> int:
+        """The memory the scratch holds."""
+        return sum(b.nbytes for b in self._buffers.values())
+
     def take(self, name: str, shape: int | tuple[int, ...], dtype: Any = np.float64
              ) -> np.ndarray:
         """An array of ``shape`` (contents left over: the caller writes before reading),
@@ -70,6 +76,29 @@ class Scratch:
         out = self.take(name, shape, dtype)
         out.fill(0)
         return out
+
+
+_KEPT = threading.local()
+KEEP_BYTES = 32 * 2**20
+"""A thread keeps its scratch for its next batch when it holds no more than this (32 MB:
+the default chunks take about 3 MB)."""
+
+
+def scratch() -> Scratch:
+    """The calling thread's scratch from its last batch (its work arrays' pages touched
+    already: a table solved again and again, a sweep or a Monte Carlo run, faults once),
+    or a new one; hand it back with :func:`done_with`. A batch inside a batch (a callback
+    that solves another table) takes a new one."""
+    kept = getattr(_KEPT, "scratch", None)
+    _KEPT.scratch = None
+    return Scratch() if kept is None else kept
+
+
+def done_with(used: Scratch) -> None:
+    """Keep ``used`` for the thread's next batch (unless it grew beyond
+    :data:`KEEP_BYTES`)."""
+    if used.nbytes <= KEEP_BYTES:
+        _KEPT.scratch = used
 
 
 class Outcome:
@@ -152,7 +181,7 @@ class Rows:
         self._units = dict(units or {})
         self.fixed = not any(isinstance(v, np.ndarray) for v in self._values.values())
         self.bad = np.zeros(n, dtype=bool)
-        rows = np.arange(n)
+        self.size = n
         try:
             self._bound = bound if bound is not None else bind_rows(equation, self._values,
                                                                     self._units)
@@ -160,13 +189,13 @@ class Rows:
             if self.fixed:
                 raise
             found: list[np.ndarray] = []
-            _find_bad_rows(equation, self._values, self._units, rows, found)
+            _find_bad_rows(equation, self._values, self._units, np.arange(n), found)
             if not found:  # refused as a whole only: the caller's error
                 raise
             self.bad[np.concatenate(found)] = True
             rows = np.flatnonzero(~self.bad)
             self._bound = self._bind(rows) if rows.size else None
-        self.size = int(rows.size)
+            self.size = int(rows.size)
         self.hoisted: tuple[Any, ...] = ()
         self._codes: dict[str, Any] = {}
         if self._bound is not None:
