@@ -26,12 +26,24 @@ the machine falls on both alike.
 5. Agreement: every row against the Lambert W closed form (scipy.special) and the
    references above, relative difference (goal <= 1e-10).
 
+Newton's race is run twice. In this process, with the C library's allocator as it comes:
+arrays of more than 128 kB come from the system as fresh pages whose first touch costs a
+page fault each, and glibc moves that threshold as blocks are freed, so how many faults
+each solver pays depends on what the process allocated before (the faults per solve are
+printed beside the times). Then in a child process with glibc's thresholds fixed high
+(``MALLOC_MMAP_THRESHOLD_``, ``MALLOC_TRIM_THRESHOLD_``): every array is reused memory,
+no solver faults, and the ratio is the arithmetic and bookkeeping alone. The goal is met
+only where both ratios meet it.
+
 Run: ``.venv/bin/python benchmarks/bench_batch.py``. No asserts: numbers for people.
 """
 
 from __future__ import annotations
 
 import math
+import os
+import resource
+import subprocess
 import sys
 import time
 import tracemalloc
@@ -95,6 +107,40 @@ def line(label: str, seconds: float, reference: float, goal: str = "") -> None:
     print(f"  {label:52s} {seconds * 1e3:9.2f} ms {seconds / reference:8.3f}  {goal}")
 
 
+def faults(fn, repeat: int = 5) -> float:
+    """Page faults (minor: first touches of fresh pages) per call of ``fn``."""
+    before = resource.getrusage(resource.RUSAGE_SELF).ru_minflt
+    for _ in range(repeat):
+        fn()
+    return (resource.getrusage(resource.RUSAGE_SELF).ru_minflt - before) / repeat
+
+
+STEADY_HEAP = {"MALLOC_MMAP_THRESHOLD_": str(2**30), "MALLOC_TRIM_THRESHOLD_": str(2**31)}
+
+
+def newton_races(eq, x0, truth, tol, starts) -> None:
+    """Newton against scipy.optimize.newton with an array x0, same compiled f and f'."""
+
+    def scipy_newton(start):
+        return scipy.optimize.newton(eq.f, start, fprime=eq.fprime, tol=DEFAULT_XTOL,
+                                     rtol=DEFAULT_RTOL, maxiter=100)
+
+    for label, start in starts:
+        ref_root = scipy_newton(start)
+        ours = solve_batch(eq, method="newton", x0=start, **tol)
+        t_ref, t_ours = race(lambda start=start: scipy_newton(start),
+                             lambda start=start: solve_batch(eq, method="newton", x0=start,
+                                                             **tol), repeat=3 * REPEAT)
+        f_ref = faults(lambda start=start: scipy_newton(start))
+        f_ours = faults(lambda start=start: solve_batch(eq, method="newton", x0=start, **tol))
+        print(f" Newton, {label}: {int(ours.converged.sum())} rows converged; worst relative "
+              f"difference {worst_relative(ours.root, ref_root):.1e} vs scipy, "
+              f"{worst_relative(ours.root, truth):.1e} vs Lambert W")
+        line(f"scipy.optimize.newton, array x0 ({f_ref:.0f} faults)", t_ref, t_ref)
+        line(f"zerotrace solve_batch newton ({f_ours:.0f} faults)", t_ours, t_ref,
+             "(goal <= 1.0, stretch 0.5)" if start is x0 else "")
+
+
 def main() -> None:
     warnings.simplefilter("ignore")
     Re, rr = rows(ROWS)
@@ -102,26 +148,19 @@ def main() -> None:
     truth = exact(Re, rr)
     x0 = haaland(Re, rr)
     tol = {"xtol": DEFAULT_XTOL, "rtol": DEFAULT_RTOL}
+    if "--steady-heap" in sys.argv:  # the child process: Newton's race alone
+        newton_races(eq, x0, truth, tol, (("Haaland start, steady heap", x0),))
+        return
     print(f"{ROWS} Colebrook-White rows, xtol={DEFAULT_XTOL:g}, rtol={DEFAULT_RTOL:.3g}")
     print(f"  {'solver':52s} {'time':>12s} {'ratio':>8s}")
 
-    # 1. Newton against scipy.optimize.newton with an array x0, same compiled f and f'
-    def scipy_newton(start):
-        return scipy.optimize.newton(eq.f, start, fprime=eq.fprime, tol=DEFAULT_XTOL,
-                                     rtol=DEFAULT_RTOL, maxiter=100)
-
-    for label, start in (("Haaland start", x0), ("x0 = 0.02 (info)", np.full(ROWS, 0.02))):
-        ref_root = scipy_newton(start)
-        ours = solve_batch(eq, method="newton", x0=start, **tol)
-        t_ref, t_ours = race(lambda start=start: scipy_newton(start),
-                             lambda start=start: solve_batch(eq, method="newton", x0=start,
-                                                             **tol), repeat=3 * REPEAT)
-        print(f" Newton, {label}: {int(ours.converged.sum())} rows converged; worst relative "
-              f"difference {worst_relative(ours.root, ref_root):.1e} vs scipy, "
-              f"{worst_relative(ours.root, truth):.1e} vs Lambert W")
-        line("scipy.optimize.newton, array x0 (reference)", t_ref, t_ref)
-        line("zerotrace solve_batch newton", t_ours, t_ref,
-             "(goal <= 1.0, stretch 0.5)" if start is x0 else "")
+    # 1. Newton, in this process (the allocator as it comes), then with no page faults
+    newton_races(eq, x0, truth, tol, (("Haaland start", x0),
+                                      ("x0 = 0.02 (info)", np.full(ROWS, 0.02))))
+    if sys.platform.startswith("linux"):  # glibc's thresholds: a child with them fixed
+        child = subprocess.run([sys.executable, __file__, "--steady-heap"], text=True,
+                               capture_output=True, env={**os.environ, **STEADY_HEAP})
+        print(child.stdout, end="")
 
     # 2. Guaranteed bracketing against scipy's element-wise find_root, same brackets
     a, b = np.full(ROWS, BRACKET[0]), np.full(ROWS, BRACKET[1])
