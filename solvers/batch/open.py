@@ -134,9 +134,9 @@ class _AtWork:
 
     def f_and_probes(self, n: int, x: np.ndarray, p: int) -> np.ndarray:
         """f at the rows at work ``x[:n]`` (one call for each of them, counted) and at the
-        ``p`` rows' probes :meth:`stage_zeros` staged, as one call: the probes sit after
-        the rows at work (``x[n:n + 2p]`` and the carried parts: Newton's kernels put them
-        there, :func:`solvers.batch.open_kernels.place_probes`), and
+        probes of the ``p`` rows the tests stopped on an exact zero, as one call: the
+        probes sit after the rows at work (``x[n:n + 2p]`` and the carried parts, put
+        there by :func:`solvers.batch.open_kernels.place_probes`), and
         :func:`solvers.batch.open_kernels.zero_verdicts` writes those rows' verdicts.
         Returns f at ``x[:n]`` (and beyond: the probes' values, not to be read)."""
         w = self.w
