@@ -387,7 +387,9 @@ def agreement_text(solution: Any, figures: int = 8) -> str:
 
     Different roots are listed (each with ``figures`` significant figures and the
     methods that found it); one root found by several methods gives the significant
-    figures they share; fewer than two converged runs say there is no cross-check.
+    figures they share; fewer than two converged runs say there is no cross-check (one
+    method run alone is told apart from several of which only one converged: advice to
+    change the start values is for the second case only).
     """
     converged = [r for r in solution.runs if r.converged]
     groups = solution.agreement.groups
@@ -399,6 +401,10 @@ def agreement_text(solution: Any, figures: int = 8) -> str:
         return (f"The {len(converged)} converged methods "
                 f"({method_names(r.method for r in converged)}) agree to "
                 f"{figures_word(digits)}.")
+    if len(converged) == 1 and len(solution.runs) == 1:
+        # one method asked for: nothing failed, so start values are not what to change
+        return (f"{method_label(converged[0].method)} alone was run: no second method "
+                "cross-checks its root; choose another method (a bracketing one) to compare.")
     if len(converged) == 1:
         return (f"Only {method_label(converged[0].method)} converged: no second method to "
                 "agree with; try other start values.")
