@@ -65,3 +65,29 @@ def test_a_method_run_alone_is_not_told_to_change_its_start_values(capsys):
                          "--unknown-unit", "gal/min", "--x0", "400", "--method", "newton",
                          "--method", "bisection", "--bracket", "0", "100")
     assert "Only Newton–Raphson converged" in out and "try other start values" in out
+
+
+# 2. A bed slope typed as a percentage, "S = 0.08 %", was shown as "(= 0.0008 1)" (SI's
+#    unit of a ratio, the number 1, written after the value: it reads as 0.00081), and an
+#    angle "a = 30 deg" as "(= 0.523598775598299 1)", in the terminal, the CSV's parameters
+#    line and the sheet. A ratio now shows its number alone and an angle says rad.
+#    1 % = 0.01 and 1 ppm = 1e-6 by definition (NIST SP 811, 7.10.2); 30 deg = pi/6 rad.
+def test_a_ratio_shows_its_number_alone_and_an_angle_says_radians(capsys, tmp_path):
+    log = tmp_path / "canal.csv"
+    code, out, err = run(capsys, "solve", "Q = (1/n)*A*R^(2/3)*sqrt(S)*cos(a)*(1 + e)",
+                         "--param", "S=0.08 %", "--param", "n=0.014 s/m^(1/3)",
+                         "--param", "A=2 m^2", "--param", "R=0.5 m", "--param", "a=30 deg",
+                         "--param", "e=5 ppm", "--unknown", "Q", "--x0", "1",
+                         "--method", "newton", "--csv", str(log))
+    assert code == 0, err
+    assert "S = 0.08 % (= 0.0008)," in out
+    assert "e = 5.0 ppm (= 5e-06)" in out
+    assert f"a = 30.0 deg (= {math.pi / 6:.15g} rad)" in out  # pi/6 to 15 figures
+    meta, _rows = table_rows(log)
+    parameters = next(line for line in meta if line.startswith("# parameters:"))
+    assert "S=0.08 % (= 0.0008);" in parameters and " 1)" not in parameters
+    # the root: Manning's equation written out with the ratios as numbers (closed form)
+    last = [r for r in _rows if r["method"] == "newton"][-1]
+    expected = (1 / 0.014) * 2 * 0.5 ** (2 / 3) * math.sqrt(0.0008) * math.cos(math.pi / 6) \
+        * (1 + 5e-6)
+    assert float(last["x [m^3/s]"]) == pytest.approx(expected, rel=1e-14)

@@ -346,6 +346,18 @@ def coherent_text(text: str) -> str | None:
                           else f"/{bottom}")
 
 
+def is_angle(text: str) -> bool:
+    """Whether a unit text is a plane angle (deg, rad, arcmin, turn): dimensionless, as
+    every angle is in SI, yet counted in radians; False for a pure ratio (%, ppm) and for
+    text that is not a unit."""
+    try:
+        reg = registry()
+        units = reg.Quantity(1.0, reg.parse_units(text)).to_root_units().units
+    except Exception:  # noqa: BLE001 - not a unit: not an angle
+        return False
+    return dict(units._units) == {"radian": 1}
+
+
 def unit_size(dimension: Dimension) -> tuple[float, float, int]:
     """How involved a dimension's SI unit is, for ranking which unit is the likelier one:
     the sum of |exponents| of its base units, then of its factors with a derived unit

@@ -210,7 +210,7 @@ def _equation_section(c: _Context) -> list[Flowable]:
             got = converted.get(p.name)
             if got is None:
                 return ""
-            return f"{_num(words.si_value_shown(got))} {words.si_unit_text(got)}"
+            return words.si_measure_text(got, _num)
 
         data = [["Name", "Value", "Unit", "In SI units", "Note"]] + [
             [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
