@@ -91,3 +91,37 @@ def test_a_ratio_shows_its_number_alone_and_an_angle_says_radians(capsys, tmp_pa
     expected = (1 / 0.014) * 2 * 0.5 ** (2 / 3) * math.sqrt(0.0008) * math.cos(math.pi / 6) \
         * (1 + 5e-6)
     assert float(last["x [m^3/s]"]) == pytest.approx(expected, rel=1e-14)
+
+
+# 3. A pipe length of "1,200" m (a US engineer's one thousand two hundred) in a table cell
+#    or a --param was refused with "(a decimal comma? write 1.200)": followed, that hint
+#    turns 1200 m into 1.2 m. Three digits after the comma may be either reading; both are
+#    now named, and a number with several groups or a decimal point after them is a
+#    thousands separator alone. (Both conventions: NIST SP 811, 10.5.2 and 10.5.3.)
+@pytest.mark.parametrize("typed, hint", [
+    ("1,200", "(a thousands separator? write 1200; or a decimal comma? write 1.200)"),
+    ("1,200,000", "(a thousands separator? write 1200000)"),
+    ("12,500.5", "(a thousands separator? write 12500.5)"),
+    ("12,5", "(a decimal comma? write 12.5)"),
+])
+def test_a_comma_in_a_number_is_answered_with_every_reading_it_may_have(
+        capsys, tmp_path, typed, hint):
+    code, _out, err = run(capsys, "solve", "x^2 = L", "--param", f"L={typed}", "--x0", "3")
+    assert code == 2 and hint in err
+    code, _out, err = run(capsys, "solve", f"x^2 = {typed}", "--x0", "3")
+    assert code == 2 and hint in err and "column" in err
+    table = tmp_path / "mains.csv"
+    table.write_text(f'L [m],hf [m]\n350,2.5\n"{typed}",4.0\n', encoding="utf-8")
+    code, _out, err = run(capsys, "batch", "hf = 0.02*L/0.2*x^2/(2*9.80665)", "--table",
+                          str(table), "--x0", "1")
+    assert code == 2
+    assert "row 2 (line 3), column 'L [m]'" in err and hint in err
+
+
+def test_commas_that_are_no_number_get_no_hint(capsys):
+    code, _out, err = run(capsys, "solve", "x^2 = L", "--param", "L=1,2,3", "--x0", "3")
+    assert code == 2 and "(a " not in err
+    # a comma between a function's arguments is no number at all
+    code, out, err = run(capsys, "solve", "x = max(1,200)", "--x0", "3", "--method", "newton",
+                         "--json")
+    assert code == 0 and json.loads(out)["runs"][0]["root"] == 200.0  # max(1, 200) = 200

@@ -39,6 +39,7 @@ from app.documents.words import (
     counted,
     reason_text,
 )
+from solvers.equation.lexer import comma_hint
 
 MAX_TABLE_BYTES = 256 * 1024 * 1024
 MAX_TABLE_ROWS = 10_000_000
@@ -47,7 +48,6 @@ RESULT_COLUMNS = ("root", "converged", "reason", "iterations", "residual")
 _HEADER = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*(?:\[([^\[\]]*)\])?\s*")
 _NUMBER = r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _ONE_NUMBER = re.compile(rf"[ \t]*{_NUMBER}[ \t]*")
-_DECIMAL_COMMA = re.compile(r"[-+]?\d+,\d+")  # 1,5: a decimal comma, refused with a hint
 _MANY_NUMBERS = re.compile(rf"(?:{_NUMBER}\n)*")  # cells are stripped, one per line
 
 
@@ -197,8 +197,7 @@ def _numbers(shown: str, column: Column, cells: Sequence[str], lines: Sequence[i
                 where = f"{shown}: row {i + 1} (line {lines[i]}), column {column.header!r}"
                 if not cell:
                     raise TableError(f"{where}: missing value")
-                hint = (f" (a decimal comma? write {cell.replace(',', '.')})"
-                        if _DECIMAL_COMMA.fullmatch(cell) else "")
+                hint = comma_hint(cell)
                 raise TableError(f"{where}: {cell[:40]!r} is not a plain number{hint}")
     values = np.array(cells, dtype=np.float64)
     bad = np.flatnonzero(~np.isfinite(values))

@@ -29,6 +29,7 @@ from solvers.equation.lexer import (
     _check_name,
     _fail,
     _Token,
+    comma_hint,
     tokenize,
 )
 
@@ -359,14 +360,25 @@ class _Parser:
         raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
 
     def comma(self, t: _Token, message: str) -> EquationError:
-        """A misplaced ','; between two whole numbers written tight (2,5) it is most likely
-        a decimal comma, and the message says how to write the number."""
+        """A misplaced ','; between whole numbers written tight (2,5; 1,200; 1,200,000) it
+        is most likely a decimal comma or a thousands separator, and the message says how
+        to write the number (:func:`lexer.comma_hint`: both readings where both fit)."""
         j = next((k for k, u in enumerate(self.tokens) if u is t), None)
         if j is not None and 0 < j < len(self.tokens) - 1:
-            before, after = self.tokens[j - 1], self.tokens[j + 1]
-            if (before.kind == after.kind == "num" and before.text.isdigit()
-                    and after.text.isdigit() and before.end == t.pos and after.pos == t.end):
-                message += f" (a decimal comma? write {before.text}.{after.text})"
+            before = self.tokens[j - 1]
+            if before.kind == "num" and before.text.isdigit() and before.end == t.pos:
+                # the whole run of whole numbers written tight around commas: 1,200,000
+                typed, k = before.text, j
+                while (k + 1 < len(self.tokens) and self.tokens[k].text == ","
+                       and self.tokens[k + 1].kind == "num"
+                       and self.tokens[k + 1].text.replace(".", "", 1).isdigit()
+                       and self.tokens[k + 1].pos == self.tokens[k].end
+                       and self.tokens[k].pos == self.tokens[k - 1].end):
+                    typed += "," + self.tokens[k + 1].text
+                    k += 2
+                    if "." in typed:  # 12,500.5: the decimal point ends the number
+                        break
+                message += comma_hint(typed)
         return self.fail(message, t.pos)
 
     def number(self, t: _Token) -> _Node:
