@@ -17,7 +17,9 @@ import json
 import math
 from pathlib import Path
 
+import pypdf
 import pytest
+import scipy.optimize
 
 from app.cli import main
 
@@ -125,3 +127,96 @@ def test_commas_that_are_no_number_get_no_hint(capsys):
     code, out, err = run(capsys, "solve", "x = max(1,200)", "--x0", "3", "--method", "newton",
                          "--json")
     assert code == 0 and json.loads(out)["runs"][0]["root"] == 200.0  # max(1, 200) = 200
+
+
+# 4. Supply mains sized for an allowed head loss, a table with units in its headers
+#    (Q [L/s], L [m], hf [m]) and the bore asked in mm: the terminal headed the roots
+#    "D [mm]", but the results file headed them "root" and the residual "residual", the
+#    tables window "f(D)" and the sheet's table likewise, with no unit: a checker reading
+#    the file saw 126.27 beside L = 350 m with nothing to say it is millimetres. The root
+#    and the residual now carry their units in every table of results.
+MAINS = ("A = pi*D^2/4; v = Q/A; Re = v*D/nu; fD = 0.25/(log10(eps/(3.7*D) + 5.74/Re^0.9))^2; "
+         "hf = fD*L/D*v^2/(2*g)")
+MAINS_ROWS = ((12.0, 350.0, 2.5), (25.0, 800.0, 4.0), (60.0, 1500.0, 3.2))
+MAINS_CONSTANTS = {"nu": (1.004e-6, "m^2/s"), "eps": (0.045, "mm"), "g": (9.80665, "m/s^2")}
+
+
+def mains_bore_mm(Q_Ls: float, L: float, hf: float) -> float:
+    """The bore by scipy.optimize.brentq on Darcy-Weisbach with the Swamee-Jain friction
+    factor (common practice, from memory), every value in SI."""
+    Q = Q_Ls / 1000  # L/s -> m^3/s (1 L = 1e-3 m^3, NIST SP 811)
+
+    def f(D: float) -> float:
+        v = Q / (math.pi * D * D / 4)
+        fD = 0.25 / math.log10(4.5e-5 / (3.7 * D) + 5.74 / (v * D / 1.004e-6) ** 0.9) ** 2
+        return hf - fD * L / D * v * v / (2 * 9.80665)
+
+    return 1000 * scipy.optimize.brentq(f, 0.02, 1.0, xtol=1e-16, rtol=1e-15)
+
+
+def test_a_tables_roots_and_residuals_carry_their_units_in_the_results_file(capsys, tmp_path):
+    table = tmp_path / "mains.csv"
+    table.write_text("Q [L/s],L [m],hf [m]\n" + "".join(f"{q},{L},{h}\n"
+                                                         for q, L, h in MAINS_ROWS),
+                     encoding="utf-8")
+    out = tmp_path / "bores.csv"
+    constants = [a for n, (v, u) in MAINS_CONSTANTS.items() for a in ("--param", f"{n}={v} {u}")]
+    code, _stdout, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
+                             "--unknown-unit", "mm", *constants, "--method", "brent",
+                             "--bracket", "20", "1000", "--out", str(out))
+    assert code == 0, err
+    meta, rows = table_rows(out)
+    assert list(rows[0]) == ["Q [L/s]", "L [m]", "hf [m]", "root [mm]", "converged", "reason",
+                             "iterations", "residual [m]"]
+    assert "# unknown unit: mm" in meta and "# residual unit: m" in meta
+    for (q, L, h), row in zip(MAINS_ROWS, rows, strict=True):
+        assert float(row["root [mm]"]) == pytest.approx(mains_bore_mm(q, L, h), rel=1e-13)
+    # plain numbers claim no unit: the headers stay as they were
+    plain = tmp_path / "plain.csv"
+    code, _stdout, err = run(capsys, "sweep", "x^3 - x - p", "--vary", "p=-1:1:3", "--x0",
+                             "-1.3", "--out", str(plain))
+    assert code == 0, err
+    assert list(table_rows(plain)[1][0]) == ["p", "root", "converged", "reason", "iterations",
+                                             "residual"]
+
+
+def test_the_tables_window_and_the_sheet_head_the_residual_with_its_unit(qtbot, tmp_path,
+                                                                          capsys):
+    import numpy as np
+    from PySide6.QtCore import Qt
+
+    from app.window.batch_model import BatchModel
+    from solvers.batch import solve_table
+    from solvers.units import measured
+
+    q, L, h = (np.array(c) for c in zip(*MAINS_ROWS, strict=True))
+    done = solve_table(MAINS, [("Q", measured(q, "L/s")), ("L", measured(L, "m")),
+                               ("hf", measured(h, "m"))], unknown="D", unknown_unit="mm",
+                       constants={n: f"{v} {u}" for n, (v, u) in MAINS_CONSTANTS.items()},
+                       method="brent", bracket=(20.0, 1000.0))
+    model = BatchModel()
+    model.set_inputs(["Q", "L", "hf"], [q, L, h], ["L/s", "m", "m"])
+    model.set_batch(done.batch)
+    titles = [model.headerData(c, Qt.Orientation.Horizontal) for c in range(model.columnCount())]
+    assert titles == ["Q [L/s]", "L [m]", "hf [m]", "D [mm]", "reason", "iterations", "f(D) [m]"]
+    assert done.batch.root == pytest.approx([mains_bore_mm(*r) for r in MAINS_ROWS], rel=1e-13)
+    # the sheet's table section, from a worksheet holding the same table
+    ws = {"format": "zerotrace-worksheet", "version": 1,
+          "title": "Supply mains sized for an allowed head loss (invented trial case)",
+          "equation": MAINS, "unknown": "D", "unknown_unit": "mm",
+          "parameters": [{"name": n, "value": v, "unit": u}
+                         for n, (v, u) in {**MAINS_CONSTANTS, "Q": (12, "L/s"),
+                                           "L": (350, "m"), "hf": (2.5, "m")}.items()],
+          "settings": {"methods": ["brent"], "x0": 100.0, "bracket": [20, 1000]},
+          "scan": {"from": 20.0, "to": 1000.0},
+          "table": {"kind": "table", "method": "brent", "bracket": [20, 1000],
+                    "columns": [{"name": n, "unit": u, "values": list(map(float, c))}
+                                for n, u, c in (("Q", "L/s", q), ("L", "m", L),
+                                                ("hf", "m", h))]}}
+    path = tmp_path / "mains.json"
+    path.write_text(json.dumps(ws), encoding="utf-8")
+    sheet = tmp_path / "mains.pdf"
+    code, _out, err = run(capsys, "report", str(path), "--pdf", str(sheet))
+    assert code == 0, err
+    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
+    assert "D [mm]" in text and "f(D) [m]" in text
