@@ -344,9 +344,12 @@ def _results_section(c: _Context) -> list[Flowable]:
                            firstLineIndent=-8)))
 
     out += _heading("Verification of each root", st, "h2")
-    vhead = [Paragraph(t, st["label"]) for t in (
-        "Method", "f(root), double precision, as the method computed it",
-        f"f(root) evaluated at {RESIDUAL_DIGITS} digits (mpmath)", "last step |Δx| / |x|")]
+    # f's unit on both residual columns, as the iteration tables head f(x_k)
+    in_f = _unit_suffix(sol.equation.residual_unit(derived=True))
+    vhead = [Paragraph(escape(t), st["label"]) for t in (
+        "Method", f"f(root){in_f}, double precision, as the method computed it",
+        f"f(root){in_f} evaluated at {RESIDUAL_DIGITS} digits (mpmath)",
+        "last step |Δx| / |x|")]
     vdata: list[list[Any]] = [vhead]
     for r in runs:
         vdata.append([Paragraph(escape(_label(r.method)), st["cell"]), _num(r.residual),
@@ -365,9 +368,11 @@ def _results_section(c: _Context) -> list[Flowable]:
     converged = [r for r in runs if r.converged and math.isfinite(r.root)]
     if sol.agreement_digits is not None:
         spread = max(r.root for r in converged) - min(r.root for r in converged)
+        unit = getattr(sol.equation, "unknown_unit", None)  # the roots' unit, said once
         agree = (
             f"<b>Agreement.</b> {escape(words.agreement_text(sol))} Largest difference "
-            f"between their roots: <font name='ZT-Mono'>{escape(_num(spread))}</font>."
+            f"between their roots: <font name='ZT-Mono'>{escape(_num(spread))}</font>"
+            f"{escape(' ' + unit if unit else '')}."
         )
     else:
         agree = f"<b>Agreement.</b> {escape(words.agreement_text(sol))}"
@@ -400,6 +405,12 @@ def _results_section(c: _Context) -> list[Flowable]:
     return out
 
 
+def _unit_suffix(unit: str | None) -> str:
+    """' [unit]' after a heading or a number for a unit that is known, '' for none (a
+    dimensionless residual, plain numbers, the dimension check off)."""
+    return f" [{unit}]" if unit else ""
+
+
 def _scan_section(c: _Context) -> list[Flowable]:
     st, sc, ws = c.st, c.scan, c.ws
     out: list[Flowable] = [*_heading("5  Roots in the scan range", st, "h1")]
@@ -419,8 +430,10 @@ def _scan_section(c: _Context) -> list[Flowable]:
         out.append(Spacer(1, 4))
         if sc.roots:
             unit = getattr(c.solution.equation, "unknown_unit", None)
-            data: list[list[Any]] = [["#", f"Root x [{unit}]" if unit else "Root x",
-                                      "Residual f(x)", "Mult.", "Confirmed by"]]
+            f_unit = c.solution.equation.residual_unit(derived=True)
+            data: list[list[Any]] = [["#", f"Root x{_unit_suffix(unit)}",
+                                      f"Residual f(x){_unit_suffix(f_unit)}", "Mult.",
+                                      "Confirmed by"]]
             for i, root in enumerate(sc.roots, start=1):
                 how = words.confirmed_text(root)
                 located = words.located_text(root)
