@@ -220,3 +220,35 @@ def test_the_tables_window_and_the_sheet_head_the_residual_with_its_unit(qtbot, 
     assert code == 0, err
     text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
     assert "D [mm]" in text and "f(D) [m]" in text
+
+
+# 5. A cylinder barrel's wall in US customary units (bore radius 3.25 in, 4200 psi, an
+#    allowable hoop stress of 22.5 ksi: an invented case), on the calculation sheet: the
+#    iteration tables headed f(t_k) [Pa], but the "Verification of each root" table gave
+#    f(root) 2.98e-08 and the scan's roots "Residual f(x)" 2.98e-08 with no unit, and the
+#    agreement "Largest difference between their roots: 0.0" none either.
+def test_the_sheets_residuals_and_root_spread_carry_their_units(tmp_path, capsys):
+    ws = {"format": "zerotrace-worksheet", "version": 1,
+          "title": "Cylinder barrel wall by the thick-wall hoop stress (invented trial case)",
+          "equation": "ro = ri + t; Sa = p*(ro^2 + ri^2)/(ro^2 - ri^2)", "unknown": "t",
+          "unknown_unit": "in",
+          "parameters": [{"name": "ri", "value": 3.25, "unit": "in"},
+                         {"name": "p", "value": 4200, "unit": "psi"},
+                         {"name": "Sa", "value": 22.5, "unit": "ksi"}],
+          "settings": {"methods": ["newton", "brent"], "x0": 0.5, "bracket": [0.05, 3.0]},
+          "scan": {"from": 0.01, "to": 4.0}}
+    path = tmp_path / "barrel.json"
+    path.write_text(json.dumps(ws), encoding="utf-8")
+    sheet = tmp_path / "barrel.pdf"
+    code, _out, err = run(capsys, "report", str(path), "--pdf", str(sheet), "--csv-dir",
+                          str(tmp_path / "csv"))
+    assert code == 0, err
+    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
+    assert "f(root) [Pa], double precision" in text
+    assert "f(root) [Pa] evaluated at 50 digits" in text
+    assert "Residual f(x) [Pa]" in text
+    assert "Largest difference between their roots: 0.0 in." in text
+    # the wall by the closed form ro^2 = ri^2 (Sa + p)/(Sa - p); psi and ksi cancel
+    wall = math.sqrt(3.25**2 * (22500 + 4200) / (22500 - 4200)) - 3.25
+    _meta, rows = table_rows(tmp_path / "csv" / "barrel-roots.csv")
+    assert float(rows[0]["x [in]"]) == pytest.approx(wall, rel=1e-14)
