@@ -252,3 +252,61 @@ def test_the_sheets_residuals_and_root_spread_carry_their_units(tmp_path, capsys
     wall = math.sqrt(3.25**2 * (22500 + 4200) / (22500 - 4200)) - 3.25
     _meta, rows = table_rows(tmp_path / "csv" / "barrel-roots.csv")
     assert float(rows[0]["x [in]"]) == pytest.approx(wall, rel=1e-14)
+
+
+# 6. An irrigation canal's normal depth by Manning (trapezoid 2.4 m wide, side slopes
+#    1.5:1, bed slope 0.0008, 6.5 m^3/s: an invented case) with n typed as handbooks print
+#    it, a bare 0.016, was refused only with "the left side is m^3/s, the right side is
+#    m^(8/3)": no input named, no way out, where a U typed bare in a heat balance names U.
+#    The inputs' suspects left out every parameter needing fractional powers, which is
+#    exactly what a correlation's hidden unit needs. A bare number needing them is now
+#    named when no whole-powered input explains it, with the two ways out; and the same for
+#    a Hazen-Williams C with the flow asked in L/s.
+CANAL = ("A = (b + z*y)*y; P = b + 2*y*sqrt(1 + z^2); "
+         "Q = (1/n)*A*(A/P)^(2/3)*sqrt(S)")
+CANAL_PARAMS = ("--param", "Q=6.5 m^3/s", "--param", "b=2.4 m", "--param", "z=1.5",
+                "--param", "S=0.0008")
+HIDDEN = ("a correlation's constant typed as a bare number often hides such a unit "
+          "(Manning's n, a Hazen–Williams C): give it that unit, or switch the dimension "
+          "check off")
+
+
+def canal_depth(n: float = 0.016) -> float:
+    """The normal depth by scipy.optimize.brentq on Manning's equation in SI (common
+    practice, from memory)."""
+    def f(y: float) -> float:
+        A, P = (2.4 + 1.5 * y) * y, 2.4 + 2 * y * math.sqrt(1 + 1.5**2)
+        return 6.5 - (1 / n) * A * (A / P) ** (2 / 3) * math.sqrt(0.0008)
+
+    return scipy.optimize.brentq(f, 0.05, 5.0, xtol=1e-15, rtol=1e-15)
+
+
+def test_a_bare_correlation_constant_is_named_with_the_unit_it_hides(capsys):
+    code, _out, err = run(capsys, "solve", CANAL, *CANAL_PARAMS, "--param", "n=0.016",
+                          "--unknown", "y", "--x0", "1")
+    assert code == 2
+    assert "'n' has no unit; the equation needs 'n' in s/m^(1/3)" in err and HIDDEN in err
+    assert "'S'" not in err  # the slope would fit too, in m^(2/3)/s^2: not the simplest
+    # each way out, taken, gives the depth
+    for fix in (("--param", "n=0.016 s/m^(1/3)"), ("--param", "n=0.016",
+                                                  "--no-dimension-check")):
+        code, out, err = run(capsys, "solve", CANAL, *CANAL_PARAMS, *fix, "--unknown", "y",
+                             "--x0", "1", "--method", "newton", "--json")
+        assert code == 0, err
+        assert json.loads(out)["runs"][0]["root"] == pytest.approx(canal_depth(), rel=1e-14)
+    # a Hazen-Williams head loss (SI form, from memory) with the flow asked in L/s
+    code, _out, err = run(capsys, "solve", "hf = 10.67*L*Q^1.852/(C^1.852*D^4.87)",
+                          "--param", "L=420 m", "--param", "C=120", "--param", "D=300 mm",
+                          "--param", "hf=3 m", "--unknown", "Q", "--unknown-unit", "L/s",
+                          "--x0", "50")
+    assert code == 2 and "'C' has no unit; with 'Q' in 'L/s' the equation needs 'C'" in err
+    assert HIDDEN in err
+
+
+def test_an_input_with_a_unit_is_never_asked_for_fractional_powers(capsys):
+    # the canal with n in its unit but the width typed in mm^2 by a slip: a whole-powered
+    # suspect (b as a length) is named, and no constant is said to hide a unit
+    code, _out, err = run(capsys, "solve", CANAL, "--param", "Q=6.5 m^3/s", "--param",
+                          "b=2.4 m^2", "--param", "z=1.5", "--param", "S=0.0008",
+                          "--param", "n=0.016 s/m^(1/3)", "--unknown", "y", "--x0", "1")
+    assert code == 2 and "'b' in 'm^2'" in err and "hides" not in err
