@@ -310,3 +310,39 @@ def test_an_input_with_a_unit_is_never_asked_for_fractional_powers(capsys):
                           "b=2.4 m^2", "--param", "z=1.5", "--param", "S=0.0008",
                           "--param", "n=0.016 s/m^(1/3)", "--unknown", "y", "--x0", "1")
     assert code == 2 and "'b' in 'm^2'" in err and "hides" not in err
+
+
+# 7. A booster pump on its system curve in US customary units (shut-off head 180 ft, static
+#    head 65 ft: an invented case), with the flow in gpm as every pump curve prints it:
+#    "unknown unit 'gpm' (did you mean 'rpm', 'ppm'?)", and "cfs" likewise; "cfm" was read
+#    as a centi-fermi (1e-17 m). The trade's abbreviations are now units, defined from the
+#    exact US gallon, foot and pound (NIST SP 811).
+@pytest.mark.parametrize("unit, si", [
+    ("gpm", GALLON / 60),  # US gal per minute
+    ("cfs", FOOT**3),  # cubic foot per second
+    ("cfm", FOOT**3 / 60),
+    ("MGD", 1e6 * GALLON / 86400),  # million US gallons per day
+    ("lbm", 0.45359237),  # pound mass, kg (NIST SP 811, exact)
+])
+def test_the_trades_flow_and_mass_abbreviations_are_units(unit, si):
+    from solvers.units import read_unit
+
+    got = read_unit(unit)
+    assert got.factor == pytest.approx(si, rel=1e-15) and got.offset == 0.0
+
+
+def test_a_pump_curve_in_gpm_and_feet_meets_its_system_curve(capsys):
+    code, out, err = run(capsys, "solve", PUMP, "--param", "H0=180 ft",
+                         "--param", "a=0.00012 ft/gpm^2", "--param", "Hs=65 ft",
+                         "--param", "k=0.00021 ft/gpm^2", "--unknown", "Q",
+                         "--unknown-unit", "gpm", "--x0", "400", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["unknown_unit"] == "gpm"
+    # Q = sqrt((H0 - Hs)/(a + k)): feet cancel, the flow comes out in gpm (closed form)
+    for r in doc["runs"]:
+        assert r["converged"] and r["root"] == pytest.approx(math.sqrt(115 / 0.00033),
+                                                             rel=1e-13)
+    # the coefficient in SI: ft/gpm^2 = 0.3048 m / (gal/60 s)^2 (NIST SP 811 factors)
+    assert doc["parameter_units"]["a"]["si_value"] == pytest.approx(
+        0.00012 * FOOT / (GALLON / 60) ** 2, rel=1e-14)
