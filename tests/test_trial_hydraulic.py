@@ -346,3 +346,26 @@ def test_a_pump_curve_in_gpm_and_feet_meets_its_system_curve(capsys):
     # the coefficient in SI: ft/gpm^2 = 0.3048 m / (gal/60 s)^2 (NIST SP 811 factors)
     assert doc["parameter_units"]["a"]["si_value"] == pytest.approx(
         0.00012 * FOOT / (GALLON / 60) ** 2, rel=1e-14)
+
+
+# 8. A spreadsheet's headers as engineers often write them, "Q (L/s),L (m),hf (m)", were
+#    refused with "'Q (L/s)' is not NAME or NAME [unit]" and nothing more: the unit in
+#    parentheses is now answered with the header meant.
+def test_a_unit_in_parentheses_is_answered_with_the_header_in_square_brackets(capsys,
+                                                                             tmp_path):
+    table = tmp_path / "mains.csv"
+    table.write_text("Q (L/s),L (m),hf (m)\n12,350,2.5\n", encoding="utf-8")
+    code, _out, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
+                          "--x0", "0.1")
+    assert code == 2
+    assert "header (line 1), column 1: 'Q (L/s)' is not NAME or NAME [unit]; a unit goes in " \
+           "square brackets: 'Q [L/s]'" in err
+    # the header it suggests is read, and gives the bore of the first main (brentq above)
+    table.write_text("Q [L/s],L [m],hf [m]\n12,350,2.5\n", encoding="utf-8")
+    constants = [a for n, (v, u) in MAINS_CONSTANTS.items() for a in ("--param", f"{n}={v} {u}")]
+    code, out, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
+                         "--unknown-unit", "mm", *constants, "--method", "brent", "--bracket",
+                         "20", "1000", "--json")
+    assert code == 0, err
+    assert json.loads(out)["rows"][0]["root"] == pytest.approx(mains_bore_mm(12, 350, 2.5),
+                                                               rel=1e-13)

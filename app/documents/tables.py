@@ -52,6 +52,7 @@ MAX_TABLE_BYTES = 256 * 1024 * 1024
 MAX_TABLE_ROWS = 10_000_000
 RESULT_COLUMNS = ("root", "converged", "reason", "iterations", "residual")
 
+_OTHER_BRACKETS = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*[({<]([^(){}<>]+)[)}>]\s*")
 _HEADER = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*(?:\[([^\[\]]*)\])?\s*")
 _NUMBER = r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _ONE_NUMBER = re.compile(rf"[ \t]*{_NUMBER}[ \t]*")
@@ -187,6 +188,9 @@ def _columns(shown: str, header: Sequence[str], line: int) -> tuple[Column, ...]
         if parsed is None:
             hint = ("; separate the columns by commas (or tabs, or semicolons throughout)"
                     if any(c in cell for c in ",;\t|") else "")
+            other = _OTHER_BRACKETS.fullmatch(cell)
+            if other is not None and not hint:  # 'Q (L/s)', 'Q {m}': the unit in [ ]
+                hint = f"; a unit goes in square brackets: '{other[1]} [{other[2].strip()}]'"
             raise TableError(f"{where}: {cell.strip()!r} is not NAME or NAME [unit]{hint}")
         name, unit = parsed
         if any(c.name == name for c in columns):
