@@ -369,3 +369,38 @@ def test_a_unit_in_parentheses_is_answered_with_the_header_in_square_brackets(ca
     assert code == 0, err
     assert json.loads(out)["rows"][0]["root"] == pytest.approx(mains_bore_mm(12, 350, 2.5),
                                                                rel=1e-13)
+
+
+# 9. The CSV files say what every residual is in ("# residual unit: Pa", "fx [Pa]"), but
+#    the --json documents of solve, scan and batch did not: a script reading the barrel's
+#    "residual": 2.98e-08 could not tell pascals from psi. They now carry "residual_unit"
+#    (null where no unit can be claimed, as for plain numbers; a system's equations each
+#    have their own and claim none).
+BARREL = "ro = ri + t; Sa = p*(ro^2 + ri^2)/(ro^2 - ri^2)"
+BARREL_PARAMS = ("--param", "ri=3.25 in", "--param", "p=4200 psi", "--param", "Sa=22.5 ksi",
+                 "--unknown", "t", "--unknown-unit", "in")
+
+
+def test_every_json_document_says_what_its_residuals_are_in(capsys, tmp_path):
+    wall = math.sqrt(3.25**2 * (22500 + 4200) / (22500 - 4200)) - 3.25  # closed form, in
+    code, out, err = run(capsys, "solve", BARREL, *BARREL_PARAMS, "--x0", "0.5", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["residual_unit"] == "Pa" and doc["unknown_unit"] == "in"
+    assert doc["runs"][0]["root"] == pytest.approx(wall, rel=1e-14)
+    code, out, err = run(capsys, "scan", BARREL, *BARREL_PARAMS, "--from", "0.01", "--to", "4",
+                         "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["residual_unit"] == "Pa" and doc["roots"][0]["x"] == pytest.approx(wall,
+                                                                                 rel=1e-14)
+    table = tmp_path / "mains.csv"
+    table.write_text("Q [L/s],L [m],hf [m]\n12,350,2.5\n", encoding="utf-8")
+    constants = [a for n, (v, u) in MAINS_CONSTANTS.items() for a in ("--param", f"{n}={v} {u}")]
+    code, out, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
+                         "--unknown-unit", "mm", *constants, "--method", "brent", "--bracket",
+                         "20", "1000", "--json")
+    assert code == 0, err
+    assert json.loads(out)["residual_unit"] == "m"
+    code, out, err = run(capsys, "solve", "x^2 = 2", "--x0", "1", "--json")
+    assert code == 0 and json.loads(out)["residual_unit"] is None  # plain numbers: no claim

@@ -141,7 +141,9 @@ def system_json(solution: Any) -> dict[str, Any]:
         "unknowns": list(system.unknowns),
         "definitions": list(system.definitions),
         "unknown_units": dict(system.unknown_units),
-        **{k: v for k, v in units_json(_UnitsView(system)).items() if k != "unknown_unit"},
+        # each equation of a system has its own residual unit: no one unit is claimed
+        **{k: v for k, v in units_json(_UnitsView(system)).items()
+           if k not in ("unknown_unit", "residual_unit")},
         "parameters": _floats(system.parameters),
         "start": {u.name: _json_float(u.x0) for u in solution.worksheet.system.unknowns},
         "jacobian": system.jacobian_kind,
