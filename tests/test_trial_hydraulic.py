@@ -404,3 +404,68 @@ def test_every_json_document_says_what_its_residuals_are_in(capsys, tmp_path):
     assert json.loads(out)["residual_unit"] == "m"
     code, out, err = run(capsys, "solve", "x^2 = 2", "--x0", "1", "--json")
     assert code == 0 and json.loads(out)["residual_unit"] is None  # plain numbers: no claim
+
+
+# 10. A two-loop distribution network by Hazen-Williams (five pipes, 120 L/s in at A, 30 and
+#     50 L/s out at B and C: an invented case) with the flows asked in L/s: the residual
+#     table printed "(1) QAB + QAD = Qin  -6.94e-18" beside flows of 68.5 L/s, and the CSV
+#     headed it "residual_1": nothing said the junction's residual is in m^3/s. Each
+#     equation's residual now carries its SI unit in the terminal, the CSV, the JSON and
+#     on the sheet.
+PIPES = {"AB": (420, 300), "BC": (380, 200), "DC": (450, 200), "AD": (510, 250),
+         "BD": (600, 150)}  # length m, bore mm
+NETWORK = "\n".join([*(f"r{k} = 10.67*L{k}/(C^1.852*D{k}^4.87)" for k in PIPES),
+                     "QAB + QAD = Qin", "QAB = qB + QBC + QBD", "QBC + QDC = qC",
+                     "rAB*QAB*abs(QAB)^0.852 + rBD*QBD*abs(QBD)^0.852 "
+                     "- rAD*QAD*abs(QAD)^0.852 = 0",
+                     "rBC*QBC*abs(QBC)^0.852 - rDC*QDC*abs(QDC)^0.852 "
+                     "- rBD*QBD*abs(QBD)^0.852 = 0"])
+FLOWS = ("QAB", "QBC", "QDC", "QAD", "QBD")
+
+
+def network_flows_Ls() -> list[float]:
+    """The same network by scipy.optimize.root (hybr) in SI, each head loss
+    10.67 L Q|Q|^0.852 / (C^1.852 D^4.87) (Hazen-Williams in SI, from memory)."""
+    r = {k: 10.67 * L / (120**1.852 * (D / 1000) ** 4.87) for k, (L, D) in PIPES.items()}
+
+    def h(k: str, q: float) -> float:
+        return r[k] * q * abs(q) ** 0.852
+
+    def F(x):
+        ab, bc, dc, ad, bd = x
+        return [ab + ad - 0.12, ab - 0.03 - bc - bd, bc + dc - 0.05,
+                h("AB", ab) + h("BD", bd) - h("AD", ad), h("BC", bc) - h("DC", dc) - h("BD", bd)]
+
+    found = scipy.optimize.root(F, [0.03] * 5, method="hybr", options={"xtol": 1e-14})
+    return [1000 * q for q in found.x]
+
+
+def test_a_systems_residuals_carry_each_equations_unit(capsys, tmp_path):
+    params = ["--param", "C=120", "--param", "Qin=120 L/s", "--param", "qB=30 L/s",
+              "--param", "qC=50 L/s"]
+    for k, (L, D) in PIPES.items():
+        params += ["--param", f"L{k}={L} m", "--param", f"D{k}={D} mm"]
+    flags = [*params, *(a for q in FLOWS for a in ("--unknown", q, "--unknown-unit",
+                                                     f"{q}=L/s")), "--x0", "30"]
+    log = tmp_path / "network.csv"
+    code, out, err = run(capsys, "solve", NETWORK, *flags, "--csv", str(log))
+    assert code == 0, err
+    line = next(t for t in out.splitlines() if t.startswith("(1) QAB + QAD = Qin"))
+    assert "m^3/s" in line
+    loop = next(t for t in out.splitlines() if t.startswith("(4) "))
+    # r in 1/m^3.87 times Q^1.852 in (m^3/s)^1.852: m^1.686/s^1.852
+    assert "m^1.686/s^1.852" in loop
+    _meta, rows = table_rows(log)
+    assert [h for h in rows[0] if h.startswith("residual_") and h != "residual_norm"] == [
+        "residual_1 [m^3/s]", "residual_2 [m^3/s]", "residual_3 [m^3/s]",
+        "residual_4 [m^1.686/s^1.852]", "residual_5 [m^1.686/s^1.852]"]
+    code, out, err = run(capsys, "solve", NETWORK, *flags, "--json")
+    doc = json.loads(out)
+    assert doc["residual_units"][:3] == ["m^3/s"] * 3
+    reference = network_flows_Ls()
+    for run_ in doc["runs"]:
+        assert [run_["root"][q] for q in FLOWS] == pytest.approx(reference, rel=1e-10)
+    # a system of plain numbers claims no unit
+    code, out, err = run(capsys, "solve", "x^2 + y^2 = 4; x*y = 1", "--unknown", "x",
+                         "--unknown", "y", "--x0", "x=2", "--x0", "y=0.3", "--json")
+    assert code == 0 and json.loads(out)["residual_units"] == [None, None]
