@@ -469,3 +469,39 @@ def test_a_systems_residuals_carry_each_equations_unit(capsys, tmp_path):
     code, out, err = run(capsys, "solve", "x^2 + y^2 = 4; x*y = 1", "--unknown", "x",
                          "--unknown", "y", "--x0", "x=2", "--x0", "y=0.3", "--json")
     assert code == 0 and json.loads(out)["residual_units"] == [None, None]
+
+
+# 11. The pump swept over its static head with the unit where it seemed natural:
+#     --vary "Hs=5:35:7m" was "COUNT '7m' is not a whole number", --vary "Hs=5 m:35 m:7"
+#     "'5 m' is not a number", and --x0 "1.2 m" or --bracket 0.5m 3m "is not a number",
+#     none saying where the unit goes. Each now says it.
+SWEEP_PUMP = ("H0 - a*Q - b*Q^2 = Hs + k*Q^2", "--param", "H0=48 m", "--param", "a=95 s/m^2",
+              "--param", "b=21000 s^2/m^5", "--param", "k=14500 s^2/m^5", "--unknown", "Q",
+              "--unknown-unit", "L/s", "--x0", "30")
+
+
+@pytest.mark.parametrize("vary, said", [
+    ("Hs=5:35:7m", "COUNT '7m' is not a whole number (a unit after COUNT is set apart by a "
+                   "space: Hs=5:35:7 m)"),
+    ("Hs=5 m:35 m:7", "'5 m' is not a finite number (the unit goes once, after COUNT: "
+                      "Hs=5:35:7 m)"),
+])
+def test_a_sweeps_unit_typed_in_the_wrong_place_is_shown_where_it_goes(capsys, vary, said):
+    code, _out, err = run(capsys, "sweep", *SWEEP_PUMP, "--vary", vary)
+    assert code == 2 and said in err
+    # the form it shows is read: each operating point by the quadratic formula
+    # Q = (-a + sqrt(a^2 + 4 (b + k)(H0 - Hs))) / (2 (b + k)), in L/s
+    code, out, err = run(capsys, "sweep", *SWEEP_PUMP, "--vary", "Hs=5:35:7 m", "--json")
+    assert code == 0, err
+    for row in json.loads(out)["rows"]:
+        A = 21000 + 14500
+        Q = (-95 + math.sqrt(95**2 + 4 * A * (48 - row["Hs"]))) / (2 * A)
+        assert row["root"] == pytest.approx(1000 * Q, rel=1e-13)
+
+
+def test_a_start_value_typed_with_a_unit_is_told_the_unknowns_unit_holds(capsys):
+    for flags in (("--x0", "1.2 m"), ("--bracket", "0.5m", "3m")):
+        code, _out, err = run(capsys, "solve", "y^2 = L", "--param", "L=4 m^2", *flags)
+        assert code == 2 and "in the unknown's unit, which --unknown-unit gives" in err
+    code, _out, err = run(capsys, "solve", "y^2 = L", "--param", "L=4 m^2", "--xtol", "abc")
+    assert code == 2 and "'abc' is not a number" in err and "--unknown-unit" not in err
