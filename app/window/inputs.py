@@ -30,6 +30,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents import words
 from app.documents.figures import method_color
 from app.documents.words import method_summary, method_title
 from app.documents.worksheet import (
@@ -119,7 +120,7 @@ class NumberField(QLineEdit):
             return "" if self.spec.optional else "needs a value"
         value = self._number(text)
         if value is None:
-            return f"{text!r} is not a finite number"
+            return words.not_a_number(text)
         if self.spec.integer and value != int(value):
             return "must be a whole number"
         return self.spec.check(value) if self.spec.check else ""

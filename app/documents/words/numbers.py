@@ -72,6 +72,16 @@ def si_measure_text(converted: Any, show: Callable[[Any], str] | None = None) ->
     return f"{shown} {si}" if si else shown
 
 
+def not_a_number(text: str) -> str:
+    """"'abc' is not a finite number" for a field or cell that must hold one, with how to
+    write a number typed with commas ('1,200': a thousands separator or a decimal comma,
+    :func:`solvers.equation.lexer.comma_hint`), as the command line and tables say it."""
+    from solvers.equation.lexer import comma_hint
+
+    text = text.strip()
+    return f"{text!r} is not a finite number{comma_hint(text)}"
+
+
 def si_value_shown(converted: Any) -> float:
     """A converted value's SI magnitude as people read it, to 15 significant figures: 15 ft
     is 4.572 m, not the double nearest the product, 4.571999999999999 (that double is what
