@@ -505,3 +505,30 @@ def test_a_start_value_typed_with_a_unit_is_told_the_unknowns_unit_holds(capsys)
         assert code == 2 and "in the unknown's unit, which --unknown-unit gives" in err
     code, _out, err = run(capsys, "solve", "y^2 = L", "--param", "L=4 m^2", "--xtol", "abc")
     assert code == 2 and "'abc' is not a number" in err and "--unknown-unit" not in err
+
+
+# 12. The sheet's answer, its "Selected design value: t = 0.6757", gave the wall thickness
+#     without its unit (the window's design value says "in"): a checker reading the sheet
+#     alone could take it for metres. The design value and its difference from the
+#     nearest scanned root are now in the unknown's unit.
+def test_the_sheets_design_value_is_in_the_unknowns_unit(tmp_path, capsys):
+    wall = math.sqrt(3.25**2 * (22500 + 4200) / (22500 - 4200)) - 3.25  # closed form, in
+    ws = {"format": "zerotrace-worksheet", "version": 1,
+          "title": "Cylinder barrel wall (invented trial case)", "equation": BARREL,
+          "unknown": "t", "unknown_unit": "in",
+          "parameters": [{"name": "ri", "value": 3.25, "unit": "in"},
+                         {"name": "p", "value": 4200, "unit": "psi"},
+                         {"name": "Sa", "value": 22.5, "unit": "ksi"}],
+          "settings": {"methods": ["newton"], "x0": 0.5},
+          "scan": {"from": 0.01, "to": 4.0},
+          "selection": {"root": wall, "reason": "the one root of the range"}}
+    path = tmp_path / "barrel.json"
+    path.write_text(json.dumps(ws), encoding="utf-8")
+    sheet = tmp_path / "barrel.pdf"
+    code, _out, err = run(capsys, "report", str(path), "--pdf", str(sheet))
+    assert code == 0, err
+    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
+    assert f"Selected design value: t = {wall!r} in." in text
+    assert "It is nearest scanned root #1 (difference" in text
+    difference = text.split("(difference ", 1)[1].split(")", 1)[0]
+    assert difference.endswith(" in") and abs(float(difference[:-3])) <= 4e-16 * wall

@@ -472,15 +472,18 @@ def _scan_section(c: _Context) -> list[Flowable]:
             "confirm which root applies.", st["body"]))
     else:
         reason = _text(sel.reason) if sel.reason.strip() else "<i>no reason given</i>"
+        # the design value is the sheet's answer: it says its unit, as the window's does
+        unit = getattr(c.solution.equation, "unknown_unit", None)
+        in_unit = escape(f" {unit}" if unit else "")
         where = ""
         if sc is not None and sc.roots:
             nearest = min(range(len(sc.roots)), key=lambda i: abs(sc.roots[i].x - sel.root))
             where = (f" It is nearest scanned root #{nearest + 1} "
                      f"(difference <font name='ZT-Mono'>"
-                     f"{escape(_num(sel.root - sc.roots[nearest].x))}</font>).")
+                     f"{escape(_num(sel.root - sc.roots[nearest].x))}</font>{in_unit}).")
         out.append(_boxed(Paragraph(
             f"<b>Selected design value:</b> {escape(c.solution.equation.unknown)} = "
-            f"<font name='ZT-Mono'>{escape(_num(sel.root))}</font>.{where}<br/>"
+            f"<font name='ZT-Mono'>{escape(_num(sel.root))}</font>{in_unit}.{where}<br/>"
             f"<b>Reason:</b> {reason}", st["body"]), INK, colors.white))
     return out
 
