@@ -510,7 +510,8 @@ def test_a_start_value_typed_with_a_unit_is_told_the_unknowns_unit_holds(capsys)
 # 12. The sheet's answer, its "Selected design value: t = 0.6757", gave the wall thickness
 #     without its unit (the window's design value says "in"): a checker reading the sheet
 #     alone could take it for metres. The design value and its difference from the
-#     nearest scanned root are now in the unknown's unit.
+#     nearest scanned root are now in the unknown's unit, and so are the scan's range
+#     and its rows of poles, jumps and gaps.
 def test_the_sheets_design_value_is_in_the_unknowns_unit(tmp_path, capsys):
     wall = math.sqrt(3.25**2 * (22500 + 4200) / (22500 - 4200)) - 3.25  # closed form, in
     ws = {"format": "zerotrace-worksheet", "version": 1,
@@ -530,5 +531,8 @@ def test_the_sheets_design_value_is_in_the_unknowns_unit(tmp_path, capsys):
     text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
     assert f"Selected design value: t = {wall!r} in." in text
     assert "It is nearest scanned root #1 (difference" in text
+    # where the scan looked, and the rows of what it found, say the unit too
+    assert "The range [0.01 in, 4.0 in] was scanned" in text
+    assert "Poles [in] none" in text and "Gaps (f undefined) [in] none" in text
     difference = text.split("(difference ", 1)[1].split(")", 1)[0]
     assert difference.endswith(" in") and abs(float(difference[:-3])) <= 4e-16 * wall

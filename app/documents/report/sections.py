@@ -423,10 +423,12 @@ def _scan_section(c: _Context) -> list[Flowable]:
     else:
         samples = getattr(sc, "samples", None)
         sampled = f" with {samples} samples" if samples else ""
+        x_unit = getattr(c.solution.equation, "unknown_unit", None)
+        in_unit = escape(f" {x_unit}" if x_unit else "")  # each end with it: [0.01 in, 4 in]
         out.append(Paragraph(
-            f"The range [<font name='ZT-Mono'>{escape(_num(sc.a))}</font>, "
-            f"<font name='ZT-Mono'>{escape(_num(sc.b))}</font>] was scanned{sampled} for every "
-            f"real root: {len(sc.roots)} found.", st["body"]))
+            f"The range [<font name='ZT-Mono'>{escape(_num(sc.a))}</font>{in_unit}, "
+            f"<font name='ZT-Mono'>{escape(_num(sc.b))}</font>{in_unit}] was scanned{sampled} "
+            f"for every real root: {len(sc.roots)} found.", st["body"]))
         out.append(Spacer(1, 4))
         if sc.roots:
             unit = getattr(c.solution.equation, "unknown_unit", None)
@@ -453,10 +455,12 @@ def _scan_section(c: _Context) -> list[Flowable]:
             text = ", ".join(_num(v) for v in values) if values else "none"
             return Paragraph(escape(text), st["cellmono"])
 
-        rows.append(("Poles", xs(list(sc.poles))))
-        rows.append(("Jumps (discontinuities)", xs(list(getattr(sc, "discontinuities", [])))))
+        in_x = _unit_suffix(x_unit)  # where poles, jumps and gaps lie: the unknown's unit
+        rows.append((f"Poles{in_x}", xs(list(sc.poles))))
+        rows.append((f"Jumps (discontinuities){in_x}",
+                     xs(list(getattr(sc, "discontinuities", [])))))
         gaps = list(getattr(sc, "gaps", []))
-        rows.append(("Gaps (f undefined)", Paragraph(escape(
+        rows.append((f"Gaps (f undefined){in_x}", Paragraph(escape(
             "; ".join(f"[{_num(a)}, {_num(b)}]" for a, b in gaps) if gaps else "none"),
             st["cellmono"])))
         warnings = words.scan_warnings(sc)
