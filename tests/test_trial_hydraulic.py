@@ -536,3 +536,24 @@ def test_the_sheets_design_value_is_in_the_unknowns_unit(tmp_path, capsys):
     assert "Poles [in] none" in text and "Gaps (f undefined) [in] none" in text
     difference = text.split("(difference ", 1)[1].split(")", 1)[0]
     assert difference.endswith(" in") and abs(float(difference[:-3])) <= 4e-16 * wall
+
+
+# 13. The notes on start values the program chose ("x1 = 0.66835: the end nearer x0 of the
+#     scan's sign change [0.66835, 0.678325]", "bracket [0.5, 0.7]: grown around x0") gave
+#     values of the barrel's wall with no unit, in the terminal, the CSV, the JSON and on
+#     the sheet, beside settings headed "[in]". They now say it.
+def test_the_notes_on_chosen_start_values_say_the_unknowns_unit(capsys, tmp_path):
+    code, out, err = run(capsys, "solve", BARREL, *BARREL_PARAMS, "--x0", "0.5", "--csv",
+                         str(tmp_path / "log.csv"))
+    assert code == 0, err
+    notes = [line for line in out.splitlines() if line.startswith("note:")]
+    assert any("bracket [0.5, 0.7] in: grown around x0" in n for n in notes)
+    assert any(n.endswith("x1 = 0.50015 in: x0 nudged by 1e-4 (relative)") for n in notes)
+    meta, _rows = table_rows(tmp_path / "log.csv")
+    assert any("# start values: bracket [0.5, 0.7] in:" in line for line in meta)
+    code, out, err = run(capsys, "solve", BARREL, *BARREL_PARAMS, "--x0", "0.5", "--json")
+    assert "x1 = 0.50015 in: x0 nudged by 1e-4 (relative)" in json.loads(out)["start"]["notes"]
+    # plain numbers: no unit to say
+    code, out, err = run(capsys, "solve", "x^2 = 2", "--x0", "1", "--method", "secant",
+                         "--json")
+    assert json.loads(out)["start"]["notes"] == ["x1 = 1.0002: x0 nudged by 1e-4 (relative)"]

@@ -321,7 +321,7 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
         "damping": s.damping,
     }
     more = dict(extra or {})
-    notes = start_notes(sv)
+    notes = start_notes(sv, getattr(solution.equation, "unknown_unit", None))
     if notes:
         more["start values"] = "; ".join(notes)
     eq = solution.equation
@@ -389,7 +389,7 @@ def solution_json(solution: Any) -> dict[str, Any]:
             "bracket": [_json_float(v) for v in solution.start.bracket]
             if solution.start.bracket is not None
             else None,
-            "notes": list(start_notes(solution.start)),
+            "notes": list(start_notes(solution.start, solution.equation.unknown_unit)),
         },
         "agreement_digits": solution.agreement_digits,
         "runs": [{**run_json(r, solution.equation.unknown, solution.equation.unknown_unit),

@@ -275,7 +275,7 @@ def _settings_section(c: _Context) -> list[Flowable]:
             "exactly, or after the maximum number of iterations (then it has not converged).",
             st["cell"])),
     ]
-    notes = words.start_notes(sv)
+    notes = words.start_notes(sv, getattr(c.solution.equation, "unknown_unit", None))
     if notes:
         rows.append(("Start value notes", Paragraph(_text("; ".join(notes)), st["cell"])))
     return [*_heading("3  Method settings", st, "h1"), _key_value_table(rows, st)]
