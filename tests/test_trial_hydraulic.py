@@ -548,12 +548,28 @@ def test_the_notes_on_chosen_start_values_say_the_unknowns_unit(capsys, tmp_path
     assert code == 0, err
     notes = [line for line in out.splitlines() if line.startswith("note:")]
     assert any("bracket [0.5, 0.7] in: grown around x0" in n for n in notes)
-    assert any(n.endswith("x1 = 0.50015 in: x0 nudged by 1e-4 (relative)") for n in notes)
+    assert any(n.endswith("x1 = 0.50015 in: x0 moved away from 0 by 1e-4 of itself plus "
+                          "1e-4 in") for n in notes)
     meta, _rows = table_rows(tmp_path / "log.csv")
     assert any("# start values: bracket [0.5, 0.7] in:" in line for line in meta)
     code, out, err = run(capsys, "solve", BARREL, *BARREL_PARAMS, "--x0", "0.5", "--json")
-    assert "x1 = 0.50015 in: x0 nudged by 1e-4 (relative)" in json.loads(out)["start"]["notes"]
+    assert "x1 = 0.50015 in: x0 moved away from 0 by 1e-4 of itself plus 1e-4 in" in \
+        json.loads(out)["start"]["notes"]
     # plain numbers: no unit to say
     code, out, err = run(capsys, "solve", "x^2 = 2", "--x0", "1", "--method", "secant",
                          "--json")
-    assert json.loads(out)["start"]["notes"] == ["x1 = 1.0002: x0 nudged by 1e-4 (relative)"]
+    assert json.loads(out)["start"]["notes"] == [
+        "x1 = 1.0002: x0 moved away from 0 by 1e-4 of itself plus 1e-4"]
+
+
+# 14. That note said "x1 = 1.0002: x0 nudged by 1e-4 (relative)" for x0 = 1, a nudge of
+#     2e-4: the rule is x0 (1 + 1e-4) + 1e-4 (away from 0), relative and absolute both.
+#     The words now say the rule the numbers follow, checked here on both signs.
+@pytest.mark.parametrize("x0", [1.0, 0.5, 250.0, -3.0, 0.0])
+def test_the_secants_second_point_is_described_by_the_rule_it_follows(capsys, x0):
+    code, out, err = run(capsys, "solve", "x^3 = 2*x + c", "--param", "c=5", "--x0", repr(x0),
+                         "--method", "secant", "--json")
+    start = json.loads(out)["start"]
+    # the rule as the note states it, written out independently
+    assert start["x1"] == x0 * (1 + 1e-4) + (1e-4 if x0 >= 0 else -1e-4)
+    assert start["notes"][-1].endswith("x0 moved away from 0 by 1e-4 of itself plus 1e-4")
