@@ -573,3 +573,40 @@ def test_the_secants_second_point_is_described_by_the_rule_it_follows(capsys, x0
     # the rule as the note states it, written out independently
     assert start["x1"] == x0 * (1 + 1e-4) + (1e-4 if x0 >= 0 else -1e-4)
     assert start["notes"][-1].endswith("x0 moved away from 0 by 1e-4 of itself plus 1e-4")
+
+
+# 15. The part-full sewer's central angle solved in degrees (--unknown-unit deg; a 600 mm
+#     pipe at 0.25 m^3/s, an invented case) came with the note "sin, cos and tan take
+#     radians (multiply by deg for degrees)": advice for plain numbers. Followed here it
+#     converts twice, th*deg with th already in radians, and gives the wrong angle. Where
+#     an angle carries its unit the note now says it is converted already.
+SEWER = "A = D^2/8*(th - sin(th)); P = D*th/2; Q = (1/n)*A*(A/P)^(2/3)*sqrt(S)"
+SEWER_PARAMS = ("--param", "D=600 mm", "--param", "n=0.013 s/m^(1/3)", "--param", "S=0.004",
+                "--param", "Q=0.25 m^3/s", "--unknown", "th")
+
+
+def test_an_angle_with_its_unit_is_not_told_to_be_multiplied_by_deg(capsys):
+    def f(th: float) -> float:  # Manning for a part-full circular pipe (from memory), SI
+        A, P = 0.36 / 8 * (th - math.sin(th)), 0.6 * th / 2
+        return 0.25 - (1 / 0.013) * A * (A / P) ** (2 / 3) * math.sqrt(0.004)
+
+    angle = math.degrees(scipy.optimize.brentq(f, 0.2, 5.0, xtol=1e-15))  # brentq reference
+    code, out, err = run(capsys, "solve", SEWER, *SEWER_PARAMS, "--unknown-unit", "deg",
+                         "--x0", "180", "--bracket", "10", "300", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["runs"][0]["root"] == pytest.approx(angle, rel=1e-13)
+    code, out, err = run(capsys, "solve", SEWER, *SEWER_PARAMS, "--unknown-unit", "deg",
+                         "--x0", "180", "--bracket", "10", "300")
+    assert "multiply by deg" not in out
+    assert "'th' given in an angle unit: converted to radians for sin, cos and tan" in out
+    # a parameter in deg likewise; plain numbers keep the advice
+    code, out, err = run(capsys, "solve", "x = L*sin(a)", "--param", "a=30 deg", "--param",
+                         "L=2 m", "--x0", "1", "--json")
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(1.0, rel=1e-15)  # 2 sin 30°
+    code, out, err = run(capsys, "solve", "x = L*sin(a)", "--param", "a=30 deg", "--param",
+                         "L=2 m", "--x0", "1")
+    assert "'a' given in an angle unit" in out and "multiply by deg" not in out
+    code, out, err = run(capsys, "solve", "x = L*sin(a)", "--param", "a=0.5", "--param", "L=2",
+                         "--x0", "1")
+    assert "sin, cos and tan take radians (multiply by deg for degrees)" in out

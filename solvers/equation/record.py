@@ -37,8 +37,9 @@ class Remark:
 
     Codes: "unknown_has_value" (subject: the unknown), "no_derivative" (subject: the
     reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
-    numbers: the limit passed, if any), "degrees", "radians", "kinks", "no_dependence"
-    (subject: the unknown), "e_notation". app/documents/words renders them.
+    numbers: the limit passed, if any), "degrees", "radians", "angle_units" (subject: the
+    names whose angle unit is converted to radians; it replaces "radians"), "kinks",
+    "no_dependence" (subject: the unknown), "e_notation". app/documents/words renders them.
     """
 
     code: str
@@ -468,6 +469,24 @@ def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> tuple[Any
     return tuple(np.asarray(v, dtype=np.float64) for v in out[:k])
 
 
+def _angle_remarks(remarks: tuple[Remark, ...], unknown: str, unknown_unit: str | None,
+                   used: Mapping[str, Converted]) -> tuple[Remark, ...]:
+    """"radians" (multiply by deg for degrees) is advice for plain numbers: where an angle
+    carries its unit (th in deg, a parameter "30 deg") it is converted to radians already,
+    and multiplying by deg as well would take the sine of an angle 57.3 times too small.
+    Then "angle_units" names those angles instead."""
+    if not any(r.code == "radians" for r in remarks):
+        return remarks
+    from solvers.units.reading import is_angle
+
+    angled = [unknown] if unknown_unit and is_angle(unknown_unit) else []
+    angled += [n for n, c in used.items() if isinstance(c.unit, str) and is_angle(c.unit)]
+    if not angled:
+        return remarks
+    return tuple(r for r in remarks if r.code != "radians") + (
+        Remark("angle_units", ", ".join(angled)),)
+
+
 def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
           converted: Mapping[str, Converted] | None = None) -> Equation:
     unknown_unit = None
@@ -476,7 +495,8 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
         used = {n: c for n, c in (converted or {}).items() if n in values}
         resolution = core.units.resolve(used)
         unknown_unit = resolution.unknown_unit
-        remarks = remarks + tuple(Remark(*r) for r in resolution.remarks)
+        remarks = _angle_remarks(remarks, core.unknown, unknown_unit, used) + tuple(
+            Remark(*r) for r in resolution.remarks)
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
     rows: tuple[int, ...] = ()

@@ -363,6 +363,7 @@ def coherent_text(text: str) -> str | None:
                           else f"/{bottom}")
 
 
+@lru_cache(maxsize=256)
 def is_angle(text: str) -> bool:
     """Whether a unit text is a plane angle (deg, rad, arcmin, turn): dimensionless, as
     every angle is in SI, yet counted in radians; False for a pure ratio (%, ppm) and for
