@@ -534,12 +534,17 @@ def suspects_words(found: Sequence[Suspect], unknown: str | None = None,
                else f"'{s.name}' has no unit")
         given = f"with '{unknown}' in '{unit}' " if unknown is not None else ""
         said.append(f"{now}; {given}the equation needs '{s.name}' {needs_words(s.needed)}")
-    hides = any(Fraction(e).limit_denominator(10**6).denominator != 1 for s in found
-                for _n, e in s.needed)
-    return ("; most likely an input's unit is wrong: " + "; or ".join(said)
-            + ("; a correlation's constant typed as a bare number often hides such a unit "
-               "(Manning's n, a Hazen–Williams C): give it that unit, or switch the dimension "
-               "check off" if hides else ""))
+    powers = [Fraction(e).limit_denominator(10**6) for s in found for _n, e in s.needed]
+    hides = ""
+    if any(p.denominator != 1 for p in powers):
+        # s/m^(1/3) can be typed; m^0.37041/s (C^1.852 = m^0.686/s^1.852) cannot: a unit's
+        # powers are small numbers or fractions of them (reading.unit_text_problem)
+        typed = all(p.denominator <= 99 and abs(p.numerator) <= 99 for p in powers)
+        hides = ("; a correlation's constant typed as a bare number often hides such a unit "
+                 "(Manning's n, a Hazen–Williams C): "
+                 + ("give it that unit, or switch the dimension check off" if typed else
+                    "switch the dimension check off (no unit text holds those powers)"))
+    return "; most likely an input's unit is wrong: " + "; or ".join(said) + hides
 
 
 def _because(text: str, fixed: Sequence[tuple[str, _Exact, tuple[int, int]]]) -> str:
