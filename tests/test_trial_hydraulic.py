@@ -621,3 +621,24 @@ def test_an_angle_with_its_unit_is_not_told_to_be_multiplied_by_deg(capsys):
     code, out, err = run(capsys, "solve", "x = L*sin(a)", "--param", "a=0.5", "--param", "L=2",
                          "--x0", "1")
     assert "sin, cos and tan take radians (multiply by deg for degrees)" in out
+
+
+# 16. A head loss with g typed into the equation as handbooks print it,
+#     "hf = f*L/D*v^2/(2*9.81 m/s^2)", was refused with "missing operator between '9.81'
+#     and 'm'": true, and no help to someone who meant a unit. A number followed by a unit
+#     name now says where units go; a number before a name that is no unit is as before.
+def test_a_unit_typed_into_the_equation_is_told_where_units_go(capsys):
+    code, _out, err = run(capsys, "solve", "hf = f*L/D*v^2/(2*9.81 m/s^2)", "--param",
+                          "f=0.02", "--param", "L=100 m", "--param", "D=0.2 m", "--param",
+                          "v=2 m/s", "--unknown", "hf", "--x0", "1")
+    assert code == 2
+    assert "missing operator between '9.81' and 'm' ('m' is a unit: a number with a unit " \
+           "goes in as a parameter's value, never in the equation) at column 24" in err
+    code, _out, err = run(capsys, "solve", "y = 2 Q", "--unknown", "y", "--x0", "1")
+    assert code == 2 and "missing operator between '2' and 'Q' at column 7" in err
+    # given as a parameter it reads: Darcy-Weisbach hf = f L v^2 / (2 g D) (closed form)
+    code, out, err = run(capsys, "solve", "hf = f*L/D*v^2/(2*g)", "--param", "f=0.02",
+                         "--param", "L=100 m", "--param", "D=0.2 m", "--param", "v=2 m/s",
+                         "--param", "g=9.81 m/s^2", "--unknown", "hf", "--x0", "1", "--json")
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(0.02 * 100 / 0.2 * 4 / 19.62,
+                                                               rel=1e-14)

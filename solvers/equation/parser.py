@@ -76,6 +76,23 @@ def _is_bad(expr: Any) -> bool:
     return bool(expr.has(sp.I, sp.zoo, sp.nan, sp.oo, -sp.oo))
 
 
+def _unit_in_equation_hint(before: _Token, name: _Token) -> str:
+    """' ('m' is a unit: ...)' when a number is followed, after a space, by a name
+    that is a unit (2.5 m, 9.81 m/s^2): a unit typed into the equation, where only
+    parameter values carry units; '' otherwise. pint is asked only here, on the way to
+    a refusal, never while an equation that reads is parsed."""
+    if before.kind != "num" or name.kind != "name":
+        return ""
+    try:
+        from solvers.units.reading import read_unit
+
+        read_unit(name.text)
+    except Exception:  # noqa: BLE001 - not a unit (or no units here): no hint
+        return ""
+    return (f" ('{name.text}' is a unit: a number with a unit goes in as a parameter's "
+            "value, never in the equation)")
+
+
 class _Parser:
     """Recursive descent over the tokens, building sympy objects as it goes.
 
@@ -220,8 +237,9 @@ class _Parser:
                 factors.append(_Node(inv, None if d.value is None else 1.0 / d.value,
                                      d.names))
             elif t.kind in ("num", "name") or t.text == "(":
-                prev = self.tokens[self.i - 1].text
-                raise self.fail(f"missing operator between {prev!r} and {t.text!r}", t.pos)
+                before = self.tokens[self.i - 1]
+                raise self.fail(f"missing operator between {before.text!r} and {t.text!r}"
+                                + _unit_in_equation_hint(before, t), t.pos)
             else:
                 break
         if len(factors) == 1:
