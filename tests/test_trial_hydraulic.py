@@ -632,8 +632,9 @@ def test_a_unit_typed_into_the_equation_is_told_where_units_go(capsys):
                           "f=0.02", "--param", "L=100 m", "--param", "D=0.2 m", "--param",
                           "v=2 m/s", "--unknown", "hf", "--x0", "1")
     assert code == 2
-    assert "missing operator between '9.81' and 'm' ('m' is a unit: a number with a unit " \
-           "goes in as a parameter's value, never in the equation) at column 24" in err
+    assert "missing operator between '9.81' and 'm' ('m' is also a unit: if a unit was " \
+           "meant, a number with a unit goes in as a parameter's value, never in the " \
+           "equation) at column 24" in err
     code, _out, err = run(capsys, "solve", "y = 2 Q", "--unknown", "y", "--x0", "1")
     assert code == 2 and "missing operator between '2' and 'Q' at column 7" in err
     # given as a parameter it reads: Darcy-Weisbach hf = f L v^2 / (2 g D) (closed form)

@@ -89,8 +89,8 @@ def _unit_in_equation_hint(before: _Token, name: _Token) -> str:
         read_unit(name.text)
     except Exception:  # noqa: BLE001 - not a unit (or no units here): no hint
         return ""
-    return (f" ('{name.text}' is a unit: a number with a unit goes in as a parameter's "
-            "value, never in the equation)")
+    return (f" ('{name.text}' is also a unit: if a unit was meant, a number with a unit "
+            "goes in as a parameter's value, never in the equation)")
 
 
 class _Parser:
@@ -238,8 +238,11 @@ class _Parser:
                                      d.names))
             elif t.kind in ("num", "name") or t.text == "(":
                 before = self.tokens[self.i - 1]
+                # a name defined on an earlier line is no unit typed in; a parameter named
+                # like a unit (m for a mass) cannot be told apart here: the hint says "if"
+                hint = "" if t.text in self.bindings else _unit_in_equation_hint(before, t)
                 raise self.fail(f"missing operator between {before.text!r} and {t.text!r}"
-                                + _unit_in_equation_hint(before, t), t.pos)
+                                + hint, t.pos)
             else:
                 break
         if len(factors) == 1:
