@@ -637,6 +637,12 @@ def test_a_unit_typed_into_the_equation_is_told_where_units_go(capsys):
            "equation) at column 24" in err
     code, _out, err = run(capsys, "solve", "y = 2 Q", "--unknown", "y", "--x0", "1")
     assert code == 2 and "missing operator between '2' and 'Q' at column 7" in err
+    # written tight, 2.5mm reads as the product 2.5*mm and mm has no value: the same hint
+    code, _out, err = run(capsys, "solve", "h = 2.5mm + x", "--unknown", "x", "--x0", "1")
+    assert code == 2 and "no value for 'h', 'mm' (the unknown is 'x')" in err
+    assert "('mm' right after 2.5 is read as a product; 'mm' is also a unit" in err
+    code, _out, err = run(capsys, "solve", "y = 2x + c", "--unknown", "y", "--x0", "1")
+    assert code == 2 and "also a unit" not in err  # x is no unit
     # given as a parameter it reads: Darcy-Weisbach hf = f L v^2 / (2 g D) (closed form)
     code, out, err = run(capsys, "solve", "hf = f*L/D*v^2/(2*g)", "--param", "f=0.02",
                          "--param", "L=100 m", "--param", "D=0.2 m", "--param", "v=2 m/s",

@@ -582,9 +582,30 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
     missing = [n for n in names if n != unknown and n not in values]
     if missing:
         raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values, names),
-                    first_pos[missing[0]])
+                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values, names)
+                    + _glued_unit_hint(text, missing, first_pos), first_pos[missing[0]])
     return unknown
+
+
+def _glued_unit_hint(text: str, missing: Sequence[str], first_pos: Mapping[str, int]) -> str:
+    """' ('mm' right after 2.5 ...)' when a name without a value stands right after a number
+    (2.5mm reads as 2.5*mm) and is a unit: a unit typed into the equation; '' otherwise.
+    pint is asked only on this way to a refusal."""
+    for name in missing:
+        at = first_pos.get(name)
+        if at is None or at == 0 or not (text[at - 1].isdigit() or text[at - 1] == "."):
+            continue
+        try:
+            from solvers.units.reading import read_unit
+
+            read_unit(name)
+        except Exception:  # noqa: BLE001 - not a unit: no hint
+            continue
+        number = re.search(r"[0-9.]+(?:[eE][+-]?[0-9]+)?$", text[:at])
+        return (f" ('{name}' right after {number.group(0) if number else 'a number'} is "
+                f"read as a product; '{name}' is also a unit: if a unit was meant, a number "
+                "with a unit goes in as a parameter's value, never in the equation)")
+    return ""
 
 
 def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: str,
