@@ -72,12 +72,21 @@ def _method_name(text: str) -> str:
     return name
 
 
+_NUMBER_AND_UNIT = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?\s*[A-Za-zµ°%].*")
+
+
 def _finite(text: str) -> float:
+    """An argparse type: a finite number. A number with a unit typed after it (--x0 "1.2 m",
+    --bracket 0.5m 3m) is told where the unit goes: start values, brackets and the scan
+    range are in the unknown's unit, which --unknown-unit gives."""
     text = text.strip()  # a value that starts with '-' arrives marked (see _mark_values)
     try:
         value = float(text)
     except ValueError:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+        hint = (" (a plain number: start values, the bracket and the range are in the "
+                "unknown's unit, which --unknown-unit gives)"
+                if _NUMBER_AND_UNIT.fullmatch(text) else "")
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number{hint}") from None
     if not math.isfinite(value):
         raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
     return value

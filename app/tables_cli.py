@@ -17,6 +17,8 @@ line on stderr (for a table: the row, its file line and the column).
 from __future__ import annotations
 
 import argparse
+import math
+import re
 from typing import Any
 
 import numpy as np
@@ -227,6 +229,16 @@ def cmd_batch(args: argparse.Namespace) -> int:
                                          for c in table.columns)})
 
 
+_NUMBER_UNIT = re.compile(r"\s*([-+]?[.\d][.\deE+-]*)\s*([A-Za-zµ°%].*)")
+
+
+def _is_finite(text: str) -> bool:
+    try:
+        return math.isfinite(float(text))
+    except ValueError:
+        return False
+
+
 def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
     text = args.vary
     name, sep, spec = text.partition("=")
@@ -236,9 +248,18 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
         raise InputError(f"--vary: {text!r} is not NAME=START:STOP:COUNT (a unit may follow "
                          "COUNT)")
     try:
-        start, stop = _finite(parts[0]), _finite(parts[1])
-    except argparse.ArgumentTypeError as exc:
-        raise InputError(f"--vary: {exc}") from None
+        start, stop = float(parts[0]), float(parts[1])
+        if not (math.isfinite(start) and math.isfinite(stop)):
+            raise ValueError
+    except ValueError:
+        bad = next((p.strip() for p in parts[:2] if not _is_finite(p)), parts[0].strip())
+        glued = _NUMBER_UNIT.fullmatch(bad)
+        where = ""
+        if glued:  # START or STOP typed with its unit: the unit goes once, after COUNT
+            plain = [_NUMBER_UNIT.sub(r"\1", p.strip()) for p in parts[:2]]
+            where = (f" (the unit goes once, after COUNT: {name}={plain[0]}:{plain[1]}:"
+                     f"{parts[2].strip()} {glued[2].strip()})")
+        raise InputError(f"--vary: {bad!r} is not a finite number{where}") from None
     from solvers.equation import EquationError
     from solvers.units import measured
 
@@ -246,7 +267,10 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
     try:
         count = int(count_text)
     except ValueError:
-        raise InputError(f"--vary: COUNT {count_text!r} is not a whole number") from None
+        glued = re.fullmatch(r"(\d+)([A-Za-zµ°%].*)", count_text)
+        hint = (f" (a unit after COUNT is set apart by a space: {name}={parts[0].strip()}:"
+                f"{parts[1].strip()}:{glued[1]} {glued[2]})" if glued else "")
+        raise InputError(f"--vary: COUNT {count_text!r} is not a whole number{hint}") from None
     if not 2 <= count <= MAX_SWEEP:
         raise InputError(f"--vary: COUNT must be from 2 to {MAX_SWEEP}, got {count}")
     if args.log:

@@ -43,7 +43,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     print(f"unknown:  {unknown}" + (f"    parameters: {params}" if params else ""))
     from app.documents.words import remarks_text
 
-    for note in (*remarks_text(eq.remarks), *words.start_notes(solution.start)):
+    for note in (*remarks_text(eq.remarks), *words.start_notes(solution.start, eq.unknown_unit)):
         print(f"note:     {note}")
     print()
     rows = []

@@ -44,8 +44,11 @@ def print_system_solution(solution: Any, *, steps: bool, figures: int | None = N
                      for r in runs)]
                   for n in system.unknowns]))
     print()
-    print(_table(["residual at the root", *titles],
+    # each residual in its equation's SI unit (a flow balance in m^3/s beside flows in L/s)
+    f_units = system.residual_units(derived=True)
+    print(_table(["residual at the root", *(["unit (SI)"] if f_units else []), *titles],
                  [[words.clipped(f"({i + 1}) {text}", 48),
+                   *([words.unit_cell(f_units[i])] if f_units else []),
                    *(_g(r.residuals[i], 3) for r in runs)]
                   for i, text in enumerate(system.equations)]))
     for r in runs:

@@ -230,7 +230,7 @@ def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues
     (it changes sign). With no sign change: x0 where |f| was least; the bracket is the
     scan range only if its ends change sign, else none. Without a scan range: x0 = the
     bracket's midpoint, else 1; the bracket grows around x0 until f changes sign; x1 is
-    x0 nudged by 1e-4 relative (as scipy's secant does). ``choices`` records each choice
+    x0 (1 + 1e-4) + 1e-4 away from 0 (as scipy's secant does). ``choices`` records each choice
     as a code with its numbers.
     """
     s = ws.settings

@@ -324,7 +324,7 @@ def test_a_table_with_units_in_its_headers_runs_and_is_saved_with_them(qtbot, wi
     assert batch.root == pytest.approx(expected, rel=1e-10)  # in m: the SI unit of D
     model = tables.model
     titles = [model.headerData(c, Qt.Orientation.Horizontal) for c in range(model.columnCount())]
-    assert titles == ["L [ft]", "h [ft]", "D [m]", "reason", "iterations", "f(D)"]
+    assert titles == ["L [ft]", "h [ft]", "D [m]", "reason", "iterations", "f(D) [m]"]
     record = tables.inputs_record()
     assert record.units == ("ft", "ft")
     # the export writes the constants as entered and in SI (a trial found the click did

@@ -321,7 +321,7 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
         "damping": s.damping,
     }
     more = dict(extra or {})
-    notes = start_notes(sv)
+    notes = start_notes(sv, getattr(solution.equation, "unknown_unit", None))
     if notes:
         more["start values"] = "; ".join(notes)
     eq = solution.equation
@@ -346,7 +346,8 @@ def solution_meta(solution: Any, extra: Mapping[str, str] | None = None) -> dict
 
 
 def units_json(equation: Any, columns: Collection[str] = ()) -> dict[str, Any]:
-    """The units of a JSON document: ``unknown_unit``, each parameter's unit as entered
+    """The units of a JSON document: ``unknown_unit``, ``residual_unit`` (f's SI unit, see
+    :meth:`solvers.equation.Equation.residual_unit`), each parameter's unit as entered
     and in SI (``parameter_units``), and whether dimensions were checked.
 
     ``columns``: the parameters a table gives row by row. Each has its unit and SI unit,
@@ -360,8 +361,13 @@ def units_json(equation: Any, columns: Collection[str] = ()) -> dict[str, Any]:
         return {"value": _json_float(c.value), "unit": c.unit,
                 "si_value": _json_float(c.si_value), "si_unit": c.si_unit}
 
+    residual = getattr(equation, "residual_unit", None)
     return {
         "unknown_unit": equation.unknown_unit,
+        # f = lhs - rhs in SI base units, as the CSV's '# residual unit' line: every residual
+        # and f(x) of the document is in it (null where it cannot be claimed: plain numbers,
+        # the check off; '' dimensionless)
+        "residual_unit": residual() if callable(residual) else None,
         "parameter_units": {
             name: entry(name, c) for name, c in equation.units.items()
             if name in columns or isinstance(c.value, float)},
@@ -383,7 +389,7 @@ def solution_json(solution: Any) -> dict[str, Any]:
             "bracket": [_json_float(v) for v in solution.start.bracket]
             if solution.start.bracket is not None
             else None,
-            "notes": list(start_notes(solution.start)),
+            "notes": list(start_notes(solution.start, solution.equation.unknown_unit)),
         },
         "agreement_digits": solution.agreement_digits,
         "runs": [{**run_json(r, solution.equation.unknown, solution.equation.unknown_unit),

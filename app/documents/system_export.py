@@ -5,7 +5,8 @@ block order, one summary line per run, the caution), one header row, one row per
 iterate: ``method, block, k`` (blocks counted from 1 in the order solved, as the terminal,
 the window and the sheet count them; the JSON's ``block`` too), one column per unknown
 (``Q1 [m^3/s]`` when it has a unit: its values are in that unit), one per equation's
-residual (``residual_1`` ..., in SI base units of the equation's dimension), then
+residual (``residual_1 [m^3/s]`` ..., in SI base units of the equation's dimension, the
+unit in the header where the system has units; the JSON's ``residual_units``), then
 ``residual_norm, step_norm, damping, regularised``. Parameters are listed as entered and
 in SI; a ``dimensions`` line says when the dimensional check was switched off. Floats are
 written with ``repr`` (round-trip exact).
@@ -69,10 +70,18 @@ def unknown_label(system: Any, name: str) -> str:
     return f"{name} [{unit}]" if unit else name
 
 
+def _residual_units(system: Any, n: int) -> tuple[str | None, ...]:
+    """Each equation's residual unit in SI base units (None each for a system without)."""
+    units = getattr(system, "residual_units", None)
+    found = units() if callable(units) else ()
+    return tuple(found) if found else (None,) * n
+
+
 def header(system: Any) -> list[str]:
     n = len(system.equations)
     return ["method", "block", "k", *(unknown_label(system, u) for u in system.unknowns),
-            *(f"residual_{i}" for i in range(1, n + 1)),
+            *(f"residual_{i}" + (f" [{u}]" if u else "")
+              for i, u in zip(range(1, n + 1), _residual_units(system, n), strict=True)),
             "residual_norm", "step_norm", "damping", "regularised"]
 
 
@@ -141,7 +150,11 @@ def system_json(solution: Any) -> dict[str, Any]:
         "unknowns": list(system.unknowns),
         "definitions": list(system.definitions),
         "unknown_units": dict(system.unknown_units),
-        **{k: v for k, v in units_json(_UnitsView(system)).items() if k != "unknown_unit"},
+        # each equation of a system has its own residual unit: no one unit is claimed,
+        # a list in the order of "equations" (null each without units) instead
+        **{k: v for k, v in units_json(_UnitsView(system)).items()
+           if k not in ("unknown_unit", "residual_unit")},
+        "residual_units": list(_residual_units(system, len(system.equations))),
         "parameters": _floats(system.parameters),
         "start": {u.name: _json_float(u.x0) for u in solution.worksheet.system.unknowns},
         "jacobian": system.jacobian_kind,

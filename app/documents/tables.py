@@ -30,7 +30,14 @@ from typing import IO, Any
 
 import numpy as np
 
-from app.documents.export import _emit, _json_float, _write_metadata, number
+from app.documents.export import (
+    RESIDUAL_UNIT_KEY,
+    UNIT_KEY,
+    _emit,
+    _json_float,
+    _write_metadata,
+    number,
+)
 from app.documents.files import read_limited
 from app.documents.words import (
     CAUTION,
@@ -39,15 +46,16 @@ from app.documents.words import (
     counted,
     reason_text,
 )
+from solvers.equation.lexer import comma_hint
 
 MAX_TABLE_BYTES = 256 * 1024 * 1024
 MAX_TABLE_ROWS = 10_000_000
 RESULT_COLUMNS = ("root", "converged", "reason", "iterations", "residual")
 
+_OTHER_BRACKETS = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*[({<]([^(){}<>]+)[)}>]\s*")
 _HEADER = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*(?:\[([^\[\]]*)\])?\s*")
 _NUMBER = r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _ONE_NUMBER = re.compile(rf"[ \t]*{_NUMBER}[ \t]*")
-_DECIMAL_COMMA = re.compile(r"[-+]?\d+,\d+")  # 1,5: a decimal comma, refused with a hint
 _MANY_NUMBERS = re.compile(rf"(?:{_NUMBER}\n)*")  # cells are stripped, one per line
 
 
@@ -180,6 +188,9 @@ def _columns(shown: str, header: Sequence[str], line: int) -> tuple[Column, ...]
         if parsed is None:
             hint = ("; separate the columns by commas (or tabs, or semicolons throughout)"
                     if any(c in cell for c in ",;\t|") else "")
+            other = _OTHER_BRACKETS.fullmatch(cell)
+            if other is not None and not hint:  # 'Q (L/s)', 'Q {m}': the unit in [ ]
+                hint = f"; a unit goes in square brackets: '{other[1]} [{other[2].strip()}]'"
             raise TableError(f"{where}: {cell.strip()!r} is not NAME or NAME [unit]{hint}")
         name, unit = parsed
         if any(c.name == name for c in columns):
@@ -197,8 +208,7 @@ def _numbers(shown: str, column: Column, cells: Sequence[str], lines: Sequence[i
                 where = f"{shown}: row {i + 1} (line {lines[i]}), column {column.header!r}"
                 if not cell:
                     raise TableError(f"{where}: missing value")
-                hint = (f" (a decimal comma? write {cell.replace(',', '.')})"
-                        if _DECIMAL_COMMA.fullmatch(cell) else "")
+                hint = comma_hint(cell)
                 raise TableError(f"{where}: {cell[:40]!r} is not a plain number{hint}")
     values = np.array(cells, dtype=np.float64)
     bad = np.flatnonzero(~np.isfinite(values))
@@ -269,15 +279,26 @@ def note_lines(batch: Any, label: str = "row") -> dict[str, str]:
     return meta
 
 
+def result_headers(unit: str | None, f_unit: str | None) -> list[str]:
+    """RESULT_COLUMNS as a results file heads them: the root in the unknown's unit
+    (``root [mm]``) and the residual in f's SI unit (``residual [m]``) where each is known,
+    as the input columns beside them carry theirs (``L [m]``) and a solve's iteration log
+    heads ``x [mm]`` and ``fx [m]``."""
+    return [f"{c} [{unit}]" if c == "root" and unit else
+            f"{c} [{f_unit}]" if c == "residual" and f_unit else c for c in RESULT_COLUMNS]
+
+
 def results_csv(batch: Any, headers: Sequence[str], cells: Sequence[Sequence[str]],
                 target: str | os.PathLike[str] | IO[str], *, meta: Mapping[str, str],
                 overwrite: bool = False) -> None:
     """Write the table of results: input columns (``headers`` and their ``cells`` as text,
-    one sequence per column) then RESULT_COLUMNS, one row per case (see module notes)."""
+    one sequence per column) then RESULT_COLUMNS headed with their units
+    (:func:`result_headers`, from ``meta``'s unknown and residual unit lines), one row per
+    case (see module notes)."""
     buffer = io.StringIO()
     _write_metadata(buffer, {**meta, **note_lines(batch)})
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow([*headers, *RESULT_COLUMNS])
+    writer.writerow([*headers, *result_headers(meta.get(UNIT_KEY), meta.get(RESIDUAL_UNIT_KEY))])
     roots = [number(v) if v == v else "" for v in batch.root.reshape(-1).tolist()]
     residuals = [number(v) if v == v else "" for v in batch.residual.reshape(-1).tolist()]
     converged = ["True" if c else "False" for c in batch.converged.reshape(-1).tolist()]

@@ -75,8 +75,11 @@ class BatchModel(QAbstractTableModel):
             return str(section + 1)
         equation = getattr(self.batch, "equation", None)
         unknown = getattr(equation, "unknown", "") or "x"
-        headings = words.iterate_headings(unknown, unit=getattr(equation, "unknown_unit", None))
-        # the root in the unknown's name and unit (D [mm]), the residual as f(D)
+        f_unit = equation.residual_unit(derived=True) if equation is not None else None
+        headings = words.iterate_headings(unknown, unit=getattr(equation, "unknown_unit", None),
+                                          f_unit=f_unit)
+        # the root in the unknown's name and unit (D [mm]), the residual as f(D) in f's
+        # unit (f(D) [m]), as the row's lane below heads them
         titles = [*(f"{n} [{u}]" if u else n for n, u in zip(self.names, self.units,
                                                              strict=True)),
                   headings["x"], *RESULT_TITLES[1:3], headings["fx"]]

@@ -30,6 +30,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app.documents import words
 from app.documents.figures import method_color
 from app.documents.words import method_summary, method_title
 from app.documents.worksheet import (
@@ -63,12 +64,16 @@ def _rule(key: str) -> Callable[[float], str]:
 
 
 START_FIELDS = (
-    FieldSpec("x0", "x&0", "Newton–Raphson start (blank: midpoint of the bracket). "
-              "Shift+click on the plot sets it.", optional=True),
-    FieldSpec("x1", "x&1", "second point of the secant (blank: x0 nudged by 1e-4). "
+    # the blanks as solvers.pipeline.start_values fills them
+    FieldSpec("x0", "x&0", "Newton–Raphson start (blank: inside a sign change a quick scan "
+              "of the scan range finds, else the bracket's midpoint). Shift+click on the plot "
+              "sets it.", optional=True),
+    FieldSpec("x1", "x&1", "second point of the secant (blank: the end of that sign change "
+              "nearest x0, else x0 moved away from 0 by 1e-4 of itself plus 1e-4). "
               "Shift+right-click on the plot sets it.", optional=True),
-    FieldSpec("a", "bracket &a", "left end of the bracket for false position "
-              "(blank: the scan range). Shift+drag on the plot sets a and b.", optional=True),
+    FieldSpec("a", "bracket &a", "left end of the bracket for the bracketing methods "
+              "(blank: that sign change, else the scan range where f changes sign over it, "
+              "else grown around x0). Shift+drag on the plot sets a and b.", optional=True),
     FieldSpec("b", "bracket &b", "right end of the bracket", optional=True),
     FieldSpec("from", "scan fro&m", "left end of the range scanned for every root "
               "and drawn in the plot", optional=True),
@@ -119,7 +124,7 @@ class NumberField(QLineEdit):
             return "" if self.spec.optional else "needs a value"
         value = self._number(text)
         if value is None:
-            return f"{text!r} is not a finite number"
+            return words.not_a_number(text)
         if self.spec.integer and value != int(value):
             return "must be a whole number"
         return self.spec.check(value) if self.spec.check else ""

@@ -294,7 +294,7 @@ def agreement_text(solution: Any, digits: int = 6) -> str:
     failed = [method_label(r.method) for r in solution.runs if not r.converged]
     if failed:
         text += f"  Failed: {', '.join(failed)} (see the lane for why)."
-    notes = words.start_notes(solution.start)
+    notes = words.start_notes(solution.start, getattr(solution.equation, "unknown_unit", None))
     if notes:
         text += "  Start values: " + "; ".join(notes) + "."
     at_root = solution.definitions_at_root  # (computed in the solve job: read here)

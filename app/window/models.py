@@ -257,7 +257,7 @@ def value_and_unit_problem(text: str, value: float | None, unit: str) -> tuple[s
     if not text.strip():
         return "value", "needs a value"
     if value is None:
-        return "value", f"{text.strip()!r} is not a finite number"
+        return "value", words.not_a_number(text)
     problem = unit_text_problem(unit) if unit.strip() else ""
     return ("unit", problem) if problem else ("", "")
 

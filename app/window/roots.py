@@ -221,6 +221,8 @@ def agreement_words(solution: Any) -> str:
     if len(groups) > 1:
         return "the methods converged to different roots: " + ", ".join(
             f"{_num(x)} ({', '.join(method_label(m) for m in ms)})" for x, ms in groups)
+    if solution.agreement_digits is None and len(solution.runs) == 1:
+        return "no other method was run to cross-check it"
     if solution.agreement_digits is None:
         return "no other method converged to cross-check it"
     return f"methods agree to {solution.agreement_digits} significant figures"

@@ -52,7 +52,7 @@ def _number(text: str) -> float | None:
         return None
     value = parse_number(text)  # the main window's rule: digits, point, exponent
     if value is None:
-        raise ValueError(f"{text!r} is not a finite number")
+        raise ValueError(words.not_a_number(text))
     return value
 
 

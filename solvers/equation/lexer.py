@@ -26,6 +26,28 @@ class EquationError(ValueError):
         self.position = position
 
 
+_COMMA_NUMBER = re.compile(r"([-+]?)([0-9]+)((?:,[0-9]+)+)(\.[0-9]*)?")
+
+
+def comma_hint(text: str) -> str:
+    """How to write a number typed with commas, for a refusal (' (...)'; '' when ``text``
+    is no such number). '1,5' is a decimal comma; '1,200,000' and '12,500.5' a thousands
+    separator;
+    '1,200' may be either (1.2 in much of Europe, 1200 in the US and UK), and a hint that
+    took one reading would turn the other into a value 1000 times off: both are named."""
+    match = _COMMA_NUMBER.fullmatch(text.strip())
+    if match is None:
+        return ""
+    sign, head, rest, tail = match.groups()
+    groups = rest[1:].split(",")
+    said = []
+    if len(head) <= 3 and all(len(g) == 3 for g in groups):
+        said.append(f"a thousands separator? write {sign}{head}{''.join(groups)}{tail or ''}")
+    if len(groups) == 1 and not tail:
+        said.append(f"a decimal comma? write {sign}{head}.{groups[0]}")
+    return f" ({'; or '.join(said)})" if said else ""
+
+
 # ---------------------------------------------------------------------------------------------
 # Tokens
 # ---------------------------------------------------------------------------------------------

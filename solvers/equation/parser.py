@@ -29,6 +29,7 @@ from solvers.equation.lexer import (
     _check_name,
     _fail,
     _Token,
+    comma_hint,
     tokenize,
 )
 
@@ -73,6 +74,23 @@ class Check:
 
 def _is_bad(expr: Any) -> bool:
     return bool(expr.has(sp.I, sp.zoo, sp.nan, sp.oo, -sp.oo))
+
+
+def _unit_in_equation_hint(before: _Token, name: _Token) -> str:
+    """' ('m' is a unit: ...)' when a number is followed, after a space, by a name
+    that is a unit (2.5 m, 9.81 m/s^2): a unit typed into the equation, where only
+    parameter values carry units; '' otherwise. pint is asked only here, on the way to
+    a refusal, never while an equation that reads is parsed."""
+    if before.kind != "num" or name.kind != "name":
+        return ""
+    try:
+        from solvers.units.reading import read_unit
+
+        read_unit(name.text)
+    except Exception:  # noqa: BLE001 - not a unit (or no units here): no hint
+        return ""
+    return (f" ('{name.text}' is also a unit: if a unit was meant, a number with a unit "
+            "goes in as a parameter's value, never in the equation)")
 
 
 class _Parser:
@@ -219,8 +237,12 @@ class _Parser:
                 factors.append(_Node(inv, None if d.value is None else 1.0 / d.value,
                                      d.names))
             elif t.kind in ("num", "name") or t.text == "(":
-                prev = self.tokens[self.i - 1].text
-                raise self.fail(f"missing operator between {prev!r} and {t.text!r}", t.pos)
+                before = self.tokens[self.i - 1]
+                # a name defined on an earlier line is no unit typed in; a parameter named
+                # like a unit (m for a mass) cannot be told apart here: the hint says "if"
+                hint = "" if t.text in self.bindings else _unit_in_equation_hint(before, t)
+                raise self.fail(f"missing operator between {before.text!r} and {t.text!r}"
+                                + hint, t.pos)
             else:
                 break
         if len(factors) == 1:
@@ -359,14 +381,25 @@ class _Parser:
         raise self.fail(f"unexpected {t.text!r}", t.pos)  # pragma: no cover - defensive
 
     def comma(self, t: _Token, message: str) -> EquationError:
-        """A misplaced ','; between two whole numbers written tight (2,5) it is most likely
-        a decimal comma, and the message says how to write the number."""
+        """A misplaced ','; between whole numbers written tight (2,5; 1,200; 1,200,000) it
+        is most likely a decimal comma or a thousands separator, and the message says how
+        to write the number (:func:`lexer.comma_hint`: both readings where both fit)."""
         j = next((k for k, u in enumerate(self.tokens) if u is t), None)
         if j is not None and 0 < j < len(self.tokens) - 1:
-            before, after = self.tokens[j - 1], self.tokens[j + 1]
-            if (before.kind == after.kind == "num" and before.text.isdigit()
-                    and after.text.isdigit() and before.end == t.pos and after.pos == t.end):
-                message += f" (a decimal comma? write {before.text}.{after.text})"
+            before = self.tokens[j - 1]
+            if before.kind == "num" and before.text.isdigit() and before.end == t.pos:
+                # the whole run of whole numbers written tight around commas: 1,200,000
+                typed, k = before.text, j
+                while (k + 1 < len(self.tokens) and self.tokens[k].text == ","
+                       and self.tokens[k + 1].kind == "num"
+                       and self.tokens[k + 1].text.replace(".", "", 1).isdigit()
+                       and self.tokens[k + 1].pos == self.tokens[k].end
+                       and self.tokens[k].pos == self.tokens[k - 1].end):
+                    typed += "," + self.tokens[k + 1].text
+                    k += 2
+                    if "." in typed:  # 12,500.5: the decimal point ends the number
+                        break
+                message += comma_hint(typed)
         return self.fail(message, t.pos)
 
     def number(self, t: _Token) -> _Node:

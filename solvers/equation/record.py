@@ -37,8 +37,9 @@ class Remark:
 
     Codes: "unknown_has_value" (subject: the unknown), "no_derivative" (subject: the
     reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
-    numbers: the limit passed, if any), "degrees", "radians", "kinks", "no_dependence"
-    (subject: the unknown), "e_notation". app/documents/words renders them.
+    numbers: the limit passed, if any), "degrees", "radians", "angle_units" (subject: the
+    names whose angle unit is converted to radians; it replaces "radians"), "kinks",
+    "no_dependence" (subject: the unknown), "e_notation". app/documents/words renders them.
     """
 
     code: str
@@ -468,6 +469,24 @@ def _run_checks(core: _Core, values: tuple[Any, ...], scalar: bool) -> tuple[Any
     return tuple(np.asarray(v, dtype=np.float64) for v in out[:k])
 
 
+def _angle_remarks(remarks: tuple[Remark, ...], unknown: str, unknown_unit: str | None,
+                   used: Mapping[str, Converted]) -> tuple[Remark, ...]:
+    """"radians" (multiply by deg for degrees) is advice for plain numbers: where an angle
+    carries its unit (th in deg, a parameter "30 deg") it is converted to radians already,
+    and multiplying by deg as well would take the sine of an angle 57.3 times too small.
+    Then "angle_units" names those angles instead."""
+    if not any(r.code == "radians" for r in remarks):
+        return remarks
+    from solvers.units.reading import is_angle
+
+    angled = [unknown] if unknown_unit and is_angle(unknown_unit) else []
+    angled += [n for n, c in used.items() if isinstance(c.unit, str) and is_angle(c.unit)]
+    if not angled:
+        return remarks
+    return tuple(r for r in remarks if r.code != "radians") + (
+        Remark("angle_units", ", ".join(angled)),)
+
+
 def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
           converted: Mapping[str, Converted] | None = None) -> Equation:
     unknown_unit = None
@@ -476,7 +495,8 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
         used = {n: c for n, c in (converted or {}).items() if n in values}
         resolution = core.units.resolve(used)
         unknown_unit = resolution.unknown_unit
-        remarks = remarks + tuple(Remark(*r) for r in resolution.remarks)
+        remarks = _angle_remarks(remarks, core.unknown, unknown_unit, used) + tuple(
+            Remark(*r) for r in resolution.remarks)
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
     rows: tuple[int, ...] = ()
@@ -562,9 +582,30 @@ def _choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[s
     missing = [n for n in names if n != unknown and n not in values]
     if missing:
         raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
-                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values, names),
-                    first_pos[missing[0]])
+                    + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values, names)
+                    + _glued_unit_hint(text, missing, first_pos), first_pos[missing[0]])
     return unknown
+
+
+def _glued_unit_hint(text: str, missing: Sequence[str], first_pos: Mapping[str, int]) -> str:
+    """' ('mm' right after 2.5 ...)' when a name without a value stands right after a number
+    (2.5mm reads as 2.5*mm) and is a unit: a unit typed into the equation; '' otherwise.
+    pint is asked only on this way to a refusal."""
+    for name in missing:
+        at = first_pos.get(name)
+        if at is None or at == 0 or not (text[at - 1].isdigit() or text[at - 1] == "."):
+            continue
+        try:
+            from solvers.units.reading import read_unit
+
+            read_unit(name)
+        except Exception:  # noqa: BLE001 - not a unit: no hint
+            continue
+        number = re.search(r"[0-9.]+(?:[eE][+-]?[0-9]+)?$", text[:at])
+        return (f" ('{name}' right after {number.group(0) if number else 'a number'} is "
+                f"read as a product; '{name}' is also a unit: if a unit was meant, a number "
+                "with a unit goes in as a parameter's value, never in the equation)")
+    return ""
 
 
 def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: str,

@@ -127,12 +127,31 @@ class System:
         return dict(self._cache[key])
 
     def _definition_units(self, derived: bool) -> dict[str, str | None]:
-        if not self.definitions or (not self.parameter_units
-                                    and not any(self.unknown_units.values())):
+        if not self.definitions:
             return {}
+        units = self._units_of(self._definition_exprs, derived)
+        return {} if units is None else dict(zip(self.definitions, units, strict=True))
+
+    def residual_units(self, derived: bool = False) -> tuple[str | None, ...]:
+        """The SI unit of each equation's residual lhs - rhs, as :meth:`F` gives it, in
+        the order of ``equations`` (``m^3/s`` for a junction's flow balance; '' when
+        dimensionless; None where it cannot be claimed: the dimension check off, an
+        unknown's dimension free). Empty when the system has no units at all: its
+        residuals are in whatever consistent units were typed. ``derived`` as for
+        :meth:`definition_units`."""
+        key = f"residual_units_{derived}"
+        if key not in self._cache:
+            self._cache[key] = self._units_of(self.exprs, derived) or ()
+        return tuple(self._cache[key])
+
+    def _units_of(self, exprs: Any, derived: bool) -> tuple[str | None, ...] | None:
+        """The SI unit of each of ``exprs`` (in the unknowns and parameters), None for
+        a system without units."""
+        if not self.parameter_units and not any(self.unknown_units.values()):
+            return None
         if not self.check_dimensions or any(
                 getattr(r, "code", "") == "system_dimension_free" for r in self.remarks):
-            return {name: None for name in self.definitions}
+            return (None,) * len(exprs)
         from solvers.units import read_unit, unit_text
         from solvers.units.dimensions import dimensions_of
 
@@ -144,10 +163,10 @@ class System:
                 try:
                     dims[x] = read_unit(unit).dimension
                 except EquationError:  # fractional powers: no unit can be claimed
-                    return {name: None for name in self.definitions}
-        found = dimensions_of(self._definition_exprs, dims)
-        return {name: None if dim is None else unit_text(dim, derived=derived)
-                for name, dim in zip(self.definitions, found, strict=True)}
+                    return (None,) * len(exprs)
+        found = dimensions_of(exprs, dims)
+        return tuple(None if dim is None else unit_text(dim, derived=derived)
+                     for dim in found)
 
 
 def differences(F: Any, x: np.ndarray) -> np.ndarray:

@@ -272,10 +272,13 @@ class Plan:
             self.text, self.spans, (self.sides,), (self.unknown,),
             {self.symbols[n]: c.dimension for n, c in used.items()},
             {self.unknown: (meant, unit_text(meant))}, self.names_at, typed)
+        # a bare constant needing fractional powers is named by the remark on the unknown's
+        # fractional dimension already; against a meant dimension that is only a rounding
+        # guess (a Hazen-Williams Q rounds to a volume, m^3) its unit would mislead
         return tuple(("unit_suspect", s.name, (*dimension_numbers(meant),
                                                *dimension_numbers(s.dimension),
                                                *dimension_numbers(s.needed)))
-                     for s in found)
+                     for s in found if all(float(e).is_integer() for _n, e in s.needed))
 
 
 def plan_for(text: str, parser: Any, lhs: Any, rhs: Any, unknown: Any,

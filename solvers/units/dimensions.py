@@ -482,10 +482,15 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
     at most ``most``, in the order typed; with ``simplest`` False every one that explains
     it (a mismatch among the inputs themselves: U in W/(m*K) where W/(m^2*K) was meant
     is explained by U's unit and by A's alike, and neither is the likelier on its face).
-    A parameter the rules leave open, or that would need fractional powers, is no
-    suspect. () when no single parameter explains it.
+    A parameter the rules leave open is no suspect, nor one typed with a unit that would
+    need fractional powers. A bare number that would need them is the constant of a
+    correlation hiding its unit (Manning's n in s/m^(1/3), a Hazen-Williams C): such
+    parameters are named only when no whole-powered one explains it, and then only the
+    simplest (``simplest`` or not: the slope beside Manning's n would fit too, in
+    m^(2/3)/s^2). () when no single parameter explains it.
     """
     found: list[tuple[tuple[float, float, int], int, Suspect]] = []
+    hidden: list[tuple[tuple[float, float, int], int, Suspect]] = []
     order = names_at or {}
     for p, unit in typed.items():
         if p in unknowns:
@@ -498,11 +503,16 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
             continue
         needed = _exact(outcome.dimension)
         now = _exact(dimensions.get(p, ()))
-        if not outcome.fixed or needed == now or any(
-                Fraction(e).denominator != 1 for _n, e in needed):
+        if not outcome.fixed or needed == now:
             continue
-        found.append((unit_size(outcome.dimension), order.get(p, 0),
-                      Suspect(p.name, unit, _plain(now), outcome.dimension)))
+        suspect = (unit_size(outcome.dimension), order.get(p, 0),
+                   Suspect(p.name, unit, _plain(now), outcome.dimension))
+        if not any(Fraction(e).denominator != 1 for _n, e in needed):
+            found.append(suspect)
+        elif not unit:
+            hidden.append(suspect)
+    if not found and hidden:
+        found, simplest = hidden, True
     if not found:
         return ()
     least = min(size for size, _at, _s in found)
@@ -524,7 +534,17 @@ def suspects_words(found: Sequence[Suspect], unknown: str | None = None,
                else f"'{s.name}' has no unit")
         given = f"with '{unknown}' in '{unit}' " if unknown is not None else ""
         said.append(f"{now}; {given}the equation needs '{s.name}' {needs_words(s.needed)}")
-    return "; most likely an input's unit is wrong: " + "; or ".join(said)
+    powers = [Fraction(e).limit_denominator(10**6) for s in found for _n, e in s.needed]
+    hides = ""
+    if any(p.denominator != 1 for p in powers):
+        # s/m^(1/3) can be typed; m^0.37041/s (C^1.852 = m^0.686/s^1.852) cannot: a unit's
+        # powers are small numbers or fractions of them (reading.unit_text_problem)
+        typed = all(p.denominator <= 99 and abs(p.numerator) <= 99 for p in powers)
+        hides = ("; a correlation's constant typed as a bare number often hides such a unit "
+                 "(Manning's n, a Hazen–Williams C): "
+                 + ("give it that unit, or switch the dimension check off" if typed else
+                    "switch the dimension check off (no unit text holds those powers)"))
+    return "; most likely an input's unit is wrong: " + "; or ".join(said) + hides
 
 
 def _because(text: str, fixed: Sequence[tuple[str, _Exact, tuple[int, int]]]) -> str:

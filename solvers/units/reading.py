@@ -8,7 +8,8 @@ the closest names of the registry as suggestions. Exponents are bounded and ever
 factor must be a finite, non-zero double.
 
 pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
-never at start-up; readings are cached by text.
+never at start-up; readings are cached by text. The registry adds a few trade
+abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm).
 
 Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
 temperatures, converted with their offset (25 degC -> 298.15 K). In a compound unit
@@ -49,8 +50,24 @@ def registry() -> Any:
                 import pint
 
                 # offsets never autoconvert: 25 degC * 2 is refused by pint, not guessed
-                _registry.append(pint.UnitRegistry(autoconvert_offset_to_baseunit=False))
+                reg = pint.UnitRegistry(autoconvert_offset_to_baseunit=False)
+                for definition in TRADE_UNITS:
+                    reg.define(definition)
+                _registry.append(reg)
     return _registry[0]
+
+
+# Abbreviations US hydraulic and mechanical engineers type first, which pint does not know
+# (gpm was answered "did you mean 'rpm'?") or reads as something else entirely (cfm as a
+# centi-fermi, 1e-17 m), defined from pint's own exact US gallon, foot and pound
+# (NIST SP 811: 1 gal = 231 in^3, 1 ft = 0.3048 m, 1 lb = 0.45359237 kg).
+TRADE_UNITS = (
+    "gpm = gallon / minute",
+    "cfs = foot ** 3 / second",
+    "cfm = foot ** 3 / minute",
+    "MGD = 1e6 * gallon / day = mgd",
+    "lbm = pound",
+)
 
 
 @dataclass(frozen=True)
@@ -344,6 +361,19 @@ def coherent_text(text: str) -> str | None:
     bottom = "*".join(down)
     return (up or "1") + ("" if not down else f"/({bottom})" if len(down) > 1
                           else f"/{bottom}")
+
+
+@lru_cache(maxsize=256)
+def is_angle(text: str) -> bool:
+    """Whether a unit text is a plane angle (deg, rad, arcmin, turn): dimensionless, as
+    every angle is in SI, yet counted in radians; False for a pure ratio (%, ppm) and for
+    text that is not a unit."""
+    try:
+        reg = registry()
+        units = reg.Quantity(1.0, reg.parse_units(text)).to_root_units().units
+    except Exception:  # noqa: BLE001 - not a unit: not an angle
+        return False
+    return dict(units._units) == {"radian": 1}
 
 
 def unit_size(dimension: Dimension) -> tuple[float, float, int]:

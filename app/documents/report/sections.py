@@ -210,7 +210,7 @@ def _equation_section(c: _Context) -> list[Flowable]:
             got = converted.get(p.name)
             if got is None:
                 return ""
-            return f"{_num(words.si_value_shown(got))} {words.si_unit_text(got)}"
+            return words.si_measure_text(got, _num)
 
         data = [["Name", "Value", "Unit", "In SI units", "Note"]] + [
             [Paragraph(f"<font name='ZT-Mono'>{escape(p.name)}</font>", st["cell"]),
@@ -275,7 +275,7 @@ def _settings_section(c: _Context) -> list[Flowable]:
             "exactly, or after the maximum number of iterations (then it has not converged).",
             st["cell"])),
     ]
-    notes = words.start_notes(sv)
+    notes = words.start_notes(sv, getattr(c.solution.equation, "unknown_unit", None))
     if notes:
         rows.append(("Start value notes", Paragraph(_text("; ".join(notes)), st["cell"])))
     return [*_heading("3  Method settings", st, "h1"), _key_value_table(rows, st)]
@@ -344,9 +344,12 @@ def _results_section(c: _Context) -> list[Flowable]:
                            firstLineIndent=-8)))
 
     out += _heading("Verification of each root", st, "h2")
-    vhead = [Paragraph(t, st["label"]) for t in (
-        "Method", "f(root), double precision, as the method computed it",
-        f"f(root) evaluated at {RESIDUAL_DIGITS} digits (mpmath)", "last step |Δx| / |x|")]
+    # f's unit on both residual columns, as the iteration tables head f(x_k)
+    in_f = _unit_suffix(sol.equation.residual_unit(derived=True))
+    vhead = [Paragraph(escape(t), st["label"]) for t in (
+        "Method", f"f(root){in_f}, double precision, as the method computed it",
+        f"f(root){in_f} evaluated at {RESIDUAL_DIGITS} digits (mpmath)",
+        "last step |Δx| / |x|")]
     vdata: list[list[Any]] = [vhead]
     for r in runs:
         vdata.append([Paragraph(escape(_label(r.method)), st["cell"]), _num(r.residual),
@@ -365,9 +368,11 @@ def _results_section(c: _Context) -> list[Flowable]:
     converged = [r for r in runs if r.converged and math.isfinite(r.root)]
     if sol.agreement_digits is not None:
         spread = max(r.root for r in converged) - min(r.root for r in converged)
+        unit = getattr(sol.equation, "unknown_unit", None)  # the roots' unit, said once
         agree = (
             f"<b>Agreement.</b> {escape(words.agreement_text(sol))} Largest difference "
-            f"between their roots: <font name='ZT-Mono'>{escape(_num(spread))}</font>."
+            f"between their roots: <font name='ZT-Mono'>{escape(_num(spread))}</font>"
+            f"{escape(' ' + unit if unit else '')}."
         )
     else:
         agree = f"<b>Agreement.</b> {escape(words.agreement_text(sol))}"
@@ -400,6 +405,12 @@ def _results_section(c: _Context) -> list[Flowable]:
     return out
 
 
+def _unit_suffix(unit: str | None) -> str:
+    """' [unit]' after a heading or a number for a unit that is known, '' for none (a
+    dimensionless residual, plain numbers, the dimension check off)."""
+    return f" [{unit}]" if unit else ""
+
+
 def _scan_section(c: _Context) -> list[Flowable]:
     st, sc, ws = c.st, c.scan, c.ws
     out: list[Flowable] = [*_heading("5  Roots in the scan range", st, "h1")]
@@ -412,15 +423,19 @@ def _scan_section(c: _Context) -> list[Flowable]:
     else:
         samples = getattr(sc, "samples", None)
         sampled = f" with {samples} samples" if samples else ""
+        x_unit = getattr(c.solution.equation, "unknown_unit", None)
+        in_unit = escape(f" {x_unit}" if x_unit else "")  # each end with it: [0.01 in, 4 in]
         out.append(Paragraph(
-            f"The range [<font name='ZT-Mono'>{escape(_num(sc.a))}</font>, "
-            f"<font name='ZT-Mono'>{escape(_num(sc.b))}</font>] was scanned{sampled} for every "
-            f"real root: {len(sc.roots)} found.", st["body"]))
+            f"The range [<font name='ZT-Mono'>{escape(_num(sc.a))}</font>{in_unit}, "
+            f"<font name='ZT-Mono'>{escape(_num(sc.b))}</font>{in_unit}] was scanned{sampled} "
+            f"for every real root: {len(sc.roots)} found.", st["body"]))
         out.append(Spacer(1, 4))
         if sc.roots:
             unit = getattr(c.solution.equation, "unknown_unit", None)
-            data: list[list[Any]] = [["#", f"Root x [{unit}]" if unit else "Root x",
-                                      "Residual f(x)", "Mult.", "Confirmed by"]]
+            f_unit = c.solution.equation.residual_unit(derived=True)
+            data: list[list[Any]] = [["#", f"Root x{_unit_suffix(unit)}",
+                                      f"Residual f(x){_unit_suffix(f_unit)}", "Mult.",
+                                      "Confirmed by"]]
             for i, root in enumerate(sc.roots, start=1):
                 how = words.confirmed_text(root)
                 located = words.located_text(root)
@@ -440,10 +455,12 @@ def _scan_section(c: _Context) -> list[Flowable]:
             text = ", ".join(_num(v) for v in values) if values else "none"
             return Paragraph(escape(text), st["cellmono"])
 
-        rows.append(("Poles", xs(list(sc.poles))))
-        rows.append(("Jumps (discontinuities)", xs(list(getattr(sc, "discontinuities", [])))))
+        in_x = _unit_suffix(x_unit)  # where poles, jumps and gaps lie: the unknown's unit
+        rows.append((f"Poles{in_x}", xs(list(sc.poles))))
+        rows.append((f"Jumps (discontinuities){in_x}",
+                     xs(list(getattr(sc, "discontinuities", [])))))
         gaps = list(getattr(sc, "gaps", []))
-        rows.append(("Gaps (f undefined)", Paragraph(escape(
+        rows.append((f"Gaps (f undefined){in_x}", Paragraph(escape(
             "; ".join(f"[{_num(a)}, {_num(b)}]" for a, b in gaps) if gaps else "none"),
             st["cellmono"])))
         warnings = words.scan_warnings(sc)
@@ -459,15 +476,18 @@ def _scan_section(c: _Context) -> list[Flowable]:
             "confirm which root applies.", st["body"]))
     else:
         reason = _text(sel.reason) if sel.reason.strip() else "<i>no reason given</i>"
+        # the design value is the sheet's answer: it says its unit, as the window's does
+        unit = getattr(c.solution.equation, "unknown_unit", None)
+        in_unit = escape(f" {unit}" if unit else "")
         where = ""
         if sc is not None and sc.roots:
             nearest = min(range(len(sc.roots)), key=lambda i: abs(sc.roots[i].x - sel.root))
             where = (f" It is nearest scanned root #{nearest + 1} "
                      f"(difference <font name='ZT-Mono'>"
-                     f"{escape(_num(sel.root - sc.roots[nearest].x))}</font>).")
+                     f"{escape(_num(sel.root - sc.roots[nearest].x))}</font>{in_unit}).")
         out.append(_boxed(Paragraph(
             f"<b>Selected design value:</b> {escape(c.solution.equation.unknown)} = "
-            f"<font name='ZT-Mono'>{escape(_num(sel.root))}</font>.{where}<br/>"
+            f"<font name='ZT-Mono'>{escape(_num(sel.root))}</font>{in_unit}.{where}<br/>"
             f"<b>Reason:</b> {reason}", st["body"]), INK, colors.white))
     return out
 

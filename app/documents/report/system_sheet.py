@@ -259,9 +259,11 @@ def _results_section(c: _Context, sol: Any) -> list[Flowable]:
                     [[_labelled(system, n), *(_num(r.root[n]) for r in runs)]
                      for n in system.unknowns]))
     out += _heading("Residual of each equation at the root", st, "h2")
-    out.append(grid(["Equation", *titles],
-                    [[f"({i + 1})", *(_num(r.residuals[i]) for r in runs)]
-                     for i in range(len(system.equations))]))
+    f_units = system.residual_units(derived=True)
+    out.append(grid(["Equation", *(["Unit (SI)"] if f_units else []), *titles],
+                    [[f"({i + 1})", *([words.unit_cell(f_units[i])] if f_units else []),
+                      *(_num(r.residuals[i]) for r in runs)]
+                     for i in range(len(system.equations))], 1 + bool(f_units)))
     out.append(Paragraph("Each equation's left side minus its right side at the method's "
                          "root, in double precision, in that equation's own units (SI base "
                          "units when parameters carry units).",

@@ -90,8 +90,10 @@ def table_section(c: Any, number: str = "8") -> list[Flowable]:
 def _rows_table(t: Any, st: dict) -> Table:
     batch = t.done.batch
     equation = t.done.equation
-    headings = words.iterate_headings(equation.unknown, "ascii", equation.unknown_unit)
-    # the root in the unknown's name and unit, the reason in words (the CSV keeps codes)
+    headings = words.iterate_headings(equation.unknown, "ascii", equation.unknown_unit,
+                                      equation.residual_unit(derived=True))
+    # the root in the unknown's name and unit, the residual in f's, the reason in words
+    # (the CSV keeps codes)
     header = ["row", *t.headers, headings["x"], "reason", "iter.", headings["fx"]]
     body: list[list[str]] = []
     failed_rows: list[int] = []

@@ -60,7 +60,26 @@ def measured_text(value: Any, converted: Any,
     if converted.unit in (converted.si_unit, si):  # already in SI: nothing to convert
         return f"{show(converted.value)} {converted.unit}"
     return (f"{show(converted.value)} {converted.unit} "
-            f"(= {show(si_value_shown(converted))} {si})")
+            f"(= {si_measure_text(converted, show)})")
+
+
+def si_measure_text(converted: Any, show: Callable[[Any], str] | None = None) -> str:
+    """A converted value in SI for people: ``0.15 m``, ``0.523598775598299 rad`` for an
+    angle, the number alone for a pure ratio typed in % or ppm (its SI unit is the
+    number 1, which written after the value would read as one more digit)."""
+    shown = (show or exact)(si_value_shown(converted))
+    si = si_unit_text(converted)
+    return f"{shown} {si}" if si else shown
+
+
+def not_a_number(text: str) -> str:
+    """"'abc' is not a finite number" for a field or cell that must hold one, with how to
+    write a number typed with commas ('1,200': a thousands separator or a decimal comma,
+    :func:`solvers.equation.lexer.comma_hint`), as the command line and tables say it."""
+    from solvers.equation.lexer import comma_hint
+
+    text = text.strip()
+    return f"{text!r} is not a finite number{comma_hint(text)}"
 
 
 def si_value_shown(converted: Any) -> float:
@@ -74,9 +93,12 @@ def si_unit_text(converted: Any) -> str:
     """The SI unit of a converted value for people: the unit as entered with each factor
     made coherent where every factor is a prefixed SI unit (kJ/kg -> J/kg, W/(m^2*K^4) as
     it is), else a derived unit for the compositions engineers use (W/(m^2*K), not
-    kg/(s^3*K)); files keep ``converted.si_unit``, in base units."""
-    from solvers.units.reading import coherent_text, unit_text
+    kg/(s^3*K)); an angle in rad; '' for a pure ratio (%, ppm: SI writes its unit as the
+    number 1). Files keep ``converted.si_unit``, in base units."""
+    from solvers.units.reading import coherent_text, is_angle, unit_text
 
+    if not converted.dimension:  # SI's unit of a ratio is 1: an angle says rad, else none
+        return "rad" if isinstance(converted.unit, str) and is_angle(converted.unit) else ""
     return (coherent_text(converted.unit) if isinstance(converted.unit, str) else None) \
         or unit_text(converted.dimension, derived=True) or converted.si_unit
 

@@ -41,6 +41,9 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                + "): Newton uses a numerical one",
     "degrees": lambda r: "deg = pi/180: angles in degrees become radians",
     "radians": lambda r: "sin, cos and tan take radians (multiply by deg for degrees)",
+    "angle_units": lambda r: f"{', '.join(repr(n) for n in r.subject.split(', '))} given in "
+                             "an angle unit: converted to radians for sin, cos and tan (not "
+                             "to be multiplied by deg again)",
     "kinks": lambda r: "abs/min/max have a kink: the derivative there uses sign/step values",
     "no_dependence": lambda r: f"the equation does not depend on '{r.subject}' once simplified",
     "e_notation": lambda r: "numbers such as 2e3 are read as 2000, not as 2*e*3",

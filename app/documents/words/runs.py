@@ -338,45 +338,55 @@ def _g6(x: float) -> str:
     return number(x, 6)
 
 
-def _scan_root_text(n: Sequence[float]) -> str:
+def _scan_root_text(n: Sequence[float], u: str = "") -> str:
     x, index, count, a, b, why = n[0], int(n[1]), int(n[2]), n[3], n[4], int(n[5])
     if count == 1:
-        return f"x0 = {_g6(x)}: the one sign change a quick scan of [{_g6(a)}, {_g6(b)}] found"
-    return (f"x0 = {_g6(x)}: sign change {index} of {count} (from the left) in a quick scan "
-            f"of [{_g6(a)}, {_g6(b)}], taken as {_WHY.get(why, 'chosen')}; solve again with "
-            "another x0 or bracket for the others")
+        return (f"x0 = {_g6(x)}{u}: the one sign change a quick scan of "
+                f"[{_g6(a)}, {_g6(b)}]{u} found")
+    return (f"x0 = {_g6(x)}{u}: sign change {index} of {count} (from the left) in a quick "
+            f"scan of [{_g6(a)}, {_g6(b)}]{u}, taken as {_WHY.get(why, 'chosen')}; solve again "
+            "with another x0 or bracket for the others")
 
 
-# How each start value that was not typed got its number (solvers.pipeline.StartChoice).
-START_TEXT: dict[str, Callable[[Sequence[float]], str]] = {
+# How each start value that was not typed got its number (solvers.pipeline.StartChoice):
+# each takes the choice's numbers and ``u``, the unknown's unit after a space (" mm"; ""
+# without one), since every number here is a value of the unknown.
+START_TEXT: dict[str, Callable[[Sequence[float], str], str]] = {
     "x0_scan_root": _scan_root_text,
-    "x0_scan_min": lambda n: (f"x0 = {_g6(n[0])}: a quick scan of [{_g6(n[1])}, {_g6(n[2])}] "
-                              "found no sign change; x0 is where |f| was smallest"),
-    "x0_bracket_midpoint": lambda n: f"x0 = {_g6(n[0])}: the midpoint of the bracket",
-    "x0_scan_midpoint": lambda n: f"x0 = {_g6(n[0])}: the midpoint of the scan range",
-    "x0_default": lambda n: "x0 not given and no scan range: 1.0 used",
-    "x1_scan": lambda n: (f"x1 = {_g6(n[0])}: the end nearer x0 of the scan's sign change "
-                          f"[{_g6(n[1])}, {_g6(n[2])}]"),
-    "x1_nudged": lambda n: f"x1 = {_g6(n[0])}: x0 nudged by 1e-4 (relative)",
-    "bracket_scan_cell": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the scan's sign "
-                                    "change"),
-    "bracket_scan_range": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: the scan range "
-                                     "(f changes sign between its ends)"),
-    "bracket_grown": lambda n: (f"bracket [{_g6(n[0])}, {_g6(n[1])}]: grown around x0 until "
-                                "f changed sign"),
-    "bracket_none": lambda n: "no bracket given and no sign change found",
+    "x0_scan_min": lambda n, u="": (f"x0 = {_g6(n[0])}{u}: a quick scan of [{_g6(n[1])}, "
+                                    f"{_g6(n[2])}]{u} found no sign change; x0 is where |f| "
+                                    "was smallest"),
+    "x0_bracket_midpoint": lambda n, u="": f"x0 = {_g6(n[0])}{u}: the midpoint of the bracket",
+    "x0_scan_midpoint": lambda n, u="": f"x0 = {_g6(n[0])}{u}: the midpoint of the scan range",
+    "x0_default": lambda n, u="": f"x0 not given and no scan range: 1.0{u} used",
+    "x1_scan": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: the end nearer x0 of the scan's sign "
+                                f"change [{_g6(n[1])}, {_g6(n[2])}]{u}"),
+    # x1 = x0 (1 + 1e-4) +- 1e-4 (solvers.pipeline): relative and absolute both, so that
+    # x0 = 0 moves too; "1e-4 (relative)" alone misdescribed x1 = 1.0002 from x0 = 1
+    "x1_nudged": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: x0 moved away from 0 by 1e-4 of "
+                                  f"itself plus 1e-4{u}"),
+    "bracket_scan_cell": lambda n, u="": (f"bracket [{_g6(n[0])}, {_g6(n[1])}]{u}: the scan's "
+                                          "sign change"),
+    "bracket_scan_range": lambda n, u="": (f"bracket [{_g6(n[0])}, {_g6(n[1])}]{u}: the scan "
+                                           "range (f changes sign between its ends)"),
+    "bracket_grown": lambda n, u="": (f"bracket [{_g6(n[0])}, {_g6(n[1])}]{u}: grown around x0 "
+                                      "until f changed sign"),
+    "bracket_none": lambda n, u="": "no bracket given and no sign change found",
 }
 
 
-def start_text(choice: Any) -> str:
-    """Words for one :class:`solvers.pipeline.StartChoice`."""
+def start_text(choice: Any, unit: str | None = None) -> str:
+    """Words for one :class:`solvers.pipeline.StartChoice`, its values of the unknown in
+    ``unit`` when it has one (x1 = 0.66835 in)."""
     words = START_TEXT.get(choice.code)
-    return words(choice.numbers) if words is not None else choice.code
+    return words(choice.numbers, f" {unit}" if unit else "") if words is not None \
+        else choice.code
 
 
-def start_notes(start: Any) -> tuple[str, ...]:
-    """How every start value that was not typed was chosen, one sentence each."""
-    return tuple(start_text(c) for c in getattr(start, "choices", ()))
+def start_notes(start: Any, unit: str | None = None) -> tuple[str, ...]:
+    """How every start value that was not typed was chosen, one sentence each; the values
+    in the unknown's ``unit`` (the worksheet's, when it gives one)."""
+    return tuple(start_text(c, unit) for c in getattr(start, "choices", ()))
 
 
 # ----------------------------------------------------------------- agreement
@@ -387,7 +397,9 @@ def agreement_text(solution: Any, figures: int = 8) -> str:
 
     Different roots are listed (each with ``figures`` significant figures and the
     methods that found it); one root found by several methods gives the significant
-    figures they share; fewer than two converged runs say there is no cross-check.
+    figures they share; fewer than two converged runs say there is no cross-check (one
+    method run alone is told apart from several of which only one converged: advice to
+    change the start values is for the second case only).
     """
     converged = [r for r in solution.runs if r.converged]
     groups = solution.agreement.groups
@@ -399,6 +411,10 @@ def agreement_text(solution: Any, figures: int = 8) -> str:
         return (f"The {len(converged)} converged methods "
                 f"({method_names(r.method for r in converged)}) agree to "
                 f"{figures_word(digits)}.")
+    if len(converged) == 1 and len(solution.runs) == 1:
+        # one method asked for: nothing failed, so start values are not what to change
+        return (f"{method_label(converged[0].method)} alone was run: no second method "
+                "cross-checks its root; choose another method (a bracketing one) to compare.")
     if len(converged) == 1:
         return (f"Only {method_label(converged[0].method)} converged: no second method to "
                 "agree with; try other start values.")
