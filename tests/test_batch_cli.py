@@ -213,7 +213,8 @@ def test_a_table_in_feet_gives_the_same_bore_as_the_table_in_metres(tmp_path, ca
         meta, rows = read_results(out)
         assert any("unknown unit: mm" in line for line in meta)
         assert list(rows[0])[:2] == table.read_text().split("\n")[0].split(",")
-        roots.append([float(r["root [mm]"]) for r in rows])  # the root headed in its unit
+        # the result columns keep their names; the root is in the unit the metadata names
+        roots.append([float(r["root"]) for r in rows])
     expected = [1000 * _bore(100, 3), 1000 * _bore(250, 1.5)]  # in mm
     for found in roots:
         assert found == pytest.approx(expected, rel=1e-10)

@@ -31,8 +31,6 @@ from typing import IO, Any
 import numpy as np
 
 from app.documents.export import (
-    RESIDUAL_UNIT_KEY,
-    UNIT_KEY,
     _emit,
     _json_float,
     _write_metadata,
@@ -279,26 +277,20 @@ def note_lines(batch: Any, label: str = "row") -> dict[str, str]:
     return meta
 
 
-def result_headers(unit: str | None, f_unit: str | None) -> list[str]:
-    """RESULT_COLUMNS as a results file heads them: the root in the unknown's unit
-    (``root [mm]``) and the residual in f's SI unit (``residual [m]``) where each is known,
-    as the input columns beside them carry theirs (``L [m]``) and a solve's iteration log
-    heads ``x [mm]`` and ``fx [m]``."""
-    return [f"{c} [{unit}]" if c == "root" and unit else
-            f"{c} [{f_unit}]" if c == "residual" and f_unit else c for c in RESULT_COLUMNS]
-
-
 def results_csv(batch: Any, headers: Sequence[str], cells: Sequence[Sequence[str]],
                 target: str | os.PathLike[str] | IO[str], *, meta: Mapping[str, str],
                 overwrite: bool = False) -> None:
     """Write the table of results: input columns (``headers`` and their ``cells`` as text,
-    one sequence per column) then RESULT_COLUMNS headed with their units
-    (:func:`result_headers`, from ``meta``'s unknown and residual unit lines), one row per
-    case (see module notes)."""
+    one sequence per column) then RESULT_COLUMNS, one row per case (see module notes).
+
+    The result columns keep their plain names (``root``, ``residual``) whatever the units:
+    they are the file's fixed columns, read by name by whatever program takes the table
+    next. Their units are the ``# unknown unit:`` and ``# residual unit:`` lines above
+    (the window's table and the sheet, read by people, head them ``root [mm]``)."""
     buffer = io.StringIO()
     _write_metadata(buffer, {**meta, **note_lines(batch)})
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow([*headers, *result_headers(meta.get(UNIT_KEY), meta.get(RESIDUAL_UNIT_KEY))])
+    writer.writerow([*headers, *RESULT_COLUMNS])
     roots = [number(v) if v == v else "" for v in batch.root.reshape(-1).tolist()]
     residuals = [number(v) if v == v else "" for v in batch.residual.reshape(-1).tolist()]
     converged = ["True" if c else "False" for c in batch.converged.reshape(-1).tolist()]
