@@ -78,3 +78,24 @@ def test_the_start_fields_tooltips_say_how_blanks_are_filled(qtbot, window):
     depth = scipy.optimize.brentq(f, 0.05, 5.0, xtol=1e-15, rtol=1e-15)
     assert all(r.root == pytest.approx(depth, rel=1e-13) for r in solution.runs if r.converged)
     assert lo <= depth <= hi
+
+
+# 3. With the sewer's angle in degrees, a lane's headings "f′(th) [m^3/s/deg]" and
+#    "f(th) [m^3/s]" were cut at both ends without a sign ("th) [m^3/s/de"), where a cell
+#    too narrow for its figures ends in "…". Every table's headings now elide on the
+#    right: the name stays readable and the "…" says that more is there.
+def test_a_heading_wider_than_its_column_ends_in_an_ellipsis(qtbot, window):
+    from PySide6.QtGui import QFontMetrics
+
+    type_equation(qtbot, window, "x^2 = c")
+    window.inputs.parameters.setData(window.inputs.parameters.index(0, 1), "2")
+    settle(qtbot, window)
+    solve_and_wait(qtbot, window)
+    views = [lane.table for lane in window.lanes.lanes.values()] + [window.roots.view]
+    for view in views:
+        header = view.horizontalHeader()
+        assert header.textElideMode() == Qt.TextElideMode.ElideRight
+        # what the header paints for a heading wider than its section (Qt's own eliding)
+        title = "f′(th) [m^3/s/deg]"
+        shown = QFontMetrics(header.font()).elidedText(title, header.textElideMode(), 60)
+        assert shown.endswith("…") and shown.startswith("f")
