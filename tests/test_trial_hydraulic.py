@@ -344,6 +344,26 @@ def test_the_trades_flow_and_mass_abbreviations_are_units(unit, si):
     assert got.factor == pytest.approx(si, rel=1e-15) and got.offset == 0.0
 
 
+@pytest.mark.parametrize("typed, token", [
+    ("ac*ft", "ac"),  # an acre-foot as often abbreviated: pint reads atto x speed of light
+    ("mc", "mc"),  # milli x speed of light
+    ("ke", "ke"),  # kilo x elementary charge
+])
+def test_a_prefix_on_a_physical_constant_is_refused_as_a_slip(typed, token):
+    from solvers import EquationError
+    from solvers.units import read_unit
+
+    with pytest.raises(EquationError) as caught:
+        read_unit(typed)
+    message = str(caught.value)
+    assert f"unit '{token}'" in message and "physical constant" in message
+    assert "acre" in message  # the full name that reads as meant
+    # the acre-foot by its full name: NIST SP 811 (Appendix B.9, the value from memory)
+    # gives 1.233 489 E+03 m^3 for the survey acre-foot; pint's acre is the survey acre,
+    # times the international foot here: 2 ppm apart
+    assert read_unit("acre*ft").factor == pytest.approx(1233.489, rel=2e-6)
+
+
 def test_a_pump_curve_in_gpm_and_feet_meets_its_system_curve(capsys):
     code, out, err = run(capsys, "solve", PUMP, "--param", "H0=180 ft",
                          "--param", "a=0.00012 ft/gpm^2", "--param", "Hs=65 ft",

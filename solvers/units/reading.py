@@ -25,6 +25,7 @@ import re
 import threading
 from dataclasses import dataclass
 from functools import lru_cache
+from pathlib import Path
 from typing import Any
 
 from solvers.equation.lexer import EquationError
@@ -140,6 +141,36 @@ def _refuse(text: str, what: str) -> EquationError:
     return EquationError(f"unit '{text}': {what}")
 
 
+@lru_cache(maxsize=1)
+def _constants() -> frozenset[str]:
+    """The names of the physical constants pint defines as units (speed_of_light, c;
+    elementary_charge, e; boltzmann_constant, k ...), read from its constants file."""
+    import pint
+
+    try:
+        text = (Path(pint.__file__).parent / "constants_en.txt").read_text(encoding="utf-8")
+    except OSError:  # another layout of pint: no constants known, nothing refused
+        return frozenset()
+    return frozenset(m.group(1) for m in re.finditer(r"^(\w+)\s*=", text, re.MULTILINE))
+
+
+def _prefixed_constant(text: str, reg: Any) -> tuple[str, str, str] | None:
+    """(name as typed, prefix, constant) for a name in unit ``text`` that pint reads as
+    a prefix on a physical constant: 'ac' (an acre, to many) is atto x speed of light,
+    'mc' milli x speed of light, 'ke' kilo x elementary charge. No engineer means those;
+    None if there is none."""
+    constants = _constants()
+    for name in re.findall(r"[^\W\d]\w*", text):
+        try:
+            readings = reg.parse_unit_name(name)
+        except Exception:  # noqa: BLE001 - read as a whole already; no reading, no slip
+            continue
+        for prefix, base, _suffix in readings:
+            if prefix and base in constants:
+                return name, prefix, base
+    return None
+
+
 @lru_cache(maxsize=512)
 def _read_cached(text: str) -> Unit:
     reg = registry()
@@ -153,6 +184,13 @@ def _read_cached(text: str) -> Unit:
             raise EquationError(f"unknown unit '{name}'{inside}"
                                 + (_power_hint(name, text) or _suggest(name, reg))) from None
         raise _refuse(text, "cannot be read as a unit") from None
+    slip = _prefixed_constant(text, reg)
+    if slip is not None:
+        name, prefix, constant = slip
+        raise EquationError(
+            f"unit '{name}'" + ("" if name == text else f" in '{text}'")
+            + f" reads as {prefix} x {constant.replace('_', ' ')} (a physical constant), "
+            "surely not what was meant: write the unit by its full name (an acre is 'acre')")
     for name, power in dict(units._units).items():
         if abs(float(power)) > MAX_UNIT_EXPONENT:
             raise _refuse(text, f"the power of {name} is beyond ±{MAX_UNIT_EXPONENT}")
