@@ -216,6 +216,57 @@ def test_a_bracket_closing_on_a_jump_is_a_discontinuity(method):
     assert "jump" in run_message(run)
 
 
+def _rootless_jumps(seed: int, count: int, beyond: tuple[float, float] = (1e-6, 0.9)):
+    """Seeded jumps (x - c)/|x - c| + s*x with brackets around c where |s*x| < 0.95: f is
+    -1 + s*x left of c and 1 + s*x right of it, so |f| > 0.05 everywhere and the sign
+    change is the jump, never a root (closed form). The right end lies ``beyond`` c."""
+    rng = random.Random(seed)
+    cases = []
+    while len(cases) < count:
+        c = round(rng.uniform(-2.0, 2.0), 3)
+        s = round(rng.uniform(0.01, 0.9) / (abs(c) + 1.0), 3) * rng.choice((1, -1))
+        a, b = c - rng.uniform(1e-6, 0.9), c + rng.uniform(*beyond)
+        if max(abs(s * a), abs(s * b)) < 0.95:
+            cases.append((c, s, a, b))
+    return cases
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_jump_is_judged_by_each_side_of_the_closed_bracket_alone(method):
+    # Found by an outside check against mpmath: f = (x - 1.961)/|x - 1.961| + 0.307x on
+    # [1.638, 2.618] is -0.398 left of 1.961 and +1.602 right of it (closed form; no
+    # root). Every bracketing method closed on 1.961 and called it a root, because an
+    # iterate just beyond the right end (f 1.602) was compared with the left end's 0.398
+    # as if |f| had grown away from a root. Each end is now compared with its own side.
+    equation = parse_equation("(x - 1.961)/abs(x - 1.961) + 0.307*x")
+    run = method(equation.f, 1.638, 2.6180000000000003)
+    assert not run.converged and run.reason == "discontinuity"
+    assert abs(run.root - 1.961) <= tolerance(1.961)
+    # mpmath at 50 digits: no root there, |f| is at least 0.39 on both sides of the jump
+    with mpmath.workdps(50):
+        c = mpmath.mpf("1.961")
+        for x in (c - mpmath.mpf("1e-40"), c + mpmath.mpf("1e-40")):
+            assert abs((x - c) / abs(x - c) + mpmath.mpf("0.307") * x) > 0.39
+    # and on 200 seeded jumps of the same kind (about a fifth were called roots before)
+    for c, s, a, b in _rootless_jumps(7, 200):
+        run = method(parse_equation(f"(x - {c})/abs(x - {c}) + {s}*x").f, a, b)
+        assert not run.converged, (c, s, a, b, run.root, run.reason)
+
+
+def test_a_jump_is_judged_by_each_side_in_a_batch_too():
+    # The same kind of jumps as one table per method (solve_batch's closed-bracket verdict
+    # is the scalar rule element-wise), the right end of each bracket 2e-12 to 4e-11 past
+    # the jump: there the starting end is close enough to pass for |f| grown from the
+    # other end's (about one row in ten converged before). No row converges (closed form).
+    from solvers import solve_batch
+    c, s, a, b = np.array(_rootless_jumps(11, 500, (2e-12, 4e-11))).T
+    equation = parse_equation("(x - c)/abs(x - c) + s*x", unknown="x",
+                              parameters={"c": c, "s": s})
+    for name in ("bisection", "false_position", "illinois", "brent"):
+        batch = solve_batch(equation, method=name, bracket=(a, b))
+        assert not batch.converged.any(), (name, np.flatnonzero(batch.converged))
+
+
 @pytest.mark.parametrize("name, honest", [("f4", ("discontinuity",)),
                                           ("f5", ("not_finite", "discontinuity"))])
 @pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
