@@ -214,3 +214,23 @@ def test_double_roots_on_the_grid_are_found_by_every_check():
             assert len(found) == len(expected), (mode, double, simple, found)
             for (x, m), (want, m_want) in zip(found, expected, strict=True):
                 assert m == m_want and abs(x - want) <= 1e-7, (mode, double, simple, found)
+
+
+@pytest.mark.parametrize(("text", "a", "b", "run"), [
+    ("1 - cos(x)", -1e-9, 1e-9, (-1e-9, 1e-9)),
+    ("exp(x) - 1", -1e-300, 1e-300, (-1e-300, 1e-300)),
+    ("min(x, 1) - 1", 0.0, 2.0, (0.999, 2.0)),
+])
+def test_a_run_of_zeros_is_one_warning_not_an_oscillation(text, a, b, run):
+    # f rounds to 0.0 on the whole stretch (cos x = 1 and exp(x) = 1 exactly in doubles
+    # for |x| below 1e-8 and 1e-16: IEEE 754 rounding; min(x, 1) - 1 is 0 for x >= 1, closed
+    # form) while f' is not 0 there: f' could only disagree with f's differences, and the
+    # derivative check called the stretch a fast oscillation and reported the zero run twice.
+    # Found by an outside check against the Chebyshev check, which reports the one run.
+    equation = parse_equation(text)
+    for mode in ("derivative", "chebyshev"):
+        result = scan(equation.f, a, b, fprime=equation.fprime, cross_check=mode)
+        codes = [d.code for d in result.details]
+        assert codes.count("zero_run") == 1 and "fast_oscillation" not in codes, (mode, codes)
+        (detail,) = [d for d in result.details if d.code == "zero_run"]
+        assert detail.values[:2] == pytest.approx(run, rel=1e-12, abs=1e-12 * abs(b - a))

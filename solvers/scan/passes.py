@@ -241,6 +241,11 @@ def underresolved_pass(x, y, yp, has_yp, window, max_turns, trapezoid):
             count = 0
     if has_yp:
         for i in range(n - 1):
+            if y[i] == 0.0 and y[i + 1] == 0.0:
+                # f rounded to 0.0 at both (1 - cos x for |x| < 1e-8, the flat part of
+                # min(x, 1) - 1): no resolution of f to compare f' with; the run of zeros
+                # is reported as such, never as an aliased oscillation
+                continue
             half = 0.5 * (x[i + 1] - x[i])
             dy = y[i + 1] - y[i]
             avg = half * (yp[i] + yp[i + 1])

@@ -297,7 +297,8 @@ def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
     period). An error above half of the change's own scale, |f_(i+1) - f_i| + h (|f'_i| +
     |f'_(i+1)|) / 2, plus 1e3 eps of |f| for rounding, means f changes faster than the
     sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
-    non-finite value are left to the other checks. One compiled pass
+    non-finite value, or with f exactly 0.0 at both (a run of zeros), are left to the
+    other checks. One compiled pass
     (:func:`solvers.scan.passes.underresolved_pass`).
     """
     n = len(y)
