@@ -517,3 +517,56 @@ def test_window_lane_states_the_discontinuity_in_words():
     run = brent(parse_equation("x/abs(x) + x").f, -1.0, 2.0)
     text = verdict_text(run)
     assert "FAILED" in text and REASON_TEXT["discontinuity"] in text
+
+
+def _secant_roots_are_roots(text: str, values: dict, x: float, tol: float) -> bool:
+    """mpmath at 50 digits: f changes sign within ``tol`` of x (or is 0 there)."""
+    expression = parse_equation(text, unknown="x", parameters=values).expr
+    import sympy
+
+    g = sympy.lambdify(list(expression.free_symbols), expression, "mpmath")
+    with mpmath.workdps(50):
+        lo, hi = g(mpmath.mpf(x) - tol), g(mpmath.mpf(x) + tol)
+        return g(mpmath.mpf(x)) == 0 or lo * hi <= 0
+
+
+def test_a_short_secant_step_from_a_steep_chord_is_not_convergence():
+    # Found by an outside check against mpmath: x*exp(1.411x) = 2.978 from -0.80, -0.30.
+    # The secant's third point is 25.6, where f is 1.2e17; the chord back from it is so
+    # steep that the next step is 7e-16, with f -3.18 at both of its ends. A short step
+    # proves nothing when the chord is not local: this was reported as converged at
+    # -0.30, where mpmath gives f = -3.175, far from the root brentq finds at 0.6.
+    equation = parse_equation("x*exp(1.411*x) - 2.978")
+    run = secant(equation.f, -0.802274872519793, -0.302274872519793)
+    assert_record(run)
+    assert not run.converged
+    root = brentq(equation.f, 0.0, 2.0, xtol=1e-15)  # reference: scipy's brentq
+    with mpmath.workdps(50):
+        x = mpmath.mpf(run.steps[4].x)
+        assert abs(x * mpmath.exp(mpmath.mpf("1.411") * x) - mpmath.mpf("2.978")) > 3
+    assert abs(run.steps[4].x - root) > 0.5
+
+
+def test_secant_converged_only_at_roots_on_a_flat_tail_scalar_and_batch():
+    # x*exp(q*x) = p: a flat tail (f -> -p as x -> -inf) that sends chords far. From 400
+    # seeded starts, about a fifth of the secant's runs were called converged on the tail
+    # before; every converged row (scalar and solve_batch alike, the batch rebuilt row by
+    # row by the scalar method to the same reason and counts) must now have f changing
+    # sign within the tolerance of its root (mpmath at 50 digits).
+    from solvers import solve_batch
+    rng = np.random.default_rng(3)
+    n = 400
+    p, q = rng.uniform(-2, 2, n), rng.uniform(0.1, 3, n)
+    x0 = rng.uniform(-3, 3, n)
+    x1 = x0 + rng.choice([1e-3, 0.1, -0.05, 0.5], n)
+    equation = parse_equation("x*exp(q*x) - p", unknown="x", parameters={"p": p, "q": q})
+    batch = solve_batch(equation, method="secant", x0=x0, x1=x1)
+    assert 0.3 * n < batch.converged.sum() < n  # some rows do fail: the test bites
+    for i in range(n):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        if batch.converged[i]:
+            x = float(batch.root[i])
+            assert _secant_roots_are_roots("x*exp(q*x) - p", {"p": p[i], "q": q[i]}, x,
+                                           tolerance(x)), (i, x)
