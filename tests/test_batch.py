@@ -843,3 +843,42 @@ def test_a_sweep_past_a_fold_still_ends_the_branch_after_halving_the_step():
     assert batch.root[3] == pytest.approx(real[-1], rel=1e-14)
     assert (3, "branch_jump") in batch.notes and (3, "continued") not in batch.notes
     assert batch.run(3).steps[0].x == batch.root[2]
+
+
+def test_a_sweep_that_leaves_its_branch_on_its_second_row_says_so():
+    # Found by an outside check against numpy.roots: x^4 - 0.119x^3 - 1.165x^2 - 0.052x = p
+    # from the root -0.1302 at p = -0.0124 (numpy.roots: 1.157, -0.991, -0.130, 0.083).
+    # By p = 0.0403 the branch through -0.130 has met 0.083 at their fold and ended
+    # (numpy.roots: 1.174, -1.016 and a complex pair), and Newton from -0.130 runs to
+    # 1.174. With one root of the branch known there was no straight line to hold it to,
+    # and the row was taken as the branch without a note; Newton's tangent step from the
+    # root before is now the prediction it is held to.
+    coefficients = [1.0, -0.119, -1.165, -0.052]
+    text = "x^4 - 0.119*x^3 - 1.165*x^2 - 0.052*x - p"
+    equation = parse_equation(text, unknown="x", parameters={"p": 0.0})
+    values = np.linspace(-0.012418451332719016, 0.9900670849195903, 20)
+    batch = sweep(equation, "p", values, x0=-0.1625407602628483)
+    for k, p in enumerate(values[:2]):
+        roots = np.roots([*coefficients, -p])  # reference: numpy.roots
+        real = roots[np.abs(roots.imag) < 1e-9].real
+        assert np.min(np.abs(real - batch.root[k])) <= 1e-12, (k, p, real)
+    assert abs(batch.root[0] - (-0.13015664004121252)) <= 1e-12
+    assert batch.root[1] > 1.0  # the other branch: only said with a note
+    assert (1, "branch_jump") in batch.notes
+
+
+@pytest.mark.parametrize("method", ["newton", "secant"])
+def test_a_branch_that_goes_on_is_not_flagged_on_its_second_row(method):
+    # The tangent check's other side: the smooth lowest branch of x^3 - x = p for p from
+    # -1 to -0.5 (numpy.roots: its smallest real root) in steps of 0.1 and of 0.5, with
+    # no note on any row.
+    cubic = parse_equation("x^3 - x - p", unknown="x", parameters={"p": 0.0})
+    for count in (6, 2):
+        values = np.linspace(-1.0, -0.5, count)
+        batch = sweep(cubic, "p", values, x0=-1.3, method=method,
+                      x1=-1.29 if method == "secant" else None)
+        assert batch.converged.all() and not batch.notes, batch.notes
+        for k, p in enumerate(values):
+            roots = np.roots([1.0, 0.0, -1.0, -p])
+            lowest = min(roots[np.abs(roots.imag) < 1e-9].real)
+            assert batch.root[k] == pytest.approx(lowest, abs=1e-12)

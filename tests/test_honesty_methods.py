@@ -216,6 +216,57 @@ def test_a_bracket_closing_on_a_jump_is_a_discontinuity(method):
     assert "jump" in run_message(run)
 
 
+def _rootless_jumps(seed: int, count: int, beyond: tuple[float, float] = (1e-6, 0.9)):
+    """Seeded jumps (x - c)/|x - c| + s*x with brackets around c where |s*x| < 0.95: f is
+    -1 + s*x left of c and 1 + s*x right of it, so |f| > 0.05 everywhere and the sign
+    change is the jump, never a root (closed form). The right end lies ``beyond`` c."""
+    rng = random.Random(seed)
+    cases = []
+    while len(cases) < count:
+        c = round(rng.uniform(-2.0, 2.0), 3)
+        s = round(rng.uniform(0.01, 0.9) / (abs(c) + 1.0), 3) * rng.choice((1, -1))
+        a, b = c - rng.uniform(1e-6, 0.9), c + rng.uniform(*beyond)
+        if max(abs(s * a), abs(s * b)) < 0.95:
+            cases.append((c, s, a, b))
+    return cases
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_jump_is_judged_by_each_side_of_the_closed_bracket_alone(method):
+    # Found by an outside check against mpmath: f = (x - 1.961)/|x - 1.961| + 0.307x on
+    # [1.638, 2.618] is -0.398 left of 1.961 and +1.602 right of it (closed form; no
+    # root). Every bracketing method closed on 1.961 and called it a root, because an
+    # iterate just beyond the right end (f 1.602) was compared with the left end's 0.398
+    # as if |f| had grown away from a root. Each end is now compared with its own side.
+    equation = parse_equation("(x - 1.961)/abs(x - 1.961) + 0.307*x")
+    run = method(equation.f, 1.638, 2.6180000000000003)
+    assert not run.converged and run.reason == "discontinuity"
+    assert abs(run.root - 1.961) <= tolerance(1.961)
+    # mpmath at 50 digits: no root there, |f| is at least 0.39 on both sides of the jump
+    with mpmath.workdps(50):
+        c = mpmath.mpf("1.961")
+        for x in (c - mpmath.mpf("1e-40"), c + mpmath.mpf("1e-40")):
+            assert abs((x - c) / abs(x - c) + mpmath.mpf("0.307") * x) > 0.39
+    # and on 200 seeded jumps of the same kind (about a fifth were called roots before)
+    for c, s, a, b in _rootless_jumps(7, 200):
+        run = method(parse_equation(f"(x - {c})/abs(x - {c}) + {s}*x").f, a, b)
+        assert not run.converged, (c, s, a, b, run.root, run.reason)
+
+
+def test_a_jump_is_judged_by_each_side_in_a_batch_too():
+    # The same kind of jumps as one table per method (solve_batch's closed-bracket verdict
+    # is the scalar rule element-wise), the right end of each bracket 2e-12 to 4e-11 past
+    # the jump: there the starting end is close enough to pass for |f| grown from the
+    # other end's (about one row in ten converged before). No row converges (closed form).
+    from solvers import solve_batch
+    c, s, a, b = np.array(_rootless_jumps(11, 500, (2e-12, 4e-11))).T
+    equation = parse_equation("(x - c)/abs(x - c) + s*x", unknown="x",
+                              parameters={"c": c, "s": s})
+    for name in ("bisection", "false_position", "illinois", "brent"):
+        batch = solve_batch(equation, method=name, bracket=(a, b))
+        assert not batch.converged.any(), (name, np.flatnonzero(batch.converged))
+
+
 @pytest.mark.parametrize("name, honest", [("f4", ("discontinuity",)),
                                           ("f5", ("not_finite", "discontinuity"))])
 @pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
@@ -466,3 +517,56 @@ def test_window_lane_states_the_discontinuity_in_words():
     run = brent(parse_equation("x/abs(x) + x").f, -1.0, 2.0)
     text = verdict_text(run)
     assert "FAILED" in text and REASON_TEXT["discontinuity"] in text
+
+
+def _secant_roots_are_roots(text: str, values: dict, x: float, tol: float) -> bool:
+    """mpmath at 50 digits: f changes sign within ``tol`` of x (or is 0 there)."""
+    expression = parse_equation(text, unknown="x", parameters=values).expr
+    import sympy
+
+    g = sympy.lambdify(list(expression.free_symbols), expression, "mpmath")
+    with mpmath.workdps(50):
+        lo, hi = g(mpmath.mpf(x) - tol), g(mpmath.mpf(x) + tol)
+        return g(mpmath.mpf(x)) == 0 or lo * hi <= 0
+
+
+def test_a_short_secant_step_from_a_steep_chord_is_not_convergence():
+    # Found by an outside check against mpmath: x*exp(1.411x) = 2.978 from -0.80, -0.30.
+    # The secant's third point is 25.6, where f is 1.2e17; the chord back from it is so
+    # steep that the next step is 7e-16, with f -3.18 at both of its ends. A short step
+    # proves nothing when the chord is not local: this was reported as converged at
+    # -0.30, where mpmath gives f = -3.175, far from the root brentq finds at 0.6.
+    equation = parse_equation("x*exp(1.411*x) - 2.978")
+    run = secant(equation.f, -0.802274872519793, -0.302274872519793)
+    assert_record(run)
+    assert not run.converged
+    root = brentq(equation.f, 0.0, 2.0, xtol=1e-15)  # reference: scipy's brentq
+    with mpmath.workdps(50):
+        x = mpmath.mpf(run.steps[4].x)
+        assert abs(x * mpmath.exp(mpmath.mpf("1.411") * x) - mpmath.mpf("2.978")) > 3
+    assert abs(run.steps[4].x - root) > 0.5
+
+
+def test_secant_converged_only_at_roots_on_a_flat_tail_scalar_and_batch():
+    # x*exp(q*x) = p: a flat tail (f -> -p as x -> -inf) that sends chords far. From 400
+    # seeded starts, about a fifth of the secant's runs were called converged on the tail
+    # before; every converged row (scalar and solve_batch alike, the batch rebuilt row by
+    # row by the scalar method to the same reason and counts) must now have f changing
+    # sign within the tolerance of its root (mpmath at 50 digits).
+    from solvers import solve_batch
+    rng = np.random.default_rng(3)
+    n = 400
+    p, q = rng.uniform(-2, 2, n), rng.uniform(0.1, 3, n)
+    x0 = rng.uniform(-3, 3, n)
+    x1 = x0 + rng.choice([1e-3, 0.1, -0.05, 0.5], n)
+    equation = parse_equation("x*exp(q*x) - p", unknown="x", parameters={"p": p, "q": q})
+    batch = solve_batch(equation, method="secant", x0=x0, x1=x1)
+    assert 0.3 * n < batch.converged.sum() < n  # some rows do fail: the test bites
+    for i in range(n):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason[i], batch.iterations[i], batch.evaluations[i]), i
+        if batch.converged[i]:
+            x = float(batch.root[i])
+            assert _secant_roots_are_roots("x*exp(q*x) - p", {"p": p[i], "q": q[i]}, x,
+                                           tolerance(x)), (i, x)

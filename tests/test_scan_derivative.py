@@ -158,3 +158,79 @@ def test_poles_are_not_taken_for_an_unresolved_oscillation():
     refs = [brentq(eq.f, k * math.pi + 1e-9, k * math.pi + math.pi / 2 - 1e-9, xtol=1e-15)
             for k in range(4)]
     assert [r.x for r in result.roots] == pytest.approx(refs, rel=1e-12)
+
+
+def _typed_out(roots) -> str:
+    """The polynomial with these roots, its coefficients typed out in full (numpy.poly)."""
+    coefficients = np.poly(roots)
+    degree = len(coefficients) - 1
+    return " + ".join(f"({float(c)!r})*x^{degree - i}" for i, c in enumerate(coefficients))
+
+
+def test_a_double_root_within_rounding_of_a_sample_is_found_as_with_the_other_checks():
+    # Found by an outside check against numpy.roots: (x - 2.31)^2 typed out,
+    # x^2 - 4.62x + 5.3361, on [-3, 3] at 2001 samples (2.31 is a sample). f there is
+    # 8.9e-16 and f' 8.9e-16, f is -8.9e-16 beside it; the float coefficients' exact
+    # discriminant is +7.2e-16 (mpmath), so there are two real roots 1.3e-8 either side
+    # of 2.31, a double root to rounding (numpy.roots: 2.31 +- 3.2e-8 i). The tangent
+    # bound "proved" the dip root-free from those rounding values, and the derivative
+    # check reported no root while the Chebyshev check and sampling alone report the
+    # cluster. The bound must now clear f's rounding noise (64 eps of the typical |f|).
+    equation = parse_equation(_typed_out([2.31, 2.31]))
+    for mode in ("derivative", "chebyshev", "off"):
+        result = scan(equation.f, -3.0, 3.0, fprime=equation.fprime, cross_check=mode)
+        assert [r.multiplicity for r in result.roots] == [2], mode
+        assert abs(result.roots[0].x - 2.31) <= 1e-7, mode
+
+
+def test_a_double_root_on_a_sample_where_f_prime_is_zero_is_found():
+    # (x - 0.51)(x - 2.01)^2 typed out (numpy.poly): at the sample 2.01 f' is exactly 0.0,
+    # so the extremum belonged to neither pair of samples and went unchecked.
+    # numpy.roots: 0.51 and the double 2.01.
+    equation = parse_equation(_typed_out([0.51, 2.01, 2.01]))
+    result = scan(equation.f, -3.0, 3.0, fprime=equation.fprime)
+    assert [r.multiplicity for r in result.roots] == [1, 2]
+    assert abs(result.roots[0].x - 0.51) <= 1e-12
+    assert abs(result.roots[1].x - 2.01) <= 1e-7
+
+
+def test_double_roots_on_the_grid_are_found_by_every_check():
+    # 40 seeded polynomials, typed out, with a double root on a sample of the default grid
+    # of [-3, 3] and up to two simple roots (numpy.poly builds them; the roots are the
+    # reference): every check finds each root once, the double one with multiplicity 2.
+    rng = np.random.default_rng(2)
+    grid = np.linspace(-3.0, 3.0, 2001)
+    for _ in range(40):
+        double = float(np.round(grid[rng.integers(100, 1900)], 3))
+        simple = [float(v) for v in np.round(rng.uniform(-2.8, 2.8, rng.integers(0, 3)), 2)
+                  if abs(v - double) > 0.2]
+        if len(simple) == 2 and abs(simple[0] - simple[1]) < 0.2:
+            simple = simple[:1]
+        equation = parse_equation(_typed_out([double, double, *simple]))
+        expected = sorted([(double, 2), *((s, 1) for s in simple)])
+        for mode in ("derivative", "chebyshev"):
+            result = scan(equation.f, -3.0, 3.0, fprime=equation.fprime, cross_check=mode)
+            found = [(r.x, r.multiplicity) for r in result.roots]
+            assert len(found) == len(expected), (mode, double, simple, found)
+            for (x, m), (want, m_want) in zip(found, expected, strict=True):
+                assert m == m_want and abs(x - want) <= 1e-7, (mode, double, simple, found)
+
+
+@pytest.mark.parametrize(("text", "a", "b", "run"), [
+    ("1 - cos(x)", -1e-9, 1e-9, (-1e-9, 1e-9)),
+    ("exp(x) - 1", -1e-300, 1e-300, (-1e-300, 1e-300)),
+    ("min(x, 1) - 1", 0.0, 2.0, (0.999, 2.0)),
+])
+def test_a_run_of_zeros_is_one_warning_not_an_oscillation(text, a, b, run):
+    # f rounds to 0.0 on the whole stretch (cos x = 1 and exp(x) = 1 exactly in doubles
+    # for |x| below 1e-8 and 1e-16: IEEE 754 rounding; min(x, 1) - 1 is 0 for x >= 1, closed
+    # form) while f' is not 0 there: f' could only disagree with f's differences, and the
+    # derivative check called the stretch a fast oscillation and reported the zero run twice.
+    # Found by an outside check against the Chebyshev check, which reports the one run.
+    equation = parse_equation(text)
+    for mode in ("derivative", "chebyshev"):
+        result = scan(equation.f, a, b, fprime=equation.fprime, cross_check=mode)
+        codes = [d.code for d in result.details]
+        assert codes.count("zero_run") == 1 and "fast_oscillation" not in codes, (mode, codes)
+        (detail,) = [d for d in result.details if d.code == "zero_run"]
+        assert detail.values[:2] == pytest.approx(run, rel=1e-12, abs=1e-12 * abs(b - a))

@@ -221,8 +221,10 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
     width = hi - lo
     for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = max(lo - x0, x0 - hi)
-        if distance >= 2.0 * width and math.isfinite(f0) and f0 != 0.0:
-            if near <= abs(f0) * math.sqrt(width / distance):
+        fend = flo if x0 < lo else fhi  # each end against points on its own side
+        if (distance >= 2.0 * width and math.isfinite(f0) and f0 != 0.0
+                and (f0 > 0.0) == (fend > 0.0)):
+            if abs(fend) <= abs(f0) * math.sqrt(width / distance):
                 return X_TOL
     return PROBE
 

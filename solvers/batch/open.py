@@ -20,6 +20,7 @@ from solvers.batch.rows import (
     EXACT,
     F_TOL,
     NOT_FIN,
+    X_TOL,
     Work,
     central_difference,
     mark,
@@ -243,6 +244,33 @@ def newton(w: Work, s: dict[str, Any]) -> None:
     a.at_work(0)
 
 
+def _confirm_steps(w: Work, a: _AtWork, n: int, x: np.ndarray, fx: np.ndarray,
+                   s: dict[str, Any]) -> int:
+    """The secant's step rule beside the point (:func:`solvers.methods.open._step_is_local`)
+    for the rows among the first ``n`` whose code is CONFIRM (their point ``x``, f there
+    ``fx``): f at x - tol, then, where that shows no sign change, at x + tol (each call
+    counted in the row's ``extra``); a sign change (or an exact 0) makes the row stop at a
+    root (X_TOL), none sends it on (GO_ON). Rare rows: numpy. Returns the rows stopped."""
+    ok = _kernels()
+    code = a.code
+    at = np.flatnonzero(code[:n] == ok.CONFIRM)
+    tol = s["xtol"] + s["rtol"] * np.abs(x[at])
+    stopped = 0
+    for side in (-1.0, 1.0):
+        if not at.size:
+            break
+        probe = x[at] + side * tol
+        np.add.at(w._extra, a.rows[at], 1)
+        with np.errstate(all="ignore"):
+            fp = a.call(probe, at.size, a.carry[:, at])
+        root = np.isfinite(fp) & ((fp == 0.0) | ((fp < 0.0) != (fx[at] < 0.0)))
+        code[at[root]] = X_TOL
+        stopped += int(root.sum())
+        at, tol = at[~root], tol[~root]
+    code[at] = ok.GO_ON
+    return stopped
+
+
 def secant(w: Work, s: dict[str, Any]) -> None:
     """The secant method on every row of ``w`` (start arrays ``w.x0``, ``w.x1``).
 
@@ -285,8 +313,10 @@ def secant(w: Work, s: dict[str, Any]) -> None:
                 break
         fx = w.f(x[:n])
         k += 1
-        stops, pending = ok.secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead,
-                                         code)
+        stops, pending, confirm = ok.secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx,
+                                                  dead, code)
+        if confirm:
+            stops += _confirm_steps(w, a, n, xb, fb, s)
         if stops:
             if pending:
                 _probe_zeros(w, a, n, xb, s)

@@ -41,6 +41,9 @@ PENDING = -2
 """A row stopping on an exact 0.0 of f, before the exact-zero rule's verdict."""
 DEAD = -3
 """A row that stopped earlier (its results written) and rides along in the arrays."""
+CONFIRM = -4
+"""A secant row whose step met the tolerance while the two points of the step do not
+show a root: f beside the point decides (:func:`solvers.batch.open.secant`)."""
 
 _at = np.uint64
 """An index read from an array (a row, a position), as unsigned: numba then indexes
@@ -230,11 +233,14 @@ def secant_step(n, k, cap, xa, fa, xb, fb, x, dead, code):
 def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
     """The secant's tests at its new points ``x[:n]`` (f there ``fx``, the step
     ``dx = x - xb``), in :func:`solvers.methods.secant`'s order: f not finite; f an
-    exact 0.0 (``PENDING``); ``|f| <= ftol``; ``|dx| <= xtol + rtol*|x|``. Then every row
-    moves on: ``(xa, fa) = (xb, fb)``, ``(xb, fb) = (x, fx)`` (a row that stops has its
-    point in ``xb``, ``fb``). Returns (stops, pending) as :func:`newton_tests`."""
+    exact 0.0 (``PENDING``); ``|f| <= ftol``; ``|dx| <= xtol + rtol*|x|``, when the two
+    points of the step confirm it (else ``CONFIRM``: f beside the point decides). Then
+    every row moves on: ``(xa, fa) = (xb, fb)``, ``(xb, fb) = (x, fx)`` (a row that stops
+    has its point in ``xb``, ``fb``). Returns (stops, pending, confirm): stops and pending
+    as :func:`newton_tests`, confirm the CONFIRM rows (not counted in stops)."""
     stops = 0
     pending = 0
+    confirm = 0
     for i in range(n):
         xi = x[i]
         fi = fx[i]
@@ -247,16 +253,28 @@ def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
             c = PENDING
         elif abs(fi) <= ftol:
             c = F_TOL
-        elif abs(xi - xb[i]) <= xtol + rtol * abs(xi):
-            c = X_TOL
+        else:
+            tol = xtol + rtol * abs(xi)
+            dx = xi - xb[i]
+            if abs(dx) <= tol:
+                # solvers.methods.open._step_is_local's tests at no cost, in its order
+                b = fb[i]
+                c = CONFIRM
+                if abs(fi) <= 0.5 * abs(b) or (fi < 0.0) != (b < 0.0):
+                    c = X_TOL
+                else:
+                    difference = fi - b
+                    if difference != 0.0 and abs(fi * dx) <= tol * abs(difference):
+                        c = X_TOL
         code[i] = c
         stops += c >= 0
         pending += c == PENDING
+        confirm += c == CONFIRM
         xa[i] = xb[i]
         fa[i] = fb[i]
         xb[i] = xi
         fb[i] = fi
-    return stops + pending, pending
+    return stops + pending, pending, confirm
 
 
 @kernel

@@ -516,9 +516,11 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     # 1. the starting ends (already evaluated): |f| fell at least as fast as sqrt(distance)
     for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = np.maximum(lo - x0, x0 - hi)
-        usable = (distance >= 2.0 * width) & np.isfinite(f0) & (f0 != 0.0)
+        fend = np.where(x0 < lo, flo, fhi)  # each end against points on its own side
+        usable = ((distance >= 2.0 * width) & np.isfinite(f0) & (f0 != 0.0)
+                  & same_sign(f0, fend))
         with np.errstate(all="ignore"):
-            decided |= usable & (near <= np.abs(f0) * np.sqrt(width / distance))
+            decided |= usable & (np.abs(fend) <= np.abs(f0) * np.sqrt(width / distance))
     if decided.all():  # every row a root or not finite: no probe to place
         return code
     # 2. probes 2**20 widths out, one side then the other: |f| must grow there

@@ -87,8 +87,9 @@ def sweep(
     needs no start value: every row uses ``bracket`` (a ``fixed_bracket`` note on row 0).
 
     Where a row's solve does not continue the branch (it fails, lands outside ``bounds``,
-    off the straight-line prediction of the last two roots, or where f' has the other
-    sign), the step from the previous row is halved, up to :data:`MAX_HALVINGS` times, and
+    off the straight-line prediction of the last two roots, or, with one root of the
+    branch known, off Newton's tangent step from it at the row's value, or where f' has
+    the other sign), the step from the previous row is halved, up to :data:`MAX_HALVINGS` times, and
     the branch followed through those intermediate values (a ``continued`` note; the row's
     start is then the last intermediate root, so :meth:`Batch.run` rebuilds it). Where even
     that fails the row keeps its own solve, and the notes say how it ends.
@@ -96,8 +97,9 @@ def sweep(
     ``.notes`` (flat index, code) say where the branch ends or changes:
     ``failed`` (the row did not converge; the next row restarts from the last good
     root, ``restart_last_good``, or from x0 when there is none, ``restart_x0``),
-    ``branch_jump`` (the root lies far off the straight-line prediction of the last two:
-    the branch ended, typically at a turning point, and another branch was found),
+    ``branch_jump`` (the root lies far off the straight-line prediction of the last two,
+    or the tangent step from the one before: the branch ended, typically at a turning
+    point, and another branch was found),
     ``turning_point`` (f' at the root changed sign from the previous row: the root is on
     another branch, past a fold), ``continued`` (reached through intermediate values),
     ``left_range`` (the method converged to a root outside ``bounds``: that row
@@ -190,7 +192,8 @@ def sweep(
                   slope_before: float | None) -> tuple[bool, float | None]:
         """(whether ``run`` continues ``branch``: converged, in the range, on the straight-
         line prediction, f' of the same sign; f' at its root, or the last finite one)."""
-        if not run.converged or not inside(run.root) or _jumped(branch, value, run.root, tol):
+        if not run.converged or not inside(run.root) or \
+                _jumped(branch, value, run.root, tol, _tangent(bound, branch)):
             return False, slope_before
         slope = _slope(bound, run.root)
         if not math.isfinite(slope):
@@ -268,7 +271,7 @@ def sweep(
             restarted, branch = True, []
             continue
         converged[k], root[k], residual[k] = True, run.root, run.residual
-        if _jumped(branch, value, run.root, tol):
+        if _jumped(branch, value, run.root, tol, _tangent(bound, branch)):
             notes.append((k, "branch_jump"))
             branch = []
         slope = _slope(bound, run.root)
@@ -302,16 +305,38 @@ def _extended(branch: list[tuple[float, float]],
     return [*branch, *((p[0], p[2].root) for p in points)][-2:]
 
 
+def _tangent(bound: Any, branch: list[tuple[float, float]]) -> float | None:
+    """Newton's step -f/f' at the branch's one known root, on the equation ``bound`` to
+    the next value: the first-order prediction of the root's move where the straight line
+    through two roots is not yet there (None with two roots, or none; NaN where f or f'
+    has no finite value there)."""
+    if len(branch) != 1:
+        return None
+    x = branch[0][1]
+    with np.errstate(all="ignore"):
+        return -float(_one_row(bound.f)(x)) / _slope(bound, x)
+
+
 def _jumped(branch: list[tuple[float, float]], value: float, root: float,
-            tol: Mapping[str, Any]) -> bool:
-    """Whether ``root`` at ``value`` lies off the straight line through the last two."""
+            tol: Mapping[str, Any], tangent: float | None = None) -> bool:
+    """Whether ``root`` at ``value`` lies off the straight line through the last two roots
+    of the branch or, with one root known, off the ``tangent`` step from it (a NaN or
+    infinite tangent predicts nothing).
+
+    The sweep's first rows had no check: from the one root before, a solve that ran off
+    to another root was taken as the branch (x^4 - 0.119x^3 - 1.165x^2 - 0.052x = p from
+    the root -0.130 at p = -0.0124 to 1.174 at p = 0.0403, where the branch has ended at
+    its fold: numpy.roots gives that root and -1.016, and no root near -0.13)."""
+    floor = 1e3 * (tol["xtol"] + tol["rtol"] * abs(root))
+    if len(branch) == 1 and tangent is not None and math.isfinite(tangent):
+        r1 = branch[0][1]
+        return abs((root - r1) - tangent) > JUMP_FACTOR * abs(tangent) + floor
     if len(branch) < 2:
         return False
     (p0, r0), (p1, r1) = branch
     if p1 == p0:
         return False
     predicted = (r1 - r0) * (value - p1) / (p1 - p0)
-    floor = 1e3 * (tol["xtol"] + tol["rtol"] * abs(root))
     scale = max(abs(predicted), abs(r1 - r0))
     return abs((root - r1) - predicted) > JUMP_FACTOR * scale + floor
 

@@ -17,7 +17,11 @@ Tolerances (keywords, the same for every method)
 
 What "step" means:
 
-* Newton and secant: ``dx = x_k - x_{k-1}``, the step just taken.
+* Newton and secant: ``dx = x_k - x_{k-1}``, the step just taken. The secant's step
+  comes from a chord that may reach a far iterate, so its short step counts only when the
+  two points of the step confirm a root (residual at least halved, a sign change, or
+  their own chord within the tolerance), else when f changes sign at x - tol or
+  x + tol (evaluated, counted); otherwise the iteration goes on.
 * Bisection and Brent: the width of the bracket held, ``hi - lo``, tested against
   ``xtol + rtol*|x|`` with x the bracket end of smaller ``|f|`` (the root returned).
 * Illinois: the bracket width as above (the Illinois rule moves both ends, so the

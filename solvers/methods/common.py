@@ -282,14 +282,17 @@ def _closed_bracket_reason(
     (its |f| grows as the bracket closes).
 
     Near a root f shrinks with the distance: |f| ~ C*d**p, for a power p > 0. Beside a
-    jump |f| stays at the height of the jump however small the bracket. So, with
-    ``near`` the smaller |f| at the closed ends and ``w`` the width:
+    jump |f| stays at the height of the jump however small the bracket. So, with ``w``
+    the width:
 
     1. at no cost, the points already evaluated: if one at distance d >= 2w from the
-       closed bracket has ``near <= |f| * sqrt(w/d)``, |f| fell at least as fast as the
-       square root of the distance (p >= 1/2), and the bracket holds a root. Beside a
-       jump of height J with slope s this needs (J + s*d)*sqrt(w/d) >= J: d >= J**2/(s**2*w),
-       beyond any point for a jump that stands out of the slope over the tolerance.
+       closed bracket has the sign of the closed end on its side and ``|f(end)| <= |f| *
+       sqrt(w/d)``, |f| fell at least as fast as the square root of the distance
+       (p >= 1/2), and the bracket holds a root. Beside a jump of height J with slope s
+       this needs (J + s*d)*sqrt(w/d) >= J: d >= J**2/(s**2*w), beyond any point for a
+       jump that stands out of the slope over the tolerance. Each end is compared only
+       with points on its own side: across a jump from -0.4 to 1.6, a point just beyond
+       the 1.6 end would otherwise pass for |f| grown from the 0.4 of the other end.
     2. otherwise f is evaluated ``2**20`` widths out (inside the starting bracket), one
        side and then the other: if |f| grew there by 1.5 or more (any p >= 0.03, so even
        x**(1/19) passes) the bracket holds a root; if it did not on either side, a jump
@@ -300,12 +303,15 @@ def _closed_bracket_reason(
             return NOT_FINITE, Detail("underflow_stretch", (x,))
     if _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps):
         return X_TOLERANCE, None  # _finish reports the pole
-    near = min(abs(flo), abs(fhi))
     width = hi - lo
     for step in steps:
         distance = max(lo - step.x, step.x - hi)
         if distance >= 2.0 * width and math.isfinite(step.fx) and step.x not in underflowed:
-            if near <= abs(step.fx) * math.sqrt(width / distance):
+            # compared with the closed end on its own side: across a jump the far side's
+            # |f| is the jump's height, larger than the near side's for no root at all
+            fend = flo if step.x < lo else fhi
+            if _same_sign(step.fx, fend) and abs(fend) <= abs(step.fx) * math.sqrt(
+                    width / distance):
                 return X_TOLERANCE, None
     a, b = sorted(settings["bracket"])
     reach = _PROBE_REACH * width

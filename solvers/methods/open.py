@@ -139,6 +139,37 @@ def newton(
         k += 1
 
 
+def _step_is_local(ev: _Evaluator, fb: float, x: float, fx: float, dx: float,
+                   tol: float) -> bool:
+    """Whether a secant step within the tolerance shows x to be at a root.
+
+    Newton's step comes from f' at x, so a short step means f/f' is small there. The
+    secant's comes from the chord through the last two iterates, which may be far apart:
+    a chord to a point where |f| is enormous is steep, and the step it gives is short
+    wherever x is (on x*exp(1.411x) - 2.978 from -0.80, -0.30 the secant jumps to 25.6,
+    where f is 1.2e17, and comes back with a step of 7e-16 and f 3.18 at both ends).
+    The short step counts as convergence when the two points it joins say so too, at no
+    cost: the residual at least halved (superlinear progress; at a double root the
+    secant's residual ratio tends to 0.38), a sign change between them (a root within
+    the step), or their own chord putting the root within ``tol`` of x. Otherwise (f at
+    its rounding noise at both, as happens at a root reached to the last digit) f is
+    asked at x - tol and x + tol: a sign change (or an exact 0) on either side puts a
+    root within the tolerance. If none does, the step was the chord's, not the root's,
+    and the iteration goes on (:func:`solvers.batch.open.secant` applies the same rule
+    to every row).
+    """
+    if abs(fx) <= 0.5 * abs(fb) or (fx < 0.0) != (fb < 0.0):
+        return True
+    difference = fx - fb
+    if difference != 0.0 and abs(fx * dx) <= tol * abs(difference):
+        return True
+    for probe in (x - tol, x + tol):
+        fp = ev(probe)
+        if math.isfinite(fp) and (fp == 0.0 or (fp < 0.0) != (fx < 0.0)):
+            return True
+    return False
+
+
 @_quiet
 def secant(
     f: Function,
@@ -153,7 +184,11 @@ def secant(
     """Secant method from x0, x1: Newton's step with the slope through the last two iterates.
 
     Both starting points are recorded as steps (k = 0, 1, ``dx`` None). Stops on
-    the step just taken, ``|dx| <= xtol + rtol*|x|``. Equal f at the last two points
+    the step just taken, ``|dx| <= xtol + rtol*|x|``, when the two points of that step
+    confirm it (the residual at least halved, a sign change, or their chord putting the
+    root within the tolerance; else f at x +- tol, counted in ``evaluations``, must
+    change sign): a short step from a steep chord to a far iterate proves nothing, and
+    the iteration goes on. Equal f at the last two points
     (zero slope, including x0 == x1) or a step that overflows gives
     ``zero_derivative``. Converges with order ~1.62 on a simple root, without a bracket
     (it may leave the region of interest).
@@ -216,7 +251,8 @@ def secant(
             return done(reason, x, iterations, detail)
         if abs(fx) <= ftol_:
             return done(F_TOLERANCE, x, iterations)
-        if abs(dx) <= xtol_ + rtol_ * abs(x):
+        tol_x = xtol_ + rtol_ * abs(x)
+        if abs(dx) <= tol_x and _step_is_local(ev, fb, x, fx, dx, tol_x):
             detail = _step_detail("step", abs(dx), xtol_, rtol_, x)
             return done(X_TOLERANCE, x, iterations, detail)
         xa, fa, xb, fb = xb, fb, x, fx

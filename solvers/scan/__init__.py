@@ -85,7 +85,8 @@ How a scan works
    f' sampled with f. Between neighbouring samples of one sign of f across which f'
    changes sign toward zero lies an extremum that may hide two roots; where the secant
    slope lies between the two f' values (f' monotone there, as the mean value theorem
-   demands) and the tangent lines at both samples meet above zero, f is convex there and
+   demands) and the tangent lines at both samples meet above zero by more than f's
+   rounding noise (64 eps of f's typical sampled |f|), f is convex there and
    cannot reach zero: proved root-free, no evaluation spent. Every other such pair goes
    to the touch search of step 4 (these extrema replace the sampled minima of |f| where
    f' is finite). Windows where f' contradicts f's differences are resampled (step 1);

@@ -94,8 +94,8 @@ def scan(
       wherever f' changes sign at most once between neighbouring samples, every extremum
       of f between samples that moves toward zero is either proved root-free (f' monotone
       there by the mean value theorem test, and the tangent lines at both samples meet
-      above zero) or searched, so hidden close pairs and touches are found; grid windows
-      where f's differences disagree with f' (trapezoid rule off by more than half:
+      above f's rounding noise) or searched, so hidden close pairs and touches are found;
+      grid windows where f's differences disagree with f' (trapezoid rule off by more than half:
       an oscillation aliased by the sampling) are resampled up to 64x finer, and what is
       still unresolved then is re-scanned with 64x the samples, with a warning. Not
       covered: a feature narrower than a sample spacing that leaves neither f nor f'

@@ -41,7 +41,7 @@ def _sign(v: float) -> float:
 
 
 @kernel
-def detect_pass(x, y, yp, has_yp, lo, hi, cap):  # noqa: C901 - one pass, every candidate kind
+def detect_pass(x, y, yp, has_yp, lo, hi, cap, floor):  # noqa: C901 - one pass, every kind
     """Candidate indices of one stretch of samples (see ``sampling._detect``).
 
     Returns (brackets, overflow, edges, inf_points, zeros, flat, peaks, minima, extrema,
@@ -49,7 +49,9 @@ def detect_pass(x, y, yp, has_yp, lo, hi, cap):  # noqa: C901 - one pass, every 
     rows (finite index, far index) of sign changes into an overflow; ``edges`` rows (k,
     1 when defined on the left else 0); ``inf_points``, ``zeros`` (rows (k, odd)) and
     ``flat`` centre indices; ``peaks`` and ``minima`` centre indices; ``extrema`` left
-    indices of pairs not proved root-free; ``proved`` how many were; ``most`` the largest
+    indices of pairs not proved root-free (the tangent bound must clear the rounding of the
+    two values and ``floor``, f's rounding noise in absolute terms); ``proved`` how many
+    were; ``most`` the largest
     count of one kind. Each kind is stored up to ``cap`` (buffers the size of the stretch
     would hold megabytes for a handful of candidates, and buffers grown in the loop slow
     every iteration down): when ``most`` exceeds ``cap`` the lists are cut short and the
@@ -67,7 +69,9 @@ def detect_pass(x, y, yp, has_yp, lo, hi, cap):  # noqa: C901 - one pass, every 
             if neg0 != neg1 or y0 == 0 or y1 == 0:
                 continue
             s = -1.0 if neg0 else 1.0
-            if not (s * yp[i] < 0 and s * yp[i + 1] > 0):
+            # (f' exactly 0 at the right sample: the extremum sits on it; without ``>=`` it
+            # belonged to neither pair and went unchecked)
+            if not (s * yp[i] < 0 and s * yp[i + 1] >= 0):
                 continue
             u0, u1, p0, p1 = s * y0, s * y1, s * yp[i], s * yp[i + 1]
             h = x[i + 1] - x[i]
@@ -79,7 +83,7 @@ def detect_pass(x, y, yp, has_yp, lo, hi, cap):  # noqa: C901 - one pass, every 
             if u0 != u0 or u1 != u1:
                 margin = math.nan
             else:
-                margin = _MARGIN * (u0 if u0 >= u1 else u1)
+                margin = max(_MARGIN * (u0 if u0 >= u1 else u1), floor)
             if convex and math.isfinite(bound) and bound > margin:
                 proved += 1
             else:
@@ -237,6 +241,11 @@ def underresolved_pass(x, y, yp, has_yp, window, max_turns, trapezoid):
             count = 0
     if has_yp:
         for i in range(n - 1):
+            if y[i] == 0.0 and y[i + 1] == 0.0:
+                # f rounded to 0.0 at both (1 - cos x for |x| < 1e-8, the flat part of
+                # min(x, 1) - 1): no resolution of f to compare f' with; the run of zeros
+                # is reported as such, never as an aliased oscillation
+                continue
             half = 0.5 * (x[i + 1] - x[i])
             dy = y[i + 1] - y[i]
             avg = half * (yp[i] + yp[i + 1])

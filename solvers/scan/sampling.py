@@ -13,7 +13,7 @@ from types import ModuleType
 
 import numpy as np
 
-from solvers.scan.records import ScanCancelled
+from solvers.scan.records import EPS, ScanCancelled
 
 DEFAULT_SAMPLES = 2001  # base samples when ``samples`` is None (adaptive refinement on top)
 
@@ -170,6 +170,9 @@ class _Candidates:
     # changes sign toward zero, not proved root-free; same layout as ``minima``
     extrema: list[tuple[float, float, float, float, float, float]] = field(default_factory=list)
     proved: int = 0  # extrema between samples proved root-free by the tangent bound
+    # the least tangent bound that proves an extremum root-free: f's rounding noise in
+    # absolute terms, from the base grid's typical |f| (see _PROOF_FLOOR)
+    floor: float = 0.0
 
 
 def _median_abs(y: np.ndarray) -> float | None:
@@ -228,10 +231,12 @@ def _detect(x: np.ndarray, y: np.ndarray, lo: int, hi: int, out: _Candidates,
         yp = None if yp is None else yp[start:stop]
         lo, hi = lo - start, hi - start
     detect_pass = _passes().detect_pass
-    found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, _CAP)
+    found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, _CAP,
+                        out.floor)
     if found[-1] > _CAP:  # (more candidates of one kind than the buffers held: a fast
         # oscillation; asked again with room for all)
-        found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, found[-1])
+        found = detect_pass(x, y, y if yp is None else yp, yp is not None, lo, hi, found[-1],
+                            out.floor)
     brackets, overflow, edges, infs, zeros, flat, peaks, minima, extrema, proved, _ = found
     if yp is not None:
         _detect_extrema(x, y, extrema, proved, out)
@@ -292,7 +297,8 @@ def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
     period). An error above half of the change's own scale, |f_(i+1) - f_i| + h (|f'_i| +
     |f'_(i+1)|) / 2, plus 1e3 eps of |f| for rounding, means f changes faster than the
     sampling resolves: an oscillation aliased into a slow-looking curve. Pairs with a
-    non-finite value are left to the other checks. One compiled pass
+    non-finite value, or with f exactly 0.0 at both (a run of zeros), are left to the
+    other checks. One compiled pass
     (:func:`solvers.scan.passes.underresolved_pass`).
     """
     n = len(y)
@@ -304,6 +310,15 @@ def _underresolved(y: np.ndarray, x: np.ndarray | None = None,
 
 
 _TRAPEZOID = 0.5  # f' may disagree with f's differences by this fraction before a resample
+
+# An extremum between samples is proved root-free only where the tangent lines meet above
+# f's rounding noise, not merely above zero: f's values near a double root are rounding
+# (x^2 - 4.62x + 5.3361, typed out, is 8.9e-16 at the sample 2.31 where f' is 8.9e-16 too,
+# and -8.9e-16 beside it), so their tangent bound proves nothing. The noise of f is that of
+# its terms, which f's values near the root do not show; the typical sampled |f| (the
+# median) stands for them, times 64 eps (common practice for a rounding allowance; the
+# factor is ours).
+_PROOF_FLOOR = 64.0
 
 
 def _sample_grid(
@@ -344,6 +359,8 @@ def _sample_grid(
                 median = _median_abs(y)
                 if median is not None:
                     out.typical.append(median)
+            if gp is not None:
+                out.floor = _PROOF_FLOOR * EPS * _typical_size(out)
         if start == 0:
             out.first_defined = not bool(np.isnan(y[0]))
         if stop == n:
