@@ -595,7 +595,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         print(f"error: {message}{where}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except OSError as exc:
-        print(f"error: {exc.filename or ''} {exc.strerror or exc}".strip(), file=sys.stderr)
+        where = f"{exc.filename}: " if exc.filename else ""
+        print(f"error: {where}{exc.strerror or exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)

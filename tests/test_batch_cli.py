@@ -262,3 +262,10 @@ def test_a_param_the_equation_does_not_use_is_noted_by_batch_and_sweep(tmp_path,
     code, _out, err = run(capsys, "batch", COLEBROOK, "--table", str(table), "--x0", "0.02",
                           "--param", "Rr=1e-4")
     assert code == 0 and "note: parameter 'Rr' is not used by the equation" in err
+
+
+def test_a_table_that_is_not_there_is_named_with_the_systems_reason(capsys, tmp_path):
+    missing = tmp_path / "nosuch.csv"
+    code, out, err = run(capsys, "batch", "x - p", "--table", str(missing), "--x0", "0")
+    assert code == 2 and out == ""
+    assert err.strip() == f"error: {missing}: No such file or directory"

@@ -314,3 +314,14 @@ def test_the_solve_csv_carries_the_definitions_at_the_root(tmp_path, capsys):
     speed, unit = values["v"].split()
     assert unit == "m/s" and float(speed) == pytest.approx(0.020 / (math.pi * d**2 / 4),
                                                           rel=1e-12)
+
+
+def test_an_equation_whose_every_name_is_defined_above_says_which_definition_took_the_unknown():
+    with pytest.raises(EquationError) as caught:
+        parse_equation("x = 1; x = 2")
+    message = str(caught.value)
+    assert "'x = 2' has no unknown left" in message and "'x' is defined above" in message
+    assert caught.value.position == 7  # the equation's line starts there
+    # an equation with no names at all, and no definition to blame, keeps the plain words
+    with pytest.raises(EquationError, match="contains no names"):
+        parse_equation("A = 2; 3 = 4")

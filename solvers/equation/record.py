@@ -686,8 +686,20 @@ def parse_equation(text: str, unknown: str | None = None,
     reading = read_lines(text)
     check_shadowing(reading, values, () if unknown is None else (unknown,))
     remarks: list[Remark] = []
-    unknown = _choose_unknown(text, reading.names, unknown, values, reading.first_pos, remarks)
     line = reading.equations[0]
+    if not reading.names and reading.definitions:
+        # every name of the equation was defined above ('x = 1; x = 2'): say so, not that
+        # the text has no names
+        written = text[line.start:line.end].strip()
+        used = [d.name for d in reading.definitions
+                if re.search(rf"(?<![\w.]){re.escape(d.name)}(?!\w)", written)]
+        if used:
+            raise EquationError(
+                f"the equation '{written}' has no unknown left: "
+                + ", ".join(f"'{n}'" for n in used)
+                + (" is" if len(used) == 1 else " are") + " defined above it, and an "
+                "unknown cannot also be given a definition", line.start)
+    unknown = _choose_unknown(text, reading.names, unknown, values, reading.first_pos, remarks)
     core = _build_core(text, reading, line.lhs, line.rhs, unknown, unknown_unit,
                        check_dimensions)
     if reading.definitions or line.start > 0 or line.end < len(text.rstrip()):
