@@ -248,27 +248,30 @@ def _confirm_steps(w: Work, a: _AtWork, n: int, x: np.ndarray, fx: np.ndarray,
                    s: dict[str, Any]) -> int:
     """The secant's step rule beside the point (:func:`solvers.methods.open._step_is_local`)
     for the rows among the first ``n`` whose code is CONFIRM (their point ``x``, f there
-    ``fx``): f at x - tol, then, where that shows no sign change, at x + tol (each call
-    counted in the row's ``extra``); a sign change (or an exact 0) makes the row stop at a
-    root (X_TOL), none sends it on (GO_ON). Rare rows: numpy. Returns the rows stopped."""
+    ``fx``): f at x - tol, then, where that shows no sign change, at x + tol (each
+    probe counted in the row's ``extra`` as the scalar rule takes it); a sign change (or
+    an exact 0) makes the row stop at a root (X_TOL), none sends it on (GO_ON). Both
+    sides are evaluated in one call of f (the second side's value read only where the
+    scalar rule asks for it). Rare rows: numpy. Returns the rows stopped."""
     ok = _kernels()
     code = a.code
     at = np.flatnonzero(code[:n] == ok.CONFIRM)
-    tol = s["xtol"] + s["rtol"] * np.abs(x[at])
-    stopped = 0
-    for side in (-1.0, 1.0):
-        if not at.size:
-            break
-        probe = x[at] + side * tol
-        np.add.at(w._extra, a.rows[at], 1)
-        with np.errstate(all="ignore"):
-            fp = a.call(probe, at.size, a.carry[:, at])
-        root = np.isfinite(fp) & ((fp == 0.0) | ((fp < 0.0) != (fx[at] < 0.0)))
-        code[at[root]] = X_TOL
-        stopped += int(root.sum())
-        at, tol = at[~root], tol[~root]
-    code[at] = ok.GO_ON
-    return stopped
+    m = at.size
+    if not m:
+        return 0
+    point, sign = x[at], fx[at] < 0.0
+    tol = s["xtol"] + s["rtol"] * np.abs(point)
+    with np.errstate(all="ignore"):
+        fp = a.call(np.concatenate((point - tol, point + tol)), 2 * m,
+                    np.concatenate((a.carry[:, at], a.carry[:, at]), axis=1))
+    shows = np.isfinite(fp) & ((fp == 0.0) | ((fp < 0.0) != np.concatenate((sign, sign))))
+    first = shows[:m]
+    root = first | shows[m:]
+    rows = a.rows[at]  # distinct rows: one count each
+    w._extra[rows] += 1
+    w._extra[rows[~first]] += 1  # the second side, asked only where the first showed none
+    code[at] = np.where(root, np.int8(X_TOL), np.int8(ok.GO_ON))
+    return int(root.sum())
 
 
 def secant(w: Work, s: dict[str, Any]) -> None:

@@ -244,28 +244,21 @@ def secant_tests(n, xtol, rtol, ftol, xa, fa, xb, fb, x, fx, dead, code):
     for i in range(n):
         xi = x[i]
         fi = fx[i]
-        c = GO_ON
-        if dead[i]:
-            c = DEAD
-        elif not np.isfinite(fi):
-            c = NOT_FIN
-        elif fi == 0.0:
-            c = PENDING
-        elif abs(fi) <= ftol:
-            c = F_TOL
-        else:
-            tol = xtol + rtol * abs(xi)
-            dx = xi - xb[i]
-            if abs(dx) <= tol:
-                # solvers.methods.open._step_is_local's tests at no cost, in its order
-                b = fb[i]
-                c = CONFIRM
-                if abs(fi) <= 0.5 * abs(b) or (fi < 0.0) != (b < 0.0):
-                    c = X_TOL
-                else:
-                    difference = fi - b
-                    if difference != 0.0 and abs(fi * dx) <= tol * abs(difference):
-                        c = X_TOL
+        b = fb[i]
+        tol = xtol + rtol * abs(xi)
+        dx = xi - xb[i]
+        # solvers.methods.open._step_is_local's tests at no cost: the residual at least
+        # halved, a sign change, or the step's own chord within the tolerance. As in
+        # newton_tests, selections from the last test to the first, no branches (the
+        # values of a test that does not decide are computed and not read).
+        difference = fi - b
+        local = ((abs(fi) <= 0.5 * abs(b)) | ((fi < 0.0) != (b < 0.0))
+                 | ((difference != 0.0) & (abs(fi * dx) <= tol * abs(difference))))
+        c = (X_TOL if local else CONFIRM) if abs(dx) <= tol else GO_ON
+        c = F_TOL if abs(fi) <= ftol else c
+        c = PENDING if fi == 0.0 else c
+        c = NOT_FIN if not np.isfinite(fi) else c
+        c = DEAD if dead[i] else c
         code[i] = c
         stops += c >= 0
         pending += c == PENDING
