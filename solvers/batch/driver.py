@@ -38,7 +38,7 @@ reused by the allocator from iteration to iteration (arrays of 10^5 rows come ba
 fresh pages every time: page faults cost more than the arithmetic), and that f on a
 chunk is one call of the compiled code (f is evaluated in blocks of 8192 rows from 16,384
 rows on: 10^5 rows in chunks of 20,000 took three calls each, the last one short), large
-enough that numpy's per-call cost is spread over many rows (benchmarks/bench_batch.py's
+enough that numpy's per-call cost is spread over many rows (a race as in bench_batch.py,
 Newton race with no page faults, 10^5 rows: 1.03-1.04x scipy's array newton at 16,384,
 1.03-1.05x at 12,500, 1.07-1.09x at 20,000 and 25,000, 1.13-1.15x at 8192)."""
 
