@@ -12,12 +12,15 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+import scipy.optimize
 from PySide6.QtCore import Qt
+from PySide6.QtGui import QGuiApplication
 from PySide6.QtTest import QTest
 
 pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import (  # noqa: E402
     edit_cell,
+    open_tables_window,
     settle,
     solve_by_keys,
     type_equation,
@@ -83,3 +86,87 @@ def test_the_plot_shows_every_converged_root_even_outside_the_grown_bracket(qtbo
     lo, hi = w.plot.ax.get_xlim()
     for x in converged:
         assert lo < x < hi, f"root {x} drawn outside the plot's [{lo}, {hi}]"
+
+
+# A made-up flash drum: K-values of the three components, the feeds pasted as rows.
+RACHFORD_RICE = ("z1*(K1 - 1)/(1 + V*(K1 - 1)) + z2*(K2 - 1)/(1 + V*(K2 - 1)) "
+                 "+ z3*(K3 - 1)/(1 + V*(K3 - 1)) = 0")
+FEEDS = [(0.30, 0.30, 0.40, 4.2), (0.10, 0.30, 0.60, 6.5), (0.05, 0.15, 0.80, 4.2),
+         (0.25, 0.35, 0.40, 40.0)]  # the third is all liquid at these K-values: no root
+K2, K3 = 1.1, 0.12
+
+
+def vapour_fraction(z1: float, z2: float, z3: float, k1: float) -> float:
+    """The reference: scipy.optimize.brentq on the Rachford–Rice function over [0, 1]."""
+    def f(v: float) -> float:
+        return sum(z * (k - 1) / (1 + v * (k - 1)) for z, k in ((z1, k1), (z2, K2), (z3, K3)))
+    return scipy.optimize.brentq(f, 0.0, 1.0, xtol=1e-15)
+
+
+def type_into(qtbot, edit, text: str) -> None:
+    edit.setFocus()
+    QTest.keyClick(edit, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    QTest.keyClick(edit, Qt.Key.Key_Delete)
+    qtbot.keyClicks(edit, text)
+
+
+def flash_table(qtbot, w):
+    """The flash equation in the main window with a long bracket end, then Ctrl+T and the
+    feeds pasted from a spreadsheet (tab-separated) into the tables window."""
+    type_equation(qtbot, w, RACHFORD_RICE)
+    choose_unknown_by_keys(qtbot, w, "V")
+    model = w.inputs.parameters
+    for name, value in (("z1", "0.3"), ("K1", "4.2"), ("z2", "0.3"), ("K2", str(K2)),
+                        ("z3", "0.4"), ("K3", str(K3))):
+        edit_cell(qtbot, w.inputs.parameters_view, model.names().index(name), model.VALUE,
+                  value)
+    type_into(qtbot, w.inputs.fields["a"], "0")
+    type_into(qtbot, w.inputs.fields["b"], "0.99999999999999989")  # below 1: 1 - 2^-53
+    settle(qtbot, w)
+    t = open_tables_window(qtbot, w)
+    qtbot.waitExposed(t)
+    rows = "\n".join("\t".join(repr(v) for v in feed) for feed in FEEDS)
+    QGuiApplication.clipboard().setText("z1\tz2\tz3\tK1\n" + rows + "\n")
+    t.loaded, t.last_error = False, ""
+    QTest.mouseClick(t.paste_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=20_000)
+    assert not t.last_error
+    box = t.method_box
+    box.setFocus()
+    while box.currentData() != "brent":
+        QTest.keyClick(box, Qt.Key.Key_Down)
+    return t
+
+
+def test_the_tables_window_shows_the_first_digits_of_the_start_values_it_is_given(qtbot,
+                                                                                   window):
+    t = flash_table(qtbot, window)
+    # The bracket came from the worksheet: its end, longer than the field, reads from its
+    # first digit (the field once showed "9999999999999989", the leading "0." out of sight).
+    for edit in (t.a_edit, t.b_edit, t.equation_edit):
+        assert edit.cursorPosition() == 0
+    assert t.b_edit.text() == "0.9999999999999999"
+    assert t.equation_edit.text() == RACHFORD_RICE
+
+
+def test_return_on_a_row_of_the_results_opens_its_lane(qtbot, window):
+    t = flash_table(qtbot, window)
+    before = t.done
+    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    view = t.view
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton,
+                     pos=view.visualRect(t.model.index(0, 0)).center())
+    assert t.lane is None  # a click selects the row; Return opens it
+    for row in (0, 1, 2, 3):
+        if row:
+            QTest.keyClick(view, Qt.Key.Key_Down)
+        QTest.keyClick(view, Qt.Key.Key_Return)
+        qtbot.waitUntil(lambda row=row: t.lane is not None and t.lane_row == row)
+        z1, z2, z3, k1 = FEEDS[row]
+        run = t.lane.run
+        if row == 2:  # all liquid: f(0) and f(1) of one sign
+            assert not run.converged and run.reason == "no_sign_change"
+        else:
+            assert run.converged
+            assert run.root == pytest.approx(vapour_fraction(z1, z2, z3, k1), abs=2e-12)

@@ -56,6 +56,14 @@ def _number(text: str) -> float | None:
     return value
 
 
+def _show_number(edit: QLineEdit, value: float | None) -> None:
+    """Put ``value`` (exact, ``repr``) in ``edit`` showing its first digits: setText leaves
+    the cursor at the end, and a number longer than the field then showed only its tail
+    ("7988198217209432" for 2.7988198217209432)."""
+    edit.setText("" if value is None else repr(float(value)))
+    edit.setCursorPosition(0)
+
+
 class TableWindow(QWidget):
     """The view of a table of inputs or a sweep, opened from the main window.
 
@@ -136,7 +144,9 @@ class TableWindow(QWidget):
         self.view.setModel(self.model)
         self.view.verticalHeader().setVisible(True)  # row numbers, as messages count them
         self.view.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
-        self.view.doubleClicked.connect(lambda index: self.open_row(index.row()))
+        # activated: a double-click, and Return or Enter on the current row (the keyboard's
+        # way to a row's lane; doubleClicked alone left it to the mouse)
+        self.view.activated.connect(lambda index: self.open_row(index.row()))
         self.chart = FigureView(name="design", placeholder="The design chart (the root "
                                 "against a column) is drawn when the table is run.")
         self.against_box = QComboBox()
@@ -233,6 +243,7 @@ class TableWindow(QWidget):
         calculation sheet)."""
         self.worksheet = worksheet
         self.equation_edit.setText(equation)
+        self.equation_edit.setCursorPosition(0)  # its beginning in sight, not its end
         self.unknown_edit.setText(unknown or "")
         self.constants = dict(constants)
         self.settings = dict(settings)
@@ -244,7 +255,7 @@ class TableWindow(QWidget):
             for edit, value in ((self.x0_edit, ws_settings.x0), (self.x1_edit, ws_settings.x1),
                                 (self.a_edit, bracket[0]), (self.b_edit, bracket[1])):
                 if value is not None and not edit.text().strip():
-                    edit.setText(repr(float(value)))
+                    _show_number(edit, value)
 
     def say(self, text: str) -> None:
         self.last_error = ""
@@ -345,7 +356,7 @@ class TableWindow(QWidget):
         for edit, value in ((self.x0_edit, inputs.x0), (self.x1_edit, inputs.x1),
                             (self.a_edit, inputs.bracket[0] if inputs.bracket else None),
                             (self.b_edit, inputs.bracket[1] if inputs.bracket else None)):
-            edit.setText("" if value is None else repr(float(value)))
+            _show_number(edit, value)
         for widget in with_signals_blocked:
             widget.blockSignals(False)
         if inputs.kind == "sweep":
