@@ -170,3 +170,31 @@ def test_return_on_a_row_of_the_results_opens_its_lane(qtbot, window):
         else:
             assert run.converged
             assert run.root == pytest.approx(vapour_fraction(z1, z2, z3, k1), abs=2e-12)
+
+
+def test_a_heading_too_long_for_its_column_keeps_its_start_and_is_whole_in_its_tooltip(
+        qtbot, window):
+    from PySide6.QtCore import QEvent, QPoint
+    from PySide6.QtGui import QHelpEvent
+    from PySide6.QtWidgets import QApplication, QToolTip
+
+    w = window
+    type_drum(qtbot, w)
+    solve_by_keys(qtbot, w)
+    table = w.lanes.lanes["newton"].table
+    header = table.horizontalHeader()
+    column = table.model().keys.index("dfx")
+    heading = table.model().headerData(column, Qt.Orientation.Horizontal)
+    assert heading == "f′(v) [Pa/(L/mol)]"
+    assert header.sectionSize(column) < header.fontMetrics().horizontalAdvance(heading)
+    # Shortened at its end: the derivative's name stays in sight (it was clipped at both
+    # ends, reading "(v) [Pa/(L/mol)", as if it were a second column of v).
+    assert header.textElideMode() == Qt.TextElideMode.ElideRight
+    middle = QPoint(header.sectionViewportPosition(column) + header.sectionSize(column) // 2,
+                    header.height() // 2)
+    QApplication.sendEvent(header.viewport(),
+                           QHelpEvent(QEvent.Type.ToolTip, middle,
+                                      header.viewport().mapToGlobal(middle)))
+    qtbot.waitUntil(lambda: QToolTip.isVisible())
+    assert QToolTip.text().startswith(heading + ": ")
+    QToolTip.hideText()
