@@ -92,7 +92,8 @@ def test_the_plot_shows_every_converged_root_even_outside_the_grown_bracket(qtbo
 RACHFORD_RICE = ("z1*(K1 - 1)/(1 + V*(K1 - 1)) + z2*(K2 - 1)/(1 + V*(K2 - 1)) "
                  "+ z3*(K3 - 1)/(1 + V*(K3 - 1)) = 0")
 FEEDS = [(0.30, 0.30, 0.40, 4.2), (0.10, 0.30, 0.60, 6.5), (0.05, 0.15, 0.80, 4.2),
-         (0.25, 0.35, 0.40, 40.0)]  # the third is all liquid at these K-values: no root
+         (0.25, 0.35, 0.40, 40.0), (0.50, 0.30, 0.20, 3.1), (0.25, 0.35, 0.40, 1.6)]
+# the third and the last are all liquid at these K-values: no root in [0, 1]
 K2, K3 = 1.1, 0.12
 
 
@@ -198,3 +199,43 @@ def test_a_heading_too_long_for_its_column_keeps_its_start_and_is_whole_in_its_t
     qtbot.waitUntil(lambda: QToolTip.isVisible())
     assert QToolTip.text().startswith(heading + ": ")
     QToolTip.hideText()
+
+
+def tick_label_overlaps(ax, renderer) -> list[tuple[str, str, str]]:
+    """Pairs of visible tick labels (within the view) whose boxes overlap, on each axis."""
+    clashes = []
+    for axis in (ax.xaxis, ax.yaxis):
+        lo, hi = sorted(axis.get_view_interval())
+        labels = [t.label1 for t in axis.get_major_ticks() + axis.get_minor_ticks()
+                  if lo <= t.get_loc() <= hi and t.label1.get_visible() and t.label1.get_text()]
+        boxes = [label.get_window_extent(renderer) for label in labels]
+        clashes += [(axis.axis_name, labels[i].get_text(), labels[j].get_text())
+                    for i in range(len(boxes)) for j in range(i + 1, len(boxes))
+                    if boxes[i].overlaps(boxes[j])]
+    return clashes
+
+
+def test_a_design_chart_on_log_axes_over_a_decade_or_two_has_readable_labels(qtbot, window):
+    from app.documents.figures import MATPLOTLIB_LOCK
+
+    t = flash_table(qtbot, window)
+    before = t.done
+    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    box = t.against_box
+    box.setFocus()
+    while box.currentText() != "K1":  # K1 from 1.6 to 40: about one and a half decades
+        QTest.keyClick(box, Qt.Key.Key_Down)
+    for check in (t.log_x, t.log_y):
+        QTest.mouseClick(check, Qt.MouseButton.LeftButton,
+                         pos=check.rect().topLeft() + check.rect().center() / 4)
+    qtbot.waitUntil(lambda: t.log_x.isChecked() and t.log_y.isChecked())
+    figure = t.chart.figure
+    with MATPLOTLIB_LOCK:
+        figure.canvas.draw()
+        ax = figure.axes[0]
+        assert ax.get_xscale() == ax.get_yscale() == "log"
+        # labels such as "3×10⁰4×10⁰" ran into each other; plain numbers, set apart
+        assert tick_label_overlaps(ax, figure.canvas.get_renderer()) == []
+        shown = [t.get_text() for t in ax.xaxis.get_ticklabels(which="both") if t.get_text()]
+    assert "10" in shown and "20" in shown

@@ -407,6 +407,48 @@ def design_chart_data(values: Any, batch: Any) -> tuple[Any, Any, Any, list[floa
     return x[good][order], root[good][order], x[~good & np.isfinite(x)], ends
 
 
+# Log axes spanning less than this many decades also label 2 and 5 within each decade.
+FEW_DECADES = 2.0
+
+
+def plain_log_labels(axis: Any) -> None:
+    """Label a log axis spanning under :data:`FEW_DECADES` decades with plain numbers
+    (0.05, 0.1, 0.2; 2, 5, 10, 20): each decade, and 2 and 5 within it; a wider span
+    (the view as zoomed, read at each draw) by its decades alone, as powers of ten.
+
+    matplotlib's own labels on a span of one or two decades are "2×10⁰ 3×10⁰ 4×10⁰ 6×10⁰",
+    set so close that neighbours ran into each other on a chart a few hundred pixels wide.
+    """
+    from matplotlib.ticker import Formatter, LogFormatterSciNotation
+
+    class _Labels(Formatter):
+        def __init__(self, minor: bool) -> None:
+            self.minor = minor
+            self.powers = LogFormatterSciNotation()
+
+        def set_axis(self, axis: Any) -> None:
+            super().set_axis(axis)
+            self.powers.set_axis(axis)
+
+        def set_locs(self, locs: Any) -> None:
+            self.powers.set_locs(locs)
+
+        def __call__(self, x: float, pos: Any = None) -> str:
+            if not (x > 0 and math.isfinite(x)):
+                return ""
+            lo, hi = sorted(self.axis.get_view_interval())
+            few = lo > 0 and math.log10(hi / lo) < FEW_DECADES
+            if not few:
+                return "" if self.minor else self.powers(x, pos)
+            mantissa = round(x / 10.0 ** math.floor(math.log10(x) + 1e-9), 6)
+            if self.minor and mantissa not in (2, 5):
+                return ""
+            return f"{x:g}"
+
+    axis.set_major_formatter(_Labels(minor=False))
+    axis.set_minor_formatter(_Labels(minor=True))
+
+
 def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: str,
                       log_x: bool = False, log_y: bool = False, line: bool = True,
                       x_unit: str = "", unit: str | None = None) -> int:
@@ -441,8 +483,10 @@ def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: s
                    label="branch ended" if i == 0 else None, zorder=2)
     if log_x:
         ax.set_xscale("log")
+        plain_log_labels(ax.xaxis)
     if log_y:
         ax.set_yscale("log")
+        plain_log_labels(ax.yaxis)
     ax.set_xlabel(f"{name} [{x_unit}]" if x_unit else name)
     ax.set_ylabel(f"{unknown} [{unit}]" if unit else unknown)
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6, zorder=0)
