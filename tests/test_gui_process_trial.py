@@ -239,3 +239,47 @@ def test_a_design_chart_on_log_axes_over_a_decade_or_two_has_readable_labels(qtb
         assert tick_label_overlaps(ax, figure.canvas.get_renderer()) == []
         shown = [t.get_text() for t in ax.xaxis.get_ticklabels(which="both") if t.get_text()]
     assert "10" in shown and "20" in shown
+
+
+def test_a_long_sweep_sends_the_window_no_more_progress_than_its_bar_can_show(qtbot, window):
+    """5,000 rows reported progress 5,000 times, each an event the UI thread had to take
+    in turn: the queue never emptied and typing and timers waited behind it."""
+    from PySide6.QtCore import QEvent, QObject
+
+    from app.window.workers import _bridge
+
+    class Count(QObject):
+        calls = 0
+
+        def eventFilter(self, _watched, event):  # noqa: N802 (Qt name)
+            if event.type() == QEvent.Type.MetaCall:  # a queued report from a worker
+                Count.calls += 1
+            return False
+
+    t = open_tables_window(qtbot, window)
+    type_into(qtbot, t.equation_edit, "x^3 - x - p")  # follows one root of a cubic
+    type_into(qtbot, t.unknown_edit, "x")
+    type_into(qtbot, t.sweep_name_edit, "p")
+    type_into(qtbot, t.sweep_from, "2")
+    type_into(qtbot, t.sweep_to, "40")
+    t.sweep_count.setFocus()
+    QTest.keyClick(t.sweep_count, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    qtbot.keyClicks(t.sweep_count, "5000")
+    QTest.mouseClick(t.sweep_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.model.rowCount() == 5000)
+    type_into(qtbot, t.x0_edit, "1.5")
+    counter = Count()
+    bridge = _bridge()
+    bridge.installEventFilter(counter)
+    try:
+        QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+        qtbot.waitUntil(lambda: t.done is not None, timeout=120_000)
+    finally:
+        bridge.removeEventFilter(counter)
+    batch = t.done.batch
+    assert int(batch.converged.sum()) == 5000
+    # the last row against the real root of x^3 - x - 40 (numpy.roots)
+    real = [r.real for r in np.roots([1, 0, -1, -40]) if abs(r.imag) < 1e-12]
+    assert batch.root[-1] == pytest.approx(real[0], rel=1e-14)
+    assert t.progress.value() == 1000
+    assert Count.calls <= 1000 + 10  # a thousandth of the work at a time, and the end
