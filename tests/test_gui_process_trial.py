@@ -283,3 +283,19 @@ def test_a_long_sweep_sends_the_window_no_more_progress_than_its_bar_can_show(qt
     assert batch.root[-1] == pytest.approx(real[0], rel=1e-14)
     assert t.progress.value() == 1000
     assert Count.calls <= 1000 + 10  # a thousandth of the work at a time, and the end
+
+
+def test_the_scan_summary_gives_the_range_in_the_unknowns_unit(qtbot, window):
+    w = window
+    type_drum(qtbot, w)
+    type_into(qtbot, w.inputs.fields["from"], "0.07")  # in L/mol, the unknown's unit
+    type_into(qtbot, w.inputs.fields["to"], "5")
+    settle(qtbot, w)
+    before = w.scan_result
+    QTest.keyClick(w.strip.editor, Qt.Key.Key_Return,
+                   Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.ShiftModifier)
+    qtbot.waitUntil(lambda: w.scan_result is not None and w.scan_result is not before
+                    and not w.runner.is_busy("scan"), timeout=30_000)
+    found = [r.x for r in w.scan_result.roots]
+    assert found == pytest.approx(list(drum_roots_l_per_mol()), rel=1e-9)  # numpy.roots
+    assert w.roots_summary.text().startswith("3 roots of f(v) in [0.07, 5] L/mol.")
