@@ -299,3 +299,34 @@ def test_the_scan_summary_gives_the_range_in_the_unknowns_unit(qtbot, window):
     found = [r.x for r in w.scan_result.roots]
     assert found == pytest.approx(list(drum_roots_l_per_mol()), rel=1e-9)  # numpy.roots
     assert w.roots_summary.text().startswith("3 roots of f(v) in [0.07, 5] L/mol.")
+
+
+def test_temperatures_in_degc_are_noted_once_in_the_status_line(qtbot, window):
+    """A made-up glycol cooler's heat balance with three temperatures in degC: the status
+    line said the same sentence about offsets three times, over three lines."""
+    w = window
+    type_equation(qtbot, w, "mh*cph*(Thi - Tho) = mc*cpc*(Tco - Tci)")
+    choose_unknown_by_keys(qtbot, w, "Tco")
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    values = {"mh": ("3.2", "kg/s"), "cph": ("3.9", "kJ/(kg*K)"), "Thi": ("118", "degC"),
+              "Tho": ("70", "degC"), "mc": ("2.6", "kg/s"), "cpc": ("4.1", "kJ/(kg*K)"),
+              "Tci": ("41", "degC")}
+    for name, (value, unit) in values.items():
+        row = model.names().index(name)
+        edit_cell(qtbot, view, row, model.VALUE, value)
+        edit_cell(qtbot, view, row, model.UNIT, unit)
+    unit_box = w.strip.unit_box
+    unit_box.setFocus()
+    qtbot.keyClicks(unit_box, "degC")
+    QTest.keyClick(unit_box, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
+                    and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
+    settle(qtbot, w)
+    status = w.strip.status.text()
+    assert status.count("converted to kelvin") == 1
+    assert "'Thi', 'Tho' and 'Tci' in degC/degF are absolute temperatures" in status
+    solution = solve_by_keys(qtbot, w)
+    # closed form of the balance: Tco = Tci + mh·cph·(Thi − Tho)/(mc·cpc)
+    expected = 41 + 3.2 * 3.9 * (118 - 70) / (2.6 * 4.1)
+    for run in solution.runs:
+        assert run.converged and run.root == pytest.approx(expected, rel=1e-12)
