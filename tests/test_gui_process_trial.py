@@ -330,3 +330,29 @@ def test_temperatures_in_degc_are_noted_once_in_the_status_line(qtbot, window):
     expected = 41 + 3.2 * 3.9 * (118 - 70) / (2.6 * 4.1)
     for run in solution.runs:
         assert run.converged and run.root == pytest.approx(expected, rel=1e-12)
+
+
+def test_the_exported_table_says_which_bracket_every_row_was_given(qtbot, window, dialogs,
+                                                                   tmp_path):
+    import csv
+
+    t = flash_table(qtbot, window)
+    type_into(qtbot, t.b_edit, "1")
+    before = t.done
+    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    dialogs.save_name = str(tmp_path / "flash.csv")
+    QTest.mouseClick(t.export_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: (tmp_path / "flash.csv").exists())
+    lines = (tmp_path / "flash.csv").read_text(encoding="utf-8").splitlines()
+    settings = next(line for line in lines if line.startswith("# settings:"))
+    # the bracket is how the file can be run again; it was missing from the # lines
+    assert "method=brent" in settings
+    assert "bracket_a=0.0" in settings and "bracket_b=1.0" in settings
+    rows = list(csv.DictReader(line for line in lines if not line.startswith('"#')
+                               and not line.startswith("#")))
+    for row, feed in zip(rows, FEEDS, strict=True):
+        if row["converged"] == "True":
+            assert float(row["root"]) == pytest.approx(vapour_fraction(*feed), abs=2e-12)
+        else:
+            assert row["reason"] == "no_sign_change" and row["root"] == ""
