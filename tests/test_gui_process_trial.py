@@ -356,3 +356,30 @@ def test_the_exported_table_says_which_bracket_every_row_was_given(qtbot, window
             assert float(row["root"]) == pytest.approx(vapour_fraction(*feed), abs=2e-12)
         else:
             assert row["reason"] == "no_sign_change" and row["root"] == ""
+
+
+def test_with_the_unknown_picked_for_the_user_a_missing_value_says_to_choose_it(qtbot,
+                                                                                 window):
+    """A cooler's balance (made up): every name has no value at first, so the first one,
+    mh, is taken as the unknown and has no row. Filling every row but Tho left "no value
+    for 'Tho' (the unknown is 'mh')" with no word on how to go on."""
+    w = window
+    type_equation(qtbot, w, "mh*cph*(Thi - Tho) = mc*cpc*(Tco - Tci)")
+    assert w.analysis.unknown == "mh" and w.analysis.ambiguous
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    for name, value in (("cph", "3900"), ("Thi", "118"), ("mc", "2.6"), ("cpc", "4100"),
+                        ("Tco", "86.2"), ("Tci", "41")):
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, value)
+    qtbot.waitUntil(lambda: w.analysis.missing == ("Tho",)
+                    and not w.runner.is_busy("preview"), timeout=10_000)
+    status = w.strip.status.text()
+    assert "no value for 'Tho'" in status and "choose one under Unknown" in status
+    choose_unknown_by_keys(qtbot, w, "Tho")
+    edit_cell(qtbot, view, model.names().index("mh"), model.VALUE, "3.2")
+    settle(qtbot, w)
+    qtbot.waitUntil(lambda: w.analysis.ok, timeout=10_000)
+    assert "choose one under Unknown" not in w.strip.status.text()
+    solution = solve_by_keys(qtbot, w)
+    expected = 118 - 2.6 * 4100 * (86.2 - 41) / (3.2 * 3900)  # closed form of the balance
+    assert all(r.converged and r.root == pytest.approx(expected, rel=1e-12)
+               for r in solution.runs)
