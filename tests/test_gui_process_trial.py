@@ -383,3 +383,26 @@ def test_with_the_unknown_picked_for_the_user_a_missing_value_says_to_choose_it(
     expected = 118 - 2.6 * 4100 * (86.2 - 41) / (3.2 * 3900)  # closed form of the balance
     assert all(r.converged and r.root == pytest.approx(expected, rel=1e-12)
                for r in solution.runs)
+
+
+def test_the_sheets_function_figure_spans_the_roots_the_methods_reached(qtbot, window,
+                                                                        dialogs, tmp_path):
+    import re
+
+    pypdf = pytest.importorskip("pypdf")
+    w = window
+    type_drum(qtbot, w)
+    solve_by_keys(qtbot, w)
+    target = tmp_path / "drum.pdf"
+    dialogs.save_name = str(target)
+    w.export_pdf_action.trigger()  # File ▸ Export calculation sheet (PDF)…
+    qtbot.waitUntil(lambda: w.report_result is not None and not w.runner.is_busy("report"),
+                    timeout=60_000)
+    text = " ".join(" ".join(page.extract_text().split())
+                    for page in pypdf.PdfReader(str(target)).pages)
+    caption = re.search(r"Figure 1\..*?over the bracket (?:and the roots, )?or the "
+                        r"iterates' span \[([-0-9.e]+), ([-0-9.e]+)\]", text)
+    assert caption, text[:2000]
+    lo, hi = float(caption.group(1)), float(caption.group(2))
+    vapour = drum_roots_l_per_mol()[2]  # numpy.roots; Newton–Raphson reaches it
+    assert lo < vapour < hi

@@ -488,7 +488,15 @@ def _plot_range(c: _Context, run: Run | None) -> tuple[float, float]:
     if c.scan is not None:
         return float(c.scan.a), float(c.scan.b)
     if c.solution.start.bracket is not None:
-        return c.solution.start.bracket
+        # with every converged root: an open method may converge outside the bracket
+        # (as the window's plot does; the bracket alone left that root off the figure)
+        roots = [r.root for r in c.solution.runs if r.converged and math.isfinite(r.root)]
+        a, b = c.solution.start.bracket
+        if all(a <= x <= b for x in roots):
+            return a, b
+        lo, hi = min(a, b, *roots), max(a, b, *roots)
+        pad = 0.1 * (hi - lo)
+        return lo - pad, hi + pad
     xs = [s.x for s in (run.steps if run else []) if math.isfinite(s.x)]
     if xs:
         lo, hi = min(xs), max(xs)
@@ -505,7 +513,8 @@ def _figures_section(c: _Context) -> list[Flowable]:
     run = _path_run(sol, c.ws)
     a, b = _plot_range(c, run)
     f, unknown = sol.equation.f, sol.equation.unknown
-    where = "the scan range" if c.scan is not None else "the bracket or the iterates' span"
+    where = ("the scan range" if c.scan is not None
+             else "the bracket and the roots, or the iterates' span")
     path = f" and the path of {_label(run.method)}" if run is not None else ""
     captions = (
         f"Figure 1. The function whose root is sought (left side minus right side) against "
