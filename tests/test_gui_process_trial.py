@@ -406,3 +406,16 @@ def test_the_sheets_function_figure_spans_the_roots_the_methods_reached(qtbot, w
     lo, hi = float(caption.group(1)), float(caption.group(2))
     vapour = drum_roots_l_per_mol()[2]  # numpy.roots; Newton–Raphson reaches it
     assert lo < vapour < hi
+
+
+def test_one_pasted_row_is_counted_as_one_row(qtbot, window):
+    t = flash_table(qtbot, window)
+    QGuiApplication.clipboard().setText("z1\tz2\tz3\tK1\r\n0.3\t0.3\t0.4\t4.2\r\n\r\n")
+    t.loaded, t.last_error = False, ""
+    QTest.mouseClick(t.paste_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=20_000)
+    assert t.status.text() == "1 row of z1, z2, z3, K1"  # said "1 rows"
+    before = t.done
+    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    assert float(t.done.batch.root[0]) == pytest.approx(vapour_fraction(*FEEDS[0]), abs=2e-12)

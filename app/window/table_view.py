@@ -284,7 +284,7 @@ class TableWindow(QWidget):
         self.against_box.blockSignals(False)
         self.view.fit_columns()
         rows = len(columns[0]) if columns else 0
-        text = f"{rows} rows of {', '.join(names)}"
+        text = f"{words.counted(rows, 'row')} of {', '.join(names)}"
         if not self._keepable():
             text += (f" (over {MAX_TABLE_CELLS} numbers: kept in this view, not in the "
                      "worksheet file; open it from its CSV file)")
