@@ -419,3 +419,35 @@ def test_one_pasted_row_is_counted_as_one_row(qtbot, window):
     QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
     qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
     assert float(t.done.batch.root[0]) == pytest.approx(vapour_fraction(*FEEDS[0]), abs=2e-12)
+
+
+def test_ctrl_return_solves_in_the_system_window_as_in_the_main_window(qtbot, window):
+    from gui_helpers import open_system_window, type_system
+
+    sw = open_system_window(qtbot, window)
+    type_system(qtbot, sw, "x^2 + y^2 = 4\nx*y = 1", ["x", "y"])
+    edit_cell(qtbot, sw.unknowns_view, 0, 1, "2")
+    edit_cell(qtbot, sw.unknowns_view, 1, 1, "0.3")
+    sw.editor.setFocus()
+    QTest.keyClick(sw.editor, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: sw.solution is not None
+                    and not sw.jobs.is_busy("system-solve"), timeout=20_000)
+    assert sw.editor.toPlainText() == "x^2 + y^2 = 4\nx*y = 1"
+    # by hand: x^2 = 2 + sqrt(3), y = 1/x for the root with x > y > 0
+    x = (2 + 3 ** 0.5) ** 0.5
+    for run in sw.solution.runs:
+        assert run.converged
+        assert run.root["x"] == pytest.approx(x, rel=1e-12)
+        assert run.root["y"] == pytest.approx(1 / x, rel=1e-12)
+
+
+def test_ctrl_return_runs_the_table_in_the_tables_window(qtbot, window):
+    t = flash_table(qtbot, window)
+    type_into(qtbot, t.b_edit, "1")
+    QTest.keyClick(t.b_edit, Qt.Key.Key_Return, Qt.KeyboardModifier.ControlModifier)
+    qtbot.waitUntil(lambda: t.done is not None, timeout=20_000)
+    batch = t.done.batch
+    for i, feed in enumerate(FEEDS):
+        if batch.converged[i]:
+            assert float(batch.root[i]) == pytest.approx(vapour_fraction(*feed), abs=2e-12)
+    assert int(batch.converged.sum()) == 4  # two feeds are all liquid

@@ -16,7 +16,7 @@ from typing import Any
 
 import numpy as np
 from PySide6.QtCore import Qt, Signal
-from PySide6.QtGui import QGuiApplication
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
@@ -112,6 +112,7 @@ class TableWindow(QWidget):
         self.x0_edit, self.x1_edit = QLineEdit(), QLineEdit()
         self.a_edit, self.b_edit = QLineEdit(), QLineEdit()
         self.run_button = QPushButton("&Run")
+        self.run_button.setToolTip("Solve every row (Ctrl+Return)")
         self.cancel_button = QPushButton("&Cancel")
         self.cancel_button.setEnabled(False)
         self.progress = QProgressBar()
@@ -174,6 +175,10 @@ class TableWindow(QWidget):
         self.paste_button.clicked.connect(self.paste_table)
         self.sweep_button.clicked.connect(self.make_sweep)
         self.run_button.clicked.connect(self.run)
+        run_keys = QAction(self)  # Ctrl+Return runs, as it solves in the main window
+        run_keys.setShortcuts([QKeySequence("Ctrl+Return"), QKeySequence("Ctrl+Enter")])
+        run_keys.triggered.connect(lambda: self.run_button.isEnabled() and self.run())
+        self.addAction(run_keys)
         self.cancel_button.clicked.connect(self.cancel)
         self.export_button.clicked.connect(self.export_csv)
         self.sheet_button.clicked.connect(self.export_sheet)
