@@ -451,3 +451,21 @@ def test_ctrl_return_runs_the_table_in_the_tables_window(qtbot, window):
         if batch.converged[i]:
             assert float(batch.root[i]) == pytest.approx(vapour_fraction(*feed), abs=2e-12)
     assert int(batch.converged.sum()) == 4  # two feeds are all liquid
+
+
+def test_the_convergence_plot_names_the_residuals_and_the_steps_units(qtbot, window):
+    w = window
+    type_drum(qtbot, w)
+    solution = solve_by_keys(qtbot, w)
+    assert any(abs(r.root - drum_roots_l_per_mol()[2]) < 1e-9 for r in solution.runs)
+    w.activateWindow()
+    QTest.keyClick(w, Qt.Key.Key_2, Qt.KeyboardModifier.ControlModifier)  # the view
+    qtbot.waitUntil(lambda: bool(w.plot.convergence_view.figure.axes))
+    ax = w.plot.convergence_view.figure.axes[0]
+    assert ax.get_ylabel() == "|f(v_k)| [Pa]"  # the function plot's f(v) [Pa]
+    box = w.plot.quantity_box
+    box.setFocus()
+    while box.currentData() != "step":
+        QTest.keyClick(box, Qt.Key.Key_Down)
+    qtbot.waitUntil(lambda: w.plot.convergence_view.figure.axes[0].get_ylabel()
+                    == "|Δv_k| [L/mol]")

@@ -339,13 +339,17 @@ def convergence_series(run: Run, quantity: str = "residual") -> tuple[list[int],
     return ks, vs
 
 
-def convergence_label(quantity: str = "residual", unknown: str = "x") -> str:
-    """The y-axis title of a convergence plot, in the unknown's name: |f(V_k)|, |ΔV_k|."""
+def convergence_label(quantity: str = "residual", unknown: str = "x", *,
+                      unit: str | None = None, f_unit: str | None = None) -> str:
+    """The y-axis title of a convergence plot, in the unknown's name: |f(V_k)|, |ΔV_k|;
+    with the residual's ``f_unit`` or the unknown's ``unit`` when known (|f(v_k)| [Pa],
+    |Δv_k| [L/mol]), as the function plot's axes and the tables' headings name them."""
     label, _pick = CONVERGENCE_QUANTITIES[quantity]
-    if unknown == "x":
-        return label
-    return {"residual": f"|{residual_name(unknown)}({unknown}_k)|",
-            "step": f"|Δ{unknown}_k|"}.get(quantity, label)
+    if unknown != "x":
+        label = {"residual": f"|{residual_name(unknown)}({unknown}_k)|",
+                 "step": f"|Δ{unknown}_k|"}.get(quantity, label)
+    in_unit = {"residual": f_unit, "step": unit}.get(quantity)
+    return f"{label} [{in_unit}]" if in_unit else label
 
 
 def iterate_axis(ax: Any) -> None:
@@ -358,14 +362,16 @@ def iterate_axis(ax: Any) -> None:
 
 
 def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual",
-                     unknown: str = "x") -> None:
+                     unknown: str = "x", unit: str | None = None,
+                     f_unit: str | None = None) -> None:
     """|f(x_k)| (quantity="residual") or |Δx_k| ("step") against k, log y-axis, every run,
-    with the axis named after the unknown.
+    with the axis named after the unknown and in its unit (``unit``) or the residual's
+    (``f_unit``) when known.
 
     A run that did not converge is drawn dashed; an iterate where the value is exactly
     zero cannot sit on a log axis and is left out (the table still shows it).
     """
-    label = convergence_label(quantity, unknown)
+    label = convergence_label(quantity, unknown, unit=unit, f_unit=f_unit)
     any_points = False
     markers = {"newton": "o", "secant": "s", "false_position": "^", "illinois": "v",
                "bisection": "D", "brent": "P"}

@@ -527,7 +527,9 @@ def _figures_section(c: _Context) -> list[Flowable]:
         lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run, unknown=unknown,
                                          unit=getattr(sol.equation, "unknown_unit", None),
                                          f_unit=sol.equation.residual_unit(derived=True)),
-        lambda ax: figures.draw_convergence(ax, list(sol.runs), unknown=unknown),
+        lambda ax: figures.draw_convergence(ax, list(sol.runs), unknown=unknown,
+                                            unit=getattr(sol.equation, "unknown_unit", None),
+                                            f_unit=sol.equation.residual_unit(derived=True)),
     )
     for caption, draw in zip(captions, draws, strict=True):
         try:
