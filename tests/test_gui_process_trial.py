@@ -469,3 +469,25 @@ def test_the_convergence_plot_names_the_residuals_and_the_steps_units(qtbot, win
         QTest.keyClick(box, Qt.Key.Key_Down)
     qtbot.waitUntil(lambda: w.plot.convergence_view.figure.axes[0].get_ylabel()
                     == "|Δv_k| [L/mol]")
+
+
+def test_a_rows_lane_shows_several_iterates_without_scrolling(qtbot, window):
+    from app.window.table_view import LANE_ROWS
+
+    t = flash_table(qtbot, window)
+    type_into(qtbot, t.b_edit, "1")
+    before = t.done
+    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    view = t.view
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton,
+                     pos=view.visualRect(t.model.index(0, 0)).center())
+    QTest.keyClick(view, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: t.lane is not None and t.lane_row == 0)
+    table = t.lane.table
+    qtbot.waitUntil(lambda: table.isVisible() and table.viewport().height() > 0)
+    assert t.lane.run.root == pytest.approx(vapour_fraction(*FEEDS[0]), abs=2e-12)  # brentq
+    assert len(t.lane.run.steps) > LANE_ROWS
+    # the rows in sight: the lane once showed two and a half of them
+    shown = table.viewport().height() // table.verticalHeader().defaultSectionSize()
+    assert shown >= LANE_ROWS

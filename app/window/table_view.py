@@ -56,6 +56,9 @@ def _number(text: str) -> float | None:
     return value
 
 
+LANE_ROWS = 6  # iterates a row's lane shows without scrolling
+
+
 def _show_number(edit: QLineEdit, value: float | None) -> None:
     """Put ``value`` (exact, ``repr``) in ``edit`` showing its first digits: setText leaves
     the cursor at the end, and a number longer than the field then showed only its tail
@@ -583,6 +586,11 @@ class TableWindow(QWidget):
                 self.lane.setParent(None)
                 self.lane.deleteLater()
             self.lane = MethodLane(batch.method)
+            # room for a few iterates: the splitter's share left it two rows and a half
+            rows = self.lane.table.verticalHeader().defaultSectionSize()
+            self.lane.table.setMinimumHeight(LANE_ROWS * rows
+                                             + self.lane.table.horizontalHeader().sizeHint()
+                                             .height() + 4)
             self.lane_holder.addWidget(self.lane)
         self.lane.set_run(run, batch.equation.unknown, batch.equation.unknown_unit,
                           batch.equation.residual_unit(derived=True))
