@@ -339,13 +339,17 @@ def convergence_series(run: Run, quantity: str = "residual") -> tuple[list[int],
     return ks, vs
 
 
-def convergence_label(quantity: str = "residual", unknown: str = "x") -> str:
-    """The y-axis title of a convergence plot, in the unknown's name: |f(V_k)|, |ΔV_k|."""
+def convergence_label(quantity: str = "residual", unknown: str = "x", *,
+                      unit: str | None = None, f_unit: str | None = None) -> str:
+    """The y-axis title of a convergence plot, in the unknown's name: |f(V_k)|, |ΔV_k|;
+    with the residual's ``f_unit`` or the unknown's ``unit`` when known (|f(v_k)| [Pa],
+    |Δv_k| [L/mol]), as the function plot's axes and the tables' headings name them."""
     label, _pick = CONVERGENCE_QUANTITIES[quantity]
-    if unknown == "x":
-        return label
-    return {"residual": f"|{residual_name(unknown)}({unknown}_k)|",
-            "step": f"|Δ{unknown}_k|"}.get(quantity, label)
+    if unknown != "x":
+        label = {"residual": f"|{residual_name(unknown)}({unknown}_k)|",
+                 "step": f"|Δ{unknown}_k|"}.get(quantity, label)
+    in_unit = {"residual": f_unit, "step": unit}.get(quantity)
+    return f"{label} [{in_unit}]" if in_unit else label
 
 
 def iterate_axis(ax: Any) -> None:
@@ -358,14 +362,16 @@ def iterate_axis(ax: Any) -> None:
 
 
 def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual",
-                     unknown: str = "x") -> None:
+                     unknown: str = "x", unit: str | None = None,
+                     f_unit: str | None = None) -> None:
     """|f(x_k)| (quantity="residual") or |Δx_k| ("step") against k, log y-axis, every run,
-    with the axis named after the unknown.
+    with the axis named after the unknown and in its unit (``unit``) or the residual's
+    (``f_unit``) when known.
 
     A run that did not converge is drawn dashed; an iterate where the value is exactly
     zero cannot sit on a log axis and is left out (the table still shows it).
     """
-    label = convergence_label(quantity, unknown)
+    label = convergence_label(quantity, unknown, unit=unit, f_unit=f_unit)
     any_points = False
     markers = {"newton": "o", "secant": "s", "false_position": "^", "illinois": "v",
                "bisection": "D", "brent": "P"}
@@ -407,6 +413,48 @@ def design_chart_data(values: Any, batch: Any) -> tuple[Any, Any, Any, list[floa
     return x[good][order], root[good][order], x[~good & np.isfinite(x)], ends
 
 
+# Log axes spanning less than this many decades also label 2 and 5 within each decade.
+FEW_DECADES = 2.0
+
+
+def plain_log_labels(axis: Any) -> None:
+    """Label a log axis spanning under :data:`FEW_DECADES` decades with plain numbers
+    (0.05, 0.1, 0.2; 2, 5, 10, 20): each decade, and 2 and 5 within it; a wider span
+    (the view as zoomed, read at each draw) by its decades alone, as powers of ten.
+
+    matplotlib's own labels on a span of one or two decades are "2×10⁰ 3×10⁰ 4×10⁰ 6×10⁰",
+    set so close that neighbours ran into each other on a chart a few hundred pixels wide.
+    """
+    from matplotlib.ticker import Formatter, LogFormatterSciNotation
+
+    class _Labels(Formatter):
+        def __init__(self, minor: bool) -> None:
+            self.minor = minor
+            self.powers = LogFormatterSciNotation()
+
+        def set_axis(self, axis: Any) -> None:
+            super().set_axis(axis)
+            self.powers.set_axis(axis)
+
+        def set_locs(self, locs: Any) -> None:
+            self.powers.set_locs(locs)
+
+        def __call__(self, x: float, pos: Any = None) -> str:
+            if not (x > 0 and math.isfinite(x)):
+                return ""
+            lo, hi = sorted(self.axis.get_view_interval())
+            few = lo > 0 and math.log10(hi / lo) < FEW_DECADES
+            if not few:
+                return "" if self.minor else self.powers(x, pos)
+            mantissa = round(x / 10.0 ** math.floor(math.log10(x) + 1e-9), 6)
+            if self.minor and mantissa not in (2, 5):
+                return ""
+            return f"{x:g}"
+
+    axis.set_major_formatter(_Labels(minor=False))
+    axis.set_minor_formatter(_Labels(minor=True))
+
+
 def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: str,
                       log_x: bool = False, log_y: bool = False, line: bool = True,
                       x_unit: str = "", unit: str | None = None) -> int:
@@ -441,8 +489,10 @@ def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: s
                    label="branch ended" if i == 0 else None, zorder=2)
     if log_x:
         ax.set_xscale("log")
+        plain_log_labels(ax.xaxis)
     if log_y:
         ax.set_yscale("log")
+        plain_log_labels(ax.yaxis)
     ax.set_xlabel(f"{name} [{x_unit}]" if x_unit else name)
     ax.set_ylabel(f"{unknown} [{unit}]" if unit else unknown)
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6, zorder=0)

@@ -258,9 +258,28 @@ def table_metadata(equation_text: str, equation: Any, batch: Any,
     units = {k: c for k, c in equation.units.items() if k in constants}
     return metadata(equation=equation_text, unknown=equation.unknown,
                     parameters=constants_as_entered(equation, constants),
-                    settings={"method": batch.method, **batch.settings}, extra=extra,
+                    settings={"method": batch.method, **batch.settings,
+                              **common_starts(batch)}, extra=extra,
                     units=units, unknown_unit=equation.unknown_unit, remarks=equation.remarks,
                     residual_unit=equation.residual_unit())
+
+
+def common_starts(batch: Any) -> dict[str, float]:
+    """The start values every row was given alike (``x0``, ``x1``, ``bracket_a``,
+    ``bracket_b``, in the unknown's unit), for the settings line: without them a checker
+    could not run the table again. A start value that differs by row is in its column; a
+    sweep's rows start from the root before them, and its ``x0`` is the first row's."""
+    out = {}
+    sweep = "swept" in batch.settings
+    for key, name in (("x0", "x0"), ("x1", "x1"), ("a", "bracket_a"), ("b", "bracket_b")):
+        value = batch.starts.get(key)
+        if value is None or np.size(value) == 0:
+            continue
+        if np.ndim(value) == 0:
+            out[name] = float(value)
+        elif sweep:
+            out[name] = float(np.asarray(value).flat[0])
+    return out
 
 
 def constants_as_entered(equation: Any, constants: Mapping[str, Any]) -> dict[str, float]:

@@ -306,7 +306,7 @@ class PlotPanel(QTabWidget):
         self._convergence_stale = False
         ax = self.convergence_view.new_axes()
         figures.draw_convergence(ax, self._runs, quantity=self.quantity_box.currentData(),
-                                 unknown=self._unknown)
+                                 unknown=self._unknown, unit=self._unit, f_unit=self._f_unit)
         self.convergence_view.fit_margins()
         self.convergence_view.redraw()
 

@@ -77,6 +77,9 @@ class Analysis:
         return self.equation is not None and not self.error
 
 
+CHOOSE_UNKNOWN = "Several names could be the unknown: choose one under Unknown."
+
+
 def choose_unknown(names: Sequence[str], chosen: str | None, values: Mapping[str, Any],
                    previous: str | None) -> tuple[str | None, bool]:
     """The unknown to solve for, and whether the choice was ambiguous.
@@ -501,7 +504,7 @@ class EquationStrip(QWidget):
             unit = getattr(analysis.equation, "unknown_unit", None)
             message = f"Ready: solving for {analysis.unknown}" + (f" in {unit}." if unit else ".")
             if analysis.ambiguous:
-                message += " Several names could be the unknown: choose one under Unknown."
+                message += " " + CHOOSE_UNKNOWN
             if analysis.notes:
                 message += "  " + "  ".join(analysis.notes)
             self._set_status(message, ok=not analysis.ambiguous)
@@ -509,7 +512,11 @@ class EquationStrip(QWidget):
             where = ""
             if analysis.position is not None and "column" not in analysis.error:
                 where = f"column {analysis.position + 1}: "
-            self._set_status(where + analysis.error, ok=False)
+            # The unknown picked for the user (the first of several names without a value)
+            # has no row in the table, so it can never be given one: the only way on is to
+            # choose the unknown, which "no value for 'Tho' (the unknown is 'mh')" left unsaid.
+            hint = f" {CHOOSE_UNKNOWN}" if analysis.ambiguous and analysis.missing else ""
+            self._set_status(where + analysis.error + hint, ok=False)
 
     def _show_typeset(self, analysis: Analysis) -> None:
         if not analysis.latex:

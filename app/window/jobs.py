@@ -15,19 +15,26 @@ from app.documents.worksheet import Worksheet
 
 
 def plot_range(ws: Worksheet, solution: Any = None) -> tuple[float, float]:
-    """Where to draw f: the scan range, else the bracket widened, else around x0 or the roots."""
+    """Where to draw f: the scan range, else the bracket and every converged root widened,
+    else around x0 and the roots.
+
+    An open method may converge outside the bracket the bracketing methods were given (or
+    that was grown around x0): a plot of the bracket alone then showed neither that root
+    nor the path to it, while the lanes reported it.
+    """
     if ws.scan is not None:
         return ws.scan
     start = solution.start if solution is not None else None
     bracket = ws.settings.bracket or (start.bracket if start is not None else None)
+    roots = [] if solution is None else [r.root for r in solution.runs
+                                         if r.converged and math.isfinite(r.root)]
     if bracket is not None:
-        a, b = bracket
-        pad = 0.15 * (b - a)
-        return (a - pad, b + pad)
+        lo, hi = min(*bracket, *roots), max(*bracket, *roots)
+        pad = 0.15 * (hi - lo)
+        return (lo - pad, hi + pad)
     points = [x for x in (ws.settings.x0, start.x0 if start is not None else None)
               if x is not None]
-    if solution is not None:
-        points += [r.root for r in solution.runs if r.converged and math.isfinite(r.root)]
+    points += roots
     if not points:
         return (-10.0, 10.0)
     lo, hi = min(points), max(points)

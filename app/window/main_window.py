@@ -377,8 +377,8 @@ class MainWindow(QMainWindow):
                                 runs=current.runs if current is not None else (), curve=curve)
         self.document.refresh_stale(self.solve_worksheet())
         self._show_stale(self.document.stale)
-        self.statusBar().showMessage(
-            f"Scan done: {scan_summary(scan, equation.unknown).splitlines()[0]}", 8000)
+        summary = scan_summary(scan, equation.unknown, equation.unknown_unit)
+        self.statusBar().showMessage(f"Scan done: {summary.splitlines()[0]}", 8000)
 
     def _on_scan_error(self, message: str) -> None:
         self.roots.scan_ended()

@@ -90,7 +90,11 @@ class _RecordModel(QAbstractTableModel):
             if role == Qt.ItemDataRole.DisplayRole:
                 return self.columns[section].title
             if role == Qt.ItemDataRole.ToolTipRole:
-                return self.columns[section].tip or None
+                # the heading as the subclass shows it (with the unknown and units), whole
+                # even where the column is too narrow for it, then what the column holds
+                heading = self.headerData(section, orientation, Qt.ItemDataRole.DisplayRole)
+                tip = self.columns[section].tip
+                return f"{heading}: {tip}" if tip else heading
         return None
 
     def raw(self, row: int, column: int) -> Any:

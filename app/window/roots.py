@@ -38,23 +38,25 @@ def _short(x: float) -> str:
     return format_number(x, 6)
 
 
-def _listed(count: int, word: str, plural: str, xs: list[float]) -> str:
+def _listed(count: int, word: str, plural: str, xs: list[float], unit: str = "") -> str:
     return (f"{count} {word if count == 1 else plural} at "
-            + ", ".join(_short(p) for p in xs[:4]) + ("…" if len(xs) > 4 else ""))
+            + ", ".join(_short(p) for p in xs[:4]) + ("…" if len(xs) > 4 else "") + unit)
 
 
-def scan_summary(scan: Any, unknown: str) -> str:
-    """Roots, poles, jumps and gaps of a scan in one line, then its warnings."""
+def scan_summary(scan: Any, unknown: str, unit: str | None = None) -> str:
+    """Roots, poles, jumps and gaps of a scan in one line, then its warnings; the range
+    and the places in the unknown's ``unit`` when it has one (the range is typed in it)."""
     roots = len(scan.roots)
+    in_unit = f" {unit}" if unit else ""
     parts = [f"{roots} root{'s' if roots != 1 else ''} of "
              f"{residual_name(unknown)}({unknown}) in "
-             f"[{_num(scan.a)}, {_num(scan.b)}]"]
+             f"[{_num(scan.a)}, {_num(scan.b)}]{in_unit}"]
     poles = list(scan.poles)
     if poles:
-        parts.append(_listed(len(poles), "pole", "poles", poles))
+        parts.append(_listed(len(poles), "pole", "poles", poles, in_unit))
     jumps = list(scan.discontinuities)
     if jumps:
-        parts.append(_listed(len(jumps), "jump", "jumps", jumps))
+        parts.append(_listed(len(jumps), "jump", "jumps", jumps, in_unit))
     if scan.gaps:
         parts.append(f"undefined on {len(scan.gaps)} stretch"
                      f"{'es' if len(scan.gaps) != 1 else ''}")
@@ -71,6 +73,7 @@ class RootsPanel(QGroupBox):
     def __init__(self) -> None:
         super().__init__("Roots in range")
         self.model = RootsModel(self)
+        self._unit: str | None = None  # the unknown's unit of the scan shown
         self.view = CopyTableView()
         self.view.setObjectName("rootsView")
         self.view.setModel(self.model)
@@ -148,6 +151,7 @@ class RootsPanel(QGroupBox):
         """List ``scan``'s roots under headings in ``unknown``'s name and ``unit`` (and
         the residual's ``f_unit``)."""
         self.model.set_roots(scan.roots, unknown, unit, f_unit)
+        self._unit = unit
         self.set_stale(False, scan, unknown)
         self.size_columns()
         if self.model.rowCount():
@@ -158,7 +162,8 @@ class RootsPanel(QGroupBox):
         self.view.setEnabled(not stale)
         self.polish_button.setEnabled(not stale)
         if scan is not None:
-            self.summary.setText((STALE_SCAN if stale else "") + scan_summary(scan, unknown))
+            self.summary.setText((STALE_SCAN if stale else "")
+                                 + scan_summary(scan, unknown, self._unit))
 
     def show_design_value(self, selection: Any, unit: str | None = None) -> None:
         if selection is None:

@@ -112,6 +112,13 @@ class SystemWindow(QWidget):
         self.solve_button = QPushButton("&Solve")
         self.solve_button.setObjectName("systemSolve")
         self.solve_button.clicked.connect(self.solve)
+        # Ctrl+Return solves, as in the main window (it did nothing here: a habit from the
+        # main window met silence)
+        self.solve_button.setToolTip("Solve the system by every method chosen (Ctrl+Return)")
+        solve_keys = QAction(self)
+        solve_keys.setShortcuts([QKeySequence("Ctrl+Return"), QKeySequence("Ctrl+Enter")])
+        solve_keys.triggered.connect(self.solve)
+        self.addAction(solve_keys)
         self.cancel_button = QPushButton("&Cancel")
         self.cancel_button.setObjectName("systemCancel")
         self.cancel_button.setEnabled(False)

@@ -16,7 +16,7 @@ from typing import Any
 
 import numpy as np
 from PySide6.QtCore import Qt, Signal
-from PySide6.QtGui import QGuiApplication
+from PySide6.QtGui import QAction, QGuiApplication, QKeySequence
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
@@ -54,6 +54,17 @@ def _number(text: str) -> float | None:
     if value is None:
         raise ValueError(words.not_a_number(text))
     return value
+
+
+LANE_ROWS = 6  # iterates a row's lane shows without scrolling
+
+
+def _show_number(edit: QLineEdit, value: float | None) -> None:
+    """Put ``value`` (exact, ``repr``) in ``edit`` showing its first digits: setText leaves
+    the cursor at the end, and a number longer than the field then showed only its tail
+    ("7988198217209432" for 2.7988198217209432)."""
+    edit.setText("" if value is None else repr(float(value)))
+    edit.setCursorPosition(0)
 
 
 class TableWindow(QWidget):
@@ -104,6 +115,7 @@ class TableWindow(QWidget):
         self.x0_edit, self.x1_edit = QLineEdit(), QLineEdit()
         self.a_edit, self.b_edit = QLineEdit(), QLineEdit()
         self.run_button = QPushButton("&Run")
+        self.run_button.setToolTip("Solve every row (Ctrl+Return)")
         self.cancel_button = QPushButton("&Cancel")
         self.cancel_button.setEnabled(False)
         self.progress = QProgressBar()
@@ -136,7 +148,9 @@ class TableWindow(QWidget):
         self.view.setModel(self.model)
         self.view.verticalHeader().setVisible(True)  # row numbers, as messages count them
         self.view.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
-        self.view.doubleClicked.connect(lambda index: self.open_row(index.row()))
+        # activated: a double-click, and Return or Enter on the current row (the keyboard's
+        # way to a row's lane; doubleClicked alone left it to the mouse)
+        self.view.activated.connect(lambda index: self.open_row(index.row()))
         self.chart = FigureView(name="design", placeholder="The design chart (the root "
                                 "against a column) is drawn when the table is run.")
         self.against_box = QComboBox()
@@ -164,6 +178,10 @@ class TableWindow(QWidget):
         self.paste_button.clicked.connect(self.paste_table)
         self.sweep_button.clicked.connect(self.make_sweep)
         self.run_button.clicked.connect(self.run)
+        run_keys = QAction(self)  # Ctrl+Return runs, as it solves in the main window
+        run_keys.setShortcuts([QKeySequence("Ctrl+Return"), QKeySequence("Ctrl+Enter")])
+        run_keys.triggered.connect(lambda: self.run_button.isEnabled() and self.run())
+        self.addAction(run_keys)
         self.cancel_button.clicked.connect(self.cancel)
         self.export_button.clicked.connect(self.export_csv)
         self.sheet_button.clicked.connect(self.export_sheet)
@@ -233,6 +251,7 @@ class TableWindow(QWidget):
         calculation sheet)."""
         self.worksheet = worksheet
         self.equation_edit.setText(equation)
+        self.equation_edit.setCursorPosition(0)  # its beginning in sight, not its end
         self.unknown_edit.setText(unknown or "")
         self.constants = dict(constants)
         self.settings = dict(settings)
@@ -244,7 +263,7 @@ class TableWindow(QWidget):
             for edit, value in ((self.x0_edit, ws_settings.x0), (self.x1_edit, ws_settings.x1),
                                 (self.a_edit, bracket[0]), (self.b_edit, bracket[1])):
                 if value is not None and not edit.text().strip():
-                    edit.setText(repr(float(value)))
+                    _show_number(edit, value)
 
     def say(self, text: str) -> None:
         self.last_error = ""
@@ -273,7 +292,7 @@ class TableWindow(QWidget):
         self.against_box.blockSignals(False)
         self.view.fit_columns()
         rows = len(columns[0]) if columns else 0
-        text = f"{rows} rows of {', '.join(names)}"
+        text = f"{words.counted(rows, 'row')} of {', '.join(names)}"
         if not self._keepable():
             text += (f" (over {MAX_TABLE_CELLS} numbers: kept in this view, not in the "
                      "worksheet file; open it from its CSV file)")
@@ -345,7 +364,7 @@ class TableWindow(QWidget):
         for edit, value in ((self.x0_edit, inputs.x0), (self.x1_edit, inputs.x1),
                             (self.a_edit, inputs.bracket[0] if inputs.bracket else None),
                             (self.b_edit, inputs.bracket[1] if inputs.bracket else None)):
-            edit.setText("" if value is None else repr(float(value)))
+            _show_number(edit, value)
         for widget in with_signals_blocked:
             widget.blockSignals(False)
         if inputs.kind == "sweep":
@@ -567,6 +586,11 @@ class TableWindow(QWidget):
                 self.lane.setParent(None)
                 self.lane.deleteLater()
             self.lane = MethodLane(batch.method)
+            # room for a few iterates: the splitter's share left it two rows and a half
+            rows = self.lane.table.verticalHeader().defaultSectionSize()
+            self.lane.table.setMinimumHeight(LANE_ROWS * rows
+                                             + self.lane.table.horizontalHeader().sizeHint()
+                                             .height() + 4)
             self.lane_holder.addWidget(self.lane)
         self.lane.set_run(run, batch.equation.unknown, batch.equation.unknown_unit,
                           batch.equation.residual_unit(derived=True))

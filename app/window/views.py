@@ -133,8 +133,9 @@ class CopyTableView(QTableView):
         self.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
         self.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         self.horizontalHeader().setStretchLastSection(True)
-        # A heading wider than its column ends in "…" (Qt's header clips silently: "f′(th)
-        # [m^3/s/deg]" read "th) [m^3/s/de"), as a cell too narrow for its figures does
+        # A heading wider than its column keeps its start and ends in "…" (Qt's headers
+        # clip both ends by default: "f′(v) [Pa/(L/mol)]" read "(v) [Pa/(L/mol)", the
+        # derivative's name gone); the models give the whole heading in the tooltip.
         self.horizontalHeader().setTextElideMode(Qt.TextElideMode.ElideRight)
         self.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
         self.customContextMenuRequested.connect(self._menu)

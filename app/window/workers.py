@@ -119,6 +119,8 @@ class _Running:
     done: bool = False
 
 
+PROGRESS_STEP = 0.001  # the smallest change of progress sent to the UI (bars of 1000 steps)
+
 # What a job can report, and which callback of its request takes it (None: progress).
 _FINAL = {"done": "on_done", "failed": "on_error", "cancelled": "on_cancel"}
 
@@ -132,8 +134,17 @@ def _run(runner_ref: weakref.ReferenceType, running: _Running, bridge: _Bridge) 
         except RuntimeError:  # the application is shutting down: nobody to tell
             pass
 
+    # A job may report after every row of a table (10^5 calls): each report is an event
+    # the UI thread must take in turn, and a queue that never empties starves its timers
+    # and input. Only a change the progress bar can show is sent (a thousandth), and the
+    # end of the work.
+    shown = [-1.0]
+
     def progress(fraction: float) -> None:
-        if not running.cancel.is_set():
+        if running.cancel.is_set():
+            return
+        if fraction >= 1.0 or fraction - shown[0] >= PROGRESS_STEP or fraction < shown[0]:
+            shown[0] = fraction
             post("progress", fraction)
 
     try:

@@ -508,7 +508,15 @@ def _plot_range(c: _Context, run: Run | None) -> tuple[float, float]:
     if c.scan is not None:
         return float(c.scan.a), float(c.scan.b)
     if c.solution.start.bracket is not None:
-        return c.solution.start.bracket
+        # with every converged root: an open method may converge outside the bracket
+        # (as the window's plot does; the bracket alone left that root off the figure)
+        roots = [r.root for r in c.solution.runs if r.converged and math.isfinite(r.root)]
+        a, b = c.solution.start.bracket
+        if all(a <= x <= b for x in roots):
+            return a, b
+        lo, hi = min(a, b, *roots), max(a, b, *roots)
+        pad = 0.1 * (hi - lo)
+        return lo - pad, hi + pad
     xs = [s.x for s in (run.steps if run else []) if math.isfinite(s.x)]
     if xs:
         lo, hi = min(xs), max(xs)
@@ -525,7 +533,8 @@ def _figures_section(c: _Context) -> list[Flowable]:
     run = _path_run(sol, c.ws)
     a, b = _plot_range(c, run)
     f, unknown = sol.equation.f, sol.equation.unknown
-    where = "the scan range" if c.scan is not None else "the bracket or the iterates' span"
+    where = ("the scan range" if c.scan is not None
+             else "the bracket and the roots, or the iterates' span")
     path = f" and the path of {_label(run.method)}" if run is not None else ""
     captions = (
         f"Figure 1. The function whose root is sought (left side minus right side) against "
@@ -538,7 +547,9 @@ def _figures_section(c: _Context) -> list[Flowable]:
         lambda ax: figures.draw_function(ax, f, a, b, scan=c.scan, run=run, unknown=unknown,
                                          unit=getattr(sol.equation, "unknown_unit", None),
                                          f_unit=sol.equation.residual_unit(derived=True)),
-        lambda ax: figures.draw_convergence(ax, list(sol.runs), unknown=unknown),
+        lambda ax: figures.draw_convergence(ax, list(sol.runs), unknown=unknown,
+                                            unit=getattr(sol.equation, "unknown_unit", None),
+                                            f_unit=sol.equation.residual_unit(derived=True)),
     )
     for caption, draw in zip(captions, draws, strict=True):
         try:

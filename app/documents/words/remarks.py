@@ -82,8 +82,26 @@ def remark_text(remark: Any) -> str:
 
 
 def remarks_text(remarks: Iterable[Any]) -> tuple[str, ...]:
-    """Every remark of an equation (``Equation.remarks``) as sentences, in order."""
-    return tuple(remark_text(r) for r in remarks)
+    """Every remark of an equation (``Equation.remarks``) as sentences, in order; the
+    parameters given in degC or degF named in one sentence, where the first of them stands
+    (a heat balance with three temperatures said the same long sentence three times)."""
+    remarks = tuple(remarks)
+    temperatures = [r.subject for r in remarks if r.code == "absolute_temperature"]
+    out: list[str] = []
+    for r in remarks:
+        if r.code != "absolute_temperature" or len(temperatures) == 1:
+            out.append(remark_text(r))
+        elif r.subject == temperatures[0]:
+            out.append(absolute_temperatures_text(temperatures))
+    return tuple(out)
+
+
+def absolute_temperatures_text(names: Sequence[str]) -> str:
+    """Several parameters in degC/degF: each an absolute temperature (one sentence)."""
+    quoted = [f"'{n}'" for n in names]
+    listed = ", ".join(quoted[:-1]) + " and " + quoted[-1]
+    return (f"{listed} in degC/degF are absolute temperatures, converted to kelvin with the "
+            "offset (type delta_degC or delta_degF for a difference)")
 
 
 # ----------------------------------------------------------------- help (F1)
