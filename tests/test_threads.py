@@ -111,6 +111,24 @@ def test_results_reach_the_ui_thread_newest_wins(qtbot):
     assert runner.stop() == []
 
 
+def test_a_window_process_hands_the_interpreter_back_within_a_millisecond(qtbot):
+    # CPython's default switch interval (5 ms) let a computing worker keep the window's
+    # thread waiting 120-180 ms at a stretch (benchmarks/bench_gui.py, a heavy scan); the
+    # runner of the window's jobs shortens it for the process, and never lengthens it
+    from app.window.workers import WINDOW_SWITCH_INTERVAL, JobRunner
+
+    before = sys.getswitchinterval()
+    try:
+        sys.setswitchinterval(0.005)
+        JobRunner().stop()
+        assert sys.getswitchinterval() <= WINDOW_SWITCH_INTERVAL <= 0.001
+        sys.setswitchinterval(0.0005)  # a process that asked for less keeps it
+        JobRunner().stop()
+        assert sys.getswitchinterval() == pytest.approx(0.0005)
+    finally:
+        sys.setswitchinterval(before)
+
+
 def test_cancel_reaches_the_work_and_reports_cancelled(qtbot):
     from app.window.workers import JobRunner
 

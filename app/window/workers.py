@@ -36,6 +36,7 @@ Solve twice never shows the older answer last.
 from __future__ import annotations
 
 import queue
+import sys
 import threading
 import time
 import traceback
@@ -180,6 +181,11 @@ def _stop_lanes(queues: dict[str, queue.SimpleQueue]) -> None:
         jobs.put(None)
 
 
+WINDOW_SWITCH_INTERVAL = 0.001
+"""Seconds a thread may run Python before another waiting for the interpreter gets it, in a
+process with a window (sys.setswitchinterval)."""
+
+
 class JobRunner(QObject):
     """Runs work in background threads, one job per lane at a time.
 
@@ -190,6 +196,13 @@ class JobRunner(QObject):
 
     def __init__(self, parent: QObject | None = None) -> None:
         super().__init__(parent)
+        # The window's thread must get the interpreter back within milliseconds while a
+        # worker computes in Python and numpy. With CPython's default switch interval
+        # (5 ms) it waited 120-180 ms at a stretch during a heavy scan (a thread waking
+        # every 10 ms, benchmarks/bench_gui.py); at 1 ms the longest wait is a few ms,
+        # for a percent or so of the worker's speed. The interval is the process's.
+        if sys.getswitchinterval() > WINDOW_SWITCH_INTERVAL:
+            sys.setswitchinterval(WINDOW_SWITCH_INTERVAL)
         self._bridge = _bridge()
         self._running: dict[str, _Running] = {}
         self._pending: dict[str, _Request] = {}
