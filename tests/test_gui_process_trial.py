@@ -54,22 +54,28 @@ def choose_unknown_by_keys(qtbot, w, name: str) -> None:
                     and not w.runner.is_busy("preview"), timeout=10_000)
 
 
+def type_values_and_unit(qtbot, w, values: dict[str, tuple[str, str]], unit: str) -> None:
+    """Each parameter's value and unit typed into its cells, then the unknown's unit in
+    its box (Return), waiting for the analysis to take it."""
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    for name, (value, unit_text) in values.items():
+        row = model.names().index(name)
+        edit_cell(qtbot, view, row, model.VALUE, value)
+        edit_cell(qtbot, view, row, model.UNIT, unit_text)
+    unit_box = w.strip.unit_box
+    unit_box.setFocus()
+    qtbot.keyClicks(unit_box, unit)
+    QTest.keyClick(unit_box, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
+                    and w.analysis.equation.unknown_unit == unit, timeout=10_000)
+    settle(qtbot, w)
+
+
 def type_drum(qtbot, w) -> None:
     """The drum's cubic, solved for v in L/mol, every value typed into its cell."""
     type_equation(qtbot, w, CUBIC_EOS)
     choose_unknown_by_keys(qtbot, w, "v")
-    view, model = w.inputs.parameters_view, w.inputs.parameters
-    for name, (value, unit) in DRUM.items():
-        row = model.names().index(name)
-        edit_cell(qtbot, view, row, model.VALUE, value)
-        edit_cell(qtbot, view, row, model.UNIT, unit)
-    unit_box = w.strip.unit_box
-    unit_box.setFocus()
-    qtbot.keyClicks(unit_box, "L/mol")
-    QTest.keyClick(unit_box, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
-                    and w.analysis.equation.unknown_unit == "L/mol", timeout=10_000)
-    settle(qtbot, w)
+    type_values_and_unit(qtbot, w, DRUM, "L/mol")
 
 
 def test_the_plot_shows_every_converged_root_even_outside_the_grown_bracket(qtbot, window):
@@ -109,6 +115,13 @@ def type_into(qtbot, edit, text: str) -> None:
     QTest.keyClick(edit, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
     QTest.keyClick(edit, Qt.Key.Key_Delete)
     qtbot.keyClicks(edit, text)
+
+
+def run_table(qtbot, t) -> None:
+    """Click Run in the tables window and wait for its new results."""
+    before = t.done
+    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
 
 
 def flash_table(qtbot, w):
@@ -152,9 +165,7 @@ def test_the_tables_window_shows_the_first_digits_of_the_start_values_it_is_give
 
 def test_return_on_a_row_of_the_results_opens_its_lane(qtbot, window):
     t = flash_table(qtbot, window)
-    before = t.done
-    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    run_table(qtbot, t)
     view = t.view
     QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton,
                      pos=view.visualRect(t.model.index(0, 0)).center())
@@ -219,9 +230,7 @@ def test_a_design_chart_on_log_axes_over_a_decade_or_two_has_readable_labels(qtb
     from app.documents.figures import MATPLOTLIB_LOCK
 
     t = flash_table(qtbot, window)
-    before = t.done
-    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    run_table(qtbot, t)
     box = t.against_box
     box.setFocus()
     while box.currentText() != "K1":  # K1 from 1.6 to 40: about one and a half decades
@@ -307,21 +316,10 @@ def test_temperatures_in_degc_are_noted_once_in_the_status_line(qtbot, window):
     w = window
     type_equation(qtbot, w, "mh*cph*(Thi - Tho) = mc*cpc*(Tco - Tci)")
     choose_unknown_by_keys(qtbot, w, "Tco")
-    view, model = w.inputs.parameters_view, w.inputs.parameters
     values = {"mh": ("3.2", "kg/s"), "cph": ("3.9", "kJ/(kg*K)"), "Thi": ("118", "degC"),
               "Tho": ("70", "degC"), "mc": ("2.6", "kg/s"), "cpc": ("4.1", "kJ/(kg*K)"),
               "Tci": ("41", "degC")}
-    for name, (value, unit) in values.items():
-        row = model.names().index(name)
-        edit_cell(qtbot, view, row, model.VALUE, value)
-        edit_cell(qtbot, view, row, model.UNIT, unit)
-    unit_box = w.strip.unit_box
-    unit_box.setFocus()
-    qtbot.keyClicks(unit_box, "degC")
-    QTest.keyClick(unit_box, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
-                    and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
-    settle(qtbot, w)
+    type_values_and_unit(qtbot, w, values, "degC")
     status = w.strip.status.text()
     assert status.count("converted to kelvin") == 1
     assert "'Thi', 'Tho' and 'Tci' in degC/degF are absolute temperatures" in status
@@ -338,9 +336,7 @@ def test_the_exported_table_says_which_bracket_every_row_was_given(qtbot, window
 
     t = flash_table(qtbot, window)
     type_into(qtbot, t.b_edit, "1")
-    before = t.done
-    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    run_table(qtbot, t)
     dialogs.save_name = str(tmp_path / "flash.csv")
     QTest.mouseClick(t.export_button, Qt.MouseButton.LeftButton)
     qtbot.waitUntil(lambda: (tmp_path / "flash.csv").exists())
@@ -415,9 +411,7 @@ def test_one_pasted_row_is_counted_as_one_row(qtbot, window):
     QTest.mouseClick(t.paste_button, Qt.MouseButton.LeftButton)
     qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=20_000)
     assert t.status.text() == "1 row of z1, z2, z3, K1"  # said "1 rows"
-    before = t.done
-    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    run_table(qtbot, t)
     assert float(t.done.batch.root[0]) == pytest.approx(vapour_fraction(*FEEDS[0]), abs=2e-12)
 
 
@@ -476,9 +470,7 @@ def test_a_rows_lane_shows_several_iterates_without_scrolling(qtbot, window):
 
     t = flash_table(qtbot, window)
     type_into(qtbot, t.b_edit, "1")
-    before = t.done
-    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+    run_table(qtbot, t)
     view = t.view
     QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton,
                      pos=view.visualRect(t.model.index(0, 0)).center())

@@ -33,6 +33,29 @@ def run(capsys, *argv: str) -> tuple[int, str, str]:
     return code, out, err
 
 
+def first_main_json(capsys, table: Path) -> str:
+    """``zerotrace batch --json`` of the first main (12 L/s, 350 m, 2.5 m of head) written
+    to ``table`` with its units in the header, D in mm by Brent; the JSON text."""
+    table.write_text("Q [L/s],L [m],hf [m]\n12,350,2.5\n", encoding="utf-8")
+    constants = [a for n, (v, u) in MAINS_CONSTANTS.items() for a in ("--param", f"{n}={v} {u}")]
+    code, out, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
+                         "--unknown-unit", "mm", *constants, "--method", "brent", "--bracket",
+                         "20", "1000", "--json")
+    assert code == 0, err
+    return out
+
+
+def sheet_text(capsys, tmp_path: Path, ws: dict, name: str) -> str:
+    """The worksheet ``ws`` saved as NAME.json, its calculation sheet printed by
+    ``zerotrace report --pdf``, and the sheet's text read back (pypdf), spaces collapsed."""
+    path = tmp_path / f"{name}.json"
+    path.write_text(json.dumps(ws), encoding="utf-8")
+    sheet = tmp_path / f"{name}.pdf"
+    code, _out, err = run(capsys, "report", str(path), "--pdf", str(sheet))
+    assert code == 0, err
+    return " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
+
+
 def table_rows(path: Path) -> tuple[list[str], list[dict[str, str]]]:
     lines = path.read_text(encoding="utf-8").splitlines()
     meta = [line for line in lines if line.lstrip('"').startswith("#")]
@@ -215,12 +238,7 @@ def test_the_tables_window_and_the_sheet_head_the_residual_with_its_unit(qtbot, 
                     "columns": [{"name": n, "unit": u, "values": list(map(float, c))}
                                 for n, u, c in (("Q", "L/s", q), ("L", "m", L),
                                                 ("hf", "m", h))]}}
-    path = tmp_path / "mains.json"
-    path.write_text(json.dumps(ws), encoding="utf-8")
-    sheet = tmp_path / "mains.pdf"
-    code, _out, err = run(capsys, "report", str(path), "--pdf", str(sheet))
-    assert code == 0, err
-    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
+    text = sheet_text(capsys, tmp_path, ws, "mains")
     assert "D [mm]" in text and "f(D) [m]" in text
 
 
@@ -394,12 +412,7 @@ def test_a_unit_in_parentheses_is_answered_with_the_header_in_square_brackets(ca
     assert "header (line 1), column 1: 'Q (L/s)' is not NAME or NAME [unit]; a unit goes in " \
            "square brackets: 'Q [L/s]'" in err
     # the header it suggests is read, and gives the bore of the first main (brentq above)
-    table.write_text("Q [L/s],L [m],hf [m]\n12,350,2.5\n", encoding="utf-8")
-    constants = [a for n, (v, u) in MAINS_CONSTANTS.items() for a in ("--param", f"{n}={v} {u}")]
-    code, out, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
-                         "--unknown-unit", "mm", *constants, "--method", "brent", "--bracket",
-                         "20", "1000", "--json")
-    assert code == 0, err
+    out = first_main_json(capsys, table)
     assert json.loads(out)["rows"][0]["root"] == pytest.approx(mains_bore_mm(12, 350, 2.5),
                                                                rel=1e-13)
 
@@ -428,12 +441,7 @@ def test_every_json_document_says_what_its_residuals_are_in(capsys, tmp_path):
     assert doc["residual_unit"] == "Pa" and doc["roots"][0]["x"] == pytest.approx(wall,
                                                                                  rel=1e-14)
     table = tmp_path / "mains.csv"
-    table.write_text("Q [L/s],L [m],hf [m]\n12,350,2.5\n", encoding="utf-8")
-    constants = [a for n, (v, u) in MAINS_CONSTANTS.items() for a in ("--param", f"{n}={v} {u}")]
-    code, out, err = run(capsys, "batch", MAINS, "--table", str(table), "--unknown", "D",
-                         "--unknown-unit", "mm", *constants, "--method", "brent", "--bracket",
-                         "20", "1000", "--json")
-    assert code == 0, err
+    out = first_main_json(capsys, table)
     assert json.loads(out)["residual_unit"] == "m"
     code, out, err = run(capsys, "solve", "x^2 = 2", "--x0", "1", "--json")
     assert code == 0 and json.loads(out)["residual_unit"] is None  # plain numbers: no claim
@@ -556,12 +564,7 @@ def test_the_sheets_design_value_is_in_the_unknowns_unit(tmp_path, capsys):
           "settings": {"methods": ["newton"], "x0": 0.5},
           "scan": {"from": 0.01, "to": 4.0},
           "selection": {"root": wall, "reason": "the one root of the range"}}
-    path = tmp_path / "barrel.json"
-    path.write_text(json.dumps(ws), encoding="utf-8")
-    sheet = tmp_path / "barrel.pdf"
-    code, _out, err = run(capsys, "report", str(path), "--pdf", str(sheet))
-    assert code == 0, err
-    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
+    text = sheet_text(capsys, tmp_path, ws, "barrel")
     assert f"Selected design value: t = {wall!r} in." in text
     assert "It is nearest scanned root #1 (difference" in text
     # where the scan looked, and the rows of what it found, say the unit too
