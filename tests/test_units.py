@@ -590,3 +590,26 @@ def test_si_equivalents_for_people_carry_no_conversion_noise(capsys):
     data = json.loads(capsys.readouterr().out)
     si = data["parameter_units"]["h"]["si_value"]  # the double the solve used, as pint gave it
     assert abs(si - 4.572) <= 4 * 2.2e-16 * 4.572  # within a few ulps of the exact 4.572
+
+
+def test_a_unit_mismatch_blamed_on_the_unknown_also_names_the_input_whose_unit_would_fit():
+    # An invented drum of gas by a two-constant cubic equation of state, the molar volume
+    # v asked in L/mol, the co-volume b typed in cm^3 (per mole forgotten): `v - b` then
+    # makes v a volume, and the message names b beside the unknown's unit.
+    text = "p = R*T/(v - b) - a/v^2"
+    values = {"p": "8 bar", "R": "8.314462618 J/(mol*K)", "T": "320 K",
+              "a": "1.4 Pa*m^6/mol^2"}
+    with pytest.raises(EquationError) as caught:
+        parse_equation(text, unknown="v", unknown_unit="L/mol",
+                       parameters={**values, "b": "60 cm^3"})
+    message = str(caught.value)
+    assert "check the unit given for 'v'" in message
+    assert "'b' in 'cm^3' is a volume" in message and "needs 'b' in m³/mol" in message
+    # with b per mole the equation reads: its largest root is the vapour's molar volume,
+    # the largest real root of p v^3 - (p b + R T) v^2 + a v - a b = 0 (numpy.roots)
+    eq = parse_equation(text, unknown="v", unknown_unit="L/mol",
+                        parameters={**values, "b": "60 cm^3/mol"})
+    p, RT, a, b = 8e5, sc.R * 320.0, 1.4, 60e-6  # R: CODATA via scipy.constants
+    vapour = max(r.real for r in np.roots([p, -(p * b + RT), a, -a * b]) if abs(r.imag) < 1e-12)
+    x = 1e3 * vapour  # in L/mol
+    assert abs(eq.f(x)) <= 1e-9 * p

@@ -421,8 +421,15 @@ def check_system(text: str, spans: Sequence[tuple[Any, int, int]],
             if j in given_exact and value != given_exact[j]:
                 if is_common_quantity(_plain(value)):
                     # the equation makes the unknown a plain length, pressure, ...: the
-                    # unit chosen for it is the likelier slip, not the inputs' units
+                    # unit chosen for it is the likelier slip; but an input's unit alone
+                    # may be what made it so (b in cm^3 beside v in L/mol): name that too
                     blame = f"; check the unit given for '{unknowns[j].name}'"
+                    if typed is not None:
+                        also = suspects(text, parts, sides, unknowns, dimensions, given,
+                                        names_at, typed)
+                        if also:
+                            blame += (", or the input's: " + suspects_words(
+                                also, unknowns[j].name, given_text[j]).split(": ", 1)[1])
                 elif typed is None:
                     blame = ""
                 else:
