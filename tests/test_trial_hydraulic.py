@@ -380,6 +380,9 @@ def test_a_prefix_on_a_physical_constant_is_refused_as_a_slip(typed, token):
     # gives 1.233 489 E+03 m^3 for the survey acre-foot; pint's acre is the survey acre,
     # times the international foot here: 2 ppm apart
     assert read_unit("acre*ft").factor == pytest.approx(1233.489, rel=2e-6)
+    # a unit of its own name that pint reads so is never refused: cc is a cubic
+    # centimetre (1e-6 m^3, exact by definition), not centi x speed of light
+    assert read_unit("cc").factor == pytest.approx(1e-6, rel=1e-15)
 
 
 def test_a_pump_curve_in_gpm_and_feet_meets_its_system_curve(capsys):

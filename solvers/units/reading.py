@@ -160,11 +160,14 @@ def _prefixed_constant(text: str, reg: Any) -> tuple[str, str, str] | None:
     'mc' milli x speed of light, 'ke' kilo x elementary charge. No engineer means those;
     None if there is none."""
     constants = _constants()
-    for name in re.findall(r"[^\W\d]\w*", text):
+    # a name is a run of letters, digits, _ and the symbols units begin with (°Re, µm)
+    for name in re.findall(r"[^\W\d][\w°]*|°\w+", text):
         try:
             readings = reg.parse_unit_name(name)
         except Exception:  # noqa: BLE001 - read as a whole already; no reading, no slip
             continue
+        if any(not prefix for prefix, _base, _suffix in readings):
+            continue  # a unit of its own name (cc, pc, pk): pint reads it so
         for prefix, base, _suffix in readings:
             if prefix and base in constants:
                 return name, prefix, base
