@@ -236,6 +236,28 @@ def test_jumps_and_poles_are_told_apart_from_roots_row_by_row(method):
                 batch.run(i).converged and batch.converged[i])
 
 
+@pytest.mark.parametrize("method", ["bisection", "brent", "illinois", "false_position"])
+@pytest.mark.parametrize("cap", [5, 30, 100])
+def test_a_pole_met_at_the_iteration_cap_gets_the_scalar_verdict_row_by_row(method, cap):
+    # 1/(x - c) - 2: pole at c, root at c + 0.5 (closed form), outside [1, 1.8] for the
+    # first three rows; the last row's bracket [1.2, 1.8] holds the root 1.6, not the pole
+    c = np.array([1.31, 1.7, 1.75, 1.1])
+    equation = parse_equation("1/(x - c) - 2", unknown="x", parameters={"c": c})
+    batch = solve_batch(equation, method=method, bracket=(np.array([1.0, 1.0, 1.0, 1.2]), 1.8),
+                        max_iter=cap)
+    for i in range(c.size):
+        run = batch.run(i)
+        assert (batch.reason[i], batch.iterations[i], batch.evaluations[i]) == (
+            run.reason, run.iterations, run.evaluations)
+    assert not batch.converged[:3].any()
+    if cap == 100:  # every method names the poles by then (false position at its cap)
+        assert set(batch.reason[:3]) == {"not_finite"}
+        # (plain false position may crawl to its cap on this convex root: no verdict)
+        assert batch.converged[3] or method == "false_position"
+    if batch.converged[3]:
+        assert abs(batch.root[3] - 1.6) <= 1e-12
+
+
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     # exp(-x) - 2 exp(-2x): root ln 2; at x = 800 both terms underflow to 0.0.
     equation = parse_equation("exp(-x) - 2*exp(-2*x)", unknown="x")

@@ -287,8 +287,33 @@ def test_a_pole_is_never_a_root(method):
     # tan has a pole at pi/2 (closed form) with a sign change across it
     run = method(math.tan, 1.0, 2.0)
     assert_record(run)
-    assert not run.converged  # plain false position runs out of iterations beside it
-    assert run.reason in ("not_finite", "discontinuity", "max_iterations")
+    assert not run.converged
+    # plain false position creeps up the pole one side at a time and meets the cap first;
+    # it still names the pole, as the methods whose bracket closes do
+    assert run.reason == "not_finite" and run.detail.code in ("pole", "pole_capped")
+    assert abs(run.detail.values[2] - math.pi / 2) <= 1e-6
+
+
+@pytest.mark.parametrize("c", [1.31, 1.7, 1.75])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_bracket_holding_only_a_pole_is_named_a_pole_even_at_the_cap(method, c):
+    # 1/(x - c) - 2 has its pole at c and its only root at c + 0.5 (closed form), outside
+    # [1, 1.8]: the sign change in the bracket is the pole's
+    run = method(lambda x: 1.0 / (x - c) - 2.0, 1.0, 1.8)
+    assert_record(run)
+    assert not run.converged and run.reason == "not_finite"
+    if run.detail.code in ("pole", "pole_capped"):
+        assert abs(run.detail.values[2] - c) <= 1e-6
+    else:  # bisection may land on c itself: f raises there
+        assert run.detail.code == "raised" and run.detail.values[2] == c
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_capped_run_on_a_root_is_still_max_iterations(method):
+    # x^9 - 0.3 (root 0.3**(1/9), closed form) with 3 iterations allowed: the bracket has
+    # not closed in on anything, the cap is all there is to say
+    run = method(lambda x: x**9 - 0.3, 0.0, 2.0, max_iter=3)
+    assert run.reason == "max_iterations" and run.detail is None
 
 
 @pytest.mark.parametrize("p", [1.0 / 3.0, 1.0 / 19.0])

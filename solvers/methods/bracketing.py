@@ -18,6 +18,7 @@ from solvers.methods.common import (
     DEFAULT_RTOL,
     DEFAULT_XTOL,
     Function,
+    _capped_reason,
     _check_settings,
     _closed_bracket_reason,
     _Evaluator,
@@ -33,7 +34,6 @@ from solvers.methods.common import (
 from solvers.records import (
     EXACT_ZERO,
     F_TOLERANCE,
-    MAX_ITERATIONS,
     NO_SIGN_CHANGE,
     NOT_FINITE,
     Detail,
@@ -222,7 +222,8 @@ def bisection(
         if hi - lo <= xtol_ + rtol_ * abs(best):
             return closed(best, _step_detail("width", hi - lo, xtol_, rtol_, best))
         if iterations >= cap:
-            return done(MAX_ITERATIONS, best)
+            reason, why = _capped_reason(lo, flo, hi, fhi, steps)
+            return done(reason, best, why)
         mid = 0.5 * lo + 0.5 * hi
         if not lo < mid < hi:
             return closed(
@@ -297,7 +298,8 @@ def _regula_falsi(
         lo, hi = (xa, xb) if xa < xb else (xb, xa)
         best = xa if abs(fa) < abs(fb) else xb
         if iterations >= cap:
-            return done(MAX_ITERATIONS, best)
+            reason, why = _capped_reason(xa, fa, xb, fb, steps)
+            return done(reason, best, why)
         if probe is not None and lo < probe < hi:
             x, fallback = probe, False
         else:

@@ -20,6 +20,7 @@ from solvers.records import (
     CONVERGED_REASONS,
     DISCONTINUITY,
     EXACT_ZERO,
+    MAX_ITERATIONS,
     NOT_FINITE,
     X_TOLERANCE,
     Detail,
@@ -192,6 +193,34 @@ def _pole_detail(root: float, steps: list[Step]) -> Detail | None:
     if at_root is None or not at_root > ends:
         return None
     return Detail("pole", (ends, at_root, root))
+
+
+# A bracket stopped at the iteration cap is local to a point once it has shrunk this much
+# (the reach of the closed-bracket probes, the other way round).
+_CAPPED_SHRINK = 2.0**-20
+
+
+def _capped_reason(x1: float, f1: float, x2: float, f2: float,
+                   steps: list[Step]) -> tuple[str, Detail | None]:
+    """(reason, detail) for a bracketing run stopped at the iteration cap, its bracket's
+    ends x1, x2 (either order) with f there f1, f2.
+
+    ``max_iterations``, unless the bracket closed in on a pole without reaching the
+    tolerance: plain false position keeps one end nearly fixed and creeps up a pole of
+    1/(x - c) a little at a time, so the cap comes first. Where the bracket shrank at
+    least 2**20-fold and |f| at both its ends exceeds |f| at both starting ends (f grew
+    on each side as the bracket narrowed; near a root |f| falls), it is ``not_finite``
+    with a ``pole_capped`` detail, as a closed bracket on a pole is (:func:`_finish`).
+    Either way the run has not converged.
+    """
+    if len(steps) >= 2:
+        start = abs(steps[1].x - steps[0].x)
+        ends = max(abs(steps[0].fx), abs(steps[1].fx))
+        near = min(abs(f1), abs(f2))
+        if abs(x2 - x1) <= _CAPPED_SHRINK * start and near > ends:
+            best = x1 if abs(f1) <= abs(f2) else x2
+            return NOT_FINITE, Detail("pole_capped", (ends, near, best))
+    return MAX_ITERATIONS, None
 
 
 def _last_finite(steps: list[Step]) -> float:

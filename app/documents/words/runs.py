@@ -221,6 +221,10 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
     "pole": lambda v: (f"|f| grew from {number(v[0], 3)} at the bracket ends to "
                        f"{number(v[1], 3)} as the bracket closed on x = {exact(v[2])}: a pole "
                        "(f -> +-inf) there, not a root"),
+    "pole_capped": lambda v: (f"|f| grew from {number(v[0], 3)} at the bracket ends to "
+                              f"{number(v[1], 3)} on both sides as the bracket narrowed onto "
+                              f"x = {exact(v[2])}, and the iteration cap came first: a pole "
+                              "(f -> +-inf) there, not a root"),
     "jump": lambda v: (f"f changes sign from {number(v[0], 6)} to {number(v[1], 6)} across "
                        f"[{exact(v[2])}, {exact(v[3])}] (width {number(v[4], 3)}) without "
                        f"approaching 0, and |f| stays that size {number(v[5], 3)} further "
