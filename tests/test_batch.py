@@ -667,6 +667,19 @@ def test_settings_are_checked_as_for_one_solve():
         solve_batch(equation, x0=np.ones(4))
 
 
+@pytest.mark.parametrize("method", list(METHODS))
+def test_one_row_given_as_scalars_and_a_cap_beyond_64_bits_solve_as_one_solve(method):
+    # x^2 - 2: root sqrt(2) (closed form). Scalars alone make a batch of one row with
+    # 0-d arrays; a cap of 10^20 is as good as none, as in the scalar method
+    equation = parse_equation("x^2 - 2")
+    batch = solve_batch(equation, method=method, x0=1.0, x1=1.5, bracket=(0.0, 2.0),
+                        max_iter=10**20)
+    assert batch.reason.shape == () and str(batch.reason) == batch.reason_at(0)
+    assert batch.reason_at(0) == batch.run(0).reason and bool(batch.converged)
+    assert abs(float(batch.root) - math.sqrt(2.0)) <= 1e-12
+    assert batch.settings["max_iter"] == 10**20
+
+
 def test_the_record_is_read_only_and_counts_reasons():
     equation = parse_equation("x - p", unknown="x", parameters={"p": np.arange(4.0)})
     batch = solve_batch(equation, method="brent", bracket=(-1.0, 10.0))

@@ -235,6 +235,7 @@ _REASON_STRINGS = np.asarray(BATCH_REASONS)
 
 def reason_array(codes: np.ndarray) -> np.ndarray:
     """Reason strings from the kernels' integer codes (``take``: about half the time of
-    indexing with the codes, the same array of str)."""
-    return _REASON_STRINGS.take(codes)
+    indexing with the codes, the same array of str; a 0-d array for one row given as
+    scalars, where ``take`` alone answers a numpy scalar)."""
+    return np.asarray(_REASON_STRINGS.take(codes))
 
