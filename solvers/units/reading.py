@@ -404,6 +404,29 @@ def coherent_text(text: str) -> str | None:
                           else f"/{bottom}")
 
 
+_FORCE: Dimension = (("[length]", 1.0), ("[mass]", 1.0), ("[time]", -2.0))
+_LENGTH: Dimension = (("[length]", 1.0),)
+
+
+@lru_cache(maxsize=256)
+def moment_text(text: str) -> str | None:
+    """``N*m`` for unit text that is a force times a length (``lbf*ft``, ``kgf*m``,
+    ``ozf*in``: a torque or a moment, also a work), else None. Its dimension is an
+    energy's, whose SI unit alone would read ``J``; the newton metre (SI Brochure, 9th
+    ed., Table 4: J = N m) says what was typed and suits a torque and a work alike."""
+    try:
+        reg = registry()
+        units = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        if len(units) != 2 or any(float(p) != 1.0 for p in units.values()):
+            return None
+        dims = sorted(tuple(sorted((str(n), float(e)) for n, e in
+                                   reg.get_dimensionality(name).items()))
+                      for name in units)
+    except Exception:  # noqa: BLE001 - not a unit pint reads: no moment text
+        return None
+    return "N*m" if dims == sorted([_FORCE, _LENGTH]) else None
+
+
 @lru_cache(maxsize=256)
 def is_angle(text: str) -> bool:
     """Whether a unit text is a plane angle (deg, rad, arcmin, turn): dimensionless, as
