@@ -112,8 +112,7 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
 
         data = tables.results_json(batch, names, columns, equation=args.equation,
                                    unknown=equation.unknown,
-                                   parameters=tables.constants_as_entered(equation,
-                                                                                constants))
+                                   parameters=tables.constants_in_si(equation, constants))
         data.update(units_json(equation, columns=names))
         _json_out({**data, **{k: v for k, v in extra.items() if k not in data}})
         return EXIT_OK

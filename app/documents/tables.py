@@ -288,6 +288,13 @@ def constants_as_entered(equation: Any, constants: Mapping[str, Any]) -> dict[st
             for k, v in constants.items()}
 
 
+def constants_in_si(equation: Any, constants: Mapping[str, Any]) -> dict[str, float]:
+    """Each constant's SI value (the number the solve used), as ``solve --json`` gives its
+    ``parameters``: the value as typed and its unit are in ``parameter_units``."""
+    return {k: equation.units[k].si_value if k in equation.units else float(v)
+            for k, v in constants.items()}
+
+
 def note_lines(batch: Any, label: str = "row") -> dict[str, str]:
     """Metadata lines for the summary and each note ('row N' counted from 1)."""
     meta = {"summary": batch_summary(batch)}
