@@ -308,6 +308,22 @@ def test_a_bracket_holding_only_a_pole_is_named_a_pole_even_at_the_cap(method, c
         assert run.detail.code == "raised" and run.detail.values[2] == c
 
 
+def test_plain_false_position_at_the_cap_names_the_end_that_stood_still():
+    # x^10 - 0.5 on [0, 1.5] is convex: every chord lands left of the root 0.5**(1/10)
+    # (closed form), so the end 1.5 never moves and 100 iterations do not reach it;
+    # Illinois and Brent converge on the same bracket (scipy.optimize.brentq agrees)
+    def f(x):
+        return x**10 - 0.5
+
+    run = false_position(f, 0.0, 1.5)
+    assert run.reason == "max_iterations" and run.detail.code == "end_held"
+    assert run.detail.values == (1.5, 100)
+    assert "Illinois or Brent" in run_message(run)
+    root = brentq(f, 0.0, 1.5, xtol=1e-14)
+    for other in (illinois, brent):
+        assert abs(other(f, 0.0, 1.5).root - root) <= 1e-12
+
+
 @pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
 def test_a_capped_run_on_a_root_is_still_max_iterations(method):
     # x^9 - 0.3 (root 0.3**(1/9), closed form) with 3 iterations allowed: the bracket has

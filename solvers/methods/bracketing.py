@@ -299,6 +299,8 @@ def _regula_falsi(
         best = xa if abs(fa) < abs(fb) else xb
         if iterations >= cap:
             reason, why = _capped_reason(xa, fa, xb, fb, steps)
+            if why is None and not illinois_rule:
+                why = _held_end(steps)
             return done(reason, best, why)
         if probe is not None and lo < probe < hi:
             x, fallback = probe, False
@@ -375,6 +377,29 @@ def _regula_falsi(
                 previous_ratio = ratio
             previous_step = step
         previous = x
+
+
+_HELD = 10  # iterations one end must have stood still to be named at the cap
+
+
+def _held_end(steps: list[Step]) -> Detail | None:
+    """Plain false position stopped at the cap: the bracket end that stood still through
+    the last iterations, and for how many (``end_held``), where it did for at least
+    :data:`_HELD` of them. On a convex or concave f every chord lands on the same side
+    of the root, so one end never moves and convergence is linear and can be very slow:
+    the words suggest Illinois or Brent, which move both ends."""
+    for side in ("lo", "hi"):
+        held = 0
+        end = None
+        for step in reversed(steps[2:]):  # the iterates (steps 0 and 1: the ends given)
+            value = getattr(step, side)
+            if value is None or (end is not None and value != end):
+                break
+            end = value
+            held += 1
+        if end is not None and held >= _HELD:
+            return Detail("end_held", (end, held))
+    return None
 
 
 @_quiet

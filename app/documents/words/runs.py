@@ -225,6 +225,10 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                               f"{number(v[1], 3)} on both sides as the bracket narrowed onto "
                               f"x = {exact(v[2])}, and the iteration cap came first: a pole "
                               "(f -> +-inf) there, not a root"),
+    "end_held": lambda v: (f"the bracket end x = {exact(v[0])} stood still for the last "
+                           f"{int(v[1])} iterations: plain false position stalls so on a convex "
+                           "or concave f (every chord lands on the same side of the root); "
+                           "Illinois or Brent on the same bracket moves both ends"),
     "jump": lambda v: (f"f changes sign from {number(v[0], 6)} to {number(v[1], 6)} across "
                        f"[{exact(v[2])}, {exact(v[3])}] (width {number(v[4], 3)}) without "
                        f"approaching 0, and |f| stays that size {number(v[5], 3)} further "
