@@ -268,12 +268,13 @@ def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     secant = solve_batch(equation, method="secant", x0=np.array([0.5, 800.0]),
                          x1=np.array([0.6, 801.0]))
     assert secant.converged.tolist() == [True, False]
-    # the probe beside x = 800 is 0.0 too: the scalar rule stops after that one call
-    # (f(800), then f(800 + step)), and the row's count says the same
+    # the probe beside x = 800 is 0.0 too: the scalar rule then looks 32 points further
+    # out for f's rounding noise (none: f is 0.0 out to 800 -+ 4e-3) and stops (f(800),
+    # f(800 + step), 32 more), and the row's count says the same
     for result in (batch, secant):
         run = result.run(1)
         assert (run.reason, run.evaluations) == (result.reason[1], result.evaluations[1])
-    assert batch.evaluations[1] == 2
+    assert batch.evaluations[1] == 2 + 32
 
 
 def test_newton_landing_in_underflow_after_a_large_residual_is_not_a_root():
@@ -281,15 +282,16 @@ def test_newton_landing_in_underflow_after_a_large_residual_is_not_a_root():
     # is x1 = x0 + 1/(2*x0) (the step -f/f' in closed form), where exp(-x1^2) is below
     # the smallest subnormal double 2**-1074 (IEEE 754 binary64) and f is an exact 0.0,
     # although f at x0 was ~1 and |f'*dx| ~1: the size of the last residual is no proof
-    # that a 0.0 is a root. Only f beside x1 (0.0 there too: underflow) tells; batch
-    # and scalar method stop not finite, after f(x0), f'(x0), f(x1) and one probe.
+    # that a 0.0 is a root. Only f beside x1 (0.0 there too, and out to 4e-3 of x1:
+    # underflow, no rounding noise) tells; batch and scalar method stop not finite, after
+    # f(x0), f'(x0), f(x1), one probe and the 32 points of the look for rounding noise.
     x0 = np.array([0.01, 0.015, 0.005, 0.5])
     equation = parse_equation("exp(-x^2)", unknown="x")
     batch = solve_batch(equation, method="newton", x0=x0)
     x1 = x0 + 1.0 / (2.0 * x0)
     assert (x1[:3] > 28.0).all() and math.exp(-(28.0**2)) == 0.0  # underflows (IEEE 754)
     assert not batch.converged[:3].any() and set(batch.reason[:3]) == {"not_finite"}
-    assert np.isnan(batch.root[:3]).all() and batch.evaluations[:3].tolist() == [4, 4, 4]
+    assert np.isnan(batch.root[:3]).all() and batch.evaluations[:3].tolist() == [36] * 3
     # from 0.5 it creeps outward (x + 1/(2x) each step) and reaches the cap, beside them
     assert batch.reason[3] == "max_iterations" and math.isnan(batch.root[3])
     for i in range(4):
@@ -735,6 +737,26 @@ def test_sweep_follows_a_branch_to_its_turning_point_and_says_where_it_ends():
     assert all(code != "branch_jump" for k, code in batch.notes if k != first_past)
     run = batch.run(first_past)  # started from the previous row's root
     assert run.steps[0].x == batch.root[first_past - 1]
+
+
+def test_a_sweep_row_exactly_at_the_turning_point_ends_the_branch_there():
+    # x^3 - 3x + c: for c < 2 a branch of roots above 1 falls to the double root x = 1 at
+    # c = 2 (f = f' = 0 there: (x - 1)^2 (x + 2)), and beyond c = 2 only the root below
+    # -2 is left (numpy.roots). Typed out, f is 0.0 in doubles near x = 1: the row at
+    # c = 2 is a zero of f's rounding noise, not underflow (it failed, "f underflowed").
+    equation = parse_equation("x^3 - 3*x + c", unknown="x", parameters={"c": -1.0})
+    values = np.linspace(-1.0, 3.0, 9)
+    batch = sweep(equation, "c", values, x0=1.5)
+    assert batch.converged.all()
+    fold = int(np.flatnonzero(values == 2.0)[0])
+    for k, c in enumerate(values):
+        roots = np.roots([1.0, 0.0, -3.0, c])
+        real = np.sort(roots[np.abs(roots.imag) < 1e-6].real)
+        expected = real[-1] if k <= fold else real[0]
+        # the double root is located only to f's rounding noise (about 1.2e-8 around 1)
+        assert abs(batch.root[k] - expected) <= (2e-8 if k == fold else 1e-12), (k, c)
+    assert (fold, "at_fold") in batch.notes and (fold + 1, "branch_jump") in batch.notes
+    assert batch.run(fold).detail is None or batch.run(fold).detail.code == "zero_in_noise"
 
 
 def test_sweep_restarts_after_a_failed_row_and_says_from_where():

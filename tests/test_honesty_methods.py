@@ -308,6 +308,33 @@ def test_a_bracket_holding_only_a_pole_is_named_a_pole_even_at_the_cap(method, c
         assert run.detail.code == "raised" and run.detail.values[2] == c
 
 
+@pytest.mark.parametrize("method", [m for m in METHODS if m != "false_position"])
+def test_a_zero_in_the_rounding_noise_of_a_multiple_root_is_no_underflow(method):
+    # x^3 - 3x^2 + 3x - 1 = (x - 1)^3 (closed form): typed out, f is rounding noise, 0.0
+    # at many points, for |x - 1| up to about 1.3e-5 (the scan's noise band). A method
+    # landing on such a 0.0 found f 0.0 beside it too and said "f underflowed": the terms
+    # are of order 1, nothing underflowed. f beside it is a few units of their rounding.
+    text = "x^3 - 3*x^2 + 3*x - 1"
+    eq = parse_equation(text)
+    run = run_method(method, eq.f, fprime=eq.fprime, x0=2.0, x1=2.1, bracket=(0.0, 2.3))
+    assert run.converged, (run.reason, run.detail)
+    assert abs(run.root - 1.0) <= 2e-5
+    assert run.detail is None or run.detail.code == "zero_in_noise"
+    if run.detail is not None:
+        assert "rounding noise" in run_message(run) and "underflow" not in run_message(run)
+
+
+def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
+    # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
+    # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches
+    # |x - 1| ~ 1.2e-8: |f| <= 3 eps there)
+    eq = parse_equation("x^3 - 3*x + 2")
+    run = newton(eq.f, 1.3843671526381416, fprime=eq.fprime)
+    assert run.converged and run.reason == "exact_zero"
+    assert abs(run.root - 1.0) <= 2e-8
+    assert run.detail is not None and run.detail.code == "zero_in_noise"
+
+
 def test_plain_false_position_at_the_cap_names_the_end_that_stood_still():
     # x^10 - 0.5 on [0, 1.5] is convex: every chord lands left of the root 0.5**(1/10)
     # (closed form), so the end 1.5 never moves and 100 iterations do not reach it;

@@ -28,7 +28,14 @@ from solvers.batch.records import CONVERGED_INDEX, REASON_CODES, BatchCancelled
 from solvers.equation import EquationError
 from solvers.equation.compile import in_blocks
 from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
-from solvers.methods.common import _PROBE_GROWTH, _PROBE_REACH, _TINY, DERIVATIVE_STEP
+from solvers.methods.common import (
+    _PROBE_GROWTH,
+    _PROBE_REACH,
+    _TINY,
+    DERIVATIVE_STEP,
+    plateau_detail,
+    plateau_points,
+)
 from solvers.units import Measured
 
 X_TOL, F_TOL, EXACT, MAX_IT, ZERO_D, NOT_FIN, NO_SIGN, DISCONT = (
@@ -342,6 +349,15 @@ class Work:
             out = np.array(out, dtype=np.float64)
         return out
 
+    def f_points(self, points: np.ndarray, subset: np.ndarray) -> np.ndarray:
+        """f at ``points`` (one row of k points for each of the rows ``subset``, ascending
+        indices of the arrays' rows), each of those rows counted k calls."""
+        m, k = points.shape
+        self._extra[self.rows[subset]] += k
+        idx = np.repeat(subset, k)
+        return self.fn.call("f", points.reshape(-1), tuple(
+            h.take(idx) if h.__class__ is np.ndarray else h for h in self._h)).reshape(m, k)
+
     def f(self, x: np.ndarray, subset: np.ndarray | None = None) -> np.ndarray:
         """f at x for every row of the arrays (``subset`` None) or for the rows ``subset``
         marks (a boolean mask or ascending indices of the arrays' rows)."""
@@ -436,11 +452,32 @@ def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
     first = step if toward is None else np.where(toward >= x, step, -step)
     one = w.f(x + first, subset)
     verdict = one != 0.0
+    zero = ~verdict
     ask = np.flatnonzero(verdict)
     if ask.size:
         two = w.f(x[ask] - first[ask], subset[ask])
         verdict[ask] = (two != 0.0) & (np.isfinite(one[ask]) | np.isfinite(two))
+        zero[ask] = two == 0.0
+    if zero.any():  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
+        iz = np.flatnonzero(zero)
+        verdict[iz] = plateau_roots(lambda points: w.f_points(points, subset[iz]), x[iz],
+                                    step[iz])
     return verdict
+
+
+def plateau_roots(evaluate: Callable[[np.ndarray], np.ndarray], x: np.ndarray,
+                  step: np.ndarray) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common._rounding_plateau` for zeros x whose
+    probe ``step`` away gave 0.0 too: whether each is a zero of f's rounding noise (a
+    root) rather than underflow. ``evaluate`` takes the points (a row of
+    :func:`plateau_points` per zero) and returns f there, counting the calls. Rare rows:
+    the verdict is the scalar rule's own function, row by row."""
+    xs, steps = x.tolist(), step.tolist()
+    points = np.array([plateau_points(xi, si) for xi, si in zip(xs, steps, strict=True)])
+    values = evaluate(points)
+    return np.array([plateau_detail(xi, si, row) is not None
+                     for xi, si, row in zip(xs, steps, values.tolist(), strict=True)],
+                    dtype=bool)
 
 
 def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:

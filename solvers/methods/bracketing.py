@@ -89,8 +89,9 @@ def _start_bracket(
     underflowed: set[float] = set()
     for x, fx in ((a, fa), (b, fb)):
         if fx == 0.0:
-            if _zero_is_root(ev, x, tolerance[0] + tolerance[1] * abs(x)):
-                return done(EXACT_ZERO, x)
+            root, why = _zero_is_root(ev, x, tolerance[0] + tolerance[1] * abs(x))
+            if root:
+                return done(EXACT_ZERO, x, why)
             underflowed.add(x)
     if len(underflowed) == 2 or a == b and underflowed:
         return done(NOT_FINITE, a, Detail("underflow_ends", (a,)))
@@ -142,8 +143,11 @@ def _iterate_zero(
             underflowed.add(x)
             return math.copysign(_TINY, value), None, None
     far = x2 if abs(x - x1) <= abs(x - x2) else x1
-    if _straight_through(x, x1, f1, x2, f2, tol) or _zero_is_root(ev, x, tol, toward=far):
+    if _straight_through(x, x1, f1, x2, f2, tol):
         return 0.0, EXACT_ZERO, None
+    root, why = _zero_is_root(ev, x, tol, toward=far)
+    if root:
+        return 0.0, EXACT_ZERO, why
     return 0.0, NOT_FINITE, _interior_underflow(x, *bracket)
 
 

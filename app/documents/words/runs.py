@@ -225,6 +225,12 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                               f"{number(v[1], 3)} on both sides as the bracket narrowed onto "
                               f"x = {exact(v[2])}, and the iteration cap came first: a pole "
                               "(f -> +-inf) there, not a root"),
+    "zero_in_noise": lambda v: (f"f is 0.0 beside x too, and {number(v[1], 3)} at "
+                                f"{number(v[0], 3)} from it, a few units of the rounding of "
+                                "its terms: x is a zero of f's rounding noise (as around a "
+                                "multiple root typed out as a polynomial); where the root lies "
+                                "within that noise this does not say: a scan of the range "
+                                "gives the stretch"),
     "end_held": lambda v: (f"the bracket end x = {exact(v[0])} stood still for the last "
                            f"{int(v[1])} iterations: plain false position stalls so on a convex "
                            "or concave f (every chord lands on the same side of the root); "

@@ -24,6 +24,9 @@ BATCH_NOTE_TEXT: dict[str, str] = {
                      "another branch (the one followed turned back at a turning point between "
                      "the two values, and shorter steps could not follow it): check which root "
                      "you need here",
+    "at_fold": "f' at the root is zero up to rounding (a double root): the branch followed "
+               "turns back at this value (a turning point) and ends here; the next row's "
+               "root lies on another branch",
     "left_range": "the method converged to a root outside the range given for the unknown: "
                   "it is not taken as this branch's root (the row has none), and the next "
                   "row starts from the last root inside the range",
