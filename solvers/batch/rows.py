@@ -27,10 +27,11 @@ import numpy as np
 from solvers.batch.records import CONVERGED_INDEX, REASON_CODES, BatchCancelled
 from solvers.equation import EquationError
 from solvers.equation.compile import in_blocks
-from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
+from solvers.methods.bracketing import _CHORD_SHARE, _NOISE_FALL, _SLOPE_SPREAD
 from solvers.methods.common import (
     _PROBE_GROWTH,
     _PROBE_REACH,
+    _QUANTA,
     _TINY,
     DERIVATIVE_STEP,
     plateau_detail,
@@ -440,7 +441,7 @@ def same_sign(u: np.ndarray, v: np.ndarray) -> np.ndarray:
 
 
 def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
-                 toward: np.ndarray | None = None) -> np.ndarray:
+                 toward: np.ndarray | None = None, look: bool = True) -> np.ndarray:
     """Element-wise :func:`solvers.methods.common._zero_is_root` for the rows ``subset``
     marks (x, tol, toward given for those rows): f(x) == 0.0 is a root unless f is 0.0
     beside x too (underflow); one neighbour must be finite. The side ``toward`` (or
@@ -458,11 +459,22 @@ def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
         two = w.f(x[ask] - first[ask], subset[ask])
         verdict[ask] = (two != 0.0) & (np.isfinite(one[ask]) | np.isfinite(two))
         zero[ask] = two == 0.0
-    if zero.any():  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
+    if look and zero.any():  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
         iz = np.flatnonzero(zero)
         verdict[iz] = plateau_roots(lambda points: w.f_points(points, subset[iz]), x[iz],
                                     step[iz])
     return verdict
+
+
+def in_rounding_array(v: np.ndarray) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common.in_rounding` (the same arithmetic: the
+    lowest set bit of the 53-bit mantissa, exact)."""
+    v = np.abs(np.asarray(v, dtype=np.float64))
+    ok = np.isfinite(v) & (v != 0.0)
+    mantissa, exponent = np.frexp(np.where(ok, v, 1.0))
+    whole = (mantissa * 2.0**53).astype(np.int64)
+    q = np.ldexp((whole & -whole).astype(np.float64), exponent - 53)
+    return ok & (q > 1e-290) & (v <= _QUANTA * q)
 
 
 def plateau_roots(evaluate: Callable[[np.ndarray], np.ndarray], x: np.ndarray,
@@ -517,11 +529,17 @@ def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
     value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
     rest = ~(u1 | u2)
     root = rest & _straight_through(x, x1, f1, x2, f2, tol)
+    # both ends rounding noise of cancelling terms, far below the start's: a zero of that
+    # noise (no call)
+    fa0, fb0 = w.kept(idx, "fa0", "fb0")
+    root |= (rest & in_rounding_array(f1) & in_rounding_array(f2)
+             & (np.maximum(np.abs(f1), np.abs(f2))
+                <= _NOISE_FALL * np.maximum(np.abs(fa0), np.abs(fb0))))
     inside = np.zeros(x.size, dtype=bool)
     ask = rest & ~root
     if ask.any():
         far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
-        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask])
+        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask], look=False)
         where = np.flatnonzero(ask)
         root[where[verdict]] = True
         inside[where[~verdict]] = True

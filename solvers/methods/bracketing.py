@@ -30,6 +30,7 @@ from solvers.methods.common import (
     _start_value,
     _step_detail,
     _zero_is_root,
+    in_rounding,
 )
 from solvers.records import (
     EXACT_ZERO,
@@ -107,6 +108,9 @@ def _start_bracket(
     return _Bracket(a, fa, b, fb, underflowed)
 
 
+_NOISE_FALL = 2.0**-30  # ends of a noise-zero bracket: |f| this far below the start's
+
+
 def _iterate_zero(
     ev: _Evaluator,
     x: float,
@@ -114,8 +118,10 @@ def _iterate_zero(
     ends: tuple[tuple[float, float], tuple[float, float]],
     underflowed: set[float],
     bracket: tuple[float, float],
+    start: float = math.inf,
 ) -> tuple[float, str | None, Detail | None]:
-    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means:
+    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means
+    (``start``: the larger |f| at the starting ends, as evaluated):
     ``(value to carry on with, None, None)``, or ``(0.0, reason, detail)`` when the method
     stops there (``exact_zero``, or ``not_finite`` with the ``underflow_inside`` detail
     naming x and ``bracket``, the bracket held before x).
@@ -135,7 +141,14 @@ def _iterate_zero(
     ends within a factor 1024 of the chord's (f close to a straight line through x,
     with no drop of hundreds of orders of magnitude towards x as exp(-1/x**2) has),
     and that slope times ``tol`` at least 1024 times the smallest normal double (a
-    stretch of underflow around a root there is far narrower than ``tol``).
+    stretch of underflow around a root there is far narrower than ``tol``). Nor when
+    both ends' values are a few units of the rounding of normal-sized terms
+    (:func:`solvers.methods.common.in_rounding`) and 2**-30 of ``start`` or less (f fell
+    that far, to its rounding noise: an end of -2 and one of 6 are round numbers, no
+    noise): x is then a zero of f's rounding noise between them (``zero_between_noise``:
+    an odd multiple root typed out as a polynomial).
+    A 0.0 beside x otherwise stops the method (not finite), without the open methods'
+    look further out: the bracket ends are the method's evidence.
     """
     (x1, f1), (x2, f2) = ends
     for end, value in ((x1, f1), (x2, f2)):
@@ -145,9 +158,13 @@ def _iterate_zero(
     far = x2 if abs(x - x1) <= abs(x - x2) else x1
     if _straight_through(x, x1, f1, x2, f2, tol):
         return 0.0, EXACT_ZERO, None
-    root, why = _zero_is_root(ev, x, tol, toward=far)
-    if root:
-        return 0.0, EXACT_ZERO, why
+    if (in_rounding(f1) and in_rounding(f2)
+            and max(abs(f1), abs(f2)) <= _NOISE_FALL * start):
+        # both ends are rounding noise of cancelling terms: x, between them, is a zero of
+        # that noise (a multiple root typed out), whatever f does beside it
+        return 0.0, EXACT_ZERO, Detail("zero_between_noise", (abs(f1), abs(f2)))
+    if _zero_is_root(ev, x, tol, toward=far, look=False)[0]:
+        return 0.0, EXACT_ZERO, None
     return 0.0, NOT_FINITE, _interior_underflow(x, *bracket)
 
 
@@ -241,7 +258,8 @@ def bisection(
         recorded = fmid
         if fmid == 0.0:
             fmid, stop, why = _iterate_zero(
-                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed, (lo, hi)
+                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed, (lo, hi),
+                max(abs(steps[0].fx), abs(steps[1].fx)),
             )
             if stop:
                 steps.append(Step(iterations + 1, mid, recorded, None, mid - last, mid, hi))
@@ -334,7 +352,8 @@ def _regula_falsi(
         recorded = fx
         if fx == 0.0:
             fx, stop, why = _iterate_zero(
-                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed, (lo, hi)
+                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed, (lo, hi),
+                max(abs(steps[0].fx), abs(steps[1].fx)),
             )
             if stop:
                 steps.append(Step(iterations + 1, x, recorded, None, x - xb, *sorted((xb, x))))

@@ -133,7 +133,7 @@ def brent(
         if fb == 0.0:
             fb, stop, why = _iterate_zero(
                 ev, xb, xtol_ + rtol_ * abs(xb), ((xa, fa), (xc, fc)), underflowed,
-                tuple(sorted((xa, xc))),
+                tuple(sorted((xa, xc))), max(abs(steps[0].fx), abs(steps[1].fx)),
             )
             if stop:
                 steps.append(Step(iterations + 1, xb, recorded, None, xb - last,

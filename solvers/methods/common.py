@@ -256,8 +256,8 @@ def probe_step(x: float, tol: float) -> float:
     return max(tol, 2.0 * math.ulp(x), sys.float_info.min)
 
 
-def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None
-                  ) -> tuple[bool, Detail | None]:
+def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None,
+                  look: bool = True) -> tuple[bool, Detail | None]:
     """Whether f(x) == 0.0 is a zero of f, not a value that underflowed to 0, and the
     detail that goes with a root on a plateau of rounding (``zero_plateau``, else None).
 
@@ -276,6 +276,8 @@ def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = N
     multiple root of an f typed out as a polynomial (x^3 - 3x + 2 is 0.0 in doubles for
     |x - 1| below about 1e-8). Where a neighbour is 0.0, f is asked further out on both
     sides (:func:`_rounding_plateau`): a root on a plateau of rounding, or underflow.
+    Without ``look`` (a bracketing method's iterate, whose bracket ends tell it first:
+    :func:`solvers.methods.bracketing._iterate_zero`) such a zero is no root.
 
     ``toward`` (a bracketing method's farther bracket end) is the side tried first: a
     method closing in on a stretch of underflow from inside it comes from that side, so
@@ -287,7 +289,7 @@ def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = N
     for side in (x + first, x - first):
         value = ev(side)
         if value == 0.0:
-            return _rounding_plateau(ev, x, step)
+            return _rounding_plateau(ev, x, step) if look else (False, None)
         finite = finite or math.isfinite(value)
     return finite, None
 
@@ -311,6 +313,16 @@ def _lowest_bit(v: float) -> float:
     return math.ldexp(1.0, exponent - 53 + (whole & -whole).bit_length() - 1)
 
 
+def in_rounding(v: float) -> bool:
+    """Whether a value of f is a few units of the rounding of normal-sized terms: a whole
+    multiple, at most :data:`_QUANTA`, of a power of two above 1e-290 (a smooth non-zero
+    value needs some 50 bits; a subnormal one is a multiple of 2**-1074 only)."""
+    if v == 0.0 or not math.isfinite(v):
+        return False
+    q = _lowest_bit(abs(v))
+    return q > 1e-290 and abs(v) <= _QUANTA * q
+
+
 def plateau_detail(x: float, step: float, values: Sequence[float]) -> Detail | None:
     """The verdict on f's ``values`` at :func:`plateau_points` (x, step): a ``zero_in_noise``
     detail (the distance out to f's nearest non-zero value, and its size) when f(x) ==
@@ -328,10 +340,8 @@ def plateau_detail(x: float, step: float, values: Sequence[float]) -> Detail | N
         found = None
         for m, v in zip(PLATEAU_REACH, side, strict=True):
             if v != 0.0:
-                if math.isfinite(v):
-                    q = _lowest_bit(abs(v))
-                    if q > 1e-290 and abs(v) <= _QUANTA * q:
-                        found = (step * m, abs(v))
+                if in_rounding(v):
+                    found = (step * m, abs(v))
                 break
         if found is None:
             return None
