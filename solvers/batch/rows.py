@@ -529,12 +529,12 @@ def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
     value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
     rest = ~(u1 | u2)
     root = rest & _straight_through(x, x1, f1, x2, f2, tol)
-    # both ends rounding noise of cancelling terms, far below the start's: a zero of that
-    # noise (no call)
+    # the nearer end rounding noise of cancelling terms, far below the start's: a zero of
+    # that noise (no call)
     fa0, fb0 = w.kept(idx, "fa0", "fb0")
-    root |= (rest & in_rounding_array(f1) & in_rounding_array(f2)
-             & (np.maximum(np.abs(f1), np.abs(f2))
-                <= _NOISE_FALL * np.maximum(np.abs(fa0), np.abs(fb0))))
+    f_near = np.where(np.abs(x - x1) <= np.abs(x - x2), f1, f2)
+    root |= (rest & in_rounding_array(f_near)
+             & (np.abs(f_near) <= _NOISE_FALL * np.maximum(np.abs(fa0), np.abs(fb0))))
     inside = np.zeros(x.size, dtype=bool)
     ask = rest & ~root
     if ask.any():

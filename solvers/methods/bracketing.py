@@ -142,11 +142,12 @@ def _iterate_zero(
     with no drop of hundreds of orders of magnitude towards x as exp(-1/x**2) has),
     and that slope times ``tol`` at least 1024 times the smallest normal double (a
     stretch of underflow around a root there is far narrower than ``tol``). Nor when
-    both ends' values are a few units of the rounding of normal-sized terms
+    f at the nearer end is a few units of the rounding of normal-sized terms
     (:func:`solvers.methods.common.in_rounding`) and 2**-30 of ``start`` or less (f fell
-    that far, to its rounding noise: an end of -2 and one of 6 are round numbers, no
-    noise): x is then a zero of f's rounding noise between them (``zero_between_noise``:
-    an odd multiple root typed out as a polynomial).
+    that far, to its rounding noise: an end of -2 is a round number, no noise): x is
+    then a zero of f's rounding noise (``zero_between_noise``: an odd multiple root
+    typed out as a polynomial), where underflow would need f's terms to fall from that
+    end's size (1e-274 at least) below 1e-308 on the way.
     A 0.0 beside x otherwise stops the method (not finite), without the open methods'
     look further out: the bracket ends are the method's evidence.
     """
@@ -158,11 +159,11 @@ def _iterate_zero(
     far = x2 if abs(x - x1) <= abs(x - x2) else x1
     if _straight_through(x, x1, f1, x2, f2, tol):
         return 0.0, EXACT_ZERO, None
-    if (in_rounding(f1) and in_rounding(f2)
-            and max(abs(f1), abs(f2)) <= _NOISE_FALL * start):
-        # both ends are rounding noise of cancelling terms: x, between them, is a zero of
-        # that noise (a multiple root typed out), whatever f does beside it
-        return 0.0, EXACT_ZERO, Detail("zero_between_noise", (abs(f1), abs(f2)))
+    near, f_near = (x1, f1) if abs(x - x1) <= abs(x - x2) else (x2, f2)
+    if in_rounding(f_near) and abs(f_near) <= _NOISE_FALL * start:
+        # the nearer end is rounding noise of cancelling terms: x, a 0.0 beyond it inside
+        # the bracket, is a zero of that noise (a multiple root typed out), not underflow
+        return 0.0, EXACT_ZERO, Detail("zero_between_noise", (abs(x - near), abs(f_near)))
     if _zero_is_root(ev, x, tol, toward=far, look=False)[0]:
         return 0.0, EXACT_ZERO, None
     return 0.0, NOT_FINITE, _interior_underflow(x, *bracket)

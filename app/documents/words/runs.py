@@ -231,13 +231,12 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
                                 "multiple root typed out as a polynomial); where the root lies "
                                 "within that noise this does not say: a scan of the range "
                                 "gives the stretch"),
-    "zero_between_noise": lambda v: (f"f is 0.0 at x between bracket ends where it is "
-                                     f"{number(v[0], 3)} and {number(v[1], 3)}, a few units "
-                                     "of the rounding of its terms: x is a zero of f's "
-                                     "rounding noise (as around an odd multiple root typed "
-                                     "out as a polynomial); where the root lies within that "
-                                     "noise this does not say: a scan of the range gives the "
-                                     "stretch"),
+    "zero_between_noise": lambda v: (f"f is 0.0 at x, and {number(v[1], 3)} at the bracket "
+                                     f"end {number(v[0], 3)} from it, a few units of the "
+                                     "rounding of its terms: x is a zero of f's rounding "
+                                     "noise (as around an odd multiple root typed out as a "
+                                     "polynomial); where the root lies within that noise this "
+                                     "does not say: a scan of the range gives the stretch"),
     "end_held": lambda v: (f"the bracket end x = {exact(v[0])} stood still for the last "
                            f"{int(v[1])} iterations: plain false position stalls so on a convex "
                            "or concave f (every chord lands on the same side of the root); "
