@@ -543,7 +543,8 @@ class TableWindow(QWidget):
         self.progress.setValue(1000)
         self.export_button.setEnabled(True)
         self.sheet_button.setEnabled(self.worksheet is not None)
-        self.say(words.batch_summary(done.batch))
+        advice = words.shared_bracket_advice(done.batch)
+        self.say(words.batch_summary(done.batch) + (f"\n⚠ {advice}" if advice else ""))
         self.draw_chart()
 
     def _on_error(self, message: str) -> None:

@@ -397,6 +397,21 @@ def start_notes(start: Any, unit: str | None = None) -> tuple[str, ...]:
     return tuple(start_text(c, unit) for c in getattr(start, "choices", ()))
 
 
+def polish_note(settings: Any, unit: str | None = None) -> str:
+    """What a polish of one root started from, and that the typed start values stand.
+
+    ``settings`` are the polish's own (x0 at the root, a bracket a few millionths wide
+    around it, grown until f changes sign); ``unit`` the unknown's.
+    """
+    u = f" {unit}" if unit else ""
+    started = f"x0 = {exact(settings.x0)}{u}"
+    if settings.bracket is not None:
+        started += f", bracket [{exact(settings.bracket[0])}, {exact(settings.bracket[1])}]{u}"
+    return (f"Polish of the root near {_g6(settings.x0)}{u}: every method started at it "
+            f"({started}). The start values and bracket you typed are kept: Solve and the "
+            "tables of inputs start from them.")
+
+
 # ----------------------------------------------------------------- agreement
 
 

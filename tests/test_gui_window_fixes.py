@@ -1,0 +1,138 @@
+"""Defects seen in the window, each pinned with real mouse and key events on the real widgets.
+
+1. A polish wrote its bracket (a few millionths wide around one root) into the typed
+   bracket fields; the tables window took it as every row's bracket and a Brent run
+   failed on every row. A polish now leaves the typed inputs alone, and a shared bracket
+   that misses most rows' roots is said plainly, with what to do.
+
+Outside references: scipy.optimize.brentq for the friction factors (Colebrook–White, the
+cooling-water sample's invented line).
+"""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+import scipy.optimize
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QGuiApplication
+from PySide6.QtTest import QTest
+
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import open_tables_window, settle  # noqa: E402
+
+from app.cli import main  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)  # fixtures: window, dialogs, isolated
+pytestmark = pytest.mark.filterwarnings("ignore:Enum value .*AA_UseHighDpiPixmaps")
+
+COLEBROOK = "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))"
+
+
+def colebrook(f: float, Re: float, eps: float = 4.5e-5, D: float = 0.15) -> float:
+    return 1 / math.sqrt(f) + 2 * math.log10(eps / (3.7 * D) + 2.51 / (Re * math.sqrt(f)))
+
+
+def double_click_row(qtbot, view, row: int) -> None:
+    rect = view.visualRect(view.model().index(row, 0))
+    QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    QTest.mouseRelease(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+
+
+def type_into(qtbot, edit, text: str) -> None:
+    edit.setFocus()
+    edit.selectAll()
+    QTest.keyClick(edit, Qt.Key.Key_Delete)
+    qtbot.keyClicks(edit, text)
+
+
+def run_table(qtbot, t) -> None:
+    before = t.done
+    qtbot.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
+
+
+def paste_rows(qtbot, t, text: str) -> None:
+    QGuiApplication.clipboard().setText(text)
+    t.loaded, t.last_error = False, ""
+    qtbot.mouseClick(t.paste_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=20_000)
+
+
+def test_polish_keeps_the_typed_start_values_and_a_table_run_uses_them(qtbot, window):
+    assert window.load_sample("cooling-water-friction.json")
+    settle(qtbot, window)
+    typed = {k: window.inputs.fields[k].value() for k in ("x0", "x1", "a", "b")}
+    assert typed == {"x0": 0.02, "x1": 0.03, "a": 0.005, "b": 0.1}  # the sample's
+    before = window.scan_result
+    qtbot.mouseClick(window.inputs.scan_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: window.scan_result is not before
+                    and not window.runner.is_busy("scan"), timeout=30_000)
+    root = window.scan_result.roots[0].x
+    assert root == pytest.approx(scipy.optimize.brentq(colebrook, 0.005, 0.1, args=(1.2e5,),
+                                                       xtol=1e-15), rel=1e-12)  # brentq
+    solved = window.solution
+    double_click_row(qtbot, window.roots_view, 0)  # polish the root
+    qtbot.waitUntil(lambda: window.solution is not solved and window.solution is not None
+                    and not window.runner.is_busy("solve"), timeout=20_000)
+    polished = window.solution
+    for run in polished.runs:
+        assert run.converged and run.root == pytest.approx(root, rel=1e-10)
+    # The polish ran from its own narrow bracket, and the typed inputs are untouched.
+    a, b = polished.worksheet.settings.bracket
+    assert a <= root <= b and b - a < 1e-4
+    assert {k: window.inputs.fields[k].value() for k in typed} == typed
+    # It is current for these inputs (not greyed as stale) and says what it started from.
+    assert not window.document.stale.solution
+    note = window.lanes.agreement.text()
+    assert "Polish of the root" in note and "you typed are kept" in note
+    # The worksheet (what Save writes) keeps the typed bracket.
+    assert window.worksheet().settings.bracket == (0.005, 0.1)
+
+    tables = open_tables_window(qtbot, window)
+    qtbot.waitExposed(tables)
+    assert (tables.a_edit.text(), tables.b_edit.text()) != ("", "")
+    assert float(tables.a_edit.text()) == 0.005 and float(tables.b_edit.text()) == 0.1
+    reynolds = [5e3, 4e4, 1.2e5, 8e5, 5e6]
+    paste_rows(qtbot, tables, "Re\n" + "\n".join(repr(r) for r in reynolds))
+    assert not tables.last_error
+    tables.method_box.setCurrentIndex(tables.method_box.findData("brent"))
+    run_table(qtbot, tables)
+    batch = tables.done.batch
+    assert batch.converged.all()
+    for k, Re in enumerate(reynolds):
+        ref = scipy.optimize.brentq(colebrook, 0.005, 0.1, args=(Re,), xtol=1e-15)  # brentq
+        assert batch.root[k] == pytest.approx(ref, rel=1e-10)
+    assert "bracket" not in tables.status.text()  # no advice where nothing failed
+
+    # A bracket as narrow as a polish's, typed for every row: most rows miss, and the
+    # window says why and what to do rather than only counting the failures.
+    type_into(qtbot, tables.a_edit, repr(a))
+    type_into(qtbot, tables.b_edit, repr(b))
+    run_table(qtbot, tables)
+    batch = tables.done.batch
+    assert batch.converged.tolist() == [False, False, True, False, False]
+    status = tables.status.text()
+    assert "4 of 5 rows" in status and "does not enclose" in status
+    assert "bracket_a" in status and "Widen" in status
+
+
+def test_the_cli_gives_the_same_advice_for_a_shared_bracket_that_misses(tmp_path, capsys):
+    table = tmp_path / "flows.csv"
+    table.write_text("Re\n5000\n40000\n120000\n", encoding="utf-8")
+    root = scipy.optimize.brentq(colebrook, 0.005, 0.1, args=(1.2e5,), xtol=1e-15)  # brentq
+    code = main(["batch", COLEBROOK, "--unknown", "f", "--table", str(table),
+                 "--param", "eps=4.5e-5", "--param", "D=0.15", "--method", "brent",
+                 "--bracket", repr(root * (1 - 1e-4)), repr(root * (1 + 1e-4))])
+    out = capsys.readouterr().out
+    assert code == 0
+    assert "1 converged" in out and "2 stopped on no sign change" in out
+    assert "advice:" in out and "2 of 3 rows" in out and "bracket_b" in out
+    # A bracket that encloses every row's root gives no advice.
+    code = main(["batch", COLEBROOK, "--unknown", "f", "--table", str(table),
+                 "--param", "eps=4.5e-5", "--param", "D=0.15", "--method", "brent",
+                 "--bracket", "0.005", "0.1"])
+    out = capsys.readouterr().out
+    assert code == 0 and "3 converged" in out and "advice:" not in out
