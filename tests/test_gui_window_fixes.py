@@ -136,3 +136,28 @@ def test_the_cli_gives_the_same_advice_for_a_shared_bracket_that_misses(tmp_path
                  "--bracket", "0.005", "0.1"])
     out = capsys.readouterr().out
     assert code == 0 and "3 converged" in out and "advice:" not in out
+
+
+def test_pasting_an_empty_clipboard_says_the_clipboard_holds_no_table(qtbot, window):
+    """3. It said "empty file", for a paste."""
+    tables = open_tables_window(qtbot, window)
+    qtbot.waitExposed(tables)
+    QGuiApplication.clipboard().clear()
+    paste_rows_as_is(qtbot, tables)
+    shown = tables.status.text()
+    assert "the clipboard holds no table" in shown and "empty" in shown
+    assert "file" not in shown and tables.model.rowCount() == 0
+    assert "header row" in shown  # what to copy instead
+    # Text that is no table either (comment lines only) is named as such.
+    QGuiApplication.clipboard().setText("# Re\n\n# 120000\n")
+    paste_rows_as_is(qtbot, tables)
+    assert "the clipboard holds no table (only comment lines" in tables.status.text()
+    # A real table pasted afterwards is read.
+    paste_rows(qtbot, tables, "Re\teps\n120000\t4.5e-5\n")
+    assert not tables.last_error and tables.model.rowCount() == 1
+
+
+def paste_rows_as_is(qtbot, t) -> None:
+    t.loaded, t.last_error = False, ""
+    qtbot.mouseClick(t.paste_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=20_000)

@@ -425,7 +425,7 @@ class TableWindow(QWidget):
     def paste_table(self) -> bool:
         from app.documents.tables import parse_table
 
-        return self._read(partial(parse_table, QGuiApplication.clipboard().text()))
+        return self._read(partial(parse_table, QGuiApplication.clipboard().text(), pasted=True))
 
     def make_sweep(self) -> bool:
         """A sweep of one parameter, ``NAME`` or ``NAME [unit]``: the values from and to in
