@@ -4,6 +4,8 @@
    bracket fields; the tables window took it as every row's bracket and a Brent run
    failed on every row. A polish now leaves the typed inputs alone, and a shared bracket
    that misses most rows' roots is said plainly, with what to do.
+2. The design chart's legend could cover the crosses of failed rows: it is above the axes.
+3. Pasting from an empty clipboard said "empty file".
 
 Outside references: scipy.optimize.brentq for the friction factors (Colebrook–White, the
 cooling-water sample's invented line).
@@ -161,3 +163,53 @@ def paste_rows_as_is(qtbot, t) -> None:
     t.loaded, t.last_error = False, ""
     qtbot.mouseClick(t.paste_button, Qt.MouseButton.LeftButton)
     qtbot.waitUntil(lambda: t.loaded or bool(t.last_error), timeout=20_000)
+
+
+def _legend_clear_of_data(figure) -> None:
+    """The design chart's legend lies wholly inside the figure and wholly outside the
+    axes, so no converged point and no failure cross can be under it."""
+    figure.canvas.draw()
+    ax = figure.axes[0]
+    legend = ax.get_legend()
+    assert legend is not None
+    renderer = figure.canvas.get_renderer()
+    box, axes_box, fig_box = (legend.get_window_extent(renderer), ax.get_window_extent(renderer),
+                              figure.bbox)
+    assert box.y0 >= axes_box.y1 - 0.5  # above the axes: over no data
+    assert fig_box.x0 <= box.x0 and box.x1 <= fig_box.x1 and box.y1 <= fig_box.y1 + 0.5
+    # the failure crosses themselves are drawn inside the axes, and not under the legend
+    crosses = [line for line in ax.get_lines() if line.get_marker() == "x"]
+    assert crosses
+    for line in crosses:
+        points = line.get_transform().transform(line.get_xydata())
+        for px, py in points:
+            assert axes_box.x0 <= px <= axes_box.x1 and axes_box.y0 <= py <= axes_box.y1
+            assert not (box.x0 <= px <= box.x1 and box.y0 <= py <= box.y1)
+    assert min(t.get_fontsize() for t in legend.get_texts()) >= 7  # readable
+
+
+def test_the_design_chart_legend_never_hides_failed_rows(qtbot, window):
+    """2. The legend sat inside the axes ("best"), over the crosses of failed rows when
+    every corner held data."""
+    tables = open_tables_window(qtbot, window)
+    qtbot.waitExposed(tables)
+    tables.resize(1280, 800)
+    type_into(qtbot, tables.equation_edit, "x^2 - p")
+    type_into(qtbot, tables.unknown_edit, "x")
+    # rows with no real root (p < 0) among rows that have one, in every part of the chart
+    values = [9, -1, 4, -2, 1, 16, -3, 25, 0.25, -4, 36, 2, -5, 30, 20]
+    paste_rows(qtbot, tables, "p\n" + "\n".join(str(v) for v in values))
+    tables.method_box.setCurrentIndex(tables.method_box.findData("newton"))
+    type_into(qtbot, tables.x0_edit, "3")
+    run_table(qtbot, tables)
+    batch = tables.done.batch
+    # x = sqrt(p) where p >= 0 (closed form); no row with p < 0 converges
+    for k, p in enumerate(values):
+        if p >= 0:
+            assert batch.converged[k] and batch.root[k] == pytest.approx(math.sqrt(p), rel=1e-12)
+        else:
+            assert not batch.converged[k]
+    _legend_clear_of_data(tables.chart.figure)
+    qtbot.mouseClick(tables.log_y, Qt.MouseButton.LeftButton)  # redrawn: still clear
+    qtbot.waitUntil(lambda: tables.chart.figure.axes[0].get_yscale() == "log")
+    _legend_clear_of_data(tables.chart.figure)

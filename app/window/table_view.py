@@ -570,6 +570,7 @@ class TableWindow(QWidget):
                                   unit=self.done.equation.unknown_unit,
                                   log_x=self.log_x.isChecked(), log_y=self.log_y.isChecked(),
                                   line=self.kind == "sweep")
+        self.chart.fit_margins()  # now that the axes hold their labels and legend
         self.chart.redraw()
 
     def open_row(self, row: int) -> None:
