@@ -103,7 +103,7 @@ class MainWindow(QMainWindow):
         self.body.addWidget(self.lanes)
         self.body.setStretchFactor(0, 3)
         self.body.setStretchFactor(1, 2)
-        self.body.setSizes([380, 270])
+        self.body.setSizes([400, 250])
         central = QWidget()
         layout = QVBoxLayout(central)
         layout.setContentsMargins(2, 2, 2, 2)
