@@ -7,6 +7,8 @@
 2. The design chart's legend could cover the crosses of failed rows: it is above the axes.
 3. Pasting from an empty clipboard said "empty file".
 4. At 1280x800 the inputs column had to be scrolled to reach the start values.
+5. Worksheet refusals named a list entry by its index (``parameters[1].value``); they name
+   it by its own name (``parameter "D", value``), from the CLI and in the window.
 
 Outside references: scipy.optimize.brentq for the friction factors (Colebrook–White, the
 cooling-water sample's invented line).
@@ -257,3 +259,58 @@ def test_the_start_values_show_without_scrolling_at_1280_by_800(qtbot, window, s
     qtbot.waitUntil(lambda: not window.inputs.problem_area.isVisible())
     qtbot.wait(50)
     _start_values_in_sight(window)
+
+
+# ------------------------------------------------------------------ 5. worksheet refusals
+
+
+def _broken_copy(tmp_path, change, name="broken.json"):
+    import json
+    from pathlib import Path
+
+    data = json.loads((Path(__file__).parents[1] / "samples" / "cooling-water-friction.json")
+                      .read_text("utf-8"))
+    change(data)
+    path = tmp_path / name
+    path.write_text(json.dumps(data), "utf-8")
+    return path
+
+
+# (what is broken, the words that must name it; the sample's parameters are Re, eps, D)
+REFUSED = [
+    (lambda d: d["parameters"][2].__setitem__("value", "0.15 m"),
+     'parameter "D", value: must be a number, got str'),
+    (lambda d: d["parameters"][1].pop("value"), 'parameter "eps", value: missing'),
+    (lambda d: d["parameters"][0].__setitem__("unit", "furlongz"),
+     "parameter \"Re\", unit: unknown unit 'furlongz'"),
+    (lambda d: d["parameters"][2].__setitem__("name", "2D"),
+     "parameter 3, name: '2D' is not a valid name"),
+    (lambda d: d.__setitem__("table", {"columns": [{"name": "Re", "values": [1e5, 2e5, "x"]}]}),
+     'table column "Re", row 3: must be a number, got str'),
+    (lambda d: d["settings"].__setitem__("bracket", [0.005, None]),
+     "settings.bracket, second end: must be a number, got NoneType"),
+]
+
+
+@pytest.mark.parametrize(("change", "named"), REFUSED, ids=[n.split(":")[0] for _, n in REFUSED])
+def test_the_cli_names_a_bad_worksheet_field_by_the_parameter(tmp_path, capsys, change, named):
+    path = _broken_copy(tmp_path, change)
+    code = main(["solve", "--worksheet", str(path)])
+    err = capsys.readouterr().err
+    assert code == 2 and named in err and len(err.strip().splitlines()) == 1
+    assert "parameters[" not in err and "columns[" not in err  # no index to count
+
+
+def test_the_window_names_a_bad_worksheet_field_by_the_parameter(qtbot, window, dialogs,
+                                                                 tmp_path):
+    """5. Opening a worksheet said 'parameters[2].value'; it names the parameter."""
+    before = window.strip.text()
+    path = _broken_copy(tmp_path, REFUSED[0][0])
+    dialogs.open_name = str(path)
+    window.activateWindow()
+    qtbot.waitUntil(window.isActiveWindow, timeout=5000)
+    QTest.keyClick(window, Qt.Key.Key_O, Qt.KeyboardModifier.ControlModifier)  # File > Open
+    qtbot.waitUntil(lambda: bool(dialogs.titles("warning")), timeout=5000)
+    assert window.last_error == f"broken.json: {REFUSED[0][1]}"
+    assert REFUSED[0][1] in dialogs.titles("warning")[-1]
+    assert window.strip.text() == before  # the worksheet on screen is kept
