@@ -9,6 +9,8 @@
 4. At 1280x800 the inputs column had to be scrolled to reach the start values.
 5. Worksheet refusals named a list entry by its index (``parameters[1].value``); they name
    it by its own name (``parameter "D", value``), from the CLI and in the window.
+6. With the unknown in a unit, the derivative was typeset with that unit's scale factors
+   (10^15 for a bore in mm); it is typeset as the equation was typed.
 
 Outside references: scipy.optimize.brentq for the friction factors (Colebrook–White, the
 cooling-water sample's invented line).
@@ -314,3 +316,63 @@ def test_the_window_names_a_bad_worksheet_field_by_the_parameter(qtbot, window, 
     assert window.last_error == f"broken.json: {REFUSED[0][1]}"
     assert REFUSED[0][1] in dialogs.titles("warning")[-1]
     assert window.strip.text() == before  # the worksheet on screen is kept
+
+
+# ------------------------------------------------------------------ 6. derivative shown
+
+
+def test_the_derivative_is_shown_in_the_quantities_typed_whatever_the_unknowns_unit(
+        qtbot, window):
+    """6. With the bore asked in mm the strip typeset f' with 10^15 (the mm's scale to the
+    sixth power, by the chain rule); it shows df/dD of the equation as typed."""
+    from gui_helpers import solve_by_keys
+
+    assert window.load_sample("cooling-line-bore-us-customary.json")  # D in mm
+    settle(qtbot, window)
+    qtbot.waitUntil(lambda: window.analysis.derivative_png is not None, timeout=10_000)
+    shown = window.analysis.derivative_latex
+    mantissa = f"{40 / math.pi ** 2:.6g}"  # d/dD of 8 fD L Q^2/(pi^2 g D^5): -5 * 8/pi^2
+    assert shown == rf"\frac{{{mantissa} \cdot L \cdot Q^{{2}} \cdot \mathrm{{fD}}}}" \
+                    r"{D^{6} \cdot g}"
+    assert "10^{" not in shown
+    # The same formula when the bore is asked in inches (typed into the unit box).
+    box = window.strip.unit_box
+    qtbot.mouseDClick(box, Qt.MouseButton.LeftButton)
+    QTest.keyClick(box, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    qtbot.keyClicks(box, "in")
+    QTest.keyClick(box, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: window.analysis.equation is not None
+                    and window.analysis.equation.unknown_unit == "in", timeout=10_000)
+    assert window.analysis.derivative_latex == shown
+    # Newton still takes f' of D in inches (the scale is in what it evaluates) and lands
+    # on the closed form D = (8 fD L Q^2 / (pi^2 g hf))^(1/5), in SI from NIST SP 811's
+    # factors (ft = 0.3048 m, US gal = 3.785411784e-3 m^3).
+    ft, gal = 0.3048, 3.785411784e-3
+    hf, L, Q, g = 15 * ft, 800 * ft, 450 * gal / 60, 32.174 * ft
+    bore_in = (8 * 0.018 * L * Q**2 / (math.pi**2 * g * hf)) ** 0.2 / 0.0254
+    x0 = window.inputs.fields["x0"]  # a start in inches (the sample's is in mm)
+    qtbot.mouseDClick(x0, Qt.MouseButton.LeftButton)
+    QTest.keyClick(x0, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
+    qtbot.keyClicks(x0, "5")
+    settle(qtbot, window)
+    solution = solve_by_keys(qtbot, window)
+    newton = next(r for r in solution.runs if r.method == "newton")
+    assert newton.converged and newton.derivative == "symbolic"
+    assert newton.root == pytest.approx(bore_in, rel=1e-9)
+
+
+def test_the_sheet_typesets_the_same_derivative_and_says_what_newton_evaluated(tmp_path,
+                                                                               capsys):
+    """6, on the sheet: the typeset f' is the strip's; the numbers are Newton's, per mm."""
+    import pypdf
+
+    samples = __import__("pathlib").Path(__file__).parents[1] / "samples"
+    for sample, said in (("cooling-line-bore-us-customary.json", True),  # D in mm
+                         ("cooling-water-friction.json", False)):  # no units
+        pdf = tmp_path / f"{sample}.pdf"
+        assert main(["report", str(samples / sample), "--pdf", str(pdf)]) == 0
+        capsys.readouterr()
+        text = " ".join(pypdf.PdfReader(str(pdf)).pages[0].extract_text().split())
+        assert "Derivative used by Newton" in text
+        assert ("with the parameter values, and D as its number in mm (as Newton takes it):"
+                in text) is said
