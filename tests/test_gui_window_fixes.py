@@ -124,6 +124,14 @@ def test_polish_keeps_the_typed_start_values_and_a_table_run_uses_them(qtbot, wi
     status = tables.status.text()
     assert "4 of 5 rows" in status and "does not enclose" in status
     assert "bracket_a" in status and "Widen" in status
+    # The remedy it names works: each row its own bracket, the shared one cleared.
+    rows = ["Re\tbracket_a\tbracket_b"] + [f"{Re!r}\t0.005\t0.1" for Re in reynolds]
+    paste_rows(qtbot, tables, "\n".join(rows))
+    type_into(qtbot, tables.a_edit, "")
+    type_into(qtbot, tables.b_edit, "")
+    run_table(qtbot, tables)
+    assert not tables.last_error and tables.done.batch.converged.all()
+    assert "does not enclose" not in tables.status.text()
 
 
 def test_the_cli_gives_the_same_advice_for_a_shared_bracket_that_misses(tmp_path, capsys):

@@ -422,11 +422,11 @@ class MainWindow(QMainWindow):
         self.statusBar().showMessage(f"Polishing the root near {_num(x)}…")
         self.solve_started_at = time.perf_counter()
         scan = self.document.scan
+        basis = result_key(ws)  # the inputs it answers: an edit meanwhile makes it stale
 
         def done(result: tuple[Any, tuple[float, float], Any]) -> None:
             polished = result[0].worksheet
-            self._on_solved(result, result_key(polished), scan,
-                            basis=result_key(self.solve_worksheet()))
+            self._on_solved(result, result_key(polished), scan, basis=basis)
             self.lanes.add_note(polish_note(polished.settings, result[0].equation.unknown_unit))
 
         self.runner.submit("solve", lambda _p, _c: polish_job(ws, equation, x, scan),

@@ -404,9 +404,10 @@ def polish_note(settings: Any, unit: str | None = None) -> str:
     around it, grown until f changes sign); ``unit`` the unknown's.
     """
     u = f" {unit}" if unit else ""
-    started = f"x0 = {exact(settings.x0)}{u}"
+    started = f"x0 = {number(settings.x0, 10)}{u}"  # every digit is in the lanes' tables
     if settings.bracket is not None:
-        started += f", bracket [{exact(settings.bracket[0])}, {exact(settings.bracket[1])}]{u}"
+        a, b = settings.bracket
+        started += f", bracket [{number(a, 10)}, {number(b, 10)}]{u}"
     return (f"Polish of the root near {_g6(settings.x0)}{u}: every method started at it "
             f"({started}). The start values and bracket you typed are kept: Solve and the "
             "tables of inputs start from them.")
