@@ -96,7 +96,7 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
             headers: list[str], cells: list[list[str]] | list[tuple[str, ...]],
             names: list[str], columns: list[np.ndarray], extra: dict[str, str]) -> int:
     from app.documents import tables
-    from app.documents.words import batch_note_text, batch_summary
+    from app.documents.words import batch_note_text, batch_summary, shared_bracket_advice
 
     out = args.out  # checked before the solving (_out_checked)
     if out:
@@ -120,6 +120,9 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
     unit = f" [{equation.unknown_unit}]" if equation.unknown_unit else ""
     print(f"unknown:  {equation.unknown}{unit}    method: {batch.method}")
     print(batch_summary(batch))
+    advice = shared_bracket_advice(batch)
+    if advice:
+        print(f"advice: {advice}")
     for index, code in batch.notes[:20]:
         print(f"note: row {index + 1}: {batch_note_text(code)}")
     if len(batch.notes) > 20:

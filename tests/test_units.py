@@ -290,7 +290,7 @@ def test_worksheet_json_keeps_units_and_plain_files_stay_as_they_were():
 def test_worksheet_with_an_unknown_unit_names_the_field():
     text = dumps(Worksheet("x = a", parameters=(Parameter("a", 2.0),))).replace(
         '"value": 2.0', '"value": 2.0, "unit": "mmm"')
-    with pytest.raises(ValueError, match=r"parameters\[0\]\.unit: unknown unit 'mmm'"):
+    with pytest.raises(ValueError, match=r"parameter \"a\", unit: unknown unit 'mmm'"):
         loads(text)
 
 

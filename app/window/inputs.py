@@ -366,6 +366,10 @@ class InputsPanel(QWidget):
         problems = self.problems()
         self.problem_label.setText("\n".join(problems))
         self.problem_area.setToolTip("\n".join(problems))
+        # Shown only while there is a problem: four empty lines kept under the actions
+        # pushed the start values below the fold at 1280x800. Its height is fixed, so
+        # showing it re-lays out this column only (the fields scroll), not the window.
+        self.problem_area.setVisible(bool(problems))
 
     def methods(self) -> tuple[str, ...]:
         """The methods ticked, in the fixed order of the method table."""

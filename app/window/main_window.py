@@ -22,7 +22,7 @@ from PySide6.QtGui import QCloseEvent
 from PySide6.QtWidgets import QApplication, QLabel, QMainWindow, QSplitter, QVBoxLayout, QWidget
 
 from app import samples_dir  # noqa: F401 (the soak test finds the samples here)
-from app.documents.words import confirmed_text, method_label
+from app.documents.words import confirmed_text, method_label, polish_note
 from app.documents.worksheet import Parameter, Selection, Worksheet
 from app.window.actions import build_actions, build_menus
 from app.window.canvas import PlotPanel
@@ -103,7 +103,7 @@ class MainWindow(QMainWindow):
         self.body.addWidget(self.lanes)
         self.body.setStretchFactor(0, 3)
         self.body.setStretchFactor(1, 2)
-        self.body.setSizes([380, 270])
+        self.body.setSizes([400, 250])
         central = QWidget()
         layout = QVBoxLayout(central)
         layout.setContentsMargins(2, 2, 2, 2)
@@ -312,9 +312,9 @@ class MainWindow(QMainWindow):
         return True
 
     def _on_solved(self, result: tuple[Any, tuple[float, float], Any], key: str,
-                   scan: Any) -> None:
+                   scan: Any, basis: str | None = None) -> None:
         solution, (a, b), curve = result
-        self.document.set_solution(solution, key)
+        self.document.set_solution(solution, key, basis)
         self.lanes.show_solution(solution)
         self.plot.show_function(solution.equation.f, a, b, unknown=solution.equation.unknown,
                                 scan=scan, runs=solution.runs, curve=curve,
@@ -366,7 +366,7 @@ class MainWindow(QMainWindow):
         scan, equation, curve = result
         self.roots.scan_ended()
         # Only a solution of this very worksheet may draw its path over the new curve.
-        current = self.document.solution_for(ws)
+        current = self.document.shown_solution_for(ws)
         self.document.set_scan(scan, equation, key)
         self.plot.set_stale(False)
         self.roots.show_scan(scan, equation.unknown, equation.unknown_unit,
@@ -406,6 +406,14 @@ class MainWindow(QMainWindow):
         return self.polish_row(row)
 
     def polish_row(self, row: int) -> bool:
+        """Every method started at the scan's root ``row`` (x0 at it, a bracket a few
+        millionths wide around it).
+
+        The typed start values and bracket are left as they are: they are the engineer's
+        statement of where to look, which Solve and the tables of inputs start from (a
+        polish's bracket written into them made every row of a table miss its root). The
+        polish stays on screen until the inputs change, and says what it started from.
+        """
         if not 0 <= row < self.roots_model.rowCount():
             return False
         x = self.roots_model.root(row).x
@@ -414,16 +422,12 @@ class MainWindow(QMainWindow):
         self.statusBar().showMessage(f"Polishing the root near {_num(x)}…")
         self.solve_started_at = time.perf_counter()
         scan = self.document.scan
+        basis = result_key(ws)  # the inputs it answers: an edit meanwhile makes it stale
 
         def done(result: tuple[Any, tuple[float, float], Any]) -> None:
-            s = result[0].worksheet.settings
-            # Seed the start values from the root so a later Solve repeats the polish.
-            self.inputs.set_field("x0", s.x0)
-            self.inputs.set_field("x1", s.x1)
-            if s.bracket is not None:
-                self.inputs.set_field("a", s.bracket[0])
-                self.inputs.set_field("b", s.bracket[1])
-            self._on_solved(result, result_key(self.solve_worksheet()), scan)
+            polished = result[0].worksheet
+            self._on_solved(result, result_key(polished), scan, basis=basis)
+            self.lanes.add_note(polish_note(polished.settings, result[0].equation.unknown_unit))
 
         self.runner.submit("solve", lambda _p, _c: polish_job(ws, equation, x, scan),
                            on_done=done, on_error=self._on_solve_error)
@@ -440,7 +444,7 @@ class MainWindow(QMainWindow):
         """Record the chosen root (roots list first, else the converged root) and why."""
         row = self.roots.selected_row()
         scan = self.document.scan
-        solution = self.document.solution_for(self.solve_worksheet())
+        solution = self.document.shown_solution_for(self.solve_worksheet())
         if row is not None and scan is not None and self.roots_view.isEnabled():
             root = self.roots_model.root(row)
             x = root.x

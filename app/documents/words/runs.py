@@ -409,6 +409,22 @@ def start_notes(start: Any, unit: str | None = None) -> tuple[str, ...]:
     return tuple(start_text(c, unit) for c in getattr(start, "choices", ()))
 
 
+def polish_note(settings: Any, unit: str | None = None) -> str:
+    """What a polish of one root started from, and that the typed start values stand.
+
+    ``settings`` are the polish's own (x0 at the root, a bracket a few millionths wide
+    around it, grown until f changes sign); ``unit`` the unknown's.
+    """
+    u = f" {unit}" if unit else ""
+    started = f"x0 = {number(settings.x0, 10)}{u}"  # every digit is in the lanes' tables
+    if settings.bracket is not None:
+        a, b = settings.bracket
+        started += f", bracket [{number(a, 10)}, {number(b, 10)}]{u}"
+    return (f"Polish of the root near {_g6(settings.x0)}{u}: every method started at it "
+            f"({started}). The start values and bracket you typed are kept: Solve and the "
+            "tables of inputs start from them.")
+
+
 # ----------------------------------------------------------------- agreement
 
 
