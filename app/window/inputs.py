@@ -403,6 +403,21 @@ class InputsPanel(QWidget):
                 self.fields[key].set_value(value)
         self.show_problems()
 
+    def convert_fields(self, keys: tuple[str, ...], convert: Callable[[float], float]) -> bool:
+        """Each of the fields ``keys`` holding a number rewritten as ``convert`` of it (to
+        12 significant figures: the unit's factor leaves no more that mean anything);
+        returns whether any changed."""
+        changed = False
+        for key in keys:
+            value = self.fields[key].value()
+            if value is None or self.fields[key].problem():
+                continue
+            new = convert(value)
+            if math.isfinite(new):
+                self.fields[key].set_value(float(f"{new:.12g}"))
+                changed = True
+        return changed
+
     def set_field(self, key: str, value: float | None) -> None:
         """Set one field as if typed (clicks on the plot use this)."""
         self.fields[key].set_value(value)

@@ -129,6 +129,7 @@ class MainWindow(QMainWindow):
         # user edits -> the document
         self.strip.text_settled.connect(lambda _t: self.request_analysis())
         self.strip.unknown_chosen.connect(lambda _u: self._on_edit())
+        self.strip.unit_changed.connect(self._convert_start_values)
         self.strip.units_chosen.connect(self._on_edit)
         self.strip.text_edited.connect(self._on_edit_quiet)
         self.inputs.changed.connect(self._on_edit)
@@ -239,6 +240,27 @@ class MainWindow(QMainWindow):
         shown = self.worksheet()
         self.setWindowModified(self.document.edited(
             shown, bool(self.inputs.problems()), self._with_inferred_unknown(shown)))
+
+    def _convert_start_values(self, before: str, after: str) -> None:
+        """The unknown's unit changed: the start values, bracket and scan range keep the
+        same physical values, written in the new unit (150 mm becomes 5.90551 in, not
+        150 in), from a unit that was typed to the new one (blank: that dimension's SI
+        unit). A unit typed into the blank box is the first statement of the values' unit,
+        and converts nothing (150 typed with the box blank, then mm, is 150 mm); nor does
+        a unit that is none or differs in dimension (the strip then says so)."""
+        from solvers.units import converter
+
+        source = " ".join(before.split())
+        target = " ".join(after.split())
+        convert = converter(source, target or None) if source else None
+        if convert is None:
+            return
+        changed = self.inputs.convert_fields(("x0", "x1", "a", "b", "from", "to"), convert)
+        if changed:
+            shown = target or "SI"
+            self.statusBar().showMessage(
+                f"Start values, bracket and scan range converted from {source} to {shown}",
+                15000)
 
     def _on_edit(self) -> None:
         self._on_edit_quiet()

@@ -23,6 +23,7 @@ import difflib
 import math
 import re
 import threading
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -232,6 +233,26 @@ def read_unit(text: Any) -> Unit:
     if problem:
         raise EquationError(problem)
     return _read_cached(" ".join(text.split()))
+
+
+def converter(from_text: str, to_text: str | None) -> Callable[[float], float] | None:
+    """The conversion of an absolute value from one unit to another of the same dimension
+    (``to_text`` None or blank: the SI unit of that dimension), as a function of the
+    value; None where either text is no unit or the dimensions differ. An absolute
+    temperature keeps its offset (20 degC is 293.15 K and 68 degF)."""
+    try:
+        source = read_unit(from_text)
+        target = read_unit(to_text) if to_text and to_text.strip() else \
+            read_unit(source.si_text)
+    except EquationError:
+        return None
+    if source.dimension != target.dimension:
+        return None
+
+    def convert(value: float) -> float:
+        return (value * source.factor + source.offset - target.offset) / target.factor
+
+    return convert
 
 
 def unit_text_problem(text: Any) -> str:
