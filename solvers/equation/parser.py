@@ -518,12 +518,22 @@ def _constant_bindings() -> dict[str, Any]:
             "deg": _Node(sp.Float(deg_value), deg_value)}
 
 
+# Names other notations give the special functions, and ours (Bessel functions by their
+# letter and order, as tables print them: J0, J1, Y0, Y1, I0, I1, K0, K1)
+_OTHER_NAMES = {
+    **{alias: [f"{letter}0", f"{letter}1"] for letters, letter in (
+        (("besselj", "jv", "jn"), "J"), (("bessely", "yv", "yn"), "Y"),
+        (("besseli", "iv"), "I"), (("besselk", "kv"), "K")) for alias in letters},
+    **{f"{letter.lower()}{n}": [f"{letter}{n}"] for letter in "JYIK" for n in (0, 1)},
+}
+
+
 def _did_you_mean(name: str) -> str:
     """"did you mean 'sqrt'? " for a name close to one of the functions (difflib's
     ratio >= 0.6, its default), else ''."""
     import difflib
 
-    close = difflib.get_close_matches(name, FUNCTIONS, n=2)
+    close = _OTHER_NAMES.get(name.lower()) or difflib.get_close_matches(name, FUNCTIONS, n=2)
     if not close:
         return ""
     return "did you mean " + " or ".join(f"'{c}'" for c in close) + "? or "
