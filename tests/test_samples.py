@@ -184,8 +184,16 @@ def test_rod_eigenvalues_and_the_zeros_of_j0_as_poles() -> None:
     result = pipeline.scan_worksheet(ws)
     np.testing.assert_allclose([r.x for r in result.roots], expected, rtol=1e-12)
     np.testing.assert_allclose(sorted(result.poles), j0_zeros[:5], rtol=1e-9)
-    newton = pipeline.solve(ws).runs[0]
+    solution = pipeline.solve(ws)
+    newton = solution.runs[0]
     assert newton.converged and newton.root == pytest.approx(expected[0], rel=1e-13)
+    # x0 = 0.9 typed sits on the end of the scan's sign change [0.8625, 0.9] (samples 15/2000
+    # apart: arithmetic): the secant's x1 is the other end, not a point an ulp from x0
+    (choice,) = [c for c in solution.start.choices if c.code.startswith("x1_")]
+    assert choice.code == "x1_scan_far" and choice.numbers[0] == pytest.approx(0.8625)
+    secant = next(r for r in solution.runs if r.method == "secant")
+    assert abs(secant.steps[1].x - secant.steps[0].x) == pytest.approx(0.0375)
+    assert secant.converged and secant.root == pytest.approx(expected[0], rel=1e-13)
 
 
 def test_channel_normal_depth_matches_an_independent_solve() -> None:

@@ -381,6 +381,9 @@ START_TEXT: dict[str, Callable[[Sequence[float], str], str]] = {
     "x0_default": lambda n, u="": f"x0 not given and no scan range: 1.0{u} used",
     "x1_scan": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: the end nearer x0 of the scan's sign "
                                 f"change [{_g6(n[1])}, {_g6(n[2])}]{u}"),
+    "x1_scan_far": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: the end of the scan's sign change "
+                                    f"[{_g6(n[1])}, {_g6(n[2])}]{u} away from x0 (x0 sits at "
+                                    "the other end)"),
     # x1 = x0 (1 + 1e-4) +- 1e-4 (solvers.pipeline): relative and absolute both, so that
     # x0 = 0 moves too; "1e-4 (relative)" alone misdescribed x1 = 1.0002 from x0 = 1
     "x1_nudged": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: x0 moved away from 0 by 1e-4 of "
