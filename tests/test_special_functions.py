@@ -134,3 +134,28 @@ def test_the_printed_derivative_reads_back_to_the_same_values():
                                 - mpmath.besseli(1, t) * mpmath.bessely(0, t), x)
         assert again.f(x) == pytest.approx(float(slope), rel=1e-12)
         assert again.f(x) == pytest.approx(eq.fprime(x), rel=1e-13)
+
+
+def test_names_engineers_give_quantities_stay_names_unless_called():
+    # K1, K2 are the equilibrium ratios of a flash (Rachford-Rice), J0 a moment of inertia,
+    # I1 a current: as names they are parameters like any other; K1(...) is the function.
+    # Reference: the Rachford-Rice root for two invented components, by brentq.
+    from solvers import EquationError
+    from solvers.systems import parse_system
+
+    text = "z1*(K1 - 1)/(1 + V*(K1 - 1)) + z2*(K2 - 1)/(1 + V*(K2 - 1)) = 0"
+    values = {"z1": 0.4, "K1": 3.1, "z2": 0.6, "K2": 0.4}
+    eq = parse_equation(text, unknown="V", parameters=values)
+    reference = brentq(lambda v: sum(z * (k - 1) / (1 + v * (k - 1)) for z, k in
+                                     ((0.4, 3.1), (0.6, 0.4))), 0.0, 1.0, xtol=1e-15)
+    run = brent(eq.f, 0.0, 1.0)
+    assert run.converged and run.root == pytest.approx(reference, rel=1e-12)
+    assert parse_equation("K1 = 3.1; y = K1*J0", unknown="y",
+                          parameters={"J0": 2.0}).f(0.0) == pytest.approx(-6.2)
+    system = parse_system("K1*x + y = 3; x - y = J0(1)", parameters={"K1": 2.0})
+    assert system.unknowns == ("x", "y")
+    for bad in ("K1*J0(x) = K1(x)", "J0(x) + J0 = 1", "K1 = 2; K1(x) = 1"):
+        with pytest.raises(EquationError, match="used both as the function"):
+            parse_equation(bad, unknown="x")
+    with pytest.raises(EquationError, match=r"'K1' is given a value, but K1\(\.\.\.\)"):
+        parse_equation("K1(x) = 1", parameters={"K1": 2.0})

@@ -113,6 +113,7 @@ class _Parser:
         self.names: list[str] = []
         self.first_pos: dict[str, int] = {}
         self.used: set[str] = set()  # functions and constants used, for notes
+        self.called: set[str] = set()  # the functions called
         self.checks: list[Check] = []  # parameter-only parts, in the order they complete
         # every non-constant part as (sympy expression, start, end), innermost first: where
         # the dimensional check (solvers.units) names a part as typed
@@ -416,10 +417,14 @@ class _Parser:
         is_call = self.tok.text == "("
         if name in _AMBIGUOUS:
             raise self.fail(_AMBIGUOUS[name], t.pos)
-        if name in FUNCTIONS:
+        if name in FUNCTIONS and (is_call or name not in NAMES_TOO):
             if not is_call:
                 raise self.fail(f"'{name}' is a function: write {name}(...)", t.pos)
+            if name in self.first_pos or name in self.bindings:
+                raise self.fail(_both_ways(name), t.pos)
             return self.call(t)
+        if name in NAMES_TOO and name in self.called:
+            raise self.fail(_both_ways(name), t.pos)
         if is_call:
             if name in CONSTANT_NAMES:
                 raise self.fail(f"'{name}' is a constant, not a function: write {name}*(...)",
@@ -467,6 +472,7 @@ class _Parser:
             raise self.fail(f"{t.text}() takes {want} argument{'s' if want != '1' else ''}, "
                             f"got {n}", t.pos)
         self.used.add(t.text)
+        self.called.add(t.text)
         end = self.tokens[self.i - 1].end
         if all(a.value is not None for a in args):
             value = self.evaluate(fn.value, *[a.value for a in args])
@@ -526,6 +532,18 @@ _OTHER_NAMES = {
         (("besseli", "iv"), "I"), (("besselk", "kv"), "K")) for alias in letters},
     **{f"{letter.lower()}{n}": [f"{letter}{n}"] for letter in "JYIK" for n in (0, 1)},
 }
+
+
+# Special functions whose names engineers also give quantities (K1 an equilibrium ratio,
+# J0 a moment of inertia, I1 a current): a name of theirs followed by '(' is the
+# function, and without it a name like any other; one equation cannot use it both ways.
+NAMES_TOO = frozenset(f"{letter}{order}" for letter in "JYIK" for order in (0, 1)) | {
+    "erf", "erfc"}
+
+
+def _both_ways(name: str) -> str:
+    return (f"'{name}' is used both as the function {name}(...) and as a name: rename the "
+            f"name (say {name.lower()}_) or write {name}*(...) for a product")
 
 
 def _did_you_mean(name: str) -> str:
