@@ -384,3 +384,37 @@ def test_the_sheet_typesets_the_same_derivative_and_says_what_newton_evaluated(t
         assert "Derivative used by Newton" in text
         assert ("with the parameter values, and D as its number in mm (as Newton takes it):"
                 in text) is said
+
+
+def _legend_above_axes(figure) -> None:
+    """A legend in the rows above the axes, inside the figure: over no curve or point."""
+    figure.canvas.draw()
+    ax = figure.axes[0]
+    legend = ax.get_legend()
+    assert legend is not None
+    renderer = figure.canvas.get_renderer()
+    box, axes_box = legend.get_window_extent(renderer), ax.get_window_extent(renderer)
+    assert box.y0 >= axes_box.y1 - 0.5
+    assert figure.bbox.x0 <= box.x0 and box.x1 <= figure.bbox.x1
+    assert box.y1 <= figure.bbox.y1 + 0.5
+
+
+def test_the_function_and_convergence_plots_keep_their_legends_off_the_curves(qtbot,
+                                                                              window):
+    # the rod sample (invented): five eigenvalues of x J1(x)/J0(x) = Bi with J0's zeros as
+    # poles (scipy.special.jn_zeros), the curve through every part of the axes; a legend
+    # inside them ("best") covered part of it
+    import scipy.special
+
+    assert window.load_sample("rod-quench-eigenvalues.json")
+    settle(qtbot, window)
+    qtbot.mouseClick(window.inputs.scan_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: window.scan_result is not None, timeout=30_000)
+    qtbot.mouseClick(window.inputs.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: window.solution is not None, timeout=30_000)
+    assert sorted(window.scan_result.poles) == pytest.approx(
+        scipy.special.jn_zeros(0, 5), rel=1e-9)
+    _legend_above_axes(window.plot.function_view.figure)
+    window.plot.setCurrentIndex(1)
+    qtbot.waitUntil(lambda: bool(window.plot.convergence_view.figure.axes), timeout=10_000)
+    _legend_above_axes(window.plot.convergence_view.figure)

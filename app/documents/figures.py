@@ -172,7 +172,7 @@ def draw_function(
     ax.grid(True, color="#E4E4E4", linewidth=0.6, zorder=0)
     handles, _labels = ax.get_legend_handles_labels()
     if len(handles) > 1:
-        ax.legend(loc="best", fontsize="small", framealpha=0.85)
+        legend_above(ax)  # inside the axes it would cover part of the curve
     return c
 
 
@@ -385,7 +385,7 @@ def draw_convergence(ax: Any, runs: Iterable[Run], *, quantity: str = "residual"
                 label=method_title(run.method) + ("" if run.converged else " (did not converge)"))
     if any_points:
         ax.set_yscale("log")
-        ax.legend(loc="best", fontsize="small", framealpha=0.85)
+        legend_above(ax)  # inside the axes it would cover some method's iterates
     else:
         ax.text(0.5, 0.5, "no iterates to show yet", transform=ax.transAxes,
                 ha="center", va="center", color="#666666")
@@ -506,7 +506,8 @@ LEGEND_ABOVE = "legend-above-axes"
 
 
 def legend_above(ax: Any) -> Any:
-    """The axes' legend in one row above them, right-aligned, with no frame.
+    """The axes' legend in one row above them (two when its labels are long), right-aligned,
+    with no frame.
 
     Inside the axes a legend hides data wherever it goes: "best" weighs the points it
     would cover but still covers some when every corner holds data (the crosses of failed
@@ -514,8 +515,21 @@ def legend_above(ax: Any) -> Any:
     layout (the sheet) makes room for it; the window's margins do (its gid says so).
     """
     handles, labels = ax.get_legend_handles_labels()
+    # one row while the labels are short enough to stay over the axes, else two
+    columns = len(labels) if sum(len(t) for t in labels) <= LEGEND_ROW_CHARS else \
+        -(-len(labels) // 2)
     legend = ax.legend(handles, labels, loc="lower right", bbox_to_anchor=(1.0, 1.0),
-                       ncol=max(1, len(labels)), fontsize="small", frameon=False,
+                       ncol=max(1, columns), fontsize="small", frameon=False,
                        borderaxespad=0.2, handlelength=1.6, columnspacing=1.2)
     legend.set_gid(LEGEND_ABOVE)
     return legend
+
+
+LEGEND_ROW_CHARS = 70  # characters of labels one row above a plot's axes holds
+
+
+def legend_rows(legend: Any) -> int:
+    """How many rows a legend set by :func:`legend_above` takes."""
+    count = len(legend.get_texts())
+    columns = max(1, int(getattr(legend, "_ncols", count) or count))
+    return max(1, -(-count // columns))

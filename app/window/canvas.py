@@ -279,7 +279,7 @@ class PlotPanel(QTabWidget):
         ax.set_ylabel(figures.axis_label(name, self._f_unit))
         handles, _labels = ax.get_legend_handles_labels()
         if len(handles) > 1:
-            ax.legend(loc="best", fontsize="small", framealpha=0.85)
+            figures.legend_above(ax)  # inside the axes it would cover part of the curve
         self.function_view.fit_margins()
         self.function_view.toolbar.update()  # a new picture: the zoom history restarts
         self.function_view.redraw()

@@ -279,5 +279,5 @@ def _label_room(ax: Any, dpi: float) -> tuple[float, float]:
         # with the handles' padding, beside or over the multiplier
         texts = legend.get_texts()
         small = texts[0].get_fontsize() if texts else size
-        top += 2.0 * small * points_to_px
+        top += (0.6 + 1.4 * figures.legend_rows(legend)) * small * points_to_px
     return max(left, 60.0), top
