@@ -378,3 +378,52 @@ def test_the_function_figure_names_the_residuals_unit_on_its_y_axis():
     finite = np.isfinite(np.asarray(drawn.y, dtype=float))
     np.testing.assert_allclose(np.asarray(drawn.y, dtype=float)[finite],
                                (Ch * (90 - x) - eps * Cc * 70)[finite], rtol=1e-9, atol=1e-6)
+
+
+# ---------------------------------------------------------------- a second trial
+# Invented scenarios of a second thermal/process trial: a steam-heated water heater (heat
+# balance + rate equation in degC and degF), a benzene-toluene bubble point with Antoine
+# constants in degC and mmHg, a Peng-Robinson compressibility factor.
+
+HEATER = ("dT1 = Ts - Ti; dT2 = Ts - To; Q = m*cp*(To - Ti); "
+          "Q = U*A*(dT1 - dT2)/ln(dT1/dT2)")
+HEATER_PARAMS = ("--param", "m=1.5 kg/s", "--param", "cp=4.18 kJ/(kg*K)",
+                 "--param", "Ti=20 degC", "--param", "Ts=110 degC",
+                 "--param", "U=1.2 kW/(m^2*K)", "--param", "A=8 m^2",
+                 "--unknown", "Q", "--unknown", "To", "--unknown-unit", "Q=kW")
+
+
+def heater_outlet_degC() -> tuple[float, float]:
+    """The closed form for a stream heated by a condensing vapour (common practice, from
+    memory): To = Ts - (Ts - Ti) exp(-UA/(m cp)); Q = m cp (To - Ti), in degC and kW."""
+    c = 1.5 * 4180.0
+    to = 110.0 - 90.0 * math.exp(-1200.0 * 8.0 / c)
+    return to, c * (to - 20.0) / 1000.0
+
+
+# 7. An unknown of a system in degC or degF (an offset unit) lost every residual's and
+#    definition's unit: the terminal's "unit (SI)" column said "—" where both equations
+#    are heat rates in W, and --json gave residual_units [null, null], because the units
+#    were read from the equations after To_SI = To + 273.15 went in (a bare number added
+#    to a temperature has no dimension). In K the same system said W.
+@pytest.mark.parametrize("unit, x0, to_unit", [
+    ("degC", "70", lambda c: c),
+    ("degF", "160", lambda c: c * 1.8 + 32.0),  # NIST SP 811: t/degF = 1.8 t/degC + 32
+    ("K", "340", lambda c: c + 273.15)])
+def test_a_systems_residual_units_survive_an_unknown_in_an_offset_unit(capsys, unit, x0,
+                                                                        to_unit):
+    args = ("solve", HEATER, *HEATER_PARAMS, "--unknown-unit", f"To={unit}",
+            "--x0", "Q=300", "--x0", f"To={x0}")
+    code, out, err = run(capsys, *args, "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["residual_units"] == ["W", "W"]
+    to, q = heater_outlet_degC()
+    for r in doc["runs"]:
+        assert r["converged"]
+        assert r["root"]["To"] == pytest.approx(to_unit(to), rel=1e-11)
+        assert r["root"]["Q"] == pytest.approx(q, rel=1e-11)
+    code, out, err = run(capsys, *args)
+    rows = [line.split() for line in out.splitlines() if line.startswith(("(1)", "(2)"))]
+    assert [row[-3] for row in rows] == ["W", "W"]
+    assert "dT1 = 90 K" in out  # a definition's unit too: 110 degC - 20 degC
