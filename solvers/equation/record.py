@@ -39,7 +39,9 @@ class Remark:
     reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
     numbers: the limit passed, if any), "degrees", "radians", "angle_units" (subject: the
     names whose angle unit is converted to radians; it replaces "radians"), "kinks",
-    "no_dependence" (subject: the unknown), "e_notation". app/documents/words renders them.
+    "no_dependence" (subject: the unknown), "e_notation", "temperature_offset_sum"
+    (subject: a sum as typed that adds a constant to a temperature typed in degC/degF; see
+    solvers.units.temperatures). app/documents/words renders them.
     """
 
     code: str
