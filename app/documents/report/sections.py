@@ -178,9 +178,8 @@ def _equation_section(c: _Context) -> list[Flowable]:
         rows.append(("Derivative used by Newton", Paragraph(NUMERICAL_DERIVATIVE_NOTE, st["cell"])))
     else:
         lead = "" if newton_runs else "Newton–Raphson not run; symbolic derivative for reference: "
-        fname = "F" if eq.unknown == "f" else "f"  # never "df/df" when the unknown is f
         terms = printing.latex_terms(getattr(eq, "symbolic_derivative", None))
-        images = (_math_lines(f"\\frac{{d{fname}}}{{d{eq.unknown}}} =", terms, math_width)
+        images = (_math_lines(f"{words.derivative_heading(eq.unknown)} =", terms, math_width)
                   if terms else None)
         if images is None:
             lead += "(too long to typeset legibly) "

@@ -72,6 +72,14 @@ def residual_name(unknown: str) -> str:
     return "F" if unknown == "f" else "f"
 
 
+def derivative_heading(unknown: str) -> str:
+    """d(residual)/d(unknown) in mathtext, the window's and the sheet's: df/dx, dF/df when
+    the unknown is f, and df/d(dT) for a name that itself starts with d (a difference,
+    dT, dV, dp: "ddT" reads as a second derivative)."""
+    shown = f"({unknown})" if unknown.startswith("d") else unknown
+    return rf"\frac{{d{residual_name(unknown)}}}{{d{shown}}}"
+
+
 # The columns of an iteration table (keys are Step fields), as each front end prints them:
 # "screen" for the window's tables, "sheet" with a subscript k for the calculation sheet,
 # "ascii" for a terminal. {u} is the unknown's name, {f} the residual's letter.

@@ -1,0 +1,109 @@
+"""A thermal/process engineer's second trial of the window, each finding pinned with real
+key and mouse events on the real widgets (pytest-qt, offscreen).
+
+Invented scenarios: a tank of liquid warmed by a few kelvin (its volume growth from an
+expansion coefficient typed as handbooks print it, 1/K), and a benzene-toluene bubble
+point from Antoine constants in degC and mmHg. Outside references: the closed form
+dV = beta V dT, scipy.optimize.brentq on the Antoine form in degC.
+"""
+
+from __future__ import annotations
+
+import pytest
+import scipy.optimize
+from PySide6.QtCore import Qt
+from PySide6.QtTest import QTest
+
+pytest.register_assert_rewrite("gui_helpers")
+from gui_helpers import edit_cell, settle, solve_by_keys, type_equation  # noqa: E402
+
+pytest_plugins = ("gui_helpers",)
+
+
+def choose_unknown_by_keys(qtbot, w, name: str) -> None:
+    box = w.strip.unknown_box
+    box.setFocus()
+    target = box.findData(name)
+    while box.currentIndex() != target:
+        QTest.keyClick(box, Qt.Key.Key_Down)
+    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.unknown == name
+                    and not w.runner.is_busy("preview"), timeout=10_000)
+
+
+# 10. A reciprocal unit typed into a value cell ("3.4e-3 1/K") was not split into value
+#     and unit; and the derivative beside an unknown named dV read "df/ddV", a second
+#     derivative to the eye. The cell now splits, and the heading reads df/d(dV).
+def test_a_reciprocal_unit_splits_and_a_d_name_is_parenthesised(qtbot, window,
+                                                               monkeypatch):
+    from app.window import equation_strip
+
+    typeset: list[str] = []
+    real = equation_strip.render_png
+
+    def recording(latex: str, *args, **kwargs):
+        typeset.append(latex)
+        return real(latex, *args, **kwargs)
+
+    monkeypatch.setattr(equation_strip, "render_png", recording)
+    w = window
+    type_equation(qtbot, w, "dV = beta*V*dT")
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    for name, typed in (("beta", "3.4e-3 1/K"), ("V", "2 m^3"), ("dT", "15 delta_degC")):
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
+                  shown=typed.split()[0])
+    row = model.names().index("beta")
+    assert model.index(row, model.UNIT).data() == "1/K"
+    settle(qtbot, w)
+    solution = solve_by_keys(qtbot, w)
+    for run in solution.runs:
+        assert run.converged
+        assert run.root == pytest.approx(3.4e-3 * 2.0 * 15.0, rel=1e-14)  # dV = beta V dT
+    qtbot.waitUntil(lambda: any(r"\frac{df}{d(dV)}" in t for t in typeset), timeout=10_000)
+    assert not any("ddV" in t for t in typeset)
+
+
+BUBBLE = ("Pb = p0*10^(Ab - Bb/(Cb + T)); Pt = p0*10^(At - Bt/(Ct + T)); "
+          "xb*Pb + (1 - xb)*Pt = P")
+
+
+def bubble_point_degC() -> float:
+    """scipy.optimize.brentq on the Antoine form in degC and mmHg (constants from memory
+    of the handbook tables; an invented liquid of 40 mol-% benzene at 760 mmHg)."""
+    def f(t: float) -> float:
+        return (0.4 * 10 ** (6.90565 - 1211.033 / (220.790 + t))
+                + 0.6 * 10 ** (6.95464 - 1344.8 / (219.482 + t)) - 760.0)
+    return scipy.optimize.brentq(f, 50.0, 150.0, xtol=1e-14)
+
+
+# 8 (the window). Antoine's C typed as a difference beside T in degC gave -178 degC with
+# every method agreeing and nothing said; the status line now says the sum is 273.15 K
+# off for a correlation written for degC, and the constants less 273.15 give the answer.
+def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, window):
+    w = window
+    type_equation(qtbot, w, BUBBLE)
+    choose_unknown_by_keys(qtbot, w, "T")
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    values = {"p0": "1 mmHg", "Ab": "6.90565", "Bb": "1211.033 K", "Cb": "220.79 delta_degC",
+              "At": "6.95464", "Bt": "1344.8 K", "Ct": "219.482 delta_degC", "xb": "0.4",
+              "P": "760 mmHg"}
+    for name, typed in values.items():
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
+                  shown=typed.split()[0])
+    unit_box = w.strip.unit_box
+    unit_box.setFocus()
+    qtbot.keyClicks(unit_box, "degC")
+    QTest.keyClick(unit_box, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
+                    and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
+    settle(qtbot, w)
+    status = w.strip.status.text()
+    assert "`Cb + T` and `Ct + T` add a constant" in status and "273.15 K off" in status
+    for name, typed in (("Cb", f"{220.790 - 273.15:.3f} K"),
+                        ("Ct", f"{219.482 - 273.15:.3f} K")):
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
+                  shown=typed.split()[0])
+    settle(qtbot, w)
+    solution = solve_by_keys(qtbot, w)
+    newton = next(r for r in solution.runs if r.method == "newton")
+    assert newton.converged
+    assert newton.root == pytest.approx(bubble_point_degC(), rel=1e-12)
