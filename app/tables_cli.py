@@ -96,7 +96,7 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
             headers: list[str], cells: list[list[str]] | list[tuple[str, ...]],
             names: list[str], columns: list[np.ndarray], extra: dict[str, str]) -> int:
     from app.documents import tables
-    from app.documents.words import batch_note_text, batch_summary
+    from app.documents.words import batch_note_text, batch_summary, remarks_text
 
     out = args.out  # checked before the solving (_out_checked)
     if out:
@@ -121,6 +121,8 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
     unit = f" [{equation.unknown_unit}]" if equation.unknown_unit else ""
     print(f"unknown:  {equation.unknown}{unit}    method: {batch.method}")
     print(batch_summary(batch))
+    for note in remarks_text(equation.remarks):  # as `solve` notes them
+        print(f"note: {note}")
     for index, code in batch.notes[:20]:
         print(f"note: row {index + 1}: {batch_note_text(code)}")
     if len(batch.notes) > 20:

@@ -531,3 +531,41 @@ def test_a_number_glued_to_a_reciprocal_is_not_split(capsys):
     code, _out, err = run(capsys, "solve", "x = k*dT", "--param", "k=21/s",
                           "--param", "dT=10 K", "--x0", "1")
     assert code == 2 and "'21/s'" in err
+
+
+# 11. The note of finding 8 reached the terminal of `solve`, the window and the sheet but
+#     not the files a checker is handed: the CSV files (solve --csv, batch --out) had no
+#     line for it, no --json document carried any of the unit notes (degC converted with
+#     the offset either), and `batch` printed none of the equation's notes at all. Now a
+#     '# temperatures:' line, a "unit_notes" list, and batch's notes as solve's.
+def test_the_files_and_the_batch_carry_the_note_on_a_constant_added_to_degc(tmp_path,
+                                                                           capsys):
+    feeds = tmp_path / "feeds.csv"
+    feeds.write_text("xb,P [mmHg]\n0.4,760\n0.9,760\n", encoding="utf-8")
+    out = tmp_path / "bubble.csv"
+    args = ("batch", BUBBLE, "--unknown", "T", "--unknown-unit", "degC",
+            "--param", "Ab=6.90565", "--param", "Bb=1211.033 K",
+            "--param", f"Cb={220.790 - 273.15!r} K", "--param", "At=6.95464",
+            "--param", "Bt=1344.8 K", "--param", f"Ct={219.482 - 273.15!r} K",
+            "--param", "p0=1 mmHg", "--table", str(feeds), "--method", "brent",
+            "--bracket", "0", "150")
+    code, stdout, err = run(capsys, *args, "--out", str(out))
+    assert code == 0, err
+    assert any(line.startswith("note: `Cb + T` and `Ct + T` add a constant")
+               for line in stdout.splitlines())
+    meta, rows = table_rows(out)
+    assert any("# temperatures: `Cb + T` and `Ct + T`" in line for line in meta)
+    assert float(rows[0]["root"]) == pytest.approx(bubble_point_degC(), rel=1e-11)
+    code, stdout, err = run(capsys, *args, "--json")
+    assert any("273.15 K off" in n for n in json.loads(stdout)["unit_notes"])
+    log = tmp_path / "log.csv"
+    code, stdout, err = run(capsys, *bubble_args("220.790 delta_degC", "219.482 delta_degC",
+                                                 "--csv", str(log)))
+    assert code == 0, err
+    assert "# temperatures: `Cb + T` and `Ct + T`" in log.read_text(encoding="utf-8")
+    code, stdout, err = run(capsys, "solve", "x = 1/(C + To); 2*x = k", "--unknown", "x",
+                            "--unknown", "To", "--unknown-unit", "To=degC",
+                            "--param", "C=200 delta_degC", "--param", "k=0.001 1/K",
+                            "--x0", "x=0.001", "--x0", "To=300", "--json")
+    assert code == 0, err
+    assert any("`C + To` adds a constant" in n for n in json.loads(stdout)["unit_notes"])

@@ -51,6 +51,7 @@ from app.documents.words.remarks import (
     NO_DERIVATIVE_WORDS,
     REMARK_WORDS,
     UNIT_REMARKS,
+    offset_sums_text,
     remark_text,
     remarks_text,
 )
@@ -199,6 +200,7 @@ __all__ = [
     "NO_DERIVATIVE_WORDS",
     "REMARK_WORDS",
     "UNIT_REMARKS",
+    "offset_sums_text",
     "remark_text",
     "remarks_text",
     "EVALUATIONS_OF",
