@@ -569,3 +569,29 @@ def test_the_files_and_the_batch_carry_the_note_on_a_constant_added_to_degc(tmp_
                             "--x0", "x=0.001", "--x0", "To=300", "--json")
     assert code == 0, err
     assert any("`C + To` adds a constant" in n for n in json.loads(stdout)["unit_notes"])
+
+
+# 12. A film coefficient solved for without a unit of its own came out as "h
+#     [kg/(s^3*K)]" in the terminal, the window and the files: SI base units no engineer
+#     reads as a heat transfer coefficient, where a pressure already came out in Pa. The
+#     inferred unit is now the derived one, W/(m^2*K) (NIST SP 811, Table 3: W = kg m^2
+#     s^-3, so W/(m^2*K) = kg/(s^3*K): the same coherent unit, factor 1).
+def test_an_inferred_unknown_unit_is_the_derived_one(capsys):
+    code, out, err = run(capsys, "solve", "q = h*(Ts - Tf)", "--param", "q=5 kW/m^2",
+                         "--param", "Ts=80 degC", "--param", "Tf=20 degC", "--x0", "10",
+                         "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["unknown_unit"] == "W/(m^2*K)"
+    assert doc["runs"][0]["root"] == pytest.approx(5000.0 / 60.0, rel=1e-15)  # q/(Ts - Tf)
+    code, out, err = run(capsys, "solve", HEATER.replace("U*A", "UA"), "--param",
+                         "m=1.5 kg/s", "--param", "cp=4.18 kJ/(kg*K)", "--param",
+                         "Ti=20 degC", "--param", "Ts=110 degC", "--param", "To=90 degC",
+                         "--unknown", "Q", "--unknown", "UA", "--x0", "Q=3e5",
+                         "--x0", "UA=5000", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["unknown_units"] == {"Q": "W", "UA": "W/K"}
+    # closed form: UA = m cp ln((Ts - Ti)/(Ts - To)) for a condensing-vapour heater
+    ua = 1.5 * 4180.0 * math.log(90.0 / 20.0)
+    assert doc["runs"][0]["root"]["UA"] == pytest.approx(ua, rel=1e-11)

@@ -96,7 +96,7 @@ def resolve(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
     for x, outcome in zip(xs, outcomes, strict=True):
         if x.name in chosen:
             continue
-        units[x.name] = unit_text(outcome.dimension) or None
+        units[x.name] = unit_text(outcome.dimension, derived=True) or None
         if not outcome.fixed:
             remarks.append(Remark("system_dimension_free", x.name))
         elif any(float(e) != int(e) for _n, e in outcome.dimension):

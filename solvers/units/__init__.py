@@ -250,7 +250,7 @@ class Plan:
                 remarks = (("unknown_dimension_fractional", self.unknown.name, ()),
                            *self._suspect_remarks(outcome.dimension, used, typed))
             unit = given_text if given_text is not None else (
-                unit_text(outcome.dimension) or None)
+                unit_text(outcome.dimension, derived=True) or None)
             hit = self.cache[key] = Resolution(unit, remarks)
         return Resolution(hit.unknown_unit, hit.remarks + temperatures)
 
