@@ -595,3 +595,43 @@ def test_an_inferred_unknown_unit_is_the_derived_one(capsys):
     # closed form: UA = m cp ln((Ts - Ti)/(Ts - To)) for a condensing-vapour heater
     ua = 1.5 * 4180.0 * math.log(90.0 / 20.0)
     assert doc["runs"][0]["root"]["UA"] == pytest.approx(ua, rel=1e-11)
+
+
+# 13. A pressure typed as a process datasheet marks it: 'psig' and 'barg' were "unknown
+#     unit (did you mean 'psi', 'µpsi', 'upsi'?)", pointing at psi as if the two were the
+#     same; 'kPa(g)' was read by pint as kPa times a gram and 'bar(a)' as bar times a
+#     year (the check off: silently a wrong number). A gauge mark is refused with what to
+#     type (absolute = gauge + the local atmosphere); psia and bara are psi and bar.
+#     NIST SP 811: 1 psi = 6894.757293168 Pa (lbf/in^2 from 0.45359237 kg, 9.80665 m/s^2,
+#     0.0254 m), 1 bar = 1e5 Pa; 1 atm = 101325 Pa = 14.696 psi.
+@pytest.mark.parametrize("typed, unit", [("psig", "psi"), ("barg", "bar"),
+                                         ("kPa(g)", "kPa"), ("MPag", "MPa")])
+def test_a_gauge_pressure_is_refused_with_what_to_type(capsys, typed, unit):
+    for check in ((), ("--no-dimension-check",)):
+        code, _out, err = run(capsys, "solve", "p = rho*g*H + p0", "--unknown", "p",
+                              "--param", "rho=1000 kg/m^3", "--param", "g=9.80665 m/s^2",
+                              "--param", "H=10 m", "--param", f"p0=12 {typed}",
+                              "--x0", "1e5", *check)
+        assert code == 2
+        assert f"'{typed}' is a gauge pressure" in err
+        assert f"absolute pressure in {unit}" in err and "14.696 psi" in err
+    assert 101325.0 / (0.45359237 * 9.80665 / 0.0254 ** 2) == pytest.approx(14.696, abs=5e-4)
+
+
+@pytest.mark.parametrize("typed, si", [("psia", 0.45359237 * 9.80665 / 0.0254 ** 2),
+                                       ("bara", 1e5)])
+def test_psia_and_bara_are_absolute_pressures(capsys, typed, si):
+    code, out, err = run(capsys, "solve", "p = rho*g*H + p0", "--unknown", "p",
+                         "--param", "rho=1000 kg/m^3", "--param", "g=9.80665 m/s^2",
+                         "--param", "H=10 m", "--param", f"p0=2 {typed}", "--x0", "1e5",
+                         "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["parameter_units"]["p0"]["si_value"] == pytest.approx(2 * si, rel=1e-15)
+    assert doc["runs"][0]["root"] == pytest.approx(1000 * 9.80665 * 10 + 2 * si, rel=1e-14)
+
+
+def test_a_pressure_marked_absolute_in_parentheses_says_to_type_the_unit(capsys):
+    code, _out, err = run(capsys, "solve", "p = p0", "--unknown", "p",
+                          "--param", "p0=2 bar(a)", "--x0", "1e5")
+    assert code == 2 and "a pressure in bar is absolute already; type bar" in err

@@ -9,7 +9,8 @@ factor must be a finite, non-zero double.
 
 pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
 never at start-up; readings are cached by text. The registry adds a few trade
-abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm).
+abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm, psia, bara); a pressure
+marked gauge (psig, barg, kPa(g)) is refused with what to type.
 
 Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
 temperatures, converted with their offset (25 degC -> 298.15 K). In a compound unit
@@ -68,7 +69,35 @@ TRADE_UNITS = (
     "cfm = foot ** 3 / minute",
     "MGD = 1e6 * gallon / day = mgd",
     "lbm = pound",
+    # an absolute pressure, as US process datasheets mark it: the same unit (every
+    # pressure zerotrace reads is absolute, or a difference); gauge ones are refused below
+    "psia = psi",
+    "bara = bar",
 )
+
+# A pressure marked gauge (psig, barg, kPa(g)) is measured from the local atmosphere,
+# which no unit can know; pint would read 'kPa(g)' as kPa times a gram and 'bar(a)' as
+# bar times a year. Such text is refused with what to type instead.
+_PRESSURES = r"(?:psi|bar|[kM]?Pa|atm|mmHg|inHg|kgf/cm\^?2)"
+_GAUGE = re.compile(r"(?<![A-Za-z])(" + _PRESSURES + r")(?:g|\s*\(\s*g\s*\))(?![A-Za-z])")
+_ABSOLUTE = re.compile(r"(?<![A-Za-z])(" + _PRESSURES + r")(?:a|\s*\(\s*a\s*\))(?![A-Za-z])")
+
+
+def _marked_pressure(text: str) -> str:
+    """The refusal of a pressure marked gauge or absolute ('' for other text)."""
+    gauge = _GAUGE.search(text)
+    if gauge:
+        unit = gauge.group(1)
+        return (f"unit '{gauge.group(0)}' is a gauge pressure, measured from the local "
+                f"atmosphere: type the absolute pressure in {unit} (gauge plus the local "
+                "atmospheric pressure; the standard atmosphere is 101.325 kPa, 1.01325 "
+                f"bar, 14.696 psi), or {unit} for a pressure difference")
+    absolute = _ABSOLUTE.search(text)
+    if absolute and absolute.group(0) not in ("psia", "bara"):
+        unit = absolute.group(1)
+        return (f"unit '{absolute.group(0)}': a pressure in {unit} is absolute already; "
+                f"type {unit}")
+    return ""
 
 
 @dataclass(frozen=True)
@@ -176,6 +205,9 @@ def _prefixed_constant(text: str, reg: Any) -> tuple[str, str, str] | None:
 
 @lru_cache(maxsize=512)
 def _read_cached(text: str) -> Unit:
+    marked = _marked_pressure(text)
+    if marked:
+        raise EquationError(marked)
     reg = registry()
     try:
         units = reg.parse_units(text.replace("μ", "µ"))  # Greek mu typed for the micro sign
