@@ -30,7 +30,7 @@ def choose_unknown_by_keys(qtbot, w, name: str) -> None:
                     and not w.runner.is_busy("preview"), timeout=10_000)
 
 
-# 10. A reciprocal unit typed into a value cell ("3.4e-3 1/K") was not split into value
+# 2.4. A reciprocal unit typed into a value cell ("3.4e-3 1/K") was not split into value
 #     and unit; and the derivative beside an unknown named dV read "df/ddV", a second
 #     derivative to the eye. The cell now splits, and the heading reads df/d(dV).
 def test_a_reciprocal_unit_splits_and_a_d_name_is_parenthesised(qtbot, window,
@@ -75,7 +75,7 @@ def bubble_point_degC() -> float:
     return scipy.optimize.brentq(f, 50.0, 150.0, xtol=1e-14)
 
 
-# 8 (the window). Antoine's C typed as a difference beside T in degC gave -178 degC with
+# 2.2 (the window). Antoine's C typed as a difference beside T in degC gave -178 degC with
 # every method agreeing and nothing said; the status line now says the sum is 273.15 K
 # off for a correlation written for degC, and the constants less 273.15 give the answer.
 def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, window):
@@ -107,3 +107,20 @@ def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, wind
     newton = next(r for r in solution.runs if r.method == "newton")
     assert newton.converged
     assert newton.root == pytest.approx(bubble_point_degC(), rel=1e-12)
+
+
+# 2.8 (the window). "4.18 kJ/kg.K" typed into the cp cell: the cell's tooltip and the
+# status line say how it reads and the text meant, before anything is solved.
+def test_a_product_after_a_slash_in_a_unit_cell_is_answered(qtbot, window):
+    w = window
+    type_equation(qtbot, w, "Q = m*cp*(To - Ti)")
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    for name, typed in (("m", "2 kg/s"), ("cp", "4.18 kJ/kg.K"), ("To", "30 degC"),
+                        ("Ti", "20 degC")):
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
+                  shown=typed.split()[0])
+    qtbot.waitUntil(lambda: "kJ/(kg*K)" in w.strip.status.text(), timeout=10_000)
+    status = w.strip.status.text()
+    assert "parameter 'cp'" in status and "it reads as kJ*K/kg" in status
+    cell = model.index(model.names().index("cp"), model.UNIT)
+    assert "write kJ/(kg*K)" in cell.data(Qt.ItemDataRole.ToolTipRole)

@@ -384,7 +384,7 @@ def test_the_function_figure_names_the_residuals_unit_on_its_y_axis():
 # ---------------------------------------------------------------- a second trial
 # Invented scenarios of a second thermal/process trial: a steam-heated water heater (heat
 # balance + rate equation in degC and degF), a benzene-toluene bubble point with Antoine
-# constants in degC and mmHg, a Peng-Robinson compressibility factor.
+# constants in degC and mmHg, a Peng-Robinson compressibility factor; findings numbered 2.N.
 
 HEATER = ("dT1 = Ts - Ti; dT2 = Ts - To; Q = m*cp*(To - Ti); "
           "Q = U*A*(dT1 - dT2)/ln(dT1/dT2)")
@@ -402,7 +402,7 @@ def heater_outlet_degC() -> tuple[float, float]:
     return to, c * (to - 20.0) / 1000.0
 
 
-# 7. An unknown of a system in degC or degF (an offset unit) lost every residual's and
+# 2.1. An unknown of a system in degC or degF (an offset unit) lost every residual's and
 #    definition's unit: the terminal's "unit (SI)" column said "—" where both equations
 #    are heat rates in W, and --json gave residual_units [null, null], because the units
 #    were read from the equations after To_SI = To + 273.15 went in (a bare number added
@@ -454,7 +454,7 @@ def bubble_point_degC() -> float:
     return scipy.optimize.brentq(f, 50.0, 150.0, xtol=1e-14)
 
 
-# 8. Antoine's C typed as a temperature difference beside T in degC (as the unit rule
+# 2.2. Antoine's C typed as a temperature difference beside T in degC (as the unit rule
 #    for differences suggests) converged, every method agreeing, to -178.008 degC: the
 #    equation takes T in kelvin, so C + T read 220.79 + 368.15 where 220.79 + 95 was
 #    meant, 273.15 K off, and nothing said so. Such a sum is now remarked, in one
@@ -510,7 +510,7 @@ def test_a_systems_constant_added_to_a_temperature_is_remarked(capsys):
     assert re.search(r"To \[degC\]\s+1526\.85", out)
 
 
-# 9. An expansion coefficient typed as handbooks print it, "--param 'k=0.001 1/K'", was
+# 2.3. An expansion coefficient typed as handbooks print it, "--param 'k=0.001 1/K'", was
 #    refused as "missing operator between '0.001' and '1'", though zerotrace itself
 #    writes such a value's SI unit as "1/K". A reciprocal unit after a space (or "*") is
 #    read; "21/s" is still no number followed by a unit. 1/degC is 1/K (NIST SP 811: a
@@ -533,7 +533,7 @@ def test_a_number_glued_to_a_reciprocal_is_not_split(capsys):
     assert code == 2 and "'21/s'" in err
 
 
-# 11. The note of finding 8 reached the terminal of `solve`, the window and the sheet but
+# 2.5. The note of finding 2.2 reached the terminal of `solve`, the window and the sheet but
 #     not the files a checker is handed: the CSV files (solve --csv, batch --out) had no
 #     line for it, no --json document carried any of the unit notes (degC converted with
 #     the offset either), and `batch` printed none of the equation's notes at all. Now a
@@ -571,7 +571,7 @@ def test_the_files_and_the_batch_carry_the_note_on_a_constant_added_to_degc(tmp_
     assert any("`C + To` adds a constant" in n for n in json.loads(stdout)["unit_notes"])
 
 
-# 12. A film coefficient solved for without a unit of its own came out as "h
+# 2.6. A film coefficient solved for without a unit of its own came out as "h
 #     [kg/(s^3*K)]" in the terminal, the window and the files: SI base units no engineer
 #     reads as a heat transfer coefficient, where a pressure already came out in Pa. The
 #     inferred unit is now the derived one, W/(m^2*K) (NIST SP 811, Table 3: W = kg m^2
@@ -597,7 +597,7 @@ def test_an_inferred_unknown_unit_is_the_derived_one(capsys):
     assert doc["runs"][0]["root"]["UA"] == pytest.approx(ua, rel=1e-11)
 
 
-# 13. A pressure typed as a process datasheet marks it: 'psig' and 'barg' were "unknown
+# 2.7. A pressure typed as a process datasheet marks it: 'psig' and 'barg' were "unknown
 #     unit (did you mean 'psi', 'µpsi', 'upsi'?)", pointing at psi as if the two were the
 #     same; 'kPa(g)' was read by pint as kPa times a gram and 'bar(a)' as bar times a
 #     year (the check off: silently a wrong number). A gauge mark is refused with what to
@@ -635,3 +635,34 @@ def test_a_pressure_marked_absolute_in_parentheses_says_to_type_the_unit(capsys)
     code, _out, err = run(capsys, "solve", "p = p0", "--unknown", "p",
                           "--param", "p0=2 bar(a)", "--x0", "1e5")
     assert code == 2 and "a pressure in bar is absolute already; type bar" in err
+
+
+# 2.8. A specific heat typed as handbooks print it, "4.18 kJ/kg.K" (or kJ/kg*K, kJ/kg K),
+#      was read by pint as kJ*K/kg, and with Q the unknown the solve went ahead with Q in
+#      "kg*m^2*K^2/s^3"; "W/m^2.K" was refused as "a power must be a unit to a small
+#      number". A product after '/' is now refused with how it reads and the text meant.
+@pytest.mark.parametrize("typed, reads, meant", [
+    ("kJ/kg.K", "kJ*K/kg", "kJ/(kg*K)"), ("kJ/kg*K", "kJ*K/kg", "kJ/(kg*K)"),
+    ("kJ/kg K", "kJ*K/kg", "kJ/(kg*K)"), ("W/m^2.K", "W*K/m^2", "W/(m^2*K)"),
+    ("Btu/h*ft^2*degF", "Btu*ft^2*degF/h", "Btu/(h*ft^2*degF)")])
+def test_a_product_after_a_slash_is_refused_with_the_text_meant(capsys, typed, reads, meant):
+    code, _out, err = run(capsys, "solve", "Q = m*cp*(To - Ti)", "--unknown", "Q",
+                          "--param", "m=2 kg/s", "--param", f"cp=4.18 {typed}",
+                          "--param", "Ti=20 degC", "--param", "To=30 degC", "--x0", "1")
+    assert code == 2
+    assert f"it reads as {reads}" in err and f"write {meant} if it is below too" in err
+
+
+@pytest.mark.parametrize("typed, si", [
+    ("kJ/(kg*K)", 4180.0), ("kJ/kg/K", 4180.0),
+    # NIST SP 811: Btu_IT/(lb*degF) = 4186.8 J/(kg*K) exactly
+    ("Btu_it/(lb*degF)", 4.18 * 4186.8)])
+def test_the_units_meant_give_the_heat_rate(capsys, typed, si):
+    code, out, err = run(capsys, "solve", "Q = m*cp*(To - Ti)", "--unknown", "Q",
+                         "--param", "m=2 kg/s", "--param", f"cp=4.18 {typed}",
+                         "--param", "Ti=20 degC", "--param", "To=30 degC", "--x0", "1",
+                         "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["unknown_unit"] == "W"
+    assert doc["runs"][0]["root"] == pytest.approx(2 * si * 10, rel=1e-12)  # m cp dT

@@ -282,6 +282,17 @@ def unit_text_problem(text: Any) -> str:
                 "(letters, digits, spaces and * / ^ ( ) . - only)")
     if "__" in stripped or _depth(stripped) > 3:
         return f"unit '{stripped}': cannot be read as a unit"
+    product = _PRODUCT_AFTER_SLASH.search(stripped)
+    if product:
+        below = product.group(1)
+        rest = re.findall(_UNIT_NAME, product.group(2))
+        head = stripped[:product.start()]
+        head = head if re.fullmatch(_UNIT_NAME, head) else f"({head})"
+        meant = (stripped[:product.start()] + "/(" + "*".join([below, *rest]) + ")"
+                 + stripped[product.end():])
+        return (f"unit '{stripped}': a factor multiplied after '{below}' stands on top, "
+                f"not below: it reads as {'*'.join([head, *rest])}/{below}; write {meant} "
+                "if it is below too")
     # Powers only of a name or a group, by one small number or fraction, never chained:
     # pint computes number powers exactly, so 9^9^9^9 would never finish.
     powers = stripped.replace("**", "^")
@@ -294,6 +305,14 @@ def unit_text_problem(text: Any) -> str:
                     "(m^3, s^-2, m^(1/3))")
     return ""
 
+
+# '/', a unit (with its power), then a product with another unit: '*', a '.' or a space
+# before a name, as handbooks print kJ/kg.K or W/m^2 K and mean kJ/(kg*K); pint reads
+# them (as math does) with the second factor on top: kJ*K/kg, a silently wrong unit.
+_UNIT_NAME = r"[A-Za-zµ°Ω_][A-Za-z0-9_µ°Ω]*(?:\s*(?:\^|\*\*)\s*-?[0-9]+(?:\.[0-9]+)?)?"
+_PRODUCT = r"(?:\s*\*(?!\*)\s*|\s*\.(?=\s*[A-Za-zµ°Ω])\s*|\s+(?=[A-Za-zµ°Ω]))"
+_PRODUCT_AFTER_SLASH = re.compile(
+    r"/\s*(" + _UNIT_NAME + r")((?:" + _PRODUCT + _UNIT_NAME + r")+)")
 
 _EXPONENT = re.compile(r"\s*(?:[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?![0-9.])|"
                        r"\(\s*[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?:\s*/\s*[0-9]{1,2})?\s*\))")
