@@ -471,9 +471,12 @@ def test_a_constant_added_to_a_temperature_in_degc_is_remarked(capsys):
     code, out, err = run(capsys, *bubble_args(f"{220.790 - 273.15!r} K",
                                               f"{219.482 - 273.15!r} K", "--json"))
     assert code == 0, err
-    for r in json.loads(out)["runs"]:
+    doc = json.loads(out)
+    for r in doc["runs"]:
         assert r["converged"]
         assert r["root"] == pytest.approx(bubble_point_degC(), rel=1e-12)
+    # the advice followed (each constant for kelvin, typed in K): nothing more to say
+    assert not any("273.15 K off" in n for n in doc["unit_notes"])
 
 
 @pytest.mark.parametrize("equation, params", [
@@ -481,6 +484,9 @@ def test_a_constant_added_to_a_temperature_in_degc_is_remarked(capsys):
     ("Q = m*cp*(To - Ti)", ("--param", "Q=300 kW", "--param", "m=1.5 kg/s",
                             "--param", "cp=4.18 kJ/(kg*K)", "--param", "Ti=20 degC")),
     ("To = Ti + dT", ("--param", "Ti=20 degC", "--param", "dT=8 delta_degC")),
+    ("To = Ti + dT", ("--param", "Ti=20 degC", "--param", "dT=8 K")),
+    ("q = h*(Tw - To)", ("--param", "q=800 W/m^2", "--param", "Tw=350 K",
+                         "--param", "h=20 W/(m^2*K)")),
     # kelvin is what physics asks for in a ratio or a power: left alone
     ("q = sig*(To^4 - Ti^4)", ("--param", "q=800 W/m^2", "--param", "Ti=20 degC",
                                 "--param", "sig=5.670374419e-8 W/(m^2*K^4)")),
@@ -491,6 +497,19 @@ def test_balances_and_kelvin_formulas_in_degc_are_not_remarked(capsys, equation,
                          "--unknown-unit", "degC", "--x0", "50", *params)
     assert code == 0, err
     assert "273.15 K off" not in out
+
+
+def test_a_balance_with_the_unknown_in_kelvin_is_not_remarked(capsys):
+    """To solved for in K (no unit chosen) beside Ti in degC: `To - Ti` is a difference
+    of two temperatures, not a constant added to one; To = Ti + Q/(m cp) (closed form)."""
+    code, out, err = run(capsys, "solve", "Q = m*cp*(To - Ti)", "--unknown", "To",
+                         "--param", "Q=200 kW", "--param", "m=2 kg/s",
+                         "--param", "cp=4.18 kJ/(kg*K)", "--param", "Ti=20 degC",
+                         "--x0", "300", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert not any("273.15 K off" in n for n in doc["unit_notes"])
+    assert doc["runs"][0]["root"] == pytest.approx(293.15 + 200e3 / (2 * 4180.0), rel=1e-13)
 
 
 def test_a_systems_constant_added_to_a_temperature_is_remarked(capsys):
@@ -545,8 +564,8 @@ def test_the_files_and_the_batch_carry_the_note_on_a_constant_added_to_degc(tmp_
     out = tmp_path / "bubble.csv"
     args = ("batch", BUBBLE, "--unknown", "T", "--unknown-unit", "degC",
             "--param", "Ab=6.90565", "--param", "Bb=1211.033 K",
-            "--param", f"Cb={220.790 - 273.15!r} K", "--param", "At=6.95464",
-            "--param", "Bt=1344.8 K", "--param", f"Ct={219.482 - 273.15!r} K",
+            "--param", f"Cb={220.790 - 273.15!r} delta_degC", "--param", "At=6.95464",
+            "--param", "Bt=1344.8 K", "--param", f"Ct={219.482 - 273.15!r} delta_degC",
             "--param", "p0=1 mmHg", "--table", str(feeds), "--method", "brent",
             "--bracket", "0", "150")
     code, stdout, err = run(capsys, *args, "--out", str(out))

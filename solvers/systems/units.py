@@ -112,9 +112,12 @@ def _offset_sums(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any]
     absolute += [x for x in xs if x.name in chosen and chosen[x.name].offset != 0.0]
     if not absolute:
         return []
-    from solvers.units.temperatures import offset_sums
+    from solvers.units.temperatures import kelvin_scale, offset_sums
 
+    others = [symbols[n] for n, c in used.items() if kelvin_scale(c)]
+    others += [x for x in xs if x not in absolute]
     residuals = [eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr
                  for eq in reading.equations]
     return [Remark("temperature_offset_sum", shown)
-            for shown in offset_sums(residuals, absolute, reading.text, reading.spans)]
+            for shown in offset_sums(residuals, absolute, reading.text, reading.spans,
+                                     others)]

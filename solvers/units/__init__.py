@@ -260,12 +260,18 @@ class Plan:
         """("temperature_offset_sum", the sum as typed, ()) for each sum that adds a
         constant to a temperature typed in degC/degF (see solvers.units.temperatures),
         cached by which names are such temperatures."""
+        from solvers.units.temperatures import kelvin_scale
+
         absolute = [self.symbols[n] for n, c in used.items() if c.absolute_temperature]
         if self.offset != 0.0:
             absolute.append(self.unknown)
         if not absolute:
             return ()
-        key = ("offset_sums", frozenset(s.name for s in absolute))
+        others = [self.symbols[n] for n, c in used.items() if kelvin_scale(c)]
+        if self.offset == 0.0:
+            others.append(self.unknown)
+        key = ("offset_sums", frozenset(s.name for s in absolute),
+               frozenset(s.name for s in others))
         if key not in self.cache:
             from solvers.units.temperatures import offset_sums
 
@@ -273,7 +279,7 @@ class Plan:
             residual = lhs if rhs is None else lhs - rhs
             self.cache[key] = tuple(("temperature_offset_sum", shown, ()) for shown in
                                     offset_sums((residual,), absolute, self.text,
-                                                self.spans))
+                                                self.spans, others))
         return self.cache[key]
 
     def _suspect_remarks(self, dimension: Dimension, used: Mapping[str, Converted],

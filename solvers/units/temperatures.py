@@ -19,51 +19,68 @@ import sympy as sp
 
 
 def offset_sums(exprs: Iterable[Any], absolute: Iterable[Any], text: str,
-                spans: Sequence[tuple[Any, int, int]]) -> tuple[str, ...]:
+                spans: Sequence[tuple[Any, int, int]],
+                temperatures: Iterable[Any] = ()) -> tuple[str, ...]:
     """Each sum of ``exprs`` that adds a constant to absolute temperatures, as typed.
 
     ``exprs``: the equations' residuals lhs - rhs (definitions written out, before the
     unknown's x_SI = scale*x + offset goes in, so x stands for its kelvin value);
-    ``absolute``: the sympy Symbols typed in degC/degF (parameters, or the unknown in such
-    a unit). A sum is named when every term that holds one of them is a number times
-    one of them (``T``, ``-Ti``, ``2*T``), those numbers do not cancel (``To - Ti`` and
-    ``To - Ti - dT`` are shifts of the scale that cancel: a balance, not a correlation),
-    and some other term holds none of them (``Cb``, ``dT``). A sum with a temperature
-    inside a product or a power (``T/Tc``, ``T^4 - Ta^4``) is left alone: there the
-    kelvin value is what physics asks for. The text of each sum is taken from ``spans``
-    (the parser's (expression, start, end) of every part), else sympy's printing; each
-    named once, in the order first met.
+    ``absolute``: the sympy Symbols typed in degC/degF (parameters, or an unknown in such
+    a unit); ``temperatures``: the other Symbols that may stand for a temperature on the
+    kelvin scale: the unknowns, and parameters typed in K (not a delta_ unit).
+
+    A sum is named when it holds one of ``absolute`` as a number times it (``T``, ``-Ti``,
+    ``2*T``), every term holding one of them is such, the numbers before ``absolute`` and
+    ``temperatures`` do not cancel (``To - Ti``, ``To - Ti - dT``, ``Tw - Ti`` with Tw in
+    K: a shift of the scale cancels there, a balance), and some term holds none of
+    either: a constant (``Cb`` in ``Cb + T``, Cb in delta_degC or a bare number). A sum
+    with a temperature inside a product or a power (``T/Tc``, ``T^4 - Ta^4``) is left
+    alone: there the kelvin value is what physics asks for; so is ``Cb + T`` with Cb
+    typed in K (a mean or a radiation sum reads the same). The text of each sum is taken
+    from ``spans`` (the parser's (expression, start, end) of every part), else sympy's
+    printing; each named once, in the order first met.
     """
     absolute = frozenset(absolute)
     if not absolute:
         return ()
+    scale = absolute | frozenset(temperatures)
     found: list[str] = []
     for expr in exprs:
         if not isinstance(expr, sp.Basic) or not expr.free_symbols & absolute:
             continue
         for node in sp.preorder_traversal(expr):
-            if isinstance(node, sp.Add) and _adds_a_constant(node, absolute):
+            if isinstance(node, sp.Add) and _adds_a_constant(node, absolute, scale):
                 shown = _typed(node, text, spans)
                 if shown not in found:
                     found.append(shown)
     return tuple(found)
 
 
-def _adds_a_constant(node: Any, absolute: frozenset[Any]) -> bool:
-    shift, constant = sp.Integer(0), False
+def _adds_a_constant(node: Any, absolute: frozenset[Any], scale: frozenset[Any]) -> bool:
+    shift, constant, holds_absolute = sp.Integer(0), False, False
     for term in node.args:
-        if not term.free_symbols & absolute:
+        symbols = term.free_symbols
+        if not symbols & scale:
             constant = True
             continue
         number, rest = term.as_coeff_Mul()
-        if rest not in absolute:
-            return False  # a temperature inside a product or a function
-        shift += number
-    return constant and shift != 0
-
-
+        if rest in scale:
+            shift += number
+            holds_absolute = holds_absolute or rest in absolute
+        elif symbols & absolute:
+            return False  # a degC temperature inside a product or a function
+    return holds_absolute and constant and shift != 0
 def _typed(node: Any, text: str, spans: Sequence[tuple[Any, int, int]]) -> str:
     for part, start, end in spans:
         if part == node:
             return " ".join(text[start:end].split())
     return str(node)
+
+
+def kelvin_scale(converted: Any) -> bool:
+    """Whether a parameter given with a unit may be a temperature on the kelvin scale:
+    a temperature typed in K (or degR), not in a delta_ unit (a difference) nor in
+    degC/degF (those are ``absolute`` already)."""
+    return (converted.dimension == (("[temperature]", 1.0),)
+            and not converted.absolute_temperature
+            and not str(converted.unit).strip().startswith("delta_"))
