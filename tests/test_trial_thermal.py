@@ -18,6 +18,7 @@ import math
 import re
 from pathlib import Path
 
+import numpy as np
 import pypdf
 import pytest
 import scipy.optimize
@@ -685,3 +686,54 @@ def test_the_units_meant_give_the_heat_rate(capsys, typed, si):
     doc = json.loads(out)
     assert doc["unknown_unit"] == "W"
     assert doc["runs"][0]["root"] == pytest.approx(2 * si * 10, rel=1e-12)  # m cp dT
+
+
+# 2.9. US process and HVAC units: 'lbmol' (the gas constant 10.7316 ft^3*psi/(lbmol*degR))
+#      was "unknown unit (did you mean 'mol', 'lbm'?)"; 'MBtu/h' was read by pint as mega-
+#      Btu, where US practice often means a thousand Btu (MMBtu a million), a factor 1000
+#      silently; 'TR' (a ton of refrigeration) was refused as tera x the gas constant.
+#      Now lbmol, MMBtu, MBH and TR are read, and MBtu is refused with what to type.
+#      NIST SP 811: 1 lb = 0.45359237 kg, so 1 lbmol = 453.59237 mol; 1 ton of
+#      refrigeration = 12 000 Btu_IT/h = 3516.853 W (from memory: 3.516 853 kW).
+@pytest.mark.parametrize("typed, si", [
+    ("lbmol", 453.59237), ("lbmol/h", 453.59237 / 3600.0),
+    ("MMBtu", 1e6 * 1055.056), ("MBH", 1000 * 1055.056 / 3600.0),
+    ("TR", 12000 * 1055.05585262 / 3600.0)])
+def test_us_process_units_are_read(capsys, typed, si):
+    code, out, err = run(capsys, "solve", "x = a", "--unknown", "x", "--param", f"a=1 {typed}",
+                         "--x0", "1", "--json")
+    assert code == 0, err
+    assert json.loads(out)["parameter_units"]["a"]["si_value"] == pytest.approx(si, rel=1e-6)
+
+
+def test_the_gas_constant_in_us_units_gives_the_peng_robinson_roots(capsys):
+    """An invented CO2-like state in US units: the three roots of the Peng-Robinson cubic
+    against numpy.roots in SI (R = 10.731577 ft^3*psi/(lbmol*degR) is 8.3144626 J/(mol*K)
+    to 7 figures, from memory of the handbook value)."""
+    pr = ("kappa = 0.37464 + 1.54226*w - 0.26992*w^2; alpha = (1 + kappa*(1 - sqrt(T/Tc)))^2; "
+          "a = 0.45724*R^2*Tc^2/Pc*alpha; b = 0.07780*R*Tc/Pc; A = a*P/(R*T)^2; "
+          "B = b*P/(R*T); Z^3 - (1 - B)*Z^2 + (A - 3*B^2 - 2*B)*Z - (A*B - B^2 - B^3) = 0")
+    code, out, err = run(capsys, "scan", pr, "--unknown", "Z", "--param", "Tc=547.43 degR",
+                         "--param", "Pc=1070 psia", "--param", "w=0.22394",
+                         "--param", "R=10.731577 ft^3*psi/(lbmol*degR)",
+                         "--param", "T=44 degF", "--param", "P=514.7 psia",
+                         "--from", "0", "--to", "1.2", "--json")
+    assert code == 0, err
+    psi, lbmol_R = 0.45359237 * 9.80665 / 0.0254 ** 2, 453.59237 * 5 / 9
+    R = 10.731577 * 0.3048 ** 3 * psi / lbmol_R
+    Tc, Pc, w, T, P = 547.43 * 5 / 9, 1070 * psi, 0.22394, (44 + 459.67) * 5 / 9, 514.7 * psi
+    k = 0.37464 + 1.54226 * w - 0.26992 * w ** 2
+    a = 0.45724 * R ** 2 * Tc ** 2 / Pc * (1 + k * (1 - math.sqrt(T / Tc))) ** 2
+    b = 0.07780 * R * Tc / Pc
+    A, B = a * P / (R * T) ** 2, b * P / (R * T)
+    expected = sorted(np.roots([1, -(1 - B), A - 3 * B ** 2 - 2 * B,
+                                -(A * B - B ** 2 - B ** 3)]).real)
+    got = [r["x"] for r in json.loads(out)["roots"]]
+    assert got == pytest.approx(expected, rel=1e-10)
+
+
+def test_mbtu_is_refused_as_ambiguous(capsys):
+    code, _out, err = run(capsys, "solve", "x = a", "--unknown", "x",
+                          "--param", "a=150 MBtu/h", "--x0", "1")
+    assert code == 2
+    assert "'MBtu'" in err and "kBtu" in err and "MMBtu" in err

@@ -9,8 +9,9 @@ factor must be a finite, non-zero double.
 
 pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
 never at start-up; readings are cached by text. The registry adds a few trade
-abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm, psia, bara); a pressure
-marked gauge (psig, barg, kPa(g)) is refused with what to type.
+abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm, psia, bara, lbmol, MMBtu,
+MBH, TR); a pressure marked gauge (psig, barg, kPa(g)) and MBtu (a thousand or a
+million Btu?) are refused with what to type.
 
 Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
 temperatures, converted with their offset (25 degC -> 298.15 K). In a compound unit
@@ -73,6 +74,13 @@ TRADE_UNITS = (
     # pressure zerotrace reads is absolute, or a difference); gauge ones are refused below
     "psia = psi",
     "bara = bar",
+    # US process and HVAC practice (NIST SP 811: 1 lb = 0.45359237 kg exactly, so a
+    # pound-mole is 453.59237 mol); M is a thousand there (MBH), MM a million (MMBtu);
+    # a ton of refrigeration, TR, is 12 000 Btu_IT/h (pint read TR as tera x R)
+    "lbmol = 453.59237 * mol = lb_mol = lbmole",
+    "MMBtu = 1e6 * Btu",
+    "MBH = 1e3 * Btu / hour",
+    "TR = ton_of_refrigeration",
 )
 
 # A pressure marked gauge (psig, barg, kPa(g)) is measured from the local atmosphere,
@@ -83,8 +91,18 @@ _GAUGE = re.compile(r"(?<![A-Za-z])(" + _PRESSURES + r")(?:g|\s*\(\s*g\s*\))(?![
 _ABSOLUTE = re.compile(r"(?<![A-Za-z])(" + _PRESSURES + r")(?:a|\s*\(\s*a\s*\))(?![A-Za-z])")
 
 
+_THOUSAND_BTU = re.compile(r"(?<![A-Za-z_])MBtu(?:_it)?(?![A-Za-z_])")
+
+
 def _marked_pressure(text: str) -> str:
-    """The refusal of a pressure marked gauge or absolute ('' for other text)."""
+    """The refusal of a pressure marked gauge or absolute, or of MBtu ('' for other
+    text): MBtu is a mega-Btu to SI and to pint, a thousand Btu in much US practice (MBH,
+    MMBtu for a million), a factor 1000 either way."""
+    mbtu = _THOUSAND_BTU.search(text)
+    if mbtu:
+        return (f"unit '{mbtu.group(0)}' is ambiguous: a million Btu by the SI prefix, a "
+                "thousand in much US practice; write kBtu for a thousand, MMBtu for a "
+                "million")
     gauge = _GAUGE.search(text)
     if gauge:
         unit = gauge.group(1)
