@@ -124,3 +124,31 @@ def test_a_product_after_a_slash_in_a_unit_cell_is_answered(qtbot, window):
     assert "parameter 'cp'" in status and "it reads as kJ*K/kg" in status
     cell = model.index(model.names().index("cp"), model.UNIT)
     assert "write kJ/(kg*K)" in cell.data(Qt.ItemDataRole.ToolTipRole)
+
+
+# 2.10. The system window said nothing of units beyond the roots: no word that Ti in degC
+#       is taken in kelvin, none on a constant added to such a temperature, where the
+#       terminal and the sheet of the same system say both. The notes now follow the
+#       roots under the editor.
+def test_the_system_window_gives_the_unit_notes_with_the_roots(qtbot, window):
+    from gui_helpers import open_system_window, solve_system_by_click
+
+    sw = open_system_window(qtbot, window)
+    sw.editor.setFocus()
+    QTest.keyClicks(sw.editor, "x = 1/(C + To); 2*x = k")
+    sw.unknown_names.setFocus()
+    QTest.keyClicks(sw.unknown_names, "x, To")
+    qtbot.waitUntil(lambda: sw.parameters.names() == ["C", "k"], timeout=10_000)
+    edit_cell(qtbot, sw.parameters_view, 0, 1, "200 delta_degC", shown="200")
+    edit_cell(qtbot, sw.parameters_view, 1, 1, "0.001 1/K", shown="0.001")
+    names = sw.unknowns.names()
+    edit_cell(qtbot, sw.unknowns_view, names.index("x"), 1, "0.001")
+    edit_cell(qtbot, sw.unknowns_view, names.index("To"), 1, "300")
+    edit_cell(qtbot, sw.unknowns_view, names.index("To"), 2, "degC")
+    solution = solve_system_by_click(qtbot, sw)
+    newton = next(r for r in solution.runs if r.method == "newton")
+    assert newton.converged
+    # 2/(C + To_K) = k: To_K = 2/k - C = 1800 K, 1526.85 degC (closed form)
+    assert newton.root["To"] == pytest.approx(1526.85, rel=1e-12)
+    status = sw.status.text()
+    assert "Note: `C + To` adds a constant to a temperature typed in degC/degF" in status
