@@ -737,3 +737,32 @@ def test_mbtu_is_refused_as_ambiguous(capsys):
                           "--param", "a=150 MBtu/h", "--x0", "1")
     assert code == 2
     assert "'MBtu'" in err and "kBtu" in err and "MMBtu" in err
+
+
+# 2.11. Refused for `Cb + T` with Cb a bare number and T in degC, the next thing to try
+#       is Antoine's C typed in degC as well: both then read in kelvin, C + T is 546.3 K
+#       too large, and the solve converged with no word. Two degC temperatures summed
+#       with weights that make no mean (1 + 1) are noted too; a mean (1/2 + 1/2) is not.
+def test_antoines_c_typed_in_degc_is_noted_and_a_mean_temperature_is_not(capsys):
+    code, out, err = run(capsys, *bubble_args("220.790 degC", "219.482 degC", "--json"))
+    assert code == 0, err
+    doc = json.loads(out)
+    assert any("`Cb + T` and `Ct + T` add a constant" in n for n in doc["unit_notes"])
+    # what it converged to: the degC form with C + 2*273.15 (brentq), not the bubble point
+    def f(t: float) -> float:
+        return (0.4 * 10 ** (6.90565 - 1211.033 / (220.790 + 2 * 273.15 + t))
+                + 0.6 * 10 ** (6.95464 - 1344.8 / (219.482 + 2 * 273.15 + t)) - 760.0)
+    wrong = scipy.optimize.brentq(f, -600.0, -300.0, xtol=1e-13)
+    assert doc["runs"][0]["root"] == pytest.approx(wrong, rel=1e-10)
+    # k(Tm) linear in the mean temperature (invented): k = k0 (1 + b (Tm - Tr))
+    code, out, err = run(capsys, "solve", "Tm = (Ti + To)/2; k = k0*(1 + b*(Tm - Tr))",
+                         "--unknown", "To", "--unknown-unit", "degC",
+                         "--param", "Ti=20 degC", "--param", "Tr=0 degC",
+                         "--param", "k0=0.56 W/(m*K)", "--param", "b=0.002 1/K",
+                         "--param", "k=0.62 W/(m*K)", "--x0", "50", "--json")
+    assert code == 0, err
+    doc = json.loads(out)
+    assert not any("273.15 K off" in n for n in doc["unit_notes"])
+    # closed form: Tm = Tr + (k/k0 - 1)/b, To = 2 Tm - Ti (in degC)
+    assert doc["runs"][0]["root"] == pytest.approx(2 * ((0.62 / 0.56 - 1) / 0.002) - 20,
+                                                   rel=1e-12)

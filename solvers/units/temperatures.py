@@ -32,13 +32,15 @@ def offset_sums(exprs: Iterable[Any], absolute: Iterable[Any], text: str,
     A sum is named when it holds one of ``absolute`` as a number times it (``T``, ``-Ti``,
     ``2*T``), every term holding one of them is such, the numbers before ``absolute`` and
     ``temperatures`` do not cancel (``To - Ti``, ``To - Ti - dT``, ``Tw - Ti`` with Tw in
-    K: a shift of the scale cancels there, a balance), and some term holds none of
-    either: a constant (``Cb`` in ``Cb + T``, Cb in delta_degC or a bare number). A sum
-    with a temperature inside a product or a power (``T/Tc``, ``T^4 - Ta^4``) is left
-    alone: there the kelvin value is what physics asks for; so is ``Cb + T`` with Cb
-    typed in K (a mean or a radiation sum reads the same). The text of each sum is taken
-    from ``spans`` (the parser's (expression, start, end) of every part), else sympy's
-    printing; each named once, in the order first met.
+    K: a shift of the scale cancels there, a balance), and either some term holds none
+    of either, a constant (``Cb`` in ``Cb + T``, Cb in delta_degC or a bare number), or
+    the numbers do not add up to 1 (``Cb + T`` with Cb typed in degC as well: a mean,
+    ``Ti/2 + To/2``, is a temperature on any scale; a radiation sum ``T + Ts`` in degC is
+    named too, rightly taken in kelvin). A sum with a temperature inside a product or a
+    power (``T/Tc``, ``T^4 - Ta^4``) is left alone: there the kelvin value is what
+    physics asks for; so is ``Cb + T`` with Cb typed in K (the advice followed). The
+    text of each sum is taken from ``spans`` (the parser's (expression, start, end) of
+    every part), else sympy's printing; each named once, in the order first met.
     """
     absolute = frozenset(absolute)
     if not absolute:
@@ -57,7 +59,8 @@ def offset_sums(exprs: Iterable[Any], absolute: Iterable[Any], text: str,
 
 
 def _adds_a_constant(node: Any, absolute: frozenset[Any], scale: frozenset[Any]) -> bool:
-    shift, constant, holds_absolute = sp.Integer(0), False, False
+    shift, degc, constant = sp.Integer(0), sp.Integer(0), False
+    holds_absolute = False
     for term in node.args:
         symbols = term.free_symbols
         if not symbols & scale:
@@ -66,10 +69,18 @@ def _adds_a_constant(node: Any, absolute: frozenset[Any], scale: frozenset[Any])
         number, rest = term.as_coeff_Mul()
         if rest in scale:
             shift += number
-            holds_absolute = holds_absolute or rest in absolute
+            if rest in absolute:
+                holds_absolute, degc = True, degc + number
         elif symbols & absolute:
             return False  # a degC temperature inside a product or a function
-    return holds_absolute and constant and shift != 0
+    if not holds_absolute or shift == 0:
+        return False
+    # a constant beside them (Cb + T); or, without one, degC temperatures whose weights
+    # make no mean (Cb + T with Cb typed in degC too: 2; a mean (Ti + To)/2 weighs
+    # 1/2 + 1/2 = 1, a balance To - Ti - dT 0 whatever dT is typed in)
+    return constant or (degc not in (0, 1) and shift != 1)
+
+
 def _typed(node: Any, text: str, spans: Sequence[tuple[Any, int, int]]) -> str:
     for part, start, end in spans:
         if part == node:
