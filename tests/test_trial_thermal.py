@@ -766,3 +766,36 @@ def test_antoines_c_typed_in_degc_is_noted_and_a_mean_temperature_is_not(capsys)
     # closed form: Tm = Tr + (k/k0 - 1)/b, To = 2 Tm - Ti (in degC)
     assert doc["runs"][0]["root"] == pytest.approx(2 * ((0.62 / 0.56 - 1) / 0.002) - 20,
                                                    rel=1e-12)
+
+
+# 2.12. That solve (Antoine's C in degC) converged to -451.16 degC, every method
+#       agreeing, with nothing said of a temperature below absolute zero. The agreement
+#       line (the terminal's, the window's and the sheet's) now says so, in the unit
+#       asked and in K (NIST SP 811: T/K = t/degC + 273.15 = (t/degF + 459.67)/1.8).
+@pytest.mark.parametrize("unit, to_unit", [("degC", lambda k: k - 273.15),
+                                           ("degF", lambda k: k * 1.8 - 459.67),
+                                           ("K", lambda k: k)])
+def test_a_root_below_absolute_zero_is_said_to_be_no_temperature(capsys, unit, to_unit):
+    args = list(bubble_args("220.790 degC", "219.482 degC"))
+    args[args.index("--unknown-unit") + 1] = unit
+    args[args.index("--x0") + 1] = repr(to_unit(363.15))
+    code, out, err = run(capsys, *args, "--json")
+    assert code == 0, err
+    root = json.loads(out)["runs"][0]["root"]
+
+    def f(t: float) -> float:  # brentq on the same sums, in degC
+        return (0.4 * 10 ** (6.90565 - 1211.033 / (220.790 + 2 * 273.15 + t))
+                + 0.6 * 10 ** (6.95464 - 1344.8 / (219.482 + 2 * 273.15 + t)) - 760.0)
+    kelvin = scipy.optimize.brentq(f, -600.0, -300.0, xtol=1e-13) + 273.15
+    assert kelvin < 0 and root == pytest.approx(to_unit(kelvin), rel=1e-10)
+    code, out, err = run(capsys, *args)
+    line = next(x for x in out.splitlines() if "agree to" in x)
+    assert "is below absolute zero: no temperature" in line
+    assert bool(re.search(r"\(-178\.008\d* K\)", line)) == (unit != "K")
+
+
+def test_a_temperature_above_absolute_zero_says_nothing_of_it(capsys):
+    code, out, err = run(capsys, *bubble_args(f"{220.790 - 273.15!r} K",
+                                              f"{219.482 - 273.15!r} K"))
+    assert code == 0, err
+    assert "absolute zero" not in out
