@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import pytest
 import scipy.optimize
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QPoint, Qt
 from PySide6.QtTest import QTest
 
 pytest.register_assert_rewrite("gui_helpers")
@@ -152,3 +152,40 @@ def test_the_system_window_gives_the_unit_notes_with_the_roots(qtbot, window):
     assert newton.root["To"] == pytest.approx(1526.85, rel=1e-12)
     status = sw.status.text()
     assert "Note: `C + To` adds a constant to a temperature typed in degC/degF" in status
+
+
+# 2.13. The line under the plot (agreement, failures, start notes, definitions at the
+#       root) had a fixed height of three lines and its text centred in it: a longer one
+#       (the root below absolute zero of finding 2.12 beside a failed false position)
+#       lost the halves of its first and last lines. It now starts at the top and
+#       scrolls in place; nothing is cut.
+def test_a_long_agreement_line_scrolls_instead_of_losing_its_ends(qtbot, window):
+    w = window
+    w.resize(1280, 800)
+    type_equation(qtbot, w, BUBBLE)
+    choose_unknown_by_keys(qtbot, w, "T")
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    values = {"p0": "1 mmHg", "Ab": "6.90565", "Bb": "1211.033 K", "Cb": "220.79 degC",
+              "At": "6.95464", "Bt": "1344.8 K", "Ct": "219.482 degC", "xb": "0.4",
+              "P": "760 mmHg"}
+    for name, typed in values.items():
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
+                  shown=typed.split()[0])
+    unit_box = w.strip.unit_box
+    unit_box.setFocus()
+    qtbot.keyClicks(unit_box, "degC")
+    QTest.keyClick(unit_box, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
+                    and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
+    settle(qtbot, w)
+    solve_by_keys(qtbot, w)
+    label, area = w.lanes.agreement, w.lanes.agreement_area
+    assert "is below absolute zero: no temperature" in label.text()
+    qtbot.waitUntil(lambda: area.verticalScrollBar().maximum() > 0, timeout=5000)
+    assert label.alignment() & Qt.AlignmentFlag.AlignTop
+    assert label.height() >= label.heightForWidth(label.width())  # the whole text laid out
+    bar = area.verticalScrollBar()
+    for _ in range(6):  # the user clicks the bar below its slider: a page at a time
+        QTest.mouseClick(bar, Qt.MouseButton.LeftButton,
+                         pos=QPoint(bar.width() // 2, bar.height() - 3))
+    qtbot.waitUntil(lambda: bar.value() == bar.maximum(), timeout=5000)
