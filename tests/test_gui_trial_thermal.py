@@ -189,3 +189,26 @@ def test_a_long_agreement_line_scrolls_instead_of_losing_its_ends(qtbot, window)
         QTest.mouseClick(bar, Qt.MouseButton.LeftButton,
                          pos=QPoint(bar.width() // 2, bar.height() - 3))
     qtbot.waitUntil(lambda: bar.value() == bar.maximum(), timeout=5000)
+
+
+# 2.14. A temperature difference typed "15 delta_degF" showed as "delta_…" in the
+#       parameters table's narrow unit column, the same as delta_degC, 1.8 times apart
+#       (NIST SP 811: 1 degF interval = 5/9 K). The cut now falls in the middle, the
+#       end ("…gF") kept, and the cell's tooltip has the unit whole; the solve uses
+#       15*5/9 K.
+def test_a_long_unit_keeps_its_end_in_the_parameters_table(qtbot, window):
+    w = window
+    type_equation(qtbot, w, "Q = m*cp*dT")
+    view, model = w.inputs.parameters_view, w.inputs.parameters
+    for name, typed in (("m", "2 kg/s"), ("cp", "4.18 kJ/(kg*K)"), ("dT", "15 delta_degF")):
+        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
+                  shown=typed.split()[0])
+    cell = model.index(model.names().index("dT"), model.UNIT)
+    assert cell.data(Qt.ItemDataRole.ToolTipRole) == "delta_degF"
+    assert view.textElideMode() == Qt.TextElideMode.ElideMiddle
+    shown = view.fontMetrics().elidedText("delta_degF", view.textElideMode(),
+                                          view.columnWidth(model.UNIT) - 8)
+    assert shown.endswith("F")  # degF told from degC at a glance
+    settle(qtbot, w)
+    solution = solve_by_keys(qtbot, w)
+    assert solution.runs[0].root == pytest.approx(2 * 4180.0 * 15 * 5 / 9, rel=1e-13)
