@@ -799,3 +799,36 @@ def test_a_temperature_above_absolute_zero_says_nothing_of_it(capsys):
                                               f"{219.482 - 273.15!r} K"))
     assert code == 0, err
     assert "absolute zero" not in out
+
+
+# 2.15. A Peng-Robinson worksheet (an invented CO2-like state: 280 K, 3.5 MPa; critical
+#       constants from memory of the handbook tables) printed its attraction parameter
+#       as "a = 0.41930623 kg*m^5/(s^2*mol^2)": base units where the trade writes
+#       Pa*m^6/mol^2 (the same coherent unit: Pa = kg/(m*s^2), NIST SP 811 Table 3).
+#       Molar units are now written as engineers write them (J/mol, J/(K*mol), the
+#       cubic's a); the three roots against numpy.roots.
+def test_a_cubic_equation_of_states_parameters_are_in_the_trades_units(capsys):
+    pr = ("kappa = 0.37464 + 1.54226*w - 0.26992*w^2; alpha = (1 + kappa*(1 - sqrt(T/Tc)))^2; "
+          "a = 0.45724*R^2*Tc^2/Pc*alpha; b = 0.07780*R*Tc/Pc; A = a*P/(R*T)^2; "
+          "B = b*P/(R*T); Z^3 - (1 - B)*Z^2 + (A - 3*B^2 - 2*B)*Z - (A*B - B^2 - B^3) = 0")
+    params = ("--param", "Tc=304.13 K", "--param", "Pc=7.3773 MPa", "--param", "w=0.22394",
+              "--param", "R=8.314462618 J/(mol*K)", "--param", "T=280 K",
+              "--param", "P=3.5 MPa")
+    R, Tc, Pc, w, T, P = 8.314462618, 304.13, 7.3773e6, 0.22394, 280.0, 3.5e6
+    k = 0.37464 + 1.54226 * w - 0.26992 * w ** 2
+    a = 0.45724 * R ** 2 * Tc ** 2 / Pc * (1 + k * (1 - math.sqrt(T / Tc))) ** 2
+    b = 0.07780 * R * Tc / Pc
+    A, B = a * P / (R * T) ** 2, b * P / (R * T)
+    expected = sorted(np.roots([1, -(1 - B), A - 3 * B ** 2 - 2 * B,
+                                -(A * B - B ** 2 - B ** 3)]).real)
+    code, out, err = run(capsys, "solve", pr, "--unknown", "Z", *params, "--x0", "1",
+                         "--method", "newton", "--figures", "8")
+    assert code == 0, err
+    line = next(x for x in out.splitlines() if "definitions at the root" in x)
+    shown = re.search(r"a = (\S+) Pa\*m\^6/mol\^2, b = (\S+) m\^3/mol", line)
+    assert shown, line
+    assert float(shown.group(1)) == pytest.approx(a, rel=1e-7)
+    assert float(shown.group(2)) == pytest.approx(b, rel=1e-7)
+    code, out, err = run(capsys, "scan", pr, "--unknown", "Z", *params, "--from", "0",
+                         "--to", "1.2", "--json")
+    assert [r["x"] for r in json.loads(out)["roots"]] == pytest.approx(expected, rel=1e-12)

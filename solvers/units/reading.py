@@ -541,6 +541,9 @@ _PREFERRED_PARTS: tuple[tuple[tuple[str, float], ...], ...] = (
     (("N", 1.0), ("m", -1.0)),                  # surface tension, line load, stiffness
     (("Pa", 1.0), ("m", -1.0)),                 # pressure gradient
     (("Pa", -1.0),),                            # compressibility
+    (("J", 1.0), ("mol", -1.0)),                # molar enthalpy, activation energy
+    (("J", 1.0), ("mol", -1.0), ("K", -1.0)),   # molar heat capacity, gas constant
+    (("Pa", 1.0), ("m", 6.0), ("mol", -2.0)),   # a cubic equation of state's a
     (("V", 1.0),),
     (("ohm", 1.0),),
 )
