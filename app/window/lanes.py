@@ -225,6 +225,7 @@ class LanesPanel(QWidget):
         self.agreement_area.setWidgetResizable(True)
         self.agreement_area.setFrameShape(QFrame.Shape.NoFrame)
         self.agreement_area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.agreement_area.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # Tab visits controls
         fix_lines(self.agreement_area, 3)
         digits_label, self.digits = digits_box()
         head = QHBoxLayout()
