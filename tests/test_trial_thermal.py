@@ -832,3 +832,32 @@ def test_a_cubic_equation_of_states_parameters_are_in_the_trades_units(capsys):
     code, out, err = run(capsys, "scan", pr, "--unknown", "Z", *params, "--from", "0",
                          "--to", "1.2", "--json")
     assert [r["x"] for r in json.loads(out)["roots"]] == pytest.approx(expected, rel=1e-12)
+
+
+# 2.16. US texts print products with a hyphen: ft-lbf, Btu/lb-degF, Btu/hr-ft^2-degF.
+#       Each was refused as only "cannot be read as a unit". The refusal now gives the
+#       text meant (a product after '/' put under it, as in finding 2.8); a negative
+#       exponent (s^-2) is no product. 1 Btu_IT/(h*ft^2*degF) = 5.678263 W/(m^2*K)
+#       (NIST SP 811, Appendix B.9).
+@pytest.mark.parametrize("typed, meant", [
+    ("ft-lbf", "ft*lbf"), ("Btu/lb-degF", "Btu/(lb*degF)"),
+    ("Btu_it/hr-ft^2-degF", "Btu_it/(hr*ft^2*degF)"), ("kJ/kg-K", "kJ/(kg*K)")])
+def test_a_hyphen_between_units_is_answered_with_the_product_meant(capsys, typed, meant):
+    code, _out, err = run(capsys, "solve", "x = a", "--unknown", "x",
+                          "--param", f"a=1 {typed}", "--x0", "1", "--no-dimension-check")
+    assert code == 2
+    assert f"a hyphen is no product sign; write {meant}" in err
+    code, out, err = run(capsys, "solve", "x = a", "--unknown", "x",
+                         "--param", f"a=1 {meant}", "--x0", "1", "--no-dimension-check",
+                         "--json")
+    assert code == 0, err
+    if meant.startswith("Btu_it/(hr"):
+        si = json.loads(out)["parameter_units"]["a"]["si_value"]
+        assert si == pytest.approx(5.678263, rel=1e-6)
+
+
+def test_a_negative_exponent_is_no_hyphen(capsys):
+    code, out, err = run(capsys, "solve", "x = a", "--unknown", "x",
+                         "--param", "a=3 kg*m^-3", "--x0", "1", "--json")
+    assert code == 0, err
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(3.0, rel=1e-15)

@@ -300,6 +300,14 @@ def unit_text_problem(text: Any) -> str:
                 "(letters, digits, spaces and * / ^ ( ) . - only)")
     if "__" in stripped or _depth(stripped) > 3:
         return f"unit '{stripped}': cannot be read as a unit"
+    if _HYPHEN.search(stripped):  # US practice writes ft-lbf, Btu/lb-degF
+        meant = _HYPHEN.sub(lambda m: m.group(1) + "*" + m.group(2), stripped)
+        grouped = _PRODUCT_AFTER_SLASH.search(meant)
+        if grouped:
+            names = [grouped.group(1), *re.findall(_UNIT_NAME, grouped.group(2))]
+            meant = (meant[:grouped.start()] + "/(" + "*".join(names) + ")"
+                     + meant[grouped.end():])
+        return f"unit '{stripped}': a hyphen is no product sign; write {meant}"
     product = _PRODUCT_AFTER_SLASH.search(stripped)
     if product:
         below = product.group(1)
@@ -331,6 +339,10 @@ _UNIT_NAME = r"[A-Za-zµ°Ω_][A-Za-z0-9_µ°Ω]*(?:\s*(?:\^|\*\*)\s*-?[0-9]+(?:
 _PRODUCT = r"(?:\s*\*(?!\*)\s*|\s*\.(?=\s*[A-Za-zµ°Ω])\s*|\s+(?=[A-Za-zµ°Ω]))"
 _PRODUCT_AFTER_SLASH = re.compile(
     r"/\s*(" + _UNIT_NAME + r")((?:" + _PRODUCT + _UNIT_NAME + r")+)")
+
+# a hyphen between two names (or a name and a parenthesis): a product as US texts print
+# it (ft-lbf, Btu/hr-ft^2-degF); pint cannot read it, and said only "cannot be read"
+_HYPHEN = re.compile(r"([A-Za-zµ°Ω_)]|\^\d+)\s*-\s*([A-Za-zµ°Ω_(])")
 
 _EXPONENT = re.compile(r"\s*(?:[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?![0-9.])|"
                        r"\(\s*[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?:\s*/\s*[0-9]{1,2})?\s*\))")
