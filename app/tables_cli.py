@@ -96,7 +96,12 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
             headers: list[str], cells: list[list[str]] | list[tuple[str, ...]],
             names: list[str], columns: list[np.ndarray], extra: dict[str, str]) -> int:
     from app.documents import tables
-    from app.documents.words import batch_note_text, batch_summary, remarks_text
+    from app.documents.words import (
+        batch_note_text,
+        batch_summary,
+        remarks_text,
+        shared_bracket_advice,
+    )
 
     out = args.out  # checked before the solving (_out_checked)
     if out:
@@ -112,8 +117,7 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
 
         data = tables.results_json(batch, names, columns, equation=args.equation,
                                    unknown=equation.unknown,
-                                   parameters=tables.constants_as_entered(equation,
-                                                                                constants))
+                                   parameters=tables.constants_in_si(equation, constants))
         data.update(units_json(equation, columns=names))
         _json_out({**data, **{k: v for k, v in extra.items() if k not in data}})
         return EXIT_OK
@@ -123,6 +127,9 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
     print(batch_summary(batch))
     for note in remarks_text(equation.remarks):  # as `solve` notes them
         print(f"note: {note}")
+    advice = shared_bracket_advice(batch)
+    if advice:
+        print(f"advice: {advice}")
     for index, code in batch.notes[:20]:
         print(f"note: row {index + 1}: {batch_note_text(code)}")
     if len(batch.notes) > 20:

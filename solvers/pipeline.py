@@ -30,6 +30,10 @@ from solvers.records import NO_SIGN_CHANGE, Detail, Run
 from solvers.scan import Scan, scan
 from solvers.worksheet import Settings, Worksheet
 
+# The secant's x1 from a scan cell is the cell's end nearer x0, unless x0 lies within this
+# share of the cell's width of it (x0 the scan's root estimate at that very end).
+_X1_APART = 0.01
+
 # How far a bracket search may grow from x0 before giving up: 2**40 times the first
 # half-width covers any physical range an engineer would type.
 _BRACKET_SEARCH_STEPS = 40
@@ -44,7 +48,8 @@ class StartChoice:
 
     Codes: x0_scan_root (x0, index, count, a, b, why: 0 the first from the left, 1 the
     one nearest the typed x0, 2 the first inside the typed bracket), x0_scan_min (x0, a,
-    b), x0_bracket_midpoint (x0), x0_scan_midpoint (x0), x0_default (), x1_scan (x1, lo,
+    b), x0_bracket_midpoint (x0), x0_scan_midpoint (x0), x0_default (), x1_scan and
+    x1_scan_far (x1, lo,
     hi), x1_nudged (x1), bracket_scan_cell (lo, hi), bracket_scan_range (a, b),
     bracket_grown (lo, hi), bracket_none (). :mod:`app.documents.words` says them in words.
     """
@@ -251,9 +256,13 @@ def start_values(ws: Worksheet, equation: Equation | None = None) -> StartValues
                                                         seed.a, seed.b, why)))
         if x1 is None and "two_point" in kinds and lo != hi:
             x1 = lo if abs(lo - x0) <= abs(hi - x0) else hi
-            if x1 == x0:
+            if abs(x1 - x0) <= _X1_APART * (hi - lo):
+                # x0 on (or within rounding of) that end: a chord through two points an ulp
+                # apart has a slope of rounding noise; the other end makes a real chord
                 x1 = hi if x1 == lo else lo
-            choices.append(StartChoice("x1_scan", (x1, lo, hi)))
+                choices.append(StartChoice("x1_scan_far", (x1, lo, hi)))
+            else:
+                choices.append(StartChoice("x1_scan", (x1, lo, hi)))
         if bracket is None and "bracket" in kinds and lo != hi:
             bracket = (lo, hi)
             choices.append(StartChoice("bracket_scan_cell", (lo, hi)))

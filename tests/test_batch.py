@@ -236,6 +236,53 @@ def test_jumps_and_poles_are_told_apart_from_roots_row_by_row(method):
                 batch.run(i).converged and batch.converged[i])
 
 
+@pytest.mark.parametrize("method", ["bisection", "brent", "illinois", "false_position"])
+@pytest.mark.parametrize("cap", [5, 30, 100])
+def test_a_pole_met_at_the_iteration_cap_gets_the_scalar_verdict_row_by_row(method, cap):
+    # 1/(x - c) - 2: pole at c, root at c + 0.5 (closed form), outside [1, 1.8] for the
+    # first three rows; the last row's bracket [1.2, 1.8] holds the root 1.6, not the pole
+    c = np.array([1.31, 1.7, 1.75, 1.1])
+    equation = parse_equation("1/(x - c) - 2", unknown="x", parameters={"c": c})
+    batch = solve_batch(equation, method=method, bracket=(np.array([1.0, 1.0, 1.0, 1.2]), 1.8),
+                        max_iter=cap)
+    for i in range(c.size):
+        run = batch.run(i)
+        assert (batch.reason[i], batch.iterations[i], batch.evaluations[i]) == (
+            run.reason, run.iterations, run.evaluations)
+    assert not batch.converged[:3].any()
+    if cap == 100:  # every method names the poles by then (false position at its cap)
+        assert set(batch.reason[:3]) == {"not_finite"}
+        # (plain false position may crawl to its cap on this convex root: no verdict)
+        assert batch.converged[3] or method == "false_position"
+    if batch.converged[3]:
+        assert abs(batch.root[3] - 1.6) <= 1e-12
+
+
+@pytest.mark.parametrize("method", list(METHODS))
+def test_zeros_of_rounding_noise_get_the_scalar_verdict_row_by_row(method):
+    # (x - 1)^3 + c typed out (closed form: the root 1 - cbrt(c)); with c at 0 or below
+    # rounding, f is 0.0 at many points within about 1.3e-5 of 1, so the rows land on
+    # zeros of rounding noise: the batch must judge them as the scalar method does (the
+    # look further out of the open methods, the bracket ends of the bracketing ones)
+    c = np.array([0.0, 0.0, 0.0, 1e-20, -1e-20, 0.0, 1e-3])
+    x0 = np.array([2.0, 0.3, 1.7, 2.0, 0.5, 1.01, 2.0])
+    equation = parse_equation("x^3 - 3*x^2 + 3*x - 1 + c", unknown="x", parameters={"c": 0.0})
+    batch = solve_batch(equation, method=method, x0=x0, x1=x0 * 1.01, bracket=(0.0, 2.3),
+                        parameters={"c": c})
+    for i in range(c.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+        if run.converged:
+            assert batch.root[i] == run.root
+            assert abs(run.root - (1.0 - np.cbrt(c[i]))) <= 2e-5, i
+    # plain false position crawls to its cap here; the secant may meet two points of equal
+    # noise (a flat chord: zero_derivative)
+    allowed = {"false_position": {"max_iterations"}, "secant": {"zero_derivative"}}
+    for i in np.flatnonzero(~batch.converged[:6]):
+        assert batch.reason_at(int(i)) in allowed.get(method, set()), (i, batch.reason_at(int(i)))
+
+
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     # exp(-x) - 2 exp(-2x): root ln 2; at x = 800 both terms underflow to 0.0.
     equation = parse_equation("exp(-x) - 2*exp(-2*x)", unknown="x")
@@ -246,12 +293,13 @@ def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     secant = solve_batch(equation, method="secant", x0=np.array([0.5, 800.0]),
                          x1=np.array([0.6, 801.0]))
     assert secant.converged.tolist() == [True, False]
-    # the probe beside x = 800 is 0.0 too: the scalar rule stops after that one call
-    # (f(800), then f(800 + step)), and the row's count says the same
+    # the probe beside x = 800 is 0.0 too: the scalar rule then looks 32 points further
+    # out for f's rounding noise (none: f is 0.0 out to 800 -+ 4e-3) and stops (f(800),
+    # f(800 + step), 32 more), and the row's count says the same
     for result in (batch, secant):
         run = result.run(1)
         assert (run.reason, run.evaluations) == (result.reason[1], result.evaluations[1])
-    assert batch.evaluations[1] == 2
+    assert batch.evaluations[1] == 2 + 32
 
 
 def test_newton_landing_in_underflow_after_a_large_residual_is_not_a_root():
@@ -259,15 +307,16 @@ def test_newton_landing_in_underflow_after_a_large_residual_is_not_a_root():
     # is x1 = x0 + 1/(2*x0) (the step -f/f' in closed form), where exp(-x1^2) is below
     # the smallest subnormal double 2**-1074 (IEEE 754 binary64) and f is an exact 0.0,
     # although f at x0 was ~1 and |f'*dx| ~1: the size of the last residual is no proof
-    # that a 0.0 is a root. Only f beside x1 (0.0 there too: underflow) tells; batch
-    # and scalar method stop not finite, after f(x0), f'(x0), f(x1) and one probe.
+    # that a 0.0 is a root. Only f beside x1 (0.0 there too, and out to 4e-3 of x1:
+    # underflow, no rounding noise) tells; batch and scalar method stop not finite, after
+    # f(x0), f'(x0), f(x1), one probe and the 32 points of the look for rounding noise.
     x0 = np.array([0.01, 0.015, 0.005, 0.5])
     equation = parse_equation("exp(-x^2)", unknown="x")
     batch = solve_batch(equation, method="newton", x0=x0)
     x1 = x0 + 1.0 / (2.0 * x0)
     assert (x1[:3] > 28.0).all() and math.exp(-(28.0**2)) == 0.0  # underflows (IEEE 754)
     assert not batch.converged[:3].any() and set(batch.reason[:3]) == {"not_finite"}
-    assert np.isnan(batch.root[:3]).all() and batch.evaluations[:3].tolist() == [4, 4, 4]
+    assert np.isnan(batch.root[:3]).all() and batch.evaluations[:3].tolist() == [36] * 3
     # from 0.5 it creeps outward (x + 1/(2x) each step) and reaches the cap, beside them
     assert batch.reason[3] == "max_iterations" and math.isnan(batch.root[3])
     for i in range(4):
@@ -645,6 +694,19 @@ def test_settings_are_checked_as_for_one_solve():
         solve_batch(equation, x0=np.ones(4))
 
 
+@pytest.mark.parametrize("method", list(METHODS))
+def test_one_row_given_as_scalars_and_a_cap_beyond_64_bits_solve_as_one_solve(method):
+    # x^2 - 2: root sqrt(2) (closed form). Scalars alone make a batch of one row with
+    # 0-d arrays; a cap of 10^20 is as good as none, as in the scalar method
+    equation = parse_equation("x^2 - 2")
+    batch = solve_batch(equation, method=method, x0=1.0, x1=1.5, bracket=(0.0, 2.0),
+                        max_iter=10**20)
+    assert batch.reason.shape == () and str(batch.reason) == batch.reason_at(0)
+    assert batch.reason_at(0) == batch.run(0).reason and bool(batch.converged)
+    assert abs(float(batch.root) - math.sqrt(2.0)) <= 1e-12
+    assert batch.settings["max_iter"] == 10**20
+
+
 def test_the_record_is_read_only_and_counts_reasons():
     equation = parse_equation("x - p", unknown="x", parameters={"p": np.arange(4.0)})
     batch = solve_batch(equation, method="brent", bracket=(-1.0, 10.0))
@@ -700,6 +762,26 @@ def test_sweep_follows_a_branch_to_its_turning_point_and_says_where_it_ends():
     assert all(code != "branch_jump" for k, code in batch.notes if k != first_past)
     run = batch.run(first_past)  # started from the previous row's root
     assert run.steps[0].x == batch.root[first_past - 1]
+
+
+def test_a_sweep_row_exactly_at_the_turning_point_ends_the_branch_there():
+    # x^3 - 3x + c: for c < 2 a branch of roots above 1 falls to the double root x = 1 at
+    # c = 2 (f = f' = 0 there: (x - 1)^2 (x + 2)), and beyond c = 2 only the root below
+    # -2 is left (numpy.roots). Typed out, f is 0.0 in doubles near x = 1: the row at
+    # c = 2 is a zero of f's rounding noise, not underflow (it failed, "f underflowed").
+    equation = parse_equation("x^3 - 3*x + c", unknown="x", parameters={"c": -1.0})
+    values = np.linspace(-1.0, 3.0, 9)
+    batch = sweep(equation, "c", values, x0=1.5)
+    assert batch.converged.all()
+    fold = int(np.flatnonzero(values == 2.0)[0])
+    for k, c in enumerate(values):
+        roots = np.roots([1.0, 0.0, -3.0, c])
+        real = np.sort(roots[np.abs(roots.imag) < 1e-6].real)
+        expected = real[-1] if k <= fold else real[0]
+        # the double root is located only to f's rounding noise (about 1.2e-8 around 1)
+        assert abs(batch.root[k] - expected) <= (2e-8 if k == fold else 1e-12), (k, c)
+    assert (fold, "at_fold") in batch.notes and (fold + 1, "branch_jump") in batch.notes
+    assert batch.run(fold).detail is None or batch.run(fold).detail.code == "zero_in_noise"
 
 
 def test_sweep_restarts_after_a_failed_row_and_says_from_where():

@@ -231,6 +231,25 @@ def test_a_sweep_with_a_unit_follows_the_bore_in_the_unit_asked_for(capsys):
     assert roots == pytest.approx(expected, rel=1e-10)
 
 
+def test_json_parameters_are_si_values_in_batch_sweep_and_solve_alike(capsys, tmp_path):
+    # one convention for machines: "parameters" holds the SI value the solve used (NIST
+    # SP 811 B.8: 1 ft = 0.3048 m exactly), "parameter_units" the value as typed
+    table = tmp_path / "in.csv"
+    table.write_text("L [ft]\n100\n")
+    outputs = [run(capsys, "batch", DARCY, "--table", str(table), "--param", "h=10 ft",
+                   *DARCY_FLAGS[:-2], "--x0", "0.05", "--json"),
+               run(capsys, "sweep", DARCY, "--vary", "L=100:200:2 ft", "--param", "h=10 ft",
+                   *DARCY_FLAGS[:-2], "--x0", "0.05", "--json"),
+               run(capsys, "solve", DARCY, "--param", "L=100 ft", "--param", "h=10 ft",
+                   *DARCY_FLAGS[:-2], "--x0", "0.05", "--json")]
+    for code, out, err in outputs:
+        assert code == 0, err
+        data = json.loads(out)
+        assert data["parameters"]["h"] == pytest.approx(3.048, rel=1e-15)
+        assert data["parameter_units"]["h"]["value"] == 10.0
+        assert data["parameter_units"]["h"]["si_value"] == data["parameters"]["h"]
+
+
 def test_a_column_given_without_its_unit_beside_units_is_refused_not_solved_wrong():
     """solve_batch: rows of a parameter the equation holds with a unit must carry one (a
     plain number there would be dimensionless and every row refused)."""

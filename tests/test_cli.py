@@ -215,7 +215,7 @@ def test_a_hostile_worksheet_runs_nothing_and_exits_2(capsys, tmp_path: Path) ->
     path = tmp_path / "from a colleague.json"
     path.write_text(json.dumps(sheet), "utf-8")
     code, out, err = run(capsys, "solve", "--worksheet", str(path))
-    assert code == 2 and "parameters[8].name" in err  # refused at load, naming the field
+    assert code == 2 and "parameter 9, name: '__class__'" in err  # refused at load, named
     sheet["parameters"].pop()
     path.write_text(json.dumps(sheet), "utf-8")
     code, out, err = run(capsys, "solve", "--worksheet", str(path))

@@ -28,6 +28,7 @@ from solvers.equation import (
     free_names,
     parse_equation,
 )
+from solvers.equation.typeset import derivative_latex as typeset_derivative
 from solvers.equation.typeset import latex as latex_of
 
 
@@ -765,30 +766,39 @@ def test_friction_factor_derivative_separates_re_from_f() -> None:
 
 
 def test_unit_scale_one_is_not_printed_as_a_coefficient() -> None:
-    # T in degC enters as 1.0*T + 273.15 (SI kelvin); the typeset derivative shows neither
-    # a "1" before the factors nor before T, and -1*x as -x.
+    # T in degC enters f as 1.0*T + 273.15 (SI kelvin); the typeset derivative is in the
+    # quantities as typed, so it shows neither that "1" nor the offset, and -1*x as -x:
+    # the same formula as the equation given in plain SI numbers.
+    text = "m*cp*(Thi - T) = U*A*((T-Tci)-(Thi-Tco))/ln((T-Tci)/(Thi-Tco))"
     eq = parse_equation(
-        "m*cp*(Thi - T) = U*A*((T-Tci)-(Thi-Tco))/ln((T-Tci)/(Thi-Tco))", unknown="T",
-        unknown_unit="degC",
+        text, unknown="T", unknown_unit="degC",
         parameters=dict(m="2 kg/s", cp="4180 J/(kg*K)", Thi="80 degC", U="500 W/(m^2*K)",
                         A="2 m^2", Tco="30 degC", Tci="20 degC"))
     tex = eq.derivative_latex
     assert "1 " not in tex and "1.0" not in tex and r"1 \cdot" not in tex
-    assert r"T - \mathrm{Tci} + 273.15" in tex and tex.endswith(r"- \mathrm{cp} \cdot m")
+    assert "273.15" not in tex and tex.endswith(r"- \mathrm{cp} \cdot m")
+    plain = parse_equation(text, unknown="T", parameters=dict(
+        m=2.0, cp=4180.0, Thi=353.15, U=500.0, A=2.0, Tco=303.15, Tci=293.15))
+    assert tex == plain.derivative_latex
     assert mathtext(tex, "plain") == f"${tex}$"
+    # f' itself (what Newton evaluates) still takes T in degC: the offset is in it.
+    assert "273.15" in str(eq.symbolic_derivative)
 
 
 def test_typeset_numbers_are_not_padded_with_zeros() -> None:
     # hf = fD*(L/D)*(4Q/(pi D^2))^2/(2g) with D in mm: f'(D) = 40/pi^2 * 10^15 L Q^2 fD /
     # (D^6 g) (closed form, D_SI = D/1000). repr wrote 4052850000000000.0 (16 digits, 10
-    # of them padding); the sheet shows six significant figures as mantissa and power.
+    # of them padding); six significant figures are shown as mantissa and power.
     eq = parse_equation("hf = fD*(L/D)*(4*Q/(pi*D^2))^2/(2*g)", unknown="D",
                         unknown_unit="mm",
                         parameters=dict(hf="15 ft", fD=0.018, L="800 ft", Q="450 gal/min",
                                         g="32.174 ft/s^2"))
     mantissa = f"{40 / math.pi ** 2:.6g}"  # 4.05285
-    assert eq.derivative_latex.startswith(rf"\frac{{{mantissa} \cdot 10^{{15}} \cdot L")
-    assert "0000" not in eq.derivative_latex
+    in_mm = typeset_derivative(eq.symbolic_derivative)  # f' of D's number in mm
+    assert in_mm.startswith(rf"\frac{{{mantissa} \cdot 10^{{15}} \cdot L")
+    assert "0000" not in in_mm
+    # The strip's derivative is in the quantities as typed: no 10^15 of the mm.
+    assert eq.derivative_latex.startswith(rf"\frac{{{mantissa} \cdot L")
 
 
 @pytest.mark.parametrize(("value", "tex"), [

@@ -63,7 +63,8 @@ def test_scan_lists_every_root_and_picking_one_polishes_it(qtbot, window):
                                strict=False):
         assert found.x == pytest.approx(expected, rel=2e-8)
     assert f"{len(scan.roots)} roots" in window.roots_summary.text()
-    # Pick the second root: every method polishes it and the start values follow.
+    # Pick the second root: every method polishes it; the typed start values stay.
+    typed = window.inputs.fields["x0"].value()
     before = window.solution
     index = model.index(1, 0)
     window.roots_view.activated.emit(index)
@@ -71,7 +72,8 @@ def test_scan_lists_every_root_and_picking_one_polishes_it(qtbot, window):
                     timeout=20_000)
     for run in window.solution.runs:
         assert run.converged and run.root == pytest.approx(scan.roots[1].x, rel=1e-10)
-    assert window.inputs.fields["x0"].value() == scan.roots[1].x
+    assert window.solution.worksheet.settings.x0 == scan.roots[1].x
+    assert window.inputs.fields["x0"].value() == typed
     # The function plot marks every root of the scan.
     ax = window.plot.function_view.figure.axes[0]
     marks = [line for line in ax.get_lines() if line.get_label().startswith("root")]

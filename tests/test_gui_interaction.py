@@ -440,8 +440,10 @@ def test_a_worksheet_listing_a_method_twice_is_refused_by_name():
 
     text = json.dumps({"format": "zerotrace-worksheet", "version": 1, "equation": "x^2 - 2",
                        "settings": {"methods": ["brent", "newton", "brent"]}})
-    with pytest.raises(worksheet.WorksheetError, match=r"settings\.methods\[2\].*twice"):
+    with pytest.raises(worksheet.WorksheetError,
+                       match=r"^settings\.methods: 'brent' is listed twice") as info:
         worksheet.loads(text)
+    assert info.value.field == "settings.methods[2]"  # the JSON path, for programs
 
 
 def test_a_design_value_taken_from_one_of_two_different_roots_says_so(qtbot, window):

@@ -44,12 +44,22 @@ def drum_roots_l_per_mol() -> np.ndarray:
     return np.sort(roots.real) * 1000.0
 
 
+def arrow_down_to(box, wanted) -> None:
+    """Down-arrow through a combo box until ``wanted(box)`` holds (bounded by its count:
+    a box that never gets there fails the test instead of hanging it)."""
+    for _ in range(box.count()):
+        if wanted(box):
+            return
+        QTest.keyClick(box, Qt.Key.Key_Down)
+    assert wanted(box)
+
+
 def choose_unknown_by_keys(qtbot, w, name: str) -> None:
     box = w.strip.unknown_box
     box.setFocus()
     target = box.findData(name)
-    while box.currentIndex() != target:
-        QTest.keyClick(box, Qt.Key.Key_Down)
+    assert target >= 0, f"{name} is not offered as the unknown"
+    arrow_down_to(box, lambda b: b.currentIndex() == target)
     qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.unknown == name
                     and not w.runner.is_busy("preview"), timeout=10_000)
 
@@ -147,8 +157,7 @@ def flash_table(qtbot, w):
     assert not t.last_error
     box = t.method_box
     box.setFocus()
-    while box.currentData() != "brent":
-        QTest.keyClick(box, Qt.Key.Key_Down)
+    arrow_down_to(box, lambda b: b.currentData() == "brent")
     return t
 
 
@@ -233,8 +242,8 @@ def test_a_design_chart_on_log_axes_over_a_decade_or_two_has_readable_labels(qtb
     run_table(qtbot, t)
     box = t.against_box
     box.setFocus()
-    while box.currentText() != "K1":  # K1 from 1.6 to 40: about one and a half decades
-        QTest.keyClick(box, Qt.Key.Key_Down)
+    # K1 from 1.6 to 40: about one and a half decades
+    arrow_down_to(box, lambda b: b.currentText() == "K1")
     for check in (t.log_x, t.log_y):
         QTest.mouseClick(check, Qt.MouseButton.LeftButton,
                          pos=check.rect().topLeft() + check.rect().center() / 4)
@@ -459,8 +468,7 @@ def test_the_convergence_plot_names_the_residuals_and_the_steps_units(qtbot, win
     assert ax.get_ylabel() == "|f(v_k)| [Pa]"  # the function plot's f(v) [Pa]
     box = w.plot.quantity_box
     box.setFocus()
-    while box.currentData() != "step":
-        QTest.keyClick(box, Qt.Key.Key_Down)
+    arrow_down_to(box, lambda b: b.currentData() == "step")
     qtbot.waitUntil(lambda: w.plot.convergence_view.figure.axes[0].get_ylabel()
                     == "|Δv_k| [L/mol]")
 

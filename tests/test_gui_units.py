@@ -85,6 +85,40 @@ def test_value_typed_with_its_unit_splits_and_the_root_comes_in_the_unit_box_uni
     assert {p.name: p.unit for p in ws.parameters} == {"Q": "L/s", "v": "ft/s"}
 
 
+def test_changing_the_unknowns_unit_keeps_the_start_values_physical(qtbot, window):
+    # Invented scenario: a bore started at 150 mm, then asked in inches. The start values
+    # keep their lengths (NIST SP 811: 1 in = 25.4 mm exactly): 150 mm is 5.90551 in, and
+    # the bracket [100, 200] mm is [3.93701, 7.87402] in; the root is the same length.
+    type_equation(qtbot, window, "Q = pi*D^2/4*v")
+    _choose_unknown(qtbot, window, "D")
+    model = window.inputs.parameters
+    _type_cell(qtbot, window, _row(window, "Q"), model.VALUE, "35 L/s")
+    _type_cell(qtbot, window, _row(window, "v"), model.VALUE, "2 m/s")
+    _type_field(qtbot, window.strip.unit_box, "mm")
+    fields = window.inputs.fields
+    for key, text in (("x0", "150"), ("a", "100"), ("b", "200")):
+        _type_field(qtbot, fields[key], text)
+    qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.ok
+                    and window.analysis.equation.unknown_unit == "mm", timeout=10_000)
+    _type_field(qtbot, window.strip.unit_box, "in")
+    assert fields["x0"].value() == pytest.approx(150 / 25.4, rel=1e-11)
+    assert fields["a"].value() == pytest.approx(100 / 25.4, rel=1e-11)
+    assert fields["b"].value() == pytest.approx(200 / 25.4, rel=1e-11)
+    assert "converted from mm to in" in window.statusBar().currentMessage()
+    qtbot.waitUntil(lambda: window.analysis is not None and window.analysis.ok
+                    and window.analysis.equation.unknown_unit == "in", timeout=10_000)
+    solution = solve_by_keys(qtbot, window)
+    expected_in = math.sqrt(4 * 0.035 / (math.pi * 2.0)) / 0.0254  # D = sqrt(4Q/(pi v))
+    converged = [r for r in solution.runs if r.converged]
+    assert converged and all(r.root == pytest.approx(expected_in, rel=1e-12)
+                             for r in converged)
+    # a unit typed into the blank box states the unit of what is there: nothing converts
+    _type_field(qtbot, window.strip.unit_box, "")
+    _type_field(qtbot, fields["x0"], "0.15")
+    _type_field(qtbot, window.strip.unit_box, "m")
+    assert fields["x0"].value() == 0.15
+
+
 def test_a_dimensional_mismatch_is_named_in_the_status_line(qtbot, window):
     type_equation(qtbot, window, "H = Q + D")
     model = window.inputs.parameters

@@ -287,8 +287,76 @@ def test_a_pole_is_never_a_root(method):
     # tan has a pole at pi/2 (closed form) with a sign change across it
     run = method(math.tan, 1.0, 2.0)
     assert_record(run)
-    assert not run.converged  # plain false position runs out of iterations beside it
-    assert run.reason in ("not_finite", "discontinuity", "max_iterations")
+    assert not run.converged
+    # plain false position creeps up the pole one side at a time and meets the cap first;
+    # it still names the pole, as the methods whose bracket closes do
+    assert run.reason == "not_finite" and run.detail.code in ("pole", "pole_capped")
+    assert abs(run.detail.values[2] - math.pi / 2) <= 1e-6
+
+
+@pytest.mark.parametrize("c", [1.31, 1.7, 1.75])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_bracket_holding_only_a_pole_is_named_a_pole_even_at_the_cap(method, c):
+    # 1/(x - c) - 2 has its pole at c and its only root at c + 0.5 (closed form), outside
+    # [1, 1.8]: the sign change in the bracket is the pole's
+    run = method(lambda x: 1.0 / (x - c) - 2.0, 1.0, 1.8)
+    assert_record(run)
+    assert not run.converged and run.reason == "not_finite"
+    if run.detail.code in ("pole", "pole_capped"):
+        assert abs(run.detail.values[2] - c) <= 1e-6
+    else:  # bisection may land on c itself: f raises there
+        assert run.detail.code == "raised" and run.detail.values[2] == c
+
+
+@pytest.mark.parametrize("method", [m for m in METHODS if m != "false_position"])
+def test_a_zero_in_the_rounding_noise_of_a_multiple_root_is_no_underflow(method):
+    # x^3 - 3x^2 + 3x - 1 = (x - 1)^3 (closed form): typed out, f is rounding noise, 0.0
+    # at many points, for |x - 1| up to about 1.3e-5 (the scan's noise band). A method
+    # landing on such a 0.0 found f 0.0 beside it too and said "f underflowed": the terms
+    # are of order 1, nothing underflowed. f beside it is a few units of their rounding.
+    text = "x^3 - 3*x^2 + 3*x - 1"
+    eq = parse_equation(text)
+    run = run_method(method, eq.f, fprime=eq.fprime, x0=2.0, x1=2.1, bracket=(0.0, 2.3))
+    assert run.converged, (run.reason, run.detail)
+    assert abs(run.root - 1.0) <= 2e-5
+    assert run.detail is None or run.detail.code in ("zero_in_noise", "zero_between_noise")
+    if run.detail is not None:
+        assert "rounding noise" in run_message(run) and "underflow" not in run_message(run)
+
+
+def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
+    # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
+    # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches
+    # |x - 1| ~ 1.2e-8: |f| <= 3 eps there)
+    eq = parse_equation("x^3 - 3*x + 2")
+    run = newton(eq.f, 1.3843671526381416, fprime=eq.fprime)
+    assert run.converged and run.reason == "exact_zero"
+    assert abs(run.root - 1.0) <= 2e-8
+    assert run.detail is not None and run.detail.code == "zero_in_noise"
+
+
+def test_plain_false_position_at_the_cap_names_the_end_that_stood_still():
+    # x^10 - 0.5 on [0, 1.5] is convex: every chord lands left of the root 0.5**(1/10)
+    # (closed form), so the end 1.5 never moves and 100 iterations do not reach it;
+    # Illinois and Brent converge on the same bracket (scipy.optimize.brentq agrees)
+    def f(x):
+        return x**10 - 0.5
+
+    run = false_position(f, 0.0, 1.5)
+    assert run.reason == "max_iterations" and run.detail.code == "end_held"
+    assert run.detail.values == (1.5, 100)
+    assert "Illinois or Brent" in run_message(run)
+    root = brentq(f, 0.0, 1.5, xtol=1e-14)
+    for other in (illinois, brent):
+        assert abs(other(f, 0.0, 1.5).root - root) <= 1e-12
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_capped_run_on_a_root_is_still_max_iterations(method):
+    # x^9 - 0.3 (root 0.3**(1/9), closed form) with 3 iterations allowed: the bracket has
+    # not closed in on anything, the cap is all there is to say
+    run = method(lambda x: x**9 - 0.3, 0.0, 2.0, max_iter=3)
+    assert run.reason == "max_iterations" and run.detail is None
 
 
 @pytest.mark.parametrize("p", [1.0 / 3.0, 1.0 / 19.0])

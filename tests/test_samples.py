@@ -170,6 +170,32 @@ def test_wall_eigenvalues_and_poles_of_tan() -> None:
     np.testing.assert_allclose(sorted(result.poles), poles, rtol=1e-6)
 
 
+def test_rod_eigenvalues_and_the_zeros_of_j0_as_poles() -> None:
+    import scipy.special as special
+
+    ws = load("rod-quench-eigenvalues")
+    bi = 800.0 * 0.025 / 45.0  # h r / k in SI (NIST SP 811: 1 mm = 1e-3 m exactly)
+    # One eigenvalue of x J1(x)/J0(x) = Bi between each zero of J1 (and 0) and the next zero
+    # of J0, where the left side rises from 0 to +inf (common practice; the structure of
+    # the long-cylinder eigenvalues). scipy brentq on scipy.special.j0/j1, and jn_zeros.
+    j0_zeros, j1_zeros = special.jn_zeros(0, 6), np.concatenate([[0.0], special.jn_zeros(1, 6)])
+    expected = [brentq(lambda x: x * special.j1(x) / special.j0(x) - bi, j1_zeros[n] + 1e-12,
+                       j0_zeros[n] - 1e-12, xtol=1e-15) for n in range(5)]
+    result = pipeline.scan_worksheet(ws)
+    np.testing.assert_allclose([r.x for r in result.roots], expected, rtol=1e-12)
+    np.testing.assert_allclose(sorted(result.poles), j0_zeros[:5], rtol=1e-9)
+    solution = pipeline.solve(ws)
+    newton = solution.runs[0]
+    assert newton.converged and newton.root == pytest.approx(expected[0], rel=1e-13)
+    # x0 = 0.9 typed sits on the end of the scan's sign change [0.8625, 0.9] (samples 15/2000
+    # apart: arithmetic): the secant's x1 is the other end, not a point an ulp from x0
+    (choice,) = [c for c in solution.start.choices if c.code.startswith("x1_")]
+    assert choice.code == "x1_scan_far" and choice.numbers[0] == pytest.approx(0.8625)
+    secant = next(r for r in solution.runs if r.method == "secant")
+    assert abs(secant.steps[1].x - secant.steps[0].x) == pytest.approx(0.0375)
+    assert secant.converged and secant.root == pytest.approx(expected[0], rel=1e-13)
+
+
 def test_channel_normal_depth_matches_an_independent_solve() -> None:
     ws = load("drainage-channel-normal-depth")
     p = params(ws)

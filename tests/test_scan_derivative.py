@@ -216,6 +216,36 @@ def test_double_roots_on_the_grid_are_found_by_every_check():
                 assert m == m_want and abs(x - want) <= 1e-7, (mode, double, simple, found)
 
 
+@pytest.mark.parametrize("reach", [1e-5, 1e-6, 1e-7])
+def test_a_run_of_zeros_from_cancellation_is_one_double_root_cluster(reach):
+    # 1 - cos x = 2 sin^2(x/2) (closed form): a double root at 0. In doubles cos x rounds
+    # to 1 for |x| below about 1.05e-8 (IEEE 754 rounding), and beyond it 1 - cos x is a
+    # staircase of multiples of 2^-53: a run of exact zeros the sampling met, with f'
+    # contradicting f's steps. The scan said "0 roots" (a zero-run warning, and at the
+    # narrower ranges "fast oscillation" after millions of samples)
+    equation = parse_equation("1 - cos(x)")
+    for mode in ("derivative", "chebyshev"):
+        result = scan(equation.f, -reach, reach, fprime=equation.fprime, cross_check=mode)
+        codes = [d.code for d in result.details]
+        assert len(result.roots) == 1 and result.roots[0].multiplicity == 2, (mode, codes)
+        assert not {"zero_run", "fast_oscillation"} & set(codes), (mode, codes)
+        (band,) = result.noise_bands
+        # the stretch where x^2/2 is within a few quanta of 2^-53 holds the root 0
+        assert band[0] < 0.0 < band[1] and band[1] - band[0] < 1e-7
+        assert band[0] <= result.roots[0].x <= band[1]
+        assert result.samples < 200_000  # no re-scan at 64x over the whole staircase
+
+
+def test_a_run_of_underflow_stays_a_run_and_no_root():
+    # exp(-x) - exp(-2x) has its only root at 0 (closed form); on [700, 800] both terms
+    # underflow to 0.0 from about x = 745 (IEEE 754 double range): a run of zeros that
+    # no rounding of cancelling terms made, so no root
+    equation = parse_equation("exp(-x) - exp(-2*x)")
+    result = scan(equation.f, 700.0, 800.0, fprime=equation.fprime)
+    assert not result.roots
+    assert [d.code for d in result.details].count("zero_run") == 1
+
+
 @pytest.mark.parametrize(("text", "a", "b", "run"), [
     ("1 - cos(x)", -1e-9, 1e-9, (-1e-9, 1e-9)),
     ("exp(x) - 1", -1e-300, 1e-300, (-1e-300, 1e-300)),

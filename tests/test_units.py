@@ -64,6 +64,22 @@ def test_a_parameter_with_a_unit_reaches_f_in_si_base_units():
     assert eq.unknown_unit == "m"  # inferred: x is what a is
 
 
+@pytest.mark.parametrize(("typed", "shown"), [
+    ("lbf*ft", "N*m"), ("ft*lbf", "N*m"), ("kgf*cm", "N*m"), ("kN*m", "N*m"),
+    ("Btu", "J"), ("kJ", "J"), ("lbf", "N"), ("lbf/ft", "N/m"),
+])
+def test_a_force_times_a_length_is_shown_in_newton_metres_not_joules(typed, shown):
+    # a torque typed in lbf*ft has an energy's dimension; SI Brochure (9th ed., Table 4):
+    # J = N m, and a torque is written N m (common practice). NIST SP 811 B.9: 1 lbf*ft =
+    # 1.355818 N*m; 65 lbf*ft is 88.128 N*m
+    from app.documents.words import si_unit_text
+
+    eq = parse_equation("x = a", parameters={"a": f"65 {typed}"})
+    assert si_unit_text(eq.units["a"]) == shown
+    if typed == "lbf*ft":
+        assert eq.units["a"].si_value == pytest.approx(65 * 1.355818, rel=1e-6)
+
+
 # ---------------------------------------------------------------- the same physics in two systems
 
 
@@ -274,7 +290,7 @@ def test_worksheet_json_keeps_units_and_plain_files_stay_as_they_were():
 def test_worksheet_with_an_unknown_unit_names_the_field():
     text = dumps(Worksheet("x = a", parameters=(Parameter("a", 2.0),))).replace(
         '"value": 2.0', '"value": 2.0, "unit": "mmm"')
-    with pytest.raises(ValueError, match=r"parameters\[0\]\.unit: unknown unit 'mmm'"):
+    with pytest.raises(ValueError, match=r"parameter \"a\", unit: unknown unit 'mmm'"):
         loads(text)
 
 

@@ -497,5 +497,25 @@ def draw_design_chart(ax: Any, values: Any, batch: Any, *, name: str, unknown: s
     ax.set_ylabel(f"{unknown} [{unit}]" if unit else unknown)
     ax.grid(True, which="both", color="#E4E4E4", linewidth=0.6, zorder=0)
     if failed.size or ends:
-        ax.legend(loc="best", fontsize="small", framealpha=0.85)
+        legend_above(ax)
     return int(x.size)
+
+
+# The gid of a legend set above its axes: the window's margins make room for it.
+LEGEND_ABOVE = "legend-above-axes"
+
+
+def legend_above(ax: Any) -> Any:
+    """The axes' legend in one row above them, right-aligned, with no frame.
+
+    Inside the axes a legend hides data wherever it goes: "best" weighs the points it
+    would cover but still covers some when every corner holds data (the crosses of failed
+    rows along the bottom among them). Above the axes it covers nothing. A constrained
+    layout (the sheet) makes room for it; the window's margins do (its gid says so).
+    """
+    handles, labels = ax.get_legend_handles_labels()
+    legend = ax.legend(handles, labels, loc="lower right", bbox_to_anchor=(1.0, 1.0),
+                       ncol=max(1, len(labels)), fontsize="small", frameon=False,
+                       borderaxespad=0.2, handlelength=1.6, columnspacing=1.2)
+    legend.set_gid(LEGEND_ABOVE)
+    return legend

@@ -63,8 +63,23 @@ def _reciprocal(name: str) -> Callable[[_ZerotracePrinter, Any], str]:
     return text
 
 
+def _bessel(letter: str) -> Callable[[_ZerotracePrinter, Any], str]:
+    """sympy's besselj(n, u) and kin as our J0(u), J1(u) (orders 0 and 1, all the parser
+    and the derivative build)."""
+
+    def text(p: _ZerotracePrinter, e: Any) -> str:
+        order, u = e.args
+        return f"{letter}{order}({p.doprint(u)})"
+
+    return text
+
+
 # sympy functions with no name in our syntax -> an equal expression in names it has.
 _REWRITTEN: dict[str, Callable[[_ZerotracePrinter, Any], str]] = {
+    "besselj": _bessel("J"),
+    "bessely": _bessel("Y"),
+    "besseli": _bessel("I"),
+    "besselk": _bessel("K"),
     "sign": _sign_text,
     "Heaviside": _step_text,
     "sec": _reciprocal("cos"),
@@ -112,6 +127,12 @@ class _ZerotracePrinter(StrPrinter):
     _print_sign = _print_Function
     _print_Heaviside = _print_Function
     _print_exp = _print_Function
+    _print_besselj = _print_Function
+    _print_bessely = _print_Function
+    _print_besseli = _print_Function
+    _print_besselk = _print_Function
+    _print_erf = _print_Function
+    _print_erfc = _print_Function
 
     def _print_Exp1(self, expr: Any) -> str:
         return "exp(1)"

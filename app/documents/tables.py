@@ -104,10 +104,11 @@ def read_table(path: str | os.PathLike[str]) -> Table:
     return parse_table(text, shown)
 
 
-def parse_table(text: str, shown: str = "pasted table") -> Table:
+def parse_table(text: str, shown: str = "pasted table", *, pasted: bool = False) -> Table:
     """A table of inputs from text (a file's, or cells pasted from a spreadsheet: a first
     line holding a tab makes the table tab-separated, else comma-separated); ``shown``
-    names it in messages. :class:`TableError` as for :func:`read_table`."""
+    names it in messages. :class:`TableError` as for :func:`read_table`; ``pasted`` when
+    the text is the clipboard's, whose lack of a table is the clipboard's, not a file's."""
     if len(text) > MAX_TABLE_BYTES:
         raise TableError(f"{shown}: more than {MAX_TABLE_BYTES} characters")
     reader = csv.reader(io.StringIO(text, newline=""), delimiter=_delimiter(text))
@@ -131,6 +132,11 @@ def parse_table(text: str, shown: str = "pasted table") -> Table:
     except csv.Error as exc:
         raise TableError(f"{shown}: line {reader.line_num}: not valid CSV ({exc})") from None
     if header is None:
+        if pasted:
+            held = ("it is empty, or holds no text" if not text.strip()
+                    else "only comment lines (#) or blank lines")
+            raise TableError(f"the clipboard holds no table ({held}): copy the table's cells, "
+                             "its header row of parameter names included, then paste")
         raise TableError(f"{shown}: empty file: no header row of parameter names")
     columns = _columns(shown, header, header_line)
     if not rows:
@@ -285,6 +291,13 @@ def common_starts(batch: Any) -> dict[str, float]:
 def constants_as_entered(equation: Any, constants: Mapping[str, Any]) -> dict[str, float]:
     """Each constant's number as typed (a value with a unit: its magnitude)."""
     return {k: equation.units[k].value if k in equation.units else v
+            for k, v in constants.items()}
+
+
+def constants_in_si(equation: Any, constants: Mapping[str, Any]) -> dict[str, float]:
+    """Each constant's SI value (the number the solve used), as ``solve --json`` gives its
+    ``parameters``: the value as typed and its unit are in ``parameter_units``."""
+    return {k: equation.units[k].si_value if k in equation.units else float(v)
             for k, v in constants.items()}
 
 

@@ -232,26 +232,29 @@ def _table(raw: Any) -> TableInputs:
     units: list[str] = []
     cells = 0
     for j, raw_column in enumerate(raw_columns):
-        where = f"table.columns[{j}]"
-        column = _mapping(raw_column, where)
-        name = _text(column.get("name"), f"{where}.name", MAX_NAME)
+        field = _entry("table.columns", "table column", j)
+        column = _mapping(raw_column, field(""))
+        name = _text(column.get("name"), field("name"), MAX_NAME)
         if not _is_name(name):
-            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
+            raise _fail(field("name"), f"{_shown(name)} is not a valid name")
         if any(name == other for other, _ in columns):
-            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
+            raise _fail(field("name"), f"{_shown(name)} appears twice")
+        field = _entry("table.columns", "table column", j, name)
         values = column.get("values")
         if not isinstance(values, list) or not values:
-            raise _fail(f"{where}.values", "must be a non-empty list of numbers")
+            raise _fail(field("values"), "must be a non-empty list of numbers")
         cells += len(values)
         if cells > MAX_TABLE_CELLS:
             raise _fail("table.columns", f"more than {MAX_TABLE_CELLS} numbers")
         if columns and len(values) != len(columns[0][1]):
-            raise _fail(f"{where}.values", f"has {counted(len(values), 'row')}; the first "
+            raise _fail(field("values"), f"has {counted(len(values), 'row')}; the first "
                         "column has "
                         f"{len(columns[0][1])}")
-        columns.append((name, tuple(_number(v, f"{where}.values[{i}]")
-                                    for i, v in enumerate(values))))
-        units.append(_unit(column.get("unit"), f"{where}.unit"))
+        where, who = field("values"), field("").label
+        columns.append((name, tuple(
+            _number(v, _Field(f"{where}[{i}]", f"{who}, row {i + 1}"))
+            for i, v in enumerate(values))))
+        units.append(_unit(column.get("unit"), field("unit")))
     bracket = t.get("bracket")
     return TableInputs(
         columns=tuple(columns), kind=kind, method=method.replace("-", "_"),
@@ -267,8 +270,30 @@ def dumps(ws: Worksheet) -> str:
     return json.dumps(to_dict(ws), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
+class _Field(str):
+    """A field's place in the file as a JSON path (``parameters[1].value``: the error's
+    ``field``, for programs) with the words that name it for people (``parameter "D",
+    value``): an entry of a list is named by its own name once that is read, not by its
+    index, which a person editing the file would have to count to."""
+
+    label: str
+
+    def __new__(cls, path: str, label: str) -> _Field:
+        field = super().__new__(cls, path)
+        field.label = label
+        return field
+
+
+def _entry(path: str, kind: str, index: int, name: str | None = None) -> Any:
+    """The fields of one entry of a list, by key: ``kind "name", key`` once its name is
+    known and valid, else ``kind N, key`` (N counted from 1, as people count)."""
+    who = f'{kind} "{name}"' if name else f"{kind} {index + 1}"
+    return lambda key: _Field(f"{path}[{index}].{key}" if key else f"{path}[{index}]",
+                              f"{who}, {key}" if key else who)
+
+
 def _fail(where: str, what: str) -> WorksheetError:
-    return WorksheetError(f"{where}: {what}", where)
+    return WorksheetError(f"{getattr(where, 'label', where)}: {what}", where)
 
 
 @dataclass(frozen=True)
@@ -350,8 +375,9 @@ def _mapping(value: Any, where: str) -> Mapping[str, Any]:
 def _pair(value: Any, where: str) -> tuple[float, float]:
     if not isinstance(value, (list, tuple)) or len(value) != 2:
         raise _fail(where, "must be a list of two numbers [a, b]")
-    a = _number(value[0], f"{where}[0]")
-    b = _number(value[1], f"{where}[1]")
+    label = getattr(where, "label", where)
+    a = _number(value[0], _Field(f"{where}[0]", f"{label}, first end"))
+    b = _number(value[1], _Field(f"{where}[1]", f"{label}, second end"))
     if a == b:
         raise _fail(where, "the two ends must differ")
     return (a, b)
@@ -399,19 +425,20 @@ def from_dict(data: Any) -> Worksheet:
     params: list[Parameter] = []
     seen: set[str] = set()
     for i, raw in enumerate(raw_params):
-        where = f"parameters[{i}]"
-        raw = _mapping(raw, where)
-        name = _text(raw.get("name"), f"{where}.name", MAX_NAME)
+        field = _entry("parameters", "parameter", i)
+        raw = _mapping(raw, field(""))
+        name = _text(raw.get("name"), field("name"), MAX_NAME)
         if not _is_name(name):
-            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
+            raise _fail(field("name"), f"{_shown(name)} is not a valid name")
         if name in seen:
-            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
+            raise _fail(field("name"), f"{_shown(name)} appears twice")
         seen.add(name)
+        field = _entry("parameters", "parameter", i, name)
         if "value" not in raw:
-            raise _fail(f"{where}.value", "missing")
-        value = _number(raw["value"], f"{where}.value")
-        params.append(Parameter(name, value, _text(raw.get("note"), f"{where}.note"),
-                                _unit(raw.get("unit"), f"{where}.unit")))
+            raise _fail(field("value"), "missing")
+        value = _number(raw["value"], field("value"))
+        params.append(Parameter(name, value, _text(raw.get("note"), field("note")),
+                                _unit(raw.get("unit"), field("unit"))))
 
     raw_settings = _mapping(data.get("settings") or {}, "settings")
     defaults = Settings()
@@ -422,11 +449,12 @@ def from_dict(data: Any) -> Worksheet:
     for i, m in enumerate(methods_raw):
         if not isinstance(m, str) or m.replace("-", "_") not in METHOD_NAMES:
             raise _fail(
-                f"settings.methods[{i}]",
+                _Field(f"settings.methods[{i}]", "settings.methods"),
                 f"unknown method {_shown(m)}; choose from {', '.join(METHOD_NAMES)}",
             )
         if m.replace("-", "_") in methods:  # one lane and one column of results per method
-            raise _fail(f"settings.methods[{i}]", f"{m!r} is listed twice")
+            raise _fail(_Field(f"settings.methods[{i}]", "settings.methods"),
+                        f"{m!r} is listed twice")
         methods.append(m.replace("-", "_"))
     bracket_raw = raw_settings.get("bracket")
     max_iter = raw_settings.get("max_iter", defaults.max_iter)
@@ -519,27 +547,30 @@ def _system(raw: Any) -> SystemSpec | None:
         raise _fail("system.unknowns", f"too many ({len(unknowns_raw)}, limit {MAX_PARAMETERS})")
     unknowns: list[StartValue] = []
     for i, item in enumerate(unknowns_raw):
-        where = f"system.unknowns[{i}]"
-        item = _mapping(item, where)
-        name = _text(item.get("name"), f"{where}.name", MAX_NAME)
+        field = _entry("system.unknowns", "system unknown", i)
+        item = _mapping(item, field(""))
+        name = _text(item.get("name"), field("name"), MAX_NAME)
         if not _is_name(name):
-            raise _fail(f"{where}.name", f"{_shown(name)} is not a valid name")
+            raise _fail(field("name"), f"{_shown(name)} is not a valid name")
         if any(u.name == name for u in unknowns):
-            raise _fail(f"{where}.name", f"{_shown(name)} appears twice")
+            raise _fail(field("name"), f"{_shown(name)} appears twice")
+        field = _entry("system.unknowns", "system unknown", i, name)
         if "x0" not in item:
-            raise _fail(f"{where}.x0", "missing (every unknown of a system needs a start value)")
-        unknowns.append(StartValue(name, _number(item["x0"], f"{where}.x0"),
-                                   _unit(item.get("unit"), f"{where}.unit") or None))
+            raise _fail(field("x0"), "missing (every unknown of a system needs a start value)")
+        unknowns.append(StartValue(name, _number(item["x0"], field("x0")),
+                                   _unit(item.get("unit"), field("unit")) or None))
     methods_raw = raw.get("methods", list(SYSTEM_METHOD_NAMES))
     if not isinstance(methods_raw, list) or not methods_raw:
         raise _fail("system.methods", "must be a non-empty list of method names")
     methods: list[str] = []
     for i, m in enumerate(methods_raw):
         if not isinstance(m, str) or m not in SYSTEM_METHOD_NAMES:
-            raise _fail(f"system.methods[{i}]", f"unknown method {_shown(m)}; choose from "
+            raise _fail(_Field(f"system.methods[{i}]", "system.methods"),
+                        f"unknown method {_shown(m)}; choose from "
                         + ", ".join(SYSTEM_METHOD_NAMES))
         if m in methods:
-            raise _fail(f"system.methods[{i}]", f"{m!r} is listed twice")
+            raise _fail(_Field(f"system.methods[{i}]", "system.methods"),
+                        f"{m!r} is listed twice")
         methods.append(m)
     return SystemSpec(tuple(unknowns), tuple(methods))
 

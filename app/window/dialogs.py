@@ -69,8 +69,10 @@ The Convergence tab shows |f(x_k)| or |Δx_k| against k on a log axis.</p>
 <p><b>5. Scan range</b> (Ctrl+Shift+Return) finds every root, pole and jump between
 <i>scan from</i> and <i>scan to</i>, in the background (Esc or Cancel stops it).
 Double-click a root (or select it and press Enter, or Polish) to polish it with every
-method; the start values are set from it. <b>Take as design value</b> (Ctrl+D) records the
-selected root, and why, for the calculation sheet.</p>
+method, each started at it (a bracket a few millionths wide around it); the start values
+and bracket you typed are kept for Solve and the tables of inputs.
+<b>Take as design value</b> (Ctrl+D) records the selected root, and why, for the
+calculation sheet.</p>
 <p><b>Definitions.</b> Lines before the equation may define intermediate quantities,
 one per line (or separated by <code>;</code>): <code>A = pi*D^2/4</code>, then
 <code>v = Q/A</code>, then the equation. The parameters table lists only the inputs; the

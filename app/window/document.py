@@ -96,6 +96,9 @@ class WorksheetDocument(QObject):
         self.analysis: Analysis | None = None
         self.solution: Any = None
         self.solve_key: str | None = None
+        # the inputs on screen the solution answers (a polish runs from start values of
+        # its own and leaves the typed ones alone: it is current until they change)
+        self.solve_basis: str | None = None
         self.scan: Any = None
         self.scan_equation: Any = None
         self.scan_key: str | None = None
@@ -109,7 +112,7 @@ class WorksheetDocument(QObject):
         self.record = ws
         self.set_path(path)
         self.solution = self.scan = self.scan_equation = None
-        self.solve_key = self.scan_key = self.plot_key = None
+        self.solve_key = self.solve_basis = self.scan_key = self.plot_key = None
         self._stale = Staleness()
         self.worksheetChanged.emit(ws)
         self.resultsChanged.emit()
@@ -200,9 +203,13 @@ class WorksheetDocument(QObject):
             return None
 
     # -- results
-    def set_solution(self, solution: Any, key: str) -> None:
-        self.solution, self.solve_key = solution, key
-        self.plot_key = ("solve", key)
+    def set_solution(self, solution: Any, key: str, basis: str | None = None) -> None:
+        """Show ``solution``, computed from the worksheet whose :func:`result_key` is
+        ``key``; ``basis`` is the key of the inputs on screen it answers when they differ
+        (a polish: its own start values, the typed ones kept), else ``key``."""
+        basis = key if basis is None else basis
+        self.solution, self.solve_key, self.solve_basis = solution, key, basis
+        self.plot_key = ("solve", basis)
         self.resultsChanged.emit()
 
     def set_scan(self, scan: Any, equation: Any, key: str) -> None:
@@ -213,6 +220,11 @@ class WorksheetDocument(QObject):
     def solution_for(self, ws: Worksheet) -> Any:
         """The solution if it was computed from exactly ``ws``, else None."""
         return self.solution if self.solve_key == result_key(ws) else None
+
+    def shown_solution_for(self, ws: Worksheet) -> Any:
+        """The solution on screen if it answers the inputs ``ws`` (a Solve of exactly
+        them, or a polish made while they stood), else None."""
+        return self.solution if self.solve_basis == result_key(ws) else None
 
     def scan_for(self, ws: Worksheet) -> Any:
         """The scan if it was computed from exactly ``ws``'s equation and range, else None."""
@@ -228,7 +240,7 @@ class WorksheetDocument(QObject):
         if self.plot_key is not None:
             kind, key = self.plot_key
             plot = (result_key(ws) if kind == "solve" else scan_key(ws)) != key
-        solution = self.solution is not None and result_key(ws) != self.solve_key
+        solution = self.solution is not None and result_key(ws) != self.solve_basis
         scan = self.scan is not None and scan_key(ws) != self.scan_key
         stale = Staleness(plot, solution, scan)
         if stale != self._stale:

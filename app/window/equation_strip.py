@@ -358,6 +358,7 @@ class EquationStrip(QWidget):
     text_settled = Signal(str)
     unknown_chosen = Signal(str)
     units_chosen = Signal()  # the unknown's unit or the dimension-check switch changed
+    unit_changed = Signal(str, str)  # the unknown's unit text, before and after an edit
     text_edited = Signal()  # every change of the text (blocked with the strip while loading)
 
     def __init__(self, parent: QWidget | None = None) -> None:
@@ -488,7 +489,8 @@ class EquationStrip(QWidget):
 
     def _on_unit_edited(self) -> None:
         if self.unit_box.text() != self._unit_sent:  # Return and focus-out both finish
-            self._unit_sent = self.unit_box.text()
+            before, self._unit_sent = self._unit_sent, self.unit_box.text()
+            self.unit_changed.emit(before, self._unit_sent)
             self.units_chosen.emit()
 
     def _on_unknown_activated(self, _index: int) -> None:

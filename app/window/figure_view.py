@@ -273,4 +273,11 @@ def _label_room(ax: Any, dpi: float) -> tuple[float, float]:
     left = (widest + 3.5 + 3.5 + 4.0 + 1.2 * size) * points_to_px + 6
     offset = formatter.get_offset() if hasattr(formatter, "get_offset") else ""
     top = 12.0 + (1.5 * size * points_to_px if offset else 0.0)
+    legend = ax.get_legend()
+    if legend is not None and legend.get_gid() == figures.LEGEND_ABOVE:
+        # one row of legend above the axes (figures.legend_above): its text's height
+        # with the handles' padding, beside or over the multiplier
+        texts = legend.get_texts()
+        small = texts[0].get_fontsize() if texts else size
+        top += 2.0 * small * points_to_px
     return max(left, 60.0), top

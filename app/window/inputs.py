@@ -369,6 +369,10 @@ class InputsPanel(QWidget):
         problems = self.problems()
         self.problem_label.setText("\n".join(problems))
         self.problem_area.setToolTip("\n".join(problems))
+        # Shown only while there is a problem: four empty lines kept under the actions
+        # pushed the start values below the fold at 1280x800. Its height is fixed, so
+        # showing it re-lays out this column only (the fields scroll), not the window.
+        self.problem_area.setVisible(bool(problems))
 
     def methods(self) -> tuple[str, ...]:
         """The methods ticked, in the fixed order of the method table."""
@@ -401,6 +405,21 @@ class InputsPanel(QWidget):
             for key, value in values.items():
                 self.fields[key].set_value(value)
         self.show_problems()
+
+    def convert_fields(self, keys: tuple[str, ...], convert: Callable[[float], float]) -> bool:
+        """Each of the fields ``keys`` holding a number rewritten as ``convert`` of it (to
+        12 significant figures: the unit's factor leaves no more that mean anything);
+        returns whether any changed."""
+        changed = False
+        for key in keys:
+            value = self.fields[key].value()
+            if value is None or self.fields[key].problem():
+                continue
+            new = convert(value)
+            if math.isfinite(new):
+                self.fields[key].set_value(float(f"{new:.12g}"))
+                changed = True
+        return changed
 
     def set_field(self, key: str, value: float | None) -> None:
         """Set one field as if typed (clicks on the plot use this)."""

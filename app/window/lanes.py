@@ -298,6 +298,12 @@ class LanesPanel(QWidget):
         for lane in self.lanes.values():
             lane.set_stale(stale)
 
+    def add_note(self, note: str) -> None:
+        """One more sentence under the agreement (what a polish started from)."""
+        text = f"{self.agreement.text()}  {note}"
+        self.agreement.setText(text)
+        self.agreement.setToolTip(text.replace("  ", "\n"))
+
     def _on_digits(self, value: int) -> None:
         for lane in self.lanes.values():
             lane.set_digits(value)

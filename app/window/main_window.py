@@ -22,7 +22,7 @@ from PySide6.QtGui import QCloseEvent
 from PySide6.QtWidgets import QApplication, QLabel, QMainWindow, QSplitter, QVBoxLayout, QWidget
 
 from app import samples_dir  # noqa: F401 (the soak test finds the samples here)
-from app.documents.words import confirmed_text, method_label
+from app.documents.words import confirmed_text, method_label, polish_note
 from app.documents.worksheet import Parameter, Selection, Worksheet
 from app.window.actions import build_actions, build_menus
 from app.window.canvas import PlotPanel
@@ -103,7 +103,7 @@ class MainWindow(QMainWindow):
         self.body.addWidget(self.lanes)
         self.body.setStretchFactor(0, 3)
         self.body.setStretchFactor(1, 2)
-        self.body.setSizes([380, 270])
+        self.body.setSizes([400, 250])
         central = QWidget()
         layout = QVBoxLayout(central)
         layout.setContentsMargins(2, 2, 2, 2)
@@ -129,6 +129,7 @@ class MainWindow(QMainWindow):
         # user edits -> the document
         self.strip.text_settled.connect(lambda _t: self.request_analysis())
         self.strip.unknown_chosen.connect(lambda _u: self._on_edit())
+        self.strip.unit_changed.connect(self._convert_start_values)
         self.strip.units_chosen.connect(self._on_edit)
         self.strip.text_edited.connect(self._on_edit_quiet)
         self.inputs.changed.connect(self._on_edit)
@@ -240,6 +241,27 @@ class MainWindow(QMainWindow):
         self.setWindowModified(self.document.edited(
             shown, bool(self.inputs.problems()), self._with_inferred_unknown(shown)))
 
+    def _convert_start_values(self, before: str, after: str) -> None:
+        """The unknown's unit changed: the start values, bracket and scan range keep the
+        same physical values, written in the new unit (150 mm becomes 5.90551 in, not
+        150 in), from a unit that was typed to the new one (blank: that dimension's SI
+        unit). A unit typed into the blank box is the first statement of the values' unit,
+        and converts nothing (150 typed with the box blank, then mm, is 150 mm); nor does
+        a unit that is none or differs in dimension (the strip then says so)."""
+        from solvers.units import converter
+
+        source = " ".join(before.split())
+        target = " ".join(after.split())
+        convert = converter(source, target or None) if source else None
+        if convert is None:
+            return
+        changed = self.inputs.convert_fields(("x0", "x1", "a", "b", "from", "to"), convert)
+        if changed:
+            shown = target or "SI"
+            self.statusBar().showMessage(
+                f"Start values, bracket and scan range converted from {source} to {shown}",
+                15000)
+
     def _on_edit(self) -> None:
         self._on_edit_quiet()
         self._inputs_timer.start()
@@ -312,9 +334,9 @@ class MainWindow(QMainWindow):
         return True
 
     def _on_solved(self, result: tuple[Any, tuple[float, float], Any], key: str,
-                   scan: Any) -> None:
+                   scan: Any, basis: str | None = None) -> None:
         solution, (a, b), curve = result
-        self.document.set_solution(solution, key)
+        self.document.set_solution(solution, key, basis)
         self.lanes.show_solution(solution)
         self.plot.show_function(solution.equation.f, a, b, unknown=solution.equation.unknown,
                                 scan=scan, runs=solution.runs, curve=curve,
@@ -366,7 +388,7 @@ class MainWindow(QMainWindow):
         scan, equation, curve = result
         self.roots.scan_ended()
         # Only a solution of this very worksheet may draw its path over the new curve.
-        current = self.document.solution_for(ws)
+        current = self.document.shown_solution_for(ws)
         self.document.set_scan(scan, equation, key)
         self.plot.set_stale(False)
         self.roots.show_scan(scan, equation.unknown, equation.unknown_unit,
@@ -406,6 +428,14 @@ class MainWindow(QMainWindow):
         return self.polish_row(row)
 
     def polish_row(self, row: int) -> bool:
+        """Every method started at the scan's root ``row`` (x0 at it, a bracket a few
+        millionths wide around it).
+
+        The typed start values and bracket are left as they are: they are the engineer's
+        statement of where to look, which Solve and the tables of inputs start from (a
+        polish's bracket written into them made every row of a table miss its root). The
+        polish stays on screen until the inputs change, and says what it started from.
+        """
         if not 0 <= row < self.roots_model.rowCount():
             return False
         x = self.roots_model.root(row).x
@@ -414,16 +444,12 @@ class MainWindow(QMainWindow):
         self.statusBar().showMessage(f"Polishing the root near {_num(x)}…")
         self.solve_started_at = time.perf_counter()
         scan = self.document.scan
+        basis = result_key(ws)  # the inputs it answers: an edit meanwhile makes it stale
 
         def done(result: tuple[Any, tuple[float, float], Any]) -> None:
-            s = result[0].worksheet.settings
-            # Seed the start values from the root so a later Solve repeats the polish.
-            self.inputs.set_field("x0", s.x0)
-            self.inputs.set_field("x1", s.x1)
-            if s.bracket is not None:
-                self.inputs.set_field("a", s.bracket[0])
-                self.inputs.set_field("b", s.bracket[1])
-            self._on_solved(result, result_key(self.solve_worksheet()), scan)
+            polished = result[0].worksheet
+            self._on_solved(result, result_key(polished), scan, basis=basis)
+            self.lanes.add_note(polish_note(polished.settings, result[0].equation.unknown_unit))
 
         self.runner.submit("solve", lambda _p, _c: polish_job(ws, equation, x, scan),
                            on_done=done, on_error=self._on_solve_error)
@@ -440,7 +466,7 @@ class MainWindow(QMainWindow):
         """Record the chosen root (roots list first, else the converged root) and why."""
         row = self.roots.selected_row()
         scan = self.document.scan
-        solution = self.document.solution_for(self.solve_worksheet())
+        solution = self.document.shown_solution_for(self.solve_worksheet())
         if row is not None and scan is not None and self.roots_view.isEnabled():
             root = self.roots_model.root(row)
             x = root.x

@@ -425,7 +425,7 @@ class TableWindow(QWidget):
     def paste_table(self) -> bool:
         from app.documents.tables import parse_table
 
-        return self._read(partial(parse_table, QGuiApplication.clipboard().text()))
+        return self._read(partial(parse_table, QGuiApplication.clipboard().text(), pasted=True))
 
     def make_sweep(self) -> bool:
         """A sweep of one parameter, ``NAME`` or ``NAME [unit]``: the values from and to in
@@ -470,7 +470,7 @@ class TableWindow(QWidget):
 
     # ------------------------------------------------------------------ running
     def run(self) -> bool:
-        from solvers.batch import solve_sweep, solve_table
+        from solvers.batch import START_COLUMNS, solve_sweep, solve_table
         from solvers.methods.registry import missing_needs
         from solvers.units import Measured
 
@@ -487,9 +487,12 @@ class TableWindow(QWidget):
             return False
         bracket = (starts["a"], starts["b"]) if None not in (starts["a"], starts["b"]) else None
         method = self.method_box.currentData()
-        given = {"x0": starts["x0"] is not None or "x0" in self.model.names,
-                 "x1": starts["x1"] is not None or "x1" in self.model.names,
-                 "bracket": bracket is not None or {"a", "b"} <= set(self.model.names)}
+        # a row's own start values come in the columns the table reader names
+        # (START_COLUMNS: x0, x1, bracket_a, bracket_b), as from the shell
+        own = {START_COLUMNS[n] for n in self.model.names if n in START_COLUMNS}
+        given = {"x0": starts["x0"] is not None or "x0" in own,
+                 "x1": starts["x1"] is not None or "x1" in own,
+                 "bracket": bracket is not None or {"a", "b"} <= own}
         missing = missing_needs(method, given)
         if missing:
             self.refuse(words.method_needs_text(method, missing))
@@ -543,7 +546,8 @@ class TableWindow(QWidget):
         self.progress.setValue(1000)
         self.export_button.setEnabled(True)
         self.sheet_button.setEnabled(self.worksheet is not None)
-        self.say(words.batch_summary(done.batch))
+        advice = words.shared_bracket_advice(done.batch)
+        self.say(words.batch_summary(done.batch) + (f"\n⚠ {advice}" if advice else ""))
         self.draw_chart()
 
     def _on_error(self, message: str) -> None:
@@ -569,6 +573,7 @@ class TableWindow(QWidget):
                                   unit=self.done.equation.unknown_unit,
                                   log_x=self.log_x.isChecked(), log_y=self.log_y.isChecked(),
                                   line=self.kind == "sweep")
+        self.chart.fit_margins()  # now that the axes hold their labels and legend
         self.chart.redraw()
 
     def open_row(self, row: int) -> None:

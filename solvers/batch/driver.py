@@ -116,6 +116,9 @@ def si_units(equation: Any, parameters: Mapping[str, Any] | None) -> dict[str, s
     return units
 
 
+_CAP_REACH = 2**62
+
+
 def _method_settings(method: str, equation: Any, damping: float, tol: dict[str, Any]
                      ) -> dict[str, Any]:
     settings = dict(tol)
@@ -214,6 +217,9 @@ def solve_batch(
     flat_starts = {n: np.broadcast_to(np.asarray(v, dtype=np.float64), shape).reshape(-1)
                    for n, v in starts.items()}
     kernel = KERNELS[spec.name]
+    # the compiled passes count in 64-bit integers: a cap beyond any run's reach (the
+    # scalar methods take Python's integers) is the same cap as 2**62 for them
+    passes = {**settings, "max_iter": min(settings["max_iter"], _CAP_REACH)}
     result = Outcome(total)
     chunks = max(1, -(-total // chunk_rows))
     step = -(-total // chunks)  # equal chunks: no short tail chunk
@@ -232,7 +238,7 @@ def solve_batch(
                 poll(0.0)
                 fn = (whole if end - begin == total else whole.part(begin, end)) \
                     if whole is not None else None
-                _solve_chunk(equation, kernel, settings, flat, flat_starts, begin, end,
+                _solve_chunk(equation, kernel, passes, flat, flat_starts, begin, end,
                              result, poll, fn, units, work)
     finally:
         done_with(work)

@@ -37,7 +37,7 @@ from numba.extending import intrinsic
 from solvers.batch.rows import EXACT, F_TOL, MAX_IT, NOT_FIN, X_TOL
 from solvers.compiled import kernel
 from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
-from solvers.methods.common import _TINY
+from solvers.methods.common import _CAPPED_SHRINK, _TINY
 
 _FLOAT_MIN = 2.2250738585072014e-308  # sys.float_info.min
 
@@ -230,6 +230,20 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
 
 
 @kernel
+def _capped_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: float,
+                 b0: float, fb0: float) -> int:
+    """The verdict on a row stopped at the iteration cap with the bracket [x1, x2] (either
+    order): :func:`solvers.methods.common._capped_reason`, same tests, same order
+    (``not_finite`` on a pole the bracket narrowed onto, else ``max_iterations``)."""
+    start = abs(b0 - a0)
+    ends = max(abs(fa0), abs(fb0))
+    near = min(abs(f1), abs(f2))
+    if abs(x2 - x1) <= _CAPPED_SHRINK * start and near > ends:
+        return NOT_FIN
+    return MAX_IT
+
+
+@kernel
 def _special(x: float, fx: float, x1: float, f1: float, x2: float, f2: float, xtol: float,
              rtol: float) -> tuple[int, float]:
     """(code, f to go on with) at a new point x between the ends (x1, f1), (x2, f2) whose
@@ -276,6 +290,10 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
         if code == CLOSED:
             row = rows[i]
             code = _closed_code(xb[i], fb[i], xc[i], fc[i], a0[row], fa0[row], b0[row],
+                                fb0[row])
+        elif code == MAX_IT:
+            row = rows[i]
+            code = _capped_code(xb[i], fb[i], xc[i], fc[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
         elif code == SPECIAL:
             code, fb[i] = _special(xb[i], fb[i], xa[i], fa[i], xc[i], fc[i], xtol, rtol)
@@ -380,6 +398,10 @@ def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0,
         if code == CLOSED:
             row = rows[i]
             code = _closed_code(e1[i], f1[i], e2[i], f2[i], a0[row], fa0[row], b0[row],
+                                fb0[row])
+        elif code == MAX_IT:
+            row = rows[i]
+            code = _capped_code(e1[i], f1[i], e2[i], f2[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
         elif code == SPECIAL:
             code, fx[i] = _special(x[i], fx[i], e1[i], f1[i], e2[i], f2[i], xtol, rtol)

@@ -24,9 +24,12 @@ from solvers.batch.rows import (
     Work,
     central_difference,
     mark,
+    plateau_roots,
     zero_is_root,
 )
-from solvers.methods.common import DERIVATIVE_FLOOR
+from solvers.methods.common import DERIVATIVE_FLOOR, PLATEAU_REACH, probe_step
+
+_PLATEAU_CALLS = 2 * len(PLATEAU_REACH)  # f's calls of the plateau search, per zero
 
 
 def _test_point(w: Work, code: np.ndarray, x: np.ndarray, fx: np.ndarray,
@@ -133,7 +136,7 @@ class _AtWork:
                            take("probe_x", 2 * size), take("probe_parts", (parts, 2 * size)))
         return self.probes
 
-    def f_and_probes(self, n: int, x: np.ndarray, p: int) -> np.ndarray:
+    def f_and_probes(self, n: int, x: np.ndarray, p: int, s: dict[str, Any]) -> np.ndarray:
         """f at the rows at work ``x[:n]`` (one call for each of them, counted) and at the
         probes of the ``p`` rows the tests stopped on an exact zero, as one call: the
         probes sit after the rows at work (``x[n:n + 2p]`` and the carried parts, put
@@ -154,8 +157,34 @@ class _AtWork:
             fx = np.array(fx, dtype=np.float64)  # the kernels write into f's values
         w.calls += 1
         out = self.out
+        rows = prow[:p]
+        at_x, at_f = out[2][rows], out[3][rows]  # x and f(x) as settled, before the verdicts
         _kernels().zero_verdicts(p, fx[n:end], prow, w._extra, out[1], out[2], out[3], out[5])
+        one, two = fx[n:n + p], fx[n + p:end]
+        zero = (one == 0.0) | (two == 0.0)  # (the second probe is read where one is not 0.0)
+        if zero.any():  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
+            tz = np.flatnonzero(zero)
+            root = self.noise_zeros(at_x[tz], self.probes[3][:, tz], s)
+            r = rows[tz]
+            w._extra[r] += _PLATEAU_CALLS
+            out[5][r] += _PLATEAU_CALLS
+            ok = r[root]
+            out[1][ok] = EXACT
+            out[2][ok] = at_x[tz][root]
+            out[3][ok] = at_f[tz][root]
         return fx
+
+    def noise_zeros(self, xs: np.ndarray, parts: np.ndarray, s: dict[str, Any]) -> np.ndarray:
+        """:func:`solvers.batch.rows.plateau_roots` for zeros ``xs`` of rows whose parameter
+        parts of f are the columns of ``parts`` (the caller counts the calls)."""
+        steps = np.array([probe_step(xi, s["xtol"] + s["rtol"] * abs(xi)) for xi in xs.tolist()])
+
+        def evaluate(points: np.ndarray) -> np.ndarray:
+            m = len(points)
+            return self.call(points.reshape(-1), m * _PLATEAU_CALLS,
+                             np.repeat(parts, _PLATEAU_CALLS, axis=1)).reshape(m, -1)
+
+        return plateau_roots(evaluate, xs, steps)
 
     def extra(self, which: int, n: int) -> np.ndarray:
         """The ``which``-th extra per-row values of the first ``n`` rows."""
@@ -177,10 +206,22 @@ def _probe_zeros(w: Work, a: _AtWork, n: int, x: np.ndarray, s: dict[str, Any]) 
     p = ok.zero_points(n, x, code, s["xtol"], s["rtol"], rows, carry, w._extra, at, px, px2,
                        pparts)
     one = a.call(px, p, pparts)
+    first_zero = one == 0.0
+    if first_zero.any():  # (zero_second moves the other rows to the front)
+        zeros = [(at[:p][first_zero].copy(), pparts[:, :p][:, first_zero].copy())]
+    else:
+        zeros = []
     q = ok.zero_second(p, one, code, rows, w._extra, at, px2, pparts)
     if q:
         two = a.call(px2, q, pparts)
         ok.zero_verdict(q, one, two, code, at)
+        second_zero = two == 0.0
+        if second_zero.any():
+            zeros.append((at[:q][second_zero].copy(), pparts[:, :q][:, second_zero].copy()))
+    for where, parts in zeros:  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
+        root = a.noise_zeros(x[where], parts, s)
+        w._extra[rows[where]] += _PLATEAU_CALLS
+        code[where[root]] = EXACT
 
 
 def newton(w: Work, s: dict[str, Any]) -> None:
@@ -235,12 +276,12 @@ def newton(w: Work, s: dict[str, Any]) -> None:
             a.at_work(n)
         if not n:
             break  # with the probes staged at the tests, if any: evaluated below
-        fx = a.f_and_probes(n, x, p)
+        fx = a.f_and_probes(n, x, p, s)
         p = 0
         k += 1
     if p:  # every row has stopped: the last probes alone (placed at the front)
         ok.place_probes(0, p, x, carry, px, pparts)
-        a.f_and_probes(0, x, p)
+        a.f_and_probes(0, x, p, s)
     a.at_work(0)
 
 

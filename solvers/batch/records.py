@@ -35,6 +35,7 @@ NOTE_CODES: tuple[str, ...] = (
     "restart_x0",          # sweep: after a failure with no good root yet, started from x0
     "branch_jump",         # sweep: the root is off the branch, which shorter steps could not follow
     "turning_point",       # sweep: f' changed sign from the last row's root: another branch
+    "at_fold",             # sweep: f' is 0 at the root (a double root): the branch ends here
     "left_range",          # sweep: the root left the given range of the unknown (not taken)
     "fixed_bracket",       # sweep: a bracketing method uses the same bracket on every row
     "restart_scan",        # sweep: resumed here from a root chosen by a scan at this value
@@ -235,6 +236,7 @@ _REASON_STRINGS = np.asarray(BATCH_REASONS)
 
 def reason_array(codes: np.ndarray) -> np.ndarray:
     """Reason strings from the kernels' integer codes (``take``: about half the time of
-    indexing with the codes, the same array of str)."""
-    return _REASON_STRINGS.take(codes)
+    indexing with the codes, the same array of str; a 0-d array for one row given as
+    scalars, where ``take`` alone answers a numpy scalar)."""
+    return np.asarray(_REASON_STRINGS.take(codes))
 

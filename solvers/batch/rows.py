@@ -27,8 +27,16 @@ import numpy as np
 from solvers.batch.records import CONVERGED_INDEX, REASON_CODES, BatchCancelled
 from solvers.equation import EquationError
 from solvers.equation.compile import in_blocks
-from solvers.methods.bracketing import _CHORD_SHARE, _SLOPE_SPREAD
-from solvers.methods.common import _PROBE_GROWTH, _PROBE_REACH, _TINY, DERIVATIVE_STEP
+from solvers.methods.bracketing import _CHORD_SHARE, _NOISE_FALL, _SLOPE_SPREAD
+from solvers.methods.common import (
+    _PROBE_GROWTH,
+    _PROBE_REACH,
+    _QUANTA,
+    _TINY,
+    DERIVATIVE_STEP,
+    plateau_detail,
+    plateau_points,
+)
 from solvers.units import Measured
 
 X_TOL, F_TOL, EXACT, MAX_IT, ZERO_D, NOT_FIN, NO_SIGN, DISCONT = (
@@ -342,6 +350,15 @@ class Work:
             out = np.array(out, dtype=np.float64)
         return out
 
+    def f_points(self, points: np.ndarray, subset: np.ndarray) -> np.ndarray:
+        """f at ``points`` (one row of k points for each of the rows ``subset``, ascending
+        indices of the arrays' rows), each of those rows counted k calls."""
+        m, k = points.shape
+        self._extra[self.rows[subset]] += k
+        idx = np.repeat(subset, k)
+        return self.fn.call("f", points.reshape(-1), tuple(
+            h.take(idx) if h.__class__ is np.ndarray else h for h in self._h)).reshape(m, k)
+
     def f(self, x: np.ndarray, subset: np.ndarray | None = None) -> np.ndarray:
         """f at x for every row of the arrays (``subset`` None) or for the rows ``subset``
         marks (a boolean mask or ascending indices of the arrays' rows)."""
@@ -424,7 +441,7 @@ def same_sign(u: np.ndarray, v: np.ndarray) -> np.ndarray:
 
 
 def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
-                 toward: np.ndarray | None = None) -> np.ndarray:
+                 toward: np.ndarray | None = None, look: bool = True) -> np.ndarray:
     """Element-wise :func:`solvers.methods.common._zero_is_root` for the rows ``subset``
     marks (x, tol, toward given for those rows): f(x) == 0.0 is a root unless f is 0.0
     beside x too (underflow); one neighbour must be finite. The side ``toward`` (or
@@ -436,11 +453,43 @@ def zero_is_root(w: Work, subset: np.ndarray, x: np.ndarray, tol: np.ndarray,
     first = step if toward is None else np.where(toward >= x, step, -step)
     one = w.f(x + first, subset)
     verdict = one != 0.0
+    zero = ~verdict
     ask = np.flatnonzero(verdict)
     if ask.size:
         two = w.f(x[ask] - first[ask], subset[ask])
         verdict[ask] = (two != 0.0) & (np.isfinite(one[ask]) | np.isfinite(two))
+        zero[ask] = two == 0.0
+    if look and zero.any():  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
+        iz = np.flatnonzero(zero)
+        verdict[iz] = plateau_roots(lambda points: w.f_points(points, subset[iz]), x[iz],
+                                    step[iz])
     return verdict
+
+
+def in_rounding_array(v: np.ndarray) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common.in_rounding` (the same arithmetic: the
+    lowest set bit of the 53-bit mantissa, exact)."""
+    v = np.abs(np.asarray(v, dtype=np.float64))
+    ok = np.isfinite(v) & (v != 0.0)
+    mantissa, exponent = np.frexp(np.where(ok, v, 1.0))
+    whole = (mantissa * 2.0**53).astype(np.int64)
+    q = np.ldexp((whole & -whole).astype(np.float64), exponent - 53)
+    return ok & (q > 1e-290) & (v <= _QUANTA * q)
+
+
+def plateau_roots(evaluate: Callable[[np.ndarray], np.ndarray], x: np.ndarray,
+                  step: np.ndarray) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common._rounding_plateau` for zeros x whose
+    probe ``step`` away gave 0.0 too: whether each is a zero of f's rounding noise (a
+    root) rather than underflow. ``evaluate`` takes the points (a row of
+    :func:`plateau_points` per zero) and returns f there, counting the calls. Rare rows:
+    the verdict is the scalar rule's own function, row by row."""
+    xs, steps = x.tolist(), step.tolist()
+    points = np.array([plateau_points(xi, si) for xi, si in zip(xs, steps, strict=True)])
+    values = evaluate(points)
+    return np.array([plateau_detail(xi, si, row) is not None
+                     for xi, si, row in zip(xs, steps, values.tolist(), strict=True)],
+                    dtype=bool)
 
 
 def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:
@@ -480,11 +529,17 @@ def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
     value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
     rest = ~(u1 | u2)
     root = rest & _straight_through(x, x1, f1, x2, f2, tol)
+    # the nearer end rounding noise of cancelling terms, far below the start's: a zero of
+    # that noise (no call)
+    fa0, fb0 = w.kept(idx, "fa0", "fb0")
+    f_near = np.where(np.abs(x - x1) <= np.abs(x - x2), f1, f2)
+    root |= (rest & in_rounding_array(f_near)
+             & (np.abs(f_near) <= _NOISE_FALL * np.maximum(np.abs(fa0), np.abs(fb0))))
     inside = np.zeros(x.size, dtype=bool)
     ask = rest & ~root
     if ask.any():
         far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
-        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask])
+        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask], look=False)
         where = np.flatnonzero(ask)
         root[where[verdict]] = True
         inside[where[~verdict]] = True

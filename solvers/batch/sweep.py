@@ -50,6 +50,12 @@ JUMP_FACTOR = 3.0
 # sharply for the rows' spacing: the row then keeps its own solve, with a note.
 MAX_HALVINGS = 6
 
+# A root where |f'| has fallen below this share of |f'| at the branch's previous root is
+# the branch's turning point itself (a double root: f' is 0 there up to rounding, while
+# on the way to a fold it shrinks like the square root of the distance, a step at a
+# time): the branch ends at that row, and the next row's root lies on another branch.
+FOLD_SHARE = 1e-6
+
 
 def _slope(equation: Any, x: float) -> float:
     """f'(x): the symbolic derivative when there is one, else a central difference."""
@@ -101,7 +107,10 @@ def sweep(
     or the tangent step from the one before: the branch ended, typically at a turning
     point, and another branch was found),
     ``turning_point`` (f' at the root changed sign from the previous row: the root is on
-    another branch, past a fold), ``continued`` (reached through intermediate values),
+    another branch, past a fold), ``at_fold`` (|f'| at the root fell below
+    :data:`FOLD_SHARE` of its value at the branch's previous root: a double root, the
+    branch's turning point itself; the branch ends there and the next row's root gets
+    ``branch_jump``), ``continued`` (reached through intermediate values),
     ``left_range`` (the method converged to a root outside ``bounds``: that row
     records no root, ``converged`` False and the reason :data:`OUTSIDE_RANGE`, and
     continuation goes on from the last root inside), ``bad_parameters`` (the value gives
@@ -169,6 +178,8 @@ def sweep(
     branch: list[tuple[float, float]] = []  # (value, root) of the branch now followed
     last_slope: float | None = None
     restarted = False
+    after_fold = False  # the row before was a branch's turning point
+
     def solve_at(value: float, start: float) -> tuple[Any, Any] | None:
         """(run, bound equation) of the method at ``value`` from ``start``; None when the
         value gives part of f no finite value."""
@@ -271,14 +282,20 @@ def sweep(
             restarted, branch = True, []
             continue
         converged[k], root[k], residual[k] = True, run.root, run.residual
-        if _jumped(branch, value, run.root, tol, _tangent(bound, branch)):
+        if after_fold or _jumped(branch, value, run.root, tol, _tangent(bound, branch)):
             notes.append((k, "branch_jump"))
             branch = []
+        after_fold = False
         slope = _slope(bound, run.root)
         if last_slope is not None and branch and math.isfinite(slope) and slope * last_slope < 0:
             notes.append((k, "turning_point"))
+        elif (last_slope is not None and branch and math.isfinite(slope)
+              and abs(slope) <= FOLD_SHARE * abs(last_slope)):
+            # the branch's own turning point: it ends here (the next row cannot follow it)
+            notes.append((k, "at_fold"))
+            after_fold = True
         last_slope = slope if math.isfinite(slope) else last_slope
-        branch = [*branch[-1:], (value, run.root)]
+        branch = [] if after_fold else [*branch[-1:], (value, run.root)]
         last_good = run.root
     if progress is not None:
         progress(1.0)

@@ -81,6 +81,22 @@ _DERIVATIVES: dict[Any, Callable[[Any], Any]] = {
     sp.acosh: lambda u: 1 / (sp.sqrt(u - 1) * sp.sqrt(u + 1)),
     sp.atanh: lambda u: 1 / (1 - u**2),
     sp.Abs: sp.sign,
+    sp.erf: lambda u: 2 / sp.sqrt(sp.pi) * sp.exp(-(u**2)),
+    sp.erfc: lambda u: -2 / sp.sqrt(sp.pi) * sp.exp(-(u**2)),
+}
+
+# d C_n(u) / du for the Bessel functions of orders 0 and 1 the parser builds (Abramowitz &
+# Stegun 9.1.27-28 and 9.6.26-27; DLMF 10.6.2, 10.29.2): J0' = -J1, J1' = J0 - J1/u, the
+# same for Y; I0' = I1, I1' = I0 - I1/u; K0' = -K1, K1' = -K0 - K1/u.
+_BESSEL_DERIVATIVES: dict[Any, Callable[[Any, Any], Any]] = {
+    sp.besselj: lambda n, u: (-sp.besselj(1, u) if n == 0
+                              else sp.besselj(0, u) - sp.besselj(1, u) / u),
+    sp.bessely: lambda n, u: (-sp.bessely(1, u) if n == 0
+                              else sp.bessely(0, u) - sp.bessely(1, u) / u),
+    sp.besseli: lambda n, u: (sp.besseli(1, u) if n == 0
+                              else sp.besseli(0, u) - sp.besseli(1, u) / u),
+    sp.besselk: lambda n, u: (-sp.besselk(1, u) if n == 0
+                              else -sp.besselk(0, u) - sp.besselk(1, u) / u),
 }
 
 
@@ -121,6 +137,9 @@ def _differentiate(expr: Any, x: Any) -> Any:
             out = d(_pairwise(e))
         elif isinstance(e, (sp.Heaviside, sp.sign)):
             out = sp.S.Zero  # steps: zero slope on either side
+        elif e.func in _BESSEL_DERIVATIVES and e.args[0] in (0, 1):
+            n, u = e.args
+            out = _BESSEL_DERIVATIVES[e.func](n, u) * d(u)
         elif len(e.args) == 1 and e.func in _DERIVATIVES:
             u = e.args[0]
             out = _DERIVATIVES[e.func](u) * d(u)

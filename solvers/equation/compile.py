@@ -23,6 +23,7 @@ from sympy.printing.lambdarepr import LambdaPrinter
 from sympy.printing.numpy import NumPyPrinter
 
 from solvers.equation.functions import (
+    SPECIAL_UFUNCS,
     _ieee_maximum,
     _ieee_minimum,
     _real_heaviside,
@@ -69,6 +70,22 @@ class _VectorPrinter(NumPyPrinter):
         return self._nested("ieee_maximum", expr.args)
 
 
+def _special_printer(prefix: str) -> Callable[[Any, Any], str]:
+    """A printer method for one of sympy's special functions: the scipy.special ufunc
+    (:data:`solvers.equation.functions.SPECIAL_UFUNCS`) under ``prefix`` in the
+    namespace, the Bessel order first, as the ufuncs take it."""
+
+    def print_special(self: Any, expr: Any) -> str:
+        ufunc = SPECIAL_UFUNCS[type(expr).__name__]
+        return f"{prefix}{ufunc}(" + ", ".join(self._print(a) for a in expr.args) + ")"
+
+    return print_special
+
+
+for _name in SPECIAL_UFUNCS:
+    setattr(_VectorPrinter, f"_print_{_name}", _special_printer("special_"))
+
+
 class _ScalarPrinter(LambdaPrinter):
     """Python-float code whose every domain error raises (then the numpy path answers)."""
 
@@ -97,7 +114,24 @@ class _ScalarPrinter(LambdaPrinter):
         return f"real_heaviside({self._print(expr.args[0])})"
 
 
+for _name in SPECIAL_UFUNCS:
+    setattr(_ScalarPrinter, f"_print_{_name}", _special_printer("real_"))
+
+
+def _special_ufuncs(prefix: str, scalar: bool) -> dict[str, Any]:
+    """The namespace entries of the special functions: the scipy.special ufuncs (imported
+    when a compiled f first needs the namespace), as floats on the scalar path."""
+    import scipy.special
+
+    out: dict[str, Any] = {}
+    for ufunc in set(SPECIAL_UFUNCS.values()):
+        fn = getattr(scipy.special, ufunc)
+        out[prefix + ufunc] = (lambda *a, _fn=fn: float(_fn(*a))) if scalar else fn
+    return out
+
+
 _VECTOR_NAMESPACE = {"numpy": np, "ieee_minimum": _ieee_minimum, "ieee_maximum": _ieee_maximum}
+_SPECIAL_CLASSES = tuple(getattr(sp, name) for name in SPECIAL_UFUNCS)
 
 _SCALAR_NAMESPACE = {
     "real_pow": _real_pow,
@@ -177,7 +211,10 @@ class Code:
         # A dict namespace, not the string "numpy": the string makes lambdify probe every
         # numpy attribute, which imports numpy.f2py and friends (~0.1 s of start-up); the
         # printer adds the "from numpy import ..." lines the code needs.
-        self.vector = sp.lambdify(self.args, self.code, modules=[_VECTOR_NAMESPACE],
+        self.special = any(e.has(*_SPECIAL_CLASSES) for e in code)
+        namespace = {**_VECTOR_NAMESPACE, **_special_ufuncs("special_", False)} \
+            if self.special else _VECTOR_NAMESPACE
+        self.vector = sp.lambdify(self.args, self.code, modules=[namespace],
                                   printer=_VectorPrinter)
         self._scalar: Any = None
 
@@ -185,8 +222,9 @@ class Code:
         """The math-module function (compiled at the first call), or False if unprintable."""
         if self._scalar is None:
             try:
-                self._scalar = sp.lambdify(self.args, self.code,
-                                           modules=[_SCALAR_NAMESPACE, "math"],
+                namespace = {**_SCALAR_NAMESPACE, **_special_ufuncs("real_", True)} \
+                    if self.special else _SCALAR_NAMESPACE
+                self._scalar = sp.lambdify(self.args, self.code, modules=[namespace, "math"],
                                            printer=_ScalarPrinter)
             except Exception:  # noqa: BLE001 - a construct the math printer lacks: numpy only
                 self._scalar = False

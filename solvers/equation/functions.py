@@ -86,6 +86,44 @@ def _atan2_value(y: float, x: float) -> float:
     return math.atan2(y, x)
 
 
+def _special(name: str) -> Callable[..., float]:
+    """The double-precision value of a scipy.special function (the same ufunc the compiled
+    code calls, so folded constants and both evaluation paths agree to the bit); a value
+    that is not finite (K0 at 0, Y1 below 0) raises, as the math functions do."""
+
+    def value(*args: float) -> float:
+        import scipy.special
+
+        result = float(getattr(scipy.special, name)(*args))
+        if not math.isfinite(result):
+            raise ValueError(f"{name}{args} is not finite")
+        return result
+
+    return value
+
+
+def _bessel(kind: Any, order: int) -> Callable[[Any], Any]:
+    def build(x: Any) -> Any:
+        return kind(order, x)
+
+    return build
+
+
+# Bessel functions of the first and second kinds and their modified forms, of orders 0
+# and 1 (cylindrical conduction eigenvalues, fins, circular membranes and plates): the
+# scipy.special ufuncs jv, yv, iv, kv take the order as their first argument.
+_BESSEL = {"J": (sp.besselj, "jv"), "Y": (sp.bessely, "yv"), "I": (sp.besseli, "iv"),
+           "K": (sp.besselk, "kv")}
+# sympy's class of each kind -> the scipy.special ufunc the compiled code calls
+SPECIAL_UFUNCS: dict[str, str] = {"erf": "erf", "erfc": "erfc", "besselj": "jv",
+                                  "bessely": "yv", "besseli": "iv", "besselk": "kv"}
+
+
+def _bessel_value(ufunc: str, order: int) -> Callable[[float], float]:
+    value = _special(ufunc)
+    return lambda x: value(float(order), x)
+
+
 FUNCTIONS: dict[str, _Function] = {
     "sqrt": _Function(1, 1, sp.sqrt, math.sqrt),
     "exp": _Function(1, 1, sp.exp, math.exp),
@@ -108,5 +146,9 @@ FUNCTIONS: dict[str, _Function] = {
     "abs": _Function(1, 1, sp.Abs, abs),
     "min": _Function(2, None, sp.Min, _real_min),
     "max": _Function(2, None, sp.Max, _real_max),
+    "erf": _Function(1, 1, sp.erf, _special("erf")),
+    "erfc": _Function(1, 1, sp.erfc, _special("erfc")),
+    **{f"{letter}{order}": _Function(1, 1, _bessel(kind, order), _bessel_value(ufunc, order))
+       for letter, (kind, ufunc) in _BESSEL.items() for order in (0, 1)},
 }
 

@@ -33,6 +33,7 @@ them) a definition that shadows a parameter or the unknown.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from typing import Any
@@ -46,7 +47,14 @@ from solvers.equation.lexer import (
     _fail,
     _Token,
 )
-from solvers.equation.parser import Check, _constant_bindings, _Node, _Parser, checked_tokens
+from solvers.equation.parser import (
+    NAMES_TOO,
+    Check,
+    _constant_bindings,
+    _Node,
+    _Parser,
+    checked_tokens,
+)
 
 
 @dataclass(frozen=True)
@@ -144,7 +152,8 @@ def numbered(err: EquationError, text: str, lines: list[Line]) -> EquationError:
 
 
 def _ends_operand(t: _Token) -> bool:
-    return t.text == ")" or t.kind == "num" or (t.kind == "name" and t.text not in FUNCTIONS)
+    return t.text == ")" or t.kind == "num" or (
+        t.kind == "name" and (t.text not in FUNCTIONS or t.text in NAMES_TOO))
 
 
 def _starts_operand(t: _Token) -> bool:
@@ -281,15 +290,23 @@ def _defined_name(text: str, line: Line) -> str:
     _check_name(text, token)
     if name in CONSTANT_NAMES:
         raise _fail(text, f"'{name}' is a constant and cannot be defined", token.pos)
-    if name in FUNCTIONS or name in _AMBIGUOUS:
+    if (name in FUNCTIONS and name not in NAMES_TOO) or name in _AMBIGUOUS:
         raise _fail(text, f"'{name}' is a function name and cannot be defined", token.pos)
     return name
 
 
 def check_shadowing(reading: Reading, parameters: Iterable[str],
                     unknowns: Iterable[str]) -> None:
-    """A definition may not give a parameter or an unknown a second meaning."""
+    """A definition may not give a parameter or an unknown a second meaning, nor a value a
+    special function's name the text calls (K1 given 2.0 beside K1(x): the text reads
+    the Bessel function, where a product K1*(x) may have been meant)."""
     params, xs = set(parameters), set(unknowns)
+    defined = {d.name for d in reading.definitions}
+    for name in sorted((params | xs) & NAMES_TOO & reading.used - defined):
+        call = re.search(rf"(?<![\w.]){re.escape(name)}\s*\(", reading.text)
+        raise _fail(reading.text, f"'{name}' is given a value, but {name}(...) in the equation "
+                    f"is the function {name}: write {name}*(...) for a product, or rename the "
+                    "value", call.start() if call else 0)
     for d in reading.definitions:
         if d.name in params:
             raise reading.numbered(_fail(reading.text, f"'{d.name}' is defined here but is "

@@ -113,6 +113,7 @@ class _Parser:
         self.names: list[str] = []
         self.first_pos: dict[str, int] = {}
         self.used: set[str] = set()  # functions and constants used, for notes
+        self.called: set[str] = set()  # the functions called
         self.checks: list[Check] = []  # parameter-only parts, in the order they complete
         # every non-constant part as (sympy expression, start, end), innermost first: where
         # the dimensional check (solvers.units) names a part as typed
@@ -416,10 +417,14 @@ class _Parser:
         is_call = self.tok.text == "("
         if name in _AMBIGUOUS:
             raise self.fail(_AMBIGUOUS[name], t.pos)
-        if name in FUNCTIONS:
+        if name in FUNCTIONS and (is_call or name not in NAMES_TOO):
             if not is_call:
                 raise self.fail(f"'{name}' is a function: write {name}(...)", t.pos)
+            if name in self.first_pos or name in self.bindings:
+                raise self.fail(_both_ways(name), t.pos)
             return self.call(t)
+        if name in NAMES_TOO and name in self.called:
+            raise self.fail(_both_ways(name), t.pos)
         if is_call:
             if name in CONSTANT_NAMES:
                 raise self.fail(f"'{name}' is a constant, not a function: write {name}*(...)",
@@ -467,6 +472,7 @@ class _Parser:
             raise self.fail(f"{t.text}() takes {want} argument{'s' if want != '1' else ''}, "
                             f"got {n}", t.pos)
         self.used.add(t.text)
+        self.called.add(t.text)
         end = self.tokens[self.i - 1].end
         if all(a.value is not None for a in args):
             value = self.evaluate(fn.value, *[a.value for a in args])
@@ -518,12 +524,34 @@ def _constant_bindings() -> dict[str, Any]:
             "deg": _Node(sp.Float(deg_value), deg_value)}
 
 
+# Names other notations give the special functions, and ours (Bessel functions by their
+# letter and order, as tables print them: J0, J1, Y0, Y1, I0, I1, K0, K1)
+_OTHER_NAMES = {
+    **{alias: [f"{letter}0", f"{letter}1"] for letters, letter in (
+        (("besselj", "jv", "jn"), "J"), (("bessely", "yv", "yn"), "Y"),
+        (("besseli", "iv"), "I"), (("besselk", "kv"), "K")) for alias in letters},
+    **{f"{letter.lower()}{n}": [f"{letter}{n}"] for letter in "JYIK" for n in (0, 1)},
+}
+
+
+# Special functions whose names engineers also give quantities (K1 an equilibrium ratio,
+# J0 a moment of inertia, I1 a current): a name of theirs followed by '(' is the
+# function, and without it a name like any other; one equation cannot use it both ways.
+NAMES_TOO = frozenset(f"{letter}{order}" for letter in "JYIK" for order in (0, 1)) | {
+    "erf", "erfc"}
+
+
+def _both_ways(name: str) -> str:
+    return (f"'{name}' is used both as the function {name}(...) and as a name: rename the "
+            f"name (say {name.lower()}_) or write {name}*(...) for a product")
+
+
 def _did_you_mean(name: str) -> str:
     """"did you mean 'sqrt'? " for a name close to one of the functions (difflib's
     ratio >= 0.6, its default), else ''."""
     import difflib
 
-    close = difflib.get_close_matches(name, FUNCTIONS, n=2)
+    close = _OTHER_NAMES.get(name.lower()) or difflib.get_close_matches(name, FUNCTIONS, n=2)
     if not close:
         return ""
     return "did you mean " + " or ".join(f"'{c}'" for c in close) + "? or "

@@ -77,6 +77,9 @@ class _Core:
     # the definition lines before the equation, and where the equation line stands
     definitions: tuple[Definition, ...] = ()
     span: tuple[int, int] | None = None
+    # f in the quantities as typed (x the unknown's quantity, not its number in the chosen
+    # unit): set only where x_SI = scale*x + offset was substituted into symbolic_expr
+    quantity_expr: Any = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -323,13 +326,34 @@ class Equation:
         return None if found is None else unit_text(found, derived=derived)
 
     @property
+    def quantity_derivative(self) -> Any:
+        """df/dx in the quantities as typed, parameters as symbols (None if unusable).
+
+        Where the unknown has a unit, :attr:`symbolic_derivative` is f' of x's number in
+        that unit (what Newton evaluates): x_SI = scale*x + offset written in, and the
+        scale brought out by the chain rule (1e15 in f' of a bore in mm that goes as
+        D^-5). Every other symbol stands for a quantity, so this is f differentiated as
+        the equation was typed, x standing for its quantity too: no unit's constants,
+        the same formula whatever unit x is asked in. Without a unit on x it is
+        :attr:`symbolic_derivative`.
+        """
+        core = self._core
+        if core is None or core.quantity_expr is None or self.symbolic_derivative is None:
+            return self.symbolic_derivative
+        if "dquantity" not in core.cache:
+            core.cache["dquantity"] = calculus.derivative(core.quantity_expr, core.x)[0]
+        return core.cache["dquantity"]
+
+    @property
     def derivative_latex(self) -> str:
-        """LaTeX (mathtext-safe) of the derivative, parameters by name; '' if none, or if
-        it is over the typesetting budget (MAX_TYPESET_NODES nodes, MAX_TYPESET_CHARS
-        characters of solvers.equation.typeset): see :attr:`derivative_too_large`."""
+        """LaTeX (mathtext-safe) of the derivative in the quantities as typed
+        (:attr:`quantity_derivative`: never the unknown unit's scale factors), parameters by
+        name; '' if none, or if it is over the typesetting budget (MAX_TYPESET_NODES nodes,
+        MAX_TYPESET_CHARS characters of solvers.equation.typeset): see
+        :attr:`derivative_too_large`."""
         cache = self._core.cache
         if "dlatex" not in cache:
-            cache["dlatex"] = derivative_latex(self.symbolic_derivative)
+            cache["dlatex"] = derivative_latex(self.quantity_derivative)
         return cache["dlatex"]
 
     @property
@@ -636,7 +660,9 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
     symbolic = floatify_big(lhs.expr if rhs is None else lhs.expr - rhs.expr)
     plan = plan_for(text, parser, lhs, rhs, x, dict(zip(names, symbols, strict=True)),
                     unknown_unit, check_dimensions)
+    quantity_expr = None
     if plan.scale != 1.0 or plan.offset != 0.0:
+        quantity_expr = symbolic
         # x is in the unknown's unit: the code reads x_SI = scale*x + offset, constants
         # compiled in (no wrapper per call); f' picks up the scale by the chain rule
         symbolic = symbolic.xreplace({x: plan.scale * x + plan.offset})
@@ -678,7 +704,8 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
                  x=x, symbolic_expr=symbolic, symbolic_derivative=derivative, f_code=f_code,
                  fprime_code=fprime_code, checks=checks, n_hoisted=len(table),
                  bind_code=bind_code,
-                 sides=(lhs, rhs), remarks=tuple(remarks), units=plan)
+                 sides=(lhs, rhs), remarks=tuple(remarks), units=plan,
+                 quantity_expr=quantity_expr)
 
 
 def parse_equation(text: str, unknown: str | None = None,

@@ -168,7 +168,8 @@ _TEX_FUNCTIONS = {
     "tan": r"\tan", "asin": r"\arcsin", "acos": r"\arccos", "atan": r"\arctan",
     "sinh": r"\sinh", "cosh": r"\cosh", "tanh": r"\tanh", "asinh": r"\mathrm{asinh}",
     "acosh": r"\mathrm{acosh}", "atanh": r"\mathrm{atanh}", "atan2": r"\mathrm{atan2}",
-    "min": r"\min", "max": r"\max",
+    "min": r"\min", "max": r"\max", "erf": r"\mathrm{erf}", "erfc": r"\mathrm{erfc}",
+    **{f"{kind}{order}": f"{kind}_{{{order}}}" for kind in "JYIK" for order in (0, 1)},
 }
 
 

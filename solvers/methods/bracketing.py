@@ -18,6 +18,7 @@ from solvers.methods.common import (
     DEFAULT_RTOL,
     DEFAULT_XTOL,
     Function,
+    _capped_reason,
     _check_settings,
     _closed_bracket_reason,
     _Evaluator,
@@ -29,11 +30,11 @@ from solvers.methods.common import (
     _start_value,
     _step_detail,
     _zero_is_root,
+    in_rounding,
 )
 from solvers.records import (
     EXACT_ZERO,
     F_TOLERANCE,
-    MAX_ITERATIONS,
     NO_SIGN_CHANGE,
     NOT_FINITE,
     Detail,
@@ -89,8 +90,9 @@ def _start_bracket(
     underflowed: set[float] = set()
     for x, fx in ((a, fa), (b, fb)):
         if fx == 0.0:
-            if _zero_is_root(ev, x, tolerance[0] + tolerance[1] * abs(x)):
-                return done(EXACT_ZERO, x)
+            root, why = _zero_is_root(ev, x, tolerance[0] + tolerance[1] * abs(x))
+            if root:
+                return done(EXACT_ZERO, x, why)
             underflowed.add(x)
     if len(underflowed) == 2 or a == b and underflowed:
         return done(NOT_FINITE, a, Detail("underflow_ends", (a,)))
@@ -106,6 +108,9 @@ def _start_bracket(
     return _Bracket(a, fa, b, fb, underflowed)
 
 
+_NOISE_FALL = 2.0**-30  # ends of a noise-zero bracket: |f| this far below the start's
+
+
 def _iterate_zero(
     ev: _Evaluator,
     x: float,
@@ -113,8 +118,10 @@ def _iterate_zero(
     ends: tuple[tuple[float, float], tuple[float, float]],
     underflowed: set[float],
     bracket: tuple[float, float],
+    start: float = math.inf,
 ) -> tuple[float, str | None, Detail | None]:
-    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means:
+    """What f(x) == 0.0 at an iterate x between bracket ends (x1, f1), (x2, f2) means
+    (``start``: the larger |f| at the starting ends, as evaluated):
     ``(value to carry on with, None, None)``, or ``(0.0, reason, detail)`` when the method
     stops there (``exact_zero``, or ``not_finite`` with the ``underflow_inside`` detail
     naming x and ``bracket``, the bracket held before x).
@@ -134,7 +141,15 @@ def _iterate_zero(
     ends within a factor 1024 of the chord's (f close to a straight line through x,
     with no drop of hundreds of orders of magnitude towards x as exp(-1/x**2) has),
     and that slope times ``tol`` at least 1024 times the smallest normal double (a
-    stretch of underflow around a root there is far narrower than ``tol``).
+    stretch of underflow around a root there is far narrower than ``tol``). Nor when
+    f at the nearer end is a few units of the rounding of normal-sized terms
+    (:func:`solvers.methods.common.in_rounding`) and 2**-30 of ``start`` or less (f fell
+    that far, to its rounding noise: an end of -2 is a round number, no noise): x is
+    then a zero of f's rounding noise (``zero_between_noise``: an odd multiple root
+    typed out as a polynomial), where underflow would need f's terms to fall from that
+    end's size (1e-274 at least) below 1e-308 on the way.
+    A 0.0 beside x otherwise stops the method (not finite), without the open methods'
+    look further out: the bracket ends are the method's evidence.
     """
     (x1, f1), (x2, f2) = ends
     for end, value in ((x1, f1), (x2, f2)):
@@ -142,7 +157,14 @@ def _iterate_zero(
             underflowed.add(x)
             return math.copysign(_TINY, value), None, None
     far = x2 if abs(x - x1) <= abs(x - x2) else x1
-    if _straight_through(x, x1, f1, x2, f2, tol) or _zero_is_root(ev, x, tol, toward=far):
+    if _straight_through(x, x1, f1, x2, f2, tol):
+        return 0.0, EXACT_ZERO, None
+    near, f_near = (x1, f1) if abs(x - x1) <= abs(x - x2) else (x2, f2)
+    if in_rounding(f_near) and abs(f_near) <= _NOISE_FALL * start:
+        # the nearer end is rounding noise of cancelling terms: x, a 0.0 beyond it inside
+        # the bracket, is a zero of that noise (a multiple root typed out), not underflow
+        return 0.0, EXACT_ZERO, Detail("zero_between_noise", (abs(x - near), abs(f_near)))
+    if _zero_is_root(ev, x, tol, toward=far, look=False)[0]:
         return 0.0, EXACT_ZERO, None
     return 0.0, NOT_FINITE, _interior_underflow(x, *bracket)
 
@@ -222,7 +244,8 @@ def bisection(
         if hi - lo <= xtol_ + rtol_ * abs(best):
             return closed(best, _step_detail("width", hi - lo, xtol_, rtol_, best))
         if iterations >= cap:
-            return done(MAX_ITERATIONS, best)
+            reason, why = _capped_reason(lo, flo, hi, fhi, steps)
+            return done(reason, best, why)
         mid = 0.5 * lo + 0.5 * hi
         if not lo < mid < hi:
             return closed(
@@ -236,7 +259,8 @@ def bisection(
         recorded = fmid
         if fmid == 0.0:
             fmid, stop, why = _iterate_zero(
-                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed, (lo, hi)
+                ev, mid, xtol_ + rtol_ * abs(mid), ((lo, flo), (hi, fhi)), underflowed, (lo, hi),
+                max(abs(steps[0].fx), abs(steps[1].fx)),
             )
             if stop:
                 steps.append(Step(iterations + 1, mid, recorded, None, mid - last, mid, hi))
@@ -297,7 +321,10 @@ def _regula_falsi(
         lo, hi = (xa, xb) if xa < xb else (xb, xa)
         best = xa if abs(fa) < abs(fb) else xb
         if iterations >= cap:
-            return done(MAX_ITERATIONS, best)
+            reason, why = _capped_reason(xa, fa, xb, fb, steps)
+            if why is None and not illinois_rule:
+                why = _held_end(steps)
+            return done(reason, best, why)
         if probe is not None and lo < probe < hi:
             x, fallback = probe, False
         else:
@@ -326,7 +353,8 @@ def _regula_falsi(
         recorded = fx
         if fx == 0.0:
             fx, stop, why = _iterate_zero(
-                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed, (lo, hi)
+                ev, x, xtol_ + rtol_ * abs(x), ((xa, fa), (xb, fb)), underflowed, (lo, hi),
+                max(abs(steps[0].fx), abs(steps[1].fx)),
             )
             if stop:
                 steps.append(Step(iterations + 1, x, recorded, None, x - xb, *sorted((xb, x))))
@@ -373,6 +401,29 @@ def _regula_falsi(
                 previous_ratio = ratio
             previous_step = step
         previous = x
+
+
+_HELD = 10  # iterations one end must have stood still to be named at the cap
+
+
+def _held_end(steps: list[Step]) -> Detail | None:
+    """Plain false position stopped at the cap: the bracket end that stood still through
+    the last iterations, and for how many (``end_held``), where it did for at least
+    :data:`_HELD` of them. On a convex or concave f every chord lands on the same side
+    of the root, so one end never moves and convergence is linear and can be very slow:
+    the words suggest Illinois or Brent, which move both ends."""
+    for side in ("lo", "hi"):
+        held = 0
+        end = None
+        for step in reversed(steps[2:]):  # the iterates (steps 0 and 1: the ends given)
+            value = getattr(step, side)
+            if value is None or (end is not None and value != end):
+                break
+            end = value
+            held += 1
+        if end is not None and held >= _HELD:
+            return Detail("end_held", (end, held))
+    return None
 
 
 @_quiet

@@ -17,6 +17,7 @@ from solvers.methods.common import (
     DEFAULT_RTOL,
     DEFAULT_XTOL,
     Function,
+    _capped_reason,
     _closed_bracket_reason,
     _Evaluator,
     _finish,
@@ -27,7 +28,6 @@ from solvers.methods.common import (
 )
 from solvers.records import (
     F_TOLERANCE,
-    MAX_ITERATIONS,
     NOT_FINITE,
     Detail,
     Run,
@@ -104,7 +104,8 @@ def brent(
             width = abs(xc - xb)
             return closed(_step_detail("width", width, xtol_, rtol_, xb))
         if iterations >= cap:
-            return done(MAX_ITERATIONS, xb)
+            reason, why = _capped_reason(xb, fb, xc, fc, steps)
+            return done(reason, xb, why)
 
         # A value that underflowed has a sign but no size to interpolate with: bisect.
         informed = not underflowed or underflowed.isdisjoint((xa, xb, xc))
@@ -132,7 +133,7 @@ def brent(
         if fb == 0.0:
             fb, stop, why = _iterate_zero(
                 ev, xb, xtol_ + rtol_ * abs(xb), ((xa, fa), (xc, fc)), underflowed,
-                tuple(sorted((xa, xc))),
+                tuple(sorted((xa, xc))), max(abs(steps[0].fx), abs(steps[1].fx)),
             )
             if stop:
                 steps.append(Step(iterations + 1, xb, recorded, None, xb - last,

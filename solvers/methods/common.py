@@ -11,7 +11,7 @@ import functools
 import math
 import operator
 import sys
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from typing import Any
 
 import numpy as np
@@ -20,6 +20,7 @@ from solvers.records import (
     CONVERGED_REASONS,
     DISCONTINUITY,
     EXACT_ZERO,
+    MAX_ITERATIONS,
     NOT_FINITE,
     X_TOLERANCE,
     Detail,
@@ -194,6 +195,34 @@ def _pole_detail(root: float, steps: list[Step]) -> Detail | None:
     return Detail("pole", (ends, at_root, root))
 
 
+# A bracket stopped at the iteration cap is local to a point once it has shrunk this much
+# (the reach of the closed-bracket probes, the other way round).
+_CAPPED_SHRINK = 2.0**-20
+
+
+def _capped_reason(x1: float, f1: float, x2: float, f2: float,
+                   steps: list[Step]) -> tuple[str, Detail | None]:
+    """(reason, detail) for a bracketing run stopped at the iteration cap, its bracket's
+    ends x1, x2 (either order) with f there f1, f2.
+
+    ``max_iterations``, unless the bracket closed in on a pole without reaching the
+    tolerance: plain false position keeps one end nearly fixed and creeps up a pole of
+    1/(x - c) a little at a time, so the cap comes first. Where the bracket shrank at
+    least 2**20-fold and |f| at both its ends exceeds |f| at both starting ends (f grew
+    on each side as the bracket narrowed; near a root |f| falls), it is ``not_finite``
+    with a ``pole_capped`` detail, as a closed bracket on a pole is (:func:`_finish`).
+    Either way the run has not converged.
+    """
+    if len(steps) >= 2:
+        start = abs(steps[1].x - steps[0].x)
+        ends = max(abs(steps[0].fx), abs(steps[1].fx))
+        near = min(abs(f1), abs(f2))
+        if abs(x2 - x1) <= _CAPPED_SHRINK * start and near > ends:
+            best = x1 if abs(f1) <= abs(f2) else x2
+            return NOT_FINITE, Detail("pole_capped", (ends, near, best))
+    return MAX_ITERATIONS, None
+
+
 def _last_finite(steps: list[Step]) -> float:
     """The last iterate with finite x and f(x): the root reported by a failed run."""
     for step in reversed(steps):
@@ -221,41 +250,120 @@ def _same_sign(u: float, v: float) -> bool:
 _TINY = 5e-324
 
 
-def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None) -> bool:
-    """Whether f(x) == 0.0 is a zero of f, not a value that underflowed to 0.
+def probe_step(x: float, tol: float) -> float:
+    """How far beside x the exact-zero rule asks f: the tolerance, at least two ulps of x
+    and the smallest normal double."""
+    return max(tol, 2.0 * math.ulp(x), sys.float_info.min)
+
+
+def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None,
+                  look: bool = True) -> tuple[bool, Detail | None]:
+    """Whether f(x) == 0.0 is a zero of f, not a value that underflowed to 0, and the
+    detail that goes with a root on a plateau of rounding (``zero_plateau``, else None).
 
     A double 0.0 from f is also what a sum of terms below ~1e-308 gives (exp(-x) -
     2*exp(-2*x) is 0.0 at x = 800; its root is ln 2). From f alone the two differ in
     what f does beside x: at an isolated zero f is non-zero at x +- tol (a simple root
     changes sign there, a double root touches), while underflow leaves f exactly 0 over
     a stretch far wider than any tolerance. So f is evaluated at x + tol and x - tol
-    (calls counted) and the zero counts as a root unless f is 0.0 at either. A NaN
+    (calls counted) and the zero counts as a root if f is non-zero at both. A NaN
     neighbour (x at the edge of f's domain, sqrt at 0) is no evidence either way, but
     one neighbour must be finite and non-zero. Both sides are needed: x can sit at the
     very edge of a stretch of underflow (f*1e-314 has one 4e-11 wide around its root),
     with one neighbour outside it.
 
+    f can also be 0.0 beside x because its terms cancel to the last bit there: around a
+    multiple root of an f typed out as a polynomial (x^3 - 3x + 2 is 0.0 in doubles for
+    |x - 1| below about 1e-8). Where a neighbour is 0.0, f is asked further out on both
+    sides (:func:`_rounding_plateau`): a root on a plateau of rounding, or underflow.
+    Without ``look`` (a bracketing method's iterate, whose bracket ends tell it first:
+    :func:`solvers.methods.bracketing._iterate_zero`) such a zero is no root.
+
     ``toward`` (a bracketing method's farther bracket end) is the side tried first: a
     method closing in on a stretch of underflow from inside it comes from that side, so
     that call usually settles it alone.
     """
-    step = max(tol, 2.0 * math.ulp(x), sys.float_info.min)
+    step = probe_step(x, tol)
     first = step if toward is None or toward >= x else -step
     finite = False
     for side in (x + first, x - first):
         value = ev(side)
         if value == 0.0:
-            return False
+            return _rounding_plateau(ev, x, step) if look else (False, None)
         finite = finite or math.isfinite(value)
-    return finite
+    return finite, None
+
+
+# The plateau search: f at x -+ step * 4**j, j = 1..16 (out to about 4e9 steps: 4e-3 of
+# x at the default tolerances), and what f may be just beyond a plateau of rounding.
+PLATEAU_REACH = tuple(4.0**j for j in range(1, 17))
+_QUANTA = 4096  # at most this many units of the terms' rounding
+
+
+def plateau_points(x: float, step: float) -> list[float]:
+    """The points :func:`_rounding_plateau` asks f at: the left side, nearest first,
+    then the right side."""
+    return [x - step * m for m in PLATEAU_REACH] + [x + step * m for m in PLATEAU_REACH]
+
+
+def _lowest_bit(v: float) -> float:
+    """The largest power of two that v (finite, > 0) is a whole multiple of."""
+    mantissa, exponent = math.frexp(v)
+    whole = int(mantissa * 2.0**53)
+    return math.ldexp(1.0, exponent - 53 + (whole & -whole).bit_length() - 1)
+
+
+def in_rounding(v: float) -> bool:
+    """Whether a value of f is a few units of the rounding of normal-sized terms: a whole
+    multiple, at most :data:`_QUANTA`, of a power of two above 1e-290 (a smooth non-zero
+    value needs some 50 bits; a subnormal one is a multiple of 2**-1074 only)."""
+    if v == 0.0 or not math.isfinite(v):
+        return False
+    q = _lowest_bit(abs(v))
+    return q > 1e-290 and abs(v) <= _QUANTA * q
+
+
+def plateau_detail(x: float, step: float, values: Sequence[float]) -> Detail | None:
+    """The verdict on f's ``values`` at :func:`plateau_points` (x, step): a ``zero_in_noise``
+    detail (the distance out to f's nearest non-zero value, and its size) when f(x) ==
+    0.0 is a zero of f's rounding noise, else None (underflow).
+
+    Beyond a plateau of cancelling terms the first non-zero value of f on each side is
+    a few units of the terms' rounding: a small whole multiple (at most 4096) of a power
+    of two that is a normal double's unit (above 1e-290). Beyond a stretch of underflow
+    f is subnormal or tiny, a multiple of 2**-1074 only, or nothing within reach; a
+    smooth non-zero value needs some 50 bits, not 12.
+    """
+    half = len(PLATEAU_REACH)
+    nearest: tuple[float, float] | None = None
+    for side in (values[:half], values[half:]):
+        found = None
+        for m, v in zip(PLATEAU_REACH, side, strict=True):
+            if v != 0.0:
+                if in_rounding(v):
+                    found = (step * m, abs(v))
+                break
+        if found is None:
+            return None
+        nearest = found if nearest is None or found[0] < nearest[0] else nearest
+    assert nearest is not None
+    return Detail("zero_in_noise", nearest)
+
+
+def _rounding_plateau(ev: _Evaluator, x: float, step: float) -> tuple[bool, Detail | None]:
+    """f(x) == 0.0 and 0.0 beside it (the probe ``step`` away): (root, detail) from f at
+    32 more points (:func:`plateau_points`, counted; :func:`plateau_detail` decides)."""
+    detail = plateau_detail(x, step, [ev(p) for p in plateau_points(x, step)])
+    return detail is not None, detail
 
 
 def _zero_verdict(
     ev: _Evaluator, x: float, xtol: float, rtol: float
 ) -> tuple[str, Detail | None]:
     """(reason, detail) for f(x) == 0.0 in an open method: a root, or underflow."""
-    if _zero_is_root(ev, x, xtol + rtol * abs(x)):
-        return EXACT_ZERO, None
+    root, detail = _zero_is_root(ev, x, xtol + rtol * abs(x))
+    if root:
+        return EXACT_ZERO, detail
     return NOT_FINITE, Detail("underflow", (x,))
 
 

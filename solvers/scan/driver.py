@@ -33,7 +33,7 @@ from solvers.scan.kernels import (
     _overflow_brackets,
     _resolve_brackets,
 )
-from solvers.scan.noise import _noise_clusters, _sigma
+from solvers.scan.noise import _noise_clusters, _sigma, _staircase
 from solvers.scan.records import EPS, Root, Scan, _Found
 from solvers.scan.sampling import (
     DEFAULT_SAMPLES,
@@ -297,6 +297,9 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
     unresolved = [(u, v) for u, v in _merge_spans(cand.unresolved)
                   if not any(p <= u and v <= q for p, q in bands)
                   and not _holds_any(singular, u, v)]
+    # nor where f is a staircase of its rounding (its steps contradict f' at any sampling)
+    unresolved = [span for span, stair in zip(unresolved, _staircase(g, unresolved),
+                                              strict=True) if not stair]
     extra_samples = 0
     if mode == "derivative" and depth == 0 and unresolved:
         # what the sampling could not resolve even 64x finer (f' contradicting f there too)

@@ -203,7 +203,8 @@ def _ramp_clean(vals: np.ndarray) -> np.ndarray:
 
 
 def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
-                 singular: np.ndarray | None = None, in_noise: np.ndarray | None = None):
+                 singular: np.ndarray | None = None, in_noise: np.ndarray | None = None,
+                 beside: np.ndarray | None = None):
     """For each candidate x: the stretch around it where |f| stays within ``_NOISE_K``
     standard deviations of f's rounding noise, as (noisy, lower end, upper end, level).
 
@@ -211,7 +212,9 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
     (a clean root, pole or jump: its stretch is then [x, x]). ``singular`` marks the poles
     and jumps, ``in_noise`` the roots whose bracket already closed in f's rounding noise
     (their noise is measured, never presumed absent from a few ulps that look like a
-    ramp). Elsewhere the stretch is
+    ramp). ``beside`` (rows (u, v, h), NaN for none) marks a zero run [u, v] of samples
+    h apart: inside it f is exactly 0.0 and shows no noise, so its level is that of the
+    quantum f is rounded to just outside (:func:`_run_quantum`). Elsewhere the stretch is
     found by doubling the distance until |f| exceeds the level (an upper bound within a
     factor of 2 on each side), in one f call for all candidates.
     """
@@ -226,6 +229,8 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
         clean &= ~singular
     if in_noise is not None:
         clean &= ~in_noise
+    runs = np.zeros(n, dtype=bool) if beside is None else np.isfinite(beside[:, 0])
+    clean &= ~runs
     if np.count_nonzero(clean) == n:
         return np.zeros(n, dtype=bool), lo, hi, np.zeros(n)
     rest = np.flatnonzero(~clean)
@@ -238,6 +243,9 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
         off = 2.0**-20 * np.maximum(np.abs(xs), 1e-3 * scale)
         side = _sigma(g, np.concatenate([xs - off, xs + off]), scale).reshape(2, -1)
         sig[singular] = np.min(side, axis=0)
+    if runs.any():
+        # half a quantum: the level is then _NOISE_K / 2 = 4 quanta of f's rounding
+        sig[runs] = 0.5 * _run_quantum(g, beside[runs])
     level = _NOISE_K * sig
     if in_noise is not None and in_noise.any():
         # (measured where the bracket was judged: the estimate at x itself can miss it)
@@ -270,6 +278,67 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
         else:
             hi[idx] = x[idx] + reach
     return noisy, lo, hi, level
+
+
+_QUANTA = 4096  # beside a run of cancellation |f| is at most this many quanta
+
+
+def _lowest_bit(v: float) -> float:
+    """The largest power of two that v (finite, > 0) is a whole multiple of."""
+    mantissa, exponent = math.frexp(v)
+    whole = int(mantissa * 2.0**53)
+    return math.ldexp(1.0, exponent - 53 + (whole & -whole).bit_length() - 1)
+
+
+def _quantum(y: np.ndarray, least: float = 0.0) -> np.ndarray:
+    """Per row of values of f: the power of two they are all whole multiples of, where
+    they are at most :data:`_QUANTA` of it (f rounded to a few steps of its terms'
+    rounding unit, or of the least subnormal), else 0. Values of a smooth f need some 50
+    bits, not 12. A quantum not above ``least`` counts for nothing."""
+    y = np.abs(y)
+    out = np.zeros(len(y))
+    for i in range(len(y)):
+        vals = np.unique(y[i][np.isfinite(y[i]) & (y[i] > 0)]).tolist()
+        if not vals:
+            continue
+        q = min(_lowest_bit(v) for v in vals)
+        if q > least and vals[-1] <= _QUANTA * q:
+            out[i] = q
+    return out
+
+
+def _run_quantum(g: _Guarded, runs: np.ndarray) -> np.ndarray:
+    """The quantum f is rounded to beside each zero run (rows u, v, h), or 0.
+
+    A run of exact zeros is cancellation when f beside it takes only a few multiples of
+    one quantum, the rounding unit of the terms that cancel (1 - cos x: multiples of
+    2^-53 while x^2/2 is below 1e-12): the stretch is then f's rounding noise around a
+    root. Beside a run of underflow, f is a few multiples of the least subnormal (a
+    quantum below 1e-290 counts for nothing), and beside a stretch where f is exactly
+    0.0 (the flat part of min(x, 1) - 1) f is smooth, thousands of quanta and more within
+    a few sample spacings. f is asked at 16 points on each side, out to the run's width
+    (4 sample spacings at least).
+    """
+    u, v, h = runs[:, 0], runs[:, 1], runs[:, 2]
+    step = np.maximum(h, 0.25 * (v - u))[:, None]  # out to a run's width, 4 spacings at least
+    k = np.arange(1, 17, dtype=float) * 0.25
+    pts = np.concatenate([u[:, None] - step * k, v[:, None] + step * k], axis=1)
+    # (subnormal values are all multiples of the least subnormal: no cancellation)
+    return _quantum(g(pts.reshape(-1)).reshape(len(runs), -1), least=1e-290)
+
+
+def _staircase(g: _Guarded, spans: list[tuple[float, float]]) -> list[bool]:
+    """Whether f on each span (lo, hi) is a staircase of rounding: 64 evenly spread values
+    all whole multiples of one quantum, a few thousand of it at most (:func:`_quantum`).
+    Its steps contradict f' between samples however fine the sampling (1 - cos x for
+    |x| < 1e-7 takes some 50 values; exp(-x) near 742 is a few dozen subnormals), which
+    is rounding, not an oscillation of f."""
+    if not spans:
+        return []
+    ends = np.array(spans, dtype=float)
+    t = np.linspace(0.0, 1.0, 64)
+    pts = ends[:, :1] + (ends[:, 1:] - ends[:, :1]) * t[None, :]
+    return (_quantum(g(pts.reshape(-1)).reshape(len(spans), -1)) > 0).tolist()
 
 
 def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.ndarray,
@@ -361,12 +430,18 @@ def _noise_clusters(g: _Guarded, roots: list[Root], poles: list[float], jumps: l
     lo, hi, level = x.copy(), x.copy(), np.zeros(len(x))
     if look.any():
         il = np.flatnonzero(look)
+        # a zero run's noise is measured a sample spacing beyond each of its ends
+        beside = np.full((len(x), 3), np.nan)
+        for i in np.flatnonzero(kind == 3):
+            u, v = runs[i - len(roots) - len(poles) - len(jumps)]
+            beside[i] = (u, v, h)
         nz, lo[il], hi[il], level[il] = _noise_bands(g, x[il], a, b, scale,
                                                      (kind[il] == 1) | (kind[il] == 2),
-                                                     in_noise[il])
+                                                     in_noise[il], beside[il])
         noisy[il] = nz
     if noisy.any():
-        noisy &= (level <= 1e-3 * typical()) & ((lo > a) | (hi < b))
+        # (a zero run rounded to a quantum beside it is rounding whatever f's size)
+        noisy &= ((level <= 1e-3 * typical()) | (kind == 3)) & ((lo > a) | (hi < b))
     if not noisy.any():
         return roots, poles, jumps, runs, []
     for i in np.flatnonzero(kind == 3):  # a zero run spans at least its own samples

@@ -208,9 +208,13 @@ def _call(code: Code, x: Any, parameters: Mapping[str, float], size: int) -> np.
 
 def _names_in(line: Line) -> list[str]:
     from solvers.equation.functions import FUNCTIONS
+    from solvers.equation.parser import NAMES_TOO
 
-    return [t.text for t in line.tokens[2:] if t.kind == "name" and t.text not in FUNCTIONS
-            and t.text not in CONSTANT_NAMES]
+    tokens = line.tokens
+    return [t.text for i, t in enumerate(tokens[2:], start=2)
+            if t.kind == "name" and t.text not in CONSTANT_NAMES
+            and not (t.text in FUNCTIONS and i + 1 < len(tokens) and tokens[i + 1].text == "(")
+            and not (t.text in FUNCTIONS and t.text not in NAMES_TOO)]
 
 
 def _classifier(values: Mapping[str, Any], unknowns: Sequence[str] | None) -> Any:

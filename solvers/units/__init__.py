@@ -42,6 +42,7 @@ from solvers.units.reading import (
     MAX_UNIT_TEXT,
     Dimension,
     Unit,
+    converter,
     dimension_numbers,
     dimension_words,
     read_unit,
@@ -52,7 +53,7 @@ from solvers.units.reading import (
 
 __all__ = [
     "DIMENSIONLESS", "MAX_UNIT_TEXT", "Converted", "Dimension", "Measured", "Plan", "Unit",
-    "convert_parameters", "dimension_words", "measured", "read_unit", "split_value",
+    "convert_parameters", "converter", "dimension_words", "measured", "read_unit", "split_value",
     "unit_text", "unit_text_problem", "with_unit",
 ]
 

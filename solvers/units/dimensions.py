@@ -101,8 +101,14 @@ _ARGUMENTS_ALIKE = (sp.Min, sp.Max)
 _ANY_ARGUMENT = (sp.sign, sp.Heaviside)
 
 
+_BESSEL_LETTERS = {"besselj": "J", "bessely": "Y", "besseli": "I", "besselk": "K"}
+
+
 def _function_name(expr: Any) -> str:
+    """The function's name as typed (ln, J0: sympy's log, besselj(0, ...))."""
     name = type(expr).__name__.lower()
+    if name in _BESSEL_LETTERS:
+        return f"{_BESSEL_LETTERS[name]}{expr.args[0]}"
     return {"log": "ln"}.get(name, name)
 
 

@@ -25,6 +25,7 @@ import difflib
 import math
 import re
 import threading
+from collections.abc import Callable
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
@@ -284,6 +285,26 @@ def read_unit(text: Any) -> Unit:
     return _read_cached(" ".join(text.split()))
 
 
+def converter(from_text: str, to_text: str | None) -> Callable[[float], float] | None:
+    """The conversion of an absolute value from one unit to another of the same dimension
+    (``to_text`` None or blank: the SI unit of that dimension), as a function of the
+    value; None where either text is no unit or the dimensions differ. An absolute
+    temperature keeps its offset (20 degC is 293.15 K and 68 degF)."""
+    try:
+        source = read_unit(from_text)
+        target = read_unit(to_text) if to_text and to_text.strip() else \
+            read_unit(source.si_text)
+    except EquationError:
+        return None
+    if source.dimension != target.dimension:
+        return None
+
+    def convert(value: float) -> float:
+        return (value * source.factor + source.offset - target.offset) / target.factor
+
+    return convert
+
+
 def unit_text_problem(text: Any) -> str:
     """What is wrong with unit text before pint reads it ('' if nothing): type, length,
     characters. Cheap and without pint, for checks while typing."""
@@ -483,6 +504,29 @@ def coherent_text(text: str) -> str | None:
     bottom = "*".join(down)
     return (up or "1") + ("" if not down else f"/({bottom})" if len(down) > 1
                           else f"/{bottom}")
+
+
+_FORCE: Dimension = (("[length]", 1.0), ("[mass]", 1.0), ("[time]", -2.0))
+_LENGTH: Dimension = (("[length]", 1.0),)
+
+
+@lru_cache(maxsize=256)
+def moment_text(text: str) -> str | None:
+    """``N*m`` for unit text that is a force times a length (``lbf*ft``, ``kgf*m``,
+    ``ozf*in``: a torque or a moment, also a work), else None. Its dimension is an
+    energy's, whose SI unit alone would read ``J``; the newton metre (SI Brochure, 9th
+    ed., Table 4: J = N m) says what was typed and suits a torque and a work alike."""
+    try:
+        reg = registry()
+        units = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        if len(units) != 2 or any(float(p) != 1.0 for p in units.values()):
+            return None
+        dims = sorted(tuple(sorted((str(n), float(e)) for n, e in
+                                   reg.get_dimensionality(name).items()))
+                      for name in units)
+    except Exception:  # noqa: BLE001 - not a unit pint reads: no moment text
+        return None
+    return "N*m" if dims == sorted([_FORCE, _LENGTH]) else None
 
 
 @lru_cache(maxsize=256)

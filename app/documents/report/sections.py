@@ -178,7 +178,11 @@ def _equation_section(c: _Context) -> list[Flowable]:
         rows.append(("Derivative used by Newton", Paragraph(NUMERICAL_DERIVATIVE_NOTE, st["cell"])))
     else:
         lead = "" if newton_runs else "Newton–Raphson not run; symbolic derivative for reference: "
-        terms = printing.latex_terms(getattr(eq, "symbolic_derivative", None))
+        # typeset in the quantities as typed (no unit's scale factors: the strip's form);
+        # the numbers below are f' of the unknown's number in its unit, as Newton takes it
+        used = getattr(eq, "symbolic_derivative", None)
+        typed = getattr(eq, "quantity_derivative", used)
+        terms = printing.latex_terms(typed)
         images = (_math_lines(f"{words.derivative_heading(eq.unknown)} =", terms, math_width)
                   if terms else None)
         if images is None:
@@ -186,8 +190,12 @@ def _equation_section(c: _Context) -> list[Flowable]:
         # Our own syntax (ln, log10, ^), spaced between factors so a line breaks there and
         # never inside a number.
         formula = printing.breakable(printing.equation_text(eq.derivative))
+        values = "with the parameter values"
+        if typed is not used and getattr(eq, "unknown_unit", None):
+            values += (f", and {eq.unknown} as its number in {eq.unknown_unit} (as Newton "
+                       "takes it)")
         text = Paragraph(
-            _text(lead + "with the parameter values: ") + f"<font name='ZT-Mono'>"
+            _text(f"{lead}{values}: ") + f"<font name='ZT-Mono'>"
             f"{_text(formula)}</font>", st["formula"]
         )
         rows.append(("Derivative used by Newton", [*images, text] if images else text))

@@ -79,6 +79,7 @@ from app.documents.words.runs import (
     method_needs_text,
     method_summary,
     method_title,
+    polish_note,
     reason_legend,
     reason_short,
     reason_text,
@@ -119,6 +120,7 @@ from app.documents.words.tables import (
     BATCH_NOTE_TEXT,
     batch_note_text,
     batch_summary,
+    shared_bracket_advice,
 )
 
 CAUTION = (
@@ -183,6 +185,7 @@ __all__ = [
     "root_row_text",
     "run_account",
     "run_message",
+    "polish_note",
     "start_notes",
     "start_text",
     "stop_line",
@@ -217,4 +220,5 @@ __all__ = [
     "BATCH_NOTE_TEXT",
     "batch_note_text",
     "batch_summary",
+    "shared_bracket_advice",
 ]

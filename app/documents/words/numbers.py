@@ -92,14 +92,16 @@ def si_value_shown(converted: Any) -> float:
 def si_unit_text(converted: Any) -> str:
     """The SI unit of a converted value for people: the unit as entered with each factor
     made coherent where every factor is a prefixed SI unit (kJ/kg -> J/kg, W/(m^2*K^4) as
-    it is), else a derived unit for the compositions engineers use (W/(m^2*K), not
-    kg/(s^3*K)); an angle in rad; '' for a pure ratio (%, ppm: SI writes its unit as the
-    number 1). Files keep ``converted.si_unit``, in base units."""
-    from solvers.units.reading import coherent_text, is_angle, unit_text
+    it is), N*m for a force times a length (lbf*ft: a torque, not "J"), else a derived
+    unit for the compositions engineers use (W/(m^2*K), not kg/(s^3*K)); an angle in
+    rad; '' for a pure ratio (%, ppm: SI writes its unit as the number 1). Files keep
+    ``converted.si_unit``, in base units."""
+    from solvers.units.reading import coherent_text, is_angle, moment_text, unit_text
 
     if not converted.dimension:  # SI's unit of a ratio is 1: an angle says rad, else none
         return "rad" if isinstance(converted.unit, str) and is_angle(converted.unit) else ""
-    return (coherent_text(converted.unit) if isinstance(converted.unit, str) else None) \
+    typed = converted.unit if isinstance(converted.unit, str) else None
+    return (typed and (coherent_text(typed) or moment_text(typed))) \
         or unit_text(converted.dimension, derived=True) or converted.si_unit
 
 

@@ -229,6 +229,26 @@ DETAIL_TEXT: dict[str, Callable[[Sequence[Any]], str]] = {
     "pole": lambda v: (f"|f| grew from {number(v[0], 3)} at the bracket ends to "
                        f"{number(v[1], 3)} as the bracket closed on x = {exact(v[2])}: a pole "
                        "(f -> +-inf) there, not a root"),
+    "pole_capped": lambda v: (f"|f| grew from {number(v[0], 3)} at the bracket ends to "
+                              f"{number(v[1], 3)} on both sides as the bracket narrowed onto "
+                              f"x = {exact(v[2])}, and the iteration cap came first: a pole "
+                              "(f -> +-inf) there, not a root"),
+    "zero_in_noise": lambda v: (f"f is 0.0 beside x too, and {number(v[1], 3)} at "
+                                f"{number(v[0], 3)} from it, a few units of the rounding of "
+                                "its terms: x is a zero of f's rounding noise (as around a "
+                                "multiple root typed out as a polynomial); where the root lies "
+                                "within that noise this does not say: a scan of the range "
+                                "gives the stretch"),
+    "zero_between_noise": lambda v: (f"f is 0.0 at x, and {number(v[1], 3)} at the bracket "
+                                     f"end {number(v[0], 3)} from it, a few units of the "
+                                     "rounding of its terms: x is a zero of f's rounding "
+                                     "noise (as around an odd multiple root typed out as a "
+                                     "polynomial); where the root lies within that noise this "
+                                     "does not say: a scan of the range gives the stretch"),
+    "end_held": lambda v: (f"the bracket end x = {exact(v[0])} stood still for the last "
+                           f"{int(v[1])} iterations: plain false position stalls so on a convex "
+                           "or concave f (every chord lands on the same side of the root); "
+                           "Illinois or Brent on the same bracket moves both ends"),
     "jump": lambda v: (f"f changes sign from {number(v[0], 6)} to {number(v[1], 6)} across "
                        f"[{exact(v[2])}, {exact(v[3])}] (width {number(v[4], 3)}) without "
                        f"approaching 0, and |f| stays that size {number(v[5], 3)} further "
@@ -369,6 +389,9 @@ START_TEXT: dict[str, Callable[[Sequence[float], str], str]] = {
     "x0_default": lambda n, u="": f"x0 not given and no scan range: 1.0{u} used",
     "x1_scan": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: the end nearer x0 of the scan's sign "
                                 f"change [{_g6(n[1])}, {_g6(n[2])}]{u}"),
+    "x1_scan_far": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: the end of the scan's sign change "
+                                    f"[{_g6(n[1])}, {_g6(n[2])}]{u} away from x0 (x0 sits at "
+                                    "the other end)"),
     # x1 = x0 (1 + 1e-4) +- 1e-4 (solvers.pipeline): relative and absolute both, so that
     # x0 = 0 moves too; "1e-4 (relative)" alone misdescribed x1 = 1.0002 from x0 = 1
     "x1_nudged": lambda n, u="": (f"x1 = {_g6(n[0])}{u}: x0 moved away from 0 by 1e-4 of "
@@ -395,6 +418,22 @@ def start_notes(start: Any, unit: str | None = None) -> tuple[str, ...]:
     """How every start value that was not typed was chosen, one sentence each; the values
     in the unknown's ``unit`` (the worksheet's, when it gives one)."""
     return tuple(start_text(c, unit) for c in getattr(start, "choices", ()))
+
+
+def polish_note(settings: Any, unit: str | None = None) -> str:
+    """What a polish of one root started from, and that the typed start values stand.
+
+    ``settings`` are the polish's own (x0 at the root, a bracket a few millionths wide
+    around it, grown until f changes sign); ``unit`` the unknown's.
+    """
+    u = f" {unit}" if unit else ""
+    started = f"x0 = {number(settings.x0, 10)}{u}"  # every digit is in the lanes' tables
+    if settings.bracket is not None:
+        a, b = settings.bracket
+        started += f", bracket [{number(a, 10)}, {number(b, 10)}]{u}"
+    return (f"Polish of the root near {_g6(settings.x0)}{u}: every method started at it "
+            f"({started}). The start values and bracket you typed are kept: Solve and the "
+            "tables of inputs start from them.")
 
 
 # ----------------------------------------------------------------- agreement

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from app.documents.words.numbers import counted
+from app.documents.words.numbers import counted, number
 
 # ----------------------------------------------------------------- tables of inputs
 
@@ -24,6 +24,9 @@ BATCH_NOTE_TEXT: dict[str, str] = {
                      "another branch (the one followed turned back at a turning point between "
                      "the two values, and shorter steps could not follow it): check which root "
                      "you need here",
+    "at_fold": "f' at the root is zero up to rounding (a double root): the branch followed "
+               "turns back at this value (a turning point) and ends here; the next row's "
+               "root lies on another branch",
     "left_range": "the method converged to a root outside the range given for the unknown: "
                   "it is not taken as this branch's root (the row has none), and the next "
                   "row starts from the last root inside the range",
@@ -57,3 +60,27 @@ def batch_summary(batch: Any) -> str:
         text += "; " + "; ".join(_SUMMARY_STOPS.get(r, "{c} stopped on {r}").format(
             c=c, r=r.replace("_", " ")) for r, c in sorted(failed.items()))
     return text
+
+
+def shared_bracket_advice(batch: Any) -> str:
+    """Plain advice when one bracket given to every row failed on most of them ("" else).
+
+    A bracket every row shares (the ``a`` and ``b`` of :attr:`Batch.starts` single
+    numbers, not columns) on which f keeps one sign in more than half the rows does not
+    enclose those rows' roots: the table is not wrong, its bracket is (a narrow bracket
+    around one row's root, say). The values are in the unknown's unit.
+    """
+    starts = getattr(batch, "starts", {})
+    a, b = starts.get("a"), starts.get("b")
+    if not isinstance(a, float) or not isinstance(b, float):
+        return ""
+    missed = batch.counts().get("no_sign_change", 0)
+    if 2 * missed <= batch.size:
+        return ""
+    unit = getattr(batch.equation, "unknown_unit", None)
+    u = f" {unit}" if unit else ""
+    return (f"f has the same sign at both ends of the bracket [{number(a, 6)}, "
+            f"{number(b, 6)}]{u} on {missed} of {counted(batch.size, 'row')}: that bracket, "
+            "shared by every row, does not enclose their roots. Widen it to the range the "
+            "roots can lie in, give each row its own (columns bracket_a and bracket_b), or "
+            "use an open method from x0.")
