@@ -96,7 +96,12 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
             headers: list[str], cells: list[list[str]] | list[tuple[str, ...]],
             names: list[str], columns: list[np.ndarray], extra: dict[str, str]) -> int:
     from app.documents import tables
-    from app.documents.words import batch_note_text, batch_summary, shared_bracket_advice
+    from app.documents.words import (
+        batch_note_text,
+        batch_summary,
+        remarks_text,
+        shared_bracket_advice,
+    )
 
     out = args.out  # checked before the solving (_out_checked)
     if out:
@@ -120,6 +125,8 @@ def _finish(args: argparse.Namespace, equation: Any, batch: Any, constants: dict
     unit = f" [{equation.unknown_unit}]" if equation.unknown_unit else ""
     print(f"unknown:  {equation.unknown}{unit}    method: {batch.method}")
     print(batch_summary(batch))
+    for note in remarks_text(equation.remarks):  # as `solve` notes them
+        print(f"note: {note}")
     advice = shared_bracket_advice(batch)
     if advice:
         print(f"advice: {advice}")

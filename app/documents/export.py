@@ -30,9 +30,12 @@ from app.documents.words import (
     CAUTION,
     DIMENSIONS_UNCHECKED,
     IN_UNKNOWN_UNIT,
+    UNIT_REMARKS,
     confirmed_text,
     located_text,
     measured_text,
+    offset_sums_text,
+    remarks_text,
     residual_units,
     run_message,
     scan_warnings,
@@ -116,6 +119,9 @@ def metadata(
         meta[RESIDUAL_UNIT_KEY] = residual_unit
     if any(getattr(r, "code", "") == "dimensions_unchecked" for r in remarks):
         meta["dimensions"] = DIMENSIONS_UNCHECKED
+    sums = [r.subject for r in remarks if getattr(r, "code", "") == "temperature_offset_sum"]
+    if sums:  # a checker of the file must see it: the root may be 273.15 K off
+        meta["temperatures"] = offset_sums_text(sums)
     if settings:
         meta["settings"] = "; ".join(f"{k}={_setting(v)}" for k, v in settings.items())
     if extra:
@@ -373,6 +379,10 @@ def units_json(equation: Any, columns: Collection[str] = ()) -> dict[str, Any]:
             if name in columns or isinstance(c.value, float)},
         "dimension_check": not any(r.code == "dimensions_unchecked"
                                    for r in equation.remarks),
+        # what the terminal notes about units (degC converted with the offset, a constant
+        # added to such a temperature, the check off): the sentences for people
+        "unit_notes": list(remarks_text(r for r in equation.remarks
+                                        if r.code in UNIT_REMARKS)),
     }
 
 

@@ -35,7 +35,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents.figures import typesetting
-from app.documents.words import remarks_text, residual_name
+from app.documents.words import derivative_heading, remarks_text, residual_name
 from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
 from solvers.pipeline import compiled_for
@@ -592,11 +592,6 @@ class EquationStrip(QWidget):
     def highlighted_position(self) -> int | None:
         selections = self.editor.extraSelections()
         return selections[0].cursor.selectionStart() if selections else None
-
-
-def derivative_heading(unknown: str) -> str:
-    """d(residual)/d(unknown) in mathtext: df/dx, or dF/df when the unknown is f."""
-    return rf"\frac{{d{residual_name(unknown)}}}{{d{unknown}}}"
 
 
 def bold(font: QFont) -> QFont:

@@ -227,6 +227,9 @@ class InputsPanel(QWidget):
         header.setSectionResizeMode(2, QHeaderView.ResizeMode.Interactive)
         header.resizeSection(2, 60)
         header.setMinimumSectionSize(36)  # the note keeps a sliver rather than a scroll bar
+        # a unit cut short keeps its end: "delta_degC" shows as "del…egC", where the
+        # default "delta_…" hid whether it was degC or degF (1.8 times apart)
+        self.parameters_view.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         self.parameters_view.setMaximumHeight(200)
         # tall enough for every parameter up to five (a fixed 80 px showed two and a half)
         self.parameters.modelReset.connect(self._fit_parameter_rows)

@@ -76,6 +76,9 @@ class MethodLane(QFrame):
         self.verdict = QLabel("not run yet")
         self.verdict.setObjectName(f"verdict_{method}")
         self.verdict.setWordWrap(True)
+        # from the top: a verdict longer than its two lines keeps its first words whole
+        # (centred, its first and last lines were cut in half); the tooltip has it all
+        self.verdict.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop)
         fix_lines(self.verdict, 2)
         self.summary = QLabel("")
         self.summary.setObjectName(f"summary_{method}")
@@ -210,10 +213,23 @@ class LanesPanel(QWidget):
         self.agreement = QLabel("Press Solve (Ctrl+Return) to run the methods side by side.")
         self.agreement.setObjectName("agreementNote")
         self.agreement.setWordWrap(True)
-        fix_lines(self.agreement, 3)  # agreement, failures and start-value notes
+        self.agreement.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop)
+        self.agreement.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        # three lines on screen (agreement, failures and start-value notes), fixed so a
+        # new text never re-lays the window out; a longer text (a root below absolute
+        # zero, a long start note) scrolls in place: a fixed-height label alone cut its
+        # first and last lines in half, and what they said was lost
+        self.agreement_area = QScrollArea()
+        self.agreement_area.setObjectName("agreementArea")
+        self.agreement_area.setWidget(self.agreement)
+        self.agreement_area.setWidgetResizable(True)
+        self.agreement_area.setFrameShape(QFrame.Shape.NoFrame)
+        self.agreement_area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.agreement_area.setFocusPolicy(Qt.FocusPolicy.NoFocus)  # Tab visits controls
+        fix_lines(self.agreement_area, 3)
         digits_label, self.digits = digits_box()
         head = QHBoxLayout()
-        head.addWidget(self.agreement, 1)
+        head.addWidget(self.agreement_area, 1)
         head.addWidget(digits_label)
         head.addWidget(self.digits)
         # Lanes keep a readable width; more than fit side by side scroll sideways (six

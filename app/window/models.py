@@ -373,6 +373,8 @@ class ParametersModel(NamedRows, QAbstractTableModel):
                 return row.problem
             if col == 1 and row.value is not None:
                 return repr(row.value)
+            if col == self.UNIT and row.unit:  # whole where the narrow column cuts it
+                return row.unit
         if role == Qt.ItemDataRole.FontRole and col in (0, 1, 2):
             return self._font
         if role == Qt.ItemDataRole.UserRole and col == 1:

@@ -396,6 +396,11 @@ class SystemWindow(QWidget):
             text += (f"\nAt {words.system_method_title(run.method)}'s root: "
                      + words.definitions_line(values, digits,
                                               system.definition_units(derived=True)))
+        # what the units mean for the answer (degC taken in kelvin, a constant added to
+        # such a temperature, the check off), as the terminal and the sheet say it
+        for note in words.remarks_text(r for r in system.remarks
+                                       if r.code in words.UNIT_REMARKS):
+            text += f"\nNote: {note}"
         return text
 
     # -- worksheets

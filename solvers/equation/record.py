@@ -27,7 +27,7 @@ from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.lines import Definition, check_shadowing, read_lines
 from solvers.equation.parser import Check, _is_bad, _Node, snippet
 from solvers.equation.typeset import derivative_latex, typeset
-from solvers.units import Converted, Plan, convert_parameters, plan_for
+from solvers.units import Converted, Plan, convert_parameters, plan_for, read_unit
 
 _TRIG = ("sin", "cos", "tan")
 
@@ -39,7 +39,9 @@ class Remark:
     reason code of :func:`solvers.equation.calculus.derivative`, or "not_compiled";
     numbers: the limit passed, if any), "degrees", "radians", "angle_units" (subject: the
     names whose angle unit is converted to radians; it replaces "radians"), "kinks",
-    "no_dependence" (subject: the unknown), "e_notation". app/documents/words renders them.
+    "no_dependence" (subject: the unknown), "e_notation", "temperature_offset_sum"
+    (subject: a sum as typed that adds a constant to a temperature typed in degC/degF; see
+    solvers.units.temperatures). app/documents/words renders them.
     """
 
     code: str
@@ -273,6 +275,23 @@ class Equation:
         found = dimensions_of([d.expr for d in core.definitions], dims)
         return {d.name: None if dim is None else unit_text(dim, derived=derived)
                 for d, dim in zip(core.definitions, found, strict=True)}
+
+    def in_kelvin(self, x: float) -> float | None:
+        """``x`` (in the unknown's unit) as a thermodynamic temperature in K when the
+        unknown is a temperature (its unit, chosen or implied, a temperature: K, degC,
+        degF, degR), else None. A root below 0 K is no temperature: the documents say so
+        (a correlation written for degC read in kelvin converges there)."""
+        core = self._core
+        plan = None if core is None else core.units
+        if plan is None or not self.unknown_unit:
+            return None
+        try:
+            unit = read_unit(self.unknown_unit)
+        except EquationError:
+            return None
+        if unit.dimension != (("[temperature]", 1.0),):
+            return None
+        return float(x) * plan.scale + plan.offset
 
     def residual_unit(self, derived: bool = False) -> str | None:
         """The SI unit of f = lhs - rhs (what every f(x) value, the residual, is in):

@@ -81,6 +81,10 @@ class System:
     _symbols: tuple[Any, ...] = field(repr=False)
     _xs: tuple[Any, ...] = field(repr=False)
     _definition_exprs: tuple[Any, ...] = field(repr=False, default=())
+    # the same before each unknown's x_SI = scale*x + offset went in (x standing for x_SI):
+    # what the dimensions are read from (an offset of degC is a bare number added to K)
+    _si_exprs: tuple[Any, ...] = field(repr=False, default=())
+    _si_definition_exprs: tuple[Any, ...] = field(repr=False, default=())
     unknown_units: Mapping[str, str | None] = field(default_factory=dict)
     parameter_units: Mapping[str, Converted] = field(default_factory=dict)
     check_dimensions: bool = True
@@ -129,7 +133,7 @@ class System:
     def _definition_units(self, derived: bool) -> dict[str, str | None]:
         if not self.definitions:
             return {}
-        units = self._units_of(self._definition_exprs, derived)
+        units = self._units_of(self._si_definition_exprs or self._definition_exprs, derived)
         return {} if units is None else dict(zip(self.definitions, units, strict=True))
 
     def residual_units(self, derived: bool = False) -> tuple[str | None, ...]:
@@ -141,7 +145,7 @@ class System:
         :meth:`definition_units`."""
         key = f"residual_units_{derived}"
         if key not in self._cache:
-            self._cache[key] = self._units_of(self.exprs, derived) or ()
+            self._cache[key] = self._units_of(self._si_exprs or self.exprs, derived) or ()
         return tuple(self._cache[key])
 
     def _units_of(self, exprs: Any, derived: bool) -> tuple[str | None, ...] | None:
@@ -349,7 +353,7 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
     # each unknown in its unit: x_SI = scale*x + offset, constants compiled in once
     in_si = {x: units.conversions[x.name][0] * x + units.conversions[x.name][1]
              for x in xs if x.name in units.conversions}
-    exprs = []
+    exprs, si_exprs = [], []
     for eq in reading.equations:
         expr = floatify_big(eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr)
         if not isinstance(expr, sp.Basic) or _is_bad(expr):
@@ -358,6 +362,7 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
         if not expr.free_symbols & set(xs):
             raise reading.numbered(_fail(text, "this equation holds none of the unknowns ("
                                          + ", ".join(chosen) + ")", eq.start))
+        si_exprs.append(expr)
         exprs.append(expr.xreplace(in_si) if in_si else expr)
     incidence = tuple(tuple(x in e.free_symbols for x in xs) for e in exprs)
     for j, name in enumerate(chosen):
@@ -384,6 +389,8 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
         _f_code=f_code, _j_code=j_code, _symbols=symbols, _xs=xs,
         _definition_exprs=tuple(d.expr.xreplace(in_si) if in_si else d.expr
                                 for d in reading.definitions),
+        _si_exprs=tuple(si_exprs),
+        _si_definition_exprs=tuple(d.expr for d in reading.definitions),
         unknown_units=units.units,
         parameter_units={n: c for n, c in converted.items() if n in param_names},
         check_dimensions=bool(check_dimensions), remarks=units.remarks)

@@ -68,6 +68,7 @@ def resolve(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
     used = {n: c for n, c in converted.items() if n in symbols}
     remarks = [Remark("absolute_temperature", n) for n, c in used.items()
                if c.absolute_temperature]
+    remarks += _offset_sums(reading, xs, symbols, used, chosen)
     conversions = {x.name: (chosen[x.name].factor, chosen[x.name].offset) for x in xs
                    if x.name in chosen}
     units: dict[str, str | None] = {x.name: (chosen[x.name].text if x.name in chosen
@@ -95,9 +96,28 @@ def resolve(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
     for x, outcome in zip(xs, outcomes, strict=True):
         if x.name in chosen:
             continue
-        units[x.name] = unit_text(outcome.dimension) or None
+        units[x.name] = unit_text(outcome.dimension, derived=True) or None
         if not outcome.fixed:
             remarks.append(Remark("system_dimension_free", x.name))
         elif any(float(e) != int(e) for _n, e in outcome.dimension):
             remarks.append(Remark("unknown_dimension_fractional", x.name))
     return SystemUnits(units, conversions, tuple(remarks))
+
+
+def _offset_sums(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
+                 used: Mapping[str, Converted], chosen: Mapping[str, Unit]) -> list[Remark]:
+    """A remark for each sum adding a constant to a temperature typed in degC/degF (a
+    parameter, or an unknown in such a unit): see solvers.units.temperatures."""
+    absolute = [symbols[n] for n, c in used.items() if c.absolute_temperature]
+    absolute += [x for x in xs if x.name in chosen and chosen[x.name].offset != 0.0]
+    if not absolute:
+        return []
+    from solvers.units.temperatures import kelvin_scale, offset_sums
+
+    others = [symbols[n] for n, c in used.items() if kelvin_scale(c)]
+    others += [x for x in xs if x not in absolute]
+    residuals = [eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr
+                 for eq in reading.equations]
+    return [Remark("temperature_offset_sum", shown)
+            for shown in offset_sums(residuals, absolute, reading.text, reading.spans,
+                                     others)]

@@ -84,12 +84,16 @@ def with_unit(text: str) -> tuple[str, str] | None:
     """``"150 mm"`` -> ("150", "mm"): a number followed by unit text, split (no pint);
     None when the text is not a number followed by something that could be a unit."""
     m = _VALUE_AND_UNIT.fullmatch(text)
-    return (m.group(1), m.group(2)) if m else None
+    return (m.group(1), m.group(2) or m.group(3)) if m else None
 
 
+# A unit starts with a letter (or µ ° % Ω, or a parenthesis), or is a reciprocal typed
+# as handbooks print it, "1/K" (an expansion coefficient), "1/s": that one only after a
+# space or "*", so that "21/s" is never read as 2 in 1/s.
 _VALUE_AND_UNIT = re.compile(
-    r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)(?![eE][+-]?[0-9])\s*\*?\s*"
-    r"([A-Za-zµμ°%Ω(].*?)\s*", re.ASCII | re.DOTALL)
+    r"\s*([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?)(?![eE][+-]?[0-9])"
+    r"(?:\s*\*?\s*([A-Za-zµμ°%Ω(].*?)|(?:\s+\*?|\*)\s*(1\s*/\s*[A-Za-zµμ°%Ω(].*?))\s*",
+    re.ASCII | re.DOTALL)
 
 
 @dataclass(frozen=True)
@@ -206,7 +210,7 @@ class Plan:
     names_at: Mapping[Any, int]  # sympy Symbol -> where its name is first typed
     unit: Unit | None
     check_dimensions: bool
-    cache: dict[Any, Resolution] = field(default_factory=dict)
+    cache: dict[Any, Any] = field(default_factory=dict)  # Resolutions; offset sums
 
     @property
     def scale(self) -> float:
@@ -220,7 +224,7 @@ class Plan:
         """Check the dimensions for these parameter units (cached by their dimensions)."""
         used = {n: c for n, c in converted.items() if n in self.symbols}
         temperatures = tuple(("absolute_temperature", n, ()) for n, c in used.items()
-                             if c.absolute_temperature)
+                             if c.absolute_temperature) + self._offset_sums(used)
         if not used and self.unit is None:
             return Resolution(None, ())
         given_text = None if self.unit is None else self.unit.text
@@ -247,10 +251,37 @@ class Plan:
                 remarks = (("unknown_dimension_fractional", self.unknown.name, ()),
                            *self._suspect_remarks(outcome.dimension, used, typed))
             unit = given_text if given_text is not None else (
-                unit_text(outcome.dimension) or None)
+                unit_text(outcome.dimension, derived=True) or None)
             hit = self.cache[key] = Resolution(unit, remarks)
         return Resolution(hit.unknown_unit, hit.remarks + temperatures)
 
+
+    def _offset_sums(self, used: Mapping[str, Converted]
+                     ) -> tuple[tuple[str, str, tuple[float, ...]], ...]:
+        """("temperature_offset_sum", the sum as typed, ()) for each sum that adds a
+        constant to a temperature typed in degC/degF (see solvers.units.temperatures),
+        cached by which names are such temperatures."""
+        from solvers.units.temperatures import kelvin_scale
+
+        absolute = [self.symbols[n] for n, c in used.items() if c.absolute_temperature]
+        if self.offset != 0.0:
+            absolute.append(self.unknown)
+        if not absolute:
+            return ()
+        others = [self.symbols[n] for n, c in used.items() if kelvin_scale(c)]
+        if self.offset == 0.0:
+            others.append(self.unknown)
+        key = ("offset_sums", frozenset(s.name for s in absolute),
+               frozenset(s.name for s in others))
+        if key not in self.cache:
+            from solvers.units.temperatures import offset_sums
+
+            lhs, rhs, _where = self.sides
+            residual = lhs if rhs is None else lhs - rhs
+            self.cache[key] = tuple(("temperature_offset_sum", shown, ()) for shown in
+                                    offset_sums((residual,), absolute, self.text,
+                                                self.spans, others))
+        return self.cache[key]
 
     def _suspect_remarks(self, dimension: Dimension, used: Mapping[str, Converted],
                          typed: Mapping[Any, str]

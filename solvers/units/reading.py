@@ -9,7 +9,9 @@ factor must be a finite, non-zero double.
 
 pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
 never at start-up; readings are cached by text. The registry adds a few trade
-abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm).
+abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm, psia, bara, lbmol, MMBtu,
+MBH, TR); a pressure marked gauge (psig, barg, kPa(g)) and MBtu (a thousand or a
+million Btu?) are refused with what to type.
 
 Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
 temperatures, converted with their offset (25 degC -> 298.15 K). In a compound unit
@@ -69,7 +71,52 @@ TRADE_UNITS = (
     "cfm = foot ** 3 / minute",
     "MGD = 1e6 * gallon / day = mgd",
     "lbm = pound",
+    # an absolute pressure, as US process datasheets mark it: the same unit (every
+    # pressure zerotrace reads is absolute, or a difference); gauge ones are refused below
+    "psia = psi",
+    "bara = bar",
+    # US process and HVAC practice (NIST SP 811: 1 lb = 0.45359237 kg exactly, so a
+    # pound-mole is 453.59237 mol); M is a thousand there (MBH), MM a million (MMBtu);
+    # a ton of refrigeration, TR, is 12 000 Btu_IT/h (pint read TR as tera x R)
+    "lbmol = 453.59237 * mol = lb_mol = lbmole",
+    "MMBtu = 1e6 * Btu",
+    "MBH = 1e3 * Btu / hour",
+    "TR = ton_of_refrigeration",
 )
+
+# A pressure marked gauge (psig, barg, kPa(g)) is measured from the local atmosphere,
+# which no unit can know; pint would read 'kPa(g)' as kPa times a gram and 'bar(a)' as
+# bar times a year. Such text is refused with what to type instead.
+_PRESSURES = r"(?:psi|bar|[kM]?Pa|atm|mmHg|inHg|kgf/cm\^?2)"
+_GAUGE = re.compile(r"(?<![A-Za-z])(" + _PRESSURES + r")(?:g|\s*\(\s*g\s*\))(?![A-Za-z])")
+_ABSOLUTE = re.compile(r"(?<![A-Za-z])(" + _PRESSURES + r")(?:a|\s*\(\s*a\s*\))(?![A-Za-z])")
+
+
+_THOUSAND_BTU = re.compile(r"(?<![A-Za-z_])MBtu(?:_it)?(?![A-Za-z_])")
+
+
+def _marked_pressure(text: str) -> str:
+    """The refusal of a pressure marked gauge or absolute, or of MBtu ('' for other
+    text): MBtu is a mega-Btu to SI and to pint, a thousand Btu in much US practice (MBH,
+    MMBtu for a million), a factor 1000 either way."""
+    mbtu = _THOUSAND_BTU.search(text)
+    if mbtu:
+        return (f"unit '{mbtu.group(0)}' is ambiguous: a million Btu by the SI prefix, a "
+                "thousand in much US practice; write kBtu for a thousand, MMBtu for a "
+                "million")
+    gauge = _GAUGE.search(text)
+    if gauge:
+        unit = gauge.group(1)
+        return (f"unit '{gauge.group(0)}' is a gauge pressure, measured from the local "
+                f"atmosphere: type the absolute pressure in {unit} (gauge plus the local "
+                "atmospheric pressure; the standard atmosphere is 101.325 kPa, 1.01325 "
+                f"bar, 14.696 psi), or {unit} for a pressure difference")
+    absolute = _ABSOLUTE.search(text)
+    if absolute and absolute.group(0) not in ("psia", "bara"):
+        unit = absolute.group(1)
+        return (f"unit '{absolute.group(0)}': a pressure in {unit} is absolute already; "
+                f"type {unit}")
+    return ""
 
 
 @dataclass(frozen=True)
@@ -177,6 +224,9 @@ def _prefixed_constant(text: str, reg: Any) -> tuple[str, str, str] | None:
 
 @lru_cache(maxsize=512)
 def _read_cached(text: str) -> Unit:
+    marked = _marked_pressure(text)
+    if marked:
+        raise EquationError(marked)
     reg = registry()
     try:
         units = reg.parse_units(text.replace("μ", "µ"))  # Greek mu typed for the micro sign
@@ -271,6 +321,25 @@ def unit_text_problem(text: Any) -> str:
                 "(letters, digits, spaces and * / ^ ( ) . - only)")
     if "__" in stripped or _depth(stripped) > 3:
         return f"unit '{stripped}': cannot be read as a unit"
+    if _HYPHEN.search(stripped):  # US practice writes ft-lbf, Btu/lb-degF
+        meant = _HYPHEN.sub(lambda m: m.group(1) + "*" + m.group(2), stripped)
+        grouped = _PRODUCT_AFTER_SLASH.search(meant)
+        if grouped:
+            names = [grouped.group(1), *re.findall(_UNIT_NAME, grouped.group(2))]
+            meant = (meant[:grouped.start()] + "/(" + "*".join(names) + ")"
+                     + meant[grouped.end():])
+        return f"unit '{stripped}': a hyphen is no product sign; write {meant}"
+    product = _PRODUCT_AFTER_SLASH.search(stripped)
+    if product:
+        below = product.group(1)
+        rest = re.findall(_UNIT_NAME, product.group(2))
+        head = stripped[:product.start()]
+        head = head if re.fullmatch(_UNIT_NAME, head) else f"({head})"
+        meant = (stripped[:product.start()] + "/(" + "*".join([below, *rest]) + ")"
+                 + stripped[product.end():])
+        return (f"unit '{stripped}': a factor multiplied after '{below}' stands on top, "
+                f"not below: it reads as {'*'.join([head, *rest])}/{below}; write {meant} "
+                "if it is below too")
     # Powers only of a name or a group, by one small number or fraction, never chained:
     # pint computes number powers exactly, so 9^9^9^9 would never finish.
     powers = stripped.replace("**", "^")
@@ -283,6 +352,18 @@ def unit_text_problem(text: Any) -> str:
                     "(m^3, s^-2, m^(1/3))")
     return ""
 
+
+# '/', a unit (with its power), then a product with another unit: '*', a '.' or a space
+# before a name, as handbooks print kJ/kg.K or W/m^2 K and mean kJ/(kg*K); pint reads
+# them (as math does) with the second factor on top: kJ*K/kg, a silently wrong unit.
+_UNIT_NAME = r"[A-Za-zµ°Ω_][A-Za-z0-9_µ°Ω]*(?:\s*(?:\^|\*\*)\s*-?[0-9]+(?:\.[0-9]+)?)?"
+_PRODUCT = r"(?:\s*\*(?!\*)\s*|\s*\.(?=\s*[A-Za-zµ°Ω])\s*|\s+(?=[A-Za-zµ°Ω]))"
+_PRODUCT_AFTER_SLASH = re.compile(
+    r"/\s*(" + _UNIT_NAME + r")((?:" + _PRODUCT + _UNIT_NAME + r")+)")
+
+# a hyphen between two names (or a name and a parenthesis): a product as US texts print
+# it (ft-lbf, Btu/hr-ft^2-degF); pint cannot read it, and said only "cannot be read"
+_HYPHEN = re.compile(r"([A-Za-zµ°Ω_)]|\^\d+)\s*-\s*([A-Za-zµ°Ω_(])")
 
 _EXPONENT = re.compile(r"\s*(?:[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?![0-9.])|"
                        r"\(\s*[+-]?[0-9]{1,2}(?:\.[0-9]{1,4})?(?:\s*/\s*[0-9]{1,2})?\s*\))")
@@ -516,6 +597,9 @@ _PREFERRED_PARTS: tuple[tuple[tuple[str, float], ...], ...] = (
     (("N", 1.0), ("m", -1.0)),                  # surface tension, line load, stiffness
     (("Pa", 1.0), ("m", -1.0)),                 # pressure gradient
     (("Pa", -1.0),),                            # compressibility
+    (("J", 1.0), ("mol", -1.0)),                # molar enthalpy, activation energy
+    (("J", 1.0), ("mol", -1.0), ("K", -1.0)),   # molar heat capacity, gas constant
+    (("Pa", 1.0), ("m", 6.0), ("mol", -2.0)),   # a cubic equation of state's a
     (("V", 1.0),),
     (("ohm", 1.0),),
 )

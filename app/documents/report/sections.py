@@ -178,13 +178,12 @@ def _equation_section(c: _Context) -> list[Flowable]:
         rows.append(("Derivative used by Newton", Paragraph(NUMERICAL_DERIVATIVE_NOTE, st["cell"])))
     else:
         lead = "" if newton_runs else "Newton–Raphson not run; symbolic derivative for reference: "
-        fname = "F" if eq.unknown == "f" else "f"  # never "df/df" when the unknown is f
         # typeset in the quantities as typed (no unit's scale factors: the strip's form);
         # the numbers below are f' of the unknown's number in its unit, as Newton takes it
         used = getattr(eq, "symbolic_derivative", None)
         typed = getattr(eq, "quantity_derivative", used)
         terms = printing.latex_terms(typed)
-        images = (_math_lines(f"\\frac{{d{fname}}}{{d{eq.unknown}}} =", terms, math_width)
+        images = (_math_lines(f"{words.derivative_heading(eq.unknown)} =", terms, math_width)
                   if terms else None)
         if images is None:
             lead += "(too long to typeset legibly) "

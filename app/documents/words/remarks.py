@@ -27,6 +27,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
+                          "temperature_offset_sum",
                           "unknown_dimension_free", "unknown_dimension_fractional",
                           "system_dimension_free", "unit_suspect"})
 
@@ -51,6 +52,7 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
     "absolute_temperature": lambda r: f"'{r.subject}' in degC/degF is an absolute temperature, "
                                       "converted to kelvin with the offset (type delta_degC "
                                       "or delta_degF for a difference)",
+    "temperature_offset_sum": lambda r: offset_sums_text([r.subject]),
     "unknown_dimension_free": lambda r: f"the equation does not fix the dimension of "
                                         f"'{r.subject}': it is taken as dimensionless",
     "system_dimension_free": lambda r: f"the equations do not fix the dimension of "
@@ -84,16 +86,33 @@ def remark_text(remark: Any) -> str:
 def remarks_text(remarks: Iterable[Any]) -> tuple[str, ...]:
     """Every remark of an equation (``Equation.remarks``) as sentences, in order; the
     parameters given in degC or degF named in one sentence, where the first of them stands
-    (a heat balance with three temperatures said the same long sentence three times)."""
+    (a heat balance with three temperatures said the same long sentence three times), and
+    the sums adding a constant to such a temperature likewise."""
     remarks = tuple(remarks)
     temperatures = [r.subject for r in remarks if r.code == "absolute_temperature"]
+    sums = [r.subject for r in remarks if r.code == "temperature_offset_sum"]
     out: list[str] = []
     for r in remarks:
-        if r.code != "absolute_temperature" or len(temperatures) == 1:
+        if r.code == "temperature_offset_sum":
+            if r.subject == sums[0]:
+                out.append(offset_sums_text(sums))
+        elif r.code != "absolute_temperature" or len(temperatures) == 1:
             out.append(remark_text(r))
         elif r.subject == temperatures[0]:
             out.append(absolute_temperatures_text(temperatures))
     return tuple(out)
+
+
+def offset_sums_text(sums: Sequence[str]) -> str:
+    """Sums that add a constant to a temperature typed in degC/degF (one sentence)."""
+    quoted = [f"`{s}`" for s in sums]
+    listed = quoted[0] if len(quoted) == 1 else ", ".join(quoted[:-1]) + " and " + quoted[-1]
+    verb = "adds" if len(quoted) == 1 else "add"
+    return (f"{listed} {verb} a constant to a temperature typed in degC/degF, which the "
+            "equation takes in kelvin (95 degC is 368.15 K there): right for a formula "
+            "written for kelvin, but a correlation written for degC, such as Antoine's "
+            "C + T, is then 273.15 K off; for such a correlation give each constant less "
+            "273.15 (C = 220.79 becomes -52.36 K)")
 
 
 def absolute_temperatures_text(names: Sequence[str]) -> str:

@@ -72,6 +72,14 @@ def residual_name(unknown: str) -> str:
     return "F" if unknown == "f" else "f"
 
 
+def derivative_heading(unknown: str) -> str:
+    """d(residual)/d(unknown) in mathtext, the window's and the sheet's: df/dx, dF/df when
+    the unknown is f, and df/d(dT) for a name that itself starts with d (a difference,
+    dT, dV, dp: "ddT" reads as a second derivative)."""
+    shown = f"({unknown})" if unknown.startswith("d") else unknown
+    return rf"\frac{{d{residual_name(unknown)}}}{{d{shown}}}"
+
+
 # The columns of an iteration table (keys are Step fields), as each front end prints them:
 # "screen" for the window's tables, "sheet" with a subscript k for the calculation sheet,
 # "ascii" for a terminal. {u} is the unknown's name, {f} the residual's letter.
@@ -441,6 +449,31 @@ def agreement_text(solution: Any, figures: int = 8) -> str:
     change the start values is for the second case only).
     """
     converged = [r for r in solution.runs if r.converged]
+    return _agreement(solution, converged, figures) + _below_absolute_zero(
+        solution, converged, figures)
+
+
+def _below_absolute_zero(solution: Any, converged: list[Any], figures: int) -> str:
+    """' The root of Newton–Raphson and secant, -451.2 degC (-178 K), is below absolute
+    zero: …' when converged roots are temperatures below 0 K ('' when none is)."""
+    eq = getattr(solution, "equation", None)
+    kelvin = getattr(eq, "in_kelvin", None)
+    if kelvin is None:
+        return ""
+    below = [(r, t) for r in converged
+             if (t := kelvin(r.root)) is not None and t < 0.0]
+    if not below:
+        return ""
+    unit = eq.unknown_unit
+    (first, t) = below[0]
+    shown = number(first.root, figures) + ("" if unit == "K" else f" {unit}")
+    kelvins = "" if unit == "K" else f" ({number(t, figures)} K)"
+    return (f" The root of {method_names(r.method for r, _t in below)}, {shown}{kelvins}, "
+            "is below absolute zero: no temperature; check the equation's temperature "
+            "scale (see the notes on degC).")
+
+
+def _agreement(solution: Any, converged: list[Any], figures: int) -> str:
     groups = solution.agreement.groups
     digits = solution.agreement_digits
     if len(groups) > 1:
