@@ -161,7 +161,7 @@ def _sample_columns(f: Callable[[Any], Any], a: float, b: float, n: int,
     finite = np.isfinite(y)
     band = False
     if finite.sum() > 3:
-        d = np.diff(y)
+        d = np.sign(np.diff(y))  # (signs: a product of steep differences overflows)
         turns = np.count_nonzero((d[:-1] * d[1:]) < 0)
         band = k > 1 and turns > _BAND_EXTREMA * n
     if k == 1:
