@@ -17,12 +17,13 @@ def caution() -> str:
 
 
 def _g(value: float | None, figures: int | None = None) -> str:
-    """A number in the words module's one format: every digit, or ``figures`` of them."""
+    """A number in the words module's one format: every digit, or ``figures`` of them
+    (trailing zeros kept: they are figures asked for)."""
     from app.documents import words
 
     if figures is None:
         return words.exact(value, blank="-")
-    return words.number(value, figures, blank="-")
+    return words.significant(value, figures, blank="-")
 
 
 def _table(header: Sequence[str], rows: Sequence[Sequence[str]]) -> str:

@@ -302,3 +302,12 @@ def test_a_parameter_given_twice_exits_2_naming_it(capsys, command) -> None:
     code, out, err = run(capsys, *command, "--param", "a=1", "--param", "a=4", "--x0", "1")
     assert code == 2 and out == ""
     assert err.strip() == "error: --param a is given more than once; give each parameter once"
+
+
+def test_figures_asked_for_are_all_printed_trailing_zeros_included(capsys) -> None:
+    # x^2 = 6.25: the root 2.5 (closed form) to 6 significant figures is 2.50000
+    assert main(["solve", "x^2 = 6.25", "--x0", "2", "--method", "newton", "--figures",
+                 "6"]) == 0
+    row = next(line for line in capsys.readouterr().out.splitlines()
+               if line.startswith("Newton"))
+    assert row.split()[1] == "2.50000"

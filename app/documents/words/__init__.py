@@ -42,6 +42,7 @@ from app.documents.words.numbers import (
     si_measure_text,
     si_unit_text,
     si_value_shown,
+    significant,
     sweep_text,
 )
 from app.documents.words.remarks import (
@@ -148,6 +149,7 @@ __all__ = [
     "measured_text",
     "not_a_number",
     "number",
+    "significant",
     "order_text",
     "si_unit_text",
     "si_value_shown",

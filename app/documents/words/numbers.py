@@ -35,6 +35,20 @@ def number(value: float | int | None, figures: int = DEFAULT_FIGURES, blank: str
     return _special(value) or f"{value:.{figures}g}"
 
 
+def significant(value: float | int | None, figures: int, blank: str = "") -> str:
+    """``value`` to exactly ``figures`` significant figures, trailing zeros kept (95.1417
+    to 8 figures is 95.141700: the zeros are figures too), for a count of figures asked
+    for by name (``--figures``); otherwise as :func:`number`."""
+    if value is None or isinstance(value, (bool, int)):
+        return number(value, figures, blank)
+    value = float(value)
+    special = _special(value)
+    if special:
+        return special
+    text = f"{value:#.{figures}g}"
+    return text.replace(".e", "e").removesuffix(".")
+
+
 def exact(value: float | int | None, blank: str = "") -> str:
     """Every digit: ``repr`` of a float (reads back as the same double), with the same
     words as :func:`number` for None, NaN and infinities."""
