@@ -74,12 +74,17 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
             print(f"  {line}")
     print(f"\n{words.agreement_text(solution)}")
     if eq.definitions:
+        # one line per distinct text: methods that agree to the figures shown share it
+        lines: dict[tuple[str, str], list[str]] = {}
         for r in solution.runs:
             values = eq.definition_values(r.root)
             where = "the root" if r.converged else f"the {words.LAST_ITERATE}"
-            print(f"{words.method_title(r.method)}, definitions at {where}: "
-                  + words.definitions_line(values, figures or words.DEFAULT_FIGURES,
-                                           eq.definition_units(derived=True)))
+            text = words.definitions_line(values, figures or words.DEFAULT_FIGURES,
+                                          eq.definition_units(derived=True))
+            lines.setdefault((where, text), []).append(r.method)
+        for (where, text), methods in lines.items():
+            names = words.method_names(methods)
+            print(f"{names[:1].upper()}{names[1:]}, definitions at {where}: {text}")
     if steps:
         for r in solution.runs:
             print(f"\n{words.method_title(r.method)}: every iterate")

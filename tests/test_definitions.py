@@ -325,3 +325,16 @@ def test_an_equation_whose_every_name_is_defined_above_says_which_definition_too
     # an equation with no names at all, and no definition to blame, keeps the plain words
     with pytest.raises(EquationError, match="contains no names"):
         parse_equation("A = 2; 3 = 4")
+
+
+def test_methods_whose_definitions_read_alike_share_one_line(capsys):
+    # Re = rho v D / mu = 998 * 2 * 0.1 / 1e-3 = 199600 (arithmetic) whatever f is: the
+    # methods that converge print it once, together
+    from app.cli import main
+
+    assert main(["solve", "Re = rho*v*D/mu; 1/sqrt(f) = -2*log10(2.51/(Re*sqrt(f)))",
+                 "--param", "rho=998", "--param", "v=2", "--param", "D=0.1",
+                 "--param", "mu=1e-3", "--unknown", "f", "--x0", "0.02",
+                 "--method", "newton", "--method", "secant"]) == 0
+    lines = [x for x in capsys.readouterr().out.splitlines() if "definitions at" in x]
+    assert lines == ["Newton–Raphson and secant, definitions at the root: Re = 199600"]
