@@ -418,3 +418,17 @@ def test_the_function_and_convergence_plots_keep_their_legends_off_the_curves(qt
     window.plot.setCurrentIndex(1)
     qtbot.waitUntil(lambda: bool(window.plot.convergence_view.figure.axes), timeout=10_000)
     _legend_above_axes(window.plot.convergence_view.figure)
+
+
+def test_a_failed_lanes_whole_verdict_is_in_its_tooltip(qtbot, window):
+    # the wall sample (invented): plain false position on [0.01, 1.5] of x tan x = Bi keeps
+    # the end 1.5 (the curve is convex there: common practice) and meets its cap; the
+    # record that says so is longer than the lane's two lines, and its hover holds it whole
+    assert window.load_sample("wall-conduction-eigenvalues.json")
+    settle(qtbot, window)
+    qtbot.mouseClick(window.inputs.solve_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: window.solution is not None, timeout=30_000)
+    run = next(r for r in window.solution.runs if r.method == "false_position")
+    assert not run.converged and run.detail.code == "end_held"
+    tip = window.lanes.lanes["false_position"].verdict.toolTip()
+    assert "FAILED" in tip and "stood still for the last 100 iterations" in tip

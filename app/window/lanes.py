@@ -182,7 +182,9 @@ class MethodLane(QFrame):
             return
         self.verdict.setText(verdict_text(run))
         self.verdict.setStyleSheet(OK_STYLE if run.converged else FAILED_STYLE)
-        self.verdict.setToolTip(words.reason_text(run.reason))
+        # the whole verdict, record included: a long one does not fit its two lines
+        self.verdict.setToolTip(verdict_text(run) if not run.converged
+                                else words.reason_text(run.reason))
         self.summary.setText(summary_text(run, self._digits))
         self.summary.setToolTip(f"root = {words.exact(run.root)}\n"
                                 f"{words.run_message(run, *self._named)}")
