@@ -47,10 +47,8 @@ def test_a_reciprocal_unit_splits_and_a_d_name_is_parenthesised(qtbot, window,
     monkeypatch.setattr(equation_strip, "render_png", recording)
     w = window
     type_equation(qtbot, w, "dV = beta*V*dT")
-    view, model = w.inputs.parameters_view, w.inputs.parameters
-    for name, typed in (("beta", "3.4e-3 1/K"), ("V", "2 m^3"), ("dT", "15 delta_degC")):
-        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
-                  shown=typed.split()[0])
+    view, model = fill_values(qtbot, w, (("beta", "3.4e-3 1/K"), ("V", "2 m^3"),
+                                         ("dT", "15 delta_degC")))
     row = model.names().index("beta")
     assert model.index(row, model.UNIT).data() == "1/K"
     settle(qtbot, w)
@@ -75,20 +73,25 @@ def bubble_point_degC() -> float:
     return scipy.optimize.brentq(f, 50.0, 150.0, xtol=1e-14)
 
 
-# 2.2 (the window). Antoine's C typed as a difference beside T in degC gave -178 degC with
-# every method agreeing and nothing said; the status line now says the sum is 273.15 K
-# off for a correlation written for degC, and the constants less 273.15 give the answer.
-def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, window):
-    w = window
-    type_equation(qtbot, w, BUBBLE)
-    choose_unknown_by_keys(qtbot, w, "T")
+def fill_values(qtbot, w, items):
+    """Each (name, typed) value typed into its cell of the parameters table (F2, Return);
+    returns the table's (view, model)."""
     view, model = w.inputs.parameters_view, w.inputs.parameters
-    values = {"p0": "1 mmHg", "Ab": "6.90565", "Bb": "1211.033 K", "Cb": "220.79 delta_degC",
-              "At": "6.95464", "Bt": "1344.8 K", "Ct": "219.482 delta_degC", "xb": "0.4",
-              "P": "760 mmHg"}
-    for name, typed in values.items():
+    items = items.items() if hasattr(items, "items") else items
+    for name, typed in items:
         edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
                   shown=typed.split()[0])
+    return view, model
+
+
+def type_bubble_point(qtbot, w, c_unit: str) -> None:
+    """The invented bubble point typed in: its Antoine constants (C in ``c_unit``), the
+    pressures in mmHg, and the unknown T in degC (Return in the unit box)."""
+    type_equation(qtbot, w, BUBBLE)
+    choose_unknown_by_keys(qtbot, w, "T")
+    fill_values(qtbot, w, {"p0": "1 mmHg", "Ab": "6.90565", "Bb": "1211.033 K",
+                           "Cb": f"220.79 {c_unit}", "At": "6.95464", "Bt": "1344.8 K",
+                           "Ct": f"219.482 {c_unit}", "xb": "0.4", "P": "760 mmHg"})
     unit_box = w.strip.unit_box
     unit_box.setFocus()
     qtbot.keyClicks(unit_box, "degC")
@@ -96,12 +99,18 @@ def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, wind
     qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
                     and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
     settle(qtbot, w)
+
+
+# 2.2 (the window). Antoine's C typed as a difference beside T in degC gave -178 degC with
+# every method agreeing and nothing said; the status line now says the sum is 273.15 K
+# off for a correlation written for degC, and the constants less 273.15 give the answer.
+def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, window):
+    w = window
+    type_bubble_point(qtbot, w, "delta_degC")
     status = w.strip.status.text()
     assert "`Cb + T` and `Ct + T` add a constant" in status and "273.15 K off" in status
-    for name, typed in (("Cb", f"{220.790 - 273.15:.3f} K"),
-                        ("Ct", f"{219.482 - 273.15:.3f} K")):
-        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
-                  shown=typed.split()[0])
+    view, model = fill_values(qtbot, w, (("Cb", f"{220.790 - 273.15:.3f} K"),
+                        ("Ct", f"{219.482 - 273.15:.3f} K")))
     settle(qtbot, w)
     solution = solve_by_keys(qtbot, w)
     newton = next(r for r in solution.runs if r.method == "newton")
@@ -114,11 +123,8 @@ def test_the_status_line_says_a_constant_added_to_a_degc_temperature(qtbot, wind
 def test_a_product_after_a_slash_in_a_unit_cell_is_answered(qtbot, window):
     w = window
     type_equation(qtbot, w, "Q = m*cp*(To - Ti)")
-    view, model = w.inputs.parameters_view, w.inputs.parameters
-    for name, typed in (("m", "2 kg/s"), ("cp", "4.18 kJ/kg.K"), ("To", "30 degC"),
-                        ("Ti", "20 degC")):
-        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
-                  shown=typed.split()[0])
+    view, model = fill_values(qtbot, w, (("m", "2 kg/s"), ("cp", "4.18 kJ/kg.K"), ("To", "30 degC"),
+                        ("Ti", "20 degC")))
     qtbot.waitUntil(lambda: "kJ/(kg*K)" in w.strip.status.text(), timeout=10_000)
     status = w.strip.status.text()
     assert "parameter 'cp'" in status and "it reads as kJ*K/kg" in status
@@ -162,22 +168,7 @@ def test_the_system_window_gives_the_unit_notes_with_the_roots(qtbot, window):
 def test_a_long_agreement_line_scrolls_instead_of_losing_its_ends(qtbot, window):
     w = window
     w.resize(1280, 800)
-    type_equation(qtbot, w, BUBBLE)
-    choose_unknown_by_keys(qtbot, w, "T")
-    view, model = w.inputs.parameters_view, w.inputs.parameters
-    values = {"p0": "1 mmHg", "Ab": "6.90565", "Bb": "1211.033 K", "Cb": "220.79 degC",
-              "At": "6.95464", "Bt": "1344.8 K", "Ct": "219.482 degC", "xb": "0.4",
-              "P": "760 mmHg"}
-    for name, typed in values.items():
-        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
-                  shown=typed.split()[0])
-    unit_box = w.strip.unit_box
-    unit_box.setFocus()
-    qtbot.keyClicks(unit_box, "degC")
-    QTest.keyClick(unit_box, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
-                    and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
-    settle(qtbot, w)
+    type_bubble_point(qtbot, w, "degC")
     solve_by_keys(qtbot, w)
     label, area = w.lanes.agreement, w.lanes.agreement_area
     assert "is below absolute zero: no temperature" in label.text()
@@ -199,10 +190,8 @@ def test_a_long_agreement_line_scrolls_instead_of_losing_its_ends(qtbot, window)
 def test_a_long_unit_keeps_its_end_in_the_parameters_table(qtbot, window):
     w = window
     type_equation(qtbot, w, "Q = m*cp*dT")
-    view, model = w.inputs.parameters_view, w.inputs.parameters
-    for name, typed in (("m", "2 kg/s"), ("cp", "4.18 kJ/(kg*K)"), ("dT", "15 delta_degF")):
-        edit_cell(qtbot, view, model.names().index(name), model.VALUE, typed,
-                  shown=typed.split()[0])
+    view, model = fill_values(qtbot, w, (("m", "2 kg/s"), ("cp", "4.18 kJ/(kg*K)"),
+                                         ("dT", "15 delta_degF")))
     cell = model.index(model.names().index("dT"), model.UNIT)
     assert cell.data(Qt.ItemDataRole.ToolTipRole) == "delta_degF"
     assert view.textElideMode() == Qt.TextElideMode.ElideMiddle

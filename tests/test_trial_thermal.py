@@ -42,6 +42,19 @@ def fin_length_mm(h: float, k: float = 205.0, t: float = 0.002, eta: float = 0.8
                                         1e-6, 10.0, xtol=1e-15)
 
 
+def peng_robinson_z(R: float, Tc: float, Pc: float, w: float, T: float, P: float
+                    ) -> tuple[float, float, list[float]]:
+    """Peng-Robinson's a, b and the sorted real roots Z of its cubic (the published form
+    of the equation; numpy.roots as the reference)."""
+    k = 0.37464 + 1.54226 * w - 0.26992 * w ** 2
+    a = 0.45724 * R ** 2 * Tc ** 2 / Pc * (1 + k * (1 - math.sqrt(T / Tc))) ** 2
+    b = 0.07780 * R * Tc / Pc
+    A, B = a * P / (R * T) ** 2, b * P / (R * T)
+    roots = sorted(np.roots([1, -(1 - B), A - 3 * B ** 2 - 2 * B,
+                             -(A * B - B ** 2 - B ** 3)]).real)
+    return a, b, roots
+
+
 def table_rows(path: Path) -> tuple[list[str], list[dict[str, str]]]:
     lines = path.read_text(encoding="utf-8").splitlines()
     meta = [line for line in lines if line.lstrip('"').startswith("#")]
@@ -721,13 +734,8 @@ def test_the_gas_constant_in_us_units_gives_the_peng_robinson_roots(capsys):
     assert code == 0, err
     psi, lbmol_R = 0.45359237 * 9.80665 / 0.0254 ** 2, 453.59237 * 5 / 9
     R = 10.731577 * 0.3048 ** 3 * psi / lbmol_R
-    Tc, Pc, w, T, P = 547.43 * 5 / 9, 1070 * psi, 0.22394, (44 + 459.67) * 5 / 9, 514.7 * psi
-    k = 0.37464 + 1.54226 * w - 0.26992 * w ** 2
-    a = 0.45724 * R ** 2 * Tc ** 2 / Pc * (1 + k * (1 - math.sqrt(T / Tc))) ** 2
-    b = 0.07780 * R * Tc / Pc
-    A, B = a * P / (R * T) ** 2, b * P / (R * T)
-    expected = sorted(np.roots([1, -(1 - B), A - 3 * B ** 2 - 2 * B,
-                                -(A * B - B ** 2 - B ** 3)]).real)
+    _a, _b, expected = peng_robinson_z(R, 547.43 * 5 / 9, 1070 * psi, 0.22394,
+                                       (44 + 459.67) * 5 / 9, 514.7 * psi)
     got = [r["x"] for r in json.loads(out)["roots"]]
     assert got == pytest.approx(expected, rel=1e-10)
 
@@ -814,13 +822,7 @@ def test_a_cubic_equation_of_states_parameters_are_in_the_trades_units(capsys):
     params = ("--param", "Tc=304.13 K", "--param", "Pc=7.3773 MPa", "--param", "w=0.22394",
               "--param", "R=8.314462618 J/(mol*K)", "--param", "T=280 K",
               "--param", "P=3.5 MPa")
-    R, Tc, Pc, w, T, P = 8.314462618, 304.13, 7.3773e6, 0.22394, 280.0, 3.5e6
-    k = 0.37464 + 1.54226 * w - 0.26992 * w ** 2
-    a = 0.45724 * R ** 2 * Tc ** 2 / Pc * (1 + k * (1 - math.sqrt(T / Tc))) ** 2
-    b = 0.07780 * R * Tc / Pc
-    A, B = a * P / (R * T) ** 2, b * P / (R * T)
-    expected = sorted(np.roots([1, -(1 - B), A - 3 * B ** 2 - 2 * B,
-                                -(A * B - B ** 2 - B ** 3)]).real)
+    a, b, expected = peng_robinson_z(8.314462618, 304.13, 7.3773e6, 0.22394, 280.0, 3.5e6)
     code, out, err = run(capsys, "solve", pr, "--unknown", "Z", *params, "--x0", "1",
                          "--method", "newton", "--figures", "8")
     assert code == 0, err
