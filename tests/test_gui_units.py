@@ -59,6 +59,18 @@ def _row(window, name: str) -> int:
     return window.inputs.parameters.names().index(name)
 
 
+def _typed_in(qtbot, window, equation: str, unknown: str, values: dict[str, str],
+              unit: str) -> None:
+    """The equation typed, its unknown picked, each value typed into its cell, and the
+    unknown's unit into its box (each with Return), as a user sets a problem up."""
+    type_equation(qtbot, window, equation)
+    _choose_unknown(qtbot, window, unknown)
+    model = window.inputs.parameters
+    for name, typed in values.items():
+        _type_cell(qtbot, window, _row(window, name), model.VALUE, typed)
+    _type_field(qtbot, window.strip.unit_box, unit)
+
+
 def test_value_typed_with_its_unit_splits_and_the_root_comes_in_the_unit_box_unit(qtbot,
                                                                                    window):
     # Invented scenario: the bore of a line carrying 35 L/s at 2 ft/s.
@@ -89,12 +101,7 @@ def test_changing_the_unknowns_unit_keeps_the_start_values_physical(qtbot, windo
     # Invented scenario: a bore started at 150 mm, then asked in inches. The start values
     # keep their lengths (NIST SP 811: 1 in = 25.4 mm exactly): 150 mm is 5.90551 in, and
     # the bracket [100, 200] mm is [3.93701, 7.87402] in; the root is the same length.
-    type_equation(qtbot, window, "Q = pi*D^2/4*v")
-    _choose_unknown(qtbot, window, "D")
-    model = window.inputs.parameters
-    _type_cell(qtbot, window, _row(window, "Q"), model.VALUE, "35 L/s")
-    _type_cell(qtbot, window, _row(window, "v"), model.VALUE, "2 m/s")
-    _type_field(qtbot, window.strip.unit_box, "mm")
+    _typed_in(qtbot, window, "Q = pi*D^2/4*v", "D", {"Q": "35 L/s", "v": "2 m/s"}, "mm")
     fields = window.inputs.fields
     for key, text in (("x0", "150"), ("a", "100"), ("b", "200")):
         _type_field(qtbot, fields[key], text)
@@ -144,12 +151,7 @@ def test_a_bad_unit_is_tinted_and_an_unknown_one_named_with_close_names(qtbot, w
 
 def test_switching_the_dimension_check_off_lets_a_correlation_through(qtbot, window):
     # Hazen-Williams-like power law with a constant whose unit is hidden (invented numbers)
-    type_equation(qtbot, window, "Q = k*D^2.63")
-    _choose_unknown(qtbot, window, "D")
-    model = window.inputs.parameters
-    _type_cell(qtbot, window, _row(window, "Q"), model.VALUE, "50 L/s")
-    _type_cell(qtbot, window, _row(window, "k"), model.VALUE, "3.1")
-    _type_field(qtbot, window.strip.unit_box, "mm")
+    _typed_in(qtbot, window, "Q = k*D^2.63", "D", {"Q": "50 L/s", "k": "3.1"}, "mm")
     qtbot.waitUntil(lambda: "does not fit" in window.strip.status.text(), timeout=10_000)
     window.strip.dimension_box.setFocus()
     qtbot.keyClick(window.strip.dimension_box, Qt.Key.Key_Space)  # a real key toggles it
