@@ -204,3 +204,23 @@ def open_tables_window(qtbot: Any, w: Any) -> Any:
     qtbot.keyClick(w.strip.editor, Qt.Key.Key_T, Qt.KeyboardModifier.ControlModifier)
     qtbot.waitUntil(lambda: w.tables is not None and w.tables.isVisible())
     return w.tables
+
+
+def type_into(qtbot: Any, edit: Any, text: str) -> None:
+    """Replace a line edit's text as a user does: focus, select all, delete, type."""
+    from PySide6.QtCore import Qt
+    from PySide6.QtTest import QTest
+
+    edit.setFocus()
+    edit.selectAll()
+    QTest.keyClick(edit, Qt.Key.Key_Delete)
+    qtbot.keyClicks(edit, text)
+
+
+def run_table(qtbot: Any, t: Any) -> None:
+    """Click Run in the tables window and wait for its new results."""
+    from PySide6.QtCore import Qt
+
+    before = t.done
+    qtbot.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)

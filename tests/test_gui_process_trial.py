@@ -21,9 +21,11 @@ pytest.register_assert_rewrite("gui_helpers")
 from gui_helpers import (  # noqa: E402
     edit_cell,
     open_tables_window,
+    run_table,
     settle,
     solve_by_keys,
     type_equation,
+    type_into,
 )
 
 pytest_plugins = ("gui_helpers",)
@@ -118,20 +120,6 @@ def vapour_fraction(z1: float, z2: float, z3: float, k1: float) -> float:
     def f(v: float) -> float:
         return sum(z * (k - 1) / (1 + v * (k - 1)) for z, k in ((z1, k1), (z2, K2), (z3, K3)))
     return scipy.optimize.brentq(f, 0.0, 1.0, xtol=1e-15)
-
-
-def type_into(qtbot, edit, text: str) -> None:
-    edit.setFocus()
-    QTest.keyClick(edit, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
-    QTest.keyClick(edit, Qt.Key.Key_Delete)
-    qtbot.keyClicks(edit, text)
-
-
-def run_table(qtbot, t) -> None:
-    """Click Run in the tables window and wait for its new results."""
-    before = t.done
-    QTest.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
 
 
 def flash_table(qtbot, w):

@@ -14,7 +14,7 @@ import math
 import numpy as np
 import pytest
 import scipy.optimize
-from gui_helpers import open_tables_window  # noqa: E402
+from gui_helpers import open_tables_window, type_into  # noqa: E402
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
@@ -27,13 +27,6 @@ COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
 
 def residual(lam, Re, rr):
     return 1 / math.sqrt(lam) + 2 * math.log10(rr / 3.7 + 2.51 / (Re * math.sqrt(lam)))
-
-
-def type_into(qtbot, edit, text: str) -> None:
-    edit.setFocus()
-    edit.selectAll()
-    QTest.keyClick(edit, Qt.Key.Key_Delete)
-    qtbot.keyClicks(edit, text)
 
 
 def click(qtbot, button) -> None:

@@ -27,7 +27,7 @@ from PySide6.QtGui import QGuiApplication
 from PySide6.QtTest import QTest
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import open_tables_window, settle  # noqa: E402
+from gui_helpers import open_tables_window, run_table, settle, type_into  # noqa: E402
 
 from app.cli import main  # noqa: E402
 
@@ -46,19 +46,6 @@ def double_click_row(qtbot, view, row: int) -> None:
     QTest.mouseClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
     QTest.mouseDClick(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
     QTest.mouseRelease(view.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
-
-
-def type_into(qtbot, edit, text: str) -> None:
-    edit.setFocus()
-    edit.selectAll()
-    QTest.keyClick(edit, Qt.Key.Key_Delete)
-    qtbot.keyClicks(edit, text)
-
-
-def run_table(qtbot, t) -> None:
-    before = t.done
-    qtbot.mouseClick(t.run_button, Qt.MouseButton.LeftButton)
-    qtbot.waitUntil(lambda: t.done is not None and t.done is not before, timeout=20_000)
 
 
 def paste_rows(qtbot, t, text: str) -> None:
