@@ -24,6 +24,7 @@ from app.documents.worksheet import (
     Worksheet,
 )
 from app.window.equation_strip import limit_text
+from solvers.equation.functions import FUNCTIONS
 
 # The window's status bar shows the one-line form; help and about carry the full text.
 CAUTION = CAUTION_LINE
@@ -73,6 +74,10 @@ method, each started at it (a bracket a few millionths wide around it); the star
 and bracket you typed are kept for Solve and the tables of inputs.
 <b>Take as design value</b> (Ctrl+D) records the selected root, and why, for the
 calculation sheet.</p>
+<p><b>Functions:</b> <code>{" ".join(FUNCTIONS)}</code> (J0…K1: the Bessel functions
+of orders 0 and 1; erf and erfc the error functions); constants <code>pi</code> and
+<code>deg</code> (= π/180: <code>sin(30deg)</code>). A bare <code>log</code> is refused:
+write <code>ln</code> or <code>log10</code>.</p>
 <p><b>Definitions.</b> Lines before the equation may define intermediate quantities,
 one per line (or separated by <code>;</code>): <code>A = pi*D^2/4</code>, then
 <code>v = Q/A</code>, then the equation. The parameters table lists only the inputs; the
