@@ -283,6 +283,31 @@ def test_zeros_of_rounding_noise_get_the_scalar_verdict_row_by_row(method):
         assert batch.reason_at(int(i)) in allowed.get(method, set()), (i, batch.reason_at(int(i)))
 
 
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_a_steep_term_underflowing_inside_a_bracket_is_judged_as_the_scalar_method_does(
+        method):
+    # x^n, n odd (closed form: root 0): a 0.0 at a short binary fraction 0.0005 to 0.016
+    # from 0, with the nearer end one exact bit (2^-909 at 2^-9), is underflow, not a
+    # zero of rounding noise; beside rows of (x - 1)^3 typed out, whose 0.0 is noise
+    n = np.array([101.0, 201.0, 101.0, 201.0, 3.0])
+    a = np.array([-1.0, -1.0, -0.0625, -1.0, 0.0])
+    b = np.array([2.0, 2.0, 0.125, 1.5, 2.3])
+    c = (n == 3.0).astype(float)  # x^3 - 3x^2 + 3x - 1 on the last row
+    equation = parse_equation("x^n - c*(3*x^2 - 3*x + 1)", unknown="x",
+                              parameters={"n": 3.0, "c": 1.0})
+    batch = solve_batch(equation, method=method, bracket=(a, b), parameters={"n": n, "c": c})
+    for i in range(n.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+        if run.converged:
+            assert batch.root[i] == run.root
+            root = 1.0 if n[i] == 3.0 else 0.0
+            assert abs(run.root - root) <= (2e-5 if n[i] == 3.0 else 1e-12), (i, run.root)
+        else:
+            assert run.reason in ("not_finite", "max_iterations"), (i, run.reason)
+
+
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     # exp(-x) - 2 exp(-2x): root ln 2; at x = 800 both terms underflow to 0.0.
     equation = parse_equation("exp(-x) - 2*exp(-2*x)", unknown="x")

@@ -324,6 +324,26 @@ def test_a_zero_in_the_rounding_noise_of_a_multiple_root_is_no_underflow(method)
         assert "rounding noise" in run_message(run) and "underflow" not in run_message(run)
 
 
+@pytest.mark.parametrize("n, bracket", [(101, (-1.0, 2.0)), (101, (-0.0625, 0.125)),
+                                         (201, (-1.0, 2.0)), (201, (-1.0, 1.5))])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_steep_term_at_a_short_binary_fraction_is_no_rounding_noise(method, n, bracket):
+    # x^n (n odd; closed form: one root, 0). At the short binary fractions the iterates
+    # land on, x^n is one exact bit (2^-909 at 2^-9, 2.3e-274: "a few units of rounding"
+    # by its bits alone) and 0.0 a factor 4 closer to 0 (underflow): a 0.0 there,
+    # 0.0005 to 0.016 from the root, is no zero of rounding noise (mpmath: x^n there is
+    # below the smallest subnormal, 2^-1074, but not 0: underflow of a single term).
+    run = method(lambda x: x**n, *bracket)
+    assert_record(run)
+    if run.converged:
+        assert abs(run.root) <= tolerance(0.0), (run.reason, run.root, run.detail)
+    else:
+        assert run.reason == "not_finite" and run.detail.code == "underflow_inside"
+        exact = abs(mpmath.mpf(run.root)) ** n
+        assert 0 < exact < mpmath.mpf(2) ** -1074 and abs(run.root) > 1e6 * tolerance(0.0)
+        assert "underflow" in run_message(run)
+
+
 def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
     # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
     # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches

@@ -529,20 +529,21 @@ def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
     value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
     rest = ~(u1 | u2)
     root = rest & _straight_through(x, x1, f1, x2, f2, tol)
-    # the nearer end rounding noise of cancelling terms, far below the start's: a zero of
-    # that noise (no call)
+    # the nearer end perhaps rounding noise of cancelling terms, far below the start's:
+    # those rows look further out where a neighbour is 0.0 too (the scalar rule)
     fa0, fb0 = w.kept(idx, "fa0", "fb0")
     f_near = np.where(np.abs(x - x1) <= np.abs(x - x2), f1, f2)
-    root |= (rest & in_rounding_array(f_near)
+    noise = (in_rounding_array(f_near)
              & (np.abs(f_near) <= _NOISE_FALL * np.maximum(np.abs(fa0), np.abs(fb0))))
     inside = np.zeros(x.size, dtype=bool)
-    ask = rest & ~root
-    if ask.any():
-        far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
-        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask], look=False)
-        where = np.flatnonzero(ask)
-        root[where[verdict]] = True
-        inside[where[~verdict]] = True
+    far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
+    for look in (False, True):
+        ask = rest & ~root & (noise == look)
+        if ask.any():
+            verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask], look=look)
+            where = np.flatnonzero(ask)
+            root[where[verdict]] = True
+            inside[where[~verdict]] = True
     return root, inside, value
 
 
