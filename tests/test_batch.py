@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 
+import mpmath
 import numpy as np
 import pytest
 import scipy.optimize
@@ -306,6 +307,28 @@ def test_a_steep_term_underflowing_inside_a_bracket_is_judged_as_the_scalar_meth
             assert abs(run.root - root) <= (2e-5 if n[i] == 3.0 else 1e-12), (i, run.root)
         else:
             assert run.reason in ("not_finite", "max_iterations"), (i, run.reason)
+
+
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_a_bracket_whose_ends_both_underflow_is_no_root_at_either_end(method):
+    # (x - c) exp(-1/(x - c)^2): root c (closed form); 0.0 in doubles for |x - c| below
+    # 0.0366, where mpmath gives values like 1e-59000, not 0. With both ends there, the
+    # bracket tells nothing: not finite (underflow), as the scalar method says; with
+    # a's 0.0 settled first, b's was read as f within ftol (a "root" 0.003 from c)
+    c = np.array([0.701385077992045, 0.0, 0.5])
+    a = np.array([0.6999345656800252, -1.0, 0.49])
+    b = np.array([0.7040286985811256, 2.0, 0.52])
+    equation = parse_equation("(x - c)*exp(-1/(x - c)^2)", unknown="x", parameters={"c": 0.0})
+    batch = solve_batch(equation, method=method, bracket=(a, b), parameters={"c": c})
+    for i in range(c.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+    assert batch.reason_at(0) == batch.reason_at(2) == "not_finite"
+    assert not batch.converged[[0, 2]].any()
+    d = mpmath.mpf(b[0]) - mpmath.mpf(c[0])
+    exact = d * mpmath.exp(-1 / d**2)  # mpmath: not 0, but far below the least double
+    assert exact != 0 and float(exact) == 0.0
 
 
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():

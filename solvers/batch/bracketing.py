@@ -57,19 +57,21 @@ def start_brackets(w: Work, s: dict[str, Any]) -> None:
     w.keep(a0=w.a, b0=w.b, fa0=w.fa, fb0=w.fb)
     under_a = np.zeros(w.size, dtype=bool)
     under_b = np.zeros(w.size, dtype=bool)
-    for x, fx, under in (("a", "fa", under_a), ("b", "fb", under_b)):
+    for x, fx in (("a", "fa"), ("b", "fb")):
         zero = np.flatnonzero(getattr(w, fx) == 0.0)
         if zero.size:
             at = getattr(w, x)[zero]
             verdict = zero_is_root(w, zero, at, xtol + rtol * np.abs(at))
-            under[zero[~verdict]] = True
+            # (the marks go into the arrays as they are now: the a end's stop compacted
+            # both, and b's underflow marked in the array of before was lost, b's 0.0 then
+            # read as f within ftol)
+            (under_a if x == "a" else under_b)[zero[~verdict]] = True
             code = w.codes()
             code[zero[verdict]] = EXACT
             w.finish(code, getattr(w, x), getattr(w, fx))
             keep = np.ones(code.size, dtype=bool)
             keep[zero[verdict]] = False
             under_a, under_b = under_a[keep], under_b[keep]
-            under = under_a if x == "a" else under_b
     both = (under_a & under_b) | ((w.a == w.b) & (under_a | under_b))
     if both.any():
         w.stop(both, NOT_FIN, w.a, w.fa)
