@@ -331,6 +331,39 @@ def test_a_bracket_whose_ends_both_underflow_is_no_root_at_either_end(method):
     assert exact != 0 and float(exact) == 0.0
 
 
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_capped_rows_on_steep_roots_and_on_poles_get_the_scalar_verdicts(method):
+    # A (x - r) exp(-(x - r)^2) + B/(x - c): with A = 1e6, B = 0 a steep simple root r
+    # between flat tails (closed form); with A = 0, B = 1 a pole at c and no root. At
+    # the cap a bracket narrowed there has |f| above the starting ends in both; the
+    # probes beside it tell them apart, row by row as the scalar method does
+    rng = np.random.default_rng(20261202)
+    n = 200
+    a_coef = np.where(rng.random(n) < 0.5, 1e6, 0.0)
+    r = rng.uniform(-1.0, 1.0, n)
+    c = r + rng.uniform(-0.5, 0.5, n)
+    a, b = r - rng.uniform(0.5, 6.0, n), r + rng.uniform(0.5, 6.0, n)
+    equation = parse_equation("A*(x - r)*exp(-(x - r)^2) + B/(x - c)", unknown="x",
+                              parameters={"A": 1.0, "r": 0.0, "c": 1.0, "B": 0.0})
+    values = {"A": a_coef, "r": r, "c": c, "B": (a_coef == 0.0).astype(float)}
+    poles = 0
+    for cap in (15, 25, 40, 100):
+        batch = solve_batch(equation, method=method, bracket=(a, b), parameters=values,
+                            max_iter=cap)
+        for i in range(n):
+            run = batch.run(i)
+            assert (run.reason, run.iterations, run.evaluations) == (
+                batch.reason_at(i), batch.iterations[i], batch.evaluations[i]) or (
+                run.reason == "x_tolerance"), (cap, i)  # (closed brackets: not this test)
+            capped = run.detail is not None and run.detail.code == "pole_capped"
+            if a_coef[i]:
+                assert not capped, (cap, i, run.detail)
+            elif capped:
+                poles += 1
+                assert abs(run.detail.values[2] - c[i]) <= 1e-3 * (b[i] - a[i])
+    assert poles > 0  # the rule still names the poles it reaches
+
+
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     # exp(-x) - 2 exp(-2x): root ln 2; at x = 800 both terms underflow to 0.0.
     equation = parse_equation("exp(-x) - 2*exp(-2*x)", unknown="x")

@@ -344,6 +344,28 @@ def test_a_steep_term_at_a_short_binary_fraction_is_no_rounding_noise(method, n,
         assert "underflow" in run_message(run)
 
 
+@pytest.mark.parametrize("cap", [20, 21, 22])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_steep_root_between_flat_tails_at_the_cap_is_no_pole(method, cap):
+    # 1e6 (x - r) exp(-(x - r)^2): one simple root r (closed form), slope 1e6 there, |f|
+    # 0.45 and 1.4e-9 at the starting ends r + 4, r - 6. Stopped at the cap on a bracket
+    # 4e-6 wide around r, |f| at its ends (about 2 to 4) is above both starting ends, as
+    # beside a pole; 16 widths out |f| has grown (a root), where beside 1/(x - c) it falls
+    r = 0.3
+
+    def f(x):
+        return 1e6 * (x - r) * math.exp(-((x - r) ** 2))
+
+    run = method(f, r - 6.0, r + 4.0, max_iter=cap)
+    assert_record(run)
+    assert run.detail is None or run.detail.code != "pole_capped", run.detail
+    if not run.converged:  # (false position and Illinois may still crawl on a tail)
+        assert run.reason == "max_iterations"
+    if method is bisection:  # the bracket narrowed onto r: |f| there above the start's
+        assert abs(run.root - r) <= 1e-5 and abs(f(run.root)) > 0.45
+    assert abs(brentq(f, r - 6.0, r + 4.0) - r) <= 1e-12  # scipy: the root is there
+
+
 def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
     # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
     # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches

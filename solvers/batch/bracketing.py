@@ -30,6 +30,7 @@ from solvers.batch.rows import (
     NO_SIGN,
     NOT_FIN,
     Work,
+    capped_verdict,
     carried,
     closed_verdict,
     iterate_zero,
@@ -220,13 +221,17 @@ def _probes(w: Work, s: dict[str, Any], *, closed: tuple[str, str, str, str],
     an exact 0.0 at a new point (:data:`ZERO`, :func:`iterate_zero`: the point and the
     bracket ends around it named by ``point`` and ``ends``); their codes are written in
     ``w.status`` (exact_zero or not_finite for a zero: no end there underflowed)."""
-    from solvers.batch.kernels import PROBE, ZERO
+    from solvers.batch.kernels import CAPPED, CAPPED_KEPT, PROBE, ZERO
 
     idx = np.flatnonzero(w.status >= PROBE)
     code = w.status.take(idx)
     rows = idx[code == PROBE]
     if rows.size:
         w.status[rows] = _verdicts(w, rows, *(getattr(w, n).take(rows) for n in closed))
+    capped = idx[code == CAPPED]
+    if capped.size:  # at the cap: a pole where |f| fell away on both sides
+        pole = capped_verdict(w, capped, *(getattr(w, n).take(capped) for n in closed))
+        w.status[capped] = np.where(pole, NOT_FIN, CAPPED_KEPT)
     zero = idx[code == ZERO]
     if zero.size:
         verdict = np.full(zero.size, -1, dtype=np.int8)

@@ -29,6 +29,7 @@ from solvers.equation import EquationError
 from solvers.equation.compile import in_blocks
 from solvers.methods.bracketing import _CHORD_SHARE, _NOISE_FALL, _SLOPE_SPREAD
 from solvers.methods.common import (
+    _CAPPED_REACH,
     _PROBE_GROWTH,
     _PROBE_REACH,
     _QUANTA,
@@ -592,6 +593,21 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
         decided[np.flatnonzero(ask)[grew]] = True
     code[~decided] = DISCONT
     return code
+
+
+def capped_verdict(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
+    """Element-wise :func:`solvers.methods.common.capped_pole` for the active rows ``idx``
+    stopped at the cap on brackets [x1, x2] (either order; the other arguments those
+    rows' values): f at :func:`solvers.methods.common.capped_probes` (two calls per row,
+    the lower side first), True where |f| fell away on both sides (a pole)."""
+    first = x1 <= x2
+    lo, hi = np.where(first, x1, x2), np.where(first, x2, x1)
+    f_lo, f_hi = np.where(first, f1, f2), np.where(first, f2, f1)
+    reach = _CAPPED_REACH * (hi - lo)
+    p_lo = w.f(lo - reach, idx)
+    p_hi = w.f(hi + reach, idx)
+    return (np.isfinite(p_lo) & np.isfinite(p_hi) & (np.abs(p_lo) < np.abs(f_lo))
+            & (np.abs(p_hi) < np.abs(f_hi)))
 
 
 def central_difference(w: Work, x: np.ndarray, fx: np.ndarray, scale: np.ndarray) -> np.ndarray:

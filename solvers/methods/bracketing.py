@@ -249,7 +249,7 @@ def bisection(
         if hi - lo <= xtol_ + rtol_ * abs(best):
             return closed(best, _step_detail("width", hi - lo, xtol_, rtol_, best))
         if iterations >= cap:
-            reason, why = _capped_reason(lo, flo, hi, fhi, steps)
+            reason, why = _capped_reason(ev, lo, flo, hi, fhi, steps)
             return done(reason, best, why)
         mid = 0.5 * lo + 0.5 * hi
         if not lo < mid < hi:
@@ -326,7 +326,7 @@ def _regula_falsi(
         lo, hi = (xa, xb) if xa < xb else (xb, xa)
         best = xa if abs(fa) < abs(fb) else xb
         if iterations >= cap:
-            reason, why = _capped_reason(xa, fa, xb, fb, steps)
+            reason, why = _capped_reason(ev, xa, fa, xb, fb, steps)
             if why is None and not illinois_rule:
                 why = _held_end(steps)
             return done(reason, best, why)
