@@ -845,6 +845,22 @@ def test_sweep_follows_a_branch_to_its_turning_point_and_says_where_it_ends():
     assert run.steps[0].x == batch.root[first_past - 1]
 
 
+@pytest.mark.parametrize(("text", "name", "values", "root"), [
+    ("(x - 1)*exp(-p)", "p", [0.0, 15.0, 30.0, 45.0], 1.0),
+    ("k*(x - 2) + 0.001*k*(x - 2)^3", "k", [1.0, 1e-7, 1e-14, 1e-21], 2.0),
+])
+def test_a_parameter_that_only_scales_f_is_no_turning_point(text, name, values, root):
+    # closed form: the root stays put (1 and 2) while f' there falls a millionfold and
+    # more from row to row: no fold, the branch goes on (it read at_fold, then a
+    # branch_jump onto the same root)
+    equation = parse_equation(text, unknown="x", parameters={name: values[0]})
+    batch = sweep(equation, name, np.array(values), x0=root + 1.0)
+    assert batch.converged.all()
+    np.testing.assert_allclose(batch.root, root, rtol=0.0, atol=1e-12)
+    assert not {code for _, code in batch.notes} & {"at_fold", "branch_jump",
+                                                    "turning_point"}, batch.notes
+
+
 def test_a_sweep_row_exactly_at_the_turning_point_ends_the_branch_there():
     # x^3 - 3x + c: for c < 2 a branch of roots above 1 falls to the double root x = 1 at
     # c = 2 (f = f' = 0 there: (x - 1)^2 (x + 2)), and beyond c = 2 only the root below
