@@ -251,6 +251,19 @@ def test_a_dead_band_sampled_on_a_coarse_grid_stays_a_run_not_a_root(a, b):
         assert not result.noise_bands, (mode, result.noise_bands)
 
 
+@pytest.mark.parametrize("levels", [64.0, 1024.0])
+def test_a_step_function_oscillating_faster_than_the_samples_is_still_said(levels):
+    # round(L sin(1/x))/L on [1e-3, 1]: sin(1/x) has 318 roots there (closed form: 1/(k pi)
+    # for k = 1..318) and oscillates faster than any sampling near 1e-3. Its values are
+    # few-bit multiples of 1/L, as a rounding staircase's are, but they jump by tens of
+    # quanta between samples: the scan must still say f oscillates too fast to resolve
+    def f(x):
+        return np.round(np.sin(1.0 / x) * levels) / levels
+
+    result = scan(f, 1e-3, 1.0)
+    assert "fast_oscillation" in [d.code for d in result.details]
+
+
 def test_a_run_of_underflow_stays_a_run_and_no_root():
     # exp(-x) - exp(-2x) has its only root at 0 (closed form); on [700, 800] both terms
     # underflow to 0.0 from about x = 745 (IEEE 754 double range): a run of zeros that
