@@ -364,6 +364,34 @@ def test_capped_rows_on_steep_roots_and_on_poles_get_the_scalar_verdicts(method)
     assert poles > 0  # the rule still names the poles it reaches
 
 
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_closed_brackets_on_steep_roots_are_roots_and_on_poles_poles_row_by_row(method):
+    # A (x - r) exp(-(x - r)^2) + B/(x - c): rows of a steep simple root r between flat
+    # tails (closed form; |f| a tolerance from r above |f| at the starting ends) and rows
+    # of a pole at c. The closed bracket's probes beside it tell them apart as the scalar
+    # method does: same reason and root. (The count may differ by the closed-bracket
+    # probe the scalar rule spares with its iterates on record: not this test.)
+    r = np.array([0.12141419671852738, 0.3, -0.4, 0.0, 0.5])
+    a = np.array([-5.794456928967645, -5.7, -6.4, -1.0, 0.1])
+    b = np.array([5.983516542718238, 6.3, 5.6, 1.3, 0.95])
+    steep = np.array([1e6, 1e6, 1e6, 0.0, 0.0])
+    c = np.array([9.0, 9.0, 9.0, 0.3141592653589793, 0.6180339887498949])
+    equation = parse_equation("A*(x - r)*exp(-(x - r)^2) + B/(x - c)", unknown="x",
+                              parameters={"A": 1.0, "r": 0.0, "c": 1.0, "B": 0.0})
+    batch = solve_batch(equation, method=method, bracket=(a, b),
+                        parameters={"A": steep, "r": r, "c": c, "B": (steep == 0.0) * 1.0})
+    for i in range(r.size):
+        run = batch.run(i)
+        assert run.reason == batch.reason_at(i), (i, run.reason, batch.reason_at(i))
+        assert np.isnan(batch.root[i]) or batch.root[i] == run.root
+        pole = run.detail is not None and run.detail.code in ("pole", "pole_capped")
+        assert pole == (steep[i] == 0.0 and run.reason == "not_finite"), (i, run.detail)
+        if steep[i] and run.converged:
+            reference = scipy.optimize.brentq(  # scipy: the root of the row's f
+                lambda x, i=i: steep[i] * (x - r[i]) * math.exp(-((x - r[i]) ** 2)), a[i], b[i])
+            assert abs(run.root - reference) <= 2e-12 and abs(reference - r[i]) <= 1e-12
+
+
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
     # exp(-x) - 2 exp(-2x): root ln 2; at x = 800 both terms underflow to 0.0.
     equation = parse_equation("exp(-x) - 2*exp(-2*x)", unknown="x")

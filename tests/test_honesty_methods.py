@@ -366,6 +366,28 @@ def test_a_steep_root_between_flat_tails_at_the_cap_is_no_pole(method, cap):
     assert abs(brentq(f, r - 6.0, r + 4.0) - r) <= 1e-12  # scipy: the root is there
 
 
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_closed_bracket_on_a_steep_root_between_flat_tails_is_no_pole(method):
+    # 1e6 (x - r) exp(-(x - r)^2): one simple root r (closed form), |f| 3.7e-9 and 7e-9
+    # at the starting ends 6 away, 1e-6 a tolerance from r. A bracket closed on r has |f|
+    # above both starting ends, as a pole's has: bisection said "pole". 16 widths out
+    # |f| grows (a root); beside 1/(x - c) it falls. scipy.optimize.brentq finds r.
+    r, a, b = 0.12141419671852738, -5.794456928967645, 5.983516542718238
+
+    def f(x):
+        return 1e6 * (x - r) * math.exp(-((x - r) ** 2))
+
+    run = method(f, a, b)
+    assert_record(run)
+    assert run.detail is None or run.detail.code not in ("pole", "pole_capped"), run.detail
+    assert abs(brentq(f, a, b) - r) <= tolerance(r)
+    if run.converged:
+        assert abs(run.root - r) <= 2 * tolerance(r)
+    pole = method(lambda x: 1.0 / (x - 0.7), 0.0, 1.5)  # a pole keeps its verdict
+    if pole.reason != "max_iterations" or method is not false_position:  # (it may crawl)
+        assert pole.reason == "not_finite" and pole.detail.code in ("pole", "pole_capped")
+
+
 def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
     # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
     # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches

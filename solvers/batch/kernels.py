@@ -212,7 +212,7 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
                  b0: float, fb0: float) -> int:
     """The verdict on a closed bracket that needs no call of f (the first steps of
     :func:`solvers.batch.rows.closed_verdict`, same tests, same order): ``not_finite``
-    for an end in a stretch of underflow or a pole, ``x_tolerance`` when a starting end
+    for an end in a stretch of underflow, ``x_tolerance`` when a starting end
     shows |f| falling at least as fast as sqrt(distance), else :data:`PROBE`."""
     if x1 < x2:
         lo, flo, hi, fhi = x1, f1, x2, f2
@@ -222,7 +222,7 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
         return NOT_FIN
     near = min(abs(flo), abs(fhi))
     if near > max(abs(fa0), abs(fb0)):
-        return NOT_FIN
+        return PROBE  # a pole, or a steep root: the probes beside the bracket decide
     width = hi - lo
     for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = max(lo - x0, x0 - hi)

@@ -564,6 +564,9 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     under = carried(flo) | carried(fhi)
     near = np.minimum(np.abs(flo), np.abs(fhi))
     pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
+    if pole.any():  # a pole where |f| falls away beside the bracket, else a steep root
+        ip = np.flatnonzero(pole)
+        pole[ip[~capped_verdict(w, idx[ip], lo[ip], flo[ip], hi[ip], fhi[ip])]] = False
     code[under | pole] = NOT_FIN
     open_ = ~under & ~pole
     if not open_.any():

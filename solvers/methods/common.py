@@ -159,10 +159,6 @@ def _finish(
     derivative: str | None = None,
     note: Detail | None = None,
 ) -> Run:
-    if reason == X_TOLERANCE and "bracket" in settings:
-        pole = _pole_detail(root, steps)
-        if pole is not None:
-            reason, detail = NOT_FINITE, pole
     return Run(
         method=method,
         root=float(root),
@@ -412,8 +408,9 @@ def _closed_bracket_reason(
 
     Returns ``(X_TOLERANCE, None)`` for a root, ``(DISCONTINUITY, detail)`` for a jump
     and ``(NOT_FINITE, detail)`` when an end's value underflowed to 0 (f cannot tell
-    where in the underflow the sign changes). A pole is left to :func:`_pole_detail`
-    (its |f| grows as the bracket closes).
+    where in the underflow the sign changes). ``(NOT_FINITE, pole detail)`` for a pole:
+    |f| at the closed bracket above both starting ends (:func:`_pole_detail`) and falling
+    away 16 widths out on both sides (:func:`capped_pole`, two calls).
 
     Near a root f shrinks with the distance: |f| ~ C*d**p, for a power p > 0. Beside a
     jump |f| stays at the height of the jump however small the bracket. So, with ``w``
@@ -435,8 +432,15 @@ def _closed_bracket_reason(
     for x in (lo, hi):
         if x in underflowed:
             return NOT_FINITE, Detail("underflow_stretch", (x,))
-    if _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps):
-        return X_TOLERANCE, None  # _finish reports the pole
+    pole = _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps)
+    if pole is not None:
+        # |f| at the closed bracket above both starting ends: a pole where |f| falls away
+        # 16 widths out on each side (two calls); beside a steep root between flat tails
+        # (1e6 (x - r) exp(-(x - r)**2) from r -+ 6: 1.4e-9 at the ends, 1e-6 a tolerance
+        # from r) it grows, and the tests below judge the bracket
+        p_lo, p_hi = capped_probes(lo, hi)
+        if capped_pole(flo, fhi, lo, hi, ev(p_lo), ev(p_hi)):
+            return NOT_FINITE, pole
     width = hi - lo
     for step in steps:
         distance = max(lo - step.x, step.x - hi)
