@@ -388,6 +388,24 @@ def test_a_closed_bracket_on_a_steep_root_between_flat_tails_is_no_pole(method):
         assert pole.reason == "not_finite" and pole.detail.code in ("pole", "pole_capped")
 
 
+@pytest.mark.parametrize(("a", "b"), [(-5.665949264315424, 9.065518822904679),
+                                    (-16.51014120593127, 26.416225929490032)])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_x_exp_minus_x_squared_on_a_wide_bracket_has_its_root_not_a_pole(method, a, b):
+    # x exp(-x^2): one root, 0 (closed form); at the far ends of the bracket |f| is 1e-13
+    # or less (exp(-32)), below |f| a tolerance from 0: bisection and Brent said "pole".
+    # Beside the closed bracket |f| grows 16-fold: a root (scipy.optimize.brentq agrees)
+    def f(x):
+        return x * math.exp(-x * x)
+
+    run = method(f, a, b)
+    assert_record(run)
+    assert abs(brentq(f, a, b)) <= tolerance(0.0)
+    assert run.detail is None or run.detail.code not in ("pole", "pole_capped"), run.detail
+    if method is not false_position:
+        assert run.converged and abs(run.root) <= 2 * tolerance(0.0), (run.reason, run.root)
+
+
 def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
     # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
     # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches

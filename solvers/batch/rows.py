@@ -564,15 +564,18 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     under = carried(flo) | carried(fhi)
     near = np.minimum(np.abs(flo), np.abs(fhi))
     pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
+    grew = np.zeros(idx.size, dtype=bool)
     if pole.any():  # a pole where |f| falls away beside the bracket, else a steep root
         ip = np.flatnonzero(pole)
-        pole[ip[~capped_verdict(w, idx[ip], lo[ip], flo[ip], hi[ip], fhi[ip])]] = False
+        fell, grew[ip] = beside_verdict(w, idx[ip], lo[ip], flo[ip], hi[ip], fhi[ip])
+        pole[ip[~fell]] = False
+        grew &= ~pole
     code[under | pole] = NOT_FIN
     open_ = ~under & ~pole
     if not open_.any():
         return code
     width = hi - lo
-    decided = ~open_
+    decided = ~open_ | grew  # (|f| grew on both sides beside a steep root: a root)
     # 1. the starting ends (already evaluated): |f| fell at least as fast as sqrt(distance)
     for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = np.maximum(lo - x0, x0 - hi)
@@ -598,19 +601,31 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     return code
 
 
-def capped_verdict(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
-    """Element-wise :func:`solvers.methods.common.capped_pole` for the active rows ``idx``
-    stopped at the cap on brackets [x1, x2] (either order; the other arguments those
-    rows' values): f at :func:`solvers.methods.common.capped_probes` (two calls per row,
-    the lower side first), True where |f| fell away on both sides (a pole)."""
+def beside_verdict(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> tuple[np.ndarray, np.ndarray]:
+    """f at :func:`solvers.methods.common.capped_probes` beside the brackets [x1, x2]
+    (either order) of the active rows ``idx`` (the other arguments those rows' values;
+    two calls per row, the lower side first): (fell, grew), element-wise
+    :func:`solvers.methods.common.capped_pole` (|f| fell away on both sides: a pole) and
+    :func:`solvers.methods.common.grew_beside` (it grew 1.5-fold on both: a root)."""
     first = x1 <= x2
     lo, hi = np.where(first, x1, x2), np.where(first, x2, x1)
     f_lo, f_hi = np.where(first, f1, f2), np.where(first, f2, f1)
     reach = _CAPPED_REACH * (hi - lo)
     p_lo = w.f(lo - reach, idx)
     p_hi = w.f(hi + reach, idx)
-    return (np.isfinite(p_lo) & np.isfinite(p_hi) & (np.abs(p_lo) < np.abs(f_lo))
+    fell = (np.isfinite(p_lo) & np.isfinite(p_hi) & (np.abs(p_lo) < np.abs(f_lo))
             & (np.abs(p_hi) < np.abs(f_hi)))
+    grew = np.ones(idx.size, dtype=bool)
+    for p, e in ((p_lo, f_lo), (p_hi, f_hi)):
+        grew &= (np.isfinite(p) & (p != 0.0) & same_sign(p, e)
+                 & (np.abs(p) >= _PROBE_GROWTH * np.abs(e)))
+    return fell, grew
+
+
+def capped_verdict(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
+    """The rows ``idx`` stopped at the cap on brackets [x1, x2]: True where |f| fell away
+    on both sides (a pole; :func:`beside_verdict`)."""
+    return beside_verdict(w, idx, x1, f1, x2, f2)[0]
 
 
 def central_difference(w: Work, x: np.ndarray, fx: np.ndarray, scale: np.ndarray) -> np.ndarray:

@@ -216,6 +216,14 @@ def capped_pole(f1: float, f2: float, x1: float, x2: float, p_lo: float, p_hi: f
             and abs(p_lo) < abs(f_lo) and abs(p_hi) < abs(f_hi))
 
 
+def grew_beside(f_lo: float, f_hi: float, p_lo: float, p_hi: float) -> bool:
+    """Whether f at the probes beside a closed bracket (``p_lo`` beside the lower end,
+    f there ``f_lo``; ``p_hi`` beside the upper) kept each end's sign and grew at least
+    1.5-fold (:data:`_PROBE_GROWTH`) on both sides: the bracket holds a root."""
+    return all(math.isfinite(p) and p != 0.0 and _same_sign(p, e)
+               and abs(p) >= _PROBE_GROWTH * abs(e) for p, e in ((p_lo, f_lo), (p_hi, f_hi)))
+
+
 def _capped_reason(ev: _Evaluator, x1: float, f1: float, x2: float, f2: float,
                    steps: list[Step]) -> tuple[str, Detail | None]:
     """(reason, detail) for a bracketing run stopped at the iteration cap, its bracket's
@@ -439,8 +447,11 @@ def _closed_bracket_reason(
         # (1e6 (x - r) exp(-(x - r)**2) from r -+ 6: 1.4e-9 at the ends, 1e-6 a tolerance
         # from r) it grows, and the tests below judge the bracket
         p_lo, p_hi = capped_probes(lo, hi)
-        if capped_pole(flo, fhi, lo, hi, ev(p_lo), ev(p_hi)):
+        v_lo, v_hi = ev(p_lo), ev(p_hi)
+        if capped_pole(flo, fhi, lo, hi, v_lo, v_hi):
             return NOT_FINITE, pole
+        if grew_beside(flo, fhi, v_lo, v_hi):
+            return X_TOLERANCE, None  # |f| grew on both sides: a root
     width = hi - lo
     for step in steps:
         distance = max(lo - step.x, step.x - hi)
