@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 
+import mpmath
 import numpy as np
 import pytest
 import scipy.optimize
@@ -281,6 +282,114 @@ def test_zeros_of_rounding_noise_get_the_scalar_verdict_row_by_row(method):
     allowed = {"false_position": {"max_iterations"}, "secant": {"zero_derivative"}}
     for i in np.flatnonzero(~batch.converged[:6]):
         assert batch.reason_at(int(i)) in allowed.get(method, set()), (i, batch.reason_at(int(i)))
+
+
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_a_steep_term_underflowing_inside_a_bracket_is_judged_as_the_scalar_method_does(
+        method):
+    # x^n, n odd (closed form: root 0): a 0.0 at a short binary fraction 0.0005 to 0.016
+    # from 0, with the nearer end one exact bit (2^-909 at 2^-9), is underflow, not a
+    # zero of rounding noise; beside rows of (x - 1)^3 typed out, whose 0.0 is noise
+    n = np.array([101.0, 201.0, 101.0, 201.0, 3.0])
+    a = np.array([-1.0, -1.0, -0.0625, -1.0, 0.0])
+    b = np.array([2.0, 2.0, 0.125, 1.5, 2.3])
+    c = (n == 3.0).astype(float)  # x^3 - 3x^2 + 3x - 1 on the last row
+    equation = parse_equation("x^n - c*(3*x^2 - 3*x + 1)", unknown="x",
+                              parameters={"n": 3.0, "c": 1.0})
+    batch = solve_batch(equation, method=method, bracket=(a, b), parameters={"n": n, "c": c})
+    for i in range(n.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+        if run.converged:
+            assert batch.root[i] == run.root
+            root = 1.0 if n[i] == 3.0 else 0.0
+            assert abs(run.root - root) <= (2e-5 if n[i] == 3.0 else 1e-12), (i, run.root)
+        else:
+            assert run.reason in ("not_finite", "max_iterations"), (i, run.reason)
+
+
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_a_bracket_whose_ends_both_underflow_is_no_root_at_either_end(method):
+    # (x - c) exp(-1/(x - c)^2): root c (closed form); 0.0 in doubles for |x - c| below
+    # 0.0366, where mpmath gives values like 1e-59000, not 0. With both ends there, the
+    # bracket tells nothing: not finite (underflow), as the scalar method says; with
+    # a's 0.0 settled first, b's was read as f within ftol (a "root" 0.003 from c)
+    c = np.array([0.701385077992045, 0.0, 0.5])
+    a = np.array([0.6999345656800252, -1.0, 0.49])
+    b = np.array([0.7040286985811256, 2.0, 0.52])
+    equation = parse_equation("(x - c)*exp(-1/(x - c)^2)", unknown="x", parameters={"c": 0.0})
+    batch = solve_batch(equation, method=method, bracket=(a, b), parameters={"c": c})
+    for i in range(c.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+    assert batch.reason_at(0) == batch.reason_at(2) == "not_finite"
+    assert not batch.converged[[0, 2]].any()
+    d = mpmath.mpf(b[0]) - mpmath.mpf(c[0])
+    exact = d * mpmath.exp(-1 / d**2)  # mpmath: not 0, but far below the least double
+    assert exact != 0 and float(exact) == 0.0
+
+
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_capped_rows_on_steep_roots_and_on_poles_get_the_scalar_verdicts(method):
+    # A (x - r) exp(-(x - r)^2) + B/(x - c): with A = 1e6, B = 0 a steep simple root r
+    # between flat tails (closed form); with A = 0, B = 1 a pole at c and no root. At
+    # the cap a bracket narrowed there has |f| above the starting ends in both; the
+    # probes beside it tell them apart, row by row as the scalar method does
+    rng = np.random.default_rng(20261202)
+    n = 200
+    a_coef = np.where(rng.random(n) < 0.5, 1e6, 0.0)
+    r = rng.uniform(-1.0, 1.0, n)
+    c = r + rng.uniform(-0.5, 0.5, n)
+    a, b = r - rng.uniform(0.5, 6.0, n), r + rng.uniform(0.5, 6.0, n)
+    equation = parse_equation("A*(x - r)*exp(-(x - r)^2) + B/(x - c)", unknown="x",
+                              parameters={"A": 1.0, "r": 0.0, "c": 1.0, "B": 0.0})
+    values = {"A": a_coef, "r": r, "c": c, "B": (a_coef == 0.0).astype(float)}
+    poles = 0
+    for cap in (15, 25, 40, 100):
+        batch = solve_batch(equation, method=method, bracket=(a, b), parameters=values,
+                            max_iter=cap)
+        for i in range(n):
+            run = batch.run(i)
+            assert (run.reason, run.iterations, run.evaluations) == (
+                batch.reason_at(i), batch.iterations[i], batch.evaluations[i]) or (
+                run.reason == "x_tolerance"), (cap, i)  # (closed brackets: not this test)
+            capped = run.detail is not None and run.detail.code == "pole_capped"
+            if a_coef[i]:
+                assert not capped, (cap, i, run.detail)
+            elif capped:
+                poles += 1
+                assert abs(run.detail.values[2] - c[i]) <= 1e-3 * (b[i] - a[i])
+    assert poles > 0  # the rule still names the poles it reaches
+
+
+@pytest.mark.parametrize("method", ["bisection", "false_position", "illinois", "brent"])
+def test_closed_brackets_on_steep_roots_are_roots_and_on_poles_poles_row_by_row(method):
+    # A (x - r) exp(-(x - r)^2) + B/(x - c): rows of a steep simple root r between flat
+    # tails (closed form; |f| a tolerance from r above |f| at the starting ends) and rows
+    # of a pole at c. The closed bracket's probes beside it tell them apart as the scalar
+    # method does: same reason and root. (The count may differ by the closed-bracket
+    # probe the scalar rule spares with its iterates on record: not this test.)
+    r = np.array([0.12141419671852738, 0.3, -0.4, 0.0, 0.5])
+    a = np.array([-5.794456928967645, -5.7, -6.4, -1.0, 0.1])
+    b = np.array([5.983516542718238, 6.3, 5.6, 1.3, 0.95])
+    steep = np.array([1e6, 1e6, 1e6, 0.0, 0.0])
+    c = np.array([9.0, 9.0, 9.0, 0.3141592653589793, 0.6180339887498949])
+    equation = parse_equation("A*(x - r)*exp(-(x - r)^2) + B/(x - c)", unknown="x",
+                              parameters={"A": 1.0, "r": 0.0, "c": 1.0, "B": 0.0})
+    batch = solve_batch(equation, method=method, bracket=(a, b),
+                        parameters={"A": steep, "r": r, "c": c, "B": (steep == 0.0) * 1.0})
+    for i in range(r.size):
+        run = batch.run(i)
+        assert run.reason == batch.reason_at(i), (i, run.reason, batch.reason_at(i))
+        assert np.isnan(batch.root[i]) or batch.root[i] == run.root
+        pole = run.detail is not None and run.detail.code in ("pole", "pole_capped")
+        assert pole == (steep[i] == 0.0 and run.reason == "not_finite"), (i, run.detail)
+        if steep[i] and run.converged:
+            reference = scipy.optimize.brentq(  # scipy: the root of the row's f
+                lambda x, i=i: steep[i] * (x - r[i]) * math.exp(-((x - r[i]) ** 2)), a[i], b[i])
+            assert abs(run.root - reference) <= 2e-12 and abs(reference - r[i]) <= 1e-12
 
 
 def test_an_exact_zero_from_underflow_is_not_a_root_row_by_row():
@@ -762,6 +871,22 @@ def test_sweep_follows_a_branch_to_its_turning_point_and_says_where_it_ends():
     assert all(code != "branch_jump" for k, code in batch.notes if k != first_past)
     run = batch.run(first_past)  # started from the previous row's root
     assert run.steps[0].x == batch.root[first_past - 1]
+
+
+@pytest.mark.parametrize(("text", "name", "values", "root"), [
+    ("(x - 1)*exp(-p)", "p", [0.0, 15.0, 30.0, 45.0], 1.0),
+    ("k*(x - 2) + 0.001*k*(x - 2)^3", "k", [1.0, 1e-7, 1e-14, 1e-21], 2.0),
+])
+def test_a_parameter_that_only_scales_f_is_no_turning_point(text, name, values, root):
+    # closed form: the root stays put (1 and 2) while f' there falls a millionfold and
+    # more from row to row: no fold, the branch goes on (it read at_fold, then a
+    # branch_jump onto the same root)
+    equation = parse_equation(text, unknown="x", parameters={name: values[0]})
+    batch = sweep(equation, name, np.array(values), x0=root + 1.0)
+    assert batch.converged.all()
+    np.testing.assert_allclose(batch.root, root, rtol=0.0, atol=1e-12)
+    assert not {code for _, code in batch.notes} & {"at_fold", "branch_jump",
+                                                    "turning_point"}, batch.notes
 
 
 def test_a_sweep_row_exactly_at_the_turning_point_ends_the_branch_there():

@@ -324,6 +324,88 @@ def test_a_zero_in_the_rounding_noise_of_a_multiple_root_is_no_underflow(method)
         assert "rounding noise" in run_message(run) and "underflow" not in run_message(run)
 
 
+@pytest.mark.parametrize("n, bracket", [(101, (-1.0, 2.0)), (101, (-0.0625, 0.125)),
+                                         (201, (-1.0, 2.0)), (201, (-1.0, 1.5))])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_steep_term_at_a_short_binary_fraction_is_no_rounding_noise(method, n, bracket):
+    # x^n (n odd; closed form: one root, 0). At the short binary fractions the iterates
+    # land on, x^n is one exact bit (2^-909 at 2^-9, 2.3e-274: "a few units of rounding"
+    # by its bits alone) and 0.0 a factor 4 closer to 0 (underflow): a 0.0 there,
+    # 0.0005 to 0.016 from the root, is no zero of rounding noise (mpmath: x^n there is
+    # below the smallest subnormal, 2^-1074, but not 0: underflow of a single term).
+    run = method(lambda x: x**n, *bracket)
+    assert_record(run)
+    if run.converged:
+        assert abs(run.root) <= tolerance(0.0), (run.reason, run.root, run.detail)
+    else:
+        assert run.reason == "not_finite" and run.detail.code == "underflow_inside"
+        exact = abs(mpmath.mpf(run.root)) ** n
+        assert 0 < exact < mpmath.mpf(2) ** -1074 and abs(run.root) > 1e6 * tolerance(0.0)
+        assert "underflow" in run_message(run)
+
+
+@pytest.mark.parametrize("cap", [20, 21, 22])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_steep_root_between_flat_tails_at_the_cap_is_no_pole(method, cap):
+    # 1e6 (x - r) exp(-(x - r)^2): one simple root r (closed form), slope 1e6 there, |f|
+    # 0.45 and 1.4e-9 at the starting ends r + 4, r - 6. Stopped at the cap on a bracket
+    # 4e-6 wide around r, |f| at its ends (about 2 to 4) is above both starting ends, as
+    # beside a pole; 16 widths out |f| has grown (a root), where beside 1/(x - c) it falls
+    r = 0.3
+
+    def f(x):
+        return 1e6 * (x - r) * math.exp(-((x - r) ** 2))
+
+    run = method(f, r - 6.0, r + 4.0, max_iter=cap)
+    assert_record(run)
+    assert run.detail is None or run.detail.code != "pole_capped", run.detail
+    if not run.converged:  # (false position and Illinois may still crawl on a tail)
+        assert run.reason == "max_iterations"
+    if method is bisection:  # the bracket narrowed onto r: |f| there above the start's
+        assert abs(run.root - r) <= 1e-5 and abs(f(run.root)) > 0.45
+    assert abs(brentq(f, r - 6.0, r + 4.0) - r) <= 1e-12  # scipy: the root is there
+
+
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_closed_bracket_on_a_steep_root_between_flat_tails_is_no_pole(method):
+    # 1e6 (x - r) exp(-(x - r)^2): one simple root r (closed form), |f| 3.7e-9 and 7e-9
+    # at the starting ends 6 away, 1e-6 a tolerance from r. A bracket closed on r has |f|
+    # above both starting ends, as a pole's has: bisection said "pole". 16 widths out
+    # |f| grows (a root); beside 1/(x - c) it falls. scipy.optimize.brentq finds r.
+    r, a, b = 0.12141419671852738, -5.794456928967645, 5.983516542718238
+
+    def f(x):
+        return 1e6 * (x - r) * math.exp(-((x - r) ** 2))
+
+    run = method(f, a, b)
+    assert_record(run)
+    assert run.detail is None or run.detail.code not in ("pole", "pole_capped"), run.detail
+    assert abs(brentq(f, a, b) - r) <= tolerance(r)
+    if run.converged:
+        assert abs(run.root - r) <= 2 * tolerance(r)
+    pole = method(lambda x: 1.0 / (x - 0.7), 0.0, 1.5)  # a pole keeps its verdict
+    if pole.reason != "max_iterations" or method is not false_position:  # (it may crawl)
+        assert pole.reason == "not_finite" and pole.detail.code in ("pole", "pole_capped")
+
+
+@pytest.mark.parametrize(("a", "b"), [(-5.665949264315424, 9.065518822904679),
+                                    (-16.51014120593127, 26.416225929490032)])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_x_exp_minus_x_squared_on_a_wide_bracket_has_its_root_not_a_pole(method, a, b):
+    # x exp(-x^2): one root, 0 (closed form); at the far ends of the bracket |f| is 1e-13
+    # or less (exp(-32)), below |f| a tolerance from 0: bisection and Brent said "pole".
+    # Beside the closed bracket |f| grows 16-fold: a root (scipy.optimize.brentq agrees)
+    def f(x):
+        return x * math.exp(-x * x)
+
+    run = method(f, a, b)
+    assert_record(run)
+    assert abs(brentq(f, a, b)) <= tolerance(0.0)
+    assert run.detail is None or run.detail.code not in ("pole", "pole_capped"), run.detail
+    if method is not false_position:
+        assert run.converged and abs(run.root) <= 2 * tolerance(0.0), (run.reason, run.root)
+
+
 def test_newton_at_a_double_root_typed_out_converges_in_its_noise():
     # x^3 - 3x + 2 = (x - 1)^2 (x + 2) (closed form): Newton creeps linearly to the double
     # root and lands on a 0.0 of rounding noise about 5e-9 from it (the noise reaches

@@ -236,6 +236,34 @@ def test_a_run_of_zeros_from_cancellation_is_one_double_root_cluster(reach):
         assert result.samples < 200_000  # no re-scan at 64x over the whole staircase
 
 
+@pytest.mark.parametrize(("a", "b"), [(0.0, 1000.0), (-1000.0, 2000.0)])
+def test_a_dead_band_sampled_on_a_coarse_grid_stays_a_run_not_a_root(a, b):
+    # max(0, x - 600) + min(0, x - 400), a dead band: exactly 0 on [400, 600] (closed form: every
+    # point there a root, no single root at 500). Sampled on a grid of half-integers, f
+    # beside the stretch is 12.5, 25, ... exact multiples of 0.5, few bits as rounding
+    # has, but each value its own: no staircase of rounding, and the stretch stays a run
+    equation = parse_equation("max(0, x - 600) + min(0, x - 400)")
+    for mode in ("derivative", "chebyshev"):
+        result = scan(equation.f, a, b, fprime=equation.fprime, cross_check=mode)
+        codes = [d.code for d in result.details]
+        assert "zero_run" in codes, (mode, codes)
+        assert not any(400.0 <= r.x <= 600.0 for r in result.roots), (mode, result.roots)
+        assert not result.noise_bands, (mode, result.noise_bands)
+
+
+@pytest.mark.parametrize("levels", [64.0, 1024.0])
+def test_a_step_function_oscillating_faster_than_the_samples_is_still_said(levels):
+    # round(L sin(1/x))/L on [1e-3, 1]: sin(1/x) has 318 roots there (closed form: 1/(k pi)
+    # for k = 1..318) and oscillates faster than any sampling near 1e-3. Its values are
+    # few-bit multiples of 1/L, as a rounding staircase's are, but they jump by tens of
+    # quanta between samples: the scan must still say f oscillates too fast to resolve
+    def f(x):
+        return np.round(np.sin(1.0 / x) * levels) / levels
+
+    result = scan(f, 1e-3, 1.0)
+    assert "fast_oscillation" in [d.code for d in result.details]
+
+
 def test_a_run_of_underflow_stays_a_run_and_no_root():
     # exp(-x) - exp(-2x) has its only root at 0 (closed form); on [700, 800] both terms
     # underflow to 0.0 from about x = 745 (IEEE 754 double range): a run of zeros that

@@ -30,6 +30,7 @@ from solvers.batch.rows import (
     NO_SIGN,
     NOT_FIN,
     Work,
+    capped_verdict,
     carried,
     closed_verdict,
     iterate_zero,
@@ -57,19 +58,21 @@ def start_brackets(w: Work, s: dict[str, Any]) -> None:
     w.keep(a0=w.a, b0=w.b, fa0=w.fa, fb0=w.fb)
     under_a = np.zeros(w.size, dtype=bool)
     under_b = np.zeros(w.size, dtype=bool)
-    for x, fx, under in (("a", "fa", under_a), ("b", "fb", under_b)):
+    for x, fx in (("a", "fa"), ("b", "fb")):
         zero = np.flatnonzero(getattr(w, fx) == 0.0)
         if zero.size:
             at = getattr(w, x)[zero]
             verdict = zero_is_root(w, zero, at, xtol + rtol * np.abs(at))
-            under[zero[~verdict]] = True
+            # (the marks go into the arrays as they are now: the a end's stop compacted
+            # both, and b's underflow marked in the array of before was lost, b's 0.0 then
+            # read as f within ftol)
+            (under_a if x == "a" else under_b)[zero[~verdict]] = True
             code = w.codes()
             code[zero[verdict]] = EXACT
             w.finish(code, getattr(w, x), getattr(w, fx))
             keep = np.ones(code.size, dtype=bool)
             keep[zero[verdict]] = False
             under_a, under_b = under_a[keep], under_b[keep]
-            under = under_a if x == "a" else under_b
     both = (under_a & under_b) | ((w.a == w.b) & (under_a | under_b))
     if both.any():
         w.stop(both, NOT_FIN, w.a, w.fa)
@@ -218,13 +221,17 @@ def _probes(w: Work, s: dict[str, Any], *, closed: tuple[str, str, str, str],
     an exact 0.0 at a new point (:data:`ZERO`, :func:`iterate_zero`: the point and the
     bracket ends around it named by ``point`` and ``ends``); their codes are written in
     ``w.status`` (exact_zero or not_finite for a zero: no end there underflowed)."""
-    from solvers.batch.kernels import PROBE, ZERO
+    from solvers.batch.kernels import CAPPED, CAPPED_KEPT, PROBE, ZERO
 
     idx = np.flatnonzero(w.status >= PROBE)
     code = w.status.take(idx)
     rows = idx[code == PROBE]
     if rows.size:
         w.status[rows] = _verdicts(w, rows, *(getattr(w, n).take(rows) for n in closed))
+    capped = idx[code == CAPPED]
+    if capped.size:  # at the cap: a pole where |f| fell away on both sides
+        pole = capped_verdict(w, capped, *(getattr(w, n).take(capped) for n in closed))
+        w.status[capped] = np.where(pole, NOT_FIN, CAPPED_KEPT)
     zero = idx[code == ZERO]
     if zero.size:
         verdict = np.full(zero.size, -1, dtype=np.int8)

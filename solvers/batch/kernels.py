@@ -53,6 +53,11 @@ CLOSED = 103
 SPECIAL = 104
 #: set by the pass: the interpolation's scaling needs ldexp (f beyond the normal doubles)
 EXOTIC = 105
+#: a row at the iteration cap on a bracket narrowed where |f| grew: probes of f beside it
+#: tell a pole from a steep root (:func:`solvers.batch.rows.capped_verdict`)
+CAPPED = 106
+#: the probes found no pole there: the row stops at the cap (``max_iterations``)
+CAPPED_KEPT = 107
 
 
 @intrinsic
@@ -207,7 +212,7 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
                  b0: float, fb0: float) -> int:
     """The verdict on a closed bracket that needs no call of f (the first steps of
     :func:`solvers.batch.rows.closed_verdict`, same tests, same order): ``not_finite``
-    for an end in a stretch of underflow or a pole, ``x_tolerance`` when a starting end
+    for an end in a stretch of underflow, ``x_tolerance`` when a starting end
     shows |f| falling at least as fast as sqrt(distance), else :data:`PROBE`."""
     if x1 < x2:
         lo, flo, hi, fhi = x1, f1, x2, f2
@@ -217,7 +222,7 @@ def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
         return NOT_FIN
     near = min(abs(flo), abs(fhi))
     if near > max(abs(fa0), abs(fb0)):
-        return NOT_FIN
+        return PROBE  # a pole, or a steep root: the probes beside the bracket decide
     width = hi - lo
     for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = max(lo - x0, x0 - hi)
@@ -234,12 +239,13 @@ def _capped_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
                  b0: float, fb0: float) -> int:
     """The verdict on a row stopped at the iteration cap with the bracket [x1, x2] (either
     order): :func:`solvers.methods.common._capped_reason`, same tests, same order
-    (``not_finite`` on a pole the bracket narrowed onto, else ``max_iterations``)."""
+    (:data:`CAPPED` where the bracket narrowed onto a point where |f| grew: the probes
+    beside it decide, else ``max_iterations``)."""
     start = abs(b0 - a0)
     ends = max(abs(fa0), abs(fb0))
     near = min(abs(f1), abs(f2))
     if abs(x2 - x1) <= _CAPPED_SHRINK * start and near > ends:
-        return NOT_FIN
+        return CAPPED
     return MAX_IT
 
 
@@ -295,6 +301,8 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
             row = rows[i]
             code = _capped_code(xb[i], fb[i], xc[i], fc[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
+        elif code == CAPPED_KEPT:
+            code = MAX_IT
         elif code == SPECIAL:
             code, fb[i] = _special(xb[i], fb[i], xa[i], fa[i], xc[i], fc[i], xtol, rtol)
         elif code == EXOTIC:  # the pass's tests passed: the step scaled with ldexp
@@ -318,7 +326,7 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
             else:
                 xb[i] = x_b + (half_tol if m > 0 else -half_tol)
             code = -1
-        if code == PROBE or code == ZERO:
+        if code == PROBE or code == ZERO or code == CAPPED:
             probes += 1
         elif code == RERUN:
             again += 1
@@ -403,9 +411,11 @@ def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0,
             row = rows[i]
             code = _capped_code(e1[i], f1[i], e2[i], f2[i], a0[row], fa0[row], b0[row],
                                 fb0[row])
+        elif code == CAPPED_KEPT:
+            code = MAX_IT
         elif code == SPECIAL:
             code, fx[i] = _special(x[i], fx[i], e1[i], f1[i], e2[i], f2[i], xtol, rtol)
-        if code == PROBE or code == ZERO:
+        if code == PROBE or code == ZERO or code == CAPPED:
             probes += 1
         elif code == RERUN:
             again += 1

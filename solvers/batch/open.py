@@ -157,21 +157,21 @@ class _AtWork:
             fx = np.array(fx, dtype=np.float64)  # the kernels write into f's values
         w.calls += 1
         out = self.out
-        rows = prow[:p]
-        at_x, at_f = out[2][rows], out[3][rows]  # x and f(x) as settled, before the verdicts
-        _kernels().zero_verdicts(p, fx[n:end], prow, w._extra, out[1], out[2], out[3], out[5])
         one, two = fx[n:n + p], fx[n + p:end]
         zero = (one == 0.0) | (two == 0.0)  # (the second probe is read where one is not 0.0)
-        if zero.any():  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
-            tz = np.flatnonzero(zero)
-            root = self.noise_zeros(at_x[tz], self.probes[3][:, tz], s)
-            r = rows[tz]
+        tz = np.flatnonzero(zero)
+        if tz.size:  # x and f(x) as settled, before the verdicts (gathered only for these)
+            r = prow[:p][tz]
+            at_x, at_f = out[2][r], out[3][r]
+        _kernels().zero_verdicts(p, fx[n:end], prow, w._extra, out[1], out[2], out[3], out[5])
+        if tz.size:  # a neighbour at 0.0 too: a zero of rounding noise, or underflow
+            root = self.noise_zeros(at_x, self.probes[3][:, tz], s)
             w._extra[r] += _PLATEAU_CALLS
             out[5][r] += _PLATEAU_CALLS
             ok = r[root]
             out[1][ok] = EXACT
-            out[2][ok] = at_x[tz][root]
-            out[3][ok] = at_f[tz][root]
+            out[2][ok] = at_x[root]
+            out[3][ok] = at_f[root]
         return fx
 
     def noise_zeros(self, xs: np.ndarray, parts: np.ndarray, s: dict[str, Any]) -> np.ndarray:

@@ -29,6 +29,7 @@ from solvers.equation import EquationError
 from solvers.equation.compile import in_blocks
 from solvers.methods.bracketing import _CHORD_SHARE, _NOISE_FALL, _SLOPE_SPREAD
 from solvers.methods.common import (
+    _CAPPED_REACH,
     _PROBE_GROWTH,
     _PROBE_REACH,
     _QUANTA,
@@ -529,20 +530,21 @@ def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
     value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
     rest = ~(u1 | u2)
     root = rest & _straight_through(x, x1, f1, x2, f2, tol)
-    # the nearer end rounding noise of cancelling terms, far below the start's: a zero of
-    # that noise (no call)
+    # the nearer end perhaps rounding noise of cancelling terms, far below the start's:
+    # those rows look further out where a neighbour is 0.0 too (the scalar rule)
     fa0, fb0 = w.kept(idx, "fa0", "fb0")
     f_near = np.where(np.abs(x - x1) <= np.abs(x - x2), f1, f2)
-    root |= (rest & in_rounding_array(f_near)
+    noise = (in_rounding_array(f_near)
              & (np.abs(f_near) <= _NOISE_FALL * np.maximum(np.abs(fa0), np.abs(fb0))))
     inside = np.zeros(x.size, dtype=bool)
-    ask = rest & ~root
-    if ask.any():
-        far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
-        verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask], look=False)
-        where = np.flatnonzero(ask)
-        root[where[verdict]] = True
-        inside[where[~verdict]] = True
+    far = np.where(np.abs(x - x1) <= np.abs(x - x2), x2, x1)
+    for look in (False, True):
+        ask = rest & ~root & (noise == look)
+        if ask.any():
+            verdict = zero_is_root(w, idx[ask], x[ask], tol[ask], far[ask], look=look)
+            where = np.flatnonzero(ask)
+            root[where[verdict]] = True
+            inside[where[~verdict]] = True
     return root, inside, value
 
 
@@ -562,12 +564,18 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     under = carried(flo) | carried(fhi)
     near = np.minimum(np.abs(flo), np.abs(fhi))
     pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
+    grew = np.zeros(idx.size, dtype=bool)
+    if pole.any():  # a pole where |f| falls away beside the bracket, else a steep root
+        ip = np.flatnonzero(pole)
+        fell, grew[ip] = beside_verdict(w, idx[ip], lo[ip], flo[ip], hi[ip], fhi[ip])
+        pole[ip[~fell]] = False
+        grew &= ~pole
     code[under | pole] = NOT_FIN
     open_ = ~under & ~pole
     if not open_.any():
         return code
     width = hi - lo
-    decided = ~open_
+    decided = ~open_ | grew  # (|f| grew on both sides beside a steep root: a root)
     # 1. the starting ends (already evaluated): |f| fell at least as fast as sqrt(distance)
     for x0, f0 in ((a0, fa0), (b0, fb0)):
         distance = np.maximum(lo - x0, x0 - hi)
@@ -591,6 +599,33 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
         decided[np.flatnonzero(ask)[grew]] = True
     code[~decided] = DISCONT
     return code
+
+
+def beside_verdict(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> tuple[np.ndarray, np.ndarray]:
+    """f at :func:`solvers.methods.common.capped_probes` beside the brackets [x1, x2]
+    (either order) of the active rows ``idx`` (the other arguments those rows' values;
+    two calls per row, the lower side first): (fell, grew), element-wise
+    :func:`solvers.methods.common.capped_pole` (|f| fell away on both sides: a pole) and
+    :func:`solvers.methods.common.grew_beside` (it grew 1.5-fold on both: a root)."""
+    first = x1 <= x2
+    lo, hi = np.where(first, x1, x2), np.where(first, x2, x1)
+    f_lo, f_hi = np.where(first, f1, f2), np.where(first, f2, f1)
+    reach = _CAPPED_REACH * (hi - lo)
+    p_lo = w.f(lo - reach, idx)
+    p_hi = w.f(hi + reach, idx)
+    fell = (np.isfinite(p_lo) & np.isfinite(p_hi) & (np.abs(p_lo) < np.abs(f_lo))
+            & (np.abs(p_hi) < np.abs(f_hi)))
+    grew = np.ones(idx.size, dtype=bool)
+    for p, e in ((p_lo, f_lo), (p_hi, f_hi)):
+        grew &= (np.isfinite(p) & (p != 0.0) & same_sign(p, e)
+                 & (np.abs(p) >= _PROBE_GROWTH * np.abs(e)))
+    return fell, grew
+
+
+def capped_verdict(w: Work, idx: np.ndarray, x1, f1, x2, f2) -> np.ndarray:
+    """The rows ``idx`` stopped at the cap on brackets [x1, x2]: True where |f| fell away
+    on both sides (a pole; :func:`beside_verdict`)."""
+    return beside_verdict(w, idx, x1, f1, x2, f2)[0]
 
 
 def central_difference(w: Work, x: np.ndarray, fx: np.ndarray, scale: np.ndarray) -> np.ndarray:

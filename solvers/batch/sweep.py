@@ -108,7 +108,8 @@ def sweep(
     point, and another branch was found),
     ``turning_point`` (f' at the root changed sign from the previous row: the root is on
     another branch, past a fold), ``at_fold`` (|f'| at the root fell below
-    :data:`FOLD_SHARE` of its value at the branch's previous root: a double root, the
+    :data:`FOLD_SHARE` of f' at the branch's previous root, both at this row's value (a
+    parameter that only scales f is no fold): a double root, the
     branch's turning point itself; the branch ends there and the next row's root gets
     ``branch_jump``), ``continued`` (reached through intermediate values),
     ``left_range`` (the method converged to a root outside ``bounds``: that row
@@ -290,8 +291,11 @@ def sweep(
         if last_slope is not None and branch and math.isfinite(slope) and slope * last_slope < 0:
             notes.append((k, "turning_point"))
         elif (last_slope is not None and branch and math.isfinite(slope)
-              and abs(slope) <= FOLD_SHARE * abs(last_slope)):
-            # the branch's own turning point: it ends here (the next row cannot follow it)
+              and abs(slope) <= FOLD_SHARE * abs(_slope(bound, branch[-1][1]))):
+            # the branch's own turning point: it ends here (the next row cannot follow it).
+            # f' at the last row's root is taken at this row's value: a parameter that
+            # scales f ((x - 1) exp(-p) from p = 0 to 15: f' falls 3e6-fold, the root stays
+            # at 1) moves f' at both roots alike, a fold only at this one
             notes.append((k, "at_fold"))
             after_fold = True
         last_slope = slope if math.isfinite(slope) else last_slope

@@ -141,15 +141,18 @@ def _iterate_zero(
     ends within a factor 1024 of the chord's (f close to a straight line through x,
     with no drop of hundreds of orders of magnitude towards x as exp(-1/x**2) has),
     and that slope times ``tol`` at least 1024 times the smallest normal double (a
-    stretch of underflow around a root there is far narrower than ``tol``). Nor when
-    f at the nearer end is a few units of the rounding of normal-sized terms
+    stretch of underflow around a root there is far narrower than ``tol``).
+    Where f at the nearer end is a few units of the rounding of normal-sized terms
     (:func:`solvers.methods.common.in_rounding`) and 2**-30 of ``start`` or less (f fell
-    that far, to its rounding noise: an end of -2 is a round number, no noise): x is
-    then a zero of f's rounding noise (``zero_between_noise``: an odd multiple root
-    typed out as a polynomial), where underflow would need f's terms to fall from that
-    end's size (1e-274 at least) below 1e-308 on the way.
-    A 0.0 beside x otherwise stops the method (not finite), without the open methods'
-    look further out: the bracket ends are the method's evidence.
+    that far, perhaps to its rounding noise: an end of -2 is a round number, no noise),
+    a 0.0 beside x is followed by the open methods' look further out
+    (:func:`solvers.methods.common._rounding_plateau`, 32 calls): x is a zero of f's
+    rounding noise (``zero_between_noise``: an odd multiple root typed out as a
+    polynomial) when f there is a few units of its terms' rounding. The end alone is no
+    evidence: a steep single term is a few bits too at the short binary fractions the
+    iterates land on, and falls from 1e-274 to underflow within a factor of 4 in x
+    (x**101 is 2**-909 at 2**-9 and 0.0 at 2**-11, 0.0005 from its root 0).
+    A 0.0 beside x otherwise stops the method (not finite), without that look.
     """
     (x1, f1), (x2, f2) = ends
     for end, value in ((x1, f1), (x2, f2)):
@@ -160,12 +163,14 @@ def _iterate_zero(
     if _straight_through(x, x1, f1, x2, f2, tol):
         return 0.0, EXACT_ZERO, None
     near, f_near = (x1, f1) if abs(x - x1) <= abs(x - x2) else (x2, f2)
-    if in_rounding(f_near) and abs(f_near) <= _NOISE_FALL * start:
-        # the nearer end is rounding noise of cancelling terms: x, a 0.0 beyond it inside
-        # the bracket, is a zero of that noise (a multiple root typed out), not underflow
-        return 0.0, EXACT_ZERO, Detail("zero_between_noise", (abs(x - near), abs(f_near)))
-    if _zero_is_root(ev, x, tol, toward=far, look=False)[0]:
-        return 0.0, EXACT_ZERO, None
+    # the nearer end may be rounding noise of cancelling terms (x then a zero of that
+    # noise, a multiple root typed out): f's own look further out decides, since a few
+    # bits at an end are also what a steep single term gives at the short binary
+    # fractions the iterates land on (x**101 is 2**-909 at 2**-9, 0.0 at 2**-11)
+    noise = in_rounding(f_near) and abs(f_near) <= _NOISE_FALL * start
+    if _zero_is_root(ev, x, tol, toward=far, look=noise)[0]:
+        return 0.0, EXACT_ZERO, (
+            Detail("zero_between_noise", (abs(x - near), abs(f_near))) if noise else None)
     return 0.0, NOT_FINITE, _interior_underflow(x, *bracket)
 
 
@@ -244,7 +249,7 @@ def bisection(
         if hi - lo <= xtol_ + rtol_ * abs(best):
             return closed(best, _step_detail("width", hi - lo, xtol_, rtol_, best))
         if iterations >= cap:
-            reason, why = _capped_reason(lo, flo, hi, fhi, steps)
+            reason, why = _capped_reason(ev, lo, flo, hi, fhi, steps)
             return done(reason, best, why)
         mid = 0.5 * lo + 0.5 * hi
         if not lo < mid < hi:
@@ -321,7 +326,7 @@ def _regula_falsi(
         lo, hi = (xa, xb) if xa < xb else (xb, xa)
         best = xa if abs(fa) < abs(fb) else xb
         if iterations >= cap:
-            reason, why = _capped_reason(xa, fa, xb, fb, steps)
+            reason, why = _capped_reason(ev, xa, fa, xb, fb, steps)
             if why is None and not illinois_rule:
                 why = _held_end(steps)
             return done(reason, best, why)

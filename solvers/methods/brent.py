@@ -104,7 +104,7 @@ def brent(
             width = abs(xc - xb)
             return closed(_step_detail("width", width, xtol_, rtol_, xb))
         if iterations >= cap:
-            reason, why = _capped_reason(xb, fb, xc, fc, steps)
+            reason, why = _capped_reason(ev, xb, fb, xc, fc, steps)
             return done(reason, xb, why)
 
         # A value that underflowed has a sign but no size to interpolate with: bisect.

@@ -159,10 +159,6 @@ def _finish(
     derivative: str | None = None,
     note: Detail | None = None,
 ) -> Run:
-    if reason == X_TOLERANCE and "bracket" in settings:
-        pole = _pole_detail(root, steps)
-        if pole is not None:
-            reason, detail = NOT_FINITE, pole
     return Run(
         method=method,
         root=float(root),
@@ -198,9 +194,37 @@ def _pole_detail(root: float, steps: list[Step]) -> Detail | None:
 # A bracket stopped at the iteration cap is local to a point once it has shrunk this much
 # (the reach of the closed-bracket probes, the other way round).
 _CAPPED_SHRINK = 2.0**-20
+# How far out (in widths of the capped bracket) f is asked whether |f| falls away from
+# it (a pole) or grows (a root): well inside the starting bracket (16 <= 2**20 widths)
+_CAPPED_REACH = 16.0
 
 
-def _capped_reason(x1: float, f1: float, x2: float, f2: float,
+def capped_probes(x1: float, x2: float) -> tuple[float, float]:
+    """The two points beside a capped bracket [x1, x2] (either order) where f is asked:
+    :data:`_CAPPED_REACH` widths out on each side, the lower side first."""
+    lo, hi = (x1, x2) if x1 <= x2 else (x2, x1)
+    reach = _CAPPED_REACH * (hi - lo)
+    return lo - reach, hi + reach
+
+
+def capped_pole(f1: float, f2: float, x1: float, x2: float, p_lo: float, p_hi: float) -> bool:
+    """Whether |f| fell away from a capped bracket on both sides: f at the probes
+    :func:`capped_probes` (``p_lo`` beside the lower end, ``p_hi`` the upper) finite and
+    below |f| at the end it lies beside (a pole: |f| ~ 1/d; beside a root |f| grows)."""
+    f_lo, f_hi = (f1, f2) if x1 <= x2 else (f2, f1)
+    return (math.isfinite(p_lo) and math.isfinite(p_hi)
+            and abs(p_lo) < abs(f_lo) and abs(p_hi) < abs(f_hi))
+
+
+def grew_beside(f_lo: float, f_hi: float, p_lo: float, p_hi: float) -> bool:
+    """Whether f at the probes beside a closed bracket (``p_lo`` beside the lower end,
+    f there ``f_lo``; ``p_hi`` beside the upper) kept each end's sign and grew at least
+    1.5-fold (:data:`_PROBE_GROWTH`) on both sides: the bracket holds a root."""
+    return all(math.isfinite(p) and p != 0.0 and _same_sign(p, e)
+               and abs(p) >= _PROBE_GROWTH * abs(e) for p, e in ((p_lo, f_lo), (p_hi, f_hi)))
+
+
+def _capped_reason(ev: _Evaluator, x1: float, f1: float, x2: float, f2: float,
                    steps: list[Step]) -> tuple[str, Detail | None]:
     """(reason, detail) for a bracketing run stopped at the iteration cap, its bracket's
     ends x1, x2 (either order) with f there f1, f2.
@@ -209,8 +233,12 @@ def _capped_reason(x1: float, f1: float, x2: float, f2: float,
     tolerance: plain false position keeps one end nearly fixed and creeps up a pole of
     1/(x - c) a little at a time, so the cap comes first. Where the bracket shrank at
     least 2**20-fold and |f| at both its ends exceeds |f| at both starting ends (f grew
-    on each side as the bracket narrowed; near a root |f| falls), it is ``not_finite``
-    with a ``pole_capped`` detail, as a closed bracket on a pole is (:func:`_finish`).
+    on each side as the bracket narrowed), f is asked 16 widths out on each side (two
+    calls, counted: :func:`capped_probes`): |f| fallen there on both sides is a pole,
+    ``not_finite`` with a ``pole_capped`` detail, as a closed bracket on a pole is
+    (:func:`_finish`). The ends alone are no evidence: a root where f is steep between
+    flat tails (1e6 (x - r) exp(-(x - r)**2) on [r - 6, r + 4]) has |f| 3.8 at the ends
+    of a bracket 4e-6 wide, 0.45 at the starting ends; 16 widths out |f| has grown.
     Either way the run has not converged.
     """
     if len(steps) >= 2:
@@ -218,8 +246,10 @@ def _capped_reason(x1: float, f1: float, x2: float, f2: float,
         ends = max(abs(steps[0].fx), abs(steps[1].fx))
         near = min(abs(f1), abs(f2))
         if abs(x2 - x1) <= _CAPPED_SHRINK * start and near > ends:
-            best = x1 if abs(f1) <= abs(f2) else x2
-            return NOT_FINITE, Detail("pole_capped", (ends, near, best))
+            p_lo, p_hi = capped_probes(x1, x2)
+            if capped_pole(f1, f2, x1, x2, ev(p_lo), ev(p_hi)):
+                best = x1 if abs(f1) <= abs(f2) else x2
+                return NOT_FINITE, Detail("pole_capped", (ends, near, best))
     return MAX_ITERATIONS, None
 
 
@@ -386,8 +416,9 @@ def _closed_bracket_reason(
 
     Returns ``(X_TOLERANCE, None)`` for a root, ``(DISCONTINUITY, detail)`` for a jump
     and ``(NOT_FINITE, detail)`` when an end's value underflowed to 0 (f cannot tell
-    where in the underflow the sign changes). A pole is left to :func:`_pole_detail`
-    (its |f| grows as the bracket closes).
+    where in the underflow the sign changes). ``(NOT_FINITE, pole detail)`` for a pole:
+    |f| at the closed bracket above both starting ends (:func:`_pole_detail`) and falling
+    away 16 widths out on both sides (:func:`capped_pole`, two calls).
 
     Near a root f shrinks with the distance: |f| ~ C*d**p, for a power p > 0. Beside a
     jump |f| stays at the height of the jump however small the bracket. So, with ``w``
@@ -409,8 +440,18 @@ def _closed_bracket_reason(
     for x in (lo, hi):
         if x in underflowed:
             return NOT_FINITE, Detail("underflow_stretch", (x,))
-    if _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps):
-        return X_TOLERANCE, None  # _finish reports the pole
+    pole = _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps)
+    if pole is not None:
+        # |f| at the closed bracket above both starting ends: a pole where |f| falls away
+        # 16 widths out on each side (two calls); beside a steep root between flat tails
+        # (1e6 (x - r) exp(-(x - r)**2) from r -+ 6: 1.4e-9 at the ends, 1e-6 a tolerance
+        # from r) it grows, and the tests below judge the bracket
+        p_lo, p_hi = capped_probes(lo, hi)
+        v_lo, v_hi = ev(p_lo), ev(p_hi)
+        if capped_pole(flo, fhi, lo, hi, v_lo, v_hi):
+            return NOT_FINITE, pole
+        if grew_beside(flo, fhi, v_lo, v_hi):
+            return X_TOLERANCE, None  # |f| grew on both sides: a root
     width = hi - lo
     for step in steps:
         distance = max(lo - step.x, step.x - hi)

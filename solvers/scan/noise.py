@@ -323,8 +323,35 @@ def _run_quantum(g: _Guarded, runs: np.ndarray) -> np.ndarray:
     step = np.maximum(h, 0.25 * (v - u))[:, None]  # out to a run's width, 4 spacings at least
     k = np.arange(1, 17, dtype=float) * 0.25
     pts = np.concatenate([u[:, None] - step * k, v[:, None] + step * k], axis=1)
+    y = g(pts.reshape(-1)).reshape(len(runs), -1)
     # (subnormal values are all multiples of the least subnormal: no cancellation)
-    return _quantum(g(pts.reshape(-1)).reshape(len(runs), -1), least=1e-290)
+    q = _quantum(y, least=1e-290)
+    # Few bits alone are no rounding: a dead band sign(x) max(0, |x| - 100) on a grid of
+    # half-integers is 12.5, 25, ..., 200 beside its flat stretch, exact multiples of 0.5.
+    # Rounding shows as a staircase: f beside the run takes one value at two points (x^2/2
+    # rounded to 2^-53 beside 1 - cos x), where exact values of a smooth f all differ.
+    for i in np.flatnonzero(q):
+        vals = y[i][np.isfinite(y[i]) & (y[i] != 0.0)]
+        if np.unique(vals).size == vals.size or not _fine_steps(y[i], q[i]):
+            q[i] = 0.0
+    return q
+
+
+_STEP_QUANTA = 16  # rounding of a smooth f: neighbouring values this many quanta apart at most
+
+
+def _fine_steps(values: np.ndarray, q: float) -> bool:
+    """Whether neighbouring finite values (in order along x, each side of a run or one
+    window) differ by at most :data:`_STEP_QUANTA` quanta ``q``: a smooth f rounded to
+    its quantum climbs a step or two at a time; f that is itself a step function taking
+    few-bit values (a table or a converter's levels: round(64 sin(1/x))) jumps by tens of
+    them between samples where it oscillates, and that is no rounding."""
+    halves = values.reshape(-1, 16) if values.size == 32 else values.reshape(1, -1)
+    for side in halves:
+        side = side[np.isfinite(side)]
+        if side.size > 1 and np.max(np.abs(np.diff(side))) > _STEP_QUANTA * q:
+            return False
+    return True
 
 
 def _staircase(g: _Guarded, spans: list[tuple[float, float]]) -> list[bool]:
@@ -338,7 +365,9 @@ def _staircase(g: _Guarded, spans: list[tuple[float, float]]) -> list[bool]:
     ends = np.array(spans, dtype=float)
     t = np.linspace(0.0, 1.0, 64)
     pts = ends[:, :1] + (ends[:, 1:] - ends[:, :1]) * t[None, :]
-    return (_quantum(g(pts.reshape(-1)).reshape(len(spans), -1)) > 0).tolist()
+    y = g(pts.reshape(-1)).reshape(len(spans), -1)
+    q = _quantum(y)
+    return [bool(q[i] > 0 and _fine_steps(y[i], q[i])) for i in range(len(spans))]
 
 
 def _cluster_multiplicity(g: _Guarded, c: np.ndarray, w: np.ndarray, room: np.ndarray,
