@@ -289,7 +289,7 @@ def probe_step(x: float, tol: float) -> float:
 def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = None,
                   look: bool = True) -> tuple[bool, Detail | None]:
     """Whether f(x) == 0.0 is a zero of f, not a value that underflowed to 0, and the
-    detail that goes with a root on a plateau of rounding (``zero_plateau``, else None).
+    detail that goes with a root on a plateau of rounding (``zero_in_noise``, else None).
 
     A double 0.0 from f is also what a sum of terms below ~1e-308 gives (exp(-x) -
     2*exp(-2*x) is 0.0 at x = 800; its root is ln 2). From f alone the two differ in
