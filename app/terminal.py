@@ -17,8 +17,17 @@ def caution() -> str:
 
 
 def _g(value: float | None, figures: int | None = None) -> str:
-    """A number in the words module's one format: every digit, or ``figures`` of them
-    (trailing zeros kept: they are figures asked for)."""
+    """A number in the words module's one format: every digit, or ``figures`` of them."""
+    from app.documents import words
+
+    if figures is None:
+        return words.exact(value, blank="-")
+    return words.number(value, figures, blank="-")
+
+
+def _asked(value: float | None, figures: int | None = None) -> str:
+    """A root to the ``--figures`` asked for, trailing zeros kept (they are figures
+    too), or every digit."""
     from app.documents import words
 
     if figures is None:
@@ -52,7 +61,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
         rows.append(
             [
                 words.method_title(r.method),
-                words.root_cell(r, lambda v: _g(v, figures)),
+                words.root_cell(r, lambda v: _asked(v, figures)),
                 "yes" if r.converged else "NO",
                 r.reason,
                 str(r.iterations),
@@ -70,7 +79,7 @@ def print_solution(solution, *, steps: bool, figures: int | None = None) -> None
     for r in solution.runs:  # the root column says "—" for these: where they stopped
         if not r.converged:
             line = words.last_iterate_line(r, eq.unknown, eq.unknown_unit,
-                                           lambda v: _g(v, figures))
+                                           lambda v: _asked(v, figures))
             print(f"  {line}")
     print(f"\n{words.agreement_text(solution)}")
     if eq.definitions:
