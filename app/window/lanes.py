@@ -55,6 +55,34 @@ def verdict_text(run: Run) -> str:
     return f"✗ FAILED: {words.reason_text(run.reason)}" + (f" — {detail}" if detail else "")
 
 
+class TwoLineLabel(QLabel):
+    """A word-wrapped label of two lines whose text ends in "…" where it would need more
+    (a failed run's record can run to four); the caller puts the whole text in its
+    tooltip. ``full_text()`` is the text set."""
+
+    def __init__(self, text: str = "", parent: QWidget | None = None) -> None:
+        super().__init__(text, parent)
+        self._full = text
+
+    def setText(self, text: str) -> None:  # noqa: N802 (Qt name)
+        self._full = text
+        self._fit()
+
+    def full_text(self) -> str:
+        return self._full
+
+    def resizeEvent(self, event: Any) -> None:  # noqa: N802 (Qt name)
+        super().resizeEvent(event)
+        self._fit()
+
+    def _fit(self) -> None:
+        metrics = self.fontMetrics()
+        # two lines' width, less the slack word wrapping loses at line ends
+        room = int(0.9 * 2 * max(1, self.contentsRect().width()))
+        QLabel.setText(self, metrics.elidedText(self._full, Qt.TextElideMode.ElideRight,
+                                                room))
+
+
 class MethodLane(QFrame):
     """One method's result: coloured title, verdict, summary, and its iterates."""
 
@@ -73,11 +101,11 @@ class MethodLane(QFrame):
         # others; without the selector the stripe silently never appeared.
         self.title.setStyleSheet(f"QLabel {{ font-weight: bold; border: none; "
                                  f"border-left: 6px solid {color}; padding-left: 5px; }}")
-        self.verdict = QLabel("not run yet")
+        self.verdict = TwoLineLabel("not run yet")
         self.verdict.setObjectName(f"verdict_{method}")
         self.verdict.setWordWrap(True)
-        # from the top: a verdict longer than its two lines keeps its first words whole
-        # (centred, its first and last lines were cut in half); the tooltip has it all
+        # from the top, ending in "…" where it needs more than its two lines (centred and
+        # cut, its first and last lines lost their halves); the tooltip has it all
         self.verdict.setAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignTop)
         fix_lines(self.verdict, 2)
         self.summary = QLabel("")
@@ -109,7 +137,7 @@ class MethodLane(QFrame):
                               "the selection as tab-separated text)")
         self.table.clicked.connect(lambda _i: self.activated.emit(self.method))
         head = QHBoxLayout()
-        head.addWidget(self.title)
+        head.addWidget(self.title, 0, Qt.AlignmentFlag.AlignTop)  # level with the verdict
         head.addWidget(self.verdict, 1)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 3, 4, 3)
