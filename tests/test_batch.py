@@ -35,6 +35,20 @@ COLEBROOK = "1/sqrt(lam) = -2*log10(rr/3.7 + 2.51/(Re*sqrt(lam)))"
 BRACKET = (1e-3, 0.2)  # every turbulent friction factor of the grid lies inside
 
 
+def runs_as_the_scalar_method(batch) -> list:
+    """Each row rebuilt by the scalar method (``Batch.run``), asserted to give the row's
+    reason, iterations and evaluations, and its root where it converged; the runs."""
+    runs = []
+    for i in range(batch.size):
+        run = batch.run(i)
+        assert (run.reason, run.iterations, run.evaluations) == (
+            batch.reason_at(i), batch.iterations.flat[i], batch.evaluations.flat[i]), i
+        if run.converged:
+            assert batch.root.flat[i] == run.root, i
+        runs.append(run)
+    return runs
+
+
 def colebrook_exact(Re, rr):
     """The Colebrook–White friction factor in closed form through Lambert W.
 
@@ -246,10 +260,7 @@ def test_a_pole_met_at_the_iteration_cap_gets_the_scalar_verdict_row_by_row(meth
     equation = parse_equation("1/(x - c) - 2", unknown="x", parameters={"c": c})
     batch = solve_batch(equation, method=method, bracket=(np.array([1.0, 1.0, 1.0, 1.2]), 1.8),
                         max_iter=cap)
-    for i in range(c.size):
-        run = batch.run(i)
-        assert (batch.reason[i], batch.iterations[i], batch.evaluations[i]) == (
-            run.reason, run.iterations, run.evaluations)
+    runs_as_the_scalar_method(batch)
     assert not batch.converged[:3].any()
     if cap == 100:  # every method names the poles by then (false position at its cap)
         assert set(batch.reason[:3]) == {"not_finite"}
@@ -270,12 +281,8 @@ def test_zeros_of_rounding_noise_get_the_scalar_verdict_row_by_row(method):
     equation = parse_equation("x^3 - 3*x^2 + 3*x - 1 + c", unknown="x", parameters={"c": 0.0})
     batch = solve_batch(equation, method=method, x0=x0, x1=x0 * 1.01, bracket=(0.0, 2.3),
                         parameters={"c": c})
-    for i in range(c.size):
-        run = batch.run(i)
-        assert (run.reason, run.iterations, run.evaluations) == (
-            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+    for i, run in enumerate(runs_as_the_scalar_method(batch)):
         if run.converged:
-            assert batch.root[i] == run.root
             assert abs(run.root - (1.0 - np.cbrt(c[i]))) <= 2e-5, i
     # plain false position crawls to its cap here; the secant may meet two points of equal
     # noise (a flat chord: zero_derivative)
@@ -297,12 +304,8 @@ def test_a_steep_term_underflowing_inside_a_bracket_is_judged_as_the_scalar_meth
     equation = parse_equation("x^n - c*(3*x^2 - 3*x + 1)", unknown="x",
                               parameters={"n": 3.0, "c": 1.0})
     batch = solve_batch(equation, method=method, bracket=(a, b), parameters={"n": n, "c": c})
-    for i in range(n.size):
-        run = batch.run(i)
-        assert (run.reason, run.iterations, run.evaluations) == (
-            batch.reason_at(i), batch.iterations[i], batch.evaluations[i]), i
+    for i, run in enumerate(runs_as_the_scalar_method(batch)):
         if run.converged:
-            assert batch.root[i] == run.root
             root = 1.0 if n[i] == 3.0 else 0.0
             assert abs(run.root - root) <= (2e-5 if n[i] == 3.0 else 1e-12), (i, run.root)
         else:

@@ -250,6 +250,20 @@ def _capped_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
 
 
 @kernel
+def _ended_code(code: int, x1: float, f1: float, x2: float, f2: float, row: int, a0, fa0,
+                b0, fb0) -> int:
+    """The verdict on a row whose bracket [x1, x2] closed (``CLOSED``: :func:`_closed_code`)
+    or met the iteration cap (``MAX_IT``: :func:`_capped_code`; ``CAPPED_KEPT``, a cap
+    whose probes found no pole, stays ``max_iterations``), from the row's starting ends
+    (chunk row ``row`` of ``a0, fa0, b0, fb0``)."""
+    if code == CAPPED_KEPT:
+        return MAX_IT
+    if code == CLOSED:
+        return _closed_code(x1, f1, x2, f2, a0[row], fa0[row], b0[row], fb0[row])
+    return _capped_code(x1, f1, x2, f2, a0[row], fa0[row], b0[row], fb0[row])
+
+
+@kernel
 def _special(x: float, fx: float, x1: float, f1: float, x2: float, f2: float, xtol: float,
              rtol: float) -> tuple[int, float]:
     """(code, f to go on with) at a new point x between the ends (x1, f1), (x2, f2) whose
@@ -293,16 +307,8 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
         code = status[i]
         if code < 0:
             continue
-        if code == CLOSED:
-            row = rows[i]
-            code = _closed_code(xb[i], fb[i], xc[i], fc[i], a0[row], fa0[row], b0[row],
-                                fb0[row])
-        elif code == MAX_IT:
-            row = rows[i]
-            code = _capped_code(xb[i], fb[i], xc[i], fc[i], a0[row], fa0[row], b0[row],
-                                fb0[row])
-        elif code == CAPPED_KEPT:
-            code = MAX_IT
+        if code == CLOSED or code == MAX_IT or code == CAPPED_KEPT:
+            code = _ended_code(code, xb[i], fb[i], xc[i], fc[i], rows[i], a0, fa0, b0, fb0)
         elif code == SPECIAL:
             code, fb[i] = _special(xb[i], fb[i], xa[i], fa[i], xc[i], fc[i], xtol, rtol)
         elif code == EXOTIC:  # the pass's tests passed: the step scaled with ldexp
@@ -403,16 +409,8 @@ def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0,
         code = status[i]
         if code < 0:
             continue
-        if code == CLOSED:
-            row = rows[i]
-            code = _closed_code(e1[i], f1[i], e2[i], f2[i], a0[row], fa0[row], b0[row],
-                                fb0[row])
-        elif code == MAX_IT:
-            row = rows[i]
-            code = _capped_code(e1[i], f1[i], e2[i], f2[i], a0[row], fa0[row], b0[row],
-                                fb0[row])
-        elif code == CAPPED_KEPT:
-            code = MAX_IT
+        if code == CLOSED or code == MAX_IT or code == CAPPED_KEPT:
+            code = _ended_code(code, e1[i], f1[i], e2[i], f2[i], rows[i], a0, fa0, b0, fb0)
         elif code == SPECIAL:
             code, fx[i] = _special(x[i], fx[i], e1[i], f1[i], e2[i], f2[i], xtol, rtol)
         if code == PROBE or code == ZERO or code == CAPPED:
