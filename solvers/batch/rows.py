@@ -32,9 +32,9 @@ from solvers.methods.common import (
     _CAPPED_REACH,
     _PROBE_GROWTH,
     _PROBE_REACH,
-    _QUANTA,
     _TINY,
     DERIVATIVE_STEP,
+    ROUNDING_QUANTA,
     plateau_detail,
     plateau_points,
 )
@@ -475,7 +475,7 @@ def in_rounding_array(v: np.ndarray) -> np.ndarray:
     mantissa, exponent = np.frexp(np.where(ok, v, 1.0))
     whole = (mantissa * 2.0**53).astype(np.int64)
     q = np.ldexp((whole & -whole).astype(np.float64), exponent - 53)
-    return ok & (q > 1e-290) & (v <= _QUANTA * q)
+    return ok & (q > 1e-290) & (v <= ROUNDING_QUANTA * q)
 
 
 def plateau_roots(evaluate: Callable[[np.ndarray], np.ndarray], x: np.ndarray,

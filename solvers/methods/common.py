@@ -327,7 +327,7 @@ def _zero_is_root(ev: _Evaluator, x: float, tol: float, toward: float | None = N
 # The plateau search: f at x -+ step * 4**j, j = 1..16 (out to about 4e9 steps: 4e-3 of
 # x at the default tolerances), and what f may be just beyond a plateau of rounding.
 PLATEAU_REACH = tuple(4.0**j for j in range(1, 17))
-_QUANTA = 4096  # at most this many units of the terms' rounding
+ROUNDING_QUANTA = 4096  # f a few units of its terms' rounding: at most this many of them
 
 
 def plateau_points(x: float, step: float) -> list[float]:
@@ -336,7 +336,7 @@ def plateau_points(x: float, step: float) -> list[float]:
     return [x - step * m for m in PLATEAU_REACH] + [x + step * m for m in PLATEAU_REACH]
 
 
-def _lowest_bit(v: float) -> float:
+def lowest_bit(v: float) -> float:
     """The largest power of two that v (finite, > 0) is a whole multiple of."""
     mantissa, exponent = math.frexp(v)
     whole = int(mantissa * 2.0**53)
@@ -345,12 +345,12 @@ def _lowest_bit(v: float) -> float:
 
 def in_rounding(v: float) -> bool:
     """Whether a value of f is a few units of the rounding of normal-sized terms: a whole
-    multiple, at most :data:`_QUANTA`, of a power of two above 1e-290 (a smooth non-zero
+    multiple, at most :data:`ROUNDING_QUANTA`, of a power of two above 1e-290 (a smooth non-zero
     value needs some 50 bits; a subnormal one is a multiple of 2**-1074 only)."""
     if v == 0.0 or not math.isfinite(v):
         return False
-    q = _lowest_bit(abs(v))
-    return q > 1e-290 and abs(v) <= _QUANTA * q
+    q = lowest_bit(abs(v))
+    return q > 1e-290 and abs(v) <= ROUNDING_QUANTA * q
 
 
 def plateau_detail(x: float, step: float, values: Sequence[float]) -> Detail | None:

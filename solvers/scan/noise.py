@@ -30,6 +30,7 @@ from collections.abc import Callable
 
 import numpy as np
 
+from solvers.methods.common import ROUNDING_QUANTA, lowest_bit
 from solvers.records import Detail
 from solvers.scan.records import EPS, Root
 from solvers.scan.sampling import _Guarded, _passes
@@ -280,29 +281,19 @@ def _noise_bands(g: _Guarded, x: np.ndarray, a: float, b: float, scale: float,
     return noisy, lo, hi, level
 
 
-_QUANTA = 4096  # beside a run of cancellation |f| is at most this many quanta
-
-
-def _lowest_bit(v: float) -> float:
-    """The largest power of two that v (finite, > 0) is a whole multiple of."""
-    mantissa, exponent = math.frexp(v)
-    whole = int(mantissa * 2.0**53)
-    return math.ldexp(1.0, exponent - 53 + (whole & -whole).bit_length() - 1)
-
-
 def _quantum(y: np.ndarray, least: float = 0.0) -> np.ndarray:
     """Per row of values of f: the power of two they are all whole multiples of, where
-    they are at most :data:`_QUANTA` of it (f rounded to a few steps of its terms'
-    rounding unit, or of the least subnormal), else 0. Values of a smooth f need some 50
-    bits, not 12. A quantum not above ``least`` counts for nothing."""
+    they are at most :data:`solvers.methods.common.ROUNDING_QUANTA` of it (f rounded to a
+    few steps of its terms' rounding unit, or of the least subnormal), else 0. Values of
+    a smooth f need some 50 bits, not 12. A quantum not above ``least`` counts for nothing."""
     y = np.abs(y)
     out = np.zeros(len(y))
     for i in range(len(y)):
         vals = np.unique(y[i][np.isfinite(y[i]) & (y[i] > 0)]).tolist()
         if not vals:
             continue
-        q = min(_lowest_bit(v) for v in vals)
-        if q > least and vals[-1] <= _QUANTA * q:
+        q = min(lowest_bit(v) for v in vals)
+        if q > least and vals[-1] <= ROUNDING_QUANTA * q:
             out[i] = q
     return out
 
