@@ -31,12 +31,8 @@ from solvers.equation.compile import Code, floatify_big
 from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.lines import Line, Reading, check_shadowing, read_lines
 from solvers.equation.parser import _is_bad
-from solvers.equation.record import (
-    _PASSES,
-    _check_message,
-    _validate_parameters,
-    misnamed_hint,
-)
+from solvers.equation.record import _PASSES, _check_message
+from solvers.equation.values import misnamed_hint, validate_parameters
 from solvers.systems import units as system_units
 from solvers.systems.structure import Block, block_order
 from solvers.units import Converted, convert_parameters
@@ -330,7 +326,7 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
     column) or an unknown's unit that does not fit the dimension the equations imply.
     """
     parameters, converted = convert_parameters(parameters)
-    values = _validate_parameters(parameters)
+    values = validate_parameters(parameters)
     for name, value in values.items():
         if value.__class__ is not float:
             raise EquationError(f"parameter {name!r}: a system takes one number per "
