@@ -118,7 +118,8 @@ def equation_of(ws: Worksheet, parsed: Equation | None = None) -> Equation:
         if same_unknown and all(n in values for n in names):
             return parsed.bind({n: values[n] for n in names})
     return parse_equation(ws.equation, unknown=ws.unknown, parameters=values,
-                          unknown_unit=unit, check_dimensions=ws.dimension_check)
+                          unknown_unit=unit, check_dimensions=ws.dimension_check,
+                          require_values=True)
 
 
 def compiled_for(parsed: Equation, unknown_unit: str | None, check_dimensions: bool) -> bool:

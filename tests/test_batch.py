@@ -858,8 +858,9 @@ def test_a_code_never_written_is_not_read_as_converged():
 
 def test_sweep_follows_a_branch_to_its_turning_point_and_says_where_it_ends():
     # x^3 - x - p = 0: three real roots for |p| < 2/(3 sqrt 3); the lowest branch folds
-    # into the middle one at p* = 2/(3 sqrt 3) (f = f' = 0 at x = -1/sqrt 3).
-    equation = parse_equation("x^3 - x - p", unknown="x", parameters={"p": -1.0})
+    # into the middle one at p* = 2/(3 sqrt 3) (f = f' = 0 at x = -1/sqrt 3). p is given
+    # no value at parse time: the sweep binds it (parse once, bind late).
+    equation = parse_equation("x^3 - x - p", unknown="x")
     values = np.linspace(-1.0, 1.0, 41)
     batch = sweep(equation, "p", values, x0=-1.3)
     turning = 2.0 / (3.0 * math.sqrt(3.0))

@@ -16,6 +16,7 @@ import sys
 import numpy as np
 import pytest
 import scipy.optimize
+from csv_files import read_results
 
 from app.cli import main
 from app.documents.words import CAUTION
@@ -32,13 +33,6 @@ def run(capsys, *argv: str) -> tuple[int, str, str]:
 
 def residual(lam, Re, rr):
     return 1 / math.sqrt(lam) + 2 * math.log10(rr / 3.7 + 2.51 / (Re * math.sqrt(lam)))
-
-
-def read_results(path):
-    lines = path.read_text(encoding="utf-8").splitlines()
-    meta = [line for line in lines if line.lstrip('"').startswith("#")]
-    rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
-    return meta, rows
 
 
 @pytest.mark.parametrize("method", ["newton", "brent", "bisection", "illinois", "secant"])

@@ -184,7 +184,6 @@ def test_plane_wall_eigenvalues_per_biot_number():
 @pytest.mark.parametrize(
     ("values", "named"),
     [
-        ({"eps": 1e-5, "D": 0.1}, "'Re'"),  # missing
         ({"eps": 1e-5, "D": 0.1, "Re": 1e5, "L": 3.0}, "'L'"),  # not in the equation
         ({"eps": 1e-5, "D": 0.1, "Re": 1e5, "f": 0.02}, "'f'"),  # the unknown
         ({"eps": 1e-5, "D": 0.1, "Re": math.nan}, "'Re'"),
@@ -200,6 +199,54 @@ def test_bind_refuses_names_and_values_it_cannot_use(values, named):
         eq.bind(values)
     message = str(info.value)
     assert named in message and "\n" not in message
+
+
+def test_parse_without_values_then_bind_gives_a_full_parse():
+    """Parse once, bind late: with the unknown named, the parameters can wait for bind.
+    Reference: a fresh parse with the values, and the residual written out in numpy."""
+    eq = parse_equation(COLEBROOK, unknown="f")
+    assert eq.unbound == ("eps", "D", "Re") and eq.parameters == {}
+    values = {"eps": 4.5e-5, "D": 0.15, "Re": np.array([4e3, 1.2e5, 3e7])}
+    bound, fresh = eq.bind(values), parse_equation(COLEBROOK, parameters=values)
+    x = np.array([0.04, 0.02, 0.01])
+    assert bound.unbound == ()
+    np.testing.assert_array_equal(bound.f(x), fresh.f(x))
+    np.testing.assert_allclose(bound.f(x), colebrook(x, 4.5e-5, 0.15, values["Re"]), rtol=1e-13)
+
+
+def test_an_unbound_equation_names_the_missing_values_when_used():
+    eq = parse_equation(COLEBROOK, unknown="f", parameters={"D": 0.15})
+    assert eq.unbound == ("eps", "Re")
+    for use in (eq.f, eq.fprime):
+        with pytest.raises(EquationError, match="no value for 'eps', 'Re'"):
+            use(0.02)
+    with pytest.raises(EquationError, match="'Re'"):  # bind must complete the values
+        eq.bind({"eps": 1e-5})
+    # without a named unknown the parse cannot tell which name is the unknown: refused
+    with pytest.raises(EquationError, match="cannot tell the unknown"):
+        parse_equation(COLEBROOK, parameters={"D": 0.15})
+    # the front ends ask for every value at parse time, with the name's column
+    with pytest.raises(EquationError, match="no value for 'eps'") as info:
+        parse_equation(COLEBROOK, unknown="f", parameters={"D": 0.15}, require_values=True)
+    assert info.value.position == COLEBROOK.index("eps")
+
+
+def test_bind_keeps_the_values_it_is_not_given_with_their_units():
+    """bind replaces the values given and keeps the others (units included). Reference:
+    v = sqrt(2 g h) in closed form, 3 ft = 0.9144 m exactly (NIST SP 811), standard
+    gravity 9.80665 m/s^2 (scipy.constants.g)."""
+    import scipy.constants
+
+    eq = parse_equation("h = v^2/(2*g)", unknown="v", parameters={"h": "3 ft"})
+    assert eq.unbound == ("g",)
+    bound = eq.bind({"g": f"{scipy.constants.g} m/s^2"})
+    assert bound.unknown_unit == "m/s" and bound.units["h"].unit == "ft"
+    root = scipy.optimize.brentq(bound.f, 0.1, 100.0, xtol=1e-14)
+    assert root == pytest.approx(math.sqrt(2 * scipy.constants.g * 0.9144), rel=1e-12)
+    again = bound.bind({"h": "2 m"})  # g kept from the bind before
+    assert again.parameters["g"] == scipy.constants.g
+    assert scipy.optimize.brentq(again.f, 0.1, 100.0, xtol=1e-14) == pytest.approx(
+        math.sqrt(2 * scipy.constants.g * 2.0), rel=1e-12)
 
 
 def test_rows_that_do_not_broadcast_are_refused_naming_them():

@@ -271,8 +271,15 @@ class TestUnknown:
         assert "'z'" in str(error_of("x + 1", unknown="z"))
 
     def test_named_unknown_with_missing_parameter_points_at_it(self):
-        err = error_of("a*x + b", unknown="x", parameters={"a": 1})
+        # the front ends ask for every value at parse time
+        err = error_of("a*x + b", unknown="x", parameters={"a": 1}, require_values=True)
         assert "'b'" in str(err) and err.position == 6
+        # from Python the value may wait for bind; f says what it lacks until then
+        eq = parse_equation("a*x + b", unknown="x", parameters={"a": 1})
+        assert eq.unbound == ("b",)
+        with pytest.raises(EquationError, match="no value for 'b'"):
+            eq.f(1.0)
+        assert eq.bind({"b": 2.0}).f(1.0) == 3.0
 
     def test_unused_parameters_are_fine_and_not_reported(self):
         eq = parse_equation("x = a", parameters={"a": 1.0, "zz": 5.0, "__class__": 1.0})

@@ -8,12 +8,12 @@ numpy.roots for the swept cubic. Scenarios are invented (cooling-water pipes).
 
 from __future__ import annotations
 
-import csv
 import math
 
 import numpy as np
 import pytest
 import scipy.optimize
+from csv_files import read_results
 from gui_helpers import open_tables_window, type_into  # noqa: E402
 from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
@@ -194,7 +194,7 @@ def test_results_export_as_csv_with_every_input_column(qtbot, window, dialogs, t
     click(qtbot, tables.export_button)
     lines = out.read_text(encoding="utf-8").splitlines()
     assert any(line.startswith("# caution:") for line in lines)
-    rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
+    rows = read_results(out)[1]
     assert [r["Re"] for r in rows] == ["1.2e5", "2.4e6"]
     assert float(rows[0]["root"]) == float(tables.done.batch.root[0])
 

@@ -62,7 +62,7 @@ def test_csv_log_has_a_column_per_unknown_and_residual(capsys, tmp_path):
                          "--csv", str(path))
     assert code == 0, err
     lines = path.read_text().splitlines()
-    meta = [line for line in lines if line.startswith(("#", '"#'))]
+    meta = [line for line in lines if line.startswith("#")]
     assert any(CAUTION in line for line in meta)
     assert any(line.startswith("# equations: x^2 + y^2 = 4 ; x*y = 1") for line in meta)
     rows = list(csv.reader(io.StringIO("\n".join(lines[len(meta):]))))

@@ -7,11 +7,11 @@ numbers are invented for the tests.
 
 from __future__ import annotations
 
-import csv
 import json
 
 import numpy as np
 import pytest
+from csv_files import read_results
 
 from app.cli import main
 from solvers import parse_equation
@@ -27,8 +27,7 @@ def run(capsys, *argv: str) -> tuple[int, str, str]:
 
 
 def data_rows(path):
-    lines = path.read_text(encoding="utf-8").splitlines()
-    return list(csv.DictReader(x for x in lines if not x.lstrip('"').startswith("#")))
+    return read_results(path)[1]
 
 
 # ------------------------------------------------ 1. a root outside --within ends the branch
@@ -74,8 +73,7 @@ def test_the_sweep_is_described_in_plain_numbers_and_the_cells_stay_exact(tmp_pa
     code, _, err = run(capsys, "sweep", CUBIC, "--vary", "p=-1:1:41", "--x0", "-1.3",
                        "--out", str(out))
     assert code == 0, err
-    meta = [x for x in out.read_text(encoding="utf-8").splitlines()
-            if x.lstrip('"').startswith("#")]
+    meta = read_results(out)[0]
     sweep_line = next(x for x in meta if "# sweep:" in x)
     assert "p from -1 to 1 in 41 values" in sweep_line and "np." not in sweep_line
     # the data cells are the values solved for, each read back to the same double

@@ -12,7 +12,6 @@ unit factors from NIST SP 811 (1 in = 0.0254 m, 1 ft = 0.3048 m, 1 lbf = 4.44822
 
 from __future__ import annotations
 
-import csv
 import json
 import math
 from pathlib import Path
@@ -20,6 +19,7 @@ from pathlib import Path
 import pypdf
 import pytest
 import scipy.optimize
+from csv_files import read_results
 
 from app.cli import main
 
@@ -56,11 +56,7 @@ def sheet_text(capsys, tmp_path: Path, ws: dict, name: str) -> str:
     return " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(str(sheet)).pages)
 
 
-def table_rows(path: Path) -> tuple[list[str], list[dict[str, str]]]:
-    lines = path.read_text(encoding="utf-8").splitlines()
-    meta = [line for line in lines if line.lstrip('"').startswith("#")]
-    rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
-    return meta, rows
+table_rows = read_results  # ('#' lines, rows)
 
 
 # 1. One method asked for (--method newton) and converged was told "Only Newton-Raphson

@@ -12,7 +12,6 @@ eps = (1 - exp(-NTU (1 - Cr))) / (1 - Cr exp(-NTU (1 - Cr))), Q = eps Cmin (Thi 
 
 from __future__ import annotations
 
-import csv
 import json
 import math
 import re
@@ -22,6 +21,7 @@ import numpy as np
 import pypdf
 import pytest
 import scipy.optimize
+from csv_files import read_results
 
 from app.cli import main
 
@@ -55,11 +55,7 @@ def peng_robinson_z(R: float, Tc: float, Pc: float, w: float, T: float, P: float
     return a, b, roots
 
 
-def table_rows(path: Path) -> tuple[list[str], list[dict[str, str]]]:
-    lines = path.read_text(encoding="utf-8").splitlines()
-    meta = [line for line in lines if line.lstrip('"').startswith("#")]
-    rows = list(csv.DictReader(line for line in lines if not line.lstrip('"').startswith("#")))
-    return meta, rows
+table_rows = read_results  # ('#' lines, rows)
 
 
 # 1. A sweep in a unit wrote its column as a bare "h": a checker reading the results file

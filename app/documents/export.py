@@ -157,11 +157,11 @@ def _one_line(text: str) -> str:
 
 
 def _write_metadata(handle: IO[str], meta: Mapping[str, str]) -> None:
-    # One cell per line: the csv writer quotes a line only when it holds a comma or a
-    # quote, so plain lines still start with '#'.
-    writer = csv.writer(handle, lineterminator="\n")
+    # Written as they are, never quoted: a reader skips lines that start with '#'
+    # (comment='#' in most CSV readers), and a quoted line starts with '"' instead. A
+    # spreadsheet may split such a line at its commas; it stays a note above the table.
     for key, value in meta.items():
-        writer.writerow([f"# {key}: {_one_line(value)}"])
+        handle.write(f"# {key}: {_one_line(value)}\n")
 
 
 def run_rows(runs: Iterable[Run]) -> list[list[str]]:

@@ -188,7 +188,8 @@ def _analyse(text: str, chosen: str | None, values: Mapping[str, Any],
             "ambiguous": ambiguous, "missing": missing}
     try:
         equation = _bound(parsed, text, unknown, given) or parse_equation(
-            text, unknown=unknown, parameters=given, **(units or {}))
+            text, unknown=unknown, parameters=given, require_values=True,
+            **(units or {}))
     except EquationError as exc:
         latex = derivative = ""
         if missing:
@@ -239,7 +240,7 @@ def _typeset_only(text: str, unknown: str, given: Mapping[str, float],
     for value in (1.0, 0.5):
         trial.update({n: value for n in missing})
         try:
-            eq = parse_equation(text, unknown=unknown, parameters=trial)
+            eq = parse_equation(text, unknown=unknown, parameters=trial, require_values=True)
         except Exception:
             continue
         return _with_definitions(eq), _derivative_latex(eq)

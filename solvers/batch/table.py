@@ -51,7 +51,7 @@ def parse_for_rows(text: str, unknown: str | None, rows: Sequence[Mapping[str, A
         try:
             return parse_equation(text, unknown=unknown, parameters=dict(row),
                                   unknown_unit=unknown_unit,
-                                  check_dimensions=check_dimensions)
+                                  check_dimensions=check_dimensions, require_values=True)
         except EquationError as exc:
             first = first or exc
     if first is None:

@@ -11,7 +11,7 @@ Values may be numpy arrays: they broadcast against each other and against x, so 
 from __future__ import annotations
 
 import re
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -137,12 +137,22 @@ class Equation:
             what = ("is the unknown" if extra[0] == core.unknown
                     else "does not appear in the equation")
             raise EquationError(f"'{extra[0]}' {what}: it takes no value here")
+        # values not given keep the ones bound here (with their units)
+        kept = {n: v for n, v in self.parameters.items() if n not in given}
+        converted = {**{n: c for n, c in self.units.items() if n in kept}, **converted}
+        given = {**kept, **given}
         missing = [n for n in core.parameter_names if n not in given]
         if missing:
-            raise EquationError("no value for " + ", ".join(f"'{n}'" for n in missing)
-                                + f" (the unknown is '{core.unknown}')")
+            raise EquationError(_no_value(missing, core.unknown))
         return _bind(core, {n: given[n] for n in core.parameter_names}, core.remarks,
                      converted)
+
+    @property
+    def unbound(self) -> tuple[str, ...]:
+        """The parameters that still have no value (parsed with ``require_values=False``):
+        f and f' cannot be evaluated until :meth:`bind` gives them."""
+        return tuple(n for n in self._core.parameter_names if n not in self.parameters) \
+            if self._core else ()
 
     @property
     def symbolic_expr(self) -> Any:
@@ -170,9 +180,10 @@ class Equation:
 
     def _substitute(self, expr: Any) -> Any:
         core = self._core
-        values = {s: sp.Float(v) for s, v in zip(core.symbols, self.parameters.values(),
-                                                 strict=True)
-                  if v.__class__ is float}
+        given = self.parameters
+        values = {s: sp.Float(given[n]) for n, s in zip(core.parameter_names, core.symbols,
+                                                        strict=True)
+                  if given.get(n).__class__ is float}
         return floatify_big(expr.xreplace(values)) if values else expr
 
     @property
@@ -590,7 +601,8 @@ def _build_core(text: str, parser: Any, lhs: _Node, rhs: _Node | None, unknown: 
 def parse_equation(text: str, unknown: str | None = None,
                    parameters: Mapping[str, Any] | None = None,
                    unknown_unit: str | None = None, *,
-                   check_dimensions: bool = True) -> Equation:
+                   check_dimensions: bool = True,
+                   require_values: bool | None = None) -> Equation:
     """Read, check and compile an equation; see :mod:`solvers.equation` for the syntax.
 
     ``parameters`` maps names to numbers, numpy arrays (entries the text does not use
@@ -600,7 +612,13 @@ def parse_equation(text: str, unknown: str | None = None,
     ``unknown_unit`` is the unit f takes x in and roots are in (it must fit the dimension
     the equation implies; without it, the SI unit of that dimension). When any parameter
     or the unknown has a unit the dimensions are checked, unless ``check_dimensions`` is
-    False (the remark ``dimensions_unchecked`` then says so). Raises
+    False (the remark ``dimensions_unchecked`` then says so).
+
+    Parse once, bind late: with ``unknown`` named, parameters may be left without a value
+    (``require_values`` False, the default then): the equation is parsed and compiled, its
+    :attr:`Equation.unbound` lists them, and f and f' raise :class:`EquationError`
+    naming them until :meth:`Equation.bind` gives them. ``require_values=True`` (what the
+    front ends pass) refuses a missing value here, with its position. Raises
     :class:`EquationError` (one line, with ``.position`` where it applies) for anything it
     cannot use, including a part with no finite real value for the given values or a
     dimensional mismatch; never evaluates user text as code. The result's
@@ -624,7 +642,10 @@ def parse_equation(text: str, unknown: str | None = None,
                 + ", ".join(f"'{n}'" for n in used)
                 + (" is" if len(used) == 1 else " are") + " defined above it, and an "
                 "unknown cannot also be given a definition", line.start)
-    unknown = choose_unknown(text, reading.names, unknown, values, reading.first_pos)
+    if require_values is None:
+        require_values = unknown is None
+    unknown = choose_unknown(text, reading.names, unknown, values, reading.first_pos,
+                             require_values)
     if unknown in values:
         remarks.append(Remark("unknown_has_value", unknown))
     core = _build_core(text, reading, line.lhs, line.rhs, unknown, unknown_unit,
@@ -632,8 +653,34 @@ def parse_equation(text: str, unknown: str | None = None,
     if reading.definitions or line.start > 0 or line.end < len(text.rstrip()):
         core = replace(core, definitions=tuple(reading.definitions),
                        span=(line.start, line.end))
+    missing = [n for n in core.parameter_names if n not in values]
+    if missing:
+        return _unbound(core, {n: values[n] for n in core.parameter_names if n in values},
+                        missing, unknown_unit, tuple(remarks) + core.remarks, converted)
     used = {n: values[n] for n in core.parameter_names}
     return _bind(core, used, tuple(remarks) + core.remarks, converted)
+
+
+def _no_value(missing: Sequence[str], unknown: str) -> str:
+    return ("no value for " + ", ".join(f"'{n}'" for n in missing)
+            + f" (the unknown is '{unknown}')")
+
+
+def _unbound(core: _Core, values: dict[str, Any], missing: list[str],
+             unknown_unit: str | None, remarks: tuple[Remark, ...],
+             converted: Mapping[str, Converted]) -> Equation:
+    """The parsed equation with some parameters still without a value: f and f' say
+    which when called (nothing is checked or evaluated until :meth:`Equation.bind`)."""
+    why = _no_value(missing, core.unknown) + "; give them with Equation.bind"
+
+    def unusable(x: Any) -> Any:
+        raise EquationError(why)
+
+    return Equation(text=core.text, unknown=core.unknown, parameters=values,
+                    names=(core.unknown, *core.parameter_names), f=unusable,
+                    fprime=None if core.fprime_code is None else unusable, remarks=remarks,
+                    _core=core, unknown_unit=unknown_unit,
+                    units={n: c for n, c in converted.items() if n in values})
 
 
 def _remarks(parser: Any, names: list[str], unknown: str, expr: Any, x: Any,

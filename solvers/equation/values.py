@@ -90,11 +90,12 @@ def misnamed_hint(missing: Sequence[str], given: Iterable[str],
 
 
 def choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[str, Any],
-                   first_pos: Mapping[str, int]) -> str:
+                   first_pos: Mapping[str, int], require_values: bool = True) -> str:
     """The name to solve for among ``names`` (in order of first appearance): ``unknown``
     when given (a name of the equation), else the one name without a value. Raises
     EquationError, with hints, when none or several are left, or when a name other than
-    the unknown has no value. An unknown that also has a value is the caller's remark."""
+    the unknown has no value (unless not ``require_values``: the caller binds them later).
+    An unknown that also has a value is the caller's remark."""
     if not names:
         raise EquationError("the equation has no unknown (it contains no names)", None)
     if unknown is None:
@@ -117,7 +118,7 @@ def choose_unknown(text: str, names: list[str], unknown: Any, values: Mapping[st
         raise EquationError(f"the unknown '{unknown}' does not appear in the equation "
                             "(names: " + ", ".join(names) + ")", None)
     missing = [n for n in names if n != unknown and n not in values]
-    if missing:
+    if missing and require_values:
         raise _fail(text, "no value for " + ", ".join(f"'{n}'" for n in missing)
                     + f" (the unknown is '{unknown}')" + misnamed_hint(missing, values, names)
                     + _glued_unit_hint(text, missing, first_pos), first_pos[missing[0]])
