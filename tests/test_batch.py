@@ -1093,3 +1093,21 @@ def test_a_branch_that_goes_on_is_not_flagged_on_its_second_row(method):
             roots = np.roots([1.0, 0.0, -1.0, -p])
             lowest = min(roots[np.abs(roots.imag) < 1e-9].real)
             assert batch.root[k] == pytest.approx(lowest, abs=1e-12)
+
+
+def test_parameters_named_like_the_bracket_ends_broadcast_with_the_bracket():
+    # van der Waals' a and b beside a bracket (a, b) of their own shape: the shapes were
+    # merged by name and the rows refused. Reference: numpy.roots of the cubic in v,
+    # p v^3 - (p b + R T) v^2 + a v - a b = 0 (invented CO2-like gas states).
+    R, T, p = 8.314, 320.0, 4e6
+    a = np.array([[0.30], [0.36], [0.40]])
+    b = np.array([[4.0e-5], [4.3e-5], [4.6e-5]])
+    equation = parse_equation("(p + a/v^2)*(v - b) = R*T", unknown="v",
+                              parameters={"a": a, "b": b, "R": R, "T": T, "p": p})
+    low = np.array([2e-4, 3e-4, 4e-4, 5e-4])
+    batch = solve_batch(equation, method="brent", bracket=(low, 2e-3))
+    assert batch.root.shape == (3, 4) and batch.converged.all()
+    for i in range(3):
+        roots = np.roots([p, -(p * b[i, 0] + R * T), a[i, 0], -a[i, 0] * b[i, 0]])
+        gas = max(r.real for r in roots if abs(r.imag) < 1e-12)
+        np.testing.assert_allclose(batch.root[i], gas, rtol=0, atol=2e-12)  # xtol 1e-12

@@ -204,8 +204,10 @@ def solve_batch(
     chunk_rows = int(chunk_rows)
     if chunk_rows < 1:
         raise ValueError(f"chunk_rows must be >= 1, got {chunk_rows}")
+    # (start values apart from parameters: a parameter may be called a or b, as the
+    # bracket's ends are)
     arrays = {**{k: v for k, v in values.items() if isinstance(v, np.ndarray)},
-              **{k: v for k, v in starts.items() if isinstance(v, np.ndarray)}}
+              **{f"start {k}": v for k, v in starts.items() if isinstance(v, np.ndarray)}}
     try:
         shape = np.broadcast_shapes(*(v.shape for v in arrays.values()))
     except ValueError:
