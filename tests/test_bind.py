@@ -220,6 +220,9 @@ def test_an_unbound_equation_names_the_missing_values_when_used():
     for use in (eq.f, eq.fprime):
         with pytest.raises(EquationError, match="no value for 'eps', 'Re'"):
             use(0.02)
+    defined = parse_equation("A = pi*D^2/4; Q = A*v", unknown="v", parameters={"D": 0.15})
+    with pytest.raises(EquationError, match="no value for 'Q'"):
+        defined.definition_values(1.0)
     with pytest.raises(EquationError, match="'Re'"):  # bind must complete the values
         eq.bind({"eps": 1e-5})
     # without a named unknown the parse cannot tell which name is the unknown: refused

@@ -225,10 +225,13 @@ class Equation:
         array, or array parameters, give arrays), computed with the parameter values bound
         here. ``x`` is in the unknown's unit, as f takes it; the values are in SI (the
         parameters are bound in SI). NaN where a definition has no real value there;
-        never raises on values."""
+        never raises on values; :class:`EquationError` while a parameter has no value."""
         core = self._core
         if core is None or not core.definitions:
             return {}
+        if self.unbound:
+            raise EquationError(_no_value(self.unbound, core.unknown)
+                                + "; give them with Equation.bind")
         code = core.cache.get("defs")
         if code is None:
             exprs = [d.expr for d in core.definitions]
@@ -671,7 +674,7 @@ def _unbound(core: _Core, values: dict[str, Any], missing: list[str],
              converted: Mapping[str, Converted]) -> Equation:
     """The parsed equation with some parameters still without a value: f and f' say
     which when called (nothing is checked or evaluated until :meth:`Equation.bind`)."""
-    why = _no_value(missing, core.unknown) + "; give them with Equation.bind"
+    why = _no_value(missing, core.unknown) + "; give them with Equation.bind"  # (as above)
 
     def unusable(x: Any) -> Any:
         raise EquationError(why)
