@@ -19,6 +19,7 @@ from solvers.methods.common import (
     DEFAULT_XTOL,
     Function,
     _capped_reason,
+    _carried,
     _check_settings,
     _closed_bracket_reason,
     _Evaluator,
@@ -155,8 +156,8 @@ def _iterate_zero(
     A 0.0 beside x otherwise stops the method (not finite), without that look.
     """
     (x1, f1), (x2, f2) = ends
-    for end, value in ((x1, f1), (x2, f2)):
-        if end in underflowed:
+    for value in (f1, f2):
+        if _carried(value, underflowed):
             underflowed.add(x)
             return math.copysign(_TINY, value), None, None
     far = x2 if abs(x - x1) <= abs(x - x2) else x1

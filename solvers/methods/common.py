@@ -280,6 +280,17 @@ def _same_sign(u: float, v: float) -> bool:
 _TINY = 5e-324
 
 
+def _carried(value: float, underflowed: set[float]) -> bool:
+    """Whether ``value`` (f at a bracket end or iterate) is an underflowed point's carried
+    +-:data:`_TINY`: in a run whose bracket began with an end in a stretch of underflow
+    (``underflowed`` not empty), a value of +-5e-324 has a sign but no size, whether it
+    was carried there or f returned it (f at the edge of that underflow rounds to it);
+    in any other run it is f's own value, a true tiny number whose sign stands. The
+    batch path (:func:`solvers.batch.rows.carried`) applies the same rule to the same
+    values, so both judge such a point alike without tracking where it came from."""
+    return bool(underflowed) and abs(value) == _TINY
+
+
 def probe_step(x: float, tol: float) -> float:
     """How far beside x the exact-zero rule asks f: the tolerance, at least two ulps of x
     and the smallest normal double."""
@@ -443,8 +454,8 @@ def _closed_bracket_reason(
        x**(1/19) passes) the bracket holds a root; if it did not on either side, a jump
        (``discontinuity``).
     """
-    for x in (lo, hi):
-        if x in underflowed:
+    for x, fx in ((lo, flo), (hi, fhi)):
+        if _carried(fx, underflowed):
             return NOT_FINITE, Detail("underflow_stretch", (x,))
     pole = _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps)
     if pole is not None:
