@@ -413,8 +413,8 @@ def test_hard_closed_brackets_get_the_scalar_verdict_and_counts_row_by_row(metho
     # A closed bracket's verdict (root, jump, pole) must be the scalar method's on every
     # row, with the same calls of f: both paths judge it by the bracket as given and the
     # probes beside it (solvers.methods.common._closed_bracket_reason). Before, the
-    # scalar rule also read every iterate on record and the batch keeps none: on such
-    # rows about one in ten differed in its count of f, and some in the reason
+    # scalar rule also read every iterate on record and the batch keeps none: on rows
+    # like these about one in sixteen differed in its count of f, and a few in the reason
     # (discontinuity against x_tolerance).
     rng = np.random.default_rng(20261203)
     n = 60
