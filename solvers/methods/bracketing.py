@@ -128,7 +128,8 @@ def _iterate_zero(
     naming x and ``bracket``, the bracket held before x).
 
     An exact zero is a root. When a bracket end underflowed too
-    (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800), x
+    (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800; an end
+    carried as ``+-_TINY``, :func:`solvers.methods.common._carried`), x
     lies in the same stretch of underflow: it takes that end's sign and is returned
     as ``+-_TINY`` (x is added to ``underflowed``), at no call. Otherwise f is
     checked beside x (:func:`_zero_is_root`, the farther end's side first) and a
