@@ -238,3 +238,64 @@ def test_closing_with_an_unsaved_system_asks_and_cancel_keeps_it(qtbot, window, 
     dialogs.question = QMessageBox.StandardButton.Discard
     window.close()
     qtbot.waitUntil(lambda: not sw.isVisible() and not window.isVisible(), timeout=5000)
+
+
+def _notes(status: str) -> list[str]:
+    return [line for line in status.splitlines() if line.startswith("Note: ")]
+
+
+def test_the_reading_while_typing_gives_the_unit_notes_the_solve_gives(qtbot, window):
+    # An invented heat balance: a hot stream of m*cp = 2090 W/K cooled from Tin = 80 degC
+    # by a wall of UA = 1500 W/K to surroundings at Ta = 20 degC. The temperatures typed
+    # in degC are taken in kelvin with the offset (a unit note); the reading shows it as
+    # the text and the units are typed, before Solve, and the solve gives the same notes.
+    # Reference: the balance is linear, Tout = (m cp Tin + UA Ta)/(m cp + UA) (closed form).
+    sw = open_system_window(qtbot, window)
+    sw.unknown_names.setFocus()
+    QTest.keyClicks(sw.unknown_names, "Q, Tout")
+    type_system(qtbot, sw, "Q = m*cp*(Tin - Tout)\nQ = UA*(Tout - Ta)", ["Q", "Tout"])
+    given = {"m": ("0.5", "kg/s"), "cp": ("4180", "J/(kg*K)"), "Tin": ("80", "degC"),
+             "UA": ("1500", "W/K"), "Ta": ("20", "degC")}
+    for name, (value, unit) in given.items():
+        row = sw.parameters.names().index(name)
+        edit_cell(qtbot, sw.parameters_view, row, 1, value)
+        edit_cell(qtbot, sw.parameters_view, row, 2, unit)
+    # read while typing: the offset note, before any solve
+    qtbot.waitUntil(lambda: any("absolute temperature" in n for n in _notes(sw.status.text())),
+                    timeout=10_000)
+    assert sw.solution is None
+    read = _notes(sw.status.text())
+    assert "2 equations in Q, Tout" in sw.status.text()
+    edit_cell(qtbot, sw.unknowns_view, 1, 1, "300")  # (in K: the unit the equations give)
+    solution = solve_system_by_click(qtbot, sw)
+    assert _notes(sw.status.text()) == read
+    mcp, ua = 0.5 * 4180.0, 1500.0
+    t_out = (mcp * (80 + 273.15) + ua * (20 + 273.15)) / (mcp + ua)  # closed form, in K
+    for run in solution.runs:
+        assert run.converged
+        assert run.root["Tout"] == pytest.approx(t_out, rel=1e-12)
+        assert run.root["Q"] == pytest.approx(ua * (t_out - 293.15), rel=1e-10)
+    # the dimension check switched off (its box, by the space key): the reading says so
+    # at once, and the solve says the same
+    sw.dimension_box.setFocus()
+    QTest.keyClick(sw.dimension_box, Qt.Key.Key_Space)
+    assert not sw.dimension_box.isChecked()
+    qtbot.waitUntil(lambda: any("not checked" in n for n in _notes(sw.status.text())),
+                    timeout=10_000)
+    read = _notes(sw.status.text())
+    assert any("absolute temperature" in n for n in read)
+    solve_system_by_click(qtbot, sw)
+    assert _notes(sw.status.text()) == read
+    # an unknown's unit typed in its cell is read too: Tout in degC is fixed by Tin and Ta
+    # (no note of a free dimension), and the notes still match the solve's
+    sw.dimension_box.setFocus()
+    QTest.keyClick(sw.dimension_box, Qt.Key.Key_Space)
+    assert sw.dimension_box.isChecked()
+    edit_cell(qtbot, sw.unknowns_view, 1, 2, "degC")
+    edit_cell(qtbot, sw.unknowns_view, 1, 1, "30")
+    qtbot.waitUntil(lambda: not any("not checked" in n for n in _notes(sw.status.text())),
+                    timeout=10_000)
+    read = _notes(sw.status.text())
+    solution = solve_system_by_click(qtbot, sw)
+    assert _notes(sw.status.text()) == read
+    assert solution.runs[0].root["Tout"] == pytest.approx(t_out - 273.15, rel=1e-12)

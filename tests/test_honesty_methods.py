@@ -455,6 +455,24 @@ def test_a_steep_continuous_root_is_not_taken_for_a_jump(method, p):
         assert abs(run.root) <= tolerance(0.0)
 
 
+@pytest.mark.parametrize("height", [5e-324, 1e-323, 1.0])
+@pytest.mark.parametrize("method", BRACKETING, ids=lambda m: m.__name__)
+def test_a_step_of_the_smallest_subnormal_is_a_jump_not_underflow_nor_a_root(method, height):
+    # f = +-height on either side of 1 (a step, closed form), height down to 5e-324
+    # = 2**-1074, the smallest subnormal double (IEEE 754). No end underflowed to 0.0, so
+    # +-5e-324 is f's own value: its sign change is real, and |f| does not grow beside
+    # the closed bracket: a jump, as for a step of 1. (Half of 5e-324 rounds to 0.0 and
+    # 0.7 of it back to 5e-324: read against iterates two widths away, the square-root
+    # test once took this step for a root.)
+    def f(x: float) -> float:
+        return math.copysign(height, x - 1.0)
+
+    run = method(f, -2.0, 3.5)
+    assert_record(run)
+    assert run.reason == "discontinuity", (run.reason, run.detail)
+    assert run.detail.values[2] <= 1.0 <= run.detail.values[3]
+
+
 # ----------------------------------------------------------------- noisy and random values
 
 

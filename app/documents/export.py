@@ -30,16 +30,15 @@ from app.documents.words import (
     CAUTION,
     DIMENSIONS_UNCHECKED,
     IN_UNKNOWN_UNIT,
-    UNIT_REMARKS,
     confirmed_text,
     located_text,
     measured_text,
     offset_sums_text,
-    remarks_text,
     residual_units,
     run_message,
     scan_warnings,
     start_notes,
+    unit_notes,
 )
 from solvers.records import Run
 
@@ -381,8 +380,7 @@ def units_json(equation: Any, columns: Collection[str] = ()) -> dict[str, Any]:
                                    for r in equation.remarks),
         # what the terminal notes about units (degC converted with the offset, a constant
         # added to such a temperature, the check off): the sentences for people
-        "unit_notes": list(remarks_text(r for r in equation.remarks
-                                        if r.code in UNIT_REMARKS)),
+        "unit_notes": list(unit_notes(equation.remarks)),
     }
 
 

@@ -57,6 +57,11 @@ AUTOSAVE_MS = 20_000  # as often as the main window autosaves
 SYSTEM_METHOD_NAMES = tuple(words.SYSTEM_METHOD_TITLES)
 
 
+def _noted(notes: tuple[str, ...]) -> str:
+    """The notes on units under the status line's text, one line each."""
+    return "".join(f"\nNote: {note}" for note in notes)
+
+
 class SystemWindow(QWidget):
     """The system window (see the module docstring)."""
 
@@ -223,6 +228,10 @@ class SystemWindow(QWidget):
         self._saved = self.worksheet()  # what Save wrote or the worksheet opened
         self.parameters.edited.connect(self._timer.start)
         self.unknown_names.textChanged.connect(lambda _t: self._timer.start())
+        # the reading is of the units too (a unit that does not fit, the notes on units):
+        # an unknown's unit or the dimension-check switch changed reads the text again
+        self.unknowns.dataChanged.connect(self._unit_edited)
+        self.dimension_box.toggled.connect(lambda _on: self._timer.start())
         self._solved: Worksheet | None = None  # the inputs of the results shown
         self.unknowns.dataChanged.connect(lambda *_a: self._check_stale())
         self.parameters.dataChanged.connect(lambda *_a: self._check_stale())
@@ -276,14 +285,20 @@ class SystemWindow(QWidget):
     def given_unknowns(self) -> tuple[str, ...]:
         return tuple(n.strip() for n in self.unknown_names.text().split(",") if n.strip())
 
+    def _unit_edited(self, top_left: Any, bottom_right: Any, *_roles: Any) -> None:
+        if top_left.column() <= UnknownsModel.UNIT <= bottom_right.column():
+            self._timer.start()
+
     def _read(self) -> None:
         text = self.editor.toPlainText()
         values = self._values()
         given = self.given_unknowns()
+        units, check = self.unknowns.units(), self.dimension_box.isChecked()
         if not text.strip():
             self._say("type the equations, one per line")
             return
-        self.jobs.submit("system-preview", lambda _p, _c: read_system(text, values, given),
+        self.jobs.submit("system-preview",
+                         lambda _p, _c: read_system(text, values, given, units, check),
                          on_done=self._show_reading)
 
     def _show_reading(self, reading: Reading) -> None:
@@ -299,7 +314,8 @@ class SystemWindow(QWidget):
             self._say(reading.error, problem=True)
         else:
             self._say(f"{words.counted(len(reading.unknowns), 'equation')} in "
-                      f"{', '.join(reading.unknowns)}; {reading.blocks}")
+                      f"{', '.join(reading.unknowns)}; {reading.blocks}"
+                      + _noted(reading.notes))
 
     def _say(self, text: str, problem: bool = False) -> None:
         """The one status line; a problem in the warning colour the main window uses."""
@@ -397,11 +413,9 @@ class SystemWindow(QWidget):
                      + words.definitions_line(values, digits,
                                               system.definition_units(derived=True)))
         # what the units mean for the answer (degC taken in kelvin, a constant added to
-        # such a temperature, the check off), as the terminal and the sheet say it
-        for note in words.remarks_text(r for r in system.remarks
-                                       if r.code in words.UNIT_REMARKS):
-            text += f"\nNote: {note}"
-        return text
+        # such a temperature, the check off), as the terminal and the sheet say it, and as
+        # the reading said it while the text was typed
+        return text + _noted(words.unit_notes(system.remarks))
 
     # -- worksheets
     def worksheet(self) -> Worksheet:

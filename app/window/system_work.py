@@ -4,7 +4,7 @@ functions called in the window's job lanes; they never touch a widget."""
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -15,18 +15,28 @@ from app.window.workers import Cancelled
 
 @dataclass(frozen=True)
 class Reading:
-    """What the text means as a system: the unknowns and parameter names, or why not."""
+    """What the text means as a system: the unknowns and parameter names, or why not;
+    ``notes``: what its units mean (:func:`app.documents.words.unit_notes`), the notes
+    its solve gives."""
 
     unknowns: tuple[str, ...] = ()
     parameters: tuple[str, ...] = ()
     definitions: tuple[str, ...] = ()
     blocks: str = ""
     error: str = ""
+    notes: tuple[str, ...] = ()
 
 
-def read_system(text: str, values: dict[str, float], given: Sequence[str] = ()) -> Reading:
+def read_system(text: str, values: dict[str, Any], given: Sequence[str] = (),
+                units: Mapping[str, str] | None = None,
+                dimension_check: bool = True) -> Reading:
     """The names of a system text (in a worker; never raises for bad text). The unknowns are
-    ``given``, or else every name without a value; every other name is a parameter."""
+    ``given``, or else every name without a value; every other name is a parameter.
+
+    Read as :func:`solve_text` parses it: ``values`` (numbers, or numbers with a unit),
+    the unknowns' ``units`` (name -> unit; those of names that are no unknown are left
+    out) and ``dimension_check``; so a unit that does not fit is said while typing, and
+    the reading's notes on units are those its solve gives."""
     from solvers.equation import EquationError
     from solvers.equation.lines import read_lines
     from solvers.systems import parse_system
@@ -38,13 +48,16 @@ def read_system(text: str, values: dict[str, float], given: Sequence[str] = ()) 
         return Reading(error=str(exc))
     unknowns = tuple(given) or tuple(n for n in reading.names if n not in values)
     params = tuple(n for n in reading.names if n not in unknowns)
+    chosen = {n: u for n, u in (units or {}).items() if n in unknowns}
     try:
         system = parse_system(text, unknowns or None,
-                              {n: values[n] for n in params if n in values})
+                              {n: values[n] for n in params if n in values},
+                              unknown_units=chosen, check_dimensions=dimension_check)
     except EquationError as exc:
         return Reading(unknowns, params, error=str(exc))
     return Reading(system.unknowns, params, system.definitions,
-                   words.blocks_text(system.blocks, system.unknowns))
+                   words.blocks_text(system.blocks, system.unknowns),
+                   notes=words.unit_notes(system.remarks))
 
 
 def solve_text(text: str, unknowns: Sequence[str], parameters: dict[str, Any],

@@ -31,7 +31,6 @@ from solvers.batch.rows import (
     NOT_FIN,
     Work,
     capped_verdict,
-    carried,
     closed_verdict,
     iterate_zero,
     mark,
@@ -44,12 +43,14 @@ from solvers.methods.common import _TINY
 def start_brackets(w: Work, s: dict[str, Any]) -> None:
     """Evaluate both ends of every row's bracket (``w.a``, ``w.b``); stop the rows they
     settle. Leaves ``w.fa``, ``w.fb`` (an end whose f underflowed to 0.0 carried as
-    -+tiny, the sign opposite to the other end's) and the bracket as given in
-    ``w.kept`` (a0, fa0, b0, fb0); ``w.tiny`` says whether any end was carried."""
+    -+tiny, the sign opposite to the other end's), ``w.under`` marking the rows whose
+    bracket began with such an end (the only rows where +-tiny is carried underflow:
+    :func:`solvers.batch.rows.carried`) and the bracket as given in ``w.kept`` (a0, fa0,
+    b0, fb0)."""
     xtol, rtol, ftol = s["xtol"], s["rtol"], s["ftol"]
     nan = np.full(w.size, np.nan)
     w.stop(~(np.isfinite(w.a) & np.isfinite(w.b)), NOT_FIN, nan, nan)
-    w.tiny = False
+    w.under = np.zeros(w.size, dtype=bool)
     if not w.size:
         return
     w.fa = w.f(w.a)
@@ -77,8 +78,8 @@ def start_brackets(w: Work, s: dict[str, Any]) -> None:
     if both.any():
         w.stop(both, NOT_FIN, w.a, w.fa)
         under_a, under_b = under_a[~both], under_b[~both]
-    if under_a.any() or under_b.any():
-        w.tiny = True
+    w.under = under_a | under_b
+    if w.under.any():
         w.fa = np.where(under_a, -np.copysign(_TINY, w.fb), w.fa)
         w.fb = np.where(under_b, -np.copysign(_TINY, w.fa), w.fb)
     code = w.codes()
@@ -104,7 +105,6 @@ def _new_point(w: Work, s: dict[str, Any], code: np.ndarray, x: np.ndarray, fx: 
         code[zero[inside]] = NOT_FIN
         fx = fx.copy()
         fx[zero] = value
-        w.tiny = w.tiny or bool(carried(value).any())
     return fx
 
 
@@ -288,7 +288,7 @@ def brent(w: Work, s: dict[str, Any]) -> None:
 
         def run(skip: np.ndarray, at_cap: bool = at_cap) -> int:
             return kernels.brent_pass(*state(), skip, w.status, xtol, rtol, ftol, at_cap,
-                                      w.tiny)
+                                      w.under)
 
         if run(w.dead):
             _settle(w, s, fixed, state, kernels.brent_settle, run, _brent_probes)
@@ -317,8 +317,8 @@ def _settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
     from solvers.batch.kernels import RERUN
 
     def settled() -> tuple[int, int, int]:
-        return settle(*state(), w.status, w.dead, w.rows, *fixed, w.k, w.calls, s["xtol"],
-                      s["rtol"])
+        return settle(*state(), w.status, w.under, w.dead, w.rows, *fixed, w.k, w.calls,
+                      s["xtol"], s["rtol"])
 
     while True:
         stopped, probing, again = settled()
@@ -329,7 +329,6 @@ def _settle(w: Work, s: dict[str, Any], fixed: tuple[np.ndarray, ...],
         if not again:
             return
         # x in an end's stretch of underflow, carried as +-tiny: the rest of its iteration
-        w.tiny = True
         if not run(w.status != RERUN):
             return
 

@@ -99,7 +99,7 @@ def _interpolation_step(xa: float, fa: float, xb: float, fb: float, xc: float,
 
 @kernel
 def brent_pass(xa, fa, xb, fb, xc, fc, d, e, bisected, skip, status, xtol: float,
-               rtol: float, ftol: float, at_cap: bool, tiny: bool) -> int:
+               rtol: float, ftol: float, at_cap: bool, under) -> int:
     """One Brent iteration on every row that ``skip`` does not mark, from f at the last
     new point (in ``fb``) to the next new point (in ``xb``): the loop of
     :func:`solvers.methods.brent.brent` from ``fb = ev(xb)`` round to ``xb += d``.
@@ -109,8 +109,9 @@ def brent_pass(xa, fa, xb, fb, xc, fc, d, e, bisected, skip, status, xtol: float
     ``|f| <= ftol`` stops the row (``f_tolerance``); b becomes the better end; a bracket
     closed below tolerance flags ``CLOSED``; at the cap (``at_cap``) the row stops
     (``max_iterations``); otherwise the interpolation step is taken when it passes
-    Brent's tests, else bisection, and ``xa, fa`` become the old b. ``tiny``: some value
-    is an underflowed point's carried +-tiny (no interpolation through it). On the first
+    Brent's tests, else bisection, and ``xa, fa`` become the old b. ``under``: the rows
+    whose bracket began with an end in a stretch of underflow, where +-tiny is an
+    underflowed point's carried value (no interpolation through it). On the first
     pass ``fb`` is f at the bracket's second end and the contrapoint test changes
     nothing (the ends change sign, ``c = a`` already). A closed row, or one at the cap,
     keeps its state after the swap (b the better end, for its verdict); a row stopped
@@ -164,7 +165,7 @@ def brent_pass(xa, fa, xb, fb, xc, fc, d, e, bisected, skip, status, xtol: float
             denominator == 0.0 or not (abs(denominator) < math.inf))
         s = math.nan if undefined else s
         # a value that underflowed has a sign but no size to interpolate with: bisect
-        informed = not tiny or not (abs(g_a) == _TINY or abs(g_b) == _TINY
+        informed = not under[i] or not (abs(g_a) == _TINY or abs(g_b) == _TINY
                                     or abs(g_c) == _TINY)
         tried = informed and abs(e_i) > half_tol and abs(g_b) < abs(g_a)
         # accept only a step well inside the bracket and shrinking fast enough (NaN
@@ -209,16 +210,17 @@ def _straight_through(x: float, x1: float, f1: float, x2: float, f2: float,
 
 @kernel
 def _closed_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: float,
-                 b0: float, fb0: float) -> int:
+                 b0: float, fb0: float, under: bool) -> int:
     """The verdict on a closed bracket that needs no call of f (the first steps of
     :func:`solvers.batch.rows.closed_verdict`, same tests, same order): ``not_finite``
-    for an end in a stretch of underflow, ``x_tolerance`` when a starting end
+    for an end in a stretch of underflow (+-tiny in a row that began with one:
+    ``under``), ``x_tolerance`` when a starting end
     shows |f| falling at least as fast as sqrt(distance), else :data:`PROBE`."""
     if x1 < x2:
         lo, flo, hi, fhi = x1, f1, x2, f2
     else:
         lo, flo, hi, fhi = x2, f2, x1, f1
-    if abs(flo) == _TINY or abs(fhi) == _TINY:
+    if under and (abs(flo) == _TINY or abs(fhi) == _TINY):
         return NOT_FIN
     near = min(abs(flo), abs(fhi))
     if near > max(abs(fa0), abs(fb0)):
@@ -251,28 +253,30 @@ def _capped_code(x1: float, f1: float, x2: float, f2: float, a0: float, fa0: flo
 
 @kernel
 def _ended_code(code: int, x1: float, f1: float, x2: float, f2: float, row: int, a0, fa0,
-                b0, fb0) -> int:
+                b0, fb0, under: bool) -> int:
     """The verdict on a row whose bracket [x1, x2] closed (``CLOSED``: :func:`_closed_code`)
     or met the iteration cap (``MAX_IT``: :func:`_capped_code`; ``CAPPED_KEPT``, a cap
     whose probes found no pole, stays ``max_iterations``), from the row's starting ends
-    (chunk row ``row`` of ``a0, fa0, b0, fb0``)."""
+    (chunk row ``row`` of ``a0, fa0, b0, fb0``; ``under``: the row began with an end in a
+    stretch of underflow)."""
     if code == CAPPED_KEPT:
         return MAX_IT
     if code == CLOSED:
-        return _closed_code(x1, f1, x2, f2, a0[row], fa0[row], b0[row], fb0[row])
+        return _closed_code(x1, f1, x2, f2, a0[row], fa0[row], b0[row], fb0[row], under)
     return _capped_code(x1, f1, x2, f2, a0[row], fa0[row], b0[row], fb0[row])
 
 
 @kernel
 def _special(x: float, fx: float, x1: float, f1: float, x2: float, f2: float, xtol: float,
-             rtol: float) -> tuple[int, float]:
+             rtol: float, under: bool) -> tuple[int, float]:
     """(code, f to go on with) at a new point x between the ends (x1, f1), (x2, f2) whose
     f is 0.0 or not finite: not finite; inside an end's stretch of underflow (x lies in
-    it, carried with that end's sign: run again); an exact zero in line with the ends (a
+    it, carried with that end's sign: run again; +-tiny is carried only in a row that
+    began with an end in a stretch of underflow, ``under``); an exact zero in line with the ends (a
     root); else a 0.0 the caller probes."""
     if not math.isfinite(fx):
         return NOT_FIN, fx
-    if abs(f1) == _TINY or abs(f2) == _TINY:
+    if under and (abs(f1) == _TINY or abs(f2) == _TINY):
         return RERUN, math.copysign(_TINY, f1 if abs(f1) == _TINY else f2)
     if _straight_through(x, x1, f1, x2, f2, xtol + rtol * abs(x)):
         return EXACT, fx
@@ -280,8 +284,8 @@ def _special(x: float, fx: float, x1: float, f1: float, x2: float, f2: float, xt
 
 
 @kernel
-def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0, fa0, b0,
-                 fb0, code_out, root_out, residual_out, iterations_out, evaluations_out,
+def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, under, dead, rows, a0, fa0,
+                 b0, fb0, code_out, root_out, residual_out, iterations_out, evaluations_out,
                  extra, converged, k: int, calls: int, xtol: float, rtol: float
                  ) -> tuple[int, int, int]:
     """Resolve what :func:`brent_pass` flagged, row by row, without calls of f, and
@@ -308,9 +312,11 @@ def brent_settle(xa, fa, xb, fb, xc, fc, d, e, bisected, status, dead, rows, a0,
         if code < 0:
             continue
         if code == CLOSED or code == MAX_IT or code == CAPPED_KEPT:
-            code = _ended_code(code, xb[i], fb[i], xc[i], fc[i], rows[i], a0, fa0, b0, fb0)
+            code = _ended_code(code, xb[i], fb[i], xc[i], fc[i], rows[i], a0, fa0, b0, fb0,
+                               under[i])
         elif code == SPECIAL:
-            code, fb[i] = _special(xb[i], fb[i], xa[i], fa[i], xc[i], fc[i], xtol, rtol)
+            code, fb[i] = _special(xb[i], fb[i], xa[i], fa[i], xc[i], fc[i], xtol, rtol,
+                                   under[i])
         elif code == EXOTIC:  # the pass's tests passed: the step scaled with ldexp
             x_a, f_a, x_b, f_b, x_c, f_c = xa[i], fa[i], xb[i], fb[i], xc[i], fc[i]
             half_tol = 0.5 * (xtol + rtol * abs(x_b))
@@ -395,7 +401,8 @@ def bisection_pass(lo, flo, hi, fhi, mid, fmid, skip, status, xtol: float, rtol:
 
 
 @kernel
-def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0, code_out,
+def _two_end_settle(e1, f1, e2, f2, x, fx, status, under, dead, rows, a0, fa0, b0, fb0,
+                    code_out,
                     root_out, residual_out, iterations_out, evaluations_out, extra,
                     converged, k: int, calls: int, xtol: float, rtol: float,
                     first_on_tie: bool) -> tuple[int, int, int]:
@@ -410,9 +417,11 @@ def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0,
         if code < 0:
             continue
         if code == CLOSED or code == MAX_IT or code == CAPPED_KEPT:
-            code = _ended_code(code, e1[i], f1[i], e2[i], f2[i], rows[i], a0, fa0, b0, fb0)
+            code = _ended_code(code, e1[i], f1[i], e2[i], f2[i], rows[i], a0, fa0, b0, fb0,
+                               under[i])
         elif code == SPECIAL:
-            code, fx[i] = _special(x[i], fx[i], e1[i], f1[i], e2[i], f2[i], xtol, rtol)
+            code, fx[i] = _special(x[i], fx[i], e1[i], f1[i], e2[i], f2[i], xtol, rtol,
+                                   under[i])
         if code == PROBE or code == ZERO or code == CAPPED:
             probes += 1
         elif code == RERUN:
@@ -437,14 +446,14 @@ def _two_end_settle(e1, f1, e2, f2, x, fx, status, dead, rows, a0, fa0, b0, fb0,
 
 
 @kernel
-def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b0, fb0,
-                     code_out, root_out, residual_out, iterations_out, evaluations_out,
+def bisection_settle(lo, flo, hi, fhi, mid, fmid, status, under, dead, rows, a0, fa0, b0,
+                     fb0, code_out, root_out, residual_out, iterations_out, evaluations_out,
                      extra, converged, k: int, calls: int, xtol: float, rtol: float
                      ) -> tuple[int, int, int]:
     """:func:`brent_settle` for bisection (:func:`_two_end_settle` on [lo, hi] and the
     midpoint; lo on a tie of |f|, as the scalar bisection)."""
-    return _two_end_settle(lo, flo, hi, fhi, mid, fmid, status, dead, rows, a0, fa0, b0,
-                           fb0, code_out, root_out, residual_out, iterations_out,
+    return _two_end_settle(lo, flo, hi, fhi, mid, fmid, status, under, dead, rows, a0, fa0,
+                           b0, fb0, code_out, root_out, residual_out, iterations_out,
                            evaluations_out, extra, converged, k, calls, xtol, rtol, True)
 
 
@@ -552,12 +561,12 @@ def regula_falsi_pass(xa, fa, xb, fb, ga, x, fx, previous, previous_step,
 
 @kernel
 def regula_falsi_settle(xa, fa, xb, fb, ga, x, fx, previous, previous_step, previous_ratio,
-                        fallback, checking, status, dead, rows, a0, fa0, b0, fb0,
+                        fallback, checking, status, under, dead, rows, a0, fa0, b0, fb0,
                         code_out, root_out, residual_out, iterations_out, evaluations_out,
                         extra, converged, k: int, calls: int, xtol: float, rtol: float
                         ) -> tuple[int, int, int]:
     """:func:`brent_settle` for false position and Illinois (:func:`_two_end_settle` on
     the ends a, b and the iterate; b on a tie of |f|, as the scalar methods)."""
-    return _two_end_settle(xa, fa, xb, fb, x, fx, status, dead, rows, a0, fa0, b0, fb0,
-                           code_out, root_out, residual_out, iterations_out,
+    return _two_end_settle(xa, fa, xb, fb, x, fx, status, under, dead, rows, a0, fa0, b0,
+                           fb0, code_out, root_out, residual_out, iterations_out,
                            evaluations_out, extra, converged, k, calls, xtol, rtol, False)

@@ -505,15 +505,17 @@ def _straight_through(x, x1, f1, x2, f2, tol) -> np.ndarray:
     return inside & steady & (np.abs(chord) <= _CHORD_SHARE * np.maximum(np.abs(f1), np.abs(f2)))
 
 
-def carried(f: np.ndarray) -> np.ndarray:
-    """Where a value is the signed tiny number an underflowed point is carried as.
+def carried(f: np.ndarray, under: np.ndarray) -> np.ndarray:
+    """Where a value is the signed tiny number an underflowed point is carried as:
+    element-wise :func:`solvers.methods.common._carried`, ``under`` marking the rows
+    whose bracket began with an end in a stretch of underflow (``Work.under``).
 
-    The scalar methods keep the points whose f underflowed to 0.0 in a set and carry
-    their f as +-5e-324 (the smallest double, a sign without a size); here the value
-    itself marks them (an f that truly returned +-5e-324 counts as underflowed too: it
-    has no size either).
+    Points whose f underflowed to 0.0 are carried as +-5e-324 (the smallest double, a
+    sign without a size). In a row that began with such an end the value marks them, and
+    an f that returned +-5e-324 there counts as underflow too (the scalar rule: it has no
+    size either); in every other row +-5e-324 is f's own tiny value, whose sign stands.
     """
-    return np.abs(f) == _TINY
+    return under & (np.abs(f) == _TINY)
 
 
 def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
@@ -525,7 +527,8 @@ def iterate_zero(w: Work, idx: np.ndarray, x, x1, f1, x2, f2, tol):
     only underflow between real ends (the run stops not finite), ``value`` the f to go on
     with (the signed tiny value inside an end's stretch of underflow, else 0.0).
     """
-    u1, u2 = carried(f1), carried(f2)
+    under = w.under.take(idx)
+    u1, u2 = carried(f1, under), carried(f2, under)
     value = np.zeros(x.size)
     value = np.where(u1, np.copysign(_TINY, f1), np.where(u2, np.copysign(_TINY, f2), value))
     rest = ~(u1 | u2)
@@ -561,7 +564,8 @@ def closed_verdict(w: Work, idx: np.ndarray, lo, flo, hi, fhi) -> np.ndarray:
     """
     code = np.full(idx.size, X_TOL, dtype=np.int8)
     a0, fa0, b0, fb0 = w.kept(idx, "a0", "fa0", "b0", "fb0")
-    under = carried(flo) | carried(fhi)
+    began = w.under.take(idx)
+    under = carried(flo, began) | carried(fhi, began)
     near = np.minimum(np.abs(flo), np.abs(fhi))
     pole = ~under & (near > np.maximum(np.abs(fa0), np.abs(fb0)))
     grew = np.zeros(idx.size, dtype=bool)

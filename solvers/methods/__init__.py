@@ -59,8 +59,13 @@ A converged run ends at a root, never at a value that merely looks like one:
 * A bracket that closes on a sign change with |f| not falling towards 0 is a jump
   (``x/abs(x) + x`` at 0), reported as ``discontinuity`` with converged False, or a
   pole (|f| growing as it closes), reported as ``not_finite``. The check costs no call
-  when the points already evaluated show |f| falling at least as the square root of
-  the distance, else two at most (f 2**20 bracket widths out).
+  when the starting bracket's ends show |f| falling at least as the square root of
+  the distance, else two at most (f 2**20 bracket widths out). It reads the bracket as
+  given, never the iterates a method happened to visit: every method, and every row of
+  a batch, judges a closed bracket alike.
+* A value of +-5e-324 (the smallest subnormal double) is f's own: a tiny value whose
+  sign stands, unless the bracket began with an end whose f underflowed to 0.0; there
+  it has a sign but no size, and counts as that underflow.
 
 Defaults, chosen for engineering work
 -------------------------------------

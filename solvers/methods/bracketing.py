@@ -19,6 +19,7 @@ from solvers.methods.common import (
     DEFAULT_XTOL,
     Function,
     _capped_reason,
+    _carried,
     _check_settings,
     _closed_bracket_reason,
     _Evaluator,
@@ -127,7 +128,8 @@ def _iterate_zero(
     naming x and ``bracket``, the bracket held before x).
 
     An exact zero is a root. When a bracket end underflowed too
-    (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800), x
+    (a starting end beyond which f decays to 0, as exp(-x) - 2*exp(-2*x) at 800; an end
+    carried as ``+-_TINY``, :func:`solvers.methods.common._carried`), x
     lies in the same stretch of underflow: it takes that end's sign and is returned
     as ``+-_TINY`` (x is added to ``underflowed``), at no call. Otherwise f is
     checked beside x (:func:`_zero_is_root`, the farther end's side first) and a
@@ -155,8 +157,8 @@ def _iterate_zero(
     A 0.0 beside x otherwise stops the method (not finite), without that look.
     """
     (x1, f1), (x2, f2) = ends
-    for end, value in ((x1, f1), (x2, f2)):
-        if end in underflowed:
+    for value in (f1, f2):
+        if _carried(value, underflowed):
             underflowed.add(x)
             return math.copysign(_TINY, value), None, None
     far = x2 if abs(x - x1) <= abs(x - x2) else x1

@@ -18,6 +18,7 @@ from solvers.methods.common import (
     DEFAULT_XTOL,
     Function,
     _capped_reason,
+    _carried,
     _closed_bracket_reason,
     _Evaluator,
     _finish,
@@ -108,7 +109,7 @@ def brent(
             return done(reason, xb, why)
 
         # A value that underflowed has a sign but no size to interpolate with: bisect.
-        informed = not underflowed or underflowed.isdisjoint((xa, xb, xc))
+        informed = not any(_carried(v, underflowed) for v in (fa, fb, fc))
         if informed and abs(e) > half_tol and abs(fb) < abs(fa):
             s = _interpolation_step(xa, fa, xb, fb, xc, fc)
             # Accept only a step well inside the bracket and shrinking fast enough

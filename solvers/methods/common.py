@@ -280,6 +280,17 @@ def _same_sign(u: float, v: float) -> bool:
 _TINY = 5e-324
 
 
+def _carried(value: float, underflowed: set[float]) -> bool:
+    """Whether ``value`` (f at a bracket end or iterate) is an underflowed point's carried
+    +-:data:`_TINY`: in a run whose bracket began with an end in a stretch of underflow
+    (``underflowed`` not empty), a value of +-5e-324 has a sign but no size, whether it
+    was carried there or f returned it (f at the edge of that underflow rounds to it);
+    in any other run it is f's own value, a true tiny number whose sign stands. The
+    batch path (:func:`solvers.batch.rows.carried`) applies the same rule to the same
+    values, so both judge such a point alike without tracking where it came from."""
+    return bool(underflowed) and abs(value) == _TINY
+
+
 def probe_step(x: float, tol: float) -> float:
     """How far beside x the exact-zero rule asks f: the tolerance, at least two ulps of x
     and the smallest normal double."""
@@ -424,21 +435,27 @@ def _closed_bracket_reason(
     jump |f| stays at the height of the jump however small the bracket. So, with ``w``
     the width:
 
-    1. at no cost, the points already evaluated: if one at distance d >= 2w from the
-       closed bracket has the sign of the closed end on its side and ``|f(end)| <= |f| *
-       sqrt(w/d)``, |f| fell at least as fast as the square root of the distance
-       (p >= 1/2), and the bracket holds a root. Beside a jump of height J with slope s
-       this needs (J + s*d)*sqrt(w/d) >= J: d >= J**2/(s**2*w), beyond any point for a
-       jump that stands out of the slope over the tolerance. Each end is compared only
-       with points on its own side: across a jump from -0.4 to 1.6, a point just beyond
-       the 1.6 end would otherwise pass for |f| grown from the 0.4 of the other end.
+    1. at no cost, the bracket as given (``steps[0]``, ``steps[1]``: f at its ends as
+       evaluated; an end whose f underflowed to 0.0 tells nothing): if one at distance
+       d >= 2w from the closed bracket has the sign of the closed end on its side and
+       ``|f(end)| <= |f| * sqrt(w/d)``, |f| fell at least as fast as the square root of
+       the distance (p >= 1/2), and the bracket holds a root. Beside a jump of height J
+       with slope s this needs (J + s*d)*sqrt(w/d) >= J: d >= J**2/(s**2*w), beyond any
+       point for a jump that stands out of the slope over the tolerance. Each end is
+       compared only with the starting end on its own side: across a jump from -0.4 to
+       1.6, a point just beyond the 1.6 end would otherwise pass for |f| grown from the
+       0.4 of the other end. Only the starting ends, not every iterate on record: the
+       verdict on a closed bracket is then a matter of that bracket and the one given,
+       not of the points a method happened to visit on the way, so every method and
+       the batch path (:func:`solvers.batch.rows.closed_verdict`, which keeps no
+       iterates) judge it alike, with the same calls of f.
     2. otherwise f is evaluated ``2**20`` widths out (inside the starting bracket), one
        side and then the other: if |f| grew there by 1.5 or more (any p >= 0.03, so even
        x**(1/19) passes) the bracket holds a root; if it did not on either side, a jump
        (``discontinuity``).
     """
-    for x in (lo, hi):
-        if x in underflowed:
+    for x, fx in ((lo, flo), (hi, fhi)):
+        if _carried(fx, underflowed):
             return NOT_FINITE, Detail("underflow_stretch", (x,))
     pole = _pole_detail(lo if abs(flo) <= abs(fhi) else hi, steps)
     if pole is not None:
@@ -453,15 +470,15 @@ def _closed_bracket_reason(
         if grew_beside(flo, fhi, v_lo, v_hi):
             return X_TOLERANCE, None  # |f| grew on both sides: a root
     width = hi - lo
-    for step in steps:
-        distance = max(lo - step.x, step.x - hi)
-        if distance >= 2.0 * width and math.isfinite(step.fx) and step.x not in underflowed:
-            # compared with the closed end on its own side: across a jump the far side's
-            # |f| is the jump's height, larger than the near side's for no root at all
-            fend = flo if step.x < lo else fhi
-            if _same_sign(step.fx, fend) and abs(fend) <= abs(step.fx) * math.sqrt(
-                    width / distance):
-                return X_TOLERANCE, None
+    for start in steps[:2]:  # the bracket as given, f there as evaluated
+        distance = max(lo - start.x, start.x - hi)
+        # compared with the closed end on its own side: across a jump the far side's |f|
+        # is the jump's height, larger than the near side's for no root at all
+        fend = flo if start.x < lo else fhi
+        if (distance >= 2.0 * width and math.isfinite(start.fx) and start.fx != 0.0
+                and _same_sign(start.fx, fend)
+                and abs(fend) <= abs(start.fx) * math.sqrt(width / distance)):
+            return X_TOLERANCE, None
     a, b = sorted(settings["bracket"])
     reach = _PROBE_REACH * width
     for end, fend, probe in ((lo, flo, max(a, lo - reach)), (hi, fhi, min(b, hi + reach))):

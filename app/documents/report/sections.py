@@ -199,8 +199,8 @@ def _equation_section(c: _Context) -> list[Flowable]:
             f"{_text(formula)}</font>", st["formula"]
         )
         rows.append(("Derivative used by Newton", [*images, text] if images else text))
-    notes = tuple(getattr(eq, "notes", ()) or ()) + words.remarks_text(
-        r for r in getattr(eq, "remarks", ()) if r.code in words.UNIT_REMARKS)
+    notes = tuple(getattr(eq, "notes", ()) or ()) + words.unit_notes(
+        getattr(eq, "remarks", ()))
     if notes:
         rows.append(("Reading of the text", Paragraph(_text("; ".join(notes)), st["cell"])))
     out: list[Flowable] = [*_heading("1  Equation", st, "h1"), _key_value_table(rows, st)]

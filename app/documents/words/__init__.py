@@ -55,6 +55,7 @@ from app.documents.words.remarks import (
     offset_sums_text,
     remark_text,
     remarks_text,
+    unit_notes,
 )
 from app.documents.words.runs import (
     DETAIL_TEXT,
@@ -208,6 +209,7 @@ __all__ = [
     "offset_sums_text",
     "remark_text",
     "remarks_text",
+    "unit_notes",
     "EVALUATIONS_OF",
     "JACOBIAN_WORDS",
     "LAST_ITERATE",

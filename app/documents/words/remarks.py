@@ -83,6 +83,14 @@ def remark_text(remark: Any) -> str:
     return words(remark) if words else remark.code.replace("_", " ")
 
 
+def unit_notes(remarks: Iterable[Any]) -> tuple[str, ...]:
+    """The remarks about units (:data:`UNIT_REMARKS`: degC taken in kelvin, a constant
+    added to such a temperature, the check off, a dimension the equations do not fix) as
+    sentences (:func:`remarks_text`): what every place that states a solve's units notes,
+    the system window's reading while the user types as its solve."""
+    return remarks_text(r for r in remarks if r.code in UNIT_REMARKS)
+
+
 def remarks_text(remarks: Iterable[Any]) -> tuple[str, ...]:
     """Every remark of an equation (``Equation.remarks``) as sentences, in order; the
     parameters given in degC or degF named in one sentence, where the first of them stands
