@@ -100,6 +100,7 @@ def _setting(key: str) -> Callable[[str], float]:
     def parse(text: str) -> float:
         from app.documents.worksheet import setting_problem
 
+        text = text.strip()  # a value that starts with '-' arrives marked (see _mark_values)
         value = _finite(text)
         problem = setting_problem(key, value)
         if problem:

@@ -343,3 +343,15 @@ def test_scan_refuses_a_system_by_saying_where_systems_are_solved(capsys) -> Non
     system = SAMPLES / "systems" / "pump-two-parallel-lines.json"
     code, _, err = run(capsys, "scan", "--worksheet", str(system), "--from", "0", "--to", "1")
     assert code == 2 and "holds a system of equations" in err and "zerotrace solve" in err
+
+
+@pytest.mark.parametrize("flag, value, words", [
+    ("--xtol", "-1", "'-1' must not be negative"),
+    ("--max-iter", "-3", "'-3' must be a whole number"),
+])
+def test_a_refused_negative_setting_is_quoted_as_typed(capsys, flag, value, words) -> None:
+    # A value beginning with '-' is marked internally so that argparse does not take it for
+    # an option; the refusal must quote what the user typed (common practice: an error
+    # message repeats the input verbatim), not the marked form with a leading space.
+    code, _, err = run(capsys, "solve", "x^2 - 2", "--x0", "1", flag, value)
+    assert code == 2 and words in err and f"' {value}'" not in err
