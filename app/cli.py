@@ -54,11 +54,12 @@ _METHOD_HELP = "METHODS"  # placeholder: format_help lists the registry's method
 
 
 def _method_help() -> str:
-    from app.documents.worksheet import DEFAULT_METHODS, METHOD_NAMES
+    from app.documents.worksheet import DEFAULT_METHODS, METHOD_NAMES, SYSTEM_METHOD_NAMES
 
-    every, default = (", ".join(m.replace("_", "-") for m in names)
-                      for names in (METHOD_NAMES, DEFAULT_METHODS))
-    return f"{every}; repeat for several (default: {default})"
+    every, default, system = (", ".join(m.replace("_", "-") for m in names)
+                              for names in (METHOD_NAMES, DEFAULT_METHODS, SYSTEM_METHOD_NAMES))
+    return (f"{every}; repeat for several (default: {default}); for a system {system}, all "
+            "by default")
 
 
 def _method_name(text: str) -> str:
@@ -99,6 +100,7 @@ def _setting(key: str) -> Callable[[str], float]:
     def parse(text: str) -> float:
         from app.documents.worksheet import setting_problem
 
+        text = text.strip()  # a value that starts with '-' arrives marked (see _mark_values)
         value = _finite(text)
         problem = setting_problem(key, value)
         if problem:
@@ -226,17 +228,25 @@ def _param_value(name: str, text: str) -> float:
     return number
 
 
-def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool) -> None:
+def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool,
+                          systems: bool = False) -> None:
+    """The equation and the options every command that reads one takes. ``systems``: the
+    command also solves a system of equations (only ``solve``), and its help says how;
+    ``scan``, ``batch`` and ``sweep`` take one equation in one unknown."""
     p.add_argument(
         "equation",
         nargs=None if equation_required else "?",
         metavar="EQUATION",
         help="'lhs = rhs' or an expression meaning expr = 0; ^ or ** for powers; lines "
-        "separated by ';' (definitions name = expression before it; several equations "
-        "make a system)",
+        "separated by ';' ("
+        + ("definitions name = expression before it; several equations make a system)"
+           if systems else "definitions name = expression before the one equation)"),
     )
+    # --unknown and --unknown-unit collect every use for all commands: systems_cli turns
+    # them back into one value and refuses a second unknown where there is no system
     p.add_argument("--unknown", metavar="X", action="append",
-                   help="the name to solve for (inferred if omitted); repeat for a system")
+                   help="the name to solve for (inferred if omitted)"
+                   + ("; repeat for a system" if systems else ""))
     p.add_argument(
         "--param",
         action="append",
@@ -248,8 +258,9 @@ def _add_equation_options(p: argparse.ArgumentParser, *, equation_required: bool
     p.add_argument("--unknown-unit", metavar="U", action="append",
                    type=systems_cli.unknown_unit_value,
                    help="the unit of the unknown, its start values and range (default: the "
-                   "SI unit its dimension implies); NAME=U for an unknown of a system, "
-                   "repeat for each")
+                   "SI unit its dimension implies)"
+                   + ("; NAME=U for an unknown of a system, repeat for each" if systems
+                      else ""))
     p.add_argument("--no-dimension-check", action="store_true",
                    help="convert units but do not check the equation's dimensions (said on "
                    "every output)")
@@ -266,7 +277,7 @@ def _build_parser() -> _Parser:
     sub = parser.add_subparsers(dest="command", parser_class=_Parser, metavar="COMMAND")
 
     solve = sub.add_parser("solve", help="run root-finding methods side by side")
-    _add_equation_options(solve, equation_required=False)
+    _add_equation_options(solve, equation_required=False, systems=True)
     solve.add_argument("--worksheet", metavar="FILE", help="run a saved worksheet (flags override)")
     solve.add_argument(
         "--method",
@@ -434,6 +445,10 @@ def cmd_scan(args: argparse.Namespace) -> int:
     from solvers import pipeline
 
     ws = _worksheet_from_args(args)
+    if ws.system is not None and not args.equation:  # a scan samples f of one unknown
+        raise InputError(f"zerotrace scan: {args.worksheet} holds a system of equations; a "
+                         "scan takes one equation in one unknown (solve the system with "
+                         "'zerotrace solve --worksheet FILE')")
     start = args.start if args.start is not None else (ws.scan[0] if ws.scan else None)
     stop = args.stop if args.stop is not None else (ws.scan[1] if ws.scan else None)
     if start is None or stop is None:

@@ -79,6 +79,10 @@ def one_equation(args: argparse.Namespace) -> None:
     unknowns = args.unknown
     if isinstance(unknowns, list):  # a command whose --unknown repeats (solve, scan)
         if len(unknowns) > 1:
+            if args.command != "solve":  # only solve takes a system
+                raise InputError(f"zerotrace {args.command}: one unknown ({args.command} "
+                                 "takes one equation; a system is solved with 'zerotrace "
+                                 "solve'), got --unknown " + " ".join(unknowns))
             raise InputError(f"zerotrace {args.command}: --unknown given {len(unknowns)} "
                              "times; several unknowns need several equations (a system)")
         args.unknown = unknowns[0] if unknowns else None

@@ -311,3 +311,47 @@ def test_figures_asked_for_are_all_printed_trailing_zeros_included(capsys) -> No
     row = next(line for line in capsys.readouterr().out.splitlines()
                if line.startswith("Newton"))
     assert row.split()[1] == "2.50000"
+
+
+def _help(capsys, command: str) -> str:
+    with pytest.raises(SystemExit):
+        main([command, "--help"])
+    return " ".join(capsys.readouterr().out.split())
+
+
+def test_help_offers_systems_only_where_a_system_is_solved(capsys) -> None:
+    # Outside reference: the README's usage ("Systems of equations": `solve` with --unknown
+    # repeated, --x0 NAME=VALUE, --method newton / broyden; scan, batch and sweep take one
+    # equation in one unknown). Each command's --help must say the same.
+    solve_help = _help(capsys, "solve")
+    assert "repeat for a system" in solve_help
+    assert "NAME=U for an unknown of a system" in solve_help
+    assert "for a system newton, broyden" in solve_help
+    for command in ("scan", "batch", "sweep"):
+        shown = _help(capsys, command)
+        assert "system" not in shown, f"{command} --help offers a system it refuses"
+        assert "--unknown X the name to solve for" in shown
+
+
+def test_scan_refuses_a_system_by_saying_where_systems_are_solved(capsys) -> None:
+    # scan samples f of one unknown: two unknowns, or a worksheet that holds a system, are
+    # refused (exit 2, one line) with the command that solves them, never an unrelated
+    # complaint about definitions (README: "bad input exits 2 with one line on stderr").
+    code, _, err = run(capsys, "scan", "x^2 + y^2 = 4; x*y = 1", "--unknown", "x",
+                       "--unknown", "y", "--from", "0", "--to", "3")
+    assert code == 2 and "zerotrace solve" in err and len(err.strip().splitlines()) == 1
+    system = SAMPLES / "systems" / "pump-two-parallel-lines.json"
+    code, _, err = run(capsys, "scan", "--worksheet", str(system), "--from", "0", "--to", "1")
+    assert code == 2 and "holds a system of equations" in err and "zerotrace solve" in err
+
+
+@pytest.mark.parametrize("flag, value, words", [
+    ("--xtol", "-1", "'-1' must not be negative"),
+    ("--max-iter", "-3", "'-3' must be a whole number"),
+])
+def test_a_refused_negative_setting_is_quoted_as_typed(capsys, flag, value, words) -> None:
+    # A value beginning with '-' is marked internally so that argparse does not take it for
+    # an option; the refusal must quote what the user typed (common practice: an error
+    # message repeats the input verbatim), not the marked form with a leading space.
+    code, _, err = run(capsys, "solve", "x^2 - 2", "--x0", "1", flag, value)
+    assert code == 2 and words in err and f"' {value}'" not in err

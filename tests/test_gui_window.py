@@ -255,6 +255,35 @@ def test_help_and_about_carry_the_caution_and_the_sources(qtbot, window):
     assert window.help_action.shortcut().toString() == "F1"
 
 
+def test_help_names_every_window_shortcut_and_the_methods_solve_runs(qtbot, window):
+    # Outside reference: the window's own menus (app/window/actions.py ACTIONS, read back
+    # from the live QActions) and the README's window section: Solve runs the methods
+    # ticked in "Methods to run", any of the six. The help page must say the same.
+    import re
+
+    from app.window.actions import ACTIONS
+    from app.window.dialogs import HELP_HTML
+
+    keys = re.search(r"<b>Keys\.</b>(.*?)</p>", HELP_HTML, re.S).group(1)
+    keys = " ".join(keys.split())
+    shown = set(re.findall(r"(?:Ctrl\+(?:Shift\+)?(?:Return|[A-Z0-9=+-])|Esc|F1)(?![\w])",
+                           keys))
+    missing = []
+    for name, text, _slot, shortcut, _tip in ACTIONS:
+        if shortcut is None:
+            continue
+        sequence = getattr(window, name).shortcut().toString()
+        if sequence and sequence not in shown:
+            missing.append(f"{text.replace('&', '')} ({sequence})")
+    assert not missing, f"the help's Keys paragraph leaves out {missing}"
+    solve = re.search(r"<b>4\. Solve</b>(.*?)</p>", HELP_HTML, re.S).group(1)
+    assert "Methods to run" in solve
+    from PySide6.QtWidgets import QGroupBox
+
+    assert "Methods to run" in [box.title() for box in window.inputs.findChildren(QGroupBox)]
+    assert len(window.inputs.method_boxes) == 6
+
+
 def test_tab_moves_from_the_equation_to_the_unknown_then_the_parameters(qtbot, window):
     from PySide6.QtWidgets import QApplication
 

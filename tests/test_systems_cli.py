@@ -106,7 +106,7 @@ def test_no_solution_is_a_result_not_an_error(capsys):
     (["solve", CIRCLE_LINE, "--x0", "x=2", "--x0", "y=1", "--bracket", "0", "1"],
      "--bracket is for one equation"),
     (["scan", "x^2 = a", "--unknown", "x", "--unknown", "a", "--from", "0", "--to", "1"],
-     "--unknown given 2 times"),
+     "scan takes one equation; a system is solved with 'zerotrace solve'"),
     (["solve", CIRCLE_LINE, "--x0", "x=abc", "--x0", "y=1"], "value of x"),
 ])
 def test_bad_input_is_one_line_and_exit_2(capsys, argv, words):

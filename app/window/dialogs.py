@@ -63,7 +63,8 @@ Every other name the equation uses appears there; a tinted cell needs a valid nu
 (and said so). On the function plot, with pan/zoom off:
 <b>Shift+click</b> sets x0, <b>Shift+right-click</b> sets x1,
 <b>Shift+drag</b> sets the bracket [a, b].</p>
-<p><b>4. Solve</b> (Ctrl+Return) runs Newton–Raphson, secant and false position side by side:
+<p><b>4. Solve</b> (Ctrl+Return) runs the methods ticked under <b>Methods to run</b> (any of
+the six; Newton–Raphson, secant and false position unless you choose others) side by side:
 each lane shows the root, iterates, evaluations, stop reason and observed order, over the
 table of every iterate. A method that failed is marked <b>✗ FAILED</b> with the reason.
 The Convergence tab shows |f(x_k)| or |Δx_k| against k on a log axis.</p>
@@ -81,7 +82,8 @@ write <code>ln</code> or <code>log10</code>.</p>
 <p><b>Definitions.</b> Lines before the equation may define intermediate quantities,
 one per line (or separated by <code>;</code>): <code>A = pi*D^2/4</code>, then
 <code>v = Q/A</code>, then the equation. The parameters table lists only the inputs; the
-defined values at the root are printed by the command line and on the calculation sheet.</p>
+defined values at the root are given in the note above the lanes, by the command line and
+on the calculation sheet.</p>
 {HELP_UNITS}
 <p><b>Systems.</b> Run ▸ System of equations (Ctrl+Shift+Y) opens a window for several
 equations in several unknowns: type one equation per line, give each unknown a start value,
@@ -102,11 +104,12 @@ log and the
 roots as CSV (numbers written exactly) and the calculation sheet as PDF from the File menu.
 Ctrl+C on any table copies the selection as tab-separated text; the context menu copies the
 whole table. Unsaved work is kept in a recovery file and offered at the next start.</p>
-<p><b>Keys.</b> Ctrl+N new, Ctrl+O open, Ctrl+S save, Ctrl+Return solve,
+<p><b>Keys.</b> Ctrl+N new, Ctrl+O open, Ctrl+S save, Ctrl+Shift+S save as, Ctrl+Q quit,
+Ctrl+Return solve,
 Ctrl+Shift+Return scan, Esc cancel scan, Ctrl+D take as design value, Ctrl+T tables of inputs,
 Ctrl+1 / Ctrl+2 function / convergence view,
 Ctrl+= / Ctrl+- more / fewer significant figures, Ctrl+Shift+Y system of equations,
-F1 this help.</p>
+Ctrl+Shift+W in a table: widen its columns to show every figure, F1 this help.</p>
 <p style="color:#8A2B00"><b>Caution.</b> {CAUTION_FULL}</p>
 """
 
