@@ -16,7 +16,7 @@ import scipy.optimize
 import sympy as sp
 
 import solvers.equation.parser as parser_module
-import solvers.equation.record as record_module
+import solvers.equation.parsing as parsing_module
 from solvers import EquationError, parse_equation
 
 COLEBROOK = "1/sqrt(f) = -2*log10(eps/(3.7*D) + 2.51/(Re*sqrt(f)))"
@@ -95,7 +95,7 @@ def test_bind_neither_parses_nor_compiles(monkeypatch):
             return original(*args, **kwargs)
         return wrapper
 
-    monkeypatch.setattr(record_module, "read_lines", counting("read", record_module.read_lines))
+    monkeypatch.setattr(parsing_module, "read_lines", counting("read", parsing_module.read_lines))
     monkeypatch.setattr(parser_module._Parser, "equation",
                         counting("parse", parser_module._Parser.equation))
     monkeypatch.setattr(sp, "lambdify", counting("lambdify", sp.lambdify))
@@ -321,7 +321,7 @@ def test_pipeline_binds_the_kept_equation_instead_of_parsing(monkeypatch):
     def refuse(*args, **kwargs):
         raise AssertionError("parsed again")
 
-    monkeypatch.setattr(record_module, "read_lines", refuse)
+    monkeypatch.setattr(parsing_module, "read_lines", refuse)
     bound = pipeline.solve(changed, pipeline.equation_of(changed, kept))
     assert [r.root for r in bound.runs] == [r.root for r in fresh.runs]
     # reference: scipy.optimize.brentq on the residual written out with numpy

@@ -99,7 +99,8 @@ from solvers.equation.lexer import (
     EquationError,
 )
 from solvers.equation.lines import free_names, one_line
-from solvers.equation.record import Equation, parse_equation
+from solvers.equation.parsing import parse_equation
+from solvers.equation.record import Equation
 from solvers.equation.typeset import MAX_TYPESET_CHARS, MAX_TYPESET_NODES
 
 constants = CONSTANT_NAMES  # the names that are constants, never parameters: pi, deg

@@ -4,7 +4,7 @@ Parameter values are checked (finite floats, or float64 arrays of finite values)
 anything is compiled; the unknown is the name asked for, or the one name left without a
 value, and a refusal names what is missing with hints for a name typed close to it
 (``esp`` for ``eps``) or a unit typed into the equation (``2.5mm``). Shared by one
-equation (:mod:`solvers.equation.record`) and systems (:mod:`solvers.systems.model`).
+equation (:mod:`solvers.equation.parsing`) and systems (:mod:`solvers.systems.model`).
 """
 
 from __future__ import annotations
