@@ -35,3 +35,28 @@ def test_even_pole_at_zero_is_a_pole(text, a, b, roots) -> None:
         if roots is not None:  # closed form: 1/x^2 = 1e8 at x = +-1e-4
             assert [round(r.x, 15) for r in res.roots] == roots
         assert not any(d.code in ("fast_oscillation", "proxy_rough") for d in res.details)
+
+
+@pytest.mark.parametrize("k", [-290, -200, -150, 0, 150, 280])
+def test_touch_found_at_any_scale_of_f(k) -> None:
+    # closed form: 10^k (x + 0.461898)(x + 1.460344)^2 (x - 0.15714) has a double root at
+    # -1.460344 and two simple ones, for every k. The parabola that tells a positive
+    # minimum from a touch squared a difference of values near 1e-160 (underflow to 0:
+    # every touch a "positive minimum")
+    text = f"1e{k}*((x + 0.461898)*(x + 1.460344)^2*(x - 0.157140))"
+    for res in both_checks(text, -4.0, 4.0):
+        assert [(round(r.x, 9), r.multiplicity) for r in res.roots] == [
+            (-1.460344, 2), (-0.461898, 1), (0.15714, 1)], (res.check, k)
+
+
+@pytest.mark.parametrize("s", [1e-300, 1e-200, 1.0, 1e200])
+def test_touch_found_on_a_range_of_any_width(s) -> None:
+    # closed form: the same roots at x = s r. Sampling alone takes a touch from the
+    # parabola through three samples, whose slope squared overflowed on a range 1e-200 wide
+    def f(x):
+        u = x / s
+        return (u + 0.461898) * (u + 1.460344) ** 2 * (u - 0.157140)
+
+    res = scan(f, -4 * s, 4 * s, cross_check="off")
+    assert [(round(r.x / s, 9), r.multiplicity) for r in res.roots] == [
+        (-1.460344, 2), (-0.461898, 1), (0.15714, 1)]

@@ -62,9 +62,15 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
         noise[open_] = _at_noise(g, x[open_], fb[rest][open_], xtol, scale)
     touch[rest[open_ & noise]] = True
     with np.errstate(all="ignore"):
-        curv = sfl - 2 * sfb + sfr
-        vertex = sfb - (sfr - sfl) ** 2 / (8 * curv)
-    positive = (curv > 0) & (vertex > 0.5 * sfb) & (sfb > 0)
+        # in units of a power of two near |f| (exact: the same bits wherever nothing
+        # under- or overflows): the square of a difference of values near 1e-160 underflows
+        # to 0, which made every touch of a small-valued f a "positive minimum"
+        unit = np.ldexp(1.0, np.frexp(np.maximum(np.abs(sfl), np.abs(sfr)))[1])
+        unit = np.where(np.isfinite(unit) & (unit > 0), unit, 1.0)
+        ul, ub, ur = sfl / unit, sfb / unit, sfr / unit
+        curv = ul - 2 * ub + ur
+        vertex = ub - (ur - ul) ** 2 / (8 * curv)
+    positive = (curv > 0) & (vertex > 0.5 * ub) & (sfb > 0)
     more = rest[open_ & ~noise & ~positive & np.isfinite(sfl) & np.isfinite(sfr)]
     if more.size:
         wm = np.maximum(_SQRT_EPS * np.abs(xb[more]), xtol)
