@@ -8,6 +8,7 @@ The generator that found them is ``benchmarks/scan_adversary.py``.
 
 from __future__ import annotations
 
+import numpy as np
 import pytest
 
 from solvers import parse_equation
@@ -60,3 +61,30 @@ def test_touch_found_on_a_range_of_any_width(s) -> None:
     res = scan(f, -4 * s, 4 * s, cross_check="off")
     assert [(round(r.x / s, 9), r.multiplicity) for r in res.roots] == [
         (-1.460344, 2), (-0.461898, 1), (0.15714, 1)]
+
+
+@pytest.mark.parametrize("k", [-290, -200, -160, 160, 200, 290])
+def test_power_of_a_scaled_unknown_keeps_its_roots(k) -> None:
+    # closed form: ((x 1e-k) - 0.7579)^3 ((x 1e-k) - 2.4579) ((x 1e-k)^2 + 1) has roots at
+    # 0.7579e{k} (triple) and 2.4579e{k}. sympy folds (x 1e-k)^2 into 1e-2k x^2, a
+    # constant beyond double range (inf or 0 once printed): f was nan (or wrong) on the
+    # whole range, and the scan saw one undefined gap
+    u = f"(x*1e{-k})"
+    text = f"({u} - 0.7579)^3*({u} - 2.4579)*({u}^2 + 1)"
+    s = 10.0 ** k
+    eq = parse_equation(text, "x")
+    assert eq.f(1.0 * s) == pytest.approx((1 - 0.7579) ** 3 * (1 - 2.4579) * 2, rel=1e-12)
+    vector = float(eq.f(np.array([s]))[0])  # the numpy path, as the scan calls f
+    assert vector == pytest.approx((1 - 0.7579) ** 3 * (1 - 2.4579) * 2, rel=1e-12)
+    for res in both_checks(text, 0.0, 3.0 * s):
+        assert res.gaps == []
+        assert [(round(r.x / s, 9), r.multiplicity) for r in res.roots] == [
+            (0.7579, 3), (2.4579, 1)], (res.check, k)
+
+
+def test_folded_constant_in_the_derivative_stays_in_range() -> None:
+    # closed form: d/dx (1e200 x)^3 = 3e600 x^2, which is 3 at x = 1e-200 (sympy folds
+    # the constant to 3e600: inf in doubles, so f' was inf there)
+    eq = parse_equation("(1e200*x)^3 - 1", "x")
+    assert eq.fprime(1e-200) == pytest.approx(3e200, rel=1e-12)
+    assert float(eq.fprime(np.array([2e-200]))[0]) == pytest.approx(12e200, rel=1e-12)
