@@ -62,7 +62,8 @@ def _in_range_code(printer: Any, expr: Any) -> str | None:
     1e400 x^2, which is inf in doubles (and inf x^2 is nan at x = 1e-200, where the
     typed form is 1). The constant's n-th root goes back inside a power x^n of the
     product, c x^n = (c^(1/n) x)^n, as typed; what is left is split into factors each
-    inside double range, applied one at a time: 1e400 x = 1e200 (1e200 x).
+    inside double range, applied one at a time: 1e400 x = 1e200 (1e200 x) (up to four
+    factors; a constant beyond that prints as before).
     """
     c, rest = expr.as_coeff_Mul()
     if not _out_of_range(c):
@@ -82,6 +83,8 @@ def _in_range_code(printer: Any, expr: Any) -> str | None:
                     code = f"{code} * {printer.parenthesize(sp.Mul(*others), 50)}"
                 return f"({minus}({code}))"
     pieces = int(math.ceil(abs(float(sp.log(mag, 10))) / 300)) + 1
+    if pieces > 4:
+        return None  # beyond 1e900 no product of doubles helps: printed as inf or 0
     piece = _float_code(mag ** sp.Rational(1, pieces))
     code = printer.parenthesize(rest, 50)
     for _ in range(pieces):
