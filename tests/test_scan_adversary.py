@@ -8,6 +8,8 @@ The generator that found them is ``benchmarks/scan_adversary.py``.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pytest
 
@@ -88,3 +90,23 @@ def test_folded_constant_in_the_derivative_stays_in_range() -> None:
     eq = parse_equation("(1e200*x)^3 - 1", "x")
     assert eq.fprime(1e-200) == pytest.approx(3e200, rel=1e-12)
     assert float(eq.fprime(np.array([2e-200]))[0]) == pytest.approx(12e200, rel=1e-12)
+
+
+@pytest.mark.parametrize("k", [-200, 200, 244])
+def test_derivative_of_a_scaled_unknown_in_a_power_of_a_sum(k) -> None:
+    # chain rule (closed form): with u = x 1e-k, d/dx [(u^2 - c^2)^3 exp(-u^2)] =
+    # 1e-k (6u (u^2 - c^2)^2 - 2u (u^2 - c^2)^3) exp(-u^2). sympy folds 6e-2k into the
+    # product; its root may not go inside the power of the sum (u^2 - c^2)^2, of order one,
+    # where it underflowed: f' was 0 and the derivative check re-scanned the whole range
+    # with 9.5e6 samples, warning of a fast oscillation on a smooth f
+    c = 1.5133
+    text = f"((x*1e{-k})^2 - {c}^2)^3*exp(-(x*1e{-k})^2)"
+    eq = parse_equation(text, "x")
+    s = 10.0 ** k
+    for u in (0.5, 1.0, 2.0):
+        p = u * u - c * c
+        exact = 10.0 ** -k * (6 * u * p ** 2 - 2 * u * p ** 3) * math.exp(-u * u)
+        assert float(eq.fprime(np.array([u * s]))[0]) == pytest.approx(exact, rel=1e-12)
+    res = scan(eq.f, -4 * s, 4 * s, fprime=eq.fprime)
+    assert res.details == () and res.samples == 2001
+    assert [(round(r.x / s, 9), r.multiplicity) for r in res.roots] == [(-c, 3), (c, 3)]

@@ -61,7 +61,7 @@ def _in_range_code(printer: Any, expr: Any) -> str | None:
     sympy folds the constant of a power of a product into one number: (1e200 x)^2 is
     1e400 x^2, which is inf in doubles (and inf x^2 is nan at x = 1e-200, where the
     typed form is 1). The constant's n-th root goes back inside a power x^n of the
-    product, c x^n = (c^(1/n) x)^n, as typed; what is left is split into factors each
+    product (not of a sum), c x^n = (c^(1/n) x)^n, as typed; what is left is split into factors each
     inside double range, applied one at a time: 1e400 x = 1e200 (1e200 x) (up to four
     factors; a constant beyond that prints as before).
     """
@@ -72,7 +72,9 @@ def _in_range_code(printer: Any, expr: Any) -> str | None:
     mag = sp.Float(abs(c), 30)
     factors = list(sp.Mul.make_args(rest))
     for i, fac in enumerate(factors):
-        if fac.is_Pow and fac.exp.is_Integer and int(fac.exp) >= 2:
+        # only a power of a product, as sympy's folding leaves it: inside a power of a sum
+        # (P^2 with P = x^2 - c of order one) the constant's root would underflow there
+        if fac.is_Pow and fac.exp.is_Integer and int(fac.exp) >= 2 and not fac.base.is_Add:
             n = int(fac.exp)
             root = mag ** sp.Rational(1, n)
             if not _out_of_range(root):
