@@ -62,15 +62,20 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
         noise[open_] = _at_noise(g, x[open_], fb[rest][open_], xtol, scale)
     touch[rest[open_ & noise]] = True
     with np.errstate(all="ignore"):
-        # in units of a power of two near |f| (exact: the same bits wherever nothing
-        # under- or overflows): the square of a difference of values near 1e-160 underflows
-        # to 0, which made every touch of a small-valued f a "positive minimum"
-        unit = np.ldexp(1.0, np.frexp(np.maximum(np.abs(sfl), np.abs(sfr)))[1])
-        unit = np.where(np.isfinite(unit) & (unit > 0), unit, 1.0)
-        ul, ub, ur = sfl / unit, sfb / unit, sfr / unit
-        curv = ul - 2 * ub + ur
-        vertex = ub - (ur - ul) ** 2 / (8 * curv)
-    positive = (curv > 0) & (vertex > 0.5 * ub) & (sfb > 0)
+        curv = sfl - 2 * sfb + sfr
+        step = sfr - sfl
+        vertex = sfb - step * step / (8 * curv)
+        # the square of a difference of values near 1e-160 underflows to 0, which made
+        # every touch of a small-valued f a "positive minimum": those rows again in units
+        # of a power of two near |f| (exact, so nothing else changes; only where needed,
+        # the common path pays one comparison)
+        under = (step * step < 1e-280) & (step != 0)
+        if under.any():
+            unit = np.ldexp(1.0, np.frexp(np.maximum(np.abs(sfl), np.abs(sfr)))[1])
+            ul, ub, ur = sfl / unit, sfb / unit, sfr / unit
+            scaled = (ub - (ur - ul) ** 2 / (8 * (ul - 2 * ub + ur))) * unit
+            vertex = np.where(under, scaled, vertex)
+    positive = (curv > 0) & (vertex > 0.5 * sfb) & (sfb > 0)
     more = rest[open_ & ~noise & ~positive & np.isfinite(sfl) & np.isfinite(sfr)]
     if more.size:
         wm = np.maximum(_SQRT_EPS * np.abs(xb[more]), xtol)
