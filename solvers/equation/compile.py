@@ -45,7 +45,67 @@ def _float_code(number: Any) -> str:
     return "(1e999)" if value > 0 else "(-1e999)"
 
 
-class _VectorPrinter(NumPyPrinter):
+_HUGE = sp.Float(np.finfo(float).max)
+_TINY = sp.Float(np.finfo(float).tiny)
+
+
+def _out_of_range(c: Any) -> bool:
+    """Whether a number is nonzero but beyond what a double holds (or subnormal)."""
+    return bool(c.is_Number and c != 0 and (abs(c) > _HUGE or abs(c) < _TINY))
+
+
+def _in_range_code(printer: Any, expr: Any) -> str | None:
+    """Code for ``expr`` (a product) with no constant in it beyond double range, or None
+    when it has no such constant.
+
+    sympy folds the constant of a power of a product into one number: (1e200 x)^2 is
+    1e400 x^2, which is inf in doubles (and inf x^2 is nan at x = 1e-200, where the
+    typed form is 1). The constant's n-th root goes back inside a power x^n of the
+    product (not of a sum), c x^n = (c^(1/n) x)^n, as typed; what is left is split into factors each
+    inside double range, applied one at a time: 1e400 x = 1e200 (1e200 x) (up to four
+    factors; a constant beyond that prints as before).
+    """
+    c, rest = expr.as_coeff_Mul()
+    if not _out_of_range(c):
+        return None
+    minus = "-" if c < 0 else ""
+    mag = sp.Float(abs(c), 30)
+    factors = list(sp.Mul.make_args(rest))
+    for i, fac in enumerate(factors):
+        # only a power of a product, as sympy's folding leaves it: inside a power of a sum
+        # (P^2 with P = x^2 - c of order one) the constant's root would underflow there
+        if fac.is_Pow and fac.exp.is_Integer and int(fac.exp) >= 2 and not fac.base.is_Add:
+            n = int(fac.exp)
+            root = mag ** sp.Rational(1, n)
+            if not _out_of_range(root):
+                code = (f"({_float_code(root)} * {printer.parenthesize(fac.base, 50)})"
+                        f"**{n}")
+                others = factors[:i] + factors[i + 1:]
+                if others:
+                    code = f"{code} * {printer.parenthesize(sp.Mul(*others), 50)}"
+                return f"({minus}({code}))"
+    pieces = int(math.ceil(abs(float(sp.log(mag, 10))) / 300)) + 1
+    if pieces > 4:
+        return None  # beyond 1e900 no product of doubles helps: printed as inf or 0
+    piece = _float_code(mag ** sp.Rational(1, pieces))
+    code = printer.parenthesize(rest, 50)
+    for _ in range(pieces):
+        code = f"({piece} * {code})"
+    return f"({minus}{code})"
+
+
+class _InRangeConstants:
+    """Printer mixin: products print with their constants inside double range."""
+
+    def _print_Mul(self, expr: Any) -> str:
+        if expr.is_commutative:
+            code = _in_range_code(self, expr)
+            if code is not None:
+                return code
+        return super()._print_Mul(expr)  # type: ignore[misc]
+
+
+class _VectorPrinter(_InRangeConstants, NumPyPrinter):
     def _print_Float(self, expr: Any) -> str:
         return _float_code(expr)
 
@@ -86,7 +146,7 @@ for _name in SPECIAL_UFUNCS:
     setattr(_VectorPrinter, f"_print_{_name}", _special_printer("special_"))
 
 
-class _ScalarPrinter(LambdaPrinter):
+class _ScalarPrinter(_InRangeConstants, LambdaPrinter):
     """Python-float code whose every domain error raises (then the numpy path answers)."""
 
     def _print_Float(self, expr: Any) -> str:

@@ -232,7 +232,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
         grows = (top >= 2.0 * fk) & np.isfinite(fb) & ~bounded_peak
         unbounded = ~np.isfinite(fb) & ~bounded_peak
         if grows.any():
-            unbounded[grows] = _grows_without_bound(g, xb[grows], h)
+            unbounded[grows] = _grows_without_bound(g, xb[grows], h, xtol)
         for i in np.flatnonzero(unbounded):
             poles.append(float(xb[i]))
     # ends of the range: |f| at noise level at a or b is a root there
@@ -256,7 +256,7 @@ def _scan(f, a, b, fprime, n, progress, cancel, mode, depth=0) -> Scan:
             # a bracket whose |f| grew while bisected is a pole only if |f| keeps growing
             # right up to it; a bounded oscillation (sin(1/x) near 0) only looked like one
             ph = np.array(poles_here)
-            real = _grows_without_bound(g, ph, h)
+            real = _grows_without_bound(g, ph, h, xtol)
             poles += [float(p) for p in ph[real]]
             bounded += [float(p) for p in ph[~real]]
         jumps += jumps_here

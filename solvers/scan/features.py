@@ -63,7 +63,18 @@ def _touch_search(g: _Guarded, lo: np.ndarray, hi: np.ndarray, sign: np.ndarray,
     touch[rest[open_ & noise]] = True
     with np.errstate(all="ignore"):
         curv = sfl - 2 * sfb + sfr
-        vertex = sfb - (sfr - sfl) ** 2 / (8 * curv)
+        step = sfr - sfl
+        vertex = sfb - step * step / (8 * curv)
+        # the square of a difference of values near 1e-160 underflows to 0, which made
+        # every touch of a small-valued f a "positive minimum": those rows again in units
+        # of a power of two near |f| (exact, so nothing else changes; only where needed,
+        # the common path pays one comparison)
+        under = (step * step < 1e-280) & (step != 0)
+        if under.any():
+            unit = np.ldexp(1.0, np.frexp(np.maximum(np.abs(sfl), np.abs(sfr)))[1])
+            ul, ub, ur = sfl / unit, sfb / unit, sfr / unit
+            scaled = (ub - (ur - ul) ** 2 / (8 * (ul - 2 * ub + ur))) * unit
+            vertex = np.where(under, scaled, vertex)
     positive = (curv > 0) & (vertex > 0.5 * sfb) & (sfb > 0)
     more = rest[open_ & ~noise & ~positive & np.isfinite(sfl) & np.isfinite(sfr)]
     if more.size:
@@ -299,18 +310,22 @@ def _beside_poles(g: _Guarded, gp, poles: list[float], a: float, b: float, h: fl
     return _resolve_brackets(g, gp, np.array(brackets, dtype=float), xtol)[0]
 
 
-def _grows_without_bound(g: _Guarded, xp: np.ndarray, h: float) -> np.ndarray:
+def _grows_without_bound(g: _Guarded, xp: np.ndarray, h: float,
+                         xtol: float = 0.0) -> np.ndarray:
     """Whether |f| keeps growing toward each located peak xp (a pole), or levels off (a
     bounded peak that only outgrew the samples, like sin(1/x) near 0).
 
     |f(xp +/- d)| for d halving 20 times down to 64 ulps of xp (so the probes resolve the
-    last doublings before float resolution): a pole grows steadily on at least one side
-    (monotone, the last value at least 1.2x the first: ln|x - c| gains about 1.7x over
-    those halvings near x = 1, 1/(x - c)^2 10^12x); a bounded smooth peak changes by a
-    relative (d / its width)^2 there, nothing.
+    last doublings before float resolution), but never below 2 xtol, the absolute
+    resolution the peak was located to: near x = 0 the ulps are far finer than that, and
+    probes closer to xp than the pole is would all stand on one side of it, where |f| is
+    flat (1/x^2 located at -7.5e-21 by a search that stops at 2.2e-19). A pole grows
+    steadily on at least one side (monotone, the last value at least 1.2x the first:
+    ln|x - c| gains about 1.7x over those halvings near x = 1, 1/(x - c)^2 10^12x); a
+    bounded smooth peak changes by a relative (d / its width)^2 there, nothing.
     """
     k = np.arange(21)
-    least = 64 * EPS * np.maximum(np.abs(xp), EPS * h)
+    least = np.maximum(64 * EPS * np.maximum(np.abs(xp), EPS * h), 2.0 * xtol)
     d = np.minimum(least[:, None] * 2.0 ** (20 - k[None, :]), h)
     pts = np.concatenate([xp[:, None] - d, xp[:, None] + d], axis=1)
     vals = np.abs(g(pts.reshape(-1)).reshape(pts.shape))

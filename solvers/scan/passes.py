@@ -191,8 +191,14 @@ def detect_pass(x, y, yp, has_yp, lo, hi, cap, floor):  # noqa: C901 - one pass,
             sc = _sign(yc)
             if not (sc == _sign(yl) and sc == _sign(yr) and (ac < al or ac < ar)):
                 continue
-            # parabola through the three samples: keep if it dips at least 10% toward zero
-            h1, h2 = x[p] - x[p - 1], x[p + 1] - x[p]
+            # parabola through the three samples: keep if it dips at least 10% toward zero.
+            # In units of powers of two near |f| and the spacing (exact: the same bits
+            # wherever nothing under- or overflows): on a range near 1e-200 wide the
+            # slope's square overflowed, and the dip test failed for every minimum
+            su = math.ldexp(1.0, math.frexp(max(al, ac, ar))[1])
+            hu = math.ldexp(1.0, math.frexp(x[p] - x[p - 1])[1])
+            yc, yl, yr = yc / su, yl / su, yr / su
+            h1, h2 = (x[p] - x[p - 1]) / hu, (x[p + 1] - x[p]) / hu
             sgn = sc
             dd1 = (sgn * yc - sgn * yl) / h1
             dd2 = (sgn * yr - sgn * yc) / h2
