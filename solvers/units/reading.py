@@ -10,7 +10,7 @@ factor must be a finite, non-zero double.
 pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
 never at start-up; readings are cached by text. The registry adds a few trade
 abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm, psia, bara, lbmol, MMBtu,
-MBH, TR); a pressure marked gauge (psig, barg, kPa(g)) and MBtu (a thousand or a
+MBH, TR, rev); a pressure marked gauge (psig, barg, kPa(g)) and MBtu (a thousand or a
 million Btu?) are refused with what to type.
 
 Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
@@ -82,6 +82,9 @@ TRADE_UNITS = (
     "MMBtu = 1e6 * Btu",
     "MBH = 1e3 * Btu / hour",
     "TR = ton_of_refrigeration",
+    # a revolution as shaft speeds are written, rev/min and rev/s (pint knows revolution,
+    # turn, rpm and rps, and answered rev with 'rhe', 'rem')
+    "rev = revolution",
 )
 
 # A pressure marked gauge (psig, barg, kPa(g)) is measured from the local atmosphere,
@@ -540,6 +543,25 @@ def is_angle(text: str) -> bool:
     except Exception:  # noqa: BLE001 - not a unit: not an angle
         return False
     return dict(units._units) == {"radian": 1}
+
+
+@lru_cache(maxsize=256)
+def counts_turns(text: str) -> bool:
+    """Whether unit text that is not itself a plane angle holds an angle counted in turns
+    or degrees (``rpm``, ``rev/s``, ``deg/s``, ``N*m/deg``): its SI value, in radians,
+    carries a factor 2π/60, 2π or π/180 that a formula written for the unit's own number
+    would apply again (see :mod:`solvers.units.turns`). False for ``Hz`` (1/s, no 2π),
+    for ``rad/s`` and ``N*m/rad`` (radians already), for a plain angle (``deg``: see
+    :func:`is_angle`) and for text that is not a unit."""
+    if is_angle(text):
+        return False
+    try:
+        reg = registry()
+        names = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        return any(name != "radian" and "radian" in dict(
+            reg.Quantity(1.0, name).to_root_units().units._units) for name in names)
+    except Exception:  # noqa: BLE001 - not a unit pint reads: counts nothing
+        return False
 
 
 def unit_size(dimension: Dimension) -> tuple[float, float, int]:

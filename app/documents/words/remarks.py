@@ -27,7 +27,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
-                          "temperature_offset_sum",
+                          "temperature_offset_sum", "turn_units", "turns_times_pi",
                           "unknown_dimension_free", "unknown_dimension_fractional",
                           "system_dimension_free", "unit_suspect"})
 
@@ -63,7 +63,23 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                               "coefficient) give it its unit or switch the "
                                               "dimension check off",
     "unit_suspect": lambda r: _unit_suspect(r.subject, r.numbers),
+    "turn_units": lambda r: f"{_names(r.subject)} given in a unit that counts turns or "
+                            "degrees (rpm, rev/s, deg/s): converted to radians, so the "
+                            "equation sees rad/s (1 rpm = 2*pi/60 rad/s), not to be "
+                            "multiplied by 2*pi/60 again (Hz is 1/s, no 2*pi)",
+    "turns_times_pi": lambda r: f"'{r.subject}' is given in a unit that counts turns "
+                                "(rpm, rev/s) and reaches the equation in rad/s already, "
+                                "yet the equation multiplies it by pi: a formula written "
+                                "for revolutions (2*pi*N/60, pi*D*N) converts it a "
+                                "second time, 2*pi/60 (rpm) or 2*pi (rev/s) too much; "
+                                "write it for the angular speed (w = N), or give "
+                                f"'{r.subject}' in Hz (1/s, no 2*pi) or with no unit",
 }
+
+
+def _names(subject: str) -> str:
+    """'N', 'w' from a remark's ", "-joined subject."""
+    return ", ".join(repr(n) for n in subject.split(", "))
 
 
 def _unit_suspect(name: str, numbers: Sequence[float]) -> str:

@@ -1,0 +1,122 @@
+"""A mechanical engineer's first trial of zerotrace: each finding pinned (numbered as in
+the trial's list).
+
+Scenarios are invented for this trial: the first forward critical speed of an overhung fan
+disc on a shaft stub (gyroscopic stiffening, the speed in rpm), a column on a base plate
+acting as a rotational spring (stiffness in kN*m/rad), a tip-mass sensor boom in Hz. The
+numbers are checked against outside references named beside each check: unit factors
+from NIST SP 811 (1 rpm = 1.047198E-01 rad/s, 1 ft*lbf = 1.355818 J), the disc's
+frequency equation, a quadratic in w^2, by numpy.roots; the column's eigen-equation by
+scipy.optimize.brentq and its poles by the closed form P = (n pi)^2 E I / L^2.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+
+import numpy as np
+import pytest
+
+from app.cli import main
+from app.documents import words
+from solvers.equation import parse_equation
+from solvers.systems import parse_system
+
+# the overhung disc: flexibility coefficients of a cantilevered stub of overhang a (common
+# practice, from memory: a^3/3EI, a^2/2EI, a/EI), J = Ip - Id, forward synchronous whirl
+DISC = ("a11 = a^3/(3*E*I); a12 = a^2/(2*E*I); a22 = a/(E*I); w = {w}; "
+        "(1 - a11*m*w^2)*(1 + a22*J*w^2) + a12^2*m*J*w^4 = 0")
+DISC_VALUES = {"a": "320 mm", "E": "207 GPa", "I": "125660 mm^4", "m": "18.5 kg",
+               "J": "0.0925 kg*m^2"}
+DISC_PARAMS = [arg for n, v in DISC_VALUES.items() for arg in ("--param", f"{n}={v}")]
+RPM = 1.047198e-01  # rad/s per rpm, NIST SP 811 (B.9, revolution per minute)
+
+
+def run(capsys, *argv: str) -> tuple[int, str, str]:
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def disc_critical_rad_s() -> float:
+    """The positive root w of the disc's frequency equation, by numpy.roots on its
+    quadratic in w^2: 1 + (a22 J - a11 m) w^2 + (a12^2 - a11 a22) m J w^4 = 0."""
+    a, E, Ia, m, J = 0.32, 207e9, 125660e-12, 18.5, 0.0925
+    a11, a12, a22 = a ** 3 / (3 * E * Ia), a ** 2 / (2 * E * Ia), a / (E * Ia)
+    squares = np.roots([(a12 ** 2 - a11 * a22) * m * J, a22 * J - a11 * m, 1.0])
+    return math.sqrt(max(s.real for s in squares if s.real > 0))
+
+
+def codes(remarks) -> list[str]:
+    return [r.code for r in remarks]
+
+
+# 1. A confident wrong answer: with the unknown in rpm, the formula an engineer writes for
+#    the number of revolutions, w = 2*pi*N/60, converted N a second time (rpm is 2*pi/60
+#    rad/s already) and the solve reported 34,594 rpm where 3,623 rpm is the critical
+#    speed, with no word on any output. The product with pi is now remarked on every
+#    document; the note on any value in rpm says what the equation sees.
+
+def test_1_rpm_times_pi_is_remarked_on_every_output(capsys):
+    code, out, _ = run(capsys, "solve", DISC.format(w="2*pi*N/60"), *DISC_PARAMS,
+                       "--unknown", "N", "--unknown-unit", "rpm", "--x0", "3000",
+                       "--method", "newton")
+    assert code == 0
+    assert "'N' is given in a unit that counts turns" in out
+    assert "2*pi*N/60" in out and "converts it a second time" in out
+    # the number it reports is the double conversion's: 60/(2 pi) times the numpy.roots
+    # critical speed in rpm (NIST SP 811's factor), which is why the note is needed
+    wrong = disc_critical_rad_s() / RPM * 60 / (2 * math.pi)
+    root = float(re.search(r"Newton–Raphson\s+([0-9.]+)", out).group(1))
+    assert root == pytest.approx(wrong, rel=1e-5)
+    code, out, _ = run(capsys, "solve", DISC.format(w="2*pi*N/60"), *DISC_PARAMS,
+                       "--unknown", "N", "--unknown-unit", "rpm", "--x0", "3000",
+                       "--method", "newton", "--json")
+    notes = json.loads(out)["unit_notes"]
+    assert any("converts it a second time" in n for n in notes)
+
+
+def test_1_rpm_written_as_the_angular_speed_is_right_and_said_so(capsys):
+    eq = parse_equation(DISC.format(w="N"), unknown="N", parameters=DISC_VALUES,
+                        unknown_unit="rpm")
+    assert codes(eq.remarks).count("turn_units") == 1
+    assert "turns_times_pi" not in codes(eq.remarks)
+    text = words.remark_text(next(r for r in eq.remarks if r.code == "turn_units"))
+    assert "rad/s" in text and "Hz is 1/s" in text
+    code, out, _ = run(capsys, "solve", DISC.format(w="N"), *DISC_PARAMS,
+                       "--unknown", "N", "--unknown-unit", "rpm", "--x0", "3000",
+                       "--method", "newton", "--method", "brent", "--bracket", "500", "20000",
+                       "--json")
+    runs = json.loads(out)["runs"]
+    expected = disc_critical_rad_s() / RPM  # numpy.roots, NIST SP 811
+    for r in runs:
+        assert r["converged"] and r["root"] == pytest.approx(expected, rel=1e-6)
+
+
+@pytest.mark.parametrize("text, name, unit", [
+    ("v = pi*D*n", "n", "rpm"),  # a peripheral speed written for revolutions
+    ("t = 60/(2*pi*n)", "n", "rev/min"),  # the period of one turn
+    ("w^2 = (2*pi*n)^2", "n", "rev/s"),
+])
+def test_1_products_with_pi_of_a_turn_unit_are_named(text, name, unit):
+    values = {"D": "250 mm", "v": "3 m/s", "t": "2 s", "w": "4 rad/s", name: f"10 {unit}"}
+    unknown = text.split(" =")[0].strip("^2")
+    used = {k: v for k, v in values.items() if k in text and k != unknown}
+    eq = parse_equation(text, unknown=unknown, parameters=used)
+    assert ("turns_times_pi", name) in [(r.code, r.subject) for r in eq.remarks]
+
+
+def test_1_frequency_in_hz_with_two_pi_is_not_remarked():
+    # Hz is 1/s (NIST SP 811: no 2 pi), so w = 2*pi*f is right and says nothing
+    eq = parse_equation(DISC.format(w="2*pi*f"), unknown="f", parameters=DISC_VALUES,
+                        unknown_unit="Hz")
+    assert not {"turn_units", "turns_times_pi"} & set(codes(eq.remarks))
+
+
+def test_1_a_system_with_a_speed_in_rpm_is_remarked_too():
+    system = parse_system("w = 2*pi*N/60; T*w = P; T = k*N", unknowns=["T", "N"],
+                          parameters={"P": "15 kW", "k": "0.02 N*m*s"},
+                          unknown_units={"N": "rpm"})
+    assert ("turns_times_pi", "N") in [(r.code, r.subject) for r in system.remarks]
