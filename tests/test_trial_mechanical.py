@@ -120,3 +120,26 @@ def test_1_a_system_with_a_speed_in_rpm_is_remarked_too():
                           parameters={"P": "15 kW", "k": "0.02 N*m*s"},
                           unknown_units={"N": "rpm"})
     assert ("turns_times_pi", "N") in [(r.code, r.subject) for r in system.remarks]
+
+
+# 2. Words: a rotational stiffness typed in kN*m/rad was shown in SI as "J", and a speed
+#    in rpm as "1/s"; the radian is kept (N*m/rad, rad/s) with the value of NIST SP 811's
+#    factors. rev/min, as shaft speeds are written, was unknown ("did you mean 'rhe'?").
+
+@pytest.mark.parametrize("typed, si_text, factor", [
+    ("rpm", "rad/s", RPM),
+    ("rev/min", "rad/s", RPM),
+    ("kN*m/rad", "N*m/rad", 1000.0),
+    ("lbf*ft/deg", "N*m/rad", 1.355818 * 180 / math.pi),  # NIST SP 811: ft*lbf in J
+])
+def test_2_si_text_keeps_the_radian(typed, si_text, factor):
+    from solvers.units import convert_parameters
+
+    _values, converted = convert_parameters({"c": f"30 {typed}"})
+    c = converted["c"]
+    assert words.si_unit_text(c) == si_text
+    assert c.si_value == pytest.approx(30 * factor, rel=1e-6)
+    assert words.si_measure_text(c).endswith(f" {si_text}")
+
+
+

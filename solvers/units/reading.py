@@ -564,6 +564,34 @@ def counts_turns(text: str) -> bool:
         return False
 
 
+@lru_cache(maxsize=256)
+def radian_text(text: str) -> tuple[str | None, int]:
+    """Unit text that holds an angle, split for people: ``("kilonewton*meter", -1)`` for
+    ``kN*m/rad`` (a rotational stiffness: the factors that are no angle, and the power of
+    the radian the SI value is per), ``(None, 1)`` for ``rpm`` or ``deg/s`` where one
+    factor mixes a turn with a time, ``(None, 0)`` where the text holds no angle (Hz,
+    N*m), is a plain angle (deg: see :func:`is_angle`) or is not a unit."""
+    if is_angle(text):
+        return None, 0
+    try:
+        reg = registry()
+        names = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        roots = {n: dict(reg.Quantity(1.0, n).to_root_units().units._units) for n in names}
+    except Exception:  # noqa: BLE001 - not a unit pint reads: no angle
+        return None, 0
+    power = sum(float(r.get("radian", 0)) * float(names[n]) for n, r in roots.items())
+    if power != int(power) or not power:
+        return None, 0
+    if any("radian" in r and len(r) > 1 for r in roots.values()):
+        return None, int(power)
+    kept = {n: float(e) for n, e in names.items() if "radian" not in roots[n]}
+    up = "*".join(n + _power_text(e, False) for n, e in kept.items() if e > 0)
+    down = "*".join(n + _power_text(-e, False) for n, e in kept.items() if e < 0)
+    if not up:
+        return None, int(power)
+    return (up + (f"/({down})" if "*" in down else f"/{down}" if down else "")), int(power)
+
+
 def unit_size(dimension: Dimension) -> tuple[float, float, int]:
     """How involved a dimension's SI unit is, for ranking which unit is the likelier one:
     the sum of |exponents| of its base units, then of its factors with a derived unit
