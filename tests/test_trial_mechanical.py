@@ -143,3 +143,45 @@ def test_2_si_text_keeps_the_radian(typed, si_text, factor):
 
 
 
+
+
+# 3. Missing unit: a scan's poles, jumps and gaps were printed as bare numbers under a
+#    roots table headed in the unknown's unit (a column's buckling load in kN with the
+#    poles of its tan-type eigen-equation at "3254.6").
+
+COLUMN = "lam = L*sqrt(P/(E*I)); R = c*L/(E*I); lam^2 + R*(1 - lam/tan(lam)) = 0"
+COLUMN_PARAMS = ("--param", "L=4.2 m", "--param", "E=210 GPa", "--param", "I=2770 cm^4",
+                 "--param", "c=1800 kN*m/rad")
+
+
+def column_roots_kN(count: int) -> list[float]:
+    """The buckling loads of a column pinned at the top on a rotational spring c at the
+    base (lam^2 sin lam + R (sin lam - lam cos lam) = 0, derived by hand for this trial
+    from w'''' + k^2 w'' = 0; R = cL/EI), by scipy.optimize.brentq between the poles."""
+    import scipy.optimize
+
+    L, E, Ic, c = 4.2, 210e9, 2770e-8, 1800e3
+    R = c * L / (E * Ic)
+
+    def g(lam: float) -> float:
+        return lam ** 2 * math.sin(lam) + R * (math.sin(lam) - lam * math.cos(lam))
+
+    lams = [scipy.optimize.brentq(g, n * math.pi + 1e-9, (n + 1) * math.pi - 1e-9,
+                                  xtol=1e-15) for n in range(1, count + 1)]
+    return [lam ** 2 * E * Ic / L ** 2 / 1e3 for lam in lams]
+
+
+def test_3_a_scan_names_the_unit_of_its_poles(capsys):
+    code, out, _ = run(capsys, "scan", COLUMN, *COLUMN_PARAMS, "--unknown", "P",
+                       "--unknown-unit", "kN", "--from", "1", "--to", "40000")
+    assert code == 0
+    lines = [line for line in out.splitlines() if line.startswith("pole (not a root)")]
+    # the poles of cot: P = (n pi)^2 E I / L^2 (closed form), n = 1, 2, 3
+    E, Ic, L = 210e9, 2770e-8, 4.2
+    assert len(lines) == 3
+    for n, line in enumerate(lines, start=1):
+        assert line.endswith(" kN")
+        value = float(line.split("= ")[1].split()[0])
+        assert value == pytest.approx((n * math.pi) ** 2 * E * Ic / L ** 2 / 1e3, rel=1e-6)
+    roots = [float(m) for m in re.findall(r"^\d\s+([0-9.]+)", out, flags=re.M)]
+    assert roots == pytest.approx(column_roots_kN(3), rel=1e-10)
