@@ -59,7 +59,7 @@ def codes(remarks) -> list[str]:
 #    speed, with no word on any output. The product with pi is now remarked on every
 #    document; the note on any value in rpm says what the equation sees.
 
-def test_1_rpm_times_pi_is_remarked_on_every_output(capsys):
+def test_1_rpm_times_pi_is_remarked_on_every_output(capsys, tmp_path):
     code, out, _ = run(capsys, "solve", DISC.format(w="2*pi*N/60"), *DISC_PARAMS,
                        "--unknown", "N", "--unknown-unit", "rpm", "--x0", "3000",
                        "--method", "newton")
@@ -76,6 +76,11 @@ def test_1_rpm_times_pi_is_remarked_on_every_output(capsys):
                        "--method", "newton", "--json")
     notes = json.loads(out)["unit_notes"]
     assert any("converts it a second time" in n for n in notes)
+    csv_path = tmp_path / "disc.csv"
+    run(capsys, "solve", DISC.format(w="2*pi*N/60"), *DISC_PARAMS, "--unknown", "N",
+        "--unknown-unit", "rpm", "--x0", "3000", "--method", "newton", "--csv", str(csv_path))
+    assert any(line.lstrip('"').startswith("# units: 'N' is given in a unit that counts")
+               for line in csv_path.read_text(encoding="utf-8").splitlines())
 
 
 def test_1_rpm_written_as_the_angular_speed_is_right_and_said_so(capsys):
@@ -251,3 +256,60 @@ def test_4_a_long_system_typesets_from_page_one(capsys, tmp_path):
     pages = [p.extract_text() for p in pypdf.PdfReader(pdf).pages]
     assert "Typeset" in pages[0]  # the typeset lines start under the text as entered
     assert "Equations" in pages[1] and "Typeset" not in pages[1]
+
+
+# 5. A confident wrong answer: Newton's second law as US texts write it, F = m*a/gc, with
+#    m in lbm and gc typed as the bare 32.174, passed the dimensional check (gc is then a
+#    number) and solved to 1.74 lbf for 150 lbm at 12 ft/s^2, where 55.9 lbf is meant:
+#    lbm and lbf reach the equation as kg and N, where g_c is 1. A bare g_c (a parameter
+#    or a number typed in the equation) is now named on every output; with its unit the
+#    answer is the closed form's.
+
+GC_US = 150 * 12 / 32.174  # lbf: F = m a / g_c in lbm, ft/s^2 (closed form)
+
+
+def test_5_a_bare_gc_beside_lbm_is_named_on_every_output(capsys, tmp_path):
+    args = ("solve", "F = m*a/gc", "--param", "m=150 lbm", "--param", "a=12 ft/s^2",
+            "--param", "gc=32.174", "--unknown", "F", "--unknown-unit", "lbf",
+            "--method", "newton")
+    code, out, _ = run(capsys, *args)
+    assert code == 0 and "'gc' = 32.174 has no unit: is it g_c?" in out
+    assert "32.174 lbm*ft/(lbf*s^2)" in out
+    code, out, _ = run(capsys, *args, "--json")
+    assert any("is it g_c?" in n for n in json.loads(out)["unit_notes"])
+    # the number it gives is the closed form divided by g_c again: why the note is needed
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(GC_US / 32.174, rel=1e-4)
+    csv_path = tmp_path / "gc.csv"
+    code, _out, _ = run(capsys, *args, "--csv", str(csv_path))
+    assert any(line.lstrip('"').startswith("# units: 'gc' = 32.174 has no unit")
+               for line in csv_path.read_text(encoding="utf-8").splitlines())
+
+
+def test_5_a_number_typed_in_the_equation_is_named_too():
+    eq = parse_equation("F = m*a/32.2", unknown="F",
+                        parameters={"m": "150 lbm", "a": "12 ft/s^2"}, unknown_unit="lbf")
+    assert ("bare_gravity_constant", "32.2") in [(r.code, r.subject) for r in eq.remarks]
+
+
+def test_5_gc_with_its_unit_gives_the_closed_form_and_no_note():
+    eq = parse_equation("F = m*a/gc", unknown="F", unknown_unit="lbf",
+                        parameters={"m": "150 lbm", "a": "12 ft/s^2",
+                                    "gc": "32.174 lbm*ft/(lbf*s^2)"})
+    assert "bare_gravity_constant" not in codes(eq.remarks)
+    from solvers.methods import run_method
+
+    run = run_method("newton", eq.f, fprime=eq.fprime, x0=1.0)
+    assert run.converged
+    # NIST SP 811: 32.174 lbm*ft/(lbf*s^2) is 0.99999849 (g_n = 32.17405 ft/s^2), so the
+    # closed form in US numbers agrees to 2e-6
+    assert run.root == pytest.approx(GC_US, rel=2e-6)
+
+
+@pytest.mark.parametrize("values", [
+    {"m": 150.0, "a": 12.0, "gc": 32.174},  # no units anywhere: numbers as typed
+    {"m": "150 lbm", "a": "12 ft/s^2", "gc": 32.0},  # not g_c
+])
+def test_5_no_note_without_units_or_away_from_gc(values):
+    unit = "lbf" if isinstance(values["m"], str) else None
+    eq = parse_equation("F = m*a/gc", unknown="F", parameters=values, unknown_unit=unit)
+    assert "bare_gravity_constant" not in codes(eq.remarks)

@@ -35,6 +35,7 @@ from app.documents.words import (
     located_text,
     measured_text,
     offset_sums_text,
+    remark_text,
     remarks_text,
     residual_units,
     run_message,
@@ -122,6 +123,12 @@ def metadata(
     sums = [r.subject for r in remarks if getattr(r, "code", "") == "temperature_offset_sum"]
     if sums:  # a checker of the file must see it: the root may be 273.15 K off
         meta["temperatures"] = offset_sums_text(sums)
+    # likewise a speed in rpm converted twice, a g_c without its unit: the root may be 9.55
+    # or 32.174 times off
+    suspect = [remark_text(r) for r in remarks
+               if getattr(r, "code", "") in ("turns_times_pi", "bare_gravity_constant")]
+    if suspect:
+        meta["units"] = "; ".join(suspect)
     if settings:
         meta["settings"] = "; ".join(f"{k}={_setting(v)}" for k, v in settings.items())
     if extra:

@@ -28,6 +28,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
                           "temperature_offset_sum", "turn_units", "turns_times_pi",
+                          "bare_gravity_constant",
                           "unknown_dimension_free", "unknown_dimension_fractional",
                           "system_dimension_free", "unit_suspect"})
 
@@ -74,7 +75,22 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                 "second time, 2*pi/60 (rpm) or 2*pi (rev/s) too much; "
                                 "write it for the angular speed (w = N), or give "
                                 f"'{r.subject}' in Hz (1/s, no 2*pi) or with no unit",
+    "bare_gravity_constant": lambda r: _bare_gravity(r.subject, r.numbers),
 }
+
+
+def _bare_gravity(subject: str, numbers: Sequence[float]) -> str:
+    """A g_c typed without its unit beside values with units (numbers: the value, which
+    constant of solvers.units.gravity.GRAVITY_CONSTANTS)."""
+    from solvers.units.gravity import GRAVITY_CONSTANTS
+
+    unit = GRAVITY_CONSTANTS[int(numbers[1])][1]
+    what = (f"'{subject}' = {numbers[0]:g} has no unit" if subject.isidentifier()
+            else f"the number {subject} in the equation has no unit")
+    return (f"{what}: is it g_c? With units, lbm reaches the equation in kg and lbf (or "
+            "kgf) in N, where g_c is 1, so a bare g_c makes the force "
+            f"{numbers[0]:g} times too small (or too large); give it its unit "
+            f"({numbers[0]:g} {unit}) or leave it out")
 
 
 def _names(subject: str) -> str:
