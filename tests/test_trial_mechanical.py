@@ -313,3 +313,22 @@ def test_5_no_note_without_units_or_away_from_gc(values):
     unit = "lbf" if isinstance(values["m"], str) else None
     eq = parse_equation("F = m*a/gc", unknown="F", parameters=values, unknown_unit=unit)
     assert "bare_gravity_constant" not in codes(eq.remarks)
+
+
+# 6. Clarity: a modulus typed 200 GPa was shown in SI as "200000000000.0 Pa" (the terminal,
+#    the sheet's parameters, the window's notes), twelve digits whose zeros a checker must
+#    count; from 1e9 up the SI value keeps every digit with its power of ten.
+
+@pytest.mark.parametrize("typed, shown", [
+    ("200 GPa", "2e+11 Pa"),
+    ("30 Mpsi", "2.06842718795051e+11 Pa"),  # NIST SP 811: 1 psi = 6894.757293168 Pa
+    ("150 mm", "0.15 m"),  # small values as before
+])
+def test_6_large_si_values_carry_their_power_of_ten(typed, shown):
+    from solvers.units import convert_parameters
+
+    _values, converted = convert_parameters({"E": typed})
+    text = words.si_measure_text(converted["E"])
+    assert text == shown
+    number = float(text.split()[0])
+    assert number == pytest.approx(converted["E"].si_value, rel=1e-15)

@@ -81,9 +81,22 @@ def si_measure_text(converted: Any, show: Callable[[Any], str] | None = None) ->
     """A converted value in SI for people: ``0.15 m``, ``0.523598775598299 rad`` for an
     angle, the number alone for a pure ratio typed in % or ppm (its SI unit is the
     number 1, which written after the value would read as one more digit)."""
-    shown = (show or exact)(si_value_shown(converted))
+    value = si_value_shown(converted)
+    shown = (show or exact)(value)
+    if shown == exact(value) and abs(value) >= 1e9:
+        shown = _power_of_ten(value)
     si = si_unit_text(converted)
     return f"{shown} {si}" if si else shown
+
+
+def _power_of_ten(value: float) -> str:
+    """Every digit of a large value with its power of ten: 200 GPa in SI is 2e+11 Pa, not
+    200000000000.0 Pa, whose zeros a checker has to count (Python's repr writes the power
+    only from 1e16)."""
+    from decimal import Decimal
+
+    mantissa, power = f"{Decimal(repr(value)).normalize():e}".split("e")
+    return f"{mantissa}e{power[0]}{power[1:].zfill(2)}"  # e+09, as repr writes 1e-05
 
 
 def not_a_number(text: str) -> str:
