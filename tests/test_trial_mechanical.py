@@ -332,3 +332,31 @@ def test_6_large_si_values_carry_their_power_of_ten(typed, shown):
     assert text == shown
     number = float(text.split()[0])
     assert number == pytest.approx(converted["E"].si_value, rel=1e-15)
+
+
+# 7. A misleading refusal: a bolt preload typed "5000 lb" (the pound mass, where US
+#    drawings mean the pound-force) in T = K*d*F was refused naming the bare nut factor K
+#    ("the equation needs 'K' as an acceleration"), and "lb-in" was answered "write
+#    lb*in", a mass times a length. The refusal now names F and the pound-force, and the
+#    hyphen's answer is lbf*in.
+
+def test_7_a_force_typed_in_lb_is_named_with_lbf(capsys):
+    args = ("solve", "T = K*d*F", "--param", "K=0.2", "--param", "d=0.5 in",
+            "--unknown", "T", "--unknown-unit", "lbf*in")
+    code, _out, err = run(capsys, *args, "--param", "F=5000 lb")
+    assert code == 2
+    assert "'F' in 'lb' is a mass" in err and "type lbf for the pound-force" in err
+    assert "'K' has no unit" not in err
+    code, out, _ = run(capsys, *args, "--param", "F=5000 lbf", "--json")
+    # the short-form torque T = K d F in US numbers (common practice, from memory)
+    assert code == 0
+    for r in json.loads(out)["runs"]:
+        assert r["root"] == pytest.approx(0.2 * 0.5 * 5000, rel=1e-12)
+
+
+@pytest.mark.parametrize("typed, meant", [("lb-in", "lbf*in"), ("ft-lb", "ft*lbf"),
+                                          ("Btu/lb-degF", "Btu/(lb*degF)")])
+def test_7_a_hyphenated_pound_length_is_answered_with_lbf(capsys, typed, meant):
+    code, _out, err = run(capsys, "solve", "T = 2*c", "--param", f"c=3 {typed}",
+                          "--unknown", "T")
+    assert code == 2 and f"write {meant}" in err

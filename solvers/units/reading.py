@@ -308,6 +308,11 @@ def converter(from_text: str, to_text: str | None) -> Callable[[float], float] |
     return convert
 
 
+# a pound beside a length in a product (lb*in, ft*lb, lbs*ft): a moment written US-style
+_POUND = re.compile(r"(?<![A-Za-z_])lbs?(?![A-Za-z_])")
+_POUND_LENGTH = re.compile(r"(?<![A-Za-z_/])(?:lbs?\*(?:in|ft)|(?:in|ft)\*lbs?)(?![A-Za-z_])")
+
+
 def unit_text_problem(text: Any) -> str:
     """What is wrong with unit text before pint reads it ('' if nothing): type, length,
     characters. Cheap and without pint, for checks while typing."""
@@ -331,6 +336,12 @@ def unit_text_problem(text: Any) -> str:
             names = [grouped.group(1), *re.findall(_UNIT_NAME, grouped.group(2))]
             meant = (meant[:grouped.start()] + "/(" + "*".join(names) + ")"
                      + meant[grouped.end():])
+        if _POUND_LENGTH.search(meant):
+            # lb-in, ft-lb: a torque or a work in US practice, where lb is the pound-force
+            # (read as typed it is the pound mass, and the check refuses it further on)
+            meant = _POUND.sub("lbf", meant)
+            return (f"unit '{stripped}': a hyphen is no product sign, and lb alone is the "
+                    f"pound mass; for a torque or a work write {meant}")
         return f"unit '{stripped}': a hyphen is no product sign; write {meant}"
     product = _PRODUCT_AFTER_SLASH.search(stripped)
     if product:
