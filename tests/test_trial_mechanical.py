@@ -360,3 +360,46 @@ def test_7_a_hyphenated_pound_length_is_answered_with_lbf(capsys, typed, meant):
     code, _out, err = run(capsys, "solve", "T = 2*c", "--param", f"c=3 {typed}",
                           "--unknown", "T")
     assert code == 2 and f"write {meant}" in err
+
+
+# 8. A confident wrong answer, the converse of 1: a single-degree spring-mass frequency
+#    written for the angular frequency, k - m*w^2 = 0, with the unknown w in Hz, solved to
+#    84.16 "Hz" (omega's number: Hz is 1/s, cycles per second, no 2*pi) where the natural
+#    frequency is 13.39 Hz. A name in Hz used as an angular frequency (squared, or inside
+#    sin or exp) and never multiplied by pi is now named; 2*pi*f, and f in v = f*lam,
+#    stay quiet.
+
+def test_8_hz_used_as_an_angular_frequency_is_named(capsys):
+    args = ("solve", "k - m*w^2 = 0", "--param", "k=850 N/mm", "--param", "m=120 kg",
+            "--unknown", "w", "--unknown-unit", "Hz", "--x0", "10", "--method", "newton")
+    code, out, _ = run(capsys, *args)
+    assert code == 0 and "'w' given in Hz reaches the equation as cycles per second" in out
+    code, out, _ = run(capsys, *args, "--json")
+    omega = math.sqrt(850e3 / 120)  # closed form, rad/s
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(omega, rel=1e-12)
+    assert any("2*pi times too large" in n for n in json.loads(out)["unit_notes"])
+
+
+@pytest.mark.parametrize("text, unknown, values", [
+    ("k - m*(2*pi*f)^2 = 0", "f", {"k": "850 N/mm", "m": "120 kg"}),
+    ("v = f*lam", "lam", {"v": "340 m/s", "f": "1 kHz"}),
+])
+def test_8_hz_with_two_pi_or_as_a_plain_rate_is_quiet(text, unknown, values):
+    eq = parse_equation(text, unknown=unknown, parameters=values,
+                        unknown_unit="Hz" if unknown == "f" else None)
+    assert "hertz_without_pi" not in codes(eq.remarks)
+    if unknown == "f":
+        from solvers.methods import run_method
+
+        run = run_method("brent", eq.f, bracket=(1.0, 50.0))
+        # closed form f = sqrt(k/m) / (2 pi)
+        assert run.root == pytest.approx(math.sqrt(850e3 / 120) / (2 * math.pi), rel=1e-12)
+
+
+def test_8_the_sensor_boom_in_hz_with_two_pi_says_nothing_of_hz():
+    eq = parse_equation("w = 2*pi*f; b = L*(rho*A*w^2/(E*I))^0.25; "
+                        "1 + cos(b)*cosh(b) + M/(rho*A*L)*b*(cos(b)*sinh(b) - sin(b)*cosh(b))"
+                        " = 0", unknown="f", unknown_unit="Hz",
+                        parameters={"L": "850 mm", "E": "200 GPa", "I": "21300 mm^4",
+                                    "A": "175.9 mm^2", "rho": "7850 kg/m^3", "M": "1.2 kg"})
+    assert "hertz_without_pi" not in codes(eq.remarks)

@@ -123,10 +123,11 @@ def metadata(
     sums = [r.subject for r in remarks if getattr(r, "code", "") == "temperature_offset_sum"]
     if sums:  # a checker of the file must see it: the root may be 273.15 K off
         meta["temperatures"] = offset_sums_text(sums)
-    # likewise a speed in rpm converted twice, a g_c without its unit: the root may be 9.55
-    # or 32.174 times off
+    # likewise a speed in rpm converted twice, a g_c without its unit, a frequency in Hz
+    # without 2*pi: the root may be 9.55, 32.174 or 2*pi times off
     suspect = [remark_text(r) for r in remarks
-               if getattr(r, "code", "") in ("turns_times_pi", "bare_gravity_constant")]
+               if getattr(r, "code", "") in ("turns_times_pi", "bare_gravity_constant",
+                                             "hertz_without_pi")]
     if suspect:
         meta["units"] = "; ".join(suspect)
     if settings:

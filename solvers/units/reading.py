@@ -576,6 +576,20 @@ def counts_turns(text: str) -> bool:
 
 
 @lru_cache(maxsize=256)
+def counts_cycles(text: str) -> bool:
+    """Whether unit text is a frequency typed in hertz (Hz, kHz, MHz): 1/s in SI, cycles
+    per second with no 2π (see :mod:`solvers.units.turns`); False for 1/s, rpm and text
+    that is not a unit."""
+    try:
+        reg = registry()
+        names = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+    except Exception:  # noqa: BLE001 - not a unit pint reads
+        return False
+    return names.keys() and all(n.endswith("hertz") for n in names) and all(
+        float(e) == 1.0 for e in names.values()) or False
+
+
+@lru_cache(maxsize=256)
 def radian_text(text: str) -> tuple[str | None, int]:
     """Unit text that holds an angle, split for people: ``("kilonewton*meter", -1)`` for
     ``kN*m/rad`` (a rotational stiffness: the factors that are no angle, and the power of

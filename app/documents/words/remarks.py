@@ -28,7 +28,7 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
                           "temperature_offset_sum", "turn_units", "turns_times_pi",
-                          "bare_gravity_constant",
+                          "bare_gravity_constant", "hertz_without_pi",
                           "unknown_dimension_free", "unknown_dimension_fractional",
                           "system_dimension_free", "unit_suspect"})
 
@@ -76,6 +76,12 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                 "write it for the angular speed (w = N), or give "
                                 f"'{r.subject}' in Hz (1/s, no 2*pi) or with no unit",
     "bare_gravity_constant": lambda r: _bare_gravity(r.subject, r.numbers),
+    "hertz_without_pi": lambda r: f"'{r.subject}' given in Hz reaches the equation as "
+                                  "cycles per second (1/s, no 2*pi), and the equation "
+                                  "does not multiply it by pi: if it is written for the "
+                                  "angular frequency in rad/s (k - m*w^2 = 0), a root in "
+                                  "Hz is 2*pi times too large; put 2*pi*"
+                                  f"{r.subject} in its place, or give it in rad/s",
 }
 
 
