@@ -43,10 +43,13 @@ def test_1_the_status_line_names_rpm_converted_twice(qtbot, window):
     type_disc(qtbot, w, "2*pi*N/60")
     qtbot.waitUntil(lambda: "converts it a second time" in w.strip.status.text(),
                     timeout=10_000)
+    # a warning, not beside a tick: the root it leads to is 9.55 times off
+    assert w.strip.status.text().startswith("⚠ ")
     type_disc(qtbot, w, "N")
     qtbot.waitUntil(lambda: "converts it a second time" not in w.strip.status.text(),
                     timeout=10_000)
     assert "rad/s" in w.strip.status.text()
+    assert w.strip.status.text().startswith("✓ ")
     type_into(qtbot, w.inputs.fields["x0"], "3000")
     QTest.keyClick(w.inputs.fields["x0"], Qt.Key.Key_Return)
     solution = solve_by_keys(qtbot, w)

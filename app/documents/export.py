@@ -30,6 +30,7 @@ from app.documents.words import (
     CAUTION,
     DIMENSIONS_UNCHECKED,
     IN_UNKNOWN_UNIT,
+    SUSPECT_REMARKS,
     UNIT_REMARKS,
     confirmed_text,
     located_text,
@@ -126,8 +127,7 @@ def metadata(
     # likewise a speed in rpm converted twice, a g_c without its unit, a frequency in Hz
     # without 2*pi: the root may be 9.55, 32.174 or 2*pi times off
     suspect = [remark_text(r) for r in remarks
-               if getattr(r, "code", "") in ("turns_times_pi", "bare_gravity_constant",
-                                             "hertz_without_pi")]
+               if getattr(r, "code", "") in SUSPECT_REMARKS - {"temperature_offset_sum"}]
     if suspect:
         meta["units"] = "; ".join(suspect)
     if settings:

@@ -32,6 +32,12 @@ UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
                           "unknown_dimension_free", "unknown_dimension_fractional",
                           "system_dimension_free", "unit_suspect"})
 
+# The remarks that say a root may be off by a factor (a sum 273.15 K off, a speed in rpm
+# converted twice, a g_c without its unit, a frequency in Hz used as one in rad/s): the
+# window's status line shows them as a warning, not beside a tick
+SUSPECT_REMARKS = frozenset({"temperature_offset_sum", "turns_times_pi",
+                             "bare_gravity_constant", "hertz_without_pi"})
+
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
 
