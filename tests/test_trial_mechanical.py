@@ -403,3 +403,23 @@ def test_8_the_sensor_boom_in_hz_with_two_pi_says_nothing_of_hz():
                         parameters={"L": "850 mm", "E": "200 GPa", "I": "21300 mm^4",
                                     "A": "175.9 mm^2", "rho": "7850 kg/m^3", "M": "1.2 kg"})
     assert "hertz_without_pi" not in codes(eq.remarks)
+
+
+def test_1_the_sheet_names_rpm_converted_twice(capsys, tmp_path):
+    import pypdf
+
+    worksheet = {
+        "format": "zerotrace-worksheet", "version": 1,
+        "title": "First forward critical speed of an overhung fan disc (invented)",
+        "equation": DISC.format(w="2*pi*N/60"), "unknown": "N", "unknown_unit": "rpm",
+        "parameters": [{"name": n, "value": float(v.split()[0]), "unit": v.split()[1]}
+                       for n, v in DISC_VALUES.items()],
+        "settings": {"methods": ["newton"], "x0": 3000.0}, "scan": {"from": 100.0,
+                                                                   "to": 60000.0}}
+    path = tmp_path / "disc.json"
+    path.write_text(json.dumps(worksheet), encoding="utf-8")
+    pdf = tmp_path / "disc.pdf"
+    code, _out, _err = run(capsys, "report", str(path), "--pdf", str(pdf))
+    assert code == 0
+    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(pdf).pages)
+    assert "converts it a second time" in text
