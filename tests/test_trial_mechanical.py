@@ -423,3 +423,23 @@ def test_1_the_sheet_names_rpm_converted_twice(capsys, tmp_path):
     assert code == 0
     text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(pdf).pages)
     assert "converts it a second time" in text
+
+
+# 9. Words: a table of columns whose brackets closed on a pole of the eigen-equation
+#    (scipy.optimize.brentq returns the pole, P = pi^2 E I / L^2, as its "root") stopped
+#    "on not finite", "domain error or overflow", with no word of a pole. The reason now
+#    names it.
+
+def test_9_a_table_row_closed_on_a_pole_says_pole(capsys, tmp_path):
+    table = tmp_path / "columns.csv"
+    table.write_text("c [kN*m/rad],bracket_a,bracket_b\n1800,3300,13000\n1800,3000,3600\n",
+                     encoding="utf-8")
+    code, out, _ = run(capsys, "batch", COLUMN, "--table", str(table),
+                       *COLUMN_PARAMS[:6], "--unknown", "P", "--unknown-unit", "kN",
+                       "--method", "brent", "--json")
+    assert code == 0
+    data = json.loads(out)
+    first, second = data["rows"][0], data["rows"][1]
+    assert first["root"] == pytest.approx(column_roots_kN(1)[0], rel=1e-10)  # brentq
+    assert not second["converged"] and second["reason"] == "not_finite"
+    assert "closed on a pole" in data["reasons"]["not_finite"]
