@@ -80,7 +80,8 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                 "for revolutions (2*pi*N/60, pi*D*N) converts it a "
                                 "second time, 2*pi/60 (rpm) or 2*pi (rev/s) too much; "
                                 "write it for the angular speed (w = N), or give "
-                                f"'{r.subject}' in Hz (1/s, no 2*pi) or with no unit",
+                                f"'{r.subject}' as a plain number, in the unit the "
+                                "formula was written for",
     "bare_gravity_constant": lambda r: _bare_gravity(r.subject, r.numbers),
     "hertz_without_pi": lambda r: f"'{r.subject}' given in Hz reaches the equation as "
                                   "cycles per second (1/s, no 2*pi), and the equation "
