@@ -443,3 +443,28 @@ def test_9_a_table_row_closed_on_a_pole_says_pole(capsys, tmp_path):
     assert first["root"] == pytest.approx(column_roots_kN(1)[0], rel=1e-10)  # brentq
     assert not second["converged"] and second["reason"] == "not_finite"
     assert "closed on a pole" in data["reasons"]["not_finite"]
+
+
+# 10. Typesetting: the derivative of a four-bar linkage's closure equation, with the ground
+#     link named d (K1 = d/a), was set "d sin(t4)/a" on the sheet and in the window: the
+#     differential d(sin t4) to the eye (ISO 80000-2 writes the differential as d). A
+#     product holding d is now set apart by a dot, as one holding a multi-letter name.
+
+def test_10_a_product_with_d_is_dotted_in_the_typeset_derivative():
+    from solvers.equation.typeset import lines_latex
+
+    eq = parse_equation("K1 = d/a; K1*cos(t4) - K2*cos(t2) + K3 = cos(t2 - t4)",
+                        unknown="t4", parameters={"d": 100.0, "a": 40.0, "K2": 1.25,
+                                                  "K3": 1.1, "t2": 0.61})
+    tex = eq.derivative_latex
+    assert r"d \cdot \mathrm{sin}" in tex
+    assert "d \\mathrm{sin}" not in tex
+    (_line, typed), = lines_latex("d*x = 1")  # the equation as typed, dotted alike
+    assert r"d \cdot x" in typed
+    # the derivative itself is unchanged: against a central difference of f at t4 = 1
+    # (common practice) and its closed form
+    h = 1e-6
+    numeric = (eq.f(1.0 + h) - eq.f(1.0 - h)) / (2 * h)
+    assert eq.fprime(1.0) == pytest.approx(numeric, rel=1e-7)
+    assert eq.fprime(1.0) == pytest.approx(-2.5 * math.sin(1.0) - math.sin(0.61 - 1.0),
+                                           rel=1e-12)  # closed form
