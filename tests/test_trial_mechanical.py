@@ -468,3 +468,15 @@ def test_10_a_product_with_d_is_dotted_in_the_typeset_derivative():
     assert eq.fprime(1.0) == pytest.approx(numeric, rel=1e-7)
     assert eq.fprime(1.0) == pytest.approx(-2.5 * math.sin(1.0) - math.sin(0.61 - 1.0),
                                            rel=1e-12)  # closed form
+
+
+def test_5_a_system_names_a_bare_gc_too():
+    # a hoist's rope force and the load's acceleration (invented): F = m*a/gc, F = k*x
+    system = parse_system("F = m*a/gc; F = k*x", unknowns=["F", "a"],
+                          parameters={"m": "150 lbm", "gc": 32.174, "k": "40 lbf/in",
+                                      "x": "1.5 in"},
+                          unknown_units={"F": "lbf", "a": "ft/s^2"})
+    assert ("bare_gravity_constant", "gc") in [(r.code, r.subject) for r in system.remarks]
+    plain = parse_system("F = m*a/gc; F = k*x", unknowns=["F", "a"],
+                         parameters={"m": 150.0, "gc": 32.174, "k": 40.0, "x": 1.5})
+    assert "bare_gravity_constant" not in codes(plain.remarks)
