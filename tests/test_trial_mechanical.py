@@ -480,3 +480,28 @@ def test_5_a_system_names_a_bare_gc_too():
     plain = parse_system("F = m*a/gc; F = k*x", unknowns=["F", "a"],
                          parameters={"m": 150.0, "gc": 32.174, "k": 40.0, "x": 1.5})
     assert "bare_gravity_constant" not in codes(plain.remarks)
+
+
+def test_3_the_sheet_gives_the_figure_range_in_the_unknowns_unit(capsys, tmp_path):
+    import pypdf
+
+    worksheet = {
+        "format": "zerotrace-worksheet", "version": 1,
+        "title": "Buckling load of a column on a rotational spring (invented)",
+        "equation": COLUMN, "unknown": "P", "unknown_unit": "kN",
+        "parameters": [{"name": "L", "value": 4.2, "unit": "m"},
+                       {"name": "E", "value": 210.0, "unit": "GPa"},
+                       {"name": "I", "value": 2770.0, "unit": "cm^4"},
+                       {"name": "c", "value": 1800.0, "unit": "kN*m/rad"}],
+        "settings": {"methods": ["brent"], "bracket": [3300.0, 13000.0]},
+        "scan": {"from": 1.0, "to": 40000.0}}
+    path = tmp_path / "column.json"
+    path.write_text(json.dumps(worksheet), encoding="utf-8")
+    pdf = tmp_path / "column.pdf"
+    code, _out, _err = run(capsys, "report", str(path), "--pdf", str(pdf))
+    assert code == 0
+    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(pdf).pages)
+    assert "over the scan range [1.0, 40000.0] kN" in text
+    # the sheet's roots: brentq between the poles
+    shown = re.findall(r"Brent (\d+\.\d+)", text)
+    assert float(shown[0]) == pytest.approx(column_roots_kN(1)[0], rel=1e-12)
