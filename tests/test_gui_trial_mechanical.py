@@ -58,3 +58,19 @@ def test_1_the_status_line_names_rpm_converted_twice(qtbot, window):
     assert converged
     for run in converged:
         assert run.root == pytest.approx(expected, rel=1e-6)
+
+
+# 11 (the window). Changing the unknown's unit box from rpm to Hz turned a start value of
+# 3000 rpm into 314.159 Hz (SI's reading: rpm in rad/s, Hz in 1/s); a shaft's speed of
+# 3000 rev/min is 50 rev/s, 50 Hz (NIST SP 811: 1 r/min = 1/60 r/s). A revolution is now
+# counted as one cycle, and the status bar says so.
+def test_11_rpm_to_hz_in_the_unit_box_counts_a_revolution_as_a_cycle(qtbot, window):
+    w = window
+    type_disc(qtbot, w, "N")
+    type_into(qtbot, w.inputs.fields["x0"], "3000")
+    QTest.keyClick(w.inputs.fields["x0"], Qt.Key.Key_Return)
+    type_into(qtbot, w.strip.unit_box, "Hz")
+    QTest.keyClick(w.strip.unit_box, Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: w.inputs.fields["x0"].value() is not None
+                    and abs(w.inputs.fields["x0"].value() - 50.0) < 1e-9, timeout=10_000)
+    assert "a revolution counted as one cycle" in w.statusBar().currentMessage()

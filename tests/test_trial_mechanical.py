@@ -505,3 +505,19 @@ def test_3_the_sheet_gives_the_figure_range_in_the_unknowns_unit(capsys, tmp_pat
     # the sheet's roots: brentq between the poles
     shown = re.findall(r"Brent (\d+\.\d+)", text)
     assert float(shown[0]) == pytest.approx(column_roots_kN(1)[0], rel=1e-12)
+
+
+# 11. Converting a speed between turns and cycles (the window's unit box, rpm to Hz) gave
+#     3000 rpm as 314.16 Hz; a revolution is now one cycle: 3000 rev/min is 50 Hz.
+
+@pytest.mark.parametrize("source, target, value, expected", [
+    ("rpm", "Hz", 3000.0, 50.0),  # NIST SP 811: 1 r/min = (1/60) r/s
+    ("Hz", "rpm", 50.0, 3000.0),
+    ("deg/s", "Hz", 360.0, 1.0),  # one turn a second
+    ("rpm", "rad/s", 3000.0, 3000.0 * RPM),  # NIST SP 811's rad/s per rpm, unchanged
+    ("Hz", "kHz", 50.0, 0.05),
+])
+def test_11_speed_conversions_count_a_revolution_as_a_cycle(source, target, value, expected):
+    from solvers.units import converter
+
+    assert converter(source, target)(value) == pytest.approx(expected, rel=1e-6)

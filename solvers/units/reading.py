@@ -292,7 +292,8 @@ def converter(from_text: str, to_text: str | None) -> Callable[[float], float] |
     """The conversion of an absolute value from one unit to another of the same dimension
     (``to_text`` None or blank: the SI unit of that dimension), as a function of the
     value; None where either text is no unit or the dimensions differ. An absolute
-    temperature keeps its offset (20 degC is 293.15 K and 68 degF)."""
+    temperature keeps its offset (20 degC is 293.15 K and 68 degF); a speed in turns
+    goes to Hz counting a revolution as a cycle (3000 rpm is 50 Hz: :func:`turns_to_cycles`)."""
     try:
         source = read_unit(from_text)
         target = read_unit(to_text) if to_text and to_text.strip() else \
@@ -301,11 +302,24 @@ def converter(from_text: str, to_text: str | None) -> Callable[[float], float] |
         return None
     if source.dimension != target.dimension:
         return None
+    # a speed between turns and cycles (rpm and Hz): one revolution is one cycle, 3000 rpm
+    # is 50 Hz, as an engineer converts a speed; SI's reading (rpm in rad/s, Hz in 1/s)
+    # would make it 314.16 Hz
+    turns = 2.0 * math.pi if turns_to_cycles(from_text, target.text) else \
+        1.0 / (2.0 * math.pi) if turns_to_cycles(target.text, from_text) else 1.0
 
     def convert(value: float) -> float:
-        return (value * source.factor + source.offset - target.offset) / target.factor
+        return (value * source.factor / turns + source.offset - target.offset) / target.factor
 
     return convert
+
+
+def turns_to_cycles(from_text: str, to_text: str) -> bool:
+    """Whether a conversion goes from a rate counted in turns or degrees (rpm, rev/s,
+    deg/s: rad/s in SI) to one in Hz (cycles per second, 1/s in SI), where a revolution
+    is taken as one cycle (:func:`converter`)."""
+    return (counts_turns(from_text) and radian_text(from_text)[1] == 1
+            and counts_cycles(to_text))
 
 
 # a pound beside a length in a product (lb*in, ft*lb, lbs*ft): a moment written US-style
