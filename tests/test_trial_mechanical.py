@@ -461,6 +461,8 @@ def test_10_a_product_with_d_is_dotted_in_the_typeset_derivative():
     assert "d \\mathrm{sin}" not in tex
     (_line, typed), = lines_latex("d*x = 1")  # the equation as typed, dotted alike
     assert r"d \cdot x" in typed
+    (_line, typed), = lines_latex("A = pi*d^2/4")  # a diameter squared is no differential
+    assert typed == r"A = \frac{\pi d^{2}}{4}"
     # the derivative itself is unchanged: against a central difference of f at t4 = 1
     # (common practice) and its closed form
     h = 1e-6

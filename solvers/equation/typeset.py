@@ -54,7 +54,10 @@ def _named_factor(factor: Any) -> bool:
     name, _, _ = split_super_sub(base.name)
     # a lone d beside another factor reads as a differential: the derivative of a
     # linkage's K1*cos(t4) with K1 = d/a was set "d sin(t4)/a", d(sin t4) to the eye
-    return base.name == "d" or bool(_MULTI_LETTER.fullmatch(translate(name)))
+    # (d^2, a diameter squared, reads as one: "pi d^2/4" stays as it was)
+    if base.name == "d":
+        return not isinstance(factor, sp.Pow)
+    return bool(_MULTI_LETTER.fullmatch(translate(name)))
 
 
 class _MathtextLatexPrinter(LatexPrinter):
@@ -259,7 +262,8 @@ class _Typesetter:
             return base
         self.advance()
         exponent = self.signed()
-        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW, named=base.named)
+        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW,
+                    named=base.named and base.tex != "d")  # d^2 is no differential
 
     def primary(self) -> _Tex:
         t = self.advance()
