@@ -143,12 +143,14 @@ def print_scan(scan, unknown: str, unit: str | None = None,
         print(_table(["#", _labelled("x", unit), _labelled("residual", residual),
                       "multiplicity", "confirmed by",
                       "located by"], rows))
+    # in the unknown's unit, as the roots' column: a pole of a load in kN is no pole in N
+    at = f" {unit}" if unit else ""
     for x in scan.poles:
-        print(f"pole (not a root) near {unknown} = {_g(x)}")
+        print(f"pole (not a root) near {unknown} = {_g(x)}{at}")
     for x in scan.discontinuities:
-        print(f"jump (not a root) at {unknown} = {_g(x)}")
+        print(f"jump (not a root) at {unknown} = {_g(x)}{at}")
     for a, b in scan.gaps:
-        print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]")
+        print(f"undefined for {unknown} in [{_g(a)}, {_g(b)}]{at}")
     for w in words.scan_warnings(scan):
         print(f"warning: {w}")
     print(f"\n{caution()}")

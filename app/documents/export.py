@@ -30,10 +30,12 @@ from app.documents.words import (
     CAUTION,
     DIMENSIONS_UNCHECKED,
     IN_UNKNOWN_UNIT,
+    SUSPECT_REMARKS,
     confirmed_text,
     located_text,
     measured_text,
     offset_sums_text,
+    remark_text,
     residual_units,
     run_message,
     scan_warnings,
@@ -121,6 +123,12 @@ def metadata(
     sums = [r.subject for r in remarks if getattr(r, "code", "") == "temperature_offset_sum"]
     if sums:  # a checker of the file must see it: the root may be 273.15 K off
         meta["temperatures"] = offset_sums_text(sums)
+    # likewise a speed in rpm converted twice, a g_c without its unit, a frequency in Hz
+    # without 2*pi: the root may be 9.55, 32.174 or 2*pi times off
+    suspect = [remark_text(r) for r in remarks
+               if getattr(r, "code", "") in SUSPECT_REMARKS - {"temperature_offset_sum"}]
+    if suspect:
+        meta["units"] = "; ".join(suspect)
     if settings:
         meta["settings"] = "; ".join(f"{k}={_setting(v)}" for k, v in settings.items())
     if extra:

@@ -35,7 +35,12 @@ from PySide6.QtWidgets import (
 )
 
 from app.documents.figures import typesetting
-from app.documents.words import derivative_heading, remarks_text, residual_name
+from app.documents.words import (
+    SUSPECT_REMARKS,
+    derivative_heading,
+    remarks_text,
+    residual_name,
+)
 from app.documents.worksheet import MAX_EQUATION
 from app.window.models import number_font
 from solvers.pipeline import compiled_for
@@ -510,7 +515,9 @@ class EquationStrip(QWidget):
                 message += " " + CHOOSE_UNKNOWN
             if analysis.notes:
                 message += "  " + "  ".join(analysis.notes)
-            self._set_status(message, ok=not analysis.ambiguous)
+            warn = any(r.code in SUSPECT_REMARKS
+                       for r in getattr(analysis.equation, "remarks", ()))
+            self._set_status(message, ok=not analysis.ambiguous, warn=warn)
         else:
             where = ""
             if analysis.position is not None and "column" not in analysis.error:
@@ -553,7 +560,14 @@ class EquationStrip(QWidget):
         """Resolution for the typeset forms on this screen (call in the UI thread)."""
         return TYPESET_DPI * (self.equation_view.devicePixelRatioF() or 1.0)
 
-    def _set_status(self, text: str, *, ok: bool) -> None:
+    def _set_status(self, text: str, *, ok: bool, warn: bool = False) -> None:
+        """✓ in green when the equation is ready; ⚠ in amber when it is ready but a note
+        says the root may be off by a factor (words.SUSPECT_REMARKS: a tick beside "the
+        root is 9.55 times off" read as all clear); ✗ in bold vermillion for an error."""
+        if ok and warn:
+            self.status.setText("⚠ " + text)
+            self.status.setStyleSheet("color: #8A5A00; font-weight: bold;")
+            return
         self.status.setText(("✓ " if ok else "✗ ") + text)
         self.status.setStyleSheet("color: #1F5F3F;" if ok else "color: #8A2B00; font-weight: bold;")
 

@@ -257,10 +257,15 @@ class MainWindow(QMainWindow):
             return
         changed = self.inputs.convert_fields(("x0", "x1", "a", "b", "from", "to"), convert)
         if changed:
+            from solvers.units.reading import turns_to_cycles
+
             shown = target or "SI"
+            cycles = (" (a revolution counted as one cycle: 60 rpm is 1 Hz)"
+                      if turns_to_cycles(source, target) or turns_to_cycles(target, source)
+                      else "")
             self.statusBar().showMessage(
-                f"Start values, bracket and scan range converted from {source} to {shown}",
-                15000)
+                f"Start values, bracket and scan range converted from {source} to {shown}"
+                + cycles, 15000)
 
     def _on_edit(self) -> None:
         self._on_edit_quiet()

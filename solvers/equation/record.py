@@ -496,6 +496,22 @@ def _angle_remarks(remarks: tuple[Remark, ...], unknown: str, unknown_unit: str 
         Remark("angle_units", ", ".join(angled)),)
 
 
+def _gravity_remarks(core: _Core, values: Mapping[str, Any],
+                     used: Mapping[str, Converted]) -> tuple[Remark, ...]:
+    """A g_c typed as a bare number beside values with units (32.174 in F = m*a/gc with m
+    in lbm: 32.174 times too small; see solvers.units.gravity); the equation's numbers
+    are read from its tokens once per parse."""
+    from solvers.units.gravity import gravity_remarks
+
+    tokens = core.cache.get("tokens")
+    if tokens is None:
+        from solvers.equation.lexer import tokenize
+
+        tokens = core.cache["tokens"] = tuple(t for t in tokenize(core.text)
+                                              if t.kind == "num")
+    return tuple(Remark(*r) for r in gravity_remarks(values, used, tokens))
+
+
 def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
           converted: Mapping[str, Converted] | None = None) -> Equation:
     unknown_unit = None
@@ -506,6 +522,8 @@ def _bind(core: _Core, values: dict[str, Any], remarks: tuple[Remark, ...],
         unknown_unit = resolution.unknown_unit
         remarks = _angle_remarks(remarks, core.unknown, unknown_unit, used) + tuple(
             Remark(*r) for r in resolution.remarks)
+        if used or core.units.unit is not None:
+            remarks += _gravity_remarks(core, values, used)
     args = tuple(values.values())
     scalar = all(v.__class__ is float for v in args)
     rows: tuple[int, ...] = ()

@@ -46,11 +46,17 @@ _NAME_DOT = r" \cdot "
 
 
 def _named_factor(factor: Any) -> bool:
-    """Whether a factor of a product is a multi-letter name or a power of one."""
+    """Whether a factor of a product is a multi-letter name or a power of one, or the
+    name d (set apart by \\cdot as they are)."""
     base = factor.base if isinstance(factor, sp.Pow) else factor
     if not isinstance(base, sp.Symbol):
         return False
     name, _, _ = split_super_sub(base.name)
+    # a lone d beside another factor reads as a differential: the derivative of a
+    # linkage's K1*cos(t4) with K1 = d/a was set "d sin(t4)/a", d(sin t4) to the eye
+    # (d^2, a diameter squared, reads as one: "pi d^2/4" stays as it was)
+    if base.name == "d":
+        return not isinstance(factor, sp.Pow)
     return bool(_MULTI_LETTER.fullmatch(translate(name)))
 
 
@@ -256,7 +262,8 @@ class _Typesetter:
             return base
         self.advance()
         exponent = self.signed()
-        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW, named=base.named)
+        return _Tex(f"{_paren(base, _ATOM)}^{{{exponent.tex}}}", _POW,
+                    named=base.named and base.tex != "d")  # d^2 is no differential
 
     def primary(self) -> _Tex:
         t = self.advance()
@@ -288,7 +295,7 @@ class _Typesetter:
         tex = self.symbols.get(t.text)
         if tex is None:
             tex = self.symbols[t.text] = latex(sp.Symbol(t.text))
-        return _Tex(tex, _ATOM, named=tex.startswith(r"\mathrm{"))
+        return _Tex(tex, _ATOM, named=tex.startswith(r"\mathrm{") or t.text == "d")
 
     @staticmethod
     def call(name: str, args: list[str]) -> _Tex:

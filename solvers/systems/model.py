@@ -31,7 +31,7 @@ from solvers.equation.compile import Code, floatify_big
 from solvers.equation.lexer import CONSTANT_NAMES, EquationError, _fail
 from solvers.equation.lines import Line, Reading, check_shadowing, read_lines
 from solvers.equation.parser import _is_bad
-from solvers.equation.record import _PASSES, _check_message
+from solvers.equation.record import _PASSES, Remark, _check_message
 from solvers.equation.values import misnamed_hint, validate_parameters
 from solvers.systems import units as system_units
 from solvers.systems.structure import Block, block_order
@@ -389,4 +389,21 @@ def parse_system(text: str, unknowns: Sequence[str] | None = None,
         _si_definition_exprs=tuple(d.expr for d in reading.definitions),
         unknown_units=units.units,
         parameter_units={n: c for n, c in converted.items() if n in param_names},
-        check_dimensions=bool(check_dimensions), remarks=units.remarks)
+        check_dimensions=bool(check_dimensions),
+        remarks=units.remarks + _gravity(text, param_names, values, converted, chosen_units))
+
+
+def _gravity(text: str, names: Sequence[str], values: Mapping[str, Any],
+             converted: Mapping[str, Any], chosen_units: Mapping[str, Any]
+             ) -> tuple[Remark, ...]:
+    """A g_c typed as a bare number beside values with units, as for one equation (see
+    solvers.units.gravity): only where some parameter or unknown has a unit."""
+    used = [n for n in names if n in converted]
+    if not used and not chosen_units:
+        return ()
+    from solvers.equation.lexer import tokenize
+    from solvers.units.gravity import gravity_remarks
+
+    tokens = [t for t in tokenize(text) if t.kind == "num"]
+    return tuple(Remark(*r) for r in gravity_remarks(
+        {n: values[n] for n in names}, used, tokens))

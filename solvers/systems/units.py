@@ -69,6 +69,7 @@ def resolve(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
     remarks = [Remark("absolute_temperature", n) for n, c in used.items()
                if c.absolute_temperature]
     remarks += _offset_sums(reading, xs, symbols, used, chosen)
+    remarks += _turns(reading, xs, symbols, used, chosen)
     conversions = {x.name: (chosen[x.name].factor, chosen[x.name].offset) for x in xs
                    if x.name in chosen}
     units: dict[str, str | None] = {x.name: (chosen[x.name].text if x.name in chosen
@@ -102,6 +103,19 @@ def resolve(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
         elif any(float(e) != int(e) for _n, e in outcome.dimension):
             remarks.append(Remark("unknown_dimension_fractional", x.name))
     return SystemUnits(units, conversions, tuple(remarks))
+
+
+def _turns(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],
+           used: Mapping[str, Converted], chosen: Mapping[str, Unit]) -> list[Remark]:
+    """The remarks on names typed in a unit that counts turns or degrees (rpm, deg/s: see
+    solvers.units.turns), parameters and unknowns alike."""
+    from solvers.units.turns import turn_remarks
+
+    typed = {symbols[n]: c.unit for n, c in used.items() if isinstance(c.unit, str)}
+    typed.update({x: chosen[x.name].text for x in xs if x.name in chosen})
+    residuals = [eq.lhs.expr if eq.rhs is None else eq.lhs.expr - eq.rhs.expr
+                 for eq in reading.equations]
+    return [Remark(*r) for r in turn_remarks(residuals, typed)]
 
 
 def _offset_sums(reading: Reading, xs: Sequence[Any], symbols: Mapping[str, Any],

@@ -224,7 +224,8 @@ class Plan:
         """Check the dimensions for these parameter units (cached by their dimensions)."""
         used = {n: c for n, c in converted.items() if n in self.symbols}
         temperatures = tuple(("absolute_temperature", n, ()) for n, c in used.items()
-                             if c.absolute_temperature) + self._offset_sums(used)
+                             if c.absolute_temperature) + self._offset_sums(used) \
+            + self._turns(used)
         if not used and self.unit is None:
             return Resolution(None, ())
         given_text = None if self.unit is None else self.unit.text
@@ -281,6 +282,21 @@ class Plan:
             self.cache[key] = tuple(("temperature_offset_sum", shown, ()) for shown in
                                     offset_sums((residual,), absolute, self.text,
                                                 self.spans, others))
+        return self.cache[key]
+
+    def _turns(self, used: Mapping[str, Converted]
+               ) -> tuple[tuple[str, str, tuple[float, ...]], ...]:
+        """The remarks on names typed in a unit that counts turns or degrees (rpm, deg/s:
+        see solvers.units.turns), the unknown's unit included; cached by those units."""
+        typed = {self.symbols[n]: c.unit for n, c in used.items() if isinstance(c.unit, str)}
+        if self.unit is not None:
+            typed[self.unknown] = self.unit.text
+        key = ("turns", tuple(sorted((s.name, u) for s, u in typed.items())))
+        if key not in self.cache:
+            from solvers.units.turns import turn_remarks
+
+            lhs, rhs, _where = self.sides
+            self.cache[key] = turn_remarks((lhs if rhs is None else lhs - rhs,), typed)
         return self.cache[key]
 
     def _suspect_remarks(self, dimension: Dimension, used: Mapping[str, Converted],

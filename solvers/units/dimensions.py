@@ -518,7 +518,12 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
         now = _exact(dimensions.get(p, ()))
         if not outcome.fixed or needed == now:
             continue
-        suspect = (unit_size(outcome.dimension), order.get(p, 0),
+        size = unit_size(outcome.dimension)
+        if mass_for_force(_plain(now), outcome.dimension):
+            # a force typed in lb or kg: the commonest slip of a mechanical calculation
+            # (lb for lbf), named before a bare factor that would need an acceleration
+            size = (0.0, 0.0, 0)
+        suspect = (size, order.get(p, 0),
                    Suspect(p.name, unit, _plain(now), outcome.dimension))
         if not any(Fraction(e).denominator != 1 for _n, e in needed):
             found.append(suspect)
@@ -531,6 +536,17 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
     least = min(size for size, _at, _s in found)
     return tuple(s for size, _at, s in sorted(found, key=lambda f: f[1])
                  if size == least or not simplest)[:most]
+
+
+def mass_for_force(now: Dimension, needed: Dimension) -> bool:
+    """Whether a unit with a mass stands where that mass times an acceleration is needed:
+    lb for lbf, kg for kgf, lb*in for lbf*in (a torque), lb/in^2 for psi."""
+    have = {n: float(e) for n, e in now}
+    if have.get("[mass]") != 1.0:
+        return False
+    have["[length]"] = have.get("[length]", 0.0) + 1.0
+    have["[time]"] = have.get("[time]", 0.0) - 2.0
+    return {n: e for n, e in have.items() if e} == {n: float(e) for n, e in needed if e}
 
 
 def suspects_words(found: Sequence[Suspect], unknown: str | None = None,
@@ -546,7 +562,13 @@ def suspects_words(found: Sequence[Suspect], unknown: str | None = None,
         now = (f"'{s.name}' in '{s.unit}' is {quantity_words(s.dimension)}" if s.unit
                else f"'{s.name}' has no unit")
         given = f"with '{unknown}' in '{unit}' " if unknown is not None else ""
-        said.append(f"{now}; {given}the equation needs '{s.name}' {needs_words(s.needed)}")
+        force = ""
+        if s.unit and mass_for_force(s.dimension, s.needed):
+            force = (" (lb is the pound mass: type lbf for the pound-force)"
+                     if "lb" in s.unit or "pound" in s.unit else
+                     " (kg is a mass: type kgf for the kilogram-force, or the force in N)")
+        said.append(f"{now}; {given}the equation needs '{s.name}' {needs_words(s.needed)}"
+                    + force)
     powers = [Fraction(e).limit_denominator(10**6) for s in found for _n, e in s.needed]
     hides = ""
     if any(p.denominator != 1 for p in powers):

@@ -10,7 +10,7 @@ factor must be a finite, non-zero double.
 pint is imported, and its registry built (about 0.4 s + 0.4 s), on the first unit read,
 never at start-up; readings are cached by text. The registry adds a few trade
 abbreviations (:data:`TRADE_UNITS`: gpm, cfs, cfm, MGD, lbm, psia, bara, lbmol, MMBtu,
-MBH, TR); a pressure marked gauge (psig, barg, kPa(g)) and MBtu (a thousand or a
+MBH, TR, rev); a pressure marked gauge (psig, barg, kPa(g)) and MBtu (a thousand or a
 million Btu?) are refused with what to type.
 
 Offset temperatures: ``degC`` and ``degF`` (``°C``, ``°F``) standing alone are absolute
@@ -82,6 +82,9 @@ TRADE_UNITS = (
     "MMBtu = 1e6 * Btu",
     "MBH = 1e3 * Btu / hour",
     "TR = ton_of_refrigeration",
+    # a revolution as shaft speeds are written, rev/min and rev/s (pint knows revolution,
+    # turn, rpm and rps, and answered rev with 'rhe', 'rem')
+    "rev = revolution",
 )
 
 # A pressure marked gauge (psig, barg, kPa(g)) is measured from the local atmosphere,
@@ -289,7 +292,8 @@ def converter(from_text: str, to_text: str | None) -> Callable[[float], float] |
     """The conversion of an absolute value from one unit to another of the same dimension
     (``to_text`` None or blank: the SI unit of that dimension), as a function of the
     value; None where either text is no unit or the dimensions differ. An absolute
-    temperature keeps its offset (20 degC is 293.15 K and 68 degF)."""
+    temperature keeps its offset (20 degC is 293.15 K and 68 degF); a speed in turns
+    goes to Hz counting a revolution as a cycle (3000 rpm is 50 Hz: :func:`turns_to_cycles`)."""
     try:
         source = read_unit(from_text)
         target = read_unit(to_text) if to_text and to_text.strip() else \
@@ -298,11 +302,29 @@ def converter(from_text: str, to_text: str | None) -> Callable[[float], float] |
         return None
     if source.dimension != target.dimension:
         return None
+    # a speed between turns and cycles (rpm and Hz): one revolution is one cycle, 3000 rpm
+    # is 50 Hz, as an engineer converts a speed; SI's reading (rpm in rad/s, Hz in 1/s)
+    # would make it 314.16 Hz
+    turns = 2.0 * math.pi if turns_to_cycles(from_text, target.text) else \
+        1.0 / (2.0 * math.pi) if turns_to_cycles(target.text, from_text) else 1.0
 
     def convert(value: float) -> float:
-        return (value * source.factor + source.offset - target.offset) / target.factor
+        return (value * source.factor / turns + source.offset - target.offset) / target.factor
 
     return convert
+
+
+def turns_to_cycles(from_text: str, to_text: str) -> bool:
+    """Whether a conversion goes from a rate counted in turns or degrees (rpm, rev/s,
+    deg/s: rad/s in SI) to one in Hz (cycles per second, 1/s in SI), where a revolution
+    is taken as one cycle (:func:`converter`)."""
+    return (counts_turns(from_text) and radian_text(from_text)[1] == 1
+            and counts_cycles(to_text))
+
+
+# a pound beside a length in a product (lb*in, ft*lb, lbs*ft): a moment written US-style
+_POUND = re.compile(r"(?<![A-Za-z_])lbs?(?![A-Za-z_])")
+_POUND_LENGTH = re.compile(r"(?<![A-Za-z_/])(?:lbs?\*(?:in|ft)|(?:in|ft)\*lbs?)(?![A-Za-z_])")
 
 
 def unit_text_problem(text: Any) -> str:
@@ -328,6 +350,12 @@ def unit_text_problem(text: Any) -> str:
             names = [grouped.group(1), *re.findall(_UNIT_NAME, grouped.group(2))]
             meant = (meant[:grouped.start()] + "/(" + "*".join(names) + ")"
                      + meant[grouped.end():])
+        if _POUND_LENGTH.search(meant):
+            # lb-in, ft-lb: a torque or a work in US practice, where lb is the pound-force
+            # (read as typed it is the pound mass, and the check refuses it further on)
+            meant = _POUND.sub("lbf", meant)
+            return (f"unit '{stripped}': a hyphen is no product sign, and lb alone is the "
+                    f"pound mass; for a torque or a work write {meant}")
         return f"unit '{stripped}': a hyphen is no product sign; write {meant}"
     product = _PRODUCT_AFTER_SLASH.search(stripped)
     if product:
@@ -540,6 +568,67 @@ def is_angle(text: str) -> bool:
     except Exception:  # noqa: BLE001 - not a unit: not an angle
         return False
     return dict(units._units) == {"radian": 1}
+
+
+@lru_cache(maxsize=256)
+def counts_turns(text: str) -> bool:
+    """Whether unit text that is not itself a plane angle holds an angle counted in turns
+    or degrees (``rpm``, ``rev/s``, ``deg/s``, ``N*m/deg``): its SI value, in radians,
+    carries a factor 2π/60, 2π or π/180 that a formula written for the unit's own number
+    would apply again (see :mod:`solvers.units.turns`). False for ``Hz`` (1/s, no 2π),
+    for ``rad/s`` and ``N*m/rad`` (radians already), for a plain angle (``deg``: see
+    :func:`is_angle`) and for text that is not a unit."""
+    if is_angle(text):
+        return False
+    try:
+        reg = registry()
+        names = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        return any(name != "radian" and "radian" in dict(
+            reg.Quantity(1.0, name).to_root_units().units._units) for name in names)
+    except Exception:  # noqa: BLE001 - not a unit pint reads: counts nothing
+        return False
+
+
+@lru_cache(maxsize=256)
+def counts_cycles(text: str) -> bool:
+    """Whether unit text is a frequency typed in hertz (Hz, kHz, MHz): 1/s in SI, cycles
+    per second with no 2π (see :mod:`solvers.units.turns`); False for 1/s, rpm and text
+    that is not a unit."""
+    try:
+        reg = registry()
+        names = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+    except Exception:  # noqa: BLE001 - not a unit pint reads
+        return False
+    return names.keys() and all(n.endswith("hertz") for n in names) and all(
+        float(e) == 1.0 for e in names.values()) or False
+
+
+@lru_cache(maxsize=256)
+def radian_text(text: str) -> tuple[str | None, int]:
+    """Unit text that holds an angle, split for people: ``("kilonewton*meter", -1)`` for
+    ``kN*m/rad`` (a rotational stiffness: the factors that are no angle, and the power of
+    the radian the SI value is per), ``(None, 1)`` for ``rpm`` or ``deg/s`` where one
+    factor mixes a turn with a time, ``(None, 0)`` where the text holds no angle (Hz,
+    N*m), is a plain angle (deg: see :func:`is_angle`) or is not a unit."""
+    if is_angle(text):
+        return None, 0
+    try:
+        reg = registry()
+        names = dict(reg.parse_units(text.replace("μ", "µ"))._units)
+        roots = {n: dict(reg.Quantity(1.0, n).to_root_units().units._units) for n in names}
+    except Exception:  # noqa: BLE001 - not a unit pint reads: no angle
+        return None, 0
+    power = sum(float(r.get("radian", 0)) * float(names[n]) for n, r in roots.items())
+    if power != int(power) or not power:
+        return None, 0
+    if any("radian" in r and len(r) > 1 for r in roots.values()):
+        return None, int(power)
+    kept = {n: float(e) for n, e in names.items() if "radian" not in roots[n]}
+    up = "*".join(n + _power_text(e, False) for n, e in kept.items() if e > 0)
+    down = "*".join(n + _power_text(-e, False) for n, e in kept.items() if e < 0)
+    if not up:
+        return None, int(power)
+    return (up + (f"/({down})" if "*" in down else f"/{down}" if down else "")), int(power)
 
 
 def unit_size(dimension: Dimension) -> tuple[float, float, int]:

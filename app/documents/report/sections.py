@@ -543,9 +543,12 @@ def _figures_section(c: _Context) -> list[Flowable]:
     where = ("the scan range" if c.scan is not None
              else "the bracket and the roots, or the iterates' span")
     path = f" and the path of {_label(run.method)}" if run is not None else ""
+    unit = getattr(sol.equation, "unknown_unit", None)
+    in_unit = f" {unit}" if unit else ""  # the range in the axis's unit, as its label says
     captions = (
         f"Figure 1. The function whose root is sought (left side minus right side) against "
-        f"{sol.equation.unknown}, over {where} [{_num(a)}, {_num(b)}], with the roots, poles and "
+        f"{sol.equation.unknown}, over {where} [{_num(a)}, {_num(b)}]{in_unit}, with the "
+        "roots, poles and "
         f"jumps the scan found{path}.",
         f"Figure 2. Convergence: {figures.convergence_label('residual', unknown)} against "
         "iterate k for every method (log scale).",

@@ -21,6 +21,7 @@ from types import SimpleNamespace
 from typing import Any
 from xml.sax.saxutils import escape
 
+from reportlab.lib import colors
 from reportlab.lib.units import mm
 from reportlab.platypus import (
     CondPageBreak,
@@ -92,7 +93,10 @@ def _mono(text: str, st: dict, style: str = "cell") -> Paragraph:
 
 def _typeset_lines(text: str, equations: Any, st: dict) -> Table | None:
     """Each line typeset as typed, the equations numbered as in the residual tables, the
-    definitions not; a line mathtext cannot set legibly stays text."""
+    definitions not; a line mathtext cannot set legibly stays text. One row a line, under
+    the label "Typeset" in the key column: a long system breaks across a page between its
+    lines (held in one cell, twelve typeset lines moved whole to the next page and left
+    half of page 1 blank)."""
     lines = lines_latex(text)
     if not lines:
         return None
@@ -108,21 +112,26 @@ def _typeset_lines(text: str, equations: Any, st: dict) -> Table | None:
             pending.pop(0)
             label = f"({next(numbers)})"
         image = (_math(tex, math_width, 11.0) if tex else None) or _mono(line, st)
-        data.append([Paragraph(label, st["cell"]), image])
-    table = Table(data, colWidths=[10 * mm, TEXT_WIDTH - 44 * mm - 10 * mm], hAlign="LEFT")
-    table.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
-                               ("LEFTPADDING", (0, 0), (-1, -1), 0),
+        data.append([Paragraph(_text("Typeset") if not data else "", st["label"]),
+                     Paragraph(label, st["cell"]), image])
+    table = Table(data, colWidths=[44 * mm, 10 * mm, TEXT_WIDTH - 44 * mm - 10 * mm],
+                  hAlign="LEFT")
+    table.setStyle(TableStyle([("VALIGN", (1, 0), (-1, -1), "MIDDLE"),
+                               ("VALIGN", (0, 0), (0, -1), "TOP"),
+                               ("LEFTPADDING", (0, 0), (0, -1), 3),
+                               ("LEFTPADDING", (1, 0), (-1, -1), 0),
                                ("TOPPADDING", (0, 0), (-1, -1), 2),
-                               ("BOTTOMPADDING", (0, 0), (-1, -1), 2)]))
+                               ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+                               ("LINEBELOW", (0, -1), (-1, -1), 0.25,
+                                colors.HexColor("#d0d5db"))]))
     return table
 
 
 def _equations_section(c: _Context, sol: Any) -> list[Flowable]:
     st, system = c.st, sol.system
-    rows: list[tuple[str, Any]] = [("As entered", _mono(c.ws.equation, st, "cellmono"))]
+    entered = _key_value_table([("As entered", _mono(c.ws.equation, st, "cellmono"))], st)
     typeset = _typeset_lines(c.ws.equation, system.equations, st)
-    if typeset is not None:
-        rows.append(("Typeset", typeset))
+    rows: list[tuple[str, Any]] = []
     rows.append(("Equations", [_mono(f"({i}) {t}", st) for i, t in
                                enumerate(system.equations, 1)]))
     rows.append(("Unknowns", _mono(", ".join(_labelled(system, n) for n in system.unknowns),
@@ -138,7 +147,8 @@ def _equations_section(c: _Context, sol: Any) -> list[Flowable]:
         rows.append(("Notes", [Paragraph(_text(n), st["cell"]) for n in notes]))
     rows.append(("Definitions", _mono(", ".join(system.definitions), st) if system.definitions
                  else Paragraph("none", st["cell"])))
-    out = [*_heading("1  Equations and definitions", st, "h1"), _key_value_table(rows, st),
+    out = [*_heading("1  Equations and definitions", st, "h1"), entered,
+           *([] if typeset is None else [typeset]), _key_value_table(rows, st),
            Paragraph("Residual of equation i: its left side minus its right side (an equation "
                      "written without '=' is its expression). Definitions are written out into "
                      "the equations before F and its Jacobian are formed.", st["small"])]

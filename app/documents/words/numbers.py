@@ -81,9 +81,22 @@ def si_measure_text(converted: Any, show: Callable[[Any], str] | None = None) ->
     """A converted value in SI for people: ``0.15 m``, ``0.523598775598299 rad`` for an
     angle, the number alone for a pure ratio typed in % or ppm (its SI unit is the
     number 1, which written after the value would read as one more digit)."""
-    shown = (show or exact)(si_value_shown(converted))
+    value = si_value_shown(converted)
+    shown = (show or exact)(value)
+    if shown == exact(value) and abs(value) >= 1e9:
+        shown = _power_of_ten(value)
     si = si_unit_text(converted)
     return f"{shown} {si}" if si else shown
+
+
+def _power_of_ten(value: float) -> str:
+    """Every digit of a large value with its power of ten: 200 GPa in SI is 2e+11 Pa, not
+    200000000000.0 Pa, whose zeros a checker has to count (Python's repr writes the power
+    only from 1e16)."""
+    from decimal import Decimal
+
+    mantissa, power = f"{Decimal(repr(value)).normalize():e}".split("e")
+    return f"{mantissa}e{power[0]}{power[1:].zfill(2)}"  # e+09, as repr writes 1e-05
 
 
 def not_a_number(text: str) -> str:
@@ -106,17 +119,37 @@ def si_value_shown(converted: Any) -> float:
 def si_unit_text(converted: Any) -> str:
     """The SI unit of a converted value for people: the unit as entered with each factor
     made coherent where every factor is a prefixed SI unit (kJ/kg -> J/kg, W/(m^2*K^4) as
-    it is), N*m for a force times a length (lbf*ft: a torque, not "J"), else a derived
+    it is), N*m for a force times a length (lbf*ft: a torque, not "J"), the radian of a
+    value per or times an angle kept (rpm in rad/s, kN*m/rad in N*m/rad), else a derived
     unit for the compositions engineers use (W/(m^2*K), not kg/(s^3*K)); an angle in
     rad; '' for a pure ratio (%, ppm: SI writes its unit as the number 1). Files keep
     ``converted.si_unit``, in base units."""
-    from solvers.units.reading import coherent_text, is_angle, moment_text, unit_text
+    from solvers.units.reading import coherent_text, is_angle, moment_text, radian_text, unit_text
 
     if not converted.dimension:  # SI's unit of a ratio is 1: an angle says rad, else none
         return "rad" if isinstance(converted.unit, str) and is_angle(converted.unit) else ""
     typed = converted.unit if isinstance(converted.unit, str) else None
-    return (typed and (coherent_text(typed) or moment_text(typed))) \
+    # a speed in rpm or a stiffness in kN*m/rad is per radian in SI: the radian is said
+    # (rad/s, N*m/rad), not dropped as SI's base units do (1/s, "J")
+    rest, power = radian_text(typed) if typed else (None, 0)
+    if power:
+        typed = rest
+    text = (typed and (coherent_text(typed) or moment_text(typed))) \
         or unit_text(converted.dimension, derived=True) or converted.si_unit
+    return _with_radian(text, power)
+
+
+def _with_radian(text: str, power: int) -> str:
+    """``text`` with the radian the value is counted in: 1/s -> rad/s, N*m -> N*m/rad;
+    ``text`` as it is where the radian does not fit in simply (a power of 2, a
+    denominator already there)."""
+    if power == 1 and text.startswith("1/"):
+        return "rad/" + text[2:]
+    if power == 1 and "/" not in text:
+        return text + "*rad"
+    if power == -1 and "/" not in text:
+        return text + "/rad"
+    return text
 
 
 def order_text(order: float | None, blank: str = "—") -> str:

@@ -27,9 +27,16 @@ DIMENSIONS_UNCHECKED = ("not checked (switched off for this worksheet): every un
 
 # The remarks about units (every document that lists an equation's remarks shows these)
 UNIT_REMARKS = frozenset({"dimensions_unchecked", "absolute_temperature",
-                          "temperature_offset_sum",
+                          "temperature_offset_sum", "turn_units", "turns_times_pi",
+                          "bare_gravity_constant", "hertz_without_pi",
                           "unknown_dimension_free", "unknown_dimension_fractional",
                           "system_dimension_free", "unit_suspect"})
+
+# The remarks that say a root may be off by a factor (a sum 273.15 K off, a speed in rpm
+# converted twice, a g_c without its unit, a frequency in Hz used as one in rad/s): the
+# window's status line shows them as a warning, not beside a tick
+SUSPECT_REMARKS = frozenset({"temperature_offset_sum", "turns_times_pi",
+                             "bare_gravity_constant", "hertz_without_pi"})
 
 DIMENSIONS_CHECKED = ("checked: both sides and every term of each sum have one dimension; "
                       "function arguments and exponents are dimensionless")
@@ -63,7 +70,45 @@ REMARK_WORDS: dict[str, Callable[[Any], str]] = {
                                               "coefficient) give it its unit or switch the "
                                               "dimension check off",
     "unit_suspect": lambda r: _unit_suspect(r.subject, r.numbers),
+    "turn_units": lambda r: f"{_names(r.subject)} given in a unit that counts turns or "
+                            "degrees (rpm, rev/s, deg/s): converted to radians, so the "
+                            "equation sees rad/s (1 rpm = 2*pi/60 rad/s), not to be "
+                            "multiplied by 2*pi/60 again (Hz is 1/s, no 2*pi)",
+    "turns_times_pi": lambda r: f"'{r.subject}' is given in a unit that counts turns "
+                                "(rpm, rev/s) and reaches the equation in rad/s already, "
+                                "yet the equation multiplies it by pi: a formula written "
+                                "for revolutions (2*pi*N/60, pi*D*N) converts it a "
+                                "second time, 2*pi/60 (rpm) or 2*pi (rev/s) too much; "
+                                "write it for the angular speed (w = N), or give "
+                                f"'{r.subject}' as a plain number, in the unit the "
+                                "formula was written for",
+    "bare_gravity_constant": lambda r: _bare_gravity(r.subject, r.numbers),
+    "hertz_without_pi": lambda r: f"'{r.subject}' given in Hz reaches the equation as "
+                                  "cycles per second (1/s, no 2*pi), and the equation "
+                                  "does not multiply it by pi: if it is written for the "
+                                  "angular frequency in rad/s (k - m*w^2 = 0), a root in "
+                                  "Hz is 2*pi times too large; put 2*pi*"
+                                  f"{r.subject} in its place, or give it in rad/s",
 }
+
+
+def _bare_gravity(subject: str, numbers: Sequence[float]) -> str:
+    """A g_c typed without its unit beside values with units (numbers: the value, which
+    constant of solvers.units.gravity.GRAVITY_CONSTANTS)."""
+    from solvers.units.gravity import GRAVITY_CONSTANTS
+
+    unit = GRAVITY_CONSTANTS[int(numbers[1])][1]
+    what = (f"'{subject}' = {numbers[0]:g} has no unit" if subject.isidentifier()
+            else f"the number {subject} in the equation has no unit")
+    return (f"{what}: is it g_c? With units, lbm reaches the equation in kg and lbf (or "
+            "kgf) in N, where g_c is 1, so a bare g_c makes the force "
+            f"{numbers[0]:g} times too small (or too large); give it its unit "
+            f"({numbers[0]:g} {unit}) or leave it out")
+
+
+def _names(subject: str) -> str:
+    """'N', 'w' from a remark's ", "-joined subject."""
+    return ", ".join(repr(n) for n in subject.split(", "))
 
 
 def _unit_suspect(name: str, numbers: Sequence[float]) -> str:

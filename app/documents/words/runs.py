@@ -136,8 +136,11 @@ REASON_TEXT: dict[str, str] = {
     "exact_zero": "f(x) is exactly zero",
     "max_iterations": "iteration cap reached before the tolerances were met",
     "zero_derivative": "derivative zero or vanishing: Newton step undefined",
-    "not_finite": "f or x became infinite or NaN (domain error or overflow), or f underflowed "
-    "to 0",
+    # a pole too: a table's row whose bracket closed on one (a column's eigen-equation
+    # with tan) has this reason and no sentence of its own, where a single solve's record
+    # says "a pole"
+    "not_finite": "f or x became infinite or NaN (domain error, overflow, or a bracket "
+    "closed on a pole), or f underflowed to 0",
     "no_sign_change": "f has the same sign at both bracket ends",
     "discontinuity": "the bracket closed on a jump of f, not a root: f changes sign there "
     "without passing through zero",
