@@ -116,17 +116,20 @@ def parse_table(text: str, shown: str = "pasted table", *, pasted: bool = False)
     header_line = 0
     rows: list[list[str]] = []
     lines: list[int] = []
+    ended = 0  # the file line the previous record ended on
     try:
         for record in reader:
+            # a record's line is the one it starts on (a quoted cell may span lines)
+            start, ended = ended + 1, reader.line_num
             if not record or not "".join(record).strip():
                 continue  # a blank line
             if record[0].lstrip().startswith("#"):
                 continue  # a comment or a metadata line
             if header is None:
-                header, header_line = record, reader.line_num
+                header, header_line = record, start
                 continue
             rows.append(record)
-            lines.append(reader.line_num)
+            lines.append(start)
             if len(rows) > MAX_TABLE_ROWS:
                 raise TableError(f"{shown}: more than {MAX_TABLE_ROWS} rows")
     except csv.Error as exc:
@@ -206,7 +209,10 @@ def _columns(shown: str, header: Sequence[str], line: int) -> tuple[Column, ...]
 def _numbers(shown: str, column: Column, cells: Sequence[str], lines: Sequence[int]
              ) -> np.ndarray:
     """The column as float64; TableError at its first cell that is not a finite number."""
-    if not _MANY_NUMBERS.fullmatch("\n".join(cells) + "\n"):  # one C-speed pass
+    joined = "\n".join(cells) + "\n"
+    # one C-speed pass; a quoted cell holding a line break ("1\n2") would read as two
+    # numbers there, so the count of breaks must be one per cell
+    if joined.count("\n") != len(cells) or not _MANY_NUMBERS.fullmatch(joined):
         for i, cell in enumerate(cells):
             if not _ONE_NUMBER.fullmatch(cell):
                 where = f"{shown}: row {i + 1} (line {lines[i]}), column {column.header!r}"
