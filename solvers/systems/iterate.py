@@ -15,8 +15,9 @@ would otherwise overflow).
 Newton: d solves J d = -F. Where J is singular (its smallest singular value below
 n*eps times its largest, or J not finite) the step is Levenberg-Marquardt,
 d = -(J^T J + mu I)^-1 J^T F with mu = sqrt(eps)*||J||^2 + ||J^T F|| (worked on J and F
-scaled by powers of two, so no finite J or F overflows it), recorded as ``regularised``. Broyden (the "good" update, B += (y - B s) s^T / s^T s) starts from a
-forward-difference Jacobian and refreshes it by differences when its direction fails to
+scaled by powers of two, so no finite J or F overflows it), recorded as ``regularised``.
+Broyden (the "good" update, B += (y - B s) s^T / s^T s) starts from a forward-difference
+Jacobian and refreshes it by differences when its direction fails to
 decrease ||F||, and before it may stop: a Broyden matrix can be wrong where a step is small.
 
 Stopping (scale-aware)
