@@ -156,15 +156,20 @@ def _param(text: str) -> tuple[str, float, str]:
         return name, number, " ".join(unit.split())
 
 
-def distinct_params(given: Sequence[tuple[str, float, str]]) -> None:
-    """Refuse a name given twice by ``--param`` (InputError: exit 2): which of the two
-    values was meant cannot be told, and the later silently winning hid the slip."""
+def distinct_names(flag: str, names: Sequence[str], each: str) -> None:
+    """Refuse a name given twice by a repeated flag (InputError: exit 2): which of the two
+    values was meant cannot be told, and the later silently winning hid the slip (``--x0
+    x=2 --x0 x=3`` for x and y was answered "no start value for 'y'")."""
     seen: set[str] = set()
-    for name, _value, _unit in given:
+    for name in names:
         if name in seen:
-            raise InputError(f"--param {name} is given more than once; give each parameter "
-                             "once")
+            raise InputError(f"{flag} {name} is given more than once; give each {each} once")
         seen.add(name)
+
+
+def distinct_params(given: Sequence[tuple[str, float, str]]) -> None:
+    """Refuse a name given twice by ``--param`` (see :func:`distinct_names`)."""
+    distinct_names("--param", [name for name, _value, _unit in given], "parameter")
 
 
 def note_unused_params(text: str, given: Sequence[tuple[str, float, str]]) -> None:
