@@ -311,3 +311,27 @@ def test_figures_asked_for_are_all_printed_trailing_zeros_included(capsys) -> No
     row = next(line for line in capsys.readouterr().out.splitlines()
                if line.startswith("Newton"))
     assert row.split()[1] == "2.50000"
+
+
+def test_a_function_near_the_largest_double_prints_no_numpy_warning(capsys, tmp_path) -> None:
+    """1e300 x = 1e308 sampled over [-5, 5]: the start-value look multiplied neighbouring
+    samples (|f| ~ 1e300 each) and the sheet's plot and axis ticks overflowed, each a
+    RuntimeWarning with a line of source on the user's terminal. The solve and the sheet
+    say what they found and nothing else; the root is 1e8 (1e308 / 1e300, by hand)."""
+    import warnings
+
+    sheet = tmp_path / "large.json"
+    sheet.write_text(json.dumps({"format": "zerotrace-worksheet", "version": 1,
+                                 "equation": "1e300*x = 1e308", "unknown": "x",
+                                 "settings": {"methods": ["newton", "secant"]},
+                                 "scan": {"from": -5, "to": 5}}), encoding="utf-8")
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        code, out, err = run(capsys, "solve", "--worksheet", str(sheet), "--json")
+        assert code == 0, err
+        runs = json.loads(out)["runs"]
+        assert any(r["converged"] and r["root"] == pytest.approx(1e8, rel=1e-12)
+                   for r in runs), runs
+        code, _, err = run(capsys, "report", str(sheet), "--pdf", str(tmp_path / "large.pdf"))
+        assert code == 0, err
+    assert [str(w.message) for w in caught if issubclass(w.category, RuntimeWarning)] == []

@@ -47,6 +47,18 @@ MATPLOTLIB_LOCK = threading.RLock()
 
 
 @contextmanager
+def drawing() -> Iterator[None]:
+    """Hold :data:`MATPLOTLIB_LOCK` while matplotlib lays out or draws, with numpy's
+    floating-point warnings off: its axis arithmetic over a curve whose |f| nears 1e308
+    (the symmetric-log ticks, base ** decade) overflows to inf and copes with it, and a
+    RuntimeWarning from inside it would reach the terminal of ``zerotrace report``."""
+    import numpy as np
+
+    with MATPLOTLIB_LOCK, np.errstate(all="ignore"):
+        yield
+
+
+@contextmanager
 def typesetting() -> Iterator[None]:
     """Hold :data:`MATPLOTLIB_LOCK` while mathtext sets a formula, then release what
     mathtext keeps behind.
@@ -59,7 +71,7 @@ def typesetting() -> Iterator[None]:
     after each formula frees all of it; re-opening the fonts costs well under a
     millisecond per formula.
     """
-    with MATPLOTLIB_LOCK:
+    with drawing():
         try:
             yield
         finally:
