@@ -570,6 +570,7 @@ def _unmark(args: argparse.Namespace, marked: set[str]) -> None:
 
 def main(argv: Sequence[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
+    _closed_streams_to_null()
     if not argv:
         return cmd_window(argv)
     parser = _build_parser()
@@ -613,6 +614,18 @@ def main(argv: Sequence[str] | None = None) -> int:
             file=sys.stderr,
         )
         return EXIT_INTERNAL
+
+
+def _closed_streams_to_null() -> None:
+    """A standard stream the caller closed (``zerotrace solve ... >&-``) is None in Python:
+    point it at the null device, so that printing the results ends as output cut short by
+    its reader does (quietly; files asked for with --csv, --out or --pdf are written), and
+    not as an AttributeError reported as a defect of ours."""
+    import os
+
+    for name, mode in (("stdout", "w"), ("stderr", "w")):
+        if getattr(sys, name) is None:
+            setattr(sys, name, open(os.devnull, mode, encoding="utf-8"))  # noqa: SIM115
 
 
 def _quiet_after_broken_pipe() -> int:
