@@ -460,6 +460,36 @@ def test_saved_sample_round_trip_keeps_the_hash_stable(tmp_path):
     assert result.sha256 == hashlib.sha256(dumps(ws).encode("utf-8")).hexdigest()
 
 
+def test_a_scan_of_many_roots_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path, monkeypatch):
+    """A scan of a wide range finds up to 100,000 roots, and reportlab took tens of minutes
+    over a table that long (0.5 cosh(tan(x/700)) = sin(x) on [-5, 1e6] ran for over a
+    quarter of an hour). The sheet shows the first and last MAX_TABLE_ROWS / 2 roots,
+    poles and jumps and says how many it left out; the roots CSV holds them all. tan x on
+    [0.5, 200]: roots k pi, k = 1..63, poles (k + 1/2) pi, k = 0..63 (by hand)."""
+    from app.documents import report
+
+    monkeypatch.setattr(report.sections, "MAX_TABLE_ROWS", 40)  # small cap: a quick test
+    ws = Worksheet(equation="tan(x)", unknown="x",
+                   settings=Settings(methods=("newton",), x0=3.0), scan=(0.5, 200.0))
+    given = handed(ws)
+    roots, poles = given["scan"].roots, given["scan"].poles
+    assert [x.x for x in roots] == pytest.approx([k * math.pi for k in range(1, 64)],
+                                                 rel=1e-14)
+    assert list(poles) == pytest.approx([(k + 0.5) * math.pi for k in range(64)], rel=1e-12)
+    result = write_report(ws, tmp_path / "many.pdf", csv_dir=tmp_path, **given)
+    text = flat("\n".join(pages_text(result.pdf_path)))
+    assert "… 23 roots left out here; the roots CSV holds every one" in text
+    assert "… 24 poles left out here; the roots CSV holds every one" in text
+    for root in roots[:20] + roots[-20:]:
+        assert r(root.x) in text
+    for root in roots[20:-20]:
+        assert r(root.x) not in text
+    path = next(p for p in result.csv_paths if p.name.endswith("-roots.csv"))
+    _, rows = data_rows(path)
+    assert [float(row[1]) for row in rows if row[0] == "root"] == [x.x for x in roots]
+    assert [float(row[1]) for row in rows if row[0] == "pole"] == list(poles)
+
+
 def test_parameters_table_handles_many_parameters(tmp_path):
     # 60 invented parameters: the table flows over a page break and loses none.
     params = tuple(Parameter(f"p{i}", i * 0.1, f"invented parameter {i}") for i in range(60))
