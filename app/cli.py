@@ -79,17 +79,22 @@ def _finite(text: str) -> float:
     """An argparse type: a finite number. A number with a unit typed after it (--x0 "1.2 m",
     --bracket 0.5m 3m) is told where the unit goes: start values, brackets and the scan
     range are in the unknown's unit, which --unknown-unit gives."""
+    from app.documents.tables import parse_number
+
     text = text.strip()  # a value that starts with '-' arrives marked (see _mark_values)
+    value = parse_number(text)  # the window's rule: float() would read 1_0 as 10
+    if value is not None:
+        return value
     try:
-        value = float(text)
+        beyond = not math.isfinite(float(text))
     except ValueError:
-        hint = (" (a plain number: start values, the bracket and the range are in the "
-                "unknown's unit, which --unknown-unit gives)"
-                if _NUMBER_AND_UNIT.fullmatch(text) else "")
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number{hint}") from None
-    if not math.isfinite(value):
+        beyond = False
+    if beyond:  # nan, inf, 1e400
         raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
-    return value
+    hint = (" (a plain number: start values, the bracket and the range are in the "
+            "unknown's unit, which --unknown-unit gives)"
+            if _NUMBER_AND_UNIT.fullmatch(text) else "")
+    raise argparse.ArgumentTypeError(f"{text!r} is not a number{hint}")
 
 
 def _setting(key: str) -> Callable[[str], float]:
@@ -108,15 +113,17 @@ def _setting(key: str) -> Callable[[str], float]:
     return parse
 
 
+_WHOLE = re.compile(r"[+-]?[0-9]+")
+
+
 def _whole(low: int, high: int) -> Callable[[str], int]:
     """An argparse type: a whole number from ``low`` to ``high``."""
 
     def parse(text: str) -> int:
         text = text.strip()
-        try:
-            value = int(text)
-        except ValueError:
-            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+        if not _WHOLE.fullmatch(text):  # int() also reads 1_000 and non-ASCII digits
+            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number")
+        value = int(text)
         if not low <= value <= high:
             raise argparse.ArgumentTypeError(f"{text!r} must be from {low} to {high}")
         return value

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import csv
 import io
+import math
 import os
 import re
 from collections.abc import Mapping, Sequence
@@ -55,6 +56,22 @@ _HEADER = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*(?:\[([^\[\]]*)\])?\s*")
 _NUMBER = r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _ONE_NUMBER = re.compile(rf"[ \t]*{_NUMBER}[ \t]*")
 _MANY_NUMBERS = re.compile(rf"(?:{_NUMBER}\n)*")  # cells are stripped, one per line
+_PLAIN = re.compile(_NUMBER)
+
+
+def parse_number(text: str) -> float | None:
+    """A finite float from text typed as a number on a calc sheet (ASCII digits, optional
+    sign, point and exponent; the typographic minus taken as '-'), or None. The one rule
+    of the window's fields, the table cells and the command line's numbers: Python's
+    float() also takes '1_000' (a slip for 1.000 or 1,000 read as 1000), non-ASCII digits
+    and 'nan'/'inf'; none is a number on a calc sheet."""
+    if not isinstance(text, str):
+        return None
+    stripped = text.strip().replace("\u2212", "-")
+    if not _PLAIN.fullmatch(stripped):
+        return None
+    value = float(stripped)
+    return value if math.isfinite(value) else None
 
 
 class TableError(ValueError):
