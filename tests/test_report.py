@@ -468,7 +468,8 @@ def test_a_scan_of_many_roots_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path,
     [0.5, 200]: roots k pi, k = 1..63, poles (k + 1/2) pi, k = 0..63 (by hand)."""
     from app.documents import report
 
-    monkeypatch.setattr(report.sections, "MAX_TABLE_ROWS", 40)  # small cap: a quick test
+    monkeypatch.setattr(report.sections, "MAX_TABLE_ROWS", 40)  # small caps: a quick test
+    monkeypatch.setattr(report.sections, "MAX_LISTED", 40)
     ws = Worksheet(equation="tan(x)", unknown="x",
                    settings=Settings(methods=("newton",), x0=3.0), scan=(0.5, 200.0))
     given = handed(ws)
@@ -488,6 +489,33 @@ def test_a_scan_of_many_roots_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path,
     _, rows = data_rows(path)
     assert [float(row[1]) for row in rows if row[0] == "root"] == [x.x for x in roots]
     assert [float(row[1]) for row in rows if row[0] == "pole"] == list(poles)
+
+
+def test_a_scan_of_many_gaps_is_one_band_collection_and_a_short_list(tmp_path, monkeypatch):
+    """log10(cos x) is undefined where cos x <= 0: on [0, 700], 112 gaps, the first
+    (pi/2, 3 pi/2) (by hand). On a range 1e200 wide the scan found 34,000, drawn as as
+    many patches and listed in one table cell: the sheet took minutes. The figure holds
+    them in one collection, the sheet lists the first and last MAX_LISTED / 2."""
+    from matplotlib.collections import PolyCollection
+    from matplotlib.figure import Figure
+
+    from app.documents import figures, report
+
+    monkeypatch.setattr(report.sections, "MAX_LISTED", 20)
+    ws = Worksheet(equation="log10(cos(x)) = -0.1", unknown="x",
+                   settings=Settings(methods=("newton",), x0=0.3), scan=(0.0, 700.0))
+    given = handed(ws)
+    gaps = given["scan"].gaps
+    assert len(gaps) == 112
+    assert gaps[0] == pytest.approx((math.pi / 2, 3 * math.pi / 2), rel=1e-9)
+    ax = Figure().add_subplot()
+    figures.draw_function(ax, pipeline.equation_of(ws).f, 0.0, 700.0, scan=given["scan"])
+    bands = [c for c in ax.collections if c.get_label() == "f undefined"]
+    assert len(bands) == 1 and isinstance(bands[0], PolyCollection)
+    assert len(bands[0].get_paths()) == 112
+    result = write_report(ws, tmp_path / "gaps.pdf", **given)
+    text = flat("\n".join(pages_text(result.pdf_path)))
+    assert "… 92 gaps left out here; zerotrace scan --json lists every one" in text
 
 
 def test_parameters_table_handles_many_parameters(tmp_path):

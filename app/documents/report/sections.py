@@ -419,14 +419,20 @@ def _unit_suffix(unit: str | None) -> str:
     return f" [{unit}]" if unit else ""
 
 
-def _shown_indices(count: int) -> list[int | None]:
-    """The entries of a list of ``count`` the sheet shows: all up to MAX_TABLE_ROWS, else the
-    first and last half of that with None between them, where the rest is said to be
-    left out (reportlab lays out a table of 10^5 rows over tens of minutes: a scan of a
-    wide range finds up to 100,000 roots; the roots CSV holds every one)."""
-    if count <= MAX_TABLE_ROWS:
+# Poles, jumps and gaps are listed in one table cell; reportlab splits a cell across pages
+# slowly (34,000 gaps of log10(cos x) on a range 1e200 wide: minutes, 1,000: 50 s)
+MAX_LISTED = 100
+
+
+def _shown_indices(count: int, limit: int | None = None) -> list[int | None]:
+    """The entries of a list of ``count`` the sheet shows: all up to ``limit`` (default
+    MAX_TABLE_ROWS), else the first and last half of that with None between them, where
+    the rest is said to be left out (reportlab lays out a table of 10^5 rows over tens
+    of minutes: a scan of a wide range finds up to 100,000 roots)."""
+    limit = MAX_TABLE_ROWS if limit is None else limit
+    if count <= limit:
         return list(range(count))
-    half = MAX_TABLE_ROWS // 2
+    half = limit // 2
     return [*range(half), None, *range(count - half, count)]
 
 
@@ -482,8 +488,9 @@ def _scan_section(c: _Context) -> list[Flowable]:
         rows: list[tuple[str, Any]] = []
 
         def xs(values: Sequence[float], what: str) -> Paragraph:
-            shown = [words.left_out_text(len(values) - MAX_TABLE_ROWS, what) if i is None
-                     else _num(values[i]) for i in _shown_indices(len(values))]
+            limit = 2 * (MAX_LISTED // 2)
+            shown = [words.left_out_text(len(values) - limit, what) if i is None
+                     else _num(values[i]) for i in _shown_indices(len(values), MAX_LISTED)]
             return Paragraph(escape(", ".join(shown) if shown else "none"), st["cellmono"])
 
         in_x = _unit_suffix(x_unit)  # where poles, jumps and gaps lie: the unknown's unit
@@ -491,9 +498,11 @@ def _scan_section(c: _Context) -> list[Flowable]:
         rows.append((f"Jumps (discontinuities){in_x}",
                      xs(list(getattr(sc, "discontinuities", [])), "jump")))
         gaps = list(getattr(sc, "gaps", []))
+        shown_gaps = [words.left_out_text(len(gaps) - 2 * (MAX_LISTED // 2), "gap")
+                      if i is None else f"[{_num(gaps[i][0])}, {_num(gaps[i][1])}]"
+                      for i in _shown_indices(len(gaps), MAX_LISTED)]
         rows.append((f"Gaps (f undefined){in_x}", Paragraph(escape(
-            "; ".join(f"[{_num(a)}, {_num(b)}]" for a, b in gaps) if gaps else "none"),
-            st["cellmono"])))
+            "; ".join(shown_gaps) if gaps else "none"), st["cellmono"])))
         warnings = words.scan_warnings(sc)
         if warnings:
             rows.append(("Scan warnings", Paragraph(_text("; ".join(warnings)), st["cell"])))

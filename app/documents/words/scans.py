@@ -157,5 +157,8 @@ def located_text(root: Any) -> str:
 
 def left_out_text(count: int, what: str) -> str:
     """The row or item standing for ``count`` entries a calculation sheet leaves out of a
-    long list (roots, poles, jumps): the roots CSV written beside the sheet holds them."""
-    return f"… {counted(count, what)} left out here; the roots CSV holds every one"
+    long list: roots, poles and jumps are in the roots CSV written beside the sheet, gaps
+    (pairs of ends) in the scan's JSON."""
+    holder = ("zerotrace scan --json lists every one" if what == "gap"
+              else "the roots CSV holds every one")
+    return f"… {counted(count, what)} left out here; {holder}"
