@@ -80,17 +80,22 @@ def _finite(text: str) -> float:
     """An argparse type: a finite number. A number with a unit typed after it (--x0 "1.2 m",
     --bracket 0.5m 3m) is told where the unit goes: start values, brackets and the scan
     range are in the unknown's unit, which --unknown-unit gives."""
+    from app.documents.tables import parse_number
+
     text = text.strip()  # a value that starts with '-' arrives marked (see _mark_values)
+    value = parse_number(text)  # the window's rule: float() would read 1_0 as 10
+    if value is not None:
+        return value
     try:
-        value = float(text)
+        beyond = not math.isfinite(float(text))
     except ValueError:
-        hint = (" (a plain number: start values, the bracket and the range are in the "
-                "unknown's unit, which --unknown-unit gives)"
-                if _NUMBER_AND_UNIT.fullmatch(text) else "")
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number{hint}") from None
-    if not math.isfinite(value):
+        beyond = False
+    if beyond:  # nan, inf, 1e400
         raise argparse.ArgumentTypeError(f"{text!r} is not a finite number")
-    return value
+    hint = (" (a plain number: start values, the bracket and the range are in the "
+            "unknown's unit, which --unknown-unit gives)"
+            if _NUMBER_AND_UNIT.fullmatch(text) else "")
+    raise argparse.ArgumentTypeError(f"{text!r} is not a number{hint}")
 
 
 def _setting(key: str) -> Callable[[str], float]:
@@ -110,15 +115,17 @@ def _setting(key: str) -> Callable[[str], float]:
     return parse
 
 
+_WHOLE = re.compile(r"[+-]?[0-9]+")
+
+
 def _whole(low: int, high: int) -> Callable[[str], int]:
     """An argparse type: a whole number from ``low`` to ``high``."""
 
     def parse(text: str) -> int:
         text = text.strip()
-        try:
-            value = int(text)
-        except ValueError:
-            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+        if not _WHOLE.fullmatch(text):  # int() also reads 1_000 and non-ASCII digits
+            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number")
+        value = int(text)
         if not low <= value <= high:
             raise argparse.ArgumentTypeError(f"{text!r} must be from {low} to {high}")
         return value
@@ -158,15 +165,20 @@ def _param(text: str) -> tuple[str, float, str]:
         return name, number, " ".join(unit.split())
 
 
-def distinct_params(given: Sequence[tuple[str, float, str]]) -> None:
-    """Refuse a name given twice by ``--param`` (InputError: exit 2): which of the two
-    values was meant cannot be told, and the later silently winning hid the slip."""
+def distinct_names(flag: str, names: Sequence[str], each: str) -> None:
+    """Refuse a name given twice by a repeated flag (InputError: exit 2): which of the two
+    values was meant cannot be told, and the later silently winning hid the slip (``--x0
+    x=2 --x0 x=3`` for x and y was answered "no start value for 'y'")."""
     seen: set[str] = set()
-    for name, _value, _unit in given:
+    for name in names:
         if name in seen:
-            raise InputError(f"--param {name} is given more than once; give each parameter "
-                             "once")
+            raise InputError(f"{flag} {name} is given more than once; give each {each} once")
         seen.add(name)
+
+
+def distinct_params(given: Sequence[tuple[str, float, str]]) -> None:
+    """Refuse a name given twice by ``--param`` (see :func:`distinct_names`)."""
+    distinct_names("--param", [name for name, _value, _unit in given], "parameter")
 
 
 def note_unused_params(text: str, given: Sequence[tuple[str, float, str]]) -> None:
@@ -580,6 +592,7 @@ def _unmark(args: argparse.Namespace, marked: set[str]) -> None:
 
 def main(argv: Sequence[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
+    _closed_streams_to_null()
     if not argv:
         return cmd_window(argv)
     parser = _build_parser()
@@ -623,6 +636,18 @@ def main(argv: Sequence[str] | None = None) -> int:
             file=sys.stderr,
         )
         return EXIT_INTERNAL
+
+
+def _closed_streams_to_null() -> None:
+    """A standard stream the caller closed (``zerotrace solve ... >&-``) is None in Python:
+    point it at the null device, so that printing the results ends as output cut short by
+    its reader does (quietly; files asked for with --csv, --out or --pdf are written), and
+    not as an AttributeError reported as a defect of ours."""
+    import os
+
+    for name, mode in (("stdout", "w"), ("stderr", "w")):
+        if getattr(sys, name) is None:
+            setattr(sys, name, open(os.devnull, mode, encoding="utf-8"))  # noqa: SIM115
 
 
 def _quiet_after_broken_pipe() -> int:

@@ -116,7 +116,7 @@ def one_unknown_unit(args: argparse.Namespace) -> str | None:
 
 
 def _worksheet(args: argparse.Namespace) -> Any:
-    from app.cli import InputError, _load_worksheet, with_params
+    from app.cli import InputError, _load_worksheet, distinct_names, with_params
     from app.documents.worksheet import (
         StartValue,
         SystemSpec,
@@ -137,6 +137,11 @@ def _worksheet(args: argparse.Namespace) -> Any:
     if args.param:
         ws = with_params(ws, args.param)
     starts = args.x0 or []
+    distinct_names("--unknown", list(args.unknown or []), "unknown")
+    distinct_names("--x0", [v[0] for v in starts if isinstance(v, tuple)],
+                   "unknown's start value")
+    distinct_names("--unknown-unit", [v[0] for v in getattr(args, "unknown_unit", None) or []
+                                      if isinstance(v, tuple)], "unknown's unit")
     named = dict(v for v in starts if isinstance(v, tuple))
     plain = [v for v in starts if not isinstance(v, tuple)]
     old = ws.system.start() if ws.system else {}

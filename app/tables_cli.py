@@ -17,7 +17,6 @@ line on stderr (for a table: the row, its file line and the column).
 from __future__ import annotations
 
 import argparse
-import math
 import re
 from typing import Any
 
@@ -242,10 +241,9 @@ _NUMBER_UNIT = re.compile(r"\s*([-+]?[.\d][.\deE+-]*)\s*([A-Za-zµ°%].*)")
 
 
 def _is_finite(text: str) -> bool:
-    try:
-        return math.isfinite(float(text))
-    except ValueError:
-        return False
+    from app.documents.tables import parse_number
+
+    return parse_number(text) is not None
 
 
 def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
@@ -256,11 +254,10 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
     if not sep or len(parts) != 3 or not name.isidentifier():
         raise InputError(f"--vary: {text!r} is not NAME=START:STOP:COUNT (a unit may follow "
                          "COUNT)")
-    try:
-        start, stop = float(parts[0]), float(parts[1])
-        if not (math.isfinite(start) and math.isfinite(stop)):
-            raise ValueError
-    except ValueError:
+    from app.documents.tables import parse_number
+
+    start, stop = parse_number(parts[0]), parse_number(parts[1])
+    if start is None or stop is None:
         bad = next((p.strip() for p in parts[:2] if not _is_finite(p)), parts[0].strip())
         glued = _NUMBER_UNIT.fullmatch(bad)
         where = ""
@@ -268,7 +265,7 @@ def _vary(args: argparse.Namespace) -> tuple[str, np.ndarray]:
             plain = [_NUMBER_UNIT.sub(r"\1", p.strip()) for p in parts[:2]]
             where = (f" (the unit goes once, after COUNT: {name}={plain[0]}:{plain[1]}:"
                      f"{parts[2].strip()} {glued[2].strip()})")
-        raise InputError(f"--vary: {bad!r} is not a finite number{where}") from None
+        raise InputError(f"--vary: {bad!r} is not a finite number{where}")
     from solvers.equation import EquationError
     from solvers.units import measured
 

@@ -198,8 +198,8 @@ def seed_scan(
     cells: list[tuple[float, float, float]] = []
     for i in np.nonzero(y == 0)[0]:
         cells.append((float(x[i]), float(x[i]), float(x[i])))
-    with np.errstate(invalid="ignore"):
-        change = np.nonzero(y[:-1] * y[1:] < 0)[0]
+    with np.errstate(invalid="ignore"):  # by the signs: a product of |f| ~ 1e300 overflows
+        change = np.nonzero(np.sign(y[:-1]) * np.sign(y[1:]) < 0)[0]
     for i in change:
         lo, hi, flo, fhi = float(x[i]), float(x[i + 1]), float(y[i]), float(y[i + 1])
         guess = lo - flo * (hi - lo) / (fhi - flo)

@@ -94,6 +94,10 @@ def test_json_carries_rows_notes_and_the_caution(tmp_path, capsys):
     ("Re,Re\n1e5,1\n", "'Re' appears twice"),
     ("Re,rr,lam\n1e5,1e-4,0.02\n", "column 3 'lam' is the unknown"),
     ("Re,r-r\n1e5,1\n", "'r-r' is not NAME or NAME [unit]"),
+    # a quoted cell holding a line break is one cell, not two numbers (it was a bare
+    # "could not convert string to float" naming neither the file nor the cell)
+    ('Re,rr\n1e5,"1e-4\n2e-4"\n',
+     "row 1 (line 2), column 'rr': '1e-4\\n2e-4' is not a plain number"),
 ])
 def test_a_bad_table_is_exit_2_with_one_line_naming_row_and_column(tmp_path, capsys, content,
                                                                      expected):

@@ -355,3 +355,55 @@ def test_a_refused_negative_setting_is_quoted_as_typed(capsys, flag, value, word
     # message repeats the input verbatim), not the marked form with a leading space.
     code, _, err = run(capsys, "solve", "x^2 - 2", "--x0", "1", flag, value)
     assert code == 2 and words in err and f"' {value}'" not in err
+
+
+def test_a_function_near_the_largest_double_prints_no_numpy_warning(capsys, tmp_path) -> None:
+    """1e300 x = 1e308 sampled over [-5, 5]: the start-value look multiplied neighbouring
+    samples (|f| ~ 1e300 each) and the sheet's plot and axis ticks overflowed, each a
+    RuntimeWarning with a line of source on the user's terminal. The solve and the sheet
+    say what they found and nothing else; the root is 1e8 (1e308 / 1e300, by hand)."""
+    import warnings
+
+    sheet = tmp_path / "large.json"
+    sheet.write_text(json.dumps({"format": "zerotrace-worksheet", "version": 1,
+                                 "equation": "1e300*x = 1e308", "unknown": "x",
+                                 "settings": {"methods": ["newton", "secant"]},
+                                 "scan": {"from": -5, "to": 5}}), encoding="utf-8")
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        code, out, err = run(capsys, "solve", "--worksheet", str(sheet), "--json")
+        assert code == 0, err
+        runs = json.loads(out)["runs"]
+        assert any(r["converged"] and r["root"] == pytest.approx(1e8, rel=1e-12)
+                   for r in runs), runs
+        code, _, err = run(capsys, "report", str(sheet), "--pdf", str(tmp_path / "large.pdf"))
+        assert code == 0, err
+    assert [str(w.message) for w in caught if issubclass(w.category, RuntimeWarning)] == []
+
+
+@pytest.mark.parametrize("argv", [
+    ["solve", "x^2 - 2", "--x0", "1_0"],
+    ["solve", "x^2 - 2", "--bracket", "0", "1_0"],
+    ["solve", "x^2 - 2", "--xtol", "1_0"],
+    ["solve", "x^2 - 2", "--x0", "\u0661"],  # ARABIC-INDIC DIGIT ONE: float() reads 1
+    ["scan", "x^2 - 2", "--from", "1_0", "--to", "20"],
+    ["scan", "x^2 - 2", "--from", "0", "--to", "3", "--samples", "1_000"],
+    ["batch", "x^2 - a", "--table", "t.csv", "--x0", "1_0"],
+    ["sweep", "x^2 - a", "--vary", "a=1_0:20:3", "--x0", "1"],
+    ["sweep", "x^2 - a", "--vary", "a=1:2:3", "--x0", "1", "--within", "0", "1_0"],
+])
+def test_every_number_flag_takes_the_fields_rule_not_floats(capsys, argv) -> None:
+    """float() reads '1_0' as 10 and '\u0661' as 1: `scan --from 1_0` scanned [10, 20] where
+    the window's fields and --param refuse the same text. Every number on the command
+    line is a plain number now (ASCII digits, point, exponent), refused in one line."""
+    code, _, err = run(capsys, *argv)
+    assert code == 2 and err.count("\n") == 1, err
+    assert "is not a" in err and ("1_0" in err or "1_000" in err or "\u0661" in err), err
+
+
+def test_a_typographic_minus_is_read_as_the_fields_read_it(capsys) -> None:
+    # x^2 = 2 from -1.5 (typed with U+2212): Newton goes to -sqrt(2) (by hand)
+    code, out, err = run(capsys, "solve", "x^2 - 2", "--x0", "\u22121.5", "--method",
+                         "newton", "--json")
+    assert code == 0, err
+    assert json.loads(out)["runs"][0]["root"] == pytest.approx(-math.sqrt(2), rel=1e-15)

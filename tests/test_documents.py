@@ -315,6 +315,29 @@ def test_output_cut_short_by_its_reader_ends_quietly():
     assert code == 0 and err == b"", err.decode(errors="replace")
 
 
+def test_a_closed_standard_output_ends_as_a_gone_reader_does(tmp_path):
+    """`zerotrace solve ... >&-` (stdout closed by the caller): Python has no stdout at
+    all, and the final flush was an AttributeError reported as a defect (exit 1). Now it
+    ends as output cut short does, and the CSV asked for is written (its root against
+    sqrt(2), by hand). With stderr closed too, bad input still exits 2."""
+    out = tmp_path / "log.csv"
+
+    def closed(*fds: int):
+        return lambda: [os.close(fd) for fd in fds]
+
+    cmd = [sys.executable, "-m", "app.cli", "solve", "x^2 - 2", "--x0", "1", "--method",
+           "newton", "--csv", str(out)]
+    proc = subprocess.run(cmd, stderr=subprocess.PIPE, cwd=ROOT, timeout=120,
+                          preexec_fn=closed(1))
+    assert proc.returncode == 0 and proc.stderr == b"", proc.stderr.decode(errors="replace")
+    iterates = [float(row[2]) for row in csv.reader(out.read_text().splitlines())
+                if row and row[0] == "newton"]
+    assert iterates[-1] == pytest.approx(math.sqrt(2), rel=1e-15)
+    bad = subprocess.run([sys.executable, "-m", "app.cli", "solve", "x^2 -"], cwd=ROOT,
+                         timeout=120, preexec_fn=closed(1, 2))
+    assert bad.returncode == 2
+
+
 def test_missing_system_libraries_are_named_in_one_line(tmp_path):
     gcc = shutil.which("gcc") or shutil.which("cc")
     if gcc is None or shutil.which("ldd") is None or not sys.platform.startswith("linux"):

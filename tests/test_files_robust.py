@@ -197,6 +197,27 @@ def test_a_5000_digit_integer_is_a_worksheet_error_naming_the_field(field, place
     assert len(str(info.value).splitlines()) == 1 and len(str(info.value)) < 200
 
 
+@pytest.mark.parametrize("digits", ["1" + "0" * 309, "-1" + "0" * 309, "-" + "9" * 399])
+@pytest.mark.parametrize("field, place", [
+    ('parameter "a", value', lambda d, n: d["parameters"][0].__setitem__("value", n)),
+    ("settings.max_iter", lambda d, n: d["settings"].__setitem__("max_iter", n)),
+    ("settings.x0", lambda d, n: d["settings"].__setitem__("x0", n)),
+    ("version", lambda d, n: d.__setitem__("version", n)),
+])
+def test_an_integer_past_the_doubles_but_within_the_digit_limit_is_named(field, place,
+                                                                         digits) -> None:
+    """Integers of 310 to 400 digits are read as Python integers (the 5000-digit ones are
+    not), so each check must compare before it converts: -10^309 as the iteration cap was
+    an OverflowError out of the loader."""
+    data = json.loads(wsmod.dumps(_sheet()))
+    place(data, "@@")
+    text = json.dumps(data).replace('"@@"', digits)
+    with pytest.raises(WorksheetError) as info:
+        wsmod.loads(text)
+    assert str(info.value).startswith(f"{field}: ")
+    assert len(str(info.value).splitlines()) == 1 and len(str(info.value)) < 200
+
+
 def test_the_window_says_so_in_one_line(qtbot, window, dialogs, tmp_path) -> None:
     path = tmp_path / "huge.json"
     text = wsmod.dumps(_sheet()).replace('"value": 9.0', '"value": ' + "9" * 5000)

@@ -460,6 +460,64 @@ def test_saved_sample_round_trip_keeps_the_hash_stable(tmp_path):
     assert result.sha256 == hashlib.sha256(dumps(ws).encode("utf-8")).hexdigest()
 
 
+def test_a_scan_of_many_roots_is_cut_on_the_sheet_but_whole_in_the_csv(tmp_path, monkeypatch):
+    """A scan of a wide range finds up to 100,000 roots, and reportlab took tens of minutes
+    over a table that long (0.5 cosh(tan(x/700)) = sin(x) on [-5, 1e6] ran for over a
+    quarter of an hour). The sheet shows the first and last MAX_TABLE_ROWS / 2 roots,
+    poles and jumps and says how many it left out; the roots CSV holds them all. tan x on
+    [0.5, 200]: roots k pi, k = 1..63, poles (k + 1/2) pi, k = 0..63 (by hand)."""
+    from app.documents import report
+
+    monkeypatch.setattr(report.sections, "MAX_TABLE_ROWS", 40)  # small caps: a quick test
+    monkeypatch.setattr(report.sections, "MAX_LISTED", 40)
+    ws = Worksheet(equation="tan(x)", unknown="x",
+                   settings=Settings(methods=("newton",), x0=3.0), scan=(0.5, 200.0))
+    given = handed(ws)
+    roots, poles = given["scan"].roots, given["scan"].poles
+    assert [x.x for x in roots] == pytest.approx([k * math.pi for k in range(1, 64)],
+                                                 rel=1e-14)
+    assert list(poles) == pytest.approx([(k + 0.5) * math.pi for k in range(64)], rel=1e-12)
+    result = write_report(ws, tmp_path / "many.pdf", csv_dir=tmp_path, **given)
+    text = flat("\n".join(pages_text(result.pdf_path)))
+    assert "… 23 roots left out here; the roots CSV holds every one" in text
+    assert "… 24 poles left out here; the roots CSV holds every one" in text
+    for root in roots[:20] + roots[-20:]:
+        assert r(root.x) in text
+    for root in roots[20:-20]:
+        assert r(root.x) not in text
+    path = next(p for p in result.csv_paths if p.name.endswith("-roots.csv"))
+    _, rows = data_rows(path)
+    assert [float(row[1]) for row in rows if row[0] == "root"] == [x.x for x in roots]
+    assert [float(row[1]) for row in rows if row[0] == "pole"] == list(poles)
+
+
+def test_a_scan_of_many_gaps_is_one_band_collection_and_a_short_list(tmp_path, monkeypatch):
+    """log10(cos x) is undefined where cos x <= 0: on [0, 700], 112 gaps, the first
+    (pi/2, 3 pi/2) (by hand). On a range 1e200 wide the scan found 34,000, drawn as as
+    many patches and listed in one table cell: the sheet took minutes. The figure holds
+    them in one collection, the sheet lists the first and last MAX_LISTED / 2."""
+    from matplotlib.collections import PolyCollection
+    from matplotlib.figure import Figure
+
+    from app.documents import figures, report
+
+    monkeypatch.setattr(report.sections, "MAX_LISTED", 20)
+    ws = Worksheet(equation="log10(cos(x)) = -0.1", unknown="x",
+                   settings=Settings(methods=("newton",), x0=0.3), scan=(0.0, 700.0))
+    given = handed(ws)
+    gaps = given["scan"].gaps
+    assert len(gaps) == 112
+    assert gaps[0] == pytest.approx((math.pi / 2, 3 * math.pi / 2), rel=1e-9)
+    ax = Figure().add_subplot()
+    figures.draw_function(ax, pipeline.equation_of(ws).f, 0.0, 700.0, scan=given["scan"])
+    bands = [c for c in ax.collections if c.get_label() == "f undefined"]
+    assert len(bands) == 1 and isinstance(bands[0], PolyCollection)
+    assert len(bands[0].get_paths()) == 112
+    result = write_report(ws, tmp_path / "gaps.pdf", **given)
+    text = flat("\n".join(pages_text(result.pdf_path)))
+    assert "… 92 gaps left out here; zerotrace scan --json lists every one" in text
+
+
 def test_parameters_table_handles_many_parameters(tmp_path):
     # 60 invented parameters: the table flows over a page break and loses none.
     params = tuple(Parameter(f"p{i}", i * 0.1, f"invented parameter {i}") for i in range(60))

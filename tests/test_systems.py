@@ -14,6 +14,7 @@ from __future__ import annotations
 import json
 import math
 import sys
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -385,3 +386,43 @@ def test_mgh_from_ten_times_the_start_is_never_falsely_converged(p):
         root = np.array([run.root[n] for n in system.unknowns])
         if run.converged:
             assert _small(p.F, root, x0), (method, run.reason)
+
+
+@pytest.mark.parametrize("method", list(SYSTEM_METHODS))
+def test_a_jacobian_near_the_largest_double_is_a_result_not_an_overflow(method):
+    """g = 1e-300 m/s^2 typed into the units sample puts 1/(2 g A^2) near 1e304 in J: the
+    regularised direction squared ||J|| (an OverflowError out of the solve) and its
+    products warned on the terminal. Now every run ends with one of the stop reasons and
+    nothing is printed."""
+    data = json.loads((SAMPLES / "pump-two-parallel-lines-units.json").read_text())
+    for p in data["parameters"]:
+        if p["name"] == "g":
+            p["value"] = 1e-300
+    data["system"]["methods"] = [method]
+    ws = worksheet.from_dict(data)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # a RuntimeWarning fails the test
+        solution = solve_worksheet(ws)
+    (run,) = solution.runs
+    assert run.reason in REASONS
+    # where it says converged, the residuals are small beside the heads (common practice)
+    assert not run.converged or max(abs(r) for r in run.residuals) < 1e-6
+
+
+def test_the_regularised_direction_is_steepest_descent_in_the_limit_of_a_huge_f():
+    """-(J^T J + mu I)^-1 J^T F with mu = sqrt(eps)||J||^2 + ||J^T F|| tends to
+    -J^T F / ||J^T F|| as F grows (mu dominates; by hand); at 1e300 it was inf/nan."""
+    from solvers.systems.iterate import _levenberg
+
+    jac = np.array([[2.0, 1.0], [1.0, -1.0]])
+    for size in (1e300, 1.7e308):
+        f = np.array([size, -0.5 * size])
+        g = jac.T @ (f / size)
+        d = _levenberg(jac, f)
+        np.testing.assert_allclose(d, -g / np.linalg.norm(g), rtol=1e-12)
+    # a moderate case keeps the formula as written (numpy.linalg.solve, same inputs)
+    f = np.array([0.3, -0.2])
+    g = jac.T @ f
+    mu = math.sqrt(np.finfo(float).eps) * np.linalg.norm(jac, 2) ** 2 + np.linalg.norm(g)
+    np.testing.assert_allclose(_levenberg(jac, f),
+                               np.linalg.solve(jac.T @ jac + mu * np.eye(2), -g), rtol=1e-15)

@@ -108,6 +108,14 @@ def test_no_solution_is_a_result_not_an_error(capsys):
     (["scan", "x^2 = a", "--unknown", "x", "--unknown", "a", "--from", "0", "--to", "1"],
      "scan takes one equation; a system is solved with 'zerotrace solve'"),
     (["solve", CIRCLE_LINE, "--x0", "x=abc", "--x0", "y=1"], "value of x"),
+    # a name given twice: which value was meant cannot be told (the second won silently
+    # and the message was about another unknown)
+    (["solve", CIRCLE_LINE, "--x0", "x=2", "--x0", "x=3"],
+     "--x0 x is given more than once; give each unknown's start value once"),
+    (["solve", CIRCLE_LINE, "--unknown", "x", "--unknown", "x", "--x0", "x=2"],
+     "--unknown x is given more than once"),
+    (["solve", CIRCLE_LINE, "--x0", "x=2", "--x0", "y=1", "--unknown-unit", "x=m",
+      "--unknown-unit", "x=mm"], "--unknown-unit x is given more than once"),
 ])
 def test_bad_input_is_one_line_and_exit_2(capsys, argv, words):
     code, out, err = run(capsys, *argv)

@@ -47,6 +47,18 @@ MATPLOTLIB_LOCK = threading.RLock()
 
 
 @contextmanager
+def drawing() -> Iterator[None]:
+    """Hold :data:`MATPLOTLIB_LOCK` while matplotlib lays out or draws, with numpy's
+    floating-point warnings off: its axis arithmetic over a curve whose |f| nears 1e308
+    (the symmetric-log ticks, base ** decade) overflows to inf and copes with it, and a
+    RuntimeWarning from inside it would reach the terminal of ``zerotrace report``."""
+    import numpy as np
+
+    with MATPLOTLIB_LOCK, np.errstate(all="ignore"):
+        yield
+
+
+@contextmanager
 def typesetting() -> Iterator[None]:
     """Hold :data:`MATPLOTLIB_LOCK` while mathtext sets a formula, then release what
     mathtext keeps behind.
@@ -59,7 +71,7 @@ def typesetting() -> Iterator[None]:
     after each formula frees all of it; re-opening the fonts costs well under a
     millisecond per formula.
     """
-    with MATPLOTLIB_LOCK:
+    with drawing():
         try:
             yield
         finally:
@@ -221,9 +233,21 @@ def _plain(label: str) -> str:
 
 
 def _draw_scan(ax: Any, scan: Any, poles: Sequence[float], jumps: Sequence[float]) -> None:
-    for i, (ga, gb) in enumerate(getattr(scan, "gaps", []) or []):
-        ax.axvspan(ga, gb, facecolor="none", edgecolor="#B0B0B0", hatch="//", linewidth=0,
-                   zorder=0, label="f undefined" if i == 0 else None)
+    gaps = list(getattr(scan, "gaps", []) or [])
+    if gaps:
+        # one collection of bands over the full height (x in data, y in axes units), not
+        # an axvspan each: a scan of log10(cos x) over a range 1e200 wide has 34,000 gaps,
+        # and as many patches took matplotlib 45 s to add and draw
+        from matplotlib.collections import PolyCollection
+
+        bands = PolyCollection([[(ga, 0.0), (ga, 1.0), (gb, 1.0), (gb, 0.0)] for ga, gb in gaps],
+                               transform=ax.get_xaxis_transform(), facecolor="none",
+                               edgecolor="#B0B0B0", hatch="//", linewidth=0, zorder=0,
+                               label="f undefined")
+        ax.add_collection(bands, autolim=False)
+        ends = [(x, 0.0) for gap in gaps for x in gap]
+        ax.update_datalim(ends, updatex=True, updatey=False)  # as axvspan: x limits only
+        ax.autoscale_view()
     for i, xp in enumerate(poles):
         ax.axvline(xp, color=POLE_COLOR, linestyle=(0, (6, 3)), linewidth=1.1, zorder=1,
                    label="pole" if i == 0 else None)

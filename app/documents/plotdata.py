@@ -182,7 +182,7 @@ def _sample_columns(f: Callable[[Any], Any], a: float, b: float, n: int,
 def _crossings(x: np.ndarray, y: np.ndarray, cut: np.ndarray) -> list[float]:
     """x where the samples change sign between neighbours not separated by a break, and
     the jump is small beside the typical |f| (a sign change across a pole is no root)."""
-    with np.errstate(invalid="ignore"):
+    with np.errstate(invalid="ignore", over="ignore"):  # |f| ~ 1e308: the sum is +inf
         change = (np.sign(y[:-1]) * np.sign(y[1:]) < 0) & ~cut
         typical = float(np.nanmedian(np.abs(y))) if np.isfinite(y).any() else 0.0
         small = (np.abs(y[:-1]) + np.abs(y[1:])) <= 4.0 * typical

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import csv
 import io
+import math
 import os
 import re
 from collections.abc import Mapping, Sequence
@@ -55,6 +56,22 @@ _HEADER = re.compile(r"\s*([A-Za-z][A-Za-z0-9_]*)\s*(?:\[([^\[\]]*)\])?\s*")
 _NUMBER = r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 _ONE_NUMBER = re.compile(rf"[ \t]*{_NUMBER}[ \t]*")
 _MANY_NUMBERS = re.compile(rf"(?:{_NUMBER}\n)*")  # cells are stripped, one per line
+_PLAIN = re.compile(_NUMBER)
+
+
+def parse_number(text: str) -> float | None:
+    """A finite float from text typed as a number on a calc sheet (ASCII digits, optional
+    sign, point and exponent; the typographic minus taken as '-'), or None. The one rule
+    of the window's fields, the table cells and the command line's numbers: Python's
+    float() also takes '1_000' (a slip for 1.000 or 1,000 read as 1000), non-ASCII digits
+    and 'nan'/'inf'; none is a number on a calc sheet."""
+    if not isinstance(text, str):
+        return None
+    stripped = text.strip().replace("\u2212", "-")
+    if not _PLAIN.fullmatch(stripped):
+        return None
+    value = float(stripped)
+    return value if math.isfinite(value) else None
 
 
 class TableError(ValueError):
@@ -116,17 +133,20 @@ def parse_table(text: str, shown: str = "pasted table", *, pasted: bool = False)
     header_line = 0
     rows: list[list[str]] = []
     lines: list[int] = []
+    ended = 0  # the file line the previous record ended on
     try:
         for record in reader:
+            # a record's line is the one it starts on (a quoted cell may span lines)
+            start, ended = ended + 1, reader.line_num
             if not record or not "".join(record).strip():
                 continue  # a blank line
             if record[0].lstrip().startswith("#"):
                 continue  # a comment or a metadata line
             if header is None:
-                header, header_line = record, reader.line_num
+                header, header_line = record, start
                 continue
             rows.append(record)
-            lines.append(reader.line_num)
+            lines.append(start)
             if len(rows) > MAX_TABLE_ROWS:
                 raise TableError(f"{shown}: more than {MAX_TABLE_ROWS} rows")
     except csv.Error as exc:
@@ -206,7 +226,10 @@ def _columns(shown: str, header: Sequence[str], line: int) -> tuple[Column, ...]
 def _numbers(shown: str, column: Column, cells: Sequence[str], lines: Sequence[int]
              ) -> np.ndarray:
     """The column as float64; TableError at its first cell that is not a finite number."""
-    if not _MANY_NUMBERS.fullmatch("\n".join(cells) + "\n"):  # one C-speed pass
+    joined = "\n".join(cells) + "\n"
+    # one C-speed pass; a quoted cell holding a line break ("1\n2") would read as two
+    # numbers there, so the count of breaks must be one per cell
+    if joined.count("\n") != len(cells) or not _MANY_NUMBERS.fullmatch(joined):
         for i, cell in enumerate(cells):
             if not _ONE_NUMBER.fullmatch(cell):
                 where = f"{shown}: row {i + 1} (line {lines[i]}), column {column.header!r}"

@@ -109,7 +109,8 @@ SETTING_RULES: dict[str, tuple[Callable[[float], bool], str]] = {
     "xtol": (lambda v: v >= 0, "must not be negative"),
     "rtol": (lambda v: v >= 0, "must not be negative"),
     "ftol": (lambda v: v >= 0, "must not be negative"),
-    "max_iter": (lambda v: float(v).is_integer() and 1 <= v <= MAX_ITER_CAP,
+    # the range first: an integer past the doubles (a file's -10^309) cannot be a float
+    "max_iter": (lambda v: 1 <= v <= MAX_ITER_CAP and float(v).is_integer(),
                  f"must be a whole number from 1 to {MAX_ITER_CAP}"),
     "damping": (lambda v: 0 < v <= 1, "must lie in (0, 1]"),
 }
@@ -400,11 +401,11 @@ def from_dict(data: Any) -> Worksheet:
     if version > VERSION:
         raise _fail(
             "version",
-            f"file is version {version}, written by a newer zerotrace; this one reads up to "
-            f"{VERSION}",
+            f"file is version {_shown(version)}, written by a newer zerotrace; this one reads "
+            f"up to {VERSION}",
         )
     if version < 1:
-        raise _fail("version", f"unknown version {version}")
+        raise _fail("version", f"unknown version {_shown(version)}")
 
     if "equation" not in data:
         raise _fail("equation", "missing")

@@ -243,7 +243,7 @@ def _locked(canvas_class: type) -> type:
 
     class LockedCanvas(canvas_class):
         def draw(self) -> None:
-            with figures.MATPLOTLIB_LOCK:
+            with figures.drawing():
                 super().draw()
 
     return LockedCanvas

@@ -8,8 +8,6 @@ the tooltip shows ``repr`` so no digit is ever hidden from a checker.
 
 from __future__ import annotations
 
-import math
-import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -17,7 +15,7 @@ from typing import Any
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
 from PySide6.QtGui import QBrush, QColor, QFont, QFontDatabase
 
-from app.documents import words
+from app.documents import tables, words
 from solvers.records import Run, Step
 
 Index = QModelIndex | QPersistentModelIndex
@@ -208,22 +206,8 @@ class RootsModel(_RecordModel):
 # ----------------------------------------------------------------- parameters
 
 
-# A number as an engineer types it: digits with an optional point and exponent. Python's
-# float() also takes '1_000', non-ASCII digits and 'nan'/'inf'; none is a number on a calc
-# sheet, and a field must show what it will use.
-_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
-
-
-def parse_number(text: str) -> float | None:
-    """A finite float from the user's text (ASCII digits, optional sign, point and
-    exponent; the typographic minus taken as '-'), or None."""
-    if not isinstance(text, str):
-        return None
-    stripped = text.strip().replace("−", "-")
-    if not _NUMBER.fullmatch(stripped):
-        return None
-    value = float(stripped)
-    return value if math.isfinite(value) else None
+# A number as an engineer types it: the one rule, shared with tables and the command line.
+parse_number = tables.parse_number
 
 
 @dataclass

@@ -14,9 +14,10 @@ would otherwise overflow).
 
 Newton: d solves J d = -F. Where J is singular (its smallest singular value below
 n*eps times its largest, or J not finite) the step is Levenberg-Marquardt,
-d = -(J^T J + mu I)^-1 J^T F with mu = sqrt(eps)*||J||^2 + ||J^T F||, recorded as
-``regularised``. Broyden (the "good" update, B += (y - B s) s^T / s^T s) starts from a
-forward-difference Jacobian and refreshes it by differences when its direction fails to
+d = -(J^T J + mu I)^-1 J^T F with mu = sqrt(eps)*||J||^2 + ||J^T F|| (worked on J and F
+scaled by powers of two, so no finite J or F overflows it), recorded as ``regularised``.
+Broyden (the "good" update, B += (y - B s) s^T / s^T s) starts from a forward-difference
+Jacobian and refreshes it by differences when its direction fails to
 decrease ||F||, and before it may stop: a Broyden matrix can be wrong where a step is small.
 
 Stopping (scale-aware)
@@ -145,11 +146,39 @@ def _direction(jac: np.ndarray, f: np.ndarray) -> tuple[np.ndarray, bool]:
     return np.full(n, np.nan), True
 
 
+def _power_of_two(a: np.ndarray) -> float:
+    """The power of two at or below the largest |a_i| (0.0 when a is all zero)."""
+    largest = float(np.max(np.abs(a)))
+    return math.ldexp(1.0, math.frexp(largest)[1] - 1) if largest > 0 else 0.0
+
+
 def _levenberg(jac: np.ndarray, f: np.ndarray) -> np.ndarray:
-    """The Levenberg-Marquardt direction -(J^T J + mu I)^-1 J^T F (see the module docstring)."""
-    g = jac.T @ f
-    mu = math.sqrt(_EPS) * float(np.linalg.norm(jac, 2)) ** 2 + float(np.linalg.norm(g)) + 1e-300
-    return np.linalg.solve(jac.T @ jac + mu * np.eye(f.size), -g)
+    """The Levenberg-Marquardt direction -(J^T J + mu I)^-1 J^T F (see the module docstring).
+
+    Worked on J and F divided by powers of two (sj, sf: exact, so the direction has the
+    bits of the formula as written wherever that does not overflow): with r = sf/sj the
+    system is divided by sj^2, or by sj^2 r where r >= 1, so that neither ||J||^2, J^T J
+    nor J^T F overflows for any finite J and F (a parameter of 1e-300 in a denominator
+    made ||J||^2 an OverflowError). Where J^T J is negligible beside mu the direction
+    tends to -J^T F / ||J^T F||, steepest descent of unit length; the cap and the line
+    search take it from there. Zero when J^T F is (nothing to descend along)."""
+    sj, sf = _power_of_two(jac), _power_of_two(f)
+    if sj == 0.0 or sf == 0.0:
+        return np.zeros(f.size)
+    js = jac / sj
+    g = js.T @ (f / sf)
+    a = js.T @ js
+    norm_g = float(np.linalg.norm(g))
+    if norm_g == 0.0:
+        return np.zeros(f.size)
+    lm = math.sqrt(_EPS) * float(np.linalg.norm(js, 2)) ** 2
+    r = sf / sj if math.frexp(sf)[1] - math.frexp(sj)[1] < 1000 else math.inf
+    with np.errstate(under="ignore"):
+        if r >= 1.0:  # divided by r too: the direction's size is r, at most
+            scale = 1.0 / r
+            matrix = a * scale + (lm * scale + norm_g) * np.eye(f.size)
+            return np.linalg.solve(matrix, -g)
+        return np.linalg.solve(a + (lm + r * norm_g) * np.eye(f.size), -r * g)
 
 
 def _cap(d: np.ndarray, x: np.ndarray) -> np.ndarray:

@@ -162,7 +162,11 @@ def solve_system(system: System, x0: Mapping[str, float], *, method: str = "newt
         problem = iterate.Problem(F, J if uses_j else None, record, counter,
                                   lambda k, b=b: poll(k, b))
         problem.tick(0)
-        outcome = spec.iterate(problem, x[cols], xtol=xt, rtol=rt, ftol=ft, max_iter=cap)
+        # the iterations test F, J, the direction and ||F|| for finiteness themselves: a
+        # product past the doubles (J of 1e300 times F) is one more such value, never a
+        # RuntimeWarning on the user's terminal
+        with np.errstate(over="ignore", invalid="ignore"):
+            outcome = spec.iterate(problem, x[cols], xtol=xt, rtol=rt, ftol=ft, max_iter=cap)
         x[cols] = outcome.x
         iterations += outcome.iterations
         reason = outcome.reason

@@ -59,7 +59,10 @@ Failure behaviour
   cannot be split, shrunk to the page: the layout never fails.
 * A run with more than ``MAX_TABLE_ROWS`` iterates (only possible with a huge
   iteration cap) shows its first and last ``MAX_TABLE_ROWS // 2`` on the sheet, says
-  how many rows it left out, and the runs CSV holds them all.
+  how many rows it left out, and the runs CSV holds them all. So does a scan with more
+  than ``MAX_TABLE_ROWS`` roots (a wide range: up to 100,000), whose roots CSV holds them
+  all, and one with more than ``sections.MAX_LISTED`` poles, jumps or gaps (listed in one
+  cell each).
 
 Modules: :mod:`.layout` (page, palette, fonts, styles, small blocks), :mod:`.typeset`
 (figures and formulas as images), :mod:`.tables` (iterates, residuals),

@@ -32,6 +32,7 @@ from app.documents.report.layout import (
     FAIL_INK,
     HEAD_FILL,
     INK,
+    MAX_TABLE_ROWS,
     RESIDUAL_DIGITS,
     RULE,
     TEXT_WIDTH,
@@ -418,6 +419,23 @@ def _unit_suffix(unit: str | None) -> str:
     return f" [{unit}]" if unit else ""
 
 
+# Poles, jumps and gaps are listed in one table cell; reportlab splits a cell across pages
+# slowly (34,000 gaps of log10(cos x) on a range 1e200 wide: minutes, 1,000: 50 s)
+MAX_LISTED = 100
+
+
+def _shown_indices(count: int, limit: int | None = None) -> list[int | None]:
+    """The entries of a list of ``count`` the sheet shows: all up to ``limit`` (default
+    MAX_TABLE_ROWS), else the first and last half of that with None between them, where
+    the rest is said to be left out (reportlab lays out a table of 10^5 rows over tens
+    of minutes: a scan of a wide range finds up to 100,000 roots)."""
+    limit = MAX_TABLE_ROWS if limit is None else limit
+    if count <= limit:
+        return list(range(count))
+    half = limit // 2
+    return [*range(half), None, *range(count - half, count)]
+
+
 def _scan_section(c: _Context) -> list[Flowable]:
     st, sc, ws = c.st, c.scan, c.ws
     out: list[Flowable] = [*_heading("5  Roots in the scan range", st, "h1")]
@@ -443,33 +461,48 @@ def _scan_section(c: _Context) -> list[Flowable]:
             data: list[list[Any]] = [["#", f"Root x{_unit_suffix(unit)}",
                                       f"Residual f(x){_unit_suffix(f_unit)}", "Mult.",
                                       "Confirmed by"]]
-            for i, root in enumerate(sc.roots, start=1):
+            gap_row = None
+            for i in _shown_indices(len(sc.roots)):
+                if i is None:  # a scan of a wide range: the middle roots are in the CSV
+                    gap_row = len(data)
+                    data.append([words.left_out_text(len(sc.roots) - MAX_TABLE_ROWS, "root"),
+                                 "", "", "", ""])
+                    continue
+                root = sc.roots[i]
                 how = words.confirmed_text(root)
                 located = words.located_text(root)
                 if located:
                     how = f"{how} (located by {located})" if how else f"located by {located}"
-                data.append([str(i), _num(root.x), _num(root.residual), str(root.multiplicity),
-                             Paragraph(_text(how or "—"), st["small"])])
+                data.append([str(i + 1), _num(root.x), _num(root.residual),
+                             str(root.multiplicity), Paragraph(_text(how or "—"), st["small"])])
             widths = [8 * mm, 44 * mm, 44 * mm, 12 * mm]
             widths.append(TEXT_WIDTH - sum(widths))
             style = _grid_style() + [("FONTNAME", (1, 1), (2, -1), "ZT-Mono"),
                                      ("ALIGN", (3, 0), (3, -1), "RIGHT")]
+            if gap_row is not None:
+                style += [("SPAN", (0, gap_row), (-1, gap_row)),
+                          ("ALIGN", (0, gap_row), (-1, gap_row), "CENTER"),
+                          ("FONTNAME", (0, gap_row), (-1, gap_row), "ZT-Sans-Oblique")]
             out.append(Table(data, colWidths=widths, repeatRows=1, hAlign="LEFT",
                              style=TableStyle(style)))
         rows: list[tuple[str, Any]] = []
 
-        def xs(values: Sequence[float]) -> Paragraph:
-            text = ", ".join(_num(v) for v in values) if values else "none"
-            return Paragraph(escape(text), st["cellmono"])
+        def xs(values: Sequence[float], what: str) -> Paragraph:
+            limit = 2 * (MAX_LISTED // 2)
+            shown = [words.left_out_text(len(values) - limit, what) if i is None
+                     else _num(values[i]) for i in _shown_indices(len(values), MAX_LISTED)]
+            return Paragraph(escape(", ".join(shown) if shown else "none"), st["cellmono"])
 
         in_x = _unit_suffix(x_unit)  # where poles, jumps and gaps lie: the unknown's unit
-        rows.append((f"Poles{in_x}", xs(list(sc.poles))))
+        rows.append((f"Poles{in_x}", xs(list(sc.poles), "pole")))
         rows.append((f"Jumps (discontinuities){in_x}",
-                     xs(list(getattr(sc, "discontinuities", [])))))
+                     xs(list(getattr(sc, "discontinuities", [])), "jump")))
         gaps = list(getattr(sc, "gaps", []))
+        shown_gaps = [words.left_out_text(len(gaps) - 2 * (MAX_LISTED // 2), "gap")
+                      if i is None else f"[{_num(gaps[i][0])}, {_num(gaps[i][1])}]"
+                      for i in _shown_indices(len(gaps), MAX_LISTED)]
         rows.append((f"Gaps (f undefined){in_x}", Paragraph(escape(
-            "; ".join(f"[{_num(a)}, {_num(b)}]" for a, b in gaps) if gaps else "none"),
-            st["cellmono"])))
+            "; ".join(shown_gaps) if gaps else "none"), st["cellmono"])))
         warnings = words.scan_warnings(sc)
         if warnings:
             rows.append(("Scan warnings", Paragraph(_text("; ".join(warnings)), st["cell"])))

@@ -153,3 +153,12 @@ def confirmed_text(root: Any) -> str:
 def located_text(root: Any) -> str:
     """Which locator(s) found ``root``: "sampling + chebyshev"."""
     return " + ".join(LOCATOR_LABELS.get(c, c) for c in getattr(root, "located_by", ()) or ())
+
+
+def left_out_text(count: int, what: str) -> str:
+    """The row or item standing for ``count`` entries a calculation sheet leaves out of a
+    long list: roots, poles and jumps are in the roots CSV written beside the sheet, gaps
+    (pairs of ends) in the scan's JSON."""
+    holder = ("zerotrace scan --json lists every one" if what == "gap"
+              else "the roots CSV holds every one")
+    return f"… {counted(count, what)} left out here; {holder}"
