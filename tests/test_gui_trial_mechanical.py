@@ -14,8 +14,12 @@ from PySide6.QtCore import Qt
 from PySide6.QtTest import QTest
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import settle, solve_by_keys, type_equation, type_into  # noqa: E402
-from test_gui_trial_thermal import choose_unknown_by_keys, fill_values  # noqa: E402
+from gui_helpers import solve_by_keys, type_equation, type_into  # noqa: E402
+from test_gui_trial_thermal import (  # noqa: E402
+    choose_unknown_by_keys,
+    fill_values,
+    set_unknown_unit,
+)
 from test_trial_mechanical import DISC, DISC_VALUES, RPM, disc_critical_rad_s  # noqa: E402
 
 pytest_plugins = ("gui_helpers",)
@@ -27,12 +31,7 @@ def type_disc(qtbot, w, speed: str) -> None:
     type_equation(qtbot, w, DISC.format(w=speed))
     choose_unknown_by_keys(qtbot, w, "N")
     fill_values(qtbot, w, DISC_VALUES)
-    unit_box = w.strip.unit_box
-    type_into(qtbot, unit_box, "rpm")
-    QTest.keyClick(unit_box, Qt.Key.Key_Return)
-    qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
-                    and w.analysis.equation.unknown_unit == "rpm", timeout=10_000)
-    settle(qtbot, w)
+    set_unknown_unit(qtbot, w, "rpm")
 
 
 # 1 (the window). w = 2*pi*N/60 with N in rpm solved to 34,594 rpm and the window said

@@ -15,7 +15,13 @@ from PySide6.QtCore import QPoint, Qt
 from PySide6.QtTest import QTest
 
 pytest.register_assert_rewrite("gui_helpers")
-from gui_helpers import edit_cell, settle, solve_by_keys, type_equation  # noqa: E402
+from gui_helpers import (  # noqa: E402
+    edit_cell,
+    settle,
+    solve_by_keys,
+    type_equation,
+    type_into,
+)
 
 pytest_plugins = ("gui_helpers",)
 
@@ -92,12 +98,17 @@ def type_bubble_point(qtbot, w, c_unit: str) -> None:
     fill_values(qtbot, w, {"p0": "1 mmHg", "Ab": "6.90565", "Bb": "1211.033 K",
                            "Cb": f"220.79 {c_unit}", "At": "6.95464", "Bt": "1344.8 K",
                            "Ct": f"219.482 {c_unit}", "xb": "0.4", "P": "760 mmHg"})
+    set_unknown_unit(qtbot, w, "degC")
+
+
+def set_unknown_unit(qtbot, w, unit: str) -> None:
+    """``unit`` typed into the unit box (its text replaced) and Return pressed; waits until
+    the equation reads the unknown in it and the window has settled."""
     unit_box = w.strip.unit_box
-    unit_box.setFocus()
-    qtbot.keyClicks(unit_box, "degC")
+    type_into(qtbot, unit_box, unit)
     QTest.keyClick(unit_box, Qt.Key.Key_Return)
     qtbot.waitUntil(lambda: w.analysis is not None and w.analysis.ok
-                    and w.analysis.equation.unknown_unit == "degC", timeout=10_000)
+                    and w.analysis.equation.unknown_unit == unit, timeout=10_000)
     settle(qtbot, w)
 
 

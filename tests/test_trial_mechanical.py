@@ -15,6 +15,7 @@ from __future__ import annotations
 import json
 import math
 import re
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -405,9 +406,19 @@ def test_8_the_sensor_boom_in_hz_with_two_pi_says_nothing_of_hz():
     assert "hertz_without_pi" not in codes(eq.remarks)
 
 
-def test_1_the_sheet_names_rpm_converted_twice(capsys, tmp_path):
+def sheet_text(capsys, path: Path, worksheet: dict) -> str:
+    """The worksheet written to ``path``, its calculation sheet made by `zerotrace report`
+    beside it, and the sheet's text (pypdf) with runs of white space as one space."""
     import pypdf
 
+    path.write_text(json.dumps(worksheet), encoding="utf-8")
+    pdf = path.with_suffix(".pdf")
+    code, _out, err = run(capsys, "report", str(path), "--pdf", str(pdf))
+    assert code == 0, err
+    return " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(pdf).pages)
+
+
+def test_1_the_sheet_names_rpm_converted_twice(capsys, tmp_path):
     worksheet = {
         "format": "zerotrace-worksheet", "version": 1,
         "title": "First forward critical speed of an overhung fan disc (invented)",
@@ -416,12 +427,7 @@ def test_1_the_sheet_names_rpm_converted_twice(capsys, tmp_path):
                        for n, v in DISC_VALUES.items()],
         "settings": {"methods": ["newton"], "x0": 3000.0}, "scan": {"from": 100.0,
                                                                    "to": 60000.0}}
-    path = tmp_path / "disc.json"
-    path.write_text(json.dumps(worksheet), encoding="utf-8")
-    pdf = tmp_path / "disc.pdf"
-    code, _out, _err = run(capsys, "report", str(path), "--pdf", str(pdf))
-    assert code == 0
-    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(pdf).pages)
+    text = sheet_text(capsys, tmp_path / "disc.json", worksheet)
     assert "converts it a second time" in text
 
 
@@ -485,8 +491,6 @@ def test_5_a_system_names_a_bare_gc_too():
 
 
 def test_3_the_sheet_gives_the_figure_range_in_the_unknowns_unit(capsys, tmp_path):
-    import pypdf
-
     worksheet = {
         "format": "zerotrace-worksheet", "version": 1,
         "title": "Buckling load of a column on a rotational spring (invented)",
@@ -497,12 +501,7 @@ def test_3_the_sheet_gives_the_figure_range_in_the_unknowns_unit(capsys, tmp_pat
                        {"name": "c", "value": 1800.0, "unit": "kN*m/rad"}],
         "settings": {"methods": ["brent"], "bracket": [3300.0, 13000.0]},
         "scan": {"from": 1.0, "to": 40000.0}}
-    path = tmp_path / "column.json"
-    path.write_text(json.dumps(worksheet), encoding="utf-8")
-    pdf = tmp_path / "column.pdf"
-    code, _out, _err = run(capsys, "report", str(path), "--pdf", str(pdf))
-    assert code == 0
-    text = " ".join(" ".join(p.extract_text().split()) for p in pypdf.PdfReader(pdf).pages)
+    text = sheet_text(capsys, tmp_path / "column.json", worksheet)
     assert "over the scan range [1.0, 40000.0] kN" in text
     # the sheet's roots: brentq between the poles
     shown = re.findall(r"Brent (\d+\.\d+)", text)
