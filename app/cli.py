@@ -590,6 +590,31 @@ def _unmark(args: argparse.Namespace, marked: set[str]) -> None:
             setattr(args, name, value[len(_MARK):])
 
 
+def _system_hint(args: argparse.Namespace | None, message: str) -> str:
+    """'; ...' for a text the one-equation path refused ("a line before the equation must
+    define a name") that holds as many equations as unknowns: it is a system, and how to
+    solve it; '' otherwise."""
+    text = getattr(args, "equation", None)
+    if not isinstance(text, str) or "must define a name" not in message:
+        return ""
+    from solvers import parse_system
+
+    given = {name: 1.0 for name, _value, _unit in (getattr(args, "param", None) or [])}
+    try:
+        system = parse_system(text, parameters=given)
+    except (ValueError, ArithmeticError):  # not a system either: the refusal stands alone
+        return ""
+    names = system.unknowns
+    if len(names) < 2:  # one equation among definitions: the refusal says it
+        return ""
+    if args.command == "solve":
+        starts = " ".join(f"--x0 {n}=VALUE" for n in names)
+        return (f"; the text is a system of {len(names)} equations in "
+                f"{', '.join(names)}: give each a start value ({starts})")
+    return (f"; the text is a system of {len(names)} equations in {', '.join(names)}: "
+            f"zerotrace {args.command} takes one equation; zerotrace solve solves systems")
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     _closed_streams_to_null()
@@ -616,6 +641,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BAD_INPUT as exc:
         # EquationError and WorksheetError are ValueErrors carrying a one-line message.
         message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
+        message += _system_hint(locals().get("args"), message)
         position = getattr(exc, "position", None)
         # EquationError messages already say where ("at column N" or "line L, column N").
         shown = isinstance(position, int) and "column" not in message

@@ -407,3 +407,26 @@ def test_a_typographic_minus_is_read_as_the_fields_read_it(capsys) -> None:
                          "newton", "--json")
     assert code == 0, err
     assert json.loads(out)["runs"][0]["root"] == pytest.approx(-math.sqrt(2), rel=1e-15)
+
+
+@pytest.mark.parametrize("command, extra, advice", [
+    ("solve", [], "give each a start value (--x0 x=VALUE --x0 y=VALUE)"),
+    ("scan", ["--from", "0", "--to", "3"], "zerotrace solve solves systems"),
+])
+def test_several_equations_without_their_unknowns_are_named_a_system(capsys, command, extra,
+                                                                      advice):
+    # x^2 + y^2 = 4 and x*y = 1 typed without --unknown twice read as one equation with
+    # definitions before it, and the refusal said only that a line must define a name;
+    # it now says the text is a system in x and y, and what to type (README: Systems).
+    code, _, err = run(capsys, command, "x^2 + y^2 = 4; x*y = 1", *extra)
+    assert code == 2 and len(err.strip().splitlines()) == 1
+    assert "a system of 2 equations in x, y" in err and advice in err
+    # with the start values named, solve gives the root (closed form: x^2 + 1/x^2 = 4,
+    # x = sqrt(2 + sqrt 3) from x = 2, y = 1/x)
+    if command == "solve":
+        code, out, err = run(capsys, "solve", "x^2 + y^2 = 4; x*y = 1", "--x0", "x=2",
+                             "--x0", "y=0.3", "--json")
+        assert code == 0, err
+        root = json.loads(out)["runs"][0]["root"]
+        assert root["x"] == pytest.approx(math.sqrt(2 + math.sqrt(3)), rel=1e-12)
+        assert root["y"] == pytest.approx(1 / math.sqrt(2 + math.sqrt(3)), rel=1e-12)
