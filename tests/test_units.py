@@ -519,7 +519,7 @@ def test_a_kinematic_viscosity_for_a_dynamic_one_is_named():
     ("gal/min", "m^3/s", "m^3/s"),
 ])
 def test_si_units_for_people_use_derived_units_where_simpler(typed, base, people):
-    from solvers.units.reading import unit_text
+    from solvers.units.si_text import unit_text
 
     unit = read_unit(typed)
     assert unit.si_text == base  # what files and JSON keep: base units, unchanged

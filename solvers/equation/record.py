@@ -486,7 +486,7 @@ def _angle_remarks(remarks: tuple[Remark, ...], unknown: str, unknown_unit: str 
     Then "angle_units" names those angles instead."""
     if not any(r.code == "radians" for r in remarks):
         return remarks
-    from solvers.units.reading import is_angle
+    from solvers.units.si_text import is_angle
 
     angled = [unknown] if unknown_unit and is_angle(unknown_unit) else []
     angled += [n for n, c in used.items() if isinstance(c.unit, str) and is_angle(c.unit)]

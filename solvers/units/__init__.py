@@ -43,13 +43,11 @@ from solvers.units.reading import (
     Dimension,
     Unit,
     converter,
-    dimension_numbers,
-    dimension_words,
     read_unit,
     split_value,
-    unit_text,
     unit_text_problem,
 )
+from solvers.units.si_text import dimension_numbers, dimension_words, unit_text
 
 __all__ = [
     "DIMENSIONLESS", "MAX_UNIT_TEXT", "Converted", "Dimension", "Measured", "Plan", "Unit",
@@ -309,7 +307,7 @@ class Plan:
         what was meant (m^(7/5)*s^(2/5)/kg^(1/5) -> m) and
         :func:`solvers.units.dimensions.suspects` names the parameters that would make
         that fit. numbers: the unknown's meant dimension, the parameter's dimension and
-        the one it would need, each as :func:`reading.dimension_numbers` (21 numbers).
+        the one it would need, each as :func:`si_text.dimension_numbers` (21 numbers).
         """
         from solvers.units import dimensions
 

@@ -31,8 +31,8 @@ import sympy as sp
 
 from solvers.equation.lexer import EquationError, _fail
 from solvers.equation.parser import snippet
-from solvers.units.reading import (
-    Dimension,
+from solvers.units.reading import Dimension
+from solvers.units.si_text import (
     dimension_words,
     is_common_quantity,
     needs_words,
@@ -490,7 +490,7 @@ def suspects(text: str, spans: Sequence[tuple[Any, int, int]],
     Each parameter in turn is taken as one more unknown of the check (its unit set aside):
     where the equations then hold with the chosen units, the dimension they fix for it is
     what its unit should have been. Of those, the ones needing the simplest dimension
-    (whole exponents, least :func:`reading.unit_size`: a length before kg/(m*s^2),
+    (whole exponents, least :func:`si_text.unit_size`: a length before kg/(m*s^2),
     Pa*s before kg/m^2) are returned,
     at most ``most``, in the order typed; with ``simplest`` False every one that explains
     it (a mismatch among the inputs themselves: U in W/(m*K) where W/(m^2*K) was meant

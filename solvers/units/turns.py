@@ -24,7 +24,7 @@ from typing import Any
 
 import sympy as sp
 
-from solvers.units.reading import counts_cycles, counts_turns
+from solvers.units.si_text import counts_cycles, counts_turns
 
 
 def turn_remarks(exprs: Iterable[Any], typed: Mapping[Any, str]

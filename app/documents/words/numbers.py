@@ -65,7 +65,7 @@ def measured_text(value: Any, converted: Any,
     """A parameter's value as entered: ``150 mm (= 0.15 m)`` when it carries a unit
     (``converted``: a :class:`solvers.units.Converted`), ``350 m`` when that unit is
     already SI, the number alone without one. The SI unit is written with a derived unit
-    where that is simpler (:func:`solvers.units.reading.unit_text`, ``derived``).
+    where that is simpler (:func:`solvers.units.si_text.unit_text`, ``derived``).
     ``show`` formats the numbers (every digit by default)."""
     show = show or exact
     if converted is None:
@@ -124,7 +124,7 @@ def si_unit_text(converted: Any) -> str:
     unit for the compositions engineers use (W/(m^2*K), not kg/(s^3*K)); an angle in
     rad; '' for a pure ratio (%, ppm: SI writes its unit as the number 1). Files keep
     ``converted.si_unit``, in base units."""
-    from solvers.units.reading import coherent_text, is_angle, moment_text, radian_text, unit_text
+    from solvers.units.si_text import coherent_text, is_angle, moment_text, radian_text, unit_text
 
     if not converted.dimension:  # SI's unit of a ratio is 1: an angle says rad, else none
         return "rad" if isinstance(converted.unit, str) and is_angle(converted.unit) else ""

@@ -114,7 +114,7 @@ def _names(subject: str) -> str:
 def _unit_suspect(name: str, numbers: Sequence[float]) -> str:
     """A parameter whose unit alone explains the unknown's fractional dimension; numbers:
     the unknown's meant dimension, the parameter's and the one it needs (7 each)."""
-    from solvers.units.reading import needs_words, numbers_dimension, quantity_words
+    from solvers.units.si_text import needs_words, numbers_dimension, quantity_words
 
     meant, now, needed = (numbers_dimension(numbers[i:i + 7]) for i in (0, 7, 14))
     what = f"is {quantity_words(now)}" if now else "has no unit"
