@@ -621,6 +621,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     if not argv:
         return cmd_window(argv)
     parser = _build_parser()
+    args: argparse.Namespace | None = None  # (bad input can be found before the flags are read)
     try:
         marked_argv, marked = _mark_values(argv)
         args = parser.parse_args(marked_argv)
@@ -641,7 +642,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BAD_INPUT as exc:
         # EquationError and WorksheetError are ValueErrors carrying a one-line message.
         message = str(exc).splitlines()[0] if str(exc) else type(exc).__name__
-        message += _system_hint(locals().get("args"), message)
+        message += _system_hint(args, message)
         position = getattr(exc, "position", None)
         # EquationError messages already say where ("at column N" or "line L, column N").
         shown = isinstance(position, int) and "column" not in message
